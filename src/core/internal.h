@@ -1,0 +1,23 @@
+/* internal.h — helpers shared by the library's own source files.
+ * Not installed; never included by the CLI or by users. */
+#ifndef QC_INTERNAL_H
+#define QC_INTERNAL_H
+
+#include "quantcap.h"
+
+/* Record a detail message for the calling thread and return `status`.
+ * Use as: return qc_fail(QC_EINVAL, "'sigma' must be > 0 (got %g)", s); */
+qc_status qc_fail(qc_status status, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+
+/* Clear the detail message of the calling thread. */
+void qc_clear_error(void);
+
+/* Turn GSL's abort-on-error handler off once, thread-safely. */
+void qc_gsl_init(void);
+
+/* Checked allocation helpers: NULL on overflow of n*size as well. */
+void *qc_calloc(size_t n, size_t size);
+void *qc_malloc_array(size_t n, size_t size);
+
+#endif

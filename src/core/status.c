@@ -1,0 +1,67 @@
+/* status.c — status codes, their messages and the per-thread detail
+ * message that names the culprit of the last failure. */
+#include "core/internal.h"
+
+#include <stdarg.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <threads.h>
+
+#include <gsl/gsl_errno.h>
+
+static _Thread_local char detail[1024];
+
+static const char *const messages[QC_STATUS_COUNT] = {
+    [QC_OK] = "success",
+    [QC_EINVAL] = "invalid argument",
+    [QC_EFORMAT] = "malformed input",
+    [QC_EIO] = "input/output error",
+    [QC_EINFEASIBLE] = "infeasible constraints",
+    [QC_ENOMEM] = "out of memory",
+    [QC_ENOCONV] = "no convergence within the iteration limit",
+    [QC_ENUMERIC] = "numerical failure",
+};
+
+const char *qc_strerror(qc_status status)
+{
+    if ((unsigned)status >= QC_STATUS_COUNT)
+        return "unknown status";
+    return messages[status];
+}
+
+const char *qc_last_error(void) { return detail; }
+
+void qc_clear_error(void) { detail[0] = '\0'; }
+
+int qc_status_is_input_error(qc_status status)
+{
+    return status == QC_EINVAL || status == QC_EFORMAT || status == QC_EIO ||
+           status == QC_EINFEASIBLE;
+}
+
+qc_status qc_fail(qc_status status, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(detail, sizeof detail, fmt, ap);
+    va_end(ap);
+    return status;
+}
+
+static once_flag gsl_once = ONCE_FLAG_INIT;
+static void gsl_handler_off(void) { gsl_set_error_handler_off(); }
+void qc_gsl_init(void) { call_once(&gsl_once, gsl_handler_off); }
+
+void *qc_malloc_array(size_t n, size_t size)
+{
+    if (size != 0 && n > SIZE_MAX / size)
+        return NULL;
+    size_t bytes = n * size;
+    return malloc(bytes ? bytes : 1);
+}
+
+void *qc_calloc(size_t n, size_t size)
+{
+    return calloc(n ? n : 1, size ? size : 1);
+}

@@ -1,0 +1,207 @@
+/* discretize.c — from a noise model, input levels and thresholds to the
+ * transition matrix of the quantized channel, and the mutual information
+ * of the unquantized channel (adaptive Gauss–Kronrod quadrature, GSL
+ * QAGS) that every quantized rate is compared with. */
+#include "core/internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_integration.h>
+
+qc_status qc_thresholds_check(const qc_model *model, const double *t, size_t n)
+{
+    for (size_t j = 0; j < n; j++) {
+        if (!isfinite(t[j]))
+            return qc_fail(QC_EINVAL, "threshold %zu is not a finite number", j + 1);
+        if (model && model->type->output == QC_OUTPUT_COUNTS) {
+            if (t[j] != floor(t[j]))
+                return qc_fail(QC_EINVAL,
+                               "threshold %zu (%g) must be a whole photon count "
+                               "for model '%s'",
+                               j + 1, t[j], model->type->name);
+            if (t[j] < 1.0)
+                return qc_fail(QC_EINVAL,
+                               "threshold %zu (%g) must be >= 1: counts below 0 "
+                               "do not occur",
+                               j + 1, t[j]);
+        }
+        if (j > 0 && !(t[j] > t[j - 1]))
+            return qc_fail(QC_EINVAL,
+                           "thresholds must be strictly increasing: threshold %zu "
+                           "(%.17g) is not above threshold %zu (%.17g)",
+                           j + 1, t[j], j, t[j - 1]);
+    }
+    return QC_OK;
+}
+
+/* One row: cell probabilities of level x. `lo`, `hi` are scratch of
+ * length n (P(Y < t_j), P(Y ≥ t_j)). */
+static qc_status discretize_row(const qc_model *m, double x, const double *t,
+                                size_t n, double *lo, double *hi, double *row)
+{
+    for (size_t j = 0; j < n; j++) {
+        lo[j] = m->type->below(m, x, t[j]);
+        hi[j] = m->type->above(m, x, t[j]);
+        if (!isfinite(lo[j]) || !isfinite(hi[j]) || lo[j] < 0.0 || hi[j] < 0.0)
+            return qc_fail(QC_ENUMERIC,
+                           "model '%s' returned an invalid tail probability at "
+                           "level %g, threshold %g",
+                           m->type->name, x, t[j]);
+    }
+    for (size_t c = 0; c <= n; c++) {
+        double p;
+        if (n == 0)
+            p = 1.0;
+        else if (c == 0)
+            p = lo[0];
+        else if (c == n)
+            p = hi[n - 1];
+        else if (hi[c - 1] < lo[c])
+            p = hi[c - 1] - hi[c]; /* upper side: both tails small, no cancellation */
+        else
+            p = lo[c] - lo[c - 1];
+        if (p < 0.0) {
+            if (p < -1e-12)
+                return qc_fail(QC_ENUMERIC,
+                               "model '%s' is not monotone at level %g "
+                               "(cell %zu has probability %g)",
+                               m->type->name, x, c + 1, p);
+            p = 0.0;
+        }
+        row[c] = p;
+    }
+    double s = 0.0;
+    for (size_t c = 0; c <= n; c++)
+        s += row[c];
+    if (!(fabs(s - 1.0) <= QC_DMC_ROW_TOL))
+        return qc_fail(QC_ENUMERIC,
+                       "model '%s': cell probabilities of level %g sum to %.17g",
+                       m->type->name, x, s);
+    for (size_t c = 0; c <= n; c++)
+        row[c] /= s;
+    return QC_OK;
+}
+
+qc_status qc_discretize(const qc_model *model, const double *levels,
+                        size_t nlevels, const double *t, size_t n, qc_dmc **out)
+{
+    *out = NULL;
+    qc_status st = qc_model_check_levels(model, levels, nlevels);
+    if (st != QC_OK)
+        return st;
+    st = qc_thresholds_check(model, t, n);
+    if (st != QC_OK)
+        return st;
+    qc_dmc *d;
+    st = qc_dmc_alloc(nlevels, n + 1, &d);
+    if (st != QC_OK)
+        return st;
+    double *lo = qc_malloc_array(n + 1, sizeof *lo);
+    double *hi = qc_malloc_array(n + 1, sizeof *hi);
+    if (!lo || !hi) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto fail;
+    }
+    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
+        st = discretize_row(model, levels[x], t, n, lo, hi, d->p + x * d->ny);
+    if (st != QC_OK)
+        goto fail;
+    free(lo);
+    free(hi);
+    *out = d;
+    return QC_OK;
+fail:
+    free(lo);
+    free(hi);
+    qc_dmc_free(d);
+    return st;
+}
+
+/* ---- unquantized reference ---------------------------------------- */
+
+typedef struct {
+    const qc_model *m;
+    const double *levels, *input;
+    size_t n;
+    double x; /* the level being integrated */
+} mi_ctx;
+
+/* f(y|x) log(f(y|x) / Σ r f(y|x')) */
+static double mi_term(const mi_ctx *c, double y)
+{
+    double f = c->m->type->density(c->m, c->x, y);
+    if (!(f > 0.0))
+        return 0.0;
+    double mix = 0.0;
+    for (size_t i = 0; i < c->n; i++)
+        if (c->input[i] > 0.0)
+            mix += c->input[i] * c->m->type->density(c->m, c->levels[i], y);
+    if (!(mix > 0.0))
+        return 0.0;
+    return f * log(f / mix);
+}
+
+static double mi_integrand(double y, void *p) { return mi_term(p, y); }
+
+#define UNQ_EPSABS 1e-13
+#define UNQ_EPSREL 1e-11
+#define UNQ_LIMIT 2000
+
+qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
+                            const double *input, size_t nlevels, double *mi_nats,
+                            double *abserr_nats)
+{
+    qc_gsl_init();
+    qc_status st = qc_model_check_levels(model, levels, nlevels);
+    if (st != QC_OK)
+        return st;
+    mi_ctx c = {model, levels, input, nlevels, 0.0};
+    double total = 0.0, err = 0.0;
+    gsl_integration_workspace *w = NULL;
+    if (model->type->output == QC_OUTPUT_REAL) {
+        w = gsl_integration_workspace_alloc(UNQ_LIMIT);
+        if (!w)
+            return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    for (size_t i = 0; i < nlevels; i++) {
+        if (input[i] <= 0.0)
+            continue;
+        c.x = levels[i];
+        double lo, hi, val = 0.0, e = 0.0;
+        model->type->support(model, levels[i], &lo, &hi);
+        if (model->type->output == QC_OUTPUT_COUNTS) {
+            double a = fmax(0.0, floor(lo)), b = ceil(hi);
+            if (b - a > 1e8) {
+                st = qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);
+                break;
+            }
+            for (double y = a; y <= b; y += 1.0)
+                val += mi_term(&c, y);
+            e = 1e-15 * (b - a + 1.0);
+        } else {
+            gsl_function fn = {mi_integrand, &c};
+            int rc = gsl_integration_qags(&fn, lo, hi, UNQ_EPSABS, UNQ_EPSREL,
+                                          UNQ_LIMIT, w, &val, &e);
+            if (rc != GSL_SUCCESS && rc != GSL_EROUND) {
+                st = qc_fail(QC_ENUMERIC,
+                             "quadrature of the unquantized rate failed at level "
+                             "%g: %s",
+                             levels[i], gsl_strerror(rc));
+                break;
+            }
+        }
+        total += input[i] * val;
+        err += input[i] * e;
+    }
+    gsl_integration_workspace_free(w);
+    if (st != QC_OK)
+        return st;
+    if (!isfinite(total))
+        return qc_fail(QC_ENUMERIC, "unquantized rate is not finite");
+    *mi_nats = total > 0.0 ? total : 0.0;
+    if (abserr_nats)
+        *abserr_nats = err;
+    return QC_OK;
+}
