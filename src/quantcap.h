@@ -298,6 +298,58 @@ qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 /* Release what a result owns and zero it; safe on a zeroed result. */
 void qc_design_result_clear(qc_design_result *res);
 
+/* ------------------------------------------------------------------ */
+/* Text values: strict number parsing shared by the CLI and files      */
+/* ------------------------------------------------------------------ */
+
+/* A finite decimal number, the whole text (surrounding blanks allowed).
+ * The message says what was wrong ("'abc' is not a number"). */
+qc_status qc_parse_double(const char *text, double *out);
+/* A whole number in [lo, hi]. */
+qc_status qc_parse_size(const char *text, size_t lo, size_t hi, size_t *out);
+/* Comma-separated finite numbers; *out is malloc'd (free it). The
+ * message names the position of a bad value. */
+qc_status qc_parse_list(const char *text, double **out, size_t *n);
+
+/* ------------------------------------------------------------------ */
+/* Settings: the key = value vocabulary of a design                    */
+/* ------------------------------------------------------------------ */
+
+/* The same keys serve `quantcap design` (as --KEY VALUE flags) and
+ * scenario files (as KEY = VALUE lines). Model parameters (sigma, ...) are
+ * keys too. A qc_settings holds the text of each key given. */
+typedef struct {
+    const char *key;
+    const char *metavar; /* NULL: a switch taking "true"/"false"          */
+    const char *help;
+} qc_setting_info;
+
+/* The design keys, excluding model parameters; *n receives the count. */
+const qc_setting_info *qc_setting_keys(size_t *n);
+/* Is `key` a design key or a parameter of some model? */
+int qc_setting_known(const char *key);
+/* The known key closest to an unknown one (for "did you mean"), or NULL. */
+const char *qc_setting_suggest(const char *key);
+
+typedef struct qc_settings qc_settings;
+qc_status qc_settings_alloc(qc_settings **out);
+void qc_settings_free(qc_settings *s);
+qc_status qc_settings_copy(const qc_settings *s, qc_settings **out);
+/* Set (or replace) one key. The value is checked now: on failure the
+ * message says what is wrong with the value ("'0' is not a whole number
+ * from 1 to 16"; the caller names the key: the flag, or file:line) and the
+ * settings are unchanged. An unknown key is QC_EINVAL. */
+qc_status qc_settings_set(qc_settings *s, const char *key, const char *value);
+/* The text given for `key`, or NULL. */
+const char *qc_settings_get(const qc_settings *s, const char *key);
+
+/* Turn settings into a model instance and a design request. The request
+ * points into memory owned by `s` (valid until s is changed or freed);
+ * the model is the caller's to free. Cross-key rules (sigma or snr-db,
+ * bits or cells, ...) are checked here, naming the keys. */
+qc_status qc_settings_build(qc_settings *s, qc_model **model,
+                            qc_design_request *req);
+
 #ifdef __cplusplus
 }
 #endif
