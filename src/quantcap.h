@@ -350,6 +350,21 @@ const char *qc_settings_get(const qc_settings *s, const char *key);
 qc_status qc_settings_build(qc_settings *s, qc_model **model,
                             qc_design_request *req);
 
+/* ------------------------------------------------------------------ */
+/* Reports                                                             */
+/* ------------------------------------------------------------------ */
+
+/* Names used on the command line and in reports ("mi", "uniform", ...). */
+const char *qc_objective_name(qc_objective objective);
+const char *qc_quantizer_name(qc_quantizer_kind kind);
+
+/* The JSON object describing one design (model, parameters, request and
+ * every result field), as `quantcap design --json` prints it and as a
+ * sweep stores each point. *text is malloc'd (free it); numbers carry 17
+ * significant digits; non-finite numbers are written as null. */
+qc_status qc_design_report_json(const qc_design_request *req,
+                                const qc_design_result *res, char **text);
+
 #ifdef __cplusplus
 }
 #endif

@@ -43,45 +43,6 @@ static void help(const cli_args *a)
     cli_print_options(a, stdout);
 }
 
-static const char *quantizer_name(qc_quantizer_kind k)
-{
-    switch (k) {
-    case QC_QUANTIZER_UNIFORM: return "uniform";
-    case QC_QUANTIZER_FIXED: return "fixed";
-    }
-    return "?";
-}
-
-static json_t *design_json(const qc_model *m, const qc_design_request *req,
-                           const qc_design_result *r, unsigned bits)
-{
-    const qc_model_type *type = m->type;
-    json_t *o = json_object();
-    json_object_set_new(o, "model", json_string(type->name));
-    json_t *pj = json_object();
-    for (size_t i = 0; i < type->nparams; i++)
-        json_object_set_new(pj, type->params[i].name, cli_json_real(m->params[i]));
-    json_object_set_new(o, "parameters", pj);
-    json_object_set_new(o, "objective", json_string(req->objective == QC_OBJECTIVE_CAPACITY ? "capacity" : "mi"));
-    json_object_set_new(o, "quantizer", json_string(quantizer_name(req->quantizer)));
-    json_object_set_new(o, "cells", json_integer((json_int_t)req->cells));
-    if (bits)
-        json_object_set_new(o, "bits", json_integer(bits));
-    json_object_set_new(o, "rate_bits", cli_json_real(r->rate_bits));
-    if (req->objective == QC_OBJECTIVE_CAPACITY)
-        json_object_set_new(o, "upper_bound_bits", cli_json_real(r->upper_bound_bits));
-    json_object_set_new(o, "unquantized_bits", cli_json_real(r->unquantized_bits));
-    json_object_set_new(o, "unquantized_error_bits", cli_json_real(r->unquantized_err_bits));
-    json_object_set_new(o, "loss_bits", cli_json_real(r->loss_bits));
-    json_object_set_new(o, "tolerance_bits", cli_json_real(r->tol_bits));
-    json_object_set_new(o, "thresholds", cli_json_array(r->thresholds, r->nthresholds));
-    json_object_set_new(o, "levels", cli_json_array(r->levels, r->nlevels));
-    json_object_set_new(o, "input_distribution", cli_json_array(r->input, r->nlevels));
-    if (req->objective == QC_OBJECTIVE_CAPACITY)
-        json_object_set_new(o, "iterations", json_integer((json_int_t)r->iterations));
-    return o;
-}
-
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits)
 {
@@ -90,7 +51,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     for (size_t i = 0; i < type->nparams; i++)
         fprintf(f, " %s = %.6g%s%s", type->params[i].name, m->params[i],
                 type->params[i].unit[0] ? " " : "", type->params[i].unit);
-    fprintf(f, "\nquantizer    %s, %zu cells", quantizer_name(req->quantizer), req->cells);
+    fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(req->quantizer), req->cells);
     if (bits)
         fprintf(f, " (%u bit%s)", bits, bits == 1 ? "" : "s");
     fprintf(f, "\nobjective    %s\n\n",
@@ -160,9 +121,16 @@ int cmd_design(int argc, char **argv)
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     sink_open = 1;
-    if (cli_has(&a, "json"))
-        rc = cli_json_print(&sink, design_json(m, &req, &res, bits));
-    else
+    if (cli_has(&a, "json")) {
+        char *text = NULL;
+        if ((st = qc_design_report_json(&req, &res, &text)) != QC_OK) {
+            rc = cli_lib_error(st);
+        } else {
+            fputs(text, sink.f);
+            fputc('\n', sink.f);
+        }
+        free(text);
+    } else
         design_table(sink.f, m, &req, &res, bits);
 done:
     if (sink_open) {
