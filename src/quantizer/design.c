@@ -93,17 +93,18 @@ void qc_design_result_clear(qc_design_result *res)
 
 /* ---- request checks ------------------------------------------------- */
 
-static qc_status check_law(const double *p, size_t n, const char *what)
+static qc_status check_law(const double *p, size_t n)
 {
     double s = 0.0;
     for (size_t i = 0; i < n; i++) {
         if (!isfinite(p[i]) || p[i] < 0.0)
-            return qc_fail(QC_EINVAL, "%s %zu is %g: must be a probability >= 0",
-                           what, i + 1, p[i]);
+            return qc_fail(QC_EINVAL,
+                           "input probability %zu is %g: must be a probability >= 0",
+                           i + 1, p[i]);
         s += p[i];
     }
     if (fabs(s - 1.0) > LAW_TOL)
-        return qc_fail(QC_EINVAL, "%ss sum to %.17g, expected 1", what, s);
+        return qc_fail(QC_EINVAL, "input probabilities sum to %.17g, expected 1", s);
     return QC_OK;
 }
 
@@ -133,7 +134,7 @@ static qc_status check_request(const qc_design_request *req, int fixed,
                        "cells must be between 2 and %zu (1 to %d bits), got %zu",
                        (size_t)1 << QC_MAX_BITS, QC_MAX_BITS, K);
     if (req->probabilities) {
-        st = check_law(req->probabilities, req->nlevels, "input probability");
+        st = check_law(req->probabilities, req->nlevels);
         if (st != QC_OK)
             return st;
     }

@@ -22,23 +22,23 @@
 #include <stdlib.h>
 
 typedef struct {
-    size_t nx, n;
-    const double *r;
-    double *below; /* (n + 1) × nx: Σ_{i<k} P(i|x) */
-    double *above; /* (n + 1) × nx: Σ_{i≥k} P(i|x) */
+    size_t nx, n; /* inputs with r(x) > 0 only, fine outputs */
+    double *r;    /* their probabilities */
+    /* (n + 1) × 2nx, one block per boundary k: Σ_{i<k} P(i|x) for each x,
+     * then Σ_{i≥k} P(i|x) — one cache line per boundary for nx ≤ 4 */
+    double *cum;
 } cell_fn;
 
 /* g over outputs [a, b), a < b. */
 static double cell_value(const cell_fn *f, size_t a, size_t b)
 {
     const size_t nx = f->nx;
-    const double *ba = f->below + a * nx, *bb = f->below + b * nx;
-    const double *ua = f->above + a * nx, *ub = f->above + b * nx;
+    const double *ca = f->cum + 2 * nx * a, *cb = f->cum + 2 * nx * b;
     double s = 0.0, q = 0.0;
     for (size_t x = 0; x < nx; x++) {
-        if (!(f->r[x] > 0.0))
-            continue;
-        double p = ua[x] < bb[x] ? ua[x] - ub[x] : bb[x] - ba[x];
+        /* the difference on the side where both sums are small */
+        double up = ca[nx + x] - cb[nx + x], down = cb[x] - ca[x];
+        double p = ca[nx + x] < cb[x] ? up : down;
         if (p > 0.0) {
             s += f->r[x] * p * log(p);
             q += f->r[x] * p;
@@ -51,20 +51,25 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
 
 static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
 {
-    const size_t nx = d->nx, n = d->ny;
+    const size_t n = d->ny;
+    size_t nx = 0;
+    for (size_t x = 0; x < d->nx; x++)
+        nx += r[x] > 0.0;
     f->nx = nx;
     f->n = n;
-    f->r = r;
-    f->below = qc_malloc_array((n + 1) * nx, sizeof *f->below);
-    f->above = qc_malloc_array((n + 1) * nx, sizeof *f->above);
-    if (!f->below || !f->above)
+    f->r = qc_malloc_array(nx, sizeof *f->r);
+    f->cum = qc_malloc_array((n + 1) * 2 * nx, sizeof *f->cum);
+    if (!f->r || !f->cum)
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
-                       nx, n);
-    for (size_t x = 0; x < nx; x++) {
+                       d->nx, n);
+    for (size_t x = 0, j = 0; x < d->nx; x++) {
+        if (!(r[x] > 0.0))
+            continue;
+        f->r[j] = r[x];
         const double *row = d->p + x * n;
         long double s = 0.0L;
         for (size_t k = 0; k <= n; k++) {
-            f->below[k * nx + x] = (double)s;
+            f->cum[2 * nx * k + j] = (double)s;
             if (k < n)
                 s += row[k];
         }
@@ -72,16 +77,17 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
         for (size_t k = n + 1; k-- > 0;) {
             if (k < n)
                 s += row[k];
-            f->above[k * nx + x] = (double)s;
+            f->cum[2 * nx * k + nx + j] = (double)s;
         }
+        j++;
     }
     return QC_OK;
 }
 
 static void cell_fn_free(cell_fn *f)
 {
-    free(f->below);
-    free(f->above);
+    free(f->r);
+    free(f->cum);
 }
 
 /* ---- SMAWK row maxima of one layer ---------------------------------- */
@@ -116,6 +122,12 @@ static void smawk(const layer *L, size_t *pool, double *vpool, const size_t *row
     size_t *keep = pool;
     double *kval = vpool;
     size_t top = 0;
+    if (nc <= nr) { /* nothing to eliminate (each layer's square top call) */
+        for (size_t i = 0; i < nc; i++)
+            keep[i] = cols[i];
+        top = nc;
+        nc = 0;
+    }
     for (size_t i = 0; i < nc; i++) {
         size_t c = cols[i];
         while (top > 0) {
