@@ -40,6 +40,14 @@ static void gauss_support(const qc_model *m, double x, double *lo, double *hi)
     *hi = x + 8.3 * s;
 }
 
+static qc_status gauss_moments(const qc_model *m, double x, double *mean,
+                               double *var)
+{
+    *mean = x;
+    *var = m->params[P_SIGMA] * m->params[P_SIGMA];
+    return QC_OK;
+}
+
 /* SNR = E[x²]/σ² under the input law (signal power over noise power). */
 static double gauss_snr(const qc_model *m, const double *levels,
                         const double *input, size_t n)
@@ -73,6 +81,7 @@ const qc_model_type qc_model_gauss = {
     .above = gauss_above,
     .density = gauss_density,
     .support = gauss_support,
+    .moments = gauss_moments,
     .snr = gauss_snr,
     .scale_snr = gauss_scale_snr,
 };
