@@ -13,9 +13,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_math.h> /* M_PI, M_SQRT2 */
-#include <gsl/gsl_randist.h>
 
 #include "quantcap.h"
 
@@ -243,42 +241,6 @@ static void test_optimal_grid_independent(void **state)
 
 /* ---- photon counting --------------------------------------------------- */
 
-/* A local count model for the test: Poisson counts with mean x + b
- * (signal plus background), P(Y < t) = P(Y ≤ t − 1) from GSL. */
-static double pois_mean(const qc_model *m, double x) { return x + m->params[0]; }
-static double pois_below(const qc_model *m, double x, double t)
-{
-    return t < 1.0 ? 0.0 : gsl_cdf_poisson_P((unsigned)(t - 1.0), pois_mean(m, x));
-}
-static double pois_above(const qc_model *m, double x, double t)
-{
-    return t < 1.0 ? 1.0 : gsl_cdf_poisson_Q((unsigned)(t - 1.0), pois_mean(m, x));
-}
-static double pois_density(const qc_model *m, double x, double y)
-{
-    return gsl_ran_poisson_pdf((unsigned)y, pois_mean(m, x));
-}
-static void pois_support(const qc_model *m, double x, double *lo, double *hi)
-{
-    double mu = pois_mean(m, x);
-    *lo = 0.0;
-    *hi = mu + 12.0 * sqrt(mu) + 40.0;
-}
-static const qc_param_spec pois_params[] = {
-    {"background", "", "mean background count", 0.0, 0.0, INFINITY, 0},
-};
-static const qc_model_type pois_type = {
-    .name = "test-poisson",
-    .summary = "Poisson counts, mean x + background (test only)",
-    .output = QC_OUTPUT_COUNTS,
-    .nparams = 1,
-    .params = pois_params,
-    .below = pois_below,
-    .above = pois_above,
-    .density = pois_density,
-    .support = pois_support,
-};
-
 static double count_mi(qc_model *m, const double *levels, const double *law,
                        const double *t, size_t nt)
 {
@@ -293,26 +255,26 @@ static double count_mi(qc_model *m, const double *levels, const double *law,
 static void test_photon_counting_exhaustive(void **state)
 {
     (void)state;
-    /* OOK: "off" gives background only, "on" adds a signal count. */
+    /* OOK on the photon-counting model: level 0 gives the background
+     * count only, level 1 adds the signal photons. */
     const double backgrounds[] = {0.2, 1.5};
     const double signals[] = {4.0, 12.0};
-    const double law[2] = {0.6, 0.4};
+    const double law[2] = {0.6, 0.4}, levels[2] = {0.0, 1.0};
     for (size_t ib = 0; ib < 2; ib++)
         for (size_t is = 0; is < 2; is++) {
             qc_model *m;
-            assert_int_equal(qc_model_alloc(&pois_type, &backgrounds[ib], &m), QC_OK);
-            const double levels[2] = {0.0, signals[is]};
+            const double params[2] = {signals[is], backgrounds[ib]};
+            assert_int_equal(qc_model_alloc(&qc_model_poisson, params, &m), QC_OK);
             const double top = 45.0; /* beyond every count that matters */
             for (size_t K = 2; K <= 4; K++) {
                 qc_design_request r;
                 request(&r, m, levels, 2, K, QC_QUANTIZER_OPTIMAL);
                 r.probabilities = law;
+                r.skip_snr_penalty = 1;
                 qc_design_result res;
                 assert_int_equal(qc_design(&r, &res), QC_OK);
                 for (size_t j = 0; j < K - 1; j++)
                     assert_true(res.thresholds[j] == floor(res.thresholds[j]));
-                /* no SNR notion in this model */
-                assert_true(isnan(res.snr_db) && isnan(res.snr_penalty_db));
                 /* exhaustive search over integer thresholds 1 ≤ t1 < … < top */
                 double best = -1.0, t[3];
                 for (t[0] = 1; t[0] < top; t[0]++) {
@@ -369,6 +331,37 @@ static void test_result_contents(void **state)
     qc_design_result_clear(&res); /* idempotent */
     qc_design_result_clear(NULL);
     qc_design_comparison_clear(NULL);
+    qc_model_free(m);
+}
+
+static void test_model_without_snr(void **state)
+{
+    (void)state;
+    /* the Gaussian model with its SNR hook removed */
+    qc_model_type plain = qc_model_gauss;
+    plain.snr = NULL;
+    plain.scale_snr = NULL;
+    const double sigma = 0.7, levels[2] = {-1.0, 1.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&plain, &sigma, &m), QC_OK);
+    qc_design_request r;
+    request(&r, m, levels, 2, 4, QC_QUANTIZER_OPTIMAL);
+    qc_design_result res;
+    assert_int_equal(qc_design(&r, &res), QC_OK);
+    assert_true(isnan(res.snr_db) && isnan(res.snr_penalty_db));
+    assert_true(res.rate_bits > 0.0);
+    qc_design_result_clear(&res);
+    qc_model *scaled = (qc_model *)0x1;
+    assert_int_equal(qc_model_scale_snr(m, 2.0, &scaled), QC_EINVAL);
+    assert_null(scaled);
+    assert_non_null(strstr(qc_last_error(), "defines no SNR"));
+    qc_model_free(m);
+    /* a gain that is not a positive number */
+    m = gauss(1.0);
+    assert_int_equal(qc_model_scale_snr(m, -1.0, &scaled), QC_EINVAL);
+    assert_int_equal(qc_model_scale_snr(m, 4.0, &scaled), QC_OK);
+    assert_true(fabs(scaled->params[0] - 0.5) <= TOL_TIGHT); /* σ/√4 */
+    qc_model_free(scaled);
     qc_model_free(m);
 }
 
@@ -519,6 +512,7 @@ int main(void)
         cmocka_unit_test(test_optimal_grid_independent),
         cmocka_unit_test(test_photon_counting_exhaustive),
         cmocka_unit_test(test_result_contents),
+        cmocka_unit_test(test_model_without_snr),
         cmocka_unit_test(test_compare_with_fixed),
         cmocka_unit_test(test_names),
         cmocka_unit_test(test_bad_input),
