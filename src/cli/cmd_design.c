@@ -8,6 +8,7 @@
 #include <string.h>
 
 static const cli_opt output_options[] = {
+    {"compare", NULL, "run every threshold strategy on the same channel, side by side"},
     {"json", NULL, "machine-readable JSON output"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
     {NULL, NULL, NULL},
@@ -31,16 +32,41 @@ static void help(const cli_args *a)
 {
     printf("usage: quantcap design --model NAME [model parameters | --snr-db X]\n"
            "                       --levels L1,...,Ln (--bits B | --cells K)\n"
-           "                       [--objective mi|capacity] [--quantizer NAME] [--json]\n\n"
+           "                       [--objective mi|capacity] [--quantizer NAME]\n"
+           "                       [--compare] [--json] [--output FILE]\n\n"
            "Places the thresholds of a K-cell quantizer after the receiver and reports\n"
            "the information rate that survives it, the unquantized rate for the same\n"
            "levels and input law, and the loss. --objective mi rates the uniform (or\n"
            "given) input law; --objective capacity also optimizes the input law with\n"
            "the Blahut-Arimoto engine and reports its certified upper bound.\n"
            "--snr-db sets sigma from E[x^2]/sigma^2 with E[x^2] taken under the input\n"
-           "law being evaluated (the given law, else uniform over the levels).\n\n"
+           "law being evaluated (the given law, else uniform over the levels).\n"
+           "The SNR penalty is the operating SNR minus the SNR at which the\n"
+           "unquantized receiver reaches the same rate.\n\n"
+           "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
+           "grid then gradient refinement), uniform (clipping range optimized),\n"
+           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
            "options:\n");
     cli_print_options(a, stdout);
+}
+
+static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
+{
+    fprintf(f, "rate         %.9f bit/use", r->rate_bits);
+    if (req->objective == QC_OBJECTIVE_CAPACITY)
+        fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f (tol %.2g bit)\n",
+                r->upper_bound_bits, r->tol_bits);
+    else
+        fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
+                r->channel->ny);
+    fprintf(f, "unquantized  %.9f bit/use   adaptive quadrature, error estimate %.1e bit\n",
+            r->unquantized_bits, r->unquantized_err_bits);
+    fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
+    if (isfinite(r->snr_db))
+        fprintf(f, "SNR          %.3f dB operating; penalty %s%.4f dB against the unquantized "
+                   "receiver\n",
+                r->snr_db, isfinite(r->snr_penalty_db) ? "" : "(undefined) ",
+                isfinite(r->snr_penalty_db) ? r->snr_penalty_db : 0.0);
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
@@ -51,28 +77,75 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     for (size_t i = 0; i < type->nparams; i++)
         fprintf(f, " %s = %.6g%s%s", type->params[i].name, m->params[i],
                 type->params[i].unit[0] ? " " : "", type->params[i].unit);
-    fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(req->quantizer), req->cells);
+    fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
     if (bits)
         fprintf(f, " (%u bit%s)", bits, bits == 1 ? "" : "s");
+    if (r->fine_cells)
+        fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",
             req->objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
                                                     : "mutual information, given input law");
-    fprintf(f, "rate         %.9f bit/use", r->rate_bits);
-    if (req->objective == QC_OBJECTIVE_CAPACITY)
-        fprintf(f, "   certified: upper bound %.9f bit/use (Blahut-Arimoto, tol %.2g bit)\n",
-                r->upper_bound_bits, r->tol_bits);
-    else
-        fprintf(f, "   exact finite sum over the %zu x %zu matrix\n", r->channel->nx,
-                r->channel->ny);
-    fprintf(f, "unquantized  %.9f bit/use   adaptive quadrature, error estimate %.1e bit\n",
-            r->unquantized_bits, r->unquantized_err_bits);
-    fprintf(f, "loss         %.9f bit/use\n\n", r->loss_bits);
-    fprintf(f, "thresholds  ");
+    print_rates(f, req, r);
+    if (r->reconstruction)
+        fprintf(f, "mean-square  %.6g (Lloyd-Max)\n", r->mse);
+    fprintf(f, "\nthresholds  ");
     for (size_t j = 0; j < r->nthresholds; j++)
         fprintf(f, "%s%.6g", j ? ", " : " ", r->thresholds[j]);
     fprintf(f, "\n\n       level   probability\n");
     for (size_t x = 0; x < r->nlevels; x++)
         fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
+}
+
+/* `--compare`: every strategy on the same channel. */
+static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
+{
+    qc_design_comparison cmp;
+    memset(&cmp, 0, sizeof cmp);
+    qc_status st = qc_design_compare(req, &cmp);
+    if (st != QC_OK && cmp.count == 0)
+        return cli_lib_error(st);
+    int rc = CLI_OK;
+    if (json) {
+        fputs("[\n", sink->f);
+        for (size_t i = 0; i < cmp.count && rc == CLI_OK; i++) {
+            if (cmp.status[i] != QC_OK) {
+                json_t *o = json_object();
+                json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(cmp.kind[i])));
+                json_object_set_new(o, "error", json_string(cmp.message[i]));
+                char *t = json_dumps(o, JSON_INDENT(2) | JSON_PRESERVE_ORDER);
+                json_decref(o);
+                fputs(t ? t : "null", sink->f);
+                free(t);
+            } else {
+                char *t = NULL;
+                if ((st = qc_design_report_json(req, &cmp.result[i], &t)) != QC_OK)
+                    rc = cli_lib_error(st);
+                else
+                    fputs(t, sink->f);
+                free(t);
+            }
+            fputs(i + 1 < cmp.count ? ",\n" : "\n", sink->f);
+        }
+        fputs("]\n", sink->f);
+    } else {
+        fprintf(sink->f, "%-10s %14s %14s %12s %12s\n", "quantizer", "rate bit/use",
+                "unquantized", "loss bit", "penalty dB");
+        for (size_t i = 0; i < cmp.count; i++) {
+            if (cmp.status[i] != QC_OK) {
+                fprintf(sink->f, "%-10s failed: %s\n", qc_quantizer_name(cmp.kind[i]),
+                        cmp.message[i]);
+                continue;
+            }
+            const qc_design_result *r = &cmp.result[i];
+            fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12.4f\n", qc_quantizer_name(r->quantizer),
+                    r->rate_bits, r->unquantized_bits, r->loss_bits, r->snr_penalty_db);
+        }
+        fprintf(sink->f, "\n%s\n", req->objective == QC_OBJECTIVE_CAPACITY
+                                       ? "rates: capacity, certified by the Blahut-Arimoto upper bound"
+                                       : "rates: mutual information, exact finite sums");
+    }
+    qc_design_comparison_clear(&cmp);
+    return rc;
 }
 
 int cmd_design(int argc, char **argv)
@@ -111,6 +184,13 @@ int cmd_design(int argc, char **argv)
         rc = cli_usage_error("design: %s", qc_last_error());
         if (!qc_status_is_input_error(st))
             rc = CLI_NUMERIC;
+        goto done;
+    }
+    if (cli_has(&a, "compare")) {
+        if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
+            goto done;
+        sink_open = 1;
+        rc = run_compare(&sink, cli_has(&a, "json"), &req);
         goto done;
     }
     if ((st = qc_design(&req, &res)) != QC_OK) {

@@ -20,7 +20,7 @@ typedef struct {
 static const key_spec keys[] = {
     {{"model", "NAME", "noise model (see 'quantcap models')"}, K_TEXT, 0, 0, NULL},
     {{"levels", "L1,...,Ln", "transmitted levels (model units)"}, K_LIST, 0, 0, NULL},
-    {{"probabilities", "P1,...,Pn", "input law for the mi objective (default uniform)"},
+    {{"probabilities", "P1,...,Pn", "input law (mi: the law rated; capacity: the starting law)"},
      K_LIST, 0, 0, NULL},
     {{"snr-db", "X", "set sigma from the SNR E[x^2]/sigma^2 in dB (model gauss)"},
      K_NUMBER, 0, 0, NULL},
@@ -29,8 +29,11 @@ static const key_spec keys[] = {
      (size_t)1 << QC_MAX_BITS, NULL},
     {{"objective", "mi|capacity", "rate to maximize (default mi)"}, K_CHOICE, 0, 0,
      "mi,capacity"},
-    {{"quantizer", "NAME", "threshold strategy: uniform, fixed (default uniform)"},
-     K_CHOICE, 0, 0, "uniform,fixed"},
+    {{"quantizer", "NAME",
+      "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)"},
+     K_CHOICE, 0, 0, "optimal,uniform,lloyd-max,fixed"},
+    {{"fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)"},
+     K_WHOLE, 2, (size_t)1 << 22, NULL},
     {{"thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"}, K_LIST, 0,
      0, NULL},
     {{"tol", "T", "certification tolerance in bits (default 1e-9)"}, K_NUMBER, 0, 0, NULL},
@@ -343,25 +346,33 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     }
 
     const char *v;
-    if ((v = qc_settings_get(s, "objective")))
-        req->objective = strcmp(v, "capacity") == 0 ? QC_OBJECTIVE_CAPACITY : QC_OBJECTIVE_MI;
-    if (s->probabilities && req->objective == QC_OBJECTIVE_CAPACITY)
-        return qc_fail(QC_EINVAL, "probabilities: the capacity objective optimizes the "
-                                  "input law; use objective mi to rate a given law");
-    if ((v = qc_settings_get(s, "quantizer")))
-        req->quantizer = strcmp(v, "fixed") == 0 ? QC_QUANTIZER_FIXED : QC_QUANTIZER_UNIFORM;
+    if ((v = qc_settings_get(s, "objective")) &&
+        (st = qc_objective_parse(v, &req->objective)) != QC_OK)
+        return qc_fail(st, "objective: %s", qc_last_error());
+    if ((v = qc_settings_get(s, "quantizer")) &&
+        (st = qc_quantizer_parse(v, &req->quantizer)) != QC_OK)
+        return qc_fail(st, "quantizer: %s", qc_last_error());
     if (s->thresholds) {
         if (v && req->quantizer != QC_QUANTIZER_FIXED)
             return qc_fail(QC_EINVAL, "thresholds: given thresholds are evaluated as they "
                                       "are; they cannot be combined with quantizer %s",
                            v);
         req->quantizer = QC_QUANTIZER_FIXED;
+        req->nthresholds = nt;
         if (nt + 1 != req->cells)
             return qc_fail(QC_EINVAL, "thresholds: %zu thresholds make %zu cells, but %zu "
                                       "cells were asked for",
                            nt, nt + 1, req->cells);
     } else if (req->quantizer == QC_QUANTIZER_FIXED) {
         return qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
+    }
+    if ((v = qc_settings_get(s, "fine-cells"))) {
+        if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->fine_cells)) != QC_OK)
+            return qc_fail(st, "fine-cells: %s", qc_last_error());
+        if (req->fine_cells < req->cells)
+            return qc_fail(QC_EINVAL, "fine-cells: the fine grid (%zu cells) must have at "
+                                      "least as many cells as the quantizer (%zu)",
+                           req->fine_cells, req->cells);
     }
     if ((v = qc_settings_get(s, "tol")) && (st = qc_parse_double(v, &req->tol_bits)) != QC_OK)
         return qc_fail(st, "tol: %s", qc_last_error());
