@@ -52,6 +52,7 @@ static void help(const cli_args *a)
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
 {
+    int counts = req->model->type->output == QC_OUTPUT_COUNTS;
     fprintf(f, "rate         %.9f bit/use", r->rate_bits);
     if (req->objective == QC_OBJECTIVE_CAPACITY)
         fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f (tol %.2g bit)\n",
@@ -59,8 +60,10 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     else
         fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
                 r->channel->ny);
-    fprintf(f, "unquantized  %.9f bit/use   adaptive quadrature, error estimate %.1e bit\n",
-            r->unquantized_bits, r->unquantized_err_bits);
+    fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n", r->unquantized_bits,
+            counts ? "sum over every count (ideal photon-number resolution)"
+                   : "adaptive quadrature",
+            r->unquantized_err_bits);
     fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
     if (isfinite(r->snr_db))
         fprintf(f, "SNR          %.3f dB operating; penalty %s%.4f dB against the unquantized "

@@ -2,7 +2,7 @@
  * `design` command's flags and by scenario files: each key's value is
  * checked when it is set, and the whole set is turned into a model and a
  * design request by qc_settings_build. */
-#include "core/internal.h"
+#include "io/settings_internal.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -15,42 +15,65 @@ typedef struct {
     key_kind kind;
     size_t lo, hi;        /* K_WHOLE range                        */
     const char *choices;  /* K_CHOICE: comma-separated             */
+    double dmin, dmax;    /* K_NUMBER range (both 0: any number)  */
+    int min_exclusive;    /* K_NUMBER: value must be > dmin       */
 } key_spec;
 
+#define INF INFINITY
+#define KEY(name, meta, help) .info = {name, meta, help}
+#define TEXT(name, meta, help) {KEY(name, meta, help), .kind = K_TEXT}
+#define LIST(name, meta, help) {KEY(name, meta, help), .kind = K_LIST}
+#define WHOLE(name, meta, help, l, h) {KEY(name, meta, help), .kind = K_WHOLE, .lo = l, .hi = h}
+#define CHOICE(name, meta, help, c) {KEY(name, meta, help), .kind = K_CHOICE, .choices = c}
+#define NUMBER(name, meta, help) {KEY(name, meta, help), .kind = K_NUMBER}
+/* A number key with a range: > l (open) or >= l (closed), <= h. */
+#define NUMBER_ABOVE(name, meta, help, l)                                                  \
+    {KEY(name, meta, help), .kind = K_NUMBER, .dmin = l, .dmax = INF, .min_exclusive = 1}
+#define NUMBER_FROM(name, meta, help, l, h)                                                \
+    {KEY(name, meta, help), .kind = K_NUMBER, .dmin = l, .dmax = h}
+
 static const key_spec keys[] = {
-    {{"model", "NAME", "noise model (see 'quantcap models')"}, K_TEXT, 0, 0, NULL},
-    {{"levels", "L1,...,Ln", "transmitted levels (model units)"}, K_LIST, 0, 0, NULL},
-    {{"probabilities", "P1,...,Pn", "input law (mi: the law rated; capacity: the starting law)"},
-     K_LIST, 0, 0, NULL},
-    {{"snr-db", "X", "set sigma from the SNR E[x^2]/sigma^2 in dB (model gauss)"},
-     K_NUMBER, 0, 0, NULL},
-    {{"bits", "B", "ADC resolution: 2^B cells (1..16)"}, K_WHOLE, 1, QC_MAX_BITS, NULL},
-    {{"cells", "K", "number of quantizer cells (2..65536)"}, K_WHOLE, 2,
-     (size_t)1 << QC_MAX_BITS, NULL},
-    {{"objective", "mi|capacity", "rate to maximize (default mi)"}, K_CHOICE, 0, 0,
-     "mi,capacity"},
-    {{"quantizer", "NAME",
-      "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)"},
-     K_CHOICE, 0, 0, "optimal,uniform,lloyd-max,fixed"},
-    {{"fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)"},
-     K_WHOLE, 2, (size_t)1 << 22, NULL},
-    {{"thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"}, K_LIST, 0,
-     0, NULL},
-    {{"tol", "T", "certification tolerance in bits (default 1e-9)"}, K_NUMBER, 0, 0, NULL},
+    TEXT("model", "NAME", "noise model (see 'quantcap models')"),
+    LIST("levels", "L1,...,Ln", "transmitted levels (model units)"),
+    LIST("probabilities", "P1,...,Pn", "input law (mi: the law rated; capacity: the start)"),
+    NUMBER("snr-db", "X", "set sigma from the SNR E[x^2]/sigma^2 in dB (model gauss)"),
+    WHOLE("bits", "B", "ADC resolution: 2^B cells (1..16)", 1, QC_MAX_BITS),
+    WHOLE("cells", "K", "number of quantizer cells (2..65536)", 2, (size_t)1 << QC_MAX_BITS),
+    CHOICE("objective", "mi|capacity", "rate to maximize (default mi)", "mi,capacity"),
+    CHOICE("quantizer", "NAME",
+           "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)",
+           "optimal,uniform,lloyd-max,fixed"),
+    WHOLE("fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)",
+          2, (size_t)1 << 22),
+    LIST("thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"),
+    NUMBER("tol", "T", "certification tolerance in bits (default 1e-9)"),
+    TEXT("alphabet", "SPEC", "levels by name: pam:M (bipolar), upam:M (intensity 0..1)"),
+    TEXT("table", "FILE", "measured densities for model table (format in docs/formats.md)"),
+    /* physical receiver (front end); units in docs/models.md */
+    NUMBER_FROM("power-dbm", "P", "average received optical power, dBm", -INF, INF),
+    NUMBER_ABOVE("extinction-db", "E",
+                 "extinction ratio P1/P0 of the intensity levels, dB (default: infinite)", 0.0),
+    NUMBER_ABOVE("responsivity", "R", "photodiode responsivity, A/W", 0.0),
+    NUMBER_ABOVE("bandwidth", "B", "electrical noise bandwidth, Hz", 0.0),
+    NUMBER_FROM("thermal-density", "I", "input-referred thermal noise current, pA/sqrt(Hz)",
+                0.0, INF),
+    NUMBER_ABOVE("load-resistance", "R", "load resistance for 4kT/R thermal noise, ohm", 0.0),
+    NUMBER_ABOVE("temperature", "T", "receiver temperature, K (default 290)", 0.0),
+    NUMBER_FROM("dark-current", "I", "primary dark current, A (default 0)", 0.0, INF),
+    NUMBER_FROM("apd-gain", "M", "APD mean avalanche gain (default 1: PIN)", 1.0, INF),
+    NUMBER_FROM("apd-k", "K", "APD ionization ratio k (default 0)", 0.0, 1.0),
+    NUMBER_ABOVE("slot-time", "T", "slot (integration) time, s", 0.0),
+    NUMBER_ABOVE("wavelength-nm", "L", "optical wavelength, nm (photon counting)", 0.0),
+    NUMBER_ABOVE("efficiency", "ETA", "detector quantum efficiency, (0, 1] (default 1)", 0.0),
+    NUMBER_FROM("dark-count-rate", "D", "dark and background count rate, 1/s (default 0)", 0.0,
+                INF),
+    NUMBER_FROM("osnr-db", "X", "OSNR in the reference bandwidth, dB (model gauss)", -INF, INF),
+    NUMBER_ABOVE("symbol-rate", "RS", "symbol rate, baud (with osnr-db)", 0.0),
+    WHOLE("polarizations", "P", "polarizations carrying signal, 1 or 2 (default 2)", 1, 2),
+    NUMBER_ABOVE("ref-bandwidth", "B", "OSNR reference bandwidth, Hz (default 12.5e9)", 0.0),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
-#define MAX_ENTRIES 64
-#define VALUE_MAX 65536
-
-struct qc_settings {
-    size_t n;
-    char *key[MAX_ENTRIES];
-    char *value[MAX_ENTRIES];
-    /* parsed lists, owned, refreshed by qc_settings_build */
-    double *levels, *probabilities, *thresholds;
-};
-
 const qc_setting_info *qc_setting_keys(size_t *n)
 {
     static qc_setting_info infos[NKEYS];
@@ -67,6 +90,8 @@ static const key_spec *find_key(const char *key)
             return &keys[i];
     return NULL;
 }
+
+int qc_setting_is_design_key(const char *key) { return find_key(key) != NULL; }
 
 static int is_model_param(const char *key)
 {
@@ -130,7 +155,7 @@ qc_status qc_settings_alloc(qc_settings **out)
     return *out ? QC_OK : qc_fail(QC_ENOMEM, "out of memory");
 }
 
-static void free_lists(qc_settings *s)
+void qc_settings_free_lists(qc_settings *s)
 {
     free(s->levels);
     free(s->probabilities);
@@ -146,7 +171,7 @@ void qc_settings_free(qc_settings *s)
         free(s->key[i]);
         free(s->value[i]);
     }
-    free_lists(s);
+    qc_settings_free_lists(s);
     free(s);
 }
 
@@ -188,9 +213,18 @@ static qc_status check_value(const char *key, const char *value)
         return QC_OK;
     case K_NUMBER:
         st = qc_parse_double(value, &d);
-        if (st == QC_OK && strcmp(key, "tol") == 0 && !(d > 0.0))
+        if (st != QC_OK)
+            return st;
+        if (strcmp(key, "tol") == 0 && !(d > 0.0))
             return qc_fail(QC_EINVAL, "tolerance must be > 0 (got %g)", d);
-        return st;
+        if (k->dmin == 0.0 && k->dmax == 0.0)
+            return QC_OK;
+        if (k->min_exclusive ? !(d > k->dmin) : !(d >= k->dmin))
+            return qc_fail(QC_EINVAL, "must be %s %g (got %g)", k->min_exclusive ? ">" : ">=",
+                           k->dmin, d);
+        if (!(d <= k->dmax))
+            return qc_fail(QC_EINVAL, "must be <= %g (got %g)", k->dmax, d);
+        return QC_OK;
     case K_WHOLE:
         return qc_parse_size(value, k->lo, k->hi, &z);
     case K_LIST:
@@ -259,141 +293,3 @@ const char *qc_settings_get(const qc_settings *s, const char *key)
     return NULL;
 }
 
-/* Noise from an SNR in dB for the Gaussian model: σ² = E[x²] / snr with
- * E[x²] under the given law (uniform when none). */
-static qc_status sigma_from_snr(const qc_settings *s, const double *levels, size_t nl,
-                                const double *probs, double *sigma)
-{
-    double snr_db;
-    qc_status st = qc_parse_double(qc_settings_get(s, "snr-db"), &snr_db);
-    if (st != QC_OK)
-        return qc_fail(st, "snr-db: %s", qc_last_error());
-    double e2 = 0.0;
-    for (size_t i = 0; i < nl; i++)
-        e2 += (probs ? probs[i] : 1.0 / (double)nl) * levels[i] * levels[i];
-    if (!(e2 > 0.0))
-        return qc_fail(QC_EINVAL, "snr-db: the levels have zero energy E[x^2], so no SNR "
-                                  "can be set");
-    *sigma = sqrt(e2 / pow(10.0, snr_db / 10.0));
-    if (!(*sigma > 0.0) || !isfinite(*sigma))
-        return qc_fail(QC_EINVAL, "snr-db: %g dB gives sigma = %g, outside what doubles hold",
-                       snr_db, *sigma);
-    return QC_OK;
-}
-
-static qc_status parse_list_key(const qc_settings *s, const char *key, double **out, size_t *n)
-{
-    const char *v = qc_settings_get(s, key);
-    *out = NULL;
-    *n = 0;
-    if (!v)
-        return QC_OK;
-    qc_status st = qc_parse_list(v, out, n);
-    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
-}
-
-qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request *req)
-{
-    *model = NULL;
-    qc_design_request_default(req);
-    free_lists(s);
-    const char *name = qc_settings_get(s, "model");
-    if (!name)
-        return qc_fail(QC_EINVAL, "no model given (key 'model'; see 'quantcap models')");
-    const qc_model_type *type = qc_model_type_find(name);
-    if (!type)
-        return qc_fail(QC_EINVAL, "model: unknown model '%s'", name);
-
-    double params[QC_MODEL_MAX_PARAMS];
-    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
-        params[i] = NAN;
-    for (size_t i = 0; i < s->n; i++) {
-        if (find_key(s->key[i]))
-            continue;
-        int idx = qc_model_param_index(type, s->key[i]);
-        if (idx < 0)
-            return qc_fail(QC_EINVAL, "'%s' is not a parameter of model '%s' (see "
-                                      "'quantcap models %s')",
-                           s->key[i], type->name, type->name);
-        qc_status st = qc_parse_double(s->value[i], &params[idx]);
-        if (st != QC_OK)
-            return qc_fail(st, "%s: %s", s->key[i], qc_last_error());
-    }
-
-    size_t nl, np, nt;
-    qc_status st;
-    if ((st = parse_list_key(s, "levels", &s->levels, &nl)) != QC_OK ||
-        (st = parse_list_key(s, "probabilities", &s->probabilities, &np)) != QC_OK ||
-        (st = parse_list_key(s, "thresholds", &s->thresholds, &nt)) != QC_OK)
-        return st;
-    if (!s->levels)
-        return qc_fail(QC_EINVAL, "no levels given (key 'levels')");
-    if (s->probabilities && np != nl)
-        return qc_fail(QC_EINVAL, "probabilities: %zu values for %zu levels", np, nl);
-
-    const char *bits = qc_settings_get(s, "bits"), *cells = qc_settings_get(s, "cells");
-    if (!bits == !cells)
-        return qc_fail(QC_EINVAL, "give exactly one of 'bits' and 'cells'");
-    size_t z;
-    if (bits) {
-        if ((st = qc_parse_size(bits, 1, QC_MAX_BITS, &z)) != QC_OK)
-            return qc_fail(st, "bits: %s", qc_last_error());
-        req->cells = (size_t)1 << z;
-    } else {
-        if ((st = qc_parse_size(cells, 2, (size_t)1 << QC_MAX_BITS, &z)) != QC_OK)
-            return qc_fail(st, "cells: %s", qc_last_error());
-        req->cells = z;
-    }
-
-    const char *v;
-    if ((v = qc_settings_get(s, "objective")) &&
-        (st = qc_objective_parse(v, &req->objective)) != QC_OK)
-        return qc_fail(st, "objective: %s", qc_last_error());
-    if ((v = qc_settings_get(s, "quantizer")) &&
-        (st = qc_quantizer_parse(v, &req->quantizer)) != QC_OK)
-        return qc_fail(st, "quantizer: %s", qc_last_error());
-    if (s->thresholds) {
-        if (v && req->quantizer != QC_QUANTIZER_FIXED)
-            return qc_fail(QC_EINVAL, "thresholds: given thresholds are evaluated as they "
-                                      "are; they cannot be combined with quantizer %s",
-                           v);
-        req->quantizer = QC_QUANTIZER_FIXED;
-        req->nthresholds = nt;
-        if (nt + 1 != req->cells)
-            return qc_fail(QC_EINVAL, "thresholds: %zu thresholds make %zu cells, but %zu "
-                                      "cells were asked for",
-                           nt, nt + 1, req->cells);
-    } else if (req->quantizer == QC_QUANTIZER_FIXED) {
-        return qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
-    }
-    if ((v = qc_settings_get(s, "fine-cells"))) {
-        if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->fine_cells)) != QC_OK)
-            return qc_fail(st, "fine-cells: %s", qc_last_error());
-        if (req->fine_cells < req->cells)
-            return qc_fail(QC_EINVAL, "fine-cells: the fine grid (%zu cells) must have at "
-                                      "least as many cells as the quantizer (%zu)",
-                           req->fine_cells, req->cells);
-    }
-    if ((v = qc_settings_get(s, "tol")) && (st = qc_parse_double(v, &req->tol_bits)) != QC_OK)
-        return qc_fail(st, "tol: %s", qc_last_error());
-
-    if (qc_settings_get(s, "snr-db")) {
-        int si = qc_model_param_index(type, "sigma");
-        if (strcmp(type->name, "gauss") != 0 || si < 0)
-            return qc_fail(QC_EINVAL, "snr-db applies to model 'gauss' only; give the "
-                                      "parameters of model '%s' instead",
-                           type->name);
-        if (!isnan(params[si]))
-            return qc_fail(QC_EINVAL, "give 'sigma' or 'snr-db', not both");
-        if ((st = sigma_from_snr(s, s->levels, nl, s->probabilities, &params[si])) != QC_OK)
-            return st;
-    }
-    if ((st = qc_model_alloc(type, params, model)) != QC_OK)
-        return st;
-    req->model = *model;
-    req->levels = s->levels;
-    req->nlevels = nl;
-    req->probabilities = s->probabilities;
-    req->thresholds = s->thresholds;
-    return QC_OK;
-}
