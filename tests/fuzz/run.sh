@@ -42,11 +42,14 @@ if [ ! -f "$here/fuzz_$target.c" ]; then
 fi
 
 if [ ! -f "$build/build.ninja" ]; then
-    CC=clang meson setup "$build" "$src" -Dfuzz=true >"$build.setup.log" 2>&1 || {
-        cat "$build.setup.log" >&2
+    setup_log=$(mktemp "${TMPDIR:-/tmp}/qc-fuzz-setup.XXXXXX") || exit 2
+    CC=clang meson setup "$build" "$src" -Dfuzz=true >"$setup_log" 2>&1 || {
+        cat "$setup_log" >&2
+        rm -f "$setup_log"
         echo "$0: cannot configure $build (needs clang and libclang-rt)" >&2
         exit 2
     }
+    rm -f "$setup_log"
 fi
 ninja -C "$build" "tests/fuzz/fuzz_$target" >/dev/null || {
     ninja -C "$build" "tests/fuzz/fuzz_$target" >&2
