@@ -251,6 +251,8 @@ static char *read_line(char *buf, int num, void *stream)
     reader *r = stream;
     if (r->st != QC_OK || r->pos >= r->len)
         return NULL;
+    if (r->pos == 0 && r->len >= 3 && memcmp(r->text, "\xEF\xBB\xBF", 3) == 0)
+        r->pos = 3; /* a UTF-8 byte-order mark */
     const char *start = r->text + r->pos;
     size_t rest = r->len - r->pos;
     const char *nl = memchr(start, '\n', rest);

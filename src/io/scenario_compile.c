@@ -379,11 +379,9 @@ static qc_status compile_alphabets(qc_scenario *sc, const qc_settings *base)
                 continue;
             }
             if (!qc_setting_known(e->key)) {
-                const char *near = qc_setting_suggest(e->key);
                 static const char *const own[] = {"label", NULL};
-                if (!near)
-                    near = closest(e->key, own);
-                return unknown_key(sc, e, where, near);
+                const char *near = closest(e->key, own);
+                return unknown_key(sc, e, where, near ? near : qc_setting_suggest(e->key));
             }
             if ((st = set_key(sc, a->settings, e, where)) != QC_OK)
                 return st;
