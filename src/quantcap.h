@@ -190,8 +190,14 @@ typedef struct qc_model_type {
     void (*support)(const qc_model *m, double x, double *lo, double *hi);
     /* Check that x is a valid input level (e.g. x ≥ 0 for intensity). */
     qc_status (*check_level)(const qc_model *m, double x);
+    /* Mean and variance of Y given x (may be NULL: unknown). */
+    qc_status (*moments)(const qc_model *m, double x, double *mean,
+                         double *var);
 } qc_model_type;
 
+/* A model instance. Models with a state (apd caches per-level grids,
+ * table holds its data) are used by one thread at a time: a sweep
+ * creates one instance per thread. */
 struct qc_model {
     const qc_model_type *type;
     double params[QC_MODEL_MAX_PARAMS];
@@ -199,6 +205,19 @@ struct qc_model {
 };
 
 extern const qc_model_type qc_model_gauss;
+/* Signal-dependent Gaussian: sigma^2(x) = sigma0^2 + a x + b x^2. */
+extern const qc_model_type qc_model_gauss_sd;
+/* Photon counting: Y ~ Poisson(signal·x + background). */
+extern const qc_model_type qc_model_poisson;
+/* APD: Poisson primaries × McIntyre gain + Gaussian thermal noise,
+ * exact law computed by FFT convolution. */
+extern const qc_model_type qc_model_apd;
+/* The Gaussian approximation of `apd` (same parameters). */
+extern const qc_model_type qc_model_apd_gauss;
+/* Optically pre-amplified direct detection: Y = ncx2(2m, 2x)/2. */
+extern const qc_model_type qc_model_preamp;
+/* Measured densities per level from a file (qc_model_table_load). */
+extern const qc_model_type qc_model_table;
 
 /* All registered model types, NULL-terminated. */
 const qc_model_type *const *qc_model_types(void);
@@ -217,6 +236,101 @@ void qc_model_free(qc_model *model);
 /* Check levels against the model (finite, allowed by check_level). */
 qc_status qc_model_check_levels(const qc_model *model, const double *levels,
                                 size_t nlevels);
+
+/* Mean and variance of the output given level x. QC_EINVAL when the
+ * level is invalid or the model type has no moments hook. */
+qc_status qc_model_moments(const qc_model *model, double x, double *mean,
+                           double *var);
+
+/* Create a `table` model from a text file of densities (format in
+ * docs/formats.md). Errors name the file and line (QC_EFORMAT), or the
+ * path (QC_EIO). */
+qc_status qc_model_table_load(const char *path, qc_model **out);
+/* The same from text in memory; `name` is used in messages. */
+qc_status qc_model_table_parse(const char *text, size_t len, const char *name,
+                               qc_model **out);
+/* Levels of a table model (borrowed; valid while the model lives). */
+qc_status qc_model_table_levels(const qc_model *model, const double **levels,
+                                size_t *nlevels);
+
+/* ------------------------------------------------------------------ */
+/* Physical receiver front end (SI units; formulas in docs/models.md)  */
+/* ------------------------------------------------------------------ */
+
+/* Receiver of intensity-modulated light: PIN (gain 1) or APD. */
+typedef struct {
+    double responsivity;     /* R, A/W (> 0), required                     */
+    double bandwidth;        /* electrical noise bandwidth B, Hz (> 0)     */
+    double thermal_density;  /* input-referred noise current, pA/√Hz (≥ 0);
+                                NaN: 4kT/R_L from the next two fields      */
+    double load_resistance;  /* R_L, ohm (> 0), used if thermal_density NaN */
+    double temperature;      /* T, kelvin (> 0), default 290                */
+    double dark_current;     /* primary dark current I_d, A (≥ 0), default 0 */
+    double gain;             /* APD mean gain M (≥ 1), default 1 (PIN)     */
+    double ionization_ratio; /* k in [0, 1], default 0                     */
+} qc_receiver;
+
+/* Defaults: responsivity, bandwidth, thermal_density, load_resistance
+ * NaN (to be given), temperature 290 K, no dark current, gain 1, k 0. */
+void qc_receiver_default(qc_receiver *rx);
+
+/* Excess noise factor F = kM + (1 − k)(2 − 1/M) (McIntyre 1966). */
+qc_status qc_excess_noise_factor(double gain, double k, double *factor);
+
+/* Noise variances in A² over the receiver bandwidth at optical power
+ * `power_w` (W): shot = 2q(R·P + I_d)M²F·B, thermal = i_n²·B with
+ * i_n² = thermal_density² or 4kT/R_L. Either output may be NULL. */
+qc_status qc_receiver_noise(const qc_receiver *rx, double power_w,
+                            double *shot_var, double *thermal_var);
+
+/* dBm → W. QC_EINVAL when not finite. */
+qc_status qc_dbm_to_watt(double dbm, double *watt);
+
+/* Optical powers (W) of `nlevels` ≥ 2 equally spaced intensity levels
+ * from P0 to P1 with average (P0 + P1)/2 = 10^(dBm/10) mW and
+ * extinction ratio P1/P0 = `extinction_ratio` (linear, > 1, may be +inf). */
+qc_status qc_intensity_levels(double power_dbm, double extinction_ratio,
+                              size_t nlevels, double *power_w);
+
+/* Parameters (in the order of the model type's params, array of
+ * QC_MODEL_MAX_PARAMS) and levels for the Gaussian models. Levels are the
+ * mean output currents M·R·P_i (A).
+ *  gauss-sd: sigma0² = i_n²B + 2q·I_d·M²F·B, a = 2q·M·F·B, b = 0.
+ *  gauss:    sigma² = thermal + shot at the mean power of the levels. */
+qc_status qc_frontend_gauss_sd(const qc_receiver *rx, const double *power_w,
+                               size_t nlevels, double *params, double *levels);
+qc_status qc_frontend_gauss(const qc_receiver *rx, const double *power_w,
+                            size_t nlevels, double *params, double *levels);
+
+/* Parameters of `apd` (and `apd-gauss`) for an integrate-and-dump
+ * receiver over a slot of `slot_time` s (noise bandwidth 1/(2T); the
+ * receiver's `bandwidth` is not used): signal = R·P_max·T/q primaries,
+ * background = I_d·T/q, sigma-th = i_n·sqrt(T/2)/q electrons; levels
+ * P_i/P_max. */
+qc_status qc_frontend_apd(const qc_receiver *rx, double slot_time,
+                          const double *power_w, size_t nlevels,
+                          double *params, double *levels);
+
+/* Mean detected photons in a slot: n = η·P·T/(h·c/λ). */
+qc_status qc_photons_per_slot(double power_w, double slot_time,
+                              double wavelength, double efficiency,
+                              double *photons);
+
+/* Parameters of `poisson`: signal = photons per slot at max(P_i),
+ * background = dark_count_rate·T; levels P_i/P_max. */
+qc_status qc_frontend_poisson(const double *power_w, size_t nlevels,
+                              double slot_time, double wavelength,
+                              double efficiency, double dark_count_rate,
+                              double *params, double *levels);
+
+#define QC_OSNR_REF_BANDWIDTH 12.5e9 /* Hz: 0.1 nm at 1550 nm */
+
+/* Electrical SNR from OSNR: SNR = OSNR·2·B_ref/(p·R_s) (Essiambre et al.,
+ * J. Lightw. Technol. 28(4), 2010). ref_bandwidth ≤ 0 or NaN: 12.5 GHz.
+ * polarizations 1 or 2. */
+qc_status qc_osnr_to_snr(double osnr_db, double ref_bandwidth,
+                         double symbol_rate, int polarizations,
+                         double *snr);
 
 /* ------------------------------------------------------------------ */
 /* Discretizer                                                         */

@@ -40,6 +40,14 @@ static void gauss_support(const qc_model *m, double x, double *lo, double *hi)
     *hi = x + 8.3 * s;
 }
 
+static qc_status gauss_moments(const qc_model *m, double x, double *mean,
+                               double *var)
+{
+    *mean = x;
+    *var = m->params[P_SIGMA] * m->params[P_SIGMA];
+    return QC_OK;
+}
+
 const qc_model_type qc_model_gauss = {
     .name = "gauss",
     .summary = "additive Gaussian noise y = x + n, n ~ N(0, sigma^2) (thermal/ASE)",
@@ -50,4 +58,5 @@ const qc_model_type qc_model_gauss = {
     .above = gauss_above,
     .density = gauss_density,
     .support = gauss_support,
+    .moments = gauss_moments,
 };
