@@ -91,7 +91,11 @@ static void test_every_model(void **state)
 {
     (void)state;
     const qc_model_type *const *types = qc_model_types();
+    size_t tested = 0;
     for (size_t t = 0; types[t]; t++) {
+        if (types[t]->nparams == 0)
+            continue; /* made from a file (table), not from settings */
+        tested++;
         char text[2048];
         int n = snprintf(text, sizeof text, "[receiver]\nmodel = %s\n", types[t]->name);
         for (size_t i = 0; i < types[t]->nparams; i++) {
@@ -111,6 +115,7 @@ static void test_every_model(void **state)
         assert_int_equal(qc_scenario_npoints(sc), 2);
         qc_scenario_free(sc);
     }
+    assert_true(tested >= 1);
 }
 
 static void test_ranges(void **state)
