@@ -48,13 +48,14 @@ int qc_plots_available(void) { return 1; }
 /* cmap0 slots */
 enum { COL_WHITE = 0, COL_BLACK = 1, COL_GRID = 2, COL_FIRST = 3, NCOLOURS = 8 };
 
-/* Okabe & Ito's colour-blind-safe palette (yellow left out: too pale on
- * white), plus dark grey. */
+/* Okabe & Ito's colour-blind-safe palette (yellow and black left out:
+ * too pale on white, and black is the unquantized curve), plus wine and
+ * grey. */
 static const int palette[NCOLOURS][3] = {
     {0, 114, 178}, {213, 94, 0},   {0, 158, 115}, {204, 121, 167},
-    {230, 159, 0}, {86, 180, 233}, {0, 0, 0},     {110, 110, 110},
+    {230, 159, 0}, {86, 180, 233}, {136, 34, 85}, {110, 110, 110},
 };
-static const char *const markers[NCOLOURS] = {"○", "□", "△", "◇", "×", "+", "●", "■"};
+static const char *const markers[NCOLOURS] = {"○", "□", "△", "◇", "×", "+", "▽", "☆"};
 static const int line_styles[NCOLOURS] = {1, 2, 3, 4, 5, 6, 7, 8};
 
 /* PLplot ends the process on a fatal error unless its exit handler jumps
@@ -334,8 +335,9 @@ static int next_combo(const qc_scenario *sc, size_t *vi, const int *fixed)
     return 0;
 }
 
-/* Human label of a design key, with its unit. */
-static void key_label(const char *key, char *buf, size_t cap)
+/* Human label of a design key, with its unit (a parameter's unit is
+ * taken from `model` first, then from any model that has the name). */
+static void key_label(const char *key, const char *model, char *buf, size_t cap)
 {
     static const char *const known[][2] = {
         {"snr-db", "SNR (dB)"},
@@ -350,9 +352,18 @@ static void key_label(const char *key, char *buf, size_t cap)
             snprintf(buf, cap, "%s", known[i][1]);
             return;
         }
+    const qc_model_type *own = qc_model_type_find(model);
+    int k = own ? qc_model_param_index(own, key) : -1;
+    if (k >= 0) {
+        if (own->params[k].unit[0])
+            snprintf(buf, cap, "%s (%s)", key, own->params[k].unit);
+        else
+            snprintf(buf, cap, "%s", key);
+        return;
+    }
     const qc_model_type *const *types = qc_model_types();
     for (size_t t = 0; types[t]; t++) {
-        int k = qc_model_param_index(types[t], key);
+        k = qc_model_param_index(types[t], key);
         if (k >= 0 && types[t]->params[k].unit[0]) {
             snprintf(buf, cap, "%s (%s)", key, types[t]->params[k].unit);
             return;
@@ -365,6 +376,12 @@ static void key_label(const char *key, char *buf, size_t cap)
         snprintf(buf, cap, "%.*s (dB)", (int)(n - 3), key);
     else
         snprintf(buf, cap, "%s", key);
+}
+
+/* The model of the first alphabet (NULL when it is a sweep axis). */
+static const char *scenario_model(const qc_scenario *sc)
+{
+    return qc_settings_get(sc->alphabets[0].settings, "model");
 }
 
 /* "_key-value" for each axis not fixed, for file names; and ", key = value"
@@ -442,7 +459,7 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
     if (ca)
         fixed[p->curve_axis] = 1;
     char xlabel[128], clabel[128];
-    key_label(xa->key, xlabel, sizeof xlabel);
+    key_label(xa->key, scenario_model(sc), xlabel, sizeof xlabel);
     qc_status st = QC_OK;
     size_t count = 0;
     for (size_t a = 0; a < sc->nalphabets && st == QC_OK; a++) {
@@ -485,6 +502,14 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
                 vi[p->curve_axis] = 0;
             double x0, x1, y0 = 0.0, y1, dummy;
             range_of(x, nx, &x0, &x1);
+            /* positive values over two decades or more: logarithmic x */
+            int logx = x0 > 0 && x1 / x0 >= 100.0;
+            if (logx) {
+                for (size_t j = 0; j < nx; j++)
+                    x[j] = log10(x[j]);
+                x0 = log10(x0);
+                x1 = log10(x1);
+            }
             pad_range(&x0, &x1, nx > 1 ? 0.0 : 0.5);
             range_of(all, (ncurves + 1) * nx, &dummy, &y1);
             if (!isfinite(y1) || y1 <= 0)
@@ -496,7 +521,7 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
             pladv(0);
             plschr(0.0, 1.0);
             plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
-            frame(x0, x1, y0, y1, "", "");
+            frame(x0, x1, y0, y1, logx ? "l" : "", "");
             char title[800];
             snprintf(title, sizeof title, "%s%s%s%s%s", sc->title ? sc->title : "",
                      sc->title ? ": " : "", sc->alphabets[a].label, ttext[0] ? ", " : "",
@@ -510,7 +535,7 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
                 curve((int)nx, x, y, (int)c, every, (int)c);
                 char name[96];
                 if (ca) {
-                    key_label(ca->key, clabel, sizeof clabel);
+                    key_label(ca->key, scenario_model(sc), clabel, sizeof clabel);
                     snprintf(name, sizeof name, "%s %s", ca->values[c],
                              strcmp(ca->key, "bits") == 0 ? (strcmp(ca->values[c], "1") ? "bits"
                                                                                          : "bit")
@@ -578,7 +603,7 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
     qc_status st = QC_OK;
     size_t count = 0;
     char blabel[128];
-    key_label(ba->key, blabel, sizeof blabel);
+    key_label(ba->key, scenario_model(sc), blabel, sizeof blabel);
     for (size_t o = 0; o < nat && st == QC_OK; o++) {
         size_t vi[QC_SCENARIO_MAX_AXES] = {0};
         do {

@@ -1,7 +1,7 @@
 /* checkpoint.c — a sweep's finished points, one JSON object per line,
- * appended and synced to the disk as each point completes, so that a
- * sweep killed at any moment can be resumed without losing or repeating a
- * point. The first line names the scenario (its hash) and the grid size;
+ * appended as each point completes (and synced to the disk at least once
+ * a second), so that a sweep killed at any moment can be resumed without
+ * losing or repeating a point. The first line names the scenario (its hash) and the grid size;
  * a last line cut short by the kill is recognised (no newline, or not
  * JSON) and dropped. */
 #include "sweep/checkpoint.h"
@@ -13,6 +13,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 #define FORMAT_NAME "quantcap-checkpoint"
@@ -34,14 +35,22 @@ static qc_status write_all(qc_checkpoint *cp, const char *text, size_t n)
     return QC_OK;
 }
 
+static double now_seconds(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
 static qc_status sync_file(qc_checkpoint *cp)
 {
+    cp->last_sync = now_seconds();
     if (fsync(cp->fd) != 0 && errno != EINVAL && errno != EROFS)
         return qc_fail(QC_EIO, "%s: cannot sync to disk: %s", cp->path, strerror(errno));
     return QC_OK;
 }
 
-/* Write a JSON object as one line and sync. */
+/* Write a JSON object as one line; sync when the last sync is old. */
 static qc_status append_json(qc_checkpoint *cp, json_t *obj)
 {
     char *text = json_dumps(obj, DUMP_FLAGS);
@@ -57,7 +66,9 @@ static qc_status append_json(qc_checkpoint *cp, json_t *obj)
     line[n + 1] = '\0';
     qc_status st = write_all(cp, line, n + 1); /* one write: a line, whole or torn */
     free(line);
-    return st == QC_OK ? sync_file(cp) : st;
+    if (st == QC_OK && now_seconds() - cp->last_sync >= QC_CHECKPOINT_SYNC_INTERVAL)
+        st = sync_file(cp);
+    return st;
 }
 
 static json_t *header(const char *hash, size_t npoints)
@@ -69,6 +80,7 @@ static json_t *header(const char *hash, size_t npoints)
 static qc_status open_fd(qc_checkpoint *cp, const char *path, int flags)
 {
     cp->fd = -1;
+    cp->last_sync = 0.0;
     cp->path = strdup(path);
     if (!cp->path)
         return qc_fail(QC_ENOMEM, "out of memory");
@@ -91,6 +103,8 @@ qc_status qc_checkpoint_create(qc_checkpoint *cp, const char *path, const char *
     json_t *h = header(hash, npoints);
     st = h ? append_json(cp, h) : qc_fail(QC_ENOMEM, "out of memory");
     json_decref(h);
+    if (st == QC_OK)
+        st = sync_file(cp);
     if (st != QC_OK)
         qc_checkpoint_close(cp);
     return st;
@@ -252,8 +266,10 @@ qc_status qc_checkpoint_append(qc_checkpoint *cp, json_t *record)
 
 void qc_checkpoint_close(qc_checkpoint *cp)
 {
-    if (cp->fd >= 0)
+    if (cp->fd >= 0) {
+        fsync(cp->fd);
         close(cp->fd);
+    }
     cp->fd = -1;
     free(cp->path);
     cp->path = NULL;

@@ -11,9 +11,15 @@
 
 #define QC_CHECKPOINT_NAME "checkpoint.jsonl"
 
+/* Lines reach the kernel with one write() each, so a killed process never
+ * loses a finished point; they are synced to the disk at most this often
+ * (seconds) and on close, so a power cut loses at most that much work. */
+#define QC_CHECKPOINT_SYNC_INTERVAL 1.0
+
 typedef struct {
     int fd;
     char *path;
+    double last_sync; /* monotonic seconds */
 } qc_checkpoint;
 
 /* Start a new checkpoint at `path` for a scenario (its hash and size):
@@ -32,10 +38,11 @@ qc_status qc_checkpoint_resume(qc_checkpoint *cp, const char *path, const char *
                                size_t npoints, json_t **records, size_t *nfound);
 
 /* Append one finished point (a JSON object with a "point" member) as one
- * line, then flush it to the disk (fsync). Not thread-safe: callers
- * serialize. */
+ * line with one write(); sync to the disk when the last sync is older than
+ * QC_CHECKPOINT_SYNC_INTERVAL. Not thread-safe: callers serialize. */
 qc_status qc_checkpoint_append(qc_checkpoint *cp, json_t *record);
 
+/* Sync what was written and close; safe on a closed checkpoint. */
 void qc_checkpoint_close(qc_checkpoint *cp);
 
 /* Parse one checkpoint line into a point record; *point receives its
