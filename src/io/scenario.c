@@ -268,7 +268,7 @@ static char *read_line(char *buf, int num, void *stream)
     }
     if (body + 2 > (size_t)num) {
         char msg[64];
-        snprintf(msg, sizeof msg, "%d", num - 3);
+        snprintf(msg, sizeof msg, "%d", num - 2);
         reader_fail(r, r->line, QC_EFORMAT,
                     "line longer than %s characters; continue a long value on indented "
                     "lines%s",
