@@ -193,6 +193,18 @@ typedef struct qc_model_type {
     /* Mean and variance of Y given x (may be NULL: unknown). */
     qc_status (*moments)(const qc_model *m, double x, double *mean,
                          double *var);
+    /* Optional SNR notion, used for SNR penalties of quantizers (leave
+     * both NULL when the model has none; the penalty is then NaN).
+     * snr: linear signal-to-noise ratio of `levels` sent with law `input`
+     *   (gauss: E[x²]/σ²).
+     * scale_snr: write into params_out (type->nparams values) the
+     *   parameters of the same model type whose snr is `gain` (> 0) times
+     *   this model's for the same levels and law, the levels unchanged
+     *   (gauss: σ/√gain). Fails with a message naming the parameter when
+     *   the scaled value leaves its range. */
+    double (*snr)(const qc_model *m, const double *levels,
+                  const double *input, size_t nlevels);
+    qc_status (*scale_snr)(const qc_model *m, double gain, double *params_out);
 } qc_model_type;
 
 /* A model instance. Models with a state (apd caches per-level grids,
@@ -366,39 +378,98 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
 typedef enum {
     QC_OBJECTIVE_MI = 0,       /* I(X;Y_q) with the given (or uniform) law  */
     QC_OBJECTIVE_CAPACITY = 1, /* capacity of the quantized channel         */
+    QC_OBJECTIVE_COUNT
 } qc_objective;
 
 typedef enum {
     QC_QUANTIZER_UNIFORM = 0, /* uniform cells, full-scale range optimized  */
     QC_QUANTIZER_FIXED,       /* thresholds given by the caller, evaluated  */
+    QC_QUANTIZER_LLOYD_MAX,   /* minimum mean-square error (Lloyd, Max)     */
+    QC_QUANTIZER_OPTIMAL,     /* MI-optimal: DP on a fine grid + refinement */
+    QC_QUANTIZER_COUNT
 } qc_quantizer_kind;
 
 #define QC_MAX_BITS 16
 
+/* Names used on the command line: "mi", "capacity"; "uniform", "fixed",
+ * "lloyd-max", "optimal". NULL for values out of range. */
+const char *qc_objective_name(qc_objective objective);
+const char *qc_quantizer_name(qc_quantizer_kind kind);
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+qc_status qc_objective_parse(const char *name, qc_objective *out);
+qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
+/* cells = 2^bits for 1 ≤ bits ≤ QC_MAX_BITS, else QC_EINVAL. */
+qc_status qc_cells_from_bits(int bits, size_t *cells);
+
 typedef struct {
-    const qc_model *model;
-    const double *levels;        /* nlevels input levels                     */
+    /* The channel. */
+    const qc_model *model;       /* noise model (required)                   */
+    const double *levels;        /* nlevels input levels (required)          */
     size_t nlevels;
-    const double *probabilities; /* input law for MI; NULL: uniform          */
-    size_t cells;                /* K output cells (2^bits)                  */
+    /* MI objective: the input law (NULL: uniform). Capacity objective:
+     * the engine's starting law (NULL: uniform). Must sum to 1. */
+    const double *probabilities;
+    /* The quantizer. */
+    size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
+                                    QC_QUANTIZER_FIXED: nthresholds + 1    */
     qc_objective objective;
     qc_quantizer_kind quantizer;
-    const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds     */
-    double tol_bits;             /* engine tolerance; 0: 1e-9                */
+    const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
+                                    strictly increasing (integers ≥ 1 for
+                                    count outputs); ignored otherwise      */
+    size_t nthresholds;          /* their number; must equal K − 1         */
+    /* Numerics. */
+    double tol_bits;             /* engine gap and joint-design tolerance;
+                                    0: 1e-9                                 */
+    size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: fine-grid cells N
+                                    for the dynamic programme (N ≥ K); 0:
+                                    automatic (max(16K, 4096), reduced so
+                                    that K·N ≤ 2^22, never below K). Count
+                                    outputs use every count of the support
+                                    when it has at most max(N, 65536)      */
+    /* Capacity objective only: an average-cost constraint for the engine. */
+    const double *costs;         /* per-level cost (NULL: no constraint)    */
+    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
+    int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the
+                                    root search on the unquantized curve)   */
 } qc_design_request;
 
-/* Fill a request with defaults (uniform quantizer, MI objective). */
+/* Fill a request with defaults: no channel, MI objective, the optimal
+ * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid. */
 void qc_design_request_default(qc_design_request *req);
 
 typedef struct {
-    double rate_bits;            /* the objective's value                    */
-    double upper_bound_bits;     /* certified upper bound on the objective   */
-    double unquantized_bits;     /* same levels and input law, no quantizer  */
+    qc_objective objective;      /* echo of the request                      */
+    qc_quantizer_kind quantizer;
+    size_t cells;                /* K                                        */
+    double rate_bits;            /* the objective's value (capacity: the
+                                    engine's certified lower bound)        */
+    double upper_bound_bits;     /* certified upper bound on the objective
+                                    for these thresholds (MI: = rate, exact
+                                    up to rounding)                        */
+    double unquantized_bits;     /* same levels and input law (capacity: the
+                                    quantized channel's optimal law), no
+                                    quantizer                              */
     double unquantized_err_bits; /* quadrature error estimate of the above   */
-    double loss_bits;            /* unquantized − rate                        */
+    double loss_bits;            /* unquantized − rate                       */
     double tol_bits;             /* tolerance the rate is certified to       */
     size_t iterations;           /* engine iterations (capacity objective)   */
-    size_t nthresholds;
+    size_t design_iterations;    /* uniform: objective evaluations; Lloyd–
+                                    Max: Lloyd iterations; optimal: gradient
+                                    refinement iterations; capacity joint
+                                    design: alternations (all starts)      */
+    size_t fine_cells;           /* optimal: fine-grid cells used; 0 else    */
+    double snr_db;               /* operating SNR by the model's notion;
+                                    NaN: the model defines none             */
+    double snr_penalty_db;       /* snr_db minus the SNR at which the
+                                    unquantized receiver (same levels and
+                                    law) reaches rate_bits; NaN: undefined
+                                    or skipped                              */
+    double mse;                  /* Lloyd–Max: mean-square error of Y about
+                                    its reconstruction points; NaN else    */
+    double *reconstruction;      /* owned: Lloyd–Max reconstruction points
+                                    (K conditional means); NULL else       */
+    size_t nthresholds;          /* K − 1                                    */
     double *thresholds;          /* owned                                    */
     size_t nlevels;
     double *levels;              /* owned copy                               */
@@ -406,11 +477,83 @@ typedef struct {
     qc_dmc *channel;             /* owned: the final transition matrix       */
 } qc_design_result;
 
-/* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. On failure
- * the result is left empty (safe to clear). */
+/* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
+ * (cells outside 2..2^16, fine grid smaller than K, unsorted, repeated or
+ * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
+ * naming the field. On failure the result is left empty (safe to clear). */
 qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 /* Release what a result owns and zero it; safe on a zeroed result. */
 void qc_design_result_clear(qc_design_result *res);
+
+/* All strategies on the same channel (`design --compare`): uniform,
+ * Lloyd–Max, optimal, and fixed when the request has thresholds. */
+#define QC_COMPARE_MAX 4
+typedef struct {
+    size_t count;                         /* strategies run                  */
+    qc_quantizer_kind kind[QC_COMPARE_MAX];
+    qc_status status[QC_COMPARE_MAX];     /* per strategy                    */
+    char message[QC_COMPARE_MAX][256];    /* its failure message, or ""      */
+    qc_design_result result[QC_COMPARE_MAX]; /* empty where status != QC_OK */
+} qc_design_comparison;
+
+/* Run every strategy with the request's objective, channel and cells
+ * (req->quantizer is ignored). An invalid request fails at once with
+ * nothing filled; otherwise every entry is filled and the return value is
+ * QC_OK, or the first failing strategy's status. Clear with
+ * qc_design_comparison_clear (safe on a zeroed comparison). */
+qc_status qc_design_compare(const qc_design_request *req,
+                            qc_design_comparison *cmp);
+void qc_design_comparison_clear(qc_design_comparison *cmp);
+
+/* ---- building blocks of the designs -------------------------------- */
+
+/* How qc_dp_quantize searches. */
+typedef enum {
+    QC_DP_FAST = 0,  /* SMAWK per layer: O(K·N·nx) cell evaluations        */
+    QC_DP_PLAIN = 1, /* every split point: O(K·N²·nx)                       */
+} qc_dp_method;
+
+/* Merge the ny outputs of `fine`, in their given order, into `cells`
+ * contiguous groups maximizing I(X;Y_q) under `input` (dynamic
+ * programming: Kurkoski & Yagi, IEEE Trans. IT 60(8), 2014; He, Cai, Song,
+ * Mei, IEEE Trans. IT 2021). cuts_out receives cells + 1 indices
+ * 0 = c_0 < c_1 < … < c_K = ny; group k holds outputs c_k … c_{k+1} − 1.
+ * QC_DP_PLAIN is exact for every channel; QC_DP_FAST is exact when the
+ * cell function meets the quadrangle inequality (e.g. binary input with
+ * outputs sorted by likelihood ratio, and the ordered outputs of
+ * monotone-likelihood-ratio models such as Gaussian or Poisson noise).
+ * For binary input sorted by likelihood ratio the result is optimal among
+ * all quantizers. mi_nats (may be NULL) receives the merged MI.
+ * QC_EINVAL when cells < 1 or cells > ny, or the law is not a law. */
+qc_status qc_dp_quantize(const qc_dmc *fine, const double *input,
+                         size_t cells, qc_dp_method method, size_t *cuts_out,
+                         double *mi_nats);
+
+/* The channel whose outputs are the groups given by `cuts` (cells + 1
+ * strictly increasing indices from 0 to fine->ny). */
+qc_status qc_dmc_merge(const qc_dmc *fine, const size_t *cuts, size_t cells,
+                       qc_dmc **out);
+
+/* ---- SNR of a model ------------------------------------------------- */
+
+/* Operating SNR in dB by the model's notion (qc_model_type.snr); NaN
+ * when the model defines none or the SNR is not positive. */
+double qc_model_snr_db(const qc_model *model, const double *levels,
+                       const double *input, size_t nlevels);
+/* A new model of the same type whose SNR is `gain` times this one's
+ * (qc_model_type.scale_snr). QC_EINVAL if the type has no SNR notion or
+ * gain is not a positive finite number. */
+qc_status qc_model_scale_snr(const qc_model *model, double gain,
+                             qc_model **out);
+/* SNR penalty of a rate: snr_db minus the SNR (dB) at which the
+ * unquantized receiver with the same levels and law reaches rate_bits
+ * (Brent root finding on the unquantized curve, scaling the noise with
+ * scale_snr). 0 when rate_bits is within the quadrature error of the
+ * unquantized rate; *penalty_db is NaN (status QC_OK) when the model
+ * defines no SNR or rate_bits ≤ 0. */
+qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
+                            const double *input, size_t nlevels,
+                            double rate_bits, double *penalty_db);
 
 /* ------------------------------------------------------------------ */
 /* Text values: strict number parsing shared by the CLI and files      */

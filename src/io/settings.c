@@ -29,8 +29,9 @@ static const key_spec keys[] = {
      (size_t)1 << QC_MAX_BITS, NULL},
     {{"objective", "mi|capacity", "rate to maximize (default mi)"}, K_CHOICE, 0, 0,
      "mi,capacity"},
-    {{"quantizer", "NAME", "threshold strategy: uniform, fixed (default uniform)"},
-     K_CHOICE, 0, 0, "uniform,fixed"},
+    {{"quantizer", "NAME",
+      "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)"},
+     K_CHOICE, 0, 0, "optimal,uniform,lloyd-max,fixed"},
     {{"thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"}, K_LIST, 0,
      0, NULL},
     {{"tol", "T", "certification tolerance in bits (default 1e-9)"}, K_NUMBER, 0, 0, NULL},
@@ -343,13 +344,13 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     }
 
     const char *v;
-    if ((v = qc_settings_get(s, "objective")))
-        req->objective = strcmp(v, "capacity") == 0 ? QC_OBJECTIVE_CAPACITY : QC_OBJECTIVE_MI;
+    if ((v = qc_settings_get(s, "objective")) && (st = qc_objective_parse(v, &req->objective)))
+        return qc_fail(st, "objective: %s", qc_last_error());
     if (s->probabilities && req->objective == QC_OBJECTIVE_CAPACITY)
         return qc_fail(QC_EINVAL, "probabilities: the capacity objective optimizes the "
                                   "input law; use objective mi to rate a given law");
-    if ((v = qc_settings_get(s, "quantizer")))
-        req->quantizer = strcmp(v, "fixed") == 0 ? QC_QUANTIZER_FIXED : QC_QUANTIZER_UNIFORM;
+    if ((v = qc_settings_get(s, "quantizer")) && (st = qc_quantizer_parse(v, &req->quantizer)))
+        return qc_fail(st, "quantizer: %s", qc_last_error());
     if (s->thresholds) {
         if (v && req->quantizer != QC_QUANTIZER_FIXED)
             return qc_fail(QC_EINVAL, "thresholds: given thresholds are evaluated as they "
@@ -384,5 +385,6 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     req->nlevels = nl;
     req->probabilities = s->probabilities;
     req->thresholds = s->thresholds;
+    req->nthresholds = s->thresholds ? nt : 0;
     return QC_OK;
 }

@@ -1,0 +1,264 @@
+/* fine_grid.c — the fine discretization of the receiver output that the
+ * MI-optimal quantizer search (dp_optimal.c) groups into K cells.
+ *
+ * Continuous outputs: N cells whose boundaries are the quantiles of
+ * G = ½·(mixture law of Y under the input law) + ½·(uniform law on the
+ * union of the level supports). The mixture half puts cells where the
+ * probability is; the uniform half keeps cells in the low-density valleys
+ * between levels, where MI-optimal thresholds sit at high SNR. Quantiles
+ * by tabulating G and polishing each one with GSL's Brent root finder.
+ * Count outputs: one cell per count of the support (exact: the DP then
+ * searches every integer threshold), or rounded quantiles of G when the
+ * support is too wide. */
+#include "quantizer/quantizer.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_roots.h>
+
+#define FINE_WORK_LIMIT ((size_t)1 << 22) /* K·N of the automatic grid */
+#define FINE_MIN 4096
+#define FINE_PER_CELL 16
+#define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
+#define TABLE_PER_CELL 8     /* tabulation points of G per fine cell */
+
+size_t qc_fine_cells_default(size_t cells)
+{
+    size_t n = FINE_PER_CELL * cells;
+    if (n < FINE_MIN)
+        n = FINE_MIN;
+    if (cells * n > FINE_WORK_LIMIT) {
+        n = FINE_WORK_LIMIT / cells;
+        if (n < cells)
+            n = cells;
+    }
+    return n;
+}
+
+void qc_levels_support(const qc_model *model, const double *levels,
+                       size_t nlevels, double *lo, double *hi)
+{
+    *lo = INFINITY;
+    *hi = -INFINITY;
+    for (size_t i = 0; i < nlevels; i++) {
+        double a, b;
+        model->type->support(model, levels[i], &a, &b);
+        if (a < *lo)
+            *lo = a;
+        if (b > *hi)
+            *hi = b;
+    }
+}
+
+typedef struct {
+    const qc_model *m;
+    const double *levels, *input;
+    size_t nlevels;
+    double lo, hi;
+    double target;
+} blend;
+
+/* G(y) = ½ Σ r(x) P(Y < y | x) + ½ (y − lo)/(hi − lo). */
+static double blend_cdf(const blend *b, double y)
+{
+    double f = 0.0;
+    for (size_t i = 0; i < b->nlevels; i++)
+        if (b->input[i] > 0.0)
+            f += b->input[i] * b->m->type->below(b->m, b->levels[i], y);
+    return 0.5 * f + 0.5 * (y - b->lo) / (b->hi - b->lo);
+}
+
+static double blend_root_fn(double y, void *p)
+{
+    const blend *b = p;
+    return blend_cdf(b, y) - b->target;
+}
+
+qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             double *out)
+{
+    qc_gsl_init();
+    blend b = {model, levels, input, nlevels, 0.0, 0.0, 0.0};
+    qc_levels_support(model, levels, nlevels, &b.lo, &b.hi);
+    if (!(b.hi > b.lo) || !isfinite(b.lo) || !isfinite(b.hi))
+        return qc_fail(QC_ENUMERIC, "model '%s' gives an empty output support",
+                       model->type->name);
+    const size_t m = TABLE_PER_CELL * n + 1;
+    const double step = (b.hi - b.lo) / (double)(m - 1);
+    double *table = qc_malloc_array(m, sizeof *table);
+    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
+    qc_status st = QC_OK;
+    if (!table || !s) {
+        st = qc_fail(QC_ENOMEM, "out of memory for a fine grid of %zu cells", n);
+        goto done;
+    }
+    for (size_t k = 0; k < m; k++)
+        table[k] = blend_cdf(&b, b.lo + step * (double)k);
+    gsl_function fn = {blend_root_fn, &b};
+    size_t k = 0;
+    const double epsabs = 1e-12 * (b.hi - b.lo) / (double)n;
+    for (size_t i = 1; i < n; i++) {
+        b.target = (double)i / (double)n;
+        while (k + 2 < m && table[k + 1] < b.target)
+            k++;
+        double y0 = b.lo + step * (double)k, y1 = b.lo + step * (double)(k + 1);
+        double y;
+        if (table[k] == b.target) {
+            y = y0;
+        } else if (table[k + 1] == b.target) {
+            y = y1;
+        } else {
+            int rc = gsl_root_fsolver_set(s, &fn, y0, y1);
+            for (int it = 0; rc == GSL_SUCCESS && it < 100; it++) {
+                rc = gsl_root_fsolver_iterate(s);
+                if (rc != GSL_SUCCESS)
+                    break;
+                double a = gsl_root_fsolver_x_lower(s);
+                double c = gsl_root_fsolver_x_upper(s);
+                if (gsl_root_test_interval(a, c, epsabs, 0.0) == GSL_SUCCESS)
+                    break;
+            }
+            if (rc != GSL_SUCCESS) {
+                st = qc_fail(QC_ENUMERIC,
+                             "fine grid: quantile %zu of %zu not found: %s", i, n,
+                             gsl_strerror(rc));
+                goto done;
+            }
+            y = gsl_root_fsolver_root(s);
+        }
+        if (i > 1 && !(y > out[i - 2])) {
+            st = qc_fail(QC_ENUMERIC,
+                         "fine grid: boundaries %zu and %zu coincide at %.17g "
+                         "(model '%s' CDF not increasing?)",
+                         i - 1, i, y, model->type->name);
+            goto done;
+        }
+        out[i - 1] = y;
+    }
+done:
+    free(table);
+    gsl_root_fsolver_free(s);
+    return st;
+}
+
+/* Count outputs with a support too wide for one cell per count: integer
+ * boundaries at the rounded-up quantiles of G (binary search per target);
+ * a target that an earlier boundary already passed (a count holding more
+ * than 1/n of G) takes the next free count. Returns the number of
+ * boundaries in *nb. */
+static qc_status count_quantiles(const qc_model *model, const double *levels,
+                                 const double *input, size_t nlevels, double top,
+                                 size_t n, size_t cells, double *out, size_t *nb)
+{
+    blend b = {model, levels, input, nlevels, 0.0, top, 0.0};
+    size_t k = 0;
+    double prev = 0.0;
+    for (size_t i = 1; i < n; i++) {
+        b.target = (double)i / (double)n;
+        /* smallest integer y in (prev, top] with G(y) ≥ target */
+        double a = prev, c = top; /* G(a) < target or a = prev; G(c) ≥ target */
+        while (c - a > 1.0) {
+            double mid = floor(0.5 * (a + c));
+            if (blend_cdf(&b, mid) >= b.target)
+                c = mid;
+            else
+                a = mid;
+        }
+        if (c > prev) {
+            out[k++] = c;
+            prev = c;
+        }
+    }
+    if (k + 1 < cells) {
+        /* Too many repeats: fall back to evenly spaced counts (top > n). */
+        k = n - 1;
+        for (size_t i = 0; i < k; i++)
+            out[i] = 1.0 + floor((double)i * (top - 1.0) / (double)k);
+    }
+    *nb = k;
+    return QC_OK;
+}
+
+qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             size_t cells, qc_fine_grid *g)
+{
+    memset(g, 0, sizeof *g);
+    if (n < cells || cells < 2)
+        return qc_fail(QC_EINVAL,
+                       "fine grid of %zu cells is smaller than the %zu quantizer "
+                       "cells",
+                       n, cells);
+    qc_status st = QC_OK;
+    size_t nb = 0;
+    double *bounds = NULL;
+    if (model->type->output == QC_OUTPUT_COUNTS) {
+        double lo, hi;
+        qc_levels_support(model, levels, nlevels, &lo, &hi);
+        double top = ceil(hi);
+        if (top < (double)(cells - 1))
+            top = (double)(cells - 1);
+        if (top < 1.0)
+            top = 1.0;
+        if (!(top < 9e15))
+            return qc_fail(QC_EINVAL, "count support up to %g is too wide", hi);
+        size_t room = n > COUNT_GRID_MIN ? n : COUNT_GRID_MIN;
+        if (top + 1.0 <= (double)room) {
+            nb = (size_t)top;
+            bounds = qc_malloc_array(nb, sizeof *bounds);
+            if (!bounds)
+                return qc_fail(QC_ENOMEM, "out of memory");
+            for (size_t i = 0; i < nb; i++)
+                bounds[i] = (double)(i + 1);
+            g->exact = 1;
+        } else {
+            bounds = qc_malloc_array(n, sizeof *bounds);
+            if (!bounds)
+                return qc_fail(QC_ENOMEM, "out of memory");
+            st = count_quantiles(model, levels, input, nlevels, top, n, cells,
+                                 bounds, &nb);
+        }
+    } else {
+        nb = n - 1;
+        bounds = qc_malloc_array(nb ? nb : 1, sizeof *bounds);
+        if (!bounds)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        st = qc_blend_quantiles(model, levels, input, nlevels, n, bounds);
+    }
+    if (st != QC_OK)
+        goto fail;
+    g->n = nb + 1;
+    g->bounds = bounds;
+    st = qc_dmc_alloc(nlevels, g->n, &g->p);
+    if (st != QC_OK)
+        goto fail;
+    double *lo = qc_malloc_array(g->n, sizeof *lo);
+    double *hi = qc_malloc_array(g->n, sizeof *hi);
+    if (!lo || !hi)
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    else
+        st = qc_discretize_into(model, levels, nlevels, bounds, nb, lo, hi, g->p);
+    free(lo);
+    free(hi);
+    if (st != QC_OK)
+        goto fail;
+    return QC_OK;
+fail:
+    free(bounds);
+    qc_dmc_free(g->p);
+    memset(g, 0, sizeof *g);
+    return st;
+}
+
+void qc_fine_grid_clear(qc_fine_grid *g)
+{
+    if (!g)
+        return;
+    free(g->bounds);
+    qc_dmc_free(g->p);
+    memset(g, 0, sizeof *g);
+}
