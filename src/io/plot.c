@@ -36,6 +36,7 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
 
 #include <plplot.h>
 #include <setjmp.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 int qc_plots_available(void) { return 1; }
@@ -147,6 +148,8 @@ static qc_status page_open(page *pg, const char *device)
     for (int i = 0; i < NCOLOURS; i++)
         plscol0(COL_FIRST + i, palette[i][0], palette[i][1], palette[i][2]);
     plinit();
+    plsxax(7, 0); /* plain numbers up to 7 digits, no separate exponent */
+    plsyax(7, 0);
     plcol0(COL_BLACK);
     return QC_OK;
 }
@@ -155,7 +158,7 @@ static qc_status page_close(page *pg, char ***files, size_t *nfiles)
 {
     plend();
     open_tmp[0] = '\0';
-    if (rename(pg->tmp, pg->path) != 0) {
+    if (chmod(pg->tmp, (mode_t)qc_new_file_mode()) != 0 || rename(pg->tmp, pg->path) != 0) {
         unlink(pg->tmp);
         return qc_fail(QC_EIO, "%s: cannot rename the plot into place", pg->path);
     }
@@ -242,13 +245,21 @@ static void labels(const char *xlabel, const char *ylabel, const char *title)
     if (xlabel && xlabel[0])
         plmtex("b", 3.0, 0.5, 0.5, xlabel);
     if (ylabel && ylabel[0])
-        plmtex("l", 4.6, 0.5, 0.5, ylabel);
-    if (title && title[0])
-        plmtex("t", 1.4, 0.5, 0.5, title);
+        plmtex("l", 5.4, 0.5, 0.5, ylabel);
+    if (title && title[0]) {
+        /* shrink a long title to fit the width of the page */
+        PLFLT def, ht;
+        plgchr(&def, &ht);
+        size_t n = strlen(title);
+        double scale = n > 64 ? 64.0 / (double)n : 1.0;
+        plschr(0.0, scale * ht / def);
+        plmtex("t", 1.4 / scale, 0.5, 0.5, title);
+        plschr(0.0, ht / def);
+    }
 }
 
 /* Viewport of a one-panel figure, room on the right for the legend. */
-#define VP_LEFT 0.10
+#define VP_LEFT 0.12
 #define VP_RIGHT 0.78
 
 typedef struct {
@@ -304,14 +315,6 @@ static double field(json_t *rec, const char *name)
         return NAN;
     json_t *v = json_object_get(json_object_get(rec, "result"), name);
     return json_is_number(v) ? json_number_value(v) : NAN;
-}
-
-static int any_field(const qc_scenario *sc, json_t *const *records, const char *name)
-{
-    for (size_t i = 0; i < sc->npoints; i++)
-        if (json_object_get(json_object_get(records[i], "result"), name))
-            return 1;
-    return 0;
 }
 
 static size_t compose(const qc_scenario *sc, size_t alpha, const size_t *vi)
@@ -376,6 +379,15 @@ static void key_label(const char *key, const char *model, char *buf, size_t cap)
         snprintf(buf, cap, "%.*s (dB)", (int)(n - 3), key);
     else
         snprintf(buf, cap, "%s", key);
+}
+
+/* "scenario title: head" when that fits on one line, else head. */
+static void with_scenario_title(const qc_scenario *sc, const char *head, char *out, size_t cap)
+{
+    if (sc->title && (!head[0] || strlen(sc->title) + 2 + strlen(head) <= 64))
+        snprintf(out, cap, "%s%s%s", sc->title, head[0] ? ": " : "", head);
+    else
+        snprintf(out, cap, "%s", head);
 }
 
 /* The model of the first alphabet (NULL when it is a sweep axis). */
@@ -522,10 +534,10 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
             plschr(0.0, 1.0);
             plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
             frame(x0, x1, y0, y1, logx ? "l" : "", "");
-            char title[800];
-            snprintf(title, sizeof title, "%s%s%s%s%s", sc->title ? sc->title : "",
-                     sc->title ? ": " : "", sc->alphabets[a].label, ttext[0] ? ", " : "",
+            char title[800], head[640];
+            snprintf(head, sizeof head, "%s%s%s", sc->alphabets[a].label, ttext[0] ? ", " : "",
                      ttext);
+            with_scenario_title(sc, head, title, sizeof title);
             labels(xlabel, "information rate (bit/use)", title);
             legend lg = {0};
             int every = nx > 10 ? (int)(nx / 8) : 1;
@@ -582,8 +594,6 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
     const sc_axis *ba = &sc->axes[p->curve_axis];
     const sc_axis *xa = p->x_axis >= 0 ? &sc->axes[p->x_axis] : NULL;
     size_t nb = ba->n, na = sc->nalphabets;
-    int penalty_db = any_field(sc, records, "snr_penalty_db");
-    const char *lower_field = penalty_db ? "snr_penalty_db" : "loss_bits";
     double *bx = malloc(nb * sizeof *bx), *rate = malloc(na * nb * sizeof *rate),
            *low = malloc(na * nb * sizeof *low), *unq = malloc(na * sizeof *unq);
     if (!bx || !rate || !low || !unq) {
@@ -621,6 +631,15 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                 snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
                          extension(p->format));
             safe_name(strrchr(pg.path, '/') + 1);
+            /* the lower panel shows the SNR penalty when the model defines
+             * one at these points, else the loss in bits */
+            int penalty_db = 0;
+            for (size_t a = 0; a < na; a++)
+                for (size_t b = 0; b < nb; b++) {
+                    vi[p->curve_axis] = b;
+                    penalty_db |= isfinite(field(records[compose(sc, a, vi)], "snr_penalty_db"));
+                }
+            const char *lower_field = penalty_db ? "snr_penalty_db" : "loss_bits";
             for (size_t a = 0; a < na; a++) {
                 unq[a] = NAN;
                 for (size_t b = 0; b < nb; b++) {
@@ -679,14 +698,13 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                 break;
             pladv(0);
             plschr(0.0, 0.95);
-            char title[800];
+            char title[800], head[640] = "";
             if (xa)
-                snprintf(title, sizeof title, "%s%s%s = %s%s%s", sc->title ? sc->title : "",
-                         sc->title ? ": " : "", xa->key, xa->values[p->bits_at[o]],
+                snprintf(head, sizeof head, "%s = %s%s%s", xa->key, xa->values[p->bits_at[o]],
                          ttext[0] ? ", " : "", ttext);
             else
-                snprintf(title, sizeof title, "%s%s%s", sc->title ? sc->title : "",
-                         sc->title && ttext[0] ? ": " : "", ttext);
+                snprintf(head, sizeof head, "%s", ttext);
+            with_scenario_title(sc, head, title, sizeof title);
             /* upper panel: rate */
             const char *ticks = (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
             plvpor(VP_LEFT, VP_RIGHT, 0.47, 0.91);
@@ -841,8 +859,8 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
     plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
     frame(x0, x1, 0.0, 1.08 * peak, "", "");
     char title[800], xlabel[160];
-    snprintf(title, sizeof title, "%s%s%s: %s", sc->alphabets[alpha].label, ttext[0] ? ", " : "",
-             ttext, counts ? "count pmf per level, thresholds" : "densities per level, thresholds");
+    snprintf(title, sizeof title, "%s%s%s", sc->alphabets[alpha].label, ttext[0] ? ", " : "",
+             ttext);
     snprintf(xlabel, sizeof xlabel, "receiver output y (model '%s'%s)", type->name,
              counts ? ", counts" : "");
     labels(xlabel, counts ? "P(y | x)" : "p(y | x)", title);

@@ -14,9 +14,17 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #define JSON_FLAGS (JSON_INDENT(1) | JSON_REAL_PRECISION(17) | JSON_PRESERVE_ORDER)
+
+unsigned qc_new_file_mode(void)
+{
+    mode_t mask = umask(022); /* read it back: the call sets it */
+    umask(mask);
+    return 0666u & ~(unsigned)mask;
+}
 
 qc_status qc_write_file_atomic(const char *path, const char *text, size_t len)
 {
@@ -32,6 +40,8 @@ qc_status qc_write_file_atomic(const char *path, const char *text, size_t len)
         return st;
     }
     qc_status st = QC_OK;
+    if (fchmod(fd, (mode_t)qc_new_file_mode()) != 0)
+        st = qc_fail(QC_EIO, "%s: cannot set permissions: %s", path, strerror(errno));
     while (len > 0 && st == QC_OK) {
         ssize_t w = write(fd, text, len);
         if (w < 0 && errno == EINTR)
