@@ -177,6 +177,8 @@ static const error_case errors[] = {
     {BASE "[sweep]\nquantizer = uniform, best\n", QC_EINVAL,
      "t.ini:5: 'quantizer': unknown value 'best'"},
     {BASE "[plots]\nformat = gif\n", QC_EINVAL, "t.ini:5: 'format': unknown value 'gif'"},
+    {BASE "[plots]\nsize = 640\n", QC_EINVAL, "t.ini:5: 'size': '640' is not WIDTHxHEIGHT"},
+    {BASE "[plots]\nsize = 10x10\n", QC_EINVAL, "t.ini:5: 'size'"},
     {BASE "[plots]\nformatt = svg\n", QC_EINVAL,
      "t.ini:5: unknown key 'formatt' in [plots] (did you mean 'format'?)"},
     {BASE "bits = 1\n[sweep]\nsnr-db = 0,5\n[plots]\nx = sigma\n", QC_EINVAL,

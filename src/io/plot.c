@@ -43,8 +43,6 @@ int qc_plots_available(void) { return 1; }
 
 #define MAX_PLOTS_PER_KIND 256
 #define DENSITY_SAMPLES 801
-#define PAGE_W 960
-#define PAGE_H 640
 
 /* cmap0 slots */
 enum { COL_WHITE = 0, COL_BLACK = 1, COL_GRID = 2, COL_FIRST = 3, NCOLOURS = 8 };
@@ -126,6 +124,8 @@ typedef struct {
     const char *device;
 } page;
 
+static int page_width = 960, page_height = 640;
+
 /* Start a page writing to a temporary file beside `path`. */
 static qc_status page_open(page *pg, const char *device)
 {
@@ -140,7 +140,7 @@ static qc_status page_open(page *pg, const char *device)
     plsabort(on_plabort);
     plsdev(device);
     plsfnam(pg->tmp);
-    plspage(90.0, 90.0, PAGE_W, PAGE_H, 0, 0);
+    plspage(90.0, 90.0, page_width, page_height, 0, 0);
     plscolbg(255, 255, 255); /* colour 0: white background */
     plscmap0n(COL_FIRST + NCOLOURS);
     plscol0(COL_BLACK, 0, 0, 0); /* colour 1: black text and axes */
@@ -677,7 +677,8 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                     floor_v = 1e-6;
                     top = 1.0;
                 }
-                floor_v = fmax(floor_v, 1e-12);
+                /* at most 6 decades; smaller losses are drawn on the floor */
+                floor_v = fmax(floor_v, 1e-6 * top);
                 for (size_t i = 0; i < na * nb; i++)
                     low[i] = isfinite(low[i]) ? log10(fmax(low[i], floor_v)) : NAN;
                 l0 = floor(log10(floor_v));
@@ -942,6 +943,8 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
         return qc_fail(QC_EINVAL, "no PLplot device for %s output is installed",
                        extension(sc->plots.format));
     plplot_message[0] = '\0';
+    page_width = sc->plots.width;
+    page_height = sc->plots.height;
     volatile qc_status st = QC_OK;
     if (setjmp(escape)) {
         escape_armed = 0;

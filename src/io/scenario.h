@@ -49,6 +49,7 @@ typedef enum { SC_FORMAT_SVG = 0, SC_FORMAT_PNG, SC_FORMAT_PDF } sc_format;
 
 typedef struct {
     sc_format format;
+    int width, height;   /* page size in pixels                          */
     int x_axis;          /* axis along the rate curves, -1: none        */
     int curve_axis;      /* the bits (or cells) axis, -1: none          */
     int rate_vs_x;       /* draw rate against x                          */

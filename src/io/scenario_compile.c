@@ -496,8 +496,10 @@ static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, cons
 static qc_status compile_plots(qc_scenario *sc)
 {
     static const char *const keys[] = {"format", "x", "rate-vs-x", "rate-vs-bits", "density",
-                                       NULL};
+                                       "size", NULL};
     sc_plots *p = &sc->plots;
+    p->width = 960;
+    p->height = 640;
     p->x_axis = p->curve_axis = -1;
     p->curve_axis = axis_index(sc, "bits");
     if (p->curve_axis < 0)
@@ -530,6 +532,21 @@ static qc_status compile_plots(qc_scenario *sc)
                 return qc_fail(QC_EINVAL, "%s: 'x': the axis '%s' does not hold numbers", loc,
                                e->value);
             p->x_axis = k;
+        } else if (strcmp(e->key, "size") == 0) {
+            char *end;
+            long w = strtol(e->value, &end, 10), h = 0;
+            int ok = end != e->value && *end == 'x';
+            if (ok) {
+                const char *hs = end + 1;
+                h = strtol(hs, &end, 10);
+                ok = end != hs && *end == '\0';
+            }
+            if (!ok || w < 200 || w > 8000 || h < 150 || h > 8000)
+                return qc_fail(QC_EINVAL, "%s: 'size': '%s' is not WIDTHxHEIGHT in pixels "
+                                          "(200x150 to 8000x8000)",
+                               loc, e->value);
+            p->width = (int)w;
+            p->height = (int)h;
         } else if (strcmp(e->key, "rate-vs-x") == 0) {
             rvx = e;
         } else if (strcmp(e->key, "rate-vs-bits") == 0) {
