@@ -699,10 +699,14 @@ typedef struct {
 /* Run every point of the grid (qc_scenario_check first: an input error in
  * the scenario is returned before any work), each exactly as `quantcap
  * design` would with the point's settings, in parallel. Finished points
- * go to out_dir/checkpoint.jsonl as they complete (flushed and synced);
- * then results.csv, results.json and the plots are written under
- * temporary names and renamed. A point whose design fails is recorded
- * with its message. QC_EIO names the file on write failures. */
+ * go to out_dir/checkpoint.jsonl as they complete; then results.csv,
+ * results.json and the plots are written under temporary names and
+ * renamed. A point whose design fails (infeasible, no convergence,
+ * numerical) is recorded with its message; a design that rejects its
+ * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
+ * invalid) stops the sweep with that status, naming the point, and no
+ * table is written (finished points stay in the checkpoint). QC_EIO names
+ * the file on write failures. */
 qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
                        qc_sweep_summary *summary);
 void qc_sweep_summary_clear(qc_sweep_summary *summary);

@@ -320,12 +320,41 @@ static void test_input_errors_stop_early(void **state)
     qc_scenario_free(sc);
 }
 
+/* A request the design rejects (a law that does not sum to 1 passes the
+ * settings, which only count its values) is the scenario's error: the
+ * sweep stops naming the point and writes no table. */
+static void test_rejected_request_stops(void **state)
+{
+    (void)state;
+    const char good[] = "[receiver]\nmodel = gauss\nlevels = -1,1\nbits = 1\n"
+                        "quantizer = uniform\nprobabilities = 0.5, 0.6\n"
+                        "[sweep]\nsnr-db = 0, 3\n";
+    qc_scenario *sc;
+    assert_int_equal(qc_scenario_parse(good, sizeof good - 1, "p.ini", &sc), QC_OK);
+    assert_int_equal(qc_scenario_check(sc), QC_OK);
+    char dir[128], path[160];
+    snprintf(dir, sizeof dir, "%s/rejected", tmpdir);
+    qc_sweep_options opt;
+    qc_sweep_options_default(&opt);
+    opt.out_dir = dir;
+    opt.jobs = 1;
+    opt.plots = 0;
+    qc_sweep_summary sum;
+    assert_int_equal(qc_sweep_run(sc, &opt, &sum), QC_EINVAL);
+    assert_message("p.ini: point 1 (snr-db = 0): ");
+    snprintf(path, sizeof path, "%s/results.csv", dir);
+    assert_int_equal(access(path, F_OK), -1);
+    qc_sweep_summary_clear(&sum);
+    qc_scenario_free(sc);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_checkpoint_lines),
         cmocka_unit_test(test_threads_and_resume),
         cmocka_unit_test(test_input_errors_stop_early),
+        cmocka_unit_test(test_rejected_request_stops),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

@@ -31,8 +31,11 @@ static void help(const cli_args *a)
            "points go to DIR/checkpoint.jsonl as they complete: a sweep that was stopped\n"
            "continues with --resume. At the end DIR holds results.csv (one row per\n"
            "point), results.json and the plots the scenario asks for.\n"
-           "A point whose design fails is recorded with its message; an error in the\n"
-           "scenario itself stops the sweep before any work. File format: docs/formats.md.\n\n"
+           "A point whose design fails (infeasible, no convergence) is recorded with its\n"
+           "message; an error in the scenario itself stops the sweep, naming the point.\n"
+           "Exit status: 0 done (some points may have failed: see the warning), 1 every\n"
+           "point failed, 2 an error in the scenario or the options. Formats:\n"
+           "docs/formats.md.\n\n"
            "options:\n");
     cli_print_options(a, stdout);
 }

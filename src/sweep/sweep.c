@@ -94,8 +94,9 @@ static qc_status make_dir(const char *dir)
 }
 
 /* One grid point, as `quantcap design --json` computes it. The record is
- * NULL only when memory runs out. */
-static json_t *run_point(const qc_scenario *sc, size_t index)
+ * NULL only when memory runs out; *status receives the design's status
+ * (its message stays in this thread's qc_last_error). */
+static json_t *run_point(const qc_scenario *sc, size_t index, qc_status *status)
 {
     qc_settings *s = NULL;
     qc_model *m = NULL;
@@ -125,8 +126,15 @@ static json_t *run_point(const qc_scenario *sc, size_t index)
     qc_design_result_clear(&res);
     qc_model_free(m);
     qc_settings_free(s);
+    *status = st;
     return rec;
 }
+
+/* A design that rejects its request (QC_EINVAL, QC_EFORMAT) means the
+ * scenario asks for something invalid: that stops the sweep. Other
+ * failures (infeasible, no convergence, numerical) are outcomes of the
+ * point and are recorded. */
+static int scenario_error(qc_status st) { return st == QC_EINVAL || st == QC_EFORMAT; }
 
 static qc_status join_path(const char *dir, const char *name, char *out, size_t cap)
 {
@@ -197,11 +205,20 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         if (stop != QC_OK)
             continue;
         size_t i = todo[t];
-        json_t *rec = run_point(sc, i);
+        qc_status pst;
+        json_t *rec = run_point(sc, i, &pst);
+        char point_msg[1024] = "";
+        if (scenario_error(pst)) {
+            char point[512];
+            sc_describe_point(sc, i, point, sizeof point);
+            snprintf(point_msg, sizeof point_msg, "%.100s: %.300s: %.600s", sc->file, point,
+                     qc_last_error());
+        }
 #pragma omp critical(qc_sweep_checkpoint)
         {
-            qc_status wst = rec ? qc_checkpoint_append(&cp, rec)
-                                : qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1);
+            qc_status wst = !rec                  ? qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1)
+                            : scenario_error(pst) ? qc_fail(pst, "%s", point_msg)
+                                                  : qc_checkpoint_append(&cp, rec);
             if (wst != QC_OK && shared_st == QC_OK) {
                 snprintf(shared_msg, sizeof shared_msg, "%s", qc_last_error());
 #pragma omp atomic write
