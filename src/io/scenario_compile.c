@@ -231,6 +231,48 @@ static int expand_range(const char *item, sc_axis *a, size_t *cap, const char *l
     return 1;
 }
 
+/* Sorting axis values to find repeats in O(n log n). */
+static _Thread_local const sc_axis *sort_axis;
+static _Thread_local int sort_numeric;
+
+static int compare_values(const void *pa, const void *pb)
+{
+    size_t i = *(const size_t *)pa, j = *(const size_t *)pb;
+    if (sort_numeric) {
+        double x = sort_axis->number[i], y = sort_axis->number[j];
+        if (x != y)
+            return x < y ? -1 : 1;
+    } else {
+        int c = strcmp(sort_axis->values[i], sort_axis->values[j]);
+        if (c)
+            return c;
+    }
+    return i < j ? -1 : i > j; /* equal values: the earlier first */
+}
+
+/* No value twice on an axis (numbers compare by value). The comparison
+ * reads the axis through a thread-local pointer. */
+static qc_status check_repeats(const sc_axis *a, int numeric, const char *loc, const char *key)
+{
+    size_t *order = malloc(a->n * sizeof *order);
+    if (!order)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    for (size_t j = 0; j < a->n; j++)
+        order[j] = j;
+    sort_axis = a;
+    sort_numeric = numeric;
+    qsort(order, a->n, sizeof *order, compare_values);
+    qc_status st = QC_OK;
+    for (size_t j = 1; j < a->n && st == QC_OK; j++) {
+        size_t p = order[j - 1], q = order[j];
+        if (numeric ? a->number[p] == a->number[q] : strcmp(a->values[p], a->values[q]) == 0)
+            st = qc_fail(QC_EINVAL, "%s: '%s': the value %s appears twice", loc, key,
+                         a->values[q]);
+    }
+    free(order);
+    return st;
+}
+
 static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a)
 {
     char loc[300];
@@ -294,15 +336,10 @@ static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a
         }
         if (numeric && qc_parse_double(a->values[j], &a->number[j]) != QC_OK)
             numeric = 0;
-        for (size_t i = 0; i < j; i++)
-            if (strcmp(a->values[i], a->values[j]) == 0 ||
-                (numeric && a->number[i] == a->number[j])) {
-                st = qc_fail(QC_EINVAL, "%s: '%s': the value %s appears twice", loc, e->key,
-                             a->values[j]);
-                break;
-            }
     }
     qc_settings_free(scratch);
+    if (st == QC_OK)
+        st = check_repeats(a, numeric, loc, e->key);
     if (!numeric) {
         free(a->number);
         a->number = NULL;
