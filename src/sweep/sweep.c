@@ -20,6 +20,9 @@
 #include <unistd.h>
 #ifdef _OPENMP
 #include <omp.h>
+#define OMP(directive) _Pragma(#directive)
+#else
+#define OMP(directive) /* built without OpenMP: one thread */
 #endif
 
 void qc_sweep_options_default(qc_sweep_options *opt)
@@ -197,10 +200,10 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     char shared_msg[1024] = "";
     unsigned threads = thread_count(opt->jobs);
     (void)threads;
-#pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
+    OMP(omp parallel for schedule(dynamic, 1) num_threads(threads))
     for (size_t t = 0; t < ntodo; t++) {
         int stop;
-#pragma omp atomic read
+        OMP(omp atomic read)
         stop = shared_st;
         if (stop != QC_OK)
             continue;
@@ -214,14 +217,14 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
             snprintf(point_msg, sizeof point_msg, "%.100s: %.300s: %.600s", sc->file, point,
                      qc_last_error());
         }
-#pragma omp critical(qc_sweep_checkpoint)
+        OMP(omp critical(qc_sweep_checkpoint))
         {
             qc_status wst = !rec                  ? qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1)
                             : scenario_error(pst) ? qc_fail(pst, "%s", point_msg)
                                                   : qc_checkpoint_append(&cp, rec);
             if (wst != QC_OK && shared_st == QC_OK) {
                 snprintf(shared_msg, sizeof shared_msg, "%s", qc_last_error());
-#pragma omp atomic write
+                OMP(omp atomic write)
                 shared_st = (int)wst;
             }
             if (wst == QC_OK) {
