@@ -7,7 +7,8 @@
  * characteristic function on an FFT grid (the DFT method for compound
  * distributions: Panjer & Willmot, Insurance Risk Models, 1992;
  * Embrechts & Frei, Math. Meth. Oper. Res. 69, 2009), with the grid long
- * enough that wrap-around is below 1e-15 of the peak. The thermal noise
+ * enough (Chernoff bound) that the mass wrapped around is below 1e-18.
+ * The thermal noise
  * is then added exactly:
  *  - lattice regime (σ_th < 8h, h the grid step): P(Y < t) =
  *    Σ_j p_j Φ((t − jh)/σ_th) summed directly, cut by a bound on the rest;
@@ -41,7 +42,6 @@
 #define MIN_GRID ((size_t)64)
 #define SMOOTH_RATIO 8.0           /* σ_th ≥ 8h: interpolate grid values  */
 #define KERNEL_SD 9.5              /* kernel half-width in σ_th           */
-#define WRAP_TOL 1e-15             /* top eighth of the grid vs the peak  */
 #define REST_TOL 1e-17             /* direct sums: rest ≤ REST_TOL · sum  */
 #define NGRIDS 6
 #define NSLOTS 32
@@ -258,48 +258,47 @@ static void compound(grid *g, double lambda)
     qc_conv_inverse(g->conv, g->work, g->real);
 }
 
+/* A count z with P(Z ≥ z) ≤ ZTAIL by the Chernoff bound (Chernoff, Ann.
+ * Math. Stat. 23(4), 1952) for the compound Poisson Z:
+ *   ln P(Z ≥ z) ≤ −θz + λ(E e^{θG} − 1),  θ > 0,
+ * minimized over a geometric grid of θ. */
+#define ZTAIL 1e-18
+static double count_bound(const apd_state *s, double lambda)
+{
+    double best = INFINITY, theta = 700.0 / (double)s->gain_len;
+    for (int k = 0; k < 60; k++, theta *= 0.7) {
+        double mgf = 0.0;
+        for (size_t n = 1; n < s->gain_len; n++)
+            mgf += s->gain[n] * exp(theta * (double)n);
+        double z = (lambda * (mgf - 1.0) - log(ZTAIL)) / theta;
+        if (z < best)
+            best = z;
+    }
+    return best;
+}
+
 static qc_status fill_level(apd_state *s, double x, level *lv)
 {
     const double *p = s->params;
-    double sigma = p[APD_SIGMA_TH], gain = p[APD_GAIN];
+    double sigma = p[APD_SIGMA_TH];
     double lambda = qc_apd_rate(p, x);
-    double sd = gain * sqrt(qc_apd_excess(gain, p[APD_K]) * lambda);
-    double zhi = gain * lambda + 15.0 * sd + (double)s->gain_len;
+    double zhi = count_bound(s, lambda);
     grid *g = NULL;
     double h = 1.0;
     long nz = 0, w = 0;
     int smooth = 0;
-    for (int attempt = 0;; attempt++) {
-        h = 1.0;
-        for (;;) {
-            smooth = sigma >= SMOOTH_RATIO * h;
-            w = smooth ? kernel_halfwidth(sigma, h) : 0;
-            nz = (long)ceil(zhi / h) + 1;
-            if ((size_t)nz + 2 * (size_t)w <= MAX_GRID)
-                break;
-            h *= 2.0;
-        }
-        qc_status st = get_grid(s, h, next_pow2((size_t)(nz + 2 * w)), smooth, &g);
-        if (st != QC_OK)
-            return st;
-        compound(g, lambda);
-        double peak = 0.0, top = 0.0;
-        for (long j = 0; j < nz; j++) {
-            double v = g->real[j];
-            if (j >= nz - nz / 8 && v > top)
-                top = v;
-            if (v > peak)
-                peak = v;
-        }
-        if (top <= WRAP_TOL * peak)
+    for (;;) {
+        smooth = sigma >= SMOOTH_RATIO * h;
+        w = smooth ? kernel_halfwidth(sigma, h) : 0;
+        nz = (long)ceil(zhi / h) + 1;
+        if ((size_t)nz + 2 * (size_t)w <= MAX_GRID)
             break;
-        if (attempt == 6)
-            return qc_fail(QC_ENUMERIC,
-                           "model 'apd': the law at level %g does not fit a "
-                           "grid of %zu points",
-                           x, g->len);
-        zhi *= 2.0;
+        h *= 2.0;
     }
+    qc_status st = get_grid(s, h, next_pow2((size_t)(nz + 2 * w)), smooth, &g);
+    if (st != QC_OK)
+        return st;
+    compound(g, lambda);
     lv->h = h;
     lv->smooth = smooth;
     lv->ztop = (double)(nz - 1) * h;
@@ -412,7 +411,7 @@ static level *get_level(const qc_model *m, double x)
                 lv = &s->slots[i];
         level_clear(s, lv);
     }
-    double t0 = now();
+    double t0 = now(), plan0 = s->stats.plan_seconds;
     qc_status st = fill_level(s, x, lv);
     if (st != QC_OK) {
         level_clear(s, lv);
@@ -433,7 +432,7 @@ static level *get_level(const qc_model *m, double x)
         level_clear(s, old);
     }
     s->stats.levels++;
-    s->stats.level_seconds += now() - t0;
+    s->stats.level_seconds += now() - t0 - (s->stats.plan_seconds - plan0);
     return lv;
 }
 
@@ -570,8 +569,13 @@ static double smooth_density(const level *lv, double y)
     long a = (long)floor(u);
     double s = u - (double)a, h = lv->h;
     double s2 = s * s, s3 = s2 * s;
-    double v = (2 * s3 - 3 * s2 + 1) * lv->f[a] + (s3 - 2 * s2 + s) * h * lv->df[a] +
-               (-2 * s3 + 3 * s2) * lv->f[a + 1] + (s3 - s2) * h * lv->df[a + 1];
+    double b0 = 2 * s3 - 3 * s2 + 1, b1 = s3 - 2 * s2 + s, b2 = -2 * s3 + 3 * s2,
+           b3 = s3 - s2;
+    double f0 = lv->f[a], f1 = lv->f[a + 1];
+    if (f0 > LOG_FLOOR && f1 > LOG_FLOOR) /* cubic Hermite of log f */
+        return exp(b0 * log(f0) + b1 * h * lv->df[a] / f0 + b2 * log(f1) +
+                   b3 * h * lv->df[a + 1] / f1);
+    double v = b0 * f0 + b1 * h * lv->df[a] + b2 * f1 + b3 * h * lv->df[a + 1];
     return v > 0.0 ? v : 0.0;
 }
 

@@ -115,6 +115,38 @@ static double log_weight(double j, double x)
     return j * log(x) - x - lgam(j + 1.0);
 }
 
+/* d_a = t^a e^{−t}/Γ(a+1), stepped by its ratio. It is kept as a log
+ * while it would underflow, and as a plain number once above 1e-300
+ * (after that it only underflows when it truly is negligible). */
+typedef struct {
+    double v;  /* value (linear mode)   */
+    double lv; /* log value (log mode)  */
+    int linear;
+} stepper;
+
+static void stepper_init(stepper *d, double logv)
+{
+    d->linear = logv > -690.0;
+    d->lv = logv;
+    d->v = d->linear ? exp(logv) : 0.0;
+}
+
+/* multiply by r > 0 */
+static void stepper_mul(stepper *d, double r)
+{
+    if (d->linear) {
+        d->v *= r;
+        return;
+    }
+    d->lv += log(r);
+    if (d->lv > -690.0) {
+        d->linear = 1;
+        d->v = exp(d->lv);
+    }
+}
+
+static double stepper_value(const stepper *d) { return d->linear ? d->v : 0.0; }
+
 /* P(Y < t): downward from j_hi, where P(m + j, t) is smallest. */
 static double preamp_below(const qc_model *m, double x, double t)
 {
@@ -130,20 +162,22 @@ static double preamp_below(const qc_model *m, double x, double t)
     double p0 = gamma_inc(mm, t, 0); /* bounds every P(m + j, t) */
     if (isnan(p) || isnan(p0))
         return NAN;
-    double lt = log(t), lx = log(x);
-    double lw = log_weight(jhi, x);
+    double lt = log(t);
+    stepper w, d; /* w_j and d_{m+j−1} */
+    stepper_init(&w, log_weight(jhi, x));
+    stepper_init(&d, (mm + jhi - 1.0) * lt - t - lgam(mm + jhi));
     double sum = 0.0;
     for (double j = jhi;; j -= 1.0) {
-        sum += exp(lw) * p;
+        sum += stepper_value(&w) * p;
         if (j == 0.0)
             break;
-        /* P(m+j−1, t) = P(m+j, t) + d_{m+j−1} */
-        p += exp((mm + j - 1.0) * lt - t - lgam(mm + j));
-        lw += log(j) - lx; /* w_{j−1} = w_j · j / x */
+        p += stepper_value(&d);      /* P(m+j−1, t) = P(m+j, t) + d_{m+j−1} */
+        stepper_mul(&d, (mm + j - 1.0) / t); /* d_{m+j−2} = d_{m+j−1}(m+j−1)/t */
+        stepper_mul(&w, j / x);      /* w_{j−1} = w_j · j / x */
         double jm = j - 1.0;
         if (jm < x) { /* rest Σ_{i≤jm} w_i P ≤ p0 · w_jm / (1 − jm/x) */
-            double rest = p0 * exp(lw) / (1.0 - jm / x);
-            if (rest <= REST_TOL * sum)
+            double rest = p0 * stepper_value(&w) / (1.0 - jm / x);
+            if (rest <= REST_TOL * sum && (w.linear || sum > 0.0))
                 break;
         }
     }
@@ -164,20 +198,24 @@ static double preamp_above(const qc_model *m, double x, double t)
     double q = gamma_inc(mm + jlo, t, 1);
     if (isnan(q))
         return NAN;
-    double lt = log(t), lx = log(x);
-    double lw = log_weight(jlo, x);
+    double lt = log(t);
+    stepper w, d; /* w_j and d_{m+j} */
+    stepper_init(&w, log_weight(jlo, x));
+    stepper_init(&d, (mm + jlo) * lt - t - lgam(mm + jlo + 1.0));
     double sum = 0.0;
     for (double j = jlo;; j += 1.0) {
-        sum += exp(lw) * q;
-        /* Q(m+j+1, t) = Q(m+j, t) + d_{m+j} */
-        q += exp((mm + j) * lt - t - lgam(mm + j + 1.0));
+        sum += stepper_value(&w) * q;
+        q += stepper_value(&d); /* Q(m+j+1, t) = Q(m+j, t) + d_{m+j} */
         if (q > 1.0)
             q = 1.0;
-        lw += lx - log(j + 1.0); /* w_{j+1} = w_j · x / (j+1) */
+        stepper_mul(&d, t / (mm + j + 1.0)); /* d_{m+j+1} */
+        stepper_mul(&w, x / (j + 1.0));      /* w_{j+1} = w_j · x / (j+1) */
         double jn = j + 1.0;
         if (jn + 1.0 > x) { /* rest Σ_{i≥jn} w_i ≤ w_jn / (1 − x/(jn+1)) */
-            double rest = exp(lw) / (1.0 - x / (jn + 1.0));
-            if (rest <= REST_TOL * sum)
+            double rest = stepper_value(&w) / (1.0 - x / (jn + 1.0));
+            if (rest <= REST_TOL * sum && w.linear)
+                break;
+            if (!w.linear && jn > x) /* weights below 1e-300 and falling */
                 break;
         }
     }

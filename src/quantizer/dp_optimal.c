@@ -13,7 +13,9 @@
  *
  * I(X;Y_q) = Σ_cells g(cell) with g = Σ_x r(x) p_x log p_x − q log q,
  * p_x = P(cell|x), q = Σ_x r(x) p_x; p_x comes from prefix sums taken
- * from whichever end of the output range keeps it free of cancellation.
+ * from the nearer end of the output range (below or above the median of
+ * P(·|x)), so tail cells do not cancel; one sum per boundary and input
+ * keeps the working set small.
  * Layer k: D_k[n] = max_m D_{k−1}[m] + g(m, n) over the first n outputs. */
 #include "quantizer/quantizer.h"
 
@@ -24,8 +26,11 @@
 typedef struct {
     size_t nx, n; /* inputs with r(x) > 0 only, fine outputs */
     double *r;    /* their probabilities */
-    /* (n + 1) × 2nx, one block per boundary k: Σ_{i<k} P(i|x) for each x,
-     * then Σ_{i≥k} P(i|x) — one cache line per boundary for nx ≤ 4 */
+    double *tot;  /* per input: Σ_i P(i|x) */
+    uint32_t *med; /* per input: first boundary k with Σ_{i<k} P(i|x) ≥ ½ */
+    /* (n + 1) × nx, boundary-major: Σ_{i<k} P(i|x) for k < med[x], else
+     * Σ_{i≥k} P(i|x) — each prefix taken from its nearer tail, so a cell
+     * far out in either tail is a difference of two small sums */
     double *cum;
 } cell_fn;
 
@@ -33,12 +38,17 @@ typedef struct {
 static double cell_value(const cell_fn *f, size_t a, size_t b)
 {
     const size_t nx = f->nx;
-    const double *ca = f->cum + 2 * nx * a, *cb = f->cum + 2 * nx * b;
+    const double *ca = f->cum + nx * a, *cb = f->cum + nx * b;
     double s = 0.0, q = 0.0;
     for (size_t x = 0; x < nx; x++) {
-        /* the difference on the side where both sums are small */
-        double up = ca[nx + x] - cb[nx + x], down = cb[x] - ca[x];
-        double p = ca[nx + x] < cb[x] ? up : down;
+        const size_t m = f->med[x];
+        double p;
+        if (b < m)
+            p = cb[x] - ca[x];           /* both below the median */
+        else if (a >= m)
+            p = ca[x] - cb[x];           /* both above it */
+        else
+            p = (f->tot[x] - ca[x]) - cb[x]; /* the cell holds the median */
         if (p > 0.0) {
             s += f->r[x] * p * log(p);
             q += f->r[x] * p;
@@ -58,8 +68,10 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     f->nx = nx;
     f->n = n;
     f->r = qc_malloc_array(nx, sizeof *f->r);
-    f->cum = qc_malloc_array((n + 1) * 2 * nx, sizeof *f->cum);
-    if (!f->r || !f->cum)
+    f->tot = qc_malloc_array(nx, sizeof *f->tot);
+    f->med = qc_malloc_array(nx, sizeof *f->med);
+    f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
+    if (!f->r || !f->tot || !f->med || !f->cum)
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
                        d->nx, n);
     for (size_t x = 0, j = 0; x < d->nx; x++) {
@@ -68,17 +80,23 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
         f->r[j] = r[x];
         const double *row = d->p + x * n;
         long double s = 0.0L;
-        for (size_t k = 0; k <= n; k++) {
-            f->cum[2 * nx * k + j] = (double)s;
+        size_t k = 0;
+        for (; k <= n; k++) { /* from below up to the median */
+            if (s >= 0.5L)
+                break;
+            f->cum[nx * k + j] = (double)s;
             if (k < n)
                 s += row[k];
         }
+        f->med[j] = (uint32_t)k;
+        long double below = k > 0 ? s : 0.0L;
         s = 0.0L;
-        for (size_t k = n + 1; k-- > 0;) {
-            if (k < n)
-                s += row[k];
-            f->cum[2 * nx * k + nx + j] = (double)s;
+        for (size_t i = n + 1; i-- > k;) { /* from above down to it */
+            if (i < n)
+                s += row[i];
+            f->cum[nx * i + j] = (double)s;
         }
+        f->tot[j] = (double)(below + s);
         j++;
     }
     return QC_OK;
@@ -87,6 +105,8 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
 static void cell_fn_free(cell_fn *f)
 {
     free(f->r);
+    free(f->tot);
+    free(f->med);
     free(f->cum);
 }
 
@@ -96,13 +116,13 @@ typedef struct {
     const cell_fn *f;
     const double *prev; /* D_{k−1}[m] */
     double *val;        /* D_k[n] */
-    size_t *arg;        /* leftmost argmax m of row n */
+    uint32_t *arg;      /* leftmost argmax m of row n */
 } layer;
 
 /* Entry (row n, column m). Columns m ≥ n are not splits; they get values
  * below every real entry and decreasing along the row, which keeps the
  * matrix totally monotone (no ties among them). */
-static double entry(const layer *L, size_t n, size_t m)
+static double entry(const layer *L, uint32_t n, uint32_t m)
 {
     if (m < n)
         return L->prev[m] + cell_value(L->f, m, n);
@@ -111,15 +131,15 @@ static double entry(const layer *L, size_t n, size_t m)
 
 /* Row maxima of the rows × cols submatrix into L->val, L->arg. `pool`
  * holds at least 3·nr entries of scratch, `vpool` at least nr. */
-static void smawk(const layer *L, size_t *pool, double *vpool, const size_t *rows,
-                  size_t nr, const size_t *cols, size_t nc)
+static void smawk(const layer *L, uint32_t *pool, double *vpool, const uint32_t *rows,
+                  size_t nr, const uint32_t *cols, size_t nc)
 {
     if (nr == 0)
         return;
     /* REDUCE: keep at most nr columns that can hold a row maximum.
      * kval[i] caches entry(rows[i], keep[i]), so each comparison costs
      * one new cell evaluation. */
-    size_t *keep = pool;
+    uint32_t *keep = pool;
     double *kval = vpool;
     size_t top = 0;
     if (nc <= nr) { /* nothing to eliminate (each layer's square top call) */
@@ -129,7 +149,7 @@ static void smawk(const layer *L, size_t *pool, double *vpool, const size_t *row
         nc = 0;
     }
     for (size_t i = 0; i < nc; i++) {
-        size_t c = cols[i];
+        uint32_t c = cols[i];
         while (top > 0) {
             if (kval[top - 1] >= entry(L, rows[top - 1], c))
                 break;
@@ -142,16 +162,16 @@ static void smawk(const layer *L, size_t *pool, double *vpool, const size_t *row
     }
     /* Odd rows recursively. */
     size_t nodd = nr / 2;
-    size_t *odd = pool + nr;
+    uint32_t *odd = pool + nr;
     for (size_t i = 0; i < nodd; i++)
         odd[i] = rows[2 * i + 1];
     smawk(L, pool + nr + nodd, vpool + nr, odd, nodd, keep, top);
     /* Even rows between the maxima of their odd neighbours. */
     size_t ci = 0;
     for (size_t i = 0; i < nr; i += 2) {
-        size_t r = rows[i];
-        size_t last = i + 1 < nr ? L->arg[rows[i + 1]] : keep[top - 1];
-        size_t best = keep[ci];
+        uint32_t r = rows[i];
+        uint32_t last = i + 1 < nr ? L->arg[rows[i + 1]] : keep[top - 1];
+        uint32_t best = keep[ci];
         double bv = entry(L, r, best);
         /* ci < top guards against a matrix that is not totally monotone
          * (quadrangle inequality violated): the result is then only a
@@ -208,7 +228,7 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
     const size_t width = n - K + 1; /* rows per layer */
     cell_fn f = {0};
     double *prev = NULL, *cur = NULL;
-    size_t *arg = NULL, *rows = NULL, *cols = NULL, *pool = NULL;
+    uint32_t *arg = NULL, *rows = NULL, *cols = NULL, *pool = NULL;
     double *vpool = NULL;
     uint32_t *split = NULL; /* (K − 1) × width: argmax of layers 2..K */
     st = cell_fn_init(&f, fine, input);
@@ -239,9 +259,9 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
         layer L = {&f, prev, cur, arg};
         if (method == QC_DP_FAST) {
             for (size_t i = 0; i < nr; i++)
-                rows[i] = r0 + i;
+                rows[i] = (uint32_t)(r0 + i);
             for (size_t i = 0; i < width; i++)
-                cols[i] = k - 1 + i;
+                cols[i] = (uint32_t)(k - 1 + i);
             smawk(&L, pool, vpool, rows, nr, cols, width);
         } else {
             for (size_t r = r0; r <= r1; r++) {
@@ -255,12 +275,12 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
                     }
                 }
                 cur[r] = bv;
-                arg[r] = best;
+                arg[r] = (uint32_t)best;
             }
         }
         uint32_t *sp = split + (k - 2) * width;
         for (size_t r = r0; r <= r1; r++)
-            sp[r - k] = (uint32_t)arg[r];
+            sp[r - k] = arg[r];
         double *t = prev;
         prev = cur;
         cur = t;

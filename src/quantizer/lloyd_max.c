@@ -175,15 +175,16 @@ qc_status qc_lloyd_max(const qc_model *model, const double *levels,
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    /* Start: K cells equal in ½·mixture + ½·uniform (fine_grid.c); for
-     * counts, evenly spaced integers over the support. */
+    /* Start: K cells equal in ½·mixture + ½·uniform (fine_grid.c), so
+     * that every cell starts with mass; for counts the rounded version. */
     if (model->type->output == QC_OUTPUT_COUNTS) {
         double top = fmax(ceil(L.hi), (double)nt);
-        for (size_t j = 0; j < nt; j++) {
-            t[j] = fmax(1.0, floor(1.0 + (double)j * top / (double)K));
-            if (j > 0 && t[j] <= t[j - 1])
-                t[j] = t[j - 1] + 1.0;
-        }
+        size_t nb = 0;
+        st = qc_count_quantiles(model, levels, input, nlevels, top, K, K, t, &nb);
+        if (st != QC_OK)
+            goto done;
+        for (size_t j = nb; j < nt; j++) /* more cells than counts: empty */
+            t[j] = (j > 0 ? t[j - 1] : 0.0) + 1.0;
     } else {
         st = qc_blend_quantiles(model, levels, input, nlevels, K, t);
         if (st != QC_OK)

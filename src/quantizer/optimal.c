@@ -3,11 +3,13 @@
  * contiguous groupings of its cells (dp_optimal.c; Kurkoski & Yagi, IEEE
  * Trans. IT 60(8), 2014; He, Cai, Song, Mei, IEEE Trans. IT 67(6), 2021),
  * then continuous refinement of the thresholds with the analytic gradient
- * (refine.c). For count outputs whose whole support fits the grid, the
+ * (refine.c), started from the better of the DP result and the
+ * high-resolution companding rule (fine_grid.c). For count outputs whose whole support fits the grid, the
  * DP is already exact over integer thresholds and is not refined. */
 #include "quantizer/quantizer.h"
 
 #include <stdlib.h>
+#include <string.h>
 
 qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
@@ -20,6 +22,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     qc_fine_grid g;
     qc_cell_mi *w = NULL;
     size_t *cuts = NULL;
+    double *comp = NULL;
     if (iterations)
         *iterations = 0;
     qc_status st = qc_fine_grid_build(model, levels, input, nlevels, n, K, &g);
@@ -39,6 +42,20 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w);
     if (st != QC_OK)
         goto done;
+    if (model->type->output == QC_OUTPUT_REAL) {
+        /* Second start: the high-resolution rule, which matters when the
+         * grid is too coarse for the DP to choose much (N close to K). */
+        comp = qc_malloc_array(nt, sizeof *comp);
+        if (!comp) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        double mc;
+        if (qc_companding_thresholds(model, levels, input, nlevels, nt, comp) ==
+                QC_OK &&
+            qc_cell_mi_eval(w, comp, &mc, NULL) == QC_OK && mc > dp_mi)
+            memcpy(t_out, comp, nt * sizeof *t_out);
+    }
     double mi;
     if (model->type->output == QC_OUTPUT_REAL)
         st = qc_refine_continuous(w, t_out, &mi, iterations);
@@ -53,6 +70,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
 done:
     qc_cell_mi_free(w);
     free(cuts);
+    free(comp);
     qc_fine_grid_clear(&g);
     return st;
 }

@@ -104,6 +104,20 @@ qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t n,
                              double *out);
 
+/* Count outputs: up to n − 1 distinct integer boundaries in [1, top] at
+ * the rounded-up quantiles of G (*nb of them). When that gives fewer than
+ * cells − 1 and top ≥ n, evenly spaced counts instead; otherwise the
+ * caller completes the list. */
+qc_status qc_count_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, double top,
+                             size_t n, size_t cells, double *out, size_t *nb);
+
+/* nt thresholds whose density follows the high-resolution MI rule
+ * ∝ (f(y)·J(y))^{1/3} (see fine_grid.c), continuous outputs only. */
+qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels, size_t nt,
+                                   double *out);
+
 /* Union of the supports of all levels. */
 void qc_levels_support(const qc_model *model, const double *levels,
                        size_t nlevels, double *lo, double *hi);

@@ -27,7 +27,9 @@
 #define REFINE_GRAD_TOL 1e-13 /* nats per unit of u */
 #define REFINE_STALL 25       /* iterations without a 1e-15 relative gain */
 #define REFINE_WORK (1u << 23) /* iteration cap × thresholds × levels */
-#define NEWTON_MAX_ITER 30
+#define NEWTON_MAX_ITER 50
+#define NEWTON_WORK (1u << 22) /* iteration cap × thresholds × levels */
+#define NEWTON_MAX_DAMP 12     /* damping increases per Newton iteration */
 #define NEWTON_FD_STEP 1e-7    /* difference step, relative to the spacing */
 #define NEWTON_TOL 1e-11       /* stop when steps fall below this × spacing */
 
@@ -95,91 +97,125 @@ static void neg_mi_df(const gsl_vector *u, void *p, gsl_vector *g)
     neg_mi_fdf(u, p, &f, g);
 }
 
-/* Newton polish of sorted thresholds t on ∇I = 0 with a tridiagonal
- * finite-difference Hessian. A step is taken only if it keeps the order,
- * the Hessian is negative definite, and I does not drop by more than
- * rounding; otherwise the polish stops with t unchanged from the last
- * accepted point. `work` holds 8·nt doubles. */
-static qc_status newton_polish(qc_cell_mi *w, double *t, double *work)
+/* Tridiagonal Hessian of I at t by differencing the analytic gradient
+ * g (at t) with three interleaved perturbations; diag (nt), off (nt − 1).
+ * h, tp, gp: scratch of nt. */
+static qc_status tridiagonal_hessian(qc_cell_mi *w, const double *t, const double *g,
+                                     double *diag, double *off, double *h, double *tp,
+                                     double *gp)
 {
     const size_t nt = w->nt;
-    double *g = work, *gp = work + nt, *tp = work + 2 * nt, *diag = work + 3 * nt;
-    double *off = work + 4 * nt, *rhs = work + 5 * nt, *step = work + 6 * nt;
-    double *h = work + 7 * nt;
-    double mi;
+    for (size_t j = 0; j < nt; j++) {
+        double sp = INFINITY;
+        if (j > 0)
+            sp = fmin(sp, t[j] - t[j - 1]);
+        if (j + 1 < nt)
+            sp = fmin(sp, t[j + 1] - t[j]);
+        if (!isfinite(sp))
+            sp = fmax(1e-3, fabs(t[j]));
+        h[j] = NEWTON_FD_STEP * sp;
+        diag[j] = off[j] = NAN;
+    }
+    for (size_t color = 0; color < 3 && color < nt; color++) {
+        for (size_t j = 0; j < nt; j++)
+            tp[j] = t[j] + ((j % 3 == color) ? h[j] : 0.0);
+        double mip;
+        qc_status st = qc_cell_mi_eval(w, tp, &mip, gp);
+        if (st != QC_OK)
+            return st;
+        for (size_t j = color; j < nt; j += 3) {
+            diag[j] = (gp[j] - g[j]) / h[j];
+            /* H[j−1][j] and H[j][j+1] from column j, averaged with the
+             * estimate from the neighbouring column */
+            if (j > 0) {
+                double v = (gp[j - 1] - g[j - 1]) / h[j];
+                off[j - 1] = isnan(off[j - 1]) ? v : 0.5 * (off[j - 1] + v);
+            }
+            if (j + 1 < nt) {
+                double v = (gp[j + 1] - g[j + 1]) / h[j];
+                off[j] = isnan(off[j]) ? v : 0.5 * (off[j] + v);
+            }
+        }
+    }
+    return QC_OK;
+}
+
+/* Damped Newton (Levenberg–Marquardt; Moré, Lecture Notes in Math. 630,
+ * 1978) on ∇I = 0 with the tridiagonal Hessian: solve (−H + μD) step = g,
+ * D = max(|H_jj|, 1e-8·max|H|). A step is kept if it keeps the order and
+ * I does not drop by more than rounding; otherwise μ grows. Thresholds in
+ * flat far tails (H ≈ 0) are thus held by the damping instead of
+ * stopping the polish. `work` holds 10·nt doubles. */
+static qc_status newton_polish(qc_cell_mi *w, double *t, double *work,
+                               size_t *iterations)
+{
+    const size_t nt = w->nt;
+    double *g = work, *gp = work + nt, *tp = work + 2 * nt, *hd = work + 3 * nt;
+    double *ho = work + 4 * nt, *a = work + 5 * nt, *e = work + 6 * nt;
+    double *rhs = work + 7 * nt, *step = work + 8 * nt, *h = work + 9 * nt;
+    double mi, mu = 0.0;
     qc_status st = qc_cell_mi_eval(w, t, &mi, g);
     if (st != QC_OK)
         return st;
-    for (int it = 0; it < NEWTON_MAX_ITER; it++) {
-        /* per-threshold scale: distance to the nearer neighbour */
-        for (size_t j = 0; j < nt; j++) {
-            double sp = INFINITY;
-            if (j > 0)
-                sp = fmin(sp, t[j] - t[j - 1]);
-            if (j + 1 < nt)
-                sp = fmin(sp, t[j + 1] - t[j]);
-            if (!isfinite(sp))
-                sp = fmax(1e-3, fabs(t[j]));
-            h[j] = NEWTON_FD_STEP * sp;
-        }
-        for (size_t j = 0; j < nt; j++)
-            diag[j] = off[j] = NAN;
-        for (size_t color = 0; color < 3 && color < nt; color++) {
-            for (size_t j = 0; j < nt; j++)
-                tp[j] = t[j] + ((j % 3 == color) ? h[j] : 0.0);
-            double mip;
-            st = qc_cell_mi_eval(w, tp, &mip, gp);
-            if (st != QC_OK)
-                return st;
-            for (size_t j = color; j < nt; j += 3) {
-                diag[j] = (gp[j] - g[j]) / h[j];
-                /* H[j−1][j] and H[j][j+1] from column j; average with the
-                 * estimate from column j ± 1 when that one exists. */
-                if (j > 0) {
-                    double v = (gp[j - 1] - g[j - 1]) / h[j];
-                    off[j - 1] = isnan(off[j - 1]) ? v : 0.5 * (off[j - 1] + v);
-                }
-                if (j + 1 < nt) {
-                    double v = (gp[j + 1] - g[j + 1]) / h[j];
-                    off[j] = isnan(off[j]) ? v : 0.5 * (off[j] + v);
-                }
-            }
-        }
-        /* Solve (−H) step = g: −H is positive definite at a maximum. */
-        for (size_t j = 0; j < nt; j++) {
-            if (!(diag[j] < 0.0) || !isfinite(diag[j]))
-                return QC_OK;
-            diag[j] = -diag[j];
-            rhs[j] = g[j];
-            if (j + 1 < nt)
-                off[j] = -off[j];
-        }
-        gsl_vector_view d = gsl_vector_view_array(diag, nt);
-        gsl_vector_view e = gsl_vector_view_array(off, nt > 1 ? nt - 1 : 1);
-        gsl_vector_view b = gsl_vector_view_array(rhs, nt);
-        gsl_vector_view x = gsl_vector_view_array(step, nt);
-        if (nt == 1)
-            step[0] = rhs[0] / diag[0];
-        else if (gsl_linalg_solve_symm_tridiag(&d.vector, &e.vector, &b.vector,
-                                               &x.vector) != GSL_SUCCESS)
-            return QC_OK;
-        double rel = 0.0;
-        for (size_t j = 0; j < nt; j++) {
-            tp[j] = t[j] + step[j];
-            rel = fmax(rel, fabs(step[j]) / (h[j] / NEWTON_FD_STEP));
-            if (!isfinite(tp[j]) || (j > 0 && !(tp[j] > tp[j - 1])))
-                return QC_OK;
-        }
-        double mip;
-        st = qc_cell_mi_eval(w, tp, &mip, gp);
+    size_t maxit = NEWTON_WORK / (nt * w->nlevels);
+    maxit = maxit < 8 ? 8 : maxit > NEWTON_MAX_ITER ? NEWTON_MAX_ITER : maxit;
+    for (size_t it = 0; it < maxit; it++) {
+        st = tridiagonal_hessian(w, t, g, hd, ho, h, tp, gp);
         if (st != QC_OK)
             return st;
-        if (mip < mi - 1e-14 * fmax(1.0, mi))
-            return QC_OK; /* not a local model of I here: keep t */
-        memcpy(t, tp, nt * sizeof *t);
-        memcpy(g, gp, nt * sizeof *g);
-        mi = mip;
-        if (rel < NEWTON_TOL)
+        double hmax = 0.0;
+        for (size_t j = 0; j < nt; j++)
+            hmax = fmax(hmax, fabs(hd[j]));
+        if (!(hmax > 0.0) || !isfinite(hmax))
+            return QC_OK;
+        int accepted = 0;
+        double rel = 0.0;
+        for (int tries = 0; tries < NEWTON_MAX_DAMP && !accepted; tries++) {
+            for (size_t j = 0; j < nt; j++) {
+                a[j] = -hd[j] + mu * fmax(fabs(hd[j]), 1e-8 * hmax);
+                rhs[j] = g[j];
+                if (j + 1 < nt)
+                    e[j] = -ho[j];
+            }
+            int solved;
+            if (nt == 1) {
+                solved = a[0] > 0.0;
+                step[0] = rhs[0] / a[0];
+            } else {
+                gsl_vector_view d = gsl_vector_view_array(a, nt);
+                gsl_vector_view o = gsl_vector_view_array(e, nt - 1);
+                gsl_vector_view b = gsl_vector_view_array(rhs, nt);
+                gsl_vector_view x = gsl_vector_view_array(step, nt);
+                solved = gsl_linalg_solve_symm_tridiag(&d.vector, &o.vector, &b.vector,
+                                                       &x.vector) == GSL_SUCCESS;
+            }
+            int ordered = solved;
+            rel = 0.0;
+            for (size_t j = 0; j < nt && ordered; j++) {
+                tp[j] = t[j] + step[j];
+                rel = fmax(rel, fabs(step[j]) * NEWTON_FD_STEP / h[j]);
+                if (!isfinite(tp[j]) || (j > 0 && !(tp[j] > tp[j - 1])))
+                    ordered = 0;
+            }
+            double mip = -INFINITY;
+            if (ordered) {
+                st = qc_cell_mi_eval(w, tp, &mip, gp);
+                if (st != QC_OK)
+                    return st;
+            }
+            if (ordered && mip >= mi - 1e-14 * fmax(1.0, mi)) {
+                accepted = 1;
+                memcpy(t, tp, nt * sizeof *t);
+                memcpy(g, gp, nt * sizeof *g);
+                mi = mip;
+                mu *= 0.1;
+            } else {
+                mu = mu > 0.0 ? 10.0 * mu : 1e-3;
+            }
+        }
+        if (iterations)
+            (*iterations)++;
+        if (!accepted || rel < NEWTON_TOL)
             break;
     }
     return QC_OK;
@@ -229,8 +265,8 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double *t, double *mi_nats,
         goto done;
     size_t work = nt * w->nlevels;
     size_t maxit = REFINE_WORK / (work ? work : 1);
-    if (maxit < 50)
-        maxit = 50;
+    if (maxit < 10)
+        maxit = 10;
     if (maxit > 1000)
         maxit = 1000;
     size_t it = 0, stall = 0;
@@ -254,8 +290,9 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double *t, double *mi_nats,
 done:
     if (st == QC_OK) {
         memcpy(t, r.best_t, nt * sizeof *t);
-        double *work = qc_malloc_array(8 * nt, sizeof *work);
-        st = work ? newton_polish(w, t, work) : qc_fail(QC_ENOMEM, "out of memory");
+        double *work = qc_malloc_array(10 * nt, sizeof *work);
+        st = work ? newton_polish(w, t, work, iterations)
+                  : qc_fail(QC_ENOMEM, "out of memory");
         free(work);
     }
     if (st == QC_OK) /* leave the workspace's channel at the result */

@@ -26,6 +26,7 @@
 #define SCAN_POINTS 64
 #define BRENT_MAX_ITER 100
 #define SIMPLEX_MAX_ITER 400
+#define SIMPLEX_WORK ((size_t)1 << 22) /* iterations × thresholds × levels */
 #define COUNT_BUDGET 20000 /* exhaustive integer search up to this many */
 
 typedef struct {
@@ -144,9 +145,12 @@ static double ends_neg(const gsl_vector *v, void *p)
     return isfinite(val) ? -val : 1.0;
 }
 
-/* Nelder–Mead on both ends of the range, from the best range found. */
-static qc_status adjust_ends(search *s, double a, double b)
+/* Nelder–Mead on both ends of the range, from the best range found;
+ * at most SIMPLEX_MAX_ITER iterations, fewer for very many thresholds. */
+static qc_status adjust_ends(search *s, double a, double b, size_t nlevels)
 {
+    size_t maxit = SIMPLEX_WORK / (s->nt * nlevels);
+    maxit = maxit < 10 ? 10 : maxit > SIMPLEX_MAX_ITER ? SIMPLEX_MAX_ITER : maxit;
     const double h = 0.5 * (b - a);
     gsl_multimin_fminimizer *m =
         gsl_multimin_fminimizer_alloc(gsl_multimin_fminimizer_nmsimplex2, 2);
@@ -162,7 +166,7 @@ static qc_status adjust_ends(search *s, double a, double b)
     gsl_multimin_function fn = {ends_neg, 2, s};
     if (gsl_multimin_fminimizer_set(m, &fn, x, step) != GSL_SUCCESS)
         goto done;
-    for (int it = 0; it < SIMPLEX_MAX_ITER && s->st == QC_OK; it++) {
+    for (size_t it = 0; it < maxit && s->st == QC_OK; it++) {
         if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
             break;
         if (gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), 1e-10 * h) ==
@@ -187,7 +191,7 @@ static qc_status eval_lattice(search *s, double t1, double d)
     return eval_current(s, &v);
 }
 
-/* t_1 ∈ [1, top], Δ ∈ [1, dmax]: every pair when there are at most
+/* t_1 ∈ [1, top], Δ ∈ [1, ⌈top/(nt − 1)⌉]: every pair when there are at most
  * COUNT_BUDGET, else a lattice of about that many pairs whose strides are
  * halved around the best point until they reach 1. */
 static qc_status count_search(search *s, double top)
@@ -235,8 +239,9 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
     }
     qc_status st;
     if (model->type->output == QC_OUTPUT_COUNTS) {
-        double top = fmax(ceil(hi), (double)nt);
-        st = count_search(&s, fmax(top, 1.0));
+        /* first threshold and step within the support: thresholds above
+         * it only add empty cells */
+        st = count_search(&s, fmax(ceil(hi), 1.0));
     } else if (nt == 1) {
         line l = {&s, 0.0, 1};
         st = scan_and_brent(&l, lo, hi);
@@ -248,7 +253,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         if (st == QC_OK && isfinite(s.best)) {
             double w = s.best_t[1] - s.best_t[0]; /* cell width */
             double a = s.best_t[0] - w;
-            st = adjust_ends(&s, a, a + (double)(nt + 1) * w);
+            st = adjust_ends(&s, a, a + (double)(nt + 1) * w, nlevels);
         }
     }
     free(s.t);
