@@ -178,7 +178,9 @@ int cmd_design(int argc, char **argv)
         const char *key = a.opts[k]->name;
         if (!a.values[k] || !qc_setting_known(key))
             continue;
-        if ((st = qc_settings_set(set, key, a.values[k])) != QC_OK) {
+        /* a switch given as a flag is on */
+        const char *value = a.opts[k]->metavar ? a.values[k] : "true";
+        if ((st = qc_settings_set(set, key, value)) != QC_OK) {
             rc = cli_usage_error("--%s: %s", key, qc_last_error());
             goto done;
         }

@@ -147,6 +147,14 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 double *mi_nats, size_t *fine_used,
                                 size_t *iterations);
 
+/* ---- design.c ----------------------------------------------------------- */
+
+/* qc_design without the alphabet stages (constraints, QAM, GMI, level
+ * search, dispersion; src/alphabet/input_design.c calls it): the request's
+ * alphabet fields are ignored and the result's are left zero. */
+qc_status qc_design_thresholds(const qc_design_request *req,
+                               qc_design_result *res);
+
 /* ---- joint.c ---------------------------------------------------------- */
 
 /* The capacity objective: thresholds (res->thresholds, res->nthresholds
