@@ -788,6 +788,98 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model,
 qc_status qc_design_report_json(const qc_design_request *req,
                                 const qc_design_result *res, char **text);
 
+/* ------------------------------------------------------------------ */
+/* Scenario files and sweeps (docs/formats.md, "Scenario files")       */
+/* ------------------------------------------------------------------ */
+
+/* A scenario: the receiver, the alphabets to compare, the sweep axes and
+ * the plots, read from an INI file. Every design key (qc_setting_keys()
+ * and the model parameters) is a scenario key with the same meaning. */
+typedef struct qc_scenario qc_scenario;
+
+#define QC_SCENARIO_MAX_POINTS 1000000 /* largest grid accepted          */
+#define QC_SCENARIO_MAX_BYTES (1 << 20) /* largest scenario file         */
+
+/* Parse a scenario held in memory (len bytes, need not end in NUL).
+ * `name` is used in messages ("name:LINE: ..."). Unknown sections or
+ * keys (with the closest valid name), bad values and missing keys are
+ * QC_EINVAL or QC_EFORMAT with the line named. */
+qc_status qc_scenario_parse(const char *text, size_t len, const char *name,
+                            qc_scenario **out);
+/* Read and parse a file; an unreadable path is QC_EIO. */
+qc_status qc_scenario_read(const char *path, qc_scenario **out);
+void qc_scenario_free(qc_scenario *sc);
+
+/* Override one key as from the command line: "KEY=VALUE" sets a design
+ * key everywhere (the sweep axis of that name takes the value's values;
+ * otherwise the base setting, which then also wins over the alphabets);
+ * "SECTION.KEY=VALUE" sets a key of one section ("plots.format=png",
+ * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1:1:4"). On failure the
+ * scenario is unchanged. */
+qc_status qc_scenario_override(qc_scenario *sc, const char *assignment);
+
+/* Check that every grid point builds a model and a design request; the
+ * message names the point (alphabet and axis values). */
+qc_status qc_scenario_check(const qc_scenario *sc);
+
+/* The grid: alphabets × axis 1 × axis 2 × ... (the last axis varies
+ * fastest). */
+size_t qc_scenario_npoints(const qc_scenario *sc);
+size_t qc_scenario_nalphabets(const qc_scenario *sc);
+const char *qc_scenario_alphabet(const qc_scenario *sc, size_t i);
+size_t qc_scenario_naxes(const qc_scenario *sc);
+const char *qc_scenario_axis_key(const qc_scenario *sc, size_t i);
+size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
+const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
+/* The settings of grid point `index` (a new object: free it). */
+qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
+                                     qc_settings **out);
+/* 16 hex digits identifying what the points compute (alphabets, base
+ * settings, axes); plots and titles do not enter it. */
+const char *qc_scenario_hash(const qc_scenario *sc);
+
+typedef struct {
+    const char *out_dir; /* created if missing                              */
+    unsigned jobs;       /* parallel threads; 0: one per core               */
+    int resume;          /* continue the checkpoint in out_dir              */
+    int plots;           /* draw the scenario's plots (default 1)           */
+    /* Called after each finished point, from one thread at a time (may be
+     * NULL): points done so far (resumed ones included) and in all. */
+    void (*progress)(void *user, size_t done, size_t total);
+    void *user;
+} qc_sweep_options;
+
+void qc_sweep_options_default(qc_sweep_options *opt);
+
+typedef struct {
+    size_t points;    /* grid size                                        */
+    size_t resumed;   /* finished points taken from the checkpoint        */
+    size_t computed;  /* points computed in this run                      */
+    size_t failed;    /* points whose design failed (recorded, not fatal) */
+    char first_failure[1024]; /* "point 12 (...): message", or ""         */
+    int plots_skipped; /* plots asked for but PLplot is not built in       */
+    size_t nfiles;
+    char **files;      /* paths of the files written (owned)               */
+} qc_sweep_summary;
+
+/* Run every point of the grid (qc_scenario_check first: an input error in
+ * the scenario is returned before any work), each exactly as `quantcap
+ * design` would with the point's settings, in parallel. Finished points
+ * go to out_dir/checkpoint.jsonl as they complete; then results.csv,
+ * results.json and the plots are written under temporary names and
+ * renamed. A point whose design fails (infeasible, no convergence,
+ * numerical) is recorded with its message; a design that rejects its
+ * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
+ * invalid) stops the sweep with that status, naming the point, and no
+ * table is written (finished points stay in the checkpoint). QC_EIO names
+ * the file on write failures. */
+qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
+                       qc_sweep_summary *summary);
+void qc_sweep_summary_clear(qc_sweep_summary *summary);
+
+/* 1 if this build draws plots (PLplot found at build time). */
+int qc_plots_available(void);
+
 #ifdef __cplusplus
 }
 #endif

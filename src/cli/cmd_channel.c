@@ -9,6 +9,7 @@
 static const cli_opt options[] = {
     {"levels", "L1,...,Ln", "transmitted levels (model units)"},
     {"thresholds", "T1,...,Tk", "sorted decision thresholds (k+1 cells)"},
+    {"table", "FILE", "measured densities, for --model table (levels default to the table's)"},
     {"json", NULL, "JSON output (key 'matrix': array of rows)"},
     {"csv", NULL, "CSV output with a header row"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
@@ -54,7 +55,11 @@ int cmd_channel(int argc, char **argv)
     double params[QC_MODEL_MAX_PARAMS];
     if ((rc = cli_model_type(&a, &type)) || (rc = cli_model_params(&a, type, params)))
         return rc;
-    if (!cli_has(&a, "levels"))
+    int is_table = strcmp(type->name, "table") == 0;
+    if (is_table != cli_has(&a, "table"))
+        return cli_usage_error(is_table ? "channel: --model table needs --table FILE"
+                                        : "channel: --table goes with --model table only");
+    if (!cli_has(&a, "levels") && !is_table)
         return cli_usage_error("channel: --levels is required");
     if (!cli_has(&a, "thresholds"))
         return cli_usage_error("channel: --thresholds is required");
@@ -65,10 +70,29 @@ int cmd_channel(int argc, char **argv)
     qc_dmc *d = NULL;
     cli_sink sink;
     int sink_open = 0;
-    if ((rc = cli_double_list("levels", cli_get(&a, "levels"), &levels, &nl)) ||
-        (rc = cli_double_list("thresholds", cli_get(&a, "thresholds"), &t, &nt)) ||
-        (rc = cli_build_model(type, params, &m)))
+    if ((cli_has(&a, "levels") &&
+         (rc = cli_double_list("levels", cli_get(&a, "levels"), &levels, &nl))) ||
+        (rc = cli_double_list("thresholds", cli_get(&a, "thresholds"), &t, &nt)))
         goto done;
+    if (is_table) {
+        qc_status ts = qc_model_table_load(cli_get(&a, "table"), &m);
+        if (ts != QC_OK) {
+            rc = cli_lib_error(ts);
+            goto done;
+        }
+        if (!levels) {
+            const double *tl;
+            qc_model_table_levels(m, &tl, &nl);
+            levels = malloc(nl * sizeof *levels);
+            if (!levels) {
+                rc = cli_usage_error("out of memory");
+                goto done;
+            }
+            memcpy(levels, tl, nl * sizeof *tl);
+        }
+    } else if ((rc = cli_build_model(type, params, &m))) {
+        goto done;
+    }
     qc_status st = qc_discretize(m, levels, nl, t, nt, &d);
     if (st != QC_OK) {
         rc = cli_lib_error(st);

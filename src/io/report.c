@@ -8,6 +8,9 @@
 #include <math.h>
 #include <stdlib.h>
 
+/* qc_objective_name and qc_quantizer_name live with the design
+ * (src/quantizer/design.c). */
+
 json_t *qc_report_real(double v) { return isfinite(v) ? json_real(v) : json_null(); }
 
 json_t *qc_report_array(const double *v, size_t n)
@@ -128,18 +131,19 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "unquantized_bits", qc_report_real(res->unquantized_bits));
     json_object_set_new(o, "unquantized_error_bits", qc_report_real(res->unquantized_err_bits));
     json_object_set_new(o, "loss_bits", qc_report_real(res->loss_bits));
+    json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
+    json_object_set_new(o, "design_iterations",
+                        json_integer((json_int_t)res->design_iterations));
+    json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
     json_object_set_new(o, "snr_db", qc_report_real(res->snr_db));
     json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
-    json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
-    json_object_set_new(o, "design_iterations", json_integer((json_int_t)res->design_iterations));
-    json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
-    if (res->reconstruction) {
-        json_object_set_new(o, "mse", qc_report_real(res->mse));
-        json_object_set_new(o, "reconstruction", qc_report_array(res->reconstruction, res->cells));
-    }
+    json_object_set_new(o, "mse", qc_report_real(res->mse));
     json_object_set_new(o, "thresholds", qc_report_array(res->thresholds, res->nthresholds));
     json_object_set_new(o, "levels", qc_report_array(res->levels, res->nlevels));
     json_object_set_new(o, "input_distribution", qc_report_array(res->input, res->nlevels));
+    if (res->reconstruction)
+        json_object_set_new(o, "reconstruction",
+                            qc_report_array(res->reconstruction, res->nthresholds + 1));
     report_alphabet(o, req, res);
     return o;
 }

@@ -200,6 +200,83 @@ expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", 
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,inf", "--bits", "2"], 2,
              "--levels: value 2 'inf' is not a finite number", "infinite level")
 
+# --- noise models and the physical front end ------------------------------
+rc, out, _ = run("models")
+for name in ("gauss", "gauss-sd", "poisson", "apd", "apd-gauss", "preamp", "table"):
+    check(rc == 0 and any(line.split()[0] == name for line in out.splitlines() if line.strip()),
+          f"models lists {name}")
+rc, out, _ = run("models", "apd")
+check(rc == 0 and "--gain" in out and "--sigma-th" in out and "electrons" in out,
+      "models NAME lists parameters with units")
+
+# on-off keying with ideal photon counting and no background is a Z channel
+# with p = exp(-n_s) (REFERENCES.md, photon counting)
+rc, out, err = run("channel", "--model", "poisson", "--signal", "2", "--levels", "0,1",
+                   "--thresholds", "1", "--json")
+m = parse(out, "poisson channel").get("matrix", [[math.nan] * 2] * 2)
+check(rc == 0 and m[0] == [1.0, 0.0] and abs(m[1][0] - math.exp(-2.0)) < 1e-15,
+      f"poisson OOK channel is a Z channel ({err.strip()})")
+expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "0,1",
+              "--thresholds", "1.5"], 2, "whole photon count", "fractional count threshold")
+expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "-1,1",
+              "--thresholds", "1"], 2, "level 1", "negative intensity level")
+expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "0.5", "--sigma-th", "10",
+              "--levels", "0,1", "--thresholds", "100"], 2, "'gain' must be >= 1", "APD gain < 1")
+expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "10", "--k", "1.5",
+              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'k' must be <= 1",
+             "APD k > 1")
+expect_error(["channel", "--model", "gauss", "--signal", "3", "--sigma", "1", "--levels", "0,1",
+              "--thresholds", "0"], 2, "--signal is not a parameter of model 'gauss'",
+             "parameter of another model")
+expect_error(["channel", "--model", "table", "--thresholds", "1"], 2, "needs --table",
+             "table model without file")
+badtab = write("badtable.txt", "levels 0 1\n0 1 1\n1 0.5\n")
+expect_error(["channel", "--model", "table", "--table", badtab, "--thresholds", "0.5"], 2,
+             "badtable.txt:3:", "malformed table names file:line")
+
+# physical receiver routes (units in docs/models.md)
+pin = ["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+       "--extinction-db", "10", "--responsivity", "0.8", "--bandwidth", "20e9",
+       "--thermal-density", "15", "--bits", "3", "--json"]
+rc, out, err = run(*pin)
+j = parse(out, "PIN front end")
+# mean photocurrent of the top level: R * P1 with P1 = 2 Pavg r/(r+1), r = 10 dB
+p_avg = 1e-3 * 10 ** (-12 / 10)
+p1 = 2 * p_avg * 10 / 11
+check(rc == 0 and abs(j.get("levels", [0] * 4)[-1] - 0.8 * p1) < 1e-12 * 0.8 * p1,
+      f"PIN front end: top level is R*P1 ({err.strip()})")
+rc, out, err = run("design", "--model", "poisson", "--alphabet", "upam:2", "--power-dbm", "-70",
+                   "--slot-time", "1e-9", "--wavelength-nm", "1550", "--efficiency", "0.8",
+                   "--bits", "2", "--json")
+j = parse(out, "photon front end")
+# n = eta P T / (h c / lambda) with P = 2 Pavg for on-off keying (REFERENCES.md)
+h, c = 6.62607015e-34, 299792458.0  # SI 2019 exact constants
+n_ref = 0.8 * 2 * 1e-3 * 10 ** (-7) * 1e-9 / (h * c / 1550e-9)
+check(rc == 0 and abs(j.get("parameters", {}).get("signal", 0) / n_ref - 1) < 1e-5,
+      f"photons per slot from the front end ({err.strip()})")
+rc, out, err = run("design", "--model", "gauss", "--osnr-db", "20", "--symbol-rate", "25e9",
+                   "--polarizations", "1", "--alphabet", "pam:2", "--bits", "1", "--json")
+j = parse(out, "OSNR route")
+# SNR = OSNR * 2 B_ref / (p R_s) (Essiambre et al. 2010): 100 * 2 * 12.5/25 = 100
+check(rc == 0 and abs(j.get("parameters", {}).get("sigma", 0) - 0.1) < 1e-12,
+      f"OSNR route: sigma = sqrt(1/100) ({err.strip()})")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "pam:4", "--power-dbm", "-12",
+              "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
+             2, "needs an intensity alphabet", "front end with bipolar alphabet")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
+             2, "'responsivity' (A/W) is required", "front end without responsivity")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--responsivity", "-0.8", "--bits", "2"], 2, "--responsivity: must be > 0",
+             "negative responsivity")
+expect_error(["design", "--model", "apd", "--alphabet", "upam:2", "--power-dbm", "-30",
+              "--responsivity", "0.8", "--thermal-density", "10", "--apd-gain", "10",
+              "--apd-k", "2", "--slot-time", "1e-10", "--bits", "2"], 2, "--apd-k: must be <= 1",
+             "APD k out of range")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10",
+              "--sigma0", "1", "--bits", "2"], 2, "not both", "front end and model parameters")
+
 for cmd in ("capacity", "channel", "design", "models"):
     rc, out, _ = run(cmd, "--help")
     check(rc == 0 and "usage: quantcap " + cmd in out, f"{cmd} --help")
