@@ -383,6 +383,50 @@ static void test_capacity_orderings(void **state)
     qc_model_free(m);
 }
 
+static void test_capacity_shannon_limit(void **state)
+{
+    (void)state;
+    /* A fine Gaussian-like input grid with an average power budget and a
+     * fine uniform quantizer approach the AWGN capacity ½·log2(1 + snr)
+     * (Shannon 1948; REFERENCES.md) within 0.01 bit. */
+    const double snr_db[2] = {0.0, 10.0};
+    for (size_t s = 0; s < 2; s++) {
+        double P = pow(10.0, snr_db[s] / 10.0); /* σ = 1 */
+        double span = 4.5 * sqrt(P);
+        enum { NL = 61, NT = 1023 };
+        double levels[NL], costs[NL], t[NT];
+        for (size_t i = 0; i < NL; i++) {
+            levels[i] = -span + 2.0 * span * (double)i / (NL - 1);
+            costs[i] = levels[i] * levels[i];
+        }
+        double range = span + 6.0;
+        for (size_t j = 0; j < NT; j++)
+            t[j] = -range + 2.0 * range * (double)(j + 1) / (NT + 1);
+        qc_model *m = gauss(1.0);
+        qc_design_request r;
+        request(&r, m, levels, NL, NT + 1, QC_QUANTIZER_FIXED);
+        r.objective = QC_OBJECTIVE_CAPACITY;
+        r.thresholds = t;
+        r.nthresholds = NT;
+        r.costs = costs;
+        r.budget = P;
+        r.tol_bits = 1e-4; /* ample for a 0.01-bit check; BA is slow on a
+                              near-continuous input at tighter gaps */
+        r.skip_snr_penalty = 1;
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        double shannon = 0.5 * log2(1.0 + P);
+        assert_true(fabs(res.rate_bits - shannon) <= 0.01);
+        assert_true(res.rate_bits <= shannon + 1e-9); /* no channel beats it */
+        double power = 0.0;
+        for (size_t i = 0; i < NL; i++)
+            power += res.input[i] * costs[i];
+        assert_true(power <= P * (1.0 + 1e-6));
+        qc_design_result_clear(&res);
+        qc_model_free(m);
+    }
+}
+
 /* ---- results and comparisons ------------------------------------------ */
 
 static void test_result_contents(void **state)
@@ -598,6 +642,7 @@ int main(void)
         cmocka_unit_test(test_photon_counting_exhaustive),
         cmocka_unit_test(test_capacity_one_bit_antipodal),
         cmocka_unit_test(test_capacity_orderings),
+        cmocka_unit_test(test_capacity_shannon_limit),
         cmocka_unit_test(test_result_contents),
         cmocka_unit_test(test_model_without_snr),
         cmocka_unit_test(test_compare_with_fixed),
