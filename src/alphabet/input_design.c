@@ -129,13 +129,15 @@ static qc_status gmi_objective(const design_ctx *c, qc_design_result *r)
     return QC_OK;
 }
 
-/* Capacity under two average constraints: alternate the law (the
- * two-cost capacity of the current channel) and the thresholds (the
+/* Capacity under `ncosts` average constraints (used for two; one or none
+ * go to the joint design of src/quantizer/joint.c): alternate the law (the
+ * constrained capacity of the current channel) and the thresholds (the
  * strategy's design for that law), as joint.c does with one cost; every
  * step of the optimal strategy keeps or raises the rate, C(t') ≥ I(r, t')
  * ≥ I(r, t) = C(t). The final channel is certified by qc_capacity_costs. */
-static qc_status two_cost_capacity(const design_ctx *c, const qc_design_request *sub,
-                                   const qc_cost *costs, qc_design_result *res)
+static qc_status constrained_capacity(const design_ctx *c, const qc_design_request *sub,
+                                      const qc_cost *costs, size_t ncosts,
+                                      qc_design_result *res)
 {
     const size_t n = sub->nlevels;
     const qc_quantizer_kind kind = sub->quantizer;
@@ -178,7 +180,7 @@ static qc_status two_cost_capacity(const design_ctx *c, const qc_design_request 
             goto done;
         qc_costs_result cr;
         opt.initial = law;
-        st = qc_capacity_costs(ch, &opt, costs, 2, NULL, &cr, law);
+        st = qc_capacity_costs(ch, &opt, costs, ncosts, NULL, &cr, law);
         iterations += cr.iterations;
         alternations++;
         if (st != QC_OK && st != QC_ENOCONV)
@@ -242,7 +244,7 @@ static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
                                                 c->dims)) != QC_OK)
             return st;
         if (k == 2)
-            return two_cost_capacity(c, &sub, costs, res);
+            return constrained_capacity(c, &sub, costs, k, res);
         if (k == 1) {
             sub.costs = costs[0].costs;
             sub.budget = costs[0].budget;
