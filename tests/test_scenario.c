@@ -118,6 +118,46 @@ static void test_every_model(void **state)
     assert_true(tested >= 1);
 }
 
+/* Alphabets by name and the physical front end are plain design keys. */
+static void test_front_end_and_alphabets(void **state)
+{
+    (void)state;
+    qc_scenario *sc = parse_ok("[receiver]\nmodel = apd-gauss\nresponsivity = 0.8\n"
+                               "thermal-density = 10\nslot-time = 1e-10\nextinction-db = 10\n"
+                               "[alphabet ook]\nalphabet = upam:2\n[alphabet pam4]\n"
+                               "alphabet = upam:4\n[sweep]\napd-gain = 1, 10\n"
+                               "power-dbm = -30:2:-20\nbits = 2\n[density]\nalphabet = pam4\n"
+                               "power-dbm = -24\n");
+    assert_int_equal(qc_scenario_npoints(sc), 2 * 2 * 6 * 1);
+    if (qc_scenario_check(sc) != QC_OK)
+        fail_msg("front-end scenario: %s", qc_last_error());
+    qc_settings *s;
+    qc_model *m;
+    qc_design_request req;
+    assert_int_equal(qc_scenario_point_settings(sc, 12 + 6 + 3, &s), QC_OK);
+    assert_string_equal(qc_settings_get(s, "alphabet"), "upam:4");
+    assert_string_equal(qc_settings_get(s, "apd-gain"), "10");
+    assert_string_equal(qc_settings_get(s, "power-dbm"), "-24");
+    assert_int_equal(qc_settings_build(s, &m, &req), QC_OK);
+    assert_int_equal(req.nlevels, 4);
+    qc_model_free(m);
+    qc_settings_free(s);
+    qc_scenario_free(sc);
+    /* a missing front-end key is named, with the point */
+    sc = parse_ok("[receiver]\nmodel = apd-gauss\nthermal-density = 10\nslot-time = 1e-10\n"
+                  "alphabet = upam:2\nbits = 1\n[sweep]\npower-dbm = -30, -20\n");
+    assert_int_equal(qc_scenario_check(sc), QC_EINVAL);
+    assert_message("t.ini: point 1 (power-dbm = -30): 'responsivity' (A/W) is required");
+    qc_scenario_free(sc);
+    sc = parse_ok("[receiver]\nmodel = gauss\n[sweep]\nalphabet = pam:2, pam:4, qam:16\n"
+                  "snr-db = 10\nbits = 3\n");
+    assert_int_equal(qc_scenario_axis_size(sc, 0), 3); /* 'pam:4' is not a range */
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 2), "qam:16");
+    if (qc_scenario_check(sc) != QC_OK)
+        fail_msg("alphabet axis: %s", qc_last_error());
+    qc_scenario_free(sc);
+}
+
 static void test_ranges(void **state)
 {
     (void)state;
@@ -315,6 +355,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_valid_grid),    cmocka_unit_test(test_every_model),
+        cmocka_unit_test(test_front_end_and_alphabets),
         cmocka_unit_test(test_ranges),        cmocka_unit_test(test_errors),
         cmocka_unit_test(test_text_hazards),  cmocka_unit_test(test_check_names_point),
         cmocka_unit_test(test_overrides),     cmocka_unit_test(test_hash),

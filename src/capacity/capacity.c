@@ -86,13 +86,19 @@ static qc_status unconstrained(qc_ba_workspace *ws, const qc_ba_options *opt,
                                qc_capacity_result *res)
 {
     double tol = opt->tol_bits / QC_LOG2E;
+    ba_tilt none = {NULL, 0.0, 0.0};
     ba_outcome o;
-    ba_run(ws, NULL, 0.0, tol, opt->method, opt->max_iterations, &o);
+    ba_run(ws, &none, tol, opt->method, opt->max_iterations, &o);
     double upper = fmax(o.upper, o.mi);
     res->capacity_bits = o.mi * QC_LOG2E;
     res->upper_bound_bits = upper * QC_LOG2E;
     res->gap_bits = res->upper_bound_bits - res->capacity_bits;
     res->iterations = o.iterations;
+    if (o.failed)
+        return qc_fail(QC_ENUMERIC,
+                       "Blahut-Arimoto produced a non-finite bound after %zu "
+                       "iterations",
+                       o.iterations);
     if (!o.converged)
         return qc_fail(QC_ENOCONV,
                        "Blahut-Arimoto stopped at the iteration limit %zu with "

@@ -46,19 +46,29 @@ typedef struct {
  * passed qc_dmc_check and fit the workspace. */
 void ba_prepare(qc_ba_workspace *ws, const qc_dmc *dmc);
 
-/* Run Blahut–Arimoto (method as given) for the tilted objective
- * I(r) − s·Σ r c, starting from the law in ws->r (non-negative, sums to
- * 1; the published method wants it strictly positive). `costs` may be
- * NULL (then s is ignored). Stops when the certified gap is ≤ tol_nats
- * or after max_iterations iterations (converged = 0). Never fails. */
-void ba_run(qc_ba_workspace *ws, const double *costs, double s,
-            double tol_nats, qc_ba_method method, size_t max_iterations,
-            ba_outcome *out);
+/* Cost tilt of the scores: a_x = D_x − s·(c_x − budget). With
+ * costs == NULL there is no tilt (a = D). Shifting by s·budget leaves
+ * the iteration unchanged and makes max_x a_x directly the certified
+ * upper bound on the capacity at that budget (Blahut 1972). */
+typedef struct {
+    const double *costs;
+    double s;
+    double budget;
+} ba_tilt;
 
-/* Recompute ws->q = rP, ws->d and the outcome's mi, cost and upper
- * bound for the law in ws->r (one pass to form q, one for D). */
-void ba_evaluate(qc_ba_workspace *ws, const double *costs, double s,
-                 ba_outcome *out);
+/* Run Blahut–Arimoto (method as given) for the tilted objective
+ * I(r) − s·(Σ r c − budget), starting from the law in ws->r
+ * (non-negative, sums to 1; the published method wants it strictly
+ * positive). Stops when the certified gap is ≤ tol_nats or after
+ * max_iterations iterations (converged = 0). Never fails; a non-finite
+ * bound ends the run with failed = 1. */
+void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
+            qc_ba_method method, size_t max_iterations, ba_outcome *out);
+
+/* Recompute ws->q = rP, ws->d, ws->a and the outcome's mi and cost for
+ * the law in ws->r (one pass to form q, one for D); out->upper becomes
+ * the smaller of its value and max_x a_x. */
+void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out);
 
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res

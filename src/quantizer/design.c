@@ -209,15 +209,24 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
         res->reconstruction = qc_malloc_array(nt + 1, sizeof *res->reconstruction);
         if (!res->reconstruction)
             return qc_fail(QC_ENOMEM, "out of memory");
-        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt,
+        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt, 0,
                           res->thresholds, res->reconstruction, &res->mse,
                           &res->design_iterations);
         break;
-    case QC_QUANTIZER_OPTIMAL:
+    case QC_QUANTIZER_OPTIMAL: {
+        qc_fine_grid g;
+        size_t n = req->fine_cells ? req->fine_cells : qc_fine_cells_default(nt + 1);
+        st = qc_fine_grid_build(req->model, res->levels, res->input, res->nlevels, n,
+                                nt + 1, &g);
+        if (st != QC_OK)
+            return st;
+        res->fine_cells = g.n;
         st = qc_optimal_thresholds(req->model, res->levels, res->input,
-                                   res->nlevels, nt, req->fine_cells, res->thresholds,
-                                   NULL, &res->fine_cells, &res->design_iterations);
+                                   res->nlevels, nt, &g, res->thresholds, NULL,
+                                   &res->design_iterations);
+        qc_fine_grid_clear(&g);
         break;
+    }
     default:
         st = qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
     }
