@@ -23,6 +23,7 @@
 #define TOL_BRUTE 1e-4    /* bits: simplex grid search resolution       */
 #define TOL_SHANNON 0.01  /* bits: fine grid + fine quantizer vs AWGN   */
 #define MASS_POINT 1e-6   /* probability of a reported mass point       */
+#define CLUSTER_MASS 1e-4 /* mass counted in a cluster at tolerance 1e-6 */
 
 static qc_model *gauss(double sigma)
 {
@@ -50,12 +51,12 @@ static void linspace(double lo, double hi, size_t n, double *out)
         out[i] = lo + (hi - lo) * (double)i / (double)(n - 1);
 }
 
-/* Groups of adjacent levels carrying mass (probability > MASS_POINT). */
-static size_t clusters(const double *p, size_t n)
+/* Groups of adjacent levels carrying probability > least. */
+static size_t clusters(const double *p, size_t n, double least)
 {
     size_t c = 0;
     for (size_t i = 0; i < n; i++)
-        if (p[i] > MASS_POINT && (i == 0 || !(p[i - 1] > MASS_POINT)))
+        if (p[i] > least && (i == 0 || !(p[i - 1] > least)))
             c++;
     return c;
 }
@@ -210,7 +211,7 @@ static void test_amplitude_constraint(void **state)
         if (k == 0) {
             assert_near(res.input[0], 0.5, 1e-4);
             assert_near(res.input[N - 1], 0.5, 1e-4);
-            assert_int_equal(clusters(res.input, N), 2);
+            assert_int_equal(clusters(res.input, N, MASS_POINT), 2);
             /* the rate is the binary-input one: ±A equiprobable through
              * the same quantizer */
             const double bin[2] = {-A, A};
@@ -227,7 +228,7 @@ static void test_amplitude_constraint(void **state)
             assert_true(res.input[0] > 0.2 && res.input[N - 1] > 0.2);
             assert_true(centre > 0.1); /* the third point at 0 */
             assert_near(ends + centre, 1.0, 1e-4);
-            assert_int_equal(clusters(res.input, N), 3);
+            assert_int_equal(clusters(res.input, N, MASS_POINT), 3);
         }
         qc_design_result_clear(&res);
     }
@@ -271,10 +272,10 @@ static void test_power_constraint(void **state)
     for (size_t K = 2; K <= 4; K *= 2) {
         request(&r, m, grid2, 61, K);
         r.constraints = &c;
-        r.tol_bits = 1e-9;
+        r.tol_bits = 1e-6; /* the law's stray mass stays below 1e-4 */
         r.fine_cells = 1024;
         assert_int_equal(qc_design(&r, &res), QC_OK);
-        size_t cl = clusters(res.input, 61);
+        size_t cl = clusters(res.input, 61, CLUSTER_MASS);
         assert_true(cl >= 2 && cl <= K + 1);
         assert_true(res.average_power <= P * (1.0 + 1e-9));
         qc_design_result_clear(&res);
@@ -318,9 +319,9 @@ static void test_photon_counting_peak(void **state)
         assert_int_equal(qc_design(&r, &res), QC_OK);
         assert_true(res.input[0] > 0.05 && res.input[N - 1] > 0.05);
         if (k == 0)
-            assert_int_equal(clusters(res.input, N), 2);
+            assert_int_equal(clusters(res.input, N, MASS_POINT), 2);
         else
-            assert_true(clusters(res.input, N) >= 3);
+            assert_true(clusters(res.input, N, MASS_POINT) >= 3);
         assert_true(res.rate_bits <= res.upper_bound_bits);
         qc_design_result_clear(&res);
         free(t);
@@ -391,6 +392,7 @@ static void test_power_and_mean_design(void **state)
     qc_design_request r;
     request(&r, m, grid, N, 8);
     r.fine_cells = 512;
+    r.tol_bits = 1e-7;
     qc_design_result b, p, mn;
     r.constraints = &both;
     assert_int_equal(qc_design(&r, &b), QC_OK);
@@ -439,7 +441,7 @@ static void test_optimize_levels_capacity(void **state)
     assert_int_equal(qc_design(&r, &symmetric), QC_OK);
     r.levels = start;
     r.optimize_levels = 1;
-    r.level_starts = 2;
+    r.level_starts = 1;
     assert_int_equal(qc_design(&r, &opt), QC_OK);
     assert_true(opt.levels_optimized);
     assert_true(opt.rate_bits >= base.rate_bits - 1e-8);

@@ -167,10 +167,17 @@ static qc_status run(runner *r, const qc_cost *costs, size_t ncosts, double w0, 
     qc_ba_options opt = *r->base;
     opt.costs = NULL;
     if (ncosts > 0) {
-        for (size_t x = 0; x < n; x++)
+        /* the engine takes costs ≥ 0: shift the cost and the budget by the
+         * smallest cost (Σ r = 1 leaves the constraint unchanged) */
+        double least = INFINITY;
+        for (size_t x = 0; x < n; x++) {
             r->combined[x] = w0 * costs[0].costs[x] + (ncosts > 1 ? w1 * costs[1].costs[x] : 0.0);
+            least = fmin(least, r->combined[x]);
+        }
+        for (size_t x = 0; x < n; x++)
+            r->combined[x] = fmax(r->combined[x] - least, 0.0);
         opt.costs = r->combined;
-        opt.budget = w0 * costs[0].budget + (ncosts > 1 ? w1 * costs[1].budget : 0.0);
+        opt.budget = w0 * costs[0].budget + (ncosts > 1 ? w1 * costs[1].budget : 0.0) - least;
     }
     qc_capacity_result cr;
     memset(&cr, 0, sizeof cr);
