@@ -15,6 +15,7 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <stdio.h>
 #include <string.h>
 
 #include <gsl/gsl_math.h> /* M_SQRT2, M_LN2 */
@@ -619,6 +620,95 @@ static void test_optimize_levels_mi(void **state)
     qc_model_free(m);
 }
 
+/* ---- settings: the keys of the alphabet module ------------------------ */
+
+static qc_status build(const char *const *kv, qc_settings **s, qc_model **m,
+                       qc_design_request *r)
+{
+    assert_int_equal(qc_settings_alloc(s), QC_OK);
+    for (size_t i = 0; kv[i]; i += 2) {
+        qc_status st = qc_settings_set(*s, kv[i], kv[i + 1]);
+        if (st != QC_OK)
+            return st;
+    }
+    return qc_settings_build(*s, m, r);
+}
+
+static void test_settings_keys(void **state)
+{
+    (void)state;
+    qc_settings *s;
+    qc_model *m;
+    qc_design_request r;
+    /* a grid trimmed by the peak; snr-db with a power budget: σ² = P/snr */
+    const char *grid[] = {"model", "gauss", "level-grid", "-3,3,13", "peak", "2",
+                          "power", "2", "snr-db", "10", "bits", "2",
+                          "objective", "capacity", NULL};
+    assert_int_equal(build(grid, &s, &m, &r), QC_OK);
+    assert_int_equal(r.nlevels, 9); /* −2, −1.5, …, 2 */
+    assert_near(r.levels[0], -2.0, TOL_TIGHT);
+    assert_near(m->params[0], sqrt(2.0 / 10.0), TOL_TIGHT);
+    assert_non_null(r.constraints);
+    assert_near(r.constraints->power, 2.0, 0.0);
+    assert_false(r.constraints->intensity);
+    qc_model_free(m);
+    qc_settings_free(s);
+    /* QAM: Es/N0 = E[x_I²]/σ² from the per-quadrature levels (5 for 4-PAM) */
+    const char *qam[] = {"model", "gauss", "alphabet", "qam:16", "snr-db", "10",
+                         "bits", "3", NULL};
+    assert_int_equal(build(qam, &s, &m, &r), QC_OK);
+    assert_int_equal(r.dimensions, 2);
+    assert_int_equal(r.nlevels, 4);
+    assert_near(m->params[0], sqrt(0.5), TOL_TIGHT);
+    assert_null(r.constraints);
+    qc_model_free(m);
+    qc_settings_free(s);
+    /* an intensity model: the peak interval is [0, A] */
+    const char *pois[] = {"model", "poisson", "signal", "4", "level-grid", "-1,1,9",
+                          "peak", "0.5", "bits", "2", "objective", "capacity", NULL};
+    assert_int_equal(build(pois, &s, &m, &r), QC_OK);
+    assert_int_equal(r.nlevels, 3); /* 0, 0.25, 0.5 */
+    assert_true(r.constraints->intensity);
+    assert_near(r.levels[0], 0.0, TOL_TIGHT);
+    qc_model_free(m);
+    qc_settings_free(s);
+    /* practitioners' keys; the switch takes true or false */
+    const char *prac[] = {"model", "gauss", "sigma", "1", "alphabet", "pam:4", "bits", "2",
+                          "blocklength", "500", "error-rate", "1e-3", "peak", "3",
+                          "optimize-levels", "true", "level-starts", "2", NULL};
+    assert_int_equal(build(prac, &s, &m, &r), QC_OK);
+    assert_int_equal(r.blocklength, 500);
+    assert_near(r.error_rate, 1e-3, 0.0);
+    assert_true(r.optimize_levels);
+    assert_int_equal(r.level_starts, 2);
+    assert_int_equal(qc_settings_set(s, "optimize-levels", "false"), QC_OK);
+    assert_int_equal(qc_settings_set(s, "optimize-levels", "maybe"), QC_EINVAL);
+    assert_message("true or false");
+    assert_int_equal(qc_settings_set(s, "error-rate", "1"), QC_EINVAL);
+    assert_int_equal(qc_settings_set(s, "peak", "0"), QC_EINVAL);
+    assert_int_equal(qc_settings_set(s, "objective", "gmi"), QC_OK);
+    qc_model_free(m);
+    qc_settings_free(s);
+    /* peak-dbm: OOK with infinite extinction has its top level at twice
+     * the average power, so peak-dbm = power-dbm + 10·log10(2) builds the
+     * same model (the front end of docs/models.md) */
+    const char *avg[] = {"model", "poisson", "alphabet", "upam:2", "power-dbm", "-70",
+                         "slot-time", "1e-9", "wavelength-nm", "1550", "bits", "2", NULL};
+    char peak_dbm[32];
+    snprintf(peak_dbm, sizeof peak_dbm, "%.17g", -70.0 + 10.0 * log10(2.0));
+    const char *top[] = {"model", "poisson", "alphabet", "upam:2", "peak-dbm", peak_dbm,
+                         "slot-time", "1e-9", "wavelength-nm", "1550", "bits", "2", NULL};
+    qc_model *m2;
+    qc_settings *s2;
+    assert_int_equal(build(avg, &s, &m, &r), QC_OK);
+    assert_int_equal(build(top, &s2, &m2, &r), QC_OK);
+    assert_near(m2->params[0], m->params[0], 1e-12 * m->params[0]);
+    qc_model_free(m);
+    qc_model_free(m2);
+    qc_settings_free(s);
+    qc_settings_free(s2);
+}
+
 /* ---- bad input ------------------------------------------------------- */
 
 static void test_bad_requests(void **state)
@@ -720,6 +810,7 @@ int main(void)
         cmocka_unit_test(test_qam_doubles_the_quadrature),
         cmocka_unit_test(test_gmi_objective),
         cmocka_unit_test(test_optimize_levels_mi),
+        cmocka_unit_test(test_settings_keys),
         cmocka_unit_test(test_bad_requests),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -29,6 +29,7 @@
 #include <gsl/gsl_min.h>
 
 #define BISECTION_STEPS 60
+#define START_BLEND 1e-3 /* weight of the uniform law in the starting law */
 #define MIX_SAMPLES 9
 #define MIX_TOL 1e-10
 #define MIX_MAX_ITER 100
@@ -85,13 +86,13 @@ static qc_status best_mixture(const qc_dmc *dmc, const qc_cost *costs, const dou
     for (int k = 0; k < 2; k++) {
         double ea = excess(a, &costs[k], n), eb = excess(b, &costs[k], n);
         double sl = slack(&costs[k]);
-        /* λ ea + (1−λ) eb ≤ sl */
+        /* λ ea + (1−λ) eb ≤ 0 */
         if (ea == eb) {
             if (ea > sl)
                 return QC_OK;
             continue;
         }
-        double root = (sl - eb) / (ea - eb);
+        double root = -eb / (ea - eb); /* on the budget itself, not its slack */
         if (ea > eb)
             hi = fmin(hi, root);
         else
@@ -166,10 +167,17 @@ static qc_status run(runner *r, const qc_cost *costs, size_t ncosts, double w0, 
     qc_ba_options opt = *r->base;
     opt.costs = NULL;
     if (ncosts > 0) {
-        for (size_t x = 0; x < n; x++)
+        /* the engine takes costs ≥ 0: shift the cost and the budget by the
+         * smallest cost (Σ r = 1 leaves the constraint unchanged) */
+        double least = INFINITY;
+        for (size_t x = 0; x < n; x++) {
             r->combined[x] = w0 * costs[0].costs[x] + (ncosts > 1 ? w1 * costs[1].costs[x] : 0.0);
+            least = fmin(least, r->combined[x]);
+        }
+        for (size_t x = 0; x < n; x++)
+            r->combined[x] = fmax(r->combined[x] - least, 0.0);
         opt.costs = r->combined;
-        opt.budget = w0 * costs[0].budget + (ncosts > 1 ? w1 * costs[1].budget : 0.0);
+        opt.budget = w0 * costs[0].budget + (ncosts > 1 ? w1 * costs[1].budget : 0.0) - least;
     }
     qc_capacity_result cr;
     memset(&cr, 0, sizeof cr);
@@ -226,12 +234,23 @@ qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt_in,
     else
         qc_ba_options_default(&base);
     base.costs = NULL;
+    /* the engine starts from a strictly positive law: blend a given start
+     * (often the previous optimum, with zeros) with the uniform law */
+    double *start = qc_malloc_array(n, sizeof *start);
+    if (!start)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    for (size_t x = 0; x < n; x++)
+        start[x] = (base.initial ? (1.0 - START_BLEND) * base.initial[x] : 0.0) +
+                   (base.initial ? START_BLEND : 1.0) / (double)n;
+    base.initial = start;
     const double tol = (base.tol_bits > 0.0 ? base.tol_bits : 1e-9) / QC_LOG2E;
 
     qc_ba_workspace *own = NULL; /* one workspace for every run */
     if (!ws) {
-        if ((st = qc_ba_workspace_alloc(n, dmc->ny, &own)) != QC_OK)
+        if ((st = qc_ba_workspace_alloc(n, dmc->ny, &own)) != QC_OK) {
+            free(start);
             return st;
+        }
         ws = own;
     }
     double *law = qc_malloc_array(n, sizeof *law), *lo = qc_malloc_array(n, sizeof *lo);
@@ -345,6 +364,7 @@ report:
                      res->gap_bits, tol * QC_LOG2E, BISECTION_STEPS);
 done:
     qc_ba_workspace_free(own);
+    free(start);
     free(law);
     free(lo);
     free(hi);

@@ -170,9 +170,14 @@ size_t qc_constraint_costs(const qc_constraints *c, const double *levels, size_t
         costs[k++] = (qc_cost){power_cost, share * c->power};
     }
     if (!isnan(c->mean)) {
+        /* E[x] ≤ M ⇔ E[x − x_min] ≤ M − x_min: a cost ≥ 0, as the engine
+         * requires, for bipolar levels too */
+        double least = INFINITY;
         for (size_t i = 0; i < nlevels; i++)
-            mean_cost[i] = levels[i];
-        costs[k++] = (qc_cost){mean_cost, c->mean};
+            least = fmin(least, levels[i]);
+        for (size_t i = 0; i < nlevels; i++)
+            mean_cost[i] = levels[i] - least;
+        costs[k++] = (qc_cost){mean_cost, c->mean - least};
     }
     return k;
 }
