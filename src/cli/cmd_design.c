@@ -48,7 +48,9 @@ static void help(const cli_args *a)
            "labels (thresholds designed for the MI of the law).\n"
            "--snr-db sets sigma from E[x^2]/sigma^2 with E[x^2] taken under the input\n"
            "law being evaluated (the given law, else uniform over the levels), or equal\n"
-           "to the --power budget when one is given. For qam:M it is Es/N0.\n"
+           "to the --power budget when one is given. For qam:M it is Es/N0. With\n"
+           "--objective capacity sigma is set with that law and the SNR reported is\n"
+           "E[x^2]/sigma^2 under the optimized law.\n"
            "The SNR penalty is the operating SNR minus the SNR at which the\n"
            "unquantized receiver reaches the same rate.\n\n"
            "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
@@ -110,11 +112,13 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
                    : "adaptive quadrature",
             r->unquantized_err_bits);
     fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
-    if (isfinite(r->snr_db))
-        fprintf(f, "SNR          %.3f dB operating; penalty %s%.4f dB against the unquantized "
+    if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
+        fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
                    "receiver\n",
-                r->snr_db, isfinite(r->snr_penalty_db) ? "" : "(undefined) ",
-                isfinite(r->snr_penalty_db) ? r->snr_penalty_db : 0.0);
+                r->snr_db, r->snr_penalty_db);
+    else if (isfinite(r->snr_db))
+        fprintf(f, "SNR          %.3f dB operating; no SNR penalty is defined here\n",
+                r->snr_db);
     print_practical_rates(f, r);
 }
 
