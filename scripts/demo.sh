@@ -1,10 +1,16 @@
 #!/bin/sh
-# Build quantcap and run the bundled demo design (an invented coherent
-# receiver: PAM-4 levels, 3-bit ADC). Usage: sh scripts/demo.sh
+# Build quantcap and run the designer demo end to end: an invented coherent
+# receiver, PAM-2/4/8 over SNR -5..35 dB with uniform ADCs of 1 to 8 bits.
+# Usage: sh scripts/demo.sh [SCENARIO]   (default scenarios/designer.ini)
 set -eu
 cd "$(dirname "$0")/.."
 sh scripts/deps.sh
 [ -f build/build.ninja ] || meson setup build --buildtype=debugoptimized
 ninja -C build quantcap
-./build/quantcap design --model gauss --snr-db 14 --levels -3,-1,1,3 --bits 3 \
-    --objective capacity
+scenario="${1:-scenarios/designer.ini}"
+name="$(basename "$scenario" .ini)"
+out="out/$name"
+./build/quantcap sweep "$scenario" --out "$out"
+echo
+echo "table:  $out/results.csv (one row per point; also $out/results.json)"
+echo "plots:  $(ls "$out"/*.svg "$out"/*.png "$out"/*.pdf 2>/dev/null | tr '\n' ' ')"

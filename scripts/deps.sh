@@ -3,9 +3,10 @@
 # packages that are already present. Run as root.
 set -eu
 packages="build-essential meson ninja-build pkg-config libgsl-dev libfftw3-dev \
-libjansson-dev libcmocka-dev libinih-dev libplplot-dev python3-scipy python3-numpy"
-if [ "${QC_WITH_FUZZ:-0}" = 1 ]; then
-    packages="$packages clang libclang-rt-14-dev"
+libjansson-dev libcmocka-dev libinih-dev libplplot-dev plplot-driver-cairo \
+python3-scipy python3-numpy"
+if [ "${QC_WITH_CHECKS:-0}" = 1 ]; then   # fuzzing and memory checks
+    packages="$packages clang libclang-rt-14-dev valgrind"
 fi
 missing=""
 for p in $packages; do

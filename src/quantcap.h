@@ -372,12 +372,146 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
 
 
 /* ------------------------------------------------------------------ */
+/* Alphabets, input constraints, bit labels, practitioners' rates      */
+/* (src/alphabet; normalizations and methods in docs/alphabets.md)     */
+/* ------------------------------------------------------------------ */
+
+typedef enum {
+    QC_ALPHABET_LEVELS = 0, /* explicit levels, in the order given          */
+    QC_ALPHABET_PAM,        /* pam:M, bipolar: −(M−1), −(M−3), …, M−1       */
+    QC_ALPHABET_UPAM,       /* upam:M, intensity: 0, 1/(M−1), …, 1 (OOK = 2) */
+    QC_ALPHABET_QAM,        /* qam:M, square QAM: √M-PAM on each quadrature */
+    QC_ALPHABET_GRID,       /* N equally spaced candidates on [lo, hi]      */
+} qc_alphabet_kind;
+
+#define QC_ALPHABET_MAX 4096 /* most levels per real dimension */
+
+typedef struct {
+    qc_alphabet_kind kind;
+    size_t size;         /* M: points per symbol (QAM: per complex symbol) */
+    size_t nlevels;      /* levels per real dimension (QAM: √M)           */
+    double *levels;      /* owned, nlevels values                         */
+    unsigned dimensions; /* 2 for QAM, else 1                             */
+    int intensity;       /* 1 for upam: levels are intensities ≥ 0         */
+} qc_alphabet;
+
+/* "pam:M", "upam:M" (2 ≤ M ≤ QC_ALPHABET_MAX) or "qam:M" (M a perfect
+ * square and a power of 2, 4 ≤ M). The message names the spec and says
+ * what is wrong. */
+qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out);
+/* Explicit levels (finite, distinct, 1 ≤ n ≤ QC_ALPHABET_MAX), kept in
+ * the order given. */
+qc_status qc_alphabet_from_levels(const double *levels, size_t n,
+                                  qc_alphabet **out);
+/* n ≥ 2 equally spaced candidate levels lo, …, hi (lo < hi, both finite):
+ * the support of a free-form input law. */
+qc_status qc_alphabet_grid(double lo, double hi, size_t n, qc_alphabet **out);
+void qc_alphabet_free(qc_alphabet *a);
+
+/* Input constraints. NaN in a field means "no such constraint".
+ * For QAM the peak bounds each quadrature (a square region) and the power
+ * is per complex symbol, E|x|² = E[x_I²] + E[x_Q²]. */
+typedef struct qc_constraints {
+    double peak;   /* |x| ≤ peak (> 0); intensity: 0 ≤ x ≤ peak              */
+    double power;  /* E[x²] ≤ power (> 0)                                    */
+    double mean;   /* E[x] ≤ mean (average optical power for intensity)     */
+    int intensity; /* levels are intensities: x ≥ 0 is required as well      */
+} qc_constraints;
+
+/* All fields NaN, intensity 0. */
+void qc_constraints_none(qc_constraints *c);
+
+/* Apply a peak constraint to an alphabet: a grid loses the candidates
+ * outside [−peak, peak] ([0, peak] for intensity); any other alphabet
+ * with a level outside is QC_EINVAL naming 'peak' and the level; a grid
+ * left with fewer than 2 levels is QC_EINFEASIBLE. NaN peak: no change. */
+qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity);
+
+/* Check that some input law on `levels` (per real dimension; dimensions
+ * 2 for QAM) meets the constraints: every level within the peak, power ≥
+ * the smallest E[x²] of any level (QAM: 2·min x²), mean ≥ the smallest
+ * level, and a law meeting power and mean together. QC_EINFEASIBLE (or
+ * QC_EINVAL for a malformed constraint) naming the key. */
+qc_status qc_constraints_check(const qc_constraints *c, const double *levels,
+                               size_t nlevels, unsigned dimensions);
+
+/* Binary-reflected Gray code of i: i XOR (i >> 1) (Gray 1953). */
+size_t qc_gray_code(size_t i);
+/* Labels of n levels: labels[i] = Gray code of the rank of levels[i] in
+ * ascending order, so neighbouring levels differ in one bit. *nbits =
+ * log2 n. QC_EINVAL naming n unless n is a power of 2 (n ≥ 2). */
+qc_status qc_gray_labels(const double *levels, size_t n, size_t *labels,
+                         unsigned *nbits);
+
+/* Bit-metric (BICM) generalized mutual information in nats, Caire,
+ * Taricco, Biglieri, IEEE Trans. IT 44(3), 1998:
+ *   GMI = [H(X) − Σ_b H(B_b | Y)]⁺,
+ * which is Σ_b I(B_b; Y) when the bits are independent (e.g. a uniform
+ * law), and never exceeds I(X;Y). labels[x] < 2^nbits gives the bits of
+ * input x (bit b = (labels[x] >> b) & 1), distinct for inputs in use. */
+qc_status qc_gmi(const qc_dmc *dmc, const double *input, const size_t *labels,
+                 unsigned nbits, double *gmi_nats);
+/* The same with the unquantized output (adaptive quadrature, GSL QAGS, or
+ * a sum over counts), as qc_unquantized_mi. */
+qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels,
+                             const size_t *labels, unsigned nbits,
+                             double *gmi_nats, double *abserr_nats);
+
+/* Channel dispersion: I(X;Y) and the variance V of the information
+ * density i(x;y) = log P(y|x)/P(y) under the law (Polyanskiy, Poor, Verdú,
+ * IEEE Trans. IT 56(5), 2010), in nats and nats². Either output may be
+ * NULL. */
+qc_status qc_dispersion(const qc_dmc *dmc, const double *input, double *mi_nats,
+                        double *v_nats2);
+/* Normal approximation (same paper): rate − √(V/n)·Q⁻¹(ε) + log2(n)/(2n)
+ * in bits, with V in bits². QC_EINVAL naming n or ε when n = 0 or ε is
+ * not in (0, 1). */
+qc_status qc_normal_approximation(double rate_bits, double v_bits2, size_t n,
+                                  double epsilon, double *rate_out_bits);
+/* SNR (dB) minus the SNR at which ½·log2(1 + snr) equals rate_bits (per
+ * real dimension); NaN when rate_bits ≤ 0 or snr_db is not finite. */
+double qc_shaping_gap_db(double snr_db, double rate_bits);
+
+/* Capacity under up to two average costs, Σ r(x)c_k(x) ≤ budget_k, by the
+ * engine (qc_capacity) with a single combined cost (1−w)c_1 + w·c_2 and a
+ * bisection on w (docs/alphabets.md). Every combined run certifies
+ * C ≤ max_x[D_x − s_1 c_1(x) − s_2 c_2(x)] + s_1 β_1 + s_2 β_2; the
+ * result holds the smallest such bound and the rate of a law meeting both
+ * budgets. */
+typedef struct {
+    const double *costs; /* per input (length nx)                         */
+    double budget;
+} qc_cost;
+
+typedef struct {
+    double capacity_bits;    /* I(r) of the returned law, which meets every
+                                budget                                    */
+    double upper_bound_bits; /* certified upper bound                       */
+    double gap_bits;
+    size_t iterations;       /* engine iterations, all runs                */
+    size_t engine_runs;
+    double cost[2];          /* Σ r c_k at the returned law                 */
+    double multiplier[2];    /* s_k of the bound above (nats per unit cost) */
+} qc_costs_result;
+
+/* `opt` gives tolerance, method, iteration limit and start (its costs are
+ * ignored; NULL: defaults); ncosts 0, 1 or 2. QC_EINFEASIBLE naming the
+ * cost (1 or 2) when no law meets the budgets; QC_ENOCONV when the gap
+ * stays above the tolerance (the result then holds the bounds reached). */
+qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt,
+                            const qc_cost *costs, size_t ncosts,
+                            qc_ba_workspace *ws, qc_costs_result *res,
+                            double *input_out);
+
+/* ------------------------------------------------------------------ */
 /* Design: thresholds (and input law) for a model and an alphabet      */
 /* ------------------------------------------------------------------ */
 
 typedef enum {
     QC_OBJECTIVE_MI = 0,       /* I(X;Y_q) with the given (or uniform) law  */
     QC_OBJECTIVE_CAPACITY = 1, /* capacity of the quantized channel         */
+    QC_OBJECTIVE_GMI = 2,      /* BICM GMI with Gray labels, given law      */
     QC_OBJECTIVE_COUNT
 } qc_objective;
 
@@ -391,7 +525,7 @@ typedef enum {
 
 #define QC_MAX_BITS 16
 
-/* Names used on the command line: "mi", "capacity"; "uniform", "fixed",
+/* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
  * "lloyd-max", "optimal". NULL for values out of range. */
 const char *qc_objective_name(qc_objective objective);
 const char *qc_quantizer_name(qc_quantizer_kind kind);
@@ -432,6 +566,21 @@ typedef struct {
     double budget;               /* Σ r(x)·costs[x] ≤ budget               */
     int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the
                                     root search on the unquantized curve)   */
+    /* Alphabet and input design (src/alphabet, docs/alphabets.md); all
+     * zero = off. */
+    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
+                                    levels used on each quadrature with the
+                                    same thresholds; rates per complex
+                                    symbol                                  */
+    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
+                                    none (not together with costs)          */
+    int optimize_levels;         /* 1: move the levels to maximize the
+                                    objective (Nelder–Mead, several starts,
+                                    thresholds re-designed at each step)   */
+    size_t level_starts;         /* starts of that search; 0: 3             */
+    size_t blocklength;          /* n > 0: normal approximation at n        */
+    double error_rate;           /* block error probability ε in (0, 1),
+                                    required with blocklength               */
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -475,6 +624,27 @@ typedef struct {
     double *levels;              /* owned copy                               */
     double *input;               /* owned: the input law used (nlevels)      */
     qc_dmc *channel;             /* owned: the final transition matrix       */
+    /* Alphabet and input design (src/alphabet). With dimensions = 2
+     * (QAM) every rate, bound and dispersion here is per complex symbol,
+     * while levels, input, thresholds and channel are those of one
+     * quadrature. */
+    unsigned dimensions;         /* 1 or 2                                   */
+    double mi_bits;              /* I(X;Y_q) of the reported law             */
+    double gmi_bits;             /* BICM GMI, Gray labels; NaN unless the
+                                    number of levels is a power of 2       */
+    unsigned label_bits;         /* bits per real dimension (0: no labels)   */
+    double dispersion_bits2;     /* V: variance of the information density   */
+    size_t blocklength;          /* echo; 0: no normal approximation         */
+    double error_rate;
+    double rate_at_blocklength_bits; /* rate − √(V/n)Q⁻¹(ε) + log2(n)/(2n);
+                                    NaN without blocklength                 */
+    double shaping_gap_db;       /* SNR distance from ½·log2(1 + snr) at
+                                    the same rate per dimension (model
+                                    gauss); NaN otherwise                   */
+    double average_power;        /* E[x²] of the law (QAM: E|x|²)            */
+    double average_level;        /* E[x] of the law                          */
+    int levels_optimized;        /* 1: levels are the search's result       */
+    size_t level_evaluations;    /* objective evaluations of that search     */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
@@ -617,6 +787,98 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model,
  * significant digits; non-finite numbers are written as null. */
 qc_status qc_design_report_json(const qc_design_request *req,
                                 const qc_design_result *res, char **text);
+
+/* ------------------------------------------------------------------ */
+/* Scenario files and sweeps (docs/formats.md, "Scenario files")       */
+/* ------------------------------------------------------------------ */
+
+/* A scenario: the receiver, the alphabets to compare, the sweep axes and
+ * the plots, read from an INI file. Every design key (qc_setting_keys()
+ * and the model parameters) is a scenario key with the same meaning. */
+typedef struct qc_scenario qc_scenario;
+
+#define QC_SCENARIO_MAX_POINTS 1000000 /* largest grid accepted          */
+#define QC_SCENARIO_MAX_BYTES (1 << 20) /* largest scenario file         */
+
+/* Parse a scenario held in memory (len bytes, need not end in NUL).
+ * `name` is used in messages ("name:LINE: ..."). Unknown sections or
+ * keys (with the closest valid name), bad values and missing keys are
+ * QC_EINVAL or QC_EFORMAT with the line named. */
+qc_status qc_scenario_parse(const char *text, size_t len, const char *name,
+                            qc_scenario **out);
+/* Read and parse a file; an unreadable path is QC_EIO. */
+qc_status qc_scenario_read(const char *path, qc_scenario **out);
+void qc_scenario_free(qc_scenario *sc);
+
+/* Override one key as from the command line: "KEY=VALUE" sets a design
+ * key everywhere (the sweep axis of that name takes the value's values;
+ * otherwise the base setting, which then also wins over the alphabets);
+ * "SECTION.KEY=VALUE" sets a key of one section ("plots.format=png",
+ * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1:1:4"). On failure the
+ * scenario is unchanged. */
+qc_status qc_scenario_override(qc_scenario *sc, const char *assignment);
+
+/* Check that every grid point builds a model and a design request; the
+ * message names the point (alphabet and axis values). */
+qc_status qc_scenario_check(const qc_scenario *sc);
+
+/* The grid: alphabets × axis 1 × axis 2 × ... (the last axis varies
+ * fastest). */
+size_t qc_scenario_npoints(const qc_scenario *sc);
+size_t qc_scenario_nalphabets(const qc_scenario *sc);
+const char *qc_scenario_alphabet(const qc_scenario *sc, size_t i);
+size_t qc_scenario_naxes(const qc_scenario *sc);
+const char *qc_scenario_axis_key(const qc_scenario *sc, size_t i);
+size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
+const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
+/* The settings of grid point `index` (a new object: free it). */
+qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
+                                     qc_settings **out);
+/* 16 hex digits identifying what the points compute (alphabets, base
+ * settings, axes); plots and titles do not enter it. */
+const char *qc_scenario_hash(const qc_scenario *sc);
+
+typedef struct {
+    const char *out_dir; /* created if missing                              */
+    unsigned jobs;       /* parallel threads; 0: one per core               */
+    int resume;          /* continue the checkpoint in out_dir              */
+    int plots;           /* draw the scenario's plots (default 1)           */
+    /* Called after each finished point, from one thread at a time (may be
+     * NULL): points done so far (resumed ones included) and in all. */
+    void (*progress)(void *user, size_t done, size_t total);
+    void *user;
+} qc_sweep_options;
+
+void qc_sweep_options_default(qc_sweep_options *opt);
+
+typedef struct {
+    size_t points;    /* grid size                                        */
+    size_t resumed;   /* finished points taken from the checkpoint        */
+    size_t computed;  /* points computed in this run                      */
+    size_t failed;    /* points whose design failed (recorded, not fatal) */
+    char first_failure[1024]; /* "point 12 (...): message", or ""         */
+    int plots_skipped; /* plots asked for but PLplot is not built in       */
+    size_t nfiles;
+    char **files;      /* paths of the files written (owned)               */
+} qc_sweep_summary;
+
+/* Run every point of the grid (qc_scenario_check first: an input error in
+ * the scenario is returned before any work), each exactly as `quantcap
+ * design` would with the point's settings, in parallel. Finished points
+ * go to out_dir/checkpoint.jsonl as they complete; then results.csv,
+ * results.json and the plots are written under temporary names and
+ * renamed. A point whose design fails (infeasible, no convergence,
+ * numerical) is recorded with its message; a design that rejects its
+ * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
+ * invalid) stops the sweep with that status, naming the point, and no
+ * table is written (finished points stay in the checkpoint). QC_EIO names
+ * the file on write failures. */
+qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
+                       qc_sweep_summary *summary);
+void qc_sweep_summary_clear(qc_sweep_summary *summary);
+
+/* 1 if this build draws plots (PLplot found at build time). */
+int qc_plots_available(void);
 
 #ifdef __cplusplus
 }

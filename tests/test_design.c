@@ -298,6 +298,135 @@ static void test_photon_counting_exhaustive(void **state)
         }
 }
 
+/* ---- capacity objective --------------------------------------------------- */
+
+static void test_capacity_one_bit_antipodal(void **state)
+{
+    (void)state;
+    /* Nine levels in [−A, A] with the symmetric 1-bit quantizer: binary
+     * antipodal input ±A is optimal (Singh, Dabeer, Madhow, IEEE Trans.
+     * Commun. 57(12), 2009, REFERENCES.md) and the channel is then a BSC
+     * with crossover Q(A/σ): C = 1 − h2(Q(A/σ)) (Cover & Thomas, §7.1.4). */
+    const double A = 1.5, zero = 0.0;
+    double levels[9];
+    for (size_t i = 0; i < 9; i++)
+        levels[i] = -A + 2.0 * A * (double)i / 8.0;
+    for (int k = 0; k < 2; k++) {
+        qc_model *m = gauss(k == 0 ? 1.0 : 0.5);
+        qc_design_request r;
+        request(&r, m, levels, 9, 2, k == 0 ? QC_QUANTIZER_FIXED : QC_QUANTIZER_OPTIMAL);
+        r.objective = QC_OBJECTIVE_CAPACITY;
+        r.thresholds = &zero;
+        r.nthresholds = 1;
+        r.skip_snr_penalty = 1;
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        double sigma = m->params[0];
+        double want = 1.0 - h2(0.5 * erfc(A / sigma / M_SQRT2));
+        assert_true(fabs(res.rate_bits - want) <= 1e-8);
+        assert_true(res.upper_bound_bits >= res.rate_bits);
+        assert_true(res.upper_bound_bits - res.rate_bits <= res.tol_bits + TOL_TIGHT);
+        assert_true(fabs(res.input[0] - 0.5) <= 1e-4 && fabs(res.input[8] - 0.5) <= 1e-4);
+        assert_true(fabs(res.thresholds[0]) <= 1e-7);
+        assert_true(res.iterations > 0);
+        assert_true(res.rate_bits <= res.unquantized_bits + TOL_ORDER);
+        qc_design_result_clear(&res);
+        qc_model_free(m);
+    }
+}
+
+static void test_capacity_orderings(void **state)
+{
+    (void)state;
+    /* peak-limited 5-level alphabet, capacity over the input law */
+    const double levels[5] = {-2.0, -1.0, 0.0, 1.0, 2.0};
+    qc_model *m = gauss(0.7);
+    double prev = 0.0;
+    for (size_t bits = 1; bits <= 3; bits++) {
+        size_t K = (size_t)1 << bits;
+        qc_design_request r;
+        request(&r, m, levels, 5, K, QC_QUANTIZER_OPTIMAL);
+        r.objective = QC_OBJECTIVE_CAPACITY;
+        r.skip_snr_penalty = 1;
+        qc_design_comparison c;
+        assert_int_equal(qc_design_compare(&r, &c), QC_OK);
+        const qc_design_result *opt = &c.result[2];
+        assert_int_equal(c.kind[2], QC_QUANTIZER_OPTIMAL);
+        for (size_t k = 0; k < c.count; k++) {
+            const qc_design_result *x = &c.result[k];
+            assert_int_equal(x->objective, QC_OBJECTIVE_CAPACITY);
+            /* certified: rate ≤ upper bound ≤ rate + tolerance */
+            assert_true(x->rate_bits <= x->upper_bound_bits);
+            assert_true(x->upper_bound_bits - x->rate_bits <= x->tol_bits + TOL_TIGHT);
+            /* the law is a law, the channel is the reported one */
+            double s = 0.0, mi;
+            for (size_t i = 0; i < 5; i++)
+                s += x->input[i];
+            assert_true(fabs(s - 1.0) <= 1e-9);
+            assert_int_equal(qc_mutual_information(x->channel, x->input, &mi), QC_OK);
+            assert_true(fabs(mi * QC_LOG2E - x->rate_bits) <= 1e-9);
+            assert_true(x->rate_bits <= x->unquantized_bits + TOL_ORDER);
+            assert_true(opt->rate_bits >= x->rate_bits - x->tol_bits);
+        }
+        /* capacity is at least the MI of the uniform law on the same cells */
+        r.objective = QC_OBJECTIVE_MI;
+        qc_design_result mi_opt;
+        assert_int_equal(qc_design(&r, &mi_opt), QC_OK);
+        assert_true(opt->upper_bound_bits >= mi_opt.rate_bits - TOL_ORDER);
+        assert_true(opt->rate_bits >= mi_opt.rate_bits - opt->tol_bits);
+        qc_design_result_clear(&mi_opt);
+        /* more bits never lower the designed capacity */
+        assert_true(opt->rate_bits >= prev - opt->tol_bits);
+        prev = opt->rate_bits;
+        qc_design_comparison_clear(&c);
+    }
+    qc_model_free(m);
+}
+
+static void test_capacity_shannon_limit(void **state)
+{
+    (void)state;
+    /* A fine Gaussian-like input grid with an average power budget and a
+     * fine uniform quantizer approach the AWGN capacity ½·log2(1 + snr)
+     * (Shannon 1948; REFERENCES.md) within 0.01 bit. */
+    const double snr_db[2] = {0.0, 10.0};
+    for (size_t s = 0; s < 2; s++) {
+        double P = pow(10.0, snr_db[s] / 10.0); /* σ = 1 */
+        double span = 4.5 * sqrt(P);
+        enum { NL = 61, NT = 1023 };
+        double levels[NL], costs[NL], t[NT];
+        for (size_t i = 0; i < NL; i++) {
+            levels[i] = -span + 2.0 * span * (double)i / (NL - 1);
+            costs[i] = levels[i] * levels[i];
+        }
+        double range = span + 6.0;
+        for (size_t j = 0; j < NT; j++)
+            t[j] = -range + 2.0 * range * (double)(j + 1) / (NT + 1);
+        qc_model *m = gauss(1.0);
+        qc_design_request r;
+        request(&r, m, levels, NL, NT + 1, QC_QUANTIZER_FIXED);
+        r.objective = QC_OBJECTIVE_CAPACITY;
+        r.thresholds = t;
+        r.nthresholds = NT;
+        r.costs = costs;
+        r.budget = P;
+        r.tol_bits = 1e-4; /* ample for a 0.01-bit check; BA is slow on a
+                              near-continuous input at tighter gaps */
+        r.skip_snr_penalty = 1;
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        double shannon = 0.5 * log2(1.0 + P);
+        assert_true(fabs(res.rate_bits - shannon) <= 0.01);
+        assert_true(res.rate_bits <= shannon + 1e-9); /* no channel beats it */
+        double power = 0.0;
+        for (size_t i = 0; i < NL; i++)
+            power += res.input[i] * costs[i];
+        assert_true(power <= P * (1.0 + 1e-6));
+        qc_design_result_clear(&res);
+        qc_model_free(m);
+    }
+}
+
 /* ---- results and comparisons ------------------------------------------ */
 
 static void test_result_contents(void **state)
@@ -511,6 +640,9 @@ int main(void)
         cmocka_unit_test(test_orderings),
         cmocka_unit_test(test_optimal_grid_independent),
         cmocka_unit_test(test_photon_counting_exhaustive),
+        cmocka_unit_test(test_capacity_one_bit_antipodal),
+        cmocka_unit_test(test_capacity_orderings),
+        cmocka_unit_test(test_capacity_shannon_limit),
         cmocka_unit_test(test_result_contents),
         cmocka_unit_test(test_model_without_snr),
         cmocka_unit_test(test_compare_with_fixed),

@@ -210,6 +210,32 @@ static void test_gauss_sd(void **state)
     qc_model_free(m);
 }
 
+/* The SNR hook of gauss-sd: E[x²]/E[σ²(x)], and scaling the SNR by g
+ * divides every variance term by g (definition of the hook). */
+static void test_gauss_sd_snr(void **state)
+{
+    (void)state;
+    const double params[] = {0.5, 0.2, 0.01};
+    const double levels[] = {0.0, 1.0, 2.0, 3.0};
+    const double law[] = {0.25, 0.25, 0.25, 0.25};
+    qc_model *m, *scaled;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, params, &m), QC_OK);
+    double noise = 0.0, power = 0.0;
+    for (size_t i = 0; i < 4; i++) {
+        power += 0.25 * levels[i] * levels[i];
+        noise += 0.25 * (0.25 + 0.2 * levels[i] + 0.01 * levels[i] * levels[i]);
+    }
+    double snr_db = qc_model_snr_db(m, levels, law, 4);
+    assert_true(fabs(snr_db - 10.0 * log10(power / noise)) < TOL_TIGHT);
+    assert_int_equal(qc_model_scale_snr(m, 4.0, &scaled), QC_OK);
+    assert_true(fabs(qc_model_snr_db(scaled, levels, law, 4) - snr_db - 10.0 * log10(4.0)) <
+                TOL_TIGHT);
+    assert_true(fabs(scaled->params[0] - 0.25) < TOL_TIGHT);
+    assert_true(fabs(scaled->params[1] - 0.05) < TOL_TIGHT);
+    qc_model_free(scaled);
+    qc_model_free(m);
+}
+
 static void test_preamp(void **state)
 {
     (void)state;
@@ -372,6 +398,7 @@ int main(void)
         cmocka_unit_test(test_bad_parameters),
         cmocka_unit_test(test_bad_levels),
         cmocka_unit_test(test_gauss_sd),
+        cmocka_unit_test(test_gauss_sd_snr),
         cmocka_unit_test(test_preamp),
         cmocka_unit_test(test_preamp_one_mode_far),
         cmocka_unit_test(test_apd_gauss),

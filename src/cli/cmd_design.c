@@ -14,6 +14,8 @@ static const cli_opt output_options[] = {
     {NULL, NULL, NULL},
 };
 
+#define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
+
 /* The design keys become flags; the table lives as long as the program. */
 static cli_opt key_options[64];
 
@@ -31,23 +33,68 @@ static void add_design_options(cli_args *a)
 static void help(const cli_args *a)
 {
     printf("usage: quantcap design --model NAME [model parameters | --snr-db X]\n"
-           "                       --levels L1,...,Ln (--bits B | --cells K)\n"
-           "                       [--objective mi|capacity] [--quantizer NAME]\n"
+           "                       (--levels L1,...,Ln | --alphabet SPEC |\n"
+           "                        --level-grid LO,HI,N) (--bits B | --cells K)\n"
+           "                       [--objective mi|capacity|gmi] [--quantizer NAME]\n"
+           "                       [--peak A] [--power P] [--mean M] [--optimize-levels]\n"
+           "                       [--blocklength N --error-rate E]\n"
            "                       [--compare] [--json] [--output FILE]\n\n"
            "Places the thresholds of a K-cell quantizer after the receiver and reports\n"
            "the information rate that survives it, the unquantized rate for the same\n"
            "levels and input law, and the loss. --objective mi rates the uniform (or\n"
            "given) input law; --objective capacity also optimizes the input law with\n"
-           "the Blahut-Arimoto engine and reports its certified upper bound.\n"
+           "the Blahut-Arimoto engine and reports its certified upper bound;\n"
+           "--objective gmi rates bit-interleaved coded modulation (BICM) with Gray\n"
+           "labels (thresholds designed for the MI of the law).\n"
            "--snr-db sets sigma from E[x^2]/sigma^2 with E[x^2] taken under the input\n"
-           "law being evaluated (the given law, else uniform over the levels).\n"
+           "law being evaluated (the given law, else uniform over the levels), or equal\n"
+           "to the --power budget when one is given. For qam:M it is Es/N0. With\n"
+           "--objective capacity sigma is set with that law and the SNR reported is\n"
+           "E[x^2]/sigma^2 under the optimized law.\n"
            "The SNR penalty is the operating SNR minus the SNR at which the\n"
            "unquantized receiver reaches the same rate.\n\n"
+           "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
+           "upam:2), qam:M (square QAM: sqrt(M)-PAM on each quadrature, the same\n"
+           "thresholds on both, rates per complex symbol), --levels, or --level-grid\n"
+           "LO,HI,N: N candidate levels on which --objective capacity finds the best\n"
+           "discrete input by itself (mass points with probability > 1e-6 are listed).\n"
+           "constraints: --peak A (|x| <= A; 0 <= x <= A for intensity; a level grid\n"
+           "drops the candidates outside), --power P (E[x^2] <= P; QAM: E|x|^2),\n"
+           "--mean M (E[x] <= M, the average optical power of intensity levels).\n"
+           "--optimize-levels moves the levels within the constraints to maximize the\n"
+           "objective, re-designing the thresholds at each step (Nelder-Mead).\n"
+           "Also reported: GMI with Gray labels, the dispersion V (bit^2), the normal\n"
+           "approximation C - sqrt(V/n) Q^-1(e) + log2(n)/(2n) with --blocklength and\n"
+           "--error-rate, and for model gauss the gap in dB to 1/2 log2(1 + snr).\n"
+           "Details: docs/alphabets.md.\n\n"
            "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
            "grid then gradient refinement), uniform (clipping range optimized),\n"
            "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
            "options:\n");
     cli_print_options(a, stdout);
+}
+
+/* GMI, dispersion, blocklength rate, shaping gap (docs/alphabets.md). */
+static void print_practical_rates(FILE *f, const qc_design_result *r)
+{
+    const char *unit = r->dimensions == 2 ? "bit/symbol" : "bit/use";
+    if (r->dimensions == 2)
+        fprintf(f, "QAM          rates per complex symbol: two quadratures with these "
+                   "levels and thresholds\n");
+    if (isfinite(r->gmi_bits))
+        fprintf(f, "GMI          %.9f %s   BICM, Gray labels; MI of the law %.9f\n",
+                r->gmi_bits, unit, r->mi_bits);
+    fprintf(f, "dispersion   %.6g bit^2", r->dispersion_bits2);
+    if (r->blocklength)
+        fprintf(f, "   rate at n = %zu, error %.3g: %.9f %s (normal approximation)",
+                r->blocklength, r->error_rate, r->rate_at_blocklength_bits, unit);
+    fputc('\n', f);
+    if (isfinite(r->shaping_gap_db))
+        fprintf(f, "shaping gap  %.4f dB from 1/2 log2(1 + snr) at the same rate per "
+                   "dimension\n",
+                r->shaping_gap_db);
+    if (r->levels_optimized)
+        fprintf(f, "levels       optimized (%zu designs evaluated)\n", r->level_evaluations);
 }
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
@@ -65,11 +112,14 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
                    : "adaptive quadrature",
             r->unquantized_err_bits);
     fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
-    if (isfinite(r->snr_db))
-        fprintf(f, "SNR          %.3f dB operating; penalty %s%.4f dB against the unquantized "
+    if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
+        fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
                    "receiver\n",
-                r->snr_db, isfinite(r->snr_penalty_db) ? "" : "(undefined) ",
-                isfinite(r->snr_penalty_db) ? r->snr_penalty_db : 0.0);
+                r->snr_db, r->snr_penalty_db);
+    else if (isfinite(r->snr_db))
+        fprintf(f, "SNR          %.3f dB operating; no SNR penalty is defined here\n",
+                r->snr_db);
+    print_practical_rates(f, r);
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
@@ -87,6 +137,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",
             req->objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            : req->objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
     print_rates(f, req, r);
     if (r->reconstruction)
@@ -94,9 +145,13 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     fprintf(f, "\nthresholds  ");
     for (size_t j = 0; j < r->nthresholds; j++)
         fprintf(f, "%s%.6g", j ? ", " : " ", r->thresholds[j]);
-    fprintf(f, "\n\n       level   probability\n");
+    /* long level grids: only the mass points */
+    int mass_only = r->nlevels > MAX_LEVELS_LISTED;
+    fprintf(f, "\n\n       level   probability%s\n",
+            mass_only ? "   (mass points: probability > 1e-6)" : "");
     for (size_t x = 0; x < r->nlevels; x++)
-        fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
+        if (!mass_only || r->input[x] > 1e-6)
+            fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
 }
 
 /* `--compare`: every strategy on the same channel. */
@@ -178,7 +233,9 @@ int cmd_design(int argc, char **argv)
         const char *key = a.opts[k]->name;
         if (!a.values[k] || !qc_setting_known(key))
             continue;
-        if ((st = qc_settings_set(set, key, a.values[k])) != QC_OK) {
+        /* a switch given as a flag is on */
+        const char *value = a.opts[k]->metavar ? a.values[k] : "true";
+        if ((st = qc_settings_set(set, key, value)) != QC_OK) {
             rc = cli_usage_error("--%s: %s", key, qc_last_error());
             goto done;
         }

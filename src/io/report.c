@@ -8,6 +8,9 @@
 #include <math.h>
 #include <stdlib.h>
 
+/* qc_objective_name and qc_quantizer_name live with the design
+ * (src/quantizer/design.c). */
+
 json_t *qc_report_real(double v) { return isfinite(v) ? json_real(v) : json_null(); }
 
 json_t *qc_report_array(const double *v, size_t n)
@@ -24,6 +27,86 @@ static unsigned bits_of(size_t cells)
     while (((size_t)1 << b) < cells && b < 63)
         b++;
     return ((size_t)1 << b) == cells ? b : 0;
+}
+
+/* ---- alphabet and input design ------------------------------------ */
+
+#define MASS_POINT_MIN 1e-6 /* probability of a level reported as a mass point */
+
+/* Bit string of a label, most significant bit first. */
+static json_t *label_string(size_t label, unsigned nbits)
+{
+    char text[65];
+    for (unsigned b = 0; b < nbits && b < 64; b++)
+        text[b] = (char)('0' + ((label >> (nbits - 1 - b)) & 1));
+    text[nbits < 64 ? nbits : 64] = '\0';
+    return json_string(text);
+}
+
+/* Gray labels of the levels (QAM: of the points, in-phase index major,
+ * in-phase bits first); NULL when the levels are not a power of 2. */
+static json_t *labels_of(const qc_design_result *res)
+{
+    size_t n = res->nlevels;
+    size_t *lab = malloc(n * sizeof *lab);
+    unsigned nbits;
+    if (!lab || qc_gray_labels(res->levels, n, lab, &nbits) != QC_OK) {
+        free(lab);
+        return NULL;
+    }
+    json_t *a = json_array();
+    for (size_t i = 0; a && i < n; i++) {
+        if (res->dimensions == 2)
+            for (size_t q = 0; q < n; q++)
+                json_array_append_new(a, label_string(lab[i] << nbits | lab[q], 2 * nbits));
+        else
+            json_array_append_new(a, label_string(lab[i], nbits));
+    }
+    free(lab);
+    return a;
+}
+
+static void report_alphabet(json_t *o, const qc_design_request *req,
+                            const qc_design_result *res)
+{
+    json_object_set_new(o, "dimensions", json_integer(res->dimensions ? res->dimensions : 1));
+    json_object_set_new(o, "mi_bits", qc_report_real(res->mi_bits));
+    json_object_set_new(o, "gmi_bits", qc_report_real(res->gmi_bits));
+    json_t *labels = res->label_bits ? labels_of(res) : NULL;
+    json_object_set_new(o, "labels", labels ? labels : json_null());
+    json_object_set_new(o, "dispersion", qc_report_real(res->dispersion_bits2));
+    json_object_set_new(o, "blocklength",
+                        res->blocklength ? json_integer((json_int_t)res->blocklength)
+                                         : json_null());
+    json_object_set_new(o, "error_rate", qc_report_real(res->blocklength ? res->error_rate
+                                                                         : NAN));
+    json_object_set_new(o, "rate_at_blocklength_bits",
+                        qc_report_real(res->rate_at_blocklength_bits));
+    json_object_set_new(o, "shaping_gap_db", qc_report_real(res->shaping_gap_db));
+    json_object_set_new(o, "average_power", qc_report_real(res->average_power));
+    json_object_set_new(o, "average_level", qc_report_real(res->average_level));
+    json_t *c = json_object();
+    if (c && req->constraints) {
+        if (!isnan(req->constraints->peak))
+            json_object_set_new(c, "peak", qc_report_real(req->constraints->peak));
+        if (!isnan(req->constraints->power))
+            json_object_set_new(c, "power", qc_report_real(req->constraints->power));
+        if (!isnan(req->constraints->mean))
+            json_object_set_new(c, "mean", qc_report_real(req->constraints->mean));
+    }
+    json_object_set_new(o, "constraints", c);
+    json_t *mass = json_array();
+    for (size_t i = 0; mass && i < res->nlevels; i++) {
+        if (!(res->input[i] > MASS_POINT_MIN))
+            continue;
+        json_t *p = json_object();
+        json_object_set_new(p, "level", qc_report_real(res->levels[i]));
+        json_object_set_new(p, "probability", qc_report_real(res->input[i]));
+        json_array_append_new(mass, p);
+    }
+    json_object_set_new(o, "mass_points", mass);
+    json_object_set_new(o, "levels_optimized", json_boolean(res->levels_optimized));
+    json_object_set_new(o, "level_evaluations", json_integer((json_int_t)res->level_evaluations));
 }
 
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
@@ -48,18 +131,20 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "unquantized_bits", qc_report_real(res->unquantized_bits));
     json_object_set_new(o, "unquantized_error_bits", qc_report_real(res->unquantized_err_bits));
     json_object_set_new(o, "loss_bits", qc_report_real(res->loss_bits));
+    json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
+    json_object_set_new(o, "design_iterations",
+                        json_integer((json_int_t)res->design_iterations));
+    json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
     json_object_set_new(o, "snr_db", qc_report_real(res->snr_db));
     json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
-    json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
-    json_object_set_new(o, "design_iterations", json_integer((json_int_t)res->design_iterations));
-    json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
-    if (res->reconstruction) {
-        json_object_set_new(o, "mse", qc_report_real(res->mse));
-        json_object_set_new(o, "reconstruction", qc_report_array(res->reconstruction, res->cells));
-    }
+    json_object_set_new(o, "mse", qc_report_real(res->mse));
     json_object_set_new(o, "thresholds", qc_report_array(res->thresholds, res->nthresholds));
     json_object_set_new(o, "levels", qc_report_array(res->levels, res->nlevels));
     json_object_set_new(o, "input_distribution", qc_report_array(res->input, res->nlevels));
+    if (res->reconstruction)
+        json_object_set_new(o, "reconstruction",
+                            qc_report_array(res->reconstruction, res->nthresholds + 1));
+    report_alphabet(o, req, res);
     return o;
 }
 

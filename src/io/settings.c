@@ -8,7 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-typedef enum { K_TEXT, K_NUMBER, K_LIST, K_WHOLE, K_CHOICE } key_kind;
+typedef enum { K_TEXT, K_NUMBER, K_LIST, K_WHOLE, K_CHOICE, K_SWITCH } key_kind;
 
 typedef struct {
     qc_setting_info info;
@@ -26,6 +26,7 @@ typedef struct {
 #define WHOLE(name, meta, help, l, h) {KEY(name, meta, help), .kind = K_WHOLE, .lo = l, .hi = h}
 #define CHOICE(name, meta, help, c) {KEY(name, meta, help), .kind = K_CHOICE, .choices = c}
 #define NUMBER(name, meta, help) {KEY(name, meta, help), .kind = K_NUMBER}
+#define SWITCH(name, help) {KEY(name, NULL, help), .kind = K_SWITCH}
 /* A number key with a range: > l (open) or >= l (closed), <= h. */
 #define NUMBER_ABOVE(name, meta, help, l)                                                  \
     {KEY(name, meta, help), .kind = K_NUMBER, .dmin = l, .dmax = INF, .min_exclusive = 1}
@@ -39,7 +40,10 @@ static const key_spec keys[] = {
     NUMBER("snr-db", "X", "set sigma from the SNR E[x^2]/sigma^2 in dB (model gauss)"),
     WHOLE("bits", "B", "ADC resolution: 2^B cells (1..16)", 1, QC_MAX_BITS),
     WHOLE("cells", "K", "number of quantizer cells (2..65536)", 2, (size_t)1 << QC_MAX_BITS),
-    CHOICE("objective", "mi|capacity", "rate to maximize (default mi)", "mi,capacity"),
+    CHOICE("objective", "mi|capacity|gmi",
+           "rate to maximize: mi (given law), capacity (law optimized), gmi (BICM, Gray "
+           "labels, given law); default mi",
+           "mi,capacity,gmi"),
     CHOICE("quantizer", "NAME",
            "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)",
            "optimal,uniform,lloyd-max,fixed"),
@@ -47,7 +51,9 @@ static const key_spec keys[] = {
           2, (size_t)1 << 22),
     LIST("thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"),
     NUMBER("tol", "T", "certification tolerance in bits (default 1e-9)"),
-    TEXT("alphabet", "SPEC", "levels by name: pam:M (bipolar), upam:M (intensity 0..1)"),
+    TEXT("alphabet", "SPEC",
+         "levels by name: pam:M (bipolar), upam:M (intensity 0..1; OOK = upam:2), qam:M "
+         "(square QAM, sqrt(M)-PAM per quadrature)"),
     TEXT("table", "FILE", "measured densities for model table (format in docs/formats.md)"),
     /* physical receiver (front end); units in docs/models.md */
     NUMBER_FROM("power-dbm", "P", "average received optical power, dBm", -INF, INF),
@@ -71,6 +77,19 @@ static const key_spec keys[] = {
     NUMBER_ABOVE("symbol-rate", "RS", "symbol rate, baud (with osnr-db)", 0.0),
     WHOLE("polarizations", "P", "polarizations carrying signal, 1 or 2 (default 2)", 1, 2),
     NUMBER_ABOVE("ref-bandwidth", "B", "OSNR reference bandwidth, Hz (default 12.5e9)", 0.0),
+    /* alphabets and input design (docs/alphabets.md) */
+    LIST("level-grid", "LO,HI,N",
+         "N equally spaced candidate levels on [LO, HI]; the input law is designed on them"),
+    NUMBER_ABOVE("peak", "A", "peak constraint |x| <= A (intensity: 0 <= x <= A)", 0.0),
+    NUMBER_ABOVE("power", "P", "average power constraint E[x^2] <= P (QAM: E|x|^2)", 0.0),
+    NUMBER("mean", "M", "average level constraint E[x] <= M (average optical power)"),
+    SWITCH("optimize-levels", "move the levels to maximize the objective (Nelder-Mead)"),
+    WHOLE("level-starts", "S", "starts of the level search (default 3)", 1, 64),
+    WHOLE("blocklength", "N", "blocklength for the normal approximation (with error-rate)", 1,
+          (size_t)1 << 50),
+    NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
+    NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
+                "power-dbm)", -INF, INF),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
@@ -217,6 +236,8 @@ static qc_status check_value(const char *key, const char *value)
             return st;
         if (strcmp(key, "tol") == 0 && !(d > 0.0))
             return qc_fail(QC_EINVAL, "tolerance must be > 0 (got %g)", d);
+        if (strcmp(key, "error-rate") == 0 && !(d > 0.0 && d < 1.0))
+            return qc_fail(QC_EINVAL, "must lie strictly between 0 and 1 (got %g)", d);
         if (k->dmin == 0.0 && k->dmax == 0.0)
             return QC_OK;
         if (k->min_exclusive ? !(d > k->dmin) : !(d >= k->dmin))
@@ -231,6 +252,10 @@ static qc_status check_value(const char *key, const char *value)
         st = qc_parse_list(value, &list, &n);
         free(list);
         return st;
+    case K_SWITCH:
+        if (strcmp(value, "true") != 0 && strcmp(value, "false") != 0)
+            return qc_fail(QC_EINVAL, "'%s' is not true or false", value);
+        return QC_OK;
     case K_CHOICE: {
         size_t len = strlen(value);
         for (const char *c = k->choices; *c;) {

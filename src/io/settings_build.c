@@ -1,20 +1,20 @@
 /* settings_build.c — from settings to a model and a design request: the
- * levels (a list, a named alphabet, or a measured table), the model
+ * levels (a list, a named alphabet, a level grid, or a measured table;
+ * src/alphabet), the input constraints, the model
  * parameters (given directly, from an SNR or OSNR, or from a physical
  * receiver through the front end), the quantizer and the objective. */
 #include "io/settings_internal.h"
+#include "alphabet/alphabet.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#define MAX_ALPHABET 4096
-
 /* Keys of the physical intensity receiver and of photon counting. */
 static const char *const frontend_keys[] = {
     "power-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
-    "wavelength-nm", "efficiency", "dark-count-rate", NULL,
+    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", NULL,
 };
 
 static const char *first_frontend_key(const qc_settings *s)
@@ -55,33 +55,6 @@ static qc_status parse_list_key(const qc_settings *s, const char *key, double **
     return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
 }
 
-/* "pam:M" → odd integers −(M−1)…M−1; "upam:M" → 0, 1/(M−1), …, 1.
- * *intensity is set for upam. */
-static qc_status alphabet_levels(const char *spec, double **out, size_t *n, int *intensity)
-{
-    const char *colon = strchr(spec, ':');
-    size_t m = 0;
-    if (!colon)
-        return qc_fail(QC_EINVAL, "alphabet: '%s' is not of the form pam:M or upam:M", spec);
-    size_t kind_len = (size_t)(colon - spec);
-    int bipolar = kind_len == 3 && strncmp(spec, "pam", 3) == 0;
-    int unipolar = kind_len == 4 && strncmp(spec, "upam", 4) == 0;
-    if (!bipolar && !unipolar)
-        return qc_fail(QC_EINVAL, "alphabet: unknown kind '%.*s' (known: pam, upam)",
-                       (int)(kind_len < 32 ? kind_len : 32), spec);
-    if (qc_parse_size(colon + 1, 2, MAX_ALPHABET, &m) != QC_OK)
-        return qc_fail(QC_EINVAL, "alphabet: size in '%s': %s", spec, qc_last_error());
-    double *v = qc_malloc_array(m, sizeof *v);
-    if (!v)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    for (size_t i = 0; i < m; i++)
-        v[i] = bipolar ? 2.0 * (double)i - (double)(m - 1) : (double)i / (double)(m - 1);
-    *out = v;
-    *n = m;
-    *intensity = unipolar;
-    return QC_OK;
-}
-
 /* The physical receiver of the settings; absent keys keep the defaults. */
 static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
 {
@@ -120,13 +93,22 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
                        first_frontend_key(s));
     double dbm, ext_db, slot;
     qc_status st;
-    if ((st = required(s, "power-dbm", "for the physical receiver", &dbm)) != QC_OK ||
+    int peak_given = qc_settings_get(s, "peak-dbm") != NULL;
+    if (peak_given && qc_settings_get(s, "power-dbm"))
+        return qc_fail(QC_EINVAL, "give 'power-dbm' (average) or 'peak-dbm' (top level), not "
+                                  "both");
+    if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
+                         : required(s, "power-dbm", "(or 'peak-dbm') for the physical receiver",
+                                    &dbm)) != QC_OK ||
         (st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
         return st;
     double *power = qc_malloc_array(nl, sizeof *power);
     if (!power)
         return qc_fail(QC_ENOMEM, "out of memory");
     double ratio = isinf(ext_db) ? INFINITY : pow(10.0, ext_db / 10.0);
+    /* the average (P0 + P1)/2 of a top level P1 = peak: P1(1 + 1/ratio)/2 */
+    if (peak_given)
+        dbm += 10.0 * log10(0.5 * (1.0 + 1.0 / ratio));
     st = qc_intensity_levels(dbm, ratio, nl, power);
     qc_receiver rx;
     if (st == QC_OK && strcmp(type->name, "poisson") == 0) {
@@ -161,13 +143,18 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
     return st;
 }
 
-/* σ of the Gaussian model from a linear SNR = E[x²]/σ² under the law. */
+/* σ of the Gaussian model from a linear SNR = E[x²]/σ² per real dimension
+ * (for QAM the per-quadrature levels give Es/N0 = E|x|²/(2σ²) the same
+ * way). With a power budget, E[x²] is the budget per real dimension;
+ * otherwise it is taken under the law (given, else uniform). */
 static qc_status sigma_from_snr(const char *key, double snr, const double *levels, size_t nl,
-                                const double *probs, double *sigma)
+                                const double *probs, double budget_per_dim, double *sigma)
 {
     double e2 = 0.0;
     for (size_t i = 0; i < nl; i++)
         e2 += (probs ? probs[i] : 1.0 / (double)nl) * levels[i] * levels[i];
+    if (!isnan(budget_per_dim))
+        e2 = budget_per_dim;
     if (!(e2 > 0.0))
         return qc_fail(QC_EINVAL, "%s: the levels have zero energy E[x^2], so no SNR can "
                                   "be set",
@@ -181,7 +168,7 @@ static qc_status sigma_from_snr(const char *key, double snr, const double *level
 
 /* snr-db or osnr-db (with symbol-rate) → σ of model gauss. */
 static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size_t nl,
-                           double *params)
+                           unsigned dims, double *params)
 {
     const char *key = qc_settings_get(s, "snr-db") ? "snr-db" : "osnr-db";
     if (qc_settings_get(s, "snr-db") && qc_settings_get(s, "osnr-db"))
@@ -208,7 +195,98 @@ static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size
         if ((st = qc_osnr_to_snr(db, bref, rs, (int)pol, &snr)) != QC_OK)
             return qc_fail(st, "osnr-db: %s", qc_last_error());
     }
-    return sigma_from_snr(key, snr, s->levels, nl, s->probabilities, &params[si]);
+    double budget = s->constraints.power / (double)dims; /* NaN without a budget */
+    return sigma_from_snr(key, snr, s->levels, nl, s->probabilities, budget, &params[si]);
+}
+
+/* The alphabet named by 'levels', 'alphabet' or 'level-grid' (at most
+ * one); *out stays NULL when none is given. */
+static qc_status alphabet_of(const qc_settings *s, qc_alphabet **out)
+{
+    *out = NULL;
+    const char *alphabet = qc_settings_get(s, "alphabet");
+    const char *grid = qc_settings_get(s, "level-grid");
+    const char *levels = qc_settings_get(s, "levels");
+    if ((alphabet != NULL) + (grid != NULL) + (levels != NULL) > 1)
+        return qc_fail(QC_EINVAL, "give one of 'levels', 'alphabet' and 'level-grid'");
+    if (alphabet)
+        return qc_alphabet_parse(alphabet, out);
+    double *v;
+    size_t n;
+    qc_status st = parse_list_key(s, grid ? "level-grid" : "levels", &v, &n);
+    if (st != QC_OK || !v)
+        return st;
+    if (levels) {
+        st = qc_alphabet_from_levels(v, n, out);
+    } else if (n != 3) {
+        st = qc_fail(QC_EINVAL, "level-grid: expected LO,HI,N (3 values, got %zu)", n);
+    } else if (!(v[2] == floor(v[2])) || v[2] < 0.0 || v[2] > 1e9) {
+        st = qc_fail(QC_EINVAL, "level-grid: N must be a whole number (got %g)", v[2]);
+    } else {
+        st = qc_alphabet_grid(v[0], v[1], (size_t)v[2], out);
+    }
+    free(v);
+    return st;
+}
+
+/* Does the model type take intensities (levels ≥ 0)? Probed with its
+ * level check; measured tables say nothing general. */
+static int intensity_type(const qc_model_type *type)
+{
+    if (!type->check_level || type == &qc_model_table)
+        return 0;
+    qc_model probe = {.type = type};
+    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
+        probe.params[i] = NAN;
+    int refuses = type->check_level(&probe, -1.0) != QC_OK;
+    qc_clear_error();
+    return refuses;
+}
+
+/* 'peak', 'power', 'mean' into s->constraints; *optimize from
+ * 'optimize-levels'. */
+static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
+                                const qc_alphabet *alpha, int *optimize)
+{
+    qc_constraints_none(&s->constraints);
+    qc_constraints *c = &s->constraints;
+    qc_status st;
+    if ((st = number(s, "peak", NAN, &c->peak)) != QC_OK ||
+        (st = number(s, "power", NAN, &c->power)) != QC_OK ||
+        (st = number(s, "mean", NAN, &c->mean)) != QC_OK)
+        return st;
+    c->intensity = alpha->intensity || intensity_type(type);
+    const char *v = qc_settings_get(s, "optimize-levels");
+    *optimize = v && strcmp(v, "true") == 0;
+    return qc_constraints_validate(c, alpha->dimensions);
+}
+
+/* The alphabet and input-design fields of the request. */
+static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
+                                qc_design_request *req)
+{
+    qc_status st;
+    double starts = NAN, n = NAN, eps = NAN;
+    req->dimensions = dims;
+    if (!isnan(s->constraints.peak) || !isnan(s->constraints.power) ||
+        !isnan(s->constraints.mean))
+        req->constraints = &s->constraints;
+    req->optimize_levels = optimize;
+    if ((st = number(s, "level-starts", NAN, &starts)) != QC_OK ||
+        (st = number(s, "blocklength", NAN, &n)) != QC_OK ||
+        (st = number(s, "error-rate", NAN, &eps)) != QC_OK)
+        return st;
+    if (!isnan(starts) && !optimize)
+        return qc_fail(QC_EINVAL, "'level-starts' goes with 'optimize-levels'");
+    req->level_starts = isnan(starts) ? 0 : (size_t)starts;
+    if (isnan(n) != isnan(eps))
+        return qc_fail(QC_EINVAL, "give 'blocklength' and 'error-rate' together (the normal "
+                                  "approximation needs both)");
+    if (!isnan(n)) {
+        req->blocklength = (size_t)n;
+        req->error_rate = eps;
+    }
+    return QC_OK;
 }
 
 qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request *req)
@@ -247,40 +325,49 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
                                              "densities)"
                                            : "'table' goes with model table only");
 
-    /* levels: a list, a named alphabet, or the table's own */
+    /* levels: a list, a named alphabet, a level grid, or the table's own */
     size_t nl = 0, np, nt;
-    int intensity = 0;
     qc_status st;
-    const char *alphabet = qc_settings_get(s, "alphabet");
-    if (alphabet && qc_settings_get(s, "levels"))
-        return qc_fail(QC_EINVAL, "give 'levels' or 'alphabet', not both");
-    if (alphabet)
-        st = alphabet_levels(alphabet, &s->levels, &nl, &intensity);
-    else
-        st = parse_list_key(s, "levels", &s->levels, &nl);
-    if (st == QC_OK)
-        st = parse_list_key(s, "probabilities", &s->probabilities, &np);
-    if (st == QC_OK)
-        st = parse_list_key(s, "thresholds", &s->thresholds, &nt);
-    if (st != QC_OK)
+    qc_alphabet *alpha = NULL;
+    if ((st = alphabet_of(s, &alpha)) != QC_OK)
         return st;
-
+    if ((st = parse_list_key(s, "probabilities", &s->probabilities, &np)) != QC_OK ||
+        (st = parse_list_key(s, "thresholds", &s->thresholds, &nt)) != QC_OK) {
+        qc_alphabet_free(alpha);
+        return st;
+    }
     if (is_table) {
-        if ((st = qc_model_table_load(qc_settings_get(s, "table"), model)) != QC_OK)
+        if ((st = qc_model_table_load(qc_settings_get(s, "table"), model)) != QC_OK) {
+            qc_alphabet_free(alpha);
             return st;
-        if (!s->levels) {
+        }
+        if (!alpha) {
             const double *tl;
-            if ((st = qc_model_table_levels(*model, &tl, &nl)) != QC_OK)
+            if ((st = qc_model_table_levels(*model, &tl, &nl)) != QC_OK ||
+                (st = qc_alphabet_from_levels(tl, nl, &alpha)) != QC_OK)
                 goto fail;
-            if (!(s->levels = qc_malloc_array(nl, sizeof *s->levels))) {
-                st = qc_fail(QC_ENOMEM, "out of memory");
-                goto fail;
-            }
-            memcpy(s->levels, tl, nl * sizeof *tl);
         }
     }
-    if (!s->levels)
-        return qc_fail(QC_EINVAL, "no levels given (key 'levels' or 'alphabet')");
+    if (!alpha)
+        return qc_fail(QC_EINVAL, "no levels given (key 'levels', 'alphabet' or 'level-grid')");
+    /* input constraints; a peak trims a level grid */
+    int optimize = 0;
+    if ((st = constraints_of(s, type, alpha, &optimize)) != QC_OK)
+        goto fail;
+    if (!(optimize && alpha->kind != QC_ALPHABET_GRID) &&
+        (st = qc_alphabet_apply_peak(alpha, s->constraints.peak, s->constraints.intensity)) !=
+            QC_OK)
+        goto fail;
+    nl = alpha->nlevels;
+    const unsigned dims = alpha->dimensions;
+    const int intensity = alpha->intensity;
+    if (!(s->levels = qc_malloc_array(nl, sizeof *s->levels))) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto fail;
+    }
+    memcpy(s->levels, alpha->levels, nl * sizeof *s->levels);
+    qc_alphabet_free(alpha);
+    alpha = NULL;
     if (s->probabilities && np != nl) {
         st = qc_fail(QC_EINVAL, "probabilities: %zu values for %zu levels", np, nl);
         goto fail;
@@ -360,7 +447,7 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
         if (fk)
             st = physical_route(s, type, intensity, nl, params);
         else if (snr_keys)
-            st = snr_route(s, type, nl, params);
+            st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)
             st = qc_model_alloc(type, params, model);
         if (st != QC_OK)
@@ -371,8 +458,11 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     req->nlevels = nl;
     req->probabilities = s->probabilities;
     req->thresholds = s->thresholds;
+    if ((st = design_options(s, dims, optimize, req)) != QC_OK)
+        goto fail;
     return QC_OK;
 fail:
+    qc_alphabet_free(alpha);
     qc_model_free(*model);
     *model = NULL;
     return st;

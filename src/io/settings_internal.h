@@ -13,6 +13,8 @@ struct qc_settings {
     char *value[MAX_ENTRIES];
     /* parsed lists, owned, refreshed by qc_settings_build */
     double *levels, *probabilities, *thresholds;
+    /* input constraints of the last build (the request points here) */
+    qc_constraints constraints;
 };
 
 

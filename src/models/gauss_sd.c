@@ -68,6 +68,35 @@ static qc_status gauss_sd_moments(const qc_model *m, double x, double *mean,
     return QC_OK;
 }
 
+/* SNR of an intensity alphabet: E[x²] / E[σ²(x)] under the law, the
+ * electrical signal power over the average noise variance. */
+static double gauss_sd_snr(const qc_model *m, const double *levels, const double *input,
+                           size_t n)
+{
+    double power = 0.0, noise = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double s = sd_at(m, levels[i]);
+        power += input[i] * levels[i] * levels[i];
+        noise += input[i] * s * s;
+    }
+    return power / noise;
+}
+
+/* SNR × gain: every variance term divided by gain (σ0 → σ0/√gain,
+ * a → a/gain, b → b/gain), so σ²(x) scales by 1/gain at every level. */
+static qc_status gauss_sd_scale_snr(const qc_model *m, double gain, double *out)
+{
+    const double *p = m->params;
+    out[P_SIGMA0] = p[P_SIGMA0] / sqrt(gain);
+    out[P_A] = p[P_A] / gain;
+    out[P_B] = p[P_B] / gain;
+    if (!(out[P_SIGMA0] > 0.0) || !isfinite(out[P_SIGMA0]) || !isfinite(out[P_A]) ||
+        !isfinite(out[P_B]))
+        return qc_fail(QC_EINVAL, "model 'gauss-sd': scaling the SNR by %g makes 'sigma0' %g",
+                       gain, out[P_SIGMA0]);
+    return QC_OK;
+}
+
 const qc_model_type qc_model_gauss_sd = {
     .name = "gauss-sd",
     .summary = "signal-dependent Gaussian y = x + n, var = sigma0^2 + a x + b x^2 "
@@ -81,4 +110,6 @@ const qc_model_type qc_model_gauss_sd = {
     .support = gauss_sd_support,
     .check_level = gauss_sd_check_level,
     .moments = gauss_sd_moments,
+    .snr = gauss_sd_snr,
+    .scale_snr = gauss_sd_scale_snr,
 };

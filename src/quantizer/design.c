@@ -6,6 +6,7 @@
  * the same levels and law, the loss and the SNR penalty. Also the names
  * of objectives and quantizers, and qc_design_compare. */
 #include "quantizer/quantizer.h"
+#include "alphabet/alphabet.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -18,6 +19,7 @@
 static const char *const objective_names[QC_OBJECTIVE_COUNT] = {
     [QC_OBJECTIVE_MI] = "mi",
     [QC_OBJECTIVE_CAPACITY] = "capacity",
+    [QC_OBJECTIVE_GMI] = "gmi",
 };
 
 static const char *const quantizer_names[QC_QUANTIZER_COUNT] = {
@@ -45,7 +47,7 @@ qc_status qc_objective_parse(const char *name, qc_objective *out)
             *out = (qc_objective)i;
             return QC_OK;
         }
-    return qc_fail(QC_EINVAL, "unknown objective '%s' (choose mi or capacity)",
+    return qc_fail(QC_EINVAL, "unknown objective '%s' (choose mi, capacity or gmi)",
                    name ? name : "");
 }
 
@@ -207,15 +209,24 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
         res->reconstruction = qc_malloc_array(nt + 1, sizeof *res->reconstruction);
         if (!res->reconstruction)
             return qc_fail(QC_ENOMEM, "out of memory");
-        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt,
+        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt, 0,
                           res->thresholds, res->reconstruction, &res->mse,
                           &res->design_iterations);
         break;
-    case QC_QUANTIZER_OPTIMAL:
+    case QC_QUANTIZER_OPTIMAL: {
+        qc_fine_grid g;
+        size_t n = req->fine_cells ? req->fine_cells : qc_fine_cells_default(nt + 1);
+        st = qc_fine_grid_build(req->model, res->levels, res->input, res->nlevels, n,
+                                nt + 1, &g);
+        if (st != QC_OK)
+            return st;
+        res->fine_cells = g.n;
         st = qc_optimal_thresholds(req->model, res->levels, res->input,
-                                   res->nlevels, nt, req->fine_cells, res->thresholds,
-                                   NULL, &res->fine_cells, &res->design_iterations);
+                                   res->nlevels, nt, &g, res->thresholds, NULL,
+                                   &res->design_iterations);
+        qc_fine_grid_clear(&g);
         break;
+    }
     default:
         st = qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
     }
@@ -234,7 +245,14 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     return QC_OK;
 }
 
+/* The alphabet stages (src/alphabet/input_design.c) run around the
+ * threshold design below. */
 qc_status qc_design(const qc_design_request *req, qc_design_result *res)
+{
+    return qc_input_design(req, res);
+}
+
+qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *res)
 {
     qc_gsl_init();
     memset(res, 0, sizeof *res);

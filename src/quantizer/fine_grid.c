@@ -5,8 +5,10 @@
  * G = ½·(mixture law of Y under the input law) + ½·(uniform law on the
  * union of the level supports). The mixture half puts cells where the
  * probability is; the uniform half keeps cells in the low-density valleys
- * between levels, where MI-optimal thresholds sit at high SNR. Quantiles
- * by tabulating G and polishing each one with GSL's Brent root finder.
+ * between levels, where MI-optimal thresholds sit at high SNR. The
+ * boundaries need only be well spread, not exact quantiles (the DP picks
+ * among them and the refinement moves off them): G is tabulated on 2N + 1
+ * points and inverted by linear interpolation.
  * Count outputs: one cell per count of the support (exact: the DP then
  * searches every integer threshold), or rounded quantiles of G when the
  * support is too wide.
@@ -26,14 +28,11 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_roots.h>
-
 #define FINE_WORK_LIMIT ((size_t)1 << 22) /* K·N of the automatic grid */
 #define FINE_MIN 4096
 #define FINE_PER_CELL 16
 #define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
-#define TABLE_PER_CELL 8     /* tabulation points of G per fine cell */
+#define TABLE_PER_CELL 2     /* tabulation points of G per fine cell */
 
 size_t qc_fine_cells_default(size_t cells)
 {
@@ -68,7 +67,7 @@ typedef struct {
     const double *levels, *input;
     size_t nlevels;
     double lo, hi;
-    double target;
+    double target; /* count_quantiles */
 } blend;
 
 /* G(y) = ½ Σ r(x) P(Y < y | x) + ½ (y − lo)/(hi − lo). */
@@ -81,17 +80,10 @@ static double blend_cdf(const blend *b, double y)
     return 0.5 * f + 0.5 * (y - b->lo) / (b->hi - b->lo);
 }
 
-static double blend_root_fn(double y, void *p)
-{
-    const blend *b = p;
-    return blend_cdf(b, y) - b->target;
-}
-
 qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t n,
                              double *out)
 {
-    qc_gsl_init();
     blend b = {model, levels, input, nlevels, 0.0, 0.0, 0.0};
     qc_levels_support(model, levels, nlevels, &b.lo, &b.hi);
     if (!(b.hi > b.lo) || !isfinite(b.lo) || !isfinite(b.hi))
@@ -100,59 +92,35 @@ qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
     const size_t m = TABLE_PER_CELL * n + 1;
     const double step = (b.hi - b.lo) / (double)(m - 1);
     double *table = qc_malloc_array(m, sizeof *table);
-    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
-    qc_status st = QC_OK;
-    if (!table || !s) {
-        st = qc_fail(QC_ENOMEM, "out of memory for a fine grid of %zu cells", n);
-        goto done;
-    }
-    for (size_t k = 0; k < m; k++)
+    if (!table)
+        return qc_fail(QC_ENOMEM, "out of memory for a fine grid of %zu cells", n);
+    for (size_t k = 0; k < m; k++) {
         table[k] = blend_cdf(&b, b.lo + step * (double)k);
-    gsl_function fn = {blend_root_fn, &b};
-    size_t k = 0;
-    const double epsabs = 1e-12 * (b.hi - b.lo) / (double)n;
-    for (size_t i = 1; i < n; i++) {
-        b.target = (double)i / (double)n;
-        while (k + 2 < m && table[k + 1] < b.target)
-            k++;
-        double y0 = b.lo + step * (double)k, y1 = b.lo + step * (double)(k + 1);
-        double y;
-        if (table[k] == b.target) {
-            y = y0;
-        } else if (table[k + 1] == b.target) {
-            y = y1;
-        } else {
-            int rc = gsl_root_fsolver_set(s, &fn, y0, y1);
-            for (int it = 0; rc == GSL_SUCCESS && it < 100; it++) {
-                rc = gsl_root_fsolver_iterate(s);
-                if (rc != GSL_SUCCESS)
-                    break;
-                double a = gsl_root_fsolver_x_lower(s);
-                double c = gsl_root_fsolver_x_upper(s);
-                if (gsl_root_test_interval(a, c, epsabs, 0.0) == GSL_SUCCESS)
-                    break;
-            }
-            if (rc != GSL_SUCCESS) {
-                st = qc_fail(QC_ENUMERIC,
-                             "fine grid: quantile %zu of %zu not found: %s", i, n,
-                             gsl_strerror(rc));
-                goto done;
-            }
-            y = gsl_root_fsolver_root(s);
+        if (!isfinite(table[k]) || (k > 0 && !(table[k] > table[k - 1]))) {
+            free(table);
+            return qc_fail(QC_ENUMERIC,
+                           "fine grid: the CDF of model '%s' is not increasing "
+                           "near %g",
+                           model->type->name, b.lo + step * (double)k);
         }
-        if (i > 1 && !(y > out[i - 2])) {
-            st = qc_fail(QC_ENUMERIC,
-                         "fine grid: boundaries %zu and %zu coincide at %.17g "
-                         "(model '%s' CDF not increasing?)",
-                         i - 1, i, y, model->type->name);
-            goto done;
-        }
-        out[i - 1] = y;
     }
-done:
+    /* G rises by at least step/(2(hi − lo)) per table step, so linear
+     * interpolation gives strictly increasing boundaries. */
+    size_t k = 0;
+    for (size_t i = 1; i < n; i++) {
+        double target = table[0] + (table[m - 1] - table[0]) * (double)i / (double)n;
+        while (k + 2 < m && table[k + 1] < target)
+            k++;
+        double u = (target - table[k]) / (table[k + 1] - table[k]);
+        out[i - 1] = b.lo + step * ((double)k + fmin(1.0, fmax(0.0, u)));
+        if (i > 1 && !(out[i - 1] > out[i - 2])) {
+            free(table);
+            return qc_fail(QC_ENUMERIC, "fine grid: boundaries %zu and %zu coincide",
+                           i - 1, i);
+        }
+    }
     free(table);
-    gsl_root_fsolver_free(s);
-    return st;
+    return QC_OK;
 }
 
 /* Count outputs with a support too wide for one cell per count: integer

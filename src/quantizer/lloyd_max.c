@@ -159,7 +159,8 @@ static double midpoints(const lloyd *L, const double *recon, size_t nt, double *
 
 qc_status qc_lloyd_max(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels, size_t nt,
-                       double *t, double *recon, double *mse, size_t *iterations)
+                       int warm_start, double *t, double *recon, double *mse,
+                       size_t *iterations)
 {
     qc_gsl_init();
     const size_t K = nt + 1;
@@ -177,7 +178,9 @@ qc_status qc_lloyd_max(const qc_model *model, const double *levels,
     }
     /* Start: K cells equal in ½·mixture + ½·uniform (fine_grid.c), so
      * that every cell starts with mass; for counts the rounded version. */
-    if (model->type->output == QC_OUTPUT_COUNTS) {
+    if (warm_start) {
+        /* the caller's thresholds */
+    } else if (model->type->output == QC_OUTPUT_COUNTS) {
         double top = fmax(ceil(L.hi), (double)nt);
         size_t nb = 0;
         st = qc_count_quantiles(model, levels, input, nlevels, top, K, K, t, &nb);

@@ -13,38 +13,34 @@
 
 qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
-                                size_t fine_cells, double *t_out,
-                                double *mi_nats, size_t *fine_used,
-                                size_t *iterations)
+                                const qc_fine_grid *g, double *t_out,
+                                double *mi_nats, size_t *iterations)
 {
     const size_t K = nt + 1;
-    size_t n = fine_cells ? fine_cells : qc_fine_cells_default(K);
-    qc_fine_grid g;
     qc_cell_mi *w = NULL;
     size_t *cuts = NULL;
     double *comp = NULL;
+    qc_status st = QC_OK;
     if (iterations)
         *iterations = 0;
-    qc_status st = qc_fine_grid_build(model, levels, input, nlevels, n, K, &g);
-    if (st != QC_OK)
-        return st;
     cuts = qc_malloc_array(K + 1, sizeof *cuts);
     if (!cuts) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
     double dp_mi;
-    st = qc_dp_quantize(g.p, input, K, QC_DP_FAST, cuts, &dp_mi);
+    st = qc_dp_quantize(g->p, input, K, QC_DP_FAST, cuts, &dp_mi);
     if (st != QC_OK)
         goto done;
     for (size_t j = 1; j < K; j++)
-        t_out[j - 1] = g.bounds[cuts[j] - 1];
+        t_out[j - 1] = g->bounds[cuts[j] - 1];
     st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w);
     if (st != QC_OK)
         goto done;
     if (model->type->output == QC_OUTPUT_REAL) {
         /* Second start: the high-resolution rule, which matters when the
-         * grid is too coarse for the DP to choose much (N close to K). */
+         * grid is too coarse for the DP to choose much (N close to K). A
+         * failure here only loses the second start. */
         comp = qc_malloc_array(nt, sizeof *comp);
         if (!comp) {
             st = qc_fail(QC_ENOMEM, "out of memory");
@@ -59,18 +55,15 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     double mi;
     if (model->type->output == QC_OUTPUT_REAL)
         st = qc_refine_continuous(w, t_out, &mi, iterations);
-    else if (!g.exact)
+    else if (!g->exact)
         st = qc_refine_counts(w, t_out, &mi, iterations);
     else
         st = qc_cell_mi_eval(w, t_out, &mi, NULL);
     if (st == QC_OK && mi_nats)
         *mi_nats = mi;
-    if (fine_used)
-        *fine_used = g.n;
 done:
     qc_cell_mi_free(w);
     free(cuts);
     free(comp);
-    qc_fine_grid_clear(&g);
     return st;
 }

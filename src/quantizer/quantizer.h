@@ -66,12 +66,13 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
 /* ---- lloyd_max.c ------------------------------------------------------ */
 
 /* Minimum-MSE quantizer of Y under the mixture Σ r(x) f(y|x) with K = nt
- * + 1 cells (Lloyd 1982, Max 1960). t_out: nt thresholds, recon_out: K
- * reconstruction points (conditional means), *mse and *iterations may be
- * NULL. */
+ * + 1 cells (Lloyd 1982, Max 1960). t: nt thresholds out (and in, as the
+ * start, when warm_start is set; else the start is the blended-quantile
+ * grid), recon_out: K reconstruction points (conditional means); *mse
+ * and *iterations may be NULL. */
 qc_status qc_lloyd_max(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels, size_t nt,
-                       double *t_out, double *recon_out, double *mse,
+                       int warm_start, double *t, double *recon_out, double *mse,
                        size_t *iterations);
 
 /* ---- fine_grid.c ------------------------------------------------------ */
@@ -139,13 +140,22 @@ qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
 
 /* ---- optimal.c -------------------------------------------------------- */
 
-/* MI-optimal thresholds for a given law: fine grid, qc_dp_quantize, then
- * refinement. t_out: nt thresholds. */
+/* MI-optimal thresholds for the law `input` on the fine grid `g` (built
+ * by qc_fine_grid_build for these levels; it may have been built for
+ * another law): qc_dp_quantize, then refinement from the better of the DP
+ * result and the companding rule. t_out: nt thresholds. */
 qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
-                                size_t fine_cells, double *t_out,
-                                double *mi_nats, size_t *fine_used,
-                                size_t *iterations);
+                                const qc_fine_grid *g, double *t_out,
+                                double *mi_nats, size_t *iterations);
+
+/* ---- design.c ----------------------------------------------------------- */
+
+/* qc_design without the alphabet stages (constraints, QAM, GMI, level
+ * search, dispersion; src/alphabet/input_design.c calls it): the request's
+ * alphabet fields are ignored and the result's are left zero. */
+qc_status qc_design_thresholds(const qc_design_request *req,
+                               qc_design_result *res);
 
 /* ---- joint.c ---------------------------------------------------------- */
 

@@ -1,0 +1,79 @@
+/* engine.h — internals shared by the files of the capacity engine:
+ * the workspace layout, the per-channel preparation and one
+ * Blahut–Arimoto run for a fixed cost multiplier s. Not installed. */
+#ifndef QC_CAPACITY_ENGINE_H
+#define QC_CAPACITY_ENGINE_H
+
+#include "core/internal.h"
+
+struct qc_ba_workspace {
+    size_t nx_max, ny_max;
+    /* per-channel preparation (ba_prepare) */
+    size_t nx, ny;
+    const double *p;     /* the caller's matrix, not owned              */
+    double *inv_sum;     /* nx: 1 / row sum (rows renormalized exactly) */
+    double *neg_entropy; /* nx: Σ_y P log P of the renormalized row     */
+    size_t *lo, *hi;     /* nx: columns [lo, hi) hold the row's nonzeros */
+    /* iteration state */
+    double *r;           /* nx: current input law                       */
+    double *d;           /* nx: D_x = D(P(·|x) ‖ rP) at r               */
+    double *a;           /* nx: score D_x − s·c_x at r                  */
+    double *t;           /* nx: log-weight of the proposed next law     */
+    double *r_best;      /* nx: law with the best lower bound so far    */
+    double *a_best;      /* nx: its scores                              */
+    double *r_prev;      /* nx: last accepted iterate (accelerated)     */
+    double *a_prev;      /* nx: its scores                              */
+    double *r_lo, *r_hi; /* nx: laws at the ends of the multiplier bracket */
+    double *q;           /* ny: output law rP                           */
+    double *q_next;      /* ny: output law of the proposed next law     */
+    double *logq;        /* ny: log q, floored where q underflows       */
+};
+
+/* Outcome of one run at a fixed multiplier s (all in nats). The run
+ * leaves its final law in ws->r and the divergences at it in ws->d. */
+typedef struct {
+    double mi;         /* I(r) at the final law, computed afresh          */
+    double cost;       /* Σ r c at the final law (0 without costs)        */
+    double lower;      /* best certified lower bound on max I − s·E c     */
+    double upper;      /* best certified upper bound on max I − s·E c     */
+    size_t iterations; /* iterations spent by this run                    */
+    int converged;     /* upper − lower ≤ tolerance                       */
+    int failed;        /* a bound or the law became non-finite            */
+} ba_outcome;
+
+/* Record the channel in the workspace: row sums, row entropies, the
+ * span of nonzero entries of each row. The matrix must already have
+ * passed qc_dmc_check and fit the workspace. */
+void ba_prepare(qc_ba_workspace *ws, const qc_dmc *dmc);
+
+/* Cost tilt of the scores: a_x = D_x − s·(c_x − budget). With
+ * costs == NULL there is no tilt (a = D). Shifting by s·budget leaves
+ * the iteration unchanged and makes max_x a_x directly the certified
+ * upper bound on the capacity at that budget (Blahut 1972). */
+typedef struct {
+    const double *costs;
+    double s;
+    double budget;
+} ba_tilt;
+
+/* Run Blahut–Arimoto (method as given) for the tilted objective
+ * I(r) − s·(Σ r c − budget), starting from the law in ws->r
+ * (non-negative, sums to 1; the published method wants it strictly
+ * positive). Stops when the certified gap is ≤ tol_nats or after
+ * max_iterations iterations (converged = 0). Never fails; a non-finite
+ * bound ends the run with failed = 1. */
+void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
+            qc_ba_method method, size_t max_iterations, ba_outcome *out);
+
+/* Recompute ws->q = rP, ws->d, ws->a and the outcome's mi and cost for
+ * the law in ws->r (one pass to form q, one for D); out->upper becomes
+ * the smaller of its value and max_x a_x. */
+void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out);
+
+/* Capacity–cost search (cost.c): the caller has validated the options,
+ * prepared the workspace and put the starting law in ws->r. Fills res
+ * and leaves the final law in ws->r. */
+qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
+                           qc_capacity_result *res);
+
+#endif
