@@ -261,6 +261,31 @@ static void test_preamp(void **state)
     qc_model_free(m);
 }
 
+/* One mode at large x·y: the density goes through the order-0 scaled
+ * Bessel function, for which GSL 2.7's Inu_scaled answers NaN (the
+ * unquantized rate then lost a whole level). */
+static void test_preamp_one_mode_far(void **state)
+{
+    (void)state;
+    double p[QC_MODEL_MAX_PARAMS] = {1.0};
+    qc_model *m = make("preamp", p);
+    /* f_Y(y) = 2 · ncx2.pdf(2y, 2, 2x) (scipy.stats.ncx2, Debian python3-scipy) */
+    const double xy[][3] = {{1e4, 1e4, 0.0028209655491591556},
+                            {1e4, 9800.0, 0.0010325207921050628},
+                            {250.0, 260.0, 0.016021062513071848},
+                            {1e6, 1e6 + 500.0, 0.0002649745727088197}};
+    for (size_t i = 0; i < sizeof xy / sizeof xy[0]; i++) {
+        double f = m->type->density(m, xy[i][0], xy[i][1]);
+        assert_true(isfinite(f));
+        assert_near(f / xy[i][2], 1.0, 1e-9);
+    }
+    /* levels 0 and 1e4 are told apart without error: 1 bit unquantized */
+    double levels[] = {0.0, 1e4}, input[] = {0.5, 0.5}, mi;
+    assert_int_equal(qc_unquantized_mi(m, levels, input, 2, &mi, NULL), QC_OK);
+    assert_near(mi * QC_LOG2E, 1.0, 1e-9);
+    qc_model_free(m);
+}
+
 static void test_apd_gauss(void **state)
 {
     (void)state;
@@ -375,6 +400,7 @@ int main(void)
         cmocka_unit_test(test_gauss_sd),
         cmocka_unit_test(test_gauss_sd_snr),
         cmocka_unit_test(test_preamp),
+        cmocka_unit_test(test_preamp_one_mode_far),
         cmocka_unit_test(test_apd_gauss),
         cmocka_unit_test(test_poisson),
         cmocka_unit_test(test_poisson_z_channel),

@@ -232,7 +232,10 @@ static double preamp_density(const qc_model *m, double x, double y)
         return exp((mm - 1.0) * log(y) - y - lgam(mm));
     gsl_sf_result r;
     double z = 2.0 * sqrt(x * y);
-    int rc = gsl_sf_bessel_Inu_scaled_e(mm - 1.0, z, &r);
+    /* GSL 2.7's Inu_scaled returns NaN with GSL_SUCCESS for order 0 and
+     * z ≥ ~1000 (x·y ≥ 250000 with one mode); I0_scaled is exact there. */
+    int rc = mm == 1.0 ? gsl_sf_bessel_I0_scaled_e(z, &r)
+                       : gsl_sf_bessel_Inu_scaled_e(mm - 1.0, z, &r);
     if (rc == GSL_EUNDRFLW)
         return 0.0;
     if (rc != GSL_SUCCESS)
