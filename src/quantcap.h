@@ -571,7 +571,9 @@ typedef struct {
     unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
                                     levels used on each quadrature with the
                                     same thresholds; rates per complex
-                                    symbol                                  */
+                                    symbol (`costs`/`budget` then apply to
+                                    one quadrature, `constraints` to the
+                                    symbol)                                 */
     const struct qc_constraints *constraints; /* peak, power, mean; NULL:
                                     none (not together with costs)          */
     int optimize_levels;         /* 1: move the levels to maximize the

@@ -1,8 +1,7 @@
 /* input_design.c — what qc_design adds around the threshold design for
- * alphabets and inputs: input constraints (peak, average power, average
- * level) handed to the capacity engine as costs, two average constraints
- * at once (qc_capacity_costs inside an alternation with the thresholds),
- * square QAM as two quadratures sharing the thresholds, the BICM GMI
+ * alphabets and inputs: input constraints (peak on the levels; average
+ * power and average level as costs of qc_capacity_costs, one or two at
+ * once, inside an alternation with the thresholds), square QAM as two quadratures sharing the thresholds, the BICM GMI
  * objective (Caire, Taricco, Biglieri, IEEE Trans. IT 44(3), 1998), level
  * optimization, and the rates practitioners quote: dispersion and the
  * normal approximation (Polyanskiy, Poor, Verdú, IEEE Trans. IT 56(5),

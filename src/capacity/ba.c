@@ -58,6 +58,18 @@
 #define MU_GROW 1.25
 #define MU_MAX 3.0
 
+/* Accelerated steps keep every input's weight at least e^-FLOOR_NATS
+ * times that of the most probable input, so that an input pushed down
+ * by the extrapolation can come back if it turns out to be needed. At
+ * most 2^24 inputs sit at the floor, holding mass below e^-43; their
+ * effect on I is far below any tolerance, and the bounds hold for any
+ * law anyway. */
+#define FLOOR_NATS 60.0
+
+/* A lower bound this far (relative to 1 + |bound|) below the best one
+ * is a real drop, not rounding in the divergences. */
+#define DROP_TOL 1e-12
+
 qc_status qc_ba_workspace_alloc(size_t nx, size_t ny, qc_ba_workspace **out)
 {
     *out = NULL;
@@ -202,13 +214,20 @@ static void log_output_law(qc_ba_workspace *ws)
  * as log-weights t (r'(x) = exp(t_x − *shift) / returned sum) and
  * ws->q_next = r'P times the returned sum. */
 static double ba_pass(qc_ba_workspace *ws, const ba_tilt *tilt, double mu,
-                      double beta, double *shift)
+                      double beta, double floor_nats, double *shift)
 {
     const size_t nx = ws->nx, ny = ws->ny;
-    double m = -INFINITY, wsum = 0.0;
-    if (mu > 0.0)
+    double m = -INFINITY, wsum = 0.0, t_floor = -INFINITY;
+    size_t first = 0;
+    if (mu > 0.0) {
         memset(ws->q_next, 0, ny * sizeof *ws->q_next);
-    for (size_t x = 0; x < nx; x++) {
+        for (size_t x = 1; x < nx; x++)
+            if (ws->r[x] > ws->r[first])
+                first = x;
+    }
+    /* the most probable input first: its log-weight anchors the floor */
+    for (size_t k = 0; k < nx; k++) {
+        const size_t x = k == 0 ? first : (k <= first ? k - 1 : k);
         const size_t lo = ws->lo[x], n = ws->hi[x] - lo;
         const double *row = ws->p + x * ny + lo;
         double d = ws->neg_entropy[x] - dot(row, ws->logq + lo, n) * ws->inv_sum[x];
@@ -224,6 +243,10 @@ static double ba_pass(qc_ba_workspace *ws, const ba_tilt *tilt, double mu,
         double t = log(ws->r[x]) + mu * a;
         if (beta > 0.0 && ws->r_prev[x] > 0.0)
             t += beta * (log(ws->r[x]) - log(ws->r_prev[x]));
+        if (k == 0)
+            t_floor = t - floor_nats;
+        else if (t < t_floor)
+            t = t_floor;
         ws->t[x] = t;
         if (t - m > RESCALE_AT) {
             if (wsum > 0.0) {
@@ -285,12 +308,28 @@ static void plain_step(qc_ba_workspace *ws, const double *r0, const double *a0)
         ws->r[x] /= z;
 }
 
+/* Directional derivative of the objective at the current iterate along
+ * the last step, Σ_x r(x)(a_x − ā)(log r(x) − log r_prev(x)) with
+ * ā = Σ r a: the gradient test of O'Donoghue and Candès. Inputs that
+ * underflowed to 0 contribute nothing. */
+static double ascent_along_last_step(const qc_ba_workspace *ws)
+{
+    double abar = 0.0, g = 0.0;
+    for (size_t x = 0; x < ws->nx; x++)
+        if (ws->r[x] > 0.0)
+            abar += ws->r[x] * ws->a[x];
+    for (size_t x = 0; x < ws->nx; x++)
+        if (ws->r[x] > 0.0 && ws->r_prev[x] > 0.0)
+            g += ws->r[x] * (ws->a[x] - abar) * (log(ws->r[x]) - log(ws->r_prev[x]));
+    return g;
+}
+
 void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out)
 {
     output_law(ws, ws->r, ws->q);
     log_output_law(ws);
     double shift;
-    ba_pass(ws, tilt, 0.0, 0.0, &shift);
+    ba_pass(ws, tilt, 0.0, 0.0, INFINITY, &shift);
     double mi = 0.0, cost = 0.0, mx = -INFINITY;
     for (size_t x = 0; x < ws->nx; x++) {
         if (ws->r[x] > 0.0) {
@@ -316,7 +355,6 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
     double mu = 1.0;          /* step size of the next step              */
     size_t streak = 0;        /* accelerated steps since the last restart */
     int from_plain_step = 1;  /* the current iterate came from a plain step */
-    double prev_lower = -INFINITY; /* lower bound of the last accepted iterate */
     double best_lower = -INFINITY, best_upper = INFINITY;
     size_t it = 0;
     int converged = 0, failed = 0;
@@ -336,7 +374,7 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         double step = accelerated ? mu : 1.0;
         double beta = accelerated && streak > 0 ? (streak - 1.0) / (streak + 2.0) : 0.0;
         double shift;
-        double wsum = ba_pass(ws, tilt, step, beta, &shift);
+        double wsum = ba_pass(ws, tilt, step, beta, accelerated ? FLOOR_NATS : INFINITY, &shift);
         it++;
         double lower, upper;
         bounds(ws, &lower, &upper);
@@ -355,9 +393,14 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             converged = 1;
             break;
         }
-        if (accelerated && !from_plain_step && lower < prev_lower) {
-            /* restart: discard this iterate, plain step from the last
-             * accepted one (plain BA never lowers the bound) */
+        if (!accelerated) {
+            take_step(ws, shift, wsum);
+            continue;
+        }
+        if (!from_plain_step &&
+            lower < best_lower - DROP_TOL * (1.0 + fabs(best_lower))) {
+            /* the bound fell: discard this iterate, plain step from the
+             * last accepted one (plain BA never lowers the bound) */
             plain_step(ws, ws->r_prev, ws->a_prev);
             output_law(ws, ws->r, ws->q);
             mu = 1.0;
@@ -365,14 +408,22 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             from_plain_step = 1;
             continue;
         }
-        if (accelerated) {
-            prev_lower = lower;
-            memcpy(ws->r_prev, ws->r, ws->nx * sizeof *ws->r);
-            memcpy(ws->a_prev, ws->a, ws->nx * sizeof *ws->a);
-            from_plain_step = step == 1.0 && beta == 0.0;
-            mu = fmin(mu * MU_GROW, MU_MAX);
-            streak++;
+        int restart = streak > 0 && ascent_along_last_step(ws) < 0.0;
+        memcpy(ws->r_prev, ws->r, ws->nx * sizeof *ws->r);
+        memcpy(ws->a_prev, ws->a, ws->nx * sizeof *ws->a);
+        if (restart) {
+            /* the last step points downhill here: drop the momentum and
+             * the step size, take a plain step from this iterate */
+            plain_step(ws, ws->r_prev, ws->a_prev);
+            output_law(ws, ws->r, ws->q);
+            mu = 1.0;
+            streak = 0;
+            from_plain_step = 1;
+            continue;
         }
+        from_plain_step = step == 1.0 && beta == 0.0;
+        mu = fmin(mu * MU_GROW, MU_MAX);
+        streak++;
         take_step(ws, shift, wsum);
     }
     /* Final law: the plain step from the law with the best lower bound;

@@ -26,17 +26,24 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_roots.h>
 
-/* The budget is met to this relative accuracy (after the final mix the
- * cost is β up to rounding; a law within COST_RTOL·β of β ends the
- * search early). */
-#define COST_RTOL 1e-9
+/* The search has two phases. A coarse one (runs stopped at a gap of
+ * COARSE_TOL nats) locates the multiplier until the cost is within
+ * COARSE_RTOL·β of the budget; a fine one (runs at half the caller's
+ * tolerance, warm-started from the coarse laws) brackets it again from
+ * FINE_STEP relative steps and ends when a law is within SEARCH_RTOL·β
+ * of the budget or the bracket is S_RTOL wide. The final mix then puts
+ * the cost at β up to rounding. */
+#define COARSE_TOL 1e-6
+#define COARSE_RTOL 1e-4
+#define COARSE_S_RTOL 1e-6
+#define FINE_STEP 1e-6
 #define SEARCH_RTOL 1e-10
-/* Multiplier bracket considered collapsed at this relative width. */
-#define S_RTOL 1e-13
+#define S_RTOL 1e-10
 #define MAX_SEARCH_STEPS 200
+#define MAX_BRACKET_STEPS 60
 /* Weight of the uniform law mixed into a warm start, so that every
  * run starts strictly positive as the method requires. */
-#define WARM_UNIFORM 1e-3
+#define WARM_UNIFORM 1e-9
 /* Tilt that drives inputs costing more than the budget below e^-800
  * when the budget equals the cheapest cost. */
 #define EXCLUDE_NATS 800.0
@@ -44,7 +51,9 @@
 typedef struct {
     qc_ba_workspace *ws;
     const qc_ba_options *opt;
-    double tol;          /* inner tolerance, nats                      */
+    double tol;          /* tolerance of the runs in this phase, nats  */
+    double target;       /* |Σ r c − β| that ends the phase            */
+    double s_rtol;       /* relative bracket width that ends the phase */
     size_t used;         /* iterations spent so far                    */
     double bound;        /* best certified upper bound on C(β), nats   */
     /* bracket: s_lo has cost above β (law ws->r_lo), s_hi at or below
@@ -187,10 +196,9 @@ static double excess_cost(double s, void *p)
 }
 
 /* Brent's method on the bracket [s_lo, s_hi] until a law meets the
- * budget to SEARCH_RTOL or the bracket collapses. */
+ * budget to se->target or the bracket is se->s_rtol wide. */
 static qc_status refine_multiplier(search *se)
 {
-    const double beta = se->opt->budget;
     gsl_root_fsolver *solver = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
     if (!solver)
         return qc_fail(QC_ENOMEM, "capacity-cost: cannot allocate the root solver");
@@ -198,8 +206,8 @@ static qc_status refine_multiplier(search *se)
     qc_status st = QC_OK;
     int rc = gsl_root_fsolver_set(solver, &fn, se->s_lo, se->s_hi);
     for (int i = 0; rc == GSL_SUCCESS && i < MAX_SEARCH_STEPS; i++) {
-        if (fabs(se->last_cost - beta) <= SEARCH_RTOL * beta ||
-            se->s_hi - se->s_lo <= S_RTOL * se->s_hi)
+        if (fabs(se->last_cost - se->opt->budget) <= se->target ||
+            se->s_hi - se->s_lo <= se->s_rtol * se->s_hi)
             break;
         rc = gsl_root_fsolver_iterate(solver);
         if (se->status != QC_OK)
@@ -212,17 +220,57 @@ static qc_status refine_multiplier(search *se)
     return st;
 }
 
-/* Law with cost exactly at or below β: the last run's law if it is
- * within SEARCH_RTOL of β and does not exceed it by more than that,
- * else the mixture of the two bracket ends. Returns the multiplier. */
+/* One phase of the multiplier search: run at s (law already in ws->r),
+ * then step away from s by relative offsets d0, 4·d0, 16·d0, ... in the
+ * direction of the budget until the cost crosses it, then Brent.
+ * Steps up stop growing at s_max, past which only rounding can keep the
+ * cost above β. */
+static qc_status locate(search *se, double s, double d0, double s_max)
+{
+    const double beta = se->opt->budget;
+    const double s0 = s;
+    double f = run_at(se, s0), d = d0;
+    int up = f > 0.0;
+    for (int k = 0; k < MAX_BRACKET_STEPS && se->status == QC_OK; k++) {
+        if (fabs(f) <= se->target || (up ? f <= 0.0 : f > 0.0))
+            break;
+        double next = up ? s0 * (1.0 + d) : s0 / (1.0 + d);
+        if (up && next > s_max)
+            next = s >= s_max ? 2.0 * s : s_max;
+        s = next;
+        d *= 4.0;
+        warm_start(se, s);
+        f = run_at(se, s);
+    }
+    if (se->status != QC_OK)
+        return QC_OK;
+    if (!se->have_hi)
+        return qc_fail(QC_ENUMERIC,
+                       "capacity-cost: no multiplier up to %.3g brings the cost "
+                       "down to the budget %.17g",
+                       s, beta);
+    if (fabs(f) <= se->target || !se->have_lo)
+        return QC_OK;
+    return refine_multiplier(se);
+}
+
+/* The final law: the last run's if its cost is within se->target of
+ * β, else the mixture of the two bracket ends with cost exactly β.
+ * Returns the multiplier it belongs to. */
 static double final_law(search *se)
 {
     qc_ba_workspace *ws = se->ws;
     const double beta = se->opt->budget;
     if (se->have_hi && se->last_s == se->s_hi &&
-        fabs(se->cost_hi - beta) <= SEARCH_RTOL * beta) {
+        fabs(se->cost_hi - beta) <= se->target) {
         memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
         return se->s_hi;
+    }
+    if (se->have_lo && se->last_s == se->s_lo &&
+        fabs(se->cost_lo - beta) <= se->target) {
+        /* a hair above β: enforce_budget moves the excess */
+        memcpy(ws->r, ws->r_lo, ws->nx * sizeof *ws->r);
+        return se->s_lo;
     }
     if (!se->have_lo) {
         memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
@@ -279,7 +327,7 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
 
     const double tol = opt->tol_bits / QC_LOG2E;
     search se = {.ws = ws, .opt = opt, .tol = 0.5 * tol, .bound = INFINITY,
-                 .status = QC_OK};
+                 .target = SEARCH_RTOL * beta, .s_rtol = S_RTOL, .status = QC_OK};
 
     /* Unconstrained capacity first: if its law meets the budget, the
      * constraint is inactive. */
@@ -328,33 +376,30 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
         run_at(&se, s_big); /* leaves its law in ws->r */
         s_final = s_big;
     } else {
-        /* Concavity of C(β) puts the multiplier below C/(β − c_min):
-         * start there and step down by 4 until the cost exceeds β. */
-        double s = fmin(o.upper / (beta - cmin), 1e300);
-        int steps = 0;
-        warm_start(&se, s);
-        double f = run_at(&se, s);
-        if (f > 0.0) {
-            /* rounding put the theoretical end below the root: go up */
-            while (f > 0.0 && se.status == QC_OK && steps++ < 60) {
-                s *= 2.0;
-                warm_start(&se, s);
-                f = run_at(&se, s);
-            }
+        /* C(β) is concave with C(c_min) ≥ 0, so the multiplier (its
+         * slope at β) is at most s_max = C/(β − c_min). First guess: the
+         * slope of the chord from (c_min, 0) to the unconstrained
+         * optimum. */
+        double s_max = fmin(o.upper / (beta - cmin), 1e300);
+        double s = fmin(o.upper / (o.cost - cmin), s_max);
+        const double fine_tol = se.tol;
+        if (fine_tol < COARSE_TOL) {
+            se.tol = COARSE_TOL;
+            se.target = COARSE_RTOL * beta;
+            se.s_rtol = COARSE_S_RTOL;
+            st = locate(&se, s, 3.0, s_max);
+            s = se.last_s;
+            /* the fine phase starts from the coarse law nearest s */
+            warm_start(&se, s);
+            se.have_lo = se.have_hi = 0;
         } else {
-            while (f < -SEARCH_RTOL * beta && se.status == QC_OK && steps++ < 60) {
-                s *= 0.25;
-                warm_start(&se, s);
-                f = run_at(&se, s);
-            }
+            warm_start(&se, s);
         }
-        if (se.status == QC_OK && !se.have_hi)
-            st = qc_fail(QC_ENUMERIC,
-                         "capacity-cost: no multiplier up to %.3g brings the "
-                         "cost down to the budget %.17g",
-                         s, beta);
-        else if (se.status == QC_OK && !(fabs(f) <= SEARCH_RTOL * beta))
-            st = refine_multiplier(&se);
+        se.tol = fine_tol;
+        se.target = SEARCH_RTOL * beta;
+        se.s_rtol = S_RTOL;
+        if (st == QC_OK && se.status == QC_OK)
+            st = locate(&se, s, fine_tol < COARSE_TOL ? FINE_STEP : 3.0, s_max);
         if (st == QC_OK && se.have_hi)
             s_final = final_law(&se);
     }

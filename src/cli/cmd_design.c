@@ -198,9 +198,13 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12.4f\n", qc_quantizer_name(r->quantizer),
                     r->rate_bits, r->unquantized_bits, r->loss_bits, r->snr_penalty_db);
         }
-        fprintf(sink->f, "\n%s\n", req->objective == QC_OBJECTIVE_CAPACITY
-                                       ? "rates: capacity, certified by the Blahut-Arimoto upper bound"
-                                       : "rates: mutual information, exact finite sums");
+        fprintf(sink->f, "\n%s%s\n",
+                req->objective == QC_OBJECTIVE_CAPACITY
+                    ? "rates: capacity, certified by the Blahut-Arimoto upper bound"
+                : req->objective == QC_OBJECTIVE_GMI
+                    ? "rates: BICM GMI with Gray labels, exact finite sums"
+                    : "rates: mutual information, exact finite sums",
+                req->dimensions == 2 ? ", per complex symbol" : "");
     }
     qc_design_comparison_clear(&cmp);
     return rc;
