@@ -22,6 +22,8 @@ struct qc_ba_workspace {
     double *r_best;      /* nx: law with the best lower bound so far    */
     double *a_best;      /* nx: its scores                              */
     double *r_prev;      /* nx: last accepted iterate (accelerated)     */
+    double *boost;       /* nx: step multiplier of inputs in the tail   */
+    double *trend;       /* nx: sign of their last score deviation      */
     double *a_prev;      /* nx: its scores                              */
     double *r_lo, *r_hi; /* nx: laws at the ends of the multiplier bracket */
     double *q;           /* ny: output law rP                           */
