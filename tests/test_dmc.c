@@ -6,6 +6,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "quantcap.h"
@@ -92,12 +93,38 @@ static void test_read_errors(void **state)
     assert_non_null(strstr(qc_last_error(), "is a directory"));
 }
 
+/* A row wider than QC_DMC_MAX_DIM: the message that prefixes the file name
+ * to the allocator's message must come out whole (it was garbled when
+ * qc_fail formatted into the buffer it was reading). */
+static void test_parse_too_wide(void **state)
+{
+    (void)state;
+    size_t n = QC_DMC_MAX_DIM + 1, len = 2 * n;
+    char *text = malloc(len + 1);
+    assert_non_null(text);
+    for (size_t i = 0; i < n; i++) {
+        text[2 * i] = '0';
+        text[2 * i + 1] = ' ';
+    }
+    text[len - 1] = '\n';
+    text[len] = '\0';
+    qc_dmc *d = (qc_dmc *)0x1;
+    assert_int_equal(qc_dmc_parse(text, len, "m.txt", &d), QC_EFORMAT);
+    assert_null(d);
+    free(text);
+    const char *want = "m.txt: channel size 1 x 16777217 exceeds the limit of "
+                       "16777216 entries per side";
+    if (strcmp(qc_last_error(), want) != 0)
+        fail_msg("message '%s', expected '%s'", qc_last_error(), want);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_parse_valid),
         cmocka_unit_test(test_parse_crlf_and_tabs),
         cmocka_unit_test(test_parse_errors),
+        cmocka_unit_test(test_parse_too_wide),
         cmocka_unit_test(test_check),
         cmocka_unit_test(test_read_errors),
     };

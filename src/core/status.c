@@ -6,6 +6,7 @@
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 #include <threads.h>
 
 #include <gsl/gsl_errno.h>
@@ -40,12 +41,18 @@ int qc_status_is_input_error(qc_status status)
            status == QC_EINFEASIBLE;
 }
 
+/* The message is formatted into a scratch buffer first: callers often
+ * prefix the previous message (qc_fail(st, "%s: %s", key, qc_last_error())),
+ * and vsnprintf into the buffer it reads from is undefined (C17 7.21.6.12:
+ * the copy may overlap) and in practice garbles the message. */
 qc_status qc_fail(qc_status status, const char *fmt, ...)
 {
+    char text[sizeof detail];
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(detail, sizeof detail, fmt, ap);
+    vsnprintf(text, sizeof text, fmt, ap);
     va_end(ap);
+    memcpy(detail, text, sizeof detail);
     return status;
 }
 

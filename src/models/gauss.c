@@ -40,6 +40,37 @@ static void gauss_support(const qc_model *m, double x, double *lo, double *hi)
     *hi = x + 8.3 * s;
 }
 
+static qc_status gauss_moments(const qc_model *m, double x, double *mean,
+                               double *var)
+{
+    *mean = x;
+    *var = m->params[P_SIGMA] * m->params[P_SIGMA];
+    return QC_OK;
+}
+
+/* SNR = E[x²]/σ² under the input law (signal power over noise power). */
+static double gauss_snr(const qc_model *m, const double *levels,
+                        const double *input, size_t n)
+{
+    double power = 0.0;
+    for (size_t i = 0; i < n; i++)
+        power += input[i] * levels[i] * levels[i];
+    double s = m->params[P_SIGMA];
+    return power / (s * s);
+}
+
+/* SNR × gain: σ → σ/√gain. */
+static qc_status gauss_scale_snr(const qc_model *m, double gain, double *out)
+{
+    double s = m->params[P_SIGMA] / sqrt(gain);
+    if (!(s > 0.0) || !isfinite(s))
+        return qc_fail(QC_EINVAL,
+                       "model 'gauss': scaling the SNR by %g makes 'sigma' %g", gain,
+                       s);
+    out[P_SIGMA] = s;
+    return QC_OK;
+}
+
 const qc_model_type qc_model_gauss = {
     .name = "gauss",
     .summary = "additive Gaussian noise y = x + n, n ~ N(0, sigma^2) (thermal/ASE)",
@@ -50,4 +81,7 @@ const qc_model_type qc_model_gauss = {
     .above = gauss_above,
     .density = gauss_density,
     .support = gauss_support,
+    .moments = gauss_moments,
+    .snr = gauss_snr,
+    .scale_snr = gauss_scale_snr,
 };

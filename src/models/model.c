@@ -4,11 +4,18 @@
 #include "core/internal.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 static const qc_model_type *const registry[] = {
     &qc_model_gauss,
+    &qc_model_gauss_sd,
+    &qc_model_poisson,
+    &qc_model_apd,
+    &qc_model_apd_gauss,
+    &qc_model_preamp,
+    &qc_model_table,
     NULL,
 };
 
@@ -105,10 +112,25 @@ qc_status qc_model_check_levels(const qc_model *model, const double *levels,
             return qc_fail(QC_EINVAL, "level %zu is not a finite number", i + 1);
         if (model->type->check_level) {
             qc_status st = model->type->check_level(model, levels[i]);
-            if (st != QC_OK)
-                return qc_fail(st, "level %zu (%g): %s", i + 1, levels[i],
-                               qc_last_error());
+            if (st != QC_OK) {
+                char why[512]; /* the detail buffer is rewritten below */
+                snprintf(why, sizeof why, "%s", qc_last_error());
+                return qc_fail(st, "level %zu (%g): %s", i + 1, levels[i], why);
+            }
         }
     }
     return QC_OK;
+}
+
+qc_status qc_model_moments(const qc_model *model, double x, double *mean,
+                           double *var)
+{
+    if (!model)
+        return qc_fail(QC_EINVAL, "no model given");
+    if (!model->type->moments)
+        return qc_fail(QC_EINVAL, "model '%s' has no moments", model->type->name);
+    qc_status st = qc_model_check_levels(model, &x, 1);
+    if (st != QC_OK)
+        return st;
+    return model->type->moments(model, x, mean, var);
 }

@@ -2,7 +2,7 @@
  * transition matrix of the quantized channel, and the mutual information
  * of the unquantized channel (adaptive Gauss–Kronrod quadrature, GSL
  * QAGS) that every quantized rate is compared with. */
-#include "core/internal.h"
+#include "quantizer/quantizer.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -84,6 +84,16 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     return QC_OK;
 }
 
+qc_status qc_discretize_into(const qc_model *model, const double *levels,
+                             size_t nlevels, const double *t, size_t n,
+                             double *lo, double *hi, qc_dmc *d)
+{
+    qc_status st = QC_OK;
+    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
+        st = discretize_row(model, levels[x], t, n, lo, hi, d->p + x * d->ny);
+    return st;
+}
+
 qc_status qc_discretize(const qc_model *model, const double *levels,
                         size_t nlevels, const double *t, size_t n, qc_dmc **out)
 {
@@ -104,8 +114,7 @@ qc_status qc_discretize(const qc_model *model, const double *levels,
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto fail;
     }
-    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = discretize_row(model, levels[x], t, n, lo, hi, d->p + x * d->ny);
+    st = qc_discretize_into(model, levels, nlevels, t, n, lo, hi, d);
     if (st != QC_OK)
         goto fail;
     free(lo);

@@ -1,0 +1,181 @@
+/* args.c — option parsing and strict number parsing for the command line.
+ * Options are "--name VALUE", "--name=VALUE" or plain "--name"; a repeated
+ * or unknown option is an error that names it (with the closest valid
+ * name suggested). */
+#include "cli.h"
+
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+
+int cli_usage_error(const char *fmt, ...)
+{
+    va_list ap;
+    fputs("quantcap: error: ", stderr);
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fputc('\n', stderr);
+    return CLI_USAGE;
+}
+
+int cli_lib_error(qc_status st)
+{
+    const char *detail = qc_last_error();
+    fprintf(stderr, "quantcap: error: %s\n", detail[0] ? detail : qc_strerror(st));
+    return qc_status_is_input_error(st) ? CLI_USAGE : CLI_NUMERIC;
+}
+
+void cli_args_init(cli_args *a, const char *command, const cli_opt *table)
+{
+    memset(a, 0, sizeof *a);
+    a->command = command;
+    for (size_t i = 0; table && table[i].name; i++)
+        cli_args_add(a, &table[i]);
+}
+
+void cli_args_add(cli_args *a, const cli_opt *opt)
+{
+    for (size_t i = 0; i < a->nopts; i++)
+        if (strcmp(a->opts[i]->name, opt->name) == 0)
+            return;
+    if (a->nopts < CLI_MAX_OPTS)
+        a->opts[a->nopts++] = opt;
+}
+
+/* Edit distance, for "did you mean" suggestions. */
+static size_t edit_distance(const char *s, const char *t)
+{
+    size_t m = strlen(s), n = strlen(t);
+    if (m > 63 || n > 63)
+        return 99;
+    size_t d[64][64];
+    for (size_t i = 0; i <= m; i++)
+        d[i][0] = i;
+    for (size_t j = 0; j <= n; j++)
+        d[0][j] = j;
+    for (size_t i = 1; i <= m; i++)
+        for (size_t j = 1; j <= n; j++) {
+            size_t sub = d[i - 1][j - 1] + (s[i - 1] != t[j - 1]);
+            size_t del = d[i - 1][j] + 1, ins = d[i][j - 1] + 1;
+            d[i][j] = sub < del ? (sub < ins ? sub : ins) : (del < ins ? del : ins);
+        }
+    return d[m][n];
+}
+
+static int find_opt(const cli_args *a, const char *name, size_t len)
+{
+    for (size_t i = 0; i < a->nopts; i++)
+        if (strlen(a->opts[i]->name) == len && strncmp(a->opts[i]->name, name, len) == 0)
+            return (int)i;
+    return -1;
+}
+
+static int unknown_option(const cli_args *a, const char *name)
+{
+    size_t best = 99, bi = 0;
+    for (size_t i = 0; i < a->nopts; i++) {
+        size_t d = edit_distance(name, a->opts[i]->name);
+        if (d < best) {
+            best = d;
+            bi = i;
+        }
+    }
+    if (best <= 3)
+        return cli_usage_error("%s: unknown option '--%s' (did you mean '--%s'?)",
+                               a->command, name, a->opts[bi]->name);
+    return cli_usage_error("%s: unknown option '--%s' (see 'quantcap %s --help')",
+                           a->command, name, a->command);
+}
+
+int cli_parse(cli_args *a, int argc, char **argv, size_t max_positional)
+{
+    for (int i = 0; i < argc; i++) {
+        const char *arg = argv[i];
+        if (strcmp(arg, "--help") == 0 || strcmp(arg, "-h") == 0)
+            return CLI_HELP;
+        if (strncmp(arg, "--", 2) != 0 || arg[2] == '\0') {
+            if (a->npositional >= max_positional || a->npositional >= CLI_MAX_POSITIONAL)
+                return cli_usage_error("%s: unexpected argument '%s'", a->command, arg);
+            a->positional[a->npositional++] = arg;
+            continue;
+        }
+        const char *name = arg + 2;
+        const char *eq = strchr(name, '=');
+        size_t len = eq ? (size_t)(eq - name) : strlen(name);
+        int k = find_opt(a, name, len);
+        if (k < 0) {
+            char buf[64];
+            snprintf(buf, sizeof buf, "%.*s", (int)(len < 60 ? len : 60), name);
+            return unknown_option(a, buf);
+        }
+        if (a->values[k])
+            return cli_usage_error("%s: option '--%s' given more than once", a->command,
+                                   a->opts[k]->name);
+        if (a->opts[k]->metavar) {
+            if (eq)
+                a->values[k] = eq + 1;
+            else if (i + 1 < argc)
+                a->values[k] = argv[++i];
+            else
+                return cli_usage_error("%s: option '--%s' needs a value (%s)", a->command,
+                                       a->opts[k]->name, a->opts[k]->metavar);
+        } else {
+            if (eq)
+                return cli_usage_error("%s: option '--%s' takes no value", a->command,
+                                       a->opts[k]->name);
+            a->values[k] = "";
+        }
+    }
+    return CLI_OK;
+}
+
+const char *cli_get(const cli_args *a, const char *name)
+{
+    int k = find_opt(a, name, strlen(name));
+    return k < 0 ? NULL : a->values[k];
+}
+
+int cli_has(const cli_args *a, const char *name) { return cli_get(a, name) != NULL; }
+
+void cli_print_options(const cli_args *a, FILE *out)
+{
+    for (size_t i = 0; i < a->nopts; i++) {
+        char head[80];
+        if (a->opts[i]->metavar)
+            snprintf(head, sizeof head, "--%s %s", a->opts[i]->name, a->opts[i]->metavar);
+        else
+            snprintf(head, sizeof head, "--%s", a->opts[i]->name);
+        fprintf(out, "  %-26s %s\n", head, a->opts[i]->help);
+    }
+    fprintf(out, "  %-26s %s\n", "--help", "show this help");
+}
+
+int cli_double(const char *flag, const char *text, double *out)
+{
+    if (qc_parse_double(text, out) != QC_OK)
+        return cli_usage_error("--%s: %s", flag, qc_last_error());
+    return CLI_OK;
+}
+
+int cli_size(const char *flag, const char *text, size_t lo, size_t hi, size_t *out)
+{
+    if (qc_parse_size(text, lo, hi, out) != QC_OK)
+        return cli_usage_error("--%s: %s", flag, qc_last_error());
+    return CLI_OK;
+}
+
+int cli_double_list(const char *flag, const char *text, double **out, size_t *n)
+{
+    if (qc_parse_list(text, out, n) != QC_OK)
+        return cli_usage_error("--%s: %s", flag, qc_last_error());
+    return CLI_OK;
+}
+
+unsigned cli_bits_of_cells(size_t cells)
+{
+    unsigned b = 0;
+    while (((size_t)1 << b) < cells && b < 63)
+        b++;
+    return ((size_t)1 << b) == cells ? b : 0;
+}

@@ -1,0 +1,98 @@
+/* cli.h — shared pieces of the quantcap command line: option parsing,
+ * number parsing, output sinks and error reporting. The command line uses
+ * only the public header quantcap.h. */
+#ifndef QC_CLI_H
+#define QC_CLI_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include <jansson.h>
+
+#include "quantcap.h"
+
+/* Exit codes. */
+enum { CLI_OK = 0, CLI_NUMERIC = 1, CLI_USAGE = 2, CLI_HELP = 100 };
+
+#define CLI_MAX_OPTS 96
+#define CLI_MAX_POSITIONAL 4
+
+/* One option: a flag "--name" with a value (metavar != NULL) or without. */
+typedef struct {
+    const char *name;
+    const char *metavar;
+    const char *help;
+} cli_opt;
+
+typedef struct {
+    const char *command;
+    const cli_opt *opts[CLI_MAX_OPTS];
+    size_t nopts;
+    const char *values[CLI_MAX_OPTS]; /* value, or "" for a plain flag */
+    const char *positional[CLI_MAX_POSITIONAL];
+    size_t npositional;
+} cli_args;
+
+/* Set up an argument set for `command` with a NULL-name-terminated table. */
+void cli_args_init(cli_args *a, const char *command, const cli_opt *table);
+/* Add more options (e.g. model parameters); duplicates by name skipped. */
+void cli_args_add(cli_args *a, const cli_opt *opt);
+/* Parse argv (after the command name). Returns CLI_OK, CLI_HELP (the
+ * caller prints help) or CLI_USAGE (message already printed). */
+int cli_parse(cli_args *a, int argc, char **argv, size_t max_positional);
+/* Value of an option, NULL if absent ("" for a given plain flag). */
+const char *cli_get(const cli_args *a, const char *name);
+int cli_has(const cli_args *a, const char *name);
+/* Print the option table of `a` to `out`. */
+void cli_print_options(const cli_args *a, FILE *out);
+
+/* Error reporting: print "quantcap: error: ..." and return CLI_USAGE. */
+int cli_usage_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+/* Report a library failure; returns the exit code for the status. */
+int cli_lib_error(qc_status st);
+
+/* Strict number parsing of the value of flag `flag`; 0 on success, else
+ * prints an error naming the flag and returns CLI_USAGE. */
+int cli_double(const char *flag, const char *text, double *out);
+int cli_size(const char *flag, const char *text, size_t lo, size_t hi,
+             size_t *out);
+/* Comma-separated list of finite numbers; *out malloc'd. */
+int cli_double_list(const char *flag, const char *text, double **out,
+                    size_t *n);
+
+/* Output sink: stdout, or a file written to a temporary name and renamed
+ * into place only when everything succeeded (nothing partial is left). */
+typedef struct {
+    FILE *f;
+    char *path, *tmp;
+} cli_sink;
+int cli_sink_open(cli_sink *s, const char *path /* NULL: stdout */);
+/* Finish: ok != 0 commits (rename), else discards. Returns CLI_OK or an
+ * error code. */
+int cli_sink_close(cli_sink *s, int ok);
+
+/* Dump JSON with round-trip precision, then a newline. */
+int cli_json_print(cli_sink *s, json_t *root);
+/* A JSON number that is null when not finite. */
+json_t *cli_json_real(double v);
+json_t *cli_json_array(const double *v, size_t n);
+
+/* Bits needed for K cells, or 0 if K is not a power of two. */
+unsigned cli_bits_of_cells(size_t cells);
+
+/* Model flags (model_args.c). */
+void cli_add_model_options(cli_args *a);
+int cli_model_type(const cli_args *a, const qc_model_type **type);
+/* Parameters given on the command line for `type` (NaN where absent);
+ * a flag belonging only to other models is an error. */
+int cli_model_params(const cli_args *a, const qc_model_type *type, double *params);
+int cli_build_model(const qc_model_type *type, const double *params, qc_model **out);
+
+/* Subcommands. */
+int cmd_capacity(int argc, char **argv);
+int cmd_channel(int argc, char **argv);
+int cmd_design(int argc, char **argv);
+int cmd_models(int argc, char **argv);
+int cmd_sweep(int argc, char **argv);
+
+#endif

@@ -1,0 +1,281 @@
+/* cmd_design.c — `quantcap design`: choose the thresholds of a K-cell
+ * quantizer for a noise model and an alphabet, and report the rate that
+ * survives the quantizer next to the unquantized rate. */
+#include "cli.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+static const cli_opt output_options[] = {
+    {"compare", NULL, "run every threshold strategy on the same channel, side by side"},
+    {"json", NULL, "machine-readable JSON output"},
+    {"output", "FILE", "write the result to FILE (complete or not at all)"},
+    {NULL, NULL, NULL},
+};
+
+#define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
+
+/* The design keys become flags; the table lives as long as the program. */
+static cli_opt key_options[64];
+
+static void add_design_options(cli_args *a)
+{
+    size_t n;
+    const qc_setting_info *info = qc_setting_keys(&n);
+    for (size_t i = 0; i < n && i < 64; i++) {
+        key_options[i] = (cli_opt){info[i].key, info[i].metavar, info[i].help};
+        cli_args_add(a, &key_options[i]);
+    }
+    cli_add_model_options(a);
+}
+
+static void help(const cli_args *a)
+{
+    printf("usage: quantcap design --model NAME [model parameters | --snr-db X]\n"
+           "                       (--levels L1,...,Ln | --alphabet SPEC |\n"
+           "                        --level-grid LO,HI,N) (--bits B | --cells K)\n"
+           "                       [--objective mi|capacity|gmi] [--quantizer NAME]\n"
+           "                       [--peak A] [--power P] [--mean M] [--optimize-levels]\n"
+           "                       [--blocklength N --error-rate E]\n"
+           "                       [--compare] [--json] [--output FILE]\n\n"
+           "Places the thresholds of a K-cell quantizer after the receiver and reports\n"
+           "the information rate that survives it, the unquantized rate for the same\n"
+           "levels and input law, and the loss. --objective mi rates the uniform (or\n"
+           "given) input law; --objective capacity also optimizes the input law with\n"
+           "the Blahut-Arimoto engine and reports its certified upper bound;\n"
+           "--objective gmi rates bit-interleaved coded modulation (BICM) with Gray\n"
+           "labels (thresholds designed for the MI of the law).\n"
+           "--snr-db sets sigma from E[x^2]/sigma^2 with E[x^2] taken under the input\n"
+           "law being evaluated (the given law, else uniform over the levels), or equal\n"
+           "to the --power budget when one is given. For qam:M it is Es/N0.\n"
+           "The SNR penalty is the operating SNR minus the SNR at which the\n"
+           "unquantized receiver reaches the same rate.\n\n"
+           "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
+           "upam:2), qam:M (square QAM: sqrt(M)-PAM on each quadrature, the same\n"
+           "thresholds on both, rates per complex symbol), --levels, or --level-grid\n"
+           "LO,HI,N: N candidate levels on which --objective capacity finds the best\n"
+           "discrete input by itself (mass points with probability > 1e-6 are listed).\n"
+           "constraints: --peak A (|x| <= A; 0 <= x <= A for intensity; a level grid\n"
+           "drops the candidates outside), --power P (E[x^2] <= P; QAM: E|x|^2),\n"
+           "--mean M (E[x] <= M, the average optical power of intensity levels).\n"
+           "--optimize-levels moves the levels within the constraints to maximize the\n"
+           "objective, re-designing the thresholds at each step (Nelder-Mead).\n"
+           "Also reported: GMI with Gray labels, the dispersion V (bit^2), the normal\n"
+           "approximation C - sqrt(V/n) Q^-1(e) + log2(n)/(2n) with --blocklength and\n"
+           "--error-rate, and for model gauss the gap in dB to 1/2 log2(1 + snr).\n"
+           "Details: docs/alphabets.md.\n\n"
+           "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
+           "grid then gradient refinement), uniform (clipping range optimized),\n"
+           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
+           "options:\n");
+    cli_print_options(a, stdout);
+}
+
+/* GMI, dispersion, blocklength rate, shaping gap (docs/alphabets.md). */
+static void print_practical_rates(FILE *f, const qc_design_result *r)
+{
+    const char *unit = r->dimensions == 2 ? "bit/symbol" : "bit/use";
+    if (r->dimensions == 2)
+        fprintf(f, "QAM          rates per complex symbol: two quadratures with these "
+                   "levels and thresholds\n");
+    if (isfinite(r->gmi_bits))
+        fprintf(f, "GMI          %.9f %s   BICM, Gray labels; MI of the law %.9f\n",
+                r->gmi_bits, unit, r->mi_bits);
+    fprintf(f, "dispersion   %.6g bit^2", r->dispersion_bits2);
+    if (r->blocklength)
+        fprintf(f, "   rate at n = %zu, error %.3g: %.9f %s (normal approximation)",
+                r->blocklength, r->error_rate, r->rate_at_blocklength_bits, unit);
+    fputc('\n', f);
+    if (isfinite(r->shaping_gap_db))
+        fprintf(f, "shaping gap  %.4f dB from 1/2 log2(1 + snr) at the same rate per "
+                   "dimension\n",
+                r->shaping_gap_db);
+    if (r->levels_optimized)
+        fprintf(f, "levels       optimized (%zu designs evaluated)\n", r->level_evaluations);
+}
+
+static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
+{
+    int counts = req->model->type->output == QC_OUTPUT_COUNTS;
+    fprintf(f, "rate         %.9f bit/use", r->rate_bits);
+    if (req->objective == QC_OBJECTIVE_CAPACITY)
+        fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f (tol %.2g bit)\n",
+                r->upper_bound_bits, r->tol_bits);
+    else
+        fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
+                r->channel->ny);
+    fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n", r->unquantized_bits,
+            counts ? "sum over every count (ideal photon-number resolution)"
+                   : "adaptive quadrature",
+            r->unquantized_err_bits);
+    fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
+    if (isfinite(r->snr_db))
+        fprintf(f, "SNR          %.3f dB operating; penalty %s%.4f dB against the unquantized "
+                   "receiver\n",
+                r->snr_db, isfinite(r->snr_penalty_db) ? "" : "(undefined) ",
+                isfinite(r->snr_penalty_db) ? r->snr_penalty_db : 0.0);
+    print_practical_rates(f, r);
+}
+
+static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
+                         const qc_design_result *r, unsigned bits)
+{
+    const qc_model_type *type = m->type;
+    fprintf(f, "model        %s:", type->name);
+    for (size_t i = 0; i < type->nparams; i++)
+        fprintf(f, " %s = %.6g%s%s", type->params[i].name, m->params[i],
+                type->params[i].unit[0] ? " " : "", type->params[i].unit);
+    fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
+    if (bits)
+        fprintf(f, " (%u bit%s)", bits, bits == 1 ? "" : "s");
+    if (r->fine_cells)
+        fprintf(f, ", fine grid %zu cells", r->fine_cells);
+    fprintf(f, "\nobjective    %s\n\n",
+            req->objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            : req->objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
+                                                    : "mutual information, given input law");
+    print_rates(f, req, r);
+    if (r->reconstruction)
+        fprintf(f, "mean-square  %.6g (Lloyd-Max)\n", r->mse);
+    fprintf(f, "\nthresholds  ");
+    for (size_t j = 0; j < r->nthresholds; j++)
+        fprintf(f, "%s%.6g", j ? ", " : " ", r->thresholds[j]);
+    /* long level grids: only the mass points */
+    int mass_only = r->nlevels > MAX_LEVELS_LISTED;
+    fprintf(f, "\n\n       level   probability%s\n",
+            mass_only ? "   (mass points: probability > 1e-6)" : "");
+    for (size_t x = 0; x < r->nlevels; x++)
+        if (!mass_only || r->input[x] > 1e-6)
+            fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
+}
+
+/* `--compare`: every strategy on the same channel. */
+static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
+{
+    qc_design_comparison cmp;
+    memset(&cmp, 0, sizeof cmp);
+    qc_status st = qc_design_compare(req, &cmp);
+    if (st != QC_OK && cmp.count == 0)
+        return cli_lib_error(st);
+    int rc = CLI_OK;
+    if (json) {
+        fputs("[\n", sink->f);
+        for (size_t i = 0; i < cmp.count && rc == CLI_OK; i++) {
+            if (cmp.status[i] != QC_OK) {
+                json_t *o = json_object();
+                json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(cmp.kind[i])));
+                json_object_set_new(o, "error", json_string(cmp.message[i]));
+                char *t = json_dumps(o, JSON_INDENT(2) | JSON_PRESERVE_ORDER);
+                json_decref(o);
+                fputs(t ? t : "null", sink->f);
+                free(t);
+            } else {
+                char *t = NULL;
+                if ((st = qc_design_report_json(req, &cmp.result[i], &t)) != QC_OK)
+                    rc = cli_lib_error(st);
+                else
+                    fputs(t, sink->f);
+                free(t);
+            }
+            fputs(i + 1 < cmp.count ? ",\n" : "\n", sink->f);
+        }
+        fputs("]\n", sink->f);
+    } else {
+        fprintf(sink->f, "%-10s %14s %14s %12s %12s\n", "quantizer", "rate bit/use",
+                "unquantized", "loss bit", "penalty dB");
+        for (size_t i = 0; i < cmp.count; i++) {
+            if (cmp.status[i] != QC_OK) {
+                fprintf(sink->f, "%-10s failed: %s\n", qc_quantizer_name(cmp.kind[i]),
+                        cmp.message[i]);
+                continue;
+            }
+            const qc_design_result *r = &cmp.result[i];
+            fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12.4f\n", qc_quantizer_name(r->quantizer),
+                    r->rate_bits, r->unquantized_bits, r->loss_bits, r->snr_penalty_db);
+        }
+        fprintf(sink->f, "\n%s\n", req->objective == QC_OBJECTIVE_CAPACITY
+                                       ? "rates: capacity, certified by the Blahut-Arimoto upper bound"
+                                       : "rates: mutual information, exact finite sums");
+    }
+    qc_design_comparison_clear(&cmp);
+    return rc;
+}
+
+int cmd_design(int argc, char **argv)
+{
+    cli_args a;
+    cli_args_init(&a, "design", output_options);
+    add_design_options(&a);
+    int rc = cli_parse(&a, argc, argv, 0);
+    if (rc == CLI_HELP) {
+        help(&a);
+        return CLI_OK;
+    }
+    if (rc)
+        return rc;
+
+    qc_settings *set = NULL;
+    qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_result res;
+    memset(&res, 0, sizeof res);
+    cli_sink sink;
+    int sink_open = 0;
+    qc_status st = qc_settings_alloc(&set);
+    if (st != QC_OK)
+        return cli_lib_error(st);
+    for (size_t k = 0; k < a.nopts; k++) {
+        const char *key = a.opts[k]->name;
+        if (!a.values[k] || !qc_setting_known(key))
+            continue;
+        /* a switch given as a flag is on */
+        const char *value = a.opts[k]->metavar ? a.values[k] : "true";
+        if ((st = qc_settings_set(set, key, value)) != QC_OK) {
+            rc = cli_usage_error("--%s: %s", key, qc_last_error());
+            goto done;
+        }
+    }
+    if ((st = qc_settings_build(set, &m, &req)) != QC_OK) {
+        rc = cli_usage_error("design: %s", qc_last_error());
+        if (!qc_status_is_input_error(st))
+            rc = CLI_NUMERIC;
+        goto done;
+    }
+    if (cli_has(&a, "compare")) {
+        if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
+            goto done;
+        sink_open = 1;
+        rc = run_compare(&sink, cli_has(&a, "json"), &req);
+        goto done;
+    }
+    if ((st = qc_design(&req, &res)) != QC_OK) {
+        rc = cli_lib_error(st);
+        goto done;
+    }
+    unsigned bits = cli_bits_of_cells(req.cells);
+    if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
+        goto done;
+    sink_open = 1;
+    if (cli_has(&a, "json")) {
+        char *text = NULL;
+        if ((st = qc_design_report_json(&req, &res, &text)) != QC_OK) {
+            rc = cli_lib_error(st);
+        } else {
+            fputs(text, sink.f);
+            fputc('\n', sink.f);
+        }
+        free(text);
+    } else
+        design_table(sink.f, m, &req, &res, bits);
+done:
+    if (sink_open) {
+        int rc2 = cli_sink_close(&sink, rc == CLI_OK);
+        if (rc == CLI_OK)
+            rc = rc2;
+    }
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+    qc_settings_free(set);
+    return rc;
+}

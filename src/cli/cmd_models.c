@@ -1,0 +1,87 @@
+/* cmd_models.c — `quantcap models`: the noise models with their
+ * parameters and units. */
+#include "cli.h"
+
+#include <math.h>
+#include <string.h>
+
+static const cli_opt options[] = {
+    {"json", NULL, "JSON output"},
+    {NULL, NULL, NULL},
+};
+
+int cmd_models(int argc, char **argv)
+{
+    cli_args a;
+    cli_args_init(&a, "models", options);
+    int rc = cli_parse(&a, argc, argv, 1);
+    if (rc == CLI_HELP) {
+        printf("usage: quantcap models [NAME] [--json]\n\n"
+               "Lists the noise models, one line each; with NAME, that model's\n"
+               "parameters, units, defaults and allowed ranges.\n\noptions:\n");
+        cli_print_options(&a, stdout);
+        return CLI_OK;
+    }
+    if (rc)
+        return rc;
+    const qc_model_type *const *types = qc_model_types();
+    const char *only = a.npositional ? a.positional[0] : NULL;
+    if (only && !qc_model_type_find(only))
+        return cli_usage_error("models: unknown model '%s'", only);
+    if (cli_has(&a, "json")) {
+        json_t *arr = json_array();
+        for (size_t t = 0; types[t]; t++) {
+            if (only && strcmp(only, types[t]->name) != 0)
+                continue;
+            json_t *o = json_object();
+            json_object_set_new(o, "name", json_string(types[t]->name));
+            json_object_set_new(o, "summary", json_string(types[t]->summary));
+            json_object_set_new(o, "output", json_string(types[t]->output == QC_OUTPUT_COUNTS ? "counts" : "real"));
+            json_t *ps = json_array();
+            for (size_t i = 0; i < types[t]->nparams; i++) {
+                const qc_param_spec *p = &types[t]->params[i];
+                json_t *pj = json_object();
+                json_object_set_new(pj, "name", json_string(p->name));
+                json_object_set_new(pj, "unit", json_string(p->unit));
+                json_object_set_new(pj, "help", json_string(p->help));
+                json_object_set_new(pj, "default", cli_json_real(p->default_value));
+                json_object_set_new(pj, "min", cli_json_real(p->min));
+                json_object_set_new(pj, "max", cli_json_real(p->max));
+                json_array_append_new(ps, pj);
+            }
+            json_object_set_new(o, "parameters", ps);
+            json_array_append_new(arr, o);
+        }
+        cli_sink s;
+        cli_sink_open(&s, NULL);
+        rc = cli_json_print(&s, arr);
+        int rc2 = cli_sink_close(&s, rc == CLI_OK);
+        return rc ? rc : rc2;
+    }
+    for (size_t t = 0; types[t]; t++) {
+        if (only && strcmp(only, types[t]->name) != 0)
+            continue;
+        printf("%-10s %s\n", types[t]->name, types[t]->summary);
+        if (!only)
+            continue;
+        printf("\noutput: %s\nparameters:\n",
+               types[t]->output == QC_OUTPUT_COUNTS ? "integer photon counts" : "real");
+        for (size_t i = 0; i < types[t]->nparams; i++) {
+            const qc_param_spec *p = &types[t]->params[i];
+            char range[96];
+            snprintf(range, sizeof range, "%s %g%s%s", p->min_exclusive ? ">" : ">=", p->min,
+                     isfinite(p->max) ? ", <= " : "", "");
+            if (isfinite(p->max)) {
+                size_t l = strlen(range);
+                snprintf(range + l, sizeof range - l, "%g", p->max);
+            }
+            printf("  --%-16s %s%s%s%s; %s", p->name, p->help, p->unit[0] ? " [" : "", p->unit,
+                   p->unit[0] ? "]" : "", range);
+            if (isnan(p->default_value))
+                printf("; required\n");
+            else
+                printf("; default %g\n", p->default_value);
+        }
+    }
+    return CLI_OK;
+}

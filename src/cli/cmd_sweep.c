@@ -1,0 +1,209 @@
+/* cmd_sweep.c — `quantcap sweep SCENARIO`: run a scenario's grid of
+ * designs in parallel, resumable, and write the table, the JSON and the
+ * plots into one folder. A progress bar goes to stderr when it is a
+ * terminal. */
+#include "cli.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#define MAX_SETS 64
+
+static const cli_opt sweep_options[] = {
+    {"out", "DIR", "folder for the results (default out/NAME, NAME = the file's stem)"},
+    {"jobs", "N", "parallel threads (default: one per core)"},
+    {"resume", NULL, "continue the checkpoint in DIR, skipping finished points"},
+    {"set", "KEY=VALUE", "override a scenario key (repeatable; SECTION.KEY=VALUE too)"},
+    {"no-plots", NULL, "write the tables only"},
+    {"quiet", NULL, "no progress bar"},
+    {NULL, NULL, NULL},
+};
+
+static void help(const cli_args *a)
+{
+    printf("usage: quantcap sweep SCENARIO [--out DIR] [--jobs N] [--resume]\n"
+           "                      [--set KEY=VALUE ...] [--no-plots]\n\n"
+           "Runs every point of the scenario's grid (alphabets x sweep axes), each exactly\n"
+           "as 'quantcap design' would with the point's settings, in parallel. Finished\n"
+           "points go to DIR/checkpoint.jsonl as they complete: a sweep that was stopped\n"
+           "continues with --resume. At the end DIR holds results.csv (one row per\n"
+           "point), results.json and the plots the scenario asks for.\n"
+           "A point whose design fails (infeasible, no convergence) is recorded with its\n"
+           "message; an error in the scenario itself stops the sweep, naming the point.\n"
+           "Exit status: 0 done (some points may have failed: see the warning), 1 every\n"
+           "point failed, 2 an error in the scenario or the options. Formats:\n"
+           "docs/formats.md.\n\n"
+           "options:\n");
+    cli_print_options(a, stdout);
+}
+
+typedef struct {
+    int tty;
+    struct timespec start, last;
+    size_t first_done; /* points done when the run started (resumed) */
+    int drawn;
+} progress_state;
+
+static double seconds_between(const struct timespec *a, const struct timespec *b)
+{
+    return (double)(b->tv_sec - a->tv_sec) + 1e-9 * (double)(b->tv_nsec - a->tv_nsec);
+}
+
+static void progress(void *user, size_t done, size_t total)
+{
+    progress_state *p = user;
+    struct timespec now;
+    clock_gettime(CLOCK_MONOTONIC, &now);
+    if (!p->drawn) {
+        p->start = now;
+        p->first_done = done;
+    } else if (done < total && seconds_between(&p->last, &now) < 0.1) {
+        return;
+    }
+    p->last = now;
+    p->drawn = 1;
+    if (!p->tty)
+        return;
+    double elapsed = seconds_between(&p->start, &now);
+    double rate = elapsed > 0 ? (double)(done - p->first_done) / elapsed : 0.0;
+    char left[32] = "--:--";
+    if (rate > 0) {
+        long s = lround((double)(total - done) / rate);
+        snprintf(left, sizeof left, "%ld:%02ld", s / 60, s % 60);
+    }
+    const int width = 30;
+    int filled = total ? (int)((double)width * (double)done / (double)total) : width;
+    char bar[64];
+    for (int i = 0; i < width; i++)
+        bar[i] = i < filled ? '#' : '.';
+    bar[width] = '\0';
+    fprintf(stderr, "\r[%s] %zu/%zu points  %.1f/s  %s left ", bar, done, total, rate, left);
+    if (done == total)
+        fputc('\n', stderr);
+    fflush(stderr);
+}
+
+/* Default output folder: out/STEM for SCENARIO = .../STEM.ini */
+static void default_out(const char *scenario, char *out, size_t cap)
+{
+    const char *base = strrchr(scenario, '/');
+    base = base ? base + 1 : scenario;
+    size_t n = strlen(base);
+    const char *dot = strrchr(base, '.');
+    if (dot && dot != base)
+        n = (size_t)(dot - base);
+    snprintf(out, cap, "out/%.*s", (int)n, base);
+}
+
+int cmd_sweep(int argc, char **argv)
+{
+    /* --set may repeat: take those out before the usual parsing */
+    const char *sets[MAX_SETS];
+    size_t nsets = 0;
+    char **rest = malloc((size_t)(argc + 1) * sizeof *rest);
+    if (!rest)
+        return cli_usage_error("out of memory");
+    int nrest = 0;
+    for (int i = 0; i < argc; i++) {
+        const char *v = NULL;
+        if (strcmp(argv[i], "--set") == 0) {
+            if (i + 1 >= argc) {
+                free(rest);
+                return cli_usage_error("sweep: option '--set' needs a value (KEY=VALUE)");
+            }
+            v = argv[++i];
+        } else if (strncmp(argv[i], "--set=", 6) == 0) {
+            v = argv[i] + 6;
+        }
+        if (v) {
+            if (nsets == MAX_SETS) {
+                free(rest);
+                return cli_usage_error("sweep: more than %d --set options", MAX_SETS);
+            }
+            sets[nsets++] = v;
+        } else {
+            rest[nrest++] = argv[i];
+        }
+    }
+    cli_args a;
+    cli_args_init(&a, "sweep", sweep_options);
+    int rc = cli_parse(&a, nrest, rest, 1);
+    if (rc == CLI_HELP) {
+        help(&a);
+        free(rest);
+        return CLI_OK;
+    }
+    if (rc) {
+        free(rest);
+        return rc;
+    }
+    if (a.npositional != 1) {
+        free(rest);
+        return cli_usage_error("sweep: expected one SCENARIO file (see 'quantcap sweep --help')");
+    }
+    const char *file = a.positional[0];
+    size_t jobs = 0;
+    if (cli_has(&a, "jobs") && (rc = cli_size("jobs", cli_get(&a, "jobs"), 1, 1024, &jobs))) {
+        free(rest);
+        return rc;
+    }
+    char out[4096];
+    if (cli_has(&a, "out"))
+        snprintf(out, sizeof out, "%s", cli_get(&a, "out"));
+    else
+        default_out(file, out, sizeof out);
+
+    qc_scenario *sc = NULL;
+    qc_sweep_summary sum;
+    memset(&sum, 0, sizeof sum);
+    qc_status st = qc_scenario_read(file, &sc);
+    if (st != QC_OK) {
+        rc = cli_lib_error(st);
+        goto done;
+    }
+    for (size_t i = 0; i < nsets; i++)
+        if ((st = qc_scenario_override(sc, sets[i])) != QC_OK) {
+            rc = cli_lib_error(st);
+            goto done;
+        }
+    progress_state ps = {.tty = isatty(STDERR_FILENO) && !cli_has(&a, "quiet")};
+    qc_sweep_options opt;
+    qc_sweep_options_default(&opt);
+    opt.out_dir = out;
+    opt.jobs = (unsigned)jobs;
+    opt.resume = cli_has(&a, "resume");
+    opt.plots = !cli_has(&a, "no-plots");
+    opt.progress = progress;
+    opt.user = &ps;
+    struct timespec t0, t1;
+    clock_gettime(CLOCK_MONOTONIC, &t0);
+    st = qc_sweep_run(sc, &opt, &sum);
+    clock_gettime(CLOCK_MONOTONIC, &t1);
+    if (ps.tty && ps.drawn && sum.resumed + sum.computed < sum.points)
+        fputc('\n', stderr);
+    if (st != QC_OK) {
+        rc = cli_lib_error(st);
+        goto done;
+    }
+    printf("sweep: %zu points (%zu resumed, %zu computed, %zu failed) in %.1f s\n", sum.points,
+           sum.resumed, sum.computed, sum.failed, seconds_between(&t0, &t1));
+    for (size_t i = 0; i < sum.nfiles; i++)
+        printf("wrote %s\n", sum.files[i]);
+    if (sum.plots_skipped)
+        printf("plots skipped: this build of quantcap has no PLplot\n");
+    if (sum.failed) {
+        fprintf(stderr, "quantcap: warning: %zu of %zu points failed (see the status column); "
+                        "first: %s\n",
+                sum.failed, sum.points, sum.first_failure);
+        if (sum.failed == sum.points)
+            rc = CLI_NUMERIC;
+    }
+done:
+    qc_sweep_summary_clear(&sum);
+    qc_scenario_free(sc);
+    free(rest);
+    return rc;
+}

@@ -1,0 +1,656 @@
+/* apd.c — avalanche photodiode receiver, exact law. In a slot the
+ * detector emits N ~ Poisson(λ) primary electrons, λ = signal·x +
+ * background; each is multiplied independently by the McIntyre gain G
+ * (apd_gain.c), and Gaussian thermal noise of σ_th electrons is added:
+ *   Y = Σ_{i≤N} G_i + T,   φ_Y(ω) = exp(λ(φ_G(ω) − 1)) · exp(−σ_th²ω²/2).
+ * The compound Poisson law of Z = Σ G_i is computed from its
+ * characteristic function on an FFT grid (the DFT method for compound
+ * distributions: Panjer & Willmot, Insurance Risk Models, 1992;
+ * Embrechts & Frei, Math. Meth. Oper. Res. 69, 2009), with the grid long
+ * enough (Chernoff bound) that the mass wrapped around is below 1e-18.
+ * The thermal noise
+ * is then added exactly:
+ *  - lattice regime (σ_th < 8h, h the grid step): P(Y < t) =
+ *    Σ_j p_j Φ((t − jh)/σ_th) summed directly, cut by a bound on the rest;
+ *  - smooth regime (σ_th ≥ 8h): the cell masses P((i−1)h ≤ Y < ih), the
+ *    density and its derivative on the grid are linear convolutions of p
+ *    with sampled Gaussian kernels (same FFT); the CDF between grid points
+ *    is a quintic Hermite interpolant of log F (resp. log Q), which is
+ *    exact for a Gaussian tail and kept inside the bracketing grid values.
+ * FFT plans (FFTW), gain and kernel spectra are made once per grid
+ * length and reused for every level; each level's grid values are cached
+ * in the instance (one thread at a time). Grid step h = 1 electron unless
+ * the law needs more than 2^21 points: then h doubles and the gain law is
+ * split between neighbouring grid points preserving its mean (variance
+ * error ≤ λh²/4). Accuracy: absolute ~1e-15 (FFT rounding); below that
+ * the tails are not resolved. */
+#include "core/internal.h"
+#include "models/apd_gain.h"
+#include "models/convolve.h"
+
+#include <complex.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#define SQRT_2PI 2.5066282746310002 /* √(2π) */
+
+#include <gsl/gsl_cdf.h>
+
+#define MAX_GRID ((size_t)1 << 21) /* longest transform                  */
+#define MIN_GRID ((size_t)64)
+#define SMOOTH_RATIO 8.0           /* σ_th ≥ 8h: interpolate grid values  */
+#define KERNEL_SD 9.5              /* kernel half-width in σ_th           */
+#define REST_TOL 1e-17             /* direct sums: rest ≤ REST_TOL · sum  */
+#define NGRIDS 6
+#define NSLOTS 32
+#define CACHE_BYTES ((size_t)512 << 20)
+
+typedef struct {
+    double h;      /* grid step, electrons (0: unused entry) */
+    size_t len;    /* transform length                       */
+    int smooth;
+    qc_conv *conv;
+    double complex *gspec;   /* spectrum of the gain law on this grid */
+    double complex *kspec[3]; /* cell-mass, density, slope kernels     */
+    double complex *work;
+    double *real;
+    unsigned long stamp;
+} grid;
+
+typedef struct {
+    double x; /* level (NaN: empty slot) */
+    double h;
+    int smooth;
+    long n;  /* lattice: p[0..n) on z = jh; smooth: n grid values */
+    long w;  /* smooth: array index a ↔ y = (a − w)·h            */
+    double ztop; /* largest z kept                                */
+    double *p, *cl, *cr; /* lattice: pmf, Σ_{i≤j}, Σ_{i≥j}         */
+    double *F, *Q, *f, *df; /* smooth: P(Y<y), P(Y≥y), f, f'       */
+    size_t bytes;
+    unsigned long stamp;
+} level;
+
+typedef struct {
+    double params[APD_NPARAMS];
+    double *gain;
+    size_t gain_len;
+    grid grids[NGRIDS];
+    level slots[NSLOTS];
+    unsigned long clock;
+    size_t bytes;
+    qc_apd_stats stats;
+} apd_state;
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static void grid_clear(grid *g)
+{
+    qc_conv_free(g->conv);
+    free(g->gspec);
+    for (int k = 0; k < 3; k++)
+        free(g->kspec[k]);
+    free(g->work);
+    free(g->real);
+    memset(g, 0, sizeof *g);
+}
+
+static void level_clear(apd_state *s, level *lv)
+{
+    free(lv->p);
+    free(lv->cl);
+    free(lv->cr);
+    free(lv->F);
+    free(lv->Q);
+    free(lv->f);
+    free(lv->df);
+    s->bytes -= lv->bytes;
+    memset(lv, 0, sizeof *lv);
+    lv->x = NAN;
+}
+
+static void apd_destroy(void *state)
+{
+    apd_state *s = state;
+    if (!s)
+        return;
+    for (int i = 0; i < NGRIDS; i++)
+        grid_clear(&s->grids[i]);
+    for (int i = 0; i < NSLOTS; i++)
+        level_clear(s, &s->slots[i]);
+    free(s->gain);
+    free(s);
+}
+
+static qc_status apd_check(const double *p)
+{
+    if (p[APD_K] >= 1.0)
+        return qc_fail(QC_EINVAL,
+                       "model 'apd': parameter 'k' must be < 1 for the exact "
+                       "McIntyre gain law (got %g); use 'apd-gauss'",
+                       p[APD_K]);
+    return QC_OK;
+}
+
+static qc_status apd_init(const double *params, void **state)
+{
+    apd_state *s = calloc(1, sizeof *s);
+    if (!s)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    memcpy(s->params, params, sizeof s->params);
+    for (int i = 0; i < NSLOTS; i++)
+        s->slots[i].x = NAN;
+    qc_status st = qc_apd_gain_pmf(params[APD_GAIN], params[APD_K], MAX_GRID * 64,
+                                   &s->gain, &s->gain_len);
+    if (st != QC_OK) {
+        apd_destroy(s);
+        return st;
+    }
+    *state = s;
+    return QC_OK;
+}
+
+/* Φ(b) − Φ(a) for a ≤ b, on the side where it does not cancel. */
+static double gauss_mass(double a, double b)
+{
+    if (a >= 0.0)
+        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
+    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
+}
+
+static long kernel_halfwidth(double sigma, double h)
+{
+    return (long)ceil(KERNEL_SD * sigma / h) + 1;
+}
+
+/* The grid (h, len): plans, gain spectrum and, if smooth, kernel spectra;
+ * made on first use, least recently used entry replaced. */
+static qc_status get_grid(apd_state *s, double h, size_t len, int smooth,
+                          grid **out)
+{
+    grid *g = NULL;
+    for (int i = 0; i < NGRIDS; i++)
+        if (s->grids[i].h == h && s->grids[i].len == len) {
+            g = &s->grids[i];
+            g->stamp = ++s->clock;
+            *out = g;
+            return QC_OK;
+        }
+    g = &s->grids[0];
+    for (int i = 1; i < NGRIDS; i++)
+        if (s->grids[i].stamp < g->stamp)
+            g = &s->grids[i];
+    grid_clear(g);
+    double t0 = now();
+    size_t ns = len / 2 + 1;
+    qc_status st = qc_conv_alloc(len, &g->conv);
+    if (st != QC_OK)
+        return st;
+    g->gspec = qc_malloc_array(ns, sizeof *g->gspec);
+    g->work = qc_malloc_array(ns, sizeof *g->work);
+    g->real = qc_calloc(len, sizeof *g->real);
+    if (!g->gspec || !g->work || !g->real)
+        goto nomem;
+    /* gain law on the grid, split between neighbours preserving the mean */
+    for (size_t n = 1; n < s->gain_len; n++) {
+        double u = (double)n / h;
+        size_t q = (size_t)floor(u);
+        double r = u - (double)q;
+        g->real[q % len] += (1.0 - r) * s->gain[n];
+        if (r > 0.0)
+            g->real[(q + 1) % len] += r * s->gain[n];
+    }
+    qc_conv_forward(g->conv, g->real, len, g->gspec);
+    if (smooth) {
+        double sigma = s->params[APD_SIGMA_TH];
+        long w = kernel_halfwidth(sigma, h);
+        for (int k = 0; k < 3; k++) {
+            g->kspec[k] = qc_malloc_array(ns, sizeof *g->kspec[k]);
+            if (!g->kspec[k])
+                goto nomem;
+            memset(g->real, 0, len * sizeof *g->real);
+            for (long m = -w; m <= w; m++) {
+                double u = (double)m * h / sigma, v;
+                if (k == 0) /* P((m−1)h ≤ T < mh) */
+                    v = gauss_mass(u - h / sigma, u);
+                else if (k == 1) /* density φ(u)/σ */
+                    v = exp(-0.5 * u * u) / (sigma * SQRT_2PI);
+                else /* its slope −u φ(u)/σ² */
+                    v = -u * exp(-0.5 * u * u) / (sigma * sigma * SQRT_2PI);
+                g->real[(size_t)((m % (long)len + (long)len) % (long)len)] = v;
+            }
+            qc_conv_forward(g->conv, g->real, len, g->kspec[k]);
+        }
+    }
+    g->h = h;
+    g->len = len;
+    g->smooth = smooth;
+    g->stamp = ++s->clock;
+    s->stats.plans++;
+    s->stats.plan_seconds += now() - t0;
+    *out = g;
+    return QC_OK;
+nomem:
+    grid_clear(g);
+    return qc_fail(QC_ENOMEM, "out of memory for an FFT grid of %zu points", len);
+}
+
+static size_t next_pow2(size_t n)
+{
+    size_t m = MIN_GRID;
+    while (m < n)
+        m *= 2;
+    return m;
+}
+
+/* Compound Poisson law on grid g: circular result in g->real. */
+static void compound(grid *g, double lambda)
+{
+    size_t ns = g->len / 2 + 1;
+    for (size_t i = 0; i < ns; i++)
+        g->work[i] = cexp(lambda * (g->gspec[i] - 1.0));
+    qc_conv_inverse(g->conv, g->work, g->real);
+}
+
+/* A count z with P(Z ≥ z) ≤ ZTAIL by the Chernoff bound (Chernoff, Ann.
+ * Math. Stat. 23(4), 1952) for the compound Poisson Z:
+ *   ln P(Z ≥ z) ≤ −θz + λ(E e^{θG} − 1),  θ > 0,
+ * minimized over a geometric grid of θ. */
+#define ZTAIL 1e-18
+static double count_bound(const apd_state *s, double lambda)
+{
+    double best = INFINITY, theta = 700.0 / (double)s->gain_len;
+    for (int k = 0; k < 60; k++, theta *= 0.7) {
+        double mgf = 0.0;
+        for (size_t n = 1; n < s->gain_len; n++)
+            mgf += s->gain[n] * exp(theta * (double)n);
+        double z = (lambda * (mgf - 1.0) - log(ZTAIL)) / theta;
+        if (z < best)
+            best = z;
+    }
+    return best;
+}
+
+static qc_status fill_level(apd_state *s, double x, level *lv)
+{
+    const double *p = s->params;
+    double sigma = p[APD_SIGMA_TH];
+    double lambda = qc_apd_rate(p, x);
+    double zhi = count_bound(s, lambda);
+    grid *g = NULL;
+    double h = 1.0;
+    long nz = 0, w = 0;
+    int smooth = 0;
+    for (;;) {
+        smooth = sigma >= SMOOTH_RATIO * h;
+        w = smooth ? kernel_halfwidth(sigma, h) : 0;
+        nz = (long)ceil(zhi / h) + 1;
+        if ((size_t)nz + 2 * (size_t)w <= MAX_GRID)
+            break;
+        h *= 2.0;
+    }
+    qc_status st = get_grid(s, h, next_pow2((size_t)(nz + 2 * w)), smooth, &g);
+    if (st != QC_OK)
+        return st;
+    compound(g, lambda);
+    lv->h = h;
+    lv->smooth = smooth;
+    lv->ztop = (double)(nz - 1) * h;
+    size_t len = g->len;
+    if (!smooth) {
+        lv->n = nz;
+        lv->p = qc_malloc_array((size_t)nz, sizeof *lv->p);
+        lv->cl = qc_malloc_array((size_t)nz, sizeof *lv->cl);
+        lv->cr = qc_malloc_array((size_t)nz, sizeof *lv->cr);
+        if (!lv->p || !lv->cl || !lv->cr)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        double total = 0.0;
+        for (long j = 0; j < nz; j++) {
+            lv->p[j] = g->real[j] > 0.0 ? g->real[j] : 0.0;
+            total += lv->p[j];
+        }
+        if (h == 1.0) { /* no primary: exactly e^{−λ} */
+            total += exp(-lambda) - lv->p[0];
+            lv->p[0] = exp(-lambda);
+        }
+        double acc = 0.0;
+        for (long j = 0; j < nz; j++) {
+            lv->p[j] /= total;
+            acc += lv->p[j];
+            lv->cl[j] = acc;
+        }
+        acc = 0.0;
+        for (long j = nz - 1; j >= 0; j--) {
+            acc += lv->p[j];
+            lv->cr[j] = acc;
+        }
+        lv->bytes = 3 * (size_t)nz * sizeof(double);
+        return QC_OK;
+    }
+    /* smooth: convolve the compound law with the three kernels */
+    long n = nz + 2 * w;
+    lv->n = n;
+    lv->w = w;
+    double **dst[3] = {&lv->F, &lv->f, &lv->df};
+    for (int k = 0; k < 3; k++) {
+        *dst[k] = qc_malloc_array((size_t)n, sizeof(double));
+        if (!*dst[k])
+            return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    lv->Q = qc_malloc_array((size_t)n, sizeof *lv->Q);
+    if (!lv->Q)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    size_t ns = len / 2 + 1;
+    for (size_t i = 0; i < ns; i++)
+        g->work[i] = cexp(lambda * (g->gspec[i] - 1.0));
+    double complex *pz = qc_malloc_array(ns, sizeof *pz);
+    if (!pz)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    memcpy(pz, g->work, ns * sizeof *pz);
+    for (int k = 0; k < 3; k++) {
+        for (size_t i = 0; i < ns; i++)
+            g->work[i] = pz[i] * g->kspec[k][i];
+        qc_conv_inverse(g->conv, g->work, g->real);
+        double *d = *dst[k];
+        for (long a = 0; a < n; a++) {
+            long i = a - w; /* grid index; y = i·h */
+            d[a] = g->real[(size_t)((i % (long)len + (long)len) % (long)len)];
+        }
+    }
+    free(pz);
+    /* cell masses → F (from the left) and Q (from the right) */
+    double *c = lv->F, total = 0.0;
+    for (long a = 0; a < n; a++) {
+        if (c[a] < 0.0)
+            c[a] = 0.0;
+        total += c[a];
+        if (lv->f[a] < 0.0)
+            lv->f[a] = 0.0;
+    }
+    double acc = 0.0;
+    for (long a = n - 1; a >= 0; a--) {
+        lv->Q[a] = acc / total; /* mass of cells a+1.. : y ≥ y_a */
+        acc += c[a];
+    }
+    acc = 0.0;
+    for (long a = 0; a < n; a++) {
+        acc += c[a];
+        c[a] = acc / total; /* mass of cells ..a: y < y_a */
+    }
+    for (long a = 0; a < n; a++) {
+        lv->f[a] /= total;
+        lv->df[a] /= total;
+    }
+    lv->bytes = 4 * (size_t)n * sizeof(double);
+    return QC_OK;
+}
+
+/* The cached law of level x, computed on first use (NULL on failure). */
+static level *get_level(const qc_model *m, double x)
+{
+    apd_state *s = m->state;
+    level *lv = NULL;
+    for (int i = 0; i < NSLOTS; i++)
+        if (s->slots[i].x == x) {
+            s->slots[i].stamp = ++s->clock;
+            return &s->slots[i];
+        }
+    for (int i = 0; i < NSLOTS && !lv; i++)
+        if (isnan(s->slots[i].x))
+            lv = &s->slots[i];
+    if (!lv) {
+        lv = &s->slots[0];
+        for (int i = 1; i < NSLOTS; i++)
+            if (s->slots[i].stamp < lv->stamp)
+                lv = &s->slots[i];
+        level_clear(s, lv);
+    }
+    double t0 = now(), plan0 = s->stats.plan_seconds;
+    qc_status st = fill_level(s, x, lv);
+    if (st != QC_OK) {
+        level_clear(s, lv);
+        return NULL;
+    }
+    lv->x = x;
+    lv->stamp = ++s->clock;
+    s->bytes += lv->bytes;
+    /* keep the cache within its budget, oldest first */
+    while (s->bytes > CACHE_BYTES) {
+        level *old = NULL;
+        for (int i = 0; i < NSLOTS; i++)
+            if (&s->slots[i] != lv && !isnan(s->slots[i].x) &&
+                (!old || s->slots[i].stamp < old->stamp))
+                old = &s->slots[i];
+        if (!old)
+            break;
+        level_clear(s, old);
+    }
+    s->stats.levels++;
+    s->stats.level_seconds += now() - t0 - (s->stats.plan_seconds - plan0);
+    return lv;
+}
+
+/* ---- lattice regime: direct sums ------------------------------------ */
+
+/* Σ_j p_j Φ((t − jh)/σ) (upper = 0) or Σ_j p_j Q((t − jh)/σ) (upper = 1). */
+static double lattice_cdf(const level *lv, double sigma, double t, int upper)
+{
+    double h = lv->h;
+    long n = lv->n;
+    double ja = floor((t - KERNEL_SD * sigma) / h); /* Φ ≈ 1 for j ≤ ja */
+    double jb = ceil((t + KERNEL_SD * sigma) / h);  /* Φ ≈ 0 for j ≥ jb */
+    double sum = 0.0;
+    if (!upper) {
+        long j0 = 0;
+        if (ja >= 0.0) {
+            j0 = ja >= (double)(n - 1) ? n - 1 : (long)ja;
+            sum = lv->cl[j0];
+            j0++;
+        }
+        for (long j = j0; j < n; j++) {
+            double phi = gsl_cdf_gaussian_P(t - (double)j * h, sigma);
+            sum += lv->p[j] * phi;
+            if ((double)j >= jb - 1.0 &&
+                (j + 1 >= n || phi * lv->cr[j + 1] <= REST_TOL * sum))
+                break;
+        }
+        return sum < 1.0 ? sum : 1.0;
+    }
+    long j0 = n - 1;
+    if (jb <= (double)(n - 1)) {
+        j0 = jb <= 0.0 ? 0 : (long)jb;
+        sum = lv->cr[j0];
+        j0--;
+    }
+    for (long j = j0; j >= 0; j--) {
+        double q = gsl_cdf_gaussian_Q(t - (double)j * h, sigma);
+        sum += lv->p[j] * q;
+        if ((double)j <= ja + 1.0 &&
+            (j == 0 || q * lv->cl[j - 1] <= REST_TOL * sum))
+            break;
+    }
+    return sum < 1.0 ? sum : 1.0;
+}
+
+static double lattice_density(const level *lv, double sigma, double y)
+{
+    double h = lv->h;
+    long n = lv->n;
+    long jc = (long)fmin(fmax(round(y / h), 0.0), (double)(n - 1));
+    double sum = 0.0;
+    for (long j = jc; j < n; j++) { /* rightwards */
+        double u = (y - (double)j * h) / sigma;
+        double phi = exp(-0.5 * u * u);
+        sum += lv->p[j] * phi;
+        if (u < -KERNEL_SD && (j + 1 >= n || phi * lv->cr[j + 1] <= REST_TOL * sum))
+            break;
+    }
+    for (long j = jc - 1; j >= 0; j--) { /* leftwards */
+        double u = (y - (double)j * h) / sigma;
+        double phi = exp(-0.5 * u * u);
+        sum += lv->p[j] * phi;
+        if (u > KERNEL_SD && (j == 0 || phi * lv->cl[j - 1] <= REST_TOL * sum))
+            break;
+    }
+    return sum / (sigma * SQRT_2PI);
+}
+
+/* ---- smooth regime: interpolation of grid values --------------------- */
+
+/* Quintic Hermite interpolant on [0, 1] from values, first and second
+ * derivatives at both ends. */
+static double hermite5(double s, double v0, double d0, double a0, double v1,
+                       double d1, double a1)
+{
+    double s2 = s * s, s3 = s2 * s, s4 = s3 * s, s5 = s4 * s;
+    double h0 = 1.0 - 10.0 * s3 + 15.0 * s4 - 6.0 * s5;
+    double h1 = s - 6.0 * s3 + 8.0 * s4 - 3.0 * s5;
+    double h2 = 0.5 * s2 - 1.5 * s3 + 1.5 * s4 - 0.5 * s5;
+    double h3 = 0.5 * s3 - s4 + 0.5 * s5;
+    double h4 = -4.0 * s3 + 7.0 * s4 - 3.0 * s5;
+    double h5 = 10.0 * s3 - 15.0 * s4 + 6.0 * s5;
+    return h0 * v0 + h1 * d0 + h2 * a0 + h3 * a1 + h4 * d1 + h5 * v1;
+}
+
+#define LOG_FLOOR 1e-290
+
+/* P(Y < t) (upper = 0) or P(Y ≥ t) (upper = 1) from the grid. */
+static double smooth_cdf(const level *lv, double sigma, double t, int upper)
+{
+    double h = lv->h;
+    double u = t / h + (double)lv->w;
+    const double *V = upper ? lv->Q : lv->F;
+    double sign = upper ? -1.0 : 1.0;
+    if (u <= 0.0) { /* left of the grid: Gaussian tail of the first point */
+        double y0 = -(double)lv->w * h;
+        double r = gsl_cdf_gaussian_P(t, sigma) / gsl_cdf_gaussian_P(y0, sigma);
+        double lo = lv->F[0] * (r < 1.0 ? r : 1.0);
+        return upper ? 1.0 - lo : lo;
+    }
+    if (u >= (double)(lv->n - 1)) { /* right of the grid: Q below 1e-17 */
+        double yn = (double)(lv->n - 1 - lv->w) * h;
+        double r = gsl_cdf_gaussian_Q(t - lv->ztop, sigma) /
+                   gsl_cdf_gaussian_Q(yn - lv->ztop, sigma);
+        double hi = lv->Q[lv->n - 1] * (r < 1.0 ? r : 1.0);
+        return upper ? hi : 1.0 - hi;
+    }
+    long a = (long)floor(u);
+    double s = u - (double)a;
+    double v0 = V[a], v1 = V[a + 1];
+    double lo = v0 < v1 ? v0 : v1, hi = v0 < v1 ? v1 : v0;
+    double r;
+    if (lo > LOG_FLOOR) {
+        /* log V: (log V)' = ±f/V, (log V)'' = ±f'/V − (f/V)², per unit a */
+        double g0 = sign * lv->f[a] * h / v0, g1 = sign * lv->f[a + 1] * h / v1;
+        double c0 = sign * lv->df[a] * h * h / v0 - g0 * g0;
+        double c1 = sign * lv->df[a + 1] * h * h / v1 - g1 * g1;
+        r = exp(hermite5(s, log(v0), g0, c0, log(v1), g1, c1));
+    } else {
+        r = v0 + s * (v1 - v0);
+    }
+    if (!(r >= lo))
+        r = lo;
+    if (r > hi)
+        r = hi;
+    return r;
+}
+
+static double smooth_density(const level *lv, double y)
+{
+    double u = y / lv->h + (double)lv->w;
+    if (u <= 0.0 || u >= (double)(lv->n - 1))
+        return 0.0;
+    long a = (long)floor(u);
+    double s = u - (double)a, h = lv->h;
+    double s2 = s * s, s3 = s2 * s;
+    double b0 = 2 * s3 - 3 * s2 + 1, b1 = s3 - 2 * s2 + s, b2 = -2 * s3 + 3 * s2,
+           b3 = s3 - s2;
+    double f0 = lv->f[a], f1 = lv->f[a + 1];
+    if (f0 > LOG_FLOOR && f1 > LOG_FLOOR) /* cubic Hermite of log f */
+        return exp(b0 * log(f0) + b1 * h * lv->df[a] / f0 + b2 * log(f1) +
+                   b3 * h * lv->df[a + 1] / f1);
+    double v = b0 * f0 + b1 * h * lv->df[a] + b2 * f1 + b3 * h * lv->df[a + 1];
+    return v > 0.0 ? v : 0.0;
+}
+
+/* ---- the model table ------------------------------------------------- */
+
+static double apd_cdf(const qc_model *m, double x, double t, int upper)
+{
+    level *lv = get_level(m, x);
+    if (!lv)
+        return NAN;
+    double sigma = m->params[APD_SIGMA_TH];
+    return lv->smooth ? smooth_cdf(lv, sigma, t, upper)
+                      : lattice_cdf(lv, sigma, t, upper);
+}
+
+static double apd_below(const qc_model *m, double x, double t)
+{
+    return apd_cdf(m, x, t, 0);
+}
+
+static double apd_above(const qc_model *m, double x, double t)
+{
+    return apd_cdf(m, x, t, 1);
+}
+
+static double apd_density(const qc_model *m, double x, double y)
+{
+    level *lv = get_level(m, x);
+    if (!lv)
+        return NAN;
+    return lv->smooth ? smooth_density(lv, y)
+                      : lattice_density(lv, m->params[APD_SIGMA_TH], y);
+}
+
+static void apd_support(const qc_model *m, double x, double *lo, double *hi)
+{
+    double sigma = m->params[APD_SIGMA_TH];
+    *lo = -8.3 * sigma; /* Z ≥ 0: Q(8.3) ≈ 5e-17 */
+    level *lv = get_level(m, x);
+    *hi = (lv ? lv->ztop : 0.0) + 8.3 * sigma;
+}
+
+static qc_status apd_moments(const qc_model *m, double x, double *mean,
+                             double *var)
+{
+    const double *p = m->params;
+    double lambda = qc_apd_rate(p, x), g = p[APD_GAIN];
+    *mean = g * lambda;
+    *var = g * g * qc_apd_excess(g, p[APD_K]) * lambda +
+           p[APD_SIGMA_TH] * p[APD_SIGMA_TH];
+    return QC_OK;
+}
+
+qc_status qc_apd_get_stats(const qc_model *m, qc_apd_stats *stats)
+{
+    if (!m || m->type != &qc_model_apd)
+        return qc_fail(QC_EINVAL, "not an 'apd' model");
+    *stats = ((const apd_state *)m->state)->stats;
+    return QC_OK;
+}
+
+const qc_model_type qc_model_apd = {
+    .name = "apd",
+    .summary = "APD receiver: Poisson primaries x McIntyre gain + thermal noise, "
+               "exact law by FFT, in electrons",
+    .output = QC_OUTPUT_REAL,
+    .nparams = APD_NPARAMS,
+    .params = qc_apd_params,
+    .check = apd_check,
+    .init = apd_init,
+    .destroy = apd_destroy,
+    .below = apd_below,
+    .above = apd_above,
+    .density = apd_density,
+    .support = apd_support,
+    .check_level = qc_apd_check_level,
+    .moments = apd_moments,
+};

@@ -1,0 +1,40 @@
+/* apd_gain.h — shared by the APD models: parameters and the McIntyre
+ * single-carrier gain law. Internal. */
+#ifndef QC_APD_GAIN_H
+#define QC_APD_GAIN_H
+
+#include "quantcap.h"
+
+enum { APD_SIGNAL, APD_BACKGROUND, APD_GAIN, APD_K, APD_SIGMA_TH, APD_NPARAMS };
+
+/* Parameter specs of `apd` and `apd-gauss` (same names and units). */
+extern const qc_param_spec qc_apd_params[APD_NPARAMS];
+
+/* Excess noise factor F = kM + (1 − k)(2 − 1/M) (McIntyre 1966). */
+double qc_apd_excess(double gain, double k);
+
+/* Mean primaries λ = signal·x + background. */
+double qc_apd_rate(const double *params, double x);
+
+/* Gain pmf g[n] = P(G = n), n = 0..*len−1 (g[0] = 0), of one injected
+ * electron (McIntyre, IEEE Trans. Electron Devices 19(6), 1972), cut
+ * where the tail left out is below 1e-17 and renormalized. Caller frees
+ * *g. QC_EINVAL for k ≥ 1; QC_ENOMEM when the law needs more than
+ * max_len points. */
+qc_status qc_apd_gain_pmf(double gain, double k, size_t max_len, double **g,
+                          size_t *len);
+
+qc_status qc_apd_check_level(const qc_model *m, double x);
+
+/* Work counters of an `apd` instance (for the benchmark). */
+typedef struct {
+    size_t plans;         /* FFT grids planned (plans + kernel spectra) */
+    double plan_seconds;  /* time spent making them                      */
+    size_t levels;        /* per-level laws computed                     */
+    double level_seconds; /* time spent computing them (execute)         */
+} qc_apd_stats;
+
+/* Counters of an `apd` model; QC_EINVAL for another model type. */
+qc_status qc_apd_get_stats(const qc_model *m, qc_apd_stats *stats);
+
+#endif

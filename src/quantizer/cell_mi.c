@@ -1,0 +1,101 @@
+/* cell_mi.c — mutual information I(X;Y_q) of a threshold quantizer as a
+ * function of its thresholds, with the analytic gradient
+ *   ∂I/∂t_j = Σ_x r(x) f(t_j|x) [log(P(j|x)/q(j)) − log(P(j+1|x)/q(j+1))],
+ * which follows from ∂P(j|x)/∂t_j = f(t_j|x) = −∂P(j+1|x)/∂t_j and
+ * ∂I/∂P(c|x) = r(x) log(P(c|x)/q(c)) (Cover & Thomas, Elements of
+ * Information Theory, §2.4; the two "+1" terms cancel). Used by the
+ * uniform search, the continuous refinement and Lloyd–Max reporting. */
+#include "quantizer/quantizer.h"
+
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+
+qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
+                           const double *input, size_t nlevels, size_t nt,
+                           qc_cell_mi **out)
+{
+    *out = NULL;
+    qc_cell_mi *w = calloc(1, sizeof *w);
+    if (!w)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    w->model = model;
+    w->levels = levels;
+    w->input = input;
+    w->nlevels = nlevels;
+    w->nt = nt;
+    qc_status st = qc_dmc_alloc(nlevels, nt + 1, &w->channel);
+    if (st != QC_OK) {
+        free(w);
+        return st;
+    }
+    w->lo = qc_malloc_array(nt + 1, sizeof *w->lo);
+    w->hi = qc_malloc_array(nt + 1, sizeof *w->hi);
+    w->q = qc_malloc_array(nt + 1, sizeof *w->q);
+    w->lr = qc_malloc_array(nlevels * (nt + 1), sizeof *w->lr);
+    if (!w->lo || !w->hi || !w->q || !w->lr) {
+        qc_cell_mi_free(w);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    *out = w;
+    return QC_OK;
+}
+
+void qc_cell_mi_free(qc_cell_mi *w)
+{
+    if (!w)
+        return;
+    qc_dmc_free(w->channel);
+    free(w->lo);
+    free(w->hi);
+    free(w->q);
+    free(w->lr);
+    free(w);
+}
+
+/* log with the zero cell mapped to the smallest normal number, so that a
+ * gradient term f·(log a − log b) stays finite (f is tiny there too). */
+static double safe_log(double v) { return log(v > DBL_MIN ? v : DBL_MIN); }
+
+qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
+                          double *grad)
+{
+    const size_t nx = w->nlevels, k = w->nt + 1;
+    qc_status st = qc_discretize_into(w->model, w->levels, nx, t, w->nt, w->lo,
+                                      w->hi, w->channel);
+    if (st != QC_OK)
+        return st;
+    qc_output_law(w->channel, w->input, w->q);
+    double mi = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        const double *row = w->channel->p + x * k;
+        double *lr = w->lr + x * k;
+        for (size_t c = 0; c < k; c++) {
+            lr[c] = safe_log(row[c]) - safe_log(w->q[c]);
+            if (w->input[x] > 0.0 && row[c] > 0.0)
+                mi += w->input[x] * row[c] * lr[c];
+        }
+    }
+    if (!isfinite(mi))
+        return qc_fail(QC_ENUMERIC, "mutual information of the quantizer is not finite");
+    *mi_nats = mi > 0.0 ? mi : 0.0;
+    if (!grad)
+        return QC_OK;
+    for (size_t j = 0; j < w->nt; j++) {
+        double g = 0.0;
+        for (size_t x = 0; x < nx; x++) {
+            if (!(w->input[x] > 0.0))
+                continue;
+            double f = w->model->type->density(w->model, w->levels[x], t[j]);
+            if (f > 0.0)
+                g += w->input[x] * f * (w->lr[x * k + j] - w->lr[x * k + j + 1]);
+        }
+        if (!isfinite(g))
+            return qc_fail(QC_ENUMERIC,
+                           "gradient of the mutual information is not finite at "
+                           "threshold %zu (%g)",
+                           j + 1, t[j]);
+        grad[j] = g;
+    }
+    return QC_OK;
+}

@@ -1,0 +1,347 @@
+/* dp_optimal.c — MI-optimal merging of a channel's ordered outputs into K
+ * contiguous cells by dynamic programming.
+ *
+ * Method: Kurkoski & Yagi, "Quantization of binary-input discrete
+ * memoryless channels", IEEE Trans. IT 60(8), 2014 (DP over contiguous
+ * groupings; globally optimal for binary input with outputs sorted by
+ * likelihood ratio); He, Cai, Song, Mei, "Dynamic programming for
+ * sequential deterministic quantization of discrete memoryless channels",
+ * IEEE Trans. IT 67(6), 2021 (q-ary inputs; the quadrangle inequality
+ * makes every DP layer a totally monotone matrix searched with SMAWK).
+ * SMAWK: Aggarwal, Klawe, Moran, Shor, Wilber, "Geometric applications of
+ * a matrix-searching algorithm", Algorithmica 2, 1987.
+ *
+ * I(X;Y_q) = Σ_cells g(cell) with g = Σ_x r(x) p_x log p_x − q log q,
+ * p_x = P(cell|x), q = Σ_x r(x) p_x; p_x comes from prefix sums taken
+ * from the nearer end of the output range (below or above the median of
+ * P(·|x)), so tail cells do not cancel; one sum per boundary and input
+ * keeps the working set small.
+ * Layer k: D_k[n] = max_m D_{k−1}[m] + g(m, n) over the first n outputs. */
+#include "quantizer/quantizer.h"
+
+#include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+
+typedef struct {
+    size_t nx, n; /* inputs with r(x) > 0 only, fine outputs */
+    double *r;    /* their probabilities */
+    double *tot;  /* per input: Σ_i P(i|x) */
+    uint32_t *med; /* per input: first boundary k with Σ_{i<k} P(i|x) ≥ ½ */
+    /* (n + 1) × nx, boundary-major: Σ_{i<k} P(i|x) for k < med[x], else
+     * Σ_{i≥k} P(i|x) — each prefix taken from its nearer tail, so a cell
+     * far out in either tail is a difference of two small sums */
+    double *cum;
+} cell_fn;
+
+/* g over outputs [a, b), a < b. */
+static double cell_value(const cell_fn *f, size_t a, size_t b)
+{
+    const size_t nx = f->nx;
+    const double *ca = f->cum + nx * a, *cb = f->cum + nx * b;
+    double s = 0.0, q = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        const size_t m = f->med[x];
+        double p;
+        if (b < m)
+            p = cb[x] - ca[x];           /* both below the median */
+        else if (a >= m)
+            p = ca[x] - cb[x];           /* both above it */
+        else
+            p = (f->tot[x] - ca[x]) - cb[x]; /* the cell holds the median */
+        if (p > 0.0) {
+            s += f->r[x] * p * log(p);
+            q += f->r[x] * p;
+        }
+    }
+    if (q > 0.0)
+        s -= q * log(q);
+    return s;
+}
+
+static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
+{
+    const size_t n = d->ny;
+    size_t nx = 0;
+    for (size_t x = 0; x < d->nx; x++)
+        nx += r[x] > 0.0;
+    f->nx = nx;
+    f->n = n;
+    f->r = qc_malloc_array(nx, sizeof *f->r);
+    f->tot = qc_malloc_array(nx, sizeof *f->tot);
+    f->med = qc_malloc_array(nx, sizeof *f->med);
+    f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
+    if (!f->r || !f->tot || !f->med || !f->cum)
+        return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
+                       d->nx, n);
+    for (size_t x = 0, j = 0; x < d->nx; x++) {
+        if (!(r[x] > 0.0))
+            continue;
+        f->r[j] = r[x];
+        const double *row = d->p + x * n;
+        long double s = 0.0L;
+        size_t k = 0;
+        for (; k <= n; k++) { /* from below up to the median */
+            if (s >= 0.5L)
+                break;
+            f->cum[nx * k + j] = (double)s;
+            if (k < n)
+                s += row[k];
+        }
+        f->med[j] = (uint32_t)k;
+        long double below = k > 0 ? s : 0.0L;
+        s = 0.0L;
+        for (size_t i = n + 1; i-- > k;) { /* from above down to it */
+            if (i < n)
+                s += row[i];
+            f->cum[nx * i + j] = (double)s;
+        }
+        f->tot[j] = (double)(below + s);
+        j++;
+    }
+    return QC_OK;
+}
+
+static void cell_fn_free(cell_fn *f)
+{
+    free(f->r);
+    free(f->tot);
+    free(f->med);
+    free(f->cum);
+}
+
+/* ---- SMAWK row maxima of one layer ---------------------------------- */
+
+typedef struct {
+    const cell_fn *f;
+    const double *prev; /* D_{k−1}[m] */
+    double *val;        /* D_k[n] */
+    uint32_t *arg;      /* leftmost argmax m of row n */
+} layer;
+
+/* Entry (row n, column m). Columns m ≥ n are not splits; they get values
+ * below every real entry and decreasing along the row, which keeps the
+ * matrix totally monotone (no ties among them). */
+static double entry(const layer *L, uint32_t n, uint32_t m)
+{
+    if (m < n)
+        return L->prev[m] + cell_value(L->f, m, n);
+    return -1e100 * (double)(1 + m - n);
+}
+
+/* Row maxima of the rows × cols submatrix into L->val, L->arg. `pool`
+ * holds at least 3·nr entries of scratch, `vpool` at least nr. */
+static void smawk(const layer *L, uint32_t *pool, double *vpool, const uint32_t *rows,
+                  size_t nr, const uint32_t *cols, size_t nc)
+{
+    if (nr == 0)
+        return;
+    /* REDUCE: keep at most nr columns that can hold a row maximum.
+     * kval[i] caches entry(rows[i], keep[i]), so each comparison costs
+     * one new cell evaluation. */
+    uint32_t *keep = pool;
+    double *kval = vpool;
+    size_t top = 0;
+    if (nc <= nr) { /* nothing to eliminate (each layer's square top call) */
+        for (size_t i = 0; i < nc; i++)
+            keep[i] = cols[i];
+        top = nc;
+        nc = 0;
+    }
+    for (size_t i = 0; i < nc; i++) {
+        uint32_t c = cols[i];
+        while (top > 0) {
+            if (kval[top - 1] >= entry(L, rows[top - 1], c))
+                break;
+            top--;
+        }
+        if (top < nr) {
+            kval[top] = entry(L, rows[top], c);
+            keep[top++] = c;
+        }
+    }
+    /* Odd rows recursively. */
+    size_t nodd = nr / 2;
+    uint32_t *odd = pool + nr;
+    for (size_t i = 0; i < nodd; i++)
+        odd[i] = rows[2 * i + 1];
+    smawk(L, pool + nr + nodd, vpool + nr, odd, nodd, keep, top);
+    /* Even rows between the maxima of their odd neighbours. */
+    size_t ci = 0;
+    for (size_t i = 0; i < nr; i += 2) {
+        uint32_t r = rows[i];
+        uint32_t last = i + 1 < nr ? L->arg[rows[i + 1]] : keep[top - 1];
+        uint32_t best = keep[ci];
+        double bv = entry(L, r, best);
+        /* ci < top guards against a matrix that is not totally monotone
+         * (quadrangle inequality violated): the result is then only a
+         * good split, never an out-of-range access. */
+        while (keep[ci] != last && ci + 1 < top) {
+            ci++;
+            double v = entry(L, r, keep[ci]);
+            if (v > bv) {
+                bv = v;
+                best = keep[ci];
+            }
+        }
+        L->arg[r] = best;
+        L->val[r] = bv;
+    }
+}
+
+/* ---- the dynamic programme ------------------------------------------ */
+
+static qc_status check_law(const double *r, size_t n)
+{
+    double s = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        if (!(r[i] >= 0.0) || !isfinite(r[i]))
+            return qc_fail(QC_EINVAL, "input probability %zu is %g, expected >= 0",
+                           i + 1, r[i]);
+        s += r[i];
+    }
+    if (fabs(s - 1.0) > 1e-9)
+        return qc_fail(QC_EINVAL, "input probabilities sum to %.17g, expected 1",
+                       s);
+    return QC_OK;
+}
+
+qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
+                         qc_dp_method method, size_t *cuts, double *mi_nats)
+{
+    if (!fine || !fine->p || !input || !cuts)
+        return qc_fail(QC_EINVAL, "qc_dp_quantize: missing channel, law or output");
+    const size_t n = fine->ny, K = cells;
+    if (K < 1 || K > n)
+        return qc_fail(QC_EINVAL,
+                       "cannot merge %zu fine outputs into %zu cells: need 1 <= "
+                       "cells <= %zu",
+                       n, K, n);
+    if (method != QC_DP_FAST && method != QC_DP_PLAIN)
+        return qc_fail(QC_EINVAL, "unknown DP method %d", (int)method);
+    if (n > UINT32_MAX)
+        return qc_fail(QC_EINVAL, "fine grid of %zu outputs is too large", n);
+    qc_status st = check_law(input, fine->nx);
+    if (st != QC_OK)
+        return st;
+
+    const size_t width = n - K + 1; /* rows per layer */
+    cell_fn f = {0};
+    double *prev = NULL, *cur = NULL;
+    uint32_t *arg = NULL, *rows = NULL, *cols = NULL, *pool = NULL;
+    double *vpool = NULL;
+    uint32_t *split = NULL; /* (K − 1) × width: argmax of layers 2..K */
+    st = cell_fn_init(&f, fine, input);
+    if (st != QC_OK)
+        goto done;
+    prev = qc_malloc_array(n + 1, sizeof *prev);
+    cur = qc_malloc_array(n + 1, sizeof *cur);
+    arg = qc_malloc_array(n + 1, sizeof *arg);
+    rows = qc_malloc_array(width, sizeof *rows);
+    cols = qc_malloc_array(width, sizeof *cols);
+    pool = qc_malloc_array(4 * width + 8, sizeof *pool);
+    vpool = qc_malloc_array(2 * width + 8, sizeof *vpool);
+    split = qc_malloc_array(K > 1 ? (K - 1) * width : 1, sizeof *split);
+    if (!prev || !cur || !arg || !rows || !cols || !pool || !vpool || !split) {
+        st = qc_fail(QC_ENOMEM,
+                     "out of memory for the DP of %zu outputs into %zu cells", n,
+                     K);
+        goto done;
+    }
+    /* Layer 1: one cell over outputs [0, m). */
+    for (size_t m = 1; m <= width; m++)
+        prev[m] = cell_value(&f, 0, m);
+    for (size_t k = 2; k <= K; k++) {
+        /* rows n ∈ [k, k + width − 1] (the last layer needs only n = N),
+         * columns m ∈ [k − 1, k + width − 2]. */
+        size_t r0 = k == K ? n : k, r1 = k + width - 1;
+        size_t nr = r1 - r0 + 1;
+        layer L = {&f, prev, cur, arg};
+        if (method == QC_DP_FAST) {
+            for (size_t i = 0; i < nr; i++)
+                rows[i] = (uint32_t)(r0 + i);
+            for (size_t i = 0; i < width; i++)
+                cols[i] = (uint32_t)(k - 1 + i);
+            smawk(&L, pool, vpool, rows, nr, cols, width);
+        } else {
+            for (size_t r = r0; r <= r1; r++) {
+                double bv = -INFINITY;
+                size_t best = k - 1;
+                for (size_t m = k - 1; m < r; m++) {
+                    double v = prev[m] + cell_value(&f, m, r);
+                    if (v > bv) {
+                        bv = v;
+                        best = m;
+                    }
+                }
+                cur[r] = bv;
+                arg[r] = (uint32_t)best;
+            }
+        }
+        uint32_t *sp = split + (k - 2) * width;
+        for (size_t r = r0; r <= r1; r++)
+            sp[r - k] = arg[r];
+        double *t = prev;
+        prev = cur;
+        cur = t;
+    }
+    /* Trace back the splits. */
+    cuts[0] = 0;
+    cuts[K] = n;
+    for (size_t k = K; k >= 2; k--)
+        cuts[k - 1] = split[(k - 2) * width + (cuts[k] - k)];
+    for (size_t k = 0; k < K; k++)
+        if (!(cuts[k] < cuts[k + 1])) {
+            st = qc_fail(QC_ENUMERIC, "DP produced an empty cell %zu", k + 1);
+            goto done;
+        }
+    if (mi_nats) {
+        double mi = prev[n];
+        if (!isfinite(mi)) {
+            st = qc_fail(QC_ENUMERIC, "DP value is not finite");
+            goto done;
+        }
+        *mi_nats = mi > 0.0 ? mi : 0.0;
+    }
+done:
+    cell_fn_free(&f);
+    free(prev);
+    free(cur);
+    free(arg);
+    free(rows);
+    free(cols);
+    free(pool);
+    free(vpool);
+    free(split);
+    return st;
+}
+
+qc_status qc_dmc_merge(const qc_dmc *fine, const size_t *cuts, size_t cells,
+                       qc_dmc **out)
+{
+    *out = NULL;
+    if (!fine || !cuts || cells < 1)
+        return qc_fail(QC_EINVAL, "qc_dmc_merge: missing channel or cuts");
+    if (cuts[0] != 0 || cuts[cells] != fine->ny)
+        return qc_fail(QC_EINVAL, "cuts must run from 0 to %zu (got %zu to %zu)",
+                       fine->ny, cuts[0], cuts[cells]);
+    for (size_t k = 0; k < cells; k++)
+        if (!(cuts[k] < cuts[k + 1]))
+            return qc_fail(QC_EINVAL,
+                           "cuts must be strictly increasing: cut %zu (%zu) is not "
+                           "below cut %zu (%zu)",
+                           k, cuts[k], k + 1, cuts[k + 1]);
+    qc_dmc *d;
+    qc_status st = qc_dmc_alloc(fine->nx, cells, &d);
+    if (st != QC_OK)
+        return st;
+    for (size_t x = 0; x < fine->nx; x++)
+        for (size_t k = 0; k < cells; k++) {
+            double s = 0.0;
+            for (size_t i = cuts[k]; i < cuts[k + 1]; i++)
+                s += fine->p[x * fine->ny + i];
+            d->p[x * cells + k] = s;
+        }
+    *out = d;
+    return QC_OK;
+}

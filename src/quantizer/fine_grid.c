@@ -1,0 +1,334 @@
+/* fine_grid.c — the fine discretization of the receiver output that the
+ * MI-optimal quantizer search (dp_optimal.c) groups into K cells.
+ *
+ * Continuous outputs: N cells whose boundaries are the quantiles of
+ * G = ½·(mixture law of Y under the input law) + ½·(uniform law on the
+ * union of the level supports). The mixture half puts cells where the
+ * probability is; the uniform half keeps cells in the low-density valleys
+ * between levels, where MI-optimal thresholds sit at high SNR. The
+ * boundaries need only be well spread, not exact quantiles (the DP picks
+ * among them and the refinement moves off them): G is tabulated on 2N + 1
+ * points and inverted by linear interpolation.
+ * Count outputs: one cell per count of the support (exact: the DP then
+ * searches every integer threshold), or rounded quantiles of G when the
+ * support is too wide.
+ *
+ * Also the high-resolution ("companding") start for continuous outputs.
+ * Merging the outputs of a narrow cell of width Δ around y loses
+ *   f(y)·Δ³·J(y)/24 nats,  J(y) = Var over P(x|y) of ∂/∂y log f(y|x)
+ * (second-order expansion of the divergence between the posterior at y
+ * and its cell average), so the loss ≈ ∫ f·J·Δ²/24 dy is smallest, for a
+ * given number of cells, with thresholds of density ∝ (f·J)^{1/3} — the
+ * same variational step as Bennett's companding rule for squared error
+ * (Bennett, Bell Syst. Tech. J. 27, 1948; Panter & Dite, Proc. IRE 39,
+ * 1951). */
+#include "quantizer/quantizer.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define FINE_WORK_LIMIT ((size_t)1 << 22) /* K·N of the automatic grid */
+#define FINE_MIN 4096
+#define FINE_PER_CELL 16
+#define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
+#define TABLE_PER_CELL 2     /* tabulation points of G per fine cell */
+
+size_t qc_fine_cells_default(size_t cells)
+{
+    size_t n = FINE_PER_CELL * cells;
+    if (n < FINE_MIN)
+        n = FINE_MIN;
+    if (cells * n > FINE_WORK_LIMIT) {
+        n = FINE_WORK_LIMIT / cells;
+        if (n < cells)
+            n = cells;
+    }
+    return n;
+}
+
+void qc_levels_support(const qc_model *model, const double *levels,
+                       size_t nlevels, double *lo, double *hi)
+{
+    *lo = INFINITY;
+    *hi = -INFINITY;
+    for (size_t i = 0; i < nlevels; i++) {
+        double a, b;
+        model->type->support(model, levels[i], &a, &b);
+        if (a < *lo)
+            *lo = a;
+        if (b > *hi)
+            *hi = b;
+    }
+}
+
+typedef struct {
+    const qc_model *m;
+    const double *levels, *input;
+    size_t nlevels;
+    double lo, hi;
+    double target; /* count_quantiles */
+} blend;
+
+/* G(y) = ½ Σ r(x) P(Y < y | x) + ½ (y − lo)/(hi − lo). */
+static double blend_cdf(const blend *b, double y)
+{
+    double f = 0.0;
+    for (size_t i = 0; i < b->nlevels; i++)
+        if (b->input[i] > 0.0)
+            f += b->input[i] * b->m->type->below(b->m, b->levels[i], y);
+    return 0.5 * f + 0.5 * (y - b->lo) / (b->hi - b->lo);
+}
+
+qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             double *out)
+{
+    blend b = {model, levels, input, nlevels, 0.0, 0.0, 0.0};
+    qc_levels_support(model, levels, nlevels, &b.lo, &b.hi);
+    if (!(b.hi > b.lo) || !isfinite(b.lo) || !isfinite(b.hi))
+        return qc_fail(QC_ENUMERIC, "model '%s' gives an empty output support",
+                       model->type->name);
+    const size_t m = TABLE_PER_CELL * n + 1;
+    const double step = (b.hi - b.lo) / (double)(m - 1);
+    double *table = qc_malloc_array(m, sizeof *table);
+    if (!table)
+        return qc_fail(QC_ENOMEM, "out of memory for a fine grid of %zu cells", n);
+    for (size_t k = 0; k < m; k++) {
+        table[k] = blend_cdf(&b, b.lo + step * (double)k);
+        if (!isfinite(table[k]) || (k > 0 && !(table[k] > table[k - 1]))) {
+            free(table);
+            return qc_fail(QC_ENUMERIC,
+                           "fine grid: the CDF of model '%s' is not increasing "
+                           "near %g",
+                           model->type->name, b.lo + step * (double)k);
+        }
+    }
+    /* G rises by at least step/(2(hi − lo)) per table step, so linear
+     * interpolation gives strictly increasing boundaries. */
+    size_t k = 0;
+    for (size_t i = 1; i < n; i++) {
+        double target = table[0] + (table[m - 1] - table[0]) * (double)i / (double)n;
+        while (k + 2 < m && table[k + 1] < target)
+            k++;
+        double u = (target - table[k]) / (table[k + 1] - table[k]);
+        out[i - 1] = b.lo + step * ((double)k + fmin(1.0, fmax(0.0, u)));
+        if (i > 1 && !(out[i - 1] > out[i - 2])) {
+            free(table);
+            return qc_fail(QC_ENUMERIC, "fine grid: boundaries %zu and %zu coincide",
+                           i - 1, i);
+        }
+    }
+    free(table);
+    return QC_OK;
+}
+
+/* Count outputs with a support too wide for one cell per count: integer
+ * boundaries at the rounded-up quantiles of G (binary search per target);
+ * a target that an earlier boundary already passed (a count holding more
+ * than 1/n of G) takes the next free count. Returns the number of
+ * boundaries in *nb. */
+qc_status qc_count_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, double top,
+                             size_t n, size_t cells, double *out, size_t *nb)
+{
+    blend b = {model, levels, input, nlevels, 0.0, top, 0.0};
+    size_t k = 0;
+    double prev = 0.0;
+    for (size_t i = 1; i < n; i++) {
+        b.target = (double)i / (double)n;
+        /* smallest integer y in (prev, top] with G(y) ≥ target */
+        double a = prev, c = top; /* G(a) < target or a = prev; G(c) ≥ target */
+        while (c - a > 1.0) {
+            double mid = floor(0.5 * (a + c));
+            if (blend_cdf(&b, mid) >= b.target)
+                c = mid;
+            else
+                a = mid;
+        }
+        if (c > prev) {
+            out[k++] = c;
+            prev = c;
+        }
+    }
+    if (k + 1 < cells && top >= (double)n) {
+        /* Too many repeats: fall back to evenly spaced counts. */
+        k = n - 1;
+        for (size_t i = 0; i < k; i++)
+            out[i] = 1.0 + floor((double)i * (top - 1.0) / (double)k);
+    }
+    *nb = k;
+    return QC_OK;
+}
+
+qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             size_t cells, qc_fine_grid *g)
+{
+    memset(g, 0, sizeof *g);
+    if (n < cells || cells < 2)
+        return qc_fail(QC_EINVAL,
+                       "fine grid of %zu cells is smaller than the %zu quantizer "
+                       "cells",
+                       n, cells);
+    qc_status st = QC_OK;
+    size_t nb = 0;
+    double *bounds = NULL;
+    if (model->type->output == QC_OUTPUT_COUNTS) {
+        double lo, hi;
+        qc_levels_support(model, levels, nlevels, &lo, &hi);
+        double top = ceil(hi);
+        if (top < (double)(cells - 1))
+            top = (double)(cells - 1);
+        if (top < 1.0)
+            top = 1.0;
+        if (!(top < 9e15))
+            return qc_fail(QC_EINVAL, "count support up to %g is too wide", hi);
+        size_t room = n > COUNT_GRID_MIN ? n : COUNT_GRID_MIN;
+        if (top + 1.0 <= (double)room) {
+            nb = (size_t)top;
+            bounds = qc_malloc_array(nb, sizeof *bounds);
+            if (!bounds)
+                return qc_fail(QC_ENOMEM, "out of memory");
+            for (size_t i = 0; i < nb; i++)
+                bounds[i] = (double)(i + 1);
+            g->exact = 1;
+        } else {
+            bounds = qc_malloc_array(n, sizeof *bounds);
+            if (!bounds)
+                return qc_fail(QC_ENOMEM, "out of memory");
+            st = qc_count_quantiles(model, levels, input, nlevels, top, n, cells,
+                                    bounds, &nb);
+        }
+    } else {
+        nb = n - 1;
+        bounds = qc_malloc_array(nb ? nb : 1, sizeof *bounds);
+        if (!bounds)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        st = qc_blend_quantiles(model, levels, input, nlevels, n, bounds);
+    }
+    if (st != QC_OK)
+        goto fail;
+    g->n = nb + 1;
+    g->bounds = bounds;
+    st = qc_dmc_alloc(nlevels, g->n, &g->p);
+    if (st != QC_OK)
+        goto fail;
+    double *lo = qc_malloc_array(g->n, sizeof *lo);
+    double *hi = qc_malloc_array(g->n, sizeof *hi);
+    if (!lo || !hi)
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    else
+        st = qc_discretize_into(model, levels, nlevels, bounds, nb, lo, hi, g->p);
+    free(lo);
+    free(hi);
+    if (st != QC_OK)
+        goto fail;
+    return QC_OK;
+fail:
+    free(bounds);
+    qc_dmc_free(g->p);
+    memset(g, 0, sizeof *g);
+    return st;
+}
+
+void qc_fine_grid_clear(qc_fine_grid *g)
+{
+    if (!g)
+        return;
+    free(g->bounds);
+    qc_dmc_free(g->p);
+    memset(g, 0, sizeof *g);
+}
+
+/* ---- high-resolution (companding) thresholds ------------------------- */
+
+#define COMPAND_PER_CELL 16
+#define COMPAND_MIN 4096
+#define COMPAND_MAX ((size_t)1 << 20)
+#define COMPAND_FLOOR 1e-3 /* share of a uniform density mixed in */
+
+/* Score ∂/∂y log f(y|x) by a central difference; NAN where f vanishes. */
+static double score(const qc_model *m, double x, double y, double d)
+{
+    double a = m->type->density(m, x, y + d), b = m->type->density(m, x, y - d);
+    if (!(a > 0.0) || !(b > 0.0))
+        return NAN;
+    return (log(a) - log(b)) / (2.0 * d);
+}
+
+qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels, size_t nt,
+                                   double *out)
+{
+    double lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    if (!(hi > lo) || !isfinite(lo) || !isfinite(hi))
+        return qc_fail(QC_ENUMERIC, "model '%s' gives an empty output support",
+                       model->type->name);
+    size_t m = COMPAND_PER_CELL * (nt + 1);
+    m = m < COMPAND_MIN ? COMPAND_MIN : m > COMPAND_MAX ? COMPAND_MAX : m;
+    const double step = (hi - lo) / (double)(m - 1), d = 1e-3 * step;
+    double *lam = qc_malloc_array(m, sizeof *lam);
+    double *cum = qc_malloc_array(m, sizeof *cum);
+    if (!lam || !cum) {
+        free(lam);
+        free(cum);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    double total = 0.0;
+    for (size_t i = 0; i < m; i++) {
+        double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
+        for (size_t x = 0; x < nlevels; x++)
+            if (input[x] > 0.0)
+                f += input[x] * model->type->density(model, levels[x], y);
+        if (f > 0.0 && isfinite(f)) {
+            /* J(y) = Var of the score over the posterior P(x|y) */
+            double s1 = 0.0, s2 = 0.0, wsum = 0.0;
+            for (size_t x = 0; x < nlevels; x++) {
+                if (!(input[x] > 0.0))
+                    continue;
+                double p = input[x] * model->type->density(model, levels[x], y) / f;
+                double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
+                if (!isfinite(s))
+                    continue;
+                wsum += p;
+                s1 += p * s;
+                s2 += p * s * s;
+            }
+            if (wsum > 0.0) {
+                sbar = s1 / wsum;
+                j2 = fmax(0.0, s2 / wsum - sbar * sbar);
+            }
+        }
+        lam[i] = cbrt(f * j2);
+        if (!isfinite(lam[i]))
+            lam[i] = 0.0;
+        total += lam[i];
+    }
+    /* mix in a little of the uniform density so that Λ is strictly
+     * increasing, then invert the trapezoid cumulative by interpolation */
+    double floor_ = COMPAND_FLOOR * (total > 0.0 ? total / (double)m : 1.0);
+    cum[0] = 0.0;
+    for (size_t i = 1; i < m; i++)
+        cum[i] = cum[i - 1] + 0.5 * step * (lam[i - 1] + lam[i] + 2.0 * floor_);
+    size_t k = 0;
+    qc_status st = QC_OK;
+    for (size_t j = 1; j <= nt; j++) {
+        double target = cum[m - 1] * (double)j / (double)(nt + 1);
+        while (k + 2 < m && cum[k + 1] < target)
+            k++;
+        double u = (target - cum[k]) / (cum[k + 1] - cum[k]);
+        out[j - 1] = lo + step * ((double)k + fmin(1.0, fmax(0.0, u)));
+        if (j > 1 && !(out[j - 1] > out[j - 2])) {
+            st = qc_fail(QC_ENUMERIC,
+                         "companding thresholds %zu and %zu coincide (%zu cells on "
+                         "a grid of %zu)",
+                         j - 1, j, nt + 1, m);
+            break;
+        }
+    }
+    free(lam);
+    free(cum);
+    return st;
+}

@@ -1,0 +1,169 @@
+/* quantizer.h — internal interfaces of the threshold-design module
+ * (src/quantizer): cell probabilities into reusable storage, the MI of a
+ * threshold vector with its gradient, and the design strategies that
+ * qc_design dispatches to. Not installed. */
+#ifndef QC_QUANTIZER_H
+#define QC_QUANTIZER_H
+
+#include "core/internal.h"
+
+/* ---- discretize.c ---------------------------------------------------- */
+
+/* Cell probabilities of `levels` for n sorted thresholds into the
+ * preallocated `d` (nlevels × (n + 1)); lo and hi are scratch of length
+ * n. Same accuracy and failures as qc_discretize, but the thresholds and
+ * levels are not checked. */
+qc_status qc_discretize_into(const qc_model *model, const double *levels,
+                             size_t nlevels, const double *t, size_t n,
+                             double *lo, double *hi, qc_dmc *d);
+
+/* ---- cell_mi.c: I(X;Y_q) as a function of the thresholds ------------- */
+
+typedef struct {
+    const qc_model *model;
+    const double *levels;
+    const double *input; /* the law; may be changed between evaluations */
+    size_t nlevels;
+    size_t nt;           /* thresholds: K − 1 */
+    qc_dmc *channel;     /* nlevels × K, the last evaluated channel */
+    double *lo, *hi;     /* scratch, nt each */
+    double *q;           /* output law, K */
+    double *lr;          /* log(P(c|x)/q(c)), nlevels × K */
+} qc_cell_mi;
+
+/* Workspace for K − 1 = nt thresholds. */
+qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
+                           const double *input, size_t nlevels, size_t nt,
+                           qc_cell_mi **out);
+void qc_cell_mi_free(qc_cell_mi *w);
+
+/* I(X;Y_q) in nats for sorted thresholds t (length w->nt); if grad is
+ * not NULL, also ∂I/∂t_j = Σ_x r(x) f(t_j|x) [log(P(j|x)/q(j)) −
+ * log(P(j+1|x)/q(j+1))] (continuous outputs only). Leaves the channel in
+ * w->channel. */
+qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
+                          double *grad);
+
+/* ---- a rate as a function of the thresholds --------------------------- */
+
+/* Objective to maximize: *value (nats) for sorted thresholds t[0..nt). */
+typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
+                                            size_t nt, double *value);
+
+/* ---- uniform.c -------------------------------------------------------- */
+
+/* Uniform quantizer with K = nt + 1 cells maximizing `f`: cell width 2h/K
+ * on the full-scale range [c − h, c + h], outer cells open. Continuous
+ * outputs: a scan and Brent search over h with c at the middle of the
+ * level span, then both ends of the range adjusted by Nelder–Mead.
+ * Counts: integer first threshold and integer step. t_out holds nt
+ * thresholds; *evals (may be NULL) counts objective evaluations. */
+qc_status qc_uniform_search(const qc_model *model, const double *levels,
+                            size_t nlevels, size_t nt, qc_threshold_objective f,
+                            void *ctx, double *t_out, double *value_out,
+                            size_t *evals);
+
+/* ---- lloyd_max.c ------------------------------------------------------ */
+
+/* Minimum-MSE quantizer of Y under the mixture Σ r(x) f(y|x) with K = nt
+ * + 1 cells (Lloyd 1982, Max 1960). t: nt thresholds out (and in, as the
+ * start, when warm_start is set; else the start is the blended-quantile
+ * grid), recon_out: K reconstruction points (conditional means); *mse
+ * and *iterations may be NULL. */
+qc_status qc_lloyd_max(const qc_model *model, const double *levels,
+                       const double *input, size_t nlevels, size_t nt,
+                       int warm_start, double *t, double *recon_out, double *mse,
+                       size_t *iterations);
+
+/* ---- fine_grid.c ------------------------------------------------------ */
+
+typedef struct {
+    size_t n;        /* fine cells */
+    double *bounds;  /* n − 1 strictly increasing boundaries */
+    qc_dmc *p;       /* nlevels × n cell probabilities */
+    int exact;       /* counts: every count of the support has its cell */
+} qc_fine_grid;
+
+/* Default number of fine cells for K cells (see qc_design_request). */
+size_t qc_fine_cells_default(size_t cells);
+
+/* Fine grid of about `n` cells for the levels (n ≥ cells ≥ 2).
+ * Continuous outputs: boundaries at the quantiles of ½·(mixture law under
+ * `input`) + ½·(uniform law on the union of the supports), so there are
+ * fine cells both where the mass is and in the valleys between levels.
+ * Counts: one cell per count 0, 1, …, M − 1 and one for ≥ M (M the top of
+ * the support, at least cells − 1) when M + 1 ≤ max(n, 65536); otherwise
+ * the rounded continuous construction. */
+qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             size_t cells, qc_fine_grid *g);
+void qc_fine_grid_clear(qc_fine_grid *g);
+
+/* The n − 1 boundaries (into out) of n cells equal in G = ½·mixture law
+ * under `input` + ½·uniform law on the union of the supports. */
+qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t n,
+                             double *out);
+
+/* Count outputs: up to n − 1 distinct integer boundaries in [1, top] at
+ * the rounded-up quantiles of G (*nb of them). When that gives fewer than
+ * cells − 1 and top ≥ n, evenly spaced counts instead; otherwise the
+ * caller completes the list. */
+qc_status qc_count_quantiles(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, double top,
+                             size_t n, size_t cells, double *out, size_t *nb);
+
+/* nt thresholds whose density follows the high-resolution MI rule
+ * ∝ (f(y)·J(y))^{1/3} (see fine_grid.c), continuous outputs only. */
+qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels, size_t nt,
+                                   double *out);
+
+/* Union of the supports of all levels. */
+void qc_levels_support(const qc_model *model, const double *levels,
+                       size_t nlevels, double *lo, double *hi);
+
+/* ---- refine.c --------------------------------------------------------- */
+
+/* Continuous refinement of sorted thresholds t (w->nt of them) to a local
+ * maximum of I(X;Y_q), by GSL's vector BFGS2 with the analytic gradient on
+ * log-gap coordinates (so the order is kept). On return t is never worse
+ * than on entry; *mi_nats holds its MI, *iterations (may be NULL) the
+ * minimizer iterations. */
+qc_status qc_refine_continuous(qc_cell_mi *w, double *t, double *mi_nats,
+                               size_t *iterations);
+/* Integer coordinate search for count thresholds (used when the fine grid
+ * could not hold every count): each threshold moves by ±1, ±2, ±4 … while
+ * the MI grows. */
+qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
+                           size_t *iterations);
+
+/* ---- optimal.c -------------------------------------------------------- */
+
+/* MI-optimal thresholds for the law `input` on the fine grid `g` (built
+ * by qc_fine_grid_build for these levels; it may have been built for
+ * another law): qc_dp_quantize, then refinement from the better of the DP
+ * result and the companding rule. t_out: nt thresholds. */
+qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
+                                const double *input, size_t nlevels, size_t nt,
+                                const qc_fine_grid *g, double *t_out,
+                                double *mi_nats, size_t *iterations);
+
+/* ---- design.c ----------------------------------------------------------- */
+
+/* qc_design without the alphabet stages (constraints, QAM, GMI, level
+ * search, dispersion; src/alphabet/input_design.c calls it): the request's
+ * alphabet fields are ignored and the result's are left zero. */
+qc_status qc_design_thresholds(const qc_design_request *req,
+                               qc_design_result *res);
+
+/* ---- joint.c ---------------------------------------------------------- */
+
+/* The capacity objective: thresholds (res->thresholds, res->nthresholds
+ * set by the caller) and input law (res->input, holding the starting law)
+ * for req->quantizer, the final channel in res->channel, rate, bound,
+ * iterations. */
+qc_status qc_design_capacity(const qc_design_request *req,
+                             qc_design_result *res);
+
+#endif

@@ -1,0 +1,271 @@
+/* uniform.c — the uniform (mid-rise ADC) quantizer with an optimized
+ * full-scale range: K cells of equal width 2h/K on [c − h, c + h], the
+ * two outer cells open (clipping). The objective is any rate of the
+ * thresholds (MI or capacity of the quantized channel).
+ *
+ * Continuous outputs, K ≥ 3: c is the middle of the level span (for
+ * intensity models, levels in [0, A], the range is centred on A/2); h is
+ * found by a scan of 64 values up to the output support and GSL's Brent
+ * minimizer (Brent, Algorithms for Minimization without Derivatives, 1973)
+ * around the best; then both ends c − h and c + h are adjusted together by
+ * the Nelder–Mead simplex (GSL nmsimplex2; Nelder & Mead, Computer
+ * Journal 7, 1965), which matters for asymmetric noise or level sets.
+ * K = 2: one threshold, whose position is searched the same way.
+ * Count outputs: integer thresholds t_1 + (j − 1)·Δ, searched over the
+ * integers t_1 ≥ 1 and Δ ≥ 1 (exhaustively when small, else on a lattice
+ * refined around its best point). */
+#include "quantizer/quantizer.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_min.h>
+#include <gsl/gsl_multimin.h>
+
+#define SCAN_POINTS 64
+#define BRENT_MAX_ITER 100
+#define SIMPLEX_MAX_ITER 400
+#define SIMPLEX_WORK ((size_t)1 << 22) /* iterations × thresholds × levels */
+#define COUNT_BUDGET 20000 /* exhaustive integer search up to this many */
+
+typedef struct {
+    qc_threshold_objective f;
+    void *ctx;
+    size_t nt;
+    double *t;
+    double best;
+    double *best_t;
+    size_t evals;
+    qc_status st;
+} search;
+
+/* Rate of the thresholds in s->t; records the best seen. */
+static qc_status eval_current(search *s, double *value)
+{
+    qc_status st = s->f(s->ctx, s->t, s->nt, value);
+    s->evals++;
+    if (st != QC_OK)
+        return st;
+    if (*value > s->best) {
+        s->best = *value;
+        for (size_t j = 0; j < s->nt; j++)
+            s->best_t[j] = s->t[j];
+    }
+    return QC_OK;
+}
+
+/* Rate of the uniform quantizer on [a, b]; -INFINITY for a range too
+ * narrow to hold distinct thresholds. */
+static qc_status eval_range(search *s, double a, double b, double *value)
+{
+    const size_t K = s->nt + 1;
+    *value = -INFINITY;
+    if (!(b > a))
+        return QC_OK;
+    for (size_t j = 1; j < K; j++)
+        s->t[j - 1] = a + (b - a) * (double)j / (double)K;
+    for (size_t j = 1; j < s->nt; j++)
+        if (!(s->t[j] > s->t[j - 1]))
+            return QC_OK;
+    return eval_current(s, value);
+}
+
+typedef struct {
+    search *s;
+    double c;     /* centre (K ≥ 3) */
+    int position; /* K = 2: the argument is the threshold itself */
+} line;
+
+/* −rate along the line: half-width h (K ≥ 3) or the threshold (K = 2).
+ * A failure is recorded in s->st and reads as a bad point. */
+static double line_neg(double x, void *p)
+{
+    line *l = p;
+    double v;
+    qc_status st;
+    if (l->position) {
+        l->s->t[0] = x;
+        st = eval_current(l->s, &v);
+    } else {
+        st = eval_range(l->s, l->c - x, l->c + x, &v);
+    }
+    if (st != QC_OK) {
+        if (l->s->st == QC_OK)
+            l->s->st = st;
+        return 1.0;
+    }
+    return isfinite(v) ? -v : 1.0;
+}
+
+/* Scan x over [x0, x1] then Brent around the best point. */
+static qc_status scan_and_brent(line *l, double x0, double x1)
+{
+    double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
+    size_t ib = 0;
+    for (size_t i = 0; i <= SCAN_POINTS; i++) {
+        xs[i] = x0 + (x1 - x0) * (double)i / SCAN_POINTS;
+        vs[i] = line_neg(xs[i], l);
+        if (l->s->st != QC_OK)
+            return l->s->st;
+        if (vs[i] < vs[ib])
+            ib = i;
+    }
+    if (ib == 0 || ib == SCAN_POINTS || !(vs[ib] < vs[ib - 1]) ||
+        !(vs[ib] < vs[ib + 1]))
+        return QC_OK; /* best at an end or on a plateau: the scan decides */
+    gsl_min_fminimizer *m = gsl_min_fminimizer_alloc(gsl_min_fminimizer_brent);
+    if (!m)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    gsl_function fn = {line_neg, l};
+    int rc = gsl_min_fminimizer_set_with_values(m, &fn, xs[ib], vs[ib], xs[ib - 1],
+                                                vs[ib - 1], xs[ib + 1], vs[ib + 1]);
+    for (int it = 0; rc == GSL_SUCCESS && it < BRENT_MAX_ITER; it++) {
+        rc = gsl_min_fminimizer_iterate(m);
+        if (rc != GSL_SUCCESS || l->s->st != QC_OK)
+            break;
+        double a = gsl_min_fminimizer_x_lower(m), b = gsl_min_fminimizer_x_upper(m);
+        if (gsl_min_test_interval(a, b, 1e-11 * (x1 - x0), 0.0) == GSL_SUCCESS)
+            break;
+    }
+    gsl_min_fminimizer_free(m);
+    return l->s->st; /* a Brent failure leaves the scan's best, not an error */
+}
+
+static double ends_neg(const gsl_vector *v, void *p)
+{
+    search *s = p;
+    double val;
+    qc_status st = eval_range(s, gsl_vector_get(v, 0), gsl_vector_get(v, 1), &val);
+    if (st != QC_OK) {
+        if (s->st == QC_OK)
+            s->st = st;
+        return 1.0;
+    }
+    return isfinite(val) ? -val : 1.0;
+}
+
+/* Nelder–Mead on both ends of the range, from the best range found;
+ * at most SIMPLEX_MAX_ITER iterations, fewer for very many thresholds. */
+static qc_status adjust_ends(search *s, double a, double b, size_t nlevels)
+{
+    size_t maxit = SIMPLEX_WORK / (s->nt * nlevels);
+    maxit = maxit < 10 ? 10 : maxit > SIMPLEX_MAX_ITER ? SIMPLEX_MAX_ITER : maxit;
+    const double h = 0.5 * (b - a);
+    gsl_multimin_fminimizer *m =
+        gsl_multimin_fminimizer_alloc(gsl_multimin_fminimizer_nmsimplex2, 2);
+    gsl_vector *x = gsl_vector_alloc(2), *step = gsl_vector_alloc(2);
+    qc_status st = QC_OK;
+    if (!m || !x || !step) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    gsl_vector_set(x, 0, a);
+    gsl_vector_set(x, 1, b);
+    gsl_vector_set_all(step, 0.05 * h);
+    gsl_multimin_function fn = {ends_neg, 2, s};
+    if (gsl_multimin_fminimizer_set(m, &fn, x, step) != GSL_SUCCESS)
+        goto done;
+    for (size_t it = 0; it < maxit && s->st == QC_OK; it++) {
+        if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
+            break;
+        if (gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), 1e-10 * h) ==
+            GSL_SUCCESS)
+            break;
+    }
+    st = s->st;
+done:
+    gsl_vector_free(x);
+    gsl_vector_free(step);
+    gsl_multimin_fminimizer_free(m);
+    return st;
+}
+
+/* ---- count outputs -------------------------------------------------- */
+
+static qc_status eval_lattice(search *s, double t1, double d)
+{
+    double v;
+    for (size_t j = 0; j < s->nt; j++)
+        s->t[j] = t1 + d * (double)j;
+    return eval_current(s, &v);
+}
+
+/* t_1 ∈ [1, top], Δ ∈ [1, ⌈top/(nt − 1)⌉]: every pair when there are at most
+ * COUNT_BUDGET, else a lattice of about that many pairs whose strides are
+ * halved around the best point until they reach 1. */
+static qc_status count_search(search *s, double top)
+{
+    const double n1 = top;
+    const double n2 = s->nt >= 2 ? fmax(1.0, ceil(top / (double)(s->nt - 1))) : 1.0;
+    double p1 = fmin(n1, fmin(COUNT_BUDGET, fmax(1.0, sqrt(COUNT_BUDGET * n1 / n2))));
+    double p2 = fmin(n2, fmax(1.0, floor(COUNT_BUDGET / p1)));
+    double st1 = ceil(n1 / p1), st2 = ceil(n2 / p2);
+    qc_status st;
+    for (double t1 = 1.0; t1 <= n1; t1 += st1)
+        for (double d = 1.0; d <= n2; d += st2)
+            if ((st = eval_lattice(s, t1, d)) != QC_OK)
+                return st;
+    while (st1 > 1.0 || st2 > 1.0) {
+        double b1 = s->best_t[0];
+        double b2 = s->nt >= 2 ? s->best_t[1] - s->best_t[0] : 1.0;
+        double h1 = fmax(1.0, floor(st1 / 2.0)), h2 = fmax(1.0, floor(st2 / 2.0));
+        for (double t1 = fmax(1.0, b1 - st1); t1 <= b1 + st1; t1 += h1)
+            for (double d = fmax(1.0, b2 - st2); d <= fmin(n2, b2 + st2); d += h2)
+                if ((st = eval_lattice(s, t1, d)) != QC_OK)
+                    return st;
+        st1 = h1;
+        st2 = h2;
+    }
+    return QC_OK;
+}
+
+qc_status qc_uniform_search(const qc_model *model, const double *levels,
+                            size_t nlevels, size_t nt, qc_threshold_objective f,
+                            void *ctx, double *t_out, double *value_out,
+                            size_t *evals)
+{
+    qc_gsl_init();
+    search s = {f, ctx, nt, NULL, -INFINITY, t_out, 0, QC_OK};
+    s.t = qc_malloc_array(nt, sizeof *s.t);
+    if (!s.t)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    double lmin = levels[0], lmax = levels[0];
+    for (size_t i = 1; i < nlevels; i++) {
+        lmin = fmin(lmin, levels[i]);
+        lmax = fmax(lmax, levels[i]);
+    }
+    qc_status st;
+    if (model->type->output == QC_OUTPUT_COUNTS) {
+        /* first threshold and step within the support: thresholds above
+         * it only add empty cells */
+        st = count_search(&s, fmax(ceil(hi), 1.0));
+    } else if (nt == 1) {
+        line l = {&s, 0.0, 1};
+        st = scan_and_brent(&l, lo, hi);
+    } else {
+        double c = 0.5 * (lmin + lmax);
+        double hmax = fmax(hi - c, c - lo);
+        line l = {&s, c, 0};
+        st = scan_and_brent(&l, 0.0, hmax);
+        if (st == QC_OK && isfinite(s.best)) {
+            double w = s.best_t[1] - s.best_t[0]; /* cell width */
+            double a = s.best_t[0] - w;
+            st = adjust_ends(&s, a, a + (double)(nt + 1) * w, nlevels);
+        }
+    }
+    free(s.t);
+    if (st != QC_OK)
+        return st;
+    if (!isfinite(s.best))
+        return qc_fail(QC_ENUMERIC,
+                       "uniform quantizer: no range gave a finite rate (model '%s')",
+                       model->type->name);
+    if (value_out)
+        *value_out = s.best;
+    if (evals)
+        *evals = s.evals;
+    return QC_OK;
+}

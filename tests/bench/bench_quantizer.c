@@ -1,0 +1,124 @@
+/* bench_quantizer.c — timing of the MI-optimal quantizer search:
+ * the SMAWK dynamic programme on N = 2^12, 2^13, 2^14 fine cells into
+ * K = 256 cells (targets: < 1 s at 2^14, growth ≤ 2.2× per doubling of N,
+ * i.e. linear in N), and a complete qc_design (optimal, MI) for PAM-4 at
+ * 3 bits. Each DP time is the best of ROUNDS rounds over all sizes, in
+ * process CPU time (the machine may be shared; wall time is printed
+ * too). Prints the figures; exits 1 if a target is missed. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <time.h>
+
+#include "quantcap.h"
+
+#define TARGET_SECONDS 1.0
+#define TARGET_GROWTH 2.2
+#define CELLS 256
+#define ROUNDS 5
+
+static double clock_seconds(clockid_t id)
+{
+    struct timespec ts;
+    clock_gettime(id, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static double now(void) { return clock_seconds(CLOCK_MONOTONIC); }
+/* CPU time of this (single-threaded) process: what the DP costs, without
+ * the time other processes hold the core. */
+static double cpu(void) { return clock_seconds(CLOCK_PROCESS_CPUTIME_ID); }
+
+static int fail(const char *what)
+{
+    fprintf(stderr, "bench_quantizer: %s: %s\n", what, qc_last_error());
+    return 1;
+}
+
+int main(void)
+{
+    const double sigma = 0.5, levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    const double law[4] = {0.25, 0.25, 0.25, 0.25};
+    qc_model *m;
+    if (qc_model_alloc(&qc_model_gauss, &sigma, &m) != QC_OK)
+        return fail("model");
+    double worst_growth = 0.0, last = 0.0;
+    for (size_t nx = 4; nx >= 2; nx -= 2) {
+        const double *lv = nx == 4 ? levels : levels + 1; /* PAM-4 or ±1 */
+        const double *r = nx == 4 ? law : (const double[]){0.5, 0.5};
+        qc_dmc *fine[3];
+        double best[3] = {INFINITY, INFINITY, INFINITY}, wall[3], mi[3];
+        size_t *cuts = malloc((CELLS + 1) * sizeof *cuts);
+        if (!cuts)
+            return 1;
+        for (int e = 0; e < 3; e++) {
+            size_t n = (size_t)1 << (12 + e);
+            double *t = malloc((n - 1) * sizeof *t);
+            if (!t)
+                return 1;
+            for (size_t i = 0; i + 1 < n; i++)
+                t[i] = -6.0 + 12.0 * (double)(i + 1) / (double)n;
+            if (qc_discretize(m, lv, nx, t, n - 1, &fine[e]) != QC_OK)
+                return fail("fine grid");
+            free(t);
+        }
+        /* rounds over all sizes, so that a change of machine load hits
+         * every size alike; the best time of each size counts */
+        for (int e = 0; e < 3; e++)
+            wall[e] = INFINITY;
+        for (int round = 0; round < ROUNDS; round++)
+            for (int e = 0; e < 3; e++) {
+                double t0 = cpu(), w0 = now();
+                if (qc_dp_quantize(fine[e], r, CELLS, QC_DP_FAST, cuts, &mi[e]) != QC_OK)
+                    return fail("DP");
+                best[e] = fmin(best[e], cpu() - t0);
+                wall[e] = fmin(wall[e], now() - w0);
+            }
+        printf("DP (SMAWK) of %s, sigma %.2f, into K = %d cells (best of %d rounds):\n",
+               nx == 4 ? "PAM-4" : "BPSK", sigma, CELLS, ROUNDS);
+        for (int e = 0; e < 3; e++) {
+            printf("  N = %6zu: %.3f s CPU (%.3f s wall)  I = %.12f bits", fine[e]->ny,
+                   best[e], wall[e], mi[e] * QC_LOG2E);
+            if (e > 0) {
+                double g = best[e] / best[e - 1];
+                if (nx == 4)
+                    worst_growth = fmax(worst_growth, g);
+                printf("  growth x%.2f (CPU)", g);
+            }
+            printf("\n");
+            qc_dmc_free(fine[e]);
+        }
+        if (nx == 4)
+            last = best[2];
+        free(cuts);
+    }
+    printf("target (PAM-4): < %.1f s at N = 16384 (%s), growth <= %.1f per doubling "
+           "(%s)\n",
+           TARGET_SECONDS, last < TARGET_SECONDS ? "met" : "MISSED", TARGET_GROWTH,
+           worst_growth <= TARGET_GROWTH ? "met" : "MISSED");
+    int ok = last < TARGET_SECONDS && worst_growth <= TARGET_GROWTH;
+
+    /* A complete design: fine grid, DP, refinement, references. */
+    qc_design_request r;
+    qc_design_request_default(&r);
+    r.model = m;
+    r.levels = levels;
+    r.nlevels = 4;
+    r.cells = 8;
+    r.quantizer = QC_QUANTIZER_OPTIMAL;
+    for (int with_penalty = 0; with_penalty <= 1; with_penalty++) {
+        r.skip_snr_penalty = !with_penalty;
+        qc_design_result res;
+        double t0 = now();
+        if (qc_design(&r, &res) != QC_OK)
+            return fail("design");
+        double dt = now() - t0;
+        printf("qc_design optimal/MI, PAM-4 at %.2f dB, 3 bits%s: %.1f ms "
+               "(rate %.9f bits, unquantized %.9f, fine grid %zu)\n",
+               res.snr_db, with_penalty ? ", with SNR penalty" : "", 1e3 * dt,
+               res.rate_bits, res.unquantized_bits, res.fine_cells);
+        qc_design_result_clear(&res);
+    }
+    qc_model_free(m);
+    return ok ? 0 : 1;
+}

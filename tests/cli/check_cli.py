@@ -1,0 +1,285 @@
+#!/usr/bin/python3
+"""Command-line contract of quantcap: JSON keys, exit codes, messages that
+name the culprit, and no partial output files.
+
+Usage: check_cli.py PATH/TO/quantcap
+Reference values: closed forms from Cover & Thomas, Elements of Information
+Theory (2nd ed.), ch. 7, and scipy.stats.norm (Debian python3-scipy)."""
+import collections
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+
+from scipy.stats import norm
+
+QC = sys.argv[1]
+failures = []
+checks = 0
+
+
+def run(*args, input_text=None):
+    p = subprocess.run([QC, *args], capture_output=True, text=True, input=input_text)
+    return p.returncode, p.stdout, p.stderr
+
+
+def check(cond, what):
+    global checks
+    checks += 1
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+def h2(p):
+    return 0.0 if p in (0.0, 1.0) else -p * math.log2(p) - (1 - p) * math.log2(1 - p)
+
+
+def expect_error(args, code, needle, what):
+    rc, out, err = run(*args)
+    check(rc == code, f"{what}: exit {rc}, expected {code} (stderr: {err.strip()})")
+    check(err.startswith("quantcap: error: "), f"{what}: stderr starts with 'quantcap: error: ' ({err.strip()})")
+    check(needle in err, f"{what}: message names '{needle}' ({err.strip()})")
+    check(out == "", f"{what}: nothing on stdout")
+
+
+def parse(text, what):
+    """JSON of a command's output; a failure is recorded, not raised."""
+    try:
+        return json.loads(text)
+    except ValueError:
+        check(False, f"{what}: output is JSON")
+        return collections.defaultdict(lambda: math.nan)
+
+
+tmp = tempfile.mkdtemp(prefix="qc-cli-")
+
+
+def write(name, text):
+    path = os.path.join(tmp, name)
+    with open(path, "w") as f:
+        f.write(text)
+    return path
+
+
+# --- capacity ------------------------------------------------------------
+bsc = write("bsc.txt", "# BSC\n0.89 0.11\n0.11, 0.89\n")
+rc, out, err = run("capacity", bsc, "--json")
+check(rc == 0, f"capacity BSC exit {rc}: {err}")
+j = parse(out, "json 2")
+for key in ("capacity_bits", "upper_bound_bits", "input_distribution", "iterations"):
+    check(key in j, f"capacity JSON has key {key}")
+# BSC: C = 1 - h2(p) (Cover & Thomas, eq. 7.11)
+check(abs(j["capacity_bits"] - (1 - h2(0.11))) < 1e-9, "capacity BSC = 1 - h2(0.11)")
+check(j["upper_bound_bits"] - j["capacity_bits"] <= 1e-9 + 1e-15, "certified gap <= 1e-9")
+check(j["upper_bound_bits"] >= j["capacity_bits"], "upper bound >= capacity")
+
+rc, out, _ = run("capacity", bsc)
+check(rc == 0 and "bit/use" in out and "upper bound" in out, "capacity human output states certificate")
+
+rc, out_plain, _ = run("capacity", bsc, "--json", "--plain")
+check(rc == 0 and abs(parse(out_plain, "json 3")["capacity_bits"] - (1 - h2(0.11))) < 1e-9,
+      "capacity --plain")
+
+# Binary erasure channel, C = 1 - e (Cover & Thomas, eq. 7.16), with a cost
+# making the budget inactive (multiplier 0).
+bec = write("bec.txt", "0.75 0.25 0\n0 0.25 0.75\n")
+rc, out, err = run("capacity", bec, "--json", "--costs", "0,1", "--budget", "0.9")
+check(rc == 0, f"capacity with costs: {err}")
+j = parse(out, "json 4")
+check(abs(j["capacity_bits"] - 0.75) < 1e-9, "BEC capacity 1 - e")
+for key in ("cost", "multiplier"):
+    check(key in j, f"capacity-cost JSON has key {key}")
+check(abs(j["multiplier"]) < 1e-12, "inactive budget: multiplier 0")
+
+# Active budget: average cost meets the budget within 1e-9 relative.
+rc, out, err = run("capacity", bec, "--json", "--costs", "0,1", "--budget", "0.2")
+check(rc == 0, f"active budget: {err}")
+j = parse(out, "json 5")
+check(abs(j["cost"] - 0.2) <= 1e-9 * 0.2, f"active budget met: cost {j['cost']}")
+check(j["multiplier"] > 0, "active budget: multiplier > 0")
+# BEC with P(x=1) = 0.2: I = (1 - e) h2(0.2) (Cover & Thomas, sec. 7.1.5)
+check(abs(j["capacity_bits"] - 0.75 * h2(0.2)) < 1e-8, "BEC capacity at input cost 0.2")
+
+# --- capacity: bad input -----------------------------------------------
+expect_error(["capacity", os.path.join(tmp, "missing.txt")], 2, "missing.txt: cannot open", "missing file")
+expect_error(["capacity", tmp], 2, "is a directory", "directory as file")
+expect_error(["capacity", write("ragged.txt", "0.5 0.5\n1\n")], 2, "ragged.txt:2:", "ragged rows")
+expect_error(["capacity", write("nan.txt", "nan 1\n")], 2, "nan.txt:1:", "NaN entry")
+expect_error(["capacity", write("word.txt", "0.5 half\n")], 2, "'half' is not a number", "non-number")
+expect_error(["capacity", write("empty.txt", "")], 2, "empty.txt: no matrix rows", "empty file")
+expect_error(["capacity", write("sum.txt", "1 0\n0.3 0.6\n")], 2, "row 2 sums to", "row sum")
+expect_error(["capacity", write("neg.txt", "1.2 -0.2\n")], 2, "negative probability", "negative entry")
+expect_error(["capacity", bsc, "--costs", "0,1,2", "--budget", "1"], 2, "--costs: 3 values", "costs length")
+expect_error(["capacity", bsc, "--costs", "1,2", "--budget", "0.5"], 2, "budget", "infeasible budget")
+expect_error(["capacity", bsc, "--costs", "0,1"], 2, "--costs and --budget go together", "costs without budget")
+expect_error(["capacity", bsc, "--tol", "-1"], 2, "--tol", "negative tolerance")
+expect_error(["capacity", bsc, "--tol", "abc"], 2, "--tol: 'abc' is not a number", "tolerance not a number")
+expect_error(["capacity", bsc, "--tl", "1e-9"], 2, "did you mean '--tol'", "misspelt option")
+expect_error(["capacity"], 2, "expected one matrix FILE", "no file")
+zch = write("z.txt", "1 0\n0.5 0.5\n")
+expect_error(["capacity", zch, "--max-iterations", "2", "--plain"], 1, "iteration", "iteration limit is exit 1")
+expect_error(["nosuchcommand"], 2, "unknown command", "unknown command")
+
+# --- output files: complete or absent ------------------------------------
+outp = os.path.join(tmp, "cap.json")
+rc, _, _ = run("capacity", bsc, "--json", "--output", outp)
+check(rc == 0 and json.load(open(outp))["capacity_bits"] > 0.49, "--output writes the file")
+bad_out = os.path.join(tmp, "bad.json")
+rc, _, _ = run("capacity", write("bad.txt", "0.5 0.4\n"), "--json", "--output", bad_out)
+check(rc == 2 and not os.path.exists(bad_out), "no output file on failure")
+check(not [f for f in os.listdir(tmp) if ".tmp." in f], "no temporary files left behind")
+
+# --- channel -------------------------------------------------------------
+rc, out, err = run("channel", "--model", "gauss", "--sigma", "0.5", "--levels", "-1,1",
+                   "--thresholds", "-0.5,0,0.5", "--json")
+check(rc == 0, f"channel exit {rc}: {err}")
+m = parse(out, "json 6").get("matrix", [[math.nan] * 4] * 2)
+edges = [-math.inf, -0.5, 0.0, 0.5, math.inf]
+for i, x in enumerate((-1.0, 1.0)):
+    for c in range(4):
+        # cell probability from scipy.stats.norm (independent reference)
+        ref = norm.cdf(edges[c + 1], loc=x, scale=0.5) - norm.cdf(edges[c], loc=x, scale=0.5)
+        check(abs(m[i][c] - ref) < 1e-12, f"channel cell ({i},{c}) vs scipy.stats.norm")
+
+rc, out, _ = run("channel", "--model", "gauss", "--sigma", "1", "--levels", "0,1",
+                 "--thresholds", "0.5", "--csv")
+lines = out.strip().split("\n")
+check(rc == 0 and lines[0] == "level,cell1,cell2" and len(lines) == 3, "channel CSV header and rows")
+
+expect_error(["channel", "--model", "gauss", "--sigma", "-1", "--levels", "0,1", "--thresholds", "0"],
+             2, "'sigma' must be > 0", "sigma <= 0")
+expect_error(["channel", "--model", "gauss", "--sigma", "1", "--levels", "0,1", "--thresholds", "1,0"],
+             2, "strictly increasing", "unsorted thresholds")
+expect_error(["channel", "--model", "gauss", "--sigma", "1", "--levels", "0,1", "--thresholds", "0,0"],
+             2, "strictly increasing", "duplicate thresholds")
+expect_error(["channel", "--model", "nosuch", "--levels", "0,1", "--thresholds", "0"],
+             2, "unknown model 'nosuch'", "unknown model")
+expect_error(["channel", "--model", "gauss", "--levels", "0,1", "--thresholds", "0"],
+             2, "'sigma' is required", "missing model parameter")
+expect_error(["channel", "--model", "gauss", "--sigma", "1", "--levels", "0,,1", "--thresholds", "0"],
+             2, "--levels: value 2 is empty", "empty list value")
+expect_error(["channel", "--model", "gauss", "--sigma", "1", "--levels", "0,1", "--thresholds", "0",
+              "--json", "--csv"], 2, "exclude each other", "json and csv")
+
+# --- design --------------------------------------------------------------
+rc, out, err = run("design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "1",
+                   "--thresholds", "0", "--json")
+check(rc == 0, f"design fixed exit {rc}: {err}")
+j = parse(out, "json 7")
+for key in ("rate_bits", "unquantized_bits", "thresholds", "levels", "input_distribution"):
+    check(key in j, f"design JSON has key {key}")
+# hard-decision BPSK: 1 - h2(Q(sqrt(snr))) (REFERENCES.md; Q from scipy.stats.norm.sf)
+check(abs(j["rate_bits"] - (1 - h2(norm.sf(1.0)))) < 1e-9, "1-bit BPSK rate")
+
+rc, out, err = run("design", "--model", "gauss", "--snr-db", "10", "--levels", "-3,-1,1,3", "--bits", "3",
+                   "--objective", "capacity", "--json")
+check(rc == 0, f"design capacity exit {rc}: {err}")
+j = parse(out, "json 8")
+check("upper_bound_bits" in j, "capacity design reports upper_bound_bits")
+check(j["upper_bound_bits"] >= j["rate_bits"] - 1e-12, "upper bound >= rate")
+check(abs(j.get("parameters", {}).get("sigma", math.nan) - math.sqrt(5.0 / 10.0)) < 1e-12, "--snr-db sets sigma from E[x^2] = 5")
+
+rc, out, _ = run("design", "--model", "gauss", "--snr-db", "10", "--levels", "-1,1", "--bits", "2")
+check(rc == 0 and "bit/use" in out and "unquantized" in out, "design human output")
+
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "0"], 2,
+             "--bits: '0' is not a whole number from 1 to 16", "bits 0")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "64"], 2,
+             "--bits", "bits 64")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--snr-db", "3", "--levels", "-1,1",
+              "--bits", "2"], 2, "not both", "sigma and snr")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1"], 2,
+             "exactly one of 'bits' and 'cells'", "no resolution")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "2",
+              "--objective", "speed"], 2, "unknown value 'speed'", "bad objective")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "2",
+              "--thresholds", "0"], 2, "1 thresholds make 2 cells", "threshold count")
+expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,inf", "--bits", "2"], 2,
+             "--levels: value 2 'inf' is not a finite number", "infinite level")
+
+# --- noise models and the physical front end ------------------------------
+rc, out, _ = run("models")
+for name in ("gauss", "gauss-sd", "poisson", "apd", "apd-gauss", "preamp", "table"):
+    check(rc == 0 and any(line.split()[0] == name for line in out.splitlines() if line.strip()),
+          f"models lists {name}")
+rc, out, _ = run("models", "apd")
+check(rc == 0 and "--gain" in out and "--sigma-th" in out and "electrons" in out,
+      "models NAME lists parameters with units")
+
+# on-off keying with ideal photon counting and no background is a Z channel
+# with p = exp(-n_s) (REFERENCES.md, photon counting)
+rc, out, err = run("channel", "--model", "poisson", "--signal", "2", "--levels", "0,1",
+                   "--thresholds", "1", "--json")
+m = parse(out, "poisson channel").get("matrix", [[math.nan] * 2] * 2)
+check(rc == 0 and m[0] == [1.0, 0.0] and abs(m[1][0] - math.exp(-2.0)) < 1e-15,
+      f"poisson OOK channel is a Z channel ({err.strip()})")
+expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "0,1",
+              "--thresholds", "1.5"], 2, "whole photon count", "fractional count threshold")
+expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "-1,1",
+              "--thresholds", "1"], 2, "level 1", "negative intensity level")
+expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "0.5", "--sigma-th", "10",
+              "--levels", "0,1", "--thresholds", "100"], 2, "'gain' must be >= 1", "APD gain < 1")
+expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "10", "--k", "1.5",
+              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'k' must be <= 1",
+             "APD k > 1")
+expect_error(["channel", "--model", "gauss", "--signal", "3", "--sigma", "1", "--levels", "0,1",
+              "--thresholds", "0"], 2, "--signal is not a parameter of model 'gauss'",
+             "parameter of another model")
+expect_error(["channel", "--model", "table", "--thresholds", "1"], 2, "needs --table",
+             "table model without file")
+badtab = write("badtable.txt", "levels 0 1\n0 1 1\n1 0.5\n")
+expect_error(["channel", "--model", "table", "--table", badtab, "--thresholds", "0.5"], 2,
+             "badtable.txt:3:", "malformed table names file:line")
+
+# physical receiver routes (units in docs/models.md)
+pin = ["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+       "--extinction-db", "10", "--responsivity", "0.8", "--bandwidth", "20e9",
+       "--thermal-density", "15", "--bits", "3", "--json"]
+rc, out, err = run(*pin)
+j = parse(out, "PIN front end")
+# mean photocurrent of the top level: R * P1 with P1 = 2 Pavg r/(r+1), r = 10 dB
+p_avg = 1e-3 * 10 ** (-12 / 10)
+p1 = 2 * p_avg * 10 / 11
+check(rc == 0 and abs(j.get("levels", [0] * 4)[-1] - 0.8 * p1) < 1e-12 * 0.8 * p1,
+      f"PIN front end: top level is R*P1 ({err.strip()})")
+rc, out, err = run("design", "--model", "poisson", "--alphabet", "upam:2", "--power-dbm", "-70",
+                   "--slot-time", "1e-9", "--wavelength-nm", "1550", "--efficiency", "0.8",
+                   "--bits", "2", "--json")
+j = parse(out, "photon front end")
+# n = eta P T / (h c / lambda) with P = 2 Pavg for on-off keying (REFERENCES.md)
+h, c = 6.62607015e-34, 299792458.0  # SI 2019 exact constants
+n_ref = 0.8 * 2 * 1e-3 * 10 ** (-7) * 1e-9 / (h * c / 1550e-9)
+check(rc == 0 and abs(j.get("parameters", {}).get("signal", 0) / n_ref - 1) < 1e-5,
+      f"photons per slot from the front end ({err.strip()})")
+rc, out, err = run("design", "--model", "gauss", "--osnr-db", "20", "--symbol-rate", "25e9",
+                   "--polarizations", "1", "--alphabet", "pam:2", "--bits", "1", "--json")
+j = parse(out, "OSNR route")
+# SNR = OSNR * 2 B_ref / (p R_s) (Essiambre et al. 2010): 100 * 2 * 12.5/25 = 100
+check(rc == 0 and abs(j.get("parameters", {}).get("sigma", 0) - 0.1) < 1e-12,
+      f"OSNR route: sigma = sqrt(1/100) ({err.strip()})")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "pam:4", "--power-dbm", "-12",
+              "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
+             2, "needs an intensity alphabet", "front end with bipolar alphabet")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
+             2, "'responsivity' (A/W) is required", "front end without responsivity")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--responsivity", "-0.8", "--bits", "2"], 2, "--responsivity: must be > 0",
+             "negative responsivity")
+expect_error(["design", "--model", "apd", "--alphabet", "upam:2", "--power-dbm", "-30",
+              "--responsivity", "0.8", "--thermal-density", "10", "--apd-gain", "10",
+              "--apd-k", "2", "--slot-time", "1e-10", "--bits", "2"], 2, "--apd-k: must be <= 1",
+             "APD k out of range")
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+              "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10",
+              "--sigma0", "1", "--bits", "2"], 2, "not both", "front end and model parameters")
+
+for cmd in ("capacity", "channel", "design", "models"):
+    rc, out, _ = run(cmd, "--help")
+    check(rc == 0 and "usage: quantcap " + cmd in out, f"{cmd} --help")
+
+print(f"{checks - len(failures)} passed, {len(failures)} failed")
+sys.exit(1 if failures else 0)
