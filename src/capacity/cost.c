@@ -254,14 +254,14 @@ static qc_status locate(search *se, double s, double d0, double s_max)
         warm_start(se, s);
         f = run_at(se, s);
     }
-    if (se->status != QC_OK)
+    if (se->status != QC_OK || fabs(f) <= se->target)
         return QC_OK;
     if (!se->have_hi)
         return qc_fail(QC_ENUMERIC,
                        "capacity-cost: no multiplier up to %.3g brings the cost "
                        "down to the budget %.17g",
                        s, beta);
-    if (fabs(f) <= se->target || !se->have_lo)
+    if (!se->have_lo)
         return QC_OK;
     return refine_multiplier(se);
 }
@@ -284,9 +284,11 @@ static double final_law(search *se)
         memcpy(ws->r, ws->r_lo, ws->nx * sizeof *ws->r);
         return se->s_lo;
     }
-    if (!se->have_lo) {
-        memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
-        return se->s_hi;
+    if (!se->have_lo || !se->have_hi) {
+        /* one side only (the search stopped early): its law, which
+         * enforce_budget brings within the budget if needed */
+        memcpy(ws->r, se->have_hi ? ws->r_hi : ws->r_lo, ws->nx * sizeof *ws->r);
+        return se->have_hi ? se->s_hi : se->s_lo;
     }
     double theta = (beta - se->cost_hi) / (se->cost_lo - se->cost_hi);
     theta = fmin(1.0, fmax(0.0, theta));
@@ -412,7 +414,7 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
         se.s_rtol = S_RTOL;
         if (st == QC_OK && se.status == QC_OK)
             st = locate(&se, s, fine_tol < COARSE_TOL ? FINE_STEP : 3.0, s_max);
-        if (st == QC_OK && se.have_hi)
+        if (st == QC_OK && (se.have_hi || se.have_lo))
             s_final = final_law(&se);
     }
     if (st != QC_OK)
