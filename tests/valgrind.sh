@@ -1,7 +1,8 @@
 #!/bin/sh
 # valgrind.sh — run the command line under valgrind memcheck: one `design`
-# (every threshold strategy side by side, JSON to a file) and one `sweep`
-# when the command exists; fails on any memory error or leak.
+# (every threshold strategy side by side, JSON to a file), one APD design
+# (FFTW) and one `sweep` (tests/valgrind_sweep.ini: 8 points on two threads,
+# with a plot); fails on any memory error or leak.
 #
 #   tests/valgrind.sh [PATH/TO/quantcap]     (default: build/quantcap)
 #
@@ -29,7 +30,8 @@ failed=0
 
 # --errors-for-leak-kinds=definite,indirect,possible: a leak of any kind
 # that memcheck can prove fails the run; "still reachable" blocks are
-# libraries' one-time allocations (GSL, FFTW wisdom, the C runtime).
+# libraries' one-time allocations (GSL, FFTW wisdom, the C runtime), and
+# tests/valgrind.supp names the only suppressed report (libgomp's pool).
 memcheck() {
     name=$1
     shift
@@ -37,6 +39,7 @@ memcheck() {
     valgrind --tool=memcheck --error-exitcode=99 --leak-check=full \
         --show-leak-kinds=definite,indirect,possible \
         --errors-for-leak-kinds=definite,indirect,possible \
+        --suppressions="$here/valgrind.supp" \
         --track-origins=yes --log-file="$log" "$qc" "$@" >"$work/$name.out" 2>&1
     status=$?
     summary=$(grep -h 'ERROR SUMMARY' "$log" | tail -n 1 | sed 's/^==[0-9]*== //')
@@ -57,13 +60,7 @@ memcheck design design --model gauss --snr-db 12 --alphabet pam:4 --bits 3 \
     --compare --json --output "$work/design.json"
 memcheck design-apd design --model apd --signal 50 --gain 10 --k 0.02 \
     --sigma-th 30 --levels 0,1 --bits 2 --json --output "$work/apd.json"
-if "$qc" sweep --help >/dev/null 2>&1; then
-    scenario=$here/../scenarios/valgrind.ini
-    if [ -f "$here/valgrind_sweep.ini" ]; then
-        scenario=$here/valgrind_sweep.ini
-    fi
-    memcheck sweep sweep "$scenario" --out "$work/sweep"
-fi
+memcheck sweep sweep "$here/valgrind_sweep.ini" --out "$work/sweep" --jobs 2 --quiet
 
 echo "valgrind: $passed passed, $failed failed"
 [ $failed -eq 0 ]

@@ -167,9 +167,12 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     const size_t n = sc->npoints;
     sum->points = n;
     const char *dir = opt->out_dir ? opt->out_dir : ".";
+    struct stat dir_sb;
+    int dir_existed = stat(dir, &dir_sb) == 0;
     if ((st = make_dir(dir)) != QC_OK)
         return st;
     char cp_path[4200], path[4200];
+    int created = 0; /* this run wrote a fresh checkpoint */
     if ((st = join_path(dir, QC_CHECKPOINT_NAME, cp_path, sizeof cp_path)) != QC_OK)
         return st;
 
@@ -184,8 +187,8 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     json_decref(seed);
     if (opt->resume)
         st = qc_checkpoint_resume(&cp, cp_path, sc->hash, n, records, &sum->resumed);
-    else
-        st = qc_checkpoint_create(&cp, cp_path, sc->hash, n);
+    else if ((st = qc_checkpoint_create(&cp, cp_path, sc->hash, n)) == QC_OK)
+        created = 1;
     if (st != QC_OK)
         goto done;
 
@@ -270,6 +273,14 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         st = qc_plot_sweep(sc, records, dir, &sum->files, &sum->nfiles);
 done:
     qc_checkpoint_close(&cp);
+    /* A fresh sweep that stops before any point is recorded leaves nothing
+     * behind: its checkpoint holds only the header, and the folder is
+     * removed when this run made it (and it is empty). */
+    if (st != QC_OK && created && sum->computed == 0) {
+        unlink(cp_path);
+        if (!dir_existed)
+            rmdir(dir);
+    }
     if (records)
         for (size_t i = 0; i < n; i++)
             json_decref(records[i]);
