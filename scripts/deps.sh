@@ -4,9 +4,9 @@
 set -eu
 packages="build-essential meson ninja-build pkg-config libgsl-dev libfftw3-dev \
 libjansson-dev libcmocka-dev libinih-dev libplplot-dev plplot-driver-cairo \
-python3-scipy python3-numpy"
-if [ "${QC_WITH_CHECKS:-0}" = 1 ]; then   # fuzzing and memory checks
-    packages="$packages clang libclang-rt-14-dev valgrind"
+python3-scipy python3-numpy valgrind"
+if [ "${QC_WITH_CHECKS:-0}" = 1 ]; then   # the libFuzzer targets
+    packages="$packages clang libclang-rt-14-dev"
 fi
 missing=""
 for p in $packages; do

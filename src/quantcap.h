@@ -138,7 +138,13 @@ void qc_ba_workspace_free(qc_ba_workspace *ws);
  * internally). `input_out` (length nx, may be NULL) receives the final
  * input law. QC_ENOCONV when the iteration limit is hit; the result then
  * still holds the bounds reached. QC_EINFEASIBLE when the budget is below
- * the cheapest input's cost. */
+ * the cheapest input's cost.
+ * Details: rows are used renormalized to sum to exactly 1; capacity_bits
+ * is I(X;Y) of the returned law (which meets the budget); the upper
+ * bound is max_x D(P(·|x) ‖ q) − s·(c_x − budget) at some output law q
+ * and s ≥ 0; max_iterations caps the total over the multiplier search;
+ * multiplier is the s that certifies the final upper bound (the slope
+ * of C(budget), 0 when the budget does not bind). */
 qc_status qc_capacity(const qc_dmc *dmc, const qc_ba_options *opt,
                       qc_ba_workspace *ws, qc_capacity_result *res,
                       double *input_out);

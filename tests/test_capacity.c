@@ -455,6 +455,36 @@ static void test_cost_binary_closed_form(void **state)
     qc_dmc_free(d);
 }
 
+static void test_cost_bec(void **state)
+{
+    (void)state;
+    /* BEC with erasure e: I = (1 − e)·H(X) (Cover & Thomas, §7.1.5), so
+     * with costs 0 and 1, C(β) = (1 − e)·h2(β) for β ≤ 1/2 and the
+     * multiplier is (1 − e)·ln((1 − β)/β) nats. At e = 1/4, β = 0.2 the
+     * chord slope C/(1/2) used as the first guess is that multiplier
+     * up to 3e-4, so the search ends at its first step. */
+    const double e = 0.25;
+    const double p[6] = {1.0 - e, e, 0.0, 0.0, e, 1.0 - e};
+    const double costs[2] = {0.0, 1.0};
+    qc_dmc *d = make_dmc(2, 3, p);
+    const double budgets[] = {0.2, 0.05, 0.45};
+    for (size_t k = 0; k < sizeof budgets / sizeof budgets[0]; k++) {
+        double beta = budgets[k];
+        qc_ba_options opt;
+        qc_ba_options_default(&opt);
+        opt.costs = costs;
+        opt.budget = beta;
+        qc_capacity_result res;
+        assert_int_equal(qc_capacity(d, &opt, NULL, &res, NULL), QC_OK);
+        expect_capacity(&res, (1.0 - e) * h2_bits(beta), "BEC with cost");
+        assert_true(res.cost <= beta * (1.0 + COST_RTOL));
+        assert_true(fabs(res.cost - beta) <= COST_RTOL * beta);
+        double slope = (1.0 - e) * log((1.0 - beta) / beta);
+        assert_true(fabs(res.multiplier - slope) <= TOL_SLOPE * slope);
+    }
+    qc_dmc_free(d);
+}
+
 static void test_cost_inactive(void **state)
 {
     (void)state;
@@ -810,6 +840,7 @@ int main(void)
         cmocka_unit_test(test_initial_law),
         cmocka_unit_test(test_accelerated_iterations),
         cmocka_unit_test(test_cost_binary_closed_form),
+        cmocka_unit_test(test_cost_bec),
         cmocka_unit_test(test_cost_inactive),
         cmocka_unit_test(test_cost_dominated_input),
         cmocka_unit_test(test_cost_cheapest_only),

@@ -42,7 +42,8 @@
 #define MAX_SEARCH_STEPS 200
 #define MAX_BRACKET_STEPS 60
 /* Weight of the uniform law mixed into a warm start, so that every
- * run starts strictly positive as the method requires. */
+ * run starts strictly positive as the method requires, without undoing
+ * the convergence of the law it starts from. */
 #define WARM_UNIFORM 1e-9
 /* Tilt that drives inputs costing more than the budget below e^-800
  * when the budget equals the cheapest cost. */
@@ -64,61 +65,72 @@ typedef struct {
     qc_status status;    /* first failure of a run                     */
 } search;
 
+/* The lines d_x − s·(c_x − β) of the dual bound, split into the
+ * envelope of those that fall with s (c_x > β) and of the others. */
+typedef struct {
+    const double *d, *c;
+    double beta;
+    size_t nx;
+} dual_lines;
+
+static void envelopes(const dual_lines *l, double s, double *fall, double *rise)
+{
+    *fall = -INFINITY;
+    *rise = -INFINITY;
+    for (size_t x = 0; x < l->nx; x++) {
+        double v = l->d[x] - s * (l->c[x] - l->beta);
+        if (l->c[x] > l->beta)
+            *fall = fmax(*fall, v);
+        else
+            *rise = fmax(*rise, v);
+    }
+}
+
+static double envelope_gap(double s, void *p)
+{
+    double fall, rise;
+    envelopes(p, s, &fall, &rise);
+    return fall - rise;
+}
+
 /* Upper bound min_{s ≥ 0} max_x [d_x − s·(c_x − β)] from divergences
  * d at some output law; *s_best receives the minimizing s. The
- * function is convex and piecewise linear: lines with c_x ≤ β rise,
- * the others fall, and the minimum sits where the two envelopes meet. */
+ * function is convex and piecewise linear, smallest where the falling
+ * envelope meets the rising one: that crossing is bracketed by doubling
+ * and found with GSL's Brent solver. Any s gives a valid bound, so a
+ * solver failure only costs tightness. */
 static double dual_bound(const double *d, const double *c, double beta,
                          size_t nx, double *s_best)
 {
-    double rise0 = -INFINITY, fall0 = -INFINITY;
-    for (size_t x = 0; x < nx; x++) {
-        if (c[x] > beta)
-            fall0 = fmax(fall0, d[x]);
-        else
-            rise0 = fmax(rise0, d[x]);
-    }
+    dual_lines l = {d, c, beta, nx};
+    double fall, rise, lo = 0.0, hi = 1.0;
+    envelopes(&l, 0.0, &fall, &rise);
     *s_best = 0.0;
-    if (fall0 <= rise0)
-        return rise0;
-    /* the falling envelope starts higher: bisect on (fall − rise)(s) */
-    double lo = 0.0, hi = 1.0;
-    for (;;) {
-        double fall = -INFINITY, rise = -INFINITY;
-        for (size_t x = 0; x < nx; x++) {
-            double v = d[x] - hi * (c[x] - beta);
-            if (c[x] > beta)
-                fall = fmax(fall, v);
-            else
-                rise = fmax(rise, v);
-        }
-        if (fall <= rise || hi > 1e300)
-            break;
+    if (fall <= rise)
+        return rise;
+    while (envelope_gap(hi, &l) > 0.0 && hi < 1e300) {
         lo = hi;
         hi *= 2.0;
     }
-    for (int i = 0; i < 200 && hi - lo > 1e-15 * hi; i++) {
-        double mid = 0.5 * (lo + hi), fall = -INFINITY, rise = -INFINITY;
-        for (size_t x = 0; x < nx; x++) {
-            double v = d[x] - mid * (c[x] - beta);
-            if (c[x] > beta)
-                fall = fmax(fall, v);
-            else
-                rise = fmax(rise, v);
+    gsl_root_fsolver *solver = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
+    gsl_function fn = {envelope_gap, &l};
+    if (solver && gsl_root_fsolver_set(solver, &fn, lo, hi) == GSL_SUCCESS) {
+        for (int i = 0; i < 200; i++) {
+            if (gsl_root_fsolver_iterate(solver) != GSL_SUCCESS)
+                break;
+            lo = gsl_root_fsolver_x_lower(solver);
+            hi = gsl_root_fsolver_x_upper(solver);
+            if (gsl_root_test_interval(lo, hi, 0.0, 1e-15) == GSL_SUCCESS)
+                break;
         }
-        if (fall > rise)
-            lo = mid;
-        else
-            hi = mid;
     }
+    gsl_root_fsolver_free(solver);
     double best = INFINITY;
     const double cand[2] = {lo, hi};
     for (int k = 0; k < 2; k++) {
-        double f = -INFINITY;
-        for (size_t x = 0; x < nx; x++)
-            f = fmax(f, d[x] - cand[k] * (c[x] - beta));
-        if (f < best) {
-            best = f;
+        envelopes(&l, cand[k], &fall, &rise);
+        if (fmax(fall, rise) < best) {
+            best = fmax(fall, rise);
             *s_best = cand[k];
         }
     }
@@ -242,14 +254,14 @@ static qc_status locate(search *se, double s, double d0, double s_max)
         warm_start(se, s);
         f = run_at(se, s);
     }
-    if (se->status != QC_OK)
+    if (se->status != QC_OK || fabs(f) <= se->target)
         return QC_OK;
     if (!se->have_hi)
         return qc_fail(QC_ENUMERIC,
                        "capacity-cost: no multiplier up to %.3g brings the cost "
                        "down to the budget %.17g",
                        s, beta);
-    if (fabs(f) <= se->target || !se->have_lo)
+    if (!se->have_lo)
         return QC_OK;
     return refine_multiplier(se);
 }
@@ -272,9 +284,11 @@ static double final_law(search *se)
         memcpy(ws->r, ws->r_lo, ws->nx * sizeof *ws->r);
         return se->s_lo;
     }
-    if (!se->have_lo) {
-        memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
-        return se->s_hi;
+    if (!se->have_lo || !se->have_hi) {
+        /* one side only (the search stopped early): its law, which
+         * enforce_budget brings within the budget if needed */
+        memcpy(ws->r, se->have_hi ? ws->r_hi : ws->r_lo, ws->nx * sizeof *ws->r);
+        return se->have_hi ? se->s_hi : se->s_lo;
     }
     double theta = (beta - se->cost_hi) / (se->cost_lo - se->cost_hi);
     theta = fmin(1.0, fmax(0.0, theta));
@@ -400,7 +414,7 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
         se.s_rtol = S_RTOL;
         if (st == QC_OK && se.status == QC_OK)
             st = locate(&se, s, fine_tol < COARSE_TOL ? FINE_STEP : 3.0, s_max);
-        if (st == QC_OK && se.have_hi)
+        if (st == QC_OK && (se.have_hi || se.have_lo))
             s_final = final_law(&se);
     }
     if (st != QC_OK)

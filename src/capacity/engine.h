@@ -17,12 +17,14 @@ struct qc_ba_workspace {
     /* iteration state */
     double *r;           /* nx: current input law                       */
     double *d;           /* nx: D_x = D(P(·|x) ‖ rP) at r               */
-    double *a;           /* nx: score D_x − s·c_x at r                  */
+    double *a;           /* nx: score D_x − s·(c_x − budget) at r       */
     double *t;           /* nx: log-weight of the proposed next law     */
     double *r_best;      /* nx: law with the best lower bound so far    */
     double *a_best;      /* nx: its scores                              */
     double *r_prev;      /* nx: last accepted iterate (accelerated)     */
     double *a_prev;      /* nx: its scores                              */
+    double *boost;       /* nx: step multiplier of inputs in the tail   */
+    double *trend;       /* nx: sign of their last score deviation      */
     double *r_lo, *r_hi; /* nx: laws at the ends of the multiplier bracket */
     double *q;           /* ny: output law rP                           */
     double *q_next;      /* ny: output law of the proposed next law     */
@@ -34,8 +36,9 @@ struct qc_ba_workspace {
 typedef struct {
     double mi;         /* I(r) at the final law, computed afresh          */
     double cost;       /* Σ r c at the final law (0 without costs)        */
-    double lower;      /* best certified lower bound on max I − s·E c     */
-    double upper;      /* best certified upper bound on max I − s·E c     */
+    double lower;      /* best certified lower bound on max_r of the tilted
+                        * objective I(r) − s·(Σ r c − budget)            */
+    double upper;      /* best certified upper bound on the same          */
     size_t iterations; /* iterations spent by this run                    */
     int converged;     /* upper − lower ≤ tolerance                       */
     int failed;        /* a bound or the law became non-finite            */
