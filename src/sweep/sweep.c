@@ -201,6 +201,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
 
     int shared_st = QC_OK; /* first failure to write the checkpoint */
     char shared_msg[1024] = "";
+    size_t shared_point = n; /* the failure reported: lowest point that failed */
     unsigned threads = thread_count(opt->jobs);
     (void)threads;
     OMP(omp parallel for schedule(dynamic, 1) num_threads(threads))
@@ -225,7 +226,12 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
             qc_status wst = !rec                  ? qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1)
                             : scenario_error(pst) ? qc_fail(pst, "%s", point_msg)
                                                   : qc_checkpoint_append(&cp, rec);
-            if (wst != QC_OK && shared_st == QC_OK) {
+            /* Points already running when the first failure stops the
+             * sweep still finish; of those that failed, the lowest point is
+             * reported, so the message does not depend on which thread
+             * got there first. */
+            if (wst != QC_OK && (shared_st == QC_OK || i < shared_point)) {
+                shared_point = i;
                 snprintf(shared_msg, sizeof shared_msg, "%s", qc_last_error());
                 OMP(omp atomic write)
                 shared_st = (int)wst;
