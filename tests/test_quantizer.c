@@ -311,6 +311,22 @@ static void test_discretize_tail_80db(void **state)
     qc_model_free(m);
 }
 
+/* σ so small that x ± 8.3σ rounds to x: the unquantized rate used to
+ * integrate over an empty interval and report 0 nats (below the quantized
+ * rate of 1 bit); it is a numerical failure naming the level instead. */
+static void test_unquantized_noise_below_resolution(void **state)
+{
+    (void)state;
+    const double sigma = 1e-20, levels[2] = {-1.0, 1.0}, input[2] = {0.5, 0.5};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    double mi = -1.0;
+    assert_int_equal(qc_unquantized_mi(m, levels, input, 2, &mi, NULL), QC_ENUMERIC);
+    assert_non_null(strstr(qc_last_error(), "at level -1 is narrower than the resolution"));
+    assert_true(mi == -1.0); /* untouched on failure */
+    qc_model_free(m);
+}
+
 /* ---- Lloyd–Max -------------------------------------------------------- */
 
 static qc_status design_one(qc_model *m, const double *levels, size_t n,
@@ -411,6 +427,7 @@ int main(void)
         cmocka_unit_test(test_dp_fast_equals_plain),
         cmocka_unit_test(test_dp_bad_input),
         cmocka_unit_test(test_discretize_tail_80db),
+        cmocka_unit_test(test_unquantized_noise_below_resolution),
         cmocka_unit_test(test_lloyd_max_gaussian),
         cmocka_unit_test(test_uniform_is_best_of_its_family),
     };

@@ -199,6 +199,15 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
             for (double y = a; y <= b; y += 1.0)
                 val += mi_term(&c, y);
             e = 1e-15 * (b - a + 1.0);
+        } else if (!(hi > lo)) {
+            /* x ± the spread rounds to x: nothing left to integrate (it
+             * would silently give 0 nats for this level). */
+            st = qc_fail(QC_ENUMERIC,
+                         "unquantized rate: the output law at level %g is narrower "
+                         "than the resolution of doubles there (support [%.17g, "
+                         "%.17g]); the noise is too small to integrate",
+                         levels[i], lo, hi);
+            break;
         } else {
             gsl_function fn = {mi_integrand, &c};
             int rc = gsl_integration_qags(&fn, lo, hi, UNQ_EPSABS, UNQ_EPSREL,

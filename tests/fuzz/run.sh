@@ -86,8 +86,13 @@ status=$?
 
 execs=$(grep -h 'stat::number_of_executed_units' "$log" "$work"/fuzz-*.log 2>/dev/null |
     awk '{ s += $2 } END { print s + 0 }')
-if [ $status -ne 0 ] || grep -q -e '^==[0-9]*==ERROR' -e 'runtime error:' -e '^SUMMARY: ' "$log"; then
-    tail -n 60 "$log"
+# With -jobs, each job writes its own fuzz-N.log: look for findings in all.
+found=$(grep -l -e '^==[0-9]*==ERROR' -e 'runtime error:' -e '^SUMMARY: ' \
+    -e 'ERROR: libFuzzer' "$log" "$work"/fuzz-*.log 2>/dev/null)
+if [ $status -ne 0 ] || [ -n "$found" ]; then
+    for f in ${found:-$log}; do
+        tail -n 60 "$f"
+    done
     echo "fuzz $target: $execs executions in $seconds s, FAILED (status $status)"
     [ $status -ne 0 ] || status=1
     exit $status
