@@ -745,6 +745,9 @@ qc_status qc_parse_size(const char *text, size_t lo, size_t hi, size_t *out);
 /* Comma-separated finite numbers; *out is malloc'd (free it). The
  * message names the position of a bad value. */
 qc_status qc_parse_list(const char *text, double **out, size_t *n);
+/* Levenshtein distance between two names (for "did you mean" hints);
+ * names longer than 63 characters count as far from everything (99). */
+size_t qc_edit_distance(const char *a, const char *b);
 
 /* ------------------------------------------------------------------ */
 /* Settings: the key = value vocabulary of a design                    */

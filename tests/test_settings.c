@@ -66,6 +66,20 @@ static void test_parse_list(void **state)
     assert_int_equal(qc_parse_list("", &v, &n), QC_EINVAL);
 }
 
+static void test_edit_distance(void **state)
+{
+    (void)state;
+    /* Levenshtein distances worked by hand */
+    assert_int_equal(qc_edit_distance("bits", "bits"), 0);
+    assert_int_equal(qc_edit_distance("bitz", "bits"), 1);
+    assert_int_equal(qc_edit_distance("", "abc"), 3);
+    assert_int_equal(qc_edit_distance("kitten", "sitting"), 3);
+    char longname[80];
+    memset(longname, 'a', sizeof longname - 1);
+    longname[sizeof longname - 1] = '\0';
+    assert_int_equal(qc_edit_distance(longname, "a"), 99);
+}
+
 static void test_settings_set(void **state)
 {
     (void)state;
@@ -155,7 +169,8 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_parse_double),   cmocka_unit_test(test_parse_size),
-        cmocka_unit_test(test_parse_list),     cmocka_unit_test(test_settings_set),
+        cmocka_unit_test(test_parse_list),     cmocka_unit_test(test_edit_distance),
+        cmocka_unit_test(test_settings_set),
         cmocka_unit_test(test_settings_build),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

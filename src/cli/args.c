@@ -43,26 +43,6 @@ void cli_args_add(cli_args *a, const cli_opt *opt)
         a->opts[a->nopts++] = opt;
 }
 
-/* Edit distance, for "did you mean" suggestions. */
-static size_t edit_distance(const char *s, const char *t)
-{
-    size_t m = strlen(s), n = strlen(t);
-    if (m > 63 || n > 63)
-        return 99;
-    size_t d[64][64];
-    for (size_t i = 0; i <= m; i++)
-        d[i][0] = i;
-    for (size_t j = 0; j <= n; j++)
-        d[0][j] = j;
-    for (size_t i = 1; i <= m; i++)
-        for (size_t j = 1; j <= n; j++) {
-            size_t sub = d[i - 1][j - 1] + (s[i - 1] != t[j - 1]);
-            size_t del = d[i - 1][j] + 1, ins = d[i][j - 1] + 1;
-            d[i][j] = sub < del ? (sub < ins ? sub : ins) : (del < ins ? del : ins);
-        }
-    return d[m][n];
-}
-
 static int find_opt(const cli_args *a, const char *name, size_t len)
 {
     for (size_t i = 0; i < a->nopts; i++)
@@ -75,7 +55,7 @@ static int unknown_option(const cli_args *a, const char *name)
 {
     size_t best = 99, bi = 0;
     for (size_t i = 0; i < a->nopts; i++) {
-        size_t d = edit_distance(name, a->opts[i]->name);
+        size_t d = qc_edit_distance(name, a->opts[i]->name);
         if (d < best) {
             best = d;
             bi = i;

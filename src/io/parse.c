@@ -1,5 +1,6 @@
 /* parse.c — strict parsing of numbers and number lists from text: the
- * whole field must be a finite number (no atof, no silent clamps). */
+ * whole field must be a finite number (no atof, no silent clamps); and the
+ * edit distance behind "did you mean" hints. */
 #include "core/internal.h"
 
 #include <errno.h>
@@ -111,4 +112,26 @@ qc_status qc_parse_list(const char *text, double **out, size_t *n)
     *out = v;
     *n = k;
     return QC_OK;
+}
+
+size_t qc_edit_distance(const char *s, const char *t)
+{
+    size_t m = strlen(s), n = strlen(t);
+    if (m > 63 || n > 63)
+        return 99;
+    size_t d[64][64];
+    for (size_t i = 0; i <= m; i++)
+        d[i][0] = i;
+    for (size_t j = 0; j <= n; j++)
+        d[0][j] = j;
+    for (size_t i = 1; i <= m; i++)
+        for (size_t j = 1; j <= n; j++) {
+            size_t best = d[i - 1][j - 1] + (s[i - 1] != t[j - 1]);
+            if (d[i - 1][j] + 1 < best)
+                best = d[i - 1][j] + 1;
+            if (d[i][j - 1] + 1 < best)
+                best = d[i][j - 1] + 1;
+            d[i][j] = best;
+        }
+    return d[m][n];
 }

@@ -27,35 +27,13 @@ static sc_section *section(const qc_scenario *sc, const char *type)
     return NULL;
 }
 
-static size_t edit_distance(const char *s, const char *t)
-{
-    size_t m = strlen(s), n = strlen(t);
-    if (m > 63 || n > 63)
-        return 99;
-    size_t d[64][64];
-    for (size_t i = 0; i <= m; i++)
-        d[i][0] = i;
-    for (size_t j = 0; j <= n; j++)
-        d[0][j] = j;
-    for (size_t i = 1; i <= m; i++)
-        for (size_t j = 1; j <= n; j++) {
-            size_t best = d[i - 1][j - 1] + (s[i - 1] != t[j - 1]);
-            if (d[i - 1][j] + 1 < best)
-                best = d[i - 1][j] + 1;
-            if (d[i][j - 1] + 1 < best)
-                best = d[i][j - 1] + 1;
-            d[i][j] = best;
-        }
-    return d[m][n];
-}
-
 /* Closest of `names` (NULL-terminated) to key, or NULL if none is close. */
 static const char *closest(const char *key, const char *const *names)
 {
     const char *best = NULL;
     size_t bd = 4;
     for (size_t i = 0; names[i]; i++) {
-        size_t d = edit_distance(key, names[i]);
+        size_t d = qc_edit_distance(key, names[i]);
         if (d < bd) {
             bd = d;
             best = names[i];

@@ -123,34 +123,12 @@ static int is_model_param(const char *key)
 
 int qc_setting_known(const char *key) { return key && (find_key(key) || is_model_param(key)); }
 
-static size_t edit_distance(const char *s, const char *t)
-{
-    size_t m = strlen(s), n = strlen(t);
-    if (m > 63 || n > 63)
-        return 99;
-    size_t d[64][64];
-    for (size_t i = 0; i <= m; i++)
-        d[i][0] = i;
-    for (size_t j = 0; j <= n; j++)
-        d[0][j] = j;
-    for (size_t i = 1; i <= m; i++)
-        for (size_t j = 1; j <= n; j++) {
-            size_t best = d[i - 1][j - 1] + (s[i - 1] != t[j - 1]);
-            if (d[i - 1][j] + 1 < best)
-                best = d[i - 1][j] + 1;
-            if (d[i][j - 1] + 1 < best)
-                best = d[i][j - 1] + 1;
-            d[i][j] = best;
-        }
-    return d[m][n];
-}
-
 const char *qc_setting_suggest(const char *key)
 {
     const char *best = NULL;
     size_t bd = 4; /* suggest only close names */
     for (size_t i = 0; i < NKEYS; i++) {
-        size_t d = edit_distance(key, keys[i].info.key);
+        size_t d = qc_edit_distance(key, keys[i].info.key);
         if (d < bd) {
             bd = d;
             best = keys[i].info.key;
@@ -159,7 +137,7 @@ const char *qc_setting_suggest(const char *key)
     const qc_model_type *const *types = qc_model_types();
     for (size_t t = 0; types[t]; t++)
         for (size_t i = 0; i < types[t]->nparams; i++) {
-            size_t d = edit_distance(key, types[t]->params[i].name);
+            size_t d = qc_edit_distance(key, types[t]->params[i].name);
             if (d < bd) {
                 bd = d;
                 best = types[t]->params[i].name;
