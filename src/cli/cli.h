@@ -70,6 +70,10 @@ int cli_sink_open(cli_sink *s, const char *path /* NULL: stdout */);
 /* Finish: ok != 0 commits (rename), else discards. Returns CLI_OK or an
  * error code. */
 int cli_sink_close(cli_sink *s, int ok);
+/* End of a command: close the sink if it was opened (commit when rc is
+ * CLI_OK, else discard) and return rc, or the close's error. A zeroed,
+ * never-opened sink is left alone. */
+int cli_sink_finish(cli_sink *s, int rc);
 
 /* Dump JSON with round-trip precision, then a newline. */
 int cli_json_print(cli_sink *s, json_t *root);

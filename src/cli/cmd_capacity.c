@@ -79,7 +79,6 @@ int cmd_capacity(int argc, char **argv)
     qc_dmc *d = NULL;
     double *costs = NULL, *input = NULL;
     cli_sink sink = {0};
-    int sink_open = 0;
     qc_status st = qc_dmc_read(a.positional[0], &d);
     if (st != QC_OK)
         return cli_lib_error(st);
@@ -109,7 +108,6 @@ int cmd_capacity(int argc, char **argv)
     }
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
-    sink_open = 1;
     if (cli_has(&a, "json")) {
         json_t *o = json_object();
         json_object_set_new(o, "file", json_string(a.positional[0]));
@@ -134,11 +132,7 @@ int cmd_capacity(int argc, char **argv)
                     opt.method == QC_BA_PLAIN);
     }
 done:
-    if (sink_open) {
-        int rc2 = cli_sink_close(&sink, rc == CLI_OK);
-        if (rc == CLI_OK)
-            rc = rc2;
-    }
+    rc = cli_sink_finish(&sink, rc);
     qc_dmc_free(d);
     free(costs);
     free(input);

@@ -68,8 +68,7 @@ int cmd_channel(int argc, char **argv)
     size_t nl = 0, nt = 0;
     qc_model *m = NULL;
     qc_dmc *d = NULL;
-    cli_sink sink;
-    int sink_open = 0;
+    cli_sink sink = {0};
     if ((cli_has(&a, "levels") &&
          (rc = cli_double_list("levels", cli_get(&a, "levels"), &levels, &nl))) ||
         (rc = cli_double_list("thresholds", cli_get(&a, "thresholds"), &t, &nt)))
@@ -100,7 +99,6 @@ int cmd_channel(int argc, char **argv)
     }
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
-    sink_open = 1;
     if (cli_has(&a, "json")) {
         json_t *o = json_object();
         json_object_set_new(o, "model", json_string(type->name));
@@ -152,11 +150,7 @@ int cmd_channel(int argc, char **argv)
         }
     }
 done:
-    if (sink_open) {
-        int rc2 = cli_sink_close(&sink, rc == CLI_OK);
-        if (rc == CLI_OK)
-            rc = rc2;
-    }
+    rc = cli_sink_finish(&sink, rc);
     qc_model_free(m);
     qc_dmc_free(d);
     free(levels);

@@ -228,8 +228,7 @@ int cmd_design(int argc, char **argv)
     qc_design_request req;
     qc_design_result res;
     memset(&res, 0, sizeof res);
-    cli_sink sink;
-    int sink_open = 0;
+    cli_sink sink = {0};
     qc_status st = qc_settings_alloc(&set);
     if (st != QC_OK)
         return cli_lib_error(st);
@@ -253,7 +252,6 @@ int cmd_design(int argc, char **argv)
     if (cli_has(&a, "compare")) {
         if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
             goto done;
-        sink_open = 1;
         rc = run_compare(&sink, cli_has(&a, "json"), &req);
         goto done;
     }
@@ -264,7 +262,6 @@ int cmd_design(int argc, char **argv)
     unsigned bits = cli_bits_of_cells(req.cells);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
-    sink_open = 1;
     if (cli_has(&a, "json")) {
         char *text = NULL;
         if ((st = qc_design_report_json(&req, &res, &text)) != QC_OK) {
@@ -277,11 +274,7 @@ int cmd_design(int argc, char **argv)
     } else
         design_table(sink.f, m, &req, &res, bits);
 done:
-    if (sink_open) {
-        int rc2 = cli_sink_close(&sink, rc == CLI_OK);
-        if (rc == CLI_OK)
-            rc = rc2;
-    }
+    rc = cli_sink_finish(&sink, rc);
     qc_design_result_clear(&res);
     qc_model_free(m);
     qc_settings_free(set);

@@ -76,6 +76,14 @@ int cli_sink_close(cli_sink *s, int ok)
     return rc;
 }
 
+int cli_sink_finish(cli_sink *s, int rc)
+{
+    if (!s->f)
+        return rc;
+    int rc2 = cli_sink_close(s, rc == CLI_OK);
+    return rc == CLI_OK ? rc2 : rc;
+}
+
 int cli_json_print(cli_sink *s, json_t *root)
 {
     if (!root)

@@ -140,7 +140,7 @@ static qc_status tridiagonal_hessian(qc_cell_mi *w, const double *t, const doubl
     return QC_OK;
 }
 
-/* Damped Newton (Levenberg–Marquardt; Moré, Lecture Notes in Math. 630,
+/* Damped Newton (Levenberg–Marquardt; Moré, "The Levenberg–Marquardt algorithm", Springer,
  * 1978) on ∇I = 0 with the tridiagonal Hessian: solve (−H + μD) step = g,
  * D = max(|H_jj|, 1e-8·max|H|). A step is kept if it keeps the order and
  * I does not drop by more than rounding; otherwise μ grows. Thresholds in
