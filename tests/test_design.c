@@ -494,6 +494,31 @@ static void test_model_without_snr(void **state)
     qc_model_free(m);
 }
 
+/* The uniform range is centred on the mean outputs, which for the APD
+ * models are in electrons, not in level units. Eight intensity levels
+ * 0, 1/7, …, 1 at negligible noise with 4 uniform cells: thresholds in
+ * the gaps 1|2, 3|4, 5|6 form a uniform grid and pair the levels up, so
+ * the uniform quantizer reaches 2 bits, as the optimal one does. */
+static void test_uniform_output_units(void **state)
+{
+    (void)state;
+    /* signal, background, gain M, k, σ_th: half the level spacing is
+     * 7.1e4 electrons, 12 noise deviations at the top level */
+    const double params[5] = {1e5, 0.0, 10.0, 0.2, 300.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_apd_gauss, params, &m), QC_OK);
+    double levels[8];
+    for (size_t i = 0; i < 8; i++)
+        levels[i] = (double)i / 7.0;
+    qc_design_request r;
+    request(&r, m, levels, 8, 4, QC_QUANTIZER_UNIFORM);
+    qc_design_result res;
+    assert_int_equal(qc_design(&r, &res), QC_OK);
+    assert_true(fabs(res.rate_bits - 2.0) <= 1e-9);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
 static void test_compare_with_fixed(void **state)
 {
     (void)state;
@@ -645,6 +670,7 @@ int main(void)
         cmocka_unit_test(test_capacity_shannon_limit),
         cmocka_unit_test(test_result_contents),
         cmocka_unit_test(test_model_without_snr),
+        cmocka_unit_test(test_uniform_output_units),
         cmocka_unit_test(test_compare_with_fixed),
         cmocka_unit_test(test_names),
         cmocka_unit_test(test_bad_input),

@@ -78,6 +78,28 @@ static void test_parse_and_cdf(void **state)
     qc_model_free(m);
 }
 
+/* A segment spanning 113 orders of magnitude: interpolating the density
+ * near its far end must not round below zero, and the two tails must stay
+ * probabilities that add to 1 (the triangle's exact areas are known). */
+static void test_wide_segment(void **state)
+{
+    (void)state;
+    qc_model *m;
+    assert_int_equal(parse("levels 5\n-1e113 211\n1 0\n", &m), QC_OK);
+    double lo, hi;
+    m->type->support(m, 5.0, &lo, &hi);
+    const double ts[] = {-1e113, -5e112, -1e104, 0.0, 0.5, 1.0};
+    for (size_t i = 0; i < sizeof ts / sizeof ts[0]; i++) {
+        double b = m->type->below(m, 5.0, ts[i]), a = m->type->above(m, 5.0, ts[i]);
+        double f = m->type->density(m, 5.0, ts[i]);
+        assert_true(b >= 0.0 && a >= 0.0 && f >= 0.0);
+        assert_near(a + b, 1.0, 1e-15);
+    }
+    /* Triangle on [lo, hi] with its peak at lo: P(Y < mid) = 3/4. */
+    assert_near(m->type->below(m, 5.0, lo + 0.5 * (hi - lo)), 0.75, 1e-15);
+    qc_model_free(m);
+}
+
 static void expect_error(const char *text, qc_status want, const char *needle)
 {
     qc_model *m = (qc_model *)0x1;
@@ -155,6 +177,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_parse_and_cdf),
+        cmocka_unit_test(test_wide_segment),
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_files),
     };

@@ -186,8 +186,11 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         }
         fputs("]\n", sink->f);
     } else {
-        fprintf(sink->f, "%-10s %14s %14s %12s %12s\n", "quantizer", "rate bit/use",
-                "unquantized", "loss bit", "penalty dB");
+        int no_penalty = 0;
+        const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
+        double tol = 0.0;
+        fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate bit/use",
+                "unquantized", "loss bit", "penalty dB", capacity ? "    upper bound" : "");
         for (size_t i = 0; i < cmp.count; i++) {
             if (cmp.status[i] != QC_OK) {
                 fprintf(sink->f, "%-10s failed: %s\n", qc_quantizer_name(cmp.kind[i]),
@@ -195,12 +198,30 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                 continue;
             }
             const qc_design_result *r = &cmp.result[i];
-            fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12.4f\n", qc_quantizer_name(r->quantizer),
-                    r->rate_bits, r->unquantized_bits, r->loss_bits, r->snr_penalty_db);
+            char penalty[32] = "n/a";
+            if (isfinite(r->snr_penalty_db)) {
+                snprintf(penalty, sizeof penalty, "%.4f", r->snr_penalty_db);
+            } else {
+                no_penalty = 1;
+            }
+            fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12s", qc_quantizer_name(r->quantizer),
+                    r->rate_bits, r->unquantized_bits, r->loss_bits, penalty);
+            if (capacity) {
+                fprintf(sink->f, " %14.9f", r->upper_bound_bits);
+                tol = fmax(tol, r->tol_bits);
+            }
+            fputc('\n', sink->f);
         }
+        if (no_penalty)
+            fputs("\npenalty n/a: no SNR penalty is defined for this model\n", sink->f);
+        char certified[96] = "rates: capacity, certified by the Blahut-Arimoto upper bound";
+        if (capacity)
+            snprintf(certified, sizeof certified,
+                     "rates: capacity, certified by the Blahut-Arimoto upper bound "
+                     "(tol %g bit)", tol);
         fprintf(sink->f, "\n%s%s\n",
-                req->objective == QC_OBJECTIVE_CAPACITY
-                    ? "rates: capacity, certified by the Blahut-Arimoto upper bound"
+                capacity
+                    ? certified
                 : req->objective == QC_OBJECTIVE_GMI
                     ? "rates: BICM GMI with Gray labels, exact finite sums"
                     : "rates: mutual information, exact finite sums",

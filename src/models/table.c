@@ -71,6 +71,17 @@ static long segment(const table_state *s, double t)
     return (long)lo;
 }
 
+/* Linear interpolation of column k at t in segment i (y_i ≤ t < y_{i+1}),
+ * written as a convex combination so that rounding can never make it
+ * negative, even when the segment spans hundreds of orders of magnitude. */
+static double interpolate(const table_state *s, long i, long k, double t)
+{
+    double y0 = s->y[i], y1 = s->y[i + 1];
+    double f0 = s->f[i * s->nl + k], f1 = s->f[(i + 1) * s->nl + k];
+    double w = (t - y0) / (y1 - y0); /* in [0, 1]: the roundings are monotone */
+    return f0 * (1.0 - w) + f1 * w;
+}
+
 static double cdf(const qc_model *m, double x, double t, int upper)
 {
     const table_state *s = m->state;
@@ -85,7 +96,7 @@ static double cdf(const qc_model *m, double x, double t, int upper)
         return upper ? 0.0 : 1.0;
     double y0 = s->y[i], y1 = s->y[i + 1];
     double f0 = s->f[i * nl + k], f1 = s->f[(i + 1) * nl + k];
-    double ft = f0 + (f1 - f0) * (t - y0) / (y1 - y0);
+    double ft = interpolate(s, i, k, t);
     if (!upper)
         return s->cl[i * nl + k] + 0.5 * (t - y0) * (f0 + ft);
     return s->cr[(i + 1) * nl + k] + 0.5 * (y1 - t) * (ft + f1);
@@ -110,9 +121,7 @@ static double table_density(const qc_model *m, double x, double y)
     long i = segment(s, y);
     if (i < 0 || i == (long)s->ny - 1)
         return 0.0;
-    double y0 = s->y[i], y1 = s->y[i + 1];
-    double f0 = s->f[i * s->nl + k], f1 = s->f[(i + 1) * s->nl + k];
-    return f0 + (f1 - f0) * (y - y0) / (y1 - y0);
+    return interpolate(s, i, k, y);
 }
 
 static void table_support(const qc_model *m, double x, double *lo, double *hi)

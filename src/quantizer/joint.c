@@ -22,6 +22,7 @@
 
 #define JOINT_MAX_ALTERNATIONS 50
 #define JOINT_STARTS 3
+#define WARM_BLEND 1e-6 /* uniform weight added to a warm start holding zeros */
 
 typedef struct {
     const qc_design_request *req;
@@ -36,6 +37,21 @@ typedef struct {
     qc_fine_grid grid;       /* optimal: built once, for the uniform law */
 } joint;
 
+/* The engine starts from a strictly positive law, but the last optimal law
+ * may hold exact zeros (entries that underflowed in Blahut–Arimoto). Such
+ * a law is blended with WARM_BLEND of the uniform law before it is used
+ * as the next warm start; a positive law is used as it is. */
+static void warm_start_positive(double *law, size_t n)
+{
+    int zero = 0;
+    for (size_t x = 0; x < n; x++)
+        zero |= !(law[x] > 0.0);
+    if (!zero)
+        return;
+    for (size_t x = 0; x < n; x++)
+        law[x] = (1.0 - WARM_BLEND) * fmax(law[x], 0.0) + WARM_BLEND / (double)n;
+}
+
 /* Capacity of thresholds t (nats; the engine's lower bound), leaving the
  * optimal law in j->law.
  * QC_ENOCONV from the engine still gives a valid lower bound and is
@@ -47,6 +63,7 @@ static qc_status capacity_of(joint *j, const double *t, double *value)
     if (st != QC_OK)
         return st;
     qc_capacity_result cr;
+    warm_start_positive(j->law, j->nlevels);
     j->opt.initial = j->law;
     st = qc_capacity(j->channel, &j->opt, j->ws, &cr, j->law);
     j->engine_iterations += cr.iterations;
@@ -214,6 +231,7 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
     if (st != QC_OK)
         goto done;
     qc_capacity_result cr;
+    warm_start_positive(j.law, nx);
     j.opt.initial = j.law;
     st = qc_capacity(res->channel, &j.opt, j.ws, &cr, res->input);
     j.engine_iterations += cr.iterations;

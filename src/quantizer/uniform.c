@@ -3,8 +3,9 @@
  * two outer cells open (clipping). The objective is any rate of the
  * thresholds (MI or capacity of the quantized channel).
  *
- * Continuous outputs, K ≥ 3: c is the middle of the level span (for
- * intensity models, levels in [0, A], the range is centred on A/2); h is
+ * Continuous outputs, K ≥ 3: c is the middle of the span of the mean
+ * outputs of the levels (in the output's own units: electrons for the
+ * APD models); h is
  * found by a scan of 64 values up to the output support and GSL's Brent
  * minimizer (Brent, Algorithms for Minimization without Derivatives, 1973)
  * around the best; then both ends c − h and c + h are adjusted together by
@@ -220,6 +221,26 @@ static qc_status count_search(search *s, double top)
     return QC_OK;
 }
 
+/* Smallest and largest mean output over the levels: the span the range is
+ * centred on. The output may be in other units than the levels (electrons
+ * for the APD models, counts), so the model's means are used; a model
+ * without moments is taken to have mean output = level. */
+static void output_span(const qc_model *model, const double *levels,
+                        size_t nlevels, double *lo, double *hi)
+{
+    *lo = INFINITY;
+    *hi = -INFINITY;
+    for (size_t i = 0; i < nlevels; i++) {
+        double mean = levels[i], var;
+        if (model->type->moments &&
+            (model->type->moments(model, levels[i], &mean, &var) != QC_OK ||
+             !isfinite(mean)))
+            mean = levels[i];
+        *lo = fmin(*lo, mean);
+        *hi = fmax(*hi, mean);
+    }
+}
+
 qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             size_t nlevels, size_t nt, qc_threshold_objective f,
                             void *ctx, double *t_out, double *value_out,
@@ -232,11 +253,8 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         return qc_fail(QC_ENOMEM, "out of memory");
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
-    double lmin = levels[0], lmax = levels[0];
-    for (size_t i = 1; i < nlevels; i++) {
-        lmin = fmin(lmin, levels[i]);
-        lmax = fmax(lmax, levels[i]);
-    }
+    double lmin, lmax;
+    output_span(model, levels, nlevels, &lmin, &lmax);
     qc_status st;
     if (model->type->output == QC_OUTPUT_COUNTS) {
         /* first threshold and step within the support: thresholds above
@@ -246,7 +264,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         line l = {&s, 0.0, 1};
         st = scan_and_brent(&l, lo, hi);
     } else {
-        double c = 0.5 * (lmin + lmax);
+        double c = 0.5 * (lmin + lmax); /* middle of the mean outputs */
         double hmax = fmax(hi - c, c - lo);
         line l = {&s, c, 0};
         st = scan_and_brent(&l, 0.0, hmax);
