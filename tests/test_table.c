@@ -132,6 +132,9 @@ static void test_errors(void **state)
     expect_error("levels 0 1\n0 1 1\n", QC_EFORMAT, "needs at least 2 data rows");
     expect_error("levels 0 1\n0 1 0\n1 1 0\n", QC_EFORMAT,
                  "the density of level 1 integrates to 0");
+    /* an area of one subnormal: 1/area overflows, so it cannot be a density */
+    expect_error("levels 5\n0 1\n1e-323 0\n", QC_EFORMAT,
+                 "the density of level 5 integrates to only 4.94066e-324, too little");
     expect_error("levels 0 1\n0,,1 1\n", QC_EFORMAT, "t.txt:2: empty field");
     expect_error("levels 0 1\n0 1 1,\n", QC_EFORMAT, "t.txt:2: trailing ','");
     expect_error("levels 0 1\n0 1 1\nwhat 1 1\n", QC_EFORMAT,

@@ -97,9 +97,10 @@ static double cdf(const qc_model *m, double x, double t, int upper)
     double y0 = s->y[i], y1 = s->y[i + 1];
     double f0 = s->f[i * nl + k], f1 = s->f[(i + 1) * nl + k];
     double ft = interpolate(s, i, k, t);
+    /* halves first: the sum of two densities near DBL_MAX must not overflow */
     if (!upper)
-        return s->cl[i * nl + k] + 0.5 * (t - y0) * (f0 + ft);
-    return s->cr[(i + 1) * nl + k] + 0.5 * (y1 - t) * (ft + f1);
+        return s->cl[i * nl + k] + (t - y0) * (0.5 * f0 + 0.5 * ft);
+    return s->cr[(i + 1) * nl + k] + (y1 - t) * (0.5 * ft + 0.5 * f1);
 }
 
 static double table_below(const qc_model *m, double x, double t)
@@ -304,6 +305,12 @@ static qc_status finish(table_state *s, const char *name)
             s->f[i * nl + k] /= total;
             s->cl[i * nl + k] /= total;
             s->cr[i * nl + k] /= total;
+            if (!isfinite(s->f[i * nl + k]))
+                return qc_fail(QC_EFORMAT,
+                               "%s: the density of level %g integrates to only %g, "
+                               "too little to normalize in double precision "
+                               "(rows too close together?)",
+                               name, s->levels[k], total);
         }
     }
     return QC_OK;
