@@ -100,6 +100,26 @@ static void test_wide_segment(void **state)
     qc_model_free(m);
 }
 
+/* Values at the ends of the double range describe the same shapes as
+ * ordinary ones: a subnormal peak (its area underflows to a few
+ * subnormals) and peaks near DBL_MAX (their area overflows) still give a
+ * density with unit area. Exact values: a triangle of base 1.4 peaks at
+ * 1/0.7; a trapezoid 1, 1, 0 on 0, 1, 2 has area 1.5. */
+static void test_extreme_values(void **state)
+{
+    (void)state;
+    qc_model *m;
+    assert_int_equal(parse("levels 4\n-.4 1e-323\n1 0\n", &m), QC_OK);
+    assert_near(m->type->density(m, 4.0, -0.4), 1.0 / 0.7, 1e-14);
+    assert_near(m->type->below(m, 4.0, 0.3) + m->type->above(m, 4.0, 0.3), 1.0, 1e-15);
+    assert_near(m->type->below(m, 4.0, 0.3), 0.75, 1e-14); /* 1 − (0.7/1.4)² */
+    qc_model_free(m);
+    assert_int_equal(parse("levels 0\n0 1e308\n1 1e308\n2 0\n", &m), QC_OK);
+    assert_near(m->type->density(m, 0.0, 0.5), 1.0 / 1.5, 1e-15);
+    assert_near(m->type->above(m, 0.0, 1.0), 0.5 / 1.5, 1e-15);
+    qc_model_free(m);
+}
+
 static void expect_error(const char *text, qc_status want, const char *needle)
 {
     qc_model *m = (qc_model *)0x1;
@@ -181,6 +201,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_parse_and_cdf),
         cmocka_unit_test(test_wide_segment),
+        cmocka_unit_test(test_extreme_values),
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_files),
     };

@@ -285,6 +285,15 @@ static qc_status finish(table_state *s, const char *name)
     if (!s->cl || !s->cr)
         return qc_fail(QC_ENOMEM, "out of memory");
     for (size_t k = 0; k < nl; k++) {
+        /* Scale the column to a peak of 1 first: values near the ends of
+         * the double range (subnormal or huge) would otherwise make the
+         * area inexact or infinite. */
+        double peak = 0.0;
+        for (size_t i = 0; i < ny; i++)
+            peak = fmax(peak, s->f[i * nl + k]);
+        if (peak > 0.0)
+            for (size_t i = 0; i < ny; i++)
+                s->f[i * nl + k] /= peak;
         s->cl[k] = 0.0;
         for (size_t i = 1; i < ny; i++)
             s->cl[i * nl + k] = s->cl[(i - 1) * nl + k] +
