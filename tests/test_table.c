@@ -120,6 +120,27 @@ static void test_extreme_values(void **state)
     qc_model_free(m);
 }
 
+/* Moments of a narrow density far from 0: a symmetric triangle of half
+ * width 1 centred at 1e9 has variance 1/6 (one pass, E[Y²] − E[Y]²,
+ * would cancel 18 digits). Outputs near 1e200 overflow the variance:
+ * an error, not a silent 0. */
+static void test_moments_far_from_zero(void **state)
+{
+    (void)state;
+    qc_model *m;
+    assert_int_equal(parse("levels 0\n999999999 0\n1000000000 1\n1000000001 0\n", &m),
+                     QC_OK);
+    double mean, var;
+    assert_int_equal(qc_model_moments(m, 0.0, &mean, &var), QC_OK);
+    assert_near(mean, 1e9, 1e-6);
+    assert_near(var, 1.0 / 6.0, 1e-6);
+    qc_model_free(m);
+    assert_int_equal(parse("levels 0\n1e200 1\n2e200 1\n", &m), QC_OK);
+    assert_int_equal(qc_model_moments(m, 0.0, &mean, &var), QC_ENUMERIC);
+    assert_non_null(strstr(qc_last_error(), "variance of level 0 overflows"));
+    qc_model_free(m);
+}
+
 static void expect_error(const char *text, qc_status want, const char *needle)
 {
     qc_model *m = (qc_model *)0x1;
@@ -202,6 +223,7 @@ int main(void)
         cmocka_unit_test(test_parse_and_cdf),
         cmocka_unit_test(test_wide_segment),
         cmocka_unit_test(test_extreme_values),
+        cmocka_unit_test(test_moments_far_from_zero),
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_files),
     };

@@ -146,7 +146,9 @@ static qc_status table_check_level(const qc_model *m, double x)
     return qc_fail(QC_EINVAL, "%g is not one of the table's levels (%s)", x, list);
 }
 
-/* Exact moments of the piecewise-linear density. */
+/* Exact moments of the piecewise-linear density: the mean, then the
+ * variance as the second moment about that mean (two passes, so that a
+ * narrow density far from 0 does not lose its variance to cancellation). */
 static qc_status table_moments(const qc_model *m, double x, double *mean,
                                double *var)
 {
@@ -159,11 +161,20 @@ static qc_status table_moments(const qc_model *m, double x, double *mean,
         double a = s->y[i], b = s->y[i + 1], d = b - a;
         double fa = s->f[i * s->nl + k], fb = s->f[(i + 1) * s->nl + k];
         m1 += d / 6.0 * (fa * (2 * a + b) + fb * (a + 2 * b));
+    }
+    for (size_t i = 0; i + 1 < s->ny; i++) {
+        double a = s->y[i] - m1, b = s->y[i + 1] - m1, d = b - a;
+        double fa = s->f[i * s->nl + k], fb = s->f[(i + 1) * s->nl + k];
         m2 += d / 12.0 * (fa * (3 * a * a + 2 * a * b + b * b) +
                           fb * (a * a + 2 * a * b + 3 * b * b));
     }
+    if (!isfinite(m1) || !isfinite(m2))
+        return qc_fail(QC_ENUMERIC,
+                       "table: the variance of level %g overflows a double "
+                       "(output values too large)",
+                       x);
     *mean = m1;
-    *var = fmax(m2 - m1 * m1, 0.0);
+    *var = m2; /* a sum of non-negative terms */
     return QC_OK;
 }
 
