@@ -24,31 +24,22 @@
 
 size_t qc_gray_code(size_t i) { return i ^ (i >> 1); }
 
-typedef struct {
-    double value;
-    size_t index;
-} ranked;
-
-static int by_value(const void *a, const void *b)
-{
-    double x = ((const ranked *)a)->value, y = ((const ranked *)b)->value;
-    return (x > y) - (x < y);
-}
-
 qc_status qc_gray_labels(const double *levels, size_t n, size_t *labels, unsigned *nbits)
 {
     if (!qc_is_power_of_two(n))
         return qc_fail(QC_EINVAL,
                        "Gray labels need a power of 2 levels (got %zu levels)", n);
-    ranked *r = qc_malloc_array(n, sizeof *r);
-    if (!r)
+    size_t *order = qc_malloc_array(n, sizeof *order);
+    if (!order)
         return qc_fail(QC_ENOMEM, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        r[i] = (ranked){levels[i], i};
-    qsort(r, n, sizeof *r, by_value);
+    qc_status st = qc_sort_order(levels, n, order);
+    if (st != QC_OK) {
+        free(order);
+        return st;
+    }
     for (size_t k = 0; k < n; k++)
-        labels[r[k].index] = qc_gray_code(k);
-    free(r);
+        labels[order[k]] = qc_gray_code(k); /* Gray code in level order */
+    free(order);
     unsigned b = 0;
     while (((size_t)1 << b) < n)
         b++;

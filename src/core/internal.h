@@ -20,4 +20,8 @@ void qc_gsl_init(void);
 void *qc_calloc(size_t n, size_t size);
 void *qc_malloc_array(size_t n, size_t size);
 
+/* order[k] = the index of the k-th smallest of values[0..n), NaNs last,
+ * ties by index (src/core/order.c). */
+qc_status qc_sort_order(const double *values, size_t n, size_t *order);
+
 #endif

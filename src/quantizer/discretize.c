@@ -184,38 +184,6 @@ static double mi_integrand(double y, void *p) { return mi_term(p, y); }
 #define UNQ_EPSREL 1e-11
 #define UNQ_LIMIT 2000
 
-/* A level's support start and index, ordered by start then by index (a
- * total order, so qsort's result does not depend on its algorithm). */
-typedef struct {
-    double lo;
-    size_t index;
-} support_start;
-
-static int by_start(const void *a, const void *b)
-{
-    const support_start *p = a, *q = b;
-    if (p->lo != q->lo)
-        return p->lo < q->lo ? -1 : 1;
-    return (p->index > q->index) - (p->index < q->index);
-}
-
-static qc_status sort_by_support(const double *lo, size_t n, size_t *order,
-                                 double *lo_sorted)
-{
-    support_start *s = qc_malloc_array(n, sizeof *s);
-    if (!s)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        s[i] = (support_start){lo[i], i};
-    qsort(s, n, sizeof *s, by_start);
-    for (size_t k = 0; k < n; k++) {
-        order[k] = s[k].index;
-        lo_sorted[k] = s[k].lo;
-    }
-    free(s);
-    return QC_OK;
-}
-
 qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels, double *mi_nats,
                             double *abserr_nats)
@@ -236,12 +204,14 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
         model->type->support(model, levels[i], &sup[i], &sup[nlevels + i]);
         width = fmax(width, sup[nlevels + i] - sup[i]);
     }
-    st = sort_by_support(sup, nlevels, order, sup + 2 * nlevels);
+    st = qc_sort_order(sup, nlevels, order); /* by where each support starts */
     if (st != QC_OK) {
         free(sup);
         free(order);
         return st;
     }
+    for (size_t k = 0; k < nlevels; k++)
+        sup[2 * nlevels + k] = sup[order[k]];
     mi_ctx c = {model, levels, input, nlevels, 0.0, sup, sup + nlevels,
                 order, sup + 2 * nlevels, width};
     double total = 0.0, err = 0.0;
