@@ -199,11 +199,10 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             }
             const qc_design_result *r = &cmp.result[i];
             char penalty[32] = "n/a";
-            if (isfinite(r->snr_penalty_db)) {
+            if (isfinite(r->snr_penalty_db))
                 snprintf(penalty, sizeof penalty, "%.4f", r->snr_penalty_db);
-            } else {
+            else
                 no_penalty = 1;
-            }
             fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12s", qc_quantizer_name(r->quantizer),
                     r->rate_bits, r->unquantized_bits, r->loss_bits, penalty);
             if (capacity) {
@@ -214,18 +213,18 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         }
         if (no_penalty)
             fputs("\npenalty n/a: no SNR penalty is defined for this model\n", sink->f);
-        char certified[96] = "rates: capacity, certified by the Blahut-Arimoto upper bound";
+        const char *per_symbol = req->dimensions == 2 ? ", per complex symbol" : "";
         if (capacity)
-            snprintf(certified, sizeof certified,
-                     "rates: capacity, certified by the Blahut-Arimoto upper bound "
-                     "(tol %g bit)", tol);
-        fprintf(sink->f, "\n%s%s\n",
-                capacity
-                    ? certified
-                : req->objective == QC_OBJECTIVE_GMI
-                    ? "rates: BICM GMI with Gray labels, exact finite sums"
-                    : "rates: mutual information, exact finite sums",
-                req->dimensions == 2 ? ", per complex symbol" : "");
+            fprintf(sink->f,
+                    "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
+                    "(tol %g bit)%s\n",
+                    tol, per_symbol);
+        else
+            fprintf(sink->f, "\n%s%s\n",
+                    req->objective == QC_OBJECTIVE_GMI
+                        ? "rates: BICM GMI with Gray labels, exact finite sums"
+                        : "rates: mutual information, exact finite sums",
+                    per_symbol);
     }
     qc_design_comparison_clear(&cmp);
     return rc;

@@ -5,8 +5,8 @@
  *
  * Continuous outputs, K ≥ 3: c is the middle of the span of the mean
  * outputs of the levels (in the output's own units: electrons for the
- * APD models); h is
- * found by a scan of 64 values up to the output support and GSL's Brent
+ * APD models); h is found by a scan of 64 values up to the output
+ * support and GSL's Brent
  * minimizer (Brent, Algorithms for Minimization without Derivatives, 1973)
  * around the best; then both ends c − h and c + h are adjusted together by
  * the Nelder–Mead simplex (GSL nmsimplex2; Nelder & Mead, Computer
@@ -253,8 +253,6 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         return qc_fail(QC_ENOMEM, "out of memory");
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
-    double lmin, lmax;
-    output_span(model, levels, nlevels, &lmin, &lmax);
     qc_status st;
     if (model->type->output == QC_OUTPUT_COUNTS) {
         /* first threshold and step within the support: thresholds above
@@ -264,7 +262,9 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         line l = {&s, 0.0, 1};
         st = scan_and_brent(&l, lo, hi);
     } else {
-        double c = 0.5 * (lmin + lmax); /* middle of the mean outputs */
+        double mean_lo, mean_hi;
+        output_span(model, levels, nlevels, &mean_lo, &mean_hi);
+        double c = 0.5 * (mean_lo + mean_hi);
         double hmax = fmax(hi - c, c - lo);
         line l = {&s, c, 0};
         st = scan_and_brent(&l, 0.0, hmax);

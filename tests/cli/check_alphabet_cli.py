@@ -10,28 +10,24 @@ log2(1 + Es/N0); Smith, Information and Control 18, 1971 and Sharma &
 Shamai, ISITA 2008 for the amplitude-constrained optimum."""
 import json
 import math
+import os
 import subprocess
 import sys
 
 import numpy as np
 from scipy.stats import norm
 
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
 QC = sys.argv[1]
-failures = []
-checks = 0
+tally = Tally()
+check = tally.check
 
 
 def run(*args):
     p = subprocess.run([QC, *args], capture_output=True, text=True)
     return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    global checks
-    checks += 1
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
 
 
 def design_json(*args):
@@ -140,5 +136,5 @@ for needle in ("per complex symbol", "GMI", "dispersion", "normal approximation"
                "shaping gap", "BICM GMI with Gray labels"):
     check(needle in out, f"text output mentions '{needle}'")
 
-print(f"{checks} checks, {len(failures)} failures")
-sys.exit(1 if failures else 0)
+print(f"{tally.count} checks, {len(tally.failures)} failures")
+sys.exit(1 if tally.failures else 0)

@@ -15,22 +15,17 @@ import tempfile
 
 from scipy.stats import norm
 
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
 QC = sys.argv[1]
-failures = []
-checks = 0
+tally = Tally()
+check = tally.check
 
 
 def run(*args, input_text=None):
     p = subprocess.run([QC, *args], capture_output=True, text=True, input=input_text)
     return p.returncode, p.stdout, p.stderr
-
-
-def check(cond, what):
-    global checks
-    checks += 1
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
 
 
 def h2(p):
@@ -281,5 +276,5 @@ for cmd in ("capacity", "channel", "design", "models"):
     rc, out, _ = run(cmd, "--help")
     check(rc == 0 and "usage: quantcap " + cmd in out, f"{cmd} --help")
 
-print(f"{checks - len(failures)} passed, {len(failures)} failed")
-sys.exit(1 if failures else 0)
+print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
+sys.exit(1 if tally.failures else 0)

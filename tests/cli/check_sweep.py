@@ -16,17 +16,12 @@ import sys
 import tempfile
 import time
 
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
 QC = sys.argv[1]
-failures = []
-checks = 0
-
-
-def check(cond, what):
-    global checks
-    checks += 1
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
+tally = Tally()
+check = tally.check
 
 
 def run(*args, timeout=600):
@@ -247,5 +242,5 @@ check(rc == 2 and "missing.ini: cannot open" in err, f"missing scenario file: {e
 rc, out, err = run("sweep", "--help")
 check(rc == 0 and "usage: quantcap sweep" in out, "sweep --help")
 
-print(f"{checks - len(failures)} passed, {len(failures)} failed")
-sys.exit(1 if failures else 0)
+print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
+sys.exit(1 if tally.failures else 0)

@@ -21,18 +21,11 @@ ROOT = os.path.dirname(os.path.dirname(HERE))
 QC = os.path.abspath(sys.argv[1]) if len(sys.argv) > 1 else None
 RUNS = 3
 
-checks = 0
-failures = []
+sys.path.insert(0, os.path.dirname(HERE))
+from checklib import Tally  # noqa: E402
 
-
-def check(cond, what):
-    global checks
-    checks += 1
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
-    else:
-        print("ok  ", what)
+tally = Tally(verbose=True)
+check = tally.check
 
 
 def run(args, cwd=None):
@@ -124,8 +117,8 @@ def main():
         check_sweep(tmp)
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
-    print(f"determinism: {checks - len(failures)} passed, {len(failures)} failed")
-    return 1 if failures else 0
+    print(f"determinism: {tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
+    return 1 if tally.failures else 0
 
 
 if __name__ == "__main__":

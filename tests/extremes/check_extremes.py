@@ -33,16 +33,11 @@ TOL_LIMIT = 1e-9    # log2(min(levels, cells)) and data processing, bits
 TOL_MONO = 1e-9     # monotone sequences, bits (the design tolerance)
 NO_SNR_MODELS = {"poisson", "apd", "apd-gauss", "preamp", "table"}
 
-checks = 0
-failures = []
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
 
-
-def check(cond, what):
-    global checks
-    checks += 1
-    if not cond:
-        failures.append(what)
-        print("FAIL:", what)
+tally = Tally()
+check = tally.check
 
 
 def reject_constant(name):
@@ -248,10 +243,10 @@ def main():
            ["--model", "gauss", "--snr-db", "20", "--alphabet", "pam:4", "--bits", "12",
             "--quantizer", "uniform"])
 
-    passed = checks - len(failures)
-    print(f"{checks} checks in {time.monotonic() - t0:.1f} s")
-    print(f"extremes: {passed} passed, {len(failures)} failed")
-    return 1 if failures else 0
+    passed = tally.count - len(tally.failures)
+    print(f"{tally.count} checks in {time.monotonic() - t0:.1f} s")
+    print(f"extremes: {passed} passed, {len(tally.failures)} failed")
+    return 1 if tally.failures else 0
 
 
 if __name__ == "__main__":

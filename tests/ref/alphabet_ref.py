@@ -21,6 +21,7 @@ recomputes independently:
 Exits non-zero on any mismatch and prints every comparison.
 """
 import json
+import os
 import math
 import subprocess
 import sys
@@ -28,21 +29,16 @@ import sys
 import numpy as np
 from scipy import integrate, stats
 
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
 TOL_QUAD = 1e-9     # bits: adaptive quadrature against adaptive quadrature
 TOL_GH = 1e-6       # bits: 2-D Gauss-Hermite against quantcap's quadrature
 TOL_SUM = 1e-9      # bits: finite sums over the same channel
 TOL_V = 1e-8        # bits^2: dispersion
 TOL_DB = 1e-9       # dB
-failures = 0
-
-
-def check(what, got, want, tol):
-    global failures
-    ok = abs(got - want) <= tol
-    print(f"{'ok  ' if ok else 'FAIL'} {what}: quantcap {got:.12g} scipy {want:.12g}"
-          f" (|diff| {abs(got - want):.2e}, tol {tol:g})")
-    if not ok:
-        failures += 1
+tally = Tally()
+check = tally.near
 
 
 def gray(i):
@@ -223,8 +219,8 @@ def main():
         gap = snr_db - 10 * math.log10(2 ** (2 * per_dim) - 1)
         check(f"{tag}: shaping gap", des["shaping_gap_db"], gap, TOL_DB)
 
-    print(f"{failures} failure(s)")
-    sys.exit(1 if failures else 0)
+    print(f"{len(tally.failures)} failure(s)")
+    sys.exit(1 if tally.failures else 0)
 
 
 main()

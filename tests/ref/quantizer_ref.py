@@ -20,26 +20,22 @@ Exits non-zero on any mismatch and prints every comparison.
 """
 import itertools
 import json
+import os
 import subprocess
 import sys
 
 import numpy as np
 from scipy import integrate, optimize, stats
 
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
 TOL_UNQ = 1e-9      # bits, quadrature against quadrature
 TOL_RATE = 1e-6     # bits, designed rates
 TOL_T = 2e-4        # threshold positions of a flat optimum
 TOL_LLOYD = 1e-6    # Lloyd-Max thresholds and points
-failures = 0
-
-
-def check(what, got, want, tol):
-    global failures
-    ok = abs(got - want) <= tol
-    print(f"{'ok  ' if ok else 'FAIL'} {what}: quantcap {got:.12g} scipy {want:.12g}"
-          f" (|diff| {abs(got - want):.2e}, tol {tol:g})")
-    if not ok:
-        failures += 1
+tally = Tally()
+check = tally.near
 
 
 def bpsk_unquantized(sigma):
@@ -148,8 +144,8 @@ def main():
             check(f"{name} threshold {j + 1}", a, b, TOL_LLOYD)
         for j, (a, b) in enumerate(zip(d["reconstruction"], pts)):
             check(f"{name} point {j + 1}", a, b, TOL_LLOYD)
-    print(f"{failures} mismatches")
-    return 1 if failures else 0
+    print(f"{len(tally.failures)} mismatches")
+    return 1 if tally.failures else 0
 
 
 if __name__ == "__main__":
