@@ -599,6 +599,11 @@ typedef struct {
     qc_objective objective;      /* echo of the request                      */
     qc_quantizer_kind quantizer;
     size_t cells;                /* K                                        */
+    size_t cells_used;           /* cells the quantizer has: K, or fewer for
+                                    count outputs whose counts that carry
+                                    probability are fewer than K (each then
+                                    has its own cell; nthresholds =
+                                    cells_used − 1)                         */
     double rate_bits;            /* the objective's value (capacity: the
                                     engine's certified lower bound)        */
     double upper_bound_bits;     /* certified upper bound on the objective
