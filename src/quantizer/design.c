@@ -204,7 +204,7 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
                                    &res->design_iterations);
         if (st == QC_OK)
             st = qc_uniform_tidy(req->model, res->levels, res->nlevels, nt, mi_objective,
-                                 w, QC_TIDY_SHARE * res->tol_bits / QC_LOG2E,
+                                 w, QC_TIDY_NATS(res->tol_bits),
                                  res->thresholds);
         qc_cell_mi_free(w);
         break;
@@ -239,7 +239,7 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     /* a reproducible placement among equally good thresholds (tidy.c) */
     if (req->quantizer == QC_QUANTIZER_OPTIMAL &&
         (st = qc_tidy_thresholds(req->model, res->levels, res->input, res->nlevels, nt,
-                                 QC_TIDY_SHARE * res->tol_bits / QC_LOG2E,
+                                 QC_TIDY_NATS(res->tol_bits),
                                  res->thresholds)) != QC_OK)
         return st;
     if (req->quantizer != QC_QUANTIZER_FIXED)

@@ -243,7 +243,7 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
         memcpy(t, res->thresholds, nt * sizeof *t);
         if (req->quantizer == QC_QUANTIZER_OPTIMAL &&
             (st = qc_tidy_thresholds(req->model, res->levels, res->input, nx, nt,
-                                     QC_TIDY_SHARE * res->tol_bits / QC_LOG2E, t)) != QC_OK)
+                                     QC_TIDY_NATS(res->tol_bits), t)) != QC_OK)
             goto done;
         qc_snap_thresholds(req->model, res->levels, nx, nt, t);
         if (memcmp(t, res->thresholds, nt * sizeof *t) != 0) {

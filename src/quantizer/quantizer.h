@@ -159,8 +159,12 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
 
 /* ---- tidy.c ----------------------------------------------------------- */
 
-/* Share of a design's tolerance that the placement below may cost. */
+/* What the placement below may cost: half the design's tolerance, at
+ * most 1e-13 bit (so that the MI-optimal design stays at least as good
+ * as the other strategies to rounding). */
 #define QC_TIDY_SHARE 0.5
+#define QC_TIDY_MAX_BITS 1e-13
+#define QC_TIDY_NATS(tol_bits) (fmin(QC_TIDY_SHARE * (tol_bits), QC_TIDY_MAX_BITS) / QC_LOG2E)
 
 /* Among thresholds equally good within eps_nats (t: nt sorted thresholds
  * of a design for law `input`), the reproducible placement of
