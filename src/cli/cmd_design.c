@@ -162,8 +162,7 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
     }
     if (r->nthresholds + 1 < r->cells)
         fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
-                   "that carries probability has its own cell, more cells cannot raise "
-                   "the rate",
+                   "that carries probability has its own cell",
                 r->nthresholds + 1, r->cells);
 }
 
