@@ -13,7 +13,7 @@
  *     removed greedily, smallest loss first (ties: lowest index), while
  *     the summed losses stay within half the budget ε.
  *  2. Flat essential thresholds (continuous outputs): each remaining
- *     threshold that a step of 1/1000 of its gaps to the neighbours moves
+ *     threshold that a step of 1/100 of its gaps to the neighbours moves
  *     by less than ε moves, in index order, to the middle of the interval
  *     over which it can sit with the rate at least I₀ − ε (found by
  *     bisection), the position farthest from where it starts to matter.
@@ -41,7 +41,7 @@
 
 #define TIDY_MAX_THRESHOLDS 4095 /* above: O(nt²) removal is not attempted */
 #define TIDY_MAX_CENTERED 255    /* essential thresholds centred at most */
-#define FLAT_PROBE 1e-3          /* flatness probe: this share of the gaps */
+#define FLAT_PROBE 1e-2          /* flatness probe: this share of the gaps */
 #define ROUND_SHARE 1e-4         /* middle rounded within this share of the
                                     flat interval (qc_simplest_within) */
 #define BISECT_STEPS 200         /* interval halvings (stops at ulp level) */
