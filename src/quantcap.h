@@ -551,7 +551,10 @@ typedef struct {
     const double *probabilities;
     /* The quantizer. */
     size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
-                                    QC_QUANTIZER_FIXED: nthresholds + 1    */
+                                    QC_QUANTIZER_FIXED: nthresholds + 1.
+                                    Count outputs use at most one cell per
+                                    count that carries probability (the
+                                    result's cells_used)                    */
     qc_objective objective;
     qc_quantizer_kind quantizer;
     const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
