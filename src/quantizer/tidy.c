@@ -352,7 +352,7 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
         double qa = mass_between(model, levels, input, nlevels, a, s);
         memmove(e + best + 1, e + best, (m - best) * sizeof *e);
         memmove(q + best + 1, q + best, (m + 1 - best) * sizeof *q);
-        memmove(stuck + best + 1, stuck + best, (m - best) * sizeof *stuck);
+        memmove(stuck + best + 2, stuck + best + 1, (m - best) * sizeof *stuck);
         e[best] = s;
         q[best + 1] = q[best] - qa > 0.0 ? q[best] - qa : 0.0;
         q[best] = qa;
