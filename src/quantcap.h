@@ -551,7 +551,10 @@ typedef struct {
     const double *probabilities;
     /* The quantizer. */
     size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
-                                    QC_QUANTIZER_FIXED: nthresholds + 1    */
+                                    QC_QUANTIZER_FIXED: nthresholds + 1.
+                                    Count outputs use at most one cell per
+                                    count that carries probability (the
+                                    result's cells_used)                    */
     qc_objective objective;
     qc_quantizer_kind quantizer;
     const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
@@ -599,6 +602,11 @@ typedef struct {
     qc_objective objective;      /* echo of the request                      */
     qc_quantizer_kind quantizer;
     size_t cells;                /* K                                        */
+    size_t cells_used;           /* cells the quantizer has: K, or fewer for
+                                    count outputs whose counts that carry
+                                    probability are fewer than K (each then
+                                    has its own cell; nthresholds =
+                                    cells_used − 1)                         */
     double rate_bits;            /* the objective's value (capacity: the
                                     engine's certified lower bound)        */
     double upper_bound_bits;     /* certified upper bound on the objective

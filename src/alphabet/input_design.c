@@ -212,10 +212,16 @@ static qc_status alternate(alternation *a)
  * The optimal strategy starts from the uniform, Lloyd–Max and DP
  * thresholds for the starting law and keeps the best. The reported rate
  * and bound are those of the final channel. */
-static qc_status constrained_capacity(const design_ctx *c, const qc_design_request *sub,
+static qc_status constrained_capacity(const design_ctx *c, const qc_design_request *asked,
                                       const qc_cost *costs, size_t ncosts,
                                       qc_design_result *res)
 {
+    /* count outputs: the cells the counts that carry probability can use */
+    qc_design_request capped = *asked;
+    if (asked->quantizer != QC_QUANTIZER_FIXED)
+        capped.cells = qc_cells_usable(asked->model, asked->levels, asked->nlevels,
+                                       asked->cells);
+    const qc_design_request *sub = &capped;
     const size_t n = sub->nlevels;
     const qc_quantizer_kind kind = sub->quantizer;
     alternation a = {.sub = sub, .costs = costs, .ncosts = ncosts, .n = n,
@@ -259,6 +265,7 @@ static qc_status constrained_capacity(const design_ctx *c, const qc_design_reque
         goto done;
     res->objective = QC_OBJECTIVE_CAPACITY;
     res->quantizer = kind;
+    res->cells = asked->cells ? asked->cells : res->cells;
     res->upper_bound_bits = fmax(a.best_upper, res->rate_bits);
     res->iterations = a.iterations;
     res->design_iterations = kind == QC_QUANTIZER_FIXED ? 0 : a.alternations;

@@ -14,6 +14,7 @@ static const cli_opt output_options[] = {
     {NULL, NULL, NULL},
 };
 
+#define THRESHOLD_RESOLUTION 1e-4 /* of the noise standard deviation, in text */
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
 
 /* The design keys become flags; the table lives as long as the program. */
@@ -122,6 +123,49 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     print_practical_rates(f, r);
 }
 
+/* Significant digits that resolve t to THRESHOLD_RESOLUTION of the noise
+ * standard deviation there (that of the level whose mean is nearest t);
+ * 0 when the model gives no moments. */
+static int threshold_digits(const qc_model *m, const qc_design_result *r, double t)
+{
+    double best = INFINITY, sd = NAN;
+    for (size_t x = 0; x < r->nlevels; x++) {
+        double mean, var;
+        if (qc_model_moments(m, r->levels[x], &mean, &var) == QC_OK && isfinite(mean) &&
+            var > 0.0 && isfinite(var) && fabs(t - mean) < best) {
+            best = fabs(t - mean);
+            sd = sqrt(var);
+        }
+    }
+    if (!(sd > 0.0) || t == 0.0)
+        return 0;
+    int d = (int)floor(log10(fabs(t))) - (int)floor(log10(THRESHOLD_RESOLUTION * sd)) + 1;
+    return d < 1 ? -1 : d > 17 ? 17 : d; /* -1: below the resolution, prints 0 */
+}
+
+/* The threshold listing: counts as integers, continuous outputs resolved
+ * to 1e-4 of the noise standard deviation (full precision in JSON), and
+ * a note when a count quantizer has fewer cells than asked for. */
+static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r)
+{
+    const int counts = m->type->output == QC_OUTPUT_COUNTS;
+    fprintf(f, "\nthresholds  ");
+    for (size_t j = 0; j < r->nthresholds; j++) {
+        double t = r->thresholds[j];
+        int d = counts ? 0 : threshold_digits(m, r, t);
+        if (counts || t == 0.0 || d < 0)
+            fprintf(f, "%s%.0f", j ? ", " : " ", d < 0 ? 0.0 : t);
+        else if (d > 0)
+            fprintf(f, "%s%.*g", j ? ", " : " ", d, t);
+        else
+            fprintf(f, "%s%.6g", j ? ", " : " ", t);
+    }
+    if (r->nthresholds + 1 < r->cells)
+        fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
+                   "that carries probability has its own cell",
+                r->nthresholds + 1, r->cells);
+}
+
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits)
 {
@@ -142,9 +186,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     print_rates(f, req, r);
     if (r->reconstruction)
         fprintf(f, "mean-square  %.6g (Lloyd-Max)\n", r->mse);
-    fprintf(f, "\nthresholds  ");
-    for (size_t j = 0; j < r->nthresholds; j++)
-        fprintf(f, "%s%.6g", j ? ", " : " ", r->thresholds[j]);
+    print_thresholds(f, m, r);
     /* long level grids: only the mass points */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
     fprintf(f, "\n\n       level   probability%s\n",

@@ -123,6 +123,9 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "objective", json_string(qc_objective_name(req->objective)));
     json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer)));
     json_object_set_new(o, "cells", json_integer((json_int_t)req->cells));
+    /* fewer than cells for count outputs with fewer counts that carry
+     * probability (each has its own cell) */
+    json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->nthresholds + 1)));
     unsigned bits = bits_of(req->cells);
     json_object_set_new(o, "bits", bits ? json_integer(bits) : json_null());
     json_object_set_new(o, "rate_bits", qc_report_real(res->rate_bits));

@@ -202,6 +202,10 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
             st = qc_uniform_search(req->model, res->levels, res->nlevels, nt,
                                    mi_objective, w, res->thresholds, NULL,
                                    &res->design_iterations);
+        if (st == QC_OK)
+            st = qc_uniform_tidy(req->model, res->levels, res->nlevels, nt, mi_objective,
+                                 w, QC_TIDY_NATS(res->tol_bits),
+                                 res->thresholds);
         qc_cell_mi_free(w);
         break;
     }
@@ -232,6 +236,14 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     }
     if (st != QC_OK)
         return st;
+    /* a reproducible placement among equally good thresholds (tidy.c) */
+    if (req->quantizer == QC_QUANTIZER_OPTIMAL &&
+        (st = qc_tidy_thresholds(req->model, res->levels, res->input, res->nlevels, nt,
+                                 QC_TIDY_NATS(res->tol_bits),
+                                 res->thresholds)) != QC_OK)
+        return st;
+    if (req->quantizer != QC_QUANTIZER_FIXED)
+        qc_snap_thresholds(req->model, res->levels, res->nlevels, nt, res->thresholds);
     st = qc_discretize(req->model, res->levels, res->nlevels, res->thresholds, nt,
                        &res->channel);
     if (st != QC_OK)
@@ -265,13 +277,17 @@ qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *r
     r.objective = req->objective;
     r.quantizer = req->quantizer;
     r.cells = K;
-    r.nthresholds = K - 1;
+    /* count outputs: no more cells than counts that carry probability */
+    r.cells_used = req->quantizer == QC_QUANTIZER_FIXED
+                       ? K
+                       : qc_cells_usable(req->model, req->levels, n, K);
+    r.nthresholds = r.cells_used - 1;
     r.nlevels = n;
     r.tol_bits = req->tol_bits > 0.0 ? req->tol_bits : DEFAULT_TOL_BITS;
     r.mse = NAN;
     r.snr_db = NAN;
     r.snr_penalty_db = NAN;
-    r.thresholds = qc_malloc_array(K - 1, sizeof *r.thresholds);
+    r.thresholds = qc_malloc_array(r.nthresholds, sizeof *r.thresholds);
     r.levels = qc_malloc_array(n, sizeof *r.levels);
     r.input = qc_malloc_array(n, sizeof *r.input);
     if (!r.thresholds || !r.levels || !r.input) {

@@ -237,6 +237,31 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
     j.engine_iterations += cr.iterations;
     if (st != QC_OK)
         goto done;
+    if (req->quantizer != QC_QUANTIZER_FIXED) {
+        /* A reproducible placement among equally good thresholds (tidy.c)
+         * for the capacity-achieving law r*: C(t') ≥ I(r*, t') ≥ C(t) − ε. */
+        memcpy(t, res->thresholds, nt * sizeof *t);
+        if (req->quantizer == QC_QUANTIZER_OPTIMAL &&
+            (st = qc_tidy_thresholds(req->model, res->levels, res->input, nx, nt,
+                                     QC_TIDY_NATS(res->tol_bits), t)) != QC_OK)
+            goto done;
+        qc_snap_thresholds(req->model, res->levels, nx, nt, t);
+        if (memcmp(t, res->thresholds, nt * sizeof *t) != 0) {
+            memcpy(res->thresholds, t, nt * sizeof *t);
+            qc_dmc_free(res->channel);
+            res->channel = NULL;
+            if ((st = qc_discretize(req->model, res->levels, nx, res->thresholds, nt,
+                                    &res->channel)) != QC_OK)
+                goto done;
+            memcpy(j.law, res->input, nx * sizeof *j.law);
+            warm_start_positive(j.law, nx);
+            j.opt.initial = j.law;
+            st = qc_capacity(res->channel, &j.opt, j.ws, &cr, res->input);
+            j.engine_iterations += cr.iterations;
+            if (st != QC_OK)
+                goto done;
+        }
+    }
     res->rate_bits = cr.capacity_bits;
     res->upper_bound_bits = cr.upper_bound_bits;
     res->iterations = j.engine_iterations;

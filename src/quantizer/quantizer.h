@@ -63,6 +63,14 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             void *ctx, double *t_out, double *value_out,
                             size_t *evals);
 
+/* Where the rate is flat in the range (saturation), a reproducible range
+ * among the equally good ones: the half-width h, then the centre c, each
+ * moved to the middle of the interval over which `f` stays within eps of
+ * its value at t (continuous outputs, nt ≥ 2; counts: t is unchanged). */
+qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nlevels,
+                          size_t nt, qc_threshold_objective f, void *ctx, double eps,
+                          double *t);
+
 /* ---- lloyd_max.c ------------------------------------------------------ */
 
 /* Minimum-MSE quantizer of Y under the mixture Σ r(x) f(y|x) with K = nt
@@ -148,6 +156,42 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
                                 const qc_fine_grid *g, double *t_out,
                                 double *mi_nats, size_t *iterations);
+
+/* ---- tidy.c ----------------------------------------------------------- */
+
+/* What the placement below may cost: half the design's tolerance, at
+ * most 1e-13 bit (so that the MI-optimal design stays at least as good
+ * as the other strategies to rounding). */
+#define QC_TIDY_SHARE 0.5
+#define QC_TIDY_MAX_BITS 1e-13
+#define QC_TIDY_NATS(tol_bits) (fmin(QC_TIDY_SHARE * (tol_bits), QC_TIDY_MAX_BITS) / QC_LOG2E)
+
+/* Among thresholds equally good within eps_nats (t: nt sorted thresholds
+ * of a design for law `input`), the reproducible placement of
+ * docs/methods.md §4: redundant thresholds removed and re-inserted where
+ * they split the most probable cells at their medians, flat essential
+ * thresholds centred in their flat interval. The rate of the result is at
+ * least the rate of t minus eps_nats, else t is left unchanged (as it is
+ * for nt > 4095). */
+qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t nt,
+                             double eps_nats, double *t);
+
+/* The number within tol of x on the coarsest power-of-two grid (0 when
+ * |x| ≤ tol): a reproducible representative of an interval's middle. */
+double qc_simplest_within(double x, double tol);
+
+/* Thresholds within 64 ulps of the output's scale from 0 or from a
+ * level's mean are set to it exactly (continuous outputs; the order is
+ * kept). */
+void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
+                        size_t nt, double *t);
+
+/* Cells a quantizer for count outputs can use: hi − lo + 1 for the union
+ * [lo, hi] of the levels' supports (every count that carries probability
+ * in its own cell), at most `cells`. Continuous outputs: `cells`. */
+size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
+                       size_t cells);
 
 /* ---- design.c ----------------------------------------------------------- */
 

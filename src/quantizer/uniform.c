@@ -287,3 +287,93 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         *evals = s.evals;
     return QC_OK;
 }
+
+/* Thresholds of the range with centre c and half-width h into t. */
+static void range_thresholds(double c, double h, size_t nt, double *t)
+{
+    const double K = (double)(nt + 1);
+    for (size_t j = 0; j < nt; j++)
+        t[j] = c - h + 2.0 * h * (double)(j + 1) / K;
+}
+
+/* Move coordinate *p (the centre or the half-width) to the middle of the
+ * interval [lo_p, hi_p] ∋ *p over which the rate stays ≥ floor_v. */
+static qc_status center_coordinate(qc_threshold_objective f, void *ctx, size_t nt,
+                                   double *c, double *h, int which, double lo_p,
+                                   double hi_p, double floor_v, double *t)
+{
+    double *p = which ? h : c;
+    const double p0 = *p;
+    double ends[2];
+    for (int side = 0; side < 2; side++) {
+        double good = p0, bad = side ? hi_p : lo_p, v;
+        for (int k = 0; k < 200; k++) {
+            double x = k == 0 ? bad : 0.5 * (good + bad);
+            if (k > 0 && (x == good || x == bad))
+                break;
+            *p = x;
+            range_thresholds(*c, *h, nt, t);
+            int ordered = *h > 0.0;
+            for (size_t j = 1; ordered && j < nt; j++)
+                ordered = t[j] > t[j - 1];
+            v = -INFINITY;
+            if (ordered) {
+                qc_status st = f(ctx, t, nt, &v);
+                if (st != QC_OK) {
+                    *p = p0;
+                    return st;
+                }
+            }
+            if (v >= floor_v) {
+                good = x;
+                if (k == 0)
+                    break;
+            } else {
+                bad = x;
+            }
+        }
+        ends[side] = good;
+    }
+    *p = qc_simplest_within(0.5 * (ends[0] + ends[1]), 1e-4 * (ends[1] - ends[0]));
+    range_thresholds(*c, *h, nt, t);
+    double v;
+    qc_status st = f(ctx, t, nt, &v);
+    if (st != QC_OK || !(v >= floor_v))
+        *p = p0;
+    return st;
+}
+
+qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nlevels,
+                          size_t nt, qc_threshold_objective f, void *ctx, double eps,
+                          double *t)
+{
+    if (model->type->output == QC_OUTPUT_COUNTS || nt < 2 || !(eps > 0.0))
+        return QC_OK;
+    double *u = qc_malloc_array(nt, sizeof *u);
+    if (!u)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double v0;
+    qc_status st = f(ctx, t, nt, &v0);
+    const double w = t[1] - t[0], K = (double)(nt + 1);
+    double h = 0.5 * K * w, c = t[0] - w + h;
+    double lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    const double hmax = fmax(fmax(hi - c, c - lo), h);
+    if (st == QC_OK)
+        st = center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u);
+    if (st == QC_OK)
+        st = center_coordinate(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c), v0 - eps,
+                               u);
+    if (st == QC_OK) {
+        double v;
+        range_thresholds(c, h, nt, u);
+        int ordered = 1;
+        for (size_t j = 1; j < nt; j++)
+            ordered = ordered && u[j] > u[j - 1];
+        if (ordered && (st = f(ctx, u, nt, &v)) == QC_OK && v >= v0 - eps)
+            for (size_t j = 0; j < nt; j++)
+                t[j] = u[j];
+    }
+    free(u);
+    return st;
+}

@@ -180,6 +180,26 @@ check(abs(j.get("parameters", {}).get("sigma", math.nan) - math.sqrt(5.0 / 10.0)
 rc, out, _ = run("design", "--model", "gauss", "--snr-db", "10", "--levels", "-1,1", "--bits", "2")
 check(rc == 0 and "bit/use" in out and "unquantized" in out, "design human output")
 
+# thresholds in text at 1e-4 of the noise standard deviation: rounding noise of a
+# symmetric design prints as 0, not 1e-16 (JSON keeps every digit)
+rc, out, err = run("design", "--model", "gauss", "--snr-db", "30", "--alphabet", "pam:2", "--bits", "3",
+                   "--quantizer", "lloyd-max")
+tl = [line for line in out.splitlines() if line.startswith("thresholds")]
+check(rc == 0 and len(tl) == 1 and tl[0].split()[1:] == ["-1.031041,", "-1,", "-0.968959,", "0,",
+                                                         "0.968959,", "1,", "1.031041"],
+      f"threshold listing at the noise resolution ({tl})")
+
+# photon counting with more cells than counts that carry probability: capped, and said so
+# (P(Y >= 19 | lambda = 1) = 3.2e-18, scipy.stats.poisson.sf(18, 1))
+rc, out, err = run("design", "--model", "poisson", "--signal", "1", "--alphabet", "upam:2", "--bits", "16",
+                   "--json")
+j = parse(out, "json poisson cap")
+check(rc == 0 and j["cells"] == 65536 and j["cells_used"] == 19 and j["thresholds"] == list(range(1, 19)),
+      f"poisson 16 bits capped at 19 cells (cells_used {j['cells_used']})")
+rc, out, err = run("design", "--model", "poisson", "--signal", "1", "--alphabet", "upam:2", "--bits", "16")
+check(rc == 0 and "capped at 19 of the 65536 cells" in out and len(out) < 4000,
+      "poisson cap said in text output")
+
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "0"], 2,
              "--bits: '0' is not a whole number from 1 to 16", "bits 0")
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "64"], 2,

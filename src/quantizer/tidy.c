@@ -1,0 +1,429 @@
+/* tidy.c — a reproducible choice among equally good thresholds.
+ *
+ * Where the rate does not depend on where some thresholds sit (a rate
+ * saturated at log2 of the number of levels, more cells than the levels
+ * can use), a design strategy leaves those thresholds wherever its
+ * iteration stopped. The rule applied here (docs/methods.md §4,
+ * "Equally good thresholds"):
+ *
+ *  1. Redundant thresholds: merging two neighbouring cells changes the
+ *     exact finite sum I(X;Y_q) by the local amount
+ *       Σ_x r(x) [P_a log(P_a/q_a) + P_b log(P_b/q_b) − P_ab log(P_ab/q_ab)]
+ *     (the data-processing loss of the merge, ≥ 0). Thresholds are
+ *     removed greedily, smallest loss first (ties: lowest index), while
+ *     the summed losses stay within half the budget ε.
+ *  2. Flat essential thresholds (continuous outputs): each remaining
+ *     threshold that a step of 1/100 of its gaps to the neighbours moves
+ *     by less than ε moves, in index order, to the middle of the interval
+ *     over which it can sit with the rate at least I₀ − ε (found by
+ *     bisection), the position farthest from where it starts to matter.
+ *     The interval ends are resolved only to where rounding of the rate
+ *     (1e-16 relative) meets ε, so the middle is rounded to the coarsest
+ *     power-of-two grid with a point within 1e-4 of the interval's width
+ *     (qc_simplest_within): 0 rather than 2e-9, 2 rather than 1.9999999994.
+ *  3. The removed thresholds return one at a time, each splitting the
+ *     cell of largest output probability (ties: lowest index) at the
+ *     median of the output law in that cell: splitting never lowers the
+ *     rate, and the result is the quantizer of largest output entropy
+ *     among those greedy splits, every code of the converter used.
+ *  4. The rate of the result is checked to be at least I₀ − ε; otherwise
+ *     the thresholds are left as they were.
+ *
+ * Separately, qc_snap_thresholds puts a threshold that lies within a few
+ * ulps (of the output's scale) of zero or of a level's mean exactly on
+ * it, so that rounding noise of the design does not print as 1e-15. */
+#include "quantizer/quantizer.h"
+
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define TIDY_MAX_THRESHOLDS 4095 /* above: O(nt²) removal is not attempted */
+#define TIDY_MAX_CENTERED 255    /* essential thresholds centred at most */
+#define FLAT_PROBE 1e-2          /* flatness probe: this share of the gaps */
+#define ROUND_SHARE 1e-4         /* middle rounded within this share of the
+                                    flat interval (qc_simplest_within) */
+#define BISECT_STEPS 200         /* interval halvings (stops at ulp level) */
+#define SNAP_ULPS 64.0           /* snapping distance, in ulps of the scale */
+
+/* Σ_x r(x) p_x log(p_x / q) for one cell (column). */
+static double cell_term(const double *col, const double *r, size_t nx, double q)
+{
+    double s = 0.0;
+    for (size_t x = 0; x < nx; x++)
+        if (r[x] > 0.0 && col[x] > 0.0)
+            s += r[x] * col[x] * log(col[x] / q);
+    return s;
+}
+
+/* Loss of merging cells a and b (columns of cols, nx each). */
+static double merge_loss(const double *cols, const double *qs, const double *r,
+                         size_t nx, size_t a, size_t b, double *tmp)
+{
+    const double *ca = cols + a * nx, *cb = cols + b * nx;
+    for (size_t x = 0; x < nx; x++)
+        tmp[x] = ca[x] + cb[x];
+    double loss = cell_term(ca, r, nx, qs[a]) + cell_term(cb, r, nx, qs[b]) -
+                  cell_term(tmp, r, nx, qs[a] + qs[b]);
+    return loss > 0.0 ? loss : 0.0;
+}
+
+/* Step 1: keep[j] = 0 for removed thresholds; *kept their number. */
+static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
+                                double budget, unsigned char *keep, size_t *kept)
+{
+    const size_t nx = ch->nx, K = nt + 1;
+    double *cols = qc_malloc_array(K * nx, sizeof *cols);
+    double *qs = qc_malloc_array(K, sizeof *qs);
+    double *loss = qc_malloc_array(nt, sizeof *loss);
+    double *tmp = qc_malloc_array(nx, sizeof *tmp);
+    size_t *next = qc_malloc_array(K, sizeof *next); /* next alive cell */
+    size_t *prev = qc_malloc_array(K, sizeof *prev);
+    qc_status st = QC_OK;
+    if (!cols || !qs || !loss || !tmp || !next || !prev) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    for (size_t c = 0; c < K; c++) {
+        qs[c] = 0.0;
+        for (size_t x = 0; x < nx; x++) {
+            cols[c * nx + x] = ch->p[x * K + c];
+            qs[c] += r[x] * ch->p[x * K + c];
+        }
+        next[c] = c + 1;
+        prev[c] = c - 1; /* wraps for c = 0; never read there */
+    }
+    /* groups of cells are named by their first cell (head); threshold j
+     * separates the group ending at cell j from the group with head j + 1 */
+    for (size_t j = 0; j < nt; j++) {
+        keep[j] = 1;
+        loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, tmp);
+    }
+    *kept = nt;
+    double spent = 0.0;
+    for (;;) {
+        size_t best = nt;
+        for (size_t j = 0; j < nt; j++)
+            if (keep[j] && (best == nt || loss[j] < loss[best]))
+                best = j;
+        if (best == nt || spent + loss[best] > budget)
+            break;
+        /* merge the group with head h2 = best + 1 into its left neighbour h1 */
+        size_t h2 = best + 1, h1 = prev[h2];
+        spent += loss[best];
+        keep[best] = 0;
+        (*kept)--;
+        for (size_t x = 0; x < nx; x++)
+            cols[h1 * nx + x] += cols[h2 * nx + x];
+        qs[h1] += qs[h2];
+        next[h1] = next[h2];
+        if (next[h2] < K) {
+            prev[next[h2]] = h1;
+            loss[next[h2] - 1] = merge_loss(cols, qs, r, nx, h1, next[h2], tmp);
+        }
+        if (h1 > 0)
+            loss[h1 - 1] = merge_loss(cols, qs, r, nx, prev[h1], h1, tmp);
+    }
+done:
+    free(cols);
+    free(qs);
+    free(loss);
+    free(tmp);
+    free(next);
+    free(prev);
+    return st;
+}
+
+/* Output-law mass of [a, y) under law r (continuous or counts), each
+ * level's part taken on the side of its distribution that does not
+ * cancel. */
+static double mass_between(const qc_model *m, const double *levels, const double *r,
+                           size_t nx, double a, double y)
+{
+    double s = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        if (!(r[x] > 0.0))
+            continue;
+        double ba = isfinite(a) ? m->type->below(m, levels[x], a) : 0.0;
+        double p;
+        if (ba < 0.5)
+            p = m->type->below(m, levels[x], y) - ba;
+        else
+            p = m->type->above(m, levels[x], a) - m->type->above(m, levels[x], y);
+        s += r[x] * (p > 0.0 ? p : 0.0);
+    }
+    return s;
+}
+
+/* Median of the output law within the cell [a, b) of mass q; *ok = 0
+ * when the cell cannot be split (a single count, or no room). */
+static double cell_median(const qc_model *m, const double *levels, const double *r,
+                          size_t nx, double a, double b, double q, double lo,
+                          double hi, int *ok)
+{
+    const int counts = m->type->output == QC_OUTPUT_COUNTS;
+    double L = isfinite(a) ? a : lo, R = isfinite(b) ? b : hi;
+    if (counts) {
+        L = isfinite(a) ? a : 0.0;
+        R = isfinite(b) ? b : hi + 1.0;
+        if (R - L < 2.0) {
+            *ok = 0;
+            return NAN;
+        }
+        /* smallest count s in (L, R) with mass[a, s) ≥ q/2, within [L+1, R−1] */
+        double u = L + 1.0, v = R - 1.0;
+        while (v > u) {
+            double c = floor(0.5 * (u + v));
+            if (mass_between(m, levels, r, nx, a, c + 1.0) >= 0.5 * q)
+                v = c;
+            else
+                u = c + 1.0;
+        }
+        /* cell [a, s): s = u + 1 puts count u in the lower half */
+        double s = u + 1.0 <= R - 1.0 ? u + 1.0 : R - 1.0;
+        if (s <= L)
+            s = L + 1.0;
+        *ok = 1;
+        return s;
+    }
+    if (!(R > L)) {
+        *ok = 0;
+        return NAN;
+    }
+    for (int k = 0; k < BISECT_STEPS; k++) {
+        double c = 0.5 * (L + R);
+        if (!(c > L && c < R))
+            break;
+        if (mass_between(m, levels, r, nx, a, c) >= 0.5 * q)
+            R = c;
+        else
+            L = c;
+    }
+    double s = 0.5 * (L + R);
+    *ok = (!isfinite(a) || s > a) && (!isfinite(b) || s < b) && isfinite(s);
+    return s;
+}
+
+double qc_simplest_within(double x, double tol)
+{
+    if (!(tol > 0.0) || !isfinite(x) || !isfinite(tol))
+        return x;
+    if (fabs(x) <= tol)
+        return 0.0;
+    /* coarsest power-of-two grid with a point within tol of x */
+    for (double q = ldexp(1.0, ilogb(fabs(x)) + 1); q >= tol; q *= 0.5) {
+        double c = round(x / q) * q;
+        if (fabs(c - x) <= tol)
+            return c;
+    }
+    return x;
+}
+
+/* Step 2: move essential threshold e[j] to the middle of its flat
+ * interval (rate ≥ floor). */
+static qc_status center_one(qc_cell_mi *w, double *e, size_t m, size_t j, double lo,
+                            double hi, double floor_nats)
+{
+    const double t0 = e[j];
+    double left = j > 0 ? e[j - 1] : lo, right = j + 1 < m ? e[j + 1] : hi;
+    if (!(left < t0))
+        left = t0;
+    if (!(right > t0))
+        right = t0;
+    /* a threshold the rate pins down (it changes by more than the budget
+     * a small step away) stays where the design put it */
+    const double step = FLAT_PROBE * fmin(t0 - left, right - t0);
+    if (!(step > 0.0))
+        return QC_OK;
+    for (int side = 0; side < 2; side++) {
+        double v;
+        e[j] = side ? t0 + step : t0 - step;
+        qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
+        e[j] = t0;
+        if (st != QC_OK)
+            return st;
+        if (!(v >= floor_nats))
+            return QC_OK;
+    }
+    double ends[2];
+    for (int side = 0; side < 2; side++) {
+        double good = t0, bad = side ? right : left, v;
+        e[j] = bad;
+        qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
+        if (st != QC_OK) {
+            e[j] = t0;
+            return st;
+        }
+        if (v >= floor_nats) {
+            ends[side] = bad;
+            continue;
+        }
+        for (int k = 0; k < BISECT_STEPS; k++) {
+            double c = 0.5 * (good + bad);
+            if (c == good || c == bad)
+                break;
+            e[j] = c;
+            if ((st = qc_cell_mi_eval(w, e, &v, NULL)) != QC_OK) {
+                e[j] = t0;
+                return st;
+            }
+            if (v >= floor_nats)
+                good = c;
+            else
+                bad = c;
+        }
+        ends[side] = good;
+    }
+    double mid = qc_simplest_within(0.5 * (ends[0] + ends[1]),
+                                    ROUND_SHARE * (ends[1] - ends[0])),
+           v;
+    e[j] = mid;
+    qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
+    if (st != QC_OK || !(v >= floor_nats) || (j > 0 && !(mid > e[j - 1])) ||
+        (j + 1 < m && !(mid < e[j + 1])))
+        e[j] = t0;
+    return st;
+}
+
+qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t nt,
+                             double eps_nats, double *t)
+{
+    if (nt < 2 || nt > TIDY_MAX_THRESHOLDS || !(eps_nats > 0.0))
+        return QC_OK;
+    const int counts = model->type->output == QC_OUTPUT_COUNTS;
+    qc_cell_mi *w = NULL, *we = NULL;
+    unsigned char *keep = qc_malloc_array(nt + 1, sizeof *keep);
+    double *e = qc_malloc_array(nt, sizeof *e);
+    double *q = qc_malloc_array(nt + 1, sizeof *q);
+    qc_status st = QC_OK;
+    if (!keep || !e || !q) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    double i0;
+    if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w)) != QC_OK ||
+        (st = qc_cell_mi_eval(w, t, &i0, NULL)) != QC_OK)
+        goto done;
+    const double floor_nats = i0 - eps_nats;
+    size_t m = nt;
+    if ((st = find_redundant(w->channel, input, nt, 0.5 * eps_nats, keep, &m)) != QC_OK)
+        goto done;
+    if (m == nt && nt > TIDY_MAX_CENTERED)
+        goto done;
+    size_t k = 0;
+    for (size_t j = 0; j < nt; j++)
+        if (keep[j])
+            e[k++] = t[j];
+    double lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    if (m > 0) {
+        if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, m, &we)) != QC_OK)
+            goto done;
+        if (!counts && m <= TIDY_MAX_CENTERED)
+            for (size_t j = 0; j < m; j++)
+                if ((st = center_one(we, e, m, j, lo, hi, floor_nats)) != QC_OK)
+                    goto done;
+        /* step 3: cell masses of the essential quantizer, then greedy splits */
+        double ie;
+        if ((st = qc_cell_mi_eval(we, e, &ie, NULL)) != QC_OK)
+            goto done;
+        memcpy(q, we->q, (m + 1) * sizeof *q);
+    } else {
+        q[0] = 1.0; /* no threshold matters: one cell holds everything */
+    }
+    unsigned char *stuck = keep; /* reused: 1 = this cell cannot be split */
+    memset(stuck, 0, nt + 1);
+    while (m < nt) {
+        size_t best = m + 1;
+        for (size_t c = 0; c <= m; c++)
+            if (!stuck[c] && (best > m || q[c] > q[best]))
+                best = c;
+        if (best > m)
+            goto done; /* no cell can take another threshold: keep the design */
+        double a = best > 0 ? e[best - 1] : -INFINITY, b = best < m ? e[best] : INFINITY;
+        int ok;
+        double s = cell_median(model, levels, input, nlevels, a, b, q[best], lo, hi, &ok);
+        if (!ok) {
+            stuck[best] = 1;
+            continue;
+        }
+        double qa = mass_between(model, levels, input, nlevels, a, s);
+        memmove(e + best + 1, e + best, (m - best) * sizeof *e);
+        memmove(q + best + 1, q + best, (m + 1 - best) * sizeof *q);
+        memmove(stuck + best + 2, stuck + best + 1, (m - best) * sizeof *stuck);
+        e[best] = s;
+        q[best + 1] = q[best] - qa > 0.0 ? q[best] - qa : 0.0;
+        q[best] = qa;
+        stuck[best + 1] = 0;
+        m++;
+    }
+    /* step 4: the rate must not have dropped by more than ε */
+    double i1;
+    if ((st = qc_thresholds_check(model, e, nt)) != QC_OK) {
+        st = QC_OK; /* not strictly increasing after all: keep the design */
+        goto done;
+    }
+    if ((st = qc_cell_mi_eval(w, e, &i1, NULL)) != QC_OK)
+        goto done;
+    if (i1 >= floor_nats)
+        memcpy(t, e, nt * sizeof *t);
+done:
+    qc_cell_mi_free(w);
+    qc_cell_mi_free(we);
+    free(keep);
+    free(e);
+    free(q);
+    return st;
+}
+
+void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
+                        size_t nt, double *t)
+{
+    if (model->type->output == QC_OUTPUT_COUNTS)
+        return;
+    /* the output's scale: largest |mean| and standard deviation of the
+     * levels (the support when the model has no moments) */
+    double scale = 0.0;
+    for (size_t i = 0; i < nlevels; i++) {
+        double mean, var;
+        if (qc_model_moments(model, levels[i], &mean, &var) == QC_OK && isfinite(mean) &&
+            isfinite(var)) {
+            scale = fmax(scale, fmax(fabs(mean), sqrt(fmax(var, 0.0))));
+        } else {
+            double a, b;
+            model->type->support(model, levels[i], &a, &b);
+            scale = fmax(scale, fmax(fabs(a), fabs(b)));
+        }
+    }
+    const double d = SNAP_ULPS * DBL_EPSILON * scale;
+    for (size_t j = 0; j < nt; j++) {
+        double target = t[j];
+        if (fabs(t[j]) <= d)
+            target = 0.0;
+        for (size_t i = 0; i < nlevels; i++) {
+            double mean, var;
+            if (qc_model_moments(model, levels[i], &mean, &var) == QC_OK &&
+                fabs(t[j] - mean) <= d && fabs(t[j] - mean) < fabs(t[j] - target))
+                target = mean;
+        }
+        if ((j == 0 || target > t[j - 1]) && (j + 1 == nt || target < t[j + 1]))
+            t[j] = target;
+    }
+}
+
+size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
+                       size_t cells)
+{
+    if (model->type->output != QC_OUTPUT_COUNTS)
+        return cells;
+    double lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    if (!isfinite(lo) || !isfinite(hi) || !(hi >= lo))
+        return cells;
+    double span = hi - fmax(lo, 0.0) + 1.0; /* cells {≤ lo}, lo + 1, …, {≥ hi} */
+    if (span < 2.0)
+        span = 2.0; /* a quantizer has at least two cells */
+    return span < (double)cells ? (size_t)span : cells;
+}
