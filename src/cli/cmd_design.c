@@ -107,18 +107,32 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     else
         fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
                 r->channel->ny);
-    fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n", r->unquantized_bits,
-            counts ? "sum over every count (ideal photon-number resolution)"
-                   : "adaptive quadrature",
-            r->unquantized_err_bits);
+    if (r->rate_limited_by)
+        fprintf(f, "             set to its limit (%s): the sum came out above it by rounding\n",
+                qc_rate_limit_name(r->rate_limited_by));
+    if (r->noiseless_limit)
+        fprintf(f, "unquantized  %.9f bit/use   noiseless limit: the output is narrower than "
+                   "the resolution of doubles\n",
+                r->unquantized_bits);
+    else
+        fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n",
+                r->unquantized_bits,
+                counts ? "sum over every count (ideal photon-number resolution)"
+                       : "adaptive quadrature",
+                r->unquantized_err_bits);
+    if (r->unquantized_limited_by)
+        fprintf(f, "             set to its limit (%s): the computed value exceeded it within "
+                   "its error estimate\n",
+                qc_rate_limit_name(r->unquantized_limited_by));
     fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
+    const char *why = qc_penalty_note_text(r->snr_penalty_note);
     if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
         fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
                    "receiver\n",
                 r->snr_db, r->snr_penalty_db);
     else if (isfinite(r->snr_db))
-        fprintf(f, "SNR          %.3f dB operating; no SNR penalty is defined here\n",
-                r->snr_db);
+        fprintf(f, "SNR          %.3f dB operating; penalty undefined: %s\n", r->snr_db,
+                why ? why : "no SNR penalty is defined here");
     print_practical_rates(f, r);
 }
 
@@ -186,7 +200,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         }
         fputs("]\n", sink->f);
     } else {
-        int no_penalty = 0;
+        const char *no_penalty[QC_COMPARE_MAX] = {0};
         const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
         double tol = 0.0;
         fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate bit/use",
@@ -202,7 +216,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             if (isfinite(r->snr_penalty_db))
                 snprintf(penalty, sizeof penalty, "%.4f", r->snr_penalty_db);
             else
-                no_penalty = 1;
+                no_penalty[i] = qc_penalty_note_text(r->snr_penalty_note);
             fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12s", qc_quantizer_name(r->quantizer),
                     r->rate_bits, r->unquantized_bits, r->loss_bits, penalty);
             if (capacity) {
@@ -211,8 +225,11 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             }
             fputc('\n', sink->f);
         }
-        if (no_penalty)
-            fputs("\npenalty n/a: no SNR penalty is defined for this model\n", sink->f);
+        for (size_t i = 0; i < cmp.count; i++)
+            if (no_penalty[i])
+                fprintf(sink->f, "%spenalty n/a (%s): %s\n",
+                        i == 0 || !no_penalty[i - 1] ? "\n" : "",
+                        qc_quantizer_name(cmp.kind[i]), no_penalty[i]);
         const char *per_symbol = req->dimensions == 2 ? ", per complex symbol" : "";
         if (capacity)
             fprintf(sink->f,
