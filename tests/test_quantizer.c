@@ -336,14 +336,25 @@ static void test_unquantized_noiseless_limit(void **state)
     assert_true(noiseless == 0);
     assert_true(fabs(mi - qc_binary_entropy(0.25)) <= TOL_TIGHT);
     qc_model_free(m);
+    /* a repeated level shares its point mass: the distinguishable levels
+     * are −1 and 1, each with probability ½, so I(X;Y) = log 2 */
+    const double rep[3] = {-1.0, 1.0, 1.0}, rep_law[3] = {0.5, 0.25, 0.25};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    assert_int_equal(qc_unquantized_mi_detail(m, rep, rep_law, 3, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 1);
+    assert_true(fabs(mi - M_LN2) <= TOL_TIGHT);
+    qc_model_free(m);
 }
 
-/* Signal-dependent noise, σ²(x) = σ0² + a·x: level 0 is (numerically) a
- * point mass, levels 1 and 2 have wide, overlapping outputs. The point
- * mass is told apart from the rest by Y itself, so by the chain rule
+/* Signal-dependent noise, σ²(x) = σ0² + a·x with σ0 = 1e-300 (σ0² below
+ * the smallest double: the model used to round σ(0) to 0 and fail):
+ * level 0 is a spike of width 1e-300, levels 1 and 2 have wide,
+ * overlapping outputs. The spike is told apart from the rest by Y
+ * itself, so by the chain rule
  * I(X;Y) = h(p0) + (1 − p0)·I(X';Y | X ∈ {1, 2}), the latter the same
  * function's rate of levels 1 and 2 alone under the conditional law. */
-static void test_unquantized_point_mass_among_wide_levels(void **state)
+static void test_unquantized_spike_among_wide_levels(void **state)
 {
     (void)state;
     const double params[3] = {1e-300, 1.0, 0.0};
@@ -354,7 +365,7 @@ static void test_unquantized_point_mass_among_wide_levels(void **state)
     int noiseless = 0;
     assert_int_equal(qc_unquantized_mi_detail(m, levels, input, 3, &mi, &err, &noiseless),
                      QC_OK);
-    assert_true(noiseless == 1);
+    assert_true(noiseless == 0); /* σ(0) = 1e-300 is resolved */
     const double cond[2] = {0.3 / 0.7, 0.4 / 0.7};
     assert_int_equal(qc_unquantized_mi(m, levels + 1, cond, 2, &rest, &rest_err), QC_OK);
     assert_true(rest > 0.01);
@@ -501,7 +512,7 @@ int main(void)
         cmocka_unit_test(test_dp_bad_input),
         cmocka_unit_test(test_discretize_tail_80db),
         cmocka_unit_test(test_unquantized_noiseless_limit),
-        cmocka_unit_test(test_unquantized_point_mass_among_wide_levels),
+        cmocka_unit_test(test_unquantized_spike_among_wide_levels),
         cmocka_unit_test(test_unquantized_unsorted_supports),
         cmocka_unit_test(test_lloyd_max_gaussian),
         cmocka_unit_test(test_uniform_is_best_of_its_family),
