@@ -225,11 +225,21 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             }
             fputc('\n', sink->f);
         }
-        for (size_t i = 0; i < cmp.count; i++)
-            if (no_penalty[i])
-                fprintf(sink->f, "%spenalty n/a (%s): %s\n",
-                        i == 0 || !no_penalty[i - 1] ? "\n" : "",
-                        qc_quantizer_name(cmp.kind[i]), no_penalty[i]);
+        /* why each n/a: one line per reason, naming its strategies */
+        int first_note = 1;
+        for (size_t i = 0; i < cmp.count; i++) {
+            int seen = 0;
+            for (size_t k = 0; k < i && no_penalty[i]; k++)
+                seen |= no_penalty[k] == no_penalty[i];
+            if (!no_penalty[i] || seen)
+                continue;
+            fprintf(sink->f, "%spenalty n/a (", first_note ? "\n" : "");
+            first_note = 0;
+            for (size_t k = i, n = 0; k < cmp.count; k++)
+                if (no_penalty[k] == no_penalty[i])
+                    fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
+            fprintf(sink->f, "): %s\n", no_penalty[i]);
+        }
         const char *per_symbol = req->dimensions == 2 ? ", per complex symbol" : "";
         if (capacity)
             fprintf(sink->f,
