@@ -133,6 +133,8 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     else if (isfinite(r->snr_db))
         fprintf(f, "SNR          %.3f dB operating; penalty undefined: %s\n", r->snr_db,
                 why ? why : "no SNR penalty is defined here");
+    else if (why)
+        fprintf(f, "SNR penalty  undefined: %s\n", why);
     print_practical_rates(f, r);
 }
 
