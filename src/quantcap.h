@@ -375,6 +375,15 @@ qc_status qc_discretize(const qc_model *model, const double *levels,
 qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels,
                             double *mi_nats, double *abserr_nats);
+/* The same, and *noiseless (may be NULL) = 1 when some level's output is
+ * narrower than the resolution of doubles and was taken in the noiseless
+ * limit: a point mass, distinguishable from every other level. Levels
+ * whose output support meets no other level's contribute −log p exactly
+ * (no quadrature). */
+qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels,
+                                   double *mi_nats, double *abserr_nats,
+                                   int *noiseless);
 
 
 /* ------------------------------------------------------------------ */
@@ -531,6 +540,44 @@ typedef enum {
 
 #define QC_MAX_BITS 16
 
+/* What a reported rate was set to when it came out beyond what is
+ * possible by no more than its stated error (docs/methods.md, "Limits
+ * on the reported rates"). */
+typedef enum {
+    QC_LIMIT_NONE = 0,
+    QC_LIMIT_LEVELS,         /* log2 of the number of levels            */
+    QC_LIMIT_INPUT_ENTROPY,  /* entropy of the input law                */
+    QC_LIMIT_CELLS,          /* log2 of the number of quantizer cells   */
+    QC_LIMIT_QUANTIZED_RATE, /* the unquantized rate, raised to the
+                                quantized one (data processing)         */
+    QC_LIMIT_COUNT
+} qc_rate_limit;
+/* "log2 levels", "input entropy", "log2 cells", "quantized rate"; NULL
+ * for QC_LIMIT_NONE and values out of range. */
+const char *qc_rate_limit_name(qc_rate_limit limit);
+
+/* Why the SNR penalty is undefined (NaN). */
+typedef enum {
+    QC_PENALTY_DEFINED = 0,
+    QC_PENALTY_SATURATED,    /* the rate is within tolerance of its ceiling
+                                (log2 levels, input entropy): the
+                                unquantized rate curve is flat there     */
+    QC_PENALTY_NO_LOSS,      /* the rate is within tolerance of the
+                                unquantized rate                         */
+    QC_PENALTY_NO_SNR,       /* the model defines no SNR                 */
+    QC_PENALTY_NOISELESS,    /* the unquantized rate is the noiseless limit */
+    QC_PENALTY_SNR_INFINITE, /* operating SNR beyond the range of doubles */
+    QC_PENALTY_ZERO_RATE,    /* the rate is 0                            */
+    QC_PENALTY_GMI,          /* the penalty is an MI notion              */
+    QC_PENALTY_NO_CROSSING,  /* the unquantized rate does not fall to the
+                                rate within the searched SNR range       */
+    QC_PENALTY_SKIPPED,      /* the request asked not to compute it      */
+    QC_PENALTY_COUNT
+} qc_penalty_note;
+/* A phrase saying why (e.g. "rate saturated at its ceiling"); NULL for
+ * QC_PENALTY_DEFINED and values out of range. */
+const char *qc_penalty_note_text(qc_penalty_note note);
+
 /* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
  * "lloyd-max", "optimal". NULL for values out of range. */
 const char *qc_objective_name(qc_objective objective);
@@ -616,7 +663,17 @@ typedef struct {
                                     quantized channel's optimal law), no
                                     quantizer                              */
     double unquantized_err_bits; /* quadrature error estimate of the above   */
-    double loss_bits;            /* unquantized − rate                       */
+    double loss_bits;            /* unquantized − rate, ≥ 0                  */
+    qc_rate_limit rate_limited_by;        /* NONE, or the ceiling (levels,
+                                    input entropy, cells) the rate exceeded
+                                    within its error and was set to        */
+    qc_rate_limit unquantized_limited_by; /* NONE, or the ceiling (levels,
+                                    input entropy) or the quantized rate
+                                    the unquantized rate was set to        */
+    int noiseless_limit;         /* 1: the unquantized rate is the noiseless
+                                    limit (some level's output narrower
+                                    than the resolution of doubles)        */
+    qc_penalty_note snr_penalty_note; /* why snr_penalty_db is NaN       */
     double tol_bits;             /* tolerance the rate is certified to       */
     size_t iterations;           /* engine iterations (capacity objective)   */
     size_t design_iterations;    /* uniform: objective evaluations; Lloyd–
@@ -629,7 +686,7 @@ typedef struct {
     double snr_penalty_db;       /* snr_db minus the SNR at which the
                                     unquantized receiver (same levels and
                                     law) reaches rate_bits; NaN: undefined
-                                    or skipped                              */
+                                    (snr_penalty_note says why)            */
     double mse;                  /* Lloyd–Max: mean-square error of Y about
                                     its reconstruction points; NaN else    */
     double *reconstruction;      /* owned: Lloyd–Max reconstruction points

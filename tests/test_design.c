@@ -463,6 +463,115 @@ static void test_result_contents(void **state)
     qc_model_free(m);
 }
 
+/* ---- limits on the reported rates ------------------------------------ */
+
+/* Nearly noiseless binary input: the quadrature of the unquantized rate
+ * used to give 1.000000051 bit, above log2 2 (H(X) ≤ log2 M: Cover &
+ * Thomas, Elements of Information Theory, 2nd ed., 2006, Thm 2.6.4). */
+static void test_rates_never_above_log2_levels(void **state)
+{
+    (void)state;
+    const double levels[2] = {-1.0, 1.0};
+    const double sigmas[] = {1e-10, 1e-6, 1e-3};
+    for (size_t k = 0; k < sizeof sigmas / sizeof *sigmas; k++) {
+        qc_model *m = gauss(sigmas[k]);
+        qc_design_request r;
+        request(&r, m, levels, 2, 2, QC_QUANTIZER_OPTIMAL);
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        assert_true(res.unquantized_bits <= 1.0);
+        assert_true(res.rate_bits <= res.unquantized_bits);
+        assert_true(res.loss_bits >= 0.0);
+        assert_true(fabs(res.unquantized_bits - 1.0) <= TOL_TIGHT);
+        qc_design_result_clear(&res);
+        qc_model_free(m);
+    }
+}
+
+/* 2-PAM at 17 dB, 6 bits: the quantized rate (an exact finite sum) came
+ * out above the unquantized one (quadrature) by less than the latter's
+ * error estimate, a negative loss. By data processing (ibid., Thm 2.8.1)
+ * the quantized rate bounds the unquantized one from below: that bound is
+ * reported and flagged, and the loss is 0. */
+static void test_loss_never_negative(void **state)
+{
+    (void)state;
+    const double levels[2] = {-1.0, 1.0};
+    qc_model *m = gauss(1.0 / sqrt(pow(10.0, 1.7)));
+    qc_design_request r;
+    request(&r, m, levels, 2, 64, QC_QUANTIZER_OPTIMAL);
+    qc_design_result res;
+    assert_int_equal(qc_design(&r, &res), QC_OK);
+    assert_true(res.loss_bits >= 0.0);
+    assert_true(res.rate_bits <= res.unquantized_bits);
+    assert_int_equal(res.unquantized_limited_by, QC_LIMIT_QUANTIZED_RATE);
+    assert_true(res.unquantized_bits == res.rate_bits && res.loss_bits == 0.0);
+    /* a loss within tolerance: no SNR penalty, with the reason */
+    assert_true(isnan(res.snr_penalty_db));
+    assert_int_not_equal(res.snr_penalty_note, QC_PENALTY_DEFINED);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+/* 8-PAM at 30 dB, 3-bit uniform quantizer: the rate is within 1e-9 bit of
+ * log2 8, where the unquantized rate curve is flat; the penalty used to be
+ * printed as 0.4133 dB. It is undefined, saying why. */
+static void test_penalty_undefined_when_saturated(void **state)
+{
+    (void)state;
+    const double levels[8] = {-7, -5, -3, -1, 1, 3, 5, 7};
+    qc_model *m = gauss(sqrt(21.0 / 1000.0)); /* E[x²] = 21 */
+    qc_design_request r;
+    request(&r, m, levels, 8, 8, QC_QUANTIZER_UNIFORM);
+    qc_design_result res;
+    assert_int_equal(qc_design(&r, &res), QC_OK);
+    assert_true(fabs(res.snr_db - 30.0) <= 1e-9);
+    assert_true(3.0 - res.rate_bits <= r.tol_bits);
+    assert_true(isnan(res.snr_penalty_db));
+    assert_int_equal(res.snr_penalty_note, QC_PENALTY_SATURATED);
+    assert_non_null(strstr(qc_penalty_note_text(res.snr_penalty_note), "saturated"));
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+/* σ = 1e-300: every output is narrower than the resolution of doubles.
+ * The design used to fail; it reports the noiseless limit, log2 4 bit
+ * with 4 cells, a finite SNR (E[x²]/σ² = 5e600: 6006.99 dB) and no
+ * penalty, saying why. */
+static void test_noiseless_limit(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    qc_model *m = gauss(1e-300);
+    qc_design_request r;
+    request(&r, m, levels, 4, 4, QC_QUANTIZER_OPTIMAL);
+    qc_design_result res;
+    assert_int_equal(qc_design(&r, &res), QC_OK);
+    assert_true(res.noiseless_limit == 1);
+    assert_true(res.unquantized_bits == 2.0);
+    assert_true(fabs(res.rate_bits - 2.0) <= TOL_TIGHT && res.loss_bits >= 0.0);
+    assert_true(fabs(res.snr_db - (6000.0 + 10.0 * log10(5.0))) <= 1e-9);
+    assert_true(isnan(res.snr_penalty_db));
+    assert_int_equal(res.snr_penalty_note, QC_PENALTY_NOISELESS);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+static void test_limit_names(void **state)
+{
+    (void)state;
+    assert_null(qc_rate_limit_name(QC_LIMIT_NONE));
+    assert_string_equal(qc_rate_limit_name(QC_LIMIT_LEVELS), "log2 levels");
+    assert_string_equal(qc_rate_limit_name(QC_LIMIT_INPUT_ENTROPY), "input entropy");
+    assert_string_equal(qc_rate_limit_name(QC_LIMIT_CELLS), "log2 cells");
+    assert_string_equal(qc_rate_limit_name(QC_LIMIT_QUANTIZED_RATE), "quantized rate");
+    assert_null(qc_rate_limit_name(QC_LIMIT_COUNT));
+    assert_null(qc_penalty_note_text(QC_PENALTY_DEFINED));
+    for (int k = 1; k < QC_PENALTY_COUNT; k++)
+        assert_non_null(qc_penalty_note_text((qc_penalty_note)k));
+    assert_null(qc_penalty_note_text(QC_PENALTY_COUNT));
+}
+
 static void test_model_without_snr(void **state)
 {
     (void)state;
@@ -673,6 +782,11 @@ int main(void)
         cmocka_unit_test(test_uniform_output_units),
         cmocka_unit_test(test_compare_with_fixed),
         cmocka_unit_test(test_names),
+        cmocka_unit_test(test_rates_never_above_log2_levels),
+        cmocka_unit_test(test_loss_never_negative),
+        cmocka_unit_test(test_penalty_undefined_when_saturated),
+        cmocka_unit_test(test_noiseless_limit),
+        cmocka_unit_test(test_limit_names),
         cmocka_unit_test(test_bad_input),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

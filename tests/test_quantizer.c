@@ -312,18 +312,65 @@ static void test_discretize_tail_80db(void **state)
 }
 
 /* σ so small that x ± 8.3σ rounds to x: the unquantized rate used to
- * integrate over an empty interval and report 0 nats (below the quantized
- * rate of 1 bit); it is a numerical failure naming the level instead. */
-static void test_unquantized_noise_below_resolution(void **state)
+ * fail ("narrower than the resolution of doubles"); it is the noiseless
+ * limit instead, flagged. Each output is a point mass, so I(X;Y) = H(X). */
+static void test_unquantized_noiseless_limit(void **state)
 {
     (void)state;
     const double sigma = 1e-20, levels[2] = {-1.0, 1.0}, input[2] = {0.5, 0.5};
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
-    double mi = -1.0;
-    assert_int_equal(qc_unquantized_mi(m, levels, input, 2, &mi, NULL), QC_ENUMERIC);
-    assert_non_null(strstr(qc_last_error(), "at level -1 is narrower than the resolution"));
-    assert_true(mi == -1.0); /* untouched on failure */
+    double mi = -1.0, err = -1.0;
+    int noiseless = 0;
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, input, 2, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 1);
+    assert_true(fabs(mi - M_LN2) <= TOL_TIGHT && err >= 0.0);
+    qc_model_free(m);
+    /* well-separated levels with ordinary noise: exact −log p per level,
+     * no flag */
+    const double sigma2 = 0.01, law[2] = {0.25, 0.75};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma2, &m), QC_OK);
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, law, 2, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 0);
+    assert_true(fabs(mi - qc_binary_entropy(0.25)) <= TOL_TIGHT);
+    qc_model_free(m);
+    /* a repeated level shares its point mass: the distinguishable levels
+     * are −1 and 1, each with probability ½, so I(X;Y) = log 2 */
+    const double rep[3] = {-1.0, 1.0, 1.0}, rep_law[3] = {0.5, 0.25, 0.25};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    assert_int_equal(qc_unquantized_mi_detail(m, rep, rep_law, 3, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 1);
+    assert_true(fabs(mi - M_LN2) <= TOL_TIGHT);
+    qc_model_free(m);
+}
+
+/* Signal-dependent noise, σ²(x) = σ0² + a·x with σ0 = 1e-300 (σ0² below
+ * the smallest double: the model used to round σ(0) to 0 and fail):
+ * level 0 is a spike of width 1e-300, levels 1 and 2 have wide,
+ * overlapping outputs. The spike is told apart from the rest by Y
+ * itself, so by the chain rule
+ * I(X;Y) = h(p0) + (1 − p0)·I(X';Y | X ∈ {1, 2}), the latter the same
+ * function's rate of levels 1 and 2 alone under the conditional law. */
+static void test_unquantized_spike_among_wide_levels(void **state)
+{
+    (void)state;
+    const double params[3] = {1e-300, 1.0, 0.0};
+    const double levels[3] = {0.0, 1.0, 2.0}, input[3] = {0.3, 0.3, 0.4};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, params, &m), QC_OK);
+    double mi, err, rest, rest_err;
+    int noiseless = 0;
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, input, 3, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 0); /* σ(0) = 1e-300 is resolved */
+    const double cond[2] = {0.3 / 0.7, 0.4 / 0.7};
+    assert_int_equal(qc_unquantized_mi(m, levels + 1, cond, 2, &rest, &rest_err), QC_OK);
+    assert_true(rest > 0.01);
+    double want = qc_binary_entropy(0.3) + 0.7 * rest;
+    assert_true(fabs(mi - want) <= err + 0.7 * rest_err + TOL_TIGHT);
     qc_model_free(m);
 }
 
@@ -464,7 +511,8 @@ int main(void)
         cmocka_unit_test(test_dp_fast_equals_plain),
         cmocka_unit_test(test_dp_bad_input),
         cmocka_unit_test(test_discretize_tail_80db),
-        cmocka_unit_test(test_unquantized_noise_below_resolution),
+        cmocka_unit_test(test_unquantized_noiseless_limit),
+        cmocka_unit_test(test_unquantized_spike_among_wide_levels),
         cmocka_unit_test(test_unquantized_unsorted_supports),
         cmocka_unit_test(test_lloyd_max_gaussian),
         cmocka_unit_test(test_uniform_is_best_of_its_family),

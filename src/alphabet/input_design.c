@@ -328,10 +328,15 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
     if (st != QC_OK)
         return st;
     r->dimensions = c->dims;
-    r->mi_bits = d * mi * QC_LOG2E;
-    r->gmi_bits = d * g * QC_LOG2E;
+    r->mi_bits = mi * QC_LOG2E;
+    r->gmi_bits = g * QC_LOG2E;
     r->label_bits = nbits;
     r->dispersion_bits2 = d * v * QC_LOG2E * QC_LOG2E;
+    /* rates held to their limits, loss and SNR penalty: per dimension */
+    if ((st = qc_design_settle(req, r)) != QC_OK)
+        return st;
+    r->mi_bits *= d;
+    r->gmi_bits *= d;
     double e1 = 0.0, e2 = 0.0;
     for (size_t i = 0; i < r->nlevels; i++) {
         e1 += r->input[i] * r->levels[i];

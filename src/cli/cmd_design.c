@@ -108,18 +108,34 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     else
         fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
                 r->channel->ny);
-    fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n", r->unquantized_bits,
-            counts ? "sum over every count (ideal photon-number resolution)"
-                   : "adaptive quadrature",
-            r->unquantized_err_bits);
+    if (r->rate_limited_by)
+        fprintf(f, "             set to its limit (%s): the sum came out above it by rounding\n",
+                qc_rate_limit_name(r->rate_limited_by));
+    if (r->noiseless_limit)
+        fprintf(f, "unquantized  %.9f bit/use   noiseless limit: the output is narrower than "
+                   "the resolution of doubles\n",
+                r->unquantized_bits);
+    else
+        fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n",
+                r->unquantized_bits,
+                counts ? "sum over every count (ideal photon-number resolution)"
+                       : "adaptive quadrature",
+                r->unquantized_err_bits);
+    if (r->unquantized_limited_by)
+        fprintf(f, "             set to its limit (%s): the computed value exceeded it within "
+                   "its error estimate\n",
+                qc_rate_limit_name(r->unquantized_limited_by));
     fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
+    const char *why = qc_penalty_note_text(r->snr_penalty_note);
     if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
         fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
                    "receiver\n",
                 r->snr_db, r->snr_penalty_db);
     else if (isfinite(r->snr_db))
-        fprintf(f, "SNR          %.3f dB operating; no SNR penalty is defined here\n",
-                r->snr_db);
+        fprintf(f, "SNR          %.3f dB operating; penalty undefined: %s\n", r->snr_db,
+                why ? why : "no SNR penalty is defined here");
+    else if (why)
+        fprintf(f, "SNR penalty  undefined: %s\n", why);
     print_practical_rates(f, r);
 }
 
@@ -228,7 +244,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         }
         fputs("]\n", sink->f);
     } else {
-        int no_penalty = 0;
+        const char *no_penalty[QC_COMPARE_MAX] = {0};
         const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
         double tol = 0.0;
         fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate bit/use",
@@ -244,7 +260,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             if (isfinite(r->snr_penalty_db))
                 snprintf(penalty, sizeof penalty, "%.4f", r->snr_penalty_db);
             else
-                no_penalty = 1;
+                no_penalty[i] = qc_penalty_note_text(r->snr_penalty_note);
             fprintf(sink->f, "%-10s %14.9f %14.9f %12.3e %12s", qc_quantizer_name(r->quantizer),
                     r->rate_bits, r->unquantized_bits, r->loss_bits, penalty);
             if (capacity) {
@@ -253,8 +269,21 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             }
             fputc('\n', sink->f);
         }
-        if (no_penalty)
-            fputs("\npenalty n/a: no SNR penalty is defined for this model\n", sink->f);
+        /* why each n/a: one line per reason, naming its strategies */
+        int first_note = 1;
+        for (size_t i = 0; i < cmp.count; i++) {
+            int seen = 0;
+            for (size_t k = 0; k < i && no_penalty[i]; k++)
+                seen |= no_penalty[k] == no_penalty[i];
+            if (!no_penalty[i] || seen)
+                continue;
+            fprintf(sink->f, "%spenalty n/a (", first_note ? "\n" : "");
+            first_note = 0;
+            for (size_t k = i, n = 0; k < cmp.count; k++)
+                if (no_penalty[k] == no_penalty[i])
+                    fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
+            fprintf(sink->f, "): %s\n", no_penalty[i]);
+        }
         const char *per_symbol = req->dimensions == 2 ? ", per complex symbol" : "";
         if (capacity)
             fprintf(sink->f,

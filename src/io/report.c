@@ -29,6 +29,11 @@ static unsigned bits_of(size_t cells)
     return ((size_t)1 << b) == cells ? b : 0;
 }
 
+static json_t *name_or_null(const char *name)
+{
+    return name ? json_string(name) : json_null();
+}
+
 /* ---- alphabet and input design ------------------------------------ */
 
 #define MASS_POINT_MIN 1e-6 /* probability of a level reported as a mass point */
@@ -134,12 +139,20 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "unquantized_bits", qc_report_real(res->unquantized_bits));
     json_object_set_new(o, "unquantized_error_bits", qc_report_real(res->unquantized_err_bits));
     json_object_set_new(o, "loss_bits", qc_report_real(res->loss_bits));
+    json_object_set_new(o, "rate_limited_by", name_or_null(qc_rate_limit_name(res->rate_limited_by)));
+    json_object_set_new(o, "unquantized_limited_by",
+                        name_or_null(qc_rate_limit_name(res->unquantized_limited_by)));
+    json_object_set_new(o, "noiseless_limit", json_boolean(res->noiseless_limit));
     json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
     json_object_set_new(o, "design_iterations",
                         json_integer((json_int_t)res->design_iterations));
     json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
     json_object_set_new(o, "snr_db", qc_report_real(res->snr_db));
     json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
+    json_object_set_new(o, "snr_penalty_note",
+                        isfinite(res->snr_penalty_db)
+                            ? json_null()
+                            : name_or_null(qc_penalty_note_text(res->snr_penalty_note)));
     json_object_set_new(o, "mse", qc_report_real(res->mse));
     json_object_set_new(o, "thresholds", qc_report_array(res->thresholds, res->nthresholds));
     json_object_set_new(o, "levels", qc_report_array(res->levels, res->nlevels));

@@ -21,11 +21,19 @@ static const qc_param_spec gauss_sd_params[] = {
     {"b", "", "variance per unit level squared (e.g. RIN)", 0.0, 0.0, INFINITY, 0},
 };
 
-/* Standard deviation at level x ≥ 0. */
+/* Standard deviation at level x ≥ 0: the root of the sum of squares of
+ * σ0, √(a·x) and √b·x, scaled by the largest of them so that a nearly
+ * noiseless model (σ0² below the smallest double) keeps its σ instead of
+ * rounding it to 0. */
 static double sd_at(const qc_model *m, double x)
 {
     const double *p = m->params;
-    return sqrt(p[P_SIGMA0] * p[P_SIGMA0] + p[P_A] * x + p[P_B] * x * x);
+    const double s[3] = {p[P_SIGMA0], sqrt(p[P_A]) * sqrt(x), sqrt(p[P_B]) * x};
+    const double u = fmax(s[0], fmax(s[1], s[2]));
+    if (!(u > 0.0) || !isfinite(u))
+        return u;
+    const double r0 = s[0] / u, r1 = s[1] / u, r2 = s[2] / u;
+    return u * sqrt(r0 * r0 + r1 * r1 + r2 * r2);
 }
 
 static double gauss_sd_below(const qc_model *m, double x, double t)

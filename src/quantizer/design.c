@@ -3,7 +3,8 @@
  * range, fixed thresholds, Lloyd–Max, MI-optimal DP + refinement; for the
  * capacity objective the joint design of joint.c), and fills the result
  * with the rate, its certified upper bound, the unquantized reference for
- * the same levels and law, the loss and the SNR penalty. Also the names
+ * the same levels and law and the loss (the limits on the rates and the
+ * SNR penalty follow in rate_limits.c). Also the names
  * of objectives and quantizers, and qc_design_compare. */
 #include "quantizer/quantizer.h"
 #include "alphabet/alphabet.h"
@@ -307,19 +308,16 @@ qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *r
 
     /* The unquantized reference for the same levels and final law. */
     double unq, unq_err;
-    st = qc_unquantized_mi(req->model, r.levels, r.input, n, &unq, &unq_err);
+    st = qc_unquantized_mi_detail(req->model, r.levels, r.input, n, &unq, &unq_err,
+                                  &r.noiseless_limit);
     if (st != QC_OK)
         goto fail;
     r.unquantized_bits = unq * QC_LOG2E;
     r.unquantized_err_bits = unq_err * QC_LOG2E;
     r.loss_bits = r.unquantized_bits - r.rate_bits;
     r.snr_db = qc_model_snr_db(req->model, r.levels, r.input, n);
-    if (!req->skip_snr_penalty) {
-        st = qc_snr_penalty_db(req->model, r.levels, r.input, n, r.rate_bits,
-                               &r.snr_penalty_db);
-        if (st != QC_OK)
-            goto fail;
-    }
+    /* the SNR penalty: qc_design_settle, once the rates are final */
+    r.snr_penalty_note = QC_PENALTY_SKIPPED;
     *res = r;
     return QC_OK;
 fail:

@@ -1,7 +1,12 @@
 /* discretize.c — from a noise model, input levels and thresholds to the
  * transition matrix of the quantized channel, and the mutual information
  * of the unquantized channel (adaptive Gauss–Kronrod quadrature, GSL
- * QAGS) that every quantized rate is compared with. */
+ * QAGS) that every quantized rate is compared with. A level whose output
+ * support meets no other level's is perfectly distinguishable: its term
+ * of I(X;Y) = Σ p_i D(f_i ‖ Σ p_j f_j) is −log p_i, summed exactly; a
+ * level whose output is narrower than the resolution of doubles is taken
+ * in the noiseless limit (a point mass, distinguishable from every other
+ * level), which is flagged. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -155,6 +160,13 @@ static size_t first_at_or_above(const double *sorted, size_t n, double v)
     return a;
 }
 
+/* Whether level i's continuous output is narrower than the resolution of
+ * doubles (its support rounds to a point); counts are never such. */
+static int point_mass(const mi_ctx *c, size_t i)
+{
+    return c->m->type->output == QC_OUTPUT_REAL && !(c->hi[i] > c->lo[i]);
+}
+
 /* f(y|x) log(f(y|x) / Σ r f(y|x')). Levels whose support (all but ~1e-15
  * of their mass) does not hold y are left out of the mixture: their
  * density there is negligible. A support holding y starts in
@@ -170,7 +182,7 @@ static double mi_term(const mi_ctx *c, double y)
     for (size_t k = first_at_or_above(c->lo_sorted, c->n, y - c->width);
          k < c->n && c->lo_sorted[k] <= y; k++) {
         size_t i = c->order[k];
-        if (c->input[i] > 0.0 && y <= c->hi[i])
+        if (c->input[i] > 0.0 && y <= c->hi[i] && !point_mass(c, i))
             mix += c->input[i] * c->m->type->density(c->m, c->levels[i], y);
     }
     if (!(mix > 0.0))
@@ -178,17 +190,56 @@ static double mi_term(const mi_ctx *c, double y)
     return f * log(f / mix);
 }
 
+/* Probability of the point mass at level i's output: the levels whose
+ * output rounds to that same point (repeated levels share it). */
+static double point_share(const mi_ctx *c, size_t i)
+{
+    double m = 0.0;
+    for (size_t k = first_at_or_above(c->lo_sorted, c->n, c->lo[i]);
+         k < c->n && c->lo_sorted[k] <= c->lo[i]; k++) {
+        size_t j = c->order[k];
+        if (point_mass(c, j) && c->hi[j] == c->hi[i] && c->input[j] > 0.0)
+            m += c->input[j];
+    }
+    return m;
+}
+
+/* Whether level i's support meets the support of another level of
+ * positive probability. */
+static int overlaps_other(const mi_ctx *c, size_t i)
+{
+    const double lo = c->lo[i], hi = c->hi[i];
+    for (size_t k = first_at_or_above(c->lo_sorted, c->n, lo - c->width);
+         k < c->n && c->lo_sorted[k] <= hi; k++) {
+        size_t j = c->order[k];
+        if (j != i && c->input[j] > 0.0 && c->hi[j] >= lo)
+            return 1;
+    }
+    return 0;
+}
+
 static double mi_integrand(double y, void *p) { return mi_term(p, y); }
 
 #define UNQ_EPSABS 1e-13
 #define UNQ_EPSREL 1e-11
 #define UNQ_LIMIT 2000
+#define SUPPORT_TAIL 1e-15 /* mass a support may leave out, error of −log p_i */
 
 qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels, double *mi_nats,
                             double *abserr_nats)
 {
+    return qc_unquantized_mi_detail(model, levels, input, nlevels, mi_nats, abserr_nats,
+                                    NULL);
+}
+
+qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels, double *mi_nats,
+                                   double *abserr_nats, int *noiseless)
+{
     qc_gsl_init();
+    if (noiseless)
+        *noiseless = 0;
     qc_status st = qc_model_check_levels(model, levels, nlevels);
     if (st != QC_OK)
         return st;
@@ -229,7 +280,18 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
             continue;
         c.x = levels[i];
         double lo = sup[i], hi = sup[nlevels + i], val = 0.0, e = 0.0;
-        if (model->type->output == QC_OUTPUT_COUNTS) {
+        if (point_mass(&c, i)) {
+            /* x ± the spread rounds to x: the noiseless limit, a point
+             * mass that only repeats of the level share (a continuous
+             * output puts no mass on it), so D(f_i ‖ mixture) = −log of
+             * the point's probability. */
+            val = -log(point_share(&c, i));
+            if (noiseless)
+                *noiseless = 1;
+        } else if (!overlaps_other(&c, i)) {
+            val = -log(input[i]); /* perfectly distinguishable */
+            e = SUPPORT_TAIL / input[i];
+        } else if (model->type->output == QC_OUTPUT_COUNTS) {
             double a = fmax(0.0, floor(lo)), b = ceil(hi);
             if (b - a > 1e8) {
                 st = qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);
@@ -238,15 +300,6 @@ qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
             for (double y = a; y <= b; y += 1.0)
                 val += mi_term(&c, y);
             e = 1e-15 * (b - a + 1.0);
-        } else if (!(hi > lo)) {
-            /* x ± the spread rounds to x: nothing left to integrate (it
-             * would silently give 0 nats for this level). */
-            st = qc_fail(QC_ENUMERIC,
-                         "unquantized rate: the output law at level %g is narrower "
-                         "than the resolution of doubles there (support [%.17g, "
-                         "%.17g]); the noise is too small to integrate",
-                         levels[i], lo, hi);
-            break;
         } else {
             gsl_function fn = {mi_integrand, &c};
             int rc = gsl_integration_qags(&fn, lo, hi, UNQ_EPSABS, UNQ_EPSREL,

@@ -201,6 +201,16 @@ size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nleve
 qc_status qc_design_thresholds(const qc_design_request *req,
                                qc_design_result *res);
 
+/* ---- rate_limits.c ------------------------------------------------------ */
+
+/* The last step of a design (called once on the final result, per real
+ * dimension): hold the rates to log2 levels, the input entropy, log2
+ * cells and the data-processing order within their stated errors
+ * (flagging what was set to a limit; QC_ENUMERIC beyond the error),
+ * recompute the loss, and compute the SNR penalty where it is defined
+ * (else NaN with the reason in snr_penalty_note). */
+qc_status qc_design_settle(const qc_design_request *req, qc_design_result *res);
+
 /* ---- joint.c ---------------------------------------------------------- */
 
 /* The capacity objective: thresholds (res->thresholds, res->nthresholds

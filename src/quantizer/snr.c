@@ -16,6 +16,8 @@
 #define PENALTY_TOL_DB 1e-7    /* root bracket width at stop */
 #define PENALTY_MAX_ITER 100
 #define PENALTY_FLOOR_DB -400.0 /* give up below this gain */
+#define SNR_RESCALE_DB 3000.0   /* step down an SNR that overflows doubles */
+#define SNR_RESCALE_STEPS 4
 
 double qc_model_snr_db(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels)
@@ -23,6 +25,26 @@ double qc_model_snr_db(const qc_model *model, const double *levels,
     if (!model || !model->type->snr || !levels || !input)
         return NAN;
     double s = model->type->snr(model, levels, input, nlevels);
+    if (s == INFINITY && model->type->scale_snr) {
+        /* nearly noiseless (σ² underflows): the SNR of the model scaled
+         * down by a known number of dB, plus those dB */
+        double offset = 0.0;
+        qc_model *m = NULL;
+        for (int k = 0; k < SNR_RESCALE_STEPS && s == INFINITY; k++) {
+            qc_model *next = NULL;
+            if (qc_model_scale_snr(m ? m : model, pow(10.0, -SNR_RESCALE_DB / 10.0),
+                                   &next) != QC_OK)
+                break;
+            qc_model_free(m);
+            m = next;
+            offset += SNR_RESCALE_DB;
+            s = m->type->snr(m, levels, input, nlevels);
+        }
+        qc_model_free(m);
+        if (!(s > 0.0) || !isfinite(s))
+            return NAN;
+        return 10.0 * log10(s) + offset;
+    }
     if (!(s > 0.0) || !isfinite(s))
         return NAN;
     return 10.0 * log10(s);

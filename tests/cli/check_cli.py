@@ -292,6 +292,29 @@ expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-
               "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10",
               "--sigma0", "1", "--bits", "2"], 2, "not both", "front end and model parameters")
 
+# Saturated rate (8-PAM at 30 dB, 3-bit uniform quantizer): no SNR
+# penalty, with the reason, in the text and in JSON (null beside a note).
+sat = ["design", "--model", "gauss", "--snr-db", "30", "--alphabet", "pam:8", "--bits", "3",
+       "--quantizer", "uniform"]
+rc, out, err = run(*sat)
+check(rc == 0, f"saturated design: exit {rc} ({err.strip()})")
+check("penalty undefined: rate saturated" in out and "0.4133" not in out,
+      "saturated design: text says why the penalty is undefined")
+rc, out, err = run(*sat, "--json")
+j = parse(out, "saturated design --json")
+check(j["snr_penalty_db"] is None and "saturated" in (j["snr_penalty_note"] or ""),
+      f"saturated design: JSON penalty null with its note ({j['snr_penalty_note']})")
+check(j["loss_bits"] >= 0.0 and j["rate_bits"] <= 3.0, "saturated design: rate <= log2 8, loss >= 0")
+# Nearly noiseless receiver: the noiseless limit, said so.
+rc, out, err = run("design", "--model", "gauss", "--sigma", "1e-300", "--alphabet", "pam:4",
+                   "--bits", "2")
+check(rc == 0 and "noiseless limit" in out, f"noiseless design: exit {rc}, says so ({err.strip()})")
+rc, out, err = run("design", "--model", "gauss", "--sigma", "1e-300", "--alphabet", "pam:4",
+                   "--bits", "2", "--json")
+j = parse(out, "noiseless design --json")
+check(j["noiseless_limit"] is True and j["unquantized_bits"] == 2.0 and j["rate_bits"] == 2.0,
+      "noiseless design: JSON flags the limit, 2 bit")
+
 for cmd in ("capacity", "channel", "design", "models"):
     rc, out, _ = run(cmd, "--help")
     check(rc == 0 and "usage: quantcap " + cmd in out, f"{cmd} --help")

@@ -95,6 +95,13 @@ check(header[:6] == ["point", "alphabet", "snr-db", "bits", "status", "error"],
 for key in ("rate_bits", "unquantized_bits", "loss_bits", "thresholds", "parameters.sigma"):
     check(key in header, f"CSV has column {key}")
 check(len(rows) == npoints, f"CSV has one row per point ({len(rows)})")
+for key in ("rate_limited_by", "unquantized_limited_by", "noiseless_limit", "snr_penalty_db",
+            "snr_penalty_note"):
+    check(key in header, f"CSV has column {key}")
+check(all((r["snr_penalty_db"] == "") == (r["snr_penalty_note"] != "") for r in rows
+          if r["status"] == "ok"),
+      "CSV: an SNR penalty cell is empty exactly where its note says why")
+check(all(float(r["loss_bits"]) >= 0.0 for r in rows if r["status"] == "ok"), "CSV: no negative loss")
 check([int(r["point"]) for r in rows] == list(range(npoints)), "CSV rows in grid order")
 
 doc = json.load(open(os.path.join(out1, "results.json")))
