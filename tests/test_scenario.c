@@ -208,6 +208,10 @@ static void test_ranges(void **state)
     assert_string_equal(qc_scenario_axis_value(sc, 0, 1), "0");
     assert_string_equal(qc_scenario_axis_value(sc, 0, 2), "1e+308");
     qc_scenario_free(sc);
+    /* a file name with " to " in it is a file name, not a range */
+    sc = parse_ok("[receiver]\nmodel = table\ntable = notes to self.txt\nlevels = 0,1\n"
+                  "[sweep]\nbits = 1, 2\n");
+    qc_scenario_free(sc);
 }
 
 typedef struct {
@@ -287,6 +291,8 @@ static const error_case errors[] = {
     /* a range belongs to a sweep axis */
     {BASE "snr-db = 0 to 5 step 1\n", QC_EINVAL,
      "t.ini:4: 'snr-db': a range ('0 to 5 step 1') is taken only by a [sweep] axis"},
+    {BASE "[design]\nbits = 1, 2 to 3 step 1\n", QC_EINVAL,
+     "t.ini:5: 'bits': a range ('1, 2 to 3 step 1') is taken only by a [sweep] axis"},
     {BASE "[sweep]\nsnr-db = 1, 2, 1.0\n", QC_EINVAL, "t.ini:5: 'snr-db': the value 1.0 appears twice"},
     {BASE "[sweep]\nsnr-db = 1,,2\n", QC_EINVAL, "t.ini:5: 'snr-db': value 2 is empty"},
     {BASE "[sweep]\nsnr-db = 0 to 10 step 1e-6\n", QC_EINVAL,

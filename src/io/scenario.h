@@ -82,7 +82,7 @@ struct qc_scenario {
  * and names key. */
 qc_status sc_range_expand(const char *item, const char *loc, const char *key, double **out,
                           size_t *n);
-/* 1 if a value has a word of the range form (to, step, count). */
+/* 1 if an item of a value is written as a range ("FROM to ...", "0 step 1"). */
 int sc_range_is(const char *value);
 
 /* "file:12" or "--set" for messages. */

@@ -199,9 +199,18 @@ static qc_status expand_tokens(char *const tok[5], const char *item, const char 
     return expand_count(from, to, tok[4], item, loc, key, out, n);
 }
 
-static int has_range_word(char *const tok[RANGE_MAX_TOKENS], size_t ntok)
+/* Written as a range: a number followed by a range word ("0 to 5", "0 step
+ * 1"), or the five words of one ("x to 5 step 1", a bad FROM). A text such
+ * as a file name with " to " in it is not. */
+static int range_like(char *const tok[RANGE_MAX_TOKENS], size_t ntok)
 {
-    for (size_t i = 0; i < ntok && i < RANGE_MAX_TOKENS; i++)
+    if (ntok == 5 && strcmp(tok[1], "to") == 0 &&
+        (strcmp(tok[3], "step") == 0 || strcmp(tok[3], "count") == 0))
+        return 1;
+    double x;
+    if (ntok < 2 || qc_parse_double(tok[0], &x) != QC_OK)
+        return 0;
+    for (size_t i = 1; i < ntok && i < RANGE_MAX_TOKENS; i++)
         if (is_word(tok[i]))
             return 1;
     return 0;
@@ -209,10 +218,19 @@ static int has_range_word(char *const tok[RANGE_MAX_TOKENS], size_t ntok)
 
 int sc_range_is(const char *value)
 {
-    char copy[256];
-    snprintf(copy, sizeof copy, "%s", value);
-    char *tok[RANGE_MAX_TOKENS];
-    return has_range_word(tok, split(copy, tok));
+    for (const char *p = value;;) {
+        const char *comma = strchr(p, ',');
+        size_t len = comma ? (size_t)(comma - p) : strlen(p);
+        char copy[256];
+        snprintf(copy, sizeof copy, "%.*s", (int)(len < sizeof copy ? len : sizeof copy - 1),
+                 p);
+        char *tok[RANGE_MAX_TOKENS];
+        if (range_like(tok, split(copy, tok)))
+            return 1;
+        if (!comma)
+            return 0;
+        p = comma + 1;
+    }
 }
 
 qc_status sc_range_expand(const char *item, const char *loc, const char *key, double **out,
@@ -228,8 +246,8 @@ qc_status sc_range_expand(const char *item, const char *loc, const char *key, do
         return qc_fail(QC_ENOMEM, "out of memory");
     char *tok[RANGE_MAX_TOKENS];
     size_t ntok = split(copy, tok);
-    qc_status st = QC_OK; /* no range word: a single value */
-    if (!has_range_word(tok, ntok))
+    qc_status st = QC_OK; /* not a range: a single value */
+    if (!range_like(tok, ntok))
         st = QC_OK;
     else if (ntok != 5 || strcmp(tok[1], "to") != 0 ||
              (strcmp(tok[3], "step") != 0 && strcmp(tok[3], "count") != 0))
