@@ -890,7 +890,7 @@ void qc_scenario_free(qc_scenario *sc);
  * key everywhere (the sweep axis of that name takes the value's values;
  * otherwise the base setting, which then also wins over the alphabets);
  * "SECTION.KEY=VALUE" sets a key of one section ("plots.format=png",
- * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1:1:4"). On failure the
+ * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1 to 4 step 1"). On failure the
  * scenario is unchanged. */
 qc_status qc_scenario_override(qc_scenario *sc, const char *assignment);
 

@@ -41,8 +41,10 @@ static inline double wyner_capacity(double s, double sigma)
     return q * phi1 + (1 - q) * phis - (q + s) * log(q + s);
 }
 
-/* Z-channel capacity, 1 → 0 with probability p (REFERENCES.md, Cover &
- * Thomas ch. 7 exercise form): log(1 + (1−p) p^{p/(1−p)}), in nats. */
+/* Z-channel capacity, 1 → 0 with probability p: log(1 + (1−p) p^{p/(1−p)}),
+ * in nats (L. G. Tallini, S. Al-Bassam, B. Bose, "On the capacity and
+ * codes for the Z-channel", Proc. IEEE Int. Symp. Information Theory
+ * (ISIT), Lausanne, 2002, p. 422, where it is given in bits). */
 static inline double z_capacity(double p)
 {
     return log1p((1 - p) * pow(p, p / (1 - p)));

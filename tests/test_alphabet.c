@@ -333,7 +333,8 @@ static void test_gmi_properties(void **state)
         double g, mi;
         assert_int_equal(qc_gmi(d, r, lab, nbits, &g), QC_OK);
         assert_int_equal(qc_mutual_information(d, r, &mi), QC_OK);
-        /* GMI ≤ MI (REFERENCES.md, BICM) */
+        /* GMI ≤ MI (G. Caire, G. Taricco, E. Biglieri, "Bit-interleaved
+         * coded modulation", IEEE Trans. Inf. Theory 44(3), 1998) */
         assert_true(g <= mi + TOL_TIGHT);
         assert_true(g >= 0.0);
         if (nx == 2) /* one bit: the bit is the input */
@@ -425,9 +426,10 @@ static void test_dispersion_closed_forms(void **state)
         d->p[1] = d->p[2] = p;
         double mi, v;
         assert_int_equal(qc_dispersion(d, r, &mi, &v), QC_OK);
-        /* BSC: C = 1 − h2(p), V = p(1−p)·log2²((1−p)/p) (Polyanskiy, Poor,
-         * Verdú, IEEE Trans. IT 56(5), 2010, the BSC section; theorem
-         * number 52 from memory) */
+        /* BSC: C = 1 − h2(p), V = p(1−p)·log2²((1−p)/p) (Y. Polyanskiy,
+         * H. V. Poor, S. Verdú, "Channel coding rate in the finite
+         * blocklength regime", IEEE Trans. Inf. Theory 56(5), 2010, the
+         * BSC section; theorem number 52 from memory) */
         assert_near(mi * QC_LOG2E, 1.0 - qc_binary_entropy(p) * QC_LOG2E, TOL_TIGHT);
         assert_near(v * QC_LOG2E * QC_LOG2E, p * (1 - p) * log2sq((1 - p) / p), TOL_TIGHT);
         qc_dmc_free(d);
@@ -439,7 +441,8 @@ static void test_dispersion_closed_forms(void **state)
         d->p[4] = p;
         d->p[5] = 1.0 - p;
         assert_int_equal(qc_dispersion(d, r, &mi, &v), QC_OK);
-        assert_near(mi * QC_LOG2E, 1.0 - p, TOL_TIGHT); /* C = 1 − e (REFERENCES.md) */
+        /* C = 1 − e (same paper, the BEC section) */
+        assert_near(mi * QC_LOG2E, 1.0 - p, TOL_TIGHT);
         assert_near(v * QC_LOG2E * QC_LOG2E, p * (1 - p), TOL_TIGHT);
         qc_dmc_free(d);
     }
@@ -592,8 +595,10 @@ static void test_optimize_levels_mi(void **state)
     assert_near(res.levels[0], -sqrt(2.0), TOL_LEVEL);
     assert_near(res.levels[1], sqrt(2.0), TOL_LEVEL);
     assert_true(res.average_power <= 2.0 * (1.0 + 1e-9));
-    /* hard-decision BPSK closed form at snr = 2: 1 − h2(Q(√2))
-     * (REFERENCES.md, binary-input AWGN) */
+    /* hard-decision BPSK at snr = 2 is a binary symmetric channel with
+     * crossover Q(√2) = P(N(√2, 1) < 0): C = 1 − h2(Q(√2)) (C. E. Shannon,
+     * "A mathematical theory of communication", Bell Syst. Tech. J. 27,
+     * 1948) */
     double q = 0.5 * erfc(1.0 / 1.0); /* Q(√2) = ½·erfc(1) */
     assert_near(res.rate_bits, 1.0 - qc_binary_entropy(q) * QC_LOG2E, 1e-6);
     qc_design_result_clear(&res);

@@ -239,7 +239,8 @@ static void test_power_constraint(void **state)
 {
     (void)state;
     /* a fine grid with E[x²] ≤ P and a fine quantizer approach the AWGN
-     * capacity ½·log2(1 + P/σ²) (Shannon 1948; REFERENCES.md) at 5 dB */
+     * capacity ½·log2(1 + P/σ²) at 5 dB (C. E. Shannon, "A mathematical
+     * theory of communication", Bell Syst. Tech. J. 27, 1948) */
     qc_model *m = gauss(1.0);
     double P = pow(10.0, 0.5);
     enum { N = 81 };
@@ -354,8 +355,10 @@ static void test_gmi_mi_capacity(void **state)
                     assert_int_equal(qc_design(&r, &res), QC_OK);
                     qc_capacity_result cr;
                     assert_int_equal(qc_capacity(res.channel, &opt, NULL, &cr, NULL), QC_OK);
-                    /* GMI ≤ MI ≤ capacity of the same channel (REFERENCES.md,
-                     * BICM; capacity is the largest MI) */
+                    /* GMI ≤ MI (G. Caire, G. Taricco, E. Biglieri,
+                     * "Bit-interleaved coded modulation", IEEE Trans. Inf.
+                     * Theory 44(3), 1998) ≤ capacity of the same channel
+                     * (capacity is the largest MI) */
                     assert_true(res.gmi_bits <= res.mi_bits + TOL_TIGHT);
                     assert_true(res.mi_bits <= cr.upper_bound_bits + TOL_TIGHT);
                     assert_true(res.rate_bits <= cr.upper_bound_bits + TOL_ENGINE);

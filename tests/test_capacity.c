@@ -140,8 +140,9 @@ static void test_z_channel(void **state)
     (void)state;
     /* 0 is always received as 0; 1 turns into 0 with probability p.
      * C = log2(1 + (1 − p)·p^(p/(1 − p))): set dI/dr = 0 for
-     * I(r) = h2(r(1 − p)) − r·h2(p) (closed form, listed in the project's
-     * REFERENCES.md); p = 1/2 gives log2(5/4) = 0.321928... */
+     * I(r) = h2(r(1 − p)) − r·h2(p) (L. G. Tallini, S. Al-Bassam, B. Bose,
+     * "On the capacity and codes for the Z-channel", Proc. IEEE ISIT 2002,
+     * p. 422); p = 1/2 gives log2(5/4) = 0.321928... */
     const double ps[] = {0.5, 0.1, 0.01, 0.9, 0.999};
     for (size_t i = 0; i < sizeof ps / sizeof ps[0]; i++) {
         double e = ps[i];

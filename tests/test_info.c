@@ -69,7 +69,9 @@ static void test_entropy(void **state)
 static void test_binary_entropy(void **state)
 {
     (void)state;
-    /* h(1/2) = 1 bit, h(0) = h(1) = 0 (Cover & Thomas, Example 2.1.1) */
+    /* h(1/2) = 1 bit, h(0) = h(1) = 0: h(p) = −p·log2 p − (1−p)·log2(1−p)
+     * with 0·log 0 = 0 (C. E. Shannon, "A mathematical theory of
+     * communication", Bell Syst. Tech. J. 27, 1948) */
     assert_close(qc_binary_entropy(0.5) * QC_LOG2E, 1.0, TOL_TIGHT, "h(1/2)");
     assert_true(qc_binary_entropy(0.0) == 0.0);
     assert_true(qc_binary_entropy(1.0) == 0.0);

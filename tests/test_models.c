@@ -337,7 +337,8 @@ static void test_poisson(void **state)
 }
 
 /* OOK with ideal counting, no background, threshold 1: a Z channel with
- * crossover p = e^{−n_s} (REFERENCES.md, photon counting). */
+ * crossover p = e^{−n_s}, the Poisson probability of no count for a mean
+ * of n_s ('off' never counts). */
 static void test_poisson_z_channel(void **state)
 {
     (void)state;

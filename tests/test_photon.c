@@ -67,7 +67,8 @@ static void test_z_channel_capacity(void **state)
         assert_near(capacity2(d), z_capacity(exp(-ns)), TOL_CAP);
         qc_dmc_free(d);
     }
-    /* p = 0.5 → 0.321928... bits (REFERENCES.md) */
+    /* p = 0.5 → log2(1 + ½·½) = log2(5/4) = 0.321928... bits (the Z-channel
+     * capacity of photon_common.h) */
     qc_dmc *d = ook_slot_channel(log(2.0), 0.0, 2);
     assert_near(capacity2(d) * QC_LOG2E, 0.321928094887362, 1e-9);
     qc_dmc_free(d);

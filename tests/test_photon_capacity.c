@@ -38,7 +38,9 @@ static void test_z_channel(void **state)
     for (double ns = 0.05; ns < 10.0; ns *= 1.7) {
         qc_dmc *d = ook_slot_channel(ns, 0.0, 2);
         assert_non_null(d);
-        /* Z channel, p = e^{−n_s} (REFERENCES.md) */
+        /* Z channel, p = e^{−n_s} (Poisson: no count for a mean of n_s);
+         * capacity as in photon_common.h (Tallini, Al-Bassam, Bose, ISIT
+         * 2002) */
         assert_near(capacity_nats(d, NULL, 0.0) * QC_LOG2E,
                             z_capacity(exp(-ns)) * QC_LOG2E, TOL_ENGINE);
         qc_dmc_free(d);

@@ -48,8 +48,8 @@ static const char *const designer =
     "   1,3   # an indented line continues the value\n"
     "\n"
     "[sweep]\n"
-    "snr-db = 0:5:20\n"
-    "bits = 1:1:3\n"
+    "snr-db = 0 to 20 step 5\n"
+    "bits = 1 to 3 step 1\n"
     "\n"
     "[plots]\n"
     "format = png\n"
@@ -126,8 +126,8 @@ static void test_front_end_and_alphabets(void **state)
                                "thermal-density = 10\nslot-time = 1e-10\nextinction-db = 10\n"
                                "[alphabet ook]\nalphabet = upam:2\n[alphabet pam4]\n"
                                "alphabet = upam:4\n[sweep]\napd-gain = 1, 10\n"
-                               "power-dbm = -30:2:-20\nbits = 2\n[density]\nalphabet = pam4\n"
-                               "power-dbm = -24\n");
+                               "power-dbm = -30 to -20 step 2\nbits = 2\n"
+                               "[density]\nalphabet = pam4\npower-dbm = -24\n");
     assert_int_equal(qc_scenario_npoints(sc), 2 * 2 * 6 * 1);
     if (qc_scenario_check(sc) != QC_OK)
         fail_msg("front-end scenario: %s", qc_last_error());
@@ -161,19 +161,56 @@ static void test_front_end_and_alphabets(void **state)
 static void test_ranges(void **state)
 {
     (void)state;
+    /* step: FROM + k·STEP, written with 15 digits, ending on TO exactly */
     qc_scenario *sc = parse_ok("[receiver]\nmodel = gauss\nlevels = -1,1\n"
-                               "[sweep]\nsnr-db = 0:0.1:1, 3\nbits = 1:2:6\n");
+                               "[sweep]\nsnr-db = 0 to 1 step 0.1, 3\n"
+                               "bits = 1 to 2 step 1, 4 to 6 count 3\n");
     assert_int_equal(qc_scenario_axis_size(sc, 0), 12);
     assert_string_equal(qc_scenario_axis_value(sc, 0, 3), "0.3"); /* not 0.30000000000000004 */
     assert_string_equal(qc_scenario_axis_value(sc, 0, 10), "1");
     assert_string_equal(qc_scenario_axis_value(sc, 0, 11), "3");
-    assert_int_equal(qc_scenario_axis_size(sc, 1), 3); /* 1, 3, 5: stops before 6 */
-    assert_string_equal(qc_scenario_axis_value(sc, 1, 2), "5");
+    assert_int_equal(qc_scenario_axis_size(sc, 1), 5); /* 1, 2, 4, 5, 6 */
+    assert_string_equal(qc_scenario_axis_value(sc, 1, 1), "2");
+    assert_string_equal(qc_scenario_axis_value(sc, 1, 2), "4");
+    assert_string_equal(qc_scenario_axis_value(sc, 1, 4), "6");
+    qc_scenario_free(sc);
+    /* (35 − (−5))/0.1 is 399.99999999999994 in doubles: within 1e-9 of a
+     * step, so 35 ends the range; the values near 0 are 0, not ±1e-15 */
+    sc = parse_ok("[receiver]\nmodel = gauss\nlevels = -1,1\nbits = 2\n"
+                  "[sweep]\nsnr-db = -5 to 35 step 0.1\n");
+    assert_int_equal(qc_scenario_axis_size(sc, 0), 401);
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 0), "-5");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 50), "0");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 123), "7.3");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 400), "35");
+    qc_scenario_free(sc);
+    /* count: N equally spaced values, both ends included */
+    sc = parse_ok("[receiver]\nmodel = gauss\nlevels = -1,1\nbits = 2\n"
+                  "[sweep]\nsnr-db = -1 to 1 count 5\nsigma = 1 to 2 count 4\n");
+    assert_int_equal(qc_scenario_axis_size(sc, 0), 5);
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 0), "-1");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 1), "-0.5");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 2), "0");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 4), "1");
+    assert_int_equal(qc_scenario_axis_size(sc, 1), 4);
+    assert_string_equal(qc_scenario_axis_value(sc, 1, 1), "1.33333333333333");
+    assert_string_equal(qc_scenario_axis_value(sc, 1, 3), "2");
+    qc_scenario_free(sc);
+    /* the largest axis: 100000 values; a count over a range wider than
+     * the largest double does not overflow */
+    sc = parse_ok("[receiver]\nmodel = gauss\nlevels = -1,1\nbits = 2\n"
+                  "[sweep]\nsnr-db = 0 to 9999.9 step 0.1\n");
+    assert_int_equal(qc_scenario_axis_size(sc, 0), 100000);
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 99999), "9999.9");
     qc_scenario_free(sc);
     sc = parse_ok("[receiver]\nmodel = gauss\nlevels = -1,1\nbits = 2\n"
-                  "[sweep]\nsnr-db = 10:-5:-5\n");
-    assert_int_equal(qc_scenario_axis_size(sc, 0), 4);
-    assert_string_equal(qc_scenario_axis_value(sc, 0, 3), "-5");
+                  "[sweep]\nsigma = -1e308 to 1e308 count 3\n");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 1), "0");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 2), "1e+308");
+    qc_scenario_free(sc);
+    /* a file name with " to " in it is a file name, not a range */
+    sc = parse_ok("[receiver]\nmodel = table\ntable = notes to self.txt\nlevels = 0,1\n"
+                  "[sweep]\nbits = 1, 2\n");
     qc_scenario_free(sc);
 }
 
@@ -191,7 +228,7 @@ static const error_case errors[] = {
     {BASE "sigma = abc\n", QC_EINVAL, "t.ini:4: 'sigma': 'abc' is not a number"},
     {BASE "[design]\n\nbits = 0\n", QC_EINVAL,
      "t.ini:6: 'bits': '0' is not a whole number from 1 to 16"},
-    {BASE "[sweep]\nbits = 0:1:8\n", QC_EINVAL,
+    {BASE "[sweep]\nbits = 0 to 8 step 1\n", QC_EINVAL,
      "t.ini:5: 'bits': '0' is not a whole number from 1 to 16"},
     {"[receiver]\nlevels = -1,1\n[sweep]\nbits = 1\n", QC_EINVAL,
      "t.ini:1: no 'model' given"},
@@ -207,13 +244,66 @@ static const error_case errors[] = {
     {BASE "[sweep]\nlevels = 1,2\n", QC_EINVAL, "t.ini:5: 'levels' takes a list"},
     {BASE "bits = 2\n[sweep]\nbits = 1,2\n", QC_EINVAL,
      "t.ini:6: 'bits' is a sweep axis and is also set at line 4"},
-    {BASE "[sweep]\nsnr-db = 0:0:5\n", QC_EINVAL, "t.ini:5: 'snr-db': the step"},
-    {BASE "[sweep]\nsnr-db = 5:1:0\n", QC_EINVAL, "goes away from the stop"},
+    /* the range form of earlier versions, with the same values in ours */
+    {BASE "[sweep]\nsnr-db = -5:1:35\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the range form a:b:c is not accepted; write '-5 to 35 step 1'"},
+    {BASE "[sweep]\nsnr-db = 10:-5:-5\n", QC_EINVAL, "write '-5 to 10 step 5'"},
+    {BASE "[sweep]\nsnr-db = 1:2:6\n", QC_EINVAL, "write '1 to 5 step 2'"},
+    {BASE "[sweep]\nsnr-db = 0:0:5\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the range form a:b:c is not accepted; write 'FROM to TO step STEP'"},
+    {BASE "[sweep]\nsnr-db = 3, 0:0.5:1\n", QC_EINVAL, "write '0 to 1 step 0.5'"},
+    /* ranges of ours that do not hold */
+    {BASE "[sweep]\nsnr-db = 0 to 5 step 0\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the step of '0 to 5 step 0' must not be 0"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 step -1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the step of '0 to 5 step -1' must be > 0"},
+    {BASE "[sweep]\nsnr-db = 5 to 0 step 1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': '5 to 0 step 1' goes down; a range goes up from FROM to TO: write "
+     "'0 to 5 step 1'"},
+    {BASE "[sweep]\nsnr-db = 5 to 0 count 3\n", QC_EINVAL, "write '0 to 5 count 3'"},
+    {BASE "[sweep]\nsnr-db = 5 to 5 step 1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': '5 to 5 step 1' starts and ends at 5"},
+    {BASE "[sweep]\nsnr-db = 0 to 10 step 3\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': '0 to 10 step 3' does not end on 10 (the steps give 9, then 12); "
+     "write '0 to 9 step 3' or '0 to 12 step 3', or use 'count'"},
+    {BASE "[sweep]\nsnr-db = 0 to 2 step 3\n", QC_EINVAL,
+     "(the steps give 0, then 3); write '0 to 3 step 3', or use 'count'"},
+    /* 1e-8 of a step off TO is past the landing tolerance (1e-9 of a step) */
+    {BASE "[sweep]\nsnr-db = 0 to 1.00000001 step 0.1\n", QC_EINVAL, "does not end on"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 count 1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the count of '0 to 5 count 1' must be a whole number from 2 to "
+     "100000 (got '1')"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 count 2.5\n", QC_EINVAL, "(got '2.5')"},
+    {BASE "[sweep]\nsnr-db = 0 to 5\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': '0 to 5' is not a range; write 'FROM to TO step STEP' or 'FROM to TO "
+     "count N'"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 by 1\n", QC_EINVAL, "'0 to 5 by 1' is not a range"},
+    {BASE "[sweep]\nsnr-db = 0 step 1\n", QC_EINVAL, "'0 step 1' is not a range"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 step 1 2\n", QC_EINVAL, "is not a range"},
+    {BASE "[sweep]\nsnr-db = x to 5 step 1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': FROM of 'x to 5 step 1': 'x' is not a number"},
+    {BASE "[sweep]\nsnr-db = 0 to 1e400 step 1\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': TO of '0 to 1e400 step 1': '1e400' is not a finite number"},
+    {BASE "[sweep]\nsnr-db = 0 to 5 step nan\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the step of '0 to 5 step nan'"},
+    {BASE "[sweep]\nbits = 1 to 4 step 0.5\n", QC_EINVAL,
+     "t.ini:5: 'bits': '1.5' is not a whole number from 1 to 16"},
+    /* a range belongs to a sweep axis */
+    {BASE "snr-db = 0 to 5 step 1\n", QC_EINVAL,
+     "t.ini:4: 'snr-db': a range ('0 to 5 step 1') is taken only by a [sweep] axis"},
+    {BASE "[design]\nbits = 1, 2 to 3 step 1\n", QC_EINVAL,
+     "t.ini:5: 'bits': a range ('1, 2 to 3 step 1') is taken only by a [sweep] axis"},
     {BASE "[sweep]\nsnr-db = 1, 2, 1.0\n", QC_EINVAL, "t.ini:5: 'snr-db': the value 1.0 appears twice"},
     {BASE "[sweep]\nsnr-db = 1,,2\n", QC_EINVAL, "t.ini:5: 'snr-db': value 2 is empty"},
-    {BASE "[sweep]\nsnr-db = 0:1e-6:10\n", QC_EINVAL, "more than 100000 values"},
-    {BASE "[sweep]\nsnr-db = 0:1:999\nbits = 1:1:16\nsigma = 1:1:999\n", QC_EINVAL,
-     "more than 1000000"},
+    {BASE "[sweep]\nsnr-db = 0 to 10 step 1e-6\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': '0 to 10 step 1e-6' has more than 100000 values"},
+    {BASE "[sweep]\nsnr-db = 0 to 1 count 100001\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': the count of '0 to 1 count 100001' must be a whole number from 2 to "
+     "100000"},
+    {BASE "[sweep]\nsnr-db = 0 to 1 count 60000, 2 to 3 count 60000\n", QC_EINVAL,
+     "t.ini:5: 'snr-db': more than 100000 values"},
+    {BASE "[sweep]\nsnr-db = 0 to 999 step 1\nbits = 1 to 16 step 1\nsigma = 1 to 999 step 1\n",
+     QC_EINVAL, "more than 1000000"},
     {BASE "[sweep]\nquantizer = uniform, best\n", QC_EINVAL,
      "t.ini:5: 'quantizer': unknown value 'best'"},
     {BASE "[plots]\nformat = gif\n", QC_EINVAL, "t.ini:5: 'format': unknown value 'gif'"},
@@ -298,7 +388,7 @@ static void test_overrides(void **state)
     char hash[17];
     strcpy(hash, qc_scenario_hash(sc));
     /* a sweep axis takes the new values */
-    assert_int_equal(qc_scenario_override(sc, "bits=1:1:8"), QC_OK);
+    assert_int_equal(qc_scenario_override(sc, "bits=1 to 8 step 1"), QC_OK);
     assert_int_equal(qc_scenario_axis_size(sc, 1), 8);
     assert_string_not_equal(qc_scenario_hash(sc), hash);
     /* an axis narrowed to one value keeps the density point valid */
@@ -323,6 +413,13 @@ static void test_overrides(void **state)
     assert_message("--set bitz=3: unknown key 'bitz' (did you mean 'bits'?)");
     assert_int_equal(qc_scenario_override(sc, "bits=0"), QC_EINVAL);
     assert_message("--set: 'bits': '0' is not a whole number from 1 to 16");
+    assert_int_equal(qc_scenario_override(sc, "sweep.bits=1:1:4"), QC_EINVAL);
+    assert_message("--set: 'bits': the range form a:b:c is not accepted; write '1 to 4 step 1'");
+    assert_int_equal(qc_scenario_override(sc, "bits=4 to 1 step 1"), QC_EINVAL);
+    assert_message("--set: 'bits': '4 to 1 step 1' goes down");
+    assert_int_equal(qc_scenario_override(sc, "sigma=0.1 to 1 step 0.1"), QC_EINVAL);
+    assert_message("--set: 'sigma': a range ('0.1 to 1 step 0.1') is taken only by a [sweep] "
+                   "axis; use --set sweep.sigma=...");
     assert_int_equal(qc_scenario_override(sc, "alphabet.pam9.levels=1"), QC_EINVAL);
     assert_message("no [alphabet pam9]");
     assert_int_equal(qc_scenario_override(sc, "nosection.x=1"), QC_EINVAL);
@@ -339,7 +436,7 @@ static void test_hash(void **state)
     (void)state;
     qc_scenario *a = parse_ok(BASE "[sweep]\nbits = 1,2\n");
     qc_scenario *b = parse_ok("# comment\n[receiver]\n  model=gauss   \nlevels = -1,1\n\n"
-                              "[sweep]\nbits = 1:1:2\n[plots]\nformat = pdf\n"
+                              "[sweep]\nbits = 1 to 2 count 2\n[plots]\nformat = pdf\n"
                               "[scenario]\ntitle = other title\n");
     qc_scenario *c = parse_ok(BASE "[sweep]\nbits = 1,3\n");
     /* same points: same hash, whatever the comments, plots or title */

@@ -175,7 +175,7 @@ static const char scenario_text[] = "[scenario]\ntitle = sweep test (invented)\n
                                     "[receiver]\nmodel = gauss\n"
                                     "[alphabet pam2]\nlevels = -1,1\n"
                                     "[alphabet pam4]\nlevels = -3,-1,1,3\n"
-                                    "[sweep]\nsnr-db = 0:4:12\nbits = 1:1:3\n";
+                                    "[sweep]\nsnr-db = 0 to 12 step 4\nbits = 1 to 3 step 1\n";
 
 static void run(const qc_scenario *sc, const char *dir, unsigned jobs, int resume,
                 qc_sweep_summary *sum)

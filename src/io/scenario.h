@@ -75,6 +75,16 @@ struct qc_scenario {
     char hash[17];
 };
 
+/* One item of a sweep axis (scenario_range.c). A range `FROM to TO step
+ * STEP` or `FROM to TO count N`: *out (malloc'd, *n values, ascending,
+ * ending on TO). A single value: *out stays NULL. A malformed range or the
+ * old form start:step:stop: QC_EINVAL with a message that starts with loc
+ * and names key. */
+qc_status sc_range_expand(const char *item, const char *loc, const char *key, double **out,
+                          size_t *n);
+/* 1 if an item of a value is written as a range ("FROM to ...", "0 step 1"). */
+int sc_range_is(const char *value);
+
 /* "file:12" or "--set" for messages. */
 const char *sc_where(const qc_scenario *sc, int line, char *buf, size_t cap);
 

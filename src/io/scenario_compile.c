@@ -1,5 +1,5 @@
 /* scenario_compile.c — the meaning of a scenario's sections: base
- * settings, alphabets, sweep axes (start:step:stop ranges or lists), the
+ * settings, alphabets, sweep axes (lists and ranges, scenario_range.c), the
  * plots asked for, the grid of points and its hash. Every design key is a
  * scenario key with the same meaning; its values are checked by the same
  * code as the `design` command's flags (qc_settings_set). */
@@ -12,8 +12,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-
-#define RANGE_TOL 1e-9 /* a range may overshoot its stop by this many steps */
 
 /* ---------------------------------------------------------------- */
 /* Helpers                                                            */
@@ -60,6 +58,14 @@ static qc_status set_key(const qc_scenario *sc, qc_settings *s, const sc_entry *
     char loc[300];
     if (!qc_setting_known(e->key))
         return unknown_key(sc, e, where, qc_setting_suggest(e->key));
+    if (sc_range_is(e->value)) {
+        sc_where(sc, e->line, loc, sizeof loc);
+        if (e->line > 0)
+            return qc_fail(QC_EINVAL, "%s: '%s': a range ('%s') is taken only by a [sweep] axis; "
+                           "move the key to [sweep]", loc, e->key, e->value);
+        return qc_fail(QC_EINVAL, "%s: '%s': a range ('%s') is taken only by a [sweep] axis; "
+                       "use --set sweep.%s=...", loc, e->key, e->value, e->key);
+    }
     qc_status st = qc_settings_set(s, e->key, e->value);
     if (st != QC_OK) {
         char msg[768];
@@ -160,53 +166,19 @@ static qc_status axis_push(sc_axis *a, size_t *cap, char *value)
     return QC_OK;
 }
 
-/* "start:step:stop" with three numbers: append its values. Returns 1 if
- * the item is a range, 0 if not, -1 (message set) on a bad range. */
-static int expand_range(const char *item, sc_axis *a, size_t *cap, const char *loc)
+/* Append the values of a range item, written with 15 significant digits
+ * (so that 0 to 1 step 0.1 gives 0.3, not 0.30000000000000004). */
+static qc_status push_range(sc_axis *a, size_t *cap, const double *v, size_t n)
 {
-    const char *c1 = strchr(item, ':');
-    const char *c2 = c1 ? strchr(c1 + 1, ':') : NULL;
-    if (!c1 || !c2 || strchr(c2 + 1, ':'))
-        return 0;
-    char part[3][128];
-    const char *from[3] = {item, c1 + 1, c2 + 1};
-    size_t len[3] = {(size_t)(c1 - item), (size_t)(c2 - c1 - 1), strlen(c2 + 1)};
-    double v[3];
-    for (int i = 0; i < 3; i++) {
-        if (len[i] >= sizeof part[i])
-            return 0;
-        memcpy(part[i], from[i], len[i]);
-        part[i][len[i]] = '\0';
-        if (qc_parse_double(part[i], &v[i]) != QC_OK)
-            return 0;
-    }
-    double start = v[0], step = v[1], stop = v[2];
-    if (step == 0.0) {
-        qc_fail(QC_EINVAL, "%s: '%s': the step of start:step:stop must not be 0", loc, a->key);
-        return -1;
-    }
-    double span = (stop - start) / step;
-    if (!(span > -RANGE_TOL)) {
-        qc_fail(QC_EINVAL, "%s: '%s': the step %g goes away from the stop in '%s'", loc, a->key,
-                step, item);
-        return -1;
-    }
-    if (!(span < QC_SCENARIO_MAX_AXIS_VALUES)) {
-        qc_fail(QC_EINVAL, "%s: '%s': '%s' has more than %d values", loc, a->key, item,
-                QC_SCENARIO_MAX_AXIS_VALUES);
-        return -1;
-    }
-    size_t count = (size_t)floor(span + RANGE_TOL) + 1;
-    for (size_t k = 0; k < count; k++) {
-        double x = start + (double)k * step;
-        if (fabs(x) < 1e-12 * fabs(step))
-            x = 0.0;
+    for (size_t k = 0; k < n; k++) {
         char buf[64];
-        snprintf(buf, sizeof buf, "%.15g", x);
+        snprintf(buf, sizeof buf, "%.15g", v[k]);
         if (axis_push(a, cap, strdup(buf)) != QC_OK)
-            return -1;
+            return QC_ENOMEM;
+        if (a->n > QC_SCENARIO_MAX_AXIS_VALUES)
+            return QC_OK; /* the caller names the key */
     }
-    return 1;
+    return QC_OK;
 }
 
 /* Sorting axis values to find repeats in O(n log n). */
@@ -277,15 +249,19 @@ static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a
             return qc_fail(QC_EINVAL, "%s: '%s': value %zu is empty in '%s'", loc, e->key,
                            a->n + 1, e->value);
         }
-        int r = expand_range(item, a, &cap, loc);
-        if (r < 0) {
+        double *range = NULL;
+        size_t nrange = 0;
+        qc_status st = sc_range_expand(item, loc, e->key, &range, &nrange);
+        if (st == QC_OK && !range) {
+            st = axis_push(a, &cap, item); /* a single value */
+        } else {
             free(item);
-            return QC_EINVAL;
+            if (st == QC_OK)
+                st = push_range(a, &cap, range, nrange);
+            free(range);
         }
-        if (r == 0 && axis_push(a, &cap, item) != QC_OK)
-            return QC_ENOMEM;
-        if (r == 1)
-            free(item);
+        if (st != QC_OK)
+            return st;
         if (a->n > QC_SCENARIO_MAX_AXIS_VALUES)
             return qc_fail(QC_EINVAL, "%s: '%s': more than %d values", loc, e->key,
                            QC_SCENARIO_MAX_AXIS_VALUES);

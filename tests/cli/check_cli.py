@@ -166,7 +166,9 @@ check(rc == 0, f"design fixed exit {rc}: {err}")
 j = parse(out, "json 7")
 for key in ("rate_bits", "unquantized_bits", "thresholds", "levels", "input_distribution"):
     check(key in j, f"design JSON has key {key}")
-# hard-decision BPSK: 1 - h2(Q(sqrt(snr))) (REFERENCES.md; Q from scipy.stats.norm.sf)
+# hard-decision BPSK: a binary symmetric channel with crossover Q(sqrt(snr)) = P(N(A, s^2) < 0),
+# C = 1 - h2(p) (C. E. Shannon, "A mathematical theory of communication", Bell Syst. Tech. J.
+# 27, 1948); Q from scipy.stats.norm.sf
 check(abs(j["rate_bits"] - (1 - h2(norm.sf(1.0)))) < 1e-9, "1-bit BPSK rate")
 
 rc, out, err = run("design", "--model", "gauss", "--snr-db", "10", "--levels", "-3,-1,1,3", "--bits", "3",
@@ -225,7 +227,8 @@ check(rc == 0 and "--gain" in out and "--sigma-th" in out and "electrons" in out
       "models NAME lists parameters with units")
 
 # on-off keying with ideal photon counting and no background is a Z channel
-# with p = exp(-n_s) (REFERENCES.md, photon counting)
+# with p = exp(-n_s): the Poisson law gives no count for 'on' with probability
+# exp(-n_s), and 'off' never gives a count (definition of the model)
 rc, out, err = run("channel", "--model", "poisson", "--signal", "2", "--levels", "0,1",
                    "--thresholds", "1", "--json")
 m = parse(out, "poisson channel").get("matrix", [[math.nan] * 2] * 2)
@@ -264,7 +267,9 @@ rc, out, err = run("design", "--model", "poisson", "--alphabet", "upam:2", "--po
                    "--slot-time", "1e-9", "--wavelength-nm", "1550", "--efficiency", "0.8",
                    "--bits", "2", "--json")
 j = parse(out, "photon front end")
-# n = eta P T / (h c / lambda) with P = 2 Pavg for on-off keying (REFERENCES.md)
+# n = eta P T / (h c / lambda): the energy received in a slot over the photon energy
+# h c / lambda (Planck-Einstein relation), with the peak power P = 2 Pavg for equiprobable
+# on-off keying with a dark 'off' level (definition of the average)
 h, c = 6.62607015e-34, 299792458.0  # SI 2019 exact constants
 n_ref = 0.8 * 2 * 1e-3 * 10 ** (-7) * 1e-9 / (h * c / 1550e-9)
 check(rc == 0 and abs(j.get("parameters", {}).get("signal", 0) / n_ref - 1) < 1e-5,

@@ -64,8 +64,8 @@ label = PAM-4
 levels = -3,-1,1,3
 
 [sweep]
-snr-db = 0:5:15
-bits = 1:1:3
+snr-db = 0 to 15 step 5
+bits = 1 to 3 step 1
 
 [plots]
 rate-vs-bits = 0, 10
@@ -172,7 +172,8 @@ rc, out, err = run("sweep", small, "--out", out3, "--resume", "--set", "bits=1,3
 check(rc == 2 and "belongs to another scenario" in err, f"resume guard: {rc} {err}")
 
 # --- kill and resume ------------------------------------------------------
-BIG = SMALL.replace("snr-db = 0:5:15\nbits = 1:1:3", "snr-db = 0:1:30\nbits = 1:1:6") \
+BIG = SMALL.replace("snr-db = 0 to 15 step 5\nbits = 1 to 3 step 1",
+                    "snr-db = 0 to 30 step 1\nbits = 1 to 6 step 1") \
            .replace("rate-vs-bits = 0, 10", "rate-vs-bits = 0")
 big = write("big.ini", BIG)
 nbig = 2 * 31 * 6

@@ -5,7 +5,9 @@ Runs the dump program given as argv[1] (tests/ref/design_dump.c), then
 recomputes every value independently with scipy/numpy:
 
 * unquantized BPSK rate C = 1 - E[log2(1 + exp(-2 Y A / s^2))], Y ~ N(A, s^2)
-  (REFERENCES.md, binary-input AWGN), by scipy.integrate.quad;
+  (I(X;Y) for equiprobable +-A, written as an expectation given X = +A by
+  the symmetry of the channel; exp(-2 Y A / s^2) is the likelihood ratio
+  p(Y|-A)/p(Y|+A)), by scipy.integrate.quad;
 * MI-optimal 2- and 3-bit BPSK quantizers: I(X;Y_q) with cell probabilities
   from scipy.stats.norm.cdf/sf, maximized over SYMMETRIC thresholds
   (0, +-a) and (0, +-a, +-b, +-c) with scipy.optimize (bounded Brent for one

@@ -1,0 +1,224 @@
+#!/usr/bin/python3
+"""Golden-output check: a fixed list of quantcap runs whose outputs must stay
+byte for byte what was recorded (a restructuring of the code must not change
+a single number or line). The list is the README's short tour (each command's
+stdout, as text and with --json where the command has it) and the three demo
+studies (scenarios/*.ini swept with --jobs 2 --no-plots; their results.csv and
+results.json). See tests/golden/README.md.
+
+Usage: run_golden.py QUANTCAP [--record] [--expected DIR]
+
+  check (default)  run everything and compare with DIR (default
+                   tests/golden/expected); on a difference print a unified
+                   diff of the first differing file, name the others, exit 1.
+                   Exit 77 (skipped) when DIR does not exist.
+  --record         run everything and write the outputs into DIR (replacing
+                   what is there).
+
+Commands run from the source tree (relative paths in the outputs stay the same
+wherever the tree is), with LC_ALL=C, stdout captured (not a terminal). Every
+command must exit 0. Their stderr is not compared (it holds timings)."""
+import argparse
+import difflib
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+SOURCE = os.path.dirname(os.path.dirname(HERE))
+EXPECTED = os.path.join(HERE, "expected")
+SKIP = 77               # meson's "skipped" exit status
+TIMEOUT_S = 900         # per command; the slowest (a study) takes seconds
+DIFF_LINES = 60         # lines of the unified diff printed
+JOBS = "2"
+
+# The README's `capacity M.txt --costs 0,1,4 --budget 1` needs a 3-input
+# matrix; this one is invented (a noisy ternary channel), written as M.txt
+# into the scratch folder the command runs in.
+M_TXT = "0.9 0.1 0\n0.1 0.8 0.1\n0 0.1 0.9\n"
+
+# README "A short tour", in order. (name, arguments, has --json, folder:
+# "source" or "scratch"). One change for speed, marked: the capacity design
+# over a 61-level grid takes tens of seconds, so it runs on 21 levels.
+TOUR = [
+    ("help", ["--help"], False, "source"),
+    ("models", ["models"], True, "source"),
+    ("models-apd", ["models", "apd"], True, "source"),
+    ("capacity-bsc", ["capacity", "data/examples/bsc-0.11.txt"], True, "source"),
+    ("capacity-costs", ["capacity", "M.txt", "--costs", "0,1,4", "--budget", "1"], True,
+     "scratch"),
+    ("channel-csv", ["channel", "--model", "gauss", "--sigma", "0.5", "--levels", "-1,1",
+                     "--thresholds", "-0.5,0,0.5", "--csv"], False, "source"),
+    ("channel", ["channel", "--model", "gauss", "--sigma", "0.5", "--levels", "-1,1",
+                 "--thresholds", "-0.5,0,0.5"], True, "source"),
+    ("design-pam4", ["design", "--model", "gauss", "--snr-db", "10", "--alphabet", "pam:4",
+                     "--bits", "3"], True, "source"),
+    ("design-compare", ["design", "--model", "gauss", "--snr-db", "10", "--alphabet", "pam:4",
+                        "--bits", "3", "--compare"], True, "source"),
+    ("design-capacity", ["design", "--model", "gauss", "--snr-db", "5",
+                         "--level-grid", "-3,3,21",  # README: -3,3,61 (slow)
+                         "--power", "1", "--bits", "2", "--objective", "capacity"], True,
+     "source"),
+    ("design-qam-gmi", ["design", "--model", "gauss", "--snr-db", "12", "--alphabet", "qam:16",
+                        "--bits", "4", "--objective", "gmi"], True, "source"),
+    ("design-poisson", ["design", "--model", "poisson", "--alphabet", "upam:2",
+                        "--power-dbm", "-70", "--slot-time", "1e-9", "--wavelength-nm", "1550",
+                        "--efficiency", "0.8", "--dark-count-rate", "1e6", "--bits", "2"], True,
+     "source"),
+    ("design-gauss-sd", ["design", "--model", "gauss-sd", "--alphabet", "upam:4",
+                         "--power-dbm", "-12", "--extinction-db", "10", "--responsivity", "0.8",
+                         "--bandwidth", "20e9", "--thermal-density", "15", "--bits", "3"], True,
+     "source"),
+]
+
+# The demo studies. Each runs in seconds once its main axis is thinned by
+# --set (the full grids take minutes on two cores); the kept values include
+# the operating points the scenarios' [plots] and [density] name.
+STUDIES = [
+    ("designer", ["snr-db=-5 to 35 step 5"]),                      # 41 -> 9 values
+    ("researcher", ["signal=0.1, 0.316, 1, 3.16, 10, 20, 31.6, 100"]),  # 31 -> 8
+    ("planner", ["power-dbm=-36 to -12 step 6"]),                  # 27 -> 5 values
+]
+STUDY_FILES = ["results.csv", "results.json"]
+
+
+def environment():
+    env = dict(os.environ)
+    env["LC_ALL"] = "C"
+    env.pop("LANG", None)
+    return env
+
+
+def run(quantcap, args, cwd):
+    """stdout of one command; raises RuntimeError naming it on failure."""
+    cmd = [quantcap] + args
+    try:
+        p = subprocess.run(cmd, cwd=cwd, env=environment(), stdout=subprocess.PIPE,
+                           stderr=subprocess.PIPE, stdin=subprocess.DEVNULL,
+                           timeout=TIMEOUT_S)
+    except subprocess.TimeoutExpired:
+        raise RuntimeError(f"{' '.join(args)}: no answer after {TIMEOUT_S} s")
+    if p.returncode != 0:
+        err = p.stderr.decode("utf-8", "replace").strip()
+        raise RuntimeError(f"quantcap {' '.join(args)}: exit {p.returncode}: {err}")
+    return p.stdout
+
+
+def command_list():
+    """The runs as text lines; recorded beside the outputs, so that a
+    changed list is named as such rather than as a changed output."""
+    lines = []
+    for name, args, has_json, where in TOUR:
+        lines.append(f"{name}.txt: quantcap {' '.join(args)}  [in {where}]")
+        if has_json:
+            lines.append(f"{name}.json: quantcap {' '.join(args)} --json  [in {where}]")
+    for study, sets in STUDIES:
+        opts = " ".join(f"--set '{s}'" for s in sets)
+        lines.append(f"{study}/: quantcap sweep scenarios/{study}.ini --jobs {JOBS} "
+                     f"--no-plots {opts} --out DIR  -> {', '.join(STUDY_FILES)}")
+    return ("\n".join(lines) + "\n").encode()
+
+
+def produce(quantcap, scratch):
+    """Every output, as {relative file name: bytes}, in a fixed order."""
+    out = {"commands.txt": command_list()}
+    with open(os.path.join(scratch, "M.txt"), "w") as f:
+        f.write(M_TXT)
+    for name, args, has_json, where in TOUR:
+        cwd = SOURCE if where == "source" else scratch
+        print(f"golden: {name}", flush=True)
+        out[f"{name}.txt"] = run(quantcap, args, cwd)
+        if has_json:
+            out[f"{name}.json"] = run(quantcap, args + ["--json"], cwd)
+    for study, sets in STUDIES:
+        print(f"golden: sweep {study}", flush=True)
+        folder = os.path.join(scratch, "sweep-" + study)
+        args = ["sweep", f"scenarios/{study}.ini", "--jobs", JOBS, "--no-plots", "--quiet",
+                "--out", folder]
+        for s in sets:
+            args += ["--set", s]
+        run(quantcap, args, SOURCE)
+        for fname in STUDY_FILES:
+            with open(os.path.join(folder, fname), "rb") as f:
+                out[f"{study}/{fname}"] = f.read()
+    return out
+
+
+def record(outputs, expected):
+    if os.path.isdir(expected):
+        shutil.rmtree(expected)
+    for rel, data in outputs.items():
+        path = os.path.join(expected, rel)
+        os.makedirs(os.path.dirname(path), exist_ok=True)
+        with open(path, "wb") as f:
+            f.write(data)
+    print(f"golden: recorded {len(outputs)} files in {expected}")
+    return 0
+
+
+def show_diff(rel, want, got):
+    a = want.decode("utf-8", "replace").splitlines(keepends=True)
+    b = got.decode("utf-8", "replace").splitlines(keepends=True)
+    diff = list(difflib.unified_diff(a, b, "expected/" + rel, "now/" + rel))
+    if not diff:  # same text once decoded: the bytes differ (line ends, encoding)
+        diff = [f"{rel}: the bytes differ ({len(want)} recorded, {len(got)} now) "
+                "but not the decoded lines\n"]
+    for line in diff[:DIFF_LINES]:
+        sys.stdout.write(line if line.endswith("\n") else line + "\n")
+    if len(diff) > DIFF_LINES:
+        print(f"... ({len(diff) - DIFF_LINES} more diff lines)")
+
+
+def check(outputs, expected):
+    differing = []
+    for rel, got in outputs.items():
+        path = os.path.join(expected, rel)
+        if not os.path.exists(path):
+            differing.append((rel, None, got))
+            continue
+        with open(path, "rb") as f:
+            want = f.read()
+        if want != got:
+            differing.append((rel, want, got))
+    if not differing:
+        print(f"golden: {len(outputs)} files identical to {expected}")
+        return 0
+    rel, want, got = differing[0]
+    if want is None:
+        print(f"golden: {rel} was not recorded; record again (see tests/golden/README.md)")
+    else:
+        if rel == "commands.txt":
+            print("golden: the list of commands changed since the outputs were recorded;"
+                  " record again (see tests/golden/README.md)")
+        show_diff(rel, want, got)
+    if len(differing) > 1:
+        print("golden: also differing: " + ", ".join(d[0] for d in differing[1:]))
+    print(f"golden: {len(differing)} of {len(outputs)} files differ")
+    return 1
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("quantcap", help="the quantcap program to run")
+    ap.add_argument("--record", action="store_true", help="write the expected outputs")
+    ap.add_argument("--expected", default=EXPECTED, help="folder of the expected outputs")
+    a = ap.parse_args()
+    quantcap = os.path.abspath(a.quantcap)
+    expected = os.path.abspath(a.expected)
+    if not a.record and not os.path.isdir(expected):
+        print(f"golden: skipped: no recorded outputs in {expected} "
+              "(record them with --record: tests/golden/README.md)")
+        return SKIP
+    with tempfile.TemporaryDirectory(prefix="quantcap-golden-") as scratch:
+        try:
+            outputs = produce(quantcap, scratch)
+        except RuntimeError as e:
+            print(f"golden: {e}")
+            return 1
+    return record(outputs, expected) if a.record else check(outputs, expected)
+
+
+if __name__ == "__main__":
+    sys.exit(main())
