@@ -1000,6 +1000,11 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
                                  : ca->key);
                 else
                     snprintf(name, sizeof name, "quantized");
+                int drawn = 0;
+                for (size_t q = 0; q < np * ns && !drawn; q++)
+                    drawn = any_finite(rate + (q * ncurves + c) * nx, nx);
+                if (!drawn)
+                    append(name, sizeof name, " ", "(every point failed)");
                 legend_add(&lg, name, (int)c, 1);
                 if (ns > 1)
                     lg.line_sty[lg.n - 1] = 1;
@@ -1076,7 +1081,7 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
             if (count++ >= MAX_PLOTS_PER_KIND)
                 break;
             char ftext[1024] = "", ttext[640] = "";
-            if (xa && !point_panels) {
+            if (xa && !point_panels && xa->n > 1) { /* one value: named below */
                 char w[160];
                 axis_value_words(sc, (size_t)p->x_axis, p->bits_at[o], w, sizeof w);
                 append(ttext, sizeof ttext, ", ", w);
@@ -1243,7 +1248,14 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
             }
             legend lg = {0};
             for (size_t a = 0; a < na; a++) {
-                legend_add(&lg, sc->alphabets[a].label, (int)a, 1);
+                /* an alphabet whose every point here failed has no curve */
+                int drawn = 0;
+                for (size_t c = 0; c < np * ns && !drawn; c++)
+                    drawn = any_finite(rate + (c * na + a) * nb, nb);
+                char name[160];
+                snprintf(name, sizeof name, "%s%s", sc->alphabets[a].label,
+                         drawn ? "" : " (every point failed)");
+                legend_add(&lg, name, (int)a, 1);
                 if (ns > 1)
                     lg.line_sty[lg.n - 1] = 1;
             }

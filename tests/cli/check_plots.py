@@ -241,6 +241,9 @@ check("plot skipped rate-vs-snr-db_bad.svg: every point in it failed" in out,
       f"the left-out figure is named ({out!r})")
 check("plot skipped the density plot" in out and "failed" in out,
       "the left-out density plot is named")
+if "rate-vs-bits_snr-db-10.svg" in fnames:
+    t = svg_text(os.path.join(fdir, "rate-vs-bits_snr-db-10.svg"))
+    check("bad (every point failed)" in t, "a curve with no result says why in the legend")
 
 # --- a rerun removes its own stale files, nothing else --------------------
 mdir = os.path.join(tmp, "rerun")
