@@ -284,10 +284,12 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     else if (want_plots)
         st = qc_plot_sweep(sc, records, dir, &sum->files, &sum->nfiles, &sum->notes,
                            &sum->nnotes);
-    /* the manifest: a finished run prunes what it no longer writes; a run
-     * stopped while plotting keeps the old list beside what it wrote */
+    /* the manifest: a finished run that drew its plots prunes what it no
+     * longer writes; a run stopped while plotting, or one that draws no
+     * plots (--no-plots, no PLplot), keeps the old list beside its own */
     {
-        qc_status mst = qc_manifest_update(dir, sum->files, sum->nfiles, st == QC_OK,
+        int drew = want_plots && !sum->plots_skipped;
+        qc_status mst = qc_manifest_update(dir, sum->files, sum->nfiles, st == QC_OK && drew,
                                            &sum->removed, &sum->nremoved);
         if (st == QC_OK)
             st = mst;

@@ -271,5 +271,13 @@ listed = manifest(mdir) or []
 check(sorted(listed) == sorted(expected + ["results.csv", "results.json"]),
       f"manifest.txt lists the rerun's files ({listed})")
 
+# a sweep that draws no plots leaves the earlier figures alone
+rc, out, err = run("sweep", scen, "--out", mdir, *narrow, "--set", "quantizer=optimal",
+                   "--no-plots")
+check(rc == 0 and "removed" not in out, f"--no-plots removes nothing ({rc}: {out!r})")
+check(sorted(set(figures(mdir)) - {mine[0]}) == expected, "--no-plots keeps the figures")
+check(sorted(manifest(mdir) or []) == sorted(expected + ["results.csv", "results.json"]),
+      "--no-plots keeps the figures listed")
+
 print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
