@@ -1411,6 +1411,17 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
     pad_range(&x0, &x1, counts ? 0.0 : 0.02);
     if (!(peak > 0))
         peak = 1.0;
+    /* a density of very small or large numbers is drawn in units of 10^e
+     * per output unit, so that the tick numbers stay short */
+    int e = counts ? 0 : (int)floor(log10(peak));
+    if (e > -2 && e < 3)
+        e = 0;
+    for (size_t k = 0; e != 0 && k < nlev * ns; k++)
+        ys[k] *= pow(10.0, -e);
+    peak *= pow(10.0, -e);
+    char per[48] = "";
+    if (e != 0)
+        snprintf(per, sizeof per, "10#u%s%d#d ", e < 0 ? "\xe2\x88\x92" : "", abs(e));
 
     page pg;
     size_t alpha, vi[QC_SCENARIO_MAX_AXES];
@@ -1448,10 +1459,10 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
     if (counts)
         snprintf(ylabel, sizeof ylabel, "probability P(y | x)");
     else if (strcmp(unit, "electrons") == 0 || strcmp(unit, "A") == 0)
-        snprintf(ylabel, sizeof ylabel, "density p(y | x) (1/%s)",
+        snprintf(ylabel, sizeof ylabel, "density p(y | x) (%sper %s)", per,
                  strcmp(unit, "A") == 0 ? "A" : "electron");
     else
-        snprintf(ylabel, sizeof ylabel, "density p(y | x) (per unit of y)");
+        snprintf(ylabel, sizeof ylabel, "density p(y | x) (%sper unit of y)", per);
     labels(xlabel, ylabel, "");
 
     /* thresholds: grey dashed verticals (for counts, between t-1 and t) */

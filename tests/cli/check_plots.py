@@ -127,6 +127,9 @@ check(has("designer", "density_pam4_snr-db-15_bits-3.svg", "receiver output y (n
 check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
           "receiver output y (electrons)"), "planner density: output in electrons")
 check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
+          "density p(y | x) (10\u22124 per electron)"),
+      "planner density: density per electron, in units of 10^-4 (short tick numbers)")
+check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
           "received power \u221224 dBm"), "planner density: operating point in words")
 check(has("planner", "rate-vs-bits.svg", "received power \u221224 dBm"),
       "planner: panels titled by received power in words")
