@@ -1,12 +1,16 @@
 /* plot.c — the figures of a sweep, drawn with PLplot: rate against the
- * sweep's x axis (SNR, power, photons...) with one curve per ADC
- * resolution and the unquantized rate; rate against ADC bits at chosen
- * operating points, one curve per alphabet, with the penalty on a second
- * panel; and the conditional densities (or count pmfs) of each level of
- * one design with its thresholds drawn over them. White background, black
- * text, and curves told apart by colour, line style and marker so that
- * they stay distinct in print. Each file is drawn under a temporary name
- * and renamed when complete. */
+ * sweep's x axis (SNR, power, photons...) with one curve per quantizer
+ * resolution and the unquantized rate; rate against bits at chosen
+ * operating points, one curve per alphabet, with the penalty or loss on a
+ * second part; and the conditional densities (or count pmfs) of each
+ * level of one design with its thresholds drawn over them. The other
+ * dimensions of a figure kind are drawn as small multiples (one panel per
+ * value, on one scale), then line styles, then separate files, so that a
+ * study writes a handful of figures. Titles and axes say what is drawn in
+ * words and units. White background, black text, and curves told apart by
+ * colour, line style and markers centred on their points, so that they
+ * stay distinct in print. Each file is drawn under a temporary name and
+ * renamed when complete. */
 #include "sweep/sweep.h"
 
 #include "core/internal.h"
