@@ -936,6 +936,10 @@ typedef struct {
     int plots_skipped; /* plots asked for but PLplot is not built in       */
     size_t nfiles;
     char **files;      /* paths of the files written (owned)               */
+    size_t nnotes;
+    char **notes;      /* figures left out, and why (owned)                */
+    size_t nremoved;
+    char **removed;    /* stale files of an earlier run removed (owned)    */
 } qc_sweep_summary;
 
 /* Run every point of the grid (qc_scenario_check first: an input error in
@@ -943,7 +947,8 @@ typedef struct {
  * design` would with the point's settings, in parallel. Finished points
  * go to out_dir/checkpoint.jsonl as they complete; then results.csv,
  * results.json and the plots are written under temporary names and
- * renamed. A point whose design fails (infeasible, no convergence,
+ * renamed, and out_dir/manifest.txt lists them: files an earlier sweep
+ * listed there that this one does not write again are removed. A point whose design fails (infeasible, no convergence,
  * numerical) is recorded with its message; a design that rejects its
  * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
  * invalid) stops the sweep with that status, naming the point, and no

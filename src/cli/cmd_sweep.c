@@ -192,6 +192,10 @@ int cmd_sweep(int argc, char **argv)
            sum.resumed, sum.computed, sum.failed, seconds_between(&t0, &t1));
     for (size_t i = 0; i < sum.nfiles; i++)
         printf("wrote %s\n", sum.files[i]);
+    for (size_t i = 0; i < sum.nnotes; i++)
+        printf("plot %s\n", sum.notes[i]);
+    for (size_t i = 0; i < sum.nremoved; i++)
+        printf("removed %s (written by an earlier sweep, not by this one)\n", sum.removed[i]);
     if (sum.plots_skipped)
         printf("plots skipped: this build of quantcap has no PLplot\n");
     if (sum.failed) {

@@ -1,12 +1,16 @@
 /* plot.c — the figures of a sweep, drawn with PLplot: rate against the
- * sweep's x axis (SNR, power, photons...) with one curve per ADC
- * resolution and the unquantized rate; rate against ADC bits at chosen
- * operating points, one curve per alphabet, with the penalty on a second
- * panel; and the conditional densities (or count pmfs) of each level of
- * one design with its thresholds drawn over them. White background, black
- * text, and curves told apart by colour, line style and marker so that
- * they stay distinct in print. Each file is drawn under a temporary name
- * and renamed when complete. */
+ * sweep's x axis (SNR, power, photons...) with one curve per quantizer
+ * resolution and the unquantized rate; rate against bits at chosen
+ * operating points, one curve per alphabet, with the penalty or loss on a
+ * second part; and the conditional densities (or count pmfs) of each
+ * level of one design with its thresholds drawn over them. The other
+ * dimensions of a figure kind are drawn as small multiples (one panel per
+ * value, on one scale), then line styles, then separate files, so that a
+ * study writes a handful of figures. Titles and axes say what is drawn in
+ * words and units. White background, black text, and curves told apart by
+ * colour, line style and markers centred on their points, so that they
+ * stay distinct in print. Each file is drawn under a temporary name and
+ * renamed when complete. */
 #include "sweep/sweep.h"
 
 #include "core/internal.h"
@@ -17,13 +21,19 @@
 #include <stdlib.h>
 #include <string.h>
 
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
 #ifndef QC_HAVE_PLPLOT
 
 int qc_plots_available(void) { return 0; }
 
 qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const char *dir,
-                        char ***files, size_t *nfiles)
+                        char ***files, size_t *nfiles, char ***notes, size_t *nnotes)
 {
+    (void)notes;
+    (void)nnotes;
     (void)sc;
     (void)records;
     (void)dir;
@@ -54,7 +64,10 @@ static const int palette[NCOLOURS][3] = {
     {0, 114, 178}, {213, 94, 0},   {0, 158, 115}, {204, 121, 167},
     {230, 159, 0}, {86, 180, 233}, {136, 34, 85}, {110, 110, 110},
 };
-static const char *const markers[NCOLOURS] = {"○", "□", "△", "◇", "×", "+", "▽", "☆"};
+/* Legend glyphs of the markers drawn by draw_marker, in the same order. */
+static const char *const markers[NCOLOURS] = {"\xe2\x97\x8b", "\xe2\x96\xa1", "\xe2\x96\xb3",
+                                               "\xe2\x97\x87", "\xc3\x97",      "+",
+                                               "\xe2\x96\xbd", "*"}; /* ○ □ △ ◇ × + ▽ * */
 static const int line_styles[NCOLOURS] = {1, 2, 3, 4, 5, 6, 7, 8};
 
 /* PLplot ends the process on a fatal error unless its exit handler jumps
@@ -125,9 +138,12 @@ typedef struct {
 } page;
 
 static int page_width = 960, page_height = 640;
+/* PLplot scales its characters with the page: on the larger pages of
+ * several panels they are scaled back so that text keeps its size. */
+static double font_scale = 1.0;
 
-/* Start a page writing to a temporary file beside `path`. */
-static qc_status page_open(page *pg, const char *device)
+/* Start a page of w x h pixels writing to a temporary file beside `path`. */
+static qc_status page_open(page *pg, const char *device, int w, int h)
 {
     snprintf(pg->tmp, sizeof pg->tmp, "%s.tmp.XXXXXX", pg->path);
     int fd = mkstemp(pg->tmp);
@@ -140,7 +156,8 @@ static qc_status page_open(page *pg, const char *device)
     plsabort(on_plabort);
     plsdev(device);
     plsfnam(pg->tmp);
-    plspage(90.0, 90.0, page_width, page_height, 0, 0);
+    plspage(90.0, 90.0, w, h, 0, 0);
+    font_scale = (double)(page_width + page_height) / (double)(w + h);
     plscolbg(255, 255, 255); /* colour 0: white background */
     plscmap0n(COL_FIRST + NCOLOURS);
     plscol0(COL_BLACK, 0, 0, 0); /* colour 1: black text and axes */
@@ -169,14 +186,78 @@ static qc_status page_close(page *pg, char ***files, size_t *nfiles)
 /* Drawing helpers                                                    */
 /* ---------------------------------------------------------------- */
 
-static void set_style(int i)
+/* Colour i; line style `dash` when >= 0, else the style paired with i. */
+static void set_style(int i, int dash)
 {
     plcol0(COL_FIRST + i % NCOLOURS);
-    pllsty(line_styles[(i + i / NCOLOURS) % NCOLOURS]);
+    pllsty(dash >= 0 ? line_styles[dash % NCOLOURS] : line_styles[(i + i / NCOLOURS) % NCOLOURS]);
     plwidth(2.0);
 }
 
-static const char *marker(int i) { return markers[(i + 2 * (i / NCOLOURS)) % NCOLOURS]; }
+static int marker_index(int i) { return (i + 2 * (i / NCOLOURS)) % NCOLOURS; }
+static const char *marker(int i) { return markers[marker_index(i)]; }
+
+#define MARKER_MM 1.9 /* marker half-size on the page */
+#define MARK_BELOW 6  /* the downward triangle: a value below the axis */
+
+/* A marker drawn as lines centred exactly on (x, y), in world
+ * coordinates of the current viewport (font glyphs sit off their
+ * reference point by the font's baseline metrics). `filled`: solid. */
+static void draw_marker(double x, double y, int shape, int filled)
+{
+    PLFLT sx0, sx1, sy0, sy1, vx0, vx1, vy0, vy1, wx0, wx1, wy0, wy1;
+    plgspa(&sx0, &sx1, &sy0, &sy1);
+    plgvpd(&vx0, &vx1, &vy0, &vy1);
+    plgvpw(&wx0, &wx1, &wy0, &wy1);
+    double rx = MARKER_MM * (wx1 - wx0) / ((vx1 - vx0) * (sx1 - sx0));
+    double ry = MARKER_MM * (wy1 - wy0) / ((vy1 - vy0) * (sy1 - sy0));
+    static const double tri[4][2] = {{0, 1}, {-0.866, -0.5}, {0.866, -0.5}, {0, 1}};
+    static const double dia[5][2] = {{0, 1.1}, {0.8, 0}, {0, -1.1}, {-0.8, 0}, {0, 1.1}};
+    static const double sq[5][2] = {{-0.8, -0.8}, {0.8, -0.8}, {0.8, 0.8}, {-0.8, 0.8}, {-0.8, -0.8}};
+    PLFLT px[25], py[25];
+    int n = 0;
+    switch (shape % NCOLOURS) {
+    case 0: /* circle */
+        for (n = 0; n < 25; n++) {
+            px[n] = x + rx * cos(2.0 * M_PI * n / 24.0);
+            py[n] = y + ry * sin(2.0 * M_PI * n / 24.0);
+        }
+        break;
+    case 1:
+        for (n = 0; n < 5; n++) {
+            px[n] = x + rx * sq[n][0];
+            py[n] = y + ry * sq[n][1];
+        }
+        break;
+    case 2:
+    case 6: /* triangle up, triangle down */
+        for (n = 0; n < 4; n++) {
+            px[n] = x + rx * tri[n][0];
+            py[n] = y + (shape % NCOLOURS == 2 ? 1.0 : -1.0) * ry * tri[n][1];
+        }
+        break;
+    case 3:
+        for (n = 0; n < 5; n++) {
+            px[n] = x + rx * dia[n][0];
+            py[n] = y + ry * dia[n][1];
+        }
+        break;
+    default: { /* ×, + and *: strokes through the centre */
+        static const double ang[3][4] = {{45, 135, -1, -1}, {0, 90, -1, -1}, {90, 30, 150, -1}};
+        int set = shape % NCOLOURS == 4 ? 0 : shape % NCOLOURS == 5 ? 1 : 2;
+        for (int k = 0; k < 4 && ang[set][k] >= 0; k++) {
+            double t = ang[set][k] * M_PI / 180.0;
+            PLFLT lx[2] = {x - rx * cos(t), x + rx * cos(t)}, ly[2] = {y - ry * sin(t),
+                                                                      y + ry * sin(t)};
+            plline(2, lx, ly);
+        }
+        return;
+    }
+    }
+    if (filled)
+        plfill(n, px, py);
+    plline(n, px, py);
+}
 
 /* Axes with a light grid under black frame, ticks and numbers. */
 static void frame(double x0, double x1, double y0, double y1, const char *xopt_extra,
@@ -200,7 +281,7 @@ static void frame(double x0, double x1, double y0, double y1, const char *xopt_e
 /* Frame of a panel of the bits figure: x numbers only when `numbers`,
  * major x ticks every `xtick` (0: automatic). */
 static void frame_ticks(double x0, double x1, double y0, double y1, int numbers, double xtick,
-                        const char *yopt_extra)
+                        double ytick, const char *yopt_extra)
 {
     char yg[16], yb[32];
     snprintf(yg, sizeof yg, "g%s", yopt_extra);
@@ -212,14 +293,27 @@ static void frame_ticks(double x0, double x1, double y0, double y1, int numbers,
     plbox("g", xtick, 1, yg, 0.0, 0);
     plcol0(COL_BLACK);
     plwidth(1.0);
-    plbox(numbers ? "bcnst" : "bcst", xtick, 1, yb, 0.0, 0);
+    if (ytick > 1.0 && strchr(yopt_extra, 'l')) {
+        /* a log axis over many decades: numbers every `ytick` decades
+         * only, so that they do not run into each other */
+        plbox(numbers ? "bcnst" : "bcst", xtick, 1, "bcstl", 0.0, 0);
+        for (double d = ceil(y0); d <= y1 + 1e-9; d += ytick) {
+            char num[32];
+            snprintf(num, sizeof num, "10#u%d#d", (int)d);
+            plmtex("lv", 0.7, (d - y0) / (y1 - y0), 1.0, num);
+        }
+    } else {
+        plbox(numbers ? "bcnst" : "bcst", xtick, 1, yb, 0.0, 0);
+    }
 }
 
-/* A polyline broken at NaN values, with markers on every `every`-th
- * point (starting at `phase`). */
-static void curve(int n, const double *x, const double *y, int style, int every, int phase)
+/* A polyline broken at NaN values in colour `style` (line style `dash`
+ * when >= 0), with markers centred on every `every`-th point (starting at
+ * `phase`). */
+static void curve(int n, const double *x, const double *y, int style, int dash, int every,
+                  int phase)
 {
-    set_style(style);
+    set_style(style, dash);
     int start = -1;
     for (int i = 0; i <= n; i++) {
         int ok = i < n && isfinite(x[i]) && isfinite(y[i]);
@@ -235,7 +329,7 @@ static void curve(int n, const double *x, const double *y, int style, int every,
     plwidth(1.5);
     for (int i = phase % (every > 0 ? every : 1); every > 0 && i < n; i += every)
         if (isfinite(x[i]) && isfinite(y[i]))
-            plstring(1, &x[i], &y[i], marker(style));
+            draw_marker(x[i], y[i], marker_index(style), 0);
 }
 
 /* Axis labels and title placed clear of the tick numbers. */
@@ -245,7 +339,7 @@ static void labels(const char *xlabel, const char *ylabel, const char *title)
     if (xlabel && xlabel[0])
         plmtex("b", 3.0, 0.5, 0.5, xlabel);
     if (ylabel && ylabel[0])
-        plmtex("l", 5.4, 0.5, 0.5, ylabel);
+        plmtex("l", 5.8, 0.5, 0.5, ylabel);
     if (title && title[0]) {
         /* shrink a long title to fit the width of the page */
         PLFLT def, ht;
@@ -259,7 +353,7 @@ static void labels(const char *xlabel, const char *ylabel, const char *title)
 }
 
 /* Viewport of a one-panel figure, room on the right for the legend. */
-#define VP_LEFT 0.12
+#define VP_LEFT 0.15
 #define VP_RIGHT 0.78
 
 typedef struct {
@@ -289,7 +383,7 @@ static void legend_add(legend *lg, const char *text, int style, int with_marker)
     lg->sym[i] = marker(style);
 }
 
-static void legend_draw(legend *lg, PLINT position)
+static void legend_draw(legend *lg, PLINT position, double plot_width)
 {
     if (lg->n == 0)
         return;
@@ -297,8 +391,10 @@ static void legend_draw(legend *lg, PLINT position)
     pllsty(1);
     plwidth(1.0);
     int ncol = lg->n > 12 ? 2 : 1;
-    pllegend(&w, &h, PL_LEGEND_BACKGROUND | PL_LEGEND_BOUNDING_BOX, position, 0.015, 0.0, 0.06,
-             COL_WHITE, COL_BLACK, 1, (lg->n + ncol - 1) / ncol, ncol, lg->n, lg->opt, 0.8, 0.75,
+    for (int i = 0; i < lg->n; i++)
+        lg->sym_scale[i] = font_scale;
+    pllegend(&w, &h, PL_LEGEND_BACKGROUND | PL_LEGEND_BOUNDING_BOX, position, 0.015, 0.0, plot_width,
+             COL_WHITE, COL_BLACK, 1, (lg->n + ncol - 1) / ncol, ncol, lg->n, lg->opt, 0.8, 0.75 * font_scale,
              2.0, 0.0, lg->text_col, lg->text, NULL, NULL, NULL, NULL, lg->line_col, lg->line_sty,
              lg->line_w, lg->sym_col, lg->sym_scale, lg->sym_num, lg->sym);
 }
@@ -338,56 +434,70 @@ static int next_combo(const qc_scenario *sc, size_t *vi, const int *fixed)
     return 0;
 }
 
-/* Human label of a design key, with its unit (a parameter's unit is
- * taken from `model` first, then from any model that has the name). */
-static void key_label(const char *key, const char *model, char *buf, size_t cap)
+/* ---------------------------------------------------------------- */
+/* Words and units                                                    */
+/* ---------------------------------------------------------------- */
+
+/* The words and unit of a design key (a model parameter's unit is taken
+ * from `model` first, then from any model that has the name). */
+static void key_words(const char *key, const char *model, char *words, size_t wcap,
+                      const char **unit)
 {
-    static const char *const known[][2] = {
-        {"snr-db", "SNR (dB)"},
-        {"osnr-db", "OSNR (dB)"},
-        {"power-dbm", "received power (dBm)"},
-        {"photons", "mean photons per slot"},
-        {"bits", "ADC resolution (bits)"},
-        {"cells", "quantizer cells"},
+    static const char *const known[][3] = {
+        {"snr-db", "SNR", "dB"},
+        {"osnr-db", "OSNR", "dB"},
+        {"power-dbm", "received power", "dBm"},
+        {"peak-dbm", "peak received power", "dBm"},
+        {"extinction-db", "extinction ratio", "dB"},
+        {"apd-gain", "APD gain", ""},
+        {"gain", "APD gain", ""},
+        {"apd-k", "ionization ratio k", ""},
+        {"photons", "mean photons per slot", ""},
+        {"quantizer", "quantizer", ""},
+        {"objective", "objective", ""},
     };
+    *unit = "";
     for (size_t i = 0; i < sizeof known / sizeof known[0]; i++)
         if (strcmp(key, known[i][0]) == 0) {
-            snprintf(buf, cap, "%s", known[i][1]);
+            snprintf(words, wcap, "%s", known[i][1]);
+            *unit = known[i][2];
             return;
         }
+    snprintf(words, wcap, "%s", key);
+    for (char *c = words; *c; c++)
+        if (*c == '-')
+            *c = ' ';
     const qc_model_type *own = qc_model_type_find(model);
     int k = own ? qc_model_param_index(own, key) : -1;
     if (k >= 0) {
-        if (own->params[k].unit[0])
-            snprintf(buf, cap, "%s (%s)", key, own->params[k].unit);
-        else
-            snprintf(buf, cap, "%s", key);
+        *unit = own->params[k].unit;
         return;
     }
     const qc_model_type *const *types = qc_model_types();
     for (size_t t = 0; types[t]; t++) {
         k = qc_model_param_index(types[t], key);
         if (k >= 0 && types[t]->params[k].unit[0]) {
-            snprintf(buf, cap, "%s (%s)", key, types[t]->params[k].unit);
+            *unit = types[t]->params[k].unit;
             return;
         }
     }
     size_t n = strlen(key);
-    if (n > 4 && strcmp(key + n - 4, "-dbm") == 0)
-        snprintf(buf, cap, "%.*s (dBm)", (int)(n - 4), key);
-    else if (n > 3 && strcmp(key + n - 3, "-db") == 0)
-        snprintf(buf, cap, "%.*s (dB)", (int)(n - 3), key);
-    else
-        snprintf(buf, cap, "%s", key);
+    if (n > 4 && strcmp(key + n - 4, "-dbm") == 0) {
+        words[n - 4] = '\0';
+        *unit = "dBm";
+    } else if (n > 3 && strcmp(key + n - 3, "-db") == 0) {
+        words[n - 3] = '\0';
+        *unit = "dB";
+    }
 }
 
-/* "scenario title: head" when that fits on one line, else head. */
-static void with_scenario_title(const qc_scenario *sc, const char *head, char *out, size_t cap)
+/* A value as printed in words: a leading minus sign as U+2212. */
+static void value_text(const char *v, char *out, size_t cap)
 {
-    if (sc->title && (!head[0] || strlen(sc->title) + 2 + strlen(head) <= 64))
-        snprintf(out, cap, "%s%s%s", sc->title, head[0] ? ": " : "", head);
+    if (v[0] == '-')
+        snprintf(out, cap, "\xe2\x88\x92%s", v + 1);
     else
-        snprintf(out, cap, "%s", head);
+        snprintf(out, cap, "%s", v);
 }
 
 /* The model of the first alphabet (NULL when it is a sweep axis). */
@@ -396,20 +506,102 @@ static const char *scenario_model(const qc_scenario *sc)
     return qc_settings_get(sc->alphabets[0].settings, "model");
 }
 
-/* "_key-value" for each axis not fixed, for file names; and ", key = value"
- * for titles. */
-static void combo_text(const qc_scenario *sc, const size_t *vi, const int *fixed, char *file,
-                       size_t fcap, char *title, size_t tcap)
+static int model_counts(const char *model)
 {
-    file[0] = title[0] = '\0';
-    for (size_t k = 0; k < sc->naxes; k++) {
-        if (fixed[k])
-            continue;
-        size_t fl = strlen(file), tl = strlen(title);
-        snprintf(file + fl, fcap - fl, "_%s-%s", sc->axes[k].key, sc->axes[k].values[vi[k]]);
-        snprintf(title + tl, tcap - tl, "%s%s = %s", tl ? ", " : "", sc->axes[k].key,
-                 sc->axes[k].values[vi[k]]);
+    const qc_model_type *t = qc_model_type_find(model);
+    return t && t->output == QC_OUTPUT_COUNTS;
+}
+
+/* "received power −24 dBm", "3-bit quantizer", "optimal quantizer". */
+static void axis_value_words(const qc_scenario *sc, size_t k, size_t v, char *out, size_t cap)
+{
+    const sc_axis *a = &sc->axes[k];
+    char words[96], val[96];
+    const char *unit;
+    value_text(a->values[v], val, sizeof val);
+    if (strcmp(a->key, "bits") == 0) {
+        snprintf(out, cap, "%s-bit quantizer", val);
+        return;
     }
+    if (strcmp(a->key, "cells") == 0) {
+        snprintf(out, cap, "%s cells", val);
+        return;
+    }
+    if (!a->number) {
+        if (strcmp(a->key, "quantizer") == 0)
+            snprintf(out, cap, "%s quantizer", val);
+        else {
+            key_words(a->key, scenario_model(sc), words, sizeof words, &unit);
+            snprintf(out, cap, "%s %s", words, val);
+        }
+        return;
+    }
+    key_words(a->key, scenario_model(sc), words, sizeof words, &unit);
+    snprintf(out, cap, "%s %s%s%s", words, val, unit[0] ? " " : "", unit);
+}
+
+/* Axis label of a design key: "received power (dBm)". The bits and cells
+ * axes are named after what they count for the model: an ADC (uniform
+ * quantizer of a continuous output), a quantizer, or the cells of a
+ * photon counter's counts. */
+static void key_label(const qc_scenario *sc, const char *key, char *buf, size_t cap)
+{
+    const char *model = scenario_model(sc);
+    int counts = model_counts(model);
+    const char *q = qc_settings_get(sc->alphabets[0].settings, "quantizer");
+    int uniform = q && strcmp(q, "uniform") == 0;
+    for (size_t k = 0; k < sc->naxes; k++)
+        if (strcmp(sc->axes[k].key, "quantizer") == 0)
+            uniform = 0;
+    if (strcmp(key, "bits") == 0) {
+        snprintf(buf, cap, "%s", counts    ? "count quantizer (bits; 2^bits count cells)"
+                                 : uniform ? "ADC resolution (bits)"
+                                           : "quantizer resolution (bits)");
+        return;
+    }
+    if (strcmp(key, "cells") == 0) {
+        snprintf(buf, cap, "%s", counts ? "count cells (quantizer cells)" : "quantizer cells");
+        return;
+    }
+    char words[96];
+    const char *unit;
+    key_words(key, model, words, sizeof words, &unit);
+    snprintf(buf, cap, "%s%s%s%s", words, unit[0] ? " (" : "", unit, unit[0] ? ")" : "");
+}
+
+/* 1 when the point's alphabet is two-dimensional (QAM: rates per complex
+ * symbol, levels per quadrature). */
+static int record_qam(json_t *rec)
+{
+    json_t *d = json_object_get(json_object_get(rec, "result"), "dimensions");
+    return json_is_integer(d) && json_integer_value(d) == 2;
+}
+
+static int alphabet_qam(const qc_scenario *sc, size_t a)
+{
+    const char *s = qc_settings_get(sc->alphabets[a].settings, "alphabet");
+    return s && strncmp(s, "qam", 3) == 0;
+}
+
+/* Unit of the rates of alphabets `a0` … `a1 − 1`. */
+static const char *rate_unit(const qc_scenario *sc, size_t a0, size_t a1)
+{
+    size_t nq = 0;
+    for (size_t a = a0; a < a1; a++)
+        nq += (size_t)alphabet_qam(sc, a);
+    return nq == 0 ? "bit/use" : nq == a1 - a0 ? "bit/complex symbol"
+                                              : "bit/use; QAM: bit/complex symbol";
+}
+
+/* "_key-value" for file names: a negative value is written "minus…" so
+ * that no name holds a double hyphen. */
+static void file_part(char *file, size_t fcap, const char *key, const char *value)
+{
+    size_t fl = strlen(file);
+    if (value[0] == '-')
+        snprintf(file + fl, fcap - fl, "_%s-minus%s", key, value + 1);
+    else
+        snprintf(file + fl, fcap - fl, "_%s-%s", key, value);
 }
 
 static void safe_name(char *s)
@@ -418,6 +610,14 @@ static void safe_name(char *s)
         if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
               *s == '-' || *s == '_' || *s == '.' || *s == '+'))
             *s = '_';
+}
+
+static void append(char *buf, size_t cap, const char *sep, const char *text)
+{
+    if (!text[0])
+        return;
+    size_t l = strlen(buf);
+    snprintf(buf + l, cap - l, "%s%s", l ? sep : "", text);
 }
 
 static void range_of(const double *v, size_t n, double *lo, double *hi)
@@ -446,73 +646,282 @@ static void pad_range(double *lo, double *hi, double frac)
     *hi += frac * span;
 }
 
+static int any_finite(const double *v, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(v[i]))
+            return 1;
+    return 0;
+}
+
+static qc_status note(char ***notes, size_t *nnotes, const char *fmt, const char *a,
+                      const char *b)
+{
+    char text[4600];
+    snprintf(text, sizeof text, fmt, a, b);
+    return qc_file_list_add(notes, nnotes, text);
+}
+
+/* ---------------------------------------------------------------- */
+/* Layout: panels, line styles and files                              */
+/* ---------------------------------------------------------------- */
+
+#define MAX_PANELS 6 /* small multiples per figure                       */
+#define MAX_STYLES 4 /* combinations told apart by line style            */
+
+enum { PANEL_NONE = -1, PANEL_GROUP = -2 };
+
+/* How the dimensions of a figure kind beyond its x axis and its curves are
+ * spread: one of them over panels of one figure (an axis, or the kind's
+ * group: the alphabets of rate against x, the operating points of rate
+ * against bits), a few more over line styles, the rest over files. */
+typedef struct {
+    int panel;                            /* axis index, PANEL_GROUP or PANEL_NONE */
+    size_t npanels;
+    int style[QC_SCENARIO_MAX_AXES];      /* 1: told apart by line style */
+    size_t nstyles;                       /* combinations of the style axes */
+    int fixed[QC_SCENARIO_MAX_AXES];      /* 1: not iterated over files  */
+    size_t ncols, nrows;
+} layout;
+
+static void choose_layout(const qc_scenario *sc, const int *used, size_t ngroup,
+                          int group_first, layout *L)
+{
+    memset(L, 0, sizeof *L);
+    L->panel = PANEL_NONE;
+    L->npanels = 1;
+    L->nstyles = 1;
+    int taken[QC_SCENARIO_MAX_AXES] = {0};
+    if (group_first && ngroup > 1 && ngroup <= MAX_PANELS) {
+        L->panel = PANEL_GROUP;
+        L->npanels = ngroup;
+    } else {
+        size_t best = 1;
+        for (size_t k = 0; k < sc->naxes; k++)
+            if (!used[k] && sc->axes[k].n > best && sc->axes[k].n <= MAX_PANELS) {
+                best = sc->axes[k].n;
+                L->panel = (int)k;
+            }
+        if (L->panel >= 0) {
+            L->npanels = best;
+            taken[L->panel] = 1;
+        } else if (ngroup > 1 && ngroup <= MAX_PANELS) {
+            L->panel = PANEL_GROUP;
+            L->npanels = ngroup;
+        }
+    }
+    /* line styles: the remaining axes, largest first, while few enough */
+    for (;;) {
+        int pick = -1;
+        for (size_t k = 0; k < sc->naxes; k++)
+            if (!used[k] && !taken[k] && !L->style[k] && sc->axes[k].n > 1 &&
+                L->nstyles * sc->axes[k].n <= MAX_STYLES &&
+                (pick < 0 || sc->axes[k].n > sc->axes[pick].n))
+                pick = (int)k;
+        if (pick < 0)
+            break;
+        L->style[pick] = 1;
+        L->nstyles *= sc->axes[pick].n;
+    }
+    for (size_t k = 0; k < sc->naxes; k++)
+        L->fixed[k] = used[k] || (int)k == L->panel || L->style[k] || sc->axes[k].n == 1;
+    L->ncols = L->npanels <= 3 ? L->npanels : L->npanels == 4 ? 2 : 3;
+    L->nrows = (L->npanels + L->ncols - 1) / L->ncols;
+}
+
+/* Set the style axes of vi to combination s (last style axis fastest). */
+static void set_style_combo(const qc_scenario *sc, const layout *L, size_t s, size_t *vi)
+{
+    for (size_t k = sc->naxes; k-- > 0;)
+        if (L->style[k]) {
+            vi[k] = s % sc->axes[k].n;
+            s /= sc->axes[k].n;
+        }
+}
+
+static void style_words(const qc_scenario *sc, const layout *L, size_t s, char *out, size_t cap)
+{
+    size_t vi[QC_SCENARIO_MAX_AXES] = {0};
+    set_style_combo(sc, L, s, vi);
+    out[0] = '\0';
+    for (size_t k = 0; k < sc->naxes; k++)
+        if (L->style[k]) {
+            char w[160];
+            axis_value_words(sc, k, vi[k], w, sizeof w);
+            append(out, cap, ", ", w);
+        }
+}
+
+/* File name parts and title words of the axes iterated over files, and
+ * title words of the single-valued axes. */
+static void file_combo_text(const qc_scenario *sc, const layout *L, const size_t *vi, char *file,
+                            size_t fcap, char *title, size_t tcap)
+{
+    for (size_t k = 0; k < sc->naxes; k++) {
+        const sc_axis *a = &sc->axes[k];
+        if (L->fixed[k] && a->n != 1)
+            continue;
+        char w[160];
+        axis_value_words(sc, k, vi[k], w, sizeof w);
+        append(title, tcap, ", ", w);
+        if (a->n > 1)
+            file_part(file, fcap, a->key, a->values[vi[k]]);
+    }
+}
+
+/* Page geometry, in pixels, of a figure of L's panels. `split`: panels
+ * with a rate part above a loss part. */
+#define PX_LEFT 125.0
+#define PX_GAP 115.0
+#define PX_LEGEND 330.0
+#define PX_TOP 110.0
+#define PX_PANEL_TITLE 32.0
+#define PX_BOTTOM 78.0
+#define PX_ROW_GAP 95.0
+
+static void page_size(const layout *L, int split, int *w, int *h)
+{
+    *w = (int)(page_width * (1.0 + 0.62 * (double)(L->ncols - 1)));
+    *h = (int)(page_height * (split ? 1.3 : 1.0) * (1.0 + 0.8 * (double)(L->nrows - 1)));
+}
+
+/* Viewport (normalized page coordinates) of panel p: x0, x1, y0, y1. */
+static void panel_box(const layout *L, size_t p, int w, int h, double box[4])
+{
+    double cw = ((double)w - PX_LEFT - PX_LEGEND - PX_GAP * (double)(L->ncols - 1)) /
+                (double)L->ncols;
+    double ch = ((double)h - PX_TOP - PX_BOTTOM - PX_ROW_GAP * (double)(L->nrows - 1)) /
+                (double)L->nrows;
+    size_t col = p % L->ncols, row = p / L->ncols;
+    double x0 = PX_LEFT + (double)col * (cw + PX_GAP);
+    double ytop = PX_TOP + (double)row * (ch + PX_ROW_GAP) + (L->npanels > 1 ? PX_PANEL_TITLE : 0);
+    double yb = PX_TOP + (double)row * (ch + PX_ROW_GAP) + ch;
+    box[0] = x0 / w;
+    box[1] = (x0 + cw) / w;
+    box[2] = 1.0 - yb / h;
+    box[3] = 1.0 - ytop / h;
+}
+
+/* Two-line figure title at the top of the page: the scenario's title and
+ * what the figure shows. */
+/* Three-line figure title at the top of the page: the scenario's title,
+ * what the figure shows, and the values it is drawn at. */
+static void figure_title(const qc_scenario *sc, const char *subject, const char *details, int w,
+                         int h)
+{
+    plvpor(0.0, 1.0, 0.0, 1.0);
+    plwind(0.0, 1.0, 0.0, 1.0);
+    plcol0(COL_BLACK);
+    PLFLT def, ht;
+    plgchr(&def, &ht);
+    double fit = (double)w / 12.0; /* characters that fit the width (about) */
+    if (sc->title && sc->title[0]) {
+        plschr(0.0, 1.1 * ht / def);
+        plptex(0.5, 1.0 - 30.0 / h, 1.0, 0.0, 0.5, sc->title);
+    }
+    const char *line[2] = {subject, details};
+    for (int i = 0; i < 2; i++) {
+        size_t n = strlen(line[i]);
+        double scale = (double)n > fit ? fit / (double)n : 1.0;
+        plschr(0.0, 0.9 * scale * ht / def);
+        plptex(0.5, 1.0 - (56.0 + 22.0 * i) / h, 1.0, 0.0, 0.5, line[i]);
+    }
+    plschr(0.0, ht / def);
+}
+
+static void panel_title(const char *text)
+{
+    plcol0(COL_BLACK);
+    plmtex("t", 0.8, 0.5, 0.5, text);
+}
+
+/* The legend in the strip right of the panels. */
+static void legend_strip(legend *lg, int w, int h)
+{
+    plvpor(1.0 - (PX_LEGEND - 8.0) / w, 1.0, 0.1, 1.0 - (PX_TOP + PX_PANEL_TITLE) / h);
+    plwind(0.0, 1.0, 0.0, 1.0);
+    legend_draw(lg, PL_POSITION_TOP | PL_POSITION_LEFT | PL_POSITION_INSIDE, 0.13);
+}
+
+/* Decades between major ticks of a log axis spanning `decades`. */
+static double log_step(double decades) { return decades > 4.0 ? ceil(decades / 4.0) : 1.0; }
+
 /* ---------------------------------------------------------------- */
 /* Rate against x, one curve per bit count                            */
 /* ---------------------------------------------------------------- */
 
 static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, const char *dir,
-                                const char *device, char ***files, size_t *nfiles)
+                                const char *device, char ***files, size_t *nfiles,
+                                char ***notes, size_t *nnotes)
 {
     const sc_plots *p = &sc->plots;
     const sc_axis *xa = &sc->axes[p->x_axis];
     const sc_axis *ca = p->curve_axis >= 0 ? &sc->axes[p->curve_axis] : NULL;
     size_t ncurves = ca ? ca->n : 1, nx = xa->n;
-    double *x = malloc(nx * sizeof *x), *y = malloc(nx * sizeof *y), *u = malloc(nx * sizeof *u);
-    double *all = malloc((ncurves + 1) * nx * sizeof *all);
-    if (!x || !y || !u || !all) {
+    int used[QC_SCENARIO_MAX_AXES] = {0};
+    used[p->x_axis] = 1;
+    if (ca)
+        used[p->curve_axis] = 1;
+    layout L;
+    choose_layout(sc, used, sc->nalphabets, 0, &L);
+    int alpha_panels = L.panel == PANEL_GROUP;
+    size_t np = L.npanels, ns = L.nstyles;
+    /* rate[((p * ns + s) * ncurves + c) * nx + j]; unq[(p * ns + s) * nx + j] */
+    double *x = malloc(nx * sizeof *x), *rate = malloc(np * ns * ncurves * nx * sizeof *rate),
+           *unq = malloc(np * ns * nx * sizeof *unq);
+    if (!x || !rate || !unq) {
         free(x);
-        free(y);
-        free(u);
-        free(all);
+        free(rate);
+        free(unq);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    int fixed[QC_SCENARIO_MAX_AXES] = {0};
-    fixed[p->x_axis] = 1;
-    if (ca)
-        fixed[p->curve_axis] = 1;
-    char xlabel[128], clabel[128];
-    key_label(xa->key, scenario_model(sc), xlabel, sizeof xlabel);
+    char xlabel[160];
+    key_label(sc, xa->key, xlabel, sizeof xlabel);
     qc_status st = QC_OK;
     size_t count = 0;
-    for (size_t a = 0; a < sc->nalphabets && st == QC_OK; a++) {
+    size_t ngroups = alpha_panels ? 1 : sc->nalphabets;
+    for (size_t g = 0; g < ngroups && st == QC_OK; g++) {
         size_t vi[QC_SCENARIO_MAX_AXES] = {0};
         do {
             if (count++ >= MAX_PLOTS_PER_KIND)
                 break;
-            char ftext[1024], ttext[512];
-            combo_text(sc, vi, fixed, ftext, sizeof ftext, ttext, sizeof ttext);
+            char ftext[1024] = "", ttext[640] = "";
+            file_combo_text(sc, &L, vi, ftext, sizeof ftext, ttext, sizeof ttext);
             page pg;
-            snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s_%s%s.%s", dir, xa->key,
-                     sc->alphabets[a].name, ftext, extension(p->format));
+            snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s%s%s%s.%s", dir, xa->key,
+                     alpha_panels ? "" : "_", alpha_panels ? "" : sc->alphabets[g].name, ftext,
+                     extension(p->format));
             safe_name(strrchr(pg.path, '/') + 1);
-            /* gather: curves then the unquantized rate */
-            for (size_t c = 0; c < ncurves; c++)
-                for (size_t j = 0; j < nx; j++) {
-                    vi[p->x_axis] = j;
-                    if (ca)
-                        vi[p->curve_axis] = c;
-                    json_t *rec = records[compose(sc, a, vi)];
-                    all[c * nx + j] = field(rec, "rate_bits");
-                    if (c == 0)
-                        u[j] = field(rec, "unquantized_bits");
+            for (size_t pi = 0; pi < np; pi++)
+                for (size_t s = 0; s < ns; s++) {
+                    size_t a = alpha_panels ? pi : g;
+                    if (L.panel >= 0)
+                        vi[L.panel] = pi;
+                    set_style_combo(sc, &L, s, vi);
+                    for (size_t j = 0; j < nx; j++) {
+                        vi[p->x_axis] = j;
+                        double *u = &unq[(pi * ns + s) * nx + j];
+                        *u = NAN;
+                        for (size_t c = 0; c < ncurves; c++) {
+                            if (ca)
+                                vi[p->curve_axis] = c;
+                            json_t *rec = records[compose(sc, a, vi)];
+                            rate[((pi * ns + s) * ncurves + c) * nx + j] = field(rec, "rate_bits");
+                            /* the unquantized rate does not depend on the
+                             * quantizer: take it from any curve that has it */
+                            if (!isfinite(*u))
+                                *u = field(rec, "unquantized_bits");
+                        }
+                    }
                 }
-            for (size_t j = 0; j < nx; j++) {
-                x[j] = xa->number[j];
-                all[ncurves * nx + j] = u[j];
-                /* the unquantized rate does not depend on the quantizer: take
-                 * it from any curve that has it */
-                for (size_t c = 0; !isfinite(u[j]) && c < ncurves; c++) {
-                    vi[p->x_axis] = j;
-                    if (ca)
-                        vi[p->curve_axis] = c;
-                    u[j] = field(records[compose(sc, a, vi)], "unquantized_bits");
-                    all[ncurves * nx + j] = u[j];
-                }
+            if (!any_finite(rate, np * ns * ncurves * nx)) {
+                st = note(notes, nnotes, "skipped %s: every point in it failed (see %s)",
+                          strrchr(pg.path, '/') + 1, "results.csv");
+                continue;
             }
-            vi[p->x_axis] = 0;
-            if (ca)
-                vi[p->curve_axis] = 0;
-            double x0, x1, y0 = 0.0, y1, dummy;
+            double x0, x1, y1, dummy;
+            for (size_t j = 0; j < nx; j++)
+                x[j] = xa->number[j];
             range_of(x, nx, &x0, &x1);
             /* positive values over two decades or more: logarithmic x */
             int logx = x0 > 0 && x1 / x0 >= 100.0;
@@ -523,62 +932,106 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
                 x1 = log10(x1);
             }
             pad_range(&x0, &x1, nx > 1 ? 0.0 : 0.5);
-            range_of(all, (ncurves + 1) * nx, &dummy, &y1);
+            range_of(rate, np * ns * ncurves * nx, &dummy, &y1);
+            double u1;
+            range_of(unq, np * ns * nx, &dummy, &u1);
+            if (isfinite(u1) && u1 > y1)
+                y1 = u1;
             if (!isfinite(y1) || y1 <= 0)
                 y1 = 1.0;
             y1 *= 1.08;
 
-            if ((st = page_open(&pg, device)) != QC_OK)
+            int w, h;
+            page_size(&L, 0, &w, &h);
+            if ((st = page_open(&pg, device, w, h)) != QC_OK)
                 break;
             pladv(0);
-            plschr(0.0, 1.0);
-            plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
-            frame(x0, x1, y0, y1, logx ? "l" : "", "");
-            char title[800], head[640];
-            snprintf(head, sizeof head, "%s%s%s", sc->alphabets[a].label, ttext[0] ? ", " : "",
-                     ttext);
-            with_scenario_title(sc, head, title, sizeof title);
-            labels(xlabel, "information rate (bit/use)", title);
-            legend lg = {0};
+            plschr(0.0, font_scale);
+            char subject[1200] = "";
+            if (!alpha_panels)
+                append(subject, sizeof subject, ": ", sc->alphabets[g].label);
+            char what[300];
+            snprintf(what, sizeof what, "information rate against %s", xlabel);
+            if (!alpha_panels) {
+                append(subject, sizeof subject, ": ", what);
+            } else {
+                snprintf(subject, sizeof subject, "%s", what);
+            }
+            figure_title(sc, subject, ttext, w, h);
+            const char *unit = alpha_panels ? rate_unit(sc, 0, sc->nalphabets)
+                                            : rate_unit(sc, g, g + 1);
+            char ylabel[160];
+            snprintf(ylabel, sizeof ylabel, "information rate (%s)", unit);
             int every = nx > 10 ? (int)(nx / 8) : 1;
-            for (size_t c = 0; c < ncurves; c++) {
-                for (size_t j = 0; j < nx; j++)
-                    y[j] = all[c * nx + j];
-                curve((int)nx, x, y, (int)c, every, (int)c);
-                char name[96];
-                if (ca) {
-                    key_label(ca->key, scenario_model(sc), clabel, sizeof clabel);
-                    snprintf(name, sizeof name, "%s %s", ca->values[c],
-                             strcmp(ca->key, "bits") == 0 ? (strcmp(ca->values[c], "1") ? "bits"
-                                                                                         : "bit")
-                                                          : ca->key);
-                } else {
-                    snprintf(name, sizeof name, "quantized");
+            for (size_t pi = 0; pi < np; pi++) {
+                double box[4];
+                panel_box(&L, pi, w, h, box);
+                plvpor(box[0], box[1], box[2], box[3]);
+                frame(x0, x1, 0.0, y1, logx ? "l" : "", "");
+                labels(pi / L.ncols == L.nrows - 1 || pi + L.ncols >= np ? xlabel : "",
+                       pi % L.ncols == 0 ? ylabel : "", "");
+                if (np > 1) {
+                    char pt[200];
+                    if (alpha_panels) {
+                        snprintf(pt, sizeof pt, "%s%s", sc->alphabets[pi].label,
+                                 alphabet_qam(sc, pi) ? " (per complex symbol)" : "");
+                    } else
+                        axis_value_words(sc, (size_t)L.panel, pi, pt, sizeof pt);
+                    panel_title(pt);
                 }
+                for (size_t s = 0; s < ns; s++) {
+                    for (size_t c = 0; c < ncurves; c++)
+                        curve((int)nx, x, rate + ((pi * ns + s) * ncurves + c) * nx, (int)c,
+                              ns > 1 ? (int)s : -1, every, (int)c);
+                    /* unquantized: thick black line (in the style's dashes) */
+                    const double *u = unq + (pi * ns + s) * nx;
+                    plcol0(COL_BLACK);
+                    pllsty(ns > 1 ? line_styles[s % NCOLOURS] : 1);
+                    plwidth(3.0);
+                    for (size_t j = 0; j + 1 < nx; j++)
+                        if (isfinite(u[j]) && isfinite(u[j + 1]))
+                            plline(2, &x[j], &u[j]);
+                    pllsty(1);
+                }
+            }
+            legend lg = {0};
+            for (size_t c = 0; c < ncurves; c++) {
+                char name[96];
+                if (ca)
+                    snprintf(name, sizeof name, "%s %s", ca->values[c],
+                             strcmp(ca->key, "bits") == 0
+                                 ? (strcmp(ca->values[c], "1") ? "bits" : "bit")
+                                 : ca->key);
+                else
+                    snprintf(name, sizeof name, "quantized");
+                int drawn = 0;
+                for (size_t q = 0; q < np * ns && !drawn; q++)
+                    drawn = any_finite(rate + (q * ncurves + c) * nx, nx);
+                if (!drawn)
+                    append(name, sizeof name, " ", "(every point failed)");
                 legend_add(&lg, name, (int)c, 1);
+                if (ns > 1)
+                    lg.line_sty[lg.n - 1] = 1;
             }
-            /* unquantized: thick black solid line */
-            plcol0(COL_BLACK);
-            pllsty(1);
-            plwidth(3.0);
-            for (size_t j = 0; j + 1 < nx; j++)
-                if (isfinite(u[j]) && isfinite(u[j + 1]))
-                    plline(2, &x[j], &u[j]);
-            if (lg.n < 40) {
-                int i = lg.n;
-                legend_add(&lg, "unquantized", 0, 0);
-                lg.line_col[i] = COL_BLACK;
-                lg.line_sty[i] = 1;
-                lg.line_w[i] = 3.0;
+            legend_add(&lg, "unquantized", 0, 0);
+            lg.line_col[lg.n - 1] = COL_BLACK;
+            lg.line_sty[lg.n - 1] = 1;
+            lg.line_w[lg.n - 1] = 3.0;
+            for (size_t s = 0; ns > 1 && s < ns; s++) {
+                char name[160];
+                style_words(sc, &L, s, name, sizeof name);
+                legend_add(&lg, name, 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = line_styles[s % NCOLOURS];
+                lg.line_w[lg.n - 1] = 2.0;
             }
-            legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE);
+            legend_strip(&lg, w, h);
             st = page_close(&pg, files, nfiles);
-        } while (st == QC_OK && next_combo(sc, vi, fixed));
+        } while (st == QC_OK && next_combo(sc, vi, L.fixed));
     }
     free(x);
-    free(y);
-    free(u);
-    free(all);
+    free(rate);
+    free(unq);
     return st;
 }
 
@@ -586,78 +1039,105 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
 /* Rate against bits at operating points, one curve per alphabet      */
 /* ---------------------------------------------------------------- */
 
+/* Lower panel on a log scale: values below the floor (0 among them) are
+ * left out of the lines and marked on the floor instead. */
+#define LOSS_DECADES 6.0
+
 static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records,
                                    const char *dir, const char *device, char ***files,
-                                   size_t *nfiles)
+                                   size_t *nfiles, char ***notes, size_t *nnotes)
 {
     const sc_plots *p = &sc->plots;
     const sc_axis *ba = &sc->axes[p->curve_axis];
     const sc_axis *xa = p->x_axis >= 0 ? &sc->axes[p->x_axis] : NULL;
     size_t nb = ba->n, na = sc->nalphabets;
-    double *bx = malloc(nb * sizeof *bx), *rate = malloc(na * nb * sizeof *rate),
-           *low = malloc(na * nb * sizeof *low), *unq = malloc(na * sizeof *unq);
-    if (!bx || !rate || !low || !unq) {
+    size_t nat = xa ? p->nbits_at : 1;
+    int used[QC_SCENARIO_MAX_AXES] = {0};
+    used[p->curve_axis] = 1;
+    if (xa)
+        used[p->x_axis] = 1;
+    layout L;
+    choose_layout(sc, used, nat, 1, &L);
+    int point_panels = L.panel == PANEL_GROUP;
+    size_t np = L.npanels, ns = L.nstyles;
+    size_t ncell = np * ns * na * nb; /* [((p * ns + s) * na + a) * nb + b] */
+    double *bx = malloc(nb * sizeof *bx), *rate = malloc(ncell * sizeof *rate),
+           *low = malloc(ncell * sizeof *low), *unq = malloc(np * ns * na * sizeof *unq);
+    unsigned char *below = malloc(ncell);
+    if (!bx || !rate || !low || !unq || !below) {
         free(bx);
         free(rate);
         free(low);
         free(unq);
+        free(below);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
     for (size_t b = 0; b < nb; b++)
         bx[b] = ba->number ? ba->number[b] : (double)b;
-    int fixed[QC_SCENARIO_MAX_AXES] = {0};
-    fixed[p->curve_axis] = 1;
-    if (xa)
-        fixed[p->x_axis] = 1;
-    size_t nat = xa ? p->nbits_at : 1;
     qc_status st = QC_OK;
     size_t count = 0;
-    char blabel[128];
-    key_label(ba->key, scenario_model(sc), blabel, sizeof blabel);
-    for (size_t o = 0; o < nat && st == QC_OK; o++) {
+    char blabel[160];
+    key_label(sc, ba->key, blabel, sizeof blabel);
+    size_t ngroups = point_panels ? 1 : nat;
+    for (size_t o = 0; o < ngroups && st == QC_OK; o++) {
         size_t vi[QC_SCENARIO_MAX_AXES] = {0};
         do {
             if (count++ >= MAX_PLOTS_PER_KIND)
                 break;
-            if (xa)
-                vi[p->x_axis] = p->bits_at[o];
-            char ftext[1024], ttext[512];
-            combo_text(sc, vi, fixed, ftext, sizeof ftext, ttext, sizeof ttext);
+            char ftext[1024] = "", ttext[640] = "";
+            if (xa && !point_panels && xa->n > 1) { /* one value: named below */
+                char w[160];
+                axis_value_words(sc, (size_t)p->x_axis, p->bits_at[o], w, sizeof w);
+                append(ttext, sizeof ttext, ", ", w);
+                file_part(ftext, sizeof ftext, xa->key, xa->values[p->bits_at[o]]);
+            }
+            file_combo_text(sc, &L, vi, ftext, sizeof ftext, ttext, sizeof ttext);
             page pg;
-            if (xa)
-                snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s_%s-%s%s.%s", dir, ba->key,
-                         xa->key, xa->values[p->bits_at[o]], ftext, extension(p->format));
-            else
-                snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
-                         extension(p->format));
+            snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
+                     extension(p->format));
             safe_name(strrchr(pg.path, '/') + 1);
             /* the lower panel shows the SNR penalty when the model defines
              * one at these points, else the loss in bits */
             int penalty_db = 0;
-            for (size_t a = 0; a < na; a++)
-                for (size_t b = 0; b < nb; b++) {
-                    vi[p->curve_axis] = b;
-                    penalty_db |= isfinite(field(records[compose(sc, a, vi)], "snr_penalty_db"));
-                }
-            const char *lower_field = penalty_db ? "snr_penalty_db" : "loss_bits";
-            for (size_t a = 0; a < na; a++) {
-                unq[a] = NAN;
-                for (size_t b = 0; b < nb; b++) {
-                    vi[p->curve_axis] = b;
-                    json_t *rec = records[compose(sc, a, vi)];
-                    rate[a * nb + b] = field(rec, "rate_bits");
-                    low[a * nb + b] = field(rec, lower_field);
-                    if (!isfinite(unq[a]))
-                        unq[a] = field(rec, "unquantized_bits");
-                }
-            }
+            for (int pass = 0; pass < 2; pass++)
+                for (size_t pi = 0; pi < np; pi++)
+                    for (size_t s = 0; s < ns; s++) {
+                        if (xa)
+                            vi[p->x_axis] = p->bits_at[point_panels ? pi : o];
+                        if (L.panel >= 0)
+                            vi[L.panel] = pi;
+                        set_style_combo(sc, &L, s, vi);
+                        for (size_t a = 0; a < na; a++) {
+                            size_t cell = (pi * ns + s) * na + a;
+                            if (pass == 1)
+                                unq[cell] = NAN;
+                            for (size_t b = 0; b < nb; b++) {
+                                vi[p->curve_axis] = b;
+                                json_t *rec = records[compose(sc, a, vi)];
+                                if (pass == 0) {
+                                    penalty_db |= isfinite(field(rec, "snr_penalty_db"));
+                                    continue;
+                                }
+                                rate[cell * nb + b] = field(rec, "rate_bits");
+                                low[cell * nb + b] =
+                                    field(rec, penalty_db ? "snr_penalty_db" : "loss_bits");
+                                if (!isfinite(unq[cell]))
+                                    unq[cell] = field(rec, "unquantized_bits");
+                            }
+                        }
+                    }
             vi[p->curve_axis] = 0;
+            if (!any_finite(rate, ncell)) {
+                st = note(notes, nnotes, "skipped %s: every point in it failed (see %s)",
+                          strrchr(pg.path, '/') + 1, "results.csv");
+                continue;
+            }
             double x0, x1, y1, dummy;
             range_of(bx, nb, &x0, &x1);
             pad_range(&x0, &x1, 0.03);
-            range_of(rate, na * nb, &dummy, &y1);
+            range_of(rate, ncell, &dummy, &y1);
             double u1;
-            range_of(unq, na, &dummy, &u1);
+            range_of(unq, np * ns * na, &dummy, &u1);
             if (isfinite(u1) && (!isfinite(y1) || u1 > y1))
                 y1 = u1;
             if (!isfinite(y1) || y1 <= 0)
@@ -666,9 +1146,11 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
             /* lower panel: penalty in dB (linear) or loss in bits (log) */
             int logscale = !penalty_db;
             double l0, l1;
+            int any_below = 0;
+            memset(below, 0, ncell);
             if (logscale) {
                 double floor_v = INFINITY, top = -INFINITY;
-                for (size_t i = 0; i < na * nb; i++)
+                for (size_t i = 0; i < ncell; i++)
                     if (isfinite(low[i]) && low[i] > 0) {
                         floor_v = fmin(floor_v, low[i]);
                         top = fmax(top, low[i]);
@@ -677,16 +1159,24 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                     floor_v = 1e-6;
                     top = 1.0;
                 }
-                /* at most 6 decades; smaller losses are drawn on the floor */
-                floor_v = fmax(floor_v, 1e-6 * top);
-                for (size_t i = 0; i < na * nb; i++)
-                    low[i] = isfinite(low[i]) ? log10(fmax(low[i], floor_v)) : NAN;
+                /* at most LOSS_DECADES decades; smaller losses (and 0) are
+                 * marked on the floor as below the axis range */
+                floor_v = fmax(floor_v, pow(10.0, -LOSS_DECADES) * top);
                 l0 = floor(log10(floor_v));
                 l1 = ceil(log10(top) + 0.05);
                 if (l1 <= l0)
                     l1 = l0 + 1;
+                for (size_t i = 0; i < ncell; i++) {
+                    if (isfinite(low[i]) && low[i] < pow(10.0, l0)) {
+                        below[i] = 1;
+                        any_below = 1;
+                        low[i] = NAN;
+                    } else {
+                        low[i] = isfinite(low[i]) ? log10(low[i]) : NAN;
+                    }
+                }
             } else {
-                range_of(low, na * nb, &l0, &l1);
+                range_of(low, ncell, &l0, &l1);
                 if (!isfinite(l0)) {
                     l0 = 0;
                     l1 = 1;
@@ -695,56 +1185,115 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                 pad_range(&l0, &l1, 0.05);
             }
 
-            if ((st = page_open(&pg, device)) != QC_OK)
+            int w, h;
+            page_size(&L, 1, &w, &h);
+            if ((st = page_open(&pg, device, w, h)) != QC_OK)
                 break;
             pladv(0);
-            plschr(0.0, 0.95);
-            char title[800], head[640] = "";
-            if (xa)
-                snprintf(head, sizeof head, "%s = %s%s%s", xa->key, xa->values[p->bits_at[o]],
-                         ttext[0] ? ", " : "", ttext);
+            plschr(0.0, 0.95 * font_scale);
+            char subject[1400];
+            snprintf(subject, sizeof subject, "information rate against %s", blabel);
+            figure_title(sc, subject, ttext, w, h);
+            char ylabel[160];
+            snprintf(ylabel, sizeof ylabel, "rate (%s)", rate_unit(sc, 0, na));
+            char lylabel[160];
+            if (penalty_db)
+                snprintf(lylabel, sizeof lylabel, "SNR penalty (dB)");
             else
-                snprintf(head, sizeof head, "%s", ttext);
-            with_scenario_title(sc, head, title, sizeof title);
-            /* upper panel: rate */
+                snprintf(lylabel, sizeof lylabel, "rate loss (%s)", rate_unit(sc, 0, na));
             const char *ticks = (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
-            plvpor(VP_LEFT, VP_RIGHT, 0.47, 0.91);
-            frame_ticks(x0, x1, 0.0, y1, 0, ticks[0] ? 1.0 : 0.0, "");
-            labels("", "rate (bit/use)", title);
+            for (size_t pi = 0; pi < np; pi++) {
+                double box[4];
+                panel_box(&L, pi, w, h, box);
+                double split = box[2] + 0.42 * (box[3] - box[2]);
+                double gap = 32.0 / h;
+                /* upper part: rate */
+                plvpor(box[0], box[1], split + gap, box[3]);
+                frame_ticks(x0, x1, 0.0, y1, 0, ticks[0] ? 1.0 : 0.0, 0.0, "");
+                labels("", pi % L.ncols == 0 ? ylabel : "", "");
+                if (np > 1) {
+                    char pt[200];
+                    if (point_panels)
+                        axis_value_words(sc, (size_t)p->x_axis, p->bits_at[pi], pt, sizeof pt);
+                    else
+                        axis_value_words(sc, (size_t)L.panel, pi, pt, sizeof pt);
+                    panel_title(pt);
+                }
+                for (size_t s = 0; s < ns; s++)
+                    for (size_t a = 0; a < na; a++) {
+                        size_t cell = (pi * ns + s) * na + a;
+                        curve((int)nb, bx, rate + cell * nb, (int)a, ns > 1 ? (int)s : -1, 1, 0);
+                        /* the unquantized rate: thin dotted line in its colour */
+                        if (isfinite(unq[cell])) {
+                            double hx[2] = {x0, x1}, hy[2] = {unq[cell], unq[cell]};
+                            plcol0(COL_FIRST + (int)a % NCOLOURS);
+                            pllsty(3);
+                            plwidth(1.0);
+                            plline(2, hx, hy);
+                            pllsty(1);
+                        }
+                    }
+                /* lower part */
+                plvpor(box[0], box[1], box[2], split);
+                frame_ticks(x0, x1, l0, l1, 1, ticks[0] ? 1.0 : 0.0,
+                            logscale ? log_step(l1 - l0) : 0.0, logscale ? "l" : "");
+                labels(pi / L.ncols == L.nrows - 1 || pi + L.ncols >= np ? blabel : "",
+                       pi % L.ncols == 0 ? lylabel : "", "");
+                for (size_t s = 0; s < ns; s++)
+                    for (size_t a = 0; a < na; a++) {
+                        size_t cell = (pi * ns + s) * na + a;
+                        curve((int)nb, bx, low + cell * nb, (int)a, ns > 1 ? (int)s : -1, 1, 0);
+                        plcol0(COL_FIRST + (int)a % NCOLOURS);
+                        plwidth(1.5);
+                        for (size_t b = 0; b < nb; b++)
+                            if (below[cell * nb + b])
+                                draw_marker(bx[b], l0 + 0.06 * (l1 - l0), MARK_BELOW, 1);
+                    }
+            }
             legend lg = {0};
             for (size_t a = 0; a < na; a++) {
-                curve((int)nb, bx, rate + a * nb, (int)a, 1, 0);
-                /* the unquantized rate of the alphabet: thin line in its colour */
-                if (isfinite(unq[a])) {
-                    double hx[2] = {x0, x1}, hy[2] = {unq[a], unq[a]};
-                    plcol0(COL_FIRST + (int)a % NCOLOURS);
-                    pllsty(2);
-                    plwidth(1.0);
-                    plline(2, hx, hy);
-                    pllsty(1);
-                }
-                char name[96];
-                snprintf(name, sizeof name, "%s", sc->alphabets[a].label);
+                /* an alphabet whose every point here failed has no curve */
+                int drawn = 0;
+                for (size_t c = 0; c < np * ns && !drawn; c++)
+                    drawn = any_finite(rate + (c * na + a) * nb, nb);
+                char name[160];
+                snprintf(name, sizeof name, "%s%s", sc->alphabets[a].label,
+                         drawn ? "" : " (every point failed)");
                 legend_add(&lg, name, (int)a, 1);
+                if (ns > 1)
+                    lg.line_sty[lg.n - 1] = 1;
             }
             legend_add(&lg, "unquantized", 0, 0);
             lg.line_col[lg.n - 1] = COL_BLACK;
-            lg.line_sty[lg.n - 1] = 2;
+            lg.line_sty[lg.n - 1] = 3;
             lg.line_w[lg.n - 1] = 1.0;
-            legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE);
-            /* lower panel */
-            plvpor(VP_LEFT, VP_RIGHT, 0.11, 0.40);
-            frame_ticks(x0, x1, l0, l1, 1, ticks[0] ? 1.0 : 0.0, logscale ? "l" : "");
-            labels(blabel, penalty_db ? "SNR penalty (dB)" : "loss (bit/use)", "");
-            for (size_t a = 0; a < na; a++)
-                curve((int)nb, bx, low + a * nb, (int)a, 1, 0);
+            for (size_t s = 0; ns > 1 && s < ns; s++) {
+                char name[160];
+                style_words(sc, &L, s, name, sizeof name);
+                legend_add(&lg, name, 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = line_styles[s % NCOLOURS];
+            }
+            if (any_below) {
+                char name[96];
+                {
+                    snprintf(name, sizeof name, "loss < 10#u%s%d#d or 0",
+                             l0 < 0 ? "\xe2\x88\x92" : "", abs((int)l0));
+                }
+                legend_add(&lg, name, 0, 0);
+                lg.opt[lg.n - 1] = PL_LEGEND_SYMBOL;
+                lg.sym_col[lg.n - 1] = COL_BLACK;
+                lg.sym[lg.n - 1] = "\xe2\x96\xbc"; /* ▼ */
+            }
+            legend_strip(&lg, w, h);
             st = page_close(&pg, files, nfiles);
-        } while (st == QC_OK && next_combo(sc, vi, fixed));
+        } while (st == QC_OK && next_combo(sc, vi, L.fixed));
     }
     free(bx);
     free(rate);
     free(low);
     free(unq);
+    free(below);
     return st;
 }
 
@@ -763,14 +1312,37 @@ static qc_status array_of(json_t *a, double **out, size_t *n)
     return QC_OK;
 }
 
+/* Unit of a model's output y for the plots: electrons for the APD
+ * models, photons for the counter, amperes for a Gaussian model given by
+ * a physical front end (received power), else the units of its levels. */
+static const char *output_unit(const qc_model_type *type, const qc_settings *s)
+{
+    if (strcmp(type->name, "apd") == 0 || strcmp(type->name, "apd-gauss") == 0)
+        return "electrons";
+    if (strcmp(type->name, "poisson") == 0)
+        return "photons";
+    if (strcmp(type->name, "preamp") == 0)
+        return "ASE energy per mode";
+    if (strcmp(type->name, "table") == 0)
+        return "units of the table";
+    if (qc_settings_get(s, "power-dbm") || qc_settings_get(s, "peak-dbm"))
+        return "A";
+    return "normalized units";
+}
+
 static qc_status plot_density(const qc_scenario *sc, json_t *const *records, const char *dir,
-                              const char *device, char ***files, size_t *nfiles)
+                              const char *device, char ***files, size_t *nfiles, char ***notes,
+                              size_t *nnotes)
 {
     size_t index = sc->plots.density_point;
     json_t *rec = records[index];
     const char *status = json_string_value(json_object_get(rec, "status"));
-    if (!status || strcmp(status, "ok") != 0)
-        return QC_OK; /* the chosen design failed: nothing to draw */
+    if (!status || strcmp(status, "ok") != 0) {
+        char point[600];
+        sc_describe_point(sc, index, point, sizeof point);
+        return note(notes, nnotes, "skipped the density plot: its design, %s, failed (%s)", point,
+                    status ? status : "no result");
+    }
     json_t *result = json_object_get(rec, "result");
     qc_settings *s = NULL;
     qc_model *m = NULL;
@@ -843,28 +1415,60 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
     pad_range(&x0, &x1, counts ? 0.0 : 0.02);
     if (!(peak > 0))
         peak = 1.0;
+    /* a density of very small or large numbers is drawn in units of 10^e
+     * per output unit, so that the tick numbers stay short */
+    int e = counts ? 0 : (int)floor(log10(peak));
+    if (e > -2 && e < 3)
+        e = 0;
+    for (size_t k = 0; e != 0 && k < nlev * ns; k++)
+        ys[k] *= pow(10.0, -e);
+    peak *= pow(10.0, -e);
+    char per[48] = "";
+    if (e != 0)
+        snprintf(per, sizeof per, "10#u%s%d#d ", e < 0 ? "\xe2\x88\x92" : "", abs(e));
 
     page pg;
     size_t alpha, vi[QC_SCENARIO_MAX_AXES];
     sc_point_coords(sc, index, &alpha, vi);
-    int none[QC_SCENARIO_MAX_AXES] = {0};
-    char ftext[1024], ttext[512];
-    combo_text(sc, vi, none, ftext, sizeof ftext, ttext, sizeof ttext);
+    char ftext[1024] = "", ttext[640] = "";
+    for (size_t k = 0; k < sc->naxes; k++) {
+        char w[160];
+        axis_value_words(sc, k, vi[k], w, sizeof w);
+        append(ttext, sizeof ttext, ", ", w);
+        if (sc->axes[k].n > 1)
+            file_part(ftext, sizeof ftext, sc->axes[k].key, sc->axes[k].values[vi[k]]);
+    }
     snprintf(pg.path, sizeof pg.path, "%s/density_%s%s.%s", dir, sc->alphabets[alpha].name,
              ftext, extension(sc->plots.format));
     safe_name(strrchr(pg.path, '/') + 1);
-    if ((st = page_open(&pg, device)) != QC_OK)
+    if ((st = page_open(&pg, device, page_width, page_height)) != QC_OK)
         goto done;
     pladv(0);
-    plschr(0.0, 1.0);
-    plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
+    plschr(0.0, font_scale);
+    int qam = record_qam(rec);
+    const char *unit = output_unit(type, s);
+    char subject[1200];
+    snprintf(subject, sizeof subject, "%s%s: %s of the receiver output given each level",
+             sc->alphabets[alpha].label, qam ? ", one quadrature (the other is alike)" : "",
+             counts ? "count distributions" : "densities");
+    figure_title(sc, subject, ttext, page_width, page_height);
+    plvpor(VP_LEFT, VP_RIGHT, 0.13, 1.0 - PX_TOP / page_height);
     frame(x0, x1, 0.0, 1.08 * peak, "", "");
-    char title[800], xlabel[160];
-    snprintf(title, sizeof title, "%s%s%s", sc->alphabets[alpha].label, ttext[0] ? ", " : "",
-             ttext);
-    snprintf(xlabel, sizeof xlabel, "receiver output y (model '%s'%s)", type->name,
-             counts ? ", counts" : "");
-    labels(xlabel, counts ? "P(y | x)" : "p(y | x)", title);
+    char xlabel[160], ylabel[160];
+    if (counts)
+        snprintf(xlabel, sizeof xlabel, "photon count y (%s per slot)", unit);
+    else
+        snprintf(xlabel, sizeof xlabel, "receiver output y%s (%s)", qam ? ", one quadrature" : "",
+                 unit);
+    if (counts)
+        snprintf(ylabel, sizeof ylabel, "probability P(y | x)");
+    else if (strcmp(unit, "electrons") == 0 || strcmp(unit, "A") == 0)
+        snprintf(ylabel, sizeof ylabel, "density p(y | x) (%sper %s)", per,
+                 strcmp(unit, "A") == 0 ? "A" : "electron");
+    else
+        snprintf(ylabel, sizeof ylabel, "density p(y | x) (%sper unit of y)", per);
+    labels(xlabel, ylabel, "");
+
     /* thresholds: grey dashed verticals (for counts, between t-1 and t) */
     plcol0(COL_BLACK);
     pllsty(2);
@@ -878,7 +1482,7 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
     legend lg = {0};
     for (size_t i = 0; i < nlev; i++) {
         const double *y = ys + i * ns;
-        set_style((int)i);
+        set_style((int)i, -1);
         if (counts) { /* pmf as steps */
             size_t nstep = 2 * (k1 - k0);
             double *sx = malloc(nstep * sizeof *sx), *sy = malloc(nstep * sizeof *sy);
@@ -908,9 +1512,10 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
             if (y[k] > y[kp])
                 kp = k;
         pllsty(1);
-        plstring(1, &xs[kp], &y[kp], marker((int)i));
+        plwidth(1.5);
+        draw_marker(xs[kp], y[kp], marker_index((int)i), 0);
         char name[96];
-        snprintf(name, sizeof name, "x = %g", lev[i]);
+        snprintf(name, sizeof name, "level x = %.4g", lev[i]);
         legend_add(&lg, name, (int)i, 1);
     }
     if (nth > 0) {
@@ -919,7 +1524,7 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
         lg.line_sty[lg.n - 1] = 2;
         lg.line_w[lg.n - 1] = 1.0;
     }
-    legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE);
+    legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE, 0.06);
     st = page_close(&pg, files, nfiles);
 done:
     free(th);
@@ -936,7 +1541,7 @@ done:
 /* ---------------------------------------------------------------- */
 
 qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const char *dir,
-                        char ***files, size_t *nfiles)
+                        char ***files, size_t *nfiles, char ***notes, size_t *nnotes)
 {
     const char *device = pick_device(sc->plots.format);
     if (!device)
@@ -955,11 +1560,11 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
     }
     escape_armed = 1;
     if (sc->plots.rate_vs_x)
-        st = plot_rate_vs_x(sc, records, dir, device, files, nfiles);
+        st = plot_rate_vs_x(sc, records, dir, device, files, nfiles, notes, nnotes);
     if (st == QC_OK && sc->plots.rate_vs_bits)
-        st = plot_rate_vs_bits(sc, records, dir, device, files, nfiles);
+        st = plot_rate_vs_bits(sc, records, dir, device, files, nfiles, notes, nnotes);
     if (st == QC_OK && sc->plots.density)
-        st = plot_density(sc, records, dir, device, files, nfiles);
+        st = plot_density(sc, records, dir, device, files, nfiles, notes, nnotes);
     escape_armed = 0;
     return st;
 }

@@ -39,6 +39,12 @@ void qc_sweep_summary_clear(qc_sweep_summary *s)
     for (size_t i = 0; i < s->nfiles; i++)
         free(s->files[i]);
     free(s->files);
+    for (size_t i = 0; i < s->nnotes; i++)
+        free(s->notes[i]);
+    free(s->notes);
+    for (size_t i = 0; i < s->nremoved; i++)
+        free(s->removed[i]);
+    free(s->removed);
     memset(s, 0, sizeof *s);
 }
 
@@ -276,7 +282,18 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     if (want_plots && !qc_plots_available())
         sum->plots_skipped = 1;
     else if (want_plots)
-        st = qc_plot_sweep(sc, records, dir, &sum->files, &sum->nfiles);
+        st = qc_plot_sweep(sc, records, dir, &sum->files, &sum->nfiles, &sum->notes,
+                           &sum->nnotes);
+    /* the manifest: a finished run that drew its plots prunes what it no
+     * longer writes; a run stopped while plotting, or one that draws no
+     * plots (--no-plots, no PLplot), keeps the old list beside its own */
+    {
+        int drew = want_plots && !sum->plots_skipped;
+        qc_status mst = qc_manifest_update(dir, sum->files, sum->nfiles, st == QC_OK && drew,
+                                           &sum->removed, &sum->nremoved);
+        if (st == QC_OK)
+            st = mst;
+    }
 done:
     qc_checkpoint_close(&cp);
     /* A fresh sweep that stops before any point is recorded leaves nothing
