@@ -197,16 +197,34 @@ static qc_status get_grid(apd_state *s, double h, size_t len, int smooth,
     g->real = qc_calloc(len, sizeof *g->real);
     if (!g->gspec || !g->work || !g->real)
         goto nomem;
-    /* gain law on the grid, split between neighbours preserving the mean */
-    for (size_t n = 1; n < s->gain_len; n++) {
-        double u = (double)n / h;
-        size_t q = (size_t)floor(u);
-        double r = u - (double)q;
-        g->real[q % len] += (1.0 - r) * s->gain[n];
-        if (r > 0.0)
-            g->real[(q + 1) % len] += r * s->gain[n];
+    if (h == 1.0) { /* gain law on the electron grid: its DFT */
+        for (size_t n = 1; n < s->gain_len; n++)
+            g->real[n % len] += s->gain[n];
+        qc_conv_forward(g->conv, g->real, len, g->gspec);
+    } else {
+        /* step h: the exact φ_G at the grid's frequencies 2πk/(len·h),
+         * k ≤ len/2, i.e. a length len·h DFT of the gain law (folded
+         * modulo len·h, which leaves those values unchanged) of which
+         * only the first len/2 + 1 bins are needed: chirp z-transform */
+        size_t period = len * (size_t)h, nx = s->gain_len;
+        const double *src = s->gain;
+        double *fold = NULL;
+        if (nx > period) {
+            fold = qc_calloc(period, sizeof *fold);
+            if (!fold)
+                goto nomem;
+            for (size_t n = 1; n < nx; n++)
+                fold[n % period] += s->gain[n];
+            src = fold;
+            nx = period;
+        }
+        qc_status cst = qc_conv_chirp(src, nx, period, ns, g->gspec);
+        free(fold);
+        if (cst != QC_OK) {
+            grid_clear(g);
+            return cst;
+        }
     }
-    qc_conv_forward(g->conv, g->real, len, g->gspec);
     if (smooth) {
         double sigma = s->params[APD_SIGMA_TH];
         long w = kernel_halfwidth(sigma, h);
