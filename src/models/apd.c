@@ -295,12 +295,31 @@ static double count_bound(const apd_state *s, double lambda)
     return best;
 }
 
+/* A count z with P(Z ≤ z) ≤ ZTAIL (0 if none is found), by the same
+ * bound on the other side: ln P(Z ≤ z) ≤ θz + λ(E e^{−θG} − 1). Grid
+ * values below it carry only FFT rounding noise, whose positive part
+ * would otherwise add up over the long empty stretch left of the law
+ * (about 1e-11 at 6e4 primaries); they are set to zero. */
+static double count_bound_low(const apd_state *s, double lambda)
+{
+    double best = 0.0, theta = 700.0 / (double)s->gain_len;
+    for (int k = 0; k < 60; k++, theta *= 0.7) {
+        double mgf = 0.0;
+        for (size_t n = 1; n < s->gain_len; n++)
+            mgf += s->gain[n] * exp(-theta * (double)n);
+        double z = (log(ZTAIL) - lambda * (mgf - 1.0)) / theta;
+        if (z > best)
+            best = z;
+    }
+    return best;
+}
+
 static qc_status fill_level(apd_state *s, double x, level *lv)
 {
     const double *p = s->params;
     double sigma = p[APD_SIGMA_TH];
     double lambda = qc_apd_rate(p, x);
-    double zhi = count_bound(s, lambda);
+    double zhi = count_bound(s, lambda), zlo = count_bound_low(s, lambda);
     grid *g = NULL;
     double h = 1.0;
     long nz = 0, w = 0;
@@ -336,6 +355,10 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
         if (h == 1.0) { /* no primary: exactly e^{−λ} */
             total += exp(-lambda) - lv->p[0];
             lv->p[0] = exp(-lambda);
+        }
+        for (long j = 0; j < nz && (double)j * h < zlo; j++) {
+            total -= lv->p[j];
+            lv->p[j] = 0.0;
         }
         double acc = 0.0;
         for (long j = 0; j < nz; j++) {
@@ -384,6 +407,9 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
     free(pz);
     /* cell masses → F (from the left) and Q (from the right) */
     double *c = lv->F, total = 0.0;
+    double ycut = zlo - KERNEL_SD * sigma;
+    for (long a = 0; a < n && (double)(a - w) * h < ycut; a++)
+        c[a] = lv->f[a] = lv->df[a] = 0.0;
     for (long a = 0; a < n; a++) {
         if (c[a] < 0.0)
             c[a] = 0.0;
