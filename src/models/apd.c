@@ -20,10 +20,15 @@
  * FFT plans (FFTW), gain and kernel spectra are made once per grid
  * length and reused for every level; each level's grid values are cached
  * in the instance (one thread at a time). Grid step h = 1 electron unless
- * the law needs more than 2^21 points: then h doubles and the gain law is
- * split between neighbouring grid points preserving its mean (variance
- * error ≤ λh²/4). Accuracy: absolute ~1e-15 (FFT rounding); below that
- * the tails are not resolved. */
+ * the law needs more than 2^21 points: then h doubles, and the grid holds
+ * the exact φ_G at its frequencies 2πk/(len·h) (polyphase FFTs, or the
+ * chirp z-transform for long steps), so that the law keeps the exact
+ * cumulants (a gain law split between grid points would add λh²E[f(1−f)]
+ * to the variance, f the fractional part of G/h). Grid values below a
+ * lower Chernoff bound are zero. Accuracy (docs/models.md): absolute
+ * ~1e-12 with σ_th ≥ h, growing with λ on chirp steps (2e-10 at 5e6
+ * primaries); in the lattice regime with σ_th < h a ripple of relative
+ * size ~exp(−2π²σ_th²/h²). Tails below ~1e-13 are not resolved. */
 #include "core/internal.h"
 #include "models/apd_gain.h"
 #include "models/convolve.h"
@@ -35,6 +40,7 @@
 #include <time.h>
 
 #define SQRT_2PI 2.5066282746310002 /* √(2π) */
+#define M_PI_VALUE 3.14159265358979323846
 
 #include <gsl/gsl_cdf.h>
 
@@ -43,6 +49,7 @@
 #define SMOOTH_RATIO 8.0           /* σ_th ≥ 8h: interpolate grid values  */
 #define KERNEL_SD 9.5              /* kernel half-width in σ_th           */
 #define REST_TOL 1e-17             /* direct sums: rest ≤ REST_TOL · sum  */
+#define POLYPHASE_MAX 16.0         /* grid steps up to this: polyphase FFTs */
 #define NGRIDS 6
 #define NSLOTS 32
 #define CACHE_BYTES ((size_t)512 << 20)
@@ -201,11 +208,29 @@ static qc_status get_grid(apd_state *s, double h, size_t len, int smooth,
         for (size_t n = 1; n < s->gain_len; n++)
             g->real[n % len] += s->gain[n];
         qc_conv_forward(g->conv, g->real, len, g->gspec);
-    } else {
+    } else if (h <= POLYPHASE_MAX) {
         /* step h: the exact φ_G at the grid's frequencies 2πk/(len·h),
-         * k ≤ len/2, i.e. a length len·h DFT of the gain law (folded
-         * modulo len·h, which leaves those values unchanged) of which
-         * only the first len/2 + 1 bins are needed: chirp z-transform */
+         * k ≤ len/2, i.e. the first len/2 + 1 bins of a length len·h DFT
+         * of the gain law; split n = hq + r (polyphase): h real FFTs of
+         * length len of the subsequences g_{hq+r} (folded modulo len,
+         * which leaves their bins unchanged), combined with the twiddle
+         * factors e^{−2πi rk/(len·h)} */
+        size_t hh = (size_t)h, period = len * hh;
+        memset(g->gspec, 0, ns * sizeof *g->gspec);
+        for (size_t r = 0; r < hh; r++) {
+            memset(g->real, 0, len * sizeof *g->real);
+            for (size_t n = r; n < s->gain_len; n += hh)
+                g->real[(n / hh) % len] += s->gain[n];
+            qc_conv_forward(g->conv, g->real, len, g->work);
+            for (size_t k = 0; k < ns; k++) {
+                double a = 2.0 * M_PI_VALUE *
+                           ((double)((r * k) % period) / (double)period);
+                g->gspec[k] += (cos(a) - I * sin(a)) * g->work[k];
+            }
+        }
+    } else {
+        /* longer steps: the same bins by the chirp z-transform (three
+         * FFTs, independent of h, rounding ~1e3 times larger) */
         size_t period = len * (size_t)h, nx = s->gain_len;
         const double *src = s->gain;
         double *fold = NULL;
