@@ -40,9 +40,13 @@ sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."
 from checklib import Tally  # noqa: E402
 
 ORDER = 5            # Edgeworth terms through lambda^{-5/2}
-TOL_CDF = 3e-11      # P(Y < t), P(Y >= t) vs the series, smooth regime
-                     # (sigma_th >= 8h; measured <= 1.3e-11)
-TOL_CDF_LATTICE = 6e-11  # the same, lattice regime (measured 4.4e-11)
+TOL_CDF = 2e-11      # P(Y < t), P(Y >= t) vs the series, smooth regime
+                     # (sigma_th >= 8h), grid steps 2..16 (measured 7e-13,
+                     # 1.4e-12, 7.8e-12)
+TOL_CDF_CHIRP = 5e-10    # the same, step 128 by the chirp z-transform
+                         # (measured 2.1e-10)
+TOL_CDF_LATTICE = 5e-11  # the same, lattice regime, sigma_th = h (measured
+                         # 2.2e-11)
 TOL_CDF_STEP1 = 3e-12    # the same, grid step 1 (measured 6.6e-13; FFT noise
                          # left of the law, if summed, gave 1.1e-11)
 TOL_VAR = 1e-8       # relative variance of the computed law vs kappa_2
@@ -50,9 +54,12 @@ TOL_SERIES = 1e-13   # the first omitted order must be below this
 TOL_GAIN = 1e-12     # gain law moments vs McIntyre's closed forms (relative)
 
 GAIN, K = 31.7, 0.013
-# (lambda, sigma_th): grid step 2 and 4 in the smooth regime, step 2 in the
-# lattice regime (sigma_th < 8h), and a step-1 case (M*lambda < 2^21)
+# (lambda, sigma_th, tolerance): grid step 2 and 4 (the cases that showed
+# the lattice excess variance), 16 (polyphase FFTs) and 128 (chirp
+# z-transform) in the smooth regime, step 2 in the lattice regime
+# (sigma_th < 8h), and a step-1 case (M*lambda below 2^21)
 CASES = [(1.03e5, 270.0, TOL_CDF), (2.3e5, 270.0, TOL_CDF),
+         (1e6, 270.0, TOL_CDF), (5e6, 270.0, TOL_CDF_CHIRP),
          (1.03e5, 2.0, TOL_CDF_LATTICE), (6e4, 270.0, TOL_CDF_STEP1)]
 
 
