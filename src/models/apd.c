@@ -35,6 +35,7 @@
 
 #include <complex.h>
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
@@ -60,6 +61,8 @@ typedef struct {
     int smooth;
     qc_conv *conv;
     double complex *gspec;   /* spectrum of the gain law on this grid */
+    double complex *gm1;     /* φ_G − 1 summed directly, where exact[i] */
+    unsigned char *exact;
     double complex *kspec[3]; /* cell-mass, density, slope kernels     */
     double complex *work;
     double *real;
@@ -72,7 +75,9 @@ typedef struct {
     int smooth;
     long n;  /* lattice: p[0..n) on z = jh; smooth: n grid values */
     long w;  /* smooth: array index a ↔ y = (a − w)·h            */
-    double ztop; /* largest z kept                                */
+    double z0;   /* the grid starts at z0 = b0·h (electrons); the
+                  * arrays below are in coordinates relative to z0     */
+    double ztop; /* largest z kept, relative to z0                    */
     double *p, *cl, *cr; /* lattice: pmf, Σ_{i≤j}, Σ_{i≥j}         */
     double *F, *Q, *f, *df; /* smooth: P(Y<y), P(Y≥y), f, f'       */
     size_t bytes;
@@ -101,6 +106,8 @@ static void grid_clear(grid *g)
 {
     qc_conv_free(g->conv);
     free(g->gspec);
+    free(g->gm1);
+    free(g->exact);
     for (int k = 0; k < 3; k++)
         free(g->kspec[k]);
     free(g->work);
@@ -292,12 +299,75 @@ static size_t next_pow2(size_t n)
     return m;
 }
 
-/* Compound Poisson law on grid g: circular result in g->real. */
-static void compound(grid *g, double lambda)
+/* Bins where λ(1 − Re φ_G) ≤ REFINE_EXP (|φ_Z| ≥ e^{−60}) take φ_G − 1
+ * from a direct sum Σ_n g_n (e^{−iωn} − 1), each term to full relative
+ * accuracy: from the FFT, φ_G − 1 carries an absolute rounding error
+ * ~1e-17 that λ multiplies (CDF errors ~1e-12 at 1e5 primaries, growing
+ * with λ). The other bins have |φ_Z| < e^{−60}: their errors do not
+ * matter. Below REFINE_MIN_LAMBDA primaries the FFT values are kept (the
+ * error is ~λ·1e-17 there, and the band to refine is most of the grid);
+ * skipped too when it would cost more than REFINE_BUDGET terms. */
+#define REFINE_EXP 60.0
+#define REFINE_MIN_LAMBDA 1e4
+#define REFINE_BUDGET 1e7
+
+static void refine_bins(const apd_state *s, grid *g, double lambda)
 {
+    size_t ns = g->len / 2 + 1, need = 0;
+    if (lambda < REFINE_MIN_LAMBDA)
+        return;
+    for (size_t i = 1; i < ns; i++)
+        if (lambda * (1.0 - creal(g->gspec[i])) <= REFINE_EXP &&
+            !(g->exact && g->exact[i]))
+            need++;
+    if (need == 0 || (double)need * (double)s->gain_len > REFINE_BUDGET)
+        return;
+    if (!g->exact) {
+        g->gm1 = qc_malloc_array(ns, sizeof *g->gm1);
+        g->exact = qc_calloc(ns, 1);
+        if (!g->gm1 || !g->exact) { /* keep the FFT values */
+            free(g->gm1);
+            free(g->exact);
+            g->gm1 = NULL;
+            g->exact = NULL;
+            return;
+        }
+        g->gm1[0] = 0.0;
+        g->exact[0] = 1;
+    }
+    uint64_t period = (uint64_t)g->len * (uint64_t)g->h;
+    for (size_t i = 1; i < ns; i++) {
+        if (g->exact[i] || lambda * (1.0 - creal(g->gspec[i])) > REFINE_EXP)
+            continue;
+        double re = 0.0, im = 0.0;
+        for (size_t n = 1; n < s->gain_len; n++) {
+            /* ωn = 2π (i·n mod period)/period, reduced in integers */
+            double a = 2.0 * M_PI_VALUE *
+                       ((double)(((uint64_t)i * n) % period) / (double)period);
+            double sh = sin(0.5 * a);
+            re -= 2.0 * s->gain[n] * sh * sh;
+            im -= s->gain[n] * sin(a);
+        }
+        g->gm1[i] = re + I * im;
+        g->exact[i] = 1;
+    }
+}
+
+/* Spectrum of the compound Poisson law, exp(λ(φ_G − 1)), into g->work. */
+static void compound_spectrum(const apd_state *s, grid *g, double lambda)
+{
+    refine_bins(s, g, lambda);
     size_t ns = g->len / 2 + 1;
-    for (size_t i = 0; i < ns; i++)
-        g->work[i] = cexp(lambda * (g->gspec[i] - 1.0));
+    for (size_t i = 0; i < ns; i++) {
+        double complex d = g->exact && g->exact[i] ? g->gm1[i] : g->gspec[i] - 1.0;
+        g->work[i] = cexp(lambda * d);
+    }
+}
+
+/* Compound Poisson law on grid g: circular result in g->real. */
+static void compound(const apd_state *s, grid *g, double lambda)
+{
+    compound_spectrum(s, g, lambda);
     qc_conv_inverse(g->conv, g->work, g->real);
 }
 
@@ -347,12 +417,13 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
     double zhi = count_bound(s, lambda), zlo = count_bound_low(s, lambda);
     grid *g = NULL;
     double h = 1.0;
-    long nz = 0, w = 0;
+    long nz = 0, w = 0, b0 = 0;
     int smooth = 0;
-    for (;;) {
+    for (;;) { /* grid z = (b0 + j)h, j < nz, over [zlo, zhi] */
         smooth = sigma >= SMOOTH_RATIO * h;
         w = smooth ? kernel_halfwidth(sigma, h) : 0;
-        nz = (long)ceil(zhi / h) + 1;
+        b0 = (long)floor(zlo / h);
+        nz = (long)ceil(zhi / h) + 1 - b0;
         if ((size_t)nz + 2 * (size_t)w <= MAX_GRID)
             break;
         h *= 2.0;
@@ -360,11 +431,14 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
     qc_status st = get_grid(s, h, next_pow2((size_t)(nz + 2 * w)), smooth, &g);
     if (st != QC_OK)
         return st;
-    compound(g, lambda);
+    if (!smooth)
+        compound(s, g, lambda);
     lv->h = h;
     lv->smooth = smooth;
+    lv->z0 = (double)b0 * h;
     lv->ztop = (double)(nz - 1) * h;
     size_t len = g->len;
+    double zlo_rel = zlo - lv->z0; /* in [0, h) */
     if (!smooth) {
         lv->n = nz;
         lv->p = qc_malloc_array((size_t)nz, sizeof *lv->p);
@@ -374,14 +448,15 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
             return qc_fail(QC_ENOMEM, "out of memory");
         double total = 0.0;
         for (long j = 0; j < nz; j++) {
-            lv->p[j] = g->real[j] > 0.0 ? g->real[j] : 0.0;
+            double v = g->real[(size_t)(b0 + j) % len];
+            lv->p[j] = v > 0.0 ? v : 0.0;
             total += lv->p[j];
         }
-        if (h == 1.0) { /* no primary: exactly e^{−λ} */
+        if (h == 1.0 && b0 == 0) { /* no primary: exactly e^{−λ} */
             total += exp(-lambda) - lv->p[0];
             lv->p[0] = exp(-lambda);
         }
-        for (long j = 0; j < nz && (double)j * h < zlo; j++) {
+        for (long j = 0; j < nz && (double)j * h < zlo_rel; j++) {
             total -= lv->p[j];
             lv->p[j] = 0.0;
         }
@@ -413,8 +488,7 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
     if (!lv->Q)
         return qc_fail(QC_ENOMEM, "out of memory");
     size_t ns = len / 2 + 1;
-    for (size_t i = 0; i < ns; i++)
-        g->work[i] = cexp(lambda * (g->gspec[i] - 1.0));
+    compound_spectrum(s, g, lambda);
     double complex *pz = qc_malloc_array(ns, sizeof *pz);
     if (!pz)
         return qc_fail(QC_ENOMEM, "out of memory");
@@ -425,14 +499,14 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
         qc_conv_inverse(g->conv, g->work, g->real);
         double *d = *dst[k];
         for (long a = 0; a < n; a++) {
-            long i = a - w; /* grid index; y = i·h */
+            long i = b0 + a - w; /* grid index; y = i·h */
             d[a] = g->real[(size_t)((i % (long)len + (long)len) % (long)len)];
         }
     }
     free(pz);
     /* cell masses → F (from the left) and Q (from the right) */
     double *c = lv->F, total = 0.0;
-    double ycut = zlo - KERNEL_SD * sigma;
+    double ycut = zlo_rel - KERNEL_SD * sigma; /* relative to z0 */
     for (long a = 0; a < n && (double)(a - w) * h < ycut; a++)
         c[a] = lv->f[a] = lv->df[a] = 0.0;
     for (long a = 0; a < n; a++) {
@@ -656,6 +730,7 @@ static double apd_cdf(const qc_model *m, double x, double t, int upper)
     if (!lv)
         return NAN;
     double sigma = m->params[APD_SIGMA_TH];
+    t -= lv->z0;
     return lv->smooth ? smooth_cdf(lv, sigma, t, upper)
                       : lattice_cdf(lv, sigma, t, upper);
 }
@@ -675,6 +750,7 @@ static double apd_density(const qc_model *m, double x, double y)
     level *lv = get_level(m, x);
     if (!lv)
         return NAN;
+    y -= lv->z0;
     return lv->smooth ? smooth_density(lv, y)
                       : lattice_density(lv, m->params[APD_SIGMA_TH], y);
 }
@@ -682,9 +758,10 @@ static double apd_density(const qc_model *m, double x, double y)
 static void apd_support(const qc_model *m, double x, double *lo, double *hi)
 {
     double sigma = m->params[APD_SIGMA_TH];
-    *lo = -8.3 * sigma; /* Z ≥ 0: Q(8.3) ≈ 5e-17 */
     level *lv = get_level(m, x);
-    *hi = (lv ? lv->ztop : 0.0) + 8.3 * sigma;
+    /* Z ≥ z0 but for < 1e-18; Q(8.3) ≈ 5e-17 */
+    *lo = (lv ? lv->z0 : 0.0) - 8.3 * sigma;
+    *hi = (lv ? lv->z0 + lv->ztop : 0.0) + 8.3 * sigma;
 }
 
 static qc_status apd_moments(const qc_model *m, double x, double *mean,

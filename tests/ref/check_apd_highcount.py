@@ -1,7 +1,8 @@
 #!/usr/bin/python3
-"""check_apd_highcount.py — the exact `apd` model at high counts, where the
-FFT grid step h exceeds one electron (M·λ beyond about 2^21 electrons),
-against an Edgeworth series built from the exact cumulants of the output.
+"""check_apd_highcount.py — the exact `apd` model at high counts (10^5 to
+6*10^9 primaries at M = 31.7: grid steps 1 to 64 electrons, polyphase and
+chirp gain spectra, smooth and lattice regimes) against an Edgeworth series
+built from the exact cumulants of the output.
 
 Y = sum_{i<=N} G_i + T, N ~ Poisson(lambda), G_i McIntyre's gain law
 (R. J. McIntyre, "The distribution of gains in uniformly multiplying
@@ -40,27 +41,26 @@ sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."
 from checklib import Tally  # noqa: E402
 
 ORDER = 5            # Edgeworth terms through lambda^{-5/2}
-TOL_CDF = 2e-11      # P(Y < t), P(Y >= t) vs the series, smooth regime
-                     # (sigma_th >= 8h), grid steps 2..16 (measured 7e-13,
-                     # 1.4e-12, 7.8e-12)
-TOL_CDF_CHIRP = 5e-10    # the same, step 128 by the chirp z-transform
-                         # (measured 2.1e-10)
-TOL_CDF_LATTICE = 5e-11  # the same, lattice regime, sigma_th = h (measured
-                         # 2.2e-11)
-TOL_CDF_STEP1 = 3e-12    # the same, grid step 1 (measured 6.6e-13; FFT noise
-                         # left of the law, if summed, gave 1.1e-11)
+TOL_CDF = 3e-11      # P(Y < t), P(Y >= t) vs the series, smooth regime
+                     # (sigma_th >= 8h), up to 1e9 primaries (measured
+                     # 2.8e-13 .. 1.3e-11)
+TOL_CDF_CHIRP = 1e-10    # the same, grid step 64 by the chirp z-transform
+                         # (6e9 primaries, 1.9e11 electrons; measured 3.4e-11)
+TOL_CDF_LATTICE = 1e-11  # the same, lattice regime, sigma_th = h (measured
+                         # 2.8e-12)
 TOL_VAR = 1e-8       # relative variance of the computed law vs kappa_2
 TOL_SERIES = 1e-13   # the first omitted order must be below this
 TOL_GAIN = 1e-12     # gain law moments vs McIntyre's closed forms (relative)
 
 GAIN, K = 31.7, 0.013
-# (lambda, sigma_th, tolerance): grid step 2 and 4 (the cases that showed
-# the lattice excess variance), 16 (polyphase FFTs) and 128 (chirp
-# z-transform) in the smooth regime, step 2 in the lattice regime
-# (sigma_th < 8h), and a step-1 case (M*lambda below 2^21)
+# (lambda, sigma_th, tolerance): the cases that showed the lattice excess
+# variance (1.03e5 and 2.3e5 primaries, now on a step-1 grid placed over
+# the law), grid steps 2 and 4 (1e7, 3e7), 16 (1e9, polyphase FFTs) and 64
+# (6e9, chirp z-transform) in the smooth regime, and step 2 in the lattice
+# regime (sigma_th < 8h)
 CASES = [(1.03e5, 270.0, TOL_CDF), (2.3e5, 270.0, TOL_CDF),
-         (1e6, 270.0, TOL_CDF), (5e6, 270.0, TOL_CDF_CHIRP),
-         (1.03e5, 2.0, TOL_CDF_LATTICE), (6e4, 270.0, TOL_CDF_STEP1)]
+         (1e7, 270.0, TOL_CDF), (3e7, 270.0, TOL_CDF), (1e9, 270.0, TOL_CDF),
+         (6e9, 270.0, TOL_CDF_CHIRP), (1e7, 2.0, TOL_CDF_LATTICE)]
 
 
 def mcintyre_pmf(g, k, n):
@@ -131,14 +131,15 @@ def main():
         kap[2] += sth * sth
         mean, sd = kap[1], math.sqrt(kap[2])
         l = {r: kap[r] / sd ** r for r in range(3, ORDER + 3)}
-        x = np.arange(-6.0, 6.0001, 0.25) + 0.0123  # off the grid points
+        t = mean + sd * (np.arange(-6.0, 6.0001, 0.25) + 0.0123)  # off the grid
+        x = (t - mean) / sd  # of the thresholds as rounded
         terms = edgeworth_orders(l, ORDER + 1, x)
         ref = stats.norm.cdf(x) + sum(terms[1:ORDER + 1])
         omitted = float(np.max(np.abs(terms[ORDER + 1])))
         tag = f"lambda {lam:g}, sigma_th {sth:g} electrons"
         print(f"{tag}: Edgeworth first omitted order {omitted:.1e}")
         tally.check(omitted < TOL_SERIES, f"{tag}: Edgeworth series converged")
-        out = dump(exe, lam, sth, mean + sd * x)
+        out = dump(exe, lam, sth, t)
         below, above = np.array(out["below"]), np.array(out["above"])
         eb = float(np.max(np.abs(below - ref)))
         ea = float(np.max(np.abs(above - (1.0 - ref))))
@@ -146,9 +147,9 @@ def main():
         tally.near(f"{tag}: max |P(Y>=t) - Edgeworth|", ea, 0.0, tol)
         if sth >= 100.0:
             # variance of the computed law: density at points 16 electrons
-            # apart (a multiple of the grid step), trapezoid rule, which is
-            # exact to far below TOL_VAR for a density this smooth
-            step = 16.0
+            # (more for wide laws) apart, trapezoid rule, which is exact to
+            # far below TOL_VAR for a density this smooth
+            step = 16.0 * 2 ** max(0, math.ceil(math.log2(sd / 2e4)))
             ys = np.arange(math.floor((mean - 13 * sd) / step) * step, mean + 15 * sd, step)
             d = np.array(dump(exe, lam, sth, ys)["density"])
             m0 = d.sum() * step
