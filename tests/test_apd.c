@@ -2,8 +2,10 @@
  * compound law with thermal noise (normalization, mean, variance against
  * the closed forms), agreement with the Gaussian approximation at large
  * counts and visible disagreement at small counts, lattice vs smooth
- * regimes, plan reuse across levels. The CDF against an independent
- * numpy/scipy computation is in tests/ref/check_models.py. */
+ * regimes, plan reuse across levels, high counts (closed-form variance
+ * and an Edgeworth series from the exact cumulants). The CDF against an
+ * independent numpy/scipy computation is in tests/ref/check_models.py,
+ * more high-count cases in tests/ref/check_apd_highcount.py. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
