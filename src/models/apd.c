@@ -239,7 +239,8 @@ static qc_status get_grid(apd_state *s, double h, size_t len, int smooth,
         }
     } else {
         /* longer steps: the same bins by the chirp z-transform (three
-         * FFTs, independent of h, rounding ~1e3 times larger) */
+         * FFTs whatever h; its larger rounding is replaced by direct sums
+         * in the bins that matter, refine_bins) */
         size_t period = len * (size_t)h, nx = s->gain_len;
         const double *src = s->gain;
         double *fold = NULL;
