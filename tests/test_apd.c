@@ -2,8 +2,10 @@
  * compound law with thermal noise (normalization, mean, variance against
  * the closed forms), agreement with the Gaussian approximation at large
  * counts and visible disagreement at small counts, lattice vs smooth
- * regimes, plan reuse across levels. The CDF against an independent
- * numpy/scipy computation is in tests/ref/check_models.py. */
+ * regimes, plan reuse across levels, high counts (closed-form variance
+ * and an Edgeworth series from the exact cumulants). The CDF against an
+ * independent numpy/scipy computation is in tests/ref/check_models.py,
+ * more high-count cases in tests/ref/check_apd_highcount.py. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -217,6 +219,102 @@ static void test_unquantized(void **state)
     qc_model_free(m);
 }
 
+/* ---- high counts: grid step h > 1 ----------------------------------- */
+
+#define TOL_VAR_HIGH 1e-6 /* relative variance error past 2^21 electrons   */
+#define TOL_EDGEWORTH 1e-11 /* CDF vs the Edgeworth series below: the first
+                             * omitted order (λ^{−5/2}) is 1.1e-13 at
+                             * λ = 1.03e5 and smaller beyond, as computed
+                             * by tests/ref/check_apd_highcount.py; the
+                             * model itself measured 2.8e-13, 4e-13 and
+                             * 2.8e-12 at λ = 1.03e5, 2.3e5, 1e7          */
+
+/* Probabilists' Hermite polynomial He_n(x) by its three-term recurrence. */
+static double hermite_he(int n, double x)
+{
+    double h0 = 1.0, h1 = x;
+    if (n == 0)
+        return h0;
+    for (int j = 1; j < n; j++) {
+        double h2 = x * h1 - j * h0;
+        h0 = h1;
+        h1 = h2;
+    }
+    return h1;
+}
+
+/* P(Y < t) by the Edgeworth series through the terms of order λ^{−2}
+ * (standardized cumulants l_r = κ_r/κ_2^{r/2}):
+ *   F = Φ − φ [l3/6 He2
+ *              + l4/24 He3 + l3²/72 He5
+ *              + l5/120 He4 + l3 l4/144 He6 + l3³/1296 He8
+ *              + l6/720 He5 + (l3 l5/720 + l4²/1152) He7
+ *              + l3² l4/1728 He9 + l3⁴/31104 He11]
+ * (S. I. Blinnikov and R. Moessner, "Expansions for nearly Gaussian
+ * distributions," Astron. Astrophys. Suppl. Ser. 130, 193–205, 1998). The
+ * cumulants of Y = Σ_{i≤N} G_i + T, N ~ Poisson(λ), are those of a
+ * compound Poisson law, κ_r = λ E[G^r], plus σ_th² in κ_2 (W. Feller, An
+ * Introduction to Probability Theory and Its Applications, vol. 1, 3rd
+ * ed., Wiley 1968, ch. XII (from memory)); E[G^r] from McIntyre's law,
+ * whose mean and variance test_gain_law checks against the closed forms. */
+static double edgeworth_below(const double *kappa, double t)
+{
+    double sd = sqrt(kappa[2]), x = (t - kappa[1]) / sd;
+    double l3 = kappa[3] / pow(sd, 3), l4 = kappa[4] / pow(sd, 4),
+           l5 = kappa[5] / pow(sd, 5), l6 = kappa[6] / pow(sd, 6);
+    double series = l3 / 6 * hermite_he(2, x) + l4 / 24 * hermite_he(3, x) +
+                    l3 * l3 / 72 * hermite_he(5, x) + l5 / 120 * hermite_he(4, x) +
+                    l3 * l4 / 144 * hermite_he(6, x) +
+                    l3 * l3 * l3 / 1296 * hermite_he(8, x) +
+                    l6 / 720 * hermite_he(5, x) +
+                    (l3 * l5 / 720 + l4 * l4 / 1152) * hermite_he(7, x) +
+                    l3 * l3 * l4 / 1728 * hermite_he(9, x) +
+                    l3 * l3 * l3 * l3 / 31104 * hermite_he(11, x);
+    double phi = exp(-0.5 * x * x) / 2.5066282746310002; /* √(2π) */
+    return 0.5 * erfc(-x / sqrt(2.0)) - phi * series;
+}
+
+/* High counts: 1.03e5 and 2.3e5 primaries (where a gain law split between
+ * the points of a coarser grid added 2.2e-4 and 1.1e-3 to the variance)
+ * and 1e7 (grid step 2 even on a grid placed over the law). The computed
+ * law must keep the closed-form variance M²Fλ + σ_th² (McIntyre 1966)
+ * and match the Edgeworth series built from the exact cumulants. */
+static void test_high_counts(void **state)
+{
+    (void)state;
+    const double lambdas[] = {1.03e5, 2.3e5, 1e7};
+    const double gain = 31.7, k = 0.013, sigma = 270.0;
+    double *g;
+    size_t n;
+    assert_int_equal(qc_apd_gain_pmf(gain, k, 1u << 26, &g, &n), QC_OK);
+    double mom[7] = {0};
+    for (size_t i = 1; i < n; i++)
+        for (int r = 0; r < 7; r++)
+            mom[r] += g[i] * pow((double)i, r);
+    free(g);
+    for (size_t c = 0; c < sizeof lambdas / sizeof *lambdas; c++) {
+        double p[QC_MODEL_MAX_PARAMS] = {lambdas[c], 0.0, gain, k, sigma};
+        qc_model *m = make(&qc_model_apd, p);
+        double mass, mean, var, cmean, cvar;
+        law_moments(m, 1.0, lambdas[c] > 1e6 ? 512.0 : 64.0, &mass, &mean, &var);
+        assert_int_equal(qc_model_moments(m, 1.0, &cmean, &cvar), QC_OK);
+        assert_near(mass, 1.0, TOL_SUM * 100);
+        assert_near(mean / cmean, 1.0, 1e-9);
+        assert_near(var / cvar, 1.0, TOL_VAR_HIGH);
+        double kappa[7];
+        for (int r = 1; r < 7; r++)
+            kappa[r] = lambdas[c] * mom[r] / mom[0];
+        kappa[2] += sigma * sigma;
+        double sd = sqrt(kappa[2]);
+        for (double q = -6.0; q <= 6.0; q += 0.37) {
+            double t = kappa[1] + q * sd, want = edgeworth_below(kappa, t);
+            assert_near(m->type->below(m, 1.0, t), want, TOL_EDGEWORTH);
+            assert_near(m->type->above(m, 1.0, t), 1.0 - want, TOL_EDGEWORTH);
+        }
+        qc_model_free(m);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -226,6 +324,7 @@ int main(void)
         cmocka_unit_test(test_gauss_approximation),
         cmocka_unit_test(test_plan_reuse),
         cmocka_unit_test(test_unquantized),
+        cmocka_unit_test(test_high_counts),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -1,5 +1,6 @@
 /* test_convolve.c — the FFT convolution module: against direct sums,
- * and by properties of laws (sums of independent variables). */
+ * and by properties of laws (sums of independent variables); the chirp
+ * z-transform against its defining sum. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -106,12 +107,55 @@ static void test_laws(void **state)
     assert_int_equal(qc_conv_alloc(0, &bad), QC_EINVAL);
 }
 
+/* The chirp z-transform against the defining sum in long double, at a
+ * period N that is not a transform length (as apd uses: N = len·h), and
+ * against the plain FFT when N is the transform length. */
+static void test_chirp(void **state)
+{
+    (void)state;
+    const size_t nx = 300, K = 129, Ns[] = {256 * 3, 1000, 257};
+    double x[300];
+    for (size_t n = 0; n < nx; n++)
+        x[n] = exp(-0.01 * (double)n) * (1.0 + 0.5 * sin(0.3 * (double)n));
+    double complex X[129];
+    for (size_t c = 0; c < sizeof Ns / sizeof *Ns; c++) {
+        size_t N = Ns[c];
+        assert_int_equal(qc_conv_chirp(x, nx, N, K, X), QC_OK);
+        for (size_t k = 0; k < K; k++) {
+            long double re = 0.0L, im = 0.0L;
+            for (size_t n = 0; n < nx; n++) {
+                /* angle 2π (nk mod N)/N, reduced exactly */
+                long double a = 6.283185307179586476925286766559L *
+                                (long double)((n * k) % N) / (long double)N;
+                re += x[n] * cosl(a);
+                im -= x[n] * sinl(a);
+            }
+            assert_near(creal(X[k]), (double)re, TOL_FFT);
+            assert_near(cimag(X[k]), (double)im, TOL_FFT);
+        }
+    }
+    /* N = 512, the length of a real FFT of the same (zero-padded) input */
+    qc_conv *cv;
+    assert_int_equal(qc_conv_alloc(512, &cv), QC_OK);
+    double complex F[257], C[257];
+    qc_conv_forward(cv, x, nx, F);
+    assert_int_equal(qc_conv_chirp(x, nx, 512, 257, C), QC_OK);
+    for (size_t k = 0; k < 257; k++) {
+        assert_near(creal(C[k]), creal(F[k]), TOL_FFT);
+        assert_near(cimag(C[k]), cimag(F[k]), TOL_FFT);
+    }
+    qc_conv_free(cv);
+    assert_int_equal(qc_conv_chirp(x, 0, 512, 257, C), QC_EINVAL);
+    assert_int_equal(qc_conv_chirp(x, nx, 0, 257, C), QC_EINVAL);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_good_size),
         cmocka_unit_test(test_against_direct),
         cmocka_unit_test(test_laws),
+        cmocka_unit_test(test_chirp),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

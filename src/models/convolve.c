@@ -2,11 +2,18 @@
  * (convolution theorem, zero padding to avoid wrap-around; Cooley &
  * Tukey, Math. Comp. 19, 1965) on FFTW 3 real-to-complex plans (Frigo &
  * Johnson, Proc. IEEE 93(2), 2005). Plans are made once per length with
- * FFTW_ESTIMATE and executed on the struct's own aligned buffers. */
+ * FFTW_ESTIMATE and executed on the struct's own aligned buffers.
+ * qc_conv_chirp samples a spectrum at frequencies 2πk/N for any N by the
+ * chirp z-transform: nk = (n² + k² − (k − n)²)/2 turns the sum into a
+ * convolution (L. I. Bluestein, "A linear filtering approach to the
+ * computation of discrete Fourier transform," IEEE Trans. Audio
+ * Electroacoust. 18(4), 1970; L. R. Rabiner, R. W. Schafer and C. M.
+ * Rader, "The chirp z-transform algorithm," ibid. 17(2), 1969). */
 #include "models/convolve.h"
 
 #include "core/internal.h"
 
+#include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
@@ -134,4 +141,70 @@ qc_status qc_conv_linear(qc_conv *c, const double *a, size_t na,
     for (size_t i = 0; i < na + nb - 1; i++)
         y[i] = c->re[i] * scale;
     return QC_OK;
+}
+
+/* e^{−iπ m²/N}, the phase reduced exactly: m² mod 2N in integers
+ * (m < 2^30, so m² fits). */
+static double complex chirp(uint64_t m, uint64_t N)
+{
+    uint64_t r = (m * m) % (2 * N);
+    double a = 3.14159265358979323846 * ((double)r / (double)N);
+    return cos(a) - I * sin(a);
+}
+
+qc_status qc_conv_chirp(const double *x, size_t nx, size_t N, size_t K,
+                        double complex *X)
+{
+    if (nx == 0 || K == 0 || N == 0)
+        return qc_fail(QC_EINVAL, "chirp transform of %zu points at %zu of %zu "
+                                  "frequencies",
+                       nx, K, N);
+    size_t P = qc_conv_good_size(nx + K - 1);
+    if (P == 0 || P > ((size_t)1 << 30))
+        return qc_fail(QC_EINVAL, "chirp transform needs %zu + %zu points", nx, K);
+    if (N > ((size_t)1 << 60))
+        return qc_fail(QC_EINVAL, "chirp transform period %zu too long", N);
+    call_once(&planner_once, planner_lock_init);
+    fftw_complex *a = fftw_alloc_complex(P), *b = fftw_alloc_complex(P);
+    fftw_plan fwd = NULL, inv = NULL;
+    qc_status st = QC_OK;
+    if (!a || !b) {
+        st = qc_fail(QC_ENOMEM, "out of memory for a length-%zu FFT", P);
+        goto done;
+    }
+    mtx_lock(&planner_lock);
+    fwd = fftw_plan_dft_1d((int)P, a, a, FFTW_FORWARD, FFTW_ESTIMATE);
+    inv = fftw_plan_dft_1d((int)P, a, a, FFTW_BACKWARD, FFTW_ESTIMATE);
+    mtx_unlock(&planner_lock);
+    if (!fwd || !inv) {
+        st = qc_fail(QC_ENOMEM, "out of memory for a length-%zu FFT", P);
+        goto done;
+    }
+    double complex *A = (double complex *)a, *B = (double complex *)b;
+    memset(A, 0, P * sizeof *A);
+    memset(B, 0, P * sizeof *B);
+    for (size_t n = 0; n < nx; n++)
+        A[n] = x[n] * chirp(n, N);
+    for (size_t m = 0; m < K; m++)
+        B[m] = conj(chirp(m, N));
+    for (size_t m = 1; m < nx; m++) /* negative lags k − n < 0 */
+        B[P - m] = conj(chirp(m, N));
+    fftw_execute_dft(fwd, a, a);
+    fftw_execute_dft(fwd, b, b);
+    for (size_t i = 0; i < P; i++)
+        A[i] *= B[i];
+    fftw_execute_dft(inv, a, a);
+    double scale = 1.0 / (double)P;
+    for (size_t k = 0; k < K; k++)
+        X[k] = A[k] * scale * chirp(k, N);
+done:
+    mtx_lock(&planner_lock);
+    if (fwd)
+        fftw_destroy_plan(fwd);
+    if (inv)
+        fftw_destroy_plan(inv);
+    mtx_unlock(&planner_lock);
+    fftw_free(a);
+    fftw_free(b);
+    return st;
 }

@@ -36,4 +36,12 @@ void qc_conv_inverse(qc_conv *c, const double complex *spectrum, double *y);
 qc_status qc_conv_linear(qc_conv *c, const double *a, size_t na,
                          const double *b, size_t nb, double *y);
 
+/* Samples of the discrete-time Fourier transform of x[0..nx) at the K
+ * frequencies 2πk/N, k = 0..K−1 (N need not be a transform length):
+ *   X[k] = Σ_n x[n] e^{−2πi nk/N}   (the sign of qc_conv_forward),
+ * by the chirp z-transform (Bluestein's algorithm), three complex FFTs of
+ * a length ≥ nx + K − 1. QC_EINVAL for nx or K = 0 or N = 0. */
+qc_status qc_conv_chirp(const double *x, size_t nx, size_t N, size_t K,
+                        double complex *X);
+
 #endif
