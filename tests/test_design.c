@@ -511,8 +511,13 @@ static void test_loss_never_negative(void **state)
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(res.loss_bits >= 0.0);
     assert_true(res.rate_bits <= res.unquantized_bits);
-    assert_int_equal(res.unquantized_limited_by, QC_LIMIT_QUANTIZED_RATE);
-    assert_true(res.unquantized_bits == res.rate_bits && res.loss_bits == 0.0);
+    /* where the finite sum came out above the quadrature, the bound is
+     * what is reported, and flagged (which happens depends on the last
+     * digits of the design) */
+    if (res.unquantized_limited_by == QC_LIMIT_QUANTIZED_RATE)
+        assert_true(res.unquantized_bits == res.rate_bits && res.loss_bits == 0.0);
+    else
+        assert_int_equal(res.unquantized_limited_by, QC_LIMIT_NONE);
     /* a loss within tolerance: no SNR penalty, with the reason */
     assert_true(isnan(res.snr_penalty_db));
     assert_int_not_equal(res.snr_penalty_note, QC_PENALTY_DEFINED);
