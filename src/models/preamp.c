@@ -131,6 +131,11 @@ static double tail_log_bound(double mm, double x, double t)
     return -t * (1.0 - 1.0 / v) + mm * log(v) + x * (v - 1.0);
 }
 
+/* w_j and d_a are stepped by their ratios and recomputed in Loader's form
+ * every REANCHOR steps, so their rounding error stays near REANCHOR·ε
+ * instead of growing over a window of up to ~2e4 terms (x = 1e6). */
+#define REANCHOR 32.0
+
 /* P(Y < t): downward from j_hi, where P(m + j, t) is smallest. */
 static double preamp_below(const qc_model *m, double x, double t)
 {
@@ -153,6 +158,10 @@ static double preamp_below(const qc_model *m, double x, double t)
     stepper_init(&d, qc_log_poisson_term(mm + jhi - 1.0, t));
     double sum = 0.0;
     for (double j = jhi;; j -= 1.0) {
+        if (fmod(jhi - j, REANCHOR) == 0.0 && j != jhi) {
+            stepper_init(&w, log_weight(j, x));
+            stepper_init(&d, qc_log_poisson_term(mm + j - 1.0, t));
+        }
         sum += stepper_value(&w) * p;
         if (j == 0.0)
             break;
@@ -190,6 +199,10 @@ static double preamp_above(const qc_model *m, double x, double t)
     stepper_init(&d, qc_log_poisson_term(mm + jlo, t));
     double sum = 0.0;
     for (double j = jlo;; j += 1.0) {
+        if (fmod(j - jlo, REANCHOR) == 0.0 && j != jlo) {
+            stepper_init(&w, log_weight(j, x));
+            stepper_init(&d, qc_log_poisson_term(mm + j, t));
+        }
         sum += stepper_value(&w) * q;
         q += stepper_value(&d); /* Q(m+j+1, t) = Q(m+j, t) + d_{m+j} */
         if (q > 1.0)
