@@ -29,7 +29,6 @@
 #include "incgamma.h"
 
 #include <math.h>
-#include <stdlib.h>
 
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_sf_bessel.h>
