@@ -18,6 +18,9 @@ static int fail(const char *what)
     return 1;
 }
 
+/* A number, or null where it is not finite (jansson refuses NaN). */
+static json_t *number(double v) { return isfinite(v) ? json_real(v) : json_null(); }
+
 static int run(json_t *q, json_t *out)
 {
     const char *name = json_string_value(json_object_get(q, "model"));
@@ -53,9 +56,9 @@ static int run(json_t *q, json_t *out)
     json_array_foreach(ts, i, tv)
     {
         double t = json_number_value(tv);
-        json_array_append_new(below, json_real(m->type->below(m, x, t)));
-        json_array_append_new(above, json_real(m->type->above(m, x, t)));
-        json_array_append_new(dens, json_real(m->type->density(m, x, t)));
+        json_array_append_new(below, number(m->type->below(m, x, t)));
+        json_array_append_new(above, number(m->type->above(m, x, t)));
+        json_array_append_new(dens, number(m->type->density(m, x, t)));
     }
     double mean = NAN, var = NAN;
     if (qc_model_moments(m, x, &mean, &var) != QC_OK) {
