@@ -345,7 +345,7 @@ static void key_label(const char *key, const char *model, char *buf, size_t cap)
     static const char *const known[][2] = {
         {"snr-db", "SNR (dB)"},
         {"osnr-db", "OSNR (dB)"},
-        {"power-dbm", "received power (dBm)"},
+        {"received-dbm", "received power (dBm)"},
         {"photons", "mean photons per slot"},
         {"bits", "ADC resolution (bits)"},
         {"cells", "quantizer cells"},
