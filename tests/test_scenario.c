@@ -126,8 +126,8 @@ static void test_front_end_and_alphabets(void **state)
                                "thermal-density = 10\nslot-time = 1e-10\nextinction-db = 10\n"
                                "[alphabet ook]\nalphabet = upam:2\n[alphabet pam4]\n"
                                "alphabet = upam:4\n[sweep]\napd-gain = 1, 10\n"
-                               "power-dbm = -30:2:-20\nbits = 2\n[density]\nalphabet = pam4\n"
-                               "power-dbm = -24\n");
+                               "received-dbm = -30:2:-20\nbits = 2\n[density]\nalphabet = pam4\n"
+                               "received-dbm = -24\n");
     assert_int_equal(qc_scenario_npoints(sc), 2 * 2 * 6 * 1);
     if (qc_scenario_check(sc) != QC_OK)
         fail_msg("front-end scenario: %s", qc_last_error());
@@ -137,7 +137,7 @@ static void test_front_end_and_alphabets(void **state)
     assert_int_equal(qc_scenario_point_settings(sc, 12 + 6 + 3, &s), QC_OK);
     assert_string_equal(qc_settings_get(s, "alphabet"), "upam:4");
     assert_string_equal(qc_settings_get(s, "apd-gain"), "10");
-    assert_string_equal(qc_settings_get(s, "power-dbm"), "-24");
+    assert_string_equal(qc_settings_get(s, "received-dbm"), "-24");
     assert_int_equal(qc_settings_build(s, &m, &req), QC_OK);
     assert_int_equal(req.nlevels, 4);
     qc_model_free(m);
@@ -145,9 +145,9 @@ static void test_front_end_and_alphabets(void **state)
     qc_scenario_free(sc);
     /* a missing front-end key is named, with the point */
     sc = parse_ok("[receiver]\nmodel = apd-gauss\nthermal-density = 10\nslot-time = 1e-10\n"
-                  "alphabet = upam:2\nbits = 1\n[sweep]\npower-dbm = -30, -20\n");
+                  "alphabet = upam:2\nbits = 1\n[sweep]\nreceived-dbm = -30, -20\n");
     assert_int_equal(qc_scenario_check(sc), QC_EINVAL);
-    assert_message("t.ini: point 1 (power-dbm = -30): 'responsivity' (A/W) is required");
+    assert_message("t.ini: point 1 (received-dbm = -30): 'responsivity' (A/W) is required");
     qc_scenario_free(sc);
     sc = parse_ok("[receiver]\nmodel = gauss\n[sweep]\nalphabet = pam:2, pam:4, qam:16\n"
                   "snr-db = 10\nbits = 3\n");
@@ -188,7 +188,7 @@ typedef struct {
 static const error_case errors[] = {
     {"[reciever]\nmodel = gauss\n", QC_EINVAL, "t.ini:1: unknown section [reciever]"},
     {BASE "sigmma = 1\n", QC_EINVAL, "t.ini:4: unknown key 'sigmma' in [receiver] (did you mean 'sigma'?)"},
-    {BASE "sigma = abc\n", QC_EINVAL, "t.ini:4: 'sigma': 'abc' is not a number"},
+    {BASE "sigma = abc\n", QC_EINVAL, "t.ini:4: 'sigma': 'abc' is not a decimal number"},
     {BASE "[design]\n\nbits = 0\n", QC_EINVAL,
      "t.ini:6: 'bits': '0' is not a whole number from 1 to 16"},
     {BASE "[sweep]\nbits = 0:1:8\n", QC_EINVAL,

@@ -50,7 +50,7 @@ def allowed_nulls(j):
     src/quantcap.h qc_design_result)."""
     allowed = set()
     if j.get("model") in NO_SNR_MODELS:
-        allowed |= {"snr_db", "snr_penalty_db"}       # the model defines no SNR
+        allowed |= {"operating_snr_db", "snr_penalty_db"}       # the model defines no SNR
     if j.get("model") != "gauss":
         allowed.add("shaping_gap_db")                 # defined for gauss only
     if j.get("quantizer") != "lloyd-max":
@@ -215,7 +215,7 @@ def main():
     for s in ("1e-3", "1", "1e4"):
         for model in ("apd", "apd-gauss"):
             design(f"{model} signal {s} bits 3",
-                   ["--model", model, "--signal", s, "--gain", "20", "--k", "0.02",
+                   ["--model", model, "--signal", s, "--apd-gain", "20", "--apd-k", "0.02",
                     "--sigma-th", "100", "--levels", "0,1", "--bits", "3"])
         design(f"preamp 1 mode levels 0,{s} bits 3",
                ["--model", "preamp", "--modes", "1", "--levels", f"0,{s}", "--bits", "3"])
