@@ -878,7 +878,8 @@ size_t qc_scenario_naxes(const qc_scenario *sc);
 const char *qc_scenario_axis_key(const qc_scenario *sc, size_t i);
 size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
 const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
-/* The settings of grid point `index` (a new object: free it). */
+/* The settings of the grid point of index `index`, from 0 (messages and
+ * result files number it index + 1); a new object: free it. */
 qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
                                      qc_settings **out);
 /* 16 hex digits identifying what the points compute (alphabets, base

@@ -81,6 +81,7 @@ static void test_valid_grid(void **state)
     assert_string_equal(qc_settings_get(s, "objective"), "mi");
     qc_settings_free(s);
     assert_int_equal(qc_scenario_point_settings(sc, 30, &s), QC_EINVAL);
+    assert_message("point 31 is outside the grid of 30 points"); /* numbered from 1 */
     assert_null(s);
     qc_scenario_free(sc);
 }
