@@ -34,7 +34,8 @@ static void help(const cli_args *a)
 {
     printf("usage: quantcap design --model NAME [model parameters | --snr-db X]\n"
            "                       (--levels L1,...,Ln | --alphabet SPEC |\n"
-           "                        --level-grid LO,HI,N) (--bits B | --cells K)\n"
+           "                        --level-grid LO,HI,N)\n"
+           "                       (--bits B | --cells K | --thresholds T1,...,Tk)\n"
            "                       [--objective mi|capacity|gmi] [--quantizer NAME]\n"
            "                       [--peak-limit A] [--power-limit P] [--mean-limit M]\n"
            "                       [--optimize-levels]\n"
@@ -51,7 +52,7 @@ static void help(const cli_args *a)
            "law being evaluated (the given law, else uniform over the levels), or equal\n"
            "to the --power-limit budget when one is given. For qam:M it is Es/N0. With\n"
            "--objective capacity sigma is set with that law and the SNR reported is\n"
-           "E[x^2]/sigma^2 under the optimized law.\n"
+           "E[x^2]/sigma^2 under the optimized law (JSON operating_snr_db).\n"
            "The SNR penalty is the operating SNR minus the SNR at which the\n"
            "unquantized receiver reaches the same rate.\n\n"
            "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
