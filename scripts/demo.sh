@@ -10,7 +10,7 @@ ninja -C build quantcap
 scenario="${1:-scenarios/designer.ini}"
 name="$(basename "$scenario" .ini)"
 out="out/$name"
-./build/quantcap sweep "$scenario" --out "$out"
+./build/quantcap sweep "$scenario" --output-dir "$out"
 echo
 echo "table:  $out/results.csv (one row per point; also $out/results.json)"
 echo "plots:  $(ls "$out"/*.svg "$out"/*.png "$out"/*.pdf 2>/dev/null | tr '\n' ' ')"

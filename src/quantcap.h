@@ -176,6 +176,23 @@ typedef struct qc_model qc_model;
 /* A noise model: the conditional law of the receiver output given the
  * transmitted level x. Cells are half-open: a threshold t separates
  * {y < t} from {y ≥ t}; for counts, thresholds are integers. */
+/* The physical receiver whose quantities a model's parameters can be
+ * derived from (qc_settings_build's physical route; src/models/frontend.c). */
+typedef enum {
+    QC_FRONTEND_NONE = 0, /* parameters are given directly                 */
+    QC_FRONTEND_GAUSS,    /* PIN/APD current, noise at the mean power      */
+    QC_FRONTEND_GAUSS_SD, /* PIN/APD current, signal-dependent noise       */
+    QC_FRONTEND_APD,      /* APD electrons per slot (integrate and dump)   */
+    QC_FRONTEND_PHOTONS,  /* photons counted per slot                      */
+} qc_frontend_kind;
+
+/* Settings keys the physical front ends take (for the `keys` lists of the
+ * model types below). */
+#define QC_KEYS_OPTICAL_POWER "received-dbm", "peak-dbm", "extinction-db"
+#define QC_KEYS_PHOTODETECTOR                                                              \
+    "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
+        "apd-gain", "apd-k"
+
 typedef struct qc_model_type {
     const char *name;
     const char *summary;        /* one line for `quantcap models`        */
@@ -211,6 +228,13 @@ typedef struct qc_model_type {
     double (*snr)(const qc_model *m, const double *levels,
                   const double *input, size_t nlevels);
     qc_status (*scale_snr)(const qc_model *m, double gain, double *params_out);
+    /* Settings keys beyond the parameters that apply to this model (its
+     * front end, its SNR route, its data file), NULL-terminated; NULL:
+     * none. A key that some other model lists and this one does not is
+     * refused with this model (qc_settings_build). */
+    const char *const *keys;
+    /* The physical front end that derives the parameters (NONE: none). */
+    qc_frontend_kind frontend;
 } qc_model_type;
 
 /* A model instance. Models with a state (apd caches per-level grids,
@@ -334,6 +358,11 @@ qc_status qc_photons_per_slot(double power_w, double slot_time,
                               double wavelength, double efficiency,
                               double *photons);
 
+/* Quantum efficiency η = R·h·c/(q·λ) of a photodiode of responsivity R
+ * (A/W) at wavelength λ (m); QC_EINVAL when η would exceed 1. */
+qc_status qc_responsivity_to_efficiency(double responsivity, double wavelength,
+                                        double *efficiency);
+
 /* Parameters of `poisson`: signal = photons per slot at max(P_i),
  * background = dark_count_rate·T; levels P_i/P_max. */
 qc_status qc_frontend_poisson(const double *power_w, size_t nlevels,
@@ -438,7 +467,7 @@ void qc_constraints_none(qc_constraints *c);
 
 /* Apply a peak constraint to an alphabet: a grid loses the candidates
  * outside [−peak, peak] ([0, peak] for intensity); any other alphabet
- * with a level outside is QC_EINVAL naming 'peak' and the level; a grid
+ * with a level outside is QC_EINVAL naming 'peak-limit' and the level; a grid
  * left with fewer than 2 levels is QC_EINFEASIBLE. NaN peak: no change. */
 qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity);
 
@@ -813,6 +842,10 @@ qc_status qc_parse_list(const char *text, double **out, size_t *n);
 /* Levenshtein distance between two names (for "did you mean" hints);
  * names longer than 63 characters count as far from everything (99). */
 size_t qc_edit_distance(const char *a, const char *b);
+/* The JSON member and CSV column name of a flag or scenario key: the
+ * key with '-' written '_' ("snr-db" -> "snr_db"; docs/formats.md).
+ * Cut to fit `cap` bytes. */
+void qc_field_name(const char *key, char *buf, size_t cap);
 
 /* ------------------------------------------------------------------ */
 /* Settings: the key = value vocabulary of a design                    */
@@ -833,6 +866,9 @@ const qc_setting_info *qc_setting_keys(size_t *n);
 int qc_setting_known(const char *key);
 /* The known key closest to an unknown one (for "did you mean"), or NULL. */
 const char *qc_setting_suggest(const char *key);
+/* The current name of a key that was renamed (e.g. "power" ->
+ * "power-limit"), or NULL when `old` is not an old name. */
+const char *qc_setting_renamed(const char *old);
 
 typedef struct qc_settings qc_settings;
 qc_status qc_settings_alloc(qc_settings **out);
@@ -907,7 +943,8 @@ size_t qc_scenario_naxes(const qc_scenario *sc);
 const char *qc_scenario_axis_key(const qc_scenario *sc, size_t i);
 size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
 const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
-/* The settings of grid point `index` (a new object: free it). */
+/* The settings of the grid point of index `index`, from 0 (messages and
+ * result files number it index + 1); a new object: free it. */
 qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
                                      qc_settings **out);
 /* 16 hex digits identifying what the points compute (alphabets, base

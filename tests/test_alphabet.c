@@ -191,7 +191,7 @@ static void test_peak_on_alphabets(void **state)
     /* a named alphabet with a level outside is an error naming 'peak' */
     assert_int_equal(qc_alphabet_parse("pam:4", &a), QC_OK);
     assert_int_equal(qc_alphabet_apply_peak(a, 2.0, 0), QC_EINVAL);
-    assert_message("peak: level 1 (-3)");
+    assert_message("peak-limit: level 1 (-3)");
     assert_int_equal(qc_alphabet_apply_peak(a, 3.0, 0), QC_OK);
     assert_int_equal(qc_alphabet_apply_peak(a, -1.0, 0), QC_EINVAL);
     qc_alphabet_free(a);
@@ -227,7 +227,7 @@ static void test_constraint_feasibility(void **state)
     const double two[2] = {-3.0, 1.0};
     c.power = 2.0;
     assert_int_equal(qc_constraints_check(&c, two, 2, 1), QC_EINFEASIBLE);
-    assert_message("power and mean");
+    assert_message("power-limit and mean-limit");
     c.mean = 0.0; /* P(−3) ≥ 1/4: still incompatible with ≤ 1/8 */
     assert_int_equal(qc_constraints_check(&c, two, 2, 1), QC_EINFEASIBLE);
     c.mean = 0.5; /* P(−3) ≥ 1/8: the point 1/8 meets both */
@@ -239,7 +239,7 @@ static void test_constraint_feasibility(void **state)
     assert_message("peak");
     c.peak = 0.0;
     assert_int_equal(qc_constraints_check(&c, pam, 4, 1), QC_EINVAL);
-    assert_message("peak: must be a positive number");
+    assert_message("peak-limit: must be a positive number");
     c.peak = 3.0;
     c.intensity = 1; /* [0, 3] */
     assert_int_equal(qc_constraints_check(&c, pam, 4, 1), QC_EINVAL);
@@ -646,8 +646,8 @@ static void test_settings_keys(void **state)
     qc_model *m;
     qc_design_request r;
     /* a grid trimmed by the peak; snr-db with a power budget: σ² = P/snr */
-    const char *grid[] = {"model", "gauss", "level-grid", "-3,3,13", "peak", "2",
-                          "power", "2", "snr-db", "10", "bits", "2",
+    const char *grid[] = {"model", "gauss", "level-grid", "-3,3,13", "peak-limit", "2",
+                          "power-limit", "2", "snr-db", "10", "bits", "2",
                           "objective", "capacity", NULL};
     assert_int_equal(build(grid, &s, &m, &r), QC_OK);
     assert_int_equal(r.nlevels, 9); /* −2, −1.5, …, 2 */
@@ -670,7 +670,7 @@ static void test_settings_keys(void **state)
     qc_settings_free(s);
     /* an intensity model: the peak interval is [0, A] */
     const char *pois[] = {"model", "poisson", "signal", "4", "level-grid", "-1,1,9",
-                          "peak", "0.5", "bits", "2", "objective", "capacity", NULL};
+                          "peak-limit", "0.5", "bits", "2", "objective", "capacity", NULL};
     assert_int_equal(build(pois, &s, &m, &r), QC_OK);
     assert_int_equal(r.nlevels, 3); /* 0, 0.25, 0.5 */
     assert_true(r.constraints->intensity);
@@ -679,7 +679,7 @@ static void test_settings_keys(void **state)
     qc_settings_free(s);
     /* practitioners' keys; the switch takes true or false */
     const char *prac[] = {"model", "gauss", "sigma", "1", "alphabet", "pam:4", "bits", "2",
-                          "blocklength", "500", "error-rate", "1e-3", "peak", "3",
+                          "blocklength", "500", "error-rate", "1e-3", "peak-limit", "3",
                           "optimize-levels", "true", "level-starts", "2", NULL};
     assert_int_equal(build(prac, &s, &m, &r), QC_OK);
     assert_int_equal(r.blocklength, 500);
@@ -690,14 +690,14 @@ static void test_settings_keys(void **state)
     assert_int_equal(qc_settings_set(s, "optimize-levels", "maybe"), QC_EINVAL);
     assert_message("true or false");
     assert_int_equal(qc_settings_set(s, "error-rate", "1"), QC_EINVAL);
-    assert_int_equal(qc_settings_set(s, "peak", "0"), QC_EINVAL);
+    assert_int_equal(qc_settings_set(s, "peak-limit", "0"), QC_EINVAL);
     assert_int_equal(qc_settings_set(s, "objective", "gmi"), QC_OK);
     qc_model_free(m);
     qc_settings_free(s);
     /* peak-dbm: OOK with infinite extinction has its top level at twice
-     * the average power, so peak-dbm = power-dbm + 10·log10(2) builds the
+     * the average power, so peak-dbm = received-dbm + 10·log10(2) builds the
      * same model (the front end of docs/models.md) */
-    const char *avg[] = {"model", "poisson", "alphabet", "upam:2", "power-dbm", "-70",
+    const char *avg[] = {"model", "poisson", "alphabet", "upam:2", "received-dbm", "-70",
                          "slot-time", "1e-9", "wavelength-nm", "1550", "bits", "2", NULL};
     char peak_dbm[32];
     snprintf(peak_dbm, sizeof peak_dbm, "%.17g", -70.0 + 10.0 * log10(2.0));

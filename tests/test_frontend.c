@@ -174,11 +174,11 @@ static void test_bad_inputs(void **state)
         {offsetof(qc_receiver, bandwidth), 0.0, "'bandwidth'"},
         {offsetof(qc_receiver, dark_current), -1e-9, "'dark_current' must be >= 0"},
         {offsetof(qc_receiver, dark_current), NAN, "'dark_current'"},
-        {offsetof(qc_receiver, gain), 0.5, "'gain' must be >= 1"},
-        {offsetof(qc_receiver, gain), NAN, "'gain'"},
-        {offsetof(qc_receiver, ionization_ratio), 1.5, "'ionization_ratio'"},
-        {offsetof(qc_receiver, ionization_ratio), -0.1, "'ionization_ratio'"},
-        {offsetof(qc_receiver, ionization_ratio), NAN, "'ionization_ratio'"},
+        {offsetof(qc_receiver, gain), 0.5, "'apd-gain' must be >= 1"},
+        {offsetof(qc_receiver, gain), NAN, "'apd-gain'"},
+        {offsetof(qc_receiver, ionization_ratio), 1.5, "'apd-k'"},
+        {offsetof(qc_receiver, ionization_ratio), -0.1, "'apd-k'"},
+        {offsetof(qc_receiver, ionization_ratio), NAN, "'apd-k'"},
         {offsetof(qc_receiver, load_resistance), 0.0, "'load_resistance'"},
         {offsetof(qc_receiver, load_resistance), NAN, "give 'thermal_density'"},
         {offsetof(qc_receiver, temperature), -1.0, "'temperature'"},
@@ -195,8 +195,8 @@ static void test_bad_inputs(void **state)
     qc_receiver rx = apd_rx();
     expect(qc_receiver_noise(NULL, 1e-6, &v, &v), "no receiver");
     expect(qc_receiver_noise(&rx, -1e-6, &v, &v), "'power'");
-    expect(qc_excess_noise_factor(0.99, 0.1, &F), "'gain'");
-    expect(qc_excess_noise_factor(INFINITY, 0.1, &F), "'gain'");
+    expect(qc_excess_noise_factor(0.99, 0.1, &F), "'apd-gain'");
+    expect(qc_excess_noise_factor(INFINITY, 0.1, &F), "'apd-gain'");
     expect(qc_intensity_levels(NAN, 10, 2, pw), "'power'");
     expect(qc_intensity_levels(0, 1.0, 2, pw), "'extinction_ratio'");
     expect(qc_intensity_levels(0, 0.5, 2, pw), "'extinction_ratio'");

@@ -116,7 +116,7 @@ static void test_bad_parameters(void **state)
     double p[QC_MODEL_MAX_PARAMS] = {10.0, 0.0, 10.0, 1.0, 5.0};
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_apd, p, &m), QC_EINVAL);
-    expect_message("'k'");
+    expect_message("'apd-k'");
     m = make("apd-gauss", p); /* the Gaussian approximation takes k = 1 */
     qc_model_free(m);
 }

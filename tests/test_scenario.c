@@ -81,6 +81,7 @@ static void test_valid_grid(void **state)
     assert_string_equal(qc_settings_get(s, "objective"), "mi");
     qc_settings_free(s);
     assert_int_equal(qc_scenario_point_settings(sc, 30, &s), QC_EINVAL);
+    assert_message("point 31 is outside the grid of 30 points"); /* numbered from 1 */
     assert_null(s);
     qc_scenario_free(sc);
 }
@@ -126,8 +127,8 @@ static void test_front_end_and_alphabets(void **state)
                                "thermal-density = 10\nslot-time = 1e-10\nextinction-db = 10\n"
                                "[alphabet ook]\nalphabet = upam:2\n[alphabet pam4]\n"
                                "alphabet = upam:4\n[sweep]\napd-gain = 1, 10\n"
-                               "power-dbm = -30 to -20 step 2\nbits = 2\n"
-                               "[density]\nalphabet = pam4\npower-dbm = -24\n");
+                               "received-dbm = -30 to -20 step 2\nbits = 2\n"
+                               "[density]\nalphabet = pam4\nreceived-dbm = -24\n");
     assert_int_equal(qc_scenario_npoints(sc), 2 * 2 * 6 * 1);
     if (qc_scenario_check(sc) != QC_OK)
         fail_msg("front-end scenario: %s", qc_last_error());
@@ -137,7 +138,7 @@ static void test_front_end_and_alphabets(void **state)
     assert_int_equal(qc_scenario_point_settings(sc, 12 + 6 + 3, &s), QC_OK);
     assert_string_equal(qc_settings_get(s, "alphabet"), "upam:4");
     assert_string_equal(qc_settings_get(s, "apd-gain"), "10");
-    assert_string_equal(qc_settings_get(s, "power-dbm"), "-24");
+    assert_string_equal(qc_settings_get(s, "received-dbm"), "-24");
     assert_int_equal(qc_settings_build(s, &m, &req), QC_OK);
     assert_int_equal(req.nlevels, 4);
     qc_model_free(m);
@@ -145,9 +146,9 @@ static void test_front_end_and_alphabets(void **state)
     qc_scenario_free(sc);
     /* a missing front-end key is named, with the point */
     sc = parse_ok("[receiver]\nmodel = apd-gauss\nthermal-density = 10\nslot-time = 1e-10\n"
-                  "alphabet = upam:2\nbits = 1\n[sweep]\npower-dbm = -30, -20\n");
+                  "alphabet = upam:2\nbits = 1\n[sweep]\nreceived-dbm = -30, -20\n");
     assert_int_equal(qc_scenario_check(sc), QC_EINVAL);
-    assert_message("t.ini: point 1 (power-dbm = -30): 'responsivity' (A/W) is required");
+    assert_message("t.ini: point 1 (received-dbm = -30): 'responsivity' (A/W) is required");
     qc_scenario_free(sc);
     sc = parse_ok("[receiver]\nmodel = gauss\n[sweep]\nalphabet = pam:2, pam:4, qam:16\n"
                   "snr-db = 10\nbits = 3\n");
@@ -225,7 +226,7 @@ typedef struct {
 static const error_case errors[] = {
     {"[reciever]\nmodel = gauss\n", QC_EINVAL, "t.ini:1: unknown section [reciever]"},
     {BASE "sigmma = 1\n", QC_EINVAL, "t.ini:4: unknown key 'sigmma' in [receiver] (did you mean 'sigma'?)"},
-    {BASE "sigma = abc\n", QC_EINVAL, "t.ini:4: 'sigma': 'abc' is not a number"},
+    {BASE "sigma = abc\n", QC_EINVAL, "t.ini:4: 'sigma': 'abc' is not a decimal number"},
     {BASE "[design]\n\nbits = 0\n", QC_EINVAL,
      "t.ini:6: 'bits': '0' is not a whole number from 1 to 16"},
     {BASE "[sweep]\nbits = 0 to 8 step 1\n", QC_EINVAL,

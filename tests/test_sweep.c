@@ -69,7 +69,8 @@ static void spit(const char *path, const char *text, size_t len)
 
 static json_t *record(size_t point)
 {
-    return json_pack("{s:I, s:s, s:n, s:{s:f}}", "point", (json_int_t)point, "status", "ok",
+    /* records count points from 1; `point` is the index */
+    return json_pack("{s:I, s:s, s:n, s:{s:f}}", "point", (json_int_t)point + 1, "status", "ok",
                      "error", "result", "rate_bits", 0.25 * (double)point);
 }
 
@@ -115,7 +116,7 @@ static void test_checkpoint_lines(void **state)
     size_t len;
     char *after = slurp(path, &len);
     assert_int_equal(memcmp(after, whole, whole_len), 0); /* torn part gone */
-    assert_non_null(strstr(after + whole_len, "\"point\":1,"));
+    assert_non_null(strstr(after + whole_len, "\"point\":2,"));
     assert_int_equal(after[len - 1], '\n');
     free(after);
 
@@ -153,12 +154,19 @@ static void test_checkpoint_lines(void **state)
     assert_int_equal(qc_checkpoint_resume(&cp, path, "00112233aabbccdd", 6, recs, &found),
                      QC_EFORMAT);
 
-    /* a point outside the grid */
+    /* a point outside the grid: points count from 1, so 0 and 6 of 5 */
     json_t *o = NULL;
     size_t p;
-    assert_int_equal(qc_checkpoint_parse_line("{\"point\":5,\"status\":\"ok\"}", 25, 5, &o, &p),
+    assert_int_equal(qc_checkpoint_parse_line("{\"point\":6,\"status\":\"ok\"}", 25, 5, &o, &p),
                      QC_EFORMAT);
     assert_null(o);
+    assert_int_equal(qc_checkpoint_parse_line("{\"point\":0,\"status\":\"ok\"}", 25, 5, &o, &p),
+                     QC_EFORMAT);
+    assert_null(o);
+    assert_int_equal(qc_checkpoint_parse_line("{\"point\":5,\"status\":\"ok\"}", 25, 5, &o, &p),
+                     QC_OK);
+    assert_int_equal(p, 4);
+    json_decref(o);
 
     /* no file yet: a new checkpoint */
     unlink(path);
@@ -238,7 +246,7 @@ static void test_threads_and_resume(void **state)
     snprintf(a, sizeof a, "%s/results.csv", d1);
     char *csv = slurp(a, &len);
     assert_int_equal(count_lines(csv), n + 1); /* header + one row per point */
-    assert_true(strncmp(csv, "point,alphabet,snr-db,bits,status,error,", 40) == 0);
+    assert_true(strncmp(csv, "point,alphabet,snr_db,bits,status,error,", 40) == 0);
     free(csv);
 
     /* interrupted: keep the header and every third point, add a torn line */

@@ -58,9 +58,9 @@ memcheck() {
 
 memcheck design design --model gauss --snr-db 12 --alphabet pam:4 --bits 3 \
     --compare --json --output "$work/design.json"
-memcheck design-apd design --model apd --signal 50 --gain 10 --k 0.02 \
+memcheck design-apd design --model apd --signal 50 --apd-gain 10 --apd-k 0.02 \
     --sigma-th 30 --levels 0,1 --bits 2 --json --output "$work/apd.json"
-memcheck sweep sweep "$here/valgrind_sweep.ini" --out "$work/sweep" --jobs 2 --quiet
+memcheck sweep sweep "$here/valgrind_sweep.ini" --output-dir "$work/sweep" --jobs 2 --quiet
 
 echo "valgrind: $passed passed, $failed failed"
 [ $failed -eq 0 ]

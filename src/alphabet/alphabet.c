@@ -172,13 +172,13 @@ qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity)
     if (isnan(peak))
         return QC_OK;
     if (!(peak > 0.0) || !isfinite(peak))
-        return qc_fail(QC_EINVAL, "peak: must be a positive number (got %g)", peak);
+        return qc_fail(QC_EINVAL, "peak-limit: must be a positive number (got %g)", peak);
     const char *range = intensity ? "[0, peak]" : "[-peak, peak]";
     if (a->kind != QC_ALPHABET_GRID) {
         for (size_t i = 0; i < a->nlevels; i++)
             if (!qc_within_peak(a->levels[i], peak, intensity))
                 return qc_fail(QC_EINVAL,
-                               "peak: level %zu (%g) lies outside %s = [%g, %g]; only a "
+                               "peak-limit: level %zu (%g) lies outside %s = [%g, %g]; only a "
                                "level-grid drops candidates outside the peak",
                                i + 1, a->levels[i], range, intensity ? 0.0 : -peak, peak);
         return QC_OK;
@@ -189,7 +189,7 @@ qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity)
             a->levels[k++] = fmin(fmax(a->levels[i], intensity ? 0.0 : -peak), peak);
     if (k < 2)
         return qc_fail(QC_EINFEASIBLE,
-                       "peak: %g leaves %zu of the %zu level-grid candidates inside %s "
+                       "peak-limit: %g leaves %zu of the %zu level-grid candidates inside %s "
                        "(at least 2 needed)",
                        peak, k, a->nlevels, range);
     a->nlevels = a->size = k;

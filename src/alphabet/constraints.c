@@ -30,13 +30,13 @@ qc_status qc_constraints_validate(const qc_constraints *c, unsigned dimensions)
     if (!c)
         return QC_OK;
     if (!isnan(c->peak) && (!(c->peak > 0.0) || !isfinite(c->peak)))
-        return qc_fail(QC_EINVAL, "peak: must be a positive number (got %g)", c->peak);
+        return qc_fail(QC_EINVAL, "peak-limit: must be a positive number (got %g)", c->peak);
     if (!isnan(c->power) && (!(c->power > 0.0) || !isfinite(c->power)))
-        return qc_fail(QC_EINVAL, "power: must be a positive number (got %g)", c->power);
+        return qc_fail(QC_EINVAL, "power-limit: must be a positive number (got %g)", c->power);
     if (!isnan(c->mean) && !isfinite(c->mean))
-        return qc_fail(QC_EINVAL, "mean: must be a finite number (got %g)", c->mean);
+        return qc_fail(QC_EINVAL, "mean-limit: must be a finite number (got %g)", c->mean);
     if (!isnan(c->mean) && dimensions == 2)
-        return qc_fail(QC_EINVAL, "mean: an average-level constraint applies to real "
+        return qc_fail(QC_EINVAL, "mean-limit: an average-level constraint applies to real "
                                   "alphabets, not to QAM");
     return QC_OK;
 }
@@ -84,7 +84,7 @@ qc_status qc_constraints_check(const qc_constraints *c, const double *levels, si
     if (!isnan(c->peak))
         for (size_t i = 0; i < nlevels; i++)
             if (!qc_within_peak(levels[i], c->peak, c->intensity))
-                return qc_fail(QC_EINVAL, "peak: level %zu (%g) lies outside [%g, %g]", i + 1,
+                return qc_fail(QC_EINVAL, "peak-limit: level %zu (%g) lies outside [%g, %g]", i + 1,
                                levels[i], c->intensity ? 0.0 : -c->peak, c->peak);
     size_t imin = 0;
     for (size_t i = 1; i < nlevels; i++)
@@ -92,7 +92,7 @@ qc_status qc_constraints_check(const qc_constraints *c, const double *levels, si
             imin = i;
     if (!isnan(c->power) && d * levels[imin] * levels[imin] > c->power)
         return qc_fail(QC_EINFEASIBLE,
-                       "power: %g is below the smallest %s of any level (%g, at level %g)",
+                       "power-limit: %g is below the smallest %s of any level (%g, at level %g)",
                        c->power, dimensions == 2 ? "E|x|^2" : "E[x^2]",
                        d * levels[imin] * levels[imin], levels[imin]);
     size_t ilow = 0;
@@ -100,7 +100,7 @@ qc_status qc_constraints_check(const qc_constraints *c, const double *levels, si
         if (levels[i] < levels[ilow])
             ilow = i;
     if (!isnan(c->mean) && levels[ilow] > c->mean)
-        return qc_fail(QC_EINFEASIBLE, "mean: %g is below the smallest level (%g)", c->mean,
+        return qc_fail(QC_EINFEASIBLE, "mean-limit: %g is below the smallest level (%g)", c->mean,
                        levels[ilow]);
     if (!isnan(c->power) && !isnan(c->mean)) {
         double *a = qc_malloc_array(nlevels, sizeof *a);
@@ -121,7 +121,7 @@ qc_status qc_constraints_check(const qc_constraints *c, const double *levels, si
         free(b);
         if (!ok)
             return qc_fail(QC_EINFEASIBLE,
-                           "power and mean: no input law on these levels has both "
+                           "power-limit and mean-limit: no input law on these levels has both "
                            "E[x^2] <= %g and E[x] <= %g",
                            c->power, c->mean);
     }
@@ -143,12 +143,12 @@ qc_status qc_constraints_check_law(const qc_constraints *c, const double *levels
     const char *which = law ? "the given law" : "the uniform law";
     if (!isnan(c->power) && e2 > c->power * (1.0 + QC_BUDGET_SLACK))
         return qc_fail(QC_EINFEASIBLE,
-                       "power: %s has %s = %g > %g (use objective capacity to choose the "
+                       "power-limit: %s has %s = %g > %g (use objective capacity to choose the "
                        "law, or optimize-levels to move the levels)",
                        which, dimensions == 2 ? "E|x|^2" : "E[x^2]", e2, c->power);
     if (!isnan(c->mean) && e1 > c->mean + QC_BUDGET_SLACK * fmax(1.0, fabs(c->mean)))
         return qc_fail(QC_EINFEASIBLE,
-                       "mean: %s has E[x] = %g > %g (use objective capacity to choose the "
+                       "mean-limit: %s has E[x] = %g > %g (use objective capacity to choose the "
                        "law, or optimize-levels to move the levels)",
                        which, e1, c->mean);
     return QC_OK;

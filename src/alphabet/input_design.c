@@ -53,8 +53,8 @@ static qc_status check_alphabet_request(const qc_design_request *req, unsigned *
     if (st != QC_OK)
         return st;
     if (req->costs && qc_constraints_any(req->constraints))
-        return qc_fail(QC_EINVAL, "give per-level costs or input constraints (peak, power, "
-                                  "mean), not both");
+        return qc_fail(QC_EINVAL, "give per-level costs or input constraints (peak-limit, "
+                                  "power-limit, mean-limit), not both");
     if (req->blocklength > 0 && !(req->error_rate > 0.0 && req->error_rate < 1.0))
         return qc_fail(QC_EINVAL, "error-rate must lie strictly between 0 and 1 with a "
                                   "blocklength (got %g)",
@@ -424,8 +424,8 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
                                     dims)) != QC_OK)
             goto done;
         if (!set.bounded) {
-            st = qc_fail(QC_EINVAL, "optimize-levels needs the levels bounded: give 'peak' "
-                                    "or 'power' (or 'mean' for intensity levels)");
+            st = qc_fail(QC_EINVAL, "optimize-levels needs the levels bounded: give 'peak-limit' "
+                                    "or 'power-limit' (or 'mean-limit' for intensity levels)");
             goto done;
         }
         size_t starts = req->level_starts ? req->level_starts : DEFAULT_LEVEL_STARTS;

@@ -51,8 +51,23 @@ static int find_opt(const cli_args *a, const char *name, size_t len)
     return -1;
 }
 
+/* Option names given up for clearer ones (besides the renamed settings
+ * keys, qc_setting_renamed): the old name gets a hint to the new one. */
+static const char *renamed_option(const char *name)
+{
+    static const char *const renamed[][2] = {{"out", "output-dir"}};
+    for (size_t i = 0; i < sizeof renamed / sizeof renamed[0]; i++)
+        if (strcmp(renamed[i][0], name) == 0)
+            return renamed[i][1];
+    return qc_setting_renamed(name);
+}
+
 static int unknown_option(const cli_args *a, const char *name)
 {
+    const char *now = renamed_option(name);
+    if (now && find_opt(a, now, strlen(now)) >= 0)
+        return cli_usage_error("%s: unknown option '--%s' (renamed: did you mean '--%s'?)",
+                               a->command, name, now);
     size_t best = 99, bi = 0;
     for (size_t i = 0; i < a->nopts; i++) {
         size_t d = qc_edit_distance(name, a->opts[i]->name);

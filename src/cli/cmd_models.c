@@ -10,6 +10,29 @@ static const cli_opt options[] = {
     {NULL, NULL, NULL},
 };
 
+/* The settings keys beyond the parameters that the model takes; every
+ * other model-specific key is refused with it. */
+static void print_keys(const qc_model_type *type)
+{
+    if (!type->keys || !type->keys[0]) {
+        printf("other keys: none (no physical front end, no SNR); keys of other models\n"
+               "  are refused with this one\n");
+        return;
+    }
+    printf("other keys that apply (keys of other models are refused):\n ");
+    size_t col = 1;
+    for (size_t i = 0; type->keys[i]; i++) {
+        size_t w = strlen(type->keys[i]) + 3;
+        if (col + w > 78) {
+            printf("\n ");
+            col = 1;
+        }
+        printf(" --%s", type->keys[i]);
+        col += w;
+    }
+    printf("\n");
+}
+
 int cmd_models(int argc, char **argv)
 {
     cli_args a;
@@ -18,7 +41,8 @@ int cmd_models(int argc, char **argv)
     if (rc == CLI_HELP) {
         printf("usage: quantcap models [NAME] [--json]\n\n"
                "Lists the noise models, one line each; with NAME, that model's\n"
-               "parameters, units, defaults and allowed ranges.\n\noptions:\n");
+               "parameters, units, defaults and allowed ranges, and the other keys\n"
+               "(physical front end, SNR, data file) that apply to it.\n\noptions:\n");
         cli_print_options(&a, stdout);
         return CLI_OK;
     }
@@ -50,6 +74,10 @@ int cmd_models(int argc, char **argv)
                 json_array_append_new(ps, pj);
             }
             json_object_set_new(o, "parameters", ps);
+            json_t *ks = json_array();
+            for (size_t i = 0; types[t]->keys && types[t]->keys[i]; i++)
+                json_array_append_new(ks, json_string(types[t]->keys[i]));
+            json_object_set_new(o, "keys", ks);
             json_array_append_new(arr, o);
         }
         cli_sink s;
@@ -82,6 +110,7 @@ int cmd_models(int argc, char **argv)
             else
                 printf("; default %g\n", p->default_value);
         }
+        print_keys(types[t]);
     }
     return CLI_OK;
 }

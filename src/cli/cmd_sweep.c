@@ -13,7 +13,7 @@
 #define MAX_SETS 64
 
 static const cli_opt sweep_options[] = {
-    {"out", "DIR", "folder for the results (default out/NAME, NAME = the file's stem)"},
+    {"output-dir", "DIR", "folder for the results (default out/NAME, NAME = the file's stem)"},
     {"jobs", "N", "parallel threads (default: one per core)"},
     {"resume", NULL, "continue the checkpoint in DIR, skipping finished points"},
     {"set", "KEY=VALUE", "override a scenario key (repeatable; SECTION.KEY=VALUE too)"},
@@ -24,7 +24,7 @@ static const cli_opt sweep_options[] = {
 
 static void help(const cli_args *a)
 {
-    printf("usage: quantcap sweep SCENARIO [--out DIR] [--jobs N] [--resume]\n"
+    printf("usage: quantcap sweep SCENARIO [--output-dir DIR] [--jobs N] [--resume]\n"
            "                      [--set KEY=VALUE ...] [--no-plots]\n\n"
            "Runs every point of the scenario's grid (alphabets x sweep axes), each exactly\n"
            "as 'quantcap design' would with the point's settings, in parallel. Finished\n"
@@ -151,8 +151,8 @@ int cmd_sweep(int argc, char **argv)
         return rc;
     }
     char out[4096];
-    if (cli_has(&a, "out"))
-        snprintf(out, sizeof out, "%s", cli_get(&a, "out"));
+    if (cli_has(&a, "output-dir"))
+        snprintf(out, sizeof out, "%s", cli_get(&a, "output-dir"));
     else
         default_out(file, out, sizeof out);
 

@@ -26,7 +26,8 @@ static void usage(FILE *out)
             "Information rates of quantized optical receivers.\n\ncommands:\n");
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
         fprintf(out, "  %-10s %s\n", commands[i].name, commands[i].summary);
-    fprintf(out, "\n'quantcap COMMAND --help' describes a command's options.\n");
+    fprintf(out, "\n'quantcap help COMMAND' (or 'quantcap COMMAND --help') describes a "
+                 "command's options.\n");
 }
 
 int main(int argc, char **argv)
@@ -34,6 +35,17 @@ int main(int argc, char **argv)
     if (argc < 2) {
         usage(stderr);
         return CLI_USAGE;
+    }
+    if (strcmp(argv[1], "help") == 0 && argc > 2) {
+        /* "help COMMAND" is "COMMAND --help" */
+        if (argc > 3)
+            return cli_usage_error("help: expected one COMMAND (got %d arguments)", argc - 2);
+        char help_flag[] = "--help";
+        char *help_argv[] = {help_flag, NULL};
+        for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
+            if (strcmp(argv[2], commands[i].name) == 0)
+                return commands[i].run(1, help_argv);
+        return cli_usage_error("help: unknown command '%s' (see 'quantcap --help')", argv[2]);
     }
     if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
         strcmp(argv[1], "help") == 0) {

@@ -1,6 +1,6 @@
 /* parse.c — strict parsing of numbers and number lists from text: the
  * whole field must be a finite number (no atof, no silent clamps); and the
- * edit distance behind "did you mean" hints. */
+ * edit distance behind "did you mean" hints; the JSON/CSV spelling of a key. */
 #include "core/internal.h"
 
 #include <errno.h>
@@ -29,15 +29,46 @@ static int trimmed(const char *text, size_t len, char *buf, size_t cap)
     return 0;
 }
 
+/* The one number grammar of every option and key: a decimal number,
+ * [+-]digits[.digits][(e|E)[+-]digits] (a leading or trailing point is
+ * allowed: ".5", "5."). Hexadecimal, inf and nan, which strtod would
+ * take, are not numbers here. */
+static int is_decimal(const char *s)
+{
+    size_t digits = 0;
+    if (*s == '+' || *s == '-')
+        s++;
+    for (; *s >= '0' && *s <= '9'; s++)
+        digits++;
+    if (*s == '.')
+        for (s++; *s >= '0' && *s <= '9'; s++)
+            digits++;
+    if (digits == 0)
+        return 0;
+    if (*s == 'e' || *s == 'E') {
+        s++;
+        if (*s == '+' || *s == '-')
+            s++;
+        if (!(*s >= '0' && *s <= '9'))
+            return 0;
+        while (*s >= '0' && *s <= '9')
+            s++;
+    }
+    return *s == '\0';
+}
+
 static qc_status parse_field(const char *field, double *out)
 {
     if (field[0] == '\0')
         return qc_fail(QC_EINVAL, "empty value where a number was expected");
+    if (!is_decimal(field))
+        return qc_fail(QC_EINVAL, "'%s' is not a decimal number (expected e.g. 12, -0.5, 3e-9)",
+                       field);
     char *end;
     errno = 0;
     double v = strtod(field, &end);
     if (end == field || *end != '\0')
-        return qc_fail(QC_EINVAL, "'%s' is not a number", field);
+        return qc_fail(QC_EINVAL, "'%s' is not a decimal number", field);
     if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0))
         return qc_fail(QC_EINVAL, "'%s' is not a finite number in range", field);
     *out = v; /* on underflow strtod gives the nearest subnormal or 0 */
@@ -102,7 +133,7 @@ qc_status qc_parse_list(const char *text, double **out, size_t *n)
         }
         if (parse_field(buf, &v[k]) != QC_OK) {
             free(v);
-            return qc_fail(QC_EINVAL, "value %zu '%s' is not a finite number", k + 1, buf);
+            return qc_fail(QC_EINVAL, "value %zu: %s", k + 1, qc_last_error());
         }
         k++;
         if (!comma)
@@ -134,4 +165,14 @@ size_t qc_edit_distance(const char *s, const char *t)
             d[i][j] = best;
         }
     return d[m][n];
+}
+
+void qc_field_name(const char *key, char *buf, size_t cap)
+{
+    if (cap == 0)
+        return;
+    size_t i = 0;
+    for (; key[i] && i + 1 < cap; i++)
+        buf[i] = key[i] == '-' ? '_' : key[i];
+    buf[i] = '\0';
 }

@@ -446,11 +446,10 @@ static void key_words(const char *key, const char *model, char *words, size_t wc
     static const char *const known[][3] = {
         {"snr-db", "SNR", "dB"},
         {"osnr-db", "OSNR", "dB"},
-        {"power-dbm", "received power", "dBm"},
+        {"received-dbm", "received power", "dBm"},
         {"peak-dbm", "peak received power", "dBm"},
         {"extinction-db", "extinction ratio", "dB"},
         {"apd-gain", "APD gain", ""},
-        {"gain", "APD gain", ""},
         {"apd-k", "ionization ratio k", ""},
         {"photons", "mean photons per slot", ""},
         {"quantizer", "quantizer", ""},

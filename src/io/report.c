@@ -93,11 +93,11 @@ static void report_alphabet(json_t *o, const qc_design_request *req,
     json_t *c = json_object();
     if (c && req->constraints) {
         if (!isnan(req->constraints->peak))
-            json_object_set_new(c, "peak", qc_report_real(req->constraints->peak));
+            json_object_set_new(c, "peak_limit", qc_report_real(req->constraints->peak));
         if (!isnan(req->constraints->power))
-            json_object_set_new(c, "power", qc_report_real(req->constraints->power));
+            json_object_set_new(c, "power_limit", qc_report_real(req->constraints->power));
         if (!isnan(req->constraints->mean))
-            json_object_set_new(c, "mean", qc_report_real(req->constraints->mean));
+            json_object_set_new(c, "mean_limit", qc_report_real(req->constraints->mean));
     }
     json_object_set_new(o, "constraints", c);
     json_t *mass = json_array();
@@ -122,8 +122,11 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
         return NULL;
     json_object_set_new(o, "model", json_string(m->type->name));
     json_t *pj = json_object();
-    for (size_t i = 0; i < m->type->nparams; i++)
-        json_object_set_new(pj, m->type->params[i].name, qc_report_real(m->params[i]));
+    for (size_t i = 0; i < m->type->nparams; i++) {
+        char name[64];
+        qc_field_name(m->type->params[i].name, name, sizeof name);
+        json_object_set_new(pj, name, qc_report_real(m->params[i]));
+    }
     json_object_set_new(o, "parameters", pj);
     json_object_set_new(o, "objective", json_string(qc_objective_name(req->objective)));
     json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer)));
@@ -147,7 +150,9 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "design_iterations",
                         json_integer((json_int_t)res->design_iterations));
     json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
-    json_object_set_new(o, "snr_db", qc_report_real(res->snr_db));
+    /* the SNR the design operates at (under the optimized law for
+     * objective capacity), not the requested snr-db */
+    json_object_set_new(o, "operating_snr_db", qc_report_real(res->snr_db));
     json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
     json_object_set_new(o, "snr_penalty_note",
                         isfinite(res->snr_penalty_db)

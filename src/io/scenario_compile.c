@@ -774,8 +774,9 @@ qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index, qc_set
 {
     *out = NULL;
     if (index >= sc->npoints)
-        return qc_fail(QC_EINVAL, "point %zu is outside the grid of %zu points", index,
-                       sc->npoints);
+        return qc_fail(QC_EINVAL, "point %zu is outside the grid of %zu points (points "
+                                  "count from 1, indices from 0)",
+                       index + 1, sc->npoints);
     size_t alpha, idx[QC_SCENARIO_MAX_AXES];
     sc_point_coords(sc, index, &alpha, idx);
     qc_status st = qc_settings_copy(sc->alphabets[alpha].settings, out);

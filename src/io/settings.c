@@ -37,7 +37,7 @@ static const key_spec keys[] = {
     TEXT("model", "NAME", "noise model (see 'quantcap models')"),
     LIST("levels", "L1,...,Ln", "transmitted levels (model units)"),
     LIST("probabilities", "P1,...,Pn", "input law (mi: the law rated; capacity: the start)"),
-    NUMBER("snr-db", "X", "set sigma from the SNR E[x^2]/sigma^2 in dB (model gauss)"),
+    NUMBER("snr-db", "X", "requested SNR E[x^2]/sigma^2, dB: sets sigma (model gauss)"),
     WHOLE("bits", "B", "ADC resolution: 2^B cells (1..16)", 1, QC_MAX_BITS),
     WHOLE("cells", "K", "number of quantizer cells (2..65536)", 2, (size_t)1 << QC_MAX_BITS),
     CHOICE("objective", "mi|capacity|gmi",
@@ -56,7 +56,7 @@ static const key_spec keys[] = {
          "(square QAM, sqrt(M)-PAM per quadrature)"),
     TEXT("table", "FILE", "measured densities for model table (format in docs/formats.md)"),
     /* physical receiver (front end); units in docs/models.md */
-    NUMBER_FROM("power-dbm", "P", "average received optical power, dBm", -INF, INF),
+    NUMBER_FROM("received-dbm", "P", "average received optical power, dBm", -INF, INF),
     NUMBER_ABOVE("extinction-db", "E",
                  "extinction ratio P1/P0 of the intensity levels, dB (default: infinite)", 0.0),
     NUMBER_ABOVE("responsivity", "R", "photodiode responsivity, A/W", 0.0),
@@ -66,8 +66,12 @@ static const key_spec keys[] = {
     NUMBER_ABOVE("load-resistance", "R", "load resistance for 4kT/R thermal noise, ohm", 0.0),
     NUMBER_ABOVE("temperature", "T", "receiver temperature, K (default 290)", 0.0),
     NUMBER_FROM("dark-current", "I", "primary dark current, A (default 0)", 0.0, INF),
-    NUMBER_FROM("apd-gain", "M", "APD mean avalanche gain (default 1: PIN)", 1.0, INF),
-    NUMBER_FROM("apd-k", "K", "APD ionization ratio k (default 0)", 0.0, 1.0),
+    NUMBER_FROM("apd-gain", "M",
+                "APD mean avalanche gain M (parameter of apd, apd-gauss; front end: "
+                "default 1 = PIN)",
+                1.0, INF),
+    NUMBER_FROM("apd-k", "K",
+                "APD ionization ratio k (parameter of apd, apd-gauss; default 0)", 0.0, 1.0),
     NUMBER_ABOVE("slot-time", "T", "slot (integration) time, s", 0.0),
     NUMBER_ABOVE("wavelength-nm", "L", "optical wavelength, nm (photon counting)", 0.0),
     NUMBER_ABOVE("efficiency", "ETA", "detector quantum efficiency, (0, 1] (default 1)", 0.0),
@@ -80,16 +84,22 @@ static const key_spec keys[] = {
     /* alphabets and input design (docs/alphabets.md) */
     LIST("level-grid", "LO,HI,N",
          "N equally spaced candidate levels on [LO, HI]; the input law is designed on them"),
-    NUMBER_ABOVE("peak", "A", "peak constraint |x| <= A (intensity: 0 <= x <= A)", 0.0),
-    NUMBER_ABOVE("power", "P", "average power constraint E[x^2] <= P (QAM: E|x|^2)", 0.0),
-    NUMBER("mean", "M", "average level constraint E[x] <= M (average optical power)"),
+    NUMBER_ABOVE("peak-limit", "A",
+                 "input peak constraint |x| <= A, model units (intensity: 0 <= x <= A)", 0.0),
+    NUMBER_ABOVE("power-limit", "P",
+                 "input second-moment constraint E[x^2] <= P, model units squared (electrical "
+                 "power; QAM: E|x|^2)",
+                 0.0),
+    NUMBER("mean-limit", "M",
+           "input mean constraint E[x] <= M, model units (average optical power of intensity "
+           "levels)"),
     SWITCH("optimize-levels", "move the levels to maximize the objective (Nelder-Mead)"),
     WHOLE("level-starts", "S", "starts of the level search (default 3)", 1, 64),
     WHOLE("blocklength", "N", "blocklength for the normal approximation (with error-rate)", 1,
           (size_t)1 << 50),
     NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
     NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
-                "power-dbm)", -INF, INF),
+                "received-dbm)", -INF, INF),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
@@ -123,8 +133,26 @@ static int is_model_param(const char *key)
 
 int qc_setting_known(const char *key) { return key && (find_key(key) || is_model_param(key)); }
 
+/* Names given up for clearer ones: each old name is refused with a hint
+ * to its successor. */
+static const char *const renamed[][2] = {
+    {"peak", "peak-limit"},       {"power", "power-limit"}, {"mean", "mean-limit"},
+    {"power-dbm", "received-dbm"}, {"gain", "apd-gain"},     {"k", "apd-k"},
+};
+
+const char *qc_setting_renamed(const char *old)
+{
+    for (size_t i = 0; old && i < sizeof renamed / sizeof renamed[0]; i++)
+        if (strcmp(renamed[i][0], old) == 0)
+            return renamed[i][1];
+    return NULL;
+}
+
 const char *qc_setting_suggest(const char *key)
 {
+    const char *now = qc_setting_renamed(key); /* an old name: its new one */
+    if (now)
+        return now;
     const char *best = NULL;
     size_t bd = 4; /* suggest only close names */
     for (size_t i = 0; i < NKEYS; i++) {
@@ -254,6 +282,9 @@ qc_status qc_settings_set(qc_settings *s, const char *key, const char *value)
     if (!key || !value)
         return qc_fail(QC_EINVAL, "missing key or value");
     if (!qc_setting_known(key)) {
+        const char *now = qc_setting_renamed(key);
+        if (now)
+            return qc_fail(QC_EINVAL, "unknown key '%s' (renamed: did you mean '%s'?)", key, now);
         const char *near = qc_setting_suggest(key);
         if (near)
             return qc_fail(QC_EINVAL, "unknown key '%s' (did you mean '%s'?)", key, near);

@@ -12,17 +12,66 @@
 
 /* Keys of the physical intensity receiver and of photon counting. */
 static const char *const frontend_keys[] = {
-    "power-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
+    "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
     "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", NULL,
 };
 
-static const char *first_frontend_key(const qc_settings *s)
+static int is_frontend_key(const char *key)
 {
     for (size_t i = 0; frontend_keys[i]; i++)
-        if (qc_settings_get(s, frontend_keys[i]))
+        if (strcmp(frontend_keys[i], key) == 0)
+            return 1;
+    return 0;
+}
+
+/* The first front-end key given that is not also a parameter of the
+ * model (apd-gain and apd-k are parameters of the APD models: alone they
+ * set the parameters, with a received power they describe the receiver). */
+static const char *first_frontend_key(const qc_settings *s, const qc_model_type *type)
+{
+    for (size_t i = 0; frontend_keys[i]; i++)
+        if (qc_settings_get(s, frontend_keys[i]) &&
+            qc_model_param_index(type, frontend_keys[i]) < 0)
             return frontend_keys[i];
     return NULL;
+}
+
+/* Does the model type list `key` among the settings keys it takes? */
+static int declares(const qc_model_type *type, const char *key)
+{
+    for (size_t i = 0; type->keys && type->keys[i]; i++)
+        if (strcmp(type->keys[i], key) == 0)
+            return 1;
+    return 0;
+}
+
+/* Every model-specific key given (one that some model type lists) must be
+ * listed by the chosen type or be one of its parameters. */
+static qc_status check_keys_apply(const qc_settings *s, const qc_model_type *type)
+{
+    const qc_model_type *const *types = qc_model_types();
+    for (size_t i = 0; i < s->n; i++) {
+        const char *key = s->key[i];
+        if (declares(type, key) || qc_model_param_index(type, key) >= 0)
+            continue;
+        for (size_t t = 0; types[t]; t++) {
+            if (!declares(types[t], key))
+                continue;
+            char takes[512] = "";
+            for (size_t j = 0; type->keys && type->keys[j]; j++) {
+                strncat(takes, j ? ", " : "", sizeof takes - strlen(takes) - 1);
+                strncat(takes, type->keys[j], sizeof takes - strlen(takes) - 1);
+            }
+            return qc_fail(QC_EINVAL, "'%s' does not apply to model '%s' (%s%s; see "
+                                      "'quantcap models %s')",
+                           key, type->name,
+                           takes[0] ? "besides its parameters it takes: "
+                                    : "it takes its parameters only",
+                           takes, type->name);
+        }
+    }
+    return QC_OK;
 }
 
 /* Number under `key`, or `fallback` when absent. Values were checked by
@@ -82,6 +131,20 @@ static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
     return QC_OK;
 }
 
+/* Quantum efficiency of photon counting: 'efficiency', or the one a
+ * 'responsivity' (A/W) means at the wavelength, or 1. */
+static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *eta)
+{
+    if (!qc_settings_get(s, "responsivity"))
+        return number(s, "efficiency", 1.0, eta);
+    if (qc_settings_get(s, "efficiency"))
+        return qc_fail(QC_EINVAL, "give 'efficiency' or 'responsivity' (which sets the "
+                                  "efficiency at the wavelength), not both");
+    double r;
+    qc_status st = number(s, "responsivity", NAN, &r);
+    return st == QC_OK ? qc_responsivity_to_efficiency(r, lambda_nm * 1e-9, eta) : st;
+}
+
 /* Physical route: optical powers of an intensity alphabet → parameters
  * and levels of the chosen model. Replaces s->levels. */
 static qc_status physical_route(qc_settings *s, const qc_model_type *type, int intensity,
@@ -90,16 +153,16 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
     if (!intensity)
         return qc_fail(QC_EINVAL, "the physical receiver ('%s') needs an intensity alphabet: "
                                   "alphabet = upam:M",
-                       first_frontend_key(s));
+                       first_frontend_key(s, type));
     double dbm, ext_db, slot;
     qc_status st;
     int peak_given = qc_settings_get(s, "peak-dbm") != NULL;
-    if (peak_given && qc_settings_get(s, "power-dbm"))
-        return qc_fail(QC_EINVAL, "give 'power-dbm' (average) or 'peak-dbm' (top level), not "
-                                  "both");
+    if (peak_given && qc_settings_get(s, "received-dbm"))
+        return qc_fail(QC_EINVAL, "give 'received-dbm' (average) or 'peak-dbm' (top level), "
+                                  "not both");
     if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
-                         : required(s, "power-dbm", "(or 'peak-dbm') for the physical receiver",
-                                    &dbm)) != QC_OK ||
+                         : required(s, "received-dbm",
+                                    "(or 'peak-dbm') for the physical receiver", &dbm)) != QC_OK ||
         (st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
         return st;
     double *power = qc_malloc_array(nl, sizeof *power);
@@ -111,32 +174,28 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         dbm += 10.0 * log10(0.5 * (1.0 + 1.0 / ratio));
     st = qc_intensity_levels(dbm, ratio, nl, power);
     qc_receiver rx;
-    if (st == QC_OK && strcmp(type->name, "poisson") == 0) {
+    if (st == QC_OK && type->frontend == QC_FRONTEND_PHOTONS) {
         double lambda_nm, eta, dark;
         if ((st = required(s, "slot-time", "for photon counting (s)", &slot)) == QC_OK &&
             (st = required(s, "wavelength-nm", "for photon counting", &lambda_nm)) == QC_OK &&
-            (st = number(s, "efficiency", 1.0, &eta)) == QC_OK &&
+            (st = efficiency_of(s, lambda_nm, &eta)) == QC_OK &&
             (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK)
             st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
                                      s->levels);
-    } else if (st == QC_OK && (strcmp(type->name, "apd") == 0 ||
-                               strcmp(type->name, "apd-gauss") == 0)) {
+    } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
         if ((st = receiver_of(s, &rx)) == QC_OK &&
             (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK)
             st = qc_frontend_apd(&rx, slot, power, nl, params, s->levels);
-    } else if (st == QC_OK && strcmp(type->name, "gauss-sd") == 0) {
+    } else if (st == QC_OK && (type->frontend == QC_FRONTEND_GAUSS_SD ||
+                               type->frontend == QC_FRONTEND_GAUSS)) {
         if ((st = receiver_of(s, &rx)) == QC_OK && isnan(rx.bandwidth))
             st = qc_fail(QC_EINVAL, "'bandwidth' (Hz) is required for the physical receiver");
         if (st == QC_OK)
-            st = qc_frontend_gauss_sd(&rx, power, nl, params, s->levels);
-    } else if (st == QC_OK && strcmp(type->name, "gauss") == 0) {
-        if ((st = receiver_of(s, &rx)) == QC_OK && isnan(rx.bandwidth))
-            st = qc_fail(QC_EINVAL, "'bandwidth' (Hz) is required for the physical receiver");
-        if (st == QC_OK)
-            st = qc_frontend_gauss(&rx, power, nl, params, s->levels);
+            st = type->frontend == QC_FRONTEND_GAUSS
+                     ? qc_frontend_gauss(&rx, power, nl, params, s->levels)
+                     : qc_frontend_gauss_sd(&rx, power, nl, params, s->levels);
     } else if (st == QC_OK) {
-        st = qc_fail(QC_EINVAL, "model '%s' has no physical front end (use gauss, gauss-sd, "
-                                "apd, apd-gauss or poisson, or give its parameters)",
+        st = qc_fail(QC_EINVAL, "model '%s' has no physical front end; give its parameters",
                      type->name);
     }
     free(power);
@@ -174,9 +233,8 @@ static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size
     if (qc_settings_get(s, "snr-db") && qc_settings_get(s, "osnr-db"))
         return qc_fail(QC_EINVAL, "give 'snr-db' or 'osnr-db', not both");
     int si = qc_model_param_index(type, "sigma");
-    if (strcmp(type->name, "gauss") != 0 || si < 0)
-        return qc_fail(QC_EINVAL, "%s applies to model 'gauss' only; give the parameters of "
-                                  "model '%s' instead",
+    if (si < 0)
+        return qc_fail(QC_EINVAL, "%s sets 'sigma', which model '%s' does not have",
                        key, type->name);
     if (!isnan(params[si]))
         return qc_fail(QC_EINVAL, "give 'sigma' or '%s', not both", key);
@@ -243,7 +301,7 @@ static int intensity_type(const qc_model_type *type)
     return refuses;
 }
 
-/* 'peak', 'power', 'mean' into s->constraints; *optimize from
+/* 'peak-limit', 'power-limit', 'mean-limit' into s->constraints; *optimize from
  * 'optimize-levels'. */
 static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
                                 const qc_alphabet *alpha, int *optimize)
@@ -251,9 +309,9 @@ static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
     qc_constraints_none(&s->constraints);
     qc_constraints *c = &s->constraints;
     qc_status st;
-    if ((st = number(s, "peak", NAN, &c->peak)) != QC_OK ||
-        (st = number(s, "power", NAN, &c->power)) != QC_OK ||
-        (st = number(s, "mean", NAN, &c->mean)) != QC_OK)
+    if ((st = number(s, "peak-limit", NAN, &c->peak)) != QC_OK ||
+        (st = number(s, "power-limit", NAN, &c->power)) != QC_OK ||
+        (st = number(s, "mean-limit", NAN, &c->mean)) != QC_OK)
         return st;
     c->intensity = alpha->intensity || intensity_type(type);
     const char *v = qc_settings_get(s, "optimize-levels");
@@ -300,7 +358,17 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     const qc_model_type *type = qc_model_type_find(name);
     if (!type)
         return qc_fail(QC_EINVAL, "model: unknown model '%s'", name);
-    int is_table = strcmp(type->name, "table") == 0;
+    int is_table = declares(type, "table");
+    qc_status st = check_keys_apply(s, type);
+    if (st != QC_OK)
+        return st;
+    const char *fk = first_frontend_key(s, type);
+    static const char *const osnr_keys[] = {"symbol-rate", "polarizations", "ref-bandwidth"};
+    for (size_t i = 0; i < 3; i++)
+        if (qc_settings_get(s, osnr_keys[i]) && !qc_settings_get(s, "osnr-db"))
+            return qc_fail(QC_EINVAL, "'%s' goes with 'osnr-db' (it converts the OSNR to an "
+                                      "SNR)",
+                           osnr_keys[i]);
 
     /* model parameters given directly */
     double params[QC_MODEL_MAX_PARAMS];
@@ -308,14 +376,16 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
         params[i] = NAN;
     for (size_t i = 0; i < s->n; i++) {
-        if (qc_setting_is_design_key(s->key[i]))
-            continue;
         int idx = qc_model_param_index(type, s->key[i]);
+        /* a design key is a parameter only when the model has it and no
+         * physical receiver is described */
+        if (qc_setting_is_design_key(s->key[i]) && (idx < 0 || (fk && is_frontend_key(s->key[i]))))
+            continue;
         if (idx < 0)
             return qc_fail(QC_EINVAL, "'%s' is not a parameter of model '%s' (see "
                                       "'quantcap models %s')",
                            s->key[i], type->name, type->name);
-        qc_status st = qc_parse_double(s->value[i], &params[idx]);
+        st = qc_parse_double(s->value[i], &params[idx]);
         if (st != QC_OK)
             return qc_fail(st, "%s: %s", s->key[i], qc_last_error());
         nparams_given++;
@@ -327,7 +397,6 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
 
     /* levels: a list, a named alphabet, a level grid, or the table's own */
     size_t nl = 0, np, nt;
-    qc_status st;
     qc_alphabet *alpha = NULL;
     if ((st = alphabet_of(s, &alpha)) != QC_OK)
         return st;
@@ -377,16 +446,22 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     const char *bits = qc_settings_get(s, "bits"), *cells = qc_settings_get(s, "cells");
     size_t z;
     const char *v;
-    if (!bits == !cells) {
-        st = qc_fail(QC_EINVAL, "give exactly one of 'bits' and 'cells'");
+    if (bits && cells) {
+        st = qc_fail(QC_EINVAL, "give one of 'bits' and 'cells', not both");
+        goto fail;
+    }
+    if (!bits && !cells && !s->thresholds) {
+        st = qc_fail(QC_EINVAL, "give 'bits' or 'cells' (or 'thresholds', which set the cells)");
         goto fail;
     }
     if (bits ? (st = qc_parse_size(bits, 1, QC_MAX_BITS, &z)) != QC_OK
-             : (st = qc_parse_size(cells, 2, (size_t)1 << QC_MAX_BITS, &z)) != QC_OK) {
+             : cells ? (st = qc_parse_size(cells, 2, (size_t)1 << QC_MAX_BITS, &z)) != QC_OK
+                     : 0) {
         st = qc_fail(st, "%s: %s", bits ? "bits" : "cells", qc_last_error());
         goto fail;
     }
-    req->cells = bits ? (size_t)1 << z : z;
+    /* given thresholds set the count: K - 1 thresholds make K cells */
+    req->cells = bits ? (size_t)1 << z : cells ? z : nt + 1;
     if ((v = qc_settings_get(s, "objective")) &&
         (st = qc_objective_parse(v, &req->objective)) != QC_OK) {
         st = qc_fail(st, "objective: %s", qc_last_error());
@@ -407,9 +482,14 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
         req->quantizer = QC_QUANTIZER_FIXED;
         req->nthresholds = nt;
         if (nt + 1 != req->cells) {
-            st = qc_fail(QC_EINVAL, "thresholds: %zu thresholds make %zu cells, but %zu cells "
-                                    "were asked for",
-                         nt, nt + 1, req->cells);
+            st = bits ? qc_fail(QC_EINVAL, "thresholds and bits disagree: %zu thresholds make "
+                                           "%zu cells, but bits = %s means %zu cells (give "
+                                           "the thresholds alone)",
+                                nt, nt + 1, bits, req->cells)
+                      : qc_fail(QC_EINVAL, "thresholds and cells disagree: %zu thresholds "
+                                           "make %zu cells, but cells = %s (give the "
+                                           "thresholds alone)",
+                                nt, nt + 1, cells);
             goto fail;
         }
     } else if (req->quantizer == QC_QUANTIZER_FIXED) {
@@ -435,7 +515,6 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
 
     /* model parameters: physical receiver, SNR/OSNR, or as given */
     if (!is_table) {
-        const char *fk = first_frontend_key(s);
         int snr_keys = qc_settings_get(s, "snr-db") || qc_settings_get(s, "osnr-db");
         if (fk && snr_keys)
             return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or an SNR, not both",

@@ -148,7 +148,7 @@ static qc_status apd_check(const double *p)
 {
     if (p[APD_K] >= 1.0)
         return qc_fail(QC_EINVAL,
-                       "model 'apd': parameter 'k' must be < 1 for the exact "
+                       "model 'apd': parameter 'apd-k' must be < 1 for the exact "
                        "McIntyre gain law (got %g); use 'apd-gauss'",
                        p[APD_K]);
     return QC_OK;
@@ -802,4 +802,6 @@ const qc_model_type qc_model_apd = {
     .support = apd_support,
     .check_level = qc_apd_check_level,
     .moments = apd_moments,
+    .keys = qc_apd_keys,
+    .frontend = QC_FRONTEND_APD,
 };

@@ -18,11 +18,16 @@ const qc_param_spec qc_apd_params[APD_NPARAMS] = {
      0.0, INFINITY, 1},
     {"background", "electrons", "mean primary background/dark electrons per slot",
      0.0, 0.0, INFINITY, 0},
-    {"gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0},
-    {"k", "", "ionization coefficient ratio k (hole/electron)", 0.0, 0.0, 1.0, 0},
+    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0},
+    {"apd-k", "", "ionization coefficient ratio k (hole/electron)", 0.0, 0.0, 1.0, 0},
     {"sigma-th", "electrons", "thermal noise standard deviation per slot", NAN, 0.0,
      INFINITY, 1},
 };
+
+/* The APD front end: apd-gain and apd-k are parameters, and with a
+ * received power they describe the physical receiver. */
+const char *const qc_apd_keys[] = {QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "slot-time",
+                                   NULL};
 
 double qc_apd_excess(double gain, double k)
 {
@@ -102,4 +107,6 @@ const qc_model_type qc_model_apd_gauss = {
     .support = apdg_support,
     .check_level = qc_apd_check_level,
     .moments = apdg_moments,
+    .keys = qc_apd_keys,
+    .frontend = QC_FRONTEND_APD,
 };

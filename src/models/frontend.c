@@ -5,7 +5,8 @@
  *    4th ed., Wiley 2010, sec. 4.4); APD excess noise
  *    F = kM + (1 − k)(2 − 1/M) (McIntyre, IEEE Trans. Electron Devices
  *    13(1), 1966);
- *  - mean photons per slot n = η·P·T/(h·c/λ);
+ *  - mean photons per slot n = η·P·T/(h·c/λ); quantum efficiency from a
+ *    responsivity η = R·h·c/(q·λ) (same reference, sec. 4.1);
  *  - SNR = OSNR·2·B_ref/(p·R_s) (Essiambre et al., J. Lightw. Technol.
  *    28(4), 2010).
  * Every input is validated; messages name the parameter and its value. */
@@ -46,9 +47,9 @@ static qc_status need(const char *name, double v, int positive)
 qc_status qc_excess_noise_factor(double gain, double k, double *factor)
 {
     if (!isfinite(gain) || !(gain >= 1.0))
-        return qc_fail(QC_EINVAL, "'gain' must be >= 1 and finite (got %g)", gain);
+        return qc_fail(QC_EINVAL, "'apd-gain' must be >= 1 and finite (got %g)", gain);
     if (!(k >= 0.0 && k <= 1.0))
-        return qc_fail(QC_EINVAL, "'ionization_ratio' k must be in [0, 1] (got %g)",
+        return qc_fail(QC_EINVAL, "'apd-k' must be in [0, 1] (got %g)",
                        k);
     *factor = k * gain + (1.0 - k) * (2.0 - 1.0 / gain);
     return QC_OK;
@@ -241,6 +242,24 @@ qc_status qc_photons_per_slot(double power_w, double slot_time, double wavelengt
     if (efficiency > 1.0)
         return qc_fail(QC_EINVAL, "'efficiency' must be <= 1 (got %g)", efficiency);
     *photons = efficiency * power_w * slot_time / (H_P * C_0 / wavelength);
+    return QC_OK;
+}
+
+qc_status qc_responsivity_to_efficiency(double responsivity, double wavelength,
+                                        double *efficiency)
+{
+    qc_status st = need("responsivity", responsivity, 1);
+    if (st == QC_OK)
+        st = need("wavelength", wavelength, 1);
+    if (st != QC_OK)
+        return st;
+    /* R = η·q·λ/(h·c): one electron per detected photon of energy h·c/λ */
+    double eta = responsivity * H_P * C_0 / (Q_E * wavelength);
+    if (!(eta <= 1.0))
+        return qc_fail(QC_EINVAL, "'responsivity' %g A/W at %g nm means a quantum efficiency "
+                                  "of %g, above 1 (at most %g A/W there)",
+                       responsivity, wavelength * 1e9, eta, Q_E * wavelength / (H_P * C_0));
+    *efficiency = eta;
     return QC_OK;
 }
 

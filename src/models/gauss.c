@@ -71,6 +71,11 @@ static qc_status gauss_scale_snr(const qc_model *m, double gain, double *out)
     return QC_OK;
 }
 
+static const char *const gauss_keys[] = {
+    "snr-db", "osnr-db", "symbol-rate", "polarizations", "ref-bandwidth",
+    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", NULL,
+};
+
 const qc_model_type qc_model_gauss = {
     .name = "gauss",
     .summary = "additive Gaussian noise y = x + n, n ~ N(0, sigma^2) (thermal/ASE)",
@@ -84,4 +89,6 @@ const qc_model_type qc_model_gauss = {
     .moments = gauss_moments,
     .snr = gauss_snr,
     .scale_snr = gauss_scale_snr,
+    .keys = gauss_keys,
+    .frontend = QC_FRONTEND_GAUSS,
 };

@@ -105,6 +105,10 @@ static qc_status gauss_sd_scale_snr(const qc_model *m, double gain, double *out)
     return QC_OK;
 }
 
+static const char *const gauss_sd_keys[] = {
+    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", NULL,
+};
+
 const qc_model_type qc_model_gauss_sd = {
     .name = "gauss-sd",
     .summary = "signal-dependent Gaussian y = x + n, var = sigma0^2 + a x + b x^2 "
@@ -120,4 +124,6 @@ const qc_model_type qc_model_gauss_sd = {
     .moments = gauss_sd_moments,
     .snr = gauss_sd_snr,
     .scale_snr = gauss_sd_scale_snr,
+    .keys = gauss_sd_keys,
+    .frontend = QC_FRONTEND_GAUSS_SD,
 };

@@ -172,6 +172,12 @@ static qc_status poisson_moments(const qc_model *m, double x, double *mean,
     return QC_OK;
 }
 
+/* responsivity gives the quantum efficiency at the wavelength */
+static const char *const poisson_keys[] = {
+    QC_KEYS_OPTICAL_POWER, "slot-time", "wavelength-nm", "efficiency", "responsivity",
+    "dark-count-rate", NULL,
+};
+
 const qc_model_type qc_model_poisson = {
     .name = "poisson",
     .summary = "photon counting Y ~ Poisson(signal x + background), integer thresholds",
@@ -184,4 +190,6 @@ const qc_model_type qc_model_poisson = {
     .support = poisson_support,
     .check_level = poisson_check_level,
     .moments = poisson_moments,
+    .keys = poisson_keys,
+    .frontend = QC_FRONTEND_PHOTONS,
 };

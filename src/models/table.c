@@ -189,6 +189,8 @@ qc_status qc_model_table_levels(const qc_model *model, const double **levels,
     return QC_OK;
 }
 
+static const char *const table_keys[] = {"table", NULL};
+
 const qc_model_type qc_model_table = {
     .name = "table",
     .summary = "measured densities per level from a table file (piecewise linear)",
@@ -203,6 +205,7 @@ const qc_model_type qc_model_table = {
     .support = table_support,
     .check_level = table_check_level,
     .moments = table_moments,
+    .keys = table_keys,
 };
 
 /* ---- reader ---------------------------------------------------------- */

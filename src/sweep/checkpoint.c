@@ -17,7 +17,7 @@
 #include <unistd.h>
 
 #define FORMAT_NAME "quantcap-checkpoint"
-#define FORMAT_VERSION 1
+#define FORMAT_VERSION 2 /* 2: points counted from 1 */
 #define DUMP_FLAGS (JSON_COMPACT | JSON_REAL_PRECISION(17) | JSON_PRESERVE_ORDER)
 
 static qc_status write_all(qc_checkpoint *cp, const char *text, size_t n)
@@ -121,11 +121,11 @@ qc_status qc_checkpoint_parse_line(const char *line, size_t len, size_t npoints,
     json_t *p = json_object_get(o, "point");
     json_t *status = json_object_get(o, "status");
     if (!json_is_object(o) || !json_is_integer(p) || !json_is_string(status) ||
-        json_integer_value(p) < 0 || (size_t)json_integer_value(p) >= npoints) {
+        json_integer_value(p) < 1 || (size_t)json_integer_value(p) > npoints) {
         json_decref(o);
         return qc_fail(QC_EFORMAT, "not the record of a point of this sweep");
     }
-    *point = (size_t)json_integer_value(p);
+    *point = (size_t)json_integer_value(p) - 1; /* records count points from 1 */
     *record = o;
     return QC_OK;
 }

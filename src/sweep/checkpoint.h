@@ -46,7 +46,8 @@ qc_status qc_checkpoint_append(qc_checkpoint *cp, json_t *record);
 void qc_checkpoint_close(qc_checkpoint *cp);
 
 /* Parse one checkpoint line into a point record; *point receives its
- * index. QC_EFORMAT if it is not a record of a point below npoints. */
+ * index (from 0; the record counts points from 1). QC_EFORMAT if it is
+ * not the record of one of the npoints points. */
 qc_status qc_checkpoint_parse_line(const char *line, size_t len, size_t npoints,
                                    json_t **record, size_t *point);
 

@@ -205,8 +205,11 @@ static int report_columns(const qc_scenario *sc, json_t *const *records, columns
         json_object_foreach(r, key, v)
         {
             int axis = 0;
-            for (size_t k = 0; k < sc->naxes; k++)
-                axis |= strcmp(sc->axes[k].key, key) == 0;
+            for (size_t k = 0; k < sc->naxes; k++) {
+                char col[256];
+                qc_field_name(sc->axes[k].key, col, sizeof col);
+                axis |= strcmp(col, key) == 0;
+            }
             if (axis)
                 continue;
             if (json_is_object(v)) {
@@ -253,8 +256,10 @@ qc_status qc_results_write_csv(const qc_scenario *sc, json_t *const *records, co
     }
     puts_(&b, "point,alphabet");
     for (size_t k = 0; k < sc->naxes; k++) {
+        char col[256];
+        qc_field_name(sc->axes[k].key, col, sizeof col);
         put(&b, ",", 1);
-        put_field(&b, sc->axes[k].key);
+        put_field(&b, col);
     }
     puts_(&b, ",status,error");
     for (size_t j = 0; j < c.n; j++) {
@@ -265,7 +270,7 @@ qc_status qc_results_write_csv(const qc_scenario *sc, json_t *const *records, co
     size_t vi[QC_SCENARIO_MAX_AXES], alpha;
     for (size_t i = 0; i < sc->npoints; i++) {
         char num[32];
-        snprintf(num, sizeof num, "%zu", i);
+        snprintf(num, sizeof num, "%zu", i + 1); /* points count from 1 */
         puts_(&b, num);
         sc_point_coords(sc, i, &alpha, vi);
         put(&b, ",", 1);
@@ -314,6 +319,13 @@ static const sc_section *find_section(const qc_scenario *sc, const char *type,
 
 /* Every setting of a point: base, then its alphabet's keys, then the axis
  * values — the flags `quantcap design` takes to redo the point. */
+/* The members of "settings" are the keys as written (a map from key to
+ * text, the flags `quantcap design` takes), not field names. */
+static void set_setting(json_t *o, const char *key, const char *value)
+{
+    json_object_set_new(o, key, json_string(value));
+}
+
 static json_t *point_settings(const qc_scenario *sc, size_t alpha, const size_t *vi)
 {
     json_t *o = json_object();
@@ -321,14 +333,14 @@ static json_t *point_settings(const qc_scenario *sc, size_t alpha, const size_t 
     for (int t = 0; o && t < 2; t++) {
         const sc_section *s = find_section(sc, types[t], NULL);
         for (size_t k = 0; s && k < s->n; k++)
-            json_object_set_new(o, s->entries[k].key, json_string(s->entries[k].value));
+            set_setting(o, s->entries[k].key, s->entries[k].value);
     }
     const sc_section *a = find_section(sc, "alphabet", sc->alphabets[alpha].name);
     for (size_t k = 0; o && a && k < a->n; k++)
         if (strcmp(a->entries[k].key, "label") != 0)
-            json_object_set_new(o, a->entries[k].key, json_string(a->entries[k].value));
+            set_setting(o, a->entries[k].key, a->entries[k].value);
     for (size_t k = 0; o && k < sc->naxes; k++)
-        json_object_set_new(o, sc->axes[k].key, json_string(sc->axes[k].values[vi[k]]));
+        set_setting(o, sc->axes[k].key, sc->axes[k].values[vi[k]]);
     return o;
 }
 
@@ -370,7 +382,7 @@ qc_status qc_results_write_json(const qc_scenario *sc, json_t *const *records, c
     for (size_t i = 0; i < sc->npoints; i++) {
         sc_point_coords(sc, i, &alpha, vi);
         json_t *p = json_object();
-        json_object_set_new(p, "point", json_integer((json_int_t)i));
+        json_object_set_new(p, "point", json_integer((json_int_t)i + 1));
         json_object_set_new(p, "alphabet", json_string(sc->alphabets[alpha].name));
         json_object_set_new(p, "settings", point_settings(sc, alpha, vi));
         json_object_set(p, "status", json_object_get(records[i], "status"));

@@ -122,7 +122,7 @@ static json_t *run_point(const qc_scenario *sc, size_t index, qc_status *status)
         st = qc_fail(QC_ENOMEM, "out of memory building the report");
     json_t *rec = json_object();
     if (rec) {
-        json_object_set_new(rec, "point", json_integer((json_int_t)index));
+        json_object_set_new(rec, "point", json_integer((json_int_t)index + 1)); /* from 1 */
         json_object_set_new(rec, "status", json_string(qc_sweep_status_name(st)));
         json_object_set_new(rec, "error", st == QC_OK ? json_null()
                                                        : json_string(qc_last_error()[0]

@@ -1,6 +1,6 @@
 /* sweep.h — pieces of the sweep runner shared by its files and the plots
  * (internal). A sweep's result is one JSON record per grid point:
- *   {"point": i, "status": "ok"|..., "error": null|"...", "result": {...}}
+ *   {"point": i (from 1), "status": "ok"|..., "error": null|"...", "result": {...}}
  * where "result" is the object `quantcap design --json` prints. */
 #ifndef QC_SWEEP_H
 #define QC_SWEEP_H

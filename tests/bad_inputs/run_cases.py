@@ -64,7 +64,7 @@ def listing(folder):
 
 def run_case(qc, case):
     problems = []
-    if "no-output" not in case["setup"] and not any(a in ("--output", "--out") for a in case["args"]):
+    if "no-output" not in case["setup"] and not any(a in ("--output", "--output-dir") for a in case["args"]):
         problems.append("case asks for no output file (add --output or setup no-output)")
     folder = tempfile.mkdtemp(prefix="qc-bad-")
     try:

@@ -37,7 +37,7 @@ for jobs in (1, 2):
     out = os.path.join(tmp, f"jobs{jobs}")
     r0 = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
-    proc = subprocess.Popen([qc, "sweep", scenario, "--out", out, "--jobs", str(jobs),
+    proc = subprocess.Popen([qc, "sweep", scenario, "--output-dir", out, "--jobs", str(jobs),
                              "--no-plots"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
                             text=True)
     threads = {}

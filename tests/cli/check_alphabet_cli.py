@@ -91,7 +91,7 @@ t = [-9.0 + 18.0 * (i + 1) / K for i in range(K - 1)]
 ts = ",".join(f"{v:.17g}" for v in t)
 A = 1.2
 j = design_json("--model", "gauss", "--sigma", "1", "--level-grid", f"{-A},{A},25",
-                "--peak", str(A), "--objective", "capacity", "--thresholds", ts,
+                "--peak-limit", str(A), "--objective", "capacity", "--thresholds", ts,
                 "--cells", str(K), "--tol", "1e-10")
 mp = j.get("mass_points", [])
 check(len(mp) == 2 and abs(mp[0]["level"] + A) < 1e-12 and abs(mp[1]["level"] - A) < 1e-12,
@@ -100,9 +100,9 @@ check(all(abs(m["probability"] - 0.5) < 1e-4 for m in mp), "A = 1.2: equiprobabl
 want = binary_mi([-A, A], 1.0, t)
 check(abs(j.get("rate_bits", 0) - want) < 1e-8,
       f"A = 1.2: rate {j.get('rate_bits')} = binary-input rate {want} (scipy)")
-check(j["constraints"] == {"peak": A}, "constraints echoed")
+check(j["constraints"] == {"peak_limit": A}, "constraints echoed")
 rc, out, _ = run("design", "--model", "gauss", "--sigma", "1", "--level-grid", "-2.2,2.2,45",
-                 "--peak", "2.2", "--objective", "capacity", "--thresholds", ts, "--cells",
+                 "--peak-limit", "2.2", "--objective", "capacity", "--thresholds", ts, "--cells",
                  str(K))
 check(rc == 0 and "mass points" in out, "long grid: text output lists the mass points")
 lines = [l.split() for l in out.splitlines() if l.strip() and l.split()[0] in ("-2.2", "0", "2.2")]
@@ -111,7 +111,7 @@ check(len(lines) == 3, f"A = 2.2: three mass points -A, 0, A in the text output 
 # --- power constraint with QAM: below log2(1 + Es/N0) ----------------------
 P = 10.0
 j = design_json("--model", "gauss", "--sigma", "1", "--alphabet", "qam:64", "--bits", "5",
-                "--objective", "capacity", "--power", str(P))
+                "--objective", "capacity", "--power-limit", str(P))
 check(j.get("average_power", 1e9) <= P * (1 + 1e-9), "QAM capacity: E|x|^2 <= P")
 # Shannon 1948: complex AWGN, Es/N0 = P/(2 sigma^2)
 check(j.get("upper_bound_bits", 1e9) <= math.log2(1 + P / 2.0) + 1e-9,
@@ -121,7 +121,7 @@ check(j.get("shaping_gap_db", -1) > 0, "positive shaping gap")
 
 # --- level optimization ------------------------------------------------------
 j = design_json("--model", "gauss", "--sigma", "1", "--levels", "-0.2,0.7", "--bits", "1",
-                "--power", "2", "--optimize-levels")
+                "--power-limit", "2", "--optimize-levels")
 lv = j.get("levels", [0, 0])
 check(j.get("levels_optimized") is True and j.get("level_evaluations", 0) > 0,
       "optimize-levels reported")

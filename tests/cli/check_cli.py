@@ -111,7 +111,7 @@ expect_error(["capacity", bsc, "--costs", "0,1,2", "--budget", "1"], 2, "--costs
 expect_error(["capacity", bsc, "--costs", "1,2", "--budget", "0.5"], 2, "budget", "infeasible budget")
 expect_error(["capacity", bsc, "--costs", "0,1"], 2, "--costs and --budget go together", "costs without budget")
 expect_error(["capacity", bsc, "--tol", "-1"], 2, "--tol", "negative tolerance")
-expect_error(["capacity", bsc, "--tol", "abc"], 2, "--tol: 'abc' is not a number", "tolerance not a number")
+expect_error(["capacity", bsc, "--tol", "abc"], 2, "--tol: 'abc' is not a decimal number", "tolerance not a number")
 expect_error(["capacity", bsc, "--tl", "1e-9"], 2, "did you mean '--tol'", "misspelt option")
 expect_error(["capacity"], 2, "expected one matrix FILE", "no file")
 zch = write("z.txt", "1 0\n0.5 0.5\n")
@@ -209,13 +209,13 @@ expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", 
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--snr-db", "3", "--levels", "-1,1",
               "--bits", "2"], 2, "not both", "sigma and snr")
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1"], 2,
-             "exactly one of 'bits' and 'cells'", "no resolution")
+             "give 'bits' or 'cells' (or 'thresholds'", "no resolution")
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "2",
               "--objective", "speed"], 2, "unknown value 'speed'", "bad objective")
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,1", "--bits", "2",
               "--thresholds", "0"], 2, "1 thresholds make 2 cells", "threshold count")
 expect_error(["design", "--model", "gauss", "--sigma", "1", "--levels", "-1,inf", "--bits", "2"], 2,
-             "--levels: value 2 'inf' is not a finite number", "infinite level")
+             "--levels: value 2: 'inf' is not a decimal number", "infinite level")
 
 # --- noise models and the physical front end ------------------------------
 rc, out, _ = run("models")
@@ -223,8 +223,33 @@ for name in ("gauss", "gauss-sd", "poisson", "apd", "apd-gauss", "preamp", "tabl
     check(rc == 0 and any(line.split()[0] == name for line in out.splitlines() if line.strip()),
           f"models lists {name}")
 rc, out, _ = run("models", "apd")
-check(rc == 0 and "--gain" in out and "--sigma-th" in out and "electrons" in out,
+check(rc == 0 and "--apd-gain" in out and "--sigma-th" in out and "electrons" in out,
       "models NAME lists parameters with units")
+
+# models NAME lists the keys besides the parameters that apply to it
+rc, out, _ = run("models", "poisson")
+keys_part = out.split("other keys that apply")[-1]
+check(rc == 0 and "--responsivity" in keys_part and "--wavelength-nm" in keys_part
+      and "--thermal-density" not in keys_part and "--bandwidth" not in keys_part,
+      "models poisson lists the front-end keys it takes, and only those")
+rc, out, _ = run("models", "apd-gauss", "--json")
+j = parse(out, "models apd-gauss --json")
+check(rc == 0 and j and "bandwidth" not in j[0].get("keys", ["bandwidth"])
+      and "slot-time" in j[0].get("keys", []),
+      "models --json lists the keys that apply")
+
+# `help COMMAND` is `COMMAND --help`, for every command
+for command in ("capacity", "channel", "design", "models", "sweep"):
+    rc, out, err = run("help", command)
+    rc2, out2, _ = run(command, "--help")
+    check(rc == 0 and out == out2 and out.startswith(f"usage: quantcap {command}"),
+          f"help {command} prints the {command} help ({err.strip()})")
+
+# a table model takes no SNR, received power or OSNR
+table = write("tbl.txt", "levels 0 1\n0 1 1\n1 1 1\n")
+for flag, value in (("--snr-db", "10"), ("--received-dbm", "-10"), ("--osnr-db", "3")):
+    expect_error(["design", "--model", "table", "--table", table, "--bits", "1", flag, value],
+                 2, f"'{flag[2:]}' does not apply to model 'table'", f"table with {flag}")
 
 # on-off keying with ideal photon counting and no background is a Z channel
 # with p = exp(-n_s): the Poisson law gives no count for 'on' with probability
@@ -238,10 +263,10 @@ expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "0,1
               "--thresholds", "1.5"], 2, "whole photon count", "fractional count threshold")
 expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "-1,1",
               "--thresholds", "1"], 2, "level 1", "negative intensity level")
-expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "0.5", "--sigma-th", "10",
-              "--levels", "0,1", "--thresholds", "100"], 2, "'gain' must be >= 1", "APD gain < 1")
-expect_error(["channel", "--model", "apd", "--signal", "100", "--gain", "10", "--k", "1.5",
-              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'k' must be <= 1",
+expect_error(["channel", "--model", "apd", "--signal", "100", "--apd-gain", "0.5", "--sigma-th", "10",
+              "--levels", "0,1", "--thresholds", "100"], 2, "'apd-gain' must be >= 1", "APD gain < 1")
+expect_error(["channel", "--model", "apd", "--signal", "100", "--apd-gain", "10", "--apd-k", "1.5",
+              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'apd-k' must be <= 1",
              "APD k > 1")
 expect_error(["channel", "--model", "gauss", "--signal", "3", "--sigma", "1", "--levels", "0,1",
               "--thresholds", "0"], 2, "--signal is not a parameter of model 'gauss'",
@@ -253,7 +278,7 @@ expect_error(["channel", "--model", "table", "--table", badtab, "--thresholds", 
              "badtable.txt:3:", "malformed table names file:line")
 
 # physical receiver routes (units in docs/models.md)
-pin = ["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+pin = ["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--received-dbm", "-12",
        "--extinction-db", "10", "--responsivity", "0.8", "--bandwidth", "20e9",
        "--thermal-density", "15", "--bits", "3", "--json"]
 rc, out, err = run(*pin)
@@ -263,7 +288,7 @@ p_avg = 1e-3 * 10 ** (-12 / 10)
 p1 = 2 * p_avg * 10 / 11
 check(rc == 0 and abs(j.get("levels", [0] * 4)[-1] - 0.8 * p1) < 1e-12 * 0.8 * p1,
       f"PIN front end: top level is R*P1 ({err.strip()})")
-rc, out, err = run("design", "--model", "poisson", "--alphabet", "upam:2", "--power-dbm", "-70",
+rc, out, err = run("design", "--model", "poisson", "--alphabet", "upam:2", "--received-dbm", "-70",
                    "--slot-time", "1e-9", "--wavelength-nm", "1550", "--efficiency", "0.8",
                    "--bits", "2", "--json")
 j = parse(out, "photon front end")
@@ -280,20 +305,20 @@ j = parse(out, "OSNR route")
 # SNR = OSNR * 2 B_ref / (p R_s) (Essiambre et al. 2010): 100 * 2 * 12.5/25 = 100
 check(rc == 0 and abs(j.get("parameters", {}).get("sigma", 0) - 0.1) < 1e-12,
       f"OSNR route: sigma = sqrt(1/100) ({err.strip()})")
-expect_error(["design", "--model", "gauss-sd", "--alphabet", "pam:4", "--power-dbm", "-12",
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "pam:4", "--received-dbm", "-12",
               "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
              2, "needs an intensity alphabet", "front end with bipolar alphabet")
-expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--received-dbm", "-12",
               "--bandwidth", "1e9", "--thermal-density", "10", "--bits", "2"],
              2, "'responsivity' (A/W) is required", "front end without responsivity")
-expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--received-dbm", "-12",
               "--responsivity", "-0.8", "--bits", "2"], 2, "--responsivity: must be > 0",
              "negative responsivity")
-expect_error(["design", "--model", "apd", "--alphabet", "upam:2", "--power-dbm", "-30",
+expect_error(["design", "--model", "apd", "--alphabet", "upam:2", "--received-dbm", "-30",
               "--responsivity", "0.8", "--thermal-density", "10", "--apd-gain", "10",
               "--apd-k", "2", "--slot-time", "1e-10", "--bits", "2"], 2, "--apd-k: must be <= 1",
              "APD k out of range")
-expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--power-dbm", "-12",
+expect_error(["design", "--model", "gauss-sd", "--alphabet", "upam:4", "--received-dbm", "-12",
               "--responsivity", "0.8", "--bandwidth", "1e9", "--thermal-density", "10",
               "--sigma0", "1", "--bits", "2"], 2, "not both", "front end and model parameters")
 

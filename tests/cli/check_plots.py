@@ -62,7 +62,7 @@ def figures(folder):
 
 # probe: a build without PLplot draws nothing and says so
 probe = os.path.join(tmp, "probe")
-rc, out, err = run("sweep", os.path.join(SCENARIOS, "designer.ini"), "--out", probe,
+rc, out, err = run("sweep", os.path.join(SCENARIOS, "designer.ini"), "--output-dir", probe,
                    "--set", "snr-db=0,10,15,20,30", "--set", "bits=1,2,3")
 check(rc == 0, f"designer study runs ({rc}: {err})")
 if "plots skipped" in out:
@@ -79,10 +79,10 @@ STUDIES = {
                    ["density_pam4_quantizer-optimal_background-0.1_signal-20_bits-2.svg",
                     "rate-vs-bits_quantizer-optimal.svg", "rate-vs-bits_quantizer-uniform.svg",
                     "rate-vs-signal_ook.svg", "rate-vs-signal_pam4.svg"]),
-    "planner": (["power-dbm=-30,-24,-18"],
-                ["density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg", "rate-vs-bits.svg",
-                 "rate-vs-power-dbm_ook.svg", "rate-vs-power-dbm_pam4.svg",
-                 "rate-vs-power-dbm_pam8.svg"]),
+    "planner": (["received-dbm=-30,-24,-18"],
+                ["density_pam4_apd-gain-10_received-dbm-minus24_bits-3.svg", "rate-vs-bits.svg",
+                 "rate-vs-received-dbm_ook.svg", "rate-vs-received-dbm_pam4.svg",
+                 "rate-vs-received-dbm_pam8.svg"]),
 }
 TITLES = {
     "designer": "ADC bits vs rate (invented)",
@@ -93,7 +93,7 @@ texts = {}
 for study, (sets, expected) in STUDIES.items():
     folder = probe if study == "designer" else os.path.join(tmp, study)
     if study != "designer":
-        args = ["sweep", os.path.join(SCENARIOS, f"{study}.ini"), "--out", folder]
+        args = ["sweep", os.path.join(SCENARIOS, f"{study}.ini"), "--output-dir", folder]
         for s in sets:
             args += ["--set", s]
         rc, out, err = run(*args)
@@ -124,18 +124,18 @@ for panel in ("SNR 0 dB", "SNR 10 dB", "SNR 20 dB", "SNR 30 dB"):
     check(has("designer", "rate-vs-bits.svg", panel), f"designer: a panel titled '{panel}'")
 check(has("designer", "density_pam4_snr-db-15_bits-3.svg", "receiver output y (normalized units)"),
       "designer density: output in normalized units")
-check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
+check(has("planner", "density_pam4_apd-gain-10_received-dbm-minus24_bits-3.svg",
           "receiver output y (electrons)"), "planner density: output in electrons")
-check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
+check(has("planner", "density_pam4_apd-gain-10_received-dbm-minus24_bits-3.svg",
           "density p(y | x) (10\u22124 per electron)"),
       "planner density: density per electron, in units of 10^-4 (short tick numbers)")
-check(has("planner", "density_pam4_apd-gain-10_power-dbm-minus24_bits-3.svg",
+check(has("planner", "density_pam4_apd-gain-10_received-dbm-minus24_bits-3.svg",
           "received power \u221224 dBm"), "planner density: operating point in words")
 check(has("planner", "rate-vs-bits.svg", "received power \u221224 dBm"),
       "planner: panels titled by received power in words")
 check(has("planner", "rate-vs-bits.svg", "APD gain 10"),
       "planner: APD gain told apart by line style, in the legend")
-check(has("planner", "rate-vs-power-dbm_ook.svg", "received power (dBm)"),
+check(has("planner", "rate-vs-received-dbm_ook.svg", "received power (dBm)"),
       "planner: x axis received power (dBm)")
 for name in STUDIES["researcher"][1]:
     check(not has("researcher", name, "ADC"), f"researcher/{name}: no ADC for a photon counter")
@@ -189,7 +189,7 @@ snr-db = 10
 bits = 2
 """
 qdir = os.path.join(tmp, "qam")
-rc, out, err = run("sweep", write("qam.ini", QAM), "--out", qdir)
+rc, out, err = run("sweep", write("qam.ini", QAM), "--output-dir", qdir)
 check(rc == 0, f"QAM sweep runs ({rc}: {err})")
 qnames = figures(qdir)
 check(qnames == ["density_qam16_snr-db-10_bits-2.svg", "rate-vs-bits_snr-db-10.svg",
@@ -219,7 +219,7 @@ levels = 1, 3
 
 [alphabet bad]
 levels = 1, 3
-mean = 0.5
+mean-limit = 0.5
 
 [sweep]
 quantizer = uniform, optimal
@@ -235,7 +235,7 @@ snr-db = 10
 bits = 1
 """
 fdir = os.path.join(tmp, "fail")
-rc, out, err = run("sweep", write("fail.ini", FAIL), "--out", fdir)
+rc, out, err = run("sweep", write("fail.ini", FAIL), "--output-dir", fdir)
 check(rc == 0, f"sweep with failing points exits 0 ({rc}: {err})")
 fnames = figures(fdir)
 check(fnames == ["rate-vs-bits_snr-db-10.svg", "rate-vs-snr-db_good.svg"],
@@ -252,7 +252,7 @@ if "rate-vs-bits_snr-db-10.svg" in fnames:
 mdir = os.path.join(tmp, "rerun")
 scen = os.path.join(SCENARIOS, "researcher.ini")
 narrow = ["--set", "signal=1,10,20,100"]
-rc, out, err = run("sweep", scen, "--out", mdir, *narrow)
+rc, out, err = run("sweep", scen, "--output-dir", mdir, *narrow)
 check(rc == 0, f"first run ({rc}: {err})")
 listed = manifest(mdir) or []
 check(sorted(listed) == sorted(STUDIES["researcher"][1] + ["results.csv", "results.json"]),
@@ -260,7 +260,7 @@ check(sorted(listed) == sorted(STUDIES["researcher"][1] + ["results.csv", "resul
 mine = ["rate-vs-signal_ook_quantizer-optimal.svg", "notes.txt"]
 for name in mine:  # files the sweep did not write: never touched
     write(os.path.join("rerun", name), "mine\n")
-rc, out, err = run("sweep", scen, "--out", mdir, *narrow, "--set", "quantizer=optimal")
+rc, out, err = run("sweep", scen, "--output-dir", mdir, *narrow, "--set", "quantizer=optimal")
 check(rc == 0, f"rerun with one quantizer ({rc}: {err})")
 now = figures(mdir)
 expected = ["density_pam4_background-0.1_signal-20_bits-2.svg",
@@ -275,7 +275,7 @@ check(sorted(listed) == sorted(expected + ["results.csv", "results.json"]),
       f"manifest.txt lists the rerun's files ({listed})")
 
 # a sweep that draws no plots leaves the earlier figures alone
-rc, out, err = run("sweep", scen, "--out", mdir, *narrow, "--set", "quantizer=optimal",
+rc, out, err = run("sweep", scen, "--output-dir", mdir, *narrow, "--set", "quantizer=optimal",
                    "--no-plots")
 check(rc == 0 and "removed" not in out, f"--no-plots removes nothing ({rc}: {out!r})")
 check(sorted(set(figures(mdir)) - {mine[0]}) == expected, "--no-plots keeps the figures")

@@ -10,6 +10,7 @@ The scenarios below are invented for the test."""
 import csv
 import json
 import os
+import re
 import signal
 import subprocess
 import sys
@@ -80,7 +81,7 @@ npoints = 2 * 4 * 3
 
 # --- a sweep and its outputs ---------------------------------------------
 out1 = os.path.join(tmp, "jobs1")
-rc, out, err = run("sweep", small, "--out", out1, "--jobs", "1")
+rc, out, err = run("sweep", small, "--output-dir", out1, "--jobs", "1")
 check(rc == 0, f"sweep --jobs 1 exit {rc}: {err}")
 check(f"sweep: {npoints} points (0 resumed, {npoints} computed, 0 failed)" in out,
       f"summary line ({out.splitlines()[:1]})")
@@ -90,7 +91,8 @@ with open(os.path.join(out1, "results.csv")) as f:
     rows = list(csv.DictReader(f))
 with open(os.path.join(out1, "results.csv")) as f:
     header = f.readline().strip().split(",")
-check(header[:6] == ["point", "alphabet", "snr-db", "bits", "status", "error"],
+# axis columns are the keys spelt as fields (snr-db -> snr_db); points count from 1
+check(header[:6] == ["point", "alphabet", "snr_db", "bits", "status", "error"],
       f"CSV header starts with the inputs ({header[:6]})")
 for key in ("rate_bits", "unquantized_bits", "loss_bits", "thresholds", "parameters.sigma"):
     check(key in header, f"CSV has column {key}")
@@ -102,7 +104,7 @@ check(all((r["snr_penalty_db"] == "") == (r["snr_penalty_note"] != "") for r in 
           if r["status"] == "ok"),
       "CSV: an SNR penalty cell is empty exactly where its note says why")
 check(all(float(r["loss_bits"]) >= 0.0 for r in rows if r["status"] == "ok"), "CSV: no negative loss")
-check([int(r["point"]) for r in rows] == list(range(npoints)), "CSV rows in grid order")
+check([int(r["point"]) for r in rows] == list(range(1, npoints + 1)), "CSV rows in grid order")
 
 doc = json.load(open(os.path.join(out1, "results.json")))
 for key in ("format", "version", "scenario", "points"):
@@ -126,14 +128,14 @@ for p in doc["points"]:
     check(rc == 0, f"design at point {p['point']}: {err}")
     single = json.loads(out)
     check(single == p["result"], f"point {p['point']}: sweep result equals design --json")
-    row = rows[p["point"]]
+    row = rows[p["point"] - 1]
     check(float(row["rate_bits"]) == single["rate_bits"],
           f"point {p['point']}: CSV rate_bits round-trips exactly")
     check(row["thresholds"] == " ".join(format(t, ".17g") for t in single["thresholds"]),
           f"point {p['point']}: CSV thresholds")
 
 # plots: valid files of the asked format (unless this build has no PLplot)
-rc, out, err = run("sweep", small, "--out", out1, "--resume")
+rc, out, err = run("sweep", small, "--output-dir", out1, "--resume")
 have_plots = "plots skipped" not in out
 check(have_plots or not [f for f in os.listdir(out1) if f.endswith(".svg")],
       "no plots from a build without PLplot")
@@ -149,7 +151,7 @@ check(not [f for f in os.listdir(out1) if ".tmp." in f], "no temporary files lef
 
 # --jobs 2: the same bytes
 out2 = os.path.join(tmp, "jobs2")
-rc, out, err = run("sweep", small, "--out", out2, "--jobs", "2", "--no-plots")
+rc, out, err = run("sweep", small, "--output-dir", out2, "--jobs", "2", "--no-plots")
 check(rc == 0, f"sweep --jobs 2: {err}")
 for name in ("results.csv", "results.json"):
     check(read_bytes(os.path.join(out1, name)) == read_bytes(os.path.join(out2, name)),
@@ -158,7 +160,7 @@ check(not [f for f in os.listdir(out2) if f.endswith(".svg")], "--no-plots draws
 
 # overrides: PNG plots, a narrower axis
 out3 = os.path.join(tmp, "png")
-rc, out, err = run("sweep", small, "--out", out3, "--set", "plots.format=png",
+rc, out, err = run("sweep", small, "--output-dir", out3, "--set", "plots.format=png",
                    "--set", "bits=1,2", "--set=alphabet.pam4.label=four levels")
 check(rc == 0, f"sweep with --set: {err}")
 rows3 = list(csv.DictReader(open(os.path.join(out3, "results.csv"))))
@@ -170,7 +172,7 @@ for name in pngs:
     check(data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 1000, f"{name} is a PNG")
 
 # resuming another scenario's checkpoint is refused
-rc, out, err = run("sweep", small, "--out", out3, "--resume", "--set", "bits=1,3")
+rc, out, err = run("sweep", small, "--output-dir", out3, "--resume", "--set", "bits=1,3")
 check(rc == 2 and "belongs to another scenario" in err, f"resume guard: {rc} {err}")
 
 # --- kill and resume ------------------------------------------------------
@@ -180,14 +182,14 @@ BIG = SMALL.replace("snr-db = 0 to 15 step 5\nbits = 1 to 3 step 1",
 big = write("big.ini", BIG)
 nbig = 2 * 31 * 6
 full = os.path.join(tmp, "full")
-rc, out, err = run("sweep", big, "--out", full, "--jobs", "2", "--no-plots")
+rc, out, err = run("sweep", big, "--output-dir", full, "--jobs", "2", "--no-plots")
 check(rc == 0, f"uninterrupted big sweep: {err}")
 
 killed = os.path.join(tmp, "killed")
 cp = os.path.join(killed, "checkpoint.jsonl")
 interrupted = False
 for attempt in range(3):
-    proc = subprocess.Popen([QC, "sweep", big, "--out", killed, "--jobs", "2", "--no-plots"],
+    proc = subprocess.Popen([QC, "sweep", big, "--output-dir", killed, "--jobs", "2", "--no-plots"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     want = 10 + 40 * attempt
     deadline = time.time() + 120
@@ -209,7 +211,7 @@ lines_at_kill = read_bytes(cp).count(b"\n") - 1
 check(0 < lines_at_kill < nbig, f"killed partway ({lines_at_kill} of {nbig} points)")
 check(not os.path.exists(os.path.join(killed, "results.csv")), "no table from a killed sweep")
 
-rc, out, err = run("sweep", big, "--out", killed, "--jobs", "2", "--no-plots", "--resume")
+rc, out, err = run("sweep", big, "--output-dir", killed, "--jobs", "2", "--no-plots", "--resume")
 check(rc == 0, f"resumed sweep: {err}")
 check(f"({lines_at_kill} resumed, {nbig - lines_at_kill} computed, 0 failed)" in out,
       f"resume skips the finished points ({out.strip()})")
@@ -224,13 +226,24 @@ with open(cp) as f:
     for line in f:
         p = json.loads(line)["point"]
         seen[p] = seen.get(p, 0) + 1
-check(sorted(seen) == list(range(nbig)), "checkpoint: no point missing")
+check(sorted(seen) == list(range(1, nbig + 1)), "checkpoint: no point missing (points count from 1)")
 check(all(v == 1 for v in seen.values()), "checkpoint: no point doubled")
+
+# --- points are numbered the same way in messages and in results.csv ------
+path = write("numbering.ini", "[receiver]\nmodel = gauss\nsnr-db = 10\nalphabet = pam:2\n"
+             "[design]\nobjective = capacity\n[sweep]\nmean-limit = 0.5, -5\nbits = 1\n")
+numbered = os.path.join(tmp, "numbered")
+rc, out, err = run("sweep", path, "--output-dir", numbered, "--no-plots")
+m = re.search(r"first: point (\d+) ", err)
+with open(os.path.join(numbered, "results.csv")) as f:
+    failed = [r["point"] for r in csv.DictReader(f) if r["status"] != "ok"]
+check(rc == 0 and m is not None and failed == [m.group(1)] == ["2"],
+      f"the warning names the point as results.csv does ({err.strip()!r}, {failed})")
 
 # --- scenario errors name the file and line --------------------------------
 def expect_error(text, needle, what, *extra):
     path = write("bad.ini", text)
-    rc, out, err = run("sweep", path, "--out", os.path.join(tmp, "never"), *extra)
+    rc, out, err = run("sweep", path, "--output-dir", os.path.join(tmp, "never"), *extra)
     check(rc == 2, f"{what}: exit {rc} ({err.strip()})")
     check(err.startswith("quantcap: error: ") and needle in err, f"{what}: '{needle}' in {err.strip()!r}")
     check(not os.path.exists(os.path.join(tmp, "never")), f"{what}: nothing written")
@@ -241,7 +254,7 @@ expect_error(base + "[design]\nbits = 0\n", "bad.ini:5: 'bits': '0' is not a who
              "bits out of range")
 expect_error(base + "[sweepp]\n", "bad.ini:4: unknown section [sweepp]", "unknown section")
 expect_error(base + "sigmaa = 1\n", "did you mean 'sigma'?", "misspelt key")
-expect_error(base + "bits = 2\n[sweep]\nsnr-db = 0, x\n", "bad.ini:6: 'snr-db': 'x' is not a number",
+expect_error(base + "bits = 2\n[sweep]\nsnr-db = 0, x\n", "bad.ini:6: 'snr-db': 'x' is not a decimal number",
              "bad number in an axis")
 expect_error(base + "[sweep]\nbits = 1,2\n", "give 'sigma' or 'snr-db'", "missing noise",
              "--set", "snr-db=3", "--set", "sigma=1")

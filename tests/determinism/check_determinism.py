@@ -39,7 +39,7 @@ def run(args, cwd=None):
 DESIGNS = [
     ["design", "--model", "gauss", "--snr-db", "8", "--alphabet", "pam:4", "--bits", "3",
      "--compare", "--json"],
-    ["design", "--model", "apd", "--signal", "40", "--gain", "15", "--k", "0.02",
+    ["design", "--model", "apd", "--signal", "40", "--apd-gain", "15", "--apd-k", "0.02",
      "--sigma-th", "50", "--alphabet", "upam:4", "--bits", "3", "--json"],
     ["design", "--model", "preamp", "--modes", "2", "--levels", "0,5,20", "--bits", "2",
      "--objective", "capacity", "--json"],
@@ -70,7 +70,7 @@ def check_sweep(tmp):
     dirs = {}
     for jobs in (1, 2, 4):
         d = os.path.join(tmp, f"jobs{jobs}")
-        if run(["sweep", scenario, "--out", d, "--jobs", str(jobs), "--quiet"]) is None:
+        if run(["sweep", scenario, "--output-dir", d, "--jobs", str(jobs), "--quiet"]) is None:
             return
         dirs[jobs] = d
     names = sorted(os.listdir(dirs[1]))
@@ -100,7 +100,7 @@ def check_sweep(tmp):
     for name in os.listdir(d):
         if name != "checkpoint.jsonl":
             os.unlink(os.path.join(d, name))
-    if run(["sweep", scenario, "--out", d, "--jobs", "2", "--resume", "--quiet"]) is not None:
+    if run(["sweep", scenario, "--output-dir", d, "--jobs", "2", "--resume", "--quiet"]) is not None:
         for name in names:
             if name != "checkpoint.jsonl":
                 check(filecmp.cmp(os.path.join(dirs[1], name), os.path.join(d, name),

@@ -58,7 +58,7 @@ def allowed_nulls(j):
     if j.get("snr_penalty_db") is not None:
         allowed.add("snr_penalty_note")               # defined: no note
     if j.get("model") in NO_SNR_MODELS:
-        allowed |= {"snr_db", "snr_penalty_db"}       # the model defines no SNR
+        allowed |= {"operating_snr_db", "snr_penalty_db"}       # the model defines no SNR
     if j.get("model") != "gauss":
         allowed.add("shaping_gap_db")                 # defined for gauss only
     if j.get("quantizer") != "lloyd-max":
@@ -225,7 +225,7 @@ def main():
     for s in ("1e-3", "1", "1e4"):
         for model in ("apd", "apd-gauss"):
             design(f"{model} signal {s} bits 3",
-                   ["--model", model, "--signal", s, "--gain", "20", "--k", "0.02",
+                   ["--model", model, "--signal", s, "--apd-gain", "20", "--apd-k", "0.02",
                     "--sigma-th", "100", "--levels", "0,1", "--bits", "3"])
         design(f"preamp 1 mode levels 0,{s} bits 3",
                ["--model", "preamp", "--modes", "1", "--levels", f"0,{s}", "--bits", "3"])

@@ -59,16 +59,16 @@ TOUR = [
                         "--bits", "3", "--compare"], True, "source"),
     ("design-capacity", ["design", "--model", "gauss", "--snr-db", "5",
                          "--level-grid", "-3,3,21",  # README: -3,3,61 (slow)
-                         "--power", "1", "--bits", "2", "--objective", "capacity"], True,
+                         "--power-limit", "1", "--bits", "2", "--objective", "capacity"], True,
      "source"),
     ("design-qam-gmi", ["design", "--model", "gauss", "--snr-db", "12", "--alphabet", "qam:16",
                         "--bits", "4", "--objective", "gmi"], True, "source"),
     ("design-poisson", ["design", "--model", "poisson", "--alphabet", "upam:2",
-                        "--power-dbm", "-70", "--slot-time", "1e-9", "--wavelength-nm", "1550",
+                        "--received-dbm", "-70", "--slot-time", "1e-9", "--wavelength-nm", "1550",
                         "--efficiency", "0.8", "--dark-count-rate", "1e6", "--bits", "2"], True,
      "source"),
     ("design-gauss-sd", ["design", "--model", "gauss-sd", "--alphabet", "upam:4",
-                         "--power-dbm", "-12", "--extinction-db", "10", "--responsivity", "0.8",
+                         "--received-dbm", "-12", "--extinction-db", "10", "--responsivity", "0.8",
                          "--bandwidth", "20e9", "--thermal-density", "15", "--bits", "3"], True,
      "source"),
 ]
@@ -79,7 +79,7 @@ TOUR = [
 STUDIES = [
     ("designer", ["snr-db=-5 to 35 step 5"]),                      # 41 -> 9 values
     ("researcher", ["signal=0.1, 0.316, 1, 3.16, 10, 20, 31.6, 100"]),  # 31 -> 8
-    ("planner", ["power-dbm=-36 to -12 step 6"]),                  # 27 -> 5 values
+    ("planner", ["received-dbm=-36 to -12 step 6"]),                  # 27 -> 5 values
 ]
 STUDY_FILES = ["results.csv", "results.json"]
 
@@ -117,7 +117,7 @@ def command_list():
     for study, sets in STUDIES:
         opts = " ".join(f"--set '{s}'" for s in sets)
         lines.append(f"{study}/: quantcap sweep scenarios/{study}.ini --jobs {JOBS} "
-                     f"--no-plots {opts} --out DIR  -> {', '.join(STUDY_FILES)}")
+                     f"--no-plots {opts} --output-dir DIR  -> {', '.join(STUDY_FILES)}")
     return ("\n".join(lines) + "\n").encode()
 
 
@@ -136,7 +136,7 @@ def produce(quantcap, scratch):
         print(f"golden: sweep {study}", flush=True)
         folder = os.path.join(scratch, "sweep-" + study)
         args = ["sweep", f"scenarios/{study}.ini", "--jobs", JOBS, "--no-plots", "--quiet",
-                "--out", folder]
+                "--output-dir", folder]
         for s in sets:
             args += ["--set", s]
         run(quantcap, args, SOURCE)

@@ -114,7 +114,7 @@ def apd_cases():
         t = [mean + q * sd for q in (-4, -2, -1, -0.3, 0, 0.37, 1, 2.5, 4, 6)]
         t += [-3 * sth, 0.0, 0.5, 1.0, 1.5]
         cases.append(({"model": "apd", "params": {"signal": ns, "background": nb,
-                                                  "gain": g, "k": k,
+                                                  "apd-gain": g, "apd-k": k,
                                                   "sigma-th": sth},
                        "x": x, "t": sorted(t)},
                       ("apd", lam, g, k, sth)))
