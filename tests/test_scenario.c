@@ -282,7 +282,7 @@ static const error_case errors[] = {
     {BASE "[sweep]\nsnr-db = 0 step 1\n", QC_EINVAL, "'0 step 1' is not a range"},
     {BASE "[sweep]\nsnr-db = 0 to 5 step 1 2\n", QC_EINVAL, "is not a range"},
     {BASE "[sweep]\nsnr-db = x to 5 step 1\n", QC_EINVAL,
-     "t.ini:5: 'snr-db': FROM of 'x to 5 step 1': 'x' is not a number"},
+     "t.ini:5: 'snr-db': FROM of 'x to 5 step 1': 'x' is not a decimal number"},
     {BASE "[sweep]\nsnr-db = 0 to 1e400 step 1\n", QC_EINVAL,
      "t.ini:5: 'snr-db': TO of '0 to 1e400 step 1': '1e400' is not a finite number"},
     {BASE "[sweep]\nsnr-db = 0 to 5 step nan\n", QC_EINVAL,

@@ -109,8 +109,8 @@ def edgeworth_orders(l, smax, x):
 
 
 def dump(exe, lam, sth, t):
-    q = [{"model": "apd", "params": {"signal": lam, "background": 0.0, "gain": GAIN,
-                                     "k": K, "sigma-th": sth},
+    q = [{"model": "apd", "params": {"signal": lam, "background": 0.0, "apd-gain": GAIN,
+                                     "apd-k": K, "sigma-th": sth},
           "x": 1.0, "t": list(map(float, t))}]
     r = subprocess.run([exe], input=json.dumps(q), capture_output=True, text=True)
     if r.returncode != 0:
