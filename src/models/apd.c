@@ -128,16 +128,6 @@ static void apd_destroy(void *state)
     free(s);
 }
 
-static qc_status apd_check(const double *p)
-{
-    if (p[APD_K] >= 1.0)
-        return qc_fail(QC_EINVAL,
-                       "model 'apd': parameter 'k' must be < 1 for the exact "
-                       "McIntyre gain law (got %g); use 'apd-gauss'",
-                       p[APD_K]);
-    return QC_OK;
-}
-
 static qc_status apd_init(const double *params, void **state)
 {
     apd_state *s = calloc(1, sizeof *s);
@@ -643,8 +633,7 @@ const qc_model_type qc_model_apd = {
                "exact law by FFT, in electrons",
     .output = QC_OUTPUT_REAL,
     .nparams = APD_NPARAMS,
-    .params = qc_apd_params,
-    .check = apd_check,
+    .params = qc_apd_exact_params,
     .init = apd_init,
     .destroy = apd_destroy,
     .below = apd_below,
@@ -653,4 +642,6 @@ const qc_model_type qc_model_apd = {
     .support = apd_support,
     .check_level = qc_apd_check_level,
     .moments = apd_moments,
+    .level_unit = "relative intensity",
+    .output_unit = "electrons",
 };

@@ -203,6 +203,8 @@ const qc_model_type qc_model_table = {
     .support = table_support,
     .check_level = table_check_level,
     .moments = table_moments,
+    .level_unit = "levels of the table",
+    .output_unit = "y units of the table",
 };
 
 /* ---- reader ---------------------------------------------------------- */
