@@ -700,6 +700,10 @@ typedef struct {
  * the request's own, else its model type's, else "" (never NULL). */
 const char *qc_design_level_unit(const qc_design_request *req);
 const char *qc_design_output_unit(const qc_design_request *req);
+/* What the reported snr_db of a request means, in words (the model
+ * type's snr_definition; for QAM on model gauss, Es/N0), or NULL when the
+ * model defines no SNR. */
+const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
  * (req->quantizer is ignored). An invalid request fails at once with
@@ -775,6 +779,14 @@ qc_status qc_parse_list(const char *text, double **out, size_t *n);
 /* Levenshtein distance between two names (for "did you mean" hints);
  * names longer than 63 characters count as far from everything (99). */
 size_t qc_edit_distance(const char *a, const char *b);
+
+#define QC_QUOTE_CHARS 40 /* characters of a field shown in a message */
+/* Text (len bytes, NULs included) made safe for a message into buf (cap
+ * bytes, at least 8): printable ASCII and well-formed UTF-8 kept, any
+ * other byte written as \xNN, and cut with "..." after max_chars
+ * characters or where buf is full. Returns buf. */
+const char *qc_quote(const char *text, size_t len, size_t max_chars, char *buf,
+                     size_t cap);
 
 /* ------------------------------------------------------------------ */
 /* Settings: the key = value vocabulary of a design                    */

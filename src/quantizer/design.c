@@ -348,6 +348,16 @@ const char *qc_design_output_unit(const qc_design_request *req)
     return req->model ? unit_or_empty(req->model->type->output_unit) : "";
 }
 
+const char *qc_design_snr_definition(const qc_design_request *req)
+{
+    if (!req || !req->model || !req->model->type->snr)
+        return NULL;
+    if (req->dimensions == 2 && req->model->type == &qc_model_gauss)
+        return "Es/N0 = E|x|^2/(2 sigma^2) (symbol energy over the noise density; sigma^2 "
+               "per quadrature)";
+    return req->model->type->snr_definition;
+}
+
 qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *cmp)
 {
     memset(cmp, 0, sizeof *cmp);
