@@ -78,7 +78,8 @@ static const baseline baselines[] = {
 };
 
 /* Every parameter: NaN where required, below its minimum, at an
- * exclusive minimum, above its maximum, infinite: QC_EINVAL naming it. */
+ * exclusive minimum, above its maximum or at an exclusive one, infinite:
+ * QC_EINVAL naming it. */
 static void test_bad_parameters(void **state)
 {
     (void)state;
@@ -95,7 +96,7 @@ static void test_bad_parameters(void **state)
             if (isfinite(s->min))
                 bad[nbad++] = s->min_exclusive ? s->min : s->min - 1.0;
             if (isfinite(s->max))
-                bad[nbad++] = s->max + 1.0;
+                bad[nbad++] = s->max_exclusive ? s->max : s->max + 1.0;
             bad[nbad++] = -INFINITY;
             bad[nbad++] = INFINITY;
             for (size_t k = 0; k < nbad; k++) {

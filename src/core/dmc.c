@@ -151,17 +151,17 @@ qc_status qc_dmc_parse(const char *text, size_t len, const char *name,
             double v = strtod(numbuf, &endp);
             if (endp == numbuf || *endp != '\0') {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a number",
-                             name, line_no, cols_here + 1, qc_quote(numbuf, strlen(numbuf), QC_QUOTE_CHARS, shown, sizeof shown));
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0)) {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a finite number",
-                             name, line_no, cols_here + 1, qc_quote(numbuf, strlen(numbuf), QC_QUOTE_CHARS, shown, sizeof shown));
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (v < 0.0) {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu is a negative probability (%s)",
-                             name, line_no, cols_here + 1, qc_quote(numbuf, strlen(numbuf), QC_QUOTE_CHARS, shown, sizeof shown));
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (dvec_push(&vals, v) != 0) {

@@ -50,7 +50,7 @@ def allowed_nulls(j):
     src/quantcap.h qc_design_result)."""
     allowed = set()
     if j.get("model") in NO_SNR_MODELS:
-        allowed |= {"snr_db", "snr_penalty_db"}       # the model defines no SNR
+        allowed |= {"snr_db", "snr_penalty_db", "snr_definition"}  # the model defines no SNR
     if j.get("model") != "gauss":
         allowed.add("shaping_gap_db")                 # defined for gauss only
     if j.get("quantizer") != "lloyd-max":
