@@ -106,6 +106,9 @@ int cmd_channel(int argc, char **argv)
         for (size_t i = 0; i < type->nparams; i++)
             json_object_set_new(pj, type->params[i].name, cli_json_real(m->params[i]));
         json_object_set_new(o, "parameters", pj);
+        json_object_set_new(o, "level_unit", json_string(type->level_unit ? type->level_unit : ""));
+        json_object_set_new(o, "output_unit",
+                            json_string(type->output_unit ? type->output_unit : ""));
         json_object_set_new(o, "levels", cli_json_array(levels, nl));
         json_object_set_new(o, "thresholds", cli_json_array(t, nt));
         json_t *rows = json_array();
