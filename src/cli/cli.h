@@ -96,7 +96,8 @@ int cli_build_model(const qc_model_type *type, const double *params, qc_model **
 /* Progress bar on stderr (progress.c): drawn only when stderr is a
  * terminal and quiet is 0; `unit` names the work counted ("points"). */
 typedef struct {
-    int tty, drawn, finished;
+    int tty, drawn, finished, shown;
+    double delay_s; /* draw only once the run has lasted this long (0: at once) */
     const char *unit;
     struct timespec start, last;
     size_t first_done; /* done when the bar was first drawn (resumed work) */

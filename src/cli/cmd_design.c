@@ -16,6 +16,7 @@ static const cli_opt output_options[] = {
 };
 
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
+#define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
 
 /* The design keys become flags; the table lives as long as the program. */
 static cli_opt key_options[64];
@@ -286,6 +287,7 @@ int cmd_design(int argc, char **argv)
     }
     cli_progress bar;
     cli_progress_init(&bar, cli_has(&a, "quiet"), "steps");
+    bar.delay_s = PROGRESS_DELAY_S;
     req.progress = cli_progress_report;
     req.progress_user = &bar;
     if (cli_has(&a, "compare")) {

@@ -31,9 +31,10 @@ void cli_progress_report(void *user, size_t done, size_t total)
     p->last = now;
     p->drawn = 1;
     p->finished = done >= total;
-    if (!p->tty)
-        return;
     double elapsed = cli_seconds_between(&p->start, &now);
+    if (!p->tty || (!p->shown && elapsed < p->delay_s))
+        return; /* a run shorter than the delay draws nothing */
+    p->shown = 1;
     double rate = elapsed > 0 && done > p->first_done
                       ? (double)(done - p->first_done) / elapsed : 0.0;
     char left[32] = "--:--";
@@ -56,6 +57,6 @@ void cli_progress_report(void *user, size_t done, size_t total)
 
 void cli_progress_end(cli_progress *p)
 {
-    if (p->tty && p->drawn && !p->finished)
+    if (p->tty && p->shown && !p->finished)
         fputc('\n', stderr);
 }
