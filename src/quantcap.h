@@ -167,6 +167,7 @@ typedef struct {
     double min;          /* smallest allowed value                      */
     double max;          /* largest allowed value                       */
     int min_exclusive;   /* 1: value must be > min                      */
+    int max_exclusive;   /* 1: value must be < max                      */
 } qc_param_spec;
 
 #define QC_MODEL_MAX_PARAMS 8
@@ -235,6 +236,13 @@ typedef struct qc_model_type {
     const char *const *keys;
     /* The physical front end that derives the parameters (NONE: none). */
     qc_frontend_kind frontend;
+    /* Words naming what snr computes, for reports (NULL with no snr). */
+    const char *snr_definition;
+    /* Units for text output: of the input levels and of the receiver
+     * output (thresholds, reconstruction points). "level units" means the
+     * unit the caller chose for the levels. NULL is read as "". */
+    const char *level_unit;
+    const char *output_unit;
 } qc_model_type;
 
 /* A model instance. Models with a state (apd caches per-level grids,
@@ -668,6 +676,20 @@ typedef struct {
     size_t blocklength;          /* n > 0: normal approximation at n        */
     double error_rate;           /* block error probability ε in (0, 1),
                                     required with blocklength               */
+    /* Progress of a long design (NULL: none): called now and then from
+     * the calling thread with the work units done out of an estimated
+     * total (0 < done ≤ total; done jumps ahead when a stage stops early,
+     * and reaches total when the design is complete). The library never
+     * prints: showing it is the caller's business. Used by the capacity
+     * objective (the alternations of law and thresholds) and by the level
+     * search (its designs); other designs are quick and report nothing. */
+    void (*progress)(void *user, size_t done, size_t total);
+    void *progress_user;
+    /* Units of the levels and of the receiver output for reports (NULL:
+     * the model type's level_unit / output_unit), e.g. "A" when the
+     * levels are photocurrents from the physical front end. */
+    const char *level_unit;
+    const char *output_unit;
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -768,6 +790,15 @@ typedef struct {
     qc_design_result result[QC_COMPARE_MAX]; /* empty where status != QC_OK */
 } qc_design_comparison;
 
+/* The units a report gives the levels and the thresholds of a request:
+ * the request's own, else its model type's, else "" (never NULL). */
+const char *qc_design_level_unit(const qc_design_request *req);
+const char *qc_design_output_unit(const qc_design_request *req);
+/* What the reported snr_db of a request means, in words (the model
+ * type's snr_definition; for QAM on model gauss, Es/N0), or NULL when the
+ * model defines no SNR. */
+const char *qc_design_snr_definition(const qc_design_request *req);
+
 /* Run every strategy with the request's objective, channel and cells
  * (req->quantizer is ignored). An invalid request fails at once with
  * nothing filled; otherwise every entry is filled and the return value is
@@ -846,6 +877,14 @@ size_t qc_edit_distance(const char *a, const char *b);
  * key with '-' written '_' ("snr-db" -> "snr_db"; docs/formats.md).
  * Cut to fit `cap` bytes. */
 void qc_field_name(const char *key, char *buf, size_t cap);
+
+#define QC_QUOTE_CHARS 40 /* characters of a field shown in a message */
+/* Text (len bytes, NULs included) made safe for a message into buf (cap
+ * bytes, at least 8): printable ASCII and well-formed UTF-8 kept, any
+ * other byte written as \xNN, and cut with "..." after max_chars
+ * characters or where buf is full. Returns buf. */
+const char *qc_quote(const char *text, size_t len, size_t max_chars, char *buf,
+                     size_t cap);
 
 /* ------------------------------------------------------------------ */
 /* Settings: the key = value vocabulary of a design                    */

@@ -776,6 +776,72 @@ static void test_bad_input(void **state)
     qc_model_free(m);
 }
 
+/* ---- progress callback ---------------------------------------------- */
+
+typedef struct {
+    size_t calls, last_done, last_total;
+    int backwards, over; /* done fell within one total; done > total */
+} progress_log;
+
+static void log_progress(void *user, size_t done, size_t total)
+{
+    progress_log *p = user;
+    if (p->calls && total == p->last_total && done < p->last_done)
+        p->backwards = 1;
+    if (done > total || done == 0)
+        p->over = 1;
+    p->calls++;
+    p->last_done = done;
+    p->last_total = total;
+}
+
+/* A long design reports its progress through the request's callback:
+ * the capacity objective without constraints (joint design), under a
+ * power constraint (constrained alternation) and a level search; the
+ * count never runs backwards and ends at the total. An MI design is quick
+ * and reports nothing (the documented contract). */
+static void test_progress_callback(void **state)
+{
+    (void)state;
+    double levels[9];
+    for (size_t i = 0; i < 9; i++)
+        levels[i] = -1.0 + 2.0 * (double)i / 8.0;
+    qc_model *m = gauss(0.5);
+    qc_constraints c;
+    qc_constraints_none(&c);
+    c.power = 0.5;
+    for (int k = 0; k < 4; k++) {
+        qc_design_request r;
+        request(&r, m, levels, k == 3 ? 2 : 9, 4, QC_QUANTIZER_OPTIMAL);
+        r.objective = k == 0 ? QC_OBJECTIVE_MI : QC_OBJECTIVE_CAPACITY;
+        r.skip_snr_penalty = 1;
+        if (k >= 2)
+            r.constraints = &c;
+        double two[2] = {-0.5, 0.5};
+        if (k == 3) { /* level search for 2 levels under the power budget */
+            r.levels = two;
+            r.optimize_levels = 1;
+            r.level_starts = 1;
+            r.objective = QC_OBJECTIVE_MI;
+        }
+        progress_log log = {0};
+        r.progress = log_progress;
+        r.progress_user = &log;
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        if (k == 0) {
+            assert_int_equal(log.calls, 0);
+        } else {
+            assert_true(log.calls >= 2);
+            assert_false(log.backwards);
+            assert_false(log.over);
+            assert_int_equal(log.last_done, log.last_total);
+        }
+        qc_design_result_clear(&res);
+    }
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -800,6 +866,7 @@ int main(void)
         cmocka_unit_test(test_noiseless_limit),
         cmocka_unit_test(test_limit_names),
         cmocka_unit_test(test_bad_input),
+        cmocka_unit_test(test_progress_callback),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

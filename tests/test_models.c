@@ -78,7 +78,8 @@ static const baseline baselines[] = {
 };
 
 /* Every parameter: NaN where required, below its minimum, at an
- * exclusive minimum, above its maximum, infinite: QC_EINVAL naming it. */
+ * exclusive minimum, above its maximum or at an exclusive one, infinite:
+ * QC_EINVAL naming it. */
 static void test_bad_parameters(void **state)
 {
     (void)state;
@@ -95,7 +96,7 @@ static void test_bad_parameters(void **state)
             if (isfinite(s->min))
                 bad[nbad++] = s->min_exclusive ? s->min : s->min - 1.0;
             if (isfinite(s->max))
-                bad[nbad++] = s->max + 1.0;
+                bad[nbad++] = s->max_exclusive ? s->max : s->max + 1.0;
             bad[nbad++] = -INFINITY;
             bad[nbad++] = INFINITY;
             for (size_t k = 0; k < nbad; k++) {
@@ -210,8 +211,9 @@ static void test_gauss_sd(void **state)
     qc_model_free(m);
 }
 
-/* The SNR hook of gauss-sd: E[x²]/E[σ²(x)], and scaling the SNR by g
- * divides every variance term by g (definition of the hook). */
+/* The SNR hook of gauss-sd: Var[x]/E[σ²(x)] (the mean level left out),
+ * and scaling the SNR by g divides every variance term by g (definition
+ * of the hook). */
 static void test_gauss_sd_snr(void **state)
 {
     (void)state;
@@ -222,7 +224,7 @@ static void test_gauss_sd_snr(void **state)
     assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, params, &m), QC_OK);
     double noise = 0.0, power = 0.0;
     for (size_t i = 0; i < 4; i++) {
-        power += 0.25 * levels[i] * levels[i];
+        power += 0.25 * (levels[i] - 1.5) * (levels[i] - 1.5); /* mean level 1.5 */
         noise += 0.25 * (0.25 + 0.2 * levels[i] + 0.01 * levels[i] * levels[i]);
     }
     double snr_db = qc_model_snr_db(m, levels, law, 4);

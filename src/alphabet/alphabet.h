@@ -86,5 +86,7 @@ typedef qc_status (*qc_level_design)(void *ctx, const double *x, qc_design_resul
 qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
                           qc_level_design design, void *ctx, double *best_out,
                           double *rate_bits, size_t *evaluations);
+/* Most designs one start of that search runs for n levels. */
+size_t qc_level_search_budget(size_t n);
 
 #endif

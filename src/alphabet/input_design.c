@@ -24,6 +24,7 @@ typedef struct {
     unsigned dims;
     const double *law;   /* the law tied to the (sorted) levels; NULL: uniform */
     int searching;       /* inside the level search: skip reporting work */
+    size_t evals, evals_total; /* level search progress: designs run, budget */
     double *power_cost, *mean_cost; /* nlevels each */
 } design_ctx;
 
@@ -139,6 +140,8 @@ typedef struct {
                                    channel's upper bound                 */
     double *best_law, *best_t;
     size_t iterations, alternations, fine;
+    const qc_design_request *progress_req; /* NULL inside the level search */
+    size_t work;                /* progress units: alternations possible + 1 */
 } alternation;
 
 /* Thresholds of strategy `kind` designed for the MI of law a->law. */
@@ -168,7 +171,7 @@ static qc_status thresholds_for(alternation *a, qc_quantizer_kind kind)
 /* From the thresholds in a->t: constrained capacity of the channel, then
  * thresholds of the request's strategy for that law, until the capacity
  * moves by no more than the tolerance. */
-static qc_status alternate(alternation *a)
+static qc_status alternate(alternation *a, size_t stage)
 {
     const qc_quantizer_kind kind = a->sub->quantizer;
     qc_dmc *ch = NULL;
@@ -182,6 +185,7 @@ static qc_status alternate(alternation *a)
         if ((st = qc_discretize(a->sub->model, a->sub->levels, a->n, a->t, a->nt, &ch)) !=
             QC_OK)
             break;
+        qc_design_progress(a->progress_req, stage * CONSTRAINED_ALTERNATIONS + k + 1, a->work);
         qc_costs_result cr;
         a->opt.initial = a->law;
         st = qc_capacity_costs(ch, &a->opt, a->costs, a->ncosts, NULL, &cr, a->law);
@@ -243,12 +247,15 @@ static qc_status constrained_capacity(const design_ctx *c, const qc_design_reque
     static const qc_quantizer_kind optimal_starts[] = {
         QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL};
     size_t nstarts = kind == QC_QUANTIZER_OPTIMAL ? 3 : 1;
+    a.progress_req = sub;
+    a.work = nstarts * CONSTRAINED_ALTERNATIONS + 1;
     for (size_t s = 0; s < nstarts && st == QC_OK; s++) {
         for (size_t i = 0; i < n; i++)
             a.law[i] = sub->probabilities ? sub->probabilities[i] : 1.0 / (double)n;
         st = thresholds_for(&a, kind == QC_QUANTIZER_OPTIMAL ? optimal_starts[s] : kind);
         if (st == QC_OK)
-            st = alternate(&a);
+            st = alternate(&a, s);
+        qc_design_progress(a.progress_req, (s + 1) * CONSTRAINED_ALTERNATIONS, a.work);
     }
     if (st != QC_OK)
         goto done;
@@ -270,6 +277,7 @@ static qc_status constrained_capacity(const design_ctx *c, const qc_design_reque
     res->iterations = a.iterations;
     res->design_iterations = kind == QC_QUANTIZER_FIXED ? 0 : a.alternations;
     res->fine_cells = kind == QC_QUANTIZER_OPTIMAL ? a.fine : 0;
+    qc_design_progress(a.progress_req, a.work, a.work);
 done:
     free(a.law);
     free(a.best_law);
@@ -286,8 +294,15 @@ static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
     qc_design_request sub = plain_request(req);
     sub.levels = x;
     sub.probabilities = c->law;
-    if (c->searching)
+    if (c->searching) {
         sub.skip_snr_penalty = 1;
+        /* the search reports its designs, not the stages inside each */
+        sub.progress = NULL;
+        design_ctx *mc = ctx;
+        qc_design_progress(req, ++mc->evals, c->evals_total + 1);
+    } else if (c->evals_total) {
+        sub.progress = NULL; /* the final design after a search: one unit */
+    }
     memset(res, 0, sizeof *res);
     qc_status st;
     if (req->objective == QC_OBJECTIVE_CAPACITY) {
@@ -431,6 +446,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         size_t starts = req->level_starts ? req->level_starts : DEFAULT_LEVEL_STARTS;
         if (starts > MAX_LEVEL_STARTS)
             starts = MAX_LEVEL_STARTS;
+        c.evals_total = starts * qc_level_search_budget(n);
         double best;
         c.searching = 1;
         st = qc_level_search(&set, x, starts, design_at, &c, x, &best, &evaluations);
@@ -449,6 +465,8 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
     }
     res->levels_optimized = req->optimize_levels != 0;
     res->level_evaluations = evaluations;
+    if (c.evals_total)
+        qc_design_progress(req, c.evals_total + 1, c.evals_total + 1);
 done:
     qc_level_set_clear(&set);
     free(x);

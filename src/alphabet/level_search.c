@@ -102,7 +102,7 @@ static qc_status run_from(search *s, const double *start)
         gsl_vector_set(z, i, start[i]);
     gsl_vector_set_all(step, STEP_FRACTION * s->width);
     gsl_multimin_function f = {objective, n, s};
-    s->limit = s->evals + EVALS_BASE + EVALS_PER_LEVEL * n;
+    s->limit = s->evals + qc_level_search_budget(n);
     int rc = gsl_multimin_fminimizer_set(m, &f, z, step);
     if (rc != GSL_SUCCESS) {
         st = qc_fail(QC_ENUMERIC, "level search: Nelder-Mead start failed: %s",
@@ -128,6 +128,8 @@ done:
     gsl_vector_free(step);
     return st;
 }
+
+size_t qc_level_search_budget(size_t n) { return EVALS_BASE + EVALS_PER_LEVEL * n; }
 
 qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
                           qc_level_design design, void *ctx, double *best_out,

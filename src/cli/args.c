@@ -10,12 +10,14 @@
 
 int cli_usage_error(const char *fmt, ...)
 {
+    char text[1024], shown[1024];
     va_list ap;
-    fputs("quantcap: error: ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    vsnprintf(text, sizeof text, fmt, ap);
     va_end(ap);
-    fputc('\n', stderr);
+    /* arguments may carry any bytes: show them escaped (qc_quote) */
+    fprintf(stderr, "quantcap: error: %s\n",
+            qc_quote(text, strlen(text), sizeof shown, shown, sizeof shown));
     return CLI_USAGE;
 }
 

@@ -6,6 +6,7 @@
 
 #include <stddef.h>
 #include <stdio.h>
+#include <time.h>
 
 #include <jansson.h>
 
@@ -91,6 +92,34 @@ int cli_model_type(const cli_args *a, const qc_model_type **type);
  * a flag belonging only to other models is an error. */
 int cli_model_params(const cli_args *a, const qc_model_type *type, double *params);
 int cli_build_model(const qc_model_type *type, const double *params, qc_model **out);
+
+/* Progress bar on stderr (progress.c): drawn only when stderr is a
+ * terminal and quiet is 0; `unit` names the work counted ("points"). */
+typedef struct {
+    int tty, drawn, finished, shown;
+    double delay_s; /* draw only once the run has lasted this long (0: at once) */
+    const char *unit;
+    struct timespec start, last;
+    size_t first_done; /* done when the bar was first drawn (resumed work) */
+} cli_progress;
+void cli_progress_init(cli_progress *p, int quiet, const char *unit);
+/* The callback for qc_sweep_options.progress and qc_design_request.progress
+ * (user = the cli_progress). */
+void cli_progress_report(void *user, size_t done, size_t total);
+/* End the bar's line if a run stopped before its end. */
+void cli_progress_end(cli_progress *p);
+double cli_seconds_between(const struct timespec *a, const struct timespec *b);
+
+/* Text output helpers (text.c). */
+/* `one` when n == 1, else `many`. */
+const char *cli_plural(size_t n, const char *one, const char *many);
+/* Rate unit of a report: "bit/symbol", or "bit/complex symbol" for QAM. */
+const char *cli_rate_unit(unsigned dimensions);
+/* " UNIT" with a leading space, or "" for a dimensionless quantity. */
+const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
+/* Unit of model parameter i printed in a report whose levels are in
+ * `level_unit`: a parameter in "level units" takes the levels' unit. */
+const char *cli_param_unit(const qc_model_type *type, size_t i, const char *level_unit);
 
 /* Subcommands. */
 int cmd_capacity(int argc, char **argv);

@@ -32,16 +32,20 @@ static void print_table(FILE *f, const char *path, const qc_dmc *d,
                         const qc_capacity_result *r, const double *input, double tol,
                         int with_cost, int plain)
 {
-    fprintf(f, "channel      %s (%zu inputs x %zu outputs)\n", path, d->nx, d->ny);
-    fprintf(f, "capacity     %.10f bit/use\n", r->capacity_bits);
-    fprintf(f, "certified    upper bound %.10f bit/use, gap %.3g bit (tolerance %.3g bit)\n",
-            r->upper_bound_bits, r->gap_bits, tol);
-    fprintf(f, "method       %s Blahut-Arimoto, %zu iterations\n",
-            plain ? "plain" : "accelerated", r->iterations);
+    const char *unit = cli_rate_unit(1);
+    fprintf(f, "channel      %s (%zu %s x %zu %s)\n", path, d->nx,
+            cli_plural(d->nx, "input", "inputs"), d->ny, cli_plural(d->ny, "output", "outputs"));
+    fprintf(f, "capacity     %.10f %s\n", r->capacity_bits, unit);
+    fprintf(f, "certified    upper bound %.10f %s, gap %.3g %s (tolerance %.3g %s)\n",
+            r->upper_bound_bits, unit, r->gap_bits, unit, tol, unit);
+    fprintf(f, "method       %s Blahut-Arimoto, %zu %s\n", plain ? "plain" : "accelerated",
+            r->iterations, cli_plural(r->iterations, "iteration", "iterations"));
+    /* the multiplier is the slope dC/dB of the capacity-cost curve: in
+     * the rate's unit per unit cost (the engine works in nats) */
     if (with_cost)
-        fprintf(f, "cost         %.10g (%s), multiplier %.6g nat per unit cost\n",
+        fprintf(f, "cost         %.10g cost units (%s), multiplier %.6g %s per cost unit\n",
                 r->cost, r->cost_active ? "budget binds" : "budget not binding",
-                r->multiplier);
+                r->multiplier / log(2.0), unit);
     fprintf(f, "\n  input   probability\n");
     for (size_t x = 0; x < d->nx; x++)
         fprintf(f, "  %5zu   %.10f\n", x + 1, input[x]);

@@ -106,6 +106,9 @@ int cmd_channel(int argc, char **argv)
         for (size_t i = 0; i < type->nparams; i++)
             json_object_set_new(pj, type->params[i].name, cli_json_real(m->params[i]));
         json_object_set_new(o, "parameters", pj);
+        json_object_set_new(o, "level_unit", json_string(type->level_unit ? type->level_unit : ""));
+        json_object_set_new(o, "output_unit",
+                            json_string(type->output_unit ? type->output_unit : ""));
         json_object_set_new(o, "levels", cli_json_array(levels, nl));
         json_object_set_new(o, "thresholds", cli_json_array(t, nt));
         json_t *rows = json_array();
@@ -125,11 +128,18 @@ int cmd_channel(int argc, char **argv)
             fputc('\n', sink.f);
         }
     } else {
+        const char *lu = type->level_unit ? type->level_unit : "";
+        const char *ou = type->output_unit ? type->output_unit : "";
+        char ub[96];
         fprintf(sink.f, "model %s:", type->name);
+        if (is_table)
+            fprintf(sink.f, " densities from %s", cli_get(&a, "table"));
         for (size_t i = 0; i < type->nparams; i++)
-            fprintf(sink.f, " %s = %g%s%s", type->params[i].name, m->params[i],
-                    type->params[i].unit[0] ? " " : "", type->params[i].unit);
-        fprintf(sink.f, "\nP(cell | level), %zu levels x %zu cells\n\n%12s", nl, nt + 1, "level");
+            fprintf(sink.f, "%s %s = %g%s", i ? "," : "", type->params[i].name, m->params[i],
+                    cli_unit_suffix(cli_param_unit(type, i, lu), ub, sizeof ub));
+        fprintf(sink.f, "\nP(cell | level): %zu %s x %zu %s\n", nl,
+                cli_plural(nl, "level", "levels"), nt + 1, cli_plural(nt + 1, "cell", "cells"));
+        fprintf(sink.f, "levels in %s; cells of the output y in %s\n\n%12s", lu, ou, "level");
         for (size_t j = 0; j < d->ny; j++) {
             char head[64];
             FILE *mf = fmemopen(head, sizeof head, "w");

@@ -11,11 +11,13 @@ static const cli_opt output_options[] = {
     {"compare", NULL, "run every threshold strategy on the same channel, side by side"},
     {"json", NULL, "machine-readable JSON output"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
+    {"quiet", NULL, "no progress bar (drawn on a terminal for long designs)"},
     {NULL, NULL, NULL},
 };
 
 #define THRESHOLD_RESOLUTION 1e-4 /* of the noise standard deviation, in text */
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
+#define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
 
 /* The design keys become flags; the table lives as long as the program. */
 static cli_opt key_options[64];
@@ -41,7 +43,7 @@ static void help(const cli_args *a)
            "                       [--peak-limit A] [--power-limit P] [--mean-limit M]\n"
            "                       [--optimize-levels]\n"
            "                       [--blocklength N --error-rate E]\n"
-           "                       [--compare] [--json] [--output FILE]\n\n"
+           "                       [--compare] [--json] [--output FILE] [--quiet]\n\n"
            "Places the thresholds of a K-cell quantizer after the receiver and reports\n"
            "the information rate that survives it, the unquantized rate for the same\n"
            "levels and input law, and the loss. --objective mi rates the uniform (or\n"
@@ -54,6 +56,9 @@ static void help(const cli_args *a)
            "to the --power-limit budget when one is given. For qam:M it is Es/N0. With\n"
            "--objective capacity sigma is set with that law and the SNR reported is\n"
            "E[x^2]/sigma^2 under the optimized law (JSON operating_snr_db).\n"
+           "The report names what its SNR means. For gauss-sd (intensity levels) it is\n"
+           "the modulation power over the noise, Var[x]/E[sigma^2(x)]: the mean level\n"
+           "is left out, and OOK with equal noise on both levels gives Q^2.\n"
            "The SNR penalty is the operating SNR minus the SNR at which the\n"
            "unquantized receiver reaches the same rate.\n\n"
            "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
@@ -84,33 +89,37 @@ static void help(const cli_args *a)
 /* GMI, dispersion, blocklength rate, shaping gap (docs/alphabets.md). */
 static void print_practical_rates(FILE *f, const qc_design_result *r)
 {
-    const char *unit = r->dimensions == 2 ? "bit/symbol" : "bit/use";
+    const char *unit = cli_rate_unit(r->dimensions);
     if (r->dimensions == 2)
         fprintf(f, "QAM          rates per complex symbol: two quadratures with these "
                    "levels and thresholds\n");
     if (isfinite(r->gmi_bits))
-        fprintf(f, "GMI          %.9f %s   BICM, Gray labels; MI of the law %.9f\n",
-                r->gmi_bits, unit, r->mi_bits);
+        fprintf(f, "GMI          %.9f %s   BICM, Gray labels; MI of the law %.9f %s\n",
+                r->gmi_bits, unit, r->mi_bits, unit);
     fprintf(f, "dispersion   %.6g bit^2", r->dispersion_bits2);
     if (r->blocklength)
-        fprintf(f, "   rate at n = %zu, error %.3g: %.9f %s (normal approximation)",
-                r->blocklength, r->error_rate, r->rate_at_blocklength_bits, unit);
+        fprintf(f, "   rate at n = %zu %s, block error probability %.3g: %.9f %s (normal "
+                   "approximation)",
+                r->blocklength, cli_plural(r->blocklength, "symbol", "symbols"), r->error_rate,
+                r->rate_at_blocklength_bits, unit);
     fputc('\n', f);
     if (isfinite(r->shaping_gap_db))
         fprintf(f, "shaping gap  %.4f dB from 1/2 log2(1 + snr) at the same rate per "
                    "dimension\n",
                 r->shaping_gap_db);
     if (r->levels_optimized)
-        fprintf(f, "levels       optimized (%zu designs evaluated)\n", r->level_evaluations);
+        fprintf(f, "levels       optimized (%zu %s evaluated)\n", r->level_evaluations,
+                cli_plural(r->level_evaluations, "design", "designs"));
 }
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
 {
     int counts = req->model->type->output == QC_OUTPUT_COUNTS;
-    fprintf(f, "rate         %.9f bit/use", r->rate_bits);
+    const char *unit = cli_rate_unit(r->dimensions);
+    fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
     if (req->objective == QC_OBJECTIVE_CAPACITY)
-        fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f (tol %.2g bit)\n",
-                r->upper_bound_bits, r->tol_bits);
+        fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f %s (tol %.2g %s)\n",
+                r->upper_bound_bits, unit, r->tol_bits, unit);
     else
         fprintf(f, "   exact finite sum over the %zu x %zu channel matrix\n", r->channel->nx,
                 r->channel->ny);
@@ -118,20 +127,20 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
         fprintf(f, "             set to its limit (%s): the sum came out above it by rounding\n",
                 qc_rate_limit_name(r->rate_limited_by));
     if (r->noiseless_limit)
-        fprintf(f, "unquantized  %.9f bit/use   noiseless limit: the output is narrower than "
+        fprintf(f, "unquantized  %.9f %s   noiseless limit: the output is narrower than "
                    "the resolution of doubles\n",
-                r->unquantized_bits);
+                r->unquantized_bits, unit);
     else
-        fprintf(f, "unquantized  %.9f bit/use   %s, error estimate %.1e bit\n",
-                r->unquantized_bits,
+        fprintf(f, "unquantized  %.9f %s   %s, error estimate %.1e %s\n",
+                r->unquantized_bits, unit,
                 counts ? "sum over every count (ideal photon-number resolution)"
                        : "adaptive quadrature",
-                r->unquantized_err_bits);
+                r->unquantized_err_bits, unit);
     if (r->unquantized_limited_by)
         fprintf(f, "             set to its limit (%s): the computed value exceeded it within "
                    "its error estimate\n",
                 qc_rate_limit_name(r->unquantized_limited_by));
-    fprintf(f, "loss         %.9f bit/use\n", r->loss_bits);
+    fprintf(f, "loss         %.9f %s\n", r->loss_bits, unit);
     const char *why = qc_penalty_note_text(r->snr_penalty_note);
     if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
         fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
@@ -142,6 +151,9 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
                 why ? why : "no SNR penalty is defined here");
     else if (why)
         fprintf(f, "SNR penalty  undefined: %s\n", why);
+    const char *snr_def = qc_design_snr_definition(req);
+    if (isfinite(r->snr_db) && snr_def)
+        fprintf(f, "SNR means    %s\n", snr_def);
     print_practical_rates(f, r);
 }
 
@@ -168,10 +180,11 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 /* The threshold listing: counts as integers, continuous outputs resolved
  * to 1e-4 of the noise standard deviation (full precision in JSON), and
  * a note when a count quantizer has fewer cells than asked for. */
-static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r)
+static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
+                             const char *unit)
 {
     const int counts = m->type->output == QC_OUTPUT_COUNTS;
-    fprintf(f, "\nthresholds  ");
+    fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
         int d = counts ? 0 : threshold_digits(m, r, t);
@@ -189,13 +202,17 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
-                         const qc_design_result *r, unsigned bits)
+                         const qc_design_result *r, unsigned bits, const char *table)
 {
     const qc_model_type *type = m->type;
+    const char *lu = qc_design_level_unit(req), *ou = qc_design_output_unit(req);
+    char ub[96];
     fprintf(f, "model        %s:", type->name);
+    if (table)
+        fprintf(f, " densities from %s", table);
     for (size_t i = 0; i < type->nparams; i++)
-        fprintf(f, " %s = %.6g%s%s", type->params[i].name, m->params[i],
-                type->params[i].unit[0] ? " " : "", type->params[i].unit);
+        fprintf(f, "%s %s = %.6g%s", i ? "," : "", type->params[i].name, m->params[i],
+                cli_unit_suffix(cli_param_unit(type, i, lu), ub, sizeof ub));
     fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
     if (bits)
         fprintf(f, " (%u bit%s)", bits, bits == 1 ? "" : "s");
@@ -207,12 +224,12 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
                                                     : "mutual information, given input law");
     print_rates(f, req, r);
     if (r->reconstruction)
-        fprintf(f, "mean-square  %.6g (Lloyd-Max)\n", r->mse);
-    print_thresholds(f, m, r);
+        fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);
+    print_thresholds(f, m, r, ou);
     /* long level grids: only the mass points */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
-    fprintf(f, "\n\n       level   probability%s\n",
-            mass_only ? "   (mass points: probability > 1e-6)" : "");
+    fprintf(f, "\n\n       level   probability%s   (levels in %s)\n",
+            mass_only ? "   (mass points: probability > 1e-6)" : "", lu);
     for (size_t x = 0; x < r->nlevels; x++)
         if (!mass_only || r->input[x] > 1e-6)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
@@ -253,8 +270,8 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         const char *no_penalty[QC_COMPARE_MAX] = {0};
         const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
         double tol = 0.0;
-        fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate bit/use",
-                "unquantized", "loss bit", "penalty dB", capacity ? "    upper bound" : "");
+        fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate", "unquantized",
+                "loss", "penalty dB", capacity ? "    upper bound" : "");
         for (size_t i = 0; i < cmp.count; i++) {
             if (cmp.status[i] != QC_OK) {
                 fprintf(sink->f, "%-10s failed: %s\n", qc_quantizer_name(cmp.kind[i]),
@@ -290,18 +307,18 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                     fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
-        const char *per_symbol = req->dimensions == 2 ? ", per complex symbol" : "";
+        const char *unit = cli_rate_unit(req->dimensions);
         if (capacity)
             fprintf(sink->f,
                     "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
-                    "(tol %g bit)%s\n",
-                    tol, per_symbol);
+                    "(tol %g %s); rate, unquantized, loss and upper bound in %s\n",
+                    tol, unit, unit);
         else
-            fprintf(sink->f, "\n%s%s\n",
+            fprintf(sink->f, "\n%s; rate, unquantized and loss in %s\n",
                     req->objective == QC_OBJECTIVE_GMI
                         ? "rates: BICM GMI with Gray labels, exact finite sums"
                         : "rates: mutual information, exact finite sums",
-                    per_symbol);
+                    unit);
     }
     qc_design_comparison_clear(&cmp);
     return rc;
@@ -346,13 +363,21 @@ int cmd_design(int argc, char **argv)
             rc = CLI_NUMERIC;
         goto done;
     }
+    cli_progress bar;
+    cli_progress_init(&bar, cli_has(&a, "quiet"), "steps");
+    bar.delay_s = PROGRESS_DELAY_S;
+    req.progress = cli_progress_report;
+    req.progress_user = &bar;
     if (cli_has(&a, "compare")) {
         if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
             goto done;
         rc = run_compare(&sink, cli_has(&a, "json"), &req);
+        cli_progress_end(&bar);
         goto done;
     }
-    if ((st = qc_design(&req, &res)) != QC_OK) {
+    st = qc_design(&req, &res);
+    cli_progress_end(&bar);
+    if (st != QC_OK) {
         rc = cli_lib_error(st);
         goto done;
     }
@@ -369,7 +394,7 @@ int cmd_design(int argc, char **argv)
         }
         free(text);
     } else
-        design_table(sink.f, m, &req, &res, bits);
+        design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"));
 done:
     rc = cli_sink_finish(&sink, rc);
     qc_design_result_clear(&res);

@@ -61,6 +61,13 @@ int cmd_models(int argc, char **argv)
             json_object_set_new(o, "name", json_string(types[t]->name));
             json_object_set_new(o, "summary", json_string(types[t]->summary));
             json_object_set_new(o, "output", json_string(types[t]->output == QC_OUTPUT_COUNTS ? "counts" : "real"));
+            json_object_set_new(o, "level_unit",
+                                json_string(types[t]->level_unit ? types[t]->level_unit : ""));
+            json_object_set_new(o, "output_unit",
+                                json_string(types[t]->output_unit ? types[t]->output_unit : ""));
+            json_object_set_new(o, "snr_definition", types[t]->snr_definition
+                                                         ? json_string(types[t]->snr_definition)
+                                                         : json_null());
             json_t *ps = json_array();
             for (size_t i = 0; i < types[t]->nparams; i++) {
                 const qc_param_spec *p = &types[t]->params[i];
@@ -71,6 +78,8 @@ int cmd_models(int argc, char **argv)
                 json_object_set_new(pj, "default", cli_json_real(p->default_value));
                 json_object_set_new(pj, "min", cli_json_real(p->min));
                 json_object_set_new(pj, "max", cli_json_real(p->max));
+                json_object_set_new(pj, "min_exclusive", json_boolean(p->min_exclusive));
+                json_object_set_new(pj, "max_exclusive", json_boolean(p->max_exclusive));
                 json_array_append_new(ps, pj);
             }
             json_object_set_new(o, "parameters", ps);
@@ -92,13 +101,18 @@ int cmd_models(int argc, char **argv)
         printf("%-10s %s\n", types[t]->name, types[t]->summary);
         if (!only)
             continue;
-        printf("\noutput: %s\nparameters:\n",
-               types[t]->output == QC_OUTPUT_COUNTS ? "integer photon counts" : "real");
+        const char *lu = types[t]->level_unit ? types[t]->level_unit : "";
+        const char *ou = types[t]->output_unit ? types[t]->output_unit : "";
+        printf("\nlevels: %s\noutput: %s, in %s\n", lu,
+               types[t]->output == QC_OUTPUT_COUNTS ? "integer photon counts" : "real", ou);
+        if (types[t]->snr_definition)
+            printf("SNR: %s\n", types[t]->snr_definition);
+        printf("parameters:%s\n", types[t]->nparams ? "" : " none (made from a table file)");
         for (size_t i = 0; i < types[t]->nparams; i++) {
             const qc_param_spec *p = &types[t]->params[i];
             char range[96];
-            snprintf(range, sizeof range, "%s %g%s%s", p->min_exclusive ? ">" : ">=", p->min,
-                     isfinite(p->max) ? ", <= " : "", "");
+            snprintf(range, sizeof range, "%s %g%s", p->min_exclusive ? ">" : ">=", p->min,
+                     !isfinite(p->max) ? "" : p->max_exclusive ? ", < " : ", <= ");
             if (isfinite(p->max)) {
                 size_t l = strlen(range);
                 snprintf(range + l, sizeof range - l, "%g", p->max);

@@ -40,52 +40,6 @@ static void help(const cli_args *a)
     cli_print_options(a, stdout);
 }
 
-typedef struct {
-    int tty;
-    struct timespec start, last;
-    size_t first_done; /* points done when the run started (resumed) */
-    int drawn;
-} progress_state;
-
-static double seconds_between(const struct timespec *a, const struct timespec *b)
-{
-    return (double)(b->tv_sec - a->tv_sec) + 1e-9 * (double)(b->tv_nsec - a->tv_nsec);
-}
-
-static void progress(void *user, size_t done, size_t total)
-{
-    progress_state *p = user;
-    struct timespec now;
-    clock_gettime(CLOCK_MONOTONIC, &now);
-    if (!p->drawn) {
-        p->start = now;
-        p->first_done = done;
-    } else if (done < total && seconds_between(&p->last, &now) < 0.1) {
-        return;
-    }
-    p->last = now;
-    p->drawn = 1;
-    if (!p->tty)
-        return;
-    double elapsed = seconds_between(&p->start, &now);
-    double rate = elapsed > 0 ? (double)(done - p->first_done) / elapsed : 0.0;
-    char left[32] = "--:--";
-    if (rate > 0) {
-        long s = lround((double)(total - done) / rate);
-        snprintf(left, sizeof left, "%ld:%02ld", s / 60, s % 60);
-    }
-    const int width = 30;
-    int filled = total ? (int)((double)width * (double)done / (double)total) : width;
-    char bar[64];
-    for (int i = 0; i < width; i++)
-        bar[i] = i < filled ? '#' : '.';
-    bar[width] = '\0';
-    fprintf(stderr, "\r[%s] %zu/%zu points  %.1f/s  %s left ", bar, done, total, rate, left);
-    if (done == total)
-        fputc('\n', stderr);
-    fflush(stderr);
-}
-
 /* Default output folder: out/STEM for SCENARIO = .../STEM.ini */
 static void default_out(const char *scenario, char *out, size_t cap)
 {
@@ -169,27 +123,28 @@ int cmd_sweep(int argc, char **argv)
             rc = cli_lib_error(st);
             goto done;
         }
-    progress_state ps = {.tty = isatty(STDERR_FILENO) && !cli_has(&a, "quiet")};
+    cli_progress ps;
+    cli_progress_init(&ps, cli_has(&a, "quiet"), "points");
     qc_sweep_options opt;
     qc_sweep_options_default(&opt);
     opt.out_dir = out;
     opt.jobs = (unsigned)jobs;
     opt.resume = cli_has(&a, "resume");
     opt.plots = !cli_has(&a, "no-plots");
-    opt.progress = progress;
+    opt.progress = cli_progress_report;
     opt.user = &ps;
     struct timespec t0, t1;
     clock_gettime(CLOCK_MONOTONIC, &t0);
     st = qc_sweep_run(sc, &opt, &sum);
     clock_gettime(CLOCK_MONOTONIC, &t1);
-    if (ps.tty && ps.drawn && sum.resumed + sum.computed < sum.points)
-        fputc('\n', stderr);
+    cli_progress_end(&ps);
     if (st != QC_OK) {
         rc = cli_lib_error(st);
         goto done;
     }
-    printf("sweep: %zu points (%zu resumed, %zu computed, %zu failed) in %.1f s\n", sum.points,
-           sum.resumed, sum.computed, sum.failed, seconds_between(&t0, &t1));
+    printf("sweep: %zu %s (%zu resumed, %zu computed, %zu failed) in %.1f s\n", sum.points,
+           cli_plural(sum.points, "point", "points"), sum.resumed, sum.computed, sum.failed,
+           cli_seconds_between(&t0, &t1));
     for (size_t i = 0; i < sum.nfiles; i++)
         printf("wrote %s\n", sum.files[i]);
     for (size_t i = 0; i < sum.nnotes; i++)

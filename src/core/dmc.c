@@ -146,21 +146,22 @@ qc_status qc_dmc_parse(const char *text, size_t len, const char *name,
             memcpy(numbuf, text + i, w);
             numbuf[w] = '\0';
             char *endp;
+            char shown[4 * QC_QUOTE_CHARS + 8];
             errno = 0;
             double v = strtod(numbuf, &endp);
             if (endp == numbuf || *endp != '\0') {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a number",
-                             name, line_no, cols_here + 1, numbuf);
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0)) {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a finite number",
-                             name, line_no, cols_here + 1, numbuf);
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (v < 0.0) {
                 st = qc_fail(QC_EFORMAT, "%s:%zu: field %zu is a negative probability (%s)",
-                             name, line_no, cols_here + 1, numbuf);
+                             name, line_no, cols_here + 1, qc_quote(numbuf, w, QC_QUOTE_CHARS, shown, sizeof shown));
                 goto fail;
             }
             if (dvec_push(&vals, v) != 0) {

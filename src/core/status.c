@@ -52,7 +52,9 @@ qc_status qc_fail(qc_status status, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(text, sizeof text, fmt, ap);
     va_end(ap);
-    memcpy(detail, text, sizeof detail);
+    /* whatever a caller put in, the message holds no raw control or
+     * invalid bytes */
+    qc_quote(text, strlen(text), sizeof detail, detail, sizeof detail);
     return status;
 }
 

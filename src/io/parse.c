@@ -61,16 +61,18 @@ static qc_status parse_field(const char *field, double *out)
 {
     if (field[0] == '\0')
         return qc_fail(QC_EINVAL, "empty value where a number was expected");
+    char shown[4 * QC_QUOTE_CHARS + 8];
     if (!is_decimal(field))
         return qc_fail(QC_EINVAL, "'%s' is not a decimal number (expected e.g. 12, -0.5, 3e-9)",
-                       field);
+                       qc_quote(field, strlen(field), QC_QUOTE_CHARS, shown, sizeof shown));
     char *end;
     errno = 0;
     double v = strtod(field, &end);
     if (end == field || *end != '\0')
-        return qc_fail(QC_EINVAL, "'%s' is not a decimal number", field);
+        return qc_fail(QC_EINVAL, "'%s' is not a decimal number",
+                       qc_quote(field, strlen(field), QC_QUOTE_CHARS, shown, sizeof shown));
     if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0))
-        return qc_fail(QC_EINVAL, "'%s' is not a finite number in range", field);
+        return qc_fail(QC_EINVAL, "'%s' is not a finite number in range", qc_quote(field, strlen(field), QC_QUOTE_CHARS, shown, sizeof shown));
     *out = v; /* on underflow strtod gives the nearest subnormal or 0 */
     return QC_OK;
 }
@@ -96,8 +98,9 @@ qc_status qc_parse_size(const char *text, size_t lo, size_t hi, size_t *out)
         v = strtoull(buf, &end, 10);
         ok = *end == '\0' && errno != ERANGE && v >= lo && v <= hi;
     }
+    char shown[4 * QC_QUOTE_CHARS + 8];
     if (!ok)
-        return qc_fail(QC_EINVAL, "'%s' is not a whole number from %zu to %zu", buf, lo, hi);
+        return qc_fail(QC_EINVAL, "'%s' is not a whole number from %zu to %zu", qc_quote(buf, strlen(buf), QC_QUOTE_CHARS, shown, sizeof shown), lo, hi);
     *out = (size_t)v;
     return QC_OK;
 }
@@ -129,7 +132,8 @@ qc_status qc_parse_list(const char *text, double **out, size_t *n)
         }
         if (buf[0] == '\0') {
             free(v);
-            return qc_fail(QC_EINVAL, "value %zu is empty in '%s'", k + 1, text);
+            char shown[4 * QC_QUOTE_CHARS + 8];
+            return qc_fail(QC_EINVAL, "value %zu is empty in '%s'", k + 1, qc_quote(text, strlen(text), QC_QUOTE_CHARS, shown, sizeof shown));
         }
         if (parse_field(buf, &v[k]) != QC_OK) {
             free(v);

@@ -128,6 +128,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
         json_object_set_new(pj, name, qc_report_real(m->params[i]));
     }
     json_object_set_new(o, "parameters", pj);
+    json_object_set_new(o, "level_unit", json_string(qc_design_level_unit(req)));
+    json_object_set_new(o, "output_unit", json_string(qc_design_output_unit(req)));
     json_object_set_new(o, "objective", json_string(qc_objective_name(req->objective)));
     json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer)));
     json_object_set_new(o, "cells", json_integer((json_int_t)req->cells));
@@ -153,6 +155,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     /* the SNR the design operates at (under the optimized law for
      * objective capacity), not the requested snr-db */
     json_object_set_new(o, "operating_snr_db", qc_report_real(res->snr_db));
+    const char *snr_def = qc_design_snr_definition(req);
+    json_object_set_new(o, "snr_definition", snr_def ? json_string(snr_def) : json_null());
     json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
     json_object_set_new(o, "snr_penalty_note",
                         isfinite(res->snr_penalty_db)

@@ -523,8 +523,12 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
             return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or the parameters of "
                                       "model '%s', not both",
                            fk, type->name);
-        if (fk)
+        if (fk) {
             st = physical_route(s, type, intensity, nl, params);
+            /* the Gaussian models' levels are then photocurrents */
+            if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
+                req->level_unit = req->output_unit = "A";
+        }
         else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)

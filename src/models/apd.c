@@ -144,16 +144,6 @@ static void apd_destroy(void *state)
     free(s);
 }
 
-static qc_status apd_check(const double *p)
-{
-    if (p[APD_K] >= 1.0)
-        return qc_fail(QC_EINVAL,
-                       "model 'apd': parameter 'apd-k' must be < 1 for the exact "
-                       "McIntyre gain law (got %g); use 'apd-gauss'",
-                       p[APD_K]);
-    return QC_OK;
-}
-
 static qc_status apd_init(const double *params, void **state)
 {
     apd_state *s = calloc(1, sizeof *s);
@@ -792,8 +782,7 @@ const qc_model_type qc_model_apd = {
                "exact law by FFT, in electrons",
     .output = QC_OUTPUT_REAL,
     .nparams = APD_NPARAMS,
-    .params = qc_apd_params,
-    .check = apd_check,
+    .params = qc_apd_exact_params,
     .init = apd_init,
     .destroy = apd_destroy,
     .below = apd_below,
@@ -804,4 +793,6 @@ const qc_model_type qc_model_apd = {
     .moments = apd_moments,
     .keys = qc_apd_keys,
     .frontend = QC_FRONTEND_APD,
+    .level_unit = "relative intensity",
+    .output_unit = "electrons",
 };

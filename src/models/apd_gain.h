@@ -11,6 +11,8 @@ enum { APD_SIGNAL, APD_BACKGROUND, APD_GAIN, APD_K, APD_SIGMA_TH, APD_NPARAMS };
 extern const qc_param_spec qc_apd_params[APD_NPARAMS];
 /* Settings keys of the APD front end (both APD model types). */
 extern const char *const qc_apd_keys[];
+/* The same for `apd`, with k < 1 (exclusive). */
+extern const qc_param_spec qc_apd_exact_params[APD_NPARAMS];
 
 /* Excess noise factor F = kM + (1 − k)(2 − 1/M) (McIntyre 1966). */
 double qc_apd_excess(double gain, double k);

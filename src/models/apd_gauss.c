@@ -15,13 +15,26 @@
 
 const qc_param_spec qc_apd_params[APD_NPARAMS] = {
     {"signal", "electrons", "mean primary photoelectrons per slot at level 1", NAN,
-     0.0, INFINITY, 1},
+     0.0, INFINITY, 1, 0},
     {"background", "electrons", "mean primary background/dark electrons per slot",
-     0.0, 0.0, INFINITY, 0},
-    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0},
-    {"apd-k", "", "ionization coefficient ratio k (hole/electron)", 0.0, 0.0, 1.0, 0},
+     0.0, 0.0, INFINITY, 0, 0},
+    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0, 0},
+    {"apd-k", "", "ionization coefficient ratio k (hole/electron)", 0.0, 0.0, 1.0, 0, 0},
     {"sigma-th", "electrons", "thermal noise standard deviation per slot", NAN, 0.0,
-     INFINITY, 1},
+     INFINITY, 1, 0},
+};
+
+/* The exact law needs k < 1 (the McIntyre gain law degenerates at 1). */
+const qc_param_spec qc_apd_exact_params[APD_NPARAMS] = {
+    {"signal", "electrons", "mean primary photoelectrons per slot at level 1", NAN,
+     0.0, INFINITY, 1, 0},
+    {"background", "electrons", "mean primary background/dark electrons per slot",
+     0.0, 0.0, INFINITY, 0, 0},
+    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0, 0},
+    {"apd-k", "", "ionization coefficient ratio k (hole/electron) (k = 1: use apd-gauss)", 0.0,
+     0.0, 1.0, 0, 1},
+    {"sigma-th", "electrons", "thermal noise standard deviation per slot", NAN, 0.0,
+     INFINITY, 1, 0},
 };
 
 /* The APD front end: apd-gain and apd-k are parameters, and with a
@@ -109,4 +122,6 @@ const qc_model_type qc_model_apd_gauss = {
     .moments = apdg_moments,
     .keys = qc_apd_keys,
     .frontend = QC_FRONTEND_APD,
+    .level_unit = "relative intensity",
+    .output_unit = "electrons",
 };

@@ -13,8 +13,8 @@
 enum { P_SIGMA };
 
 static const qc_param_spec gauss_params[] = {
-    {"sigma", "", "noise standard deviation, in the units of the levels",
-     NAN, 0.0, INFINITY, 1},
+    {"sigma", "level units", "noise standard deviation, in the units of the levels",
+     NAN, 0.0, INFINITY, 1, 0},
 };
 
 static double gauss_below(const qc_model *m, double x, double t)
@@ -91,4 +91,7 @@ const qc_model_type qc_model_gauss = {
     .scale_snr = gauss_scale_snr,
     .keys = gauss_keys,
     .frontend = QC_FRONTEND_GAUSS,
+    .snr_definition = "E[x^2]/sigma^2 (signal power, mean included, over noise variance)",
+    .level_unit = "level units",
+    .output_unit = "level units",
 };

@@ -15,10 +15,10 @@
 enum { P_SIGMA0, P_A, P_B };
 
 static const qc_param_spec gauss_sd_params[] = {
-    {"sigma0", "", "noise standard deviation at x = 0, in the units of the levels",
-     NAN, 0.0, INFINITY, 1},
-    {"a", "", "variance per unit level (signal shot noise)", 0.0, 0.0, INFINITY, 0},
-    {"b", "", "variance per unit level squared (e.g. RIN)", 0.0, 0.0, INFINITY, 0},
+    {"sigma0", "level units", "noise standard deviation at x = 0, in the units of the levels",
+     NAN, 0.0, INFINITY, 1, 0},
+    {"a", "level units", "variance per unit level (signal shot noise)", 0.0, 0.0, INFINITY, 0, 0},
+    {"b", "", "variance per unit level squared (e.g. RIN)", 0.0, 0.0, INFINITY, 0, 0},
 };
 
 /* Standard deviation at level x ≥ 0: the root of the sum of squares of
@@ -76,18 +76,27 @@ static qc_status gauss_sd_moments(const qc_model *m, double x, double *mean,
     return QC_OK;
 }
 
-/* SNR of an intensity alphabet: E[x²] / E[σ²(x)] under the law, the
- * electrical signal power over the average noise variance. */
+/* SNR of an intensity alphabet as intensity-modulation practice reads it:
+ * the electrical power of the modulation, Var[x] = E[(x − E[x])²] (the
+ * mean photocurrent, which carries no information, left out), over the
+ * average noise variance E[σ²(x)] under the law (common practice). For
+ * equiprobable OOK with equal noise on both levels this is Q², the Q
+ * factor Q = (I1 − I0)/(σ1 + σ0) of Personick, Bell Syst. Tech. J. 52(6),
+ * 1973, and Agrawal, Fiber-Optic Communication Systems, Wiley, sec. 4.5
+ * (from memory). The variance is taken about the mean in a second pass. */
 static double gauss_sd_snr(const qc_model *m, const double *levels, const double *input,
                            size_t n)
 {
-    double power = 0.0, noise = 0.0;
+    double mean = 0.0, noise = 0.0;
     for (size_t i = 0; i < n; i++) {
         double s = sd_at(m, levels[i]);
-        power += input[i] * levels[i] * levels[i];
+        mean += input[i] * levels[i];
         noise += input[i] * s * s;
     }
-    return power / noise;
+    double var = 0.0;
+    for (size_t i = 0; i < n; i++)
+        var += input[i] * (levels[i] - mean) * (levels[i] - mean);
+    return var / noise;
 }
 
 /* SNR × gain: every variance term divided by gain (σ0 → σ0/√gain,
@@ -126,4 +135,8 @@ const qc_model_type qc_model_gauss_sd = {
     .scale_snr = gauss_sd_scale_snr,
     .keys = gauss_sd_keys,
     .frontend = QC_FRONTEND_GAUSS_SD,
+    .snr_definition = "Var[x]/E[sigma^2(x)] (modulation power, mean removed, over average "
+                      "noise variance; OOK with equal noise: Q^2)",
+    .level_unit = "level units",
+    .output_unit = "level units",
 };

@@ -52,9 +52,9 @@ static qc_status check_param(const qc_model_type *type, const qc_param_spec *p,
         return qc_fail(QC_EINVAL, "model '%s': parameter '%s' must be %s %g (got %g)",
                        type->name, p->name, p->min_exclusive ? ">" : ">=",
                        p->min, v);
-    if (!(v <= p->max))
-        return qc_fail(QC_EINVAL, "model '%s': parameter '%s' must be <= %g (got %g)",
-                       type->name, p->name, p->max, v);
+    if (p->max_exclusive ? !(v < p->max) : !(v <= p->max))
+        return qc_fail(QC_EINVAL, "model '%s': parameter '%s' must be %s %g (got %g)",
+                       type->name, p->name, p->max_exclusive ? "<" : "<=", p->max, v);
     return QC_OK;
 }
 

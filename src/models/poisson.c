@@ -19,9 +19,9 @@ enum { P_SIGNAL, P_BACKGROUND };
 
 static const qc_param_spec poisson_params[] = {
     {"signal", "photons", "mean detected photons per slot at level 1", NAN, 0.0,
-     INFINITY, 1},
+     INFINITY, 1, 0},
     {"background", "photons", "mean background + dark counts per slot", 0.0, 0.0,
-     INFINITY, 0},
+     INFINITY, 0, 0},
 };
 
 static double rate(const qc_model *m, double x)
@@ -192,4 +192,6 @@ const qc_model_type qc_model_poisson = {
     .moments = poisson_moments,
     .keys = poisson_keys,
     .frontend = QC_FRONTEND_PHOTONS,
+    .level_unit = "relative intensity",
+    .output_unit = "photons",
 };

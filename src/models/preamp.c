@@ -37,7 +37,7 @@ enum { P_MODES };
 
 static const qc_param_spec preamp_params[] = {
     {"modes", "", "noise modes m = optical bandwidth x slot time x polarizations",
-     NAN, 1.0, 1e6, 0},
+     NAN, 1.0, 1e6, 0, 0},
 };
 
 #define WINDOW_TAIL 1e-17 /* Poisson mass outside the window, each side */
@@ -352,4 +352,6 @@ const qc_model_type qc_model_preamp = {
     .support = preamp_support,
     .check_level = preamp_check_level,
     .moments = preamp_moments,
+    .level_unit = "ASE energies per mode",
+    .output_unit = "ASE energies per mode",
 };

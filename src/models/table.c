@@ -206,6 +206,8 @@ const qc_model_type qc_model_table = {
     .check_level = table_check_level,
     .moments = table_moments,
     .keys = table_keys,
+    .level_unit = "table level units",
+    .output_unit = "table y units",
 };
 
 /* ---- reader ---------------------------------------------------------- */
@@ -278,13 +280,14 @@ static qc_status split_numbers(const char *line, const char *name, size_t lineno
         }
         errno = 0;
         char *end;
+        char shown[4 * QC_QUOTE_CHARS + 8];
         double v = strtod(tok, &end);
         if (end == tok || *end != '\0')
             return qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a number", name,
-                           lineno, field + 1, tok);
+                           lineno, field + 1, qc_quote(tok, strlen(tok), QC_QUOTE_CHARS, shown, sizeof shown));
         if (!isfinite(v)) /* nan, inf, or overflow to inf */
             return qc_fail(QC_EFORMAT, "%s:%zu: field %zu '%s' is not a finite number",
-                           name, lineno, field + 1, tok);
+                           name, lineno, field + 1, qc_quote(tok, strlen(tok), QC_QUOTE_CHARS, shown, sizeof shown));
         if (vec_push(out, v) != 0)
             return qc_fail(QC_ENOMEM, "out of memory");
         field++;
@@ -410,8 +413,9 @@ qc_status qc_model_table_parse(const char *text, size_t len, const char *name,
             continue;
         }
         if (word[0] != '\0') {
+            char shown[4 * QC_QUOTE_CHARS + 8];
             st = qc_fail(QC_EFORMAT, "%s:%zu: field 1 '%s' is not a number", name,
-                         lineno, word);
+                         lineno, qc_quote(word, strlen(word), QC_QUOTE_CHARS, shown, sizeof shown));
             goto fail;
         }
         if (nums.n != s->nl + 1) {

@@ -336,6 +336,42 @@ void qc_design_comparison_clear(qc_design_comparison *cmp)
     memset(cmp, 0, sizeof *cmp);
 }
 
+void qc_design_progress(const qc_design_request *req, size_t done, size_t total)
+{
+    if (req && req->progress && total > 0)
+        req->progress(req->progress_user, done < total ? done : total, total);
+}
+
+static const char *unit_or_empty(const char *u) { return u ? u : ""; }
+
+const char *qc_design_level_unit(const qc_design_request *req)
+{
+    if (!req)
+        return "";
+    if (req->level_unit)
+        return req->level_unit;
+    return req->model ? unit_or_empty(req->model->type->level_unit) : "";
+}
+
+const char *qc_design_output_unit(const qc_design_request *req)
+{
+    if (!req)
+        return "";
+    if (req->output_unit)
+        return req->output_unit;
+    return req->model ? unit_or_empty(req->model->type->output_unit) : "";
+}
+
+const char *qc_design_snr_definition(const qc_design_request *req)
+{
+    if (!req || !req->model || !req->model->type->snr)
+        return NULL;
+    if (req->dimensions == 2 && req->model->type == &qc_model_gauss)
+        return "Es/N0 = E|x|^2/(2 sigma^2) (symbol energy over the noise density; sigma^2 "
+               "per quadrature)";
+    return req->model->type->snr_definition;
+}
+
 qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *cmp)
 {
     memset(cmp, 0, sizeof *cmp);

@@ -35,6 +35,7 @@ typedef struct {
     double *law;             /* the last capacity-achieving law (warm start) */
     size_t engine_iterations;
     qc_fine_grid grid;       /* optimal: built once, for the uniform law */
+    size_t work;             /* progress units: alternations possible + 1 */
 } joint;
 
 /* The engine starts from a strictly positive law, but the last optimal law
@@ -113,7 +114,7 @@ static qc_status thresholds_for(joint *j, qc_quantizer_kind kind, const double *
 /* Alternate law and thresholds from the thresholds in t; on return t
  * holds the best thresholds met and *best their capacity (nats). */
 static qc_status alternate(joint *j, qc_quantizer_kind kind, double *t, double *best,
-                           size_t *alternations)
+                           size_t *alternations, size_t stage)
 {
     const size_t nt = j->nt;
     const double tol = j->opt.tol_bits / QC_LOG2E;
@@ -129,6 +130,7 @@ static qc_status alternate(joint *j, qc_quantizer_kind kind, double *t, double *
     *best = c;
     for (size_t a = 0; st == QC_OK && a < JOINT_MAX_ALTERNATIONS; a++) {
         (*alternations)++;
+        qc_design_progress(j->req, stage * JOINT_MAX_ALTERNATIONS + a + 1, j->work);
         memcpy(r, j->law, j->nlevels * sizeof *r);
         memcpy(cand, t, nt * sizeof *cand); /* Lloyd–Max warm start */
         st = thresholds_for(j, kind, r, 1, cand, NULL);
@@ -179,6 +181,9 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
     }
     memcpy(start, res->input, nx * sizeof *start); /* request law or uniform */
     memcpy(j.law, start, nx * sizeof *j.law);
+    j.work = 1 + (req->quantizer == QC_QUANTIZER_FIXED     ? 0
+                  : req->quantizer == QC_QUANTIZER_OPTIMAL ? JOINT_STARTS * JOINT_MAX_ALTERNATIONS
+                                                           : JOINT_MAX_ALTERNATIONS);
 
     switch (req->quantizer) {
     case QC_QUANTIZER_FIXED:
@@ -190,7 +195,7 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
         st = thresholds_for(&j, req->quantizer, start, 0, res->thresholds, NULL);
         if (st == QC_OK)
             st = alternate(&j, req->quantizer, res->thresholds, &c,
-                           &res->design_iterations);
+                           &res->design_iterations, 0);
         break;
     }
     case QC_QUANTIZER_OPTIMAL: {
@@ -212,7 +217,8 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
             memcpy(j.law, start, nx * sizeof *j.law);
             st = thresholds_for(&j, starts[s], start, 0, t, NULL);
             if (st == QC_OK)
-                st = alternate(&j, QC_QUANTIZER_OPTIMAL, t, &c, &res->design_iterations);
+                st = alternate(&j, QC_QUANTIZER_OPTIMAL, t, &c, &res->design_iterations, s);
+            qc_design_progress(req, (s + 1) * JOINT_MAX_ALTERNATIONS, j.work);
             if (st == QC_OK && c > best) {
                 best = c;
                 memcpy(res->thresholds, t, nt * sizeof *t);
@@ -265,6 +271,7 @@ qc_status qc_design_capacity(const qc_design_request *req, qc_design_result *res
     res->rate_bits = cr.capacity_bits;
     res->upper_bound_bits = cr.upper_bound_bits;
     res->iterations = j.engine_iterations;
+    qc_design_progress(req, j.work, j.work);
 done:
     qc_dmc_free(j.channel);
     qc_ba_workspace_free(j.ws);

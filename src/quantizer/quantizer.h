@@ -220,4 +220,8 @@ qc_status qc_design_settle(const qc_design_request *req, qc_design_result *res);
 qc_status qc_design_capacity(const qc_design_request *req,
                              qc_design_result *res);
 
+/* Report `done` of `total` work units to the request's progress callback,
+ * if any (done clamped to total). */
+void qc_design_progress(const qc_design_request *req, size_t done, size_t total);
+
 #endif

@@ -72,7 +72,7 @@ check(j["upper_bound_bits"] - j["capacity_bits"] <= 1e-9 + 1e-15, "certified gap
 check(j["upper_bound_bits"] >= j["capacity_bits"], "upper bound >= capacity")
 
 rc, out, _ = run("capacity", bsc)
-check(rc == 0 and "bit/use" in out and "upper bound" in out, "capacity human output states certificate")
+check(rc == 0 and "bit/symbol" in out and "upper bound" in out, "capacity human output states certificate")
 
 rc, out_plain, _ = run("capacity", bsc, "--json", "--plain")
 check(rc == 0 and abs(parse(out_plain, "json 3")["capacity_bits"] - (1 - h2(0.11))) < 1e-9,
@@ -180,7 +180,7 @@ check(j["upper_bound_bits"] >= j["rate_bits"] - 1e-12, "upper bound >= rate")
 check(abs(j.get("parameters", {}).get("sigma", math.nan) - math.sqrt(5.0 / 10.0)) < 1e-12, "--snr-db sets sigma from E[x^2] = 5")
 
 rc, out, _ = run("design", "--model", "gauss", "--snr-db", "10", "--levels", "-1,1", "--bits", "2")
-check(rc == 0 and "bit/use" in out and "unquantized" in out, "design human output")
+check(rc == 0 and "bit/symbol" in out and "unquantized" in out, "design human output")
 
 # thresholds in text at 1e-4 of the noise standard deviation: rounding noise of a
 # symmetric design prints as 0, not 1e-16 (JSON keeps every digit)
@@ -266,7 +266,7 @@ expect_error(["channel", "--model", "poisson", "--signal", "2", "--levels", "-1,
 expect_error(["channel", "--model", "apd", "--signal", "100", "--apd-gain", "0.5", "--sigma-th", "10",
               "--levels", "0,1", "--thresholds", "100"], 2, "'apd-gain' must be >= 1", "APD gain < 1")
 expect_error(["channel", "--model", "apd", "--signal", "100", "--apd-gain", "10", "--apd-k", "1.5",
-              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'apd-k' must be <= 1",
+              "--sigma-th", "10", "--levels", "0,1", "--thresholds", "100"], 2, "'apd-k' must be < 1",
              "APD k > 1")
 expect_error(["channel", "--model", "gauss", "--signal", "3", "--sigma", "1", "--levels", "0,1",
               "--thresholds", "0"], 2, "--signal is not a parameter of model 'gauss'",

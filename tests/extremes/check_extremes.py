@@ -58,7 +58,7 @@ def allowed_nulls(j):
     if j.get("snr_penalty_db") is not None:
         allowed.add("snr_penalty_note")               # defined: no note
     if j.get("model") in NO_SNR_MODELS:
-        allowed |= {"operating_snr_db", "snr_penalty_db"}       # the model defines no SNR
+        allowed |= {"operating_snr_db", "snr_penalty_db", "snr_definition"}       # the model defines no SNR
     if j.get("model") != "gauss":
         allowed.add("shaping_gap_db")                 # defined for gauss only
     if j.get("quantizer") != "lloyd-max":
