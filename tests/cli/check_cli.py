@@ -187,7 +187,8 @@ check(rc == 0 and "bit/symbol" in out and "unquantized" in out, "design human ou
 rc, out, err = run("design", "--model", "gauss", "--snr-db", "30", "--alphabet", "pam:2", "--bits", "3",
                    "--quantizer", "lloyd-max")
 tl = [line for line in out.splitlines() if line.startswith("thresholds")]
-check(rc == 0 and len(tl) == 1 and tl[0].split()[1:] == ["-1.031041,", "-1,", "-0.968959,", "0,",
+check(rc == 0 and tl and tl[0].startswith("thresholds (level units)"), "thresholds carry their unit")
+check(rc == 0 and len(tl) == 1 and tl[0].split()[3:] == ["-1.031041,", "-1,", "-0.968959,", "0,",
                                                          "0.968959,", "1,", "1.031041"],
       f"threshold listing at the noise resolution ({tl})")
 

@@ -67,10 +67,10 @@ check(abs(m - slope) < 1e-3 * abs(slope), f"multiplier {m} bit/symbol per cost u
 
 # ---- design: units of levels, thresholds, rates -----------------------
 DESIGNS = {
-    "photocurrent (A)": (["--model", "gauss-sd", "--alphabet", "upam:2", "--power-dbm", "-12",
+    "photocurrent (A)": (["--model", "gauss-sd", "--alphabet", "upam:2", "--received-dbm", "-12",
                           "--responsivity", "0.8", "--thermal-density", "10", "--bandwidth", "5e9",
                           "--extinction-db", "10", "--bits", "2"], "A", "A"),
-    "apd (electrons)": (["--model", "apd-gauss", "--signal", "100", "--gain", "10", "--sigma-th", "20",
+    "apd (electrons)": (["--model", "apd-gauss", "--signal", "100", "--apd-gain", "10", "--sigma-th", "20",
                          "--alphabet", "upam:2", "--bits", "2"], "relative intensity", "electrons"),
     "poisson (photons)": (["--model", "poisson", "--signal", "5", "--alphabet", "upam:2", "--bits", "1"],
                           "relative intensity", "photons"),
@@ -101,7 +101,7 @@ check(re.match(r"model\s+table: densities from \S*table_demo\.txt", line(out, "m
 rc, out, _ = run("design", "--model", "gauss", "--sigma", "0.5", "--levels", "-1,1", "--bits", "1",
                  "--compare")
 check(rc == 0 and "bit/use" not in out and "in bit/symbol" in out, "--compare names the rate unit")
-rc, out, _ = run("channel", "--model", "apd", "--signal", "100", "--gain", "10", "--sigma-th", "20",
+rc, out, _ = run("channel", "--model", "apd", "--signal", "100", "--apd-gain", "10", "--sigma-th", "20",
                  "--levels", "0,1", "--thresholds", "500")
 check("signal = 100 electrons" in out and "in relative intensity" in out and "in electrons" in out,
       "channel: parameters, levels and cells with units")
@@ -114,14 +114,14 @@ rc, js, _ = run("design", "--model", "gauss-sd", "--sigma0", "0.5", "--levels", 
                 "--json")
 j = json.loads(js)
 q = (2.0 - 0.0) / (0.5 + 0.5)
-check(abs(j["snr_db"] - 10 * math.log10(q * q)) < SNR_TOL_DB, f"gauss-sd OOK SNR = Q^2 ({j['snr_db']} dB)")
+check(abs(j["operating_snr_db"] - 10 * math.log10(q * q)) < SNR_TOL_DB, f"gauss-sd OOK SNR = Q^2 ({j['operating_snr_db']} dB)")
 check("Var[x]" in (j.get("snr_definition") or ""), "gauss-sd JSON names the SNR definition")
 rc, out, _ = run("design", "--model", "gauss-sd", "--sigma0", "0.5", "--levels", "0,2", "--bits", "1")
 check("Var[x]/E[sigma^2(x)]" in line(out, "SNR means"), "gauss-sd text names the SNR definition")
 rc, js, _ = run("design", "--model", "gauss", "--sigma", "0.5", "--levels", "0,2", "--bits", "1", "--json")
 j = json.loads(js)
 check(j.get("snr_definition", "").startswith("E[x^2]/sigma^2")
-      and abs(j["snr_db"] - 10 * math.log10(2.0 / 0.25)) < SNR_TOL_DB, "gauss keeps E[x^2]/sigma^2")
+      and abs(j["operating_snr_db"] - 10 * math.log10(2.0 / 0.25)) < SNR_TOL_DB, "gauss keeps E[x^2]/sigma^2")
 rc, js, _ = run("design", "--model", "gauss", "--snr-db", "10", "--alphabet", "qam:16", "--bits", "2",
                 "--json")
 check(json.loads(js).get("snr_definition", "").startswith("Es/N0"), "QAM SNR named Es/N0")
@@ -159,7 +159,7 @@ escaped_message(["capacity", utf8], "UTF-8 kept", "'µ'")
 # ---- models: listed ranges are the checked ones -----------------------
 rc, js, _ = run("models", "--json")
 models = json.loads(js)
-REQUIRED = {"sigma": 1.0, "sigma0": 1.0, "signal": 10.0, "gain": 2.0, "sigma-th": 10.0, "modes": 2.0}
+REQUIRED = {"sigma": 1.0, "sigma0": 1.0, "signal": 10.0, "apd-gain": 2.0, "sigma-th": 10.0, "modes": 2.0}
 
 
 def refused(model, name, value):
@@ -189,7 +189,7 @@ for m in models:
         if p["max"] is not None and math.isfinite(p["max"]):
             hi_op = "<" if p.get("max_exclusive", False) else "<="
             check(f", {hi_op} " in shown, f"{m['name']} {p['name']}: listing '{shown}' says {hi_op}")
-            if m["name"] == "apd" and p["name"] == "gain":
+            if m["name"] == "apd" and p["name"] == "apd-gain":
                 continue  # gain 1e6 builds a gain law too long for a quick check
             check(refused(m["name"], p["name"], p["max"]) == bool(p.get("max_exclusive", False)),
                   f"{m['name']} {p['name']} = max {p['max']}: refused iff listed as exclusive")
