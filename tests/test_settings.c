@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "quantcap.h"
+#include "core/parse.h"
 
 #define assert_message(needle)                                                     \
     do {                                                                           \

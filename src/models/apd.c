@@ -25,6 +25,7 @@
  * error ≤ λh²/4). Accuracy: absolute ~1e-15 (FFT rounding); below that
  * the tails are not resolved. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 #include "models/apd_gain.h"
 #include "models/convolve.h"
 

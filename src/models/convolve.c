@@ -6,6 +6,7 @@
 #include "models/convolve.h"
 
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <stdint.h>
 #include <stdlib.h>

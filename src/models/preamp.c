@@ -20,6 +20,7 @@
  * the rest is below 1e-16 of the sum: relative truncation error ≤ 2e-16
  * in both tails. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 #include <stdlib.h>

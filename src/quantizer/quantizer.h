@@ -6,6 +6,7 @@
 #define QC_QUANTIZER_H
 
 #include "core/internal.h"
+#include "quantcap/quantizer.h"
 
 /* ---- discretize.c ---------------------------------------------------- */
 
@@ -148,22 +149,5 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
                                 const qc_fine_grid *g, double *t_out,
                                 double *mi_nats, size_t *iterations);
-
-/* ---- design.c ----------------------------------------------------------- */
-
-/* qc_design without the alphabet stages (constraints, QAM, GMI, level
- * search, dispersion; src/alphabet/input_design.c calls it): the request's
- * alphabet fields are ignored and the result's are left zero. */
-qc_status qc_design_thresholds(const qc_design_request *req,
-                               qc_design_result *res);
-
-/* ---- joint.c ---------------------------------------------------------- */
-
-/* The capacity objective: thresholds (res->thresholds, res->nthresholds
- * set by the caller) and input law (res->input, holding the starting law)
- * for req->quantizer, the final channel in res->channel, rate, bound,
- * iterations. */
-qc_status qc_design_capacity(const qc_design_request *req,
-                             qc_design_result *res);
 
 #endif

@@ -1,0 +1,357 @@
+/* design.c — qc_design, the single entry point of threshold design:
+ * checks the request, runs the chosen strategy (uniform with optimized
+ * range, fixed thresholds, Lloyd–Max, MI-optimal DP + refinement; for the
+ * capacity objective the joint design of joint.c), and fills the result
+ * with the rate, its certified upper bound, the unquantized reference for
+ * the same levels and law, the loss and the SNR penalty. Also the names
+ * of objectives and quantizers, and qc_design_compare. */
+#include "design/design_internal.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define DEFAULT_TOL_BITS 1e-9
+#define LAW_TOL 1e-9
+
+static const char *const objective_names[QC_OBJECTIVE_COUNT] = {
+    [QC_OBJECTIVE_MI] = "mi",
+    [QC_OBJECTIVE_CAPACITY] = "capacity",
+    [QC_OBJECTIVE_GMI] = "gmi",
+};
+
+static const char *const quantizer_names[QC_QUANTIZER_COUNT] = {
+    [QC_QUANTIZER_UNIFORM] = "uniform",
+    [QC_QUANTIZER_FIXED] = "fixed",
+    [QC_QUANTIZER_LLOYD_MAX] = "lloyd-max",
+    [QC_QUANTIZER_OPTIMAL] = "optimal",
+};
+
+const char *qc_objective_name(qc_objective objective)
+{
+    return (unsigned)objective < QC_OBJECTIVE_COUNT ? objective_names[objective]
+                                                    : NULL;
+}
+
+const char *qc_quantizer_name(qc_quantizer_kind kind)
+{
+    return (unsigned)kind < QC_QUANTIZER_COUNT ? quantizer_names[kind] : NULL;
+}
+
+qc_status qc_objective_parse(const char *name, qc_objective *out)
+{
+    for (int i = 0; name && i < QC_OBJECTIVE_COUNT; i++)
+        if (strcmp(name, objective_names[i]) == 0) {
+            *out = (qc_objective)i;
+            return QC_OK;
+        }
+    return qc_fail(QC_EINVAL, "unknown objective '%s' (choose mi, capacity or gmi)",
+                   name ? name : "");
+}
+
+qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out)
+{
+    for (int i = 0; name && i < QC_QUANTIZER_COUNT; i++)
+        if (strcmp(name, quantizer_names[i]) == 0) {
+            *out = (qc_quantizer_kind)i;
+            return QC_OK;
+        }
+    return qc_fail(QC_EINVAL,
+                   "unknown quantizer '%s' (choose optimal, uniform, lloyd-max or "
+                   "fixed)",
+                   name ? name : "");
+}
+
+qc_status qc_cells_from_bits(int bits, size_t *cells)
+{
+    if (bits < 1 || bits > QC_MAX_BITS)
+        return qc_fail(QC_EINVAL, "bits must be between 1 and %d (got %d)",
+                       QC_MAX_BITS, bits);
+    *cells = (size_t)1 << bits;
+    return QC_OK;
+}
+
+void qc_design_request_default(qc_design_request *req)
+{
+    memset(req, 0, sizeof *req);
+    req->objective = QC_OBJECTIVE_MI;
+    req->quantizer = QC_QUANTIZER_OPTIMAL;
+    req->tol_bits = DEFAULT_TOL_BITS;
+}
+
+void qc_design_result_clear(qc_design_result *res)
+{
+    if (!res)
+        return;
+    free(res->reconstruction);
+    free(res->thresholds);
+    free(res->levels);
+    free(res->input);
+    qc_dmc_free(res->channel);
+    memset(res, 0, sizeof *res);
+}
+
+/* ---- request checks ------------------------------------------------- */
+
+static qc_status check_law(const double *p, size_t n)
+{
+    double s = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(p[i]) || p[i] < 0.0)
+            return qc_fail(QC_EINVAL,
+                           "input probability %zu is %g: must be a probability >= 0",
+                           i + 1, p[i]);
+        s += p[i];
+    }
+    if (fabs(s - 1.0) > LAW_TOL)
+        return qc_fail(QC_EINVAL, "input probabilities sum to %.17g, expected 1", s);
+    return QC_OK;
+}
+
+/* Check a request; *cells receives K. `fixed` says whether thresholds
+ * must be given and checked. */
+static qc_status check_request(const qc_design_request *req, int fixed,
+                               size_t *cells)
+{
+    if (!req)
+        return qc_fail(QC_EINVAL, "no design request given");
+    if (!req->model)
+        return qc_fail(QC_EINVAL, "design: no noise model given");
+    if (!req->levels || req->nlevels == 0)
+        return qc_fail(QC_EINVAL, "design: no input levels given");
+    qc_status st = qc_model_check_levels(req->model, req->levels, req->nlevels);
+    if (st != QC_OK)
+        return st;
+    if ((unsigned)req->objective >= QC_OBJECTIVE_COUNT)
+        return qc_fail(QC_EINVAL, "design: unknown objective %d", (int)req->objective);
+    if ((unsigned)req->quantizer >= QC_QUANTIZER_COUNT)
+        return qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
+    size_t K = req->cells;
+    if (K == 0 && fixed && req->thresholds)
+        K = req->nthresholds + 1;
+    if (K < 2 || K > ((size_t)1 << QC_MAX_BITS))
+        return qc_fail(QC_EINVAL,
+                       "cells must be between 2 and %zu (1 to %d bits), got %zu",
+                       (size_t)1 << QC_MAX_BITS, QC_MAX_BITS, K);
+    if (req->probabilities) {
+        st = check_law(req->probabilities, req->nlevels);
+        if (st != QC_OK)
+            return st;
+    }
+    if (!(req->tol_bits >= 0.0) || !isfinite(req->tol_bits))
+        return qc_fail(QC_EINVAL, "tolerance must be >= 0 bits (got %g)", req->tol_bits);
+    if (req->fine_cells != 0 && req->fine_cells < K)
+        return qc_fail(QC_EINVAL,
+                       "fine grid of %zu cells is smaller than the %zu quantizer "
+                       "cells",
+                       req->fine_cells, K);
+    if (req->fine_cells > QC_DMC_MAX_DIM)
+        return qc_fail(QC_EINVAL, "fine grid of %zu cells exceeds the limit of %zu",
+                       req->fine_cells, (size_t)QC_DMC_MAX_DIM);
+    if (req->costs) {
+        for (size_t i = 0; i < req->nlevels; i++)
+            if (!isfinite(req->costs[i]))
+                return qc_fail(QC_EINVAL, "cost %zu is not a finite number", i + 1);
+        if (!isfinite(req->budget))
+            return qc_fail(QC_EINVAL, "cost budget is not a finite number");
+        if (req->objective != QC_OBJECTIVE_CAPACITY)
+            return qc_fail(QC_EINVAL,
+                           "a cost constraint needs the capacity objective (the MI "
+                           "objective uses the given input law)");
+    }
+    if (fixed) {
+        if (!req->thresholds)
+            return qc_fail(QC_EINVAL, "the fixed quantizer needs thresholds");
+        if (req->nthresholds != K - 1)
+            return qc_fail(QC_EINVAL,
+                           "%zu cells need %zu thresholds, got %zu", K, K - 1,
+                           req->nthresholds);
+        st = qc_thresholds_check(req->model, req->thresholds, req->nthresholds);
+        if (st != QC_OK)
+            return st;
+    }
+    *cells = K;
+    return QC_OK;
+}
+
+/* ---- the MI objective ----------------------------------------------- */
+
+static qc_status mi_objective(void *ctx, const double *t, size_t nt, double *value)
+{
+    (void)nt;
+    return qc_cell_mi_eval(ctx, t, value, NULL);
+}
+
+/* Thresholds (into res->thresholds) for the MI objective with law
+ * res->input. */
+static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
+{
+    const size_t nt = res->nthresholds;
+    qc_status st = QC_OK;
+    switch (req->quantizer) {
+    case QC_QUANTIZER_FIXED:
+        memcpy(res->thresholds, req->thresholds, nt * sizeof *res->thresholds);
+        break;
+    case QC_QUANTIZER_UNIFORM: {
+        qc_cell_mi *w;
+        st = qc_cell_mi_alloc(req->model, res->levels, res->input, res->nlevels, nt,
+                              &w);
+        if (st == QC_OK)
+            st = qc_uniform_search(req->model, res->levels, res->nlevels, nt,
+                                   mi_objective, w, res->thresholds, NULL,
+                                   &res->design_iterations);
+        qc_cell_mi_free(w);
+        break;
+    }
+    case QC_QUANTIZER_LLOYD_MAX:
+        res->reconstruction = qc_malloc_array(nt + 1, sizeof *res->reconstruction);
+        if (!res->reconstruction)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt, 0,
+                          res->thresholds, res->reconstruction, &res->mse,
+                          &res->design_iterations);
+        break;
+    case QC_QUANTIZER_OPTIMAL: {
+        qc_fine_grid g;
+        size_t n = req->fine_cells ? req->fine_cells : qc_fine_cells_default(nt + 1);
+        st = qc_fine_grid_build(req->model, res->levels, res->input, res->nlevels, n,
+                                nt + 1, &g);
+        if (st != QC_OK)
+            return st;
+        res->fine_cells = g.n;
+        st = qc_optimal_thresholds(req->model, res->levels, res->input,
+                                   res->nlevels, nt, &g, res->thresholds, NULL,
+                                   &res->design_iterations);
+        qc_fine_grid_clear(&g);
+        break;
+    }
+    default:
+        st = qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
+    }
+    if (st != QC_OK)
+        return st;
+    st = qc_discretize(req->model, res->levels, res->nlevels, res->thresholds, nt,
+                       &res->channel);
+    if (st != QC_OK)
+        return st;
+    double mi;
+    st = qc_mutual_information(res->channel, res->input, &mi);
+    if (st != QC_OK)
+        return st;
+    res->rate_bits = mi * QC_LOG2E;
+    res->upper_bound_bits = res->rate_bits;
+    return QC_OK;
+}
+
+/* The alphabet stages (src/alphabet/input_design.c) run around the
+ * threshold design below. */
+qc_status qc_design(const qc_design_request *req, qc_design_result *res)
+{
+    return qc_input_design(req, res);
+}
+
+qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *res)
+{
+    qc_gsl_init();
+    memset(res, 0, sizeof *res);
+    size_t K;
+    qc_status st = check_request(req, req && req->quantizer == QC_QUANTIZER_FIXED, &K);
+    if (st != QC_OK)
+        return st;
+    const size_t n = req->nlevels;
+    qc_design_result r = {0};
+    r.objective = req->objective;
+    r.quantizer = req->quantizer;
+    r.cells = K;
+    r.nthresholds = K - 1;
+    r.nlevels = n;
+    r.tol_bits = req->tol_bits > 0.0 ? req->tol_bits : DEFAULT_TOL_BITS;
+    r.mse = NAN;
+    r.snr_db = NAN;
+    r.snr_penalty_db = NAN;
+    r.thresholds = qc_malloc_array(K - 1, sizeof *r.thresholds);
+    r.levels = qc_malloc_array(n, sizeof *r.levels);
+    r.input = qc_malloc_array(n, sizeof *r.input);
+    if (!r.thresholds || !r.levels || !r.input) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto fail;
+    }
+    memcpy(r.levels, req->levels, n * sizeof *r.levels);
+    for (size_t i = 0; i < n; i++)
+        r.input[i] = req->probabilities ? req->probabilities[i] : 1.0 / (double)n;
+
+    if (req->objective == QC_OBJECTIVE_MI)
+        st = design_mi(req, &r);
+    else
+        st = qc_design_capacity(req, &r);
+    if (st != QC_OK)
+        goto fail;
+
+    /* The unquantized reference for the same levels and final law. */
+    double unq, unq_err;
+    st = qc_unquantized_mi(req->model, r.levels, r.input, n, &unq, &unq_err);
+    if (st != QC_OK)
+        goto fail;
+    r.unquantized_bits = unq * QC_LOG2E;
+    r.unquantized_err_bits = unq_err * QC_LOG2E;
+    r.loss_bits = r.unquantized_bits - r.rate_bits;
+    r.snr_db = qc_model_snr_db(req->model, r.levels, r.input, n);
+    if (!req->skip_snr_penalty) {
+        st = qc_snr_penalty_db(req->model, r.levels, r.input, n, r.rate_bits,
+                               &r.snr_penalty_db);
+        if (st != QC_OK)
+            goto fail;
+    }
+    *res = r;
+    return QC_OK;
+fail:
+    qc_design_result_clear(&r);
+    return st;
+}
+
+/* ---- all strategies on one channel ---------------------------------- */
+
+void qc_design_comparison_clear(qc_design_comparison *cmp)
+{
+    if (!cmp)
+        return;
+    for (size_t i = 0; i < QC_COMPARE_MAX; i++)
+        qc_design_result_clear(&cmp->result[i]);
+    memset(cmp, 0, sizeof *cmp);
+}
+
+qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *cmp)
+{
+    memset(cmp, 0, sizeof *cmp);
+    size_t K;
+    int with_fixed = req && req->thresholds != NULL;
+    qc_status st = check_request(req, with_fixed, &K);
+    if (st != QC_OK)
+        return st;
+    static const qc_quantizer_kind order[] = {
+        QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
+        QC_QUANTIZER_FIXED};
+    qc_status first = QC_OK;
+    char first_msg[sizeof cmp->message[0]] = "";
+    for (size_t i = 0; i < sizeof order / sizeof order[0]; i++) {
+        if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
+            continue;
+        qc_design_request one = *req;
+        one.quantizer = order[i];
+        one.cells = K;
+        size_t k = cmp->count++;
+        cmp->kind[k] = order[i];
+        cmp->status[k] = qc_design(&one, &cmp->result[k]);
+        if (cmp->status[k] != QC_OK) {
+            snprintf(cmp->message[k], sizeof cmp->message[k], "%s", qc_last_error());
+            if (first == QC_OK) {
+                first = cmp->status[k];
+                snprintf(first_msg, sizeof first_msg, "%s", cmp->message[k]);
+            }
+        }
+    }
+    if (first != QC_OK)
+        return qc_fail(first, "%s", first_msg);
+    return QC_OK;
+}

@@ -1,0 +1,72 @@
+/* design_internal.h — what the files of the design stage (src/design)
+ * share: the threshold design proper, the joint design of thresholds and
+ * input law, the alphabet stages around them, the level search and its
+ * constraint set. Not installed. */
+#ifndef QC_DESIGN_INTERNAL_H
+#define QC_DESIGN_INTERNAL_H
+
+#include "core/internal.h"
+#include "quantcap/design.h"
+#include "quantizer/quantizer.h"
+
+/* ---- design.c ----------------------------------------------------------- */
+
+/* qc_design without the alphabet stages (constraints, QAM, GMI, level
+ * search, dispersion; src/alphabet/input_design.c calls it): the request's
+ * alphabet fields are ignored and the result's are left zero. */
+qc_status qc_design_thresholds(const qc_design_request *req,
+                               qc_design_result *res);
+
+/* ---- joint.c ---------------------------------------------------------- */
+
+/* The capacity objective: thresholds (res->thresholds, res->nthresholds
+ * set by the caller) and input law (res->input, holding the starting law)
+ * for req->quantizer, the final channel in res->channel, rate, bound,
+ * iterations. */
+qc_status qc_design_capacity(const qc_design_request *req,
+                             qc_design_result *res);
+
+/* The set of allowed level vectors during level optimization: every
+ * level in [lo, hi]; with a law, also E[x²] ≤ power and E[x] ≤ mean.
+ * Convex, so the radial map toward a strictly feasible centre keeps a
+ * vector inside and its order intact. */
+typedef struct {
+    size_t n;
+    double lo, hi;
+    const double *law; /* NULL: only the box (the law is designed)     */
+    double power, mean; /* NaN: absent (power per real dimension)      */
+    int bounded;        /* the set is bounded                         */
+    double *centre;     /* owned, sorted, strictly feasible            */
+} qc_level_set;
+
+/* Build the set for `n` levels with law `law` (NULL for the capacity
+ * objective) from the constraints; `pattern` (n values) shapes the
+ * centre. QC_EINFEASIBLE when no level vector meets the constraints. */
+qc_status qc_level_set_init(qc_level_set *s, const qc_constraints *c, const double *law,
+                            const double *pattern, size_t n, unsigned dimensions);
+void qc_level_set_clear(qc_level_set *s);
+/* Sort x and pull it toward the centre until it is feasible. */
+void qc_level_set_project(const qc_level_set *s, double *x);
+
+/* ---- input_design.c -------------------------------------------------- */
+
+/* qc_design: the alphabet stages (constraints, QAM, GMI, level search,
+ * dispersion and blocklength rates) around qc_design_thresholds. */
+qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
+
+/* ---- level_search.c -------------------------------------------------- */
+
+/* Evaluate the objective at the levels x (n of them): a complete design
+ * into *res (the caller clears it). */
+typedef qc_status (*qc_level_design)(void *ctx, const double *x, qc_design_result *res);
+
+/* Nelder–Mead (GSL nmsimplex2) over the level vector projected into `set`,
+ * from `starts` starting points: the given levels, equally spaced levels
+ * filling the set, and perturbations of the best found (fixed seed).
+ * best_out receives the best levels (sorted), *rate_bits their objective,
+ * *evaluations the designs run. */
+qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
+                          qc_level_design design, void *ctx, double *best_out,
+                          double *rate_bits, size_t *evaluations);
+
+#endif

@@ -1,0 +1,41 @@
+/* sweep.h — pieces of the sweep runner shared by its files and the plots
+ * (internal). A sweep's result is one JSON record per grid point:
+ *   {"point": i, "status": "ok"|..., "error": null|"...", "result": {...}}
+ * where "result" is the object `quantcap design --json` prints. */
+#ifndef QC_SWEEP_H
+#define QC_SWEEP_H
+
+#include <stddef.h>
+
+#include <jansson.h>
+
+#include "core/internal.h"
+#include "quantcap/study.h"
+
+/* Short name of a status for the "status" field ("ok", "infeasible"...). */
+const char *qc_sweep_status_name(qc_status st);
+
+/* Permissions of a new file (0666 less the umask), for files created with
+ * mkstemp (which makes them 0600) before they are renamed into place. */
+unsigned qc_new_file_mode(void);
+
+/* Write `len` bytes to `path` through a temporary file in the same folder
+ * that is synced and renamed into place: the file is whole or absent. */
+qc_status qc_write_file_atomic(const char *path, const char *text, size_t len);
+
+/* results.csv and results.json of a finished grid (records[i] for every
+ * point, in grid order). */
+qc_status qc_results_write_csv(const qc_scenario *sc, json_t *const *records,
+                               const char *path);
+qc_status qc_results_write_json(const qc_scenario *sc, json_t *const *records,
+                                const char *path);
+
+/* The plots the scenario asks for, into `dir`; the names of the files
+ * written are appended to *files (malloc'd strings; *nfiles counts). */
+qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const char *dir,
+                        char ***files, size_t *nfiles);
+
+/* Append a malloc'd copy of `path` to a file list. */
+qc_status qc_file_list_add(char ***files, size_t *nfiles, const char *path);
+
+#endif
