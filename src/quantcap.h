@@ -21,6 +21,7 @@
 /* One header per stage of the flow, lower stages first; each includes
  * what it needs of the stages below it. */
 #include "quantcap/status.h"
+#include "quantcap/atomic_file.h"
 #include "quantcap/dmc.h"
 #include "quantcap/info.h"
 #include "quantcap/model.h"

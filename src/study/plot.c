@@ -10,6 +10,7 @@
 #include "study/sweep.h"
 
 #include "core/internal.h"
+#include "quantcap/atomic_file.h"
 #include "study/scenario.h"
 
 #include <math.h>
@@ -120,7 +121,7 @@ static const char *extension(sc_format f)
 
 typedef struct {
     char path[4300];
-    char tmp[4320];
+    qc_atomic_file *file; /* the page's output, complete or absent */
     const char *device;
 } page;
 
@@ -129,17 +130,16 @@ static int page_width = 960, page_height = 640;
 /* Start a page writing to a temporary file beside `path`. */
 static qc_status page_open(page *pg, const char *device)
 {
-    snprintf(pg->tmp, sizeof pg->tmp, "%s.tmp.XXXXXX", pg->path);
-    int fd = mkstemp(pg->tmp);
-    if (fd < 0)
-        return qc_fail(QC_EIO, "%s: cannot create a file in the output folder", pg->path);
-    close(fd);
-    snprintf(open_tmp, sizeof open_tmp, "%s", pg->tmp);
+    qc_status st = qc_atomic_file_open(pg->path, &pg->file);
+    if (st != QC_OK)
+        return st;
+    const char *tmp = qc_atomic_file_temp_path(pg->file); /* PLplot writes it by name */
+    snprintf(open_tmp, sizeof open_tmp, "%s", tmp);
     pg->device = device;
     plsexit(on_plexit);
     plsabort(on_plabort);
     plsdev(device);
-    plsfnam(pg->tmp);
+    plsfnam(tmp);
     plspage(90.0, 90.0, page_width, page_height, 0, 0);
     plscolbg(255, 255, 255); /* colour 0: white background */
     plscmap0n(COL_FIRST + NCOLOURS);
@@ -158,10 +158,10 @@ static qc_status page_close(page *pg, char ***files, size_t *nfiles)
 {
     plend();
     open_tmp[0] = '\0';
-    if (chmod(pg->tmp, (mode_t)qc_new_file_mode()) != 0 || rename(pg->tmp, pg->path) != 0) {
-        unlink(pg->tmp);
-        return qc_fail(QC_EIO, "%s: cannot rename the plot into place", pg->path);
-    }
+    qc_status st = qc_atomic_file_commit(pg->file);
+    pg->file = NULL;
+    if (st != QC_OK)
+        return st;
     return qc_file_list_add(files, nfiles, pg->path);
 }
 
@@ -886,7 +886,7 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
                 free(sx);
                 free(sy);
                 plend();
-                unlink(pg.tmp);
+                qc_atomic_file_discard(pg.file);
                 open_tmp[0] = '\0';
                 st = qc_fail(QC_ENOMEM, "out of memory");
                 goto done;

@@ -6,6 +6,7 @@
 #include "study/sweep.h"
 
 #include "core/internal.h"
+#include "quantcap/atomic_file.h"
 #include "study/scenario.h"
 
 #include <errno.h>
@@ -18,52 +19,6 @@
 #include <unistd.h>
 
 #define JSON_FLAGS (JSON_INDENT(1) | JSON_REAL_PRECISION(17) | JSON_PRESERVE_ORDER)
-
-unsigned qc_new_file_mode(void)
-{
-    mode_t mask = umask(022); /* read it back: the call sets it */
-    umask(mask);
-    return 0666u & ~(unsigned)mask;
-}
-
-qc_status qc_write_file_atomic(const char *path, const char *text, size_t len)
-{
-    size_t plen = strlen(path);
-    char *tmp = malloc(plen + 16);
-    if (!tmp)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    snprintf(tmp, plen + 16, "%s.tmp.XXXXXX", path);
-    int fd = mkstemp(tmp);
-    if (fd < 0) {
-        qc_status st = qc_fail(QC_EIO, "%s: cannot create: %s", path, strerror(errno));
-        free(tmp);
-        return st;
-    }
-    qc_status st = QC_OK;
-    if (fchmod(fd, (mode_t)qc_new_file_mode()) != 0)
-        st = qc_fail(QC_EIO, "%s: cannot set permissions: %s", path, strerror(errno));
-    while (len > 0 && st == QC_OK) {
-        ssize_t w = write(fd, text, len);
-        if (w < 0 && errno == EINTR)
-            continue;
-        if (w < 0)
-            st = qc_fail(QC_EIO, "%s: cannot write: %s", path, strerror(errno));
-        else {
-            text += w;
-            len -= (size_t)w;
-        }
-    }
-    if (st == QC_OK && fsync(fd) != 0 && errno != EINVAL && errno != EROFS)
-        st = qc_fail(QC_EIO, "%s: cannot sync: %s", path, strerror(errno));
-    if (close(fd) != 0 && st == QC_OK)
-        st = qc_fail(QC_EIO, "%s: cannot close: %s", path, strerror(errno));
-    if (st == QC_OK && rename(tmp, path) != 0)
-        st = qc_fail(QC_EIO, "%s: cannot rename into place: %s", path, strerror(errno));
-    if (st != QC_OK)
-        unlink(tmp);
-    free(tmp);
-    return st;
-}
 
 /* ---------------------------------------------------------------- */
 /* A growing text buffer                                              */

@@ -15,14 +15,6 @@
 /* Short name of a status for the "status" field ("ok", "infeasible"...). */
 const char *qc_sweep_status_name(qc_status st);
 
-/* Permissions of a new file (0666 less the umask), for files created with
- * mkstemp (which makes them 0600) before they are renamed into place. */
-unsigned qc_new_file_mode(void);
-
-/* Write `len` bytes to `path` through a temporary file in the same folder
- * that is synced and renamed into place: the file is whole or absent. */
-qc_status qc_write_file_atomic(const char *path, const char *text, size_t len);
-
 /* results.csv and results.json of a finished grid (records[i] for every
  * point, in grid order). */
 qc_status qc_results_write_csv(const qc_scenario *sc, json_t *const *records,
