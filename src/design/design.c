@@ -21,22 +21,10 @@ static const char *const objective_names[QC_OBJECTIVE_COUNT] = {
     [QC_OBJECTIVE_GMI] = "gmi",
 };
 
-static const char *const quantizer_names[QC_QUANTIZER_COUNT] = {
-    [QC_QUANTIZER_UNIFORM] = "uniform",
-    [QC_QUANTIZER_FIXED] = "fixed",
-    [QC_QUANTIZER_LLOYD_MAX] = "lloyd-max",
-    [QC_QUANTIZER_OPTIMAL] = "optimal",
-};
-
 const char *qc_objective_name(qc_objective objective)
 {
     return (unsigned)objective < QC_OBJECTIVE_COUNT ? objective_names[objective]
                                                     : NULL;
-}
-
-const char *qc_quantizer_name(qc_quantizer_kind kind)
-{
-    return (unsigned)kind < QC_QUANTIZER_COUNT ? quantizer_names[kind] : NULL;
 }
 
 qc_status qc_objective_parse(const char *name, qc_objective *out)
@@ -47,19 +35,6 @@ qc_status qc_objective_parse(const char *name, qc_objective *out)
             return QC_OK;
         }
     return qc_fail(QC_EINVAL, "unknown objective '%s' (choose mi, capacity or gmi)",
-                   name ? name : "");
-}
-
-qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out)
-{
-    for (int i = 0; name && i < QC_QUANTIZER_COUNT; i++)
-        if (strcmp(name, quantizer_names[i]) == 0) {
-            *out = (qc_quantizer_kind)i;
-            return QC_OK;
-        }
-    return qc_fail(QC_EINVAL,
-                   "unknown quantizer '%s' (choose optimal, uniform, lloyd-max or "
-                   "fixed)",
                    name ? name : "");
 }
 
@@ -177,58 +152,29 @@ static qc_status check_request(const qc_design_request *req, int fixed,
 
 /* ---- the MI objective ----------------------------------------------- */
 
-static qc_status mi_objective(void *ctx, const double *t, size_t nt, double *value)
-{
-    (void)nt;
-    return qc_cell_mi_eval(ctx, t, value, NULL);
-}
-
-/* Thresholds (into res->thresholds) for the MI objective with law
- * res->input. */
+/* Thresholds (into res->thresholds) of the request's strategy for the law
+ * res->input, the channel and its mutual information. */
 static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
 {
     const size_t nt = res->nthresholds;
-    qc_status st = QC_OK;
-    switch (req->quantizer) {
-    case QC_QUANTIZER_FIXED:
-        memcpy(res->thresholds, req->thresholds, nt * sizeof *res->thresholds);
-        break;
-    case QC_QUANTIZER_UNIFORM: {
-        qc_cell_mi *w;
-        st = qc_cell_mi_alloc(req->model, res->levels, res->input, res->nlevels, nt,
-                              &w);
-        if (st == QC_OK)
-            st = qc_uniform_search(req->model, res->levels, res->nlevels, nt,
-                                   mi_objective, w, res->thresholds, NULL,
-                                   &res->design_iterations);
-        qc_cell_mi_free(w);
-        break;
+    const qc_threshold_strategy *s = qc_strategy_of(req->quantizer);
+    qc_strategy_plan *plan;
+    qc_status st = qc_strategy_plan_alloc(req->model, res->levels, res->nlevels, nt,
+                                          req->thresholds, req->fine_cells, NULL, &plan);
+    if (st != QC_OK)
+        return st;
+    qc_strategy_stats stats = {0};
+    if (s == &qc_strategy_lloyd_max &&
+        !(res->reconstruction = qc_malloc_array(nt + 1, sizeof *res->reconstruction))) {
+        qc_strategy_plan_free(plan);
+        return qc_fail(QC_ENOMEM, "out of memory");
     }
-    case QC_QUANTIZER_LLOYD_MAX:
-        res->reconstruction = qc_malloc_array(nt + 1, sizeof *res->reconstruction);
-        if (!res->reconstruction)
-            return qc_fail(QC_ENOMEM, "out of memory");
-        st = qc_lloyd_max(req->model, res->levels, res->input, res->nlevels, nt, 0,
-                          res->thresholds, res->reconstruction, &res->mse,
-                          &res->design_iterations);
-        break;
-    case QC_QUANTIZER_OPTIMAL: {
-        qc_fine_grid g;
-        size_t n = req->fine_cells ? req->fine_cells : qc_fine_cells_default(nt + 1);
-        st = qc_fine_grid_build(req->model, res->levels, res->input, res->nlevels, n,
-                                nt + 1, &g);
-        if (st != QC_OK)
-            return st;
-        res->fine_cells = g.n;
-        st = qc_optimal_thresholds(req->model, res->levels, res->input,
-                                   res->nlevels, nt, &g, res->thresholds, NULL,
-                                   &res->design_iterations);
-        qc_fine_grid_clear(&g);
-        break;
-    }
-    default:
-        st = qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
-    }
+    stats.reconstruction = res->reconstruction;
+    st = qc_strategy_design(s, plan, res->input, 0, res->thresholds, &stats);
+    res->design_iterations = stats.iterations;
+    res->mse = stats.mse;
+    res->fine_cells = qc_strategy_plan_fine_cells(plan);
+    qc_strategy_plan_free(plan);
     if (st != QC_OK)
         return st;
     st = qc_discretize(req->model, res->levels, res->nlevels, res->thresholds, nt,
@@ -251,7 +197,8 @@ qc_status qc_design(const qc_design_request *req, qc_design_result *res)
     return qc_input_design(req, res);
 }
 
-qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *res)
+qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
+                               size_t ncosts, qc_design_result *res)
 {
     qc_gsl_init();
     memset(res, 0, sizeof *res);
@@ -281,10 +228,17 @@ qc_status qc_design_thresholds(const qc_design_request *req, qc_design_result *r
     for (size_t i = 0; i < n; i++)
         r.input[i] = req->probabilities ? req->probabilities[i] : 1.0 / (double)n;
 
-    if (req->objective == QC_OBJECTIVE_MI)
+    if (req->objective == QC_OBJECTIVE_MI) {
         st = design_mi(req, &r);
-    else
-        st = qc_design_capacity(req, &r);
+    } else {
+        /* the request's own per-level cost, or the constraints' costs */
+        qc_cost own = {req->costs, req->budget};
+        if (req->costs) {
+            costs = &own;
+            ncosts = 1;
+        }
+        st = qc_design_alternation(req, costs, ncosts, &r);
+    }
     if (st != QC_OK)
         goto fail;
 

@@ -7,24 +7,27 @@
 
 #include "core/internal.h"
 #include "quantcap/design.h"
-#include "quantizer/quantizer.h"
+#include "quantcap/quantizer.h"
 
 /* ---- design.c ----------------------------------------------------------- */
 
 /* qc_design without the alphabet stages (constraints, QAM, GMI, level
- * search, dispersion; src/alphabet/input_design.c calls it): the request's
- * alphabet fields are ignored and the result's are left zero. */
-qc_status qc_design_thresholds(const qc_design_request *req,
-                               qc_design_result *res);
+ * search, dispersion; input_design.c calls it): the request's alphabet
+ * fields are ignored and the result's are left zero. The capacity
+ * objective takes `ncosts` (0, 1 or 2) average costs on the law besides
+ * the request's own per-level cost (not both). */
+qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
+                               size_t ncosts, qc_design_result *res);
 
-/* ---- joint.c ---------------------------------------------------------- */
+/* ---- alternation.c ---------------------------------------------------- */
 
-/* The capacity objective: thresholds (res->thresholds, res->nthresholds
- * set by the caller) and input law (res->input, holding the starting law)
- * for req->quantizer, the final channel in res->channel, rate, bound,
- * iterations. */
-qc_status qc_design_capacity(const qc_design_request *req,
-                             qc_design_result *res);
+/* The capacity objective: thresholds of req->quantizer and the input law
+ * together under `ncosts` average costs. On entry res holds the levels,
+ * the starting law (res->input) and room for the thresholds; on return
+ * the thresholds, the law, the final channel, its certified rate and
+ * bound, and the iteration counts. */
+qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *costs,
+                                size_t ncosts, qc_design_result *res);
 
 /* The set of allowed level vectors during level optimization: every
  * level in [lo, hi]; with a law, also E[x²] ≤ power and E[x] ≤ mean.

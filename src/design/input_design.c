@@ -1,7 +1,8 @@
 /* input_design.c — what qc_design adds around the threshold design for
  * alphabets and inputs: input constraints (peak on the levels; average
- * power and average level as costs of qc_capacity_costs, one or two at
- * once, inside an alternation with the thresholds), square QAM as two quadratures sharing the thresholds, the BICM GMI
+ * power and average level as costs of the law, one or two at once, in the
+ * alternation of thresholds and law of alternation.c), square QAM as two
+ * quadratures sharing the thresholds, the BICM GMI
  * objective (Caire, Taricco, Biglieri, IEEE Trans. IT 44(3), 1998), level
  * optimization, and the rates practitioners quote: dispersion and the
  * normal approximation (Polyanskiy, Poor, Verdú, IEEE Trans. IT 56(5),
@@ -14,9 +15,6 @@
 
 #define DEFAULT_LEVEL_STARTS 3
 #define MAX_LEVEL_STARTS 64
-#define CONSTRAINED_ALTERNATIONS 30
-#define DEFAULT_TOL_BITS 1e-9
-#define ENGINE_MAX_ITERATIONS 1000000
 
 typedef struct {
     const qc_design_request *req;
@@ -127,149 +125,6 @@ static qc_status gmi_objective(const design_ctx *c, qc_design_result *r)
     return QC_OK;
 }
 
-/* State of the alternation for constrained capacity. */
-typedef struct {
-    const qc_design_request *sub;
-    const qc_cost *costs;
-    size_t ncosts, n, nt;
-    qc_ba_options opt;
-    double *law, *t;            /* current law and thresholds            */
-    double best, best_upper;    /* bits: best certified lower bound, its
-                                   channel's upper bound                 */
-    double *best_law, *best_t;
-    size_t iterations, alternations, fine;
-} alternation;
-
-/* Thresholds of strategy `kind` designed for the MI of law a->law. */
-static qc_status thresholds_for(alternation *a, qc_quantizer_kind kind)
-{
-    if (kind == QC_QUANTIZER_FIXED) {
-        memcpy(a->t, a->sub->thresholds, a->nt * sizeof *a->t);
-        return QC_OK;
-    }
-    qc_design_request inner = *a->sub;
-    inner.objective = QC_OBJECTIVE_MI;
-    inner.quantizer = kind;
-    inner.costs = NULL;
-    inner.skip_snr_penalty = 1;
-    inner.probabilities = a->law;
-    qc_design_result d;
-    qc_status st = qc_design_thresholds(&inner, &d);
-    if (st == QC_OK) {
-        memcpy(a->t, d.thresholds, a->nt * sizeof *a->t);
-        if (d.fine_cells)
-            a->fine = d.fine_cells;
-    }
-    qc_design_result_clear(&d);
-    return st;
-}
-
-/* From the thresholds in a->t: constrained capacity of the channel, then
- * thresholds of the request's strategy for that law, until the capacity
- * moves by no more than the tolerance. */
-static qc_status alternate(alternation *a)
-{
-    const qc_quantizer_kind kind = a->sub->quantizer;
-    qc_dmc *ch = NULL;
-    qc_status st = QC_OK;
-    double prev = -INFINITY;
-    for (size_t k = 0; k < CONSTRAINED_ALTERNATIONS; k++) {
-        if (k > 0 && (st = thresholds_for(a, kind)) != QC_OK)
-            break;
-        qc_dmc_free(ch);
-        ch = NULL;
-        if ((st = qc_discretize(a->sub->model, a->sub->levels, a->n, a->t, a->nt, &ch)) !=
-            QC_OK)
-            break;
-        qc_costs_result cr;
-        a->opt.initial = a->law;
-        st = qc_capacity_costs(ch, &a->opt, a->costs, a->ncosts, NULL, &cr, a->law);
-        a->iterations += cr.iterations;
-        a->alternations++;
-        if (st != QC_OK && st != QC_ENOCONV)
-            break;
-        st = QC_OK; /* QC_ENOCONV still leaves valid bounds; the final bound shows the gap */
-        if (cr.capacity_bits > a->best) {
-            a->best = cr.capacity_bits;
-            a->best_upper = cr.upper_bound_bits;
-            memcpy(a->best_law, a->law, a->n * sizeof *a->law);
-            memcpy(a->best_t, a->t, a->nt * sizeof *a->t);
-        }
-        if (kind == QC_QUANTIZER_FIXED || fabs(cr.capacity_bits - prev) <= a->opt.tol_bits)
-            break;
-        prev = cr.capacity_bits;
-    }
-    qc_dmc_free(ch);
-    return st;
-}
-
-/* Capacity under `ncosts` ≥ 1 average constraints (without any, the
- * joint design of src/quantizer/joint.c is used): alternate the law (the constrained capacity of the
- * current channel, qc_capacity_costs) and the thresholds (the strategy's
- * design for that law) as joint.c does; every step of the optimal
- * strategy keeps or raises the rate, C(t') ≥ I(r, t') ≥ I(r, t) = C(t).
- * The optimal strategy starts from the uniform, Lloyd–Max and DP
- * thresholds for the starting law and keeps the best. The reported rate
- * and bound are those of the final channel. */
-static qc_status constrained_capacity(const design_ctx *c, const qc_design_request *sub,
-                                      const qc_cost *costs, size_t ncosts,
-                                      qc_design_result *res)
-{
-    const size_t n = sub->nlevels;
-    const qc_quantizer_kind kind = sub->quantizer;
-    alternation a = {.sub = sub, .costs = costs, .ncosts = ncosts, .n = n,
-                     .nt = sub->cells ? sub->cells - 1 : sub->nthresholds,
-                     .best = -INFINITY, .best_upper = INFINITY};
-    /* the engine's documented defaults, with the request's tolerance */
-    a.opt = (qc_ba_options){.tol_bits = sub->tol_bits > 0.0 ? sub->tol_bits : DEFAULT_TOL_BITS,
-                            .max_iterations = ENGINE_MAX_ITERATIONS,
-                            .method = QC_BA_ACCELERATED};
-    a.law = qc_malloc_array(n, sizeof *a.law);
-    a.best_law = qc_malloc_array(n, sizeof *a.best_law);
-    a.t = qc_malloc_array(a.nt, sizeof *a.t);
-    a.best_t = qc_malloc_array(a.nt, sizeof *a.best_t);
-    qc_status st = QC_OK;
-    if (!a.law || !a.best_law || !a.t || !a.best_t) {
-        st = qc_fail(QC_ENOMEM, "out of memory");
-        goto done;
-    }
-    static const qc_quantizer_kind optimal_starts[] = {
-        QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL};
-    size_t nstarts = kind == QC_QUANTIZER_OPTIMAL ? 3 : 1;
-    for (size_t s = 0; s < nstarts && st == QC_OK; s++) {
-        for (size_t i = 0; i < n; i++)
-            a.law[i] = sub->probabilities ? sub->probabilities[i] : 1.0 / (double)n;
-        st = thresholds_for(&a, kind == QC_QUANTIZER_OPTIMAL ? optimal_starts[s] : kind);
-        if (st == QC_OK)
-            st = alternate(&a);
-    }
-    if (st != QC_OK)
-        goto done;
-    /* the final channel, its rate for the best law and the references */
-    qc_design_request fin = *sub;
-    fin.objective = QC_OBJECTIVE_MI;
-    fin.quantizer = QC_QUANTIZER_FIXED;
-    fin.costs = NULL;
-    fin.thresholds = a.best_t;
-    fin.nthresholds = a.nt;
-    fin.probabilities = a.best_law;
-    fin.skip_snr_penalty = sub->skip_snr_penalty || c->searching;
-    if ((st = qc_design_thresholds(&fin, res)) != QC_OK)
-        goto done;
-    res->objective = QC_OBJECTIVE_CAPACITY;
-    res->quantizer = kind;
-    res->upper_bound_bits = fmax(a.best_upper, res->rate_bits);
-    res->iterations = a.iterations;
-    res->design_iterations = kind == QC_QUANTIZER_FIXED ? 0 : a.alternations;
-    res->fine_cells = kind == QC_QUANTIZER_OPTIMAL ? a.fine : 0;
-done:
-    free(a.law);
-    free(a.best_law);
-    free(a.t);
-    free(a.best_t);
-    return st;
-}
-
 /* One complete design at levels x (c->req->nlevels of them). */
 static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
 {
@@ -283,22 +138,20 @@ static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
     memset(res, 0, sizeof *res);
     qc_status st;
     if (req->objective == QC_OBJECTIVE_CAPACITY) {
+        /* average constraints become costs of the law in the one
+         * alternation of thresholds and law; a peak only trims levels */
         qc_cost costs[2];
         size_t k = qc_constraint_costs(req->constraints, x, req->nlevels, c->dims,
                                        c->power_cost, c->mean_cost, costs);
         if (k > 0 && (st = qc_constraints_check(req->constraints, x, req->nlevels,
                                                 c->dims)) != QC_OK)
             return st;
-        /* average constraints: qc_capacity_costs inside the alternation;
-         * none (a peak only trims the levels): the joint design */
-        if (k > 0)
-            return constrained_capacity(c, &sub, costs, k, res);
-        return qc_design_thresholds(&sub, res);
+        return qc_design_thresholds(&sub, costs, k, res);
     }
     if ((st = qc_constraints_check_law(req->constraints, x, c->law, req->nlevels,
                                        c->dims)) != QC_OK)
         return st;
-    if ((st = qc_design_thresholds(&sub, res)) != QC_OK)
+    if ((st = qc_design_thresholds(&sub, NULL, 0, res)) != QC_OK)
         return st;
     if (req->objective == QC_OBJECTIVE_GMI && (st = gmi_objective(c, res)) != QC_OK) {
         qc_design_result_clear(res);
@@ -346,7 +199,7 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
         (st = qc_normal_approximation(r->rate_bits, r->dispersion_bits2, req->blocklength,
                                       req->error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
         return st;
-    r->shaping_gap_db = req->model->type == &qc_model_gauss
+    r->shaping_gap_db = req->model->type->properties & QC_MODEL_ADDITIVE_GAUSSIAN
                             ? qc_shaping_gap_db(r->snr_db, r->rate_bits / d)
                             : NAN;
     return QC_OK;

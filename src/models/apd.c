@@ -643,6 +643,7 @@ const qc_model_type qc_model_apd = {
     .summary = "APD receiver: Poisson primaries x McIntyre gain + thermal noise, "
                "exact law by FFT, in electrons",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = APD_NPARAMS,
     .params = qc_apd_params,
     .check = apd_check,

@@ -177,6 +177,7 @@ const qc_model_type qc_model_poisson = {
     .name = "poisson",
     .summary = "photon counting Y ~ Poisson(signal x + background), integer thresholds",
     .output = QC_OUTPUT_COUNTS,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = 2,
     .params = poisson_params,
     .below = poisson_below,

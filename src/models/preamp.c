@@ -296,6 +296,7 @@ const qc_model_type qc_model_preamp = {
     .summary = "optically pre-amplified detection Y = ncx2(2 modes, 2x)/2, "
                "in ASE energy per mode",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = 1,
     .params = preamp_params,
     .init = preamp_init,

@@ -194,6 +194,7 @@ const qc_model_type qc_model_table = {
     .name = "table",
     .summary = "measured densities per level from a table file (piecewise linear)",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_FROM_FILE,
     .nparams = 0,
     .params = NULL,
     .check = table_check,

@@ -23,14 +23,13 @@ typedef enum {
     QC_OBJECTIVE_COUNT
 } qc_objective;
 
-/* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
- * "lloyd-max", "optimal". NULL for values out of range. */
+/* Names used on the command line: "mi", "capacity", "gmi"; NULL for values
+ * out of range. The quantizers' names come with the strategy table
+ * (quantcap/quantizer.h). */
 QC_API const char *qc_objective_name(qc_objective objective);
-QC_API const char *qc_quantizer_name(qc_quantizer_kind kind);
 
 /* Look a name up; QC_EINVAL naming the unknown word and the choices. */
 QC_API qc_status qc_objective_parse(const char *name, qc_objective *out);
-QC_API qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
 
 typedef struct {
     /* The channel. */

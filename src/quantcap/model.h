@@ -36,10 +36,24 @@ typedef struct qc_model qc_model;
 /* A noise model: the conditional law of the receiver output given the
  * transmitted level x. Cells are half-open: a threshold t separates
  * {y < t} from {y ≥ t}; for counts, thresholds are integers. */
+/* Properties a model type declares, so that no other code compares
+ * against a particular model (qc_model_type.properties, OR-ed). */
+enum {
+    /* levels are optical intensities: x ≥ 0 (constraints, peak, plots) */
+    QC_MODEL_INTENSITY = 1u << 0,
+    /* the output is the level plus Gaussian noise independent of it, so the
+     * Shannon curve ½·log2(1 + snr) is the unquantized reference */
+    QC_MODEL_ADDITIVE_GAUSSIAN = 1u << 1,
+    /* the model is read from a file of measured densities (its levels come
+     * from the file; qc_model_table_load) instead of qc_model_alloc */
+    QC_MODEL_FROM_FILE = 1u << 2,
+};
+
 typedef struct qc_model_type {
     const char *name;
     const char *summary;        /* one line for `quantcap models`        */
     qc_output_kind output;
+    unsigned properties;        /* QC_MODEL_* flags                      */
     size_t nparams;
     const qc_param_spec *params;
     /* Extra checks beyond each parameter's range (may be NULL). */

@@ -29,6 +29,16 @@ QC_API qc_status qc_discretize(const qc_model *model, const double *levels,
                         size_t nlevels, const double *thresholds,
                         size_t nthresholds, qc_dmc **out);
 
+/* The same into a preallocated matrix, for callers that rate many
+ * threshold vectors on one channel: cell probabilities of `levels` for n
+ * sorted thresholds into `d` (nlevels × (n + 1)); lo and hi are scratch of
+ * length n. The thresholds and levels are not checked again (the caller
+ * has passed them through qc_thresholds_check and qc_model_check_levels);
+ * otherwise the same accuracy and failures as qc_discretize. */
+QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
+                                    size_t nlevels, const double *t, size_t n,
+                                    double *lo, double *hi, qc_dmc *d);
+
 /* Mutual information with the unquantized output (continuous density or
  * ideal count resolution) for the given levels and input law, in nats.
  * Adaptive quadrature (GSL QAGS/QAGI) per level; the absolute error
@@ -53,6 +63,73 @@ typedef enum {
 } qc_quantizer_kind;
 
 #define QC_MAX_BITS 16
+
+/* ---- threshold strategies: one constant table ------------------------- */
+
+/* Per-channel workspace of the strategies: built once for a model, its
+ * levels and a number of thresholds, reused for every input law designed
+ * for (the optimal strategy's fine grid, the uniform search's rate
+ * workspace). One plan per thread. */
+typedef struct qc_strategy_plan qc_strategy_plan;
+
+/* What one design reports besides the thresholds. */
+typedef struct {
+    size_t iterations;      /* uniform: rate evaluations; Lloyd–Max: Lloyd
+                               iterations; optimal: refinement iterations */
+    double mse;             /* Lloyd–Max: mean-square error; NaN else       */
+    double *reconstruction; /* Lloyd–Max: if not NULL, receives the K
+                               reconstruction points                       */
+} qc_strategy_stats;
+
+typedef struct qc_threshold_strategy {
+    const char *name;    /* "uniform", "fixed", "lloyd-max", "optimal"      */
+    const char *summary; /* one line                                         */
+    qc_quantizer_kind kind;
+    int given;           /* 1: the thresholds are given, not designed       */
+    int raises_mi;       /* 1: the design for a law r maximizes I(r, t) over
+                            its family, so alternating it with the law's
+                            capacity never lowers the rate                  */
+    /* Thresholds (nthresholds of them, into t) for the law `input`; with
+     * warm set, t holds a starting point the strategy may use. */
+    qc_status (*design)(qc_strategy_plan *plan, const double *input, int warm, double *t,
+                        qc_strategy_stats *stats);
+} qc_threshold_strategy;
+
+QC_API extern const qc_threshold_strategy qc_strategy_uniform;
+QC_API extern const qc_threshold_strategy qc_strategy_fixed;
+QC_API extern const qc_threshold_strategy qc_strategy_lloyd_max;
+QC_API extern const qc_threshold_strategy qc_strategy_optimal;
+
+/* The strategy of a quantizer kind; NULL for values out of range. */
+QC_API const qc_threshold_strategy *qc_strategy_of(qc_quantizer_kind kind);
+/* Names used on the command line ("uniform", "fixed", "lloyd-max",
+ * "optimal"); NULL for values out of range. */
+QC_API const char *qc_quantizer_name(qc_quantizer_kind kind);
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+QC_API qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
+
+/* A plan for `nthresholds` thresholds on `levels` (borrowed: they, the
+ * model and `given` must outlive the plan). given: the fixed strategy's
+ * thresholds (NULL for the others). fine_cells: the optimal strategy's
+ * fine grid (0: automatic, as qc_design_request.fine_cells). grid_law:
+ * the law the fine grid is built for (copied; NULL: the law of the first
+ * design). QC_EINVAL when the model or levels are missing or nthresholds
+ * is 0; QC_ENOMEM. On failure *out is NULL. */
+QC_API qc_status qc_strategy_plan_alloc(const qc_model *model, const double *levels,
+                                        size_t nlevels, size_t nthresholds,
+                                        const double *given, size_t fine_cells,
+                                        const double *grid_law, qc_strategy_plan **out);
+QC_API void qc_strategy_plan_free(qc_strategy_plan *plan);
+/* Fine-grid cells the optimal strategy used (0 before its first design or
+ * for the other strategies). */
+QC_API size_t qc_strategy_plan_fine_cells(const qc_strategy_plan *plan);
+/* Run strategy s on the plan for the law `input` (stats may be NULL). The
+ * thresholds come out strictly increasing. Fails as the strategy does
+ * (QC_EINVAL naming what is missing, QC_ENUMERIC, QC_ENOMEM); t is then
+ * unspecified. */
+QC_API qc_status qc_strategy_design(const qc_threshold_strategy *s, qc_strategy_plan *plan,
+                                    const double *input, int warm, double *t,
+                                    qc_strategy_stats *stats);
 
 /* cells = 2^bits for 1 ≤ bits ≤ QC_MAX_BITS, else QC_EINVAL. */
 QC_API qc_status qc_cells_from_bits(int bits, size_t *cells);

@@ -8,16 +8,6 @@
 #include "core/internal.h"
 #include "quantcap/quantizer.h"
 
-/* ---- discretize.c ---------------------------------------------------- */
-
-/* Cell probabilities of `levels` for n sorted thresholds into the
- * preallocated `d` (nlevels × (n + 1)); lo and hi are scratch of length
- * n. Same accuracy and failures as qc_discretize, but the thresholds and
- * levels are not checked. */
-qc_status qc_discretize_into(const qc_model *model, const double *levels,
-                             size_t nlevels, const double *t, size_t n,
-                             double *lo, double *hi, qc_dmc *d);
-
 /* ---- cell_mi.c: I(X;Y_q) as a function of the thresholds ------------- */
 
 typedef struct {

@@ -228,18 +228,11 @@ static qc_status alphabet_of(const qc_settings *s, qc_alphabet **out)
     return st;
 }
 
-/* Does the model type take intensities (levels ≥ 0)? Probed with its
- * level check; measured tables say nothing general. */
+/* Does the model type take intensities (levels ≥ 0)? Declared by the
+ * type; measured tables say nothing general. */
 static int intensity_type(const qc_model_type *type)
 {
-    if (!type->check_level || type == &qc_model_table)
-        return 0;
-    qc_model probe = {.type = type};
-    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
-        probe.params[i] = NAN;
-    int refuses = type->check_level(&probe, -1.0) != QC_OK;
-    qc_clear_error();
-    return refuses;
+    return (type->properties & QC_MODEL_INTENSITY) != 0;
 }
 
 /* 'peak', 'power', 'mean' into s->constraints; *optimize from
@@ -299,7 +292,7 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     const qc_model_type *type = qc_model_type_find(name);
     if (!type)
         return qc_fail(QC_EINVAL, "model: unknown model '%s'", name);
-    int is_table = strcmp(type->name, "table") == 0;
+    int is_table = (type->properties & QC_MODEL_FROM_FILE) != 0;
 
     /* model parameters given directly */
     double params[QC_MODEL_MAX_PARAMS];
