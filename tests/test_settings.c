@@ -12,6 +12,7 @@
 #include <string.h>
 
 #include "quantcap.h"
+#include "core/parse.h"
 
 #define assert_message(needle)                                                     \
     do {                                                                           \

@@ -13,7 +13,7 @@
 #include <unistd.h>
 
 #include "quantcap.h"
-#include "sweep/checkpoint.h"
+#include "study/checkpoint.h"
 
 #define assert_message(needle)                                                     \
     do {                                                                           \

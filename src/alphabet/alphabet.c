@@ -5,6 +5,7 @@
  * levels on which the input law is designed freely. Also the peak
  * constraint applied to an alphabet. */
 #include "alphabet/alphabet.h"
+#include "core/parse.h"
 
 #include <math.h>
 #include <stdlib.h>

@@ -5,6 +5,7 @@
 #define QC_CAPACITY_ENGINE_H
 
 #include "core/internal.h"
+#include "quantcap/capacity.h"
 
 struct qc_ba_workspace {
     size_t nx_max, ny_max;

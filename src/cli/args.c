@@ -3,6 +3,7 @@
  * or unknown option is an error that names it (with the closest valid
  * name suggested). */
 #include "cli.h"
+#include "core/parse.h" /* the one number grammar, shared with the library */
 
 #include <stdarg.h>
 #include <stdlib.h>

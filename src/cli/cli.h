@@ -64,8 +64,8 @@ int cli_double_list(const char *flag, const char *text, double **out,
 /* Output sink: stdout, or a file written to a temporary name and renamed
  * into place only when everything succeeded (nothing partial is left). */
 typedef struct {
-    FILE *f;
-    char *path, *tmp;
+    FILE *f;               /* where to write: stdout or the file's stream   */
+    qc_atomic_file *file;  /* the output file being written; NULL: stdout   */
 } cli_sink;
 int cli_sink_open(cli_sink *s, const char *path /* NULL: stdout */);
 /* Finish: ok != 0 commits (rename), else discards. Returns CLI_OK or an

@@ -55,7 +55,7 @@ int cmd_channel(int argc, char **argv)
     double params[QC_MODEL_MAX_PARAMS];
     if ((rc = cli_model_type(&a, &type)) || (rc = cli_model_params(&a, type, params)))
         return rc;
-    int is_table = strcmp(type->name, "table") == 0;
+    int is_table = (type->properties & QC_MODEL_FROM_FILE) != 0;
     if (is_table != cli_has(&a, "table"))
         return cli_usage_error(is_table ? "channel: --model table needs --table FILE"
                                         : "channel: --table goes with --model table only");

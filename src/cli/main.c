@@ -53,7 +53,7 @@ int main(int argc, char **argv)
         return CLI_OK;
     }
     if (strcmp(argv[1], "--version") == 0) {
-        printf("quantcap %s\n", QUANTCAP_VERSION);
+        printf("quantcap %s\n", qc_version());
         return CLI_OK;
     }
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)

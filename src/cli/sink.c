@@ -1,14 +1,11 @@
 /* sink.c — where command output goes: standard output, or a file that
- * appears only when complete (written under a temporary name in the same
- * folder, flushed, then renamed into place). */
+ * appears only when complete (the library's atomic file writer). */
 #include "cli.h"
 
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <unistd.h>
 
 int cli_sink_open(cli_sink *s, const char *path)
 {
@@ -17,61 +14,24 @@ int cli_sink_open(cli_sink *s, const char *path)
         s->f = stdout;
         return CLI_OK;
     }
-    struct stat sb;
-    if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode))
-        return cli_usage_error("--output: '%s' is a directory, expected a file name", path);
-    size_t len = strlen(path);
-    s->path = strdup(path);
-    s->tmp = malloc(len + 16);
-    if (!s->path || !s->tmp) {
-        free(s->path);
-        free(s->tmp);
-        return cli_usage_error("--output: out of memory");
-    }
-    snprintf(s->tmp, len + 16, "%s.tmp.XXXXXX", path);
-    int fd = mkstemp(s->tmp);
-    if (fd < 0) {
-        int e = errno;
-        free(s->path);
-        free(s->tmp);
-        memset(s, 0, sizeof *s);
-        return cli_usage_error("--output: cannot create '%s': %s", path, strerror(e));
-    }
-    s->f = fdopen(fd, "w");
-    if (!s->f) {
-        close(fd);
-        unlink(s->tmp);
-        free(s->path);
-        free(s->tmp);
-        memset(s, 0, sizeof *s);
-        return cli_usage_error("--output: cannot open '%s'", path);
-    }
+    if (qc_atomic_file_open(path, &s->file) != QC_OK)
+        return cli_usage_error("--output: %s", qc_last_error());
+    s->f = qc_atomic_file_stream(s->file);
     return CLI_OK;
 }
 
 int cli_sink_close(cli_sink *s, int ok)
 {
     int rc = CLI_OK;
-    if (!s->path) {
+    if (!s->file) {
         if (fflush(stdout) != 0)
             rc = cli_usage_error("cannot write to standard output: %s", strerror(errno));
         return rc;
     }
-    int werr = ferror(s->f);
-    if (fclose(s->f) != 0 || werr) {
-        if (ok)
-            rc = cli_usage_error("--output: cannot write '%s'", s->path);
-        ok = 0;
-    }
-    if (ok && rename(s->tmp, s->path) != 0) {
-        rc = cli_usage_error("--output: cannot rename into '%s': %s", s->path,
-                             strerror(errno));
-        ok = 0;
-    }
     if (!ok)
-        unlink(s->tmp);
-    free(s->path);
-    free(s->tmp);
+        qc_atomic_file_discard(s->file);
+    else if (qc_atomic_file_commit(s->file) != QC_OK)
+        rc = cli_usage_error("--output: %s", qc_last_error());
     memset(s, 0, sizeof *s);
     return rc;
 }

@@ -3,7 +3,9 @@
 #ifndef QC_INTERNAL_H
 #define QC_INTERNAL_H
 
-#include "quantcap.h"
+#include "quantcap/status.h"
+#include "quantcap/dmc.h"
+#include "quantcap/info.h"
 
 /* Record a detail message for the calling thread and return `status`.
  * Use as: return qc_fail(QC_EINVAL, "'sigma' must be > 0 (got %g)", s); */
@@ -23,5 +25,13 @@ void *qc_malloc_array(size_t n, size_t size);
 /* order[k] = the index of the k-th smallest of values[0..n), NaNs last,
  * ties by index (src/core/order.c). */
 qc_status qc_sort_order(const double *values, size_t n, size_t *order);
+
+/* Bit labels fit in nbits and are distinct among inputs with r(x) > 0;
+ * the law sums to 1 (src/core/gmi.c). */
+qc_status qc_check_labels(const double *input, size_t nx, const size_t *labels,
+                          unsigned nbits);
+/* Σ_v p_v log(1 + p_v̄/p_v) for the joint masses of the two bit values at
+ * one output: its share of H(B|Y), accurate when one value dominates. */
+double qc_bit_term(double p0, double p1);
 
 #endif

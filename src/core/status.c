@@ -24,6 +24,8 @@ static const char *const messages[QC_STATUS_COUNT] = {
     [QC_ENUMERIC] = "numerical failure",
 };
 
+const char *qc_version(void) { return QC_VERSION_STRING; }
+
 const char *qc_strerror(qc_status status)
 {
     if ((unsigned)status >= QC_STATUS_COUNT)

@@ -32,6 +32,7 @@
  * lattice regime with σ_th < h a ripple of relative size
  * ~exp(−2π²σ_th²/h²). Tails below ~1e-13 are not resolved. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 #include "models/apd_gain.h"
 #include "models/convolve.h"
 
@@ -781,6 +782,7 @@ const qc_model_type qc_model_apd = {
     .summary = "APD receiver: Poisson primaries x McIntyre gain + thermal noise, "
                "exact law by FFT, in electrons",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = APD_NPARAMS,
     .params = qc_apd_exact_params,
     .init = apd_init,

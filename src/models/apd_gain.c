@@ -15,6 +15,7 @@
  *   r = k^{−k/(1−k)} [(1 + k(M−1))/M]^{k/(1−k)} (M−1)/M,
  * so the tail after n is at most P(n)·r/(1 − r): the law is cut there. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 #include "models/apd_gain.h"
 
 #include <math.h>

@@ -3,7 +3,8 @@
 #ifndef QC_APD_GAIN_H
 #define QC_APD_GAIN_H
 
-#include "quantcap.h"
+#include "core/internal.h"
+#include "quantcap/model.h"
 
 enum { APD_SIGNAL, APD_BACKGROUND, APD_GAIN, APD_K, APD_SIGMA_TH, APD_NPARAMS };
 

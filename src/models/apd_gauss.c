@@ -6,6 +6,7 @@
  * `apd`, for comparison with the exact law. Also holds the parameter
  * table and helpers shared with apd.c. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 #include "models/apd_gain.h"
 
 #include <math.h>
@@ -112,6 +113,7 @@ const qc_model_type qc_model_apd_gauss = {
     .summary = "APD receiver, Gaussian approximation N(M lambda, M^2 F lambda + "
                "sigma_th^2), in electrons",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = APD_NPARAMS,
     .params = qc_apd_params,
     .below = apdg_below,

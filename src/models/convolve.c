@@ -12,6 +12,7 @@
 #include "models/convolve.h"
 
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 #include <stdint.h>

@@ -9,7 +9,8 @@
 #include <complex.h>
 #include <stddef.h>
 
-#include "quantcap.h"
+#include "core/internal.h"
+#include "quantcap/model.h"
 
 typedef struct qc_conv qc_conv;
 

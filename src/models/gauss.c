@@ -4,6 +4,7 @@
  * error function (GSL gsl_cdf_gaussian_P/Q), so cells 80 dB into the
  * tail keep their relative accuracy. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 
@@ -80,6 +81,7 @@ const qc_model_type qc_model_gauss = {
     .name = "gauss",
     .summary = "additive Gaussian noise y = x + n, n ~ N(0, sigma^2) (thermal/ASE)",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_ADDITIVE_GAUSSIAN,
     .nparams = 1,
     .params = gauss_params,
     .below = gauss_below,

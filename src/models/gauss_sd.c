@@ -6,6 +6,7 @@
  * Fiber-Optic Communication Systems, ch. 4). Tails use GSL's
  * gsl_cdf_gaussian_P/Q, accurate far into both tails. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 
@@ -123,6 +124,7 @@ const qc_model_type qc_model_gauss_sd = {
     .summary = "signal-dependent Gaussian y = x + n, var = sigma0^2 + a x + b x^2 "
                "(PIN/APD, Gaussian approx.)",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = 3,
     .params = gauss_sd_params,
     .below = gauss_sd_below,

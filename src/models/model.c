@@ -2,6 +2,7 @@
  * parameter checking and model instances. Each model lives in its own
  * file as a const qc_model_type table (the GSL "_type" pattern). */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 #include <stdio.h>

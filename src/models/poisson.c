@@ -5,6 +5,7 @@
  * incomplete gamma functions (Abramowitz & Stegun 6.5.13; GSL
  * gsl_sf_gamma_inc_Q_e / _P_e), each accurate in its own tail. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <math.h>
 
@@ -182,6 +183,7 @@ const qc_model_type qc_model_poisson = {
     .name = "poisson",
     .summary = "photon counting Y ~ Poisson(signal x + background), integer thresholds",
     .output = QC_OUTPUT_COUNTS,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = 2,
     .params = poisson_params,
     .below = poisson_below,

@@ -26,7 +26,8 @@
  * m = x = 1e6, ~1e-13 for x ≤ 1e3. The density: Bessel form for m < 51,
  * else the gamma mixture summed from its largest term (below). */
 #include "core/internal.h"
-#include "incgamma.h"
+#include "quantcap/model.h"
+#include "models/incgamma.h"
 
 #include <math.h>
 
@@ -344,6 +345,7 @@ const qc_model_type qc_model_preamp = {
     .summary = "optically pre-amplified detection Y = ncx2(2 modes, 2x)/2, "
                "in ASE energy per mode",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_INTENSITY,
     .nparams = 1,
     .params = preamp_params,
     .below = preamp_below,

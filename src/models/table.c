@@ -6,6 +6,7 @@
  * for P(Y < t) and from the right for P(Y ≥ t) so that both tails keep
  * their relative accuracy. */
 #include "core/internal.h"
+#include "quantcap/model.h"
 
 #include <errno.h>
 #include <math.h>
@@ -195,6 +196,7 @@ const qc_model_type qc_model_table = {
     .name = "table",
     .summary = "measured densities per level from a table file (piecewise linear)",
     .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_FROM_FILE,
     .nparams = 0,
     .params = NULL,
     .check = table_check,

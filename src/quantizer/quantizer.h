@@ -6,16 +6,7 @@
 #define QC_QUANTIZER_H
 
 #include "core/internal.h"
-
-/* ---- discretize.c ---------------------------------------------------- */
-
-/* Cell probabilities of `levels` for n sorted thresholds into the
- * preallocated `d` (nlevels × (n + 1)); lo and hi are scratch of length
- * n. Same accuracy and failures as qc_discretize, but the thresholds and
- * levels are not checked. */
-qc_status qc_discretize_into(const qc_model *model, const double *levels,
-                             size_t nlevels, const double *t, size_t n,
-                             double *lo, double *hi, qc_dmc *d);
+#include "quantcap/quantizer.h"
 
 /* ---- cell_mi.c: I(X;Y_q) as a function of the thresholds ------------- */
 
@@ -156,72 +147,5 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
                                 const qc_fine_grid *g, double *t_out,
                                 double *mi_nats, size_t *iterations);
-
-/* ---- tidy.c ----------------------------------------------------------- */
-
-/* What the placement below may cost: half the design's tolerance, at
- * most 1e-13 bit (so that the MI-optimal design stays at least as good
- * as the other strategies to rounding). */
-#define QC_TIDY_SHARE 0.5
-#define QC_TIDY_MAX_BITS 1e-13
-#define QC_TIDY_NATS(tol_bits) (fmin(QC_TIDY_SHARE * (tol_bits), QC_TIDY_MAX_BITS) / QC_LOG2E)
-
-/* Among thresholds equally good within eps_nats (t: nt sorted thresholds
- * of a design for law `input`), the reproducible placement of
- * docs/methods.md §4: redundant thresholds removed and re-inserted where
- * they split the most probable cells at their medians, flat essential
- * thresholds centred in their flat interval. The rate of the result is at
- * least the rate of t minus eps_nats, else t is left unchanged (as it is
- * for nt > 4095). */
-qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
-                             const double *input, size_t nlevels, size_t nt,
-                             double eps_nats, double *t);
-
-/* The number within tol of x on the coarsest power-of-two grid (0 when
- * |x| ≤ tol): a reproducible representative of an interval's middle. */
-double qc_simplest_within(double x, double tol);
-
-/* Thresholds within 64 ulps of the output's scale from 0 or from a
- * level's mean are set to it exactly (continuous outputs; the order is
- * kept). */
-void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
-                        size_t nt, double *t);
-
-/* Cells a quantizer for count outputs can use: hi − lo + 1 for the union
- * [lo, hi] of the levels' supports (every count that carries probability
- * in its own cell), at most `cells`. Continuous outputs: `cells`. */
-size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
-                       size_t cells);
-
-/* ---- design.c ----------------------------------------------------------- */
-
-/* qc_design without the alphabet stages (constraints, QAM, GMI, level
- * search, dispersion; src/alphabet/input_design.c calls it): the request's
- * alphabet fields are ignored and the result's are left zero. */
-qc_status qc_design_thresholds(const qc_design_request *req,
-                               qc_design_result *res);
-
-/* ---- rate_limits.c ------------------------------------------------------ */
-
-/* The last step of a design (called once on the final result, per real
- * dimension): hold the rates to log2 levels, the input entropy, log2
- * cells and the data-processing order within their stated errors
- * (flagging what was set to a limit; QC_ENUMERIC beyond the error),
- * recompute the loss, and compute the SNR penalty where it is defined
- * (else NaN with the reason in snr_penalty_note). */
-qc_status qc_design_settle(const qc_design_request *req, qc_design_result *res);
-
-/* ---- joint.c ---------------------------------------------------------- */
-
-/* The capacity objective: thresholds (res->thresholds, res->nthresholds
- * set by the caller) and input law (res->input, holding the starting law)
- * for req->quantizer, the final channel in res->channel, rate, bound,
- * iterations. */
-qc_status qc_design_capacity(const qc_design_request *req,
-                             qc_design_result *res);
-
-/* Report `done` of `total` work units to the request's progress callback,
- * if any (done clamped to total). */
-void qc_design_progress(const qc_design_request *req, size_t done, size_t total);
 
 #endif

@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "quantcap.h"
+#include "core/parse.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {

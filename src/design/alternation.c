@@ -1,0 +1,214 @@
+/* alternation.c — the capacity objective: thresholds and input law
+ * together, with none, one or two average costs on the law (the request's
+ * per-level cost, or the power and mean constraints).
+ *
+ * For fixed thresholds the capacity (or capacity–cost) of the quantized
+ * channel comes from the engine (qc_capacity_costs: Blahut 1972, Arimoto
+ * 1972, with certified bounds). For designed thresholds, alternate
+ *   r ← the engine's capacity-achieving law of the current channel,
+ *   t ← the strategy's thresholds for the law r,
+ * until the capacity changes by no more than the tolerance (block
+ * coordinate ascent; for strategies that maximize I(r, t) over their
+ * family — optimal, uniform — a step cannot lower the rate, since
+ * C(t') ≥ I(r, t') ≥ I(r, t) = C(t)). The optimal strategy runs this from
+ * three starts — the uniform quantizer, Lloyd–Max, and the DP design for
+ * the starting law — and keeps the best. Lloyd–Max does not maximize I,
+ * so every alternation keeps the best channel seen. The reported rate and
+ * upper bound are the engine's certified bounds for the final channel;
+ * the joint optimum itself is not certified (the problem is not concave
+ * in the thresholds). One strategy plan (with the optimal strategy's fine
+ * grid, built for the uniform law so that every level has cells around
+ * it), one channel and one engine workspace serve every step. */
+#include "design/design_internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define MAX_ALTERNATIONS 50
+
+typedef struct {
+    const qc_design_request *req; /* for progress reports                  */
+    size_t stage, work;           /* progress: start, units in all         */
+    const qc_model *model;
+    const double *levels;
+    size_t n, nt;
+    const qc_threshold_strategy *strategy;
+    qc_strategy_plan *plan;
+    const qc_cost *costs;
+    size_t ncosts;
+    qc_ba_options opt;
+    qc_dmc *channel;         /* n × K, the channel of the last thresholds   */
+    double *lo, *hi;         /* discretizer scratch                         */
+    qc_ba_workspace *ws;
+    double *law;             /* the last capacity-achieving law (warm start) */
+    double best, best_upper; /* nats: best certified lower bound, its upper */
+    double *best_t, *best_law;
+    size_t engine_iterations, steps;
+} alternation;
+
+/* Capacity (nats, the engine's certified lower bound) of thresholds t,
+ * starting the engine from the last law and leaving its law in a->law.
+ * QC_ENOCONV still gives valid bounds and is accepted here; the final
+ * evaluation reports it. Keeps the best thresholds, law and bounds. */
+static qc_status law_step(alternation *a, const double *t, double *value)
+{
+    qc_status st = qc_discretize_into(a->model, a->levels, a->n, t, a->nt, a->lo, a->hi,
+                                      a->channel);
+    if (st != QC_OK)
+        return st;
+    qc_costs_result cr;
+    a->opt.initial = a->law;
+    st = qc_capacity_costs(a->channel, &a->opt, a->costs, a->ncosts, a->ws, &cr, a->law);
+    a->engine_iterations += cr.iterations;
+    a->steps++;
+    if (st != QC_OK && st != QC_ENOCONV)
+        return st;
+    *value = cr.capacity_bits / QC_LOG2E;
+    if (*value > a->best) {
+        a->best = *value;
+        a->best_upper = cr.upper_bound_bits / QC_LOG2E;
+        memcpy(a->best_t, t, a->nt * sizeof *t);
+        memcpy(a->best_law, a->law, a->n * sizeof *a->law);
+    }
+    return QC_OK;
+}
+
+/* Alternate law and thresholds from the thresholds in t (scratch `cand`). */
+static qc_status alternate(alternation *a, double *t, double *cand)
+{
+    double c;
+    qc_status st = law_step(a, t, &c);
+    for (size_t k = 0; st == QC_OK && !a->strategy->given && k < MAX_ALTERNATIONS; k++) {
+        qc_design_progress(a->req, a->stage * MAX_ALTERNATIONS + k + 1, a->work);
+        memcpy(cand, t, a->nt * sizeof *cand); /* a warm start where one is used */
+        st = qc_strategy_design(a->strategy, a->plan, a->law, 1, cand, NULL);
+        double cn;
+        if (st == QC_OK)
+            st = law_step(a, cand, &cn);
+        if (st != QC_OK)
+            break;
+        memcpy(t, cand, a->nt * sizeof *t);
+        double gain = cn - c;
+        c = cn;
+        if (fabs(gain) <= a->opt.tol_bits / QC_LOG2E)
+            break;
+    }
+    return st;
+}
+
+qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *costs,
+                                size_t ncosts, qc_design_result *res)
+{
+    const size_t n = res->nlevels, nt = res->nthresholds;
+    alternation a = {.req = req, .model = req->model, .levels = res->levels, .n = n, .nt = nt,
+                     .strategy = qc_strategy_of(req->quantizer), .costs = costs,
+                     .ncosts = ncosts, .best = -INFINITY, .best_upper = INFINITY};
+    double *start = NULL, *t = NULL, *cand = NULL, *uniform = NULL;
+    qc_ba_options_default(&a.opt);
+    a.opt.tol_bits = res->tol_bits;
+    qc_status st = qc_dmc_alloc(n, nt + 1, &a.channel);
+    if (st == QC_OK)
+        st = qc_ba_workspace_alloc(n, nt + 1, &a.ws);
+    if (st != QC_OK)
+        goto done;
+    a.lo = qc_malloc_array(nt, sizeof *a.lo);
+    a.hi = qc_malloc_array(nt, sizeof *a.hi);
+    a.law = qc_malloc_array(n, sizeof *a.law);
+    a.best_law = qc_malloc_array(n, sizeof *a.best_law);
+    a.best_t = qc_malloc_array(nt, sizeof *a.best_t);
+    start = qc_malloc_array(n, sizeof *start);
+    uniform = qc_malloc_array(n, sizeof *uniform);
+    t = qc_malloc_array(nt, sizeof *t);
+    cand = qc_malloc_array(nt, sizeof *cand);
+    if (!a.lo || !a.hi || !a.law || !a.best_law || !a.best_t || !start || !uniform || !t ||
+        !cand) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    memcpy(start, res->input, n * sizeof *start); /* the request's law or uniform */
+    for (size_t i = 0; i < n; i++)
+        uniform[i] = 1.0 / (double)n;
+    st = qc_strategy_plan_alloc(req->model, res->levels, n, nt, req->thresholds,
+                                req->fine_cells, uniform, &a.plan);
+    if (st != QC_OK)
+        goto done;
+
+    /* the optimal strategy starts from three designs for the starting law */
+    static const qc_threshold_strategy *const optimal_starts[] = {
+        &qc_strategy_uniform, &qc_strategy_lloyd_max, &qc_strategy_optimal};
+    const qc_threshold_strategy *const *starts = &a.strategy;
+    size_t nstarts = 1;
+    if (a.strategy == &qc_strategy_optimal) {
+        starts = optimal_starts;
+        nstarts = sizeof optimal_starts / sizeof optimal_starts[0];
+    }
+    a.work = nstarts * MAX_ALTERNATIONS + 1;
+    for (size_t s = 0; s < nstarts && st == QC_OK; s++) {
+        a.stage = s;
+        memcpy(a.law, start, n * sizeof *a.law);
+        st = qc_strategy_design(starts[s], a.plan, start, 0, t, NULL);
+        if (st == QC_OK)
+            st = alternate(&a, t, cand);
+        qc_design_progress(req, (s + 1) * MAX_ALTERNATIONS, a.work);
+    }
+    if (st != QC_OK)
+        goto done;
+
+    /* The best channel and its certified bounds, the engine started from
+     * the best law. */
+    memcpy(res->thresholds, a.best_t, nt * sizeof *res->thresholds);
+    st = qc_discretize(req->model, res->levels, n, res->thresholds, nt, &res->channel);
+    if (st != QC_OK)
+        goto done;
+    qc_costs_result cr;
+    a.opt.initial = a.best_law;
+    st = qc_capacity_costs(res->channel, &a.opt, costs, ncosts, a.ws, &cr, res->input);
+    a.engine_iterations += cr.iterations;
+    if (st != QC_OK)
+        goto done;
+    if (!a.strategy->given) {
+        /* A reproducible placement among equally good thresholds (tidy.c)
+         * for the capacity-achieving law r*: C(t') ≥ I(r*, t') ≥ C(t) − ε. */
+        memcpy(t, res->thresholds, nt * sizeof *t);
+        if (a.strategy == &qc_strategy_optimal &&
+            (st = qc_tidy_thresholds(req->model, res->levels, res->input, n, nt,
+                                     QC_TIDY_NATS(res->tol_bits), t)) != QC_OK)
+            goto done;
+        qc_snap_thresholds(req->model, res->levels, n, nt, t);
+        if (memcmp(t, res->thresholds, nt * sizeof *t) != 0) {
+            memcpy(res->thresholds, t, nt * sizeof *t);
+            qc_dmc_free(res->channel);
+            res->channel = NULL;
+            if ((st = qc_discretize(req->model, res->levels, n, res->thresholds, nt,
+                                    &res->channel)) != QC_OK)
+                goto done;
+            memcpy(a.law, res->input, n * sizeof *a.law);
+            a.opt.initial = a.law;
+            st = qc_capacity_costs(res->channel, &a.opt, costs, ncosts, a.ws, &cr, res->input);
+            a.engine_iterations += cr.iterations;
+            if (st != QC_OK)
+                goto done;
+        }
+    }
+    res->rate_bits = cr.capacity_bits;
+    res->upper_bound_bits = cr.upper_bound_bits;
+    res->iterations = a.engine_iterations;
+    res->design_iterations = a.strategy->given ? 0 : a.steps;
+    res->fine_cells = qc_strategy_plan_fine_cells(a.plan);
+    qc_design_progress(req, a.work, a.work);
+done:
+    qc_strategy_plan_free(a.plan);
+    qc_dmc_free(a.channel);
+    qc_ba_workspace_free(a.ws);
+    free(a.lo);
+    free(a.hi);
+    free(a.law);
+    free(a.best_law);
+    free(a.best_t);
+    free(start);
+    free(uniform);
+    free(t);
+    free(cand);
+    return st;
+}

@@ -1,0 +1,92 @@
+/* design_internal.h — what the files of the design stage (src/design)
+ * share: the threshold design proper, the joint design of thresholds and
+ * input law, the alphabet stages around them, the level search and its
+ * constraint set. Not installed. */
+#ifndef QC_DESIGN_INTERNAL_H
+#define QC_DESIGN_INTERNAL_H
+
+#include "core/internal.h"
+#include "quantcap/design.h"
+#include "quantcap/quantizer.h"
+
+/* ---- design.c ----------------------------------------------------------- */
+
+/* qc_design without the alphabet stages (constraints, QAM, GMI, level
+ * search, dispersion; input_design.c calls it): the request's alphabet
+ * fields are ignored and the result's are left zero. The capacity
+ * objective takes `ncosts` (0, 1 or 2) average costs on the law besides
+ * the request's own per-level cost (not both). */
+qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
+                               size_t ncosts, qc_design_result *res);
+
+/* ---- alternation.c ---------------------------------------------------- */
+
+/* The capacity objective: thresholds of req->quantizer and the input law
+ * together under `ncosts` average costs. On entry res holds the levels,
+ * the starting law (res->input) and room for the thresholds; on return
+ * the thresholds, the law, the final channel, its certified rate and
+ * bound, and the iteration counts. */
+qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *costs,
+                                size_t ncosts, qc_design_result *res);
+
+/* ---- rate_limits.c ------------------------------------------------------ */
+
+/* The last step of a design (called once on the final result, per real
+ * dimension): hold the rates to log2 levels, the input entropy, log2
+ * cells and the data-processing order within their stated errors
+ * (flagging what was set to a limit; QC_ENUMERIC beyond the error),
+ * recompute the loss, and compute the SNR penalty where it is defined
+ * (else NaN with the reason in snr_penalty_note). */
+qc_status qc_design_settle(const qc_design_request *req, qc_design_result *res);
+
+/* Report `done` of `total` work units to the request's progress callback,
+ * if any (done clamped to total). */
+void qc_design_progress(const qc_design_request *req, size_t done, size_t total);
+
+
+/* The set of allowed level vectors during level optimization: every
+ * level in [lo, hi]; with a law, also E[x²] ≤ power and E[x] ≤ mean.
+ * Convex, so the radial map toward a strictly feasible centre keeps a
+ * vector inside and its order intact. */
+typedef struct {
+    size_t n;
+    double lo, hi;
+    const double *law; /* NULL: only the box (the law is designed)     */
+    double power, mean; /* NaN: absent (power per real dimension)      */
+    int bounded;        /* the set is bounded                         */
+    double *centre;     /* owned, sorted, strictly feasible            */
+} qc_level_set;
+
+/* Build the set for `n` levels with law `law` (NULL for the capacity
+ * objective) from the constraints; `pattern` (n values) shapes the
+ * centre. QC_EINFEASIBLE when no level vector meets the constraints. */
+qc_status qc_level_set_init(qc_level_set *s, const qc_constraints *c, const double *law,
+                            const double *pattern, size_t n, unsigned dimensions);
+void qc_level_set_clear(qc_level_set *s);
+/* Sort x and pull it toward the centre until it is feasible. */
+void qc_level_set_project(const qc_level_set *s, double *x);
+
+/* ---- input_design.c -------------------------------------------------- */
+
+/* qc_design: the alphabet stages (constraints, QAM, GMI, level search,
+ * dispersion and blocklength rates) around qc_design_thresholds. */
+qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
+
+/* ---- level_search.c -------------------------------------------------- */
+
+/* Evaluate the objective at the levels x (n of them): a complete design
+ * into *res (the caller clears it). */
+typedef qc_status (*qc_level_design)(void *ctx, const double *x, qc_design_result *res);
+
+/* Nelder–Mead (GSL nmsimplex2) over the level vector projected into `set`,
+ * from `starts` starting points: the given levels, equally spaced levels
+ * filling the set, and perturbations of the best found (fixed seed).
+ * best_out receives the best levels (sorted), *rate_bits their objective,
+ * *evaluations the designs run. */
+qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
+                          qc_level_design design, void *ctx, double *best_out,
+                          double *rate_bits, size_t *evaluations);
+/* Most designs one start of that search runs for n levels. */
+size_t qc_level_search_budget(size_t n);
+
+#endif

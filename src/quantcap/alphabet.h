@@ -1,0 +1,109 @@
+/* quantcap/alphabet.h — transmit alphabets, input constraints and Gray
+ * labels. Part of the public interface of libquantcap (include
+ * <quantcap.h> for all of it). SPDX-License-Identifier: GPL-3.0-or-later
+ * */
+#ifndef QUANTCAP_ALPHABET_H
+#define QUANTCAP_ALPHABET_H
+
+#include <stddef.h>
+
+#include "quantcap/capacity.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum {
+    QC_ALPHABET_LEVELS = 0, /* explicit levels, in the order given          */
+    QC_ALPHABET_PAM,        /* pam:M, bipolar: −(M−1), −(M−3), …, M−1       */
+    QC_ALPHABET_UPAM,       /* upam:M, intensity: 0, 1/(M−1), …, 1 (OOK = 2) */
+    QC_ALPHABET_QAM,        /* qam:M, square QAM: √M-PAM on each quadrature */
+    QC_ALPHABET_GRID,       /* N equally spaced candidates on [lo, hi]      */
+} qc_alphabet_kind;
+
+#define QC_ALPHABET_MAX 4096 /* most levels per real dimension */
+
+typedef struct {
+    qc_alphabet_kind kind;
+    size_t size;         /* M: points per symbol (QAM: per complex symbol) */
+    size_t nlevels;      /* levels per real dimension (QAM: √M)           */
+    double *levels;      /* owned, nlevels values                         */
+    unsigned dimensions; /* 2 for QAM, else 1                             */
+    int intensity;       /* 1 for upam: levels are intensities ≥ 0         */
+} qc_alphabet;
+
+/* "pam:M", "upam:M" (2 ≤ M ≤ QC_ALPHABET_MAX) or "qam:M" (M a perfect
+ * square and a power of 2, 4 ≤ M). The message names the spec and says
+ * what is wrong. */
+QC_API qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out);
+
+/* Explicit levels (finite, distinct, 1 ≤ n ≤ QC_ALPHABET_MAX), kept in
+ * the order given. */
+QC_API qc_status qc_alphabet_from_levels(const double *levels, size_t n,
+                                  qc_alphabet **out);
+
+/* n ≥ 2 equally spaced candidate levels lo, …, hi (lo < hi, both finite):
+ * the support of a free-form input law. */
+QC_API qc_status qc_alphabet_grid(double lo, double hi, size_t n, qc_alphabet **out);
+QC_API void qc_alphabet_free(qc_alphabet *a);
+
+/* Input constraints. NaN in a field means "no such constraint".
+ * For QAM the peak bounds each quadrature (a square region) and the power
+ * is per complex symbol, E|x|² = E[x_I²] + E[x_Q²]. */
+typedef struct qc_constraints {
+    double peak;   /* |x| ≤ peak (> 0); intensity: 0 ≤ x ≤ peak              */
+    double power;  /* E[x²] ≤ power (> 0)                                    */
+    double mean;   /* E[x] ≤ mean (average optical power for intensity)     */
+    int intensity; /* levels are intensities: x ≥ 0 is required as well      */
+} qc_constraints;
+
+/* All fields NaN, intensity 0. */
+QC_API void qc_constraints_none(qc_constraints *c);
+
+/* Apply a peak constraint to an alphabet: a grid loses the candidates
+ * outside [−peak, peak] ([0, peak] for intensity); any other alphabet
+ * with a level outside is QC_EINVAL naming 'peak-limit' and the level; a grid
+ * left with fewer than 2 levels is QC_EINFEASIBLE. NaN peak: no change. */
+QC_API qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity);
+
+/* Check that some input law on `levels` (per real dimension; dimensions
+ * 2 for QAM) meets the constraints: every level within the peak, power ≥
+ * the smallest E[x²] of any level (QAM: 2·min x²), mean ≥ the smallest
+ * level, and a law meeting power and mean together. QC_EINFEASIBLE (or
+ * QC_EINVAL for a malformed constraint) naming the key. */
+QC_API qc_status qc_constraints_check(const qc_constraints *c, const double *levels,
+                               size_t nlevels, unsigned dimensions);
+
+/* Binary-reflected Gray code of i: i XOR (i >> 1) (Gray 1953). */
+QC_API size_t qc_gray_code(size_t i);
+
+/* Labels of n levels: labels[i] = Gray code of the rank of levels[i] in
+ * ascending order, so neighbouring levels differ in one bit. *nbits =
+ * log2 n. QC_EINVAL naming n unless n is a power of 2 (n ≥ 2). */
+QC_API qc_status qc_gray_labels(const double *levels, size_t n, size_t *labels,
+                         unsigned *nbits);
+
+/* n ≥ 2 and a power of 2. */
+QC_API int qc_is_power_of_two(size_t n);
+/* Any constraint set (c may be NULL)? */
+QC_API int qc_constraints_any(const qc_constraints *c);
+/* Values in their domains (peak, power > 0; mean finite; no mean with
+ * QAM); the message names the key. c may be NULL. */
+QC_API qc_status qc_constraints_validate(const qc_constraints *c, unsigned dimensions);
+/* Does the law (NULL: uniform) meet the average constraints? */
+QC_API qc_status qc_constraints_check_law(const qc_constraints *c, const double *levels,
+                                   const double *law, size_t nlevels,
+                                   unsigned dimensions);
+/* Per-level costs of the average constraints (power first, then mean)
+ * into the caller's arrays (nlevels each) and the qc_cost list; returns
+ * how many (0, 1 or 2). QAM: the per-quadrature power budget is half the
+ * symbol's. */
+QC_API size_t qc_constraint_costs(const qc_constraints *c, const double *levels,
+                           size_t nlevels, unsigned dimensions, double *power_cost,
+                           double *mean_cost, qc_cost costs[2]);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_ALPHABET_H */

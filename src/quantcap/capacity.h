@@ -1,0 +1,108 @@
+/* quantcap/capacity.h — the capacity engine: Blahut–Arimoto with
+ * certified bounds, average costs. Part of the public interface of
+ * libquantcap (include <quantcap.h> for all of it). SPDX-License-
+ * Identifier: GPL-3.0-or-later */
+#ifndef QUANTCAP_CAPACITY_H
+#define QUANTCAP_CAPACITY_H
+
+#include <stddef.h>
+
+#include "quantcap/dmc.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum {
+    QC_BA_PLAIN = 0,       /* Blahut 1972 / Arimoto 1972 as published      */
+    QC_BA_ACCELERATED = 1, /* natural-gradient step, adaptive step size    */
+} qc_ba_method;
+
+typedef struct {
+    double tol_bits;       /* stop when upper − lower ≤ tol (default 1e-9) */
+    size_t max_iterations; /* QC_ENOCONV past this (default 1000000)       */
+    qc_ba_method method;   /* default QC_BA_ACCELERATED                    */
+    const double *initial; /* starting input law (length nx), NULL: uniform */
+    const double *costs;   /* per-input cost (length nx), NULL: none        */
+    double budget;         /* average cost allowed, used when costs != NULL */
+} qc_ba_options;
+
+QC_API void qc_ba_options_default(qc_ba_options *opt);
+
+typedef struct {
+    double capacity_bits;    /* certified lower bound: I(r) at the final r */
+    double upper_bound_bits; /* certified upper bound on capacity          */
+    double gap_bits;         /* upper − lower at stop                      */
+    size_t iterations;       /* BA iterations (summed over multiplier search) */
+    int cost_active;         /* 1 if the budget constraint binds           */
+    double cost;             /* average cost Σ r(x)c(x) (0 without costs)  */
+    double multiplier;       /* Lagrange multiplier s, nats per unit cost  */
+} qc_capacity_result;
+
+/* Scratch memory for channels up to nx × ny, reusable across runs. */
+typedef struct qc_ba_workspace qc_ba_workspace;
+QC_API qc_status qc_ba_workspace_alloc(size_t nx, size_t ny, qc_ba_workspace **out);
+QC_API void qc_ba_workspace_free(qc_ba_workspace *ws);
+
+/* Capacity (or capacity–cost) of `dmc`. `ws` may be NULL (allocated
+ * internally). `input_out` (length nx, may be NULL) receives the final
+ * input law. QC_ENOCONV when the iteration limit is hit; the result then
+ * still holds the bounds reached. QC_EINFEASIBLE when the budget is below
+ * the cheapest input's cost.
+ * Details: rows are used renormalized to sum to exactly 1; capacity_bits
+ * is I(X;Y) of the returned law (which meets the budget); the upper
+ * bound is max_x D(P(·|x) ‖ q) − s·(c_x − budget) at some output law q
+ * and s ≥ 0; max_iterations caps the total over the multiplier search;
+ * multiplier is the s that certifies the final upper bound (the slope
+ * of C(budget), 0 when the budget does not bind). */
+QC_API qc_status qc_capacity(const qc_dmc *dmc, const qc_ba_options *opt,
+                      qc_ba_workspace *ws, qc_capacity_result *res,
+                      double *input_out);
+
+/* Capacity under up to two average costs, Σ r(x)c_k(x) ≤ budget_k, by the
+ * engine (qc_capacity) with a single combined cost (1−w)c_1 + w·c_2 and a
+ * bisection on w (docs/alphabets.md). Every combined run certifies
+ * C ≤ max_x[D_x − s_1 c_1(x) − s_2 c_2(x)] + s_1 β_1 + s_2 β_2; the
+ * result holds the smallest such bound and the rate of a law meeting both
+ * budgets. */
+typedef struct {
+    const double *costs; /* per input (length nx)                         */
+    double budget;
+} qc_cost;
+
+typedef struct {
+    double capacity_bits;    /* I(r) of the returned law, which meets every
+                                budget                                    */
+    double upper_bound_bits; /* certified upper bound                       */
+    double gap_bits;
+    size_t iterations;       /* engine iterations, all runs                */
+    size_t engine_runs;
+    double cost[2];          /* Σ r c_k at the returned law                 */
+    double multiplier[2];    /* s_k of the bound above (nats per unit cost) */
+} qc_costs_result;
+
+/* `opt` gives tolerance, method, iteration limit and start (its costs are
+ * ignored; NULL: defaults); ncosts 0, 1 or 2. QC_EINFEASIBLE naming the
+ * cost (1 or 2) when no law meets the budgets; QC_ENOCONV when the gap
+ * stays above the tolerance (the result then holds the bounds reached). */
+QC_API qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt,
+                            const qc_cost *costs, size_t ncosts,
+                            qc_ba_workspace *ws, qc_costs_result *res,
+                            double *input_out);
+
+/* Relative slack allowed when a law's average cost is compared with its
+ * budget (the engine meets budgets up to rounding). */
+#define QC_BUDGET_SLACK 1e-9
+
+/* Is there a law with Σ r a ≤ 0 and Σ r b ≤ 0 over n points? Some point
+ * or some mixture of two meets both (Carathéodory's theorem in the
+ * plane): on success *wi, *wj and *lambda give the law λ·δ_i + (1−λ)·δ_j
+ * (i = j for a single point). */
+QC_API int qc_two_cost_witness(const double *a, const double *b, size_t n, size_t *wi, size_t *wj,
+                        double *lambda);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_CAPACITY_H */

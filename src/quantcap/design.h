@@ -1,0 +1,289 @@
+/* quantcap/design.h — threshold, input-law and level design for a model
+ * and an alphabet. Part of the public interface of libquantcap (include
+ * <quantcap.h> for all of it). SPDX-License-Identifier: GPL-3.0-or-later
+ * */
+#ifndef QUANTCAP_DESIGN_H
+#define QUANTCAP_DESIGN_H
+
+#include <stddef.h>
+
+#include "quantcap/quantizer.h"
+#include "quantcap/capacity.h"
+#include "quantcap/alphabet.h"
+#include "quantcap/info.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum {
+    QC_OBJECTIVE_MI = 0,       /* I(X;Y_q) with the given (or uniform) law  */
+    QC_OBJECTIVE_CAPACITY = 1, /* capacity of the quantized channel         */
+    QC_OBJECTIVE_GMI = 2,      /* BICM GMI with Gray labels, given law      */
+    QC_OBJECTIVE_COUNT
+} qc_objective;
+
+/* What a reported rate was set to when it came out beyond what is
+ * possible by no more than its stated error (docs/methods.md, "Limits
+ * on the reported rates"). */
+typedef enum {
+    QC_LIMIT_NONE = 0,
+    QC_LIMIT_LEVELS,         /* log2 of the number of levels            */
+    QC_LIMIT_INPUT_ENTROPY,  /* entropy of the input law                */
+    QC_LIMIT_CELLS,          /* log2 of the number of quantizer cells   */
+    QC_LIMIT_QUANTIZED_RATE, /* the unquantized rate, raised to the
+                                quantized one (data processing)         */
+    QC_LIMIT_COUNT
+} qc_rate_limit;
+
+/* "log2 levels", "input entropy", "log2 cells", "quantized rate"; NULL
+ * for QC_LIMIT_NONE and values out of range. */
+QC_API const char *qc_rate_limit_name(qc_rate_limit limit);
+
+/* Why the SNR penalty is undefined (NaN). */
+typedef enum {
+    QC_PENALTY_DEFINED = 0,
+    QC_PENALTY_SATURATED,    /* the rate is within tolerance of its ceiling
+                                (log2 levels, input entropy): the
+                                unquantized rate curve is flat there     */
+    QC_PENALTY_NO_LOSS,      /* the rate is within tolerance of the
+                                unquantized rate                         */
+    QC_PENALTY_NO_SNR,       /* the model defines no SNR                 */
+    QC_PENALTY_NOISELESS,    /* the unquantized rate is the noiseless limit */
+    QC_PENALTY_SNR_INFINITE, /* operating SNR beyond the range of doubles */
+    QC_PENALTY_ZERO_RATE,    /* the rate is 0                            */
+    QC_PENALTY_GMI,          /* the penalty is an MI notion              */
+    QC_PENALTY_NO_CROSSING,  /* the unquantized rate does not fall to the
+                                rate within the searched SNR range       */
+    QC_PENALTY_SKIPPED,      /* the request asked not to compute it      */
+    QC_PENALTY_COUNT
+} qc_penalty_note;
+
+/* A phrase saying why (e.g. "rate saturated at its ceiling"); NULL for
+ * QC_PENALTY_DEFINED and values out of range. */
+QC_API const char *qc_penalty_note_text(qc_penalty_note note);
+
+/* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
+ * "lloyd-max", "optimal". NULL for values out of range. */
+
+/* Names used on the command line: "mi", "capacity", "gmi"; NULL for values
+ * out of range. The quantizers' names come with the strategy table
+ * (quantcap/quantizer.h). */
+QC_API const char *qc_objective_name(qc_objective objective);
+
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+QC_API qc_status qc_objective_parse(const char *name, qc_objective *out);
+
+typedef struct {
+    /* The channel. */
+    const qc_model *model;       /* noise model (required)                   */
+    const double *levels;        /* nlevels input levels (required)          */
+    size_t nlevels;
+    /* MI objective: the input law (NULL: uniform). Capacity objective:
+     * the engine's starting law (NULL: uniform). Must sum to 1. */
+    const double *probabilities;
+    /* The quantizer. */
+    size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
+                                    QC_QUANTIZER_FIXED: nthresholds + 1.
+                                    Count outputs use at most one cell per
+                                    count that carries probability (the
+                                    result's cells_used)                    */
+    qc_objective objective;
+    qc_quantizer_kind quantizer;
+    const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
+                                    strictly increasing (integers ≥ 1 for
+                                    count outputs); ignored otherwise      */
+    size_t nthresholds;          /* their number; must equal K − 1         */
+    /* Numerics. */
+    double tol_bits;             /* engine gap and joint-design tolerance;
+                                    0: 1e-9                                 */
+    size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: fine-grid cells N
+                                    for the dynamic programme (N ≥ K); 0:
+                                    automatic (max(16K, 4096), reduced so
+                                    that K·N ≤ 2^22, never below K). Count
+                                    outputs use every count of the support
+                                    when it has at most max(N, 65536)      */
+    /* Capacity objective only: an average-cost constraint for the engine. */
+    const double *costs;         /* per-level cost (NULL: no constraint)    */
+    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
+    int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the
+                                    root search on the unquantized curve)   */
+    /* Alphabet and input design (src/alphabet, docs/alphabets.md); all
+     * zero = off. */
+    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
+                                    levels used on each quadrature with the
+                                    same thresholds; rates per complex
+                                    symbol (`costs`/`budget` then apply to
+                                    one quadrature, `constraints` to the
+                                    symbol)                                 */
+    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
+                                    none (not together with costs)          */
+    int optimize_levels;         /* 1: move the levels to maximize the
+                                    objective (Nelder–Mead, several starts,
+                                    thresholds re-designed at each step)   */
+    size_t level_starts;         /* starts of that search; 0: 3             */
+    size_t blocklength;          /* n > 0: normal approximation at n        */
+    double error_rate;           /* block error probability ε in (0, 1),
+                                    required with blocklength               */
+    /* Progress of a long design (NULL: none): called now and then from
+     * the calling thread with the work units done out of an estimated
+     * total (0 < done ≤ total; done jumps ahead when a stage stops early,
+     * and reaches total when the design is complete). The library never
+     * prints: showing it is the caller's business. Used by the capacity
+     * objective (the alternations of law and thresholds) and by the level
+     * search (its designs); other designs are quick and report nothing. */
+    void (*progress)(void *user, size_t done, size_t total);
+    void *progress_user;
+    /* Units of the levels and of the receiver output for reports (NULL:
+     * the model type's level_unit / output_unit), e.g. "A" when the
+     * levels are photocurrents from the physical front end. */
+    const char *level_unit;
+    const char *output_unit;
+} qc_design_request;
+
+/* Fill a request with defaults: no channel, MI objective, the optimal
+ * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid. */
+QC_API void qc_design_request_default(qc_design_request *req);
+
+typedef struct {
+    qc_objective objective;      /* echo of the request                      */
+    qc_quantizer_kind quantizer;
+    size_t cells;                /* K                                        */
+    size_t cells_used;           /* cells the quantizer has: K, or fewer for
+                                    count outputs whose counts that carry
+                                    probability are fewer than K (each then
+                                    has its own cell; nthresholds =
+                                    cells_used − 1)                         */
+    double rate_bits;            /* the objective's value (capacity: the
+                                    engine's certified lower bound)        */
+    double upper_bound_bits;     /* certified upper bound on the objective
+                                    for these thresholds (MI: = rate, exact
+                                    up to rounding)                        */
+    double unquantized_bits;     /* same levels and input law (capacity: the
+                                    quantized channel's optimal law), no
+                                    quantizer                              */
+    double unquantized_err_bits; /* quadrature error estimate of the above   */
+    double loss_bits;            /* unquantized − rate, ≥ 0                  */
+    qc_rate_limit rate_limited_by;        /* NONE, or the ceiling (levels,
+                                    input entropy, cells) the rate exceeded
+                                    within its error and was set to        */
+    qc_rate_limit unquantized_limited_by; /* NONE, or the ceiling (levels,
+                                    input entropy) or the quantized rate
+                                    the unquantized rate was set to        */
+    int noiseless_limit;         /* 1: the unquantized rate is the noiseless
+                                    limit (some level's output narrower
+                                    than the resolution of doubles)        */
+    qc_penalty_note snr_penalty_note; /* why snr_penalty_db is NaN       */
+    double tol_bits;             /* tolerance the rate is certified to       */
+    size_t iterations;           /* engine iterations (capacity objective)   */
+    size_t design_iterations;    /* uniform: objective evaluations; Lloyd–
+                                    Max: Lloyd iterations; optimal: gradient
+                                    refinement iterations; capacity joint
+                                    design: alternations (all starts)      */
+    size_t fine_cells;           /* optimal: fine-grid cells used; 0 else    */
+    double snr_db;               /* operating SNR by the model's notion;
+                                    NaN: the model defines none             */
+    double snr_penalty_db;       /* snr_db minus the SNR at which the
+                                    unquantized receiver (same levels and
+                                    law) reaches rate_bits; NaN: undefined
+                                    (snr_penalty_note says why)            */
+    double mse;                  /* Lloyd–Max: mean-square error of Y about
+                                    its reconstruction points; NaN else    */
+    double *reconstruction;      /* owned: Lloyd–Max reconstruction points
+                                    (K conditional means); NULL else       */
+    size_t nthresholds;          /* K − 1                                    */
+    double *thresholds;          /* owned                                    */
+    size_t nlevels;
+    double *levels;              /* owned copy                               */
+    double *input;               /* owned: the input law used (nlevels)      */
+    qc_dmc *channel;             /* owned: the final transition matrix       */
+    /* Alphabet and input design (src/alphabet). With dimensions = 2
+     * (QAM) every rate, bound and dispersion here is per complex symbol,
+     * while levels, input, thresholds and channel are those of one
+     * quadrature. */
+    unsigned dimensions;         /* 1 or 2                                   */
+    double mi_bits;              /* I(X;Y_q) of the reported law             */
+    double gmi_bits;             /* BICM GMI, Gray labels; NaN unless the
+                                    number of levels is a power of 2       */
+    unsigned label_bits;         /* bits per real dimension (0: no labels)   */
+    double dispersion_bits2;     /* V: variance of the information density   */
+    size_t blocklength;          /* echo; 0: no normal approximation         */
+    double error_rate;
+    double rate_at_blocklength_bits; /* rate − √(V/n)Q⁻¹(ε) + log2(n)/(2n);
+                                    NaN without blocklength                 */
+    double shaping_gap_db;       /* SNR distance from ½·log2(1 + snr) at
+                                    the same rate per dimension (model
+                                    gauss); NaN otherwise                   */
+    double average_power;        /* E[x²] of the law (QAM: E|x|²)            */
+    double average_level;        /* E[x] of the law                          */
+    int levels_optimized;        /* 1: levels are the search's result       */
+    size_t level_evaluations;    /* objective evaluations of that search     */
+} qc_design_result;
+
+/* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
+ * (cells outside 2..2^16, fine grid smaller than K, unsorted, repeated or
+ * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
+ * naming the field. On failure the result is left empty (safe to clear). */
+QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
+
+/* Release what a result owns and zero it; safe on a zeroed result. */
+QC_API void qc_design_result_clear(qc_design_result *res);
+
+/* All strategies on the same channel (`design --compare`): uniform,
+ * Lloyd–Max, optimal, and fixed when the request has thresholds. */
+#define QC_COMPARE_MAX 4
+typedef struct {
+    size_t count;                         /* strategies run                  */
+    qc_quantizer_kind kind[QC_COMPARE_MAX];
+    qc_status status[QC_COMPARE_MAX];     /* per strategy                    */
+    char message[QC_COMPARE_MAX][256];    /* its failure message, or ""      */
+    qc_design_result result[QC_COMPARE_MAX]; /* empty where status != QC_OK */
+} qc_design_comparison;
+
+/* The units a report gives the levels and the thresholds of a request:
+ * the request's own, else its model type's, else "" (never NULL). */
+QC_API const char *qc_design_level_unit(const qc_design_request *req);
+QC_API const char *qc_design_output_unit(const qc_design_request *req);
+
+/* What the reported snr_db of a request means, in words (the model
+ * type's snr_definition; for QAM on model gauss, Es/N0), or NULL when the
+ * model defines no SNR. */
+QC_API const char *qc_design_snr_definition(const qc_design_request *req);
+
+/* Run every strategy with the request's objective, channel and cells
+ * (req->quantizer is ignored). An invalid request fails at once with
+ * nothing filled; otherwise every entry is filled and the return value is
+ * QC_OK, or the first failing strategy's status. Clear with
+ * qc_design_comparison_clear (safe on a zeroed comparison). */
+QC_API qc_status qc_design_compare(const qc_design_request *req,
+                            qc_design_comparison *cmp);
+QC_API void qc_design_comparison_clear(qc_design_comparison *cmp);
+
+/* ---- SNR of a model ------------------------------------------------- */
+
+/* Operating SNR in dB by the model's notion (qc_model_type.snr); NaN
+ * when the model defines none or the SNR is not positive. */
+QC_API double qc_model_snr_db(const qc_model *model, const double *levels,
+                       const double *input, size_t nlevels);
+
+/* A new model of the same type whose SNR is `gain` times this one's
+ * (qc_model_type.scale_snr). QC_EINVAL if the type has no SNR notion or
+ * gain is not a positive finite number. */
+QC_API qc_status qc_model_scale_snr(const qc_model *model, double gain,
+                             qc_model **out);
+
+/* SNR penalty of a rate: snr_db minus the SNR (dB) at which the
+ * unquantized receiver with the same levels and law reaches rate_bits
+ * (Brent root finding on the unquantized curve, scaling the noise with
+ * scale_snr). 0 when rate_bits is within the quadrature error of the
+ * unquantized rate; *penalty_db is NaN (status QC_OK) when the model
+ * defines no SNR or rate_bits ≤ 0. */
+QC_API qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
+                            const double *input, size_t nlevels,
+                            double rate_bits, double *penalty_db);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_DESIGN_H */

@@ -1,0 +1,194 @@
+/* quantcap/model.h — noise models: the law of the receiver output given
+ * each transmitted level, as constant type tables. Part of the public
+ * interface of libquantcap (include <quantcap.h> for all of it). SPDX-
+ * License-Identifier: GPL-3.0-or-later */
+#ifndef QUANTCAP_MODEL_H
+#define QUANTCAP_MODEL_H
+
+#include <stddef.h>
+
+#include "quantcap/status.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum {
+    QC_OUTPUT_REAL = 0,  /* continuous output (a voltage, a current)     */
+    QC_OUTPUT_COUNTS = 1 /* non-negative integer output (photon counts)  */
+} qc_output_kind;
+
+/* One named parameter of a model. A NaN default means "required". */
+typedef struct {
+    const char *name;    /* CLI flag is --name                          */
+    const char *unit;    /* "" when dimensionless                       */
+    const char *help;
+    double default_value;
+    double min;          /* smallest allowed value                      */
+    double max;          /* largest allowed value                       */
+    int min_exclusive;   /* 1: value must be > min                      */
+    int max_exclusive;   /* 1: value must be < max                      */
+} qc_param_spec;
+
+#define QC_MODEL_MAX_PARAMS 8
+
+typedef struct qc_model qc_model;
+
+/* A noise model: the conditional law of the receiver output given the
+ * transmitted level x. Cells are half-open: a threshold t separates
+ * {y < t} from {y ≥ t}; for counts, thresholds are integers. */
+/* Properties a model type declares, so that no other code compares
+ * against a particular model (qc_model_type.properties, OR-ed). */
+enum {
+    /* levels are optical intensities: x ≥ 0 (constraints, peak, plots) */
+    QC_MODEL_INTENSITY = 1u << 0,
+    /* the output is the level plus Gaussian noise independent of it, so the
+     * Shannon curve ½·log2(1 + snr) is the unquantized reference */
+    QC_MODEL_ADDITIVE_GAUSSIAN = 1u << 1,
+    /* the model is read from a file of measured densities (its levels come
+     * from the file; qc_model_table_load) instead of qc_model_alloc */
+    QC_MODEL_FROM_FILE = 1u << 2,
+};
+
+/* The physical receiver whose quantities a model's parameters can be
+ * derived from (qc_settings_build's physical route; src/models/frontend.c). */
+typedef enum {
+    QC_FRONTEND_NONE = 0, /* parameters are given directly                 */
+    QC_FRONTEND_GAUSS,    /* PIN/APD current, noise at the mean power      */
+    QC_FRONTEND_GAUSS_SD, /* PIN/APD current, signal-dependent noise       */
+    QC_FRONTEND_APD,      /* APD electrons per slot (integrate and dump)   */
+    QC_FRONTEND_PHOTONS,  /* photons counted per slot                      */
+} qc_frontend_kind;
+
+/* Settings keys the physical front ends take (for the `keys` lists of the
+ * model types below). */
+#define QC_KEYS_OPTICAL_POWER "received-dbm", "peak-dbm", "extinction-db"
+#define QC_KEYS_PHOTODETECTOR                                                              \
+    "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
+        "apd-gain", "apd-k"
+
+typedef struct qc_model_type {
+    const char *name;
+    const char *summary;        /* one line for `quantcap models`        */
+    qc_output_kind output;
+    unsigned properties;        /* QC_MODEL_* flags                      */
+    size_t nparams;
+    const qc_param_spec *params;
+    /* Extra checks beyond each parameter's range (may be NULL). */
+    qc_status (*check)(const double *params);
+    /* Per-instance state (may be NULL: stateless). */
+    qc_status (*init)(const double *params, void **state);
+    void (*destroy)(void *state);
+    /* P(Y < t | x) and P(Y ≥ t | x); both accurate deep in their tails. */
+    double (*below)(const qc_model *m, double x, double t);
+    double (*above)(const qc_model *m, double x, double t);
+    /* Density of Y at y given x (probability mass for counts). */
+    double (*density)(const qc_model *m, double x, double y);
+    /* An output interval holding all but ~1e-15 of the mass given x. */
+    void (*support)(const qc_model *m, double x, double *lo, double *hi);
+    /* Check that x is a valid input level (e.g. x ≥ 0 for intensity). */
+    qc_status (*check_level)(const qc_model *m, double x);
+    /* Mean and variance of Y given x (may be NULL: unknown). */
+    qc_status (*moments)(const qc_model *m, double x, double *mean,
+                         double *var);
+    /* Optional SNR notion, used for SNR penalties of quantizers (leave
+     * both NULL when the model has none; the penalty is then NaN).
+     * snr: linear signal-to-noise ratio of `levels` sent with law `input`
+     *   (gauss: E[x²]/σ²).
+     * scale_snr: write into params_out (type->nparams values) the
+     *   parameters of the same model type whose snr is `gain` (> 0) times
+     *   this model's for the same levels and law, the levels unchanged
+     *   (gauss: σ/√gain). Fails with a message naming the parameter when
+     *   the scaled value leaves its range. */
+    double (*snr)(const qc_model *m, const double *levels,
+                  const double *input, size_t nlevels);
+    qc_status (*scale_snr)(const qc_model *m, double gain, double *params_out);
+    /* Settings keys beyond the parameters that apply to this model (its
+     * front end, its SNR route, its data file), NULL-terminated; NULL:
+     * none. A key that some other model lists and this one does not is
+     * refused with this model (qc_settings_build). */
+    const char *const *keys;
+    /* The physical front end that derives the parameters (NONE: none). */
+    qc_frontend_kind frontend;
+    /* Words naming what snr computes, for reports (NULL with no snr). */
+    const char *snr_definition;
+    /* Units for text output: of the input levels and of the receiver
+     * output (thresholds, reconstruction points). "level units" means the
+     * unit the caller chose for the levels. NULL is read as "". */
+    const char *level_unit;
+    const char *output_unit;
+} qc_model_type;
+
+/* A model instance. Models with a state (apd caches per-level grids,
+ * table holds its data) are used by one thread at a time: a sweep
+ * creates one instance per thread. */
+struct qc_model {
+    const qc_model_type *type;
+    double params[QC_MODEL_MAX_PARAMS];
+    void *state;
+};
+
+QC_API extern const qc_model_type qc_model_gauss;
+
+/* Signal-dependent Gaussian: sigma^2(x) = sigma0^2 + a x + b x^2. */
+QC_API extern const qc_model_type qc_model_gauss_sd;
+
+/* Photon counting: Y ~ Poisson(signal·x + background). */
+QC_API extern const qc_model_type qc_model_poisson;
+
+/* APD: Poisson primaries × McIntyre gain + Gaussian thermal noise,
+ * exact law computed by FFT convolution. */
+QC_API extern const qc_model_type qc_model_apd;
+
+/* The Gaussian approximation of `apd` (same parameters). */
+QC_API extern const qc_model_type qc_model_apd_gauss;
+
+/* Optically pre-amplified direct detection: Y = ncx2(2m, 2x)/2. */
+QC_API extern const qc_model_type qc_model_preamp;
+
+/* Measured densities per level from a file (qc_model_table_load). */
+QC_API extern const qc_model_type qc_model_table;
+
+/* All registered model types, NULL-terminated. */
+const qc_model_type *const *qc_model_types(void);
+
+/* Look up a type by name; NULL if unknown. */
+QC_API const qc_model_type *qc_model_type_find(const char *name);
+
+/* Index of a parameter by name, or -1. */
+QC_API int qc_model_param_index(const qc_model_type *type, const char *name);
+
+/* Create a model instance. `params` holds type->nparams values in the
+ * order of type->params (NaN = use the default). Every value is checked
+ * against its range; the message names the parameter. */
+QC_API qc_status qc_model_alloc(const qc_model_type *type, const double *params,
+                         qc_model **out);
+QC_API void qc_model_free(qc_model *model);
+
+/* Check levels against the model (finite, allowed by check_level). */
+QC_API qc_status qc_model_check_levels(const qc_model *model, const double *levels,
+                                size_t nlevels);
+
+/* Mean and variance of the output given level x. QC_EINVAL when the
+ * level is invalid or the model type has no moments hook. */
+QC_API qc_status qc_model_moments(const qc_model *model, double x, double *mean,
+                           double *var);
+
+/* Create a `table` model from a text file of densities (format in
+ * docs/formats.md). Errors name the file and line (QC_EFORMAT), or the
+ * path (QC_EIO). */
+QC_API qc_status qc_model_table_load(const char *path, qc_model **out);
+
+/* The same from text in memory; `name` is used in messages. */
+QC_API qc_status qc_model_table_parse(const char *text, size_t len, const char *name,
+                               qc_model **out);
+
+/* Levels of a table model (borrowed; valid while the model lives). */
+QC_API qc_status qc_model_table_levels(const qc_model *model, const double **levels,
+                                size_t *nlevels);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_MODEL_H */

@@ -1,0 +1,216 @@
+/* quantcap/quantizer.h — the discretizer (model + levels + thresholds ->
+ * transition matrix), the unquantized reference and the quantizer
+ * building blocks. Part of the public interface of libquantcap (include
+ * <quantcap.h> for all of it). SPDX-License-Identifier: GPL-3.0-or-later
+ * */
+#ifndef QUANTCAP_QUANTIZER_H
+#define QUANTCAP_QUANTIZER_H
+
+#include <stddef.h>
+
+#include "quantcap/model.h"
+#include "quantcap/dmc.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* Check thresholds: finite, strictly increasing (and integers for
+ * count outputs). The message names the offending threshold (1-based). */
+QC_API qc_status qc_thresholds_check(const qc_model *model, const double *thresholds,
+                              size_t nthresholds);
+
+/* Transition matrix of levels → (nthresholds + 1) cells. Each cell
+ * probability is a difference taken on the tail side where it does not
+ * cancel, so cells far in a tail stay accurate; entries are never
+ * negative or NaN, and each row is renormalized only if it is within
+ * QC_DMC_ROW_TOL of 1 (otherwise QC_ENUMERIC). */
+QC_API qc_status qc_discretize(const qc_model *model, const double *levels,
+                        size_t nlevels, const double *thresholds,
+                        size_t nthresholds, qc_dmc **out);
+
+/* The same into a preallocated matrix, for callers that rate many
+ * threshold vectors on one channel: cell probabilities of `levels` for n
+ * sorted thresholds into `d` (nlevels × (n + 1)); lo and hi are scratch of
+ * length n. The thresholds and levels are not checked again (the caller
+ * has passed them through qc_thresholds_check and qc_model_check_levels);
+ * otherwise the same accuracy and failures as qc_discretize. */
+QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
+                                    size_t nlevels, const double *t, size_t n,
+                                    double *lo, double *hi, qc_dmc *d);
+
+/* Mutual information with the unquantized output (continuous density or
+ * ideal count resolution) for the given levels and input law, in nats.
+ * Adaptive quadrature (GSL QAGS/QAGI) per level; the absolute error
+ * estimate is returned in *abserr_nats (may be NULL). */
+QC_API qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
+                            const double *input, size_t nlevels,
+                            double *mi_nats, double *abserr_nats);
+
+/* The same, and *noiseless (may be NULL) = 1 when some level's output is
+ * narrower than the resolution of doubles and was taken in the noiseless
+ * limit: a point mass, distinguishable from every other level. Levels
+ * whose output support meets no other level's contribute −log p exactly
+ * (no quadrature). */
+QC_API qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
+                                   const double *input, size_t nlevels,
+                                   double *mi_nats, double *abserr_nats,
+                                   int *noiseless);
+
+/* The same with the unquantized output (adaptive quadrature, GSL QAGS, or
+ * a sum over counts), as qc_unquantized_mi. */
+QC_API qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels,
+                             const size_t *labels, unsigned nbits,
+                             double *gmi_nats, double *abserr_nats);
+
+typedef enum {
+    QC_QUANTIZER_UNIFORM = 0, /* uniform cells, full-scale range optimized  */
+    QC_QUANTIZER_FIXED,       /* thresholds given by the caller, evaluated  */
+    QC_QUANTIZER_LLOYD_MAX,   /* minimum mean-square error (Lloyd, Max)     */
+    QC_QUANTIZER_OPTIMAL,     /* MI-optimal: DP on a fine grid + refinement */
+    QC_QUANTIZER_COUNT
+} qc_quantizer_kind;
+
+#define QC_MAX_BITS 16
+
+/* ---- threshold strategies: one constant table ------------------------- */
+
+/* Per-channel workspace of the strategies: built once for a model, its
+ * levels and a number of thresholds, reused for every input law designed
+ * for (the optimal strategy's fine grid, the uniform search's rate
+ * workspace). One plan per thread. */
+typedef struct qc_strategy_plan qc_strategy_plan;
+
+/* What one design reports besides the thresholds. */
+typedef struct {
+    size_t iterations;      /* uniform: rate evaluations; Lloyd–Max: Lloyd
+                               iterations; optimal: refinement iterations */
+    double mse;             /* Lloyd–Max: mean-square error; NaN else       */
+    double *reconstruction; /* Lloyd–Max: if not NULL, receives the K
+                               reconstruction points                       */
+} qc_strategy_stats;
+
+typedef struct qc_threshold_strategy {
+    const char *name;    /* "uniform", "fixed", "lloyd-max", "optimal"      */
+    const char *summary; /* one line                                         */
+    qc_quantizer_kind kind;
+    int given;           /* 1: the thresholds are given, not designed       */
+    int raises_mi;       /* 1: the design for a law r maximizes I(r, t) over
+                            its family, so alternating it with the law's
+                            capacity never lowers the rate                  */
+    /* Thresholds (nthresholds of them, into t) for the law `input`; with
+     * warm set, t holds a starting point the strategy may use. */
+    qc_status (*design)(qc_strategy_plan *plan, const double *input, int warm, double *t,
+                        qc_strategy_stats *stats);
+} qc_threshold_strategy;
+
+QC_API extern const qc_threshold_strategy qc_strategy_uniform;
+QC_API extern const qc_threshold_strategy qc_strategy_fixed;
+QC_API extern const qc_threshold_strategy qc_strategy_lloyd_max;
+QC_API extern const qc_threshold_strategy qc_strategy_optimal;
+
+/* The strategy of a quantizer kind; NULL for values out of range. */
+QC_API const qc_threshold_strategy *qc_strategy_of(qc_quantizer_kind kind);
+/* Names used on the command line ("uniform", "fixed", "lloyd-max",
+ * "optimal"); NULL for values out of range. */
+QC_API const char *qc_quantizer_name(qc_quantizer_kind kind);
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+QC_API qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
+
+/* A plan for `nthresholds` thresholds on `levels` (borrowed: they, the
+ * model and `given` must outlive the plan). given: the fixed strategy's
+ * thresholds (NULL for the others). fine_cells: the optimal strategy's
+ * fine grid (0: automatic, as qc_design_request.fine_cells). grid_law:
+ * the law the fine grid is built for (copied; NULL: the law of the first
+ * design). QC_EINVAL when the model or levels are missing or nthresholds
+ * is 0; QC_ENOMEM. On failure *out is NULL. */
+QC_API qc_status qc_strategy_plan_alloc(const qc_model *model, const double *levels,
+                                        size_t nlevels, size_t nthresholds,
+                                        const double *given, size_t fine_cells,
+                                        const double *grid_law, qc_strategy_plan **out);
+QC_API void qc_strategy_plan_free(qc_strategy_plan *plan);
+/* Let the uniform strategy centre its full-scale range among ranges whose
+ * rate is within eps_nats of the best (qc_uniform_tidy; 0: off, the
+ * default). */
+QC_API void qc_strategy_plan_tidy(qc_strategy_plan *plan, double eps_nats);
+/* Fine-grid cells the optimal strategy used (0 before its first design or
+ * for the other strategies). */
+QC_API size_t qc_strategy_plan_fine_cells(const qc_strategy_plan *plan);
+/* Run strategy s on the plan for the law `input` (stats may be NULL). The
+ * thresholds come out strictly increasing. Fails as the strategy does
+ * (QC_EINVAL naming what is missing, QC_ENUMERIC, QC_ENOMEM); t is then
+ * unspecified. */
+QC_API qc_status qc_strategy_design(const qc_threshold_strategy *s, qc_strategy_plan *plan,
+                                    const double *input, int warm, double *t,
+                                    qc_strategy_stats *stats);
+
+/* cells = 2^bits for 1 ≤ bits ≤ QC_MAX_BITS, else QC_EINVAL. */
+QC_API qc_status qc_cells_from_bits(int bits, size_t *cells);
+
+/* ---- building blocks of the designs -------------------------------- */
+
+/* How qc_dp_quantize searches. */
+typedef enum {
+    QC_DP_FAST = 0,  /* SMAWK per layer: O(K·N·nx) cell evaluations        */
+    QC_DP_PLAIN = 1, /* every split point: O(K·N²·nx)                       */
+} qc_dp_method;
+
+/* Merge the ny outputs of `fine`, in their given order, into `cells`
+ * contiguous groups maximizing I(X;Y_q) under `input` (dynamic
+ * programming: Kurkoski & Yagi, IEEE Trans. IT 60(8), 2014; He, Cai, Song,
+ * Mei, IEEE Trans. IT 2021). cuts_out receives cells + 1 indices
+ * 0 = c_0 < c_1 < … < c_K = ny; group k holds outputs c_k … c_{k+1} − 1.
+ * QC_DP_PLAIN is exact for every channel; QC_DP_FAST is exact when the
+ * cell function meets the quadrangle inequality (e.g. binary input with
+ * outputs sorted by likelihood ratio, and the ordered outputs of
+ * monotone-likelihood-ratio models such as Gaussian or Poisson noise).
+ * For binary input sorted by likelihood ratio the result is optimal among
+ * all quantizers. mi_nats (may be NULL) receives the merged MI.
+ * QC_EINVAL when cells < 1 or cells > ny, or the law is not a law. */
+QC_API qc_status qc_dp_quantize(const qc_dmc *fine, const double *input,
+                         size_t cells, qc_dp_method method, size_t *cuts_out,
+                         double *mi_nats);
+
+/* ---- equally good thresholds: one reproducible placement (tidy.c) ---- */
+
+/* What the placement below may cost: half the design's tolerance, at
+ * most 1e-13 bit (so that the MI-optimal design stays at least as good
+ * as the other strategies to rounding). */
+#define QC_TIDY_SHARE 0.5
+#define QC_TIDY_MAX_BITS 1e-13
+#define QC_TIDY_NATS(tol_bits) (fmin(QC_TIDY_SHARE * (tol_bits), QC_TIDY_MAX_BITS) / QC_LOG2E)
+
+/* Among thresholds equally good within eps_nats (t: nt sorted thresholds
+ * of a design for law `input`), the reproducible placement of
+ * docs/methods.md §4: redundant thresholds removed and re-inserted where
+ * they split the most probable cells at their medians, flat essential
+ * thresholds centred in their flat interval. The rate of the result is at
+ * least the rate of t minus eps_nats, else t is left unchanged (as it is
+ * for nt > 4095). */
+QC_API qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, size_t nt,
+                             double eps_nats, double *t);
+
+/* The number within tol of x on the coarsest power-of-two grid (0 when
+ * |x| ≤ tol): a reproducible representative of an interval's middle. */
+QC_API double qc_simplest_within(double x, double tol);
+
+/* Thresholds within 64 ulps of the output's scale from 0 or from a
+ * level's mean are set to it exactly (continuous outputs; the order is
+ * kept). */
+QC_API void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
+                        size_t nt, double *t);
+
+/* Cells a quantizer for count outputs can use: hi − lo + 1 for the union
+ * [lo, hi] of the levels' supports (every count that carries probability
+ * in its own cell), at most `cells`. Continuous outputs: `cells`. */
+QC_API size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
+                       size_t cells);
+
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_QUANTIZER_H */

@@ -1,0 +1,168 @@
+/* quantcap/study.h — the application layer: settings vocabulary, JSON
+ * reports, scenario files, sweeps and plots. Part of the public interface
+ * of libquantcap (include <quantcap.h> for all of it). SPDX-License-
+ * Identifier: GPL-3.0-or-later */
+#ifndef QUANTCAP_STUDY_H
+#define QUANTCAP_STUDY_H
+
+#include <stddef.h>
+
+#include "quantcap/frontend.h"
+#include "quantcap/design.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* The same keys serve `quantcap design` (as --KEY VALUE flags) and
+ * scenario files (as KEY = VALUE lines). Model parameters (sigma, ...) are
+ * keys too. A qc_settings holds the text of each key given. */
+typedef struct {
+    const char *key;
+    const char *metavar; /* NULL: a switch taking "true"/"false"          */
+    const char *help;
+} qc_setting_info;
+
+/* The design keys, excluding model parameters; *n receives the count. */
+QC_API const qc_setting_info *qc_setting_keys(size_t *n);
+
+/* Is `key` a design key or a parameter of some model? */
+QC_API int qc_setting_known(const char *key);
+
+/* The known key closest to an unknown one (for "did you mean"), or NULL. */
+QC_API const char *qc_setting_suggest(const char *key);
+
+/* The current name of a key that was renamed (e.g. "power" ->
+ * "power-limit"), or NULL when `old` is not an old name. */
+QC_API const char *qc_setting_renamed(const char *old);
+
+typedef struct qc_settings qc_settings;
+QC_API qc_status qc_settings_alloc(qc_settings **out);
+QC_API void qc_settings_free(qc_settings *s);
+QC_API qc_status qc_settings_copy(const qc_settings *s, qc_settings **out);
+
+/* Set (or replace) one key. The value is checked now: on failure the
+ * message says what is wrong with the value ("'0' is not a whole number
+ * from 1 to 16"; the caller names the key: the flag, or file:line) and the
+ * settings are unchanged. An unknown key is QC_EINVAL. */
+QC_API qc_status qc_settings_set(qc_settings *s, const char *key, const char *value);
+
+/* The text given for `key`, or NULL. */
+QC_API const char *qc_settings_get(const qc_settings *s, const char *key);
+
+/* Turn settings into a model instance and a design request. The request
+ * points into memory owned by `s` (valid until s is changed or freed);
+ * the model is the caller's to free. Cross-key rules (sigma or snr-db,
+ * bits or cells, ...) are checked here, naming the keys. */
+QC_API qc_status qc_settings_build(qc_settings *s, qc_model **model,
+                            qc_design_request *req);
+
+/* The JSON object describing one design (model, parameters, request and
+ * every result field), as `quantcap design --json` prints it and as a
+ * sweep stores each point. *text is malloc'd (free it); numbers carry 17
+ * significant digits; non-finite numbers are written as null. */
+QC_API qc_status qc_design_report_json(const qc_design_request *req,
+                                const qc_design_result *res, char **text);
+
+/* A scenario: the receiver, the alphabets to compare, the sweep axes and
+ * the plots, read from an INI file. Every design key (qc_setting_keys()
+ * and the model parameters) is a scenario key with the same meaning. */
+typedef struct qc_scenario qc_scenario;
+
+#define QC_SCENARIO_MAX_POINTS 1000000 /* largest grid accepted          */
+#define QC_SCENARIO_MAX_BYTES (1 << 20) /* largest scenario file         */
+
+/* Parse a scenario held in memory (len bytes, need not end in NUL).
+ * `name` is used in messages ("name:LINE: ..."). Unknown sections or
+ * keys (with the closest valid name), bad values and missing keys are
+ * QC_EINVAL or QC_EFORMAT with the line named. */
+QC_API qc_status qc_scenario_parse(const char *text, size_t len, const char *name,
+                            qc_scenario **out);
+
+/* Read and parse a file; an unreadable path is QC_EIO. */
+QC_API qc_status qc_scenario_read(const char *path, qc_scenario **out);
+QC_API void qc_scenario_free(qc_scenario *sc);
+
+/* Override one key as from the command line: "KEY=VALUE" sets a design
+ * key everywhere (the sweep axis of that name takes the value's values;
+ * otherwise the base setting, which then also wins over the alphabets);
+ * "SECTION.KEY=VALUE" sets a key of one section ("plots.format=png",
+ * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1 to 4 step 1"). On failure the
+ * scenario is unchanged. */
+QC_API qc_status qc_scenario_override(qc_scenario *sc, const char *assignment);
+
+/* Check that every grid point builds a model and a design request; the
+ * message names the point (alphabet and axis values). */
+QC_API qc_status qc_scenario_check(const qc_scenario *sc);
+
+/* The grid: alphabets × axis 1 × axis 2 × ... (the last axis varies
+ * fastest). */
+QC_API size_t qc_scenario_npoints(const qc_scenario *sc);
+QC_API size_t qc_scenario_nalphabets(const qc_scenario *sc);
+QC_API const char *qc_scenario_alphabet(const qc_scenario *sc, size_t i);
+QC_API size_t qc_scenario_naxes(const qc_scenario *sc);
+QC_API const char *qc_scenario_axis_key(const qc_scenario *sc, size_t i);
+QC_API size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
+QC_API const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
+
+/* The settings of the grid point of index `index`, from 0 (messages and
+ * result files number it index + 1); a new object: free it. */
+QC_API qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
+                                     qc_settings **out);
+
+/* 16 hex digits identifying what the points compute (alphabets, base
+ * settings, axes); plots and titles do not enter it. */
+QC_API const char *qc_scenario_hash(const qc_scenario *sc);
+
+typedef struct {
+    const char *out_dir; /* created if missing                              */
+    unsigned jobs;       /* parallel threads; 0: one per core               */
+    int resume;          /* continue the checkpoint in out_dir              */
+    int plots;           /* draw the scenario's plots (default 1)           */
+    /* Called after each finished point, from one thread at a time (may be
+     * NULL): points done so far (resumed ones included) and in all. */
+    void (*progress)(void *user, size_t done, size_t total);
+    void *user;
+} qc_sweep_options;
+
+QC_API void qc_sweep_options_default(qc_sweep_options *opt);
+
+typedef struct {
+    size_t points;    /* grid size                                        */
+    size_t resumed;   /* finished points taken from the checkpoint        */
+    size_t computed;  /* points computed in this run                      */
+    size_t failed;    /* points whose design failed (recorded, not fatal) */
+    char first_failure[1024]; /* "point 12 (...): message", or ""         */
+    int plots_skipped; /* plots asked for but PLplot is not built in       */
+    size_t nfiles;
+    char **files;      /* paths of the files written (owned)               */
+    size_t nnotes;
+    char **notes;      /* figures left out, and why (owned)                */
+    size_t nremoved;
+    char **removed;    /* stale files of an earlier run removed (owned)    */
+} qc_sweep_summary;
+
+/* Run every point of the grid (qc_scenario_check first: an input error in
+ * the scenario is returned before any work), each exactly as `quantcap
+ * design` would with the point's settings, in parallel. Finished points
+ * go to out_dir/checkpoint.jsonl as they complete; then results.csv,
+ * results.json and the plots are written under temporary names and
+ * renamed, and out_dir/manifest.txt lists them: files an earlier sweep
+ * listed there that this one does not write again are removed. A point whose design fails (infeasible, no convergence,
+ * numerical) is recorded with its message; a design that rejects its
+ * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
+ * invalid) stops the sweep with that status, naming the point, and no
+ * table is written (finished points stay in the checkpoint). QC_EIO names
+ * the file on write failures. */
+QC_API qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
+                       qc_sweep_summary *summary);
+QC_API void qc_sweep_summary_clear(qc_sweep_summary *summary);
+
+/* 1 if this build draws plots (PLplot found at build time). */
+QC_API int qc_plots_available(void);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* QUANTCAP_STUDY_H */

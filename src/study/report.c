@@ -1,0 +1,186 @@
+/* report.c — the JSON description of one design: the same object for
+ * `quantcap design --json` and for each point of a sweep, so that the two
+ * can be compared field by field. */
+#include "study/report.h"
+
+#include "core/internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+/* qc_objective_name and qc_quantizer_name live with the design
+ * (src/quantizer/design.c). */
+
+json_t *qc_report_real(double v) { return isfinite(v) ? json_real(v) : json_null(); }
+
+json_t *qc_report_array(const double *v, size_t n)
+{
+    json_t *a = json_array();
+    for (size_t i = 0; a && i < n; i++)
+        json_array_append_new(a, qc_report_real(v[i]));
+    return a;
+}
+
+static unsigned bits_of(size_t cells)
+{
+    unsigned b = 0;
+    while (((size_t)1 << b) < cells && b < 63)
+        b++;
+    return ((size_t)1 << b) == cells ? b : 0;
+}
+
+static json_t *name_or_null(const char *name)
+{
+    return name ? json_string(name) : json_null();
+}
+
+/* ---- alphabet and input design ------------------------------------ */
+
+#define MASS_POINT_MIN 1e-6 /* probability of a level reported as a mass point */
+
+/* Bit string of a label, most significant bit first. */
+static json_t *label_string(size_t label, unsigned nbits)
+{
+    char text[65];
+    for (unsigned b = 0; b < nbits && b < 64; b++)
+        text[b] = (char)('0' + ((label >> (nbits - 1 - b)) & 1));
+    text[nbits < 64 ? nbits : 64] = '\0';
+    return json_string(text);
+}
+
+/* Gray labels of the levels (QAM: of the points, in-phase index major,
+ * in-phase bits first); NULL when the levels are not a power of 2. */
+static json_t *labels_of(const qc_design_result *res)
+{
+    size_t n = res->nlevels;
+    size_t *lab = malloc(n * sizeof *lab);
+    unsigned nbits;
+    if (!lab || qc_gray_labels(res->levels, n, lab, &nbits) != QC_OK) {
+        free(lab);
+        return NULL;
+    }
+    json_t *a = json_array();
+    for (size_t i = 0; a && i < n; i++) {
+        if (res->dimensions == 2)
+            for (size_t q = 0; q < n; q++)
+                json_array_append_new(a, label_string(lab[i] << nbits | lab[q], 2 * nbits));
+        else
+            json_array_append_new(a, label_string(lab[i], nbits));
+    }
+    free(lab);
+    return a;
+}
+
+static void report_alphabet(json_t *o, const qc_design_request *req,
+                            const qc_design_result *res)
+{
+    json_object_set_new(o, "dimensions", json_integer(res->dimensions ? res->dimensions : 1));
+    json_object_set_new(o, "mi_bits", qc_report_real(res->mi_bits));
+    json_object_set_new(o, "gmi_bits", qc_report_real(res->gmi_bits));
+    json_t *labels = res->label_bits ? labels_of(res) : NULL;
+    json_object_set_new(o, "labels", labels ? labels : json_null());
+    json_object_set_new(o, "dispersion", qc_report_real(res->dispersion_bits2));
+    json_object_set_new(o, "blocklength",
+                        res->blocklength ? json_integer((json_int_t)res->blocklength)
+                                         : json_null());
+    json_object_set_new(o, "error_rate", qc_report_real(res->blocklength ? res->error_rate
+                                                                         : NAN));
+    json_object_set_new(o, "rate_at_blocklength_bits",
+                        qc_report_real(res->rate_at_blocklength_bits));
+    json_object_set_new(o, "shaping_gap_db", qc_report_real(res->shaping_gap_db));
+    json_object_set_new(o, "average_power", qc_report_real(res->average_power));
+    json_object_set_new(o, "average_level", qc_report_real(res->average_level));
+    json_t *c = json_object();
+    if (c && req->constraints) {
+        if (!isnan(req->constraints->peak))
+            json_object_set_new(c, "peak_limit", qc_report_real(req->constraints->peak));
+        if (!isnan(req->constraints->power))
+            json_object_set_new(c, "power_limit", qc_report_real(req->constraints->power));
+        if (!isnan(req->constraints->mean))
+            json_object_set_new(c, "mean_limit", qc_report_real(req->constraints->mean));
+    }
+    json_object_set_new(o, "constraints", c);
+    json_t *mass = json_array();
+    for (size_t i = 0; mass && i < res->nlevels; i++) {
+        if (!(res->input[i] > MASS_POINT_MIN))
+            continue;
+        json_t *p = json_object();
+        json_object_set_new(p, "level", qc_report_real(res->levels[i]));
+        json_object_set_new(p, "probability", qc_report_real(res->input[i]));
+        json_array_append_new(mass, p);
+    }
+    json_object_set_new(o, "mass_points", mass);
+    json_object_set_new(o, "levels_optimized", json_boolean(res->levels_optimized));
+    json_object_set_new(o, "level_evaluations", json_integer((json_int_t)res->level_evaluations));
+}
+
+json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
+{
+    const qc_model *m = req->model;
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "model", json_string(m->type->name));
+    json_t *pj = json_object();
+    for (size_t i = 0; i < m->type->nparams; i++) {
+        char name[64];
+        qc_field_name(m->type->params[i].name, name, sizeof name);
+        json_object_set_new(pj, name, qc_report_real(m->params[i]));
+    }
+    json_object_set_new(o, "parameters", pj);
+    json_object_set_new(o, "level_unit", json_string(qc_design_level_unit(req)));
+    json_object_set_new(o, "output_unit", json_string(qc_design_output_unit(req)));
+    json_object_set_new(o, "objective", json_string(qc_objective_name(req->objective)));
+    json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer)));
+    json_object_set_new(o, "cells", json_integer((json_int_t)req->cells));
+    /* fewer than cells for count outputs with fewer counts that carry
+     * probability (each has its own cell) */
+    json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->nthresholds + 1)));
+    unsigned bits = bits_of(req->cells);
+    json_object_set_new(o, "bits", bits ? json_integer(bits) : json_null());
+    json_object_set_new(o, "rate_bits", qc_report_real(res->rate_bits));
+    json_object_set_new(o, "upper_bound_bits", qc_report_real(res->upper_bound_bits));
+    json_object_set_new(o, "tolerance_bits", qc_report_real(res->tol_bits));
+    json_object_set_new(o, "unquantized_bits", qc_report_real(res->unquantized_bits));
+    json_object_set_new(o, "unquantized_error_bits", qc_report_real(res->unquantized_err_bits));
+    json_object_set_new(o, "loss_bits", qc_report_real(res->loss_bits));
+    json_object_set_new(o, "rate_limited_by", name_or_null(qc_rate_limit_name(res->rate_limited_by)));
+    json_object_set_new(o, "unquantized_limited_by",
+                        name_or_null(qc_rate_limit_name(res->unquantized_limited_by)));
+    json_object_set_new(o, "noiseless_limit", json_boolean(res->noiseless_limit));
+    json_object_set_new(o, "iterations", json_integer((json_int_t)res->iterations));
+    json_object_set_new(o, "design_iterations",
+                        json_integer((json_int_t)res->design_iterations));
+    json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
+    /* the SNR the design operates at (under the optimized law for
+     * objective capacity), not the requested snr-db */
+    json_object_set_new(o, "operating_snr_db", qc_report_real(res->snr_db));
+    const char *snr_def = qc_design_snr_definition(req);
+    json_object_set_new(o, "snr_definition", snr_def ? json_string(snr_def) : json_null());
+    json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
+    json_object_set_new(o, "snr_penalty_note",
+                        isfinite(res->snr_penalty_db)
+                            ? json_null()
+                            : name_or_null(qc_penalty_note_text(res->snr_penalty_note)));
+    json_object_set_new(o, "mse", qc_report_real(res->mse));
+    json_object_set_new(o, "thresholds", qc_report_array(res->thresholds, res->nthresholds));
+    json_object_set_new(o, "levels", qc_report_array(res->levels, res->nlevels));
+    json_object_set_new(o, "input_distribution", qc_report_array(res->input, res->nlevels));
+    if (res->reconstruction)
+        json_object_set_new(o, "reconstruction",
+                            qc_report_array(res->reconstruction, res->nthresholds + 1));
+    report_alphabet(o, req, res);
+    return o;
+}
+
+qc_status qc_design_report_json(const qc_design_request *req, const qc_design_result *res,
+                                char **text)
+{
+    *text = NULL;
+    json_t *o = qc_report_design(req, res);
+    if (!o)
+        return qc_fail(QC_ENOMEM, "out of memory building the JSON report");
+    *text = json_dumps(o, JSON_INDENT(2) | JSON_REAL_PRECISION(17) | JSON_PRESERVE_ORDER);
+    json_decref(o);
+    return *text ? QC_OK : qc_fail(QC_ENOMEM, "out of memory writing the JSON report");
+}

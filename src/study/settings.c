@@ -1,0 +1,329 @@
+/* settings.c — the key = value vocabulary of a design, shared by the
+ * `design` command's flags and by scenario files: each key's value is
+ * checked when it is set, and the whole set is turned into a model and a
+ * design request by qc_settings_build. */
+#include "study/settings_internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef enum { K_TEXT, K_NUMBER, K_LIST, K_WHOLE, K_CHOICE, K_SWITCH } key_kind;
+
+typedef struct {
+    qc_setting_info info;
+    key_kind kind;
+    size_t lo, hi;        /* K_WHOLE range                        */
+    const char *choices;  /* K_CHOICE: comma-separated             */
+    double dmin, dmax;    /* K_NUMBER range (both 0: any number)  */
+    int min_exclusive;    /* K_NUMBER: value must be > dmin       */
+} key_spec;
+
+#define INF INFINITY
+#define KEY(name, meta, help) .info = {name, meta, help}
+#define TEXT(name, meta, help) {KEY(name, meta, help), .kind = K_TEXT}
+#define LIST(name, meta, help) {KEY(name, meta, help), .kind = K_LIST}
+#define WHOLE(name, meta, help, l, h) {KEY(name, meta, help), .kind = K_WHOLE, .lo = l, .hi = h}
+#define CHOICE(name, meta, help, c) {KEY(name, meta, help), .kind = K_CHOICE, .choices = c}
+#define NUMBER(name, meta, help) {KEY(name, meta, help), .kind = K_NUMBER}
+#define SWITCH(name, help) {KEY(name, NULL, help), .kind = K_SWITCH}
+/* A number key with a range: > l (open) or >= l (closed), <= h. */
+#define NUMBER_ABOVE(name, meta, help, l)                                                  \
+    {KEY(name, meta, help), .kind = K_NUMBER, .dmin = l, .dmax = INF, .min_exclusive = 1}
+#define NUMBER_FROM(name, meta, help, l, h)                                                \
+    {KEY(name, meta, help), .kind = K_NUMBER, .dmin = l, .dmax = h}
+
+static const key_spec keys[] = {
+    TEXT("model", "NAME", "noise model (see 'quantcap models')"),
+    LIST("levels", "L1,...,Ln", "transmitted levels (model units)"),
+    LIST("probabilities", "P1,...,Pn", "input law (mi: the law rated; capacity: the start)"),
+    NUMBER("snr-db", "X", "requested SNR E[x^2]/sigma^2, dB: sets sigma (model gauss)"),
+    WHOLE("bits", "B", "ADC resolution: 2^B cells (1..16)", 1, QC_MAX_BITS),
+    WHOLE("cells", "K", "number of quantizer cells (2..65536)", 2, (size_t)1 << QC_MAX_BITS),
+    CHOICE("objective", "mi|capacity|gmi",
+           "rate to maximize: mi (given law), capacity (law optimized), gmi (BICM, Gray "
+           "labels, given law); default mi",
+           "mi,capacity,gmi"),
+    CHOICE("quantizer", "NAME",
+           "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)",
+           "optimal,uniform,lloyd-max,fixed"),
+    WHOLE("fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)",
+          2, (size_t)1 << 22),
+    LIST("thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"),
+    NUMBER("tol", "T", "certification tolerance in bits (default 1e-9)"),
+    TEXT("alphabet", "SPEC",
+         "levels by name: pam:M (bipolar), upam:M (intensity 0..1; OOK = upam:2), qam:M "
+         "(square QAM, sqrt(M)-PAM per quadrature)"),
+    TEXT("table", "FILE", "measured densities for model table (format in docs/formats.md)"),
+    /* physical receiver (front end); units in docs/models.md */
+    NUMBER_FROM("received-dbm", "P", "average received optical power, dBm", -INF, INF),
+    NUMBER_ABOVE("extinction-db", "E",
+                 "extinction ratio P1/P0 of the intensity levels, dB (default: infinite)", 0.0),
+    NUMBER_ABOVE("responsivity", "R", "photodiode responsivity, A/W", 0.0),
+    NUMBER_ABOVE("bandwidth", "B", "electrical noise bandwidth, Hz", 0.0),
+    NUMBER_FROM("thermal-density", "I", "input-referred thermal noise current, pA/sqrt(Hz)",
+                0.0, INF),
+    NUMBER_ABOVE("load-resistance", "R", "load resistance for 4kT/R thermal noise, ohm", 0.0),
+    NUMBER_ABOVE("temperature", "T", "receiver temperature, K (default 290)", 0.0),
+    NUMBER_FROM("dark-current", "I", "primary dark current, A (default 0)", 0.0, INF),
+    NUMBER_FROM("apd-gain", "M",
+                "APD mean avalanche gain M (parameter of apd, apd-gauss; front end: "
+                "default 1 = PIN)",
+                1.0, INF),
+    NUMBER_FROM("apd-k", "K",
+                "APD ionization ratio k (parameter of apd, apd-gauss; default 0)", 0.0, 1.0),
+    NUMBER_ABOVE("slot-time", "T", "slot (integration) time, s", 0.0),
+    NUMBER_ABOVE("wavelength-nm", "L", "optical wavelength, nm (photon counting)", 0.0),
+    NUMBER_ABOVE("efficiency", "ETA", "detector quantum efficiency, (0, 1] (default 1)", 0.0),
+    NUMBER_FROM("dark-count-rate", "D", "dark and background count rate, 1/s (default 0)", 0.0,
+                INF),
+    NUMBER_FROM("osnr-db", "X", "OSNR in the reference bandwidth, dB (model gauss)", -INF, INF),
+    NUMBER_ABOVE("symbol-rate", "RS", "symbol rate, baud (with osnr-db)", 0.0),
+    WHOLE("polarizations", "P", "polarizations carrying signal, 1 or 2 (default 2)", 1, 2),
+    NUMBER_ABOVE("ref-bandwidth", "B", "OSNR reference bandwidth, Hz (default 12.5e9)", 0.0),
+    /* alphabets and input design (docs/alphabets.md) */
+    LIST("level-grid", "LO,HI,N",
+         "N equally spaced candidate levels on [LO, HI]; the input law is designed on them"),
+    NUMBER_ABOVE("peak-limit", "A",
+                 "input peak constraint |x| <= A, model units (intensity: 0 <= x <= A)", 0.0),
+    NUMBER_ABOVE("power-limit", "P",
+                 "input second-moment constraint E[x^2] <= P, model units squared (electrical "
+                 "power; QAM: E|x|^2)",
+                 0.0),
+    NUMBER("mean-limit", "M",
+           "input mean constraint E[x] <= M, model units (average optical power of intensity "
+           "levels)"),
+    SWITCH("optimize-levels", "move the levels to maximize the objective (Nelder-Mead)"),
+    WHOLE("level-starts", "S", "starts of the level search (default 3)", 1, 64),
+    WHOLE("blocklength", "N", "blocklength for the normal approximation (with error-rate)", 1,
+          (size_t)1 << 50),
+    NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
+    NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
+                "received-dbm)", -INF, INF),
+};
+
+#define NKEYS (sizeof keys / sizeof keys[0])
+const qc_setting_info *qc_setting_keys(size_t *n)
+{
+    static qc_setting_info infos[NKEYS];
+    for (size_t i = 0; i < NKEYS; i++)
+        infos[i] = keys[i].info;
+    *n = NKEYS;
+    return infos;
+}
+
+static const key_spec *find_key(const char *key)
+{
+    for (size_t i = 0; i < NKEYS; i++)
+        if (strcmp(keys[i].info.key, key) == 0)
+            return &keys[i];
+    return NULL;
+}
+
+int qc_setting_is_design_key(const char *key) { return find_key(key) != NULL; }
+
+static int is_model_param(const char *key)
+{
+    const qc_model_type *const *types = qc_model_types();
+    for (size_t t = 0; types[t]; t++)
+        if (qc_model_param_index(types[t], key) >= 0)
+            return 1;
+    return 0;
+}
+
+int qc_setting_known(const char *key) { return key && (find_key(key) || is_model_param(key)); }
+
+/* Names given up for clearer ones: each old name is refused with a hint
+ * to its successor. */
+static const char *const renamed[][2] = {
+    {"peak", "peak-limit"},       {"power", "power-limit"}, {"mean", "mean-limit"},
+    {"power-dbm", "received-dbm"}, {"gain", "apd-gain"},     {"k", "apd-k"},
+};
+
+const char *qc_setting_renamed(const char *old)
+{
+    for (size_t i = 0; old && i < sizeof renamed / sizeof renamed[0]; i++)
+        if (strcmp(renamed[i][0], old) == 0)
+            return renamed[i][1];
+    return NULL;
+}
+
+const char *qc_setting_suggest(const char *key)
+{
+    const char *now = qc_setting_renamed(key); /* an old name: its new one */
+    if (now)
+        return now;
+    const char *best = NULL;
+    size_t bd = 4; /* suggest only close names */
+    for (size_t i = 0; i < NKEYS; i++) {
+        size_t d = qc_edit_distance(key, keys[i].info.key);
+        if (d < bd) {
+            bd = d;
+            best = keys[i].info.key;
+        }
+    }
+    const qc_model_type *const *types = qc_model_types();
+    for (size_t t = 0; types[t]; t++)
+        for (size_t i = 0; i < types[t]->nparams; i++) {
+            size_t d = qc_edit_distance(key, types[t]->params[i].name);
+            if (d < bd) {
+                bd = d;
+                best = types[t]->params[i].name;
+            }
+        }
+    return best;
+}
+
+qc_status qc_settings_alloc(qc_settings **out)
+{
+    *out = calloc(1, sizeof **out);
+    return *out ? QC_OK : qc_fail(QC_ENOMEM, "out of memory");
+}
+
+void qc_settings_free_lists(qc_settings *s)
+{
+    free(s->levels);
+    free(s->probabilities);
+    free(s->thresholds);
+    s->levels = s->probabilities = s->thresholds = NULL;
+}
+
+void qc_settings_free(qc_settings *s)
+{
+    if (!s)
+        return;
+    for (size_t i = 0; i < s->n; i++) {
+        free(s->key[i]);
+        free(s->value[i]);
+    }
+    qc_settings_free_lists(s);
+    free(s);
+}
+
+qc_status qc_settings_copy(const qc_settings *s, qc_settings **out)
+{
+    qc_status st = qc_settings_alloc(out);
+    for (size_t i = 0; st == QC_OK && i < s->n; i++)
+        st = qc_settings_set(*out, s->key[i], s->value[i]);
+    if (st != QC_OK) {
+        qc_settings_free(*out);
+        *out = NULL;
+    }
+    return st;
+}
+
+/* Check a value against its key's kind; the message describes the value. */
+static qc_status check_value(const char *key, const char *value)
+{
+    const key_spec *k = find_key(key);
+    double d;
+    size_t z, n;
+    double *list;
+    qc_status st;
+    if (!k) /* a model parameter: a finite number */
+        return qc_parse_double(value, &d);
+    switch (k->kind) {
+    case K_TEXT:
+        if (value[0] == '\0')
+            return qc_fail(QC_EINVAL, "empty value");
+        if (strcmp(key, "model") == 0 && !qc_model_type_find(value)) {
+            char known[512] = "";
+            const qc_model_type *const *types = qc_model_types();
+            for (size_t t = 0; types[t]; t++) {
+                strncat(known, t ? ", " : "", sizeof known - strlen(known) - 1);
+                strncat(known, types[t]->name, sizeof known - strlen(known) - 1);
+            }
+            return qc_fail(QC_EINVAL, "unknown model '%s' (known: %s)", value, known);
+        }
+        return QC_OK;
+    case K_NUMBER:
+        st = qc_parse_double(value, &d);
+        if (st != QC_OK)
+            return st;
+        if (strcmp(key, "tol") == 0 && !(d > 0.0))
+            return qc_fail(QC_EINVAL, "tolerance must be > 0 (got %g)", d);
+        if (strcmp(key, "error-rate") == 0 && !(d > 0.0 && d < 1.0))
+            return qc_fail(QC_EINVAL, "must lie strictly between 0 and 1 (got %g)", d);
+        if (k->dmin == 0.0 && k->dmax == 0.0)
+            return QC_OK;
+        if (k->min_exclusive ? !(d > k->dmin) : !(d >= k->dmin))
+            return qc_fail(QC_EINVAL, "must be %s %g (got %g)", k->min_exclusive ? ">" : ">=",
+                           k->dmin, d);
+        if (!(d <= k->dmax))
+            return qc_fail(QC_EINVAL, "must be <= %g (got %g)", k->dmax, d);
+        return QC_OK;
+    case K_WHOLE:
+        return qc_parse_size(value, k->lo, k->hi, &z);
+    case K_LIST:
+        st = qc_parse_list(value, &list, &n);
+        free(list);
+        return st;
+    case K_SWITCH:
+        if (strcmp(value, "true") != 0 && strcmp(value, "false") != 0)
+            return qc_fail(QC_EINVAL, "'%s' is not true or false", value);
+        return QC_OK;
+    case K_CHOICE: {
+        size_t len = strlen(value);
+        for (const char *c = k->choices; *c;) {
+            const char *comma = strchr(c, ',');
+            size_t cl = comma ? (size_t)(comma - c) : strlen(c);
+            if (cl == len && strncmp(c, value, len) == 0)
+                return QC_OK;
+            c += cl + (comma != NULL);
+        }
+        return qc_fail(QC_EINVAL, "unknown value '%s' (expected one of: %s)", value, k->choices);
+    }
+    }
+    return QC_OK;
+}
+
+qc_status qc_settings_set(qc_settings *s, const char *key, const char *value)
+{
+    if (!key || !value)
+        return qc_fail(QC_EINVAL, "missing key or value");
+    if (!qc_setting_known(key)) {
+        const char *now = qc_setting_renamed(key);
+        if (now)
+            return qc_fail(QC_EINVAL, "unknown key '%s' (renamed: did you mean '%s'?)", key, now);
+        const char *near = qc_setting_suggest(key);
+        if (near)
+            return qc_fail(QC_EINVAL, "unknown key '%s' (did you mean '%s'?)", key, near);
+        return qc_fail(QC_EINVAL, "unknown key '%s'", key);
+    }
+    if (strlen(value) > VALUE_MAX)
+        return qc_fail(QC_EINVAL, "value longer than %d characters", VALUE_MAX);
+    qc_status st = check_value(key, value);
+    if (st != QC_OK)
+        return st;
+    char *v = strdup(value);
+    if (!v)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    for (size_t i = 0; i < s->n; i++)
+        if (strcmp(s->key[i], key) == 0) {
+            free(s->value[i]);
+            s->value[i] = v;
+            return QC_OK;
+        }
+    if (s->n == MAX_ENTRIES) {
+        free(v);
+        return qc_fail(QC_EINVAL, "too many settings (at most %d)", MAX_ENTRIES);
+    }
+    char *k = strdup(key);
+    if (!k) {
+        free(v);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    s->key[s->n] = k;
+    s->value[s->n] = v;
+    s->n++;
+    return QC_OK;
+}
+
+const char *qc_settings_get(const qc_settings *s, const char *key)
+{
+    for (size_t i = 0; i < s->n; i++)
+        if (strcmp(s->key[i], key) == 0)
+            return s->value[i];
+    return NULL;
+}
+

@@ -1,0 +1,544 @@
+/* settings_build.c — from settings to a model and a design request: the
+ * levels (a list, a named alphabet, a level grid, or a measured table;
+ * src/alphabet), the input constraints, the model
+ * parameters (given directly, from an SNR or OSNR, or from a physical
+ * receiver through the front end), the quantizer and the objective. */
+#include "study/settings_internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Keys of the physical intensity receiver and of photon counting. */
+static const char *const frontend_keys[] = {
+    "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
+    "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
+    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", NULL,
+};
+
+static int is_frontend_key(const char *key)
+{
+    for (size_t i = 0; frontend_keys[i]; i++)
+        if (strcmp(frontend_keys[i], key) == 0)
+            return 1;
+    return 0;
+}
+
+/* The first front-end key given that is not also a parameter of the
+ * model (apd-gain and apd-k are parameters of the APD models: alone they
+ * set the parameters, with a received power they describe the receiver). */
+static const char *first_frontend_key(const qc_settings *s, const qc_model_type *type)
+{
+    for (size_t i = 0; frontend_keys[i]; i++)
+        if (qc_settings_get(s, frontend_keys[i]) &&
+            qc_model_param_index(type, frontend_keys[i]) < 0)
+            return frontend_keys[i];
+    return NULL;
+}
+
+/* Does the model type list `key` among the settings keys it takes? */
+static int declares(const qc_model_type *type, const char *key)
+{
+    for (size_t i = 0; type->keys && type->keys[i]; i++)
+        if (strcmp(type->keys[i], key) == 0)
+            return 1;
+    return 0;
+}
+
+/* Every model-specific key given (one that some model type lists) must be
+ * listed by the chosen type or be one of its parameters. */
+static qc_status check_keys_apply(const qc_settings *s, const qc_model_type *type)
+{
+    const qc_model_type *const *types = qc_model_types();
+    for (size_t i = 0; i < s->n; i++) {
+        const char *key = s->key[i];
+        if (declares(type, key) || qc_model_param_index(type, key) >= 0)
+            continue;
+        for (size_t t = 0; types[t]; t++) {
+            if (!declares(types[t], key))
+                continue;
+            char takes[512] = "";
+            for (size_t j = 0; type->keys && type->keys[j]; j++) {
+                strncat(takes, j ? ", " : "", sizeof takes - strlen(takes) - 1);
+                strncat(takes, type->keys[j], sizeof takes - strlen(takes) - 1);
+            }
+            return qc_fail(QC_EINVAL, "'%s' does not apply to model '%s' (%s%s; see "
+                                      "'quantcap models %s')",
+                           key, type->name,
+                           takes[0] ? "besides its parameters it takes: "
+                                    : "it takes its parameters only",
+                           takes, type->name);
+        }
+    }
+    return QC_OK;
+}
+
+/* Number under `key`, or `fallback` when absent. Values were checked by
+ * qc_settings_set; parse errors here still name the key. */
+static qc_status number(const qc_settings *s, const char *key, double fallback, double *out)
+{
+    const char *v = qc_settings_get(s, key);
+    *out = fallback;
+    if (!v)
+        return QC_OK;
+    qc_status st = qc_parse_double(v, out);
+    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
+}
+
+static qc_status required(const qc_settings *s, const char *key, const char *why, double *out)
+{
+    if (!qc_settings_get(s, key))
+        return qc_fail(QC_EINVAL, "'%s' is required %s", key, why);
+    return number(s, key, NAN, out);
+}
+
+static qc_status parse_list_key(const qc_settings *s, const char *key, double **out, size_t *n)
+{
+    const char *v = qc_settings_get(s, key);
+    *out = NULL;
+    *n = 0;
+    if (!v)
+        return QC_OK;
+    qc_status st = qc_parse_list(v, out, n);
+    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
+}
+
+/* The physical receiver of the settings; absent keys keep the defaults. */
+static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
+{
+    qc_receiver_default(rx);
+    double pa_per_rthz = NAN;
+    qc_status st;
+    if ((st = number(s, "responsivity", rx->responsivity, &rx->responsivity)) != QC_OK ||
+        (st = number(s, "bandwidth", rx->bandwidth, &rx->bandwidth)) != QC_OK ||
+        (st = number(s, "thermal-density", NAN, &pa_per_rthz)) != QC_OK ||
+        (st = number(s, "load-resistance", rx->load_resistance, &rx->load_resistance)) != QC_OK ||
+        (st = number(s, "temperature", rx->temperature, &rx->temperature)) != QC_OK ||
+        (st = number(s, "dark-current", rx->dark_current, &rx->dark_current)) != QC_OK ||
+        (st = number(s, "apd-gain", rx->gain, &rx->gain)) != QC_OK ||
+        (st = number(s, "apd-k", rx->ionization_ratio, &rx->ionization_ratio)) != QC_OK)
+        return st;
+    rx->thermal_density = pa_per_rthz; /* the front end takes pA/√Hz */
+    if (isnan(rx->responsivity))
+        return qc_fail(QC_EINVAL, "'responsivity' (A/W) is required for the physical receiver");
+    if (isnan(rx->thermal_density) && isnan(rx->load_resistance))
+        return qc_fail(QC_EINVAL, "thermal noise: give 'thermal-density' (pA/sqrt(Hz)) or "
+                                  "'load-resistance' (ohm, with 'temperature')");
+    if (!isnan(rx->thermal_density) && qc_settings_get(s, "load-resistance"))
+        return qc_fail(QC_EINVAL, "thermal noise: give 'thermal-density' or "
+                                  "'load-resistance', not both");
+    return QC_OK;
+}
+
+/* Quantum efficiency of photon counting: 'efficiency', or the one a
+ * 'responsivity' (A/W) means at the wavelength, or 1. */
+static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *eta)
+{
+    if (!qc_settings_get(s, "responsivity"))
+        return number(s, "efficiency", 1.0, eta);
+    if (qc_settings_get(s, "efficiency"))
+        return qc_fail(QC_EINVAL, "give 'efficiency' or 'responsivity' (which sets the "
+                                  "efficiency at the wavelength), not both");
+    double r;
+    qc_status st = number(s, "responsivity", NAN, &r);
+    return st == QC_OK ? qc_responsivity_to_efficiency(r, lambda_nm * 1e-9, eta) : st;
+}
+
+/* Physical route: optical powers of an intensity alphabet → parameters
+ * and levels of the chosen model. Replaces s->levels. */
+static qc_status physical_route(qc_settings *s, const qc_model_type *type, int intensity,
+                                size_t nl, double *params)
+{
+    if (!intensity)
+        return qc_fail(QC_EINVAL, "the physical receiver ('%s') needs an intensity alphabet: "
+                                  "alphabet = upam:M",
+                       first_frontend_key(s, type));
+    double dbm, ext_db, slot;
+    qc_status st;
+    int peak_given = qc_settings_get(s, "peak-dbm") != NULL;
+    if (peak_given && qc_settings_get(s, "received-dbm"))
+        return qc_fail(QC_EINVAL, "give 'received-dbm' (average) or 'peak-dbm' (top level), "
+                                  "not both");
+    if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
+                         : required(s, "received-dbm",
+                                    "(or 'peak-dbm') for the physical receiver", &dbm)) != QC_OK ||
+        (st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
+        return st;
+    double *power = qc_malloc_array(nl, sizeof *power);
+    if (!power)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double ratio = isinf(ext_db) ? INFINITY : pow(10.0, ext_db / 10.0);
+    /* the average (P0 + P1)/2 of a top level P1 = peak: P1(1 + 1/ratio)/2 */
+    if (peak_given)
+        dbm += 10.0 * log10(0.5 * (1.0 + 1.0 / ratio));
+    st = qc_intensity_levels(dbm, ratio, nl, power);
+    qc_receiver rx;
+    if (st == QC_OK && type->frontend == QC_FRONTEND_PHOTONS) {
+        double lambda_nm, eta, dark;
+        if ((st = required(s, "slot-time", "for photon counting (s)", &slot)) == QC_OK &&
+            (st = required(s, "wavelength-nm", "for photon counting", &lambda_nm)) == QC_OK &&
+            (st = efficiency_of(s, lambda_nm, &eta)) == QC_OK &&
+            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK)
+            st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
+                                     s->levels);
+    } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
+        if ((st = receiver_of(s, &rx)) == QC_OK &&
+            (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK)
+            st = qc_frontend_apd(&rx, slot, power, nl, params, s->levels);
+    } else if (st == QC_OK && (type->frontend == QC_FRONTEND_GAUSS_SD ||
+                               type->frontend == QC_FRONTEND_GAUSS)) {
+        if ((st = receiver_of(s, &rx)) == QC_OK && isnan(rx.bandwidth))
+            st = qc_fail(QC_EINVAL, "'bandwidth' (Hz) is required for the physical receiver");
+        if (st == QC_OK)
+            st = type->frontend == QC_FRONTEND_GAUSS
+                     ? qc_frontend_gauss(&rx, power, nl, params, s->levels)
+                     : qc_frontend_gauss_sd(&rx, power, nl, params, s->levels);
+    } else if (st == QC_OK) {
+        st = qc_fail(QC_EINVAL, "model '%s' has no physical front end; give its parameters",
+                     type->name);
+    }
+    free(power);
+    return st;
+}
+
+/* σ of the Gaussian model from a linear SNR = E[x²]/σ² per real dimension
+ * (for QAM the per-quadrature levels give Es/N0 = E|x|²/(2σ²) the same
+ * way). With a power budget, E[x²] is the budget per real dimension;
+ * otherwise it is taken under the law (given, else uniform). */
+static qc_status sigma_from_snr(const char *key, double snr, const double *levels, size_t nl,
+                                const double *probs, double budget_per_dim, double *sigma)
+{
+    double e2 = 0.0;
+    for (size_t i = 0; i < nl; i++)
+        e2 += (probs ? probs[i] : 1.0 / (double)nl) * levels[i] * levels[i];
+    if (!isnan(budget_per_dim))
+        e2 = budget_per_dim;
+    if (!(e2 > 0.0))
+        return qc_fail(QC_EINVAL, "%s: the levels have zero energy E[x^2], so no SNR can "
+                                  "be set",
+                       key);
+    *sigma = sqrt(e2 / snr);
+    if (!(*sigma > 0.0) || !isfinite(*sigma))
+        return qc_fail(QC_EINVAL, "%s: gives sigma = %g, outside what doubles hold", key,
+                       *sigma);
+    return QC_OK;
+}
+
+/* snr-db or osnr-db (with symbol-rate) → σ of model gauss. */
+static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size_t nl,
+                           unsigned dims, double *params)
+{
+    const char *key = qc_settings_get(s, "snr-db") ? "snr-db" : "osnr-db";
+    if (qc_settings_get(s, "snr-db") && qc_settings_get(s, "osnr-db"))
+        return qc_fail(QC_EINVAL, "give 'snr-db' or 'osnr-db', not both");
+    int si = qc_model_param_index(type, "sigma");
+    if (si < 0)
+        return qc_fail(QC_EINVAL, "%s sets 'sigma', which model '%s' does not have",
+                       key, type->name);
+    if (!isnan(params[si]))
+        return qc_fail(QC_EINVAL, "give 'sigma' or '%s', not both", key);
+    double db, snr;
+    qc_status st = number(s, key, NAN, &db);
+    if (st != QC_OK)
+        return st;
+    if (strcmp(key, "snr-db") == 0) {
+        snr = pow(10.0, db / 10.0);
+    } else {
+        double rs, bref, pol = 2.0;
+        if ((st = required(s, "symbol-rate", "with 'osnr-db' (baud)", &rs)) != QC_OK ||
+            (st = number(s, "ref-bandwidth", QC_OSNR_REF_BANDWIDTH, &bref)) != QC_OK ||
+            (st = number(s, "polarizations", 2.0, &pol)) != QC_OK)
+            return st;
+        if ((st = qc_osnr_to_snr(db, bref, rs, (int)pol, &snr)) != QC_OK)
+            return qc_fail(st, "osnr-db: %s", qc_last_error());
+    }
+    double budget = s->constraints.power / (double)dims; /* NaN without a budget */
+    return sigma_from_snr(key, snr, s->levels, nl, s->probabilities, budget, &params[si]);
+}
+
+/* The alphabet named by 'levels', 'alphabet' or 'level-grid' (at most
+ * one); *out stays NULL when none is given. */
+static qc_status alphabet_of(const qc_settings *s, qc_alphabet **out)
+{
+    *out = NULL;
+    const char *alphabet = qc_settings_get(s, "alphabet");
+    const char *grid = qc_settings_get(s, "level-grid");
+    const char *levels = qc_settings_get(s, "levels");
+    if ((alphabet != NULL) + (grid != NULL) + (levels != NULL) > 1)
+        return qc_fail(QC_EINVAL, "give one of 'levels', 'alphabet' and 'level-grid'");
+    if (alphabet)
+        return qc_alphabet_parse(alphabet, out);
+    double *v;
+    size_t n;
+    qc_status st = parse_list_key(s, grid ? "level-grid" : "levels", &v, &n);
+    if (st != QC_OK || !v)
+        return st;
+    if (levels) {
+        st = qc_alphabet_from_levels(v, n, out);
+    } else if (n != 3) {
+        st = qc_fail(QC_EINVAL, "level-grid: expected LO,HI,N (3 values, got %zu)", n);
+    } else if (!(v[2] == floor(v[2])) || v[2] < 0.0 || v[2] > 1e9) {
+        st = qc_fail(QC_EINVAL, "level-grid: N must be a whole number (got %g)", v[2]);
+    } else {
+        st = qc_alphabet_grid(v[0], v[1], (size_t)v[2], out);
+    }
+    free(v);
+    return st;
+}
+
+/* Does the model type take intensities (levels ≥ 0)? Declared by the
+ * type; measured tables say nothing general. */
+static int intensity_type(const qc_model_type *type)
+{
+    return (type->properties & QC_MODEL_INTENSITY) != 0;
+}
+
+/* 'peak-limit', 'power-limit', 'mean-limit' into s->constraints; *optimize from
+ * 'optimize-levels'. */
+static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
+                                const qc_alphabet *alpha, int *optimize)
+{
+    qc_constraints_none(&s->constraints);
+    qc_constraints *c = &s->constraints;
+    qc_status st;
+    if ((st = number(s, "peak-limit", NAN, &c->peak)) != QC_OK ||
+        (st = number(s, "power-limit", NAN, &c->power)) != QC_OK ||
+        (st = number(s, "mean-limit", NAN, &c->mean)) != QC_OK)
+        return st;
+    c->intensity = alpha->intensity || intensity_type(type);
+    const char *v = qc_settings_get(s, "optimize-levels");
+    *optimize = v && strcmp(v, "true") == 0;
+    return qc_constraints_validate(c, alpha->dimensions);
+}
+
+/* The alphabet and input-design fields of the request. */
+static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
+                                qc_design_request *req)
+{
+    qc_status st;
+    double starts = NAN, n = NAN, eps = NAN;
+    req->dimensions = dims;
+    if (!isnan(s->constraints.peak) || !isnan(s->constraints.power) ||
+        !isnan(s->constraints.mean))
+        req->constraints = &s->constraints;
+    req->optimize_levels = optimize;
+    if ((st = number(s, "level-starts", NAN, &starts)) != QC_OK ||
+        (st = number(s, "blocklength", NAN, &n)) != QC_OK ||
+        (st = number(s, "error-rate", NAN, &eps)) != QC_OK)
+        return st;
+    if (!isnan(starts) && !optimize)
+        return qc_fail(QC_EINVAL, "'level-starts' goes with 'optimize-levels'");
+    req->level_starts = isnan(starts) ? 0 : (size_t)starts;
+    if (isnan(n) != isnan(eps))
+        return qc_fail(QC_EINVAL, "give 'blocklength' and 'error-rate' together (the normal "
+                                  "approximation needs both)");
+    if (!isnan(n)) {
+        req->blocklength = (size_t)n;
+        req->error_rate = eps;
+    }
+    return QC_OK;
+}
+
+qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request *req)
+{
+    *model = NULL;
+    qc_design_request_default(req);
+    qc_settings_free_lists(s);
+    const char *name = qc_settings_get(s, "model");
+    if (!name)
+        return qc_fail(QC_EINVAL, "no model given (key 'model'; see 'quantcap models')");
+    const qc_model_type *type = qc_model_type_find(name);
+    if (!type)
+        return qc_fail(QC_EINVAL, "model: unknown model '%s'", name);
+    int is_table = (type->properties & QC_MODEL_FROM_FILE) != 0;
+    qc_status st = check_keys_apply(s, type);
+    if (st != QC_OK)
+        return st;
+    const char *fk = first_frontend_key(s, type);
+    static const char *const osnr_keys[] = {"symbol-rate", "polarizations", "ref-bandwidth"};
+    for (size_t i = 0; i < 3; i++)
+        if (qc_settings_get(s, osnr_keys[i]) && !qc_settings_get(s, "osnr-db"))
+            return qc_fail(QC_EINVAL, "'%s' goes with 'osnr-db' (it converts the OSNR to an "
+                                      "SNR)",
+                           osnr_keys[i]);
+
+    /* model parameters given directly */
+    double params[QC_MODEL_MAX_PARAMS];
+    int nparams_given = 0;
+    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
+        params[i] = NAN;
+    for (size_t i = 0; i < s->n; i++) {
+        int idx = qc_model_param_index(type, s->key[i]);
+        /* a design key is a parameter only when the model has it and no
+         * physical receiver is described */
+        if (qc_setting_is_design_key(s->key[i]) && (idx < 0 || (fk && is_frontend_key(s->key[i]))))
+            continue;
+        if (idx < 0)
+            return qc_fail(QC_EINVAL, "'%s' is not a parameter of model '%s' (see "
+                                      "'quantcap models %s')",
+                           s->key[i], type->name, type->name);
+        st = qc_parse_double(s->value[i], &params[idx]);
+        if (st != QC_OK)
+            return qc_fail(st, "%s: %s", s->key[i], qc_last_error());
+        nparams_given++;
+    }
+    if (is_table != (qc_settings_get(s, "table") != NULL))
+        return qc_fail(QC_EINVAL, is_table ? "model table needs 'table' (the file of measured "
+                                             "densities)"
+                                           : "'table' goes with model table only");
+
+    /* levels: a list, a named alphabet, a level grid, or the table's own */
+    size_t nl = 0, np, nt;
+    qc_alphabet *alpha = NULL;
+    if ((st = alphabet_of(s, &alpha)) != QC_OK)
+        return st;
+    if ((st = parse_list_key(s, "probabilities", &s->probabilities, &np)) != QC_OK ||
+        (st = parse_list_key(s, "thresholds", &s->thresholds, &nt)) != QC_OK) {
+        qc_alphabet_free(alpha);
+        return st;
+    }
+    if (is_table) {
+        if ((st = qc_model_table_load(qc_settings_get(s, "table"), model)) != QC_OK) {
+            qc_alphabet_free(alpha);
+            return st;
+        }
+        if (!alpha) {
+            const double *tl;
+            if ((st = qc_model_table_levels(*model, &tl, &nl)) != QC_OK ||
+                (st = qc_alphabet_from_levels(tl, nl, &alpha)) != QC_OK)
+                goto fail;
+        }
+    }
+    if (!alpha)
+        return qc_fail(QC_EINVAL, "no levels given (key 'levels', 'alphabet' or 'level-grid')");
+    /* input constraints; a peak trims a level grid */
+    int optimize = 0;
+    if ((st = constraints_of(s, type, alpha, &optimize)) != QC_OK)
+        goto fail;
+    if (!(optimize && alpha->kind != QC_ALPHABET_GRID) &&
+        (st = qc_alphabet_apply_peak(alpha, s->constraints.peak, s->constraints.intensity)) !=
+            QC_OK)
+        goto fail;
+    nl = alpha->nlevels;
+    const unsigned dims = alpha->dimensions;
+    const int intensity = alpha->intensity;
+    if (!(s->levels = qc_malloc_array(nl, sizeof *s->levels))) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto fail;
+    }
+    memcpy(s->levels, alpha->levels, nl * sizeof *s->levels);
+    qc_alphabet_free(alpha);
+    alpha = NULL;
+    if (s->probabilities && np != nl) {
+        st = qc_fail(QC_EINVAL, "probabilities: %zu values for %zu levels", np, nl);
+        goto fail;
+    }
+
+    /* resolution and strategy */
+    const char *bits = qc_settings_get(s, "bits"), *cells = qc_settings_get(s, "cells");
+    size_t z;
+    const char *v;
+    if (bits && cells) {
+        st = qc_fail(QC_EINVAL, "give one of 'bits' and 'cells', not both");
+        goto fail;
+    }
+    if (!bits && !cells && !s->thresholds) {
+        st = qc_fail(QC_EINVAL, "give 'bits' or 'cells' (or 'thresholds', which set the cells)");
+        goto fail;
+    }
+    if (bits ? (st = qc_parse_size(bits, 1, QC_MAX_BITS, &z)) != QC_OK
+             : cells ? (st = qc_parse_size(cells, 2, (size_t)1 << QC_MAX_BITS, &z)) != QC_OK
+                     : 0) {
+        st = qc_fail(st, "%s: %s", bits ? "bits" : "cells", qc_last_error());
+        goto fail;
+    }
+    /* given thresholds set the count: K - 1 thresholds make K cells */
+    req->cells = bits ? (size_t)1 << z : cells ? z : nt + 1;
+    if ((v = qc_settings_get(s, "objective")) &&
+        (st = qc_objective_parse(v, &req->objective)) != QC_OK) {
+        st = qc_fail(st, "objective: %s", qc_last_error());
+        goto fail;
+    }
+    if ((v = qc_settings_get(s, "quantizer")) &&
+        (st = qc_quantizer_parse(v, &req->quantizer)) != QC_OK) {
+        st = qc_fail(st, "quantizer: %s", qc_last_error());
+        goto fail;
+    }
+    if (s->thresholds) {
+        if (v && req->quantizer != QC_QUANTIZER_FIXED) {
+            st = qc_fail(QC_EINVAL, "thresholds: given thresholds are evaluated as they are; "
+                                    "they cannot be combined with quantizer %s",
+                         v);
+            goto fail;
+        }
+        req->quantizer = QC_QUANTIZER_FIXED;
+        req->nthresholds = nt;
+        if (nt + 1 != req->cells) {
+            st = bits ? qc_fail(QC_EINVAL, "thresholds and bits disagree: %zu thresholds make "
+                                           "%zu cells, but bits = %s means %zu cells (give "
+                                           "the thresholds alone)",
+                                nt, nt + 1, bits, req->cells)
+                      : qc_fail(QC_EINVAL, "thresholds and cells disagree: %zu thresholds "
+                                           "make %zu cells, but cells = %s (give the "
+                                           "thresholds alone)",
+                                nt, nt + 1, cells);
+            goto fail;
+        }
+    } else if (req->quantizer == QC_QUANTIZER_FIXED) {
+        st = qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
+        goto fail;
+    }
+    if ((v = qc_settings_get(s, "fine-cells"))) {
+        if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->fine_cells)) != QC_OK) {
+            st = qc_fail(st, "fine-cells: %s", qc_last_error());
+            goto fail;
+        }
+        if (req->fine_cells < req->cells) {
+            st = qc_fail(QC_EINVAL, "fine-cells: the fine grid (%zu cells) must have at least "
+                                    "as many cells as the quantizer (%zu)",
+                         req->fine_cells, req->cells);
+            goto fail;
+        }
+    }
+    if ((v = qc_settings_get(s, "tol")) && (st = qc_parse_double(v, &req->tol_bits)) != QC_OK) {
+        st = qc_fail(st, "tol: %s", qc_last_error());
+        goto fail;
+    }
+
+    /* model parameters: physical receiver, SNR/OSNR, or as given */
+    if (!is_table) {
+        int snr_keys = qc_settings_get(s, "snr-db") || qc_settings_get(s, "osnr-db");
+        if (fk && snr_keys)
+            return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or an SNR, not both",
+                           fk);
+        if (fk && nparams_given)
+            return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or the parameters of "
+                                      "model '%s', not both",
+                           fk, type->name);
+        if (fk) {
+            st = physical_route(s, type, intensity, nl, params);
+            /* the Gaussian models' levels are then photocurrents */
+            if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
+                req->level_unit = req->output_unit = "A";
+        }
+        else if (snr_keys)
+            st = snr_route(s, type, nl, dims, params);
+        if (st == QC_OK)
+            st = qc_model_alloc(type, params, model);
+        if (st != QC_OK)
+            return st;
+    }
+    req->model = *model;
+    req->levels = s->levels;
+    req->nlevels = nl;
+    req->probabilities = s->probabilities;
+    req->thresholds = s->thresholds;
+    if ((st = design_options(s, dims, optimize, req)) != QC_OK)
+        goto fail;
+    return QC_OK;
+fail:
+    qc_alphabet_free(alpha);
+    qc_model_free(*model);
+    *model = NULL;
+    return st;
+}

@@ -1,0 +1,28 @@
+/* settings_internal.h — what settings.c and settings_build.c share. */
+#ifndef QC_SETTINGS_INTERNAL_H
+#define QC_SETTINGS_INTERNAL_H
+
+#include "core/internal.h"
+#include "core/parse.h"
+#include "quantcap/study.h"
+
+#define MAX_ENTRIES 64
+#define VALUE_MAX 65536
+
+struct qc_settings {
+    size_t n;
+    char *key[MAX_ENTRIES];
+    char *value[MAX_ENTRIES];
+    /* parsed lists, owned, refreshed by qc_settings_build */
+    double *levels, *probabilities, *thresholds;
+    /* input constraints of the last build (the request points here) */
+    qc_constraints constraints;
+};
+
+
+/* Free the lists parsed by the last build. */
+void qc_settings_free_lists(qc_settings *s);
+/* Is `key` one of the design keys (not a model parameter)? */
+int qc_setting_is_design_key(const char *key);
+
+#endif
