@@ -6,6 +6,7 @@
 #include "quantcap/status.h"
 #include "quantcap/dmc.h"
 #include "quantcap/info.h"
+#include "core/parse.h" /* the number grammar and safe quoting */
 
 /* Record a detail message for the calling thread and return `status`.
  * Use as: return qc_fail(QC_EINVAL, "'sigma' must be > 0 (got %g)", s); */

@@ -1,11 +1,12 @@
-/* design.c — qc_design, the single entry point of threshold design:
- * checks the request, runs the chosen strategy (uniform with optimized
- * range, fixed thresholds, Lloyd–Max, MI-optimal DP + refinement; for the
- * capacity objective the joint design of joint.c), and fills the result
- * with the rate, its certified upper bound, the unquantized reference for
- * the same levels and law and the loss (the limits on the rates and the
- * SNR penalty follow in rate_limits.c). Also the names
- * of objectives and quantizers, and qc_design_compare. */
+/* design.c — the threshold design proper: checks the request, runs the
+ * request's strategy from the strategy table (uniform with optimized
+ * range, fixed thresholds, Lloyd–Max, MI-optimal DP + refinement) for the
+ * MI objective, or the alternation of thresholds and law (alternation.c)
+ * for the capacity objective, and fills the result with the rate, its
+ * certified upper bound, the unquantized reference for the same levels
+ * and law and the loss (the limits on the rates and the SNR penalty
+ * follow in rate_limits.c). The alphabet stages run around it
+ * (input_design.c). */
 #include "design/design_internal.h"
 
 #include <math.h>
@@ -13,62 +14,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define DEFAULT_TOL_BITS 1e-9
 #define LAW_TOL 1e-9
-
-static const char *const objective_names[QC_OBJECTIVE_COUNT] = {
-    [QC_OBJECTIVE_MI] = "mi",
-    [QC_OBJECTIVE_CAPACITY] = "capacity",
-    [QC_OBJECTIVE_GMI] = "gmi",
-};
-
-const char *qc_objective_name(qc_objective objective)
-{
-    return (unsigned)objective < QC_OBJECTIVE_COUNT ? objective_names[objective]
-                                                    : NULL;
-}
-
-qc_status qc_objective_parse(const char *name, qc_objective *out)
-{
-    for (int i = 0; name && i < QC_OBJECTIVE_COUNT; i++)
-        if (strcmp(name, objective_names[i]) == 0) {
-            *out = (qc_objective)i;
-            return QC_OK;
-        }
-    return qc_fail(QC_EINVAL, "unknown objective '%s' (choose mi, capacity or gmi)",
-                   name ? name : "");
-}
-
-qc_status qc_cells_from_bits(int bits, size_t *cells)
-{
-    if (bits < 1 || bits > QC_MAX_BITS)
-        return qc_fail(QC_EINVAL, "bits must be between 1 and %d (got %d)",
-                       QC_MAX_BITS, bits);
-    *cells = (size_t)1 << bits;
-    return QC_OK;
-}
-
-void qc_design_request_default(qc_design_request *req)
-{
-    memset(req, 0, sizeof *req);
-    req->objective = QC_OBJECTIVE_MI;
-    req->quantizer = QC_QUANTIZER_OPTIMAL;
-    req->tol_bits = DEFAULT_TOL_BITS;
-}
-
-void qc_design_result_clear(qc_design_result *res)
-{
-    if (!res)
-        return;
-    free(res->reconstruction);
-    free(res->thresholds);
-    free(res->levels);
-    free(res->input);
-    qc_dmc_free(res->channel);
-    memset(res, 0, sizeof *res);
-}
-
-/* ---- request checks ------------------------------------------------- */
 
 static qc_status check_law(const double *p, size_t n)
 {
@@ -87,7 +33,7 @@ static qc_status check_law(const double *p, size_t n)
 
 /* Check a request; *cells receives K. `fixed` says whether thresholds
  * must be given and checked. */
-static qc_status check_request(const qc_design_request *req, int fixed,
+qc_status qc_design_check_request(const qc_design_request *req, int fixed,
                                size_t *cells)
 {
     if (!req)
@@ -200,20 +146,13 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     return QC_OK;
 }
 
-/* The alphabet stages (src/alphabet/input_design.c) run around the
- * threshold design below. */
-qc_status qc_design(const qc_design_request *req, qc_design_result *res)
-{
-    return qc_input_design(req, res);
-}
-
 qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
                                size_t ncosts, qc_design_result *res)
 {
     qc_gsl_init();
     memset(res, 0, sizeof *res);
     size_t K;
-    qc_status st = check_request(req, req && req->quantizer == QC_QUANTIZER_FIXED, &K);
+    qc_status st = qc_design_check_request(req, req && req->quantizer == QC_QUANTIZER_FIXED, &K);
     if (st != QC_OK)
         return st;
     const size_t n = req->nlevels;
@@ -227,7 +166,7 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
                        : qc_cells_usable(req->model, req->levels, n, K);
     r.nthresholds = r.cells_used - 1;
     r.nlevels = n;
-    r.tol_bits = req->tol_bits > 0.0 ? req->tol_bits : DEFAULT_TOL_BITS;
+    r.tol_bits = req->tol_bits > 0.0 ? req->tol_bits : QC_DESIGN_DEFAULT_TOL_BITS;
     r.mse = NAN;
     r.snr_db = NAN;
     r.snr_penalty_db = NAN;
@@ -275,84 +214,3 @@ fail:
     return st;
 }
 
-/* ---- all strategies on one channel ---------------------------------- */
-
-void qc_design_comparison_clear(qc_design_comparison *cmp)
-{
-    if (!cmp)
-        return;
-    for (size_t i = 0; i < QC_COMPARE_MAX; i++)
-        qc_design_result_clear(&cmp->result[i]);
-    memset(cmp, 0, sizeof *cmp);
-}
-
-void qc_design_progress(const qc_design_request *req, size_t done, size_t total)
-{
-    if (req && req->progress && total > 0)
-        req->progress(req->progress_user, done < total ? done : total, total);
-}
-
-static const char *unit_or_empty(const char *u) { return u ? u : ""; }
-
-const char *qc_design_level_unit(const qc_design_request *req)
-{
-    if (!req)
-        return "";
-    if (req->level_unit)
-        return req->level_unit;
-    return req->model ? unit_or_empty(req->model->type->level_unit) : "";
-}
-
-const char *qc_design_output_unit(const qc_design_request *req)
-{
-    if (!req)
-        return "";
-    if (req->output_unit)
-        return req->output_unit;
-    return req->model ? unit_or_empty(req->model->type->output_unit) : "";
-}
-
-const char *qc_design_snr_definition(const qc_design_request *req)
-{
-    if (!req || !req->model || !req->model->type->snr)
-        return NULL;
-    if (req->dimensions == 2 && req->model->type == &qc_model_gauss)
-        return "Es/N0 = E|x|^2/(2 sigma^2) (symbol energy over the noise density; sigma^2 "
-               "per quadrature)";
-    return req->model->type->snr_definition;
-}
-
-qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *cmp)
-{
-    memset(cmp, 0, sizeof *cmp);
-    size_t K;
-    int with_fixed = req && req->thresholds != NULL;
-    qc_status st = check_request(req, with_fixed, &K);
-    if (st != QC_OK)
-        return st;
-    static const qc_quantizer_kind order[] = {
-        QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
-        QC_QUANTIZER_FIXED};
-    qc_status first = QC_OK;
-    char first_msg[sizeof cmp->message[0]] = "";
-    for (size_t i = 0; i < sizeof order / sizeof order[0]; i++) {
-        if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
-            continue;
-        qc_design_request one = *req;
-        one.quantizer = order[i];
-        one.cells = K;
-        size_t k = cmp->count++;
-        cmp->kind[k] = order[i];
-        cmp->status[k] = qc_design(&one, &cmp->result[k]);
-        if (cmp->status[k] != QC_OK) {
-            snprintf(cmp->message[k], sizeof cmp->message[k], "%s", qc_last_error());
-            if (first == QC_OK) {
-                first = cmp->status[k];
-                snprintf(first_msg, sizeof first_msg, "%s", cmp->message[k]);
-            }
-        }
-    }
-    if (first != QC_OK)
-        return qc_fail(first, "%s", first_msg);
-    return QC_OK;
-}

@@ -9,6 +9,9 @@
 #include "quantcap/design.h"
 #include "quantcap/quantizer.h"
 
+/* Tolerance of the certified rates when the request gives none (bits). */
+#define QC_DESIGN_DEFAULT_TOL_BITS 1e-9
+
 /* ---- design.c ----------------------------------------------------------- */
 
 /* qc_design without the alphabet stages (constraints, QAM, GMI, level
@@ -18,6 +21,10 @@
  * the request's own per-level cost (not both). */
 qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
                                size_t ncosts, qc_design_result *res);
+
+/* Check a request; *cells receives K. `fixed` says whether thresholds
+ * must be given and checked. The message names the field. */
+qc_status qc_design_check_request(const qc_design_request *req, int fixed, size_t *cells);
 
 /* ---- alternation.c ---------------------------------------------------- */
 

@@ -314,3 +314,11 @@ done:
     free(c.mean_cost);
     return st;
 }
+
+/* The entry point: the alphabet stages above run around the threshold
+ * design (design.c). */
+qc_status qc_design(const qc_design_request *req, qc_design_result *res)
+{
+    return qc_input_design(req, res);
+}
+

@@ -6,6 +6,7 @@
 #include "study/sweep.h"
 
 #include "core/internal.h"
+#include "quantcap/atomic_file.h"
 
 #include <errno.h>
 #include <stdio.h>

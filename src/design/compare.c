@@ -1,0 +1,51 @@
+/* compare.c — every threshold strategy on the same channel, side by
+ * side (`design --compare`): uniform, Lloyd–Max, optimal, and fixed when
+ * the request has thresholds, each a complete qc_design. */
+#include "design/design_internal.h"
+
+#include <stdio.h>
+#include <string.h>
+
+void qc_design_comparison_clear(qc_design_comparison *cmp)
+{
+    if (!cmp)
+        return;
+    for (size_t i = 0; i < QC_COMPARE_MAX; i++)
+        qc_design_result_clear(&cmp->result[i]);
+    memset(cmp, 0, sizeof *cmp);
+}
+
+qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *cmp)
+{
+    memset(cmp, 0, sizeof *cmp);
+    size_t K;
+    int with_fixed = req && req->thresholds != NULL;
+    qc_status st = qc_design_check_request(req, with_fixed, &K);
+    if (st != QC_OK)
+        return st;
+    static const qc_quantizer_kind order[] = {
+        QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
+        QC_QUANTIZER_FIXED};
+    qc_status first = QC_OK;
+    char first_msg[sizeof cmp->message[0]] = "";
+    for (size_t i = 0; i < sizeof order / sizeof order[0]; i++) {
+        if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
+            continue;
+        qc_design_request one = *req;
+        one.quantizer = order[i];
+        one.cells = K;
+        size_t k = cmp->count++;
+        cmp->kind[k] = order[i];
+        cmp->status[k] = qc_design(&one, &cmp->result[k]);
+        if (cmp->status[k] != QC_OK) {
+            snprintf(cmp->message[k], sizeof cmp->message[k], "%s", qc_last_error());
+            if (first == QC_OK) {
+                first = cmp->status[k];
+                snprintf(first_msg, sizeof first_msg, "%s", cmp->message[k]);
+            }
+        }
+    }
+    if (first != QC_OK)
+        return qc_fail(first, "%s", first_msg);
+    return QC_OK;
+}
