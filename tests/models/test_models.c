@@ -1,14 +1,14 @@
 /* test_models.c — the model interface and the closed-form noise models
  * (gauss-sd, poisson, preamp, apd-gauss): registry, parameter checking,
  * levels, moments, tails and the discretized matrices. The scipy
- * cross-check of the CDFs at many points is tests/ref/check_models.py. */
+ * cross-check of the CDFs at many points is tests/models/check_models.py. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
 
-#include "assert_near.h"
+#include "test_helpers.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -252,7 +252,7 @@ static void test_preamp(void **state)
     double q = exp(-t) * (1 + t + t * t / 2);
     assert_near(m->type->above(m, 0.0, t) / q, 1.0, TOL_TIGHT);
     /* m = 1, 2Y ~ ncx2(2, 2x): P(Y < t) = 1 − Q1(√(2x), √(2t)) ... checked
-     * against scipy in tests/ref; here: monotone in x (more signal, less
+     * against scipy in tests/models; here: monotone in x (more signal, less
      * mass below a threshold) */
     double prev = 1.0;
     for (double x = 0.0; x < 50.0; x += 2.5) {

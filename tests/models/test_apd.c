@@ -4,15 +4,15 @@
  * counts and visible disagreement at small counts, lattice vs smooth
  * regimes, plan reuse across levels, high counts (closed-form variance
  * and an Edgeworth series from the exact cumulants). The CDF against an
- * independent numpy/scipy computation is in tests/ref/check_models.py,
- * more high-count cases in tests/ref/check_apd_highcount.py. */
+ * independent numpy/scipy computation is in tests/models/check_models.py,
+ * more high-count cases in tests/models/check_apd_highcount.py. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
 
-#include "assert_near.h"
+#include "test_helpers.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -225,7 +225,7 @@ static void test_unquantized(void **state)
 #define TOL_EDGEWORTH 1e-11 /* CDF vs the Edgeworth series below: the first
                              * omitted order (λ^{−5/2}) is 1.1e-13 at
                              * λ = 1.03e5 and smaller beyond, as computed
-                             * by tests/ref/check_apd_highcount.py; the
+                             * by tests/models/check_apd_highcount.py; the
                              * model itself measured 2.8e-13, 4e-13 and
                              * 2.8e-12 at λ = 1.03e5, 2.3e5, 1e7          */
 

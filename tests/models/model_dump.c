@@ -1,5 +1,5 @@
 /* model_dump.c — reads a JSON list of queries on stdin and prints the
- * model values as JSON, for the scipy cross-checks in tests/ref/.
+ * model values as JSON, for the scipy cross-checks in tests/models/.
  * Query: {"model": NAME, "params": {NAME: VALUE, ...} | "table": PATH,
  *         "x": LEVEL, "t": [T, ...]}
  * Answer per query: {"below": [...], "above": [...], "density": [...],

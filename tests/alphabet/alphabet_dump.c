@@ -1,5 +1,5 @@
 /* alphabet_dump.c — prints, as JSON, the quantcap values that
- * tests/ref/alphabet_ref.py checks against scipy: 16-QAM (two 4-PAM
+ * tests/alphabet/alphabet_ref.py checks against scipy: 16-QAM (two 4-PAM
  * quadratures) with Gray labels at Es/N0 = 10 dB, unquantized and with
  * 8-bit optimal quantizers per quadrature, for the mi and gmi objectives:
  * rates per complex symbol, dispersion, the normal approximation and the

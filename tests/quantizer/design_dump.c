@@ -1,5 +1,5 @@
 /* design_dump.c — prints, as JSON, the quantcap values that
- * tests/ref/quantizer_ref.py checks against scipy: unquantized BPSK rates,
+ * tests/quantizer/quantizer_ref.py checks against scipy: unquantized BPSK rates,
  * MI-optimal and uniform BPSK quantizers, and Lloyd–Max quantizers of a
  * Gaussian and of a two-component Gaussian mixture. */
 #include <math.h>

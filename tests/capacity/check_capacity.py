@@ -2,7 +2,7 @@
 """check_capacity.py — cross-check of the capacity engine against an
 independent computation with scipy/numpy (Debian python3-scipy).
 
-Runs the dump program given as argv[1] (tests/ref/capacity_dump.c),
+Runs the dump program given as argv[1] (tests/capacity/capacity_dump.c),
 which prints random small channels (some with input costs and a budget)
 together with quantcap's certified capacity, upper bound and input law.
 For each case the capacity (or capacity under the budget) is recomputed

@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """check_models.py — cross-check quantcap's noise models against scipy.
 
-Runs tests/model_dump (path in argv[1]) on a list of queries and compares
+Runs tests/models/model_dump (path in argv[1]) on a list of queries and compares
 P(Y < t | x), P(Y >= t | x), the density and the moments with values
 computed independently here:
   gauss-sd   scipy.stats.norm (cdf, sf, pdf)

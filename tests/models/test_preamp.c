@@ -10,7 +10,7 @@
 
 #include <math.h>
 
-#include "assert_near.h"
+#include "test_helpers.h"
 #include "quantcap.h"
 
 #define TOL_SUM 1e-13   /* |P(Y < t) + P(Y ≥ t) − 1|                      */
@@ -96,7 +96,7 @@ static void test_against_scipy(void **state)
 
 /* Designs of two equiprobable levels, 2 bits: they succeed, the quantized
  * rate stays below the unquantized one, and that matches
- * scipy.integrate.quad over 2·ncx2.pdf(2y, 2m, 2x) (tests/ref/check_preamp.py
+ * scipy.integrate.quad over 2·ncx2.pdf(2y, 2m, 2x) (tests/models/check_preamp.py
  * computes the same values). Before, 1000 modes gave 0.5 bit unquantized
  * and 3e5 or 1e6 modes failed. */
 static void test_design_many_modes(void **state)

@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """Cross-check of quantcap's threshold designs against scipy.
 
-Runs the dump program given as argv[1] (tests/ref/design_dump.c), then
+Runs the dump program given as argv[1] (tests/quantizer/design_dump.c), then
 recomputes every value independently with scipy/numpy:
 
 * unquantized BPSK rate C = 1 - E[log2(1 + exp(-2 Y A / s^2))], Y ~ N(A, s^2)

@@ -7,7 +7,7 @@
 #include <stdint.h>
 #include <cmocka.h>
 
-#include "assert_near.h"
+#include "test_helpers.h"
 
 #include <math.h>
 #include <stdlib.h>

@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """Cross-check of quantcap's alphabet module against scipy/numpy.
 
-Runs the dump program given as argv[1] (tests/ref/alphabet_dump.c), then
+Runs the dump program given as argv[1] (tests/alphabet/alphabet_dump.c), then
 recomputes independently:
 
 * unquantized 4-PAM MI and Gray-labelled BICM GMI (Caire, Taricco, Biglieri,

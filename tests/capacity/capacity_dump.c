@@ -1,7 +1,7 @@
 /* capacity_dump.c — runs the capacity engine (Blahut–Arimoto, Blahut
  * 1972 / Arimoto 1972, with and without an input cost) on a fixed set
  * of random small channels and prints channels and results as JSON for
- * tests/ref/check_capacity.py, which recomputes them with scipy. */
+ * tests/capacity/check_capacity.py, which recomputes them with scipy. */
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>

@@ -24,7 +24,7 @@ collecting the terms of order lambda^{-s/2} (S. I. Blinnikov and
 R. Moessner, "Expansions for nearly Gaussian distributions," Astron.
 Astrophys. Suppl. Ser. 130, 193-205, 1998). The series is summed through
 order ORDER; the largest term of the next order is printed as its
-accuracy and must be far below the tolerance. Runs tests/model_dump
+accuracy and must be far below the tolerance. Runs tests/models/model_dump
 (argv[1]). Exits 1 on any mismatch.
 """
 import json

@@ -1,4 +1,4 @@
-/* assert_near.h — absolute-tolerance comparison of doubles for cmocka
+/* test_helpers.h — absolute-tolerance comparison of doubles for cmocka
  * tests (cmocka's assert_float_equal works in float). Include after
  * cmocka.h. */
 #ifndef QC_TEST_ASSERT_NEAR_H

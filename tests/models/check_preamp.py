@@ -6,7 +6,7 @@ Model parametrization (docs/models.md): energies in units of the ASE
 energy per mode, level x = signal energy, Y = ncx2(2m, 2x)/2 with mean
 m + x and variance m + 2x.
 
-Runs tests/model_dump (argv[1]) and, where given, the quantcap CLI
+Runs tests/models/model_dump (argv[1]) and, where given, the quantcap CLI
 (argv[2]) and checks
  1. P(Y < t), P(Y >= t) and the density at t = mean + k·sd,
     |k| <= 30, against scipy.stats.ncx2 (Boost's noncentral chi-square,
