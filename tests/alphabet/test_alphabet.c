@@ -11,6 +11,7 @@
 #include <stdint.h>
 #include <cmocka.h>
 
+#define TEST_RNG_SEED 12345 /* random channels and laws below */
 #include "test_helpers.h"
 
 #include <math.h>
@@ -27,12 +28,11 @@
 #define TOL_QUAD 1e-8   /* bits: adaptive quadrature against quadrature */
 #define TOL_LEVEL 2e-3  /* level units: Nelder–Mead optimum            */
 #define TOL_FINE 2e-3   /* bits: 12-bit quantizer against unquantized  */
-
-#define assert_message(needle)                                                         \
-    do {                                                                               \
-        if (!strstr(qc_last_error(), (needle)))                                        \
-            fail_msg("message '%s' lacks '%s'", qc_last_error(), (needle));            \
-    } while (0)
+#define TOL_FORMULA 1e-10  /* bits: a closed formula evaluated two ways */
+#define TOL_GAP_DB 1e-9    /* dB: shaping gap of a rate on the Shannon curve */
+#define TOL_DESIGN 1e-6    /* bits: a designed 1-bit rate against its closed form */
+#define TOL_EXACT 0.0 /* a parsed setting is the decimal number given */
+#define TOL_QUAD_ERR 1e-9 /* bits: error estimate of an adaptive quadrature */
 
 static qc_model *gauss(double sigma)
 {
@@ -50,40 +50,6 @@ static void request(qc_design_request *r, const qc_model *m, const double *level
     r->nlevels = n;
     r->cells = cells;
     r->skip_snr_penalty = 1;
-}
-
-/* A random row-stochastic matrix with a fixed-seed generator. */
-static unsigned long rng_state = 12345;
-static double uniform01(void)
-{
-    rng_state = rng_state * 6364136223846793005UL + 1442695040888963407UL;
-    return (double)(rng_state >> 11) / 9007199254740992.0;
-}
-
-static qc_dmc *random_channel(size_t nx, size_t ny)
-{
-    qc_dmc *d;
-    assert_int_equal(qc_dmc_alloc(nx, ny, &d), QC_OK);
-    for (size_t x = 0; x < nx; x++) {
-        double s = 0.0;
-        for (size_t y = 0; y < ny; y++) {
-            double u = uniform01();
-            d->p[x * ny + y] = u * u * u; /* some nearly empty cells */
-            s += d->p[x * ny + y];
-        }
-        for (size_t y = 0; y < ny; y++)
-            d->p[x * ny + y] /= s;
-    }
-    return d;
-}
-
-static void random_law(double *r, size_t n)
-{
-    double s = 0.0;
-    for (size_t i = 0; i < n; i++)
-        s += r[i] = uniform01() + 1e-3;
-    for (size_t i = 0; i < n; i++)
-        r[i] /= s;
 }
 
 /* ---- alphabets ------------------------------------------------------- */
@@ -323,13 +289,13 @@ static void test_gmi_properties(void **state)
     for (int trial = 0; trial < 60; trial++) {
         unsigned nbits = 1 + (unsigned)(uniform01() * 4); /* 2..16 inputs */
         size_t nx = (size_t)1 << nbits, ny = 2 + (size_t)(uniform01() * 40);
-        qc_dmc *d = random_channel(nx, ny);
+        qc_dmc *d = random_dmc(nx, ny, 0.0);
         double *r = malloc(nx * sizeof *r), *lv = malloc(nx * sizeof *lv);
         size_t *lab = malloc(nx * sizeof *lab);
         for (size_t x = 0; x < nx; x++)
             lv[x] = uniform01();
         assert_int_equal(qc_gray_labels(lv, nx, lab, &nbits), QC_OK);
-        random_law(r, nx);
+        random_law(r, nx, 0.0);
         double g, mi;
         assert_int_equal(qc_gmi(d, r, lab, nbits, &g), QC_OK);
         assert_int_equal(qc_mutual_information(d, r, &mi), QC_OK);
@@ -394,7 +360,7 @@ static void test_unquantized_gmi(void **state)
     assert_int_equal(qc_unquantized_gmi(m, pam, r, 4, lab, nb, &g, &err), QC_OK);
     assert_int_equal(qc_unquantized_mi(m, pam, r, 4, &mi, NULL), QC_OK);
     assert_true(g < mi);
-    assert_true(err < 1e-9);
+    assert_true(err < TOL_QUAD_ERR);
     enum { NT = 4095 };
     static double t[NT];
     for (size_t j = 0; j < NT; j++)
@@ -472,7 +438,7 @@ static void test_normal_approximation(void **state)
     /* ε = Q(1) = ½·erfc(1/√2): one standard deviation √(V/n) below */
     double eps = 0.5 * erfc(1.0 / M_SQRT2);
     assert_int_equal(qc_normal_approximation(0.5, 0.25, 100, eps, &r), QC_OK);
-    assert_near(r, 0.5 - 0.05 + log2(100.0) / 200.0, 1e-10);
+    assert_near(r, 0.5 - 0.05 + log2(100.0) / 200.0, TOL_FORMULA);
     assert_int_equal(qc_normal_approximation(0.5, 0.25, 0, 0.1, &r), QC_EINVAL);
     assert_message("blocklength");
     assert_int_equal(qc_normal_approximation(0.5, 0.25, 10, 1.0, &r), QC_EINVAL);
@@ -486,7 +452,7 @@ static void test_shaping_gap(void **state)
     /* on the Shannon curve ½·log2(1 + snr) (Shannon 1948) the gap is 0 */
     for (double db = -10.0; db <= 30.0; db += 5.0) {
         double c = 0.5 * log2(1.0 + pow(10.0, db / 10.0));
-        assert_near(qc_shaping_gap_db(db, c), 0.0, 1e-9);
+        assert_near(qc_shaping_gap_db(db, c), 0.0, TOL_GAP_DB);
         /* a smaller rate is reached with less SNR: positive gap */
         assert_true(qc_shaping_gap_db(db, 0.9 * c) > 0.0);
     }
@@ -600,7 +566,7 @@ static void test_optimize_levels_mi(void **state)
      * "A mathematical theory of communication", Bell Syst. Tech. J. 27,
      * 1948) */
     double q = 0.5 * erfc(1.0 / 1.0); /* Q(√2) = ½·erfc(1) */
-    assert_near(res.rate_bits, 1.0 - qc_binary_entropy(q) * QC_LOG2E, 1e-6);
+    assert_near(res.rate_bits, 1.0 - qc_binary_entropy(q) * QC_LOG2E, TOL_DESIGN);
     qc_design_result_clear(&res);
 
     /* 4 levels in a peak: never worse than the equally spaced start, and
@@ -654,7 +620,7 @@ static void test_settings_keys(void **state)
     assert_near(r.levels[0], -2.0, TOL_TIGHT);
     assert_near(m->params[0], sqrt(2.0 / 10.0), TOL_TIGHT);
     assert_non_null(r.constraints);
-    assert_near(r.constraints->power, 2.0, 0.0);
+    assert_near(r.constraints->power, 2.0, TOL_EXACT);
     assert_false(r.constraints->intensity);
     qc_model_free(m);
     qc_settings_free(s);
@@ -683,7 +649,7 @@ static void test_settings_keys(void **state)
                           "optimize-levels", "true", "level-starts", "2", NULL};
     assert_int_equal(build(prac, &s, &m, &r), QC_OK);
     assert_int_equal(r.blocklength, 500);
-    assert_near(r.error_rate, 1e-3, 0.0);
+    assert_near(r.error_rate, 1e-3, TOL_EXACT);
     assert_true(r.optimize_levels);
     assert_int_equal(r.level_starts, 2);
     assert_int_equal(qc_settings_set(s, "optimize-levels", "false"), QC_OK);

@@ -11,24 +11,11 @@
 
 #include "quantcap.h"
 
+#define TEST_RNG_SEED 0xc0ffee1234ULL /* the random cases */
+#include "test_helpers.h"
+
 #define CASES_FREE 16
 #define CASES_COST 12
-
-static uint64_t rng_state = 0xc0ffee1234ULL;
-/* 64-bit LCG (Knuth's MMIX constants) */
-static double uniform01(void)
-{
-    rng_state = rng_state * 6364136223846793005ULL + 1442695040888963407ULL;
-    return ((double)(rng_state >> 11) + 0.5) / 9007199254740992.0;
-}
-
-static json_t *array_of(const double *v, size_t n)
-{
-    json_t *a = json_array();
-    for (size_t i = 0; i < n; i++)
-        json_array_append_new(a, json_real(v[i]));
-    return a;
-}
 
 /* One case: a random nx × ny channel with about `zeros` of its entries
  * 0, optionally random costs in [0, 2) and a budget between the
@@ -39,17 +26,7 @@ static json_t *one_case(size_t nx, size_t ny, double zeros, int with_costs)
     if (qc_dmc_alloc(nx, ny, &d) != QC_OK)
         return NULL;
     for (size_t x = 0; x < nx; x++) {
-        double *row = d->p + x * ny, s = 0.0;
-        for (size_t y = 0; y < ny; y++) {
-            row[y] = uniform01() < zeros ? 0.0 : -log(uniform01());
-            s += row[y];
-        }
-        if (s == 0.0) {
-            row[x % ny] = 1.0;
-            s = 1.0;
-        }
-        for (size_t y = 0; y < ny; y++)
-            row[y] /= s;
+        random_law(d->p + x * ny, ny, zeros);
     }
     double costs[8], law[8];
     qc_ba_options opt;

@@ -16,46 +16,20 @@
 
 #include "quantcap.h"
 
+#define TEST_RNG_SEED 0x5eed0fca9ac17ULL /* random channels and laws below */
+#include "test_helpers.h"
+
 #define TOL_BITS 1e-9   /* engine tolerance: certified gap at stop        */
 #define TOL_ROUND 1e-12 /* rounding in certified values, bits            */
 #define TOL_MI 1e-12    /* I(r) recomputed by qc_mutual_information, bits */
 #define COST_RTOL 1e-9  /* budget met to this relative accuracy           */
 #define TOL_SLOPE 1e-6  /* multiplier vs the derivative of C(β), relative */
+#define TOL_ULP 1e-15    /* one rounding of a number of order 1 */
+#define TOL_ARGMAX 1e-5  /* the optimal law at a flat maximum, against GSL */
+#define COST_ATOL 1e-12 /* cost recomputed from the law, times (1 + budget) */
+#define TOL_DOMINATED 1e-6 /* probability left on a dominated input */
 
 /* ---- helpers ------------------------------------------------------ */
-
-static uint64_t rng_state = 0x5eed0fca9ac17ULL;
-/* 64-bit LCG (Knuth's MMIX constants): repeatable random channels. */
-static double uniform01(void)
-{
-    rng_state = rng_state * 6364136223846793005ULL + 1442695040888963407ULL;
-    return ((double)(rng_state >> 11) + 0.5) / 9007199254740992.0;
-}
-
-static size_t uniform_index(size_t n) { return (size_t)(uniform01() * (double)n) % n; }
-
-static void random_law(double *p, size_t n, double zero_fraction)
-{
-    double s = 0.0;
-    for (size_t i = 0; i < n; i++) {
-        p[i] = uniform01() < zero_fraction ? 0.0 : -log(uniform01());
-        s += p[i];
-    }
-    if (s == 0.0) {
-        p[uniform_index(n)] = 1.0;
-        s = 1.0;
-    }
-    for (size_t i = 0; i < n; i++)
-        p[i] /= s;
-}
-
-static qc_dmc *make_dmc(size_t nx, size_t ny, const double *p)
-{
-    qc_dmc *d;
-    assert_int_equal(qc_dmc_alloc(nx, ny, &d), QC_OK);
-    memcpy(d->p, p, nx * ny * sizeof *p);
-    return d;
-}
 
 static double h2_bits(double p)
 {
@@ -446,7 +420,7 @@ static void test_cost_binary_closed_form(void **state)
             assert_int_equal(res.cost_active, 1);
             assert_true(res.cost <= beta * (1.0 + COST_RTOL));
             assert_true(fabs(res.cost - beta) <= COST_RTOL * beta);
-            assert_true(fabs(law[1] - res.cost) <= 1e-15);
+            assert_true(fabs(law[1] - res.cost) <= TOL_ULP);
             /* the multiplier is the slope of C(β) (Blahut 1972) */
             double slope = binary_asym_slope(beta);
             if (!(fabs(res.multiplier - slope) <= TOL_SLOPE * slope))
@@ -501,7 +475,7 @@ static void test_cost_inactive(void **state)
     assert_true(res.multiplier == 0.0);
     /* unconstrained optimum from the closed form and GSL's minimizer */
     expect_capacity(&res, binary_asym_mi(r_star) * QC_LOG2E, "inactive budget");
-    assert_true(fabs(res.cost - r_star) <= 1e-5);
+    assert_true(fabs(res.cost - r_star) <= TOL_ARGMAX);
     opt.costs = NULL;
     assert_int_equal(qc_capacity(d, &opt, NULL, &free_res, NULL), QC_OK);
     assert_true(fabs(free_res.capacity_bits - res.capacity_bits) <= TOL_BITS);
@@ -524,7 +498,7 @@ static void test_cost_dominated_input(void **state)
     double law[3];
     assert_int_equal(qc_capacity(d, &opt, NULL, &res, law), QC_OK);
     expect_capacity(&res, binary_asym_mi(0.2) * QC_LOG2E, "dominated input");
-    assert_true(law[2] < 1e-6);
+    assert_true(law[2] < TOL_DOMINATED);
     qc_dmc_free(d);
 }
 
@@ -629,7 +603,7 @@ static void test_cost_random_properties(void **state)
             double cost = 0.0;
             for (int x = 0; x < NX; x++)
                 cost += law[x] * costs[x];
-            assert_true(fabs(cost - res.cost) <= 1e-12 * (1.0 + beta));
+            assert_true(fabs(cost - res.cost) <= COST_ATOL * (1.0 + beta));
             assert_int_equal(qc_mutual_information(d, law, &mi), QC_OK);
             assert_true(fabs(mi * QC_LOG2E - res.capacity_bits) <= TOL_MI);
             assert_true(res.capacity_bits <= free_res.upper_bound_bits + TOL_ROUND);
@@ -681,8 +655,7 @@ static void test_cost_infeasible(void **state)
 static void expect_error(qc_status got, qc_status want, const char *needle)
 {
     assert_int_equal(got, want);
-    if (!strstr(qc_last_error(), needle))
-        fail_msg("message '%s' lacks '%s'", qc_last_error(), needle);
+    assert_message(needle);
 }
 
 static void test_bad_channel(void **state)
@@ -766,7 +739,7 @@ static void test_iteration_limit(void **state)
         assert_int_equal(res.iterations, 3);
         assert_true(res.capacity_bits > 0.0);
         assert_true(res.upper_bound_bits > res.capacity_bits + TOL_BITS);
-        assert_true(fabs(res.gap_bits - (res.upper_bound_bits - res.capacity_bits)) <= 1e-15);
+        assert_true(fabs(res.gap_bits - (res.upper_bound_bits - res.capacity_bits)) <= TOL_ULP);
         double mi;
         assert_int_equal(qc_mutual_information(d, law, &mi), QC_OK);
         assert_true(fabs(mi * QC_LOG2E - res.capacity_bits) <= TOL_MI);

@@ -12,7 +12,6 @@
 
 #include <math.h>
 
-#include "photon_common.h"
 #include "quantcap.h"
 
 #define TOL_ENGINE 1e-8 /* bits: engine tolerance plus margin     */
@@ -39,7 +38,7 @@ static void test_z_channel(void **state)
         qc_dmc *d = ook_slot_channel(ns, 0.0, 2);
         assert_non_null(d);
         /* Z channel, p = e^{−n_s} (Poisson: no count for a mean of n_s);
-         * capacity as in photon_common.h (Tallini, Al-Bassam, Bose, ISIT
+         * capacity as in test_helpers.h (Tallini, Al-Bassam, Bose, ISIT
          * 2002) */
         assert_near(capacity_nats(d, NULL, 0.0) * QC_LOG2E,
                             z_capacity(exp(-ns)) * QC_LOG2E, TOL_ENGINE);
@@ -58,7 +57,7 @@ static void test_wyner(void **state)
             for (double ad = 0.01; ad >= 0.0009; ad /= 10.0) {
                 qc_dmc *d = ook_slot_channel(ad, dark[i], 8);
                 double c = capacity_nats(d, duty[k] < 1.0 ? costs : NULL, duty[k]) / ad;
-                /* Wyner, IEEE Trans. IT 34(6), 1988 (photon_common.h) */
+                /* Wyner, IEEE Trans. IT 34(6), 1988 (test_helpers.h) */
                 double w = wyner_capacity(dark[i], duty[k]);
                 assert_true(fabs(c / w - 1.0) < TOL_WYNER);
                 qc_dmc_free(d);

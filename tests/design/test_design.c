@@ -16,6 +16,7 @@
 #include <gsl/gsl_math.h> /* M_PI, M_SQRT2 */
 
 #include "quantcap.h"
+#include "test_helpers.h"
 
 #define TOL_TIGHT 1e-12   /* rounding */
 #define TOL_RATE 1e-10    /* bits: a designed rate against a closed form */
@@ -24,6 +25,17 @@
 #define TOL_HALF 1e-3     /* bits: the rate-½ BPSK limit */
 #define TOL_KL 0.005      /* relative: 2/π at −30 dB (Koch–Lapidoth) */
 #define TOL_PEN_DB 0.01   /* dB */
+#define TOL_THRESHOLD 1e-7   /* level units: a threshold that symmetry puts at 0 */
+#define TOL_SNR_DB 1e-9      /* dB: operating SNR recomputed from the parameters */
+#define TOL_QUAD_REL 1e-6    /* relative: unquantized MI by quadrature vs the design */
+#define TOL_MIRROR 1e-8      /* level units: mirrored thresholds of a symmetric design */
+#define TOL_ENGINE 1e-8      /* bits: a capacity design against its closed form */
+#define TOL_LAW 1e-4         /* probability: a mass of an optimized input law */
+#define TOL_LAW_SUM 1e-9     /* a reported input law sums to 1 */
+#define TOL_MI_BITS 1e-9     /* bits: MI recomputed from the reported channel and law */
+#define TOL_SHANNON 0.01     /* bits: fine grid and quantizer against AWGN capacity */
+#define TOL_CELL_LIMIT 1e-9 /* bits: a rate at its limit log2(cells) */
+#define TOL_QUAD_ERR 1e-9 /* bits: error estimate of an adaptive quadrature */
 
 static qc_model *gauss(double sigma)
 {
@@ -69,13 +81,13 @@ static void test_bpsk_one_bit_closed_form(void **state)
             qc_design_result res;
             assert_int_equal(qc_design(&r, &res), QC_OK);
             assert_true(fabs(res.rate_bits - want) <= TOL_RATE);
-            assert_true(fabs(res.thresholds[0]) <= 1e-7);
+            assert_true(fabs(res.thresholds[0]) <= TOL_THRESHOLD);
             assert_true(res.upper_bound_bits == res.rate_bits);
             assert_true(res.rate_bits <= res.unquantized_bits + TOL_ORDER);
             assert_true(fabs(res.loss_bits - (res.unquantized_bits - res.rate_bits)) <=
                         TOL_TIGHT);
             /* gauss SNR = E[x²]/σ² */
-            assert_true(fabs(res.snr_db - snr_db[i]) <= 1e-9);
+            assert_true(fabs(res.snr_db - snr_db[i]) <= TOL_SNR_DB);
             qc_design_result_clear(&res);
         }
         qc_model_free(m);
@@ -97,7 +109,7 @@ static void test_bpsk_rate_half_limit(void **state)
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(fabs(res.unquantized_bits - 0.5) <= TOL_HALF);
-    assert_true(res.unquantized_err_bits < 1e-9);
+    assert_true(res.unquantized_err_bits < TOL_QUAD_ERR);
     qc_design_result_clear(&res);
     qc_model_free(m);
 }
@@ -125,7 +137,7 @@ static void test_low_snr_two_over_pi(void **state)
                      QC_OK);
     double mi;
     assert_int_equal(qc_unquantized_mi(weaker, levels, res.input, 2, &mi, NULL), QC_OK);
-    assert_true(fabs(mi * QC_LOG2E - res.rate_bits) <= 1e-6 * res.rate_bits);
+    assert_true(fabs(mi * QC_LOG2E - res.rate_bits) <= TOL_QUAD_REL * res.rate_bits);
     qc_model_free(weaker);
     qc_design_result_clear(&res);
     qc_model_free(m);
@@ -146,7 +158,7 @@ static void test_bpsk_optimal_symmetric(void **state)
         assert_int_equal(qc_design(&r, &res), QC_OK);
         /* symmetric channel and law: symmetric thresholds (common practice) */
         for (size_t j = 0; j < K - 1; j++)
-            assert_true(fabs(res.thresholds[j] + res.thresholds[K - 2 - j]) <= 1e-8);
+            assert_true(fabs(res.thresholds[j] + res.thresholds[K - 2 - j]) <= TOL_MIRROR);
         assert_true(res.rate_bits > prev);
         assert_true(res.fine_cells >= K);
         prev = res.rate_bits;
@@ -329,11 +341,11 @@ static void test_capacity_one_bit_antipodal(void **state)
         assert_int_equal(qc_design(&r, &res), QC_OK);
         double sigma = m->params[0];
         double want = 1.0 - h2(0.5 * erfc(A / sigma / M_SQRT2));
-        assert_true(fabs(res.rate_bits - want) <= 1e-8);
+        assert_true(fabs(res.rate_bits - want) <= TOL_ENGINE);
         assert_true(res.upper_bound_bits >= res.rate_bits);
         assert_true(res.upper_bound_bits - res.rate_bits <= res.tol_bits + TOL_TIGHT);
-        assert_true(fabs(res.input[0] - 0.5) <= 1e-4 && fabs(res.input[8] - 0.5) <= 1e-4);
-        assert_true(fabs(res.thresholds[0]) <= 1e-7);
+        assert_true(fabs(res.input[0] - 0.5) <= TOL_LAW && fabs(res.input[8] - 0.5) <= TOL_LAW);
+        assert_true(fabs(res.thresholds[0]) <= TOL_THRESHOLD);
         assert_true(res.iterations > 0);
         assert_true(res.rate_bits <= res.unquantized_bits + TOL_ORDER);
         qc_design_result_clear(&res);
@@ -368,9 +380,9 @@ static void test_capacity_orderings(void **state)
             double s = 0.0, mi;
             for (size_t i = 0; i < 5; i++)
                 s += x->input[i];
-            assert_true(fabs(s - 1.0) <= 1e-9);
+            assert_true(fabs(s - 1.0) <= TOL_LAW_SUM);
             assert_int_equal(qc_mutual_information(x->channel, x->input, &mi), QC_OK);
-            assert_true(fabs(mi * QC_LOG2E - x->rate_bits) <= 1e-9);
+            assert_true(fabs(mi * QC_LOG2E - x->rate_bits) <= TOL_MI_BITS);
             assert_true(x->rate_bits <= x->unquantized_bits + TOL_ORDER);
             assert_true(opt->rate_bits >= x->rate_bits - x->tol_bits);
         }
@@ -423,7 +435,7 @@ static void test_capacity_shannon_limit(void **state)
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         double shannon = 0.5 * log2(1.0 + P);
-        assert_true(fabs(res.rate_bits - shannon) <= 0.01);
+        assert_true(fabs(res.rate_bits - shannon) <= TOL_SHANNON);
         assert_true(res.rate_bits <= shannon + 1e-9); /* no channel beats it */
         double power = 0.0;
         for (size_t i = 0; i < NL; i++)
@@ -537,7 +549,7 @@ static void test_penalty_undefined_when_saturated(void **state)
     request(&r, m, levels, 8, 8, QC_QUANTIZER_UNIFORM);
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
-    assert_true(fabs(res.snr_db - 30.0) <= 1e-9);
+    assert_true(fabs(res.snr_db - 30.0) <= TOL_SNR_DB);
     assert_true(3.0 - res.rate_bits <= r.tol_bits);
     assert_true(isnan(res.snr_penalty_db));
     assert_int_equal(res.snr_penalty_note, QC_PENALTY_SATURATED);
@@ -562,7 +574,7 @@ static void test_noiseless_limit(void **state)
     assert_true(res.noiseless_limit == 1);
     assert_true(res.unquantized_bits == 2.0);
     assert_true(fabs(res.rate_bits - 2.0) <= TOL_TIGHT && res.loss_bits >= 0.0);
-    assert_true(fabs(res.snr_db - (6000.0 + 10.0 * log10(5.0))) <= 1e-9);
+    assert_true(fabs(res.snr_db - (6000.0 + 10.0 * log10(5.0))) <= TOL_SNR_DB);
     assert_true(isnan(res.snr_penalty_db));
     assert_int_equal(res.snr_penalty_note, QC_PENALTY_NOISELESS);
     qc_design_result_clear(&res);
@@ -635,7 +647,7 @@ static void test_uniform_output_units(void **state)
     request(&r, m, levels, 8, 4, QC_QUANTIZER_UNIFORM);
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
-    assert_true(fabs(res.rate_bits - 2.0) <= 1e-9);
+    assert_true(fabs(res.rate_bits - 2.0) <= TOL_CELL_LIMIT);
     qc_design_result_clear(&res);
     qc_model_free(m);
 }
@@ -696,8 +708,7 @@ static void expect_einval(const qc_design_request *r, const char *needle)
     qc_design_result res;
     memset(&res, 0x5a, sizeof res);
     assert_int_equal(qc_design(r, &res), QC_EINVAL);
-    if (!strstr(qc_last_error(), needle))
-        fail_msg("message '%s' lacks '%s'", qc_last_error(), needle);
+    assert_message(needle);
     assert_null(res.thresholds); /* left empty */
     assert_null(res.channel);
     qc_design_result_clear(&res);

@@ -9,14 +9,7 @@
 #include <jansson.h>
 
 #include "quantcap.h"
-
-static json_t *array_of(const double *v, size_t n)
-{
-    json_t *a = json_array();
-    for (size_t i = 0; i < n; i++)
-        json_array_append_new(a, json_real(v[i]));
-    return a;
-}
+#include "test_helpers.h"
 
 static int fail(const char *what)
 {

@@ -17,51 +17,26 @@
 
 #include "quantcap.h"
 
+#define TEST_RNG_SEED 0x9E3779B97F4A7C15ull /* random laws and channels below */
+#include "test_helpers.h"
+
 #define TOL_TIGHT 1e-12   /* rounding of sums of a few hundred terms */
 #define TOL_TAIL 1e-10    /* relative, cells 30σ into the tail */
 #define TOL_TABLE 5e-4    /* four printed digits of a published table */
 #define TOL_SEARCH 1e-10  /* a continuous search against its own family */
+#define TOL_SIMPSON 1e-9  /* nats: Simpson's rule against the library's quadrature */
+#define TOL_LLOYD 1e-9    /* Lloyd–Max fixed point against its closed form */
+#define TOL_STEP 1e-9     /* level units: equal steps of a uniform quantizer */
 
-/* ---- deterministic random numbers (xorshift64*, Vigna 2016) ---------- */
+/* ---- random laws and channels (tests/common/test_helpers.h) ---------- */
 
-static uint64_t rng_state = 0x9E3779B97F4A7C15ull;
-
-static double urand(void)
+/* a random law with no zero entries, in a new array */
+static double *random_law_new(size_t n)
 {
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return (double)((rng_state * 0x2545F4914F6CDD1Dull) >> 11) * 0x1.0p-53;
-}
-
-static size_t irand(size_t lo, size_t hi) /* uniform in [lo, hi] */
-{
-    return lo + (size_t)(urand() * (double)(hi - lo + 1));
-}
-
-static double *random_law(size_t n)
-{
-    double *r = malloc(n * sizeof *r), s = 0.0;
-    for (size_t i = 0; i < n; i++)
-        s += r[i] = 0.05 + urand();
-    for (size_t i = 0; i < n; i++)
-        r[i] /= s;
+    double *r = malloc(n * sizeof *r);
+    assert_non_null(r);
+    random_law(r, n, 0.0);
     return r;
-}
-
-/* Any row-stochastic channel. */
-static qc_dmc *random_channel(size_t nx, size_t ny)
-{
-    qc_dmc *d;
-    assert_int_equal(qc_dmc_alloc(nx, ny, &d), QC_OK);
-    for (size_t x = 0; x < nx; x++) {
-        double s = 0.0;
-        for (size_t y = 0; y < ny; y++)
-            s += d->p[x * ny + y] = urand();
-        for (size_t y = 0; y < ny; y++)
-            d->p[x * ny + y] /= s;
-    }
-    return d;
 }
 
 /* A channel with monotone likelihood ratios along the outputs: P(y|x) ∝
@@ -73,14 +48,14 @@ static qc_dmc *random_mlr_channel(size_t nx, size_t ny)
     assert_int_equal(qc_dmc_alloc(nx, ny, &d), QC_OK);
     double *s = malloc(ny * sizeof *s), *w = malloc(ny * sizeof *w), acc = 0.0;
     for (size_t y = 0; y < ny; y++) {
-        acc += 0.1 + urand();
+        acc += 0.1 + uniform01();
         s[y] = acc;
-        w[y] = 0.2 + urand();
+        w[y] = 0.2 + uniform01();
     }
-    double v = acc * (0.02 + 0.3 * urand());
+    double v = acc * (0.02 + 0.3 * uniform01());
     v *= v;
     for (size_t x = 0; x < nx; x++) {
-        double l = urand() * acc, t = 0.0;
+        double l = uniform01() * acc, t = 0.0;
         for (size_t y = 0; y < ny; y++)
             t += d->p[x * ny + y] = w[y] * exp(-0.5 * (s[y] - l) * (s[y] - l) / v) + 1e-300;
         for (size_t y = 0; y < ny; y++)
@@ -132,9 +107,9 @@ static void test_dp_equals_exhaustive_contiguous(void **state)
 {
     (void)state;
     for (int trial = 0; trial < 300; trial++) {
-        size_t nx = irand(2, 5), ny = irand(2, 10), k = irand(1, ny);
-        qc_dmc *d = random_channel(nx, ny);
-        double *r = random_law(nx);
+        size_t nx = uniform_between(2, 5), ny = uniform_between(2, 10), k = uniform_between(1, ny);
+        qc_dmc *d = random_dmc(nx, ny, 0.0);
+        double *r = random_law_new(nx);
         size_t cuts[16];
         double mi;
         /* the plain DP is exact for every channel */
@@ -199,9 +174,9 @@ static void test_dp_binary_input_globally_optimal(void **state)
 {
     (void)state;
     for (int trial = 0; trial < 60; trial++) {
-        size_t ny = irand(2, 8), k = irand(2, ny);
-        qc_dmc *d = random_channel(2, ny);
-        double *r = random_law(2);
+        size_t ny = uniform_between(2, 8), k = uniform_between(2, ny);
+        qc_dmc *d = random_dmc(2, ny, 0.0);
+        double *r = random_law_new(2);
         /* sort the outputs by likelihood ratio P(y|0)/P(y|1) */
         size_t order[16];
         for (size_t y = 0; y < ny; y++) {
@@ -231,9 +206,10 @@ static void test_dp_fast_equals_plain(void **state)
 {
     (void)state;
     for (int trial = 0; trial < 200; trial++) {
-        size_t nx = irand(2, 6), ny = irand(4, 160), k = irand(2, ny < 40 ? ny : 40);
+        size_t nx = uniform_between(2, 6), ny = uniform_between(4, 160);
+        size_t k = uniform_between(2, ny < 40 ? ny : 40);
         qc_dmc *d = random_mlr_channel(nx, ny);
-        double *r = random_law(nx);
+        double *r = random_law_new(nx);
         size_t c1[48], c2[48];
         double m1, m2;
         assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_FAST, c1, &m1), QC_OK);
@@ -256,7 +232,7 @@ static void test_dp_fast_equals_plain(void **state)
 static void test_dp_bad_input(void **state)
 {
     (void)state;
-    qc_dmc *d = random_channel(2, 5);
+    qc_dmc *d = random_dmc(2, 5, 0.0);
     double r[2] = {0.5, 0.5}, bad[2] = {0.7, 0.7};
     size_t cuts[8];
     assert_int_equal(qc_dp_quantize(d, r, 6, QC_DP_FAST, cuts, NULL), QC_EINVAL);
@@ -406,7 +382,7 @@ static void test_unquantized_unsorted_supports(void **state)
                 ref += w * input[i] * f[i] * log(f[i] / mix);
     }
     ref *= h / 3.0;
-    if (fabs(mi - ref) > 1e-9)
+    if (fabs(mi - ref) > TOL_SIMPSON)
         fail_msg("unquantized %.15g nats, Simpson %.15g", mi, ref);
     qc_model_free(m);
 }
@@ -455,8 +431,8 @@ static void test_lloyd_max_gaussian(void **state)
     /* N = 2: outputs ±√(2/π) = ±0.7979, MSE 1 − 2/π (a half-normal mean,
      * closed form). */
     assert_int_equal(design_one(m, &level, 1, 2, QC_QUANTIZER_LLOYD_MAX, &res), QC_OK);
-    assert_true(fabs(res.reconstruction[1] - sqrt(2.0 / M_PI)) <= 1e-9);
-    assert_true(fabs(res.mse - (1.0 - 2.0 / M_PI)) <= 1e-9);
+    assert_true(fabs(res.reconstruction[1] - sqrt(2.0 / M_PI)) <= TOL_LLOYD);
+    assert_true(fabs(res.mse - (1.0 - 2.0 / M_PI)) <= TOL_LLOYD);
     qc_design_result_clear(&res);
     qc_model_free(m);
 }
@@ -489,11 +465,11 @@ static void test_uniform_is_best_of_its_family(void **state)
         /* the thresholds are evenly spaced */
         double w = res.thresholds[1] - res.thresholds[0];
         for (size_t j = 1; j + 1 < K; j++)
-            assert_true(fabs(res.thresholds[j] - res.thresholds[j - 1] - w) <= 1e-9);
+            assert_true(fabs(res.thresholds[j] - res.thresholds[j - 1] - w) <= TOL_STEP);
         /* no range in a scan of 400 (centre, width) pairs beats it */
         double t[16];
         for (int i = 0; i < 400; i++) {
-            double c = -0.3 + 0.6 * urand(), h = 0.5 + 6.0 * urand();
+            double c = -0.3 + 0.6 * uniform01(), h = 0.5 + 6.0 * uniform01();
             for (size_t j = 1; j < K; j++)
                 t[j - 1] = c - h + 2.0 * h * (double)j / (double)K;
             assert_true(mi_of(m, levels, 4, t, K - 1) <= res.rate_bits + TOL_SEARCH);

@@ -14,11 +14,7 @@
 
 #include "quantcap.h"
 
-#define assert_message(needle)                                                     \
-    do {                                                                           \
-        if (!strstr(qc_last_error(), (needle)))                                    \
-            fail_msg("message '%s' lacks '%s'", qc_last_error(), (needle));        \
-    } while (0)
+#include "test_helpers.h"
 
 static qc_scenario *parse_ok(const char *text)
 {

@@ -15,11 +15,7 @@
 #include "quantcap.h"
 #include "study/checkpoint.h"
 
-#define assert_message(needle)                                                     \
-    do {                                                                           \
-        if (!strstr(qc_last_error(), (needle)))                                    \
-            fail_msg("message '%s' lacks '%s'", qc_last_error(), (needle));        \
-    } while (0)
+#include "test_helpers.h"
 
 static char tmpdir[64];
 
