@@ -9,7 +9,7 @@
  *          · [(1−k)(M−1)/M]^{n−1},          n = 1, 2, ...
  *
  * (form recalled from memory and verified: it sums to 1 with mean M and
- * variance M²(F − 1), F = kM + (1−k)(2 − 1/M), as tests/test_apd.c
+ * variance M²(F − 1), F = kM + (1−k)(2 − 1/M), as tests/models/test_apd.c
  * checks). For k = 0 it is geometric, P(n) = (1/M)(1 − 1/M)^{n−1}. The
  * ratio P(n+1)/P(n) stays below its limit
  *   r = k^{−k/(1−k)} [(1 + k(M−1))/M]^{k/(1−k)} (M−1)/M,

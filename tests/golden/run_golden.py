@@ -41,7 +41,9 @@ M_TXT = "0.9 0.1 0\n0.1 0.8 0.1\n0 0.1 0.9\n"
 
 # README "A short tour", in order. (name, arguments, has --json, folder:
 # "source" or "scratch"). One change for speed, marked: the capacity design
-# over a 61-level grid takes tens of seconds, so it runs on 21 levels.
+# over a 61-level grid takes tens of seconds, so it runs on 21 levels. One
+# addition: `channel` without --csv (its text and JSON). The tour's closing
+# `sweep scenarios/researcher.ini` is covered by STUDIES below.
 TOUR = [
     ("help", ["--help"], False, "source"),
     ("models", ["models"], True, "source"),

@@ -1,0 +1,497 @@
+/* test_quantizer.c — the building blocks of threshold design: the
+ * dynamic programme over contiguous groupings (plain and SMAWK) against
+ * exhaustive search, its binary-input global optimality, channel merging,
+ * the discretizer deep in the Gaussian tail, Lloyd–Max on a Gaussian,
+ * and the uniform quantizer's range search. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_math.h> /* M_PI, M_SQRT2 */
+
+#include "quantcap.h"
+
+#define TEST_RNG_SEED 0x9E3779B97F4A7C15ull /* random laws and channels below */
+#include "test_helpers.h"
+
+#define TOL_TIGHT 1e-12   /* rounding of sums of a few hundred terms */
+#define TOL_TAIL 1e-10    /* relative, cells 30σ into the tail */
+#define TOL_TABLE 5e-4    /* four printed digits of a published table */
+#define TOL_SEARCH 1e-10  /* a continuous search against its own family */
+#define TOL_SIMPSON 1e-9  /* nats: Simpson's rule against the library's quadrature */
+#define TOL_LLOYD 1e-9    /* Lloyd–Max fixed point against its closed form */
+#define TOL_STEP 1e-9     /* level units: equal steps of a uniform quantizer */
+
+/* ---- random laws and channels (tests/common/test_helpers.h) ---------- */
+
+/* a random law with no zero entries, in a new array */
+static double *random_law_new(size_t n)
+{
+    double *r = malloc(n * sizeof *r);
+    assert_non_null(r);
+    random_law(r, n, 0.0);
+    return r;
+}
+
+/* A channel with monotone likelihood ratios along the outputs: P(y|x) ∝
+ * w_y·exp(−(s_y − l_x)²/2v) on increasing s_y (a Gaussian location family
+ * on an uneven grid with arbitrary output weights). */
+static qc_dmc *random_mlr_channel(size_t nx, size_t ny)
+{
+    qc_dmc *d;
+    assert_int_equal(qc_dmc_alloc(nx, ny, &d), QC_OK);
+    double *s = malloc(ny * sizeof *s), *w = malloc(ny * sizeof *w), acc = 0.0;
+    for (size_t y = 0; y < ny; y++) {
+        acc += 0.1 + uniform01();
+        s[y] = acc;
+        w[y] = 0.2 + uniform01();
+    }
+    double v = acc * (0.02 + 0.3 * uniform01());
+    v *= v;
+    for (size_t x = 0; x < nx; x++) {
+        double l = uniform01() * acc, t = 0.0;
+        for (size_t y = 0; y < ny; y++)
+            t += d->p[x * ny + y] = w[y] * exp(-0.5 * (s[y] - l) * (s[y] - l) / v) + 1e-300;
+        for (size_t y = 0; y < ny; y++)
+            d->p[x * ny + y] /= t;
+    }
+    free(s);
+    free(w);
+    return d;
+}
+
+static double merged_mi(const qc_dmc *fine, const double *r, const size_t *cuts,
+                        size_t k)
+{
+    qc_dmc *m;
+    double mi;
+    assert_int_equal(qc_dmc_merge(fine, cuts, k, &m), QC_OK);
+    assert_int_equal(qc_mutual_information(m, r, &mi), QC_OK);
+    qc_dmc_free(m);
+    return mi;
+}
+
+/* Best MI over every way of cutting ny outputs into k contiguous cells. */
+static double exhaustive_contiguous(const qc_dmc *d, const double *r, size_t k)
+{
+    size_t cuts[32];
+    cuts[0] = 0;
+    cuts[k] = d->ny;
+    for (size_t i = 1; i < k; i++)
+        cuts[i] = i;
+    double best = -1.0;
+    for (;;) {
+        double mi = merged_mi(d, r, cuts, k);
+        if (mi > best)
+            best = mi;
+        /* next combination of the k − 1 inner cuts from 1..ny−1 */
+        size_t i = k - 1;
+        while (i >= 1 && cuts[i] == d->ny - k + i)
+            i--;
+        if (i == 0)
+            break;
+        cuts[i]++;
+        for (size_t j = i + 1; j < k; j++)
+            cuts[j] = cuts[j - 1] + 1;
+    }
+    return best;
+}
+
+static void test_dp_equals_exhaustive_contiguous(void **state)
+{
+    (void)state;
+    for (int trial = 0; trial < 300; trial++) {
+        size_t nx = uniform_between(2, 5), ny = uniform_between(2, 10), k = uniform_between(1, ny);
+        qc_dmc *d = random_dmc(nx, ny, 0.0);
+        double *r = random_law_new(nx);
+        size_t cuts[16];
+        double mi;
+        /* the plain DP is exact for every channel */
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_PLAIN, cuts, &mi), QC_OK);
+        double best = exhaustive_contiguous(d, r, k);
+        assert_true(fabs(mi - best) <= TOL_TIGHT);
+        assert_true(fabs(merged_mi(d, r, cuts, k) - mi) <= TOL_TIGHT);
+        qc_dmc_free(d);
+        /* SMAWK is exact where the quadrangle inequality holds (He, Cai,
+         * Song, Mei, IEEE Trans. IT 2021): monotone likelihood ratios */
+        d = random_mlr_channel(nx, ny);
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_FAST, cuts, &mi), QC_OK);
+        best = exhaustive_contiguous(d, r, k);
+        assert_true(fabs(mi - best) <= TOL_TIGHT);
+        qc_dmc_free(d);
+        free(r);
+    }
+}
+
+/* Best MI over all partitions of the outputs into at most k blocks
+ * (restricted growth strings). */
+static double exhaustive_partitions(const qc_dmc *d, const double *r, size_t k)
+{
+    const size_t n = d->ny;
+    size_t a[16] = {0}, mx[16] = {0};
+    double best = -1.0;
+    qc_dmc *m;
+    assert_int_equal(qc_dmc_alloc(d->nx, k, &m), QC_OK);
+    for (;;) {
+        memset(m->p, 0, d->nx * k * sizeof *m->p);
+        for (size_t x = 0; x < d->nx; x++)
+            for (size_t y = 0; y < n; y++)
+                m->p[x * k + a[y]] += d->p[x * n + y];
+        double mi;
+        assert_int_equal(qc_mutual_information(m, r, &mi), QC_OK);
+        if (mi > best)
+            best = mi;
+        size_t i = n - 1;
+        while (i >= 1 && (a[i] == mx[i - 1] + 1 || a[i] + 1 >= k))
+            i--;
+        if (i == 0)
+            break;
+        a[i]++;
+        mx[i] = a[i] > mx[i - 1] ? a[i] : mx[i - 1];
+        for (size_t j = i + 1; j < n; j++) {
+            a[j] = 0;
+            mx[j] = mx[j - 1];
+        }
+    }
+    qc_dmc_free(m);
+    return best;
+}
+
+static double lr_key[64];
+static int by_lr(const void *a, const void *b)
+{
+    double u = lr_key[*(const size_t *)a], v = lr_key[*(const size_t *)b];
+    return (u > v) - (u < v);
+}
+
+static void test_dp_binary_input_globally_optimal(void **state)
+{
+    (void)state;
+    for (int trial = 0; trial < 60; trial++) {
+        size_t ny = uniform_between(2, 8), k = uniform_between(2, ny);
+        qc_dmc *d = random_dmc(2, ny, 0.0);
+        double *r = random_law_new(2);
+        /* sort the outputs by likelihood ratio P(y|0)/P(y|1) */
+        size_t order[16];
+        for (size_t y = 0; y < ny; y++) {
+            order[y] = y;
+            lr_key[y] = d->p[y] / d->p[ny + y];
+        }
+        qsort(order, ny, sizeof *order, by_lr);
+        qc_dmc *s;
+        assert_int_equal(qc_dmc_alloc(2, ny, &s), QC_OK);
+        for (size_t x = 0; x < 2; x++)
+            for (size_t y = 0; y < ny; y++)
+                s->p[x * ny + y] = d->p[x * ny + order[y]];
+        size_t cuts[16];
+        double mi;
+        assert_int_equal(qc_dp_quantize(s, r, k, QC_DP_FAST, cuts, &mi), QC_OK);
+        /* Kurkoski & Yagi, IEEE Trans. IT 60(8), 2014: for binary input the
+         * DP over LR-sorted outputs is optimal among ALL quantizers */
+        double best = exhaustive_partitions(d, r, k);
+        assert_true(fabs(mi - best) <= TOL_TIGHT);
+        qc_dmc_free(s);
+        qc_dmc_free(d);
+        free(r);
+    }
+}
+
+static void test_dp_fast_equals_plain(void **state)
+{
+    (void)state;
+    for (int trial = 0; trial < 200; trial++) {
+        size_t nx = uniform_between(2, 6), ny = uniform_between(4, 160);
+        size_t k = uniform_between(2, ny < 40 ? ny : 40);
+        qc_dmc *d = random_mlr_channel(nx, ny);
+        double *r = random_law_new(nx);
+        size_t c1[48], c2[48];
+        double m1, m2;
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_FAST, c1, &m1), QC_OK);
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_PLAIN, c2, &m2), QC_OK);
+        assert_true(fabs(m1 - m2) <= TOL_TIGHT);
+        /* the cuts are valid and give the reported value */
+        assert_true(c1[0] == 0 && c1[k] == ny);
+        for (size_t i = 0; i < k; i++)
+            assert_true(c1[i] < c1[i + 1]);
+        assert_true(fabs(merged_mi(d, r, c1, k) - m1) <= TOL_TIGHT);
+        /* data processing (Cover & Thomas, Thm 2.8.1): merging never gains */
+        double full;
+        assert_int_equal(qc_mutual_information(d, r, &full), QC_OK);
+        assert_true(m1 <= full + TOL_TIGHT);
+        qc_dmc_free(d);
+        free(r);
+    }
+}
+
+static void test_dp_bad_input(void **state)
+{
+    (void)state;
+    qc_dmc *d = random_dmc(2, 5, 0.0);
+    double r[2] = {0.5, 0.5}, bad[2] = {0.7, 0.7};
+    size_t cuts[8];
+    assert_int_equal(qc_dp_quantize(d, r, 6, QC_DP_FAST, cuts, NULL), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "5 fine outputs into 6 cells"));
+    assert_int_equal(qc_dp_quantize(d, r, 0, QC_DP_FAST, cuts, NULL), QC_EINVAL);
+    assert_int_equal(qc_dp_quantize(d, bad, 2, QC_DP_FAST, cuts, NULL), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "sum to 1.39999"));
+    size_t badcuts[3] = {0, 3, 3};
+    qc_dmc *m;
+    assert_int_equal(qc_dmc_merge(d, badcuts, 2, &m), QC_EINVAL);
+    assert_null(m);
+    /* one cell: everything merged, nothing learned */
+    double mi;
+    assert_int_equal(qc_dp_quantize(d, r, 1, QC_DP_PLAIN, cuts, &mi), QC_OK);
+    assert_true(cuts[0] == 0 && cuts[1] == 5 && fabs(mi) <= TOL_TIGHT);
+    qc_dmc_free(d);
+}
+
+/* ---- discretizer deep in the tail ------------------------------------ */
+
+static void test_discretize_tail_80db(void **state)
+{
+    (void)state;
+    /* levels ±1, σ = 1e-4: SNR = 80 dB */
+    const double sigma = 1e-4, levels[2] = {-1.0, 1.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    double t[7] = {-0.5, 0.0, 1.0 - 35 * sigma, 1.0 + 30 * sigma, 1.0 + 31 * sigma,
+                   1.0 + 36 * sigma, 1.0 + 37 * sigma};
+    qc_dmc *d;
+    assert_int_equal(qc_discretize(m, levels, 2, t, 7, &d), QC_OK);
+    for (size_t i = 0; i < d->nx * d->ny; i++)
+        assert_true(isfinite(d->p[i]) && d->p[i] >= 0.0);
+    /* Independent values with the C library's erfc: P(a ≤ Y < b | x=1)
+     * = ½[erfc((a−1)/(σ√2)) − erfc((b−1)/(σ√2))] (Abramowitz & Stegun
+     * 7.1.2, 26.2.29). */
+    const double *row = d->p + 8;
+    double c30_31 = 0.5 * (erfc(30.0 / M_SQRT2) - erfc(31.0 / M_SQRT2)); /* 4.9e-198 */
+    double c36_37 = 0.5 * (erfc(36.0 / M_SQRT2) - erfc(37.0 / M_SQRT2)); /* 4.2e-284 */
+    double above37 = 0.5 * erfc(37.0 / M_SQRT2);                         /* 5.7e-300 */
+    double lower35 = 0.5 * erfc(35.0 / M_SQRT2);                         /* 1.1e-268 */
+    assert_true(c30_31 > 1e-200 && above37 > 1e-301);
+    assert_true(fabs(row[4] - c30_31) <= TOL_TAIL * c30_31);
+    assert_true(fabs(row[6] - c36_37) <= TOL_TAIL * c36_37);
+    assert_true(fabs(row[7] - above37) <= TOL_TAIL * above37);
+    /* cells up to 1 − 35σ: everything below is the lower tail */
+    double below = row[0] + row[1] + row[2];
+    assert_true(fabs(below - lower35) <= TOL_TAIL * lower35);
+    /* cells 10⁴σ away underflow to exactly 0, not to −0 noise or NaN */
+    assert_true(row[0] == 0.0 && d->p[7] == 0.0);
+    qc_dmc_free(d);
+    qc_model_free(m);
+}
+
+/* σ so small that x ± 8.3σ rounds to x: the unquantized rate used to
+ * fail ("narrower than the resolution of doubles"); it is the noiseless
+ * limit instead, flagged. Each output is a point mass, so I(X;Y) = H(X). */
+static void test_unquantized_noiseless_limit(void **state)
+{
+    (void)state;
+    const double sigma = 1e-20, levels[2] = {-1.0, 1.0}, input[2] = {0.5, 0.5};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    double mi = -1.0, err = -1.0;
+    int noiseless = 0;
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, input, 2, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 1);
+    assert_true(fabs(mi - M_LN2) <= TOL_TIGHT && err >= 0.0);
+    qc_model_free(m);
+    /* well-separated levels with ordinary noise: exact −log p per level,
+     * no flag */
+    const double sigma2 = 0.01, law[2] = {0.25, 0.75};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma2, &m), QC_OK);
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, law, 2, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 0);
+    assert_true(fabs(mi - qc_binary_entropy(0.25)) <= TOL_TIGHT);
+    qc_model_free(m);
+    /* a repeated level shares its point mass: the distinguishable levels
+     * are −1 and 1, each with probability ½, so I(X;Y) = log 2 */
+    const double rep[3] = {-1.0, 1.0, 1.0}, rep_law[3] = {0.5, 0.25, 0.25};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    assert_int_equal(qc_unquantized_mi_detail(m, rep, rep_law, 3, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 1);
+    assert_true(fabs(mi - M_LN2) <= TOL_TIGHT);
+    qc_model_free(m);
+}
+
+/* Signal-dependent noise, σ²(x) = σ0² + a·x with σ0 = 1e-300 (σ0² below
+ * the smallest double: the model used to round σ(0) to 0 and fail):
+ * level 0 is a spike of width 1e-300, levels 1 and 2 have wide,
+ * overlapping outputs. The spike is told apart from the rest by Y
+ * itself, so by the chain rule
+ * I(X;Y) = h(p0) + (1 − p0)·I(X';Y | X ∈ {1, 2}), the latter the same
+ * function's rate of levels 1 and 2 alone under the conditional law. */
+static void test_unquantized_spike_among_wide_levels(void **state)
+{
+    (void)state;
+    const double params[3] = {1e-300, 1.0, 0.0};
+    const double levels[3] = {0.0, 1.0, 2.0}, input[3] = {0.3, 0.3, 0.4};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, params, &m), QC_OK);
+    double mi, err, rest, rest_err;
+    int noiseless = 0;
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, input, 3, &mi, &err, &noiseless),
+                     QC_OK);
+    assert_true(noiseless == 0); /* σ(0) = 1e-300 is resolved */
+    const double cond[2] = {0.3 / 0.7, 0.4 / 0.7};
+    assert_int_equal(qc_unquantized_mi(m, levels + 1, cond, 2, &rest, &rest_err), QC_OK);
+    assert_true(rest > 0.01);
+    double want = qc_binary_entropy(0.3) + 0.7 * rest;
+    assert_true(fabs(mi - want) <= err + 0.7 * rest_err + TOL_TIGHT);
+    qc_model_free(m);
+}
+
+/* The unquantized rate skips, at each output, the levels whose support
+ * cannot hold it, finding them among the levels sorted by where their
+ * support starts. With signal-dependent noise those starts are not in the
+ * order of the levels (here: level 3 starts far left of level 0), and the
+ * levels come unsorted: the result must still equal a brute-force
+ * composite Simpson rule over the full mixture (an independent sum). */
+static void test_unquantized_unsorted_supports(void **state)
+{
+    (void)state;
+    const double params[3] = {0.1, 0.05, 0.3}; /* σ0, a, b: σ(3) = 1.7, σ(0) = 0.1 */
+    const double levels[5] = {3.0, 0.0, 1.0, 0.2, 2.5};
+    const double input[5] = {0.1, 0.3, 0.2, 0.25, 0.15};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, params, &m), QC_OK);
+    double mi, err;
+    assert_int_equal(qc_unquantized_mi(m, levels, input, 5, &mi, &err), QC_OK);
+    const double a = -16.0, b = 22.0;
+    const size_t n = 400000; /* even; step 9.5e-5, a thousandth of the narrowest σ */
+    const double h = (b - a) / (double)n;
+    double ref = 0.0;
+    for (size_t j = 0; j <= n; j++) {
+        double y = a + h * (double)j, w = (j == 0 || j == n) ? 1.0 : (j % 2 ? 4.0 : 2.0);
+        double f[5], mix = 0.0;
+        for (size_t i = 0; i < 5; i++) {
+            f[i] = m->type->density(m, levels[i], y);
+            mix += input[i] * f[i];
+        }
+        for (size_t i = 0; i < 5; i++)
+            if (f[i] > 0.0)
+                ref += w * input[i] * f[i] * log(f[i] / mix);
+    }
+    ref *= h / 3.0;
+    if (fabs(mi - ref) > TOL_SIMPSON)
+        fail_msg("unquantized %.15g nats, Simpson %.15g", mi, ref);
+    qc_model_free(m);
+}
+
+/* ---- Lloyd–Max -------------------------------------------------------- */
+
+static qc_status design_one(qc_model *m, const double *levels, size_t n,
+                            size_t cells, qc_quantizer_kind kind,
+                            qc_design_result *res)
+{
+    qc_design_request r;
+    qc_design_request_default(&r);
+    r.model = m;
+    r.levels = levels;
+    r.nlevels = n;
+    r.cells = cells;
+    r.quantizer = kind;
+    r.skip_snr_penalty = 1;
+    return qc_design(&r, res);
+}
+
+static void test_lloyd_max_gaussian(void **state)
+{
+    (void)state;
+    /* One level: Y ~ N(0, 1), the source Max 1960 tabulated. */
+    const double sigma = 1.0, level = 0.0;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    qc_design_result res;
+    assert_int_equal(design_one(m, &level, 1, 4, QC_QUANTIZER_LLOYD_MAX, &res), QC_OK);
+    /* Max, IRE Trans. IT 6(1), 1960, Table I, N = 4 (from memory):
+     * thresholds 0, ±0.9816; outputs ±0.4528, ±1.510; MSE 0.1175 */
+    assert_true(fabs(res.thresholds[1]) <= TOL_TABLE);
+    assert_true(fabs(res.thresholds[2] - 0.9816) <= TOL_TABLE);
+    assert_true(fabs(res.thresholds[0] + 0.9816) <= TOL_TABLE);
+    assert_true(fabs(res.reconstruction[2] - 0.4528) <= TOL_TABLE);
+    assert_true(fabs(res.reconstruction[3] - 1.510) <= TOL_TABLE);
+    assert_true(fabs(res.mse - 0.1175) <= TOL_TABLE);
+    assert_true(res.rate_bits == 0.0); /* one level carries nothing */
+    /* Centroid condition holds at the result: each reconstruction point
+     * is inside its cell. */
+    for (size_t j = 0; j < 3; j++)
+        assert_true(res.reconstruction[j] < res.thresholds[j] &&
+                    res.thresholds[j] < res.reconstruction[j + 1]);
+    qc_design_result_clear(&res);
+    /* N = 2: outputs ±√(2/π) = ±0.7979, MSE 1 − 2/π (a half-normal mean,
+     * closed form). */
+    assert_int_equal(design_one(m, &level, 1, 2, QC_QUANTIZER_LLOYD_MAX, &res), QC_OK);
+    assert_true(fabs(res.reconstruction[1] - sqrt(2.0 / M_PI)) <= TOL_LLOYD);
+    assert_true(fabs(res.mse - (1.0 - 2.0 / M_PI)) <= TOL_LLOYD);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+/* ---- uniform quantizer ----------------------------------------------- */
+
+static double mi_of(qc_model *m, const double *levels, size_t n, const double *t,
+                    size_t nt)
+{
+    qc_dmc *d;
+    double mi, r[8];
+    for (size_t i = 0; i < n; i++)
+        r[i] = 1.0 / (double)n;
+    assert_int_equal(qc_discretize(m, levels, n, t, nt, &d), QC_OK);
+    assert_int_equal(qc_mutual_information(d, r, &mi), QC_OK);
+    qc_dmc_free(d);
+    return mi * QC_LOG2E;
+}
+
+static void test_uniform_is_best_of_its_family(void **state)
+{
+    (void)state;
+    const double sigma = 0.45, levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    for (size_t bits = 2; bits <= 4; bits++) {
+        size_t K = (size_t)1 << bits;
+        qc_design_result res;
+        assert_int_equal(design_one(m, levels, 4, K, QC_QUANTIZER_UNIFORM, &res), QC_OK);
+        /* the thresholds are evenly spaced */
+        double w = res.thresholds[1] - res.thresholds[0];
+        for (size_t j = 1; j + 1 < K; j++)
+            assert_true(fabs(res.thresholds[j] - res.thresholds[j - 1] - w) <= TOL_STEP);
+        /* no range in a scan of 400 (centre, width) pairs beats it */
+        double t[16];
+        for (int i = 0; i < 400; i++) {
+            double c = -0.3 + 0.6 * uniform01(), h = 0.5 + 6.0 * uniform01();
+            for (size_t j = 1; j < K; j++)
+                t[j - 1] = c - h + 2.0 * h * (double)j / (double)K;
+            assert_true(mi_of(m, levels, 4, t, K - 1) <= res.rate_bits + TOL_SEARCH);
+        }
+        qc_design_result_clear(&res);
+    }
+    qc_model_free(m);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_dp_equals_exhaustive_contiguous),
+        cmocka_unit_test(test_dp_binary_input_globally_optimal),
+        cmocka_unit_test(test_dp_fast_equals_plain),
+        cmocka_unit_test(test_dp_bad_input),
+        cmocka_unit_test(test_discretize_tail_80db),
+        cmocka_unit_test(test_unquantized_noiseless_limit),
+        cmocka_unit_test(test_unquantized_spike_among_wide_levels),
+        cmocka_unit_test(test_unquantized_unsorted_supports),
+        cmocka_unit_test(test_lloyd_max_gaussian),
+        cmocka_unit_test(test_uniform_is_best_of_its_family),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
