@@ -655,4 +655,5 @@ const qc_model_type qc_model_apd = {
     .support = apd_support,
     .check_level = qc_apd_check_level,
     .moments = apd_moments,
+    .photons = qc_apd_photons,
 };

@@ -30,6 +30,8 @@ double qc_apd_excess(double gain, double k)
     return k * gain + (1.0 - k) * (2.0 - 1.0 / gain);
 }
 
+double qc_apd_photons(const qc_model *m, double x) { return m->params[APD_SIGNAL] * x; }
+
 double qc_apd_rate(const double *params, double x)
 {
     return params[APD_SIGNAL] * x + params[APD_BACKGROUND];
@@ -104,4 +106,5 @@ const qc_model_type qc_model_apd_gauss = {
     .support = apdg_support,
     .check_level = qc_apd_check_level,
     .moments = apdg_moments,
+    .photons = qc_apd_photons,
 };

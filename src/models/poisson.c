@@ -173,6 +173,9 @@ static qc_status poisson_moments(const qc_model *m, double x, double *mean,
     return QC_OK;
 }
 
+/* detected signal photons: the Poisson mean without the background */
+static double poisson_photons(const qc_model *m, double x) { return m->params[P_SIGNAL] * x; }
+
 const qc_model_type qc_model_poisson = {
     .name = "poisson",
     .summary = "photon counting Y ~ Poisson(signal x + background), integer thresholds",
@@ -186,4 +189,5 @@ const qc_model_type qc_model_poisson = {
     .support = poisson_support,
     .check_level = poisson_check_level,
     .moments = poisson_moments,
+    .photons = poisson_photons,
 };

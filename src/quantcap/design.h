@@ -11,6 +11,7 @@
 #include "quantcap/capacity.h"
 #include "quantcap/alphabet.h"
 #include "quantcap/info.h"
+#include "quantcap/figures.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -79,6 +80,11 @@ typedef struct {
     size_t blocklength;          /* n > 0: normal approximation at n        */
     double error_rate;           /* block error probability ε in (0, 1),
                                     required with blocklength               */
+    /* Figures in the trade's units (src/design/figures.c); zero = off. */
+    double symbol_rate;          /* baud (> 0): rates in Gb/s; 0: none      */
+    unsigned polarizations;      /* 1 or 2; 0: 2 for QAM (dual-polarization
+                                    coherent), 1 for real alphabets         */
+    const qc_fec *fec;           /* a code to close the link with; NULL    */
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -143,6 +149,30 @@ typedef struct {
     double average_level;        /* E[x] of the law                          */
     int levels_optimized;        /* 1: levels are the search's result       */
     size_t level_evaluations;    /* objective evaluations of that search     */
+    /* Figures the trade quotes (src/design/figures.c), for every design.
+     * Per polarization unless the name says otherwise; NaN: undefined. */
+    double symbol_error_rate;    /* MAP hard decision per cell on the law   */
+    double pre_fec_ber;          /* through the Gray labels; NaN unless the
+                                    levels are a power of 2                 */
+    double q_factor_db;          /* 20·log10(√2·erfc⁻¹(2·BER))              */
+    double entropy_bits;         /* H(X) of the law per symbol              */
+    double ngmi;                 /* 1 − (H(X) − GMI)/m                      */
+    double symbol_rate;          /* echo (baud); NaN when not given         */
+    unsigned polarizations;      /* used for the two figures below          */
+    double rate_gbps;            /* rate × symbol rate × polarizations      */
+    double spectral_efficiency;  /* rate × polarizations, bit/s/Hz          */
+    double photons_per_symbol;   /* mean detected signal photons per use    */
+    double bits_per_photon;      /* rate / photons_per_symbol               */
+    double photons_per_bit;      /* its inverse                             */
+    int fec_given;               /* 1: the request named a code (fec below) */
+    qc_fec fec;                  /* echo of the code                        */
+    int fec_closes;              /* the figure meets the code's threshold   */
+    double fec_margin;           /* hard: Q-factor dB over the threshold's;
+                                    soft: NGMI over the threshold           */
+    double net_bits;             /* net bits per symbol after the code, all
+                                    polarizations (0: does not close)       */
+    double net_rate_gbps;        /* net_bits × symbol rate (0: does not
+                                    close; NaN without a symbol rate)       */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

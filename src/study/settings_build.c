@@ -278,6 +278,19 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
         req->blocklength = (size_t)n;
         req->error_rate = eps;
     }
+    /* figures in the trade's units (src/design/figures.c) */
+    double rs = NAN, pol = NAN;
+    if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
+        (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
+        return st;
+    req->symbol_rate = isnan(rs) ? 0.0 : rs;
+    req->polarizations = isnan(pol) ? 0 : (unsigned)pol;
+    const char *fec = qc_settings_get(s, "fec");
+    if (fec) {
+        if ((st = qc_fec_parse(fec, &s->fec)) != QC_OK)
+            return qc_fail(st, "%s", qc_last_error());
+        req->fec = &s->fec;
+    }
     return QC_OK;
 }
 
