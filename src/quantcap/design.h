@@ -204,6 +204,86 @@ QC_API qc_status qc_design_compare(const qc_design_request *req,
                             qc_design_comparison *cmp);
 QC_API void qc_design_comparison_clear(qc_design_comparison *cmp);
 
+/* ---- the inverse question: what a target requires (require.c) ------- */
+
+typedef enum {
+    QC_TARGET_BER = 0,  /* pre-FEC BER at or below the value               */
+    QC_TARGET_NGMI = 1, /* NGMI at or above the value                      */
+    QC_TARGET_GMI = 2,  /* BICM GMI (bit/symbol) at or above the value     */
+    QC_TARGET_RATE = 3, /* the objective's rate (bit/symbol) at or above   */
+    QC_TARGET_COUNT
+} qc_target_kind;
+
+typedef struct {
+    qc_target_kind kind;
+    double value;
+    int from_fec;       /* 1: the threshold of `fec` ("fec=NAME")          */
+    qc_fec fec;
+} qc_target;
+
+/* "ber=X", "ngmi=X", "gmi=X", "rate=X" or "fec=NAME" (a code of
+ * qc_fec_parse: its BER or NGMI threshold). QC_EINVAL naming the word. */
+QC_API qc_status qc_target_parse(const char *spec, qc_target *out);
+
+/* "ber", "ngmi", "gmi", "rate"; NULL out of range. */
+QC_API const char *qc_target_name(qc_target_kind kind);
+
+/* Build the model and request at `value` of the quantity solved for; the
+ * model is the callee's to keep until the next call or the end of
+ * qc_require (it frees nothing the caller owns). */
+typedef qc_status (*qc_require_build)(void *ctx, double value, const qc_model **model,
+                                      qc_design_request *req);
+
+typedef struct {
+    qc_target target;
+    qc_require_build build;
+    void *ctx;
+    double lo, hi;     /* search range of the value, lo < hi                 */
+    int linear;        /* 1: a positive linear quantity (photons, a power,
+                          a noise level): searched on a log scale, ratios
+                          reported as 10·log10; 0: a value in dB already   */
+    size_t samples;    /* points on the range checked for monotonicity
+                          before the root search (≥ 3; 0: 9)               */
+    const char *name;  /* the quantity, for messages ("snr-db"); NULL ok  */
+    const char *unit;  /* appended to its values (" dB"); NULL: none       */
+} qc_require_request;
+
+typedef struct {
+    double required;             /* value meeting the target with the
+                                    request's quantizer                    */
+    double unquantized_required; /* the same without the quantizer; NaN when
+                                    the unquantized receiver meets the
+                                    target over the whole range            */
+    double penalty_db;           /* how much more the quantizer needs, dB:
+                                    difference of dB values, or 10·log10 of
+                                    the ratio of linear ones; NaN as above */
+    int increasing;              /* the figure improves as the value grows */
+    double best_value;           /* unreachable target: the value where the
+                                    figure is best in the range, and that   */
+    double best_figure;          /* figure (NaN otherwise)                  */
+    size_t designs;              /* designs run                             */
+} qc_require_result;
+
+/* Solve for the value at which the design built by rq->build meets the
+ * target (GSL Brent on the bracket found among the samples; Brent,
+ * Algorithms for Minimization without Derivatives, 1973, ch. 4), and for
+ * the unquantized receiver with the same levels and law. The figure must
+ * cross the target once among the samples: QC_EINVAL saying that it is
+ * not monotone when it crosses more than once. A target
+ * not reached anywhere in the range (or met over all of it) is
+ * QC_EINFEASIBLE naming the best figure and where (kept in the result). */
+QC_API qc_status qc_require(const qc_require_request *rq, qc_require_result *out);
+
+/* The margin in dB of an operating value over the required one, positive
+ * when the operating point does better than needed (dB values: the
+ * difference; linear ones: 10·log10 of the ratio). */
+QC_API double qc_require_margin_db(const qc_require_result *res, int linear,
+                                   double operating);
+
+/* The figure of `kind` of a finished design (pre-FEC BER, NGMI, GMI or
+ * rate; NaN when the design defines none). */
+QC_API double qc_design_figure(const qc_design_result *res, qc_target_kind kind);
+
 /* ---- SNR of a model ------------------------------------------------- */
 
 /* Operating SNR in dB by the model's notion (qc_model_type.snr); NaN
