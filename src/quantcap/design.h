@@ -83,7 +83,9 @@ typedef struct {
     /* Figures in the trade's units (src/design/figures.c); zero = off. */
     double symbol_rate;          /* baud (> 0): rates in Gb/s; 0: none      */
     unsigned polarizations;      /* 1 or 2; 0: 2 for QAM (dual-polarization
-                                    coherent), 1 for real alphabets         */
+                                    coherent), 1 for real alphabets (the
+                                    settings give 2 with osnr-db, as the
+                                    OSNR conversion assumes)               */
     const qc_fec *fec;           /* a code to close the link with; NULL    */
 } qc_design_request;
 

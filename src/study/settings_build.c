@@ -284,7 +284,10 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
         (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
         return st;
     req->symbol_rate = isnan(rs) ? 0.0 : rs;
-    req->polarizations = isnan(pol) ? 0 : (unsigned)pol;
+    /* the OSNR route's default (2) holds for the rates too */
+    req->polarizations = !isnan(pol)                     ? (unsigned)pol
+                         : qc_settings_get(s, "osnr-db") ? 2
+                                                         : 0;
     const char *fec = qc_settings_get(s, "fec");
     if (fec) {
         if ((st = qc_fec_parse(fec, &s->fec)) != QC_OK)
