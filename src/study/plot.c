@@ -583,6 +583,158 @@ static qc_status plot_rate_vs_x(const qc_scenario *sc, json_t *const *records, c
 }
 
 /* ---------------------------------------------------------------- */
+/* Pre-FEC BER against x, one curve per bit count                     */
+/* ---------------------------------------------------------------- */
+
+/* log10 of a point's pre-FEC BER; NaN when undefined or zero. */
+static double log_ber(json_t *rec)
+{
+    double b = field(rec, "pre_fec_ber");
+    return b > 0.0 ? log10(b) : NAN;
+}
+
+/* log10 of the hard-decision FEC threshold of a point; NaN without one. */
+static double log_fec_threshold(json_t *rec, char *name, size_t n)
+{
+    json_t *fec = json_object_get(json_object_get(rec, "result"), "fec");
+    const char *kind = json_string_value(json_object_get(fec, "threshold_kind"));
+    if (!kind || strcmp(kind, "ber") != 0)
+        return NAN;
+    snprintf(name, n, "%s", json_string_value(json_object_get(fec, "name")));
+    double t = json_number_value(json_object_get(fec, "threshold"));
+    return t > 0.0 ? log10(t) : NAN;
+}
+
+static qc_status plot_ber_vs_x(const qc_scenario *sc, json_t *const *records, const char *dir,
+                               const char *device, char ***files, size_t *nfiles)
+{
+    const sc_plots *p = &sc->plots;
+    const sc_axis *xa = &sc->axes[p->x_axis];
+    const sc_axis *ca = p->curve_axis >= 0 ? &sc->axes[p->curve_axis] : NULL;
+    size_t ncurves = ca ? ca->n : 1, nx = xa->n;
+    double *x = malloc(nx * sizeof *x), *y = malloc(nx * sizeof *y);
+    double *all = malloc(ncurves * nx * sizeof *all);
+    if (!x || !y || !all) {
+        free(x);
+        free(y);
+        free(all);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    int fixed[QC_SCENARIO_MAX_AXES] = {0};
+    fixed[p->x_axis] = 1;
+    if (ca)
+        fixed[p->curve_axis] = 1;
+    char xlabel[128], clabel[128];
+    key_label(xa->key, scenario_model(sc), xlabel, sizeof xlabel);
+    qc_status st = QC_OK;
+    size_t count = 0;
+    for (size_t a = 0; a < sc->nalphabets && st == QC_OK; a++) {
+        size_t vi[QC_SCENARIO_MAX_AXES] = {0};
+        do {
+            if (count++ >= MAX_PLOTS_PER_KIND)
+                break;
+            double lo = INFINITY, hi = -INFINITY, thr = NAN;
+            char fec_name[QC_FEC_NAME_MAX] = "";
+            for (size_t c = 0; c < ncurves; c++)
+                for (size_t j = 0; j < nx; j++) {
+                    vi[p->x_axis] = j;
+                    if (ca)
+                        vi[p->curve_axis] = c;
+                    json_t *rec = records[compose(sc, a, vi)];
+                    double v = all[c * nx + j] = log_ber(rec);
+                    if (isfinite(v)) {
+                        lo = fmin(lo, v);
+                        hi = fmax(hi, v);
+                    }
+                    if (isnan(thr))
+                        thr = log_fec_threshold(rec, fec_name, sizeof fec_name);
+                }
+            vi[p->x_axis] = 0;
+            if (ca)
+                vi[p->curve_axis] = 0;
+            if (!(lo <= hi)) /* no BER defined: no page */
+                continue;
+            if (isfinite(thr)) {
+                lo = fmin(lo, thr);
+                hi = fmax(hi, thr);
+            }
+            double y0 = floor(lo), y1 = ceil(hi);
+            if (y1 - y0 < 1.0)
+                y1 = y0 + 1.0;
+            char ftext[1024], ttext[512];
+            combo_text(sc, vi, fixed, ftext, sizeof ftext, ttext, sizeof ttext);
+            page pg;
+            snprintf(pg.path, sizeof pg.path, "%s/ber-vs-%s_%s%s.%s", dir, xa->key,
+                     sc->alphabets[a].name, ftext, extension(p->format));
+            safe_name(strrchr(pg.path, '/') + 1);
+            for (size_t j = 0; j < nx; j++)
+                x[j] = xa->number[j];
+            double x0, x1;
+            range_of(x, nx, &x0, &x1);
+            int logx = x0 > 0 && x1 / x0 >= 100.0;
+            if (logx) {
+                for (size_t j = 0; j < nx; j++)
+                    x[j] = log10(x[j]);
+                x0 = log10(x0);
+                x1 = log10(x1);
+            }
+            pad_range(&x0, &x1, nx > 1 ? 0.0 : 0.5);
+            if ((st = page_open(&pg, device)) != QC_OK)
+                break;
+            pladv(0);
+            plschr(0.0, 1.0);
+            plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
+            frame(x0, x1, y0, y1, logx ? "l" : "", "l");
+            char title[800], head[640];
+            snprintf(head, sizeof head, "%s%s%s", sc->alphabets[a].label, ttext[0] ? ", " : "",
+                     ttext);
+            with_scenario_title(sc, head, title, sizeof title);
+            labels(xlabel, "pre-FEC bit error rate (MAP hard decisions)", title);
+            legend lg = {0};
+            int every = nx > 10 ? (int)(nx / 8) : 1;
+            for (size_t c = 0; c < ncurves; c++) {
+                for (size_t j = 0; j < nx; j++)
+                    y[j] = all[c * nx + j];
+                curve((int)nx, x, y, (int)c, every, (int)c);
+                char name[96];
+                if (ca) {
+                    key_label(ca->key, scenario_model(sc), clabel, sizeof clabel);
+                    snprintf(name, sizeof name, "%s %s", ca->values[c],
+                             strcmp(ca->key, "bits") == 0 ? (strcmp(ca->values[c], "1") ? "bits"
+                                                                                         : "bit")
+                                                          : ca->key);
+                } else {
+                    snprintf(name, sizeof name, "quantized");
+                }
+                legend_add(&lg, name, (int)c, 1);
+            }
+            if (isfinite(thr)) { /* the FEC threshold: black dashed */
+                double tx[2] = {x0, x1}, ty[2] = {thr, thr};
+                plcol0(COL_BLACK);
+                pllsty(2);
+                plwidth(2.0);
+                plline(2, tx, ty);
+                if (lg.n < 40) {
+                    int i = lg.n;
+                    char name[96];
+                    snprintf(name, sizeof name, "FEC %s", fec_name);
+                    legend_add(&lg, name, 0, 0);
+                    lg.line_col[i] = COL_BLACK;
+                    lg.line_sty[i] = 2;
+                    lg.line_w[i] = 2.0;
+                }
+            }
+            legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE);
+            st = page_close(&pg, files, nfiles);
+        } while (st == QC_OK && next_combo(sc, vi, fixed));
+    }
+    free(x);
+    free(y);
+    free(all);
+    return st;
+}
+
+/* ---------------------------------------------------------------- */
 /* Rate against bits at operating points, one curve per alphabet      */
 /* ---------------------------------------------------------------- */
 
@@ -960,6 +1112,8 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
         st = plot_rate_vs_bits(sc, records, dir, device, files, nfiles);
     if (st == QC_OK && sc->plots.density)
         st = plot_density(sc, records, dir, device, files, nfiles);
+    if (st == QC_OK && sc->plots.ber_vs_x)
+        st = plot_ber_vs_x(sc, records, dir, device, files, nfiles);
     escape_armed = 0;
     return st;
 }

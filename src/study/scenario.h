@@ -55,6 +55,7 @@ typedef struct {
     int curve_axis;      /* the bits (or cells) axis, -1: none          */
     int rate_vs_x;       /* draw rate against x                          */
     int rate_vs_bits;    /* draw rate against bits                       */
+    int ber_vs_x;        /* draw the pre-FEC BER against x (default off) */
     size_t *bits_at;     /* x-axis value indices for rate vs bits        */
     size_t nbits_at;
     int density;         /* draw the densities of one point              */

@@ -512,7 +512,7 @@ static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, cons
 static qc_status compile_plots(qc_scenario *sc)
 {
     static const char *const keys[] = {"format", "x", "rate-vs-x", "rate-vs-bits", "density",
-                                       "size", NULL};
+                                       "size", "ber-vs-x", NULL};
     sc_plots *p = &sc->plots;
     p->width = 960;
     p->height = 640;
@@ -524,7 +524,7 @@ static qc_status compile_plots(qc_scenario *sc)
         if (sc->axes[i].number && (int)i != p->curve_axis)
             p->x_axis = (int)i;
     sc_section *s = section(sc, "plots");
-    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL;
+    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL;
     char loc[300];
     for (size_t i = 0; s && i < s->n; i++) {
         const sc_entry *e = &s->entries[i];
@@ -567,6 +567,8 @@ static qc_status compile_plots(qc_scenario *sc)
             rvx = e;
         } else if (strcmp(e->key, "rate-vs-bits") == 0) {
             rvb = e;
+        } else if (strcmp(e->key, "ber-vs-x") == 0) {
+            bvx = e;
         } else if (strcmp(e->key, "density") == 0) {
             dens = e;
         } else
@@ -583,6 +585,16 @@ static qc_status compile_plots(qc_scenario *sc)
         if (p->rate_vs_x && p->x_axis < 0)
             return qc_fail(QC_EINVAL, "%s: 'rate-vs-x': the sweep has no numeric axis to draw "
                                       "the rate against",
+                           loc);
+    }
+    if (bvx) {
+        sc_where(sc, bvx->line, loc, sizeof loc);
+        if (parse_bool(bvx->value, &p->ber_vs_x) != 0)
+            return qc_fail(QC_EINVAL, "%s: 'ber-vs-x': '%s' is not true or false", loc,
+                           bvx->value);
+        if (p->ber_vs_x && p->x_axis < 0)
+            return qc_fail(QC_EINVAL, "%s: 'ber-vs-x': the sweep has no numeric axis to draw "
+                                      "the BER against",
                            loc);
     }
     if (rvb) {

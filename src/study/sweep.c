@@ -272,7 +272,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         (st = qc_file_list_add(&sum->files, &sum->nfiles, path)) != QC_OK)
         goto done;
     int want_plots = opt->plots && (sc->plots.rate_vs_x || sc->plots.rate_vs_bits ||
-                                    sc->plots.density);
+                                    sc->plots.density || sc->plots.ber_vs_x);
     if (want_plots && !qc_plots_available())
         sum->plots_skipped = 1;
     else if (want_plots)

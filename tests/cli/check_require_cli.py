@@ -10,11 +10,13 @@ relation SNR = OSNR * 2 B_ref / (p R_s) of Essiambre et al., J. Lightw.
 Technol. 28(4), 2010; Poisson on-off keying with a threshold of one count
 (an error only when the "on" slot gives no count, or the "off" slot a
 background count) for the photon target."""
+import csv
 import json
 import math
 import os
 import subprocess
 import sys
+import tempfile
 
 from scipy.stats import norm
 
@@ -98,6 +100,28 @@ if "required" in p:
                        "--alphabet", "upam:2", "--bits", "1", "--target", "ber=1e-3",
                        "--solve-for", "signal")
     check("photons" in out and "dB" in out, "require text gives photons and dB")
+
+# sweep: the figures are columns; ber-vs-x draws the BER with the FEC threshold
+with tempfile.TemporaryDirectory() as tmp:
+    ini = os.path.join(tmp, "figs.ini")
+    with open(ini, "w") as f:
+        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+                "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n"
+                "[plots]\nber-vs-x = true\n")
+    out = os.path.join(tmp, "out")
+    rc, so, se = run("sweep", ini, "--out", out, "--jobs", "1")
+    check(rc == 0, f"sweep with figures: exit {rc} ({se.strip()})")
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = list(csv.DictReader(f))
+        for k in FIGURE_KEYS + ["fec_closes", "fec.name"]:
+            check(k in rows[0], f"results.csv has the column '{k}'")
+        closes = {(r["snr-db"], r["bits"]): r["fec_closes"] for r in rows}
+        check(closes.get(("18", "2")) == "true" and closes.get(("14", "2")) == "false",
+              "kp4 closes at 18 dB, not at 14 dB (PAM-4, 2 bits)")
+        drawn = os.listdir(out)
+        if any(n.startswith("rate-vs-") for n in drawn):
+            check(any(n.startswith("ber-vs-snr-db") for n in drawn), "ber-vs-x plot drawn")
 
 print(f"figures and require: {tally.count} checks, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
