@@ -179,12 +179,40 @@ static void test_target_parse(void **state)
     assert_int_equal(qc_target_parse("ber=1e-3,ngmi=0.8", &t), QC_EINVAL);
 }
 
+/* The same question on settings, as `quantcap require` asks it: the key
+ * solved for is replaced in a copy of the settings at each step. */
+static void test_settings_require(void **state)
+{
+    (void)state;
+    qc_settings *s;
+    assert_int_equal(qc_settings_alloc(&s), QC_OK);
+    const char *kv[][2] = {{"model", "gauss"}, {"levels", "-1,1"}, {"cells", "2"},
+                           {"thresholds", "0"}, {"snr-db", "12"}};
+    for (size_t i = 0; i < 5; i++)
+        assert_int_equal(qc_settings_set(s, kv[i][0], kv[i][1]), QC_OK);
+    qc_target t;
+    assert_int_equal(qc_target_parse("ber=1e-3", &t), QC_OK);
+    qc_require_result r;
+    assert_int_equal(qc_settings_require(s, "snr-db", &t, -10.0, 30.0, " dB", &r), QC_OK);
+    assert_near(r.required, 20.0 * log10(gsl_cdf_ugaussian_Qinv(1e-3)), ROOT_TOL_DB);
+    assert_near(qc_require_margin_db(&r, 0, 12.0), 12.0 - r.required, EXACT_MARGIN);
+    assert_true(qc_setting_in_db("snr-db") && qc_setting_in_db("power-dbm"));
+    assert_false(qc_setting_in_db("signal"));
+    assert_int_equal(qc_setting_check_solvable("bits"), QC_EINVAL);
+    assert_int_equal(qc_setting_check_solvable("sigma"), QC_OK);
+    assert_int_equal(qc_settings_require(s, "cells", &t, 2.0, 8.0, NULL, &r), QC_EINVAL);
+    /* the settings given are unchanged */
+    assert_string_equal(qc_settings_get(s, "snr-db"), "12");
+    qc_settings_free(s);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_bpsk_ber),      cmocka_unit_test(test_biawgn_half_rate),
         cmocka_unit_test(test_penalty_in_bits), cmocka_unit_test(test_unreachable),
         cmocka_unit_test(test_not_monotone),  cmocka_unit_test(test_target_parse),
+        cmocka_unit_test(test_settings_require),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

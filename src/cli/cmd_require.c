@@ -21,13 +21,6 @@ static const cli_opt require_options[] = {
     {NULL, NULL, NULL},
 };
 
-/* Keys that are not a continuous quantity to solve for. */
-static const char *const not_solvable[] = {
-    "model", "levels", "probabilities", "bits", "cells", "objective", "quantizer",
-    "fine-cells", "thresholds", "tol", "alphabet", "table", "level-grid", "optimize-levels",
-    "level-starts", "blocklength", "error-rate", "polarizations", "fec", NULL,
-};
-
 /* Units of the front-end keys (docs/models.md); model parameters carry
  * their own. */
 static const char *const key_units[][2] = {
@@ -74,47 +67,6 @@ static void help(const cli_args *a)
            "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n\n"
            "options:\n");
     cli_print_options(a, stdout);
-}
-
-typedef struct {
-    const qc_settings *base;
-    const char *key;
-    qc_settings *now; /* settings of the last build (the request points in) */
-    qc_model *model;
-} builder;
-
-static qc_status build_at(void *ctx, double value, const qc_model **model,
-                          qc_design_request *req)
-{
-    builder *b = ctx;
-    qc_model_free(b->model);
-    qc_settings_free(b->now);
-    b->model = NULL;
-    b->now = NULL;
-    char text[64];
-    snprintf(text, sizeof text, "%.17g", value);
-    qc_status st = qc_settings_copy(b->base, &b->now);
-    if (st == QC_OK && (st = qc_settings_set(b->now, b->key, text)) != QC_OK)
-        return st;
-    if (st == QC_OK)
-        st = qc_settings_build(b->now, &b->model, req);
-    *model = b->model;
-    return st;
-}
-
-static void builder_clear(builder *b)
-{
-    qc_model_free(b->model);
-    qc_settings_free(b->now);
-    b->model = NULL;
-    b->now = NULL;
-}
-
-static int is_db_key(const char *key)
-{
-    size_t n = strlen(key);
-    return (n > 3 && strcmp(key + n - 3, "-db") == 0) ||
-           (n > 4 && strcmp(key + n - 4, "-dbm") == 0);
 }
 
 static const char *unit_of(const char *key, const qc_model_type *type)
@@ -234,16 +186,17 @@ static int range_of(const cli_args *a, const char *key, int linear, double opera
 }
 
 /* The design at the required value, as `design --json` reports it. */
-static json_t *design_at(builder *b, double value, const qc_fec *fec)
+static json_t *design_at(const qc_settings *set, const char *key, double value,
+                         const qc_fec *fec)
 {
-    const qc_model *m;
+    qc_settings *s = NULL;
+    qc_model *m = NULL;
     qc_design_request req;
     qc_design_result res;
     memset(&res, 0, sizeof res);
-    qc_design_request_default(&req);
     json_t *o = NULL;
     char *text = NULL;
-    if (build_at(b, value, &m, &req) == QC_OK) {
+    if (qc_settings_with(set, key, value, &s) == QC_OK && qc_settings_build(s, &m, &req) == QC_OK) {
         if (fec)
             req.fec = fec;
         if (qc_design(&req, &res) == QC_OK && qc_design_report_json(&req, &res, &text) == QC_OK)
@@ -251,6 +204,8 @@ static json_t *design_at(builder *b, double value, const qc_fec *fec)
     }
     free(text);
     qc_design_result_clear(&res);
+    qc_model_free(m);
+    qc_settings_free(s);
     return o;
 }
 
@@ -268,7 +223,6 @@ int cmd_require(int argc, char **argv)
         return rc;
 
     qc_settings *set = NULL;
-    builder b = {0};
     cli_sink sink = {0};
     json_t *design = NULL;
     qc_target target;
@@ -278,18 +232,8 @@ int cmd_require(int argc, char **argv)
     if (!key)
         return cli_usage_error("require: --solve-for KEY is required (snr-db, osnr-db, "
                                "power-dbm, or a numeric model or front-end key)");
-    if (!qc_setting_known(key)) {
-        const char *near = qc_setting_suggest(key);
-        return near ? cli_usage_error("--solve-for: unknown key '%s' (did you mean '%s'?)", key,
-                                      near)
-                    : cli_usage_error("--solve-for: unknown key '%s'", key);
-    }
-    for (size_t i = 0; not_solvable[i]; i++)
-        if (strcmp(not_solvable[i], key) == 0)
-            return cli_usage_error("--solve-for: '%s' is not a continuous quantity to solve "
-                                   "for (use snr-db, osnr-db, power-dbm or a numeric model or "
-                                   "front-end key)",
-                                   key);
+    if (qc_setting_check_solvable(key) != QC_OK)
+        return cli_usage_error("--solve-for: %s", qc_last_error());
     qc_status st = qc_settings_alloc(&set);
     if (st != QC_OK)
         return cli_lib_error(st);
@@ -303,7 +247,7 @@ int cmd_require(int argc, char **argv)
             goto done;
         }
     }
-    const int linear = !is_db_key(key);
+    const int linear = !qc_setting_in_db(key);
     double operating = NAN, lo = NAN, hi = NAN;
     const char *op_text = qc_settings_get(set, key);
     if (op_text && (rc = cli_double(key, op_text, &operating)))
@@ -311,32 +255,36 @@ int cmd_require(int argc, char **argv)
     if ((rc = range_of(&a, key, linear, operating, &lo, &hi)))
         goto done;
     /* the operating point (or the range's low end) must build */
-    b.base = set;
-    b.key = key;
+    const qc_model_type *type = NULL;
     {
-        const qc_model *m;
+        qc_settings *probe = NULL;
+        qc_model *m = NULL;
         qc_design_request req;
-        if ((st = build_at(&b, isnan(operating) ? lo : operating, &m, &req)) != QC_OK) {
+        st = qc_settings_with(set, key, isnan(operating) ? lo : operating, &probe);
+        if (st == QC_OK)
+            st = qc_settings_build(probe, &m, &req);
+        if (m)
+            type = m->type;
+        qc_model_free(m);
+        qc_settings_free(probe);
+        if (st != QC_OK) {
             rc = cli_usage_error("require: %s", qc_last_error());
             goto done;
         }
     }
-    const qc_model_type *type = b.model ? b.model->type : NULL;
     const char *unit = unit_of(key, type);
     char spaced_unit[48];
     snprintf(spaced_unit, sizeof spaced_unit, "%s%s", unit[0] == '(' ? "" : " ",
              unit[0] == '(' ? "" : unit);
-    qc_require_request rq = {.target = target, .build = build_at, .ctx = &b, .lo = lo, .hi = hi,
-                             .linear = linear, .name = key, .unit = spaced_unit};
     qc_require_result res;
-    st = qc_require(&rq, &res);
+    st = qc_settings_require(set, key, &target, lo, hi, spaced_unit, &res);
     if (st != QC_OK) {
         rc = cli_lib_error(st);
         goto done;
     }
     double margin = qc_require_margin_db(&res, linear, operating);
     const qc_fec *fec = target.from_fec ? &target.fec : NULL;
-    design = design_at(&b, res.required, fec);
+    design = design_at(set, key, res.required, fec);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     if (cli_has(&a, "json")) {
@@ -400,7 +348,6 @@ int cmd_require(int argc, char **argv)
 done:
     json_decref(design);
     rc = cli_sink_finish(&sink, rc);
-    builder_clear(&b);
     qc_settings_free(set);
     return rc;
 }
