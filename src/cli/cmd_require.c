@@ -30,8 +30,6 @@ static const char *const key_units[][2] = {
     {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
 };
 
-#define DB_HALF_RANGE 30.0   /* dB either side of an operating value */
-#define LINEAR_DECADES 3.0   /* decades either side of an operating value */
 
 static cli_opt key_options[64];
 
@@ -131,8 +129,8 @@ static int target_of(const cli_args *a, qc_target *t)
     return CLI_OK;
 }
 
-static int range_of(const cli_args *a, const char *key, int linear, double operating,
-                    double *lo, double *hi)
+static int range_of(const cli_args *a, const qc_settings *set, const char *key, int linear,
+                    double operating, double *lo, double *hi)
 {
     const char *r = cli_get(a, "range");
     if (r) {
@@ -154,34 +152,9 @@ static int range_of(const cli_args *a, const char *key, int linear, double opera
                                    key, *lo);
         return CLI_OK;
     }
-    if (!isnan(operating)) {
-        if (linear && operating > 0.0) {
-            *lo = operating * pow(10.0, -LINEAR_DECADES);
-            *hi = operating * pow(10.0, LINEAR_DECADES);
-        } else if (!linear) {
-            *lo = operating - DB_HALF_RANGE;
-            *hi = operating + DB_HALF_RANGE;
-        } else {
-            return cli_usage_error("--range: give LO,HI for %s (its value %g cannot centre a "
-                                   "log-scale search)",
-                                   key, operating);
-        }
-        return CLI_OK;
-    }
-    if (strcmp(key, "snr-db") == 0) {
-        *lo = -20.0;
-        *hi = 40.0;
-    } else if (strcmp(key, "osnr-db") == 0) {
-        *lo = 0.0;
-        *hi = 50.0;
-    } else if (strcmp(key, "power-dbm") == 0 || strcmp(key, "peak-dbm") == 0) {
-        *lo = -60.0;
-        *hi = 20.0;
-    } else {
-        return cli_usage_error("--range: give LO,HI for %s (no operating value to search "
-                               "around)",
-                               key);
-    }
+    (void)operating;
+    if (qc_settings_require_range(set, key, lo, hi) != QC_OK)
+        return cli_usage_error("--range: %s", qc_last_error());
     return CLI_OK;
 }
 
@@ -252,7 +225,7 @@ int cmd_require(int argc, char **argv)
     const char *op_text = qc_settings_get(set, key);
     if (op_text && (rc = cli_double(key, op_text, &operating)))
         goto done;
-    if ((rc = range_of(&a, key, linear, operating, &lo, &hi)))
+    if ((rc = range_of(&a, set, key, linear, operating, &lo, &hi)))
         goto done;
     /* the operating point (or the range's low end) must build */
     const qc_model_type *type = NULL;

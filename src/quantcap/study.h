@@ -66,6 +66,13 @@ QC_API qc_status qc_setting_check_solvable(const char *key);
 QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double value,
                                   qc_settings **out);
 
+/* The default search range of `key`: its value in the settings ±30 dB
+ * (keys in dB) or a factor 1000 either way; without one snr-db −20…40 dB,
+ * osnr-db 0…50 dB, power-dbm and peak-dbm −60…20 dBm; otherwise QC_EINVAL
+ * asking for a range. */
+QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
+                                           double *hi);
+
 /* qc_require with the value of `key` as the unknown: each value tried is
  * the settings with the key replaced, built as qc_settings_build does.
  * Keys in dB are searched as they are, others on a log scale (lo > 0).

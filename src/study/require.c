@@ -53,6 +53,44 @@ qc_status qc_settings_with(const qc_settings *s, const char *key, double value,
     return st;
 }
 
+#define DB_HALF_RANGE 30.0  /* dB either side of an operating value      */
+#define LINEAR_DECADES 3.0  /* decades either side of an operating value */
+
+qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
+                                    double *hi)
+{
+    *lo = *hi = NAN;
+    const int linear = !qc_setting_in_db(key);
+    const char *v = qc_settings_get(s, key);
+    double op = NAN;
+    if (v && qc_parse_double(v, &op) != QC_OK)
+        return qc_fail(QC_EINVAL, "%s: '%s' is not a number", key, v);
+    if (!isnan(op)) {
+        if (linear && !(op > 0.0))
+            return qc_fail(QC_EINVAL, "give the search range of %s (its value %g cannot "
+                                      "centre a log-scale search)",
+                           key, op);
+        *lo = linear ? op * pow(10.0, -LINEAR_DECADES) : op - DB_HALF_RANGE;
+        *hi = linear ? op * pow(10.0, LINEAR_DECADES) : op + DB_HALF_RANGE;
+        return QC_OK;
+    }
+    if (strcmp(key, "snr-db") == 0) {
+        *lo = -20.0;
+        *hi = 40.0;
+    } else if (strcmp(key, "osnr-db") == 0) {
+        *lo = 0.0;
+        *hi = 50.0;
+    } else if (strcmp(key, "power-dbm") == 0 || strcmp(key, "peak-dbm") == 0) {
+        *lo = -60.0;
+        *hi = 20.0;
+    } else {
+        return qc_fail(QC_EINVAL, "give the search range of %s (no operating value to search "
+                                  "around)",
+                       key);
+    }
+    return QC_OK;
+}
+
 typedef struct {
     const qc_settings *base;
     const char *key;
