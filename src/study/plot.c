@@ -735,6 +735,136 @@ static qc_status plot_ber_vs_x(const qc_scenario *sc, json_t *const *records, co
 }
 
 /* ---------------------------------------------------------------- */
+/* Required value against bits, one curve per alphabet ([require])    */
+/* ---------------------------------------------------------------- */
+
+static int axis_index_of(const qc_scenario *sc, const char *key)
+{
+    for (size_t i = 0; i < sc->naxes; i++)
+        if (strcmp(sc->axes[i].key, key) == 0)
+            return (int)i;
+    return -1;
+}
+
+static qc_status plot_required_vs_bits(const qc_scenario *sc, json_t *const *records,
+                                       const char *dir, const char *device, char ***files,
+                                       size_t *nfiles)
+{
+    int bax = axis_index_of(sc, "bits");
+    if (bax < 0)
+        bax = axis_index_of(sc, "cells");
+    const sc_axis *ba = &sc->axes[bax];
+    const char *key = sc->require.solve_for;
+    int kax = axis_index_of(sc, key);
+    size_t nb = ba->n, na = sc->nalphabets;
+    double *bx = malloc(nb * sizeof *bx), *req = malloc(na * nb * sizeof *req),
+           *unq = malloc(na * nb * sizeof *unq), *y = malloc(nb * sizeof *y);
+    if (!bx || !req || !unq || !y) {
+        free(bx);
+        free(req);
+        free(unq);
+        free(y);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    int fixed[QC_SCENARIO_MAX_AXES] = {0};
+    fixed[bax] = 1;
+    if (kax >= 0) /* the required value does not depend on the operating value */
+        fixed[kax] = 1;
+    char ylabel[160], xlabel[128];
+    key_label(key, scenario_model(sc), xlabel, sizeof xlabel);
+    snprintf(ylabel, sizeof ylabel, "required %s", xlabel);
+    key_label(ba->key, scenario_model(sc), xlabel, sizeof xlabel);
+    for (size_t b = 0; b < nb; b++)
+        bx[b] = ba->number ? ba->number[b] : (double)b;
+    qc_status st = QC_OK;
+    size_t count = 0;
+    size_t vi[QC_SCENARIO_MAX_AXES] = {0};
+    do {
+        if (count++ >= MAX_PLOTS_PER_KIND)
+            break;
+        double lo = INFINITY, hi = -INFINITY;
+        for (size_t a = 0; a < na; a++)
+            for (size_t b = 0; b < nb; b++) {
+                vi[bax] = b;
+                json_t *rec = records[compose(sc, a, vi)];
+                double r = req[a * nb + b] = field(rec, "required");
+                double u = unq[a * nb + b] = field(rec, "unquantized_required");
+                if (isfinite(r)) {
+                    lo = fmin(lo, r);
+                    hi = fmax(hi, r);
+                }
+                if (isfinite(u)) {
+                    lo = fmin(lo, u);
+                    hi = fmax(hi, u);
+                }
+            }
+        vi[bax] = 0;
+        if (!(lo <= hi)) /* no point met the target: no page */
+            continue;
+        char ftext[1024], ttext[512];
+        combo_text(sc, vi, fixed, ftext, sizeof ftext, ttext, sizeof ttext);
+        page pg;
+        snprintf(pg.path, sizeof pg.path, "%s/required-vs-%s%s.%s", dir, ba->key, ftext,
+                 extension(sc->plots.format));
+        safe_name(strrchr(pg.path, '/') + 1);
+        double x0, x1, y0 = lo, y1 = hi;
+        range_of(bx, nb, &x0, &x1);
+        pad_range(&x0, &x1, 0.05);
+        pad_range(&y0, &y1, 0.08);
+        if ((st = page_open(&pg, device)) != QC_OK)
+            break;
+        pladv(0);
+        plschr(0.0, 1.0);
+        plvpor(VP_LEFT, VP_RIGHT, 0.12, 0.91);
+        frame(x0, x1, y0, y1, "", "");
+        char title[800], head[640];
+        const qc_target *t = &sc->require.target;
+        const char *figure = t->kind == QC_TARGET_BER    ? "pre-FEC BER"
+                             : t->kind == QC_TARGET_NGMI ? "NGMI"
+                             : t->kind == QC_TARGET_GMI  ? "GMI (bit/symbol)"
+                                                         : "rate (bit/symbol)";
+        if (t->from_fec)
+            snprintf(head, sizeof head, "FEC %s: %s %g%s%s", t->fec.name, figure, t->value,
+                     ttext[0] ? ", " : "", ttext);
+        else
+            snprintf(head, sizeof head, "target %s %g%s%s", figure, t->value,
+                     ttext[0] ? ", " : "", ttext);
+        with_scenario_title(sc, head, title, sizeof title);
+        labels(xlabel, ylabel, title);
+        legend lg = {0};
+        for (size_t a = 0; a < na; a++) {
+            for (size_t b = 0; b < nb; b++)
+                y[b] = req[a * nb + b];
+            curve((int)nb, bx, y, (int)a, 1, 0);
+            legend_add(&lg, sc->alphabets[a].label, (int)a, 1);
+            /* the unquantized receiver: thin dashed, same colour */
+            for (size_t b = 0; b < nb; b++)
+                y[b] = unq[a * nb + b];
+            plcol0(COL_FIRST + (int)a % NCOLOURS);
+            pllsty(2);
+            plwidth(1.0);
+            for (size_t b = 0; b + 1 < nb; b++)
+                if (isfinite(y[b]) && isfinite(y[b + 1]))
+                    plline(2, &bx[b], &y[b]);
+        }
+        if (lg.n < 40) {
+            int i = lg.n;
+            legend_add(&lg, "unquantized", 0, 0);
+            lg.line_col[i] = COL_BLACK;
+            lg.line_sty[i] = 2;
+            lg.line_w[i] = 1.0;
+        }
+        legend_draw(&lg, PL_POSITION_RIGHT | PL_POSITION_OUTSIDE);
+        st = page_close(&pg, files, nfiles);
+    } while (st == QC_OK && next_combo(sc, vi, fixed));
+    free(bx);
+    free(req);
+    free(unq);
+    free(y);
+    return st;
+}
+
+/* ---------------------------------------------------------------- */
 /* Rate against bits at operating points, one curve per alphabet      */
 /* ---------------------------------------------------------------- */
 
@@ -1114,6 +1244,8 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
         st = plot_density(sc, records, dir, device, files, nfiles);
     if (st == QC_OK && sc->plots.ber_vs_x)
         st = plot_ber_vs_x(sc, records, dir, device, files, nfiles);
+    if (st == QC_OK && sc->plots.required_vs_bits)
+        st = plot_required_vs_bits(sc, records, dir, device, files, nfiles);
     escape_armed = 0;
     return st;
 }

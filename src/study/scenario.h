@@ -56,11 +56,21 @@ typedef struct {
     int rate_vs_x;       /* draw rate against x                          */
     int rate_vs_bits;    /* draw rate against bits                       */
     int ber_vs_x;        /* draw the pre-FEC BER against x (default off) */
+    int required_vs_bits;/* draw [require]'s required value against bits */
     size_t *bits_at;     /* x-axis value indices for rate vs bits        */
     size_t nbits_at;
     int density;         /* draw the densities of one point              */
     size_t density_point;/* its grid index                               */
 } sc_plots;
+
+/* [require]: the inverse question asked at every point (src/study/require.c). */
+typedef struct {
+    int on;               /* the section is present                        */
+    qc_target target;
+    char solve_for[64];   /* the key solved for                            */
+    int range_given;
+    double lo, hi;        /* the search range when given                   */
+} sc_require;
 
 struct qc_scenario {
     char *file; /* name used in messages */
@@ -74,6 +84,7 @@ struct qc_scenario {
     size_t naxes;
     size_t npoints;
     sc_plots plots;
+    sc_require require;
     char hash[17];
 };
 

@@ -123,5 +123,33 @@ with tempfile.TemporaryDirectory() as tmp:
         if any(n.startswith("rate-vs-") for n in drawn):
             check(any(n.startswith("ber-vs-snr-db") for n in drawn), "ber-vs-x plot drawn")
 
+# sweep with [require]: the required SNR per point, as `require` finds it
+with tempfile.TemporaryDirectory() as tmp:
+    ini = os.path.join(tmp, "req.ini")
+    with open(ini, "w") as f:
+        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+                "snr-db = 16\n[sweep]\nbits = 1, 2, 3\n[require]\ntarget = fec=kp4\n"
+                "solve-for = snr-db\n[plots]\nrequired-vs-bits = true\n")
+    out = os.path.join(tmp, "out")
+    rc, so, se = run("sweep", ini, "--out", out, "--jobs", "1")
+    check(rc == 0, f"sweep with [require]: exit {rc} ({se.strip()})")
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = {r["bits"]: r for r in csv.DictReader(f)}
+        for k in REQUIRE_KEYS:
+            check(any(k == c or c.startswith(k + ".") for c in rows["2"]),
+                  f"results.csv has the column '{k}'")
+        check(rows["1"]["required"] == "" and "not reached" in rows["1"]["require_error"],
+              "1 bit: kp4 out of reach, recorded per point")
+        one = as_json("require", "--model", "gauss", "--alphabet", "pam:4", "--snr-db", "16",
+                      "--bits", "3", "--target", "fec=kp4", "--solve-for", "snr-db")
+        if "required" in one and rows["3"]["required"]:
+            tally.near("sweep required = require required (3 bits)",
+                       float(rows["3"]["required"]), one["required"], 1e-12)
+            tally.near("sweep margin = 16 dB - required", float(rows["3"]["margin_db"]),
+                       16 - one["required"], 1e-12)
+        if "skipped" not in so + se:   # a build with PLplot
+            check("required-vs-bits.svg" in os.listdir(out), "required-vs-bits plot drawn")
+
 print(f"figures and require: {tally.count} checks, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
