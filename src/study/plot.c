@@ -913,15 +913,21 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
                 snprintf(pg.path, sizeof pg.path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
                          extension(p->format));
             safe_name(strrchr(pg.path, '/') + 1);
-            /* the lower panel shows the SNR penalty when the model defines
-             * one at these points, else the loss in bits */
-            int penalty_db = 0;
+            /* the lower panel shows the penalty at the [require] target when
+             * one is given (the dB the quantizer costs where it matters),
+             * else the SNR penalty at the operating rate when the model
+             * defines one at these points, else the loss in bits */
+            int penalty_db = 0, at_target = sc->require.on;
             for (size_t a = 0; a < na; a++)
                 for (size_t b = 0; b < nb; b++) {
                     vi[p->curve_axis] = b;
-                    penalty_db |= isfinite(field(records[compose(sc, a, vi)], "snr_penalty_db"));
+                    penalty_db |= isfinite(field(records[compose(sc, a, vi)],
+                                                 at_target ? "penalty_db" : "snr_penalty_db"));
                 }
-            const char *lower_field = penalty_db ? "snr_penalty_db" : "loss_bits";
+            at_target &= penalty_db;
+            const char *lower_field = at_target    ? "penalty_db"
+                                      : penalty_db ? "snr_penalty_db"
+                                                   : "loss_bits";
             for (size_t a = 0; a < na; a++) {
                 unq[a] = NAN;
                 for (size_t b = 0; b < nb; b++) {
@@ -1017,7 +1023,11 @@ static qc_status plot_rate_vs_bits(const qc_scenario *sc, json_t *const *records
             /* lower panel */
             plvpor(VP_LEFT, VP_RIGHT, 0.11, 0.40);
             frame_ticks(x0, x1, l0, l1, 1, ticks[0] ? 1.0 : 0.0, logscale ? "l" : "");
-            labels(blabel, penalty_db ? "SNR penalty (dB)" : "loss (bit/use)", "");
+            labels(blabel,
+                   at_target    ? "penalty at the target (dB)"
+                   : penalty_db ? "SNR penalty (dB)"
+                                : "loss (bit/use)",
+                   "");
             for (size_t a = 0; a < na; a++)
                 curve((int)nb, bx, low + a * nb, (int)a, 1, 0);
             st = page_close(&pg, files, nfiles);
