@@ -24,6 +24,7 @@
 #include "quantcap/atomic_file.h"
 #include "quantcap/dmc.h"
 #include "quantcap/info.h"
+#include "quantcap/figures.h"
 #include "quantcap/model.h"
 #include "quantcap/frontend.h"
 #include "quantcap/quantizer.h"

@@ -1,6 +1,7 @@
 #!/bin/sh
 # valgrind.sh — run the command line under valgrind memcheck: one `design`
-# (every threshold strategy side by side, JSON to a file), one APD design
+# (every threshold strategy side by side, JSON to a file), one `require`
+# (a root search with the FEC table and the design at the root), one APD design
 # (FFTW) and one `sweep` (tests/valgrind_sweep.ini: 8 points on two threads,
 # with a plot); fails on any memory error or leak.
 #
@@ -58,6 +59,8 @@ memcheck() {
 
 memcheck design design --model gauss --snr-db 12 --alphabet pam:4 --bits 3 \
     --compare --json --output "$work/design.json"
+memcheck require require --model gauss --snr-db 12 --alphabet pam:4 --bits 2 \
+    --symbol-rate 32e9 --target fec=kp4 --solve-for snr-db --json --output "$work/require.json"
 memcheck design-apd design --model apd --signal 50 --apd-gain 10 --apd-k 0.02 \
     --sigma-th 30 --levels 0,1 --bits 2 --json --output "$work/apd.json"
 memcheck sweep sweep "$here/valgrind_sweep.ini" --output-dir "$work/sweep" --jobs 2 --quiet

@@ -126,6 +126,7 @@ int cmd_capacity(int argc, char **argv);
 int cmd_channel(int argc, char **argv);
 int cmd_design(int argc, char **argv);
 int cmd_models(int argc, char **argv);
+int cmd_require(int argc, char **argv);
 int cmd_sweep(int argc, char **argv);
 
 #endif

@@ -43,6 +43,7 @@ static void help(const cli_args *a)
            "                       [--peak-limit A] [--power-limit P] [--mean-limit M]\n"
            "                       [--optimize-levels]\n"
            "                       [--blocklength N --error-rate E]\n"
+           "                       [--symbol-rate BAUD] [--polarizations P] [--fec CODE]\n"
            "                       [--compare] [--json] [--output FILE] [--quiet]\n\n"
            "Places the thresholds of a K-cell quantizer after the receiver and reports\n"
            "the information rate that survives it, the unquantized rate for the same\n"
@@ -78,6 +79,12 @@ static void help(const cli_args *a)
            "Also reported: GMI with Gray labels, the dispersion V (bit^2), the normal\n"
            "approximation C - sqrt(V/n) Q^-1(e) + log2(n)/(2n) with --blocklength and\n"
            "--error-rate, and for model gauss the gap in dB to 1/2 log2(1 + snr).\n"
+           "Figures the trade quotes: symbol error rate and pre-FEC BER of MAP hard\n"
+           "decisions per cell (Gray labels, per quadrature for QAM), Q-factor, NGMI,\n"
+           "spectral efficiency, Gb/s with --symbol-rate, bits per detected photon for\n"
+           "photon-counting and APD models, and with --fec NAME (data/fec.tsv) or\n"
+           "--fec overhead=PCT,ber=X|ngmi=X whether the link closes, the margin and\n"
+           "the net rate.\n"
            "Details: docs/alphabets.md.\n\n"
            "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
            "grid then gradient refinement), uniform (clipping range optimized),\n"
@@ -110,6 +117,39 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
     if (r->levels_optimized)
         fprintf(f, "levels       optimized (%zu %s evaluated)\n", r->level_evaluations,
                 cli_plural(r->level_evaluations, "design", "designs"));
+}
+
+/* Hard-decision error rates, NGMI, trade units, FEC (docs/guide.md). */
+static void print_figures(FILE *f, const qc_design_result *r)
+{
+    fprintf(f, "hard         symbol error rate %.4e (MAP per cell)", r->symbol_error_rate);
+    if (isfinite(r->pre_fec_ber))
+        fprintf(f, "; pre-FEC BER %.4e (Gray labels)", r->pre_fec_ber);
+    if (isfinite(r->q_factor_db))
+        fprintf(f, "; Q-factor %.3f dB", r->q_factor_db);
+    fputc('\n', f);
+    if (isfinite(r->ngmi))
+        fprintf(f, "NGMI         %.6f (H(X) = %.6f %s)\n", r->ngmi, r->entropy_bits,
+                cli_rate_unit(r->dimensions));
+    fprintf(f, "efficiency   %.6f bit/s/Hz at the symbol rate (%u polarization%s)",
+            r->spectral_efficiency, r->polarizations, r->polarizations == 1 ? "" : "s");
+    if (isfinite(r->rate_gbps))
+        fprintf(f, "; %.6g Gb/s at %.6g Gbaud", r->rate_gbps, r->symbol_rate * 1e-9);
+    fputc('\n', f);
+    if (isfinite(r->photons_per_symbol))
+        fprintf(f, "photons      %.6g detected per symbol; %.6f bit/photon, %.6g photon/bit\n",
+                r->photons_per_symbol, r->bits_per_photon, r->photons_per_bit);
+    if (r->fec_given) {
+        int hard = r->fec.kind == QC_FEC_HARD;
+        fprintf(f, "FEC          %s (%.4g %% overhead, %s threshold %.4g): %s, margin %.4f %s",
+                r->fec.name, 100.0 * r->fec.overhead, hard ? "pre-FEC BER" : "NGMI",
+                r->fec.threshold, r->fec_closes ? "closes" : "does not close", r->fec_margin,
+                hard ? "dB (Q-factor)" : "(NGMI)");
+        fprintf(f, "; net %.6f %s", r->net_bits, cli_rate_unit(r->dimensions));
+        if (isfinite(r->net_rate_gbps))
+            fprintf(f, ", %.6g Gb/s", r->net_rate_gbps);
+        fputc('\n', f);
+    }
 }
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
@@ -155,6 +195,7 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     if (isfinite(r->snr_db) && snr_def)
         fprintf(f, "SNR means    %s\n", snr_def);
     print_practical_rates(f, r);
+    print_figures(f, r);
 }
 
 /* Significant digits that resolve t to THRESHOLD_RESOLUTION of the noise

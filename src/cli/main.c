@@ -16,6 +16,7 @@ static const command commands[] = {
     {"channel", cmd_channel, "transition matrix of a model, levels and thresholds"},
     {"design", cmd_design, "design a quantizer and report the rate it keeps"},
     {"models", cmd_models, "list the noise models and their parameters"},
+    {"require", cmd_require, "the SNR, OSNR, power or photons a target needs, and the penalty"},
     {"sweep", cmd_sweep, "run a scenario file's grid of designs: table, JSON, plots"},
 };
 

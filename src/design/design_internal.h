@@ -79,6 +79,13 @@ void qc_level_set_project(const qc_level_set *s, double *x);
  * dispersion and blocklength rates) around qc_design_thresholds. */
 qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
 
+/* ---- figures.c -------------------------------------------------------- */
+
+/* Hard-decision error rates, Q-factor, NGMI, rates in the trade's units,
+ * photon efficiency and the FEC outcome of a finished result (its
+ * channel, law, levels, dimensions, rate and GMI set). */
+qc_status qc_design_figures(const qc_design_request *req, qc_design_result *r);
+
 /* ---- level_search.c -------------------------------------------------- */
 
 /* Evaluate the objective at the levels x (n of them): a complete design

@@ -215,7 +215,7 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
     r->shaping_gap_db = req->model->type->properties & QC_MODEL_ADDITIVE_GAUSSIAN
                             ? qc_shaping_gap_db(r->snr_db, r->rate_bits / d)
                             : NAN;
-    return QC_OK;
+    return qc_design_figures(req, r);
 }
 
 typedef struct {

@@ -797,4 +797,5 @@ const qc_model_type qc_model_apd = {
     .frontend = QC_FRONTEND_APD,
     .level_unit = "relative intensity",
     .output_unit = "electrons",
+    .photons = qc_apd_photons,
 };

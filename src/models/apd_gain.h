@@ -20,6 +20,9 @@ double qc_apd_excess(double gain, double k);
 
 /* Mean primaries λ = signal·x + background. */
 double qc_apd_rate(const double *params, double x);
+/* Mean primary photoelectrons of the signal at level x (background
+ * excluded): the detected photons of qc_model_type.photons. */
+double qc_apd_photons(const qc_model *m, double x);
 
 /* Gain pmf g[n] = P(G = n), n = 0..*len−1 (g[0] = 0), of one injected
  * electron (McIntyre, IEEE Trans. Electron Devices 19(6), 1972), cut

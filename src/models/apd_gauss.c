@@ -48,6 +48,8 @@ double qc_apd_excess(double gain, double k)
     return k * gain + (1.0 - k) * (2.0 - 1.0 / gain);
 }
 
+double qc_apd_photons(const qc_model *m, double x) { return m->params[APD_SIGNAL] * x; }
+
 double qc_apd_rate(const double *params, double x)
 {
     return params[APD_SIGNAL] * x + params[APD_BACKGROUND];
@@ -126,4 +128,5 @@ const qc_model_type qc_model_apd_gauss = {
     .frontend = QC_FRONTEND_APD,
     .level_unit = "relative intensity",
     .output_unit = "electrons",
+    .photons = qc_apd_photons,
 };

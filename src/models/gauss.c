@@ -73,7 +73,7 @@ static qc_status gauss_scale_snr(const qc_model *m, double gain, double *out)
 }
 
 static const char *const gauss_keys[] = {
-    "snr-db", "osnr-db", "symbol-rate", "polarizations", "ref-bandwidth",
+    "snr-db", "osnr-db", "ref-bandwidth",
     QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", NULL,
 };
 

@@ -135,3 +135,14 @@ qc_status qc_model_moments(const qc_model *model, double x, double *mean,
         return st;
     return model->type->moments(model, x, mean, var);
 }
+
+double qc_model_mean_photons(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels)
+{
+    if (!model || !model->type->photons || !levels || nlevels == 0)
+        return NAN;
+    double n = 0.0;
+    for (size_t i = 0; i < nlevels; i++)
+        n += (input ? input[i] : 1.0 / (double)nlevels) * model->type->photons(model, levels[i]);
+    return n;
+}

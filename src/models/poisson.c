@@ -178,6 +178,8 @@ static const char *const poisson_keys[] = {
     QC_KEYS_OPTICAL_POWER, "slot-time", "wavelength-nm", "efficiency", "responsivity",
     "dark-count-rate", NULL,
 };
+/* detected signal photons: the Poisson mean without the background */
+static double poisson_photons(const qc_model *m, double x) { return m->params[P_SIGNAL] * x; }
 
 const qc_model_type qc_model_poisson = {
     .name = "poisson",
@@ -196,4 +198,5 @@ const qc_model_type qc_model_poisson = {
     .frontend = QC_FRONTEND_PHOTONS,
     .level_unit = "relative intensity",
     .output_unit = "photons",
+    .photons = poisson_photons,
 };

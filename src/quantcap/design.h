@@ -11,6 +11,7 @@
 #include "quantcap/capacity.h"
 #include "quantcap/alphabet.h"
 #include "quantcap/info.h"
+#include "quantcap/figures.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -139,6 +140,13 @@ typedef struct {
      * levels are photocurrents from the physical front end. */
     const char *level_unit;
     const char *output_unit;
+    /* Figures in the trade's units (src/design/figures.c); zero = off. */
+    double symbol_rate;          /* baud (> 0): rates in Gb/s; 0: none      */
+    unsigned polarizations;      /* 1 or 2; 0: 2 for QAM (dual-polarization
+                                    coherent), 1 for real alphabets (the
+                                    settings give 2 with osnr-db, as the
+                                    OSNR conversion assumes)               */
+    const qc_fec *fec;           /* a code to close the link with; NULL    */
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -218,6 +226,30 @@ typedef struct {
     double average_level;        /* E[x] of the law                          */
     int levels_optimized;        /* 1: levels are the search's result       */
     size_t level_evaluations;    /* objective evaluations of that search     */
+    /* Figures the trade quotes (src/design/figures.c), for every design.
+     * Per polarization unless the name says otherwise; NaN: undefined. */
+    double symbol_error_rate;    /* MAP hard decision per cell on the law   */
+    double pre_fec_ber;          /* through the Gray labels; NaN unless the
+                                    levels are a power of 2                 */
+    double q_factor_db;          /* 20·log10(√2·erfc⁻¹(2·BER))              */
+    double entropy_bits;         /* H(X) of the law per symbol              */
+    double ngmi;                 /* 1 − (H(X) − GMI)/m                      */
+    double symbol_rate;          /* echo (baud); NaN when not given         */
+    unsigned polarizations;      /* used for the two figures below          */
+    double rate_gbps;            /* rate × symbol rate × polarizations      */
+    double spectral_efficiency;  /* rate × polarizations, bit/s/Hz          */
+    double photons_per_symbol;   /* mean detected signal photons per use    */
+    double bits_per_photon;      /* rate / photons_per_symbol               */
+    double photons_per_bit;      /* its inverse                             */
+    int fec_given;               /* 1: the request named a code (fec below) */
+    qc_fec fec;                  /* echo of the code                        */
+    int fec_closes;              /* the figure meets the code's threshold   */
+    double fec_margin;           /* hard: Q-factor dB over the threshold's;
+                                    soft: NGMI over the threshold           */
+    double net_bits;             /* net bits per symbol after the code, all
+                                    polarizations (0: does not close)       */
+    double net_rate_gbps;        /* net_bits × symbol rate (0: does not
+                                    close; NaN without a symbol rate)       */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
@@ -258,6 +290,86 @@ QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 QC_API qc_status qc_design_compare(const qc_design_request *req,
                             qc_design_comparison *cmp);
 QC_API void qc_design_comparison_clear(qc_design_comparison *cmp);
+
+/* ---- the inverse question: what a target requires (require.c) ------- */
+
+typedef enum {
+    QC_TARGET_BER = 0,  /* pre-FEC BER at or below the value               */
+    QC_TARGET_NGMI = 1, /* NGMI at or above the value                      */
+    QC_TARGET_GMI = 2,  /* BICM GMI (bit/symbol) at or above the value     */
+    QC_TARGET_RATE = 3, /* the objective's rate (bit/symbol) at or above   */
+    QC_TARGET_COUNT
+} qc_target_kind;
+
+typedef struct {
+    qc_target_kind kind;
+    double value;
+    int from_fec;       /* 1: the threshold of `fec` ("fec=NAME")          */
+    qc_fec fec;
+} qc_target;
+
+/* "ber=X", "ngmi=X", "gmi=X", "rate=X" or "fec=NAME" (a code of
+ * qc_fec_parse: its BER or NGMI threshold). QC_EINVAL naming the word. */
+QC_API qc_status qc_target_parse(const char *spec, qc_target *out);
+
+/* "ber", "ngmi", "gmi", "rate"; NULL out of range. */
+QC_API const char *qc_target_name(qc_target_kind kind);
+
+/* Build the model and request at `value` of the quantity solved for; the
+ * model is the callee's to keep until the next call or the end of
+ * qc_require (it frees nothing the caller owns). */
+typedef qc_status (*qc_require_build)(void *ctx, double value, const qc_model **model,
+                                      qc_design_request *req);
+
+typedef struct {
+    qc_target target;
+    qc_require_build build;
+    void *ctx;
+    double lo, hi;     /* search range of the value, lo < hi                 */
+    int linear;        /* 1: a positive linear quantity (photons, a power,
+                          a noise level): searched on a log scale, ratios
+                          reported as 10·log10; 0: a value in dB already   */
+    size_t samples;    /* points on the range checked for monotonicity
+                          before the root search (≥ 3; 0: 9)               */
+    const char *name;  /* the quantity, for messages ("snr-db"); NULL ok  */
+    const char *unit;  /* appended to its values (" dB"); NULL: none       */
+} qc_require_request;
+
+typedef struct {
+    double required;             /* value meeting the target with the
+                                    request's quantizer                    */
+    double unquantized_required; /* the same without the quantizer; NaN when
+                                    the unquantized receiver meets the
+                                    target over the whole range            */
+    double penalty_db;           /* how much more the quantizer needs, dB:
+                                    difference of dB values, or 10·log10 of
+                                    the ratio of linear ones; NaN as above */
+    int increasing;              /* the figure improves as the value grows */
+    double best_value;           /* unreachable target: the value where the
+                                    figure is best in the range, and that   */
+    double best_figure;          /* figure (NaN otherwise)                  */
+    size_t designs;              /* designs run                             */
+} qc_require_result;
+
+/* Solve for the value at which the design built by rq->build meets the
+ * target (GSL Brent on the bracket found among the samples; Brent,
+ * Algorithms for Minimization without Derivatives, 1973, ch. 4), and for
+ * the unquantized receiver with the same levels and law. The figure must
+ * cross the target once among the samples: QC_EINVAL saying that it is
+ * not monotone when it crosses more than once. A target
+ * not reached anywhere in the range (or met over all of it) is
+ * QC_EINFEASIBLE naming the best figure and where (kept in the result). */
+QC_API qc_status qc_require(const qc_require_request *rq, qc_require_result *out);
+
+/* The margin in dB of an operating value over the required one, positive
+ * when the operating point does better than needed (dB values: the
+ * difference; linear ones: 10·log10 of the ratio). */
+QC_API double qc_require_margin_db(const qc_require_result *res, int linear,
+                                   double operating);
+
+/* The figure of `kind` of a finished design (pre-FEC BER, NGMI, GMI or
+ * rate; NaN when the design defines none). */
+QC_API double qc_design_figure(const qc_design_result *res, qc_target_kind kind);
 
 /* ---- SNR of a model ------------------------------------------------- */
 

@@ -117,6 +117,10 @@ typedef struct qc_model_type {
      * unit the caller chose for the levels. NULL is read as "". */
     const char *level_unit;
     const char *output_unit;
+    /* Optional: mean detected signal photons (primary photoelectrons,
+     * background excluded) in one use when level x is sent, for
+     * photon-counting and APD models; NULL when the model counts none. */
+    double (*photons)(const qc_model *m, double x);
 } qc_model_type;
 
 /* A model instance. Models with a state (apd caches per-level grids,
@@ -173,6 +177,12 @@ QC_API qc_status qc_model_check_levels(const qc_model *model, const double *leve
  * level is invalid or the model type has no moments hook. */
 QC_API qc_status qc_model_moments(const qc_model *model, double x, double *mean,
                            double *var);
+
+/* Mean detected signal photons per use of `levels` sent with law `input`
+ * (NULL: uniform), Σ r(x)·photons(x); NaN when the model type counts no
+ * photons (qc_model_type.photons). */
+QC_API double qc_model_mean_photons(const qc_model *model, const double *levels,
+                                    const double *input, size_t nlevels);
 
 /* Create a `table` model from a text file of densities (format in
  * docs/formats.md). Errors name the file and line (QC_EFORMAT), or the

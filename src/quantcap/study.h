@@ -57,6 +57,34 @@ QC_API const char *qc_settings_get(const qc_settings *s, const char *key);
 QC_API qc_status qc_settings_build(qc_settings *s, qc_model **model,
                             qc_design_request *req);
 
+/* ---- the inverse question on settings (src/study/require.c) ---------- */
+
+/* Does the key hold a value in dB (its name ends in -db or -dbm)? */
+QC_API int qc_setting_in_db(const char *key);
+
+/* QC_EINVAL unless `key` is a continuous quantity to solve for (a known,
+ * numeric key: not bits, cells, levels, ...); the message names it. */
+QC_API qc_status qc_setting_check_solvable(const char *key);
+
+/* A copy of the settings with `key` set to `value` (%.17g). */
+QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double value,
+                                  qc_settings **out);
+
+/* The default search range of `key`: its value in the settings ±30 dB
+ * (keys in dB) or a factor 1000 either way; without one snr-db −20…40 dB,
+ * osnr-db 0…50 dB, power-dbm and peak-dbm −60…20 dBm; otherwise QC_EINVAL
+ * asking for a range. */
+QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
+                                           double *hi);
+
+/* qc_require with the value of `key` as the unknown: each value tried is
+ * the settings with the key replaced, built as qc_settings_build does.
+ * Keys in dB are searched as they are, others on a log scale (lo > 0).
+ * `unit` (" dB", may be NULL) is appended to values in messages. */
+QC_API qc_status qc_settings_require(const qc_settings *s, const char *key,
+                                     const qc_target *target, double lo, double hi,
+                                     const char *unit, qc_require_result *res);
+
 /* The JSON object describing one design (model, parameters, request and
  * every result field), as `quantcap design --json` prints it and as a
  * sweep stores each point. *text is malloc'd (free it); numbers carry 17

@@ -114,6 +114,39 @@ static void report_alphabet(json_t *o, const qc_design_request *req,
     json_object_set_new(o, "level_evaluations", json_integer((json_int_t)res->level_evaluations));
 }
 
+/* ---- the figures practitioners quote (src/design/figures.c) -------- */
+
+static void report_figures(json_t *o, const qc_design_result *res)
+{
+    json_object_set_new(o, "symbol_error_rate", qc_report_real(res->symbol_error_rate));
+    json_object_set_new(o, "pre_fec_ber", qc_report_real(res->pre_fec_ber));
+    json_object_set_new(o, "q_factor_db", qc_report_real(res->q_factor_db));
+    json_object_set_new(o, "entropy_bits", qc_report_real(res->entropy_bits));
+    json_object_set_new(o, "ngmi", qc_report_real(res->ngmi));
+    json_object_set_new(o, "symbol_rate", qc_report_real(res->symbol_rate));
+    json_object_set_new(o, "polarizations", json_integer(res->polarizations));
+    json_object_set_new(o, "rate_gbps", qc_report_real(res->rate_gbps));
+    json_object_set_new(o, "spectral_efficiency", qc_report_real(res->spectral_efficiency));
+    json_object_set_new(o, "photons_per_symbol", qc_report_real(res->photons_per_symbol));
+    json_object_set_new(o, "bits_per_photon", qc_report_real(res->bits_per_photon));
+    json_object_set_new(o, "photons_per_bit", qc_report_real(res->photons_per_bit));
+    json_t *fec = json_null();
+    if (res->fec_given) {
+        fec = json_object();
+        json_object_set_new(fec, "name", json_string(res->fec.name));
+        json_object_set_new(fec, "overhead_percent", qc_report_real(100.0 * res->fec.overhead));
+        json_object_set_new(fec, "threshold_kind",
+                            json_string(res->fec.kind == QC_FEC_HARD ? "ber" : "ngmi"));
+        json_object_set_new(fec, "threshold", qc_report_real(res->fec.threshold));
+    }
+    json_object_set_new(o, "fec", fec);
+    json_object_set_new(o, "fec_closes",
+                        res->fec_given ? json_boolean(res->fec_closes) : json_null());
+    json_object_set_new(o, "fec_margin", qc_report_real(res->fec_margin));
+    json_object_set_new(o, "net_bits", qc_report_real(res->net_bits));
+    json_object_set_new(o, "net_rate_gbps", qc_report_real(res->net_rate_gbps));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->model;
@@ -170,6 +203,7 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
         json_object_set_new(o, "reconstruction",
                             qc_report_array(res->reconstruction, res->nthresholds + 1));
     report_alphabet(o, req, res);
+    report_figures(o, res);
     return o;
 }
 

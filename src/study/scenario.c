@@ -204,14 +204,14 @@ static void header_line(reader *r, const char *line, size_t n)
         name = NULL;
 
     static const char *const plain[] = {"scenario", "receiver", "design", "sweep", "plots",
-                                        "density"};
+                                        "density", "require"};
     int known = strcmp(type, "alphabet") == 0;
     for (size_t i = 0; i < sizeof plain / sizeof plain[0]; i++)
         known |= strcmp(type, plain[i]) == 0;
     if (!known) {
         reader_fail(r, r->line, QC_EINVAL,
                     "unknown section [%s] (sections: [scenario], [receiver], [design], "
-                    "[alphabet NAME], [sweep], [plots], [density])%s",
+                    "[alphabet NAME], [sweep], [plots], [density], [require])%s",
                     type, "");
         return;
     }
@@ -520,7 +520,7 @@ static qc_status apply_override(qc_scenario *sc, const char *assignment)
         return put_entry(s, key, value, 0);
     }
     static const char *const plain[] = {"scenario", "receiver", "design", "sweep", "plots",
-                                        "density"};
+                                        "density", "require"};
     for (size_t i = 0; i < sizeof plain / sizeof plain[0]; i++)
         if (!name && strcmp(type, plain[i]) == 0) {
             sc_section *s;
@@ -535,7 +535,7 @@ static qc_status apply_override(qc_scenario *sc, const char *assignment)
         }
     return qc_fail(QC_EINVAL,
                    "--set %s: unknown section '%s' (scenario, receiver, design, "
-                   "alphabet.NAME, sweep, plots, density)",
+                   "alphabet.NAME, sweep, plots, density, require)",
                    assignment, type);
 }
 

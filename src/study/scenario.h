@@ -61,6 +61,15 @@ typedef struct {
     size_t density_point;/* its grid index                               */
 } sc_plots;
 
+/* [require]: the inverse question asked at every point (src/study/require.c). */
+typedef struct {
+    int on;               /* the section is present                        */
+    qc_target target;
+    char solve_for[64];   /* the key solved for                            */
+    int range_given;
+    double lo, hi;        /* the search range when given                   */
+} sc_require;
+
 struct qc_scenario {
     char *file; /* name used in messages */
     sc_section *sections;
@@ -73,6 +82,7 @@ struct qc_scenario {
     size_t naxes;
     size_t npoints;
     sc_plots plots;
+    sc_require require;
     char hash[17];
 };
 

@@ -141,6 +141,7 @@ void sc_compiled_clear(qc_scenario *sc)
     sc->axes = NULL;
     sc->nalphabets = sc->naxes = sc->npoints = 0;
     memset(&sc->plots, 0, sizeof sc->plots);
+    memset(&sc->require, 0, sizeof sc->require);
     sc->title = sc->description = NULL;
     sc->hash[0] = '\0';
 }
@@ -680,6 +681,58 @@ static uint64_t fnv(uint64_t h, const char *s)
     return h;
 }
 
+/* [require]: target, solve-for and an optional range, checked now. */
+static qc_status compile_require(qc_scenario *sc)
+{
+    static const char *const keys[] = {"target", "solve-for", "range", NULL};
+    sc_section *s = section(sc, "require");
+    sc_require *r = &sc->require;
+    if (!s)
+        return QC_OK;
+    char loc[300];
+    const sc_entry *target = NULL, *solve = NULL;
+    for (size_t i = 0; i < s->n; i++) {
+        const sc_entry *e = &s->entries[i];
+        sc_where(sc, e->line, loc, sizeof loc);
+        qc_status st;
+        if (strcmp(e->key, "target") == 0) {
+            target = e;
+            if ((st = qc_target_parse(e->value, &r->target)) != QC_OK)
+                return qc_fail(st, "%s: 'target': %s", loc, qc_last_error());
+        } else if (strcmp(e->key, "solve-for") == 0) {
+            solve = e;
+            if ((st = qc_setting_check_solvable(e->value)) != QC_OK)
+                return qc_fail(st, "%s: 'solve-for': %s", loc, qc_last_error());
+            if (strlen(e->value) >= sizeof r->solve_for)
+                return qc_fail(QC_EINVAL, "%s: 'solve-for': key too long", loc);
+            snprintf(r->solve_for, sizeof r->solve_for, "%s", e->value);
+        } else if (strcmp(e->key, "range") == 0) {
+            double *v = NULL;
+            size_t n = 0;
+            st = qc_parse_list(e->value, &v, &n);
+            int ok = st == QC_OK && n == 2 && v[0] < v[1];
+            if (ok) {
+                r->lo = v[0];
+                r->hi = v[1];
+                r->range_given = 1;
+            }
+            free(v);
+            if (!ok)
+                return qc_fail(QC_EINVAL, "%s: 'range': expected LO,HI with LO < HI (got '%s')",
+                               loc, e->value);
+        } else
+            return unknown_key(sc, e, "[require]", closest(e->key, keys));
+    }
+    sc_where(sc, s->line, loc, sizeof loc);
+    if (!target || !solve)
+        return qc_fail(QC_EINVAL, "%s: [require] needs 'target' and 'solve-for'", loc);
+    if (r->range_given && !qc_setting_in_db(r->solve_for) && !(r->lo > 0.0))
+        return qc_fail(QC_EINVAL, "%s: 'range': %s is searched on a log scale; LO must be > 0",
+                       loc, r->solve_for);
+    r->on = 1;
+    return QC_OK;
+}
+
 static void compute_hash(qc_scenario *sc)
 {
     uint64_t h = 14695981039346656037ULL;
@@ -702,6 +755,12 @@ static void compute_hash(qc_scenario *sc)
                 h = fnv(h, s->entries[k].key);
                 h = fnv(h, s->entries[k].value);
             }
+    }
+    const sc_section *rq = section(sc, "require");
+    for (size_t i = 0; rq && i < rq->n; i++) {
+        h = fnv(h, "[require]");
+        h = fnv(h, rq->entries[i].key);
+        h = fnv(h, rq->entries[i].value);
     }
     for (size_t i = 0; i < sc->naxes; i++) {
         h = fnv(h, "[axis]");
@@ -747,6 +806,8 @@ qc_status sc_compile(qc_scenario *sc)
     }
     if (st == QC_OK)
         st = compile_plots(sc);
+    if (st == QC_OK)
+        st = compile_require(sc);
     qc_settings_free(base);
     if (st != QC_OK) {
         char msg[1024];

@@ -78,8 +78,12 @@ static const key_spec keys[] = {
     NUMBER_FROM("dark-count-rate", "D", "dark and background count rate, 1/s (default 0)", 0.0,
                 INF),
     NUMBER_FROM("osnr-db", "X", "OSNR in the reference bandwidth, dB (model gauss)", -INF, INF),
-    NUMBER_ABOVE("symbol-rate", "RS", "symbol rate, baud (with osnr-db)", 0.0),
-    WHOLE("polarizations", "P", "polarizations carrying signal, 1 or 2 (default 2)", 1, 2),
+    NUMBER_ABOVE("symbol-rate", "RS", "symbol rate, baud (with osnr-db; and for rates in Gb/s)",
+                 0.0),
+    WHOLE("polarizations", "P", "polarizations carrying signal, 1 or 2 (default: 2 for osnr-db "
+          "and QAM, else 1)", 1, 2),
+    TEXT("fec", "CODE", "FEC code to close the link with: a name from data/fec.tsv, or "
+         "overhead=PCT,ber=X | overhead=PCT,ngmi=X (rate=R for the overhead)"),
     NUMBER_ABOVE("ref-bandwidth", "B", "OSNR reference bandwidth, Hz (default 12.5e9)", 0.0),
     /* alphabets and input design (docs/alphabets.md) */
     LIST("level-grid", "LO,HI,N",
@@ -226,6 +230,10 @@ static qc_status check_value(const char *key, const char *value)
     case K_TEXT:
         if (value[0] == '\0')
             return qc_fail(QC_EINVAL, "empty value");
+        if (strcmp(key, "fec") == 0) {
+            qc_fec f;
+            return qc_fec_parse(value, &f);
+        }
         if (strcmp(key, "model") == 0 && !qc_model_type_find(value)) {
             char known[512] = "";
             const qc_model_type *const *types = qc_model_types();

@@ -336,6 +336,22 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
         req->blocklength = (size_t)n;
         req->error_rate = eps;
     }
+    /* figures in the trade's units (src/design/figures.c) */
+    double rs = NAN, pol = NAN;
+    if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
+        (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
+        return st;
+    req->symbol_rate = isnan(rs) ? 0.0 : rs;
+    /* the OSNR route's default (2) holds for the rates too */
+    req->polarizations = !isnan(pol)                     ? (unsigned)pol
+                         : qc_settings_get(s, "osnr-db") ? 2
+                                                         : 0;
+    const char *fec = qc_settings_get(s, "fec");
+    if (fec) {
+        if ((st = qc_fec_parse(fec, &s->fec)) != QC_OK)
+            return qc_fail(st, "%s", qc_last_error());
+        req->fec = &s->fec;
+    }
     return QC_OK;
 }
 
@@ -355,12 +371,11 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     if (st != QC_OK)
         return st;
     const char *fk = first_frontend_key(s, type);
-    static const char *const osnr_keys[] = {"symbol-rate", "polarizations", "ref-bandwidth"};
-    for (size_t i = 0; i < 3; i++)
-        if (qc_settings_get(s, osnr_keys[i]) && !qc_settings_get(s, "osnr-db"))
-            return qc_fail(QC_EINVAL, "'%s' goes with 'osnr-db' (it converts the OSNR to an "
-                                      "SNR)",
-                           osnr_keys[i]);
+    /* symbol-rate and polarizations also give the rates in Gb/s of every
+     * model; the reference bandwidth only converts an OSNR */
+    if (qc_settings_get(s, "ref-bandwidth") && !qc_settings_get(s, "osnr-db"))
+        return qc_fail(QC_EINVAL, "'ref-bandwidth' goes with 'osnr-db' (it converts the OSNR "
+                                  "to an SNR)");
 
     /* model parameters given directly */
     double params[QC_MODEL_MAX_PARAMS];

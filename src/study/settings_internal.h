@@ -17,6 +17,8 @@ struct qc_settings {
     double *levels, *probabilities, *thresholds;
     /* input constraints of the last build (the request points here) */
     qc_constraints constraints;
+    /* FEC code of the last build (the request points here) */
+    qc_fec fec;
 };
 
 

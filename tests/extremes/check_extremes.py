@@ -36,6 +36,7 @@ TOL_LIMIT = 1e-9    # log2(min(levels, cells)) and data processing, bits
 TOL_MONO = 1e-9     # monotone sequences, bits (the design tolerance)
 TOL_NOISELESS = 1e-12  # bits: a noiseless rate against log2 of the distinct levels
 NO_SNR_MODELS = {"poisson", "apd", "apd-gauss", "preamp", "table"}
+PHOTON_MODELS = {"poisson", "apd", "apd-gauss"}  # models declaring detected photons
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
 from checklib import Tally  # noqa: E402
@@ -67,7 +68,18 @@ def allowed_nulls(j):
         allowed |= {"blocklength", "error_rate", "rate_at_blocklength_bits"}
     n = len(j.get("levels") or [])
     if n & (n - 1):                                   # not a power of 2
-        allowed |= {"mi_bits", "gmi_bits", "labels"}
+        allowed |= {"mi_bits", "gmi_bits", "labels", "pre_fec_ber", "q_factor_db", "ngmi"}
+    ber = j.get("pre_fec_ber")
+    if ber is not None and not 0 < ber < 0.5:         # Q-factor of BER in (0, 1/2) only
+        allowed.add("q_factor_db")
+    if j.get("symbol_rate") is None:                  # no symbol rate: no Gb/s
+        allowed |= {"symbol_rate", "rate_gbps", "net_rate_gbps"}
+    if j.get("fec") is None:                          # no FEC code asked
+        allowed |= {"fec", "fec_closes", "fec_margin", "net_bits", "net_rate_gbps"}
+    if j.get("model") not in PHOTON_MODELS:           # the model counts no photons
+        allowed |= {"photons_per_symbol", "bits_per_photon", "photons_per_bit"}
+    if not (j.get("rate_bits") or 0) > 0:             # photons per bit of a zero rate
+        allowed.add("photons_per_bit")
     return allowed
 
 

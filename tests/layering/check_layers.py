@@ -15,7 +15,7 @@ STAGES = ['core', 'models', 'frontend', 'quantizer', 'capacity', 'alphabet',
           'design', 'study', 'cli']
 # The public header of each stage (src/quantcap/NAME.h -> folder).
 PUBLIC = {
-    'export': 'core', 'status': 'core', 'atomic_file': 'core', 'dmc': 'core', 'info': 'core',
+    'export': 'core', 'status': 'core', 'figures': 'core', 'atomic_file': 'core', 'dmc': 'core', 'info': 'core',
     'model': 'models', 'frontend': 'frontend', 'quantizer': 'quantizer',
     'capacity': 'capacity', 'alphabet': 'alphabet', 'design': 'design',
     'study': 'study',

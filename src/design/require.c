@@ -1,0 +1,446 @@
+/* require.c — the inverse question: which value of one quantity (an SNR,
+ * an OSNR, a received power, photons per slot, any numeric parameter the
+ * caller's builder turns into a design) meets a target (pre-FEC BER, NGMI,
+ * GMI, rate, or a FEC code's threshold) with the chosen quantizer, and
+ * which without it; the penalty at the target is the distance between
+ * the two. The figure is first sampled over the range to check that it is
+ * monotone and to bracket the crossing, then the crossing is found with
+ * GSL's Brent solver (R. P. Brent, Algorithms for Minimization without
+ * Derivatives, 1973, ch. 4). The unquantized hard decision is the MAP
+ * rule on a fine grid of cells over the outputs' support, which matches
+ * the continuous MAP regions to within one fine cell. */
+#include "design/design_internal.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_roots.h>
+
+#define DEFAULT_SAMPLES 9
+#define MAX_SAMPLES 257
+#define ROOT_TOL_DB 1e-6      /* bracket width at stop, in dB (or log10 × 10) */
+#define ROOT_MAX_ITER 100
+#define BER_FLOOR 1e-300      /* log10 of a BER that underflowed to 0        */
+#define FINE_CELLS 16384      /* cells of the unquantized hard decision      */
+
+static const char *const target_names[QC_TARGET_COUNT] = {"ber", "ngmi", "gmi", "rate"};
+
+const char *qc_target_name(qc_target_kind kind)
+{
+    return (unsigned)kind < QC_TARGET_COUNT ? target_names[kind] : NULL;
+}
+
+qc_status qc_target_parse(const char *spec, qc_target *out)
+{
+    memset(out, 0, sizeof *out);
+    const char *eq = spec ? strchr(spec, '=') : NULL;
+    if (!eq)
+        return qc_fail(QC_EINVAL, "target '%s' is not KIND=VALUE (ber=X, ngmi=X, gmi=X, "
+                                  "rate=X or fec=NAME)",
+                       spec ? spec : "");
+    size_t kl = (size_t)(eq - spec);
+    const char *v = eq + 1;
+    if (kl == 3 && strncmp(spec, "fec", 3) == 0) {
+        if (strchr(v, '=') || strchr(v, ','))
+            return qc_fail(QC_EINVAL, "target fec=NAME takes a code name; describe your own "
+                                      "code with --fec and give --target fec=user");
+        qc_status st = qc_fec_parse(v, &out->fec);
+        if (st != QC_OK)
+            return st;
+        out->from_fec = 1;
+        out->kind = out->fec.kind == QC_FEC_HARD ? QC_TARGET_BER : QC_TARGET_NGMI;
+        out->value = out->fec.threshold;
+        return QC_OK;
+    }
+    int k = -1;
+    for (int i = 0; i < QC_TARGET_COUNT; i++)
+        if (strlen(target_names[i]) == kl && strncmp(spec, target_names[i], kl) == 0)
+            k = i;
+    if (k < 0)
+        return qc_fail(QC_EINVAL, "unknown target '%.*s' (choose ber, ngmi, gmi, rate or fec)",
+                       (int)kl, spec);
+    char *end;
+    double x = strtod(v, &end);
+    if (end == v || *end != '\0' || !isfinite(x))
+        return qc_fail(QC_EINVAL, "target %s: '%s' is not a number (one target at a time)",
+                       target_names[k], v);
+    out->kind = (qc_target_kind)k;
+    out->value = x;
+    if (k == QC_TARGET_BER && !(x > 0.0 && x < 0.5))
+        return qc_fail(QC_EINVAL, "target ber=%g: a bit error rate lies in (0, 0.5)", x);
+    if (k == QC_TARGET_NGMI && !(x > 0.0 && x <= 1.0))
+        return qc_fail(QC_EINVAL, "target ngmi=%g: an NGMI lies in (0, 1]", x);
+    if ((k == QC_TARGET_GMI || k == QC_TARGET_RATE) && !(x > 0.0))
+        return qc_fail(QC_EINVAL, "target %s=%g: a rate must be > 0 bit/symbol",
+                       target_names[k], x);
+    return QC_OK;
+}
+
+double qc_design_figure(const qc_design_result *res, qc_target_kind kind)
+{
+    switch (kind) {
+    case QC_TARGET_BER: return res->pre_fec_ber;
+    case QC_TARGET_NGMI: return res->ngmi;
+    case QC_TARGET_GMI: return res->gmi_bits;
+    case QC_TARGET_RATE: return res->rate_bits;
+    default: return NAN;
+    }
+}
+
+/* "Goodness" of a figure: larger is better; a BER as −log10. */
+static double goodness(qc_target_kind kind, double f)
+{
+    if (kind != QC_TARGET_BER)
+        return f;
+    return isnan(f) ? NAN : -log10(fmax(f, BER_FLOOR));
+}
+
+static double from_goodness(qc_target_kind kind, double g)
+{
+    return kind == QC_TARGET_BER ? pow(10.0, -g) : g;
+}
+
+/* ---- the unquantized figures ---------------------------------------- */
+
+/* MAP hard decision on a fine grid over the outputs' support. */
+static qc_status unquantized_hard(const qc_model *m, const double *levels, const double *law,
+                                  size_t n, const size_t *labels, unsigned nbits, double *ber)
+{
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+        double a, b;
+        m->type->support(m, levels[i], &a, &b);
+        lo = fmin(lo, a);
+        hi = fmax(hi, b);
+    }
+    int counts = m->type->output == QC_OUTPUT_COUNTS;
+    if (counts)
+        lo = fmax(lo, 0.0);
+    double *t = qc_malloc_array(FINE_CELLS, sizeof *t);
+    if (!t)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    size_t nt = 0;
+    if (counts) {
+        double step = fmax(1.0, ceil((hi - lo) / FINE_CELLS));
+        for (double c = fmax(1.0, floor(lo) + step); c < hi && nt < FINE_CELLS - 1; c += step)
+            t[nt++] = c;
+    } else {
+        for (size_t k = 1; k < FINE_CELLS; k++)
+            t[nt++] = lo + (hi - lo) * (double)k / FINE_CELLS;
+    }
+    qc_dmc *d = NULL;
+    qc_status st = nt ? qc_discretize(m, levels, n, t, nt, &d)
+                      : qc_fail(QC_EINVAL, "unquantized hard decision: empty output support");
+    qc_hard_figures h;
+    if (st == QC_OK)
+        st = qc_hard_decision(d, law, labels, nbits, 1, &h);
+    if (st == QC_OK)
+        *ber = h.pre_fec_ber;
+    qc_dmc_free(d);
+    free(t);
+    return st;
+}
+
+/* The unquantized figure of the design at the request (levels and law of
+ * the request, or of a design when the design chooses them). */
+static qc_status unquantized_figure(const qc_model *m, const qc_design_request *req,
+                                    qc_target_kind kind, size_t *designs, double *fig)
+{
+    *fig = NAN;
+    const double d = req->dimensions == 2 ? 2.0 : 1.0;
+    qc_design_result r = {0};
+    const double *levels = req->levels, *law = req->probabilities;
+    size_t n = req->nlevels;
+    double *uniform = NULL;
+    size_t *labels = NULL;
+    qc_status st = QC_OK;
+    if (req->objective == QC_OBJECTIVE_CAPACITY || req->optimize_levels) {
+        qc_design_request sub = *req;
+        sub.skip_snr_penalty = 1;
+        sub.fec = NULL;
+        if ((st = qc_design(&sub, &r)) != QC_OK)
+            return st;
+        ++*designs;
+        levels = r.levels;
+        law = r.input;
+        if (kind == QC_TARGET_RATE) {
+            *fig = r.unquantized_bits;
+            goto done;
+        }
+    }
+    if (!law) {
+        if (!(uniform = qc_malloc_array(n, sizeof *uniform))) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        for (size_t i = 0; i < n; i++)
+            uniform[i] = 1.0 / (double)n;
+        law = uniform;
+    }
+    double v, err;
+    unsigned nbits = 0;
+    if (kind == QC_TARGET_RATE && req->objective == QC_OBJECTIVE_MI) {
+        if ((st = qc_unquantized_mi(m, levels, law, n, &v, &err)) == QC_OK)
+            *fig = d * v * QC_LOG2E;
+        goto done;
+    }
+    if (!qc_is_power_of_two(n)) {
+        st = qc_fail(QC_EINVAL, "target %s needs Gray labels: a power of 2 levels (got %zu)",
+                     qc_target_name(kind), n);
+        goto done;
+    }
+    if (!(labels = qc_malloc_array(n, sizeof *labels))) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    if ((st = qc_gray_labels(levels, n, labels, &nbits)) != QC_OK)
+        goto done;
+    if (kind == QC_TARGET_BER) {
+        st = unquantized_hard(m, levels, law, n, labels, nbits, fig);
+        goto done;
+    }
+    if ((st = qc_unquantized_gmi(m, levels, law, n, labels, nbits, &v, &err)) != QC_OK)
+        goto done;
+    double gmi = d * v * QC_LOG2E, h = d * qc_entropy(law, n) * QC_LOG2E;
+    *fig = kind == QC_TARGET_NGMI ? qc_ngmi(gmi, h, d * nbits) : gmi;
+done:
+    qc_design_result_clear(&r);
+    free(uniform);
+    free(labels);
+    return st;
+}
+
+/* ---- the search ----------------------------------------------------- */
+
+typedef struct {
+    const qc_require_request *rq;
+    int unquantized;    /* evaluate the unquantized figure, not the design's */
+    size_t designs;
+    qc_status st;
+} search;
+
+static double value_of(const qc_require_request *rq, double u)
+{
+    return rq->linear ? pow(10.0, u) : u;
+}
+
+/* Goodness of the figure at u (log10 of the value for linear quantities). */
+static double evaluate(search *s, double u)
+{
+    if (s->st != QC_OK)
+        return NAN;
+    const qc_require_request *rq = s->rq;
+    const qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    qc_status st = rq->build(rq->ctx, value_of(rq, u), &m, &req);
+    double f = NAN;
+    if (st == QC_OK && s->unquantized) {
+        st = unquantized_figure(m, &req, rq->target.kind, &s->designs, &f);
+    } else if (st == QC_OK) {
+        qc_design_result r;
+        req.skip_snr_penalty = 1;
+        req.fec = NULL;
+        st = qc_design(&req, &r);
+        if (st == QC_OK) {
+            s->designs++;
+            f = qc_design_figure(&r, rq->target.kind);
+            qc_design_result_clear(&r);
+            if (isnan(f))
+                st = qc_fail(QC_EINVAL, "target %s is undefined for this design (%s)",
+                             qc_target_name(rq->target.kind),
+                             rq->target.kind == QC_TARGET_RATE
+                                 ? "no rate"
+                                 : "Gray labels need a power of 2 levels");
+        }
+    }
+    if (st != QC_OK) {
+        s->st = st;
+        return NAN;
+    }
+    return goodness(rq->target.kind, f);
+}
+
+static double gap(double u, void *p)
+{
+    search *s = p;
+    double g = evaluate(s, u) - goodness(s->rq->target.kind, s->rq->target.value);
+    return isnan(g) ? 0.0 : g; /* a failure stops the solver through s->st */
+}
+
+/* Sample, check monotonicity, bracket, solve. *root in u; *reached 0 when
+ * the target is not met anywhere, 2 when it is met over the whole range. */
+static qc_status solve(search *s, const char *who, double *root, int *increasing,
+                       double *best_u, double *best_g, int *reached)
+{
+    const qc_require_request *rq = s->rq;
+    size_t ns = rq->samples ? rq->samples : DEFAULT_SAMPLES;
+    double ulo = rq->linear ? log10(rq->lo) : rq->lo, uhi = rq->linear ? log10(rq->hi) : rq->hi;
+    double u[MAX_SAMPLES], g[MAX_SAMPLES];
+    const double target = goodness(rq->target.kind, rq->target.value);
+    for (size_t i = 0; i < ns; i++) {
+        u[i] = ulo + (uhi - ulo) * (double)i / (double)(ns - 1);
+        g[i] = evaluate(s, u[i]);
+        if (s->st != QC_OK)
+            return s->st;
+    }
+    size_t ib = 0;
+    for (size_t i = 1; i < ns; i++)
+        if (g[i] > g[ib])
+            ib = i;
+    *best_u = u[ib];
+    *best_g = g[ib];
+    *increasing = g[ns - 1] >= g[0];
+    /* crossings of the target between neighbouring samples */
+    size_t k = 0, ncross = 0, cross[3] = {0};
+    for (size_t i = 1; i < ns; i++)
+        if ((g[i - 1] >= target) != (g[i] >= target)) {
+            if (ncross < 3)
+                cross[ncross] = i;
+            ncross++;
+            k = i;
+        }
+    if (ncross > 1) {
+        const char *name = qc_target_name(rq->target.kind);
+        char where[256] = "";
+        for (size_t c = 0; c < ncross && c < 3; c++) {
+            char one[80];
+            snprintf(one, sizeof one, "%sfrom %.6g%s to %.6g%s", c ? "; " : "",
+                     value_of(rq, u[cross[c] - 1]), rq->unit, value_of(rq, u[cross[c]]),
+                     rq->unit);
+            strncat(where, one, sizeof where - strlen(where) - 1);
+        }
+        return qc_fail(QC_EINVAL,
+                       "%s: the %s is not monotone in %s: it crosses the target %zu times in "
+                       "the range (%s); no unique root: narrow --range to one side "
+                       "of the turn or solve for another quantity",
+                       who, name, rq->name, ncross, where);
+    }
+    if (ncross == 0) {
+        *reached = g[0] >= target ? 2 : 0;
+        if (*reached == 2) { /* met everywhere: report the worst sample */
+            size_t w = 0;
+            for (size_t i = 1; i < ns; i++)
+                if (g[i] < g[w])
+                    w = i;
+            *best_u = u[w];
+            *best_g = g[w];
+        }
+        return QC_OK;
+    }
+    *reached = 1;
+    *increasing = g[k] >= target;
+    if (g[k - 1] == target || g[k] == target) {
+        *root = g[k - 1] == target ? u[k - 1] : u[k];
+        return QC_OK;
+    }
+    gsl_root_fsolver *sv = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
+    if (!sv)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    gsl_function fn = {gap, s};
+    const double tol = rq->linear ? ROOT_TOL_DB / 10.0 : ROOT_TOL_DB;
+    int rc = gsl_root_fsolver_set(sv, &fn, u[k - 1], u[k]);
+    for (int it = 0; rc == GSL_SUCCESS && s->st == QC_OK && it < ROOT_MAX_ITER; it++) {
+        if ((rc = gsl_root_fsolver_iterate(sv)) != GSL_SUCCESS || s->st != QC_OK)
+            break;
+        rc = gsl_root_test_interval(gsl_root_fsolver_x_lower(sv), gsl_root_fsolver_x_upper(sv),
+                                    tol, 0.0);
+        if (rc == GSL_SUCCESS)
+            break;
+        rc = GSL_SUCCESS;
+    }
+    *root = gsl_root_fsolver_root(sv);
+    gsl_root_fsolver_free(sv);
+    if (s->st != QC_OK)
+        return s->st;
+    if (rc != GSL_SUCCESS)
+        return qc_fail(QC_ENUMERIC, "%s: root search failed: %s", who, gsl_strerror(rc));
+    return QC_OK;
+}
+
+static const char *figure_unit(qc_target_kind kind)
+{
+    return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol" : "";
+}
+
+qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
+{
+    qc_gsl_init();
+    memset(out, 0, sizeof *out);
+    out->required = out->unquantized_required = out->penalty_db = NAN;
+    out->best_value = out->best_figure = NAN;
+    if (!rq || !rq->build)
+        return qc_fail(QC_EINVAL, "require: no design builder given");
+    qc_require_request named = *rq;
+    if (!named.name)
+        named.name = "the value";
+    if (!named.unit)
+        named.unit = "";
+    rq = &named;
+    if ((unsigned)rq->target.kind >= QC_TARGET_COUNT)
+        return qc_fail(QC_EINVAL, "require: unknown target kind %d", (int)rq->target.kind);
+    if (!(rq->lo < rq->hi) || !isfinite(rq->lo) || !isfinite(rq->hi))
+        return qc_fail(QC_EINVAL, "range: expected LO < HI, both finite (got %g, %g)", rq->lo,
+                       rq->hi);
+    if (rq->linear && !(rq->lo > 0.0))
+        return qc_fail(QC_EINVAL, "range: this quantity is searched on a log scale; LO must be "
+                                  "> 0 (got %g)",
+                       rq->lo);
+    if (rq->samples && (rq->samples < 3 || rq->samples > MAX_SAMPLES))
+        return qc_fail(QC_EINVAL, "require: samples must be from 3 to %d (got %zu)",
+                       MAX_SAMPLES, rq->samples);
+    const qc_target_kind kind = rq->target.kind;
+    search s = {.rq = rq};
+    double root, bu, bg, uroot = NAN;
+    int inc, reached;
+    qc_status st = solve(&s, "quantized", &root, &inc, &bu, &bg, &reached);
+    out->designs = s.designs;
+    if (st != QC_OK)
+        return st;
+    out->increasing = inc;
+    if (reached != 1) {
+        out->best_value = value_of(rq, bu);
+        out->best_figure = from_goodness(kind, bg);
+        if (reached == 0)
+            return qc_fail(QC_EINFEASIBLE,
+                           "target %s = %g is not reached for %s in the range %g%s to "
+                           "%g%s: the best is %s = %.6g%s at %s = %.6g%s",
+                           qc_target_name(kind), rq->target.value, rq->name, rq->lo, rq->unit,
+                           rq->hi, rq->unit, qc_target_name(kind), out->best_figure,
+                           figure_unit(kind), rq->name, out->best_value, rq->unit);
+        return qc_fail(QC_EINFEASIBLE,
+                       "target %s = %g is met over the whole range of %s, %g%s to %g%s "
+                       "(the worst is %s = %.6g%s at %.6g%s): the required value lies "
+                       "outside it; widen --range",
+                       qc_target_name(kind), rq->target.value, rq->name, rq->lo, rq->unit,
+                       rq->hi, rq->unit, qc_target_name(kind), out->best_figure,
+                       figure_unit(kind), out->best_value, rq->unit);
+    }
+    out->required = value_of(rq, root);
+    search su = {.rq = rq, .unquantized = 1};
+    int uinc;
+    st = solve(&su, "unquantized", &uroot, &uinc, &bu, &bg, &reached);
+    out->designs += su.designs;
+    if (st != QC_OK)
+        return st;
+    if (reached == 1) {
+        out->unquantized_required = value_of(rq, uroot);
+        double diff = rq->linear ? 10.0 * log10(out->required / out->unquantized_required)
+                                 : out->required - out->unquantized_required;
+        out->penalty_db = inc ? diff : -diff;
+    }
+    return QC_OK;
+}
+
+double qc_require_margin_db(const qc_require_result *res, int linear, double operating)
+{
+    if (!res || !isfinite(res->required) || !isfinite(operating))
+        return NAN;
+    if (linear && !(operating > 0.0 && res->required > 0.0))
+        return NAN;
+    double diff = linear ? 10.0 * log10(operating / res->required) : operating - res->required;
+    return res->increasing ? diff : -diff;
+}

@@ -1,0 +1,149 @@
+#!/usr/bin/python3
+"""Command line of the figures and of `quantcap require`: the JSON keys of
+the figures in `design`, the text lines with their units, the FEC
+bookkeeping, and `require` solving for an SNR, an OSNR and a photon count
+(the bad-input paths are cases in tests/bad_inputs/cases.tsv).
+
+Usage: check_require_cli.py PATH/TO/quantcap
+References: Q^-1 by scipy.stats.norm.isf (Debian python3-scipy); the OSNR
+relation SNR = OSNR * 2 B_ref / (p R_s) of Essiambre et al., J. Lightw.
+Technol. 28(4), 2010; Poisson on-off keying with a threshold of one count
+(an error only when the "on" slot gives no count, or the "off" slot a
+background count) for the photon target."""
+import csv
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+
+from scipy.stats import norm
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
+QC = sys.argv[1]
+tally = Tally()
+check = tally.check
+ROOT_TOL_DB = 1e-4   # require stops the root at 1e-6 dB; designs add noise
+FIGURE_KEYS = ["symbol_error_rate", "pre_fec_ber", "q_factor_db", "ngmi", "rate_gbps",
+               "spectral_efficiency", "bits_per_photon", "net_rate_gbps"]
+REQUIRE_KEYS = ["solve_for", "target", "required", "unquantized_required", "penalty_db",
+                "margin_db"]
+
+
+def run(*args):
+    p = subprocess.run([QC, *args], capture_output=True, text=True)
+    return p.returncode, p.stdout, p.stderr
+
+
+def as_json(cmd, *args):
+    rc, out, err = run(cmd, *args, "--json")
+    check(rc == 0, f"{cmd} {' '.join(args)}: exit {rc} ({err.strip()})")
+    try:
+        return json.loads(out)
+    except ValueError:
+        check(False, f"{cmd} {' '.join(args)}: output is JSON")
+        return {}
+
+
+# design: every figure key, the Gb/s and FEC bookkeeping
+d = as_json("design", "--model", "gauss", "--snr-db", "16", "--alphabet", "qam:16", "--bits", "4",
+            "--symbol-rate", "64e9", "--fec", "ofec")
+for k in FIGURE_KEYS:
+    check(k in d, f"design JSON has '{k}'")
+check(d.get("polarizations") == 2, "QAM defaults to 2 polarizations")
+tally.near("rate_gbps = rate x 64 GBd x 2", d["rate_gbps"], d["rate_bits"] * 128, 1e-9)
+if d.get("fec_closes"):
+    # uniform law: net = pol x m / (1 + overhead) (common practice bookkeeping)
+    tally.near("net_rate_gbps", d["net_rate_gbps"], 2 * 4 * 64 / 1.153, 1e-9)
+tally.near("q_factor_db = 20 log10 Q^-1(BER)", d["q_factor_db"],
+           20 * math.log10(norm.isf(d["pre_fec_ber"])), 1e-9)
+
+rc, out, err = run("design", "--model", "gauss", "--snr-db", "16", "--alphabet", "qam:16",
+                   "--bits", "4", "--symbol-rate", "64e9", "--fec", "ofec")
+for word in ["Q-factor", "dB", "bit/s/Hz", "Gb/s", "Gbaud", "closes", "margin"]:
+    check(word in out, f"design text mentions '{word}'")
+
+# require: snr-db; the design at the required value meets the target
+r = as_json("require", "--model", "gauss", "--snr-db", "12", "--alphabet", "pam:4",
+            "--bits", "4", "--target", "ber=1e-3", "--solve-for", "snr-db")
+for k in REQUIRE_KEYS:
+    check(k in r, f"require JSON has '{k}'")
+if "required" in r:
+    check(abs(r["design"]["pre_fec_ber"] - 1e-3) < 1e-6, "the design at the required SNR "
+          "has the target BER")
+    tally.near("margin = operating - required", r["margin_db"], 12 - r["required"], 1e-12)
+    check(r["penalty_db"] >= -ROOT_TOL_DB, "penalty is not negative")
+
+# require: osnr-db (16-QAM, 32 GBd, dual polarization, 12.5 GHz reference)
+o = as_json("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "6",
+            "--symbol-rate", "32e9", "--target", "fec=hd-7", "--solve-for", "osnr-db")
+s = as_json("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "6",
+            "--target", "fec=hd-7", "--solve-for", "snr-db")
+if "required" in o and "required" in s:
+    # SNR = OSNR * 2 B_ref / (p R_s): OSNR_dB = SNR_dB - 10 log10(2 * 12.5 / (2 * 32))
+    tally.near("required OSNR from the required SNR (Essiambre et al. 2010)", o["required"],
+               s["required"] - 10 * math.log10(2 * 12.5 / (2 * 32)), 2 * ROOT_TOL_DB)
+
+# require: photons for on-off keying with photon counting, no background:
+# BER = P(no count | on)/2 = exp(-n)/2, so BER 1e-3 needs n = ln(500)
+p = as_json("require", "--model", "poisson", "--signal", "10", "--background", "0",
+            "--alphabet", "upam:2", "--bits", "1", "--target", "ber=1e-3",
+            "--solve-for", "signal")
+if "required" in p:
+    tally.near("OOK photons for BER 1e-3 = ln 500", p["required"], math.log(500.0), 1e-5)
+    tally.near("margin 10 log10(10 / n)", p["margin_db"], 10 * math.log10(10 / p["required"]),
+               1e-9)
+    rc, out, err = run("require", "--model", "poisson", "--signal", "10", "--background", "0",
+                       "--alphabet", "upam:2", "--bits", "1", "--target", "ber=1e-3",
+                       "--solve-for", "signal")
+    check("photons" in out and "dB" in out, "require text gives photons and dB")
+
+# sweep: the figures are columns of results.csv
+with tempfile.TemporaryDirectory() as tmp:
+    ini = os.path.join(tmp, "figs.ini")
+    with open(ini, "w") as f:
+        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+                "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n")
+    out = os.path.join(tmp, "out")
+    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    check(rc == 0, f"sweep with figures: exit {rc} ({se.strip()})")
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = list(csv.DictReader(f))
+        for k in FIGURE_KEYS + ["fec_closes", "fec.name"]:
+            check(k in rows[0], f"results.csv has the column '{k}'")
+        closes = {(r["snr_db"], r["bits"]): r["fec_closes"] for r in rows}
+        check(closes.get(("18", "2")) == "true" and closes.get(("14", "2")) == "false",
+              "kp4 closes at 18 dB, not at 14 dB (PAM-4, 2 bits)")
+
+# sweep with [require]: the required SNR per point, as `require` finds it
+with tempfile.TemporaryDirectory() as tmp:
+    ini = os.path.join(tmp, "req.ini")
+    with open(ini, "w") as f:
+        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+                "snr-db = 16\n[sweep]\nbits = 1, 2, 3\n[require]\ntarget = fec=kp4\n"
+                "solve-for = snr-db\n")
+    out = os.path.join(tmp, "out")
+    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    check(rc == 0, f"sweep with [require]: exit {rc} ({se.strip()})")
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = {r["bits"]: r for r in csv.DictReader(f)}
+        for k in REQUIRE_KEYS:
+            check(any(k == c or c.startswith(k + ".") for c in rows["2"]),
+                  f"results.csv has the column '{k}'")
+        check(rows["1"]["required"] == "" and "not reached" in rows["1"]["require_error"],
+              "1 bit: kp4 out of reach, recorded per point")
+        one = as_json("require", "--model", "gauss", "--alphabet", "pam:4", "--snr-db", "16",
+                      "--bits", "3", "--target", "fec=kp4", "--solve-for", "snr-db")
+        if "required" in one and rows["3"]["required"]:
+            tally.near("sweep required = require required (3 bits)",
+                       float(rows["3"]["required"]), one["required"], 1e-12)
+            tally.near("sweep margin = 16 dB - required", float(rows["3"]["margin_db"]),
+                       16 - one["required"], 1e-12)
+
+print(f"figures and require: {tally.count} checks, {len(tally.failures)} failed")
+sys.exit(1 if tally.failures else 0)

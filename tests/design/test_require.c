@@ -1,0 +1,218 @@
+/* test_require.c — the inverse question (qc_require): the value of the
+ * SNR a target needs with a quantizer and without, the penalty between
+ * them, the margin of an operating point, and the refusals (a target out
+ * of reach, a figure that is not monotone). The builder here turns an SNR
+ * in dB (A²/σ² per real dimension, E[x²] of the uniform law) into model
+ * gauss, as `--snr-db` does. */
+#include <stdarg.h>
+#include <stddef.h>
+#include <setjmp.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_cdf.h>
+
+#include "quantcap.h"
+#include "test_helpers.h"
+
+#define ROOT_TOL_DB 1e-4     /* the solver stops at 1e-6 dB; designs add noise */
+#define TABLE_TOL_DB 2e-4    /* 3.0902 is given to 5 digits                     */
+#define PUBLISHED_TOL_DB 5e-4 /* 0.187 dB is given to 3 decimals                */
+#define FINE_PENALTY_DB 0.01  /* an 8-bit optimal quantizer on PAM-4            */
+#define EXACT_MARGIN 1e-12    /* margin bookkeeping                             */
+
+typedef struct {
+    const double *levels;
+    size_t n;
+    size_t cells;
+    qc_quantizer_kind quantizer;
+    const double *thresholds;
+    qc_model *model;
+} snr_builder;
+
+static qc_status build(void *ctx, double snr_db, const qc_model **model,
+                       qc_design_request *req)
+{
+    snr_builder *b = ctx;
+    double e2 = 0.0;
+    for (size_t i = 0; i < b->n; i++)
+        e2 += b->levels[i] * b->levels[i] / (double)b->n;
+    double p[QC_MODEL_MAX_PARAMS] = {sqrt(e2 / pow(10.0, snr_db / 10.0))};
+    qc_model_free(b->model);
+    b->model = NULL;
+    qc_status st = qc_model_alloc(&qc_model_gauss, p, &b->model);
+    if (st != QC_OK)
+        return st;
+    qc_design_request_default(req);
+    req->model = b->model;
+    req->levels = b->levels;
+    req->nlevels = b->n;
+    req->cells = b->cells;
+    req->quantizer = b->quantizer;
+    if (b->thresholds) {
+        req->thresholds = b->thresholds;
+        req->nthresholds = b->cells - 1;
+    }
+    *model = b->model;
+    return QC_OK;
+}
+
+static qc_status require_snr(snr_builder *b, const char *target, double lo, double hi,
+                             qc_require_result *res)
+{
+    qc_require_request rq = {.build = build, .ctx = b, .lo = lo, .hi = hi, .name = "snr-db",
+                             .unit = " dB"};
+    assert_int_equal(qc_target_parse(target, &rq.target), QC_OK);
+    qc_status st = qc_require(&rq, res);
+    qc_model_free(b->model);
+    b->model = NULL;
+    return st;
+}
+
+/* BPSK with the sign quantizer at BER 1e-3: Q(√snr) = 1e-3, so snr =
+ * Q⁻¹(1e-3)² with Q⁻¹(1e-3) = 3.0902 (from memory; standard normal
+ * tables), 9.80 dB (any digital-communications textbook, e.g. Proakis).
+ * The sign is the MAP decision, so the unquantized receiver needs the same
+ * and the penalty is zero. */
+static void test_bpsk_ber(void **state)
+{
+    (void)state;
+    const double levels[2] = {-1.0, 1.0}, sign[1] = {0.0};
+    snr_builder b = {levels, 2, 2, QC_QUANTIZER_FIXED, sign, NULL};
+    qc_require_result r;
+    assert_int_equal(require_snr(&b, "ber=1e-3", -10.0, 30.0, &r), QC_OK);
+    assert_near(r.required, 20.0 * log10(3.0902), TABLE_TOL_DB);
+    assert_near(r.required, 20.0 * log10(gsl_cdf_ugaussian_Qinv(1e-3)), ROOT_TOL_DB);
+    assert_near(r.unquantized_required, r.required, ROOT_TOL_DB);
+    assert_near(r.penalty_db, 0.0, ROOT_TOL_DB);
+    assert_true(r.increasing);
+    /* margin of an operating point 2 dB above: +2 dB; 1 dB below: −1 dB */
+    assert_near(qc_require_margin_db(&r, 0, r.required + 2.0), 2.0, EXACT_MARGIN);
+    assert_near(qc_require_margin_db(&r, 0, r.required - 1.0), -1.0, EXACT_MARGIN);
+}
+
+/* The unquantized binary-input AWGN channel carries 0.5 bit at Eb/N0 =
+ * 0.187 dB (S.-Y. Chung, G. D. Forney, T. J. Richardson, R. Urbanke, "On
+ * the design of low-density parity-check codes within 0.0045 dB of the
+ * Shannon limit", IEEE Commun. Lett. 5(2), 2001). With snr = A²/σ² and
+ * N0 = 2σ², Es/N0 = snr/2 and at rate ½ Eb/N0 = (Es/N0)/R = snr: the
+ * same 0.187 dB (Es/N0 is −2.82 dB there). */
+static void test_biawgn_half_rate(void **state)
+{
+    (void)state;
+    const double levels[2] = {-1.0, 1.0};
+    snr_builder b = {levels, 2, 256, QC_QUANTIZER_OPTIMAL, NULL, NULL};
+    qc_require_result r;
+    assert_int_equal(require_snr(&b, "rate=0.5", -10.0, 10.0, &r), QC_OK);
+    assert_near(r.unquantized_required, 0.187, PUBLISHED_TOL_DB);
+    assert_near(r.penalty_db, 0.0, FINE_PENALTY_DB);
+}
+
+/* PAM-4 at 1.5 bit/symbol: the penalty at the target is zero for a fine
+ * quantizer, positive and decreasing in the bits. */
+static void test_penalty_in_bits(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    double last = INFINITY, unq = NAN;
+    for (unsigned bits = 2; bits <= 8; bits++) {
+        snr_builder b = {levels, 4, (size_t)1 << bits, QC_QUANTIZER_OPTIMAL, NULL, NULL};
+        qc_require_result r;
+        assert_int_equal(require_snr(&b, "rate=1.5", -10.0, 30.0, &r), QC_OK);
+        if (bits == 2)
+            unq = r.unquantized_required;
+        assert_near(r.unquantized_required, unq, ROOT_TOL_DB); /* one reference */
+        assert_true(r.penalty_db > -ROOT_TOL_DB);
+        assert_true(r.penalty_db < last + ROOT_TOL_DB);
+        last = r.penalty_db;
+        if (bits == 8)
+            assert_near(r.penalty_db, 0.0, FINE_PENALTY_DB);
+    }
+    assert_true(last < FINE_PENALTY_DB);
+}
+
+/* A 1-bit ADC never carries 1.5 bit per PAM-4 symbol: at most 1 bit
+ * (two cells). The target is out of reach, with the best value kept. */
+static void test_unreachable(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    snr_builder b = {levels, 4, 2, QC_QUANTIZER_OPTIMAL, NULL, NULL};
+    qc_require_result r;
+    assert_int_equal(require_snr(&b, "rate=1.5", -10.0, 40.0, &r), QC_EINFEASIBLE);
+    assert_near(r.best_figure, 1.0, 1e-6);
+    assert_non_null(strstr(qc_last_error(), "not reached"));
+    /* met over the whole range */
+    snr_builder b4 = {levels, 4, 16, QC_QUANTIZER_OPTIMAL, NULL, NULL};
+    assert_int_equal(require_snr(&b4, "rate=0.1", 10.0, 40.0, &r), QC_EINFEASIBLE);
+    assert_non_null(strstr(qc_last_error(), "met over the whole range"));
+}
+
+/* A threshold at 1.5 with levels ±1: the rate first grows with the noise
+ * (it carries the low level across) and then falls, so it crosses a
+ * small target twice: no unique root. */
+static void test_not_monotone(void **state)
+{
+    (void)state;
+    const double levels[2] = {-1.0, 1.0}, t[1] = {1.5};
+    snr_builder b = {levels, 2, 2, QC_QUANTIZER_FIXED, t, NULL};
+    qc_require_result r;
+    assert_int_equal(require_snr(&b, "rate=0.1", -30.0, 30.0, &r), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "not monotone"));
+}
+
+static void test_target_parse(void **state)
+{
+    (void)state;
+    qc_target t;
+    assert_int_equal(qc_target_parse("fec=kp4", &t), QC_OK);
+    assert_int_equal(t.kind, QC_TARGET_BER);
+    assert_near(t.value, 2.4e-4, 1e-18);
+    assert_int_equal(qc_target_parse("ngmi=0.8", &t), QC_OK);
+    assert_int_equal(t.kind, QC_TARGET_NGMI);
+    assert_int_equal(qc_target_parse("ber=0.6", &t), QC_EINVAL);
+    assert_int_equal(qc_target_parse("fec=nope", &t), QC_EINVAL);
+    assert_int_equal(qc_target_parse("snr=3", &t), QC_EINVAL);
+    assert_int_equal(qc_target_parse("ber=1e-3,ngmi=0.8", &t), QC_EINVAL);
+}
+
+/* The same question on settings, as `quantcap require` asks it: the key
+ * solved for is replaced in a copy of the settings at each step. */
+static void test_settings_require(void **state)
+{
+    (void)state;
+    qc_settings *s;
+    assert_int_equal(qc_settings_alloc(&s), QC_OK);
+    const char *kv[][2] = {{"model", "gauss"}, {"levels", "-1,1"}, {"cells", "2"},
+                           {"thresholds", "0"}, {"snr-db", "12"}};
+    for (size_t i = 0; i < 5; i++)
+        assert_int_equal(qc_settings_set(s, kv[i][0], kv[i][1]), QC_OK);
+    qc_target t;
+    assert_int_equal(qc_target_parse("ber=1e-3", &t), QC_OK);
+    qc_require_result r;
+    assert_int_equal(qc_settings_require(s, "snr-db", &t, -10.0, 30.0, " dB", &r), QC_OK);
+    assert_near(r.required, 20.0 * log10(gsl_cdf_ugaussian_Qinv(1e-3)), ROOT_TOL_DB);
+    assert_near(qc_require_margin_db(&r, 0, 12.0), 12.0 - r.required, EXACT_MARGIN);
+    assert_true(qc_setting_in_db("snr-db") && qc_setting_in_db("power-dbm"));
+    assert_false(qc_setting_in_db("signal"));
+    assert_int_equal(qc_setting_check_solvable("bits"), QC_EINVAL);
+    assert_int_equal(qc_setting_check_solvable("sigma"), QC_OK);
+    assert_int_equal(qc_settings_require(s, "cells", &t, 2.0, 8.0, NULL, &r), QC_EINVAL);
+    /* the settings given are unchanged */
+    assert_string_equal(qc_settings_get(s, "snr-db"), "12");
+    qc_settings_free(s);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_bpsk_ber),      cmocka_unit_test(test_biawgn_half_rate),
+        cmocka_unit_test(test_penalty_in_bits), cmocka_unit_test(test_unreachable),
+        cmocka_unit_test(test_not_monotone),  cmocka_unit_test(test_target_parse),
+        cmocka_unit_test(test_settings_require),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
