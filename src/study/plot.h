@@ -42,6 +42,7 @@ typedef struct {
     size_t *nfiles, *nnotes;
     /* the figure being drawn */
     qc_atomic_file *page; /* its output (NULL between pages) */
+    int stream_open;      /* PLplot's stream started, not yet ended */
     void *owned[PLOT_MAX_OWNED];
     size_t nowned;
     qc_settings *settings; /* density: the point's settings and model */

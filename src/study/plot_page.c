@@ -120,6 +120,15 @@ void plot_page_discard(plot_ctx *ctx)
 
 void plot_ctx_end(plot_ctx *ctx)
 {
+    /* PLplot's own exit path ends the stream after the exit handler,
+     * which jumped away: end it here, or the next figure's device settings
+     * would meet a stream still open (and PLplot would ask for a device on
+     * stdin). A failure inside plend jumps back here once and is left. */
+    if (ctx->stream_open) {
+        ctx->stream_open = 0;
+        if (setjmp(ctx->escape) == 0)
+            plend();
+    }
     plot_page_discard(ctx);
     plot_release(ctx);
     current = NULL;
@@ -135,6 +144,7 @@ qc_status plot_page_open(plot_ctx *ctx, const char *path, int w, int h)
     }
     plsexit(on_plexit);
     plsabort(on_plabort);
+    ctx->stream_open = 1;
     plsdev(ctx->device);
     plsfnam(qc_atomic_file_temp_path(ctx->page)); /* PLplot writes it by name */
     plspage(90.0, 90.0, w, h, 0, 0);
@@ -155,6 +165,7 @@ qc_status plot_page_open(plot_ctx *ctx, const char *path, int w, int h)
 qc_status plot_page_close(plot_ctx *ctx, const char *path)
 {
     plend();
+    ctx->stream_open = 0;
     qc_status st = qc_atomic_file_commit(ctx->page);
     ctx->page = NULL;
     if (st != QC_OK)
