@@ -1,5 +1,7 @@
-/* scenario.h — the parsed form of a scenario file (internal: shared by the
- * scenario parser, the sweep runner and the plots). */
+/* scenario.h — a parsed scenario file (internal: shared by the scenario
+ * parser, the sweep runner and the plots): its types (scenario_types.h),
+ * look-ups in its sections (scenario_keys.h), and the functions on its
+ * ranges, its compiled form and the points of its grid. */
 #ifndef QC_SCENARIO_H
 #define QC_SCENARIO_H
 
