@@ -23,6 +23,8 @@
 static pthread_mutex_t plot_lock = PTHREAD_MUTEX_INITIALIZER;
 static _Thread_local plot_ctx *current;
 
+/* Outside a context (a program drawing with PLplot itself after a sweep)
+ * PLplot's default stands: it ends the process. */
 static int on_plexit(const char *msg)
 {
     plot_ctx *ctx = current;
