@@ -131,6 +131,12 @@ int cmd_sweep(int argc, char **argv)
     opt.jobs = (unsigned)jobs;
     opt.resume = cli_has(&a, "resume");
     opt.plots = !cli_has(&a, "no-plots");
+    /* PLplot's Qt devices (used when cairo is not installed) need a
+     * display; without one they are pointed at Qt's off-screen platform,
+     * set only when unset. The program sets it, before any thread starts:
+     * the library changes no environment. */
+    if (opt.plots && !getenv("DISPLAY") && !getenv("WAYLAND_DISPLAY"))
+        setenv("QT_QPA_PLATFORM", "offscreen", 0);
     opt.progress = cli_progress_report;
     opt.user = &ps;
     struct timespec t0, t1;

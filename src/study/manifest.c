@@ -3,7 +3,9 @@
  * into the same folder removes the files the previous list names that it
  * does not write again, so no stale figure of an earlier grid stays beside
  * the new ones; files the list does not name are never touched. */
-#include "study/sweep.h"
+#include "study/manifest.h"
+
+#include "study/file_list.h"
 
 #include "core/internal.h"
 #include "quantcap/atomic_file.h"

@@ -74,7 +74,8 @@ static json_t *labels_of(const qc_design_result *res)
 static void report_alphabet(json_t *o, const qc_design_request *req,
                             const qc_design_result *res)
 {
-    json_object_set_new(o, "dimensions", json_integer(res->dimensions ? res->dimensions : 1));
+    json_object_set_new(o, QC_REPORT_DIMENSIONS,
+                        json_integer(res->dimensions ? res->dimensions : 1));
     json_object_set_new(o, "mi_bits", qc_report_real(res->mi_bits));
     json_object_set_new(o, "gmi_bits", qc_report_real(res->gmi_bits));
     json_t *labels = res->label_bits ? labels_of(res) : NULL;
@@ -171,12 +172,12 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->nthresholds + 1)));
     unsigned bits = bits_of(req->cells);
     json_object_set_new(o, "bits", bits ? json_integer(bits) : json_null());
-    json_object_set_new(o, "rate_bits", qc_report_real(res->rate_bits));
+    json_object_set_new(o, QC_REPORT_RATE, qc_report_real(res->rate_bits));
     json_object_set_new(o, "upper_bound_bits", qc_report_real(res->upper_bound_bits));
     json_object_set_new(o, "tolerance_bits", qc_report_real(res->tol_bits));
-    json_object_set_new(o, "unquantized_bits", qc_report_real(res->unquantized_bits));
+    json_object_set_new(o, QC_REPORT_UNQUANTIZED, qc_report_real(res->unquantized_bits));
     json_object_set_new(o, "unquantized_error_bits", qc_report_real(res->unquantized_err_bits));
-    json_object_set_new(o, "loss_bits", qc_report_real(res->loss_bits));
+    json_object_set_new(o, QC_REPORT_LOSS, qc_report_real(res->loss_bits));
     json_object_set_new(o, "rate_limited_by", name_or_null(qc_rate_limit_name(res->rate_limited_by)));
     json_object_set_new(o, "unquantized_limited_by",
                         name_or_null(qc_rate_limit_name(res->unquantized_limited_by)));
@@ -190,14 +191,15 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "operating_snr_db", qc_report_real(res->snr_db));
     const char *snr_def = qc_design_snr_definition(req);
     json_object_set_new(o, "snr_definition", snr_def ? json_string(snr_def) : json_null());
-    json_object_set_new(o, "snr_penalty_db", qc_report_real(res->snr_penalty_db));
+    json_object_set_new(o, QC_REPORT_SNR_PENALTY, qc_report_real(res->snr_penalty_db));
     json_object_set_new(o, "snr_penalty_note",
                         isfinite(res->snr_penalty_db)
                             ? json_null()
                             : name_or_null(qc_penalty_note_text(res->snr_penalty_note)));
     json_object_set_new(o, "mse", qc_report_real(res->mse));
-    json_object_set_new(o, "thresholds", qc_report_array(res->thresholds, res->nthresholds));
-    json_object_set_new(o, "levels", qc_report_array(res->levels, res->nlevels));
+    json_object_set_new(o, QC_REPORT_THRESHOLDS,
+                        qc_report_array(res->thresholds, res->nthresholds));
+    json_object_set_new(o, QC_REPORT_LEVELS, qc_report_array(res->levels, res->nlevels));
     json_object_set_new(o, "input_distribution", qc_report_array(res->input, res->nlevels));
     if (res->reconstruction)
         json_object_set_new(o, "reconstruction",

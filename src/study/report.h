@@ -14,4 +14,22 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
 json_t *qc_report_real(double v);
 json_t *qc_report_array(const double *v, size_t n);
 
+/* Keys of a design report that the plots read back out of a sweep's
+ * records. The writer (report.c) and the plots (plot_records.c) both take
+ * them from here, so a key renamed in the report is renamed for the plots
+ * too; QC_REPORT_PLOTTED_KEYS lists them for the test that checks a
+ * report holds every one. */
+#define QC_REPORT_DIMENSIONS "dimensions"
+#define QC_REPORT_RATE "rate_bits"
+#define QC_REPORT_UNQUANTIZED "unquantized_bits"
+#define QC_REPORT_LOSS "loss_bits"
+#define QC_REPORT_SNR_PENALTY "snr_penalty_db"
+#define QC_REPORT_THRESHOLDS "thresholds"
+#define QC_REPORT_LEVELS "levels"
+#define QC_REPORT_PLOTTED_KEYS                                                             \
+    {                                                                                      \
+        QC_REPORT_DIMENSIONS, QC_REPORT_RATE, QC_REPORT_UNQUANTIZED, QC_REPORT_LOSS,       \
+            QC_REPORT_SNR_PENALTY, QC_REPORT_THRESHOLDS, QC_REPORT_LEVELS, NULL            \
+    }
+
 #endif

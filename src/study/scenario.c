@@ -16,18 +16,6 @@
 #include <string.h>
 #include <sys/stat.h>
 
-qc_status sc_compile(qc_scenario *sc); /* scenario_compile.c */
-void sc_compiled_clear(qc_scenario *sc);
-
-const char *sc_where(const qc_scenario *sc, int line, char *buf, size_t cap)
-{
-    if (line > 0)
-        snprintf(buf, cap, "%s:%d", sc->file, line);
-    else
-        snprintf(buf, cap, "--set");
-    return buf;
-}
-
 /* ---------------------------------------------------------------- */
 /* Sections and entries                                              */
 /* ---------------------------------------------------------------- */

@@ -1,8 +1,9 @@
 /* scenario_compile.c — the meaning of a scenario's sections: base
  * settings, alphabets, sweep axes (lists and ranges, scenario_range.c), the
- * plots asked for, the grid of points and its hash. Every design key is a
- * scenario key with the same meaning; its values are checked by the same
- * code as the `design` command's flags (qc_settings_set). */
+ * plots asked for (plot_config.c), the grid of points and its hash. Every
+ * design key is a scenario key with the same meaning; its values are
+ * checked by the same code as the `design` command's flags
+ * (qc_settings_set). */
 #include "study/scenario.h"
 
 #include "core/internal.h"
@@ -18,47 +19,13 @@
 /* Helpers                                                            */
 /* ---------------------------------------------------------------- */
 
-static sc_section *section(const qc_scenario *sc, const char *type)
-{
-    for (size_t i = 0; i < sc->nsections; i++)
-        if (strcmp(sc->sections[i].type, type) == 0)
-            return &sc->sections[i];
-    return NULL;
-}
-
-/* Closest of `names` (NULL-terminated) to key, or NULL if none is close. */
-static const char *closest(const char *key, const char *const *names)
-{
-    const char *best = NULL;
-    size_t bd = 4;
-    for (size_t i = 0; names[i]; i++) {
-        size_t d = qc_edit_distance(key, names[i]);
-        if (d < bd) {
-            bd = d;
-            best = names[i];
-        }
-    }
-    return best;
-}
-
-static qc_status unknown_key(const qc_scenario *sc, const sc_entry *e, const char *where,
-                             const char *near)
-{
-    char loc[300];
-    sc_where(sc, e->line, loc, sizeof loc);
-    if (near)
-        return qc_fail(QC_EINVAL, "%s: unknown key '%s' in %s (did you mean '%s'?)", loc, e->key,
-                       where, near);
-    return qc_fail(QC_EINVAL, "%s: unknown key '%s' in %s", loc, e->key, where);
-}
-
 /* Set a design key into settings, naming the line on failure. */
 static qc_status set_key(const qc_scenario *sc, qc_settings *s, const sc_entry *e,
                          const char *where)
 {
     char loc[300];
     if (!qc_setting_known(e->key))
-        return unknown_key(sc, e, where, qc_setting_suggest(e->key));
+        return sc_unknown_key(sc, e, where, qc_setting_suggest(e->key));
     if (sc_range_is(e->value)) {
         sc_where(sc, e->line, loc, sizeof loc);
         if (e->line > 0)
@@ -84,19 +51,6 @@ static int is_list_key(const char *key)
         if (strcmp(info[i].key, key) == 0)
             return info[i].metavar && strchr(info[i].metavar, ',') != NULL;
     return 0;
-}
-
-static int parse_bool(const char *v, int *out)
-{
-    if (strcmp(v, "true") == 0 || strcmp(v, "yes") == 0) {
-        *out = 1;
-        return 0;
-    }
-    if (strcmp(v, "false") == 0 || strcmp(v, "no") == 0) {
-        *out = 0;
-        return 0;
-    }
-    return -1;
 }
 
 static char *trim_copy(const char *p, size_t len)
@@ -136,11 +90,10 @@ void sc_compiled_clear(qc_scenario *sc)
     for (size_t i = 0; i < sc->naxes; i++)
         axis_clear(&sc->axes[i]);
     free(sc->axes);
-    free(sc->plots.bits_at);
     sc->alphabets = NULL;
     sc->axes = NULL;
     sc->nalphabets = sc->naxes = sc->npoints = 0;
-    memset(&sc->plots, 0, sizeof sc->plots);
+    sc_plots_clear(&sc->plots);
     memset(&sc->require, 0, sizeof sc->require);
     sc->title = sc->description = NULL;
     sc->hash[0] = '\0';
@@ -232,7 +185,7 @@ static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a
     a->key = e->key;
     a->line = e->line;
     if (!qc_setting_known(e->key))
-        return unknown_key(sc, e, "[sweep]", qc_setting_suggest(e->key));
+        return sc_unknown_key(sc, e, "[sweep]", qc_setting_suggest(e->key));
     if (is_list_key(e->key))
         return qc_fail(QC_EINVAL,
                        "%s: '%s' takes a list of numbers and cannot be a sweep axis; give "
@@ -310,7 +263,7 @@ static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a
 static qc_status compile_scenario_section(qc_scenario *sc)
 {
     static const char *const keys[] = {"title", "description", NULL};
-    sc_section *s = section(sc, "scenario");
+    sc_section *s = sc_section_find(sc, "scenario");
     for (size_t i = 0; s && i < s->n; i++) {
         const sc_entry *e = &s->entries[i];
         if (strcmp(e->key, "title") == 0)
@@ -318,7 +271,7 @@ static qc_status compile_scenario_section(qc_scenario *sc)
         else if (strcmp(e->key, "description") == 0)
             sc->description = e->value;
         else
-            return unknown_key(sc, e, "[scenario]", closest(e->key, keys));
+            return sc_unknown_key(sc, e, "[scenario]", sc_closest(e->key, keys));
     }
     return QC_OK;
 }
@@ -328,7 +281,7 @@ static qc_status compile_base(const qc_scenario *sc, qc_settings *base)
 {
     const char *types[] = {"receiver", "design"};
     for (int t = 0; t < 2; t++) {
-        sc_section *s = section(sc, types[t]);
+        sc_section *s = sc_section_find(sc, types[t]);
         char where[32];
         snprintf(where, sizeof where, "[%s]", types[t]);
         for (size_t i = 0; s && i < s->n; i++) {
@@ -373,8 +326,8 @@ static qc_status compile_alphabets(qc_scenario *sc, const qc_settings *base)
             }
             if (!qc_setting_known(e->key)) {
                 static const char *const own[] = {"label", NULL};
-                const char *near = closest(e->key, own);
-                return unknown_key(sc, e, where, near ? near : qc_setting_suggest(e->key));
+                const char *near = sc_closest(e->key, own);
+                return sc_unknown_key(sc, e, where, near ? near : qc_setting_suggest(e->key));
             }
             if ((st = set_key(sc, a->settings, e, where)) != QC_OK)
                 return st;
@@ -400,7 +353,7 @@ static int set_elsewhere(const qc_scenario *sc, const char *key)
 
 static qc_status compile_axes(qc_scenario *sc)
 {
-    sc_section *s = section(sc, "sweep");
+    sc_section *s = sc_section_find(sc, "sweep");
     size_t n = s ? s->n : 0;
     sc->axes = calloc(n ? n : 1, sizeof *sc->axes);
     if (!sc->axes)
@@ -437,233 +390,6 @@ static qc_status compile_axes(qc_scenario *sc)
                        QC_SCENARIO_MAX_POINTS);
     sc->npoints = (size_t)points;
     return QC_OK;
-}
-
-static int axis_index(const qc_scenario *sc, const char *key)
-{
-    for (size_t i = 0; i < sc->naxes; i++)
-        if (strcmp(sc->axes[i].key, key) == 0)
-            return (int)i;
-    return -1;
-}
-
-/* Index of `value` among the axis values (numbers compare by value). */
-static int axis_value_index(const sc_axis *a, const char *value)
-{
-    double v;
-    int num = a->number && qc_parse_double(value, &v) == QC_OK;
-    qc_clear_error();
-    for (size_t j = 0; j < a->n; j++)
-        if (strcmp(a->values[j], value) == 0 || (num && a->number[j] == v))
-            return (int)j;
-    return -1;
-}
-
-/* The value of a numeric axis nearest to `value` (else the first). */
-static int nearest_value(const sc_axis *a, const char *value)
-{
-    double v;
-    if (!a->number || qc_parse_double(value, &v) != QC_OK)
-        return 0;
-    size_t best = 0;
-    for (size_t j = 1; j < a->n; j++)
-        if (fabs(a->number[j] - v) < fabs(a->number[best] - v))
-            best = j;
-    return (int)best;
-}
-
-static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, const sc_axis *a,
-                                  const char *value)
-{
-    char loc[300], list[256] = "";
-    for (size_t j = 0; j < a->n && strlen(list) < 200; j++) {
-        strcat(list, j ? ", " : "");
-        strncat(list, a->values[j], 40);
-    }
-    if (strlen(list) >= 200)
-        strcat(list, ", ...");
-    return qc_fail(QC_EINVAL, "%s: '%s': %s is not a value of the sweep axis '%s' (%s)",
-                   sc_where(sc, e->line, loc, sizeof loc), e->key, value, a->key, list);
-}
-
-static qc_status compile_plots(qc_scenario *sc)
-{
-    static const char *const keys[] = {"format", "x", "rate-vs-x", "rate-vs-bits", "density",
-                                       "size", NULL};
-    sc_plots *p = &sc->plots;
-    p->width = 960;
-    p->height = 640;
-    p->x_axis = p->curve_axis = -1;
-    p->curve_axis = axis_index(sc, "bits");
-    if (p->curve_axis < 0)
-        p->curve_axis = axis_index(sc, "cells");
-    for (size_t i = 0; i < sc->naxes && p->x_axis < 0; i++)
-        if (sc->axes[i].number && (int)i != p->curve_axis)
-            p->x_axis = (int)i;
-    sc_section *s = section(sc, "plots");
-    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL;
-    char loc[300];
-    for (size_t i = 0; s && i < s->n; i++) {
-        const sc_entry *e = &s->entries[i];
-        sc_where(sc, e->line, loc, sizeof loc);
-        if (strcmp(e->key, "format") == 0) {
-            if (strcmp(e->value, "svg") == 0)
-                p->format = SC_FORMAT_SVG;
-            else if (strcmp(e->value, "png") == 0)
-                p->format = SC_FORMAT_PNG;
-            else if (strcmp(e->value, "pdf") == 0)
-                p->format = SC_FORMAT_PDF;
-            else
-                return qc_fail(QC_EINVAL, "%s: 'format': unknown value '%s' (expected one of: "
-                                          "svg, png, pdf)",
-                               loc, e->value);
-        } else if (strcmp(e->key, "x") == 0) {
-            int k = axis_index(sc, e->value);
-            if (k < 0)
-                return qc_fail(QC_EINVAL, "%s: 'x': '%s' is not a sweep axis", loc, e->value);
-            if (!sc->axes[k].number)
-                return qc_fail(QC_EINVAL, "%s: 'x': the axis '%s' does not hold numbers", loc,
-                               e->value);
-            p->x_axis = k;
-        } else if (strcmp(e->key, "size") == 0) {
-            char *end;
-            long w = strtol(e->value, &end, 10), h = 0;
-            int ok = end != e->value && *end == 'x';
-            if (ok) {
-                const char *hs = end + 1;
-                h = strtol(hs, &end, 10);
-                ok = end != hs && *end == '\0';
-            }
-            if (!ok || w < 200 || w > 8000 || h < 150 || h > 8000)
-                return qc_fail(QC_EINVAL, "%s: 'size': '%s' is not WIDTHxHEIGHT in pixels "
-                                          "(200x150 to 8000x8000)",
-                               loc, e->value);
-            p->width = (int)w;
-            p->height = (int)h;
-        } else if (strcmp(e->key, "rate-vs-x") == 0) {
-            rvx = e;
-        } else if (strcmp(e->key, "rate-vs-bits") == 0) {
-            rvb = e;
-        } else if (strcmp(e->key, "density") == 0) {
-            dens = e;
-        } else
-            return unknown_key(sc, e, "[plots]", closest(e->key, keys));
-    }
-    if (p->x_axis >= 0 && p->x_axis == p->curve_axis)
-        p->curve_axis = -1; /* rate against bits itself: one curve */
-    p->rate_vs_x = p->x_axis >= 0;
-    if (rvx) {
-        sc_where(sc, rvx->line, loc, sizeof loc);
-        if (parse_bool(rvx->value, &p->rate_vs_x) != 0)
-            return qc_fail(QC_EINVAL, "%s: 'rate-vs-x': '%s' is not true or false", loc,
-                           rvx->value);
-        if (p->rate_vs_x && p->x_axis < 0)
-            return qc_fail(QC_EINVAL, "%s: 'rate-vs-x': the sweep has no numeric axis to draw "
-                                      "the rate against",
-                           loc);
-    }
-    if (rvb) {
-        sc_where(sc, rvb->line, loc, sizeof loc);
-        int flag;
-        if (parse_bool(rvb->value, &flag) == 0) {
-            p->rate_vs_bits = flag;
-            if (flag && p->x_axis >= 0)
-                return qc_fail(QC_EINVAL, "%s: 'rate-vs-bits': give the values of '%s' at "
-                                          "which to draw it",
-                               loc, sc->axes[p->x_axis].key);
-        } else {
-            if (p->x_axis < 0)
-                return qc_fail(QC_EINVAL, "%s: 'rate-vs-bits': the sweep has no x axis; use "
-                                          "true or false",
-                               loc);
-            double *v;
-            size_t nv;
-            if (qc_parse_list(rvb->value, &v, &nv) != QC_OK) {
-                char msg[512];
-                snprintf(msg, sizeof msg, "%s", qc_last_error());
-                return qc_fail(QC_EINVAL, "%s: 'rate-vs-bits': %s", loc, msg);
-            }
-            p->bits_at = malloc(nv * sizeof *p->bits_at);
-            if (!p->bits_at) {
-                free(v);
-                return qc_fail(QC_ENOMEM, "out of memory");
-            }
-            const sc_axis *xa = &sc->axes[p->x_axis];
-            for (size_t j = 0; j < nv; j++) {
-                size_t k = 0;
-                while (k < xa->n && xa->number[k] != v[j])
-                    k++;
-                if (k < xa->n) {
-                    p->bits_at[p->nbits_at++] = k;
-                } else if (xa->line > 0) { /* an axis overridden by --set may lose them */
-                    char val[64];
-                    snprintf(val, sizeof val, "%.15g", v[j]);
-                    free(v);
-                    return axis_value_error(sc, rvb, xa, val);
-                }
-            }
-            p->rate_vs_bits = p->nbits_at > 0;
-            free(v);
-        }
-        if (p->rate_vs_bits && p->curve_axis < 0)
-            return qc_fail(QC_EINVAL, "%s: 'rate-vs-bits': the sweep has no 'bits' (or "
-                                      "'cells') axis",
-                           loc);
-    }
-    sc_section *d = section(sc, "density");
-    p->density = d != NULL;
-    if (dens) {
-        sc_where(sc, dens->line, loc, sizeof loc);
-        if (parse_bool(dens->value, &p->density) != 0)
-            return qc_fail(QC_EINVAL, "%s: 'density': '%s' is not true or false", loc,
-                           dens->value);
-        if (p->density && !d)
-            return qc_fail(QC_EINVAL, "%s: 'density': add a [density] section naming the "
-                                      "point to draw",
-                           loc);
-    }
-    if (!d)
-        return QC_OK;
-    /* the density point: alphabet and axis values; others take their first */
-    size_t alpha = 0, *vi = calloc(sc->naxes ? sc->naxes : 1, sizeof *vi);
-    if (!vi)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    int has_sections = section(sc, "alphabet") != NULL;
-    qc_status st = QC_OK;
-    for (size_t i = 0; i < d->n && st == QC_OK; i++) {
-        const sc_entry *e = &d->entries[i];
-        sc_where(sc, e->line, loc, sizeof loc);
-        int k = axis_index(sc, e->key);
-        if (strcmp(e->key, "alphabet") == 0 && (has_sections || k < 0)) {
-            size_t a = 0;
-            while (a < sc->nalphabets && strcmp(sc->alphabets[a].name, e->value) != 0)
-                a++;
-            if (a == sc->nalphabets)
-                st = qc_fail(QC_EINVAL, "%s: 'alphabet': the scenario has no [alphabet %s]",
-                             loc, e->value);
-            alpha = a;
-        } else if (k < 0) {
-            st = qc_fail(QC_EINVAL, "%s: '%s' in [density] is not a sweep axis (give "
-                                    "'alphabet' and values of the sweep axes)",
-                         loc, e->key);
-        } else {
-            int j = axis_value_index(&sc->axes[k], e->value);
-            if (j < 0 && sc->axes[k].line == 0)
-                j = nearest_value(&sc->axes[k], e->value); /* axis overridden by --set */
-            if (j < 0)
-                st = axis_value_error(sc, e, &sc->axes[k], e->value);
-            else
-                vi[k] = (size_t)j;
-        }
-    }
-    if (st == QC_OK) {
-        size_t index = alpha;
-        for (size_t k = 0; k < sc->naxes; k++)
-            index = index * sc->axes[k].n + vi[k];
-        p->density_point = index;
-    }
-    free(vi);
-    return st;
 }
 
 /* ---------------------------------------------------------------- */
@@ -738,7 +464,7 @@ static void compute_hash(qc_scenario *sc)
     uint64_t h = 14695981039346656037ULL;
     const char *base[] = {"receiver", "design"};
     for (int t = 0; t < 2; t++) {
-        sc_section *s = section(sc, base[t]);
+        sc_section *s = sc_section_find(sc, base[t]);
         for (size_t i = 0; s && i < s->n; i++) {
             h = fnv(h, s->entries[i].key);
             h = fnv(h, s->entries[i].value);
@@ -792,8 +518,8 @@ qc_status sc_compile(qc_scenario *sc)
         int has_model = 1;
         for (size_t i = 0; i < sc->nalphabets; i++)
             has_model &= qc_settings_get(sc->alphabets[i].settings, "model") != NULL;
-        if (!has_model && axis_index(sc, "model") < 0) {
-            const sc_section *r = section(sc, "receiver");
+        if (!has_model && sc_axis_index(sc, "model") < 0) {
+            const sc_section *r = sc_section_find(sc, "receiver");
             char loc[300];
             if (r && r->line > 0)
                 sc_where(sc, r->line, loc, sizeof loc);
@@ -805,7 +531,7 @@ qc_status sc_compile(qc_scenario *sc)
         }
     }
     if (st == QC_OK)
-        st = compile_plots(sc);
+        st = sc_compile_plots(sc);
     if (st == QC_OK)
         st = compile_require(sc);
     qc_settings_free(base);

@@ -12,6 +12,9 @@
 #include "study/scenario.h"
 #include "study/checkpoint.h"
 #include "core/parse.h"
+#include "study/file_list.h"
+#include "study/manifest.h"
+#include "study/plot_sweep.h"
 
 #include <errno.h>
 #include <math.h>
@@ -64,18 +67,6 @@ const char *qc_sweep_status_name(qc_status st)
     case QC_STATUS_COUNT: break;
     }
     return "unknown";
-}
-
-qc_status qc_file_list_add(char ***files, size_t *nfiles, const char *path)
-{
-    char **grown = realloc(*files, (*nfiles + 1) * sizeof *grown);
-    if (!grown)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    *files = grown;
-    if (!(grown[*nfiles] = strdup(path)))
-        return qc_fail(QC_ENOMEM, "out of memory");
-    (*nfiles)++;
-    return QC_OK;
 }
 
 /* mkdir -p */

@@ -1,6 +1,7 @@
 /* test_sweep.c — the sweep runner: checkpoint lines (torn last line,
  * damaged lines, another scenario), resuming without losing or repeating
- * a point, and tables that do not depend on the number of threads. */
+ * a point, tables that do not depend on the number of threads, and the
+ * keys the plots read back out of a point's record. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -14,6 +15,7 @@
 
 #include "quantcap.h"
 #include "study/checkpoint.h"
+#include "study/report.h"
 
 #include "test_helpers.h"
 
@@ -352,6 +354,42 @@ static void test_rejected_request_stops(void **state)
     qc_scenario_free(sc);
 }
 
+/* Every key the plots read out of a point's result is one the design
+ * report writes: a key renamed or dropped in the report would otherwise
+ * leave a figure silently empty. */
+static void test_plotted_keys_in_report(void **state)
+{
+    (void)state;
+    static const char *const kv[] = {"model", "gauss", "snr-db", "10", "levels", "-1,1",
+                                     "bits", "1"};
+    qc_settings *s;
+    qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_result res = {0};
+    assert_int_equal(qc_settings_alloc(&s), QC_OK);
+    for (size_t i = 0; i + 1 < sizeof kv / sizeof kv[0]; i += 2)
+        assert_int_equal(qc_settings_set(s, kv[i], kv[i + 1]), QC_OK);
+    assert_int_equal(qc_settings_build(s, &m, &req), QC_OK);
+    assert_int_equal(qc_design(&req, &res), QC_OK);
+    char *text = NULL;
+    assert_int_equal(qc_design_report_json(&req, &res, &text), QC_OK);
+    json_t *report = json_loads(text, 0, NULL);
+    assert_non_null(report);
+    static const char *const plotted[] = QC_REPORT_PLOTTED_KEYS;
+    for (size_t i = 0; plotted[i]; i++)
+        if (!json_object_get(report, plotted[i]))
+            fail_msg("the plots read '%s', which the design report lacks", plotted[i]);
+    /* and the numbers the rate figures draw are numbers */
+    assert_true(json_is_number(json_object_get(report, QC_REPORT_RATE)));
+    assert_true(json_is_number(json_object_get(report, QC_REPORT_UNQUANTIZED)));
+    assert_int_equal(json_array_size(json_object_get(report, QC_REPORT_LEVELS)), 2);
+    json_decref(report);
+    free(text);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+    qc_settings_free(s);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -359,6 +397,7 @@ int main(void)
         cmocka_unit_test(test_threads_and_resume),
         cmocka_unit_test(test_input_errors_stop_early),
         cmocka_unit_test(test_rejected_request_stops),
+        cmocka_unit_test(test_plotted_keys_in_report),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }
