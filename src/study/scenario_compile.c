@@ -411,7 +411,7 @@ static uint64_t fnv(uint64_t h, const char *s)
 static qc_status compile_require(qc_scenario *sc)
 {
     static const char *const keys[] = {"target", "solve-for", "range", NULL};
-    sc_section *s = section(sc, "require");
+    sc_section *s = sc_section_find(sc, "require");
     sc_require *r = &sc->require;
     if (!s)
         return QC_OK;
@@ -447,7 +447,7 @@ static qc_status compile_require(qc_scenario *sc)
                 return qc_fail(QC_EINVAL, "%s: 'range': expected LO,HI with LO < HI (got '%s')",
                                loc, e->value);
         } else
-            return unknown_key(sc, e, "[require]", closest(e->key, keys));
+            return sc_unknown_key(sc, e, "[require]", sc_closest(e->key, keys));
     }
     sc_where(sc, s->line, loc, sizeof loc);
     if (!target || !solve)
@@ -482,7 +482,7 @@ static void compute_hash(qc_scenario *sc)
                 h = fnv(h, s->entries[k].value);
             }
     }
-    const sc_section *rq = section(sc, "require");
+    const sc_section *rq = sc_section_find(sc, "require");
     for (size_t i = 0; rq && i < rq->n; i++) {
         h = fnv(h, "[require]");
         h = fnv(h, rq->entries[i].key);
