@@ -7,6 +7,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -272,6 +273,77 @@ static void test_model_cache(void **state)
     qc_model_cache_free(NULL);
 }
 
+/* Threads borrowing instances of one APD setting from one cache, each
+ * instance passing between threads and between level sets (as a sweep's
+ * points do), compute the same matrices, to the bit, as a fresh instance
+ * in this thread. Run under ThreadSanitizer (-Db_sanitize=thread), this is
+ * the check that the lending has no data race. */
+#define SHARE_THREADS 2
+#define SHARE_ROUNDS 6
+static const double share_params[QC_MODEL_MAX_PARAMS] = {40.0, 0.0, 15.0, 0.02, 50.0};
+static const double share_levels[2][4] = {{0.0, 1.0 / 3.0, 2.0 / 3.0, 1.0},
+                                          {0.1, 0.4, 0.7, 1.0}};
+static const double share_t[5] = {100.0, 300.0, 500.0, 700.0, 900.0};
+
+typedef struct {
+    qc_model_cache *cache;
+    const qc_dmc *reference[2];
+    size_t seed;
+    int failures;
+} share_job;
+
+static void *share_worker(void *arg)
+{
+    share_job *job = arg;
+    for (size_t r = 0; r < SHARE_ROUNDS; r++) {
+        size_t set = (r + job->seed) % 2;
+        const qc_model *m;
+        qc_dmc *d;
+        if (qc_model_cache_get(job->cache, &qc_model_apd, share_params, NULL, &m) != QC_OK) {
+            job->failures++;
+            continue;
+        }
+        if (qc_discretize(m, share_levels[set], 4, share_t, 5, &d) != QC_OK) {
+            job->failures++;
+        } else {
+            if (memcmp(d->p, job->reference[set]->p, 4 * 6 * sizeof *d->p) != 0)
+                job->failures++;
+            qc_dmc_free(d);
+        }
+        qc_model_cache_release(job->cache, m);
+    }
+    return NULL;
+}
+
+static void test_model_cache_threads(void **state)
+{
+    (void)state;
+    qc_dmc *reference[2];
+    for (size_t set = 0; set < 2; set++) {
+        qc_model *fresh;
+        assert_int_equal(qc_model_alloc(&qc_model_apd, share_params, &fresh), QC_OK);
+        assert_int_equal(qc_discretize(fresh, share_levels[set], 4, share_t, 5, &reference[set]),
+                         QC_OK);
+        qc_model_free(fresh);
+    }
+    qc_model_cache *cache;
+    assert_int_equal(qc_model_cache_alloc(&cache), QC_OK);
+    share_job jobs[SHARE_THREADS];
+    pthread_t th[SHARE_THREADS];
+    for (size_t i = 0; i < SHARE_THREADS; i++) {
+        jobs[i] = (share_job){.cache = cache, .reference = {reference[0], reference[1]},
+                              .seed = i};
+        assert_int_equal(pthread_create(&th[i], NULL, share_worker, &jobs[i]), 0);
+    }
+    for (size_t i = 0; i < SHARE_THREADS; i++) {
+        assert_int_equal(pthread_join(th[i], NULL), 0);
+        assert_int_equal(jobs[i].failures, 0);
+    }
+    qc_model_cache_free(cache);
+    qc_dmc_free(reference[0]);
+    qc_dmc_free(reference[1]);
+}
+
 /* One number grammar: decimal only; hexadecimal, inf and nan are refused
  * with a message saying a decimal number was expected. */
 static void test_decimal_only(void **state)
@@ -428,6 +500,7 @@ int main(void)
         cmocka_unit_test(test_settings_set),
         cmocka_unit_test(test_settings_build),
         cmocka_unit_test(test_model_cache),
+        cmocka_unit_test(test_model_cache_threads),
         cmocka_unit_test(test_decimal_only),
         cmocka_unit_test(test_renamed_keys),
         cmocka_unit_test(test_keys_apply),
