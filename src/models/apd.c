@@ -20,7 +20,12 @@
  *    exact for a Gaussian tail and kept inside the bracketing grid values.
  * FFT plans (FFTW), gain and kernel spectra are made once per grid
  * length and reused for every level; each level's grid values are cached
- * in the instance (one thread at a time). Grid step h = 1 electron unless
+ * in the instance, keyed by the level value (one thread at a time: a
+ * sweep lends each instance to one point at a time, src/study/
+ * model_cache.c, and reuses it for later points). A level's law depends on
+ * the parameters and the level alone, never on which levels the instance
+ * computed before, so a sweep's results do not depend on how its points
+ * were spread over threads and instances. Grid step h = 1 electron unless
  * the law needs more than 2^21 points: then h doubles, and the grid holds
  * the exact φ_G at its frequencies 2πk/(len·h) (polyphase FFTs, or the
  * chirp z-transform for long steps), so that the law keeps the exact
@@ -305,17 +310,26 @@ static size_t next_pow2(size_t n)
 #define REFINE_MIN_LAMBDA 1e4
 #define REFINE_BUDGET 1e7
 
-static void refine_bins(const apd_state *s, grid *g, double lambda)
+/* Does lambda take φ_G − 1 from direct sums in bin i? */
+static int in_band(const grid *g, double lambda, size_t i)
 {
-    size_t ns = g->len / 2 + 1, need = 0;
+    return lambda * (1.0 - creal(g->gspec[i])) <= REFINE_EXP;
+}
+
+/* Fills the direct sums of lambda's bins not yet summed (an earlier level
+ * may have summed some); 1 when lambda takes them, 0 when it keeps the
+ * FFT values. The choice and the values depend on lambda and the grid
+ * alone, never on the levels computed before. */
+static int refine_bins(const apd_state *s, grid *g, double lambda)
+{
+    size_t ns = g->len / 2 + 1, band = 0;
     if (lambda < REFINE_MIN_LAMBDA)
-        return;
+        return 0;
     for (size_t i = 1; i < ns; i++)
-        if (lambda * (1.0 - creal(g->gspec[i])) <= REFINE_EXP &&
-            !(g->exact && g->exact[i]))
-            need++;
-    if (need == 0 || (double)need * (double)s->gain_len > REFINE_BUDGET)
-        return;
+        if (in_band(g, lambda, i))
+            band++;
+    if (band == 0 || (double)band * (double)s->gain_len > REFINE_BUDGET)
+        return 0;
     if (!g->exact) {
         g->gm1 = qc_malloc_array(ns, sizeof *g->gm1);
         g->exact = qc_calloc(ns, 1);
@@ -324,14 +338,14 @@ static void refine_bins(const apd_state *s, grid *g, double lambda)
             free(g->exact);
             g->gm1 = NULL;
             g->exact = NULL;
-            return;
+            return 0;
         }
         g->gm1[0] = 0.0;
         g->exact[0] = 1;
     }
     uint64_t period = (uint64_t)g->len * (uint64_t)g->h;
     for (size_t i = 1; i < ns; i++) {
-        if (g->exact[i] || lambda * (1.0 - creal(g->gspec[i])) > REFINE_EXP)
+        if (g->exact[i] || !in_band(g, lambda, i))
             continue;
         double re = 0.0, im = 0.0;
         for (size_t n = 1; n < s->gain_len; n++) {
@@ -345,15 +359,16 @@ static void refine_bins(const apd_state *s, grid *g, double lambda)
         g->gm1[i] = re + I * im;
         g->exact[i] = 1;
     }
+    return 1;
 }
 
 /* Spectrum of the compound Poisson law, exp(λ(φ_G − 1)), into g->work. */
 static void compound_spectrum(const apd_state *s, grid *g, double lambda)
 {
-    refine_bins(s, g, lambda);
+    int refined = refine_bins(s, g, lambda);
     size_t ns = g->len / 2 + 1;
     for (size_t i = 0; i < ns; i++) {
-        double complex d = g->exact && g->exact[i] ? g->gm1[i] : g->gspec[i] - 1.0;
+        double complex d = refined && in_band(g, lambda, i) ? g->gm1[i] : g->gspec[i] - 1.0;
         g->work[i] = cexp(lambda * d);
     }
 }

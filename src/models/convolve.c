@@ -18,7 +18,7 @@
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
-#include <threads.h>
+#include <pthread.h>
 
 #include <fftw3.h>
 
@@ -30,9 +30,9 @@ struct qc_conv {
     fftw_plan fwd, inv;
 };
 
-static mtx_t planner_lock;
-static once_flag planner_once = ONCE_FLAG_INIT;
-static void planner_lock_init(void) { mtx_init(&planner_lock, mtx_plain); }
+/* A POSIX mutex rather than C11 mtx_t: ThreadSanitizer (GCC 12's
+ * libtsan) does not intercept mtx_lock, so it could not see this lock. */
+static pthread_mutex_t planner_lock = PTHREAD_MUTEX_INITIALIZER;
 
 size_t qc_conv_good_size(size_t n)
 {
@@ -64,11 +64,10 @@ qc_status qc_conv_alloc(size_t n, qc_conv **out)
     c->tmp = qc_malloc_array(n / 2 + 1, sizeof *c->tmp);
     if (!c->re || !c->sp || !c->tmp)
         goto fail;
-    call_once(&planner_once, planner_lock_init);
-    mtx_lock(&planner_lock);
+    pthread_mutex_lock(&planner_lock);
     c->fwd = fftw_plan_dft_r2c_1d((int)n, c->re, c->sp, FFTW_ESTIMATE);
     c->inv = fftw_plan_dft_c2r_1d((int)n, c->sp, c->re, FFTW_ESTIMATE);
-    mtx_unlock(&planner_lock);
+    pthread_mutex_unlock(&planner_lock);
     if (!c->fwd || !c->inv)
         goto fail;
     *out = c;
@@ -82,13 +81,12 @@ void qc_conv_free(qc_conv *c)
 {
     if (!c)
         return;
-    call_once(&planner_once, planner_lock_init);
-    mtx_lock(&planner_lock);
+    pthread_mutex_lock(&planner_lock);
     if (c->fwd)
         fftw_destroy_plan(c->fwd);
     if (c->inv)
         fftw_destroy_plan(c->inv);
-    mtx_unlock(&planner_lock);
+    pthread_mutex_unlock(&planner_lock);
     fftw_free(c->re);
     fftw_free(c->sp);
     free(c->tmp);
@@ -165,7 +163,6 @@ qc_status qc_conv_chirp(const double *x, size_t nx, size_t N, size_t K,
         return qc_fail(QC_EINVAL, "chirp transform needs %zu + %zu points", nx, K);
     if (N > ((size_t)1 << 60))
         return qc_fail(QC_EINVAL, "chirp transform period %zu too long", N);
-    call_once(&planner_once, planner_lock_init);
     fftw_complex *a = fftw_alloc_complex(P), *b = fftw_alloc_complex(P);
     fftw_plan fwd = NULL, inv = NULL;
     qc_status st = QC_OK;
@@ -173,10 +170,10 @@ qc_status qc_conv_chirp(const double *x, size_t nx, size_t N, size_t K,
         st = qc_fail(QC_ENOMEM, "out of memory for a length-%zu FFT", P);
         goto done;
     }
-    mtx_lock(&planner_lock);
+    pthread_mutex_lock(&planner_lock);
     fwd = fftw_plan_dft_1d((int)P, a, a, FFTW_FORWARD, FFTW_ESTIMATE);
     inv = fftw_plan_dft_1d((int)P, a, a, FFTW_BACKWARD, FFTW_ESTIMATE);
-    mtx_unlock(&planner_lock);
+    pthread_mutex_unlock(&planner_lock);
     if (!fwd || !inv) {
         st = qc_fail(QC_ENOMEM, "out of memory for a length-%zu FFT", P);
         goto done;
@@ -199,12 +196,12 @@ qc_status qc_conv_chirp(const double *x, size_t nx, size_t N, size_t K,
     for (size_t k = 0; k < K; k++)
         X[k] = A[k] * scale * chirp(k, N);
 done:
-    mtx_lock(&planner_lock);
+    pthread_mutex_lock(&planner_lock);
     if (fwd)
         fftw_destroy_plan(fwd);
     if (inv)
         fftw_destroy_plan(inv);
-    mtx_unlock(&planner_lock);
+    pthread_mutex_unlock(&planner_lock);
     fftw_free(a);
     fftw_free(b);
     return st;

@@ -124,8 +124,9 @@ typedef struct qc_model_type {
 } qc_model_type;
 
 /* A model instance. Models with a state (apd caches per-level grids,
- * table holds its data) are used by one thread at a time: a sweep
- * creates one instance per thread. */
+ * table holds its data) are used by one thread at a time: a sweep lends
+ * each instance to one point at a time and reuses it for later points of
+ * the same setting (qc_model_cache, quantcap/study.h). */
 struct qc_model {
     const qc_model_type *type;
     double params[QC_MODEL_MAX_PARAMS];

@@ -85,6 +85,54 @@ QC_API qc_status qc_settings_require(const qc_settings *s, const char *key,
                                      const qc_target *target, double lo, double hi,
                                      const char *unit, qc_require_result *res);
 
+/* A model cache: the model instances of a run of designs, kept by model
+ * setting (the type, its parameter values bit for bit with defaults filled
+ * in, and for a measured table the file's path; the file is read when an
+ * instance is built and assumed not to change during the run). A design
+ * borrows an instance and gives it back; the next design of the same
+ * setting gets the same instance with what it has computed so far (the
+ * APD model's FFT plans and per-level laws), instead of a new one. Each
+ * instance is lent to one borrower at a time, since a model instance
+ * fills its caches as it is used (one thread at a time); when all of a
+ * setting's instances are out, a new one is built. All functions below
+ * may be called from several threads at once. Instances out on loan are
+ * kept, and the few most recently given back. */
+typedef struct qc_model_cache qc_model_cache;
+
+/* A new, empty cache. On failure (QC_ENOMEM) *out is NULL. */
+QC_API qc_status qc_model_cache_alloc(qc_model_cache **out);
+
+/* Free the cache and every instance in it; instances borrowed from it
+ * must not be used afterwards. NULL is a no-op. */
+QC_API void qc_model_cache_free(qc_model_cache *cache);
+
+/* Borrow an instance of type `type` with parameters `params`
+ * (type->nparams values, NaN = the default; NULL for a table), or of the
+ * measured table in file `table` (a QC_MODEL_FROM_FILE type; NULL
+ * otherwise): an idle instance of that setting, or a new one built now
+ * (qc_model_alloc, qc_model_table_load). Give *out back with
+ * qc_model_cache_release, never free it. On failure *out is NULL, nothing
+ * is kept or lent, and the status and message are those of the build (a
+ * parameter out of range names the parameter; an unreadable table names
+ * the file). */
+QC_API qc_status qc_model_cache_get(qc_model_cache *cache, const qc_model_type *type,
+                                    const double *params, const char *table,
+                                    const qc_model **out);
+
+/* Give back an instance borrowed from the cache (qc_model_cache_get or
+ * qc_settings_build_cached); the borrower must not use it afterwards. A
+ * NULL model, or one the cache did not lend, is ignored. */
+QC_API void qc_model_cache_release(qc_model_cache *cache, const qc_model *model);
+
+/* qc_settings_build with the model borrowed from `cache`: the same checks,
+ * messages and request, but *model is an instance of the cache for the
+ * settings' model setting, reused from earlier builds of the same setting
+ * when one is idle. Give it back with qc_model_cache_release when the
+ * design is done (the request points at it). On failure *model is NULL
+ * and nothing is lent; a NULL cache is QC_EINVAL. */
+QC_API qc_status qc_settings_build_cached(qc_settings *s, qc_model_cache *cache,
+                                          const qc_model **model, qc_design_request *req);
+
 /* The JSON object describing one design (model, parameters, request and
  * every result field), as `quantcap design --json` prints it and as a
  * sweep stores each point. *text is malloc'd (free it); numbers carry 17

@@ -37,4 +37,8 @@ void sc_compiled_clear(qc_scenario *sc);
 /* "point 12 ([alphabet pam4], snr-db = 3, bits = 2)" for messages. */
 void sc_describe_point(const qc_scenario *sc, size_t index, char *buf, size_t cap);
 
+/* qc_scenario_check with the models taken from `cache` (the sweep checks
+ * its points with the cache its designs then use). */
+qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache);
+
 #endif

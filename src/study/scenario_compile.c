@@ -595,16 +595,26 @@ static void describe_point(const qc_scenario *sc, size_t index, char *buf, size_
 
 qc_status qc_scenario_check(const qc_scenario *sc)
 {
+    qc_model_cache *cache = NULL;
+    qc_status st = qc_model_cache_alloc(&cache);
+    if (st == QC_OK)
+        st = sc_check_points(sc, cache);
+    qc_model_cache_free(cache);
+    return st;
+}
+
+qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
+{
     for (size_t i = 0; i < sc->npoints; i++) {
         qc_settings *s = NULL;
-        qc_model *m = NULL;
+        const qc_model *m = NULL;
         qc_design_request req;
         qc_status st = qc_scenario_point_settings(sc, i, &s);
         if (st == QC_OK)
-            st = qc_settings_build(s, &m, &req);
+            st = qc_settings_build_cached(s, cache, &m, &req);
         if (st == QC_OK)
             st = qc_model_check_levels(m, req.levels, req.nlevels);
-        qc_model_free(m);
+        qc_model_cache_release(cache, m);
         qc_settings_free(s);
         if (st != QC_OK) {
             char msg[768], point[300], loc[300];

@@ -355,7 +355,31 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
     return QC_OK;
 }
 
-qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request *req)
+/* The model of a setting: from the cache (borrowed), or a new instance
+ * (the caller's) when there is none. */
+static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
+                           const double *params, const char *table, const qc_model **out)
+{
+    if (cache)
+        return qc_model_cache_get(cache, type, params, table, out);
+    qc_model *m = NULL;
+    qc_status st = table ? qc_model_table_load(table, &m) : qc_model_alloc(type, params, &m);
+    *out = m;
+    return st;
+}
+
+static void put_model(qc_model_cache *cache, const qc_model *m)
+{
+    if (cache)
+        qc_model_cache_release(cache, m);
+    else
+        qc_model_free((qc_model *)m); /* made by get_model for this caller */
+}
+
+/* qc_settings_build and qc_settings_build_cached: the model comes from
+ * `cache` when there is one. */
+static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **model,
+                       qc_design_request *req)
 {
     *model = NULL;
     qc_design_request_default(req);
@@ -413,7 +437,7 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
         return st;
     }
     if (is_table) {
-        if ((st = qc_model_table_load(qc_settings_get(s, "table"), model)) != QC_OK) {
+        if ((st = get_model(cache, type, NULL, qc_settings_get(s, "table"), model)) != QC_OK) {
             qc_alphabet_free(alpha);
             return st;
         }
@@ -539,7 +563,7 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
         else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)
-            st = qc_model_alloc(type, params, model);
+            st = get_model(cache, type, params, NULL, model);
         if (st != QC_OK)
             return st;
     }
@@ -553,7 +577,24 @@ qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request 
     return QC_OK;
 fail:
     qc_alphabet_free(alpha);
-    qc_model_free(*model);
+    put_model(cache, *model);
     *model = NULL;
     return st;
+}
+
+qc_status qc_settings_build(qc_settings *s, qc_model **model, qc_design_request *req)
+{
+    const qc_model *m = NULL;
+    qc_status st = build(s, NULL, &m, req);
+    *model = (qc_model *)m; /* a new instance, the caller's */
+    return st;
+}
+
+qc_status qc_settings_build_cached(qc_settings *s, qc_model_cache *cache,
+                                   const qc_model **model, qc_design_request *req)
+{
+    *model = NULL;
+    if (!cache)
+        return qc_fail(QC_EINVAL, "no model cache given");
+    return build(s, cache, model, req);
 }

@@ -1,6 +1,9 @@
 /* sweep.c — run a scenario's grid of designs in parallel (OpenMP across
  * grid points). Each point is exactly what `quantcap design` does with the
  * point's settings: qc_settings_build, qc_design, and the same JSON report.
+ * The points share their models: one instance per distinct model setting
+ * (model_cache.c), built once and read by every thread, so that an APD
+ * model's lattices or a table file are not made again at every point.
  * Finished points are appended to a checkpoint as they complete, so that a
  * killed sweep resumes where it stopped; the tables and plots are written
  * at the end from the records, in grid order, so that the number of
@@ -138,17 +141,18 @@ static void add_require(const qc_scenario *sc, const qc_settings *s, json_t *res
 /* One grid point, as `quantcap design --json` computes it. The record is
  * NULL only when memory runs out; *status receives the design's status
  * (its message stays in this thread's qc_last_error). */
-static json_t *run_point(const qc_scenario *sc, size_t index, qc_status *status)
+static json_t *run_point(const qc_scenario *sc, qc_model_cache *cache, size_t index,
+                         qc_status *status)
 {
     qc_settings *s = NULL;
-    qc_model *m = NULL;
+    const qc_model *m = NULL;
     qc_design_request req;
     qc_design_result res;
     memset(&res, 0, sizeof res);
     json_t *result = NULL;
     qc_status st = qc_scenario_point_settings(sc, index, &s);
     if (st == QC_OK)
-        st = qc_settings_build(s, &m, &req);
+        st = qc_settings_build_cached(s, cache, &m, &req);
     if (st == QC_OK)
         st = qc_design(&req, &res);
     if (st == QC_OK && !(result = qc_report_design(&req, &res)))
@@ -168,7 +172,7 @@ static json_t *run_point(const qc_scenario *sc, size_t index, qc_status *status)
         json_decref(result);
     }
     qc_design_result_clear(&res);
-    qc_model_free(m);
+    qc_model_cache_release(cache, m);
     qc_settings_free(s);
     *status = st;
     return rec;
@@ -202,20 +206,26 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
 {
     memset(sum, 0, sizeof *sum);
     qc_gsl_init();
-    qc_status st = qc_scenario_check(sc);
-    if (st != QC_OK)
+    qc_model_cache *cache = NULL; /* the points' models, shared by the threads */
+    qc_status st = qc_model_cache_alloc(&cache);
+    if (st == QC_OK)
+        st = sc_check_points(sc, cache);
+    if (st != QC_OK) {
+        qc_model_cache_free(cache);
         return st;
+    }
     const size_t n = sc->npoints;
     sum->points = n;
     const char *dir = opt->out_dir ? opt->out_dir : ".";
     struct stat dir_sb;
     int dir_existed = stat(dir, &dir_sb) == 0;
-    if ((st = make_dir(dir)) != QC_OK)
-        return st;
     char cp_path[4200], path[4200];
     int created = 0; /* this run wrote a fresh checkpoint */
-    if ((st = join_path(dir, QC_CHECKPOINT_NAME, cp_path, sizeof cp_path)) != QC_OK)
+    if ((st = make_dir(dir)) != QC_OK ||
+        (st = join_path(dir, QC_CHECKPOINT_NAME, cp_path, sizeof cp_path)) != QC_OK) {
+        qc_model_cache_free(cache);
         return st;
+    }
 
     json_t **records = calloc(n, sizeof *records);
     size_t *todo = malloc(n * sizeof *todo);
@@ -254,7 +264,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
             continue;
         size_t i = todo[t];
         qc_status pst;
-        json_t *rec = run_point(sc, i, &pst);
+        json_t *rec = run_point(sc, cache, i, &pst);
         char point_msg[1024] = "";
         if (scenario_error(pst)) {
             char point[512];
@@ -344,5 +354,6 @@ done:
             json_decref(records[i]);
     free(records);
     free(todo);
+    qc_model_cache_free(cache);
     return st;
 }

@@ -1,11 +1,12 @@
 #!/usr/bin/python3
-"""Benchmark: the designer scenario (3 alphabets x 41 SNR points x 1..8 bits)
-with --jobs 1 and --jobs 2; prints wall times and the speed-up T1/T2
+"""Benchmark: a sweep (the designer scenario: 3 alphabets x 41 SNR points x
+1..8 bits; or tests/bench/apd_sweep.ini) with --jobs 1 and --jobs 2;
+prints wall times and the speed-up T1/T2
 (target >= 1.7 on 2 cores), the CPU time each run used and the load of
 the machine (other processes competing for the cores lower the speed-up),
 and checks that both runs wrote the same bytes.
 
-Usage: bench_sweep.py PATH/TO/quantcap PATH/TO/designer.ini"""
+Usage: bench_sweep.py PATH/TO/quantcap PATH/TO/SCENARIO.ini"""
 import os
 import resource
 import subprocess
@@ -67,6 +68,6 @@ busy = [t for t in per_thread[2] if t > 0.05]
 if len(busy) >= 2:
     print(f"--jobs 2 threads: {', '.join(f'{t:.2f} s' for t in busy)} CPU; "
           f"speed-up on two free cores {sum(busy) / busy[0]:.2f}")
-print(f"designer sweep: --jobs 1 {wall[1]:.2f} s, --jobs 2 {wall[2]:.2f} s, "
+print(f"{os.path.basename(scenario)}: --jobs 1 {wall[1]:.2f} s, --jobs 2 {wall[2]:.2f} s, "
       f"speed-up {wall[1] / wall[2]:.2f} (target >= 1.7), outputs identical: {same}")
 sys.exit(0 if same else 1)

@@ -199,6 +199,32 @@ static void test_plan_reuse(void **state)
     assert_int_equal(qc_apd_get_stats(NULL, &st), QC_EINVAL);
 }
 
+/* A level's law is a function of the parameters and the level alone:
+ * computed in a fresh instance, or after other levels (above and below it,
+ * sharing its FFT grid and the direct sums of φ_G − 1 from 1e4 primaries
+ * on), it is the same to the bit. A sweep lends one instance to many
+ * points in an order set by the threads, so its results rest on this. */
+static void test_history_free(void **state)
+{
+    (void)state;
+    double p[QC_MODEL_MAX_PARAMS] = {1e5, 0.0, 10.0, 0.3, 30.0};
+    const double x = 0.2, others[] = {0.23, 0.17}; /* 2e4 primaries, ±15% */
+    qc_model *fresh = make(&qc_model_apd, p), *used = make(&qc_model_apd, p);
+    double mean, var;
+    assert_int_equal(qc_model_moments(fresh, x, &mean, &var), QC_OK);
+    for (size_t i = 0; i < 2; i++)
+        (void)used->type->below(used, others[i], mean);
+    for (int j = -12; j <= 12; j++) {
+        double t = mean + j * sqrt(var) / 2.0;
+        double a = fresh->type->below(fresh, x, t), b = used->type->below(used, x, t);
+        double qa = fresh->type->above(fresh, x, t), qb = used->type->above(used, x, t);
+        assert_memory_equal(&a, &b, sizeof a);
+        assert_memory_equal(&qa, &qb, sizeof qa);
+    }
+    qc_model_free(fresh);
+    qc_model_free(used);
+}
+
 /* Unquantized MI through the density: finite, below log 2 for 2 levels. */
 static void test_unquantized(void **state)
 {
@@ -324,6 +350,7 @@ int main(void)
         cmocka_unit_test(test_regimes_agree),
         cmocka_unit_test(test_gauss_approximation),
         cmocka_unit_test(test_plan_reuse),
+        cmocka_unit_test(test_history_free),
         cmocka_unit_test(test_unquantized),
         cmocka_unit_test(test_high_counts),
     };

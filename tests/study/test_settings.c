@@ -7,6 +7,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -166,6 +167,181 @@ static void test_settings_build(void **state)
 }
 
 
+/* Settings of `kv` (key, value pairs) built with the model borrowed from
+ * `cache`. */
+static qc_status build_cached(qc_model_cache *cache, const char *const *kv, size_t n,
+                              const qc_model **m, qc_design_request *req, qc_settings **out)
+{
+    qc_settings *s;
+    assert_int_equal(qc_settings_alloc(&s), QC_OK);
+    for (size_t i = 0; i + 1 < n; i += 2)
+        assert_int_equal(qc_settings_set(s, kv[i], kv[i + 1]), QC_OK);
+    *out = s;
+    return qc_settings_build_cached(s, cache, m, req);
+}
+
+/* The model cache: the same setting gets the same instance back once it
+ * is returned (whatever else differs: levels, bits), a different setting
+ * or a second borrower at the same time another instance; the request
+ * matches qc_settings_build's; a failed build lends nothing and keeps the
+ * message. */
+static void test_model_cache(void **state)
+{
+    (void)state;
+    qc_model_cache *cache;
+    assert_int_equal(qc_model_cache_alloc(&cache), QC_OK);
+    const char *a[] = {"model", "gauss", "sigma", "0.5", "levels", "-1,1", "bits", "2"};
+    const char *a2[] = {"model", "gauss", "sigma", "0.5", "levels", "-3,-1,1,3", "bits", "4"};
+    const char *b[] = {"model", "gauss", "sigma", "0.25", "levels", "-1,1", "bits", "2"};
+    qc_settings *s1, *s2, *s3;
+    const qc_model *m1, *m2, *m3;
+    qc_design_request r1, r2, r3;
+    assert_int_equal(build_cached(cache, a, 8, &m1, &r1, &s1), QC_OK);
+    assert_ptr_equal(r1.model, m1);
+    assert_int_equal(r1.cells, 4);
+    /* m1 still out: the same setting gets a second instance */
+    assert_int_equal(build_cached(cache, a2, 8, &m2, &r2, &s2), QC_OK);
+    assert_ptr_not_equal(m1, m2);
+    assert_true(m2->params[0] == 0.5);
+    qc_model_cache_release(cache, m1);
+    qc_model_cache_release(cache, m2);
+    qc_settings_free(s2);
+    /* returned: the same setting (other levels and bits) gets one back */
+    assert_int_equal(build_cached(cache, a2, 8, &m3, &r3, &s3), QC_OK);
+    assert_true(m3 == m1 || m3 == m2);
+    assert_int_equal(r3.cells, 16);
+    assert_int_equal(r3.nlevels, 4);
+    qc_model_cache_release(cache, m3);
+    qc_settings_free(s3);
+    /* another parameter value: another instance */
+    assert_int_equal(build_cached(cache, b, 8, &m3, &r3, &s3), QC_OK);
+    assert_ptr_not_equal(m3, m1);
+    assert_ptr_not_equal(m3, m2);
+    assert_true(m3->params[0] == 0.25);
+    qc_model_cache_release(cache, m3);
+    qc_settings_free(s3);
+    qc_settings_free(s1);
+
+    /* an explicit default is the same setting as an omitted one */
+    const qc_model *d1, *d2;
+    double given[QC_MODEL_MAX_PARAMS], omitted[QC_MODEL_MAX_PARAMS];
+    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
+        given[i] = omitted[i] = NAN;
+    given[0] = omitted[0] = 20.0; /* poisson: signal; background defaults */
+    given[1] = qc_model_poisson.params[1].default_value;
+    assert_int_equal(qc_model_cache_get(cache, &qc_model_poisson, omitted, NULL, &d1), QC_OK);
+    qc_model_cache_release(cache, d1);
+    assert_int_equal(qc_model_cache_get(cache, &qc_model_poisson, given, NULL, &d2), QC_OK);
+    assert_ptr_equal(d1, d2);
+    qc_model_cache_release(cache, d2);
+
+    /* a table: the same file, the same instance; its levels the file's */
+    const char *dir = getenv("QC_TEST_DATA");
+    if (dir) {
+        char path[4096];
+        snprintf(path, sizeof path, "%s/../data/table_demo.txt", dir);
+        const char *t[] = {"model", "table", "table", path, "bits", "2"};
+        assert_int_equal(build_cached(cache, t, 6, &m1, &r1, &s1), QC_OK);
+        qc_model_cache_release(cache, m1);
+        qc_settings_free(s1);
+        assert_int_equal(build_cached(cache, t, 6, &m2, &r2, &s2), QC_OK);
+        assert_ptr_equal(m1, m2);
+        assert_true(r2.nlevels >= 2);
+        qc_model_cache_release(cache, m2);
+        qc_settings_free(s2);
+    }
+
+    /* failures: nothing lent, the build's message */
+    const char *bad[] = {"model", "gauss", "sigma", "-1", "levels", "-1,1", "bits", "2"};
+    assert_int_equal(build_cached(cache, bad, 8, &m1, &r1, &s1), QC_EINVAL);
+    assert_null(m1);
+    assert_message("'sigma' must be > 0");
+    qc_settings_free(s1);
+    const char *missing[] = {"model", "table", "table", "/nonexistent/quantcap.txt", "bits", "2"};
+    assert_int_equal(build_cached(cache, missing, 6, &m1, &r1, &s1), QC_EIO);
+    assert_null(m1);
+    assert_message("/nonexistent/quantcap.txt");
+    qc_settings_free(s1);
+    assert_int_equal(qc_settings_alloc(&s1), QC_OK);
+    assert_int_equal(qc_settings_build_cached(s1, NULL, &m1, &r1), QC_EINVAL);
+    assert_null(m1);
+    qc_settings_free(s1);
+    qc_model_cache_release(cache, NULL); /* ignored */
+    qc_model_cache_free(cache);
+    qc_model_cache_free(NULL);
+}
+
+/* Threads borrowing instances of one APD setting from one cache, each
+ * instance passing between threads and between level sets (as a sweep's
+ * points do), compute the same matrices, to the bit, as a fresh instance
+ * in this thread. Run under ThreadSanitizer (-Db_sanitize=thread), this is
+ * the check that the lending has no data race. */
+#define SHARE_THREADS 2
+#define SHARE_ROUNDS 6
+static const double share_params[QC_MODEL_MAX_PARAMS] = {40.0, 0.0, 15.0, 0.02, 50.0};
+static const double share_levels[2][4] = {{0.0, 1.0 / 3.0, 2.0 / 3.0, 1.0},
+                                          {0.1, 0.4, 0.7, 1.0}};
+static const double share_t[5] = {100.0, 300.0, 500.0, 700.0, 900.0};
+
+typedef struct {
+    qc_model_cache *cache;
+    const qc_dmc *reference[2];
+    size_t seed;
+    int failures;
+} share_job;
+
+static void *share_worker(void *arg)
+{
+    share_job *job = arg;
+    for (size_t r = 0; r < SHARE_ROUNDS; r++) {
+        size_t set = (r + job->seed) % 2;
+        const qc_model *m;
+        qc_dmc *d;
+        if (qc_model_cache_get(job->cache, &qc_model_apd, share_params, NULL, &m) != QC_OK) {
+            job->failures++;
+            continue;
+        }
+        if (qc_discretize(m, share_levels[set], 4, share_t, 5, &d) != QC_OK) {
+            job->failures++;
+        } else {
+            if (memcmp(d->p, job->reference[set]->p, 4 * 6 * sizeof *d->p) != 0)
+                job->failures++;
+            qc_dmc_free(d);
+        }
+        qc_model_cache_release(job->cache, m);
+    }
+    return NULL;
+}
+
+static void test_model_cache_threads(void **state)
+{
+    (void)state;
+    qc_dmc *reference[2];
+    for (size_t set = 0; set < 2; set++) {
+        qc_model *fresh;
+        assert_int_equal(qc_model_alloc(&qc_model_apd, share_params, &fresh), QC_OK);
+        assert_int_equal(qc_discretize(fresh, share_levels[set], 4, share_t, 5, &reference[set]),
+                         QC_OK);
+        qc_model_free(fresh);
+    }
+    qc_model_cache *cache;
+    assert_int_equal(qc_model_cache_alloc(&cache), QC_OK);
+    share_job jobs[SHARE_THREADS];
+    pthread_t th[SHARE_THREADS];
+    for (size_t i = 0; i < SHARE_THREADS; i++) {
+        jobs[i] = (share_job){.cache = cache, .reference = {reference[0], reference[1]},
+                              .seed = i};
+        assert_int_equal(pthread_create(&th[i], NULL, share_worker, &jobs[i]), 0);
+    }
+    for (size_t i = 0; i < SHARE_THREADS; i++) {
+        assert_int_equal(pthread_join(th[i], NULL), 0);
+        assert_int_equal(jobs[i].failures, 0);
+    }
+    qc_model_cache_free(cache);
+    qc_dmc_free(reference[0]);
+    qc_dmc_free(reference[1]);
+}
+
 /* One number grammar: decimal only; hexadecimal, inf and nan are refused
  * with a message saying a decimal number was expected. */
 static void test_decimal_only(void **state)
@@ -321,6 +497,8 @@ int main(void)
         cmocka_unit_test(test_parse_list),     cmocka_unit_test(test_edit_distance),
         cmocka_unit_test(test_settings_set),
         cmocka_unit_test(test_settings_build),
+        cmocka_unit_test(test_model_cache),
+        cmocka_unit_test(test_model_cache_threads),
         cmocka_unit_test(test_decimal_only),
         cmocka_unit_test(test_renamed_keys),
         cmocka_unit_test(test_keys_apply),
