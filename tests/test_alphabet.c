@@ -652,7 +652,7 @@ static void test_settings_keys(void **state)
     assert_int_equal(build(grid, &s, &m, &r), QC_OK);
     assert_int_equal(r.nlevels, 9); /* −2, −1.5, …, 2 */
     assert_near(r.levels[0], -2.0, TOL_TIGHT);
-    assert_near(m->params[0], sqrt(2.0 / 10.0), TOL_TIGHT);
+    assert_near(qc_model_param(m, 0), sqrt(2.0 / 10.0), TOL_TIGHT);
     assert_non_null(r.constraints);
     assert_near(r.constraints->power, 2.0, 0.0);
     assert_false(r.constraints->intensity);
@@ -664,7 +664,7 @@ static void test_settings_keys(void **state)
     assert_int_equal(build(qam, &s, &m, &r), QC_OK);
     assert_int_equal(r.dimensions, 2);
     assert_int_equal(r.nlevels, 4);
-    assert_near(m->params[0], sqrt(0.5), TOL_TIGHT);
+    assert_near(qc_model_param(m, 0), sqrt(0.5), TOL_TIGHT);
     assert_null(r.constraints);
     qc_model_free(m);
     qc_settings_free(s);
@@ -707,7 +707,7 @@ static void test_settings_keys(void **state)
     qc_settings *s2;
     assert_int_equal(build(avg, &s, &m, &r), QC_OK);
     assert_int_equal(build(top, &s2, &m2, &r), QC_OK);
-    assert_near(m2->params[0], m->params[0], 1e-12 * m->params[0]);
+    assert_near(qc_model_param(m2, 0), qc_model_param(m, 0), 1e-12 * qc_model_param(m, 0));
     qc_model_free(m);
     qc_model_free(m2);
     qc_settings_free(s);

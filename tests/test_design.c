@@ -327,7 +327,7 @@ static void test_capacity_one_bit_antipodal(void **state)
         r.skip_snr_penalty = 1;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
-        double sigma = m->params[0];
+        double sigma = qc_model_param(m, 0);
         double want = 1.0 - h2(0.5 * erfc(A / sigma / M_SQRT2));
         assert_true(fabs(res.rate_bits - want) <= 1e-8);
         assert_true(res.upper_bound_bits >= res.rate_bits);
@@ -610,7 +610,7 @@ static void test_model_without_snr(void **state)
     m = gauss(1.0);
     assert_int_equal(qc_model_scale_snr(m, -1.0, &scaled), QC_EINVAL);
     assert_int_equal(qc_model_scale_snr(m, 4.0, &scaled), QC_OK);
-    assert_true(fabs(scaled->params[0] - 0.5) <= TOL_TIGHT); /* σ/√4 */
+    assert_true(fabs(qc_model_param(scaled, 0) - 0.5) <= TOL_TIGHT); /* σ/√4 */
     qc_model_free(scaled);
     qc_model_free(m);
 }

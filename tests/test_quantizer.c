@@ -398,7 +398,7 @@ static void test_unquantized_unsorted_supports(void **state)
         double y = a + h * (double)j, w = (j == 0 || j == n) ? 1.0 : (j % 2 ? 4.0 : 2.0);
         double f[5], mix = 0.0;
         for (size_t i = 0; i < 5; i++) {
-            f[i] = m->type->density(m, levels[i], y);
+            f[i] = qc_model_get_type(m)->density(m, levels[i], y);
             mix += input[i] * f[i];
         }
         for (size_t i = 0; i < 5; i++)

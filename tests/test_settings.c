@@ -129,7 +129,7 @@ static void test_settings_build(void **state)
     assert_int_equal(req.nlevels, 4);
     assert_int_equal(req.objective, QC_OBJECTIVE_CAPACITY);
     /* σ² = E[x²]/snr = 5/10 for uniform PAM-4 levels ±1, ±3 */
-    assert_true(fabs(m->params[0] - sqrt(0.5)) < 1e-15);
+    assert_true(fabs(qc_model_param(m, 0) - sqrt(0.5)) < 1e-15);
     qc_model_free(m);
     qc_settings_free(s);
 
@@ -259,8 +259,8 @@ static void test_keys_apply(void **state)
     const char *direct[] = {"model", "apd-gauss", "signal", "100", "sigma-th", "10",
                             "apd-gain", "7", "apd-k", "0.25", "levels", "0,1", "bits", "1"};
     assert_int_equal(build_from(direct, 14, &m, &req, &s), QC_OK);
-    assert_true(m->params[qc_model_param_index(m->type, "apd-gain")] == 7.0);
-    assert_true(m->params[qc_model_param_index(m->type, "apd-k")] == 0.25);
+    assert_true(qc_model_param(m, qc_model_param_index(qc_model_get_type(m), "apd-gain")) == 7.0);
+    assert_true(qc_model_param(m, qc_model_param_index(qc_model_get_type(m), "apd-k")) == 0.25);
     qc_model_free(m);
     qc_settings_free(s);
 }
@@ -284,11 +284,11 @@ static void test_poisson_responsivity(void **state)
                             "received-dbm", "-60", "slot-time", "1e-9", "wavelength-nm",
                             "1550", "efficiency", "1"};
     assert_int_equal(build_from(by_r, 14, &m, &req, &s), QC_OK);
-    double with_r = m->params[0];
+    double with_r = qc_model_param(m, 0);
     qc_model_free(m);
     qc_settings_free(s);
     assert_int_equal(build_from(by_eta, 14, &m, &req, &s), QC_OK);
-    double with_eta1 = m->params[0];
+    double with_eta1 = qc_model_param(m, 0);
     qc_model_free(m);
     qc_settings_free(s);
     assert_true(fabs(with_r / with_eta1 - eta_1550) < tol);

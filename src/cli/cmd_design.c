@@ -114,7 +114,7 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
 {
-    int counts = req->model->type->output == QC_OUTPUT_COUNTS;
+    int counts = qc_model_get_type(req->model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
     fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
     if (req->objective == QC_OBJECTIVE_CAPACITY)
@@ -183,7 +183,7 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
 {
-    const int counts = m->type->output == QC_OUTPUT_COUNTS;
+    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
     fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
@@ -204,14 +204,14 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table)
 {
-    const qc_model_type *type = m->type;
+    const qc_model_type *type = qc_model_get_type(m);
     const char *lu = qc_design_level_unit(req), *ou = qc_design_output_unit(req);
     char ub[96];
     fprintf(f, "model        %s:", type->name);
     if (table)
         fprintf(f, " densities from %s", table);
     for (size_t i = 0; i < type->nparams; i++)
-        fprintf(f, "%s %s = %.6g%s", i ? "," : "", type->params[i].name, m->params[i],
+        fprintf(f, "%s %s = %.6g%s", i ? "," : "", type->params[i].name, qc_model_param(m, i),
                 cli_unit_suffix(cli_param_unit(type, i, lu), ub, sizeof ub));
     fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
     if (bits)

@@ -212,7 +212,7 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
         (st = qc_normal_approximation(r->rate_bits, r->dispersion_bits2, req->blocklength,
                                       req->error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
         return st;
-    r->shaping_gap_db = req->model->type->properties & QC_MODEL_ADDITIVE_GAUSSIAN
+    r->shaping_gap_db = qc_model_get_type(req->model)->properties & QC_MODEL_ADDITIVE_GAUSSIAN
                             ? qc_shaping_gap_db(r->snr_db, r->rate_bits / d)
                             : NAN;
     return QC_OK;

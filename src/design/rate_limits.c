@@ -91,7 +91,7 @@ static qc_penalty_note penalty(const qc_design_request *req, qc_design_result *r
         return QC_PENALTY_GMI;
     if (req->skip_snr_penalty)
         return QC_PENALTY_SKIPPED;
-    if (!req->model->type->snr || !req->model->type->scale_snr)
+    if (!qc_model_get_type(req->model)->snr || !qc_model_get_type(req->model)->scale_snr)
         return QC_PENALTY_NO_SNR;
     if (!(r->rate_bits > 0.0))
         return QC_PENALTY_ZERO_RATE;

@@ -75,7 +75,7 @@ const char *qc_design_level_unit(const qc_design_request *req)
         return "";
     if (req->level_unit)
         return req->level_unit;
-    return req->model ? unit_or_empty(req->model->type->level_unit) : "";
+    return req->model ? unit_or_empty(qc_model_get_type(req->model)->level_unit) : "";
 }
 
 const char *qc_design_output_unit(const qc_design_request *req)
@@ -84,16 +84,16 @@ const char *qc_design_output_unit(const qc_design_request *req)
         return "";
     if (req->output_unit)
         return req->output_unit;
-    return req->model ? unit_or_empty(req->model->type->output_unit) : "";
+    return req->model ? unit_or_empty(qc_model_get_type(req->model)->output_unit) : "";
 }
 
 const char *qc_design_snr_definition(const qc_design_request *req)
 {
-    if (!req || !req->model || !req->model->type->snr)
+    if (!req || !req->model || !qc_model_get_type(req->model)->snr)
         return NULL;
-    if (req->dimensions == 2 && req->model->type == &qc_model_gauss)
+    if (req->dimensions == 2 && qc_model_get_type(req->model) == &qc_model_gauss)
         return "Es/N0 = E|x|^2/(2 sigma^2) (symbol energy over the noise density; sigma^2 "
                "per quadrature)";
-    return req->model->type->snr_definition;
+    return qc_model_get_type(req->model)->snr_definition;
 }
 

@@ -32,11 +32,16 @@ typedef struct {
 
 #define QC_MODEL_MAX_PARAMS 8
 
+/* A noise model instance: the conditional law of the receiver output
+ * given the transmitted level x. Cells are half-open: a threshold t
+ * separates {y < t} from {y ≥ t}; for counts, thresholds are integers.
+ * Opaque: made only by qc_model_alloc (or qc_model_table_load), so its
+ * parameters are always checked; read with qc_model_get_type,
+ * qc_model_param and qc_model_params. Models with a state (apd caches
+ * per-level grids, table holds its data) are used by one thread at a
+ * time: a sweep creates one instance per thread. */
 typedef struct qc_model qc_model;
 
-/* A noise model: the conditional law of the receiver output given the
- * transmitted level x. Cells are half-open: a threshold t separates
- * {y < t} from {y ≥ t}; for counts, thresholds are integers. */
 /* Properties a model type declares, so that no other code compares
  * against a particular model (qc_model_type.properties, OR-ed). */
 enum {
@@ -119,15 +124,6 @@ typedef struct qc_model_type {
     const char *output_unit;
 } qc_model_type;
 
-/* A model instance. Models with a state (apd caches per-level grids,
- * table holds its data) are used by one thread at a time: a sweep
- * creates one instance per thread. */
-struct qc_model {
-    const qc_model_type *type;
-    double params[QC_MODEL_MAX_PARAMS];
-    void *state;
-};
-
 QC_API extern const qc_model_type qc_model_gauss;
 
 /* Signal-dependent Gaussian: sigma^2(x) = sigma0^2 + a x + b x^2. */
@@ -164,6 +160,20 @@ QC_API int qc_model_param_index(const qc_model_type *type, const char *name);
 QC_API qc_status qc_model_alloc(const qc_model_type *type, const double *params,
                          qc_model **out);
 QC_API void qc_model_free(qc_model *model);
+
+/* The type of a model instance (its name, parameter list, output kind,
+ * properties and the law's functions, which take the instance itself:
+ * qc_model_get_type(m)->below(m, x, t)). Never NULL for an instance. */
+QC_API const qc_model_type *qc_model_get_type(const qc_model *model);
+
+/* Parameter i of the instance, in the order of its type's params, as
+ * checked by qc_model_alloc (defaults filled in). NaN when i is not below
+ * the type's nparams. */
+QC_API double qc_model_param(const qc_model *model, size_t i);
+
+/* All the instance's parameters: qc_model_get_type(model)->nparams values
+ * (borrowed; valid while the model lives, never modified). */
+QC_API const double *qc_model_params(const qc_model *model);
 
 /* Check levels against the model (finite, allowed by check_level). */
 QC_API qc_status qc_model_check_levels(const qc_model *model, const double *levels,

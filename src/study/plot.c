@@ -1357,7 +1357,7 @@ static qc_status plot_density(const qc_scenario *sc, json_t *const *records, con
         st = array_of(json_object_get(result, "levels"), &lev, &nlev);
     if (st != QC_OK || nlev == 0)
         goto done;
-    const qc_model_type *type = m->type;
+    const qc_model_type *type = qc_model_get_type(m);
     int counts = type->output == QC_OUTPUT_COUNTS;
     double lo = INFINITY, hi = -INFINITY;
     for (size_t i = 0; i < nlev; i++) {

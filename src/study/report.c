@@ -120,12 +120,12 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_t *o = json_object();
     if (!o)
         return NULL;
-    json_object_set_new(o, "model", json_string(m->type->name));
+    json_object_set_new(o, "model", json_string(qc_model_get_type(m)->name));
     json_t *pj = json_object();
-    for (size_t i = 0; i < m->type->nparams; i++) {
+    for (size_t i = 0; i < qc_model_get_type(m)->nparams; i++) {
         char name[64];
-        qc_field_name(m->type->params[i].name, name, sizeof name);
-        json_object_set_new(pj, name, qc_report_real(m->params[i]));
+        qc_field_name(qc_model_get_type(m)->params[i].name, name, sizeof name);
+        json_object_set_new(pj, name, qc_report_real(qc_model_param(m, i)));
     }
     json_object_set_new(o, "parameters", pj);
     json_object_set_new(o, "level_unit", json_string(qc_design_level_unit(req)));
