@@ -28,10 +28,10 @@ int main(void)
     const double levels[] = {-3.0, -1.0, 1.0, 3.0};
     qc_design_request req;
     qc_design_request_default(&req);
-    req.model = model;
-    req.levels = levels;
-    req.nlevels = 4;
-    req.cells = 8; /* 3 bits */
+    req.channel.model = model;
+    req.channel.levels = levels;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8; /* 3 bits */
 
     qc_design_result res = {0};
     st = qc_design(&req, &res);

@@ -116,10 +116,10 @@ static void test_design_many_modes(void **state)
         double levels[] = {cases[i].x0, cases[i].x1};
         qc_design_request req;
         qc_design_request_default(&req);
-        req.model = m;
-        req.levels = levels;
-        req.nlevels = 2;
-        req.cells = 4;
+        req.channel.model = m;
+        req.channel.levels = levels;
+        req.channel.nlevels = 2;
+        req.quantizer.cells = 4;
         qc_design_result res = {0};
         assert_int_equal(qc_design(&req, &res), QC_OK);
         assert_true(res.rate_bits <= res.unquantized_bits + res.unquantized_err_bits);

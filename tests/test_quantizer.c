@@ -419,12 +419,12 @@ static qc_status design_one(qc_model *m, const double *levels, size_t n,
 {
     qc_design_request r;
     qc_design_request_default(&r);
-    r.model = m;
-    r.levels = levels;
-    r.nlevels = n;
-    r.cells = cells;
-    r.quantizer = kind;
-    r.skip_snr_penalty = 1;
+    r.channel.model = m;
+    r.channel.levels = levels;
+    r.channel.nlevels = n;
+    r.quantizer.cells = cells;
+    r.quantizer.kind = kind;
+    r.numerics.skip_snr_penalty = 1;
     return qc_design(&r, res);
 }
 

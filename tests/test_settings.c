@@ -125,9 +125,9 @@ static void test_settings_build(void **state)
     const char *ok[] = {"model", "gauss", "snr-db", "10", "levels", "-3,-1,1,3", "bits", "3",
                         "objective", "capacity"};
     assert_int_equal(build_from(ok, 10, &m, &req, &s), QC_OK);
-    assert_int_equal(req.cells, 8);
-    assert_int_equal(req.nlevels, 4);
-    assert_int_equal(req.objective, QC_OBJECTIVE_CAPACITY);
+    assert_int_equal(req.quantizer.cells, 8);
+    assert_int_equal(req.channel.nlevels, 4);
+    assert_int_equal(req.input.objective, QC_OBJECTIVE_CAPACITY);
     /* σ² = E[x²]/snr = 5/10 for uniform PAM-4 levels ±1, ±3 */
     assert_true(fabs(qc_model_param(m, 0) - sqrt(0.5)) < 1e-15);
     qc_model_free(m);
@@ -305,8 +305,8 @@ static void test_thresholds_count(void **state)
     const char *alone[] = {"model", "gauss", "sigma", "1", "levels", "-1,1", "quantizer",
                            "fixed", "thresholds", "-2,0,2"};
     assert_int_equal(build_from(alone, 10, &m, &req, &s), QC_OK);
-    assert_int_equal(req.cells, 4);
-    assert_int_equal(req.nthresholds, 3);
+    assert_int_equal(req.quantizer.cells, 4);
+    assert_int_equal(req.quantizer.nthresholds, 3);
     qc_model_free(m);
     qc_settings_free(s);
     const char *cells[] = {"model", "gauss", "sigma", "1", "levels", "-1,1", "cells", "3",

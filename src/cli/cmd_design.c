@@ -114,10 +114,10 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
 {
-    int counts = qc_model_get_type(req->model)->output == QC_OUTPUT_COUNTS;
+    int counts = qc_model_get_type(req->channel.model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
     fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
-    if (req->objective == QC_OBJECTIVE_CAPACITY)
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY)
         fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f %s (tol %.2g %s)\n",
                 r->upper_bound_bits, unit, r->tol_bits, unit);
     else
@@ -219,8 +219,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",
-            req->objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
-            : req->objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
+            req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
     print_rates(f, req, r);
     if (r->reconstruction)
@@ -268,7 +268,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         fputs("]\n", sink->f);
     } else {
         const char *no_penalty[QC_COMPARE_MAX] = {0};
-        const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
+        const int capacity = req->input.objective == QC_OBJECTIVE_CAPACITY;
         double tol = 0.0;
         fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate", "unquantized",
                 "loss", "penalty dB", capacity ? "    upper bound" : "");
@@ -307,7 +307,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                     fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
-        const char *unit = cli_rate_unit(req->dimensions);
+        const char *unit = cli_rate_unit(req->channel.dimensions);
         if (capacity)
             fprintf(sink->f,
                     "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
@@ -315,7 +315,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                     tol, unit, unit);
         else
             fprintf(sink->f, "\n%s; rate, unquantized and loss in %s\n",
-                    req->objective == QC_OBJECTIVE_GMI
+                    req->input.objective == QC_OBJECTIVE_GMI
                         ? "rates: BICM GMI with Gray labels, exact finite sums"
                         : "rates: mutual information, exact finite sums",
                     unit);
@@ -366,8 +366,8 @@ int cmd_design(int argc, char **argv)
     cli_progress bar;
     cli_progress_init(&bar, cli_has(&a, "quiet"), "steps");
     bar.delay_s = PROGRESS_DELAY_S;
-    req.progress = cli_progress_report;
-    req.progress_user = &bar;
+    req.numerics.progress = cli_progress_report;
+    req.numerics.progress_user = &bar;
     if (cli_has(&a, "compare")) {
         if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
             goto done;
@@ -381,7 +381,7 @@ int cmd_design(int argc, char **argv)
         rc = cli_lib_error(st);
         goto done;
     }
-    unsigned bits = cli_bits_of_cells(req.cells);
+    unsigned bits = cli_bits_of_cells(req.quantizer.cells);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     if (cli_has(&a, "json")) {

@@ -74,27 +74,64 @@ QC_API const char *qc_objective_name(qc_objective objective);
 /* Look a name up; QC_EINVAL naming the unknown word and the choices. */
 QC_API qc_status qc_objective_parse(const char *name, qc_objective *out);
 
+/* A design request in four parts: the channel (what is sent and how the
+ * receiver sees it), the quantizer (how its output is cut into cells),
+ * the input (what is maximized and under which law and constraints) and
+ * the numerics (tolerances, grids, finite blocklength, progress). Start
+ * from qc_design_request_default and set what you need, e.g.
+ * req.channel.model, req.channel.levels, req.quantizer.cells. */
+
+/* The channel. */
 typedef struct {
-    /* The channel. */
     const qc_model *model;       /* noise model (required)                   */
     const double *levels;        /* nlevels input levels (required)          */
     size_t nlevels;
-    /* MI objective: the input law (NULL: uniform). Capacity objective:
-     * the engine's starting law (NULL: uniform). Must sum to 1. */
-    const double *probabilities;
-    /* The quantizer. */
+    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
+                                    levels used on each quadrature with the
+                                    same thresholds; rates per complex
+                                    symbol (input.costs/budget then apply to
+                                    one quadrature, input.constraints to the
+                                    symbol; src/alphabet, docs/alphabets.md) */
+    /* Units of the levels and of the receiver output for reports (NULL:
+     * the model type's level_unit / output_unit), e.g. "A" when the
+     * levels are photocurrents from the physical front end. */
+    const char *level_unit;
+    const char *output_unit;
+} qc_design_channel;
+
+/* The quantizer. */
+typedef struct {
+    qc_quantizer_kind kind;      /* threshold strategy (default optimal)     */
     size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
                                     QC_QUANTIZER_FIXED: nthresholds + 1.
                                     Count outputs use at most one cell per
                                     count that carries probability (the
                                     result's cells_used)                    */
-    qc_objective objective;
-    qc_quantizer_kind quantizer;
     const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
                                     strictly increasing (integers ≥ 1 for
                                     count outputs); ignored otherwise      */
     size_t nthresholds;          /* their number; must equal K − 1         */
-    /* Numerics. */
+} qc_design_quantizer;
+
+/* The input: the objective, the input law and what constrains it. */
+typedef struct {
+    qc_objective objective;
+    /* MI objective: the input law (NULL: uniform). Capacity objective:
+     * the engine's starting law (NULL: uniform). Must sum to 1. */
+    const double *probabilities;
+    /* Capacity objective only: an average-cost constraint for the engine. */
+    const double *costs;         /* per-level cost (NULL: no constraint)    */
+    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
+    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
+                                    none (not together with costs)          */
+    int optimize_levels;         /* 1: move the levels to maximize the
+                                    objective (Nelder–Mead, several starts,
+                                    thresholds re-designed at each step)   */
+    size_t level_starts;         /* starts of that search; 0: 3             */
+} qc_design_input;
+
+/* The numerics. */
+typedef struct {
     double tol_bits;             /* engine gap and joint-design tolerance;
                                     0: 1e-9                                 */
     size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: fine-grid cells N
@@ -103,25 +140,8 @@ typedef struct {
                                     that K·N ≤ 2^22, never below K). Count
                                     outputs use every count of the support
                                     when it has at most max(N, 65536)      */
-    /* Capacity objective only: an average-cost constraint for the engine. */
-    const double *costs;         /* per-level cost (NULL: no constraint)    */
-    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
     int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the
                                     root search on the unquantized curve)   */
-    /* Alphabet and input design (src/alphabet, docs/alphabets.md); all
-     * zero = off. */
-    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
-                                    levels used on each quadrature with the
-                                    same thresholds; rates per complex
-                                    symbol (`costs`/`budget` then apply to
-                                    one quadrature, `constraints` to the
-                                    symbol)                                 */
-    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
-                                    none (not together with costs)          */
-    int optimize_levels;         /* 1: move the levels to maximize the
-                                    objective (Nelder–Mead, several starts,
-                                    thresholds re-designed at each step)   */
-    size_t level_starts;         /* starts of that search; 0: 3             */
     size_t blocklength;          /* n > 0: normal approximation at n        */
     double error_rate;           /* block error probability ε in (0, 1),
                                     required with blocklength               */
@@ -134,11 +154,13 @@ typedef struct {
      * search (its designs); other designs are quick and report nothing. */
     void (*progress)(void *user, size_t done, size_t total);
     void *progress_user;
-    /* Units of the levels and of the receiver output for reports (NULL:
-     * the model type's level_unit / output_unit), e.g. "A" when the
-     * levels are photocurrents from the physical front end. */
-    const char *level_unit;
-    const char *output_unit;
+} qc_design_numerics;
+
+typedef struct {
+    qc_design_channel channel;
+    qc_design_quantizer quantizer;
+    qc_design_input input;
+    qc_design_numerics numerics;
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -251,7 +273,7 @@ QC_API const char *qc_design_output_unit(const qc_design_request *req);
 QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
- * (req->quantizer is ignored). An invalid request fails at once with
+ * (req->quantizer.kind is ignored). An invalid request fails at once with
  * nothing filled; otherwise every entry is filled and the return value is
  * QC_OK, or the first failing strategy's status. Clear with
  * qc_design_comparison_clear (safe on a zeroed comparison). */

@@ -121,7 +121,7 @@ QC_API qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
 /* A plan for `nthresholds` thresholds on `levels` (borrowed: they, the
  * model and `given` must outlive the plan). given: the fixed strategy's
  * thresholds (NULL for the others). fine_cells: the optimal strategy's
- * fine grid (0: automatic, as qc_design_request.fine_cells). grid_law:
+ * fine grid (0: automatic, as qc_design_request.numerics.fine_cells). grid_law:
  * the law the fine grid is built for (copied; NULL: the law of the first
  * design). QC_EINVAL when the model or levels are missing or nthresholds
  * is 0; QC_ENOMEM. On failure *out is NULL. */

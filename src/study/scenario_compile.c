@@ -816,7 +816,7 @@ qc_status qc_scenario_check(const qc_scenario *sc)
         if (st == QC_OK)
             st = qc_settings_build(s, &m, &req);
         if (st == QC_OK)
-            st = qc_model_check_levels(m, req.levels, req.nlevels);
+            st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
         qc_model_free(m);
         qc_settings_free(s);
         if (st != QC_OK) {
