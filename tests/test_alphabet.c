@@ -176,6 +176,10 @@ static void test_peak_on_alphabets(void **state)
     /* a peak that keeps one candidate is infeasible */
     assert_int_equal(qc_alphabet_apply_peak(a, 0.5, 0), QC_EINFEASIBLE);
     assert_message("peak");
+    /* ... and leaves the grid as it was */
+    assert_int_equal(a->nlevels, 5);
+    for (size_t i = 0; i < 5; i++)
+        assert_true(a->levels[i] == -2.0 + (double)i);
     qc_alphabet_free(a);
     /* intensity: [0, A] */
     assert_int_equal(qc_alphabet_grid(-1.0, 1.0, 5, &a), QC_OK);
