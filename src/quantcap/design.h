@@ -37,7 +37,7 @@ typedef enum {
 } qc_rate_limit;
 
 /* "log2 levels", "input entropy", "log2 cells", "quantized rate"; NULL
- * for QC_LIMIT_NONE and values out of range. */
+ * for QC_LIMIT_NONE and values out of range (no message). */
 QC_API const char *qc_rate_limit_name(qc_rate_limit limit);
 
 /* Why the SNR penalty is undefined (NaN). */
@@ -60,18 +60,16 @@ typedef enum {
 } qc_penalty_note;
 
 /* A phrase saying why (e.g. "rate saturated at its ceiling"); NULL for
- * QC_PENALTY_DEFINED and values out of range. */
+ * QC_PENALTY_DEFINED and values out of range (no message). */
 QC_API const char *qc_penalty_note_text(qc_penalty_note note);
 
-/* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
- * "lloyd-max", "optimal". NULL for values out of range. */
-
 /* Names used on the command line: "mi", "capacity", "gmi"; NULL for values
- * out of range. The quantizers' names come with the strategy table
- * (quantcap/quantizer.h). */
+ * out of range (no message). The quantizers' names come with the strategy
+ * table (quantcap/quantizer.h). */
 QC_API const char *qc_objective_name(qc_objective objective);
 
-/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. On
+ * failure *out is unchanged. */
 QC_API qc_status qc_objective_parse(const char *name, qc_objective *out);
 
 /* A design request in four parts: the channel (what is sent and how the
@@ -164,7 +162,8 @@ typedef struct {
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
- * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid. */
+ * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid; every
+ * other field zero or NULL. Overwrites the whole request; never fails. */
 QC_API void qc_design_request_default(qc_design_request *req);
 
 typedef struct {
@@ -245,10 +244,15 @@ typedef struct {
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
  * (cells outside 2..2^16, fine grid smaller than K, unsorted, repeated or
  * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
- * naming the field. On failure the result is left empty (safe to clear). */
+ * naming the field; a constraint no law can meet is QC_EINFEASIBLE, an
+ * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
+ * QC_ENOMEM as they come. The request and what it points to are never
+ * modified. On failure the result is left empty (zeroed: safe to clear,
+ * nothing to free). */
 QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 
-/* Release what a result owns and zero it; safe on a zeroed result. */
+/* Release what a result owns and zero it; safe on a zeroed result. NULL
+ * does nothing. */
 QC_API void qc_design_result_clear(qc_design_result *res);
 
 /* All strategies on the same channel (`design --compare`): uniform,
@@ -263,13 +267,14 @@ typedef struct {
 } qc_design_comparison;
 
 /* The units a report gives the levels and the thresholds of a request:
- * the request's own, else its model type's, else "" (never NULL). */
+ * the request's own, else its model type's, else "" (never NULL, also
+ * for a NULL request or one without a model). Never fail. */
 QC_API const char *qc_design_level_unit(const qc_design_request *req);
 QC_API const char *qc_design_output_unit(const qc_design_request *req);
 
 /* What the reported snr_db of a request means, in words (the model
  * type's snr_definition; for QAM on model gauss, Es/N0), or NULL when the
- * model defines no SNR. */
+ * model defines no SNR (or req or its model is NULL). Never fails. */
 QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
@@ -279,18 +284,22 @@ QC_API const char *qc_design_snr_definition(const qc_design_request *req);
  * qc_design_comparison_clear (safe on a zeroed comparison). */
 QC_API qc_status qc_design_compare(const qc_design_request *req,
                             qc_design_comparison *cmp);
+/* Release every result of a comparison and zero it; NULL does nothing. */
 QC_API void qc_design_comparison_clear(qc_design_comparison *cmp);
 
 /* ---- SNR of a model ------------------------------------------------- */
 
 /* Operating SNR in dB by the model's notion (qc_model_type.snr); NaN
- * when the model defines none or the SNR is not positive. */
+ * when the model defines none, an argument is NULL or the SNR is not
+ * positive. Sets no message. */
 QC_API double qc_model_snr_db(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels);
 
 /* A new model of the same type whose SNR is `gain` times this one's
  * (qc_model_type.scale_snr). QC_EINVAL if the type has no SNR notion or
- * gain is not a positive finite number. */
+ * gain is not a positive finite number, or naming the parameter that the
+ * scaling would push out of its range; QC_ENOMEM. On failure *out is
+ * NULL; `model` is never modified. */
 QC_API qc_status qc_model_scale_snr(const qc_model *model, double gain,
                              qc_model **out);
 
@@ -299,7 +308,9 @@ QC_API qc_status qc_model_scale_snr(const qc_model *model, double gain,
  * (Brent root finding on the unquantized curve, scaling the noise with
  * scale_snr). 0 when rate_bits is within the quadrature error of the
  * unquantized rate; *penalty_db is NaN (status QC_OK) when the model
- * defines no SNR or rate_bits ≤ 0. */
+ * defines no SNR, rate_bits ≤ 0, or the unquantized rate never falls to
+ * rate_bits in the searched range. QC_EINVAL, QC_ENUMERIC or QC_ENOMEM
+ * when the unquantized rate cannot be computed; *penalty_db is then NaN. */
 QC_API qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels,
                             double rate_bits, double *penalty_db);
