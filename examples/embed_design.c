@@ -40,7 +40,8 @@ int main(void)
         qc_model_free(model);
         return 1;
     }
-    printf("quantcap %s: PAM-4, sigma 0.5, %zu cells\n", qc_version(), res.cells);
+    printf("quantcap %s: PAM-4, %s %g (level units), %zu cells\n", qc_version(),
+           qc_model_get_type(model)->params[0].name, qc_model_param(model, 0), res.cells);
     printf("thresholds:");
     for (size_t i = 0; i < res.nthresholds; i++)
         printf(" %.4f", res.thresholds[i]);
