@@ -34,4 +34,11 @@ if [ -n "$bad" ]; then
     echo "$bad" >&2
     exit 1
 fi
+# model instances are opaque: no installed header defines their layout
+incdir="$(pkg-config --variable=includedir quantcap)"
+[ -f "$incdir/quantcap/model.h" ] || { echo "check_installed: no quantcap/model.h under $incdir" >&2; exit 1; }
+if grep -rEq 'struct[[:space:]]+qc_model[[:space:]]*\{' "$incdir/quantcap.h" "$incdir/quantcap"; then
+    echo "check_installed: an installed header defines struct qc_model" >&2
+    exit 1
+fi
 echo "check_installed: the example builds and runs against the staged install"

@@ -28,10 +28,10 @@ int main(void)
     const double levels[] = {-3.0, -1.0, 1.0, 3.0};
     qc_design_request req;
     qc_design_request_default(&req);
-    req.model = model;
-    req.levels = levels;
-    req.nlevels = 4;
-    req.cells = 8; /* 3 bits */
+    req.channel.model = model;
+    req.channel.levels = levels;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8; /* 3 bits */
 
     qc_design_result res = {0};
     st = qc_design(&req, &res);
@@ -40,7 +40,8 @@ int main(void)
         qc_model_free(model);
         return 1;
     }
-    printf("quantcap %s: PAM-4, sigma 0.5, %zu cells\n", qc_version(), res.cells);
+    printf("quantcap %s: PAM-4, %s %g (level units), %zu cells\n", qc_version(),
+           qc_model_get_type(model)->params[0].name, qc_model_param(model, 0), res.cells);
     printf("thresholds:");
     for (size_t i = 0; i < res.nthresholds; i++)
         printf(" %.4f", res.thresholds[i]);

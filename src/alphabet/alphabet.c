@@ -184,15 +184,20 @@ qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity)
                                i + 1, a->levels[i], range, intensity ? 0.0 : -peak, peak);
         return QC_OK;
     }
+    /* count first, so that a grid the peak leaves too few candidates is
+     * left as it was */
     size_t k = 0;
     for (size_t i = 0; i < a->nlevels; i++)
-        if (qc_within_peak(a->levels[i], peak, intensity))
-            a->levels[k++] = fmin(fmax(a->levels[i], intensity ? 0.0 : -peak), peak);
+        k += qc_within_peak(a->levels[i], peak, intensity);
     if (k < 2)
         return qc_fail(QC_EINFEASIBLE,
                        "peak-limit: %g leaves %zu of the %zu level-grid candidates inside %s "
                        "(at least 2 needed)",
                        peak, k, a->nlevels, range);
+    k = 0;
+    for (size_t i = 0; i < a->nlevels; i++)
+        if (qc_within_peak(a->levels[i], peak, intensity))
+            a->levels[k++] = fmin(fmax(a->levels[i], intensity ? 0.0 : -peak), peak);
     a->nlevels = a->size = k;
     return QC_OK;
 }

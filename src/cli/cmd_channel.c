@@ -104,7 +104,7 @@ int cmd_channel(int argc, char **argv)
         json_object_set_new(o, "model", json_string(type->name));
         json_t *pj = json_object();
         for (size_t i = 0; i < type->nparams; i++)
-            json_object_set_new(pj, type->params[i].name, cli_json_real(m->params[i]));
+            json_object_set_new(pj, type->params[i].name, cli_json_real(qc_model_param(m, i)));
         json_object_set_new(o, "parameters", pj);
         json_object_set_new(o, "level_unit", json_string(type->level_unit ? type->level_unit : ""));
         json_object_set_new(o, "output_unit",
@@ -135,7 +135,7 @@ int cmd_channel(int argc, char **argv)
         if (is_table)
             fprintf(sink.f, " densities from %s", cli_get(&a, "table"));
         for (size_t i = 0; i < type->nparams; i++)
-            fprintf(sink.f, "%s %s = %g%s", i ? "," : "", type->params[i].name, m->params[i],
+            fprintf(sink.f, "%s %s = %g%s", i ? "," : "", type->params[i].name, qc_model_param(m, i),
                     cli_unit_suffix(cli_param_unit(type, i, lu), ub, sizeof ub));
         fprintf(sink.f, "\nP(cell | level): %zu %s x %zu %s\n", nl,
                 cli_plural(nl, "level", "levels"), nt + 1, cli_plural(nt + 1, "cell", "cells"));

@@ -154,10 +154,10 @@ static void print_figures(FILE *f, const qc_design_result *r)
 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
 {
-    int counts = req->model->type->output == QC_OUTPUT_COUNTS;
+    int counts = qc_model_get_type(req->channel.model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
     fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
-    if (req->objective == QC_OBJECTIVE_CAPACITY)
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY)
         fprintf(f, "   certified: Blahut-Arimoto upper bound %.9f %s (tol %.2g %s)\n",
                 r->upper_bound_bits, unit, r->tol_bits, unit);
     else
@@ -224,7 +224,7 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
 {
-    const int counts = m->type->output == QC_OUTPUT_COUNTS;
+    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
     fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
@@ -245,14 +245,14 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table)
 {
-    const qc_model_type *type = m->type;
+    const qc_model_type *type = qc_model_get_type(m);
     const char *lu = qc_design_level_unit(req), *ou = qc_design_output_unit(req);
     char ub[96];
     fprintf(f, "model        %s:", type->name);
     if (table)
         fprintf(f, " densities from %s", table);
     for (size_t i = 0; i < type->nparams; i++)
-        fprintf(f, "%s %s = %.6g%s", i ? "," : "", type->params[i].name, m->params[i],
+        fprintf(f, "%s %s = %.6g%s", i ? "," : "", type->params[i].name, qc_model_param(m, i),
                 cli_unit_suffix(cli_param_unit(type, i, lu), ub, sizeof ub));
     fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
     if (bits)
@@ -260,8 +260,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",
-            req->objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
-            : req->objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
+            req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
     print_rates(f, req, r);
     if (r->reconstruction)
@@ -309,7 +309,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
         fputs("]\n", sink->f);
     } else {
         const char *no_penalty[QC_COMPARE_MAX] = {0};
-        const int capacity = req->objective == QC_OBJECTIVE_CAPACITY;
+        const int capacity = req->input.objective == QC_OBJECTIVE_CAPACITY;
         double tol = 0.0;
         fprintf(sink->f, "%-10s %14s %14s %12s %12s%s\n", "quantizer", "rate", "unquantized",
                 "loss", "penalty dB", capacity ? "    upper bound" : "");
@@ -348,7 +348,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                     fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
-        const char *unit = cli_rate_unit(req->dimensions);
+        const char *unit = cli_rate_unit(req->channel.dimensions);
         if (capacity)
             fprintf(sink->f,
                     "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
@@ -356,7 +356,7 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                     tol, unit, unit);
         else
             fprintf(sink->f, "\n%s; rate, unquantized and loss in %s\n",
-                    req->objective == QC_OBJECTIVE_GMI
+                    req->input.objective == QC_OBJECTIVE_GMI
                         ? "rates: BICM GMI with Gray labels, exact finite sums"
                         : "rates: mutual information, exact finite sums",
                     unit);
@@ -407,8 +407,8 @@ int cmd_design(int argc, char **argv)
     cli_progress bar;
     cli_progress_init(&bar, cli_has(&a, "quiet"), "steps");
     bar.delay_s = PROGRESS_DELAY_S;
-    req.progress = cli_progress_report;
-    req.progress_user = &bar;
+    req.numerics.progress = cli_progress_report;
+    req.numerics.progress_user = &bar;
     if (cli_has(&a, "compare")) {
         if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
             goto done;
@@ -422,7 +422,7 @@ int cmd_design(int argc, char **argv)
         rc = cli_lib_error(st);
         goto done;
     }
-    unsigned bits = cli_bits_of_cells(req.cells);
+    unsigned bits = cli_bits_of_cells(req.quantizer.cells);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     if (cli_has(&a, "json")) {

@@ -172,7 +172,7 @@ static json_t *design_at(const qc_settings *set, const char *key, double value,
     char *text = NULL;
     if (qc_settings_with(set, key, value, &s) == QC_OK && qc_settings_build(s, &m, &req) == QC_OK) {
         if (fec)
-            req.fec = fec;
+            req.input.fec = fec;
         if (qc_design(&req, &res) == QC_OK && qc_design_report_json(&req, &res, &text) == QC_OK)
             o = json_loads(text, 0, NULL);
     }
@@ -238,7 +238,7 @@ int cmd_require(int argc, char **argv)
         if (st == QC_OK)
             st = qc_settings_build(probe, &m, &req);
         if (m)
-            type = m->type;
+            type = qc_model_get_type(m);
         qc_model_free(m);
         qc_settings_free(probe);
         if (st != QC_OK) {

@@ -101,8 +101,8 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
                                 size_t ncosts, qc_design_result *res)
 {
     const size_t n = res->nlevels, nt = res->nthresholds;
-    alternation a = {.req = req, .model = req->model, .levels = res->levels, .n = n, .nt = nt,
-                     .strategy = qc_strategy_of(req->quantizer), .costs = costs,
+    alternation a = {.req = req, .model = req->channel.model, .levels = res->levels, .n = n, .nt = nt,
+                     .strategy = qc_strategy_of(req->quantizer.kind), .costs = costs,
                      .ncosts = ncosts, .best = -INFINITY, .best_upper = INFINITY};
     double *start = NULL, *t = NULL, *cand = NULL, *uniform = NULL;
     qc_ba_options_default(&a.opt);
@@ -129,8 +129,8 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     memcpy(start, res->input, n * sizeof *start); /* the request's law or uniform */
     for (size_t i = 0; i < n; i++)
         uniform[i] = 1.0 / (double)n;
-    st = qc_strategy_plan_alloc(req->model, res->levels, n, nt, req->thresholds,
-                                req->fine_cells, uniform, &a.plan);
+    st = qc_strategy_plan_alloc(req->channel.model, res->levels, n, nt, req->quantizer.thresholds,
+                                req->numerics.fine_cells, uniform, &a.plan);
     if (st != QC_OK)
         goto done;
 
@@ -158,7 +158,7 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     /* The best channel and its certified bounds, the engine started from
      * the best law. */
     memcpy(res->thresholds, a.best_t, nt * sizeof *res->thresholds);
-    st = qc_discretize(req->model, res->levels, n, res->thresholds, nt, &res->channel);
+    st = qc_discretize(req->channel.model, res->levels, n, res->thresholds, nt, &res->channel);
     if (st != QC_OK)
         goto done;
     qc_costs_result cr;
@@ -172,15 +172,15 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
          * for the capacity-achieving law r*: C(t') ≥ I(r*, t') ≥ C(t) − ε. */
         memcpy(t, res->thresholds, nt * sizeof *t);
         if (a.strategy == &qc_strategy_optimal &&
-            (st = qc_tidy_thresholds(req->model, res->levels, res->input, n, nt,
+            (st = qc_tidy_thresholds(req->channel.model, res->levels, res->input, n, nt,
                                      QC_TIDY_NATS(res->tol_bits), t)) != QC_OK)
             goto done;
-        qc_snap_thresholds(req->model, res->levels, n, nt, t);
+        qc_snap_thresholds(req->channel.model, res->levels, n, nt, t);
         if (memcmp(t, res->thresholds, nt * sizeof *t) != 0) {
             memcpy(res->thresholds, t, nt * sizeof *t);
             qc_dmc_free(res->channel);
             res->channel = NULL;
-            if ((st = qc_discretize(req->model, res->levels, n, res->thresholds, nt,
+            if ((st = qc_discretize(req->channel.model, res->levels, n, res->thresholds, nt,
                                     &res->channel)) != QC_OK)
                 goto done;
             memcpy(a.law, res->input, n * sizeof *a.law);

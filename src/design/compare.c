@@ -19,7 +19,7 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
 {
     memset(cmp, 0, sizeof *cmp);
     size_t K;
-    int with_fixed = req && req->thresholds != NULL;
+    int with_fixed = req && req->quantizer.thresholds != NULL;
     qc_status st = qc_design_check_request(req, with_fixed, &K);
     if (st != QC_OK)
         return st;
@@ -32,8 +32,8 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
         if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
             continue;
         qc_design_request one = *req;
-        one.quantizer = order[i];
-        one.cells = K;
+        one.quantizer.kind = order[i];
+        one.quantizer.cells = K;
         size_t k = cmp->count++;
         cmp->kind[k] = order[i];
         cmp->status[k] = qc_design(&one, &cmp->result[k]);

@@ -38,58 +38,60 @@ qc_status qc_design_check_request(const qc_design_request *req, int fixed,
 {
     if (!req)
         return qc_fail(QC_EINVAL, "no design request given");
-    if (!req->model)
+    if (!req->channel.model)
         return qc_fail(QC_EINVAL, "design: no noise model given");
-    if (!req->levels || req->nlevels == 0)
+    if (!req->channel.levels || req->channel.nlevels == 0)
         return qc_fail(QC_EINVAL, "design: no input levels given");
-    qc_status st = qc_model_check_levels(req->model, req->levels, req->nlevels);
+    const qc_design_channel *ch = &req->channel;
+    qc_status st = qc_model_check_levels(ch->model, ch->levels, ch->nlevels);
     if (st != QC_OK)
         return st;
-    if ((unsigned)req->objective >= QC_OBJECTIVE_COUNT)
-        return qc_fail(QC_EINVAL, "design: unknown objective %d", (int)req->objective);
-    if ((unsigned)req->quantizer >= QC_QUANTIZER_COUNT)
-        return qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer);
-    size_t K = req->cells;
-    if (K == 0 && fixed && req->thresholds)
-        K = req->nthresholds + 1;
+    if ((unsigned)req->input.objective >= QC_OBJECTIVE_COUNT)
+        return qc_fail(QC_EINVAL, "design: unknown objective %d", (int)req->input.objective);
+    if ((unsigned)req->quantizer.kind >= QC_QUANTIZER_COUNT)
+        return qc_fail(QC_EINVAL, "design: unknown quantizer %d", (int)req->quantizer.kind);
+    size_t K = req->quantizer.cells;
+    if (K == 0 && fixed && req->quantizer.thresholds)
+        K = req->quantizer.nthresholds + 1;
     if (K < 2 || K > ((size_t)1 << QC_MAX_BITS))
         return qc_fail(QC_EINVAL,
                        "cells must be between 2 and %zu (1 to %d bits), got %zu",
                        (size_t)1 << QC_MAX_BITS, QC_MAX_BITS, K);
-    if (req->probabilities) {
-        st = check_law(req->probabilities, req->nlevels);
+    if (req->input.probabilities) {
+        st = check_law(req->input.probabilities, req->channel.nlevels);
         if (st != QC_OK)
             return st;
     }
-    if (!(req->tol_bits >= 0.0) || !isfinite(req->tol_bits))
-        return qc_fail(QC_EINVAL, "tolerance must be >= 0 bits (got %g)", req->tol_bits);
-    if (req->fine_cells != 0 && req->fine_cells < K)
+    if (!(req->numerics.tol_bits >= 0.0) || !isfinite(req->numerics.tol_bits))
+        return qc_fail(QC_EINVAL, "tolerance must be >= 0 bits (got %g)", req->numerics.tol_bits);
+    if (req->numerics.fine_cells != 0 && req->numerics.fine_cells < K)
         return qc_fail(QC_EINVAL,
                        "fine grid of %zu cells is smaller than the %zu quantizer "
                        "cells",
-                       req->fine_cells, K);
-    if (req->fine_cells > QC_DMC_MAX_DIM)
+                       req->numerics.fine_cells, K);
+    if (req->numerics.fine_cells > QC_DMC_MAX_DIM)
         return qc_fail(QC_EINVAL, "fine grid of %zu cells exceeds the limit of %zu",
-                       req->fine_cells, (size_t)QC_DMC_MAX_DIM);
-    if (req->costs) {
-        for (size_t i = 0; i < req->nlevels; i++)
-            if (!isfinite(req->costs[i]))
+                       req->numerics.fine_cells, (size_t)QC_DMC_MAX_DIM);
+    if (req->input.costs) {
+        for (size_t i = 0; i < req->channel.nlevels; i++)
+            if (!isfinite(req->input.costs[i]))
                 return qc_fail(QC_EINVAL, "cost %zu is not a finite number", i + 1);
-        if (!isfinite(req->budget))
+        if (!isfinite(req->input.budget))
             return qc_fail(QC_EINVAL, "cost budget is not a finite number");
-        if (req->objective != QC_OBJECTIVE_CAPACITY)
+        if (req->input.objective != QC_OBJECTIVE_CAPACITY)
             return qc_fail(QC_EINVAL,
                            "a cost constraint needs the capacity objective (the MI "
                            "objective uses the given input law)");
     }
     if (fixed) {
-        if (!req->thresholds)
+        if (!req->quantizer.thresholds)
             return qc_fail(QC_EINVAL, "the fixed quantizer needs thresholds");
-        if (req->nthresholds != K - 1)
+        if (req->quantizer.nthresholds != K - 1)
             return qc_fail(QC_EINVAL,
                            "%zu cells need %zu thresholds, got %zu", K, K - 1,
-                           req->nthresholds);
-        st = qc_thresholds_check(req->model, req->thresholds, req->nthresholds);
+                           req->quantizer.nthresholds);
+        st = qc_thresholds_check(req->channel.model, req->quantizer.thresholds,
+                                 req->quantizer.nthresholds);
         if (st != QC_OK)
             return st;
     }
@@ -104,10 +106,11 @@ qc_status qc_design_check_request(const qc_design_request *req, int fixed,
 static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
 {
     const size_t nt = res->nthresholds;
-    const qc_threshold_strategy *s = qc_strategy_of(req->quantizer);
+    const qc_threshold_strategy *s = qc_strategy_of(req->quantizer.kind);
     qc_strategy_plan *plan;
-    qc_status st = qc_strategy_plan_alloc(req->model, res->levels, res->nlevels, nt,
-                                          req->thresholds, req->fine_cells, NULL, &plan);
+    qc_status st = qc_strategy_plan_alloc(req->channel.model, res->levels, res->nlevels, nt,
+                                          req->quantizer.thresholds, req->numerics.fine_cells,
+                                          NULL, &plan);
     if (st != QC_OK)
         return st;
     qc_strategy_plan_tidy(plan, QC_TIDY_NATS(res->tol_bits));
@@ -126,14 +129,14 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     if (st != QC_OK)
         return st;
     /* a reproducible placement among equally good thresholds (tidy.c) */
-    if (req->quantizer == QC_QUANTIZER_OPTIMAL &&
-        (st = qc_tidy_thresholds(req->model, res->levels, res->input, res->nlevels, nt,
+    if (req->quantizer.kind == QC_QUANTIZER_OPTIMAL &&
+        (st = qc_tidy_thresholds(req->channel.model, res->levels, res->input, res->nlevels, nt,
                                  QC_TIDY_NATS(res->tol_bits),
                                  res->thresholds)) != QC_OK)
         return st;
-    if (req->quantizer != QC_QUANTIZER_FIXED)
-        qc_snap_thresholds(req->model, res->levels, res->nlevels, nt, res->thresholds);
-    st = qc_discretize(req->model, res->levels, res->nlevels, res->thresholds, nt,
+    if (req->quantizer.kind != QC_QUANTIZER_FIXED)
+        qc_snap_thresholds(req->channel.model, res->levels, res->nlevels, nt, res->thresholds);
+    st = qc_discretize(req->channel.model, res->levels, res->nlevels, res->thresholds, nt,
                        &res->channel);
     if (st != QC_OK)
         return st;
@@ -152,21 +155,23 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
     qc_gsl_init();
     memset(res, 0, sizeof *res);
     size_t K;
-    qc_status st = qc_design_check_request(req, req && req->quantizer == QC_QUANTIZER_FIXED, &K);
+    qc_status st =
+        qc_design_check_request(req, req && req->quantizer.kind == QC_QUANTIZER_FIXED, &K);
     if (st != QC_OK)
         return st;
-    const size_t n = req->nlevels;
+    const size_t n = req->channel.nlevels;
     qc_design_result r = {0};
-    r.objective = req->objective;
-    r.quantizer = req->quantizer;
+    r.objective = req->input.objective;
+    r.quantizer = req->quantizer.kind;
     r.cells = K;
     /* count outputs: no more cells than counts that carry probability */
-    r.cells_used = req->quantizer == QC_QUANTIZER_FIXED
+    r.cells_used = req->quantizer.kind == QC_QUANTIZER_FIXED
                        ? K
-                       : qc_cells_usable(req->model, req->levels, n, K);
+                       : qc_cells_usable(req->channel.model, req->channel.levels, n, K);
     r.nthresholds = r.cells_used - 1;
     r.nlevels = n;
-    r.tol_bits = req->tol_bits > 0.0 ? req->tol_bits : QC_DESIGN_DEFAULT_TOL_BITS;
+    const double tol = req->numerics.tol_bits;
+    r.tol_bits = tol > 0.0 ? tol : QC_DESIGN_DEFAULT_TOL_BITS;
     r.mse = NAN;
     r.snr_db = NAN;
     r.snr_penalty_db = NAN;
@@ -177,16 +182,16 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto fail;
     }
-    memcpy(r.levels, req->levels, n * sizeof *r.levels);
+    memcpy(r.levels, req->channel.levels, n * sizeof *r.levels);
     for (size_t i = 0; i < n; i++)
-        r.input[i] = req->probabilities ? req->probabilities[i] : 1.0 / (double)n;
+        r.input[i] = req->input.probabilities ? req->input.probabilities[i] : 1.0 / (double)n;
 
-    if (req->objective == QC_OBJECTIVE_MI) {
+    if (req->input.objective == QC_OBJECTIVE_MI) {
         st = design_mi(req, &r);
     } else {
         /* the request's own per-level cost, or the constraints' costs */
-        qc_cost own = {req->costs, req->budget};
-        if (req->costs) {
+        qc_cost own = {req->input.costs, req->input.budget};
+        if (req->input.costs) {
             costs = &own;
             ncosts = 1;
         }
@@ -197,14 +202,14 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
 
     /* The unquantized reference for the same levels and final law. */
     double unq, unq_err;
-    st = qc_unquantized_mi_detail(req->model, r.levels, r.input, n, &unq, &unq_err,
+    st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, n, &unq, &unq_err,
                                   &r.noiseless_limit);
     if (st != QC_OK)
         goto fail;
     r.unquantized_bits = unq * QC_LOG2E;
     r.unquantized_err_bits = unq_err * QC_LOG2E;
     r.loss_bits = r.unquantized_bits - r.rate_bits;
-    r.snr_db = qc_model_snr_db(req->model, r.levels, r.input, n);
+    r.snr_db = qc_model_snr_db(req->channel.model, r.levels, r.input, n);
     /* the SNR penalty: qc_design_settle, once the rates are final */
     r.snr_penalty_note = QC_PENALTY_SKIPPED;
     *res = r;

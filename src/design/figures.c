@@ -18,12 +18,12 @@ qc_status qc_design_figures(const qc_design_request *req, qc_design_result *r)
     r->bits_per_photon = r->photons_per_bit = NAN;
     r->fec_margin = r->net_bits = r->net_rate_gbps = NAN;
     r->fec_given = r->fec_closes = 0;
-    if (req->polarizations > 2)
-        return qc_fail(QC_EINVAL, "polarizations must be 1 or 2 (got %u)", req->polarizations);
-    if (req->symbol_rate != 0.0 && !(req->symbol_rate > 0.0 && isfinite(req->symbol_rate)))
+    if (req->channel.polarizations > 2)
+        return qc_fail(QC_EINVAL, "polarizations must be 1 or 2 (got %u)", req->channel.polarizations);
+    if (req->channel.symbol_rate != 0.0 && !(req->channel.symbol_rate > 0.0 && isfinite(req->channel.symbol_rate)))
         return qc_fail(QC_EINVAL, "symbol-rate must be a positive number of baud (got %g)",
-                       req->symbol_rate);
-    r->polarizations = req->polarizations ? req->polarizations : d == 2 ? 2 : 1;
+                       req->channel.symbol_rate);
+    r->polarizations = req->channel.polarizations ? req->channel.polarizations : d == 2 ? 2 : 1;
     const double pol = (double)r->polarizations;
 
     size_t *labels = NULL;
@@ -48,29 +48,29 @@ qc_status qc_design_figures(const qc_design_request *req, qc_design_result *r)
     r->ngmi = nbits ? qc_ngmi(r->gmi_bits, r->entropy_bits, m) : NAN;
 
     r->spectral_efficiency = qc_spectral_efficiency(r->rate_bits, r->polarizations);
-    if (req->symbol_rate > 0.0) {
-        r->symbol_rate = req->symbol_rate;
-        r->rate_gbps = qc_rate_gbps(r->rate_bits, req->symbol_rate, r->polarizations);
+    if (req->channel.symbol_rate > 0.0) {
+        r->symbol_rate = req->channel.symbol_rate;
+        r->rate_gbps = qc_rate_gbps(r->rate_bits, req->channel.symbol_rate, r->polarizations);
     }
-    r->photons_per_symbol = qc_model_mean_photons(req->model, r->levels, r->input, r->nlevels);
+    r->photons_per_symbol = qc_model_mean_photons(req->channel.model, r->levels, r->input, r->nlevels);
     if (r->photons_per_symbol > 0.0) {
         r->bits_per_photon = r->rate_bits / r->photons_per_symbol;
         if (r->rate_bits > 0.0)
             r->photons_per_bit = r->photons_per_symbol / r->rate_bits;
     }
 
-    if (req->fec) {
+    if (req->input.fec) {
         qc_fec_outcome o;
-        if ((st = qc_fec_evaluate(req->fec, r->pre_fec_ber, r->ngmi, r->entropy_bits, m,
+        if ((st = qc_fec_evaluate(req->input.fec, r->pre_fec_ber, r->ngmi, r->entropy_bits, m,
                                   &o)) != QC_OK)
             return st;
         r->fec_given = 1;
-        r->fec = *req->fec;
+        r->fec = *req->input.fec;
         r->fec_closes = o.closes;
         r->fec_margin = o.margin;
         r->net_bits = o.net_bits * pol;
-        if (req->symbol_rate > 0.0)
-            r->net_rate_gbps = r->net_bits * req->symbol_rate * 1e-9;
+        if (req->channel.symbol_rate > 0.0)
+            r->net_rate_gbps = r->net_bits * req->channel.symbol_rate * 1e-9;
     }
     return QC_OK;
 }

@@ -29,48 +29,49 @@ typedef struct {
 static qc_design_request plain_request(const qc_design_request *req)
 {
     qc_design_request sub = *req;
-    sub.dimensions = 0;
-    sub.constraints = NULL;
-    sub.optimize_levels = 0;
-    sub.level_starts = 0;
-    sub.blocklength = 0;
-    sub.error_rate = 0.0;
-    if (sub.objective == QC_OBJECTIVE_GMI)
-        sub.objective = QC_OBJECTIVE_MI;
+    sub.channel.dimensions = 0;
+    sub.input.constraints = NULL;
+    sub.input.optimize_levels = 0;
+    sub.input.level_starts = 0;
+    sub.numerics.blocklength = 0;
+    sub.numerics.error_rate = 0.0;
+    if (sub.input.objective == QC_OBJECTIVE_GMI)
+        sub.input.objective = QC_OBJECTIVE_MI;
     return sub;
 }
 
 /* Check the alphabet fields of a request; the message names the field. */
 static qc_status check_alphabet_request(const qc_design_request *req, unsigned *dims)
 {
-    if (req->dimensions > 2)
+    if (req->channel.dimensions > 2)
         return qc_fail(QC_EINVAL, "dimensions must be 1 (real) or 2 (QAM), got %u",
-                       req->dimensions);
-    *dims = req->dimensions == 2 ? 2 : 1;
-    qc_status st = qc_constraints_validate(req->constraints, *dims);
+                       req->channel.dimensions);
+    *dims = req->channel.dimensions == 2 ? 2 : 1;
+    qc_status st = qc_constraints_validate(req->input.constraints, *dims);
     if (st != QC_OK)
         return st;
-    if (req->costs && qc_constraints_any(req->constraints))
+    if (req->input.costs && qc_constraints_any(req->input.constraints))
         return qc_fail(QC_EINVAL, "give per-level costs or input constraints (peak-limit, "
                                   "power-limit, mean-limit), not both");
-    if (req->blocklength > 0 && !(req->error_rate > 0.0 && req->error_rate < 1.0))
+    const double eps = req->numerics.error_rate;
+    if (req->numerics.blocklength > 0 && !(eps > 0.0 && eps < 1.0))
         return qc_fail(QC_EINVAL, "error-rate must lie strictly between 0 and 1 with a "
                                   "blocklength (got %g)",
-                       req->error_rate);
-    if (req->blocklength == 0 && req->error_rate != 0.0)
+                       req->numerics.error_rate);
+    if (req->numerics.blocklength == 0 && req->numerics.error_rate != 0.0)
         return qc_fail(QC_EINVAL, "error-rate needs a blocklength");
-    if (req->objective == QC_OBJECTIVE_GMI && !qc_is_power_of_two(req->nlevels))
+    if (req->input.objective == QC_OBJECTIVE_GMI && !qc_is_power_of_two(req->channel.nlevels))
         return qc_fail(QC_EINVAL,
                        "objective gmi: Gray labels need a power of 2 levels%s (got %zu)",
-                       *dims == 2 ? " per quadrature" : "", req->nlevels);
-    if (*dims == 2 && !qc_is_power_of_two(req->nlevels))
+                       *dims == 2 ? " per quadrature" : "", req->channel.nlevels);
+    if (*dims == 2 && !qc_is_power_of_two(req->channel.nlevels))
         return qc_fail(QC_EINVAL,
                        "QAM: the levels per quadrature must be a power of 2 (got %zu)",
-                       req->nlevels);
-    if (req->optimize_levels && req->quantizer == QC_QUANTIZER_FIXED)
+                       req->channel.nlevels);
+    if (req->input.optimize_levels && req->quantizer.kind == QC_QUANTIZER_FIXED)
         return qc_fail(QC_EINVAL, "optimize-levels re-designs the thresholds at each step; "
                                   "it cannot use the fixed quantizer");
-    if (req->optimize_levels && req->nlevels < 2)
+    if (req->input.optimize_levels && req->channel.nlevels < 2)
         return qc_fail(QC_EINVAL, "optimize-levels needs at least 2 levels");
     return QC_OK;
 }
@@ -114,8 +115,8 @@ static qc_status gmi_objective(const design_ctx *c, qc_design_result *r)
     double ug, uerr;
     st = qc_gray_labels(r->levels, r->nlevels, labels, &nbits);
     if (st == QC_OK)
-        st = qc_unquantized_gmi(c->req->model, r->levels, r->input, r->nlevels, labels, nbits,
-                                &ug, &uerr);
+        st = qc_unquantized_gmi(c->req->channel.model, r->levels, r->input, r->nlevels, labels,
+                                nbits, &ug, &uerr);
     free(labels);
     if (st != QC_OK)
         return st;
@@ -126,42 +127,42 @@ static qc_status gmi_objective(const design_ctx *c, qc_design_result *r)
     return QC_OK;
 }
 
-/* One complete design at levels x (c->req->nlevels of them). */
+/* One complete design at levels x (c->req->channel.nlevels of them). */
 static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
 {
     const design_ctx *c = ctx;
     const qc_design_request *req = c->req;
     qc_design_request sub = plain_request(req);
-    sub.levels = x;
-    sub.probabilities = c->law;
+    sub.channel.levels = x;
+    sub.input.probabilities = c->law;
     if (c->searching) {
-        sub.skip_snr_penalty = 1;
+        sub.numerics.skip_snr_penalty = 1;
         /* the search reports its designs, not the stages inside each */
-        sub.progress = NULL;
+        sub.numerics.progress = NULL;
         design_ctx *mc = ctx;
         qc_design_progress(req, ++mc->evals, c->evals_total + 1);
     } else if (c->evals_total) {
-        sub.progress = NULL; /* the final design after a search: one unit */
+        sub.numerics.progress = NULL; /* the final design after a search: one unit */
     }
     memset(res, 0, sizeof *res);
     qc_status st;
-    if (req->objective == QC_OBJECTIVE_CAPACITY) {
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY) {
         /* average constraints become costs of the law in the one
          * alternation of thresholds and law; a peak only trims levels */
         qc_cost costs[2];
-        size_t k = qc_constraint_costs(req->constraints, x, req->nlevels, c->dims,
+        size_t k = qc_constraint_costs(req->input.constraints, x, req->channel.nlevels, c->dims,
                                        c->power_cost, c->mean_cost, costs);
-        if (k > 0 && (st = qc_constraints_check(req->constraints, x, req->nlevels,
+        if (k > 0 && (st = qc_constraints_check(req->input.constraints, x, req->channel.nlevels,
                                                 c->dims)) != QC_OK)
             return st;
         return qc_design_thresholds(&sub, costs, k, res);
     }
-    if ((st = qc_constraints_check_law(req->constraints, x, c->law, req->nlevels,
+    if ((st = qc_constraints_check_law(req->input.constraints, x, c->law, req->channel.nlevels,
                                        c->dims)) != QC_OK)
         return st;
     if ((st = qc_design_thresholds(&sub, NULL, 0, res)) != QC_OK)
         return st;
-    if (req->objective == QC_OBJECTIVE_GMI && (st = gmi_objective(c, res)) != QC_OK) {
+    if (req->input.objective == QC_OBJECTIVE_GMI && (st = gmi_objective(c, res)) != QC_OK) {
         qc_design_result_clear(res);
         return st;
     }
@@ -205,14 +206,15 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
         r->unquantized_err_bits *= 2.0;
         r->loss_bits *= 2.0;
     }
-    r->blocklength = req->blocklength;
-    r->error_rate = req->blocklength ? req->error_rate : NAN;
+    r->blocklength = req->numerics.blocklength;
+    r->error_rate = req->numerics.blocklength ? req->numerics.error_rate : NAN;
     r->rate_at_blocklength_bits = NAN;
-    if (req->blocklength &&
-        (st = qc_normal_approximation(r->rate_bits, r->dispersion_bits2, req->blocklength,
-                                      req->error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
+    if (req->numerics.blocklength &&
+        (st = qc_normal_approximation(r->rate_bits, r->dispersion_bits2, req->numerics.blocklength,
+                                      req->numerics.error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
         return st;
-    r->shaping_gap_db = req->model->type->properties & QC_MODEL_ADDITIVE_GAUSSIAN
+    const unsigned props = qc_model_get_type(req->channel.model)->properties;
+    r->shaping_gap_db = props & QC_MODEL_ADDITIVE_GAUSSIAN
                             ? qc_shaping_gap_db(r->snr_db, r->rate_bits / d)
                             : NAN;
     return qc_design_figures(req, r);
@@ -234,13 +236,13 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
     memset(res, 0, sizeof *res);
     if (!req)
         return qc_fail(QC_EINVAL, "no design request given");
-    if (!req->levels || req->nlevels == 0)
+    if (!req->channel.levels || req->channel.nlevels == 0)
         return qc_fail(QC_EINVAL, "design: no input levels given");
     unsigned dims = 1;
     qc_status st = check_alphabet_request(req, &dims);
     if (st != QC_OK)
         return st;
-    const size_t n = req->nlevels;
+    const size_t n = req->channel.nlevels;
     design_ctx c = {.req = req, .dims = dims};
     double *x = qc_malloc_array(n, sizeof *x), *law = NULL;
     level_law *pairs = NULL;
@@ -251,10 +253,10 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    memcpy(x, req->levels, n * sizeof *x);
-    c.law = req->probabilities;
+    memcpy(x, req->channel.levels, n * sizeof *x);
+    c.law = req->input.probabilities;
     size_t evaluations = 0;
-    if (req->optimize_levels) {
+    if (req->input.optimize_levels) {
         /* the law follows its level through the sort */
         pairs = qc_malloc_array(n, sizeof *pairs);
         law = qc_malloc_array(n, sizeof *law);
@@ -263,17 +265,17 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
             goto done;
         }
         for (size_t i = 0; i < n; i++)
-            pairs[i] = (level_law){x[i], req->probabilities ? req->probabilities[i]
+            pairs[i] = (level_law){x[i], req->input.probabilities ? req->input.probabilities[i]
                                                             : 1.0 / (double)n};
         qsort(pairs, n, sizeof *pairs, by_level);
         for (size_t i = 0; i < n; i++) {
             x[i] = pairs[i].value;
             law[i] = pairs[i].prob;
         }
-        if (req->probabilities)
+        if (req->input.probabilities)
             c.law = law;
-        int designs_law = req->objective == QC_OBJECTIVE_CAPACITY;
-        if ((st = qc_level_set_init(&set, req->constraints, designs_law ? NULL : law, x, n,
+        int designs_law = req->input.objective == QC_OBJECTIVE_CAPACITY;
+        if ((st = qc_level_set_init(&set, req->input.constraints, designs_law ? NULL : law, x, n,
                                     dims)) != QC_OK)
             goto done;
         if (!set.bounded) {
@@ -281,7 +283,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
                                     "or 'power-limit' (or 'mean-limit' for intensity levels)");
             goto done;
         }
-        size_t starts = req->level_starts ? req->level_starts : DEFAULT_LEVEL_STARTS;
+        size_t starts = req->input.level_starts ? req->input.level_starts : DEFAULT_LEVEL_STARTS;
         if (starts > MAX_LEVEL_STARTS)
             starts = MAX_LEVEL_STARTS;
         c.evals_total = starts * qc_level_search_budget(n);
@@ -292,7 +294,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         if (st != QC_OK)
             goto done;
     } else {
-        if ((st = qc_constraints_check(req->constraints, x, n, dims)) != QC_OK)
+        if ((st = qc_constraints_check(req->input.constraints, x, n, dims)) != QC_OK)
             goto done;
     }
     if ((st = design_at(&c, x, res)) != QC_OK)
@@ -301,7 +303,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         qc_design_result_clear(res);
         goto done;
     }
-    res->levels_optimized = req->optimize_levels != 0;
+    res->levels_optimized = req->input.optimize_levels != 0;
     res->level_evaluations = evaluations;
     if (c.evals_total)
         qc_design_progress(req, c.evals_total + 1, c.evals_total + 1);

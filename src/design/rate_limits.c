@@ -89,9 +89,10 @@ static qc_penalty_note penalty(const qc_design_request *req, qc_design_result *r
     *st = QC_OK;
     if (r->objective == QC_OBJECTIVE_GMI)
         return QC_PENALTY_GMI;
-    if (req->skip_snr_penalty)
+    if (req->numerics.skip_snr_penalty)
         return QC_PENALTY_SKIPPED;
-    if (!req->model->type->snr || !req->model->type->scale_snr)
+    const qc_model_type *type = qc_model_get_type(req->channel.model);
+    if (!type->snr || !type->scale_snr)
         return QC_PENALTY_NO_SNR;
     if (!(r->rate_bits > 0.0))
         return QC_PENALTY_ZERO_RATE;
@@ -104,7 +105,7 @@ static qc_penalty_note penalty(const qc_design_request *req, qc_design_result *r
         return QC_PENALTY_SATURATED;
     if (r->unquantized_bits - r->rate_bits <= tol)
         return QC_PENALTY_NO_LOSS;
-    *st = qc_snr_penalty_db(req->model, r->levels, r->input, r->nlevels, r->rate_bits,
+    *st = qc_snr_penalty_db(req->channel.model, r->levels, r->input, r->nlevels, r->rate_bits,
                             &r->snr_penalty_db);
     if (*st != QC_OK)
         return QC_PENALTY_DEFINED;

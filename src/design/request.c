@@ -42,9 +42,9 @@ qc_status qc_cells_from_bits(int bits, size_t *cells)
 void qc_design_request_default(qc_design_request *req)
 {
     memset(req, 0, sizeof *req);
-    req->objective = QC_OBJECTIVE_MI;
-    req->quantizer = QC_QUANTIZER_OPTIMAL;
-    req->tol_bits = QC_DESIGN_DEFAULT_TOL_BITS;
+    req->input.objective = QC_OBJECTIVE_MI;
+    req->quantizer.kind = QC_QUANTIZER_OPTIMAL;
+    req->numerics.tol_bits = QC_DESIGN_DEFAULT_TOL_BITS;
 }
 
 void qc_design_result_clear(qc_design_result *res)
@@ -63,8 +63,8 @@ void qc_design_result_clear(qc_design_result *res)
 
 void qc_design_progress(const qc_design_request *req, size_t done, size_t total)
 {
-    if (req && req->progress && total > 0)
-        req->progress(req->progress_user, done < total ? done : total, total);
+    if (req && req->numerics.progress && total > 0)
+        req->numerics.progress(req->numerics.progress_user, done < total ? done : total, total);
 }
 
 static const char *unit_or_empty(const char *u) { return u ? u : ""; }
@@ -73,27 +73,29 @@ const char *qc_design_level_unit(const qc_design_request *req)
 {
     if (!req)
         return "";
-    if (req->level_unit)
-        return req->level_unit;
-    return req->model ? unit_or_empty(req->model->type->level_unit) : "";
+    if (req->channel.level_unit)
+        return req->channel.level_unit;
+    const qc_model *m = req->channel.model;
+    return m ? unit_or_empty(qc_model_get_type(m)->level_unit) : "";
 }
 
 const char *qc_design_output_unit(const qc_design_request *req)
 {
     if (!req)
         return "";
-    if (req->output_unit)
-        return req->output_unit;
-    return req->model ? unit_or_empty(req->model->type->output_unit) : "";
+    if (req->channel.output_unit)
+        return req->channel.output_unit;
+    const qc_model *m = req->channel.model;
+    return m ? unit_or_empty(qc_model_get_type(m)->output_unit) : "";
 }
 
 const char *qc_design_snr_definition(const qc_design_request *req)
 {
-    if (!req || !req->model || !req->model->type->snr)
+    if (!req || !req->channel.model || !qc_model_get_type(req->channel.model)->snr)
         return NULL;
-    if (req->dimensions == 2 && req->model->type == &qc_model_gauss)
+    if (req->channel.dimensions == 2 && qc_model_get_type(req->channel.model) == &qc_model_gauss)
         return "Es/N0 = E|x|^2/(2 sigma^2) (symbol energy over the noise density; sigma^2 "
                "per quadrature)";
-    return req->model->type->snr_definition;
+    return qc_model_get_type(req->channel.model)->snr_definition;
 }
 

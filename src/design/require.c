@@ -112,11 +112,11 @@ static qc_status unquantized_hard(const qc_model *m, const double *levels, const
     double lo = INFINITY, hi = -INFINITY;
     for (size_t i = 0; i < n; i++) {
         double a, b;
-        m->type->support(m, levels[i], &a, &b);
+        qc_model_get_type(m)->support(m, levels[i], &a, &b);
         lo = fmin(lo, a);
         hi = fmax(hi, b);
     }
-    int counts = m->type->output == QC_OUTPUT_COUNTS;
+    int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
     if (counts)
         lo = fmax(lo, 0.0);
     double *t = qc_malloc_array(FINE_CELLS, sizeof *t);
@@ -150,17 +150,17 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
                                     qc_target_kind kind, size_t *designs, double *fig)
 {
     *fig = NAN;
-    const double d = req->dimensions == 2 ? 2.0 : 1.0;
+    const double d = req->channel.dimensions == 2 ? 2.0 : 1.0;
     qc_design_result r = {0};
-    const double *levels = req->levels, *law = req->probabilities;
-    size_t n = req->nlevels;
+    const double *levels = req->channel.levels, *law = req->input.probabilities;
+    size_t n = req->channel.nlevels;
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
-    if (req->objective == QC_OBJECTIVE_CAPACITY || req->optimize_levels) {
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels) {
         qc_design_request sub = *req;
-        sub.skip_snr_penalty = 1;
-        sub.fec = NULL;
+        sub.numerics.skip_snr_penalty = 1;
+        sub.input.fec = NULL;
         if ((st = qc_design(&sub, &r)) != QC_OK)
             return st;
         ++*designs;
@@ -182,7 +182,7 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     }
     double v, err;
     unsigned nbits = 0;
-    if (kind == QC_TARGET_RATE && req->objective == QC_OBJECTIVE_MI) {
+    if (kind == QC_TARGET_RATE && req->input.objective == QC_OBJECTIVE_MI) {
         if ((st = qc_unquantized_mi(m, levels, law, n, &v, &err)) == QC_OK)
             *fig = d * v * QC_LOG2E;
         goto done;
@@ -242,8 +242,8 @@ static double evaluate(search *s, double u)
         st = unquantized_figure(m, &req, rq->target.kind, &s->designs, &f);
     } else if (st == QC_OK) {
         qc_design_result r;
-        req.skip_snr_penalty = 1;
-        req.fec = NULL;
+        req.numerics.skip_snr_penalty = 1;
+        req.input.fec = NULL;
         st = qc_design(&req, &r);
         if (st == QC_OK) {
             s->designs++;

@@ -22,10 +22,10 @@
 double qc_model_snr_db(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels)
 {
-    if (!model || !model->type->snr || !levels || !input)
+    if (!model || !qc_model_get_type(model)->snr || !levels || !input)
         return NAN;
-    double s = model->type->snr(model, levels, input, nlevels);
-    if (s == INFINITY && model->type->scale_snr) {
+    double s = qc_model_get_type(model)->snr(model, levels, input, nlevels);
+    if (s == INFINITY && qc_model_get_type(model)->scale_snr) {
         /* nearly noiseless (σ² underflows): the SNR of the model scaled
          * down by a known number of dB, plus those dB */
         double offset = 0.0;
@@ -38,7 +38,7 @@ double qc_model_snr_db(const qc_model *model, const double *levels,
             qc_model_free(m);
             m = next;
             offset += SNR_RESCALE_DB;
-            s = m->type->snr(m, levels, input, nlevels);
+            s = qc_model_get_type(m)->snr(m, levels, input, nlevels);
         }
         qc_model_free(m);
         if (!(s > 0.0) || !isfinite(s))
@@ -53,19 +53,21 @@ double qc_model_snr_db(const qc_model *model, const double *levels,
 qc_status qc_model_scale_snr(const qc_model *model, double gain, qc_model **out)
 {
     *out = NULL;
-    if (!model || !model->type->scale_snr)
+    const qc_model_type *type = model ? qc_model_get_type(model) : NULL;
+    if (!type || !type->scale_snr)
         return qc_fail(QC_EINVAL, "model '%s' defines no SNR to scale",
-                       model ? model->type->name : "(none)");
+                       type ? type->name : "(none)");
     if (!(gain > 0.0) || !isfinite(gain))
         return qc_fail(QC_EINVAL, "SNR gain must be a positive number (got %g)",
                        gain);
-    double params[QC_MODEL_MAX_PARAMS];
-    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
-        params[i] = model->params[i];
-    qc_status st = model->type->scale_snr(model, gain, params);
+    double params[QC_MODEL_MAX_PARAMS] = {0};
+    const double *own = qc_model_params(model);
+    for (size_t i = 0; i < type->nparams; i++)
+        params[i] = own[i];
+    qc_status st = type->scale_snr(model, gain, params);
     if (st != QC_OK)
         return st;
-    return qc_model_alloc(model->type, params, out);
+    return qc_model_alloc(type, params, out);
 }
 
 typedef struct {
@@ -104,7 +106,7 @@ qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
     qc_gsl_init();
     *penalty_db = NAN;
     double snr0 = qc_model_snr_db(model, levels, input, nlevels);
-    if (isnan(snr0) || !model->type->scale_snr || !(rate_bits > 0.0))
+    if (isnan(snr0) || !qc_model_get_type(model)->scale_snr || !(rate_bits > 0.0))
         return QC_OK;
     curve c = {model, levels, input, nlevels, rate_bits / QC_LOG2E, NAN, QC_OK};
     double mi0, err0;

@@ -37,7 +37,7 @@
  * lattice regime with σ_th < h a ripple of relative size
  * ~exp(−2π²σ_th²/h²). Tails below ~1e-13 are not resolved. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 #include "models/apd_gain.h"
 #include "models/convolve.h"
 

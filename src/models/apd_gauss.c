@@ -6,7 +6,7 @@
  * `apd`, for comparison with the exact law. Also holds the parameter
  * table and helpers shared with apd.c. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 #include "models/apd_gain.h"
 
 #include <math.h>

@@ -4,7 +4,7 @@
  * error function (GSL gsl_cdf_gaussian_P/Q), so cells 80 dB into the
  * tail keep their relative accuracy. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 
 #include <math.h>
 

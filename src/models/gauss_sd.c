@@ -6,7 +6,7 @@
  * Fiber-Optic Communication Systems, ch. 4). Tails use GSL's
  * gsl_cdf_gaussian_P/Q, accurate far into both tails. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 
 #include <math.h>
 

@@ -2,7 +2,7 @@
  * parameter checking and model instances. Each model lives in its own
  * file as a const qc_model_type table (the GSL "_type" pattern). */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -102,6 +102,15 @@ void qc_model_free(qc_model *model)
         model->type->destroy(model->state);
     free(model);
 }
+
+const qc_model_type *qc_model_get_type(const qc_model *model) { return model->type; }
+
+double qc_model_param(const qc_model *model, size_t i)
+{
+    return i < model->type->nparams ? model->params[i] : NAN;
+}
+
+const double *qc_model_params(const qc_model *model) { return model->params; }
 
 qc_status qc_model_check_levels(const qc_model *model, const double *levels,
                                 size_t nlevels)

@@ -5,7 +5,7 @@
  * incomplete gamma functions (Abramowitz & Stegun 6.5.13; GSL
  * gsl_sf_gamma_inc_Q_e / _P_e), each accurate in its own tail. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 
 #include <math.h>
 

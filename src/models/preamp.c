@@ -26,7 +26,7 @@
  * m = x = 1e6, ~1e-13 for x ≤ 1e3. The density: Bessel form for m < 51,
  * else the gamma mixture summed from its largest term (below). */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 #include "models/incgamma.h"
 
 #include <math.h>

@@ -6,7 +6,7 @@
  * for P(Y < t) and from the right for P(Y ≥ t) so that both tails keep
  * their relative accuracy. */
 #include "core/internal.h"
-#include "quantcap/model.h"
+#include "models/model_internal.h"
 
 #include <errno.h>
 #include <math.h>

@@ -34,17 +34,21 @@ typedef struct {
 
 /* "pam:M", "upam:M" (2 ≤ M ≤ QC_ALPHABET_MAX) or "qam:M" (M a perfect
  * square and a power of 2, 4 ≤ M). The message names the spec and says
- * what is wrong. */
+ * what is wrong (QC_EINVAL); QC_ENOMEM. On failure *out is NULL. Free
+ * with qc_alphabet_free. */
 QC_API qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out);
 
 /* Explicit levels (finite, distinct, 1 ≤ n ≤ QC_ALPHABET_MAX), kept in
- * the order given. */
+ * the order given (copied). QC_EINVAL naming the level or the count,
+ * QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_alphabet_from_levels(const double *levels, size_t n,
                                   qc_alphabet **out);
 
 /* n ≥ 2 equally spaced candidate levels lo, …, hi (lo < hi, both finite):
- * the support of a free-form input law. */
+ * the support of a free-form input law. QC_EINVAL naming the bound or
+ * count at fault, QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_alphabet_grid(double lo, double hi, size_t n, qc_alphabet **out);
+/* Release an alphabet and its levels; NULL does nothing. */
 QC_API void qc_alphabet_free(qc_alphabet *a);
 
 /* Input constraints. NaN in a field means "no such constraint".
@@ -57,47 +61,55 @@ typedef struct qc_constraints {
     int intensity; /* levels are intensities: x ≥ 0 is required as well      */
 } qc_constraints;
 
-/* All fields NaN, intensity 0. */
+/* All fields NaN, intensity 0. Never fails. */
 QC_API void qc_constraints_none(qc_constraints *c);
 
 /* Apply a peak constraint to an alphabet: a grid loses the candidates
  * outside [−peak, peak] ([0, peak] for intensity); any other alphabet
  * with a level outside is QC_EINVAL naming 'peak-limit' and the level; a grid
- * left with fewer than 2 levels is QC_EINFEASIBLE. NaN peak: no change. */
+ * left with fewer than 2 levels is QC_EINFEASIBLE; a peak that is not a
+ * positive number is QC_EINVAL. NaN peak: no change. On failure the
+ * alphabet is unchanged. */
 QC_API qc_status qc_alphabet_apply_peak(qc_alphabet *a, double peak, int intensity);
 
 /* Check that some input law on `levels` (per real dimension; dimensions
  * 2 for QAM) meets the constraints: every level within the peak, power ≥
  * the smallest E[x²] of any level (QAM: 2·min x²), mean ≥ the smallest
  * level, and a law meeting power and mean together. QC_EINFEASIBLE (or
- * QC_EINVAL for a malformed constraint) naming the key. */
+ * QC_EINVAL for a malformed constraint) naming the key. Reads only. */
 QC_API qc_status qc_constraints_check(const qc_constraints *c, const double *levels,
                                size_t nlevels, unsigned dimensions);
 
-/* Binary-reflected Gray code of i: i XOR (i >> 1) (Gray 1953). */
+/* Binary-reflected Gray code of i: i XOR (i >> 1) (Gray 1953). Never
+ * fails. */
 QC_API size_t qc_gray_code(size_t i);
 
 /* Labels of n levels: labels[i] = Gray code of the rank of levels[i] in
  * ascending order, so neighbouring levels differ in one bit. *nbits =
- * log2 n. QC_EINVAL naming n unless n is a power of 2 (n ≥ 2). */
+ * log2 n. QC_EINVAL naming n unless n is a power of 2 (n ≥ 2); QC_ENOMEM.
+ * On failure labels and *nbits are unchanged. */
 QC_API qc_status qc_gray_labels(const double *levels, size_t n, size_t *labels,
                          unsigned *nbits);
 
-/* n ≥ 2 and a power of 2. */
+/* 1 when n ≥ 2 and a power of 2, else 0. Never fails. */
 QC_API int qc_is_power_of_two(size_t n);
-/* Any constraint set (c may be NULL)? */
+/* 1 when c sets any constraint, else 0 (also for c NULL). Never fails. */
 QC_API int qc_constraints_any(const qc_constraints *c);
 /* Values in their domains (peak, power > 0; mean finite; no mean with
- * QAM); the message names the key. c may be NULL. */
+ * QAM); QC_EINVAL with a message naming the key. c may be NULL (no
+ * constraints: QC_OK). Reads only. */
 QC_API qc_status qc_constraints_validate(const qc_constraints *c, unsigned dimensions);
-/* Does the law (NULL: uniform) meet the average constraints? */
+/* Does the law (NULL: uniform) meet the average constraints? QC_OK when
+ * it does, else QC_EINFEASIBLE naming the constraint and the law's value.
+ * Reads only. */
 QC_API qc_status qc_constraints_check_law(const qc_constraints *c, const double *levels,
                                    const double *law, size_t nlevels,
                                    unsigned dimensions);
 /* Per-level costs of the average constraints (power first, then mean)
  * into the caller's arrays (nlevels each) and the qc_cost list; returns
  * how many (0, 1 or 2). QAM: the per-quadrature power budget is half the
- * symbol's. */
+ * symbol's. Never fails (0 when c is NULL or sets no average
+ * constraint); entries past the count returned are left as they were. */
 QC_API size_t qc_constraint_costs(const qc_constraints *c, const double *levels,
                            size_t nlevels, unsigned dimensions, double *power_cost,
                            double *mean_cost, qc_cost costs[2]);

@@ -26,15 +26,18 @@ typedef struct qc_atomic_file qc_atomic_file;
  * and nothing is left on disk. */
 QC_API qc_status qc_atomic_file_open(const char *path, qc_atomic_file **out);
 
-/* The stream to write to (owned by the file object; do not fclose it). */
+/* The stream to write to (owned by the file object; do not fclose it).
+ * NULL after qc_atomic_file_temp_path closed it. A write error on it
+ * is reported by qc_atomic_file_commit. */
 QC_API FILE *qc_atomic_file_stream(qc_atomic_file *f);
 
 /* The temporary file's name, for writers that open files by name (PLplot):
  * the stream is closed first, and the writer must have finished with the
- * name before qc_atomic_file_commit. */
+ * name before qc_atomic_file_commit. NULL when f is NULL; a failure to
+ * close the stream is remembered and makes the commit fail. */
 QC_API const char *qc_atomic_file_temp_path(qc_atomic_file *f);
 
-/* The final path given to qc_atomic_file_open. */
+/* The final path given to qc_atomic_file_open; NULL when f is NULL. */
 QC_API const char *qc_atomic_file_path(const qc_atomic_file *f);
 
 /* Flush, sync and close the temporary file and rename it to the final
@@ -48,7 +51,9 @@ QC_API qc_status qc_atomic_file_commit(qc_atomic_file *f);
  * frees f. NULL does nothing. */
 QC_API void qc_atomic_file_discard(qc_atomic_file *f);
 
-/* Write `len` bytes to `path` atomically (open, write, commit). */
+/* Write `len` bytes to `path` atomically (open, write, commit). QC_EIO
+ * naming the path, QC_ENOMEM; on failure the final path is left as it
+ * was and no temporary file remains. */
 QC_API qc_status qc_write_file_atomic(const char *path, const char *text, size_t len);
 
 #ifdef __cplusplus

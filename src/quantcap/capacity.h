@@ -27,6 +27,8 @@ typedef struct {
     double budget;         /* average cost allowed, used when costs != NULL */
 } qc_ba_options;
 
+/* Fill opt with the defaults noted above (no start law, no costs).
+ * Overwrites every field; never fails. */
 QC_API void qc_ba_options_default(qc_ba_options *opt);
 
 typedef struct {
@@ -41,14 +43,21 @@ typedef struct {
 
 /* Scratch memory for channels up to nx × ny, reusable across runs. */
 typedef struct qc_ba_workspace qc_ba_workspace;
+/* QC_EINVAL when nx or ny is 0 or above QC_DMC_MAX_DIM, QC_ENOMEM; on
+ * failure *out is NULL. */
 QC_API qc_status qc_ba_workspace_alloc(size_t nx, size_t ny, qc_ba_workspace **out);
+/* Release a workspace; NULL does nothing. */
 QC_API void qc_ba_workspace_free(qc_ba_workspace *ws);
 
 /* Capacity (or capacity–cost) of `dmc`. `ws` may be NULL (allocated
  * internally). `input_out` (length nx, may be NULL) receives the final
  * input law. QC_ENOCONV when the iteration limit is hit; the result then
- * still holds the bounds reached. QC_EINFEASIBLE when the budget is below
- * the cheapest input's cost.
+ * still holds the bounds reached (and input_out the law reached).
+ * QC_EINFEASIBLE when the budget is below the cheapest input's cost;
+ * QC_EINVAL naming the bad row, option or cost; QC_ENUMERIC; QC_ENOMEM.
+ * On any other failure input_out is unchanged and the result holds no
+ * bound to use (its fields are unspecified). The channel is never
+ * modified.
  * Details: rows are used renormalized to sum to exactly 1; capacity_bits
  * is I(X;Y) of the returned law (which meets the budget); the upper
  * bound is max_x D(P(·|x) ‖ q) − s·(c_x − budget) at some output law q
@@ -84,7 +93,10 @@ typedef struct {
 /* `opt` gives tolerance, method, iteration limit and start (its costs are
  * ignored; NULL: defaults); ncosts 0, 1 or 2. QC_EINFEASIBLE naming the
  * cost (1 or 2) when no law meets the budgets; QC_ENOCONV when the gap
- * stays above the tolerance (the result then holds the bounds reached). */
+ * stays above the tolerance (the result then holds the bounds reached,
+ * input_out the law). QC_EINVAL naming the bad cost, budget or row,
+ * QC_ENOMEM, or what the engine returns; on those failures input_out is
+ * unchanged and the result's fields are unspecified. */
 QC_API qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt,
                             const qc_cost *costs, size_t ncosts,
                             qc_ba_workspace *ws, qc_costs_result *res,
@@ -97,7 +109,8 @@ QC_API qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt,
 /* Is there a law with Σ r a ≤ 0 and Σ r b ≤ 0 over n points? Some point
  * or some mixture of two meets both (Carathéodory's theorem in the
  * plane): on success *wi, *wj and *lambda give the law λ·δ_i + (1−λ)·δ_j
- * (i = j for a single point). */
+ * (i = j for a single point). Returns 0 when no law does (the outputs
+ * are then unchanged); never fails otherwise. */
 QC_API int qc_two_cost_witness(const double *a, const double *b, size_t n, size_t *wi, size_t *wj,
                         double *lambda);
 

@@ -38,7 +38,7 @@ typedef enum {
 } qc_rate_limit;
 
 /* "log2 levels", "input entropy", "log2 cells", "quantized rate"; NULL
- * for QC_LIMIT_NONE and values out of range. */
+ * for QC_LIMIT_NONE and values out of range (no message). */
 QC_API const char *qc_rate_limit_name(qc_rate_limit limit);
 
 /* Why the SNR penalty is undefined (NaN). */
@@ -61,41 +61,85 @@ typedef enum {
 } qc_penalty_note;
 
 /* A phrase saying why (e.g. "rate saturated at its ceiling"); NULL for
- * QC_PENALTY_DEFINED and values out of range. */
+ * QC_PENALTY_DEFINED and values out of range (no message). */
 QC_API const char *qc_penalty_note_text(qc_penalty_note note);
 
-/* Names used on the command line: "mi", "capacity", "gmi"; "uniform", "fixed",
- * "lloyd-max", "optimal". NULL for values out of range. */
-
 /* Names used on the command line: "mi", "capacity", "gmi"; NULL for values
- * out of range. The quantizers' names come with the strategy table
- * (quantcap/quantizer.h). */
+ * out of range (no message). The quantizers' names come with the strategy
+ * table (quantcap/quantizer.h). */
 QC_API const char *qc_objective_name(qc_objective objective);
 
-/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. On
+ * failure *out is unchanged. */
 QC_API qc_status qc_objective_parse(const char *name, qc_objective *out);
 
+/* A design request in four parts: the channel (what is sent and how the
+ * receiver sees it), the quantizer (how its output is cut into cells),
+ * the input (what is maximized and under which law and constraints) and
+ * the numerics (tolerances, grids, finite blocklength, progress). Start
+ * from qc_design_request_default and set what you need, e.g.
+ * req.channel.model, req.channel.levels, req.quantizer.cells. */
+
+/* The channel. */
 typedef struct {
-    /* The channel. */
     const qc_model *model;       /* noise model (required)                   */
     const double *levels;        /* nlevels input levels (required)          */
     size_t nlevels;
-    /* MI objective: the input law (NULL: uniform). Capacity objective:
-     * the engine's starting law (NULL: uniform). Must sum to 1. */
-    const double *probabilities;
-    /* The quantizer. */
+    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
+                                    levels used on each quadrature with the
+                                    same thresholds; rates per complex
+                                    symbol (input.costs/budget then apply to
+                                    one quadrature, input.constraints to the
+                                    symbol; src/alphabet, docs/alphabets.md) */
+    /* Units of the levels and of the receiver output for reports (NULL:
+     * the model type's level_unit / output_unit), e.g. "A" when the
+     * levels are photocurrents from the physical front end. */
+    const char *level_unit;
+    const char *output_unit;
+    /* The link's signalling, for the figures in the trade's units
+     * (src/design/figures.c); zero = off. */
+    double symbol_rate;          /* baud (> 0): rates in Gb/s; 0: none      */
+    unsigned polarizations;      /* 1 or 2; 0: 2 for QAM (dual-polarization
+                                    coherent), 1 for real alphabets (the
+                                    settings give 2 with osnr-db, as the
+                                    OSNR conversion assumes)               */
+} qc_design_channel;
+
+/* The quantizer. */
+typedef struct {
+    qc_quantizer_kind kind;      /* threshold strategy (default optimal)     */
     size_t cells;                /* K output cells, 2..2^QC_MAX_BITS; 0 with
                                     QC_QUANTIZER_FIXED: nthresholds + 1.
                                     Count outputs use at most one cell per
                                     count that carries probability (the
                                     result's cells_used)                    */
-    qc_objective objective;
-    qc_quantizer_kind quantizer;
     const double *thresholds;    /* QC_QUANTIZER_FIXED: K − 1 thresholds,
                                     strictly increasing (integers ≥ 1 for
                                     count outputs); ignored otherwise      */
     size_t nthresholds;          /* their number; must equal K − 1         */
-    /* Numerics. */
+} qc_design_quantizer;
+
+/* The input: the objective, the input law and what constrains it. */
+typedef struct {
+    qc_objective objective;
+    /* MI objective: the input law (NULL: uniform). Capacity objective:
+     * the engine's starting law (NULL: uniform). Must sum to 1. */
+    const double *probabilities;
+    /* Capacity objective only: an average-cost constraint for the engine. */
+    const double *costs;         /* per-level cost (NULL: no constraint)    */
+    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
+    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
+                                    none (not together with costs)          */
+    int optimize_levels;         /* 1: move the levels to maximize the
+                                    objective (Nelder–Mead, several starts,
+                                    thresholds re-designed at each step)   */
+    size_t level_starts;         /* starts of that search; 0: 3             */
+    const qc_fec *fec;           /* a code to close the link with (figures:
+                                    closes, margin, net rate); NULL: none  */
+} qc_design_input;
+
+/* The numerics. */
+typedef struct {
     double tol_bits;             /* engine gap and joint-design tolerance;
                                     0: 1e-9                                 */
     size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: fine-grid cells N
@@ -104,25 +148,8 @@ typedef struct {
                                     that K·N ≤ 2^22, never below K). Count
                                     outputs use every count of the support
                                     when it has at most max(N, 65536)      */
-    /* Capacity objective only: an average-cost constraint for the engine. */
-    const double *costs;         /* per-level cost (NULL: no constraint)    */
-    double budget;               /* Σ r(x)·costs[x] ≤ budget               */
     int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the
                                     root search on the unquantized curve)   */
-    /* Alphabet and input design (src/alphabet, docs/alphabets.md); all
-     * zero = off. */
-    unsigned dimensions;         /* 0 or 1: real levels; 2: square QAM, the
-                                    levels used on each quadrature with the
-                                    same thresholds; rates per complex
-                                    symbol (`costs`/`budget` then apply to
-                                    one quadrature, `constraints` to the
-                                    symbol)                                 */
-    const struct qc_constraints *constraints; /* peak, power, mean; NULL:
-                                    none (not together with costs)          */
-    int optimize_levels;         /* 1: move the levels to maximize the
-                                    objective (Nelder–Mead, several starts,
-                                    thresholds re-designed at each step)   */
-    size_t level_starts;         /* starts of that search; 0: 3             */
     size_t blocklength;          /* n > 0: normal approximation at n        */
     double error_rate;           /* block error probability ε in (0, 1),
                                     required with blocklength               */
@@ -135,22 +162,18 @@ typedef struct {
      * search (its designs); other designs are quick and report nothing. */
     void (*progress)(void *user, size_t done, size_t total);
     void *progress_user;
-    /* Units of the levels and of the receiver output for reports (NULL:
-     * the model type's level_unit / output_unit), e.g. "A" when the
-     * levels are photocurrents from the physical front end. */
-    const char *level_unit;
-    const char *output_unit;
-    /* Figures in the trade's units (src/design/figures.c); zero = off. */
-    double symbol_rate;          /* baud (> 0): rates in Gb/s; 0: none      */
-    unsigned polarizations;      /* 1 or 2; 0: 2 for QAM (dual-polarization
-                                    coherent), 1 for real alphabets (the
-                                    settings give 2 with osnr-db, as the
-                                    OSNR conversion assumes)               */
-    const qc_fec *fec;           /* a code to close the link with; NULL    */
+} qc_design_numerics;
+
+typedef struct {
+    qc_design_channel channel;
+    qc_design_quantizer quantizer;
+    qc_design_input input;
+    qc_design_numerics numerics;
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
- * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid. */
+ * quantizer, cells 0 (must be set), tol 1e-9, automatic fine grid; every
+ * other field zero or NULL. Overwrites the whole request; never fails. */
 QC_API void qc_design_request_default(qc_design_request *req);
 
 typedef struct {
@@ -255,10 +278,15 @@ typedef struct {
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
  * (cells outside 2..2^16, fine grid smaller than K, unsorted, repeated or
  * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
- * naming the field. On failure the result is left empty (safe to clear). */
+ * naming the field; a constraint no law can meet is QC_EINFEASIBLE, an
+ * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
+ * QC_ENOMEM as they come. The request and what it points to are never
+ * modified. On failure the result is left empty (zeroed: safe to clear,
+ * nothing to free). */
 QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 
-/* Release what a result owns and zero it; safe on a zeroed result. */
+/* Release what a result owns and zero it; safe on a zeroed result. NULL
+ * does nothing. */
 QC_API void qc_design_result_clear(qc_design_result *res);
 
 /* All strategies on the same channel (`design --compare`): uniform,
@@ -273,22 +301,24 @@ typedef struct {
 } qc_design_comparison;
 
 /* The units a report gives the levels and the thresholds of a request:
- * the request's own, else its model type's, else "" (never NULL). */
+ * the request's own, else its model type's, else "" (never NULL, also
+ * for a NULL request or one without a model). Never fail. */
 QC_API const char *qc_design_level_unit(const qc_design_request *req);
 QC_API const char *qc_design_output_unit(const qc_design_request *req);
 
 /* What the reported snr_db of a request means, in words (the model
  * type's snr_definition; for QAM on model gauss, Es/N0), or NULL when the
- * model defines no SNR. */
+ * model defines no SNR (or req or its model is NULL). Never fails. */
 QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
- * (req->quantizer is ignored). An invalid request fails at once with
+ * (req->quantizer.kind is ignored). An invalid request fails at once with
  * nothing filled; otherwise every entry is filled and the return value is
  * QC_OK, or the first failing strategy's status. Clear with
  * qc_design_comparison_clear (safe on a zeroed comparison). */
 QC_API qc_status qc_design_compare(const qc_design_request *req,
                             qc_design_comparison *cmp);
+/* Release every result of a comparison and zero it; NULL does nothing. */
 QC_API void qc_design_comparison_clear(qc_design_comparison *cmp);
 
 /* ---- the inverse question: what a target requires (require.c) ------- */
@@ -374,13 +404,16 @@ QC_API double qc_design_figure(const qc_design_result *res, qc_target_kind kind)
 /* ---- SNR of a model ------------------------------------------------- */
 
 /* Operating SNR in dB by the model's notion (qc_model_type.snr); NaN
- * when the model defines none or the SNR is not positive. */
+ * when the model defines none, an argument is NULL or the SNR is not
+ * positive. Sets no message. */
 QC_API double qc_model_snr_db(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels);
 
 /* A new model of the same type whose SNR is `gain` times this one's
  * (qc_model_type.scale_snr). QC_EINVAL if the type has no SNR notion or
- * gain is not a positive finite number. */
+ * gain is not a positive finite number, or naming the parameter that the
+ * scaling would push out of its range; QC_ENOMEM. On failure *out is
+ * NULL; `model` is never modified. */
 QC_API qc_status qc_model_scale_snr(const qc_model *model, double gain,
                              qc_model **out);
 
@@ -389,7 +422,9 @@ QC_API qc_status qc_model_scale_snr(const qc_model *model, double gain,
  * (Brent root finding on the unquantized curve, scaling the noise with
  * scale_snr). 0 when rate_bits is within the quadrature error of the
  * unquantized rate; *penalty_db is NaN (status QC_OK) when the model
- * defines no SNR or rate_bits ≤ 0. */
+ * defines no SNR, rate_bits ≤ 0, or the unquantized rate never falls to
+ * rate_bits in the searched range. QC_EINVAL, QC_ENUMERIC or QC_ENOMEM
+ * when the unquantized rate cannot be computed; *penalty_db is then NaN. */
 QC_API qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels,
                             double rate_bits, double *penalty_db);

@@ -32,11 +32,16 @@ typedef struct {
 
 #define QC_MODEL_MAX_PARAMS 8
 
+/* A noise model instance: the conditional law of the receiver output
+ * given the transmitted level x. Cells are half-open: a threshold t
+ * separates {y < t} from {y ≥ t}; for counts, thresholds are integers.
+ * Opaque: made only by qc_model_alloc (or qc_model_table_load), so its
+ * parameters are always checked; read with qc_model_get_type,
+ * qc_model_param and qc_model_params. Models with a state (apd caches
+ * per-level grids, table holds its data) are used by one thread at a
+ * time: a sweep creates one instance per thread. */
 typedef struct qc_model qc_model;
 
-/* A noise model: the conditional law of the receiver output given the
- * transmitted level x. Cells are half-open: a threshold t separates
- * {y < t} from {y ≥ t}; for counts, thresholds are integers. */
 /* Properties a model type declares, so that no other code compares
  * against a particular model (qc_model_type.properties, OR-ed). */
 enum {
@@ -123,16 +128,6 @@ typedef struct qc_model_type {
     double (*photons)(const qc_model *m, double x);
 } qc_model_type;
 
-/* A model instance. Models with a state (apd caches per-level grids,
- * table holds its data) are used by one thread at a time: a sweep lends
- * each instance to one point at a time and reuses it for later points of
- * the same setting (qc_model_cache, quantcap/study.h). */
-struct qc_model {
-    const qc_model_type *type;
-    double params[QC_MODEL_MAX_PARAMS];
-    void *state;
-};
-
 QC_API extern const qc_model_type qc_model_gauss;
 
 /* Signal-dependent Gaussian: sigma^2(x) = sigma0^2 + a x + b x^2. */
@@ -154,28 +149,50 @@ QC_API extern const qc_model_type qc_model_preamp;
 /* Measured densities per level from a file (qc_model_table_load). */
 QC_API extern const qc_model_type qc_model_table;
 
-/* All registered model types, NULL-terminated. */
-const qc_model_type *const *qc_model_types(void);
+/* All registered model types, NULL-terminated (static; never fails). */
+QC_API const qc_model_type *const *qc_model_types(void);
 
-/* Look up a type by name; NULL if unknown. */
+/* Look up a type by name; NULL if unknown or name is NULL (no message). */
 QC_API const qc_model_type *qc_model_type_find(const char *name);
 
-/* Index of a parameter by name, or -1. */
+/* Index of a parameter of `type` by name, or -1 when it has none of that
+ * name (no message). */
 QC_API int qc_model_param_index(const qc_model_type *type, const char *name);
 
 /* Create a model instance. `params` holds type->nparams values in the
  * order of type->params (NaN = use the default). Every value is checked
- * against its range; the message names the parameter. */
+ * against its range, then the type's own check and state set up. Fails
+ * with QC_EINVAL naming the parameter (or the type's check), QC_ENOMEM,
+ * or what the type's init returns (table: use qc_model_table_load); on
+ * failure *out is NULL. */
 QC_API qc_status qc_model_alloc(const qc_model_type *type, const double *params,
                          qc_model **out);
+/* Release an instance and its state; NULL does nothing. */
 QC_API void qc_model_free(qc_model *model);
 
-/* Check levels against the model (finite, allowed by check_level). */
+/* The type of a model instance (its name, parameter list, output kind,
+ * properties and the law's functions, which take the instance itself:
+ * qc_model_get_type(m)->below(m, x, t)). Never NULL for an instance. */
+QC_API const qc_model_type *qc_model_get_type(const qc_model *model);
+
+/* Parameter i of the instance, in the order of its type's params, as
+ * checked by qc_model_alloc (defaults filled in). NaN when i is not below
+ * the type's nparams. */
+QC_API double qc_model_param(const qc_model *model, size_t i);
+
+/* All the instance's parameters: qc_model_get_type(model)->nparams values
+ * (borrowed; valid while the model lives, never modified). */
+QC_API const double *qc_model_params(const qc_model *model);
+
+/* Check levels against the model (finite, allowed by check_level). Reads
+ * only. QC_EINVAL when nlevels is 0 or a level is not finite or not
+ * allowed; the message names the level (1-based) and its value. */
 QC_API qc_status qc_model_check_levels(const qc_model *model, const double *levels,
                                 size_t nlevels);
 
 /* Mean and variance of the output given level x. QC_EINVAL when the
- * level is invalid or the model type has no moments hook. */
+ * level is invalid or the model type has no moments hook (the message
+ * says which); on failure *mean and *var are unchanged. */
 QC_API qc_status qc_model_moments(const qc_model *model, double x, double *mean,
                            double *var);
 
@@ -187,14 +204,17 @@ QC_API double qc_model_mean_photons(const qc_model *model, const double *levels,
 
 /* Create a `table` model from a text file of densities (format in
  * docs/formats.md). Errors name the file and line (QC_EFORMAT), or the
- * path (QC_EIO). */
+ * path (QC_EIO); QC_ENOMEM. On failure *out is NULL. */
 QC_API qc_status qc_model_table_load(const char *path, qc_model **out);
 
-/* The same from text in memory; `name` is used in messages. */
+/* The same from text in memory; `name` is used in messages ("name:LINE:
+ * ..."). On failure (QC_EFORMAT, QC_ENOMEM) *out is NULL. */
 QC_API qc_status qc_model_table_parse(const char *text, size_t len, const char *name,
                                qc_model **out);
 
-/* Levels of a table model (borrowed; valid while the model lives). */
+/* Levels of a table model (borrowed; valid while the model lives).
+ * QC_EINVAL when the model is not a table; on failure *levels and
+ * *nlevels are unchanged. */
 QC_API qc_status qc_model_table_levels(const qc_model *model, const double **levels,
                                 size_t *nlevels);
 

@@ -16,7 +16,8 @@ extern "C" {
 #endif
 
 /* Check thresholds: finite, strictly increasing (and integers for
- * count outputs). The message names the offending threshold (1-based). */
+ * count outputs). Reads only. QC_EINVAL naming the offending threshold
+ * (1-based) and its value. */
 QC_API qc_status qc_thresholds_check(const qc_model *model, const double *thresholds,
                               size_t nthresholds);
 
@@ -24,7 +25,9 @@ QC_API qc_status qc_thresholds_check(const qc_model *model, const double *thresh
  * probability is a difference taken on the tail side where it does not
  * cancel, so cells far in a tail stay accurate; entries are never
  * negative or NaN, and each row is renormalized only if it is within
- * QC_DMC_ROW_TOL of 1 (otherwise QC_ENUMERIC). */
+ * QC_DMC_ROW_TOL of 1 (otherwise QC_ENUMERIC, naming the level). Bad
+ * levels or thresholds are QC_EINVAL as in qc_model_check_levels and
+ * qc_thresholds_check; QC_ENOMEM. On failure *out is NULL. */
 QC_API qc_status qc_discretize(const qc_model *model, const double *levels,
                         size_t nlevels, const double *thresholds,
                         size_t nthresholds, qc_dmc **out);
@@ -34,7 +37,8 @@ QC_API qc_status qc_discretize(const qc_model *model, const double *levels,
  * sorted thresholds into `d` (nlevels × (n + 1)); lo and hi are scratch of
  * length n. The thresholds and levels are not checked again (the caller
  * has passed them through qc_thresholds_check and qc_model_check_levels);
- * otherwise the same accuracy and failures as qc_discretize. */
+ * otherwise the same accuracy and failures as qc_discretize. On failure
+ * the contents of d, lo and hi are unspecified. */
 QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
                                     size_t nlevels, const double *t, size_t n,
                                     double *lo, double *hi, qc_dmc *d);
@@ -42,7 +46,10 @@ QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
 /* Mutual information with the unquantized output (continuous density or
  * ideal count resolution) for the given levels and input law, in nats.
  * Adaptive quadrature (GSL QAGS/QAGI) per level; the absolute error
- * estimate is returned in *abserr_nats (may be NULL). */
+ * estimate is returned in *abserr_nats (may be NULL). QC_EINVAL for bad
+ * levels or a law that is not a law, QC_ENUMERIC when the quadrature
+ * fails or the rate is not finite, QC_ENOMEM; on failure *mi_nats and
+ * *abserr_nats are unchanged. */
 QC_API qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels,
                             double *mi_nats, double *abserr_nats);
@@ -51,14 +58,17 @@ QC_API qc_status qc_unquantized_mi(const qc_model *model, const double *levels,
  * narrower than the resolution of doubles and was taken in the noiseless
  * limit: a point mass, distinguishable from every other level. Levels
  * whose output support meets no other level's contribute −log p exactly
- * (no quadrature). */
+ * (no quadrature). Fails as qc_unquantized_mi; *noiseless is then
+ * unspecified. */
 QC_API qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
                                    const double *input, size_t nlevels,
                                    double *mi_nats, double *abserr_nats,
                                    int *noiseless);
 
 /* The same with the unquantized output (adaptive quadrature, GSL QAGS, or
- * a sum over counts), as qc_unquantized_mi. */
+ * a sum over counts), as qc_unquantized_mi, with the labels of qc_gmi.
+ * Fails as qc_unquantized_mi or (labels) as qc_gmi; on failure *gmi_nats
+ * and *abserr_nats are unchanged. */
 QC_API qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels,
                              const size_t *labels, unsigned nbits,
@@ -110,18 +120,20 @@ QC_API extern const qc_threshold_strategy qc_strategy_fixed;
 QC_API extern const qc_threshold_strategy qc_strategy_lloyd_max;
 QC_API extern const qc_threshold_strategy qc_strategy_optimal;
 
-/* The strategy of a quantizer kind; NULL for values out of range. */
+/* The strategy of a quantizer kind; NULL for values out of range (no
+ * message). */
 QC_API const qc_threshold_strategy *qc_strategy_of(qc_quantizer_kind kind);
 /* Names used on the command line ("uniform", "fixed", "lloyd-max",
  * "optimal"); NULL for values out of range. */
 QC_API const char *qc_quantizer_name(qc_quantizer_kind kind);
-/* Look a name up; QC_EINVAL naming the unknown word and the choices. */
+/* Look a name up; QC_EINVAL naming the unknown word and the choices. On
+ * failure *out is unchanged. */
 QC_API qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out);
 
 /* A plan for `nthresholds` thresholds on `levels` (borrowed: they, the
  * model and `given` must outlive the plan). given: the fixed strategy's
  * thresholds (NULL for the others). fine_cells: the optimal strategy's
- * fine grid (0: automatic, as qc_design_request.fine_cells). grid_law:
+ * fine grid (0: automatic, as qc_design_request.numerics.fine_cells). grid_law:
  * the law the fine grid is built for (copied; NULL: the law of the first
  * design). QC_EINVAL when the model or levels are missing or nthresholds
  * is 0; QC_ENOMEM. On failure *out is NULL. */
@@ -129,13 +141,14 @@ QC_API qc_status qc_strategy_plan_alloc(const qc_model *model, const double *lev
                                         size_t nlevels, size_t nthresholds,
                                         const double *given, size_t fine_cells,
                                         const double *grid_law, qc_strategy_plan **out);
+/* Release a plan (not what it borrows); NULL does nothing. */
 QC_API void qc_strategy_plan_free(qc_strategy_plan *plan);
 /* Let the uniform strategy centre its full-scale range among ranges whose
  * rate is within eps_nats of the best (qc_uniform_tidy; 0: off, the
- * default). */
+ * default; a negative or NaN eps_nats is 0). NULL does nothing. */
 QC_API void qc_strategy_plan_tidy(qc_strategy_plan *plan, double eps_nats);
 /* Fine-grid cells the optimal strategy used (0 before its first design or
- * for the other strategies). */
+ * for the other strategies, or for a NULL plan). Never fails. */
 QC_API size_t qc_strategy_plan_fine_cells(const qc_strategy_plan *plan);
 /* Run strategy s on the plan for the law `input` (stats may be NULL). The
  * thresholds come out strictly increasing. Fails as the strategy does
@@ -145,7 +158,8 @@ QC_API qc_status qc_strategy_design(const qc_threshold_strategy *s, qc_strategy_
                                     const double *input, int warm, double *t,
                                     qc_strategy_stats *stats);
 
-/* cells = 2^bits for 1 ≤ bits ≤ QC_MAX_BITS, else QC_EINVAL. */
+/* cells = 2^bits for 1 ≤ bits ≤ QC_MAX_BITS, else QC_EINVAL naming the
+ * bits, with *cells unchanged. */
 QC_API qc_status qc_cells_from_bits(int bits, size_t *cells);
 
 /* ---- building blocks of the designs -------------------------------- */
@@ -167,7 +181,9 @@ typedef enum {
  * monotone-likelihood-ratio models such as Gaussian or Poisson noise).
  * For binary input sorted by likelihood ratio the result is optimal among
  * all quantizers. mi_nats (may be NULL) receives the merged MI.
- * QC_EINVAL when cells < 1 or cells > ny, or the law is not a law. */
+ * QC_EINVAL when an argument is missing, cells < 1 or cells > ny, the
+ * method is unknown or the law is not a law; QC_ENOMEM. On failure
+ * *mi_nats is unchanged and cuts_out is unspecified. */
 QC_API qc_status qc_dp_quantize(const qc_dmc *fine, const double *input,
                          size_t cells, qc_dp_method method, size_t *cuts_out,
                          double *mi_nats);
@@ -187,24 +203,27 @@ QC_API qc_status qc_dp_quantize(const qc_dmc *fine, const double *input,
  * they split the most probable cells at their medians, flat essential
  * thresholds centred in their flat interval. The rate of the result is at
  * least the rate of t minus eps_nats, else t is left unchanged (as it is
- * for nt > 4095). */
+ * for nt > 4095). QC_EINVAL for bad levels or law, QC_ENOMEM; on failure
+ * t is unchanged. */
 QC_API qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t nt,
                              double eps_nats, double *t);
 
 /* The number within tol of x on the coarsest power-of-two grid (0 when
- * |x| ≤ tol): a reproducible representative of an interval's middle. */
+ * |x| ≤ tol): a reproducible representative of an interval's middle.
+ * Never fails (x itself when tol is not a positive finite number). */
 QC_API double qc_simplest_within(double x, double tol);
 
 /* Thresholds within 64 ulps of the output's scale from 0 or from a
  * level's mean are set to it exactly (continuous outputs; the order is
- * kept). */
+ * kept). Never fails; count outputs are left as they are. */
 QC_API void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
                         size_t nt, double *t);
 
 /* Cells a quantizer for count outputs can use: hi − lo + 1 for the union
  * [lo, hi] of the levels' supports (every count that carries probability
- * in its own cell), at most `cells`. Continuous outputs: `cells`. */
+ * in its own cell), at most `cells`. Continuous outputs: `cells`. Never
+ * fails. */
 QC_API size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
                        size_t cells);
 

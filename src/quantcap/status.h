@@ -25,14 +25,19 @@ typedef enum {
     QC_STATUS_COUNT
 } qc_status;
 
-/* Short fixed description of a status code ("invalid argument", ...). */
+/* Short fixed description of a status code ("invalid argument", ...).
+ * Never fails: a value out of range gives "unknown status". */
 QC_API const char *qc_strerror(qc_status status);
 
 /* Detail message of the last failure in this thread, naming the culprit
- * (parameter, file and line, matrix row). Empty string if none. */
+ * (parameter, file and line, matrix row). Empty string if none. Never
+ * fails; the text is valid until the thread's next library call that
+ * fails (a call that succeeds may leave it as it was). */
 QC_API const char *qc_last_error(void);
 
-/* True for statuses caused by the caller's input (usage/input error). */
+/* True for statuses caused by the caller's input (usage/input error):
+ * QC_EINVAL, QC_EFORMAT, QC_EIO, QC_EINFEASIBLE. 0 for every other value,
+ * including QC_OK and values out of range. Never fails. */
 QC_API int qc_status_is_input_error(qc_status status);
 
 /* The library's version, "MAJOR.MINOR.PATCH" (the meson project version

@@ -23,22 +23,30 @@ typedef struct {
     const char *help;
 } qc_setting_info;
 
-/* The design keys, excluding model parameters; *n receives the count. */
+/* The design keys, excluding model parameters (static table); *n receives
+ * the count. Never fails. */
 QC_API const qc_setting_info *qc_setting_keys(size_t *n);
 
-/* Is `key` a design key or a parameter of some model? */
+/* 1 when `key` is a design key or a parameter of some model, else 0.
+ * Never fails. */
 QC_API int qc_setting_known(const char *key);
 
-/* The known key closest to an unknown one (for "did you mean"), or NULL. */
+/* The known key closest to an unknown one (for "did you mean"), or NULL
+ * when none is close. Never fails. */
 QC_API const char *qc_setting_suggest(const char *key);
 
 /* The current name of a key that was renamed (e.g. "power" ->
- * "power-limit"), or NULL when `old` is not an old name. */
+ * "power-limit"), or NULL when `old` is not an old name. Never fails. */
 QC_API const char *qc_setting_renamed(const char *old);
 
 typedef struct qc_settings qc_settings;
+/* An empty set of settings. QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_settings_alloc(qc_settings **out);
+/* Release settings (and what qc_settings_build made point into them);
+ * NULL does nothing. */
 QC_API void qc_settings_free(qc_settings *s);
+/* A new object with the same keys and values. QC_ENOMEM; on failure *out
+ * is NULL and `s` is unchanged. */
 QC_API qc_status qc_settings_copy(const qc_settings *s, qc_settings **out);
 
 /* Set (or replace) one key. The value is checked now: on failure the
@@ -47,13 +55,16 @@ QC_API qc_status qc_settings_copy(const qc_settings *s, qc_settings **out);
  * settings are unchanged. An unknown key is QC_EINVAL. */
 QC_API qc_status qc_settings_set(qc_settings *s, const char *key, const char *value);
 
-/* The text given for `key`, or NULL. */
+/* The text given for `key` (borrowed: valid until the key is set again
+ * or s is freed), or NULL when it was not given. Never fails. */
 QC_API const char *qc_settings_get(const qc_settings *s, const char *key);
 
 /* Turn settings into a model instance and a design request. The request
  * points into memory owned by `s` (valid until s is changed or freed);
  * the model is the caller's to free. Cross-key rules (sigma or snr-db,
- * bits or cells, ...) are checked here, naming the keys. */
+ * bits or cells, ...) are checked here, naming the keys (QC_EINVAL), as
+ * are the table file (QC_EIO, QC_EFORMAT) and the front end. On failure
+ * *model is NULL and *req must not be used. */
 QC_API qc_status qc_settings_build(qc_settings *s, qc_model **model,
                             qc_design_request *req);
 
@@ -136,7 +147,8 @@ QC_API qc_status qc_settings_build_cached(qc_settings *s, qc_model_cache *cache,
 /* The JSON object describing one design (model, parameters, request and
  * every result field), as `quantcap design --json` prints it and as a
  * sweep stores each point. *text is malloc'd (free it); numbers carry 17
- * significant digits; non-finite numbers are written as null. */
+ * significant digits; non-finite numbers are written as null. QC_ENOMEM;
+ * on failure *text is NULL. */
 QC_API qc_status qc_design_report_json(const qc_design_request *req,
                                 const qc_design_result *res, char **text);
 
@@ -151,28 +163,35 @@ typedef struct qc_scenario qc_scenario;
 /* Parse a scenario held in memory (len bytes, need not end in NUL).
  * `name` is used in messages ("name:LINE: ..."). Unknown sections or
  * keys (with the closest valid name), bad values and missing keys are
- * QC_EINVAL or QC_EFORMAT with the line named. */
+ * QC_EINVAL or QC_EFORMAT with the line named; QC_ENOMEM. On failure
+ * *out is NULL. */
 QC_API qc_status qc_scenario_parse(const char *text, size_t len, const char *name,
                             qc_scenario **out);
 
-/* Read and parse a file; an unreadable path is QC_EIO. */
+/* Read and parse a file; an unreadable path or a directory is QC_EIO.
+ * On failure *out is NULL. */
 QC_API qc_status qc_scenario_read(const char *path, qc_scenario **out);
+/* Release a scenario; NULL does nothing. */
 QC_API void qc_scenario_free(qc_scenario *sc);
 
 /* Override one key as from the command line: "KEY=VALUE" sets a design
  * key everywhere (the sweep axis of that name takes the value's values;
  * otherwise the base setting, which then also wins over the alphabets);
  * "SECTION.KEY=VALUE" sets a key of one section ("plots.format=png",
- * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1 to 4 step 1"). On failure the
- * scenario is unchanged. */
+ * "alphabet.pam4.levels=-3,-1,1,3", "sweep.bits=1 to 4 step 1"). QC_EINVAL
+ * or QC_EFORMAT naming the key or value at fault, QC_ENOMEM. On failure
+ * the scenario is unchanged. */
 QC_API qc_status qc_scenario_override(qc_scenario *sc, const char *assignment);
 
 /* Check that every grid point builds a model and a design request; the
- * message names the point (alphabet and axis values). */
+ * message names the point (alphabet and axis values) and the status is
+ * the first failing point's. Reads only. */
 QC_API qc_status qc_scenario_check(const qc_scenario *sc);
 
 /* The grid: alphabets × axis 1 × axis 2 × ... (the last axis varies
- * fastest). */
+ * fastest). Borrowed strings, valid while the scenario lives and is not
+ * overridden. Never fail: an index out of range gives NULL (names,
+ * values) or 0 (sizes). */
 QC_API size_t qc_scenario_npoints(const qc_scenario *sc);
 QC_API size_t qc_scenario_nalphabets(const qc_scenario *sc);
 QC_API const char *qc_scenario_alphabet(const qc_scenario *sc, size_t i);
@@ -182,12 +201,14 @@ QC_API size_t qc_scenario_axis_size(const qc_scenario *sc, size_t i);
 QC_API const char *qc_scenario_axis_value(const qc_scenario *sc, size_t i, size_t j);
 
 /* The settings of the grid point of index `index`, from 0 (messages and
- * result files number it index + 1); a new object: free it. */
+ * result files number it index + 1); a new object: free it. QC_EINVAL
+ * when index is outside the grid, QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
                                      qc_settings **out);
 
 /* 16 hex digits identifying what the points compute (alphabets, base
- * settings, axes); plots and titles do not enter it. */
+ * settings, axes); plots and titles do not enter it. Borrowed; never
+ * fails. */
 QC_API const char *qc_scenario_hash(const qc_scenario *sc);
 
 typedef struct {
@@ -201,6 +222,8 @@ typedef struct {
     void *user;
 } qc_sweep_options;
 
+/* Defaults: output in the current folder, one job per core, no resume,
+ * plots on, no progress. Overwrites every field; never fails. */
 QC_API void qc_sweep_options_default(qc_sweep_options *opt);
 
 typedef struct {
@@ -229,12 +252,16 @@ typedef struct {
  * request (QC_EINVAL, QC_EFORMAT: the scenario asks for something
  * invalid) stops the sweep with that status, naming the point, and no
  * table is written (finished points stay in the checkpoint). QC_EIO names
- * the file on write failures. */
+ * the file on write failures. The summary is filled as far as the sweep
+ * got, on failure too: clear it with qc_sweep_summary_clear in every
+ * case. */
 QC_API qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
                        qc_sweep_summary *summary);
+/* Release what a summary owns and zero it; NULL does nothing. */
 QC_API void qc_sweep_summary_clear(qc_sweep_summary *summary);
 
-/* 1 if this build draws plots (PLplot found at build time). */
+/* 1 if this build draws plots (PLplot found at build time), else 0. Never
+ * fails. */
 QC_API int qc_plots_available(void);
 
 #ifdef __cplusplus

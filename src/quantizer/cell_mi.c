@@ -86,7 +86,7 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
         for (size_t x = 0; x < nx; x++) {
             if (!(w->input[x] > 0.0))
                 continue;
-            double f = w->model->type->density(w->model, w->levels[x], t[j]);
+            double f = qc_model_get_type(w->model)->density(w->model, w->levels[x], t[j]);
             if (f > 0.0)
                 g += w->input[x] * f * (w->lr[x * k + j] - w->lr[x * k + j + 1]);
         }

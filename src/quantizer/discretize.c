@@ -20,12 +20,12 @@ qc_status qc_thresholds_check(const qc_model *model, const double *t, size_t n)
     for (size_t j = 0; j < n; j++) {
         if (!isfinite(t[j]))
             return qc_fail(QC_EINVAL, "threshold %zu is not a finite number", j + 1);
-        if (model && model->type->output == QC_OUTPUT_COUNTS) {
+        if (model && qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
             if (t[j] != floor(t[j]))
                 return qc_fail(QC_EINVAL,
                                "threshold %zu (%g) must be a whole photon count "
                                "for model '%s'",
-                               j + 1, t[j], model->type->name);
+                               j + 1, t[j], qc_model_get_type(model)->name);
             if (t[j] < 1.0)
                 return qc_fail(QC_EINVAL,
                                "threshold %zu (%g) must be >= 1: counts below 0 "
@@ -47,13 +47,13 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
                                 size_t n, double *lo, double *hi, double *row)
 {
     for (size_t j = 0; j < n; j++) {
-        lo[j] = m->type->below(m, x, t[j]);
-        hi[j] = m->type->above(m, x, t[j]);
+        lo[j] = qc_model_get_type(m)->below(m, x, t[j]);
+        hi[j] = qc_model_get_type(m)->above(m, x, t[j]);
         if (!isfinite(lo[j]) || !isfinite(hi[j]) || lo[j] < 0.0 || hi[j] < 0.0)
             return qc_fail(QC_ENUMERIC,
                            "model '%s' returned an invalid tail probability at "
                            "level %g, threshold %g",
-                           m->type->name, x, t[j]);
+                           qc_model_get_type(m)->name, x, t[j]);
     }
     for (size_t c = 0; c <= n; c++) {
         double p;
@@ -72,7 +72,7 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
                 return qc_fail(QC_ENUMERIC,
                                "model '%s' is not monotone at level %g "
                                "(cell %zu has probability %g)",
-                               m->type->name, x, c + 1, p);
+                               qc_model_get_type(m)->name, x, c + 1, p);
             p = 0.0;
         }
         row[c] = p;
@@ -83,7 +83,7 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     if (!(fabs(s - 1.0) <= QC_DMC_ROW_TOL))
         return qc_fail(QC_ENUMERIC,
                        "model '%s': cell probabilities of level %g sum to %.17g",
-                       m->type->name, x, s);
+                       qc_model_get_type(m)->name, x, s);
     for (size_t c = 0; c <= n; c++)
         row[c] /= s;
     return QC_OK;
@@ -164,7 +164,7 @@ static size_t first_at_or_above(const double *sorted, size_t n, double v)
  * doubles (its support rounds to a point); counts are never such. */
 static int point_mass(const mi_ctx *c, size_t i)
 {
-    return c->m->type->output == QC_OUTPUT_REAL && !(c->hi[i] > c->lo[i]);
+    return qc_model_get_type(c->m)->output == QC_OUTPUT_REAL && !(c->hi[i] > c->lo[i]);
 }
 
 /* f(y|x) log(f(y|x) / Σ r f(y|x')). Levels whose support (all but ~1e-15
@@ -175,7 +175,7 @@ static int point_mass(const mi_ctx *c, size_t i)
  * instead of O(levels). */
 static double mi_term(const mi_ctx *c, double y)
 {
-    double f = c->m->type->density(c->m, c->x, y);
+    double f = qc_model_get_type(c->m)->density(c->m, c->x, y);
     if (!(f > 0.0))
         return 0.0;
     double mix = 0.0;
@@ -183,7 +183,7 @@ static double mi_term(const mi_ctx *c, double y)
          k < c->n && c->lo_sorted[k] <= y; k++) {
         size_t i = c->order[k];
         if (c->input[i] > 0.0 && y <= c->hi[i] && !point_mass(c, i))
-            mix += c->input[i] * c->m->type->density(c->m, c->levels[i], y);
+            mix += c->input[i] * qc_model_get_type(c->m)->density(c->m, c->levels[i], y);
     }
     if (!(mix > 0.0))
         return 0.0;
@@ -252,7 +252,7 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
     }
     double width = 0.0;
     for (size_t i = 0; i < nlevels; i++) {
-        model->type->support(model, levels[i], &sup[i], &sup[nlevels + i]);
+        qc_model_get_type(model)->support(model, levels[i], &sup[i], &sup[nlevels + i]);
         width = fmax(width, sup[nlevels + i] - sup[i]);
     }
     st = qc_sort_order(sup, nlevels, order); /* by where each support starts */
@@ -267,7 +267,7 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
                 order, sup + 2 * nlevels, width};
     double total = 0.0, err = 0.0;
     gsl_integration_workspace *w = NULL;
-    if (model->type->output == QC_OUTPUT_REAL) {
+    if (qc_model_get_type(model)->output == QC_OUTPUT_REAL) {
         w = gsl_integration_workspace_alloc(UNQ_LIMIT);
         if (!w) {
             free(sup);
@@ -291,7 +291,7 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
         } else if (!overlaps_other(&c, i)) {
             val = -log(input[i]); /* perfectly distinguishable */
             e = SUPPORT_TAIL / input[i];
-        } else if (model->type->output == QC_OUTPUT_COUNTS) {
+        } else if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
             double a = fmax(0.0, floor(lo)), b = ceil(hi);
             if (b - a > 1e8) {
                 st = qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);

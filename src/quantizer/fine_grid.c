@@ -54,7 +54,7 @@ void qc_levels_support(const qc_model *model, const double *levels,
     *hi = -INFINITY;
     for (size_t i = 0; i < nlevels; i++) {
         double a, b;
-        model->type->support(model, levels[i], &a, &b);
+        qc_model_get_type(model)->support(model, levels[i], &a, &b);
         if (a < *lo)
             *lo = a;
         if (b > *hi)
@@ -76,7 +76,7 @@ static double blend_cdf(const blend *b, double y)
     double f = 0.0;
     for (size_t i = 0; i < b->nlevels; i++)
         if (b->input[i] > 0.0)
-            f += b->input[i] * b->m->type->below(b->m, b->levels[i], y);
+            f += b->input[i] * qc_model_get_type(b->m)->below(b->m, b->levels[i], y);
     return 0.5 * f + 0.5 * (y - b->lo) / (b->hi - b->lo);
 }
 
@@ -88,7 +88,7 @@ qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
     qc_levels_support(model, levels, nlevels, &b.lo, &b.hi);
     if (!(b.hi > b.lo) || !isfinite(b.lo) || !isfinite(b.hi))
         return qc_fail(QC_ENUMERIC, "model '%s' gives an empty output support",
-                       model->type->name);
+                       qc_model_get_type(model)->name);
     const size_t m = TABLE_PER_CELL * n + 1;
     const double step = (b.hi - b.lo) / (double)(m - 1);
     double *table = qc_malloc_array(m, sizeof *table);
@@ -101,7 +101,7 @@ qc_status qc_blend_quantiles(const qc_model *model, const double *levels,
             return qc_fail(QC_ENUMERIC,
                            "fine grid: the CDF of model '%s' is not increasing "
                            "near %g",
-                           model->type->name, b.lo + step * (double)k);
+                           qc_model_get_type(model)->name, b.lo + step * (double)k);
         }
     }
     /* G rises by at least step/(2(hi − lo)) per table step, so linear
@@ -174,7 +174,7 @@ qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
     qc_status st = QC_OK;
     size_t nb = 0;
     double *bounds = NULL;
-    if (model->type->output == QC_OUTPUT_COUNTS) {
+    if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
         double lo, hi;
         qc_levels_support(model, levels, nlevels, &lo, &hi);
         double top = ceil(hi);
@@ -251,7 +251,7 @@ void qc_fine_grid_clear(qc_fine_grid *g)
 /* Score ∂/∂y log f(y|x) by a central difference; NAN where f vanishes. */
 static double score(const qc_model *m, double x, double y, double d)
 {
-    double a = m->type->density(m, x, y + d), b = m->type->density(m, x, y - d);
+    double a = qc_model_get_type(m)->density(m, x, y + d), b = qc_model_get_type(m)->density(m, x, y - d);
     if (!(a > 0.0) || !(b > 0.0))
         return NAN;
     return (log(a) - log(b)) / (2.0 * d);
@@ -265,7 +265,7 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     qc_levels_support(model, levels, nlevels, &lo, &hi);
     if (!(hi > lo) || !isfinite(lo) || !isfinite(hi))
         return qc_fail(QC_ENUMERIC, "model '%s' gives an empty output support",
-                       model->type->name);
+                       qc_model_get_type(model)->name);
     size_t m = COMPAND_PER_CELL * (nt + 1);
     m = m < COMPAND_MIN ? COMPAND_MIN : m > COMPAND_MAX ? COMPAND_MAX : m;
     const double step = (hi - lo) / (double)(m - 1), d = 1e-3 * step;
@@ -281,14 +281,14 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
         double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
         for (size_t x = 0; x < nlevels; x++)
             if (input[x] > 0.0)
-                f += input[x] * model->type->density(model, levels[x], y);
+                f += input[x] * qc_model_get_type(model)->density(model, levels[x], y);
         if (f > 0.0 && isfinite(f)) {
             /* J(y) = Var of the score over the posterior P(x|y) */
             double s1 = 0.0, s2 = 0.0, wsum = 0.0;
             for (size_t x = 0; x < nlevels; x++) {
                 if (!(input[x] > 0.0))
                     continue;
-                double p = input[x] * model->type->density(model, levels[x], y) / f;
+                double p = input[x] * qc_model_get_type(model)->density(model, levels[x], y) / f;
                 double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
                 if (!isfinite(s))
                     continue;

@@ -43,7 +43,7 @@ static double mixture(const lloyd *L, double y)
     double f = 0.0;
     for (size_t i = 0; i < L->nlevels; i++)
         if (L->input[i] > 0.0)
-            f += L->input[i] * L->m->type->density(L->m, L->levels[i], y);
+            f += L->input[i] * qc_model_get_type(L->m)->density(L->m, L->levels[i], y);
     return f;
 }
 
@@ -61,7 +61,7 @@ static qc_status cell_moments(lloyd *L, double a, double b, double mass,
 {
     double ca = fmax(a, L->lo), cb = fmin(b, L->hi);
     *m1 = *m2 = 0.0;
-    if (L->m->type->output == QC_OUTPUT_COUNTS) {
+    if (qc_model_get_type(L->m)->output == QC_OUTPUT_COUNTS) {
         /* counts y with a ≤ y < b inside the support */
         double y0 = fmax(0.0, ceil(ca)), y1 = fmin(b - 1.0, floor(L->hi));
         L->anchor = *anchor = y1 >= y0 ? 0.5 * (y0 + y1) : (isfinite(a) ? a : b);
@@ -140,7 +140,7 @@ static qc_status centroids(lloyd *L, const double *t, size_t nt, double *recon,
 /* New thresholds from reconstruction points; returns the largest move. */
 static double midpoints(const lloyd *L, const double *recon, size_t nt, double *t)
 {
-    const int counts = L->m->type->output == QC_OUTPUT_COUNTS;
+    const int counts = qc_model_get_type(L->m)->output == QC_OUTPUT_COUNTS;
     double move = 0.0;
     for (size_t j = 0; j < nt; j++) {
         double v = 0.5 * (recon[j] + recon[j + 1]);
@@ -180,7 +180,7 @@ qc_status qc_lloyd_max(const qc_model *model, const double *levels,
      * that every cell starts with mass; for counts the rounded version. */
     if (warm_start) {
         /* the caller's thresholds */
-    } else if (model->type->output == QC_OUTPUT_COUNTS) {
+    } else if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
         double top = fmax(ceil(L.hi), (double)nt);
         size_t nb = 0;
         st = qc_count_quantiles(model, levels, input, nlevels, top, K, K, t, &nb);

@@ -37,7 +37,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w);
     if (st != QC_OK)
         goto done;
-    if (model->type->output == QC_OUTPUT_REAL) {
+    if (qc_model_get_type(model)->output == QC_OUTPUT_REAL) {
         /* Second start: the high-resolution rule, which matters when the
          * grid is too coarse for the DP to choose much (N close to K). A
          * failure here only loses the second start. */
@@ -53,7 +53,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
             memcpy(t_out, comp, nt * sizeof *t_out);
     }
     double mi;
-    if (model->type->output == QC_OUTPUT_REAL)
+    if (qc_model_get_type(model)->output == QC_OUTPUT_REAL)
         st = qc_refine_continuous(w, t_out, &mi, iterations);
     else if (!g->exact)
         st = qc_refine_counts(w, t_out, &mi, iterations);

@@ -145,12 +145,12 @@ static double mass_between(const qc_model *m, const double *levels, const double
     for (size_t x = 0; x < nx; x++) {
         if (!(r[x] > 0.0))
             continue;
-        double ba = isfinite(a) ? m->type->below(m, levels[x], a) : 0.0;
+        double ba = isfinite(a) ? qc_model_get_type(m)->below(m, levels[x], a) : 0.0;
         double p;
         if (ba < 0.5)
-            p = m->type->below(m, levels[x], y) - ba;
+            p = qc_model_get_type(m)->below(m, levels[x], y) - ba;
         else
-            p = m->type->above(m, levels[x], a) - m->type->above(m, levels[x], y);
+            p = qc_model_get_type(m)->above(m, levels[x], a) - qc_model_get_type(m)->above(m, levels[x], y);
         s += r[x] * (p > 0.0 ? p : 0.0);
     }
     return s;
@@ -162,7 +162,7 @@ static double cell_median(const qc_model *m, const double *levels, const double 
                           size_t nx, double a, double b, double q, double lo,
                           double hi, int *ok)
 {
-    const int counts = m->type->output == QC_OUTPUT_COUNTS;
+    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
     double L = isfinite(a) ? a : lo, R = isfinite(b) ? b : hi;
     if (counts) {
         L = isfinite(a) ? a : 0.0;
@@ -292,7 +292,7 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
 {
     if (nt < 2 || nt > TIDY_MAX_THRESHOLDS || !(eps_nats > 0.0))
         return QC_OK;
-    const int counts = model->type->output == QC_OUTPUT_COUNTS;
+    const int counts = qc_model_get_type(model)->output == QC_OUTPUT_COUNTS;
     qc_cell_mi *w = NULL, *we = NULL;
     unsigned char *keep = qc_malloc_array(nt + 1, sizeof *keep);
     double *e = qc_malloc_array(nt, sizeof *e);
@@ -381,7 +381,7 @@ done:
 void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
                         size_t nt, double *t)
 {
-    if (model->type->output == QC_OUTPUT_COUNTS)
+    if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS)
         return;
     /* the output's scale: largest |mean| and standard deviation of the
      * levels (the support when the model has no moments) */
@@ -393,7 +393,7 @@ void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlev
             scale = fmax(scale, fmax(fabs(mean), sqrt(fmax(var, 0.0))));
         } else {
             double a, b;
-            model->type->support(model, levels[i], &a, &b);
+            qc_model_get_type(model)->support(model, levels[i], &a, &b);
             scale = fmax(scale, fmax(fabs(a), fabs(b)));
         }
     }
@@ -416,7 +416,7 @@ void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlev
 size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
                        size_t cells)
 {
-    if (model->type->output != QC_OUTPUT_COUNTS)
+    if (qc_model_get_type(model)->output != QC_OUTPUT_COUNTS)
         return cells;
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);

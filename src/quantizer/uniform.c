@@ -232,8 +232,8 @@ static void output_span(const qc_model *model, const double *levels,
     *hi = -INFINITY;
     for (size_t i = 0; i < nlevels; i++) {
         double mean = levels[i], var;
-        if (model->type->moments &&
-            (model->type->moments(model, levels[i], &mean, &var) != QC_OK ||
+        if (qc_model_get_type(model)->moments &&
+            (qc_model_get_type(model)->moments(model, levels[i], &mean, &var) != QC_OK ||
              !isfinite(mean)))
             mean = levels[i];
         *lo = fmin(*lo, mean);
@@ -254,7 +254,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
     qc_status st;
-    if (model->type->output == QC_OUTPUT_COUNTS) {
+    if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
         /* first threshold and step within the support: thresholds above
          * it only add empty cells */
         st = count_search(&s, fmax(ceil(hi), 1.0));
@@ -280,7 +280,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
     if (!isfinite(s.best))
         return qc_fail(QC_ENUMERIC,
                        "uniform quantizer: no range gave a finite rate (model '%s')",
-                       model->type->name);
+                       qc_model_get_type(model)->name);
     if (value_out)
         *value_out = s.best;
     if (evals)
@@ -347,7 +347,7 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
                           size_t nt, qc_threshold_objective f, void *ctx, double eps,
                           double *t)
 {
-    if (model->type->output == QC_OUTPUT_COUNTS || nt < 2 || !(eps > 0.0))
+    if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS || nt < 2 || !(eps > 0.0))
         return QC_OK;
     double *u = qc_malloc_array(nt, sizeof *u);
     if (!u)

@@ -24,14 +24,14 @@ typedef struct {
  * share of Σ_b H(B_b|Y) at y. */
 static double gmi_term(const gmi_ctx *c, double y)
 {
-    double f = c->m->type->density(c->m, c->levels[c->x], y);
+    double f = qc_model_get_type(c->m)->density(c->m, c->levels[c->x], y);
     if (!(f > 0.0))
         return 0.0;
     memset(c->g, 0, 2 * (size_t)c->nbits * sizeof *c->g);
     for (size_t i = 0; i < c->n; i++) {
         if (!(c->input[i] > 0.0))
             continue;
-        double p = c->input[i] * c->m->type->density(c->m, c->levels[i], y);
+        double p = c->input[i] * qc_model_get_type(c->m)->density(c->m, c->levels[i], y);
         if (!(p > 0.0))
             continue;
         for (unsigned b = 0; b < c->nbits; b++)
@@ -67,9 +67,9 @@ qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
     gmi_ctx c = {model, levels, input, labels, nlevels, nbits, 0, NULL};
     c.g = qc_malloc_array(2 * (size_t)nbits, sizeof *c.g);
     gsl_integration_workspace *w = NULL;
-    if (c.g && model->type->output == QC_OUTPUT_REAL)
+    if (c.g && qc_model_get_type(model)->output == QC_OUTPUT_REAL)
         w = gsl_integration_workspace_alloc(UNQ_LIMIT);
-    if (!c.g || (model->type->output == QC_OUTPUT_REAL && !w)) {
+    if (!c.g || (qc_model_get_type(model)->output == QC_OUTPUT_REAL && !w)) {
         free(c.g);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
@@ -79,8 +79,8 @@ qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
             continue;
         c.x = i;
         double lo, hi, val = 0.0, e = 0.0;
-        model->type->support(model, levels[i], &lo, &hi);
-        if (model->type->output == QC_OUTPUT_COUNTS) {
+        qc_model_get_type(model)->support(model, levels[i], &lo, &hi);
+        if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
             double a = fmax(0.0, floor(lo)), b = ceil(hi);
             if (b - a > MAX_COUNT_SPAN) {
                 st = qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);

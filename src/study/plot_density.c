@@ -44,7 +44,7 @@ qc_status plot_density(plot_ctx *ctx)
     if (st != QC_OK || nlev == 0)
         return st;
     const qc_model *m = ctx->model;
-    const qc_model_type *type = m->type;
+    const qc_model_type *type = qc_model_get_type(m);
     int counts = type->output == QC_OUTPUT_COUNTS;
     double lo = INFINITY, hi = -INFINITY;
     for (size_t i = 0; i < nlev; i++) {

@@ -92,13 +92,13 @@ static void report_alphabet(json_t *o, const qc_design_request *req,
     json_object_set_new(o, "average_power", qc_report_real(res->average_power));
     json_object_set_new(o, "average_level", qc_report_real(res->average_level));
     json_t *c = json_object();
-    if (c && req->constraints) {
-        if (!isnan(req->constraints->peak))
-            json_object_set_new(c, "peak_limit", qc_report_real(req->constraints->peak));
-        if (!isnan(req->constraints->power))
-            json_object_set_new(c, "power_limit", qc_report_real(req->constraints->power));
-        if (!isnan(req->constraints->mean))
-            json_object_set_new(c, "mean_limit", qc_report_real(req->constraints->mean));
+    if (c && req->input.constraints) {
+        if (!isnan(req->input.constraints->peak))
+            json_object_set_new(c, "peak_limit", qc_report_real(req->input.constraints->peak));
+        if (!isnan(req->input.constraints->power))
+            json_object_set_new(c, "power_limit", qc_report_real(req->input.constraints->power));
+        if (!isnan(req->input.constraints->mean))
+            json_object_set_new(c, "mean_limit", qc_report_real(req->input.constraints->mean));
     }
     json_object_set_new(o, "constraints", c);
     json_t *mass = json_array();
@@ -150,27 +150,27 @@ static void report_figures(json_t *o, const qc_design_result *res)
 
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
-    const qc_model *m = req->model;
+    const qc_model *m = req->channel.model;
     json_t *o = json_object();
     if (!o)
         return NULL;
-    json_object_set_new(o, "model", json_string(m->type->name));
+    json_object_set_new(o, "model", json_string(qc_model_get_type(m)->name));
     json_t *pj = json_object();
-    for (size_t i = 0; i < m->type->nparams; i++) {
+    for (size_t i = 0; i < qc_model_get_type(m)->nparams; i++) {
         char name[64];
-        qc_field_name(m->type->params[i].name, name, sizeof name);
-        json_object_set_new(pj, name, qc_report_real(m->params[i]));
+        qc_field_name(qc_model_get_type(m)->params[i].name, name, sizeof name);
+        json_object_set_new(pj, name, qc_report_real(qc_model_param(m, i)));
     }
     json_object_set_new(o, "parameters", pj);
     json_object_set_new(o, "level_unit", json_string(qc_design_level_unit(req)));
     json_object_set_new(o, "output_unit", json_string(qc_design_output_unit(req)));
-    json_object_set_new(o, "objective", json_string(qc_objective_name(req->objective)));
-    json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer)));
-    json_object_set_new(o, "cells", json_integer((json_int_t)req->cells));
+    json_object_set_new(o, "objective", json_string(qc_objective_name(req->input.objective)));
+    json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer.kind)));
+    json_object_set_new(o, "cells", json_integer((json_int_t)req->quantizer.cells));
     /* fewer than cells for count outputs with fewer counts that carry
      * probability (each has its own cell) */
     json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->nthresholds + 1)));
-    unsigned bits = bits_of(req->cells);
+    unsigned bits = bits_of(req->quantizer.cells);
     json_object_set_new(o, "bits", bits ? json_integer(bits) : json_null());
     json_object_set_new(o, QC_REPORT_RATE, qc_report_real(res->rate_bits));
     json_object_set_new(o, "upper_bound_bits", qc_report_real(res->upper_bound_bits));

@@ -613,7 +613,7 @@ qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
         if (st == QC_OK)
             st = qc_settings_build_cached(s, cache, &m, &req);
         if (st == QC_OK)
-            st = qc_model_check_levels(m, req.levels, req.nlevels);
+            st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
         qc_model_cache_release(cache, m);
         qc_settings_free(s);
         if (st != QC_OK) {

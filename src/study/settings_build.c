@@ -317,40 +317,40 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
 {
     qc_status st;
     double starts = NAN, n = NAN, eps = NAN;
-    req->dimensions = dims;
+    req->channel.dimensions = dims;
     if (!isnan(s->constraints.peak) || !isnan(s->constraints.power) ||
         !isnan(s->constraints.mean))
-        req->constraints = &s->constraints;
-    req->optimize_levels = optimize;
+        req->input.constraints = &s->constraints;
+    req->input.optimize_levels = optimize;
     if ((st = number(s, "level-starts", NAN, &starts)) != QC_OK ||
         (st = number(s, "blocklength", NAN, &n)) != QC_OK ||
         (st = number(s, "error-rate", NAN, &eps)) != QC_OK)
         return st;
     if (!isnan(starts) && !optimize)
         return qc_fail(QC_EINVAL, "'level-starts' goes with 'optimize-levels'");
-    req->level_starts = isnan(starts) ? 0 : (size_t)starts;
+    req->input.level_starts = isnan(starts) ? 0 : (size_t)starts;
     if (isnan(n) != isnan(eps))
         return qc_fail(QC_EINVAL, "give 'blocklength' and 'error-rate' together (the normal "
                                   "approximation needs both)");
     if (!isnan(n)) {
-        req->blocklength = (size_t)n;
-        req->error_rate = eps;
+        req->numerics.blocklength = (size_t)n;
+        req->numerics.error_rate = eps;
     }
     /* figures in the trade's units (src/design/figures.c) */
     double rs = NAN, pol = NAN;
     if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
         (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
         return st;
-    req->symbol_rate = isnan(rs) ? 0.0 : rs;
+    req->channel.symbol_rate = isnan(rs) ? 0.0 : rs;
     /* the OSNR route's default (2) holds for the rates too */
-    req->polarizations = !isnan(pol)                     ? (unsigned)pol
+    req->channel.polarizations = !isnan(pol)                     ? (unsigned)pol
                          : qc_settings_get(s, "osnr-db") ? 2
                                                          : 0;
     const char *fec = qc_settings_get(s, "fec");
     if (fec) {
         if ((st = qc_fec_parse(fec, &s->fec)) != QC_OK)
             return qc_fail(st, "%s", qc_last_error());
-        req->fec = &s->fec;
+        req->input.fec = &s->fec;
     }
     return QC_OK;
 }
@@ -492,54 +492,54 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         goto fail;
     }
     /* given thresholds set the count: K - 1 thresholds make K cells */
-    req->cells = bits ? (size_t)1 << z : cells ? z : nt + 1;
+    req->quantizer.cells = bits ? (size_t)1 << z : cells ? z : nt + 1;
     if ((v = qc_settings_get(s, "objective")) &&
-        (st = qc_objective_parse(v, &req->objective)) != QC_OK) {
+        (st = qc_objective_parse(v, &req->input.objective)) != QC_OK) {
         st = qc_fail(st, "objective: %s", qc_last_error());
         goto fail;
     }
     if ((v = qc_settings_get(s, "quantizer")) &&
-        (st = qc_quantizer_parse(v, &req->quantizer)) != QC_OK) {
+        (st = qc_quantizer_parse(v, &req->quantizer.kind)) != QC_OK) {
         st = qc_fail(st, "quantizer: %s", qc_last_error());
         goto fail;
     }
     if (s->thresholds) {
-        if (v && req->quantizer != QC_QUANTIZER_FIXED) {
+        if (v && req->quantizer.kind != QC_QUANTIZER_FIXED) {
             st = qc_fail(QC_EINVAL, "thresholds: given thresholds are evaluated as they are; "
                                     "they cannot be combined with quantizer %s",
                          v);
             goto fail;
         }
-        req->quantizer = QC_QUANTIZER_FIXED;
-        req->nthresholds = nt;
-        if (nt + 1 != req->cells) {
+        req->quantizer.kind = QC_QUANTIZER_FIXED;
+        req->quantizer.nthresholds = nt;
+        if (nt + 1 != req->quantizer.cells) {
             st = bits ? qc_fail(QC_EINVAL, "thresholds and bits disagree: %zu thresholds make "
                                            "%zu cells, but bits = %s means %zu cells (give "
                                            "the thresholds alone)",
-                                nt, nt + 1, bits, req->cells)
+                                nt, nt + 1, bits, req->quantizer.cells)
                       : qc_fail(QC_EINVAL, "thresholds and cells disagree: %zu thresholds "
                                            "make %zu cells, but cells = %s (give the "
                                            "thresholds alone)",
                                 nt, nt + 1, cells);
             goto fail;
         }
-    } else if (req->quantizer == QC_QUANTIZER_FIXED) {
+    } else if (req->quantizer.kind == QC_QUANTIZER_FIXED) {
         st = qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
         goto fail;
     }
     if ((v = qc_settings_get(s, "fine-cells"))) {
-        if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->fine_cells)) != QC_OK) {
+        if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->numerics.fine_cells)) != QC_OK) {
             st = qc_fail(st, "fine-cells: %s", qc_last_error());
             goto fail;
         }
-        if (req->fine_cells < req->cells) {
+        if (req->numerics.fine_cells < req->quantizer.cells) {
             st = qc_fail(QC_EINVAL, "fine-cells: the fine grid (%zu cells) must have at least "
                                     "as many cells as the quantizer (%zu)",
-                         req->fine_cells, req->cells);
+                         req->numerics.fine_cells, req->quantizer.cells);
             goto fail;
         }
     }
-    if ((v = qc_settings_get(s, "tol")) && (st = qc_parse_double(v, &req->tol_bits)) != QC_OK) {
+    if ((v = qc_settings_get(s, "tol")) && (st = qc_parse_double(v, &req->numerics.tol_bits)) != QC_OK) {
         st = qc_fail(st, "tol: %s", qc_last_error());
         goto fail;
     }
@@ -558,7 +558,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
             st = physical_route(s, type, intensity, nl, params);
             /* the Gaussian models' levels are then photocurrents */
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
-                req->level_unit = req->output_unit = "A";
+                req->channel.level_unit = req->channel.output_unit = "A";
         }
         else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
@@ -567,11 +567,11 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         if (st != QC_OK)
             return st;
     }
-    req->model = *model;
-    req->levels = s->levels;
-    req->nlevels = nl;
-    req->probabilities = s->probabilities;
-    req->thresholds = s->thresholds;
+    req->channel.model = *model;
+    req->channel.levels = s->levels;
+    req->channel.nlevels = nl;
+    req->input.probabilities = s->probabilities;
+    req->quantizer.thresholds = s->thresholds;
     if ((st = design_options(s, dims, optimize, req)) != QC_OK)
         goto fail;
     return QC_OK;

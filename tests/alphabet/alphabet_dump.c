@@ -25,15 +25,15 @@ static json_t *design(const qc_model *m, const double *levels, size_t bits,
 {
     qc_design_request r;
     qc_design_request_default(&r);
-    r.model = m;
-    r.levels = levels;
-    r.nlevels = 4;
-    r.cells = (size_t)1 << bits;
-    r.objective = objective;
-    r.dimensions = dims;
-    r.skip_snr_penalty = 1;
-    r.blocklength = 1000;
-    r.error_rate = 1e-3;
+    r.channel.model = m;
+    r.channel.levels = levels;
+    r.channel.nlevels = 4;
+    r.quantizer.cells = (size_t)1 << bits;
+    r.input.objective = objective;
+    r.channel.dimensions = dims;
+    r.numerics.skip_snr_penalty = 1;
+    r.numerics.blocklength = 1000;
+    r.numerics.error_rate = 1e-3;
     qc_design_result res;
     if (qc_design(&r, &res) != QC_OK)
         return NULL;

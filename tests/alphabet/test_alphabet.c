@@ -45,11 +45,11 @@ static void request(qc_design_request *r, const qc_model *m, const double *level
                     size_t cells)
 {
     qc_design_request_default(r);
-    r->model = m;
-    r->levels = levels;
-    r->nlevels = n;
-    r->cells = cells;
-    r->skip_snr_penalty = 1;
+    r->channel.model = m;
+    r->channel.levels = levels;
+    r->channel.nlevels = n;
+    r->quantizer.cells = cells;
+    r->numerics.skip_snr_penalty = 1;
 }
 
 /* ---- alphabets ------------------------------------------------------- */
@@ -142,6 +142,10 @@ static void test_peak_on_alphabets(void **state)
     /* a peak that keeps one candidate is infeasible */
     assert_int_equal(qc_alphabet_apply_peak(a, 0.5, 0), QC_EINFEASIBLE);
     assert_message("peak");
+    /* ... and leaves the grid as it was */
+    assert_int_equal(a->nlevels, 5);
+    for (size_t i = 0; i < 5; i++)
+        assert_true(a->levels[i] == -2.0 + (double)i);
     qc_alphabet_free(a);
     /* intensity: [0, A] */
     assert_int_equal(qc_alphabet_grid(-1.0, 1.0, 5, &a), QC_OK);
@@ -470,10 +474,10 @@ static void test_qam_doubles_the_quadrature(void **state)
     for (int obj = 0; obj < 2; obj++) {
         qc_design_request r;
         request(&r, m, pam, 4, 8);
-        r.objective = obj ? QC_OBJECTIVE_GMI : QC_OBJECTIVE_MI;
+        r.input.objective = obj ? QC_OBJECTIVE_GMI : QC_OBJECTIVE_MI;
         qc_design_result one, two;
         assert_int_equal(qc_design(&r, &one), QC_OK);
-        r.dimensions = 2;
+        r.channel.dimensions = 2;
         assert_int_equal(qc_design(&r, &two), QC_OK);
         /* product law on a product channel: I and the bitwise GMI add
          * over the quadratures (chain rule for independent pairs, Cover &
@@ -506,9 +510,9 @@ static void test_gmi_objective(void **state)
     const double pam[8] = {-7, -5, -3, -1, 1, 3, 5, 7};
     qc_design_request r;
     request(&r, m, pam, 8, 16);
-    r.objective = QC_OBJECTIVE_GMI;
-    r.blocklength = 2000;
-    r.error_rate = 1e-4;
+    r.input.objective = QC_OBJECTIVE_GMI;
+    r.numerics.blocklength = 2000;
+    r.numerics.error_rate = 1e-4;
     qc_design_result g;
     assert_int_equal(qc_design(&r, &g), QC_OK);
     assert_int_equal(g.objective, QC_OBJECTIVE_GMI);
@@ -529,9 +533,9 @@ static void test_gmi_objective(void **state)
     assert_near(g.shaping_gap_db, qc_shaping_gap_db(g.snr_db, g.rate_bits), TOL_TIGHT);
     qc_design_result_clear(&g);
     /* MI objective: no blocklength, NaN rate at blocklength */
-    r.objective = QC_OBJECTIVE_MI;
-    r.blocklength = 0;
-    r.error_rate = 0.0;
+    r.input.objective = QC_OBJECTIVE_MI;
+    r.numerics.blocklength = 0;
+    r.numerics.error_rate = 0.0;
     assert_int_equal(qc_design(&r, &g), QC_OK);
     assert_true(isnan(g.rate_at_blocklength_bits));
     assert_near(g.rate_bits, g.mi_bits, TOL_TIGHT);
@@ -552,8 +556,8 @@ static void test_optimize_levels_mi(void **state)
     c.power = 2.0;
     qc_design_request r;
     request(&r, m, start, 2, 2);
-    r.constraints = &c;
-    r.optimize_levels = 1;
+    r.input.constraints = &c;
+    r.input.optimize_levels = 1;
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(res.levels_optimized);
@@ -575,11 +579,11 @@ static void test_optimize_levels_mi(void **state)
     qc_constraints_none(&c);
     c.peak = 1.5;
     request(&r, m, pam, 4, 4);
-    r.constraints = &c;
+    r.input.constraints = &c;
     qc_design_result base;
     assert_int_equal(qc_design(&r, &base), QC_OK);
-    r.optimize_levels = 1;
-    r.level_starts = 2;
+    r.input.optimize_levels = 1;
+    r.input.level_starts = 2;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(res.rate_bits >= base.rate_bits - TOL_TIGHT);
     assert_near(res.levels[0], -1.5, TOL_LEVEL);
@@ -616,31 +620,31 @@ static void test_settings_keys(void **state)
                           "power-limit", "2", "snr-db", "10", "bits", "2",
                           "objective", "capacity", NULL};
     assert_int_equal(build(grid, &s, &m, &r), QC_OK);
-    assert_int_equal(r.nlevels, 9); /* −2, −1.5, …, 2 */
-    assert_near(r.levels[0], -2.0, TOL_TIGHT);
-    assert_near(m->params[0], sqrt(2.0 / 10.0), TOL_TIGHT);
-    assert_non_null(r.constraints);
-    assert_near(r.constraints->power, 2.0, TOL_EXACT);
-    assert_false(r.constraints->intensity);
+    assert_int_equal(r.channel.nlevels, 9); /* −2, −1.5, …, 2 */
+    assert_near(r.channel.levels[0], -2.0, TOL_TIGHT);
+    assert_near(qc_model_param(m, 0), sqrt(2.0 / 10.0), TOL_TIGHT);
+    assert_non_null(r.input.constraints);
+    assert_near(r.input.constraints->power, 2.0, TOL_EXACT);
+    assert_false(r.input.constraints->intensity);
     qc_model_free(m);
     qc_settings_free(s);
     /* QAM: Es/N0 = E[x_I²]/σ² from the per-quadrature levels (5 for 4-PAM) */
     const char *qam[] = {"model", "gauss", "alphabet", "qam:16", "snr-db", "10",
                          "bits", "3", NULL};
     assert_int_equal(build(qam, &s, &m, &r), QC_OK);
-    assert_int_equal(r.dimensions, 2);
-    assert_int_equal(r.nlevels, 4);
-    assert_near(m->params[0], sqrt(0.5), TOL_TIGHT);
-    assert_null(r.constraints);
+    assert_int_equal(r.channel.dimensions, 2);
+    assert_int_equal(r.channel.nlevels, 4);
+    assert_near(qc_model_param(m, 0), sqrt(0.5), TOL_TIGHT);
+    assert_null(r.input.constraints);
     qc_model_free(m);
     qc_settings_free(s);
     /* an intensity model: the peak interval is [0, A] */
     const char *pois[] = {"model", "poisson", "signal", "4", "level-grid", "-1,1,9",
                           "peak-limit", "0.5", "bits", "2", "objective", "capacity", NULL};
     assert_int_equal(build(pois, &s, &m, &r), QC_OK);
-    assert_int_equal(r.nlevels, 3); /* 0, 0.25, 0.5 */
-    assert_true(r.constraints->intensity);
-    assert_near(r.levels[0], 0.0, TOL_TIGHT);
+    assert_int_equal(r.channel.nlevels, 3); /* 0, 0.25, 0.5 */
+    assert_true(r.input.constraints->intensity);
+    assert_near(r.channel.levels[0], 0.0, TOL_TIGHT);
     qc_model_free(m);
     qc_settings_free(s);
     /* practitioners' keys; the switch takes true or false */
@@ -648,10 +652,10 @@ static void test_settings_keys(void **state)
                           "blocklength", "500", "error-rate", "1e-3", "peak-limit", "3",
                           "optimize-levels", "true", "level-starts", "2", NULL};
     assert_int_equal(build(prac, &s, &m, &r), QC_OK);
-    assert_int_equal(r.blocklength, 500);
-    assert_near(r.error_rate, 1e-3, TOL_EXACT);
-    assert_true(r.optimize_levels);
-    assert_int_equal(r.level_starts, 2);
+    assert_int_equal(r.numerics.blocklength, 500);
+    assert_near(r.numerics.error_rate, 1e-3, TOL_EXACT);
+    assert_true(r.input.optimize_levels);
+    assert_int_equal(r.input.level_starts, 2);
     assert_int_equal(qc_settings_set(s, "optimize-levels", "false"), QC_OK);
     assert_int_equal(qc_settings_set(s, "optimize-levels", "maybe"), QC_EINVAL);
     assert_message("true or false");
@@ -673,7 +677,7 @@ static void test_settings_keys(void **state)
     qc_settings *s2;
     assert_int_equal(build(avg, &s, &m, &r), QC_OK);
     assert_int_equal(build(top, &s2, &m2, &r), QC_OK);
-    assert_near(m2->params[0], m->params[0], 1e-12 * m->params[0]);
+    assert_near(qc_model_param(m2, 0), qc_model_param(m, 0), 1e-12 * qc_model_param(m, 0));
     qc_model_free(m);
     qc_model_free(m2);
     qc_settings_free(s);
@@ -692,30 +696,30 @@ static void test_bad_requests(void **state)
     qc_constraints c;
 
     request(&r, m, three, 3, 4);
-    r.objective = QC_OBJECTIVE_GMI;
+    r.input.objective = QC_OBJECTIVE_GMI;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("objective gmi");
     assert_message("power of 2");
-    r.objective = QC_OBJECTIVE_MI;
-    r.dimensions = 2;
+    r.input.objective = QC_OBJECTIVE_MI;
+    r.channel.dimensions = 2;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("QAM");
-    r.dimensions = 3;
+    r.channel.dimensions = 3;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("dimensions");
 
     request(&r, m, pam, 4, 4);
-    r.blocklength = 100;
+    r.numerics.blocklength = 100;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("error-rate");
-    r.blocklength = 0;
-    r.error_rate = 0.1;
+    r.numerics.blocklength = 0;
+    r.numerics.error_rate = 0.1;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("blocklength");
-    r.error_rate = 0.0;
+    r.numerics.error_rate = 0.0;
 
     qc_constraints_none(&c);
-    r.constraints = &c;
+    r.input.constraints = &c;
     c.power = 0.5; /* below min x² = 1 */
     assert_int_equal(qc_design(&r, &res), QC_EINFEASIBLE);
     assert_message("power");
@@ -736,28 +740,28 @@ static void test_bad_requests(void **state)
     c.peak = NAN;
     double costs[4] = {9, 1, 1, 9};
     c.power = 10.0;
-    r.costs = costs;
-    r.budget = 3.0;
-    r.objective = QC_OBJECTIVE_CAPACITY;
+    r.input.costs = costs;
+    r.input.budget = 3.0;
+    r.input.objective = QC_OBJECTIVE_CAPACITY;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("not both");
-    r.costs = NULL;
-    r.objective = QC_OBJECTIVE_MI;
+    r.input.costs = NULL;
+    r.input.objective = QC_OBJECTIVE_MI;
     /* level search: unbounded levels, fixed quantizer */
     qc_constraints_none(&c);
     c.mean = 1.0;
-    r.optimize_levels = 1;
+    r.input.optimize_levels = 1;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("optimize-levels");
     c.peak = 3.0;
-    r.quantizer = QC_QUANTIZER_FIXED;
+    r.quantizer.kind = QC_QUANTIZER_FIXED;
     const double t[3] = {-2, 0, 2};
-    r.thresholds = t;
-    r.nthresholds = 3;
+    r.quantizer.thresholds = t;
+    r.quantizer.nthresholds = 3;
     assert_int_equal(qc_design(&r, &res), QC_EINVAL);
     assert_message("fixed");
     /* a power and a mean no placement meets: |E x| ≤ √P < −mean */
-    r.quantizer = QC_QUANTIZER_OPTIMAL;
+    r.quantizer.kind = QC_QUANTIZER_OPTIMAL;
     qc_constraints_none(&c);
     c.power = 1.0;
     c.mean = -2.0;

@@ -79,14 +79,14 @@ static int run(const bench_case *bc, const char *table)
             qc_model_alloc(&qc_model_apd_gauss, bc->params, &range) != QC_OK)
             return fail("apd-gauss");
         double lo, hi, l2, h2;
-        range->type->support(range, levels[0], &lo, &hi);
-        range->type->support(range, levels[NLEVELS - 1], &l2, &h2);
+        qc_model_get_type(range)->support(range, levels[0], &lo, &hi);
+        qc_model_get_type(range)->support(range, levels[NLEVELS - 1], &l2, &h2);
         if (range != m)
             qc_model_free(range);
         lo = fmin(lo, l2);
         hi = fmax(hi, h2);
         for (int j = 0; j < CELLS - 1; j++)
-            t[j] = m->type->output == QC_OUTPUT_COUNTS
+            t[j] = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS
                        ? j + 1.0
                        : lo + (hi - lo) * (j + 1.0) / CELLS;
         qc_dmc *d;

@@ -101,13 +101,13 @@ int main(void)
     /* A complete design: fine grid, DP, refinement, references. */
     qc_design_request r;
     qc_design_request_default(&r);
-    r.model = m;
-    r.levels = levels;
-    r.nlevels = 4;
-    r.cells = 8;
-    r.quantizer = QC_QUANTIZER_OPTIMAL;
+    r.channel.model = m;
+    r.channel.levels = levels;
+    r.channel.nlevels = 4;
+    r.quantizer.cells = 8;
+    r.quantizer.kind = QC_QUANTIZER_OPTIMAL;
     for (int with_penalty = 0; with_penalty <= 1; with_penalty++) {
-        r.skip_snr_penalty = !with_penalty;
+        r.numerics.skip_snr_penalty = !with_penalty;
         qc_design_result res;
         double t0 = now();
         if (qc_design(&r, &res) != QC_OK)

@@ -44,11 +44,11 @@ static qc_status build(void *ctx, double snr_db, const qc_model **model,
     if (st != QC_OK)
         return st;
     qc_design_request_default(req);
-    req->model = b->model;
-    req->levels = levels;
-    req->nlevels = 4;
-    req->cells = b->cells;
-    req->skip_snr_penalty = 1;
+    req->channel.model = b->model;
+    req->channel.levels = levels;
+    req->channel.nlevels = 4;
+    req->quantizer.cells = b->cells;
+    req->numerics.skip_snr_penalty = 1;
     *model = b->model;
     return QC_OK;
 }

@@ -39,12 +39,12 @@ static void request(qc_design_request *r, const qc_model *m, const double *level
                     size_t cells)
 {
     qc_design_request_default(r);
-    r->model = m;
-    r->levels = levels;
-    r->nlevels = n;
-    r->cells = cells;
-    r->objective = QC_OBJECTIVE_CAPACITY;
-    r->skip_snr_penalty = 1;
+    r->channel.model = m;
+    r->channel.levels = levels;
+    r->channel.nlevels = n;
+    r->quantizer.cells = cells;
+    r->input.objective = QC_OBJECTIVE_CAPACITY;
+    r->numerics.skip_snr_penalty = 1;
 }
 
 /* n equally spaced values on [lo, hi]. */
@@ -201,11 +201,11 @@ static void test_amplitude_constraint(void **state)
         c.peak = A;
         qc_design_request r;
         request(&r, m, grid, N, FINE_T + 1);
-        r.quantizer = QC_QUANTIZER_FIXED;
-        r.thresholds = fine_t;
-        r.nthresholds = FINE_T;
-        r.constraints = &c;
-        r.tol_bits = 1e-10;
+        r.quantizer.kind = QC_QUANTIZER_FIXED;
+        r.quantizer.thresholds = fine_t;
+        r.quantizer.nthresholds = FINE_T;
+        r.input.constraints = &c;
+        r.numerics.tol_bits = 1e-10;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         assert_true(res.upper_bound_bits - res.rate_bits <= 1e-10 + TOL_TIGHT);
@@ -219,10 +219,10 @@ static void test_amplitude_constraint(void **state)
              * the same quantizer */
             const double bin[2] = {-A, A};
             qc_design_request rb = r;
-            rb.objective = QC_OBJECTIVE_MI;
-            rb.levels = bin;
-            rb.nlevels = 2;
-            rb.constraints = NULL;
+            rb.input.objective = QC_OBJECTIVE_MI;
+            rb.channel.levels = bin;
+            rb.channel.nlevels = 2;
+            rb.input.constraints = NULL;
             qc_design_result b;
             assert_int_equal(qc_design(&rb, &b), QC_OK);
             assert_near(res.rate_bits, b.rate_bits, TOL_ENGINE);
@@ -255,11 +255,11 @@ static void test_power_constraint(void **state)
     c.power = P;
     qc_design_request r;
     request(&r, m, grid, N, FINE_T + 1);
-    r.quantizer = QC_QUANTIZER_FIXED;
-    r.thresholds = fine_t;
-    r.nthresholds = FINE_T;
-    r.constraints = &c;
-    r.tol_bits = 1e-5;
+    r.quantizer.kind = QC_QUANTIZER_FIXED;
+    r.quantizer.thresholds = fine_t;
+    r.quantizer.nthresholds = FINE_T;
+    r.input.constraints = &c;
+    r.numerics.tol_bits = 1e-5;
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     double shannon = 0.5 * log2(1.0 + P);
@@ -275,9 +275,9 @@ static void test_power_constraint(void **state)
     linspace(-4.0, 4.0, 61, grid2);
     for (size_t K = 2; K <= 4; K *= 2) {
         request(&r, m, grid2, 61, K);
-        r.constraints = &c;
-        r.tol_bits = 1e-6; /* the law's stray mass stays below 1e-4 */
-        r.fine_cells = 1024;
+        r.input.constraints = &c;
+        r.numerics.tol_bits = 1e-6; /* the law's stray mass stays below 1e-4 */
+        r.numerics.fine_cells = 1024;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         size_t cl = clusters(res.input, 61, CLUSTER_MASS);
         assert_true(cl >= 2 && cl <= K + 1);
@@ -314,11 +314,11 @@ static void test_photon_counting_peak(void **state)
         c.intensity = 1;
         qc_design_request r;
         request(&r, m, grid, N, K);
-        r.quantizer = QC_QUANTIZER_FIXED;
-        r.thresholds = t;
-        r.nthresholds = K - 1;
-        r.constraints = &c;
-        r.tol_bits = 1e-10;
+        r.quantizer.kind = QC_QUANTIZER_FIXED;
+        r.quantizer.thresholds = t;
+        r.quantizer.nthresholds = K - 1;
+        r.input.constraints = &c;
+        r.numerics.tol_bits = 1e-10;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         assert_true(res.input[0] > 0.05 && res.input[N - 1] > 0.05);
@@ -352,8 +352,8 @@ static void test_gmi_mi_capacity(void **state)
                         continue;
                     qc_design_request r;
                     request(&r, m, pam, 4, (size_t)1 << bits);
-                    r.objective = (qc_objective)obj;
-                    r.quantizer = (qc_quantizer_kind)q;
+                    r.input.objective = (qc_objective)obj;
+                    r.quantizer.kind = (qc_quantizer_kind)q;
                     qc_design_result res;
                     assert_int_equal(qc_design(&r, &res), QC_OK);
                     qc_capacity_result cr;
@@ -397,19 +397,19 @@ static void test_power_and_mean_design(void **state)
     mean_only.power = NAN;
     qc_design_request r;
     request(&r, m, grid, N, 8);
-    r.fine_cells = 512;
-    r.tol_bits = 1e-7;
+    r.numerics.fine_cells = 512;
+    r.numerics.tol_bits = 1e-7;
     qc_design_result b, p, mn;
-    r.constraints = &both;
+    r.input.constraints = &both;
     assert_int_equal(qc_design(&r, &b), QC_OK);
-    r.constraints = &power_only;
+    r.input.constraints = &power_only;
     assert_int_equal(qc_design(&r, &p), QC_OK);
-    r.constraints = &mean_only;
+    r.input.constraints = &mean_only;
     assert_int_equal(qc_design(&r, &mn), QC_OK);
     assert_true(b.average_power <= 0.8 * (1 + 1e-9));
     assert_true(b.average_level <= 0.55 * (1 + 1e-9));
     assert_true(b.rate_bits <= b.upper_bound_bits);
-    assert_true(b.upper_bound_bits - b.rate_bits <= r.tol_bits + TOL_TIGHT);
+    assert_true(b.upper_bound_bits - b.rate_bits <= r.numerics.tol_bits + TOL_TIGHT);
     /* each single-constraint optimum violates the other constraint */
     assert_true(p.average_level > 0.55 && mn.average_power > 0.8);
     /* a smaller feasible set never raises the capacity of the same
@@ -438,16 +438,16 @@ static void test_optimize_levels_capacity(void **state)
     c.peak = 1.0;
     qc_design_request r;
     request(&r, m, start, 3, 4);
-    r.constraints = &c;
-    r.fine_cells = 256;
-    r.tol_bits = 1e-8;
+    r.input.constraints = &c;
+    r.numerics.fine_cells = 256;
+    r.numerics.tol_bits = 1e-8;
     qc_design_result base, symmetric, opt;
     assert_int_equal(qc_design(&r, &base), QC_OK);
-    r.levels = sym;
+    r.channel.levels = sym;
     assert_int_equal(qc_design(&r, &symmetric), QC_OK);
-    r.levels = start;
-    r.optimize_levels = 1;
-    r.level_starts = 1;
+    r.channel.levels = start;
+    r.input.optimize_levels = 1;
+    r.input.level_starts = 1;
     assert_int_equal(qc_design(&r, &opt), QC_OK);
     assert_true(opt.levels_optimized);
     assert_true(opt.rate_bits >= base.rate_bits - 1e-8);

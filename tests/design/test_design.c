@@ -48,11 +48,11 @@ static void request(qc_design_request *r, const qc_model *m, const double *level
                     size_t n, size_t cells, qc_quantizer_kind kind)
 {
     qc_design_request_default(r);
-    r->model = m;
-    r->levels = levels;
-    r->nlevels = n;
-    r->cells = cells;
-    r->quantizer = kind;
+    r->channel.model = m;
+    r->channel.levels = levels;
+    r->channel.nlevels = n;
+    r->quantizer.cells = cells;
+    r->quantizer.kind = kind;
 }
 
 static double h2(double p) { return qc_binary_entropy(p) * QC_LOG2E; }
@@ -75,9 +75,9 @@ static void test_bpsk_one_bit_closed_form(void **state)
         for (int k = 0; k < QC_QUANTIZER_COUNT; k++) {
             qc_design_request r;
             request(&r, m, levels, 2, 2, (qc_quantizer_kind)k);
-            r.thresholds = &zero;
-            r.nthresholds = 1;
-            r.skip_snr_penalty = 1;
+            r.quantizer.thresholds = &zero;
+            r.quantizer.nthresholds = 1;
+            r.numerics.skip_snr_penalty = 1;
             qc_design_result res;
             assert_int_equal(qc_design(&r, &res), QC_OK);
             assert_true(fabs(res.rate_bits - want) <= TOL_RATE);
@@ -105,7 +105,7 @@ static void test_bpsk_rate_half_limit(void **state)
     qc_model *m = gauss(1.0 / sqrt(pow(10.0, 0.187 / 10.0)));
     qc_design_request r;
     request(&r, m, levels, 2, 2, QC_QUANTIZER_OPTIMAL);
-    r.skip_snr_penalty = 1;
+    r.numerics.skip_snr_penalty = 1;
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(fabs(res.unquantized_bits - 0.5) <= TOL_HALF);
@@ -153,7 +153,7 @@ static void test_bpsk_optimal_symmetric(void **state)
         size_t K = (size_t)1 << bits;
         qc_design_request r;
         request(&r, m, levels, 2, K, QC_QUANTIZER_OPTIMAL);
-        r.skip_snr_penalty = 1;
+        r.numerics.skip_snr_penalty = 1;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         /* symmetric channel and law: symmetric thresholds (common practice) */
@@ -189,8 +189,8 @@ static void test_orderings(void **state)
                 size_t K = (size_t)1 << bits;
                 qc_design_request r;
                 request(&r, m, sets[s].levels, sets[s].n, K, QC_QUANTIZER_OPTIMAL);
-                r.probabilities = sets[s].law;
-                r.skip_snr_penalty = 1;
+                r.input.probabilities = sets[s].law;
+                r.numerics.skip_snr_penalty = 1;
                 qc_design_comparison c;
                 assert_int_equal(qc_design_compare(&r, &c), QC_OK);
                 assert_int_equal(c.count, 3);
@@ -224,11 +224,11 @@ static void test_optimal_grid_independent(void **state)
     qc_design_result a, b;
     qc_design_request r;
     request(&r, m, levels, 4, 8, QC_QUANTIZER_OPTIMAL);
-    r.skip_snr_penalty = 1;
-    r.fine_cells = 64;
+    r.numerics.skip_snr_penalty = 1;
+    r.numerics.fine_cells = 64;
     assert_int_equal(qc_design(&r, &a), QC_OK);
     assert_int_equal(a.fine_cells, 64);
-    r.fine_cells = 8192;
+    r.numerics.fine_cells = 8192;
     assert_int_equal(qc_design(&r, &b), QC_OK);
     /* the refinement removes the grid: same thresholds and rate */
     for (size_t j = 0; j < 7; j++)
@@ -284,8 +284,8 @@ static void test_photon_counting_exhaustive(void **state)
             for (size_t K = 2; K <= 4; K++) {
                 qc_design_request r;
                 request(&r, m, levels, 2, K, QC_QUANTIZER_OPTIMAL);
-                r.probabilities = law;
-                r.skip_snr_penalty = 1;
+                r.input.probabilities = law;
+                r.numerics.skip_snr_penalty = 1;
                 qc_design_result res;
                 assert_int_equal(qc_design(&r, &res), QC_OK);
                 for (size_t j = 0; j < K - 1; j++)
@@ -333,13 +333,13 @@ static void test_capacity_one_bit_antipodal(void **state)
         qc_model *m = gauss(k == 0 ? 1.0 : 0.5);
         qc_design_request r;
         request(&r, m, levels, 9, 2, k == 0 ? QC_QUANTIZER_FIXED : QC_QUANTIZER_OPTIMAL);
-        r.objective = QC_OBJECTIVE_CAPACITY;
-        r.thresholds = &zero;
-        r.nthresholds = 1;
-        r.skip_snr_penalty = 1;
+        r.input.objective = QC_OBJECTIVE_CAPACITY;
+        r.quantizer.thresholds = &zero;
+        r.quantizer.nthresholds = 1;
+        r.numerics.skip_snr_penalty = 1;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
-        double sigma = m->params[0];
+        double sigma = qc_model_param(m, 0);
         double want = 1.0 - h2(0.5 * erfc(A / sigma / M_SQRT2));
         assert_true(fabs(res.rate_bits - want) <= TOL_ENGINE);
         assert_true(res.upper_bound_bits >= res.rate_bits);
@@ -364,8 +364,8 @@ static void test_capacity_orderings(void **state)
         size_t K = (size_t)1 << bits;
         qc_design_request r;
         request(&r, m, levels, 5, K, QC_QUANTIZER_OPTIMAL);
-        r.objective = QC_OBJECTIVE_CAPACITY;
-        r.skip_snr_penalty = 1;
+        r.input.objective = QC_OBJECTIVE_CAPACITY;
+        r.numerics.skip_snr_penalty = 1;
         qc_design_comparison c;
         assert_int_equal(qc_design_compare(&r, &c), QC_OK);
         const qc_design_result *opt = &c.result[2];
@@ -387,7 +387,7 @@ static void test_capacity_orderings(void **state)
             assert_true(opt->rate_bits >= x->rate_bits - x->tol_bits);
         }
         /* capacity is at least the MI of the uniform law on the same cells */
-        r.objective = QC_OBJECTIVE_MI;
+        r.input.objective = QC_OBJECTIVE_MI;
         qc_design_result mi_opt;
         assert_int_equal(qc_design(&r, &mi_opt), QC_OK);
         assert_true(opt->upper_bound_bits >= mi_opt.rate_bits - TOL_ORDER);
@@ -424,14 +424,14 @@ static void test_capacity_shannon_limit(void **state)
         qc_model *m = gauss(1.0);
         qc_design_request r;
         request(&r, m, levels, NL, NT + 1, QC_QUANTIZER_FIXED);
-        r.objective = QC_OBJECTIVE_CAPACITY;
-        r.thresholds = t;
-        r.nthresholds = NT;
-        r.costs = costs;
-        r.budget = P;
-        r.tol_bits = 1e-4; /* ample for a 0.01-bit check; BA is slow on a
+        r.input.objective = QC_OBJECTIVE_CAPACITY;
+        r.quantizer.thresholds = t;
+        r.quantizer.nthresholds = NT;
+        r.input.costs = costs;
+        r.input.budget = P;
+        r.numerics.tol_bits = 1e-4; /* ample for a 0.01-bit check; BA is slow on a
                               near-continuous input at tighter gaps */
-        r.skip_snr_penalty = 1;
+        r.numerics.skip_snr_penalty = 1;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         double shannon = 0.5 * log2(1.0 + P);
@@ -455,7 +455,7 @@ static void test_result_contents(void **state)
     qc_model *m = gauss(0.4);
     qc_design_request r;
     request(&r, m, levels, 3, 4, QC_QUANTIZER_LLOYD_MAX);
-    r.probabilities = law;
+    r.input.probabilities = law;
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_int_equal(res.quantizer, QC_QUANTIZER_LLOYD_MAX);
@@ -550,7 +550,7 @@ static void test_penalty_undefined_when_saturated(void **state)
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_true(fabs(res.snr_db - 30.0) <= TOL_SNR_DB);
-    assert_true(3.0 - res.rate_bits <= r.tol_bits);
+    assert_true(3.0 - res.rate_bits <= r.numerics.tol_bits);
     assert_true(isnan(res.snr_penalty_db));
     assert_int_equal(res.snr_penalty_note, QC_PENALTY_SATURATED);
     assert_non_null(strstr(qc_penalty_note_text(res.snr_penalty_note), "saturated"));
@@ -622,7 +622,7 @@ static void test_model_without_snr(void **state)
     m = gauss(1.0);
     assert_int_equal(qc_model_scale_snr(m, -1.0, &scaled), QC_EINVAL);
     assert_int_equal(qc_model_scale_snr(m, 4.0, &scaled), QC_OK);
-    assert_true(fabs(scaled->params[0] - 0.5) <= TOL_TIGHT); /* σ/√4 */
+    assert_true(fabs(qc_model_param(scaled, 0) - 0.5) <= TOL_TIGHT); /* σ/√4 */
     qc_model_free(scaled);
     qc_model_free(m);
 }
@@ -659,9 +659,9 @@ static void test_compare_with_fixed(void **state)
     qc_model *m = gauss(0.8);
     qc_design_request r;
     request(&r, m, levels, 2, 4, QC_QUANTIZER_UNIFORM);
-    r.thresholds = t;
-    r.nthresholds = 3;
-    r.skip_snr_penalty = 1;
+    r.quantizer.thresholds = t;
+    r.quantizer.nthresholds = 3;
+    r.numerics.skip_snr_penalty = 1;
     qc_design_comparison c;
     assert_int_equal(qc_design_compare(&r, &c), QC_OK);
     assert_int_equal(c.count, 4);
@@ -672,7 +672,7 @@ static void test_compare_with_fixed(void **state)
     assert_string_equal(c.message[0], "");
     qc_design_comparison_clear(&c);
     /* an invalid request fills nothing */
-    r.nthresholds = 2;
+    r.quantizer.nthresholds = 2;
     assert_int_equal(qc_design_compare(&r, &c), QC_EINVAL);
     assert_int_equal(c.count, 0);
     qc_model_free(m);
@@ -728,30 +728,30 @@ static void test_bad_input(void **state)
     qc_design_request r;
     request(&r, m, levels, 2, 1, QC_QUANTIZER_OPTIMAL);
     expect_einval(&r, "cells must be between 2 and 65536 (1 to 16 bits), got 1");
-    r.cells = 65537;
+    r.quantizer.cells = 65537;
     expect_einval(&r, "got 65537");
-    r.cells = 16;
-    r.fine_cells = 8;
+    r.quantizer.cells = 16;
+    r.numerics.fine_cells = 8;
     expect_einval(&r, "fine grid of 8 cells is smaller than the 16 quantizer cells");
-    r.fine_cells = 0;
+    r.numerics.fine_cells = 0;
 
     const double unsorted[3] = {0.5, -0.5, 1.0}, dup[3] = {-0.5, 0.0, 0.0};
     const double good[3] = {-0.5, 0.0, 0.5};
     request(&r, m, levels, 2, 4, QC_QUANTIZER_FIXED);
     expect_einval(&r, "the fixed quantizer needs thresholds");
-    r.thresholds = unsorted;
-    r.nthresholds = 3;
+    r.quantizer.thresholds = unsorted;
+    r.quantizer.nthresholds = 3;
     expect_einval(&r, "threshold 2 (-0.5) is not above threshold 1 (0.5)");
-    r.thresholds = dup;
+    r.quantizer.thresholds = dup;
     expect_einval(&r, "threshold 3 (0) is not above threshold 2 (0)");
-    r.thresholds = good;
-    r.nthresholds = 2;
+    r.quantizer.thresholds = good;
+    r.quantizer.nthresholds = 2;
     expect_einval(&r, "4 cells need 3 thresholds, got 2");
-    r.nthresholds = 3;
-    r.cells = 8;
+    r.quantizer.nthresholds = 3;
+    r.quantizer.cells = 8;
     expect_einval(&r, "8 cells need 7 thresholds, got 3");
     /* cells 0 with fixed thresholds: K = nthresholds + 1 */
-    r.cells = 0;
+    r.quantizer.cells = 0;
     qc_design_result res;
     assert_int_equal(qc_design(&r, &res), QC_OK);
     assert_int_equal(res.cells, 4);
@@ -759,29 +759,29 @@ static void test_bad_input(void **state)
 
     const double bad_law[2] = {0.5, 0.6}, neg_law[2] = {1.5, -0.5};
     request(&r, m, levels, 2, 4, QC_QUANTIZER_OPTIMAL);
-    r.probabilities = bad_law;
+    r.input.probabilities = bad_law;
     expect_einval(&r, "input probabilities sum to 1.1");
-    r.probabilities = neg_law;
+    r.input.probabilities = neg_law;
     expect_einval(&r, "input probability 2 is -0.5");
-    r.probabilities = NULL;
+    r.input.probabilities = NULL;
     const double costs[2] = {1.0, 1.0};
-    r.costs = costs;
-    r.budget = 1.0;
+    r.input.costs = costs;
+    r.input.budget = 1.0;
     expect_einval(&r, "a cost constraint needs the capacity objective");
-    r.costs = NULL;
-    r.tol_bits = -1.0;
+    r.input.costs = NULL;
+    r.numerics.tol_bits = -1.0;
     expect_einval(&r, "tolerance must be >= 0 bits");
-    r.tol_bits = 0.0;
+    r.numerics.tol_bits = 0.0;
     const double nan_level[2] = {-1.0, NAN};
-    r.levels = nan_level;
+    r.channel.levels = nan_level;
     expect_einval(&r, "level 2 is not a finite number");
-    r.levels = NULL;
+    r.channel.levels = NULL;
     expect_einval(&r, "no input levels given");
-    r.levels = levels;
-    r.model = NULL;
+    r.channel.levels = levels;
+    r.channel.model = NULL;
     expect_einval(&r, "no noise model given");
-    r.model = m;
-    r.quantizer = (qc_quantizer_kind)42;
+    r.channel.model = m;
+    r.quantizer.kind = (qc_quantizer_kind)42;
     expect_einval(&r, "unknown quantizer 42");
     expect_einval(NULL, "no design request given");
     qc_model_free(m);
@@ -824,20 +824,20 @@ static void test_progress_callback(void **state)
     for (int k = 0; k < 4; k++) {
         qc_design_request r;
         request(&r, m, levels, k == 3 ? 2 : 9, 4, QC_QUANTIZER_OPTIMAL);
-        r.objective = k == 0 ? QC_OBJECTIVE_MI : QC_OBJECTIVE_CAPACITY;
-        r.skip_snr_penalty = 1;
+        r.input.objective = k == 0 ? QC_OBJECTIVE_MI : QC_OBJECTIVE_CAPACITY;
+        r.numerics.skip_snr_penalty = 1;
         if (k >= 2)
-            r.constraints = &c;
+            r.input.constraints = &c;
         double two[2] = {-0.5, 0.5};
         if (k == 3) { /* level search for 2 levels under the power budget */
-            r.levels = two;
-            r.optimize_levels = 1;
-            r.level_starts = 1;
-            r.objective = QC_OBJECTIVE_MI;
+            r.channel.levels = two;
+            r.input.optimize_levels = 1;
+            r.input.level_starts = 1;
+            r.input.objective = QC_OBJECTIVE_MI;
         }
         progress_log log = {0};
-        r.progress = log_progress;
-        r.progress_user = &log;
+        r.numerics.progress = log_progress;
+        r.numerics.progress_user = &log;
         qc_design_result res;
         assert_int_equal(qc_design(&r, &res), QC_OK);
         if (k == 0) {

@@ -47,14 +47,14 @@ static qc_status build(void *ctx, double snr_db, const qc_model **model,
     if (st != QC_OK)
         return st;
     qc_design_request_default(req);
-    req->model = b->model;
-    req->levels = b->levels;
-    req->nlevels = b->n;
-    req->cells = b->cells;
-    req->quantizer = b->quantizer;
+    req->channel.model = b->model;
+    req->channel.levels = b->levels;
+    req->channel.nlevels = b->n;
+    req->quantizer.cells = b->cells;
+    req->quantizer.kind = b->quantizer;
     if (b->thresholds) {
-        req->thresholds = b->thresholds;
-        req->nthresholds = b->cells - 1;
+        req->quantizer.thresholds = b->thresholds;
+        req->quantizer.nthresholds = b->cells - 1;
     }
     *model = b->model;
     return QC_OK;

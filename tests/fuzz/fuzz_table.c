@@ -15,12 +15,12 @@
 
 static void check_point(const qc_model *m, double x, double t)
 {
-    double b = m->type->below(m, x, t), a = m->type->above(m, x, t);
+    double b = qc_model_get_type(m)->below(m, x, t), a = qc_model_get_type(m)->above(m, x, t);
     if (!(b >= 0.0 && b <= 1.0 + SUM_TOL && a >= 0.0 && a <= 1.0 + SUM_TOL))
         abort();
     if (fabs(a + b - 1.0) > SUM_TOL)
         abort();
-    double f = m->type->density(m, x, t);
+    double f = qc_model_get_type(m)->density(m, x, t);
     if (!(f >= 0.0) || !isfinite(f))
         abort();
 }
@@ -41,7 +41,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (qc_model_check_levels(m, levels, nl) != QC_OK)
         abort();
     double lo, hi;
-    m->type->support(m, levels[0], &lo, &hi);
+    qc_model_get_type(m)->support(m, levels[0], &lo, &hi);
     if (!(lo < hi) || !isfinite(lo) || !isfinite(hi))
         abort();
     /* Tails at the ends, outside, and at a few inner points. */

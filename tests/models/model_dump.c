@@ -56,9 +56,9 @@ static int run(json_t *q, json_t *out)
     json_array_foreach(ts, i, tv)
     {
         double t = json_number_value(tv);
-        json_array_append_new(below, number(m->type->below(m, x, t)));
-        json_array_append_new(above, number(m->type->above(m, x, t)));
-        json_array_append_new(dens, number(m->type->density(m, x, t)));
+        json_array_append_new(below, number(qc_model_get_type(m)->below(m, x, t)));
+        json_array_append_new(above, number(qc_model_get_type(m)->above(m, x, t)));
+        json_array_append_new(dens, number(qc_model_get_type(m)->density(m, x, t)));
     }
     double mean = NAN, var = NAN;
     if (qc_model_moments(m, x, &mean, &var) != QC_OK) {

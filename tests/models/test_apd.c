@@ -76,20 +76,20 @@ static void law_moments(const qc_model *m, double x, double w, double *mass,
                         double *mean, double *var)
 {
     double lo, hi;
-    m->type->support(m, x, &lo, &hi);
+    qc_model_get_type(m)->support(m, x, &lo, &hi);
     size_t n = (size_t)ceil((hi - lo) / w);
     double s0 = 0, s1 = 0, s2 = 0;
-    double prev = m->type->below(m, x, lo);
+    double prev = qc_model_get_type(m)->below(m, x, lo);
     for (size_t i = 1; i <= n; i++) {
         double t = lo + (double)i * w;
-        double cur = m->type->below(m, x, t);
+        double cur = qc_model_get_type(m)->below(m, x, t);
         double p = cur - prev, y = t - 0.5 * w;
         s0 += p;
         s1 += p * y;
         s2 += p * y * y;
         prev = cur;
     }
-    *mass = s0 + m->type->below(m, x, lo) + m->type->above(m, x, lo + (double)n * w);
+    *mass = s0 + qc_model_get_type(m)->below(m, x, lo) + qc_model_get_type(m)->above(m, x, lo + (double)n * w);
     *mean = s1 / s0;
     *var = s2 / s0 - *mean * *mean - w * w / 12.0;
 }
@@ -132,11 +132,11 @@ static void test_regimes_agree(void **state)
     double pl[QC_MODEL_MAX_PARAMS] = {6.0, 0.2, 12.0, 0.4, 7.99999999};
     qc_model *s = make(&qc_model_apd, ps), *l = make(&qc_model_apd, pl);
     for (double t = -40.0; t < 600.0; t += 3.7) {
-        double bs = s->type->below(s, 1.0, t), bl = l->type->below(l, 1.0, t);
-        double as = s->type->above(s, 1.0, t), al = l->type->above(l, 1.0, t);
+        double bs = qc_model_get_type(s)->below(s, 1.0, t), bl = qc_model_get_type(l)->below(l, 1.0, t);
+        double as = qc_model_get_type(s)->above(s, 1.0, t), al = qc_model_get_type(l)->above(l, 1.0, t);
         assert_near(bs, bl, TOL_CDF);
         assert_near(as, al, TOL_CDF);
-        double ds = s->type->density(s, 1.0, t), dl = l->type->density(l, 1.0, t);
+        double ds = qc_model_get_type(s)->density(s, 1.0, t), dl = qc_model_get_type(l)->density(l, 1.0, t);
         assert_near(ds, dl, 1e-7 * fmax(dl, 1e-6));
     }
     qc_model_free(s);
@@ -151,7 +151,7 @@ static double cdf_distance(const double *p, double x)
     qc_model_moments(g, x, &mean, &var);
     double sd = sqrt(var);
     for (double t = mean - 6 * sd; t <= mean + 6 * sd; t += sd / 50)
-        d = fmax(d, fabs(e->type->below(e, x, t) - g->type->below(g, x, t)));
+        d = fmax(d, fabs(qc_model_get_type(e)->below(e, x, t) - qc_model_get_type(g)->below(g, x, t)));
     qc_model_free(e);
     qc_model_free(g);
     return d;
@@ -213,11 +213,11 @@ static void test_history_free(void **state)
     double mean, var;
     assert_int_equal(qc_model_moments(fresh, x, &mean, &var), QC_OK);
     for (size_t i = 0; i < 2; i++)
-        (void)used->type->below(used, others[i], mean);
+        (void)qc_model_get_type(used)->below(used, others[i], mean);
     for (int j = -12; j <= 12; j++) {
         double t = mean + j * sqrt(var) / 2.0;
-        double a = fresh->type->below(fresh, x, t), b = used->type->below(used, x, t);
-        double qa = fresh->type->above(fresh, x, t), qb = used->type->above(used, x, t);
+        double a = qc_model_get_type(fresh)->below(fresh, x, t), b = qc_model_get_type(used)->below(used, x, t);
+        double qa = qc_model_get_type(fresh)->above(fresh, x, t), qb = qc_model_get_type(used)->above(used, x, t);
         assert_memory_equal(&a, &b, sizeof a);
         assert_memory_equal(&qa, &qb, sizeof qa);
     }
@@ -335,8 +335,8 @@ static void test_high_counts(void **state)
         double sd = sqrt(kappa[2]);
         for (double q = -6.0; q <= 6.0; q += 0.37) {
             double t = kappa[1] + q * sd, want = edgeworth_below(kappa, t);
-            assert_near(m->type->below(m, 1.0, t), want, TOL_EDGEWORTH);
-            assert_near(m->type->above(m, 1.0, t), 1.0 - want, TOL_EDGEWORTH);
+            assert_near(qc_model_get_type(m)->below(m, 1.0, t), want, TOL_EDGEWORTH);
+            assert_near(qc_model_get_type(m)->above(m, 1.0, t), 1.0 - want, TOL_EDGEWORTH);
         }
         qc_model_free(m);
     }

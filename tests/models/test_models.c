@@ -64,6 +64,26 @@ static void test_registry(void **state)
     expect_message("qc_model_table_load");
 }
 
+/* The accessors of the opaque instance: its type, each parameter as
+ * checked (defaults filled in), NaN past the type's parameters. */
+static void test_instance_accessors(void **state)
+{
+    (void)state;
+    double p[QC_MODEL_MAX_PARAMS] = {0.5, NAN, 0.02}; /* gauss-sd: a left at default */
+    qc_model *m = make("gauss-sd", p);
+    const qc_model_type *t = qc_model_get_type(m);
+    assert_ptr_equal(t, &qc_model_gauss_sd);
+    const double *all = qc_model_params(m);
+    for (size_t i = 0; i < t->nparams; i++) {
+        double want = isnan(p[i]) ? t->params[i].default_value : p[i];
+        assert_true(qc_model_param(m, i) == want);
+        assert_true(all[i] == want);
+    }
+    assert_true(isnan(qc_model_param(m, t->nparams)));
+    assert_true(isnan(qc_model_param(m, (size_t)-1)));
+    qc_model_free(m);
+}
+
 /* Valid parameters per model, in the order of the type's params. */
 typedef struct {
     const char *name;
@@ -148,13 +168,13 @@ static double moment_integrand(double y, void *p)
 {
     (void)p;
     return pow(y, model_moment_k) *
-           model_moment_m->type->density(model_moment_m, model_moment_x, y);
+           qc_model_get_type(model_moment_m)->density(model_moment_m, model_moment_x, y);
 }
 
 static void density_moments(const qc_model *m, double x, double mom[3])
 {
     double lo, hi;
-    m->type->support(m, x, &lo, &hi);
+    qc_model_get_type(m)->support(m, x, &lo, &hi);
     gsl_integration_workspace *w = gsl_integration_workspace_alloc(1000);
     model_moment_m = m;
     model_moment_x = x;
@@ -183,8 +203,8 @@ static void check_density_and_moments(const char *name, const double *p,
         assert_near(mom[2] - mom[1] * mom[1], var, 1e-6 * var);
         for (double t = mean - 5 * sqrt(var); t < mean + 5 * sqrt(var);
              t += sqrt(var) / 3) {
-            double lo = m->type->below(m, levels[i], t);
-            double hi = m->type->above(m, levels[i], t);
+            double lo = qc_model_get_type(m)->below(m, levels[i], t);
+            double hi = qc_model_get_type(m)->above(m, levels[i], t);
             assert_near(lo + hi, 1.0, TOL_TIGHT);
         }
     }
@@ -205,9 +225,9 @@ static void test_gauss_sd(void **state)
     /* Q(10) = 7.6198530241605e-24 (Abramowitz & Stegun, table 26.1 gives
      * Q(10) ≈ 7.62e-24; scipy.stats.norm.sf(10) = 7.619853024160527e-24) */
     double sd = sqrt(var);
-    assert_near(m->type->above(m, 4.0, 4.0 + 10 * sd) / 7.619853024160527e-24,
+    assert_near(qc_model_get_type(m)->above(m, 4.0, 4.0 + 10 * sd) / 7.619853024160527e-24,
                         1.0, 1e-12);
-    assert_near(m->type->below(m, 4.0, 4.0 - 10 * sd) / 7.619853024160527e-24,
+    assert_near(qc_model_get_type(m)->below(m, 4.0, 4.0 - 10 * sd) / 7.619853024160527e-24,
                         1.0, 1e-12);
     qc_model_free(m);
 }
@@ -233,8 +253,8 @@ static void test_gauss_sd_snr(void **state)
     assert_int_equal(qc_model_scale_snr(m, 4.0, &scaled), QC_OK);
     assert_true(fabs(qc_model_snr_db(scaled, levels, law, 4) - snr_db - 10.0 * log10(4.0)) <
                 TOL_TIGHT);
-    assert_true(fabs(scaled->params[0] - 0.25) < TOL_TIGHT);
-    assert_true(fabs(scaled->params[1] - 0.05) < TOL_TIGHT);
+    assert_true(fabs(qc_model_param(scaled, 0) - 0.25) < TOL_TIGHT);
+    assert_true(fabs(qc_model_param(scaled, 1) - 0.05) < TOL_TIGHT);
     qc_model_free(scaled);
     qc_model_free(m);
 }
@@ -251,13 +271,13 @@ static void test_preamp(void **state)
     qc_model *m = make("preamp", p);
     double t = 60.0;
     double q = exp(-t) * (1 + t + t * t / 2);
-    assert_near(m->type->above(m, 0.0, t) / q, 1.0, TOL_TIGHT);
+    assert_near(qc_model_get_type(m)->above(m, 0.0, t) / q, 1.0, TOL_TIGHT);
     /* m = 1, 2Y ~ ncx2(2, 2x): P(Y < t) = 1 − Q1(√(2x), √(2t)) ... checked
      * against scipy in tests/models; here: monotone in x (more signal, less
      * mass below a threshold) */
     double prev = 1.0;
     for (double x = 0.0; x < 50.0; x += 2.5) {
-        double b = m->type->below(m, x, 20.0);
+        double b = qc_model_get_type(m)->below(m, x, 20.0);
         assert_true(b <= prev);
         prev = b;
     }
@@ -278,7 +298,7 @@ static void test_preamp_one_mode_far(void **state)
                             {250.0, 260.0, 0.016021062513071848},
                             {1e6, 1e6 + 500.0, 0.0002649745727088197}};
     for (size_t i = 0; i < sizeof xy / sizeof xy[0]; i++) {
-        double f = m->type->density(m, xy[i][0], xy[i][1]);
+        double f = qc_model_get_type(m)->density(m, xy[i][0], xy[i][1]);
         assert_true(isfinite(f));
         assert_near(f / xy[i][2], 1.0, TOL_SCIPY_REL);
     }
@@ -312,30 +332,30 @@ static void test_poisson(void **state)
     qc_model *m = make("poisson", p);
     /* P(Y ≤ t−1) + P(Y ≥ t) = 1 and the mass function sums the cell */
     for (double t = 1; t < 30; t++) {
-        double lo = m->type->below(m, 1.0, t), hi = m->type->above(m, 1.0, t);
+        double lo = qc_model_get_type(m)->below(m, 1.0, t), hi = qc_model_get_type(m)->above(m, 1.0, t);
         assert_near(lo + hi, 1.0, TOL_TIGHT);
-        double next = m->type->below(m, 1.0, t + 1);
-        assert_near(next - lo, m->type->density(m, 1.0, t), TOL_TIGHT);
+        double next = qc_model_get_type(m)->below(m, 1.0, t + 1);
+        assert_near(next - lo, qc_model_get_type(m)->density(m, 1.0, t), TOL_TIGHT);
     }
     /* P(Y ≥ 1) = 1 − e^{−λ} (Poisson law) */
-    assert_near(m->type->above(m, 1.0, 1.0), -expm1(-4.5), TOL_TIGHT);
+    assert_near(qc_model_get_type(m)->above(m, 1.0, 1.0), -expm1(-4.5), TOL_TIGHT);
     /* deep right tail: P(Y ≥ 100 | λ = 4.5) ≈ pmf(100)·(1 + λ/101 + ...),
      * the first term dominating: relative 5 % of the pmf */
-    double tail = m->type->above(m, 1.0, 100.0), pmf = m->type->density(m, 1.0, 100.0);
+    double tail = qc_model_get_type(m)->above(m, 1.0, 100.0), pmf = qc_model_get_type(m)->density(m, 1.0, 100.0);
     assert_true(tail > pmf && tail < 1.05 * pmf && tail > 0.0 && tail < 1e-90);
     /* non-integers have no mass; the support holds all but 2e-17 */
-    assert_true(m->type->density(m, 1.0, 2.5) == 0.0);
+    assert_true(qc_model_get_type(m)->density(m, 1.0, 2.5) == 0.0);
     double lo, hi;
-    m->type->support(m, 1.0, &lo, &hi);
+    qc_model_get_type(m)->support(m, 1.0, &lo, &hi);
     assert_true(lo == 0.0 && hi > 4.5 && hi < 60.0);
-    assert_true(m->type->above(m, 1.0, hi + 1) <= 1e-17);
+    assert_true(qc_model_get_type(m)->above(m, 1.0, hi + 1) <= 1e-17);
     qc_model_free(m);
     /* λ = 0: all mass at 0 */
     double p0[QC_MODEL_MAX_PARAMS] = {4.0, 0.0};
     m = make("poisson", p0);
-    assert_true(m->type->below(m, 0.0, 1.0) == 1.0);
-    assert_true(m->type->above(m, 0.0, 1.0) == 0.0);
-    assert_true(m->type->density(m, 0.0, 0.0) == 1.0);
+    assert_true(qc_model_get_type(m)->below(m, 0.0, 1.0) == 1.0);
+    assert_true(qc_model_get_type(m)->above(m, 0.0, 1.0) == 0.0);
+    assert_true(qc_model_get_type(m)->density(m, 0.0, 0.0) == 1.0);
     qc_model_free(m);
 }
 
@@ -367,10 +387,10 @@ static void test_far_tail_matrices(void **state)
     unsigned seed = 12345u;
     for (size_t b = 0; b < sizeof baselines / sizeof *baselines; b++) {
         qc_model *m = make(baselines[b].name, baselines[b].p);
-        int counts = m->type->output == QC_OUTPUT_COUNTS;
+        int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
         double levels[] = {0.0, 0.3, 1.0, 4.0};
         double lo, hi;
-        m->type->support(m, 4.0, &lo, &hi);
+        qc_model_get_type(m)->support(m, 4.0, &lo, &hi);
         size_t n = 5 + (seed = seed * 1103515245u + 12345u) % 40;
         double t[64];
         for (size_t j = 0; j < n; j++) {
@@ -399,6 +419,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_registry),
+        cmocka_unit_test(test_instance_accessors),
         cmocka_unit_test(test_bad_parameters),
         cmocka_unit_test(test_bad_levels),
         cmocka_unit_test(test_gauss_sd),

@@ -39,8 +39,8 @@ static void test_tails_consistent(void **state)
             double prev = 0.0;
             for (double z = -12.0; z <= 12.0; z += 0.5) {
                 double t = mean + z * sd;
-                double b = m->type->below(m, x, t), a = m->type->above(m, x, t);
-                double f = m->type->density(m, x, t);
+                double b = qc_model_get_type(m)->below(m, x, t), a = qc_model_get_type(m)->above(m, x, t);
+                double f = qc_model_get_type(m)->density(m, x, t);
                 assert_true(isfinite(b) && isfinite(a));
                 assert_true(fabs(b + a - 1.0) <= TOL_SUM);
                 /* each tail is monotone where it is the small one (the
@@ -82,13 +82,13 @@ static void test_against_scipy(void **state)
     for (size_t i = 0; i < sizeof ref / sizeof *ref; i++) {
         qc_model *m = preamp(ref[i].m);
         if (!isnan(ref[i].below))
-            assert_near(m->type->below(m, ref[i].x, ref[i].t) / ref[i].below, 1.0,
+            assert_near(qc_model_get_type(m)->below(m, ref[i].x, ref[i].t) / ref[i].below, 1.0,
                         TOL_SCIPY);
         if (!isnan(ref[i].above))
-            assert_near(m->type->above(m, ref[i].x, ref[i].t) / ref[i].above, 1.0,
+            assert_near(qc_model_get_type(m)->above(m, ref[i].x, ref[i].t) / ref[i].above, 1.0,
                         TOL_SCIPY);
         if (!isnan(ref[i].density))
-            assert_near(m->type->density(m, ref[i].x, ref[i].t) / ref[i].density,
+            assert_near(qc_model_get_type(m)->density(m, ref[i].x, ref[i].t) / ref[i].density,
                         1.0, TOL_SCIPY);
         qc_model_free(m);
     }
@@ -116,10 +116,10 @@ static void test_design_many_modes(void **state)
         double levels[] = {cases[i].x0, cases[i].x1};
         qc_design_request req;
         qc_design_request_default(&req);
-        req.model = m;
-        req.levels = levels;
-        req.nlevels = 2;
-        req.cells = 4;
+        req.channel.model = m;
+        req.channel.levels = levels;
+        req.channel.nlevels = 2;
+        req.quantizer.cells = 4;
         qc_design_result res = {0};
         assert_int_equal(qc_design(&req, &res), QC_OK);
         assert_true(res.rate_bits <= res.unquantized_bits + res.unquantized_err_bits);

@@ -46,7 +46,7 @@ static void test_parse_and_cdf(void **state)
     assert_int_equal(nl, 2);
     assert_true(lv[0] == 0.0 && lv[1] == 5.0);
     /* triangle: F(t) = t²/2 on [0, 1], 1 − (2 − t)²/2 on [1, 2] */
-    const qc_model_type *T = m->type;
+    const qc_model_type *T = qc_model_get_type(m);
     assert_near(T->below(m, 0.0, 0.5), 0.125, TOL_TIGHT);
     assert_near(T->above(m, 0.0, 1.5), 0.125, TOL_TIGHT);
     assert_near(T->above(m, 0.0, 1.999), 0.0000005, TOL_SMALL_P);
@@ -90,16 +90,16 @@ static void test_wide_segment(void **state)
     qc_model *m;
     assert_int_equal(parse("levels 5\n-1e113 211\n1 0\n", &m), QC_OK);
     double lo, hi;
-    m->type->support(m, 5.0, &lo, &hi);
+    qc_model_get_type(m)->support(m, 5.0, &lo, &hi);
     const double ts[] = {-1e113, -5e112, -1e104, 0.0, 0.5, 1.0};
     for (size_t i = 0; i < sizeof ts / sizeof ts[0]; i++) {
-        double b = m->type->below(m, 5.0, ts[i]), a = m->type->above(m, 5.0, ts[i]);
-        double f = m->type->density(m, 5.0, ts[i]);
+        double b = qc_model_get_type(m)->below(m, 5.0, ts[i]), a = qc_model_get_type(m)->above(m, 5.0, ts[i]);
+        double f = qc_model_get_type(m)->density(m, 5.0, ts[i]);
         assert_true(b >= 0.0 && a >= 0.0 && f >= 0.0);
         assert_near(a + b, 1.0, TOL_ULP);
     }
     /* Triangle on [lo, hi] with its peak at lo: P(Y < mid) = 3/4. */
-    assert_near(m->type->below(m, 5.0, lo + 0.5 * (hi - lo)), 0.75, TOL_ULP);
+    assert_near(qc_model_get_type(m)->below(m, 5.0, lo + 0.5 * (hi - lo)), 0.75, TOL_ULP);
     qc_model_free(m);
 }
 
@@ -113,13 +113,13 @@ static void test_extreme_values(void **state)
     (void)state;
     qc_model *m;
     assert_int_equal(parse("levels 4\n-.4 1e-323\n1 0\n", &m), QC_OK);
-    assert_near(m->type->density(m, 4.0, -0.4), 1.0 / 0.7, TOL_TIGHT);
-    assert_near(m->type->below(m, 4.0, 0.3) + m->type->above(m, 4.0, 0.3), 1.0, TOL_ULP);
-    assert_near(m->type->below(m, 4.0, 0.3), 0.75, TOL_TIGHT); /* 1 − (0.7/1.4)² */
+    assert_near(qc_model_get_type(m)->density(m, 4.0, -0.4), 1.0 / 0.7, TOL_TIGHT);
+    assert_near(qc_model_get_type(m)->below(m, 4.0, 0.3) + qc_model_get_type(m)->above(m, 4.0, 0.3), 1.0, TOL_ULP);
+    assert_near(qc_model_get_type(m)->below(m, 4.0, 0.3), 0.75, TOL_TIGHT); /* 1 − (0.7/1.4)² */
     qc_model_free(m);
     assert_int_equal(parse("levels 0\n0 1e308\n1 1e308\n2 0\n", &m), QC_OK);
-    assert_near(m->type->density(m, 0.0, 0.5), 1.0 / 1.5, TOL_ULP);
-    assert_near(m->type->above(m, 0.0, 1.0), 0.5 / 1.5, TOL_ULP);
+    assert_near(qc_model_get_type(m)->density(m, 0.0, 0.5), 1.0 / 1.5, TOL_ULP);
+    assert_near(qc_model_get_type(m)->above(m, 0.0, 1.0), 0.5 / 1.5, TOL_ULP);
     qc_model_free(m);
 }
 

@@ -26,12 +26,12 @@ static json_t *design(double sigma, const double *levels, size_t n, size_t cells
         return NULL;
     qc_design_request r;
     qc_design_request_default(&r);
-    r.model = m;
-    r.levels = levels;
-    r.nlevels = n;
-    r.cells = cells;
-    r.quantizer = kind;
-    r.skip_snr_penalty = 1;
+    r.channel.model = m;
+    r.channel.levels = levels;
+    r.channel.nlevels = n;
+    r.quantizer.cells = cells;
+    r.quantizer.kind = kind;
+    r.numerics.skip_snr_penalty = 1;
     qc_design_result res;
     qc_status st = qc_design(&r, &res);
     qc_model_free(m);

@@ -374,7 +374,7 @@ static void test_unquantized_unsorted_supports(void **state)
         double y = a + h * (double)j, w = (j == 0 || j == n) ? 1.0 : (j % 2 ? 4.0 : 2.0);
         double f[5], mix = 0.0;
         for (size_t i = 0; i < 5; i++) {
-            f[i] = m->type->density(m, levels[i], y);
+            f[i] = qc_model_get_type(m)->density(m, levels[i], y);
             mix += input[i] * f[i];
         }
         for (size_t i = 0; i < 5; i++)
@@ -395,12 +395,12 @@ static qc_status design_one(qc_model *m, const double *levels, size_t n,
 {
     qc_design_request r;
     qc_design_request_default(&r);
-    r.model = m;
-    r.levels = levels;
-    r.nlevels = n;
-    r.cells = cells;
-    r.quantizer = kind;
-    r.skip_snr_penalty = 1;
+    r.channel.model = m;
+    r.channel.levels = levels;
+    r.channel.nlevels = n;
+    r.quantizer.cells = cells;
+    r.quantizer.kind = kind;
+    r.numerics.skip_snr_penalty = 1;
     return qc_design(&r, res);
 }
 

@@ -39,13 +39,13 @@ static void design(const qc_model *m, const double *levels, size_t n, size_t cel
 {
     qc_design_request req;
     qc_design_request_default(&req);
-    req.model = m;
-    req.levels = levels;
-    req.nlevels = n;
-    req.cells = cells;
-    req.quantizer = kind;
-    req.fine_cells = fine;
-    req.skip_snr_penalty = 1;
+    req.channel.model = m;
+    req.channel.levels = levels;
+    req.channel.nlevels = n;
+    req.quantizer.cells = cells;
+    req.quantizer.kind = kind;
+    req.numerics.fine_cells = fine;
+    req.numerics.skip_snr_penalty = 1;
     assert_int_equal(qc_design(&req, res), QC_OK);
 }
 
@@ -230,18 +230,18 @@ static void test_poisson_cap(void **state)
     for (int objective = 0; objective < 3; objective++) {
         qc_design_request req;
         qc_design_request_default(&req);
-        req.model = m;
-        req.levels = levels;
-        req.nlevels = 2;
-        req.cells = (size_t)1 << 16;
-        req.skip_snr_penalty = 1;
+        req.channel.model = m;
+        req.channel.levels = levels;
+        req.channel.nlevels = 2;
+        req.quantizer.cells = (size_t)1 << 16;
+        req.numerics.skip_snr_penalty = 1;
         qc_constraints con;
         qc_constraints_none(&con);
         if (objective >= 1)
-            req.objective = QC_OBJECTIVE_CAPACITY;
+            req.input.objective = QC_OBJECTIVE_CAPACITY;
         if (objective == 2) {
             con.mean = 0.3;
-            req.constraints = &con;
+            req.input.constraints = &con;
         }
         qc_design_result r;
         assert_int_equal(qc_design(&req, &r), QC_OK);

@@ -136,7 +136,7 @@ static void test_front_end_and_alphabets(void **state)
     assert_string_equal(qc_settings_get(s, "apd-gain"), "10");
     assert_string_equal(qc_settings_get(s, "received-dbm"), "-24");
     assert_int_equal(qc_settings_build(s, &m, &req), QC_OK);
-    assert_int_equal(req.nlevels, 4);
+    assert_int_equal(req.channel.nlevels, 4);
     qc_model_free(m);
     qc_settings_free(s);
     qc_scenario_free(sc);

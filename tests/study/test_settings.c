@@ -124,11 +124,11 @@ static void test_settings_build(void **state)
     const char *ok[] = {"model", "gauss", "snr-db", "10", "levels", "-3,-1,1,3", "bits", "3",
                         "objective", "capacity"};
     assert_int_equal(build_from(ok, 10, &m, &req, &s), QC_OK);
-    assert_int_equal(req.cells, 8);
-    assert_int_equal(req.nlevels, 4);
-    assert_int_equal(req.objective, QC_OBJECTIVE_CAPACITY);
+    assert_int_equal(req.quantizer.cells, 8);
+    assert_int_equal(req.channel.nlevels, 4);
+    assert_int_equal(req.input.objective, QC_OBJECTIVE_CAPACITY);
     /* σ² = E[x²]/snr = 5/10 for uniform PAM-4 levels ±1, ±3 */
-    assert_true(fabs(m->params[0] - sqrt(0.5)) < TOL_ULP);
+    assert_true(fabs(qc_model_param(m, 0) - sqrt(0.5)) < TOL_ULP);
     qc_model_free(m);
     qc_settings_free(s);
 
@@ -197,27 +197,27 @@ static void test_model_cache(void **state)
     const qc_model *m1, *m2, *m3;
     qc_design_request r1, r2, r3;
     assert_int_equal(build_cached(cache, a, 8, &m1, &r1, &s1), QC_OK);
-    assert_ptr_equal(r1.model, m1);
-    assert_int_equal(r1.cells, 4);
+    assert_ptr_equal(r1.channel.model, m1);
+    assert_int_equal(r1.quantizer.cells, 4);
     /* m1 still out: the same setting gets a second instance */
     assert_int_equal(build_cached(cache, a2, 8, &m2, &r2, &s2), QC_OK);
     assert_ptr_not_equal(m1, m2);
-    assert_true(m2->params[0] == 0.5);
+    assert_true(qc_model_param(m2, 0) == 0.5);
     qc_model_cache_release(cache, m1);
     qc_model_cache_release(cache, m2);
     qc_settings_free(s2);
     /* returned: the same setting (other levels and bits) gets one back */
     assert_int_equal(build_cached(cache, a2, 8, &m3, &r3, &s3), QC_OK);
     assert_true(m3 == m1 || m3 == m2);
-    assert_int_equal(r3.cells, 16);
-    assert_int_equal(r3.nlevels, 4);
+    assert_int_equal(r3.quantizer.cells, 16);
+    assert_int_equal(r3.channel.nlevels, 4);
     qc_model_cache_release(cache, m3);
     qc_settings_free(s3);
     /* another parameter value: another instance */
     assert_int_equal(build_cached(cache, b, 8, &m3, &r3, &s3), QC_OK);
     assert_ptr_not_equal(m3, m1);
     assert_ptr_not_equal(m3, m2);
-    assert_true(m3->params[0] == 0.25);
+    assert_true(qc_model_param(m3, 0) == 0.25);
     qc_model_cache_release(cache, m3);
     qc_settings_free(s3);
     qc_settings_free(s1);
@@ -246,7 +246,7 @@ static void test_model_cache(void **state)
         qc_settings_free(s1);
         assert_int_equal(build_cached(cache, t, 6, &m2, &r2, &s2), QC_OK);
         assert_ptr_equal(m1, m2);
-        assert_true(r2.nlevels >= 2);
+        assert_true(r2.channel.nlevels >= 2);
         qc_model_cache_release(cache, m2);
         qc_settings_free(s2);
     }
@@ -433,8 +433,8 @@ static void test_keys_apply(void **state)
     const char *direct[] = {"model", "apd-gauss", "signal", "100", "sigma-th", "10",
                             "apd-gain", "7", "apd-k", "0.25", "levels", "0,1", "bits", "1"};
     assert_int_equal(build_from(direct, 14, &m, &req, &s), QC_OK);
-    assert_true(m->params[qc_model_param_index(m->type, "apd-gain")] == 7.0);
-    assert_true(m->params[qc_model_param_index(m->type, "apd-k")] == 0.25);
+    assert_true(qc_model_param(m, qc_model_param_index(qc_model_get_type(m), "apd-gain")) == 7.0);
+    assert_true(qc_model_param(m, qc_model_param_index(qc_model_get_type(m), "apd-k")) == 0.25);
     qc_model_free(m);
     qc_settings_free(s);
 }
@@ -458,11 +458,11 @@ static void test_poisson_responsivity(void **state)
                             "received-dbm", "-60", "slot-time", "1e-9", "wavelength-nm",
                             "1550", "efficiency", "1"};
     assert_int_equal(build_from(by_r, 14, &m, &req, &s), QC_OK);
-    double with_r = m->params[0];
+    double with_r = qc_model_param(m, 0);
     qc_model_free(m);
     qc_settings_free(s);
     assert_int_equal(build_from(by_eta, 14, &m, &req, &s), QC_OK);
-    double with_eta1 = m->params[0];
+    double with_eta1 = qc_model_param(m, 0);
     qc_model_free(m);
     qc_settings_free(s);
     assert_true(fabs(with_r / with_eta1 - eta_1550) < tol);
@@ -479,8 +479,8 @@ static void test_thresholds_count(void **state)
     const char *alone[] = {"model", "gauss", "sigma", "1", "levels", "-1,1", "quantizer",
                            "fixed", "thresholds", "-2,0,2"};
     assert_int_equal(build_from(alone, 10, &m, &req, &s), QC_OK);
-    assert_int_equal(req.cells, 4);
-    assert_int_equal(req.nthresholds, 3);
+    assert_int_equal(req.quantizer.cells, 4);
+    assert_int_equal(req.quantizer.nthresholds, 3);
     qc_model_free(m);
     qc_settings_free(s);
     const char *cells[] = {"model", "gauss", "sigma", "1", "levels", "-1,1", "cells", "3",
