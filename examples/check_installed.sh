@@ -26,7 +26,7 @@ ${CC:-cc} $sanflags -std=c17 -Wall -Wextra -Werror "$src/embed_design.c" $cflags
 libdir="$(pkg-config --variable=libdir quantcap)"
 LD_LIBRARY_PATH="$libdir" "$stage/embed_design" > "$stage/out.txt"
 cat "$stage/out.txt"
-grep -q '^rate .* bit/use' "$stage/out.txt"
+grep -q '^rate .* bit/symbol' "$stage/out.txt"
 # only the public interface is exported: every dynamic symbol is qc_*
 bad="$(nm -D --defined-only "$libdir"/libquantcap.so | awk '{print $3}' | grep -v -e '^qc_' -e '^\.gomp' -e '^__odr_asan' -e '^__asan' -e '^__ubsan' || true)"
 if [ -n "$bad" ]; then

@@ -46,8 +46,8 @@ int main(void)
     for (size_t i = 0; i < res.nthresholds; i++)
         printf(" %.4f", res.thresholds[i]);
     printf(" (level units)\n");
-    printf("rate %.6f bit/use (exact finite sum), unquantized %.6f bit/use, "
-           "loss %.6f bit/use\n",
+    printf("rate %.6f bit/symbol (exact finite sum), unquantized %.6f bit/symbol, "
+           "loss %.6f bit/symbol\n",
            res.rate_bits, res.unquantized_bits, res.loss_bits);
     qc_design_result_clear(&res);
     qc_model_free(model);

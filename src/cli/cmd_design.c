@@ -257,6 +257,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     fprintf(f, "\nquantizer    %s, %zu cells", qc_quantizer_name(r->quantizer), r->cells);
     if (bits)
         fprintf(f, " (%u bit%s)", bits, bits == 1 ? "" : "s");
+    if (r->cells_used && r->cells_used < r->cells)
+        fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",

@@ -214,7 +214,8 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
                                       req->numerics.error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
         return st;
     const unsigned props = qc_model_get_type(req->channel.model)->properties;
-    r->shaping_gap_db = props & QC_MODEL_ADDITIVE_GAUSSIAN
+    /* the gap to the Shannon curve means nothing at the noiseless limit */
+    r->shaping_gap_db = (props & QC_MODEL_ADDITIVE_GAUSSIAN) && !r->noiseless_limit
                             ? qc_shaping_gap_db(r->snr_db, r->rate_bits / d)
                             : NAN;
     return qc_design_figures(req, r);

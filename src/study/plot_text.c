@@ -151,8 +151,8 @@ const char *plot_rate_unit(const qc_scenario *sc, size_t a0, size_t a1)
     size_t nq = 0;
     for (size_t a = a0; a < a1; a++)
         nq += (size_t)plot_alphabet_qam(sc, a);
-    return nq == 0 ? "bit/use" : nq == a1 - a0 ? "bit/complex symbol"
-                                              : "bit/use; QAM: bit/complex symbol";
+    return nq == 0 ? "bit/symbol" : nq == a1 - a0 ? "bit/complex symbol"
+                                              : "bit/symbol; QAM: bit/complex symbol";
 }
 
 /* Unit of a model's output y for the plots: electrons for the APD

@@ -116,7 +116,7 @@ def has(study, name, needle):
 
 # axis labels with units that fit the model
 check(has("designer", "rate-vs-snr-db.svg", "SNR (dB)"), "designer: x axis SNR (dB)")
-check(has("designer", "rate-vs-snr-db.svg", "information rate (bit/use)"),
+check(has("designer", "rate-vs-snr-db.svg", "information rate (bit/symbol)"),
       "designer: rate axis with its unit")
 check(has("designer", "rate-vs-bits.svg", "ADC resolution (bits)"),
       "designer (uniform quantizer of a continuous output): ADC resolution")

@@ -60,8 +60,8 @@ def allowed_nulls(j):
         allowed.add("snr_penalty_note")               # defined: no note
     if j.get("model") in NO_SNR_MODELS:
         allowed |= {"operating_snr_db", "snr_penalty_db", "snr_definition"}       # the model defines no SNR
-    if j.get("model") != "gauss":
-        allowed.add("shaping_gap_db")                 # defined for gauss only
+    if j.get("model") != "gauss" or j.get("noiseless_limit"):
+        allowed.add("shaping_gap_db")                 # gauss only, and not noiseless
     if j.get("quantizer") != "lloyd-max":
         allowed.add("mse")                            # Lloyd-Max only
     if j.get("blocklength") is None:                  # no blocklength asked
