@@ -306,7 +306,8 @@ int cmd_require(int argc, char **argv)
             double ber = json_real_value(json_object_get(design, "pre_fec_ber"));
             double ngmi = json_real_value(json_object_get(design, "ngmi"));
             double rate = json_real_value(json_object_get(design, "rate_bits"));
-            fprintf(f, "at required  rate %.6f bit/symbol", rate);
+            json_int_t dims = json_integer_value(json_object_get(design, "dimensions"));
+            fprintf(f, "at required  rate %.6f %s", rate, cli_rate_unit(dims == 2 ? 2u : 1u));
             if (json_is_real(json_object_get(design, "pre_fec_ber")))
                 fprintf(f, ", pre-FEC BER %.4e", ber);
             if (json_is_real(json_object_get(design, "ngmi")))
