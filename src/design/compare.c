@@ -4,14 +4,17 @@
 #include "design/design_internal.h"
 
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 void qc_design_comparison_clear(qc_design_comparison *cmp)
 {
     if (!cmp)
         return;
-    for (size_t i = 0; i < QC_COMPARE_MAX; i++)
+    for (size_t i = 0; i < QC_COMPARE_MAX; i++) {
         qc_design_result_clear(&cmp->result[i]);
+        free(cmp->message[i]);
+    }
     memset(cmp, 0, sizeof *cmp);
 }
 
@@ -27,7 +30,7 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
         QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
         QC_QUANTIZER_FIXED};
     qc_status first = QC_OK;
-    char first_msg[sizeof cmp->message[0]] = "";
+    const char *first_msg = "";
     for (size_t i = 0; i < sizeof order / sizeof order[0]; i++) {
         if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
             continue;
@@ -38,10 +41,14 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
         cmp->kind[k] = order[i];
         cmp->status[k] = qc_design(&one, &cmp->result[k]);
         if (cmp->status[k] != QC_OK) {
-            snprintf(cmp->message[k], sizeof cmp->message[k], "%s", qc_last_error());
+            cmp->message[k] = strdup(qc_last_error());
+            if (!cmp->message[k]) {
+                qc_design_comparison_clear(cmp);
+                return qc_fail(QC_ENOMEM, "out of memory");
+            }
             if (first == QC_OK) {
                 first = cmp->status[k];
-                snprintf(first_msg, sizeof first_msg, "%s", cmp->message[k]);
+                first_msg = cmp->message[k];
             }
         }
     }

@@ -296,7 +296,8 @@ typedef struct {
     size_t count;                         /* strategies run                  */
     qc_quantizer_kind kind[QC_COMPARE_MAX];
     qc_status status[QC_COMPARE_MAX];     /* per strategy                    */
-    char message[QC_COMPARE_MAX][256];    /* its failure message, or ""      */
+    char *message[QC_COMPARE_MAX];        /* owned: its failure message; NULL
+                                             where it succeeded             */
     qc_design_result result[QC_COMPARE_MAX]; /* empty where status != QC_OK */
 } qc_design_comparison;
 

@@ -231,7 +231,7 @@ typedef struct {
     size_t resumed;   /* finished points taken from the checkpoint        */
     size_t computed;  /* points computed in this run                      */
     size_t failed;    /* points whose design failed (recorded, not fatal) */
-    char first_failure[1024]; /* "point 12 (...): message", or ""         */
+    char *first_failure; /* owned: "point 12 (...): message", or NULL       */
     int plots_skipped; /* plots asked for but PLplot is not built in       */
     size_t nfiles;
     char **files;      /* paths of the files written (owned)               */

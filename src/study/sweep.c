@@ -53,6 +53,7 @@ void qc_sweep_summary_clear(qc_sweep_summary *s)
     for (size_t i = 0; i < s->nremoved; i++)
         free(s->removed[i]);
     free(s->removed);
+    free(s->first_failure);
     memset(s, 0, sizeof *s);
 }
 
@@ -310,8 +311,13 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
             if (sum->failed++ == 0) {
                 char point[512];
                 sc_describe_point(sc, i, point, sizeof point);
-                snprintf(sum->first_failure, sizeof sum->first_failure, "%.300s: %.700s", point,
-                         json_string_value(json_object_get(records[i], "error")));
+                const char *err = json_string_value(json_object_get(records[i], "error"));
+                size_t len = strlen(point) + (err ? strlen(err) : 0) + 3;
+                if (!(sum->first_failure = malloc(len))) {
+                    st = qc_fail(QC_ENOMEM, "out of memory");
+                    goto done;
+                }
+                snprintf(sum->first_failure, len, "%s: %s", point, err ? err : "");
             }
         }
     }
