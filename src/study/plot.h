@@ -3,7 +3,8 @@
  * (plot_page.c), drawing helpers (plot_draw.c), words, units and file
  * names (plot_text.c), the layout of panels and line styles
  * (plot_layout.c), the numbers read out of a sweep's records
- * (plot_records.c) and the figures (plot_rate.c, plot_density.c).
+ * (plot_records.c) and the figures (plot_rate.c, plot_figures.c,
+ * plot_density.c).
  *
  * All state of a drawing lives in one plot_ctx passed down: no file of the
  * plots keeps process-wide state of its own. PLplot itself does (one
@@ -177,5 +178,7 @@ qc_status plot_record_array(plot_ctx *ctx, json_t *rec, const char *key, double 
 qc_status plot_rate_vs_x(plot_ctx *ctx);    /* plot_rate.c */
 qc_status plot_rate_vs_bits(plot_ctx *ctx); /* plot_rate.c */
 qc_status plot_density(plot_ctx *ctx);      /* plot_density.c */
+qc_status plot_ber_vs_x(plot_ctx *ctx);         /* plot_figures.c */
+qc_status plot_required_vs_bits(plot_ctx *ctx); /* plot_figures.c */
 
 #endif

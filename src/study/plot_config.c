@@ -1,6 +1,7 @@
 /* plot_config.c — the [plots] and [density] sections of a scenario: the
  * figures a sweep draws (rate against x, rate against bits at chosen
- * values of x, the densities of one point), the axes they are drawn
+ * values of x, the pre-FEC BER against x, the required value of a
+ * [require] section against bits, the densities of one point), the axes they are drawn
  * against, the format and the page size. Each value is checked against
  * the compiled axes and a bad one is named by file:line. */
 #include "study/plot_config.h"
@@ -75,8 +76,9 @@ static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, cons
 
 qc_status sc_compile_plots(qc_scenario *sc)
 {
-    static const char *const keys[] = {"format", "x", "rate-vs-x", "rate-vs-bits", "density",
-                                       "size", NULL};
+    static const char *const keys[] = {"format",   "x",       "rate-vs-x",        "rate-vs-bits",
+                                       "ber-vs-x", "density", "required-vs-bits", "size",
+                                       NULL};
     sc_plots *p = &sc->plots;
     p->width = 960;
     p->height = 640;
@@ -88,7 +90,7 @@ qc_status sc_compile_plots(qc_scenario *sc)
         if (sc->axes[i].number && (int)i != p->curve_axis)
             p->x_axis = (int)i;
     sc_section *s = sc_section_find(sc, "plots");
-    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL;
+    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL, *req = NULL;
     char loc[300];
     for (size_t i = 0; s && i < s->n; i++) {
         const sc_entry *e = &s->entries[i];
@@ -133,6 +135,10 @@ qc_status sc_compile_plots(qc_scenario *sc)
             rvb = e;
         } else if (strcmp(e->key, "density") == 0) {
             dens = e;
+        } else if (strcmp(e->key, "ber-vs-x") == 0) {
+            bvx = e;
+        } else if (strcmp(e->key, "required-vs-bits") == 0) {
+            req = e;
         } else
             return sc_unknown_key(sc, e, "[plots]", sc_closest(e->key, keys));
     }
@@ -194,6 +200,33 @@ qc_status sc_compile_plots(qc_scenario *sc)
         }
         if (p->rate_vs_bits && p->curve_axis < 0)
             return qc_fail(QC_EINVAL, "%s: 'rate-vs-bits': the sweep has no 'bits' (or "
+                                      "'cells') axis",
+                           loc);
+    }
+    if (bvx) {
+        sc_where(sc, bvx->line, loc, sizeof loc);
+        if (parse_bool(bvx->value, &p->ber_vs_x) != 0)
+            return qc_fail(QC_EINVAL, "%s: 'ber-vs-x': '%s' is not true or false", loc,
+                           bvx->value);
+        if (p->ber_vs_x && p->x_axis < 0)
+            return qc_fail(QC_EINVAL, "%s: 'ber-vs-x': the sweep has no numeric axis to draw "
+                                      "the BER against",
+                           loc);
+    }
+    p->bits_axis = sc_axis_index(sc, "bits");
+    if (p->bits_axis < 0)
+        p->bits_axis = sc_axis_index(sc, "cells");
+    if (req) {
+        sc_where(sc, req->line, loc, sizeof loc);
+        if (parse_bool(req->value, &p->required_vs_bits) != 0)
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-bits': '%s' is not true or false", loc,
+                           req->value);
+        if (p->required_vs_bits && !sc_section_find(sc, "require"))
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-bits': add a [require] section giving "
+                                      "the target and the key to solve for",
+                           loc);
+        if (p->required_vs_bits && p->bits_axis < 0)
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-bits': the sweep has no 'bits' (or "
                                       "'cells') axis",
                            loc);
     }

@@ -19,6 +19,9 @@ typedef struct {
     int curve_axis;      /* the bits (or cells) axis, -1: none          */
     int rate_vs_x;       /* draw rate against x                          */
     int rate_vs_bits;    /* draw rate against bits                       */
+    int ber_vs_x;        /* draw the pre-FEC BER against x               */
+    int required_vs_bits;/* draw [require]'s required value against bits */
+    int bits_axis;       /* the bits (or cells) axis of required-vs-bits  */
     size_t *bits_at;     /* x-axis value indices for rate vs bits        */
     size_t nbits_at;
     int density;         /* draw the densities of one point              */

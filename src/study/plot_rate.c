@@ -1,10 +1,11 @@
 /* plot_rate.c — the rate figures of a sweep: information rate against the
  * sweep's x axis (SNR, power, photons...) with one curve per quantizer
  * resolution and the unquantized rate; and rate against bits at chosen
- * operating points, one curve per alphabet, with the SNR penalty or the
- * rate loss in a lower part. The other dimensions are spread over panels,
- * line styles and files (plot_layout.c). The numbers are the sweep's own
- * records (plot_records.c). */
+ * operating points, one curve per alphabet, with the penalty at a
+ * [require] target, the SNR penalty or the rate loss in a lower part. The
+ * other dimensions are spread over panels, line styles and files
+ * (plot_layout.c). The numbers are the sweep's own records
+ * (plot_records.c). */
 #include "study/plot.h"
 
 #include "study/report.h"
@@ -253,9 +254,12 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             snprintf(path, sizeof path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
                      plot_extension(p->format));
             plot_safe_name(strrchr(path, '/') + 1);
-            /* the lower panel shows the SNR penalty when the model defines
-             * one at these points, else the loss in bits */
-            int penalty_db = 0;
+            /* the lower panel shows the penalty at the [require] target
+             * when one is given and met somewhere here (the dB the
+             * quantizer costs where the link closes), else the SNR penalty
+             * when the model defines one at these points, else the loss
+             * in bits */
+            int penalty_db = 0, at_target = 0;
             for (int pass = 0; pass < 2; pass++)
                 for (size_t pi = 0; pi < np; pi++)
                     for (size_t s = 0; s < ns; s++) {
@@ -274,11 +278,15 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                                 if (pass == 0) {
                                     penalty_db |=
                                         isfinite(plot_record_number(rec, QC_REPORT_SNR_PENALTY));
+                                    at_target |= sc->require.on &&
+                                                 isfinite(plot_record_number(rec, "penalty_db"));
                                     continue;
                                 }
                                 rate[cell * nb + b] = plot_record_number(rec, QC_REPORT_RATE);
                                 low[cell * nb + b] = plot_record_number(
-                                    rec, penalty_db ? QC_REPORT_SNR_PENALTY : QC_REPORT_LOSS);
+                                    rec, at_target    ? "penalty_db"
+                                         : penalty_db ? QC_REPORT_SNR_PENALTY
+                                                      : QC_REPORT_LOSS);
                                 if (!isfinite(unq[cell]))
                                     unq[cell] = plot_record_number(rec, QC_REPORT_UNQUANTIZED);
                             }
@@ -302,6 +310,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                 y1 = 1.0;
             y1 *= 1.08;
             /* lower panel: penalty in dB (linear) or loss in bits (log) */
+            penalty_db |= at_target;
             int logscale = !penalty_db;
             double l0, l1;
             int any_below = 0;
@@ -355,7 +364,9 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             char ylabel[160];
             snprintf(ylabel, sizeof ylabel, "rate (%s)", plot_rate_unit(sc, 0, na));
             char lylabel[160];
-            if (penalty_db)
+            if (at_target)
+                snprintf(lylabel, sizeof lylabel, "penalty at the target (dB)");
+            else if (penalty_db)
                 snprintf(lylabel, sizeof lylabel, "SNR penalty (dB)");
             else
                 snprintf(lylabel, sizeof lylabel, "rate loss (%s)", plot_rate_unit(sc, 0, na));

@@ -329,6 +329,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         (st = qc_file_list_add(&sum->files, &sum->nfiles, path)) != QC_OK)
         goto done;
     int want_plots = opt->plots && (sc->plots.rate_vs_x || sc->plots.rate_vs_bits ||
+                                    sc->plots.ber_vs_x || sc->plots.required_vs_bits ||
                                     sc->plots.density);
     if (want_plots && !qc_plots_available())
         sum->plots_skipped = 1;

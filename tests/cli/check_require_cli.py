@@ -1,8 +1,11 @@
 #!/usr/bin/python3
 """Command line of the figures and of `quantcap require`: the JSON keys of
 the figures in `design`, the text lines with their units, the FEC
-bookkeeping, and `require` solving for an SNR, an OSNR and a photon count
-(the bad-input paths are cases in tests/bad_inputs/cases.tsv).
+bookkeeping, `require` solving for an SNR, an OSNR and a photon count,
+and the figures of sweeps with them: the pre-FEC BER against x with the
+FEC threshold, the required value against bits and the penalty at the
+target in rate against bits (the bad-input paths are cases in
+tests/bad_inputs/cases.tsv).
 
 Usage: check_require_cli.py PATH/TO/quantcap
 References: Q^-1 by scipy.stats.norm.isf (Debian python3-scipy); the OSNR
@@ -11,9 +14,11 @@ Technol. 28(4), 2010; Poisson on-off keying with a threshold of one count
 (an error only when the "on" slot gives no count, or the "off" slot a
 background count) for the photon target."""
 import csv
+import html
 import json
 import math
 import os
+import re
 import subprocess
 import sys
 import tempfile
@@ -36,6 +41,25 @@ REQUIRE_KEYS = ["solve_for", "target", "required", "unquantized_required", "pena
 def run(*args):
     p = subprocess.run([QC, *args], capture_output=True, text=True)
     return p.returncode, p.stdout, p.stderr
+
+
+def svg_text(path):
+    """The text items of a PLplot SVG, one string per <text> element."""
+    with open(path, encoding="utf-8") as f:
+        doc = f.read()
+    items = re.findall(r"<text[^>]*>(.*?)</text>", doc, re.S)
+    return [html.unescape(re.sub(r"<[^>]+>", "", t)) for t in items]
+
+
+def check_figure(folder, name, labels):
+    """The sweep drew `name` and its text holds each of `labels`."""
+    path = os.path.join(folder, name)
+    if not os.path.exists(path):
+        check(False, f"the sweep drew {name} (files: {sorted(os.listdir(folder))})")
+        return
+    text = svg_text(path)
+    for label in labels:
+        check(label in text, f"{name} has the text '{label}' (text: {text})")
 
 
 def as_json(cmd, *args):
@@ -106,7 +130,8 @@ with tempfile.TemporaryDirectory() as tmp:
     ini = os.path.join(tmp, "figs.ini")
     with open(ini, "w") as f:
         f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
-                "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n")
+                "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n"
+                "[plots]\nrate-vs-x = false\nber-vs-x = true\n")
     out = os.path.join(tmp, "out")
     rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
     check(rc == 0, f"sweep with figures: exit {rc} ({se.strip()})")
@@ -118,6 +143,14 @@ with tempfile.TemporaryDirectory() as tmp:
         closes = {(r["snr_db"], r["bits"]): r["fec_closes"] for r in rows}
         check(closes.get(("18", "2")) == "true" and closes.get(("14", "2")) == "false",
               "kp4 closes at 18 dB, not at 14 dB (PAM-4, 2 bits)")
+        if "plots skipped" not in so:
+            # the BER figure alone (no rate figure asked for), log axis
+            # with the kp4 threshold in the legend
+            check_figure(out, "ber-vs-snr-db_default.svg",
+                         ["SNR (dB)", "pre-FEC BER (MAP hard decisions)", "2 bits", "3 bits",
+                          "FEC kp4 threshold"])
+            check(not os.path.exists(os.path.join(out, "rate-vs-snr-db_default.svg")),
+                  "rate-vs-x = false: no rate figure")
 
 # sweep with [require]: the required SNR per point, as `require` finds it
 with tempfile.TemporaryDirectory() as tmp:
@@ -125,7 +158,7 @@ with tempfile.TemporaryDirectory() as tmp:
     with open(ini, "w") as f:
         f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
                 "snr-db = 16\n[sweep]\nbits = 1, 2, 3\n[require]\ntarget = fec=kp4\n"
-                "solve-for = snr-db\n")
+                "solve-for = snr-db\n[plots]\nrate-vs-bits = true\nrequired-vs-bits = true\n")
     out = os.path.join(tmp, "out")
     rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
     check(rc == 0, f"sweep with [require]: exit {rc} ({se.strip()})")
@@ -144,6 +177,20 @@ with tempfile.TemporaryDirectory() as tmp:
                        float(rows["3"]["required"]), one["required"], 1e-12)
             tally.near("sweep margin = 16 dB - required", float(rows["3"]["margin_db"]),
                        16 - one["required"], 1e-12)
+        if "plots skipped" not in so:
+            # the sensitivity curve with the penalty at the target below it,
+            # and rate against bits showing that penalty (not the SNR
+            # penalty at the operating rate) when a target is set
+            check_figure(out, "required-vs-bits.svg",
+                         ["required SNR (dB)", "penalty at the target (dB)",
+                          "quantizer resolution (bits)", "unquantized", "default"])
+            check(any("kp4" in t for t in svg_text(os.path.join(out, "required-vs-bits.svg")))
+                  if os.path.exists(os.path.join(out, "required-vs-bits.svg")) else False,
+                  "required-vs-bits names the target's FEC in its title")
+            check_figure(out, "rate-vs-bits.svg", ["penalty at the target (dB)"])
+            if os.path.exists(os.path.join(out, "rate-vs-bits.svg")):
+                check("SNR penalty (dB)" not in svg_text(os.path.join(out, "rate-vs-bits.svg")),
+                      "rate-vs-bits with a target: no SNR penalty at the operating rate")
 
 print(f"figures and require: {tally.count} checks, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
