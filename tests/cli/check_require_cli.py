@@ -130,14 +130,15 @@ rc, out, err = run("design", *PAM4, "--bits", "1", "--fec", "kp4")
 check(rc == 0 and "penalty      undefined at the FEC target" in out,
       "1 bit: the text says the penalty is undefined, design still succeeds")
 # photons: solved for the signal (10 log10 of the ratio), as require does
-PHOT = ["--model", "poisson", "--signal", "20", "--background", "0.1", "--alphabet", "upam:4",
-        "--bits", "2"]
+PHOT = ["--model", "poisson", "--signal", "20", "--background", "0.5", "--alphabet", "upam:4",
+        "--bits", "3"]
 dp = as_json("design", *PHOT, "--fec", "hd-7")
 rp = as_json("require", *PHOT, "--target", "fec=hd-7", "--solve-for", "signal")
 check(dp.get("penalty_solve_for") == "signal", "photon counting: solved for signal")
 if isinstance(dp.get("penalty_db"), float) and "penalty_db" in rp:
     tally.near("design --fec hd-7 penalty = require penalty (photons)", dp["penalty_db"],
                rp["penalty_db"], SAME_SEARCH_DB)
+    check(dp["penalty_db"] > 0, "MI-optimal count thresholds cost photons at the BER target")
 # no key to solve for: sigma given directly
 ds = as_json("design", "--model", "gauss", "--alphabet", "pam:4", "--sigma", "0.3", "--bits",
              "3", "--fec", "kp4")
