@@ -84,13 +84,81 @@ static void help(const cli_args *a)
            "spectral efficiency, Gb/s with --symbol-rate, bits per detected photon for\n"
            "photon-counting and APD models, and with --fec NAME (data/fec.tsv) or\n"
            "--fec overhead=PCT,ber=X|ngmi=X whether the link closes, the margin and\n"
-           "the net rate.\n"
+           "the net rate, and the penalty at the FEC target: the value of the operating\n"
+           "key (received-dbm, peak-dbm, snr-db, osnr-db or signal) the quantizer needs\n"
+           "to meet the threshold minus the value the unquantized receiver needs, as\n"
+           "'quantcap require --target fec=CODE' finds it; it replaces the SNR penalty.\n"
            "Details: docs/alphabets.md.\n\n"
            "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
            "grid then gradient refinement), uniform (clipping range optimized),\n"
            "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
            "options:\n");
     cli_print_options(a, stdout);
+}
+
+/* The penalty at the FEC target: the value of the operating key the
+ * chosen quantizer needs to meet the code's threshold minus the value the
+ * unquantized receiver needs, as `quantcap require` finds them
+ * (qc_settings_require); replaces the penalty at the operating rate. */
+typedef struct {
+    int given;        /* --fec was given                               */
+    const char *key;  /* key solved for; NULL: none                    */
+    double db;        /* NaN: undefined, note says why                 */
+    char note[512];
+} fec_penalty;
+
+static qc_status penalty_at_fec(const qc_settings *set, const qc_fec *fec, fec_penalty *p)
+{
+    const char *why = NULL;
+    p->given = 1;
+    p->db = NAN;
+    p->note[0] = '\0';
+    p->key = qc_settings_penalty_key(set, &why);
+    if (!p->key) {
+        snprintf(p->note, sizeof p->note, "%s", why);
+        return QC_OK;
+    }
+    qc_target t;
+    memset(&t, 0, sizeof t);
+    t.fec = *fec;
+    t.from_fec = 1;
+    t.kind = fec->kind == QC_FEC_HARD ? QC_TARGET_BER : QC_TARGET_NGMI;
+    t.value = fec->threshold;
+    size_t kl = strlen(p->key);
+    const char *unit = !qc_setting_in_db(p->key)                       ? NULL
+                       : kl > 4 && strcmp(p->key + kl - 4, "-dbm") == 0 ? " dBm"
+                                                                        : " dB";
+    double lo, hi;
+    qc_require_result r;
+    qc_status st = qc_settings_require_range(set, p->key, &lo, &hi);
+    if (st == QC_OK)
+        st = qc_settings_require(set, p->key, &t, lo, hi, unit, &r);
+    if (st == QC_ENOMEM)
+        return st;
+    if (st != QC_OK)
+        snprintf(p->note, sizeof p->note, "%s", qc_last_error());
+    else if (!isfinite(r.penalty_db))
+        snprintf(p->note, sizeof p->note,
+                 "the unquantized receiver meets the target over the whole search range "
+                 "of %s, %g%s to %g%s",
+                 p->key, lo, unit ? unit : "", hi, unit ? unit : "");
+    else
+        p->db = r.penalty_db;
+    return QC_OK;
+}
+
+static void print_fec_penalty(FILE *f, const qc_design_result *r, const fec_penalty *p)
+{
+    const int hard = r->fec.kind == QC_FEC_HARD;
+    char target[64];
+    snprintf(target, sizeof target, "%s %.4g", hard ? "pre-FEC BER ≤" : "NGMI ≥",
+             r->fec.threshold);
+    if (isfinite(p->db))
+        /* a penalty within the root tolerance prints as 0, not -0.0000 */
+        fprintf(f, "penalty      %.4f dB at the FEC target (%s), solving for %s\n",
+                fabs(p->db) < 5e-5 ? 0.0 : p->db, target, p->key);
+    else
+        fprintf(f, "penalty      undefined at the FEC target (%s): %s\n", target, p->note);
 }
 
 /* GMI, dispersion, blocklength rate, shaping gap (docs/alphabets.md). */
@@ -120,7 +188,7 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
 }
 
 /* Hard-decision error rates, NGMI, trade units, FEC (docs/guide.md). */
-static void print_figures(FILE *f, const qc_design_result *r)
+static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty *p)
 {
     fprintf(f, "hard         symbol error rate %.4e (MAP per cell)", r->symbol_error_rate);
     if (isfinite(r->pre_fec_ber))
@@ -149,10 +217,13 @@ static void print_figures(FILE *f, const qc_design_result *r)
         if (isfinite(r->net_rate_gbps))
             fprintf(f, ", %.6g Gb/s", r->net_rate_gbps);
         fputc('\n', f);
+        if (p->given)
+            print_fec_penalty(f, r, p);
     }
 }
 
-static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r)
+static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r,
+                        const fec_penalty *p)
 {
     int counts = qc_model_get_type(req->channel.model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
@@ -182,7 +253,13 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
                 qc_rate_limit_name(r->unquantized_limited_by));
     fprintf(f, "loss         %.9f %s\n", r->loss_bits, unit);
     const char *why = qc_penalty_note_text(r->snr_penalty_note);
-    if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
+    if (p->given && isfinite(r->snr_db))
+        fprintf(f, "SNR          %.3f dB operating; the penalty at the operating rate is "
+                   "replaced by the penalty at the FEC target (below)\n",
+                r->snr_db);
+    else if (p->given)
+        fprintf(f, "SNR penalty  replaced by the penalty at the FEC target (below)\n");
+    else if (isfinite(r->snr_db) && isfinite(r->snr_penalty_db))
         fprintf(f, "SNR          %.3f dB operating; penalty %.4f dB against the unquantized "
                    "receiver\n",
                 r->snr_db, r->snr_penalty_db);
@@ -195,7 +272,7 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     if (isfinite(r->snr_db) && snr_def)
         fprintf(f, "SNR means    %s\n", snr_def);
     print_practical_rates(f, r);
-    print_figures(f, r);
+    print_figures(f, r, p);
 }
 
 /* Significant digits that resolve t to THRESHOLD_RESOLUTION of the noise
@@ -243,7 +320,8 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
-                         const qc_design_result *r, unsigned bits, const char *table)
+                         const qc_design_result *r, unsigned bits, const char *table,
+                         const fec_penalty *p)
 {
     const qc_model_type *type = qc_model_get_type(m);
     const char *lu = qc_design_level_unit(req), *ou = qc_design_output_unit(req);
@@ -265,7 +343,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
             req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
-    print_rates(f, req, r);
+    print_rates(f, req, r, p);
     if (r->reconstruction)
         fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);
     print_thresholds(f, m, r, ou);
@@ -425,19 +503,34 @@ int cmd_design(int argc, char **argv)
         goto done;
     }
     unsigned bits = cli_bits_of_cells(req.quantizer.cells);
+    fec_penalty pen = {0};
+    if (res.fec_given && (st = penalty_at_fec(set, &res.fec, &pen)) != QC_OK) {
+        rc = cli_lib_error(st);
+        goto done;
+    }
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     if (cli_has(&a, "json")) {
         char *text = NULL;
         if ((st = qc_design_report_json(&req, &res, &text)) != QC_OK) {
             rc = cli_lib_error(st);
+        } else if (pen.given) {
+            json_t *o = json_loads(text, 0, NULL);
+            if (o) {
+                json_object_set_new(o, "penalty_solve_for",
+                                    pen.key ? json_string(pen.key) : json_null());
+                json_object_set_new(o, "penalty_db", cli_json_real(pen.db));
+                json_object_set_new(o, "penalty_note",
+                                    isfinite(pen.db) ? json_null() : json_string(pen.note));
+            }
+            rc = cli_json_print(&sink, o); /* NULL: out of memory, said so */
         } else {
             fputs(text, sink.f);
             fputc('\n', sink.f);
         }
         free(text);
     } else
-        design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"));
+        design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"), &pen);
 done:
     rc = cli_sink_finish(&sink, rc);
     qc_design_result_clear(&res);

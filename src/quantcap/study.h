@@ -88,6 +88,14 @@ QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double 
 QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                            double *hi);
 
+/* The key a design's penalty at a target is solved for: the one that
+ * sets its operating point (peak-dbm or received-dbm of a physical
+ * receiver, snr-db, osnr-db, signal of a photon-counting or APD model).
+ * NULL when there is none, with *why saying so (a static phrase: a
+ * measured table, parameters such as sigma given directly). Sets no
+ * message. */
+QC_API const char *qc_settings_penalty_key(const qc_settings *s, const char **why);
+
 /* qc_require with the value of `key` as the unknown: each value tried is
  * the settings with the key replaced, built as qc_settings_build does.
  * Keys in dB are searched as they are, others on a log scale (lo > 0).

@@ -53,6 +53,29 @@ qc_status qc_settings_with(const qc_settings *s, const char *key, double value,
     return st;
 }
 
+const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
+{
+    static const char *const keys[] = {"peak-dbm", "received-dbm", "snr-db", "osnr-db",
+                                       "signal", NULL};
+    *why = NULL;
+    const char *model = qc_settings_get(s, "model");
+    if (model && strcmp(model, "table") == 0) {
+        *why = "a measured table has no quantity to solve for";
+        return NULL;
+    }
+    for (size_t i = 0; keys[i]; i++)
+        if (qc_settings_get(s, keys[i]))
+            return keys[i];
+    if (qc_settings_get(s, "sigma"))
+        *why = "the operating point is given by 'sigma', a noise level: give it as snr-db "
+               "(or osnr-db) to solve for";
+    else
+        *why = "the model's parameters are given directly, none of them an operating key "
+               "to solve for (snr-db, osnr-db, received-dbm, peak-dbm or signal, as the "
+               "model takes them)";
+    return NULL;
+}
+
 #define DB_HALF_RANGE 30.0  /* dB either side of an operating value      */
 #define LINEAR_DECADES 3.0  /* decades either side of an operating value */
 

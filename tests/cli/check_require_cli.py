@@ -32,6 +32,7 @@ QC = sys.argv[1]
 tally = Tally()
 check = tally.check
 ROOT_TOL_DB = 1e-4   # require stops the root at 1e-6 dB; designs add noise
+SAME_SEARCH_DB = 1e-9  # design --fec and require run the same search: same root
 FIGURE_KEYS = ["symbol_error_rate", "pre_fec_ber", "q_factor_db", "ngmi", "rate_gbps",
                "spectral_efficiency", "bits_per_photon", "net_rate_gbps"]
 REQUIRE_KEYS = ["solve_for", "target", "required", "unquantized_required", "penalty_db",
@@ -124,6 +125,52 @@ if "required" in p:
                        "--alphabet", "upam:2", "--bits", "1", "--target", "ber=1e-3",
                        "--solve-for", "signal")
     check("photons" in out and "dB" in out, "require text gives photons and dB")
+
+# design --fec: the penalty at the FEC target is the one `require` finds
+# (same settings, same key, same search), and it replaces the penalty at
+# the operating rate
+PAM4 = ["--model", "gauss", "--alphabet", "pam:4", "--snr-db", "18"]
+d3 = as_json("design", *PAM4, "--bits", "3", "--fec", "kp4")
+r3 = as_json("require", *PAM4, "--bits", "3", "--target", "fec=kp4", "--solve-for", "snr-db")
+if "penalty_db" in r3:
+    check(d3.get("penalty_solve_for") == "snr-db", "design --fec solves for snr-db")
+    check(d3.get("penalty_note", "missing") is None, "design --fec: no note when defined")
+    check(isinstance(d3.get("penalty_db"), float), "design --fec: penalty_db is a number")
+    if isinstance(d3.get("penalty_db"), float):
+        tally.near("design --fec kp4 penalty = require penalty (PAM-4, 3 bits)",
+                   d3["penalty_db"], r3["penalty_db"], SAME_SEARCH_DB)
+        check(d3["penalty_db"] > 0, "3 bits cost something at the kp4 target")
+rc, out, err = run("design", *PAM4, "--bits", "3", "--fec", "kp4")
+pen = "%.4f dB" % r3.get("penalty_db", float("nan"))
+check(f"penalty      {pen} at the FEC target (pre-FEC BER \u2264 0.00024)" in out,
+      f"design --fec text gives the penalty at the target ({pen})")
+check("replaced by the penalty at the FEC target" in out,
+      "design --fec: the SNR line says its penalty is replaced")
+# 1 bit cannot carry PAM-4 to BER 2.4e-4 at any SNR: undefined, with the reason
+d1 = as_json("design", *PAM4, "--bits", "1", "--fec", "kp4")
+check("penalty_db" in d1 and d1["penalty_db"] is None, "1 bit: penalty_db is null")
+check("not reached" in (d1.get("penalty_note") or ""), "1 bit: the note says not reached")
+rc, out, err = run("design", *PAM4, "--bits", "1", "--fec", "kp4")
+check(rc == 0 and "penalty      undefined at the FEC target" in out,
+      "1 bit: the text says the penalty is undefined, design still succeeds")
+# photons: solved for the signal (10 log10 of the ratio), as require does
+PHOT = ["--model", "poisson", "--signal", "20", "--background", "0.5", "--alphabet", "upam:4",
+        "--bits", "3"]
+dp = as_json("design", *PHOT, "--fec", "hd-7")
+rp = as_json("require", *PHOT, "--target", "fec=hd-7", "--solve-for", "signal")
+check(dp.get("penalty_solve_for") == "signal", "photon counting: solved for signal")
+if isinstance(dp.get("penalty_db"), float) and "penalty_db" in rp:
+    tally.near("design --fec hd-7 penalty = require penalty (photons)", dp["penalty_db"],
+               rp["penalty_db"], SAME_SEARCH_DB)
+    check(dp["penalty_db"] > 0, "MI-optimal count thresholds cost photons at the BER target")
+# no key to solve for: sigma given directly
+ds = as_json("design", "--model", "gauss", "--alphabet", "pam:4", "--sigma", "0.3", "--bits",
+             "3", "--fec", "kp4")
+check(ds.get("penalty_db", 0) is None and "sigma" in (ds.get("penalty_note") or ""),
+      "sigma given: penalty undefined, the note names sigma")
+# without --fec the report has no penalty keys
+d0 = as_json("design", *PAM4, "--bits", "3")
+check("penalty_db" not in d0 and "penalty_note" not in d0, "without --fec: no penalty keys")
 
 # sweep: the figures are columns of results.csv
 with tempfile.TemporaryDirectory() as tmp:
