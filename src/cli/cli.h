@@ -87,6 +87,9 @@ unsigned cli_bits_of_cells(size_t cells);
 
 /* Model flags (model_args.c). */
 void cli_add_model_options(cli_args *a);
+/* Every design key (the settings vocabulary) and every model parameter as
+ * flags: what `design` and `require` take. */
+void cli_add_design_options(cli_args *a);
 int cli_model_type(const cli_args *a, const qc_model_type **type);
 /* Parameters given on the command line for `type` (NaN where absent);
  * a flag belonging only to other models is an error. */

@@ -19,19 +19,6 @@ static const cli_opt output_options[] = {
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
 #define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
 
-/* The design keys become flags; the table lives as long as the program. */
-static cli_opt key_options[64];
-
-static void add_design_options(cli_args *a)
-{
-    size_t n;
-    const qc_setting_info *info = qc_setting_keys(&n);
-    for (size_t i = 0; i < n && i < 64; i++) {
-        key_options[i] = (cli_opt){info[i].key, info[i].metavar, info[i].help};
-        cli_args_add(a, &key_options[i]);
-    }
-    cli_add_model_options(a);
-}
 
 static void help(const cli_args *a)
 {
@@ -449,7 +436,7 @@ int cmd_design(int argc, char **argv)
 {
     cli_args a;
     cli_args_init(&a, "design", output_options);
-    add_design_options(&a);
+    cli_add_design_options(&a);
     int rc = cli_parse(&a, argc, argv, 0);
     if (rc == CLI_HELP) {
         help(&a);

@@ -31,24 +31,11 @@ static const char *const key_units[][2] = {
 };
 
 
-static cli_opt key_options[64];
-
-static void add_design_options(cli_args *a)
-{
-    size_t n;
-    const qc_setting_info *info = qc_setting_keys(&n);
-    for (size_t i = 0; i < n && i < 64; i++) {
-        key_options[i] = (cli_opt){info[i].key, info[i].metavar, info[i].help};
-        cli_args_add(a, &key_options[i]);
-    }
-    cli_add_model_options(a);
-}
-
 static void help(const cli_args *a)
 {
     printf("usage: quantcap require --target KIND=VALUE --solve-for KEY [--range LO,HI]\n"
            "                        [every option of 'quantcap design'] [--json] [--output FILE]\n\n"
-           "The inverse question: which value of KEY (snr-db, osnr-db, power-dbm, photons\n"
+           "The inverse question: which value of KEY (snr-db, osnr-db, received-dbm, photons\n"
            "per slot, any numeric model or front-end key) meets the target with the chosen\n"
            "quantizer, which value the unquantized receiver (same levels and law) needs,\n"
            "and the penalty between them at the target (dB; for linear quantities such as\n"
@@ -187,7 +174,7 @@ int cmd_require(int argc, char **argv)
 {
     cli_args a;
     cli_args_init(&a, "require", require_options);
-    add_design_options(&a);
+    cli_add_design_options(&a);
     int rc = cli_parse(&a, argc, argv, 0);
     if (rc == CLI_HELP) {
         help(&a);

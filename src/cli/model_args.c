@@ -93,3 +93,17 @@ int cli_build_model(const qc_model_type *type, const double *params, qc_model **
     }
     return CLI_OK;
 }
+
+/* The design keys become flags; the table lives as long as the program. */
+static cli_opt key_options[64];
+
+void cli_add_design_options(cli_args *a)
+{
+    size_t n;
+    const qc_setting_info *info = qc_setting_keys(&n);
+    for (size_t i = 0; i < n && i < 64; i++) {
+        key_options[i] = (cli_opt){info[i].key, info[i].metavar, info[i].help};
+        cli_args_add(a, &key_options[i]);
+    }
+    cli_add_model_options(a);
+}
