@@ -83,55 +83,24 @@ static void help(const cli_args *a)
     cli_print_options(a, stdout);
 }
 
-/* The penalty at the FEC target: the value of the operating key the
- * chosen quantizer needs to meet the code's threshold minus the value the
- * unquantized receiver needs, as `quantcap require` finds them
- * (qc_settings_require); replaces the penalty at the operating rate. */
+/* The penalty at the FEC target (qc_settings_fec_penalty), and whether a
+ * code was given. */
 typedef struct {
-    int given;        /* --fec was given                               */
-    const char *key;  /* key solved for; NULL: none                    */
-    double db;        /* NaN: undefined, note says why                 */
+    int given;
+    const char *key;
+    double db;
     char note[512];
 } fec_penalty;
 
 static qc_status penalty_at_fec(const qc_settings *set, const qc_fec *fec, fec_penalty *p)
 {
-    const char *why = NULL;
+    qc_fec_penalty q;
+    qc_status st = qc_settings_fec_penalty(set, fec, &q);
     p->given = 1;
-    p->db = NAN;
-    p->note[0] = '\0';
-    p->key = qc_settings_penalty_key(set, &why);
-    if (!p->key) {
-        snprintf(p->note, sizeof p->note, "%s", why);
-        return QC_OK;
-    }
-    qc_target t;
-    memset(&t, 0, sizeof t);
-    t.fec = *fec;
-    t.from_fec = 1;
-    t.kind = fec->kind == QC_FEC_HARD ? QC_TARGET_BER : QC_TARGET_NGMI;
-    t.value = fec->threshold;
-    size_t kl = strlen(p->key);
-    const char *unit = !qc_setting_in_db(p->key)                       ? NULL
-                       : kl > 4 && strcmp(p->key + kl - 4, "-dbm") == 0 ? " dBm"
-                                                                        : " dB";
-    double lo, hi;
-    qc_require_result r;
-    qc_status st = qc_settings_require_range(set, p->key, &lo, &hi);
-    if (st == QC_OK)
-        st = qc_settings_require(set, p->key, &t, lo, hi, unit, &r);
-    if (st == QC_ENOMEM)
-        return st;
-    if (st != QC_OK)
-        snprintf(p->note, sizeof p->note, "%s", qc_last_error());
-    else if (!isfinite(r.penalty_db))
-        snprintf(p->note, sizeof p->note,
-                 "the unquantized receiver meets the target over the whole search range "
-                 "of %s, %g%s to %g%s",
-                 p->key, lo, unit ? unit : "", hi, unit ? unit : "");
-    else
-        p->db = r.penalty_db;
-    return QC_OK;
+    p->key = q.key;
+    p->db = q.db;
+    snprintf(p->note, sizeof p->note, "%s", q.note);
+    return st;
 }
 
 static void print_fec_penalty(FILE *f, const qc_design_result *r, const fec_penalty *p)
@@ -326,6 +295,9 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
+    if (r->decisions_kept)
+        fprintf(f, ", keeps the %zu MAP decision boundar%s", r->decisions_kept,
+                r->decisions_kept == 1 ? "y" : "ies");
     fprintf(f, "\nobjective    %s\n\n",
             req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
@@ -343,16 +315,124 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
 }
 
-/* `--compare`: every strategy on the same channel. */
-static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
+/* The comparison with a FEC code: per strategy the rate, the code's
+ * figure (pre-FEC BER or NGMI), whether it closes with its margin, and
+ * the penalty at the code's threshold. */
+static int compare_fec_table(FILE *f, const qc_design_request *req,
+                             const qc_design_comparison *cmp, const fec_penalty *pen)
+{
+    const qc_fec *fec = req->input.fec;
+    const int hard = fec->kind == QC_FEC_HARD;
+    const char *key = NULL;
+    fprintf(f, "%-10s %14s %12s %8s %12s %12s\n", "quantizer", "rate",
+            hard ? "pre-FEC BER" : "NGMI", "closes", hard ? "margin dB" : "margin",
+            "penalty dB");
+    for (size_t i = 0; i < cmp->count; i++) {
+        if (cmp->status[i] != QC_OK) {
+            fprintf(f, "%-10s failed: %s\n", qc_quantizer_name(cmp->kind[i]), cmp->message[i]);
+            continue;
+        }
+        const qc_design_result *r = &cmp->result[i];
+        char penalty[32] = "n/a";
+        if (isfinite(pen[i].db))
+            snprintf(penalty, sizeof penalty, "%.4f", fabs(pen[i].db) < 5e-5 ? 0.0 : pen[i].db);
+        if (pen[i].key)
+            key = pen[i].key;
+        fprintf(f, "%-10s %14.9f %12.4e %8s %12.4f %12s\n", qc_quantizer_name(r->quantizer),
+                r->rate_bits, hard ? r->pre_fec_ber : r->ngmi, r->fec_closes ? "yes" : "no",
+                r->fec_margin, penalty);
+    }
+    for (size_t i = 0; i < cmp->count; i++)
+        if (cmp->status[i] == QC_OK && !isfinite(pen[i].db))
+            fprintf(f, "\npenalty n/a (%s): %s\n", qc_quantizer_name(cmp->kind[i]),
+                    pen[i].note);
+    char thr[64];
+    snprintf(thr, sizeof thr, "%s %.4g", hard ? "pre-FEC BER <=" : "NGMI >=", fec->threshold);
+    fprintf(f, "\nFEC %s (%s): margin %s; penalty at the code's threshold against the "
+               "unquantized receiver%s%s%s\n",
+            fec->name, thr, hard ? "in Q-factor dB" : "in NGMI",
+            key ? ", solving for " : "", key ? key : "", hard ? "; optimal keeps the MAP "
+            "decision boundaries (hard-decision code)" : "");
+    fprintf(f, "rates: %s, exact finite sums, in %s\n",
+            req->input.objective == QC_OBJECTIVE_GMI ? "BICM GMI with Gray labels"
+            : req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity (engine bounds)"
+                                                            : "mutual information",
+            cli_rate_unit(req->channel.dimensions));
+    return CLI_OK;
+}
+
+/* The design's JSON with the penalty at the FEC target added (when a
+ * code was given), printed to the sink without a final newline. */
+static int print_design_json(cli_sink *sink, const qc_design_request *req,
+                             const qc_design_result *res, const fec_penalty *pen)
+{
+    char *text = NULL;
+    qc_status st = qc_design_report_json(req, res, &text);
+    if (st != QC_OK)
+        return cli_lib_error(st);
+    if (pen->given) {
+        json_t *o = json_loads(text, 0, NULL);
+        free(text);
+        text = NULL;
+        if (o) {
+            json_object_set_new(o, "penalty_solve_for",
+                                pen->key ? json_string(pen->key) : json_null());
+            json_object_set_new(o, "penalty_db", cli_json_real(pen->db));
+            json_object_set_new(o, "penalty_note",
+                                isfinite(pen->db) ? json_null() : json_string(pen->note));
+            text = json_dumps(o, JSON_INDENT(2) | JSON_REAL_PRECISION(17) |
+                                     JSON_PRESERVE_ORDER);
+            json_decref(o);
+        }
+        if (!text)
+            return cli_usage_error("out of memory building JSON output");
+    }
+    fputs(text, sink->f);
+    free(text);
+    return CLI_OK;
+}
+
+/* The penalty at the FEC target of each strategy of a comparison: the
+ * settings with that strategy in place of the request's. */
+static qc_status compare_penalties(const qc_settings *set, const qc_design_comparison *cmp,
+                                   fec_penalty *pen)
+{
+    for (size_t i = 0; i < cmp->count; i++) {
+        if (cmp->status[i] != QC_OK || !cmp->result[i].fec_given)
+            continue;
+        qc_settings *one = NULL;
+        qc_status st = qc_settings_copy(set, &one);
+        if (st == QC_OK)
+            st = qc_settings_set(one, "quantizer", qc_quantizer_name(cmp->kind[i]));
+        if (st == QC_OK)
+            st = penalty_at_fec(one, &cmp->result[i].fec, &pen[i]);
+        qc_settings_free(one);
+        if (st != QC_OK)
+            return st;
+    }
+    return QC_OK;
+}
+
+/* `--compare`: every strategy on the same channel; with a FEC code, its
+ * figure, whether it closes and the penalty at its threshold. */
+static int run_compare(cli_sink *sink, int json, const qc_settings *set,
+                       const qc_design_request *req)
 {
     qc_design_comparison cmp;
     memset(&cmp, 0, sizeof cmp);
     qc_status st = qc_design_compare(req, &cmp);
     if (st != QC_OK && cmp.count == 0)
         return cli_lib_error(st);
+    fec_penalty pen[QC_COMPARE_MAX];
+    memset(pen, 0, sizeof pen);
+    if (req->input.fec && (st = compare_penalties(set, &cmp, pen)) != QC_OK) {
+        qc_design_comparison_clear(&cmp);
+        return cli_lib_error(st);
+    }
     int rc = CLI_OK;
-    if (json) {
+    if (req->input.fec && !json) {
+        rc = compare_fec_table(sink->f, req, &cmp, pen);
+    } else if (json) {
         fputs("[\n", sink->f);
         for (size_t i = 0; i < cmp.count && rc == CLI_OK; i++) {
             if (cmp.status[i] != QC_OK) {
@@ -364,14 +444,10 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                 fputs(t ? t : "null", sink->f);
                 free(t);
             } else {
-                char *t = NULL;
-                if ((st = qc_design_report_json(req, &cmp.result[i], &t)) != QC_OK)
-                    rc = cli_lib_error(st);
-                else
-                    fputs(t, sink->f);
-                free(t);
+                rc = print_design_json(sink, req, &cmp.result[i], &pen[i]);
             }
-            fputs(i + 1 < cmp.count ? ",\n" : "\n", sink->f);
+            if (rc == CLI_OK)
+                fputs(i + 1 < cmp.count ? ",\n" : "\n", sink->f);
         }
         fputs("]\n", sink->f);
     } else {
@@ -479,7 +555,7 @@ int cmd_design(int argc, char **argv)
     if (cli_has(&a, "compare")) {
         if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
             goto done;
-        rc = run_compare(&sink, cli_has(&a, "json"), &req);
+        rc = run_compare(&sink, cli_has(&a, "json"), set, &req);
         cli_progress_end(&bar);
         goto done;
     }
@@ -498,24 +574,8 @@ int cmd_design(int argc, char **argv)
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     if (cli_has(&a, "json")) {
-        char *text = NULL;
-        if ((st = qc_design_report_json(&req, &res, &text)) != QC_OK) {
-            rc = cli_lib_error(st);
-        } else if (pen.given) {
-            json_t *o = json_loads(text, 0, NULL);
-            if (o) {
-                json_object_set_new(o, "penalty_solve_for",
-                                    pen.key ? json_string(pen.key) : json_null());
-                json_object_set_new(o, "penalty_db", cli_json_real(pen.db));
-                json_object_set_new(o, "penalty_note",
-                                    isfinite(pen.db) ? json_null() : json_string(pen.note));
-            }
-            rc = cli_json_print(&sink, o); /* NULL: out of memory, said so */
-        } else {
-            fputs(text, sink.f);
+        if ((rc = print_design_json(&sink, &req, &res, &pen)) == CLI_OK)
             fputc('\n', sink.f);
-        }
-        free(text);
     } else
         design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"), &pen);
 done:

@@ -136,6 +136,19 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
         return st;
     if (req->quantizer.kind != QC_QUANTIZER_FIXED)
         qc_snap_thresholds(req->channel.model, res->levels, res->nlevels, nt, res->thresholds);
+    const int hard_code = req->input.fec && req->input.fec->kind == QC_FEC_HARD;
+    if ((req->quantizer.keep_decisions || hard_code) &&
+        req->quantizer.kind == QC_QUANTIZER_OPTIMAL) {
+        double *b;
+        size_t nb;
+        st = qc_map_boundaries(req->channel.model, res->levels, res->input, res->nlevels, &b,
+                               &nb);
+        if (st != QC_OK)
+            return st;
+        res->decisions_kept =
+            qc_keep_boundaries(req->channel.model, b, nb, res->thresholds, nt);
+        free(b);
+    }
     st = qc_discretize(req->channel.model, res->levels, res->nlevels, res->thresholds, nt,
                        &res->channel);
     if (st != QC_OK)

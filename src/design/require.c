@@ -7,8 +7,11 @@
  * monotone and to bracket the crossing, then the crossing is found with
  * GSL's Brent solver (R. P. Brent, Algorithms for Minimization without
  * Derivatives, 1973, ch. 4). The unquantized hard decision is the MAP
- * rule on a fine grid of cells over the outputs' support, which matches
- * the continuous MAP regions to within one fine cell. */
+ * rule, through a quantizer whose thresholds are its decision boundaries
+ * (src/quantizer/decisions.c). For BER targets the optimal quantizer
+ * keeps those boundaries among its thresholds (keep_decisions), as a
+ * receiver built for a hard-decision code would. Two roots closer than
+ * the root tolerance give a penalty of exactly 0. */
 #include "design/design_internal.h"
 
 #include <math.h>
@@ -24,7 +27,6 @@
 #define ROOT_TOL_DB 1e-6      /* bracket width at stop, in dB (or log10 × 10) */
 #define ROOT_MAX_ITER 100
 #define BER_FLOOR 1e-300      /* log10 of a BER that underflowed to 0        */
-#define FINE_CELLS 16384      /* cells of the unquantized hard decision      */
 
 static const char *const target_names[QC_TARGET_COUNT] = {"ber", "ngmi", "gmi", "rate"};
 
@@ -105,36 +107,27 @@ static double from_goodness(qc_target_kind kind, double g)
 
 /* ---- the unquantized figures ---------------------------------------- */
 
-/* MAP hard decision on a fine grid over the outputs' support. */
+/* MAP hard decision of the unquantized receiver: a quantizer whose
+ * thresholds are exactly the MAP decision boundaries decides as the
+ * continuous receiver does (decisions.c). */
 static qc_status unquantized_hard(const qc_model *m, const double *levels, const double *law,
                                   size_t n, const size_t *labels, unsigned nbits, double *ber)
 {
-    double lo = INFINITY, hi = -INFINITY;
-    for (size_t i = 0; i < n; i++) {
-        double a, b;
-        qc_model_get_type(m)->support(m, levels[i], &a, &b);
-        lo = fmin(lo, a);
-        hi = fmax(hi, b);
-    }
-    int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
-    if (counts)
-        lo = fmax(lo, 0.0);
-    double *t = qc_malloc_array(FINE_CELLS, sizeof *t);
-    if (!t)
-        return qc_fail(QC_ENOMEM, "out of memory");
+    double *t = NULL;
     size_t nt = 0;
-    if (counts) {
-        double step = fmax(1.0, ceil((hi - lo) / FINE_CELLS));
-        for (double c = fmax(1.0, floor(lo) + step); c < hi && nt < FINE_CELLS - 1; c += step)
-            t[nt++] = c;
-    } else {
-        for (size_t k = 1; k < FINE_CELLS; k++)
-            t[nt++] = lo + (hi - lo) * (double)k / FINE_CELLS;
-    }
+    qc_status st = qc_map_boundaries(m, levels, law, n, &t, &nt);
+    if (st != QC_OK)
+        return st;
     qc_dmc *d = NULL;
-    qc_status st = nt ? qc_discretize(m, levels, n, t, nt, &d)
-                      : qc_fail(QC_EINVAL, "unquantized hard decision: empty output support");
     qc_hard_figures h;
+    if (nt == 0) { /* one decision everywhere: one cell */
+        double one = 1.0;
+        st = qc_dmc_alloc(n, 1, &d);
+        for (size_t i = 0; st == QC_OK && i < n; i++)
+            d->p[i] = one;
+    } else {
+        st = qc_discretize(m, levels, n, t, nt, &d);
+    }
     if (st == QC_OK)
         st = qc_hard_decision(d, law, labels, nbits, 1, &h);
     if (st == QC_OK)
@@ -242,6 +235,8 @@ static double evaluate(search *s, double u)
         st = unquantized_figure(m, &req, rq->target.kind, &s->designs, &f);
     } else if (st == QC_OK) {
         qc_design_result r;
+        if (rq->target.kind == QC_TARGET_BER)
+            req.quantizer.keep_decisions = 1;
         req.numerics.skip_snr_penalty = 1;
         req.input.fec = NULL;
         st = qc_design(&req, &r);
@@ -430,7 +425,9 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
         out->unquantized_required = value_of(rq, uroot);
         double diff = rq->linear ? 10.0 * log10(out->required / out->unquantized_required)
                                  : out->required - out->unquantized_required;
-        out->penalty_db = inc ? diff : -diff;
+        const double tol = rq->linear ? ROOT_TOL_DB / 10.0 : ROOT_TOL_DB;
+        /* both roots are known to the solver's tolerance only */
+        out->penalty_db = fabs(diff) <= 2.0 * tol ? 0.0 : inc ? diff : -diff;
     }
     return QC_OK;
 }

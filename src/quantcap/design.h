@@ -117,6 +117,14 @@ typedef struct {
                                     strictly increasing (integers ≥ 1 for
                                     count outputs); ignored otherwise      */
     size_t nthresholds;          /* their number; must equal K − 1         */
+    int keep_decisions;          /* 1: the optimal strategy's thresholds
+                                    nearest to the unquantized MAP decision
+                                    boundaries are moved onto them, so that
+                                    hard decisions lose nothing when there
+                                    are at least as many cells as decision
+                                    regions (MI and GMI objectives; the
+                                    rate is that of the moved thresholds).
+                                    qc_require sets it for BER targets   */
 } qc_design_quantizer;
 
 /* The input: the objective, the input law and what constrains it. */
@@ -135,7 +143,10 @@ typedef struct {
                                     thresholds re-designed at each step)   */
     size_t level_starts;         /* starts of that search; 0: 3             */
     const qc_fec *fec;           /* a code to close the link with (figures:
-                                    closes, margin, net rate); NULL: none  */
+                                    closes, margin, net rate); NULL: none.
+                                    A hard-decision code makes the optimal
+                                    quantizer keep the MAP decision
+                                    boundaries (as keep_decisions)         */
 } qc_design_input;
 
 /* The numerics. */
@@ -212,6 +223,10 @@ typedef struct {
                                     refinement iterations; capacity joint
                                     design: alternations (all starts)      */
     size_t fine_cells;           /* optimal: fine-grid cells used; 0 else    */
+    size_t decisions_kept;       /* keep_decisions: MAP decision boundaries
+                                    the thresholds now include; 0: none
+                                    (not asked, or fewer cells than
+                                    decision regions)                      */
     double snr_db;               /* operating SNR by the model's notion;
                                     NaN: the model defines none             */
     double snr_penalty_db;       /* snr_db minus the SNR at which the

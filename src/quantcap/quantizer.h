@@ -220,6 +220,24 @@ QC_API double qc_simplest_within(double x, double tol);
 QC_API void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
                         size_t nt, double *t);
 
+/* ---- decisions.c: the unquantized MAP decision boundaries ------------- */
+
+/* Where the MAP decision argmax_x law(x) f(y|x) changes, increasing
+ * (*out owned by the caller; *nout may be 0). Continuous outputs: a scan
+ * of the support refined by Brent's method; counts: the whole counts at
+ * which the decision changes (a threshold there splits y < c from
+ * y >= c). */
+QC_API qc_status qc_map_boundaries(const qc_model *model, const double *levels, const double *law,
+                            size_t n, double **out, size_t *nout);
+
+/* Move the nt thresholds t (increasing) nearest to the nb boundaries b
+ * onto them (least total move, order kept; the others stay strictly in
+ * order). Returns nb when done, 0 when nothing was moved (more boundaries
+ * than thresholds, or counts without room). */
+QC_API size_t qc_keep_boundaries(const qc_model *model, const double *b, size_t nb, double *t,
+                          size_t nt);
+
+
 /* Cells a quantizer for count outputs can use: hi − lo + 1 for the union
  * [lo, hi] of the levels' supports (every count that carries probability
  * in its own cell), at most `cells`. Continuous outputs: `cells`. Never

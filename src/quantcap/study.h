@@ -104,6 +104,24 @@ QC_API qc_status qc_settings_require(const qc_settings *s, const char *key,
                                      const qc_target *target, double lo, double hi,
                                      const char *unit, qc_require_result *res);
 
+/* The penalty at a FEC code's threshold of the design the settings
+ * describe: the value of its operating key (qc_settings_penalty_key) the
+ * settings' quantizer needs to meet the code's threshold (pre-FEC BER or
+ * NGMI) minus the value the unquantized receiver needs, found by
+ * qc_settings_require over the default range. It replaces the penalty at
+ * the operating rate wherever a code is given. */
+typedef struct {
+    const char *key;  /* the key solved for; NULL: none (note says why)    */
+    double db;        /* the penalty in dB; NaN: undefined (note says why) */
+    char note[512];   /* why undefined; empty when defined                 */
+} qc_fec_penalty;
+
+/* Fill *out for the code `fec`. An undefined penalty (no key to solve
+ * for, a target not met in the range) is QC_OK with the reason in
+ * out->note; only QC_ENOMEM fails. */
+QC_API qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec,
+                                         qc_fec_penalty *out);
+
 /* A model cache: the model instances of a run of designs, kept by model
  * setting (the type, its parameter values bit for bit with defaults filled
  * in, and for a measured table the file's path; the file is read when an

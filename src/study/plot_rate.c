@@ -254,8 +254,8 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             snprintf(path, sizeof path, "%s/rate-vs-%s%s.%s", dir, ba->key, ftext,
                      plot_extension(p->format));
             plot_safe_name(strrchr(path, '/') + 1);
-            /* the lower panel shows the penalty at the [require] target
-             * when one is given and met somewhere here (the dB the
+            /* the lower panel shows the penalty at the target ([require],
+             * or the threshold of a fec key) when met somewhere here (the dB the
              * quantizer costs where the link closes), else the SNR penalty
              * when the model defines one at these points, else the loss
              * in bits */
@@ -278,8 +278,8 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                                 if (pass == 0) {
                                     penalty_db |=
                                         isfinite(plot_record_number(rec, QC_REPORT_SNR_PENALTY));
-                                    at_target |= sc->require.on &&
-                                                 isfinite(plot_record_number(rec, "penalty_db"));
+                                    /* from [require], or a fec key's threshold */
+                                    at_target |= isfinite(plot_record_number(rec, "penalty_db"));
                                     continue;
                                 }
                                 rate[cell * nb + b] = plot_record_number(rec, QC_REPORT_RATE);

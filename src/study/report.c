@@ -165,7 +165,7 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "level_unit", json_string(qc_design_level_unit(req)));
     json_object_set_new(o, "output_unit", json_string(qc_design_output_unit(req)));
     json_object_set_new(o, "objective", json_string(qc_objective_name(req->input.objective)));
-    json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(req->quantizer.kind)));
+    json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(res->quantizer)));
     json_object_set_new(o, "cells", json_integer((json_int_t)req->quantizer.cells));
     /* fewer than cells for count outputs with fewer counts that carry
      * probability (each has its own cell) */
@@ -186,6 +186,7 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "design_iterations",
                         json_integer((json_int_t)res->design_iterations));
     json_object_set_new(o, "fine_cells", json_integer((json_int_t)res->fine_cells));
+    json_object_set_new(o, "decisions_kept", json_integer((json_int_t)res->decisions_kept));
     /* the SNR the design operates at (under the optimized law for
      * objective capacity), not the requested snr-db */
     json_object_set_new(o, "operating_snr_db", qc_report_real(res->snr_db));

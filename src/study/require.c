@@ -13,7 +13,7 @@
 /* Keys that are not a continuous quantity to solve for. */
 static const char *const not_solvable[] = {
     "model", "levels", "probabilities", "bits", "cells", "objective", "quantizer",
-    "fine-cells", "thresholds", "tol", "alphabet", "table", "level-grid", "optimize-levels",
+    "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid", "optimize-levels",
     "level-starts", "blocklength", "error-rate", "polarizations", "fec", NULL,
 };
 
@@ -157,4 +157,43 @@ qc_status qc_settings_require(const qc_settings *s, const char *key, const qc_ta
     st = qc_require(&rq, res);
     builder_clear(&b);
     return st;
+}
+
+qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fec_penalty *out)
+{
+    const char *why = NULL;
+    out->db = NAN;
+    out->note[0] = '\0';
+    out->key = qc_settings_penalty_key(s, &why);
+    if (!out->key) {
+        snprintf(out->note, sizeof out->note, "%s", why);
+        return QC_OK;
+    }
+    qc_target t;
+    memset(&t, 0, sizeof t);
+    t.fec = *fec;
+    t.from_fec = 1;
+    t.kind = fec->kind == QC_FEC_HARD ? QC_TARGET_BER : QC_TARGET_NGMI;
+    t.value = fec->threshold;
+    size_t kl = strlen(out->key);
+    const char *unit = !qc_setting_in_db(out->key)                       ? NULL
+                       : kl > 4 && strcmp(out->key + kl - 4, "-dbm") == 0 ? " dBm"
+                                                                          : " dB";
+    double lo, hi;
+    qc_require_result r;
+    qc_status st = qc_settings_require_range(s, out->key, &lo, &hi);
+    if (st == QC_OK)
+        st = qc_settings_require(s, out->key, &t, lo, hi, unit, &r);
+    if (st == QC_ENOMEM)
+        return st;
+    if (st != QC_OK)
+        snprintf(out->note, sizeof out->note, "%s", qc_last_error());
+    else if (!isfinite(r.penalty_db))
+        snprintf(out->note, sizeof out->note,
+                 "the unquantized receiver meets the target over the whole search range "
+                 "of %s, %g%s to %g%s",
+                 out->key, lo, unit ? unit : "", hi, unit ? unit : "");
+    else
+        out->db = r.penalty_db;
+    return QC_OK;
 }

@@ -49,6 +49,9 @@ static const key_spec keys[] = {
            "optimal,uniform,lloyd-max,fixed"),
     WHOLE("fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)",
           2, (size_t)1 << 22),
+    SWITCH("keep-decisions", "optimal quantizer: move the thresholds nearest to the MAP "
+           "decision boundaries onto them, so hard decisions lose nothing (automatic with a "
+           "BER target or a hard-decision FEC)"),
     LIST("thresholds", "T1,...,Tk", "evaluate these thresholds (quantizer fixed)"),
     NUMBER("tol", "T", "certification tolerance in bits (default 1e-9)"),
     TEXT("alphabet", "SPEC",

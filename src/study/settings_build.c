@@ -527,6 +527,15 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         st = qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
         goto fail;
     }
+    if ((v = qc_settings_get(s, "keep-decisions")) && strcmp(v, "true") == 0) {
+        if (req->quantizer.kind != QC_QUANTIZER_OPTIMAL) {
+            st = qc_fail(QC_EINVAL, "keep-decisions: applies to the optimal quantizer only "
+                                    "(the quantizer is %s)",
+                         qc_quantizer_name(req->quantizer.kind));
+            goto fail;
+        }
+        req->quantizer.keep_decisions = 1;
+    }
     if ((v = qc_settings_get(s, "fine-cells"))) {
         if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->numerics.fine_cells)) != QC_OK) {
             st = qc_fail(st, "fine-cells: %s", qc_last_error());

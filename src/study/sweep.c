@@ -139,6 +139,21 @@ static void add_require(const qc_scenario *sc, const qc_settings *s, json_t *res
                         st == QC_OK ? json_null() : json_string(qc_last_error()));
 }
 
+/* A point with a FEC code and no [require]: the penalty at the code's
+ * threshold, as `quantcap design --fec` reports it. */
+static qc_status add_fec_penalty(const qc_settings *s, const qc_fec *fec, json_t *result)
+{
+    qc_fec_penalty p;
+    qc_status st = qc_settings_fec_penalty(s, fec, &p);
+    if (st != QC_OK)
+        return st;
+    json_object_set_new(result, "penalty_solve_for", p.key ? json_string(p.key) : json_null());
+    json_object_set_new(result, "penalty_db", qc_report_real(p.db));
+    json_object_set_new(result, "penalty_note",
+                        isfinite(p.db) ? json_null() : json_string(p.note));
+    return QC_OK;
+}
+
 /* One grid point, as `quantcap design --json` computes it. The record is
  * NULL only when memory runs out; *status receives the design's status
  * (its message stays in this thread's qc_last_error). */
@@ -160,6 +175,8 @@ static json_t *run_point(const qc_scenario *sc, qc_model_cache *cache, size_t in
         st = qc_fail(QC_ENOMEM, "out of memory building the report");
     if (st == QC_OK && sc->require.on)
         add_require(sc, s, result);
+    else if (st == QC_OK && res.fec_given)
+        st = add_fec_penalty(s, &res.fec, result);
     json_t *rec = json_object();
     if (rec) {
         json_object_set_new(rec, "point", json_integer((json_int_t)index + 1)); /* from 1 */

@@ -139,7 +139,10 @@ if "penalty_db" in r3:
     if isinstance(d3.get("penalty_db"), float):
         tally.near("design --fec kp4 penalty = require penalty (PAM-4, 3 bits)",
                    d3["penalty_db"], r3["penalty_db"], SAME_SEARCH_DB)
-        check(d3["penalty_db"] > 0, "3 bits cost something at the kp4 target")
+        # a hard-decision code: the optimal quantizer keeps the MAP
+        # decision boundaries, so 8 cells lose nothing at the threshold
+        check(d3["penalty_db"] == 0.0, "3 bits, boundaries kept: no penalty at kp4")
+        check(d3.get("decisions_kept") == 3, "the 3 PAM-4 decision boundaries are kept")
 rc, out, err = run("design", *PAM4, "--bits", "3", "--fec", "kp4")
 pen = "%.4f dB" % r3.get("penalty_db", float("nan"))
 check(f"penalty      {pen} at the FEC target (pre-FEC BER \u2264 0.00024)" in out,
@@ -162,12 +165,36 @@ check(dp.get("penalty_solve_for") == "signal", "photon counting: solved for sign
 if isinstance(dp.get("penalty_db"), float) and "penalty_db" in rp:
     tally.near("design --fec hd-7 penalty = require penalty (photons)", dp["penalty_db"],
                rp["penalty_db"], SAME_SEARCH_DB)
-    check(dp["penalty_db"] > 0, "MI-optimal count thresholds cost photons at the BER target")
+    check(dp["penalty_db"] == 0.0, "count thresholds holding the MAP boundaries cost no "
+          "photons at the BER target")
 # no key to solve for: sigma given directly
 ds = as_json("design", "--model", "gauss", "--alphabet", "pam:4", "--sigma", "0.3", "--bits",
              "3", "--fec", "kp4")
 check(ds.get("penalty_db", 0) is None and "sigma" in (ds.get("penalty_note") or ""),
       "sigma given: penalty undefined, the note names sigma")
+# --compare with a code: each strategy's figure, closes, margin and the
+# penalty at the code's threshold (its own require search)
+rc, out, err = run("design", *PAM4, "--bits", "3", "--fec", "kp4", "--compare")
+lines = out.splitlines()
+check(rc == 0 and lines and lines[0].split() == ["quantizer", "rate", "pre-FEC", "BER",
+                                                 "closes", "margin", "dB", "penalty", "dB"],
+      f"compare --fec: the table's columns ({lines[:1]})")
+rows = {ln.split()[0]: ln.split() for ln in lines[1:4] if ln.strip()}
+ru = as_json("require", *PAM4, "--bits", "3", "--quantizer", "uniform", "--target", "fec=kp4",
+             "--solve-for", "snr-db")
+if "uniform" in rows and "penalty_db" in ru:
+    check(rows["uniform"][-1] == "%.4f" % ru["penalty_db"],
+          f"compare --fec: uniform's penalty is require's ({rows['uniform']}, "
+          f"{ru['penalty_db']})")
+    check(ru["penalty_db"] > 0.001, "a uniform 3-bit ADC costs SNR at kp4 (its cells miss "
+          "the decision boundaries)")
+check(rows.get("optimal", [""])[-1] == "0.0000", "compare --fec: optimal has no penalty")
+cj = as_json("design", *PAM4, "--bits", "3", "--fec", "kp4", "--compare")
+names = [e.get("quantizer") for e in cj] if isinstance(cj, list) else []
+check(names == ["uniform", "lloyd-max", "optimal"],
+      f"compare --json names each strategy ({names})")
+check(isinstance(cj, list) and all("penalty_db" in e for e in cj),
+      "compare --json --fec: each entry has penalty_db")
 # without --fec the report has no penalty keys
 d0 = as_json("design", *PAM4, "--bits", "3")
 check("penalty_db" not in d0 and "penalty_note" not in d0, "without --fec: no penalty keys")
@@ -185,8 +212,13 @@ with tempfile.TemporaryDirectory() as tmp:
     if rc == 0:
         with open(os.path.join(out, "results.csv")) as f:
             rows = list(csv.DictReader(f))
-        for k in FIGURE_KEYS + ["fec_closes", "fec.name"]:
+        for k in FIGURE_KEYS + ["fec_closes", "fec.name", "penalty_db", "penalty_solve_for"]:
             check(k in rows[0], f"results.csv has the column '{k}'")
+        # a code without [require]: the penalty at its threshold per point,
+        # as design --fec gives it
+        pens = {(r["snr_db"], r["bits"]): r["penalty_db"] for r in rows}
+        check(pens.get(("18", "3")) == "0", f"sweep: penalty at kp4 of 3 bits is 0 "
+              f"({pens.get(('18', '3'))})")
         closes = {(r["snr_db"], r["bits"]): r["fec_closes"] for r in rows}
         check(closes.get(("18", "2")) == "true" and closes.get(("14", "2")) == "false",
               "kp4 closes at 18 dB, not at 14 dB (PAM-4, 2 bits)")

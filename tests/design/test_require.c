@@ -164,6 +164,105 @@ static void test_not_monotone(void **state)
     assert_non_null(strstr(qc_last_error(), "not monotone"));
 }
 
+/* PAM-4 at the KP4 threshold (pre-FEC BER 2.4e-4): a hard-decision
+ * receiver needs only cells whose thresholds hold the MAP decision
+ * boundaries, so with the optimal quantizer (which keeps them for a BER
+ * target) the penalty is 0 from 2 bits on, and never rises with the
+ * bits. The required SNR: Gray PAM-4 BER = (3/4)·Q(√(snr/5)) to within
+ * the neighbours' term (levels ±1, ±3, E[x²] = 5; Cho and Yoon, IEEE
+ * Trans. Commun. 50(7), 2002), solved with GSL's Q⁻¹. */
+static void test_ber_penalty_in_bits(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    double last = INFINITY;
+    const double approx = 10.0 * log10(5.0 * pow(gsl_cdf_ugaussian_Qinv(2.4e-4 / 0.75), 2));
+    for (unsigned bits = 2; bits <= 6; bits++) {
+        snr_builder b = {levels, 4, (size_t)1 << bits, QC_QUANTIZER_OPTIMAL, NULL, NULL};
+        qc_require_result r;
+        assert_int_equal(require_snr(&b, "fec=kp4", 0.0, 30.0, &r), QC_OK);
+        assert_near(r.unquantized_required, approx, 0.01);
+        assert_near(r.penalty_db, 0.0, ROOT_TOL_DB);
+        assert_true(r.penalty_db <= last + ROOT_TOL_DB);
+        last = r.penalty_db;
+    }
+}
+
+/* The MAP boundary between neighbouring Gaussian levels a < b of equal
+ * variance σ² and laws p_a, p_b lies at (a + b)/2 + σ² ln(p_a/p_b)/(b − a)
+ * (the likelihood-ratio test; e.g. Proakis, Digital Communications,
+ * §4.1, from memory). */
+static void test_map_boundaries_gauss(void **state)
+{
+    (void)state;
+    const double sigma = 0.7, levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    const double law[4] = {0.1, 0.4, 0.3, 0.2};
+    double p[QC_MODEL_MAX_PARAMS] = {sigma};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, p, &m), QC_OK);
+    double *b = NULL;
+    size_t nb = 0;
+    assert_int_equal(qc_map_boundaries(m, levels, law, 4, &b, &nb), QC_OK);
+    assert_int_equal(nb, 3);
+    for (size_t i = 0; i < 3; i++) {
+        double lo = levels[i], hi = levels[i + 1];
+        double want = 0.5 * (lo + hi) + sigma * sigma * log(law[i] / law[i + 1]) / (hi - lo);
+        assert_near(b[i], want, 1e-12);
+    }
+    free(b);
+    /* equiprobable: exactly between the levels */
+    const double uni[4] = {0.25, 0.25, 0.25, 0.25};
+    assert_int_equal(qc_map_boundaries(m, levels, uni, 4, &b, &nb), QC_OK);
+    assert_int_equal(nb, 3);
+    assert_near(b[0], -2.0, 1e-12);
+    assert_near(b[1], 0.0, 1e-12);
+    assert_near(b[2], 2.0, 1e-12);
+    /* the thresholds nearest to them are moved, in order, the others kept */
+    double t[7] = {-2.2, -1.9, -1.8, -0.1, 0.12, 1.9, 2.15};
+    assert_int_equal(qc_keep_boundaries(m, b, nb, t, 7), 3);
+    const double want[7] = {-2.2, -2.0, -1.8, 0.0, 0.12, 2.0, 2.15};
+    for (size_t j = 0; j < 7; j++)
+        assert_near(t[j], want[j], 0.0);
+    /* fewer thresholds than boundaries: nothing moves */
+    double t2[2] = {-1.0, 1.0};
+    assert_int_equal(qc_keep_boundaries(m, b, nb, t2, 2), 0);
+    assert_near(t2[0], -1.0, 0.0);
+    /* a free threshold that a move passes goes between its neighbours */
+    double t3[3] = {-0.3, -0.2, 3.0};
+    assert_int_equal(qc_keep_boundaries(m, b, 1, t3, 3), 1);
+    assert_true(t3[0] < t3[1] && t3[1] < t3[2]);
+    free(b);
+    qc_model_free(m);
+}
+
+/* Photon counts, Poisson without background (n = 0 for level 0, n = 2
+ * for level 1, equiprobable): the MAP decision is level 0 at count 0
+ * only (e^{−2}·2^k/k! > 0 = P(k|0) for k ≥ 1), so the one boundary is
+ * the count 1. With signal 4 and background 1 the decision changes where
+ * 5^k e^{−5} first beats e^{−1}: k·ln 5 > 4, k ≥ 3 (direct arithmetic). */
+static void test_map_boundaries_counts(void **state)
+{
+    (void)state;
+    const double levels[2] = {0.0, 1.0}, law[2] = {0.5, 0.5};
+    double *b = NULL;
+    size_t nb = 0;
+    double p0[QC_MODEL_MAX_PARAMS] = {2.0, 0.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_poisson, p0, &m), QC_OK);
+    assert_int_equal(qc_map_boundaries(m, levels, law, 2, &b, &nb), QC_OK);
+    assert_int_equal(nb, 1);
+    assert_near(b[0], 1.0, 0.0);
+    free(b);
+    qc_model_free(m);
+    double p1[QC_MODEL_MAX_PARAMS] = {4.0, 1.0};
+    assert_int_equal(qc_model_alloc(&qc_model_poisson, p1, &m), QC_OK);
+    assert_int_equal(qc_map_boundaries(m, levels, law, 2, &b, &nb), QC_OK);
+    assert_int_equal(nb, 1);
+    assert_near(b[0], 3.0, 0.0);
+    free(b);
+    qc_model_free(m);
+}
+
 static void test_target_parse(void **state)
 {
     (void)state;
@@ -212,7 +311,8 @@ int main(void)
         cmocka_unit_test(test_bpsk_ber),      cmocka_unit_test(test_biawgn_half_rate),
         cmocka_unit_test(test_penalty_in_bits), cmocka_unit_test(test_unreachable),
         cmocka_unit_test(test_not_monotone),  cmocka_unit_test(test_target_parse),
-        cmocka_unit_test(test_settings_require),
+        cmocka_unit_test(test_settings_require), cmocka_unit_test(test_ber_penalty_in_bits),
+        cmocka_unit_test(test_map_boundaries_gauss), cmocka_unit_test(test_map_boundaries_counts),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
