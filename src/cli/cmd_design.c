@@ -212,6 +212,10 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r,
                         const fec_penalty *p)
 {
+    if (r->ppm_slots) {
+        cli_print_ppm_rates(f, req, r);
+        return;
+    }
     int counts = qc_model_get_type(req->channel.model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
     fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
@@ -327,7 +331,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
     fprintf(f, "\nobjective    %s\n\n",
-            req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            r->ppm_slots ? "capacity of the pulse-position symbol channel"
+            : req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
     print_rates(f, req, r, p);
@@ -336,8 +341,9 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     print_thresholds(f, m, r, ou);
     /* long level grids: only the mass points */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
-    fprintf(f, "\n\n       level   probability%s   (levels in %s)\n",
-            mass_only ? "   (mass points: probability > 1e-6)" : "", lu);
+    fprintf(f, "\n\n       level   probability%s   (levels in %s%s)\n",
+            mass_only ? "   (mass points: probability > 1e-6)" : "", lu,
+            r->ppm_slots ? "; per slot: empty, pulsed" : "");
     for (size_t x = 0; x < r->nlevels; x++)
         if (!mass_only || r->input[x] > 1e-6)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
