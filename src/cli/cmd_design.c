@@ -404,6 +404,8 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
                 fprintf(sink->f, " %14.9f", r->upper_bound_bits);
                 tol = fmax(tol, r->tol_bits);
             }
+            if (r->ppm_slots)
+                tol = fmax(tol, r->tol_bits);
             fputc('\n', sink->f);
         }
         /* why each n/a: one line per reason, naming its strategies */
@@ -422,7 +424,13 @@ static int run_compare(cli_sink *sink, int json, const qc_design_request *req)
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
         const char *unit = cli_rate_unit(req->channel.dimensions);
-        if (capacity)
+        if (req->channel.ppm_slots)
+            fprintf(sink->f,
+                    "\nrates: capacity of the %zu-slot PPM symbol channel (soft receiver), "
+                    "certified lower bounds of brackets at most %g %s wide; rate, unquantized "
+                    "and loss in %s\n",
+                    req->channel.ppm_slots, tol, unit, unit);
+        else if (capacity)
             fprintf(sink->f,
                     "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
                     "(tol %g %s); rate, unquantized, loss and upper bound in %s\n",

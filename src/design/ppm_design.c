@@ -17,6 +17,7 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <stdio.h>
 #include <string.h>
 
 #include <gsl/gsl_errno.h>
@@ -309,11 +310,22 @@ static qc_status check_ppm_request(const qc_design_request *req)
     if (!ch->model)
         return qc_fail(QC_EINVAL, "design: no noise model given");
     const qc_model_type *type = qc_model_get_type(ch->model);
-    if (!(type->properties & QC_MODEL_INTENSITY))
+    if (!(type->properties & QC_MODEL_INTENSITY)) {
+        /* the models that declare intensity levels, from the registry */
+        char names[256] = "";
+        size_t used = 0;
+        const qc_model_type *const *types = qc_model_types();
+        for (size_t i = 0; types[i] && used + 1 < sizeof names; i++)
+            if (types[i]->properties & QC_MODEL_INTENSITY) {
+                int w = snprintf(names + used, sizeof names - used, "%s%s", used ? ", " : "",
+                                 types[i]->name);
+                used += w > 0 ? (size_t)w : 0;
+            }
         return qc_fail(QC_EINVAL, "alphabet ppm: model '%s' does not take optical "
                                   "intensities; pulse-position modulation needs an intensity "
-                                  "model (poisson, apd, apd-gauss, gauss-sd, preamp)",
-                       type->name);
+                                  "model (%s)",
+                       type->name, names);
+    }
     if (ch->ppm_slots < 2 || ch->ppm_slots > QC_PPM_MAX_SLOTS)
         return qc_fail(QC_EINVAL, "alphabet ppm: M must be from 2 to %zu slots (got %zu)",
                        QC_PPM_MAX_SLOTS, ch->ppm_slots);
