@@ -2,7 +2,7 @@
  * (intensity) PAM with OOK as upam:2, square QAM as the product of two
  * √M-PAM (one per quadrature; Proakis & Salehi, Digital Communications,
  * 5th ed., §3.2), M-ary pulse-position modulation as its two per-slot
- * intensity levels (Pierce, IEEE Trans. Commun. 26(12), 1978), explicit
+ * intensity levels (Pierce, IEEE Trans. Commun. 26(12), 1978, from memory), explicit
  * levels, and a grid of equally spaced candidate
  * levels on which the input law is designed freely. Also the peak
  * constraint applied to an alphabet. */

@@ -13,7 +13,7 @@
  *     C = log M − E[ log(1 + S/ℓ(Y_1)) ],  S = Σ_{j=2..M} ℓ(Y_j),
  *
  * Y_1 ~ p_on, Y_j ~ p_off. With Frullani's integral log(1 + z) =
- * ∫_0^∞ (1 − e^{−zt}) e^{−t}/t dt (Gradshteyn & Ryzhik 3.434.2) and the
+ * ∫_0^∞ (1 − e^{−zt}) e^{−t}/t dt (Gradshteyn & Ryzhik 3.434, from memory) and the
  * Laplace transform φ(s) = Σ_k p_off(k) e^{−ℓ_k s} of one empty slot's
  * ratio (S has φ^{M−1}), the expectation becomes one integral,
  *
@@ -113,7 +113,8 @@ static double tail_bound(const ppm_law *L, double T)
  * Simpson's rule is an upper bound and the trapezoid rule corrected by
  * the end derivatives, + (h²/12)(F'(a) − F'(b)), a lower bound (their
  * errors are −h⁵F⁗(ξ)/2880 and +h⁵F⁗(ξ)/720; Davis & Rabinowitz,
- * Methods of Numerical Integration, 2nd ed., 1984, §2.9); as F is convex
+ * Methods of Numerical Integration, 2nd ed., 1984, §2.9, section from
+ * memory); as F is convex
  * and decreasing, the trapezoid rule is an upper bound too, and the
  * midpoint rule and h·F(b) lower ones. The head piece [0, s_lo] uses
  * only h·F(b) ≤ ∫ ≤ h·F(0). */

@@ -1,5 +1,5 @@
 /* ppm_design.c — the design of a per-slot quantizer for M-ary
- * pulse-position modulation (Pierce, IEEE Trans. Commun. 26(12), 1978):
+ * pulse-position modulation (Pierce, IEEE Trans. Commun. 26(12), 1978, from memory):
  * one symbol is M slots of an intensity model, one at the pulsed level and
  * M − 1 at the empty level, each slot's output cut by the same
  * thresholds. The request's strategy first designs the thresholds for
