@@ -31,11 +31,10 @@ void cli_print_ppm_rates(FILE *f, const qc_design_request *req, const qc_design_
     fprintf(f, "             P(pulsed slot fires) %.6g, P(empty slot fires) %.4e; erasure "
                "%.4e, wrong slot %.4e per symbol\n",
             r->hard_fire_on, r->hard_fire_off, r->hard_erasure, r->hard_error);
-    fprintf(f, "efficiency   %.6f bit/s/Hz at the symbol rate (%u polarization%s)",
-            r->spectral_efficiency, r->polarizations, r->polarizations == 1 ? "" : "s");
     if (isfinite(r->rate_gbps))
-        fprintf(f, "; %.6g Gb/s at %.6g Gbaud", r->rate_gbps, r->symbol_rate * 1e-9);
-    fputc('\n', f);
+        fprintf(f, "throughput   %.6g Gb/s at %.6g Gsymbol/s (%u polarization%s)\n",
+                r->rate_gbps, r->symbol_rate * 1e-9, r->polarizations,
+                r->polarizations == 1 ? "" : "s");
     if (isfinite(r->photons_per_symbol))
         fprintf(f, "photons      %.6g detected per symbol; %.6f bit/photon (hard %.6f), %.6g "
                    "photon/bit\n",

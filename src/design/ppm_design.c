@@ -451,7 +451,9 @@ qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res)
     r.photons_per_bit = r.photons_per_symbol > 0.0 && r.rate_bits > 0.0
                             ? r.photons_per_symbol / r.rate_bits
                             : NAN;
-    r.spectral_efficiency = qc_spectral_efficiency(r.rate_bits, r.polarizations);
+    /* the bandwidth follows the slot rate, not the symbol rate: no
+     * bit/s/Hz at the symbol rate */
+    r.spectral_efficiency = NAN;
     if (req->channel.symbol_rate > 0.0)
         r.rate_gbps = qc_rate_gbps(r.rate_bits, req->channel.symbol_rate, r.polarizations);
     *res = r;
