@@ -97,8 +97,11 @@ static double tail_bound(const ppm_law *L, double T)
     for (size_t k = 0; k < L->n; k++) {
         if (L->p_on[k] == 0.0)
             continue;
+        double x = L->ell[k] * T;
+        if (x > 700.0)
+            continue; /* E1(x) < e^{−x}/x: below every tolerance */
         gsl_sf_result r;
-        int rc = gsl_sf_expint_E1_e(L->ell[k] * T, &r);
+        int rc = gsl_sf_expint_E1_e(x, &r);
         if (rc == GSL_EUNDRFLW)
             continue;
         if (rc != GSL_SUCCESS)
@@ -194,8 +197,10 @@ qc_status qc_ppm_soft_rate(const double *p_off, const double *p_on, size_t cells
     }
     for (size_t k = 0; k < cells; k++) {
         double po = p_off[k] / s_off, pn = p_on[k] / s_on;
-        if (!(po > 0.0))
-            continue; /* no empty slot lands here: a pulse here is certain */
+        /* no empty slot lands here (or so rarely that the ratio is beyond
+         * doubles): a pulse here identifies the symbol */
+        if (!(po > 0.0) || !isfinite(pn / po))
+            continue;
         L.p_off[L.n] = po;
         L.p_on[L.n] = pn;
         L.ell[L.n] = pn / po;
@@ -205,6 +210,18 @@ qc_status qc_ppm_soft_rate(const double *p_off, const double *p_on, size_t cells
     const double tol = tol_bits / QC_LOG2E; /* nats */
     if (L.psi0 == 0.0) { /* every pulse lands where no empty slot does */
         out->rate_bits = out->upper_bound_bits = logm * QC_LOG2E;
+        st = QC_OK;
+        goto done;
+    }
+    /* Jensen: E log(1 + S/ℓ) ≤ log(1 + E[S]/ℓ), E[S] = (M − 1)ψ(0); when
+     * that bound on the loss is within the tolerance, it is the bracket */
+    double jensen = 0.0;
+    for (size_t k = 0; k < L.n; k++)
+        if (L.p_on[k] > 0.0)
+            jensen += L.p_on[k] * log1p(L.others * L.psi0 / L.ell[k]);
+    if (jensen <= tol) {
+        out->rate_bits = (logm - jensen) * QC_LOG2E;
+        out->upper_bound_bits = logm * QC_LOG2E;
         st = QC_OK;
         goto done;
     }

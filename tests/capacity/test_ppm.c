@@ -117,6 +117,32 @@ static void test_hard(void **state)
     assert_true(isfinite(h.rate_bits) && h.rate_bits >= 0.0);
 }
 
+/* Rows with subnormal or nearly empty cells: ratios beyond doubles are
+ * cells only a pulse reaches, and every bracket stays finite, inside
+ * [0, log2 M] and as narrow as asked. The second case is computable by
+ * hand: the pulse always lands in cell 2, each empty slot there with
+ * probability 1/2, so the loss is E[log2(1 + B)], B ~ Binomial(M − 1,
+ * 1/2); for M = 2 that is (1/2)·log2 2 = 1/2 bit and the rate 1/2 bit. */
+static void test_extreme_rows(void **state)
+{
+    (void)state;
+    const double rows[][4] = {
+        {1e-320, 1.0, 1e-200, 1.0},
+        {0.5, 0.5, 1e-300, 1.0},
+        {1e-310, 1.0, 0.5, 0.5},
+        {0.999999, 1e-6, 0.5, 0.5},
+    };
+    for (size_t i = 0; i < sizeof rows / sizeof *rows; i++)
+        for (size_t m = 2; m <= ((size_t)1 << 16); m *= 16) {
+            qc_ppm_bounds b = soft(rows[i], rows[i] + 2, 2, m, TOL_BRACKET);
+            assert_true(isfinite(b.rate_bits) && isfinite(b.upper_bound_bits));
+            assert_true(b.rate_bits >= 0.0 && b.upper_bound_bits <= log2((double)m));
+            assert_true(b.upper_bound_bits - b.rate_bits <= TOL_BRACKET);
+        }
+    qc_ppm_bounds b = soft(rows[1], rows[1] + 2, 2, 2, TOL_BRACKET);
+    assert_true(b.rate_bits <= 0.5 + TOL_ROUND && b.upper_bound_bits >= 0.5 - TOL_ROUND);
+}
+
 static void test_bad_input(void **state)
 {
     (void)state;
@@ -144,7 +170,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_noiseless_erasure), cmocka_unit_test(test_noiseless_many_cells),
         cmocka_unit_test(test_limits),            cmocka_unit_test(test_hard),
-        cmocka_unit_test(test_bad_input),
+        cmocka_unit_test(test_extreme_rows),      cmocka_unit_test(test_bad_input),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
