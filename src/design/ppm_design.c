@@ -24,8 +24,8 @@
 #include <gsl/gsl_min.h>
 
 #define SEARCH_TOL_BITS 1e-8 /* bracket of each rate compared in the searches */
-#define SEARCH_PASSES 6      /* coordinate passes of the threshold refinement */
-#define REAL_SAMPLES 24      /* samples per coordinate before Brent (real outputs) */
+#define SEARCH_PASSES 4      /* coordinate passes of the threshold refinement */
+#define REAL_SAMPLES 12      /* samples per coordinate before Brent (real outputs) */
 #define BRENT_ITERS 60
 #define HARD_GRID 2048       /* hard threshold: samples on real outputs */
 #define FINE_REAL_CELLS 4096 /* unquantized reference on real outputs */
@@ -142,7 +142,7 @@ static qc_status refine_one(ppm_ctx *c, double *t, size_t i, double lo, double h
                 if (gsl_min_fminimizer_iterate(m) != GSL_SUCCESS || f.st != QC_OK)
                     break;
                 double a = gsl_min_fminimizer_x_lower(m), b = gsl_min_fminimizer_x_upper(m);
-                if (gsl_min_test_interval(a, b, 1e-10 * (hi - lo), 0.0) == GSL_SUCCESS)
+                if (gsl_min_test_interval(a, b, 1e-7 * (hi - lo), 0.0) == GSL_SUCCESS)
                     break;
             }
             x = gsl_min_fminimizer_x_minimum(m);
