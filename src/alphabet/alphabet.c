@@ -1,7 +1,9 @@
 /* alphabet.c — the transmit alphabets of quantcap: bipolar PAM, unipolar
  * (intensity) PAM with OOK as upam:2, square QAM as the product of two
  * √M-PAM (one per quadrature; Proakis & Salehi, Digital Communications,
- * 5th ed., §3.2), explicit levels, and a grid of equally spaced candidate
+ * 5th ed., §3.2), M-ary pulse-position modulation as its two per-slot
+ * intensity levels (Pierce, IEEE Trans. Commun. 26(12), 1978, from memory), explicit
+ * levels, and a grid of equally spaced candidate
  * levels on which the input law is designed freely. Also the peak
  * constraint applied to an alphabet. */
 #include "alphabet/alphabet.h"
@@ -50,6 +52,42 @@ static size_t exact_sqrt(size_t m)
     return 0;
 }
 
+/* "ppm:M": M slots, the per-slot levels 0 (empty) and 1 (pulsed). */
+static qc_status ppm_parse(const char *spec, const char *size, qc_alphabet **out)
+{
+    size_t m;
+    if (qc_parse_size(size, 2, QC_PPM_MAX_SLOTS, &m) != QC_OK)
+        return qc_fail(QC_EINVAL, "alphabet: slots in '%s': %s (PPM needs at least 2 slots)",
+                       spec, qc_last_error());
+    qc_alphabet *a;
+    qc_status st = alphabet_new(QC_ALPHABET_PPM, 2, &a);
+    if (st != QC_OK)
+        return st;
+    a->levels[0] = 0.0;
+    a->levels[1] = 1.0;
+    a->size = m;
+    a->intensity = 1;
+    *out = a;
+    return QC_OK;
+}
+
+qc_status qc_ppm_slot_powers(double average, double ratio, size_t slots, double power[2])
+{
+    if (!(average > 0.0) || !isfinite(average))
+        return qc_fail(QC_EINVAL, "ppm: the average power must be a positive number (got %g)",
+                       average);
+    if (!(ratio > 1.0))
+        return qc_fail(QC_EINVAL, "ppm: the extinction ratio must exceed 1 (0 dB) (got %g)",
+                       ratio);
+    if (slots < 2)
+        return qc_fail(QC_EINVAL, "ppm: M must be at least 2 slots (got %zu)", slots);
+    const double m = (double)slots;
+    double pulsed = isinf(ratio) ? m * average : m * average * ratio / (ratio + m - 1.0);
+    power[0] = isinf(ratio) ? 0.0 : pulsed / ratio;
+    power[1] = pulsed;
+    return QC_OK;
+}
+
 qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out)
 {
     *out = NULL;
@@ -58,7 +96,7 @@ qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out)
     const char *colon = strchr(spec, ':');
     if (!colon)
         return qc_fail(QC_EINVAL,
-                       "alphabet: '%s' is not of the form pam:M, upam:M or qam:M", spec);
+                       "alphabet: '%s' is not of the form pam:M, upam:M, qam:M or ppm:M", spec);
     size_t kind_len = (size_t)(colon - spec);
     qc_alphabet_kind kind;
     if (kind_len == 3 && strncmp(spec, "pam", 3) == 0)
@@ -67,8 +105,10 @@ qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out)
         kind = QC_ALPHABET_UPAM;
     else if (kind_len == 3 && strncmp(spec, "qam", 3) == 0)
         kind = QC_ALPHABET_QAM;
+    else if (kind_len == 3 && strncmp(spec, "ppm", 3) == 0)
+        return ppm_parse(spec, colon + 1, out);
     else
-        return qc_fail(QC_EINVAL, "alphabet: unknown kind '%.*s' (known: pam, upam, qam)",
+        return qc_fail(QC_EINVAL, "alphabet: unknown kind '%.*s' (known: pam, upam, qam, ppm)",
                        (int)(kind_len < 32 ? kind_len : 32), spec);
     size_t m;
     size_t most = kind == QC_ALPHABET_QAM ? QC_ALPHABET_MAX * QC_ALPHABET_MAX

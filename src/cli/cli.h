@@ -118,6 +118,9 @@ double cli_seconds_between(const struct timespec *a, const struct timespec *b);
 const char *cli_plural(size_t n, const char *one, const char *many);
 /* Rate unit of a report: "bit/symbol", or "bit/complex symbol" for QAM. */
 const char *cli_rate_unit(unsigned dimensions);
+
+/* The rate lines of a pulse-position design (text_ppm.c). */
+void cli_print_ppm_rates(FILE *f, const qc_design_request *req, const qc_design_result *r);
 /* " UNIT" with a leading space, or "" for a dimensionless quantity. */
 const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
 /* Unit of model parameter i printed in a report whose levels are in

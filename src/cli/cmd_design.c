@@ -51,7 +51,10 @@ static void help(const cli_args *a)
            "unquantized receiver reaches the same rate.\n\n"
            "alphabets: pam:M (bipolar -(M-1)..M-1), upam:M (intensity 0..1; OOK is\n"
            "upam:2), qam:M (square QAM: sqrt(M)-PAM on each quadrature, the same\n"
-           "thresholds on both, rates per complex symbol), --levels, or --level-grid\n"
+           "thresholds on both, rates per complex symbol), ppm:M (pulse position:\n"
+           "M slots per symbol, one pulsed, each slot through the quantizer; intensity\n"
+           "models; rates per symbol and per slot, the hard receiver with its best\n"
+           "threshold; docs/alphabets.md), --levels, or --level-grid\n"
            "LO,HI,N: N candidate levels on which --objective capacity finds the best\n"
            "discrete input by itself (mass points with probability > 1e-6 are listed).\n"
            "constraints on the input: --peak-limit A (|x| <= A; 0 <= x <= A for\n"
@@ -181,6 +184,10 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
 static void print_rates(FILE *f, const qc_design_request *req, const qc_design_result *r,
                         const fec_penalty *p)
 {
+    if (r->ppm_slots) {
+        cli_print_ppm_rates(f, req, r);
+        return;
+    }
     int counts = qc_model_get_type(req->channel.model)->output == QC_OUTPUT_COUNTS;
     const char *unit = cli_rate_unit(r->dimensions);
     fprintf(f, "rate         %.9f %s", r->rate_bits, unit);
@@ -299,7 +306,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, ", keeps the %zu MAP decision boundar%s", r->decisions_kept,
                 r->decisions_kept == 1 ? "y" : "ies");
     fprintf(f, "\nobjective    %s\n\n",
-            req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
+            r->ppm_slots ? "capacity of the pulse-position symbol channel"
+            : req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
     print_rates(f, req, r, p);
@@ -308,8 +316,9 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     print_thresholds(f, m, r, ou);
     /* long level grids: only the mass points */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
-    fprintf(f, "\n\n       level   probability%s   (levels in %s)\n",
-            mass_only ? "   (mass points: probability > 1e-6)" : "", lu);
+    fprintf(f, "\n\n       level   probability%s   (levels in %s%s)\n",
+            mass_only ? "   (mass points: probability > 1e-6)" : "", lu,
+            r->ppm_slots ? "; per slot: empty, pulsed" : "");
     for (size_t x = 0; x < r->nlevels; x++)
         if (!mass_only || r->input[x] > 1e-6)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
@@ -474,6 +483,8 @@ static int run_compare(cli_sink *sink, int json, const qc_settings *set,
                 fprintf(sink->f, " %14.9f", r->upper_bound_bits);
                 tol = fmax(tol, r->tol_bits);
             }
+            if (r->ppm_slots)
+                tol = fmax(tol, r->tol_bits);
             fputc('\n', sink->f);
         }
         /* why each n/a: one line per reason, naming its strategies */
@@ -492,7 +503,13 @@ static int run_compare(cli_sink *sink, int json, const qc_settings *set,
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
         const char *unit = cli_rate_unit(req->channel.dimensions);
-        if (capacity)
+        if (req->channel.ppm_slots)
+            fprintf(sink->f,
+                    "\nrates: capacity of the %zu-slot PPM symbol channel (soft receiver), "
+                    "certified lower bounds of brackets at most %g %s wide; rate, unquantized "
+                    "and loss in %s\n",
+                    req->channel.ppm_slots, tol, unit, unit);
+        else if (capacity)
             fprintf(sink->f,
                     "\nrates: capacity, certified by the Blahut-Arimoto upper bound "
                     "(tol %g %s); rate, unquantized, loss and upper bound in %s\n",

@@ -79,6 +79,13 @@ void qc_level_set_project(const qc_level_set *s, double *x);
  * dispersion and blocklength rates) around qc_design_thresholds. */
 qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
 
+/* ---- ppm_design.c ------------------------------------------------------ */
+
+/* qc_design for pulse-position modulation (req->channel.ppm_slots ≥ 2):
+ * the per-slot thresholds, the certified soft rate per symbol, the hard
+ * receiver at its best threshold and the unquantized reference. */
+qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
+
 /* ---- figures.c -------------------------------------------------------- */
 
 /* Hard-decision error rates, Q-factor, NGMI, rates in the trade's units,

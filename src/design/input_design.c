@@ -322,6 +322,8 @@ done:
  * design (design.c). */
 qc_status qc_design(const qc_design_request *req, qc_design_result *res)
 {
+    if (req && req->channel.ppm_slots)
+        return qc_ppm_design(req, res);
     return qc_input_design(req, res);
 }
 

@@ -50,6 +50,7 @@ static const char *const penalty_texts[QC_PENALTY_COUNT] = {
     [QC_PENALTY_GMI] = "defined for the mutual information, not the GMI",
     [QC_PENALTY_NO_CROSSING] = "unquantized rate stays above the rate over 400 dB",
     [QC_PENALTY_SKIPPED] = "not computed",
+    [QC_PENALTY_PPM] = "not defined for pulse-position modulation",
 };
 
 const char *qc_penalty_note_text(qc_penalty_note note)

@@ -150,7 +150,9 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
-    if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels) {
+    /* pulse position: the design's own unquantized reference (per symbol) */
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels ||
+        req->channel.ppm_slots) {
         qc_design_request sub = *req;
         sub.numerics.skip_snr_penalty = 1;
         sub.input.fec = NULL;
@@ -247,8 +249,10 @@ static double evaluate(search *s, double u)
             if (isnan(f))
                 st = qc_fail(QC_EINVAL, "target %s is undefined for this design (%s)",
                              qc_target_name(rq->target.kind),
-                             rq->target.kind == QC_TARGET_RATE
-                                 ? "no rate"
+                             rq->target.kind == QC_TARGET_RATE ? "no rate"
+                             : req.channel.ppm_slots
+                                 ? "pulse-position modulation is rated by its rate only: "
+                                   "give rate=X"
                                  : "Gray labels need a power of 2 levels");
         }
     }

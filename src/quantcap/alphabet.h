@@ -19,21 +19,26 @@ typedef enum {
     QC_ALPHABET_UPAM,       /* upam:M, intensity: 0, 1/(M−1), …, 1 (OOK = 2) */
     QC_ALPHABET_QAM,        /* qam:M, square QAM: √M-PAM on each quadrature */
     QC_ALPHABET_GRID,       /* N equally spaced candidates on [lo, hi]      */
+    QC_ALPHABET_PPM,        /* ppm:M, pulse position: M slots, one pulsed;
+                               per-slot levels 0 (empty) and 1 (pulse)     */
 } qc_alphabet_kind;
 
 #define QC_ALPHABET_MAX 4096 /* most levels per real dimension */
+#define QC_PPM_MAX_SLOTS ((size_t)1 << 20) /* most slots of a PPM symbol */
 
 typedef struct {
     qc_alphabet_kind kind;
-    size_t size;         /* M: points per symbol (QAM: per complex symbol) */
+    size_t size;         /* M: points per symbol (QAM: per complex symbol;
+                            PPM: slots per symbol)                       */
     size_t nlevels;      /* levels per real dimension (QAM: √M)           */
     double *levels;      /* owned, nlevels values                         */
     unsigned dimensions; /* 2 for QAM, else 1                             */
     int intensity;       /* 1 for upam: levels are intensities ≥ 0         */
 } qc_alphabet;
 
-/* "pam:M", "upam:M" (2 ≤ M ≤ QC_ALPHABET_MAX) or "qam:M" (M a perfect
- * square and a power of 2, 4 ≤ M). The message names the spec and says
+/* "pam:M", "upam:M" (2 ≤ M ≤ QC_ALPHABET_MAX), "qam:M" (M a perfect
+ * square and a power of 2, 4 ≤ M) or "ppm:M" (2 ≤ M ≤ QC_PPM_MAX_SLOTS:
+ * size M, the two per-slot intensity levels 0 and 1). The message names the spec and says
  * what is wrong (QC_EINVAL); QC_ENOMEM. On failure *out is NULL. Free
  * with qc_alphabet_free. */
 QC_API qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out);
@@ -48,6 +53,13 @@ QC_API qc_status qc_alphabet_from_levels(const double *levels, size_t n,
  * the support of a free-form input law. QC_EINVAL naming the bound or
  * count at fault, QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_alphabet_grid(double lo, double hi, size_t n, qc_alphabet **out);
+/* Optical powers of the two per-slot levels of M-ary PPM (empty, pulsed)
+ * for an average power `average` over the symbol (> 0, finite) and an
+ * extinction ratio (pulsed/empty power, > 1; INFINITY: dark empty
+ * slots): pulsed = M·average·r/(r + M − 1), empty = pulsed/r. QC_EINVAL
+ * naming the value; on failure power is unchanged. */
+QC_API qc_status qc_ppm_slot_powers(double average, double ratio, size_t slots,
+                                    double power[2]);
 /* Release an alphabet and its levels; NULL does nothing. */
 QC_API void qc_alphabet_free(qc_alphabet *a);
 

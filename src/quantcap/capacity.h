@@ -114,6 +114,47 @@ QC_API qc_status qc_capacity_costs(const qc_dmc *dmc, const qc_ba_options *opt,
 QC_API int qc_two_cost_witness(const double *a, const double *b, size_t n, size_t *wi, size_t *wj,
                         double *lambda);
 
+
+/* ---- pulse-position modulation (ppm.c) ------------------------------ */
+
+/* The certified rate of M-ary PPM through a per-slot quantizer. */
+typedef struct {
+    double rate_bits;        /* certified lower bound, bit per symbol     */
+    double upper_bound_bits; /* certified upper bound (≤ log2 M)          */
+    size_t evaluations;      /* integrand evaluations spent               */
+} qc_ppm_bounds;
+
+/* Capacity of M-ary PPM (M = slots ≥ 2) with the soft receiver, which
+ * sees the cell of every slot: p_off and p_on are the K = cells
+ * probabilities of an empty and of the pulsed slot (each summing to 1
+ * within 1e-6; used renormalized). The uniform law is capacity-achieving
+ * by the symmetry of the slots; the rate is log M − E[log(1 + S/ℓ)]
+ * (ℓ the pulsed slot's likelihood ratio, S the sum of the M − 1 others),
+ * written as one integral over Laplace transforms and bracketed by the
+ * midpoint and trapezoid rules of its convex integrand until the bracket
+ * is at most tol_bits (> 0) wide (docs/methods.md). QC_EINVAL naming the
+ * row, cell, M or tolerance; QC_ENOCONV when the bracket cannot be
+ * closed (out then holds the bracket reached); QC_ENUMERIC, QC_ENOMEM
+ * (out's rates NaN). Reads only its inputs. */
+QC_API qc_status qc_ppm_soft_rate(const double *p_off, const double *p_on, size_t cells,
+                                  size_t slots, double tol_bits, qc_ppm_bounds *out);
+
+/* The hard receiver of M-ary PPM: each slot fires or not (one threshold),
+ * the symbol is decided when exactly one slot fires and erased when none
+ * or several do. */
+typedef struct {
+    double rate_bits; /* capacity per symbol (uniform law), closed form  */
+    double correct;   /* P(only the pulsed slot fires)                  */
+    double wrong;     /* P(exactly one slot fires, not the pulsed one)   */
+    double erasure;   /* P(none or several fire)                        */
+} qc_ppm_hard;
+
+/* From fire_on = P(fire | pulse) and fire_off = P(fire | empty), both in
+ * [0, 1], and M = slots ≥ 2. QC_EINVAL naming the value at fault (out's
+ * fields NaN). */
+QC_API qc_status qc_ppm_hard_rate(double fire_on, double fire_off, size_t slots,
+                                  qc_ppm_hard *out);
+
 #ifdef __cplusplus
 }
 #endif

@@ -57,6 +57,7 @@ typedef enum {
     QC_PENALTY_NO_CROSSING,  /* the unquantized rate does not fall to the
                                 rate within the searched SNR range       */
     QC_PENALTY_SKIPPED,      /* the request asked not to compute it      */
+    QC_PENALTY_PPM,          /* pulse-position modulation: no SNR curve  */
     QC_PENALTY_COUNT
 } qc_penalty_note;
 
@@ -103,6 +104,11 @@ typedef struct {
                                     coherent), 1 for real alphabets (the
                                     settings give 2 with osnr-db, as the
                                     OSNR conversion assumes)               */
+    /* Pulse-position modulation: M ≥ 2 slots per symbol, one pulsed
+     * (levels = {empty-slot level, pulsed-slot level} of an intensity
+     * model; the quantizer cuts each slot's output; rates per symbol,
+     * uniform law; src/design/ppm_design.c). 0: no PPM. */
+    size_t ppm_slots;
 } qc_design_channel;
 
 /* The quantizer. */
@@ -288,6 +294,23 @@ typedef struct {
                                     polarizations (0: does not close)       */
     double net_rate_gbps;        /* net_bits × symbol rate (0: does not
                                     close; NaN without a symbol rate)       */
+    /* Pulse-position modulation (request's ppm_slots ≥ 2; else 0 / NaN).
+     * rate_bits, upper_bound_bits and unquantized_bits are then per PPM
+     * symbol with the soft receiver (every slot's cell), levels, input,
+     * thresholds and channel those of one slot (input: 1 − 1/M, 1/M). */
+    size_t ppm_slots;            /* M                                        */
+    double rate_per_slot_bits;   /* rate_bits / M                            */
+    size_t ppm_evaluations;      /* integrand evaluations of the certified
+                                    soft rate                              */
+    double hard_rate_bits;       /* hard receiver: one threshold per slot,
+                                    erasure unless exactly one slot fires;
+                                    its capacity per symbol at hard_threshold */
+    double hard_threshold;       /* the threshold maximizing it (a slot
+                                    fires when its output ≥ this)           */
+    double hard_fire_on;         /* P(the pulsed slot fires)                */
+    double hard_fire_off;        /* P(an empty slot fires)                  */
+    double hard_erasure;         /* P(erasure: none or several fire)        */
+    double hard_error;           /* P(one wrong slot fires alone)           */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

@@ -148,6 +148,28 @@ static void report_figures(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "net_rate_gbps", qc_report_real(res->net_rate_gbps));
 }
 
+/* ---- pulse-position modulation (src/design/ppm_design.c) ---------- */
+
+/* Only for PPM designs, so the report of every other design is as it was. */
+static void report_ppm(json_t *o, const qc_design_result *res)
+{
+    json_object_set_new(o, "ppm_slots", json_integer((json_int_t)res->ppm_slots));
+    json_object_set_new(o, "rate_per_slot_bits", qc_report_real(res->rate_per_slot_bits));
+    json_object_set_new(o, "ppm_evaluations", json_integer((json_int_t)res->ppm_evaluations));
+    json_object_set_new(o, "hard_rate_bits", qc_report_real(res->hard_rate_bits));
+    json_object_set_new(o, "hard_rate_per_slot_bits",
+                        qc_report_real(res->hard_rate_bits / (double)res->ppm_slots));
+    json_object_set_new(o, "hard_bits_per_photon",
+                        qc_report_real(res->photons_per_symbol > 0.0
+                                           ? res->hard_rate_bits / res->photons_per_symbol
+                                           : NAN));
+    json_object_set_new(o, "hard_threshold", qc_report_real(res->hard_threshold));
+    json_object_set_new(o, "hard_fire_on", qc_report_real(res->hard_fire_on));
+    json_object_set_new(o, "hard_fire_off", qc_report_real(res->hard_fire_off));
+    json_object_set_new(o, "hard_erasure", qc_report_real(res->hard_erasure));
+    json_object_set_new(o, "hard_error", qc_report_real(res->hard_error));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -207,6 +229,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
                             qc_report_array(res->reconstruction, res->nthresholds + 1));
     report_alphabet(o, req, res);
     report_figures(o, res);
+    if (res->ppm_slots)
+        report_ppm(o, res);
     return o;
 }
 

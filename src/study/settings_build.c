@@ -147,7 +147,7 @@ static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *e
 /* Physical route: optical powers of an intensity alphabet → parameters
  * and levels of the chosen model. Replaces s->levels. */
 static qc_status physical_route(qc_settings *s, const qc_model_type *type, int intensity,
-                                size_t nl, double *params)
+                                size_t nl, size_t ppm, double *params)
 {
     if (!intensity)
         return qc_fail(QC_EINVAL, "the physical receiver ('%s') needs an intensity alphabet: "
@@ -168,10 +168,26 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
     if (!power)
         return qc_fail(QC_ENOMEM, "out of memory");
     double ratio = isinf(ext_db) ? INFINITY : pow(10.0, ext_db / 10.0);
-    /* the average (P0 + P1)/2 of a top level P1 = peak: P1(1 + 1/ratio)/2 */
-    if (peak_given)
-        dbm += 10.0 * log10(0.5 * (1.0 + 1.0 / ratio));
-    st = qc_intensity_levels(dbm, ratio, nl, power);
+    if (ppm) {
+        /* pulse position: received-dbm is the average over the symbol,
+         * peak-dbm the pulsed slot's power */
+        double w;
+        if ((st = qc_dbm_to_watt(dbm, &w)) == QC_OK) {
+            if (peak_given) {
+                power[1] = w;
+                power[0] = isinf(ratio) ? 0.0 : w / ratio;
+                if (!(ratio > 1.0))
+                    st = qc_fail(QC_EINVAL, "extinction-db must be above 0 dB (got %g)", ext_db);
+            } else {
+                st = qc_ppm_slot_powers(w, ratio, ppm, power);
+            }
+        }
+    } else {
+        /* the average (P0 + P1)/2 of a top level P1 = peak: P1(1 + 1/ratio)/2 */
+        if (peak_given)
+            dbm += 10.0 * log10(0.5 * (1.0 + 1.0 / ratio));
+        st = qc_intensity_levels(dbm, ratio, nl, power);
+    }
     qc_receiver rx;
     if (st == QC_OK && type->frontend == QC_FRONTEND_PHOTONS) {
         double lambda_nm, eta, dark;
@@ -459,6 +475,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
             QC_OK)
         goto fail;
     nl = alpha->nlevels;
+    const size_t ppm = alpha->kind == QC_ALPHABET_PPM ? alpha->size : 0;
     const unsigned dims = alpha->dimensions;
     const int intensity = alpha->intensity;
     if (!(s->levels = qc_malloc_array(nl, sizeof *s->levels))) {
@@ -564,7 +581,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
                                       "model '%s', not both",
                            fk, type->name);
         if (fk) {
-            st = physical_route(s, type, intensity, nl, params);
+            st = physical_route(s, type, intensity, nl, ppm, params);
             /* the Gaussian models' levels are then photocurrents */
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
                 req->channel.level_unit = req->channel.output_unit = "A";
@@ -579,6 +596,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     req->channel.model = *model;
     req->channel.levels = s->levels;
     req->channel.nlevels = nl;
+    req->channel.ppm_slots = ppm;
     req->input.probabilities = s->probabilities;
     req->quantizer.thresholds = s->thresholds;
     if ((st = design_options(s, dims, optimize, req)) != QC_OK)
