@@ -314,6 +314,10 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         goto done;
     }
     qc_checkpoint_close(&cp);
+    /* every point is done: the checkpoint in grid order, the same bytes
+     * whatever the threads, processes or resumes that made it */
+    if ((st = qc_checkpoint_rewrite(cp_path, sc->hash, n, records)) != QC_OK)
+        goto done;
 
     for (size_t i = 0; i < n; i++) {
         const char *status = json_string_value(json_object_get(records[i], "status"));
