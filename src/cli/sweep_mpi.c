@@ -137,7 +137,8 @@ int cli_mpi_agree(cli_mpi *m, const qc_scenario *sc, qc_status read_status)
     }
     int jobs = (int)m->jobs;
     MPI_Gather(&jobs, 1, MPI_INT, m->remote_threads, 1, MPI_INT, 0, MPI_COMM_WORLD);
-    if (m->rank == 0)
+    /* the other ranks ask for work only when all agreed */
+    if (m->rank == 0 && rc == 0)
         for (int r = 1; r < m->size; r++)
             m->remote_active += (size_t)m->remote_threads[r];
     free(oks);
