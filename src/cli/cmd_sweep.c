@@ -153,6 +153,7 @@ static int sweep_main(int argc, char **argv, size_t launched, int first, int *mu
         return rc;
     }
 #else
+    (void)muted;
     if (launched > 1) {
         free(rest);
         return cli_usage_error("sweep: started as %zu processes by an MPI launcher, but this "

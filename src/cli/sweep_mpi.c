@@ -82,6 +82,11 @@ int cli_mpi_start(cli_mpi *m, unsigned jobs)
     MPI_Comm_size(MPI_COMM_WORLD, &m->size);
 #ifdef _OPENMP
     m->jobs = jobs ? jobs : (unsigned)omp_get_num_procs();
+    /* rank 0 counts on each rank's threads asking for work: the teams
+     * must have the size announced */
+    omp_set_dynamic(0);
+    if (omp_get_thread_limit() > 1 && m->jobs + 1 > (unsigned)omp_get_thread_limit())
+        m->jobs = (unsigned)omp_get_thread_limit() - 1;
 #else
     (void)jobs;
     m->jobs = 1;
