@@ -252,14 +252,16 @@ static void serve(dispatch *d)
         msg[count] = '\0';
         int64_t done;
         memcpy(&done, msg, sizeof done);
-        if (done >= 0 && d->deliver)
-            give_back(d, (size_t)done, msg + sizeof done);
-        free(msg);
+        /* the asking thread gets its next point before its record is
+         * checkpointed, so that it never waits for the disk */
         int64_t next = d->deliver ? claim(d) : -1;
         MPI_Send(&next, (int)sizeof next, MPI_BYTE, status.MPI_SOURCE, TAG_POINT,
                  MPI_COMM_WORLD);
         if (next < 0)
             m->remote_active--;
+        if (done >= 0 && d->deliver)
+            give_back(d, (size_t)done, msg + sizeof done);
+        free(msg);
     }
 }
 
