@@ -7,21 +7,23 @@
  * Finished points are appended to a checkpoint as they complete, so that a
  * killed sweep resumes where it stopped; the tables and plots are written
  * at the end from the records, in grid order, so that the number of
- * threads never changes a byte of them. */
+ * threads never changes a byte of them; once every point is in, the
+ * checkpoint itself is rewritten in grid order. Instead of its own
+ * threads, the sweep can take its points from an executor that computes
+ * them elsewhere (other processes: the command line's MPI driver) and
+ * gives each back as the text of its record (deliver), checkpointed at
+ * once like a point computed here. */
 #include "study/sweep.h"
 
 #include "core/internal.h"
-#include "study/report.h"
 #include "study/scenario.h"
 #include "study/checkpoint.h"
-#include "core/parse.h"
 #include "study/file_list.h"
 #include "study/manifest.h"
 #include "study/plot_sweep.h"
 
 #include <errno.h>
 #include <pthread.h>
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
