@@ -151,6 +151,13 @@ int cli_mpi_agree(cli_mpi *m, const qc_scenario *sc, qc_status read_status)
     return rc;
 }
 
+/* A short sleep between polls of the link. */
+static void nap(void)
+{
+    struct timespec pause = {0, 100000}; /* 0.1 ms */
+    nanosleep(&pause, NULL);
+}
+
 static void fail_rank(const cli_mpi *m, const char *what)
 {
     fprintf(stderr, "quantcap: error: rank %d: %s\n", m->rank, what);
@@ -178,8 +185,16 @@ int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
             OMP(omp critical(cli_mpi_link))
             {
                 MPI_Send(msg, (int)(sizeof done + len), MPI_BYTE, 0, TAG_ASK, MPI_COMM_WORLD);
-                MPI_Recv(&next, (int)sizeof next, MPI_BYTE, 0, TAG_POINT, MPI_COMM_WORLD,
-                         MPI_STATUS_IGNORE);
+                /* wait for the answer asleep, not in a busy MPI_Recv: ranks
+                 * may share their cores with others */
+                MPI_Request req;
+                MPI_Irecv(&next, (int)sizeof next, MPI_BYTE, 0, TAG_POINT, MPI_COMM_WORLD, &req);
+                for (int got = 0;;) {
+                    MPI_Test(&req, &got, MPI_STATUS_IGNORE);
+                    if (got)
+                        break;
+                    nap();
+                }
             }
             free(msg);
             free(text);
@@ -235,8 +250,7 @@ static void serve(dispatch *d)
         MPI_Status status;
         MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &status);
         if (!flag) {
-            struct timespec pause = {0, 100000}; /* 0.1 ms */
-            nanosleep(&pause, NULL);
+            nap();
             continue;
         }
         int count = 0;
