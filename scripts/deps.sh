@@ -4,7 +4,7 @@
 set -eu
 packages="build-essential meson ninja-build pkg-config libgsl-dev libfftw3-dev \
 libjansson-dev libcmocka-dev libinih-dev libplplot-dev plplot-driver-cairo \
-python3-scipy python3-numpy valgrind"
+python3-scipy python3-numpy valgrind openmpi-bin libopenmpi-dev"
 if [ "${QC_WITH_CHECKS:-0}" = 1 ]; then   # the libFuzzer targets
     packages="$packages clang libclang-rt-14-dev"
 fi

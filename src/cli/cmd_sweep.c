@@ -3,6 +3,9 @@
  * plots into one folder. A progress bar goes to stderr when it is a
  * terminal. */
 #include "cli.h"
+#include "sweep_mpi.h"
+
+#include <fcntl.h>
 
 #include <math.h>
 #include <stdlib.h>
@@ -33,6 +36,9 @@ static void help(const cli_args *a)
            "point), results.json and the plots the scenario asks for.\n"
            "A point whose design fails (infeasible, no convergence) is recorded with its\n"
            "message; an error in the scenario itself stops the sweep, naming the point.\n"
+           "Under an MPI launcher (mpirun -n N quantcap sweep ...; a build with MPI) the\n"
+           "N processes share the points, each with --jobs threads, and the first writes\n"
+           "DIR: the same bytes as one process; --resume works with any N.\n"
            "Exit status: 0 done (some points may have failed: see the warning), 1 every\n"
            "point failed, 2 an error in the scenario or the options. Formats:\n"
            "docs/formats.md.\n\n"
@@ -52,7 +58,44 @@ static void default_out(const char *scenario, char *out, size_t cap)
     snprintf(out, cap, "out/%.*s", (int)n, base);
 }
 
+/* Under an MPI launcher, the ranks after the first keep quiet while the
+ * options are read (each would print the same message): stderr goes to
+ * /dev/null until unmute(). Returns the saved descriptor, or -1. */
+static int mute(size_t launched, int first)
+{
+    if (launched < 2 || first)
+        return -1;
+    fflush(stderr);
+    int saved = dup(STDERR_FILENO), nul = open("/dev/null", O_WRONLY);
+    if (saved >= 0 && nul >= 0)
+        dup2(nul, STDERR_FILENO);
+    if (nul >= 0)
+        close(nul);
+    return saved;
+}
+
+static void unmute(int saved)
+{
+    if (saved < 0)
+        return;
+    fflush(stderr);
+    dup2(saved, STDERR_FILENO);
+    close(saved);
+}
+
+static int sweep_main(int argc, char **argv, size_t launched, int first, int *muted);
+
 int cmd_sweep(int argc, char **argv)
+{
+    int first = 1;
+    size_t launched = cli_mpi_launched(&first);
+    int saved = mute(launched, first);
+    int rc = sweep_main(argc, argv, launched, first, &saved);
+    unmute(saved);
+    return rc;
+}
+
+static int sweep_main(int argc, char **argv, size_t launched, int first, int *muted)
 {
     /* --set may repeat: take those out before the usual parsing */
     const char *sets[MAX_SETS];
@@ -86,7 +129,8 @@ int cmd_sweep(int argc, char **argv)
     cli_args_init(&a, "sweep", sweep_options);
     int rc = cli_parse(&a, nrest, rest, 1);
     if (rc == CLI_HELP) {
-        help(&a);
+        if (first)
+            help(&a);
         free(rest);
         return CLI_OK;
     }
@@ -104,6 +148,23 @@ int cmd_sweep(int argc, char **argv)
         free(rest);
         return rc;
     }
+#ifdef QC_HAVE_MPI
+    cli_mpi mpi;
+    int use_mpi = launched > 1;
+    if (use_mpi && (rc = cli_mpi_start(&mpi, (unsigned)jobs)) != 0) {
+        free(rest);
+        return rc;
+    }
+#else
+    (void)muted;
+    if (launched > 1) {
+        free(rest);
+        return cli_usage_error("sweep: started as %zu processes by an MPI launcher, but this "
+                               "quantcap was built without MPI (configure with -Dmpi=enabled "
+                               "and Open MPI installed); run it as one process",
+                               launched);
+    }
+#endif
     char out[4096];
     if (cli_has(&a, "output-dir"))
         snprintf(out, sizeof out, "%s", cli_get(&a, "output-dir"));
@@ -114,15 +175,27 @@ int cmd_sweep(int argc, char **argv)
     qc_sweep_summary sum;
     memset(&sum, 0, sizeof sum);
     qc_status st = qc_scenario_read(file, &sc);
+    for (size_t i = 0; st == QC_OK && i < nsets; i++)
+        st = qc_scenario_override(sc, sets[i]);
+#ifdef QC_HAVE_MPI
+    /* the ranks go on together or stop together; the first writes, the
+     * others compute the points it hands out (sweep_mpi.c) */
+    if (use_mpi) {
+        /* from here on, rank 0's own messages are the ones to see */
+        unmute(*muted);
+        *muted = -1;
+        if ((rc = cli_mpi_agree(&mpi, sc, st)) != 0)
+            goto done;
+        if (mpi.rank != 0) {
+            rc = cli_mpi_work(&mpi, sc);
+            goto done;
+        }
+    } else
+#endif
     if (st != QC_OK) {
         rc = cli_lib_error(st);
         goto done;
     }
-    for (size_t i = 0; i < nsets; i++)
-        if ((st = qc_scenario_override(sc, sets[i])) != QC_OK) {
-            rc = cli_lib_error(st);
-            goto done;
-        }
     cli_progress ps;
     cli_progress_init(&ps, cli_has(&a, "quiet"), "points");
     qc_sweep_options opt;
@@ -139,6 +212,12 @@ int cmd_sweep(int argc, char **argv)
         setenv("QT_QPA_PLATFORM", "offscreen", 0);
     opt.progress = cli_progress_report;
     opt.user = &ps;
+#ifdef QC_HAVE_MPI
+    if (use_mpi) {
+        opt.execute = cli_mpi_execute;
+        opt.execute_user = &mpi;
+    }
+#endif
     struct timespec t0, t1;
     clock_gettime(CLOCK_MONOTONIC, &t0);
     st = qc_sweep_run(sc, &opt, &sum);
@@ -167,6 +246,12 @@ int cmd_sweep(int argc, char **argv)
             rc = CLI_NUMERIC;
     }
 done:
+#ifdef QC_HAVE_MPI
+    if (use_mpi) {
+        fflush(stdout);
+        rc = cli_mpi_end(&mpi, rc);
+    }
+#endif
     qc_sweep_summary_clear(&sum);
     qc_scenario_free(sc);
     free(rest);

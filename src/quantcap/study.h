@@ -237,6 +237,50 @@ QC_API qc_status qc_scenario_point_settings(const qc_scenario *sc, size_t index,
  * fails. */
 QC_API const char *qc_scenario_hash(const qc_scenario *sc);
 
+/* Handing a sweep's points to other processes. The library has no MPI:
+ * a program that runs a sweep over several processes (the command line
+ * under mpirun) computes points where it likes with a qc_sweep_worker and
+ * gives each finished point back to the one qc_sweep_run of the writing
+ * process through `deliver`, which checkpoints it at once. */
+
+/* Give back point `index` (from 0): `record` is the NUL-terminated text
+ * qc_sweep_worker_run made for it. Thread-safe: callable from any thread
+ * while the executor runs. QC_OK: go on. Anything else: the sweep stops
+ * (a scenario error at that point, a checkpoint write failure, a record
+ * that is not point `index`'s); hand out no more points, but records of
+ * points still running may be given back (they are kept, as in a local
+ * run) before the executor returns. */
+typedef qc_status (*qc_sweep_deliver_fn)(void *ctx, size_t index, const char *record);
+
+/* Compute the points todo[0..ntodo) (grid order) and give each back with
+ * deliver(ctx, ...), in any order and from any threads, then return.
+ * QC_OK when every point was given back or deliver asked to stop; any
+ * other status is the executor's own failure, described in msg (cap
+ * bytes), and stops the sweep. */
+typedef qc_status (*qc_sweep_executor_fn)(void *user, const size_t *todo, size_t ntodo,
+                                          qc_sweep_deliver_fn deliver, void *ctx, char *msg,
+                                          size_t cap);
+
+/* Computes single grid points exactly as qc_sweep_run does, for an
+ * executor: the models are shared by every point it runs (one instance
+ * per distinct model setting). */
+typedef struct qc_sweep_worker qc_sweep_worker;
+
+/* A worker for the scenario (which must outlive it). QC_ENOMEM; on
+ * failure *out is NULL. */
+QC_API qc_status qc_sweep_worker_alloc(const qc_scenario *sc, qc_sweep_worker **out);
+
+/* Point `index` (from 0) as its checkpoint record: *record is malloc'd
+ * text (free it), one JSON object without a newline, whatever the
+ * design's outcome (a failed design is a record with its status and
+ * message). Thread-safe: several threads may run points of one worker.
+ * QC_EINVAL for an index outside the grid, QC_ENOMEM; on failure *record
+ * is NULL. */
+QC_API qc_status qc_sweep_worker_run(qc_sweep_worker *w, size_t index, char **record);
+
+/* Release a worker; NULL does nothing. */
+QC_API void qc_sweep_worker_free(qc_sweep_worker *w);
+
 typedef struct {
     const char *out_dir; /* created if missing                              */
     unsigned jobs;       /* parallel threads; 0: one per core               */
@@ -246,6 +290,13 @@ typedef struct {
      * NULL): points done so far (resumed ones included) and in all. */
     void (*progress)(void *user, size_t done, size_t total);
     void *user;
+    /* Who computes the points still to do: NULL (the default) computes
+     * them here with `jobs` threads; otherwise the executor, called once
+     * with execute_user (see qc_sweep_executor_fn). Checkpoint, tables
+     * and plots are written by this process either way, and are the same
+     * bytes. */
+    qc_sweep_executor_fn execute;
+    void *execute_user;
 } qc_sweep_options;
 
 /* Defaults: output in the current folder, one job per core, no resume,

@@ -7,6 +7,7 @@
 #include "study/checkpoint.h"
 
 #include "core/internal.h"
+#include "quantcap/atomic_file.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -273,4 +274,44 @@ void qc_checkpoint_close(qc_checkpoint *cp)
     cp->fd = -1;
     free(cp->path);
     cp->path = NULL;
+}
+
+qc_status qc_checkpoint_rewrite(const char *path, const char *hash, size_t npoints,
+                                json_t *const *records)
+{
+    json_t *h = header(hash, npoints);
+    char *text = h ? json_dumps(h, DUMP_FLAGS) : NULL;
+    json_decref(h);
+    size_t len = text ? strlen(text) : 0, cap = len + 1;
+    for (size_t i = 0; text && i < npoints; i++) {
+        char *line = records[i] ? json_dumps(records[i], DUMP_FLAGS) : NULL;
+        if (!line) {
+            free(text);
+            text = NULL;
+            break;
+        }
+        size_t n = strlen(line);
+        if (len + n + 2 > cap) {
+            size_t grown = 2 * cap > len + n + 2 ? 2 * cap : len + n + 2;
+            char *t = realloc(text, grown);
+            if (!t) {
+                free(line);
+                free(text);
+                text = NULL;
+                break;
+            }
+            text = t;
+            cap = grown;
+        }
+        text[len++] = '\n';
+        memcpy(text + len, line, n);
+        len += n;
+        free(line);
+    }
+    if (!text)
+        return qc_fail(QC_ENOMEM, "out of memory rewriting %s", path);
+    text[len++] = '\n';
+    qc_status st = qc_write_file_atomic(path, text, len);
+    free(text);
+    return st;
 }

@@ -43,6 +43,14 @@ qc_status qc_checkpoint_resume(qc_checkpoint *cp, const char *path, const char *
  * QC_CHECKPOINT_SYNC_INTERVAL. Not thread-safe: callers serialize. */
 qc_status qc_checkpoint_append(qc_checkpoint *cp, json_t *record);
 
+/* A finished sweep's checkpoint in its final form: the header, then every
+ * point's record in grid order (records[i] for all npoints, none NULL),
+ * written under a temporary name and renamed over `path`. The bytes then
+ * depend neither on the order points finished in nor on how many threads
+ * or processes computed them. QC_ENOMEM, QC_EIO naming the file. */
+qc_status qc_checkpoint_rewrite(const char *path, const char *hash, size_t npoints,
+                                json_t *const *records);
+
 /* Sync what was written and close; safe on a closed checkpoint. */
 void qc_checkpoint_close(qc_checkpoint *cp);
 

@@ -7,20 +7,23 @@
  * Finished points are appended to a checkpoint as they complete, so that a
  * killed sweep resumes where it stopped; the tables and plots are written
  * at the end from the records, in grid order, so that the number of
- * threads never changes a byte of them. */
+ * threads never changes a byte of them; once every point is in, the
+ * checkpoint itself is rewritten in grid order. Instead of its own
+ * threads, the sweep can take its points from an executor that computes
+ * them elsewhere (other processes: the command line's MPI driver) and
+ * gives each back as the text of its record (deliver), checkpointed at
+ * once like a point computed here. */
 #include "study/sweep.h"
 
 #include "core/internal.h"
-#include "study/report.h"
 #include "study/scenario.h"
 #include "study/checkpoint.h"
-#include "core/parse.h"
 #include "study/file_list.h"
 #include "study/manifest.h"
 #include "study/plot_sweep.h"
 
 #include <errno.h>
-#include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -99,103 +102,6 @@ static qc_status make_dir(const char *dir)
     return QC_OK;
 }
 
-/* [require]: the value the point's settings need to meet the target, as
- * `quantcap require` finds it, added to the point's report; a target the
- * point cannot meet is recorded in `require_error`, not a failure of the
- * point. */
-static void add_require(const qc_scenario *sc, const qc_settings *s, json_t *result)
-{
-    const sc_require *r = &sc->require;
-    const char *key = r->solve_for;
-    double lo = r->lo, hi = r->hi, op = NAN;
-    qc_require_result res;
-    memset(&res, 0, sizeof res);
-    res.required = res.unquantized_required = res.penalty_db = NAN;
-    qc_status st = r->range_given ? QC_OK : qc_settings_require_range(s, key, &lo, &hi);
-    size_t kl = strlen(key);
-    const char *unit = !qc_setting_in_db(key)                        ? NULL
-                       : kl > 4 && strcmp(key + kl - 4, "-dbm") == 0 ? " dBm"
-                                                                     : " dB";
-    if (st == QC_OK)
-        st = qc_settings_require(s, key, &r->target, lo, hi, unit, &res);
-    const char *v = qc_settings_get(s, key);
-    if (v && qc_parse_double(v, &op) != QC_OK)
-        op = NAN;
-    json_t *t = json_object();
-    json_object_set_new(t, "kind", json_string(qc_target_name(r->target.kind)));
-    json_object_set_new(t, "value", qc_report_real(r->target.value));
-    json_object_set_new(t, "fec", r->target.from_fec ? json_string(r->target.fec.name)
-                                                     : json_null());
-    json_object_set_new(result, "solve_for", json_string(key));
-    json_object_set_new(result, "target", t);
-    json_object_set_new(result, "required", qc_report_real(res.required));
-    json_object_set_new(result, "unquantized_required", qc_report_real(res.unquantized_required));
-    json_object_set_new(result, "penalty_db", qc_report_real(res.penalty_db));
-    json_object_set_new(result, "margin_db",
-                        qc_report_real(st == QC_OK ? qc_require_margin_db(
-                                                         &res, !qc_setting_in_db(key), op)
-                                                   : NAN));
-    json_object_set_new(result, "require_error",
-                        st == QC_OK ? json_null() : json_string(qc_last_error()));
-}
-
-/* A point with a FEC code and no [require]: the penalty at the code's
- * threshold, as `quantcap design --fec` reports it. */
-static qc_status add_fec_penalty(const qc_settings *s, const qc_fec *fec, json_t *result)
-{
-    qc_fec_penalty p;
-    qc_status st = qc_settings_fec_penalty(s, fec, &p);
-    if (st != QC_OK)
-        return st;
-    json_object_set_new(result, "penalty_solve_for", p.key ? json_string(p.key) : json_null());
-    json_object_set_new(result, "penalty_db", qc_report_real(p.db));
-    json_object_set_new(result, "penalty_note",
-                        isfinite(p.db) ? json_null() : json_string(p.note));
-    return QC_OK;
-}
-
-/* One grid point, as `quantcap design --json` computes it. The record is
- * NULL only when memory runs out; *status receives the design's status
- * (its message stays in this thread's qc_last_error). */
-static json_t *run_point(const qc_scenario *sc, qc_model_cache *cache, size_t index,
-                         qc_status *status)
-{
-    qc_settings *s = NULL;
-    const qc_model *m = NULL;
-    qc_design_request req;
-    qc_design_result res;
-    memset(&res, 0, sizeof res);
-    json_t *result = NULL;
-    qc_status st = qc_scenario_point_settings(sc, index, &s);
-    if (st == QC_OK)
-        st = qc_settings_build_cached(s, cache, &m, &req);
-    if (st == QC_OK)
-        st = qc_design(&req, &res);
-    if (st == QC_OK && !(result = qc_report_design(&req, &res)))
-        st = qc_fail(QC_ENOMEM, "out of memory building the report");
-    if (st == QC_OK && sc->require.on)
-        add_require(sc, s, result);
-    else if (st == QC_OK && res.fec_given)
-        st = add_fec_penalty(s, &res.fec, result);
-    json_t *rec = json_object();
-    if (rec) {
-        json_object_set_new(rec, "point", json_integer((json_int_t)index + 1)); /* from 1 */
-        json_object_set_new(rec, "status", json_string(qc_sweep_status_name(st)));
-        json_object_set_new(rec, "error", st == QC_OK ? json_null()
-                                                       : json_string(qc_last_error()[0]
-                                                                         ? qc_last_error()
-                                                                         : qc_strerror(st)));
-        json_object_set_new(rec, "result", result ? result : json_null());
-    } else {
-        json_decref(result);
-    }
-    qc_design_result_clear(&res);
-    qc_model_cache_release(cache, m);
-    qc_settings_free(s);
-    *status = st;
-    return rec;
-}
-
 /* A design that rejects its request (QC_EINVAL, QC_EFORMAT) means the
  * scenario asks for something invalid: that stops the sweep. Other
  * failures (infeasible, no convergence, numerical) are outcomes of the
@@ -217,6 +123,122 @@ static unsigned thread_count(unsigned jobs)
     (void)jobs;
     return 1;
 #endif
+}
+
+/* What the threads (or an executor's deliveries) share while points run. */
+typedef struct {
+    const qc_scenario *sc;
+    const qc_sweep_options *opt;
+    qc_sweep_summary *sum;
+    qc_checkpoint *cp;
+    json_t **records;
+    size_t n, done_count;
+    int failed;          /* first failure (qc_status); QC_OK while none   */
+    char msg[1024];      /* its message                                   */
+    size_t fail_point;   /* the failure reported: lowest point that failed */
+    pthread_mutex_t lock; /* serializes accept_point                     */
+} sweep_state;
+
+/* Note a failure at point i (caller holds the lock or is alone). Points
+ * already running when the first failure stops the sweep still finish; of
+ * those that failed, the lowest point is reported, so the message does not
+ * depend on which thread or process got there first. */
+static void set_failure(sweep_state *s, size_t i, qc_status st)
+{
+    int failed;
+    OMP(omp atomic read)
+    failed = s->failed;
+    if (failed == QC_OK || i < s->fail_point) {
+        s->fail_point = i;
+        snprintf(s->msg, sizeof s->msg, "%s", qc_last_error());
+        OMP(omp atomic write)
+        s->failed = (int)st;
+    }
+}
+
+static qc_status status_of_name(const char *name)
+{
+    for (int st = QC_OK; st < QC_STATUS_COUNT; st++)
+        if (name && strcmp(name, qc_sweep_status_name((qc_status)st)) == 0)
+            return (qc_status)st;
+    return QC_ENUMERIC;
+}
+
+/* A finished point (caller holds the lock): checkpointed and kept, or,
+ * when its design rejected the request, the sweep's failure naming the
+ * point. Takes the reference to rec (NULL: out of memory). */
+static void accept_point(sweep_state *s, size_t i, json_t *rec)
+{
+    qc_status pst = rec ? status_of_name(json_string_value(json_object_get(rec, "status")))
+                        : QC_ENOMEM;
+    qc_status wst;
+    if (!rec) {
+        wst = qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1);
+    } else if (s->records[i]) {
+        wst = qc_fail(QC_EINVAL, "point %zu was computed twice", i + 1);
+    } else if (scenario_error(pst)) {
+        char point[512];
+        sc_describe_point(s->sc, i, point, sizeof point);
+        const char *err = json_string_value(json_object_get(rec, "error"));
+        wst = qc_fail(pst, "%.100s: %.300s: %.600s", s->sc->file, point, err ? err : "");
+    } else {
+        wst = qc_checkpoint_append(s->cp, rec);
+    }
+    if (wst != QC_OK) {
+        set_failure(s, i, wst);
+        json_decref(rec);
+        return;
+    }
+    s->records[i] = rec;
+    s->done_count++;
+    s->sum->computed++;
+    if (s->opt->progress)
+        s->opt->progress(s->opt->user, s->done_count, s->n);
+}
+
+/* qc_sweep_deliver_fn: a point computed elsewhere, as the text of its
+ * record (sweep_worker.c). */
+static qc_status deliver(void *ctx, size_t index, const char *text)
+{
+    sweep_state *s = ctx;
+    json_t *rec = NULL;
+    size_t point = 0;
+    pthread_mutex_lock(&s->lock);
+    if (index >= s->n) {
+        set_failure(s, s->n, qc_fail(QC_EINVAL, "point %zu given back is outside the grid of "
+                                                "%zu points", index + 1, s->n));
+    } else if (!text || qc_checkpoint_parse_line(text, strlen(text), s->n, &rec, &point) != QC_OK ||
+               point != index) {
+        json_decref(rec);
+        set_failure(s, index, qc_fail(QC_EFORMAT, "the record given back for point %zu is "
+                                                  "not that point's record", index + 1));
+    } else {
+        accept_point(s, index, rec);
+    }
+    qc_status st = (qc_status)s->failed;
+    pthread_mutex_unlock(&s->lock);
+    return st;
+}
+
+/* The points to do, computed in this process with `threads` threads. */
+static void run_here(sweep_state *s, const size_t *todo, size_t ntodo, qc_model_cache *cache,
+                     unsigned threads)
+{
+    (void)threads;
+    OMP(omp parallel for schedule(dynamic, 1) num_threads(threads))
+    for (size_t t = 0; t < ntodo; t++) {
+        int stop;
+        OMP(omp atomic read)
+        stop = s->failed;
+        if (stop != QC_OK)
+            continue;
+        size_t i = todo[t];
+        qc_status pst;
+        json_t *rec = qc_sweep_point_record(s->sc, cache, i, &pst);
+        pthread_mutex_lock(&s->lock);
+        accept_point(s, i, rec);
+        pthread_mutex_unlock(&s->lock);
+    }
 }
 
 qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
@@ -268,59 +290,36 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     if (opt->progress)
         opt->progress(opt->user, done_count, n);
 
-    int shared_st = QC_OK; /* first failure to write the checkpoint */
-    char shared_msg[1024] = "";
-    size_t shared_point = n; /* the failure reported: lowest point that failed */
-    unsigned threads = thread_count(opt->jobs);
-    (void)threads;
-    OMP(omp parallel for schedule(dynamic, 1) num_threads(threads))
-    for (size_t t = 0; t < ntodo; t++) {
-        int stop;
-        OMP(omp atomic read)
-        stop = shared_st;
-        if (stop != QC_OK)
-            continue;
-        size_t i = todo[t];
-        qc_status pst;
-        json_t *rec = run_point(sc, cache, i, &pst);
-        char point_msg[1024] = "";
-        if (scenario_error(pst)) {
-            char point[512];
-            sc_describe_point(sc, i, point, sizeof point);
-            snprintf(point_msg, sizeof point_msg, "%.100s: %.300s: %.600s", sc->file, point,
-                     qc_last_error());
-        }
-        OMP(omp critical(qc_sweep_checkpoint))
-        {
-            qc_status wst = !rec                  ? qc_fail(QC_ENOMEM, "out of memory at point %zu", i + 1)
-                            : scenario_error(pst) ? qc_fail(pst, "%s", point_msg)
-                                                  : qc_checkpoint_append(&cp, rec);
-            /* Points already running when the first failure stops the
-             * sweep still finish; of those that failed, the lowest point is
-             * reported, so the message does not depend on which thread
-             * got there first. */
-            if (wst != QC_OK && (shared_st == QC_OK || i < shared_point)) {
-                shared_point = i;
-                snprintf(shared_msg, sizeof shared_msg, "%s", qc_last_error());
-                OMP(omp atomic write)
-                shared_st = (int)wst;
-            }
-            if (wst == QC_OK) {
-                records[i] = rec;
-                rec = NULL;
-                done_count++;
-                sum->computed++;
-                if (opt->progress)
-                    opt->progress(opt->user, done_count, n);
-            }
-        }
-        json_decref(rec);
+    sweep_state ss = {.sc = sc, .opt = opt, .sum = sum, .cp = &cp, .records = records,
+                      .n = n, .done_count = done_count, .failed = QC_OK, .fail_point = n};
+    if (pthread_mutex_init(&ss.lock, NULL) != 0) {
+        st = qc_fail(QC_ENOMEM, "cannot make the sweep's lock");
+        goto done;
     }
-    if (shared_st != QC_OK) {
-        st = qc_fail((qc_status)shared_st, "%s", shared_msg);
+    if (opt->execute) {
+        char msg[1024] = "";
+        qc_status est = opt->execute(opt->execute_user, todo, ntodo, deliver, &ss, msg,
+                                     sizeof msg);
+        if (est != QC_OK && ss.failed == QC_OK)
+            set_failure(&ss, n, qc_fail(est, "%s", msg[0] ? msg : qc_strerror(est)));
+        for (size_t t = 0; t < ntodo && ss.failed == QC_OK; t++)
+            if (!records[todo[t]])
+                set_failure(&ss, todo[t], qc_fail(QC_EIO, "point %zu was never given back "
+                                                         "by the processes computing the sweep",
+                                                  todo[t] + 1));
+    } else {
+        run_here(&ss, todo, ntodo, cache, thread_count(opt->jobs));
+    }
+    pthread_mutex_destroy(&ss.lock);
+    if (ss.failed != QC_OK) {
+        st = qc_fail((qc_status)ss.failed, "%s", ss.msg);
         goto done;
     }
     qc_checkpoint_close(&cp);
+    /* every point is done: the checkpoint in grid order, the same bytes
+     * whatever the threads, processes or resumes that made it */
+    if ((st = qc_checkpoint_rewrite(cp_path, sc->hash, n, records)) != QC_OK)
+        goto done;
 
     for (size_t i = 0; i < n; i++) {
         const char *status = json_string_value(json_object_get(records[i], "status"));

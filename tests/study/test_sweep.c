@@ -1,6 +1,7 @@
 /* test_sweep.c — the sweep runner: checkpoint lines (torn last line,
  * damaged lines, another scenario), resuming without losing or repeating
- * a point, tables that do not depend on the number of threads, and the
+ * a point, tables that do not depend on the number of threads, points
+ * computed elsewhere and given back through an executor, and the
  * keys the plots read back out of a point's record. */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -307,6 +308,112 @@ static void test_threads_and_resume(void **state)
     qc_scenario_free(sc);
 }
 
+/* An executor standing in for other processes: computes the points with a
+ * qc_sweep_worker, last first, and gives them back as text; `mode` breaks
+ * it on purpose. */
+enum { GOOD, WRONG_POINT, SKIP_ONE, OWN_FAILURE };
+typedef struct {
+    const qc_scenario *sc;
+    int mode;
+    size_t calls;
+} fake_executor;
+
+static qc_status fake_execute(void *user, const size_t *todo, size_t ntodo,
+                              qc_sweep_deliver_fn deliver, void *ctx, char *msg, size_t cap)
+{
+    fake_executor *fx = user;
+    fx->calls++;
+    if (fx->mode == OWN_FAILURE) {
+        snprintf(msg, cap, "the link to the other processes broke");
+        return QC_EIO;
+    }
+    qc_sweep_worker *w;
+    assert_int_equal(qc_sweep_worker_alloc(fx->sc, &w), QC_OK);
+    for (size_t t = ntodo; t-- > 0;) {
+        if (fx->mode == SKIP_ONE && t == 0)
+            continue;
+        char *text;
+        size_t index = todo[t];
+        assert_int_equal(qc_sweep_worker_run(w, fx->mode == WRONG_POINT ? (index + 1) % ntodo
+                                                                         : index, &text),
+                         QC_OK);
+        qc_status st = deliver(ctx, index, text);
+        free(text);
+        if (st != QC_OK)
+            break;
+    }
+    char *text;
+    assert_int_equal(qc_sweep_worker_run(w, qc_scenario_npoints(fx->sc), &text), QC_EINVAL);
+    assert_null(text);
+    qc_sweep_worker_free(w);
+    return QC_OK;
+}
+
+/* The points computed elsewhere and given back as text, in any order,
+ * make the same bytes as --jobs 1 (checkpoint included: a finished one is
+ * in grid order); a record of the wrong point, a point never given back
+ * and the executor's own failure stop the sweep with no table. */
+static void test_executor(void **state)
+{
+    (void)state;
+    qc_scenario *sc;
+    assert_int_equal(qc_scenario_parse(scenario_text, sizeof scenario_text - 1, "s.ini", &sc),
+                     QC_OK);
+    size_t n = qc_scenario_npoints(sc);
+    char d1[128], d2[128], dx[128], a[160], b[160];
+    snprintf(d1, sizeof d1, "%s/x-one", tmpdir);
+    snprintf(d2, sizeof d2, "%s/x-two", tmpdir);
+    qc_sweep_summary s1, s2;
+    run(sc, d1, 1, 0, &s1);
+    run(sc, d2, 2, 0, &s2);
+    const char *names[] = {"results.csv", "results.json", "checkpoint.jsonl"};
+    for (int f = 0; f < 3; f++) { /* the checkpoint too, on any thread count */
+        snprintf(a, sizeof a, "%s/%s", d1, names[f]);
+        snprintf(b, sizeof b, "%s/%s", d2, names[f]);
+        assert_same_file(a, b);
+    }
+    for (int mode = GOOD; mode <= OWN_FAILURE; mode++) {
+        snprintf(dx, sizeof dx, "%s/x-mode%d", tmpdir, mode);
+        fake_executor fx = {.sc = sc, .mode = mode};
+        qc_sweep_options opt;
+        qc_sweep_options_default(&opt);
+        opt.out_dir = dx;
+        opt.plots = 0;
+        opt.execute = fake_execute;
+        opt.execute_user = &fx;
+        qc_sweep_summary sx;
+        qc_status st = qc_sweep_run(sc, &opt, &sx);
+        assert_int_equal(fx.calls, 1);
+        snprintf(b, sizeof b, "%s/results.csv", dx);
+        if (mode == GOOD) {
+            assert_int_equal(st, QC_OK);
+            assert_int_equal(sx.computed, n);
+            for (int f = 0; f < 3; f++) {
+                snprintf(a, sizeof a, "%s/%s", d1, names[f]);
+                snprintf(b, sizeof b, "%s/%s", dx, names[f]);
+                assert_same_file(a, b);
+            }
+        } else if (mode == WRONG_POINT) {
+            assert_int_equal(st, QC_EFORMAT);
+            assert_message("the record given back for point 24 is not that point's record");
+            assert_int_equal(access(b, F_OK), -1);
+        } else if (mode == SKIP_ONE) {
+            assert_int_equal(st, QC_EIO);
+            assert_message("point 1 was never given back");
+            assert_int_equal(access(b, F_OK), -1);
+            assert_int_equal(sx.computed, n - 1); /* the others are checkpointed */
+        } else {
+            assert_int_equal(st, QC_EIO);
+            assert_message("the link to the other processes broke");
+            assert_int_equal(access(b, F_OK), -1);
+        }
+        qc_sweep_summary_clear(&sx);
+    }
+    qc_sweep_summary_clear(&s1);
+    qc_sweep_summary_clear(&s2);
+    qc_scenario_free(sc);
+}
+
 static void test_input_errors_stop_early(void **state)
 {
     (void)state;
@@ -395,6 +502,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_checkpoint_lines),
         cmocka_unit_test(test_threads_and_resume),
+        cmocka_unit_test(test_executor),
         cmocka_unit_test(test_input_errors_stop_early),
         cmocka_unit_test(test_rejected_request_stops),
         cmocka_unit_test(test_plotted_keys_in_report),

@@ -1,0 +1,341 @@
+/* sweep_mpi.c — `quantcap sweep` spread over the processes of an MPI job
+ * (Open MPI; MPI-3.1 standard, MPI Forum 2015: point-to-point messages
+ * only). Rank 0 is the writer: it runs qc_sweep_run as a single process
+ * would, with this file's executor, so the checkpoint, tables and plots
+ * are written by one process, from records in grid order, and are the
+ * same bytes as a run with --jobs 1. Points are handed out one at a time
+ * (a master–worker self-scheduling loop), so that slow points do not hold
+ * up a fixed block of others: every compute thread of every rank asks
+ * rank 0 for a point, computes it (qc_sweep_worker_run) and sends back its
+ * record with the next request; rank 0 checkpoints each record as it
+ * arrives. A rank that dies loses only the points it was computing.
+ *
+ * Messages (tags below): a request is an 8-byte point index, -1 when the
+ * thread has nothing to give back, followed by that point's record text;
+ * the answer is an 8-byte index, -1 meaning stop. The indices travel as
+ * bytes: the ranks of one job are assumed to share the machine type.
+ * On rank 0 one thread serves the requests and the others compute points
+ * of their own; on the other ranks the compute threads take turns at the
+ * communication (MPI_THREAD_SERIALIZED). */
+#include "sweep_mpi.h"
+
+#include "cli.h"
+
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Started by a launcher: the size its environment gives (Open MPI's
+ * mpirun, or a PMI/PMIx launcher such as Slurm's srun). */
+size_t cli_mpi_launched(int *first)
+{
+    static const char *const size_vars[] = {"OMPI_COMM_WORLD_SIZE", "PMIX_SIZE", "PMI_SIZE",
+                                            NULL};
+    static const char *const rank_vars[] = {"OMPI_COMM_WORLD_RANK", "PMIX_RANK", "PMI_RANK",
+                                            NULL};
+    size_t size = 1;
+    for (size_t i = 0; size_vars[i]; i++) {
+        const char *v = getenv(size_vars[i]);
+        if (v && atol(v) > 0) {
+            size = (size_t)atol(v);
+            break;
+        }
+    }
+    *first = 1;
+    for (size_t i = 0; rank_vars[i]; i++) {
+        const char *v = getenv(rank_vars[i]);
+        if (v) {
+            *first = atol(v) == 0;
+            break;
+        }
+    }
+    /* srun with PMIx sets the rank but not always the size */
+    if (size == 1 && getenv("PMIX_RANK") && getenv("SLURM_NTASKS") &&
+        atol(getenv("SLURM_NTASKS")) > 1)
+        size = (size_t)atol(getenv("SLURM_NTASKS"));
+    return size;
+}
+
+#ifdef QC_HAVE_MPI
+#include <mpi.h>
+#include <time.h>
+#ifdef _OPENMP
+#include <omp.h>
+#define OMP(directive) _Pragma(#directive)
+#else
+#define OMP(directive) /* built without OpenMP: one thread */
+#endif
+
+enum { TAG_ASK = 1, TAG_POINT = 2 };
+#define HASH_LEN 64 /* room for a scenario hash */
+
+int cli_mpi_start(cli_mpi *m, unsigned jobs)
+{
+    memset(m, 0, sizeof *m);
+    int provided = MPI_THREAD_SINGLE;
+    if (MPI_Init_thread(NULL, NULL, MPI_THREAD_SERIALIZED, &provided) != MPI_SUCCESS) {
+        fprintf(stderr, "quantcap: error: sweep: MPI did not start\n");
+        return CLI_NUMERIC;
+    }
+    MPI_Comm_rank(MPI_COMM_WORLD, &m->rank);
+    MPI_Comm_size(MPI_COMM_WORLD, &m->size);
+#ifdef _OPENMP
+    m->jobs = jobs ? jobs : (unsigned)omp_get_num_procs();
+    /* rank 0 counts on each rank's threads asking for work: the teams
+     * must have the size announced */
+    omp_set_dynamic(0);
+    if (omp_get_thread_limit() > 1 && m->jobs + 1 > (unsigned)omp_get_thread_limit())
+        m->jobs = (unsigned)omp_get_thread_limit() - 1;
+#else
+    (void)jobs;
+    m->jobs = 1;
+#endif
+    /* other ranks' threads share one connection only when MPI allows it */
+    if (provided < MPI_THREAD_SERIALIZED && m->rank != 0)
+        m->jobs = 1;
+    return 0;
+}
+
+int cli_mpi_agree(cli_mpi *m, const qc_scenario *sc, qc_status read_status)
+{
+    int ok = read_status == QC_OK;
+    m->sc = sc;
+    int *oks = malloc((size_t)m->size * sizeof *oks);
+    char *hashes = malloc((size_t)m->size * HASH_LEN);
+    m->remote_threads = calloc((size_t)m->size, sizeof *m->remote_threads);
+    if (!oks || !hashes || !m->remote_threads) {
+        fprintf(stderr, "quantcap: error: out of memory\n");
+        MPI_Abort(MPI_COMM_WORLD, CLI_USAGE);
+    }
+    MPI_Allgather(&ok, 1, MPI_INT, oks, 1, MPI_INT, MPI_COMM_WORLD);
+    int all = 1;
+    for (int r = 0; r < m->size; r++)
+        all = all && oks[r];
+    int rc = 0;
+    if (!all) {
+        /* every rank that failed says why; when rank 0 failed too, the
+         * others had the same trouble and stay quiet */
+        if (!ok && m->rank == 0)
+            fprintf(stderr, "quantcap: error: %s\n", qc_last_error());
+        else if (!ok && oks[0])
+            fprintf(stderr, "quantcap: error: rank %d: %s\n", m->rank, qc_last_error());
+        rc = CLI_USAGE;
+    } else {
+        char mine[HASH_LEN] = "";
+        snprintf(mine, sizeof mine, "%s", qc_scenario_hash(sc));
+        MPI_Gather(mine, HASH_LEN, MPI_CHAR, hashes, HASH_LEN, MPI_CHAR, 0, MPI_COMM_WORLD);
+        int same = 1;
+        if (m->rank == 0)
+            for (int r = 1; r < m->size; r++)
+                if (strncmp(hashes, hashes + (size_t)r * HASH_LEN, HASH_LEN) != 0) {
+                    fprintf(stderr,
+                            "quantcap: error: sweep: rank %d read another scenario (hash %.20s; "
+                            "rank 0 has %.20s): every process must see the same file and "
+                            "--set options\n",
+                            r, hashes + (size_t)r * HASH_LEN, hashes);
+                    same = 0;
+                    break;
+                }
+        MPI_Bcast(&same, 1, MPI_INT, 0, MPI_COMM_WORLD);
+        rc = same ? 0 : CLI_USAGE;
+    }
+    int jobs = (int)m->jobs;
+    MPI_Gather(&jobs, 1, MPI_INT, m->remote_threads, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    /* the other ranks ask for work only when all agreed */
+    if (m->rank == 0 && rc == 0)
+        for (int r = 1; r < m->size; r++)
+            m->remote_active += (size_t)m->remote_threads[r];
+    free(oks);
+    free(hashes);
+    return rc;
+}
+
+/* A short sleep between polls of the link. */
+static void nap(void)
+{
+    struct timespec pause = {0, 100000}; /* 0.1 ms */
+    nanosleep(&pause, NULL);
+}
+
+static void fail_rank(const cli_mpi *m, const char *what)
+{
+    fprintf(stderr, "quantcap: error: rank %d: %s\n", m->rank, what);
+    MPI_Abort(MPI_COMM_WORLD, CLI_NUMERIC);
+}
+
+int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
+{
+    if (qc_sweep_worker_alloc(sc, &m->worker) != QC_OK)
+        fail_rank(m, qc_last_error());
+    unsigned threads = m->jobs;
+    (void)threads;
+    OMP(omp parallel num_threads(threads))
+    {
+        int64_t done = -1, next = -1;
+        char *text = NULL;
+        for (;;) {
+            size_t len = text ? strlen(text) : 0;
+            char *msg = malloc(sizeof done + len);
+            if (!msg)
+                fail_rank(m, "out of memory");
+            memcpy(msg, &done, sizeof done);
+            if (len)
+                memcpy(msg + sizeof done, text, len);
+            OMP(omp critical(cli_mpi_link))
+            {
+                MPI_Send(msg, (int)(sizeof done + len), MPI_BYTE, 0, TAG_ASK, MPI_COMM_WORLD);
+                /* wait for the answer asleep, not in a busy MPI_Recv: ranks
+                 * may share their cores with others */
+                MPI_Request req;
+                MPI_Irecv(&next, (int)sizeof next, MPI_BYTE, 0, TAG_POINT, MPI_COMM_WORLD, &req);
+                for (int got = 0;;) {
+                    MPI_Test(&req, &got, MPI_STATUS_IGNORE);
+                    if (got)
+                        break;
+                    nap();
+                }
+            }
+            free(msg);
+            free(text);
+            text = NULL;
+            if (next < 0)
+                break;
+            if (qc_sweep_worker_run(m->worker, (size_t)next, &text) != QC_OK)
+                fail_rank(m, qc_last_error());
+            done = next;
+        }
+    }
+    return 0;
+}
+
+/* What rank 0's threads share while the executor runs. */
+typedef struct {
+    cli_mpi *m;
+    const size_t *todo;
+    size_t ntodo, next; /* todo[next] is the next point to hand out       */
+    int stop;           /* the sweep stopped: hand out no more            */
+    qc_sweep_deliver_fn deliver;
+    void *ctx;
+} dispatch;
+
+/* The next point to compute, or -1: none left, or the sweep stopped. */
+static int64_t claim(dispatch *d)
+{
+    int64_t i = -1;
+    OMP(omp critical(cli_mpi_claim))
+    {
+        if (!d->stop && d->next < d->ntodo)
+            i = (int64_t)d->todo[d->next++];
+    }
+    return i;
+}
+
+static void give_back(dispatch *d, size_t index, const char *text)
+{
+    if (d->deliver(d->ctx, index, text) != QC_OK) {
+        OMP(omp critical(cli_mpi_claim))
+        d->stop = 1;
+    }
+}
+
+/* Answer the other ranks' requests until each of their threads has been
+ * told to stop. Polls, sleeping briefly when nothing waits, so that the
+ * serving thread leaves the cores to the computing ones. */
+static void serve(dispatch *d)
+{
+    cli_mpi *m = d->m;
+    while (m->remote_active > 0) {
+        int flag = 0;
+        MPI_Status status;
+        MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &status);
+        if (!flag) {
+            nap();
+            continue;
+        }
+        int count = 0;
+        MPI_Get_count(&status, MPI_BYTE, &count);
+        char *msg = malloc((size_t)count + 1);
+        if (!msg || (size_t)count < sizeof(int64_t)) {
+            fprintf(stderr, "quantcap: error: %s from rank %d\n",
+                    msg ? "a request too short" : "out of memory for a record", status.MPI_SOURCE);
+            MPI_Abort(MPI_COMM_WORLD, CLI_NUMERIC);
+        }
+        MPI_Recv(msg, count, MPI_BYTE, status.MPI_SOURCE, TAG_ASK, MPI_COMM_WORLD,
+                 MPI_STATUS_IGNORE);
+        msg[count] = '\0';
+        int64_t done;
+        memcpy(&done, msg, sizeof done);
+        /* the asking thread gets its next point before its record is
+         * checkpointed, so that it never waits for the disk */
+        int64_t next = d->deliver ? claim(d) : -1;
+        MPI_Send(&next, (int)sizeof next, MPI_BYTE, status.MPI_SOURCE, TAG_POINT,
+                 MPI_COMM_WORLD);
+        if (next < 0)
+            m->remote_active--;
+        if (done >= 0 && d->deliver)
+            give_back(d, (size_t)done, msg + sizeof done);
+        free(msg);
+    }
+}
+
+qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
+                          qc_sweep_deliver_fn deliver, void *ctx, char *msg, size_t cap)
+{
+    cli_mpi *m = user;
+    dispatch d = {.m = m, .todo = todo, .ntodo = ntodo, .deliver = deliver, .ctx = ctx};
+    if (!m->worker && qc_sweep_worker_alloc(m->sc, &m->worker) != QC_OK) {
+        snprintf(msg, cap, "%s", qc_last_error());
+        dispatch none = {.m = m};
+        serve(&none); /* the other ranks wait for an answer */
+        return QC_ENOMEM;
+    }
+    qc_status failed = QC_OK;
+    unsigned threads = 1 + m->jobs; /* the server, and the computing threads */
+    (void)threads;
+    OMP(omp parallel num_threads(threads))
+    {
+#ifdef _OPENMP
+        int id = omp_get_thread_num();
+#else
+        int id = 0;
+#endif
+        if (id == 0) {
+            serve(&d);
+        } else {
+            for (int64_t i; (i = claim(&d)) >= 0;) {
+                char *text = NULL;
+                qc_status st = qc_sweep_worker_run(m->worker, (size_t)i, &text);
+                if (st != QC_OK) {
+                    OMP(omp critical(cli_mpi_claim))
+                    {
+                        if (failed == QC_OK) {
+                            failed = st;
+                            snprintf(msg, cap, "%s", qc_last_error());
+                        }
+                        d.stop = 1;
+                    }
+                } else {
+                    give_back(&d, (size_t)i, text);
+                }
+                free(text);
+            }
+        }
+    }
+    return failed;
+}
+
+int cli_mpi_end(cli_mpi *m, int rc)
+{
+    if (m->rank == 0) {
+        dispatch d = {.m = m}; /* no deliver: every request is told to stop */
+        serve(&d);
+    }
+    MPI_Bcast(&rc, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    qc_sweep_worker_free(m->worker);
+    free(m->remote_threads);
+    memset(m, 0, sizeof *m);
+    MPI_Finalize();
+    return rc;
+}
+#endif
