@@ -14,6 +14,7 @@
 #include <unistd.h>
 
 #define MAX_SETS 64
+#define ERROR_EXIT_DELAY_S 2 /* see cmd_sweep */
 
 static const cli_opt sweep_options[] = {
     {"output-dir", "DIR", "folder for the results (default out/NAME, NAME = the file's stem)"},
@@ -92,6 +93,12 @@ int cmd_sweep(int argc, char **argv)
     int saved = mute(launched, first);
     int rc = sweep_main(argc, argv, launched, first, &saved);
     unmute(saved);
+    /* A rank after the first that stops on the options (before MPI is up)
+     * waits before it exits: the launcher tears the job down at the first
+     * non-zero exit, which must not come before the first rank has said
+     * why. */
+    if (rc != 0 && launched > 1 && !first && saved >= 0)
+        sleep(ERROR_EXIT_DELAY_S);
     return rc;
 }
 
