@@ -289,7 +289,10 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
                              const char *unit)
 {
     const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
-    fprintf(f, "\nthresholds (%s) ", unit);
+    if (r->converter)
+        fprintf(f, "\ntransitions (full scale) ");
+    else
+        fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
         int d = counts ? 0 : threshold_digits(m, r, t);
@@ -304,6 +307,37 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
         fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
                    "that carries probability has its own cell",
                 r->nthresholds + 1, r->cells);
+}
+
+/* The converter as used: ENOB, full scale, gain and offset, its own
+ * noise, and the spread of the rate over DNL/INL draws. */
+static void print_converter(FILE *f, const qc_design_request *req, const qc_design_result *r)
+{
+    static const char *const rule[] = {"given", "best for the objective", "AGC rule"};
+    const qc_converter *c = req->quantizer.converter;
+    fprintf(f, "\nconverter    ENOB %.4g bits (SINAD %.3f dB, full-scale sine)", r->enob,
+            r->sinad_db);
+    if (c) {
+        fprintf(f, ", full scale %.6g to %.6g", c->full_scale_lo, c->full_scale_hi);
+        if (c->jitter_s > 0.0)
+            fprintf(f, ", jitter %.4g s rms at %.4g Hz", c->jitter_s, c->signal_freq);
+        if (c->transitions)
+            fprintf(f, ", measured transition levels");
+        else if (c->dnl_lsb > 0.0 || c->inl_lsb > 0.0)
+            fprintf(f, ", DNL %.3g LSB, INL %.3g LSB peak (seed %lu)", c->dnl_lsb, c->inl_lsb,
+                    c->seed);
+        fprintf(f, "\n             gain %.6g (%s", r->gain, rule[c->gain_mode]);
+        if (c->gain_mode == QC_GAIN_AGC)
+            fprintf(f, ", K = %.4g", c->agc_k);
+        fprintf(f, "), offset %.6g (%s)", r->offset,
+                c->offset_best ? "best" : isnan(c->offset) ? "mean at mid-scale" : "given");
+    }
+    fprintf(f, "\n             own noise %.4g rms at the converter input (ENOB and jitter)",
+            r->converter_noise_rms);
+    if (r->draws > 1)
+        fprintf(f, "\ndraws        %zu DNL/INL draws: mean rate %.6f bit, sd %.3g, 95 %% "
+                   "interval of the mean +/- %.3g (Student t); figures below: draw 1",
+                r->draws, r->draws_mean_bits, r->draws_sd_bits, r->draws_ci95_bits);
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
@@ -326,6 +360,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
+    if (r->converter)
+        print_converter(f, req, r);
     fprintf(f, "\nobjective    %s\n\n",
             req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"

@@ -527,6 +527,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         st = qc_fail(QC_EINVAL, "quantizer fixed needs 'thresholds'");
         goto fail;
     }
+    if ((st = qc_settings_converter(s, req)) != QC_OK)
+        goto fail;
     if ((v = qc_settings_get(s, "fine-cells"))) {
         if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->numerics.fine_cells)) != QC_OK) {
             st = qc_fail(st, "fine-cells: %s", qc_last_error());
