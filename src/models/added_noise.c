@@ -114,14 +114,26 @@ static qc_status grid_build(const noise_state *s, double x, level_grid *g)
         goto done;
     }
     /* cell masses of the law, each from the tail where it does not cancel */
-    double prev_b = b->type->below(b, x, lo), prev_a = b->type->above(b, x, lo);
+    double prev_b = b->type->below(b, x, lo), prev_a = NAN;
     for (size_t i = 0; i < n; i++) {
-        double t = lo + (double)(i + 1) * h;
-        double cb = b->type->below(b, x, t), ca = b->type->above(b, x, t);
-        double v = cb < 0.5 ? cb - prev_b : prev_a - ca;
+        double t = lo + (double)(i + 1) * h, v;
+        if (isnan(prev_a)) { /* the lower half: P(Y < t) differences */
+            double cb = b->type->below(b, x, t);
+            if (cb < 0.5) {
+                v = cb - prev_b;
+                prev_b = cb;
+            } else { /* from here on the upper tail: P(Y >= t) differences */
+                prev_a = b->type->above(b, x, t - h);
+                double ca = b->type->above(b, x, t);
+                v = prev_a - ca;
+                prev_a = ca;
+            }
+        } else {
+            double ca = b->type->above(b, x, t);
+            v = prev_a - ca;
+            prev_a = ca;
+        }
         m[i] = v > 0.0 ? v : 0.0;
-        prev_b = cb;
-        prev_a = ca;
     }
     /* masses of the Gaussian on cells of width h centred on 0, ±h, …, its
      * variance less the h²/12 that the cells' centres add */
