@@ -94,7 +94,7 @@ qc_status qc_settings_converter(qc_settings *s, qc_design_request *req)
             return qc_fail(QC_EINVAL, "sinad-db: %g dB is %g effective bits (must be > 0)", sinad,
                            c->enob);
     }
-    if (qc_settings_get(s, "signal-freq") && !(c->jitter_s > 0.0))
+    if (qc_settings_get(s, "signal-freq") && !qc_settings_get(s, "jitter-s"))
         return qc_fail(QC_EINVAL, "'signal-freq' goes with 'jitter-s' (it rates the jitter)");
     if (!isnan(seed))
         c->seed = (unsigned long)seed;
