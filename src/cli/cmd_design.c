@@ -288,14 +288,15 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
 {
-    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
+    /* a converter's transition levels are real numbers in full-scale units */
+    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS && !r->converter;
     if (r->converter)
         fprintf(f, "\ntransitions (full scale) ");
     else
         fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
-        int d = counts ? 0 : threshold_digits(m, r, t);
+        int d = counts || r->converter ? 0 : threshold_digits(m, r, t);
         if (counts || t == 0.0 || d < 0)
             fprintf(f, "%s%.0f", j ? ", " : " ", d < 0 ? 0.0 : t);
         else if (d > 0)

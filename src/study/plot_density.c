@@ -164,7 +164,7 @@ qc_status plot_density(plot_ctx *ctx)
     pllsty(2);
     plwidth(1.0);
     for (size_t j = 0; j < nth; j++) {
-        double t = counts ? th[j] - 0.5 : th[j];
+        double t = counts && !isfinite(gain) ? th[j] - 0.5 : th[j];
         double tx[2] = {t, t}, ty[2] = {0.0, 1.08 * peak};
         if (t >= x0 && t <= x1)
             plline(2, tx, ty);
