@@ -28,6 +28,7 @@
 #define SIMPLEX_OFFSET 0.02   /* and offset, as a share of the full scale    */
 #define SIMPLEX_SIZE 1e-5     /* stop when the simplex is this small         */
 #define SIMPLEX_ITER 300
+#define SIMPLEX_SNAP 1e-4    /* offsets this close (share of the full scale) */
 
 typedef struct {
     const qc_design_request *req;
@@ -206,6 +207,14 @@ static qc_status best_gain(conv_ctx *x, double *g_out, double *o_out)
         const gsl_vector *xb = gsl_multimin_fminimizer_x(m);
         g0 = exp(gsl_vector_get(xb, 0));
         o0 = b.free_offset ? b.width * gsl_vector_get(xb, 1) : b.offset;
+    }
+    /* the simplest offset near the simplex's (0 for a symmetric signal),
+     * when it rates no lower: the same setting on every machine */
+    if (b.free_offset) {
+        double os = qc_simplest_within(o0, SIMPLEX_SNAP * b.width), r0, r1;
+        if (os != o0 && rate_only(x, g0, o0, &r0) == QC_OK &&
+            rate_only(x, g0, os, &r1) == QC_OK && r1 >= r0)
+            o0 = os;
     }
     *g_out = g0;
     *o_out = o0;
