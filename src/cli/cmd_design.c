@@ -78,7 +78,11 @@ static void help(const cli_args *a)
            "Details: docs/alphabets.md.\n\n"
            "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
            "grid then gradient refinement), uniform (clipping range optimized),\n"
-           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
+           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated),\n"
+           "converter (a real ADC: --full-scale LO,HI with --enob or --sinad-db,\n"
+           "--jitter-s and --signal-freq, --dnl-lsb/--inl-lsb with --seed and --draws,\n"
+           "or --transitions FILE; --converter-gain G|best|agc:K, --converter-offset\n"
+           "O|best; all 2^bits codes are rated; docs/models.md).\n\n"
            "options:\n");
     cli_print_options(a, stdout);
 }
