@@ -1,6 +1,7 @@
 #!/bin/sh
 # valgrind.sh — run the command line under valgrind memcheck: one `design`
-# (every threshold strategy side by side, JSON to a file), one `require`
+# (every threshold strategy side by side, JSON to a file), one converter
+# design (FFTW added noise, DNL draws, AGC gain), one `require`
 # (a root search with the FEC table and the design at the root), one APD design
 # (FFTW) and one `sweep` (tests/valgrind_sweep.ini: 8 points on two threads,
 # with a plot); fails on any memory error or leak.
@@ -63,6 +64,9 @@ memcheck require require --model gauss --snr-db 12 --alphabet pam:4 --bits 2 \
     --symbol-rate 32e9 --target fec=kp4 --solve-for snr-db --json --output "$work/require.json"
 memcheck design-apd design --model apd --signal 50 --apd-gain 10 --apd-k 0.02 \
     --sigma-th 30 --levels 0,1 --bits 2 --json --output "$work/apd.json"
+memcheck design-converter design --model preamp --modes 2 --levels 0,10 --bits 3 \
+    --full-scale -2,30 --enob 2.5 --dnl-lsb 0.3 --draws 2 --converter-gain agc:2 \
+    --json --output "$work/converter.json"
 memcheck sweep sweep "$here/valgrind_sweep.ini" --output-dir "$work/sweep" --jobs 2 --quiet
 
 echo "valgrind: $passed passed, $failed failed"

@@ -81,7 +81,11 @@ static void help(const cli_args *a)
            "Details: docs/alphabets.md.\n\n"
            "strategies: optimal (default; MI-optimal, dynamic programming on a fine\n"
            "grid then gradient refinement), uniform (clipping range optimized),\n"
-           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated).\n\n"
+           "lloyd-max (minimum mean-square error), fixed (--thresholds, evaluated),\n"
+           "converter (a real ADC: --full-scale LO,HI with --enob or --sinad-db,\n"
+           "--jitter-s and --signal-freq, --dnl-lsb/--inl-lsb with --seed and --draws,\n"
+           "or --transitions FILE; --converter-gain G|best|agc:K, --converter-offset\n"
+           "O|best; all 2^bits codes are rated; docs/models.md).\n\n"
            "options:\n");
     cli_print_options(a, stdout);
 }
@@ -264,11 +268,15 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
 {
-    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS;
-    fprintf(f, "\nthresholds (%s) ", unit);
+    /* a converter's transition levels are real numbers in full-scale units */
+    const int counts = qc_model_get_type(m)->output == QC_OUTPUT_COUNTS && !r->converter;
+    if (r->converter)
+        fprintf(f, "\ntransitions (full scale) ");
+    else
+        fprintf(f, "\nthresholds (%s) ", unit);
     for (size_t j = 0; j < r->nthresholds; j++) {
         double t = r->thresholds[j];
-        int d = counts ? 0 : threshold_digits(m, r, t);
+        int d = counts || r->converter ? 0 : threshold_digits(m, r, t);
         if (counts || t == 0.0 || d < 0)
             fprintf(f, "%s%.0f", j ? ", " : " ", d < 0 ? 0.0 : t);
         else if (d > 0)
@@ -280,6 +288,37 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
         fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
                    "that carries probability has its own cell",
                 r->nthresholds + 1, r->cells);
+}
+
+/* The converter as used: ENOB, full scale, gain and offset, its own
+ * noise, and the spread of the rate over DNL/INL draws. */
+static void print_converter(FILE *f, const qc_design_request *req, const qc_design_result *r)
+{
+    static const char *const rule[] = {"given", "best for the objective", "AGC rule"};
+    const qc_converter *c = req->quantizer.converter;
+    fprintf(f, "\nconverter    ENOB %.4g bits (SINAD %.3f dB, full-scale sine)", r->enob,
+            r->sinad_db);
+    if (c) {
+        fprintf(f, ", full scale %.6g to %.6g", c->full_scale_lo, c->full_scale_hi);
+        if (c->jitter_s > 0.0)
+            fprintf(f, ", jitter %.4g s rms at %.4g Hz", c->jitter_s, c->signal_freq);
+        if (c->transitions)
+            fprintf(f, ", measured transition levels");
+        else if (c->dnl_lsb > 0.0 || c->inl_lsb > 0.0)
+            fprintf(f, ", DNL %.3g LSB, INL %.3g LSB peak (seed %lu)", c->dnl_lsb, c->inl_lsb,
+                    c->seed);
+        fprintf(f, "\n             gain %.6g (%s", r->gain, rule[c->gain_mode]);
+        if (c->gain_mode == QC_GAIN_AGC)
+            fprintf(f, ", K = %.4g", c->agc_k);
+        fprintf(f, "), offset %.6g (%s)", r->offset,
+                c->offset_best ? "best" : isnan(c->offset) ? "mean at mid-scale" : "given");
+    }
+    fprintf(f, "\n             own noise %.4g rms at the converter input (ENOB and jitter)",
+            r->converter_noise_rms);
+    if (r->draws > 1)
+        fprintf(f, "\ndraws        %zu DNL/INL draws: mean rate %.6f bit, sd %.3g, 95 %% "
+                   "interval of the mean +/- %.3g (Student t); figures below: draw 1",
+                r->draws, r->draws_mean_bits, r->draws_sd_bits, r->draws_ci95_bits);
 }
 
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
@@ -305,6 +344,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (r->decisions_kept)
         fprintf(f, ", keeps the %zu MAP decision boundar%s", r->decisions_kept,
                 r->decisions_kept == 1 ? "y" : "ies");
+    if (r->converter)
+        print_converter(f, req, r);
     fprintf(f, "\nobjective    %s\n\n",
             r->ppm_slots ? "capacity of the pulse-position symbol channel"
             : req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"

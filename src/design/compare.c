@@ -28,11 +28,13 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
         return st;
     static const qc_quantizer_kind order[] = {
         QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
-        QC_QUANTIZER_FIXED};
+        QC_QUANTIZER_FIXED, QC_QUANTIZER_CONVERTER};
     qc_status first = QC_OK;
     const char *first_msg = "";
     for (size_t i = 0; i < sizeof order / sizeof order[0]; i++) {
         if (order[i] == QC_QUANTIZER_FIXED && !with_fixed)
+            continue;
+        if (order[i] == QC_QUANTIZER_CONVERTER && !req->quantizer.converter)
             continue;
         qc_design_request one = *req;
         one.quantizer.kind = order[i];

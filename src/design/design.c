@@ -165,6 +165,31 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
 qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
                                size_t ncosts, qc_design_result *res)
 {
+    if (req && req->quantizer.kind == QC_QUANTIZER_CONVERTER)
+        return qc_design_converter(req, costs, ncosts, res);
+    qc_status st = qc_design_thresholds_only(req, costs, ncosts, res);
+    if (st != QC_OK)
+        return st;
+    /* The unquantized reference for the same levels and final law. */
+    qc_design_result r = *res;
+    double unq, unq_err;
+    st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, r.nlevels, &unq,
+                                  &unq_err, &r.noiseless_limit);
+    if (st != QC_OK) {
+        qc_design_result_clear(res);
+        return st;
+    }
+    r.unquantized_bits = unq * QC_LOG2E;
+    r.unquantized_err_bits = unq_err * QC_LOG2E;
+    r.loss_bits = r.unquantized_bits - r.rate_bits;
+    r.snr_db = qc_model_snr_db(req->channel.model, r.levels, r.input, r.nlevels);
+    *res = r;
+    return QC_OK;
+}
+
+qc_status qc_design_thresholds_only(const qc_design_request *req, const qc_cost *costs,
+                                    size_t ncosts, qc_design_result *res)
+{
     qc_gsl_init();
     memset(res, 0, sizeof *res);
     size_t K;
@@ -212,17 +237,6 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
     }
     if (st != QC_OK)
         goto fail;
-
-    /* The unquantized reference for the same levels and final law. */
-    double unq, unq_err;
-    st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, n, &unq, &unq_err,
-                                  &r.noiseless_limit);
-    if (st != QC_OK)
-        goto fail;
-    r.unquantized_bits = unq * QC_LOG2E;
-    r.unquantized_err_bits = unq_err * QC_LOG2E;
-    r.loss_bits = r.unquantized_bits - r.rate_bits;
-    r.snr_db = qc_model_snr_db(req->channel.model, r.levels, r.input, n);
     /* the SNR penalty: qc_design_settle, once the rates are final */
     r.snr_penalty_note = QC_PENALTY_SKIPPED;
     *res = r;

@@ -22,6 +22,24 @@
 qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
                                size_t ncosts, qc_design_result *res);
 
+/* The same without the unquantized reference (unquantized_bits,
+ * unquantized_err_bits, loss_bits, noiseless_limit and snr_db are left
+ * zero or NaN): for designs that rate many quantizers of one channel. */
+qc_status qc_design_thresholds_only(const qc_design_request *req, const qc_cost *costs,
+                                    size_t ncosts, qc_design_result *res);
+
+/* ---- converter.c -------------------------------------------------------- */
+
+/* qc_design_thresholds for QC_QUANTIZER_CONVERTER: the converter's noise
+ * added to the model's (qc_model_add_noise), its transition levels
+ * referred to the receiver output through the gain and offset (given,
+ * best for the objective, or the AGC rule), for each DNL/INL draw; the
+ * result is the first draw's, with the converter fields and the draws'
+ * mean and spread. The unquantized reference is the model's own (the
+ * converter's noise counts as quantizer loss). */
+qc_status qc_design_converter(const qc_design_request *req, const qc_cost *costs,
+                              size_t ncosts, qc_design_result *res);
+
 /* Check a request; *cells receives K. `fixed` says whether thresholds
  * must be given and checked. The message names the field. */
 qc_status qc_design_check_request(const qc_design_request *req, int fixed, size_t *cells);

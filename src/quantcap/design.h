@@ -131,6 +131,10 @@ typedef struct {
                                     regions (MI and GMI objectives; the
                                     rate is that of the moved thresholds).
                                     qc_require sets it for BER targets   */
+    const struct qc_converter *converter; /* QC_QUANTIZER_CONVERTER: the
+                                    converter (quantcap/quantizer.h; cells
+                                    2^N); with another kind, `design
+                                    --compare` adds it to the comparison */
 } qc_design_quantizer;
 
 /* The input: the objective, the input law and what constrains it. */
@@ -311,6 +315,24 @@ typedef struct {
     double hard_fire_off;        /* P(an empty slot fires)                  */
     double hard_erasure;         /* P(erasure: none or several fire)        */
     double hard_error;           /* P(one wrong slot fires alone)           */
+    /* The converter (QC_QUANTIZER_CONVERTER; src/design/converter.c): the
+     * thresholds above are then its transition levels, in full-scale
+     * units, compared with gain·y + offset of the receiver output y, and
+     * the rates are those of the first draw of its DNL/INL. */
+    int converter;               /* 1: the fields below are set             */
+    unsigned converter_bits;     /* nominal bits N                          */
+    double enob;                 /* effective bits used (N: ideal)          */
+    double sinad_db;             /* 6.02·ENOB + 1.76 (exact constants)      */
+    double gain, offset;         /* as used (chosen: best, agc)             */
+    double converter_noise_rms;  /* own noise at the converter input, full-
+                                    scale units (ENOB and jitter)          */
+    size_t draws;                /* DNL/INL draws rated (1: no spread)      */
+    double draws_mean_bits;      /* mean rate over the draws               */
+    double draws_sd_bits;        /* their sample standard deviation (NaN
+                                    for one draw)                          */
+    double draws_ci95_bits;      /* half-width of the 95 % confidence
+                                    interval of the mean (Student t; NaN
+                                    for one draw)                          */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
@@ -328,8 +350,9 @@ QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 QC_API void qc_design_result_clear(qc_design_result *res);
 
 /* All strategies on the same channel (`design --compare`): uniform,
- * Lloyd–Max, optimal, and fixed when the request has thresholds. */
-#define QC_COMPARE_MAX 4
+ * Lloyd–Max, optimal, fixed when the request has thresholds, and the
+ * converter when it has one (quantizer.converter). */
+#define QC_COMPARE_MAX 5
 typedef struct {
     size_t count;                         /* strategies run                  */
     qc_quantizer_kind kind[QC_COMPARE_MAX];

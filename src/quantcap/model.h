@@ -53,6 +53,10 @@ enum {
     /* the model is read from a file of measured densities (its levels come
      * from the file; qc_model_table_load) instead of qc_model_alloc */
     QC_MODEL_FROM_FILE = 1u << 2,
+    /* given x the output is Gaussian with the mean and variance of the
+     * type's `moments` (gauss, gauss-sd, apd-gauss): added Gaussian noise
+     * only adds to that variance (qc_model_add_noise) */
+    QC_MODEL_GAUSSIAN_LAW = 1u << 3,
 };
 
 /* The physical receiver whose quantities a model's parameters can be
@@ -217,6 +221,18 @@ QC_API qc_status qc_model_table_parse(const char *text, size_t len, const char *
  * *nlevels are unchanged. */
 QC_API qc_status qc_model_table_levels(const qc_model *model, const double **levels,
                                 size_t *nlevels);
+
+/* A model whose output is `base`'s plus independent Gaussian noise of
+ * standard deviation sigma (>= 0, in the base's output units): a
+ * converter's own input-referred noise (quantcap/quantizer.h). Exact for
+ * QC_MODEL_GAUSSIAN_LAW types (the variances add) and for count outputs
+ * (a sum over the counts); other continuous laws are convolved with the
+ * Gaussian on a grid by FFTW (docs/models.md says on which grid). The new
+ * model borrows `base` (it must outlive it), has continuous output (also
+ * over a count law), the base's levels, units and moments plus sigma², and
+ * no SNR of its own. QC_EINVAL for a NULL base or a negative or
+ * non-finite sigma, QC_ENOMEM; on failure *out is NULL. */
+QC_API qc_status qc_model_add_noise(const qc_model *base, double sigma, qc_model **out);
 
 #ifdef __cplusplus
 }

@@ -79,6 +79,7 @@ typedef enum {
     QC_QUANTIZER_FIXED,       /* thresholds given by the caller, evaluated  */
     QC_QUANTIZER_LLOYD_MAX,   /* minimum mean-square error (Lloyd, Max)     */
     QC_QUANTIZER_OPTIMAL,     /* MI-optimal: DP on a fine grid + refinement */
+    QC_QUANTIZER_CONVERTER,   /* a real converter: qc_converter below       */
     QC_QUANTIZER_COUNT
 } qc_quantizer_kind;
 
@@ -119,6 +120,9 @@ QC_API extern const qc_threshold_strategy qc_strategy_uniform;
 QC_API extern const qc_threshold_strategy qc_strategy_fixed;
 QC_API extern const qc_threshold_strategy qc_strategy_lloyd_max;
 QC_API extern const qc_threshold_strategy qc_strategy_optimal;
+/* The converter's transition levels, referred to the receiver output
+ * through its gain and offset (given, like fixed; qc_converter). */
+QC_API extern const qc_threshold_strategy qc_strategy_converter;
 
 /* The strategy of a quantizer kind; NULL for values out of range (no
  * message). */
@@ -245,6 +249,91 @@ QC_API size_t qc_keep_boundaries(const qc_model *model, const double *b, size_t 
 QC_API size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,
                        size_t cells);
 
+
+/* ---- real converters (converter.c) --------------------------------- */
+
+/* How the gain and offset ahead of the converter are set. */
+typedef enum {
+    QC_GAIN_FIXED = 0, /* as given                                        */
+    QC_GAIN_BEST,      /* chosen by the design for its objective (what an
+                          ideal AGC would set)                            */
+    QC_GAIN_AGC,       /* gain: K times the rms of the receiver output about
+                          its mean fills half the full scale; offset: the
+                          mean at mid-scale (unless the offset is given)   */
+} qc_gain_mode;
+
+/* A converter of 2^N codes (N from the request's cells, a power of two)
+ * in the terms of IEEE Std 1241: the receiver output y is amplified,
+ * v = gain·y + offset, the converter adds its own input-referred noise
+ * and compares v with its 2^N − 1 transition levels. Units of v: those of
+ * the full scale (the receiver output's when gain is 1). */
+typedef struct qc_converter {
+    double full_scale_lo, full_scale_hi; /* full-scale range, lo < hi     */
+    double enob;          /* effective bits, <= N (NaN: N, no noise)     */
+    double jitter_s;      /* aperture jitter, rms seconds (>= 0)         */
+    double signal_freq;   /* frequency of the full-scale sine the jitter
+                             is rated at, Hz (> 0 with jitter)           */
+    double dnl_lsb;       /* peak random DNL, LSB in [0, 1)              */
+    double inl_lsb;       /* peak random INL bow, LSB (>= 0)             */
+    unsigned long seed;   /* of the DNL/INL draws                        */
+    size_t draws;         /* Monte-Carlo draws of DNL/INL (0 or 1: one)  */
+    const double *transitions; /* measured transition levels (NULL: from
+                             the full scale, DNL and INL); 2^N − 1 of them */
+    size_t ntransitions;
+    qc_gain_mode gain_mode;
+    double gain;          /* QC_GAIN_FIXED: the gain (> 0)               */
+    double agc_k;         /* QC_GAIN_AGC: K (> 0)                        */
+    int offset_best;      /* 1: the offset is chosen with the gain (best) */
+    double offset;        /* the offset (fixed gain or AGC; NaN with AGC:
+                             the mean at mid-scale)                      */
+} qc_converter;
+
+/* An ideal converter on [lo, hi]: ENOB = N, no jitter, no DNL/INL,
+ * gain 1, offset 0, one draw, seed 1. Never fails. */
+QC_API void qc_converter_default(qc_converter *c, double lo, double hi);
+
+/* Check a converter of `bits` nominal bits. QC_EINVAL naming the field
+ * and value: full scale of zero width or reversed, ENOB above the
+ * nominal bits or not positive, negative jitter, jitter without a signal
+ * frequency, DNL of 1 LSB or more (a code of zero width: a missing code),
+ * negative INL, a gain or AGC factor not > 0, a transition-level list of
+ * the wrong length or not increasing (naming the level). Reads only. */
+QC_API qc_status qc_converter_check(const qc_converter *c, unsigned bits);
+
+/* Variance of the converter's own noise at its input (units of the full
+ * scale squared), from the ENOB and the jitter, IEEE Std 1241's
+ * full-scale sine equivalences: with A the full-scale amplitude (hi −
+ * lo)/2, SINAD = 10·log10((A²/2)/P_nad) = 6.02·ENOB + 1.76 dB (exact
+ * constants 20·log10 2 and 10·log10 1.5) less the ideal quantization
+ * noise Δ²/12 of N bits, plus the jitter noise (A²/2)·(2π f σ_t)². 0 for
+ * an ideal converter. The converter must pass qc_converter_check. */
+QC_API double qc_converter_noise_var(const qc_converter *c, unsigned bits);
+
+/* SINAD in dB of a full-scale sine for an ENOB (6.02·ENOB + 1.76 with
+ * the exact constants) and its inverse. Never fail. */
+QC_API double qc_enob_to_sinad_db(double enob);
+QC_API double qc_sinad_db_to_enob(double sinad_db);
+
+/* The 2^bits − 1 transition levels (into T, in full-scale units) of draw
+ * `draw` (0-based) of the converter: the measured list when it has one;
+ * else ideal levels lo + k·Δ, Δ = (hi − lo)/2^bits, with code widths
+ * Δ·(1 + d_k), d_k uniform on [−DNL, DNL], plus an INL bow of peak INL
+ * (a random mix of sin(πu) and sin(2πu) over the codes), drawn with the
+ * GSL Mersenne twister seeded from seed and draw. QC_EINVAL when a draw
+ * comes out non-increasing (INL too steep for the DNL, naming the level),
+ * QC_ENOMEM; on failure T is unspecified. */
+QC_API qc_status qc_converter_transitions(const qc_converter *c, unsigned bits, size_t draw,
+                                          double *T);
+
+/* Read a transition-level file: one level per line (a number; blank
+ * lines and lines starting with '#' are skipped), strictly increasing.
+ * QC_EFORMAT naming the file and line of a word that is not a number or
+ * a level not above the one before (QC_EIO: the path). On success *out
+ * (owned, free()) holds *n levels; on failure *out is NULL. */
+QC_API qc_status qc_converter_transitions_load(const char *path, double **out, size_t *n);
+/* The same from text in memory; `name` is used in messages. */
+QC_API qc_status qc_converter_transitions_parse(const char *text, size_t len,
+                                                const char *name, double **out, size_t *n);
 
 #ifdef __cplusplus
 }

@@ -1,8 +1,9 @@
 /* strategy.c — the threshold strategies as one constant table, as the
  * noise models have theirs: uniform (full-scale range optimized for the
  * rate), fixed (thresholds given), Lloyd–Max (minimum mean-square error;
- * Lloyd 1982, Max 1960) and optimal (MI-optimal: dynamic programming on a
- * fine grid, then gradient refinement). A plan holds what a strategy
+ * Lloyd 1982, Max 1960), optimal (MI-optimal: dynamic programming on a
+ * fine grid, then gradient refinement) and converter (a real converter's
+ * transition levels referred to the receiver output, converter.c). A plan holds what a strategy
  * builds once per channel and reuses for every law it is asked to design
  * for (the rate workspace of the uniform search, the fine grid of the
  * optimal one), so that alternating designs of law and thresholds do not
@@ -90,7 +91,7 @@ static qc_status fixed_design(qc_strategy_plan *p, const double *input, int warm
     (void)warm;
     (void)stats;
     if (!p->given)
-        return qc_fail(QC_EINVAL, "the fixed quantizer needs thresholds");
+        return qc_fail(QC_EINVAL, "the fixed quantizer and the converter need thresholds");
     memcpy(t, p->given, p->nt * sizeof *t);
     return QC_OK;
 }
@@ -186,11 +187,20 @@ const qc_threshold_strategy qc_strategy_optimal = {
     .design = optimal_design,
 };
 
+const qc_threshold_strategy qc_strategy_converter = {
+    .name = "converter",
+    .summary = "a real converter: ENOB, full scale, gain and offset, jitter, DNL/INL",
+    .kind = QC_QUANTIZER_CONVERTER,
+    .given = 1,
+    .design = fixed_design,
+};
+
 static const qc_threshold_strategy *const strategies[QC_QUANTIZER_COUNT] = {
     [QC_QUANTIZER_UNIFORM] = &qc_strategy_uniform,
     [QC_QUANTIZER_FIXED] = &qc_strategy_fixed,
     [QC_QUANTIZER_LLOYD_MAX] = &qc_strategy_lloyd_max,
     [QC_QUANTIZER_OPTIMAL] = &qc_strategy_optimal,
+    [QC_QUANTIZER_CONVERTER] = &qc_strategy_converter,
 };
 
 const qc_threshold_strategy *qc_strategy_of(qc_quantizer_kind kind)
@@ -212,8 +222,8 @@ qc_status qc_quantizer_parse(const char *name, qc_quantizer_kind *out)
             return QC_OK;
         }
     return qc_fail(QC_EINVAL,
-                   "unknown quantizer '%s' (choose optimal, uniform, lloyd-max or "
-                   "fixed)",
+                   "unknown quantizer '%s' (choose optimal, uniform, lloyd-max, "
+                   "fixed or converter)",
                    name ? name : "");
 }
 

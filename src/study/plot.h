@@ -180,5 +180,6 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx); /* plot_rate.c */
 qc_status plot_density(plot_ctx *ctx);      /* plot_density.c */
 qc_status plot_ber_vs_x(plot_ctx *ctx);         /* plot_figures.c */
 qc_status plot_required_vs_bits(plot_ctx *ctx); /* plot_figures.c */
+qc_status plot_required_vs_x(plot_ctx *ctx);    /* the same against x */
 
 #endif

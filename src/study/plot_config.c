@@ -77,7 +77,7 @@ static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, cons
 qc_status sc_compile_plots(qc_scenario *sc)
 {
     static const char *const keys[] = {"format",   "x",       "rate-vs-x",        "rate-vs-bits",
-                                       "ber-vs-x", "density", "required-vs-bits", "size",
+                                       "ber-vs-x", "density", "required-vs-bits", "required-vs-x", "size",
                                        NULL};
     sc_plots *p = &sc->plots;
     p->width = 960;
@@ -90,7 +90,7 @@ qc_status sc_compile_plots(qc_scenario *sc)
         if (sc->axes[i].number && (int)i != p->curve_axis)
             p->x_axis = (int)i;
     sc_section *s = sc_section_find(sc, "plots");
-    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL, *req = NULL;
+    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL, *req = NULL, *reqx = NULL;
     char loc[300];
     for (size_t i = 0; s && i < s->n; i++) {
         const sc_entry *e = &s->entries[i];
@@ -139,6 +139,8 @@ qc_status sc_compile_plots(qc_scenario *sc)
             bvx = e;
         } else if (strcmp(e->key, "required-vs-bits") == 0) {
             req = e;
+        } else if (strcmp(e->key, "required-vs-x") == 0) {
+            reqx = e;
         } else
             return sc_unknown_key(sc, e, "[plots]", sc_closest(e->key, keys));
     }
@@ -228,6 +230,20 @@ qc_status sc_compile_plots(qc_scenario *sc)
         if (p->required_vs_bits && p->bits_axis < 0)
             return qc_fail(QC_EINVAL, "%s: 'required-vs-bits': the sweep has no 'bits' (or "
                                       "'cells') axis",
+                           loc);
+    }
+    if (reqx) {
+        sc_where(sc, reqx->line, loc, sizeof loc);
+        if (parse_bool(reqx->value, &p->required_vs_x) != 0)
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-x': '%s' is not true or false", loc,
+                           reqx->value);
+        if (p->required_vs_x && !sc_section_find(sc, "require"))
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-x': add a [require] section giving "
+                                      "the target and the key to solve for",
+                           loc);
+        if (p->required_vs_x && p->x_axis < 0)
+            return qc_fail(QC_EINVAL, "%s: 'required-vs-x': the sweep has no numeric axis to "
+                                      "draw the required value against",
                            loc);
     }
     sc_section *d = sc_section_find(sc, "density");

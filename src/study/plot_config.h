@@ -22,6 +22,7 @@ typedef struct {
     int ber_vs_x;        /* draw the pre-FEC BER against x               */
     int required_vs_bits;/* draw [require]'s required value against bits */
     int bits_axis;       /* the bits (or cells) axis of required-vs-bits  */
+    int required_vs_x;   /* draw [require]'s required value against x     */
     size_t *bits_at;     /* x-axis value indices for rate vs bits        */
     size_t nbits_at;
     int density;         /* draw the densities of one point              */

@@ -43,6 +43,12 @@ qc_status plot_density(plot_ctx *ctx)
         st = plot_record_array(ctx, rec, QC_REPORT_LEVELS, &lev, &nlev);
     if (st != QC_OK || nlev == 0)
         return st;
+    /* a converter's thresholds are its transition levels, compared with
+     * gain·y + offset: drawn on the receiver output y */
+    double gain = plot_record_number(rec, "gain"), offset = plot_record_number(rec, "offset");
+    if (isfinite(gain) && gain > 0.0 && isfinite(offset))
+        for (size_t j = 0; j < nth; j++)
+            th[j] = (th[j] - offset) / gain;
     const qc_model *m = ctx->model;
     const qc_model_type *type = qc_model_get_type(m);
     int counts = type->output == QC_OUTPUT_COUNTS;
@@ -158,7 +164,7 @@ qc_status plot_density(plot_ctx *ctx)
     pllsty(2);
     plwidth(1.0);
     for (size_t j = 0; j < nth; j++) {
-        double t = counts ? th[j] - 0.5 : th[j];
+        double t = counts && !isfinite(gain) ? th[j] - 0.5 : th[j];
         double tx[2] = {t, t}, ty[2] = {0.0, 1.08 * peak};
         if (t >= x0 && t <= x1)
             plline(2, tx, ty);

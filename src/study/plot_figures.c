@@ -3,7 +3,8 @@
  * against the sweep's x axis, one curve per quantizer resolution, with a
  * hard-decision FEC's threshold as a dashed line; and the answer of a
  * [require] section, the required value of the key solved for against
- * quantizer bits, one curve per alphabet with the unquantized receiver's
+ * quantizer bits (or against the x axis: required SNR against ENOB), one
+ * curve per alphabet with the unquantized receiver's
  * value dashed (the sensitivity curve), the penalty at the target in dB
  * below it. The other dimensions are spread over panels, line styles and
  * files as in the rate figures (plot_layout.c). */
@@ -275,11 +276,13 @@ static void target_words(const qc_target *t, char *out, size_t cap)
         snprintf(out, cap, "target %s %g", figure, t->value);
 }
 
-qc_status plot_required_vs_bits(plot_ctx *ctx)
+/* The required value against sweep axis `axis` (bits, or x). */
+static qc_status required_against(plot_ctx *ctx, int axis)
 {
     const qc_scenario *sc = ctx->sc;
     const sc_plots *p = &sc->plots;
-    const sc_axis *ba = &sc->axes[p->bits_axis];
+    const sc_axis *ba = &sc->axes[axis];
+    const int whole = axis == p->bits_axis; /* ticks at whole bits */
     const char *key = sc->require.solve_for;
     int kax = -1;
     for (size_t k = 0; k < sc->naxes; k++)
@@ -287,7 +290,7 @@ qc_status plot_required_vs_bits(plot_ctx *ctx)
             kax = (int)k;
     size_t nb = ba->n, na = sc->nalphabets;
     int used[QC_SCENARIO_MAX_AXES] = {0};
-    used[p->bits_axis] = 1;
+    used[axis] = 1;
     if (kax >= 0) /* the required value does not depend on the point's own value */
         used[kax] = 1;
     layout L;
@@ -326,7 +329,7 @@ qc_status plot_required_vs_bits(plot_ctx *ctx)
                 plot_set_style_combo(sc, &L, s, vi);
                 for (size_t a = 0; a < na; a++)
                     for (size_t b = 0; b < nb; b++) {
-                        vi[p->bits_axis] = b;
+                        vi[axis] = b;
                         json_t *rec = ctx->records[plot_point_index(sc, a, vi)];
                         size_t i = ((pi * ns + s) * na + a) * nb + b;
                         req[i] = plot_record_number(rec, "required");
@@ -334,7 +337,7 @@ qc_status plot_required_vs_bits(plot_ctx *ctx)
                         pen[i] = plot_record_number(rec, "penalty_db");
                     }
             }
-        vi[p->bits_axis] = 0;
+        vi[axis] = 0;
         if (!plot_any_finite(req, ncell)) {
             st = plot_note(ctx, "skipped %s: no point in it meets the target (see %s)",
                            strrchr(path, '/') + 1, "results.csv");
@@ -367,7 +370,7 @@ qc_status plot_required_vs_bits(plot_ctx *ctx)
         char subject[600];
         snprintf(subject, sizeof subject, "%s against %s", ylabel, blabel);
         plot_figure_title(sc, subject, ttext, w, h);
-        const char *ticks = (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
+        const char *ticks = whole && (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
         for (size_t pi = 0; pi < np; pi++) {
             double box[4];
             plot_panel_box(&L, pi, w, h, box);
@@ -432,4 +435,14 @@ qc_status plot_required_vs_bits(plot_ctx *ctx)
         st = plot_page_close(ctx, path);
     } while (st == QC_OK && plot_next_combo(sc, vi, L.fixed));
     return st;
+}
+
+qc_status plot_required_vs_bits(plot_ctx *ctx)
+{
+    return required_against(ctx, ctx->sc->plots.bits_axis);
+}
+
+qc_status plot_required_vs_x(plot_ctx *ctx)
+{
+    return required_against(ctx, ctx->sc->plots.x_axis);
 }

@@ -81,6 +81,10 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
         st = plot_required_vs_bits(ctx);
         plot_release(ctx);
     }
+    if (st == QC_OK && sc->plots.required_vs_x) {
+        st = plot_required_vs_x(ctx);
+        plot_release(ctx);
+    }
     if (st == QC_OK && sc->plots.density) {
         st = plot_density(ctx);
         plot_release(ctx);

@@ -25,6 +25,12 @@ static void key_words(const char *key, const char *model, char *words, size_t wc
         {"photons", "mean photons per slot", ""},
         {"quantizer", "quantizer", ""},
         {"objective", "objective", ""},
+        {"enob", "converter ENOB", "bits"},
+        {"sinad-db", "converter SINAD", "dB"},
+        {"jitter-s", "aperture jitter", "s rms"},
+        {"converter-gain", "converter gain", ""},
+        {"dnl-lsb", "peak DNL", "LSB"},
+        {"inl-lsb", "peak INL", "LSB"},
     };
     *unit = "";
     for (size_t i = 0; i < sizeof known / sizeof known[0]; i++)
@@ -90,7 +96,9 @@ void plot_axis_value_words(const qc_scenario *sc, size_t k, size_t v, char *out,
     const char *unit;
     value_text(a->values[v], val, sizeof val);
     if (strcmp(a->key, "bits") == 0) {
-        snprintf(out, cap, "%s-bit quantizer", val);
+        const char *q = qc_settings_get(sc->alphabets[0].settings, "quantizer");
+        snprintf(out, cap, "%s-bit %s", val,
+                 q && strcmp(q, "converter") == 0 ? "converter" : "quantizer");
         return;
     }
     if (strcmp(a->key, "cells") == 0) {
@@ -123,8 +131,10 @@ void plot_key_label(const qc_scenario *sc, const char *key, char *buf, size_t ca
     for (size_t k = 0; k < sc->naxes; k++)
         if (strcmp(sc->axes[k].key, "quantizer") == 0)
             uniform = 0;
+    const int converter = q && strcmp(q, "converter") == 0;
     if (strcmp(key, "bits") == 0) {
-        snprintf(buf, cap, "%s", counts    ? "count quantizer (bits; 2^bits count cells)"
+        snprintf(buf, cap, "%s", converter ? "converter nominal resolution (bits)"
+                                 : counts  ? "count quantizer (bits; 2^bits count cells)"
                                  : uniform ? "ADC resolution (bits)"
                                            : "quantizer resolution (bits)");
         return;

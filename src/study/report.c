@@ -170,6 +170,47 @@ static void report_ppm(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "hard_error", qc_report_real(res->hard_error));
 }
 
+/* The converter as used (quantizer converter): thresholds are then its
+ * transition levels, in full-scale units. */
+static void report_converter(json_t *o, const qc_design_request *req,
+                             const qc_design_result *res)
+{
+    static const char *const rule[] = {"fixed", "best", "agc"};
+    const qc_converter *c = req->quantizer.converter;
+    json_object_set_new(o, "enob", qc_report_real(res->enob));
+    json_object_set_new(o, "gain", qc_report_real(res->gain));
+    json_object_set_new(o, "offset", qc_report_real(res->offset));
+    json_t *j = json_object();
+    json_object_set_new(j, "bits", json_integer(res->converter_bits));
+    json_object_set_new(j, "enob", qc_report_real(res->enob));
+    json_object_set_new(j, "sinad_db", qc_report_real(res->sinad_db));
+    if (c) {
+        double fs[2] = {c->full_scale_lo, c->full_scale_hi};
+        json_object_set_new(j, "full_scale", qc_report_array(fs, 2));
+        json_object_set_new(j, "gain_rule", json_string(rule[c->gain_mode]));
+        json_object_set_new(j, "agc_k", qc_report_real(c->gain_mode == QC_GAIN_AGC ? c->agc_k
+                                                                                 : NAN));
+        json_object_set_new(j, "offset_rule", json_string(c->offset_best ? "best"
+                                                          : isnan(c->offset) ? "agc"
+                                                                             : "fixed"));
+        json_object_set_new(j, "jitter_s", qc_report_real(c->jitter_s));
+        json_object_set_new(j, "signal_freq", qc_report_real(c->jitter_s > 0.0 ? c->signal_freq
+                                                                               : NAN));
+        json_object_set_new(j, "dnl_lsb", qc_report_real(c->dnl_lsb));
+        json_object_set_new(j, "inl_lsb", qc_report_real(c->inl_lsb));
+        json_object_set_new(j, "seed", json_integer((json_int_t)c->seed));
+        json_object_set_new(j, "measured_transitions", json_boolean(c->transitions != NULL));
+    }
+    json_object_set_new(j, "gain", qc_report_real(res->gain));
+    json_object_set_new(j, "offset", qc_report_real(res->offset));
+    json_object_set_new(j, "noise_rms", qc_report_real(res->converter_noise_rms));
+    json_object_set_new(j, "draws", json_integer((json_int_t)res->draws));
+    json_object_set_new(j, "draws_mean_bits", qc_report_real(res->draws_mean_bits));
+    json_object_set_new(j, "draws_sd_bits", qc_report_real(res->draws_sd_bits));
+    json_object_set_new(j, "draws_ci95_bits", qc_report_real(res->draws_ci95_bits));
+    json_object_set_new(o, "converter", j);
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -231,6 +272,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     report_figures(o, res);
     if (res->ppm_slots)
         report_ppm(o, res);
+    if (res->converter)
+        report_converter(o, req, res);
     return o;
 }
 

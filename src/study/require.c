@@ -13,8 +13,9 @@
 /* Keys that are not a continuous quantity to solve for. */
 static const char *const not_solvable[] = {
     "model", "levels", "probabilities", "bits", "cells", "objective", "quantizer",
-    "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid", "optimize-levels",
-    "level-starts", "blocklength", "error-rate", "polarizations", "fec", NULL,
+    "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid",
+    "optimize-levels", "level-starts", "blocklength", "error-rate", "polarizations", "fec",
+    "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset", NULL,
 };
 
 int qc_setting_in_db(const char *key)

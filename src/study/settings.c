@@ -45,8 +45,9 @@ static const key_spec keys[] = {
            "labels, given law); default mi",
            "mi,capacity,gmi"),
     CHOICE("quantizer", "NAME",
-           "threshold strategy: optimal, uniform, lloyd-max, fixed (default optimal)",
-           "optimal,uniform,lloyd-max,fixed"),
+           "threshold strategy: optimal, uniform, lloyd-max, fixed, converter (default "
+           "optimal)",
+           "optimal,uniform,lloyd-max,fixed,converter"),
     WHOLE("fine-cells", "N", "fine-grid cells for the optimal quantizer (default automatic)",
           2, (size_t)1 << 22),
     SWITCH("keep-decisions", "optimal quantizer: move the thresholds nearest to the MAP "
@@ -107,6 +108,26 @@ static const key_spec keys[] = {
     NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
     NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
                 "received-dbm)", -INF, INF),
+    /* a real converter (quantizer converter; docs/models.md) */
+    LIST("full-scale", "LO,HI", "converter full-scale range, receiver output units (x gain)"),
+    NUMBER_ABOVE("enob", "E", "converter effective bits at the signal frequency (default: bits)",
+                 0.0),
+    NUMBER("sinad-db", "S", "converter SINAD of a full-scale sine, dB (instead of enob)"),
+    NUMBER_FROM("jitter-s", "T", "converter aperture jitter, rms seconds (default 0)", 0.0, INF),
+    NUMBER_ABOVE("signal-freq", "F", "frequency of the full-scale sine the jitter acts on, Hz",
+                 0.0),
+    NUMBER_FROM("dnl-lsb", "X", "peak random DNL, LSB, below 1 (default 0)", 0.0, INF),
+    NUMBER_FROM("inl-lsb", "Y", "peak random INL bow, LSB (default 0)", 0.0, INF),
+    WHOLE("seed", "S", "seed of the DNL/INL draws (default 1)", 0, 4294967295u),
+    WHOLE("draws", "D", "DNL/INL draws rated: mean and spread of the rate (default 1)", 1,
+          100000),
+    TEXT("transitions", "FILE", "measured converter transition levels, one per line"),
+    TEXT("converter-gain", "G|best|agc:K",
+         "gain ahead of the converter: a number (default 1), best (for the objective) or "
+         "agc:K (K x rms of the receiver output fills half the full scale)"),
+    TEXT("converter-offset", "O|best",
+         "offset ahead of the converter, full-scale units: a number (default 0; agc: the "
+         "mean at mid-scale) or best"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
@@ -193,6 +214,9 @@ void qc_settings_free_lists(qc_settings *s)
     free(s->probabilities);
     free(s->thresholds);
     s->levels = s->probabilities = s->thresholds = NULL;
+    free(s->transitions);
+    s->transitions = NULL;
+    s->ntransitions = 0;
 }
 
 void qc_settings_free(qc_settings *s)

@@ -553,6 +553,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         }
         req->quantizer.keep_decisions = 1;
     }
+    if ((st = qc_settings_converter(s, req)) != QC_OK)
+        goto fail;
     if ((v = qc_settings_get(s, "fine-cells"))) {
         if ((st = qc_parse_size(v, 2, (size_t)1 << 22, &req->numerics.fine_cells)) != QC_OK) {
             st = qc_fail(st, "fine-cells: %s", qc_last_error());

@@ -19,7 +19,17 @@ struct qc_settings {
     qc_constraints constraints;
     /* FEC code of the last build (the request points here) */
     qc_fec fec;
+    /* converter of the last build (the request points here) and its
+     * measured transition levels (owned) */
+    qc_converter converter;
+    double *transitions;
+    size_t ntransitions;
 };
+
+/* settings_converter.c: the converter keys into s->converter and
+ * req->quantizer (kind converter when they are given without another
+ * quantizer). */
+qc_status qc_settings_converter(qc_settings *s, qc_design_request *req);
 
 
 /* Free the lists parsed by the last build. */

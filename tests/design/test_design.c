@@ -78,6 +78,9 @@ static void test_bpsk_one_bit_closed_form(void **state)
             r.quantizer.thresholds = &zero;
             r.quantizer.nthresholds = 1;
             r.numerics.skip_snr_penalty = 1;
+            qc_converter conv; /* an ideal 1-bit converter: its transition at 0 */
+            qc_converter_default(&conv, -1.0, 1.0);
+            r.quantizer.converter = &conv;
             qc_design_result res;
             assert_int_equal(qc_design(&r, &res), QC_OK);
             assert_true(fabs(res.rate_bits - want) <= TOL_RATE);
