@@ -306,6 +306,26 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
                 r->nthresholds + 1, r->cells);
 }
 
+/* The amplified fibre link that set the SNR. */
+static void print_fibre_link(FILE *f, const qc_fibre_link_result *l)
+{
+    fprintf(f, "link         span loss %.3f dB, amplifier gain %.3f dB; launch %.3f dBm per "
+               "channel",
+            l->span_loss_db, l->gain_db, l->launch_dbm);
+    if (isfinite(l->optimum_launch_dbm))
+        fprintf(f, " (optimum %.3f dBm, SNR there %.3f dB)", l->optimum_launch_dbm,
+                l->optimum_snr_db);
+    fprintf(f, "\nlink SNR     OSNR %.3f dB (0.1 nm); SNR ASE %.3f dB, NLI ", l->osnr_db,
+            l->snr_ase_db);
+    if (isfinite(l->snr_nli_db))
+        fprintf(f, "%.3f dB", l->snr_nli_db);
+    else
+        fprintf(f, "none (linear)");
+    if (isfinite(l->snr_trx_db))
+        fprintf(f, ", transceiver %.3f dB", l->snr_trx_db);
+    fprintf(f, "; effective %.3f dB\n", l->snr_eff_db);
+}
+
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table,
                          const fec_penalty *p)
@@ -326,10 +346,13 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
         fprintf(f, ", fine grid %zu cells", r->fine_cells);
-    fprintf(f, "\nobjective    %s\n\n",
+    fprintf(f, "\nobjective    %s\n",
             req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
+    if (req->channel.fibre_link)
+        print_fibre_link(f, req->channel.fibre_link);
+    fprintf(f, "\n");
     print_rates(f, req, r, p);
     if (r->reconstruction)
         fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);

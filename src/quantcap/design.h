@@ -12,6 +12,7 @@
 #include "quantcap/alphabet.h"
 #include "quantcap/info.h"
 #include "quantcap/figures.h"
+#include "quantcap/frontend.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -103,6 +104,8 @@ typedef struct {
                                     coherent), 1 for real alphabets (the
                                     settings give 2 with osnr-db, as the
                                     OSNR conversion assumes)               */
+    /* The amplified fibre link that set the SNR, for reports (NULL: none). */
+    const qc_fibre_link_result *fibre_link;
 } qc_design_channel;
 
 /* The quantizer. */

@@ -112,6 +112,79 @@ QC_API qc_status qc_osnr_to_snr(double osnr_db, double ref_bandwidth,
                          double symbol_rate, int polarizations,
                          double *snr);
 
+/* ---- amplified coherent fibre links (src/frontend/fibre_link.c) ----- */
+
+/* A chain of `spans` fibre spans, each followed by an optical amplifier,
+ * carrying `channels` WDM channels of `symbol_rate` baud spaced by
+ * `spacing_ghz`; the channel of interest is the centre one. */
+typedef struct {
+    double spans;         /* N_s ≥ 1 (fractional: the continuous
+                             interpolation require searches on)          */
+    double span_km;       /* span length, km (> 0), required             */
+    double loss_db_km;    /* fibre attenuation, dB/km (> 0), default 0.2 */
+    double nf_db;         /* amplifier noise figure, dB, required        */
+    double gain_db;       /* amplifier gain, dB; NaN: the span loss      */
+    double launch_dbm;    /* launch power per channel, dBm; NaN: the
+                             optimum launch power                        */
+    double wavelength_nm; /* default 1550                                */
+    double symbol_rate;   /* R_s, baud (> 0), required                   */
+    int polarizations;    /* 1 or 2, default 2                            */
+    double dispersion;    /* D, ps/(nm·km), default 17 (≠ 0)              */
+    double gamma;         /* nonlinear coefficient, 1/(W·km), default 1.3;
+                             0: a linear link (no NLI)                   */
+    double channels;      /* whole number ≥ 1, default 1                  */
+    double spacing_ghz;   /* channel spacing, GHz (≥ R_s/1e9); required
+                             with more than one channel                  */
+    double coherence;     /* ε in N_s^(1+ε), [0, 1), default 0           */
+    double transceiver_snr_db; /* transceiver SNR limit, dB; +inf: none   */
+} qc_fibre_link;
+
+/* What the link gives the receiver: every power per channel, in the
+ * channel's bandwidth R_s (both polarizations for p = 2). */
+typedef struct {
+    double span_loss_db;       /* fibre loss of one span                   */
+    double gain_db;            /* amplifier gain used                      */
+    double launch_dbm;         /* launch power per channel used            */
+    double ase_w;              /* accumulated ASE power in R_s at the
+                                  receiver, referred to the launch power  */
+    double nli_w;              /* accumulated NLI power, same reference    */
+    double eta;                /* P_NLI = eta·P³ (1/W²)                    */
+    double osnr_db;            /* signal over ASE in 0.1 nm (12.5 GHz)     */
+    double snr_ase_db;         /* from the OSNR (qc_osnr_to_snr)           */
+    double snr_nli_db;         /* P/P_NLI; +inf for a linear link          */
+    double snr_trx_db;         /* the transceiver limit (+inf: none)       */
+    double snr_eff_db;         /* 1/(1/SNR_ASE + 1/SNR_NLI + 1/SNR_trx)    */
+    double optimum_launch_dbm; /* where SNR_eff peaks; NaN: no NLI        */
+    double optimum_snr_db;     /* SNR_eff there; NaN: no NLI               */
+} qc_fibre_link_result;
+
+/* Defaults as listed above (spans 1; span_km, nf_db, symbol_rate NaN:
+ * to be given). Overwrites every field; never fails. */
+QC_API void qc_fibre_link_default(qc_fibre_link *link);
+
+/* ASE power of one amplifier in an optical bandwidth B, both
+ * polarizations: P = NF·G·h·ν·B (high-gain form; Desurvire, Erbium-Doped
+ * Fiber Amplifiers, Wiley 1994). QC_EINVAL naming the argument; on
+ * failure *watt is unchanged. */
+QC_API qc_status qc_ase_power(double nf_db, double gain_db, double wavelength_nm,
+                              double bandwidth_hz, double *watt);
+
+/* NLI coefficient of one span for the centre channel by the closed form
+ * of the GN model (Poggiolini, J. Lightw. Technol. 30(24), 2012):
+ * P_NLI = eta·P³, P the launch power per channel, the NLI power spectral
+ * density at the channel centre times R_s. Dual polarization. Uses
+ * span_km, loss_db_km, dispersion, gamma, wavelength_nm, symbol_rate,
+ * channels, spacing_ghz. QC_EINVAL naming the field; on failure *eta is
+ * unchanged. */
+QC_API qc_status qc_gn_eta(const qc_fibre_link *link, double *eta);
+
+/* The link's OSNR, SNRs and optimum launch power (docs/models.md,
+ * "Amplified fibre link"). QC_EINVAL naming the field out of range or the
+ * contradiction (gain below the loss with coherent accumulation, a noise
+ * figure below the quantum limit 2 − 1/G, ...); on failure *res is
+ * unchanged. */
+QC_API qc_status qc_fibre_link_eval(const qc_fibre_link *link, qc_fibre_link_result *res);
+
 #ifdef __cplusplus
 }
 #endif

@@ -71,6 +71,11 @@ typedef enum {
 #define QC_KEYS_PHOTODETECTOR                                                              \
     "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
         "apd-gain", "apd-k"
+/* The amplified coherent fibre link (its SNR sets the Gaussian noise). */
+#define QC_KEYS_FIBRE_LINK                                                                 \
+    "spans", "span-km", "length-km", "loss-db-km", "nf-db", "gain-db", "launch-dbm",       \
+        "chromatic-dispersion", "gamma", "channels", "channel-spacing-ghz", "coherence",   \
+        "transceiver-snr-db", "wavelength-nm"
 
 typedef struct qc_model_type {
     const char *name;

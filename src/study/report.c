@@ -148,6 +148,21 @@ static void report_figures(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "net_rate_gbps", qc_report_real(res->net_rate_gbps));
 }
 
+/* ---- the amplified fibre link that set the SNR (src/frontend) ------ */
+
+static void report_fibre_link(json_t *o, const qc_fibre_link_result *l)
+{
+    json_object_set_new(o, "span_loss_db", qc_report_real(l->span_loss_db));
+    json_object_set_new(o, "amplifier_gain_db", qc_report_real(l->gain_db));
+    json_object_set_new(o, "launch_dbm", qc_report_real(l->launch_dbm));
+    json_object_set_new(o, "osnr_db", qc_report_real(l->osnr_db));
+    json_object_set_new(o, "snr_ase_db", qc_report_real(l->snr_ase_db));
+    json_object_set_new(o, "snr_nli_db", qc_report_real(l->snr_nli_db));
+    json_object_set_new(o, "snr_eff_db", qc_report_real(l->snr_eff_db));
+    json_object_set_new(o, "optimum_launch_dbm", qc_report_real(l->optimum_launch_dbm));
+    json_object_set_new(o, "optimum_snr_db", qc_report_real(l->optimum_snr_db));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -206,6 +221,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
                             qc_report_array(res->reconstruction, res->nthresholds + 1));
     report_alphabet(o, req, res);
     report_figures(o, res);
+    if (req->channel.fibre_link)
+        report_fibre_link(o, req->channel.fibre_link);
     return o;
 }
 

@@ -104,6 +104,28 @@ static const key_spec keys[] = {
     NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
     NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
                 "received-dbm)", -INF, INF),
+    /* amplified coherent fibre link (src/frontend/fibre_link.c) */
+    NUMBER_FROM("spans", "N",
+                "amplified spans of the fibre link (fractional values interpolate, as "
+                "require searches)", 1.0, 1e4),
+    NUMBER_ABOVE("span-km", "L", "length of one amplified span, km", 0.0),
+    NUMBER_ABOVE("length-km", "L",
+                 "fibre length, km (amplified link: spans x span-km, instead of spans)", 0.0),
+    NUMBER_ABOVE("loss-db-km", "A", "fibre attenuation, dB/km (default 0.2)", 0.0),
+    NUMBER_FROM("nf-db", "F", "optical amplifier noise figure, dB", -INF, INF),
+    NUMBER_ABOVE("gain-db", "G", "amplifier gain, dB (default: the span loss)", 0.0),
+    NUMBER_FROM("launch-dbm", "P",
+                "launch power per channel, dBm (amplified link default: the optimum)", -INF,
+                INF),
+    NUMBER("chromatic-dispersion", "D", "fibre chromatic dispersion, ps/(nm km) (default 17)"),
+    NUMBER_FROM("gamma", "G", "fibre nonlinear coefficient, 1/(W km) (default 1.3; 0: linear)",
+                0.0, INF),
+    WHOLE("channels", "N", "WDM channels (default 1)", 1, 10000),
+    NUMBER_ABOVE("channel-spacing-ghz", "S", "WDM channel spacing, GHz", 0.0),
+    NUMBER_FROM("coherence", "E",
+                "coherent-accumulation exponent of the NLI, N^(1+E), [0, 1) (default 0)", 0.0,
+                1.0),
+    NUMBER("transceiver-snr-db", "X", "transceiver SNR limit, dB (default: none)"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

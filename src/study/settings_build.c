@@ -224,6 +224,80 @@ static qc_status sigma_from_snr(const char *key, double snr, const double *level
     return QC_OK;
 }
 
+/* Keys that describe the amplified fibre link (its marker is span-km). */
+static const char *const fibre_keys[] = {
+    "spans", "span-km", "nf-db", "gain-db", "chromatic-dispersion", "gamma", "channels",
+    "channel-spacing-ghz", "coherence", "transceiver-snr-db", NULL,
+};
+
+/* The first key of the amplified fibre link given, or NULL. */
+static const char *first_fibre_key(const qc_settings *s)
+{
+    for (size_t i = 0; fibre_keys[i]; i++)
+        if (qc_settings_get(s, fibre_keys[i]))
+            return fibre_keys[i];
+    return NULL;
+}
+
+/* The amplified fibre link of the settings → its SNR (s->fibre) → σ of
+ * model gauss, as snr-db would set it. */
+static qc_status fibre_route(qc_settings *s, const qc_model_type *type, size_t nl,
+                             unsigned dims, double *params)
+{
+    int si = qc_model_param_index(type, "sigma");
+    if (si < 0)
+        return qc_fail(QC_EINVAL, "the amplified fibre link sets 'sigma', which model '%s' "
+                                  "does not have",
+                       type->name);
+    if (!isnan(params[si]))
+        return qc_fail(QC_EINVAL, "give 'sigma' or the amplified fibre link, not both");
+    if (!qc_settings_get(s, "span-km"))
+        return qc_fail(QC_EINVAL, "'%s' describes an amplified fibre link, which needs "
+                                  "'span-km' (the length of one span)",
+                       first_fibre_key(s));
+    qc_fibre_link l;
+    qc_fibre_link_default(&l);
+    double pol = 2.0, spans = NAN, length = NAN, channels = 1.0;
+    qc_status st;
+    if ((st = number(s, "span-km", l.span_km, &l.span_km)) != QC_OK ||
+        (st = number(s, "spans", NAN, &spans)) != QC_OK ||
+        (st = number(s, "length-km", NAN, &length)) != QC_OK ||
+        (st = number(s, "loss-db-km", l.loss_db_km, &l.loss_db_km)) != QC_OK ||
+        (st = required(s, "nf-db", "for the amplified fibre link (amplifier noise figure)",
+                       &l.nf_db)) != QC_OK ||
+        (st = number(s, "gain-db", l.gain_db, &l.gain_db)) != QC_OK ||
+        (st = number(s, "launch-dbm", l.launch_dbm, &l.launch_dbm)) != QC_OK ||
+        (st = number(s, "wavelength-nm", l.wavelength_nm, &l.wavelength_nm)) != QC_OK ||
+        (st = required(s, "symbol-rate", "for the amplified fibre link (baud)",
+                       &l.symbol_rate)) != QC_OK ||
+        (st = number(s, "polarizations", pol, &pol)) != QC_OK ||
+        (st = number(s, "chromatic-dispersion", l.dispersion, &l.dispersion)) != QC_OK ||
+        (st = number(s, "gamma", l.gamma, &l.gamma)) != QC_OK ||
+        (st = number(s, "channels", channels, &channels)) != QC_OK ||
+        (st = number(s, "channel-spacing-ghz", l.spacing_ghz, &l.spacing_ghz)) != QC_OK ||
+        (st = number(s, "coherence", l.coherence, &l.coherence)) != QC_OK ||
+        (st = number(s, "transceiver-snr-db", l.transceiver_snr_db,
+                     &l.transceiver_snr_db)) != QC_OK)
+        return st;
+    if (!isnan(spans) && !isnan(length))
+        return qc_fail(QC_EINVAL, "give 'spans' or 'length-km' (= spans x span-km), not both");
+    if (isnan(spans) && isnan(length))
+        return qc_fail(QC_EINVAL, "the amplified fibre link needs 'spans' or 'length-km' "
+                                  "(= spans x span-km)");
+    l.spans = isnan(spans) ? length / l.span_km : spans;
+    if (!isnan(length) && !(l.spans >= 1.0 - 1e-12))
+        return qc_fail(QC_EINVAL, "'length-km' %g is shorter than one span of %g km", length,
+                       l.span_km);
+    l.spans = fmax(l.spans, 1.0);
+    l.channels = channels;
+    l.polarizations = (int)pol;
+    if ((st = qc_fibre_link_eval(&l, &s->fibre)) != QC_OK)
+        return st;
+    double budget = s->constraints.power / (double)dims; /* NaN without a budget */
+    return sigma_from_snr("the link's SNR", pow(10.0, s->fibre.snr_eff_db / 10.0), s->levels,
+                          nl, s->probabilities, budget, &params[si]);
+}
+
 /* snr-db or osnr-db (with symbol-rate) → σ of model gauss. */
 static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size_t nl,
                            unsigned dims, double *params)
@@ -345,6 +419,7 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
     /* the OSNR route's default (2) holds for the rates too */
     req->channel.polarizations = !isnan(pol)                     ? (unsigned)pol
                          : qc_settings_get(s, "osnr-db") ? 2
+                         : qc_settings_get(s, "span-km") ? 2 /* the fibre link's default */
                                                          : 0;
     const char *fec = qc_settings_get(s, "fec");
     if (fec) {
@@ -547,6 +622,24 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     /* model parameters: physical receiver, SNR/OSNR, or as given */
     if (!is_table) {
         int snr_keys = qc_settings_get(s, "snr-db") || qc_settings_get(s, "osnr-db");
+        const char *lk = first_fibre_key(s);
+        if (lk && fk && strcmp(fk, "wavelength-nm") == 0)
+            fk = NULL; /* the link's wavelength */
+        if (lk && (fk || snr_keys))
+            return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or %s%s%s, not both",
+                           lk, fk ? "the physical receiver ('" : "an SNR", fk ? fk : "",
+                           fk ? "')" : "");
+        if (lk && nparams_given)
+            return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or the parameters "
+                                      "of model '%s', not both",
+                           lk, type->name);
+        if (!lk && (qc_settings_get(s, "length-km") || qc_settings_get(s, "launch-dbm") ||
+                    qc_settings_get(s, "loss-db-km")))
+            return qc_fail(QC_EINVAL, "'%s' describes a fibre link: give the amplified link "
+                                      "('span-km', 'spans' or 'length-km', 'nf-db')",
+                           qc_settings_get(s, "length-km")    ? "length-km"
+                           : qc_settings_get(s, "launch-dbm") ? "launch-dbm"
+                                                              : "loss-db-km");
         if (fk && snr_keys)
             return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or an SNR, not both",
                            fk);
@@ -560,7 +653,11 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
                 req->channel.level_unit = req->channel.output_unit = "A";
         }
-        else if (snr_keys)
+        else if (lk) {
+            st = fibre_route(s, type, nl, dims, params);
+            if (st == QC_OK)
+                req->channel.fibre_link = &s->fibre;
+        } else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)
             st = get_model(cache, type, params, NULL, model);
