@@ -1,0 +1,229 @@
+/* test_link.c — the amplified coherent fibre link (src/frontend/fibre_link.c):
+ * ASE power written out, the GN model's cube law and its optimum launch
+ * power, the transceiver limit, spans in series, and bad links. Physical
+ * constants written out (SI 2019 exact values: h = 6.62607015e-34 J·s,
+ * c = 299792458 m/s). */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <string.h>
+
+#include "quantcap.h"
+#include "test_helpers.h"
+
+#define H_P 6.62607015e-34
+#define C_0 299792458.0
+
+#define TOL_CODATA 2e-6 /* relative: GSL carries CODATA 2006 values           */
+#define TOL_DB 1e-9     /* dB: the same closed forms, rounding only            */
+
+static void rel(double got, double want, double tol)
+{
+    if (!(fabs(got - want) <= tol * fabs(want)))
+        fail_msg("got %.17g, want %.17g", got, want);
+}
+
+static void near(double got, double want, double tol)
+{
+    if (!(fabs(got - want) <= tol))
+        fail_msg("got %.17g, want %.17g (tol %g)", got, want, tol);
+}
+
+static void expect(qc_status st, const char *needle)
+{
+    assert_int_equal(st, QC_EINVAL);
+    assert_message(needle);
+}
+
+/* 20 × 80 km, NF 5 dB, 32 GBd, 5 channels at 50 GHz (invented link). */
+static qc_fibre_link link20(void)
+{
+    qc_fibre_link l;
+    qc_fibre_link_default(&l);
+    l.spans = 20.0;
+    l.span_km = 80.0;
+    l.nf_db = 5.0;
+    l.symbol_rate = 32e9;
+    l.channels = 5.0;
+    l.spacing_ghz = 50.0;
+    return l;
+}
+
+static void test_ase(void **state)
+{
+    (void)state;
+    double w;
+    /* P_ASE = NF·G·h·ν·B (Desurvire 1994, high-gain form): NF 5 dB, G 20 dB,
+     * 1550 nm, 12.5 GHz, written out */
+    assert_int_equal(qc_ase_power(5.0, 20.0, 1550.0, 12.5e9, &w), QC_OK);
+    rel(w, pow(10.0, 0.5) * 100.0 * H_P * C_0 / 1550e-9 * 12.5e9, TOL_CODATA);
+    /* the link: N amplifiers of gain = span loss; SNR_ASE = P/(N·P_ASE(R_s)) */
+    qc_fibre_link l = link20();
+    l.launch_dbm = 0.0;
+    l.gamma = 0.0;
+    qc_fibre_link_result r;
+    assert_int_equal(qc_fibre_link_eval(&l, &r), QC_OK);
+    double ase = 20.0 * pow(10.0, 0.5) * pow(10.0, 1.6) * H_P * C_0 / 1550e-9 * 32e9;
+    rel(r.ase_w, ase, TOL_CODATA);
+    near(r.snr_ase_db, 10.0 * log10(1e-3 / ase), 1e-5);
+    /* OSNR over 12.5 GHz against SNR over R_s = 32 GHz, two polarizations:
+     * SNR = OSNR·12.5/32 (Essiambre et al., J. Lightw. Technol. 28(4), 2010) */
+    near(r.snr_ase_db, r.osnr_db + 10.0 * log10(12.5 / 32.0), TOL_DB);
+    assert_true(isinf(r.snr_nli_db));
+    assert_true(isnan(r.optimum_launch_dbm));
+    near(r.snr_eff_db, r.snr_ase_db, TOL_DB);
+    near(r.span_loss_db, 16.0, 1e-12);
+    near(r.gain_db, 16.0, 1e-12);
+    /* one polarization: only the ASE in the signal's polarization, 3 dB less */
+    l.polarizations = 1;
+    qc_fibre_link_result r1;
+    assert_int_equal(qc_fibre_link_eval(&l, &r1), QC_OK);
+    near(r1.snr_ase_db, r.snr_ase_db + 10.0 * log10(2.0), TOL_DB);
+}
+
+static void test_cube_law(void **state)
+{
+    (void)state;
+    /* P_NLI = eta·P³ (Poggiolini 2012): 3 dB more launch power, 9 dB more
+     * NLI, so SNR_NLI falls by 6 dB */
+    qc_fibre_link l = link20();
+    qc_fibre_link_result a, b;
+    l.launch_dbm = -3.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &a), QC_OK);
+    l.launch_dbm = 0.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &b), QC_OK);
+    near(a.snr_nli_db - b.snr_nli_db, 6.0, TOL_DB);
+    rel(b.nli_w / a.nli_w, pow(10.0, 0.9), 1e-12);
+    /* incoherent accumulation: twice the spans, twice the NLI and ASE */
+    qc_fibre_link_result c;
+    l.spans = 40.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &c), QC_OK);
+    rel(c.nli_w / b.nli_w, 2.0, 1e-12);
+    rel(c.ase_w / b.ase_w, 2.0, 1e-12);
+    /* coherent accumulation N^(1+eps): 40 spans, eps 0.05 against 20 */
+    qc_fibre_link_result d;
+    l.coherence = 0.05;
+    assert_int_equal(qc_fibre_link_eval(&l, &d), QC_OK);
+    rel(d.nli_w / b.nli_w, pow(40.0, 1.05) / 20.0, 1e-12);
+    /* more channels, more NLI (cross-channel interference) */
+    l = link20();
+    l.launch_dbm = 0.0;
+    qc_fibre_link_result e;
+    l.channels = 1.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &e), QC_OK);
+    assert_true(e.nli_w < b.nli_w);
+}
+
+static void test_optimum(void **state)
+{
+    (void)state;
+    /* At the optimum launch power P_NLI = P_ASE/2 and the SNR is 2/3 of
+     * P/P_ASE, i.e. 10·log10(1.5) = 1.76 dB below it (Poggiolini 2012,
+     * sec. VIII) */
+    qc_fibre_link l = link20();
+    qc_fibre_link_result r;
+    assert_int_equal(qc_fibre_link_eval(&l, &r), QC_OK); /* launch: the optimum */
+    near(r.launch_dbm, r.optimum_launch_dbm, TOL_DB);
+    rel(r.nli_w, r.ase_w / 2.0, 1e-12);
+    near(r.snr_ase_db - r.snr_eff_db, 10.0 * log10(1.5), TOL_DB);
+    near(r.snr_eff_db, r.optimum_snr_db, TOL_DB);
+    /* the optimum: 1 dB either side is worse */
+    qc_fibre_link_result lo, hi;
+    l.launch_dbm = r.optimum_launch_dbm - 1.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &lo), QC_OK);
+    l.launch_dbm = r.optimum_launch_dbm + 1.0;
+    assert_int_equal(qc_fibre_link_eval(&l, &hi), QC_OK);
+    assert_true(lo.snr_eff_db < r.snr_eff_db && hi.snr_eff_db < r.snr_eff_db);
+    near(lo.optimum_launch_dbm, r.optimum_launch_dbm, TOL_DB);
+    /* P_opt = (P_ASE/(2·eta))^(1/3) written out */
+    near(r.optimum_launch_dbm, 10.0 * log10(cbrt(r.ase_w / (2.0 * r.eta)) / 1e-3), TOL_DB);
+    /* a transceiver limit adds its noise: 1/SNR = 1/SNR_link + 1/SNR_trx */
+    qc_fibre_link_result t;
+    l.launch_dbm = NAN;
+    l.transceiver_snr_db = r.snr_eff_db;
+    assert_int_equal(qc_fibre_link_eval(&l, &t), QC_OK);
+    near(t.snr_eff_db, r.snr_eff_db - 10.0 * log10(2.0), TOL_DB);
+    near(t.optimum_launch_dbm, r.optimum_launch_dbm, TOL_DB);
+}
+
+static void test_gain_drift(void **state)
+{
+    (void)state;
+    /* a gain 0.5 dB above the span loss: the power grows 0.5 dB a span;
+     * referred to the launch, the ASE of amplifier k counts g^-k and the
+     * NLI of span k g^(2(k-1)), g the net gain (geometric sums written out) */
+    qc_fibre_link l = link20();
+    l.spans = 10.0;
+    l.launch_dbm = 0.0;
+    qc_fibre_link_result r0, r;
+    assert_int_equal(qc_fibre_link_eval(&l, &r0), QC_OK);
+    l.gain_db = 16.5;
+    assert_int_equal(qc_fibre_link_eval(&l, &r), QC_OK);
+    double g = pow(10.0, 0.05), sa = 0.0, sn = 0.0;
+    for (int k = 1; k <= 10; k++) {
+        sa += pow(g, -k);
+        sn += pow(g, 2.0 * (k - 1));
+    }
+    double ase1 = r0.ase_w / 10.0 * pow(10.0, 0.05); /* one amplifier, 0.5 dB more gain */
+    rel(r.ase_w, ase1 * sa, 1e-9);
+    rel(r.nli_w, r0.nli_w / 10.0 * sn, 1e-9);
+}
+
+static void test_bad_links(void **state)
+{
+    (void)state;
+    qc_fibre_link l = link20();
+    qc_fibre_link_result r;
+    l.span_km = -80.0;
+    expect(qc_fibre_link_eval(&l, &r), "'span-km' must be > 0");
+    l = link20();
+    l.span_km = 300.0; /* 60 dB */
+    expect(qc_fibre_link_eval(&l, &r), "more than the 50 dB of gain");
+    l = link20();
+    l.nf_db = 2.0; /* below 2 − 1/G at 16 dB gain: 2.99 dB */
+    expect(qc_fibre_link_eval(&l, &r), "below the quantum limit");
+    l = link20();
+    l.gain_db = 20.0;
+    expect(qc_fibre_link_eval(&l, &r), "contradictory amplifier settings");
+    l = link20();
+    l.gain_db = 16.2;
+    l.coherence = 0.1;
+    expect(qc_fibre_link_eval(&l, &r), "'coherence' needs identical transparent spans");
+    l = link20();
+    l.spacing_ghz = 25.0;
+    expect(qc_fibre_link_eval(&l, &r), "the channels would overlap");
+    l = link20();
+    l.spacing_ghz = NAN;
+    expect(qc_fibre_link_eval(&l, &r), "'channel-spacing-ghz' is required");
+    l = link20();
+    l.dispersion = 0.0;
+    expect(qc_fibre_link_eval(&l, &r), "'dispersion' must be a finite, nonzero");
+    l = link20();
+    l.polarizations = 1;
+    expect(qc_fibre_link_eval(&l, &r), "dual-polarization");
+    l = link20();
+    l.gamma = 0.0;
+    expect(qc_fibre_link_eval(&l, &r), "'launch-dbm' is required for a linear link");
+    l = link20();
+    l.nf_db = NAN;
+    expect(qc_fibre_link_eval(&l, &r), "'nf-db' is required");
+    l = link20();
+    l.spans = 0.5;
+    expect(qc_fibre_link_eval(&l, &r), "'spans' must be >= 1");
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_ase),
+        cmocka_unit_test(test_cube_law),
+        cmocka_unit_test(test_optimum),
+        cmocka_unit_test(test_gain_drift),
+        cmocka_unit_test(test_bad_links),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
