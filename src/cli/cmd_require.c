@@ -27,6 +27,8 @@ static const char *const key_units[][2] = {
     {"responsivity", "A/W"},  {"bandwidth", "Hz"},     {"thermal-density", "pA/sqrt(Hz)"},
     {"load-resistance", "ohm"}, {"temperature", "K"},  {"dark-current", "A"},
     {"slot-time", "s"},       {"wavelength-nm", "nm"}, {"dark-count-rate", "1/s"},
+    {"spans", "spans"},       {"span-km", "km"},       {"length-km", "km"},
+    {"loss-db-km", "dB/km"},  {"gamma", "1/(W km)"},   {"chromatic-dispersion", "ps/(nm km)"},
     {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
 };
 
@@ -170,6 +172,31 @@ static json_t *design_at(const qc_settings *set, const char *key, double value,
     return o;
 }
 
+/* An amplified fibre link at the required value: its SNR there, and for
+ * the reach the longest link of whole spans that meets the target. */
+static void print_link_at(FILE *f, const qc_settings *set, const char *key,
+                          const qc_require_result *res, json_t *design)
+{
+    json_t *eff = json_object_get(design, "snr_eff_db");
+    if (!json_is_real(eff))
+        return;
+    fprintf(f, "link there   launch %.3f dBm (optimum %.3f dBm), OSNR %.3f dB, SNR %.3f dB\n",
+            json_real_value(json_object_get(design, "launch_dbm")),
+            json_real_value(json_object_get(design, "optimum_launch_dbm")),
+            json_real_value(json_object_get(design, "osnr_db")), json_real_value(eff));
+    double span = NAN;
+    const char *sk = qc_settings_get(set, "span-km");
+    if (!sk || res->increasing || cli_double("span-km", sk, &span) != CLI_OK)
+        return;
+    double spans = strcmp(key, "spans") == 0       ? res->required
+                   : strcmp(key, "length-km") == 0 ? res->required / span
+                                                   : NAN;
+    /* 1e-9: a crossing on a whole number of spans counts as that number */
+    if (isfinite(spans))
+        fprintf(f, "reach        %.0f whole spans of %g km = %g km\n", floor(spans + 1e-9),
+                span, floor(spans + 1e-9) * span);
+}
+
 int cmd_require(int argc, char **argv)
 {
     cli_args a;
@@ -303,6 +330,7 @@ int cmd_require(int argc, char **argv)
             if (json_is_real(net))
                 fprintf(f, ", net %.6g Gb/s", json_real_value(net));
             fputc('\n', f);
+            print_link_at(f, set, key, &res, design);
         }
         fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations)\n",
                 res.designs);

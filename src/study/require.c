@@ -14,7 +14,7 @@
 static const char *const not_solvable[] = {
     "model", "levels", "probabilities", "bits", "cells", "objective", "quantizer",
     "fine-cells", "thresholds", "tol", "alphabet", "table", "level-grid", "optimize-levels",
-    "level-starts", "blocklength", "error-rate", "polarizations", "fec", NULL,
+    "level-starts", "blocklength", "error-rate", "polarizations", "fec", "channels", NULL,
 };
 
 int qc_setting_in_db(const char *key)
@@ -63,6 +63,10 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
         *why = "a measured table has no quantity to solve for";
         return NULL;
     }
+    /* an amplified fibre link: the penalty in reach (10 log10 of the ratio) */
+    if (qc_settings_get(s, "span-km") && (qc_settings_get(s, "spans") ||
+                                          qc_settings_get(s, "length-km")))
+        return qc_settings_get(s, "spans") ? "spans" : "length-km";
     for (size_t i = 0; keys[i]; i++)
         if (qc_settings_get(s, keys[i]))
             return keys[i];
@@ -79,10 +83,59 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
 #define DB_HALF_RANGE 30.0  /* dB either side of an operating value      */
 #define LINEAR_DECADES 3.0  /* decades either side of an operating value */
 
+#define MAX_REACH_SPANS 1000.0 /* longest amplified link searched, in spans */
+#define LAUNCH_BELOW_DB 30.0    /* launch powers searched below the optimum  */
+
+/* The amplified fibre link's default ranges: the launch power from 30 dB
+ * below the optimum up to it (above it the SNR falls again), the spans
+ * from 1 to 1000, the length from one span to 1000. *done 0: not a key
+ * of the fibre link. */
+static qc_status fibre_range(const qc_settings *s, const char *key, double *lo, double *hi,
+                             int *done)
+{
+    *done = 0;
+    if (!qc_settings_get(s, "span-km"))
+        return QC_OK;
+    double span;
+    qc_status st = qc_parse_double(qc_settings_get(s, "span-km"), &span);
+    if (st != QC_OK)
+        return qc_fail(st, "span-km: %s", qc_last_error());
+    if (strcmp(key, "spans") == 0 || strcmp(key, "length-km") == 0) {
+        double unit = strcmp(key, "spans") == 0 ? 1.0 : span;
+        *lo = unit;
+        *hi = unit * MAX_REACH_SPANS;
+        *done = 1;
+        return QC_OK;
+    }
+    if (strcmp(key, "launch-dbm") != 0)
+        return QC_OK;
+    qc_settings *copy = NULL;
+    qc_model *m = NULL;
+    qc_design_request req;
+    st = qc_settings_copy(s, &copy);
+    if (st == QC_OK)
+        st = qc_settings_build(copy, &m, &req);
+    if (st == QC_OK && !isfinite(copy->fibre.optimum_launch_dbm))
+        st = qc_fail(QC_EINVAL, "give the search range of launch-dbm (a linear link has no "
+                                "optimum launch power to search below)");
+    if (st == QC_OK) {
+        *hi = copy->fibre.optimum_launch_dbm;
+        *lo = *hi - LAUNCH_BELOW_DB;
+        *done = 1;
+    }
+    qc_model_free(m);
+    qc_settings_free(copy);
+    return st;
+}
+
 qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                     double *hi)
 {
     *lo = *hi = NAN;
+    int done;
+    qc_status fst = fibre_range(s, key, lo, hi, &done);
+    if (fst != QC_OK || done)
+        return fst;
     const int linear = !qc_setting_in_db(key);
     const char *v = qc_settings_get(s, key);
     double op = NAN;
