@@ -23,6 +23,10 @@ static void key_words(const char *key, const char *model, char *words, size_t wc
         {"apd-gain", "APD gain", ""},
         {"apd-k", "ionization ratio k", ""},
         {"photons", "mean photons per slot", ""},
+        {"length-km", "link length", "km"},
+        {"span-km", "span length", "km"},
+        {"spans", "amplified spans", ""},
+        {"launch-dbm", "launch power per channel", "dBm"},
         {"quantizer", "quantizer", ""},
         {"objective", "objective", ""},
     };
