@@ -2,7 +2,7 @@
 """check_fibre_link.py — the amplified fibre link of `quantcap design`
 against outside references.
 
-argv[1]: the quantcap program. Each case runs `quantcap design --json` on a
+argv[1]: the quantcap program, argv[2]: scenarios/longhaul.ini. Each case runs `quantcap design --json` on a
 gauss model whose SNR is set by the link, and reads the link's figures from
 the JSON (osnr_db, snr_ase_db, snr_nli_db, launch_dbm).
 
@@ -12,13 +12,19 @@ the JSON (osnr_db, snr_ase_db, snr_nli_db, launch_dbm).
   - the NLI coefficient eta (P_NLI = eta P^3) of the GN model's closed form
     against scipy.integrate.quad of the GN reference formula for one span
     (Poggiolini, J. Lightw. Technol. 30(24), 2012, eq. 1, with
-    chi = 1): single channel and small WDM combs, centre channel.
+    chi = 1): single channel and small WDM combs, centre channel;
+  - the reach: `require --solve-for length-km` and `--solve-for spans` agree
+    (length = spans x span length), and the demo study's reach grows with
+    the ADC bits and is longer for 16-QAM than for 64-QAM (its sweep run
+    thinned with --set).
 Exits 1 on any mismatch.
 """
 import json
 import math
+import os
 import subprocess
 import sys
+import tempfile
 
 from scipy import integrate
 
@@ -113,6 +119,44 @@ def main():
         want = gnrf_eta(80, 0.2, d, 1.3, 1550, rs, nch, df_ghz * 1e9)
         check(f"GN eta, {nch} ch at {df_ghz} GHz, {rs / 1e9:g} GBd, D {d} (dB)",
               10.0 * math.log10(eta), 10.0 * math.log10(want), TOL_GN_DB)
+    # reach: length-km and spans are the same question
+    link = ["--model", "gauss", "--alphabet", "qam:16", "--bits", "4", "--span-km", "80",
+            "--nf-db", "5", "--symbol-rate", "32e9", "--target", "ngmi=0.8", "--json"]
+    req = {}
+    for key in ("length-km", "spans"):
+        out = subprocess.run([exe, "require", "--solve-for", key, f"--{key}",
+                              "10" if key == "spans" else "800"] + link,
+                             capture_output=True, text=True, check=False)
+        if out.returncode != 0:
+            print(out.stderr)
+            sys.exit(1)
+        req[key] = json.loads(out.stdout)["required"]
+    check("reach by length-km and by spans (km)", req["length-km"], 80.0 * req["spans"],
+          1e-4 * req["length-km"])
+    # the demo study, thinned: reach grows with bits; 16-QAM reaches farther
+    with tempfile.TemporaryDirectory() as tmp:
+        out = subprocess.run([exe, "sweep", sys.argv[2], "--output-dir", tmp, "--no-plots",
+                              "--set", "length-km=800", "--set", "bits=3,6"],
+                             capture_output=True, text=True, check=False)
+        if out.returncode != 0:
+            print(out.stderr)
+            sys.exit(1)
+        with open(os.path.join(tmp, "results.json"), encoding="utf-8") as f:
+            points = json.load(f)
+    points = points["points"] if isinstance(points, dict) else points
+    reach = {}
+    for p in points:
+        reach[(p["alphabet"], p["result"]["bits"])] = p["result"]["required"]
+    for a in ("qam16", "qam64"):
+        ok = reach[(a, 6)] > reach[(a, 3)]
+        print(f"{'ok  ' if ok else 'FAIL'} demo {a}: reach {reach[(a, 3)]:.0f} km at 3 bits, "
+              f"{reach[(a, 6)]:.0f} km at 6 bits")
+        if not ok:
+            failures.append(f"demo reach {a}")
+    ok = reach[("qam16", 6)] > reach[("qam64", 6)]
+    print(f"{'ok  ' if ok else 'FAIL'} demo: 16-QAM reaches farther than 64-QAM")
+    if not ok:
+        failures.append("demo 16-QAM against 64-QAM")
     if failures:
         print(f"{len(failures)} mismatches")
         sys.exit(1)
