@@ -8,7 +8,9 @@
  *  - mean photons per slot n = η·P·T/(h·c/λ); quantum efficiency from a
  *    responsivity η = R·h·c/(q·λ) (same reference, sec. 4.1);
  *  - SNR = OSNR·2·B_ref/(p·R_s) (Essiambre et al., J. Lightw. Technol.
- *    28(4), 2010).
+ *    28(4), 2010);
+ *  - transmitter relative intensity noise: variance RIN·I²·B of a
+ *    photocurrent I (Agrawal, same book, ch. 4).
  * Every input is validated; messages name the parameter and its value. */
 #include "core/internal.h"
 #include "quantcap/frontend.h"
@@ -32,6 +34,7 @@ void qc_receiver_default(qc_receiver *rx)
     rx->dark_current = 0.0;
     rx->gain = 1.0;
     rx->ionization_ratio = 0.0;
+    rx->rin = 0.0;
 }
 
 /* value > 0 and finite (positive = 1) or ≥ 0 and finite (positive = 0) */
@@ -70,6 +73,8 @@ static qc_status receiver_check(const qc_receiver *rx, int need_bandwidth,
         st = need("dark_current", rx->dark_current, 0);
     if (st == QC_OK)
         st = qc_excess_noise_factor(rx->gain, rx->ionization_ratio, factor);
+    if (st == QC_OK)
+        st = need("rin", rx->rin, 0);
     if (st != QC_OK)
         return st;
     if (!isnan(rx->thermal_density)) {
@@ -176,7 +181,7 @@ qc_status qc_frontend_gauss_sd(const qc_receiver *rx, const double *power_w,
     params_clear(params);
     params[0] = sqrt(in2 * b + 2.0 * Q_E * rx->dark_current * m * m * F * b);
     params[1] = 2.0 * Q_E * m * F * b; /* per ampere of mean current M·R·P */
-    params[2] = 0.0;
+    params[2] = rx->rin * b;           /* RIN: variance RIN·I²·B            */
     for (size_t i = 0; i < nlevels; i++)
         levels[i] = m * rx->responsivity * power_w[i];
     return QC_OK;
@@ -195,8 +200,9 @@ qc_status qc_frontend_gauss(const qc_receiver *rx, const double *power_w,
     st = qc_receiver_noise(rx, pmean, &shot, &thermal);
     if (st != QC_OK)
         return st;
+    double mean_current = rx->gain * rx->responsivity * pmean;
     params_clear(params);
-    params[0] = sqrt(shot + thermal);
+    params[0] = sqrt(shot + thermal + rx->rin * mean_current * mean_current * rx->bandwidth);
     for (size_t i = 0; i < nlevels; i++)
         levels[i] = rx->gain * rx->responsivity * power_w[i];
     return QC_OK;

@@ -106,6 +106,9 @@ typedef struct {
                                     OSNR conversion assumes)               */
     /* The amplified fibre link that set the SNR, for reports (NULL: none). */
     const qc_fibre_link_result *fibre_link;
+    /* The unamplified intensity link that set the received power, for
+     * reports (NULL: none). */
+    const qc_intensity_link_result *intensity_link;
 } qc_design_channel;
 
 /* The quantizer. */

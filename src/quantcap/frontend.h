@@ -24,6 +24,9 @@ typedef struct {
     double dark_current;     /* primary dark current I_d, A (≥ 0), default 0 */
     double gain;             /* APD mean gain M (≥ 1), default 1 (PIN)     */
     double ionization_ratio; /* k in [0, 1], default 0                     */
+    double rin;              /* transmitter relative intensity noise, 1/Hz
+                                (linear, ≥ 0), default 0: adds the
+                                variance RIN·I²·B of a photocurrent I      */
 } qc_receiver;
 
 /* Defaults: responsivity, bandwidth, thermal_density, load_resistance
@@ -58,8 +61,9 @@ QC_API qc_status qc_intensity_levels(double power_dbm, double extinction_ratio,
 /* Parameters (in the order of the model type's params, array of
  * QC_MODEL_MAX_PARAMS) and levels for the Gaussian models. Levels are the
  * mean output currents M·R·P_i (A).
- *  gauss-sd: sigma0² = i_n²B + 2q·I_d·M²F·B, a = 2q·M·F·B, b = 0.
- *  gauss:    sigma² = thermal + shot at the mean power of the levels.
+ *  gauss-sd: sigma0² = i_n²B + 2q·I_d·M²F·B, a = 2q·M·F·B, b = RIN·B.
+ *  gauss:    sigma² = thermal + shot + RIN·I²·B at the mean power of the
+ *            levels (I = M·R·P_mean).
  * QC_EINVAL naming the receiver field or the power level at fault; on
  * failure params and levels are unchanged. Unused entries of params are
  * NaN (the model's default). */
@@ -111,6 +115,37 @@ QC_API qc_status qc_frontend_poisson(const double *power_w, size_t nlevels,
 QC_API qc_status qc_osnr_to_snr(double osnr_db, double ref_bandwidth,
                          double symbol_rate, int polarizations,
                          double *snr);
+
+/* ---- unamplified intensity links (src/frontend/intensity_link.c) ---- */
+
+/* Launch power, fibre and the losses of a point-to-point intensity link. */
+typedef struct {
+    double launch_dbm;        /* average launch power, dBm (required)      */
+    double length_km;         /* fibre length, km (≥ 0), default 0         */
+    double loss_db_km;        /* fibre attenuation, dB/km (≥ 0), default 0.2 */
+    double connector_loss_db; /* all connectors together, dB (≥ 0), default 0 */
+    double splice_loss_db;    /* all splices together, dB (≥ 0), default 0 */
+    double penalty_db;        /* power penalty budget (dispersion, ageing,
+                                 margin), dB (≥ 0), default 0             */
+} qc_intensity_link;
+
+/* What the intensity link delivers, for reports. */
+typedef struct {
+    double received_dbm;      /* average received power, dBm               */
+    double loss_db;           /* all losses and penalties together, dB     */
+} qc_intensity_link_result;
+
+#define QC_LINK_MAX_LOSS_DB 100.0 /* largest loss accepted for a link */
+
+/* Defaults as listed above (launch_dbm NaN). Never fails. */
+QC_API void qc_intensity_link_default(qc_intensity_link *link);
+
+/* Average received power = launch − α·L − connectors − splices − penalty
+ * (dBm), and the total of those losses (dB). QC_EINVAL naming the field
+ * out of range, or a total loss above QC_LINK_MAX_LOSS_DB; on failure
+ * both outputs are unchanged. */
+QC_API qc_status qc_intensity_link_received(const qc_intensity_link *link,
+                                            double *received_dbm, double *loss_db);
 
 /* ---- amplified coherent fibre links (src/frontend/fibre_link.c) ----- */
 

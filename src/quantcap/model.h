@@ -67,15 +67,17 @@ typedef enum {
 
 /* Settings keys the physical front ends take (for the `keys` lists of the
  * model types below). */
-#define QC_KEYS_OPTICAL_POWER "received-dbm", "peak-dbm", "extinction-db"
+#define QC_KEYS_OPTICAL_POWER                                                              \
+    "received-dbm", "peak-dbm", "extinction-db", "launch-dbm", "length-km", "loss-db-km",   \
+        "connector-loss-db", "splice-loss-db", "penalty-db"
 #define QC_KEYS_PHOTODETECTOR                                                              \
     "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
         "apd-gain", "apd-k"
-/* The amplified coherent fibre link (its SNR sets the Gaussian noise). */
+/* The amplified coherent fibre link (its SNR sets the Gaussian noise;
+ * launch-dbm, length-km and loss-db-km come with QC_KEYS_OPTICAL_POWER). */
 #define QC_KEYS_FIBRE_LINK                                                                 \
-    "spans", "span-km", "length-km", "loss-db-km", "nf-db", "gain-db", "launch-dbm",       \
-        "chromatic-dispersion", "gamma", "channels", "channel-spacing-ghz", "coherence",   \
-        "transceiver-snr-db", "wavelength-nm"
+    "spans", "span-km", "nf-db", "gain-db", "chromatic-dispersion", "gamma", "channels",     \
+        "channel-spacing-ghz", "coherence", "transceiver-snr-db", "wavelength-nm"
 
 typedef struct qc_model_type {
     const char *name;

@@ -223,6 +223,12 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     report_figures(o, res);
     if (req->channel.fibre_link)
         report_fibre_link(o, req->channel.fibre_link);
+    if (req->channel.intensity_link) {
+        json_object_set_new(o, "link_loss_db",
+                            qc_report_real(req->channel.intensity_link->loss_db));
+        json_object_set_new(o, "received_dbm",
+                            qc_report_real(req->channel.intensity_link->received_dbm));
+    }
     return o;
 }
 

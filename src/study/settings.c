@@ -115,7 +115,7 @@ static const key_spec keys[] = {
     NUMBER_FROM("nf-db", "F", "optical amplifier noise figure, dB", -INF, INF),
     NUMBER_ABOVE("gain-db", "G", "amplifier gain, dB (default: the span loss)", 0.0),
     NUMBER_FROM("launch-dbm", "P",
-                "launch power per channel, dBm (amplified link default: the optimum)", -INF,
+                "launch power (per channel), dBm (amplified link default: the optimum)", -INF,
                 INF),
     NUMBER("chromatic-dispersion", "D", "fibre chromatic dispersion, ps/(nm km) (default 17)"),
     NUMBER_FROM("gamma", "G", "fibre nonlinear coefficient, 1/(W km) (default 1.3; 0: linear)",
@@ -126,6 +126,15 @@ static const key_spec keys[] = {
                 "coherent-accumulation exponent of the NLI, N^(1+E), [0, 1) (default 0)", 0.0,
                 1.0),
     NUMBER("transceiver-snr-db", "X", "transceiver SNR limit, dB (default: none)"),
+    /* unamplified intensity link and transmitter noise (src/frontend) */
+    NUMBER_FROM("connector-loss-db", "C", "loss of all connectors of the link, dB (default 0)",
+                0.0, INF),
+    NUMBER_FROM("splice-loss-db", "S", "loss of all splices of the link, dB (default 0)", 0.0,
+                INF),
+    NUMBER_FROM("penalty-db", "P",
+                "power penalty budget of the link (dispersion, ageing, margin), dB (default 0)",
+                0.0, INF),
+    NUMBER("rin-db-hz", "R", "transmitter relative intensity noise, dB/Hz (default: none)"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

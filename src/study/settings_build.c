@@ -13,8 +13,22 @@
 static const char *const frontend_keys[] = {
     "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
-    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", NULL,
+    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", "rin-db-hz", NULL,
 };
+
+/* Keys of the unamplified intensity link in front of the receiver. */
+static const char *const intensity_link_keys[] = {
+    "launch-dbm", "length-km", "loss-db-km", "connector-loss-db", "splice-loss-db",
+    "penalty-db", NULL,
+};
+
+static const char *first_intensity_link_key(const qc_settings *s)
+{
+    for (size_t i = 0; intensity_link_keys[i]; i++)
+        if (qc_settings_get(s, intensity_link_keys[i]))
+            return intensity_link_keys[i];
+    return NULL;
+}
 
 static int is_frontend_key(const char *key)
 {
@@ -119,6 +133,10 @@ static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
         (st = number(s, "apd-k", rx->ionization_ratio, &rx->ionization_ratio)) != QC_OK)
         return st;
     rx->thermal_density = pa_per_rthz; /* the front end takes pA/√Hz */
+    double rin_db = -INFINITY;
+    if ((st = number(s, "rin-db-hz", rin_db, &rin_db)) != QC_OK)
+        return st;
+    rx->rin = pow(10.0, rin_db / 10.0); /* 0 without RIN */
     if (isnan(rx->responsivity))
         return qc_fail(QC_EINVAL, "'responsivity' (A/W) is required for the physical receiver");
     if (isnan(rx->thermal_density) && isnan(rx->load_resistance))
@@ -156,13 +174,36 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
     double dbm, ext_db, slot;
     qc_status st;
     int peak_given = qc_settings_get(s, "peak-dbm") != NULL;
+    const char *lk = first_intensity_link_key(s);
     if (peak_given && qc_settings_get(s, "received-dbm"))
         return qc_fail(QC_EINVAL, "give 'received-dbm' (average) or 'peak-dbm' (top level), "
                                   "not both");
-    if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
-                         : required(s, "received-dbm",
-                                    "(or 'peak-dbm') for the physical receiver", &dbm)) != QC_OK ||
-        (st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
+    if (lk && (peak_given || qc_settings_get(s, "received-dbm")))
+        return qc_fail(QC_EINVAL, "give the link ('%s') or the received power ('%s'), not "
+                                  "both: the link sets the received power",
+                       lk, peak_given ? "peak-dbm" : "received-dbm");
+    if (lk) {
+        qc_intensity_link il;
+        qc_intensity_link_default(&il);
+        double loss;
+        if ((st = required(s, "launch-dbm", "for the fibre link (average launch power)",
+                           &il.launch_dbm)) != QC_OK ||
+            (st = number(s, "length-km", il.length_km, &il.length_km)) != QC_OK ||
+            (st = number(s, "loss-db-km", il.loss_db_km, &il.loss_db_km)) != QC_OK ||
+            (st = number(s, "connector-loss-db", 0.0, &il.connector_loss_db)) != QC_OK ||
+            (st = number(s, "splice-loss-db", 0.0, &il.splice_loss_db)) != QC_OK ||
+            (st = number(s, "penalty-db", 0.0, &il.penalty_db)) != QC_OK ||
+            (st = qc_intensity_link_received(&il, &dbm, &loss)) != QC_OK)
+            return st;
+        s->ilink.received_dbm = dbm;
+        s->ilink.loss_db = loss;
+    } else if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
+                                : required(s, "received-dbm",
+                                           "(or 'peak-dbm') for the physical receiver",
+                                           &dbm)) != QC_OK) {
+        return st;
+    }
+    if ((st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
         return st;
     double *power = qc_malloc_array(nl, sizeof *power);
     if (!power)
@@ -633,13 +674,15 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
             return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or the parameters "
                                       "of model '%s', not both",
                            lk, type->name);
-        if (!lk && (qc_settings_get(s, "length-km") || qc_settings_get(s, "launch-dbm") ||
-                    qc_settings_get(s, "loss-db-km")))
-            return qc_fail(QC_EINVAL, "'%s' describes a fibre link: give the amplified link "
-                                      "('span-km', 'spans' or 'length-km', 'nf-db')",
-                           qc_settings_get(s, "length-km")    ? "length-km"
-                           : qc_settings_get(s, "launch-dbm") ? "launch-dbm"
-                                                              : "loss-db-km");
+        const char *ik = first_intensity_link_key(s);
+        if (lk && ik && (strcmp(ik, "connector-loss-db") == 0 ||
+                         strcmp(ik, "splice-loss-db") == 0 || strcmp(ik, "penalty-db") == 0))
+            return qc_fail(QC_EINVAL, "'%s' belongs to the unamplified intensity link; the "
+                                      "amplified fibre link ('%s') counts its losses in "
+                                      "the span loss",
+                           ik, lk);
+        if (!lk && ik && !fk)
+            fk = ik; /* the intensity link feeds the physical receiver */
         if (fk && snr_keys)
             return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or an SNR, not both",
                            fk);
@@ -649,6 +692,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
                            fk, type->name);
         if (fk) {
             st = physical_route(s, type, intensity, nl, params);
+            if (st == QC_OK && first_intensity_link_key(s))
+                req->channel.intensity_link = &s->ilink;
             /* the Gaussian models' levels are then photocurrents */
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
                 req->channel.level_unit = req->channel.output_unit = "A";

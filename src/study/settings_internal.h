@@ -21,6 +21,9 @@ struct qc_settings {
     qc_fec fec;
     /* the amplified fibre link of the last build (the request points here) */
     qc_fibre_link_result fibre;
+    /* the unamplified intensity link of the last build (the request
+     * points here) */
+    qc_intensity_link_result ilink;
 };
 
 

@@ -216,6 +216,69 @@ static void test_bad_links(void **state)
     expect(qc_fibre_link_eval(&l, &r), "'spans' must be >= 1");
 }
 
+static void test_intensity_link(void **state)
+{
+    (void)state;
+    /* the power budget written out: 3 dBm − 25 km × 0.35 dB/km − 1.5 dB
+     * connectors − 0.6 dB splices − 2 dB penalty = −9.85 dBm */
+    qc_intensity_link l;
+    qc_intensity_link_default(&l);
+    l.launch_dbm = 3.0;
+    l.length_km = 25.0;
+    l.loss_db_km = 0.35;
+    l.connector_loss_db = 1.5;
+    l.splice_loss_db = 0.6;
+    l.penalty_db = 2.0;
+    double rx, loss;
+    assert_int_equal(qc_intensity_link_received(&l, &rx, &loss), QC_OK);
+    near(rx, 3.0 - 8.75 - 1.5 - 0.6 - 2.0, 1e-12);
+    near(loss, 12.85, 1e-12);
+    /* the default attenuation is 0.2 dB/km: 10 km, 2 dB */
+    qc_intensity_link_default(&l);
+    l.launch_dbm = 0.0;
+    l.length_km = 10.0;
+    assert_int_equal(qc_intensity_link_received(&l, &rx, &loss), QC_OK);
+    near(rx, -2.0, 1e-12);
+    l.length_km = -1.0;
+    expect(qc_intensity_link_received(&l, &rx, &loss), "'length-km' must be >= 0");
+    l.length_km = 600.0; /* 120 dB */
+    expect(qc_intensity_link_received(&l, &rx, &loss),
+           "more than the 100 dB any photodiode receiver is seen behind");
+    l.length_km = 10.0;
+    l.launch_dbm = NAN;
+    expect(qc_intensity_link_received(&l, &rx, &loss), "'launch-dbm' is required");
+}
+
+static void test_rin(void **state)
+{
+    (void)state;
+    /* RIN adds the variance RIN·I²·B of a photocurrent I (Agrawal,
+     * Fiber-Optic Communication Systems, 4th ed., ch. 4): gauss-sd's
+     * signal-squared coefficient b = RIN·B; gauss's σ² gains RIN·I²·B at
+     * the mean current */
+    qc_receiver rx;
+    qc_receiver_default(&rx);
+    rx.responsivity = 0.8;
+    rx.bandwidth = 20e9;
+    rx.thermal_density = 15.0;
+    double power[2] = {1e-4, 1e-3}, p0[QC_MODEL_MAX_PARAMS], p1[QC_MODEL_MAX_PARAMS], lv[2];
+    assert_int_equal(qc_frontend_gauss_sd(&rx, power, 2, p0, lv), QC_OK);
+    assert_true(p0[2] == 0.0);
+    rx.rin = 1e-14; /* −140 dB/Hz */
+    assert_int_equal(qc_frontend_gauss_sd(&rx, power, 2, p1, lv), QC_OK);
+    rel(p1[2], 1e-14 * 20e9, 1e-15);
+    assert_true(p1[0] == p0[0] && p1[1] == p0[1]);
+    double g0[QC_MODEL_MAX_PARAMS], g1[QC_MODEL_MAX_PARAMS];
+    rx.rin = 0.0;
+    assert_int_equal(qc_frontend_gauss(&rx, power, 2, g0, lv), QC_OK);
+    rx.rin = 1e-14;
+    assert_int_equal(qc_frontend_gauss(&rx, power, 2, g1, lv), QC_OK);
+    double i = 0.8 * 5.5e-4;
+    rel(g1[0] * g1[0] - g0[0] * g0[0], 1e-14 * i * i * 20e9, 1e-9);
+    rx.rin = -1.0;
+    expect(qc_frontend_gauss(&rx, power, 2, g1, lv), "'rin' must be >= 0");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -224,6 +287,8 @@ int main(void)
         cmocka_unit_test(test_optimum),
         cmocka_unit_test(test_gain_drift),
         cmocka_unit_test(test_bad_links),
+        cmocka_unit_test(test_intensity_link),
+        cmocka_unit_test(test_rin),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
