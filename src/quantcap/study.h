@@ -87,14 +87,17 @@ QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double 
  * asking for a range. An amplified fibre link (span-km given) searches
  * spans from 1 to 1000, length-km from one to 1000 spans, and launch-dbm
  * from 30 dB below its optimum launch power up to it (whatever the
- * settings' own values). */
+ * settings' own values). An unamplified intensity link (launch-dbm)
+ * searches length-km from 10 m up to the length whose losses reach
+ * QC_LINK_MAX_LOSS_DB. */
 QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                            double *hi);
 
 /* The key a design's penalty at a target is solved for: the one that
  * sets its operating point (peak-dbm or received-dbm of a physical
  * receiver, snr-db, osnr-db, signal of a photon-counting or APD model;
- * spans or length-km of an amplified fibre link).
+ * spans or length-km of an amplified fibre link; launch-dbm of an
+ * unamplified intensity link).
  * NULL when there is none, with *why saying so (a static phrase: a
  * measured table, parameters such as sigma given directly). Sets no
  * message. */

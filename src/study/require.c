@@ -67,6 +67,10 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
     if (qc_settings_get(s, "span-km") && (qc_settings_get(s, "spans") ||
                                           qc_settings_get(s, "length-km")))
         return qc_settings_get(s, "spans") ? "spans" : "length-km";
+    /* an unamplified intensity link: the launch power sets the received
+     * power dB for dB, so its penalty is the receiver's power penalty */
+    if (!qc_settings_get(s, "span-km") && qc_settings_get(s, "launch-dbm"))
+        return "launch-dbm";
     for (size_t i = 0; keys[i]; i++)
         if (qc_settings_get(s, keys[i]))
             return keys[i];
@@ -86,6 +90,39 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
 #define MAX_REACH_SPANS 1000.0 /* longest amplified link searched, in spans */
 #define LAUNCH_BELOW_DB 30.0    /* launch powers searched below the optimum  */
 
+#define MIN_LINK_KM 0.01 /* shortest intensity link searched: 10 m */
+
+/* An unamplified intensity link (launch-dbm given): length-km from 10 m
+ * up to the length whose losses reach QC_LINK_MAX_LOSS_DB. */
+static qc_status intensity_range(const qc_settings *s, const char *key, double *lo,
+                                 double *hi, int *done)
+{
+    static const char *const others[] = {"connector-loss-db", "splice-loss-db", "penalty-db",
+                                         NULL};
+    if (strcmp(key, "length-km") != 0 || !qc_settings_get(s, "launch-dbm"))
+        return QC_OK;
+    double alpha = 0.2, fixed = 0.0, v;
+    qc_status st;
+    if (qc_settings_get(s, "loss-db-km") &&
+        (st = qc_parse_double(qc_settings_get(s, "loss-db-km"), &alpha)) != QC_OK)
+        return qc_fail(st, "loss-db-km: %s", qc_last_error());
+    for (size_t i = 0; others[i]; i++)
+        if (qc_settings_get(s, others[i])) {
+            if ((st = qc_parse_double(qc_settings_get(s, others[i]), &v)) != QC_OK)
+                return qc_fail(st, "%s: %s", others[i], qc_last_error());
+            fixed += v;
+        }
+    double longest = (QC_LINK_MAX_LOSS_DB - fixed) / alpha * (1.0 - 1e-9);
+    if (!(alpha > 0.0) || !(longest > MIN_LINK_KM))
+        return qc_fail(QC_EINVAL, "give the search range of length-km (no fibre length "
+                                  "below the %g dB loss limit to search)",
+                       QC_LINK_MAX_LOSS_DB);
+    *lo = MIN_LINK_KM;
+    *hi = longest;
+    *done = 1;
+    return QC_OK;
+}
+
 /* The amplified fibre link's default ranges: the launch power from 30 dB
  * below the optimum up to it (above it the SNR falls again), the spans
  * from 1 to 1000, the length from one span to 1000. *done 0: not a key
@@ -95,7 +132,7 @@ static qc_status fibre_range(const qc_settings *s, const char *key, double *lo, 
 {
     *done = 0;
     if (!qc_settings_get(s, "span-km"))
-        return QC_OK;
+        return intensity_range(s, key, lo, hi, done);
     double span;
     qc_status st = qc_parse_double(qc_settings_get(s, "span-km"), &span);
     if (st != QC_OK)
