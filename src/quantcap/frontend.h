@@ -106,6 +106,19 @@ QC_API qc_status qc_frontend_poisson(const double *power_w, size_t nlevels,
                               double efficiency, double dark_count_rate,
                               double *params, double *levels);
 
+/* Parameters of `preamp` for an optical amplifier (gain G, noise figure
+ * NF, both dB) followed by an optical filter of bandwidth B_o (Hz) and
+ * integrate-and-dump direct detection over a slot T (s): modes
+ * m = B_o·T·p (p = ase_polarizations, 1 behind a polarizer, else 2), and
+ * levels x_i = G·P_i·T / N_0 in units of the ASE energy per mode
+ * N_0 = n_sp·(G − 1)·h·ν, n_sp = (NF·G − 1)/(2(G − 1)). QC_EINVAL naming
+ * the argument (a noise figure below 2 − 1/G, fewer than 1 mode, ...);
+ * on failure params and levels are unchanged. */
+QC_API qc_status qc_frontend_preamp(const double *power_w, size_t nlevels, double slot_time,
+                                    double wavelength, double gain_db, double nf_db,
+                                    double optical_bandwidth, int ase_polarizations,
+                                    double *params, double *levels);
+
 #define QC_OSNR_REF_BANDWIDTH 12.5e9 /* Hz: 0.1 nm at 1550 nm */
 
 /* Electrical SNR from OSNR: SNR = OSNR·2·B_ref/(p·R_s) (Essiambre et al.,

@@ -63,6 +63,7 @@ typedef enum {
     QC_FRONTEND_GAUSS_SD, /* PIN/APD current, signal-dependent noise       */
     QC_FRONTEND_APD,      /* APD electrons per slot (integrate and dump)   */
     QC_FRONTEND_PHOTONS,  /* photons counted per slot                      */
+    QC_FRONTEND_PREAMP,   /* optical amplifier, filter, direct detection    */
 } qc_frontend_kind;
 
 /* Settings keys the physical front ends take (for the `keys` lists of the
@@ -73,6 +74,10 @@ typedef enum {
 #define QC_KEYS_PHOTODETECTOR                                                              \
     "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
         "apd-gain", "apd-k"
+/* The optical pre-amplifier in front of direct detection. */
+#define QC_KEYS_PREAMP                                                                     \
+    "gain-db", "nf-db", "optical-bandwidth", "slot-time", "ase-polarizations", "wavelength-nm"
+
 /* The amplified coherent fibre link (its SNR sets the Gaussian noise;
  * launch-dbm, length-km and loss-db-km come with QC_KEYS_OPTICAL_POWER). */
 #define QC_KEYS_FIBRE_LINK                                                                 \

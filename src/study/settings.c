@@ -135,6 +135,11 @@ static const key_spec keys[] = {
                 "power penalty budget of the link (dispersion, ageing, margin), dB (default 0)",
                 0.0, INF),
     NUMBER("rin-db-hz", "R", "transmitter relative intensity noise, dB/Hz (default: none)"),
+    /* optical pre-amplifier (model preamp) */
+    NUMBER_ABOVE("optical-bandwidth", "B", "optical filter bandwidth before direct detection, Hz",
+                 0.0),
+    WHOLE("ase-polarizations", "P",
+          "polarizations of the ASE detected: 1 behind a polarizer, else 2 (default 2)", 1, 2),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

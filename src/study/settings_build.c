@@ -13,7 +13,8 @@
 static const char *const frontend_keys[] = {
     "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
-    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", "rin-db-hz", NULL,
+    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", "rin-db-hz",
+    "optical-bandwidth", "ase-polarizations", NULL,
 };
 
 /* Keys of the unamplified intensity link in front of the receiver. */
@@ -222,6 +223,18 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
             (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK)
             st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
                                      s->levels);
+    } else if (st == QC_OK && type->frontend == QC_FRONTEND_PREAMP) {
+        double lambda_nm, gain, nf, bo, pol;
+        if ((st = required(s, "slot-time", "for the pre-amplified receiver (s)", &slot)) ==
+                QC_OK &&
+            (st = number(s, "wavelength-nm", 1550.0, &lambda_nm)) == QC_OK &&
+            (st = required(s, "gain-db", "for the pre-amplified receiver", &gain)) == QC_OK &&
+            (st = required(s, "nf-db", "for the pre-amplified receiver", &nf)) == QC_OK &&
+            (st = required(s, "optical-bandwidth", "for the pre-amplified receiver (Hz)",
+                           &bo)) == QC_OK &&
+            (st = number(s, "ase-polarizations", 2.0, &pol)) == QC_OK)
+            st = qc_frontend_preamp(power, nl, slot, lambda_nm * 1e-9, gain, nf, bo, (int)pol,
+                                    params, s->levels);
     } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
         if ((st = receiver_of(s, &rx)) == QC_OK &&
             (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK)
@@ -663,7 +676,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     /* model parameters: physical receiver, SNR/OSNR, or as given */
     if (!is_table) {
         int snr_keys = qc_settings_get(s, "snr-db") || qc_settings_get(s, "osnr-db");
-        const char *lk = first_fibre_key(s);
+        /* the pre-amplifier's gain and noise figure are not a fibre link */
+        const char *lk = type->frontend == QC_FRONTEND_PREAMP ? NULL : first_fibre_key(s);
         if (lk && fk && strcmp(fk, "wavelength-nm") == 0)
             fk = NULL; /* the link's wavelength */
         if (lk && (fk || snr_keys))

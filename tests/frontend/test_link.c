@@ -279,6 +279,38 @@ static void test_rin(void **state)
     expect(qc_frontend_gauss(&rx, power, 2, g1, lv), "'rin' must be >= 0");
 }
 
+static void test_preamp(void **state)
+{
+    (void)state;
+    /* modes m = B_o·T·p; x = G·P·T/N_0 with N_0 = n_sp(G − 1)hν and
+     * NF = 2n_sp(G − 1)/G + 1/G (Desurvire 1994), written out */
+    double power[2] = {0.0, 2e-9}, params[QC_MODEL_MAX_PARAMS], lv[2];
+    assert_int_equal(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, 30.0, 4.0, 50e9, 2, params,
+                                        lv),
+                     QC_OK);
+    rel(params[0], 10.0, 1e-15);
+    double g = 1e3, nf = pow(10.0, 0.4), hnu = H_P * C_0 / 1550e-9;
+    double nsp = (nf * g - 1.0) / (2.0 * (g - 1.0));
+    rel(lv[1], g * 2e-9 * 1e-10 / (nsp * (g - 1.0) * hnu), TOL_CODATA);
+    assert_true(lv[0] == 0.0);
+    /* at the quantum limit NF = 2 − 1/G (n_sp = 1) the signal in ASE
+     * energies per mode is G/(G − 1) times the photons per slot */
+    double nf_db = 10.0 * log10(2.0 - 1.0 / g), photons = 2e-9 * 1e-10 / hnu;
+    assert_int_equal(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, 30.0, nf_db, 1e10, 1,
+                                        params, lv),
+                     QC_OK);
+    rel(lv[1], photons * g / (g - 1.0), TOL_CODATA);
+    rel(params[0], 1.0, 1e-15);
+    expect(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, 30.0, 2.0, 50e9, 2, params, lv),
+           "below the quantum limit");
+    expect(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, 30.0, 4.0, 1e9, 2, params, lv),
+           "model 'preamp' needs 1 to 1e6");
+    expect(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, -3.0, 4.0, 50e9, 2, params, lv),
+           "'gain-db' of the pre-amplifier must be > 0 dB");
+    expect(qc_frontend_preamp(power, 2, 1e-10, 1550e-9, 30.0, 4.0, 50e9, 3, params, lv),
+           "'ase-polarizations' must be 1 or 2");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -289,6 +321,7 @@ int main(void)
         cmocka_unit_test(test_bad_links),
         cmocka_unit_test(test_intensity_link),
         cmocka_unit_test(test_rin),
+        cmocka_unit_test(test_preamp),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
