@@ -353,8 +353,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (req->channel.fibre_link)
         print_fibre_link(f, req->channel.fibre_link);
     if (req->channel.intensity_link)
-        fprintf(f, "link         loss %.3f dB (fibre, connectors, splices, penalties); "
-                   "received %.3f dBm average\n",
+        fprintf(f, "link         loss %.3f dB in all; received %.3f dBm average\n",
                 req->channel.intensity_link->loss_db,
                 req->channel.intensity_link->received_dbm);
     fprintf(f, "\n");

@@ -160,6 +160,39 @@ QC_API void qc_intensity_link_default(qc_intensity_link *link);
 QC_API qc_status qc_intensity_link_received(const qc_intensity_link *link,
                                             double *received_dbm, double *loss_db);
 
+/* ---- free-space links (src/frontend/free_space.c) ------------------ */
+
+typedef struct {
+    double transmit_dbm;        /* transmit power, dBm (key launch-dbm)    */
+    double range_km;            /* R, km (> 0)                              */
+    double wavelength_nm;       /* λ, nm (> 0)                              */
+    double tx_aperture_m;       /* D_t, m (> 0)                             */
+    double rx_aperture_m;       /* D_r, m (> 0)                             */
+    double pointing_loss_db;    /* ≥ 0, default 0                           */
+    double atmosphere_loss_db;  /* ≥ 0, default 0                           */
+    double background_radiance; /* L_λ, W/(m²·sr·nm) (≥ 0), default 0      */
+    double field_of_view_mrad;  /* full angle θ, mrad (with a radiance)     */
+    double filter_nm;           /* optical filter Δλ, nm (with a radiance)  */
+} qc_free_space_link;
+
+typedef struct {
+    double geometric_loss_db;   /* −20·log10(π·D_t·D_r/(4·λ·R))             */
+    double loss_db;             /* geometric + pointing + atmosphere        */
+    double received_dbm;        /* transmit power − loss                    */
+    double background_w;        /* background power collected, W           */
+} qc_free_space_result;
+
+/* Defaults: pointing and atmosphere 0 dB, no background; the rest NaN
+ * (to be given). Never fails. */
+QC_API void qc_free_space_link_default(qc_free_space_link *link);
+
+/* The range equation in the far field (docs/models.md, "Free-space
+ * link"). QC_EINVAL naming the field, or a range in the near field (the
+ * receive aperture would collect more than is sent); on failure *res is
+ * unchanged. */
+QC_API qc_status qc_free_space_link_eval(const qc_free_space_link *link,
+                                         qc_free_space_result *res);
+
 /* ---- amplified coherent fibre links (src/frontend/fibre_link.c) ----- */
 
 /* A chain of `spans` fibre spans, each followed by an optical amplifier,

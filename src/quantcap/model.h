@@ -74,6 +74,12 @@ typedef enum {
 #define QC_KEYS_PHOTODETECTOR                                                              \
     "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
         "apd-gain", "apd-k"
+/* The free-space link in front of a photon-counting or APD receiver
+ * (launch-dbm, the transmit power, comes with QC_KEYS_OPTICAL_POWER). */
+#define QC_KEYS_FREE_SPACE                                                                 \
+    "range-km", "tx-aperture-m", "rx-aperture-m", "pointing-loss-db", "atmosphere-loss-db", \
+        "background-radiance", "field-of-view-mrad", "filter-nm"
+
 /* The optical pre-amplifier in front of direct detection. */
 #define QC_KEYS_PREAMP                                                                     \
     "gain-db", "nf-db", "optical-bandwidth", "slot-time", "ase-polarizations", "wavelength-nm"

@@ -135,6 +135,16 @@ static const key_spec keys[] = {
                 "power penalty budget of the link (dispersion, ageing, margin), dB (default 0)",
                 0.0, INF),
     NUMBER("rin-db-hz", "R", "transmitter relative intensity noise, dB/Hz (default: none)"),
+    /* free-space link (src/frontend/free_space.c) */
+    NUMBER_ABOVE("range-km", "R", "free-space link range, km", 0.0),
+    NUMBER_ABOVE("tx-aperture-m", "D", "transmit aperture diameter, m", 0.0),
+    NUMBER_ABOVE("rx-aperture-m", "D", "receive aperture diameter, m", 0.0),
+    NUMBER_FROM("pointing-loss-db", "L", "pointing loss, dB (default 0)", 0.0, INF),
+    NUMBER_FROM("atmosphere-loss-db", "L", "atmospheric loss, dB (default 0)", 0.0, INF),
+    NUMBER_FROM("background-radiance", "L",
+                "background spectral radiance, W/(m^2 sr nm) (default 0)", 0.0, INF),
+    NUMBER_ABOVE("field-of-view-mrad", "F", "receiver full field of view, mrad", 0.0),
+    NUMBER_ABOVE("filter-nm", "W", "receiver optical filter bandwidth, nm", 0.0),
     /* optical pre-amplifier (model preamp) */
     NUMBER_ABOVE("optical-bandwidth", "B", "optical filter bandwidth before direct detection, Hz",
                  0.0),

@@ -14,7 +14,7 @@ static const char *const frontend_keys[] = {
     "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
     "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", "rin-db-hz",
-    "optical-bandwidth", "ase-polarizations", NULL,
+    "optical-bandwidth", "ase-polarizations", "range-km", NULL,
 };
 
 /* Keys of the unamplified intensity link in front of the receiver. */
@@ -163,6 +163,19 @@ static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *e
     return st == QC_OK ? qc_responsivity_to_efficiency(r, lambda_nm * 1e-9, eta) : st;
 }
 
+/* Background photons per second η·P_b/(hν) added to the count rate. */
+static qc_status background_photons(double power_w, double lambda_nm, double eta,
+                                    double *rate)
+{
+    if (!(power_w > 0.0))
+        return QC_OK;
+    double n;
+    qc_status st = qc_photons_per_slot(power_w, 1.0, lambda_nm * 1e-9, eta, &n);
+    if (st == QC_OK)
+        *rate += n;
+    return st;
+}
+
 /* Physical route: optical powers of an intensity alphabet → parameters
  * and levels of the chosen model. Replaces s->levels. */
 static qc_status physical_route(qc_settings *s, const qc_model_type *type, int intensity,
@@ -183,7 +196,41 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         return qc_fail(QC_EINVAL, "give the link ('%s') or the received power ('%s'), not "
                                   "both: the link sets the received power",
                        lk, peak_given ? "peak-dbm" : "received-dbm");
-    if (lk) {
+    const int free_space = qc_settings_get(s, "range-km") != NULL;
+    double background_w = 0.0;
+    if (free_space) {
+        static const char *const fibre_only[] = {"length-km", "loss-db-km", "connector-loss-db",
+                                                 "splice-loss-db", "penalty-db", NULL};
+        for (size_t i = 0; fibre_only[i]; i++)
+            if (qc_settings_get(s, fibre_only[i]))
+                return qc_fail(QC_EINVAL, "'%s' belongs to a fibre link; the free-space link "
+                                          "('range-km') counts its losses in "
+                                          "'pointing-loss-db' and 'atmosphere-loss-db'",
+                               fibre_only[i]);
+        qc_free_space_link fl;
+        qc_free_space_result fr;
+        qc_free_space_link_default(&fl);
+        if ((st = required(s, "launch-dbm", "for the free-space link (the transmit power)",
+                           &fl.transmit_dbm)) != QC_OK ||
+            (st = number(s, "range-km", NAN, &fl.range_km)) != QC_OK ||
+            (st = required(s, "wavelength-nm", "for the free-space link", &fl.wavelength_nm)) !=
+                QC_OK ||
+            (st = required(s, "tx-aperture-m", "for the free-space link", &fl.tx_aperture_m)) !=
+                QC_OK ||
+            (st = required(s, "rx-aperture-m", "for the free-space link", &fl.rx_aperture_m)) !=
+                QC_OK ||
+            (st = number(s, "pointing-loss-db", 0.0, &fl.pointing_loss_db)) != QC_OK ||
+            (st = number(s, "atmosphere-loss-db", 0.0, &fl.atmosphere_loss_db)) != QC_OK ||
+            (st = number(s, "background-radiance", 0.0, &fl.background_radiance)) != QC_OK ||
+            (st = number(s, "field-of-view-mrad", NAN, &fl.field_of_view_mrad)) != QC_OK ||
+            (st = number(s, "filter-nm", NAN, &fl.filter_nm)) != QC_OK ||
+            (st = qc_free_space_link_eval(&fl, &fr)) != QC_OK)
+            return st;
+        dbm = fr.received_dbm;
+        background_w = fr.background_w;
+        s->ilink.received_dbm = dbm;
+        s->ilink.loss_db = fr.loss_db;
+    } else if (lk) {
         qc_intensity_link il;
         qc_intensity_link_default(&il);
         double loss;
@@ -220,7 +267,8 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         if ((st = required(s, "slot-time", "for photon counting (s)", &slot)) == QC_OK &&
             (st = required(s, "wavelength-nm", "for photon counting", &lambda_nm)) == QC_OK &&
             (st = efficiency_of(s, lambda_nm, &eta)) == QC_OK &&
-            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK)
+            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK &&
+            (st = background_photons(background_w, lambda_nm, eta, &dark)) == QC_OK)
             st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
                                      s->levels);
     } else if (st == QC_OK && type->frontend == QC_FRONTEND_PREAMP) {
@@ -237,8 +285,10 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
                                     params, s->levels);
     } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
         if ((st = receiver_of(s, &rx)) == QC_OK &&
-            (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK)
+            (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK) {
+            rx.dark_current += rx.responsivity * background_w; /* background photocurrent */
             st = qc_frontend_apd(&rx, slot, power, nl, params, s->levels);
+        }
     } else if (st == QC_OK && (type->frontend == QC_FRONTEND_GAUSS_SD ||
                                type->frontend == QC_FRONTEND_GAUSS)) {
         if ((st = receiver_of(s, &rx)) == QC_OK && isnan(rx.bandwidth))
@@ -680,6 +730,11 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         const char *lk = type->frontend == QC_FRONTEND_PREAMP ? NULL : first_fibre_key(s);
         if (lk && fk && strcmp(fk, "wavelength-nm") == 0)
             fk = NULL; /* the link's wavelength */
+        if (!lk && type->frontend == QC_FRONTEND_GAUSS && qc_settings_get(s, "wavelength-nm"))
+            return qc_fail(QC_EINVAL, "'wavelength-nm' does not apply to model '%s' without "
+                                      "the amplified fibre link ('span-km', 'spans', "
+                                      "'nf-db', ...)",
+                           type->name);
         if (lk && (fk || snr_keys))
             return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or %s%s%s, not both",
                            lk, fk ? "the physical receiver ('" : "an SNR", fk ? fk : "",
@@ -706,7 +761,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
                            fk, type->name);
         if (fk) {
             st = physical_route(s, type, intensity, nl, params);
-            if (st == QC_OK && first_intensity_link_key(s))
+            if (st == QC_OK && (first_intensity_link_key(s) || qc_settings_get(s, "range-km")))
                 req->channel.intensity_link = &s->ilink;
             /* the Gaussian models' levels are then photocurrents */
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)

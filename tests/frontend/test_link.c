@@ -15,6 +15,10 @@
 #include "quantcap.h"
 #include "test_helpers.h"
 
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
 #define H_P 6.62607015e-34
 #define C_0 299792458.0
 
@@ -311,6 +315,54 @@ static void test_preamp(void **state)
            "'ase-polarizations' must be 1 or 2");
 }
 
+static void test_free_space(void **state)
+{
+    (void)state;
+    /* range equation with diffraction-limited apertures (Friis, Proc. IRE
+     * 34(5), 1946): P_r = P_t·(π·D_t·D_r/(4·λ·R))²·losses, written out */
+    qc_free_space_link l;
+    qc_free_space_link_default(&l);
+    l.transmit_dbm = 20.0;
+    l.range_km = 1000.0;
+    l.wavelength_nm = 1550.0;
+    l.tx_aperture_m = 0.1;
+    l.rx_aperture_m = 0.3;
+    l.pointing_loss_db = 3.0;
+    l.atmosphere_loss_db = 2.0;
+    qc_free_space_result r, r2;
+    assert_int_equal(qc_free_space_link_eval(&l, &r), QC_OK);
+    double c = M_PI * 0.1 * 0.3 / (4.0 * 1550e-9 * 1e6);
+    near(r.geometric_loss_db, -20.0 * log10(c), 1e-9);
+    near(r.received_dbm, 20.0 + 20.0 * log10(c) - 5.0, 1e-9);
+    near(r.loss_db, r.geometric_loss_db + 5.0, 1e-12);
+    /* far field: 6.02 dB less per doubling of the range (inverse square) */
+    l.range_km = 2000.0;
+    assert_int_equal(qc_free_space_link_eval(&l, &r2), QC_OK);
+    near(r.received_dbm - r2.received_dbm, 20.0 * log10(2.0), 1e-9);
+    assert_true(r2.background_w == 0.0);
+    /* background: P_b = L·(π D_r²/4)·π(θ/2)²·Δλ written out */
+    l.background_radiance = 1e-3;
+    l.field_of_view_mrad = 0.2;
+    l.filter_nm = 1.0;
+    assert_int_equal(qc_free_space_link_eval(&l, &r2), QC_OK);
+    rel(r2.background_w, 1e-3 * M_PI * 0.0225 * M_PI * 1e-8 * 1.0, 1e-12);
+    l.filter_nm = NAN;
+    expect(qc_free_space_link_eval(&l, &r2), "'filter-nm' is required");
+    /* near field: the range equation would have more received than sent */
+    qc_free_space_link_default(&l);
+    l.transmit_dbm = 0.0;
+    l.range_km = 0.01;
+    l.wavelength_nm = 1550.0;
+    l.tx_aperture_m = 0.3;
+    l.rx_aperture_m = 0.3;
+    expect(qc_free_space_link_eval(&l, &r), "near field");
+    l.range_km = -5.0;
+    expect(qc_free_space_link_eval(&l, &r), "'range-km' must be > 0");
+    l.range_km = 100.0;
+    l.pointing_loss_db = -1.0;
+    expect(qc_free_space_link_eval(&l, &r), "'pointing-loss-db' must be >= 0");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -322,6 +374,7 @@ int main(void)
         cmocka_unit_test(test_intensity_link),
         cmocka_unit_test(test_rin),
         cmocka_unit_test(test_preamp),
+        cmocka_unit_test(test_free_space),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
