@@ -13,8 +13,9 @@
 static const cli_opt require_options[] = {
     {"target", "KIND=VALUE",
      "what to meet: ber=X, ngmi=X, gmi=X (bit/symbol), rate=X (bit/symbol) or fec=NAME"},
-    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, or any numeric "
-                         "model or front-end key"},
+    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, a link's "
+                         "length-km, spans, launch-dbm or range-km, or any numeric model or "
+                         "front-end key"},
     {"range", "LO,HI", "search range of that quantity (default: around the operating value)"},
     {"json", NULL, "machine-readable JSON output"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
@@ -29,6 +30,8 @@ static const char *const key_units[][2] = {
     {"slot-time", "s"},       {"wavelength-nm", "nm"}, {"dark-count-rate", "1/s"},
     {"spans", "spans"},       {"span-km", "km"},       {"length-km", "km"},
     {"loss-db-km", "dB/km"},  {"gamma", "1/(W km)"},   {"chromatic-dispersion", "ps/(nm km)"},
+    {"range-km", "km"},       {"tx-aperture-m", "m"},  {"rx-aperture-m", "m"},
+    {"optical-bandwidth", "Hz"}, {"filter-nm", "nm"},  {"field-of-view-mrad", "mrad"},
     {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
 };
 
@@ -52,7 +55,11 @@ static void help(const cli_args *a)
            "reached; a figure that crosses the target more than once is not monotone there\n"
            "and is an error too (narrow --range).\n"
            "Default range: the operating value +-30 dB (dB keys) or a factor 1000 either\n"
-           "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n\n"
+           "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n"
+           "Links: an amplified fibre link searches spans 1..1000 (length-km the same in\n"
+           "km) and launch-dbm up to its optimum launch power; an unamplified link\n"
+           "length-km from 10 m to a 100 dB loss; a free-space link range-km a factor 30\n"
+           "either way, beyond the near field.\n\n"
            "options:\n");
     cli_print_options(a, stdout);
 }

@@ -89,7 +89,9 @@ QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double 
  * from 30 dB below its optimum launch power up to it (whatever the
  * settings' own values). An unamplified intensity link (launch-dbm)
  * searches length-km from 10 m up to the length whose losses reach
- * QC_LINK_MAX_LOSS_DB. */
+ * QC_LINK_MAX_LOSS_DB; a free-space link range-km from twice its
+ * far-field boundary π·D_t·D_r/(4λ) (or its value / 30) up to its value
+ * × 30 (10^6 boundaries without one). */
 QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                            double *hi);
 

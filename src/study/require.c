@@ -123,6 +123,44 @@ static qc_status intensity_range(const qc_settings *s, const char *key, double *
     return QC_OK;
 }
 
+#define RANGE_FACTOR 30.0    /* range-km searched either way of its value:
+                                ±29.5 dB of received power              */
+#define FAR_FIELD_FACTOR 2.0 /* shortest range searched: twice the range
+                                where the range equation delivers all    */
+
+/* A free-space link: range-km from twice the far-field boundary
+ * π·D_t·D_r/(4λ) (or the operating value / 30, if longer) up to the
+ * operating value × 30 (or 10^6 boundaries). */
+static qc_status free_space_range(const qc_settings *s, double *lo, double *hi, int *done)
+{
+    static const char *const keys[] = {"tx-aperture-m", "rx-aperture-m", "wavelength-nm"};
+    double v[3];
+    for (size_t i = 0; i < 3; i++) {
+        const char *t = qc_settings_get(s, keys[i]);
+        if (!t)
+            return QC_OK; /* the build names what is missing */
+        qc_status st = qc_parse_double(t, &v[i]);
+        if (st != QC_OK)
+            return qc_fail(st, "%s: %s", keys[i], qc_last_error());
+    }
+    double boundary_km = 3.14159265358979323846 * v[0] * v[1] / (4.0 * v[2] * 1e-9) * 1e-3;
+    double op = NAN;
+    const char *t = qc_settings_get(s, "range-km");
+    if (t && qc_parse_double(t, &op) != QC_OK)
+        op = NAN;
+    *lo = FAR_FIELD_FACTOR * boundary_km;
+    *hi = boundary_km * 1e6;
+    if (isfinite(op) && op > 0.0) {
+        *lo = fmax(*lo, op / RANGE_FACTOR);
+        *hi = op * RANGE_FACTOR;
+    }
+    if (!(*hi > *lo))
+        return qc_fail(QC_EINVAL, "give the search range of range-km (the operating range is "
+                                  "too close to the near field)");
+    *done = 1;
+    return QC_OK;
+}
+
 /* The amplified fibre link's default ranges: the launch power from 30 dB
  * below the optimum up to it (above it the SNR falls again), the spans
  * from 1 to 1000, the length from one span to 1000. *done 0: not a key
@@ -131,6 +169,8 @@ static qc_status fibre_range(const qc_settings *s, const char *key, double *lo, 
                              int *done)
 {
     *done = 0;
+    if (strcmp(key, "range-km") == 0)
+        return free_space_range(s, lo, hi, done);
     if (!qc_settings_get(s, "span-km"))
         return intensity_range(s, key, lo, hi, done);
     double span;
