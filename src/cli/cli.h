@@ -15,7 +15,7 @@
 /* Exit codes. */
 enum { CLI_OK = 0, CLI_NUMERIC = 1, CLI_USAGE = 2, CLI_HELP = 100 };
 
-#define CLI_MAX_OPTS 96
+#define CLI_MAX_OPTS 256
 #define CLI_MAX_POSITIONAL 4
 
 /* One option: a flag "--name" with a value (metavar != NULL) or without. */

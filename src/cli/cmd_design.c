@@ -321,6 +321,26 @@ static void print_converter(FILE *f, const qc_design_request *req, const qc_desi
                 r->draws, r->draws_mean_bits, r->draws_sd_bits, r->draws_ci95_bits);
 }
 
+/* The amplified fibre link that set the SNR. */
+static void print_fibre_link(FILE *f, const qc_fibre_link_result *l)
+{
+    fprintf(f, "link         span loss %.3f dB, amplifier gain %.3f dB; launch %.3f dBm per "
+               "channel",
+            l->span_loss_db, l->gain_db, l->launch_dbm);
+    if (isfinite(l->optimum_launch_dbm))
+        fprintf(f, " (optimum %.3f dBm, SNR there %.3f dB)", l->optimum_launch_dbm,
+                l->optimum_snr_db);
+    fprintf(f, "\nlink SNR     OSNR %.3f dB (0.1 nm); SNR ASE %.3f dB, NLI ", l->osnr_db,
+            l->snr_ase_db);
+    if (isfinite(l->snr_nli_db))
+        fprintf(f, "%.3f dB", l->snr_nli_db);
+    else
+        fprintf(f, "none (linear)");
+    if (isfinite(l->snr_trx_db))
+        fprintf(f, ", transceiver %.3f dB", l->snr_trx_db);
+    fprintf(f, "; effective %.3f dB\n", l->snr_eff_db);
+}
+
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table,
                          const fec_penalty *p)
@@ -346,11 +366,18 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
                 r->decisions_kept == 1 ? "y" : "ies");
     if (r->converter)
         print_converter(f, req, r);
-    fprintf(f, "\nobjective    %s\n\n",
+    fprintf(f, "\nobjective    %s\n",
             r->ppm_slots ? "capacity of the pulse-position symbol channel"
             : req->input.objective == QC_OBJECTIVE_CAPACITY ? "capacity of the quantized channel"
             : req->input.objective == QC_OBJECTIVE_GMI   ? "BICM GMI with Gray labels, given input law"
                                                     : "mutual information, given input law");
+    if (req->channel.fibre_link)
+        print_fibre_link(f, req->channel.fibre_link);
+    if (req->channel.intensity_link)
+        fprintf(f, "link         loss %.3f dB in all; received %.3f dBm average\n",
+                req->channel.intensity_link->loss_db,
+                req->channel.intensity_link->received_dbm);
+    fprintf(f, "\n");
     print_rates(f, req, r, p);
     if (r->reconstruction)
         fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);

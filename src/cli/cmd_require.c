@@ -13,8 +13,9 @@
 static const cli_opt require_options[] = {
     {"target", "KIND=VALUE",
      "what to meet: ber=X, ngmi=X, gmi=X (bit/symbol), rate=X (bit/symbol) or fec=NAME"},
-    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, or any numeric "
-                         "model or front-end key"},
+    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, a link's "
+                         "length-km, spans, launch-dbm or range-km, or any numeric model or "
+                         "front-end key"},
     {"range", "LO,HI", "search range of that quantity (default: around the operating value)"},
     {"json", NULL, "machine-readable JSON output"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
@@ -27,6 +28,10 @@ static const char *const key_units[][2] = {
     {"responsivity", "A/W"},  {"bandwidth", "Hz"},     {"thermal-density", "pA/sqrt(Hz)"},
     {"load-resistance", "ohm"}, {"temperature", "K"},  {"dark-current", "A"},
     {"slot-time", "s"},       {"wavelength-nm", "nm"}, {"dark-count-rate", "1/s"},
+    {"spans", "spans"},       {"span-km", "km"},       {"length-km", "km"},
+    {"loss-db-km", "dB/km"},  {"gamma", "1/(W km)"},   {"chromatic-dispersion", "ps/(nm km)"},
+    {"range-km", "km"},       {"tx-aperture-m", "m"},  {"rx-aperture-m", "m"},
+    {"optical-bandwidth", "Hz"}, {"filter-nm", "nm"},  {"field-of-view-mrad", "mrad"},
     {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
 };
 
@@ -50,7 +55,11 @@ static void help(const cli_args *a)
            "reached; a figure that crosses the target more than once is not monotone there\n"
            "and is an error too (narrow --range).\n"
            "Default range: the operating value +-30 dB (dB keys) or a factor 1000 either\n"
-           "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n\n"
+           "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n"
+           "Links: an amplified fibre link searches spans 1..1000 (length-km the same in\n"
+           "km) and launch-dbm up to its optimum launch power; an unamplified link\n"
+           "length-km from 10 m to a 100 dB loss; a free-space link range-km a factor 30\n"
+           "either way, beyond the near field.\n\n"
            "options:\n");
     cli_print_options(a, stdout);
 }
@@ -168,6 +177,31 @@ static json_t *design_at(const qc_settings *set, const char *key, double value,
     qc_model_free(m);
     qc_settings_free(s);
     return o;
+}
+
+/* An amplified fibre link at the required value: its SNR there, and for
+ * the reach the longest link of whole spans that meets the target. */
+static void print_link_at(FILE *f, const qc_settings *set, const char *key,
+                          const qc_require_result *res, json_t *design)
+{
+    json_t *eff = json_object_get(design, "snr_eff_db");
+    if (!json_is_real(eff))
+        return;
+    fprintf(f, "link there   launch %.3f dBm (optimum %.3f dBm), OSNR %.3f dB, SNR %.3f dB\n",
+            json_real_value(json_object_get(design, "launch_dbm")),
+            json_real_value(json_object_get(design, "optimum_launch_dbm")),
+            json_real_value(json_object_get(design, "osnr_db")), json_real_value(eff));
+    double span = NAN;
+    const char *sk = qc_settings_get(set, "span-km");
+    if (!sk || res->increasing || cli_double("span-km", sk, &span) != CLI_OK)
+        return;
+    double spans = strcmp(key, "spans") == 0       ? res->required
+                   : strcmp(key, "length-km") == 0 ? res->required / span
+                                                   : NAN;
+    /* 1e-9: a crossing on a whole number of spans counts as that number */
+    if (isfinite(spans))
+        fprintf(f, "reach        %.0f whole spans of %g km = %g km\n", floor(spans + 1e-9),
+                span, floor(spans + 1e-9) * span);
 }
 
 int cmd_require(int argc, char **argv)
@@ -303,6 +337,7 @@ int cmd_require(int argc, char **argv)
             if (json_is_real(net))
                 fprintf(f, ", net %.6g Gb/s", json_real_value(net));
             fputc('\n', f);
+            print_link_at(f, set, key, &res, design);
         }
         fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations)\n",
                 res.designs);

@@ -95,13 +95,15 @@ int cli_build_model(const qc_model_type *type, const double *params, qc_model **
 }
 
 /* The design keys become flags; the table lives as long as the program. */
-static cli_opt key_options[64];
+#define MAX_DESIGN_KEYS 256 /* design keys taken as flags (all of them: the
+                               table has fewer) */
+static cli_opt key_options[MAX_DESIGN_KEYS];
 
 void cli_add_design_options(cli_args *a)
 {
     size_t n;
     const qc_setting_info *info = qc_setting_keys(&n);
-    for (size_t i = 0; i < n && i < 64; i++) {
+    for (size_t i = 0; i < n && i < MAX_DESIGN_KEYS; i++) {
         key_options[i] = (cli_opt){info[i].key, info[i].metavar, info[i].help};
         cli_args_add(a, &key_options[i]);
     }

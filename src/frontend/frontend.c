@@ -8,7 +8,13 @@
  *  - mean photons per slot n = η·P·T/(h·c/λ); quantum efficiency from a
  *    responsivity η = R·h·c/(q·λ) (same reference, sec. 4.1);
  *  - SNR = OSNR·2·B_ref/(p·R_s) (Essiambre et al., J. Lightw. Technol.
- *    28(4), 2010).
+ *    28(4), 2010);
+ *  - an optical pre-amplifier: ASE energy per mode N_0 = n_sp(G − 1)hν
+ *    with NF = 2n_sp(G − 1)/G + 1/G, modes m = B_o·T·p (Humblet &
+ *    Azizoglu, J. Lightw. Technol. 9(11), 1991; Desurvire, Erbium-Doped
+ *    Fiber Amplifiers, Wiley 1994);
+ *  - transmitter relative intensity noise: variance RIN·I²·B of a
+ *    photocurrent I (Agrawal, same book, ch. 4).
  * Every input is validated; messages name the parameter and its value. */
 #include "core/internal.h"
 #include "quantcap/frontend.h"
@@ -32,6 +38,7 @@ void qc_receiver_default(qc_receiver *rx)
     rx->dark_current = 0.0;
     rx->gain = 1.0;
     rx->ionization_ratio = 0.0;
+    rx->rin = 0.0;
 }
 
 /* value > 0 and finite (positive = 1) or ≥ 0 and finite (positive = 0) */
@@ -70,6 +77,8 @@ static qc_status receiver_check(const qc_receiver *rx, int need_bandwidth,
         st = need("dark_current", rx->dark_current, 0);
     if (st == QC_OK)
         st = qc_excess_noise_factor(rx->gain, rx->ionization_ratio, factor);
+    if (st == QC_OK)
+        st = need("rin", rx->rin, 0);
     if (st != QC_OK)
         return st;
     if (!isnan(rx->thermal_density)) {
@@ -176,7 +185,7 @@ qc_status qc_frontend_gauss_sd(const qc_receiver *rx, const double *power_w,
     params_clear(params);
     params[0] = sqrt(in2 * b + 2.0 * Q_E * rx->dark_current * m * m * F * b);
     params[1] = 2.0 * Q_E * m * F * b; /* per ampere of mean current M·R·P */
-    params[2] = 0.0;
+    params[2] = rx->rin * b;           /* RIN: variance RIN·I²·B            */
     for (size_t i = 0; i < nlevels; i++)
         levels[i] = m * rx->responsivity * power_w[i];
     return QC_OK;
@@ -195,8 +204,9 @@ qc_status qc_frontend_gauss(const qc_receiver *rx, const double *power_w,
     st = qc_receiver_noise(rx, pmean, &shot, &thermal);
     if (st != QC_OK)
         return st;
+    double mean_current = rx->gain * rx->responsivity * pmean;
     params_clear(params);
-    params[0] = sqrt(shot + thermal);
+    params[0] = sqrt(shot + thermal + rx->rin * mean_current * mean_current * rx->bandwidth);
     for (size_t i = 0; i < nlevels; i++)
         levels[i] = rx->gain * rx->responsivity * power_w[i];
     return QC_OK;
@@ -305,5 +315,50 @@ qc_status qc_osnr_to_snr(double osnr_db, double ref_bandwidth, double symbol_rat
                        polarizations);
     *snr = pow(10.0, osnr_db / 10.0) * 2.0 * ref_bandwidth /
            ((double)polarizations * symbol_rate);
+    return QC_OK;
+}
+
+qc_status qc_frontend_preamp(const double *power_w, size_t nlevels, double slot_time,
+                             double wavelength, double gain_db, double nf_db,
+                             double optical_bandwidth, int ase_polarizations, double *params,
+                             double *levels)
+{
+    double pmax, pmean;
+    qc_status st = check_powers(power_w, nlevels, &pmax, &pmean);
+    if (st == QC_OK)
+        st = need("slot_time", slot_time, 1);
+    if (st == QC_OK)
+        st = need("wavelength", wavelength, 1);
+    if (st == QC_OK)
+        st = need("optical-bandwidth", optical_bandwidth, 1);
+    if (st != QC_OK)
+        return st;
+    if (!isfinite(gain_db) || !(gain_db > 0.0))
+        return qc_fail(QC_EINVAL, "'gain-db' of the pre-amplifier must be > 0 dB (got %g)",
+                       gain_db);
+    if (!isfinite(nf_db))
+        return qc_fail(QC_EINVAL, "'nf-db' must be a finite number of dB (got %g)", nf_db);
+    if (ase_polarizations != 1 && ase_polarizations != 2)
+        return qc_fail(QC_EINVAL, "'ase-polarizations' must be 1 or 2 (got %d)",
+                       ase_polarizations);
+    const double g = pow(10.0, gain_db / 10.0), nf = pow(10.0, nf_db / 10.0);
+    if (nf < (2.0 - 1.0 / g) * (1.0 - 1e-12))
+        return qc_fail(QC_EINVAL, "'nf-db' %g dB is below the quantum limit %.4g dB of a "
+                                  "phase-insensitive amplifier of %g dB gain (NF >= 2 - 1/G)",
+                       nf_db, 10.0 * log10(2.0 - 1.0 / g), gain_db);
+    if (!(pmax > 0.0))
+        return qc_fail(QC_EINVAL, "all power levels are 0 W");
+    double modes = optical_bandwidth * slot_time * ase_polarizations;
+    if (!(modes >= 1.0) || modes > 1e6)
+        return qc_fail(QC_EINVAL, "optical bandwidth x slot time x polarizations = %g modes; "
+                                  "model 'preamp' needs 1 to 1e6 (the filter must pass at "
+                                  "least the signal's own bandwidth, about 1/T)",
+                       modes);
+    /* N_0 = n_sp(G − 1)hν = (NF·G − 1)hν/2 */
+    const double n0 = (nf * g - 1.0) * 0.5 * H_P * C_0 / wavelength;
+    params_clear(params);
+    params[0] = modes;
+    for (size_t i = 0; i < nlevels; i++)
+        levels[i] = g * power_w[i] * slot_time / n0;
     return QC_OK;
 }

@@ -41,7 +41,7 @@ const qc_param_spec qc_apd_exact_params[APD_NPARAMS] = {
 /* The APD front end: apd-gain and apd-k are parameters, and with a
  * received power they describe the physical receiver. */
 const char *const qc_apd_keys[] = {QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "slot-time",
-                                   NULL};
+                                   QC_KEYS_FREE_SPACE, "wavelength-nm", NULL};
 
 double qc_apd_excess(double gain, double k)
 {

@@ -74,7 +74,7 @@ static qc_status gauss_scale_snr(const qc_model *m, double gain, double *out)
 
 static const char *const gauss_keys[] = {
     "snr-db", "osnr-db", "ref-bandwidth",
-    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", NULL,
+    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", "rin-db-hz", QC_KEYS_FIBRE_LINK, NULL,
 };
 
 const qc_model_type qc_model_gauss = {

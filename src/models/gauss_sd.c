@@ -116,7 +116,7 @@ static qc_status gauss_sd_scale_snr(const qc_model *m, double gain, double *out)
 }
 
 static const char *const gauss_sd_keys[] = {
-    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", NULL,
+    QC_KEYS_OPTICAL_POWER, QC_KEYS_PHOTODETECTOR, "bandwidth", "rin-db-hz", NULL,
 };
 
 const qc_model_type qc_model_gauss_sd = {

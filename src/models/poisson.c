@@ -176,7 +176,7 @@ static qc_status poisson_moments(const qc_model *m, double x, double *mean,
 /* responsivity gives the quantum efficiency at the wavelength */
 static const char *const poisson_keys[] = {
     QC_KEYS_OPTICAL_POWER, "slot-time", "wavelength-nm", "efficiency", "responsivity",
-    "dark-count-rate", NULL,
+    "dark-count-rate", QC_KEYS_FREE_SPACE, NULL,
 };
 /* detected signal photons: the Poisson mean without the background */
 static double poisson_photons(const qc_model *m, double x) { return m->params[P_SIGNAL] * x; }

@@ -340,6 +340,8 @@ static qc_status preamp_moments(const qc_model *m, double x, double *mean,
     return QC_OK;
 }
 
+static const char *const preamp_keys[] = {QC_KEYS_OPTICAL_POWER, QC_KEYS_PREAMP, NULL};
+
 const qc_model_type qc_model_preamp = {
     .name = "preamp",
     .summary = "optically pre-amplified detection Y = ncx2(2 modes, 2x)/2, "
@@ -354,6 +356,8 @@ const qc_model_type qc_model_preamp = {
     .support = preamp_support,
     .check_level = preamp_check_level,
     .moments = preamp_moments,
+    .keys = preamp_keys,
+    .frontend = QC_FRONTEND_PREAMP,
     .level_unit = "ASE energies per mode",
     .output_unit = "ASE energies per mode",
 };

@@ -12,6 +12,7 @@
 #include "quantcap/alphabet.h"
 #include "quantcap/info.h"
 #include "quantcap/figures.h"
+#include "quantcap/frontend.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -109,6 +110,11 @@ typedef struct {
      * model; the quantizer cuts each slot's output; rates per symbol,
      * uniform law; src/design/ppm_design.c). 0: no PPM. */
     size_t ppm_slots;
+    /* The amplified fibre link that set the SNR, for reports (NULL: none). */
+    const qc_fibre_link_result *fibre_link;
+    /* The unamplified intensity link that set the received power, for
+     * reports (NULL: none). */
+    const qc_intensity_link_result *intensity_link;
 } qc_design_channel;
 
 /* The quantizer. */

@@ -67,14 +67,32 @@ typedef enum {
     QC_FRONTEND_GAUSS_SD, /* PIN/APD current, signal-dependent noise       */
     QC_FRONTEND_APD,      /* APD electrons per slot (integrate and dump)   */
     QC_FRONTEND_PHOTONS,  /* photons counted per slot                      */
+    QC_FRONTEND_PREAMP,   /* optical amplifier, filter, direct detection    */
 } qc_frontend_kind;
 
 /* Settings keys the physical front ends take (for the `keys` lists of the
  * model types below). */
-#define QC_KEYS_OPTICAL_POWER "received-dbm", "peak-dbm", "extinction-db"
+#define QC_KEYS_OPTICAL_POWER                                                              \
+    "received-dbm", "peak-dbm", "extinction-db", "launch-dbm", "length-km", "loss-db-km",   \
+        "connector-loss-db", "splice-loss-db", "penalty-db"
 #define QC_KEYS_PHOTODETECTOR                                                              \
     "responsivity", "thermal-density", "load-resistance", "temperature", "dark-current",   \
         "apd-gain", "apd-k"
+/* The free-space link in front of a photon-counting or APD receiver
+ * (launch-dbm, the transmit power, comes with QC_KEYS_OPTICAL_POWER). */
+#define QC_KEYS_FREE_SPACE                                                                 \
+    "range-km", "tx-aperture-m", "rx-aperture-m", "pointing-loss-db", "atmosphere-loss-db", \
+        "background-radiance", "field-of-view-mrad", "filter-nm"
+
+/* The optical pre-amplifier in front of direct detection. */
+#define QC_KEYS_PREAMP                                                                     \
+    "gain-db", "nf-db", "optical-bandwidth", "slot-time", "ase-polarizations", "wavelength-nm"
+
+/* The amplified coherent fibre link (its SNR sets the Gaussian noise;
+ * launch-dbm, length-km and loss-db-km come with QC_KEYS_OPTICAL_POWER). */
+#define QC_KEYS_FIBRE_LINK                                                                 \
+    "spans", "span-km", "nf-db", "gain-db", "chromatic-dispersion", "gamma", "channels",     \
+        "channel-spacing-ghz", "coherence", "transceiver-snr-db", "wavelength-nm"
 
 typedef struct qc_model_type {
     const char *name;

@@ -84,13 +84,22 @@ QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double 
 /* The default search range of `key`: its value in the settings ±30 dB
  * (keys in dB) or a factor 1000 either way; without one snr-db −20…40 dB,
  * osnr-db 0…50 dB, power-dbm and peak-dbm −60…20 dBm; otherwise QC_EINVAL
- * asking for a range. */
+ * asking for a range. An amplified fibre link (span-km given) searches
+ * spans from 1 to 1000, length-km from one to 1000 spans, and launch-dbm
+ * from 30 dB below its optimum launch power up to it (whatever the
+ * settings' own values). An unamplified intensity link (launch-dbm)
+ * searches length-km from 10 m up to the length whose losses reach
+ * QC_LINK_MAX_LOSS_DB; a free-space link range-km from twice its
+ * far-field boundary π·D_t·D_r/(4λ) (or its value / 30) up to its value
+ * × 30 (10^6 boundaries without one). */
 QC_API qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                            double *hi);
 
 /* The key a design's penalty at a target is solved for: the one that
  * sets its operating point (peak-dbm or received-dbm of a physical
- * receiver, snr-db, osnr-db, signal of a photon-counting or APD model).
+ * receiver, snr-db, osnr-db, signal of a photon-counting or APD model;
+ * spans or length-km of an amplified fibre link; launch-dbm of an
+ * unamplified intensity link).
  * NULL when there is none, with *why saying so (a static phrase: a
  * measured table, parameters such as sigma given directly). Sets no
  * message. */

@@ -211,6 +211,21 @@ static void report_converter(json_t *o, const qc_design_request *req,
     json_object_set_new(o, "converter", j);
 }
 
+/* ---- the amplified fibre link that set the SNR (src/frontend) ------ */
+
+static void report_fibre_link(json_t *o, const qc_fibre_link_result *l)
+{
+    json_object_set_new(o, "span_loss_db", qc_report_real(l->span_loss_db));
+    json_object_set_new(o, "amplifier_gain_db", qc_report_real(l->gain_db));
+    json_object_set_new(o, "launch_dbm", qc_report_real(l->launch_dbm));
+    json_object_set_new(o, "osnr_db", qc_report_real(l->osnr_db));
+    json_object_set_new(o, "snr_ase_db", qc_report_real(l->snr_ase_db));
+    json_object_set_new(o, "snr_nli_db", qc_report_real(l->snr_nli_db));
+    json_object_set_new(o, "snr_eff_db", qc_report_real(l->snr_eff_db));
+    json_object_set_new(o, "optimum_launch_dbm", qc_report_real(l->optimum_launch_dbm));
+    json_object_set_new(o, "optimum_snr_db", qc_report_real(l->optimum_snr_db));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -274,6 +289,14 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
         report_ppm(o, res);
     if (res->converter)
         report_converter(o, req, res);
+    if (req->channel.fibre_link)
+        report_fibre_link(o, req->channel.fibre_link);
+    if (req->channel.intensity_link) {
+        json_object_set_new(o, "link_loss_db",
+                            qc_report_real(req->channel.intensity_link->loss_db));
+        json_object_set_new(o, "received_dbm",
+                            qc_report_real(req->channel.intensity_link->received_dbm));
+    }
     return o;
 }
 

@@ -15,7 +15,8 @@ static const char *const not_solvable[] = {
     "model", "levels", "probabilities", "bits", "cells", "objective", "quantizer",
     "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid",
     "optimize-levels", "level-starts", "blocklength", "error-rate", "polarizations", "fec",
-    "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset", NULL,
+    "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset",
+    "channels", NULL,
 };
 
 int qc_setting_in_db(const char *key)
@@ -64,6 +65,14 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
         *why = "a measured table has no quantity to solve for";
         return NULL;
     }
+    /* an amplified fibre link: the penalty in reach (10 log10 of the ratio) */
+    if (qc_settings_get(s, "span-km") && (qc_settings_get(s, "spans") ||
+                                          qc_settings_get(s, "length-km")))
+        return qc_settings_get(s, "spans") ? "spans" : "length-km";
+    /* an unamplified intensity link: the launch power sets the received
+     * power dB for dB, so its penalty is the receiver's power penalty */
+    if (!qc_settings_get(s, "span-km") && qc_settings_get(s, "launch-dbm"))
+        return "launch-dbm";
     for (size_t i = 0; keys[i]; i++)
         if (qc_settings_get(s, keys[i]))
             return keys[i];
@@ -80,10 +89,132 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
 #define DB_HALF_RANGE 30.0  /* dB either side of an operating value      */
 #define LINEAR_DECADES 3.0  /* decades either side of an operating value */
 
+#define MAX_REACH_SPANS 1000.0 /* longest amplified link searched, in spans */
+#define LAUNCH_BELOW_DB 30.0    /* launch powers searched below the optimum  */
+
+#define MIN_LINK_KM 0.01 /* shortest intensity link searched: 10 m */
+
+/* An unamplified intensity link (launch-dbm given): length-km from 10 m
+ * up to the length whose losses reach QC_LINK_MAX_LOSS_DB. */
+static qc_status intensity_range(const qc_settings *s, const char *key, double *lo,
+                                 double *hi, int *done)
+{
+    static const char *const others[] = {"connector-loss-db", "splice-loss-db", "penalty-db",
+                                         NULL};
+    if (strcmp(key, "length-km") != 0 || !qc_settings_get(s, "launch-dbm"))
+        return QC_OK;
+    double alpha = 0.2, fixed = 0.0, v;
+    qc_status st;
+    if (qc_settings_get(s, "loss-db-km") &&
+        (st = qc_parse_double(qc_settings_get(s, "loss-db-km"), &alpha)) != QC_OK)
+        return qc_fail(st, "loss-db-km: %s", qc_last_error());
+    for (size_t i = 0; others[i]; i++)
+        if (qc_settings_get(s, others[i])) {
+            if ((st = qc_parse_double(qc_settings_get(s, others[i]), &v)) != QC_OK)
+                return qc_fail(st, "%s: %s", others[i], qc_last_error());
+            fixed += v;
+        }
+    double longest = (QC_LINK_MAX_LOSS_DB - fixed) / alpha * (1.0 - 1e-9);
+    if (!(alpha > 0.0) || !(longest > MIN_LINK_KM))
+        return qc_fail(QC_EINVAL, "give the search range of length-km (no fibre length "
+                                  "below the %g dB loss limit to search)",
+                       QC_LINK_MAX_LOSS_DB);
+    *lo = MIN_LINK_KM;
+    *hi = longest;
+    *done = 1;
+    return QC_OK;
+}
+
+#define RANGE_FACTOR 30.0    /* range-km searched either way of its value:
+                                ±29.5 dB of received power              */
+#define FAR_FIELD_FACTOR 2.0 /* shortest range searched: twice the range
+                                where the range equation delivers all    */
+
+/* A free-space link: range-km from twice the far-field boundary
+ * π·D_t·D_r/(4λ) (or the operating value / 30, if longer) up to the
+ * operating value × 30 (or 10^6 boundaries). */
+static qc_status free_space_range(const qc_settings *s, double *lo, double *hi, int *done)
+{
+    static const char *const keys[] = {"tx-aperture-m", "rx-aperture-m", "wavelength-nm"};
+    double v[3];
+    for (size_t i = 0; i < 3; i++) {
+        const char *t = qc_settings_get(s, keys[i]);
+        if (!t)
+            return QC_OK; /* the build names what is missing */
+        qc_status st = qc_parse_double(t, &v[i]);
+        if (st != QC_OK)
+            return qc_fail(st, "%s: %s", keys[i], qc_last_error());
+    }
+    double boundary_km = 3.14159265358979323846 * v[0] * v[1] / (4.0 * v[2] * 1e-9) * 1e-3;
+    double op = NAN;
+    const char *t = qc_settings_get(s, "range-km");
+    if (t && qc_parse_double(t, &op) != QC_OK)
+        op = NAN;
+    *lo = FAR_FIELD_FACTOR * boundary_km;
+    *hi = boundary_km * 1e6;
+    if (isfinite(op) && op > 0.0) {
+        *lo = fmax(*lo, op / RANGE_FACTOR);
+        *hi = op * RANGE_FACTOR;
+    }
+    if (!(*hi > *lo))
+        return qc_fail(QC_EINVAL, "give the search range of range-km (the operating range is "
+                                  "too close to the near field)");
+    *done = 1;
+    return QC_OK;
+}
+
+/* The amplified fibre link's default ranges: the launch power from 30 dB
+ * below the optimum up to it (above it the SNR falls again), the spans
+ * from 1 to 1000, the length from one span to 1000. *done 0: not a key
+ * of the fibre link. */
+static qc_status fibre_range(const qc_settings *s, const char *key, double *lo, double *hi,
+                             int *done)
+{
+    *done = 0;
+    if (strcmp(key, "range-km") == 0)
+        return free_space_range(s, lo, hi, done);
+    if (!qc_settings_get(s, "span-km"))
+        return intensity_range(s, key, lo, hi, done);
+    double span;
+    qc_status st = qc_parse_double(qc_settings_get(s, "span-km"), &span);
+    if (st != QC_OK)
+        return qc_fail(st, "span-km: %s", qc_last_error());
+    if (strcmp(key, "spans") == 0 || strcmp(key, "length-km") == 0) {
+        double unit = strcmp(key, "spans") == 0 ? 1.0 : span;
+        *lo = unit;
+        *hi = unit * MAX_REACH_SPANS;
+        *done = 1;
+        return QC_OK;
+    }
+    if (strcmp(key, "launch-dbm") != 0)
+        return QC_OK;
+    qc_settings *copy = NULL;
+    qc_model *m = NULL;
+    qc_design_request req;
+    st = qc_settings_copy(s, &copy);
+    if (st == QC_OK)
+        st = qc_settings_build(copy, &m, &req);
+    if (st == QC_OK && !isfinite(copy->fibre.optimum_launch_dbm))
+        st = qc_fail(QC_EINVAL, "give the search range of launch-dbm (a linear link has no "
+                                "optimum launch power to search below)");
+    if (st == QC_OK) {
+        *hi = copy->fibre.optimum_launch_dbm;
+        *lo = *hi - LAUNCH_BELOW_DB;
+        *done = 1;
+    }
+    qc_model_free(m);
+    qc_settings_free(copy);
+    return st;
+}
+
 qc_status qc_settings_require_range(const qc_settings *s, const char *key, double *lo,
                                     double *hi)
 {
     *lo = *hi = NAN;
+    int done;
+    qc_status fst = fibre_range(s, key, lo, hi, &done);
+    if (fst != QC_OK || done)
+        return fst;
     const int linear = !qc_setting_in_db(key);
     const char *v = qc_settings_get(s, key);
     double op = NAN;

@@ -128,6 +128,52 @@ static const key_spec keys[] = {
     TEXT("converter-offset", "O|best",
          "offset ahead of the converter, full-scale units: a number (default 0; agc: the "
          "mean at mid-scale) or best"),
+    /* amplified coherent fibre link (src/frontend/fibre_link.c) */
+    NUMBER_FROM("spans", "N",
+                "amplified spans of the fibre link (fractional values interpolate, as "
+                "require searches)", 1.0, 1e4),
+    NUMBER_ABOVE("span-km", "L", "length of one amplified span, km", 0.0),
+    NUMBER_ABOVE("length-km", "L",
+                 "fibre length, km (amplified link: spans x span-km, instead of spans)", 0.0),
+    NUMBER_ABOVE("loss-db-km", "A", "fibre attenuation, dB/km (default 0.2)", 0.0),
+    NUMBER_FROM("nf-db", "F", "optical amplifier noise figure, dB", -INF, INF),
+    NUMBER_ABOVE("gain-db", "G", "amplifier gain, dB (default: the span loss)", 0.0),
+    NUMBER_FROM("launch-dbm", "P",
+                "launch power (per channel), dBm (amplified link default: the optimum)", -INF,
+                INF),
+    NUMBER("chromatic-dispersion", "D", "fibre chromatic dispersion, ps/(nm km) (default 17)"),
+    NUMBER_FROM("gamma", "G", "fibre nonlinear coefficient, 1/(W km) (default 1.3; 0: linear)",
+                0.0, INF),
+    WHOLE("channels", "N", "WDM channels (default 1)", 1, 10000),
+    NUMBER_ABOVE("channel-spacing-ghz", "S", "WDM channel spacing, GHz", 0.0),
+    NUMBER_FROM("coherence", "E",
+                "coherent-accumulation exponent of the NLI, N^(1+E), [0, 1) (default 0)", 0.0,
+                1.0),
+    NUMBER("transceiver-snr-db", "X", "transceiver SNR limit, dB (default: none)"),
+    /* unamplified intensity link and transmitter noise (src/frontend) */
+    NUMBER_FROM("connector-loss-db", "C", "loss of all connectors of the link, dB (default 0)",
+                0.0, INF),
+    NUMBER_FROM("splice-loss-db", "S", "loss of all splices of the link, dB (default 0)", 0.0,
+                INF),
+    NUMBER_FROM("penalty-db", "P",
+                "power penalty budget of the link (dispersion, ageing, margin), dB (default 0)",
+                0.0, INF),
+    NUMBER("rin-db-hz", "R", "transmitter relative intensity noise, dB/Hz (default: none)"),
+    /* free-space link (src/frontend/free_space.c) */
+    NUMBER_ABOVE("range-km", "R", "free-space link range, km", 0.0),
+    NUMBER_ABOVE("tx-aperture-m", "D", "transmit aperture diameter, m", 0.0),
+    NUMBER_ABOVE("rx-aperture-m", "D", "receive aperture diameter, m", 0.0),
+    NUMBER_FROM("pointing-loss-db", "L", "pointing loss, dB (default 0)", 0.0, INF),
+    NUMBER_FROM("atmosphere-loss-db", "L", "atmospheric loss, dB (default 0)", 0.0, INF),
+    NUMBER_FROM("background-radiance", "L",
+                "background spectral radiance, W/(m^2 sr nm) (default 0)", 0.0, INF),
+    NUMBER_ABOVE("field-of-view-mrad", "F", "receiver full field of view, mrad", 0.0),
+    NUMBER_ABOVE("filter-nm", "W", "receiver optical filter bandwidth, nm", 0.0),
+    /* optical pre-amplifier (model preamp) */
+    NUMBER_ABOVE("optical-bandwidth", "B", "optical filter bandwidth before direct detection, Hz",
+                 0.0),
+    WHOLE("ase-polarizations", "P",
+          "polarizations of the ASE detected: 1 behind a polarizer, else 2 (default 2)", 1, 2),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

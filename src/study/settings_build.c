@@ -13,8 +13,23 @@
 static const char *const frontend_keys[] = {
     "received-dbm", "extinction-db", "responsivity", "bandwidth", "thermal-density",
     "load-resistance", "temperature", "dark-current", "apd-gain", "apd-k", "slot-time",
-    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", NULL,
+    "wavelength-nm", "efficiency", "dark-count-rate", "peak-dbm", "rin-db-hz",
+    "optical-bandwidth", "ase-polarizations", "range-km", NULL,
 };
+
+/* Keys of the unamplified intensity link in front of the receiver. */
+static const char *const intensity_link_keys[] = {
+    "launch-dbm", "length-km", "loss-db-km", "connector-loss-db", "splice-loss-db",
+    "penalty-db", NULL,
+};
+
+static const char *first_intensity_link_key(const qc_settings *s)
+{
+    for (size_t i = 0; intensity_link_keys[i]; i++)
+        if (qc_settings_get(s, intensity_link_keys[i]))
+            return intensity_link_keys[i];
+    return NULL;
+}
 
 static int is_frontend_key(const char *key)
 {
@@ -119,6 +134,10 @@ static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
         (st = number(s, "apd-k", rx->ionization_ratio, &rx->ionization_ratio)) != QC_OK)
         return st;
     rx->thermal_density = pa_per_rthz; /* the front end takes pA/√Hz */
+    double rin_db = -INFINITY;
+    if ((st = number(s, "rin-db-hz", rin_db, &rin_db)) != QC_OK)
+        return st;
+    rx->rin = pow(10.0, rin_db / 10.0); /* 0 without RIN */
     if (isnan(rx->responsivity))
         return qc_fail(QC_EINVAL, "'responsivity' (A/W) is required for the physical receiver");
     if (isnan(rx->thermal_density) && isnan(rx->load_resistance))
@@ -144,6 +163,19 @@ static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *e
     return st == QC_OK ? qc_responsivity_to_efficiency(r, lambda_nm * 1e-9, eta) : st;
 }
 
+/* Background photons per second η·P_b/(hν) added to the count rate. */
+static qc_status background_photons(double power_w, double lambda_nm, double eta,
+                                    double *rate)
+{
+    if (!(power_w > 0.0))
+        return QC_OK;
+    double n;
+    qc_status st = qc_photons_per_slot(power_w, 1.0, lambda_nm * 1e-9, eta, &n);
+    if (st == QC_OK)
+        *rate += n;
+    return st;
+}
+
 /* Physical route: optical powers of an intensity alphabet → parameters
  * and levels of the chosen model. Replaces s->levels. */
 static qc_status physical_route(qc_settings *s, const qc_model_type *type, int intensity,
@@ -156,13 +188,70 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
     double dbm, ext_db, slot;
     qc_status st;
     int peak_given = qc_settings_get(s, "peak-dbm") != NULL;
+    const char *lk = first_intensity_link_key(s);
     if (peak_given && qc_settings_get(s, "received-dbm"))
         return qc_fail(QC_EINVAL, "give 'received-dbm' (average) or 'peak-dbm' (top level), "
                                   "not both");
-    if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
-                         : required(s, "received-dbm",
-                                    "(or 'peak-dbm') for the physical receiver", &dbm)) != QC_OK ||
-        (st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
+    if (lk && (peak_given || qc_settings_get(s, "received-dbm")))
+        return qc_fail(QC_EINVAL, "give the link ('%s') or the received power ('%s'), not "
+                                  "both: the link sets the received power",
+                       lk, peak_given ? "peak-dbm" : "received-dbm");
+    const int free_space = qc_settings_get(s, "range-km") != NULL;
+    double background_w = 0.0;
+    if (free_space) {
+        static const char *const fibre_only[] = {"length-km", "loss-db-km", "connector-loss-db",
+                                                 "splice-loss-db", "penalty-db", NULL};
+        for (size_t i = 0; fibre_only[i]; i++)
+            if (qc_settings_get(s, fibre_only[i]))
+                return qc_fail(QC_EINVAL, "'%s' belongs to a fibre link; the free-space link "
+                                          "('range-km') counts its losses in "
+                                          "'pointing-loss-db' and 'atmosphere-loss-db'",
+                               fibre_only[i]);
+        qc_free_space_link fl;
+        qc_free_space_result fr;
+        qc_free_space_link_default(&fl);
+        if ((st = required(s, "launch-dbm", "for the free-space link (the transmit power)",
+                           &fl.transmit_dbm)) != QC_OK ||
+            (st = number(s, "range-km", NAN, &fl.range_km)) != QC_OK ||
+            (st = required(s, "wavelength-nm", "for the free-space link", &fl.wavelength_nm)) !=
+                QC_OK ||
+            (st = required(s, "tx-aperture-m", "for the free-space link", &fl.tx_aperture_m)) !=
+                QC_OK ||
+            (st = required(s, "rx-aperture-m", "for the free-space link", &fl.rx_aperture_m)) !=
+                QC_OK ||
+            (st = number(s, "pointing-loss-db", 0.0, &fl.pointing_loss_db)) != QC_OK ||
+            (st = number(s, "atmosphere-loss-db", 0.0, &fl.atmosphere_loss_db)) != QC_OK ||
+            (st = number(s, "background-radiance", 0.0, &fl.background_radiance)) != QC_OK ||
+            (st = number(s, "field-of-view-mrad", NAN, &fl.field_of_view_mrad)) != QC_OK ||
+            (st = number(s, "filter-nm", NAN, &fl.filter_nm)) != QC_OK ||
+            (st = qc_free_space_link_eval(&fl, &fr)) != QC_OK)
+            return st;
+        dbm = fr.received_dbm;
+        background_w = fr.background_w;
+        s->ilink.received_dbm = dbm;
+        s->ilink.loss_db = fr.loss_db;
+    } else if (lk) {
+        qc_intensity_link il;
+        qc_intensity_link_default(&il);
+        double loss;
+        if ((st = required(s, "launch-dbm", "for the fibre link (average launch power)",
+                           &il.launch_dbm)) != QC_OK ||
+            (st = number(s, "length-km", il.length_km, &il.length_km)) != QC_OK ||
+            (st = number(s, "loss-db-km", il.loss_db_km, &il.loss_db_km)) != QC_OK ||
+            (st = number(s, "connector-loss-db", 0.0, &il.connector_loss_db)) != QC_OK ||
+            (st = number(s, "splice-loss-db", 0.0, &il.splice_loss_db)) != QC_OK ||
+            (st = number(s, "penalty-db", 0.0, &il.penalty_db)) != QC_OK ||
+            (st = qc_intensity_link_received(&il, &dbm, &loss)) != QC_OK)
+            return st;
+        s->ilink.received_dbm = dbm;
+        s->ilink.loss_db = loss;
+    } else if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
+                                : required(s, "received-dbm",
+                                           "(or 'peak-dbm') for the physical receiver",
+                                           &dbm)) != QC_OK) {
+        return st;
+    }
+    if ((st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
         return st;
     double *power = qc_malloc_array(nl, sizeof *power);
     if (!power)
@@ -194,13 +283,28 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         if ((st = required(s, "slot-time", "for photon counting (s)", &slot)) == QC_OK &&
             (st = required(s, "wavelength-nm", "for photon counting", &lambda_nm)) == QC_OK &&
             (st = efficiency_of(s, lambda_nm, &eta)) == QC_OK &&
-            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK)
+            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK &&
+            (st = background_photons(background_w, lambda_nm, eta, &dark)) == QC_OK)
             st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
                                      s->levels);
+    } else if (st == QC_OK && type->frontend == QC_FRONTEND_PREAMP) {
+        double lambda_nm, gain, nf, bo, pol;
+        if ((st = required(s, "slot-time", "for the pre-amplified receiver (s)", &slot)) ==
+                QC_OK &&
+            (st = number(s, "wavelength-nm", 1550.0, &lambda_nm)) == QC_OK &&
+            (st = required(s, "gain-db", "for the pre-amplified receiver", &gain)) == QC_OK &&
+            (st = required(s, "nf-db", "for the pre-amplified receiver", &nf)) == QC_OK &&
+            (st = required(s, "optical-bandwidth", "for the pre-amplified receiver (Hz)",
+                           &bo)) == QC_OK &&
+            (st = number(s, "ase-polarizations", 2.0, &pol)) == QC_OK)
+            st = qc_frontend_preamp(power, nl, slot, lambda_nm * 1e-9, gain, nf, bo, (int)pol,
+                                    params, s->levels);
     } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
         if ((st = receiver_of(s, &rx)) == QC_OK &&
-            (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK)
+            (st = required(s, "slot-time", "for the APD slot model (s)", &slot)) == QC_OK) {
+            rx.dark_current += rx.responsivity * background_w; /* background photocurrent */
             st = qc_frontend_apd(&rx, slot, power, nl, params, s->levels);
+        }
     } else if (st == QC_OK && (type->frontend == QC_FRONTEND_GAUSS_SD ||
                                type->frontend == QC_FRONTEND_GAUSS)) {
         if ((st = receiver_of(s, &rx)) == QC_OK && isnan(rx.bandwidth))
@@ -238,6 +342,80 @@ static qc_status sigma_from_snr(const char *key, double snr, const double *level
         return qc_fail(QC_EINVAL, "%s: gives sigma = %g, outside what doubles hold", key,
                        *sigma);
     return QC_OK;
+}
+
+/* Keys that describe the amplified fibre link (its marker is span-km). */
+static const char *const fibre_keys[] = {
+    "spans", "span-km", "nf-db", "gain-db", "chromatic-dispersion", "gamma", "channels",
+    "channel-spacing-ghz", "coherence", "transceiver-snr-db", NULL,
+};
+
+/* The first key of the amplified fibre link given, or NULL. */
+static const char *first_fibre_key(const qc_settings *s)
+{
+    for (size_t i = 0; fibre_keys[i]; i++)
+        if (qc_settings_get(s, fibre_keys[i]))
+            return fibre_keys[i];
+    return NULL;
+}
+
+/* The amplified fibre link of the settings → its SNR (s->fibre) → σ of
+ * model gauss, as snr-db would set it. */
+static qc_status fibre_route(qc_settings *s, const qc_model_type *type, size_t nl,
+                             unsigned dims, double *params)
+{
+    int si = qc_model_param_index(type, "sigma");
+    if (si < 0)
+        return qc_fail(QC_EINVAL, "the amplified fibre link sets 'sigma', which model '%s' "
+                                  "does not have",
+                       type->name);
+    if (!isnan(params[si]))
+        return qc_fail(QC_EINVAL, "give 'sigma' or the amplified fibre link, not both");
+    if (!qc_settings_get(s, "span-km"))
+        return qc_fail(QC_EINVAL, "'%s' describes an amplified fibre link, which needs "
+                                  "'span-km' (the length of one span)",
+                       first_fibre_key(s));
+    qc_fibre_link l;
+    qc_fibre_link_default(&l);
+    double pol = 2.0, spans = NAN, length = NAN, channels = 1.0;
+    qc_status st;
+    if ((st = number(s, "span-km", l.span_km, &l.span_km)) != QC_OK ||
+        (st = number(s, "spans", NAN, &spans)) != QC_OK ||
+        (st = number(s, "length-km", NAN, &length)) != QC_OK ||
+        (st = number(s, "loss-db-km", l.loss_db_km, &l.loss_db_km)) != QC_OK ||
+        (st = required(s, "nf-db", "for the amplified fibre link (amplifier noise figure)",
+                       &l.nf_db)) != QC_OK ||
+        (st = number(s, "gain-db", l.gain_db, &l.gain_db)) != QC_OK ||
+        (st = number(s, "launch-dbm", l.launch_dbm, &l.launch_dbm)) != QC_OK ||
+        (st = number(s, "wavelength-nm", l.wavelength_nm, &l.wavelength_nm)) != QC_OK ||
+        (st = required(s, "symbol-rate", "for the amplified fibre link (baud)",
+                       &l.symbol_rate)) != QC_OK ||
+        (st = number(s, "polarizations", pol, &pol)) != QC_OK ||
+        (st = number(s, "chromatic-dispersion", l.dispersion, &l.dispersion)) != QC_OK ||
+        (st = number(s, "gamma", l.gamma, &l.gamma)) != QC_OK ||
+        (st = number(s, "channels", channels, &channels)) != QC_OK ||
+        (st = number(s, "channel-spacing-ghz", l.spacing_ghz, &l.spacing_ghz)) != QC_OK ||
+        (st = number(s, "coherence", l.coherence, &l.coherence)) != QC_OK ||
+        (st = number(s, "transceiver-snr-db", l.transceiver_snr_db,
+                     &l.transceiver_snr_db)) != QC_OK)
+        return st;
+    if (!isnan(spans) && !isnan(length))
+        return qc_fail(QC_EINVAL, "give 'spans' or 'length-km' (= spans x span-km), not both");
+    if (isnan(spans) && isnan(length))
+        return qc_fail(QC_EINVAL, "the amplified fibre link needs 'spans' or 'length-km' "
+                                  "(= spans x span-km)");
+    l.spans = isnan(spans) ? length / l.span_km : spans;
+    if (!isnan(length) && !(l.spans >= 1.0 - 1e-12))
+        return qc_fail(QC_EINVAL, "'length-km' %g is shorter than one span of %g km", length,
+                       l.span_km);
+    l.spans = fmax(l.spans, 1.0);
+    l.channels = channels;
+    l.polarizations = (int)pol;
+    if ((st = qc_fibre_link_eval(&l, &s->fibre)) != QC_OK)
+        return st;
+    double budget = s->constraints.power / (double)dims; /* NaN without a budget */
+    return sigma_from_snr("the link's SNR", pow(10.0, s->fibre.snr_eff_db / 10.0), s->levels,
+                          nl, s->probabilities, budget, &params[si]);
 }
 
 /* snr-db or osnr-db (with symbol-rate) → σ of model gauss. */
@@ -361,6 +539,7 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
     /* the OSNR route's default (2) holds for the rates too */
     req->channel.polarizations = !isnan(pol)                     ? (unsigned)pol
                          : qc_settings_get(s, "osnr-db") ? 2
+                         : qc_settings_get(s, "span-km") ? 2 /* the fibre link's default */
                                                          : 0;
     const char *fec = qc_settings_get(s, "fec");
     if (fec) {
@@ -575,6 +754,32 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     /* model parameters: physical receiver, SNR/OSNR, or as given */
     if (!is_table) {
         int snr_keys = qc_settings_get(s, "snr-db") || qc_settings_get(s, "osnr-db");
+        /* the pre-amplifier's gain and noise figure are not a fibre link */
+        const char *lk = type->frontend == QC_FRONTEND_PREAMP ? NULL : first_fibre_key(s);
+        if (lk && fk && strcmp(fk, "wavelength-nm") == 0)
+            fk = NULL; /* the link's wavelength */
+        if (!lk && type->frontend == QC_FRONTEND_GAUSS && qc_settings_get(s, "wavelength-nm"))
+            return qc_fail(QC_EINVAL, "'wavelength-nm' does not apply to model '%s' without "
+                                      "the amplified fibre link ('span-km', 'spans', "
+                                      "'nf-db', ...)",
+                           type->name);
+        if (lk && (fk || snr_keys))
+            return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or %s%s%s, not both",
+                           lk, fk ? "the physical receiver ('" : "an SNR", fk ? fk : "",
+                           fk ? "')" : "");
+        if (lk && nparams_given)
+            return qc_fail(QC_EINVAL, "give the amplified fibre link ('%s') or the parameters "
+                                      "of model '%s', not both",
+                           lk, type->name);
+        const char *ik = first_intensity_link_key(s);
+        if (lk && ik && (strcmp(ik, "connector-loss-db") == 0 ||
+                         strcmp(ik, "splice-loss-db") == 0 || strcmp(ik, "penalty-db") == 0))
+            return qc_fail(QC_EINVAL, "'%s' belongs to the unamplified intensity link; the "
+                                      "amplified fibre link ('%s') counts its losses in "
+                                      "the span loss",
+                           ik, lk);
+        if (!lk && ik && !fk)
+            fk = ik; /* the intensity link feeds the physical receiver */
         if (fk && snr_keys)
             return qc_fail(QC_EINVAL, "give the physical receiver ('%s') or an SNR, not both",
                            fk);
@@ -584,11 +789,17 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
                            fk, type->name);
         if (fk) {
             st = physical_route(s, type, intensity, nl, ppm, params);
+            if (st == QC_OK && (first_intensity_link_key(s) || qc_settings_get(s, "range-km")))
+                req->channel.intensity_link = &s->ilink;
             /* the Gaussian models' levels are then photocurrents */
             if (strcmp(type->name, "gauss") == 0 || strcmp(type->name, "gauss-sd") == 0)
                 req->channel.level_unit = req->channel.output_unit = "A";
         }
-        else if (snr_keys)
+        else if (lk) {
+            st = fibre_route(s, type, nl, dims, params);
+            if (st == QC_OK)
+                req->channel.fibre_link = &s->fibre;
+        } else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)
             st = get_model(cache, type, params, NULL, model);

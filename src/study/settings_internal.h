@@ -24,6 +24,11 @@ struct qc_settings {
     qc_converter converter;
     double *transitions;
     size_t ntransitions;
+    /* the amplified fibre link of the last build (the request points here) */
+    qc_fibre_link_result fibre;
+    /* the unamplified intensity link of the last build (the request
+     * points here) */
+    qc_intensity_link_result ilink;
 };
 
 /* settings_converter.c: the converter keys into s->converter and
