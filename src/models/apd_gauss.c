@@ -115,7 +115,7 @@ const qc_model_type qc_model_apd_gauss = {
     .summary = "APD receiver, Gaussian approximation N(M lambda, M^2 F lambda + "
                "sigma_th^2), in electrons",
     .output = QC_OUTPUT_REAL,
-    .properties = QC_MODEL_INTENSITY,
+    .properties = QC_MODEL_INTENSITY | QC_MODEL_GAUSSIAN_LAW,
     .nparams = APD_NPARAMS,
     .params = qc_apd_params,
     .below = apdg_below,

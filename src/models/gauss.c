@@ -81,7 +81,7 @@ const qc_model_type qc_model_gauss = {
     .name = "gauss",
     .summary = "additive Gaussian noise y = x + n, n ~ N(0, sigma^2) (thermal/ASE)",
     .output = QC_OUTPUT_REAL,
-    .properties = QC_MODEL_ADDITIVE_GAUSSIAN,
+    .properties = QC_MODEL_ADDITIVE_GAUSSIAN | QC_MODEL_GAUSSIAN_LAW,
     .nparams = 1,
     .params = gauss_params,
     .below = gauss_below,

@@ -124,7 +124,7 @@ const qc_model_type qc_model_gauss_sd = {
     .summary = "signal-dependent Gaussian y = x + n, var = sigma0^2 + a x + b x^2 "
                "(PIN/APD, Gaussian approx.)",
     .output = QC_OUTPUT_REAL,
-    .properties = QC_MODEL_INTENSITY,
+    .properties = QC_MODEL_INTENSITY | QC_MODEL_GAUSSIAN_LAW,
     .nparams = 3,
     .params = gauss_sd_params,
     .below = gauss_sd_below,

@@ -53,6 +53,9 @@ enum {
     /* the model is read from a file of measured densities (its levels come
      * from the file; qc_model_table_load) instead of qc_model_alloc */
     QC_MODEL_FROM_FILE = 1u << 2,
+    /* the output given a level is Gaussian with the mean and variance of
+     * the type's moments hook (memory channels simulate and weigh it so) */
+    QC_MODEL_GAUSSIAN_LAW = 1u << 3,
 };
 
 /* The physical receiver whose quantities a model's parameters can be
