@@ -3,8 +3,9 @@
  * response H(f); the pulse p(t) = F⁻¹{H(f)·T·sinc(fT)·e^{−jπfT}} is
  * computed on a fine grid by an inverse FFT (GSL's radix-2 complex FFT,
  * which keeps no global planner state and so is safe in threads), sampled
- * once per symbol at the phase of its largest sample (common practice:
- * the receiver's clock recovery locks to the eye's peak), trimmed of
+ * once per symbol at the phase of the widest eye, where the largest
+ * sample most exceeds the sum of the others' magnitudes (common practice:
+ * the receiver's clock recovery centres the eye), trimmed of
  * samples below QC_ISI_TAP_FLOOR of the largest at both ends and scaled to
  * sum 1.
  *
@@ -19,7 +20,9 @@
  *   intensity-modulated link through D ps/nm of dispersion,
  *   H(f) = cos(π·λ²·D·f²/c) (C. Wang and K. Petermann, "Small signal
  *   analysis for dispersive optical fiber communication systems", J.
- *   Lightw. Technol. 10(1), 1992). */
+ *   Lightw. Technol. 10(1), 1992), seen through the reference receiver:
+ *   a 4th-order Bessel–Thomson low-pass at 0.75 × the symbol rate
+ *   (dispersion:D:B sets another B). */
 #include "capacity/isi.h"
 #include "core/internal.h"
 
@@ -36,6 +39,10 @@
 #define SPAN 256            /* symbols on the FFT grid (periodic span)    */
 #define MAX_BESSEL 10
 #define LIGHT_SPEED 299792458.0
+/* The receiver behind a dispersion response: 4th-order Bessel–Thomson at
+ * 0.75 × the symbol rate, the reference receiver of optical link
+ * standards (common practice). */
+#define DISPERSION_RECEIVER_B 0.75
 
 typedef enum { R_GAUSS, R_RC, R_BESSEL, R_DISPERSION } response_kind;
 
@@ -89,9 +96,37 @@ static double complex response_at(const response *r, double f)
     case R_BESSEL:
         return bessel_h(r, r->w0 * f / r->f3);
     case R_DISPERSION:
-        return cos(r->disp * f * f);
+        return cos(r->disp * f * f) * bessel_h(r, r->w0 * f / r->f3);
     }
     return 0.0;
+}
+
+/* Coefficients of θ_N and ω0, the root of |H(jω)|² = ½ (GSL Brent). */
+static qc_status bessel_setup(const char *spec, int order, response *r)
+{
+    r->order = order;
+    bessel_coefficients(order, r->bessel);
+    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
+    if (!s)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    gsl_function F = {bessel_3db, r};
+    double lo = 1e-3, hi = 1.0;
+    while (bessel_3db(hi, r) > 0.0 && hi < 1e6)
+        hi *= 2.0;
+    int status = gsl_root_fsolver_set(s, &F, lo, hi);
+    for (int it = 0; status == GSL_SUCCESS && it < 200; it++) {
+        status = gsl_root_fsolver_iterate(s);
+        if (status != GSL_SUCCESS)
+            break;
+        double a = gsl_root_fsolver_x_lower(s), b = gsl_root_fsolver_x_upper(s);
+        if (gsl_root_test_interval(a, b, 0.0, 1e-14) == GSL_SUCCESS)
+            break;
+    }
+    r->w0 = gsl_root_fsolver_root(s);
+    gsl_root_fsolver_free(s);
+    if (status != GSL_SUCCESS || !(r->w0 > 0.0))
+        return qc_fail(QC_ENUMERIC, "response '%s': the 3-dB frequency was not found", spec);
+    return QC_OK;
 }
 
 static qc_status parse_number(const char *spec, const char *part, const char *what, double *v)
@@ -154,39 +189,19 @@ static qc_status parse_response(const char *spec, double rs, double lambda_nm, r
                            "to %d (got %s)",
                            spec, MAX_BESSEL, parts[1]);
         r->kind = R_BESSEL;
-        r->order = (int)order;
-        bessel_coefficients(r->order, r->bessel);
         if ((st = parse_bandwidth(spec, parts[2], &r->f3)) != QC_OK)
             return st;
-        /* ω where |H(jω)|² = ½ for θ_N normalized as above (a_0 = a_1·…). */
-        gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
-        if (!s)
-            return qc_fail(QC_ENOMEM, "out of memory");
-        gsl_function F = {bessel_3db, r};
-        double lo = 1e-3, hi = 1.0;
-        while (bessel_3db(hi, r) > 0.0 && hi < 1e6)
-            hi *= 2.0;
-        int status = gsl_root_fsolver_set(s, &F, lo, hi);
-        for (int it = 0; status == GSL_SUCCESS && it < 200; it++) {
-            status = gsl_root_fsolver_iterate(s);
-            if (status != GSL_SUCCESS)
-                break;
-            double a = gsl_root_fsolver_x_lower(s), b = gsl_root_fsolver_x_upper(s);
-            if (gsl_root_test_interval(a, b, 0.0, 1e-14) == GSL_SUCCESS)
-                break;
-        }
-        r->w0 = gsl_root_fsolver_root(s);
-        gsl_root_fsolver_free(s);
-        if (status != GSL_SUCCESS || !(r->w0 > 0.0))
-            return qc_fail(QC_ENUMERIC, "response '%s': the 3-dB frequency was not found",
-                           spec);
-        return QC_OK;
+        return bessel_setup(spec, (int)order, r);
     }
     if (!strcmp(kind, "dispersion")) {
-        if (n != 2)
-            return qc_fail(QC_EINVAL, "response '%s': expected dispersion:PS_NM", spec);
+        if (n != 2 && n != 3)
+            return qc_fail(QC_EINVAL, "response '%s': expected dispersion:PS_NM or "
+                                      "dispersion:PS_NM:B", spec);
         double d;
         if ((st = parse_number(spec, parts[1], "the dispersion (ps/nm)", &d)) != QC_OK)
+            return st;
+        r->f3 = DISPERSION_RECEIVER_B;
+        if (n == 3 && (st = parse_bandwidth(spec, parts[2], &r->f3)) != QC_OK)
             return st;
         if (!(rs > 0.0) || !isfinite(rs))
             return qc_fail(QC_EINVAL,
@@ -201,7 +216,7 @@ static qc_status parse_response(const char *spec, double rs, double lambda_nm, r
         r->kind = R_DISPERSION;
         const double lambda = lambda_nm * 1e-9, dsi = d * 1e-12 / 1e-9; /* s/m */
         r->disp = QC_ISI_PI * lambda * lambda * dsi * rs * rs / LIGHT_SPEED;
-        return QC_OK;
+        return bessel_setup(spec, 4, r);
     }
     return qc_fail(QC_EINVAL,
                    "response '%s': unknown response '%s' (expected gauss:B, bessel:N:B, rc:B "
@@ -239,12 +254,27 @@ qc_status qc_isi_response_taps(const char *spec, double symbol_rate, double wave
         return qc_fail(QC_ENUMERIC, "response '%s': the inverse FFT failed", spec);
     }
     /* The grid is periodic over SPAN symbols: index i is time i/OVERSAMPLE
-     * symbols (mod SPAN). Centre the peak's phase. */
-    size_t peak = 0;
-    for (size_t i = 1; i < N; i++)
-        if (fabs(z[2 * i]) > fabs(z[2 * peak]))
-            peak = i;
-    /* Samples at the peak's phase, from SPAN/2 symbols before the peak. */
+     * symbols (mod SPAN). The sampling phase is the one of the widest eye,
+     * the largest sample less the sum of the others' magnitudes. */
+    size_t best = 0;
+    double best_open = -INFINITY;
+    for (size_t j = 0; j < OVERSAMPLE; j++) {
+        double big = 0.0, all = 0.0;
+        for (size_t k = 0; k < SPAN; k++) {
+            const double v = fabs(z[2 * (j + k * OVERSAMPLE)]);
+            big = fmax(big, v);
+            all += v;
+        }
+        if (big - (all - big) > best_open) {
+            best_open = big - (all - big);
+            best = j;
+        }
+    }
+    size_t peak = best;
+    for (size_t k = 0; k < SPAN; k++)
+        if (fabs(z[2 * (best + k * OVERSAMPLE)]) > fabs(z[2 * peak]))
+            peak = best + k * OVERSAMPLE;
+    /* Samples at that phase, from SPAN/2 symbols before the largest. */
     double samples[SPAN];
     const size_t half = SPAN / 2;
     double biggest = 0.0;

@@ -37,10 +37,12 @@ QC_API qc_status qc_isi_taps_check(const double *taps, size_t ntaps);
  *   rc:B           first-order (RC) low-pass
  *   dispersion:D   D ps/nm of accumulated chromatic dispersion seen by an
  *                  intensity link (small-signal power transfer
- *                  cos(π·λ²·D·f²/c)); needs symbol_rate (baud) and
- *                  wavelength_nm
+ *                  cos(π·λ²·D·f²/c)) through a 4th-order Bessel
+ *                  receiver at 0.75 × the symbol rate (dispersion:D:B:
+ *                  at B); needs symbol_rate (baud) and wavelength_nm
  * Each filters one rectangular (NRZ) symbol; the pulse is sampled once per
- * symbol at the phase of its largest sample, samples below
+ * symbol at the phase of the widest eye (largest sample less the others'
+ * magnitudes), samples below
  * QC_ISI_TAP_FLOOR of the largest are dropped from both ends, and the taps
  * are scaled to sum to 1 (a constant input passes unchanged). symbol_rate
  * and wavelength_nm are read only for dispersion (NaN otherwise). Writes
