@@ -31,7 +31,8 @@ typedef struct {
 qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out);
 void qc_isi_channel_free(qc_isi_channel *ch);
 
-/* The memoryless channel x_k → quantized y_k, interference averaged. */
+/* The memoryless channel x_{k−d} → quantized y_k, d the main cursor (the
+ * largest |h_d|), the other symbols of the window averaged. */
 qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out);
 
 /* One step of the normalized forward recursion: next[s'] = Σ_{t: t mod S

@@ -210,15 +210,25 @@ qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out)
     const size_t K = ch->K;
     if ((st = qc_dmc_alloc(ch->M, K, out)) != QC_OK)
         return st;
-    qc_dmc *d = *out;
-    /* P(y | x_k) = Σ over the older symbols of their law × P(y | window). */
+    qc_dmc *d_out = *out;
+    /* The receiver decides the symbol at the main cursor (the largest
+     * |h_d|) from y_k: P(y | x_{k−d}) = Σ over the other symbols of the
+     * window of their law × P(y | window). */
+    size_t d = 0, md = 1;
+    for (size_t i = 1; i < ch->ntaps; i++)
+        if (fabs(ch->taps[i]) > fabs(ch->taps[d]))
+            d = i;
+    for (size_t i = 0; i < d; i++)
+        md *= ch->M;
     for (size_t t = 0; t < ch->T; t++) {
-        const size_t x = t % ch->M;
-        const double w = ch->state_prior[t / ch->M];
+        const size_t x = (t / md) % ch->M;
+        if (ch->law[x] == 0.0)
+            continue;
+        const double w = ch->law[t % ch->M] * ch->state_prior[t / ch->M] / ch->law[x];
         if (w == 0.0)
             continue;
         const double *row = ch->window_dmc->p + t * K;
-        double *dst = d->p + x * K;
+        double *dst = d_out->p + x * K;
         for (size_t y = 0; y < K; y++)
             dst[y] += w * row[y];
     }

@@ -6,6 +6,7 @@
 #define QUANTCAP_DESIGN_H
 
 #include <stddef.h>
+#include <stdint.h>
 
 #include "quantcap/quantizer.h"
 #include "quantcap/capacity.h"
@@ -164,11 +165,27 @@ typedef struct {
     void *progress_user;
 } qc_design_numerics;
 
+/* A channel with memory (quantcap/memory.h): the received sample is
+ * Σ_i taps[i]·x_{k−i} + noise of the model at that noiseless output. The
+ * design is made for the memoryless channel first (its rates stay in the
+ * result as the link without interference); then the information rates
+ * of the channel with memory are estimated by simulation, and a uniform
+ * quantizer's full scale is re-optimized for them. ntaps = 0: memoryless. */
+typedef struct {
+    const double *taps;          /* h_0..h_L                                 */
+    size_t ntaps;                /* 0: no memory                             */
+    size_t symbols;              /* simulated symbols; 0: QC_DESIGN_MEMORY_SYMBOLS */
+    uint64_t seed;               /* the simulation's seed                    */
+} qc_design_memory;
+
+#define QC_DESIGN_MEMORY_SYMBOLS ((size_t)200000)
+
 typedef struct {
     qc_design_channel channel;
     qc_design_quantizer quantizer;
     qc_design_input input;
     qc_design_numerics numerics;
+    qc_design_memory memory;
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -273,6 +290,25 @@ typedef struct {
                                     polarizations (0: does not close)       */
     double net_rate_gbps;        /* net_bits × symbol rate (0: does not
                                     close; NaN without a symbol rate)       */
+    /* Channel with memory (request.memory.ntaps > 0); states = 0 and the
+     * rest unset otherwise. Rates by simulation (qc_isi_rate) with the
+     * result's levels and law, at memory_thresholds. */
+    size_t states;               /* trellis states M^L                       */
+    size_t ntaps;
+    double *taps;                /* owned copy of the taps                   */
+    size_t memory_symbols;       /* symbols simulated per rate               */
+    double information_rate_bits;       /* quantized, sequence detector    */
+    double information_rate_ci_bits;    /* its 95 % half-width             */
+    double unquantized_information_rate_bits;
+    double unquantized_information_rate_ci_bits;
+    double symbolwise_rate_bits;        /* exact, ISI treated as noise     */
+    double *memory_thresholds;   /* owned (nthresholds): the thresholds the
+                                    rates are for: uniform, the full scale
+                                    optimized for the information rate;
+                                    other strategies, the memoryless ones  */
+    double full_scale_factor;    /* memory_thresholds' spread over that of
+                                    thresholds (1: unchanged)              */
+    size_t memory_evaluations;   /* simulated rates of the full-scale search */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

@@ -83,7 +83,8 @@ typedef struct {
     double rate_ci_bits;     /* half-width of its 95 % interval              */
     double unquantized_bits; /* the same with continuous output (NaN: not run)*/
     double unquantized_ci_bits;
-    double symbolwise_bits;  /* exact rate, ISI treated as noise, quantized  */
+    double symbolwise_bits;  /* exact rate, ISI treated as noise, quantized,
+                                main cursor                                */
     size_t states;           /* M^L                                          */
     size_t batches;
     size_t symbols;          /* symbols counted (a multiple of batches)      */
@@ -101,8 +102,9 @@ typedef struct {
 QC_API qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out);
 
 /* Only the exact symbol-by-symbol rate (bits) of the request: the
- * memoryless channel from x_k to the quantized y_k with the other symbols
- * of the window averaged under the input law. Same failures as
+ * memoryless channel from the symbol at the main cursor x_{k−d} (d: the
+ * largest |h_d|, the first of equals) to the quantized y_k, the other
+ * symbols of the window averaged under the input law. Same failures as
  * qc_isi_rate (no simulation is run). */
 QC_API qc_status qc_isi_symbolwise_rate(const qc_isi_request *req, double *bits);
 

@@ -104,6 +104,15 @@ static const key_spec keys[] = {
     NUMBER("error-rate", "E", "block error probability in (0, 1) (with blocklength)"),
     NUMBER_FROM("peak-dbm", "P", "received optical power of the top level, dBm (instead of "
                 "received-dbm)", -INF, INF),
+    /* channels with memory (docs/models.md, docs/methods.md) */
+    LIST("taps", "H0,H1,...", "intersymbol interference: y_k = sum_i h_i x_(k-i) + noise "
+         "(up to 1024 trellis states)"),
+    TEXT("response", "SPEC", "ISI taps from a response sampled at the symbol rate: gauss:B, "
+         "bessel:N:B, rc:B (B = 3-dB bandwidth / symbol rate) or dispersion:PS_NM (intensity "
+         "link at 1550 nm; needs symbol-rate)"),
+    WHOLE("symbols", "N", "symbols simulated for the rates of a channel with memory (default "
+          "200000)", 4000, (size_t)1 << 40),
+    WHOLE("seed", "S", "seed of that simulation (default 1)", 0, (size_t)1 << 62),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

@@ -4,6 +4,7 @@
 
 #include "core/internal.h"
 #include "core/parse.h"
+#include "quantcap/memory.h"
 #include "quantcap/study.h"
 
 #define MAX_ENTRIES 64
@@ -19,6 +20,9 @@ struct qc_settings {
     qc_constraints constraints;
     /* FEC code of the last build (the request points here) */
     qc_fec fec;
+    /* taps of a channel with memory of the last build (given or from the
+     * response; the request points here) */
+    double taps[QC_ISI_MAX_TAPS];
 };
 
 
