@@ -23,6 +23,8 @@ typedef struct {
     double *state_prior;    /* the i.i.d. law of a state (S)                 */
     double *noiseless;      /* noiseless output of each window (T)           */
     double *mean, *sd;      /* the Gaussian output law of each window (T)    */
+    double *inv_sd;         /* 1 / sd (T)                                    */
+    double *log_weight;     /* log p(x_k) − log sd of each window (T)        */
     uint32_t *src;          /* t / M (T)                                     */
     qc_dmc *window_dmc;     /* T × K cell probabilities (NULL: no thresholds)*/
 } qc_isi_channel;

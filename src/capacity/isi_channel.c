@@ -74,6 +74,8 @@ void qc_isi_channel_free(qc_isi_channel *ch)
     free(ch->noiseless);
     free(ch->mean);
     free(ch->sd);
+    free(ch->inv_sd);
+    free(ch->log_weight);
     free(ch->src);
     qc_dmc_free(ch->window_dmc);
     free(ch);
@@ -133,7 +135,9 @@ qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out)
     ch->mean = qc_malloc_array(T, sizeof *ch->mean);
     ch->sd = qc_malloc_array(T, sizeof *ch->sd);
     ch->src = qc_malloc_array(T, sizeof *ch->src);
-    if (!ch->law || !ch->logp || !ch->state_prior || !ch->noiseless || !ch->mean || !ch->sd ||
+    ch->inv_sd = qc_malloc_array(T, sizeof *ch->inv_sd);
+    ch->log_weight = qc_malloc_array(T, sizeof *ch->log_weight);
+    if (!ch->inv_sd || !ch->log_weight || !ch->law || !ch->logp || !ch->state_prior || !ch->noiseless || !ch->mean || !ch->sd ||
         !ch->src) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto fail;
@@ -185,6 +189,8 @@ qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out)
             goto fail;
         }
         ch->sd[t] = sqrt(var);
+        ch->inv_sd[t] = 1.0 / ch->sd[t];
+        ch->log_weight[t] = ch->logp[t % M] - log(ch->sd[t]);
     }
 
     /* Cell probabilities of every window. */

@@ -132,11 +132,10 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
             /* log of p(x)·φ(y; mean, sd), relative to the largest */
             double emax = -INFINITY;
             for (size_t j = 0; j < T; j++) {
-                const double d = (y - ch->mean[j]) / ch->sd[j];
-                const double e = ch->logp[j % M] - log(ch->sd[j]) - 0.5 * d * d;
+                const double d = (y - ch->mean[j]) * ch->inv_sd[j];
+                const double e = ch->log_weight[j] - 0.5 * d * d;
                 b->eu[j] = e;
-                if (e > emax)
-                    emax = e;
+                emax = e > emax ? e : emax;
             }
             for (size_t j = 0; j < T; j++)
                 b->wu[j] = exp(b->eu[j] - emax);
