@@ -25,6 +25,7 @@
 #define TOL_TAP 2e-3     /* FFT-grid taps vs closed form (64 points/symbol) */
 #define TOL_SAME 1e-12   /* two routes to the same first-order response     */
 #define TOL_SUM 1e-12    /* taps scaled to sum 1                            */
+#define TOL_SYMBOLWISE 1e-9 /* one tap: the same channel matrix, another sum */
 #define PI_VALUE 3.14159265358979323846
 
 static qc_model *gauss(double sigma)
@@ -200,6 +201,60 @@ static void test_threads_and_seeds(void **state)
     qc_model_free(m);
 }
 
+/* qc_design with one tap: the simulated rate covers the exact memoryless
+ * rate of the same design within its interval (the memoryless rate is an
+ * exact finite sum, Cover & Thomas eq. 2.28), the symbol-by-symbol rate
+ * equals it, and the optimal strategy keeps its thresholds. With two taps
+ * and a uniform ADC: the full scale is searched, the rates are ordered
+ * (symbol by symbol ≤ sequence detector ≤ no ADC, within the intervals)
+ * and the report owns copies of the taps. */
+static void test_design_with_memory(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.5);
+    const double lev[4] = {-3, -1, 1, 3}, one[1] = {1.0}, two[2] = {1.0, 0.45};
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8;
+    req.memory.taps = one;
+    req.memory.ntaps = 1;
+    req.memory.symbols = 100000;
+    req.memory.seed = 3;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_int_equal(r.states, 1);
+    assert_true(fabs(r.information_rate_bits - r.rate_bits) <= r.information_rate_ci_bits);
+    assert_near(r.symbolwise_rate_bits, r.rate_bits, TOL_SYMBOLWISE);
+    assert_true(r.full_scale_factor == 1.0 && r.memory_evaluations == 0);
+    assert_memory_equal(r.memory_thresholds, r.thresholds, r.nthresholds * sizeof(double));
+    qc_design_result_clear(&r);
+
+    req.memory.taps = two;
+    req.memory.ntaps = 2;
+    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_int_equal(r.states, 4);
+    assert_int_equal(r.ntaps, 2);
+    assert_true(r.taps != two && r.taps[1] == 0.45);
+    assert_true(r.memory_evaluations > 10);
+    assert_true(r.full_scale_factor >= 0.5 && r.full_scale_factor <= 2.0);
+    assert_true(r.symbolwise_rate_bits <= r.information_rate_bits + r.information_rate_ci_bits);
+    assert_true(r.information_rate_bits <=
+                r.unquantized_information_rate_bits + r.information_rate_ci_bits +
+                    r.unquantized_information_rate_ci_bits);
+    assert_true(r.information_rate_bits < 2.0);
+    qc_design_result_clear(&r);
+
+    /* memory with QAM is refused before any design */
+    req.channel.dimensions = 2;
+    assert_int_equal(qc_design(&req, &r), QC_EINVAL);
+    assert_message("not QAM");
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -209,6 +264,7 @@ int main(void)
         cmocka_unit_test(test_response_errors),
         cmocka_unit_test(test_taps_and_states),
         cmocka_unit_test(test_threads_and_seeds),
+        cmocka_unit_test(test_design_with_memory),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
