@@ -349,8 +349,8 @@ QC_API const char *qc_design_output_unit(const qc_design_request *req);
 QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
- * (req->quantizer.kind is ignored). An invalid request fails at once with
- * nothing filled; otherwise every entry is filled and the return value is
+ * (req->quantizer.kind is ignored). An invalid request (a channel with
+ * memory among them: QC_EINVAL) fails at once with nothing filled; otherwise every entry is filled and the return value is
  * QC_OK, or the first failing strategy's status. Clear with
  * qc_design_comparison_clear (safe on a zeroed comparison). */
 QC_API qc_status qc_design_compare(const qc_design_request *req,
