@@ -316,7 +316,10 @@ typedef struct {
  * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
  * naming the field; a constraint no law can meet is QC_EINFEASIBLE, an
  * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
- * QC_ENOMEM as they come. The request and what it points to are never
+ * QC_ENOMEM as they come. A channel with memory (req->memory) is checked
+ * before the design (taps, states, symbols, a Gaussian-law model, real
+ * levels: QC_EINVAL) and a noiseless output the model refuses fails after
+ * it (QC_EINVAL naming the symbols). The request and what it points to are never
  * modified. On failure the result is left empty (zeroed: safe to clear,
  * nothing to free). */
 QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
