@@ -29,6 +29,7 @@
 #include "quantcap/frontend.h"
 #include "quantcap/quantizer.h"
 #include "quantcap/capacity.h"
+#include "quantcap/memory.h"
 #include "quantcap/alphabet.h"
 #include "quantcap/design.h"
 #include "quantcap/study.h"

@@ -341,6 +341,33 @@ static void print_fibre_link(FILE *f, const qc_fibre_link_result *l)
     fprintf(f, "; effective %.3f dB\n", l->snr_eff_db);
 }
 
+/* A channel with memory: the simulated rates, each with its interval. */
+static void print_memory(FILE *f, const qc_design_result *r, const char *ou)
+{
+    fprintf(f, "\nmemory       %zu taps (", r->ntaps);
+    for (size_t i = 0; i < r->ntaps; i++)
+        fprintf(f, "%s%.6g", i ? ", " : "", r->taps[i]);
+    fprintf(f, "), %zu trellis states; the rates above are the link without "
+               "interference\n",
+            r->states);
+    fprintf(f, "information  %.6f +- %.6f bit/symbol   sequence detector, quantized, i.i.d. "
+               "law above\n",
+            r->information_rate_bits, r->information_rate_ci_bits);
+    fprintf(f, "unquantized  %.6f +- %.6f bit/symbol   sequence detector, no ADC\n",
+            r->unquantized_information_rate_bits, r->unquantized_information_rate_ci_bits);
+    fprintf(f, "symbolwise   %.6f bit/symbol   symbol-by-symbol receiver, ISI as noise (exact)\n",
+            r->symbolwise_rate_bits);
+    fprintf(f, "             simulated: %zu symbols in %zu batches, 95 %% intervals by batch "
+               "means (Arnold et al. 2006)\n",
+            r->memory_symbols, (size_t)QC_ISI_BATCHES);
+    fprintf(f, "thresholds (%s) for the memory channel, full scale x %.4f (%zu simulated "
+               "rates)\n            ",
+            ou, r->full_scale_factor, r->memory_evaluations);
+    for (size_t j = 0; j < r->nthresholds; j++)
+        fprintf(f, "%s%.6g", j ? ", " : " ", r->memory_thresholds[j]);
+    fprintf(f, "\n");
+}
+
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table,
                          const fec_penalty *p)
@@ -390,6 +417,8 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     for (size_t x = 0; x < r->nlevels; x++)
         if (!mass_only || r->input[x] > 1e-6)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
+    if (r->states > 0)
+        print_memory(f, r, ou);
 }
 
 /* The comparison with a FEC code: per strategy the rate, the code's

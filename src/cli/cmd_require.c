@@ -338,6 +338,17 @@ int cmd_require(int argc, char **argv)
                 fprintf(f, ", net %.6g Gb/s", json_real_value(net));
             fputc('\n', f);
             print_link_at(f, set, key, &res, design);
+            json_t *info = json_object_get(design, "information_rate_bits");
+            if (json_is_real(info))
+                fprintf(f,
+                        "memory       information rate %.6f +- %.6f bit/symbol at the required "
+                        "value (sequence detector; 95 %% interval of the simulation, %lld "
+                        "symbols); the required values are where the seeded estimates meet "
+                        "the target: another seed moves them by about the interval's width "
+                        "in rate; the rate above is the link without interference\n",
+                        json_real_value(info),
+                        json_real_value(json_object_get(design, "information_rate_ci_bits")),
+                        (long long)json_integer_value(json_object_get(design, "symbols")));
         }
         fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations)\n",
                 res.designs);

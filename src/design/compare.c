@@ -26,6 +26,9 @@ qc_status qc_design_compare(const qc_design_request *req, qc_design_comparison *
     qc_status st = qc_design_check_request(req, with_fixed, &K);
     if (st != QC_OK)
         return st;
+    if (req->memory.ntaps > 0)
+        return qc_fail(QC_EINVAL, "compare: the comparison rates memoryless channels; design a "
+                                  "channel with memory (taps, response) one quantizer at a time");
     static const qc_quantizer_kind order[] = {
         QC_QUANTIZER_UNIFORM, QC_QUANTIZER_LLOYD_MAX, QC_QUANTIZER_OPTIMAL,
         QC_QUANTIZER_FIXED, QC_QUANTIZER_CONVERTER};

@@ -128,4 +128,10 @@ qc_status qc_level_search(const qc_level_set *set, const double *start, size_t s
 /* Most designs one start of that search runs for n levels. */
 size_t qc_level_search_budget(size_t n);
 
+/* Channels with memory (memory_design.c): check the request's memory
+ * part before the design; after it, the simulated rates and the uniform
+ * quantizer's full scale for the channel with memory. */
+qc_status qc_memory_check(const qc_design_request *req);
+qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res);
+
 #endif

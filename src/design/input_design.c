@@ -324,6 +324,14 @@ qc_status qc_design(const qc_design_request *req, qc_design_result *res)
 {
     if (req && req->channel.ppm_slots)
         return qc_ppm_design(req, res);
-    return qc_input_design(req, res);
+    qc_status st = req && req->memory.ntaps > 0 ? qc_memory_check(req) : QC_OK;
+    if (st != QC_OK) {
+        memset(res, 0, sizeof *res);
+        return st;
+    }
+    st = qc_input_design(req, res);
+    if (st == QC_OK && req->memory.ntaps > 0 && (st = qc_memory_design(req, res)) != QC_OK)
+        qc_design_result_clear(res);
+    return st;
 }
 

@@ -56,6 +56,8 @@ void qc_design_result_clear(qc_design_result *res)
     free(res->levels);
     free(res->input);
     qc_dmc_free(res->channel);
+    free(res->taps);
+    free(res->memory_thresholds);
     memset(res, 0, sizeof *res);
 }
 

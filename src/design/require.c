@@ -13,6 +13,7 @@
  * receiver built for a hard-decision code would. Two roots closer than
  * the root tolerance give a penalty of exactly 0. */
 #include "design/design_internal.h"
+#include "quantcap/memory.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -87,7 +88,8 @@ double qc_design_figure(const qc_design_result *res, qc_target_kind kind)
     case QC_TARGET_BER: return res->pre_fec_ber;
     case QC_TARGET_NGMI: return res->ngmi;
     case QC_TARGET_GMI: return res->gmi_bits;
-    case QC_TARGET_RATE: return res->rate_bits;
+    /* a channel with memory: the sequence detector's simulated rate */
+    case QC_TARGET_RATE: return res->states > 0 ? res->information_rate_bits : res->rate_bits;
     default: return NAN;
     }
 }
@@ -106,6 +108,35 @@ static double from_goodness(qc_target_kind kind, double g)
 }
 
 /* ---- the unquantized figures ---------------------------------------- */
+
+/* A channel with memory: the simulated information rate without the ADC
+ * (the same seed and symbols as the design's; quantcap/memory.h), for
+ * the design's levels and law. */
+static qc_status unquantized_memory_rate(const qc_model *m, const qc_design_request *req,
+                                         size_t *designs, double *fig)
+{
+    qc_design_result r = {0};
+    qc_design_request sub = *req;
+    sub.numerics.skip_snr_penalty = 1;
+    sub.input.fec = NULL;
+    sub.memory.ntaps = 0; /* the memoryless design gives the levels and law */
+    qc_status st = qc_design(&sub, &r);
+    if (st != QC_OK)
+        return st;
+    ++*designs;
+    qc_isi_request isi = {.model = m, .levels = r.levels, .nlevels = r.nlevels,
+                          .input = r.input, .taps = req->memory.taps,
+                          .ntaps = req->memory.ntaps, .thresholds = r.thresholds,
+                          .nthresholds = r.nthresholds,
+                          .symbols = req->memory.symbols ? req->memory.symbols
+                                                         : QC_DESIGN_MEMORY_SYMBOLS,
+                          .seed = req->memory.seed, .unquantized = 1};
+    qc_isi_result ir;
+    if ((st = qc_isi_rate(&isi, &ir)) == QC_OK)
+        *fig = ir.unquantized_bits;
+    qc_design_result_clear(&r);
+    return st;
+}
 
 /* MAP hard decision of the unquantized receiver: a quantizer whose
  * thresholds are exactly the MAP decision boundaries decides as the
@@ -150,6 +181,12 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
+    if (req->memory.ntaps > 0) {
+        if (kind != QC_TARGET_RATE)
+            return qc_fail(QC_EINVAL, "with taps or a response, the target is the information "
+                                      "rate of the sequence detector: give rate=X");
+        return unquantized_memory_rate(m, req, designs, fig);
+    }
     /* pulse position: the design's own unquantized reference (per symbol) */
     if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels ||
         req->channel.ppm_slots) {

@@ -6,6 +6,7 @@
 #define QUANTCAP_DESIGN_H
 
 #include <stddef.h>
+#include <stdint.h>
 
 #include "quantcap/quantizer.h"
 #include "quantcap/capacity.h"
@@ -191,11 +192,27 @@ typedef struct {
     void *progress_user;
 } qc_design_numerics;
 
+/* A channel with memory (quantcap/memory.h): the received sample is
+ * Σ_i taps[i]·x_{k−i} + noise of the model at that noiseless output. The
+ * design is made for the memoryless channel first (its rates stay in the
+ * result as the link without interference); then the information rates
+ * of the channel with memory are estimated by simulation, and a uniform
+ * quantizer's full scale is re-optimized for them. ntaps = 0: memoryless. */
+typedef struct {
+    const double *taps;          /* h_0..h_L                                 */
+    size_t ntaps;                /* 0: no memory                             */
+    size_t symbols;              /* simulated symbols; 0: QC_DESIGN_MEMORY_SYMBOLS */
+    uint64_t seed;               /* the simulation's seed                    */
+} qc_design_memory;
+
+#define QC_DESIGN_MEMORY_SYMBOLS ((size_t)200000)
+
 typedef struct {
     qc_design_channel channel;
     qc_design_quantizer quantizer;
     qc_design_input input;
     qc_design_numerics numerics;
+    qc_design_memory memory;
 } qc_design_request;
 
 /* Fill a request with defaults: no channel, MI objective, the optimal
@@ -339,6 +356,25 @@ typedef struct {
     double draws_ci95_bits;      /* half-width of the 95 % confidence
                                     interval of the mean (Student t; NaN
                                     for one draw)                          */
+    /* Channel with memory (request.memory.ntaps > 0); states = 0 and the
+     * rest unset otherwise. Rates by simulation (qc_isi_rate) with the
+     * result's levels and law, at memory_thresholds. */
+    size_t states;               /* trellis states M^L                       */
+    size_t ntaps;
+    double *taps;                /* owned copy of the taps                   */
+    size_t memory_symbols;       /* symbols simulated per rate               */
+    double information_rate_bits;       /* quantized, sequence detector    */
+    double information_rate_ci_bits;    /* its 95 % half-width             */
+    double unquantized_information_rate_bits;
+    double unquantized_information_rate_ci_bits;
+    double symbolwise_rate_bits;        /* exact, ISI treated as noise     */
+    double *memory_thresholds;   /* owned (nthresholds): the thresholds the
+                                    rates are for: uniform, the full scale
+                                    optimized for the information rate;
+                                    other strategies, the memoryless ones  */
+    double full_scale_factor;    /* memory_thresholds' spread over that of
+                                    thresholds (1: unchanged)              */
+    size_t memory_evaluations;   /* simulated rates of the full-scale search */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
@@ -346,7 +382,10 @@ typedef struct {
  * miscounted thresholds, bad levels or law) are QC_EINVAL with a message
  * naming the field; a constraint no law can meet is QC_EINFEASIBLE, an
  * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
- * QC_ENOMEM as they come. The request and what it points to are never
+ * QC_ENOMEM as they come. A channel with memory (req->memory) is checked
+ * before the design (taps, states, symbols, a Gaussian-law model, real
+ * levels: QC_EINVAL) and a noiseless output the model refuses fails after
+ * it (QC_EINVAL naming the symbols). The request and what it points to are never
  * modified. On failure the result is left empty (zeroed: safe to clear,
  * nothing to free). */
 QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
@@ -380,8 +419,8 @@ QC_API const char *qc_design_output_unit(const qc_design_request *req);
 QC_API const char *qc_design_snr_definition(const qc_design_request *req);
 
 /* Run every strategy with the request's objective, channel and cells
- * (req->quantizer.kind is ignored). An invalid request fails at once with
- * nothing filled; otherwise every entry is filled and the return value is
+ * (req->quantizer.kind is ignored). An invalid request (a channel with
+ * memory among them: QC_EINVAL) fails at once with nothing filled; otherwise every entry is filled and the return value is
  * QC_OK, or the first failing strategy's status. Clear with
  * qc_design_comparison_clear (safe on a zeroed comparison). */
 QC_API qc_status qc_design_compare(const qc_design_request *req,

@@ -55,7 +55,8 @@ enum {
     QC_MODEL_FROM_FILE = 1u << 2,
     /* given x the output is Gaussian with the mean and variance of the
      * type's `moments` (gauss, gauss-sd, apd-gauss): added Gaussian noise
-     * only adds to that variance (qc_model_add_noise) */
+     * only adds to that variance (qc_model_add_noise), and memory channels
+     * simulate and weigh it so */
     QC_MODEL_GAUSSIAN_LAW = 1u << 3,
 };
 

@@ -226,9 +226,10 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
     size_t ncell = np * ns * na * nb; /* [((p * ns + s) * na + a) * nb + b] */
     double *bx = plot_alloc(ctx, nb * sizeof *bx), *rate = plot_alloc(ctx, ncell * sizeof *rate),
            *low = plot_alloc(ctx, ncell * sizeof *low),
-           *unq = plot_alloc(ctx, np * ns * na * sizeof *unq);
+           *unq = plot_alloc(ctx, np * ns * na * sizeof *unq),
+           *sym = plot_alloc(ctx, ncell * sizeof *sym);
     unsigned char *below = plot_alloc(ctx, ncell);
-    if (!bx || !rate || !low || !unq || !below)
+    if (!bx || !rate || !low || !unq || !below || !sym)
         return QC_ENOMEM; /* the blocks are the context's */
     for (size_t b = 0; b < nb; b++)
         bx[b] = ba->number ? ba->number[b] : (double)b;
@@ -260,6 +261,9 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
              * when the model defines one at these points, else the loss
              * in bits */
             int penalty_db = 0, at_target = 0;
+            /* a channel with memory: the sequence detector's rate, the
+             * symbol-by-symbol rate beside it, the ADC's cost below */
+            int memory = 0;
             for (int pass = 0; pass < 2; pass++)
                 for (size_t pi = 0; pi < np; pi++)
                     for (size_t s = 0; s < ns; s++) {
@@ -280,6 +284,20 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                                         isfinite(plot_record_number(rec, QC_REPORT_SNR_PENALTY));
                                     /* from [require], or a fec key's threshold */
                                     at_target |= isfinite(plot_record_number(rec, "penalty_db"));
+                                    memory |= isfinite(
+                                        plot_record_number(rec, "information_rate_bits"));
+                                    continue;
+                                }
+                                if (memory) {
+                                    const size_t i = cell * nb + b;
+                                    rate[i] = plot_record_number(rec, "information_rate_bits");
+                                    sym[i] = plot_record_number(rec, "symbolwise_rate_bits");
+                                    low[i] = plot_record_number(
+                                                 rec, "unquantized_information_rate_bits") -
+                                             rate[i];
+                                    if (!isfinite(unq[cell]))
+                                        unq[cell] = plot_record_number(
+                                            rec, "unquantized_information_rate_bits");
                                     continue;
                                 }
                                 rate[cell * nb + b] = plot_record_number(rec, QC_REPORT_RATE);
@@ -311,7 +329,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             y1 *= 1.08;
             /* lower panel: penalty in dB (linear) or loss in bits (log) */
             penalty_db |= at_target;
-            int logscale = !penalty_db;
+            int logscale = !penalty_db && !memory;
             double l0, l1;
             int any_below = 0;
             memset(below, 0, ncell);
@@ -359,12 +377,17 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             pladv(0);
             plschr(0.0, 0.95 * ctx->font_scale);
             char subject[1400];
-            snprintf(subject, sizeof subject, "information rate against %s", blabel);
+            snprintf(subject, sizeof subject, "%s against %s",
+                     memory ? "information rate with memory (i.i.d. law)" : "information rate",
+                     blabel);
             plot_figure_title(sc, subject, ttext, w, h);
             char ylabel[160];
             snprintf(ylabel, sizeof ylabel, "rate (%s)", plot_rate_unit(sc, 0, na));
             char lylabel[160];
-            if (at_target)
+            if (memory)
+                snprintf(lylabel, sizeof lylabel, "ADC cost, sequence detector (%s)",
+                         plot_rate_unit(sc, 0, na));
+            else if (at_target)
                 snprintf(lylabel, sizeof lylabel, "penalty at the target (dB)");
             else if (penalty_db)
                 snprintf(lylabel, sizeof lylabel, "SNR penalty (dB)");
@@ -392,6 +415,8 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                     for (size_t a = 0; a < na; a++) {
                         size_t cell = (pi * ns + s) * na + a;
                         plot_curve((int)nb, bx, rate + cell * nb, (int)a, ns > 1 ? (int)s : -1, 1, 0);
+                        if (memory) /* symbol by symbol: dashed, its colour */
+                            plot_curve((int)nb, bx, sym + cell * nb, (int)a, 1, 1, 0);
                         /* the unquantized rate: thin dotted line in its colour */
                         if (isfinite(unq[cell])) {
                             double hx[2] = {x0, x1}, hy[2] = {unq[cell], unq[cell]};
@@ -432,7 +457,15 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                 if (ns > 1)
                     lg.line_sty[lg.n - 1] = 1;
             }
-            plot_legend_add(&lg, "unquantized", 0, 0);
+            if (memory) {
+                plot_legend_add(&lg, "sequence detector", 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = plot_line_styles[0];
+                plot_legend_add(&lg, "symbol by symbol", 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = plot_line_styles[1];
+            }
+            plot_legend_add(&lg, memory ? "no ADC (sequence)" : "unquantized", 0, 0);
             lg.line_col[lg.n - 1] = COL_BLACK;
             lg.line_sty[lg.n - 1] = 3;
             lg.line_w[lg.n - 1] = 1.0;

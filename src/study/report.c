@@ -226,6 +226,30 @@ static void report_fibre_link(json_t *o, const qc_fibre_link_result *l)
     json_object_set_new(o, "optimum_snr_db", qc_report_real(l->optimum_snr_db));
 }
 
+/* A channel with memory: its simulated rates (only when it has one, so
+ * that memoryless reports keep their keys). */
+static void report_memory(json_t *o, const qc_design_result *res)
+{
+    if (res->states == 0)
+        return;
+    json_object_set_new(o, "taps", qc_report_array(res->taps, res->ntaps));
+    json_object_set_new(o, "states", json_integer((json_int_t)res->states));
+    json_object_set_new(o, "symbols", json_integer((json_int_t)res->memory_symbols));
+    json_object_set_new(o, "information_rate_bits", qc_report_real(res->information_rate_bits));
+    json_object_set_new(o, "information_rate_ci_bits",
+                        qc_report_real(res->information_rate_ci_bits));
+    json_object_set_new(o, "unquantized_information_rate_bits",
+                        qc_report_real(res->unquantized_information_rate_bits));
+    json_object_set_new(o, "unquantized_information_rate_ci_bits",
+                        qc_report_real(res->unquantized_information_rate_ci_bits));
+    json_object_set_new(o, "symbolwise_rate_bits", qc_report_real(res->symbolwise_rate_bits));
+    json_object_set_new(o, "memory_thresholds",
+                        qc_report_array(res->memory_thresholds, res->nthresholds));
+    json_object_set_new(o, "full_scale_factor", qc_report_real(res->full_scale_factor));
+    json_object_set_new(o, "memory_evaluations",
+                        json_integer((json_int_t)res->memory_evaluations));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -297,6 +321,7 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
         json_object_set_new(o, "received_dbm",
                             qc_report_real(req->channel.intensity_link->received_dbm));
     }
+    report_memory(o, res);
     return o;
 }
 

@@ -118,7 +118,8 @@ static const key_spec keys[] = {
                  0.0),
     NUMBER_FROM("dnl-lsb", "X", "peak random DNL, LSB, below 1 (default 0)", 0.0, INF),
     NUMBER_FROM("inl-lsb", "Y", "peak random INL bow, LSB (default 0)", 0.0, INF),
-    WHOLE("seed", "S", "seed of the DNL/INL draws (default 1)", 0, 4294967295u),
+    WHOLE("seed", "S", "seed of the random draws: a converter's DNL/INL, the simulation of a "
+          "channel with memory (default 1)", 0, 4294967295u),
     WHOLE("draws", "D", "DNL/INL draws rated: mean and spread of the rate (default 1)", 1,
           100000),
     TEXT("transitions", "FILE", "measured converter transition levels, one per line"),
@@ -174,6 +175,14 @@ static const key_spec keys[] = {
                  0.0),
     WHOLE("ase-polarizations", "P",
           "polarizations of the ASE detected: 1 behind a polarizer, else 2 (default 2)", 1, 2),
+    /* channels with memory (docs/models.md, docs/methods.md) */
+    LIST("taps", "H0,H1,...", "intersymbol interference: y_k = sum_i h_i x_(k-i) + noise "
+         "(up to 1024 trellis states)"),
+    TEXT("response", "SPEC", "ISI taps from a response sampled at the symbol rate: gauss:B, "
+         "bessel:N:B, rc:B (B = 3-dB bandwidth / symbol rate) or dispersion:PS_NM (intensity "
+         "link at 1550 nm; needs symbol-rate)"),
+    WHOLE("symbols", "N", "symbols simulated for the rates of a channel with memory (default "
+          "200000)", 4000, (size_t)1 << 40),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

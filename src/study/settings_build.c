@@ -550,6 +550,54 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
     return QC_OK;
 }
 
+/* The wavelength a dispersion response is taken at, nm (C band). */
+#define RESPONSE_WAVELENGTH_NM 1550.0
+
+/* The channel with memory: taps given, or from a response. */
+static qc_status memory_of(qc_settings *s, qc_design_request *req)
+{
+    const char *taps = qc_settings_get(s, "taps"), *resp = qc_settings_get(s, "response");
+    qc_status st;
+    if (!taps && !resp) {
+        if (qc_settings_get(s, "symbols") || qc_settings_get(s, "seed"))
+            return qc_fail(QC_EINVAL, "'%s' goes with 'taps' or 'response' (a channel with "
+                                      "memory)",
+                           qc_settings_get(s, "symbols") ? "symbols" : "seed");
+        return QC_OK;
+    }
+    if (taps && resp)
+        return qc_fail(QC_EINVAL, "give 'taps' or 'response', not both");
+    size_t n = 0;
+    if (taps) {
+        double *t = NULL;
+        if ((st = qc_parse_list(taps, &t, &n)) != QC_OK)
+            return qc_fail(st, "taps: %s", qc_last_error());
+        if (n > QC_ISI_MAX_TAPS) {
+            free(t);
+            return qc_fail(QC_EINVAL, "taps: %zu taps given; at most %zu are supported", n,
+                           QC_ISI_MAX_TAPS);
+        }
+        memcpy(s->taps, t, n * sizeof *t);
+        free(t);
+    } else {
+        double rs = NAN;
+        if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK)
+            return st;
+        if ((st = qc_isi_response_taps(resp, rs, RESPONSE_WAVELENGTH_NM, s->taps, &n)) !=
+            QC_OK)
+            return st;
+    }
+    double symbols = NAN, seed = NAN;
+    if ((st = number(s, "symbols", NAN, &symbols)) != QC_OK ||
+        (st = number(s, "seed", NAN, &seed)) != QC_OK)
+        return st;
+    req->memory.taps = s->taps;
+    req->memory.ntaps = n;
+    req->memory.symbols = isnan(symbols) ? 0 : (size_t)symbols;
+    req->memory.seed = isnan(seed) ? 1 : (uint64_t)seed;
+    return qc_isi_taps_check(s->taps, n);
+}
+
 /* The model of a setting: from the cache (borrowed), or a new instance
  * (the caller's) when there is none. */
 static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
@@ -812,7 +860,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     req->channel.ppm_slots = ppm;
     req->input.probabilities = s->probabilities;
     req->quantizer.thresholds = s->thresholds;
-    if ((st = design_options(s, dims, optimize, req)) != QC_OK)
+    if ((st = design_options(s, dims, optimize, req)) != QC_OK ||
+        (st = memory_of(s, req)) != QC_OK)
         goto fail;
     return QC_OK;
 fail:

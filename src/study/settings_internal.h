@@ -4,6 +4,7 @@
 
 #include "core/internal.h"
 #include "core/parse.h"
+#include "quantcap/memory.h"
 #include "quantcap/study.h"
 
 #define MAX_ENTRIES 64
@@ -29,6 +30,9 @@ struct qc_settings {
     /* the unamplified intensity link of the last build (the request
      * points here) */
     qc_intensity_link_result ilink;
+    /* taps of a channel with memory of the last build (given or from the
+     * response; the request points here) */
+    double taps[QC_ISI_MAX_TAPS];
 };
 
 /* settings_converter.c: the converter keys into s->converter and

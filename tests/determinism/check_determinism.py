@@ -28,8 +28,9 @@ tally = Tally(verbose=True)
 check = tally.check
 
 
-def run(args, cwd=None):
-    p = subprocess.run([QC, *args], capture_output=True, cwd=cwd)
+def run(args, cwd=None, env=None):
+    p = subprocess.run([QC, *args], capture_output=True, cwd=cwd,
+                       env=None if env is None else {**os.environ, **env})
     if p.returncode != 0:
         check(False, f"quantcap {' '.join(args)}: exit {p.returncode}: {p.stderr.decode()[:300]}")
         return None
@@ -48,7 +49,24 @@ DESIGNS = [
     ["design", "--model", "table", "--table", os.path.join(ROOT, "data", "table_demo.txt"),
      "--bits", "2", "--quantizer", "lloyd-max", "--json"],
     ["capacity", os.path.join(ROOT, "data", "examples", "bsc-0.11.txt"), "--json"],
+    # a channel with memory: a seeded simulation in parallel batches
+    ["design", "--model", "gauss", "--sigma", "0.3", "--alphabet", "pam:4", "--bits", "3",
+     "--quantizer", "uniform", "--response", "bessel:4:0.4", "--symbols", "20000",
+     "--seed", "5", "--json"],
 ]
+MEMORY = DESIGNS[-1]
+
+
+def check_memory_threads():
+    """The simulated rates of a channel with memory are the same bytes on
+    1, 2 and 4 OpenMP threads (independent batches, seeded by index)."""
+    outs = [run(MEMORY, env={"OMP_NUM_THREADS": str(n)}) for n in (1, 2, 4)]
+    if any(o is None for o in outs):
+        return
+    check(outs[1] == outs[0] and outs[2] == outs[0],
+          "channel with memory: the same bytes on 1, 2 and 4 threads")
+    other = run(MEMORY[:-2] + ["6", "--json"])
+    check(other is not None and other != outs[0], "channel with memory: another seed differs")
 
 
 def check_designs(tmp):
@@ -114,6 +132,7 @@ def main():
     tmp = tempfile.mkdtemp(prefix="qc-determinism-")
     try:
         check_designs(tmp)
+        check_memory_threads()
         check_sweep(tmp)
     finally:
         shutil.rmtree(tmp, ignore_errors=True)

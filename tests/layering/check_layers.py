@@ -17,7 +17,7 @@ STAGES = ['core', 'models', 'frontend', 'quantizer', 'capacity', 'alphabet',
 PUBLIC = {
     'export': 'core', 'status': 'core', 'figures': 'core', 'atomic_file': 'core', 'dmc': 'core', 'info': 'core',
     'model': 'models', 'frontend': 'frontend', 'quantizer': 'quantizer',
-    'capacity': 'capacity', 'alphabet': 'alphabet', 'design': 'design',
+    'capacity': 'capacity', 'memory': 'capacity', 'alphabet': 'alphabet', 'design': 'design',
     'study': 'study',
 }
 # Private headers shared beyond their folder, and why.

@@ -1,0 +1,46 @@
+/* isi.h — the trellis of a channel with intersymbol interference, shared
+ * by the files of the memory-channel engine (isi_channel.c builds it,
+ * isi_rate.c runs the forward recursion on it). Private to src/capacity. */
+#ifndef QC_CAPACITY_ISI_H
+#define QC_CAPACITY_ISI_H
+
+#include <stdint.h>
+
+#define QC_ISI_LN2 0.69314718055994530942
+#define QC_ISI_PI 3.14159265358979323846
+
+#include "quantcap/dmc.h"
+#include "quantcap/memory.h"
+#include "quantcap/model.h"
+#include "quantcap/quantizer.h"
+
+/* Windows t = x_k + M·x_{k−1} + … + M^L·x_{k−L} (T = M^(L+1) of them);
+ * the state before x_k is t / M, the state after it is t mod S. */
+typedef struct {
+    size_t M, S, T, K, ntaps;
+    const double *taps, *levels, *thresholds; /* borrowed from the request */
+    double *law, *logp;     /* input law and its log (M)                     */
+    double *state_prior;    /* the i.i.d. law of a state (S)                 */
+    double *noiseless;      /* noiseless output of each window (T)           */
+    double *mean, *sd;      /* the Gaussian output law of each window (T)    */
+    double *inv_sd;         /* 1 / sd (T)                                    */
+    double *log_weight;     /* log p(x_k) − log sd of each window (T)        */
+    uint32_t *src;          /* t / M (T)                                     */
+    qc_dmc *window_dmc;     /* T × K cell probabilities (NULL: no thresholds)*/
+} qc_isi_channel;
+
+/* Check the request and build its trellis; on failure *out is NULL. */
+qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out);
+void qc_isi_channel_free(qc_isi_channel *ch);
+
+/* The memoryless channel x_{k−d} → quantized y_k, d the main cursor (the
+ * largest |h_d|), the other symbols of the window averaged. */
+qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out);
+
+/* One step of the normalized forward recursion: next[s'] = Σ_{t: t mod S
+ * = s'} a[t / M]·w[t], then next is scaled to sum 1; returns the sum
+ * before scaling (the step's likelihood up to w's common factor). */
+double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
+                           double *next);
+
+#endif

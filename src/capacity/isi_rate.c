@@ -1,0 +1,273 @@
+/* isi_rate.c — information rates of a channel with intersymbol
+ * interference and i.i.d. inputs by the simulation-based method of
+ * D. M. Arnold, H.-A. Loeliger, P. O. Vontobel, A. Kavčić and W. Zeng,
+ * "Simulation-based computation of information rates for channels with
+ * memory", IEEE Trans. IT 52(8), 2006:
+ *
+ *   I ≈ (1/n)·[log p(y^n | x^n, s_0) − log p(y^n)],
+ *
+ * on one long simulated sequence, with p(y^n) from the forward recursion
+ * (the sum-product algorithm on the trellis, normalized at every step:
+ * log p(y^n) = Σ_k log λ_k). The quantized rate uses the cell
+ * probabilities of each window (qc_discretize) as likelihoods; the
+ * unquantized rate uses the Gaussian densities, taken relative to their
+ * largest so that no step underflows. Both follow the same simulated
+ * continuous outputs, the quantized ones being their cells, so the gap
+ * between them is estimated with common random numbers.
+ *
+ * The interval is by batch means: QC_ISI_BATCHES independent sequences,
+ * batch b with its own generator seeded from (seed, b) by the SplitMix64
+ * finalizer (G. L. Steele, D. Lea, C. H. Flood, "Fast splittable
+ * pseudorandom number generators", OOPSLA 2014), a warm-up of 100·L
+ * symbols not counted (the start's bias fades), and the Student-t 95 %
+ * half-width of the batch estimates. The batches are independent, so they
+ * run in parallel (OpenMP) and are combined in batch order: the thread
+ * count never changes a bit of the result. Generator: GSL's MT19937,
+ * Gaussian draws by the ziggurat (gsl_ran_gaussian_ziggurat). */
+#include "capacity/isi.h"
+#include "core/internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+
+#define WARMUP_PER_TAP 100 /* symbols of warm-up per tap of memory */
+
+static uint64_t splitmix64(uint64_t z)
+{
+    z += 0x9e3779b97f4a7c15ull;
+    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
+    z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+    return z ^ (z >> 31);
+}
+
+double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
+                           double *next)
+{
+    const size_t S = ch->S, M = ch->M;
+    const uint32_t *src = ch->src;
+    for (size_t s = 0; s < S; s++)
+        next[s] = a[src[s]] * w[s];
+    for (size_t hi = 1; hi < M; hi++) {
+        const size_t base = hi * S;
+        const uint32_t *sb = src + base;
+        const double *wb = w + base;
+        for (size_t s = 0; s < S; s++)
+            next[s] += a[sb[s]] * wb[s];
+    }
+    double lambda = 0.0;
+    for (size_t s = 0; s < S; s++)
+        lambda += next[s];
+    if (lambda > 0.0) {
+        const double inv = 1.0 / lambda;
+        for (size_t s = 0; s < S; s++)
+            next[s] *= inv;
+    }
+    return lambda;
+}
+
+/* What one batch needs besides the shared channel. */
+typedef struct {
+    double *aq, *nq, *au, *nu; /* forward messages (S each)               */
+    double *wu, *eu;           /* unquantized weights and exponents (T)   */
+    gsl_rng *rng;
+    double est_q, est_u;       /* the batch's estimates, nats             */
+    int failed;                /* a step's likelihood vanished            */
+} batch_ws;
+
+/* The cell of a continuous output among n sorted thresholds. */
+static size_t cell_of(const double *thr, size_t n, double y)
+{
+    /* cells are half-open: y < t_0 is cell 0, t_{j−1} ≤ y < t_j is cell j */
+    size_t lo = 0, hi = n;
+    while (lo < hi) {
+        size_t mid = (lo + hi) / 2;
+        if (y >= thr[mid])
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
+/* One batch: warm-up, then `count` counted symbols. lik[y·T + t] =
+ * p(x_t)·P(y | t) are the quantized step weights. */
+static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
+                      const double *lik, size_t warmup, size_t count, int unquantized,
+                      batch_ws *b)
+{
+    const size_t S = ch->S, T = ch->T, M = ch->M, K = ch->K;
+    const double *pq = ch->window_dmc->p;
+    size_t s = 0;
+    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= M)
+        s += mul * gsl_ran_discrete(b->rng, draw);
+    memcpy(b->aq, ch->state_prior, S * sizeof *b->aq);
+    memcpy(b->au, ch->state_prior, S * sizeof *b->au);
+    double sum_q = 0.0, sum_u = 0.0;
+    b->failed = 0;
+    for (size_t k = 0; k < warmup + count; k++) {
+        const size_t x = gsl_ran_discrete(b->rng, draw);
+        const size_t t = x + M * s;
+        s = t % S;
+        const double z = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        const double y = ch->mean[t] + ch->sd[t] * z;
+        const size_t c = cell_of(ch->thresholds, K - 1, y);
+        /* quantized */
+        const double lam_q = qc_isi_forward_step(ch, b->aq, lik + c * T, b->nq);
+        double *tmp = b->aq;
+        b->aq = b->nq;
+        b->nq = tmp;
+        const double ptrue = pq[t * K + c];
+        if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
+            b->failed = 1;
+            return;
+        }
+        if (k >= warmup)
+            sum_q += log(ptrue) - log(lam_q);
+        if (unquantized) {
+            /* log of p(x)·φ(y; mean, sd), relative to the largest */
+            double emax = -INFINITY;
+            for (size_t j = 0; j < T; j++) {
+                const double d = (y - ch->mean[j]) * ch->inv_sd[j];
+                const double e = ch->log_weight[j] - 0.5 * d * d;
+                b->eu[j] = e;
+                emax = e > emax ? e : emax;
+            }
+            for (size_t j = 0; j < T; j++)
+                b->wu[j] = exp(b->eu[j] - emax);
+            const double lam_u = qc_isi_forward_step(ch, b->au, b->wu, b->nu);
+            tmp = b->au;
+            b->au = b->nu;
+            b->nu = tmp;
+            if (!(lam_u > 0.0)) {
+                b->failed = 1;
+                return;
+            }
+            /* log p(y | t) − log Σ = (e_t − logp) − (log λ + emax); the
+             * common −½·log 2π cancels */
+            if (k >= warmup)
+                sum_u += (b->eu[t] - ch->logp[x]) - (log(lam_u) + emax);
+        }
+    }
+    b->est_q = sum_q / (double)count;
+    b->est_u = unquantized ? sum_u / (double)count : NAN;
+}
+
+static void mean_ci(const double *v, size_t n, double *mean, double *half)
+{
+    double m = 0.0;
+    for (size_t i = 0; i < n; i++)
+        m += v[i];
+    m /= (double)n;
+    double ss = 0.0;
+    for (size_t i = 0; i < n; i++)
+        ss += (v[i] - m) * (v[i] - m);
+    const double sd = sqrt(ss / (double)(n - 1));
+    *mean = m;
+    *half = gsl_cdf_tdist_Pinv(0.975, (double)(n - 1)) * sd / sqrt((double)n);
+}
+
+qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
+{
+    qc_gsl_init();
+    qc_status st;
+    qc_isi_channel *ch = NULL;
+    double *lik = NULL, *est = NULL;
+    batch_ws *ws = NULL;
+    gsl_ran_discrete_t *draw = NULL;
+    const size_t B = QC_ISI_BATCHES;
+    if (req && req->nthresholds == 0)
+        return qc_fail(QC_EINVAL, "memory channel: the ADC needs at least one threshold");
+    if (req && req->symbols < B * QC_ISI_MIN_BATCH)
+        return qc_fail(QC_EINVAL,
+                       "symbols: %zu simulated symbols are too few; at least %zu are needed "
+                       "(%zu batches of %zu)",
+                       req->symbols, B * QC_ISI_MIN_BATCH, B, QC_ISI_MIN_BATCH);
+    if ((st = qc_isi_channel_build(req, &ch)) != QC_OK)
+        return st;
+    const size_t T = ch->T, S = ch->S, K = ch->K;
+    const size_t count = req->symbols / B;
+    const size_t warmup = WARMUP_PER_TAP * (ch->ntaps - 1);
+
+    lik = qc_malloc_array(K * T, sizeof *lik);
+    ws = calloc(B, sizeof *ws);
+    est = qc_malloc_array(2 * B, sizeof *est);
+    draw = gsl_ran_discrete_preproc(ch->M, ch->law);
+    if (!lik || !ws || !est || !draw) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
+    }
+    for (size_t t = 0; t < T; t++)
+        for (size_t y = 0; y < K; y++)
+            lik[y * T + t] = ch->law[t % ch->M] * ch->window_dmc->p[t * K + y];
+    for (size_t b = 0; b < B; b++) {
+        ws[b].aq = qc_malloc_array(4 * S + 2 * T, sizeof(double));
+        ws[b].rng = gsl_rng_alloc(gsl_rng_mt19937);
+        if (!ws[b].aq || !ws[b].rng) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        ws[b].nq = ws[b].aq + S;
+        ws[b].au = ws[b].aq + 2 * S;
+        ws[b].nu = ws[b].aq + 3 * S;
+        ws[b].wu = ws[b].aq + 4 * S;
+        ws[b].eu = ws[b].aq + 4 * S + T;
+        gsl_rng_set(ws[b].rng, (unsigned long)splitmix64(req->seed ^ splitmix64(b + 1)));
+    }
+    {
+        const int unq = req->unquantized != 0;
+#ifdef _OPENMP
+#pragma omp parallel for schedule(dynamic, 1)
+#endif
+        for (size_t b = 0; b < B; b++)
+            run_batch(ch, draw, lik, warmup, count, unq, &ws[b]);
+    }
+    for (size_t b = 0; b < B; b++) {
+        if (ws[b].failed) {
+            st = qc_fail(QC_ENUMERIC,
+                         "memory channel: batch %zu met an output whose likelihood "
+                         "underflows; the noise is too small for this simulation",
+                         b + 1);
+            goto done;
+        }
+        est[b] = ws[b].est_q / QC_ISI_LN2;
+        est[B + b] = ws[b].est_u / QC_ISI_LN2;
+    }
+    memset(out, 0, sizeof *out);
+    mean_ci(est, B, &out->rate_bits, &out->rate_ci_bits);
+    if (req->unquantized)
+        mean_ci(est + B, B, &out->unquantized_bits, &out->unquantized_ci_bits);
+    else
+        out->unquantized_bits = out->unquantized_ci_bits = NAN;
+    {
+        qc_dmc *d = NULL;
+        double mi = NAN;
+        if ((st = qc_isi_symbolwise_dmc(ch, &d)) == QC_OK)
+            st = qc_mutual_information(d, ch->law, &mi);
+        qc_dmc_free(d);
+        if (st != QC_OK)
+            goto done;
+        out->symbolwise_bits = mi / QC_ISI_LN2;
+    }
+    out->states = S;
+    out->batches = B;
+    out->symbols = count * B;
+done:
+    if (ws)
+        for (size_t b = 0; b < B; b++) {
+            free(ws[b].aq);
+            if (ws[b].rng)
+                gsl_rng_free(ws[b].rng);
+        }
+    free(ws);
+    free(est);
+    free(lik);
+    if (draw)
+        gsl_ran_discrete_free(draw);
+    qc_isi_channel_free(ch);
+    return st;
+}

@@ -1,0 +1,270 @@
+/* test_isi.c — channels with memory: the taps of the named responses
+ * against their closed forms, the trellis size limit, the same result for
+ * any thread count, reproducibility by seed, and the error paths. The
+ * rates themselves are checked against numpy/scipy in check_isi.py. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include <gsl/gsl_cdf.h>
+
+#include "quantcap.h"
+
+#define TEST_RNG_SEED 0x15171a11ULL
+#include "test_helpers.h"
+
+#define TOL_TAP 2e-3     /* FFT-grid taps vs closed form (64 points/symbol) */
+#define TOL_SAME 1e-12   /* two routes to the same first-order response     */
+#define TOL_SUM 1e-12    /* taps scaled to sum 1                            */
+#define TOL_SYMBOLWISE 1e-9 /* one tap: the same channel matrix, another sum */
+#define PI_VALUE 3.14159265358979323846
+
+static qc_model *gauss(double sigma)
+{
+    qc_model *m = NULL;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    return m;
+}
+
+/* Gaussian low-pass: the filtered rectangle is Φ(t/σ) − Φ((t − 1)/σ) with
+ * σ = √(ln 2)/(2π·B) symbols (|H(B)|² = ½), sampled at its peak t = ½ + k
+ * (closed form; the taps are these samples over their sum). */
+static void test_gauss_response(void **state)
+{
+    (void)state;
+    double taps[QC_ISI_MAX_TAPS];
+    size_t n;
+    const double B = 0.5;
+    assert_int_equal(qc_isi_response_taps("gauss:0.5", NAN, NAN, taps, &n), QC_OK);
+    assert_true(n % 2 == 1); /* symmetric about the peak */
+    const double s = sqrt(log(2.0)) / (2.0 * PI_VALUE * B);
+    double ref[QC_ISI_MAX_TAPS], sum = 0.0;
+    const long half = (long)n / 2;
+    for (long k = -half; k <= half; k++) {
+        ref[k + half] = gsl_cdf_gaussian_P(k + 0.5, s) - gsl_cdf_gaussian_P(k - 0.5, s);
+        sum += ref[k + half];
+    }
+    double tsum = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        assert_near(taps[i], ref[i] / sum, TOL_TAP);
+        tsum += taps[i];
+    }
+    assert_near(tsum, 1.0, TOL_SUM);
+}
+
+/* First order: Bessel–Thomson of order 1 is θ_1(s) = 1 + s, the RC
+ * response itself (Thomson, Proc. IEE 96, 1949), so both specs give the
+ * same taps; and the RC pulse decays geometrically after its peak, by
+ * exp(−2π·B) per symbol (τ = 1/(2π·B) symbols). */
+static void test_first_order_responses(void **state)
+{
+    (void)state;
+    double rc[QC_ISI_MAX_TAPS], be[QC_ISI_MAX_TAPS];
+    size_t nr, nb;
+    assert_int_equal(qc_isi_response_taps("rc:0.4", NAN, NAN, rc, &nr), QC_OK);
+    assert_int_equal(qc_isi_response_taps("bessel:1:0.4", NAN, NAN, be, &nb), QC_OK);
+    assert_int_equal(nr, nb);
+    for (size_t i = 0; i < nr; i++)
+        assert_near(rc[i], be[i], TOL_SAME);
+    size_t peak = 0;
+    for (size_t i = 1; i < nr; i++)
+        if (rc[i] > rc[peak])
+            peak = i;
+    for (size_t i = peak + 1; i + 1 < nr; i++)
+        assert_near(rc[i + 1] / rc[i], exp(-2.0 * PI_VALUE * 0.4), 10 * TOL_TAP);
+}
+
+/* Wider bandwidth, fewer taps; an all-pass amount of dispersion at 0
+ * ps/nm is one tap. */
+static void test_response_shapes(void **state)
+{
+    (void)state;
+    double t[QC_ISI_MAX_TAPS];
+    size_t n1, n2, n3;
+    assert_int_equal(qc_isi_response_taps("bessel:4:0.35", NAN, NAN, t, &n1), QC_OK);
+    assert_int_equal(qc_isi_response_taps("bessel:4:0.7", NAN, NAN, t, &n2), QC_OK);
+    assert_true(n1 >= n2);
+    assert_int_equal(qc_isi_response_taps("dispersion:0", 56e9, 1550, t, &n3), QC_OK);
+    assert_int_equal(n3, 1);
+    assert_near(t[0], 1.0, TOL_SUM);
+    assert_int_equal(qc_isi_response_taps("dispersion:300", 28e9, 1550, t, &n3), QC_OK);
+    assert_true(n3 > 1);
+}
+
+static void test_response_errors(void **state)
+{
+    (void)state;
+    double t[QC_ISI_MAX_TAPS];
+    size_t n;
+    assert_int_equal(qc_isi_response_taps("gauss:0", NAN, NAN, t, &n), QC_EINVAL);
+    assert_message("must be > 0");
+    assert_int_equal(qc_isi_response_taps("rc:-0.5", NAN, NAN, t, &n), QC_EINVAL);
+    assert_message("bandwidth fraction");
+    assert_int_equal(qc_isi_response_taps("bessel:0:0.5", NAN, NAN, t, &n), QC_EINVAL);
+    assert_message("Bessel order");
+    assert_int_equal(qc_isi_response_taps("sinc:0.5", NAN, NAN, t, &n), QC_EINVAL);
+    assert_message("unknown response 'sinc'");
+    assert_int_equal(qc_isi_response_taps("dispersion:100", NAN, 1550, t, &n), QC_EINVAL);
+    assert_message("symbol-rate");
+    assert_int_equal(qc_isi_response_taps("gauss:0.05", NAN, NAN, t, &n), QC_EINVAL);
+    assert_message("at most 11 taps");
+}
+
+static void test_taps_and_states(void **state)
+{
+    (void)state;
+    const double zero[3] = {0, 0, 0}, bad[2] = {1, NAN};
+    assert_int_equal(qc_isi_taps_check(zero, 3), QC_EINVAL);
+    assert_message("all 3 taps are zero");
+    assert_int_equal(qc_isi_taps_check(bad, 2), QC_EINVAL);
+    assert_message("tap 2 (h1)");
+    assert_int_equal(qc_isi_states(4, 6), 1024);
+    assert_int_equal(qc_isi_states(4, 7), 0);
+    assert_int_equal(qc_isi_states(2, 11), 1024);
+    assert_int_equal(qc_isi_states(3, 1), 1);
+
+    qc_model *m = gauss(0.5);
+    const double lev[4] = {-3, -1, 1, 3}, taps[7] = {1, .5, .4, .3, .2, .1, .05}, thr[1] = {0};
+    qc_isi_request req = {.model = m, .levels = lev, .nlevels = 4, .taps = taps, .ntaps = 7,
+                          .thresholds = thr, .nthresholds = 1, .symbols = 10000, .seed = 1};
+    qc_isi_result r;
+    assert_int_equal(qc_isi_rate(&req, &r), QC_EINVAL);
+    assert_message("at most 1024 states");
+    req.ntaps = 2;
+    req.symbols = 100;
+    assert_int_equal(qc_isi_rate(&req, &r), QC_EINVAL);
+    assert_message("symbols: 100");
+    qc_model_free(m);
+
+    /* a model that is not Gaussian given its level */
+    double pp[2] = {5.0, 0.1};
+    qc_model *p = NULL;
+    assert_int_equal(qc_model_alloc(&qc_model_poisson, pp, &p), QC_OK);
+    req.model = p;
+    req.symbols = 10000;
+    const double ilev[2] = {0, 1};
+    req.levels = ilev;
+    req.nlevels = 2;
+    assert_int_equal(qc_isi_rate(&req, &r), QC_EINVAL);
+    assert_message("not Gaussian");
+    qc_model_free(p);
+
+    /* a noiseless output an intensity model refuses (negative) */
+    double sd[3] = {0.1, 0.0, 0.0};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, sd, &p), QC_OK);
+    const double neg[2] = {1.0, -1.0};
+    req.model = p;
+    req.taps = neg;
+    assert_int_equal(qc_isi_rate(&req, &r), QC_EINVAL);
+    assert_message("noiseless output -1");
+    qc_model_free(p);
+}
+
+/* The same seed gives the same bits for 1 and 2 threads (independent
+ * batches, each seeded from the seed and its index); another seed differs. */
+static void test_threads_and_seeds(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.6);
+    const double lev[4] = {-3, -1, 1, 3}, taps[3] = {0.7, 0.4, -0.1}, thr[3] = {-2, 0, 2};
+    qc_isi_request req = {.model = m, .levels = lev, .nlevels = 4, .taps = taps, .ntaps = 3,
+                          .thresholds = thr, .nthresholds = 3, .symbols = 20000, .seed = 42,
+                          .unquantized = 1};
+    qc_isi_result a, b, c;
+#ifdef _OPENMP
+    omp_set_num_threads(1);
+#endif
+    assert_int_equal(qc_isi_rate(&req, &a), QC_OK);
+#ifdef _OPENMP
+    omp_set_num_threads(2);
+#endif
+    assert_int_equal(qc_isi_rate(&req, &b), QC_OK);
+    assert_memory_equal(&a, &b, sizeof a);
+    req.seed = 43;
+    assert_int_equal(qc_isi_rate(&req, &c), QC_OK);
+    assert_true(c.rate_bits != a.rate_bits);
+    assert_int_equal(a.states, 16);
+    assert_int_equal(a.symbols, 20000);
+    assert_true(a.rate_ci_bits > 0 && a.unquantized_ci_bits > 0);
+    double sw;
+    assert_int_equal(qc_isi_symbolwise_rate(&req, &sw), QC_OK);
+    assert_near(sw, a.symbolwise_bits, 0.0);
+    qc_model_free(m);
+}
+
+/* qc_design with one tap: the simulated rate covers the exact memoryless
+ * rate of the same design within its interval (the memoryless rate is an
+ * exact finite sum, Cover & Thomas eq. 2.28), the symbol-by-symbol rate
+ * equals it, and the optimal strategy keeps its thresholds. With two taps
+ * and a uniform ADC: the full scale is searched, the rates are ordered
+ * (symbol by symbol ≤ sequence detector ≤ no ADC, within the intervals)
+ * and the report owns copies of the taps. */
+static void test_design_with_memory(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.5);
+    const double lev[4] = {-3, -1, 1, 3}, one[1] = {1.0}, two[2] = {1.0, 0.45};
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8;
+    req.memory.taps = one;
+    req.memory.ntaps = 1;
+    req.memory.symbols = 100000;
+    req.memory.seed = 3;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_int_equal(r.states, 1);
+    assert_true(fabs(r.information_rate_bits - r.rate_bits) <= r.information_rate_ci_bits);
+    assert_near(r.symbolwise_rate_bits, r.rate_bits, TOL_SYMBOLWISE);
+    assert_true(r.full_scale_factor == 1.0 && r.memory_evaluations == 0);
+    assert_memory_equal(r.memory_thresholds, r.thresholds, r.nthresholds * sizeof(double));
+    qc_design_result_clear(&r);
+
+    req.memory.taps = two;
+    req.memory.ntaps = 2;
+    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_int_equal(r.states, 4);
+    assert_int_equal(r.ntaps, 2);
+    assert_true(r.taps != two && r.taps[1] == 0.45);
+    assert_true(r.memory_evaluations > 10);
+    assert_true(r.full_scale_factor >= 0.5 && r.full_scale_factor <= 2.0);
+    assert_true(r.symbolwise_rate_bits <= r.information_rate_bits + r.information_rate_ci_bits);
+    assert_true(r.information_rate_bits <=
+                r.unquantized_information_rate_bits + r.information_rate_ci_bits +
+                    r.unquantized_information_rate_ci_bits);
+    assert_true(r.information_rate_bits < 2.0);
+    qc_design_result_clear(&r);
+
+    /* memory with QAM is refused before any design */
+    req.channel.dimensions = 2;
+    assert_int_equal(qc_design(&req, &r), QC_EINVAL);
+    assert_message("not QAM");
+    qc_model_free(m);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_gauss_response),
+        cmocka_unit_test(test_first_order_responses),
+        cmocka_unit_test(test_response_shapes),
+        cmocka_unit_test(test_response_errors),
+        cmocka_unit_test(test_taps_and_states),
+        cmocka_unit_test(test_threads_and_seeds),
+        cmocka_unit_test(test_design_with_memory),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
