@@ -559,10 +559,12 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     const char *taps = qc_settings_get(s, "taps"), *resp = qc_settings_get(s, "response");
     qc_status st;
     if (!taps && !resp) {
-        if (qc_settings_get(s, "symbols") || qc_settings_get(s, "seed"))
-            return qc_fail(QC_EINVAL, "'%s' goes with 'taps' or 'response' (a channel with "
-                                      "memory)",
-                           qc_settings_get(s, "symbols") ? "symbols" : "seed");
+        if (qc_settings_get(s, "symbols"))
+            return qc_fail(QC_EINVAL, "'symbols' goes with 'taps' or 'response' (a channel "
+                                      "with memory)");
+        if (qc_settings_get(s, "seed") && req->quantizer.kind != QC_QUANTIZER_CONVERTER)
+            return qc_fail(QC_EINVAL, "'seed' goes with 'taps' or 'response' (a channel with "
+                                      "memory) or with a converter's 'dnl-lsb' or 'inl-lsb'");
         return QC_OK;
     }
     if (taps && resp)

@@ -11,7 +11,7 @@
 
 static const char *const converter_keys[] = {
     "full-scale", "enob", "sinad-db", "jitter-s", "signal-freq", "dnl-lsb", "inl-lsb",
-    "seed", "draws", "transitions", "converter-gain", "converter-offset", NULL,
+    "draws", "transitions", "converter-gain", "converter-offset", NULL,
 };
 
 static qc_status num(const qc_settings *s, const char *key, double *out)
@@ -100,11 +100,13 @@ qc_status qc_settings_converter(qc_settings *s, qc_design_request *req)
         c->seed = (unsigned long)seed;
     if (!isnan(draws))
         c->draws = (size_t)draws;
-    if ((qc_settings_get(s, "seed") || qc_settings_get(s, "draws")) && c->dnl_lsb == 0.0 &&
-        c->inl_lsb == 0.0)
+    /* 'seed' also seeds the simulation of a channel with memory */
+    const int memory = qc_settings_get(s, "taps") || qc_settings_get(s, "response");
+    if (((qc_settings_get(s, "seed") && !memory) || qc_settings_get(s, "draws")) &&
+        c->dnl_lsb == 0.0 && c->inl_lsb == 0.0)
         return qc_fail(QC_EINVAL, "'%s' goes with 'dnl-lsb' or 'inl-lsb' (the random "
                                   "transition-level errors it draws)",
-                       qc_settings_get(s, "seed") ? "seed" : "draws");
+                       qc_settings_get(s, "draws") ? "draws" : "seed");
     const char *v;
     if ((v = qc_settings_get(s, "converter-gain")) && (st = gain_of(v, c)) != QC_OK)
         return st;
