@@ -79,6 +79,13 @@ void qc_level_set_project(const qc_level_set *s, double *x);
  * dispersion and blocklength rates) around qc_design_thresholds. */
 qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
 
+/* ---- shaping.c -------------------------------------------------------- */
+
+/* qc_design for a request with input.shaping: the Maxwell–Boltzmann law
+ * (given, from its entropy, or searched for the objective), the levels
+ * scaled to the uniform law's power, and the shaping gain. */
+qc_status qc_shaped_design(const qc_design_request *req, qc_design_result *res);
+
 /* ---- figures.c -------------------------------------------------------- */
 
 /* Hard-decision error rates, Q-factor, NGMI, rates in the trade's units,

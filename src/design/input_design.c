@@ -322,6 +322,12 @@ done:
  * design (design.c). */
 qc_status qc_design(const qc_design_request *req, qc_design_result *res)
 {
-    return qc_input_design(req, res);
+    if (req && req->input.shaping)
+        return qc_shaped_design(req, res); /* shaping.c */
+    qc_status st = qc_input_design(req, res);
+    if (st == QC_OK)
+        res->shaping_nu = res->shaping_scale = res->uniform_rate_bits = res->shaping_gain_db =
+            NAN;
+    return st;
 }
 

@@ -19,6 +19,8 @@ struct qc_settings {
     qc_constraints constraints;
     /* FEC code of the last build (the request points here) */
     qc_fec fec;
+    /* shaping of the last build (the request points here) */
+    qc_shaping shaping;
 };
 
 
