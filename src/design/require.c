@@ -157,7 +157,10 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
-    if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels) {
+    /* a design that chooses its levels or law: those of the design (a
+     * shaped law also scales the levels to the uniform law's power) */
+    if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels ||
+        req->input.shaping) {
         qc_design_request sub = *req;
         sub.numerics.skip_snr_penalty = 1;
         sub.input.fec = NULL;
