@@ -195,7 +195,7 @@ static void print_shaping(FILE *f, const qc_design_result *r)
                 r->shaping_gain_db, r->uniform_rate_bits, unit);
     else if (isfinite(r->uniform_rate_bits))
         fprintf(f, "shaping gain undefined: the uniform law does not reach %.6f %s within "
-                   "+-40 dB (uniform law here: %.9f %s)\n",
+                   "+-32 dB (uniform law here: %.9f %s)\n",
                 r->rate_bits, unit, r->uniform_rate_bits, unit);
 }
 

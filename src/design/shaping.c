@@ -24,14 +24,14 @@
 
 /* Entropies tried by the scan of `best`, evenly spaced above hmin up to
  * hmax (the uniform law). */
-#define SCAN_POINTS 16
+#define SCAN_POINTS 8
 /* Brent minimizer on the entropy: absolute tolerance (bits) and
  * iterations at most. */
-#define BEST_H_TOL 1e-4
+#define BEST_H_TOL 1e-3
 #define BEST_MAX_ITER 40
 /* Shaping gain: the SNR offsets (dB) tried to bracket the crossing, and
  * the accuracy of the root. */
-#define GAIN_MAX_DB 40.0
+#define GAIN_MAX_DB 32.0
 #define GAIN_TOL_DB 1e-6
 #define GAIN_MAX_ITER 100
 
@@ -143,19 +143,33 @@ static double minus_rate(double h, void *ctx)
 }
 
 /* The entropy of the best law: a scan, then Brent's minimizer around the
- * best point of the scan. */
+ * best point of the scan. The best law's rate is at least the uniform
+ * law's R_u and at most its entropy, so its entropy is at least R_u: the
+ * scan covers [max(hmin, R_u), hmax] (and avoids laws so peaked that the
+ * levels are scaled far into the noise's tails). */
 static qc_status best_entropy(shaping_ctx *c, double hmin, double hmax, double *h_best)
 {
     double h[SCAN_POINTS + 1], f[SCAN_POINTS + 1];
-    size_t k = 1;
-    for (size_t i = 1; i <= SCAN_POINTS; i++) {
-        h[i] = i == SCAN_POINTS ? hmax : hmin + (hmax - hmin) * (double)i / SCAN_POINTS;
+    f[SCAN_POINTS] = minus_rate(hmax, c);
+    if (c->st != QC_OK)
+        return c->st;
+    h[SCAN_POINTS] = hmax;
+    const double low = fmax(hmin, -f[SCAN_POINTS]);
+    if (!(low < hmax)) { /* the uniform law is at its entropy already */
+        *h_best = hmax;
+        return QC_OK;
+    }
+    hmin = low;
+    size_t k = SCAN_POINTS;
+    for (size_t i = 1; i < SCAN_POINTS; i++) {
+        h[i] = hmin + (hmax - hmin) * (double)i / SCAN_POINTS;
         f[i] = minus_rate(h[i], c);
         if (c->st != QC_OK)
             return c->st;
-        if (f[i] < f[k]) /* the first of equals: the most shaped */
-            k = i;
     }
+    for (size_t i = SCAN_POINTS; i-- > 1;) /* the first of equals: the most shaped */
+        if (f[i] <= f[k])
+            k = i;
     double lo, mid, hi, fmid;
     if (k == SCAN_POINTS) {
         /* the uniform end: look just inside it, the optimum may sit there */
@@ -262,13 +276,15 @@ static qc_status shaping_gain(shaping_ctx *c, qc_design_result *res)
         goto done;
     }
     /* bracket the crossing: step away from 0 dB on the side where the
-     * uniform law's rate moves toward the target */
+     * uniform law's rate moves toward the target. A uniform design that
+     * fails away from the operating point (a channel beyond what doubles
+     * resolve) leaves the gain undefined, not the design failed. */
     const double dir = f0 < 0.0 ? 1.0 : -1.0;
     double a = 0.0, fa = f0, b = NAN, fb = NAN;
     for (double step = 1.0; step <= GAIN_MAX_DB; step *= 2.0) {
         double t = dir * step, ft = uniform_gap(t, &g);
-        if ((st = c->st) != QC_OK)
-            goto done;
+        if (c->st != QC_OK)
+            goto undefined;
         if ((ft > 0.0) != (fa > 0.0) || ft == 0.0) {
             b = t;
             fb = ft;
@@ -301,18 +317,16 @@ static qc_status shaping_gain(shaping_ctx *c, qc_design_result *res)
     }
     double root = gsl_root_fsolver_root(sv);
     gsl_root_fsolver_free(sv);
-    if ((st = c->st) != QC_OK)
-        goto done;
-    if (rc != GSL_SUCCESS) {
-        st = qc_fail(QC_ENUMERIC, "shaping gain: the root search on the uniform law's rate "
-                                  "stopped: %s",
-                     gsl_strerror(rc));
-        goto done;
-    }
+    if (c->st != QC_OK || rc != GSL_SUCCESS)
+        goto undefined;
     res->shaping_gain_db = root;
 done:
     free(g.levels);
     return st;
+undefined:
+    c->st = QC_OK;
+    free(g.levels);
+    return QC_OK;
 }
 
 /* ---- the entry point ---------------------------------------------------- */

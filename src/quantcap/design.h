@@ -300,7 +300,7 @@ typedef struct {
                                     minus the operating SNR; > 0 when the
                                     shaped law needs less SNR. NaN when
                                     skipped or when the uniform law does
-                                    not reach rate_bits within ±40 dB     */
+                                    not reach rate_bits within ±32 dB     */
     size_t shaping_evaluations;  /* designs run by the search of `best`     */
 } qc_design_result;
 
