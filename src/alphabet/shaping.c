@@ -33,7 +33,7 @@ qc_status qc_shaping_parse(const char *spec, qc_shaping *out)
     static const char expected[] = "expected none, mb:NU (NU >= 0), entropy:H (H > 0 bits per "
                                    "symbol) or best";
     if (!spec)
-        return qc_fail(QC_EINVAL, "shaping: no specification given (%s)", expected);
+        return qc_fail(QC_EINVAL, "no shaping given (%s)", expected);
     if (strcmp(spec, "none") == 0) {
         *out = (qc_shaping){QC_SHAPING_NONE, 0.0};
         return QC_OK;
@@ -51,18 +51,18 @@ qc_status qc_shaping_parse(const char *spec, qc_shaping *out)
         s.kind = QC_SHAPING_ENTROPY;
         arg = spec + 8;
     } else {
-        return qc_fail(QC_EINVAL, "shaping: '%s' is not known (%s)", spec, expected);
+        return qc_fail(QC_EINVAL, "'%s' is not known (%s)", spec, expected);
     }
     if (qc_parse_double(arg, &s.value) != QC_OK || !isfinite(s.value))
-        return qc_fail(QC_EINVAL, "shaping: '%s': '%s' is not a finite number (%s)", spec, arg,
+        return qc_fail(QC_EINVAL, "'%s': '%s' is not a finite number (%s)", spec, arg,
                        expected);
     if (s.kind == QC_SHAPING_NU && !(s.value >= 0.0))
-        return qc_fail(QC_EINVAL, "shaping: '%s': NU must be >= 0 (NU = 0 is the uniform law; a "
+        return qc_fail(QC_EINVAL, "'%s': NU must be >= 0 (NU = 0 is the uniform law; a "
                                   "negative NU favours the outer levels and is no "
                                   "Maxwell-Boltzmann law)",
                        spec);
     if (s.kind == QC_SHAPING_ENTROPY && !(s.value > 0.0))
-        return qc_fail(QC_EINVAL, "shaping: '%s': the entropy H must be > 0 bits per symbol",
+        return qc_fail(QC_EINVAL, "'%s': the entropy H must be > 0 bits per symbol",
                        spec);
     if (s.value == 0.0)
         s.value = 0.0; /* -0 reads as 0 */

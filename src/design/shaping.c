@@ -60,13 +60,13 @@ static qc_status check_request(const qc_design_request *req)
     if (req->input.probabilities)
         return qc_fail(QC_EINVAL, "shaping: give an input law (probabilities) or a shaping, "
                                   "not both");
+    if (req->input.optimize_levels)
+        return qc_fail(QC_EINVAL, "shaping: the levels are those of the alphabet, scaled to "
+                                  "keep the power; it does not combine with optimize-levels");
     if (req->input.costs || qc_constraints_any(req->input.constraints))
         return qc_fail(QC_EINVAL, "shaping: the shaped law keeps the uniform law's average "
                                   "power; it does not combine with costs or input "
                                   "constraints (peak-limit, power-limit, mean-limit)");
-    if (req->input.optimize_levels)
-        return qc_fail(QC_EINVAL, "shaping: the levels are those of the alphabet, scaled to "
-                                  "keep the power; it does not combine with optimize-levels");
     if (sh->kind == QC_SHAPING_NU && !(sh->value >= 0.0 && isfinite(sh->value)))
         return qc_fail(QC_EINVAL, "shaping: nu must be a finite number >= 0 (got %g)",
                        sh->value);
