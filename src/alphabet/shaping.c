@@ -17,6 +17,7 @@
 #include <gsl/gsl_roots.h>
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 /* Relative accuracy of ν from a target entropy, and the iterations
@@ -78,9 +79,16 @@ void qc_shaping_format(const qc_shaping *s, char *buf, size_t cap)
         snprintf(buf, cap, "none");
         return;
     }
+    /* the shortest of %.15g, %.16g, %.17g that reads back exactly */
+    char num[40];
+    for (int digits = 15; digits <= 17; digits++) {
+        snprintf(num, sizeof num, "%.*g", digits, s->value);
+        if (strtod(num, NULL) == s->value)
+            break;
+    }
     switch (s->kind) {
-    case QC_SHAPING_NU: snprintf(buf, cap, "mb:%.17g", s->value); break;
-    case QC_SHAPING_ENTROPY: snprintf(buf, cap, "entropy:%.17g", s->value); break;
+    case QC_SHAPING_NU: snprintf(buf, cap, "mb:%s", num); break;
+    case QC_SHAPING_ENTROPY: snprintf(buf, cap, "entropy:%s", num); break;
     case QC_SHAPING_BEST: snprintf(buf, cap, "best"); break;
     default: snprintf(buf, cap, "none"); break;
     }
