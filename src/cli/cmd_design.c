@@ -182,8 +182,12 @@ static void print_shaping(FILE *f, const qc_design_result *r)
     const char *unit = cli_rate_unit(r->dimensions);
     char spec[64];
     qc_shaping_format(&r->shaping, spec, sizeof spec);
-    fprintf(f, "shaping      %s: Maxwell-Boltzmann nu = %.6g (levels as given), H(X) = %.6f %s",
-            spec, r->shaping_nu, r->entropy_bits, unit);
+    if (r->shaping.kind == QC_SHAPING_NONE)
+        fprintf(f, "shaping      none: the uniform law (nu = 0), H(X) = %.6f %s", r->entropy_bits,
+                unit);
+    else
+        fprintf(f, "shaping      %s: Maxwell-Boltzmann nu = %.6g (levels as given), H(X) = %.6f %s",
+                spec, r->shaping_nu, r->entropy_bits, unit);
     if (r->shaping.kind == QC_SHAPING_BEST)
         fprintf(f, ", best %s of %zu designs", qc_objective_name(r->objective),
                 r->shaping_evaluations);
