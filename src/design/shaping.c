@@ -170,26 +170,29 @@ static qc_status best_entropy(shaping_ctx *c, double hmin, double hmax, double *
     for (size_t i = SCAN_POINTS; i-- > 1;) /* the first of equals: the most shaped */
         if (f[i] <= f[k])
             k = i;
-    double lo, mid, hi, fmid;
+    double lo, mid, hi, flo, fmid, fhi;
     if (k == SCAN_POINTS) {
         /* the uniform end: look just inside it, the optimum may sit there */
         lo = h[k - 1];
+        flo = f[k - 1];
         hi = h[k];
+        fhi = f[k];
         mid = hi - (hi - lo) / 8.0;
         fmid = minus_rate(mid, c);
         if (c->st != QC_OK)
             return c->st;
-        if (!(fmid < f[k])) {
+        if (!(fmid < fhi)) {
             *h_best = hmax;
             return QC_OK;
         }
     } else if (k == 1) {
         /* the least-entropy end of the scan: bracket below it */
         lo = hmin + (h[1] - hmin) / 64.0;
-        hi = h[2];
         mid = h[1];
         fmid = f[1];
-        double flo = minus_rate(lo, c);
+        hi = h[2];
+        fhi = f[2];
+        flo = minus_rate(lo, c);
         if (c->st != QC_OK)
             return c->st;
         if (!(fmid < flo)) {
@@ -198,16 +201,21 @@ static qc_status best_entropy(shaping_ctx *c, double hmin, double hmax, double *
         }
     } else {
         lo = h[k - 1];
+        flo = f[k - 1];
         mid = h[k];
-        hi = h[k + 1];
         fmid = f[k];
+        hi = h[k + 1];
+        fhi = f[k + 1];
+    }
+    if (!(fmid < flo && fmid < fhi)) { /* a tie with a neighbour: no bracket */
+        *h_best = mid;
+        return QC_OK;
     }
     gsl_min_fminimizer *m = gsl_min_fminimizer_alloc(gsl_min_fminimizer_brent);
     if (!m)
         return qc_fail(QC_ENOMEM, "out of memory");
     gsl_function fn = {minus_rate, c};
-    int rc = gsl_min_fminimizer_set_with_values(m, &fn, mid, fmid, lo, minus_rate(lo, c), hi,
-                                                minus_rate(hi, c));
+    int rc = gsl_min_fminimizer_set_with_values(m, &fn, mid, fmid, lo, flo, hi, fhi);
     for (size_t it = 0; rc == GSL_SUCCESS && c->st == QC_OK && it < BEST_MAX_ITER; it++) {
         if ((rc = gsl_min_fminimizer_iterate(m)) != GSL_SUCCESS)
             break;
