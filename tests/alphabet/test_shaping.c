@@ -165,6 +165,27 @@ static void test_shaped_design(void **state)
     qc_model_free(m);
 }
 
+/* A strongly shaped law puts probabilities near the bottom of the doubles
+ * on the outer levels; an output reached only through such a level has
+ * r(x)·P(y|x) below every double. Its term of the information density's
+ * moments is then 0, not a failure (it was "not finite" before). */
+static void test_dispersion_with_underflowing_output(void **state)
+{
+    (void)state;
+    qc_dmc *d;
+    assert_int_equal(qc_dmc_alloc(2, 2, &d), QC_OK);
+    d->p[0] = 1.0;
+    d->p[1] = 0.0;
+    d->p[2] = 1.0 - 1e-100;
+    d->p[3] = 1e-100;
+    const double law[] = {1.0 - 1e-300, 1e-300}; /* q(y = 1) = 1e-400: 0 */
+    double mi = NAN, v = NAN;
+    assert_int_equal(qc_dispersion(d, law, &mi, &v), QC_OK);
+    assert_true(isfinite(mi) && isfinite(v));
+    assert_true(mi >= 0.0 && mi < TOL_TIGHT && v >= 0.0 && v < TOL_TIGHT);
+    qc_dmc_free(d);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -172,6 +193,7 @@ int main(void)
         cmocka_unit_test(test_law_closed_form),
         cmocka_unit_test(test_entropy_inversion),
         cmocka_unit_test(test_shaped_design),
+        cmocka_unit_test(test_dispersion_with_underflowing_output),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
