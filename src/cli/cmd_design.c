@@ -150,6 +150,35 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
                 cli_plural(r->level_evaluations, "design", "designs"));
 }
 
+/* The shaped law and its gain over the uniform one (docs/alphabets.md). */
+static void print_shaping(FILE *f, const qc_design_result *r)
+{
+    if (!r->shaping_given)
+        return;
+    const char *unit = cli_rate_unit(r->dimensions);
+    char spec[64];
+    qc_shaping_format(&r->shaping, spec, sizeof spec);
+    if (r->shaping.kind == QC_SHAPING_NONE)
+        fprintf(f, "shaping      none: the uniform law (nu = 0), H(X) = %.6f %s", r->entropy_bits,
+                unit);
+    else
+        fprintf(f, "shaping      %s: Maxwell-Boltzmann nu = %.6g (levels as given), H(X) = %.6f %s",
+                spec, r->shaping_nu, r->entropy_bits, unit);
+    if (r->shaping.kind == QC_SHAPING_BEST)
+        fprintf(f, ", best %s of %zu designs", qc_objective_name(r->objective),
+                r->shaping_evaluations);
+    fprintf(f, "\n             levels scaled by %.6f to keep the uniform law's average power\n",
+            r->shaping_scale);
+    if (isfinite(r->shaping_gain_db))
+        fprintf(f, "shaping gain %.4f dB: the uniform law needs that much more SNR for the "
+                   "same rate with this quantizer (uniform law here: %.9f %s)\n",
+                r->shaping_gain_db, r->uniform_rate_bits, unit);
+    else if (isfinite(r->uniform_rate_bits))
+        fprintf(f, "shaping gain undefined: the uniform law does not reach %.6f %s within "
+                   "+-32 dB (uniform law here: %.9f %s)\n",
+                r->rate_bits, unit, r->uniform_rate_bits, unit);
+}
+
 /* Hard-decision error rates, NGMI, trade units, FEC (docs/guide.md). */
 static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty *p)
 {
@@ -177,6 +206,8 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
                 r->fec.threshold, r->fec_closes ? "closes" : "does not close", r->fec_margin,
                 hard ? "dB (Q-factor)" : "(NGMI)");
         fprintf(f, "; net %.6f %s", r->net_bits, cli_rate_unit(r->dimensions));
+        if (r->shaping_given && r->fec_closes)
+            fprintf(f, " (PAS: H(X) - (1 - Rc) m)");
         if (isfinite(r->net_rate_gbps))
             fprintf(f, ", %.6g Gb/s", r->net_rate_gbps);
         fputc('\n', f);
@@ -239,6 +270,7 @@ static void print_rates(FILE *f, const qc_design_request *req, const qc_design_r
     if (isfinite(r->snr_db) && snr_def)
         fprintf(f, "SNR means    %s\n", snr_def);
     print_practical_rates(f, r);
+    print_shaping(f, r);
     print_figures(f, r, p);
 }
 

@@ -349,6 +349,18 @@ int cmd_require(int argc, char **argv)
                         json_real_value(info),
                         json_real_value(json_object_get(design, "information_rate_ci_bits")),
                         (long long)json_integer_value(json_object_get(design, "symbols")));
+            json_t *shaping = json_object_get(design, "shaping");
+            if (json_is_string(shaping)) {
+                fprintf(f, "shaping      %s: nu = %.6g, H(X) = %.6f %s", json_string_value(shaping),
+                        json_real_value(json_object_get(design, "shaping_nu")),
+                        json_real_value(json_object_get(design, "entropy_bits")),
+                        cli_rate_unit(dims == 2 ? 2u : 1u));
+                json_t *gain = json_object_get(design, "shaping_gain_db");
+                if (json_is_real(gain))
+                    fprintf(f, "; gain %.4f dB over the uniform law at that SNR",
+                            json_real_value(gain));
+                fputc('\n', f);
+            }
         }
         fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations)\n",
                 res.designs);

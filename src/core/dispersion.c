@@ -43,8 +43,10 @@ qc_status qc_dispersion(const qc_dmc *dmc, const double *input, double *mi_nats,
             const double *row = dmc->p + x * dmc->ny;
             double acc = 0.0;
             for (size_t y = 0; y < dmc->ny; y++) {
-                if (!(row[y] > 0.0))
-                    continue; /* 0·log 0 = 0; q(y) ≥ r(x)P(y|x) > 0 here */
+                /* 0·log 0 = 0; q(y) ≥ r(x)P(y|x), which underflows to 0
+                 * only when the term r(x)·P(y|x)·i is below every double */
+                if (!(row[y] > 0.0) || !(logq[y] > -INFINITY))
+                    continue;
                 double i = log(row[y]) - logq[y];
                 acc += pass == 0 ? row[y] * i : row[y] * (i - mean) * (i - mean);
             }

@@ -103,6 +103,12 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
  * the per-slot thresholds, the certified soft rate per symbol, the hard
  * receiver at its best threshold and the unquantized reference. */
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
+/* ---- shaping.c -------------------------------------------------------- */
+
+/* qc_design for a request with input.shaping: the Maxwell–Boltzmann law
+ * (given, from its entropy, or searched for the objective), the levels
+ * scaled to the uniform law's power, and the shaping gain. */
+qc_status qc_shaped_design(const qc_design_request *req, qc_design_result *res);
 
 /* ---- figures.c -------------------------------------------------------- */
 

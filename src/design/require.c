@@ -187,9 +187,11 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
                                       "rate of the sequence detector: give rate=X");
         return unquantized_memory_rate(m, req, designs, fig);
     }
-    /* pulse position: the design's own unquantized reference (per symbol) */
+    /* a design that chooses its levels or law: those of the design (a
+     * shaped law also scales the levels to the uniform law's power; pulse
+     * position: the design's own unquantized reference, per symbol) */
     if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels ||
-        req->channel.ppm_slots) {
+        req->input.shaping || req->channel.ppm_slots) {
         qc_design_request sub = *req;
         sub.numerics.skip_snr_penalty = 1;
         sub.input.fec = NULL;

@@ -126,6 +126,68 @@ QC_API size_t qc_constraint_costs(const qc_constraints *c, const double *levels,
                            size_t nlevels, unsigned dimensions, double *power_cost,
                            double *mean_cost, qc_cost costs[2]);
 
+/* ---- probabilistic shaping (shaping.c) ------------------------------ */
+
+/* Maxwell–Boltzmann laws p(x) ∝ exp(−ν·x²) on the levels of one real
+ * dimension (square QAM: the same law on each quadrature, so that the
+ * law of a point is ∝ exp(−ν·|x|²), a product of two). ν refers to the
+ * levels as given (pam: odd integers); a design with shaping scales the
+ * levels so that the shaped law keeps the average power of the uniform
+ * one (docs/alphabets.md). */
+typedef enum {
+    QC_SHAPING_NONE = 0, /* "none": the uniform law (ν = 0)               */
+    QC_SHAPING_NU,       /* "mb:NU": the law of this ν ≥ 0                */
+    QC_SHAPING_ENTROPY,  /* "entropy:H": the law of entropy H(X), bits per
+                            symbol (QAM: per complex symbol)             */
+    QC_SHAPING_BEST,     /* "best": ν maximizing the design's objective   */
+    QC_SHAPING_COUNT
+} qc_shaping_kind;
+
+typedef struct {
+    qc_shaping_kind kind;
+    double value; /* ν (QC_SHAPING_NU) or H(X) in bits (ENTROPY); else 0 */
+} qc_shaping;
+
+/* "none", "mb:NU" (NU ≥ 0, finite), "entropy:H" (H > 0, finite; its
+ * upper end depends on the alphabet: qc_mb_entropy_range) or "best".
+ * QC_EINVAL naming the spec and what is expected; on failure *out is
+ * unchanged. */
+QC_API qc_status qc_shaping_parse(const char *spec, qc_shaping *out);
+
+/* The spec of a shaping as qc_shaping_parse reads it ("mb:0.05",
+ * "entropy:2.5", "best", "none") into buf (cap bytes, always terminated).
+ * Never fails. */
+QC_API void qc_shaping_format(const qc_shaping *s, char *buf, size_t cap);
+
+/* The Maxwell–Boltzmann law of ν on n levels into law[n]. QC_EINVAL
+ * naming ν unless it is finite and ≥ 0, or naming the levels (none, or
+ * not finite); on failure law is unchanged. */
+QC_API qc_status qc_mb_law(const double *levels, size_t n, double nu, double *law);
+
+/* Entropy (bits per symbol: `dimensions` times that of one real
+ * dimension) and average power E[x²] per symbol (dimensions·E[x²] of one
+ * dimension) of the law of ν. NaN for bad arguments (as qc_mb_law).
+ * Sets no message. */
+QC_API double qc_mb_entropy_bits(const double *levels, size_t n, unsigned dimensions,
+                                 double nu);
+QC_API double qc_mb_power(const double *levels, size_t n, unsigned dimensions, double nu);
+
+/* The entropies the family reaches, bits per symbol: *hmax = H at ν = 0
+ * (dimensions·log2 n) and *hmin the limit as ν → ∞ (dimensions·log2 of
+ * the number of levels of least |x|: 1 per dimension for pam with even
+ * M). The family's entropy falls strictly from *hmax to *hmin as ν grows
+ * (dH/dν = −ν·Var(x²) in nats). QC_EINVAL for bad levels. */
+QC_API qc_status qc_mb_entropy_range(const double *levels, size_t n, unsigned dimensions,
+                                     double *hmin, double *hmax);
+
+/* ν ≥ 0 of the law with entropy h_bits (bits per symbol), by GSL's Brent
+ * root finder on H(ν) (Brent, Algorithms for Minimization without
+ * Derivatives, 1973, ch. 4). QC_EINVAL naming the entropy and the range
+ * (hmin, hmax] of qc_mb_entropy_range when it is outside; QC_ENOCONV if
+ * the root finder stops short. On failure *nu is unchanged. */
+QC_API qc_status qc_mb_nu_for_entropy(const double *levels, size_t n, unsigned dimensions,
+                                      double h_bits, double *nu);
+
 #ifdef __cplusplus
 }
 #endif

@@ -164,6 +164,13 @@ typedef struct {
                                     A hard-decision code makes the optimal
                                     quantizer keep the MAP decision
                                     boundaries (as keep_decisions)         */
+    /* Probabilistic shaping (src/design/shaping.c; NULL: none): a
+     * Maxwell–Boltzmann law on the levels, with the levels scaled so that
+     * the shaped law keeps the average power of the uniform law on the
+     * given levels (so the model's SNR is that of the uniform law). Model
+     * gauss only; objective mi or gmi; not with probabilities, costs,
+     * constraints or optimize_levels. */
+    const qc_shaping *shaping;
 } qc_design_input;
 
 /* The numerics. */
@@ -375,6 +382,28 @@ typedef struct {
     double full_scale_factor;    /* memory_thresholds' spread over that of
                                     thresholds (1: unchanged)              */
     size_t memory_evaluations;   /* simulated rates of the full-scale search */
+    /* Probabilistic shaping (src/design/shaping.c): shaping_given is 1
+     * when the request gave input.shaping; otherwise 0 and the numbers
+     * below NaN. With a shaped law, entropy_bits is H(X), ngmi its NGMI,
+     * and with a FEC code net_bits the PAS net rate
+     * H(X) − (1 − R_c)·m (Böcherer, Steiner, Schulte 2015). */
+    int shaping_given;
+    qc_shaping shaping;          /* echo of the request                     */
+    double shaping_nu;           /* ν of the law, for the levels as given   */
+    double shaping_scale;        /* factor on the given levels that keeps
+                                    the uniform law's average power        */
+    double uniform_rate_bits;    /* the objective's rate with the uniform
+                                    law at the same SNR, with the same
+                                    quantizer strategy and cells; NaN when
+                                    skipped (numerics.skip_snr_penalty)    */
+    double shaping_gain_db;      /* shaping gain: the SNR (dB) at which the
+                                    uniform law reaches rate_bits with the
+                                    same quantizer strategy and cells,
+                                    minus the operating SNR; > 0 when the
+                                    shaped law needs less SNR. NaN when
+                                    skipped or when the uniform law does
+                                    not reach rate_bits within ±32 dB     */
+    size_t shaping_evaluations;  /* designs run by the search of `best`     */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

@@ -250,6 +250,25 @@ static void report_memory(json_t *o, const qc_design_result *res)
                         json_integer((json_int_t)res->memory_evaluations));
 }
 
+/* ---- probabilistic shaping (src/design/shaping.c) ----------------- */
+
+/* Present when the request gave a shaping ("none" included), so that a
+ * sweep with a shaping axis has the columns on every row. */
+static void report_shaping(json_t *o, const qc_design_result *res)
+{
+    if (!res->shaping_given)
+        return;
+    char spec[64];
+    qc_shaping_format(&res->shaping, spec, sizeof spec);
+    json_object_set_new(o, "shaping", json_string(spec));
+    json_object_set_new(o, "shaping_nu", qc_report_real(res->shaping_nu));
+    json_object_set_new(o, "shaping_scale", qc_report_real(res->shaping_scale));
+    json_object_set_new(o, "uniform_rate_bits", qc_report_real(res->uniform_rate_bits));
+    json_object_set_new(o, "shaping_gain_db", qc_report_real(res->shaping_gain_db));
+    json_object_set_new(o, "shaping_evaluations",
+                        json_integer((json_int_t)res->shaping_evaluations));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -322,6 +341,7 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
                             qc_report_real(req->channel.intensity_link->received_dbm));
     }
     report_memory(o, res);
+    report_shaping(o, res);
     return o;
 }
 

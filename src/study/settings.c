@@ -183,6 +183,10 @@ static const key_spec keys[] = {
          "link at 1550 nm; needs symbol-rate)"),
     WHOLE("symbols", "N", "symbols simulated for the rates of a channel with memory (default "
           "200000)", 4000, (size_t)1 << 40),
+    /* probabilistic shaping (docs/alphabets.md) */
+    TEXT("shaping", "mb:NU|entropy:H|best|none",
+         "Maxwell-Boltzmann law p(x) ~ exp(-NU x^2) on pam/qam levels: by NU, by its entropy "
+         "H bits/symbol, or best for the objective; levels scaled to the uniform law's power"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
@@ -315,6 +319,10 @@ static qc_status check_value(const char *key, const char *value)
         if (strcmp(key, "fec") == 0) {
             qc_fec f;
             return qc_fec_parse(value, &f);
+        }
+        if (strcmp(key, "shaping") == 0) {
+            qc_shaping sh;
+            return qc_shaping_parse(value, &sh);
         }
         if (strcmp(key, "model") == 0 && !qc_model_type_find(value)) {
             char known[512] = "";

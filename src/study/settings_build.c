@@ -505,6 +505,40 @@ static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
     return qc_constraints_validate(c, alpha->dimensions);
 }
 
+/* 'shaping' into s->shaping and the request: the levels must be those of
+ * pam, qam or a list (a Maxwell–Boltzmann law in x²; not intensity
+ * levels), without a law of their own. */
+static qc_status shaping_of(qc_settings *s, qc_design_request *req)
+{
+    const char *v = qc_settings_get(s, "shaping");
+    if (!v)
+        return QC_OK;
+    qc_status st = qc_shaping_parse(v, &s->shaping);
+    if (st != QC_OK)
+        return st;
+    const char *alphabet = qc_settings_get(s, "alphabet");
+    if (alphabet && strncmp(alphabet, "pam:", 4) != 0 && strncmp(alphabet, "qam:", 4) != 0)
+        return qc_fail(QC_EINVAL, "shaping: a Maxwell-Boltzmann law needs bipolar levels: "
+                                  "alphabet pam:M or qam:M, or 'levels' (got alphabet %s)",
+                       alphabet);
+    if (qc_settings_get(s, "level-grid"))
+        return qc_fail(QC_EINVAL, "shaping: a level-grid is the support of a law designed "
+                                  "freely; give alphabet pam:M or qam:M (or 'levels')");
+    if (qc_settings_get(s, "probabilities"))
+        return qc_fail(QC_EINVAL, "shaping: give 'probabilities' or 'shaping', not both "
+                                  "(the shaping sets the law)");
+    if (s->shaping.kind == QC_SHAPING_ENTROPY) {
+        /* the entropy range of this alphabet, named now with the key */
+        double nu;
+        if ((st = qc_mb_nu_for_entropy(req->channel.levels, req->channel.nlevels,
+                                       req->channel.dimensions, s->shaping.value, &nu)) !=
+            QC_OK)
+            return st;
+    }
+    req->input.shaping = &s->shaping;
+    return QC_OK;
+}
+
 /* The alphabet and input-design fields of the request. */
 static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
                                 qc_design_request *req)
@@ -541,6 +575,8 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
                          : qc_settings_get(s, "osnr-db") ? 2
                          : qc_settings_get(s, "span-km") ? 2 /* the fibre link's default */
                                                          : 0;
+    if ((st = shaping_of(s, req)) != QC_OK)
+        return st;
     const char *fec = qc_settings_get(s, "fec");
     if (fec) {
         if ((st = qc_fec_parse(fec, &s->fec)) != QC_OK)
