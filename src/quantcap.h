@@ -30,7 +30,9 @@
 #include "quantcap/quantizer.h"
 #include "quantcap/capacity.h"
 #include "quantcap/alphabet.h"
+#include "quantcap/plane.h"
 #include "quantcap/design.h"
+#include "quantcap/iq.h"
 #include "quantcap/study.h"
 
 #endif /* QUANTCAP_H */
