@@ -29,7 +29,7 @@
 #define MIN_LEVEL 2         /* first refinement: 2^2 panels                  */
 #define MAX_LEVEL 16        /* last refinement: 2^16 panels                  */
 #define PN_WINDOW_SD 12.0   /* phase-noise integrals over ±12 s (tail e^-72) */
-#define PEAK_PANELS 8.0     /* panels per characteristic width at the start  */
+#define PEAK_PANELS 2.0     /* panels per characteristic width at the start  */
 #define VM_TERMS_TOL 1e-17  /* von Mises series cut where I_n/I_0 falls below */
 #define VM_MAX_TERMS 20000
 
