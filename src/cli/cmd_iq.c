@@ -36,6 +36,7 @@ static const cli_opt options[] = {
     {"search-labels", NULL, "search the labels (binary switching) even when given"},
     {"capacity", NULL, "also the certified capacity of each quantized channel"},
     {"compare", NULL, "rate both receivers: product (--cells/--bits) and polar"},
+    {"matrix", NULL, "also print each receiver's transition matrix P(cell | point)"},
     {"json", NULL, "machine-readable JSON output"},
     {"output", "FILE", "write the result to FILE (complete or not at all)"},
     {NULL, NULL, NULL},
@@ -76,11 +77,13 @@ typedef struct {
     double *gi, *gq, *gr, *gp; /* given boundaries (owned) */
     qc_iq_rates rates;
     double quad_err;
+    qc_dmc *matrix; /* kept with --matrix */
 } receiver;
 
 static void receiver_free(receiver *r)
 {
     qc_iq_design_result_free(&r->des);
+    qc_dmc_free(r->matrix);
     free(r->gi), free(r->gq), free(r->gr), free(r->gp);
 }
 
@@ -169,7 +172,7 @@ static int polar_flags(const cli_args *a, receiver *r)
 }
 
 static int rate_receiver(const qc_plane *c, const qc_iq_noise *noise, qc_objective obj,
-                         int uniform, int capacity, receiver *r)
+                         int uniform, int capacity, int keep, receiver *r)
 {
     qc_status st;
     if (!r->given) {
@@ -184,13 +187,16 @@ static int rate_receiver(const qc_plane *c, const qc_iq_noise *noise, qc_objecti
     if ((st = qc_iq_channel(c, noise, &r->cells, &ch, &r->quad_err)) != QC_OK)
         return cli_lib_error(st);
     st = qc_iq_rates_compute(c, ch, capacity, 0.0, &r->rates);
-    qc_dmc_free(ch);
+    if (keep)
+        r->matrix = ch;
+    else
+        qc_dmc_free(ch);
     return st == QC_OK ? CLI_OK : cli_lib_error(st);
 }
 
 static void print_list(FILE *f, const char *name, const double *v, size_t n, double scale)
 {
-    fprintf(f, "  %-22s", name);
+    fprintf(f, "  %-24s", name);
     for (size_t i = 0; i < n; i++)
         fprintf(f, "%s%.6g", i ? ", " : "", v[i] * scale);
     fprintf(f, "%s\n", n ? "" : "(none)");
@@ -222,17 +228,25 @@ static void print_receiver(FILE *f, const receiver *r, int capacity)
         if (q->nphases > 1)
             print_list(f, "phase thresholds (deg)", q->phases, q->nphases, 180.0 / PI);
     }
-    fprintf(f, "MI           %.10f %s (exact: cell probabilities %s)\n", r->rates.mi_bits,
-            unit,
-            r->quad_err > 0.0 || r->kind == QC_IQ_POLAR
-                ? "by quadrature, largest change at the last refinement"
-                : "from the Gaussian CDF");
-    if (r->kind == QC_IQ_POLAR || r->quad_err > 0.0)
-        fprintf(f, "             quadrature change %.2g per cell (target %.0e)\n", r->quad_err,
-                QC_IQ_QUAD_TOL);
+    if (r->kind == QC_IQ_PRODUCT && r->quad_err == 0.0)
+        fprintf(f, "MI           %.10f %s (exact: cell probabilities from the Gaussian "
+                   "CDF)\n", r->rates.mi_bits, unit);
+    else
+        fprintf(f, "MI           %.10f %s (cell probabilities by quadrature, last "
+                   "refinement changed them by at most %.1e; target %.0e)\n",
+                r->rates.mi_bits, unit, r->quad_err, QC_IQ_QUAD_TOL);
     if (isfinite(r->rates.gmi_bits))
         fprintf(f, "GMI          %.10f %s (BICM, exact for the matrix), NGMI %.6f\n",
                 r->rates.gmi_bits, unit, r->rates.ngmi);
+    if (r->matrix) {
+        fprintf(f, "matrix       P(cell | point), one row per point, cells in the order above\n");
+        for (size_t x = 0; x < r->matrix->nx; x++) {
+            fprintf(f, " ");
+            for (size_t y = 0; y < r->matrix->ny; y++)
+                fprintf(f, " %.6e", r->matrix->p[x * r->matrix->ny + y]);
+            fprintf(f, "\n");
+        }
+    }
     if (capacity)
         fprintf(f, "capacity     %.10f %s (certified: upper bound %.10f, Blahut-Arimoto, %zu "
                    "iterations)\n",
@@ -273,6 +287,13 @@ static json_t *receiver_json(const receiver *r, int capacity)
     if (capacity) {
         json_object_set_new(o, "capacity_bits", cli_json_real(r->rates.capacity_bits));
         json_object_set_new(o, "upper_bound_bits", cli_json_real(r->rates.capacity_upper_bits));
+    }
+    if (r->matrix) {
+        json_t *m = json_array();
+        for (size_t x = 0; x < r->matrix->nx; x++)
+            json_array_append_new(m, cli_json_array(r->matrix->p + x * r->matrix->ny,
+                                                    r->matrix->ny));
+        json_object_set_new(o, "channel", m);
     }
     return o;
 }
@@ -398,7 +419,8 @@ int cmd_iq(int argc, char **argv)
     }
     int capacity = cli_has(&a, "capacity");
     for (size_t i = 0; i < nrx; i++)
-        if ((rc = rate_receiver(c, &noise, obj, cli_has(&a, "uniform"), capacity, &rx[i])))
+        if ((rc = rate_receiver(c, &noise, obj, cli_has(&a, "uniform"), capacity,
+                               cli_has(&a, "matrix"), &rx[i])))
             goto done;
     double unq = NAN, unq_err = NAN;
     size_t gh_nodes = 0;
