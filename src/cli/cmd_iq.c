@@ -33,6 +33,7 @@ static const cli_opt options[] = {
     {"phase-noise-law", "NAME", "gauss (default) or tikhonov"},
     {"objective", "NAME", "mi (default) or gmi: what the cells are designed for"},
     {"uniform", NULL, "keep the uniform starting cells (no design)"},
+    {"max-evaluations", "N", "most rate evaluations of the cell design (default 4000)"},
     {"search-labels", NULL, "search the labels (binary switching) even when given"},
     {"capacity", NULL, "also the certified capacity of each quantized channel"},
     {"compare", NULL, "rate both receivers: product (--cells/--bits) and polar"},
@@ -172,11 +173,12 @@ static int polar_flags(const cli_args *a, receiver *r)
 }
 
 static int rate_receiver(const qc_plane *c, const qc_iq_noise *noise, qc_objective obj,
-                         int uniform, int capacity, int keep, receiver *r)
+                         int uniform, int capacity, int keep, size_t max_evals, receiver *r)
 {
     qc_status st;
     if (!r->given) {
         r->req.objective = obj;
+        r->req.max_evaluations = max_evals;
         st = uniform ? qc_iq_uniform(c, noise, &r->req, &r->des)
                      : qc_iq_design(c, noise, &r->req, &r->des);
         if (st != QC_OK)
@@ -418,9 +420,13 @@ int cmd_iq(int argc, char **argv)
         goto done;
     }
     int capacity = cli_has(&a, "capacity");
+    size_t max_evals = 0;
+    if ((v = cli_get(&a, "max-evaluations")) &&
+        (rc = cli_size("max-evaluations", v, 1, 10000000, &max_evals)))
+        goto done;
     for (size_t i = 0; i < nrx; i++)
         if ((rc = rate_receiver(c, &noise, obj, cli_has(&a, "uniform"), capacity,
-                               cli_has(&a, "matrix"), &rx[i])))
+                               cli_has(&a, "matrix"), max_evals, &rx[i])))
             goto done;
     double unq = NAN, unq_err = NAN;
     size_t gh_nodes = 0;
