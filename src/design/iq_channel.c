@@ -30,8 +30,6 @@
 #define MAX_LEVEL 16        /* last refinement: 2^16 panels                  */
 #define PN_WINDOW_SD 12.0   /* phase-noise integrals over ±12 s (tail e^-72) */
 #define PEAK_PANELS 2.0     /* panels per characteristic width at the start  */
-#define VM_TERMS_TOL 1e-17  /* von Mises series cut where I_n/I_0 falls below */
-#define VM_MAX_TERMS 20000
 #define CDF_STEPS_PER_SD 400.0 /* Tikhonov CDF table: steps per standard deviation */
 #define CDF_MIN_STEPS 4096     /* ... and at least this many over the circle        */
 #define CDF_MAX_STEPS 8000000  /* beyond: the Bessel series instead                */
@@ -210,8 +208,6 @@ static qc_status vquad_run(vquad *v, vfun f, void *ctx, double lo, double hi, do
 typedef struct {
     const qc_iq_noise *noise;
     double kappa, vm_norm; /* Tikhonov: κ and 1/(2π I0(κ) e^{−κ})           */
-    double *vm_ratio;      /* I_n(κ)/I_0(κ), n = 0..vm_terms                 */
-    size_t vm_terms;
     double *cdf;           /* Tikhonov CDF at −π + k·cdf_h, k = 0..cdf_n     */
     size_t cdf_n;
     double cdf_h;
@@ -238,18 +234,6 @@ static qc_status pn_init(phase_noise *pn, const qc_iq_noise *noise)
         return QC_OK;
     pn->kappa = 1.0 / (s * s);
     pn->vm_norm = 1.0 / (2.0 * M_PI * gsl_sf_bessel_I0_scaled(pn->kappa));
-    size_t n = 16;
-    while (n < VM_MAX_TERMS && gsl_sf_bessel_In_scaled((int)n, pn->kappa) /
-                                       gsl_sf_bessel_I0_scaled(pn->kappa) > VM_TERMS_TOL)
-        n *= 2;
-    pn->vm_ratio = qc_malloc_array(n + 1, sizeof *pn->vm_ratio);
-    if (!pn->vm_ratio)
-        return qc_fail(QC_ENOMEM, "out of memory");
-    gsl_sf_bessel_In_scaled_array(0, (int)n, pn->kappa, pn->vm_ratio);
-    double i0 = pn->vm_ratio[0];
-    for (size_t k = 0; k <= n; k++)
-        pn->vm_ratio[k] /= i0;
-    pn->vm_terms = n;
     /* The CDF on a grid of step s/CDF_STEPS_PER_SD (at least CDF_MIN_STEPS
      * over the circle), each step integrated by Gauss–Legendre; between
      * grid points a cubic Hermite interpolant with the exact density as
@@ -259,7 +243,10 @@ static qc_status pn_init(phase_noise *pn, const qc_iq_noise *noise)
     if (steps < CDF_MIN_STEPS)
         steps = CDF_MIN_STEPS;
     if (steps > CDF_MAX_STEPS)
-        return QC_OK; /* the series serves (slowly) */
+        return qc_fail(QC_EINVAL, "phase-noise-deg: the Tikhonov law is tabulated down to "
+                       "%.3g degrees rms (got %g); below that use --phase-noise-law gauss",
+                       2.0 * M_PI * CDF_STEPS_PER_SD / CDF_MAX_STEPS * 180.0 / M_PI,
+                       s * 180.0 / M_PI);
     pn->cdf = qc_malloc_array(steps + 1, sizeof *pn->cdf);
     gsl_integration_glfixed_table *gl = gsl_integration_glfixed_table_alloc(GL_NODES);
     if (!pn->cdf || !gl) {
@@ -317,29 +304,12 @@ static double pn_arc(const phase_noise *pn, double a, double b)
             p += phi_diff((a + 2.0 * M_PI * k) / s, (b + 2.0 * M_PI * k) / s);
         return p;
     }
-    if (pn->cdf) {
-        double w = b - a;
-        double a0 = a - 2.0 * M_PI * floor((a + M_PI) / (2.0 * M_PI)); /* in [−π, π) */
-        double b0 = a0 + w;
-        if (b0 <= M_PI)
-            return fmax(vm_cdf(pn, b0) - vm_cdf(pn, a0), 0.0);
-        return fmax(1.0 - vm_cdf(pn, a0) + vm_cdf(pn, b0 - 2.0 * M_PI), 0.0);
-    }
-    /* von Mises: (b − a)/2π + (1/π) Σ_n (I_n/I_0)(sin nb − sin na)/n
-     * (Mardia & Jupp, Directional Statistics, 2000, §3.5.4) */
-    double p = (b - a) / (2.0 * M_PI);
-    double sa = sin(a), ca = cos(a), sb = sin(b), cb = cos(b);
-    double sna = sa, cna = ca, snb = sb, cnb = cb; /* sin/cos of n·a, n·b */
-    for (size_t n = 1; n <= pn->vm_terms; n++) {
-        p += pn->vm_ratio[n] * (snb - sna) / (M_PI * (double)n);
-        double t = sna * ca + cna * sa;
-        cna = cna * ca - sna * sa;
-        sna = t;
-        t = snb * cb + cnb * sb;
-        cnb = cnb * cb - snb * sb;
-        snb = t;
-    }
-    return fmax(p, 0.0);
+    /* Tikhonov: the tabulated CDF, the arc moved into [−π, π) first */
+    double a0 = a - 2.0 * M_PI * floor((a + M_PI) / (2.0 * M_PI));
+    double b0 = a0 + (b - a);
+    if (b0 <= M_PI)
+        return fmax(vm_cdf(pn, b0) - vm_cdf(pn, a0), 0.0);
+    return fmax(1.0 - vm_cdf(pn, a0) + vm_cdf(pn, b0 - 2.0 * M_PI), 0.0);
 }
 
 /* ---- polar cells ----------------------------------------------------- */
@@ -547,7 +517,6 @@ qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq
     if (v.gl)
         gsl_integration_glfixed_table_free(v.gl);
     if (with_pn) {
-        free(pn.vm_ratio);
         free(pn.cdf);
     }
     if (st != QC_OK) {
