@@ -16,7 +16,7 @@
 
 #define DEFAULT_EVALS 4000
 #define SIMPLEX_STEP 0.3 /* first simplex size in the log-gap parametrization */
-#define SIMPLEX_TOL 1e-5 /* stop when the simplex is this small */
+#define SIMPLEX_TOL 1e-3 /* stop when the simplex is this small */
 #define BAD_POINT 1e6    /* the objective where a channel cannot be built */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
