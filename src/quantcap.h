@@ -31,7 +31,9 @@
 #include "quantcap/capacity.h"
 #include "quantcap/memory.h"
 #include "quantcap/alphabet.h"
+#include "quantcap/plane.h"
 #include "quantcap/design.h"
+#include "quantcap/iq.h"
 #include "quantcap/study.h"
 
 #endif /* QUANTCAP_H */

@@ -131,6 +131,7 @@ const char *cli_param_unit(const qc_model_type *type, size_t i, const char *leve
 int cmd_capacity(int argc, char **argv);
 int cmd_channel(int argc, char **argv);
 int cmd_design(int argc, char **argv);
+int cmd_iq(int argc, char **argv);
 int cmd_models(int argc, char **argv);
 int cmd_require(int argc, char **argv);
 int cmd_sweep(int argc, char **argv);

@@ -15,6 +15,7 @@ static const command commands[] = {
     {"capacity", cmd_capacity, "capacity of a channel matrix read from a file"},
     {"channel", cmd_channel, "transition matrix of a model, levels and thresholds"},
     {"design", cmd_design, "design a quantizer and report the rate it keeps"},
+    {"iq", cmd_iq, "a 2-D constellation through an I/Q or polar quantizer"},
     {"models", cmd_models, "list the noise models and their parameters"},
     {"require", cmd_require, "the SNR, OSNR, power or photons a target needs, and the penalty"},
     {"sweep", cmd_sweep, "run a scenario file's grid of designs: table, JSON, plots"},

@@ -18,6 +18,7 @@ PUBLIC = {
     'export': 'core', 'status': 'core', 'figures': 'core', 'atomic_file': 'core', 'dmc': 'core', 'info': 'core',
     'model': 'models', 'frontend': 'frontend', 'quantizer': 'quantizer',
     'capacity': 'capacity', 'memory': 'capacity', 'alphabet': 'alphabet', 'design': 'design',
+    'plane': 'alphabet', 'iq': 'design',
     'study': 'study',
 }
 # Private headers shared beyond their folder, and why.

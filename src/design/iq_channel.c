@@ -1,0 +1,530 @@
+/* iq_channel.c — the exact transition matrix of a coherent receiver for
+ * a two-dimensional constellation in circular Gaussian noise, with an
+ * optional residual phase error (Gaussian, or Tikhonov as left by a
+ * first-order phase-locked loop: Viterbi, Principles of Coherent
+ * Communication, 1966).
+ * I/Q pair: the noise is independent across the quadratures, so each
+ * rectangular cell's probability is the product of two differences of
+ * the Gaussian CDF. Polar cells: along a ray at angle θ the density of
+ * x + n is Gaussian in the radius, so its radial integral over a ring is
+ * closed form (the Rice density of the amplitude, Rice, Bell Syst. Tech.
+ * J. 1944, integrated over a phase sector); the angular integral is by
+ * composite Gauss–Legendre quadrature (GSL glfixed) refined by panel
+ * doubling. Phase noise: y = x·e^{jφ} + n has the law of (x + n)·e^{jφ}
+ * (n is circular), so a polar cell's probability integrates the sector
+ * probability of φ against the angular density, and an I/Q cell's
+ * integrates the rotated point's product probability against p(φ). */
+#include "design/design_internal.h"
+#include "quantcap/iq.h"
+
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_integration.h>
+#include <gsl/gsl_sf_bessel.h>
+#include <gsl/gsl_math.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define GL_NODES 20         /* Gauss–Legendre points per panel               */
+#define MIN_LEVEL 2         /* first refinement: 2^2 panels                  */
+#define MAX_LEVEL 16        /* last refinement: 2^16 panels                  */
+#define PN_WINDOW_SD 12.0   /* phase-noise integrals over ±12 s (tail e^-72) */
+#define PEAK_PANELS 2.0     /* panels per characteristic width at the start  */
+#define CDF_STEPS_PER_SD 400.0 /* Tikhonov CDF table: steps per standard deviation */
+#define CDF_MIN_STEPS 4096     /* ... and at least this many over the circle        */
+#define CDF_MAX_STEPS 8000000  /* beyond: the Bessel series instead                */
+
+const char *qc_iq_kind_name(qc_iq_kind k)
+{
+    return k == QC_IQ_PRODUCT ? "product" : k == QC_IQ_POLAR ? "polar" : NULL;
+}
+
+const char *qc_phase_law_name(qc_phase_law l)
+{
+    return l == QC_PHASE_GAUSS ? "gauss" : l == QC_PHASE_TIKHONOV ? "tikhonov" : NULL;
+}
+
+qc_status qc_iq_kind_parse(const char *name, qc_iq_kind *out)
+{
+    if (name && strcmp(name, "product") == 0)
+        *out = QC_IQ_PRODUCT;
+    else if (name && strcmp(name, "polar") == 0)
+        *out = QC_IQ_POLAR;
+    else
+        return qc_fail(QC_EINVAL, "iq-quantizer: unknown receiver '%s' (expected product "
+                       "or polar)", name ? name : "");
+    return QC_OK;
+}
+
+qc_status qc_phase_law_parse(const char *name, qc_phase_law *out)
+{
+    if (name && strcmp(name, "gauss") == 0)
+        *out = QC_PHASE_GAUSS;
+    else if (name && strcmp(name, "tikhonov") == 0)
+        *out = QC_PHASE_TIKHONOV;
+    else
+        return qc_fail(QC_EINVAL, "phase-noise-law: unknown law '%s' (expected gauss or "
+                       "tikhonov)", name ? name : "");
+    return QC_OK;
+}
+
+size_t qc_iq_cell_count(const qc_iq_cells *q)
+{
+    if (!q)
+        return 0;
+    if (q->kind == QC_IQ_PRODUCT)
+        return (q->nti + 1) * (q->ntq + 1);
+    if (q->kind == QC_IQ_POLAR)
+        return (q->nradii + 1) * q->nphases;
+    return 0;
+}
+
+static qc_status check_increasing(const char *what, const double *t, size_t n, int positive)
+{
+    for (size_t k = 0; k < n; k++) {
+        if (!isfinite(t[k]) || (positive && !(t[k] > 0.0)))
+            return qc_fail(QC_EINVAL, "%s: value %zu is %g (expected a finite number%s)",
+                           what, k + 1, t[k], positive ? " > 0" : "");
+        if (k > 0 && !(t[k] > t[k - 1]))
+            return qc_fail(QC_EINVAL, "%s: values must increase strictly (%zu: %g after %g)",
+                           what, k + 1, t[k], t[k - 1]);
+    }
+    return QC_OK;
+}
+
+static qc_status check_cells(const qc_iq_cells *q)
+{
+    qc_status st;
+    if (q->kind == QC_IQ_PRODUCT) {
+        if ((st = check_increasing("in-phase thresholds", q->ti, q->nti, 0)) != QC_OK ||
+            (st = check_increasing("quadrature thresholds", q->tq, q->ntq, 0)) != QC_OK)
+            return st;
+    } else if (q->kind == QC_IQ_POLAR) {
+        if ((st = check_increasing("amplitude thresholds", q->radii, q->nradii, 1)) != QC_OK)
+            return st;
+        if (q->nphases < 1)
+            return qc_fail(QC_EINVAL, "phase-cells: at least 1 sector is needed");
+        if ((st = check_increasing("phase thresholds", q->phases, q->nphases, 0)) != QC_OK)
+            return st;
+        if (q->nphases > 1 && !(q->phases[q->nphases - 1] < q->phases[0] + 2.0 * M_PI))
+            return qc_fail(QC_EINVAL, "phase thresholds: they must span less than one turn "
+                           "(%g to %g rad)", q->phases[0], q->phases[q->nphases - 1]);
+    } else {
+        return qc_fail(QC_EINVAL, "iq-quantizer: unknown receiver kind %d", (int)q->kind);
+    }
+    size_t k = qc_iq_cell_count(q);
+    if (k < 2 || k > QC_IQ_MAX_CELLS)
+        return qc_fail(QC_EINVAL, "iq-quantizer: %zu output cells (expected 2 to %d)", k,
+                       QC_IQ_MAX_CELLS);
+    return QC_OK;
+}
+
+/* Φ(b) − Φ(a) for a ≤ b, without cancellation in either tail. */
+static double phi_diff(double a, double b)
+{
+    if (a > 0.0)
+        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
+    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
+}
+
+/* Per-axis cell probabilities of coordinate v: out[k] = P(t_{k−1} ≤ v + n < t_k). */
+static void axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
+{
+    double lo = -INFINITY;
+    for (size_t k = 0; k <= nt; k++) {
+        double hi = k < nt ? t[k] : INFINITY;
+        out[k] = phi_diff((lo - v) / sigma, (hi - v) / sigma);
+        lo = hi;
+    }
+}
+
+/* Add w × the product-cell probabilities of point (x, y) to row. */
+static void product_row(double x, double y, double sigma, const qc_iq_cells *q, double w,
+                        double *pi, double *pq, double *row)
+{
+    axis_probs(x, sigma, q->ti, q->nti, pi);
+    axis_probs(y, sigma, q->tq, q->ntq, pq);
+    size_t kq = q->ntq + 1;
+    for (size_t i = 0; i <= q->nti; i++)
+        for (size_t k = 0; k < kq; k++)
+            row[i * kq + k] += w * pi[i] * pq[k];
+}
+
+/* ---- vector quadrature: composite Gauss–Legendre, panel doubling ---- */
+
+typedef void (*vfun)(double t, void *ctx, double *out); /* out: nvec values */
+
+typedef struct {
+    gsl_integration_glfixed_table *gl;
+    double *acc, *prev, *val;
+    size_t nvec;
+} vquad;
+
+/* ∫_lo^hi f over nvec components into out (added). Starts at
+ * max(2^MIN_LEVEL, (hi − lo)/width·PEAK_PANELS) panels. */
+static qc_status vquad_run(vquad *v, vfun f, void *ctx, double lo, double hi, double width,
+                           double *out, double *err)
+{
+    if (!(hi > lo))
+        return QC_OK;
+    size_t panels = (size_t)1 << MIN_LEVEL;
+    double want = (hi - lo) / width * PEAK_PANELS;
+    while ((double)panels < want && panels < ((size_t)1 << (MAX_LEVEL - 2)))
+        panels *= 2;
+    int have_prev = 0;
+    for (; panels <= ((size_t)1 << MAX_LEVEL); panels *= 2) {
+        memset(v->acc, 0, v->nvec * sizeof *v->acc);
+        double h = (hi - lo) / (double)panels;
+        for (size_t p = 0; p < panels; p++) {
+            double a = lo + h * (double)p, b = a + h;
+            for (size_t k = 0; k < GL_NODES; k++) {
+                double xk, wk;
+                gsl_integration_glfixed_point(a, b, k, &xk, &wk, v->gl);
+                f(xk, ctx, v->val);
+                for (size_t c = 0; c < v->nvec; c++)
+                    v->acc[c] += wk * v->val[c];
+            }
+        }
+        if (have_prev) {
+            double d = 0.0;
+            for (size_t c = 0; c < v->nvec; c++)
+                d = fmax(d, fabs(v->acc[c] - v->prev[c]));
+            if (d <= QC_IQ_QUAD_TOL) {
+                for (size_t c = 0; c < v->nvec; c++)
+                    out[c] += v->acc[c];
+                *err = fmax(*err, d);
+                return QC_OK;
+            }
+        }
+        memcpy(v->prev, v->acc, v->nvec * sizeof *v->acc);
+        have_prev = 1;
+    }
+    return qc_fail(QC_ENOCONV, "iq channel: the quadrature did not settle within %g with "
+                   "%d panels", QC_IQ_QUAD_TOL, 1 << MAX_LEVEL);
+}
+
+/* ---- phase noise ----------------------------------------------------- */
+
+typedef struct {
+    const qc_iq_noise *noise;
+    double kappa, vm_norm; /* Tikhonov: κ and 1/(2π I0(κ) e^{−κ})           */
+    double *cdf;           /* Tikhonov CDF at −π + k·cdf_h, k = 0..cdf_n     */
+    size_t cdf_n;
+    double cdf_h;
+    double window;         /* integrate φ over [−window, window]            */
+} phase_noise;
+
+static double pn_density(const phase_noise *pn, double phi)
+{
+    double s = pn->noise->phase_sd;
+    if (pn->noise->phase_law == QC_PHASE_TIKHONOV)
+        return pn->vm_norm * exp(pn->kappa * (cos(phi) - 1.0));
+    return exp(-0.5 * (phi / s) * (phi / s)) / (s * sqrt(2.0 * M_PI));
+}
+
+static qc_status pn_init(phase_noise *pn, const qc_iq_noise *noise)
+{
+    memset(pn, 0, sizeof *pn);
+    pn->noise = noise;
+    double s = noise->phase_sd;
+    pn->window = fmin(M_PI, PN_WINDOW_SD * s);
+    if (noise->phase_law == QC_PHASE_GAUSS && s * PN_WINDOW_SD > M_PI)
+        pn->window = PN_WINDOW_SD * s; /* unwrapped Gaussian on the real line */
+    if (noise->phase_law != QC_PHASE_TIKHONOV)
+        return QC_OK;
+    pn->kappa = 1.0 / (s * s);
+    pn->vm_norm = 1.0 / (2.0 * M_PI * gsl_sf_bessel_I0_scaled(pn->kappa));
+    /* The CDF on a grid of step s/CDF_STEPS_PER_SD (at least CDF_MIN_STEPS
+     * over the circle), each step integrated by Gauss–Legendre; between
+     * grid points a cubic Hermite interpolant with the exact density as
+     * slope, whose error is at most h^4/384 max|p^(3)| (about
+     * 1.4e-3 (h/s)^4 = 4e-14 here). */
+    size_t steps = (size_t)ceil(2.0 * M_PI / s * CDF_STEPS_PER_SD);
+    if (steps < CDF_MIN_STEPS)
+        steps = CDF_MIN_STEPS;
+    if (steps > CDF_MAX_STEPS)
+        return qc_fail(QC_EINVAL, "phase-noise-deg: the Tikhonov law is tabulated down to "
+                       "%.3g degrees rms (got %g); below that use --phase-noise-law gauss",
+                       2.0 * M_PI * CDF_STEPS_PER_SD / CDF_MAX_STEPS * 180.0 / M_PI,
+                       s * 180.0 / M_PI);
+    pn->cdf = qc_malloc_array(steps + 1, sizeof *pn->cdf);
+    gsl_integration_glfixed_table *gl = gsl_integration_glfixed_table_alloc(GL_NODES);
+    if (!pn->cdf || !gl) {
+        if (gl)
+            gsl_integration_glfixed_table_free(gl);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    pn->cdf_n = steps;
+    pn->cdf_h = 2.0 * M_PI / (double)steps;
+    pn->cdf[0] = 0.0;
+    for (size_t k = 1; k <= steps; k++) {
+        double a = -M_PI + pn->cdf_h * (double)(k - 1), b = a + pn->cdf_h, acc = 0.0;
+        for (size_t j = 0; j < GL_NODES; j++) {
+            double xj, wj;
+            gsl_integration_glfixed_point(a, b, j, &xj, &wj, gl);
+            acc += wj * pn_density(pn, xj);
+        }
+        pn->cdf[k] = pn->cdf[k - 1] + acc;
+    }
+    gsl_integration_glfixed_table_free(gl);
+    for (size_t k = 1; k <= steps; k++)
+        pn->cdf[k] /= pn->cdf[steps];
+    return QC_OK;
+}
+
+/* The tabulated Tikhonov CDF at φ in [−π, π]. */
+static double vm_cdf(const phase_noise *pn, double phi)
+{
+    double u = (phi + M_PI) / pn->cdf_h;
+    if (u <= 0.0)
+        return 0.0;
+    if (u >= (double)pn->cdf_n)
+        return 1.0;
+    size_t k = (size_t)u;
+    if (k >= pn->cdf_n)
+        k = pn->cdf_n - 1;
+    double t = u - (double)k, h = pn->cdf_h;
+    double x0 = -M_PI + h * (double)k;
+    double f0 = pn->cdf[k], f1 = pn->cdf[k + 1];
+    double d0 = pn_density(pn, x0) * h, d1 = pn_density(pn, x0 + h) * h;
+    double t2 = t * t, t3 = t2 * t;
+    return (2 * t3 - 3 * t2 + 1) * f0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * f1 +
+           (t3 - t2) * d1;
+}
+
+/* P(φ mod 2π ∈ [a, b]) for b − a ≤ 2π. */
+static double pn_arc(const phase_noise *pn, double a, double b)
+{
+    double s = pn->noise->phase_sd;
+    if (pn->noise->phase_law == QC_PHASE_GAUSS) {
+        /* the unwrapped Gaussian: sum over the turns it can reach */
+        double p = 0.0;
+        int turns = (int)ceil(PN_WINDOW_SD * s / (2.0 * M_PI)) + 1;
+        for (int k = -turns; k <= turns; k++)
+            p += phi_diff((a + 2.0 * M_PI * k) / s, (b + 2.0 * M_PI * k) / s);
+        return p;
+    }
+    /* Tikhonov: the tabulated CDF, the arc moved into [−π, π) first */
+    double a0 = a - 2.0 * M_PI * floor((a + M_PI) / (2.0 * M_PI));
+    double b0 = a0 + (b - a);
+    if (b0 <= M_PI)
+        return fmax(vm_cdf(pn, b0) - vm_cdf(pn, a0), 0.0);
+    return fmax(1.0 - vm_cdf(pn, a0) + vm_cdf(pn, b0 - 2.0 * M_PI), 0.0);
+}
+
+/* ---- polar cells ----------------------------------------------------- */
+
+/* ∫_{r0}^{r1} of the density of x + n along the ray at angle θ, with
+ * |x| = s at angle θx (the Gaussian along the ray, in closed form). */
+static double ray_integral(double s, double c, double sigma, double r0, double r1)
+{
+    double s2 = 2.0 * sigma * sigma;
+    double e0 = exp(-(r0 * r0 - 2.0 * r0 * s * c + s * s) / s2);
+    double e1 = isfinite(r1) ? exp(-(r1 * r1 - 2.0 * r1 * s * c + s * s) / s2) : 0.0;
+    double sn2 = s * s * (1.0 - c * c);
+    double g = (e0 - e1) / (2.0 * M_PI);
+    if (s * c != 0.0)
+        g += s * c / (sigma * sqrt(2.0 * M_PI)) * exp(-sn2 / s2) *
+             phi_diff((r0 - s * c) / sigma, (r1 - s * c) / sigma);
+    return g;
+}
+
+typedef struct {
+    const qc_iq_cells *q;
+    double s, theta, sigma;
+    const phase_noise *pn; /* NULL: no phase noise */
+    size_t rings, sectors;
+} polar_ctx;
+
+/* Angular density at θ for every ring (no phase noise). */
+static void polar_rings(double t, void *vctx, double *out)
+{
+    const polar_ctx *c = vctx;
+    double cs = cos(t - c->theta);
+    for (size_t a = 0; a < c->rings; a++) {
+        double r0 = a == 0 ? 0.0 : c->q->radii[a - 1];
+        double r1 = a < c->q->nradii ? c->q->radii[a] : INFINITY;
+        out[a] = ray_integral(c->s, cs, c->sigma, r0, r1);
+    }
+}
+
+/* With phase noise: the angular density of x + n at θ (relative to the
+ * point's angle) times each sector's probability of the phase error. */
+static void polar_cells_pn(double t, void *vctx, double *out)
+{
+    const polar_ctx *c = vctx;
+    double g[QC_IQ_MAX_CELLS];
+    double cs = cos(t);
+    for (size_t a = 0; a < c->rings; a++) {
+        double r0 = a == 0 ? 0.0 : c->q->radii[a - 1];
+        double r1 = a < c->q->nradii ? c->q->radii[a] : INFINITY;
+        g[a] = ray_integral(c->s, cs, c->sigma, r0, r1);
+    }
+    double ang = c->theta + t;
+    for (size_t p = 0; p < c->sectors; p++) {
+        double lo = c->sectors == 1 ? -M_PI : c->q->phases[p];
+        double hi = c->sectors == 1 ? M_PI
+                    : p + 1 < c->sectors ? c->q->phases[p + 1]
+                                         : c->q->phases[0] + 2.0 * M_PI;
+        double w = c->sectors == 1 ? 1.0 : pn_arc(c->pn, lo - ang, hi - ang);
+        for (size_t a = 0; a < c->rings; a++)
+            out[a * c->sectors + p] = g[a] * w;
+    }
+}
+
+/* Reduce θ into [lo, lo + 2π). */
+static double wrap_from(double t, double lo)
+{
+    double k = floor((t - lo) / (2.0 * M_PI));
+    return t - 2.0 * M_PI * k;
+}
+
+static qc_status polar_row(vquad *v, const qc_iq_cells *q, double x, double y, double sigma,
+                           const phase_noise *pn, double *row, double *tmp, double *err)
+{
+    polar_ctx c = {q, hypot(x, y), atan2(y, x), sigma, pn, q->nradii + 1, q->nphases};
+    double width = c.s > 0.0 ? fmin(1.0, sigma / c.s) : 1.0;
+    qc_status st;
+    if (pn) {
+        width = fmin(width, fmax(pn->noise->phase_sd, 1e-6));
+        v->nvec = c.rings * c.sectors;
+        if (c.sectors == 1) {
+            /* sectors do not matter: the phase error changes nothing */
+            v->nvec = c.rings;
+            if ((st = vquad_run(v, polar_rings, &c, c.theta - M_PI, c.theta, width, row,
+                                err)) != QC_OK)
+                return st;
+            return vquad_run(v, polar_rings, &c, c.theta, c.theta + M_PI, width, row, err);
+        }
+        if ((st = vquad_run(v, polar_cells_pn, &c, -M_PI, 0.0, width, row, err)) != QC_OK)
+            return st;
+        return vquad_run(v, polar_cells_pn, &c, 0.0, M_PI, width, row, err);
+    }
+    v->nvec = c.rings;
+    for (size_t p = 0; p < c.sectors; p++) {
+        double lo, hi;
+        if (c.sectors == 1) {
+            lo = c.theta - M_PI;
+            hi = c.theta + M_PI;
+        } else {
+            lo = q->phases[p];
+            hi = p + 1 < c.sectors ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI;
+        }
+        memset(tmp, 0, c.rings * sizeof *tmp);
+        /* split at the point's angle, where the density peaks */
+        double peak = wrap_from(c.theta, lo);
+        if (peak > lo && peak < hi) {
+            if ((st = vquad_run(v, polar_rings, &c, lo, peak, width, tmp, err)) != QC_OK ||
+                (st = vquad_run(v, polar_rings, &c, peak, hi, width, tmp, err)) != QC_OK)
+                return st;
+        } else if ((st = vquad_run(v, polar_rings, &c, lo, hi, width, tmp, err)) != QC_OK) {
+            return st;
+        }
+        for (size_t a = 0; a < c.rings; a++)
+            row[a * c.sectors + p] += tmp[a];
+    }
+    return QC_OK;
+}
+
+/* ---- I/Q cells with phase noise -------------------------------------- */
+
+typedef struct {
+    const qc_iq_cells *q;
+    double x, y, sigma;
+    const phase_noise *pn;
+    double *pi, *pq;
+} product_ctx;
+
+static void product_pn(double phi, void *vctx, double *out)
+{
+    const product_ctx *c = vctx;
+    size_t k = qc_iq_cell_count(c->q);
+    memset(out, 0, k * sizeof *out);
+    double cs = cos(phi), sn = sin(phi);
+    product_row(c->x * cs - c->y * sn, c->x * sn + c->y * cs, c->sigma, c->q,
+                pn_density(c->pn, phi), c->pi, c->pq, out);
+}
+
+/* ---- the matrix ------------------------------------------------------ */
+
+qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
+                        qc_dmc **out, double *quad_err)
+{
+    *out = NULL;
+    if (!c || !noise || !q)
+        return qc_fail(QC_EINVAL, "iq channel: missing constellation, noise or cells");
+    if (!(noise->sigma > 0.0) || !isfinite(noise->sigma))
+        return qc_fail(QC_EINVAL, "iq channel: sigma must be a number > 0 (got %g)",
+                       noise->sigma);
+    if (!(noise->phase_sd >= 0.0) || !(noise->phase_sd <= 2.0 * M_PI))
+        return qc_fail(QC_EINVAL, "phase-noise-deg: must be from 0 to 360 degrees (got %g)",
+                       noise->phase_sd * 180.0 / M_PI);
+    qc_status st = check_cells(q);
+    if (st != QC_OK)
+        return st;
+    size_t k = qc_iq_cell_count(q);
+    qc_dmc *d = NULL;
+    if ((st = qc_dmc_alloc(c->size, k, &d)) != QC_OK)
+        return st;
+    phase_noise pn;
+    int with_pn = noise->phase_sd > 0.0;
+    if (with_pn && (st = pn_init(&pn, noise)) != QC_OK) {
+        qc_dmc_free(d);
+        return st;
+    }
+    size_t nmax = q->nti + q->ntq + 2 + q->nradii + 1;
+    double *pi = qc_malloc_array(nmax, sizeof *pi), *pq = pi ? pi + q->nti + 1 : NULL;
+    double *tmp = qc_malloc_array(k, sizeof *tmp);
+    vquad v = {gsl_integration_glfixed_table_alloc(GL_NODES), qc_malloc_array(k, sizeof(double)),
+               qc_malloc_array(k, sizeof(double)), qc_malloc_array(k, sizeof(double)), k};
+    double err = 0.0;
+    if (!pi || !tmp || !v.gl || !v.acc || !v.prev || !v.val)
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    for (size_t i = 0; st == QC_OK && i < c->size; i++) {
+        double *row = d->p + i * k;
+        if (q->kind == QC_IQ_PRODUCT && !with_pn) {
+            product_row(c->x[i], c->y[i], noise->sigma, q, 1.0, pi, pq, row);
+        } else if (q->kind == QC_IQ_PRODUCT) {
+            product_ctx pc = {q, c->x[i], c->y[i], noise->sigma, &pn, pi, pq};
+            double s = hypot(c->x[i], c->y[i]);
+            double width = fmin(noise->phase_sd, s > 0.0 ? noise->sigma / s : 1.0);
+            v.nvec = k;
+            st = vquad_run(&v, product_pn, &pc, -pn.window, 0.0, fmax(width, 1e-6), row, &err);
+            if (st == QC_OK)
+                st = vquad_run(&v, product_pn, &pc, 0.0, pn.window, fmax(width, 1e-6), row,
+                               &err);
+        } else {
+            st = polar_row(&v, q, c->x[i], c->y[i], noise->sigma, with_pn ? &pn : NULL, row,
+                           tmp, &err);
+        }
+        if (st == QC_OK) {
+            /* rounding can leave a sum 1 ± 1e-15 and tiny negatives */
+            double sum = 0.0;
+            for (size_t y = 0; y < k; y++) {
+                row[y] = fmax(row[y], 0.0);
+                sum += row[y];
+            }
+            if (fabs(sum - 1.0) > 1e3 * QC_IQ_QUAD_TOL * (double)k)
+                st = qc_fail(QC_ENUMERIC, "iq channel: the cells of point %zu sum to %.15g",
+                             i + 1, sum);
+            for (size_t y = 0; st == QC_OK && y < k; y++)
+                row[y] /= sum;
+        }
+    }
+    free(pi);
+    free(tmp);
+    free(v.acc), free(v.prev), free(v.val);
+    if (v.gl)
+        gsl_integration_glfixed_table_free(v.gl);
+    if (with_pn) {
+        free(pn.cdf);
+    }
+    if (st != QC_OK) {
+        qc_dmc_free(d);
+        return st;
+    }
+    if (quad_err)
+        *quad_err = err;
+    *out = d;
+    return QC_OK;
+}

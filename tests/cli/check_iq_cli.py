@@ -1,0 +1,300 @@
+#!/usr/bin/python3
+"""Two-dimensional constellations and coherent receivers through
+`quantcap iq` (the bad-input paths are cases in tests/bad_inputs/cases.tsv).
+
+Usage: check_iq_cli.py PATH/TO/quantcap
+References, named beside each check: square QAM through `quantcap design`
+(two independent PAMs, docs/alphabets.md); scipy.integrate (Debian
+python3-scipy) for two-dimensional integrals of the Gaussian density over
+rectangles and polar cells; scipy.stats.rice for the amplitude (Rice,
+Bell Syst. Tech. J. 1944); seeded numpy Monte-Carlo with binomial
+confidence intervals."""
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+
+import numpy as np
+from scipy import integrate
+from scipy.stats import norm, rice
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+from checklib import Tally  # noqa: E402
+
+QC = sys.argv[1]
+tally = Tally()
+check = tally.check
+
+TOL_EXACT = 1e-12      # same channel computed two ways in double precision (bits)
+TOL_CELL = 1e-8        # a cell probability against scipy's 2-D quadrature (epsabs 1e-11)
+TOL_MI_QUAD = 1e-8     # an MI from scipy-integrated cells (bits)
+TOL_UNQ = 1e-8         # unquantized MI: Gauss-Hermite against design's quadrature (bits)
+MC_SAMPLES = 2_000_000 # Monte-Carlo draws per point
+MC_Z = 5.0             # half-width of each cell's interval in binomial standard
+                       # deviations: two-sided miss probability 5.7e-7 per cell
+MC_SEED = 20260102
+
+
+def iq(*args):
+    p = subprocess.run([QC, "iq", *args, "--json"], capture_output=True, text=True)
+    check(p.returncode == 0, f"iq {' '.join(args)}: exit {p.returncode} ({p.stderr.strip()})")
+    try:
+        return json.loads(p.stdout)
+    except ValueError:
+        check(False, f"iq {' '.join(args)}: output is JSON")
+        return {"receivers": [{}]}
+
+
+def mi_bits(P, law):
+    """I(X;Y) in bits of a transition matrix P under the law."""
+    P = np.asarray(P)
+    q = law @ P
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.where(P > 0, P * np.log2(P / q), 0.0)
+    return float(law @ t.sum(axis=1))
+
+
+def points_of(spec_rings):
+    """APSK points from [(radius, count, offset_deg)], as quantcap builds them."""
+    pts = []
+    for r, n, off in spec_rings:
+        for j in range(n):
+            ph = math.radians(off) + 2 * math.pi * j / n
+            pts.append((r * math.cos(ph), r * math.sin(ph)))
+    return np.array(pts)
+
+
+# ---- 1. square QAM as points reproduces the product of two PAMs exactly ----
+# Reference: quantcap design on qam:16 (one quadrature, doubled; exact
+# chain rule for MI and Gray-labelled GMI, docs/alphabets.md).
+for snr, thr in ((12, "-2,0,2"), (6, "-2.5,-1,0,1.3,2.5")):
+    d = subprocess.run([QC, "design", "--model", "gauss", "--snr-db", str(snr), "--alphabet",
+                        "qam:16", "--quantizer", "fixed", "--thresholds", thr, "--objective",
+                        "gmi", "--json"], capture_output=True, text=True)
+    dj = json.loads(d.stdout)
+    dm = json.loads(subprocess.run([QC, "design", "--model", "gauss", "--snr-db", str(snr),
+                                    "--alphabet", "qam:16", "--quantizer", "fixed",
+                                    "--thresholds", thr, "--json"],
+                                   capture_output=True, text=True).stdout)
+    r = iq("--alphabet", "qam:16", "--snr-db", str(snr), "--thresholds", thr)
+    rx = r["receivers"][0]
+    tally.near(f"qam:16 {snr} dB thresholds {thr}: MI against design", rx["mi_bits"],
+               dj["mi_bits"], TOL_EXACT)
+    tally.near(f"qam:16 {snr} dB thresholds {thr}: GMI against design", rx["gmi_bits"],
+               dj["gmi_bits"], TOL_EXACT)
+    tally.near(f"qam:16 {snr} dB: unquantized MI against design's quadrature",
+               r["unquantized_mi_bits"], dm["unquantized_bits"], TOL_UNQ)
+    # the same points from a file, shuffled, with their Gray labels written out
+    h = 4
+    rows = []
+    for i in range(h):
+        for q in range(h):
+            g = lambda k: k ^ (k >> 1)  # noqa: E731
+            rows.append(f"{2 * i - h + 1} {2 * q - h + 1} - {g(i):02b}{g(q):02b}")
+    rows = rows[5:] + rows[:5]
+    with tempfile.NamedTemporaryFile("w", suffix=".txt", delete=False) as f:
+        f.write("# 16-QAM, Gray labels, uniform law\n" + "\n".join(rows) + "\n")
+        path = f.name
+    rf = iq("--constellation", path, "--snr-db", str(snr), "--thresholds", thr)
+    os.unlink(path)
+    tally.near(f"qam:16 as a file {snr} dB: MI against design", rf["receivers"][0]["mi_bits"],
+               dj["mi_bits"], TOL_EXACT)
+    tally.near(f"qam:16 as a file {snr} dB: GMI against design", rf["receivers"][0]["gmi_bits"],
+               dj["gmi_bits"], TOL_EXACT)
+    check(rf["labelling"] == "given", "a file's labels are used as given")
+
+# ---- 2. APSK through an I/Q pair against scipy 2-D integration ------------
+# Reference: scipy.integrate.dblquad of the circular Gaussian density over
+# each rectangle (an independent two-dimensional integration, not the
+# product of CDFs).
+rings = [(1.0, 4, 45.0), (2.6, 12, 15.0)]
+spec = "apsk:1/4/45,2.6/12/15"
+thr_i = [-1.8, -0.5, 0.5, 1.8]
+thr_q = [-1.2, 0.0, 1.2]
+r = iq("--alphabet", spec, "--sigma", "0.45", "--thresholds", ",".join(map(str, thr_i)),
+       "--thresholds-q", ",".join(map(str, thr_q)), "--matrix")
+rx = r["receivers"][0]
+pts = points_of(rings)
+sig = 0.45
+ei = [-np.inf] + thr_i + [np.inf]
+eq = [-np.inf] + thr_q + [np.inf]
+P = np.zeros((len(pts), (len(ei) - 1) * (len(eq) - 1)))
+worst = 0.0
+for k, (x, y) in enumerate(pts):
+    for a in range(len(ei) - 1):
+        for b in range(len(eq) - 1):
+            lo_x, hi_x = max(ei[a], x - 12 * sig), min(ei[a + 1], x + 12 * sig)
+            lo_y, hi_y = max(eq[b], y - 12 * sig), min(eq[b + 1], y + 12 * sig)
+            if lo_x >= hi_x or lo_y >= hi_y:
+                continue
+            v, _ = integrate.dblquad(
+                lambda v_, u_: math.exp(-((u_ - x) ** 2 + (v_ - y) ** 2) / (2 * sig * sig))
+                / (2 * math.pi * sig * sig), lo_x, hi_x, lo_y, hi_y, epsabs=1e-11, epsrel=1e-10)
+            P[k, a * (len(eq) - 1) + b] = v
+    worst = max(worst, float(np.max(np.abs(P[k] - np.array(rx["channel"][k])))))
+check(worst <= TOL_CELL, f"APSK I/Q cells against scipy dblquad: largest |diff| {worst:.2e}")
+law = np.full(len(pts), 1.0 / len(pts))
+tally.near("APSK 4+12 through a 5 x 4 I/Q pair: MI against scipy dblquad cells",
+           rx["mi_bits"], mi_bits(P, law), TOL_MI_QUAD)
+check(rx["gmi_bits"] <= rx["mi_bits"] + 1e-12, "GMI <= MI (Caire et al. 1998)")
+check(r["labelling"] == "searched", "APSK 4+12 has no Gray labels: they are searched")
+
+# ---- 3. polar cells: scipy polar integration, Rice, Monte-Carlo ----------
+radii = [0.7, 1.3]
+phases_deg = [-30.0, 40.0, 150.0, 260.0]
+r = iq("--alphabet", "psk:8", "--sigma", "0.3", "--iq-quantizer", "polar",
+       "--amplitude-thresholds", ",".join(map(str, radii)), "--phase-thresholds-deg",
+       ",".join(map(str, phases_deg)), "--matrix")
+rx = r["receivers"][0]
+M = np.array(rx["channel"])
+pts = points_of([(1.0, 8, 0.0)])
+sig = 0.3
+redges = [0.0] + radii + [np.inf]
+ph = [math.radians(d) for d in phases_deg]
+sectors = [(ph[p], ph[p + 1] if p + 1 < len(ph) else ph[0] + 2 * math.pi) for p in range(len(ph))]
+worst = 0.0
+for k in (0, 3):  # two points: one inside a wide sector, one near a boundary
+    x, y = pts[k]
+    for a in range(3):
+        for p, (t0, t1) in enumerate(sectors):
+            r1 = min(redges[a + 1], math.hypot(x, y) + 12 * sig)
+            # Reference: scipy dblquad of r·f(r cos t, r sin t) over the polar cell
+            v, _ = integrate.dblquad(
+                lambda rr, t: rr * math.exp(-((rr * math.cos(t) - x) ** 2 +
+                                               (rr * math.sin(t) - y) ** 2) / (2 * sig * sig))
+                / (2 * math.pi * sig * sig), t0, t1, redges[a], r1, epsabs=1e-11, epsrel=1e-10)
+            worst = max(worst, abs(v - M[k, a * len(sectors) + p]))
+check(worst <= TOL_CELL, f"polar cells against scipy dblquad: largest |diff| {worst:.2e}")
+# Reference: with one sector the rings are amplitude intervals: the Rice law
+# (scipy.stats.rice, shape |x|/sigma), i.e. Marcum Q differences.
+r1 = iq("--alphabet", "apsk:1/4,2.5/8", "--sigma", "0.6", "--iq-quantizer", "polar",
+        "--amplitude-thresholds", "0.8,1.7,2.9", "--phase-thresholds-deg", "0", "--matrix")
+M1 = np.array(r1["receivers"][0]["channel"])
+edges = [0.0, 0.8, 1.7, 2.9, np.inf]
+worst = 0.0
+for k, s in enumerate([1.0] * 4 + [2.5] * 8):
+    for a in range(4):
+        want = rice.sf(edges[a] / 0.6, s / 0.6) - rice.sf(edges[a + 1] / 0.6, s / 0.6)
+        worst = max(worst, abs(want - M1[k, a]))
+check(worst <= 1e-11, f"amplitude rings against scipy.stats.rice: largest |diff| {worst:.2e}")
+
+rng = np.random.default_rng(MC_SEED)
+
+
+def mc_cells(x, y, sig, n, pn_sd=0.0, law="gauss", cells=None):
+    """Seeded Monte-Carlo of y = (x + n)·e^{jφ}; returns cell counts."""
+    z = (x + rng.normal(0, sig, n)) + 1j * (y + rng.normal(0, sig, n))
+    if pn_sd > 0:
+        phi = rng.normal(0, pn_sd, n) if law == "gauss" else rng.vonmises(0, 1 / pn_sd ** 2, n)
+        z = z * np.exp(1j * phi)
+    return cells(z)
+
+
+def polar_index(z, redges, ph):
+    a = np.searchsorted(np.array(redges[1:-1]), np.abs(z), side="right")
+    ang = np.mod(np.angle(z) - ph[0], 2 * np.pi)
+    p = np.searchsorted(np.array(ph) - ph[0], ang, side="right") - 1
+    return a * len(ph) + p
+
+
+def mc_check(what, probs, counts, n):
+    """Every cell within MC_Z binomial standard deviations (plus one count)."""
+    phat = counts / n
+    half = MC_Z * np.sqrt(np.asarray(probs) * (1 - np.asarray(probs)) / n) + 1.0 / n
+    bad = np.abs(phat - probs) > half
+    check(not bad.any(), f"{what}: Monte-Carlo ({n} draws, seed {MC_SEED}, each cell within "
+          f"{MC_Z} binomial sd): {int(bad.sum())} cells outside")
+
+
+K = 3 * len(sectors)
+for k in (0, 3):
+    idx = mc_cells(*pts[k], sig, MC_SAMPLES, cells=lambda z: polar_index(z, redges, ph))
+    mc_check(f"polar cells of 8-PSK point {k + 1}", M[k], np.bincount(idx, minlength=K), MC_SAMPLES)
+
+# ---- 4. phase noise: Monte-Carlo for both laws and both receivers -------
+for law in ("gauss", "tikhonov"):
+    sd = 12.0
+    r = iq("--alphabet", "psk:8", "--sigma", "0.2", "--iq-quantizer", "polar",
+           "--amplitude-thresholds", ",".join(map(str, radii)), "--phase-thresholds-deg",
+           ",".join(map(str, phases_deg)), "--phase-noise-deg", str(sd), "--phase-noise-law",
+           law, "--matrix")
+    Mp = np.array(r["receivers"][0]["channel"])
+    idx = mc_cells(*pts[1], 0.2, MC_SAMPLES, math.radians(sd), law,
+                   cells=lambda z: polar_index(z, redges, ph))
+    mc_check(f"polar cells, {law} phase error {sd} deg", Mp[1], np.bincount(idx, minlength=K),
+             MC_SAMPLES)
+    r = iq("--alphabet", "qam:16", "--sigma", "0.4", "--thresholds", "-2,0,2",
+           "--phase-noise-deg", str(sd), "--phase-noise-law", law, "--matrix")
+    Mq = np.array(r["receivers"][0]["channel"])
+    if law == "gauss":
+        Mq_gauss = Mq
+    t = np.array([-2.0, 0.0, 2.0])
+    x0, y0 = 3.0, 1.0  # point (i, q) = (3, 2): index 14
+    idx = mc_cells(x0, y0, 0.4, MC_SAMPLES, math.radians(sd), law,
+                   cells=lambda z: np.searchsorted(t, z.real) * 4 + np.searchsorted(t, z.imag))
+    mc_check(f"I/Q cells, {law} phase error {sd} deg", Mq[14], np.bincount(idx, minlength=16),
+             MC_SAMPLES)
+# Reference: scipy.integrate.quad over the Gaussian phase error of the
+# rotated point's product-cell probability (norm.cdf differences).
+sd = math.radians(12.0)
+worst = 0.0
+for c in range(16):
+    a, b = divmod(c, 4)
+    e = [-np.inf, -2.0, 0.0, 2.0, np.inf]
+
+    def cell(phi):
+        u = x0 * math.cos(phi) - y0 * math.sin(phi)
+        v = x0 * math.sin(phi) + y0 * math.cos(phi)
+        return ((norm.cdf((e[a + 1] - u) / 0.4) - norm.cdf((e[a] - u) / 0.4)) *
+                (norm.cdf((e[b + 1] - v) / 0.4) - norm.cdf((e[b] - v) / 0.4)) *
+                norm.pdf(phi / sd) / sd)
+    v, _ = integrate.quad(cell, -12 * sd, 12 * sd, epsabs=1e-13, epsrel=1e-11, limit=200)
+    worst = max(worst, abs(v - Mq_gauss[14][c]))
+check(worst <= 1e-10, f"I/Q cells with phase error against scipy quad: largest |diff| {worst:.2e}")
+
+# ---- 5. which receiver keeps more rate -----------------------------------
+# Strong phase noise on 8-PSK: the polar quantizer (phase sectors) wins
+# over an I/Q pair with as many cells (16); without phase noise, 16-QAM is
+# served better by the 4 x 4 I/Q pair than by 2 x 8 polar cells.
+r = iq("--alphabet", "psk:8", "--snr-db", "14", "--compare", "--cells", "4",
+       "--amplitude-cells", "2", "--phase-cells", "8", "--phase-noise-deg", "10", "--uniform")
+check(r.get("better_receiver") == "polar",
+      f"8-PSK, 10 deg phase error: polar keeps more ({r.get('better_receiver')}, "
+      f"by {r.get('better_by_bits')})")
+r = iq("--alphabet", "qam:16", "--snr-db", "14", "--compare", "--cells", "4",
+       "--amplitude-cells", "2", "--phase-cells", "8", "--uniform")
+check(r.get("better_receiver") == "product",
+      f"16-QAM, no phase error: the I/Q pair keeps more ({r.get('better_receiver')}, "
+      f"by {r.get('better_by_bits')})")
+
+# ---- 6. design and labels -------------------------------------------------
+r = iq("--alphabet", "apsk:1/4,2.7/12", "--snr-db", "12", "--cells", "6", "--capacity")
+rx = r["receivers"][0]
+check(rx["mi_bits"] >= rx["start_bits"] - 1e-12,
+      f"designed I/Q thresholds keep at least the uniform start's MI ({rx['mi_bits']} vs "
+      f"{rx['start_bits']})")
+check(rx["upper_bound_bits"] >= rx["capacity_bits"] >= rx["mi_bits"] - 1e-9,
+      "certified capacity bounds bracket the capacity, which is at least the MI")
+check(rx["mi_bits"] <= r["unquantized_mi_bits"] + 1e-9,
+      "quantized MI at most the unquantized MI (data processing)")
+r = iq("--alphabet", "psk:8", "--snr-db", "10", "--iq-quantizer", "polar",
+       "--amplitude-cells", "2", "--phase-cells", "8", "--objective", "gmi")
+rx = r["receivers"][0]
+check(rx["gmi_bits"] >= rx["start_bits"] - 1e-12, "designed polar cells keep at least the "
+      "uniform start's GMI")
+g = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform")
+s = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform", "--search-labels")
+# Binary switching from the Gray labels (Schreckenbach et al. 2003) never
+# raises the cost; the Gray labelling is a local optimum of that cost.
+check(s["label_cost"] <= g["label_cost"] + 1e-12,
+      f"searched labels cost no more than Gray ({s['label_cost']} vs {g['label_cost']})")
+h = iq("--alphabet", "hex:16", "--snr-db", "12", "--cells", "6", "--uniform")
+check(h["labelling"] == "searched" and h["label_bits"] == 4, "hex:16 gets 4-bit searched labels")
+hx = h["receivers"][0]
+check(0.8 * hx["mi_bits"] <= hx["gmi_bits"] <= hx["mi_bits"] + 1e-12,
+      f"hex:16 searched labels keep most of the MI as GMI ({hx['gmi_bits']} of {hx['mi_bits']})")
+
+print(f"iq-cli: {tally.count} checks, {len(tally.failures)} failed")
+sys.exit(1 if tally.failures else 0)
