@@ -42,11 +42,13 @@
  * The bounds are computed at every iterate exactly as in plain BA, so
  * the certificate does not depend on how the iterate was produced.
  *
- * One iteration is one streaming pass over the matrix: row x is read
- * once to form D_x = −H(P_x) − Σ_y P(y|x) log q(y) (row entropies are
- * prepared once per channel) and, while it is in cache, added with the
- * weight of the next iterate into that iterate's output law. Only the
- * span of columns holding a row's nonzero entries is visited. */
+ * One iteration reads the matrix from memory once (kernels.c): once a
+ * step has fixed the next law r', one sweep over column blocks forms
+ * q = r'P on a block, its logarithm, and every row's Σ_y P(y|x) log q(y)
+ * on that block while the block's rows are still in cache; the scores
+ * D_x = −H(P_x) − that sum (row entropies prepared once per channel)
+ * and the next step need no further pass. Only the span of columns
+ * holding a row's nonzero entries is visited. */
 #include "capacity/engine.h"
 
 #include <math.h>
