@@ -170,7 +170,7 @@ void ba_prepare(qc_ba_workspace *ws, const qc_dmc *dmc)
         double sum = 0.0, plogp = 0.0;
         for (size_t b = lo; b < hi; b += ws->ny_max) {
             size_t e = hi - b > ws->ny_max ? b + ws->ny_max : hi;
-            ba_log_floored(row + b, ws->logq, e - b, 0.0);
+            qc_log_floored(row + b, ws->logq, e - b, 0.0);
             for (size_t y = b; y < e; y++) {
                 sum += row[y];
                 plogp += row[y] * ws->logq[y - b];

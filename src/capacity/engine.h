@@ -83,10 +83,6 @@ void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out);
 void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
                   const double *coef, double log_floor);
 
-/* out[i] = log in[i] where in[i] > 0, `floor` where in[i] = 0 (in ≥ 0),
- * with glibc's vector logarithm where it is available. */
-void ba_log_floored(const double *in, double *out, size_t n, double floor);
-
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res
  * and leaves the final law in ws->r. */

@@ -16,7 +16,6 @@
  * every x86-64 processor. */
 #include "capacity/engine.h"
 
-#include <math.h>
 #include <string.h>
 
 /* Column blocks hold 64 to 512 doubles (0.5 to 4 KiB) of the output
@@ -125,36 +124,6 @@ static void piece(const qc_ba_workspace *ws, size_t x, size_t a, size_t b,
         out[x] += dot1(row + a, v + a, b - a);
 }
 
-#if defined(QC_HAVE_LIBMVEC) && defined(__x86_64__) && defined(__SSE2__)
-#include <emmintrin.h>
-/* glibc's vector logarithm, two lanes (libmvec, the x86-64 vector
- * function ABI; an ifunc picks the best code for the processor). Its
- * error is below 4 ulp, as glibc documents for libmvec. */
-__m128d _ZGVbN2v_log(__m128d x);
-#endif
-
-/* out[i] = log in[i] for in[i] > 0, `floor` where in[i] = 0 (in ≥ 0).
- * Normal numbers go two at a time through the vector logarithm. */
-void ba_log_floored(const double *in, double *out, size_t n, double floor)
-{
-    size_t i = 0;
-#if defined(QC_HAVE_LIBMVEC) && defined(__x86_64__) && defined(__SSE2__)
-    const __m128d tiny = _mm_set1_pd(0x1p-1022);
-    for (; i + 2 <= n; i += 2) {
-        __m128d v = _mm_loadu_pd(in + i);
-        /* subnormal or zero lanes take the scalar path */
-        if (_mm_movemask_pd(_mm_cmplt_pd(v, tiny)) != 0) {
-            for (size_t k = i; k < i + 2; k++)
-                out[k] = in[k] > 0.0 ? log(in[k]) : floor;
-            continue;
-        }
-        _mm_storeu_pd(out + i, _ZGVbN2v_log(v));
-    }
-#endif
-    for (; i < n; i++)
-        out[i] = in[i] > 0.0 ? log(in[i]) : floor;
-}
-
 /* The matrix part a block of L2_BUDGET bytes of rows keeps in the
  * second-level cache between the output-law and the score sweeps of one
  * block (256 KiB: half of the smallest second-level cache of current
@@ -227,7 +196,7 @@ void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
     for (size_t b0 = 0; b0 < ny; b0 += width) {
         const size_t b1 = ny - b0 > width ? b0 + width : ny;
         block_sweep(ws, rows, nrows, coef, NULL, ws->q, b0, b1);
-        ba_log_floored(ws->q + b0, ws->logq + b0, b1 - b0, log_floor);
+        qc_log_floored(ws->q + b0, ws->logq + b0, b1 - b0, log_floor);
         block_sweep(ws, NULL, nx, NULL, ws->logq, ws->dsum, b0, b1);
     }
 }
