@@ -262,9 +262,10 @@ static double ba_pass(qc_ba_workspace *ws, const ba_tilt *tilt,
         } else {
             ws->boost[x] = 1.0;
             ws->trend[x] = 0.0;
-            t = log(ws->r[x]) + mu * a;
+            const double lr = log(ws->r[x]);
+            t = lr + mu * a;
             if (beta > 0.0 && ws->r_prev[x] > 0.0)
-                t += beta * (log(ws->r[x]) - log(ws->r_prev[x]));
+                t += beta * (lr - log(ws->r_prev[x]));
         }
         if (k == 0)
             t_floor = t - rule->floor;
