@@ -42,11 +42,13 @@
  * The bounds are computed at every iterate exactly as in plain BA, so
  * the certificate does not depend on how the iterate was produced.
  *
- * One iteration is one streaming pass over the matrix: row x is read
- * once to form D_x = −H(P_x) − Σ_y P(y|x) log q(y) (row entropies are
- * prepared once per channel) and, while it is in cache, added with the
- * weight of the next iterate into that iterate's output law. Only the
- * span of columns holding a row's nonzero entries is visited. */
+ * One iteration reads the matrix from memory once (kernels.c): once a
+ * step has fixed the next law r', one sweep over column blocks forms
+ * q = r'P on a block, its logarithm, and every row's Σ_y P(y|x) log q(y)
+ * on that block while the block's rows are still in cache; the scores
+ * D_x = −H(P_x) − that sum (row entropies prepared once per channel)
+ * and the next step need no further pass. Only the span of columns
+ * holding a row's nonzero entries is visited. */
 #include "capacity/engine.h"
 
 #include <math.h>
@@ -103,17 +105,18 @@ qc_status qc_ba_workspace_alloc(size_t nx, size_t ny, qc_ba_workspace **out)
     double **by_x[] = {&ws->inv_sum, &ws->neg_entropy, &ws->r,      &ws->d,
                        &ws->a,       &ws->t,           &ws->r_best, &ws->a_best,
                        &ws->r_prev,  &ws->a_prev,      &ws->r_lo,   &ws->r_hi,
-                       &ws->boost,   &ws->trend};
+                       &ws->boost,   &ws->trend,       &ws->coef,   &ws->dsum};
     for (size_t i = 0; i < sizeof by_x / sizeof by_x[0]; i++)
         if (!(*by_x[i] = qc_malloc_array(nx, sizeof(double))))
             goto fail;
-    double **by_y[] = {&ws->q, &ws->q_next, &ws->logq};
+    double **by_y[] = {&ws->q, &ws->logq};
     for (size_t i = 0; i < sizeof by_y / sizeof by_y[0]; i++)
         if (!(*by_y[i] = qc_malloc_array(ny, sizeof(double))))
             goto fail;
     ws->lo = qc_malloc_array(nx, sizeof *ws->lo);
     ws->hi = qc_malloc_array(nx, sizeof *ws->hi);
-    if (!ws->lo || !ws->hi)
+    ws->rows = qc_malloc_array(nx, sizeof *ws->rows);
+    if (!ws->lo || !ws->hi || !ws->rows)
         goto fail;
     *out = ws;
     return QC_OK;
@@ -142,10 +145,12 @@ void qc_ba_workspace_free(qc_ba_workspace *ws)
     free(ws->r_lo);
     free(ws->r_hi);
     free(ws->q);
-    free(ws->q_next);
+    free(ws->dsum);
     free(ws->logq);
     free(ws->lo);
     free(ws->hi);
+    free(ws->rows);
+    free(ws->coef);
     free(ws);
 }
 
@@ -161,11 +166,15 @@ void ba_prepare(qc_ba_workspace *ws, const qc_dmc *dmc)
             lo++;
         while (hi > lo && row[hi - 1] == 0.0)
             hi--;
+        /* the logarithms a block at a time into logq (free here) */
         double sum = 0.0, plogp = 0.0;
-        for (size_t y = lo; y < hi; y++) {
-            sum += row[y];
-            if (row[y] > 0.0)
-                plogp += row[y] * log(row[y]);
+        for (size_t b = lo; b < hi; b += ws->ny_max) {
+            size_t e = hi - b > ws->ny_max ? b + ws->ny_max : hi;
+            qc_log_floored(row + b, ws->logq, e - b, 0.0);
+            for (size_t y = b; y < e; y++) {
+                sum += row[y];
+                plogp += row[y] * ws->logq[y - b];
+            }
         }
         /* qc_dmc_check guarantees sum ≥ 1 − QC_DMC_ROW_TOL, so lo < hi. */
         ws->lo[x] = lo;
@@ -175,58 +184,24 @@ void ba_prepare(qc_ba_workspace *ws, const qc_dmc *dmc)
     }
 }
 
-/* q = r·P over the renormalized rows (one pass). */
-static void output_law(qc_ba_workspace *ws, const double *r, double *q);
-
-/* Σ a[i]·b[i] with four partial sums, so that the loop is not bound by
- * the latency of one chain of additions. */
-static double dot(const double *restrict a, const double *restrict b, size_t n)
+/* The sweep after a new law is chosen (weights in ws->coef, already
+ * divided by the row sums): q, log q and the row sums against log q
+ * for the next scores, in one pass (ba_sweep_law). */
+static void law_sweep(qc_ba_workspace *ws)
 {
-    double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
-    size_t i = 0;
-    for (; i + 4 <= n; i += 4) {
-        s0 += a[i] * b[i];
-        s1 += a[i + 1] * b[i + 1];
-        s2 += a[i + 2] * b[i + 2];
-        s3 += a[i + 3] * b[i + 3];
-    }
-    for (; i < n; i++)
-        s0 += a[i] * b[i];
-    return (s0 + s1) + (s2 + s3);
+    size_t n = 0;
+    for (size_t x = 0; x < ws->nx; x++)
+        if (ws->coef[x] > 0.0)
+            ws->rows[n++] = x;
+    ba_sweep_law(ws, ws->rows, n, ws->coef, LOG_Q_FLOOR);
 }
 
-/* y[i] += c·x[i], unrolled by four so that the compiler pairs the
- * lanes into vector instructions at -O2. */
-static void axpy(double c, const double *restrict x, double *restrict y, size_t n)
+/* q = r·P over the renormalized rows, with log q and the row sums. */
+static void output_law(qc_ba_workspace *ws)
 {
-    size_t i = 0;
-    for (; i + 4 <= n; i += 4) {
-        y[i] += c * x[i];
-        y[i + 1] += c * x[i + 1];
-        y[i + 2] += c * x[i + 2];
-        y[i + 3] += c * x[i + 3];
-    }
-    for (; i < n; i++)
-        y[i] += c * x[i];
-}
-
-/* q = r·P over the renormalized rows (one pass). */
-static void output_law(qc_ba_workspace *ws, const double *r, double *q)
-{
-    memset(q, 0, ws->ny * sizeof *q);
-    for (size_t x = 0; x < ws->nx; x++) {
-        if (!(r[x] > 0.0))
-            continue;
-        size_t lo = ws->lo[x];
-        axpy(r[x] * ws->inv_sum[x], ws->p + x * ws->ny + lo, q + lo,
-             ws->hi[x] - lo);
-    }
-}
-
-static void log_output_law(qc_ba_workspace *ws)
-{
-    for (size_t y = 0; y < ws->ny; y++)
-        ws->logq[y] = ws->q[y] > 0.0 ? log(ws->q[y]) : LOG_Q_FLOOR;
+    for (size_t x = 0; x < ws->nx; x++)
+        ws->coef[x] = ws->r[x] > 0.0 ? ws->r[x] * ws->inv_sum[x] : 0.0;
+    law_sweep(ws);
 }
 
 /* How the pass forms the next iterate (see ba_pass). */
@@ -237,11 +212,11 @@ typedef struct {
     double center; /* objective at the previous iterate; NAN: no tail boost */
 } step_rule;
 
-/* The streaming pass at the law ws->r with ws->logq ready: fills d and
- * the scores a. When rule->mu > 0 it also forms the next iterate
+/* The scores at the law ws->r from the row sums of its law sweep:
+ * fills d and a. When rule->mu > 0 it also forms the next iterate
  *     log r'(x) = log r(x) + mu·a_x + beta·(log r(x) − log r_prev(x)) + const
- * as log-weights t (r'(x) = exp(t_x − *shift) / returned sum) and
- * ws->q_next = r'P times the returned sum. Inputs in the tail (weight
+ * as log-weights t (r'(x) = exp(t_x − *shift) / returned sum) and the
+ * sweep weights r'(x)/rowsum(x) in ws->coef. Inputs in the tail (weight
  * below TAIL_REL of the most probable one) move instead by
  * mu·boost_x·(a_x − center), at most TAIL_STEP nats, where boost_x
  * doubles while the sign of a_x − center persists: they barely touch q,
@@ -249,29 +224,28 @@ typedef struct {
 static double ba_pass(qc_ba_workspace *ws, const ba_tilt *tilt,
                       const step_rule *rule, double *shift)
 {
-    const size_t nx = ws->nx, ny = ws->ny;
+    const size_t nx = ws->nx;
     const double mu = rule->mu, beta = rule->beta;
-    double m = -INFINITY, wsum = 0.0, t_floor = -INFINITY, tail = 0.0;
-    size_t first = 0;
-    if (mu > 0.0) {
-        memset(ws->q_next, 0, ny * sizeof *ws->q_next);
-        for (size_t x = 1; x < nx; x++)
-            if (ws->r[x] > ws->r[first])
-                first = x;
-        if (!isnan(rule->center))
-            tail = TAIL_REL * ws->r[first];
+    /* ws->dsum holds Σ_y P(y|x) log q(y) from the last law sweep */
+    for (size_t x = 0; x < nx; x++) {
+        double d = ws->neg_entropy[x] - ws->dsum[x] * ws->inv_sum[x];
+        ws->d[x] = d;
+        ws->a[x] = tilt->costs ? d - tilt->s * (tilt->costs[x] - tilt->budget) : d;
     }
+    *shift = 0.0;
+    if (!(mu > 0.0))
+        return 0.0;
+    double m = -INFINITY, t_floor = -INFINITY, tail = 0.0;
+    size_t first = 0;
+    for (size_t x = 1; x < nx; x++)
+        if (ws->r[x] > ws->r[first])
+            first = x;
+    if (!isnan(rule->center))
+        tail = TAIL_REL * ws->r[first];
     /* the most probable input first: its log-weight anchors the floor */
     for (size_t k = 0; k < nx; k++) {
         const size_t x = k == 0 ? first : (k <= first ? k - 1 : k);
-        const size_t lo = ws->lo[x], n = ws->hi[x] - lo;
-        const double *row = ws->p + x * ny + lo;
-        double d = ws->neg_entropy[x] - dot(row, ws->logq + lo, n) * ws->inv_sum[x];
-        double a = tilt->costs ? d - tilt->s * (tilt->costs[x] - tilt->budget) : d;
-        ws->d[x] = d;
-        ws->a[x] = a;
-        if (!(mu > 0.0))
-            continue;
+        const double a = ws->a[x];
         if (!(ws->r[x] > 0.0)) {
             ws->t[x] = -INFINITY;
             continue;
@@ -288,28 +262,28 @@ static double ba_pass(qc_ba_workspace *ws, const ba_tilt *tilt,
         } else {
             ws->boost[x] = 1.0;
             ws->trend[x] = 0.0;
-            t = log(ws->r[x]) + mu * a;
+            const double lr = log(ws->r[x]);
+            t = lr + mu * a;
             if (beta > 0.0 && ws->r_prev[x] > 0.0)
-                t += beta * (log(ws->r[x]) - log(ws->r_prev[x]));
+                t += beta * (lr - log(ws->r_prev[x]));
         }
         if (k == 0)
             t_floor = t - rule->floor;
         else if (t < t_floor)
             t = t_floor;
         ws->t[x] = t;
-        if (t - m > RESCALE_AT) {
-            if (wsum > 0.0) {
-                double f = exp(m - t);
-                for (size_t y = 0; y < ny; y++)
-                    ws->q_next[y] *= f;
-                wsum *= f;
-            }
+        if (t > m)
             m = t;
-        }
-        double w = exp(t - m);
-        wsum += w;
-        axpy(w * ws->inv_sum[x], row, ws->q_next + lo, n);
     }
+    /* the next law's weights e^{t_x − m}, normalized and divided by the
+     * row sums, for take_step's sweep */
+    double wsum = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        ws->coef[x] = ws->r[x] > 0.0 ? exp(ws->t[x] - m) : 0.0;
+        wsum += ws->coef[x];
+    }
+    for (size_t x = 0; x < nx; x++)
+        ws->coef[x] *= ws->inv_sum[x] / wsum;
     *shift = m;
     return wsum;
 }
@@ -331,13 +305,12 @@ static void bounds(const qc_ba_workspace *ws, double *lower, double *upper)
     *lower = mx + log1p(acc);
 }
 
-/* ws->r ← exp(t − shift) / wsum; ws->q ← q_next / wsum. */
+/* ws->r ← exp(t − shift) / wsum, and the law sweep for it. */
 static void take_step(qc_ba_workspace *ws, double shift, double wsum)
 {
     for (size_t x = 0; x < ws->nx; x++)
         ws->r[x] = exp(ws->t[x] - shift) / wsum;
-    for (size_t y = 0; y < ws->ny; y++)
-        ws->q[y] = ws->q_next[y] / wsum;
+    law_sweep(ws);
 }
 
 /* ws->r ← plain BA step from the law r0 with scores a0: r0·e^{a0},
@@ -375,8 +348,7 @@ static double ascent_along_last_step(const qc_ba_workspace *ws)
 
 void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out)
 {
-    output_law(ws, ws->r, ws->q);
-    log_output_law(ws);
+    output_law(ws);
     double shift;
     step_rule scores_only = {0.0, 0.0, INFINITY, NAN};
     ba_pass(ws, tilt, &scores_only, &shift);
@@ -425,9 +397,8 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         ws->r_best[x] = ws->r[x]; /* in case the first pass fails */
         ws->a_best[x] = 0.0;
     }
-    output_law(ws, ws->r, ws->q);
+    output_law(ws);
     while (it < max_iterations) {
-        log_output_law(ws);
         double step = accelerated ? mu : 1.0;
         double beta = accelerated && streak > 0 ? (streak - 1.0) / (streak + 2.0) : 0.0;
         double shift;
@@ -465,7 +436,7 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             /* the bound fell: discard this iterate, plain step from the
              * last accepted one (plain BA never lowers the bound) */
             plain_step(ws, ws->r_prev, ws->a_prev);
-            output_law(ws, ws->r, ws->q);
+            output_law(ws);
             mu = 1.0;
             streak = 0;
             from_plain_step = 1;
@@ -478,7 +449,7 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             /* the last step points downhill here: drop the momentum and
              * the step size, take a plain step from this iterate */
             plain_step(ws, ws->r_prev, ws->a_prev);
-            output_law(ws, ws->r, ws->q);
+            output_law(ws);
             mu = 1.0;
             streak = 0;
             from_plain_step = 1;

@@ -28,8 +28,10 @@ struct qc_ba_workspace {
     double *trend;       /* nx: sign of their last score deviation      */
     double *r_lo, *r_hi; /* nx: laws at the ends of the multiplier bracket */
     double *q;           /* ny: output law rP                           */
-    double *q_next;      /* ny: output law of the proposed next law     */
     double *logq;        /* ny: log q, floored where q underflows       */
+    double *coef;        /* nx: r(x) / row sum: weights of the law sweep */
+    double *dsum;        /* nx: Σ_y P(y|x) log q(y) from the law sweep  */
+    size_t *rows;        /* nx: the rows a sweep visits                 */
 };
 
 /* Outcome of one run at a fixed multiplier s (all in nats). The run
@@ -73,6 +75,13 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
  * the law in ws->r (one pass to form q, one for D); out->upper becomes
  * the smaller of its value and max_x a_x. */
 void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out);
+
+/* The law sweep (kernels.c), one pass over the matrix: ws->q =
+ * Σ_x coef[x]·P(·|x) over the rows listed in rows[0..nrows), ws->logq =
+ * log q (log_floor where q = 0), and ws->dsum[x] = Σ_y P(y|x) log q(y)
+ * for every x. Only each row's span [lo, hi) is read. */
+void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
+                  const double *coef, double log_floor);
 
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res

@@ -35,4 +35,9 @@ qc_status qc_check_labels(const double *input, size_t nx, const size_t *labels,
  * one output: its share of H(B|Y), accurate when one value dominates. */
 double qc_bit_term(double p0, double p1);
 
+/* out[i] = log in[i] where in[i] > 0, `floor` where in[i] = 0 (in ≥ 0,
+ * finite): glibc's vector logarithm (libmvec, below 4 ulp) on normal
+ * numbers where the build has it, log(3) on the rest (vlog.c). */
+void qc_log_floored(const double *in, double *out, size_t n, double floor);
+
 #endif
