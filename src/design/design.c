@@ -2,11 +2,11 @@
  * request's strategy from the strategy table (uniform with optimized
  * range, fixed thresholds, Lloyd–Max, MI-optimal DP + refinement) for the
  * MI objective, or the alternation of thresholds and law (alternation.c)
- * for the capacity objective, and fills the result with the rate, its
- * certified upper bound, the unquantized reference for the same levels
- * and law and the loss (the limits on the rates and the SNR penalty
- * follow in rate_limits.c). The alphabet stages run around it
- * (input_design.c). */
+ * for the capacity objective, and fills the result with the rate and its
+ * certified upper bound (thresholds.c adds the unquantized reference for
+ * the same levels and law and the loss; the limits on the rates and the
+ * SNR penalty follow in rate_limits.c). The alphabet stages run around
+ * it (input_design.c). */
 #include "design/design_internal.h"
 
 #include <math.h>
@@ -159,31 +159,6 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
         return st;
     res->rate_bits = mi * QC_LOG2E;
     res->upper_bound_bits = res->rate_bits;
-    return QC_OK;
-}
-
-qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *costs,
-                               size_t ncosts, qc_design_result *res)
-{
-    if (req && req->quantizer.kind == QC_QUANTIZER_CONVERTER)
-        return qc_design_converter(req, costs, ncosts, res);
-    qc_status st = qc_design_thresholds_only(req, costs, ncosts, res);
-    if (st != QC_OK)
-        return st;
-    /* The unquantized reference for the same levels and final law. */
-    qc_design_result r = *res;
-    double unq, unq_err;
-    st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, r.nlevels, &unq,
-                                  &unq_err, &r.noiseless_limit);
-    if (st != QC_OK) {
-        qc_design_result_clear(res);
-        return st;
-    }
-    r.unquantized_bits = unq * QC_LOG2E;
-    r.unquantized_err_bits = unq_err * QC_LOG2E;
-    r.loss_bits = r.unquantized_bits - r.rate_bits;
-    r.snr_db = qc_model_snr_db(req->channel.model, r.levels, r.input, r.nlevels);
-    *res = r;
     return QC_OK;
 }
 

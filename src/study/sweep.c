@@ -60,22 +60,6 @@ void qc_sweep_summary_clear(qc_sweep_summary *s)
     memset(s, 0, sizeof *s);
 }
 
-const char *qc_sweep_status_name(qc_status st)
-{
-    switch (st) {
-    case QC_OK: return "ok";
-    case QC_EINVAL: return "invalid";
-    case QC_EFORMAT: return "format";
-    case QC_EIO: return "io";
-    case QC_EINFEASIBLE: return "infeasible";
-    case QC_ENOMEM: return "no-memory";
-    case QC_ENOCONV: return "no-convergence";
-    case QC_ENUMERIC: return "numeric";
-    case QC_STATUS_COUNT: break;
-    }
-    return "unknown";
-}
-
 /* mkdir -p */
 static qc_status make_dir(const char *dir)
 {

@@ -55,6 +55,22 @@ static void add_require(const qc_scenario *sc, const qc_settings *s, json_t *res
                         st == QC_OK ? json_null() : json_string(qc_last_error()));
 }
 
+const char *qc_sweep_status_name(qc_status st)
+{
+    switch (st) {
+    case QC_OK: return "ok";
+    case QC_EINVAL: return "invalid";
+    case QC_EFORMAT: return "format";
+    case QC_EIO: return "io";
+    case QC_EINFEASIBLE: return "infeasible";
+    case QC_ENOMEM: return "no-memory";
+    case QC_ENOCONV: return "no-convergence";
+    case QC_ENUMERIC: return "numeric";
+    case QC_STATUS_COUNT: break;
+    }
+    return "unknown";
+}
+
 /* A point with a FEC code and no [require]: the penalty at the code's
  * threshold, as `quantcap design --fec` reports it. */
 static qc_status add_fec_penalty(const qc_settings *s, const qc_fec *fec, json_t *result)
