@@ -57,9 +57,14 @@ qc_status qc_converter_check(const qc_converter *c, unsigned bits)
     if (!(hi > lo))
         return qc_fail(QC_EINVAL, "full-scale: the range %g,%g has %s width (HI must exceed LO)",
                        lo, hi, hi == lo ? "zero" : "negative");
-    if (!isnan(c->enob) && !(c->enob > 0.0 && c->enob <= (double)bits))
-        return qc_fail(QC_EINVAL, "enob: %g effective bits of a %u-bit converter (expected "
-                                  "0 < ENOB <= %u)",
+    if (!isnan(c->enob) && !(c->enob > 0.0))
+        return qc_fail(QC_EINVAL, "enob: %g effective bits (expected 0 < ENOB <= %u)", c->enob,
+                       bits);
+    /* a valid ENOB that this resolution cannot reach: infeasible, so that
+     * a sweep over ENOB and bits records the point and goes on */
+    if (!isnan(c->enob) && c->enob > (double)bits)
+        return qc_fail(QC_EINFEASIBLE, "enob: %g effective bits of a %u-bit converter (expected "
+                                       "0 < ENOB <= %u)",
                        c->enob, bits, bits);
     if (!(c->jitter_s >= 0.0) || !isfinite(c->jitter_s))
         return qc_fail(QC_EINVAL, "jitter-s: must be a finite number >= 0 s (got %g)",

@@ -616,7 +616,9 @@ qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
             st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
         qc_model_cache_release(cache, m);
         qc_settings_free(s);
-        if (st != QC_OK) {
+        /* a point asking what cannot be had (an ENOB above the bits) is
+         * an outcome recorded when the point runs, not an invalid study */
+        if (st != QC_OK && st != QC_EINFEASIBLE) {
             char msg[768], point[300], loc[300];
             snprintf(msg, sizeof msg, "%s", qc_last_error());
             describe_point(sc, i, point, sizeof point);

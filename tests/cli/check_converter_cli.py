@@ -119,5 +119,23 @@ with tempfile.TemporaryDirectory() as work:
             check(None not in seq and all(seq[i] + TOL_ORDER >= seq[i + 1] for i in range(2)),
                   f"gain {g} ENOB {e}: rate does not grow with jitter {seq}")
 
+# a sweep over bits and ENOB: the points whose ENOB exceeds their bits are
+# recorded as infeasible and the sweep goes on (exit 0)
+with tempfile.TemporaryDirectory() as work:
+    ini = os.path.join(work, "enob.ini")
+    with open(ini, "w") as f:
+        f.write("# invented converter figures\n[receiver]\nmodel = gauss\nsnr-db = 20\n"
+                "[design]\nquantizer = converter\nfull-scale = -4,4\n[alphabet pam4]\n"
+                "alphabet = pam:4\n[sweep]\nbits = 4, 6\nenob = 3 to 6 step 1\n")
+    out_dir = os.path.join(work, "out")
+    rc, out, err = run("sweep", ini, "--output-dir", out_dir, "--no-plots", "--jobs", "1")
+    check(rc == 0, f"sweep over bits and ENOB: exit {rc} ({err.strip()})")
+    rows = list(csv.DictReader(open(os.path.join(out_dir, "results.csv")))) if rc == 0 else []
+    status = {(r["bits"], r["enob"]): r["status"] for r in rows}
+    check(status.get(("4", "5")) == "infeasible" and status.get(("4", "6")) == "infeasible",
+          f"ENOB above the bits: infeasible points ({status})")
+    check(all(v == "ok" for k, v in status.items() if float(k[1]) <= float(k[0])),
+          "every other point ok")
+
 print(f"converter cli: {tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
