@@ -5,7 +5,11 @@
  * Alternate the two optimality conditions: reconstruction points are the
  * conditional means of their cells, thresholds are midpoints between
  * neighbouring reconstruction points. Cell masses come from the model's
- * tail-accurate CDFs; first and second moments from adaptive
+ * tail-accurate CDFs. For models whose output given x is Gaussian
+ * (QC_MODEL_GAUSSIAN_LAW) the first and second moments have closed forms
+ * in the density at the cell's ends (Stein's identity, Stein, Ann. Stat.
+ * 9(6), 1981: ∫_a^b (y-μ) f = σ²(f(a) - f(b)), ∫_a^b (y-μ)² f =
+ * σ²(P + (a-μ) f(a) - (b-μ) f(b))); for other models adaptive
  * Gauss–Kronrod quadrature (GSL QAGS) of the mixture density about the
  * cell's middle, so that narrow cells do not cancel. Count outputs sum
  * the probability masses instead and keep integer thresholds. Reported
@@ -36,6 +40,9 @@ typedef struct {
     double *lo_s, *hi_s;      /* scratch for qc_discretize_into */
     gsl_integration_workspace *w;
     double lo, hi;            /* support union */
+    int gaussian;             /* closed-form moments (QC_MODEL_GAUSSIAN_LAW) */
+    double *mu, *var;         /* per level: conditional mean and variance */
+    double *fdens;            /* nt × nlevels: density at each threshold */
 } lloyd;
 
 static double mixture(const lloyd *L, double y)
@@ -104,6 +111,35 @@ static qc_status cell_moments(lloyd *L, double a, double b, double mass,
     return QC_OK;
 }
 
+/* Gaussian conditional laws: the moments about the anchor of cell c of t
+ * (ends a, b) from the component masses and the densities at the ends
+ * (Stein's identity), each component shifted by d = μ - anchor. */
+static void gaussian_moments(const lloyd *L, const double *t, size_t nt, size_t c,
+                             double *anchor, double *m1, double *m2)
+{
+    const size_t K = nt + 1;
+    double a = c == 0 ? -INFINITY : t[c - 1], b = c == nt ? INFINITY : t[c];
+    double ca = fmax(a, L->lo), cb = fmin(b, L->hi);
+    *anchor = cb > ca ? 0.5 * (ca + cb)
+                      : (isfinite(a) ? (isfinite(b) ? 0.5 * (a + b) : a) : b);
+    double s1 = 0.0, s2 = 0.0;
+    for (size_t x = 0; x < L->nlevels; x++) {
+        double r = L->input[x], P = L->cells->p[x * K + c];
+        if (!(r > 0.0) || !(P > 0.0))
+            continue;
+        double mu = L->mu[x], v = L->var[x], d = mu - *anchor;
+        double fa = c == 0 ? 0.0 : L->fdens[(c - 1) * L->nlevels + x];
+        double fb = c == nt ? 0.0 : L->fdens[c * L->nlevels + x];
+        double ea = c == 0 ? 0.0 : (a - mu) * fa;
+        double eb = c == nt ? 0.0 : (b - mu) * fb;
+        double i1 = v * (fa - fb), i2 = fmax(0.0, v * (P + ea - eb));
+        s1 += r * (i1 + d * P);
+        s2 += r * (i2 + d * (2.0 * i1 + d * P));
+    }
+    *m1 = s1;
+    *m2 = s2;
+}
+
 /* Reconstruction points (conditional means) of the cells of t; a cell of
  * zero mass keeps recon[c] if it is finite, else its anchor. *mse (may be
  * NULL) receives the mean-square error about those points. */
@@ -115,6 +151,13 @@ static qc_status centroids(lloyd *L, const double *t, size_t nt, double *recon,
                                       L->hi_s, L->cells);
     if (st != QC_OK)
         return st;
+    if (L->gaussian) {
+        const qc_model_type *ty = qc_model_get_type(L->m);
+        for (size_t j = 0; j < nt; j++)
+            for (size_t x = 0; x < L->nlevels; x++)
+                L->fdens[j * L->nlevels + x] =
+                    L->input[x] > 0.0 ? ty->density(L->m, L->levels[x], t[j]) : 0.0;
+    }
     double err = 0.0;
     for (size_t c = 0; c < K; c++) {
         double mass = 0.0;
@@ -122,9 +165,13 @@ static qc_status centroids(lloyd *L, const double *t, size_t nt, double *recon,
             mass += L->input[x] * L->cells->p[x * K + c];
         double a = c == 0 ? -INFINITY : t[c - 1], b = c == nt ? INFINITY : t[c];
         double anchor, m1, m2;
-        st = cell_moments(L, a, b, mass, &anchor, &m1, &m2);
-        if (st != QC_OK)
-            return st;
+        if (L->gaussian) {
+            gaussian_moments(L, t, nt, c, &anchor, &m1, &m2);
+        } else {
+            st = cell_moments(L, a, b, mass, &anchor, &m1, &m2);
+            if (st != QC_OK)
+                return st;
+        }
         if (mass > 0.0 && isfinite(m1)) {
             recon[c] = anchor + m1 / mass;
             err += fmax(0.0, m2 - m1 * m1 / mass);
@@ -164,7 +211,9 @@ qc_status qc_lloyd_max(const qc_model *model, const double *levels,
 {
     qc_gsl_init();
     const size_t K = nt + 1;
-    lloyd L = {model, levels, input, nlevels, 0.0, 1, NULL, NULL, NULL, NULL, 0, 0};
+    lloyd L = {model, levels, input, nlevels, 0.0, 1, NULL, NULL, NULL, NULL, 0, 0,
+               0, NULL, NULL, NULL};
+    const qc_model_type *type = qc_model_get_type(model);
     qc_levels_support(model, levels, nlevels, &L.lo, &L.hi);
     qc_status st = qc_dmc_alloc(nlevels, K, &L.cells);
     if (st != QC_OK)
@@ -175,6 +224,22 @@ qc_status qc_lloyd_max(const qc_model *model, const double *levels,
     if (!L.lo_s || !L.hi_s || !L.w) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
+    }
+    if ((type->properties & QC_MODEL_GAUSSIAN_LAW) && type->moments &&
+        type->output != QC_OUTPUT_COUNTS) {
+        L.gaussian = 1;
+        L.mu = qc_malloc_array(nlevels, sizeof *L.mu);
+        L.var = qc_malloc_array(nlevels, sizeof *L.var);
+        L.fdens = qc_malloc_array(nt > 0 ? nt * nlevels : 1, sizeof *L.fdens);
+        if (!L.mu || !L.var || !L.fdens) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        for (size_t x = 0; x < nlevels; x++) {
+            st = type->moments(model, levels[x], &L.mu[x], &L.var[x]);
+            if (st != QC_OK)
+                goto done;
+        }
     }
     /* Start: K cells equal in ½·mixture + ½·uniform (fine_grid.c), so
      * that every cell starts with mass; for counts the rounded version. */
@@ -214,5 +279,8 @@ done:
     free(L.lo_s);
     free(L.hi_s);
     gsl_integration_workspace_free(L.w);
+    free(L.mu);
+    free(L.var);
+    free(L.fdens);
     return st;
 }
