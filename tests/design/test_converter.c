@@ -404,9 +404,12 @@ static void test_bad_converters(void **state)
     assert_int_equal(qc_converter_check(&c, 8), QC_EINVAL);
     assert_message("zero width");
     qc_converter_default(&c, 0.0, 1.0);
-    c.enob = 8.5;
-    assert_int_equal(qc_converter_check(&c, 8), QC_EINVAL);
+    c.enob = 8.5; /* valid, but out of reach of 8 bits: a sweep records it */
+    assert_int_equal(qc_converter_check(&c, 8), QC_EINFEASIBLE);
     assert_message("enob: 8.5 effective bits of a 8-bit converter");
+    c.enob = -1.0;
+    assert_int_equal(qc_converter_check(&c, 8), QC_EINVAL);
+    assert_message("enob: -1 effective bits");
     c.enob = NAN;
     c.jitter_s = -1e-12;
     assert_int_equal(qc_converter_check(&c, 8), QC_EINVAL);
