@@ -231,39 +231,9 @@ qc_status qc_dmc_read(const char *path, qc_dmc **out)
         return qc_fail(QC_EIO, "%s: cannot open: %s", path, strerror(errno));
     if (S_ISDIR(sb.st_mode))
         return qc_fail(QC_EIO, "%s: is a directory, expected a matrix file", path);
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return qc_fail(QC_EIO, "%s: cannot open: %s", path, strerror(errno));
-    size_t cap = 65536, len = 0;
-    char *buf = malloc(cap);
-    qc_status st = QC_OK;
-    if (!buf) {
-        fclose(f);
-        return qc_fail(QC_ENOMEM, "%s: out of memory", path);
-    }
-    for (;;) {
-        if (len == cap) {
-            if (cap > ((size_t)1 << 31)) {
-                st = qc_fail(QC_EFORMAT, "%s: file larger than 2 GiB", path);
-                break;
-            }
-            char *nb = realloc(buf, cap * 2);
-            if (!nb) {
-                st = qc_fail(QC_ENOMEM, "%s: out of memory", path);
-                break;
-            }
-            buf = nb;
-            cap *= 2;
-        }
-        size_t got = fread(buf + len, 1, cap - len, f);
-        len += got;
-        if (got == 0) {
-            if (ferror(f))
-                st = qc_fail(QC_EIO, "%s: read error", path);
-            break;
-        }
-    }
-    fclose(f);
+    char *buf;
+    size_t len;
+    qc_status st = qc_read_file(path, (size_t)1 << 31, "2 GiB", &buf, &len);
     if (st == QC_OK)
         st = qc_dmc_parse(buf, len, path, out);
     free(buf);

@@ -40,4 +40,11 @@ double qc_bit_term(double p0, double p1);
  * numbers where the build has it, log(3) on the rest (vlog.c). */
 void qc_log_floored(const double *in, double *out, size_t n, double floor);
 
+/* The whole file at `path` into *buf (owned by the caller; *len bytes,
+ * not terminated). Files beyond max_bytes are QC_EFORMAT, "file larger
+ * than MAX_TEXT"; QC_EIO naming the path when it cannot be opened or read
+ * (read_file.c). */
+qc_status qc_read_file(const char *path, size_t max_bytes, const char *max_text, char **buf,
+                       size_t *len);
+
 #endif

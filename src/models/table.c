@@ -489,35 +489,9 @@ fail:
 qc_status qc_model_table_load(const char *path, qc_model **out)
 {
     *out = NULL;
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return qc_fail(QC_EIO, "%s: cannot open: %s", path, strerror(errno));
-    char *buf = NULL;
-    size_t len = 0, cap = 0;
-    qc_status st = QC_OK;
-    for (;;) {
-        if (len == cap) {
-            cap = cap ? 2 * cap : 65536;
-            if (cap > ((size_t)1 << 30)) {
-                st = qc_fail(QC_EFORMAT, "%s: file larger than 1 GiB", path);
-                break;
-            }
-            char *b = realloc(buf, cap);
-            if (!b) {
-                st = qc_fail(QC_ENOMEM, "out of memory");
-                break;
-            }
-            buf = b;
-        }
-        size_t got = fread(buf + len, 1, cap - len, fp);
-        len += got;
-        if (got == 0) {
-            if (ferror(fp))
-                st = qc_fail(QC_EIO, "%s: cannot read: %s", path, strerror(errno));
-            break;
-        }
-    }
-    fclose(fp);
+    char *buf;
+    size_t len;
+    qc_status st = qc_read_file(path, (size_t)1 << 30, "1 GiB", &buf, &len);
     if (st == QC_OK)
         st = qc_model_table_parse(buf, len, path, out);
     free(buf);
