@@ -72,13 +72,18 @@ static double deviance(double a, double t)
     return a * log(a / t) + t - a;
 }
 
+double qc_loader_exponent(double a, double t)
+{
+    return -stirling_error(a) - deviance(a, t);
+}
+
 double qc_log_poisson_term(double a, double t)
 {
     if (a == 0.0)
         return -t;
     if (t == 0.0)
         return -INFINITY;
-    return -stirling_error(a) - deviance(a, t) - LN_SQRT_2PI - 0.5 * log(a);
+    return qc_loader_exponent(a, t) - LN_SQRT_2PI - 0.5 * log(a);
 }
 
 /* ln Σ_{n≥0} t^n/((a+1)…(a+n)), t ≤ a: the ratio t/(a+n+1) < 1 falls,

@@ -4,6 +4,10 @@
 #ifndef QC_INCGAMMA_H
 #define QC_INCGAMMA_H
 
+/* −stirlerr(a) − bd0(a, t) of Loader's saddle-point form for a > 0,
+ * t > 0: ln(t^a e^{−t}/Γ(a+1)) + ½ ln(2πa). */
+double qc_loader_exponent(double a, double t);
+
 /* ln(t^a e^{−t}/Γ(a+1)) for a ≥ 0, t ≥ 0 (−∞ where the term is 0), in
  * Loader's saddle-point form, without the cancellation of
  * a·ln t − t − ln Γ(a+1) at large a and t. */

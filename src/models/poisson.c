@@ -5,6 +5,7 @@
  * incomplete gamma functions (Abramowitz & Stegun 6.5.13; GSL
  * gsl_sf_gamma_inc_Q_e / _P_e), each accurate in its own tail. */
 #include "core/internal.h"
+#include "models/incgamma.h"
 #include "models/model_internal.h"
 
 #include <math.h>
@@ -66,46 +67,6 @@ static double poisson_above(const qc_model *m, double x, double t)
     return gamma_inc(t, lambda, 0);
 }
 
-/* Stirling's error ln n! − (n + ½) ln n + n − ½ ln 2π (Loader 2000). */
-static double stirling_error(double n)
-{
-    if (n <= 15.0) {
-        gsl_sf_result lf;
-        if (gsl_sf_lngamma_e(n + 1.0, &lf) != GSL_SUCCESS)
-            return NAN;
-        return lf.val - (n + 0.5) * log(n) + n - 0.91893853320467274178;
-    }
-    double nn = n * n;
-    const double s0 = 1.0 / 12, s1 = 1.0 / 360, s2 = 1.0 / 1260, s3 = 1.0 / 1680,
-                 s4 = 1.0 / 1188;
-    if (n > 500.0)
-        return (s0 - s1 / nn) / n;
-    if (n > 80.0)
-        return (s0 - (s1 - s2 / nn) / nn) / n;
-    if (n > 35.0)
-        return (s0 - (s1 - (s2 - s3 / nn) / nn) / nn) / n;
-    return (s0 - (s1 - (s2 - (s3 - s4 / nn) / nn) / nn) / nn) / n;
-}
-
-/* Deviance term k ln(k/λ) + λ − k without cancellation (Loader 2000). */
-static double deviance(double k, double lambda)
-{
-    if (fabs(k - lambda) < 0.1 * (k + lambda)) {
-        double v = (k - lambda) / (k + lambda), s = (k - lambda) * v;
-        double ej = 2.0 * k * v;
-        v *= v;
-        for (int j = 1; j < 1000; j++) {
-            ej *= v;
-            double s1 = s + ej / (2 * j + 1);
-            if (s1 == s)
-                return s1;
-            s = s1;
-        }
-        return s;
-    }
-    return k * log(k / lambda) + lambda - k;
-}
-
 /* Probability mass at whole y ≥ 0 (0 elsewhere), by the saddle-point
  * form e^{−stirlerr(y) − bd0(y, λ)}/√(2πy) of Loader ("Fast and accurate
  * computation of binomial probabilities", 2000), which keeps full
@@ -119,7 +80,7 @@ static double poisson_density(const qc_model *m, double x, double y)
         return y == 0.0 ? 1.0 : 0.0;
     if (y == 0.0)
         return exp(-lambda);
-    return exp(-stirling_error(y) - deviance(y, lambda)) / sqrt(2.0 * M_PI * y);
+    return exp(qc_loader_exponent(y, lambda)) / sqrt(2.0 * M_PI * y);
 }
 
 #define TAIL_MASS 1e-17 /* mass left out on each side by the support */
