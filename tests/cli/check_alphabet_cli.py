@@ -8,36 +8,25 @@ References: scipy.stats.norm (Debian python3-scipy) for the binary-input
 channel through a given quantizer and for Q^-1; Shannon 1948 for
 log2(1 + Es/N0); Smith, Information and Control 18, 1971 and Sharma &
 Shamai, ISITA 2008 for the amplitude-constrained optimum."""
-import json
 import math
 import os
-import subprocess
 import sys
 
 import numpy as np
 from scipy.stats import norm
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, json_runner  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
 check = tally.check
 
 
-def run(*args):
-    p = subprocess.run([QC, *args], capture_output=True, text=True)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
-def design_json(*args):
-    rc, out, err = run("design", *args, "--json")
-    check(rc == 0, f"design {' '.join(args)}: exit {rc} ({err.strip()})")
-    try:
-        return json.loads(out)
-    except ValueError:
-        check(False, f"design {' '.join(args)}: output is JSON")
-        return {}
+design_json = json_runner(run, tally)
 
 
 def binary_mi(levels, sigma, t):

@@ -9,23 +9,20 @@ import collections
 import json
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
 from scipy.stats import norm
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, file_writer  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
 check = tally.check
 
 
-def run(*args, input_text=None):
-    p = subprocess.run([QC, *args], capture_output=True, text=True, input=input_text)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
 def h2(p):
@@ -52,11 +49,7 @@ def parse(text, what):
 tmp = tempfile.mkdtemp(prefix="qc-cli-")
 
 
-def write(name, text):
-    path = os.path.join(tmp, name)
-    with open(path, "w") as f:
-        f.write(text)
-    return path
+write = file_writer(tmp)
 
 
 # --- capacity ------------------------------------------------------------

@@ -14,12 +14,11 @@ import csv
 import json
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, json_runner  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
@@ -29,19 +28,10 @@ TOL_ORDER = 1e-12  # bits: slack of "never more"
 BASE = ["--model", "gauss", "--snr-db", "18", "--alphabet", "pam:8", "--full-scale", "-1,1"]
 
 
-def run(*args):
-    p = subprocess.run([QC, *args], capture_output=True, text=True)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
-def design_json(*args):
-    rc, out, err = run("design", *args, "--json")
-    check(rc == 0, f"design {' '.join(args)}: exit {rc} ({err.strip()})")
-    try:
-        return json.loads(out)
-    except ValueError:
-        check(False, f"design {' '.join(args)}: output is JSON")
-        return {}
+design_json = json_runner(run, tally)
 
 
 with tempfile.TemporaryDirectory() as work:

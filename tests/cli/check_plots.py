@@ -10,16 +10,14 @@ manifest.txt) and nothing else.
 Usage: check_plots.py PATH/TO/quantcap
 The demo studies run with a narrowed x axis to keep the test short; the
 other scenarios below are invented for the test."""
-import html
 import os
 import re
-import subprocess
 import sys
 import tempfile
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, file_writer, svg_text  # noqa: E402
 
 QC = sys.argv[1]
 SCENARIOS = os.path.join(HERE, "..", "..", "scenarios")
@@ -28,24 +26,10 @@ check = tally.check
 tmp = tempfile.mkdtemp(prefix="qc-plots-")
 
 
-def run(*args, timeout=600):
-    p = subprocess.run([QC, *args], capture_output=True, text=True, timeout=timeout)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
-def write(name, text):
-    path = os.path.join(tmp, name)
-    with open(path, "w") as f:
-        f.write(text)
-    return path
-
-
-def svg_text(path):
-    """The text items of a PLplot SVG, one string per <text> element."""
-    with open(path, encoding="utf-8") as f:
-        doc = f.read()
-    items = re.findall(r"<text[^>]*>(.*?)</text>", doc, re.S)
-    return [html.unescape(re.sub(r"<[^>]+>", "", t)) for t in items]
+write = file_writer(tmp)
 
 
 def manifest(folder):

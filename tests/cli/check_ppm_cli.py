@@ -15,14 +15,13 @@ import itertools
 import json
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
 import numpy as np
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, json_runner  # noqa: E402
 
 QC = sys.argv[1]
 ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..")
@@ -34,15 +33,10 @@ TOL_ENUM = 1e-12    # bits: closed form against enumeration
 TOL_CODATA = 1e-6   # relative: photon energy from two CODATA sets
 
 
-def run(*args):
-    p = subprocess.run([QC, *args], capture_output=True, text=True)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
-def design_json(*args):
-    rc, out, err = run("design", "--json", *args)
-    check(rc == 0, f"design {' '.join(args)}: exit 0 ({err.strip()})")
-    return json.loads(out) if rc == 0 else {}
+design_json = json_runner(run, tally)
 
 
 # noiseless: the erasure-channel closed form, through the whole CLI

@@ -14,19 +14,16 @@ Technol. 28(4), 2010; Poisson on-off keying with a threshold of one count
 (an error only when the "on" slot gives no count, or the "off" slot a
 background count) for the photon target."""
 import csv
-import html
 import json
 import math
 import os
-import re
-import subprocess
 import sys
 import tempfile
 
 from scipy.stats import norm
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, svg_text  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
@@ -39,17 +36,7 @@ REQUIRE_KEYS = ["solve_for", "target", "required", "unquantized_required", "pena
                 "margin_db"]
 
 
-def run(*args):
-    p = subprocess.run([QC, *args], capture_output=True, text=True)
-    return p.returncode, p.stdout, p.stderr
-
-
-def svg_text(path):
-    """The text items of a PLplot SVG, one string per <text> element."""
-    with open(path, encoding="utf-8") as f:
-        doc = f.read()
-    items = re.findall(r"<text[^>]*>(.*?)</text>", doc, re.S)
-    return [html.unescape(re.sub(r"<[^>]+>", "", t)) for t in items]
+run = qc_runner(QC)
 
 
 def check_figure(folder, name, labels):

@@ -17,7 +17,6 @@ import csv
 import json
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -25,7 +24,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, json_runner  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
@@ -39,19 +38,10 @@ TOL_REQUIRE = 1e-4   # a figure at the required SNR against its target
 ULTIMATE_DB = 10 * math.log10(math.pi * math.e / 6)  # Forney and Wei 1989: 1.53 dB
 
 
-def run(*args):
-    p = subprocess.run([QC, *args], capture_output=True, text=True)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
-def design_json(*args):
-    rc, out, err = run("design", *args, "--json")
-    check(rc == 0, f"design {' '.join(args)}: exit {rc} ({err.strip()})")
-    try:
-        return json.loads(out)
-    except ValueError:
-        check(False, f"design {' '.join(args)}: output is JSON")
-        return {}
+design_json = json_runner(run, tally)
 
 
 def pam(m):

@@ -18,31 +18,20 @@ import tempfile
 import time
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally  # noqa: E402
+from checklib import Tally, qc_runner, file_writer, read_bytes  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
 check = tally.check
 
 
-def run(*args, timeout=600):
-    p = subprocess.run([QC, *args], capture_output=True, text=True, timeout=timeout)
-    return p.returncode, p.stdout, p.stderr
+run = qc_runner(QC)
 
 
 tmp = tempfile.mkdtemp(prefix="qc-sweep-")
 
 
-def write(name, text):
-    path = os.path.join(tmp, name)
-    with open(path, "w") as f:
-        f.write(text)
-    return path
-
-
-def read_bytes(path):
-    with open(path, "rb") as f:
-        return f.read()
+write = file_writer(tmp)
 
 
 SMALL = """# invented test scenario
