@@ -66,11 +66,9 @@ static void help(const cli_args *a)
 
 static const char *unit_of(const char *key, const qc_model_type *type)
 {
-    size_t n = strlen(key);
-    if (n > 4 && strcmp(key + n - 4, "-dbm") == 0)
-        return "dBm";
-    if (n > 3 && strcmp(key + n - 3, "-db") == 0)
-        return "dB";
+    const char *db = qc_setting_db_unit(key);
+    if (db)
+        return db + 1; /* without the leading space */
     for (size_t i = 0; key_units[i][0]; i++)
         if (strcmp(key_units[i][0], key) == 0)
             return key_units[i][1];

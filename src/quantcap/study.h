@@ -73,6 +73,10 @@ QC_API qc_status qc_settings_build(qc_settings *s, qc_model **model,
 /* Does the key hold a value in dB (its name ends in -db or -dbm)? */
 QC_API int qc_setting_in_db(const char *key);
 
+/* The unit a key's values carry in messages: " dBm" for a name ending in
+ * -dbm, " dB" for -db, NULL otherwise. */
+QC_API const char *qc_setting_db_unit(const char *key);
+
 /* QC_EINVAL unless `key` is a continuous quantity to solve for (a known,
  * numeric key: not bits, cells, levels, ...); the message names it. */
 QC_API qc_status qc_setting_check_solvable(const char *key);

@@ -19,12 +19,17 @@ static const char *const not_solvable[] = {
     "channels", "taps", "response", "symbols", "shaping", NULL,
 };
 
-int qc_setting_in_db(const char *key)
+const char *qc_setting_db_unit(const char *key)
 {
     size_t n = key ? strlen(key) : 0;
-    return (n > 3 && strcmp(key + n - 3, "-db") == 0) ||
-           (n > 4 && strcmp(key + n - 4, "-dbm") == 0);
+    if (n > 4 && strcmp(key + n - 4, "-dbm") == 0)
+        return " dBm";
+    if (n > 3 && strcmp(key + n - 3, "-db") == 0)
+        return " dB";
+    return NULL;
 }
+
+int qc_setting_in_db(const char *key) { return qc_setting_db_unit(key) != NULL; }
 
 qc_status qc_setting_check_solvable(const char *key)
 {
@@ -307,10 +312,7 @@ qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fe
     t.from_fec = 1;
     t.kind = fec->kind == QC_FEC_HARD ? QC_TARGET_BER : QC_TARGET_NGMI;
     t.value = fec->threshold;
-    size_t kl = strlen(out->key);
-    const char *unit = !qc_setting_in_db(out->key)                       ? NULL
-                       : kl > 4 && strcmp(out->key + kl - 4, "-dbm") == 0 ? " dBm"
-                                                                          : " dB";
+    const char *unit = qc_setting_db_unit(out->key);
     double lo, hi;
     qc_require_result r;
     qc_status st = qc_settings_require_range(s, out->key, &lo, &hi);

@@ -28,10 +28,7 @@ static void add_require(const qc_scenario *sc, const qc_settings *s, json_t *res
     memset(&res, 0, sizeof res);
     res.required = res.unquantized_required = res.penalty_db = NAN;
     qc_status st = r->range_given ? QC_OK : qc_settings_require_range(s, key, &lo, &hi);
-    size_t kl = strlen(key);
-    const char *unit = !qc_setting_in_db(key)                        ? NULL
-                       : kl > 4 && strcmp(key + kl - 4, "-dbm") == 0 ? " dBm"
-                                                                     : " dB";
+    const char *unit = qc_setting_db_unit(key);
     if (st == QC_OK)
         st = qc_settings_require(s, key, &r->target, lo, hi, unit, &res);
     const char *v = qc_settings_get(s, key);
