@@ -280,6 +280,9 @@ int cmd_require(int argc, char **argv)
     design = design_at(set, key, res.required, fec);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
+    /* a penalty within the root tolerance is 0, and so is the difference */
+    const double difference =
+        res.penalty_db == 0.0 ? 0.0 : res.required - res.unquantized_required;
     if (cli_has(&a, "json")) {
         json_t *o = json_object(), *t = json_object();
         json_object_set_new(o, "solve_for", json_string(key));
@@ -293,6 +296,7 @@ int cmd_require(int argc, char **argv)
         json_object_set_new(o, "required", cli_json_real(res.required));
         json_object_set_new(o, "unquantized_required", cli_json_real(res.unquantized_required));
         json_object_set_new(o, "penalty_db", cli_json_real(res.penalty_db));
+        json_object_set_new(o, "difference", cli_json_real(difference));
         json_object_set_new(o, "operating", cli_json_real(operating));
         json_object_set_new(o, "margin_db", cli_json_real(margin));
         json_object_set_new(o, "increasing", json_boolean(res.increasing));
@@ -312,8 +316,12 @@ int cmd_require(int argc, char **argv)
             fprintf(f, "unquantized  %.6g %s (same levels and law, no quantizer)\n",
                     res.unquantized_required, unit);
             /* a penalty within the root tolerance prints as 0, not -0.0000 */
-            fprintf(f, "penalty      %.4f dB at the target\n",
-                    fabs(res.penalty_db) < 5e-5 ? 0.0 : res.penalty_db);
+            fprintf(f, "penalty      %.4f dB at the target%s\n",
+                    fabs(res.penalty_db) < 5e-5 ? 0.0 : res.penalty_db,
+                    linear ? " (10 log10 of the ratio)" : "");
+            if (linear)
+                fprintf(f, "difference   %.6g %s (required - unquantized)\n", difference,
+                        unit);
         } else {
             fprintf(f, "unquantized  meets the target over the whole range: widen --range for "
                        "its value and the penalty\n");

@@ -89,6 +89,26 @@ if "required" in r:
     tally.near("margin = operating - required", r["margin_db"], 12 - r["required"], 1e-12)
     check(r["penalty_db"] >= -ROOT_TOL_DB, "penalty is not negative")
 
+# require on a linear key (a reach): besides the penalty as 10 log10 of the
+# ratio, the difference in the key's own unit, here km of reach lost
+REACH = ["--model", "gauss", "--alphabet", "qam:16", "--bits", "3", "--symbol-rate", "32e9",
+         "--span-km", "80", "--nf-db", "5", "--channels", "5", "--channel-spacing-ghz", "50",
+         "--length-km", "1600", "--target", "ngmi=0.8", "--solve-for", "length-km"]
+rk = as_json("require", *REACH)
+if "required" in rk:
+    tally.near("difference = required - unquantized (km)", rk["difference"],
+               rk["required"] - rk["unquantized_required"], 1e-9)
+    tally.near("penalty = 10 log10 of the ratio", rk["penalty_db"],
+               10 * math.log10(rk["unquantized_required"] / rk["required"]), 1e-9)
+    check(rk["difference"] < -1.0, "3 bits lose reach at NGMI 0.8 (km)")
+    rc, out, err = run("require", *REACH)
+    check(rc == 0 and "difference   %.6g km" % rk["difference"] in out,
+          "require text prints the reach difference in km")
+rz = as_json("require", "--model", "gauss", "--snr-db", "12", "--alphabet", "pam:4", "--bits",
+             "4", "--target", "ber=1e-3", "--solve-for", "snr-db")
+if rz.get("penalty_db") == 0.0:
+    check(rz["difference"] == 0.0, "a penalty within the root tolerance: difference 0")
+
 # require: osnr-db (16-QAM, 32 GBd, dual polarization, 12.5 GHz reference)
 o = as_json("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "6",
             "--symbol-rate", "32e9", "--target", "fec=hd-7", "--solve-for", "osnr-db")
