@@ -87,7 +87,7 @@ static qc_status parse_tap(const char *p, size_t len, size_t index, double *re, 
     memcpy(buf, p, len);
     buf[len] = '\0';
     *re = *im = 0.0;
-    if (buf[len - 1] == 'j' || buf[len - 1] == 'i') {
+    if (buf[len - 1] == 'j') {
         *cplx = 1;
         buf[--len] = '\0';
         /* the sign that starts the imaginary part: the last + or − that

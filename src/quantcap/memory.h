@@ -40,8 +40,8 @@ QC_API qc_status qc_isi_taps_check(const double *taps, size_t ntaps);
 QC_API qc_status qc_isi_complex_taps_check(const double *re, const double *im, size_t ntaps);
 
 /* Parse a tap list "h0,h1,...", each tap a real number ("0.9", "-1e-2")
- * or a complex one written a+bj, a-bj or bj ("0.9+0.1j", "-0.3j"; 'i'
- * is accepted for 'j'). Writes at most QC_ISI_MAX_TAPS real parts into
+ * or a complex one written a+bj, a-bj or bj ("0.9+0.1j", "-0.3j", as
+ * Python writes complex numbers). Writes at most QC_ISI_MAX_TAPS real parts into
  * re and imaginary parts into im, their count into *ntaps and into
  * *is_complex whether any imaginary part is written (even 0j). QC_EINVAL
  * naming the tap (1-based) and its text, or the count. On failure the

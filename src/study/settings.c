@@ -358,7 +358,7 @@ static qc_status check_value(const char *key, const char *value)
     case K_WHOLE:
         return qc_parse_size(value, k->lo, k->hi, &z);
     case K_LIST:
-        if (strcmp(key, "taps") == 0) { /* real or complex (a+bj) taps */
+        if (strcmp(key, "taps") == 0 && strchr(value, 'j')) { /* complex taps a+bj */
             double re[QC_ISI_MAX_TAPS], im[QC_ISI_MAX_TAPS];
             int cplx;
             return qc_isi_taps_parse(value, re, im, &n, &cplx);

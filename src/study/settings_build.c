@@ -618,7 +618,20 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     size_t n = 0;
     int cplx = 0;
     double truncated = NAN;
-    if (taps) {
+    if (taps && !strchr(taps, 'j')) { /* real taps: the number-list grammar */
+        double *t = NULL;
+        if ((st = qc_parse_list(taps, &t, &n)) != QC_OK)
+            return qc_fail(st, "taps: %s", qc_last_error());
+        if (n > QC_ISI_MAX_TAPS) {
+            free(t);
+            return qc_fail(QC_EINVAL, "taps: %zu taps given; at most %zu are supported", n,
+                           QC_ISI_MAX_TAPS);
+        }
+        memcpy(s->taps, t, n * sizeof *t);
+        free(t);
+        for (size_t i = 0; i < n; i++)
+            s->taps_imag[i] = 0.0;
+    } else if (taps) {
         if ((st = qc_isi_taps_parse(taps, s->taps, s->taps_imag, &n, &cplx)) != QC_OK)
             return st;
         if (cplx && det && strcmp(det, "intensity") == 0)
