@@ -35,6 +35,7 @@ TOL_TAP_FFT = 1e-8     # two FFT grids (2^16 and 2^20 points) of a kinked period
                        # (the C grid's error falls as 1/N²: about 1e-9 here)
 TOL_TAP_FRESNEL = 1e-8  # FFT grid against the closed form
 TOL_ENERGY = 1e-9      # Parseval on the grid
+TOL_TRUNC = 1e-8       # truncated energy: taps of two grids differ by at most TOL_TAP_FFT
 TOL_EXACT = 1e-9       # two exact enumerations of the same law
 FLOOR = 0.01           # QC_ISI_TAP_FLOOR
 failures = 0
