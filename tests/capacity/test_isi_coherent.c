@@ -329,6 +329,48 @@ static void test_coherent_errors(void **state)
     qc_model_free(m);
 }
 
+/* The design with a coherent memory channel: QAM with one tap of 1
+ * through fixed thresholds is the memoryless QAM design, whose rate
+ * (rate_bits, per complex symbol) the simulated rate must cover within its
+ * interval, and the symbol-by-symbol rate equals exactly; the report
+ * echoes the imaginary parts. Without coherent detection QAM is refused. */
+static void test_design_coherent(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.45);
+    const double lev[4] = {-3, -1, 1, 3}, thr[3] = {-2, 0, 2};
+    const double one[1] = {1.0}, zero[1] = {0.0};
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.channel.dimensions = 2;
+    req.quantizer.kind = QC_QUANTIZER_FIXED;
+    req.quantizer.thresholds = thr;
+    req.quantizer.nthresholds = 3;
+    req.quantizer.cells = 4;
+    req.memory.taps = one;
+    req.memory.taps_imag = zero;
+    req.memory.ntaps = 1;
+    req.memory.symbols = 40000;
+    req.memory.seed = 4;
+    req.memory.coherent = 1;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_int_equal(r.states, 1);
+    assert_true(r.coherent && r.taps_imag && r.taps_imag[0] == 0.0);
+    assert_true(isnan(r.truncated_energy));
+    assert_near(r.symbolwise_rate_bits, r.rate_bits, TOL_EXACT);
+    assert_true(fabs(r.information_rate_bits - r.rate_bits) <= CI_FACTOR * r.information_rate_ci_bits);
+    qc_design_result_clear(&r);
+
+    req.memory.coherent = 0;
+    assert_int_equal(qc_design(&req, &r), QC_EINVAL);
+    assert_message("needs coherent detection");
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -338,6 +380,7 @@ int main(void)
         cmocka_unit_test(test_dispersion_response),
         cmocka_unit_test(test_taps_parse),
         cmocka_unit_test(test_coherent_errors),
+        cmocka_unit_test(test_design_coherent),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
