@@ -406,9 +406,11 @@ qc_status qc_isi_coherent_response_taps(const char *spec, double symbol_rate,
         m = m_max;
     double kept = 0.0;
     for (long k = -m; k <= m; k++) {
-        re[k + m] = H_RE(k);
-        im[k + m] = H_IM(k);
-        kept += H_RE(k) * H_RE(k) + H_IM(k) * H_IM(k);
+        /* H is even in f, so h_{−k} = h_k: the mean of the two keeps that
+         * exact through the FFT's rounding */
+        re[k + m] = 0.5 * (H_RE(k) + H_RE(-k));
+        im[k + m] = 0.5 * (H_IM(k) + H_IM(-k));
+        kept += re[k + m] * re[k + m] + im[k + m] * im[k + m];
     }
 #undef H_RE
 #undef H_IM
