@@ -425,7 +425,8 @@ typedef struct {
  * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
  * QC_ENOMEM as they come. A channel with memory (req->memory) is checked
  * before the design (taps, states, symbols, a Gaussian-law model, real
- * levels: QC_EINVAL) and a noiseless output the model refuses fails after
+ * levels unless memory.coherent, no intensity model when coherent:
+ * QC_EINVAL) and a noiseless output the model refuses fails after
  * it (QC_EINVAL naming the symbols). The request and what it points to are never
  * modified. On failure the result is left empty (zeroed: safe to clear,
  * nothing to free). */

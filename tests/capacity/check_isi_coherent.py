@@ -16,6 +16,8 @@ references computed here with numpy/scipy:
   I/Q cell law given the main-cursor symbol by enumerating every window
   with scipy.stats.norm, its mutual information (Cover & Thomas, Elements
   of Information Theory, eq. 2.28);
+- one tap of 1 on QPSK with continuous output: twice the binary-input
+  AWGN rate, by quadrature (scipy.integrate.quad);
 - the orderings of the simulated rates (quantized ≤ unquantized,
   symbol-by-symbol ≤ sequence detector, ≤ log2 of the symbols).
 
@@ -27,7 +29,7 @@ import subprocess
 import sys
 
 import numpy as np
-from scipy import special, stats
+from scipy import integrate, special, stats
 
 DUMP = sys.argv[1]
 LIGHT = 299792458.0
@@ -152,5 +154,26 @@ for sigma, tap_text, thr, levels, mode in [
     check(got['symbolwise'] <= got['rate'] + got['ci'],
           f'{tag}: symbol-by-symbol {got["symbolwise"]:.4f} ≤ trellis {got["rate"]:.4f}')
     check(0 < got['rate'] <= math.log2(M) + got['ci'], f'{tag}: 0 < rate ≤ log2 {M}')
+
+
+
+def biawgn_bits(sigma):
+    """I(X;Y) of equiprobable ±1 in N(0, σ²), by quadrature (scipy.integrate.quad)."""
+    def integrand(y):
+        p1 = stats.norm.pdf(y, 1, sigma)
+        p0 = stats.norm.pdf(y, -1, sigma)
+        py = 0.5 * (p0 + p1)
+        return 0.0 if p1 == 0 else p1 * math.log2(p1 / py)
+    return integrate.quad(integrand, 1 - 40 * sigma, 1 + 40 * sigma, limit=400)[0]
+
+
+# One tap of 1: QPSK with continuous output is two binary-input AWGN
+# channels.
+for sigma in (0.5, 0.8):
+    got = dump('rate', sigma, '1', '0', '-1,1', 'qam', 40000, 17)
+    exact = 2 * biawgn_bits(sigma)
+    check(abs(got['unquantized'] - exact) <= got['unquantized_ci'],
+          f'QPSK one tap, sigma {sigma}: unquantized {got["unquantized"]:.5f} ± '
+          f'{got["unquantized_ci"]:.5f} covers 2·BI-AWGN {exact:.5f}')
 
 sys.exit(1 if failures else 0)
