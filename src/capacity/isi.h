@@ -17,8 +17,14 @@
 /* Windows t = x_k + M·x_{k−1} + … + M^L·x_{k−L} (T = M^(L+1) of them);
  * the state before x_k is t / M, the state after it is t mod S. */
 typedef struct {
-    size_t M, S, T, K, ntaps;
+    size_t M, S, T, K, ntaps;  /* M: symbols (QAM: levels²)                  */
     const double *taps, *levels, *thresholds; /* borrowed from the request */
+    int coherent;              /* 1: complex output, I and Q quantized      */
+    size_t nlevels;            /* levels per quadrature                      */
+    double *sym_re, *sym_im;   /* the M symbols (coherent; NULL otherwise)   */
+    double *tap_re, *tap_im;   /* copies of the taps (coherent)              */
+    double *mean_q, *sd_q, *inv_sd_q; /* the Q quadrature's law (T; coherent)*/
+    qc_dmc *window_dmc_q;      /* T × K cells of Q (coherent)                */
     double *law, *logp;     /* input law and its log (M)                     */
     double *state_prior;    /* the i.i.d. law of a state (S)                 */
     double *noiseless;      /* noiseless output of each window (T)           */
@@ -34,7 +40,8 @@ qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out);
 void qc_isi_channel_free(qc_isi_channel *ch);
 
 /* The memoryless channel x_{k−d} → quantized y_k, d the main cursor (the
- * largest |h_d|), the other symbols of the window averaged. */
+ * largest |h_d|), the other symbols of the window averaged. Coherent: the
+ * output is the joint cell a + K·b of I (a) and Q (b), M × K². */
 qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out);
 
 /* One step of the normalized forward recursion: next[s'] = Σ_{t: t mod S

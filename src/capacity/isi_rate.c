@@ -23,7 +23,12 @@
  * half-width of the batch estimates. The batches are independent, so they
  * run in parallel (OpenMP) and are combined in batch order: the thread
  * count never changes a bit of the result. Generator: GSL's MT19937,
- * Gaussian draws by the ziggurat (gsl_ran_gaussian_ziggurat). */
+ * Gaussian draws by the ziggurat (gsl_ran_gaussian_ziggurat).
+ *
+ * Coherent links: the sample is complex, its I and Q independent given
+ * the window (circular noise), so a branch's likelihood is the product of
+ * the two quadratures' cell probabilities (product quantizer) or Gaussian
+ * densities; the I draw comes before the Q draw of each symbol. */
 #include "capacity/isi.h"
 #include "core/internal.h"
 
@@ -74,6 +79,7 @@ double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const doub
 typedef struct {
     double *aq, *nq, *au, *nu; /* forward messages (S each)               */
     double *wu, *eu;           /* unquantized weights and exponents (T)   */
+    double *wq;                /* coherent quantized weights (T)          */
     gsl_rng *rng;
     double est_q, est_u;       /* the batch's estimates, nats             */
     int failed;                /* a step's likelihood vanished            */
@@ -157,6 +163,73 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     b->est_u = unquantized ? sum_u / (double)count : NAN;
 }
 
+/* One batch of a coherent channel: as run_batch, with complex samples.
+ * lik[a·T + t] = p(x_t)·P_I(a | t), pq[b·T + t] = P_Q(b | t). */
+static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
+                               const double *lik, const double *pq_t, size_t warmup,
+                               size_t count, int unquantized, batch_ws *b)
+{
+    const size_t S = ch->S, T = ch->T, M = ch->M, K = ch->K;
+    const double *pi = ch->window_dmc->p, *pq = ch->window_dmc_q->p;
+    size_t s = 0;
+    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= M)
+        s += mul * gsl_ran_discrete(b->rng, draw);
+    memcpy(b->aq, ch->state_prior, S * sizeof *b->aq);
+    memcpy(b->au, ch->state_prior, S * sizeof *b->au);
+    double sum_q = 0.0, sum_u = 0.0;
+    b->failed = 0;
+    for (size_t k = 0; k < warmup + count; k++) {
+        const size_t x = gsl_ran_discrete(b->rng, draw);
+        const size_t t = x + M * s;
+        s = t % S;
+        const double zi = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        const double zq = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        const double yi = ch->mean[t] + ch->sd[t] * zi;
+        const double yq = ch->mean_q[t] + ch->sd_q[t] * zq;
+        const size_t ci = cell_of(ch->thresholds, K - 1, yi);
+        const size_t cq = cell_of(ch->thresholds, K - 1, yq);
+        /* quantized: the joint cell's weights */
+        const double *li = lik + ci * T, *lq = pq_t + cq * T;
+        for (size_t j = 0; j < T; j++)
+            b->wq[j] = li[j] * lq[j];
+        const double lam_q = qc_isi_forward_step(ch, b->aq, b->wq, b->nq);
+        double *tmp = b->aq;
+        b->aq = b->nq;
+        b->nq = tmp;
+        const double ptrue = pi[t * K + ci] * pq[t * K + cq];
+        if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
+            b->failed = 1;
+            return;
+        }
+        if (k >= warmup)
+            sum_q += log(ptrue) - log(lam_q);
+        if (unquantized) {
+            double emax = -INFINITY;
+            for (size_t j = 0; j < T; j++) {
+                const double di = (yi - ch->mean[j]) * ch->inv_sd[j];
+                const double dq = (yq - ch->mean_q[j]) * ch->inv_sd_q[j];
+                const double e = ch->log_weight[j] - 0.5 * (di * di + dq * dq);
+                b->eu[j] = e;
+                emax = e > emax ? e : emax;
+            }
+            for (size_t j = 0; j < T; j++)
+                b->wu[j] = exp(b->eu[j] - emax);
+            const double lam_u = qc_isi_forward_step(ch, b->au, b->wu, b->nu);
+            tmp = b->au;
+            b->au = b->nu;
+            b->nu = tmp;
+            if (!(lam_u > 0.0)) {
+                b->failed = 1;
+                return;
+            }
+            if (k >= warmup)
+                sum_u += (b->eu[t] - ch->logp[x]) - (log(lam_u) + emax);
+        }
+    }
+    b->est_q = sum_q / (double)count;
+    b->est_u = unquantized ? sum_u / (double)count : NAN;
+}
+
 static void mean_ci(const double *v, size_t n, double *mean, double *half)
 {
     double m = 0.0;
@@ -176,7 +249,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
     qc_gsl_init();
     qc_status st;
     qc_isi_channel *ch = NULL;
-    double *lik = NULL, *est = NULL;
+    double *lik = NULL, *lik_q = NULL, *est = NULL;
     batch_ws *ws = NULL;
     gsl_ran_discrete_t *draw = NULL;
     const size_t B = QC_ISI_BATCHES;
@@ -190,6 +263,19 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
     if ((st = qc_isi_channel_build(req, &ch)) != QC_OK)
         return st;
     const size_t T = ch->T, S = ch->S, K = ch->K;
+    /* the exact symbol-by-symbol rate first: it refuses what it cannot
+     * hold before the simulation runs */
+    double symbolwise = NAN;
+    {
+        qc_dmc *d = NULL;
+        double mi = NAN;
+        if ((st = qc_isi_symbolwise_dmc(ch, &d)) == QC_OK)
+            st = qc_mutual_information(d, ch->law, &mi);
+        qc_dmc_free(d);
+        if (st != QC_OK)
+            goto done;
+        symbolwise = mi / QC_ISI_LN2;
+    }
     const size_t count = req->symbols / B;
     const size_t warmup = WARMUP_PER_TAP * (ch->ntaps - 1);
 
@@ -204,8 +290,17 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
     for (size_t t = 0; t < T; t++)
         for (size_t y = 0; y < K; y++)
             lik[y * T + t] = ch->law[t % ch->M] * ch->window_dmc->p[t * K + y];
+    if (ch->coherent) {
+        if (!(lik_q = qc_malloc_array(K * T, sizeof *lik_q))) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        for (size_t t = 0; t < T; t++)
+            for (size_t y = 0; y < K; y++)
+                lik_q[y * T + t] = ch->window_dmc_q->p[t * K + y];
+    }
     for (size_t b = 0; b < B; b++) {
-        ws[b].aq = qc_malloc_array(4 * S + 2 * T, sizeof(double));
+        ws[b].aq = qc_malloc_array(4 * S + 3 * T, sizeof(double));
         ws[b].rng = gsl_rng_alloc(gsl_rng_mt19937);
         if (!ws[b].aq || !ws[b].rng) {
             st = qc_fail(QC_ENOMEM, "out of memory");
@@ -216,6 +311,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         ws[b].nu = ws[b].aq + 3 * S;
         ws[b].wu = ws[b].aq + 4 * S;
         ws[b].eu = ws[b].aq + 4 * S + T;
+        ws[b].wq = ws[b].aq + 4 * S + 2 * T;
         gsl_rng_set(ws[b].rng, (unsigned long)splitmix64(req->seed ^ splitmix64(b + 1)));
     }
     {
@@ -223,8 +319,12 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
 #ifdef _OPENMP
 #pragma omp parallel for schedule(dynamic, 1)
 #endif
-        for (size_t b = 0; b < B; b++)
-            run_batch(ch, draw, lik, warmup, count, unq, &ws[b]);
+        for (size_t b = 0; b < B; b++) {
+            if (ch->coherent)
+                run_batch_coherent(ch, draw, lik, lik_q, warmup, count, unq, &ws[b]);
+            else
+                run_batch(ch, draw, lik, warmup, count, unq, &ws[b]);
+        }
     }
     for (size_t b = 0; b < B; b++) {
         if (ws[b].failed) {
@@ -243,16 +343,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         mean_ci(est + B, B, &out->unquantized_bits, &out->unquantized_ci_bits);
     else
         out->unquantized_bits = out->unquantized_ci_bits = NAN;
-    {
-        qc_dmc *d = NULL;
-        double mi = NAN;
-        if ((st = qc_isi_symbolwise_dmc(ch, &d)) == QC_OK)
-            st = qc_mutual_information(d, ch->law, &mi);
-        qc_dmc_free(d);
-        if (st != QC_OK)
-            goto done;
-        out->symbolwise_bits = mi / QC_ISI_LN2;
-    }
+    out->symbolwise_bits = symbolwise;
     out->states = S;
     out->batches = B;
     out->symbols = count * B;
@@ -266,6 +357,7 @@ done:
     free(ws);
     free(est);
     free(lik);
+    free(lik_q);
     if (draw)
         gsl_ran_discrete_free(draw);
     qc_isi_channel_free(ch);

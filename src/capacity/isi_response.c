@@ -22,7 +22,18 @@
  *   analysis for dispersive optical fiber communication systems", J.
  *   Lightw. Technol. 10(1), 1992), seen through the reference receiver:
  *   a 4th-order Bessel–Thomson low-pass at 0.75 × the symbol rate
- *   (dispersion:D:B sets another B). */
+ *   (dispersion:D:B sets another B).
+ *
+ * For a coherent receiver (qc_isi_coherent_response_taps) the dispersion
+ * response is the field's: the all-pass H(f) = exp(j·β2·ω²·L/2) of the
+ * linear Schrödinger equation without loss and nonlinearity (G. P.
+ * Agrawal, Nonlinear Fiber Optics, Academic Press, ch. 3), with
+ * β2·L = −λ²·D·L/(2π·c), between a transmit pulse and a matched receive
+ * filter whose product is the ideal Nyquist (zero roll-off) spectrum, so
+ * that the noise samples stay white and the symbol-spaced taps are the
+ * Fourier coefficients h_k = ∫_{−1/2}^{1/2} H(f·Rs)·e^{j2πfk} df of the
+ * all-pass over one Nyquist band (Σ_k |h_k|² = 1 by Parseval). They are
+ * computed by an inverse FFT of H on 2^16 points of that band. */
 #include "capacity/isi.h"
 #include "core/internal.h"
 
@@ -306,5 +317,105 @@ qc_status qc_isi_response_taps(const char *spec, double symbol_rate, double wave
     for (size_t i = 0; i < n; i++)
         taps_out[i] = samples[first + i] / sum;
     *ntaps = n;
+    return QC_OK;
+}
+
+/* ---- the coherent receiver ------------------------------------------ */
+
+#define COHERENT_GRID 65536 /* frequency points over one Nyquist band */
+
+qc_status qc_isi_coherent_response_taps(const char *spec, double symbol_rate,
+                                        double wavelength_nm, size_t max_taps, double *re,
+                                        double *im, size_t *ntaps, double *truncated_energy)
+{
+    qc_gsl_init();
+    if (!spec || !*spec)
+        return qc_fail(QC_EINVAL, "response: empty (expected gauss:B, bessel:N:B, rc:B or "
+                                  "dispersion:PS_NM)");
+    if (max_taps < 1 || max_taps > QC_ISI_MAX_TAPS)
+        return qc_fail(QC_EINVAL, "response '%s': at most %zu taps may be asked for (got %zu)",
+                       spec, QC_ISI_MAX_TAPS, max_taps);
+    if (strncmp(spec, "dispersion:", 11) != 0) {
+        qc_status st = qc_isi_response_taps(spec, symbol_rate, wavelength_nm, re, ntaps);
+        if (st != QC_OK)
+            return st;
+        for (size_t i = 0; i < *ntaps; i++)
+            im[i] = 0.0;
+        *truncated_energy = NAN;
+        return QC_OK;
+    }
+    const char *arg = spec + 11;
+    if (strchr(arg, ':'))
+        return qc_fail(QC_EINVAL,
+                       "response '%s': a coherent receiver's dispersion response is "
+                       "dispersion:PS_NM (the pulse is the ideal Nyquist pulse; no receiver "
+                       "bandwidth B)",
+                       spec);
+    double d;
+    qc_status st = parse_number(spec, arg, "the dispersion (ps/nm)", &d);
+    if (st != QC_OK)
+        return st;
+    if (!(symbol_rate > 0.0) || !isfinite(symbol_rate))
+        return qc_fail(QC_EINVAL,
+                       "response '%s': a dispersion response needs the symbol rate "
+                       "(symbol-rate, baud)",
+                       spec);
+    if (!(wavelength_nm > 0.0) || !isfinite(wavelength_nm))
+        return qc_fail(QC_EINVAL,
+                       "response '%s': a dispersion response needs the wavelength "
+                       "(wavelength-nm)",
+                       spec);
+    const double lambda = wavelength_nm * 1e-9, dsi = d * 1e-3; /* ps/nm → s/m */
+    /* phase at f = Rs: β2·(2π·Rs)²·L/2 = −π·λ²·D·L·Rs²/c */
+    const double a = -QC_ISI_PI * lambda * lambda * dsi * symbol_rate * symbol_rate /
+                     LIGHT_SPEED;
+    const size_t N = COHERENT_GRID;
+    double *z = qc_malloc_array(2 * N, sizeof *z);
+    if (!z)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    for (size_t n = 0; n < N; n++) {
+        const double f = (n < N / 2 ? (double)n : (double)n - (double)N) / (double)N;
+        const double ph = a * f * f;
+        z[2 * n] = cos(ph);
+        z[2 * n + 1] = sin(ph);
+    }
+    /* GSL's inverse: x_k = (1/N) Σ_n z_n e^{+2πi·nk/N} = h_k (k mod N) */
+    if (gsl_fft_complex_radix2_inverse(z, 1, N) != GSL_SUCCESS) {
+        free(z);
+        return qc_fail(QC_ENUMERIC, "response '%s': the inverse FFT failed", spec);
+    }
+#define H_RE(k) z[2 * (((k) + N) % N)]
+#define H_IM(k) z[2 * (((k) + N) % N) + 1]
+    double total = 0.0, biggest = 0.0;
+    for (size_t n = 0; n < N; n++) {
+        const double m2 = z[2 * n] * z[2 * n] + z[2 * n + 1] * z[2 * n + 1];
+        total += m2;
+        biggest = fmax(biggest, sqrt(m2));
+    }
+    /* the widest pair ±m with a tap at or above the floor */
+    long m = 0;
+    for (long k = (long)N / 2 - 1; k > 0; k--) {
+        const double mp = hypot(H_RE(k), H_IM(k)), mn = hypot(H_RE(-k), H_IM(-k));
+        if (fmax(mp, mn) >= QC_ISI_TAP_FLOOR * biggest) {
+            m = k;
+            break;
+        }
+    }
+    const long m_max = (long)(max_taps - 1) / 2;
+    if (m > m_max)
+        m = m_max;
+    double kept = 0.0;
+    for (long k = -m; k <= m; k++) {
+        /* H is even in f, so h_{−k} = h_k: the mean of the two keeps that
+         * exact through the FFT's rounding */
+        re[k + m] = 0.5 * (H_RE(k) + H_RE(-k));
+        im[k + m] = 0.5 * (H_IM(k) + H_IM(-k));
+        kept += re[k + m] * re[k + m] + im[k + m] * im[k + m];
+    }
+#undef H_RE
+#undef H_IM
+    free(z);
+    *ntaps = (size_t)(2 * m + 1);
+    *truncated_energy = fmax(0.0, total - kept);
     return QC_OK;
 }

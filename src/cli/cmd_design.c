@@ -377,11 +377,23 @@ static void print_fibre_link(FILE *f, const qc_fibre_link_result *l)
 static void print_memory(FILE *f, const qc_design_result *r, const char *ou)
 {
     fprintf(f, "\nmemory       %zu taps (", r->ntaps);
-    for (size_t i = 0; i < r->ntaps; i++)
-        fprintf(f, "%s%.6g", i ? ", " : "", r->taps[i]);
+    for (size_t i = 0; i < r->ntaps; i++) {
+        if (r->coherent)
+            fprintf(f, "%s%.6g%+.6gj", i ? ", " : "", r->taps[i], r->taps_imag[i]);
+        else
+            fprintf(f, "%s%.6g", i ? ", " : "", r->taps[i]);
+    }
     fprintf(f, "), %zu trellis states; the rates above are the link without "
                "interference\n",
             r->states);
+    if (r->coherent) {
+        fprintf(f, "             coherent: complex symbols, circular complex Gaussian noise, "
+                   "the thresholds on I and on Q; rates per complex symbol\n");
+        if (isfinite(r->truncated_energy))
+            fprintf(f, "             dispersion response (Nyquist pulse): energy outside the "
+                       "%zu taps %.3g of 1 (not modelled)\n",
+                    r->ntaps, r->truncated_energy);
+    }
     fprintf(f, "information  %.6f +- %.6f bit/symbol   sequence detector, quantized, i.i.d. "
                "law above\n",
             r->information_rate_bits, r->information_rate_ci_bits);

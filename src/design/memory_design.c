@@ -10,7 +10,9 @@
  * minimax search for a maximum", Proc. AMS 4, 1953). Every evaluation
  * simulates the same seeded sequence, so the rates of two full scales are
  * compared with common random numbers: the search sees the rate's change
- * with the thresholds, not the noise of two simulations. */
+ * with the thresholds, not the noise of two simulations. A coherent link
+ * (complex taps, QAM or PAM on the in-phase quadrature) scales the
+ * product quantizer's thresholds, the same on I and Q, by the same α. */
 #include "design/design_internal.h"
 #include "quantcap/memory.h"
 
@@ -23,23 +25,56 @@
 #define ALPHA_GRID 11     /* grid points on [ALPHA_LO, ALPHA_HI]       */
 #define GOLDEN_STEPS 10   /* refinement: bracket shrinks by 0.618^10     */
 
+/* The trellis's receiver mode of a request. */
+static qc_isi_mode mode_of(const qc_design_request *req)
+{
+    if (!req->memory.coherent)
+        return QC_ISI_REAL;
+    return req->channel.dimensions == 2 ? QC_ISI_COHERENT_QAM : QC_ISI_COHERENT_PAM;
+}
+
 qc_status qc_memory_check(const qc_design_request *req)
 {
     const qc_design_memory *m = &req->memory;
-    qc_status st = qc_isi_taps_check(m->taps, m->ntaps);
+    qc_status st = qc_isi_complex_taps_check(m->taps, m->coherent ? m->taps_imag : NULL,
+                                             m->ntaps);
     if (st != QC_OK)
         return st;
     if (req->channel.model && (st = qc_isi_model_check(req->channel.model)) != QC_OK)
         return st;
-    if (req->channel.dimensions == 2)
-        return qc_fail(QC_EINVAL, "taps: channels with memory take real alphabets (one "
-                                  "quadrature), not QAM");
-    if (qc_isi_states(req->channel.nlevels, m->ntaps) == 0)
+    if (!m->coherent) {
+        if (req->channel.dimensions == 2)
+            return qc_fail(QC_EINVAL, "taps: QAM on a channel with memory needs coherent "
+                                      "detection (detection coherent)");
+        if (m->taps_imag)
+            for (size_t i = 0; i < m->ntaps; i++)
+                if (m->taps_imag[i] != 0.0)
+                    return qc_fail(QC_EINVAL,
+                                   "taps: tap %zu (h%zu) is complex; complex taps need "
+                                   "coherent detection (detection coherent)",
+                                   i + 1, i);
+    } else if (req->channel.model &&
+               (qc_model_get_type(req->channel.model)->properties & QC_MODEL_INTENSITY)) {
+        return qc_fail(QC_EINVAL,
+                       "detection: coherent detection (complex taps, QAM) needs a field model "
+                       "with noise on each quadrature (gauss); model '%s' is an intensity "
+                       "model",
+                       qc_model_get_type(req->channel.model)->name);
+    }
+    const size_t M = qc_isi_alphabet_size(mode_of(req), req->channel.nlevels);
+    if (M == 0 || qc_isi_states(M, m->ntaps) == 0) {
+        if (mode_of(req) == QC_ISI_COHERENT_QAM)
+            return qc_fail(QC_EINVAL,
+                           "taps: %zu-QAM and %zu taps make %zu^%zu trellis states; at most "
+                           "%zu states are supported (QPSK with 6 taps, 16-QAM with 3, 64-QAM "
+                           "with 2)",
+                           M, m->ntaps, M, m->ntaps - 1, QC_ISI_MAX_STATES);
         return qc_fail(QC_EINVAL,
                        "taps: %zu levels and %zu taps make %zu^%zu trellis states; at most "
                        "%zu states are supported",
                        req->channel.nlevels, m->ntaps, req->channel.nlevels, m->ntaps - 1,
                        QC_ISI_MAX_STATES);
+    }
     const size_t n = m->symbols ? m->symbols : QC_DESIGN_MEMORY_SYMBOLS;
     if (n < QC_ISI_BATCHES * QC_ISI_MIN_BATCH)
         return qc_fail(QC_EINVAL, "symbols: at least %zu symbols are needed (got %zu)",
@@ -137,7 +172,8 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
                         .nlevels = res->nlevels, .input = res->input, .taps = m->taps,
                         .ntaps = m->ntaps, .thresholds = res->thresholds, .nthresholds = nt,
                         .symbols = m->symbols ? m->symbols : QC_DESIGN_MEMORY_SYMBOLS,
-                        .seed = m->seed},
+                        .seed = m->seed, .taps_imag = m->coherent ? m->taps_imag : NULL,
+                        .mode = mode_of(req)},
                 .base = res->thresholds};
     res->taps = qc_malloc_array(m->ntaps, sizeof *res->taps);
     res->memory_thresholds = qc_malloc_array(nt, sizeof *res->memory_thresholds);
@@ -148,6 +184,16 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     }
     memcpy(res->taps, m->taps, m->ntaps * sizeof *res->taps);
     res->ntaps = m->ntaps;
+    res->coherent = m->coherent != 0;
+    res->truncated_energy = m->coherent ? m->truncated_energy : NAN;
+    if (m->coherent) {
+        if (!(res->taps_imag = qc_malloc_array(m->ntaps, sizeof *res->taps_imag))) {
+            free(s.t);
+            return qc_fail(QC_ENOMEM, "out of memory");
+        }
+        for (size_t i = 0; i < m->ntaps; i++)
+            res->taps_imag[i] = m->taps_imag ? m->taps_imag[i] : 0.0;
+    }
     double alpha = 1.0;
     if (req->quantizer.kind == QC_QUANTIZER_UNIFORM && nt >= 2) {
         s.centre = 0.5 * (res->thresholds[0] + res->thresholds[nt - 1]);

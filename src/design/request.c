@@ -45,6 +45,7 @@ void qc_design_request_default(qc_design_request *req)
     req->input.objective = QC_OBJECTIVE_MI;
     req->quantizer.kind = QC_QUANTIZER_OPTIMAL;
     req->numerics.tol_bits = QC_DESIGN_DEFAULT_TOL_BITS;
+    req->memory.truncated_energy = NAN;
 }
 
 void qc_design_result_clear(qc_design_result *res)
@@ -57,6 +58,7 @@ void qc_design_result_clear(qc_design_result *res)
     free(res->input);
     qc_dmc_free(res->channel);
     free(res->taps);
+    free(res->taps_imag);
     free(res->memory_thresholds);
     memset(res, 0, sizeof *res);
 }

@@ -130,7 +130,11 @@ static qc_status unquantized_memory_rate(const qc_model *m, const qc_design_requ
                           .nthresholds = r.nthresholds,
                           .symbols = req->memory.symbols ? req->memory.symbols
                                                          : QC_DESIGN_MEMORY_SYMBOLS,
-                          .seed = req->memory.seed, .unquantized = 1};
+                          .seed = req->memory.seed, .unquantized = 1,
+                          .taps_imag = req->memory.coherent ? req->memory.taps_imag : NULL,
+                          .mode = !req->memory.coherent           ? QC_ISI_REAL
+                                  : req->channel.dimensions == 2 ? QC_ISI_COHERENT_QAM
+                                                                 : QC_ISI_COHERENT_PAM};
     qc_isi_result ir;
     if ((st = qc_isi_rate(&isi, &ir)) == QC_OK)
         *fig = ir.unquantized_bits;

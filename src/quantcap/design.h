@@ -206,10 +206,19 @@ typedef struct {
  * of the channel with memory are estimated by simulation, and a uniform
  * quantizer's full scale is re-optimized for them. ntaps = 0: memoryless. */
 typedef struct {
-    const double *taps;          /* h_0..h_L                                 */
+    const double *taps;          /* h_0..h_L (real parts when coherent)      */
     size_t ntaps;                /* 0: no memory                             */
     size_t symbols;              /* simulated symbols; 0: QC_DESIGN_MEMORY_SYMBOLS */
     uint64_t seed;               /* the simulation's seed                    */
+    /* Coherent detection (1): the received sample is complex, y_k =
+     * Σ_i h_i·x_{k−i} + circular complex Gaussian noise of the model on
+     * each quadrature, and the product quantizer cuts I and Q with the
+     * same thresholds. The symbols are QAM (channel.dimensions = 2) or
+     * the real levels on the in-phase quadrature. 0: one real output. */
+    int coherent;
+    const double *taps_imag;     /* imaginary parts (NULL: real; coherent only) */
+    double truncated_energy;     /* a coherent response's energy outside the
+                                    taps, echoed in the result (NaN: none)  */
 } qc_design_memory;
 
 #define QC_DESIGN_MEMORY_SYMBOLS ((size_t)200000)
@@ -382,6 +391,9 @@ typedef struct {
     double full_scale_factor;    /* memory_thresholds' spread over that of
                                     thresholds (1: unchanged)              */
     size_t memory_evaluations;   /* simulated rates of the full-scale search */
+    int coherent;                /* echo of request.memory.coherent          */
+    double *taps_imag;           /* owned (ntaps) when coherent, else NULL   */
+    double truncated_energy;     /* echo (NaN: not a truncated response)     */
     /* Probabilistic shaping (src/design/shaping.c): shaping_given is 1
      * when the request gave input.shaping; otherwise 0 and the numbers
      * below NaN. With a shaped law, entropy_bits is H(X), ngmi its NGMI,
@@ -413,7 +425,8 @@ typedef struct {
  * engine that stops short of its tolerance QC_ENOCONV, and QC_ENUMERIC,
  * QC_ENOMEM as they come. A channel with memory (req->memory) is checked
  * before the design (taps, states, symbols, a Gaussian-law model, real
- * levels: QC_EINVAL) and a noiseless output the model refuses fails after
+ * levels unless memory.coherent, no intensity model when coherent:
+ * QC_EINVAL) and a noiseless output the model refuses fails after
  * it (QC_EINVAL naming the symbols). The request and what it points to are never
  * modified. On failure the result is left empty (zeroed: safe to clear,
  * nothing to free). */

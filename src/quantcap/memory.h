@@ -19,10 +19,14 @@
 extern "C" {
 #endif
 
-/* The largest trellis: M^L states (M levels, L = taps − 1), 4^5. */
+/* The largest trellis: M^L states (M symbols, L = taps − 1), 4^5: QPSK
+ * with 6 taps, 16-QAM with 3, 64-QAM with 2. */
 #define QC_ISI_MAX_STATES ((size_t)1024)
 /* The most taps a channel may have (L ≤ 10: binary inputs, 2^10 states). */
 #define QC_ISI_MAX_TAPS ((size_t)11)
+/* Coherent symbol-by-symbol rate: its channel matrix has M × K² entries
+ * (K cells per quadrature), at most this many (e.g. 16-QAM with 10 bits). */
+#define QC_ISI_MAX_JOINT_CELLS ((size_t)1 << 24)
 /* Batches of the batch-means interval, and the fewest symbols per batch. */
 #define QC_ISI_BATCHES ((size_t)20)
 #define QC_ISI_MIN_BATCH ((size_t)200)
@@ -30,6 +34,20 @@ extern "C" {
 /* Check taps h_0..h_L: 1 ≤ n ≤ QC_ISI_MAX_TAPS, all finite, not all
  * zero. QC_EINVAL naming the tap (1-based) or the count. Reads only. */
 QC_API qc_status qc_isi_taps_check(const double *taps, size_t ntaps);
+
+/* The same for complex taps h_i = re[i] + j·im[i] (im NULL: real): all
+ * parts finite, not all zero. Reads only. */
+QC_API qc_status qc_isi_complex_taps_check(const double *re, const double *im, size_t ntaps);
+
+/* Parse a tap list "h0,h1,...", each tap a real number ("0.9", "-1e-2")
+ * or a complex one written a+bj, a-bj or bj ("0.9+0.1j", "-0.3j", as
+ * Python writes complex numbers). Writes at most QC_ISI_MAX_TAPS real parts into
+ * re and imaginary parts into im, their count into *ntaps and into
+ * *is_complex whether any imaginary part is written (even 0j). QC_EINVAL
+ * naming the tap (1-based) and its text, or the count. On failure the
+ * outputs are unspecified. */
+QC_API qc_status qc_isi_taps_parse(const char *text, double *re, double *im, size_t *ntaps,
+                                   int *is_complex);
 
 /* Taps of a named response sampled at the symbol rate, for the spec
  *   gauss:B        Gaussian low-pass, 3-dB bandwidth B × symbol rate
@@ -55,6 +73,29 @@ QC_API qc_status qc_isi_response_taps(const char *spec, double symbol_rate,
                                       double wavelength_nm, double *taps_out,
                                       size_t *ntaps);
 
+/* The taps of a named response for a coherent receiver (field-linear):
+ *   dispersion:D   D ps/nm of accumulated chromatic dispersion: the fibre's
+ *                  all-pass H(f) = exp(j·β2·ω²·L/2) = exp(−j·π·λ²·D·f²/c)
+ *                  between a transmitter and a matched receiver whose
+ *                  overall pulse is the ideal Nyquist (sinc, zero
+ *                  roll-off) pulse, sampled at the symbol instants:
+ *                  h_k = ∫_{−1/2}^{1/2} H(f·Rs)·e^{j2πfk} df, k = −m..m,
+ *                  taps h_{−m}..h_m in that order (Σ_all |h_k|² = 1);
+ *                  needs symbol_rate (baud) and wavelength_nm
+ *   gauss:B, bessel:N:B, rc:B  as qc_isi_response_taps (real taps)
+ * The dispersion taps are not rescaled: samples whose magnitude is below
+ * QC_ISI_TAP_FLOOR of the largest are dropped in symmetric pairs from
+ * both ends, and if more than max_taps remain (max_taps ≥ 1, at most
+ * QC_ISI_MAX_TAPS: the caller's limit from the trellis size) the
+ * centred window of the largest odd count ≤ max_taps is kept;
+ * *truncated_energy is the energy of the response outside the kept taps,
+ * 1 − Σ_kept |h_k|² (NaN for the real responses). QC_EINVAL naming the
+ * part of the spec at fault. On failure the outputs are unspecified. */
+QC_API qc_status qc_isi_coherent_response_taps(const char *spec, double symbol_rate,
+                                               double wavelength_nm, size_t max_taps,
+                                               double *re, double *im, size_t *ntaps,
+                                               double *truncated_energy);
+
 /* Number of states of the trellis, M^(ntaps−1); 0 when above
  * QC_ISI_MAX_STATES (or the power overflows). */
 QC_API size_t qc_isi_states(size_t nlevels, size_t ntaps);
@@ -64,8 +105,25 @@ QC_API size_t qc_isi_states(size_t nlevels, size_t ntaps);
  * (QC_MODEL_GAUSSIAN_LAW)? QC_EINVAL naming the model otherwise. */
 QC_API qc_status qc_isi_model_check(const qc_model *model);
 
+/* What the receiver samples (qc_isi_request.mode). */
+typedef enum {
+    QC_ISI_REAL = 0,      /* one real output: real levels, real taps (an
+                             intensity link, or one quadrature alone)      */
+    QC_ISI_COHERENT_PAM,  /* coherent: the real levels on the in-phase
+                             quadrature, complex taps, circular complex
+                             noise; I and Q each quantized                 */
+    QC_ISI_COHERENT_QAM   /* coherent: square QAM, the levels on each
+                             quadrature (M² symbols); I and Q quantized    */
+} qc_isi_mode;
+
+/* Symbols of the trellis's alphabet: nlevels, or nlevels² for QAM; 0 when
+ * that overflows. */
+QC_API size_t qc_isi_alphabet_size(qc_isi_mode mode, size_t nlevels);
+
 typedef struct {
-    const qc_model *model;   /* law of the output given the noiseless output */
+    const qc_model *model;   /* law of the output given the noiseless output
+                                (coherent: of each quadrature, a model
+                                without QC_MODEL_INTENSITY)                  */
     const double *levels;    /* the M transmitted levels                     */
     size_t nlevels;
     const double *input;     /* i.i.d. input law (NULL: uniform)             */
@@ -76,6 +134,9 @@ typedef struct {
     size_t symbols;          /* symbols counted, over all batches            */
     uint64_t seed;           /* the simulation's seed                        */
     int unquantized;         /* also the continuous-output rate (1) or not   */
+    const double *taps_imag; /* imaginary parts of the taps (NULL: real);
+                                only with a coherent mode                   */
+    qc_isi_mode mode;        /* QC_ISI_REAL (0) unless coherent              */
 } qc_isi_request;
 
 typedef struct {
@@ -84,13 +145,14 @@ typedef struct {
     double unquantized_bits; /* the same with continuous output (NaN: not run)*/
     double unquantized_ci_bits;
     double symbolwise_bits;  /* exact rate, ISI treated as noise, quantized,
-                                main cursor                                */
-    size_t states;           /* M^L                                          */
+                                main cursor (coherent: I and Q jointly)    */
+    size_t states;           /* M^L (QAM: M is the number of symbols, M²)    */
     size_t batches;
     size_t symbols;          /* symbols counted (a multiple of batches)      */
 } qc_isi_result;
 
-/* The information rates of the request (bit/symbol). The simulation runs
+/* The information rates of the request (bit/symbol; coherent: per complex
+ * symbol, the product quantizer's thresholds on I and on Q). The simulation runs
  * QC_ISI_BATCHES independent batches, batch b seeded from (seed, b), each
  * a warm-up then symbols/QC_ISI_BATCHES counted symbols; the rate is the
  * mean of the batch estimates and the interval their Student-t 95 %

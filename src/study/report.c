@@ -248,6 +248,12 @@ static void report_memory(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "full_scale_factor", qc_report_real(res->full_scale_factor));
     json_object_set_new(o, "memory_evaluations",
                         json_integer((json_int_t)res->memory_evaluations));
+    if (!res->coherent)
+        return; /* one real output: the keys above only */
+    json_object_set_new(o, "detection", json_string("coherent"));
+    json_object_set_new(o, "taps_imag", qc_report_array(res->taps_imag, res->ntaps));
+    if (isfinite(res->truncated_energy))
+        json_object_set_new(o, "truncated_energy", qc_report_real(res->truncated_energy));
 }
 
 /* ---- probabilistic shaping (src/design/shaping.c) ----------------- */

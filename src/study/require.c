@@ -16,7 +16,7 @@ static const char *const not_solvable[] = {
     "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid",
     "optimize-levels", "level-starts", "blocklength", "error-rate", "polarizations", "fec",
     "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset",
-    "channels", "taps", "response", "symbols", "shaping", NULL,
+    "channels", "taps", "response", "symbols", "shaping", "detection", NULL,
 };
 
 const char *qc_setting_db_unit(const char *key)

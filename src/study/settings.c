@@ -177,10 +177,15 @@ static const key_spec keys[] = {
           "polarizations of the ASE detected: 1 behind a polarizer, else 2 (default 2)", 1, 2),
     /* channels with memory (docs/models.md, docs/methods.md) */
     LIST("taps", "H0,H1,...", "intersymbol interference: y_k = sum_i h_i x_(k-i) + noise "
-         "(up to 1024 trellis states)"),
+         "(up to 1024 trellis states); complex taps a+bj (coherent)"),
     TEXT("response", "SPEC", "ISI taps from a response sampled at the symbol rate: gauss:B, "
-         "bessel:N:B, rc:B (B = 3-dB bandwidth / symbol rate) or dispersion:PS_NM (intensity "
-         "link at 1550 nm; needs symbol-rate)"),
+         "bessel:N:B, rc:B (B = 3-dB bandwidth / symbol rate) or dispersion:PS_NM (at 1550 "
+         "nm; needs symbol-rate)"),
+    CHOICE("detection", "intensity|coherent",
+           "receiver of a channel with memory: intensity (one real output; dispersion as "
+           "seen after square-law detection) or coherent (complex taps, I and Q quantized; "
+           "default for qam and complex taps)",
+           "intensity,coherent"),
     WHOLE("symbols", "N", "symbols simulated for the rates of a channel with memory (default "
           "200000)", 4000, (size_t)1 << 40),
     /* probabilistic shaping (docs/alphabets.md) */
@@ -353,6 +358,11 @@ static qc_status check_value(const char *key, const char *value)
     case K_WHOLE:
         return qc_parse_size(value, k->lo, k->hi, &z);
     case K_LIST:
+        if (strcmp(key, "taps") == 0 && strchr(value, 'j')) { /* complex taps a+bj */
+            double re[QC_ISI_MAX_TAPS], im[QC_ISI_MAX_TAPS];
+            int cplx;
+            return qc_isi_taps_parse(value, re, im, &n, &cplx);
+        }
         st = qc_parse_list(value, &list, &n);
         free(list);
         return st;

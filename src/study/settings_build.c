@@ -589,14 +589,20 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
 /* The wavelength a dispersion response is taken at, nm (C band). */
 #define RESPONSE_WAVELENGTH_NM 1550.0
 
-/* The channel with memory: taps given, or from a response. */
+/* The channel with memory: taps given, or from a response; the receiver
+ * (detection): coherent for QAM and complex taps unless said otherwise,
+ * else one real output (intensity). */
 static qc_status memory_of(qc_settings *s, qc_design_request *req)
 {
     const char *taps = qc_settings_get(s, "taps"), *resp = qc_settings_get(s, "response");
+    const char *det = qc_settings_get(s, "detection");
     qc_status st;
     if (!taps && !resp) {
         if (qc_settings_get(s, "symbols"))
             return qc_fail(QC_EINVAL, "'symbols' goes with 'taps' or 'response' (a channel "
+                                      "with memory)");
+        if (det)
+            return qc_fail(QC_EINVAL, "'detection' goes with 'taps' or 'response' (a channel "
                                       "with memory)");
         if (qc_settings_get(s, "seed") && req->quantizer.kind != QC_QUANTIZER_CONVERTER)
             return qc_fail(QC_EINVAL, "'seed' goes with 'taps' or 'response' (a channel with "
@@ -605,8 +611,14 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     }
     if (taps && resp)
         return qc_fail(QC_EINVAL, "give 'taps' or 'response', not both");
+    const int qam = req->channel.dimensions == 2;
+    if (det && strcmp(det, "intensity") == 0 && qam)
+        return qc_fail(QC_EINVAL, "detection: QAM is received coherently; 'detection "
+                                  "intensity' takes real (pam, upam) alphabets");
     size_t n = 0;
-    if (taps) {
+    int cplx = 0;
+    double truncated = NAN;
+    if (taps && !strchr(taps, 'j')) { /* real taps: the number-list grammar */
         double *t = NULL;
         if ((st = qc_parse_list(taps, &t, &n)) != QC_OK)
             return qc_fail(st, "taps: %s", qc_last_error());
@@ -617,13 +629,35 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
         }
         memcpy(s->taps, t, n * sizeof *t);
         free(t);
-    } else {
+        for (size_t i = 0; i < n; i++)
+            s->taps_imag[i] = 0.0;
+    } else if (taps) {
+        if ((st = qc_isi_taps_parse(taps, s->taps, s->taps_imag, &n, &cplx)) != QC_OK)
+            return st;
+        if (cplx && det && strcmp(det, "intensity") == 0)
+            return qc_fail(QC_EINVAL, "taps: complex taps (a+bj) need coherent detection; "
+                                      "'detection intensity' takes real taps");
+    }
+    const int coherent = det ? strcmp(det, "coherent") == 0 : (qam || cplx);
+    if (!taps) {
         double rs = NAN;
         if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK)
             return st;
-        if ((st = qc_isi_response_taps(resp, rs, RESPONSE_WAVELENGTH_NM, s->taps, &n)) !=
-            QC_OK)
+        if (coherent) {
+            /* the most taps the trellis takes for this alphabet */
+            const size_t M = qc_isi_alphabet_size(qam ? QC_ISI_COHERENT_QAM : QC_ISI_COHERENT_PAM,
+                                                  req->channel.nlevels);
+            size_t max_taps = 1;
+            while (M > 0 && max_taps < QC_ISI_MAX_TAPS && qc_isi_states(M, max_taps + 1) > 0)
+                max_taps++;
+            if ((st = qc_isi_coherent_response_taps(resp, rs, RESPONSE_WAVELENGTH_NM, max_taps,
+                                                     s->taps, s->taps_imag, &n, &truncated)) !=
+                QC_OK)
+                return st;
+        } else if ((st = qc_isi_response_taps(resp, rs, RESPONSE_WAVELENGTH_NM, s->taps, &n)) !=
+                   QC_OK) {
             return st;
+        }
     }
     double symbols = NAN, seed = NAN;
     if ((st = number(s, "symbols", NAN, &symbols)) != QC_OK ||
@@ -633,7 +667,10 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     req->memory.ntaps = n;
     req->memory.symbols = isnan(symbols) ? 0 : (size_t)symbols;
     req->memory.seed = isnan(seed) ? 1 : (uint64_t)seed;
-    return qc_isi_taps_check(s->taps, n);
+    req->memory.coherent = coherent;
+    req->memory.taps_imag = coherent ? s->taps_imag : NULL;
+    req->memory.truncated_energy = truncated;
+    return qc_isi_complex_taps_check(s->taps, coherent ? s->taps_imag : NULL, n);
 }
 
 /* The model of a setting: from the cache (borrowed), or a new instance

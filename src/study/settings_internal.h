@@ -33,6 +33,7 @@ struct qc_settings {
     /* taps of a channel with memory of the last build (given or from the
      * response; the request points here) */
     double taps[QC_ISI_MAX_TAPS];
+    double taps_imag[QC_ISI_MAX_TAPS];
     /* shaping of the last build (the request points here) */
     qc_shaping shaping;
 };

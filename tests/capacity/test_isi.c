@@ -248,10 +248,10 @@ static void test_design_with_memory(void **state)
     assert_true(r.information_rate_bits < 2.0);
     qc_design_result_clear(&r);
 
-    /* memory with QAM is refused before any design */
+    /* memory with QAM is refused before any design unless coherent */
     req.channel.dimensions = 2;
     assert_int_equal(qc_design(&req, &r), QC_EINVAL);
-    assert_message("not QAM");
+    assert_message("QAM on a channel with memory needs coherent detection");
     qc_model_free(m);
 }
 
