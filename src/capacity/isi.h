@@ -50,4 +50,29 @@ qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out);
 double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
                            double *next);
 
+/* One simulated batch, as the detector needs it: for symbol k the
+ * continuous output y[k], its cell among the thresholds and the true
+ * window; the figures count symbols first .. first + count − 1 (the
+ * warm-up before and a tail after give both recursions their context). */
+typedef struct {
+    const double *y;
+    const uint32_t *cell, *window;
+    size_t n, first, count;
+} qc_isi_trace;
+
+/* What the detector found on one batch (per bit / per symbol). */
+typedef struct {
+    double ber;              /* posterior-expected bit errors of the MAP
+                                symbol decisions, per bit                */
+    double ber_counted;      /* errors counted against the true bits     */
+    double bit_entropy_bits; /* Σ_b −log2 P(b_true | y), mean per symbol */
+} qc_isi_detection;
+
+/* The symbol-wise MAP (BCJR) detector on one batch (isi_bcjr.c); lik as
+ * in isi_rate.c (p(x_t)·P(cell | t) at lik[cell·T + t]), used unless
+ * `unquantized`. Returns 0, 1 when a likelihood vanished, −1 when out of
+ * memory; sets no message (it runs inside the parallel batches). */
+int qc_isi_bcjr(const qc_isi_channel *ch, const double *lik, const qc_isi_trace *tr,
+                const size_t *labels, unsigned nbits, int unquantized, qc_isi_detection *out);
+
 #endif

@@ -28,7 +28,14 @@
  * Coherent links: the sample is complex, its I and Q independent given
  * the window (circular noise), so a branch's likelihood is the product of
  * the two quadratures' cell probabilities (product quantizer) or Gaussian
- * densities; the I draw comes before the Q draw of each symbol. */
+ * densities; the I draw comes before the Q draw of each symbol.
+ *
+ * With bit labels, each batch of a real channel keeps its outputs, draws
+ * a tail of as many symbols as its warm-up after the counted ones (so the
+ * rates above are unchanged) and runs the symbol-wise MAP detector over it
+ * (isi_bcjr.c); its BER and GMI get batch-means intervals as the rates
+ * do. A coherent channel gets the symbol-by-symbol figures only. */
+#include "quantcap/figures.h"
 #include "capacity/isi.h"
 #include "core/internal.h"
 
@@ -82,7 +89,11 @@ typedef struct {
     double *wq;                /* coherent quantized weights (T)          */
     gsl_rng *rng;
     double est_q, est_u;       /* the batch's estimates, nats             */
-    int failed;                /* a step's likelihood vanished            */
+    int failed;                /* a step's likelihood vanished (1), out of
+                                  memory (−1)                             */
+    double *ty;                /* with labels: the batch's outputs,      */
+    uint32_t *tcell, *twin;    /* their cells and true windows            */
+    qc_isi_detection det_q, det_u; /* the detector's figures              */
 } batch_ws;
 
 /* The cell of a continuous output among n sorted thresholds. */
@@ -104,7 +115,7 @@ static size_t cell_of(const double *thr, size_t n, double y)
  * p(x_t)·P(y | t) are the quantized step weights. */
 static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
                       const double *lik, size_t warmup, size_t count, int unquantized,
-                      batch_ws *b)
+                      const qc_isi_request *req, batch_ws *b)
 {
     const size_t S = ch->S, T = ch->T, M = ch->M, K = ch->K;
     const double *pq = ch->window_dmc->p;
@@ -122,6 +133,11 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
         const double z = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
         const double y = ch->mean[t] + ch->sd[t] * z;
         const size_t c = cell_of(ch->thresholds, K - 1, y);
+        if (b->ty) {
+            b->ty[k] = y;
+            b->tcell[k] = (uint32_t)c;
+            b->twin[k] = (uint32_t)t;
+        }
         /* quantized */
         const double lam_q = qc_isi_forward_step(ch, b->aq, lik + c * T, b->nq);
         double *tmp = b->aq;
@@ -161,6 +177,25 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     }
     b->est_q = sum_q / (double)count;
     b->est_u = unquantized ? sum_u / (double)count : NAN;
+    if (!b->ty)
+        return;
+    /* the detector: a tail after the counted symbols, then BCJR */
+    const size_t n = 2 * warmup + count;
+    for (size_t k = warmup + count; k < n; k++) {
+        const size_t x = gsl_ran_discrete(b->rng, draw);
+        const size_t t = x + M * s;
+        s = t % S;
+        const double y = ch->mean[t] + ch->sd[t] * gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        b->ty[k] = y;
+        b->tcell[k] = (uint32_t)cell_of(ch->thresholds, K - 1, y);
+        b->twin[k] = (uint32_t)t;
+    }
+    qc_isi_trace tr = {.y = b->ty, .cell = b->tcell, .window = b->twin, .n = n,
+                       .first = warmup, .count = count};
+    int rc = qc_isi_bcjr(ch, lik, &tr, req->labels, req->label_bits, 0, &b->det_q);
+    if (rc == 0 && unquantized)
+        rc = qc_isi_bcjr(ch, lik, &tr, req->labels, req->label_bits, 1, &b->det_u);
+    b->failed = rc;
 }
 
 /* One batch of a coherent channel: as run_batch, with complex samples.
@@ -262,26 +297,41 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
                        req->symbols, B * QC_ISI_MIN_BATCH, B, QC_ISI_MIN_BATCH);
     if ((st = qc_isi_channel_build(req, &ch)) != QC_OK)
         return st;
+    if (req->labels && !ch->coherent && (st = qc_check_labels(ch->law, ch->M, req->labels, req->label_bits)) !=
+                           QC_OK) {
+        qc_isi_channel_free(ch);
+        return st;
+    }
     const size_t T = ch->T, S = ch->S, K = ch->K;
     /* the exact symbol-by-symbol rate first: it refuses what it cannot
      * hold before the simulation runs */
-    double symbolwise = NAN;
+    double symbolwise = NAN, symbolwise_ber = NAN, symbolwise_gmi = NAN;
     {
         qc_dmc *d = NULL;
-        double mi = NAN;
+        double mi = NAN, gmi = NAN;
+        qc_hard_figures hard;
         if ((st = qc_isi_symbolwise_dmc(ch, &d)) == QC_OK)
             st = qc_mutual_information(d, ch->law, &mi);
+        if (st == QC_OK && req->labels && !ch->coherent &&
+            (st = qc_hard_decision(d, ch->law, req->labels, req->label_bits, 1, &hard)) ==
+                QC_OK &&
+            (st = qc_gmi(d, ch->law, req->labels, req->label_bits, &gmi)) == QC_OK) {
+            symbolwise_ber = hard.pre_fec_ber;
+            symbolwise_gmi = gmi / QC_ISI_LN2;
+        }
         qc_dmc_free(d);
         if (st != QC_OK)
             goto done;
         symbolwise = mi / QC_ISI_LN2;
     }
+    /* the BCJR detector's figures: real channels with labels */
+    const int detect = req->labels && !ch->coherent;
     const size_t count = req->symbols / B;
     const size_t warmup = WARMUP_PER_TAP * (ch->ntaps - 1);
 
     lik = qc_malloc_array(K * T, sizeof *lik);
     ws = calloc(B, sizeof *ws);
-    est = qc_malloc_array(2 * B, sizeof *est);
+    est = qc_malloc_array(9 * B, sizeof *est);
     draw = gsl_ran_discrete_preproc(ch->M, ch->law);
     if (!lik || !ws || !est || !draw) {
         st = qc_fail(QC_ENOMEM, "out of memory");
@@ -313,6 +363,16 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         ws[b].eu = ws[b].aq + 4 * S + T;
         ws[b].wq = ws[b].aq + 4 * S + 2 * T;
         gsl_rng_set(ws[b].rng, (unsigned long)splitmix64(req->seed ^ splitmix64(b + 1)));
+        if (detect) {
+            const size_t n = 2 * warmup + count;
+            ws[b].ty = qc_malloc_array(n, sizeof *ws[b].ty);
+            ws[b].tcell = qc_malloc_array(n, sizeof *ws[b].tcell);
+            ws[b].twin = qc_malloc_array(n, sizeof *ws[b].twin);
+            if (!ws[b].ty || !ws[b].tcell || !ws[b].twin) {
+                st = qc_fail(QC_ENOMEM, "out of memory");
+                goto done;
+            }
+        }
     }
     {
         const int unq = req->unquantized != 0;
@@ -323,10 +383,14 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
             if (ch->coherent)
                 run_batch_coherent(ch, draw, lik, lik_q, warmup, count, unq, &ws[b]);
             else
-                run_batch(ch, draw, lik, warmup, count, unq, &ws[b]);
+                run_batch(ch, draw, lik, warmup, count, unq, req, &ws[b]);
         }
     }
     for (size_t b = 0; b < B; b++) {
+        if (ws[b].failed < 0) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
         if (ws[b].failed) {
             st = qc_fail(QC_ENUMERIC,
                          "memory channel: batch %zu met an output whose likelihood "
@@ -337,6 +401,17 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         est[b] = ws[b].est_q / QC_ISI_LN2;
         est[B + b] = ws[b].est_u / QC_ISI_LN2;
     }
+    double hx = 0.0;
+    for (size_t x = 0; x < ch->M; x++)
+        if (ch->law[x] > 0.0)
+            hx -= ch->law[x] * log2(ch->law[x]);
+    for (size_t b = 0; detect && b < B; b++) {
+        est[2 * B + b] = ws[b].det_q.ber;
+        est[3 * B + b] = ws[b].det_q.ber_counted;
+        est[4 * B + b] = hx - ws[b].det_q.bit_entropy_bits;
+        est[5 * B + b] = ws[b].det_u.ber;
+        est[6 * B + b] = hx - ws[b].det_u.bit_entropy_bits;
+    }
     memset(out, 0, sizeof *out);
     mean_ci(est, B, &out->rate_bits, &out->rate_ci_bits);
     if (req->unquantized)
@@ -344,6 +419,22 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
     else
         out->unquantized_bits = out->unquantized_ci_bits = NAN;
     out->symbolwise_bits = symbolwise;
+    out->symbolwise_ber = symbolwise_ber;
+    out->symbolwise_gmi_bits = symbolwise_gmi;
+    out->bcjr_ber = out->bcjr_ber_ci = out->bcjr_ber_counted = out->bcjr_ber_counted_ci = NAN;
+    out->bcjr_gmi_bits = out->bcjr_gmi_ci_bits = NAN;
+    out->unquantized_bcjr_ber = out->unquantized_bcjr_ber_ci = NAN;
+    out->unquantized_bcjr_gmi_bits = out->unquantized_bcjr_gmi_ci_bits = NAN;
+    if (detect) {
+        mean_ci(est + 2 * B, B, &out->bcjr_ber, &out->bcjr_ber_ci);
+        mean_ci(est + 3 * B, B, &out->bcjr_ber_counted, &out->bcjr_ber_counted_ci);
+        mean_ci(est + 4 * B, B, &out->bcjr_gmi_bits, &out->bcjr_gmi_ci_bits);
+        if (req->unquantized) {
+            mean_ci(est + 5 * B, B, &out->unquantized_bcjr_ber, &out->unquantized_bcjr_ber_ci);
+            mean_ci(est + 6 * B, B, &out->unquantized_bcjr_gmi_bits,
+                    &out->unquantized_bcjr_gmi_ci_bits);
+        }
+    }
     out->states = S;
     out->batches = B;
     out->symbols = count * B;
@@ -351,6 +442,9 @@ done:
     if (ws)
         for (size_t b = 0; b < B; b++) {
             free(ws[b].aq);
+            free(ws[b].ty);
+            free(ws[b].tcell);
+            free(ws[b].twin);
             if (ws[b].rng)
                 gsl_rng_free(ws[b].rng);
         }

@@ -199,7 +199,7 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
     if (isfinite(r->photons_per_symbol))
         fprintf(f, "photons      %.6g detected per symbol; %.6f bit/photon, %.6g photon/bit\n",
                 r->photons_per_symbol, r->bits_per_photon, r->photons_per_bit);
-    if (r->fec_given) {
+    if (r->fec_given && r->states == 0) { /* memory: in print_memory */
         int hard = r->fec.kind == QC_FEC_HARD;
         fprintf(f, "FEC          %s (%.4g %% overhead, %s threshold %.4g): %s, margin %.4f %s",
                 r->fec.name, 100.0 * r->fec.overhead, hard ? "pre-FEC BER" : "NGMI",
@@ -374,7 +374,8 @@ static void print_fibre_link(FILE *f, const qc_fibre_link_result *l)
 }
 
 /* A channel with memory: the simulated rates, each with its interval. */
-static void print_memory(FILE *f, const qc_design_result *r, const char *ou)
+static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
+                         const fec_penalty *p)
 {
     fprintf(f, "\nmemory       %zu taps (", r->ntaps);
     for (size_t i = 0; i < r->ntaps; i++) {
@@ -404,6 +405,33 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou)
     fprintf(f, "             simulated: %zu symbols in %zu batches, 95 %% intervals by batch "
                "means (Arnold et al. 2006)\n",
             r->memory_symbols, (size_t)QC_ISI_BATCHES);
+    if (isfinite(r->bcjr_pre_fec_ber)) {
+        fprintf(f, "hard         symbol-by-symbol pre-FEC BER %.4e, NGMI %.6f (exact); BCJR "
+                   "pre-FEC BER %.4e +- %.2e (symbol-wise MAP)\n",
+                r->symbolwise_pre_fec_ber, r->symbolwise_ngmi, r->bcjr_pre_fec_ber,
+                r->bcjr_pre_fec_ber_ci);
+        fprintf(f, "NGMI         BCJR %.6f +- %.6f, GMI %.6f +- %.6f bit/symbol (bit-wise "
+                   "a-posteriori LLRs); no ADC: BER %.4e, NGMI %.6f\n",
+                r->bcjr_ngmi, r->bcjr_ngmi_ci, r->bcjr_gmi_bits, r->bcjr_gmi_ci_bits,
+                r->unquantized_bcjr_pre_fec_ber, r->unquantized_bcjr_ngmi);
+    }
+    if (r->fec_given) {
+        const int hard = r->fec.kind == QC_FEC_HARD;
+        fprintf(f, "FEC          %s (%s threshold %.4g) with the BCJR detector: %s, margin "
+                   "%.4f %s; net %.6f bit/symbol",
+                r->fec.name, hard ? "pre-FEC BER" : "NGMI", r->fec.threshold,
+                r->fec_closes ? "closes" : "does not close", r->fec_margin,
+                hard ? "dB (Q-factor)" : "(NGMI)", r->net_bits);
+        if (isfinite(r->net_rate_gbps))
+            fprintf(f, ", %.6g Gb/s", r->net_rate_gbps);
+        fputc('\n', f);
+        if (p->given)
+            print_fec_penalty(f, r, p);
+    }
+    if (r->converter)
+        fprintf(f, "converter    on the memory channel: gain %.6g, offset %.6g (its noise "
+                   "added at every gain)\n",
+                r->memory_gain, r->memory_offset);
     fprintf(f, "thresholds (%s) for the memory channel, full scale x %.4f (%zu simulated "
                "rates)\n            ",
             ou, r->full_scale_factor, r->memory_evaluations);
@@ -462,7 +490,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         if (!mass_only || r->input[x] > 1e-6)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
     if (r->states > 0)
-        print_memory(f, r, ou);
+        print_memory(f, r, ou, p);
 }
 
 /* The comparison with a FEC code: per strategy the rate, the code's

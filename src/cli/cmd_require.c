@@ -49,6 +49,10 @@ static void help(const cli_args *a)
            "targets: ber=X (pre-FEC BER of MAP hard decisions, Gray labels), ngmi=X,\n"
            "gmi=X and rate=X (bit/symbol; rate is the objective's rate), fec=NAME (the\n"
            "threshold of a code of data/fec.tsv, or fec=user with --fec SPEC).\n"
+           "With taps or a response (a channel with memory) the figures are simulated on\n"
+           "the trellis, each with its 95 %% interval: rate is the information rate of\n"
+           "the sequence detector; ber, ngmi and gmi those of the symbol-wise MAP (BCJR)\n"
+           "detector; every value simulates the same seeded sequence.\n"
            "The figure is sampled at 9 points of the range to bracket its crossing of the\n"
            "target, then the crossing is found by Brent's method. A target the range does\n"
            "not reach (or meets everywhere) is an error (exit 2) naming the best value\n"
@@ -345,16 +349,27 @@ int cmd_require(int argc, char **argv)
             fputc('\n', f);
             print_link_at(f, set, key, &res, design);
             json_t *info = json_object_get(design, "information_rate_bits");
-            if (json_is_real(info))
+            if (json_is_real(info)) {
+#define JR(k) json_real_value(json_object_get(design, k))
                 fprintf(f,
-                        "memory       information rate %.6f +- %.6f bit/symbol at the required "
-                        "value (sequence detector; 95 %% interval of the simulation, %lld "
-                        "symbols); the required values are where the seeded estimates meet "
-                        "the target: another seed moves them by about the interval's width "
-                        "in rate; the rate above is the link without interference\n",
-                        json_real_value(info),
-                        json_real_value(json_object_get(design, "information_rate_ci_bits")),
+                        "memory       at the required value: information rate %.6f +- %.6f "
+                        "bit/symbol (sequence detector)",
+                        JR("information_rate_bits"), JR("information_rate_ci_bits"));
+                if (json_is_real(json_object_get(design, "bcjr_pre_fec_ber")))
+                    fprintf(f,
+                            "; BCJR pre-FEC BER %.4e +- %.2e, NGMI %.6f +- %.6f; "
+                            "symbol-by-symbol BER %.4e (exact)",
+                            JR("bcjr_pre_fec_ber"), JR("bcjr_pre_fec_ber_ci"), JR("bcjr_ngmi"),
+                            JR("bcjr_ngmi_ci"), JR("symbolwise_pre_fec_ber"));
+#undef JR
+                fprintf(f,
+                        "\n             95 %% intervals of the simulation (%lld symbols); the "
+                        "required values are where the seeded estimates meet the target: "
+                        "another seed moves them by about the interval's width in the "
+                        "figure; the rate, BER and NGMI above are the link without "
+                        "interference\n",
                         (long long)json_integer_value(json_object_get(design, "symbols")));
+            }
             json_t *shaping = json_object_get(design, "shaping");
             if (json_is_string(shaping)) {
                 fprintf(f, "shaping      %s: nu = %.6g, H(X) = %.6f %s", json_string_value(shaping),

@@ -1,18 +1,33 @@
-/* memory_design.c — the design of a quantizer in front of a sequence
- * detector: after the memoryless design, the information rates of the
- * channel with memory are estimated by simulation (quantcap/memory.h:
- * Arnold, Loeliger, Vontobel, Kavčić, Zeng, IEEE Trans. IT 52(8), 2006),
- * and a uniform quantizer's full scale is re-optimized for the quantized
- * information rate. The full scale is searched as a factor α on the
- * spread of the memoryless-optimal uniform thresholds about their centre
- * (α = 1 is the start): a grid over [ALPHA_LO, ALPHA_HI], then golden-
- * section refinement around its best point (J. Kiefer, "Sequential
- * minimax search for a maximum", Proc. AMS 4, 1953). Every evaluation
- * simulates the same seeded sequence, so the rates of two full scales are
- * compared with common random numbers: the search sees the rate's change
- * with the thresholds, not the noise of two simulations. A coherent link
- * (complex taps, QAM or PAM on the in-phase quadrature) scales the
- * product quantizer's thresholds, the same on I and Q, by the same α. */
+/* memory_design.c — the design of a quantizer in front of a detector on a
+ * channel with memory: after the memoryless design, the information rates
+ * of the channel with memory are estimated by simulation (quantcap/
+ * memory.h: Arnold, Loeliger, Vontobel, Kavčić, Zeng, IEEE Trans. IT
+ * 52(8), 2006), the quantizer's settings are re-optimized for the
+ * quantized information rate, and the trade's figures of the symbol-by-
+ * symbol receiver (exact) and of the symbol-wise MAP detector (BCJR:
+ * Bahl, Cocke, Jelinek, Raviv, IEEE Trans. IT 20(2), 1974; simulated on
+ * the same sequence) are filled in, with the FEC outcome of the latter.
+ *
+ * What is searched, starting from the memoryless-optimal settings:
+ *   - uniform: the full scale, as a factor α on the spread of the
+ *     thresholds about their centre (α = 1 is the start);
+ *   - converter (quantcap/quantizer.h) with the best gain: the gain, as a
+ *     factor 1/α on the memoryless-optimal one (α > 1: a wider full scale
+ *     on the receiver output), then the offset when it is chosen too; its
+ *     own noise (ENOB, jitter) is added to the channel's at every gain
+ *     (qc_model_add_noise: σ_conv/gain at the receiver output). An AGC
+ *     gain follows its rule on the output of the channel with memory;
+ *     a given gain and offset are kept.
+ * Each one-dimensional search is a grid, then golden-section refinement
+ * around its best point (J. Kiefer, "Sequential minimax search for a
+ * maximum", Proc. AMS 4, 1953), keeping the start unless it finds better.
+ * Every evaluation simulates the same seeded sequence, so the rates of two
+ * settings are compared with common random numbers: the search sees the
+ * rate's change with the thresholds, not the noise of two simulations.
+ * A coherent link (complex taps, QAM or PAM on the in-phase quadrature)
+ * scales the product quantizer's thresholds, the same on I and Q, by the
+ * same α; the detector's BER and GMI are simulated on real channels only,
+ * and a converter's settings are searched there only. */
 #include "design/design_internal.h"
 #include "quantcap/memory.h"
 
@@ -22,7 +37,9 @@
 
 #define ALPHA_LO 0.5
 #define ALPHA_HI 2.0
-#define ALPHA_GRID 11     /* grid points on [ALPHA_LO, ALPHA_HI]       */
+#define ALPHA_GRID 11     /* grid points on [ALPHA_LO, ALPHA_HI]         */
+#define OFFSET_REACH 0.125 /* offset searched ± this share of the full scale */
+#define OFFSET_GRID 9
 #define GOLDEN_STEPS 10   /* refinement: bracket shrinks by 0.618^10     */
 
 /* The trellis's receiver mode of a request. */
@@ -75,6 +92,10 @@ qc_status qc_memory_check(const qc_design_request *req)
                        req->channel.nlevels, m->ntaps, req->channel.nlevels, m->ntaps - 1,
                        QC_ISI_MAX_STATES);
     }
+    if (m->coherent && req->quantizer.kind == QC_QUANTIZER_CONVERTER)
+        return qc_fail(QC_EINVAL, "quantizer converter: its settings are searched on real "
+                                  "channels with memory; for a coherent one give quantizer "
+                                  "uniform or optimal");
     const size_t n = m->symbols ? m->symbols : QC_DESIGN_MEMORY_SYMBOLS;
     if (n < QC_ISI_BATCHES * QC_ISI_MIN_BATCH)
         return qc_fail(QC_EINVAL, "symbols: at least %zu symbols are needed (got %zu)",
@@ -82,72 +103,110 @@ qc_status qc_memory_check(const qc_design_request *req)
     return QC_OK;
 }
 
+typedef enum { PARAM_SCALE, PARAM_OFFSET } param;
+
 typedef struct {
     qc_isi_request isi;
-    const double *base; /* memoryless thresholds */
+    const qc_model *base;  /* the receiver's model                       */
+    size_t nt;
+    /* uniform: thresholds base_t scaled about centre */
+    const double *base_t;
     double centre;
-    double *t;          /* scratch thresholds    */
+    /* converter: transition levels T (full-scale units), own noise */
+    int converter;
+    const double *T;
+    double noise_sd;
+    double gain0;          /* the gain α = 1 stands for                  */
+    double offset;         /* the offset in use                          */
+    qc_model *noisy;       /* the receiver's model plus the converter's noise */
+    double *t;             /* the thresholds in use                      */
     size_t evaluations;
 } search;
 
-static qc_status rate_at(search *s, double alpha, double *bits)
+/* Set the thresholds (and the converter's noise) for factor alpha and the
+ * search's offset. */
+static qc_status set_to(search *s, double alpha)
 {
-    const size_t n = s->isi.nthresholds;
-    for (size_t j = 0; j < n; j++)
-        s->t[j] = s->centre + alpha * (s->base[j] - s->centre);
+    qc_status st = QC_OK;
+    if (!s->converter) {
+        for (size_t j = 0; j < s->nt; j++)
+            s->t[j] = s->centre + alpha * (s->base_t[j] - s->centre);
+        s->isi.model = s->base;
+    } else {
+        const double g = s->gain0 / alpha;
+        for (size_t j = 0; j < s->nt; j++)
+            s->t[j] = (s->T[j] - s->offset) / g;
+        qc_model_free(s->noisy);
+        s->noisy = NULL;
+        if (s->noise_sd > 0.0 && (st = qc_model_add_noise(s->base, s->noise_sd / g,
+                                                          &s->noisy)) != QC_OK)
+            return st;
+        s->isi.model = s->noisy ? s->noisy : s->base;
+    }
     s->isi.thresholds = s->t;
+    return st;
+}
+
+static qc_status rate_at(search *s, param p, double v, double alpha, double *bits)
+{
+    if (p == PARAM_OFFSET)
+        s->offset = v;
+    qc_status st = set_to(s, p == PARAM_SCALE ? v : alpha);
+    if (st != QC_OK)
+        return st;
     s->isi.unquantized = 0;
+    s->isi.labels = NULL;
     qc_isi_result r;
-    qc_status st = qc_isi_rate(&s->isi, &r);
+    st = qc_isi_rate(&s->isi, &r);
     s->evaluations++;
     if (st == QC_OK)
         *bits = r.rate_bits;
     return st;
 }
 
-/* The full-scale factor maximizing the simulated rate (common random
- * numbers: one seed for all). */
-static qc_status best_alpha(search *s, double *alpha_out)
+/* Maximize the simulated rate over one parameter (common random numbers:
+ * one seed for all): a grid on [lo, hi] (geometric for the scale), then
+ * golden-section refinement; the start `v0` is kept unless beaten. */
+static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid,
+                          double v0, double alpha, double *v_out)
 {
     qc_status st;
-    double a[ALPHA_GRID], f[ALPHA_GRID];
+    double a[ALPHA_GRID > OFFSET_GRID ? ALPHA_GRID : OFFSET_GRID];
+    double f[sizeof a / sizeof a[0]];
     size_t best = 0;
-    for (size_t i = 0; i < ALPHA_GRID; i++) {
-        /* geometric grid: full scales are compared by ratio */
-        a[i] = ALPHA_LO * pow(ALPHA_HI / ALPHA_LO, (double)i / (ALPHA_GRID - 1));
-        if ((st = rate_at(s, a[i], &f[i])) != QC_OK)
+    for (size_t i = 0; i < ngrid; i++) {
+        const double u = (double)i / (double)(ngrid - 1);
+        a[i] = p == PARAM_SCALE ? lo * pow(hi / lo, u) : lo + (hi - lo) * u;
+        if ((st = rate_at(s, p, a[i], alpha, &f[i])) != QC_OK)
             return st;
         if (f[i] > f[best])
             best = i;
     }
-    double lo = a[best > 0 ? best - 1 : 0], hi = a[best + 1 < ALPHA_GRID ? best + 1 : best];
+    double l = a[best > 0 ? best - 1 : 0], h = a[best + 1 < ngrid ? best + 1 : best];
     double xb = a[best], fb = f[best];
     const double g = 0.5 * (sqrt(5.0) - 1.0);
-    double x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo), f1, f2;
-    if ((st = rate_at(s, x1, &f1)) != QC_OK || (st = rate_at(s, x2, &f2)) != QC_OK)
+    double x1 = h - g * (h - l), x2 = l + g * (h - l), f1, f2;
+    if ((st = rate_at(s, p, x1, alpha, &f1)) != QC_OK ||
+        (st = rate_at(s, p, x2, alpha, &f2)) != QC_OK)
         return st;
     for (int k = 0; k < GOLDEN_STEPS; k++) {
-        if (f1 > fb) {
-            fb = f1;
-            xb = x1;
-        }
-        if (f2 > fb) {
-            fb = f2;
-            xb = x2;
-        }
+        if (f1 > fb)
+            fb = f1, xb = x1;
+        if (f2 > fb)
+            fb = f2, xb = x2;
         if (f1 >= f2) {
-            hi = x2;
+            h = x2;
             x2 = x1;
             f2 = f1;
-            x1 = hi - g * (hi - lo);
-            if ((st = rate_at(s, x1, &f1)) != QC_OK)
+            x1 = h - g * (h - l);
+            if ((st = rate_at(s, p, x1, alpha, &f1)) != QC_OK)
                 return st;
         } else {
-            lo = x1;
+            l = x1;
             x1 = x2;
             f1 = f2;
-            x2 = lo + g * (hi - lo);
-            if ((st = rate_at(s, x2, &f2)) != QC_OK)
+            x2 = l + g * (h - l);
+            if ((st = rate_at(s, p, x2, alpha, &f2)) != QC_OK)
                 return st;
         }
     }
@@ -157,9 +216,114 @@ static qc_status best_alpha(search *s, double *alpha_out)
         xb = x2, fb = f2;
     /* keep the start unless the search found better */
     double f0;
-    if ((st = rate_at(s, 1.0, &f0)) != QC_OK)
+    if ((st = rate_at(s, p, v0, alpha, &f0)) != QC_OK)
         return st;
-    *alpha_out = fb > f0 ? xb : 1.0;
+    *v_out = fb > f0 ? xb : v0;
+    if (p == PARAM_OFFSET)
+        s->offset = *v_out;
+    return QC_OK;
+}
+
+/* Mean and rms about it of the output of the channel with memory (the
+ * model's moments at every noiseless output Σ h_i·x_{k−i}, weighted by
+ * the i.i.d. law of the window): what an AGC measures. */
+static qc_status isi_output_moments(const search *s, double *mu, double *sd)
+{
+    const size_t M = s->isi.nlevels, L = s->isi.ntaps;
+    size_t T = 1;
+    for (size_t i = 0; i < L; i++)
+        T *= M;
+    double m1 = 0.0, m2 = 0.0;
+    for (size_t t = 0; t < T; t++) {
+        double u = 0.0, p = 1.0;
+        for (size_t i = 0, r = t; i < L; i++, r /= M) {
+            u += s->isi.taps[i] * s->isi.levels[r % M];
+            p *= s->isi.input ? s->isi.input[r % M] : 1.0 / (double)M;
+        }
+        double mean, var;
+        qc_status st = qc_model_moments(s->base, u, &mean, &var);
+        if (st != QC_OK)
+            return st;
+        m1 += p * mean;
+        m2 += p * (var + mean * mean);
+    }
+    *mu = m1;
+    *sd = sqrt(fmax(m2 - m1 * m1, 0.0));
+    if (!(*sd > 0.0))
+        return qc_fail(QC_EINVAL, "converter-gain: the output of the channel with memory has "
+                                  "no spread to scale");
+    return QC_OK;
+}
+
+/* The converter's gain and offset on the channel with memory; *alpha is
+ * gain0 over the chosen gain. */
+static qc_status converter_settings(search *s, const qc_converter *c, double *alpha)
+{
+    qc_status st;
+    *alpha = 1.0;
+    if (c->gain_mode == QC_GAIN_AGC) {
+        double mu, sd;
+        if ((st = isi_output_moments(s, &mu, &sd)) != QC_OK)
+            return st;
+        const double half = 0.5 * (c->full_scale_hi - c->full_scale_lo);
+        const double mid = 0.5 * (c->full_scale_hi + c->full_scale_lo);
+        const double g = half / (c->agc_k * sd);
+        *alpha = s->gain0 / g;
+        if (!c->offset_best)
+            s->offset = isnan(c->offset) ? mid - g * mu : c->offset;
+    } else if (c->gain_mode == QC_GAIN_BEST) {
+        if ((st = maximize(s, PARAM_SCALE, ALPHA_LO, ALPHA_HI, ALPHA_GRID, 1.0, 1.0, alpha)) !=
+            QC_OK)
+            return st;
+    }
+    if (c->offset_best) {
+        const double w = c->full_scale_hi - c->full_scale_lo, o0 = s->offset;
+        double o;
+        if ((st = maximize(s, PARAM_OFFSET, o0 - OFFSET_REACH * w, o0 + OFFSET_REACH * w,
+                           OFFSET_GRID, o0, *alpha, &o)) != QC_OK)
+            return st;
+    }
+    return QC_OK;
+}
+
+/* The trade's figures on the channel with memory, from the final rates. */
+static qc_status memory_figures(const qc_design_request *req, const qc_isi_result *r,
+                                unsigned nbits, qc_design_result *res)
+{
+    res->symbolwise_pre_fec_ber = res->symbolwise_ngmi = NAN;
+    res->bcjr_pre_fec_ber = res->bcjr_pre_fec_ber_ci = NAN;
+    res->bcjr_gmi_bits = res->bcjr_gmi_ci_bits = res->bcjr_ngmi = res->bcjr_ngmi_ci = NAN;
+    res->unquantized_bcjr_pre_fec_ber = res->unquantized_bcjr_pre_fec_ber_ci = NAN;
+    res->unquantized_bcjr_ngmi = res->unquantized_bcjr_ngmi_ci = NAN;
+    if (nbits == 0)
+        return QC_OK;
+    const double h = res->entropy_bits, m = (double)nbits;
+    res->symbolwise_pre_fec_ber = r->symbolwise_ber;
+    res->symbolwise_ngmi = qc_ngmi(r->symbolwise_gmi_bits, h, m);
+    res->bcjr_pre_fec_ber = r->bcjr_ber;
+    res->bcjr_pre_fec_ber_ci = r->bcjr_ber_ci;
+    res->bcjr_gmi_bits = r->bcjr_gmi_bits;
+    res->bcjr_gmi_ci_bits = r->bcjr_gmi_ci_bits;
+    /* NGMI is affine in the GMI: its interval is the GMI's over m */
+    res->bcjr_ngmi = qc_ngmi(r->bcjr_gmi_bits, h, m);
+    res->bcjr_ngmi_ci = r->bcjr_gmi_ci_bits / m;
+    res->unquantized_bcjr_pre_fec_ber = r->unquantized_bcjr_ber;
+    res->unquantized_bcjr_pre_fec_ber_ci = r->unquantized_bcjr_ber_ci;
+    res->unquantized_bcjr_ngmi = qc_ngmi(r->unquantized_bcjr_gmi_bits, h, m);
+    res->unquantized_bcjr_ngmi_ci = r->unquantized_bcjr_gmi_ci_bits / m;
+    if (req->input.fec) {
+        qc_fec_outcome o;
+        qc_status st = qc_fec_evaluate(req->input.fec, res->bcjr_pre_fec_ber, res->bcjr_ngmi,
+                                       h, m, &o);
+        if (st != QC_OK)
+            return st;
+        res->fec_closes = o.closes;
+        res->fec_margin = o.margin;
+        res->net_bits = o.net_bits * (double)res->polarizations;
+        res->net_rate_gbps = req->channel.symbol_rate > 0.0
+                                 ? res->net_bits * req->channel.symbol_rate * 1e-9
+                                 : NAN;
+    }
     return QC_OK;
 }
 
@@ -168,13 +332,19 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     const qc_design_memory *m = &req->memory;
     qc_status st;
     const size_t nt = res->nthresholds;
+    const int conv = res->converter && req->quantizer.converter;
     search s = {.isi = {.model = req->channel.model, .levels = res->levels,
                         .nlevels = res->nlevels, .input = res->input, .taps = m->taps,
                         .ntaps = m->ntaps, .thresholds = res->thresholds, .nthresholds = nt,
                         .symbols = m->symbols ? m->symbols : QC_DESIGN_MEMORY_SYMBOLS,
                         .seed = m->seed, .taps_imag = m->coherent ? m->taps_imag : NULL,
                         .mode = mode_of(req)},
-                .base = res->thresholds};
+                .base = req->channel.model, .nt = nt, .base_t = res->thresholds,
+                .converter = conv, .T = res->thresholds,
+                .noise_sd = conv ? res->converter_noise_rms : 0.0,
+                .gain0 = conv ? res->gain : 1.0, .offset = conv ? res->offset : 0.0};
+    size_t *labels = NULL;
+    unsigned nbits = 0;
     res->taps = qc_malloc_array(m->ntaps, sizeof *res->taps);
     res->memory_thresholds = qc_malloc_array(nt, sizeof *res->memory_thresholds);
     s.t = qc_malloc_array(nt, sizeof *s.t);
@@ -195,27 +365,59 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
             res->taps_imag[i] = m->taps_imag ? m->taps_imag[i] : 0.0;
     }
     double alpha = 1.0;
-    if (req->quantizer.kind == QC_QUANTIZER_UNIFORM && nt >= 2) {
+    if (conv) {
+        if ((st = converter_settings(&s, req->quantizer.converter, &alpha)) != QC_OK)
+            goto done;
+    } else if (req->quantizer.kind == QC_QUANTIZER_UNIFORM && nt >= 2) {
         s.centre = 0.5 * (res->thresholds[0] + res->thresholds[nt - 1]);
-        if ((st = best_alpha(&s, &alpha)) != QC_OK)
+        if ((st = maximize(&s, PARAM_SCALE, ALPHA_LO, ALPHA_HI, ALPHA_GRID, 1.0, 1.0,
+                           &alpha)) != QC_OK)
             goto done;
     }
+    if ((st = set_to(&s, alpha)) != QC_OK)
+        goto done;
     double span = 0.0;
     for (size_t j = 0; j < nt; j++)
-        span = fmax(span, fabs(res->thresholds[j]));
+        span = fmax(span, fabs(s.t[j]));
     for (size_t j = 0; j < nt; j++) {
-        double t = alpha == 1.0 ? res->thresholds[j]
-                                : s.centre + alpha * (res->thresholds[j] - s.centre);
+        double t = !conv && alpha == 1.0 ? res->thresholds[j] : s.t[j];
         /* a threshold at the centre of a symmetric set stays at 0 */
         res->memory_thresholds[j] = fabs(t) < 1e-9 * span ? 0.0 : t;
     }
     res->full_scale_factor = alpha;
+    res->memory_gain = conv ? s.gain0 / alpha : NAN;
+    res->memory_offset = conv ? s.offset : NAN;
     res->memory_evaluations = s.evaluations;
+    if (!m->coherent && qc_is_power_of_two(res->nlevels)) {
+        if (!(labels = qc_malloc_array(res->nlevels, sizeof *labels))) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        if ((st = qc_gray_labels(res->levels, res->nlevels, labels, &nbits)) != QC_OK)
+            goto done;
+    }
     s.isi.thresholds = res->memory_thresholds;
-    s.isi.unquantized = 1;
-    qc_isi_result r;
+    s.isi.labels = nbits ? labels : NULL;
+    s.isi.label_bits = nbits;
+    /* the converter's unquantized reference is the receiver's own, without
+     * the converter's noise: a second run on the same sequence */
+    s.isi.unquantized = !s.noisy;
+    qc_isi_result r, ru;
     if ((st = qc_isi_rate(&s.isi, &r)) != QC_OK)
         goto done;
+    if (s.noisy) {
+        qc_isi_request u = s.isi;
+        u.model = s.base;
+        u.unquantized = 1;
+        if ((st = qc_isi_rate(&u, &ru)) != QC_OK)
+            goto done;
+        r.unquantized_bits = ru.unquantized_bits;
+        r.unquantized_ci_bits = ru.unquantized_ci_bits;
+        r.unquantized_bcjr_ber = ru.unquantized_bcjr_ber;
+        r.unquantized_bcjr_ber_ci = ru.unquantized_bcjr_ber_ci;
+        r.unquantized_bcjr_gmi_bits = ru.unquantized_bcjr_gmi_bits;
+        r.unquantized_bcjr_gmi_ci_bits = ru.unquantized_bcjr_gmi_ci_bits;
+    }
     res->states = r.states;
     res->memory_symbols = r.symbols;
     res->information_rate_bits = r.rate_bits;
@@ -223,7 +425,10 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     res->unquantized_information_rate_bits = r.unquantized_bits;
     res->unquantized_information_rate_ci_bits = r.unquantized_ci_bits;
     res->symbolwise_rate_bits = r.symbolwise_bits;
+    st = memory_figures(req, &r, nbits, res);
 done:
+    qc_model_free(s.noisy);
+    free(labels);
     free(s.t);
     return st;
 }

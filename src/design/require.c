@@ -10,8 +10,13 @@
  * rule, through a quantizer whose thresholds are its decision boundaries
  * (src/quantizer/decisions.c). For BER targets the optimal quantizer
  * keeps those boundaries among its thresholds (keep_decisions), as a
- * receiver built for a hard-decision code would. Two roots closer than
- * the root tolerance give a penalty of exactly 0. */
+ * receiver built for a hard-decision code would. On a channel with
+ * memory the figures are those of the detectors on the trellis (the
+ * simulated information rate; the BER, GMI and NGMI of the symbol-wise
+ * MAP detector, Bahl, Cocke, Jelinek, Raviv, IEEE Trans. IT 20(2), 1974),
+ * every design simulating the same seeded sequence, so that the figure
+ * moves smoothly with the value (common random numbers). Two roots closer
+ * than the root tolerance give a penalty of exactly 0. */
 #include "design/design_internal.h"
 #include "quantcap/memory.h"
 
@@ -84,12 +89,13 @@ qc_status qc_target_parse(const char *spec, qc_target *out)
 
 double qc_design_figure(const qc_design_result *res, qc_target_kind kind)
 {
+    /* a channel with memory: the detectors on the trellis, simulated */
+    const int mem = res->states > 0;
     switch (kind) {
-    case QC_TARGET_BER: return res->pre_fec_ber;
-    case QC_TARGET_NGMI: return res->ngmi;
-    case QC_TARGET_GMI: return res->gmi_bits;
-    /* a channel with memory: the sequence detector's simulated rate */
-    case QC_TARGET_RATE: return res->states > 0 ? res->information_rate_bits : res->rate_bits;
+    case QC_TARGET_BER: return mem ? res->bcjr_pre_fec_ber : res->pre_fec_ber;
+    case QC_TARGET_NGMI: return mem ? res->bcjr_ngmi : res->ngmi;
+    case QC_TARGET_GMI: return mem ? res->bcjr_gmi_bits : res->gmi_bits;
+    case QC_TARGET_RATE: return mem ? res->information_rate_bits : res->rate_bits;
     default: return NAN;
     }
 }
@@ -109,11 +115,12 @@ static double from_goodness(qc_target_kind kind, double g)
 
 /* ---- the unquantized figures ---------------------------------------- */
 
-/* A channel with memory: the simulated information rate without the ADC
- * (the same seed and symbols as the design's; quantcap/memory.h), for
- * the design's levels and law. */
-static qc_status unquantized_memory_rate(const qc_model *m, const qc_design_request *req,
-                                         size_t *designs, double *fig)
+/* A channel with memory: the simulated figure without the ADC (the same
+ * seed and symbols as the design's; quantcap/memory.h), for the design's
+ * levels and law: the information rate, or the BCJR detector's BER, GMI
+ * or NGMI with Gray labels. */
+static qc_status unquantized_memory_figure(const qc_model *m, const qc_design_request *req,
+                                           qc_target_kind kind, size_t *designs, double *fig)
 {
     qc_design_result r = {0};
     qc_design_request sub = *req;
@@ -124,6 +131,29 @@ static qc_status unquantized_memory_rate(const qc_model *m, const qc_design_requ
     if (st != QC_OK)
         return st;
     ++*designs;
+    size_t *labels = NULL;
+    unsigned nbits = 0;
+    if (kind != QC_TARGET_RATE && req->memory.coherent) {
+        st = qc_fail(QC_EINVAL, "target %s: the detector's BER and GMI are simulated on real "
+                                "channels with memory; a coherent one is rated by its rate: "
+                                "give rate=X",
+                     qc_target_name(kind));
+        goto done;
+    }
+    if (kind != QC_TARGET_RATE) {
+        if (!qc_is_power_of_two(r.nlevels)) {
+            st = qc_fail(QC_EINVAL, "target %s needs Gray labels: a power of 2 levels (got "
+                                    "%zu)",
+                         qc_target_name(kind), r.nlevels);
+            goto done;
+        }
+        if (!(labels = qc_malloc_array(r.nlevels, sizeof *labels))) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+        if ((st = qc_gray_labels(r.levels, r.nlevels, labels, &nbits)) != QC_OK)
+            goto done;
+    }
     qc_isi_request isi = {.model = m, .levels = r.levels, .nlevels = r.nlevels,
                           .input = r.input, .taps = req->memory.taps,
                           .ntaps = req->memory.ntaps, .thresholds = r.thresholds,
@@ -134,10 +164,20 @@ static qc_status unquantized_memory_rate(const qc_model *m, const qc_design_requ
                           .taps_imag = req->memory.coherent ? req->memory.taps_imag : NULL,
                           .mode = !req->memory.coherent           ? QC_ISI_REAL
                                   : req->channel.dimensions == 2 ? QC_ISI_COHERENT_QAM
-                                                                 : QC_ISI_COHERENT_PAM};
+                                                                 : QC_ISI_COHERENT_PAM,
+                          .labels = labels, .label_bits = nbits};
     qc_isi_result ir;
-    if ((st = qc_isi_rate(&isi, &ir)) == QC_OK)
-        *fig = ir.unquantized_bits;
+    if ((st = qc_isi_rate(&isi, &ir)) != QC_OK)
+        goto done;
+    const double h = qc_entropy(r.input, r.nlevels) * QC_LOG2E;
+    switch (kind) {
+    case QC_TARGET_BER: *fig = ir.unquantized_bcjr_ber; break;
+    case QC_TARGET_GMI: *fig = ir.unquantized_bcjr_gmi_bits; break;
+    case QC_TARGET_NGMI: *fig = qc_ngmi(ir.unquantized_bcjr_gmi_bits, h, nbits); break;
+    default: *fig = ir.unquantized_bits; break;
+    }
+done:
+    free(labels);
     qc_design_result_clear(&r);
     return st;
 }
@@ -185,12 +225,8 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
-    if (req->memory.ntaps > 0) {
-        if (kind != QC_TARGET_RATE)
-            return qc_fail(QC_EINVAL, "with taps or a response, the target is the information "
-                                      "rate of the sequence detector: give rate=X");
-        return unquantized_memory_rate(m, req, designs, fig);
-    }
+    if (req->memory.ntaps > 0)
+        return unquantized_memory_figure(m, req, kind, designs, fig);
     /* a design that chooses its levels or law: those of the design (a
      * shaped law also scales the levels to the uniform law's power; pulse
      * position: the design's own unquantized reference, per symbol) */
@@ -296,6 +332,10 @@ static double evaluate(search *s, double u)
                              : req.channel.ppm_slots
                                  ? "pulse-position modulation is rated by its rate only: "
                                    "give rate=X"
+                             : req.memory.ntaps && req.memory.coherent
+                                 ? "the detector's BER and GMI are simulated on real "
+                                   "channels with memory; a coherent one is rated by its "
+                                   "rate: give rate=X"
                                  : "Gray labels need a power of 2 levels");
         }
     }

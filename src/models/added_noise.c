@@ -341,6 +341,22 @@ static const qc_model_type added_noise_type = {
     .destroy = noise_destroy,
 };
 
+/* The same over a Gaussian law given x: the sum is Gaussian given x too
+ * (the variances add), which channels with memory need. */
+static const qc_model_type added_noise_gaussian_type = {
+    .name = "added-noise",
+    .summary = "a model's output plus independent Gaussian noise (a converter's own noise)",
+    .output = QC_OUTPUT_REAL,
+    .properties = QC_MODEL_GAUSSIAN_LAW,
+    .below = noise_below,
+    .above = noise_above,
+    .density = noise_density,
+    .support = noise_support,
+    .check_level = noise_check_level,
+    .moments = noise_moments,
+    .destroy = noise_destroy,
+};
+
 qc_status qc_model_add_noise(const qc_model *base, double sigma, qc_model **out)
 {
     *out = NULL;
@@ -362,7 +378,8 @@ qc_status qc_model_add_noise(const qc_model *base, double sigma, qc_model **out)
     }
     s->base = base;
     s->sigma = sigma;
-    m->type = &added_noise_type;
+    m->type = (base->type->properties & QC_MODEL_GAUSSIAN_LAW) ? &added_noise_gaussian_type
+                                                                : &added_noise_type;
     m->state = s;
     *out = m;
     return QC_OK;

@@ -389,11 +389,36 @@ typedef struct {
                                     optimized for the information rate;
                                     other strategies, the memoryless ones  */
     double full_scale_factor;    /* memory_thresholds' spread over that of
-                                    thresholds (1: unchanged)              */
+                                    thresholds (1: unchanged); uniform and
+                                    converter settings are searched for
+                                    the information rate               */
     size_t memory_evaluations;   /* simulated rates of the full-scale search */
     int coherent;                /* echo of request.memory.coherent          */
     double *taps_imag;           /* owned (ntaps) when coherent, else NULL   */
     double truncated_energy;     /* echo (NaN: not a truncated response)     */
+    double memory_gain;          /* a converter: the gain and offset ahead  */
+    double memory_offset;        /* of it on the channel with memory (its
+                                    noise then σ/memory_gain at the receiver
+                                    output; memory_thresholds are its
+                                    transition levels referred to the
+                                    receiver output; full_scale_factor is
+                                    gain / memory_gain); NaN otherwise     */
+    /* The trade's figures on the channel with memory (Gray labels; NaN
+     * unless the levels are a power of 2). The symbol-by-symbol receiver,
+     * exact from the marginal law of its channel: */
+    double symbolwise_pre_fec_ber;
+    double symbolwise_ngmi;
+    /* The symbol-wise MAP (BCJR) detector, simulated on the rates'
+     * sequence, each with its 95 % batch-means half-width: the pre-FEC
+     * BER of its decisions, the GMI and NGMI from its bit-wise
+     * a-posteriori LLRs; and the same without the ADC. With a FEC code,
+     * fec_closes, fec_margin, net_bits and net_rate_gbps above are those
+     * of this detector on the channel with memory. */
+    double bcjr_pre_fec_ber, bcjr_pre_fec_ber_ci;
+    double bcjr_gmi_bits, bcjr_gmi_ci_bits;
+    double bcjr_ngmi, bcjr_ngmi_ci;
+    double unquantized_bcjr_pre_fec_ber, unquantized_bcjr_pre_fec_ber_ci;
+    double unquantized_bcjr_ngmi, unquantized_bcjr_ngmi_ci;
     /* Probabilistic shaping (src/design/shaping.c): shaping_given is 1
      * when the request gave input.shaping; otherwise 0 and the numbers
      * below NaN. With a shaped law, entropy_bits is H(X), ngmi its NGMI,
@@ -547,7 +572,9 @@ QC_API double qc_require_margin_db(const qc_require_result *res, int linear,
                                    double operating);
 
 /* The figure of `kind` of a finished design (pre-FEC BER, NGMI, GMI or
- * rate; NaN when the design defines none). */
+ * rate; NaN when the design defines none). On a channel with memory the
+ * figures of the detector on the trellis: the simulated information rate
+ * and the BCJR detector's BER, GMI and NGMI. */
 QC_API double qc_design_figure(const qc_design_result *res, qc_target_kind kind);
 
 /* ---- SNR of a model ------------------------------------------------- */

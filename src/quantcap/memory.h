@@ -137,6 +137,12 @@ typedef struct {
     const double *taps_imag; /* imaginary parts of the taps (NULL: real);
                                 only with a coherent mode                   */
     qc_isi_mode mode;        /* QC_ISI_REAL (0) unless coherent              */
+    const size_t *labels;    /* bit labels of the levels (label_bits bits,
+                                distinct; Gray for the trade's figures;
+                                ignored by coherent modes):
+                                the detectors' BER and GMI below. NULL:
+                                rates only                                 */
+    unsigned label_bits;
 } qc_isi_request;
 
 typedef struct {
@@ -147,6 +153,23 @@ typedef struct {
     double symbolwise_bits;  /* exact rate, ISI treated as noise, quantized,
                                 main cursor (coherent: I and Q jointly)    */
     size_t states;           /* M^L (QAM: M is the number of symbols, M²)    */
+    /* With labels (NaN otherwise). The symbol-by-symbol receiver (the
+     * channel of symbolwise_bits, MAP hard decision per cell; exact): */
+    double symbolwise_ber;   /* pre-FEC BER through the labels             */
+    double symbolwise_gmi_bits; /* BICM GMI with those labels              */
+    /* The symbol-wise MAP detector (BCJR: Bahl, Cocke, Jelinek, Raviv,
+     * IEEE Trans. IT 20(2), 1974) on the simulated batches, each figure
+     * the mean of the batch estimates with its Student-t 95 % half-width:
+     * the BER as the posterior-expected bit errors of its decisions, the
+     * errors counted against the transmitted bits (a check on the former),
+     * and the GMI H(X) − Σ_b H(B_b | Y) from its bit-wise a-posteriori
+     * probabilities. The unquantized ones (continuous output) with
+     * req.unquantized. */
+    double bcjr_ber, bcjr_ber_ci;
+    double bcjr_ber_counted, bcjr_ber_counted_ci;
+    double bcjr_gmi_bits, bcjr_gmi_ci_bits;
+    double unquantized_bcjr_ber, unquantized_bcjr_ber_ci;
+    double unquantized_bcjr_gmi_bits, unquantized_bcjr_gmi_ci_bits;
     size_t batches;
     size_t symbols;          /* symbols counted (a multiple of batches)      */
 } qc_isi_result;
@@ -156,10 +179,13 @@ typedef struct {
  * QC_ISI_BATCHES independent batches, batch b seeded from (seed, b), each
  * a warm-up then symbols/QC_ISI_BATCHES counted symbols; the rate is the
  * mean of the batch estimates and the interval their Student-t 95 %
- * half-width. Batches run in parallel with OpenMP when built with it; the
+ * half-width. With labels, each batch also runs the MAP detector over
+ * its own symbols plus a tail as long as the warm-up (drawn after the
+ * counted symbols, so the rates do not change), and its BER and GMI are
+ * estimated on the same sequence as the rates. Batches run in parallel with OpenMP when built with it; the
  * result does not depend on the thread count. Fails with QC_EINVAL naming
- * the culprit (taps, model, levels, law, thresholds, a noiseless output
- * the model refuses, too many states, too few symbols), QC_ENUMERIC,
+ * the culprit (taps, model, levels, law, thresholds, labels, a noiseless
+ * output the model refuses, too many states, too few symbols), QC_ENUMERIC,
  * QC_ENOMEM; on failure *out is unspecified. */
 QC_API qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out);
 

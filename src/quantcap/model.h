@@ -249,7 +249,8 @@ QC_API qc_status qc_model_table_levels(const qc_model *model, const double **lev
  * Gaussian on a grid by FFTW (docs/models.md says on which grid). The new
  * model borrows `base` (it must outlive it), has continuous output (also
  * over a count law), the base's levels, units and moments plus sigma², and
- * no SNR of its own. QC_EINVAL for a NULL base or a negative or
+ * no SNR of its own; over a QC_MODEL_GAUSSIAN_LAW base it has that
+ * property too (so it can drive a channel with memory). QC_EINVAL for a NULL base or a negative or
  * non-finite sigma, QC_ENOMEM; on failure *out is NULL. */
 QC_API qc_status qc_model_add_noise(const qc_model *base, double sigma, qc_model **out);
 

@@ -109,6 +109,7 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                      plot_extension(p->format));
             plot_safe_name(strrchr(path, '/') + 1);
             const char *fec_name = NULL;
+            int memory = 0;
             for (size_t pi = 0; pi < np; pi++)
                 for (size_t s = 0; s < ns; s++) {
                     size_t a = alpha_panels ? pi : g;
@@ -122,8 +123,11 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                             if (ca)
                                 vi[p->curve_axis] = c;
                             json_t *rec = ctx->records[plot_point_index(sc, a, vi)];
+                            /* a channel with memory: its BCJR detector's BER */
+                            double b = plot_record_number(rec, "bcjr_pre_fec_ber");
+                            memory |= !isnan(b);
                             ber[((pi * ns + s) * ncurves + c) * nx + j] =
-                                plot_record_number(rec, "pre_fec_ber");
+                                isnan(b) ? plot_record_number(rec, "pre_fec_ber") : b;
                             if (!isfinite(thr[pi * ns + s]))
                                 thr[pi * ns + s] = fec_threshold(rec, &fec_name);
                         }
@@ -185,7 +189,8 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                 plot_append(subject, sizeof subject, ": ", sc->alphabets[g].label);
             plot_append(subject, sizeof subject, ": ", what);
             plot_figure_title(sc, subject, ttext, w, h);
-            const char *ylabel = "pre-FEC BER (MAP hard decisions)";
+            const char *ylabel = memory ? "pre-FEC BER (symbol-wise MAP, BCJR)"
+                                        : "pre-FEC BER (MAP hard decisions)";
             int every = nx > 10 ? (int)(nx / 8) : 1;
             for (size_t pi = 0; pi < np; pi++) {
                 double box[4];

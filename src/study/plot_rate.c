@@ -48,6 +48,7 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
         do {
             if (count++ >= MAX_PLOTS_PER_KIND)
                 break;
+            int memory = 0;
             char ftext[1024] = "", ttext[640] = "";
             plot_file_combo_text(sc, &L, vi, ftext, sizeof ftext, ttext, sizeof ttext);
             char path[4300];
@@ -69,12 +70,18 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
                             if (ca)
                                 vi[p->curve_axis] = c;
                             json_t *rec = records[plot_point_index(sc, a, vi)];
+                            /* a channel with memory: the sequence detector's
+                             * rates, with and without the ADC */
+                            double im = plot_record_number(rec, "information_rate_bits");
+                            memory |= isfinite(im);
                             rate[((pi * ns + s) * ncurves + c) * nx + j] =
-                                plot_record_number(rec, QC_REPORT_RATE);
+                                isfinite(im) ? im : plot_record_number(rec, QC_REPORT_RATE);
                             /* the unquantized rate does not depend on the
                              * quantizer: take it from any curve that has it */
                             if (!isfinite(*u))
-                                *u = plot_record_number(rec, QC_REPORT_UNQUANTIZED);
+                                *u = plot_record_number(
+                                    rec, isfinite(im) ? "unquantized_information_rate_bits"
+                                                      : QC_REPORT_UNQUANTIZED);
                         }
                     }
                 }
@@ -115,7 +122,10 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
             if (!alpha_panels)
                 plot_append(subject, sizeof subject, ": ", sc->alphabets[g].label);
             char what[300];
-            snprintf(what, sizeof what, "information rate against %s", xlabel);
+            snprintf(what, sizeof what, "%s against %s",
+                     memory ? "information rate with memory (sequence detector)"
+                            : "information rate",
+                     xlabel);
             if (!alpha_panels) {
                 plot_append(subject, sizeof subject, ": ", what);
             } else {

@@ -6,6 +6,7 @@
 #include "core/internal.h"
 
 #include <math.h>
+#include <stddef.h>
 #include <stdlib.h>
 
 /* qc_objective_name and qc_quantizer_name live with the design
@@ -248,6 +249,31 @@ static void report_memory(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "full_scale_factor", qc_report_real(res->full_scale_factor));
     json_object_set_new(o, "memory_evaluations",
                         json_integer((json_int_t)res->memory_evaluations));
+    if (res->converter) {
+        json_object_set_new(o, "memory_gain", qc_report_real(res->memory_gain));
+        json_object_set_new(o, "memory_offset", qc_report_real(res->memory_offset));
+    }
+    static const struct {
+        const char *key;
+        size_t off;
+    } figs[] = {
+        {"symbolwise_pre_fec_ber", offsetof(qc_design_result, symbolwise_pre_fec_ber)},
+        {"symbolwise_ngmi", offsetof(qc_design_result, symbolwise_ngmi)},
+        {"bcjr_pre_fec_ber", offsetof(qc_design_result, bcjr_pre_fec_ber)},
+        {"bcjr_pre_fec_ber_ci", offsetof(qc_design_result, bcjr_pre_fec_ber_ci)},
+        {"bcjr_gmi_bits", offsetof(qc_design_result, bcjr_gmi_bits)},
+        {"bcjr_gmi_ci_bits", offsetof(qc_design_result, bcjr_gmi_ci_bits)},
+        {"bcjr_ngmi", offsetof(qc_design_result, bcjr_ngmi)},
+        {"bcjr_ngmi_ci", offsetof(qc_design_result, bcjr_ngmi_ci)},
+        {"unquantized_bcjr_pre_fec_ber", offsetof(qc_design_result, unquantized_bcjr_pre_fec_ber)},
+        {"unquantized_bcjr_pre_fec_ber_ci",
+         offsetof(qc_design_result, unquantized_bcjr_pre_fec_ber_ci)},
+        {"unquantized_bcjr_ngmi", offsetof(qc_design_result, unquantized_bcjr_ngmi)},
+        {"unquantized_bcjr_ngmi_ci", offsetof(qc_design_result, unquantized_bcjr_ngmi_ci)},
+    };
+    for (size_t i = 0; i < sizeof figs / sizeof figs[0]; i++)
+        json_object_set_new(o, figs[i].key,
+                            qc_report_real(*(const double *)((const char *)res + figs[i].off)));
     if (!res->coherent)
         return; /* one real output: the keys above only */
     json_object_set_new(o, "detection", json_string("coherent"));

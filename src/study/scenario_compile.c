@@ -186,14 +186,37 @@ static qc_status build_axis(const qc_scenario *sc, const sc_entry *e, sc_axis *a
     a->line = e->line;
     if (!qc_setting_known(e->key))
         return sc_unknown_key(sc, e, "[sweep]", qc_setting_suggest(e->key));
-    if (is_list_key(e->key))
+    const int lists = is_list_key(e->key);
+    if (lists && !strchr(e->value, ';'))
         return qc_fail(QC_EINVAL,
-                       "%s: '%s' takes a list of numbers and cannot be a sweep axis; give "
-                       "each choice its own [alphabet NAME] section",
+                       "%s: '%s' takes a list of numbers and cannot be a sweep axis of single "
+                       "numbers; separate whole lists with ';' (taps = 1, 0.5; 1, 0.3) or "
+                       "give each choice its own [alphabet NAME] section",
                        loc, e->key);
     size_t cap = 0;
     const char *p = e->value;
-    for (;;) {
+    /* a key that takes a list: the axis is whole lists separated by ';' */
+    for (const char *semi; lists; p = semi + 1) {
+        semi = strchr(p, ';');
+        size_t len = semi ? (size_t)(semi - p) : strlen(p);
+        char *item = trim_copy(p, len);
+        if (!item)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        if (item[0] == '\0') {
+            free(item);
+            return qc_fail(QC_EINVAL, "%s: '%s': list %zu is empty in '%s'", loc, e->key,
+                           a->n + 1, e->value);
+        }
+        qc_status st = axis_push(a, &cap, item);
+        if (st != QC_OK)
+            return st;
+        if (a->n > QC_SCENARIO_MAX_AXIS_VALUES)
+            return qc_fail(QC_EINVAL, "%s: '%s': more than %d values", loc, e->key,
+                           QC_SCENARIO_MAX_AXIS_VALUES);
+        if (!semi)
+            break;
+    }
+    for (; !lists;) {
         const char *comma = strchr(p, ',');
         size_t len = comma ? (size_t)(comma - p) : strlen(p);
         char *item = trim_copy(p, len);

@@ -2,7 +2,9 @@
  * Arnold, Loeliger, Vontobel, Kavčić, Zeng, IEEE Trans. IT 52(8), 2006)
  * on one Gaussian ISI channel given on the command line and prints its
  * rates as JSON, for tests/capacity/check_isi.py, which computes the
- * exact references with numpy/scipy.
+ * exact references with numpy/scipy. When the number of levels is a power
+ * of 2, the levels (given in increasing order) get the binary reflected
+ * Gray labels i ^ (i >> 1) and the detectors' BER and GMI are printed too.
  *
  * Usage: isi_dump SIGMA TAPS THRESHOLDS LEVELS SYMBOLS SEED
  *   TAPS, THRESHOLDS, LEVELS: comma lists; the model is gauss(SIGMA). */
@@ -35,9 +37,17 @@ int main(int argc, char **argv)
         fprintf(stderr, "isi_dump: %s\n", qc_last_error());
         return 2;
     }
+    size_t labels[64];
+    unsigned nbits = 0;
+    while (((size_t)1 << nbits) < nl)
+        nbits++;
+    const int labelled = nl <= 64 && ((size_t)1 << nbits) == nl;
+    for (size_t i = 0; labelled && i < nl; i++)
+        labels[i] = i ^ (i >> 1);
     qc_isi_request req = {.model = m, .levels = levels, .nlevels = nl, .taps = taps,
                           .ntaps = nt, .thresholds = thr, .nthresholds = nth,
-                          .symbols = symbols, .seed = seed, .unquantized = 1};
+                          .symbols = symbols, .seed = seed, .unquantized = 1,
+                          .labels = labelled ? labels : NULL, .label_bits = nbits};
     qc_isi_result r;
     if (qc_isi_rate(&req, &r) != QC_OK) {
         fprintf(stderr, "isi_dump: %s\n", qc_last_error());
@@ -47,6 +57,21 @@ int main(int argc, char **argv)
                           r.rate_ci_bits, "unquantized", r.unquantized_bits, "unquantized_ci",
                           r.unquantized_ci_bits, "symbolwise", r.symbolwise_bits, "states",
                           (json_int_t)r.states, "symbols", (json_int_t)r.symbols);
+    if (labelled) {
+        json_object_set_new(o, "symbolwise_ber", json_real(r.symbolwise_ber));
+        json_object_set_new(o, "symbolwise_gmi", json_real(r.symbolwise_gmi_bits));
+        json_object_set_new(o, "bcjr_ber", json_real(r.bcjr_ber));
+        json_object_set_new(o, "bcjr_ber_ci", json_real(r.bcjr_ber_ci));
+        json_object_set_new(o, "bcjr_ber_counted", json_real(r.bcjr_ber_counted));
+        json_object_set_new(o, "bcjr_ber_counted_ci", json_real(r.bcjr_ber_counted_ci));
+        json_object_set_new(o, "bcjr_gmi", json_real(r.bcjr_gmi_bits));
+        json_object_set_new(o, "bcjr_gmi_ci", json_real(r.bcjr_gmi_ci_bits));
+        json_object_set_new(o, "unquantized_bcjr_ber", json_real(r.unquantized_bcjr_ber));
+        json_object_set_new(o, "unquantized_bcjr_ber_ci", json_real(r.unquantized_bcjr_ber_ci));
+        json_object_set_new(o, "unquantized_bcjr_gmi", json_real(r.unquantized_bcjr_gmi_bits));
+        json_object_set_new(o, "unquantized_bcjr_gmi_ci",
+                            json_real(r.unquantized_bcjr_gmi_ci_bits));
+    }
     json_dumpf(o, stdout, JSON_REAL_PRECISION(17));
     putchar('\n');
     json_decref(o);

@@ -255,6 +255,139 @@ static void test_design_with_memory(void **state)
     qc_model_free(m);
 }
 
+
+/* The trade's figures on a channel with memory: the BCJR detector's BER,
+ * GMI and NGMI with their intervals, the exact symbol-by-symbol ones, the
+ * figure a target reads, and the FEC outcome of the detector. */
+static void test_design_memory_figures(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.5);
+    const double lev[4] = {-3, -1, 1, 3}, lev3[3] = {-2, 0, 2}, two[2] = {1.0, 0.45};
+    qc_fec kp4;
+    assert_int_equal(qc_fec_parse("kp4", &kp4), QC_OK);
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8;
+    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
+    req.memory.taps = two;
+    req.memory.ntaps = 2;
+    req.memory.symbols = 20000;
+    req.memory.seed = 5;
+    req.input.fec = &kp4;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_true(r.bcjr_pre_fec_ber > 0.0 && r.bcjr_pre_fec_ber < 0.5);
+    assert_true(r.bcjr_pre_fec_ber_ci > 0.0 && r.bcjr_gmi_ci_bits > 0.0);
+    assert_true(r.bcjr_ngmi > 0.0 && r.bcjr_ngmi <= 1.0);
+    /* NGMI = 1 − (H − GMI)/m is affine in the GMI (Cho, Schmalen, Winzer,
+     * ECOC 2017): its interval is the GMI's over m = 2 */
+    assert_near(r.bcjr_ngmi, 1.0 - (2.0 - r.bcjr_gmi_bits) / 2.0, TOL_SUM);
+    assert_near(r.bcjr_ngmi_ci, r.bcjr_gmi_ci_bits / 2.0, TOL_SUM);
+    /* the detector on the trellis beats the symbol-by-symbol receiver */
+    assert_true(r.bcjr_pre_fec_ber < r.symbolwise_pre_fec_ber);
+    assert_true(r.bcjr_ngmi > r.symbolwise_ngmi);
+    assert_true(r.unquantized_bcjr_pre_fec_ber <= r.bcjr_pre_fec_ber + r.bcjr_pre_fec_ber_ci +
+                                                      r.unquantized_bcjr_pre_fec_ber_ci);
+    assert_true(r.bcjr_gmi_bits <= r.information_rate_bits + r.information_rate_ci_bits +
+                                       r.bcjr_gmi_ci_bits);
+    assert_true(qc_design_figure(&r, QC_TARGET_BER) == r.bcjr_pre_fec_ber);
+    assert_true(qc_design_figure(&r, QC_TARGET_NGMI) == r.bcjr_ngmi);
+    assert_true(qc_design_figure(&r, QC_TARGET_GMI) == r.bcjr_gmi_bits);
+    assert_true(qc_design_figure(&r, QC_TARGET_RATE) == r.information_rate_bits);
+    /* the code is judged on the detector's BER */
+    assert_int_equal(r.fec_given, 1);
+    assert_int_equal(r.fec_closes, r.bcjr_pre_fec_ber <= kp4.threshold);
+    assert_near(r.fec_margin, qc_q_factor_db(r.bcjr_pre_fec_ber) - qc_q_factor_db(kp4.threshold),
+                1e-9);
+    qc_design_result_clear(&r);
+
+    /* three levels: no Gray labels, no bit figures */
+    req.channel.levels = lev3;
+    req.channel.nlevels = 3;
+    req.input.fec = NULL;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_true(isnan(r.bcjr_pre_fec_ber) && isnan(r.bcjr_ngmi) && isnan(r.symbolwise_ngmi));
+    assert_true(isnan(qc_design_figure(&r, QC_TARGET_BER)));
+    qc_design_result_clear(&r);
+    qc_model_free(m);
+}
+
+/* A converter on a channel with memory: its transition levels referred to
+ * the receiver output through its gain and offset, its own noise added.
+ * One tap with a given gain and offset: the symbol-by-symbol rate is the
+ * memoryless converter design's exact rate (Cover & Thomas eq. 2.28 on
+ * the same channel). AGC: the rule on the output of the channel with
+ * memory, var = E[x²]·Σh² + σ² (independent symbols). Best gain: the
+ * search (common random numbers) never ends below its start. */
+static void test_converter_on_memory(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.4);
+    const double lev[4] = {-3, -1, 1, 3}, one[1] = {1.0}, two[2] = {0.8, 0.5};
+    qc_converter c;
+    qc_converter_default(&c, -4.0, 4.0);
+    c.enob = 2.5;
+    c.gain = 0.9;
+    c.offset = 0.1;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8;
+    req.quantizer.kind = QC_QUANTIZER_CONVERTER;
+    req.quantizer.converter = &c;
+    req.memory.taps = one;
+    req.memory.ntaps = 1;
+    req.memory.symbols = 20000;
+    req.memory.seed = 9;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_near(r.symbolwise_rate_bits, r.rate_bits, TOL_SYMBOLWISE);
+    assert_true(fabs(r.information_rate_bits - r.rate_bits) <= r.information_rate_ci_bits);
+    assert_true(r.memory_gain == 0.9 && r.memory_offset == 0.1 && r.full_scale_factor == 1.0);
+    for (size_t j = 0; j < r.nthresholds; j++)
+        assert_near(r.memory_thresholds[j], (r.thresholds[j] - 0.1) / 0.9, 1e-12);
+    qc_design_result_clear(&r);
+
+    /* AGC on the channel with memory: gain = half full scale / (K·rms) */
+    req.memory.taps = two;
+    req.memory.ntaps = 2;
+    c.gain_mode = QC_GAIN_AGC;
+    c.agc_k = 2.0;
+    c.offset = NAN;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    const double var_x = 5.0; /* E[x²] of {±1, ±3}, mean 0 */
+    const double rms = sqrt(var_x * (0.8 * 0.8 + 0.5 * 0.5) + 0.4 * 0.4);
+    assert_near(r.memory_gain, 4.0 / (2.0 * rms), 1e-12);
+    assert_near(r.memory_offset, 0.0, 1e-12);
+    qc_design_result_clear(&r);
+
+    /* the best gain: searched, never below the memoryless-optimal start */
+    c.gain_mode = QC_GAIN_BEST;
+    c.offset = 0.0;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_true(r.memory_evaluations >= 20);
+    qc_model *noisy = NULL;
+    assert_int_equal(qc_model_add_noise(m, r.converter_noise_rms / r.gain, &noisy), QC_OK);
+    double t0[7];
+    for (size_t j = 0; j < 7; j++)
+        t0[j] = (r.thresholds[j] - r.offset) / r.gain;
+    qc_isi_request isi = {.model = noisy, .levels = lev, .nlevels = 4, .taps = two, .ntaps = 2,
+                          .thresholds = t0, .nthresholds = 7, .symbols = 20000, .seed = 9};
+    qc_isi_result start;
+    assert_int_equal(qc_isi_rate(&isi, &start), QC_OK);
+    assert_true(r.information_rate_bits >= start.rate_bits);
+    assert_near(r.full_scale_factor, r.gain / r.memory_gain, 1e-12);
+    qc_model_free(noisy);
+    qc_design_result_clear(&r);
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -265,6 +398,8 @@ int main(void)
         cmocka_unit_test(test_taps_and_states),
         cmocka_unit_test(test_threads_and_seeds),
         cmocka_unit_test(test_design_with_memory),
+        cmocka_unit_test(test_design_memory_figures),
+        cmocka_unit_test(test_converter_on_memory),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -82,6 +82,25 @@ static void test_valid_grid(void **state)
     qc_scenario_free(sc);
 }
 
+/* A key that takes a list sweeps over whole lists separated by ';': tap
+ * sets of a channel with memory, each point given one set. */
+static void test_list_axis(void **state)
+{
+    (void)state;
+    qc_scenario *sc = parse_ok("[receiver]\nmodel = gauss\nsigma = 0.3\nalphabet = pam:4\n"
+                               "[sweep]\ntaps = 1, 0.5; 1, 0.2;0.8,0.4,0.2\nbits = 3, 4\n");
+    assert_int_equal(qc_scenario_naxes(sc), 2);
+    assert_int_equal(qc_scenario_axis_size(sc, 0), 3);
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 0), "1, 0.5");
+    assert_string_equal(qc_scenario_axis_value(sc, 0, 2), "0.8,0.4,0.2");
+    qc_settings *s;
+    assert_int_equal(qc_scenario_point_settings(sc, 2 * 2 + 1, &s), QC_OK);
+    assert_string_equal(qc_settings_get(s, "taps"), "0.8,0.4,0.2");
+    assert_string_equal(qc_settings_get(s, "bits"), "4");
+    qc_settings_free(s);
+    qc_scenario_free(sc);
+}
+
 /* A scenario for every registered model, with its required parameters
  * set to a value inside their range: new models are covered as they land. */
 static void test_every_model(void **state)
@@ -239,6 +258,8 @@ static const error_case errors[] = {
     {BASE "[alphabet a]\nlabl = A\n", QC_EINVAL,
      "t.ini:5: unknown key 'labl' in [alphabet a] (did you mean 'label'?)"},
     {BASE "[sweep]\nlevels = 1,2\n", QC_EINVAL, "t.ini:5: 'levels' takes a list"},
+    {BASE "[sweep]\ntaps = 1, 0.5; ; 1\n", QC_EINVAL, "t.ini:5: 'taps': list 2 is empty"},
+    {BASE "[sweep]\ntaps = 1, 0.5; 1, nan\n", QC_EINVAL, "t.ini:5: 'taps':"},
     {BASE "bits = 2\n[sweep]\nbits = 1,2\n", QC_EINVAL,
      "t.ini:6: 'bits' is a sweep axis and is also set at line 4"},
     /* the range form of earlier versions, with the same values in ours */
@@ -448,7 +469,7 @@ static void test_hash(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test(test_valid_grid),    cmocka_unit_test(test_every_model),
+        cmocka_unit_test(test_valid_grid),    cmocka_unit_test(test_list_axis),    cmocka_unit_test(test_every_model),
         cmocka_unit_test(test_front_end_and_alphabets),
         cmocka_unit_test(test_ranges),        cmocka_unit_test(test_errors),
         cmocka_unit_test(test_text_hazards),  cmocka_unit_test(test_check_names_point),
