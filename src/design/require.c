@@ -295,7 +295,7 @@ static const char *undefined_why(const qc_design_request *req, qc_target_kind ki
         return "bits per photon need a photon-counting or APD model with signal photons "
                "above 0";
     if (req->channel.ppm_slots)
-        return "pulse-position modulation is rated by its rate: give rate=X, rate-per-slot=X or "
+        return "pulse-position modulation is rated by its rate only: give rate=X, rate-per-slot=X or "
                "bits-per-photon=X";
     return "Gray labels need a power of 2 levels";
 }
