@@ -365,9 +365,11 @@ int cmd_require(int argc, char **argv)
                         json_real_value(json_object_get(design, "entropy_bits")),
                         cli_rate_unit(dims == 2 ? 2u : 1u));
                 json_t *gain = json_object_get(design, "shaping_gain_db");
+                const char *pw = json_string_value(json_object_get(design, "shaping_power"));
                 if (json_is_real(gain))
-                    fprintf(f, "; gain %.4f dB over the uniform law at that SNR",
-                            json_real_value(gain));
+                    fprintf(f, "; gain %.4f dB over the uniform law at that %s",
+                            json_real_value(gain),
+                            pw && strcmp(pw, "E[x]") == 0 ? "average optical power" : "SNR");
                 fputc('\n', f);
             }
         }

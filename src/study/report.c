@@ -262,6 +262,9 @@ static void report_shaping(json_t *o, const qc_design_result *res)
     qc_shaping_format(&res->shaping, spec, sizeof spec);
     json_object_set_new(o, "shaping", json_string(spec));
     json_object_set_new(o, "shaping_nu", qc_report_real(res->shaping_nu));
+    /* the power the shaped law keeps and the gain is quoted in */
+    json_object_set_new(o, "shaping_power",
+                        json_string(res->shaping.intensity ? "E[x]" : "E[x^2]"));
     json_object_set_new(o, "shaping_scale", qc_report_real(res->shaping_scale));
     json_object_set_new(o, "uniform_rate_bits", qc_report_real(res->uniform_rate_bits));
     json_object_set_new(o, "shaping_gain_db", qc_report_real(res->shaping_gain_db));
