@@ -205,5 +205,22 @@ g = gain_db(lambda a: conv_rate(a * xc, np.full(4, 0.25)), r["rate_bits"], 20.0)
 tally.near("converter: shaping gain in SNR dB (scipy brentq)", r.get("shaping_gain_db"), g,
            TOL_GAIN_DB)
 
+# ---- require on a physical intensity link: the shaped law needs less light --
+# by the definition of the gain, the uniform law's required power minus the
+# shaped law's is the shaping gain at the shaped law's required power
+LINK = ["--target", "rate=1.5", "--solve-for", "received-dbm", "--range", "-55,-30", "--model",
+        "gauss-sd", "--alphabet", "upam:4", "--bits", "3", "--responsivity", "0.8",
+        "--thermal-density", "10e-12", "--bandwidth", "10e9"]
+req = {}
+for name, extra in (("shaped", ["--shaping", "best"]), ("uniform", [])):
+    p = subprocess.run([QC, "require", "--json", *LINK, *extra], capture_output=True, text=True)
+    check(p.returncode == 0, f"require {name}: exit {p.returncode} ({p.stderr.strip()})")
+    req[name] = json.loads(p.stdout) if p.returncode == 0 else {}
+if req["shaped"] and req["uniform"]:
+    gain = req["shaped"].get("design", {}).get("shaping_gain_db")
+    tally.near("require: uniform minus shaped required power = the shaping gain (dB)",
+               req["uniform"]["required"] - req["shaped"]["required"],
+               gain if gain is not None else float("nan"), 1e-4)
+
 print(f"{tally.count} checks, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
