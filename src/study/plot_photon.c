@@ -15,6 +15,7 @@
  * The other sweep axes are spread over panels and files
  * (plot_layout.c); line styles are the receivers'. */
 #include "study/plot.h"
+#include "study/report.h"
 #include "study/scenario_keys.h"
 
 #include <math.h>
@@ -166,17 +167,17 @@ qc_status plot_photon_efficiency(plot_ctx *ctx)
                     vi[p->x_axis] = j;
                     json_t *rec = ctx->records[plot_point_index(sc, a, vi)];
                     const size_t i = (pi * ncurves + c) * nx + j;
-                    const double ph = plot_record_number(rec, "photons_per_symbol");
-                    const double m = plot_record_number(rec, "ppm_slots");
-                    const double unq = plot_record_number(rec, "unquantized_bits");
+                    const double ph = plot_record_number(rec, QC_REPORT_PHOTONS);
+                    const double m = plot_record_number(rec, QC_REPORT_PPM_SLOTS);
+                    const double unq = plot_record_number(rec, QC_REPORT_UNQUANTIZED);
                     const int ppm = isfinite(m) && m >= 2;
                     xs[i] = ppm && ph > 0 ? ph : NAN;
-                    bpp[RX_SOFT][i] = ppm ? plot_record_number(rec, "bits_per_photon") : NAN;
-                    bpp[RX_HARD][i] = ppm ? plot_record_number(rec, "hard_bits_per_photon") : NAN;
+                    bpp[RX_SOFT][i] = ppm ? plot_record_number(rec, QC_REPORT_BITS_PER_PHOTON) : NAN;
+                    bpp[RX_HARD][i] = ppm ? plot_record_number(rec, QC_REPORT_HARD_BITS_PER_PHOTON) : NAN;
                     bpp[RX_UNQ][i] = ppm && ph > 0 ? unq / ph : NAN;
-                    slot[RX_SOFT][i] = ppm ? plot_record_number(rec, "rate_per_slot_bits") : NAN;
+                    slot[RX_SOFT][i] = ppm ? plot_record_number(rec, QC_REPORT_RATE_PER_SLOT) : NAN;
                     slot[RX_HARD][i] =
-                        ppm ? plot_record_number(rec, "hard_rate_per_slot_bits") : NAN;
+                        ppm ? plot_record_number(rec, QC_REPORT_HARD_RATE_PER_SLOT) : NAN;
                     slot[RX_UNQ][i] = ppm ? unq / m : NAN;
                 }
             }

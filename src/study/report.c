@@ -128,8 +128,8 @@ static void report_figures(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "polarizations", json_integer(res->polarizations));
     json_object_set_new(o, "rate_gbps", qc_report_real(res->rate_gbps));
     json_object_set_new(o, "spectral_efficiency", qc_report_real(res->spectral_efficiency));
-    json_object_set_new(o, "photons_per_symbol", qc_report_real(res->photons_per_symbol));
-    json_object_set_new(o, "bits_per_photon", qc_report_real(res->bits_per_photon));
+    json_object_set_new(o, QC_REPORT_PHOTONS, qc_report_real(res->photons_per_symbol));
+    json_object_set_new(o, QC_REPORT_BITS_PER_PHOTON, qc_report_real(res->bits_per_photon));
     json_object_set_new(o, "photons_per_bit", qc_report_real(res->photons_per_bit));
     json_t *fec = json_null();
     if (res->fec_given) {
@@ -153,13 +153,13 @@ static void report_figures(json_t *o, const qc_design_result *res)
 /* Only for PPM designs, so the report of every other design is as it was. */
 static void report_ppm(json_t *o, const qc_design_result *res)
 {
-    json_object_set_new(o, "ppm_slots", json_integer((json_int_t)res->ppm_slots));
-    json_object_set_new(o, "rate_per_slot_bits", qc_report_real(res->rate_per_slot_bits));
+    json_object_set_new(o, QC_REPORT_PPM_SLOTS, json_integer((json_int_t)res->ppm_slots));
+    json_object_set_new(o, QC_REPORT_RATE_PER_SLOT, qc_report_real(res->rate_per_slot_bits));
     json_object_set_new(o, "ppm_evaluations", json_integer((json_int_t)res->ppm_evaluations));
     json_object_set_new(o, "hard_rate_bits", qc_report_real(res->hard_rate_bits));
-    json_object_set_new(o, "hard_rate_per_slot_bits",
+    json_object_set_new(o, QC_REPORT_HARD_RATE_PER_SLOT,
                         qc_report_real(res->hard_rate_bits / (double)res->ppm_slots));
-    json_object_set_new(o, "hard_bits_per_photon",
+    json_object_set_new(o, QC_REPORT_HARD_BITS_PER_PHOTON,
                         qc_report_real(res->photons_per_symbol > 0.0
                                            ? res->hard_rate_bits / res->photons_per_symbol
                                            : NAN));
