@@ -5,7 +5,10 @@
  * average power (Kschischang and Pasupathy, "Optimal nonuniform
  * signaling for Gaussian channels", IEEE Trans. IT 39(3), 1993), as used
  * by probabilistic amplitude shaping (Böcherer, Steiner, Schulte, IEEE
- * Trans. Commun. 63(12), 2015). Here: the spec grammar (none, mb:NU,
+ * Trans. Commun. 63(12), 2015); on intensity levels the law ∝ exp(−ν·x)
+ * of most entropy at a given average optical power E[x] (Cover and
+ * Thomas, Elements of Information Theory, 2nd ed., 2006, sec. 12.1),
+ * the same law of the amplitudes √x (qc_shaping_amplitudes). Here: the spec grammar (none, mb:NU,
  * entropy:H, best), the law, its entropy and power, and ν for a target
  * entropy by GSL's Brent root finder (Brent, Algorithms for Minimization
  * without Derivatives, 1973, ch. 4). The search for the best ν with the
@@ -36,14 +39,14 @@ qc_status qc_shaping_parse(const char *spec, qc_shaping *out)
     if (!spec)
         return qc_fail(QC_EINVAL, "no shaping given (%s)", expected);
     if (strcmp(spec, "none") == 0) {
-        *out = (qc_shaping){QC_SHAPING_NONE, 0.0};
+        *out = (qc_shaping){QC_SHAPING_NONE, 0.0, 0};
         return QC_OK;
     }
     if (strcmp(spec, "best") == 0) {
-        *out = (qc_shaping){QC_SHAPING_BEST, 0.0};
+        *out = (qc_shaping){QC_SHAPING_BEST, 0.0, 0};
         return QC_OK;
     }
-    qc_shaping s;
+    qc_shaping s = {0};
     const char *arg;
     if (strncmp(spec, "mb:", 3) == 0) {
         s.kind = QC_SHAPING_NU;
@@ -92,6 +95,19 @@ void qc_shaping_format(const qc_shaping *s, char *buf, size_t cap)
     case QC_SHAPING_BEST: snprintf(buf, cap, "best"); break;
     default: snprintf(buf, cap, "none"); break;
     }
+}
+
+qc_status qc_shaping_amplitudes(const double *levels, size_t n, int intensity, double *out)
+{
+    if (!levels || !out || n == 0)
+        return qc_fail(QC_EINVAL, "shaping: no levels given");
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(levels[i]) || (intensity && !(levels[i] >= 0.0)))
+            return qc_fail(QC_EINVAL, "shaping: level %zu (%g) is not %s", i + 1, levels[i],
+                           intensity ? "an intensity >= 0" : "a finite number");
+        out[i] = intensity ? sqrt(levels[i]) : levels[i];
+    }
+    return QC_OK;
 }
 
 static qc_status check_levels(const double *levels, size_t n)

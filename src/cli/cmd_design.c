@@ -162,17 +162,22 @@ static void print_shaping(FILE *f, const qc_design_result *r)
         fprintf(f, "shaping      none: the uniform law (nu = 0), H(X) = %.6f %s", r->entropy_bits,
                 unit);
     else
-        fprintf(f, "shaping      %s: Maxwell-Boltzmann nu = %.6g (levels as given), H(X) = %.6f %s",
-                spec, r->shaping_nu, r->entropy_bits, unit);
+        fprintf(f, "shaping      %s: %s nu = %.6g (levels as given), H(X) = %.6f %s", spec,
+                r->shaping.intensity ? "exponential law exp(-nu x) on the intensities,"
+                                     : "Maxwell-Boltzmann",
+                r->shaping_nu, r->entropy_bits, unit);
     if (r->shaping.kind == QC_SHAPING_BEST)
         fprintf(f, ", best %s of %zu designs", qc_objective_name(r->objective),
                 r->shaping_evaluations);
-    fprintf(f, "\n             levels scaled by %.6f to keep the uniform law's average power\n",
-            r->shaping_scale);
+    fprintf(f, "\n             levels scaled by %.6f to keep the uniform law's %s\n",
+            r->shaping_scale,
+            r->shaping.intensity ? "average optical power E[x]" : "average power E[x^2]");
     if (isfinite(r->shaping_gain_db))
-        fprintf(f, "shaping gain %.4f dB: the uniform law needs that much more SNR for the "
+        fprintf(f, "shaping gain %.4f dB: the uniform law needs that much more %s for the "
                    "same rate with this quantizer (uniform law here: %.9f %s)\n",
-                r->shaping_gain_db, r->uniform_rate_bits, unit);
+                r->shaping_gain_db,
+                r->shaping.intensity ? "average optical power (noise parameters held)" : "SNR",
+                r->uniform_rate_bits, unit);
     else if (isfinite(r->uniform_rate_bits))
         fprintf(f, "shaping gain undefined: the uniform law does not reach %.6f %s within "
                    "+-32 dB (uniform law here: %.9f %s)\n",

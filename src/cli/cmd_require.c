@@ -12,7 +12,8 @@
 
 static const cli_opt require_options[] = {
     {"target", "KIND=VALUE",
-     "what to meet: ber=X, ngmi=X, gmi=X (bit/symbol), rate=X (bit/symbol) or fec=NAME"},
+     "what to meet: ber=X, ngmi=X, gmi=X (bit/symbol), rate=X (bit/symbol), rate-per-slot=X "
+     "(bit/slot, ppm:M), bits-per-photon=X (photon counting) or fec=NAME"},
     {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, a link's "
                          "length-km, spans, launch-dbm or range-km, or any numeric model or "
                          "front-end key"},
@@ -47,8 +48,11 @@ static void help(const cli_args *a)
            "photons and powers 10 log10 of the ratio). When KEY is also given as an\n"
            "operating point, the margin of that point over the required value.\n\n"
            "targets: ber=X (pre-FEC BER of MAP hard decisions, Gray labels), ngmi=X,\n"
-           "gmi=X and rate=X (bit/symbol; rate is the objective's rate), fec=NAME (the\n"
-           "threshold of a code of data/fec.tsv, or fec=user with --fec SPEC).\n"
+           "gmi=X and rate=X (bit/symbol; rate is the objective's rate), rate-per-slot=X\n"
+           "(bit/slot of pulse-position modulation, ppm:M), bits-per-photon=X (rate per\n"
+           "detected signal photon; it falls as the photons grow, so the answer is the\n"
+           "most photons that still give X), fec=NAME (the threshold of a code of\n"
+           "data/fec.tsv, or fec=user with --fec SPEC).\n"
            "With taps or a response (a channel with memory) the figures are simulated on\n"
            "the trellis, each with its 95 %% interval: rate is the information rate of\n"
            "the sequence detector; ber, ngmi and gmi those of the symbol-wise MAP (BCJR)\n"
@@ -84,13 +88,15 @@ static const char *unit_of(const char *key, const qc_model_type *type)
 
 static const char *target_text(const qc_target *t, char *buf, size_t n)
 {
-    static const char *const what[] = {"pre-FEC BER <=", "NGMI >=", "GMI >=", "rate >="};
+    static const char *const what[QC_TARGET_COUNT] = {
+        "pre-FEC BER <=", "NGMI >=", "GMI >=", "rate >=", "rate per slot >=", "bits per photon >="};
+    static const char *const unit[QC_TARGET_COUNT] = {"", "", " bit/symbol", " bit/symbol",
+                                                      " bit/slot", " bit/photon"};
     if (t->from_fec)
         snprintf(buf, n, "%s %.4g (FEC %s, %.4g %% overhead)", what[t->kind], t->value,
                  t->fec.name, 100.0 * t->fec.overhead);
     else
-        snprintf(buf, n, "%s %.4g%s", what[t->kind], t->value,
-                 t->kind == QC_TARGET_GMI || t->kind == QC_TARGET_RATE ? " bit/symbol" : "");
+        snprintf(buf, n, "%s %.4g%s", what[t->kind], t->value, unit[t->kind]);
     return buf;
 }
 
@@ -101,8 +107,8 @@ static int target_of(const cli_args *a, qc_target *t)
     const char *spec = cli_get(a, "target"), *fec = cli_get(a, "fec");
     qc_status st;
     if (!spec && !fec)
-        return cli_usage_error("require: --target is required (ber=X, ngmi=X, gmi=X, rate=X or "
-                               "fec=NAME)");
+        return cli_usage_error("require: --target is required (ber=X, ngmi=X, gmi=X, rate=X, "
+                               "rate-per-slot=X, bits-per-photon=X or fec=NAME)");
     if (spec && fec && strcmp(spec, "fec=user") != 0) {
         char want[96];
         snprintf(want, sizeof want, "fec=%s", fec);
@@ -314,10 +320,13 @@ int cmd_require(int argc, char **argv)
         fprintf(f, "target       %s\n", target_text(&target, tt, sizeof tt));
         fprintf(f, "solve for    %s, range %.6g to %.6g %s (%s scale)\n", key, lo, hi, unit,
                 linear ? "log" : "dB");
-        fprintf(f, "required     %.6g %s with the %s quantizer\n", res.required, unit,
+        /* a figure that falls as the value grows (bits per photon against
+         * photons) is met up to the root: the answer is a most, not a least */
+        const char *bound = res.increasing ? "" : "at most ";
+        fprintf(f, "required     %s%.6g %s with the %s quantizer\n", bound, res.required, unit,
                 design ? json_string_value(json_object_get(design, "quantizer")) : "chosen");
         if (isfinite(res.unquantized_required)) {
-            fprintf(f, "unquantized  %.6g %s (same levels and law, no quantizer)\n",
+            fprintf(f, "unquantized  %s%.6g %s (same levels and law, no quantizer)\n", bound,
                     res.unquantized_required, unit);
             /* a penalty within the root tolerance prints as 0, not -0.0000 */
             fprintf(f, "penalty      %.4f dB at the target%s\n",
@@ -377,9 +386,11 @@ int cmd_require(int argc, char **argv)
                         json_real_value(json_object_get(design, "entropy_bits")),
                         cli_rate_unit(dims == 2 ? 2u : 1u));
                 json_t *gain = json_object_get(design, "shaping_gain_db");
+                const char *pw = json_string_value(json_object_get(design, "shaping_power"));
                 if (json_is_real(gain))
-                    fprintf(f, "; gain %.4f dB over the uniform law at that SNR",
-                            json_real_value(gain));
+                    fprintf(f, "; gain %.4f dB over the uniform law at that %s",
+                            json_real_value(gain),
+                            pw && strcmp(pw, "E[x]") == 0 ? "average optical power" : "SNR");
                 fputc('\n', f);
             }
         }

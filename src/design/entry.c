@@ -10,6 +10,12 @@
 
 qc_status qc_design(const qc_design_request *req, qc_design_result *res)
 {
+    if (req && req->channel.ppm_slots && req->input.shaping) {
+        memset(res, 0, sizeof *res);
+        return qc_fail(QC_EINVAL, "shaping: pulse-position modulation sends each of its M "
+                                  "positions with probability 1/M (its rate rests on that "
+                                  "symmetry); shaping is for pam, qam and upam levels");
+    }
     if (req && req->channel.ppm_slots)
         return qc_ppm_design(req, res);
     if (req && req->input.shaping) {

@@ -1,7 +1,8 @@
 /* require.c — the inverse question: which value of one quantity (an SNR,
  * an OSNR, a received power, photons per slot, any numeric parameter the
  * caller's builder turns into a design) meets a target (pre-FEC BER, NGMI,
- * GMI, rate, or a FEC code's threshold) with the chosen quantizer, and
+ * GMI, rate, rate per pulse-position slot, bits per detected photon, or a
+ * FEC code's threshold) with the chosen quantizer, and
  * which without it; the penalty at the target is the distance between
  * the two. The figure is first sampled over the range to check that it is
  * monotone and to bracket the crossing, then the crossing is found with
@@ -34,7 +35,8 @@
 #define ROOT_MAX_ITER 100
 #define BER_FLOOR 1e-300      /* log10 of a BER that underflowed to 0        */
 
-static const char *const target_names[QC_TARGET_COUNT] = {"ber", "ngmi", "gmi", "rate"};
+static const char *const target_names[QC_TARGET_COUNT] = {"ber",  "ngmi",          "gmi",
+                                                           "rate", "rate-per-slot", "bits-per-photon"};
 
 const char *qc_target_name(qc_target_kind kind)
 {
@@ -47,7 +49,7 @@ qc_status qc_target_parse(const char *spec, qc_target *out)
     const char *eq = spec ? strchr(spec, '=') : NULL;
     if (!eq)
         return qc_fail(QC_EINVAL, "target '%s' is not KIND=VALUE (ber=X, ngmi=X, gmi=X, "
-                                  "rate=X or fec=NAME)",
+                                  "rate=X, rate-per-slot=X, bits-per-photon=X or fec=NAME)",
                        spec ? spec : "");
     size_t kl = (size_t)(eq - spec);
     const char *v = eq + 1;
@@ -68,7 +70,8 @@ qc_status qc_target_parse(const char *spec, qc_target *out)
         if (strlen(target_names[i]) == kl && strncmp(spec, target_names[i], kl) == 0)
             k = i;
     if (k < 0)
-        return qc_fail(QC_EINVAL, "unknown target '%.*s' (choose ber, ngmi, gmi, rate or fec)",
+        return qc_fail(QC_EINVAL, "unknown target '%.*s' (choose ber, ngmi, gmi, rate, "
+                                  "rate-per-slot, bits-per-photon or fec)",
                        (int)kl, spec);
     char *end;
     double x = strtod(v, &end);
@@ -84,6 +87,12 @@ qc_status qc_target_parse(const char *spec, qc_target *out)
     if ((k == QC_TARGET_GMI || k == QC_TARGET_RATE) && !(x > 0.0))
         return qc_fail(QC_EINVAL, "target %s=%g: a rate must be > 0 bit/symbol",
                        target_names[k], x);
+    if (k == QC_TARGET_RATE_PER_SLOT && !(x > 0.0 && x <= 1.0))
+        return qc_fail(QC_EINVAL, "target rate-per-slot=%g: a pulse-position rate per slot "
+                                  "lies in (0, 1] bit/slot (at most log2(M)/M)", x);
+    if (k == QC_TARGET_BITS_PER_PHOTON && !(x > 0.0))
+        return qc_fail(QC_EINVAL, "target bits-per-photon=%g: a photon efficiency must be > 0 "
+                                  "bit/photon", x);
     return QC_OK;
 }
 
@@ -96,6 +105,9 @@ double qc_design_figure(const qc_design_result *res, qc_target_kind kind)
     case QC_TARGET_NGMI: return mem ? res->bcjr_ngmi : res->ngmi;
     case QC_TARGET_GMI: return mem ? res->bcjr_gmi_bits : res->gmi_bits;
     case QC_TARGET_RATE: return mem ? res->information_rate_bits : res->rate_bits;
+    case QC_TARGET_RATE_PER_SLOT:
+        return res->ppm_slots ? res->rate_bits / (double)res->ppm_slots : NAN;
+    case QC_TARGET_BITS_PER_PHOTON: return res->bits_per_photon;
     default: return NAN;
     }
 }
@@ -230,8 +242,9 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     /* a design that chooses its levels or law: those of the design (a
      * shaped law also scales the levels to the uniform law's power; pulse
      * position: the design's own unquantized reference, per symbol) */
+    const int per_use = kind == QC_TARGET_RATE_PER_SLOT || kind == QC_TARGET_BITS_PER_PHOTON;
     if (req->input.objective == QC_OBJECTIVE_CAPACITY || req->input.optimize_levels ||
-        req->input.shaping || req->channel.ppm_slots) {
+        req->input.shaping || req->channel.ppm_slots || per_use) {
         qc_design_request sub = *req;
         sub.numerics.skip_snr_penalty = 1;
         sub.input.fec = NULL;
@@ -242,6 +255,15 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
         law = r.input;
         if (kind == QC_TARGET_RATE) {
             *fig = r.unquantized_bits;
+            goto done;
+        }
+        /* the unquantized rate per slot, per detected signal photon */
+        if (kind == QC_TARGET_RATE_PER_SLOT) {
+            *fig = r.ppm_slots ? r.unquantized_bits / (double)r.ppm_slots : NAN;
+            goto done;
+        }
+        if (kind == QC_TARGET_BITS_PER_PHOTON) {
+            *fig = r.photons_per_symbol > 0.0 ? r.unquantized_bits / r.photons_per_symbol : NAN;
             goto done;
         }
     }
@@ -301,6 +323,26 @@ static double value_of(const qc_require_request *rq, double u)
     return rq->linear ? pow(10.0, u) : u;
 }
 
+/* Why a design has no figure of `kind`. */
+static const char *undefined_why(const qc_design_request *req, qc_target_kind kind)
+{
+    if (kind == QC_TARGET_RATE)
+        return "no rate";
+    if (kind == QC_TARGET_RATE_PER_SLOT)
+        return "a rate per slot is that of pulse-position modulation: give an alphabet ppm:M, "
+               "or rate=X";
+    if (kind == QC_TARGET_BITS_PER_PHOTON)
+        return "bits per photon need a photon-counting or APD model with signal photons "
+               "above 0";
+    if (req->channel.ppm_slots)
+        return "pulse-position modulation is rated by its rate only: give rate=X, rate-per-slot=X or "
+               "bits-per-photon=X";
+    if (req->memory.ntaps && req->memory.coherent)
+        return "the detector's BER and GMI are simulated on real channels with memory; a "
+               "coherent one is rated by its rate: give rate=X";
+    return "Gray labels need a power of 2 levels";
+}
+
 /* Goodness of the figure at u (log10 of the value for linear quantities). */
 static double evaluate(search *s, double u)
 {
@@ -327,16 +369,7 @@ static double evaluate(search *s, double u)
             qc_design_result_clear(&r);
             if (isnan(f))
                 st = qc_fail(QC_EINVAL, "target %s is undefined for this design (%s)",
-                             qc_target_name(rq->target.kind),
-                             rq->target.kind == QC_TARGET_RATE ? "no rate"
-                             : req.channel.ppm_slots
-                                 ? "pulse-position modulation is rated by its rate only: "
-                                   "give rate=X"
-                             : req.memory.ntaps && req.memory.coherent
-                                 ? "the detector's BER and GMI are simulated on real "
-                                   "channels with memory; a coherent one is rated by its "
-                                   "rate: give rate=X"
-                                 : "Gray labels need a power of 2 levels");
+                             qc_target_name(rq->target.kind), undefined_why(&req, rq->target.kind));
         }
     }
     if (st != QC_OK) {
@@ -445,7 +478,10 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
 
 static const char *figure_unit(qc_target_kind kind)
 {
-    return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol" : "";
+    return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol"
+           : kind == QC_TARGET_RATE_PER_SLOT               ? " bit/slot"
+           : kind == QC_TARGET_BITS_PER_PHOTON             ? " bit/photon"
+                                                           : "";
 }
 
 qc_status qc_require(const qc_require_request *rq, qc_require_result *out)

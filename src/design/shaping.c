@@ -12,7 +12,22 @@
  * shaped design's rate, with the same quantizer strategy and cells, minus
  * the operating SNR (GSL Brent root finding on the uniform design's rate
  * against the SNR); at high SNR it stays below the ultimate 1.53 dB = 10·
- * log10(πe/6) (Forney and Wei, IEEE JSAC 7(6), 1989). */
+ * log10(πe/6) (Forney and Wei, IEEE JSAC 7(6), 1989).
+ *
+ * Intensity levels (upam, or any levels of a model of optical
+ * intensities: gauss-sd, apd-gauss, apd, poisson, preamp) take the law
+ * p(x) ∝ exp(−ν·x) of most entropy at a given average optical power E[x]
+ * (Cover and Thomas, Elements of Information Theory, 2nd ed., 2006, sec.
+ * 12.1), the levels are scaled by E_unif[x]/E_ν[x] so that the average
+ * optical power stays that of the uniform law, and the shaping gain is
+ * the average optical power (dB, 10·log10) the uniform law needs more
+ * for the same rate, the model's noise parameters held (the noise of a
+ * signal-dependent model follows the scaled levels). For a continuous
+ * input at high SNR on additive Gaussian noise this tends to 10·log10(e/2)
+ * = 1.33 dB: the exponential law of mean μ and the uniform law on
+ * [0, eμ] have the same differential entropy log(eμ) (Cover and Thomas,
+ * sec. 8.1), and the latter's mean is eμ/2. A measured model (table) is
+ * refused: its densities exist at its own levels only. */
 #include "design/design_internal.h"
 
 #include <gsl/gsl_errno.h>
@@ -38,8 +53,11 @@
 typedef struct {
     const qc_design_request *req;
     unsigned dims;
+    int intensity;          /* law ∝ exp(−ν·x) at the same E[x]             */
     double *law, *scaled;   /* n each */
-    double uniform_power;   /* E[x²] of one dimension under the uniform law */
+    double *amp;            /* the amplitudes of the law (qc_shaping_amplitudes) */
+    double uniform_power;   /* E[x²] of one dimension under the uniform law
+                               (intensity: E[x], the average optical power) */
     size_t evals, evals_total;
     qc_status st;           /* first failure inside a GSL callback         */
 } shaping_ctx;
@@ -50,9 +68,16 @@ static qc_status check_request(const qc_design_request *req)
     const qc_model_type *type = qc_model_get_type(req->channel.model);
     if ((unsigned)sh->kind >= QC_SHAPING_COUNT)
         return qc_fail(QC_EINVAL, "shaping: unknown kind %d", (int)sh->kind);
-    if (!(type->properties & QC_MODEL_ADDITIVE_GAUSSIAN))
-        return qc_fail(QC_EINVAL, "shaping: Maxwell-Boltzmann laws are rated on the additive "
-                                  "Gaussian channel (model gauss), not on model '%s'",
+    if (type->properties & QC_MODEL_FROM_FILE)
+        return qc_fail(QC_EINVAL, "shaping: model '%s' holds measured densities at its own "
+                                  "levels only, and a shaped law keeps the uniform law's "
+                                  "average power by scaling the levels: measure at the scaled "
+                                  "levels, or give the law as probabilities",
+                       type->name);
+    if ((type->properties & QC_MODEL_INTENSITY) && !sh->intensity)
+        return qc_fail(QC_EINVAL, "shaping: model '%s' takes optical intensities; its shaped "
+                                  "law is exp(-nu x) at the same average optical power "
+                                  "(shaping.intensity = 1)",
                        type->name);
     if (req->input.objective == QC_OBJECTIVE_CAPACITY)
         return qc_fail(QC_EINVAL, "shaping: the capacity objective optimizes the law freely; "
@@ -79,13 +104,13 @@ static qc_status law_of(shaping_ctx *c, double nu, double *scale)
 {
     const size_t n = c->req->channel.nlevels;
     const double *x = c->req->channel.levels;
-    qc_status st = qc_mb_law(x, n, nu, c->law);
+    qc_status st = qc_mb_law(c->amp, n, nu, c->law);
     if (st != QC_OK)
         return st;
     double e2 = 0.0;
     for (size_t i = 0; i < n; i++)
-        e2 += c->law[i] * x[i] * x[i];
-    double a = sqrt(c->uniform_power / e2);
+        e2 += c->law[i] * (c->intensity ? x[i] : x[i] * x[i]);
+    double a = c->intensity ? c->uniform_power / e2 : sqrt(c->uniform_power / e2);
     if (!(a > 0.0) || !isfinite(a))
         return qc_fail(QC_EINVAL, "shaping: the law of nu = %g has average power %g; the levels "
                                   "cannot be scaled to the uniform law's power %g",
@@ -127,8 +152,7 @@ static double minus_rate(double h, void *ctx)
         return NAN;
     double nu, a;
     qc_design_result r;
-    qc_status st = qc_mb_nu_for_entropy(c->req->channel.levels, c->req->channel.nlevels,
-                                        c->dims, h, &nu);
+    qc_status st = qc_mb_nu_for_entropy(c->amp, c->req->channel.nlevels, c->dims, h, &nu);
     if (st == QC_OK)
         st = law_of(c, nu, &a);
     if (st == QC_OK)
@@ -252,7 +276,8 @@ static double uniform_gap(double t, void *ctx)
     if (c->st != QC_OK)
         return NAN;
     const size_t n = c->req->channel.nlevels;
-    const double a = pow(10.0, t / 20.0);
+    /* t in dB of power: E[x²] grows as a², the optical power E[x] as a */
+    const double a = pow(10.0, t / (c->intensity ? 10.0 : 20.0));
     for (size_t i = 0; i < n; i++)
         g->levels[i] = a * c->req->channel.levels[i];
     qc_design_result r;
@@ -352,28 +377,38 @@ qc_status qc_shaped_design(const qc_design_request *req, qc_design_result *res)
         return st;
     const qc_shaping sh = *req->input.shaping;
     const size_t n = req->channel.nlevels;
-    shaping_ctx c = {.req = req, .dims = req->channel.dimensions == 2 ? 2 : 1};
+    shaping_ctx c = {.req = req, .dims = req->channel.dimensions == 2 ? 2 : 1,
+                     .intensity = sh.intensity != 0};
     c.law = qc_malloc_array(n, sizeof *c.law);
     c.scaled = qc_malloc_array(n, sizeof *c.scaled);
-    if (!c.law || !c.scaled) {
+    c.amp = qc_malloc_array(n, sizeof *c.amp);
+    if (!c.law || !c.scaled || !c.amp) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    for (size_t i = 0; i < n; i++)
-        /* as law_of sums E[x²], so that ν = 0 scales the levels by 1 exactly */
-        c.uniform_power += (1.0 / (double)n) * req->channel.levels[i] * req->channel.levels[i];
+    if ((st = qc_shaping_amplitudes(req->channel.levels, n, c.intensity, c.amp)) != QC_OK)
+        goto done;
+    for (size_t i = 0; i < n; i++) {
+        /* as law_of sums the power, so that ν = 0 scales the levels by 1 exactly */
+        const double x = req->channel.levels[i];
+        c.uniform_power += (1.0 / (double)n) * (c.intensity ? x : x * x);
+    }
+    if (!(c.uniform_power > 0.0)) {
+        st = qc_fail(QC_EINVAL, "shaping: every level is 0: no average power to keep");
+        goto done;
+    }
     double nu = 0.0, scale = 1.0, hmin, hmax;
-    if ((st = qc_mb_entropy_range(req->channel.levels, n, c.dims, &hmin, &hmax)) != QC_OK)
+    if ((st = qc_mb_entropy_range(c.amp, n, c.dims, &hmin, &hmax)) != QC_OK)
         goto done;
     if (sh.kind == QC_SHAPING_NU) {
         nu = sh.value;
     } else if (sh.kind == QC_SHAPING_ENTROPY) {
-        st = qc_mb_nu_for_entropy(req->channel.levels, n, c.dims, sh.value, &nu);
+        st = qc_mb_nu_for_entropy(c.amp, n, c.dims, sh.value, &nu);
     } else if (sh.kind == QC_SHAPING_BEST && hmax > hmin) {
         double h = hmax;
         c.evals_total = SCAN_POINTS + BEST_MAX_ITER + 4;
         if ((st = best_entropy(&c, hmin, hmax, &h)) == QC_OK)
-            st = qc_mb_nu_for_entropy(req->channel.levels, n, c.dims, h, &nu);
+            st = qc_mb_nu_for_entropy(c.amp, n, c.dims, h, &nu);
     }
     if (st != QC_OK || (st = law_of(&c, nu, &scale)) != QC_OK ||
         (st = design_with(&c, c.scaled, c.law, 0, res)) != QC_OK)
@@ -397,5 +432,6 @@ qc_status qc_shaped_design(const qc_design_request *req, qc_design_result *res)
 done:
     free(c.law);
     free(c.scaled);
+    free(c.amp);
     return st;
 }

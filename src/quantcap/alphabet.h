@@ -133,7 +133,12 @@ QC_API size_t qc_constraint_costs(const qc_constraints *c, const double *levels,
  * law of a point is ∝ exp(−ν·|x|²), a product of two). ν refers to the
  * levels as given (pam: odd integers); a design with shaping scales the
  * levels so that the shaped law keeps the average power of the uniform
- * one (docs/alphabets.md). */
+ * one (docs/alphabets.md). On intensity levels (x ≥ 0: upam, or any
+ * levels of a model of optical intensities) the power is the average
+ * optical power E[x] and the law of most entropy at a given E[x] is
+ * p(x) ∝ exp(−ν·x) (Cover and Thomas, Elements of Information Theory,
+ * 2nd ed., 2006, sec. 12.1): the law of ν on the amplitudes √x, so the
+ * functions below serve both on the amplitudes of qc_shaping_amplitudes. */
 typedef enum {
     QC_SHAPING_NONE = 0, /* "none": the uniform law (ν = 0)               */
     QC_SHAPING_NU,       /* "mb:NU": the law of this ν ≥ 0                */
@@ -146,6 +151,8 @@ typedef enum {
 typedef struct {
     qc_shaping_kind kind;
     double value; /* ν (QC_SHAPING_NU) or H(X) in bits (ENTROPY); else 0 */
+    int intensity; /* 1: intensity levels, p ∝ exp(−ν·x) at the same E[x];
+                      0: p ∝ exp(−ν·x²) at the same E[x²] (parse sets 0) */
 } qc_shaping;
 
 /* "none", "mb:NU" (NU ≥ 0, finite), "entropy:H" (H > 0, finite; its
@@ -158,6 +165,14 @@ QC_API qc_status qc_shaping_parse(const char *spec, qc_shaping *out);
  * "entropy:2.5", "best", "none") into buf (cap bytes, always terminated).
  * Never fails. */
 QC_API void qc_shaping_format(const qc_shaping *s, char *buf, size_t cap);
+
+/* The amplitudes whose squares are the energies of the shaped law:
+ * out[i] = levels[i] (intensity 0) or √levels[i] (intensity 1: the law
+ * ∝ exp(−ν·x) of intensities is the Maxwell–Boltzmann law of √x). out
+ * may be levels. QC_EINVAL naming the first intensity level below 0 or
+ * not finite; on failure out is unspecified. */
+QC_API qc_status qc_shaping_amplitudes(const double *levels, size_t n, int intensity,
+                                       double *out);
 
 /* The Maxwell–Boltzmann law of ν on n levels into law[n]. QC_EINVAL
  * naming ν unless it is finite and ≥ 0, or naming the levels (none, or

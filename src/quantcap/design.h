@@ -502,6 +502,8 @@ typedef enum {
     QC_TARGET_NGMI = 1, /* NGMI at or above the value                      */
     QC_TARGET_GMI = 2,  /* BICM GMI (bit/symbol) at or above the value     */
     QC_TARGET_RATE = 3, /* the objective's rate (bit/symbol) at or above   */
+    QC_TARGET_RATE_PER_SLOT = 4, /* pulse position: rate / M (bit/slot)    */
+    QC_TARGET_BITS_PER_PHOTON = 5, /* rate per detected signal photon      */
     QC_TARGET_COUNT
 } qc_target_kind;
 
@@ -512,11 +514,13 @@ typedef struct {
     qc_fec fec;
 } qc_target;
 
-/* "ber=X", "ngmi=X", "gmi=X", "rate=X" or "fec=NAME" (a code of
+/* "ber=X", "ngmi=X", "gmi=X", "rate=X", "rate-per-slot=X" (pulse-position
+ * modulation), "bits-per-photon=X" (photon counting) or "fec=NAME" (a code of
  * qc_fec_parse: its BER or NGMI threshold). QC_EINVAL naming the word. */
 QC_API qc_status qc_target_parse(const char *spec, qc_target *out);
 
-/* "ber", "ngmi", "gmi", "rate"; NULL out of range. */
+/* "ber", "ngmi", "gmi", "rate", "rate-per-slot", "bits-per-photon"; NULL
+ * out of range. */
 QC_API const char *qc_target_name(qc_target_kind kind);
 
 /* Build the model and request at `value` of the quantity solved for; the
@@ -571,10 +575,11 @@ QC_API qc_status qc_require(const qc_require_request *rq, qc_require_result *out
 QC_API double qc_require_margin_db(const qc_require_result *res, int linear,
                                    double operating);
 
-/* The figure of `kind` of a finished design (pre-FEC BER, NGMI, GMI or
- * rate; NaN when the design defines none). On a channel with memory the
- * figures of the detector on the trellis: the simulated information rate
- * and the BCJR detector's BER, GMI and NGMI. */
+/* The figure of `kind` of a finished design (pre-FEC BER, NGMI, GMI,
+ * rate, rate per PPM slot or bits per detected photon; NaN when the
+ * design defines none). On a channel with memory the figures of the
+ * detector on the trellis: the simulated information rate and the BCJR
+ * detector's BER, GMI and NGMI. */
 QC_API double qc_design_figure(const qc_design_result *res, qc_target_kind kind);
 
 /* ---- SNR of a model ------------------------------------------------- */

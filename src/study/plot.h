@@ -181,5 +181,6 @@ qc_status plot_density(plot_ctx *ctx);      /* plot_density.c */
 qc_status plot_ber_vs_x(plot_ctx *ctx);         /* plot_figures.c */
 qc_status plot_required_vs_bits(plot_ctx *ctx); /* plot_figures.c */
 qc_status plot_required_vs_x(plot_ctx *ctx);    /* the same against x */
+qc_status plot_photon_efficiency(plot_ctx *ctx); /* plot_photon.c */
 
 #endif

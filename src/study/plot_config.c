@@ -77,7 +77,7 @@ static qc_status axis_value_error(const qc_scenario *sc, const sc_entry *e, cons
 qc_status sc_compile_plots(qc_scenario *sc)
 {
     static const char *const keys[] = {"format",   "x",       "rate-vs-x",        "rate-vs-bits",
-                                       "ber-vs-x", "density", "required-vs-bits", "required-vs-x", "size",
+                                       "ber-vs-x", "density", "required-vs-bits", "required-vs-x", "photon-efficiency", "size",
                                        NULL};
     sc_plots *p = &sc->plots;
     p->width = 960;
@@ -90,7 +90,8 @@ qc_status sc_compile_plots(qc_scenario *sc)
         if (sc->axes[i].number && (int)i != p->curve_axis)
             p->x_axis = (int)i;
     sc_section *s = sc_section_find(sc, "plots");
-    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL, *req = NULL, *reqx = NULL;
+    const sc_entry *rvx = NULL, *rvb = NULL, *dens = NULL, *bvx = NULL, *req = NULL, *reqx = NULL,
+                   *phe = NULL;
     char loc[300];
     for (size_t i = 0; s && i < s->n; i++) {
         const sc_entry *e = &s->entries[i];
@@ -141,6 +142,8 @@ qc_status sc_compile_plots(qc_scenario *sc)
             req = e;
         } else if (strcmp(e->key, "required-vs-x") == 0) {
             reqx = e;
+        } else if (strcmp(e->key, "photon-efficiency") == 0) {
+            phe = e;
         } else
             return sc_unknown_key(sc, e, "[plots]", sc_closest(e->key, keys));
     }
@@ -244,6 +247,17 @@ qc_status sc_compile_plots(qc_scenario *sc)
         if (p->required_vs_x && p->x_axis < 0)
             return qc_fail(QC_EINVAL, "%s: 'required-vs-x': the sweep has no numeric axis to "
                                       "draw the required value against",
+                           loc);
+    }
+    if (phe) {
+        sc_where(sc, phe->line, loc, sizeof loc);
+        if (parse_bool(phe->value, &p->photon_efficiency) != 0)
+            return qc_fail(QC_EINVAL, "%s: 'photon-efficiency': '%s' is not true or false", loc,
+                           phe->value);
+        if (p->photon_efficiency && p->x_axis < 0)
+            return qc_fail(QC_EINVAL, "%s: 'photon-efficiency': the sweep has no numeric axis "
+                                      "(the signal photons or the received power) to draw "
+                                      "against",
                            loc);
     }
     sc_section *d = sc_section_find(sc, "density");

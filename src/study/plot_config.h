@@ -23,6 +23,8 @@ typedef struct {
     int required_vs_bits;/* draw [require]'s required value against bits */
     int bits_axis;       /* the bits (or cells) axis of required-vs-bits  */
     int required_vs_x;   /* draw [require]'s required value against x     */
+    int photon_efficiency; /* PPM: bits per photon and per slot against
+                              the photons per pulse                      */
     size_t *bits_at;     /* x-axis value indices for rate vs bits        */
     size_t nbits_at;
     int density;         /* draw the densities of one point              */

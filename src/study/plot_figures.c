@@ -274,7 +274,10 @@ static void target_words(const qc_target *t, char *out, size_t cap)
     const char *figure = t->kind == QC_TARGET_BER    ? "pre-FEC BER"
                          : t->kind == QC_TARGET_NGMI ? "NGMI"
                          : t->kind == QC_TARGET_GMI  ? "GMI (bit/symbol)"
-                                                     : "rate (bit/symbol)";
+                         : t->kind == QC_TARGET_RATE_PER_SLOT ? "rate per slot (bit/slot)"
+                         : t->kind == QC_TARGET_BITS_PER_PHOTON
+                             ? "photon efficiency (bit/photon)"
+                             : "rate (bit/symbol)";
     if (t->from_fec)
         snprintf(out, cap, "FEC %s (%s %g)", t->fec.name, figure, t->value);
     else

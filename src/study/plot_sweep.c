@@ -1,7 +1,8 @@
 /* plot_sweep.c — the figures of a sweep, drawn with PLplot from the
  * sweep's records: rate against the sweep's x axis and rate against bits
  * (plot_rate.c), the pre-FEC BER against x and the required value of a
- * [require] section against bits (plot_figures.c), and the densities of one design with its thresholds
+ * [require] section against bits (plot_figures.c), the photon efficiency and
+ * rate per slot of pulse-position modulation (plot_photon.c), and the densities of one design with its thresholds
  * (plot_density.c). The other dimensions of a figure kind are drawn as
  * small multiples (one panel per value, on one scale), then line styles,
  * then separate files, so that a study writes a handful of figures.
@@ -83,6 +84,10 @@ qc_status qc_plot_sweep(const qc_scenario *sc, json_t *const *records, const cha
     }
     if (st == QC_OK && sc->plots.required_vs_x) {
         st = plot_required_vs_x(ctx);
+        plot_release(ctx);
+    }
+    if (st == QC_OK && sc->plots.photon_efficiency) {
+        st = plot_photon_efficiency(ctx);
         plot_release(ctx);
     }
     if (st == QC_OK && sc->plots.density) {

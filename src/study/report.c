@@ -129,8 +129,8 @@ static void report_figures(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "polarizations", json_integer(res->polarizations));
     json_object_set_new(o, "rate_gbps", qc_report_real(res->rate_gbps));
     json_object_set_new(o, "spectral_efficiency", qc_report_real(res->spectral_efficiency));
-    json_object_set_new(o, "photons_per_symbol", qc_report_real(res->photons_per_symbol));
-    json_object_set_new(o, "bits_per_photon", qc_report_real(res->bits_per_photon));
+    json_object_set_new(o, QC_REPORT_PHOTONS, qc_report_real(res->photons_per_symbol));
+    json_object_set_new(o, QC_REPORT_BITS_PER_PHOTON, qc_report_real(res->bits_per_photon));
     json_object_set_new(o, "photons_per_bit", qc_report_real(res->photons_per_bit));
     json_t *fec = json_null();
     if (res->fec_given) {
@@ -154,13 +154,13 @@ static void report_figures(json_t *o, const qc_design_result *res)
 /* Only for PPM designs, so the report of every other design is as it was. */
 static void report_ppm(json_t *o, const qc_design_result *res)
 {
-    json_object_set_new(o, "ppm_slots", json_integer((json_int_t)res->ppm_slots));
-    json_object_set_new(o, "rate_per_slot_bits", qc_report_real(res->rate_per_slot_bits));
+    json_object_set_new(o, QC_REPORT_PPM_SLOTS, json_integer((json_int_t)res->ppm_slots));
+    json_object_set_new(o, QC_REPORT_RATE_PER_SLOT, qc_report_real(res->rate_per_slot_bits));
     json_object_set_new(o, "ppm_evaluations", json_integer((json_int_t)res->ppm_evaluations));
     json_object_set_new(o, "hard_rate_bits", qc_report_real(res->hard_rate_bits));
-    json_object_set_new(o, "hard_rate_per_slot_bits",
+    json_object_set_new(o, QC_REPORT_HARD_RATE_PER_SLOT,
                         qc_report_real(res->hard_rate_bits / (double)res->ppm_slots));
-    json_object_set_new(o, "hard_bits_per_photon",
+    json_object_set_new(o, QC_REPORT_HARD_BITS_PER_PHOTON,
                         qc_report_real(res->photons_per_symbol > 0.0
                                            ? res->hard_rate_bits / res->photons_per_symbol
                                            : NAN));
@@ -294,6 +294,9 @@ static void report_shaping(json_t *o, const qc_design_result *res)
     qc_shaping_format(&res->shaping, spec, sizeof spec);
     json_object_set_new(o, "shaping", json_string(spec));
     json_object_set_new(o, "shaping_nu", qc_report_real(res->shaping_nu));
+    /* the power the shaped law keeps and the gain is quoted in */
+    json_object_set_new(o, "shaping_power",
+                        json_string(res->shaping.intensity ? "E[x]" : "E[x^2]"));
     json_object_set_new(o, "shaping_scale", qc_report_real(res->shaping_scale));
     json_object_set_new(o, "uniform_rate_bits", qc_report_real(res->uniform_rate_bits));
     json_object_set_new(o, "shaping_gain_db", qc_report_real(res->shaping_gain_db));

@@ -26,6 +26,14 @@ json_t *qc_report_array(const double *v, size_t n);
 #define QC_REPORT_SNR_PENALTY "snr_penalty_db"
 #define QC_REPORT_THRESHOLDS "thresholds"
 #define QC_REPORT_LEVELS "levels"
+/* read by the photon-efficiency figure (plot_photon.c); all but the
+ * first two are in the reports of pulse-position designs only */
+#define QC_REPORT_PHOTONS "photons_per_symbol"
+#define QC_REPORT_BITS_PER_PHOTON "bits_per_photon"
+#define QC_REPORT_PPM_SLOTS "ppm_slots"
+#define QC_REPORT_RATE_PER_SLOT "rate_per_slot_bits"
+#define QC_REPORT_HARD_RATE_PER_SLOT "hard_rate_per_slot_bits"
+#define QC_REPORT_HARD_BITS_PER_PHOTON "hard_bits_per_photon"
 #define QC_REPORT_PLOTTED_KEYS                                                             \
     {                                                                                      \
         QC_REPORT_DIMENSIONS, QC_REPORT_RATE, QC_REPORT_UNQUANTIZED, QC_REPORT_LOSS,       \

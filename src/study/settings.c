@@ -190,8 +190,9 @@ static const key_spec keys[] = {
           "200000)", 4000, (size_t)1 << 40),
     /* probabilistic shaping (docs/alphabets.md) */
     TEXT("shaping", "mb:NU|entropy:H|best|none",
-         "Maxwell-Boltzmann law p(x) ~ exp(-NU x^2) on pam/qam levels: by NU, by its entropy "
-         "H bits/symbol, or best for the objective; levels scaled to the uniform law's power"),
+         "Maxwell-Boltzmann law p(x) ~ exp(-NU x^2) on pam/qam levels, exp(-NU x) on intensity "
+         "levels (upam, intensity models): by NU, by its entropy H bits/symbol, or best for "
+         "the objective; levels scaled to the uniform law's power (E[x^2]; intensities: E[x])"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])

@@ -506,8 +506,9 @@ static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
 }
 
 /* 'shaping' into s->shaping and the request: the levels must be those of
- * pam, qam or a list (a Maxwell–Boltzmann law in x²; not intensity
- * levels), without a law of their own. */
+ * pam, qam, upam or a list, without a law of their own; intensity levels
+ * (upam, or a model of intensities) take the law ∝ exp(−ν·x) at the same
+ * average optical power, the others ∝ exp(−ν·x²) at the same E[x²]. */
 static qc_status shaping_of(qc_settings *s, qc_design_request *req)
 {
     const char *v = qc_settings_get(s, "shaping");
@@ -517,22 +518,35 @@ static qc_status shaping_of(qc_settings *s, qc_design_request *req)
     if (st != QC_OK)
         return st;
     const char *alphabet = qc_settings_get(s, "alphabet");
-    if (alphabet && strncmp(alphabet, "pam:", 4) != 0 && strncmp(alphabet, "qam:", 4) != 0)
-        return qc_fail(QC_EINVAL, "shaping: a Maxwell-Boltzmann law needs bipolar levels: "
-                                  "alphabet pam:M or qam:M, or 'levels' (got alphabet %s)",
+    if (alphabet && strncmp(alphabet, "ppm:", 4) == 0)
+        return qc_fail(QC_EINVAL, "shaping: pulse-position modulation sends each of its M "
+                                  "positions with probability 1/M (its rate rests on that "
+                                  "symmetry); shaping is for alphabet pam:M, qam:M or upam:M, "
+                                  "or 'levels'");
+    if (alphabet && strncmp(alphabet, "pam:", 4) != 0 && strncmp(alphabet, "qam:", 4) != 0 &&
+        strncmp(alphabet, "upam:", 5) != 0)
+        return qc_fail(QC_EINVAL, "shaping: a Maxwell-Boltzmann law is defined on alphabet "
+                                  "pam:M, qam:M or upam:M, or 'levels' (got alphabet %s)",
                        alphabet);
     if (qc_settings_get(s, "level-grid"))
         return qc_fail(QC_EINVAL, "shaping: a level-grid is the support of a law designed "
-                                  "freely; give alphabet pam:M or qam:M (or 'levels')");
+                                  "freely; give alphabet pam:M, qam:M or upam:M (or 'levels')");
+    s->shaping.intensity = s->constraints.intensity;
     if (qc_settings_get(s, "probabilities"))
         return qc_fail(QC_EINVAL, "shaping: give 'probabilities' or 'shaping', not both "
                                   "(the shaping sets the law)");
     if (s->shaping.kind == QC_SHAPING_ENTROPY) {
         /* the entropy range of this alphabet, named now with the key */
-        double nu;
-        if ((st = qc_mb_nu_for_entropy(req->channel.levels, req->channel.nlevels,
-                                       req->channel.dimensions, s->shaping.value, &nu)) !=
-            QC_OK)
+        double nu, *amp = qc_malloc_array(req->channel.nlevels, sizeof *amp);
+        if (!amp)
+            return qc_fail(QC_ENOMEM, "out of memory");
+        st = qc_shaping_amplitudes(req->channel.levels, req->channel.nlevels,
+                                   s->shaping.intensity, amp);
+        if (st == QC_OK)
+            st = qc_mb_nu_for_entropy(amp, req->channel.nlevels, req->channel.dimensions,
+                                      s->shaping.value, &nu);
+        free(amp);
+        if (st != QC_OK)
             return st;
     }
     req->input.shaping = &s->shaping;

@@ -330,6 +330,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
         goto done;
     int want_plots = opt->plots && (sc->plots.rate_vs_x || sc->plots.rate_vs_bits ||
                                     sc->plots.ber_vs_x || sc->plots.required_vs_bits ||
+                                    sc->plots.required_vs_x || sc->plots.photon_efficiency ||
                                     sc->plots.density);
     if (want_plots && !qc_plots_available())
         sum->plots_skipped = 1;

@@ -25,7 +25,7 @@ static const double pam4[] = {-3.0, -1.0, 1.0, 3.0};
 static void test_spec_grammar(void **state)
 {
     (void)state;
-    qc_shaping s = {QC_SHAPING_BEST, 7.0};
+    qc_shaping s = {QC_SHAPING_BEST, 7.0, 0};
     assert_int_equal(qc_shaping_parse("mb:0.25", &s), QC_OK);
     assert_int_equal(s.kind, QC_SHAPING_NU);
     assert_true(s.value == 0.25);
@@ -36,11 +36,11 @@ static void test_spec_grammar(void **state)
     assert_int_equal(qc_shaping_parse("none", &s), QC_OK);
     assert_int_equal(s.kind, QC_SHAPING_NONE);
     char buf[64];
-    s = (qc_shaping){QC_SHAPING_NU, 0.125};
+    s = (qc_shaping){QC_SHAPING_NU, 0.125, 0};
     qc_shaping_format(&s, buf, sizeof buf);
     assert_string_equal(buf, "mb:0.125");
     /* failures leave *out unchanged and name the spec */
-    qc_shaping keep = {QC_SHAPING_ENTROPY, 2.0};
+    qc_shaping keep = {QC_SHAPING_ENTROPY, 2.0, 0};
     s = keep;
     assert_int_equal(qc_shaping_parse("mb:-1", &s), QC_EINVAL);
     assert_message("NU must be >= 0");
@@ -136,7 +136,7 @@ static void test_shaped_design(void **state)
     qc_design_result u, z, s;
     assert_int_equal(qc_design(&req, &u), QC_OK);
     assert_true(isnan(u.shaping_gain_db) && !u.shaping_given);
-    qc_shaping sh = {QC_SHAPING_NU, 0.0};
+    qc_shaping sh = {QC_SHAPING_NU, 0.0, 0};
     req.input.shaping = &sh;
     assert_int_equal(qc_design(&req, &z), QC_OK);
     assert_true(z.rate_bits == u.rate_bits && z.shaping_gain_db == 0.0);
@@ -162,6 +162,65 @@ static void test_shaped_design(void **state)
     qc_design_result_clear(&u);
     qc_design_result_clear(&z);
     qc_design_result_clear(&s);
+    qc_model_free(m);
+}
+
+/* Intensity levels: the amplitudes √x, the law ∝ exp(−ν·x) at the uniform
+ * law's E[x] (Cover and Thomas, 2nd ed., sec. 12.1: the law of most
+ * entropy at a given mean on x ≥ 0), refusals that say why. */
+static void test_intensity_shaping(void **state)
+{
+    (void)state;
+    const double x[] = {0.0, 0.25, 1.0, 2.25};
+    double amp[4], law[4];
+    assert_int_equal(qc_shaping_amplitudes(x, 4, 1, amp), QC_OK);
+    assert_true(amp[0] == 0.0 && amp[1] == 0.5 && amp[2] == 1.0 && amp[3] == 1.5);
+    assert_int_equal(qc_mb_law(amp, 4, 0.7, law), QC_OK);
+    double z = 0.0;
+    for (int i = 0; i < 4; i++)
+        z += exp(-0.7 * x[i]);
+    for (int i = 0; i < 4; i++)
+        assert_near(law[i], exp(-0.7 * x[i]) / z, TOL_TIGHT); /* closed form */
+    const double neg[] = {0.0, -0.5};
+    assert_int_equal(qc_shaping_amplitudes(neg, 2, 1, amp), QC_EINVAL);
+    assert_message("level 2 (-0.5) is not an intensity >= 0");
+
+    /* a design on the signal-dependent Gaussian model */
+    qc_model *m;
+    const double p[] = {0.05, 0.01, 0.0};
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, p, &m), QC_OK);
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = x;
+    req.channel.nlevels = 4;
+    req.quantizer.cells = 8;
+    qc_shaping sh = {QC_SHAPING_NU, 0.7, 1};
+    req.input.shaping = &sh;
+    qc_design_result s, bad;
+    assert_int_equal(qc_design(&req, &s), QC_OK);
+    double mean = 0.0, umean = (0.0 + 0.25 + 1.0 + 2.25) / 4.0;
+    for (int i = 0; i < 4; i++)
+        mean += s.input[i] * s.levels[i];
+    assert_near(mean, umean, TOL_TIGHT); /* the average optical power kept */
+    double e = 0.0;
+    for (int i = 0; i < 4; i++)
+        e += law[i] * x[i];
+    assert_near(s.shaping_scale, umean / e, TOL_TIGHT);
+    assert_true(s.shaping.intensity == 1 && isfinite(s.shaping_gain_db));
+    qc_design_result_clear(&s);
+    /* an intensity model with the law of x² */
+    sh.intensity = 0;
+    assert_int_equal(qc_design(&req, &bad), QC_EINVAL);
+    assert_message("takes optical intensities; its shaped law is exp(-nu x)");
+    /* pulse position: the law over positions is uniform by symmetry */
+    sh.intensity = 1;
+    const double slot[] = {0.0, 1.0};
+    req.channel.levels = slot;
+    req.channel.nlevels = 2;
+    req.channel.ppm_slots = 16;
+    assert_int_equal(qc_design(&req, &bad), QC_EINVAL);
+    assert_message("probability 1/M");
     qc_model_free(m);
 }
 
@@ -193,6 +252,7 @@ int main(void)
         cmocka_unit_test(test_law_closed_form),
         cmocka_unit_test(test_entropy_inversion),
         cmocka_unit_test(test_shaped_design),
+        cmocka_unit_test(test_intensity_shaping),
         cmocka_unit_test(test_dispersion_with_underflowing_output),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -266,5 +266,51 @@ check(sorted(set(figures(mdir)) - {mine[0]}) == expected, "--no-plots keeps the 
 check(sorted(manifest(mdir) or []) == sorted(expected + ["results.csv", "results.json"]),
       "--no-plots keeps the figures listed")
 
+# --- photon efficiency of pulse-position modulation ----------------------
+pdir = os.path.join(tmp, "photon-efficiency")
+rc, out, err = run("sweep", os.path.join(SCENARIOS, "photon-efficiency.ini"), "--output-dir",
+                   pdir, "--set", "signal=0.251,1,3.98,15.8")
+check(rc == 0, f"photon-efficiency study runs ({rc}: {err})")
+check(figures(pdir) == ["photon-efficiency.svg"], f"photon-efficiency: one figure ({figures(pdir)})")
+if figures(pdir) == ["photon-efficiency.svg"]:
+    t = svg_text(os.path.join(pdir, "photon-efficiency.svg"))
+    for needle in ("Photon efficiency of pulse-position modulation (invented)",
+                   "detected signal photons per pulse", "bit per detected photon",
+                   "rate per slot (bit/slot)", "4-PPM", "1024-PPM", "soft: quantized counts",
+                   "hard: one threshold per slot", "soft: unquantized counts",
+                   "1-bit quantizer", "3-bit quantizer"):
+        check(any(needle in x for x in t), f"photon-efficiency: '{needle}' in the figure")
+# M as a sweep axis: one curve per value, named as the trade does
+PPM_AXIS = """# invented test scenario
+[scenario]
+title = ppm axis test
+
+[receiver]
+model = poisson
+background = 0.1
+
+[sweep]
+alphabet = ppm:4, ppm:32
+signal = 0.5, 2, 8
+bits = 2
+
+[plots]
+rate-vs-x = false
+photon-efficiency = true
+"""
+adir = os.path.join(tmp, "ppm-axis")
+rc, out, err = run("sweep", write("ppm_axis.ini", PPM_AXIS), "--output-dir", adir)
+check(rc == 0 and figures(adir) == ["photon-efficiency.svg"],
+      f"PPM over an alphabet axis: one figure ({rc}: {err} {figures(adir)})")
+if figures(adir) == ["photon-efficiency.svg"]:
+    t = svg_text(os.path.join(adir, "photon-efficiency.svg"))
+    check("4-PPM" in t and "32-PPM" in t, f"the alphabet axis names the curves ({t})")
+# not pulse position: the figure is left out and said so
+rc, out, err = run("sweep", write("ppm_none.ini", PPM_AXIS.replace("ppm:4, ppm:32",
+                                                                   "upam:2, upam:4")),
+                   "--output-dir", os.path.join(tmp, "ppm-none"))
+check(rc == 0 and "skipped photon-efficiency.svg: no point in it is pulse-position" in out,
+      f"no PPM point: the figure is skipped with a note ({rc}: {out} {err})")
+
 print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)

@@ -7,7 +7,10 @@ bad-input paths are cases in tests/bad_inputs/cases.tsv).
 Usage: check_ppm_cli.py PATH/TO/quantcap
 References: the noiseless photon-counting PPM channel is an M-ary erasure
 channel of capacity (1 - e^{-n_s}) log2 M (from memory; derived in
-tests/capacity/test_ppm.c); the hard receiver's rate is recomputed here
+tests/capacity/test_ppm.c), so the photons a rate per slot r needs are
+n = -ln(1 - r M / log2 M) and those at which the photon efficiency is X
+the root of (1 - e^{-n}) log2(M) / n = X (scipy.optimize.brentq); the
+hard receiver's rate is recomputed here
 from its reported firing probabilities by enumerating the 2^M firing
 patterns (numpy); photon energy h*c/lambda (CODATA 2018 exact h, c)."""
 import csv
@@ -31,6 +34,8 @@ check = tally.check
 TOL = 1e-9          # bits: the design's certified tolerance
 TOL_ENUM = 1e-12    # bits: closed form against enumeration
 TOL_CODATA = 1e-6   # relative: photon energy from two CODATA sets
+TOL_ROOT = 1e-6     # relative: require's root (1e-7 in log10 of the value, and
+                    # the rate's 1e-9 bit tolerance moved through the slope)
 
 
 run = qc_runner(QC)
@@ -117,6 +122,36 @@ if rc == 0:
     r = json.loads(out)
     text = json.dumps(r)
     check("required" in text, "require reports the required value")
+
+# require: rate per slot and bits per photon on the noiseless channel,
+# against the erasure closed form (docstring)
+from scipy.optimize import brentq  # noqa: E402
+
+for m, r in [(16, 0.15), (256, 0.02)]:
+    rc, out, err = run("require", "--json", "--target", f"rate-per-slot={r}", "--solve-for",
+                       "signal", "--range", "0.05,50", "--model", "poisson", "--alphabet",
+                       f"ppm:{m}", "--bits", "2")
+    check(rc == 0, f"require rate-per-slot on ppm:{m}: exit 0 ({err.strip()})")
+    if rc == 0:
+        want = -math.log(1 - r * m / math.log2(m))
+        tally.near(f"require rate-per-slot={r} ppm:{m}: photons (erasure closed form)",
+                   json.loads(out)["required"], want, TOL_ROOT * want)
+for m, x in [(64, 3.0), (1024, 5.0)]:
+    rc, out, err = run("require", "--json", "--target", f"bits-per-photon={x}", "--solve-for",
+                       "signal", "--range", "0.05,50", "--model", "poisson", "--alphabet",
+                       f"ppm:{m}", "--bits", "1")
+    check(rc == 0, f"require bits-per-photon on ppm:{m}: exit 0 ({err.strip()})")
+    if rc == 0:
+        res = json.loads(out)
+        want = brentq(lambda n: (1 - math.exp(-n)) * math.log2(m) / n - x, 1e-6, 100,
+                      xtol=1e-14, rtol=1e-14)  # scipy.optimize.brentq on the closed form
+        tally.near(f"require bits-per-photon={x} ppm:{m}: photons (scipy brentq)",
+                   res["required"], want, TOL_ROOT * want)
+        check(res["increasing"] is False, "bits per photon falls as the photons grow")
+rc, out, err = run("require", "--target", "bits-per-photon=1", "--solve-for", "signal",
+                   "--range", "0.05,50", "--model", "poisson", "--alphabet", "ppm:64",
+                   "--bits", "1")
+check(rc == 0 and "at most" in out, f"a falling figure is answered with 'at most' ({out})")
 
 # the pulse-position study, thinned
 with tempfile.TemporaryDirectory() as d:
