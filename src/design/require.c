@@ -13,6 +13,7 @@
  * receiver built for a hard-decision code would. Two roots closer than
  * the root tolerance give a penalty of exactly 0. */
 #include "design/design_internal.h"
+#include "quantcap/iq.h"
 #include "quantcap/memory.h"
 
 #include <math.h>
@@ -181,6 +182,16 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
+    if (req->channel.iq) { /* the unquantized MI of the constellation */
+        const qc_model_type *t = qc_model_get_type(m);
+        double u;
+        st = qc_iq_unquantized_mi(req->channel.iq->plane,
+                                  qc_model_param(m, (size_t)qc_model_param_index(t, "sigma")),
+                                  0, &u, NULL, NULL);
+        if (st == QC_OK)
+            *fig = u;
+        return st;
+    }
     if (req->memory.ntaps > 0) {
         if (kind != QC_TARGET_RATE)
             return qc_fail(QC_EINVAL, "with taps or a response, the target is the information "
@@ -399,6 +410,27 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
     return QC_OK;
 }
 
+/* Why the designs of the request have no unquantized figure to solve
+ * for (a static phrase), or NULL when they have one. A two-dimensional
+ * receiver has an unquantized reference for the MI alone, without phase
+ * noise (quantcap/iq.h). */
+static const char *no_unquantized(const qc_require_request *rq)
+{
+    const qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK || !req.channel.iq) {
+        qc_clear_error();
+        return NULL;
+    }
+    if (rq->target.kind != QC_TARGET_RATE || req.input.objective != QC_OBJECTIVE_MI)
+        return "a two-dimensional receiver has an unquantized reference for the MI only "
+               "(target rate with objective mi)";
+    if (req.channel.iq->phase_sd > 0.0)
+        return "no unquantized reference with phase noise";
+    return NULL;
+}
+
 static const char *figure_unit(qc_target_kind kind)
 {
     return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol" : "";
@@ -458,6 +490,8 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
                        figure_unit(kind), out->best_value, rq->unit);
     }
     out->required = value_of(rq, root);
+    if ((out->unquantized_note = no_unquantized(rq)) != NULL)
+        return QC_OK;
     search su = {.rq = rq, .unquantized = 1};
     int uinc;
     st = solve(&su, "unquantized", &uroot, &uinc, &bu, &bg, &reached);
