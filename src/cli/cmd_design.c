@@ -722,6 +722,10 @@ int cmd_design(int argc, char **argv)
     if (cli_has(&a, "json")) {
         if ((rc = print_design_json(&sink, &req, &res, &pen)) == CLI_OK)
             fputc('\n', sink.f);
+    } else if (res.iq) {
+        cli_print_iq_design(sink.f, &req, &res, qc_settings_get(set, "alphabet"));
+        if (pen.given)
+            print_fec_penalty(sink.f, &res, &pen);
     } else
         design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"), &pen);
 done:

@@ -295,6 +295,9 @@ int cmd_require(int argc, char **argv)
         json_object_set_new(o, "required", cli_json_real(res.required));
         json_object_set_new(o, "unquantized_required", cli_json_real(res.unquantized_required));
         json_object_set_new(o, "penalty_db", cli_json_real(res.penalty_db));
+        json_object_set_new(o, "unquantized_note", res.unquantized_note
+                                                       ? json_string(res.unquantized_note)
+                                                       : json_null());
         json_object_set_new(o, "operating", cli_json_real(operating));
         json_object_set_new(o, "margin_db", cli_json_real(margin));
         json_object_set_new(o, "increasing", json_boolean(res.increasing));
@@ -316,6 +319,8 @@ int cmd_require(int argc, char **argv)
             /* a penalty within the root tolerance prints as 0, not -0.0000 */
             fprintf(f, "penalty      %.4f dB at the target\n",
                     fabs(res.penalty_db) < 5e-5 ? 0.0 : res.penalty_db);
+        } else if (res.unquantized_note) {
+            fprintf(f, "unquantized  no reference: %s\n", res.unquantized_note);
         } else {
             fprintf(f, "unquantized  meets the target over the whole range: widen --range for "
                        "its value and the penalty\n");

@@ -326,6 +326,8 @@ qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fe
         return st;
     if (st != QC_OK)
         snprintf(out->note, sizeof out->note, "%s", qc_last_error());
+    else if (r.unquantized_note)
+        snprintf(out->note, sizeof out->note, "%s", r.unquantized_note);
     else if (!isfinite(r.penalty_db))
         snprintf(out->note, sizeof out->note,
                  "the unquantized receiver meets the target over the whole search range "
