@@ -32,7 +32,8 @@ static const char *const key_units[][2] = {
     {"loss-db-km", "dB/km"},  {"gamma", "1/(W km)"},   {"chromatic-dispersion", "ps/(nm km)"},
     {"range-km", "km"},       {"tx-aperture-m", "m"},  {"rx-aperture-m", "m"},
     {"optical-bandwidth", "Hz"}, {"filter-nm", "nm"},  {"field-of-view-mrad", "mrad"},
-    {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
+    {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {"phase-noise-deg", "deg rms"},
+    {NULL, NULL},
 };
 
 
