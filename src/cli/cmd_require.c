@@ -312,8 +312,13 @@ int cmd_require(int argc, char **argv)
         fprintf(f, "target       %s\n", target_text(&target, tt, sizeof tt));
         fprintf(f, "solve for    %s, range %.6g to %.6g %s (%s scale)\n", key, lo, hi, unit,
                 linear ? "log" : "dB");
-        fprintf(f, "required     %.6g %s with the %s quantizer\n", res.required, unit,
-                design ? json_string_value(json_object_get(design, "quantizer")) : "chosen");
+        const char *rx = design ? json_string_value(json_object_get(design, "iq_quantizer"))
+                                : NULL;
+        fprintf(f, "required     %.6g %s with the %s %s\n", res.required, unit,
+                design ? json_string_value(json_object_get(design, "quantizer")) : "chosen",
+                !rx                          ? "quantizer"
+                : strcmp(rx, "polar") == 0 ? "polar quantizer"
+                                           : "I/Q pair");
         if (isfinite(res.unquantized_required)) {
             fprintf(f, "unquantized  %.6g %s (same levels and law, no quantizer)\n",
                     res.unquantized_required, unit);
