@@ -108,6 +108,12 @@ static qc_status plane_of(qc_settings *s, const char *why)
         return qc_fail(QC_EINVAL, "'%s' needs a two-dimensional constellation: alphabet "
                                   "qam:M, psk:M, apsk:R1/N1,... or hex:M, or constellation FILE",
                        why);
+    if (a && strncmp(a, "qam:", 4) != 0 && !prefixed(a, plane_alphabets) &&
+        strcmp(why, "alphabet") == 0)
+        return qc_fail(QC_EINVAL, "alphabet %s is one-dimensional: give a constellation in "
+                                  "the plane (qam:M, psk:M, apsk:R1/N1,..., hex:M or "
+                                  "constellation FILE)",
+                       a);
     if (a && strncmp(a, "qam:", 4) != 0 && !prefixed(a, plane_alphabets))
         return qc_fail(QC_EINVAL, "'%s' applies to a two-dimensional constellation; alphabet "
                                   "%s is one-dimensional (give qam:M, psk:M, apsk:R1/N1,..., "
@@ -324,5 +330,48 @@ qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, con
     req->channel.model = *model;
     req->channel.dimensions = 2;
     req->channel.iq = &s->iq;
+    return QC_OK;
+}
+
+qc_status qc_settings_plane_channel(qc_settings *s, int search_labels, const qc_plane **plane,
+                                    qc_iq_noise *noise, double *snr_db)
+{
+    *plane = NULL;
+    qc_settings_free_lists(s);
+    memset(&s->iq, 0, sizeof s->iq);
+    const char *why = qc_settings_plane_reason(s);
+    double sigma = NAN, db = NAN;
+    qc_status st = plane_of(s, why ? why : "alphabet");
+    if (st != QC_OK)
+        return st;
+    if (qc_settings_get(s, "snr-db") && qc_settings_get(s, "sigma"))
+        return qc_fail(QC_EINVAL, "give 'sigma' or 'snr-db', not both");
+    if ((st = number(s, "snr-db", NAN, &db)) != QC_OK ||
+        (st = number(s, "sigma", NAN, &sigma)) != QC_OK)
+        return st;
+    const double es = qc_plane_energy(s->plane);
+    if (!isnan(db)) {
+        sigma = sqrt(es / (2.0 * pow(10.0, db / 10.0)));
+        if (!(sigma > 0.0) || !isfinite(sigma))
+            return qc_fail(QC_EINVAL, "snr-db: %g dB leaves no usable noise level", db);
+    } else if (isnan(sigma)) {
+        return qc_fail(QC_EINVAL, "give 'snr-db' (Es/N0 = E|x|^2/(2 sigma^2)) or 'sigma' (per "
+                                  "quadrature)");
+    } else if (!(sigma > 0.0)) {
+        return qc_fail(QC_EINVAL, "sigma: must be > 0 (got %g)", sigma);
+    } else {
+        db = 10.0 * log10(es / (2.0 * sigma * sigma));
+    }
+    if ((st = phase_noise_of(s)) != QC_OK)
+        return st;
+    if (search_labels && s->plane->labels && s->plane->size <= QC_SETTINGS_MAX_SEARCH_LABELS &&
+        (st = qc_plane_search_labels(s->plane, sigma, QC_SETTINGS_LABEL_RESTARTS,
+                                     QC_SETTINGS_LABEL_SEED, NULL)) != QC_OK)
+        return st;
+    if ((st = labels_of(s, sigma)) != QC_OK)
+        return st;
+    *noise = (qc_iq_noise){sigma, s->iq.phase_sd, s->iq.phase_law};
+    *snr_db = db;
+    *plane = s->plane;
     return QC_OK;
 }
