@@ -121,6 +121,11 @@ const char *cli_rate_unit(unsigned dimensions);
 
 /* The rate lines of a pulse-position design (text_ppm.c). */
 void cli_print_ppm_rates(FILE *f, const qc_design_request *req, const qc_design_result *r);
+
+/* The text report of a two-dimensional design (text_iq.c); `alphabet`
+ * names the constellation (NULL: from a file). */
+void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_result *r,
+                         const char *alphabet);
 /* " UNIT" with a leading space, or "" for a dimensionless quantity. */
 const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
 /* Unit of model parameter i printed in a report whose levels are in

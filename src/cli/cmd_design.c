@@ -57,6 +57,13 @@ static void help(const cli_args *a)
            "threshold; docs/alphabets.md), --levels, or --level-grid\n"
            "LO,HI,N: N candidate levels on which --objective capacity finds the best\n"
            "discrete input by itself (mass points with probability > 1e-6 are listed).\n"
+           "Constellations in the plane: psk:M, apsk:R1/N1[/DEG],..., hex:M or\n"
+           "--constellation FILE, and qam:M with any of --iq-quantizer product|polar,\n"
+           "--amplitude-cells A --phase-cells P (polar; or --bits B: 2^(B-1) rings x\n"
+           "2^(B+1) sectors), --phase-noise-deg S [--phase-noise-law gauss|tikhonov]:\n"
+           "model gauss, Es/N0 from --snr-db, cells designed (optimal), uniform or\n"
+           "given (--thresholds, I/Q pair), rates per complex symbol as 'quantcap iq'\n"
+           "gives them (docs/alphabets.md, 9a).\n"
            "constraints on the input: --peak-limit A (|x| <= A; 0 <= x <= A for\n"
            "intensity; a level grid drops the candidates outside), --power-limit P\n"
            "(E[x^2] <= P, electrical power; QAM: E|x|^2), --mean-limit M (E[x] <= M,\n"
@@ -767,6 +774,10 @@ int cmd_design(int argc, char **argv)
     if (cli_has(&a, "json")) {
         if ((rc = print_design_json(&sink, &req, &res, &pen)) == CLI_OK)
             fputc('\n', sink.f);
+    } else if (res.iq) {
+        cli_print_iq_design(sink.f, &req, &res, qc_settings_get(set, "alphabet"));
+        if (pen.given)
+            print_fec_penalty(sink.f, &res, &pen);
     } else
         design_table(sink.f, m, &req, &res, bits, qc_settings_get(set, "table"), &pen);
 done:

@@ -1,16 +1,18 @@
 /* cmd_iq.c — `quantcap iq`: a two-dimensional constellation (named or
  * read from a file) through a coherent receiver under circular Gaussian
  * noise and an optional phase error: the I/Q pair or the polar quantizer,
- * their cells designed or given, and the rates each keeps. */
+ * their cells designed or given, and the rates each keeps. The
+ * constellation, its labels, the noise and the phase error are read by
+ * the settings layer (qc_settings_plane_channel), as `design`, `require`
+ * and scenarios read them; the receiver flags, which --compare gives for
+ * both receivers at once, are this command's. */
 #include "cli.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#define LABEL_RESTARTS 8     /* random starts of the label search besides the first */
-#define LABEL_SEED 20260101UL /* fixed: the same labels on every run */
-#define MAX_SEARCH_LABELS 1024
+#define MAX_SEARCH_LABELS 1024 /* larger constellations get no labels searched */
 #define PI 3.14159265358979323846
 
 static const cli_opt options[] = {
@@ -300,16 +302,29 @@ static json_t *receiver_json(const receiver *r, int capacity)
     return o;
 }
 
-static int load_constellation(const cli_args *a, qc_plane **c, const char **name)
+/* The constellation, labels, noise and phase error: the flags that are
+ * settings keys, read by the settings layer. */
+static int load_channel(const cli_args *a, qc_settings **set, const qc_plane **c,
+                        qc_iq_noise *noise, double *snr_db)
 {
-    int ga = cli_has(a, "alphabet"), gc = cli_has(a, "constellation");
-    if (ga == gc)
-        return cli_usage_error("iq: give one of --alphabet SPEC and --constellation FILE");
-    qc_status st = ga ? qc_plane_parse(cli_get(a, "alphabet"), c)
-                      : qc_plane_read(cli_get(a, "constellation"), c);
+    static const char *const keys[] = {"alphabet", "constellation", "snr-db", "sigma",
+                                       "phase-noise-deg", "phase-noise-law", NULL};
+    qc_status st = qc_settings_alloc(set);
     if (st != QC_OK)
         return cli_lib_error(st);
-    *name = ga ? cli_get(a, "alphabet") : cli_get(a, "constellation");
+    if (cli_has(a, "alphabet") == cli_has(a, "constellation"))
+        return cli_usage_error("iq: give one of --alphabet SPEC and --constellation FILE");
+    if (cli_has(a, "snr-db") == cli_has(a, "sigma"))
+        return cli_usage_error("iq: give one of --snr-db X and --sigma S");
+    for (size_t i = 0; keys[i]; i++) {
+        const char *v = cli_get(a, keys[i]);
+        if (v && (st = qc_settings_set(*set, keys[i], v)) != QC_OK)
+            return cli_usage_error("--%s: %s", keys[i], qc_last_error());
+    }
+    if ((st = qc_settings_plane_channel(*set, cli_has(a, "search-labels"), c, noise,
+                                        snr_db)) != QC_OK)
+        return qc_status_is_input_error(st) ? cli_usage_error("iq: %s", qc_last_error())
+                                            : cli_lib_error(st);
     return CLI_OK;
 }
 
@@ -324,7 +339,8 @@ int cmd_iq(int argc, char **argv)
     }
     if (rc)
         return rc;
-    qc_plane *c = NULL;
+    const qc_plane *c = NULL;
+    qc_settings *set = NULL;
     receiver rx[2];
     memset(rx, 0, sizeof rx);
     size_t nrx = 1;
@@ -345,25 +361,6 @@ int cmd_iq(int argc, char **argv)
                                    "--capacity adds the certified capacity");
         return cli_lib_error(st);
     }
-    if (cli_has(&a, "snr-db") == cli_has(&a, "sigma"))
-        return cli_usage_error("iq: give one of --snr-db X and --sigma S");
-    if ((v = cli_get(&a, "snr-db")) && (rc = cli_double("snr-db", v, &snr_db)))
-        return rc;
-    if ((v = cli_get(&a, "sigma")) && (rc = cli_double("sigma", v, &noise.sigma)))
-        return rc;
-    if (cli_has(&a, "sigma") && !(noise.sigma > 0.0))
-        return cli_usage_error("--sigma: must be > 0 (got %g)", noise.sigma);
-    if ((v = cli_get(&a, "phase-noise-deg")) && (rc = cli_double("phase-noise-deg", v, &pn_deg)))
-        return rc;
-    if (!(pn_deg >= 0.0 && pn_deg <= 360.0))
-        return cli_usage_error("--phase-noise-deg: must be from 0 to 360 degrees (got %g)",
-                               pn_deg);
-    if ((v = cli_get(&a, "phase-noise-law")) &&
-        (st = qc_phase_law_parse(v, &noise.phase_law)) != QC_OK)
-        return cli_lib_error(st);
-    if (cli_has(&a, "phase-noise-law") && pn_deg == 0.0)
-        return cli_usage_error("--phase-noise-law: goes with --phase-noise-deg S > 0");
-    noise.phase_sd = pn_deg * PI / 180.0;
 
     int compare = cli_has(&a, "compare");
     if (compare && cli_has(&a, "iq-quantizer"))
@@ -383,37 +380,19 @@ int cmd_iq(int argc, char **argv)
             return cli_usage_error("--%s: applies to the polar receiver (--iq-quantizer "
                                    "polar)", polar_only[i]);
     }
-    if ((rc = load_constellation(&a, &c, &name)))
-        return rc;
-    double es = qc_plane_energy(c);
-    if (!(es > 0.0)) {
-        rc = cli_usage_error("iq: the constellation has zero energy (every point at 0)");
+    if ((rc = load_channel(&a, &set, &c, &noise, &snr_db)))
         goto done;
-    }
-    if (isfinite(snr_db)) {
-        noise.sigma = sqrt(es / (2.0 * pow(10.0, snr_db / 10.0)));
-        if (!(noise.sigma > 0.0) || !isfinite(noise.sigma)) {
-            rc = cli_usage_error("--snr-db: %g dB leaves no usable noise level", snr_db);
-            goto done;
-        }
-    } else {
-        snr_db = 10.0 * log10(es / (2.0 * noise.sigma * noise.sigma));
-    }
+    name = cli_has(&a, "alphabet") ? cli_get(&a, "alphabet") : cli_get(&a, "constellation");
+    pn_deg = noise.phase_sd * 180.0 / PI;
+    double es = qc_plane_energy(c);
     if (want_product && (rc = product_flags(&a, &rx[0])))
         goto done;
     if (want_polar && (rc = polar_flags(&a, &rx[compare ? 1 : 0])))
         goto done;
     nrx = compare ? 2 : 1;
-    /* labels: given or Gray, else searched (GMI needs them) */
-    if ((cli_has(&a, "search-labels") || !c->labels) && c->size <= MAX_SEARCH_LABELS) {
-        if ((st = qc_plane_search_labels(c, noise.sigma, LABEL_RESTARTS, LABEL_SEED,
-                                         &label_cost)) != QC_OK) {
-            rc = cli_lib_error(st);
-            goto done;
-        }
-    } else if (c->labels) {
+    /* labels: given or Gray, else searched by the settings layer */
+    if (c->labels)
         label_cost = qc_plane_label_cost(c, noise.sigma);
-    }
     if (obj == QC_OBJECTIVE_GMI && !c->labels) {
         rc = cli_usage_error("--objective gmi: the constellation has no labels (more than %d "
                              "points: none are searched)", MAX_SEARCH_LABELS);
@@ -508,6 +487,6 @@ done:
     rc = cli_sink_finish(&sink, rc);
     for (size_t i = 0; i < 2; i++)
         receiver_free(&rx[i]);
-    qc_plane_free(c);
+    qc_settings_free(set);
     return rc;
 }

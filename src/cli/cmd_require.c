@@ -33,7 +33,8 @@ static const char *const key_units[][2] = {
     {"loss-db-km", "dB/km"},  {"gamma", "1/(W km)"},   {"chromatic-dispersion", "ps/(nm km)"},
     {"range-km", "km"},       {"tx-aperture-m", "m"},  {"rx-aperture-m", "m"},
     {"optical-bandwidth", "Hz"}, {"filter-nm", "nm"},  {"field-of-view-mrad", "mrad"},
-    {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {NULL, NULL},
+    {"symbol-rate", "baud"},  {"ref-bandwidth", "Hz"}, {"phase-noise-deg", "deg rms"},
+    {NULL, NULL},
 };
 
 
@@ -307,6 +308,9 @@ int cmd_require(int argc, char **argv)
         json_object_set_new(o, "unquantized_required", cli_json_real(res.unquantized_required));
         json_object_set_new(o, "penalty_db", cli_json_real(res.penalty_db));
         json_object_set_new(o, "difference", cli_json_real(difference));
+        json_object_set_new(o, "unquantized_note", res.unquantized_note
+                                                       ? json_string(res.unquantized_note)
+                                                       : json_null());
         json_object_set_new(o, "operating", cli_json_real(operating));
         json_object_set_new(o, "margin_db", cli_json_real(margin));
         json_object_set_new(o, "increasing", json_boolean(res.increasing));
@@ -323,8 +327,13 @@ int cmd_require(int argc, char **argv)
         /* a figure that falls as the value grows (bits per photon against
          * photons) is met up to the root: the answer is a most, not a least */
         const char *bound = res.increasing ? "" : "at most ";
-        fprintf(f, "required     %s%.6g %s with the %s quantizer\n", bound, res.required, unit,
-                design ? json_string_value(json_object_get(design, "quantizer")) : "chosen");
+        const char *rx = design ? json_string_value(json_object_get(design, "iq_quantizer"))
+                                : NULL;
+        fprintf(f, "required     %s%.6g %s with the %s %s\n", bound, res.required, unit,
+                design ? json_string_value(json_object_get(design, "quantizer")) : "chosen",
+                !rx                          ? "quantizer"
+                : strcmp(rx, "polar") == 0 ? "polar quantizer"
+                                           : "I/Q pair");
         if (isfinite(res.unquantized_required)) {
             fprintf(f, "unquantized  %s%.6g %s (same levels and law, no quantizer)\n", bound,
                     res.unquantized_required, unit);
@@ -335,6 +344,8 @@ int cmd_require(int argc, char **argv)
             if (linear)
                 fprintf(f, "difference   %.6g %s (required - unquantized)\n", difference,
                         unit);
+        } else if (res.unquantized_note) {
+            fprintf(f, "unquantized  no reference: %s\n", res.unquantized_note);
         } else {
             fprintf(f, "unquantized  meets the target over the whole range: widen --range for "
                        "its value and the penalty\n");

@@ -103,6 +103,10 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
  * the per-slot thresholds, the certified soft rate per symbol, the hard
  * receiver at its best threshold and the unquantized reference. */
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
+
+/* iq_entry.c: a request with channel.iq (a 2-D constellation through the
+ * I/Q pair or the polar quantizer). */
+qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *res);
 /* ---- shaping.c -------------------------------------------------------- */
 
 /* qc_design for a request with input.shaping: the Maxwell–Boltzmann law

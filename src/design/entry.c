@@ -1,4 +1,5 @@
 /* entry.c — qc_design, the entry point: a request goes to the
+ * two-dimensional design (iq_entry.c), the
  * pulse-position design (ppm_design.c), the shaped design (shaping.c) or
  * the alphabet and input design (input_design.c), and a channel with
  * memory adds its simulated rates (memory_design.c). Each of those stands
@@ -16,6 +17,8 @@ qc_status qc_design(const qc_design_request *req, qc_design_result *res)
                                   "positions with probability 1/M (its rate rests on that "
                                   "symmetry); shaping is for pam, qam and upam levels");
     }
+    if (req && req->channel.iq)
+        return qc_iq_request_design(req, res); /* iq_entry.c */
     if (req && req->channel.ppm_slots)
         return qc_ppm_design(req, res);
     if (req && req->input.shaping) {

@@ -51,6 +51,7 @@ static const char *const penalty_texts[QC_PENALTY_COUNT] = {
     [QC_PENALTY_NO_CROSSING] = "unquantized rate stays above the rate over 400 dB",
     [QC_PENALTY_SKIPPED] = "not computed",
     [QC_PENALTY_PPM] = "not defined for pulse-position modulation",
+    [QC_PENALTY_PLANE] = "not computed for a two-dimensional receiver (see loss_bits)",
 };
 
 const char *qc_penalty_note_text(qc_penalty_note note)

@@ -60,6 +60,12 @@ void qc_design_result_clear(qc_design_result *res)
     free(res->taps);
     free(res->taps_imag);
     free(res->memory_thresholds);
+    free(res->points_xy);
+    free(res->point_law);
+    free(res->point_labels);
+    free(res->thresholds_q);
+    free(res->amplitude_thresholds);
+    free(res->phase_thresholds);
     memset(res, 0, sizeof *res);
 }
 

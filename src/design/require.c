@@ -19,6 +19,7 @@
  * moves smoothly with the value (common random numbers). Two roots closer
  * than the root tolerance give a penalty of exactly 0. */
 #include "design/design_internal.h"
+#include "quantcap/iq.h"
 #include "quantcap/memory.h"
 
 #include <math.h>
@@ -237,6 +238,16 @@ static qc_status unquantized_figure(const qc_model *m, const qc_design_request *
     double *uniform = NULL;
     size_t *labels = NULL;
     qc_status st = QC_OK;
+    if (req->channel.iq) { /* the unquantized MI of the constellation */
+        const qc_model_type *t = qc_model_get_type(m);
+        double u;
+        st = qc_iq_unquantized_mi(req->channel.iq->plane,
+                                  qc_model_param(m, (size_t)qc_model_param_index(t, "sigma")),
+                                  0, &u, NULL, NULL);
+        if (st == QC_OK)
+            *fig = u;
+        return st;
+    }
     if (req->memory.ntaps > 0)
         return unquantized_memory_figure(m, req, kind, designs, fig);
     /* a design that chooses its levels or law: those of the design (a
@@ -476,6 +487,27 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
     return QC_OK;
 }
 
+/* Why the designs of the request have no unquantized figure to solve
+ * for (a static phrase), or NULL when they have one. A two-dimensional
+ * receiver has an unquantized reference for the MI alone, without phase
+ * noise (quantcap/iq.h). */
+static const char *no_unquantized(const qc_require_request *rq)
+{
+    const qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK || !req.channel.iq) {
+        qc_clear_error();
+        return NULL;
+    }
+    if (rq->target.kind != QC_TARGET_RATE || req.input.objective != QC_OBJECTIVE_MI)
+        return "a two-dimensional receiver has an unquantized reference for the MI only "
+               "(target rate with objective mi)";
+    if (req.channel.iq->phase_sd > 0.0)
+        return "no unquantized reference with phase noise";
+    return NULL;
+}
+
 static const char *figure_unit(qc_target_kind kind)
 {
     return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol"
@@ -538,6 +570,8 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
                        figure_unit(kind), out->best_value, rq->unit);
     }
     out->required = value_of(rq, root);
+    if ((out->unquantized_note = no_unquantized(rq)) != NULL)
+        return QC_OK;
     search su = {.rq = rq, .unquantized = 1};
     int uinc;
     st = solve(&su, "unquantized", &uroot, &uinc, &bu, &bg, &reached);

@@ -60,6 +60,9 @@ typedef enum {
                                 rate within the searched SNR range       */
     QC_PENALTY_SKIPPED,      /* the request asked not to compute it      */
     QC_PENALTY_PPM,          /* pulse-position modulation: no SNR curve  */
+    QC_PENALTY_PLANE,        /* a two-dimensional constellation through an
+                                I/Q or polar receiver: the loss in bits
+                                is reported instead                      */
     QC_PENALTY_COUNT
 } qc_penalty_note;
 
@@ -116,6 +119,12 @@ typedef struct {
     /* The unamplified intensity link that set the received power, for
      * reports (NULL: none). */
     const qc_intensity_link_result *intensity_link;
+    /* A two-dimensional constellation through a coherent receiver (the
+     * I/Q pair or the polar quantizer; quantcap/iq.h, src/design/
+     * iq_entry.c); NULL: none. levels, nlevels and dimensions are then
+     * unused; the model must be additive Gaussian with a 'sigma' (the
+     * noise per quadrature). */
+    const struct qc_design_iq *iq;
 } qc_design_channel;
 
 /* The quantizer. */
@@ -441,6 +450,32 @@ typedef struct {
                                     skipped or when the uniform law does
                                     not reach rate_bits within ±32 dB     */
     size_t shaping_evaluations;  /* designs run by the search of `best`     */
+    /* A two-dimensional constellation (request channel.iq; src/design/
+     * iq_entry.c): iq is 1 and the fields below are set; rates are per
+     * complex symbol, nlevels is 0, and thresholds are the in-phase ones
+     * of the I/Q pair (none for the polar quantizer). */
+    int iq;
+    unsigned iq_kind;            /* qc_iq_kind: 0 product, 1 polar          */
+    size_t points;               /* M points of the constellation           */
+    double *points_xy;           /* owned: x0, y0, x1, y1, ... (2M)          */
+    double *point_law;           /* owned: their probabilities (M)           */
+    size_t *point_labels;        /* owned: their labels (M), NULL: none     */
+    unsigned point_label_bits;   /* label length (0: none)                  */
+    const char *labelling;       /* "given", "gray", "searched"; NULL       */
+    size_t output_cells;         /* cells of the receiver in all            */
+    size_t cells_i, cells_q;     /* product: cells per axis                  */
+    double *thresholds_q;        /* owned: product quadrature thresholds    */
+    size_t amplitude_cells, phase_cells; /* polar                          */
+    double *amplitude_thresholds; /* owned: polar ring radii (A − 1)        */
+    double *phase_thresholds;    /* owned: polar sector starts, rad (P)     */
+    double phase_noise_sd;       /* residual phase error, rad rms (0: none) */
+    unsigned phase_noise_law;    /* qc_phase_law                            */
+    double cell_error;           /* cell probabilities: 0 exact (Gaussian
+                                    CDF products), else the last change of
+                                    their quadrature (target
+                                    QC_IQ_QUAD_TOL)                        */
+    double iq_start_bits;        /* objective of the uniform cells          */
+    size_t iq_evaluations;       /* objective evaluations of the cell design */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests
@@ -557,6 +592,9 @@ typedef struct {
                                     figure is best in the range, and that   */
     double best_figure;          /* figure (NaN otherwise)                  */
     size_t designs;              /* designs run                             */
+    const char *unquantized_note; /* why unquantized_required is NaN when it
+                                    has no unquantized reference at all (a
+                                    static phrase); NULL otherwise          */
 } qc_require_result;
 
 /* Solve for the value at which the design built by rq->build meets the

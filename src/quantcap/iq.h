@@ -147,6 +147,25 @@ QC_API qc_status qc_iq_uniform(const qc_plane *c, const qc_iq_noise *noise,
                                const qc_iq_design_request *req, qc_iq_design_result *res);
 QC_API void qc_iq_design_result_free(qc_iq_design_result *res);
 
+/* A two-dimensional constellation and its receiver as a design request
+ * takes it (qc_design_request.channel.iq; src/design/iq_entry.c). The
+ * noise per quadrature is the request model's 'sigma'. The quantizer
+ * part of the request says how the cells come: optimal (designed by
+ * qc_iq_design for the objective: mi or gmi; capacity designs for mi and
+ * rates the certified capacity of the resulting matrix), uniform (the
+ * uniform cells qc_iq_uniform starts from) or fixed (product only: the
+ * request's thresholds on both axes); quantizer.cells is the product's
+ * cells per axis. */
+typedef struct qc_design_iq {
+    const qc_plane *plane;      /* points, law and labels (required)       */
+    qc_iq_kind kind;
+    size_t amplitude_cells;     /* polar: A ≥ 1                             */
+    size_t phase_cells;         /* polar: P ≥ 1, A·P ≥ 2                    */
+    double phase_sd;            /* residual phase error, rad rms (≥ 0)     */
+    qc_phase_law phase_law;
+    const char *labelling;      /* how the labels came, for reports       */
+} qc_design_iq;
+
 #ifdef __cplusplus
 }
 #endif

@@ -9,6 +9,7 @@
 
 #include "quantcap/frontend.h"
 #include "quantcap/design.h"
+#include "quantcap/iq.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -67,6 +68,21 @@ QC_API const char *qc_settings_get(const qc_settings *s, const char *key);
  * *model is NULL and *req must not be used. */
 QC_API qc_status qc_settings_build(qc_settings *s, qc_model **model,
                             qc_design_request *req);
+
+/* The constellation and the channel of two-dimensional settings, read
+ * as qc_settings_build reads them (src/study/settings_plane.c): the
+ * points from 'alphabet' (qam:M, psk:M, apsk:..., hex:M) or
+ * 'constellation'; the labels given or Gray, else searched by binary
+ * switching (fixed seed), and with search_labels searched from the given
+ * ones too; σ per quadrature from 'snr-db' (Es/N0 = E|x|²/(2σ²)) or
+ * 'sigma'; the phase error from 'phase-noise-deg' and 'phase-noise-law'.
+ * The receiver keys are not read. *plane belongs to s (valid until s is
+ * built again or freed); *snr_db receives Es/N0 in dB. QC_EINVAL naming
+ * the key, the file errors of qc_plane_read, QC_ENOMEM; on failure
+ * *plane is NULL. */
+QC_API qc_status qc_settings_plane_channel(qc_settings *s, int search_labels,
+                                           const qc_plane **plane, qc_iq_noise *noise,
+                                           double *snr_db);
 
 /* ---- the inverse question on settings (src/study/require.c) ---------- */
 

@@ -35,6 +35,10 @@ static void key_words(const char *key, const char *model, char *words, size_t wc
         {"converter-gain", "converter gain", ""},
         {"dnl-lsb", "peak DNL", "LSB"},
         {"inl-lsb", "peak INL", "LSB"},
+        {"phase-noise-deg", "residual phase error", "deg rms"},
+        {"amplitude-cells", "amplitude rings", ""},
+        {"phase-cells", "phase sectors", ""},
+        {"iq-quantizer", "receiver", ""},
     };
     *unit = "";
     for (size_t i = 0; i < sizeof known / sizeof known[0]; i++)
@@ -112,6 +116,9 @@ void plot_axis_value_words(const qc_scenario *sc, size_t k, size_t v, char *out,
     if (!a->number) {
         if (strcmp(a->key, "quantizer") == 0)
             snprintf(out, cap, "%s quantizer", val);
+        else if (strcmp(a->key, "iq-quantizer") == 0)
+            snprintf(out, cap, "%s", strcmp(val, "polar") == 0 ? "polar quantizer"
+                                                               : "I/Q pair (product)");
         else {
             key_words(a->key, scenario_model(sc), words, sizeof words, &unit);
             snprintf(out, cap, "%s %s", words, val);
@@ -155,8 +162,12 @@ void plot_key_label(const qc_scenario *sc, const char *key, char *buf, size_t ca
 
 int plot_alphabet_qam(const qc_scenario *sc, size_t a)
 {
-    const char *s = qc_settings_get(sc->alphabets[a].settings, "alphabet");
-    return s && strncmp(s, "qam", 3) == 0;
+    /* QAM and the constellations of the plane: rates per complex symbol */
+    const qc_settings *set = sc->alphabets[a].settings;
+    const char *s = qc_settings_get(set, "alphabet");
+    return (s && (strncmp(s, "qam", 3) == 0 || strncmp(s, "psk:", 4) == 0 ||
+                  strncmp(s, "apsk:", 5) == 0 || strncmp(s, "hex:", 4) == 0)) ||
+           qc_settings_get(set, "constellation") != NULL;
 }
 
 /* Unit of the rates of alphabets `a0` … `a1 − 1`. */

@@ -304,6 +304,56 @@ static void report_shaping(json_t *o, const qc_design_result *res)
                         json_integer((json_int_t)res->shaping_evaluations));
 }
 
+/* ---- two-dimensional constellations (src/design/iq_entry.c) ------- */
+
+/* Only for 2-D designs, so the report of every other design is as it was. */
+static void report_iq(json_t *o, const qc_design_result *res)
+{
+    static const double deg = 180.0 / 3.14159265358979323846;
+    json_object_set_new(o, "iq_quantizer", json_string(res->iq_kind ? "polar" : "product"));
+    json_object_set_new(o, "points", json_integer((json_int_t)res->points));
+    json_t *pts = json_array();
+    for (size_t i = 0; pts && i < res->points; i++)
+        json_array_append_new(pts, qc_report_array(res->points_xy + 2 * i, 2));
+    json_object_set_new(o, "constellation_points", pts);
+    json_object_set_new(o, "point_probabilities", qc_report_array(res->point_law, res->points));
+    json_t *lab = json_null();
+    if (res->point_labels) {
+        lab = json_array();
+        for (size_t i = 0; lab && i < res->points; i++)
+            json_array_append_new(lab, label_string(res->point_labels[i], res->point_label_bits));
+    }
+    json_object_set_new(o, "point_labels", lab);
+    json_object_set_new(o, "labelling", name_or_null(res->labelling));
+    json_object_set_new(o, "output_cells", json_integer((json_int_t)res->output_cells));
+    if (res->iq_kind == 0) {
+        json_object_set_new(o, "cells_i", json_integer((json_int_t)res->cells_i));
+        json_object_set_new(o, "cells_q", json_integer((json_int_t)res->cells_q));
+        json_object_set_new(o, "thresholds_q",
+                            qc_report_array(res->thresholds_q, res->cells_q - 1));
+    } else {
+        json_object_set_new(o, "amplitude_cells", json_integer((json_int_t)res->amplitude_cells));
+        json_object_set_new(o, "phase_cells", json_integer((json_int_t)res->phase_cells));
+        json_object_set_new(o, "amplitude_thresholds",
+                            qc_report_array(res->amplitude_thresholds, res->amplitude_cells - 1));
+        json_t *ph = json_array();
+        for (size_t i = 0; ph && i < res->phase_cells; i++)
+            json_array_append_new(ph, qc_report_real(res->phase_thresholds[i] * deg));
+        json_object_set_new(o, "phase_thresholds_deg", ph);
+    }
+    json_object_set_new(o, "phase_noise_deg", qc_report_real(res->phase_noise_sd * deg));
+    json_object_set_new(o, "phase_noise_law",
+                        res->phase_noise_sd > 0.0
+                            ? json_string(res->phase_noise_law ? "tikhonov" : "gauss")
+                            : json_null());
+    json_object_set_new(o, "cell_probabilities", json_string(res->cell_error == 0.0
+                                                                 ? "exact"
+                                                                 : "quadrature"));
+    json_object_set_new(o, "cell_probability_error", qc_report_real(res->cell_error));
+    json_object_set_new(o, "iq_start_bits", qc_report_real(res->iq_start_bits));
+    json_object_set_new(o, "iq_evaluations", json_integer((json_int_t)res->iq_evaluations));
+}
+
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
 {
     const qc_model *m = req->channel.model;
@@ -322,11 +372,13 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     json_object_set_new(o, "output_unit", json_string(qc_design_output_unit(req)));
     json_object_set_new(o, "objective", json_string(qc_objective_name(req->input.objective)));
     json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(res->quantizer)));
-    json_object_set_new(o, "cells", json_integer((json_int_t)req->quantizer.cells));
+    json_object_set_new(o, "cells", json_integer((json_int_t)(res->iq ? res->output_cells
+                                                                         : req->quantizer.cells)));
     /* fewer than cells for count outputs with fewer counts that carry
      * probability (each has its own cell) */
-    json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->nthresholds + 1)));
-    unsigned bits = bits_of(req->quantizer.cells);
+    json_object_set_new(o, "cells_used", json_integer((json_int_t)(res->iq ? res->output_cells
+                                                                              : res->nthresholds + 1)));
+    unsigned bits = bits_of(res->iq && res->iq_kind ? 0 : req->quantizer.cells);
     json_object_set_new(o, "bits", bits ? json_integer(bits) : json_null());
     json_object_set_new(o, QC_REPORT_RATE, qc_report_real(res->rate_bits));
     json_object_set_new(o, "upper_bound_bits", qc_report_real(res->upper_bound_bits));
@@ -377,6 +429,8 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
     }
     report_memory(o, res);
     report_shaping(o, res);
+    if (res->iq)
+        report_iq(o, res);
     return o;
 }
 

@@ -16,7 +16,8 @@ static const char *const not_solvable[] = {
     "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid",
     "optimize-levels", "level-starts", "blocklength", "error-rate", "polarizations", "fec",
     "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset",
-    "channels", "taps", "response", "symbols", "shaping", "detection", NULL,
+    "channels", "taps", "response", "symbols", "shaping", "detection", "constellation", "iq-quantizer",
+    "amplitude-cells", "phase-cells", "phase-noise-law", NULL,
 };
 
 const char *qc_setting_db_unit(const char *key)
@@ -91,6 +92,8 @@ const char *qc_settings_penalty_key(const qc_settings *s, const char **why)
     return NULL;
 }
 
+#define PHASE_NOISE_LO_DEG 0.1 /* default search of phase-noise-deg (log scale) */
+#define PHASE_NOISE_HI_DEG 30.0
 #define DB_HALF_RANGE 30.0  /* dB either side of an operating value      */
 #define LINEAR_DECADES 3.0  /* decades either side of an operating value */
 
@@ -243,6 +246,9 @@ qc_status qc_settings_require_range(const qc_settings *s, const char *key, doubl
     } else if (strcmp(key, "power-dbm") == 0 || strcmp(key, "peak-dbm") == 0) {
         *lo = -60.0;
         *hi = 20.0;
+    } else if (strcmp(key, "phase-noise-deg") == 0) {
+        *lo = PHASE_NOISE_LO_DEG; /* the tolerance of a 2-D receiver */
+        *hi = PHASE_NOISE_HI_DEG;
     } else {
         return qc_fail(QC_EINVAL, "give the search range of %s (no operating value to search "
                                   "around)",
@@ -322,6 +328,8 @@ qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fe
         return st;
     if (st != QC_OK)
         snprintf(out->note, sizeof out->note, "%s", qc_last_error());
+    else if (r.unquantized_note)
+        snprintf(out->note, sizeof out->note, "%s", r.unquantized_note);
     else if (!isfinite(r.penalty_db))
         snprintf(out->note, sizeof out->note,
                  "the unquantized receiver meets the target over the whole search range "

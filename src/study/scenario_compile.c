@@ -635,7 +635,7 @@ qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
         qc_status st = qc_scenario_point_settings(sc, i, &s);
         if (st == QC_OK)
             st = qc_settings_build_cached(s, cache, &m, &req);
-        if (st == QC_OK)
+        if (st == QC_OK && !req.channel.iq) /* a 2-D constellation has points */
             st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
         qc_model_cache_release(cache, m);
         qc_settings_free(s);

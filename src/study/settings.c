@@ -57,7 +57,8 @@ static const key_spec keys[] = {
     NUMBER("tol", "T", "certification tolerance in bits (default 1e-9)"),
     TEXT("alphabet", "SPEC",
          "levels by name: pam:M (bipolar), upam:M (intensity 0..1; OOK = upam:2), qam:M "
-         "(square QAM, sqrt(M)-PAM per quadrature)"),
+         "(square QAM, sqrt(M)-PAM per quadrature); in the plane: psk:M, "
+         "apsk:R1/N1[/DEG],R2/N2[/DEG],..., hex:M"),
     TEXT("table", "FILE", "measured densities for model table (format in docs/formats.md)"),
     /* physical receiver (front end); units in docs/models.md */
     NUMBER_FROM("received-dbm", "P", "average received optical power, dBm", -INF, INF),
@@ -193,6 +194,21 @@ static const key_spec keys[] = {
          "Maxwell-Boltzmann law p(x) ~ exp(-NU x^2) on pam/qam levels, exp(-NU x) on intensity "
          "levels (upam, intensity models): by NU, by its entropy H bits/symbol, or best for "
          "the objective; levels scaled to the uniform law's power (E[x^2]; intensities: E[x])"),
+    /* two-dimensional constellations and coherent receivers (quantcap/iq.h) */
+    TEXT("constellation", "FILE",
+         "two-dimensional points from FILE: lines 'x y [probability|-] [label]'"),
+    CHOICE("iq-quantizer", "product|polar",
+           "two-dimensional receiver: product (one quantizer per quadrature, bits/cells per "
+           "axis; default) or polar (amplitude rings x phase sectors)",
+           "product,polar"),
+    WHOLE("amplitude-cells", "A", "polar receiver: amplitude rings (A >= 1)", 1, 256),
+    WHOLE("phase-cells", "P", "polar receiver: phase sectors (P >= 1)", 1, 1024),
+    NUMBER_FROM("phase-noise-deg", "S",
+                "residual phase error ahead of the 2-D receiver, degrees rms (default 0)", 0.0,
+                360.0),
+    CHOICE("phase-noise-law", "gauss|tikhonov",
+           "law of the phase error: gauss (wrapped Gaussian, default) or tikhonov",
+           "gauss,tikhonov"),
 };
 
 #define NKEYS (sizeof keys / sizeof keys[0])
@@ -282,6 +298,8 @@ void qc_settings_free_lists(qc_settings *s)
     free(s->transitions);
     s->transitions = NULL;
     s->ntransitions = 0;
+    qc_plane_free(s->plane);
+    s->plane = NULL;
 }
 
 void qc_settings_free(qc_settings *s)

@@ -690,6 +690,15 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
 /* The model of a setting: from the cache (borrowed), or a new instance
  * (the caller's) when there is none. */
 static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
+                           const double *params, const char *table, const qc_model **out);
+
+qc_status qc_settings_model_get(qc_model_cache *cache, const qc_model_type *type,
+                                const double *params, const qc_model **out)
+{
+    return get_model(cache, type, params, NULL, out);
+}
+
+static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
                            const double *params, const char *table, const qc_model **out)
 {
     if (cache)
@@ -726,6 +735,15 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     qc_status st = check_keys_apply(s, type);
     if (st != QC_OK)
         return st;
+    const char *why2d = qc_settings_plane_reason(s);
+    if (why2d) { /* a two-dimensional constellation (settings_plane.c) */
+        st = qc_settings_plane_build(s, type, why2d, cache, model, req);
+        if (st != QC_OK) {
+            put_model(cache, *model);
+            *model = NULL;
+        }
+        return st;
+    }
     const char *fk = first_frontend_key(s, type);
     /* symbol-rate and polarizations also give the rates in Gb/s of every
      * model; the reference bandwidth only converts an OSNR */

@@ -4,6 +4,7 @@
 
 #include "core/internal.h"
 #include "core/parse.h"
+#include "quantcap/iq.h"
 #include "quantcap/memory.h"
 #include "quantcap/study.h"
 
@@ -36,7 +37,32 @@ struct qc_settings {
     double taps_imag[QC_ISI_MAX_TAPS];
     /* shaping of the last build (the request points here) */
     qc_shaping shaping;
+    /* a two-dimensional constellation of the last build (owned) and its
+     * receiver (the request points here; settings_plane.c) */
+    qc_plane *plane;
+    qc_design_iq iq;
 };
+
+/* Labels of a constellation without its own: searched by binary
+ * switching with these restarts and seed (fixed: the same labels on every
+ * run) up to this many points. */
+#define QC_SETTINGS_LABEL_RESTARTS 8
+#define QC_SETTINGS_LABEL_SEED 20260101UL
+#define QC_SETTINGS_MAX_SEARCH_LABELS 1024
+
+/* settings_plane.c: the key that makes the settings two-dimensional
+ * (a 2-D alphabet, a point file, a receiver or phase-noise key), or NULL. */
+const char *qc_settings_plane_reason(const qc_settings *s);
+/* The model (from the cache when there is one) and a request with
+ * channel.iq for two-dimensional settings; `why` is the key that made
+ * them so. */
+qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, const char *why,
+                                  qc_model_cache *cache, const qc_model **model,
+                                  qc_design_request *req);
+/* settings_build.c: a model instance of the setting, from the cache
+ * (borrowed) or new (the caller's) without one. */
+qc_status qc_settings_model_get(qc_model_cache *cache, const qc_model_type *type,
+                                const double *params, const qc_model **out);
 
 /* settings_converter.c: the converter keys into s->converter and
  * req->quantizer (kind converter when they are given without another
