@@ -20,6 +20,7 @@
 #include <float.h>
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_min.h>
@@ -30,6 +31,7 @@
 #define SIMPLEX_MAX_ITER 400
 #define SIMPLEX_WORK ((size_t)1 << 22) /* iterations × thresholds × levels */
 #define COUNT_BUDGET 20000 /* exhaustive integer search up to this many */
+#define SEEN_SLOTS 8        /* rated thresholds remembered by a search */
 #define BISECT_STEPS 200   /* halvings of an end of the flat interval (tidy) */
 #define ROUND_SHARE 1e-4   /* its middle is rounded within this share of its
                               width (qc_simplest_within) */
@@ -43,15 +45,40 @@ typedef struct {
     double *best_t;
     size_t evals;
     qc_status st;
+    double *seen_t;             /* SEEN_SLOTS × nt: thresholds rated last */
+    double seen_v[SEEN_SLOTS];  /* their rates                            */
+    size_t nseen, next_seen;
 } search;
+
+/* The rate of thresholds rated among the last SEEN_SLOTS, bit for bit
+ * (1), or 0. Once Brent's bracket or the simplex has shrunk to a few ulps
+ * they keep landing on points they have rated: over half of a sweep's
+ * rate evaluations were such repeats. The objective is a function of the
+ * thresholds alone, so the stored rate is the one it would give again. */
+static int seen_rate(const search *s, double *value)
+{
+    for (size_t k = 0; k < s->nseen; k++)
+        if (memcmp(s->seen_t + k * s->nt, s->t, s->nt * sizeof *s->t) == 0) {
+            *value = s->seen_v[k];
+            return 1;
+        }
+    return 0;
+}
 
 /* Rate of the thresholds in s->t; records the best seen. */
 static qc_status eval_current(search *s, double *value)
 {
-    qc_status st = s->f(s->ctx, s->t, s->nt, value);
     s->evals++;
+    if (seen_rate(s, value))
+        return QC_OK; /* already weighed against the best */
+    qc_status st = s->f(s->ctx, s->t, s->nt, value);
     if (st != QC_OK)
         return st;
+    memcpy(s->seen_t + s->next_seen * s->nt, s->t, s->nt * sizeof *s->t);
+    s->seen_v[s->next_seen] = *value;
+    s->next_seen = (s->next_seen + 1) % SEEN_SLOTS;
+    if (s->nseen < SEEN_SLOTS)
+        s->nseen++;
     if (*value > s->best) {
         s->best = *value;
         for (size_t j = 0; j < s->nt; j++)
@@ -251,10 +278,14 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             size_t *evals)
 {
     qc_gsl_init();
-    search s = {f, ctx, nt, NULL, -INFINITY, t_out, 0, QC_OK};
+    search s = {.f = f, .ctx = ctx, .nt = nt, .best = -INFINITY, .best_t = t_out, .st = QC_OK};
     s.t = qc_malloc_array(nt, sizeof *s.t);
-    if (!s.t)
+    s.seen_t = qc_malloc_array(nt * SEEN_SLOTS, sizeof *s.seen_t);
+    if (!s.t || !s.seen_t) {
+        free(s.t);
+        free(s.seen_t);
         return qc_fail(QC_ENOMEM, "out of memory");
+    }
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
     qc_status st;
@@ -279,6 +310,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         }
     }
     free(s.t);
+    free(s.seen_t);
     if (st != QC_OK)
         return st;
     if (!isfinite(s.best))
