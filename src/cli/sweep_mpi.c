@@ -151,11 +151,34 @@ int cli_mpi_agree(cli_mpi *m, const qc_scenario *sc, qc_status read_status)
     return rc;
 }
 
-/* A short sleep between polls of the link. */
-static void nap(void)
+/* Sleeps between polls of the link: the first short, each next one
+ * twice as long while nothing comes, up to NAP_MAX_NS. A wait that ends
+ * soon (an answer to a request) costs little latency, and a link that
+ * stays quiet (rank 0 while every rank computes a slow point, a rank
+ * waiting for rank 0 to write the tables) costs few wake-ups: with a
+ * fixed 0.1 ms the wake-ups of the serving thread took a sizeable share
+ * of the CPU time of a sweep over two ranks. */
+#define NAP_MIN_NS 50000L   /* 0.05 ms */
+#define NAP_MAX_NS 2000000L /* 2 ms: well below a typical point */
+
+static void nap(long *ns)
 {
-    struct timespec pause = {0, 100000}; /* 0.1 ms */
+    struct timespec pause = {0, *ns};
     nanosleep(&pause, NULL);
+    *ns = *ns * 2 > NAP_MAX_NS ? NAP_MAX_NS : *ns * 2;
+}
+
+/* Wait for a request to complete, asleep between tests, not in a busy
+ * MPI_Wait: ranks may share their cores with others. */
+static void wait_asleep(MPI_Request *req)
+{
+    long ns = NAP_MIN_NS;
+    for (int got = 0;;) {
+        MPI_Test(req, &got, MPI_STATUS_IGNORE);
+        if (got)
+            return;
+        nap(&ns);
+    }
 }
 
 static void fail_rank(const cli_mpi *m, const char *what)
@@ -185,16 +208,9 @@ int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
             OMP(omp critical(cli_mpi_link))
             {
                 MPI_Send(msg, (int)(sizeof done + len), MPI_BYTE, 0, TAG_ASK, MPI_COMM_WORLD);
-                /* wait for the answer asleep, not in a busy MPI_Recv: ranks
-                 * may share their cores with others */
                 MPI_Request req;
                 MPI_Irecv(&next, (int)sizeof next, MPI_BYTE, 0, TAG_POINT, MPI_COMM_WORLD, &req);
-                for (int got = 0;;) {
-                    MPI_Test(&req, &got, MPI_STATUS_IGNORE);
-                    if (got)
-                        break;
-                    nap();
-                }
+                wait_asleep(&req);
             }
             free(msg);
             free(text);
@@ -245,14 +261,16 @@ static void give_back(dispatch *d, size_t index, const char *text)
 static void serve(dispatch *d)
 {
     cli_mpi *m = d->m;
+    long ns = NAP_MIN_NS;
     while (m->remote_active > 0) {
         int flag = 0;
         MPI_Status status;
         MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &status);
         if (!flag) {
-            nap();
+            nap(&ns);
             continue;
         }
+        ns = NAP_MIN_NS;
         int count = 0;
         MPI_Get_count(&status, MPI_BYTE, &count);
         char *msg = malloc((size_t)count + 1);
@@ -331,7 +349,11 @@ int cli_mpi_end(cli_mpi *m, int rc)
         dispatch d = {.m = m}; /* no deliver: every request is told to stop */
         serve(&d);
     }
-    MPI_Bcast(&rc, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    /* the other ranks wait here while rank 0 writes the tables and plots:
+     * asleep, not in a blocking collective that polls at full speed */
+    MPI_Request req;
+    MPI_Ibcast(&rc, 1, MPI_INT, 0, MPI_COMM_WORLD, &req);
+    wait_asleep(&req);
     qc_sweep_worker_free(m->worker);
     free(m->remote_threads);
     memset(m, 0, sizeof *m);
