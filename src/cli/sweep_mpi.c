@@ -11,9 +11,12 @@
  * arrives. A rank that dies loses only the points it was computing.
  *
  * Messages (tags below): a request is an 8-byte point index, -1 when the
- * thread has nothing to give back, followed by that point's record text;
- * the answer is an 8-byte index, -1 meaning stop. The indices travel as
- * bytes: the ranks of one job are assumed to share the machine type.
+ * thread has nothing to give back, and the 8-byte tag to answer on (0:
+ * no point wanted), followed by that point's record text; the answer is
+ * an 8-byte index, -1 meaning stop. Each compute thread keeps one point
+ * in reserve (its next request is answered while it computes), so it
+ * never waits for the serving thread. The numbers travel as bytes: the
+ * ranks of one job are assumed to share the machine type.
  * On rank 0 one thread serves the requests and the others compute points
  * of their own; on the other ranks the compute threads take turns at the
  * communication (MPI_THREAD_SERIALIZED). */
@@ -67,7 +70,7 @@ size_t cli_mpi_launched(int *first)
 #define OMP(directive) /* built without OpenMP: one thread */
 #endif
 
-enum { TAG_ASK = 1, TAG_POINT = 2 };
+enum { TAG_ASK = 1, TAG_REPLY = 16 }; /* answers: TAG_REPLY + the thread's number */
 #define HASH_LEN 64 /* room for a scenario hash */
 
 int cli_mpi_start(cli_mpi *m, unsigned jobs)
@@ -151,11 +154,34 @@ int cli_mpi_agree(cli_mpi *m, const qc_scenario *sc, qc_status read_status)
     return rc;
 }
 
-/* A short sleep between polls of the link. */
-static void nap(void)
+/* Sleeps between polls of the link: the first short, each next one
+ * twice as long while nothing comes, up to NAP_MAX_NS. A wait that ends
+ * soon (an answer to a request) costs little latency, and a link that
+ * stays quiet (rank 0 while every rank computes a slow point, a rank
+ * waiting for rank 0 to write the tables) costs few wake-ups: with a
+ * fixed 0.1 ms the wake-ups of the serving thread took a sizeable share
+ * of the CPU time of a sweep over two ranks. */
+#define NAP_MIN_NS 50000L   /* 0.05 ms */
+#define NAP_MAX_NS 2000000L /* 2 ms: well below a typical point */
+
+static void nap(long *ns)
 {
-    struct timespec pause = {0, 100000}; /* 0.1 ms */
+    struct timespec pause = {0, *ns};
     nanosleep(&pause, NULL);
+    *ns = *ns * 2 > NAP_MAX_NS ? NAP_MAX_NS : *ns * 2;
+}
+
+/* Wait for a request to complete, asleep between tests, not in a busy
+ * MPI_Wait: ranks may share their cores with others. */
+static void wait_asleep(MPI_Request *req)
+{
+    long ns = NAP_MIN_NS;
+    for (int got = 0;;) {
+        MPI_Test(req, &got, MPI_STATUS_IGNORE);
+        if (got)
+            return;
+        nap(&ns);
+    }
 }
 
 static void fail_rank(const cli_mpi *m, const char *what)
@@ -164,6 +190,63 @@ static void fail_rank(const cli_mpi *m, const char *what)
     MPI_Abort(MPI_COMM_WORLD, CLI_NUMERIC);
 }
 
+/* A computing thread's request in flight: the record of the point it
+ * finished (if any) and, when it wants one, the next point, answered on
+ * the thread's own tag so that the threads of a rank never take each
+ * other's answers. */
+typedef struct {
+    MPI_Request send, recv;
+    char *msg;
+    int64_t next;
+    int want;
+} ask;
+
+static void ask_post(cli_mpi *m, ask *a, int64_t done, const char *text, int reply_tag)
+{
+    size_t len = text ? strlen(text) : 0;
+    const int64_t head[2] = {done, reply_tag}; /* reply_tag 0: no point wanted */
+    if (!(a->msg = malloc(sizeof head + len)))
+        fail_rank(m, "out of memory");
+    memcpy(a->msg, head, sizeof head);
+    if (len)
+        memcpy(a->msg + sizeof head, text, len);
+    a->want = reply_tag != 0;
+    a->next = -1;
+    OMP(omp critical(cli_mpi_link))
+    {
+        MPI_Isend(a->msg, (int)(sizeof head + len), MPI_BYTE, 0, TAG_ASK, MPI_COMM_WORLD,
+                  &a->send);
+        if (a->want)
+            MPI_Irecv(&a->next, (int)sizeof a->next, MPI_BYTE, 0, reply_tag, MPI_COMM_WORLD,
+                      &a->recv);
+    }
+}
+
+/* Wait (asleep) for the request to be sent and answered; the point to do
+ * next, or -1 (none wanted, or none left). */
+static int64_t ask_wait(ask *a)
+{
+    long ns = NAP_MIN_NS;
+    for (;;) {
+        int sent = 0, answered = 1;
+        OMP(omp critical(cli_mpi_link))
+        {
+            MPI_Test(&a->send, &sent, MPI_STATUS_IGNORE);
+            if (a->want)
+                MPI_Test(&a->recv, &answered, MPI_STATUS_IGNORE);
+        }
+        if (sent && answered)
+            break;
+        nap(&ns);
+    }
+    free(a->msg);
+    a->msg = NULL;
+    return a->want ? a->next : -1;
+}
+
+/* Each compute thread keeps one point in reserve: while it computes a
+ * point, its request for the next one is already on its way, so it never
+ * waits for rank 0's serving thread, which may be asleep. */
 int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
 {
     if (qc_sweep_worker_alloc(sc, &m->worker) != QC_OK)
@@ -172,39 +255,29 @@ int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
     (void)threads;
     OMP(omp parallel num_threads(threads))
     {
-        int64_t done = -1, next = -1;
-        char *text = NULL;
-        for (;;) {
-            size_t len = text ? strlen(text) : 0;
-            char *msg = malloc(sizeof done + len);
-            if (!msg)
-                fail_rank(m, "out of memory");
-            memcpy(msg, &done, sizeof done);
-            if (len)
-                memcpy(msg + sizeof done, text, len);
-            OMP(omp critical(cli_mpi_link))
-            {
-                MPI_Send(msg, (int)(sizeof done + len), MPI_BYTE, 0, TAG_ASK, MPI_COMM_WORLD);
-                /* wait for the answer asleep, not in a busy MPI_Recv: ranks
-                 * may share their cores with others */
-                MPI_Request req;
-                MPI_Irecv(&next, (int)sizeof next, MPI_BYTE, 0, TAG_POINT, MPI_COMM_WORLD, &req);
-                for (int got = 0;;) {
-                    MPI_Test(&req, &got, MPI_STATUS_IGNORE);
-                    if (got)
-                        break;
-                    nap();
-                }
-            }
-            free(msg);
-            free(text);
-            text = NULL;
-            if (next < 0)
-                break;
-            if (qc_sweep_worker_run(m->worker, (size_t)next, &text) != QC_OK)
+#ifdef _OPENMP
+        const int tag = TAG_REPLY + omp_get_thread_num();
+#else
+        const int tag = TAG_REPLY;
+#endif
+        ask a = {0};
+        ask_post(m, &a, -1, NULL, tag);
+        int64_t cur = ask_wait(&a);
+        int asking = cur >= 0;
+        if (asking)
+            ask_post(m, &a, -1, NULL, tag); /* the reserve */
+        while (cur >= 0) {
+            char *text = NULL;
+            if (qc_sweep_worker_run(m->worker, (size_t)cur, &text) != QC_OK)
                 fail_rank(m, qc_last_error());
-            done = next;
+            int64_t reserve = asking ? ask_wait(&a) : -1;
+            asking = reserve >= 0;
+            /* give the record back, and ask for another while there are */
+            ask_post(m, &a, cur, text, asking ? tag : 0);
+            free(text);
+            cur = reserve;
         }
+        ask_wait(&a);
     }
     return 0;
 }
@@ -240,41 +313,55 @@ static void give_back(dispatch *d, size_t index, const char *text)
 }
 
 /* Answer the other ranks' requests until each of their threads has been
- * told to stop. Polls, sleeping briefly when nothing waits, so that the
+ * told to stop and every point handed out has come back. Polls, sleeping
+ * when nothing waits (longer while the link stays quiet), so that the
  * serving thread leaves the cores to the computing ones. */
 static void serve(dispatch *d)
 {
     cli_mpi *m = d->m;
-    while (m->remote_active > 0) {
+    long ns = NAP_MIN_NS;
+    while (m->remote_active > 0 || m->remote_holding > 0) {
         int flag = 0;
         MPI_Status status;
         MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &status);
         if (!flag) {
-            nap();
+            nap(&ns);
             continue;
         }
+        ns = NAP_MIN_NS;
         int count = 0;
         MPI_Get_count(&status, MPI_BYTE, &count);
         char *msg = malloc((size_t)count + 1);
-        if (!msg || (size_t)count < sizeof(int64_t)) {
+        int64_t head[2] = {-1, 0};
+        if (msg && (size_t)count >= sizeof head) {
+            MPI_Recv(msg, count, MPI_BYTE, status.MPI_SOURCE, TAG_ASK, MPI_COMM_WORLD,
+                     MPI_STATUS_IGNORE);
+            memcpy(head, msg, sizeof head);
+        }
+        if (!msg || (size_t)count < sizeof head ||
+            (head[1] != 0 && (head[1] < TAG_REPLY || head[1] >= TAG_REPLY + 65536))) {
             fprintf(stderr, "quantcap: error: %s from rank %d\n",
-                    msg ? "a request too short" : "out of memory for a record", status.MPI_SOURCE);
+                    msg ? "a malformed request" : "out of memory for a record", status.MPI_SOURCE);
             MPI_Abort(MPI_COMM_WORLD, CLI_NUMERIC);
         }
-        MPI_Recv(msg, count, MPI_BYTE, status.MPI_SOURCE, TAG_ASK, MPI_COMM_WORLD,
-                 MPI_STATUS_IGNORE);
         msg[count] = '\0';
-        int64_t done;
-        memcpy(&done, msg, sizeof done);
         /* the asking thread gets its next point before its record is
          * checkpointed, so that it never waits for the disk */
-        int64_t next = d->deliver ? claim(d) : -1;
-        MPI_Send(&next, (int)sizeof next, MPI_BYTE, status.MPI_SOURCE, TAG_POINT,
-                 MPI_COMM_WORLD);
-        if (next < 0)
-            m->remote_active--;
-        if (done >= 0 && d->deliver)
-            give_back(d, (size_t)done, msg + sizeof done);
+        if (head[1] != 0) {
+            int64_t next = d->deliver ? claim(d) : -1;
+            MPI_Send(&next, (int)sizeof next, MPI_BYTE, status.MPI_SOURCE, (int)head[1],
+                     MPI_COMM_WORLD);
+            if (next < 0)
+                m->remote_active--;
+            else
+                m->remote_holding++;
+        }
+        if (head[0] >= 0) {
+            if (m->remote_holding > 0)
+                m->remote_holding--;
+            if (d->deliver)
+                give_back(d, (size_t)head[0], msg + sizeof head);
+        }
         free(msg);
     }
 }
@@ -331,7 +418,11 @@ int cli_mpi_end(cli_mpi *m, int rc)
         dispatch d = {.m = m}; /* no deliver: every request is told to stop */
         serve(&d);
     }
-    MPI_Bcast(&rc, 1, MPI_INT, 0, MPI_COMM_WORLD);
+    /* the other ranks wait here while rank 0 writes the tables and plots:
+     * asleep, not in a blocking collective that polls at full speed */
+    MPI_Request req;
+    MPI_Ibcast(&rc, 1, MPI_INT, 0, MPI_COMM_WORLD, &req);
+    wait_asleep(&req);
     qc_sweep_worker_free(m->worker);
     free(m->remote_threads);
     memset(m, 0, sizeof *m);

@@ -20,6 +20,7 @@ typedef struct {
     unsigned jobs;           /* this rank's compute threads                  */
     int *remote_threads;     /* rank 0: compute threads of each rank         */
     size_t remote_active;    /* rank 0: remote threads not yet told to stop  */
+    size_t remote_holding;   /* rank 0: points handed out, record not back   */
     const qc_scenario *sc;   /* the sweep (set by cli_mpi_agree)             */
     qc_sweep_worker *worker; /* computes this rank's points                  */
 } cli_mpi;

@@ -381,8 +381,9 @@ qc_status qc_design_converter(const qc_design_request *req, const qc_cost *costs
     }
     /* the unquantized reference is the receiver's own */
     double unq, unq_err;
-    if ((st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, r.nlevels, &unq,
-                                       &unq_err, &r.noiseless_limit)) != QC_OK)
+    if ((st = qc_unquantized_mi_memo(req->numerics.unquantized_memo, req->channel.model,
+                                     r.levels, r.input, r.nlevels, &unq, &unq_err,
+                                     &r.noiseless_limit)) != QC_OK)
         goto fail;
     r.unquantized_bits = unq * QC_LOG2E;
     r.unquantized_err_bits = unq_err * QC_LOG2E;

@@ -64,6 +64,12 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
  * (else NaN with the reason in snr_penalty_note). */
 qc_status qc_design_settle(const qc_design_request *req, qc_design_result *res);
 
+/* qc_snr_penalty_db with the unquantized rates of the curve looked up in
+ * memo first (snr.c; memo NULL: computed). */
+qc_status qc_snr_penalty_db_memo(qc_unquantized_memo *memo, const qc_model *model,
+                                 const double *levels, const double *input, size_t nlevels,
+                                 double rate_bits, double *penalty_db);
+
 /* Report `done` of `total` work units to the request's progress callback,
  * if any (done clamped to total). */
 void qc_design_progress(const qc_design_request *req, size_t done, size_t total);

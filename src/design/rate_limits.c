@@ -107,8 +107,8 @@ static qc_penalty_note penalty(const qc_design_request *req, qc_design_result *r
         return QC_PENALTY_SATURATED;
     if (r->unquantized_bits - r->rate_bits <= tol)
         return QC_PENALTY_NO_LOSS;
-    *st = qc_snr_penalty_db(req->channel.model, r->levels, r->input, r->nlevels, r->rate_bits,
-                            &r->snr_penalty_db);
+    *st = qc_snr_penalty_db_memo(req->numerics.unquantized_memo, req->channel.model, r->levels,
+                                 r->input, r->nlevels, r->rate_bits, &r->snr_penalty_db);
     if (*st != QC_OK)
         return QC_PENALTY_DEFINED;
     return isfinite(r->snr_penalty_db) ? QC_PENALTY_DEFINED : QC_PENALTY_NO_CROSSING;

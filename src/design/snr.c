@@ -75,6 +75,7 @@ typedef struct {
     const double *levels, *input;
     size_t nlevels;
     double rate_nats;
+    qc_unquantized_memo *memo; /* rates of the curve already computed */
     double snr_db;   /* SNR of the last scaled model */
     qc_status st;
 } curve;
@@ -87,7 +88,8 @@ static double curve_gap(double u, void *p)
     qc_status st = qc_model_scale_snr(c->model, pow(10.0, u / 10.0), &m);
     double mi = NAN;
     if (st == QC_OK)
-        st = qc_unquantized_mi(m, c->levels, c->input, c->nlevels, &mi, NULL);
+        st = qc_unquantized_mi_memo(c->memo, m, c->levels, c->input, c->nlevels, &mi, NULL,
+                                    NULL);
     if (st == QC_OK)
         c->snr_db = qc_model_snr_db(m, c->levels, c->input, c->nlevels);
     qc_model_free(m);
@@ -103,14 +105,21 @@ qc_status qc_snr_penalty_db(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels,
                             double rate_bits, double *penalty_db)
 {
+    return qc_snr_penalty_db_memo(NULL, model, levels, input, nlevels, rate_bits, penalty_db);
+}
+
+qc_status qc_snr_penalty_db_memo(qc_unquantized_memo *memo, const qc_model *model,
+                                 const double *levels, const double *input, size_t nlevels,
+                                 double rate_bits, double *penalty_db)
+{
     qc_gsl_init();
     *penalty_db = NAN;
     double snr0 = qc_model_snr_db(model, levels, input, nlevels);
     if (isnan(snr0) || !qc_model_get_type(model)->scale_snr || !(rate_bits > 0.0))
         return QC_OK;
-    curve c = {model, levels, input, nlevels, rate_bits / QC_LOG2E, NAN, QC_OK};
+    curve c = {model, levels, input, nlevels, rate_bits / QC_LOG2E, memo, NAN, QC_OK};
     double mi0, err0;
-    qc_status st = qc_unquantized_mi(model, levels, input, nlevels, &mi0, &err0);
+    qc_status st = qc_unquantized_mi_memo(memo, model, levels, input, nlevels, &mi0, &err0, NULL);
     if (st != QC_OK)
         return st;
     if (mi0 - c.rate_nats <= fmax(err0, 1e-12 * fmax(1.0, mi0))) {

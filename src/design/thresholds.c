@@ -18,8 +18,8 @@ qc_status qc_design_thresholds(const qc_design_request *req, const qc_cost *cost
     /* The unquantized reference for the same levels and final law. */
     qc_design_result r = *res;
     double unq, unq_err;
-    st = qc_unquantized_mi_detail(req->channel.model, r.levels, r.input, r.nlevels, &unq,
-                                  &unq_err, &r.noiseless_limit);
+    st = qc_unquantized_mi_memo(req->numerics.unquantized_memo, req->channel.model, r.levels,
+                                r.input, r.nlevels, &unq, &unq_err, &r.noiseless_limit);
     if (st != QC_OK) {
         qc_design_result_clear(res);
         return st;

@@ -28,6 +28,30 @@ static double gauss_above(const qc_model *m, double x, double t)
     return gsl_cdf_gaussian_Q(t - x, m->params[P_SIGMA]);
 }
 
+/* Both tails from one evaluation of GSL's normal law where GSL itself
+ * takes the larger tail as 1 − the smaller (|u| ≥ 0.66291 in GSL's
+ * gsl_cdf_ugaussian_P and _Q; beyond one standard deviation here, with a
+ * margin): the smaller tail is computed and the larger is 1.0 minus it,
+ * the same operation, so the values are those of gauss_below and
+ * gauss_above bit for bit (tests/models/test_gauss_tails.c checks it).
+ * Nearer the mean both are computed. */
+#define GAUSS_TAILS_ONE_CALL 1.0 /* |t − x|/σ from which one call is enough */
+
+static void gauss_tails(const qc_model *m, double x, double t, double *below, double *above)
+{
+    const double u = (t - x) / m->params[P_SIGMA]; /* as gsl_cdf_gaussian_P/Q */
+    if (u >= GAUSS_TAILS_ONE_CALL) {
+        *above = gsl_cdf_ugaussian_Q(u);
+        *below = 1.0 - *above;
+    } else if (u <= -GAUSS_TAILS_ONE_CALL) {
+        *below = gsl_cdf_ugaussian_P(u);
+        *above = 1.0 - *below;
+    } else {
+        *below = gsl_cdf_ugaussian_P(u);
+        *above = gsl_cdf_ugaussian_Q(u);
+    }
+}
+
 static double gauss_density(const qc_model *m, double x, double y)
 {
     return gsl_ran_gaussian_pdf(y - x, m->params[P_SIGMA]);
@@ -86,6 +110,7 @@ const qc_model_type qc_model_gauss = {
     .params = gauss_params,
     .below = gauss_below,
     .above = gauss_above,
+    .tails = gauss_tails,
     .density = gauss_density,
     .support = gauss_support,
     .moments = gauss_moments,

@@ -206,6 +206,10 @@ typedef struct {
      * search (its designs); other designs are quick and report nothing. */
     void (*progress)(void *user, size_t done, size_t total);
     void *progress_user;
+    /* Unquantized rates already computed, shared by the designs of a run
+     * (a sweep's points): the reference and the SNR-penalty search look
+     * there first (qc_unquantized_mi_memo). NULL: computed each time. */
+    qc_unquantized_memo *unquantized_memo;
 } qc_design_numerics;
 
 /* A channel with memory (quantcap/memory.h): the received sample is

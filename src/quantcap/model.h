@@ -149,6 +149,11 @@ typedef struct qc_model_type {
      * background excluded) in one use when level x is sent, for
      * photon-counting and APD models; NULL when the model counts none. */
     double (*photons)(const qc_model *m, double x);
+    /* Optional: both tails at t at once, *below = P(Y < t | x) and
+     * *above = P(Y ≥ t | x), bit for bit the values `below` and `above`
+     * give, at less than the cost of calling both (NULL: the discretizer
+     * calls both). */
+    void (*tails)(const qc_model *m, double x, double t, double *below, double *above);
 } qc_model_type;
 
 QC_API extern const qc_model_type qc_model_gauss;

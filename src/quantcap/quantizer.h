@@ -65,6 +65,32 @@ QC_API qc_status qc_unquantized_mi_detail(const qc_model *model, const double *l
                                    double *mi_nats, double *abserr_nats,
                                    int *noiseless);
 
+/* A store of unquantized rates already computed, for designs that meet
+ * the same channel again (a sweep's points at several resolutions, the
+ * SNR-penalty searches that walk the same unquantized curve). Keyed by
+ * the model type, its parameter values, the levels and the law, bit for
+ * bit, so a stored value is the one a new quadrature would give. Models
+ * read from a file are not stored. Safe to share between threads. */
+typedef struct qc_unquantized_memo qc_unquantized_memo;
+
+#define QC_UNQUANTIZED_MEMO_BYTES ((size_t)32 << 20) /* default budget */
+
+/* A new, empty store that keeps at most budget_bytes of entries (0: the
+ * default, QC_UNQUANTIZED_MEMO_BYTES), emptied when full. *out = NULL and
+ * QC_ENOMEM on failure. */
+QC_API qc_status qc_unquantized_memo_alloc(size_t budget_bytes, qc_unquantized_memo **out);
+
+/* Frees the store; NULL does nothing. */
+QC_API void qc_unquantized_memo_free(qc_unquantized_memo *memo);
+
+/* qc_unquantized_mi_detail, looked up in memo first and kept there when
+ * computed (memo NULL: computed). Same values, to the last bit, and the
+ * same failures (which are not kept). */
+QC_API qc_status qc_unquantized_mi_memo(qc_unquantized_memo *memo, const qc_model *model,
+                                        const double *levels, const double *input,
+                                        size_t nlevels, double *mi_nats, double *abserr_nats,
+                                        int *noiseless);
+
 /* The same with the unquantized output (adaptive quadrature, GSL QAGS, or
  * a sum over counts), as qc_unquantized_mi, with the labels of qc_gmi.
  * Fails as qc_unquantized_mi or (labels) as qc_gmi; on failure *gmi_nats

@@ -32,8 +32,9 @@ qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
     w->lo = qc_malloc_array(nt + 1, sizeof *w->lo);
     w->hi = qc_malloc_array(nt + 1, sizeof *w->hi);
     w->q = qc_malloc_array(nt + 1, sizeof *w->q);
+    w->log_q = qc_malloc_array(nt + 1, sizeof *w->log_q);
     w->lr = qc_malloc_array(nlevels * (nt + 1), sizeof *w->lr);
-    if (!w->lo || !w->hi || !w->q || !w->lr) {
+    if (!w->lo || !w->hi || !w->q || !w->log_q || !w->lr) {
         qc_cell_mi_free(w);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
@@ -49,6 +50,7 @@ void qc_cell_mi_free(qc_cell_mi *w)
     free(w->lo);
     free(w->hi);
     free(w->q);
+    free(w->log_q);
     free(w->lr);
     free(w);
 }
@@ -66,12 +68,14 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     if (st != QC_OK)
         return st;
     qc_output_law(w->channel, w->input, w->q);
+    for (size_t c = 0; c < k; c++) /* log q(c), once per cell */
+        w->log_q[c] = safe_log(w->q[c]);
     double mi = 0.0;
     for (size_t x = 0; x < nx; x++) {
         const double *row = w->channel->p + x * k;
         double *lr = w->lr + x * k;
         for (size_t c = 0; c < k; c++) {
-            lr[c] = safe_log(row[c]) - safe_log(w->q[c]);
+            lr[c] = safe_log(row[c]) - w->log_q[c];
             if (w->input[x] > 0.0 && row[c] > 0.0)
                 mi += w->input[x] * row[c] * lr[c];
         }

@@ -46,9 +46,14 @@ qc_status qc_thresholds_check(const qc_model *model, const double *t, size_t n)
 static qc_status discretize_row(const qc_model *m, double x, const double *t,
                                 size_t n, double *lo, double *hi, double *row)
 {
+    const qc_model_type *type = qc_model_get_type(m);
     for (size_t j = 0; j < n; j++) {
-        lo[j] = qc_model_get_type(m)->below(m, x, t[j]);
-        hi[j] = qc_model_get_type(m)->above(m, x, t[j]);
+        if (type->tails) {
+            type->tails(m, x, t[j], &lo[j], &hi[j]);
+        } else {
+            lo[j] = type->below(m, x, t[j]);
+            hi[j] = type->above(m, x, t[j]);
+        }
         if (!isfinite(lo[j]) || !isfinite(hi[j]) || lo[j] < 0.0 || hi[j] < 0.0)
             return qc_fail(QC_ENUMERIC,
                            "model '%s' returned an invalid tail probability at "

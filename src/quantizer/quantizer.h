@@ -19,6 +19,7 @@ typedef struct {
     qc_dmc *channel;     /* nlevels × K, the last evaluated channel */
     double *lo, *hi;     /* scratch, nt each */
     double *q;           /* output law, K */
+    double *log_q;       /* log q(c), K */
     double *lr;          /* log(P(c|x)/q(c)), nlevels × K */
 } qc_cell_mi;
 
@@ -147,5 +148,11 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
                                 const qc_fine_grid *g, double *t_out,
                                 double *mi_nats, size_t *iterations);
+
+/* ---- unquantized_memo.c ---------------------------------------------- */
+
+/* Lookups answered from the store and lookups that computed (for tests
+ * and measurements); memo NULL gives zeros. */
+void qc_unquantized_memo_counts(qc_unquantized_memo *memo, size_t *hits, size_t *misses);
 
 #endif

@@ -17,8 +17,10 @@
  * refined around its best point). */
 #include "quantizer/quantizer.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_min.h>
@@ -29,6 +31,10 @@
 #define SIMPLEX_MAX_ITER 400
 #define SIMPLEX_WORK ((size_t)1 << 22) /* iterations × thresholds × levels */
 #define COUNT_BUDGET 20000 /* exhaustive integer search up to this many */
+#define SEEN_SLOTS 8        /* rated thresholds remembered by a search */
+#define BISECT_STEPS 200   /* halvings of an end of the flat interval (tidy) */
+#define ROUND_SHARE 1e-4   /* its middle is rounded within this share of its
+                              width (qc_simplest_within) */
 
 typedef struct {
     qc_threshold_objective f;
@@ -39,15 +45,40 @@ typedef struct {
     double *best_t;
     size_t evals;
     qc_status st;
+    double *seen_t;             /* SEEN_SLOTS × nt: thresholds rated last */
+    double seen_v[SEEN_SLOTS];  /* their rates                            */
+    size_t nseen, next_seen;
 } search;
+
+/* The rate of thresholds rated among the last SEEN_SLOTS, bit for bit
+ * (1), or 0. Once Brent's bracket or the simplex has shrunk to a few ulps
+ * they keep landing on points they have rated: over half of a sweep's
+ * rate evaluations were such repeats. The objective is a function of the
+ * thresholds alone, so the stored rate is the one it would give again. */
+static int seen_rate(const search *s, double *value)
+{
+    for (size_t k = 0; k < s->nseen; k++)
+        if (memcmp(s->seen_t + k * s->nt, s->t, s->nt * sizeof *s->t) == 0) {
+            *value = s->seen_v[k];
+            return 1;
+        }
+    return 0;
+}
 
 /* Rate of the thresholds in s->t; records the best seen. */
 static qc_status eval_current(search *s, double *value)
 {
-    qc_status st = s->f(s->ctx, s->t, s->nt, value);
     s->evals++;
+    if (seen_rate(s, value))
+        return QC_OK; /* already weighed against the best */
+    qc_status st = s->f(s->ctx, s->t, s->nt, value);
     if (st != QC_OK)
         return st;
+    memcpy(s->seen_t + s->next_seen * s->nt, s->t, s->nt * sizeof *s->t);
+    s->seen_v[s->next_seen] = *value;
+    s->next_seen = (s->next_seen + 1) % SEEN_SLOTS;
+    if (s->nseen < SEEN_SLOTS)
+        s->nseen++;
     if (*value > s->best) {
         s->best = *value;
         for (size_t j = 0; j < s->nt; j++)
@@ -247,10 +278,14 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             size_t *evals)
 {
     qc_gsl_init();
-    search s = {f, ctx, nt, NULL, -INFINITY, t_out, 0, QC_OK};
+    search s = {.f = f, .ctx = ctx, .nt = nt, .best = -INFINITY, .best_t = t_out, .st = QC_OK};
     s.t = qc_malloc_array(nt, sizeof *s.t);
-    if (!s.t)
+    s.seen_t = qc_malloc_array(nt * SEEN_SLOTS, sizeof *s.seen_t);
+    if (!s.t || !s.seen_t) {
+        free(s.t);
+        free(s.seen_t);
         return qc_fail(QC_ENOMEM, "out of memory");
+    }
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
     qc_status st;
@@ -275,6 +310,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         }
     }
     free(s.t);
+    free(s.seen_t);
     if (st != QC_OK)
         return st;
     if (!isfinite(s.best))
@@ -296,48 +332,119 @@ static void range_thresholds(double c, double h, size_t nt, double *t)
         t[j] = c - h + 2.0 * h * (double)(j + 1) / K;
 }
 
+/* One end of the interval over which the rate stays ≥ floor: bisection
+ * from `good` (inside) toward `bad` (the bound, tried first), down to the
+ * resolution of doubles. Kept as a state so that the two ends can be
+ * narrowed in turns and left as soon as the rounded middle is known. */
+typedef struct {
+    double good, bad;
+    int k;    /* steps taken (the bound is step 0)                */
+    int done; /* good is final                                    */
+} bisection;
+
+/* Rate of the range (c, h); -INFINITY when its thresholds are not
+ * increasing. */
+static qc_status range_rate(qc_threshold_objective f, void *ctx, size_t nt, double c,
+                            double h, double *t, double *v)
+{
+    range_thresholds(c, h, nt, t);
+    int ordered = h > 0.0;
+    for (size_t j = 1; ordered && j < nt; j++)
+        ordered = t[j] > t[j - 1];
+    *v = -INFINITY;
+    return ordered ? f(ctx, t, nt, v) : QC_OK;
+}
+
+/* One step of a bisection: the coordinate *p is set to the trial value. */
+static qc_status bisection_step(bisection *b, qc_threshold_objective f, void *ctx, size_t nt,
+                                double *c, double *h, double *p, double floor_v, double *t)
+{
+    double x = b->k == 0 ? b->bad : 0.5 * (b->good + b->bad);
+    if (b->k > 0 && (x == b->good || x == b->bad)) {
+        b->done = 1;
+        return QC_OK;
+    }
+    *p = x;
+    double v;
+    qc_status st = range_rate(f, ctx, nt, *c, *h, t, &v);
+    if (st != QC_OK)
+        return st;
+    if (v >= floor_v) {
+        b->good = x;
+        if (b->k == 0)
+            b->done = 1;
+    } else {
+        b->bad = x;
+    }
+    if (++b->k >= BISECT_STEPS)
+        b->done = 1;
+    return QC_OK;
+}
+
+/* The rounded middle qc_simplest_within(0.5·(e0 + e1), ROUND_SHARE·(e1 − e0))
+ * of ends that are known to lie in [a0, b0] and [a1, b1], when every such
+ * pair gives the same value (then *r = that value, return 1). The value is
+ * the point of coarsest binary grid in the interval I = [m − τ, m + τ]
+ * (0 when I holds 0), which is the same for every I that holds it and lies
+ * in an interval holding that point as its coarsest: so the coarsest point
+ * of the widest possible I is computed and checked to lie in the narrowest
+ * one, with a margin of many ulps for the rounding of m, τ and the test. */
+static int settled_middle(double a0, double b0, double a1, double b1, double *r)
+{
+    const double scale = fmax(fmax(fabs(a0), fabs(b0)), fmax(fabs(a1), fabs(b1)));
+    const double slack = 64.0 * DBL_EPSILON * scale + DBL_MIN;
+    const double m_lo = 0.5 * (a0 + a1), m_hi = 0.5 * (b0 + b1);
+    const double tau_lo = ROUND_SHARE * (a1 - b0), tau_hi = ROUND_SHARE * (b1 - a0);
+    if (!(tau_lo > 4.0 * slack))
+        return 0;
+    const double in_lo = m_hi - tau_lo + slack, in_hi = m_lo + tau_lo - slack;
+    const double out_lo = m_lo - tau_hi - slack, out_hi = m_hi + tau_hi + slack;
+    if (!(in_lo < in_hi))
+        return 0;
+    double x = qc_simplest_within(0.5 * (out_lo + out_hi), 0.5 * (out_hi - out_lo));
+    if (!(x >= in_lo && x <= in_hi))
+        return 0;
+    *r = x;
+    return 1;
+}
+
 /* Move coordinate *p (the centre or the half-width) to the middle of the
- * interval [lo_p, hi_p] ∋ *p over which the rate stays ≥ floor_v. */
+ * interval [lo_p, hi_p] ∋ *p over which the rate stays ≥ floor_v, rounded
+ * to the simplest value within ROUND_SHARE of the interval's width. The
+ * two ends are bisected in turns, each step as a bisection of that end
+ * alone would take it, and the bisections stop once the rounded middle no
+ * longer depends on where in their brackets the ends fall; the result is
+ * the one full bisections give, with fewer rate evaluations. */
 static qc_status center_coordinate(qc_threshold_objective f, void *ctx, size_t nt,
                                    double *c, double *h, int which, double lo_p,
                                    double hi_p, double floor_v, double *t)
 {
     double *p = which ? h : c;
     const double p0 = *p;
-    double ends[2];
-    for (int side = 0; side < 2; side++) {
-        double good = p0, bad = side ? hi_p : lo_p, v;
-        for (int k = 0; k < 200; k++) {
-            double x = k == 0 ? bad : 0.5 * (good + bad);
-            if (k > 0 && (x == good || x == bad))
-                break;
-            *p = x;
-            range_thresholds(*c, *h, nt, t);
-            int ordered = *h > 0.0;
-            for (size_t j = 1; ordered && j < nt; j++)
-                ordered = t[j] > t[j - 1];
-            v = -INFINITY;
-            if (ordered) {
-                qc_status st = f(ctx, t, nt, &v);
-                if (st != QC_OK) {
-                    *p = p0;
-                    return st;
-                }
-            }
-            if (v >= floor_v) {
-                good = x;
-                if (k == 0)
-                    break;
-            } else {
-                bad = x;
-            }
+    bisection end[2] = {{p0, lo_p, 0, 0}, {p0, hi_p, 0, 0}};
+    double mid = NAN;
+    int known = 0;
+    qc_status st = QC_OK;
+    while (!(end[0].done && end[1].done)) {
+        for (int side = 0; side < 2 && st == QC_OK; side++)
+            if (!end[side].done)
+                st = bisection_step(&end[side], f, ctx, nt, c, h, p, floor_v, t);
+        if (st != QC_OK) {
+            *p = p0;
+            return st;
         }
-        ends[side] = good;
+        double a0 = end[0].done ? end[0].good : end[0].bad;
+        double b1 = end[1].done ? end[1].good : end[1].bad;
+        if (end[0].k > 0 && end[1].k > 0 &&
+            (known = settled_middle(a0, end[0].good, end[1].good, b1, &mid)))
+            break;
     }
-    *p = qc_simplest_within(0.5 * (ends[0] + ends[1]), 1e-4 * (ends[1] - ends[0]));
+    *p = known ? mid
+               : qc_simplest_within(0.5 * (end[0].good + end[1].good),
+                                    ROUND_SHARE * (end[1].good - end[0].good));
     range_thresholds(*c, *h, nt, t);
     double v;
-    qc_status st = f(ctx, t, nt, &v);
+    st = f(ctx, t, nt, &v);
     if (st != QC_OK || !(v >= floor_v))
         *p = p0;
     return st;

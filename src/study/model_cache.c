@@ -17,7 +17,13 @@
  * One mutex guards the list; instances are built outside it. A failed
  * build is not kept. Instances out on loan are kept; of the others, the
  * MODEL_CACHE_IDLE most recently given back, so that memory stays bounded
- * when every point has its own model. */
+ * when every point has its own model.
+ *
+ * The cache also holds the unquantized rates computed with its models
+ * (qc_unquantized_memo, src/quantizer/unquantized_memo.c), which the
+ * designs built through it look up: a sweep's points at several
+ * resolutions share one unquantized reference and the start of one
+ * SNR-penalty search. */
 #include "study/settings_internal.h"
 
 #include <math.h>
@@ -39,6 +45,7 @@ typedef struct entry {
 
 struct qc_model_cache {
     pthread_mutex_t lock;
+    qc_unquantized_memo *memo; /* unquantized rates of the run's designs */
     entry *head;
     size_t nidle;
     unsigned long clock;
@@ -53,6 +60,12 @@ qc_status qc_model_cache_alloc(qc_model_cache **out)
     if (pthread_mutex_init(&c->lock, NULL) != 0) {
         free(c);
         return qc_fail(QC_ENOMEM, "cannot create the lock of the model cache");
+    }
+    qc_status st = qc_unquantized_memo_alloc(0, &c->memo);
+    if (st != QC_OK) {
+        pthread_mutex_destroy(&c->lock);
+        free(c);
+        return st;
     }
     *out = c;
     return QC_OK;
@@ -73,6 +86,7 @@ void qc_model_cache_free(qc_model_cache *c)
         next = e->next;
         entry_free(e);
     }
+    qc_unquantized_memo_free(c->memo);
     pthread_mutex_destroy(&c->lock);
     free(c);
 }
@@ -151,6 +165,8 @@ qc_status qc_model_cache_get(qc_model_cache *c, const qc_model_type *type,
     *out = m;
     return st;
 }
+
+qc_unquantized_memo *qc_model_cache_memo(qc_model_cache *c) { return c ? c->memo : NULL; }
 
 void qc_model_cache_release(qc_model_cache *c, const qc_model *model)
 {

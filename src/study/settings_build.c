@@ -970,6 +970,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     if ((st = design_options(s, dims, optimize, req)) != QC_OK ||
         (st = memory_of(s, req)) != QC_OK)
         goto fail;
+    req->numerics.unquantized_memo = qc_model_cache_memo(cache);
     return QC_OK;
 fail:
     qc_alphabet_free(alpha);

@@ -75,4 +75,8 @@ void qc_settings_free_lists(qc_settings *s);
 /* Is `key` one of the design keys (not a model parameter)? */
 int qc_setting_is_design_key(const char *key);
 
+/* model_cache.c: the store of unquantized rates the cache's designs share
+ * (NULL for a NULL cache). */
+qc_unquantized_memo *qc_model_cache_memo(qc_model_cache *cache);
+
 #endif

@@ -1,0 +1,248 @@
+/* test_reuse.c — work a design shares or skips gives the same numbers, to
+ * the last bit, as the work done again: the Gaussian model's two tails
+ * from one call (gauss.c), the store of unquantized rates
+ * (unquantized_memo.c), and the uniform quantizer's centring, whose
+ * bisections stop once the rounded middle is known (uniform.c), against
+ * full bisections written out here as the reference. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "quantcap.h"
+#include "quantizer/quantizer.h"
+
+#define TEST_RNG_SEED 0x9E3779B97F4A7C15ull /* random cases below */
+#include "test_helpers.h"
+
+#define TAIL_CASES 200000 /* random (level, threshold, sigma) triples */
+#define TIDY_CASES 24     /* random uniform designs centred both ways */
+#define EPS_NATS 1e-10    /* rate the centring may give up (the designs' own) */
+
+static qc_model *gauss(double sigma)
+{
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    return m;
+}
+
+static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
+
+/* tails() gives below() and above() bit for bit, near the mean (both
+ * computed), at GSL's switch between its formulas, and deep in the tails. */
+static void test_gauss_tails(void **state)
+{
+    (void)state;
+    const qc_model_type *type = &qc_model_gauss;
+    assert_non_null(type->tails);
+    for (size_t i = 0; i < TAIL_CASES; i++) {
+        double sigma = pow(10.0, -3.0 + 4.0 * uniform01());
+        qc_model *m = i % 1000 == 0 || i == 0 ? gauss(sigma) : NULL;
+        static qc_model *cur;
+        if (m) {
+            qc_model_free(cur);
+            cur = m;
+        }
+        double s = qc_model_params(cur)[0];
+        double x = 4.0 * uniform01() - 2.0;
+        double u = i % 4 == 0   ? 0.66291 + 1e-3 * (uniform01() - 0.5) /* GSL's switch */
+                   : i % 4 == 1 ? 1.0 + 1e-9 * (uniform01() - 0.5)    /* ours */
+                                : 90.0 * uniform01() - 45.0;
+        if (i % 8 == 0)
+            u = -u;
+        double t = x + u * s, lo, hi;
+        type->tails(cur, x, t, &lo, &hi);
+        if (!same_bits(lo, type->below(cur, x, t)) || !same_bits(hi, type->above(cur, x, t)))
+            fail_msg("tails differ at x = %.17g, t = %.17g, sigma = %.17g", x, t, s);
+        if (i + 1 == TAIL_CASES) {
+            qc_model_free(cur);
+            cur = NULL;
+        }
+    }
+}
+
+/* A stored rate is the computed one; the same channel again is a hit, a
+ * changed law or parameter a miss. */
+static void test_memo(void **state)
+{
+    (void)state;
+    qc_unquantized_memo *memo;
+    assert_int_equal(qc_unquantized_memo_alloc(0, &memo), QC_OK);
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0};
+    double law[4] = {0.25, 0.25, 0.25, 0.25};
+    qc_model *m = gauss(0.9), *m2 = gauss(0.9), *m3 = gauss(0.91);
+    double mi, err, mi_m, err_m, mi_h, err_h;
+    int nl, nl_m, nl_h;
+    assert_int_equal(qc_unquantized_mi_detail(m, levels, law, 4, &mi, &err, &nl), QC_OK);
+    assert_int_equal(qc_unquantized_mi_memo(memo, m, levels, law, 4, &mi_m, &err_m, &nl_m),
+                     QC_OK);
+    /* another instance of the same setting finds it */
+    assert_int_equal(qc_unquantized_mi_memo(memo, m2, levels, law, 4, &mi_h, &err_h, &nl_h),
+                     QC_OK);
+    assert_true(same_bits(mi, mi_m) && same_bits(err, err_m) && nl == nl_m);
+    assert_true(same_bits(mi, mi_h) && same_bits(err, err_h) && nl == nl_h);
+    size_t hits, misses;
+    qc_unquantized_memo_counts(memo, &hits, &misses);
+    assert_int_equal(hits, 1);
+    assert_int_equal(misses, 1);
+    assert_int_equal(qc_unquantized_mi_memo(memo, m3, levels, law, 4, &mi_h, NULL, NULL), QC_OK);
+    law[0] = 0.3;
+    law[3] = 0.2;
+    assert_int_equal(qc_unquantized_mi_memo(memo, m, levels, law, 4, &mi_h, NULL, NULL), QC_OK);
+    qc_unquantized_memo_counts(memo, &hits, &misses);
+    assert_int_equal(hits, 1);
+    assert_int_equal(misses, 3);
+    /* a budget too small for any entry keeps nothing and still answers */
+    qc_unquantized_memo *tiny;
+    assert_int_equal(qc_unquantized_memo_alloc(16, &tiny), QC_OK);
+    law[0] = 0.25;
+    law[3] = 0.25;
+    for (int k = 0; k < 2; k++) {
+        assert_int_equal(qc_unquantized_mi_memo(tiny, m, levels, law, 4, &mi_h, NULL, NULL),
+                         QC_OK);
+        assert_true(same_bits(mi, mi_h));
+    }
+    qc_unquantized_memo_counts(tiny, &hits, &misses);
+    assert_int_equal(hits, 0);
+    assert_int_equal(misses, 2);
+    qc_unquantized_memo_free(tiny);
+    qc_unquantized_memo_free(memo);
+    qc_unquantized_memo_free(NULL);
+    qc_model_free(m);
+    qc_model_free(m2);
+    qc_model_free(m3);
+}
+
+/* ---- the centring with full bisections (the reference) ---------------- */
+
+static void range_thresholds(double c, double h, size_t nt, double *t)
+{
+    const double K = (double)(nt + 1);
+    for (size_t j = 0; j < nt; j++)
+        t[j] = c - h + 2.0 * h * (double)(j + 1) / K;
+}
+
+static qc_status full_center(qc_threshold_objective f, void *ctx, size_t nt, double *c,
+                             double *h, int which, double lo_p, double hi_p, double floor_v,
+                             double *t)
+{
+    double *p = which ? h : c;
+    const double p0 = *p;
+    double ends[2];
+    for (int side = 0; side < 2; side++) {
+        double good = p0, bad = side ? hi_p : lo_p, v;
+        for (int k = 0; k < 200; k++) {
+            double x = k == 0 ? bad : 0.5 * (good + bad);
+            if (k > 0 && (x == good || x == bad))
+                break;
+            *p = x;
+            range_thresholds(*c, *h, nt, t);
+            int ordered = *h > 0.0;
+            for (size_t j = 1; ordered && j < nt; j++)
+                ordered = t[j] > t[j - 1];
+            v = -INFINITY;
+            if (ordered && f(ctx, t, nt, &v) != QC_OK)
+                return QC_ENUMERIC;
+            if (v >= floor_v) {
+                good = x;
+                if (k == 0)
+                    break;
+            } else {
+                bad = x;
+            }
+        }
+        ends[side] = good;
+    }
+    *p = qc_simplest_within(0.5 * (ends[0] + ends[1]), 1e-4 * (ends[1] - ends[0]));
+    range_thresholds(*c, *h, nt, t);
+    double v;
+    qc_status st = f(ctx, t, nt, &v);
+    if (st != QC_OK || !(v >= floor_v))
+        *p = p0;
+    return st;
+}
+
+static qc_status full_tidy(const qc_model *model, const double *levels, size_t nlevels,
+                           size_t nt, qc_threshold_objective f, void *ctx, double eps,
+                           double *t)
+{
+    double *u = malloc(nt * sizeof *u);
+    double v0;
+    qc_status st = f(ctx, t, nt, &v0);
+    const double w = t[1] - t[0], K = (double)(nt + 1);
+    double h = 0.5 * K * w, c = t[0] - w + h, lo, hi;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    const double hmax = fmax(fmax(hi - c, c - lo), h);
+    if (st == QC_OK)
+        st = full_center(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u);
+    if (st == QC_OK)
+        st = full_center(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c), v0 - eps, u);
+    if (st == QC_OK) {
+        double v;
+        range_thresholds(c, h, nt, u);
+        int ordered = 1;
+        for (size_t j = 1; j < nt; j++)
+            ordered = ordered && u[j] > u[j - 1];
+        if (ordered && (st = f(ctx, u, nt, &v)) == QC_OK && v >= v0 - eps)
+            memcpy(t, u, nt * sizeof *t);
+    }
+    free(u);
+    return st;
+}
+
+static qc_status rate_of(void *ctx, const double *t, size_t nt, double *value)
+{
+    (void)nt;
+    return qc_cell_mi_eval(ctx, t, value, NULL);
+}
+
+/* Random level sets (some asymmetric), noise and resolutions: the centred
+ * uniform quantizer is the one of full bisections, bit for bit. */
+static void test_tidy_same_as_full_bisection(void **state)
+{
+    (void)state;
+    for (size_t i = 0; i < TIDY_CASES; i++) {
+        size_t n = uniform_between(2, 8), nt = ((size_t)1 << uniform_between(1, 6)) - 1;
+        if (nt < 2)
+            nt = 3;
+        double levels[8], law[8];
+        for (size_t k = 0; k < n; k++) {
+            levels[k] = -1.0 + 2.0 * (double)k / (double)(n - 1);
+            if (i % 3 == 0)
+                levels[k] += 0.1 * uniform01(); /* asymmetric */
+            law[k] = 1.0 / (double)n;
+        }
+        qc_model *m = gauss(pow(10.0, -2.0 + 2.2 * uniform01()));
+        qc_cell_mi *w;
+        assert_int_equal(qc_cell_mi_alloc(m, levels, law, n, nt, &w), QC_OK);
+        double *t = malloc(nt * sizeof *t), *ref = malloc(nt * sizeof *ref);
+        assert_int_equal(qc_uniform_search(m, levels, n, nt, rate_of, w, t, NULL, NULL), QC_OK);
+        memcpy(ref, t, nt * sizeof *t);
+        assert_int_equal(qc_uniform_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, t), QC_OK);
+        assert_int_equal(full_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, ref), QC_OK);
+        for (size_t j = 0; j < nt; j++)
+            if (!same_bits(t[j], ref[j]))
+                fail_msg("case %zu (%zu levels, %zu thresholds): threshold %zu is %.17g, full "
+                         "bisections give %.17g",
+                         i, n, nt, j + 1, t[j], ref[j]);
+        free(t);
+        free(ref);
+        qc_cell_mi_free(w);
+        qc_model_free(m);
+    }
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_gauss_tails),
+        cmocka_unit_test(test_memo),
+        cmocka_unit_test(test_tidy_same_as_full_bisection),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
