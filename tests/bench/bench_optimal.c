@@ -85,7 +85,7 @@ int main(int argc, char **argv)
         for (int rep = 0; rep < REPEATS; rep++) {
             double t0 = cpu();
             qc_fine_grid g = {0};
-            if (qc_fine_grid_build(m, levels, law, 8, qc_fine_cells_default(cells), cells,
+            if (qc_fine_grid_build(m, levels, law, 8, qc_coarse_cells(m, levels, law, 8, cells), cells,
                                    &g) != QC_OK ||
                 qc_optimal_thresholds(m, levels, law, 8, nt, &g, t, &mi, NULL) != QC_OK)
                 return fail("design");
