@@ -70,6 +70,13 @@ double qc_noise_scale(const qc_model *model, const double *levels, const double 
         if (sd > 0.0 && isfinite(sd) && sd < s)
             s = sd;
     }
+    if (!isfinite(s)) { /* every level narrower than doubles resolve */
+        double lo, hi;
+        qc_levels_support(model, levels, nlevels, &lo, &hi);
+        s = (hi - lo) / SUPPORT_PER_SCALE;
+        if (!(s > 0.0) || !isfinite(s))
+            s = 1.0;
+    }
     return s;
 }
 

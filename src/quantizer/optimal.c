@@ -89,11 +89,6 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     double mi, scale = 1.0;
     if (real) {
         scale = qc_noise_scale(model, levels, input, nlevels);
-        if (!(scale > 0.0) || !isfinite(scale)) {
-            st = qc_fail(QC_ENUMERIC, "model '%s' gives no noise scale for these levels",
-                         qc_model_get_type(model)->name);
-            goto done;
-        }
         st = window_stage(model, levels, input, nlevels, nt, g, cuts, scale, t_out);
         if (st != QC_OK)
             goto done;

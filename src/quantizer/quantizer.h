@@ -89,7 +89,9 @@ size_t qc_fine_cells_default(size_t cells);
 
 /* Noise scale of the levels sent with positive probability: the
  * smallest standard deviation of Y given a level (the model's moments;
- * without them the support's width / 16.6, the ±8.3σ of a Gaussian). */
+ * without them the support's width / 16.6, the ±8.3σ of a Gaussian);
+ * when every level is narrower than doubles resolve, the union of the
+ * supports' width / 16.6, and 1 if that is empty. Always > 0. */
 double qc_noise_scale(const qc_model *model, const double *levels, const double *input,
                       size_t nlevels);
 

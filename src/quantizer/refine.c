@@ -35,8 +35,10 @@
 
 /* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
  * thresholds t whose channel, output law and log ratios the workspace
- * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch. */
-static qc_status exact_derivatives(const qc_cell_mi *w, const double *t, double h,
+ * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch.
+ * Returns 0 when they are not finite (densities beyond the range of
+ * doubles, as in the noiseless limit). */
+static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
                                    double *g, double *hd, double *ho, double *f)
 {
     const size_t nt = w->nt, nx = w->nlevels, k = nt + 1;
@@ -76,15 +78,12 @@ static qc_status exact_derivatives(const qc_cell_mi *w, const double *t, double 
         if (j > 0)
             ho[j - 1] = -off + (q[j] > 0.0 ? Fprev * F / q[j] : 0.0);
         if (!isfinite(gj) || !isfinite(hj))
-            return qc_fail(QC_ENUMERIC,
-                           "derivatives of the mutual information are not finite at "
-                           "threshold %zu (%g)",
-                           j + 1, t[j]);
+            return 0; /* densities beyond the range of doubles */
         g[j] = gj;
         hd[j] = hj;
         Fprev = F;
     }
-    return QC_OK;
+    return 1;
 }
 
 /* Solve (−H + μD) step = g, D = max(|H_jj|, 1e-8·max|H|); 0 if singular. */
@@ -93,7 +92,7 @@ static int damped_step(size_t nt, const double *hd, const double *ho, const doub
                        double *step)
 {
     for (size_t j = 0; j < nt; j++) {
-        a[j] = -hd[j] + mu * fmax(fabs(hd[j]), 1e-8 * hmax);
+        a[j] = fabs(hd[j]) + mu * fmax(fabs(hd[j]), 1e-8 * hmax);
         rhs[j] = g[j];
         if (j + 1 < nt)
             e[j] = -ho[j];
@@ -133,7 +132,7 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
         if (!at_t && (st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
         at_t = 1;
-        if ((st = exact_derivatives(w, t, h, g, hd, ho, f)) != QC_OK)
+        if (!exact_derivatives(w, t, h, g, hd, ho, f))
             break;
         double hmax = 0.0;
         for (size_t j = 0; j < nt; j++) {
