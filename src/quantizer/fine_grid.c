@@ -34,7 +34,7 @@
 #define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
 #define TABLE_PER_CELL 2     /* tabulation points of G per fine cell */
 #define COARSE_PER_CELL 2    /* coarse cells per quantizer cell, at least */
-#define COARSE_PER_SCALE 4.0 /* coarse cells per noise scale of the span */
+#define COARSE_PER_SCALE 2.0 /* coarse cells per noise scale of the span */
 #define SUPPORT_PER_SCALE 16.6 /* support width per standard deviation
                                   (the ±8.3σ of gauss.c) */
 

@@ -110,8 +110,11 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
             qc_cell_mi_eval(w, comp, &mc, NULL) == QC_OK && mc > mw)
             memcpy(t_out, comp, nt * sizeof *t_out);
     }
-    if (real)
+    if (real) {
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
+        if (st == QC_OK)
+            st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);
+    }
     else if (!g->exact)
         st = qc_refine_counts(w, t_out, &mi, iterations);
     else

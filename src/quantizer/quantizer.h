@@ -168,6 +168,16 @@ qc_status qc_window_dp(const qc_model *model, const double *levels, const double
                        size_t nlevels, size_t nt, const double *left, const double *mid,
                        const double *right, size_t split, double *t_out, double *mi_nats);
 
+/* ---- relocate.c ------------------------------------------------------ */
+
+/* From refined thresholds t (rate *mi_nats, continuous outputs): move the
+ * threshold whose removal costs least to the cell that gains most from a
+ * split, refine (qc_refine_continuous), and keep the move only if the
+ * rate rises; repeated while it does (a few rounds). t and *mi_nats are
+ * updated; *iterations (may be NULL) adds the Newton iterations. */
+qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
+                                 size_t *iterations);
+
 /* ---- optimal.c -------------------------------------------------------- */
 
 /* MI-optimal thresholds for the law `input` on the fine grid `g` (built
