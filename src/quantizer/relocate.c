@@ -25,9 +25,9 @@
 #include <string.h>
 
 #define RELOCATE_SPLITS 3 /* trial split points per cell */
-#define RELOCATE_PICK 2   /* cheapest removals tried */
-#define RELOCATE_REACH 3  /* cells on either side of a removal tried */
-#define RELOCATE_TRIALS 12 /* moves refined per round */
+#define RELOCATE_PICK 3   /* cheapest removals tried */
+#define RELOCATE_REACH 64 /* cells on either side of a removal tried */
+#define RELOCATE_TRIALS 16 /* moves refined per round */
 #define RELOCATE_ROUNDS 4
 
 /* Cell term of the probabilities p[x] (nx of them) under the law r. */
