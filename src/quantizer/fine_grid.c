@@ -9,6 +9,11 @@
  * boundaries need only be well spread, not exact quantiles (the DP picks
  * among them and the refinement moves off them): G is tabulated on 2N + 1
  * points and inverted by linear interpolation.
+ * The automatic size for continuous outputs (qc_coarse_cells) is the
+ * coarse grid of the coarse-to-fine search (optimal.c): max(2K, 2·span/s)
+ * cells, s the noise scale (qc_noise_scale: the smallest standard
+ * deviation of the output given a level), so that the uniform half puts
+ * a boundary at least every s.
  * Count outputs: one cell per count of the support (exact: the DP then
  * searches every integer threshold), or rounded quantiles of G when the
  * support is too wide.
