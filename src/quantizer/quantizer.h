@@ -149,6 +149,11 @@ void qc_levels_support(const qc_model *model, const double *levels,
  * NULL) the Newton iterations. */
 qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                size_t *iterations);
+/* The same, for a trial start that only matters if it can beat
+ * `target` (nats): after two iterations it stops once the rate plus four
+ * times the gain the Newton model still predicts stays below target. */
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
+                          double *mi_nats, size_t *iterations);
 /* Integer coordinate search for count thresholds (used when the fine grid
  * could not hold every count): each threshold moves by ±1, ±2, ±4 … while
  * the MI grows. */

@@ -32,6 +32,8 @@
 #define NEWTON_SLOPE_STEP 1e-5 /* density slope difference, × noise scale */
 #define NEWTON_TOL 1e-11       /* stop when steps fall below this × spacing */
 #define NEWTON_ROUNDING 1e-8   /* a rejected step this small (× spacing) ends */
+#define TRIAL_GRACE 2          /* iterations before a trial may be given up */
+#define TRIAL_ROOM 4.0         /* × the predicted gain a trial must be within */
 
 /* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
  * thresholds t whose channel, output law and log ratios the workspace
@@ -112,6 +114,12 @@ static int damped_step(size_t nt, const double *hd, const double *ho, const doub
 qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                size_t *iterations)
 {
+    return qc_refine_trial(w, scale, -INFINITY, t, mi_nats, iterations);
+}
+
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
+                          double *mi_nats, size_t *iterations)
+{
     qc_gsl_init();
     const size_t nt = w->nt, nx = w->nlevels;
     if (iterations)
@@ -146,6 +154,15 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
         }
         if (!(hmax > 0.0) || !isfinite(hmax))
             break;
+        if (it >= TRIAL_GRACE && isfinite(target)) {
+            /* the Newton model's remaining gain ½·gᵀ(−H)⁻¹g, with room */
+            double pred = 0.0;
+            if (damped_step(nt, hd, ho, g, 0.0, hmax, a, e, rhs, step))
+                for (size_t j = 0; j < nt; j++)
+                    pred += 0.5 * g[j] * step[j];
+            if (isfinite(pred) && pred >= 0.0 && mi + TRIAL_ROOM * pred < target)
+                break;
+        }
         int accepted = 0;
         double rel = 0.0;
         for (int tries = 0; tries < NEWTON_MAX_DAMP && !accepted; tries++) {

@@ -188,7 +188,7 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 }
             double v;
             size_t more = 0;
-            st = qc_refine_continuous(w, scale, tt, &v, &more);
+            st = qc_refine_trial(w, scale, mi, tt, &v, &more);
             if (iterations)
                 *iterations += more;
             if (st == QC_OK && v > mi) {
