@@ -380,9 +380,11 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     for (size_t j = 0; j < nt; j++)
         span = fmax(span, fabs(s.t[j]));
     for (size_t j = 0; j < nt; j++) {
-        double t = !conv && alpha == 1.0 ? res->thresholds[j] : s.t[j];
-        /* a threshold at the centre of a symmetric set stays at 0 */
-        res->memory_thresholds[j] = fabs(t) < 1e-9 * span ? 0.0 : t;
+        const int kept = !conv && alpha == 1.0;
+        double t = kept ? res->thresholds[j] : s.t[j];
+        /* a threshold at the centre of a symmetric set stays at 0 when
+         * the range is scaled; kept thresholds are kept bit for bit */
+        res->memory_thresholds[j] = !kept && fabs(t) < 1e-9 * span ? 0.0 : t;
     }
     res->full_scale_factor = alpha;
     res->memory_gain = conv ? s.gain0 / alpha : NAN;

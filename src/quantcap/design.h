@@ -186,10 +186,13 @@ typedef struct {
 typedef struct {
     double tol_bits;             /* engine gap and joint-design tolerance;
                                     0: 1e-9                                 */
-    size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: fine-grid cells N
-                                    for the dynamic programme (N ≥ K); 0:
-                                    automatic (max(16K, 4096), reduced so
-                                    that K·N ≤ 2^22, never below K). Count
+    size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: grid cells N for
+                                    the dynamic programme (N ≥ K); 0:
+                                    automatic (continuous outputs: the
+                                    coarse grid max(2K, 2·span/noise
+                                    scale), see docs/methods.md; counts:
+                                    max(16K, 4096)), reduced so that
+                                    K·N ≤ 2^22, never below K. Count
                                     outputs use every count of the support
                                     when it has at most max(N, 65536)      */
     int skip_snr_penalty;        /* 1: leave snr_penalty_db NaN (saves the

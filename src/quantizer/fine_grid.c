@@ -9,6 +9,11 @@
  * boundaries need only be well spread, not exact quantiles (the DP picks
  * among them and the refinement moves off them): G is tabulated on 2N + 1
  * points and inverted by linear interpolation.
+ * The automatic size for continuous outputs (qc_coarse_cells) is the
+ * coarse grid of the coarse-to-fine search (optimal.c): max(2K, 2·span/s)
+ * cells, s the noise scale (qc_noise_scale: the smallest standard
+ * deviation of the output given a level), so that the uniform half puts
+ * a boundary at least every s.
  * Count outputs: one cell per count of the support (exact: the DP then
  * searches every integer threshold), or rounded quantiles of G when the
  * support is too wide.
@@ -33,6 +38,10 @@
 #define FINE_PER_CELL 16
 #define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
 #define TABLE_PER_CELL 2     /* tabulation points of G per fine cell */
+#define COARSE_PER_CELL 2    /* coarse cells per quantizer cell, at least */
+#define COARSE_PER_SCALE 2.0 /* coarse cells per noise scale of the span */
+#define SUPPORT_PER_SCALE 16.6 /* support width per standard deviation
+                                  (the ±8.3σ of gauss.c) */
 
 size_t qc_fine_cells_default(size_t cells)
 {
@@ -45,6 +54,49 @@ size_t qc_fine_cells_default(size_t cells)
             n = cells;
     }
     return n;
+}
+
+double qc_noise_scale(const qc_model *model, const double *levels, const double *input,
+                      size_t nlevels)
+{
+    const qc_model_type *ty = qc_model_get_type(model);
+    double s = INFINITY;
+    for (size_t i = 0; i < nlevels; i++) {
+        if (!(input[i] > 0.0))
+            continue;
+        double mean, var, sd = NAN;
+        if (ty->moments && ty->moments(model, levels[i], &mean, &var) == QC_OK)
+            sd = sqrt(var);
+        if (!(sd > 0.0) || !isfinite(sd)) {
+            double lo, hi;
+            ty->support(model, levels[i], &lo, &hi);
+            sd = (hi - lo) / SUPPORT_PER_SCALE;
+        }
+        if (sd > 0.0 && isfinite(sd) && sd < s)
+            s = sd;
+    }
+    if (!isfinite(s)) { /* every level narrower than doubles resolve */
+        double lo, hi;
+        qc_levels_support(model, levels, nlevels, &lo, &hi);
+        s = (hi - lo) / SUPPORT_PER_SCALE;
+        if (!(s > 0.0) || !isfinite(s))
+            s = 1.0;
+    }
+    return s;
+}
+
+size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
+                       size_t nlevels, size_t cells)
+{
+    size_t cap = qc_fine_cells_default(cells), n = COARSE_PER_CELL * cells;
+    double lo, hi, s = qc_noise_scale(model, levels, input, nlevels);
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    double want = COARSE_PER_SCALE * (hi - lo) / s;
+    if (isfinite(want) && want > (double)n)
+        n = want < (double)cap ? (size_t)ceil(want) : cap;
+    if (n > cap)
+        n = cap;
+    return n < cells ? cells : n;
 }
 
 void qc_levels_support(const qc_model *model, const double *levels,

@@ -84,8 +84,24 @@ typedef struct {
     int exact;       /* counts: every count of the support has its cell */
 } qc_fine_grid;
 
-/* Default number of fine cells for K cells (see qc_design_request). */
+/* Default number of fine cells for K cells of a count output (see
+ * qc_design_request). */
 size_t qc_fine_cells_default(size_t cells);
+
+/* Noise scale of the levels sent with positive probability: the
+ * smallest standard deviation of Y given a level (the model's moments;
+ * without them the support's width / 16.6, the ±8.3σ of a Gaussian);
+ * when every level is narrower than doubles resolve, the union of the
+ * supports' width / 16.6, and 1 if that is empty. Always > 0. */
+double qc_noise_scale(const qc_model *model, const double *levels, const double *input,
+                      size_t nlevels);
+
+/* Coarse grid of the automatic coarse-to-fine search for K = cells cells,
+ * continuous outputs: max(2K, 4·span/scale) cells (span: the union of
+ * the supports, so the grid's uniform half puts a boundary at least
+ * every half noise scale), at most qc_fine_cells_default(K). */
+size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
+                       size_t nlevels, size_t cells);
 
 /* Fine grid of about `n` cells for the levels (n ≥ cells ≥ 2).
  * Continuous outputs: boundaries at the quantiles of ½·(mixture law under
@@ -126,17 +142,47 @@ void qc_levels_support(const qc_model *model, const double *levels,
 /* ---- refine.c --------------------------------------------------------- */
 
 /* Continuous refinement of sorted thresholds t (w->nt of them) to a local
- * maximum of I(X;Y_q), by GSL's vector BFGS2 with the analytic gradient on
- * log-gap coordinates (so the order is kept). On return t is never worse
- * than on entry; *mi_nats holds its MI, *iterations (may be NULL) the
- * minimizer iterations. */
-qc_status qc_refine_continuous(qc_cell_mi *w, double *t, double *mi_nats,
+ * maximum of I(X;Y_q): damped Newton steps on the exact gradient and the
+ * exact tridiagonal Hessian (refine.c); `scale` is the noise scale
+ * (qc_noise_scale), which sets the difference step of the density's
+ * slope. A step is kept only if the rate does not drop, so on return t is
+ * never worse than on entry; *mi_nats holds its MI, *iterations (may be
+ * NULL) the Newton iterations. */
+qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                size_t *iterations);
+/* The same, for a trial start that only matters if it can beat
+ * `target` (nats): after two iterations it stops once the rate plus four
+ * times the gain the Newton model still predicts stays below target. */
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
+                          double *mi_nats, size_t *iterations);
 /* Integer coordinate search for count thresholds (used when the fine grid
  * could not hold every count): each threshold moves by ±1, ±2, ±4 … while
  * the MI grows. */
 qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
                            size_t *iterations);
+
+/* ---- window_dp.c ----------------------------------------------------- */
+
+/* The fine stage of the coarse-to-fine search: threshold j may take
+ * left_j + (mid_j − left_j)·u/split (u = 1 … split) or mid_j + (right_j −
+ * mid_j)·u/split (u = 1 … split − 1); a dynamic programme over the
+ * windows picks the increasing choice of largest I(X;Y_q) under `input`
+ * (t_out: nt thresholds; *mi_nats may be NULL). Every window holds
+ * mid_j, so the result is never below the rate of the mid points.
+ * Requires left_j < mid_j < right_j and increasing mid. */
+qc_status qc_window_dp(const qc_model *model, const double *levels, const double *input,
+                       size_t nlevels, size_t nt, const double *left, const double *mid,
+                       const double *right, size_t split, double *t_out, double *mi_nats);
+
+/* ---- relocate.c ------------------------------------------------------ */
+
+/* From refined thresholds t (rate *mi_nats, continuous outputs): move the
+ * threshold whose removal costs least to the cell that gains most from a
+ * split, refine (qc_refine_continuous), and keep the move only if the
+ * rate rises; repeated while it does (a few rounds). t and *mi_nats are
+ * updated; *iterations (may be NULL) adds the Newton iterations. */
+qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
+                                 size_t *iterations);
 
 /* ---- optimal.c -------------------------------------------------------- */
 

@@ -1,8 +1,8 @@
 /* strategy.c — the threshold strategies as one constant table, as the
  * noise models have theirs: uniform (full-scale range optimized for the
  * rate), fixed (thresholds given), Lloyd–Max (minimum mean-square error;
- * Lloyd 1982, Max 1960), optimal (MI-optimal: dynamic programming on a
- * fine grid, then gradient refinement) and converter (a real converter's
+ * Lloyd 1982, Max 1960), optimal (MI-optimal: dynamic programming coarse
+ * to fine, then Newton refinement and threshold moves) and converter (a real converter's
  * transition levels referred to the receiver output, converter.c). A plan holds what a strategy
  * builds once per channel and reuses for every law it is asked to design
  * for (the rate workspace of the uniform search, the fine grid of the
@@ -143,8 +143,13 @@ static qc_status optimal_design(qc_strategy_plan *p, const double *input, int wa
 {
     (void)warm;
     if (!p->have_grid) {
-        size_t n = p->fine_cells ? p->fine_cells : qc_fine_cells_default(p->nt + 1);
-        qc_status st = qc_fine_grid_build(p->model, p->levels, p->grid_law ? p->grid_law : input,
+        const double *law = p->grid_law ? p->grid_law : input;
+        size_t n = p->fine_cells;
+        if (n == 0)
+            n = qc_model_get_type(p->model)->output == QC_OUTPUT_REAL
+                    ? qc_coarse_cells(p->model, p->levels, law, p->nlevels, p->nt + 1)
+                    : qc_fine_cells_default(p->nt + 1);
+        qc_status st = qc_fine_grid_build(p->model, p->levels, law,
                                           p->nlevels, n, p->nt + 1, &p->grid);
         if (st != QC_OK)
             return st;
@@ -181,7 +186,7 @@ const qc_threshold_strategy qc_strategy_lloyd_max = {
 
 const qc_threshold_strategy qc_strategy_optimal = {
     .name = "optimal",
-    .summary = "MI-optimal: dynamic programming on a fine grid, then gradient refinement",
+    .summary = "MI-optimal: dynamic programming coarse to fine, then Newton refinement",
     .kind = QC_QUANTIZER_OPTIMAL,
     .raises_mi = 1,
     .design = optimal_design,

@@ -1,11 +1,13 @@
 #!/usr/bin/python3
 """nelder_mead_peer.py — the scipy peer of the optimal threshold design:
 MI-optimal thresholds of a K-cell quantizer after PAM levels in Gaussian
-noise, found by Nelder–Mead (J. A. Nelder and R. Mead, Computer Journal
+noise (one standard deviation for all levels, or one per level for
+signal-dependent noise), found by Nelder–Mead (J. A. Nelder and R. Mead, Computer Journal
 7(4), 1965; scipy.optimize.minimize) from uniform thresholds, with the
 mutual information over the K cells computed with scipy.stats.norm.
 
 usage: nelder_mead_peer.py SIGMA CELLS BUDGET_S LEVEL1,LEVEL2,...
+SIGMA is one number or a comma-separated list with one per level.
 prints: seconds (optimization only, imports excluded) and the rate in bits.
 BUDGET_S caps the search time; the best point found so far counts."""
 import sys
@@ -21,10 +23,11 @@ class OutOfTime(Exception):
 
 
 def main():
-    sigma = float(sys.argv[1])
     cells = int(sys.argv[2])
     budget = float(sys.argv[3])
     levels = np.array([float(v) for v in sys.argv[4].split(",")])
+    sigma = np.array([float(v) for v in sys.argv[1].split(",")])
+    sigma = np.broadcast_to(sigma, levels.shape)[:, None]
     r = np.full(levels.size, 1.0 / levels.size)
     best = {"mi": -np.inf, "t": None}
 
@@ -48,7 +51,8 @@ def main():
             raise OutOfTime
         return -v
 
-    lo, hi = levels.min() - 2 * sigma, levels.max() + 2 * sigma
+    lo = (levels - 2 * sigma[:, 0]).min()
+    hi = (levels + 2 * sigma[:, 0]).max()
     t0 = lo + (hi - lo) * np.arange(1, cells) / cells
     try:
         minimize(objective, t0, method="Nelder-Mead",
