@@ -45,8 +45,11 @@ QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
 
 /* Mutual information with the unquantized output (continuous density or
  * ideal count resolution) for the given levels and input law, in nats.
- * Adaptive quadrature (GSL QAGS/QAGI) per level; the absolute error
- * estimate is returned in *abserr_nats (may be NULL). QC_EINVAL for bad
+ * One adaptive quadrature (GSL QAGS) of the level-summed integrand over
+ * the union of the level supports, cut into panels (linear in the
+ * levels); counts: sums. The absolute error estimate (quadrature plus the
+ * bound on what the supports leave out) is returned in *abserr_nats (may
+ * be NULL). QC_EINVAL for bad
  * levels or a law that is not a law, QC_ENUMERIC when the quadrature
  * fails or the rate is not finite, QC_ENOMEM; on failure *mi_nats and
  * *abserr_nats are unchanged. */
