@@ -500,6 +500,12 @@ static int compare_fec_table(FILE *f, const qc_design_request *req,
         if (cmp->status[i] == QC_OK && !isfinite(pen[i].db))
             fprintf(f, "\npenalty n/a (%s): %s\n", qc_quantizer_name(cmp->kind[i]),
                     pen[i].note);
+    for (size_t i = 0; i < cmp->count; i++)
+        if (cmp->status[i] == QC_OK && cmp->result[i].design_convergence == QC_NOT_CONVERGED) {
+            char lead[64];
+            snprintf(lead, sizeof lead, "\n%s: ", qc_quantizer_name(cmp->kind[i]));
+            print_convergence(f, &cmp->result[i], qc_design_output_unit(req), lead);
+        }
     char thr[64];
     snprintf(thr, sizeof thr, "%s %.4g", hard ? "pre-FEC BER <=" : "NGMI >=", fec->threshold);
     fprintf(f, "\nFEC %s (%s): margin %s; penalty at the code's threshold against the "
