@@ -64,6 +64,7 @@ def allowed_nulls(j):
         allowed.add("shaping_gap_db")                 # gauss only, and not noiseless
     if j.get("quantizer") != "lloyd-max":
         allowed.add("mse")                            # Lloyd-Max only
+        allowed |= {"design_converged", "design_residual"}  # Lloyd-Max only
     if j.get("blocklength") is None:                  # no blocklength asked
         allowed |= {"blocklength", "error_rate", "rate_at_blocklength_bits"}
     n = len(j.get("levels") or [])
