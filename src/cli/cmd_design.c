@@ -452,6 +452,21 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
     fprintf(f, "\n");
 }
 
+/* Lloyd-Max: whether its conditions hold, after how many rounds; a
+ * design stopped by its round cap says so in capitals. */
+static void print_convergence(FILE *f, const qc_design_result *r, const char *ou,
+                              const char *lead)
+{
+    if (r->design_convergence == QC_CONVERGENCE_NONE)
+        return;
+    const int ok = r->design_convergence == QC_CONVERGED;
+    fprintf(f, "%s%s after %zu %s: thresholds within %.3g %s of the midpoints of "
+               "their reconstruction points\n",
+            lead, ok ? "converged" : "NOT CONVERGED", r->design_iterations,
+            r->objective == QC_OBJECTIVE_CAPACITY ? "alternation steps" : "rounds",
+            r->design_residual, ou);
+}
+
 static void design_table(FILE *f, const qc_model *m, const qc_design_request *req,
                          const qc_design_result *r, unsigned bits, const char *table,
                          const fec_penalty *p)
@@ -492,6 +507,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     print_rates(f, req, r, p);
     if (r->reconstruction)
         fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);
+    print_convergence(f, r, ou, "convergence  ");
     print_thresholds(f, m, r, ou);
     /* long level grids: only the mass points */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
@@ -536,6 +552,12 @@ static int compare_fec_table(FILE *f, const qc_design_request *req,
         if (cmp->status[i] == QC_OK && !isfinite(pen[i].db))
             fprintf(f, "\npenalty n/a (%s): %s\n", qc_quantizer_name(cmp->kind[i]),
                     pen[i].note);
+    for (size_t i = 0; i < cmp->count; i++)
+        if (cmp->status[i] == QC_OK && cmp->result[i].design_convergence == QC_NOT_CONVERGED) {
+            char lead[64];
+            snprintf(lead, sizeof lead, "\n%s: ", qc_quantizer_name(cmp->kind[i]));
+            print_convergence(f, &cmp->result[i], qc_design_output_unit(req), lead);
+        }
     char thr[64];
     snprintf(thr, sizeof thr, "%s %.4g", hard ? "pre-FEC BER <=" : "NGMI >=", fec->threshold);
     fprintf(f, "\nFEC %s (%s): margin %s; penalty at the code's threshold against the "
@@ -683,6 +705,13 @@ static int run_compare(cli_sink *sink, int json, const qc_settings *set,
                     fprintf(sink->f, "%s%s", n++ ? ", " : "", qc_quantizer_name(cmp.kind[k]));
             fprintf(sink->f, "): %s\n", no_penalty[i]);
         }
+        for (size_t i = 0; i < cmp.count; i++)
+            if (cmp.status[i] == QC_OK &&
+                cmp.result[i].design_convergence == QC_NOT_CONVERGED) {
+                char lead[64];
+                snprintf(lead, sizeof lead, "\n%s: ", qc_quantizer_name(cmp.kind[i]));
+                print_convergence(sink->f, &cmp.result[i], qc_design_output_unit(req), lead);
+            }
         const char *unit = cli_rate_unit(req->channel.dimensions);
         if (req->channel.ppm_slots)
             fprintf(sink->f,

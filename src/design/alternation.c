@@ -45,7 +45,25 @@ typedef struct {
     double best, best_upper; /* nats: best certified lower bound, its upper */
     double *best_t, *best_law;
     size_t engine_iterations, steps;
+    qc_convergence convergence; /* Lloyd–Max: worst over its designs        */
+    double residual;            /* Lloyd–Max: largest residual seen         */
 } alternation;
+
+/* The request's strategy designs for `law`; Lloyd–Max's convergence is
+ * kept (a design stopped by its round cap marks the whole alternation). */
+static qc_status strategy_step(alternation *a, const qc_threshold_strategy *s,
+                               const double *law, int warm, double *t)
+{
+    qc_strategy_stats stats = {0};
+    qc_status st = qc_strategy_design(s, a->plan, law, warm, t, &stats);
+    if (st == QC_OK && s == a->strategy && stats.convergence != QC_CONVERGENCE_NONE) {
+        if (a->convergence != QC_NOT_CONVERGED)
+            a->convergence = stats.convergence;
+        if (!(a->residual >= stats.residual))
+            a->residual = stats.residual;
+    }
+    return st;
+}
 
 /* Capacity (nats, the engine's certified lower bound) of thresholds t,
  * starting the engine from the last law and leaving its law in a->law.
@@ -82,7 +100,7 @@ static qc_status alternate(alternation *a, double *t, double *cand)
     for (size_t k = 0; st == QC_OK && !a->strategy->given && k < MAX_ALTERNATIONS; k++) {
         qc_design_progress(a->req, a->stage * MAX_ALTERNATIONS + k + 1, a->work);
         memcpy(cand, t, a->nt * sizeof *cand); /* a warm start where one is used */
-        st = qc_strategy_design(a->strategy, a->plan, a->law, 1, cand, NULL);
+        st = strategy_step(a, a->strategy, a->law, 1, cand);
         double cn;
         if (st == QC_OK)
             st = law_step(a, cand, &cn);
@@ -103,7 +121,8 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     const size_t n = res->nlevels, nt = res->nthresholds;
     alternation a = {.req = req, .model = req->channel.model, .levels = res->levels, .n = n, .nt = nt,
                      .strategy = qc_strategy_of(req->quantizer.kind), .costs = costs,
-                     .ncosts = ncosts, .best = -INFINITY, .best_upper = INFINITY};
+                     .ncosts = ncosts, .best = -INFINITY, .best_upper = INFINITY,
+                     .residual = NAN};
     double *start = NULL, *t = NULL, *cand = NULL, *uniform = NULL;
     qc_ba_options_default(&a.opt);
     a.opt.tol_bits = res->tol_bits;
@@ -147,7 +166,7 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     for (size_t s = 0; s < nstarts && st == QC_OK; s++) {
         a.stage = s;
         memcpy(a.law, start, n * sizeof *a.law);
-        st = qc_strategy_design(starts[s], a.plan, start, 0, t, NULL);
+        st = strategy_step(&a, starts[s], start, 0, t);
         if (st == QC_OK)
             st = alternate(&a, t, cand);
         qc_design_progress(req, (s + 1) * MAX_ALTERNATIONS, a.work);
@@ -195,6 +214,8 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     res->upper_bound_bits = cr.upper_bound_bits;
     res->iterations = a.engine_iterations;
     res->design_iterations = a.strategy->given ? 0 : a.steps;
+    res->design_convergence = a.convergence;
+    res->design_residual = a.convergence != QC_CONVERGENCE_NONE ? a.residual : NAN;
     res->fine_cells = qc_strategy_plan_fine_cells(a.plan);
     qc_design_progress(req, a.work, a.work);
 done:

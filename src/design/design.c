@@ -124,6 +124,8 @@ static qc_status design_mi(const qc_design_request *req, qc_design_result *res)
     st = qc_strategy_design(s, plan, res->input, 0, res->thresholds, &stats);
     res->design_iterations = stats.iterations;
     res->mse = stats.mse;
+    res->design_convergence = stats.convergence;
+    res->design_residual = stats.residual;
     res->fine_cells = qc_strategy_plan_fine_cells(plan);
     qc_strategy_plan_free(plan);
     if (st != QC_OK)
@@ -186,6 +188,7 @@ qc_status qc_design_thresholds_only(const qc_design_request *req, const qc_cost 
     const double tol = req->numerics.tol_bits;
     r.tol_bits = tol > 0.0 ? tol : QC_DESIGN_DEFAULT_TOL_BITS;
     r.mse = NAN;
+    r.design_residual = NAN;
     r.snr_db = NAN;
     r.snr_penalty_db = NAN;
     r.thresholds = qc_malloc_array(r.nthresholds, sizeof *r.thresholds);

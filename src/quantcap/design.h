@@ -300,6 +300,16 @@ typedef struct {
                                     (snr_penalty_note says why)            */
     double mse;                  /* Lloyd–Max: mean-square error of Y about
                                     its reconstruction points; NaN else    */
+    qc_convergence design_convergence; /* Lloyd–Max: QC_CONVERGED when its
+                                    conditions hold to tolerance (in every
+                                    design of a capacity alternation),
+                                    QC_NOT_CONVERGED when the round cap
+                                    stopped one; QC_CONVERGENCE_NONE else  */
+    double design_residual;      /* Lloyd–Max: largest distance of a
+                                    threshold from the midpoint of its two
+                                    reconstruction points (output units;
+                                    the worst over an alternation); read
+                                    only when design_convergence is set    */
     double *reconstruction;      /* owned: Lloyd–Max reconstruction points
                                     (K conditional means); NULL else       */
     size_t nthresholds;          /* K − 1                                    */

@@ -45,8 +45,11 @@ QC_API qc_status qc_discretize_into(const qc_model *model, const double *levels,
 
 /* Mutual information with the unquantized output (continuous density or
  * ideal count resolution) for the given levels and input law, in nats.
- * Adaptive quadrature (GSL QAGS/QAGI) per level; the absolute error
- * estimate is returned in *abserr_nats (may be NULL). QC_EINVAL for bad
+ * One adaptive quadrature (GSL QAGS) of the level-summed integrand over
+ * the union of the level supports, cut into panels (linear in the
+ * levels); counts: sums. The absolute error estimate (quadrature plus the
+ * bound on what the supports leave out) is returned in *abserr_nats (may
+ * be NULL). QC_EINVAL for bad
  * levels or a law that is not a law, QC_ENUMERIC when the quadrature
  * fails or the rate is not finite, QC_ENOMEM; on failure *mi_nats and
  * *abserr_nats are unchanged. */
@@ -119,11 +122,27 @@ typedef enum {
  * workspace). One plan per thread. */
 typedef struct qc_strategy_plan qc_strategy_plan;
 
+/* Whether an iterative threshold design met its stopping test. */
+typedef enum {
+    QC_CONVERGENCE_NONE = 0, /* the strategy has no such test               */
+    QC_CONVERGED,            /* the test was met                            */
+    QC_NOT_CONVERGED         /* the round cap stopped it first              */
+} qc_convergence;
+
+/* "converged", "not converged", or NULL for QC_CONVERGENCE_NONE and values
+ * out of range. */
+QC_API const char *qc_convergence_name(qc_convergence c);
+
 /* What one design reports besides the thresholds. */
 typedef struct {
     size_t iterations;      /* uniform: rate evaluations; Lloyd–Max: Lloyd
                                iterations; optimal: refinement iterations */
     double mse;             /* Lloyd–Max: mean-square error; NaN else       */
+    qc_convergence convergence; /* Lloyd–Max: converged or stopped by its
+                               round cap; QC_CONVERGENCE_NONE else          */
+    double residual;        /* Lloyd–Max: largest distance of a threshold
+                               from the midpoint of its two reconstruction
+                               points (output units); NaN else              */
     double *reconstruction; /* Lloyd–Max: if not NULL, receives the K
                                reconstruction points                       */
 } qc_strategy_stats;

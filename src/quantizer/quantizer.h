@@ -67,13 +67,24 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
 
 /* Minimum-MSE quantizer of Y under the mixture Σ r(x) f(y|x) with K = nt
  * + 1 cells (Lloyd 1982, Max 1960). t: nt thresholds out (and in, as the
- * start, when warm_start is set; else the start is the blended-quantile
- * grid), recon_out: K reconstruction points (conditional means); *mse
- * and *iterations may be NULL. */
+ * start, when warm_start is set; else the companded start for continuous
+ * outputs, the blended quantiles for counts), recon_out: K reconstruction
+ * points (conditional means). max_rounds caps the rounds (0: the default
+ * QC_LLOYD_MAX_ROUNDS); rep (may be NULL) says how it ended. Not reaching
+ * the tolerance is not an error: rep->converged is 0. */
+#define QC_LLOYD_MAX_ROUNDS 5000
+typedef struct {
+    size_t rounds;    /* centroid evaluations (one per Lloyd or Newton round) */
+    size_t newton;    /* of which accepted Newton steps                        */
+    int converged;    /* 1: residual ≤ tolerance (counts: no threshold moves)  */
+    double residual;  /* max_j |t_j − (c_j + c_{j+1})/2| at the result         */
+    double tolerance; /* 1e-12 × width of the union of the supports            */
+    double mse;       /* mean-square error about the reconstruction points     */
+} qc_lloyd_report;
 qc_status qc_lloyd_max(const qc_model *model, const double *levels,
                        const double *input, size_t nlevels, size_t nt,
-                       int warm_start, double *t, double *recon_out, double *mse,
-                       size_t *iterations);
+                       int warm_start, size_t max_rounds, double *t, double *recon_out,
+                       qc_lloyd_report *rep);
 
 /* ---- fine_grid.c ------------------------------------------------------ */
 

@@ -129,8 +129,13 @@ static qc_status lloyd_max_design(qc_strategy_plan *p, const double *input, int 
 {
     if (!p->recon && !(p->recon = qc_malloc_array(p->nt + 1, sizeof *p->recon)))
         return qc_fail(QC_ENOMEM, "out of memory");
-    qc_status st = qc_lloyd_max(p->model, p->levels, input, p->nlevels, p->nt, warm, t,
-                                p->recon, &stats->mse, &stats->iterations);
+    qc_lloyd_report rep;
+    qc_status st = qc_lloyd_max(p->model, p->levels, input, p->nlevels, p->nt, warm, 0, t,
+                                p->recon, &rep);
+    stats->iterations = rep.rounds;
+    stats->mse = rep.mse;
+    stats->convergence = rep.converged ? QC_CONVERGED : QC_NOT_CONVERGED;
+    stats->residual = rep.residual;
     if (st == QC_OK && stats->reconstruction)
         memcpy(stats->reconstruction, p->recon, (p->nt + 1) * sizeof *p->recon);
     return st;
@@ -243,5 +248,12 @@ qc_status qc_strategy_design(const qc_threshold_strategy *s, qc_strategy_plan *p
         stats = &local;
     stats->iterations = 0;
     stats->mse = NAN;
+    stats->convergence = QC_CONVERGENCE_NONE;
+    stats->residual = NAN;
     return s->design(plan, input, warm, t, stats);
+}
+
+const char *qc_convergence_name(qc_convergence c)
+{
+    return c == QC_CONVERGED ? "converged" : c == QC_NOT_CONVERGED ? "not converged" : NULL;
 }

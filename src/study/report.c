@@ -406,6 +406,15 @@ json_t *qc_report_design(const qc_design_request *req, const qc_design_result *r
                             ? json_null()
                             : name_or_null(qc_penalty_note_text(res->snr_penalty_note)));
     json_object_set_new(o, "mse", qc_report_real(res->mse));
+    /* Lloyd-Max: whether its conditions hold to tolerance, and how far off */
+    json_object_set_new(o, "design_converged",
+                        res->design_convergence == QC_CONVERGENCE_NONE
+                            ? json_null()
+                            : json_boolean(res->design_convergence == QC_CONVERGED));
+    json_object_set_new(o, "design_residual",
+                        res->design_convergence == QC_CONVERGENCE_NONE
+                            ? json_null()
+                            : qc_report_real(res->design_residual));
     json_object_set_new(o, QC_REPORT_THRESHOLDS,
                         qc_report_array(res->thresholds, res->nthresholds));
     json_object_set_new(o, QC_REPORT_LEVELS, qc_report_array(res->levels, res->nlevels));

@@ -5,7 +5,11 @@
  *    bits; target TARGET_LLOYD_S seconds at 12 bits;
  *  - the SNR penalty against the unquantized receiver (qc_snr_penalty_db:
  *    a Brent root search over rescaled unquantized rates) of PAM-4096 at
- *    30 dB at a 4-bit rate; target TARGET_PENALTY_S seconds.
+ *    30 dB at a 4-bit rate; target TARGET_PENALTY_S seconds;
+ *  - the whole 4-bit design of PAM-4096 at 30 dB (qc_design: optimal
+ *    thresholds, unquantized reference, figures, SNR penalty) as a
+ *    multiple of one rate evaluation at its thresholds; target
+ *    TARGET_DESIGN_S seconds.
  * Times are CPU seconds of this process (fastest of REPEATS runs for
  * Lloyd-Max, one run for the penalty). Exit status 1 when a target is
  * missed. */
@@ -19,6 +23,7 @@
 
 #define TARGET_LLOYD_S 1.0
 #define TARGET_PENALTY_S 10.0
+#define TARGET_DESIGN_S 10.0
 #define REPEATS 2
 #define EVAL_REPEATS 50
 #define PAM_BIG 4096
@@ -48,17 +53,18 @@ int main(void)
     int status = 0;
     printf("Lloyd-Max, PAM-4, 10 dB (sigma %.4f); CPU times, fastest of %d\n", sigma,
            REPEATS);
-    printf("bits  design_s    eval_s      design/eval  iterations  mse\n");
+    printf("bits  design_s    eval_s      design/eval  rounds  newton  convergence   "
+           "residual   mse\n");
     for (size_t bits = 9; bits <= 12; bits++) {
         const size_t cells = (size_t)1 << bits, nt = cells - 1;
         double *t = malloc(nt * sizeof *t), *recon = malloc(cells * sizeof *recon);
         if (!t || !recon)
             return 1;
-        double best = INFINITY, mse = 0.0;
-        size_t its = 0;
+        double best = INFINITY;
+        qc_lloyd_report lr;
         for (int rep = 0; rep < REPEATS; rep++) {
             double t0 = cpu();
-            if (qc_lloyd_max(m, levels, law, 4, nt, 0, t, recon, &mse, &its) != QC_OK)
+            if (qc_lloyd_max(m, levels, law, 4, nt, 0, 0, t, recon, &lr) != QC_OK)
                 return fail("Lloyd-Max");
             best = fmin(best, cpu() - t0);
         }
@@ -73,10 +79,12 @@ int main(void)
             eval = fmin(eval, cpu() - t0);
         }
         qc_cell_mi_free(w);
-        printf("%4zu  %.3e   %.3e   %9.1f    %6zu    %.6g%s\n", bits, best, eval,
-               best / eval, its, mse,
-               bits == 12 && best > TARGET_LLOYD_S ? "  (target missed)" : "");
-        if (bits == 12 && best > TARGET_LLOYD_S)
+        const int missed = bits == 12 && (best > TARGET_LLOYD_S || !lr.converged);
+        printf("%4zu  %.3e   %.3e   %9.1f    %6zu  %6zu  %-13s %.3e  %.12g%s\n", bits, best,
+               eval, best / eval, lr.rounds, lr.newton,
+               lr.converged ? "converged" : "NOT CONVERGED", lr.residual, lr.mse,
+               missed ? "  (target missed)" : "");
+        if (missed)
             status = 1;
         free(t);
         free(recon);
@@ -109,6 +117,39 @@ int main(void)
            ps > TARGET_PENALTY_S ? "  (target missed)" : "");
     if (ps > TARGET_PENALTY_S)
         status = 1;
+    /* the whole design a user runs: `quantcap design --model gauss
+     * --snr-db 30 --alphabet pam:4096 --bits 4` (thresholds, unquantized
+     * reference, figures, SNR penalty), against one rate evaluation at its
+     * final thresholds */
+    qc_design_request req;
+    qc_design_result res;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = big;
+    req.channel.nlevels = PAM_BIG;
+    req.quantizer.cells = 16;
+    t0 = cpu();
+    if (qc_design(&req, &res) != QC_OK)
+        return fail("design");
+    double ds = cpu() - t0;
+    qc_cell_mi *w;
+    if (qc_cell_mi_alloc(m, big, blaw, PAM_BIG, res.nthresholds, &w) != QC_OK)
+        return fail("workspace");
+    double eval = INFINITY, v;
+    for (int rep = 0; rep < REPEATS; rep++) {
+        double t1 = cpu();
+        if (qc_cell_mi_eval(w, res.thresholds, &v, NULL) != QC_OK)
+            return fail("evaluation");
+        eval = fmin(eval, cpu() - t1);
+    }
+    qc_cell_mi_free(w);
+    printf("design, PAM-%d, 30 dB, 4 bits: %.3f s = %.0f rate evaluations (each %.4f s); "
+           "rate %.9f bit, penalty %.4f dB%s\n",
+           PAM_BIG, ds, ds / eval, eval, res.rate_bits, res.snr_penalty_db,
+           ds > TARGET_DESIGN_S ? "  (target missed)" : "");
+    if (ds > TARGET_DESIGN_S)
+        status = 1;
+    qc_design_result_clear(&res);
     qc_model_free(m);
     free(big);
     free(blaw);

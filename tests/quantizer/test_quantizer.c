@@ -15,7 +15,11 @@
 
 #include <gsl/gsl_math.h> /* M_PI, M_SQRT2 */
 
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_randist.h>
+
 #include "quantcap.h"
+#include "quantizer/quantizer.h" /* qc_lloyd_max with a round cap */
 
 #define TEST_RNG_SEED 0x9E3779B97F4A7C15ull /* random laws and channels below */
 #include "test_helpers.h"
@@ -27,6 +31,11 @@
 #define TOL_SIMPSON 1e-9  /* nats: Simpson's rule against the library's quadrature */
 #define TOL_LLOYD 1e-9    /* Lloyd–Max fixed point against its closed form */
 #define TOL_STEP 1e-9     /* level units: equal steps of a uniform quantizer */
+#define TOL_LLOYD_COND 1e-9 /* level units: Lloyd–Max conditions, centroids
+                               recomputed here in closed form */
+#define TOL_PANTER 0.02   /* relative: Panter–Dite's asymptotic error at
+                             512 cells (the next term is O(1/K^2) relative) */
+#define LLOYD_ROUNDS_MAX 60 /* rounds a converging design may take */
 
 /* ---- random laws and channels (tests/common/test_helpers.h) ---------- */
 
@@ -387,6 +396,54 @@ static void test_unquantized_unsorted_supports(void **state)
     qc_model_free(m);
 }
 
+/* A wide alphabet at low SNR, where every output point sees dozens of
+ * levels: the rate is one quadrature of the level-summed integrand over
+ * panels, each point summing only the levels whose support holds it. It
+ * must equal a composite Simpson rule over the full mixture (every level
+ * at every point, no supports) within its stated error (quadrature plus
+ * the truncation bound) and the rule's own error. The law is not uniform
+ * (a sampled Gaussian) so that no symmetry hides an error. */
+static void test_unquantized_wide_alphabet_full_sum(void **state)
+{
+    (void)state;
+    enum { M = 64 };
+    double levels[M], law[M], e2 = 0.0, sum = 0.0;
+    for (size_t i = 0; i < M; i++) {
+        levels[i] = -(double)(M - 1) + 2.0 * (double)i;
+        law[i] = exp(-0.5 * levels[i] * levels[i] / (40.0 * 40.0));
+        sum += law[i];
+    }
+    for (size_t i = 0; i < M; i++) {
+        law[i] /= sum;
+        e2 += law[i] * levels[i] * levels[i];
+    }
+    const double sigma = sqrt(e2 / pow(10.0, 0.3)); /* 3 dB: ~±80 levels overlap */
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    double mi, err;
+    assert_int_equal(qc_unquantized_mi(m, levels, law, M, &mi, &err), QC_OK);
+    assert_true(err > 0.0 && err < 1e-10);
+    const double a = levels[0] - 40.0 * sigma, b = levels[M - 1] + 40.0 * sigma;
+    const size_t n = 200000; /* even; step ≈ σ/700 */
+    const double h = (b - a) / (double)n;
+    double ref = 0.0;
+    for (size_t j = 0; j <= n; j++) {
+        double y = a + h * (double)j, w = (j == 0 || j == n) ? 1.0 : (j % 2 ? 4.0 : 2.0);
+        double f[M], mix = 0.0;
+        for (size_t i = 0; i < M; i++) {
+            f[i] = gsl_ran_gaussian_pdf(y - levels[i], sigma);
+            mix += law[i] * f[i];
+        }
+        for (size_t i = 0; i < M; i++)
+            if (f[i] > 0.0)
+                ref += w * law[i] * f[i] * log(f[i] / mix);
+    }
+    ref *= h / 3.0;
+    if (fabs(mi - ref) > err + TOL_TIGHT)
+        fail_msg("unquantized %.15g nats (error %.3g), full Simpson sum %.15g", mi, err, ref);
+    qc_model_free(m);
+}
+
 /* ---- Lloyd–Max -------------------------------------------------------- */
 
 static qc_status design_one(qc_model *m, const double *levels, size_t n,
@@ -434,6 +491,96 @@ static void test_lloyd_max_gaussian(void **state)
     assert_true(fabs(res.reconstruction[1] - sqrt(2.0 / M_PI)) <= TOL_LLOYD);
     assert_true(fabs(res.mse - (1.0 - 2.0 / M_PI)) <= TOL_LLOYD);
     qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+/* Centroid of the cell [a, b) under the PAM mixture in N(x, σ²) noise by
+ * the truncated-normal mean, ∫_a^b y φ_x = x ΔΦ + σ (φ(a') − φ(b'))
+ * (Johnson, Kotz, Balakrishnan, Continuous Univariate Distributions 1,
+ * 2nd ed., 1994, ch. 13), with GSL's Gaussian CDF and density. */
+static double pam_centroid(const double *levels, size_t n, double sigma, double a, double b)
+{
+    double m0 = 0.0, m1 = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double za = (a - levels[i]) / sigma, zb = (b - levels[i]) / sigma;
+        double P = isinf(za) ? gsl_cdf_ugaussian_P(zb)
+                   : isinf(zb) ? gsl_cdf_ugaussian_Q(za)
+                   : za > 0.0 ? gsl_cdf_ugaussian_Q(za) - gsl_cdf_ugaussian_Q(zb)
+                              : gsl_cdf_ugaussian_P(zb) - gsl_cdf_ugaussian_P(za);
+        double fa = isinf(za) ? 0.0 : gsl_ran_ugaussian_pdf(za);
+        double fb = isinf(zb) ? 0.0 : gsl_ran_ugaussian_pdf(zb);
+        m0 += P;
+        m1 += levels[i] * P + sigma * (fa - fb);
+    }
+    return m1 / m0;
+}
+
+/* PAM-4 at 10 dB with 512 cells: the design used to stop at its round cap
+ * (5000 rounds) far from the Lloyd–Max conditions without saying so. It
+ * must converge in a few rounds, say so, and satisfy the conditions
+ * (each threshold the midpoint of its neighbouring centroids, recomputed
+ * here independently); its error must sit near Panter & Dite's
+ * high-resolution value D ≈ (∫ f^{1/3})³ / (12 K²) (Panter & Dite,
+ * Proc. IRE 39(1), 1951), computed here by a composite Simpson rule. */
+static void test_lloyd_max_converges(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0}, sigma = sqrt(0.5); /* 10 dB */
+    const size_t K = 512;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    qc_design_result res;
+    assert_int_equal(design_one(m, levels, 4, K, QC_QUANTIZER_LLOYD_MAX, &res), QC_OK);
+    assert_int_equal(res.design_convergence, QC_CONVERGED);
+    assert_true(res.design_iterations <= LLOYD_ROUNDS_MAX);
+    assert_true(res.design_residual <= TOL_LLOYD_COND);
+    double worst = 0.0;
+    for (size_t j = 0; j + 1 < K; j++) {
+        double a = j == 0 ? -INFINITY : res.thresholds[j - 1];
+        double lo = pam_centroid(levels, 4, sigma, a, res.thresholds[j]);
+        double hi = pam_centroid(levels, 4, sigma, res.thresholds[j],
+                                 j + 2 < K ? res.thresholds[j + 1] : INFINITY);
+        worst = fmax(worst, fabs(res.thresholds[j] - 0.5 * (lo + hi)));
+    }
+    if (worst > TOL_LLOYD_COND)
+        fail_msg("a threshold is %.3g off the midpoint of its centroids", worst);
+    /* Panter–Dite */
+    const double ya = -10.0, yb = 10.0;
+    const size_t n = 20000;
+    double integral = 0.0;
+    for (size_t k = 0; k <= n; k++) {
+        double y = ya + (yb - ya) * (double)k / (double)n, f = 0.0;
+        for (size_t i = 0; i < 4; i++)
+            f += 0.25 * gsl_ran_gaussian_pdf(y - levels[i], sigma);
+        integral += (k == 0 || k == n ? 1.0 : k % 2 ? 4.0 : 2.0) * cbrt(f);
+    }
+    integral *= (yb - ya) / (double)n / 3.0;
+    double panter = integral * integral * integral / (12.0 * (double)(K * K));
+    if (fabs(res.mse / panter - 1.0) > TOL_PANTER)
+        fail_msg("mse %.6g against Panter-Dite %.6g", res.mse, panter);
+    qc_design_result_clear(&res);
+    qc_model_free(m);
+}
+
+/* A design stopped by its round cap says so: not converged, the rounds
+ * it took, and a residual above the tolerance. */
+static void test_lloyd_max_cap_reported(void **state)
+{
+    (void)state;
+    const double levels[4] = {-3.0, -1.0, 1.0, 3.0}, law[4] = {0.25, 0.25, 0.25, 0.25};
+    const double sigma = sqrt(0.5);
+    const size_t K = 256;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    double t[255], recon[256];
+    qc_lloyd_report rep;
+    assert_int_equal(qc_lloyd_max(m, levels, law, 4, K - 1, 0, 1, t, recon, &rep), QC_OK);
+    assert_int_equal(rep.rounds, 1);
+    assert_int_equal(rep.converged, 0);
+    assert_true(rep.residual > rep.tolerance);
+    assert_int_equal(qc_lloyd_max(m, levels, law, 4, K - 1, 0, 0, t, recon, &rep), QC_OK);
+    assert_int_equal(rep.converged, 1);
+    assert_true(rep.residual <= rep.tolerance && rep.rounds > 1);
     qc_model_free(m);
 }
 
@@ -490,7 +637,10 @@ int main(void)
         cmocka_unit_test(test_unquantized_noiseless_limit),
         cmocka_unit_test(test_unquantized_spike_among_wide_levels),
         cmocka_unit_test(test_unquantized_unsorted_supports),
+        cmocka_unit_test(test_unquantized_wide_alphabet_full_sum),
         cmocka_unit_test(test_lloyd_max_gaussian),
+        cmocka_unit_test(test_lloyd_max_converges),
+        cmocka_unit_test(test_lloyd_max_cap_reported),
         cmocka_unit_test(test_uniform_is_best_of_its_family),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
