@@ -177,7 +177,7 @@ void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         ba_run(ws, tilt, tol_nats, method, budget, &o);
         ws->resume = 1; /* the next chunk keeps the tail inputs' step state */
         used += o.iterations;
-        if (o.converged || o.failed || used >= max_iterations) {
+        if (o.failed || used >= max_iterations) {
             ws->resume = 0;
             goto full_only;
         }
@@ -187,8 +187,12 @@ void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         }
         n = eliminate(ws, o.lower);
         ws->resume = 0;
+        /* a converged run still goes through one reduced round when that
+         * is small: its law is then exactly 0 off the survivors */
         if (n <= WORTH * (double)ws->nx)
             break;
+        if (o.converged)
+            goto full_only;
         chunk *= 2;
     }
     best_lower = o.lower;
