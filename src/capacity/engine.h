@@ -87,6 +87,13 @@ void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
               qc_ba_method method, size_t max_iterations, int prune,
               ba_outcome *out);
 
+/* The certified elimination test of prune.c alone, at the law whose
+ * output law and scores ba_evaluate (or the end of ba_run) left in ws,
+ * with a certified lower bound `lower` on the tilted optimum: the
+ * inputs that may carry mass at an optimum go to ws->keep (ascending);
+ * returns their number, 0 when the list cannot be allocated. */
+size_t ba_survivors(qc_ba_workspace *ws, double lower);
+
 /* out[x] = Σ_y P(y|x)·v(y) over all rows (one pass over the matrix,
  * each row's span only); v must be finite on every span. */
 void ba_row_sums(const qc_ba_workspace *ws, const double *v, double *out);

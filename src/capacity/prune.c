@@ -97,9 +97,11 @@ static int reserve(qc_ba_workspace *ws, size_t n)
 
 /* The elimination test at the law whose output law and scores ws->q and
  * ws->a hold (all inputs, as ba_evaluate leaves them), with the
- * certified lower bound L. Writes the survivors to ws->keep and
- * returns their number. Uses ws->logq, ws->t and ws->coef as scratch. */
-static size_t eliminate(qc_ba_workspace *ws, double lower)
+ * certified lower bound L. With `working`, only the survivors that score
+ * at least L or hold a share of the mass make the working set. Writes
+ * them to ws->keep and returns their number. Uses ws->logq, ws->t and
+ * ws->coef as scratch. */
+static size_t eliminate(qc_ba_workspace *ws, double lower, int working_set)
 {
     double rmax = 0.0;
     for (size_t x = 0; x < ws->nx; x++)
@@ -121,7 +123,8 @@ static size_t eliminate(qc_ba_workspace *ws, double lower)
     for (size_t x = 0; x < nx; x++) {
         double threshold = lower + ws->t[x] * ws->inv_sum[x];
         int certified = ws->coef[x] > 0.0 || !(ws->a[x] < threshold - slack);
-        int working = !(ws->a[x] < lower - slack) || ws->r[x] >= MASS_KEEP * rmax;
+        int working = !working_set || !(ws->a[x] < lower - slack) ||
+                      ws->r[x] >= MASS_KEEP * rmax;
         if (certified && working)
             ws->keep[n++] = x;
     }
@@ -150,6 +153,11 @@ static void build_reduced(qc_ba_workspace *ws, const ba_tilt *tilt, size_t n, ba
     }
     *sub_tilt = *tilt;
     sub_tilt->costs = tilt->costs ? ws->sub_costs : NULL;
+}
+
+size_t ba_survivors(qc_ba_workspace *ws, double lower)
+{
+    return reserve_keep(ws) ? eliminate(ws, lower, 0) : 0;
 }
 
 void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
@@ -185,7 +193,7 @@ void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             ws->resume = 0;
             goto rest_full;
         }
-        n = eliminate(ws, o.lower);
+        n = eliminate(ws, o.lower, 1);
         ws->resume = 0;
         /* a converged run still goes through one reduced round when that
          * is small: its law is then exactly 0 off the survivors */
@@ -232,7 +240,7 @@ void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         }
         if (!so.converged || used >= max_iterations)
             break;
-        n = eliminate(ws, best_lower);
+        n = eliminate(ws, best_lower, 1);
     }
     if (!converged && !full.failed && used < max_iterations)
         goto rest_full;
