@@ -10,7 +10,6 @@
 
 #include <math.h>
 #include <stdlib.h>
-#include <stdio.h>
 #include <string.h>
 
 #include "capacity/engine.h"
@@ -190,7 +189,6 @@ static void check_support_kept(double sigma, const double *t, size_t nt, double 
                          sigma, s, k, x, levels[x], opt_law[x]);
         }
         last_kept = kept;
-        if (getenv("PRUNE_DBG")) fprintf(stderr, "k=%zu kept=%zu gap=%g\n", k, kept, o.upper - o.lower);
     }
     assert_true(last_kept < n / 2);
     qc_ba_workspace_free(ws);
