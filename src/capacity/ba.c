@@ -151,6 +151,10 @@ void qc_ba_workspace_free(qc_ba_workspace *ws)
     free(ws->hi);
     free(ws->rows);
     free(ws->coef);
+    qc_ba_workspace_free(ws->sub);
+    free(ws->sub_p);
+    free(ws->sub_costs);
+    free(ws->keep);
     free(ws);
 }
 
@@ -392,8 +396,10 @@ void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
         return;
     }
     for (size_t x = 0; x < ws->nx; x++) {
-        ws->boost[x] = 1.0;
-        ws->trend[x] = 0.0;
+        if (!ws->resume) {
+            ws->boost[x] = 1.0;
+            ws->trend[x] = 0.0;
+        }
         ws->r_best[x] = ws->r[x]; /* in case the first pass fails */
         ws->a_best[x] = 0.0;
     }

@@ -20,6 +20,7 @@ void qc_ba_options_default(qc_ba_options *opt)
     opt->initial = NULL;
     opt->costs = NULL;
     opt->budget = 0.0;
+    opt->prune = 1;
 }
 
 static qc_status check_options(const qc_ba_options *opt, size_t nx)
@@ -88,7 +89,7 @@ static qc_status unconstrained(qc_ba_workspace *ws, const qc_ba_options *opt,
     double tol = opt->tol_bits / QC_LOG2E;
     ba_tilt none = {NULL, 0.0, 0.0};
     ba_outcome o;
-    ba_run(ws, &none, tol, opt->method, opt->max_iterations, &o);
+    ba_solve(ws, &none, tol, opt->method, opt->max_iterations, opt->prune, &o);
     double upper = fmax(o.upper, o.mi);
     res->capacity_bits = o.mi * QC_LOG2E;
     res->upper_bound_bits = upper * QC_LOG2E;

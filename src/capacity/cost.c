@@ -165,7 +165,8 @@ static double run_at(search *se, double s)
     }
     ba_tilt tilt = {opt->costs, s, opt->budget};
     ba_outcome o;
-    ba_run(ws, &tilt, se->tol, opt->method, opt->max_iterations - se->used, &o);
+    ba_solve(ws, &tilt, se->tol, opt->method, opt->max_iterations - se->used, opt->prune,
+             &o);
     se->used += o.iterations;
     if (o.failed) {
         se->status = qc_fail(QC_ENUMERIC,
@@ -347,7 +348,7 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
      * constraint is inactive. */
     ba_tilt free_tilt = {c, 0.0, beta};
     ba_outcome o;
-    ba_run(ws, &free_tilt, tol, opt->method, opt->max_iterations, &o);
+    ba_solve(ws, &free_tilt, tol, opt->method, opt->max_iterations, opt->prune, &o);
     se.used = o.iterations;
     if (o.failed)
         return qc_fail(QC_ENUMERIC, "Blahut-Arimoto produced a non-finite bound");

@@ -32,6 +32,13 @@ struct qc_ba_workspace {
     double *coef;        /* nx: r(x) / row sum: weights of the law sweep */
     double *dsum;        /* nx: Σ_y P(y|x) log q(y) from the law sweep  */
     size_t *rows;        /* nx: the rows a sweep visits                 */
+    /* candidate elimination (prune.c), allocated on first use */
+    struct qc_ba_workspace *sub; /* the reduced channel's workspace     */
+    double *sub_p;       /* the surviving rows, copied                  */
+    double *sub_costs;   /* their costs                                 */
+    size_t *keep;        /* nx: the surviving inputs, ascending         */
+    size_t sub_rows;     /* rows the reduced buffers hold               */
+    int resume;          /* ba_run keeps boost and trend from the last run */
 };
 
 /* Outcome of one run at a fixed multiplier s (all in nats). The run
@@ -70,6 +77,26 @@ typedef struct {
  * bound ends the run with failed = 1. */
 void ba_run(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
             qc_ba_method method, size_t max_iterations, ba_outcome *out);
+
+/* The same contract as ba_run, with candidate elimination (prune.c)
+ * when prune is nonzero and the channel has enough inputs: inputs that
+ * certifiably carry no mass at the optimum are set aside, the rest is
+ * solved as a smaller channel, and every bound that is reported is
+ * checked over all inputs. */
+void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
+              qc_ba_method method, size_t max_iterations, int prune,
+              ba_outcome *out);
+
+/* The certified elimination test of prune.c alone, at the law whose
+ * output law and scores ba_evaluate (or the end of ba_run) left in ws,
+ * with a certified lower bound `lower` on the tilted optimum: the
+ * inputs that may carry mass at an optimum go to ws->keep (ascending);
+ * returns their number, 0 when the list cannot be allocated. */
+size_t ba_survivors(qc_ba_workspace *ws, double lower);
+
+/* out[x] = Σ_y P(y|x)·v(y) over all rows (one pass over the matrix,
+ * each row's span only); v must be finite on every span. */
+void ba_row_sums(const qc_ba_workspace *ws, const double *v, double *out);
 
 /* Recompute ws->q = rP, ws->d, ws->a and the outcome's mi and cost for
  * the law in ws->r (one pass to form q, one for D); out->upper becomes

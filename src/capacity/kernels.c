@@ -200,3 +200,12 @@ void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
         block_sweep(ws, NULL, nx, NULL, ws->logq, ws->dsum, b0, b1);
     }
 }
+
+void ba_row_sums(const qc_ba_workspace *ws, const double *v, double *out)
+{
+    memset(out, 0, ws->nx * sizeof *out);
+    for (size_t b0 = 0; b0 < ws->ny; b0 += COL_BLOCK) {
+        const size_t b1 = ws->ny - b0 > COL_BLOCK ? b0 + COL_BLOCK : ws->ny;
+        block_sweep(ws, NULL, ws->nx, NULL, v, out, b0, b1);
+    }
+}

@@ -25,6 +25,9 @@ typedef struct {
     const double *initial; /* starting input law (length nx), NULL: uniform */
     const double *costs;   /* per-input cost (length nx), NULL: none        */
     double budget;         /* average cost allowed, used when costs != NULL */
+    int prune;             /* set aside inputs that certifiably carry no mass
+                              at the optimum (default 1; the bounds always
+                              cover every input; docs/methods.md)         */
 } qc_ba_options;
 
 /* Fill opt with the defaults noted above (no start law, no costs).
