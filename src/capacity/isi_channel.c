@@ -521,3 +521,29 @@ qc_status qc_isi_symbolwise_rate(const qc_isi_request *req, double *bits)
     qc_isi_channel_free(ch);
     return st;
 }
+
+/* One step of the forward recursion (declared in capacity/isi.h). */
+double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
+                           double *next)
+{
+    const size_t S = ch->S, M = ch->M;
+    const uint32_t *src = ch->src;
+    for (size_t s = 0; s < S; s++)
+        next[s] = a[src[s]] * w[s];
+    for (size_t hi = 1; hi < M; hi++) {
+        const size_t base = hi * S;
+        const uint32_t *sb = src + base;
+        const double *wb = w + base;
+        for (size_t s = 0; s < S; s++)
+            next[s] += a[sb[s]] * wb[s];
+    }
+    double lambda = 0.0;
+    for (size_t s = 0; s < S; s++)
+        lambda += next[s];
+    if (lambda > 0.0) {
+        const double inv = 1.0 / lambda;
+        for (size_t s = 0; s < S; s++)
+            next[s] *= inv;
+    }
+    return lambda;
+}

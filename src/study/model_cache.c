@@ -5,7 +5,8 @@
  * done; the next design of the same setting gets the same instance, with
  * what it computed so far: an APD model's gain law, FFT plans and
  * per-level laws are made once per sweep and thread instead of once per
- * point, and a table file is read once per thread.
+ * point, and a table file is read once per thread. Without a cache (one
+ * design) qc_settings_model_get makes a new instance for the caller.
  *
  * Threads: each instance is lent to one design at a time (a model instance
  * fills its caches as it is used, so it belongs to one thread at a time,
@@ -192,4 +193,24 @@ void qc_model_cache_release(qc_model_cache *c, const qc_model *model)
         c->nidle--;
     }
     pthread_mutex_unlock(&c->lock);
+}
+
+qc_status qc_settings_model_get(qc_model_cache *cache, const qc_model_type *type,
+                                const double *params, const char *table,
+                                const qc_model **out)
+{
+    if (cache)
+        return qc_model_cache_get(cache, type, params, table, out);
+    qc_model *m = NULL;
+    qc_status st = table ? qc_model_table_load(table, &m) : qc_model_alloc(type, params, &m);
+    *out = m;
+    return st;
+}
+
+void qc_settings_model_put(qc_model_cache *cache, const qc_model *m)
+{
+    if (cache)
+        qc_model_cache_release(cache, m);
+    else
+        qc_model_free((qc_model *)m); /* made by qc_settings_model_get for this caller */
 }

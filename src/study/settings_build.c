@@ -687,36 +687,6 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     return qc_isi_complex_taps_check(s->taps, coherent ? s->taps_imag : NULL, n);
 }
 
-/* The model of a setting: from the cache (borrowed), or a new instance
- * (the caller's) when there is none. */
-static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
-                           const double *params, const char *table, const qc_model **out);
-
-qc_status qc_settings_model_get(qc_model_cache *cache, const qc_model_type *type,
-                                const double *params, const qc_model **out)
-{
-    return get_model(cache, type, params, NULL, out);
-}
-
-static qc_status get_model(qc_model_cache *cache, const qc_model_type *type,
-                           const double *params, const char *table, const qc_model **out)
-{
-    if (cache)
-        return qc_model_cache_get(cache, type, params, table, out);
-    qc_model *m = NULL;
-    qc_status st = table ? qc_model_table_load(table, &m) : qc_model_alloc(type, params, &m);
-    *out = m;
-    return st;
-}
-
-static void put_model(qc_model_cache *cache, const qc_model *m)
-{
-    if (cache)
-        qc_model_cache_release(cache, m);
-    else
-        qc_model_free((qc_model *)m); /* made by get_model for this caller */
-}
-
 /* qc_settings_build and qc_settings_build_cached: the model comes from
  * `cache` when there is one. */
 static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **model,
@@ -739,7 +709,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     if (why2d) { /* a two-dimensional constellation (settings_plane.c) */
         st = qc_settings_plane_build(s, type, why2d, cache, model, req);
         if (st != QC_OK) {
-            put_model(cache, *model);
+            qc_settings_model_put(cache, *model);
             *model = NULL;
         }
         return st;
@@ -787,7 +757,8 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         return st;
     }
     if (is_table) {
-        if ((st = get_model(cache, type, NULL, qc_settings_get(s, "table"), model)) != QC_OK) {
+        if ((st = qc_settings_model_get(cache, type, NULL, qc_settings_get(s, "table"),
+                                        model)) != QC_OK) {
             qc_alphabet_free(alpha);
             return st;
         }
@@ -957,7 +928,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
         } else if (snr_keys)
             st = snr_route(s, type, nl, dims, params);
         if (st == QC_OK)
-            st = get_model(cache, type, params, NULL, model);
+            st = qc_settings_model_get(cache, type, params, NULL, model);
         if (st != QC_OK)
             return st;
     }
@@ -974,7 +945,7 @@ static qc_status build(qc_settings *s, qc_model_cache *cache, const qc_model **m
     return QC_OK;
 fail:
     qc_alphabet_free(alpha);
-    put_model(cache, *model);
+    qc_settings_model_put(cache, *model);
     *model = NULL;
     return st;
 }

@@ -59,10 +59,14 @@ const char *qc_settings_plane_reason(const qc_settings *s);
 qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, const char *why,
                                   qc_model_cache *cache, const qc_model **model,
                                   qc_design_request *req);
-/* settings_build.c: a model instance of the setting, from the cache
- * (borrowed) or new (the caller's) without one. */
+/* model_cache.c: a model instance of the setting (of type with params,
+ * or the measured table of the file `table`), from the cache (borrowed)
+ * or new (the caller's) without one; qc_settings_model_put gives it back
+ * (releases it to the cache, or frees it). */
 qc_status qc_settings_model_get(qc_model_cache *cache, const qc_model_type *type,
-                                const double *params, const qc_model **out);
+                                const double *params, const char *table,
+                                const qc_model **out);
+void qc_settings_model_put(qc_model_cache *cache, const qc_model *m);
 
 /* settings_converter.c: the converter keys into s->converter and
  * req->quantizer (kind converter when they are given without another

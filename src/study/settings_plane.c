@@ -325,7 +325,7 @@ qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, con
             return qc_fail(st, "%s", qc_last_error());
         req->input.fec = &s->fec;
     }
-    if ((st = qc_settings_model_get(cache, type, params, model)) != QC_OK)
+    if ((st = qc_settings_model_get(cache, type, params, NULL, model)) != QC_OK)
         return st;
     req->channel.model = *model;
     req->channel.dimensions = 2;
