@@ -328,7 +328,6 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
         free(cum);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    double total = 0.0;
     for (size_t i = 0; i < m; i++) {
         double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
         for (size_t x = 0; x < nlevels; x++)
@@ -354,7 +353,19 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
             }
         }
         lam[i] = cbrt(f * j2);
-        if (!isfinite(lam[i]))
+    }
+    qc_status st = qc_density_quantiles(lam, cum, m, lo, step, nt, "companding", out);
+    free(lam);
+    free(cum);
+    return st;
+}
+
+qc_status qc_density_quantiles(double *lam, double *cum, size_t m, double lo, double step,
+                               size_t nt, const char *who, double *out)
+{
+    double total = 0.0;
+    for (size_t i = 0; i < m; i++) {
+        if (!(isfinite(lam[i]) && lam[i] > 0.0))
             lam[i] = 0.0;
         total += lam[i];
     }
@@ -365,22 +376,17 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     for (size_t i = 1; i < m; i++)
         cum[i] = cum[i - 1] + 0.5 * step * (lam[i - 1] + lam[i] + 2.0 * floor_);
     size_t k = 0;
-    qc_status st = QC_OK;
     for (size_t j = 1; j <= nt; j++) {
         double target = cum[m - 1] * (double)j / (double)(nt + 1);
         while (k + 2 < m && cum[k + 1] < target)
             k++;
         double u = (target - cum[k]) / (cum[k + 1] - cum[k]);
         out[j - 1] = lo + step * ((double)k + fmin(1.0, fmax(0.0, u)));
-        if (j > 1 && !(out[j - 1] > out[j - 2])) {
-            st = qc_fail(QC_ENUMERIC,
-                         "companding thresholds %zu and %zu coincide (%zu cells on "
-                         "a grid of %zu)",
-                         j - 1, j, nt + 1, m);
-            break;
-        }
+        if (j > 1 && !(out[j - 1] > out[j - 2]))
+            return qc_fail(QC_ENUMERIC,
+                           "%s: start thresholds %zu and %zu coincide (%zu cells on a grid "
+                           "of %zu)",
+                           who, j - 1, j, nt + 1, m);
     }
-    free(lam);
-    free(cum);
-    return st;
+    return QC_OK;
 }

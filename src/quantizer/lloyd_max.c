@@ -29,7 +29,6 @@
 #define MSE_SLACK 1e-12 /* relative rise of the error a step may show by rounding */
 #define START_PER_CELL 8 /* grid points per cell tabulating the start */
 #define START_MIN 4096
-#define START_FLOOR 1e-3 /* share of a uniform density in the start's λ */
 #define QUAD_LIMIT 1000
 #define QUAD_EPSREL 1e-11
 #define MASS_FLOOR 1e-18 /* probability below which a cell's moments may be
@@ -313,31 +312,9 @@ static qc_status companded_start(const lloyd *L, size_t nt, double *t)
         for (size_t k = k0; k < m && lo + step * (double)k <= b; k++)
             lam[k] += L->input[x] * ty->density(L->m, L->levels[x], lo + step * (double)k);
     }
-    double total = 0.0;
-    for (size_t k = 0; k < m; k++) {
+    for (size_t k = 0; k < m; k++)
         lam[k] = isfinite(lam[k]) && lam[k] > 0.0 ? cbrt(lam[k]) : 0.0;
-        total += lam[k];
-    }
-    const double floor_ = START_FLOOR * (total > 0.0 ? total / (double)m : 1.0);
-    cum[0] = 0.0;
-    for (size_t k = 1; k < m; k++)
-        cum[k] = cum[k - 1] + 0.5 * step * (lam[k - 1] + lam[k] + 2.0 * floor_);
-    size_t k = 0;
-    qc_status st = QC_OK;
-    for (size_t j = 1; j <= nt; j++) {
-        double target = cum[m - 1] * (double)j / (double)(nt + 1);
-        while (k + 2 < m && cum[k + 1] < target)
-            k++;
-        double u = (target - cum[k]) / (cum[k + 1] - cum[k]);
-        t[j - 1] = lo + step * ((double)k + fmin(1.0, fmax(0.0, u)));
-        if (j > 1 && !(t[j - 1] > t[j - 2])) {
-            st = qc_fail(QC_ENUMERIC,
-                         "Lloyd-Max: start thresholds %zu and %zu coincide (%zu cells on "
-                         "a grid of %zu)",
-                         j - 1, j, nt + 1, m);
-            break;
-        }
-    }
+    qc_status st = qc_density_quantiles(lam, cum, m, lo, step, nt, "Lloyd-Max", t);
     free(lam);
     free(cum);
     return st;

@@ -146,6 +146,14 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
                                    const double *input, size_t nlevels, size_t nt,
                                    double *out);
 
+/* nt thresholds at the quantiles of the point density λ sampled at
+ * lo + k·step (k < m; non-finite or negative samples count as 0), with
+ * a 1e-3 share of the uniform density mixed in so that its trapezoid
+ * cumulative (into cum, m entries) is strictly increasing; `who` names the
+ * caller in the error when two thresholds coincide on the grid. */
+qc_status qc_density_quantiles(double *lam, double *cum, size_t m, double lo, double step,
+                               size_t nt, const char *who, double *out);
+
 /* Union of the supports of all levels. */
 void qc_levels_support(const qc_model *model, const double *levels,
                        size_t nlevels, double *lo, double *hi);
