@@ -116,6 +116,10 @@ void plot_figure_title(const qc_scenario *sc, const char *subject, const char *d
                        int h);
 void plot_panel_title(const char *text);
 double plot_log_step(double decades);
+/* A frame with log y (x log when `logx`, x numbered when `xnum`) in
+ * world coordinates log10: a light grid, ticks, the y numbers as powers
+ * of ten, every decade or, over many decades, every plot_log_step. */
+void plot_log_frame(double x0, double x1, double y0, double y1, int logx, int xnum);
 
 /* plot_text.c -------------------------------------------------------- */
 

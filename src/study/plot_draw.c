@@ -268,3 +268,23 @@ void plot_legend_strip(const plot_ctx *ctx, legend *lg, int w, int h)
 
 /* Decades between major ticks of a log axis spanning `decades`. */
 double plot_log_step(double decades) { return decades > 4.0 ? ceil(decades / 4.0) : 1.0; }
+
+void plot_log_frame(double x0, double x1, double y0, double y1, int logx, int xnum)
+{
+    double ystep = plot_log_step(y1 - y0);
+    plwind(x0, x1, y0, y1);
+    plcol0(COL_GRID);
+    pllsty(1);
+    plwidth(0.7);
+    plbox(logx ? "gl" : "g", 0.0, 0, "gl", 0.0, 0);
+    plcol0(COL_BLACK);
+    plwidth(1.0);
+    const char *xopt = xnum ? (logx ? "bcnstl" : "bcnst") : (logx ? "bcstl" : "bcst");
+    plbox(xopt, 0.0, 0, ystep > 1.0 ? "bcstl" : "bcnstvl", 0.0, 0);
+    if (ystep > 1.0)
+        for (double d = ceil(y0); d <= y1 + 1e-9; d += ystep) {
+            char num[32];
+            snprintf(num, sizeof num, "10#u%s%d#d", d < 0 ? "\xe2\x88\x92" : "", abs((int)d));
+            plmtex("lv", 0.7, (d - y0) / (y1 - y0), 1.0, num);
+        }
+}

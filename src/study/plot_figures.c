@@ -46,30 +46,6 @@ static void add_below_legend(legend *lg, const char *what, double l0)
     lg->sym[lg->n - 1] = "\xe2\x96\xbc"; /* ▼ */
 }
 
-/* Frame of a BER panel: log y, numbered every decade or, over many
- * decades, every plot_log_step decades; x logarithmic when `logx`. */
-static void ber_frame(double x0, double x1, double y0, double y1, int logx)
-{
-    double ystep = plot_log_step(y1 - y0);
-    plwind(x0, x1, y0, y1);
-    plcol0(COL_GRID);
-    pllsty(1);
-    plwidth(0.7);
-    plbox(logx ? "gl" : "g", 0.0, 0, "gl", 0.0, 0);
-    plcol0(COL_BLACK);
-    plwidth(1.0);
-    if (ystep > 1.0) {
-        plbox(logx ? "bcnstl" : "bcnst", 0.0, 0, "bcstl", 0.0, 0);
-        for (double d = ceil(y0); d <= y1 + 1e-9; d += ystep) {
-            char num[32];
-            snprintf(num, sizeof num, "10#u%s%d#d", d < 0 ? "\xe2\x88\x92" : "", abs((int)d));
-            plmtex("lv", 0.7, (d - y0) / (y1 - y0), 1.0, num);
-        }
-    } else {
-        plbox(logx ? "bcnstl" : "bcnst", 0.0, 0, "bcnstvl", 0.0, 0);
-    }
-}
-
 qc_status plot_ber_vs_x(plot_ctx *ctx)
 {
     const qc_scenario *sc = ctx->sc;
@@ -196,7 +172,7 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                 double box[4];
                 plot_panel_box(&L, pi, w, h, box);
                 plvpor(box[0], box[1], box[2], box[3]);
-                ber_frame(x0, x1, y0, y1, logx);
+                plot_log_frame(x0, x1, y0, y1, logx, 1);
                 plot_labels(pi / L.ncols == L.nrows - 1 || pi + L.ncols >= np ? xlabel : "",
                             pi % L.ncols == 0 ? ylabel : "", "");
                 if (np > 1) {

@@ -28,26 +28,6 @@
 
 enum { RX_SOFT, RX_HARD, RX_UNQ, NRX };
 
-/* Log-log frame: a light grid, then ticks, numbers on x when `xnum`. */
-static void loglog_frame(double x0, double x1, double y0, double y1, int xnum)
-{
-    double ystep = plot_log_step(y1 - y0);
-    plwind(x0, x1, y0, y1);
-    plcol0(COL_GRID);
-    pllsty(1);
-    plwidth(0.7);
-    plbox("gl", 0.0, 0, "gl", 0.0, 0);
-    plcol0(COL_BLACK);
-    plwidth(1.0);
-    plbox(xnum ? "bcnstl" : "bcstl", 0.0, 0, ystep > 1.0 ? "bcstl" : "bcnstvl", 0.0, 0);
-    if (ystep > 1.0)
-        for (double d = ceil(y0); d <= y1 + 1e-9; d += ystep) {
-            char num[32];
-            snprintf(num, sizeof num, "10#u%s%d#d", d < 0 ? "\xe2\x88\x92" : "", abs((int)d));
-            plmtex("lv", 0.7, (d - y0) / (y1 - y0), 1.0, num);
-        }
-}
-
 /* log10 range of the positive finite values, at most MAX_DECADES deep. */
 static void log_range(const double *v, size_t n, double *lo, double *hi)
 {
@@ -244,7 +224,7 @@ qc_status plot_photon_efficiency(plot_ctx *ctx)
             const int bottom = pi / L.ncols == L.nrows - 1 || pi + L.ncols >= np;
             /* upper part: bits per detected photon */
             plvpor(box[0], box[1], split + gap, box[3]);
-            loglog_frame(x0, x1, b0, b1, 0);
+            plot_log_frame(x0, x1, b0, b1, 1, 0);
             plot_labels("", left ? "bit per detected photon" : "", "");
             if (np > 1) {
                 char pt[200];
@@ -258,7 +238,7 @@ qc_status plot_photon_efficiency(plot_ctx *ctx)
                 }
             /* lower part: bits per slot */
             plvpor(box[0], box[1], box[2], split - gap);
-            loglog_frame(x0, x1, s0, s1, 1);
+            plot_log_frame(x0, x1, s0, s1, 1, 1);
             plot_labels(bottom ? xlabel : "", left ? "rate per slot (bit/slot)" : "", "");
             for (size_t c = 0; c < ncurves; c++)
                 for (int r = NRX; r-- > 0;) {
