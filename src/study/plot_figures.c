@@ -355,6 +355,7 @@ static qc_status required_against(plot_ctx *ctx, int axis)
         snprintf(subject, sizeof subject, "%s against %s", ylabel, blabel);
         plot_figure_title(sc, subject, ttext, w, h);
         const char *ticks = whole && (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
+        int unq_drawn = 0; /* the legend names the unquantized line if drawn */
         for (size_t pi = 0; pi < np; pi++) {
             double box[4];
             plot_panel_box(&L, pi, w, h, box);
@@ -378,8 +379,10 @@ static qc_status required_against(plot_ctx *ctx, int axis)
                     pllsty(3);
                     plwidth(1.0);
                     for (size_t b = 0; b + 1 < nb; b++)
-                        if (isfinite(unq[i + b]) && isfinite(unq[i + b + 1]))
+                        if (isfinite(unq[i + b]) && isfinite(unq[i + b + 1])) {
                             plline(2, &bx[b], &unq[i + b]);
+                            unq_drawn = 1;
+                        }
                     pllsty(1);
                 }
             /* lower part: the penalty at the target */
@@ -404,10 +407,12 @@ static qc_status required_against(plot_ctx *ctx, int axis)
             if (ns > 1)
                 lg.line_sty[lg.n - 1] = 1;
         }
-        plot_legend_add(&lg, "unquantized", 0, 0);
-        lg.line_col[lg.n - 1] = COL_BLACK;
-        lg.line_sty[lg.n - 1] = 3;
-        lg.line_w[lg.n - 1] = 1.0;
+        if (unq_drawn) {
+            plot_legend_add(&lg, "unquantized", 0, 0);
+            lg.line_col[lg.n - 1] = COL_BLACK;
+            lg.line_sty[lg.n - 1] = 3;
+            lg.line_w[lg.n - 1] = 1.0;
+        }
         for (size_t s = 0; ns > 1 && s < ns; s++) {
             char name[160];
             plot_style_words(sc, &L, s, name, sizeof name);

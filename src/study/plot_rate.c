@@ -137,6 +137,7 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
             char ylabel[160];
             snprintf(ylabel, sizeof ylabel, "information rate (%s)", unit);
             int every = nx > 10 ? (int)(nx / 8) : 1;
+            int unq_drawn = 0; /* the legend names the unquantized curve if drawn */
             for (size_t pi = 0; pi < np; pi++) {
                 double box[4];
                 plot_panel_box(&L, pi, w, h, box);
@@ -163,8 +164,10 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
                     pllsty(ns > 1 ? plot_line_styles[s % NCOLOURS] : 1);
                     plwidth(3.0);
                     for (size_t j = 0; j + 1 < nx; j++)
-                        if (isfinite(u[j]) && isfinite(u[j + 1]))
+                        if (isfinite(u[j]) && isfinite(u[j + 1])) {
                             plline(2, &x[j], &u[j]);
+                            unq_drawn = 1;
+                        }
                     pllsty(1);
                 }
             }
@@ -187,10 +190,12 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
                 if (ns > 1)
                     lg.line_sty[lg.n - 1] = 1;
             }
-            plot_legend_add(&lg, "unquantized", 0, 0);
-            lg.line_col[lg.n - 1] = COL_BLACK;
-            lg.line_sty[lg.n - 1] = 1;
-            lg.line_w[lg.n - 1] = 3.0;
+            if (unq_drawn) {
+                plot_legend_add(&lg, "unquantized", 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = 1;
+                lg.line_w[lg.n - 1] = 3.0;
+            }
             for (size_t s = 0; ns > 1 && s < ns; s++) {
                 char name[160];
                 plot_style_words(sc, &L, s, name, sizeof name);
@@ -404,6 +409,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             else
                 snprintf(lylabel, sizeof lylabel, "rate loss (%s)", plot_rate_unit(sc, 0, na));
             const char *ticks = (x1 - x0) <= 20 ? "i" : ""; /* whole bits */
+            int unq_drawn = 0; /* the legend names the unquantized line if drawn */
             for (size_t pi = 0; pi < np; pi++) {
                 double box[4];
                 plot_panel_box(&L, pi, w, h, box);
@@ -429,6 +435,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                             plot_curve((int)nb, bx, sym + cell * nb, (int)a, 1, 1, 0);
                         /* the unquantized rate: thin dotted line in its colour */
                         if (isfinite(unq[cell])) {
+                            unq_drawn = 1;
                             double hx[2] = {x0, x1}, hy[2] = {unq[cell], unq[cell]};
                             plcol0(COL_FIRST + (int)a % NCOLOURS);
                             pllsty(3);
@@ -475,10 +482,12 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                 lg.line_col[lg.n - 1] = COL_BLACK;
                 lg.line_sty[lg.n - 1] = plot_line_styles[1];
             }
-            plot_legend_add(&lg, memory ? "no ADC (sequence)" : "unquantized", 0, 0);
-            lg.line_col[lg.n - 1] = COL_BLACK;
-            lg.line_sty[lg.n - 1] = 3;
-            lg.line_w[lg.n - 1] = 1.0;
+            if (unq_drawn) {
+                plot_legend_add(&lg, memory ? "no ADC (sequence)" : "unquantized", 0, 0);
+                lg.line_col[lg.n - 1] = COL_BLACK;
+                lg.line_sty[lg.n - 1] = 3;
+                lg.line_w[lg.n - 1] = 1.0;
+            }
             for (size_t s = 0; ns > 1 && s < ns; s++) {
                 char name[160];
                 plot_style_words(sc, &L, s, name, sizeof name);

@@ -312,5 +312,40 @@ rc, out, err = run("sweep", write("ppm_none.ini", PPM_AXIS.replace("ppm:4, ppm:3
 check(rc == 0 and "skipped photon-efficiency.svg: no point in it is pulse-position" in out,
       f"no PPM point: the figure is skipped with a note ({rc}: {out} {err})")
 
+# --- the legend names the unquantized curve only when one is drawn --------
+# (with a phase error a 2-D receiver has no unquantized reference; without
+# one, at 0 degrees alone, there is no segment to draw either)
+IQ_PN = """# invented test scenario
+[scenario]
+title = legend test
+[receiver]
+model = gauss
+[design]
+objective = gmi
+quantizer = uniform
+bits = 2
+alphabet = qam:16
+iq-quantizer = product
+[sweep]
+snr-db = 14
+phase-noise-deg = 2, 4
+[plots]
+x = phase-noise-deg
+"""
+ldir = os.path.join(tmp, "legend")
+rc, out, err = run("sweep", write("iq_pn.ini", IQ_PN), "--output-dir", ldir)
+check(rc == 0, f"2-D sweep over the phase error ({rc}: {err})")
+for name in figures(ldir):
+    if name.startswith("rate-vs-phase-noise-deg"):
+        t = svg_text(os.path.join(ldir, name))
+        check("unquantized" not in t, f"{name}: no unquantized curve, none in the legend")
+rc, out, err = run("sweep", write("iq_pn0.ini", IQ_PN.replace("phase-noise-deg = 2, 4",
+                                                             "phase-noise-deg = 0, 0.5")
+                                                    .replace("objective = gmi",
+                                                             "objective = mi")),
+                   "--output-dir", ldir + "0")
+names = [n for n in figures(ldir + "0") if n.startswith("rate-vs-phase-noise-deg")]
+check(rc == 0 and names, f"2-D sweep from 0 degrees ({rc}: {err})")
+
 print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
