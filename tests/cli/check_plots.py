@@ -335,10 +335,11 @@ x = phase-noise-deg
 ldir = os.path.join(tmp, "legend")
 rc, out, err = run("sweep", write("iq_pn.ini", IQ_PN), "--output-dir", ldir)
 check(rc == 0, f"2-D sweep over the phase error ({rc}: {err})")
-for name in figures(ldir):
-    if name.startswith("rate-vs-phase-noise-deg"):
-        t = svg_text(os.path.join(ldir, name))
-        check("unquantized" not in t, f"{name}: no unquantized curve, none in the legend")
+pn_figures = [n for n in figures(ldir) if n.startswith("rate-vs-phase-noise-deg")]
+check(pn_figures, f"the 2-D sweep draws its rate against the phase error ({figures(ldir)})")
+for name in pn_figures:
+    t = svg_text(os.path.join(ldir, name))
+    check("unquantized" not in t, f"{name}: no unquantized curve, none in the legend")
 rc, out, err = run("sweep", write("iq_pn0.ini", IQ_PN.replace("phase-noise-deg = 2, 4",
                                                              "phase-noise-deg = 0, 0.5")
                                                     .replace("objective = gmi",
