@@ -59,6 +59,8 @@ static uint64_t splitmix64(uint64_t z)
 
 /* What one batch needs besides the shared channel. */
 typedef struct {
+    double *buf;               /* the allocation the arrays below live in;
+                                  aq/nq and au/nu swap at every step      */
     double *aq, *nq, *au, *nu; /* forward messages (S each)               */
     double *wu, *eu;           /* unquantized weights and exponents (T)   */
     double *wq;                /* coherent quantized weights (T)          */
@@ -325,7 +327,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
                 lik_q[y * T + t] = ch->window_dmc_q->p[t * K + y];
     }
     for (size_t b = 0; b < B; b++) {
-        ws[b].aq = qc_malloc_array(4 * S + 3 * T, sizeof(double));
+        ws[b].aq = ws[b].buf = qc_malloc_array(4 * S + 3 * T, sizeof(double));
         ws[b].rng = gsl_rng_alloc(gsl_rng_mt19937);
         if (!ws[b].aq || !ws[b].rng) {
             st = qc_fail(QC_ENOMEM, "out of memory");
@@ -416,7 +418,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
 done:
     if (ws)
         for (size_t b = 0; b < B; b++) {
-            free(ws[b].aq);
+            free(ws[b].buf);
             free(ws[b].ty);
             free(ws[b].tcell);
             free(ws[b].twin);

@@ -417,6 +417,10 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
     fprintf(f, "             simulated: %zu symbols in %zu batches, 95 %% intervals by batch "
                "means (Arnold et al. 2006)\n",
             r->memory_symbols, (size_t)QC_ISI_BATCHES);
+    if (isfinite(r->memory_rate_ci_target))
+        fprintf(f, "             symbols grown until the quantized rate's interval is within "
+                   "+-%g bit/symbol (rate-ci)\n",
+                r->memory_rate_ci_target);
     if (isfinite(r->bcjr_pre_fec_ber)) {
         fprintf(f, "hard         symbol-by-symbol pre-FEC BER %.4e, NGMI %.6f (exact); BCJR "
                    "pre-FEC BER %.4e +- %.2e (symbol-wise MAP)\n",

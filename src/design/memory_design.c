@@ -96,6 +96,9 @@ qc_status qc_memory_check(const qc_design_request *req)
         return qc_fail(QC_EINVAL, "quantizer converter: its settings are searched on real "
                                   "channels with memory; for a coherent one give quantizer "
                                   "uniform or optimal");
+    if (!(m->rate_ci_bits >= 0.0) || !isfinite(m->rate_ci_bits))
+        return qc_fail(QC_EINVAL, "rate-ci: expected a half-width > 0 bit/symbol (got %g)",
+                       m->rate_ci_bits);
     const size_t n = m->symbols ? m->symbols : QC_DESIGN_MEMORY_SYMBOLS;
     if (n < QC_ISI_BATCHES * QC_ISI_MIN_BATCH)
         return qc_fail(QC_EINVAL, "symbols: at least %zu symbols are needed (got %zu)",
@@ -327,6 +330,33 @@ static qc_status memory_figures(const qc_design_request *req, const qc_isi_resul
     return QC_OK;
 }
 
+/* Simulate the final rates again on more symbols until the quantized
+ * rate's 95 % half-width is within `target` (bit/symbol; 0: none). The
+ * batch-means interval narrows as 1/√n, so n grows by (ci/target)² with a
+ * 15 % margin, in whole batches; a few rounds at most, since each lands
+ * close. */
+static qc_status meet_ci_target(qc_isi_request *isi, double target, qc_isi_result *r)
+{
+    for (int round = 0; target > 0.0 && r->rate_ci_bits > target; round++) {
+        const double ratio = r->rate_ci_bits / target;
+        const double want = ceil((double)r->symbols * ratio * ratio * 1.15 /
+                                 (double)QC_ISI_BATCHES) *
+                            (double)QC_ISI_BATCHES;
+        if (round == 4 || !(want <= (double)QC_DESIGN_MEMORY_MAX_SYMBOLS))
+            return qc_fail(QC_EINVAL,
+                           "rate-ci: the rate's interval is +-%.3g bit with %zu symbols; "
+                           "+-%g would take about %.3g symbols, more than the %zu allowed "
+                           "(ask for a wider interval)",
+                           r->rate_ci_bits, r->symbols, target, want,
+                           QC_DESIGN_MEMORY_MAX_SYMBOLS);
+        isi->symbols = (size_t)want;
+        qc_status st = qc_isi_rate(isi, r);
+        if (st != QC_OK)
+            return st;
+    }
+    return QC_OK;
+}
+
 qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
 {
     const qc_design_memory *m = &req->memory;
@@ -405,7 +435,8 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
      * the converter's noise: a second run on the same sequence */
     s.isi.unquantized = !s.noisy;
     qc_isi_result r, ru;
-    if ((st = qc_isi_rate(&s.isi, &r)) != QC_OK)
+    if ((st = qc_isi_rate(&s.isi, &r)) != QC_OK ||
+        (st = meet_ci_target(&s.isi, m->rate_ci_bits, &r)) != QC_OK)
         goto done;
     if (s.noisy) {
         qc_isi_request u = s.isi;
@@ -422,6 +453,7 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     }
     res->states = r.states;
     res->memory_symbols = r.symbols;
+    res->memory_rate_ci_target = m->rate_ci_bits > 0.0 ? m->rate_ci_bits : NAN;
     res->information_rate_bits = r.rate_bits;
     res->information_rate_ci_bits = r.rate_ci_bits;
     res->unquantized_information_rate_bits = r.unquantized_bits;

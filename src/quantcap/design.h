@@ -226,6 +226,13 @@ typedef struct {
     size_t ntaps;                /* 0: no memory                             */
     size_t symbols;              /* simulated symbols; 0: QC_DESIGN_MEMORY_SYMBOLS */
     uint64_t seed;               /* the simulation's seed                    */
+    /* The largest half-width of the final information rate's 95 %
+     * interval (bit/symbol; 0: none): the final rates are simulated again
+     * on more symbols (the interval of batch means narrows as 1/√n) until
+     * the quantized rate's interval is within it, or the design fails
+     * naming the symbols it would need beyond QC_DESIGN_MEMORY_MAX_SYMBOLS.
+     * The threshold search itself runs on `symbols`. */
+    double rate_ci_bits;
     /* Coherent detection (1): the received sample is complex, y_k =
      * Σ_i h_i·x_{k−i} + circular complex Gaussian noise of the model on
      * each quadrature, and the product quantizer cuts I and Q with the
@@ -238,6 +245,8 @@ typedef struct {
 } qc_design_memory;
 
 #define QC_DESIGN_MEMORY_SYMBOLS ((size_t)200000)
+/* The most symbols an interval target (rate_ci_bits) may ask for. */
+#define QC_DESIGN_MEMORY_MAX_SYMBOLS ((size_t)1 << 30)
 
 typedef struct {
     qc_design_channel channel;
@@ -405,6 +414,7 @@ typedef struct {
     size_t ntaps;
     double *taps;                /* owned copy of the taps                   */
     size_t memory_symbols;       /* symbols simulated per rate               */
+    double memory_rate_ci_target; /* echo of request.memory.rate_ci_bits    */
     double information_rate_bits;       /* quantized, sequence detector    */
     double information_rate_ci_bits;    /* its 95 % half-width             */
     double unquantized_information_rate_bits;

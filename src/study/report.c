@@ -236,6 +236,7 @@ static void report_memory(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "taps", qc_report_array(res->taps, res->ntaps));
     json_object_set_new(o, "states", json_integer((json_int_t)res->states));
     json_object_set_new(o, "symbols", json_integer((json_int_t)res->memory_symbols));
+    json_object_set_new(o, "rate_ci_target_bits", qc_report_real(res->memory_rate_ci_target));
     json_object_set_new(o, "information_rate_bits", qc_report_real(res->information_rate_bits));
     json_object_set_new(o, "information_rate_ci_bits",
                         qc_report_real(res->information_rate_ci_bits));

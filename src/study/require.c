@@ -16,7 +16,7 @@ static const char *const not_solvable[] = {
     "fine-cells", "keep-decisions", "thresholds", "tol", "alphabet", "table", "level-grid",
     "optimize-levels", "level-starts", "blocklength", "error-rate", "polarizations", "fec",
     "full-scale", "seed", "draws", "transitions", "converter-gain", "converter-offset",
-    "channels", "taps", "response", "symbols", "shaping", "detection", "constellation", "iq-quantizer",
+    "channels", "taps", "response", "symbols", "rate-ci", "shaping", "detection", "constellation", "iq-quantizer",
     "amplitude-cells", "phase-cells", "phase-noise-law", NULL,
 };
 

@@ -189,6 +189,10 @@ static const key_spec keys[] = {
            "intensity,coherent"),
     WHOLE("symbols", "N", "symbols simulated for the rates of a channel with memory (default "
           "200000)", 4000, (size_t)1 << 40),
+    NUMBER_ABOVE("rate-ci", "B",
+                 "channel with memory: the widest 95 % interval (+-B bit/symbol) of the final "
+                 "information rate; its symbols grow until it is met",
+                 0.0),
     /* probabilistic shaping (docs/alphabets.md) */
     TEXT("shaping", "mb:NU|entropy:H|best|none",
          "Maxwell-Boltzmann law p(x) ~ exp(-NU x^2) on pam/qam levels, exp(-NU x) on intensity "

@@ -615,6 +615,9 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
         if (qc_settings_get(s, "symbols"))
             return qc_fail(QC_EINVAL, "'symbols' goes with 'taps' or 'response' (a channel "
                                       "with memory)");
+        if (qc_settings_get(s, "rate-ci"))
+            return qc_fail(QC_EINVAL, "'rate-ci' goes with 'taps' or 'response' (a channel "
+                                      "with memory)");
         if (det)
             return qc_fail(QC_EINVAL, "'detection' goes with 'taps' or 'response' (a channel "
                                       "with memory)");
@@ -673,10 +676,12 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
             return st;
         }
     }
-    double symbols = NAN, seed = NAN;
+    double symbols = NAN, seed = NAN, rate_ci = NAN;
     if ((st = number(s, "symbols", NAN, &symbols)) != QC_OK ||
-        (st = number(s, "seed", NAN, &seed)) != QC_OK)
+        (st = number(s, "seed", NAN, &seed)) != QC_OK ||
+        (st = number(s, "rate-ci", NAN, &rate_ci)) != QC_OK)
         return st;
+    req->memory.rate_ci_bits = isnan(rate_ci) ? 0.0 : rate_ci;
     req->memory.taps = s->taps;
     req->memory.ntaps = n;
     req->memory.symbols = isnan(symbols) ? 0 : (size_t)symbols;
