@@ -26,8 +26,9 @@
  * rate's change with the thresholds, not the noise of two simulations.
  * A coherent link (complex taps, QAM or PAM on the in-phase quadrature)
  * scales the product quantizer's thresholds, the same on I and Q, by the
- * same α; the detector's BER and GMI are simulated on real channels only,
- * and a converter's settings are searched there only. */
+ * same α (a converter's gain and offset act on both alike); the
+ * detector's BER and GMI are simulated on real channels only, and the AGC
+ * rule, defined on a real output, is refused there. */
 #include "design/design_internal.h"
 #include "quantcap/memory.h"
 
@@ -92,10 +93,11 @@ qc_status qc_memory_check(const qc_design_request *req)
                        req->channel.nlevels, m->ntaps, req->channel.nlevels, m->ntaps - 1,
                        QC_ISI_MAX_STATES);
     }
-    if (m->coherent && req->quantizer.kind == QC_QUANTIZER_CONVERTER)
-        return qc_fail(QC_EINVAL, "quantizer converter: its settings are searched on real "
-                                  "channels with memory; for a coherent one give quantizer "
-                                  "uniform or optimal");
+    if (m->coherent && req->quantizer.kind == QC_QUANTIZER_CONVERTER &&
+        req->quantizer.converter && req->quantizer.converter->gain_mode == QC_GAIN_AGC)
+        return qc_fail(QC_EINVAL, "converter-gain agc: the AGC rule is applied to a real "
+                                  "output with memory; on a coherent one give the gain or "
+                                  "'best'");
     if (!(m->rate_ci_bits >= 0.0) || !isfinite(m->rate_ci_bits))
         return qc_fail(QC_EINVAL, "rate-ci: expected a half-width > 0 bit/symbol (got %g)",
                        m->rate_ci_bits);

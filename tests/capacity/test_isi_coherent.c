@@ -381,6 +381,66 @@ static void test_design_coherent(void **state)
     qc_model_free(m);
 }
 
+/* A converter on a coherent channel with memory: a given gain and offset
+ * act on I and Q alike (memory thresholds (T - offset)/gain, the same
+ * sequence as the product quantizer with those thresholds plus the
+ * converter's noise); the best gain never rates below its start on the
+ * same seeded sequence (common random numbers); the AGC rule is refused. */
+static void test_converter_coherent(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.45);
+    const double lev[4] = {-3, -1, 1, 3}, re[2] = {1.0, 0.0}, im[2] = {0.0, 0.3};
+    qc_converter c;
+    qc_converter_default(&c, -4.0, 4.0);
+    c.enob = 2.5;
+    c.gain = 0.9;
+    c.offset = 0.1;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = 4;
+    req.channel.dimensions = 2;
+    req.quantizer.cells = 8;
+    req.quantizer.kind = QC_QUANTIZER_CONVERTER;
+    req.quantizer.converter = &c;
+    req.memory.taps = re;
+    req.memory.taps_imag = im;
+    req.memory.ntaps = 2;
+    req.memory.symbols = 20000;
+    req.memory.seed = 6;
+    req.memory.coherent = 1;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_true(r.coherent && r.memory_gain == 0.9 && r.memory_offset == 0.1);
+    for (size_t j = 0; j < r.nthresholds; j++)
+        assert_near(r.memory_thresholds[j], (r.thresholds[j] - 0.1) / 0.9, 1e-12);
+    /* the converter's noise costs rate against the same thresholds without it */
+    qc_isi_request isi = {.model = m, .levels = lev, .nlevels = 4, .taps = re, .taps_imag = im,
+                          .ntaps = 2, .thresholds = r.memory_thresholds,
+                          .nthresholds = r.nthresholds, .symbols = 20000, .seed = 6,
+                          .mode = QC_ISI_COHERENT_QAM};
+    qc_isi_result clean;
+    assert_int_equal(qc_isi_rate(&isi, &clean), QC_OK);
+    assert_true(r.information_rate_bits < clean.rate_bits);
+    const double fixed_rate = r.information_rate_bits;
+    qc_design_result_clear(&r);
+
+    c.gain_mode = QC_GAIN_BEST;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    assert_true(r.memory_evaluations >= 10);
+    assert_true(r.information_rate_bits >= fixed_rate - r.information_rate_ci_bits);
+    assert_true(r.information_rate_bits <= 4.0);
+    qc_design_result_clear(&r);
+
+    c.gain_mode = QC_GAIN_AGC;
+    c.agc_k = 2.0;
+    assert_int_equal(qc_design(&req, &r), QC_EINVAL);
+    assert_message("the AGC rule is applied to a real output with memory");
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -391,6 +451,7 @@ int main(void)
         cmocka_unit_test(test_taps_parse),
         cmocka_unit_test(test_coherent_errors),
         cmocka_unit_test(test_design_coherent),
+        cmocka_unit_test(test_converter_coherent),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
