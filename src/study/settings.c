@@ -458,3 +458,13 @@ const char *qc_settings_get(const qc_settings *s, const char *key)
     return NULL;
 }
 
+qc_status qc_settings_number(const qc_settings *s, const char *key, double fallback,
+                             double *out)
+{
+    const char *v = qc_settings_get(s, key);
+    *out = fallback;
+    if (!v)
+        return QC_OK;
+    qc_status st = qc_parse_double(v, out);
+    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
+}

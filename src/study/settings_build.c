@@ -88,23 +88,11 @@ static qc_status check_keys_apply(const qc_settings *s, const qc_model_type *typ
     return QC_OK;
 }
 
-/* Number under `key`, or `fallback` when absent. Values were checked by
- * qc_settings_set; parse errors here still name the key. */
-static qc_status number(const qc_settings *s, const char *key, double fallback, double *out)
-{
-    const char *v = qc_settings_get(s, key);
-    *out = fallback;
-    if (!v)
-        return QC_OK;
-    qc_status st = qc_parse_double(v, out);
-    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
-}
-
 static qc_status required(const qc_settings *s, const char *key, const char *why, double *out)
 {
     if (!qc_settings_get(s, key))
         return qc_fail(QC_EINVAL, "'%s' is required %s", key, why);
-    return number(s, key, NAN, out);
+    return qc_settings_number(s, key, NAN, out);
 }
 
 static qc_status parse_list_key(const qc_settings *s, const char *key, double **out, size_t *n)
@@ -124,18 +112,18 @@ static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
     qc_receiver_default(rx);
     double pa_per_rthz = NAN;
     qc_status st;
-    if ((st = number(s, "responsivity", rx->responsivity, &rx->responsivity)) != QC_OK ||
-        (st = number(s, "bandwidth", rx->bandwidth, &rx->bandwidth)) != QC_OK ||
-        (st = number(s, "thermal-density", NAN, &pa_per_rthz)) != QC_OK ||
-        (st = number(s, "load-resistance", rx->load_resistance, &rx->load_resistance)) != QC_OK ||
-        (st = number(s, "temperature", rx->temperature, &rx->temperature)) != QC_OK ||
-        (st = number(s, "dark-current", rx->dark_current, &rx->dark_current)) != QC_OK ||
-        (st = number(s, "apd-gain", rx->gain, &rx->gain)) != QC_OK ||
-        (st = number(s, "apd-k", rx->ionization_ratio, &rx->ionization_ratio)) != QC_OK)
+    if ((st = qc_settings_number(s, "responsivity", rx->responsivity, &rx->responsivity)) != QC_OK ||
+        (st = qc_settings_number(s, "bandwidth", rx->bandwidth, &rx->bandwidth)) != QC_OK ||
+        (st = qc_settings_number(s, "thermal-density", NAN, &pa_per_rthz)) != QC_OK ||
+        (st = qc_settings_number(s, "load-resistance", rx->load_resistance, &rx->load_resistance)) != QC_OK ||
+        (st = qc_settings_number(s, "temperature", rx->temperature, &rx->temperature)) != QC_OK ||
+        (st = qc_settings_number(s, "dark-current", rx->dark_current, &rx->dark_current)) != QC_OK ||
+        (st = qc_settings_number(s, "apd-gain", rx->gain, &rx->gain)) != QC_OK ||
+        (st = qc_settings_number(s, "apd-k", rx->ionization_ratio, &rx->ionization_ratio)) != QC_OK)
         return st;
     rx->thermal_density = pa_per_rthz; /* the front end takes pA/√Hz */
     double rin_db = -INFINITY;
-    if ((st = number(s, "rin-db-hz", rin_db, &rin_db)) != QC_OK)
+    if ((st = qc_settings_number(s, "rin-db-hz", rin_db, &rin_db)) != QC_OK)
         return st;
     rx->rin = pow(10.0, rin_db / 10.0); /* 0 without RIN */
     if (isnan(rx->responsivity))
@@ -154,12 +142,12 @@ static qc_status receiver_of(const qc_settings *s, qc_receiver *rx)
 static qc_status efficiency_of(const qc_settings *s, double lambda_nm, double *eta)
 {
     if (!qc_settings_get(s, "responsivity"))
-        return number(s, "efficiency", 1.0, eta);
+        return qc_settings_number(s, "efficiency", 1.0, eta);
     if (qc_settings_get(s, "efficiency"))
         return qc_fail(QC_EINVAL, "give 'efficiency' or 'responsivity' (which sets the "
                                   "efficiency at the wavelength), not both");
     double r;
-    qc_status st = number(s, "responsivity", NAN, &r);
+    qc_status st = qc_settings_number(s, "responsivity", NAN, &r);
     return st == QC_OK ? qc_responsivity_to_efficiency(r, lambda_nm * 1e-9, eta) : st;
 }
 
@@ -212,18 +200,18 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         qc_free_space_link_default(&fl);
         if ((st = required(s, "launch-dbm", "for the free-space link (the transmit power)",
                            &fl.transmit_dbm)) != QC_OK ||
-            (st = number(s, "range-km", NAN, &fl.range_km)) != QC_OK ||
+            (st = qc_settings_number(s, "range-km", NAN, &fl.range_km)) != QC_OK ||
             (st = required(s, "wavelength-nm", "for the free-space link", &fl.wavelength_nm)) !=
                 QC_OK ||
             (st = required(s, "tx-aperture-m", "for the free-space link", &fl.tx_aperture_m)) !=
                 QC_OK ||
             (st = required(s, "rx-aperture-m", "for the free-space link", &fl.rx_aperture_m)) !=
                 QC_OK ||
-            (st = number(s, "pointing-loss-db", 0.0, &fl.pointing_loss_db)) != QC_OK ||
-            (st = number(s, "atmosphere-loss-db", 0.0, &fl.atmosphere_loss_db)) != QC_OK ||
-            (st = number(s, "background-radiance", 0.0, &fl.background_radiance)) != QC_OK ||
-            (st = number(s, "field-of-view-mrad", NAN, &fl.field_of_view_mrad)) != QC_OK ||
-            (st = number(s, "filter-nm", NAN, &fl.filter_nm)) != QC_OK ||
+            (st = qc_settings_number(s, "pointing-loss-db", 0.0, &fl.pointing_loss_db)) != QC_OK ||
+            (st = qc_settings_number(s, "atmosphere-loss-db", 0.0, &fl.atmosphere_loss_db)) != QC_OK ||
+            (st = qc_settings_number(s, "background-radiance", 0.0, &fl.background_radiance)) != QC_OK ||
+            (st = qc_settings_number(s, "field-of-view-mrad", NAN, &fl.field_of_view_mrad)) != QC_OK ||
+            (st = qc_settings_number(s, "filter-nm", NAN, &fl.filter_nm)) != QC_OK ||
             (st = qc_free_space_link_eval(&fl, &fr)) != QC_OK)
             return st;
         dbm = fr.received_dbm;
@@ -236,22 +224,22 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         double loss;
         if ((st = required(s, "launch-dbm", "for the fibre link (average launch power)",
                            &il.launch_dbm)) != QC_OK ||
-            (st = number(s, "length-km", il.length_km, &il.length_km)) != QC_OK ||
-            (st = number(s, "loss-db-km", il.loss_db_km, &il.loss_db_km)) != QC_OK ||
-            (st = number(s, "connector-loss-db", 0.0, &il.connector_loss_db)) != QC_OK ||
-            (st = number(s, "splice-loss-db", 0.0, &il.splice_loss_db)) != QC_OK ||
-            (st = number(s, "penalty-db", 0.0, &il.penalty_db)) != QC_OK ||
+            (st = qc_settings_number(s, "length-km", il.length_km, &il.length_km)) != QC_OK ||
+            (st = qc_settings_number(s, "loss-db-km", il.loss_db_km, &il.loss_db_km)) != QC_OK ||
+            (st = qc_settings_number(s, "connector-loss-db", 0.0, &il.connector_loss_db)) != QC_OK ||
+            (st = qc_settings_number(s, "splice-loss-db", 0.0, &il.splice_loss_db)) != QC_OK ||
+            (st = qc_settings_number(s, "penalty-db", 0.0, &il.penalty_db)) != QC_OK ||
             (st = qc_intensity_link_received(&il, &dbm, &loss)) != QC_OK)
             return st;
         s->ilink.received_dbm = dbm;
         s->ilink.loss_db = loss;
-    } else if ((st = peak_given ? number(s, "peak-dbm", NAN, &dbm)
+    } else if ((st = peak_given ? qc_settings_number(s, "peak-dbm", NAN, &dbm)
                                 : required(s, "received-dbm",
                                            "(or 'peak-dbm') for the physical receiver",
                                            &dbm)) != QC_OK) {
         return st;
     }
-    if ((st = number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
+    if ((st = qc_settings_number(s, "extinction-db", INFINITY, &ext_db)) != QC_OK)
         return st;
     double *power = qc_malloc_array(nl, sizeof *power);
     if (!power)
@@ -283,7 +271,7 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         if ((st = required(s, "slot-time", "for photon counting (s)", &slot)) == QC_OK &&
             (st = required(s, "wavelength-nm", "for photon counting", &lambda_nm)) == QC_OK &&
             (st = efficiency_of(s, lambda_nm, &eta)) == QC_OK &&
-            (st = number(s, "dark-count-rate", 0.0, &dark)) == QC_OK &&
+            (st = qc_settings_number(s, "dark-count-rate", 0.0, &dark)) == QC_OK &&
             (st = background_photons(background_w, lambda_nm, eta, &dark)) == QC_OK)
             st = qc_frontend_poisson(power, nl, slot, lambda_nm * 1e-9, eta, dark, params,
                                      s->levels);
@@ -291,12 +279,12 @@ static qc_status physical_route(qc_settings *s, const qc_model_type *type, int i
         double lambda_nm, gain, nf, bo, pol;
         if ((st = required(s, "slot-time", "for the pre-amplified receiver (s)", &slot)) ==
                 QC_OK &&
-            (st = number(s, "wavelength-nm", 1550.0, &lambda_nm)) == QC_OK &&
+            (st = qc_settings_number(s, "wavelength-nm", 1550.0, &lambda_nm)) == QC_OK &&
             (st = required(s, "gain-db", "for the pre-amplified receiver", &gain)) == QC_OK &&
             (st = required(s, "nf-db", "for the pre-amplified receiver", &nf)) == QC_OK &&
             (st = required(s, "optical-bandwidth", "for the pre-amplified receiver (Hz)",
                            &bo)) == QC_OK &&
-            (st = number(s, "ase-polarizations", 2.0, &pol)) == QC_OK)
+            (st = qc_settings_number(s, "ase-polarizations", 2.0, &pol)) == QC_OK)
             st = qc_frontend_preamp(power, nl, slot, lambda_nm * 1e-9, gain, nf, bo, (int)pol,
                                     params, s->levels);
     } else if (st == QC_OK && type->frontend == QC_FRONTEND_APD) {
@@ -379,24 +367,24 @@ static qc_status fibre_route(qc_settings *s, const qc_model_type *type, size_t n
     qc_fibre_link_default(&l);
     double pol = 2.0, spans = NAN, length = NAN, channels = 1.0;
     qc_status st;
-    if ((st = number(s, "span-km", l.span_km, &l.span_km)) != QC_OK ||
-        (st = number(s, "spans", NAN, &spans)) != QC_OK ||
-        (st = number(s, "length-km", NAN, &length)) != QC_OK ||
-        (st = number(s, "loss-db-km", l.loss_db_km, &l.loss_db_km)) != QC_OK ||
+    if ((st = qc_settings_number(s, "span-km", l.span_km, &l.span_km)) != QC_OK ||
+        (st = qc_settings_number(s, "spans", NAN, &spans)) != QC_OK ||
+        (st = qc_settings_number(s, "length-km", NAN, &length)) != QC_OK ||
+        (st = qc_settings_number(s, "loss-db-km", l.loss_db_km, &l.loss_db_km)) != QC_OK ||
         (st = required(s, "nf-db", "for the amplified fibre link (amplifier noise figure)",
                        &l.nf_db)) != QC_OK ||
-        (st = number(s, "gain-db", l.gain_db, &l.gain_db)) != QC_OK ||
-        (st = number(s, "launch-dbm", l.launch_dbm, &l.launch_dbm)) != QC_OK ||
-        (st = number(s, "wavelength-nm", l.wavelength_nm, &l.wavelength_nm)) != QC_OK ||
+        (st = qc_settings_number(s, "gain-db", l.gain_db, &l.gain_db)) != QC_OK ||
+        (st = qc_settings_number(s, "launch-dbm", l.launch_dbm, &l.launch_dbm)) != QC_OK ||
+        (st = qc_settings_number(s, "wavelength-nm", l.wavelength_nm, &l.wavelength_nm)) != QC_OK ||
         (st = required(s, "symbol-rate", "for the amplified fibre link (baud)",
                        &l.symbol_rate)) != QC_OK ||
-        (st = number(s, "polarizations", pol, &pol)) != QC_OK ||
-        (st = number(s, "chromatic-dispersion", l.dispersion, &l.dispersion)) != QC_OK ||
-        (st = number(s, "gamma", l.gamma, &l.gamma)) != QC_OK ||
-        (st = number(s, "channels", channels, &channels)) != QC_OK ||
-        (st = number(s, "channel-spacing-ghz", l.spacing_ghz, &l.spacing_ghz)) != QC_OK ||
-        (st = number(s, "coherence", l.coherence, &l.coherence)) != QC_OK ||
-        (st = number(s, "transceiver-snr-db", l.transceiver_snr_db,
+        (st = qc_settings_number(s, "polarizations", pol, &pol)) != QC_OK ||
+        (st = qc_settings_number(s, "chromatic-dispersion", l.dispersion, &l.dispersion)) != QC_OK ||
+        (st = qc_settings_number(s, "gamma", l.gamma, &l.gamma)) != QC_OK ||
+        (st = qc_settings_number(s, "channels", channels, &channels)) != QC_OK ||
+        (st = qc_settings_number(s, "channel-spacing-ghz", l.spacing_ghz, &l.spacing_ghz)) != QC_OK ||
+        (st = qc_settings_number(s, "coherence", l.coherence, &l.coherence)) != QC_OK ||
+        (st = qc_settings_number(s, "transceiver-snr-db", l.transceiver_snr_db,
                      &l.transceiver_snr_db)) != QC_OK)
         return st;
     if (!isnan(spans) && !isnan(length))
@@ -432,7 +420,7 @@ static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size
     if (!isnan(params[si]))
         return qc_fail(QC_EINVAL, "give 'sigma' or '%s', not both", key);
     double db, snr;
-    qc_status st = number(s, key, NAN, &db);
+    qc_status st = qc_settings_number(s, key, NAN, &db);
     if (st != QC_OK)
         return st;
     if (strcmp(key, "snr-db") == 0) {
@@ -440,8 +428,8 @@ static qc_status snr_route(const qc_settings *s, const qc_model_type *type, size
     } else {
         double rs, bref, pol = 2.0;
         if ((st = required(s, "symbol-rate", "with 'osnr-db' (baud)", &rs)) != QC_OK ||
-            (st = number(s, "ref-bandwidth", QC_OSNR_REF_BANDWIDTH, &bref)) != QC_OK ||
-            (st = number(s, "polarizations", 2.0, &pol)) != QC_OK)
+            (st = qc_settings_number(s, "ref-bandwidth", QC_OSNR_REF_BANDWIDTH, &bref)) != QC_OK ||
+            (st = qc_settings_number(s, "polarizations", 2.0, &pol)) != QC_OK)
             return st;
         if ((st = qc_osnr_to_snr(db, bref, rs, (int)pol, &snr)) != QC_OK)
             return qc_fail(st, "osnr-db: %s", qc_last_error());
@@ -495,9 +483,9 @@ static qc_status constraints_of(qc_settings *s, const qc_model_type *type,
     qc_constraints_none(&s->constraints);
     qc_constraints *c = &s->constraints;
     qc_status st;
-    if ((st = number(s, "peak-limit", NAN, &c->peak)) != QC_OK ||
-        (st = number(s, "power-limit", NAN, &c->power)) != QC_OK ||
-        (st = number(s, "mean-limit", NAN, &c->mean)) != QC_OK)
+    if ((st = qc_settings_number(s, "peak-limit", NAN, &c->peak)) != QC_OK ||
+        (st = qc_settings_number(s, "power-limit", NAN, &c->power)) != QC_OK ||
+        (st = qc_settings_number(s, "mean-limit", NAN, &c->mean)) != QC_OK)
         return st;
     c->intensity = alpha->intensity || intensity_type(type);
     const char *v = qc_settings_get(s, "optimize-levels");
@@ -564,9 +552,9 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
         !isnan(s->constraints.mean))
         req->input.constraints = &s->constraints;
     req->input.optimize_levels = optimize;
-    if ((st = number(s, "level-starts", NAN, &starts)) != QC_OK ||
-        (st = number(s, "blocklength", NAN, &n)) != QC_OK ||
-        (st = number(s, "error-rate", NAN, &eps)) != QC_OK)
+    if ((st = qc_settings_number(s, "level-starts", NAN, &starts)) != QC_OK ||
+        (st = qc_settings_number(s, "blocklength", NAN, &n)) != QC_OK ||
+        (st = qc_settings_number(s, "error-rate", NAN, &eps)) != QC_OK)
         return st;
     if (!isnan(starts) && !optimize)
         return qc_fail(QC_EINVAL, "'level-starts' goes with 'optimize-levels'");
@@ -580,8 +568,8 @@ static qc_status design_options(qc_settings *s, unsigned dims, int optimize,
     }
     /* figures in the trade's units (src/design/figures.c) */
     double rs = NAN, pol = NAN;
-    if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
-        (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
+    if ((st = qc_settings_number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
+        (st = qc_settings_number(s, "polarizations", NAN, &pol)) != QC_OK)
         return st;
     req->channel.symbol_rate = isnan(rs) ? 0.0 : rs;
     /* the OSNR route's default (2) holds for the rates too */
@@ -658,7 +646,7 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
     const int coherent = det ? strcmp(det, "coherent") == 0 : (qam || cplx);
     if (!taps) {
         double rs = NAN;
-        if ((st = number(s, "symbol-rate", NAN, &rs)) != QC_OK)
+        if ((st = qc_settings_number(s, "symbol-rate", NAN, &rs)) != QC_OK)
             return st;
         if (coherent) {
             /* the most taps the trellis takes for this alphabet */
@@ -677,9 +665,9 @@ static qc_status memory_of(qc_settings *s, qc_design_request *req)
         }
     }
     double symbols = NAN, seed = NAN, rate_ci = NAN;
-    if ((st = number(s, "symbols", NAN, &symbols)) != QC_OK ||
-        (st = number(s, "seed", NAN, &seed)) != QC_OK ||
-        (st = number(s, "rate-ci", NAN, &rate_ci)) != QC_OK)
+    if ((st = qc_settings_number(s, "symbols", NAN, &symbols)) != QC_OK ||
+        (st = qc_settings_number(s, "seed", NAN, &seed)) != QC_OK ||
+        (st = qc_settings_number(s, "rate-ci", NAN, &rate_ci)) != QC_OK)
         return st;
     req->memory.rate_ci_bits = isnan(rate_ci) ? 0.0 : rate_ci;
     req->memory.taps = s->taps;

@@ -59,6 +59,12 @@ const char *qc_settings_plane_reason(const qc_settings *s);
 qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, const char *why,
                                   qc_model_cache *cache, const qc_model **model,
                                   qc_design_request *req);
+/* settings.c: the number under `key`, or `fallback` when absent (values
+ * were checked by qc_settings_set; a parse error here still names the
+ * key). */
+qc_status qc_settings_number(const qc_settings *s, const char *key, double fallback,
+                             double *out);
+
 /* model_cache.c: a model instance of the setting (of type with params,
  * or the measured table of the file `table`), from the cache (borrowed)
  * or new (the caller's) without one; qc_settings_model_put gives it back

@@ -59,16 +59,6 @@ const char *qc_settings_plane_reason(const qc_settings *s)
     return NULL;
 }
 
-static qc_status number(const qc_settings *s, const char *key, double fallback, double *out)
-{
-    const char *v = qc_settings_get(s, key);
-    *out = fallback;
-    if (!v)
-        return QC_OK;
-    qc_status st = qc_parse_double(v, out);
-    return st == QC_OK ? st : qc_fail(st, "%s: %s", key, qc_last_error());
-}
-
 static qc_status whole(const qc_settings *s, const char *key, size_t lo, size_t hi, size_t *out)
 {
     const char *v = qc_settings_get(s, key);
@@ -145,7 +135,7 @@ static qc_status sigma_of(const qc_settings *s, const qc_model_type *type, doubl
     if (!snr)
         return QC_OK;
     double db;
-    qc_status st = number(s, "snr-db", NAN, &db);
+    qc_status st = qc_settings_number(s, "snr-db", NAN, &db);
     if (st != QC_OK)
         return st;
     double sigma = sqrt(qc_plane_energy(s->plane) / (2.0 * pow(10.0, db / 10.0)));
@@ -230,7 +220,7 @@ static qc_status receiver_of(qc_settings *s, qc_design_request *req)
 static qc_status phase_noise_of(qc_settings *s)
 {
     double deg;
-    qc_status st = number(s, "phase-noise-deg", 0.0, &deg);
+    qc_status st = qc_settings_number(s, "phase-noise-deg", 0.0, &deg);
     if (st != QC_OK)
         return st;
     const char *law = qc_settings_get(s, "phase-noise-law");
@@ -276,7 +266,7 @@ qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, con
         params[i] = NAN;
     for (size_t i = 0; i < s->n; i++) {
         int idx = qc_model_param_index(type, s->key[i]);
-        if (idx >= 0 && (st = number(s, s->key[i], NAN, &params[idx])) != QC_OK)
+        if (idx >= 0 && (st = qc_settings_number(s, s->key[i], NAN, &params[idx])) != QC_OK)
             return st;
     }
     memset(&s->iq, 0, sizeof s->iq);
@@ -312,9 +302,9 @@ qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, con
                                   "cells) or fixed (thresholds of the I/Q pair)",
                        qc_quantizer_name(req->quantizer.kind));
     double tol = NAN, rs = NAN, pol = NAN;
-    if ((st = number(s, "tol", NAN, &tol)) != QC_OK ||
-        (st = number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
-        (st = number(s, "polarizations", NAN, &pol)) != QC_OK)
+    if ((st = qc_settings_number(s, "tol", NAN, &tol)) != QC_OK ||
+        (st = qc_settings_number(s, "symbol-rate", NAN, &rs)) != QC_OK ||
+        (st = qc_settings_number(s, "polarizations", NAN, &pol)) != QC_OK)
         return st;
     if (!isnan(tol))
         req->numerics.tol_bits = tol;
@@ -346,8 +336,8 @@ qc_status qc_settings_plane_channel(qc_settings *s, int search_labels, const qc_
         return st;
     if (qc_settings_get(s, "snr-db") && qc_settings_get(s, "sigma"))
         return qc_fail(QC_EINVAL, "give 'sigma' or 'snr-db', not both");
-    if ((st = number(s, "snr-db", NAN, &db)) != QC_OK ||
-        (st = number(s, "sigma", NAN, &sigma)) != QC_OK)
+    if ((st = qc_settings_number(s, "snr-db", NAN, &db)) != QC_OK ||
+        (st = qc_settings_number(s, "sigma", NAN, &sigma)) != QC_OK)
         return st;
     const double es = qc_plane_energy(s->plane);
     if (!isnan(db)) {
