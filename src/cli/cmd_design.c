@@ -490,7 +490,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     if (r->cells_used && r->cells_used < r->cells)
         fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
-        fprintf(f, ", fine grid %zu cells", r->fine_cells);
+        fprintf(f, ", DP grid %zu cells", r->fine_cells);
     if (r->decisions_kept)
         fprintf(f, ", keeps the %zu MAP decision boundar%s", r->decisions_kept,
                 r->decisions_kept == 1 ? "y" : "ies");
