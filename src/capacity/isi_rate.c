@@ -88,6 +88,35 @@ static size_t cell_of(const double *thr, size_t n, double y)
     return lo;
 }
 
+/* One step of the forward recursion from the weights w: the messages
+ * advance (*a and *next swap); returns the step's normaliser λ. */
+static double advance(const qc_isi_channel *ch, double **a, double **next, const double *w)
+{
+    const double lambda = qc_isi_forward_step(ch, *a, w, *next);
+    double *tmp = *a;
+    *a = *next;
+    *next = tmp;
+    return lambda;
+}
+
+/* The continuous-output step once b->eu holds the log-weights (largest
+ * emax) of every window: weights exp(e − emax), a forward step, and, for
+ * a counted symbol, log p(y | t) − log Σ = (e_t − logp) − (log λ + emax)
+ * into *sum_u (the common Gaussian constant cancels). 0 when the
+ * likelihood vanished. */
+static int unquantized_step(const qc_isi_channel *ch, batch_ws *b, double emax, size_t t,
+                            size_t x, int counted, double *sum_u)
+{
+    for (size_t j = 0; j < ch->T; j++)
+        b->wu[j] = exp(b->eu[j] - emax);
+    const double lam_u = advance(ch, &b->au, &b->nu, b->wu);
+    if (!(lam_u > 0.0))
+        return 0;
+    if (counted)
+        *sum_u += (b->eu[t] - ch->logp[x]) - (log(lam_u) + emax);
+    return 1;
+}
+
 /* One batch: warm-up, then `count` counted symbols. lik[y·T + t] =
  * p(x_t)·P(y | t) are the quantized step weights. */
 static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
@@ -116,10 +145,7 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
             b->twin[k] = (uint32_t)t;
         }
         /* quantized */
-        const double lam_q = qc_isi_forward_step(ch, b->aq, lik + c * T, b->nq);
-        double *tmp = b->aq;
-        b->aq = b->nq;
-        b->nq = tmp;
+        const double lam_q = advance(ch, &b->aq, &b->nq, lik + c * T);
         const double ptrue = pq[t * K + c];
         if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
             b->failed = 1;
@@ -136,20 +162,10 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
                 b->eu[j] = e;
                 emax = e > emax ? e : emax;
             }
-            for (size_t j = 0; j < T; j++)
-                b->wu[j] = exp(b->eu[j] - emax);
-            const double lam_u = qc_isi_forward_step(ch, b->au, b->wu, b->nu);
-            tmp = b->au;
-            b->au = b->nu;
-            b->nu = tmp;
-            if (!(lam_u > 0.0)) {
+            if (!unquantized_step(ch, b, emax, t, x, k >= warmup, &sum_u)) {
                 b->failed = 1;
                 return;
             }
-            /* log p(y | t) − log Σ = (e_t − logp) − (log λ + emax); the
-             * common −½·log 2π cancels */
-            if (k >= warmup)
-                sum_u += (b->eu[t] - ch->logp[x]) - (log(lam_u) + emax);
         }
     }
     b->est_q = sum_q / (double)count;
@@ -204,10 +220,7 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
         const double *li = lik + ci * T, *lq = pq_t + cq * T;
         for (size_t j = 0; j < T; j++)
             b->wq[j] = li[j] * lq[j];
-        const double lam_q = qc_isi_forward_step(ch, b->aq, b->wq, b->nq);
-        double *tmp = b->aq;
-        b->aq = b->nq;
-        b->nq = tmp;
+        const double lam_q = advance(ch, &b->aq, &b->nq, b->wq);
         const double ptrue = pi[t * K + ci] * pq[t * K + cq];
         if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
             b->failed = 1;
@@ -224,18 +237,10 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
                 b->eu[j] = e;
                 emax = e > emax ? e : emax;
             }
-            for (size_t j = 0; j < T; j++)
-                b->wu[j] = exp(b->eu[j] - emax);
-            const double lam_u = qc_isi_forward_step(ch, b->au, b->wu, b->nu);
-            tmp = b->au;
-            b->au = b->nu;
-            b->nu = tmp;
-            if (!(lam_u > 0.0)) {
+            if (!unquantized_step(ch, b, emax, t, x, k >= warmup, &sum_u)) {
                 b->failed = 1;
                 return;
             }
-            if (k >= warmup)
-                sum_u += (b->eu[t] - ch->logp[x]) - (log(lam_u) + emax);
         }
     }
     b->est_q = sum_q / (double)count;

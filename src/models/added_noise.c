@@ -229,38 +229,35 @@ static double sum_counts(const noise_state *s, double x, double t, int upper)
     return acc;
 }
 
-static double noise_below(const qc_model *m, double x, double t)
+/* The tail below t (upper = 0) or from t up (upper = 1), as the model
+ * type's below and above define them. */
+static double noise_tail(const qc_model *m, double x, double t, int upper)
 {
     const noise_state *s = state_of(m);
     const qc_model *b = s->base;
     if (gaussian_law(s)) {
         double mu, sd;
         gaussian_of(s, x, &mu, &sd);
-        return gsl_cdf_gaussian_P(t - mu, sd);
+        return upper ? gsl_cdf_gaussian_Q(t - mu, sd) : gsl_cdf_gaussian_P(t - mu, sd);
     }
+    const qc_model_type *bt = b->type;
     if (counts(s))
-        return s->sigma > 0.0 ? sum_counts(s, x, t, 0) : b->type->below(b, x, ceil(t));
+        return s->sigma > 0.0 ? sum_counts(s, x, t, upper)
+                              : (upper ? bt->above : bt->below)(b, x, ceil(t));
     if (!(s->sigma > 0.0))
-        return b->type->below(b, x, t);
+        return (upper ? bt->above : bt->below)(b, x, t);
     const level_grid *g = grid_of(m, x);
-    return g ? grid_read(g, g->below, t) : NAN;
+    return g ? grid_read(g, upper ? g->above : g->below, t) : NAN;
+}
+
+static double noise_below(const qc_model *m, double x, double t)
+{
+    return noise_tail(m, x, t, 0);
 }
 
 static double noise_above(const qc_model *m, double x, double t)
 {
-    const noise_state *s = state_of(m);
-    const qc_model *b = s->base;
-    if (gaussian_law(s)) {
-        double mu, sd;
-        gaussian_of(s, x, &mu, &sd);
-        return gsl_cdf_gaussian_Q(t - mu, sd);
-    }
-    if (counts(s))
-        return s->sigma > 0.0 ? sum_counts(s, x, t, 1) : b->type->above(b, x, ceil(t));
-    if (!(s->sigma > 0.0))
-        return b->type->above(b, x, t);
-    const level_grid *g = grid_of(m, x);
-    return g ? grid_read(g, g->above, t) : NAN;
+    return noise_tail(m, x, t, 1);
 }
 
 static double noise_density(const qc_model *m, double x, double y)
