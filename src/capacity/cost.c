@@ -99,8 +99,8 @@ static double envelope_gap(double s, void *p)
  * envelope meets the rising one: that crossing is bracketed by doubling
  * and found with GSL's Brent solver. Any s gives a valid bound, so a
  * solver failure only costs tightness. */
-static double dual_bound(const double *d, const double *c, double beta,
-                         size_t nx, double *s_best)
+double ba_dual_bound(const double *d, const double *c, double beta, size_t nx,
+                     double *s_best)
 {
     dual_lines l = {d, c, beta, nx};
     double fall, rise, lo = 0.0, hi = 1.0;
@@ -324,6 +324,43 @@ static void fill_result(qc_capacity_result *res, double mi, double upper,
     res->multiplier = s;
 }
 
+/* The final law in ws->r with the budget active: exact I, cost within
+ * the budget, the tightest multiplier over every input; `bound` is an
+ * upper bound found on the way, `status` QC_ENOCONV when the search
+ * stopped at the iteration limit. */
+static qc_status certify(qc_ba_workspace *ws, const qc_ba_options *opt, size_t cheapest,
+                         double s_final, double bound, size_t used, qc_status status,
+                         qc_capacity_result *res)
+{
+    const double *c = opt->costs, beta = opt->budget;
+    ba_tilt final_tilt = {c, s_final, beta};
+    ba_outcome o = {.upper = INFINITY};
+    ba_evaluate(ws, &final_tilt, &o);
+    if (o.cost > beta) {
+        enforce_budget(ws, c, beta, cheapest, o.cost);
+        ba_evaluate(ws, &final_tilt, &o);
+    }
+    double s_dual;
+    double upper = fmin(bound, ba_dual_bound(ws->d, c, beta, ws->nx, &s_dual));
+    /* Report the multiplier that certifies the bound at the final law:
+     * it is the slope of C(β) to the accuracy of that law, while the
+     * search's s is only known to the resolution of the cost. */
+    fill_result(res, o.mi, upper, used, 1, o.cost, s_dual);
+    if (status == QC_ENOCONV)
+        return qc_fail(QC_ENOCONV,
+                       "capacity-cost: iteration limit %zu reached with bounds "
+                       "%.12g <= C <= %.12g bits at cost %.12g (budget %.12g)",
+                       opt->max_iterations, res->capacity_bits,
+                       res->upper_bound_bits, res->cost, beta);
+    if (res->gap_bits > opt->tol_bits)
+        return qc_fail(QC_ENOCONV,
+                       "capacity-cost: certified gap %.3g bits above the "
+                       "tolerance %.3g (bounds %.12g <= C <= %.12g)",
+                       res->gap_bits, opt->tol_bits, res->capacity_bits,
+                       res->upper_bound_bits);
+    return QC_OK;
+}
+
 qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
                            qc_capacity_result *res)
 {
@@ -341,6 +378,23 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
                        beta, cmin, cheapest + 1);
 
     const double tol = opt->tol_bits / QC_LOG2E;
+    size_t newton_steps = 0;
+    if (opt->prune && nx >= BA_PRUNE_MIN_INPUTS && beta > cmin) {
+        /* Many candidates: the active-set solve (cost_newton.c) first;
+         * if it does not certify, the search below runs from the same
+         * start as if it had not been tried. */
+        memcpy(ws->r_hi, ws->r, nx * sizeof *ws->r);
+        ba_newton_result nr;
+        if (ba_cost_newton(ws, c, beta, cheapest, tol, &nr)) {
+            if (nr.active)
+                return certify(ws, opt, cheapest, nr.multiplier, nr.upper, nr.steps, QC_OK,
+                               res);
+            fill_result(res, nr.mi, nr.upper, nr.steps, 0, nr.cost, 0.0);
+            return QC_OK;
+        }
+        newton_steps = nr.steps;
+        memcpy(ws->r, ws->r_hi, nx * sizeof *ws->r);
+    }
     search se = {.ws = ws, .opt = opt, .tol = 0.5 * tol, .bound = INFINITY,
                  .target = SEARCH_RTOL * beta, .s_rtol = S_RTOL, .status = QC_OK};
 
@@ -349,7 +403,7 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
     ba_tilt free_tilt = {c, 0.0, beta};
     ba_outcome o;
     ba_solve(ws, &free_tilt, tol, opt->method, opt->max_iterations, opt->prune, &o);
-    se.used = o.iterations;
+    se.used = o.iterations + newton_steps;
     if (o.failed)
         return qc_fail(QC_ENUMERIC, "Blahut-Arimoto produced a non-finite bound");
     se.bound = o.upper;
@@ -423,31 +477,5 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
     if (se.status == QC_ENUMERIC)
         return se.status;
 
-    /* Final law: exact I, cost within budget, tightest multiplier. */
-    ba_tilt final_tilt = {c, s_final, beta};
-    o.upper = INFINITY;
-    ba_evaluate(ws, &final_tilt, &o);
-    if (o.cost > beta) {
-        enforce_budget(ws, c, beta, cheapest, o.cost);
-        ba_evaluate(ws, &final_tilt, &o);
-    }
-    double s_dual;
-    double upper = fmin(se.bound, dual_bound(ws->d, c, beta, nx, &s_dual));
-    /* Report the multiplier that certifies the bound at the final law:
-     * it is the slope of C(β) to the accuracy of that law, while the
-     * search's s is only known to the resolution of the cost. */
-    fill_result(res, o.mi, upper, se.used, 1, o.cost, s_dual);
-    if (se.status == QC_ENOCONV)
-        return qc_fail(QC_ENOCONV,
-                       "capacity-cost: iteration limit %zu reached with bounds "
-                       "%.12g <= C <= %.12g bits at cost %.12g (budget %.12g)",
-                       opt->max_iterations, res->capacity_bits,
-                       res->upper_bound_bits, res->cost, beta);
-    if (res->gap_bits > opt->tol_bits)
-        return qc_fail(QC_ENOCONV,
-                       "capacity-cost: certified gap %.3g bits above the "
-                       "tolerance %.3g (bounds %.12g <= C <= %.12g)",
-                       res->gap_bits, opt->tol_bits, res->capacity_bits,
-                       res->upper_bound_bits);
-    return QC_OK;
+    return certify(ws, opt, cheapest, s_final, se.bound, se.used, se.status, res);
 }

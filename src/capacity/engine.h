@@ -110,6 +110,35 @@ void ba_evaluate(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *out);
 void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
                   const double *coef, double log_floor);
 
+/* Inputs below this count: plain runs, no candidate elimination and no
+ * active-set solve (prune.c, cost.c). */
+#define BA_PRUNE_MIN_INPUTS 32
+
+/* Upper bound min_{s ≥ 0} max_x [d_x − s·(c_x − β)] (cost.c) from the
+ * divergences d at some output law; *s_best receives the minimizing s. */
+double ba_dual_bound(const double *d, const double *c, double beta, size_t nx,
+                     double *s_best);
+
+/* What the active-set solve (cost_newton.c) found, in nats. */
+typedef struct {
+    double mi;         /* I(r) at its law (a lower bound)                  */
+    double upper;      /* the certified upper bound over every input        */
+    double cost;       /* Σ r c at its law                                  */
+    double multiplier; /* the s of the upper bound (0 when not active)      */
+    int active;        /* the budget binds                                  */
+    size_t steps;      /* Newton steps taken                                */
+} ba_newton_result;
+
+/* Capacity under the one cost c with budget β (cheapest: an input of
+ * least cost, below β) by Newton steps on a small active set, every
+ * candidate priced (cost_newton.c). Starts from the law in ws->r (a warm
+ * start: its clearly supported inputs) on a prepared workspace. Returns
+ * 1 with the law in ws->r when the certified gap over all inputs is
+ * within a small fraction of tol_nats and the law meets the budget (up
+ * to rounding); 0 otherwise (ws->r is then scratch). */
+int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
+                   double tol_nats, ba_newton_result *out);
+
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res
  * and leaves the final law in ws->r. */

@@ -45,8 +45,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Fewer inputs than this: plain runs (the test costs two passes). */
-#define PRUNE_MIN_INPUTS 32
+/* Fewer inputs than BA_PRUNE_MIN_INPUTS (engine.h): plain runs (the
+ * test costs two passes). */
 /* Full iterations before the first test; the chunk doubles after each
  * test that keeps too many. */
 #define FIRST_CHUNK 8
@@ -163,7 +163,7 @@ size_t ba_survivors(qc_ba_workspace *ws, double lower)
 void ba_solve(qc_ba_workspace *ws, const ba_tilt *tilt, double tol_nats,
               qc_ba_method method, size_t max_iterations, int prune, ba_outcome *out)
 {
-    if (!prune || ws->nx < PRUNE_MIN_INPUTS) {
+    if (!prune || ws->nx < BA_PRUNE_MIN_INPUTS) {
         ba_run(ws, tilt, tol_nats, method, max_iterations, out);
         return;
     }
