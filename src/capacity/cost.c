@@ -385,12 +385,19 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
          * start as if it had not been tried. */
         memcpy(ws->r_hi, ws->r, nx * sizeof *ws->r);
         ba_newton_result nr;
-        if (ba_cost_newton(ws, c, beta, cheapest, tol, &nr)) {
+        if (ba_cost_newton(ws, c, beta, cheapest, tol, opt->max_iterations, &nr)) {
+            /* the certificate is formed afresh from the law's scores over
+             * every input; nothing the solve computed is taken on trust */
             if (nr.active)
-                return certify(ws, opt, cheapest, nr.multiplier, nr.upper, nr.steps, QC_OK,
+                return certify(ws, opt, cheapest, nr.multiplier, INFINITY, nr.steps, QC_OK,
                                res);
-            fill_result(res, nr.mi, nr.upper, nr.steps, 0, nr.cost, 0.0);
-            return QC_OK;
+            ba_tilt free_tilt = {c, 0.0, beta};
+            ba_outcome fo = {.upper = INFINITY};
+            ba_evaluate(ws, &free_tilt, &fo);
+            if (!fo.failed && fo.cost <= beta && fo.upper - fo.mi <= tol) {
+                fill_result(res, fo.mi, fo.upper, nr.steps, 0, fo.cost, 0.0);
+                return QC_OK;
+            }
         }
         newton_steps = nr.steps;
         memcpy(ws->r, ws->r_hi, nx * sizeof *ws->r);
@@ -402,7 +409,8 @@ qc_status ba_capacity_cost(qc_ba_workspace *ws, const qc_ba_options *opt,
      * constraint is inactive. */
     ba_tilt free_tilt = {c, 0.0, beta};
     ba_outcome o;
-    ba_solve(ws, &free_tilt, tol, opt->method, opt->max_iterations, opt->prune, &o);
+    ba_solve(ws, &free_tilt, tol, opt->method, opt->max_iterations - newton_steps, opt->prune,
+             &o);
     se.used = o.iterations + newton_steps;
     if (o.failed)
         return qc_fail(QC_ENUMERIC, "Blahut-Arimoto produced a non-finite bound");

@@ -292,7 +292,7 @@ static void release(active_set *as)
 }
 
 int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
-                   double tol_nats, ba_newton_result *out)
+                   double tol_nats, size_t max_steps, ba_newton_result *out)
 {
     const size_t nx = ws->nx;
     active_set as = {.ws = ws, .c = c, .beta = beta, .with_cost = 1};
@@ -317,7 +317,7 @@ int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t che
     ba_evaluate(ws, &tilt, &o);
     size_t stalls = 0;
     double mi_added = -INFINITY; /* I when an input last joined S */
-    for (size_t step = 0; step < MAX_STEPS && !o.failed; step++) {
+    for (size_t step = 0; step < max_steps && step < MAX_STEPS && !o.failed; step++) {
         out->steps = step + 1;
         double nu1, nu2;
         if (!newton_step(&as, &nu1, &nu2))

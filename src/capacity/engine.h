@@ -132,12 +132,13 @@ typedef struct {
 /* Capacity under the one cost c with budget β (cheapest: an input of
  * least cost, below β) by Newton steps on a small active set, every
  * candidate priced (cost_newton.c). Starts from the law in ws->r (a warm
- * start: its clearly supported inputs) on a prepared workspace. Returns
+ * start: its clearly supported inputs) on a prepared workspace, at most
+ * max_steps steps (out->steps says how many were taken). Returns
  * 1 with the law in ws->r when the certified gap over all inputs is
  * within a small fraction of tol_nats and the law meets the budget (up
  * to rounding); 0 otherwise (ws->r is then scratch). */
 int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
-                   double tol_nats, ba_newton_result *out);
+                   double tol_nats, size_t max_steps, ba_newton_result *out);
 
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res
