@@ -7,15 +7,16 @@
  * optimal laws are the laws r ≥ 0 with rP = q*, Σ r c = β that put mass
  * only where the tilted score D(P(·|x) ‖ q*) − s·c_x is largest
  * (Kuhn–Tucker: R. E. Blahut, IEEE Trans. IT 18(4), 1972, Thm 9). Those
- * laws form a polytope cut out by ny + 1 linear equations, so one of its
- * vertices has at most ny + 1 mass points (Carathéodory; H. S.
- * Witsenhausen, "Some aspects of convexity useful in information
- * theory", IEEE Trans. IT 26(3), 1980): with K output cells, at most
- * K + 1 of the candidates carry mass.
+ * laws form a polytope {r ≥ 0 : Ar = b} cut out by ny + 1 linear
+ * equations, so one of its vertices (a basic feasible point: J. Nocedal
+ * and S. J. Wright, Numerical Optimization, 2nd ed., Springer 2006,
+ * ch. 13) has at most ny + 1 mass points: with K output cells, at most
+ * K + 1 of the candidates carry mass (for the quantized Gaussian
+ * channel: J. Singh, O. Dabeer and U. Madhow, IEEE Trans. Commun.
+ * 57(12), 2009).
  *
- * The method is a primal active-set method (J. Nocedal and S. J.
- * Wright, Numerical Optimization, 2nd ed., Springer 2006, ch. 16) on the
- * concave objective: on the active set S, one Newton step of the
+ * The method is a primal active-set method (Nocedal and Wright, ch. 16)
+ * on the concave objective: on the active set S, one Newton step of the
  * equality-constrained problem (gradient D_x, Hessian −Σ_y P(y|x)P(y|z)
  * / q(y), the constraints Σ r = 1 and Σ r c = β as a bordered system,
  * solved by GSL's LU), cut back to stay in r ≥ 0 (an input that reaches
@@ -27,10 +28,11 @@
  * restricted problem instead of Blahut–Arimoto runs.
  *
  * Nothing here is trusted: the law found is a law on all inputs that
- * meets the budget, so I(r) is a lower bound, and the caller's dual
- * bound min_{s ≥ 0} max_x [D(P(·|x) ‖ rP) − s·(c_x − β)] over every
- * input is the upper bound. The method reports success only when that
- * certified gap is below a small fraction of the tolerance; otherwise
+ * meets the budget, so I(r) is a lower bound, and the dual bound
+ * min_{s ≥ 0} max_x [D(P(·|x) ‖ rP) − s·(c_x − β)] over every input,
+ * which the caller forms again from the final law, is the upper bound.
+ * The method reports success only when that gap is below a small
+ * fraction of the tolerance; otherwise
  * the caller runs its multiplier search as if this had not been tried.
  * If the multiplier comes out negative (the budget does not bind on the
  * optimum), the cost constraint is dropped and the same steps solve the

@@ -26,8 +26,10 @@ typedef struct {
     const double *costs;   /* per-input cost (length nx), NULL: none        */
     double budget;         /* average cost allowed, used when costs != NULL */
     int prune;             /* set aside inputs that certifiably carry no mass
-                              at the optimum (default 1; the bounds always
-                              cover every input; docs/methods.md)         */
+                              at the optimum, and with one cost solve on a
+                              small active set priced over all inputs
+                              (32 inputs and more; default 1; the bounds
+                              always cover every input; docs/methods.md) */
 } qc_ba_options;
 
 /* Fill opt with the defaults noted above (no start law, no costs).
@@ -38,7 +40,8 @@ typedef struct {
     double capacity_bits;    /* certified lower bound: I(r) at the final r */
     double upper_bound_bits; /* certified upper bound on capacity          */
     double gap_bits;         /* upper − lower at stop                      */
-    size_t iterations;       /* BA iterations (summed over multiplier search) */
+    size_t iterations;       /* BA iterations (summed over multiplier search),
+                                with the Newton steps of an active-set solve */
     int cost_active;         /* 1 if the budget constraint binds           */
     double cost;             /* average cost Σ r(x)c(x) (0 without costs)  */
     double multiplier;       /* Lagrange multiplier s, nats per unit cost  */

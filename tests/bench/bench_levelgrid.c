@@ -2,9 +2,13 @@
  * problem under `design --level-grid ... --objective capacity
  * --power-limit`): Gaussian noise, a 2-bit quantizer at fixed
  * thresholds, 1024 and 4096 candidate levels on [-1, 1], power budget
- * 0.5, tolerance 1e-9 bit; with candidate elimination against without
- * (without only at 1024: at 4096 it takes minutes). One line per case:
- * time, iterations, certified bounds, and the ratio in this run. */
+ * 0.5, tolerance 1e-9 bit; the default engine ("pruned": with one cost
+ * on 32 candidates or more, the active-set Newton solve priced over every
+ * candidate, cost_newton.c, then the certificate over all of them)
+ * against prune = 0 (the multiplier search on all inputs; only at 1024:
+ * at 4096 it takes minutes). One line per case: time, iterations (Newton
+ * steps for the active-set solve), certified bounds, and the ratio in
+ * this run. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>

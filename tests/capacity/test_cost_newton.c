@@ -4,8 +4,10 @@
  * elimination (the multiplier search on all inputs), its upper bound is
  * at least the mutual information of that engine's law computed
  * independently, its law meets the budget and has at most K + 1 mass
- * points for K output cells (Carathéodory; H. S. Witsenhausen, IEEE
- * Trans. IT 26(3), 1980), and it gets there in a few hundred steps. */
+ * points for K output cells (a basic feasible point of the optimal
+ * laws' polytope: J. Nocedal and S. J. Wright, Numerical Optimization,
+ * Springer 2006, ch. 13; J. Singh, O. Dabeer and U. Madhow, IEEE Trans.
+ * Commun. 57(12), 2009), and it gets there in a few hundred steps. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
