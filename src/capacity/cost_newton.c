@@ -45,8 +45,11 @@
 
 #include <gsl/gsl_linalg.h>
 
-/* Newton steps (each one pass over the matrix) before giving up. */
-#define MAX_STEPS 400
+/* Newton steps (each one pass over the matrix) before giving up:
+ * STEPS_BASE + STEPS_PER_OUTPUT·ny (from a flat start every one of the
+ * up to ny + 1 mass points has to be found and moved into place). */
+#define STEPS_BASE 200
+#define STEPS_PER_OUTPUT 50
 /* Success: certified gap below this fraction of the tolerance. */
 #define GAP_FRACTION 1e-2
 /* Relative ridge on the Hessian, so that the bordered system stays
@@ -319,7 +322,8 @@ int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t che
     ba_evaluate(ws, &tilt, &o);
     size_t stalls = 0;
     double mi_added = -INFINITY; /* I when an input last joined S */
-    for (size_t step = 0; step < max_steps && step < MAX_STEPS && !o.failed; step++) {
+    const size_t cap_steps = STEPS_BASE + STEPS_PER_OUTPUT * ws->ny;
+    for (size_t step = 0; step < max_steps && step < cap_steps && !o.failed; step++) {
         out->steps = step + 1;
         double nu1, nu2;
         if (!newton_step(&as, &nu1, &nu2))
