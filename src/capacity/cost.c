@@ -17,7 +17,12 @@
  * so every tilted run yields an upper bound, and at the final law the
  * tightest s is found exactly (a convex piecewise-linear function of
  * s). The lower bound is I(r) at the final law, which meets the
- * budget. */
+ * budget.
+ *
+ * With 32 inputs or more (and elimination on), the active-set solve of
+ * cost_newton.c runs first; the same certificate is then formed from
+ * its law, and the search here runs only when that solve does not
+ * certify. */
 #include "capacity/engine.h"
 
 #include <math.h>
