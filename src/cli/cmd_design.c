@@ -139,8 +139,13 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
         fprintf(f, "QAM          rates per complex symbol: two quadratures with these "
                    "levels and thresholds\n");
     if (isfinite(r->gmi_bits))
-        fprintf(f, "GMI          %.9f %s   BICM, Gray labels; MI of the law %.9f %s\n",
-                r->gmi_bits, unit, r->mi_bits, unit);
+        fprintf(f, "GMI          %.9f %s   BICM, Gray labels%s; MI of the law %.9f %s\n",
+                r->gmi_bits, unit,
+                r->gmi_bits == 0.0 && r->mi_bits > 0.0
+                    ? " (the bit-metric rate H(X) - sum of H(B|Y) is not positive for "
+                      "this law: its label bits are strongly dependent)"
+                    : "",
+                r->mi_bits, unit);
     fprintf(f, "dispersion   %.6g bit^2", r->dispersion_bits2);
     if (r->blocklength)
         fprintf(f, "   rate at n = %zu %s, block error probability %.3g: %.9f %s (normal "

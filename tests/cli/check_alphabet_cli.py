@@ -125,5 +125,13 @@ for needle in ("per complex symbol", "GMI", "dispersion", "normal approximation"
                "shaping gap", "BICM GMI with Gray labels"):
     check(needle in out, f"text output mentions '{needle}'")
 
+# A law on a wide level grid can make the bit-metric rate [H(X) - sum_b
+# H(B_b|Y)]+ (Bocherer, arXiv 1410.8075, 2014) zero: the text says why.
+rc, out, _ = run("design", "--model", "gauss", "--sigma", "0.5", "--level-grid", "-1,1,64",
+                 "--objective", "capacity", "--power-limit", "0.5", "--bits", "2")
+gmi = [l for l in out.splitlines() if l.startswith("GMI")]
+check(rc == 0 and gmi and gmi[0].split()[1] == "0.000000000" and "not positive" in gmi[0],
+      f"a zero GMI is explained in the text ({gmi})")
+
 print(f"{tally.count} checks, {len(tally.failures)} failures")
 sys.exit(1 if tally.failures else 0)
