@@ -114,7 +114,7 @@ void ba_sweep_law(qc_ba_workspace *ws, const size_t *rows, size_t nrows,
  * active-set solve (prune.c, cost.c). */
 #define BA_PRUNE_MIN_INPUTS 32
 
-/* Upper bound min_{s ≥ 0} max_x [d_x − s·(c_x − β)] (cost.c) from the
+/* Upper bound min_{s ≥ 0} max_x [d_x − s·(c_x − β)] (dual_bound.c) from the
  * divergences d at some output law; *s_best receives the minimizing s. */
 double ba_dual_bound(const double *d, const double *c, double beta, size_t nx,
                      double *s_best);
