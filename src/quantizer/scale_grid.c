@@ -31,7 +31,9 @@
 #include <string.h>
 
 #define COARSE_PER_CELL 2      /* grid cells per quantizer cell, at least */
-#define COARSE_PER_SCALE 1.0   /* grid cells per unit of u (per local σ) */
+#define SCALE_CELLS_MIN 1.0 /* grid cells per unit of u (per local σ) at K ≤ 8 … */
+#define SCALE_CELLS_MAX 4.0 /* … and at most */
+#define SCALE_CELLS_PER_K 0.25 /* … growing as K/4 in between */
 #define TAIL_FLAT 2.0          /* σ beyond the outer mean with s constant */
 #define SUPPORT_PER_SCALE 16.6 /* support width per σ (gauss.c's ±8.3σ) */
 
@@ -135,6 +137,13 @@ static double scale_map_width(const scale_map *s, double *w)
     return total;
 }
 
+/* Grid cells per unit of u for K cells: min(4, max(1, K/4)). */
+static double scale_cells(size_t cells)
+{
+    double c = SCALE_CELLS_PER_K * (double)cells;
+    return c < SCALE_CELLS_MIN ? SCALE_CELLS_MIN : c > SCALE_CELLS_MAX ? SCALE_CELLS_MAX : c;
+}
+
 size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
                        size_t nlevels, size_t cells)
 {
@@ -143,7 +152,7 @@ size_t qc_coarse_cells(const qc_model *model, const double *levels, const double
     double *w = NULL, want = NAN;
     if (scale_map_build(model, levels, input, nlevels, &s) == QC_OK &&
         (w = qc_malloc_array(s.n + 1, sizeof *w)) != NULL)
-        want = COARSE_PER_SCALE * scale_map_width(&s, w);
+        want = scale_cells(cells) * scale_map_width(&s, w);
     free(w);
     free(s.k);
     if (isfinite(want) && want > (double)n)

@@ -219,8 +219,8 @@ static double u_width(const double *mu, const double *sd, size_t n, double lo, d
     return u;
 }
 
-/* The grid sizes: max(2K, ⌈U⌉) (U the width in local noise scales), never
- * above the old fixed grid; cells of equal width in u, so equally spaced
+/* The grid sizes: max(2K, ⌈c·U⌉) (U the width in local noise scales, c =
+ * min(4, max(1, K/4)) cells per unit), never above the old fixed grid; cells of equal width in u, so equally spaced
  * where σ is constant (between the PAM levels) and widening with σ
  * (gauss-sd); the noise scale is the smallest σ. */
 static void test_grid_sizes(void **state)
@@ -239,7 +239,8 @@ static void test_grid_sizes(void **state)
     assert_true(fabs(U - (14.0 / c->params[0] + 4.0 + 4.0 * log(8.3 / 2.0))) <= 1e-9);
     for (size_t K = 2; K <= 4096; K *= 2) {
         size_t n = qc_coarse_cells(m, c->levels, c->law, c->nlevels, K);
-        size_t want = 2 * K > (size_t)ceil(U) ? 2 * K : (size_t)ceil(U);
+        double per = fmin(4.0, fmax(1.0, 0.25 * (double)K)); /* cells per unit of u */
+        size_t nu = (size_t)ceil(per * U), want = 2 * K > nu ? 2 * K : nu;
         if (want > qc_fine_cells_default(K))
             want = qc_fine_cells_default(K);
         assert_int_equal(n, want);
