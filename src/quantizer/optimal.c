@@ -9,8 +9,11 @@
  *     curvature (refine.c), which never lower the rate, from the DP's
  *     thresholds — the DP optimum is the start, so the result is never
  *     below it;
- *  3. continuous outputs: threshold moves between cells (relocate.c),
- *     kept only when they raise the rate.
+ *  3. continuous outputs with at least as many cells as levels sent:
+ *     threshold moves between cells (relocate.c), kept only when they
+ *     raise the rate. With fewer cells the local maxima differ in which
+ *     gaps between levels hold a threshold, by far more than the grid's
+ *     resolution loses, and the DP tells them apart.
  * When the grid leaves the DP little choice (fewer than 2K cells, only
  * with a caller-chosen size) the high-resolution companding rule
  * (fine_grid.c) is a second start, taken only if its rate is higher.
@@ -25,6 +28,15 @@
 
 #define COMPANDING_BELOW 2 /* grid cells per quantizer cell below which the
                               companding rule is tried as a start */
+
+/* Levels sent with positive probability. */
+static size_t levels_sent(const double *input, size_t nlevels)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < nlevels; i++)
+        n += input[i] > 0.0;
+    return n;
+}
 
 qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const double *input, size_t nlevels, size_t nt,
@@ -75,7 +87,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     }
     if (real) {
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
-        if (st == QC_OK)
+        if (st == QC_OK && K >= levels_sent(input, nlevels))
             st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);
     }
     else if (!g->exact)

@@ -109,10 +109,11 @@ double qc_noise_scale(const qc_model *model, const double *levels, const double 
 
 /* ---- scale_grid.c ---------------------------------------------------- */
 
-/* Size of the automatic coarse grid for K = cells cells, continuous
- * outputs: max(2K, ⌈2·U⌉), U the width of the union of the supports in
- * the variance-stabilizing coordinate u = ∫ dy/s(y) (s the local noise
- * scale, see scale_grid.c), at most qc_fine_cells_default(K). */
+/* Size of the automatic grid for K = cells cells, continuous outputs:
+ * max(2K, ⌈c·U⌉), U the width of the union of the supports in the
+ * variance-stabilizing coordinate u = ∫ dy/s(y) (s the local noise
+ * scale, see scale_grid.c) and c = min(4, max(2, K/4)), at most
+ * qc_fine_cells_default(K). */
 size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
                        size_t nlevels, size_t cells);
 

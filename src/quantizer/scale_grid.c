@@ -20,10 +20,15 @@
  * is u = ln(1 + k(y − μ_a)/s_a)/k, inverted in closed form, so the grid
  * costs no model evaluation beyond the moments.
  *
- * Size: N = max(COARSE_PER_CELL·K, ⌈COARSE_PER_SCALE · U⌉) cells, U the
- * width of the output range (the union of the level supports) in u, at
- * most qc_fine_cells_default(K): the resolution sets N when K is large,
- * the noise (about COARSE_PER_SCALE cells per local σ) when it is small. */
+ * Size: N = max(COARSE_PER_CELL·K, ⌈c·U⌉) cells, U the width of the
+ * output range (the union of the level supports) in u and c = min(4,
+ * max(2, K/4)) cells per unit of u (per local σ), at most
+ * qc_fine_cells_default(K): the noise sets N when K is small, the
+ * resolution when it is large. Two cells per σ tell apart the local
+ * maxima of a quantizer with fewer cells than levels (which gaps hold a
+ * threshold; one cell per σ lost 0.009 bit on a 1-bit OOK case); with
+ * several cells per level (5 bits, 4 to 8 levels) the grid must resolve
+ * the quantizer's own cells, hence up to four. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -31,7 +36,7 @@
 #include <string.h>
 
 #define COARSE_PER_CELL 2      /* grid cells per quantizer cell, at least */
-#define SCALE_CELLS_MIN 1.0 /* grid cells per unit of u (per local σ) at K ≤ 8 … */
+#define SCALE_CELLS_MIN 2.0 /* grid cells per unit of u (per local σ) at K ≤ 8 … */
 #define SCALE_CELLS_MAX 4.0 /* … and at most */
 #define SCALE_CELLS_PER_K 0.25 /* … growing as K/4 in between */
 #define TAIL_FLAT 2.0          /* σ beyond the outer mean with s constant */
@@ -137,7 +142,7 @@ static double scale_map_width(const scale_map *s, double *w)
     return total;
 }
 
-/* Grid cells per unit of u for K cells: min(4, max(1, K/4)). */
+/* Grid cells per unit of u for K cells: min(4, max(2, K/4)). */
 static double scale_cells(size_t cells)
 {
     double c = SCALE_CELLS_PER_K * (double)cells;

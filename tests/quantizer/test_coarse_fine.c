@@ -220,7 +220,7 @@ static double u_width(const double *mu, const double *sd, size_t n, double lo, d
 }
 
 /* The grid sizes: max(2K, ⌈c·U⌉) (U the width in local noise scales, c =
- * min(4, max(1, K/4)) cells per unit), never above the old fixed grid; cells of equal width in u, so equally spaced
+ * min(4, max(2, K/4)) cells per unit), never above the old fixed grid; cells of equal width in u, so equally spaced
  * where σ is constant (between the PAM levels) and widening with σ
  * (gauss-sd); the noise scale is the smallest σ. */
 static void test_grid_sizes(void **state)
@@ -239,7 +239,7 @@ static void test_grid_sizes(void **state)
     assert_true(fabs(U - (14.0 / c->params[0] + 4.0 + 4.0 * log(8.3 / 2.0))) <= 1e-9);
     for (size_t K = 2; K <= 4096; K *= 2) {
         size_t n = qc_coarse_cells(m, c->levels, c->law, c->nlevels, K);
-        double per = fmin(4.0, fmax(1.0, 0.25 * (double)K)); /* cells per unit of u */
+        double per = fmin(4.0, fmax(2.0, 0.25 * (double)K)); /* cells per unit of u */
         size_t nu = (size_t)ceil(per * U), want = 2 * K > nu ? 2 * K : nu;
         if (want > qc_fine_cells_default(K))
             want = qc_fine_cells_default(K);
@@ -247,7 +247,7 @@ static void test_grid_sizes(void **state)
     }
     qc_fine_grid g;
     assert_int_equal(qc_coarse_grid_build(m, c->levels, c->law, c->nlevels, 2, &g), QC_OK);
-    assert_int_equal(g.n, (size_t)ceil(U));
+    assert_int_equal(g.n, (size_t)ceil(2.0 * U));
     double step = U * c->params[0] / (double)g.n; /* in y where s = σ */
     size_t inside = 0;
     for (size_t i = 0; i + 1 < g.n - 1; i++)
@@ -267,8 +267,10 @@ static void test_grid_sizes(void **state)
     for (size_t i = 0; i < 8; i++)
         sd8[i] = sqrt(0.04 + 0.05 * c->levels[i]);
     U = u_width(c->levels, sd8, 8, lo, hi);
-    assert_int_equal(qc_coarse_cells(m, c->levels, c->law, c->nlevels, 4), (size_t)ceil(U));
-    assert_true(ceil(U) < 2.0 * (hi - lo) / s); /* fewer than the smallest σ would ask */
+    assert_int_equal(qc_coarse_cells(m, c->levels, c->law, c->nlevels, 4),
+                     (size_t)ceil(2.0 * U));
+    /* fewer than half the cells that the smallest σ would ask */
+    assert_true(ceil(2.0 * U) < (hi - lo) / s);
     assert_int_equal(qc_coarse_grid_build(m, c->levels, c->law, c->nlevels, 4, &g), QC_OK);
     /* cells widen with σ: near level 7 about 0.62/0.2 times as wide as near 0 */
     double w0 = INFINITY, w7 = INFINITY;
