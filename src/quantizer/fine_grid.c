@@ -195,9 +195,9 @@ qc_status qc_count_quantiles(const qc_model *model, const double *levels,
 }
 
 /* The grid of the nb boundaries `bounds` (taken over: freed on failure):
- * its nlevels × (nb + 1) cell probabilities. */
+ * its nlevels × (nb + 1) cell probabilities (clip: qc_discretize_clipped). */
 static qc_status grid_from_bounds(const qc_model *model, const double *levels,
-                                  size_t nlevels, double *bounds, size_t nb,
+                                  size_t nlevels, double *bounds, size_t nb, int clip,
                                   qc_fine_grid *g)
 {
     g->n = nb + 1;
@@ -210,7 +210,8 @@ static qc_status grid_from_bounds(const qc_model *model, const double *levels,
     if (!lo || !hi)
         st = qc_fail(QC_ENOMEM, "out of memory");
     else
-        st = qc_discretize_into(model, levels, nlevels, bounds, nb, lo, hi, g->p);
+        st = (clip ? qc_discretize_clipped : qc_discretize_into)(model, levels, nlevels,
+                                                                bounds, nb, lo, hi, g->p);
     free(lo);
     free(hi);
     if (st != QC_OK)
@@ -273,7 +274,7 @@ qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
         free(bounds);
         return st;
     }
-    return grid_from_bounds(model, levels, nlevels, bounds, nb, g);
+    return grid_from_bounds(model, levels, nlevels, bounds, nb, 0, g);
 }
 
 qc_status qc_coarse_grid_build(const qc_model *model, const double *levels,
@@ -295,7 +296,7 @@ qc_status qc_coarse_grid_build(const qc_model *model, const double *levels,
         free(bounds);
         return st;
     }
-    return grid_from_bounds(model, levels, nlevels, bounds, n - 1, g);
+    return grid_from_bounds(model, levels, nlevels, bounds, n - 1, 1, g);
 }
 
 void qc_fine_grid_clear(qc_fine_grid *g)

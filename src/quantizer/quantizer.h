@@ -107,6 +107,14 @@ size_t qc_fine_cells_default(size_t cells);
 double qc_noise_scale(const qc_model *model, const double *levels, const double *input,
                       size_t nlevels);
 
+/* qc_discretize_into, but thresholds outside a level's support (the
+ * model's interval holding all but ~1e-15 of its mass) get the tails 0
+ * and 1 without a model call: the automatic grid's channel, where a
+ * level's far cells are exactly empty (discretize.c). */
+qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
+                                size_t nlevels, const double *t, size_t n,
+                                double *lo, double *hi, qc_dmc *d);
+
 /* ---- scale_grid.c ---------------------------------------------------- */
 
 /* Size of the automatic grid for K = cells cells, continuous outputs:

@@ -18,7 +18,9 @@
  * few cells (the tail beyond 8.3σ takes 2 + 2·ln(8.3/2) ≈ 4.8 units
  * instead of 8.3). On a linear piece s = s_a + k·(y − μ_a) the coordinate
  * is u = ln(1 + k(y − μ_a)/s_a)/k, inverted in closed form, so the grid
- * costs no model evaluation beyond the moments.
+ * costs no model evaluation beyond the moments. (Its channel is built by
+ * qc_discretize_clipped: a level's far cells, beyond its support, are
+ * exactly empty, fine_grid.c.)
  *
  * Size: N = max(COARSE_PER_CELL·K, ⌈c·U⌉) cells, U the width of the
  * output range (the union of the level supports) in u and c = min(4,
