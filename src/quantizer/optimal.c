@@ -9,11 +9,11 @@
  *     curvature (refine.c), which never lower the rate, from the DP's
  *     thresholds — the DP optimum is the start, so the result is never
  *     below it;
- *  3. continuous outputs with at least as many cells as levels sent:
- *     threshold moves between cells (relocate.c), kept only when they
- *     raise the rate. With fewer cells the local maxima differ in which
- *     gaps between levels hold a threshold, by far more than the grid's
- *     resolution loses, and the DP tells them apart.
+ *  3. continuous outputs with more cells than levels sent: threshold
+ *     moves between cells (relocate.c), kept only when they raise the
+ *     rate. With at most one cell per level the local maxima differ in
+ *     which gaps between levels hold a threshold, by far more than the
+ *     grid's resolution loses, and the DP tells them apart.
  * When the grid leaves the DP little choice (fewer than 2K cells, only
  * with a caller-chosen size) the high-resolution companding rule
  * (fine_grid.c) is a second start, taken only if its rate is higher.
@@ -87,7 +87,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     }
     if (real) {
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
-        if (st == QC_OK && K >= levels_sent(input, nlevels))
+        if (st == QC_OK && K > levels_sent(input, nlevels))
             st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);
     }
     else if (!g->exact)
