@@ -33,13 +33,12 @@ static double gauss_above(const qc_model *m, double x, double t)
  * gsl_cdf_ugaussian_P and _Q; beyond one standard deviation here, with a
  * margin): the smaller tail is computed and the larger is 1.0 minus it,
  * the same operation, so the values are those of gauss_below and
- * gauss_above bit for bit (tests/models/test_gauss_tails.c checks it).
+ * gauss_above bit for bit (tests/quantizer/test_reuse.c checks it).
  * Nearer the mean both are computed. */
 #define GAUSS_TAILS_ONE_CALL 1.0 /* |t − x|/σ from which one call is enough */
 
-static void gauss_tails(const qc_model *m, double x, double t, double *below, double *above)
+void qc_gauss_tails_u(double u, double *below, double *above)
 {
-    const double u = (t - x) / m->params[P_SIGMA]; /* as gsl_cdf_gaussian_P/Q */
     if (u >= GAUSS_TAILS_ONE_CALL) {
         *above = gsl_cdf_ugaussian_Q(u);
         *below = 1.0 - *above;
@@ -50,6 +49,12 @@ static void gauss_tails(const qc_model *m, double x, double t, double *below, do
         *below = gsl_cdf_ugaussian_P(u);
         *above = gsl_cdf_ugaussian_Q(u);
     }
+}
+
+static void gauss_tails(const qc_model *m, double x, double t, double *below, double *above)
+{
+    /* u as gsl_cdf_gaussian_P/Q form it */
+    qc_gauss_tails_u((t - x) / m->params[P_SIGMA], below, above);
 }
 
 static double gauss_density(const qc_model *m, double x, double y)

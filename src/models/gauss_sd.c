@@ -47,6 +47,15 @@ static double gauss_sd_above(const qc_model *m, double x, double t)
     return gsl_cdf_gaussian_Q(t - x, sd_at(m, x));
 }
 
+/* Both tails at once with one σ and, beyond one σ, one call of GSL's
+ * normal law, bit for bit the values of gauss_sd_below and
+ * gauss_sd_above (the same split as gauss.c's tails). */
+static void gauss_sd_tails(const qc_model *m, double x, double t, double *below,
+                           double *above)
+{
+    qc_gauss_tails_u((t - x) / sd_at(m, x), below, above);
+}
+
 static double gauss_sd_density(const qc_model *m, double x, double y)
 {
     return gsl_ran_gaussian_pdf(y - x, sd_at(m, x));
@@ -129,6 +138,7 @@ const qc_model_type qc_model_gauss_sd = {
     .params = gauss_sd_params,
     .below = gauss_sd_below,
     .above = gauss_sd_above,
+    .tails = gauss_sd_tails,
     .density = gauss_sd_density,
     .support = gauss_sd_support,
     .check_level = gauss_sd_check_level,

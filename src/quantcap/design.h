@@ -188,9 +188,12 @@ typedef struct {
                                     0: 1e-9                                 */
     size_t fine_cells;           /* QC_QUANTIZER_OPTIMAL: grid cells N for
                                     the dynamic programme (N ≥ K); 0:
-                                    automatic (continuous outputs: the
-                                    coarse grid max(2K, 2·span/noise
-                                    scale), see docs/methods.md; counts:
+                                    automatic (continuous outputs:
+                                    max(2K, c·U) cells of equal width in
+                                    the variance-stabilizing coordinate,
+                                    U the output range in local noise
+                                    scales, c = min(4, max(2, K/4)), see
+                                    docs/methods.md; counts:
                                     max(16K, 4096)), reduced so that
                                     K·N ≤ 2^22, never below K. Count
                                     outputs use every count of the support

@@ -34,13 +34,24 @@ qc_status qc_thresholds_check(const qc_model *model, const double *t, size_t n)
 }
 
 /* One row: cell probabilities of level x. `lo`, `hi` are scratch of
- * length n (P(Y < t_j), P(Y ≥ t_j)). */
+ * length n (P(Y < t_j), P(Y ≥ t_j)). clip: thresholds outside the
+ * level's support (the model's interval holding all but ~1e-15 of the
+ * mass) get the tails 0 and 1 without a model call. */
 static qc_status discretize_row(const qc_model *m, double x, const double *t,
-                                size_t n, double *lo, double *hi, double *row)
+                                size_t n, int clip, double *lo, double *hi, double *row)
 {
     const qc_model_type *type = qc_model_get_type(m);
+    double s0 = -INFINITY, s1 = INFINITY;
+    if (clip)
+        type->support(m, x, &s0, &s1);
     for (size_t j = 0; j < n; j++) {
-        if (type->tails) {
+        if (t[j] <= s0) {
+            lo[j] = 0.0;
+            hi[j] = 1.0;
+        } else if (t[j] >= s1) {
+            lo[j] = 1.0;
+            hi[j] = 0.0;
+        } else if (type->tails) {
             type->tails(m, x, t[j], &lo[j], &hi[j]);
         } else {
             lo[j] = type->below(m, x, t[j]);
@@ -92,7 +103,17 @@ qc_status qc_discretize_into(const qc_model *model, const double *levels,
 {
     qc_status st = QC_OK;
     for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = discretize_row(model, levels[x], t, n, lo, hi, d->p + x * d->ny);
+        st = discretize_row(model, levels[x], t, n, 0, lo, hi, d->p + x * d->ny);
+    return st;
+}
+
+qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
+                                size_t nlevels, const double *t, size_t n,
+                                double *lo, double *hi, qc_dmc *d)
+{
+    qc_status st = QC_OK;
+    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
+        st = discretize_row(model, levels[x], t, n, 1, lo, hi, d->p + x * d->ny);
     return st;
 }
 

@@ -9,11 +9,8 @@
  * boundaries need only be well spread, not exact quantiles (the DP picks
  * among them and the refinement moves off them): G is tabulated on 2N + 1
  * points and inverted by linear interpolation.
- * The automatic size for continuous outputs (qc_coarse_cells) is the
- * coarse grid of the coarse-to-fine search (optimal.c): max(2K, 2·span/s)
- * cells, s the noise scale (qc_noise_scale: the smallest standard
- * deviation of the output given a level), so that the uniform half puts
- * a boundary at least every s.
+ * This is the grid of a caller-chosen size (`fine-cells`); the automatic
+ * grid for continuous outputs is scale_grid.c's (qc_coarse_grid_build).
  * Count outputs: one cell per count of the support (exact: the DP then
  * searches every integer threshold), or rounded quantiles of G when the
  * support is too wide.
@@ -38,8 +35,6 @@
 #define FINE_PER_CELL 16
 #define COUNT_GRID_MIN 65536 /* every count is a cell up to this many */
 #define TABLE_PER_CELL 2     /* tabulation points of G per fine cell */
-#define COARSE_PER_CELL 2    /* coarse cells per quantizer cell, at least */
-#define COARSE_PER_SCALE 2.0 /* coarse cells per noise scale of the span */
 #define SUPPORT_PER_SCALE 16.6 /* support width per standard deviation
                                   (the ±8.3σ of gauss.c) */
 
@@ -83,20 +78,6 @@ double qc_noise_scale(const qc_model *model, const double *levels, const double 
             s = 1.0;
     }
     return s;
-}
-
-size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
-                       size_t nlevels, size_t cells)
-{
-    size_t cap = qc_fine_cells_default(cells), n = COARSE_PER_CELL * cells;
-    double lo, hi, s = qc_noise_scale(model, levels, input, nlevels);
-    qc_levels_support(model, levels, nlevels, &lo, &hi);
-    double want = COARSE_PER_SCALE * (hi - lo) / s;
-    if (isfinite(want) && want > (double)n)
-        n = want < (double)cap ? (size_t)ceil(want) : cap;
-    if (n > cap)
-        n = cap;
-    return n < cells ? cells : n;
 }
 
 void qc_levels_support(const qc_model *model, const double *levels,
@@ -213,6 +194,36 @@ qc_status qc_count_quantiles(const qc_model *model, const double *levels,
     return QC_OK;
 }
 
+/* The grid of the nb boundaries `bounds` (taken over: freed on failure):
+ * its nlevels × (nb + 1) cell probabilities (clip: qc_discretize_clipped). */
+static qc_status grid_from_bounds(const qc_model *model, const double *levels,
+                                  size_t nlevels, double *bounds, size_t nb, int clip,
+                                  qc_fine_grid *g)
+{
+    g->n = nb + 1;
+    g->bounds = bounds;
+    qc_status st = qc_dmc_alloc(nlevels, g->n, &g->p);
+    if (st != QC_OK)
+        goto fail;
+    double *lo = qc_malloc_array(g->n, sizeof *lo);
+    double *hi = qc_malloc_array(g->n, sizeof *hi);
+    if (!lo || !hi)
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    else
+        st = (clip ? qc_discretize_clipped : qc_discretize_into)(model, levels, nlevels,
+                                                                bounds, nb, lo, hi, g->p);
+    free(lo);
+    free(hi);
+    if (st != QC_OK)
+        goto fail;
+    return QC_OK;
+fail:
+    free(bounds);
+    qc_dmc_free(g->p);
+    memset(g, 0, sizeof *g);
+    return st;
+}
+
 qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t n,
                              size_t cells, qc_fine_grid *g)
@@ -259,29 +270,33 @@ qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
             return qc_fail(QC_ENOMEM, "out of memory");
         st = qc_blend_quantiles(model, levels, input, nlevels, n, bounds);
     }
-    if (st != QC_OK)
-        goto fail;
-    g->n = nb + 1;
-    g->bounds = bounds;
-    st = qc_dmc_alloc(nlevels, g->n, &g->p);
-    if (st != QC_OK)
-        goto fail;
-    double *lo = qc_malloc_array(g->n, sizeof *lo);
-    double *hi = qc_malloc_array(g->n, sizeof *hi);
-    if (!lo || !hi)
-        st = qc_fail(QC_ENOMEM, "out of memory");
-    else
-        st = qc_discretize_into(model, levels, nlevels, bounds, nb, lo, hi, g->p);
-    free(lo);
-    free(hi);
-    if (st != QC_OK)
-        goto fail;
-    return QC_OK;
-fail:
-    free(bounds);
-    qc_dmc_free(g->p);
+    if (st != QC_OK) {
+        free(bounds);
+        return st;
+    }
+    return grid_from_bounds(model, levels, nlevels, bounds, nb, 0, g);
+}
+
+qc_status qc_coarse_grid_build(const qc_model *model, const double *levels,
+                               const double *input, size_t nlevels, size_t cells,
+                               qc_fine_grid *g)
+{
     memset(g, 0, sizeof *g);
-    return st;
+    if (qc_model_get_type(model)->output != QC_OUTPUT_REAL)
+        return qc_fine_grid_build(model, levels, input, nlevels,
+                                  qc_fine_cells_default(cells), cells, g);
+    if (cells < 2)
+        return qc_fail(QC_EINVAL, "a quantizer needs at least 2 cells, not %zu", cells);
+    size_t n = qc_coarse_cells(model, levels, input, nlevels, cells);
+    double *bounds = qc_malloc_array(n - 1, sizeof *bounds);
+    if (!bounds)
+        return qc_fail(QC_ENOMEM, "out of memory for a grid of %zu cells", n);
+    qc_status st = qc_scale_bounds(model, levels, input, nlevels, n, bounds);
+    if (st != QC_OK) {
+        free(bounds);
+        return st;
+    }
+    return grid_from_bounds(model, levels, nlevels, bounds, n - 1, 1, g);
 }
 
 void qc_fine_grid_clear(qc_fine_grid *g)

@@ -107,12 +107,34 @@ size_t qc_fine_cells_default(size_t cells);
 double qc_noise_scale(const qc_model *model, const double *levels, const double *input,
                       size_t nlevels);
 
-/* Coarse grid of the automatic coarse-to-fine search for K = cells cells,
- * continuous outputs: max(2K, 4·span/scale) cells (span: the union of
- * the supports, so the grid's uniform half puts a boundary at least
- * every half noise scale), at most qc_fine_cells_default(K). */
+/* qc_discretize_into, but thresholds outside a level's support (the
+ * model's interval holding all but ~1e-15 of its mass) get the tails 0
+ * and 1 without a model call: the automatic grid's channel, where a
+ * level's far cells are exactly empty (discretize.c). */
+qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
+                                size_t nlevels, const double *t, size_t n,
+                                double *lo, double *hi, qc_dmc *d);
+
+/* ---- scale_grid.c ---------------------------------------------------- */
+
+/* Size of the automatic grid for K = cells cells, continuous outputs:
+ * max(2K, ⌈c·U⌉), U the width of the union of the supports in the
+ * variance-stabilizing coordinate u = ∫ dy/s(y) (s the local noise
+ * scale, see scale_grid.c) and c = min(4, max(2, K/4)), at most
+ * qc_fine_cells_default(K). */
 size_t qc_coarse_cells(const qc_model *model, const double *levels, const double *input,
                        size_t nlevels, size_t cells);
+
+/* The n − 1 boundaries (into out) of n cells of equal width in u. */
+qc_status qc_scale_bounds(const qc_model *model, const double *levels, const double *input,
+                          size_t nlevels, size_t n, double *out);
+
+/* The automatic grid of the optimal strategy for K = cells cells:
+ * continuous outputs, qc_coarse_cells(K) cells of equal width in u;
+ * counts, qc_fine_grid_build with qc_fine_cells_default(K). */
+qc_status qc_coarse_grid_build(const qc_model *model, const double *levels,
+                               const double *input, size_t nlevels, size_t cells,
+                               qc_fine_grid *g);
 
 /* Fine grid of about `n` cells for the levels (n ≥ cells ≥ 2).
  * Continuous outputs: boundaries at the quantiles of ½·(mixture law under
@@ -170,28 +192,18 @@ void qc_levels_support(const qc_model *model, const double *levels,
 qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                size_t *iterations);
 /* The same, for a trial start that only matters if it can beat
- * `target` (nats): after two iterations it stops once the rate plus four
- * times the gain the Newton model still predicts stays below target. */
-qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
-                          double *mi_nats, size_t *iterations);
+ * `target` (nats): after one iteration it stops once the rate plus four
+ * times the gain the Newton model still predicts stays below target (or
+ * the model predicts nothing finite), and once every threshold is within
+ * 5 % of its spacing of `home` (the incumbent thresholds, may be NULL),
+ * where it would end. */
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
+                          double *t, double *mi_nats, size_t *iterations);
 /* Integer coordinate search for count thresholds (used when the fine grid
  * could not hold every count): each threshold moves by ±1, ±2, ±4 … while
  * the MI grows. */
 qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
                            size_t *iterations);
-
-/* ---- window_dp.c ----------------------------------------------------- */
-
-/* The fine stage of the coarse-to-fine search: threshold j may take
- * left_j + (mid_j − left_j)·u/split (u = 1 … split) or mid_j + (right_j −
- * mid_j)·u/split (u = 1 … split − 1); a dynamic programme over the
- * windows picks the increasing choice of largest I(X;Y_q) under `input`
- * (t_out: nt thresholds; *mi_nats may be NULL). Every window holds
- * mid_j, so the result is never below the rate of the mid points.
- * Requires left_j < mid_j < right_j and increasing mid. */
-qc_status qc_window_dp(const qc_model *model, const double *levels, const double *input,
-                       size_t nlevels, size_t nt, const double *left, const double *mid,
-                       const double *right, size_t split, double *t_out, double *mi_nats);
 
 /* ---- relocate.c ------------------------------------------------------ */
 

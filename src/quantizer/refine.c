@@ -11,11 +11,15 @@
  *   ∂²I/∂t_j² = Σ_x r f'_j (L_j − L_{j+1}) + Σ_x r f_j² (1/P_j + 1/P_{j+1})
  *               − F_j² (1/q_j + 1/q_{j+1}),
  *   ∂²I/∂t_j∂t_{j+1} = −Σ_x r f_j f_{j+1} / P_{j+1} + F_j F_{j+1} / q_{j+1},
- * with f'_j = ∂f(y|x)/∂y at t_j by a central difference of the density
+ * with f'_j = ∂f(y|x)/∂y at t_j by a forward difference of the density
  * (step 10⁻⁵ of the noise scale; it only scales the step, the fixed point
- * is that of the exact gradient). One iteration costs one rate
- * evaluation and three densities per threshold and level. Count outputs:
- * integer coordinate search (pattern search, doubling steps). */
+ * is that of the exact gradient, and its relative error of about 10⁻⁵
+ * still contracts the error by that factor per step). One iteration costs
+ * one rate evaluation and two densities per threshold and level; it stops
+ * when a step falls below 10⁻¹¹ of the spacing, or after an undamped
+ * Newton step (exact curvature of the right sign) below 10⁻⁶ of it, whose
+ * successor would be below 10⁻¹¹. Count outputs: integer coordinate
+ * search (pattern search, doubling steps). */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
@@ -32,8 +36,11 @@
 #define NEWTON_SLOPE_STEP 1e-5 /* density slope difference, × noise scale */
 #define NEWTON_TOL 1e-11       /* stop when steps fall below this × spacing */
 #define NEWTON_ROUNDING 1e-8   /* a rejected step this small (× spacing) ends */
-#define TRIAL_GRACE 2          /* iterations before a trial may be given up */
+#define NEWTON_QUADRATIC 1e-6 /* an undamped step this small (× spacing) ends:
+                                 the next would be below NEWTON_TOL */
+#define TRIAL_GRACE 1          /* iterations before a trial may be given up */
 #define TRIAL_ROOM 4.0         /* × the predicted gain a trial must be within */
+#define TRIAL_HOME 0.05        /* × spacing: a trial this near the incumbent ends */
 
 /* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
  * thresholds t whose channel, output law and log ratios the workspace
@@ -57,9 +64,7 @@ static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
             double d = ty->density(w->model, w->levels[x], t[j]);
             if (!(d > 0.0) || !isfinite(d))
                 continue;
-            double dp = (ty->density(w->model, w->levels[x], t[j] + h) -
-                         ty->density(w->model, w->levels[x], t[j] - h)) /
-                        (2.0 * h);
+            double dp = (ty->density(w->model, w->levels[x], t[j] + h) - d) / h;
             *fx = d;
             double dl = lr[x * k + j] - lr[x * k + j + 1];
             gj += r[x] * d * dl;
@@ -114,11 +119,11 @@ static int damped_step(size_t nt, const double *hd, const double *ho, const doub
 qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                size_t *iterations)
 {
-    return qc_refine_trial(w, scale, -INFINITY, t, mi_nats, iterations);
+    return qc_refine_trial(w, scale, -INFINITY, NULL, t, mi_nats, iterations);
 }
 
-qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
-                          double *mi_nats, size_t *iterations)
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
+                          double *t, double *mi_nats, size_t *iterations)
 {
     qc_gsl_init();
     const size_t nt = w->nt, nx = w->nlevels;
@@ -160,10 +165,14 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
             if (damped_step(nt, hd, ho, g, 0.0, hmax, a, e, rhs, step))
                 for (size_t j = 0; j < nt; j++)
                     pred += 0.5 * g[j] * step[j];
-            if (isfinite(pred) && pred >= 0.0 && mi + TRIAL_ROOM * pred < target)
+            /* a Newton model without a finite prediction (singular
+             * curvature) after the grace iterations: far from any maximum */
+            if (!isfinite(pred) || (pred >= 0.0 && mi + TRIAL_ROOM * pred < target))
                 break;
         }
-        int accepted = 0;
+        int accepted = 0, quadratic = 0, newton = 1;
+        for (size_t j = 0; j < nt; j++)
+            newton &= hd[j] < 0.0; /* the curvature is the exact Hessian's */
         double rel = 0.0;
         for (int tries = 0; tries < NEWTON_MAX_DAMP && !accepted; tries++) {
             int ordered = damped_step(nt, hd, ho, g, mu, hmax, a, e, rhs, step);
@@ -184,6 +193,7 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
             }
             if (ordered && mip >= mi) {
                 accepted = 1;
+                quadratic = mu == 0.0 && newton && rel < NEWTON_QUADRATIC;
                 memcpy(t, tp, nt * sizeof *t);
                 mi = mip;
                 at_t = 1;
@@ -198,8 +208,15 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, double *t,
             break;
         if (iterations)
             (*iterations)++;
-        if (!accepted || rel < NEWTON_TOL)
+        if (!accepted || rel < NEWTON_TOL || quadratic)
             break;
+        if (home) { /* back beside the incumbent: the trial would end there */
+            int near = 1;
+            for (size_t j = 0; j < nt && near; j++)
+                near = fabs(t[j] - home[j]) <= TRIAL_HOME * sp[j];
+            if (near)
+                break;
+        }
     }
     if (st == QC_OK && !at_t) /* leave the workspace's channel at the result */
         st = qc_cell_mi_eval(w, t, &mi, NULL);

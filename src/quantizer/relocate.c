@@ -14,8 +14,11 @@
  *  - moves of the RELOCATE_PICK cheapest removals to the cells within
  *    RELOCATE_REACH places of them, largest gain − cost first (at most
  *    RELOCATE_TRIALS of them), are each refined by
- *    Newton steps (refine.c) and the first that raises the rate is kept;
- *    then the search starts again, at most RELOCATE_ROUNDS times.
+ *    Newton steps (refine.c) and the first that raises the rate by more
+ *    than rounding (RELOCATE_MIN_GAIN) is kept; then the search starts
+ *    again, at most RELOCATE_ROUNDS times. A trial ends early once its
+ *    Newton model cannot reach the incumbent's rate, or once it has slid
+ *    back beside the incumbent (qc_refine_trial).
  * Only a move that raises the refined rate is kept, so the rate never
  * drops. */
 #include "quantizer/quantizer.h"
@@ -27,7 +30,8 @@
 #define RELOCATE_SPLITS 3 /* trial split points per cell */
 #define RELOCATE_PICK 3   /* cheapest removals tried */
 #define RELOCATE_REACH 64 /* cells on either side of a removal tried */
-#define RELOCATE_TRIALS 16 /* moves refined per round */
+#define RELOCATE_TRIALS 8 /* moves refined per round */
+#define RELOCATE_MIN_GAIN 1e-13 /* × the rate: a smaller gain is rounding */
 #define RELOCATE_ROUNDS 4
 
 /* Cell term of the probabilities p[x] (nx of them) under the law r. */
@@ -188,10 +192,10 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 }
             double v;
             size_t more = 0;
-            st = qc_refine_trial(w, scale, mi, tt, &v, &more);
+            st = qc_refine_trial(w, scale, mi, t, tt, &v, &more);
             if (iterations)
                 *iterations += more;
-            if (st == QC_OK && v > mi) {
+            if (st == QC_OK && v > mi + RELOCATE_MIN_GAIN * mi) {
                 memcpy(t, tt, nt * sizeof *t);
                 mi = v;
                 moved = 1;

@@ -149,13 +149,11 @@ static qc_status optimal_design(qc_strategy_plan *p, const double *input, int wa
     (void)warm;
     if (!p->have_grid) {
         const double *law = p->grid_law ? p->grid_law : input;
-        size_t n = p->fine_cells;
-        if (n == 0)
-            n = qc_model_get_type(p->model)->output == QC_OUTPUT_REAL
-                    ? qc_coarse_cells(p->model, p->levels, law, p->nlevels, p->nt + 1)
-                    : qc_fine_cells_default(p->nt + 1);
-        qc_status st = qc_fine_grid_build(p->model, p->levels, law,
-                                          p->nlevels, n, p->nt + 1, &p->grid);
+        qc_status st =
+            p->fine_cells ? qc_fine_grid_build(p->model, p->levels, law, p->nlevels,
+                                               p->fine_cells, p->nt + 1, &p->grid)
+                          : qc_coarse_grid_build(p->model, p->levels, law, p->nlevels,
+                                                 p->nt + 1, &p->grid);
         if (st != QC_OK)
             return st;
         p->have_grid = 1;

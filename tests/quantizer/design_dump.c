@@ -1,7 +1,8 @@
 /* design_dump.c — prints, as JSON, the quantcap values that
  * tests/quantizer/quantizer_ref.py checks against scipy: unquantized BPSK rates,
- * MI-optimal and uniform BPSK quantizers, and Lloyd–Max quantizers of a
- * Gaussian and of a two-component Gaussian mixture. */
+ * MI-optimal and uniform BPSK quantizers, Lloyd–Max quantizers of a
+ * Gaussian and of a two-component Gaussian mixture, and MI-optimal
+ * quantizers of unipolar PAM-4 in signal-dependent Gaussian noise. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -17,12 +18,12 @@ static int fail(const char *what)
     return 1;
 }
 
-/* One design; NULL on failure. */
-static json_t *design(double sigma, const double *levels, size_t n, size_t cells,
-                      qc_quantizer_kind kind)
+/* One design with model `type` (parameters p); NULL on failure. */
+static json_t *design_with(const qc_model_type *type, const double *p, const double *levels,
+                           size_t n, size_t cells, qc_quantizer_kind kind)
 {
     qc_model *m;
-    if (qc_model_alloc(&qc_model_gauss, &sigma, &m) != QC_OK)
+    if (qc_model_alloc(type, p, &m) != QC_OK)
         return NULL;
     qc_design_request r;
     qc_design_request_default(&r);
@@ -38,7 +39,11 @@ static json_t *design(double sigma, const double *levels, size_t n, size_t cells
     if (st != QC_OK)
         return NULL;
     json_t *o = json_object();
-    json_object_set_new(o, "sigma", json_real(sigma));
+    json_object_set_new(o, "sigma", json_real(p[0]));
+    if (type == &qc_model_gauss_sd) {
+        json_object_set_new(o, "a", json_real(p[1]));
+        json_object_set_new(o, "b", json_real(p[2]));
+    }
     json_object_set_new(o, "levels", array_of(levels, n));
     json_object_set_new(o, "cells", json_integer((json_int_t)cells));
     json_object_set_new(o, "quantizer", json_string(qc_quantizer_name(kind)));
@@ -51,6 +56,12 @@ static json_t *design(double sigma, const double *levels, size_t n, size_t cells
     }
     qc_design_result_clear(&res);
     return o;
+}
+
+static json_t *design(double sigma, const double *levels, size_t n, size_t cells,
+                      qc_quantizer_kind kind)
+{
+    return design_with(&qc_model_gauss, &sigma, levels, n, cells, kind);
 }
 
 int main(void)
@@ -99,6 +110,18 @@ int main(void)
         json_array_append_new(list, mix);
     }
     json_object_set_new(root, "lloyd_max", list);
+
+    /* signal-dependent noise, whose grid widens with σ (scale_grid.c):
+     * unipolar PAM-4, σ0 = 0.2, a = 0.05 */
+    list = json_array();
+    const double upam4[4] = {0.0, 1.0, 2.0, 3.0}, sd[3] = {0.2, 0.05, 0.0};
+    for (size_t K = 2; K <= 4; K *= 2) {
+        json_t *o = design_with(&qc_model_gauss_sd, sd, upam4, 4, K, QC_QUANTIZER_OPTIMAL);
+        if (!o)
+            return fail("gauss-sd design");
+        json_array_append_new(list, o);
+    }
+    json_object_set_new(root, "gauss_sd", list);
 
     int rc = json_dumpf(root, stdout, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
     json_decref(root);

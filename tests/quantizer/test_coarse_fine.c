@@ -1,10 +1,11 @@
-/* test_coarse_fine.c — the coarse-to-fine MI-optimal threshold search
- * (src/quantizer/optimal.c): its rate is never below the exhaustive
- * dynamic programme on a 4096-cell fine grid, on several models and
- * resolutions; the window DP (window_dp.c) equals enumeration of its
- * windows and never loses against its mid points; the Newton refinement
- * (refine.c) never lowers the rate and ends where the exact gradient
- * vanishes; more cells never lower the rate. */
+/* test_coarse_fine.c — the MI-optimal threshold search
+ * (src/quantizer/optimal.c): its rate is never below the optimum of the
+ * dynamic programme on its own grid (the guarantee) nor below the
+ * exhaustive dynamic programme on a 4096-cell fine grid, on several models
+ * and resolutions; the automatic grid has the size and spacing of its rule
+ * (scale_grid.c); the Newton refinement (refine.c) never lowers the rate
+ * and ends where the exact gradient vanishes; more cells never lower the
+ * rate. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -64,18 +65,37 @@ static double rate_bits(const qc_model *m, const case_t *c, const double *t, siz
     return mi * QC_LOG2E;
 }
 
-/* The design as the optimal strategy runs it (automatic grid). */
-static double design(const qc_model *m, const case_t *c, size_t nt, double *t)
+/* The design as the optimal strategy runs it (automatic grid); the DP
+ * optimum on that grid into *dp_bits (may be NULL). */
+static double design_dp(const qc_model *m, const case_t *c, size_t nt, double *t,
+                        double *dp_bits)
 {
     qc_fine_grid g;
-    size_t n = qc_coarse_cells(m, c->levels, c->law, c->nlevels, nt + 1);
-    assert_int_equal(qc_fine_grid_build(m, c->levels, c->law, c->nlevels, n, nt + 1, &g),
+    assert_int_equal(qc_coarse_grid_build(m, c->levels, c->law, c->nlevels, nt + 1, &g),
                      QC_OK);
+    assert_int_equal(g.n, qc_coarse_cells(m, c->levels, c->law, c->nlevels, nt + 1));
     double mi;
     assert_int_equal(
         qc_optimal_thresholds(m, c->levels, c->law, c->nlevels, nt, &g, t, &mi, NULL), QC_OK);
+    if (dp_bits) {
+        size_t K = nt + 1, *cuts = malloc((K + 1) * sizeof *cuts);
+        double *td = malloc(nt * sizeof *td);
+        assert_non_null(cuts);
+        assert_non_null(td);
+        assert_int_equal(qc_dp_quantize(g.p, c->law, K, QC_DP_PLAIN, cuts, NULL), QC_OK);
+        for (size_t j = 1; j < K; j++)
+            td[j - 1] = g.bounds[cuts[j] - 1];
+        *dp_bits = rate_bits(m, c, td, nt);
+        free(cuts);
+        free(td);
+    }
     qc_fine_grid_clear(&g);
     return mi * QC_LOG2E;
+}
+
+static double design(const qc_model *m, const case_t *c, size_t nt, double *t)
+{
+    return design_dp(m, c, nt, t, NULL);
 }
 
 /* Exhaustive DP over a 4096-cell grid, as the design did before the
@@ -125,48 +145,27 @@ static void test_not_below_exhaustive_dp(void **state)
     }
 }
 
-/* The window DP against enumeration of every increasing choice. */
-static void test_window_dp_equals_enumeration(void **state)
+/* The guarantee: the design's rate is never below the best quantizer
+ * whose thresholds are boundaries of its own grid, found here by the
+ * plain O(K·N²) dynamic programme (every split tried, no SMAWK). */
+static void test_not_below_own_grid_dp(void **state)
 {
     (void)state;
-    const case_t *c = &cases[1];
-    qc_model *m = model_of(c);
-    const double left[2] = {-2.5, -0.4}, mid[2] = {-1.7, 0.1}, right[2] = {-0.2, 1.3};
-    const size_t split = 3, nc = 2 * split - 1;
-    double t[2], v;
-    assert_int_equal(qc_window_dp(m, c->levels, c->law, c->nlevels, 2, left, mid, right, split,
-                                  t, &v),
-                     QC_OK);
-    double cand[2][5], best = -INFINITY, mid_rate = rate_bits(m, c, mid, 2);
-    for (size_t j = 0; j < 2; j++)
-        for (size_t u = 1; u <= split; u++) {
-            cand[j][u - 1] = left[j] + (mid[j] - left[j]) * (double)u / (double)split;
-            if (u < split)
-                cand[j][split + u - 1] = mid[j] + (right[j] - mid[j]) * (double)u / (double)split;
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        const case_t *c = &cases[k];
+        qc_model *m = model_of(c);
+        for (size_t bits = 1; bits <= c->max_bits; bits++) {
+            size_t nt = ((size_t)1 << bits) - 1;
+            double *t = malloc(nt * sizeof *t), dp;
+            assert_non_null(t);
+            double r = design_dp(m, c, nt, t, &dp);
+            if (r < dp - TOL_RATE)
+                fail_msg("%s, %zu bits: design %.15f bit < DP optimum on its grid %.15f",
+                         c->name, bits, r, dp);
+            free(t);
         }
-    for (size_t a = 0; a < nc; a++)
-        for (size_t b = 0; b < nc; b++) {
-            double tt[2] = {cand[0][a], cand[1][b]};
-            if (!(tt[1] > tt[0]))
-                continue;
-            best = fmax(best, rate_bits(m, c, tt, 2));
-        }
-    assert_true(fabs(v * QC_LOG2E - best) <= TOL_RATE);
-    assert_true(fabs(rate_bits(m, c, t, 2) - best) <= TOL_RATE);
-    /* the mid points are candidates: never below them */
-    assert_true(best >= mid_rate - TOL_RATE);
-    /* overlapping windows still give increasing thresholds */
-    const double l2[2] = {-1.0, -0.9}, m2[2] = {-0.5, -0.45}, r2[2] = {0.0, 0.2};
-    assert_int_equal(qc_window_dp(m, c->levels, c->law, c->nlevels, 2, l2, m2, r2, 4, t, &v),
-                     QC_OK);
-    assert_true(t[1] > t[0]);
-    assert_true(v * QC_LOG2E >= rate_bits(m, c, m2, 2) - TOL_RATE);
-    /* a window that is not ordered is refused */
-    const double bad[2] = {-0.1, 0.5};
-    assert_int_equal(qc_window_dp(m, c->levels, c->law, c->nlevels, 2, bad, mid, right, 2, t,
-                                  &v),
-                     QC_EINVAL);
-    qc_model_free(m);
+        qc_model_free(m);
+    }
 }
 
 /* Newton from a poor start: the rate rises, the exact gradient vanishes. */
@@ -204,8 +203,26 @@ static void test_newton_reaches_stationary_point(void **state)
     }
 }
 
-/* The grid sizes: at least 2K cells and 2 per noise scale of the span,
- * never above the old fixed grid; the noise scale is the smallest σ. */
+/* Width of [lo, hi] in u = ∫ dy/s(y), written out from the rule of
+ * scale_grid.c: s linear between the sorted means mu[0..n) (σ sd[i]),
+ * flat for 2σ beyond the outer means and then s = d/2. */
+static double u_width(const double *mu, const double *sd, size_t n, double lo, double hi)
+{
+    double u = 0.0;
+    for (size_t i = 0; i + 1 < n; i++) {
+        double k = (sd[i + 1] - sd[i]) / (mu[i + 1] - mu[i]);
+        u += fabs(k) < 1e-14 ? (mu[i + 1] - mu[i]) / sd[i] : log(sd[i + 1] / sd[i]) / k;
+    }
+    double zl = (mu[0] - lo) / sd[0], zh = (hi - mu[n - 1]) / sd[n - 1];
+    u += zl <= 2.0 ? zl : 2.0 + 2.0 * log(zl / 2.0);
+    u += zh <= 2.0 ? zh : 2.0 + 2.0 * log(zh / 2.0);
+    return u;
+}
+
+/* The grid sizes: max(2K, ⌈c·U⌉) (U the width in local noise scales, c =
+ * min(4, max(2, K/4)) cells per unit), never above the old fixed grid; cells of equal width in u, so equally spaced
+ * where σ is constant (between the PAM levels) and widening with σ
+ * (gauss-sd); the noise scale is the smallest σ. */
 static void test_grid_sizes(void **state)
 {
     (void)state;
@@ -214,18 +231,59 @@ static void test_grid_sizes(void **state)
     double lo, hi, s = qc_noise_scale(m, c->levels, c->law, c->nlevels);
     assert_true(fabs(s - c->params[0]) <= 1e-15);
     qc_levels_support(m, c->levels, c->nlevels, &lo, &hi);
+    double sd8[8], U;
+    for (size_t i = 0; i < 8; i++)
+        sd8[i] = c->params[0];
+    U = u_width(c->levels, sd8, 8, lo, hi);
+    /* 14/σ between the outer levels, 2·(2 + 2 ln(8.3/2)) in the tails */
+    assert_true(fabs(U - (14.0 / c->params[0] + 4.0 + 4.0 * log(8.3 / 2.0))) <= 1e-9);
     for (size_t K = 2; K <= 4096; K *= 2) {
         size_t n = qc_coarse_cells(m, c->levels, c->law, c->nlevels, K);
-        assert_true(n >= K);
-        assert_true(n <= qc_fine_cells_default(K));
-        if (2 * K <= qc_fine_cells_default(K))
-            assert_true(n >= 2 * K && (double)n >= 2.0 * (hi - lo) / s);
+        double per = fmin(4.0, fmax(2.0, 0.25 * (double)K)); /* cells per unit of u */
+        size_t nu = (size_t)ceil(per * U), want = 2 * K > nu ? 2 * K : nu;
+        if (want > qc_fine_cells_default(K))
+            want = qc_fine_cells_default(K);
+        assert_int_equal(n, want);
     }
+    qc_fine_grid g;
+    assert_int_equal(qc_coarse_grid_build(m, c->levels, c->law, c->nlevels, 2, &g), QC_OK);
+    assert_int_equal(g.n, (size_t)ceil(2.0 * U));
+    double step = U * c->params[0] / (double)g.n; /* in y where s = σ */
+    size_t inside = 0;
+    for (size_t i = 0; i + 1 < g.n - 1; i++)
+        if (g.bounds[i] > -7.0 && g.bounds[i + 1] < 7.0) {
+            assert_true(fabs(g.bounds[i + 1] - g.bounds[i] - step) <= 1e-9);
+            inside++;
+        }
+    assert_true(inside >= 15);
+    qc_fine_grid_clear(&g);
     qc_model_free(m);
     /* gauss-sd: σ(x)² = σ0² + a·x, smallest at x = 0 */
-    m = model_of(&cases[3]);
-    s = qc_noise_scale(m, cases[3].levels, cases[3].law, cases[3].nlevels);
+    c = &cases[3];
+    m = model_of(c);
+    s = qc_noise_scale(m, c->levels, c->law, c->nlevels);
     assert_true(fabs(s - 0.2) <= 1e-15);
+    qc_levels_support(m, c->levels, c->nlevels, &lo, &hi);
+    for (size_t i = 0; i < 8; i++)
+        sd8[i] = sqrt(0.04 + 0.05 * c->levels[i]);
+    U = u_width(c->levels, sd8, 8, lo, hi);
+    assert_int_equal(qc_coarse_cells(m, c->levels, c->law, c->nlevels, 4),
+                     (size_t)ceil(2.0 * U));
+    /* fewer than half the cells that the smallest σ would ask */
+    assert_true(ceil(2.0 * U) < (hi - lo) / s);
+    assert_int_equal(qc_coarse_grid_build(m, c->levels, c->law, c->nlevels, 4, &g), QC_OK);
+    /* cells widen with σ: near level 7 about 0.62/0.2 times as wide as near 0 */
+    double w0 = INFINITY, w7 = INFINITY;
+    for (size_t i = 0; i + 1 < g.n - 1; i++) {
+        double mid = 0.5 * (g.bounds[i] + g.bounds[i + 1]), w = g.bounds[i + 1] - g.bounds[i];
+        if (fabs(mid) < 0.3)
+            w0 = fmin(w0, w);
+        if (fabs(mid - 7.0) < 0.3)
+            w7 = fmin(w7, w);
+    }
+    assert_true(isfinite(w0) && isfinite(w7));
+    assert_true(w7 / w0 > 2.5 && w7 / w0 < 3.5);
+    qc_fine_grid_clear(&g);
     qc_model_free(m);
 }
 
@@ -233,7 +291,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_not_below_exhaustive_dp),
-        cmocka_unit_test(test_window_dp_equals_enumeration),
+        cmocka_unit_test(test_not_below_own_grid_dp),
         cmocka_unit_test(test_newton_reaches_stationary_point),
         cmocka_unit_test(test_grid_sizes),
     };

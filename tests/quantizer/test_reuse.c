@@ -1,6 +1,6 @@
 /* test_reuse.c — work a design shares or skips gives the same numbers, to
- * the last bit, as the work done again: the Gaussian model's two tails
- * from one call (gauss.c), the store of unquantized rates
+ * the last bit, as the work done again: the Gaussian models' two tails
+ * from one call (gauss.c, gauss_sd.c), the store of unquantized rates
  * (unquantized_memo.c), and the uniform quantizer's centring, whose
  * bisections stop once the rounded middle is known (uniform.c), against
  * full bisections written out here as the reference. */
@@ -34,22 +34,23 @@ static qc_model *gauss(double sigma)
 static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
 /* tails() gives below() and above() bit for bit, near the mean (both
- * computed), at GSL's switch between its formulas, and deep in the tails. */
-static void test_gauss_tails(void **state)
+ * computed), at GSL's switch between its formulas, and deep in the tails:
+ * gauss (σ from 1e-3 to 10) and gauss-sd (σ0 from 1e-3 to 10, a and b
+ * up to 1, levels x ≥ 0). */
+static void tails_match(const qc_model_type *type)
 {
-    (void)state;
-    const qc_model_type *type = &qc_model_gauss;
     assert_non_null(type->tails);
+    static qc_model *cur;
     for (size_t i = 0; i < TAIL_CASES; i++) {
-        double sigma = pow(10.0, -3.0 + 4.0 * uniform01());
-        qc_model *m = i % 1000 == 0 || i == 0 ? gauss(sigma) : NULL;
-        static qc_model *cur;
-        if (m) {
+        if (i % 1000 == 0) {
+            double p[3] = {pow(10.0, -3.0 + 4.0 * uniform01()), uniform01(), uniform01()};
             qc_model_free(cur);
-            cur = m;
+            assert_int_equal(qc_model_alloc(type, p, &cur), QC_OK);
         }
-        double s = qc_model_params(cur)[0];
-        double x = 4.0 * uniform01() - 2.0;
+        double x = type == &qc_model_gauss ? 4.0 * uniform01() - 2.0 : 4.0 * uniform01();
+        double mean, var;
+        assert_int_equal(type->moments(cur, x, &mean, &var), QC_OK);
+        double s = sqrt(var);
         double u = i % 4 == 0   ? 0.66291 + 1e-3 * (uniform01() - 0.5) /* GSL's switch */
                    : i % 4 == 1 ? 1.0 + 1e-9 * (uniform01() - 0.5)    /* ours */
                                 : 90.0 * uniform01() - 45.0;
@@ -58,12 +59,18 @@ static void test_gauss_tails(void **state)
         double t = x + u * s, lo, hi;
         type->tails(cur, x, t, &lo, &hi);
         if (!same_bits(lo, type->below(cur, x, t)) || !same_bits(hi, type->above(cur, x, t)))
-            fail_msg("tails differ at x = %.17g, t = %.17g, sigma = %.17g", x, t, s);
-        if (i + 1 == TAIL_CASES) {
-            qc_model_free(cur);
-            cur = NULL;
-        }
+            fail_msg("%s: tails differ at x = %.17g, t = %.17g, sigma = %.17g", type->name, x,
+                     t, s);
     }
+    qc_model_free(cur);
+    cur = NULL;
+}
+
+static void test_gauss_tails(void **state)
+{
+    (void)state;
+    tails_match(&qc_model_gauss);
+    tails_match(&qc_model_gauss_sd);
 }
 
 /* A stored rate is the computed one; the same channel again is a hit, a
