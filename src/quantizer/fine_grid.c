@@ -194,11 +194,9 @@ qc_status qc_count_quantiles(const qc_model *model, const double *levels,
     return QC_OK;
 }
 
-/* The grid of the nb boundaries `bounds` (taken over: freed on failure):
- * its nlevels × (nb + 1) cell probabilities (clip: qc_discretize_clipped). */
-static qc_status grid_from_bounds(const qc_model *model, const double *levels,
-                                  size_t nlevels, double *bounds, size_t nb, int clip,
-                                  qc_fine_grid *g)
+qc_status qc_fine_grid_from_bounds(const qc_model *model, const double *levels,
+                                   size_t nlevels, double *bounds, size_t nb, int clip,
+                                   qc_fine_grid *g)
 {
     g->n = nb + 1;
     g->bounds = bounds;
@@ -274,29 +272,7 @@ qc_status qc_fine_grid_build(const qc_model *model, const double *levels,
         free(bounds);
         return st;
     }
-    return grid_from_bounds(model, levels, nlevels, bounds, nb, 0, g);
-}
-
-qc_status qc_coarse_grid_build(const qc_model *model, const double *levels,
-                               const double *input, size_t nlevels, size_t cells,
-                               qc_fine_grid *g)
-{
-    memset(g, 0, sizeof *g);
-    if (qc_model_get_type(model)->output != QC_OUTPUT_REAL)
-        return qc_fine_grid_build(model, levels, input, nlevels,
-                                  qc_fine_cells_default(cells), cells, g);
-    if (cells < 2)
-        return qc_fail(QC_EINVAL, "a quantizer needs at least 2 cells, not %zu", cells);
-    size_t n = qc_coarse_cells(model, levels, input, nlevels, cells);
-    double *bounds = qc_malloc_array(n - 1, sizeof *bounds);
-    if (!bounds)
-        return qc_fail(QC_ENOMEM, "out of memory for a grid of %zu cells", n);
-    qc_status st = qc_scale_bounds(model, levels, input, nlevels, n, bounds);
-    if (st != QC_OK) {
-        free(bounds);
-        return st;
-    }
-    return grid_from_bounds(model, levels, nlevels, bounds, n - 1, 1, g);
+    return qc_fine_grid_from_bounds(model, levels, nlevels, bounds, nb, 0, g);
 }
 
 void qc_fine_grid_clear(qc_fine_grid *g)

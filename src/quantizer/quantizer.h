@@ -115,6 +115,13 @@ qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d);
 
+/* The grid of the nb boundaries `bounds` (taken over: freed on failure):
+ * its nlevels × (nb + 1) cell probabilities (clip: qc_discretize_clipped,
+ * a level's cells beyond its support exactly empty). */
+qc_status qc_fine_grid_from_bounds(const qc_model *model, const double *levels,
+                                   size_t nlevels, double *bounds, size_t nb, int clip,
+                                   qc_fine_grid *g);
+
 /* ---- scale_grid.c ---------------------------------------------------- */
 
 /* Size of the automatic grid for K = cells cells, continuous outputs:
