@@ -97,24 +97,28 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     return QC_OK;
 }
 
+static qc_status discretize_rows(const qc_model *model, const double *levels,
+                                 size_t nlevels, const double *t, size_t n, int clip,
+                                 double *lo, double *hi, qc_dmc *d)
+{
+    qc_status st = QC_OK;
+    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
+        st = discretize_row(model, levels[x], t, n, clip, lo, hi, d->p + x * d->ny);
+    return st;
+}
+
 qc_status qc_discretize_into(const qc_model *model, const double *levels,
                              size_t nlevels, const double *t, size_t n,
                              double *lo, double *hi, qc_dmc *d)
 {
-    qc_status st = QC_OK;
-    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = discretize_row(model, levels[x], t, n, 0, lo, hi, d->p + x * d->ny);
-    return st;
+    return discretize_rows(model, levels, nlevels, t, n, 0, lo, hi, d);
 }
 
 qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d)
 {
-    qc_status st = QC_OK;
-    for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = discretize_row(model, levels[x], t, n, 1, lo, hi, d->p + x * d->ny);
-    return st;
+    return discretize_rows(model, levels, nlevels, t, n, 1, lo, hi, d);
 }
 
 qc_status qc_discretize(const qc_model *model, const double *levels,

@@ -29,21 +29,6 @@
                          * is one pass over the matrix; the multiplier
                          * search spends 10^5 to 10^6 iterations here     */
 
-/* Gaussian noise on n candidate levels on [-1, 1], quantized by t. */
-static qc_dmc *grid_channel(size_t n, double sigma, const double *t, size_t nt,
-                            double *levels)
-{
-    double p[1] = {sigma};
-    qc_model *m = NULL;
-    assert_int_equal(qc_model_alloc(&qc_model_gauss, p, &m), QC_OK);
-    for (size_t i = 0; i < n; i++)
-        levels[i] = -1.0 + 2.0 * (double)i / (double)(n - 1);
-    qc_dmc *d = NULL;
-    assert_int_equal(qc_discretize(m, levels, n, t, nt, &d), QC_OK);
-    qc_model_free(m);
-    return d;
-}
-
 /* Capacity under the power cost x² with `budget`; `initial` may be NULL. */
 static void solve(const qc_dmc *d, const double *cost, double budget, int prune,
                   const double *initial, qc_capacity_result *res, double *law)
@@ -69,7 +54,7 @@ static void check(size_t n, double sigma, const double *t, size_t nt, double bud
     assert_non_null(cost);
     assert_non_null(law);
     assert_non_null(ref_law);
-    qc_dmc *d = grid_channel(n, sigma, t, nt, levels);
+    qc_dmc *d = level_grid_channel(n, sigma, t, nt, levels);
     for (size_t x = 0; x < n; x++)
         cost[x] = levels[x] * levels[x];
     qc_capacity_result a, b;

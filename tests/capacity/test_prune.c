@@ -25,22 +25,6 @@
                             * support: a non-support input keeps at most
                             * (gap)/(score deficit) of mass, far below */
 
-/* Gaussian noise on a level grid of n candidates on [-1, 1], quantized
- * by the given thresholds. */
-static qc_dmc *grid_channel(size_t n, double sigma, const double *t, size_t nt,
-                            double *levels)
-{
-    double p[1] = {sigma};
-    qc_model *m = NULL;
-    assert_int_equal(qc_model_alloc(&qc_model_gauss, p, &m), QC_OK);
-    for (size_t i = 0; i < n; i++)
-        levels[i] = -1.0 + 2.0 * (double)i / (double)(n - 1);
-    qc_dmc *d = NULL;
-    assert_int_equal(qc_discretize(m, levels, n, t, nt, &d), QC_OK);
-    qc_model_free(m);
-    return d;
-}
-
 /* Capacity (with the power cost x² and `budget` when budget > 0) with
  * elimination on or off. */
 static void run(const qc_dmc *d, const double *levels, double budget, int prune,
@@ -85,7 +69,7 @@ static void test_same_with_power_cost(void **state)
     double *levels = malloc(n * sizeof *levels), *law = malloc(n * sizeof *law);
     assert_non_null(levels);
     assert_non_null(law);
-    qc_dmc *d = grid_channel(n, 0.5, t, 3, levels);
+    qc_dmc *d = level_grid_channel(n, 0.5, t, 3, levels);
     qc_capacity_result a, b;
     run(d, levels, 0.5, 1, 1e-8, &a, law);
     /* the pruned law is exactly 0 off a handful of inputs */
@@ -108,7 +92,7 @@ static void test_same_unconstrained(void **state)
     const double t[7] = {-0.75, -0.5, -0.25, 0.0, 0.25, 0.5, 0.75};
     double *levels = malloc(n * sizeof *levels);
     assert_non_null(levels);
-    qc_dmc *d = grid_channel(n, 0.15, t, 7, levels);
+    qc_dmc *d = level_grid_channel(n, 0.15, t, 7, levels);
     qc_capacity_result a, b;
     run(d, NULL, 0.0, 1, TOL_BITS, &a, NULL);
     run(d, NULL, 0.0, 0, TOL_BITS, &b, NULL);
@@ -158,7 +142,7 @@ static void check_support_kept(double sigma, const double *t, size_t nt, double 
     assert_non_null(levels);
     assert_non_null(cost);
     assert_non_null(opt_law);
-    qc_dmc *d = grid_channel(n, sigma, t, nt, levels);
+    qc_dmc *d = level_grid_channel(n, sigma, t, nt, levels);
     for (size_t x = 0; x < n; x++)
         cost[x] = levels[x] * levels[x];
     qc_ba_workspace *ws = NULL;

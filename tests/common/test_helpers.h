@@ -151,6 +151,22 @@ static inline qc_dmc *random_dmc(size_t nx, size_t ny, double zero_fraction)
     return d;
 }
 
+/* Gaussian noise on a level grid of n candidates on [-1, 1] (written into
+ * levels), quantized by the nt thresholds t. */
+static inline qc_dmc *level_grid_channel(size_t n, double sigma, const double *t, size_t nt,
+                                         double *levels)
+{
+    double p[1] = {sigma};
+    qc_model *m = NULL;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, p, &m), QC_OK);
+    for (size_t i = 0; i < n; i++)
+        levels[i] = -1.0 + 2.0 * (double)i / (double)(n - 1);
+    qc_dmc *d = NULL;
+    assert_int_equal(qc_discretize(m, levels, n, t, nt, &d), QC_OK);
+    qc_model_free(m);
+    return d;
+}
+
 #endif /* CMOCKA_H_ */
 
 /* ---- JSON for the dump programs --------------------------------------- */
