@@ -8,6 +8,7 @@
 #include "core/internal.h"
 #include "quantcap/atomic_file.h"
 #include "study/scenario.h"
+#include "study/scenario_keys.h"
 
 #include <errno.h>
 #include <inttypes.h>
@@ -90,14 +91,29 @@ static void put_scalar(buffer *b, const json_t *v)
     }
 }
 
-/* An array of scalars as one field, values separated by blanks. */
+/* An array as one field, its entries separated by blanks; an entry that
+ * is an object (a mass point) is its values joined by ':' (level:probability). */
 static void put_array(buffer *b, const json_t *a)
 {
     buffer inner = {0};
     for (size_t i = 0; i < json_array_size(a); i++) {
+        const json_t *e = json_array_get(a, i);
         if (i)
             put(&inner, " ", 1);
-        put_scalar(&inner, json_array_get(a, i));
+        if (json_is_object(e)) {
+            const char *key;
+            const json_t *v;
+            int first = 1;
+            json_object_foreach((json_t *)e, key, v)
+            {
+                if (!first)
+                    put(&inner, ":", 1);
+                put_scalar(&inner, v);
+                first = 0;
+            }
+        } else {
+            put_scalar(&inner, e);
+        }
     }
     if (inner.oom)
         b->oom = 1;
@@ -209,7 +225,9 @@ qc_status qc_results_write_csv(const qc_scenario *sc, json_t *const *records, co
         free_columns(&c);
         return qc_fail(QC_ENOMEM, "out of memory writing %s", path);
     }
-    puts_(&b, "point,alphabet");
+    /* the alphabet's section NAME; when `alphabet` is itself a sweep
+     * axis its values take the column `alphabet` */
+    puts_(&b, sc_axis_index(sc, "alphabet") >= 0 ? "point,alphabet_name" : "point,alphabet");
     for (size_t k = 0; k < sc->naxes; k++) {
         char col[256];
         qc_field_name(sc->axes[k].key, col, sizeof col);

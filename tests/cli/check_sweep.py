@@ -229,6 +229,26 @@ with open(os.path.join(numbered, "results.csv")) as f:
 check(rc == 0 and m is not None and failed == [m.group(1)] == ["2"],
       f"the warning names the point as results.csv does ({err.strip()!r}, {failed})")
 
+# --- an alphabet sweep axis and mass points in results.csv ---------------
+path = write("alphabet_axis.ini", "[receiver]\nmodel = gauss\nsnr-db = 10\n"
+             "[design]\nobjective = capacity\n[sweep]\nalphabet = pam:2, pam:4\nbits = 2\n")
+axis_dir = os.path.join(tmp, "alphabet_axis")
+rc, out, err = run("sweep", path, "--output-dir", axis_dir, "--no-plots")
+with open(os.path.join(axis_dir, "results.csv")) as f:
+    header = f.readline().strip().split(",")
+with open(os.path.join(axis_dir, "results.csv")) as f:
+    rows = list(csv.DictReader(f))
+check(rc == 0 and header.count("alphabet") == 1 and header[:3] == ["point", "alphabet_name", "alphabet"],
+      f"alphabet axis: one column per meaning ({header[:4]})")
+check([r["alphabet"] for r in rows] == ["pam:2", "pam:4"], "alphabet axis: its values in the column")
+# each mass point as level:probability, matching the levels and law columns
+for r in rows:
+    pairs = [tuple(float(v) for v in p.split(":")) for p in r.get("mass_points", "").split()]
+    law = dict(zip(map(float, r["levels"].split()), map(float, r["input_distribution"].split())))
+    check(pairs and all(abs(law.get(lv, -1.0) - pr) <= 1e-15 for lv, pr in pairs)
+          and abs(sum(pr for _, pr in pairs) - 1.0) < 1e-5,
+          f"mass_points are level:probability pairs of the law ({r.get('mass_points')!r})")
+
 # --- scenario errors name the file and line --------------------------------
 def expect_error(text, needle, what, *extra):
     path = write("bad.ini", text)
