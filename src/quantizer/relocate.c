@@ -30,7 +30,7 @@
 #define RELOCATE_SPLITS 3 /* trial split points per cell */
 #define RELOCATE_PICK 3   /* cheapest removals tried */
 #define RELOCATE_REACH 64 /* cells on either side of a removal tried */
-#define RELOCATE_TRIALS 8 /* moves refined per round */
+#define RELOCATE_TRIALS 16 /* moves refined per round */
 #define RELOCATE_MIN_GAIN 1e-13 /* × the rate: a smaller gain is rounding */
 #define RELOCATE_ROUNDS 4
 
