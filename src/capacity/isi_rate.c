@@ -117,25 +117,44 @@ static int unquantized_step(const qc_isi_channel *ch, batch_ws *b, double emax, 
     return 1;
 }
 
+/* A batch's first state (the symbols before the first counted one,
+ * drawn from the law) and the forward recursions at the state prior. */
+static size_t batch_start(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
+                          batch_ws *b)
+{
+    size_t s = 0;
+    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= ch->M)
+        s += mul * gsl_ran_discrete(b->rng, draw);
+    memcpy(b->aq, ch->state_prior, ch->S * sizeof *b->aq);
+    memcpy(b->au, ch->state_prior, ch->S * sizeof *b->au);
+    b->failed = 0;
+    return s;
+}
+
+/* The next symbol x (drawn from the law) and its window t = x + M·s;
+ * the state s moves on to t mod S. */
+static size_t next_window(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
+                          batch_ws *b, size_t *s, size_t *x)
+{
+    *x = gsl_ran_discrete(b->rng, draw);
+    const size_t t = *x + ch->M * *s;
+    *s = t % ch->S;
+    return t;
+}
+
 /* One batch: warm-up, then `count` counted symbols. lik[y·T + t] =
  * p(x_t)·P(y | t) are the quantized step weights. */
 static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
                       const double *lik, size_t warmup, size_t count, int unquantized,
                       const qc_isi_request *req, batch_ws *b)
 {
-    const size_t S = ch->S, T = ch->T, M = ch->M, K = ch->K;
+    const size_t T = ch->T, K = ch->K;
     const double *pq = ch->window_dmc->p;
-    size_t s = 0;
-    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= M)
-        s += mul * gsl_ran_discrete(b->rng, draw);
-    memcpy(b->aq, ch->state_prior, S * sizeof *b->aq);
-    memcpy(b->au, ch->state_prior, S * sizeof *b->au);
+    size_t s = batch_start(ch, draw, b);
     double sum_q = 0.0, sum_u = 0.0;
-    b->failed = 0;
     for (size_t k = 0; k < warmup + count; k++) {
-        const size_t x = gsl_ran_discrete(b->rng, draw);
-        const size_t t = x + M * s;
-        s = t % S;
+        size_t x;
+        const size_t t = next_window(ch, draw, b, &s, &x);
         const double z = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
         const double y = ch->mean[t] + ch->sd[t] * z;
         const size_t c = cell_of(ch->thresholds, K - 1, y);
@@ -175,9 +194,8 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     /* the detector: a tail after the counted symbols, then BCJR */
     const size_t n = 2 * warmup + count;
     for (size_t k = warmup + count; k < n; k++) {
-        const size_t x = gsl_ran_discrete(b->rng, draw);
-        const size_t t = x + M * s;
-        s = t % S;
+        size_t x;
+        const size_t t = next_window(ch, draw, b, &s, &x);
         const double y = ch->mean[t] + ch->sd[t] * gsl_ran_gaussian_ziggurat(b->rng, 1.0);
         b->ty[k] = y;
         b->tcell[k] = (uint32_t)cell_of(ch->thresholds, K - 1, y);
@@ -197,19 +215,13 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
                                const double *lik, const double *pq_t, size_t warmup,
                                size_t count, int unquantized, batch_ws *b)
 {
-    const size_t S = ch->S, T = ch->T, M = ch->M, K = ch->K;
+    const size_t T = ch->T, K = ch->K;
     const double *pi = ch->window_dmc->p, *pq = ch->window_dmc_q->p;
-    size_t s = 0;
-    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= M)
-        s += mul * gsl_ran_discrete(b->rng, draw);
-    memcpy(b->aq, ch->state_prior, S * sizeof *b->aq);
-    memcpy(b->au, ch->state_prior, S * sizeof *b->au);
+    size_t s = batch_start(ch, draw, b);
     double sum_q = 0.0, sum_u = 0.0;
-    b->failed = 0;
     for (size_t k = 0; k < warmup + count; k++) {
-        const size_t x = gsl_ran_discrete(b->rng, draw);
-        const size_t t = x + M * s;
-        s = t % S;
+        size_t x;
+        const size_t t = next_window(ch, draw, b, &s, &x);
         const double zi = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
         const double zq = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
         const double yi = ch->mean[t] + ch->sd[t] * zi;
