@@ -29,29 +29,11 @@
 
 qc_status qc_isi_taps_check(const double *taps, size_t ntaps)
 {
-    if (ntaps == 0 || !taps)
-        return qc_fail(QC_EINVAL, "taps: at least one tap is needed (h0)");
-    if (ntaps > QC_ISI_MAX_TAPS)
-        return qc_fail(QC_EINVAL, "taps: %zu taps given; at most %zu are supported", ntaps,
-                       QC_ISI_MAX_TAPS);
-    int any = 0;
-    for (size_t i = 0; i < ntaps; i++) {
-        if (!isfinite(taps[i]))
-            return qc_fail(QC_EINVAL, "taps: tap %zu (h%zu) must be a finite number (got %g)",
-                           i + 1, i, taps[i]);
-        if (taps[i] != 0.0)
-            any = 1;
-    }
-    if (!any)
-        return qc_fail(QC_EINVAL, "taps: all %zu taps are zero; the channel carries nothing",
-                       ntaps);
-    return QC_OK;
+    return qc_isi_complex_taps_check(taps, NULL, ntaps);
 }
 
 qc_status qc_isi_complex_taps_check(const double *re, const double *im, size_t ntaps)
 {
-    if (!im)
-        return qc_isi_taps_check(re, ntaps);
     if (ntaps == 0 || !re)
         return qc_fail(QC_EINVAL, "taps: at least one tap is needed (h0)");
     if (ntaps > QC_ISI_MAX_TAPS)
@@ -59,11 +41,15 @@ qc_status qc_isi_complex_taps_check(const double *re, const double *im, size_t n
                        QC_ISI_MAX_TAPS);
     int any = 0;
     for (size_t i = 0; i < ntaps; i++) {
-        if (!isfinite(re[i]) || !isfinite(im[i]))
+        const double b = im ? im[i] : 0.0;
+        if (!im && !isfinite(re[i]))
+            return qc_fail(QC_EINVAL, "taps: tap %zu (h%zu) must be a finite number (got %g)",
+                           i + 1, i, re[i]);
+        if (!isfinite(re[i]) || !isfinite(b))
             return qc_fail(QC_EINVAL,
                            "taps: tap %zu (h%zu) must be a finite complex number (got %g%+gj)",
-                           i + 1, i, re[i], im[i]);
-        if (re[i] != 0.0 || im[i] != 0.0)
+                           i + 1, i, re[i], b);
+        if (re[i] != 0.0 || b != 0.0)
             any = 1;
     }
     if (!any)

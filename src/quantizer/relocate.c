@@ -88,21 +88,13 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
     const double *r = w->input;
     double lo, hi;
     qc_levels_support(w->model, w->levels, nx, &lo, &hi);
-    double *cost = qc_malloc_array(nt, sizeof *cost);
-    double *gain = qc_malloc_array(K, sizeof *gain);
-    double *split = qc_malloc_array(K, sizeof *split);
-    double *tt = qc_malloc_array(nt, sizeof *tt);
-    double *pa = qc_malloc_array(3 * nx, sizeof *pa);
-    double *ca = qc_malloc_array(2 * (nt + 2) * nx, sizeof *ca); /* CDFs at the ends */
-    if (!cost || !gain || !split || !tt || !pa || !ca) {
-        free(cost);
-        free(gain);
-        free(split);
-        free(tt);
-        free(pa);
-        free(ca);
+    /* one block: cost[nt], gain[K], split[K], tt[nt], pa[3·nx] and the
+     * CDFs at the cell ends ca[2·(nt + 2)·nx] */
+    double *cost = qc_malloc_array(2 * nt + 2 * K + 3 * nx + 2 * (nt + 2) * nx, sizeof *cost);
+    if (!cost)
         return qc_fail(QC_ENOMEM, "out of memory for moving %zu thresholds", nt);
-    }
+    double *gain = cost + nt, *split = gain + K, *tt = split + K, *pa = tt + nt;
+    double *ca = pa + 3 * nx;
     double *pb = pa + nx, *pm = pa + 2 * nx;
     qc_status st = QC_OK;
     double mi = *mi_nats;
@@ -209,10 +201,5 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
     if (st == QC_OK)
         *mi_nats = mi;
     free(cost);
-    free(gain);
-    free(split);
-    free(tt);
-    free(pa);
-    free(ca);
     return st;
 }
