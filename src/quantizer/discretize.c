@@ -33,6 +33,17 @@ qc_status qc_thresholds_check(const qc_model *model, const double *t, size_t n)
     return QC_OK;
 }
 
+void qc_tails_at(const qc_model *model, double x, double y, double *lo, double *hi)
+{
+    const qc_model_type *type = qc_model_get_type(model);
+    if (type->tails) {
+        type->tails(model, x, y, lo, hi);
+    } else {
+        *lo = type->below(model, x, y);
+        *hi = type->above(model, x, y);
+    }
+}
+
 /* One row: cell probabilities of level x. `lo`, `hi` are scratch of
  * length n (P(Y < t_j), P(Y ≥ t_j)). clip: thresholds outside the
  * level's support (the model's interval holding all but ~1e-15 of the
@@ -51,11 +62,8 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
         } else if (t[j] >= s1) {
             lo[j] = 1.0;
             hi[j] = 0.0;
-        } else if (type->tails) {
-            type->tails(m, x, t[j], &lo[j], &hi[j]);
         } else {
-            lo[j] = type->below(m, x, t[j]);
-            hi[j] = type->above(m, x, t[j]);
+            qc_tails_at(m, x, t[j], &lo[j], &hi[j]);
         }
         if (!isfinite(lo[j]) || !isfinite(hi[j]) || lo[j] < 0.0 || hi[j] < 0.0)
             return qc_fail(QC_ENUMERIC,
@@ -71,10 +79,8 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
             p = lo[0];
         else if (c == n)
             p = hi[n - 1];
-        else if (hi[c - 1] < lo[c])
-            p = hi[c - 1] - hi[c]; /* upper side: both tails small, no cancellation */
         else
-            p = lo[c] - lo[c - 1];
+            p = qc_cell_between(lo[c - 1], hi[c - 1], lo[c], hi[c]);
         if (p < 0.0) {
             if (p < -1e-12)
                 return qc_fail(QC_ENUMERIC,

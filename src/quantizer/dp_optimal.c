@@ -16,6 +16,10 @@
  * from the nearer end of the output range (below or above the median of
  * P(·|x)), so tail cells do not cancel; one sum per boundary and input
  * keeps the working set small.
+ * A cell sums only over the inputs whose mass can reach it (those whose
+ * last positive output is at or after its start and whose first is
+ * before its end; the others add exact zeros), which matters for large
+ * alphabets, where a cell sees a few hundred of thousands of levels.
  * Layer k: D_k[n] = max_m D_{k−1}[m] + g(m, n) over the first n outputs. */
 #include "quantizer/quantizer.h"
 
@@ -32,6 +36,10 @@ typedef struct {
      * Σ_{i≥k} P(i|x) — each prefix taken from its nearer tail, so a cell
      * far out in either tail is a difference of two small sums */
     double *cum;
+    /* per boundary k (n + 1 of them): the inputs x ∈ [from[k], upto[k])
+     * hold every input with mass at or after k (from) and every input
+     * with mass before k (upto); a cell [a, b) needs x ∈ [from[a], upto[b]) */
+    uint32_t *from, *upto;
 } cell_fn;
 
 /* g over outputs [a, b), a < b. */
@@ -40,7 +48,7 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
     const size_t nx = f->nx;
     const double *ca = f->cum + nx * a, *cb = f->cum + nx * b;
     double s = 0.0, q = 0.0;
-    for (size_t x = 0; x < nx; x++) {
+    for (size_t x = f->from[a]; x < f->upto[b]; x++) {
         const size_t m = f->med[x];
         double p;
         if (b < m)
@@ -59,6 +67,41 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
     return s;
 }
 
+/* from[] and upto[] of cell_fn from the first and last positive output of
+ * each input (an input without one reaches no cell). */
+static void reach_init(cell_fn *f, const qc_dmc *d, const double *r)
+{
+    const size_t n = f->n, nx = f->nx;
+    for (size_t k = 0; k <= n; k++) {
+        f->from[k] = (uint32_t)nx; /* min x whose last output is k, below */
+        f->upto[k] = 0;            /* 1 + max x whose first output is k − 1 */
+    }
+    for (size_t x = 0, j = 0; x < d->nx; x++) {
+        if (!(r[x] > 0.0))
+            continue;
+        const double *row = d->p + x * n;
+        size_t first = 0, last = n;
+        while (first < n && !(row[first] > 0.0))
+            first++;
+        while (last > first && !(row[last - 1] > 0.0))
+            last--;
+        if (first < last) {
+            if (j < f->from[last - 1])
+                f->from[last - 1] = (uint32_t)j;
+            f->upto[first + 1] = (uint32_t)(j + 1);
+        }
+        j++;
+    }
+    /* from[k] = min over inputs whose last output is ≥ k; upto[k] = 1 + max
+     * over inputs whose first output is < k */
+    for (size_t k = n; k-- > 0;)
+        if (f->from[k + 1] < f->from[k])
+            f->from[k] = f->from[k + 1];
+    for (size_t k = 1; k <= n; k++)
+        if (f->upto[k - 1] > f->upto[k])
+            f->upto[k] = f->upto[k - 1];
+}
+
 static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
 {
     const size_t n = d->ny;
@@ -71,7 +114,9 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     f->tot = qc_malloc_array(nx, sizeof *f->tot);
     f->med = qc_malloc_array(nx, sizeof *f->med);
     f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
-    if (!f->r || !f->tot || !f->med || !f->cum)
+    f->from = qc_malloc_array(2 * (n + 1), sizeof *f->from);
+    f->upto = f->from ? f->from + n + 1 : NULL;
+    if (!f->r || !f->tot || !f->med || !f->cum || !f->from)
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
                        d->nx, n);
     for (size_t x = 0, j = 0; x < d->nx; x++) {
@@ -99,6 +144,7 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
         f->tot[j] = (double)(below + s);
         j++;
     }
+    reach_init(f, d, r);
     return QC_OK;
 }
 
@@ -108,6 +154,7 @@ static void cell_fn_free(cell_fn *f)
     free(f->tot);
     free(f->med);
     free(f->cum);
+    free(f->from);
 }
 
 /* ---- SMAWK row maxima of one layer ---------------------------------- */

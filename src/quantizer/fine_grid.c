@@ -314,32 +314,44 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     const double step = (hi - lo) / (double)(m - 1), d = 1e-3 * step;
     double *lam = qc_malloc_array(m, sizeof *lam);
     double *cum = qc_malloc_array(m, sizeof *cum);
-    if (!lam || !cum) {
+    /* per level: its support (s0, s1) and its density at the current y */
+    double *s0 = qc_malloc_array(3 * nlevels, sizeof *s0);
+    if (!lam || !cum || !s0) {
         free(lam);
         free(cum);
+        free(s0);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
+    double *s1 = s0 + nlevels, *dens = s1 + nlevels;
+    for (size_t x = 0; x < nlevels; x++)
+        qc_model_get_type(model)->support(model, levels[x], &s0[x], &s1[x]);
     for (size_t i = 0; i < m; i++) {
         double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
-        for (size_t x = 0; x < nlevels; x++)
-            if (input[x] > 0.0)
-                f += input[x] * qc_model_get_type(model)->density(model, levels[x], y);
+        /* a level adds to the mixture only within its support (beyond it,
+         * less than ~1e-15 of its mass: the discretizer's convention) */
+        for (size_t x = 0; x < nlevels; x++) {
+            dens[x] = 0.0;
+            if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
+                dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
+                f += input[x] * dens[x];
+            }
+        }
         if (f > 0.0 && isfinite(f)) {
             /* J(y) = Var of the score over the posterior P(x|y) */
-            double s1 = 0.0, s2 = 0.0, wsum = 0.0;
+            double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
             for (size_t x = 0; x < nlevels; x++) {
-                if (!(input[x] > 0.0))
+                if (!(dens[x] > 0.0))
                     continue;
-                double p = input[x] * qc_model_get_type(model)->density(model, levels[x], y) / f;
+                double p = input[x] * dens[x] / f;
                 double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
                 if (!isfinite(s))
                     continue;
                 wsum += p;
-                s1 += p * s;
+                s1sum += p * s;
                 s2 += p * s * s;
             }
             if (wsum > 0.0) {
-                sbar = s1 / wsum;
+                sbar = s1sum / wsum;
                 j2 = fmax(0.0, s2 / wsum - sbar * sbar);
             }
         }
@@ -348,6 +360,7 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     qc_status st = qc_density_quantiles(lam, cum, m, lo, step, nt, "companding", out);
     free(lam);
     free(cum);
+    free(s0);
     return st;
 }
 

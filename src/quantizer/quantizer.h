@@ -115,6 +115,19 @@ qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d);
 
+/* The two tails of Y given level x at y: *lo = P(Y < y), *hi = P(Y ≥ y)
+ * (the model's joint tails where it has them, as the discretizer takes
+ * them). */
+void qc_tails_at(const qc_model *model, double x, double y, double *lo, double *hi);
+
+/* P(a ≤ Y < b) from the tails at a and at b, taken from the side on which
+ * both are small, as the discretizer does (a = −∞: tails 0 and 1; b = +∞:
+ * tails 1 and 0). May be slightly negative from rounding. */
+static inline double qc_cell_between(double lo_a, double hi_a, double lo_b, double hi_b)
+{
+    return hi_a < lo_b ? hi_a - hi_b : lo_b - lo_a;
+}
+
 /* The grid of the nb boundaries `bounds` (taken over: freed on failure):
  * its nlevels × (nb + 1) cell probabilities (clip: qc_discretize_clipped,
  * a level's cells beyond its support exactly empty). */

@@ -30,7 +30,14 @@
  * maxima of a quantizer with fewer cells than levels (which gaps hold a
  * threshold; one cell per σ lost 0.009 bit on a 1-bit OOK case); with
  * several cells per level (5 bits, 4 to 8 levels) the grid must resolve
- * the quantizer's own cells, hence up to four. */
+ * the quantizer's own cells, hence up to four. The dynamic programme
+ * costs about K·(N − K + 1) cell values, each a sum over the λ levels
+ * whose support reaches the cell (λ the summed support widths over the
+ * output range's width); N is lowered so that K·(N − K + 1)·λ stays
+ * within DP_WORK_LIMIT, down to K. That binds only for alphabets of
+ * hundreds of levels at high resolution (PAM-4096 at 30 dB has λ ≈ 618:
+ * at 10 bits N = 1129 instead of 2048), where the cells are far finer
+ * than the noise and the companding start (optimal.c) takes over. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -43,6 +50,7 @@
 #define SCALE_CELLS_PER_K 0.25 /* … growing as K/4 in between */
 #define TAIL_FLAT 2.0          /* σ beyond the outer mean with s constant */
 #define SUPPORT_PER_SCALE 16.6 /* support width per σ (gauss.c's ±8.3σ) */
+#define DP_WORK_LIMIT 6.7e7    /* K·(N − K + 1)·λ of the dynamic programme */
 
 typedef struct {
     double mu, sd;
@@ -166,6 +174,21 @@ size_t qc_coarse_cells(const qc_model *model, const double *levels, const double
         n = want < (double)cap ? (size_t)ceil(want) : cap;
     if (n > cap)
         n = cap;
+    /* the DP's work: levels per cell λ from the supports */
+    double lo, hi, widths = 0.0;
+    qc_levels_support(model, levels, nlevels, &lo, &hi);
+    for (size_t x = 0; x < nlevels; x++) {
+        double a, b;
+        if (!(input[x] > 0.0))
+            continue;
+        qc_model_get_type(model)->support(model, levels[x], &a, &b);
+        if (isfinite(a) && isfinite(b) && b > a)
+            widths += fmin(b, hi) - fmax(a, lo);
+    }
+    const double lambda = hi > lo && isfinite(hi - lo) ? fmax(1.0, widths / (hi - lo)) : 1.0;
+    const double room = DP_WORK_LIMIT / ((double)cells * lambda); /* N − K + 1 */
+    if ((double)n > (double)cells - 1.0 + room)
+        n = cells - 1 + (room >= 1.0 ? (size_t)room : 1);
     return n < cells ? cells : n;
 }
 

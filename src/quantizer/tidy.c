@@ -21,6 +21,9 @@
  *     (1e-16 relative) meets ε, so the middle is rounded to the coarsest
  *     power-of-two grid with a point within 1e-4 of the interval's width
  *     (qc_simplest_within): 0 rather than 2e-9, 2 rather than 1.9999999994.
+ *     The rate at a trial position is the design's rate plus the change of
+ *     the two cells beside the threshold (two_cells_share), exact and free
+ *     of the rounding of the whole sum.
  *  3. The removed thresholds return one at a time, each splitting the
  *     cell of largest output probability (ties: lowest index) at the
  *     median of the output law in that cell: splitting never lowers the
@@ -220,10 +223,68 @@ double qc_simplest_within(double x, double tol)
     return x;
 }
 
+/* The two cells on either side of one threshold whose neighbours a and b
+ * stay put: the tails of every level at a and b, so that the rate's
+ * change when the threshold moves costs one tail pair per level. */
+typedef struct {
+    const qc_model *model;
+    const double *levels, *r;
+    size_t nx;
+    double *la, *ha, *lb, *hb; /* tails at a and b (nx each) */
+} two_cells;
+
+static void two_cells_ends(two_cells *p, double a, double b)
+{
+    for (size_t x = 0; x < p->nx; x++) {
+        if (!(p->r[x] > 0.0))
+            continue;
+        if (isfinite(a))
+            qc_tails_at(p->model, p->levels[x], a, &p->la[x], &p->ha[x]);
+        else
+            p->la[x] = 0.0, p->ha[x] = 1.0;
+        if (isfinite(b))
+            qc_tails_at(p->model, p->levels[x], b, &p->lb[x], &p->hb[x]);
+        else
+            p->lb[x] = 1.0, p->hb[x] = 0.0;
+    }
+}
+
+/* The two cells' share Σ_x r(x) P log(P/q) of I(X;Y_q) with the threshold
+ * at c: the rate moves with c by exactly the change of this share. */
+static double two_cells_share(const two_cells *p, double c)
+{
+    double s = 0.0, qa = 0.0, qb = 0.0;
+    for (size_t x = 0; x < p->nx; x++) {
+        /* a level with no mass in [a, b) adds nothing */
+        if (!(p->r[x] > 0.0) || !(p->lb[x] > 0.0) || !(p->ha[x] > 0.0))
+            continue;
+        double lc, hc;
+        qc_tails_at(p->model, p->levels[x], c, &lc, &hc);
+        double pa = fmax(qc_cell_between(p->la[x], p->ha[x], lc, hc), 0.0);
+        double pb = fmax(qc_cell_between(lc, hc, p->lb[x], p->hb[x]), 0.0);
+        if (pa > 0.0) {
+            s += p->r[x] * pa * log(pa);
+            qa += p->r[x] * pa;
+        }
+        if (pb > 0.0) {
+            s += p->r[x] * pb * log(pb);
+            qb += p->r[x] * pb;
+        }
+    }
+    if (qa > 0.0)
+        s -= qa * log(qa);
+    if (qb > 0.0)
+        s -= qb * log(qb);
+    return s;
+}
+
 /* Step 2: move essential threshold e[j] to the middle of its flat
- * interval (rate ≥ floor). */
-static qc_status center_one(qc_cell_mi *w, double *e, size_t m, size_t j, double lo,
-                            double hi, double floor_nats)
+ * interval (rate ≥ floor). *rate is the rate of e, updated when e[j]
+ * moves; the rate at a trial position is *rate plus the change of the two
+ * neighbouring cells' share, which is exact and free of the rounding of
+ * the whole sum (the whole rate is checked once more at the end). */
+static void center_one(two_cells *p, double *e, size_t m, size_t j, double lo, double hi,
+                       double *rate, double floor_nats)
 {
     const double t0 = e[j];
     double left = j > 0 ? e[j - 1] : lo, right = j + 1 < m ? e[j + 1] : hi;
@@ -235,27 +296,17 @@ static qc_status center_one(qc_cell_mi *w, double *e, size_t m, size_t j, double
      * a small step away) stays where the design put it */
     const double step = FLAT_PROBE * fmin(t0 - left, right - t0);
     if (!(step > 0.0))
-        return QC_OK;
-    for (int side = 0; side < 2; side++) {
-        double v;
-        e[j] = side ? t0 + step : t0 - step;
-        qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
-        e[j] = t0;
-        if (st != QC_OK)
-            return st;
-        if (!(v >= floor_nats))
-            return QC_OK;
-    }
+        return;
+    two_cells_ends(p, j > 0 ? e[j - 1] : -INFINITY, j + 1 < m ? e[j + 1] : INFINITY);
+    const double share0 = two_cells_share(p, t0);
+#define RATE_AT(c) (*rate + (two_cells_share(p, (c)) - share0))
+    for (int side = 0; side < 2; side++)
+        if (!(RATE_AT(side ? t0 + step : t0 - step) >= floor_nats))
+            return;
     double ends[2];
     for (int side = 0; side < 2; side++) {
-        double good = t0, bad = side ? right : left, v;
-        e[j] = bad;
-        qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
-        if (st != QC_OK) {
-            e[j] = t0;
-            return st;
-        }
-        if (v >= floor_nats) {
+        double good = t0, bad = side ? right : left;
+        if (RATE_AT(bad) >= floor_nats) {
             ends[side] = bad;
             continue;
         }
@@ -263,12 +314,7 @@ static qc_status center_one(qc_cell_mi *w, double *e, size_t m, size_t j, double
             double c = 0.5 * (good + bad);
             if (c == good || c == bad)
                 break;
-            e[j] = c;
-            if ((st = qc_cell_mi_eval(w, e, &v, NULL)) != QC_OK) {
-                e[j] = t0;
-                return st;
-            }
-            if (v >= floor_nats)
+            if (RATE_AT(c) >= floor_nats)
                 good = c;
             else
                 bad = c;
@@ -276,14 +322,13 @@ static qc_status center_one(qc_cell_mi *w, double *e, size_t m, size_t j, double
         ends[side] = good;
     }
     double mid = qc_simplest_within(0.5 * (ends[0] + ends[1]),
-                                    ROUND_SHARE * (ends[1] - ends[0])),
-           v;
-    e[j] = mid;
-    qc_status st = qc_cell_mi_eval(w, e, &v, NULL);
-    if (st != QC_OK || !(v >= floor_nats) || (j > 0 && !(mid > e[j - 1])) ||
-        (j + 1 < m && !(mid < e[j + 1])))
-        e[j] = t0;
-    return st;
+                                    ROUND_SHARE * (ends[1] - ends[0]));
+    double v = RATE_AT(mid);
+#undef RATE_AT
+    if (v >= floor_nats && (j == 0 || mid > e[j - 1]) && (j + 1 == m || mid < e[j + 1])) {
+        e[j] = mid;
+        *rate = v;
+    }
 }
 
 qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
@@ -297,6 +342,7 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
     unsigned char *keep = qc_malloc_array(nt + 1, sizeof *keep);
     double *e = qc_malloc_array(nt, sizeof *e);
     double *q = qc_malloc_array(nt + 1, sizeof *q);
+    double *tails = NULL;
     qc_status st = QC_OK;
     if (!keep || !e || !q) {
         st = qc_fail(QC_ENOMEM, "out of memory");
@@ -321,10 +367,20 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
     if (m > 0) {
         if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, m, &we)) != QC_OK)
             goto done;
-        if (!counts && m <= TIDY_MAX_CENTERED)
+        if (!counts && m <= TIDY_MAX_CENTERED) {
+            double rate;
+            if ((st = qc_cell_mi_eval(we, e, &rate, NULL)) != QC_OK)
+                goto done;
+            tails = qc_malloc_array(4 * nlevels, sizeof *tails);
+            if (!tails) {
+                st = qc_fail(QC_ENOMEM, "out of memory");
+                goto done;
+            }
+            two_cells p = {model, levels, input, nlevels, tails, tails + nlevels,
+                           tails + 2 * nlevels, tails + 3 * nlevels};
             for (size_t j = 0; j < m; j++)
-                if ((st = center_one(we, e, m, j, lo, hi, floor_nats)) != QC_OK)
-                    goto done;
+                center_one(&p, e, m, j, lo, hi, &rate, floor_nats);
+        }
         /* step 3: cell masses of the essential quantizer, then greedy splits */
         double ie;
         if ((st = qc_cell_mi_eval(we, e, &ie, NULL)) != QC_OK)
@@ -375,6 +431,7 @@ done:
     free(keep);
     free(e);
     free(q);
+    free(tails);
     return st;
 }
 

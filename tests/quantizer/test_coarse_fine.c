@@ -5,7 +5,8 @@
  * and resolutions; the automatic grid has the size and spacing of its rule
  * (scale_grid.c); the Newton refinement (refine.c) never lowers the rate
  * and ends where the exact gradient vanishes; more cells never lower the
- * rate. */
+ * rate; on a dense alphabet the DP's rate is that of its cuts and its
+ * grid keeps within the DP's work limit. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -287,6 +288,61 @@ static void test_grid_sizes(void **state)
     qc_model_free(m);
 }
 
+/* A dense alphabet: 256 levels 2 apart under σ = 20, so that a point of
+ * the output range sees about a hundred levels. The DP, which visits only
+ * the levels that reach a cell, must give the rate of its own cuts
+ * computed from the whole merged channel; and at 10 bits the grid is
+ * lowered to K − 1 + 6.7e7 / (K·λ) cells (the DP's work, scale_grid.c),
+ * λ the summed support widths over the output range's width. */
+static void test_dense_alphabet(void **state)
+{
+    (void)state;
+    enum { L = 256 };
+    double levels[L], law[L], sigma = 20.0;
+    for (size_t i = 0; i < L; i++) {
+        levels[i] = -255.0 + 2.0 * (double)i;
+        law[i] = 1.0 / L;
+    }
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    const size_t K = 16;
+    qc_fine_grid g;
+    assert_int_equal(qc_coarse_grid_build(m, levels, law, L, K, &g), QC_OK);
+    size_t cuts[17];
+    double dp_mi;
+    assert_int_equal(qc_dp_quantize(g.p, law, K, QC_DP_FAST, cuts, &dp_mi), QC_OK);
+    qc_dmc *d;
+    assert_int_equal(qc_dmc_merge(g.p, cuts, K, &d), QC_OK);
+    double q[17] = {0}, mi = 0.0;
+    for (size_t x = 0; x < L; x++)
+        for (size_t c = 0; c < K; c++)
+            q[c] += law[x] * d->p[x * K + c];
+    for (size_t x = 0; x < L; x++)
+        for (size_t c = 0; c < K; c++) {
+            double p = d->p[x * K + c];
+            if (p > 0.0)
+                mi += law[x] * p * log(p / q[c]);
+        }
+    assert_true(fabs(mi - dp_mi) <= 1e-12 * mi);
+    qc_dmc_free(d);
+    qc_fine_grid_clear(&g);
+
+    double lo, hi, widths = 0.0;
+    qc_levels_support(m, levels, L, &lo, &hi);
+    for (size_t x = 0; x < L; x++) {
+        double a, b;
+        qc_model_get_type(m)->support(m, levels[x], &a, &b);
+        widths += fmin(b, hi) - fmax(a, lo);
+    }
+    const double lambda = widths / (hi - lo);
+    assert_true(lambda > 90.0 && lambda < 110.0);
+    const size_t big = 1024;
+    size_t want = big - 1 + (size_t)(6.7e7 / ((double)big * lambda));
+    assert_true(want < 2 * big); /* the work limit binds */
+    assert_int_equal(qc_coarse_cells(m, levels, law, L, big), want);
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -294,6 +350,7 @@ int main(void)
         cmocka_unit_test(test_not_below_own_grid_dp),
         cmocka_unit_test(test_newton_reaches_stationary_point),
         cmocka_unit_test(test_grid_sizes),
+        cmocka_unit_test(test_dense_alphabet),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
