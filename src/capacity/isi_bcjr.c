@@ -154,7 +154,7 @@ int qc_isi_bcjr(const qc_isi_channel *ch, const double *lik, const qc_isi_trace 
                         rc = 1;
                         goto done;
                     }
-                    loss += log1p(p_wrong / p_true);
+                    loss += qc_log1p_ratio(p_wrong, p_true);
                 }
             }
             /* β_k(s) ∝ Σ_{t: t / M = s} w_k(t)·β_{k+1}(t mod S) */

@@ -35,6 +35,10 @@ qc_status qc_check_labels(const double *input, size_t nx, const size_t *labels,
  * one output: its share of H(B|Y), accurate when one value dominates. */
 double qc_bit_term(double p0, double p1);
 
+/* log(1 + a/b) for a ≥ 0, b > 0, also where a/b overflows (b subnormal,
+ * a of order one): then log a − log b, which is that value to rounding. */
+double qc_log1p_ratio(double a, double b);
+
 /* out[i] = log in[i] where in[i] > 0, `floor` where in[i] = 0 (in ≥ 0,
  * finite): glibc's vector logarithm (libmvec, below 4 ulp) on normal
  * numbers where the build has it, log(3) on the rest (vlog.c). */

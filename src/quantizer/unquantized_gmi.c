@@ -42,7 +42,7 @@ static double gmi_term(const gmi_ctx *c, double y)
         unsigned v = (c->labels[c->x] >> b) & 1;
         double own = c->g[2 * b + v], other = c->g[2 * b + (v ^ 1u)];
         if (own > 0.0)
-            s += log1p(other / own);
+            s += qc_log1p_ratio(other, own);
     }
     return f * s;
 }

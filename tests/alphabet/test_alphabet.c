@@ -334,6 +334,29 @@ static void test_gmi_properties(void **state)
     }
     assert_int_equal(qc_gmi(id, r, lab, 3, &g), QC_OK);
     assert_near(g, 3.0 * M_LN2, TOL_TIGHT);
+    /* a cell whose mass under one level is subnormal (7.4e-323) while the
+     * other level's is of order one, as photon counting at 100 photons
+     * per pulse gives: the ratio of the two overflows, yet the one-bit
+     * GMI is the MI, about 1 bit (it came out 0) */
+    {
+        qc_dmc *ook;
+        assert_int_equal(qc_dmc_alloc(2, 3, &ook), QC_OK);
+        const double p0[3] = {1.0 - 1.38e-15, 1.38e-15 - 7.41e-323, 7.41e-323};
+        const double p1[3] = {3.23e-36, 0.4, 0.6 - 3.23e-36};
+        for (size_t y = 0; y < 3; y++) {
+            ook->p[y] = p0[y];
+            ook->p[3 + y] = p1[y];
+        }
+        const double half[2] = {0.5, 0.5};
+        const size_t bit[2] = {0, 1};
+        double gb, mib;
+        assert_int_equal(qc_gmi(ook, half, bit, 1, &gb), QC_OK);
+        assert_int_equal(qc_mutual_information(ook, half, &mib), QC_OK);
+        assert_true(isfinite(gb));
+        assert_near(gb, mib, TOL_TIGHT);
+        assert_true(gb > 0.999 * M_LN2);
+        qc_dmc_free(ook);
+    }
     /* labels: repeated among inputs in use, or too wide */
     lab[1] = lab[0];
     assert_int_equal(qc_gmi(id, r, lab, 3, &g), QC_EINVAL);
