@@ -62,15 +62,15 @@ qc_status qc_check_labels(const double *input, size_t nx, const size_t *labels,
     return st;
 }
 
-/* Σ_v p_v log(1 + p_v̄/p_v) for the joint masses of the two bit values at
- * one output: that output's share of H(B|Y), accurate when one value
- * dominates. */
 double qc_log1p_ratio(double a, double b)
 {
     const double r = a / b;
     return isfinite(r) ? log1p(r) : log(a) - log(b);
 }
 
+/* Σ_v p_v log(1 + p_v̄/p_v) for the joint masses of the two bit values at
+ * one output: that output's share of H(B|Y), accurate when one value
+ * dominates. */
 double qc_bit_term(double p0, double p1)
 {
     double h = 0.0;

@@ -35,8 +35,8 @@
  * whose support reaches the cell (λ the summed support widths over the
  * output range's width); N is lowered so that K·(N − K + 1)·λ stays
  * within DP_WORK_LIMIT, down to K. That binds only for alphabets of
- * hundreds of levels at high resolution (PAM-4096 at 30 dB has λ ≈ 618:
- * at 10 bits N = 1129 instead of 2048), where the cells are far finer
+ * hundreds of levels at high resolution (PAM-4096 at 30 dB has λ ≈ 539:
+ * at 10 bits N = 1144 instead of 2048), where the cells are far finer
  * than the noise and the companding start (optimal.c) takes over. */
 #include "quantizer/quantizer.h"
 

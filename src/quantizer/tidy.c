@@ -238,14 +238,18 @@ static void two_cells_ends(two_cells *p, double a, double b)
     for (size_t x = 0; x < p->nx; x++) {
         if (!(p->r[x] > 0.0))
             continue;
-        if (isfinite(a))
+        if (isfinite(a)) {
             qc_tails_at(p->model, p->levels[x], a, &p->la[x], &p->ha[x]);
-        else
-            p->la[x] = 0.0, p->ha[x] = 1.0;
-        if (isfinite(b))
+        } else {
+            p->la[x] = 0.0;
+            p->ha[x] = 1.0;
+        }
+        if (isfinite(b)) {
             qc_tails_at(p->model, p->levels[x], b, &p->lb[x], &p->hb[x]);
-        else
-            p->lb[x] = 1.0, p->hb[x] = 0.0;
+        } else {
+            p->lb[x] = 1.0;
+            p->hb[x] = 0.0;
+        }
     }
 }
 
@@ -278,6 +282,13 @@ static double two_cells_share(const two_cells *p, double c)
     return s;
 }
 
+/* The rate with the threshold at c, from the rate `rate` with it where the
+ * two cells' share is share0. */
+static double rate_at(const two_cells *p, double rate, double share0, double c)
+{
+    return rate + (two_cells_share(p, c) - share0);
+}
+
 /* Step 2: move essential threshold e[j] to the middle of its flat
  * interval (rate ≥ floor). *rate is the rate of e, updated when e[j]
  * moves; the rate at a trial position is *rate plus the change of the two
@@ -299,14 +310,13 @@ static void center_one(two_cells *p, double *e, size_t m, size_t j, double lo, d
         return;
     two_cells_ends(p, j > 0 ? e[j - 1] : -INFINITY, j + 1 < m ? e[j + 1] : INFINITY);
     const double share0 = two_cells_share(p, t0);
-#define RATE_AT(c) (*rate + (two_cells_share(p, (c)) - share0))
     for (int side = 0; side < 2; side++)
-        if (!(RATE_AT(side ? t0 + step : t0 - step) >= floor_nats))
+        if (!(rate_at(p, *rate, share0, side ? t0 + step : t0 - step) >= floor_nats))
             return;
     double ends[2];
     for (int side = 0; side < 2; side++) {
         double good = t0, bad = side ? right : left;
-        if (RATE_AT(bad) >= floor_nats) {
+        if (rate_at(p, *rate, share0, bad) >= floor_nats) {
             ends[side] = bad;
             continue;
         }
@@ -314,7 +324,7 @@ static void center_one(two_cells *p, double *e, size_t m, size_t j, double lo, d
             double c = 0.5 * (good + bad);
             if (c == good || c == bad)
                 break;
-            if (RATE_AT(c) >= floor_nats)
+            if (rate_at(p, *rate, share0, c) >= floor_nats)
                 good = c;
             else
                 bad = c;
@@ -323,8 +333,7 @@ static void center_one(two_cells *p, double *e, size_t m, size_t j, double lo, d
     }
     double mid = qc_simplest_within(0.5 * (ends[0] + ends[1]),
                                     ROUND_SHARE * (ends[1] - ends[0]));
-    double v = RATE_AT(mid);
-#undef RATE_AT
+    double v = rate_at(p, *rate, share0, mid);
     if (v >= floor_nats && (j == 0 || mid > e[j - 1]) && (j + 1 == m || mid < e[j + 1])) {
         e[j] = mid;
         *rate = v;
