@@ -246,6 +246,30 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
                                 const qc_fine_grid *g, double *t_out,
                                 double *mi_nats, size_t *iterations);
 
+/* ---- unquantized_mi.c: pieces shared with unquantized_gmi.c ----------- */
+
+/* Each level's support [lo[i], hi[i]] (the model's interval holding all
+ * but ~1e-15 of its mass), the order of the levels by where it starts,
+ * those starts in that order and the widest support's width. */
+qc_status qc_supports_sorted(const qc_model *model, const double *levels, size_t n,
+                             double *lo, double *hi, size_t *order, double *lo_sorted,
+                             double *width);
+
+/* First k with sorted[k] ≥ v (n when none). */
+size_t qc_first_at_or_above(const double *sorted, size_t n, double v);
+
+/* The mass of a level outside its support [lo, hi] (from the model's
+ * CDFs), at least 1e-15 (what the support's contract allows), at most 1. */
+double qc_support_tail(const qc_model *model, double level, double lo, double hi);
+
+/* ∫ integrand over the union of the supports [lo[i], hi[i]] of the levels
+ * ov[0..nov), cut into panels no wider than a sixteenth of the narrowest
+ * support that starts or ends in them, by GSL's QAGS on each; *err sums
+ * the panels' error estimates. `what` names the integral in a failure. */
+qc_status qc_integrate_union(const double *lo, const double *hi, const size_t *ov,
+                             size_t nov, double (*integrand)(double, void *), void *ctx,
+                             const char *what, double *val, double *err);
+
 /* ---- unquantized_memo.c ---------------------------------------------- */
 
 /* Lookups answered from the store and lookups that computed (for tests

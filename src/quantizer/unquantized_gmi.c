@@ -1,14 +1,32 @@
 /* unquantized_gmi.c — the bit-metric GMI (see src/core/gmi.c) with the
- * unquantized receiver output: adaptive quadrature per level (GSL QAGS),
- * or a sum over counts, as qc_unquantized_mi. */
+ * unquantized receiver output: GMI = H(X) − Σ_b H(B_b|Y), with
+ *   Σ_b H(B_b|Y) = ∫ Σ_b h(g_{b,0}(y), g_{b,1}(y)) dy,
+ * g_{b,v}(y) = Σ_{x: bit b of x is v} r(x) f(y|x) and h(p0, p1) =
+ * p0 log(1 + p1/p0) + p1 log(1 + p0/p1) (qc_bit_term), one integral (or
+ * sum over counts) over the union of the level supports, as
+ * qc_unquantized_mi takes I(X;Y): a point costs the levels whose support
+ * holds it, so the cost grows linearly with the number of levels.
+ *
+ * Truncation bound. Leaving out of g the levels whose support S_j does not
+ * hold y removes δ(y) = Σ_{j: y ∉ S_j} r_j f_j(y) ≥ 0, of total mass
+ * E = Σ_j r_j ε_j (ε_j the mass of level j outside S_j). h is the
+ * perspective of the binary entropy, so it is superadditive and
+ * h(g̃ + δ) ≥ h(g̃); and with Z the indicator of the left-out part,
+ * H(B|Y) ≤ H(Z|Y) + H(B|Y,Z) gives h(g̃ + δ) ≤ h(g̃) + |δ| log 2 +
+ * |δ|(1 + log(1 + |g̃|/|δ|)). By Jensen ∫ |δ| log(1 + |g̃|/|δ|) ≤
+ * E log(1 + 1/E), and outside the union each bit adds at most E log 2, so
+ * per bit the computed H(B_b|Y) is below the exact one by at most
+ * E (1 + 2 log 2 + log(1 + 1/E)): added to the error estimate for every
+ * label bit. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_integration.h>
+#include <gsl/gsl_math.h> /* M_LN2 */
+
+#define MAX_COUNT_SPAN 1e8
 
 typedef struct {
     const qc_model *m;
@@ -16,43 +34,58 @@ typedef struct {
     const size_t *labels;
     size_t n;
     unsigned nbits;
-    size_t x;   /* the level being integrated */
-    double *g;  /* scratch: 2·nbits bit-value masses */
+    const double *lo, *hi;   /* each level's support */
+    const size_t *order;     /* levels by where their support starts */
+    const double *lo_sorted; /* lo[order[k]] */
+    double width;            /* widest support */
+    double *g;               /* scratch: 2·nbits bit-value masses */
 } gmi_ctx;
 
-/* f(y|x)·Σ_b log(1 + g_{b,¬v}(y)/g_{b,v}(y)), v = bit b of x: level x's
- * share of Σ_b H(B_b|Y) at y. */
-static double gmi_term(const gmi_ctx *c, double y)
+/* Σ_b h(g_{b,0}(y), g_{b,1}(y)) over the levels whose support holds y:
+ * the integrand of Σ_b H(B_b|Y). */
+static double bits_term(const gmi_ctx *c, double y)
 {
-    double f = qc_model_get_type(c->m)->density(c->m, c->levels[c->x], y);
-    if (!(f > 0.0))
-        return 0.0;
+    const qc_model_type *ty = qc_model_get_type(c->m);
     memset(c->g, 0, 2 * (size_t)c->nbits * sizeof *c->g);
-    for (size_t i = 0; i < c->n; i++) {
-        if (!(c->input[i] > 0.0))
+    for (size_t k = qc_first_at_or_above(c->lo_sorted, c->n, y - c->width);
+         k < c->n && c->lo_sorted[k] <= y; k++) {
+        size_t j = c->order[k];
+        if (!(c->input[j] > 0.0) || !(y <= c->hi[j]))
             continue;
-        double p = c->input[i] * qc_model_get_type(c->m)->density(c->m, c->levels[i], y);
+        double p = c->input[j] * ty->density(c->m, c->levels[j], y);
         if (!(p > 0.0))
             continue;
         for (unsigned b = 0; b < c->nbits; b++)
-            c->g[2 * b + ((c->labels[i] >> b) & 1)] += p;
+            c->g[2 * b + ((c->labels[j] >> b) & 1)] += p;
     }
     double s = 0.0;
-    for (unsigned b = 0; b < c->nbits; b++) {
-        unsigned v = (c->labels[c->x] >> b) & 1;
-        double own = c->g[2 * b + v], other = c->g[2 * b + (v ^ 1u)];
-        if (own > 0.0)
-            s += qc_log1p_ratio(other, own);
-    }
-    return f * s;
+    for (unsigned b = 0; b < c->nbits; b++)
+        s += qc_bit_term(c->g[2 * b], c->g[2 * b + 1]);
+    return s;
 }
 
-static double gmi_integrand(double y, void *p) { return gmi_term(p, y); }
+static double bits_integrand(double y, void *p) { return bits_term(p, y); }
 
-#define UNQ_EPSABS 1e-13
-#define UNQ_EPSREL 1e-11
-#define UNQ_LIMIT 2000
-#define MAX_COUNT_SPAN 1e8
+/* Count outputs: the sum of the integrand over every count of the union
+ * of the supports. */
+static qc_status sum_counts(const gmi_ctx *c, double *val, double *err)
+{
+    double a = INFINITY, b = -INFINITY;
+    for (size_t i = 0; i < c->n; i++)
+        if (c->input[i] > 0.0) {
+            a = fmin(a, fmax(0.0, floor(c->lo[i])));
+            b = fmax(b, ceil(c->hi[i]));
+        }
+    *val = *err = 0.0;
+    if (!(b >= a))
+        return QC_OK;
+    if (b - a > MAX_COUNT_SPAN)
+        return qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);
+    for (double y = a; y <= b; y += 1.0)
+        *val += bits_term(c, y);
+    *err = 1e-15 * (b - a + 1.0);
+    return QC_OK;
+}
 
 qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, const size_t *labels,
@@ -64,45 +97,41 @@ qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,
         st = qc_check_labels(input, nlevels, labels, nbits);
     if (st != QC_OK)
         return st;
-    gmi_ctx c = {model, levels, input, labels, nlevels, nbits, 0, NULL};
-    c.g = qc_malloc_array(2 * (size_t)nbits, sizeof *c.g);
-    gsl_integration_workspace *w = NULL;
-    if (c.g && qc_model_get_type(model)->output == QC_OUTPUT_REAL)
-        w = gsl_integration_workspace_alloc(UNQ_LIMIT);
-    if (!c.g || (qc_model_get_type(model)->output == QC_OUTPUT_REAL && !w)) {
-        free(c.g);
+    double *sup = qc_malloc_array(3 * nlevels + 2 * (size_t)nbits, sizeof *sup);
+    size_t *order = qc_malloc_array(2 * nlevels, sizeof *order);
+    if (!sup || !order) {
+        free(sup);
+        free(order);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
+    gmi_ctx c = {model, levels, input, labels, nlevels, nbits, sup, sup + nlevels,
+                 order, sup + 2 * nlevels, 0.0, sup + 3 * nlevels};
     double hb = 0.0, err = 0.0;
-    for (size_t i = 0; i < nlevels && st == QC_OK; i++) {
-        if (input[i] <= 0.0)
-            continue;
-        c.x = i;
-        double lo, hi, val = 0.0, e = 0.0;
-        qc_model_get_type(model)->support(model, levels[i], &lo, &hi);
-        if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
-            double a = fmax(0.0, floor(lo)), b = ceil(hi);
-            if (b - a > MAX_COUNT_SPAN) {
-                st = qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);
-                break;
-            }
-            for (double y = a; y <= b; y += 1.0)
-                val += gmi_term(&c, y);
-            e = 1e-15 * (b - a + 1.0);
-        } else {
-            gsl_function fn = {gmi_integrand, &c};
-            int rc = gsl_integration_qags(&fn, lo, hi, UNQ_EPSABS, UNQ_EPSREL, UNQ_LIMIT, w,
-                                          &val, &e);
-            if (rc != GSL_SUCCESS && rc != GSL_EROUND)
-                st = qc_fail(QC_ENUMERIC,
-                             "quadrature of the unquantized GMI failed at level %g: %s",
-                             levels[i], gsl_strerror(rc));
-        }
-        hb += input[i] * val;
-        err += input[i] * e;
+    st = qc_supports_sorted(model, levels, nlevels, sup, sup + nlevels, order,
+                            sup + 2 * nlevels, &c.width);
+    if (st == QC_OK && qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
+        st = sum_counts(&c, &hb, &err);
+    } else if (st == QC_OK) {
+        /* levels of positive probability whose output is wider than the
+         * resolution of doubles (a point mass is told apart from every
+         * other level: it adds nothing to H(B|Y)) */
+        size_t *ov = order + nlevels, nov = 0;
+        for (size_t i = 0; i < nlevels; i++)
+            if (input[i] > 0.0 && c.hi[i] > c.lo[i])
+                ov[nov++] = i;
+        st = qc_integrate_union(c.lo, c.hi, ov, nov, bits_integrand, &c,
+                                "the unquantized GMI", &hb, &err);
     }
-    gsl_integration_workspace_free(w);
-    free(c.g);
+    if (st == QC_OK) {
+        double e = 0.0; /* the truncation bound of the header */
+        for (size_t i = 0; i < nlevels; i++)
+            if (input[i] > 0.0)
+                e += input[i] * qc_support_tail(model, levels[i], c.lo[i], c.hi[i]);
+        if (e > 0.0)
+            err += (double)nbits * e * (1.0 + 2.0 * M_LN2 + log1p(1.0 / e));
+    }
+    free(sup);
+    free(order);
     if (st != QC_OK)
         return st;
     double g = qc_entropy(input, nlevels) - hb;

@@ -59,8 +59,7 @@ typedef struct {
     double *f;               /* scratch: densities of the levels holding y */
 } mi_ctx;
 
-/* First k with sorted[k] ≥ v (n when none). */
-static size_t first_at_or_above(const double *sorted, size_t n, double v)
+size_t qc_first_at_or_above(const double *sorted, size_t n, double v)
 {
     size_t a = 0, b = n;
     while (a < b) {
@@ -92,7 +91,7 @@ static int holds(const mi_ctx *c, size_t j, double y)
 static double summed_term(const mi_ctx *c, double y)
 {
     const qc_model_type *ty = qc_model_get_type(c->m);
-    size_t k0 = first_at_or_above(c->lo_sorted, c->n, y - c->width), na = 0;
+    size_t k0 = qc_first_at_or_above(c->lo_sorted, c->n, y - c->width), na = 0;
     double mix = 0.0;
     for (size_t k = k0; k < c->n && c->lo_sorted[k] <= y; k++) {
         size_t j = c->order[k];
@@ -128,7 +127,7 @@ static double count_term(const mi_ctx *c, double y)
     if (!(f > 0.0))
         return 0.0;
     double mix = 0.0;
-    for (size_t k = first_at_or_above(c->lo_sorted, c->n, y - c->width);
+    for (size_t k = qc_first_at_or_above(c->lo_sorted, c->n, y - c->width);
          k < c->n && c->lo_sorted[k] <= y; k++) {
         size_t i = c->order[k];
         if (holds(c, i, y))
@@ -144,7 +143,7 @@ static double count_term(const mi_ctx *c, double y)
 static double point_share(const mi_ctx *c, size_t i)
 {
     double m = 0.0;
-    for (size_t k = first_at_or_above(c->lo_sorted, c->n, c->lo[i]);
+    for (size_t k = qc_first_at_or_above(c->lo_sorted, c->n, c->lo[i]);
          k < c->n && c->lo_sorted[k] <= c->lo[i]; k++) {
         size_t j = c->order[k];
         if (point_mass(c, j) && c->hi[j] == c->hi[i] && c->input[j] > 0.0)
@@ -158,7 +157,7 @@ static double point_share(const mi_ctx *c, size_t i)
 static int overlaps_other(const mi_ctx *c, size_t i)
 {
     const double lo = c->lo[i], hi = c->hi[i];
-    for (size_t k = first_at_or_above(c->lo_sorted, c->n, lo - c->width);
+    for (size_t k = qc_first_at_or_above(c->lo_sorted, c->n, lo - c->width);
          k < c->n && c->lo_sorted[k] <= hi; k++) {
         size_t j = c->order[k];
         if (j != i && c->input[j] > 0.0 && c->hi[j] >= lo)
@@ -170,24 +169,25 @@ static int overlaps_other(const mi_ctx *c, size_t i)
 /* Level i's share of the truncation bound (see the header): p ε (1 +
  * |log ε| − log p), ε the mass outside its support (at least SUPPORT_TAIL,
  * what the support's contract allows). */
-static double truncation(const mi_ctx *c, size_t i)
+double qc_support_tail(const qc_model *model, double level, double lo, double hi)
 {
-    const qc_model_type *ty = qc_model_get_type(c->m);
-    double p = c->input[i];
-    double eps = ty->below(c->m, c->levels[i], c->lo[i]) +
-                 ty->above(c->m, c->levels[i], c->hi[i]);
+    const qc_model_type *ty = qc_model_get_type(model);
+    double eps = ty->below(model, level, lo) + ty->above(model, level, hi);
     if (!(eps >= SUPPORT_TAIL) || !isfinite(eps))
         eps = SUPPORT_TAIL;
-    if (eps > 1.0)
-        eps = 1.0;
+    return eps > 1.0 ? 1.0 : eps;
+}
+
+static double truncation(const mi_ctx *c, size_t i)
+{
+    double p = c->input[i];
+    double eps = qc_support_tail(c->m, c->levels[i], c->lo[i], c->hi[i]);
     return p * eps * (1.0 + fabs(log(eps)) - log(p));
 }
 
-/* The overlapping levels' integral: the union of their supports cut into
- * panels (events: support ends, sorted), QAGS on each. */
-static qc_status integrate_union(const mi_ctx *c, const size_t *ov, size_t nov,
-                                 gsl_integration_workspace *w, double *val,
-                                 double *err)
+qc_status qc_integrate_union(const double *lo, const double *hi, const size_t *ov,
+                             size_t nov, double (*integrand)(double, void *), void *ctx,
+                             const char *what, double *val, double *err)
 {
     *val = *err = 0.0;
     if (nov == 0)
@@ -195,13 +195,15 @@ static qc_status integrate_union(const mi_ctx *c, const size_t *ov, size_t nov,
     double *pos = qc_malloc_array(2 * nov, sizeof *pos);
     double *wid = qc_malloc_array(2 * nov, sizeof *wid);
     size_t *ord = qc_malloc_array(2 * nov, sizeof *ord);
-    qc_status st = !pos || !wid || !ord ? qc_fail(QC_ENOMEM, "out of memory") : QC_OK;
+    gsl_integration_workspace *w = gsl_integration_workspace_alloc(UNQ_LIMIT);
+    qc_status st =
+        !pos || !wid || !ord || !w ? qc_fail(QC_ENOMEM, "out of memory") : QC_OK;
     if (st == QC_OK) {
         for (size_t k = 0; k < nov; k++) {
             size_t i = ov[k];
-            pos[2 * k] = c->lo[i];
-            pos[2 * k + 1] = c->hi[i];
-            wid[2 * k] = wid[2 * k + 1] = c->hi[i] - c->lo[i];
+            pos[2 * k] = lo[i];
+            pos[2 * k + 1] = hi[i];
+            wid[2 * k] = wid[2 * k + 1] = hi[i] - lo[i];
         }
         st = qc_sort_order(pos, 2 * nov, ord);
     }
@@ -210,7 +212,7 @@ static qc_status integrate_union(const mi_ctx *c, const size_t *ov, size_t nov,
      * once it is a sixteenth of the narrowest support met in it wide. */
     size_t open = 0;
     double start = NAN, narrow = INFINITY;
-    gsl_function fn = {summed_integrand, (void *)c};
+    gsl_function fn = {integrand, ctx};
     for (size_t e = 0; e < 2 * nov && st == QC_OK; e++) {
         size_t k = ord[e];
         double y = pos[k];
@@ -232,8 +234,7 @@ static qc_status integrate_union(const mi_ctx *c, const size_t *ov, size_t nov,
             int rc = gsl_integration_qags(&fn, start, y, UNQ_EPSABS, UNQ_EPSREL, UNQ_LIMIT,
                                           w, &v, &ve);
             if (rc != GSL_SUCCESS && rc != GSL_EROUND) {
-                st = qc_fail(QC_ENUMERIC,
-                             "quadrature of the unquantized rate failed on [%g, %g]: %s",
+                st = qc_fail(QC_ENUMERIC, "quadrature of %s failed on [%g, %g]: %s", what,
                              start, y, gsl_strerror(rc));
                 break;
             }
@@ -246,6 +247,23 @@ static qc_status integrate_union(const mi_ctx *c, const size_t *ov, size_t nov,
     free(pos);
     free(wid);
     free(ord);
+    gsl_integration_workspace_free(w);
+    return st;
+}
+
+qc_status qc_supports_sorted(const qc_model *model, const double *levels, size_t n,
+                             double *lo, double *hi, size_t *order, double *lo_sorted,
+                             double *width)
+{
+    *width = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        qc_model_get_type(model)->support(model, levels[i], &lo[i], &hi[i]);
+        *width = fmax(*width, hi[i] - lo[i]);
+    }
+    qc_status st = qc_sort_order(lo, n, order); /* by where each support starts */
+    if (st == QC_OK)
+        for (size_t k = 0; k < n; k++)
+            lo_sorted[k] = lo[order[k]];
     return st;
 }
 
@@ -270,25 +288,16 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
     const qc_model_type *ty = qc_model_get_type(model);
     double *sup = qc_malloc_array(4 * nlevels, sizeof *sup);
     size_t *order = qc_malloc_array(2 * nlevels, sizeof *order);
-    gsl_integration_workspace *w = NULL;
-    if (sup && order && ty->output == QC_OUTPUT_REAL)
-        w = gsl_integration_workspace_alloc(UNQ_LIMIT);
-    if (!sup || !order || (ty->output == QC_OUTPUT_REAL && !w)) {
+    if (!sup || !order) {
         free(sup);
         free(order);
-        gsl_integration_workspace_free(w);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    double width = 0.0;
-    for (size_t i = 0; i < nlevels; i++) {
-        ty->support(model, levels[i], &sup[i], &sup[nlevels + i]);
-        width = fmax(width, sup[nlevels + i] - sup[i]);
-    }
-    st = qc_sort_order(sup, nlevels, order); /* by where each support starts */
+    double width;
+    st = qc_supports_sorted(model, levels, nlevels, sup, sup + nlevels, order,
+                            sup + 2 * nlevels, &width);
     if (st != QC_OK)
         goto done;
-    for (size_t k = 0; k < nlevels; k++)
-        sup[2 * nlevels + k] = sup[order[k]];
     mi_ctx c = {model, levels, input, nlevels, 0.0, sup, sup + nlevels,
                 order, sup + 2 * nlevels, width, sup + 3 * nlevels};
     size_t *ov = order + nlevels, nov = 0; /* overlapping levels */
@@ -328,7 +337,8 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
     }
     if (st == QC_OK && nov > 0) {
         double val, e;
-        st = integrate_union(&c, ov, nov, w, &val, &e);
+        st = qc_integrate_union(c.lo, c.hi, ov, nov, summed_integrand, &c,
+                                "the unquantized rate", &val, &e);
         total += val;
         err += e;
     }
@@ -340,7 +350,6 @@ qc_status qc_unquantized_mi_detail(const qc_model *model, const double *levels,
             *abserr_nats = err;
     }
 done:
-    gsl_integration_workspace_free(w);
     free(sup);
     free(order);
     return st;
