@@ -66,25 +66,46 @@ static double bits_term(const gmi_ctx *c, double y)
 
 static double bits_integrand(double y, void *p) { return bits_term(p, y); }
 
-/* Count outputs: the sum of the integrand over every count of the union
- * of the supports. */
-static qc_status sum_counts(const gmi_ctx *c, double *val, double *err)
+/* Count outputs: the sum of the integrand over the counts [a, b] into
+ * *val, keeping count of the counts summed in *summed. */
+static qc_status sum_stretch(const gmi_ctx *c, double a, double b, double *summed,
+                             double *val)
 {
-    double a = INFINITY, b = -INFINITY;
-    for (size_t i = 0; i < c->n; i++)
-        if (c->input[i] > 0.0) {
-            a = fmin(a, fmax(0.0, floor(c->lo[i])));
-            b = fmax(b, ceil(c->hi[i]));
-        }
-    *val = *err = 0.0;
-    if (!(b >= a))
-        return QC_OK;
-    if (b - a > MAX_COUNT_SPAN)
+    *summed += b - a + 1.0;
+    if (*summed > MAX_COUNT_SPAN)
         return qc_fail(QC_ENUMERIC, "count range %g..%g too wide to sum", a, b);
     for (double y = a; y <= b; y += 1.0)
         *val += bits_term(c, y);
-    *err = 1e-15 * (b - a + 1.0);
     return QC_OK;
+}
+
+/* Count outputs: the sum over every count of the union of the supports,
+ * stretch by stretch (levels far apart leave gaps that are not summed). */
+static qc_status sum_counts(const gmi_ctx *c, double *val, double *err)
+{
+    double a = NAN, b = NAN, summed = 0.0;
+    qc_status st = QC_OK;
+    *val = *err = 0.0;
+    for (size_t k = 0; k < c->n && st == QC_OK; k++) {
+        size_t i = c->order[k];
+        if (!(c->input[i] > 0.0))
+            continue;
+        double lo = fmax(0.0, floor(c->lo[i])), hi = ceil(c->hi[i]);
+        if (isnan(a)) {
+            a = lo;
+            b = hi;
+        } else if (lo <= b + 1.0) {
+            b = fmax(b, hi);
+        } else {
+            st = sum_stretch(c, a, b, &summed, val);
+            a = lo;
+            b = hi;
+        }
+    }
+    if (st == QC_OK && !isnan(a))
+        st = sum_stretch(c, a, b, &summed, val);
+    *err = 1e-15 * summed;
+    return st;
 }
 
 qc_status qc_unquantized_gmi(const qc_model *model, const double *levels,

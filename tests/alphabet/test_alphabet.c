@@ -443,6 +443,15 @@ static void test_unquantized_gmi(void **state)
     assert_true(err < 1e-11);
     assert_true(fabs(g - g_ref) <= err + 1e-10);
     qc_model_free(m);
+
+    /* photon counts 1e9 apart: the sum runs over the two supports (about
+     * 5e5 counts each), not over the 1e9 counts between them; one bit,
+     * told apart without error */
+    const double counts[2] = {1e9, 0.5}, onoff[2] = {0.0, 1.0};
+    assert_int_equal(qc_model_alloc(&qc_model_poisson, counts, &m), QC_OK);
+    assert_int_equal(qc_unquantized_gmi(m, onoff, half, 2, lab2, 1, &g, &err), QC_OK);
+    assert_near(g, M_LN2, 1e-12);
+    qc_model_free(m);
 }
 
 /* ---- dispersion and the normal approximation --------------------------- */
