@@ -71,6 +71,9 @@
 /* Masses below this share of the largest count as the blend of the
  * uniform law a warm start carries, not as support. */
 #define SUPPORT_REL 1e-2
+/* Without a cost, an input whose reduced score exceeds this (nats) joins
+ * S by a mixing step rather than at zero mass. */
+#define MIX_SCORE 1.0
 /* Active sets larger than ny + SET_SLACK: give up. */
 #define SET_SLACK 8
 
@@ -88,6 +91,9 @@ typedef struct {
     gsl_vector *rhs, *sol;
     gsl_permutation *perm;
 } active_set;
+
+/* The cost of input x (0 without a cost). */
+static double cost_of(const active_set *as, size_t x) { return as->c ? as->c[x] : 0.0; }
 
 static void add_input(active_set *as, size_t x)
 {
@@ -284,6 +290,46 @@ static int start(active_set *as, size_t cheapest)
     return 1;
 }
 
+/* Without a cost: the clearly supported inputs of a warm start, else
+ * (a flat start) the input of largest score at that law — column
+ * generation adds the rest. */
+static int start_free(active_set *as)
+{
+    qc_ba_workspace *ws = as->ws;
+    const size_t nx = ws->nx;
+    ba_tilt none = {NULL, 0.0, 0.0};
+    ba_outcome o = {.upper = INFINITY};
+    ba_evaluate(ws, &none, &o); /* the scores ws->d at the start */
+    if (o.failed)
+        return 0;
+    double rmax = 0.0, rmin = INFINITY;
+    size_t best = 0;
+    for (size_t x = 0; x < nx; x++) {
+        rmax = fmax(rmax, ws->r[x]);
+        rmin = fmin(rmin, ws->r[x]);
+        if (ws->d[x] > ws->d[best])
+            best = x;
+    }
+    const double floor = rmin < SUPPORT_REL * rmax ? SUPPORT_REL * rmax : INFINITY;
+    double mass = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        if (ws->r[x] >= floor && as->k < as->cap) {
+            add_input(as, x);
+            mass += ws->r[x];
+        } else {
+            ws->r[x] = 0.0;
+        }
+    }
+    if (!(mass > 0.0)) {
+        add_input(as, best);
+        ws->r[best] = 1.0;
+        mass = 1.0;
+    }
+    for (size_t i = 0; i < as->k; i++)
+        ws->r[as->set[i]] /= mass;
+    return 1;
+}
+
 static void release(active_set *as)
 {
     free(as->set);
@@ -296,28 +342,73 @@ static void release(active_set *as)
     gsl_permutation_free(as->perm);
 }
 
-int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
-                   double tol_nats, size_t max_steps, ba_newton_result *out)
+/* Whether every output that row x reaches has q > 0 (else the Newton
+ * step cannot be formed with x in S: its curvature there is infinite). */
+static int reaches_covered(const qc_ba_workspace *ws, size_t x)
 {
+    const double *px = ws->p + x * ws->ny;
+    for (size_t y = ws->lo[x]; y < ws->hi[x]; y++)
+        if (px[y] > 0.0 && !(ws->q[y] > 0.0))
+            return 0;
+    return 1;
+}
+
+/* Without a cost, an input that reaches outputs no input of S reaches
+ * has an infinite slope D_x: it takes the share η of the law that
+ * raises I (η = ½, ¼, …), as a Frank–Wolfe step would, so that the next
+ * Newton step can be formed. 0 when no share raises I. */
+static int mix_in(active_set *as, const ba_tilt *tilt, ba_outcome *o, size_t x)
+{
+    qc_ba_workspace *ws = as->ws;
+    const double mi0 = o->mi;
+    for (size_t i = 0; i < as->k; i++)
+        as->r_save[i] = ws->r[as->set[i]];
+    for (double eta = 0.5; eta > 1e-6; eta *= 0.5) {
+        for (size_t i = 0; i < as->k; i++)
+            ws->r[as->set[i]] = (1.0 - eta) * as->r_save[i];
+        ws->r[x] += eta;
+        o->upper = INFINITY;
+        o->failed = 0;
+        ba_evaluate(ws, tilt, o);
+        if (!o->failed && o->mi > mi0)
+            return 1;
+    }
+    for (size_t i = 0; i < as->k; i++)
+        ws->r[as->set[i]] = as->r_save[i];
+    o->upper = INFINITY;
+    o->failed = 0;
+    ba_evaluate(ws, tilt, o);
+    return 0;
+}
+
+/* Allocates the active set's arrays for ws (at most ny + SET_SLACK
+ * inputs); 0 when out of memory. */
+static int reserve(active_set *as)
+{
+    qc_ba_workspace *ws = as->ws;
     const size_t nx = ws->nx;
-    active_set as = {.ws = ws, .c = c, .beta = beta, .with_cost = 1};
-    as.cap = ws->ny + SET_SLACK < nx ? ws->ny + SET_SLACK : nx;
-    const size_t dim = as.cap + 2;
-    as.set = qc_malloc_array(as.cap, sizeof *as.set);
-    as.in_set = calloc(nx, 1);
-    as.delta = qc_malloc_array(as.cap, sizeof *as.delta);
-    as.r_save = qc_malloc_array(as.cap, sizeof *as.r_save);
-    as.kkt = gsl_matrix_alloc(dim, dim);
-    as.rhs = gsl_vector_alloc(dim);
-    as.sol = gsl_vector_alloc(dim);
-    as.perm = gsl_permutation_alloc(dim);
-    int ok = 0;
-    out->steps = 0;
-    if (!as.set || !as.in_set || !as.delta || !as.r_save || !as.kkt || !as.rhs || !as.sol ||
-        !as.perm || !start(&as, cheapest))
-        goto done;
+    as->cap = ws->ny + SET_SLACK < nx ? ws->ny + SET_SLACK : nx;
+    const size_t dim = as->cap + 2;
+    as->set = qc_malloc_array(as->cap, sizeof *as->set);
+    as->in_set = calloc(nx, 1);
+    as->delta = qc_malloc_array(as->cap, sizeof *as->delta);
+    as->r_save = qc_malloc_array(as->cap, sizeof *as->r_save);
+    as->kkt = gsl_matrix_alloc(dim, dim);
+    as->rhs = gsl_vector_alloc(dim);
+    as->sol = gsl_vector_alloc(dim);
+    as->perm = gsl_permutation_alloc(dim);
+    return as->set && as->in_set && as->delta && as->r_save && as->kkt && as->rhs &&
+           as->sol && as->perm;
+}
+
+/* Newton steps and column generation from the law in ws->r on the
+ * active set as->set (see the header); 1 with out filled when certified. */
+static int solve(active_set *as, double tol_nats, size_t max_steps, ba_newton_result *out)
+{
+    qc_ba_workspace *ws = as->ws;
+    const size_t nx = ws->nx;
     const double target = GAP_FRACTION * tol_nats, small = 0.5 * target;
-    ba_tilt tilt = {c, 0.0, beta};
+    ba_tilt tilt = {as->c, 0.0, as->beta};
     ba_outcome o = {.upper = INFINITY};
     ba_evaluate(ws, &tilt, &o);
     size_t stalls = 0;
@@ -326,24 +417,37 @@ int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t che
     for (size_t step = 0; step < max_steps && step < cap_steps && !o.failed; step++) {
         out->steps = step + 1;
         double nu1, nu2;
-        if (!newton_step(&as, &nu1, &nu2))
+        if (!newton_step(as, &nu1, &nu2)) {
+            /* without a cost, an input of S without mass that reaches an
+             * output no mass reaches (the input that covered it left S)
+             * has no finite curvature: it leaves S, and pricing may bring
+             * it back by a mixing step */
+            size_t dropped = 0;
+            for (size_t i = as->k; !as->with_cost && i-- > 0;)
+                if (!(ws->r[as->set[i]] > 0.0) && !reaches_covered(ws, as->set[i])) {
+                    drop_input(as, i);
+                    dropped++;
+                }
+            if (dropped > 0 && as->k > 0)
+                continue;
             break;
+        }
         /* the predicted rise (∂I/∂r_x = D_x − 1) and how far the scores
          * on S are from the line ν1 + ν2·c */
         double pred = 0.0, resid = 0.0;
-        for (size_t i = 0; i < as.k; i++) {
-            size_t x = as.set[i];
-            pred += (ws->d[x] - 1.0) * as.delta[i];
-            resid = fmax(resid, fabs(ws->d[x] - nu1 - nu2 * c[x]));
+        for (size_t i = 0; i < as->k; i++) {
+            size_t x = as->set[i];
+            pred += (ws->d[x] - 1.0) * as->delta[i];
+            resid = fmax(resid, fabs(ws->d[x] - nu1 - nu2 * cost_of(as, x)));
         }
-        if ((pred > small || resid > small) && line_search(&as, &tilt, &o, pred))
+        if ((pred > small || resid > small) && line_search(as, &tilt, &o, pred))
             continue;
         /* converged on S: the reduced score of every input outside it */
         double best_v = 0.0;
         size_t best_x = nx;
         for (size_t x = 0; x < nx; x++) {
-            double v = ws->d[x] - nu1 - nu2 * c[x];
-            if (!as.in_set[x] && v > best_v) {
+            double v = ws->d[x] - nu1 - nu2 * cost_of(as, x);
+            if (!as->in_set[x] && v > best_v) {
                 best_v = v;
                 best_x = x;
             }
@@ -351,37 +455,63 @@ int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t che
         if (best_v > small && stalls < MAX_STALLS) {
             /* an outside input pays: it joins S (a stall when I has not
              * risen since the last one joined) */
-            if (as.k >= as.cap)
+            if (as->k >= as->cap)
                 break;
             stalls = o.mi > mi_added ? 0 : stalls + 1;
             mi_added = o.mi;
-            add_input(&as, best_x);
+            add_input(as, best_x);
+            if (!as->with_cost) {
+                /* an input that reaches outputs without mass, or whose
+                 * score towers over the law's, comes in by mixing (Newton's
+                 * curvature there is infinite or huge) */
+                int covered = reaches_covered(ws, best_x);
+                if ((!covered || best_v > MIX_SCORE) && !mix_in(as, &tilt, &o, best_x) &&
+                    !covered)
+                    break;
+            }
             continue;
         }
         /* certify over every input */
         double upper, s = 0.0;
-        if (as.with_cost) {
-            upper = ba_dual_bound(ws->d, c, beta, nx, &s);
+        if (as->with_cost) {
+            upper = ba_dual_bound(ws->d, as->c, as->beta, nx, &s);
         } else {
             upper = -INFINITY;
             for (size_t x = 0; x < nx; x++)
                 upper = fmax(upper, ws->d[x]);
         }
         double enough = stalls < MAX_STALLS ? target : STALL_FRACTION * tol_nats;
-        if (upper - o.mi <= enough && (as.with_cost || o.cost <= beta)) {
+        if (upper - o.mi <= enough && (as->with_cost || o.cost <= as->beta)) {
             out->mi = o.mi;
             out->upper = upper;
             out->cost = o.cost;
             out->multiplier = s;
-            out->active = as.with_cost;
-            ok = 1;
-            break;
+            out->active = as->with_cost;
+            return 1;
         }
-        if (!as.with_cost || !(nu2 < 0.0) || best_v > small)
+        if (!as->with_cost || !(nu2 < 0.0) || best_v > small)
             break;
-        as.with_cost = 0; /* the budget does not bind */
+        as->with_cost = 0; /* the budget does not bind */
     }
-done:
+    return 0;
+}
+
+int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
+                   double tol_nats, size_t max_steps, ba_newton_result *out)
+{
+    active_set as = {.ws = ws, .c = c, .beta = beta, .with_cost = 1};
+    out->steps = 0;
+    int ok = reserve(&as) && start(&as, cheapest) && solve(&as, tol_nats, max_steps, out);
+    release(&as);
+    return ok;
+}
+
+int ba_newton_free(qc_ba_workspace *ws, double tol_nats, size_t max_steps,
+                   ba_newton_result *out)
+{
+    active_set as = {.ws = ws, .c = NULL, .beta = INFINITY, .with_cost = 0};
+    out->steps = 0;
+    int ok = reserve(&as) && start_free(&as) && solve(&as, tol_nats, max_steps, out);
     release(&as);
     return ok;
 }

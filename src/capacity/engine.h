@@ -140,6 +140,14 @@ typedef struct {
 int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t cheapest,
                    double tol_nats, size_t max_steps, ba_newton_result *out);
 
+/* Capacity without a cost by the same active-set steps (cost_newton.c),
+ * from the law in ws->r (a warm start, or a flat one) on a prepared
+ * workspace: 1 with the law in ws->r when max_x D(P(·|x) ‖ q) − I(r) is
+ * within a small fraction of tol_nats; 0 otherwise (ws->r is then
+ * scratch). */
+int ba_newton_free(qc_ba_workspace *ws, double tol_nats, size_t max_steps,
+                   ba_newton_result *out);
+
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res
  * and leaves the final law in ws->r. */
