@@ -1,6 +1,6 @@
-/* cost_newton.c — capacity under one average cost on many candidate
- * inputs (a fine level grid), solved on a small active set by Newton
- * steps and priced over every input.
+/* cost_newton.c — capacity under one average cost, or without one, on
+ * many candidate inputs (a fine level grid, a large alphabet), solved on
+ * a small active set by Newton steps and priced over every input.
  *
  * The problem max I(r) over laws r with Σ r = 1 and Σ r c = β (the
  * budget binds) has an optimal output law q* that is unique, and the
@@ -36,7 +36,16 @@
  * the caller runs its multiplier search as if this had not been tried.
  * If the multiplier comes out negative (the budget does not bind on the
  * optimum), the cost constraint is dropped and the same steps solve the
- * unconstrained problem; its law must then meet the budget. */
+ * unconstrained problem; its law must then meet the budget.
+ *
+ * Without a cost (ba_newton_free) the same steps run with the one
+ * constraint Σ r = 1 from a flat start (the input of largest score) or a
+ * warm one. An input that reaches an output no input of S reaches (its
+ * score is infinite, its curvature undefined) or whose reduced score is
+ * huge joins S by a mixing step r ← (1 − η)r + η·e_x, η = ½, ¼, … until
+ * I rises (a Frank–Wolfe step: M. Frank and P. Wolfe, Naval Res. Logist.
+ * Q. 3, 1956), and the upper bound is max_x D(P(·|x) ‖ rP) over every
+ * input, formed again by the caller. */
 #include "capacity/engine.h"
 
 #include <math.h>
