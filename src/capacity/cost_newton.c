@@ -200,6 +200,22 @@ static int newton_step(active_set *as, double *nu1, double *nu2)
     return 1;
 }
 
+/* The outcome of the law in ws->r, afresh. */
+static void rate_law(qc_ba_workspace *ws, const ba_tilt *tilt, ba_outcome *o)
+{
+    o->upper = INFINITY;
+    o->failed = 0;
+    ba_evaluate(ws, tilt, o);
+}
+
+/* The law on S saved in r_save back in ws->r, and its outcome. */
+static void restore_law(active_set *as, const ba_tilt *tilt, ba_outcome *o)
+{
+    for (size_t i = 0; i < as->k; i++)
+        as->ws->r[as->set[i]] = as->r_save[i];
+    rate_law(as->ws, tilt, o);
+}
+
 /* Move along the step, as far as r ≥ 0 allows, halving until I rises
  * by the Armijo fraction of the predicted rise; ws holds the scores of
  * the new law. 0 when no step raised I (then the old law is back). */
@@ -222,9 +238,7 @@ static int line_search(active_set *as, const ba_tilt *tilt, ba_outcome *o, doubl
             ws->r[as->set[i]] = fmax(0.0, as->r_save[i] + alpha * as->delta[i]);
         if (blocking < as->k)
             ws->r[as->set[blocking]] = 0.0;
-        o->upper = INFINITY;
-        o->failed = 0;
-        ba_evaluate(ws, tilt, o);
+        rate_law(ws, tilt, o);
         if (!o->failed && o->mi >= mi0 + ARMIJO * alpha * pred - ROUND_REL * (1.0 + fabs(mi0))) {
             for (size_t i = as->k; i-- > 0;)
                 if (!(ws->r[as->set[i]] > 0.0))
@@ -234,11 +248,7 @@ static int line_search(active_set *as, const ba_tilt *tilt, ba_outcome *o, doubl
         alpha *= 0.5;
         blocking = as->k;
     }
-    for (size_t i = 0; i < as->k; i++)
-        ws->r[as->set[i]] = as->r_save[i];
-    o->upper = INFINITY;
-    o->failed = 0;
-    ba_evaluate(ws, tilt, o);
+    restore_law(as, tilt, o);
     return 0;
 }
 
@@ -376,17 +386,11 @@ static int mix_in(active_set *as, const ba_tilt *tilt, ba_outcome *o, size_t x)
         for (size_t i = 0; i < as->k; i++)
             ws->r[as->set[i]] = (1.0 - eta) * as->r_save[i];
         ws->r[x] += eta;
-        o->upper = INFINITY;
-        o->failed = 0;
-        ba_evaluate(ws, tilt, o);
+        rate_law(ws, tilt, o);
         if (!o->failed && o->mi > mi0)
             return 1;
     }
-    for (size_t i = 0; i < as->k; i++)
-        ws->r[as->set[i]] = as->r_save[i];
-    o->upper = INFINITY;
-    o->failed = 0;
-    ba_evaluate(ws, tilt, o);
+    restore_law(as, tilt, o);
     return 0;
 }
 
