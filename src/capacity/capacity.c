@@ -90,6 +90,7 @@ static qc_status unconstrained(qc_ba_workspace *ws, const qc_ba_options *opt,
     ba_tilt none = {NULL, 0.0, 0.0};
     ba_outcome o;
     size_t newton_steps = 0;
+    int solved = 0;
     if (opt->prune && ws->nx >= BA_PRUNE_MIN_INPUTS) {
         /* Many candidates: the active-set solve (cost_newton.c) first.
          * Its law is rated afresh here, with the upper bound max_x D_x
@@ -100,20 +101,18 @@ static qc_status unconstrained(qc_ba_workspace *ws, const qc_ba_options *opt,
         if (ba_newton_free(ws, tol, opt->max_iterations, &nr)) {
             o = (ba_outcome){.upper = INFINITY};
             ba_evaluate(ws, &none, &o);
-            if (!o.failed && o.upper - o.mi <= tol) {
-                res->capacity_bits = o.mi * QC_LOG2E;
-                res->upper_bound_bits = fmax(o.upper, o.mi) * QC_LOG2E;
-                res->gap_bits = res->upper_bound_bits - res->capacity_bits;
-                res->iterations = nr.steps;
-                return QC_OK;
-            }
+            solved = o.converged = !o.failed && o.upper - o.mi <= tol;
         }
         newton_steps = nr.steps;
-        memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
+        if (!solved)
+            memcpy(ws->r, ws->r_hi, ws->nx * sizeof *ws->r);
     }
-    ba_solve(ws, &none, tol, opt->method,
-             opt->max_iterations > newton_steps ? opt->max_iterations - newton_steps : 1,
-             opt->prune, &o);
+    if (solved)
+        o.iterations = 0; /* the Newton steps below are all it took */
+    else
+        ba_solve(ws, &none, tol, opt->method,
+                 opt->max_iterations > newton_steps ? opt->max_iterations - newton_steps : 1,
+                 opt->prune, &o);
     o.iterations += newton_steps;
     double upper = fmax(o.upper, o.mi);
     res->capacity_bits = o.mi * QC_LOG2E;
