@@ -51,4 +51,13 @@ void qc_log_floored(const double *in, double *out, size_t n, double floor);
 qc_status qc_read_file(const char *path, size_t max_bytes, const char *max_text, char **buf,
                        size_t *len);
 
+/* Whether per-row work on `entries` matrix entries is worth OpenMP
+ * threads: large enough that a parallel region costs little beside it,
+ * and called outside any parallel construct (a sweep's points already
+ * run in threads, even a team of one under --jobs 1), with more than one
+ * thread available. Work split this way computes each entry exactly as
+ * a serial loop does, and sums stay in one thread in index order, so
+ * results do not depend on the thread count (src/core/parallel.c). */
+int qc_parallel_worth(size_t entries);
+
 #endif

@@ -64,15 +64,3 @@ static once_flag gsl_once = ONCE_FLAG_INIT;
 static void gsl_handler_off(void) { gsl_set_error_handler_off(); }
 void qc_gsl_init(void) { call_once(&gsl_once, gsl_handler_off); }
 
-void *qc_malloc_array(size_t n, size_t size)
-{
-    if (size != 0 && n > SIZE_MAX / size)
-        return NULL;
-    size_t bytes = n * size;
-    return malloc(bytes ? bytes : 1);
-}
-
-void *qc_calloc(size_t n, size_t size)
-{
-    return calloc(n ? n : 1, size ? size : 1);
-}

@@ -105,6 +105,8 @@ void qc_model_free(qc_model *model)
 
 const qc_model_type *qc_model_get_type(const qc_model *model) { return model->type; }
 
+int qc_model_thread_safe(const qc_model *model) { return model->state == NULL; }
+
 double qc_model_param(const qc_model *model, size_t i)
 {
     return i < model->type->nparams ? model->params[i] : NAN;

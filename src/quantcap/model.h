@@ -203,6 +203,14 @@ QC_API void qc_model_free(qc_model *model);
  * qc_model_get_type(m)->below(m, x, t)). Never NULL for an instance. */
 QC_API const qc_model_type *qc_model_get_type(const qc_model *model);
 
+/* Whether several threads may evaluate the instance at once: 1 for the
+ * types without a per-instance state, whose functions read only the
+ * parameters; 0 for an instance with a state (apd and a law with added
+ * converter noise fill caches as they are used; table holds its data),
+ * which is used by one thread at a time. The library spreads one large
+ * channel's rows over OpenMP threads only for the first kind. */
+QC_API int qc_model_thread_safe(const qc_model *model);
+
 /* Parameter i of the instance, in the order of its type's params, as
  * checked by qc_model_alloc (defaults filled in). NaN when i is not below
  * the type's nparams. */

@@ -70,15 +70,23 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     qc_output_law(w->channel, w->input, w->q);
     for (size_t c = 0; c < k; c++) /* log q(c), once per cell */
         w->log_q[c] = safe_log(w->q[c]);
-    double mi = 0.0;
+    /* the log ratios row by row (in threads for a large channel), then
+     * their sum in one thread, in index order */
+    const double log_zero = safe_log(0.0); /* the zero cell's log, once */
+#pragma omp parallel for schedule(static) if (qc_parallel_worth(nx * k))
     for (size_t x = 0; x < nx; x++) {
         const double *row = w->channel->p + x * k;
         double *lr = w->lr + x * k;
-        for (size_t c = 0; c < k; c++) {
-            lr[c] = safe_log(row[c]) - w->log_q[c];
-            if (w->input[x] > 0.0 && row[c] > 0.0)
-                mi += w->input[x] * row[c] * lr[c];
-        }
+        for (size_t c = 0; c < k; c++)
+            lr[c] = (row[c] > DBL_MIN ? log(row[c]) : log_zero) - w->log_q[c];
+    }
+    double mi = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        const double *row = w->channel->p + x * k, *lr = w->lr + x * k;
+        if (w->input[x] > 0.0)
+            for (size_t c = 0; c < k; c++)
+                if (row[c] > 0.0)
+                    mi += w->input[x] * row[c] * lr[c];
     }
     if (!isfinite(mi))
         return qc_fail(QC_ENUMERIC, "mutual information of the quantizer is not finite");

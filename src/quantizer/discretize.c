@@ -103,10 +103,43 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     return QC_OK;
 }
 
+/* Rows of a large channel are shared among OpenMP threads (for a model
+ * that several threads may evaluate at once), each with its own scratch; a row is computed exactly as in the serial loop. After a
+ * failure the first failing row is run again in the calling thread, so
+ * that its message is this thread's and the same as a serial run's. */
 static qc_status discretize_rows(const qc_model *model, const double *levels,
                                  size_t nlevels, const double *t, size_t n, int clip,
                                  double *lo, double *hi, qc_dmc *d)
 {
+    if (nlevels > 1 && qc_model_thread_safe(model) &&
+        qc_parallel_worth(nlevels * (n + 1))) {
+        size_t failed = nlevels;
+        int no_memory = 0;
+#pragma omp parallel
+        {
+            double *own = qc_malloc_array(n ? 2 * n : 1, sizeof *own);
+            if (!own) {
+#pragma omp atomic write
+                no_memory = 1;
+            }
+#pragma omp for schedule(static)
+            for (size_t x = 0; x < nlevels; x++)
+                if (own && discretize_row(model, levels[x], t, n, clip, own, own + n,
+                                          d->p + x * d->ny) != QC_OK) {
+#pragma omp critical(qc_discretize_failed)
+                    if (x < failed)
+                        failed = x;
+                }
+            free(own);
+        }
+        if (no_memory)
+            return qc_fail(QC_ENOMEM, "out of memory for the rows of a %zu x %zu channel",
+                           nlevels, n + 1);
+        if (failed < nlevels)
+            return discretize_row(model, levels[failed], t, n, clip, lo, hi,
+                                  d->p + failed * d->ny);
+        return QC_OK;
+    }
     qc_status st = QC_OK;
     for (size_t x = 0; x < nlevels && st == QC_OK; x++)
         st = discretize_row(model, levels[x], t, n, clip, lo, hi, d->p + x * d->ny);

@@ -314,48 +314,69 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     const double step = (hi - lo) / (double)(m - 1), d = 1e-3 * step;
     double *lam = qc_malloc_array(m, sizeof *lam);
     double *cum = qc_malloc_array(m, sizeof *cum);
-    /* per level: its support (s0, s1) and its density at the current y */
-    double *s0 = qc_malloc_array(3 * nlevels, sizeof *s0);
+    /* per level: its support (s0, s1) */
+    double *s0 = qc_malloc_array(2 * nlevels, sizeof *s0);
     if (!lam || !cum || !s0) {
         free(lam);
         free(cum);
         free(s0);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    double *s1 = s0 + nlevels, *dens = s1 + nlevels;
+    double *s1 = s0 + nlevels;
     for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &s0[x], &s1[x]);
-    for (size_t i = 0; i < m; i++) {
-        double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
-        /* a level adds to the mixture only within its support (beyond it,
-         * less than ~1e-15 of its mass: the discretizer's convention) */
-        for (size_t x = 0; x < nlevels; x++) {
-            dens[x] = 0.0;
-            if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
-                dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
-                f += input[x] * dens[x];
-            }
+    int no_memory = 0;
+    /* the points of a large mixture are shared among OpenMP threads (when
+     * the model allows it), each with its own densities; every point is computed as in a serial loop */
+#pragma omp parallel if (qc_model_thread_safe(model) && qc_parallel_worth(m * nlevels))
+    {
+        double *dens = qc_malloc_array(nlevels, sizeof *dens); /* at the current y */
+        if (!dens) {
+#pragma omp atomic write
+            no_memory = 1;
         }
-        if (f > 0.0 && isfinite(f)) {
-            /* J(y) = Var of the score over the posterior P(x|y) */
-            double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
+#pragma omp for schedule(static)
+        for (size_t i = 0; i < m; i++) {
+            if (!dens)
+                continue;
+            double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
+            /* a level adds to the mixture only within its support (beyond
+             * it, less than ~1e-15 of its mass: the discretizer's convention) */
             for (size_t x = 0; x < nlevels; x++) {
-                if (!(dens[x] > 0.0))
-                    continue;
-                double p = input[x] * dens[x] / f;
-                double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
-                if (!isfinite(s))
-                    continue;
-                wsum += p;
-                s1sum += p * s;
-                s2 += p * s * s;
+                dens[x] = 0.0;
+                if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
+                    dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
+                    f += input[x] * dens[x];
+                }
             }
-            if (wsum > 0.0) {
-                sbar = s1sum / wsum;
-                j2 = fmax(0.0, s2 / wsum - sbar * sbar);
+            if (f > 0.0 && isfinite(f)) {
+                /* J(y) = Var of the score over the posterior P(x|y) */
+                double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
+                for (size_t x = 0; x < nlevels; x++) {
+                    if (!(dens[x] > 0.0))
+                        continue;
+                    double p = input[x] * dens[x] / f;
+                    double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
+                    if (!isfinite(s))
+                        continue;
+                    wsum += p;
+                    s1sum += p * s;
+                    s2 += p * s * s;
+                }
+                if (wsum > 0.0) {
+                    sbar = s1sum / wsum;
+                    j2 = fmax(0.0, s2 / wsum - sbar * sbar);
+                }
             }
+            lam[i] = cbrt(f * j2);
         }
-        lam[i] = cbrt(f * j2);
+        free(dens);
+    }
+    if (no_memory) {
+        free(lam);
+        free(cum);
+        free(s0);
+        return qc_fail(QC_ENOMEM, "out of memory");
     }
     qc_status st = qc_density_quantiles(lam, cum, m, lo, step, nt, "companding", out);
     free(lam);

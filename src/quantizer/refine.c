@@ -44,18 +44,22 @@
 
 /* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
  * thresholds t whose channel, output law and log ratios the workspace
- * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch.
+ * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch, F: nt.
  * Returns 0 when they are not finite (densities beyond the range of
- * doubles, as in the noiseless limit). */
+ * doubles, as in the noiseless limit). The thresholds of a large channel
+ * are shared among OpenMP threads when the model allows it; each sum runs over the levels in
+ * order in one thread, as in a serial loop. */
 static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
-                                   double *g, double *hd, double *ho, double *f)
+                             double *g, double *hd, double *ho, double *f, double *F)
 {
     const size_t nt = w->nt, nx = w->nlevels, k = nt + 1;
     const qc_model_type *ty = qc_model_get_type(w->model);
     const double *P = w->channel->p, *q = w->q, *lr = w->lr, *r = w->input;
-    double Fprev = 0.0;
+    const int threads = qc_model_thread_safe(w->model) && qc_parallel_worth(nt * nx);
+    int finite = 1;
+#pragma omp parallel for schedule(static) if (threads) reduction(&& : finite)
     for (size_t j = 0; j < nt; j++) {
-        double gj = 0.0, hj = 0.0, F = 0.0, off = 0.0;
+        double gj = 0.0, hj = 0.0, Fj = 0.0;
         for (size_t x = 0; x < nx; x++) {
             double *fx = f + j * nx + x;
             *fx = 0.0;
@@ -74,21 +78,29 @@ static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
                 hj += r[x] * d * d / pa;
             if (pb > 0.0)
                 hj += r[x] * d * d / pb;
-            F += r[x] * d;
-            if (j > 0 && P[x * k + j] > 0.0)
-                off += r[x] * f[(j - 1) * nx + x] * d / P[x * k + j];
+            Fj += r[x] * d;
         }
         if (q[j] > 0.0)
-            hj -= F * F / q[j];
+            hj -= Fj * Fj / q[j];
         if (q[j + 1] > 0.0)
-            hj -= F * F / q[j + 1];
-        if (j > 0)
-            ho[j - 1] = -off + (q[j] > 0.0 ? Fprev * F / q[j] : 0.0);
-        if (!isfinite(gj) || !isfinite(hj))
-            return 0; /* densities beyond the range of doubles */
+            hj -= Fj * Fj / q[j + 1];
+        finite = finite && isfinite(gj) && isfinite(hj);
         g[j] = gj;
         hd[j] = hj;
-        Fprev = F;
+        F[j] = Fj;
+    }
+    if (!finite)
+        return 0; /* densities beyond the range of doubles */
+    /* the couplings of neighbouring thresholds through the cell between */
+#pragma omp parallel for schedule(static) if (threads)
+    for (size_t j = 1; j < nt; j++) {
+        double off = 0.0;
+        for (size_t x = 0; x < nx; x++) {
+            double d = f[j * nx + x];
+            if (d > 0.0 && P[x * k + j] > 0.0)
+                off += r[x] * f[(j - 1) * nx + x] * d / P[x * k + j];
+        }
+        ho[j - 1] = -off + (q[j] > 0.0 ? F[j - 1] * F[j] / q[j] : 0.0);
     }
     return 1;
 }
@@ -129,12 +141,13 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
     const size_t nt = w->nt, nx = w->nlevels;
     if (iterations)
         *iterations = 0;
-    double *work = qc_malloc_array(9 * nt + nt * nx, sizeof *work);
+    double *work = qc_malloc_array(10 * nt + nt * nx, sizeof *work);
     if (!work)
         return qc_fail(QC_ENOMEM, "out of memory for refining %zu thresholds", nt);
     double *g = work, *tp = work + nt, *hd = work + 2 * nt, *ho = work + 3 * nt;
     double *a = work + 4 * nt, *e = work + 5 * nt, *rhs = work + 6 * nt;
-    double *step = work + 7 * nt, *sp = work + 8 * nt, *f = work + 9 * nt;
+    double *step = work + 7 * nt, *sp = work + 8 * nt, *F = work + 9 * nt;
+    double *f = work + 10 * nt;
     double mi, mu = 0.0;
     const double h = NEWTON_SLOPE_STEP * scale;
     qc_status st = qc_cell_mi_eval(w, t, &mi, NULL);
@@ -145,7 +158,7 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
         if (!at_t && (st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
         at_t = 1;
-        if (!exact_derivatives(w, t, h, g, hd, ho, f))
+        if (!exact_derivatives(w, t, h, g, hd, ho, f, F))
             break;
         double hmax = 0.0;
         for (size_t j = 0; j < nt; j++) {

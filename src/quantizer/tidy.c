@@ -88,6 +88,10 @@ static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
+    /* columns and merge losses of a large channel in OpenMP threads, each
+     * column's sums in one thread in order */
+    const int threads = qc_parallel_worth(K * nx);
+#pragma omp parallel for schedule(static) if (threads)
     for (size_t c = 0; c < K; c++) {
         qs[c] = 0.0;
         for (size_t x = 0; x < nx; x++) {
@@ -99,9 +103,24 @@ static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
     }
     /* groups of cells are named by their first cell (head); threshold j
      * separates the group ending at cell j from the group with head j + 1 */
-    for (size_t j = 0; j < nt; j++) {
-        keep[j] = 1;
-        loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, tmp);
+    int no_memory = 0;
+#pragma omp parallel if (threads)
+    {
+        double *own = qc_malloc_array(nx, sizeof *own); /* merged column */
+        if (!own) {
+#pragma omp atomic write
+            no_memory = 1;
+        }
+#pragma omp for schedule(static)
+        for (size_t j = 0; j < nt; j++) {
+            keep[j] = 1;
+            loss[j] = own ? merge_loss(cols, qs, r, nx, j, j + 1, own) : 0.0;
+        }
+        free(own);
+    }
+    if (no_memory) {
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
     }
     *kept = nt;
     double spent = 0.0;

@@ -1,0 +1,211 @@
+/* test_threads.c — a large channel's rows, Newton derivatives, companding
+ * density and merge losses are computed in OpenMP threads; the results
+ * must be those of one thread to the last bit, whatever the number of
+ * threads, and a failing row must give the serial run's message (the
+ * first failing row's). A model instance with a state (caches filled as
+ * it is used) is never evaluated by two threads at once. Skipped when the
+ * library is built without OpenMP. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include "quantcap.h"
+#include "quantizer/quantizer.h"
+#include "test_helpers.h"
+
+#define NLEVELS 300 /* 300 × 300 entries: above the size for threads */
+#define FIRST_BAD 150 /* levels from this index on have broken tails */
+
+static const int thread_counts[] = {1, 2, 3};
+
+static void need_threads(size_t entries)
+{
+#ifdef _OPENMP
+    omp_set_num_threads(2);
+    assert_true(qc_parallel_worth(entries)); /* the threaded path is taken */
+#else
+    (void)entries;
+    skip();
+#endif
+}
+
+static void set_threads(int n)
+{
+#ifdef _OPENMP
+    omp_set_num_threads(n);
+    assert_int_equal(qc_parallel_worth((size_t)1 << 30), n > 1);
+#else
+    (void)n;
+#endif
+}
+
+/* unipolar levels 0, 1, …, NLEVELS − 1 and thresholds between them */
+static void levels_and_thresholds(double *levels, double *law, double *t)
+{
+    for (size_t i = 0; i < NLEVELS; i++) {
+        levels[i] = (double)i;
+        law[i] = 1.0 / NLEVELS;
+        if (i + 1 < NLEVELS)
+            t[i] = (double)i + 0.5 + 0.3 * (uniform01() - 0.5);
+    }
+}
+
+/* The transition matrix of a signal-dependent Gaussian channel. */
+static void test_rows_any_threads(void **state)
+{
+    (void)state;
+    need_threads((size_t)NLEVELS * NLEVELS);
+    double levels[NLEVELS], law[NLEVELS], t[NLEVELS - 1];
+    levels_and_thresholds(levels, law, t);
+    const double p[3] = {0.4, 0.05, 0.0};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, p, &m), QC_OK);
+    qc_dmc *ref = NULL;
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_dmc *d;
+        assert_int_equal(qc_discretize(m, levels, NLEVELS, t, NLEVELS - 1, &d), QC_OK);
+        if (!ref)
+            ref = d;
+        else {
+            assert_memory_equal(d->p, ref->p, sizeof *d->p * NLEVELS * NLEVELS);
+            qc_dmc_free(d);
+        }
+    }
+    qc_dmc_free(ref);
+    qc_model_free(m);
+}
+
+/* The whole optimal design of 256-PAM at 8 bits: grid, DP, companding
+ * start, Newton steps, threshold moves, tidying and figures. */
+static void test_design_any_threads(void **state)
+{
+    (void)state;
+    need_threads(256 * 256);
+    enum { M = 256 };
+    double levels[M];
+    for (size_t i = 0; i < M; i++)
+        levels[i] = -(double)(M - 1) + 2.0 * (double)i;
+    const double sigma = 4.0;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    qc_design_result ref = {0};
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_design_request req;
+        qc_design_request_default(&req);
+        req.channel.model = m;
+        req.channel.levels = levels;
+        req.channel.nlevels = M;
+        req.quantizer.cells = 256;
+        qc_design_result res;
+        assert_int_equal(qc_design(&req, &res), QC_OK);
+        if (k == 0) {
+            ref = res;
+            continue;
+        }
+        assert_int_equal(res.nthresholds, ref.nthresholds);
+        assert_memory_equal(res.thresholds, ref.thresholds,
+                            sizeof *res.thresholds * res.nthresholds);
+        assert_memory_equal(&res.rate_bits, &ref.rate_bits, sizeof res.rate_bits);
+        assert_memory_equal(&res.unquantized_bits, &ref.unquantized_bits,
+                            sizeof res.unquantized_bits);
+        qc_design_result_clear(&res);
+    }
+    qc_design_result_clear(&ref);
+    qc_model_free(m);
+}
+
+/* A model whose tails are not numbers from level FIRST_BAD on. */
+static qc_model_type broken;
+
+static void broken_tails(const qc_model *m, double x, double t, double *below,
+                         double *above)
+{
+    qc_model_gauss.tails(m, x, t, below, above);
+    if (x >= FIRST_BAD)
+        *below = *above = NAN;
+}
+
+static void test_failing_row_message(void **state)
+{
+    (void)state;
+    need_threads((size_t)NLEVELS * NLEVELS);
+    broken = qc_model_gauss;
+    broken.name = "broken";
+    broken.tails = broken_tails;
+    double levels[NLEVELS], law[NLEVELS], t[NLEVELS - 1];
+    levels_and_thresholds(levels, law, t);
+    const double sigma = 0.5;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&broken, &sigma, &m), QC_OK);
+    char first[1024] = "";
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_dmc *d = NULL;
+        assert_int_equal(qc_discretize(m, levels, NLEVELS, t, NLEVELS - 1, &d),
+                         QC_ENUMERIC);
+        assert_null(d);
+        if (k == 0) {
+            snprintf(first, sizeof first, "%s", qc_last_error());
+            assert_non_null(strstr(first, "level 150,")); /* the first bad row */
+        } else {
+            assert_string_equal(qc_last_error(), first);
+        }
+    }
+    qc_model_free(m);
+}
+
+/* Which instances several threads may evaluate at once: those without a
+ * state. The APD model and a law with added converter noise fill caches
+ * as they are used; their channels are then computed in one thread, and
+ * still give the same bits. */
+static void test_stateful_models_serial(void **state)
+{
+    (void)state;
+    need_threads((size_t)NLEVELS * NLEVELS);
+    const double sigma = 0.5;
+    qc_model *g, *noisy;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &g), QC_OK);
+    assert_true(qc_model_thread_safe(g));
+    assert_int_equal(qc_model_add_noise(g, 0.3, &noisy), QC_OK);
+    assert_false(qc_model_thread_safe(noisy));
+    double levels[NLEVELS], law[NLEVELS], t[NLEVELS - 1];
+    levels_and_thresholds(levels, law, t);
+    qc_dmc *ref = NULL;
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_dmc *d;
+        assert_int_equal(qc_discretize(noisy, levels, NLEVELS, t, NLEVELS - 1, &d), QC_OK);
+        if (!ref)
+            ref = d;
+        else {
+            assert_memory_equal(d->p, ref->p, sizeof *d->p * NLEVELS * NLEVELS);
+            qc_dmc_free(d);
+        }
+    }
+    qc_dmc_free(ref);
+    qc_model_free(noisy);
+    qc_model_free(g);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_rows_any_threads),
+        cmocka_unit_test(test_design_any_threads),
+        cmocka_unit_test(test_failing_row_message),
+        cmocka_unit_test(test_stateful_models_serial),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
