@@ -59,6 +59,16 @@ void qc_cell_mi_free(qc_cell_mi *w)
  * gradient term f·(log a − log b) stays finite (f is tiny there too). */
 static double safe_log(double v) { return log(v > DBL_MIN ? v : DBL_MIN); }
 
+/* lr = log(P(c|x)/q(c)) of row x; log_zero = safe_log(0). */
+static void row_log_ratios(qc_cell_mi *w, size_t x, double log_zero)
+{
+    const size_t k = w->nt + 1;
+    const double *row = w->channel->p + x * k;
+    double *lr = w->lr + x * k;
+    for (size_t c = 0; c < k; c++)
+        lr[c] = (row[c] > DBL_MIN ? log(row[c]) : log_zero) - w->log_q[c];
+}
+
 qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
                           double *grad)
 {
@@ -70,23 +80,30 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     qc_output_law(w->channel, w->input, w->q);
     for (size_t c = 0; c < k; c++) /* log q(c), once per cell */
         w->log_q[c] = safe_log(w->q[c]);
-    /* the log ratios row by row (in threads for a large channel), then
-     * their sum in one thread, in index order */
     const double log_zero = safe_log(0.0); /* the zero cell's log, once */
-#pragma omp parallel for schedule(static) if (qc_parallel_worth(nx * k))
-    for (size_t x = 0; x < nx; x++) {
-        const double *row = w->channel->p + x * k;
-        double *lr = w->lr + x * k;
-        for (size_t c = 0; c < k; c++)
-            lr[c] = (row[c] > DBL_MIN ? log(row[c]) : log_zero) - w->log_q[c];
-    }
     double mi = 0.0;
-    for (size_t x = 0; x < nx; x++) {
-        const double *row = w->channel->p + x * k, *lr = w->lr + x * k;
-        if (w->input[x] > 0.0)
-            for (size_t c = 0; c < k; c++)
-                if (row[c] > 0.0)
-                    mi += w->input[x] * row[c] * lr[c];
+    if (qc_parallel_worth(nx * k)) {
+        /* a large channel: the log ratios row by row in threads, then
+         * their sum in this thread, in the serial loop's order */
+#pragma omp parallel for schedule(static)
+        for (size_t x = 0; x < nx; x++)
+            row_log_ratios(w, x, log_zero);
+        for (size_t x = 0; x < nx; x++) {
+            const double *row = w->channel->p + x * k, *lr = w->lr + x * k;
+            if (w->input[x] > 0.0)
+                for (size_t c = 0; c < k; c++)
+                    if (row[c] > 0.0)
+                        mi += w->input[x] * row[c] * lr[c];
+        }
+    } else {
+        for (size_t x = 0; x < nx; x++) {
+            const double *row = w->channel->p + x * k, *lr = w->lr + x * k;
+            row_log_ratios(w, x, log_zero);
+            if (w->input[x] > 0.0)
+                for (size_t c = 0; c < k; c++)
+                    if (row[c] > 0.0)
+                        mi += w->input[x] * row[c] * lr[c];
+        }
     }
     if (!isfinite(mi))
         return qc_fail(QC_ENUMERIC, "mutual information of the quantizer is not finite");

@@ -111,8 +111,8 @@ static qc_status discretize_rows(const qc_model *model, const double *levels,
                                  size_t nlevels, const double *t, size_t n, int clip,
                                  double *lo, double *hi, qc_dmc *d)
 {
-    if (nlevels > 1 && qc_model_thread_safe(model) &&
-        qc_parallel_worth(nlevels * (n + 1))) {
+    if (nlevels > 1 && qc_parallel_worth(nlevels * (n + 1)) &&
+        qc_model_thread_safe(model)) {
         size_t failed = nlevels;
         int no_memory = 0;
 #pragma omp parallel

@@ -300,6 +300,44 @@ static double score(const qc_model *m, double x, double y, double d)
     return (log(a) - log(b)) / (2.0 * d);
 }
 
+/* The companding density's value λ(y) = (f(y)·J(y))^(1/3) at one point:
+ * f the mixture density, J the variance of the score over the posterior
+ * P(x|y). A level adds only within its support (s0, s1) (beyond it, less
+ * than ~1e-15 of its mass: the discretizer's convention). dens: scratch
+ * of nlevels; d: the score's difference step. */
+static double mixture_point(const qc_model *model, const double *levels,
+                            const double *input, size_t nlevels, const double *s0,
+                            const double *s1, double y, double d, double *dens)
+{
+    double f = 0.0, sbar = 0.0, j2 = 0.0;
+    for (size_t x = 0; x < nlevels; x++) {
+        dens[x] = 0.0;
+        if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
+            dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
+            f += input[x] * dens[x];
+        }
+    }
+    if (f > 0.0 && isfinite(f)) {
+        double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
+        for (size_t x = 0; x < nlevels; x++) {
+            if (!(dens[x] > 0.0))
+                continue;
+            double p = input[x] * dens[x] / f;
+            double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
+            if (!isfinite(s))
+                continue;
+            wsum += p;
+            s1sum += p * s;
+            s2 += p * s * s;
+        }
+        if (wsum > 0.0) {
+            sbar = s1sum / wsum;
+            j2 = fmax(0.0, s2 / wsum - sbar * sbar);
+        }
+    }
+    return cbrt(f * j2);
+}
+
 qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
                                    const double *input, size_t nlevels, size_t nt,
                                    double *out)
@@ -326,50 +364,29 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &s0[x], &s1[x]);
     int no_memory = 0;
-    /* the points of a large mixture are shared among OpenMP threads (when
-     * the model allows it), each with its own densities; every point is computed as in a serial loop */
-#pragma omp parallel if (qc_model_thread_safe(model) && qc_parallel_worth(m * nlevels))
-    {
-        double *dens = qc_malloc_array(nlevels, sizeof *dens); /* at the current y */
-        if (!dens) {
+    if (qc_parallel_worth(m * nlevels) && qc_model_thread_safe(model)) {
+        /* the points of a large mixture in OpenMP threads, each with its
+         * own densities; every point is computed as in the serial loop */
+#pragma omp parallel
+        {
+            double *dens = qc_malloc_array(nlevels, sizeof *dens);
+            if (!dens) {
 #pragma omp atomic write
-            no_memory = 1;
-        }
+                no_memory = 1;
+            }
 #pragma omp for schedule(static)
-        for (size_t i = 0; i < m; i++) {
-            if (!dens)
-                continue;
-            double y = lo + step * (double)i, f = 0.0, sbar = 0.0, j2 = 0.0;
-            /* a level adds to the mixture only within its support (beyond
-             * it, less than ~1e-15 of its mass: the discretizer's convention) */
-            for (size_t x = 0; x < nlevels; x++) {
-                dens[x] = 0.0;
-                if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
-                    dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
-                    f += input[x] * dens[x];
-                }
-            }
-            if (f > 0.0 && isfinite(f)) {
-                /* J(y) = Var of the score over the posterior P(x|y) */
-                double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
-                for (size_t x = 0; x < nlevels; x++) {
-                    if (!(dens[x] > 0.0))
-                        continue;
-                    double p = input[x] * dens[x] / f;
-                    double s = p > 0.0 ? score(model, levels[x], y, d) : NAN;
-                    if (!isfinite(s))
-                        continue;
-                    wsum += p;
-                    s1sum += p * s;
-                    s2 += p * s * s;
-                }
-                if (wsum > 0.0) {
-                    sbar = s1sum / wsum;
-                    j2 = fmax(0.0, s2 / wsum - sbar * sbar);
-                }
-            }
-            lam[i] = cbrt(f * j2);
+            for (size_t i = 0; i < m; i++)
+                if (dens)
+                    lam[i] = mixture_point(model, levels, input, nlevels, s0, s1,
+                                           lo + step * (double)i, d, dens);
+            free(dens);
         }
+    } else {
+        double *dens = qc_malloc_array(nlevels, sizeof *dens);
+        no_memory = !dens;
+        for (size_t i = 0; i < m && dens; i++)
+            lam[i] = mixture_point(model, levels, input, nlevels, s0, s1,
+                                   lo + step * (double)i, d, dens);
         free(dens);
     }
     if (no_memory) {

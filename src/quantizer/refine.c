@@ -42,65 +42,90 @@
 #define TRIAL_ROOM 4.0         /* × the predicted gain a trial must be within */
 #define TRIAL_HOME 0.05        /* × spacing: a trial this near the incumbent ends */
 
+/* Threshold j's share of exact_derivatives: the density f(t_j|x) of
+ * every level into f[j·nx + x] (0 where it vanishes), g[j], hd[j] and
+ * F[j] = Σ_x r f; 0 when g[j] or hd[j] is not finite. */
+static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t j,
+                          double *g, double *hd, double *f, double *F)
+{
+    const size_t nx = w->nlevels, k = w->nt + 1;
+    const qc_model_type *ty = qc_model_get_type(w->model);
+    const double *P = w->channel->p, *q = w->q, *lr = w->lr, *r = w->input;
+    double gj = 0.0, hj = 0.0, Fj = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        double *fx = f + j * nx + x;
+        *fx = 0.0;
+        if (!(r[x] > 0.0))
+            continue;
+        double d = ty->density(w->model, w->levels[x], t[j]);
+        if (!(d > 0.0) || !isfinite(d))
+            continue;
+        double dp = (ty->density(w->model, w->levels[x], t[j] + h) - d) / h;
+        *fx = d;
+        double dl = lr[x * k + j] - lr[x * k + j + 1];
+        gj += r[x] * d * dl;
+        hj += r[x] * (isfinite(dp) ? dp : 0.0) * dl;
+        double pa = P[x * k + j], pb = P[x * k + j + 1];
+        if (pa > 0.0)
+            hj += r[x] * d * d / pa;
+        if (pb > 0.0)
+            hj += r[x] * d * d / pb;
+        Fj += r[x] * d;
+    }
+    if (q[j] > 0.0)
+        hj -= Fj * Fj / q[j];
+    if (q[j + 1] > 0.0)
+        hj -= Fj * Fj / q[j + 1];
+    g[j] = gj;
+    hd[j] = hj;
+    F[j] = Fj;
+    return isfinite(gj) && isfinite(hj);
+}
+
+/* ho[j − 1]: the coupling of thresholds j − 1 and j through cell j. */
+static void coupling(const qc_cell_mi *w, size_t j, const double *f, const double *F,
+                     double *ho)
+{
+    const size_t nx = w->nlevels, k = w->nt + 1;
+    const double *P = w->channel->p, *q = w->q, *r = w->input;
+    double off = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        double d = f[j * nx + x];
+        if (d > 0.0 && P[x * k + j] > 0.0)
+            off += r[x] * f[(j - 1) * nx + x] * d / P[x * k + j];
+    }
+    ho[j - 1] = -off + (q[j] > 0.0 ? F[j - 1] * F[j] / q[j] : 0.0);
+}
+
 /* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
  * thresholds t whose channel, output law and log ratios the workspace
  * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch, F: nt.
  * Returns 0 when they are not finite (densities beyond the range of
- * doubles, as in the noiseless limit). The thresholds of a large channel
- * are shared among OpenMP threads when the model allows it; each sum runs over the levels in
- * order in one thread, as in a serial loop. */
+ * doubles, as in the noiseless limit). For a large channel, and a model
+ * several threads may evaluate at once, the thresholds are shared among
+ * OpenMP threads; each sum runs over the levels in order in one thread,
+ * as in the serial loop. */
 static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
                              double *g, double *hd, double *ho, double *f, double *F)
 {
-    const size_t nt = w->nt, nx = w->nlevels, k = nt + 1;
-    const qc_model_type *ty = qc_model_get_type(w->model);
-    const double *P = w->channel->p, *q = w->q, *lr = w->lr, *r = w->input;
-    const int threads = qc_model_thread_safe(w->model) && qc_parallel_worth(nt * nx);
-    int finite = 1;
-#pragma omp parallel for schedule(static) if (threads) reduction(&& : finite)
-    for (size_t j = 0; j < nt; j++) {
-        double gj = 0.0, hj = 0.0, Fj = 0.0;
-        for (size_t x = 0; x < nx; x++) {
-            double *fx = f + j * nx + x;
-            *fx = 0.0;
-            if (!(r[x] > 0.0))
-                continue;
-            double d = ty->density(w->model, w->levels[x], t[j]);
-            if (!(d > 0.0) || !isfinite(d))
-                continue;
-            double dp = (ty->density(w->model, w->levels[x], t[j] + h) - d) / h;
-            *fx = d;
-            double dl = lr[x * k + j] - lr[x * k + j + 1];
-            gj += r[x] * d * dl;
-            hj += r[x] * (isfinite(dp) ? dp : 0.0) * dl;
-            double pa = P[x * k + j], pb = P[x * k + j + 1];
-            if (pa > 0.0)
-                hj += r[x] * d * d / pa;
-            if (pb > 0.0)
-                hj += r[x] * d * d / pb;
-            Fj += r[x] * d;
-        }
-        if (q[j] > 0.0)
-            hj -= Fj * Fj / q[j];
-        if (q[j + 1] > 0.0)
-            hj -= Fj * Fj / q[j + 1];
-        finite = finite && isfinite(gj) && isfinite(hj);
-        g[j] = gj;
-        hd[j] = hj;
-        F[j] = Fj;
+    const size_t nt = w->nt;
+    if (qc_parallel_worth(nt * w->nlevels) && qc_model_thread_safe(w->model)) {
+        int finite = 1;
+#pragma omp parallel for schedule(static) reduction(&& : finite)
+        for (size_t j = 0; j < nt; j++)
+            finite = threshold_sums(w, t, h, j, g, hd, f, F) && finite;
+        if (!finite)
+            return 0; /* densities beyond the range of doubles */
+#pragma omp parallel for schedule(static)
+        for (size_t j = 1; j < nt; j++)
+            coupling(w, j, f, F, ho);
+        return 1;
     }
-    if (!finite)
-        return 0; /* densities beyond the range of doubles */
-    /* the couplings of neighbouring thresholds through the cell between */
-#pragma omp parallel for schedule(static) if (threads)
-    for (size_t j = 1; j < nt; j++) {
-        double off = 0.0;
-        for (size_t x = 0; x < nx; x++) {
-            double d = f[j * nx + x];
-            if (d > 0.0 && P[x * k + j] > 0.0)
-                off += r[x] * f[(j - 1) * nx + x] * d / P[x * k + j];
-        }
-        ho[j - 1] = -off + (q[j] > 0.0 ? F[j - 1] * F[j] / q[j] : 0.0);
+    for (size_t j = 0; j < nt; j++) {
+        if (!threshold_sums(w, t, h, j, g, hd, f, F))
+            return 0;
+        if (j > 0)
+            coupling(w, j, f, F, ho);
     }
     return 1;
 }

@@ -72,6 +72,18 @@ static double merge_loss(const double *cols, const double *qs, const double *r,
     return loss > 0.0 ? loss : 0.0;
 }
 
+/* Column c of the channel into cols (nx entries) and its output mass. */
+static void column_of(const qc_dmc *ch, const double *r, size_t c, double *cols,
+                      double *qs)
+{
+    const size_t nx = ch->nx, K = ch->ny;
+    qs[c] = 0.0;
+    for (size_t x = 0; x < nx; x++) {
+        cols[c * nx + x] = ch->p[x * K + c];
+        qs[c] += r[x] * ch->p[x * K + c];
+    }
+}
+
 /* Step 1: keep[j] = 0 for removed thresholds; *kept their number. */
 static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
                                 double budget, unsigned char *keep, size_t *kept)
@@ -91,36 +103,44 @@ static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
     /* columns and merge losses of a large channel in OpenMP threads, each
      * column's sums in one thread in order */
     const int threads = qc_parallel_worth(K * nx);
-#pragma omp parallel for schedule(static) if (threads)
+    if (threads) {
+#pragma omp parallel for schedule(static)
+        for (size_t c = 0; c < K; c++)
+            column_of(ch, r, c, cols, qs);
+    } else {
+        for (size_t c = 0; c < K; c++)
+            column_of(ch, r, c, cols, qs);
+    }
     for (size_t c = 0; c < K; c++) {
-        qs[c] = 0.0;
-        for (size_t x = 0; x < nx; x++) {
-            cols[c * nx + x] = ch->p[x * K + c];
-            qs[c] += r[x] * ch->p[x * K + c];
-        }
         next[c] = c + 1;
         prev[c] = c - 1; /* wraps for c = 0; never read there */
     }
     /* groups of cells are named by their first cell (head); threshold j
      * separates the group ending at cell j from the group with head j + 1 */
-    int no_memory = 0;
-#pragma omp parallel if (threads)
-    {
-        double *own = qc_malloc_array(nx, sizeof *own); /* merged column */
-        if (!own) {
+    for (size_t j = 0; j < nt; j++)
+        keep[j] = 1;
+    if (threads) {
+        int no_memory = 0;
+#pragma omp parallel
+        {
+            double *own = qc_malloc_array(nx, sizeof *own); /* merged column */
+            if (!own) {
 #pragma omp atomic write
-            no_memory = 1;
-        }
+                no_memory = 1;
+            }
 #pragma omp for schedule(static)
-        for (size_t j = 0; j < nt; j++) {
-            keep[j] = 1;
-            loss[j] = own ? merge_loss(cols, qs, r, nx, j, j + 1, own) : 0.0;
+            for (size_t j = 0; j < nt; j++)
+                if (own)
+                    loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, own);
+            free(own);
         }
-        free(own);
-    }
-    if (no_memory) {
-        st = qc_fail(QC_ENOMEM, "out of memory");
-        goto done;
+        if (no_memory) {
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
+        }
+    } else {
+        for (size_t j = 0; j < nt; j++)
+            loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, tmp);
     }
     *kept = nt;
     double spent = 0.0;
