@@ -104,9 +104,10 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
 }
 
 /* Rows of a large channel are shared among OpenMP threads (for a model
- * that several threads may evaluate at once), each with its own scratch; a row is computed exactly as in the serial loop. After a
- * failure the first failing row is run again in the calling thread, so
- * that its message is this thread's and the same as a serial run's. */
+ * that several threads may evaluate at once), each with its own scratch;
+ * a row is computed exactly as in the serial loop. After a failure the
+ * first failing row is run again in the calling thread, so that its
+ * message is this thread's and the same as a serial run's. */
 static qc_status discretize_rows(const qc_model *model, const double *levels,
                                  size_t nlevels, const double *t, size_t n, int clip,
                                  double *lo, double *hi, qc_dmc *d)

@@ -60,6 +60,26 @@ static void levels_and_thresholds(double *levels, double *law, double *t)
     }
 }
 
+/* The channel of m at the NLEVELS levels and thresholds t is the same,
+ * bit for bit, on 1, 2 and 3 threads. */
+static void same_channel_any_threads(const qc_model *m, const double *levels,
+                                     const double *t)
+{
+    qc_dmc *ref = NULL;
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_dmc *d;
+        assert_int_equal(qc_discretize(m, levels, NLEVELS, t, NLEVELS - 1, &d), QC_OK);
+        if (!ref) {
+            ref = d;
+        } else {
+            assert_memory_equal(d->p, ref->p, sizeof *d->p * NLEVELS * NLEVELS);
+            qc_dmc_free(d);
+        }
+    }
+    qc_dmc_free(ref);
+}
+
 /* The transition matrix of a signal-dependent Gaussian channel. */
 static void test_rows_any_threads(void **state)
 {
@@ -70,19 +90,7 @@ static void test_rows_any_threads(void **state)
     const double p[3] = {0.4, 0.05, 0.0};
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, p, &m), QC_OK);
-    qc_dmc *ref = NULL;
-    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
-        set_threads(thread_counts[k]);
-        qc_dmc *d;
-        assert_int_equal(qc_discretize(m, levels, NLEVELS, t, NLEVELS - 1, &d), QC_OK);
-        if (!ref)
-            ref = d;
-        else {
-            assert_memory_equal(d->p, ref->p, sizeof *d->p * NLEVELS * NLEVELS);
-            qc_dmc_free(d);
-        }
-    }
-    qc_dmc_free(ref);
+    same_channel_any_threads(m, levels, t);
     qc_model_free(m);
 }
 
@@ -182,19 +190,7 @@ static void test_stateful_models_serial(void **state)
     assert_false(qc_model_thread_safe(noisy));
     double levels[NLEVELS], law[NLEVELS], t[NLEVELS - 1];
     levels_and_thresholds(levels, law, t);
-    qc_dmc *ref = NULL;
-    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
-        set_threads(thread_counts[k]);
-        qc_dmc *d;
-        assert_int_equal(qc_discretize(noisy, levels, NLEVELS, t, NLEVELS - 1, &d), QC_OK);
-        if (!ref)
-            ref = d;
-        else {
-            assert_memory_equal(d->p, ref->p, sizeof *d->p * NLEVELS * NLEVELS);
-            qc_dmc_free(d);
-        }
-    }
-    qc_dmc_free(ref);
+    same_channel_any_threads(noisy, levels, t);
     qc_model_free(noisy);
     qc_model_free(g);
 }
