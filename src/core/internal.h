@@ -60,4 +60,16 @@ qc_status qc_read_file(const char *path, size_t max_bytes, const char *max_text,
  * results do not depend on the thread count (src/core/parallel.c). */
 int qc_parallel_worth(size_t entries);
 
+/* One row of a parallel loop: row i with `scratch` of the length asked
+ * for; 0 on success. */
+typedef int (*qc_row_fn)(size_t i, double *scratch, void *ctx);
+
+/* Runs row(i, scratch, ctx) for i in [0, n) in OpenMP threads (the caller
+ * has asked qc_parallel_worth), each thread with its own scratch of
+ * scratch_len doubles. *first_failed (may be NULL): the smallest i whose
+ * row failed, n if none; which rows after it ran is unspecified. QC_ENOMEM
+ * when a thread's scratch could not be allocated (its rows did not run). */
+qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,
+                           size_t *first_failed);
+
 #endif

@@ -1,9 +1,12 @@
 /* parallel.c — when a single computation spreads its rows over OpenMP
  * threads (the rows of a large transition matrix, the densities of a
- * large Newton step). Callers branch on it before entering a parallel
+ * large Newton step), and the loop that gives each thread its own
+ * scratch. Callers branch on qc_parallel_worth before entering a parallel
  * region: even a region that does not fork costs about a microsecond,
  * as much as a whole rate evaluation of a small channel. */
 #include "core/internal.h"
+
+#include <stdlib.h>
 
 #ifdef _OPENMP
 #include <omp.h>
@@ -22,4 +25,31 @@ int qc_parallel_worth(size_t entries)
     (void)entries;
     return 0;
 #endif
+}
+
+qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,
+                           size_t *first_failed)
+{
+    size_t failed = n;
+    int no_memory = 0;
+#pragma omp parallel
+    {
+        double *own = qc_malloc_array(scratch_len ? scratch_len : 1, sizeof *own);
+        if (!own) {
+#pragma omp atomic write
+            no_memory = 1;
+        }
+#pragma omp for schedule(static)
+        for (size_t i = 0; i < n; i++)
+            if (own && row(i, own, ctx) != 0) {
+#pragma omp critical(qc_parallel_rows_failed)
+                if (i < failed)
+                    failed = i;
+            }
+        free(own);
+    }
+    if (first_failed)
+        *first_failed = failed;
+    return no_memory ? qc_fail(QC_ENOMEM, "out of memory for the scratch of %zu rows", n)
+                     : QC_OK;
 }

@@ -103,6 +103,22 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     return QC_OK;
 }
 
+typedef struct {
+    const qc_model *model;
+    const double *levels, *t;
+    size_t n;
+    int clip;
+    qc_dmc *d;
+} rows_ctx;
+
+/* qc_row_fn: row x of the channel, with lo and hi in the scratch. */
+static int row_of(size_t x, double *scratch, void *p)
+{
+    const rows_ctx *c = p;
+    return discretize_row(c->model, c->levels[x], c->t, c->n, c->clip, scratch,
+                          scratch + c->n, c->d->p + x * c->d->ny) != QC_OK;
+}
+
 /* Rows of a large channel are shared among OpenMP threads (for a model
  * that several threads may evaluate at once), each with its own scratch;
  * a row is computed exactly as in the serial loop. After a failure the
@@ -114,26 +130,9 @@ static qc_status discretize_rows(const qc_model *model, const double *levels,
 {
     if (nlevels > 1 && qc_parallel_worth(nlevels * (n + 1)) &&
         qc_model_thread_safe(model)) {
-        size_t failed = nlevels;
-        int no_memory = 0;
-#pragma omp parallel
-        {
-            double *own = qc_malloc_array(n ? 2 * n : 1, sizeof *own);
-            if (!own) {
-#pragma omp atomic write
-                no_memory = 1;
-            }
-#pragma omp for schedule(static)
-            for (size_t x = 0; x < nlevels; x++)
-                if (own && discretize_row(model, levels[x], t, n, clip, own, own + n,
-                                          d->p + x * d->ny) != QC_OK) {
-#pragma omp critical(qc_discretize_failed)
-                    if (x < failed)
-                        failed = x;
-                }
-            free(own);
-        }
-        if (no_memory)
+        rows_ctx c = {model, levels, t, n, clip, d};
+        size_t failed;
+        if (qc_parallel_rows(nlevels, 2 * n, row_of, &c, &failed) != QC_OK)
             return qc_fail(QC_ENOMEM, "out of memory for the rows of a %zu x %zu channel",
                            nlevels, n + 1);
         if (failed < nlevels)

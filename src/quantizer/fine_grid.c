@@ -338,6 +338,24 @@ static double mixture_point(const qc_model *model, const double *levels,
     return cbrt(f * j2);
 }
 
+typedef struct {
+    const qc_model *model;
+    const double *levels, *input;
+    size_t nlevels;
+    const double *s0, *s1;
+    double lo, step, d;
+    double *lam;
+} mixture_ctx;
+
+/* qc_row_fn: λ at grid point i, with the densities in the scratch. */
+static int mixture_row(size_t i, double *dens, void *p)
+{
+    const mixture_ctx *c = p;
+    c->lam[i] = mixture_point(c->model, c->levels, c->input, c->nlevels, c->s0, c->s1,
+                              c->lo + c->step * (double)i, c->d, dens);
+    return 0;
+}
+
 qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
                                    const double *input, size_t nlevels, size_t nt,
                                    double *out)
@@ -363,39 +381,27 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     double *s1 = s0 + nlevels;
     for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &s0[x], &s1[x]);
-    int no_memory = 0;
+    mixture_ctx mc = {model, levels, input, nlevels, s0, s1, lo, step, d, lam};
+    qc_status st = QC_OK;
     if (qc_parallel_worth(m * nlevels) && qc_model_thread_safe(model)) {
         /* the points of a large mixture in OpenMP threads, each with its
          * own densities; every point is computed as in the serial loop */
-#pragma omp parallel
-        {
-            double *dens = qc_malloc_array(nlevels, sizeof *dens);
-            if (!dens) {
-#pragma omp atomic write
-                no_memory = 1;
-            }
-#pragma omp for schedule(static)
-            for (size_t i = 0; i < m; i++)
-                if (dens)
-                    lam[i] = mixture_point(model, levels, input, nlevels, s0, s1,
-                                           lo + step * (double)i, d, dens);
-            free(dens);
-        }
+        st = qc_parallel_rows(m, nlevels, mixture_row, &mc, NULL);
     } else {
         double *dens = qc_malloc_array(nlevels, sizeof *dens);
-        no_memory = !dens;
+        if (!dens)
+            st = qc_fail(QC_ENOMEM, "out of memory");
         for (size_t i = 0; i < m && dens; i++)
-            lam[i] = mixture_point(model, levels, input, nlevels, s0, s1,
-                                   lo + step * (double)i, d, dens);
+            mixture_row(i, dens, &mc);
         free(dens);
     }
-    if (no_memory) {
+    if (st != QC_OK) {
         free(lam);
         free(cum);
         free(s0);
-        return qc_fail(QC_ENOMEM, "out of memory");
+        return st;
     }
-    qc_status st = qc_density_quantiles(lam, cum, m, lo, step, nt, "companding", out);
+    st = qc_density_quantiles(lam, cum, m, lo, step, nt, "companding", out);
     free(lam);
     free(cum);
     free(s0);

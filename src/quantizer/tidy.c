@@ -84,6 +84,21 @@ static void column_of(const qc_dmc *ch, const double *r, size_t c, double *cols,
     }
 }
 
+typedef struct {
+    const double *cols, *qs, *r;
+    size_t nx;
+    double *loss;
+} losses_ctx;
+
+/* qc_row_fn: the loss of merging cells j and j + 1, the merged column in
+ * the scratch. */
+static int loss_row(size_t j, double *merged, void *p)
+{
+    const losses_ctx *c = p;
+    c->loss[j] = merge_loss(c->cols, c->qs, c->r, c->nx, j, j + 1, merged);
+    return 0;
+}
+
 /* Step 1: keep[j] = 0 for removed thresholds; *kept their number. */
 static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
                                 double budget, unsigned char *keep, size_t *kept)
@@ -120,24 +135,9 @@ static qc_status find_redundant(const qc_dmc *ch, const double *r, size_t nt,
     for (size_t j = 0; j < nt; j++)
         keep[j] = 1;
     if (threads) {
-        int no_memory = 0;
-#pragma omp parallel
-        {
-            double *own = qc_malloc_array(nx, sizeof *own); /* merged column */
-            if (!own) {
-#pragma omp atomic write
-                no_memory = 1;
-            }
-#pragma omp for schedule(static)
-            for (size_t j = 0; j < nt; j++)
-                if (own)
-                    loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, own);
-            free(own);
-        }
-        if (no_memory) {
-            st = qc_fail(QC_ENOMEM, "out of memory");
+        losses_ctx lc = {cols, qs, r, nx, loss};
+        if ((st = qc_parallel_rows(nt, nx, loss_row, &lc, NULL)) != QC_OK)
             goto done;
-        }
     } else {
         for (size_t j = 0; j < nt; j++)
             loss[j] = merge_loss(cols, qs, r, nx, j, j + 1, tmp);
