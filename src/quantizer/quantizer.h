@@ -44,16 +44,31 @@ typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
 
 /* ---- uniform.c -------------------------------------------------------- */
 
-/* Uniform quantizer with K = nt + 1 cells maximizing `f`: cell width 2h/K
- * on the full-scale range [c − h, c + h], outer cells open. Continuous
- * outputs: a scan and Brent search over h with c at the middle of the
- * level span, then both ends of the range adjusted by Nelder–Mead.
- * Counts: integer first threshold and integer step. t_out holds nt
- * thresholds; *evals (may be NULL) counts objective evaluations. */
+/* Uniform quantizer with K = nt + 1 cells maximizing I(X;Y_q) under the
+ * law and model of the workspace w (nt thresholds): cell width 2h/K on the
+ * full-scale range [c − h, c + h], outer cells open. Continuous outputs:
+ * a scan over h with c at the middle of the level span; from a maximum
+ * of the scan, Newton steps on both ends of the range
+ * (qc_uniform_newton); at an end of the scan, on a plateau or where
+ * Newton cannot settle, the Nelder–Mead simplex on both ends. One
+ * threshold: the scan and Brent's search. Counts: integer first threshold
+ * and integer step. t_out holds nt thresholds; *evals (may be NULL)
+ * counts rate evaluations. */
 qc_status qc_uniform_search(const qc_model *model, const double *levels,
-                            size_t nlevels, size_t nt, qc_threshold_objective f,
-                            void *ctx, double *t_out, double *value_out,
-                            size_t *evals);
+                            size_t nlevels, size_t nt, qc_cell_mi *w, double *t_out,
+                            double *value_out, size_t *evals);
+
+/* The range [*lo_end, *hi_end] of the uniform quantizer with w->nt ≥ 2
+ * thresholds raised to a local maximum of I(X;Y_q) by damped Newton steps
+ * on the exact gradient and curvature in the two ends (uniform_newton.c);
+ * `scale` as for qc_refine_continuous. Steps that lower the rate are not
+ * taken. *mi_nats: the rate at the result (−∞ when the range given holds
+ * no increasing thresholds); *evals is raised by the rate evaluations;
+ * *converged says whether the steps fell below the resolution (0: no
+ * finite curvature, or the iteration cap). Leaves the workspace's channel
+ * at the result. */
+qc_status qc_uniform_newton(qc_cell_mi *w, double scale, double *lo_end, double *hi_end,
+                            double *mi_nats, size_t *evals, int *converged);
 
 /* Where the rate is flat in the range (saturation), a reproducible range
  * among the equally good ones: the half-width h, then the centre c, each
@@ -202,6 +217,15 @@ void qc_levels_support(const qc_model *model, const double *levels,
 
 /* ---- refine.c --------------------------------------------------------- */
 
+/* The damped Newton iterations' settings (refine.c, uniform_newton.c). */
+#define QC_NEWTON_MAX_ITER 50
+#define QC_NEWTON_MAX_DAMP 12     /* damping increases per Newton iteration */
+#define QC_NEWTON_SLOPE_STEP 1e-5 /* density slope difference, × noise scale */
+#define QC_NEWTON_TOL 1e-11       /* stop when steps fall below this × spacing */
+#define QC_NEWTON_ROUNDING 1e-8   /* a rejected step this small (× spacing) ends */
+#define QC_NEWTON_QUADRATIC 1e-6  /* an undamped step this small (× spacing) ends:
+                                     the next would be below QC_NEWTON_TOL */
+
 /* Continuous refinement of sorted thresholds t (w->nt of them) to a local
  * maximum of I(X;Y_q): damped Newton steps on the exact gradient and the
  * exact tridiagonal Hessian (refine.c); `scale` is the noise scale
@@ -219,6 +243,18 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
  * where it would end. */
 qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
                           double *t, double *mi_nats, size_t *iterations);
+/* Gradient g, Hessian diagonal hd and off-diagonal ho (nt − 1) of
+ * I(X;Y_q) at the thresholds t whose channel, output law and log ratios
+ * the workspace holds (qc_cell_mi_eval was just called at t), by the exact
+ * formulas of refine.c; h is the difference step of the density's slope.
+ * f: nt × nlevels scratch (left holding the densities at t), F: nt.
+ * Returns 0 when they are not finite (densities beyond the range of
+ * doubles, as in the noiseless limit). For a large channel, and a model
+ * several threads may evaluate at once, the thresholds are shared among
+ * OpenMP threads; each sum runs over the levels in order in one thread,
+ * as in the serial loop. */
+int qc_cell_mi_derivatives(const qc_cell_mi *w, const double *t, double h, double *g,
+                           double *hd, double *ho, double *f, double *F);
 /* Integer coordinate search for count thresholds (used when the fine grid
  * could not hold every count): each threshold moves by ±1, ±2, ±4 … while
  * the MI grows. */

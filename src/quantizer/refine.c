@@ -30,19 +30,12 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 
-#define NEWTON_MAX_ITER 50
 #define NEWTON_WORK (1u << 22) /* iteration cap × thresholds × levels */
-#define NEWTON_MAX_DAMP 12     /* damping increases per Newton iteration */
-#define NEWTON_SLOPE_STEP 1e-5 /* density slope difference, × noise scale */
-#define NEWTON_TOL 1e-11       /* stop when steps fall below this × spacing */
-#define NEWTON_ROUNDING 1e-8   /* a rejected step this small (× spacing) ends */
-#define NEWTON_QUADRATIC 1e-6 /* an undamped step this small (× spacing) ends:
-                                 the next would be below NEWTON_TOL */
 #define TRIAL_GRACE 1          /* iterations before a trial may be given up */
 #define TRIAL_ROOM 4.0         /* × the predicted gain a trial must be within */
 #define TRIAL_HOME 0.05        /* × spacing: a trial this near the incumbent ends */
 
-/* Threshold j's share of exact_derivatives: the density f(t_j|x) of
+/* Threshold j's share of qc_cell_mi_derivatives: the density f(t_j|x) of
  * every level into f[j·nx + x] (0 where it vanishes), g[j], hd[j] and
  * F[j] = Σ_x r f; 0 when g[j] or hd[j] is not finite. */
 static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t j,
@@ -97,16 +90,8 @@ static void coupling(const qc_cell_mi *w, size_t j, const double *f, const doubl
     ho[j - 1] = -off + (q[j] > 0.0 ? F[j - 1] * F[j] / q[j] : 0.0);
 }
 
-/* Gradient g, Hessian diagonal hd and off-diagonal ho of I at the
- * thresholds t whose channel, output law and log ratios the workspace
- * holds (qc_cell_mi_eval was just called at t). f: nt × nx scratch, F: nt.
- * Returns 0 when they are not finite (densities beyond the range of
- * doubles, as in the noiseless limit). For a large channel, and a model
- * several threads may evaluate at once, the thresholds are shared among
- * OpenMP threads; each sum runs over the levels in order in one thread,
- * as in the serial loop. */
-static int exact_derivatives(const qc_cell_mi *w, const double *t, double h,
-                             double *g, double *hd, double *ho, double *f, double *F)
+int qc_cell_mi_derivatives(const qc_cell_mi *w, const double *t, double h, double *g,
+                           double *hd, double *ho, double *f, double *F)
 {
     const size_t nt = w->nt;
     if (qc_parallel_worth(nt * w->nlevels) && qc_model_thread_safe(w->model)) {
@@ -174,16 +159,16 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
     double *step = work + 7 * nt, *sp = work + 8 * nt, *F = work + 9 * nt;
     double *f = work + 10 * nt;
     double mi, mu = 0.0;
-    const double h = NEWTON_SLOPE_STEP * scale;
+    const double h = QC_NEWTON_SLOPE_STEP * scale;
     qc_status st = qc_cell_mi_eval(w, t, &mi, NULL);
     int at_t = 1; /* the workspace holds the channel of t */
     size_t maxit = NEWTON_WORK / (nt * nx);
-    maxit = maxit < 8 ? 8 : maxit > NEWTON_MAX_ITER ? NEWTON_MAX_ITER : maxit;
+    maxit = maxit < 8 ? 8 : maxit > QC_NEWTON_MAX_ITER ? QC_NEWTON_MAX_ITER : maxit;
     for (size_t it = 0; st == QC_OK && it < maxit; it++) {
         if (!at_t && (st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
         at_t = 1;
-        if (!exact_derivatives(w, t, h, g, hd, ho, f, F))
+        if (!qc_cell_mi_derivatives(w, t, h, g, hd, ho, f, F))
             break;
         double hmax = 0.0;
         for (size_t j = 0; j < nt; j++) {
@@ -212,7 +197,7 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
         for (size_t j = 0; j < nt; j++)
             newton &= hd[j] < 0.0; /* the curvature is the exact Hessian's */
         double rel = 0.0;
-        for (int tries = 0; tries < NEWTON_MAX_DAMP && !accepted; tries++) {
+        for (int tries = 0; tries < QC_NEWTON_MAX_DAMP && !accepted; tries++) {
             int ordered = damped_step(nt, hd, ho, g, mu, hmax, a, e, rhs, step);
             rel = 0.0;
             for (size_t j = 0; j < nt && ordered; j++) {
@@ -221,7 +206,7 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
                 if (!isfinite(tp[j]) || (j > 0 && !(tp[j] > tp[j - 1])))
                     ordered = 0;
             }
-            if (ordered && rel < NEWTON_TOL)
+            if (ordered && rel < QC_NEWTON_TOL)
                 break; /* converged: the step is below the resolution */
             double mip = -INFINITY;
             if (ordered) {
@@ -231,12 +216,12 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
             }
             if (ordered && mip >= mi) {
                 accepted = 1;
-                quadratic = mu == 0.0 && newton && rel < NEWTON_QUADRATIC;
+                quadratic = mu == 0.0 && newton && rel < QC_NEWTON_QUADRATIC;
                 memcpy(t, tp, nt * sizeof *t);
                 mi = mip;
                 at_t = 1;
                 mu *= 0.1;
-            } else if (ordered && rel < NEWTON_ROUNDING) {
+            } else if (ordered && rel < QC_NEWTON_ROUNDING) {
                 break; /* a tiny step lost to rounding: nothing left to gain */
             } else {
                 mu = mu > 0.0 ? 10.0 * mu : 1e-3;
@@ -246,7 +231,7 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
             break;
         if (iterations)
             (*iterations)++;
-        if (!accepted || rel < NEWTON_TOL || quadratic)
+        if (!accepted || rel < QC_NEWTON_TOL || quadratic)
             break;
         if (home) { /* back beside the incumbent: the trial would end there */
             int near = 1;

@@ -114,7 +114,7 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
             QC_OK)
         return st;
     p->rate->input = input; /* the law may change between designs */
-    st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, mi_of, p->rate, t, NULL,
+    st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, p->rate, t, NULL,
                            &stats->iterations);
     if (st == QC_OK && p->tidy_nats > 0.0)
         st = qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt, mi_of, p->rate,

@@ -5,13 +5,16 @@
  *
  * Continuous outputs, K ≥ 3: c is the middle of the span of the mean
  * outputs of the levels (in the output's own units: electrons for the
- * APD models); h is found by a scan of 64 values up to the output
- * support and GSL's Brent
- * minimizer (Brent, Algorithms for Minimization without Derivatives, 1973)
- * around the best; then both ends c − h and c + h are adjusted together by
- * the Nelder–Mead simplex (GSL nmsimplex2; Nelder & Mead, Computer
- * Journal 7, 1965), which matters for asymmetric noise or level sets.
- * K = 2: one threshold, whose position is searched the same way.
+ * APD models); h is scanned over 64 values up to the output support.
+ * From a strict maximum of the scan, damped Newton steps on the exact
+ * gradient and curvature move both ends c − h and c + h at once
+ * (uniform_newton.c), which matters for asymmetric noise or level sets.
+ * At an end of the scan, on a plateau (a saturated rate), or where Newton
+ * cannot settle, the Nelder–Mead simplex adjusts both ends instead (GSL
+ * nmsimplex2; Nelder & Mead, Computer Journal 7, 1965).
+ * K = 2: one threshold, whose position is scanned, then refined by GSL's
+ * Brent minimizer (Brent, Algorithms for Minimization without
+ * Derivatives, 1973).
  * Count outputs: integer thresholds t_1 + (j − 1)·Δ, searched over the
  * integers t_1 ≥ 1 and Δ ≥ 1 (exhaustively when small, else on a lattice
  * refined around its best point). */
@@ -87,16 +90,22 @@ static qc_status eval_current(search *s, double *value)
     return QC_OK;
 }
 
+/* The nt thresholds of the uniform quantizer on [a, b] into t. */
+static void range_thresholds_ends(double a, double b, size_t nt, double *t)
+{
+    const size_t K = nt + 1;
+    for (size_t j = 1; j < K; j++)
+        t[j - 1] = a + (b - a) * (double)j / (double)K;
+}
+
 /* Rate of the uniform quantizer on [a, b]; -INFINITY for a range too
  * narrow to hold distinct thresholds. */
 static qc_status eval_range(search *s, double a, double b, double *value)
 {
-    const size_t K = s->nt + 1;
     *value = -INFINITY;
     if (!(b > a))
         return QC_OK;
-    for (size_t j = 1; j < K; j++)
-        s->t[j - 1] = a + (b - a) * (double)j / (double)K;
+    range_thresholds_ends(a, b, s->nt, s->t);
     for (size_t j = 1; j < s->nt; j++)
         if (!(s->t[j] > s->t[j - 1]))
             return QC_OK;
@@ -130,22 +139,30 @@ static double line_neg(double x, void *p)
     return isfinite(v) ? -v : 1.0;
 }
 
-/* Scan x over [x0, x1] then Brent around the best point. */
-static qc_status scan_and_brent(line *l, double x0, double x1)
+/* Scans x over [x0, x1]: SCAN_POINTS + 1 evenly spaced points into xs,
+ * vs (−rate) and the best one's index *ib. Returns 1 when the best is
+ * interior and strictly better than both neighbours (a maximum to refine),
+ * 0 when it is at an end or on a plateau (the scan decides). */
+static int scan_line(line *l, double x0, double x1, double *xs, double *vs, size_t *ib)
 {
-    double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
-    size_t ib = 0;
+    *ib = 0;
     for (size_t i = 0; i <= SCAN_POINTS; i++) {
         xs[i] = x0 + (x1 - x0) * (double)i / SCAN_POINTS;
         vs[i] = line_neg(xs[i], l);
         if (l->s->st != QC_OK)
-            return l->s->st;
-        if (vs[i] < vs[ib])
-            ib = i;
+            return 0;
+        if (vs[i] < vs[*ib])
+            *ib = i;
     }
-    if (ib == 0 || ib == SCAN_POINTS || !(vs[ib] < vs[ib - 1]) ||
-        !(vs[ib] < vs[ib + 1]))
-        return QC_OK; /* best at an end or on a plateau: the scan decides */
+    const size_t i = *ib;
+    return i > 0 && i < SCAN_POINTS && vs[i] < vs[i - 1] && vs[i] < vs[i + 1];
+}
+
+/* Brent's minimizer of −rate along the line, bracketed by the scan's best
+ * point ib and its neighbours. */
+static qc_status brent_line(line *l, const double *xs, const double *vs, size_t ib,
+                            double x0, double x1)
+{
     gsl_min_fminimizer *m = gsl_min_fminimizer_alloc(gsl_min_fminimizer_brent);
     if (!m)
         return qc_fail(QC_ENOMEM, "out of memory");
@@ -272,13 +289,19 @@ static void output_span(const qc_model *model, const double *levels,
     }
 }
 
+static qc_status mi_of(void *ctx, const double *t, size_t nt, double *value)
+{
+    (void)nt;
+    return qc_cell_mi_eval(ctx, t, value, NULL);
+}
+
 qc_status qc_uniform_search(const qc_model *model, const double *levels,
-                            size_t nlevels, size_t nt, qc_threshold_objective f,
-                            void *ctx, double *t_out, double *value_out,
-                            size_t *evals)
+                            size_t nlevels, size_t nt, qc_cell_mi *w, double *t_out,
+                            double *value_out, size_t *evals)
 {
     qc_gsl_init();
-    search s = {.f = f, .ctx = ctx, .nt = nt, .best = -INFINITY, .best_t = t_out, .st = QC_OK};
+    search s = {.f = mi_of, .ctx = w, .nt = nt, .best = -INFINITY, .best_t = t_out,
+                .st = QC_OK};
     s.t = qc_malloc_array(nt, sizeof *s.t);
     s.seen_t = qc_malloc_array(nt * SEEN_SLOTS, sizeof *s.seen_t);
     if (!s.t || !s.seen_t) {
@@ -295,18 +318,40 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         st = count_search(&s, fmax(ceil(hi), 1.0));
     } else if (nt == 1) {
         line l = {&s, 0.0, 1};
-        st = scan_and_brent(&l, lo, hi);
+        double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
+        size_t ib;
+        if (scan_line(&l, lo, hi, xs, vs, &ib))
+            st = brent_line(&l, xs, vs, ib, lo, hi);
+        else
+            st = s.st;
     } else {
         double mean_lo, mean_hi;
         output_span(model, levels, nlevels, &mean_lo, &mean_hi);
         double c = 0.5 * (mean_lo + mean_hi);
         double hmax = fmax(hi - c, c - lo);
         line l = {&s, c, 0};
-        st = scan_and_brent(&l, 0.0, hmax);
-        if (st == QC_OK && isfinite(s.best)) {
-            double w = s.best_t[1] - s.best_t[0]; /* cell width */
-            double a = s.best_t[0] - w;
-            st = adjust_ends(&s, a, a + (double)(nt + 1) * w, nlevels);
+        double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
+        size_t ib;
+        int converged = 0;
+        if (scan_line(&l, 0.0, hmax, xs, vs, &ib)) {
+            /* a maximum in h: Newton on both ends from it */
+            double a = c - xs[ib], b = c + xs[ib], v;
+            const double scale = qc_noise_scale(model, levels, w->input, nlevels);
+            st = qc_uniform_newton(w, scale, &a, &b, &v, &s.evals, &converged);
+            if (st == QC_OK && v > s.best) {
+                s.best = v;
+                range_thresholds_ends(a, b, nt, s.best_t);
+            }
+        } else {
+            st = s.st;
+        }
+        /* at an end of the scan, on a plateau, or where Newton could not
+         * settle (no finite curvature, a rate that is not smooth): the
+         * simplex on both ends from the best range seen */
+        if (st == QC_OK && !converged && isfinite(s.best)) {
+            double cw = s.best_t[1] - s.best_t[0]; /* cell width */
+            double a = s.best_t[0] - cw;
+            st = adjust_ends(&s, a, a + (double)(nt + 1) * cw, nlevels);
         }
     }
     free(s.t);

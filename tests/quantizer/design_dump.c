@@ -121,6 +121,14 @@ int main(void)
             return fail("gauss-sd design");
         json_array_append_new(list, o);
     }
+    /* uniform quantizers, whose best range is not centred on the levels
+     * here: both of its ends are searched */
+    for (size_t K = 4; K <= 16; K *= 2) {
+        json_t *u = design_with(&qc_model_gauss_sd, sd, upam4, 4, K, QC_QUANTIZER_UNIFORM);
+        if (!u)
+            return fail("gauss-sd uniform design");
+        json_array_append_new(list, u);
+    }
     json_object_set_new(root, "gauss_sd", list);
 
     int rc = json_dumpf(root, stdout, JSON_INDENT(1) | JSON_REAL_PRECISION(17));

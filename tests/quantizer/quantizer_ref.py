@@ -20,6 +20,9 @@ recomputes every value independently with scipy/numpy:
   thresholds by Nelder-Mead from a grid of starts, to 1e-9 bit (the
   automatic grid of the design, sized by the local noise scale, must not
   lose the global optimum);
+* uniform quantizers of the same unipolar PAM-4 with 4, 8 and 16 cells:
+  I(X;Y_q) of K cells of equal width on [a, b] (outer cells open),
+  maximized over both ends by Nelder-Mead from a grid of starts;
 * Lloyd-Max: Lloyd's iteration (Lloyd, IEEE Trans. IT 28(2), 1982) with the
   conditional means in closed form (truncated-normal means from
   scipy.stats.norm), where quantcap integrates numerically.
@@ -158,6 +161,25 @@ def best_sd(levels, sds, cells):
     return -res.fun, np.sort(res.x)
 
 
+def best_uniform_ends(levels, sds, cells):
+    """Best uniform quantizer with K cells on [a, b]: Nelder-Mead over
+    (a, b) from a grid of starts, the best polished."""
+    def t_of(e):
+        return e[0] + (e[1] - e[0]) * np.arange(1, cells) / cells
+
+    def f(e):
+        return -sd_mi(levels, sds, t_of(e)) if e[1] > e[0] else 1.0
+    best = None
+    for a, b in itertools.product(np.arange(-1.0, 1.01, 0.5), np.arange(2.0, 4.01, 0.5)):
+        res = optimize.minimize(f, np.array([a, b]), method="Nelder-Mead",
+                                options={"xatol": 1e-6, "fatol": 1e-13})
+        if best is None or res.fun < best.fun:
+            best = res
+    res = optimize.minimize(f, best.x, method="Nelder-Mead",
+                            options={"xatol": 1e-11, "fatol": 1e-16, "maxiter": 20000})
+    return -res.fun, t_of(res.x)
+
+
 def main():
     out = subprocess.run([sys.argv[1]], check=True, capture_output=True, text=True).stdout
     data = json.loads(out)
@@ -187,8 +209,11 @@ def main():
     for d in data["gauss_sd"]:
         levels = d["levels"]
         sds = [np.sqrt(d["sigma"] ** 2 + d["a"] * x + d["b"] * x * x) for x in levels]
-        rate, t = best_sd(levels, sds, d["cells"])
-        name = f"optimal gauss-sd upam4 K={d['cells']}"
+        if d["quantizer"] == "uniform":
+            rate, t = best_uniform_ends(levels, sds, d["cells"])
+        else:
+            rate, t = best_sd(levels, sds, d["cells"])
+        name = f"{d['quantizer']} gauss-sd upam4 K={d['cells']}"
         check(f"{name} rate", d["rate_bits"], rate, 1e-9)
         for j, (a, b) in enumerate(zip(d["thresholds"], t)):
             check(f"  threshold {j + 1}", a, b, TOL_T)

@@ -626,6 +626,56 @@ static void test_uniform_is_best_of_its_family(void **state)
     qc_model_free(m);
 }
 
+/* Newton on both ends of the range, from a range 10 % too wide and off
+ * centre, for unipolar PAM-4 in signal-dependent noise (whose best range
+ * is not centred on the levels): it settles where the rate's gradient in
+ * the two ends vanishes, in a handful of evaluations, and no nearby range
+ * is better. */
+static void test_uniform_newton_stationary(void **state)
+{
+    (void)state;
+    const double sd[3] = {0.2, 0.05, 0.0}, levels[4] = {0.0, 1.0, 2.0, 3.0};
+    const double law[4] = {0.25, 0.25, 0.25, 0.25};
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, sd, &m), QC_OK);
+    for (size_t nt = 3; nt <= 15; nt = 2 * nt + 1) {
+        const double K = (double)(nt + 1);
+        qc_cell_mi *w;
+        assert_int_equal(qc_cell_mi_alloc(m, levels, law, 4, nt, &w), QC_OK);
+        double a = -0.3, b = 3.5, mi, t[15], g[15];
+        size_t evals = 0;
+        int converged = 0;
+        const double scale = qc_noise_scale(m, levels, law, 4);
+        assert_int_equal(qc_uniform_newton(w, scale, &a, &b, &mi, &evals, &converged), QC_OK);
+        assert_int_equal(converged, 1);
+        assert_true(evals >= 3 && evals <= 20);
+        for (size_t j = 0; j < nt; j++)
+            t[j] = a + (b - a) * (double)(j + 1) / K;
+        double v;
+        assert_int_equal(qc_cell_mi_eval(w, t, &v, g), QC_OK);
+        assert_true(v == mi);
+        /* ∂I/∂a = Σ (1 − (j+1)/K) g_j, ∂I/∂b = Σ (j+1)/K g_j */
+        double ga = 0.0, gb = 0.0, gmax = 0.0;
+        for (size_t j = 0; j < nt; j++) {
+            ga += (1.0 - (double)(j + 1) / K) * g[j];
+            gb += (double)(j + 1) / K * g[j];
+            gmax = fmax(gmax, fabs(g[j]));
+        }
+        assert_true(gmax > 1e-3); /* the thresholds alone are not stationary */
+        assert_true(fabs(ga) <= 1e-9 && fabs(gb) <= 1e-9);
+        for (int da = -1; da <= 1; da++)
+            for (int db = -1; db <= 1; db++) {
+                for (size_t j = 0; j < nt; j++)
+                    t[j] = a + 1e-4 * da + (b + 1e-4 * db - a - 1e-4 * da) *
+                                               (double)(j + 1) / K;
+                assert_int_equal(qc_cell_mi_eval(w, t, &v, NULL), QC_OK);
+                assert_true(v <= mi + 1e-15);
+            }
+        qc_cell_mi_free(w);
+    }
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -642,6 +692,7 @@ int main(void)
         cmocka_unit_test(test_lloyd_max_converges),
         cmocka_unit_test(test_lloyd_max_cap_reported),
         cmocka_unit_test(test_uniform_is_best_of_its_family),
+        cmocka_unit_test(test_uniform_newton_stationary),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

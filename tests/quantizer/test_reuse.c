@@ -228,7 +228,7 @@ static void test_tidy_same_as_full_bisection(void **state)
         qc_cell_mi *w;
         assert_int_equal(qc_cell_mi_alloc(m, levels, law, n, nt, &w), QC_OK);
         double *t = malloc(nt * sizeof *t), *ref = malloc(nt * sizeof *ref);
-        assert_int_equal(qc_uniform_search(m, levels, n, nt, rate_of, w, t, NULL, NULL), QC_OK);
+        assert_int_equal(qc_uniform_search(m, levels, n, nt, w, t, NULL, NULL), QC_OK);
         memcpy(ref, t, nt * sizeof *t);
         assert_int_equal(qc_uniform_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, t), QC_OK);
         assert_int_equal(full_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, ref), QC_OK);
