@@ -58,6 +58,11 @@ enum {
      * only adds to that variance (qc_model_add_noise), and memory channels
      * simulate and weigh it so */
     QC_MODEL_GAUSSIAN_LAW = 1u << 3,
+    /* the density has kinks (piecewise linear in y: its slope jumps), so
+     * rates are not twice differentiable in the thresholds and have local
+     * maxima a curvature-based search would settle in (table): searches
+     * that need the curvature are not used */
+    QC_MODEL_KINKED_DENSITY = 1u << 4,
 };
 
 /* The physical receiver whose quantities a model's parameters can be

@@ -11,7 +11,11 @@
  * (uniform_newton.c), which matters for asymmetric noise or level sets.
  * At an end of the scan, on a plateau (a saturated rate), or where Newton
  * cannot settle, the Nelder–Mead simplex adjusts both ends instead (GSL
- * nmsimplex2; Nelder & Mead, Computer Journal 7, 1965).
+ * nmsimplex2; Nelder & Mead, Computer Journal 7, 1965). A density with
+ * kinks (measured tables: QC_MODEL_KINKED_DENSITY) gives a rate with
+ * local maxima Newton would settle in; there GSL's Brent minimizer
+ * refines h first and the simplex, whose first steps of 5 % of h explore
+ * around it, follows.
  * K = 2: one threshold, whose position is scanned, then refined by GSL's
  * Brent minimizer (Brent, Algorithms for Minimization without
  * Derivatives, 1973).
@@ -30,6 +34,7 @@
 #include <gsl/gsl_multimin.h>
 
 #define SCAN_POINTS 64
+#define CENTRE_POINTS 33 /* centres scanned for a density with kinks */
 #define BRENT_MAX_ITER 100
 #define SIMPLEX_MAX_ITER 400
 #define SIMPLEX_WORK ((size_t)1 << 22) /* iterations × thresholds × levels */
@@ -333,7 +338,39 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
         size_t ib;
         int converged = 0;
-        if (scan_line(&l, 0.0, hmax, xs, vs, &ib)) {
+        const int kinked =
+            (qc_model_get_type(model)->properties & QC_MODEL_KINKED_DENSITY) != 0;
+        if (!scan_line(&l, 0.0, hmax, xs, vs, &ib)) {
+            st = s.st; /* best at an end of the scan or on a plateau */
+        } else if (kinked) {
+            /* a density with kinks: the rate has local maxima that a local
+             * search settles in. The scan is repeated with the centre at
+             * CENTRE_POINTS places over the span of the mean outputs; Brent
+             * along h at the best centre, then the simplex explores. */
+            double best_c = c, best_v = vs[ib];
+            size_t best_ib = ib;
+            st = QC_OK;
+            for (size_t k = 0; k < CENTRE_POINTS && st == QC_OK; k++) {
+                const double ck =
+                    mean_lo + (mean_hi - mean_lo) * (double)k / (CENTRE_POINTS - 1);
+                line lk = {&s, ck, 0};
+                double hk = fmax(hi - ck, ck - lo);
+                double xk[SCAN_POINTS + 1], vk[SCAN_POINTS + 1];
+                size_t ik;
+                if (scan_line(&lk, 0.0, hk, xk, vk, &ik) && vk[ik] < best_v) {
+                    best_c = lk.c;
+                    best_v = vk[ik];
+                    best_ib = ik;
+                    memcpy(xs, xk, sizeof xk);
+                    memcpy(vs, vk, sizeof vk);
+                    hmax = hk;
+                }
+                st = s.st;
+            }
+            l.c = best_c;
+            if (st == QC_OK)
+                st = brent_line(&l, xs, vs, best_ib, 0.0, hmax);
+        } else {
             /* a maximum in h: Newton on both ends from it */
             double a = c - xs[ib], b = c + xs[ib], v;
             const double scale = qc_noise_scale(model, levels, w->input, nlevels);
@@ -342,11 +379,9 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                 s.best = v;
                 range_thresholds_ends(a, b, nt, s.best_t);
             }
-        } else {
-            st = s.st;
         }
-        /* at an end of the scan, on a plateau, or where Newton could not
-         * settle (no finite curvature, a rate that is not smooth): the
+        /* at an end of the scan, on a plateau, for a density with kinks,
+         * or where Newton could not settle (no finite curvature): the
          * simplex on both ends from the best range seen */
         if (st == QC_OK && !converged && isfinite(s.best)) {
             double cw = s.best_t[1] - s.best_t[0]; /* cell width */
