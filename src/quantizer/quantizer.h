@@ -51,16 +51,19 @@ typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
  * of the scan, Newton steps on both ends of the range
  * (qc_uniform_newton); at an end of the scan, on a plateau or where
  * Newton cannot settle, the Nelder–Mead simplex on both ends. One
- * threshold: the scan and Brent's search. Counts: integer first threshold
+ * threshold: the scan, then Newton steps on it. A density with kinks
+ * (QC_MODEL_KINKED_DENSITY): the scan over 33 centres as well, then
+ * Brent's search and the simplex. Counts: integer first threshold
  * and integer step. t_out holds nt thresholds; *evals (may be NULL)
  * counts rate evaluations. */
 qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             size_t nlevels, size_t nt, qc_cell_mi *w, double *t_out,
                             double *value_out, size_t *evals);
 
-/* The range [*lo_end, *hi_end] of the uniform quantizer with w->nt ≥ 2
+/* The range [*lo_end, *hi_end] of the uniform quantizer with w->nt
  * thresholds raised to a local maximum of I(X;Y_q) by damped Newton steps
- * on the exact gradient and curvature in the two ends (uniform_newton.c);
+ * on the exact gradient and curvature in the two ends (uniform_newton.c;
+ * one threshold, (a + b)/2: both ends move together);
  * `scale` as for qc_refine_continuous. Steps that lower the rate are not
  * taken. *mi_nats: the rate at the result (−∞ when the range given holds
  * no increasing thresholds); *evals is raised by the rate evaluations;

@@ -16,9 +16,10 @@
  * local maxima Newton would settle in; there GSL's Brent minimizer
  * refines h first and the simplex, whose first steps of 5 % of h explore
  * around it, follows.
- * K = 2: one threshold, whose position is scanned, then refined by GSL's
- * Brent minimizer (Brent, Algorithms for Minimization without
- * Derivatives, 1973).
+ * K = 2: one threshold, whose position is scanned, then refined by
+ * Newton steps (by GSL's Brent minimizer, Brent, Algorithms for
+ * Minimization without Derivatives, 1973, for a density with kinks or
+ * where Newton cannot settle).
  * Count outputs: integer thresholds t_1 + (j − 1)·Δ, searched over the
  * integers t_1 ≥ 1 and Δ ≥ 1 (exhaustively when small, else on a lattice
  * refined around its best point). */
@@ -316,6 +317,8 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
     }
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
+    /* a density with kinks (measured tables): no Newton steps */
+    const int kinked = (qc_model_get_type(model)->properties & QC_MODEL_KINKED_DENSITY) != 0;
     qc_status st;
     if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS) {
         /* first threshold and step within the support: thresholds above
@@ -325,10 +328,23 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         line l = {&s, 0.0, 1};
         double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
         size_t ib;
-        if (scan_line(&l, lo, hi, xs, vs, &ib))
+        int converged = 0;
+        if (!scan_line(&l, lo, hi, xs, vs, &ib)) {
+            st = s.st; /* best at an end of the scan or on a plateau */
+        } else if (kinked) {
             st = brent_line(&l, xs, vs, ib, lo, hi);
-        else
-            st = s.st;
+        } else {
+            /* a maximum: Newton steps on the threshold from it */
+            double a = xs[ib], b = xs[ib], v;
+            const double scale = qc_noise_scale(model, levels, w->input, nlevels);
+            st = qc_uniform_newton(w, scale, &a, &b, &v, &s.evals, &converged);
+            if (st == QC_OK && v > s.best) {
+                s.best = v;
+                s.best_t[0] = 0.5 * (a + b);
+            }
+            if (st == QC_OK && !converged)
+                st = brent_line(&l, xs, vs, ib, lo, hi);
+        }
     } else {
         double mean_lo, mean_hi;
         output_span(model, levels, nlevels, &mean_lo, &mean_hi);
@@ -338,8 +354,6 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
         double xs[SCAN_POINTS + 1], vs[SCAN_POINTS + 1];
         size_t ib;
         int converged = 0;
-        const int kinked =
-            (qc_model_get_type(model)->properties & QC_MODEL_KINKED_DENSITY) != 0;
         if (!scan_line(&l, 0.0, hmax, xs, vs, &ib)) {
             st = s.st; /* best at an end of the scan or on a plateau */
         } else if (kinked) {

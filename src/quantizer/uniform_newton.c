@@ -12,7 +12,9 @@
  * after an accepted step. It stops as refine.c does: a step below
  * 10⁻¹¹ of the cell width, an undamped step of the exact curvature below
  * 10⁻⁶ of it (the next would be below 10⁻¹¹), or a rejected step below
- * 10⁻⁸ of it (rounding). A stationary point of a smooth rate is reached in
+ * 10⁻⁸ of it (rounding). One threshold (a + b)/2 is moved by shifting
+ * both ends together, its spacing being the noise scale. A stationary
+ * point of a smooth rate is reached in
  * a handful of evaluations, where a simplex on the two ends needs a
  * hundred or more. */
 #include "quantizer/quantizer.h"
@@ -58,10 +60,18 @@ static void project(size_t nt, const double *g, const double *hd, const double *
 }
 
 /* Solves (A + μD) s = G, D = diag(max(|A_ii|, 10⁻⁸·max|A_ii|)); 0 when
- * that matrix is not positive definite. */
-static int damped_step(const double A[4], const double G[2], double mu, double s[2])
+ * that matrix is not positive definite. With one threshold both ends take
+ * the one step G_0/(A_00 + μD_00) (A and G then hold the derivatives
+ * along that shift in every entry). */
+static int damped_step(const double A[4], const double G[2], double mu, int shift,
+                       double s[2])
 {
     const double amax = fmax(fabs(A[0]), fabs(A[3]));
+    if (shift) {
+        const double m = A[0] + mu * fabs(A[0]);
+        s[0] = s[1] = G[0] / m;
+        return m > 0.0 && isfinite(s[0]);
+    }
     const double m00 = A[0] + mu * fmax(fabs(A[0]), 1e-8 * amax);
     const double m11 = A[3] + mu * fmax(fabs(A[3]), 1e-8 * amax);
     const double det = m00 * m11 - A[1] * A[2];
@@ -101,11 +111,17 @@ qc_status qc_uniform_newton(qc_cell_mi *w, double scale, double *lo_end, double 
             break;
         double G[2], A[4], s[2];
         project(nt, g, hd, ho, G, A);
-        const int newton = damped_step(A, G, 0.0, s); /* exact curvature */
-        const double width = (b - a) / (double)(nt + 1);
+        if (nt == 1) {
+            /* one threshold, (a + b)/2: both ends move together */
+            G[0] = G[1] = G[0] + G[1];
+            A[0] = A[1] = A[2] = A[3] = A[0] + 2.0 * A[1] + A[3];
+        }
+        const int newton = damped_step(A, G, 0.0, nt == 1, s); /* exact curvature */
+        /* the cell width; one threshold: the noise scale, as refine.c */
+        const double width = nt == 1 ? scale : (b - a) / (double)(nt + 1);
         int accepted = 0, quadratic = 0, stop = 0;
         for (int tries = 0; tries < QC_NEWTON_MAX_DAMP && !accepted && !stop; tries++) {
-            if (!damped_step(A, G, mu, s)) {
+            if (!damped_step(A, G, mu, nt == 1, s)) {
                 mu = mu > 0.0 ? 10.0 * mu : 1e-3;
                 continue;
             }
