@@ -4,13 +4,19 @@
  * i.e. linear in N), and a complete qc_design (optimal, MI) for PAM-4 at
  * 3 bits. Each DP time is the best of ROUNDS rounds over all sizes, in
  * process CPU time (the machine may be shared; wall time is printed
- * too). Prints the figures; exits 1 if a target is missed. */
+ * too). Then the uniform quantizer's range search (scan, then Newton
+ * steps on both ends; uniform.c, uniform_newton.c) and the centring of
+ * its range among equally good ones (qc_uniform_tidy) for PAM-8 at 16 dB,
+ * 1 to 8 bits: rate evaluations and CPU time, against one evaluation of
+ * the rate (no target). Prints the figures; exits 1 if a target is
+ * missed. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <time.h>
 
 #include "quantcap.h"
+#include "quantizer/quantizer.h" /* the uniform search and its tidying */
 
 #define TARGET_SECONDS 1.0
 #define TARGET_GROWTH 2.2
@@ -28,6 +34,62 @@ static double now(void) { return clock_seconds(CLOCK_MONOTONIC); }
 /* CPU time of this (single-threaded) process: what the DP costs, without
  * the time other processes hold the core. */
 static double cpu(void) { return clock_seconds(CLOCK_PROCESS_CPUTIME_ID); }
+
+#define UNIFORM_BATCH_S 0.02 /* CPU seconds of one timed batch, at least */
+
+/* CPU seconds of one call of `run` (fastest of ROUNDS batches, each
+ * long enough that the clock's own cost does not count); -1 on error. */
+static double time_per_call(int (*run)(void *), void *ctx)
+{
+    double t0 = cpu();
+    if (run(ctx) != 0)
+        return -1.0;
+    double once = cpu() - t0, best = INFINITY;
+    size_t batch = once > 0.0 ? (size_t)ceil(UNIFORM_BATCH_S / once) : 10000;
+    for (int round = 0; round < ROUNDS; round++) {
+        t0 = cpu();
+        for (size_t i = 0; i < batch; i++)
+            if (run(ctx) != 0)
+                return -1.0;
+        best = fmin(best, (cpu() - t0) / (double)batch);
+    }
+    return best;
+}
+
+typedef struct {
+    const qc_model *m;
+    const double *levels;
+    size_t nlevels, nt;
+    qc_cell_mi *w;
+    double t[255];
+    size_t evals;
+    int tidy; /* also centre the range, as the uniform strategy does */
+} uniform_run;
+
+static qc_status rate_of(void *ctx, const double *t, size_t nt, double *value)
+{
+    (void)nt;
+    return qc_cell_mi_eval(ctx, t, value, NULL);
+}
+
+static int run_uniform(void *p)
+{
+    uniform_run *u = p;
+    u->evals = 0;
+    if (qc_uniform_search(u->m, u->levels, u->nlevels, u->nt, u->w, u->t, NULL, &u->evals) !=
+        QC_OK)
+        return 1;
+    /* the strategy's tolerance: 1e-13 bit */
+    return u->tidy && qc_uniform_tidy(u->m, u->levels, u->nlevels, u->nt, rate_of, u->w,
+                                      1e-13 / QC_LOG2E, u->t) != QC_OK;
+}
+
+static int run_eval(void *p)
+{
+    uniform_run *u = p;
+    double v;
+    return qc_cell_mi_eval(u->w, u->t, &v, NULL) != QC_OK;
+}
 
 static int fail(const char *what)
 {
@@ -118,6 +180,33 @@ int main(void)
                res.snr_db, with_penalty ? ", with SNR penalty" : "", 1e3 * dt,
                res.rate_bits, res.unquantized_bits, res.fine_cells);
         qc_design_result_clear(&res);
+    }
+    qc_model_free(m);
+
+    /* The uniform quantizer's range for PAM-8 at 16 dB (E[x^2] = 21). */
+    const double pam8[8] = {-7, -5, -3, -1, 1, 3, 5, 7};
+    const double law8[8] = {0.125, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125};
+    const double sigma8 = sqrt(21.0 / pow(10.0, 1.6));
+    if (qc_model_alloc(&qc_model_gauss, &sigma8, &m) != QC_OK)
+        return fail("model");
+    printf("uniform quantizer, PAM-8 at 16 dB: range search (scan, Newton on both ends) and "
+           "centring among equally good ranges; CPU per run, fastest of %d batches\n",
+           ROUNDS);
+    printf("bits  evals  search_s    +centring_s  eval_s      search/eval  total/eval\n");
+    for (size_t bits = 1; bits <= 8; bits++) {
+        uniform_run u = {.m = m, .levels = pam8, .nlevels = 8, .nt = ((size_t)1 << bits) - 1};
+        if (qc_cell_mi_alloc(m, pam8, law8, 8, u.nt, &u.w) != QC_OK)
+            return fail("workspace");
+        double search = time_per_call(run_uniform, &u);
+        size_t evals = u.evals;
+        u.tidy = 1;
+        double total = time_per_call(run_uniform, &u);
+        double eval = time_per_call(run_eval, &u);
+        qc_cell_mi_free(u.w);
+        if (search < 0.0 || total < 0.0 || eval < 0.0)
+            return fail("uniform search");
+        printf("%4zu  %5zu  %.3e   %.3e   %.3e   %9.1f  %9.1f\n", bits, evals, search, total,
+               eval, search / eval, total / eval);
     }
     qc_model_free(m);
     return ok ? 0 : 1;
