@@ -14,9 +14,8 @@
  * 10⁻⁶ of it (the next would be below 10⁻¹¹), or a rejected step below
  * 10⁻⁸ of it (rounding). One threshold (a + b)/2 is moved by shifting
  * both ends together, its spacing being the noise scale. A stationary
- * point of a smooth rate is reached in
- * a handful of evaluations, where a simplex on the two ends needs a
- * hundred or more. */
+ * point of a smooth rate is reached in a handful of evaluations, where a
+ * simplex on the two ends needs a hundred or more. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
