@@ -128,3 +128,9 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     }
     return QC_OK;
 }
+
+qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *value)
+{
+    (void)nt;
+    return qc_cell_mi_eval(ctx, t, value, NULL);
+}

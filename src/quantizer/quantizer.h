@@ -42,6 +42,9 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
 typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
                                             size_t nt, double *value);
 
+/* The objective I(X;Y_q) of the workspace ctx (a qc_cell_mi), nats. */
+qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *value);
+
 /* ---- uniform.c -------------------------------------------------------- */
 
 /* Uniform quantizer with K = nt + 1 cells maximizing I(X;Y_q) under the
@@ -72,6 +75,10 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
  * at the result. */
 qc_status qc_uniform_newton(qc_cell_mi *w, double scale, double *lo_end, double *hi_end,
                             double *mi_nats, size_t *evals, int *converged);
+
+/* The nt thresholds a + (b − a)·j/(nt + 1), j = 1 … nt, of the uniform
+ * quantizer on [a, b] into t. */
+void qc_uniform_thresholds(double a, double b, size_t nt, double *t);
 
 /* Where the rate is flat in the range (saturation), a reproducible range
  * among the equally good ones: the half-width h, then the centre c, each

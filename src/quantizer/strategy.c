@@ -98,12 +98,6 @@ static qc_status fixed_design(qc_strategy_plan *p, const double *input, int warm
 
 /* ---- uniform ---------------------------------------------------------- */
 
-static qc_status mi_of(void *ctx, const double *t, size_t nt, double *value)
-{
-    (void)nt;
-    return qc_cell_mi_eval(ctx, t, value, NULL);
-}
-
 static qc_status uniform_design(qc_strategy_plan *p, const double *input, int warm, double *t,
                                 qc_strategy_stats *stats)
 {
@@ -117,7 +111,7 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
     st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, p->rate, t, NULL,
                            &stats->iterations);
     if (st == QC_OK && p->tidy_nats > 0.0)
-        st = qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt, mi_of, p->rate,
+        st = qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt, qc_cell_mi_objective, p->rate,
                              p->tidy_nats, t);
     return st;
 }

@@ -96,14 +96,6 @@ static qc_status eval_current(search *s, double *value)
     return QC_OK;
 }
 
-/* The nt thresholds of the uniform quantizer on [a, b] into t. */
-static void range_thresholds_ends(double a, double b, size_t nt, double *t)
-{
-    const size_t K = nt + 1;
-    for (size_t j = 1; j < K; j++)
-        t[j - 1] = a + (b - a) * (double)j / (double)K;
-}
-
 /* Rate of the uniform quantizer on [a, b]; -INFINITY for a range too
  * narrow to hold distinct thresholds. */
 static qc_status eval_range(search *s, double a, double b, double *value)
@@ -111,7 +103,7 @@ static qc_status eval_range(search *s, double a, double b, double *value)
     *value = -INFINITY;
     if (!(b > a))
         return QC_OK;
-    range_thresholds_ends(a, b, s->nt, s->t);
+    qc_uniform_thresholds(a, b, s->nt, s->t);
     for (size_t j = 1; j < s->nt; j++)
         if (!(s->t[j] > s->t[j - 1]))
             return QC_OK;
@@ -295,10 +287,20 @@ static void output_span(const qc_model *model, const double *levels,
     }
 }
 
-static qc_status mi_of(void *ctx, const double *t, size_t nt, double *value)
+/* Newton steps on the range [a, b] (qc_uniform_newton; one threshold:
+ * a = b), the result kept as the search's best when it is better. */
+static qc_status newton_from(search *s, qc_cell_mi *w, const qc_model *model,
+                             const double *levels, size_t nlevels, double a, double b,
+                             int *converged)
 {
-    (void)nt;
-    return qc_cell_mi_eval(ctx, t, value, NULL);
+    const double scale = qc_noise_scale(model, levels, w->input, nlevels);
+    double v;
+    qc_status st = qc_uniform_newton(w, scale, &a, &b, &v, &s->evals, converged);
+    if (st == QC_OK && v > s->best) {
+        s->best = v;
+        qc_uniform_thresholds(a, b, s->nt, s->best_t);
+    }
+    return st;
 }
 
 qc_status qc_uniform_search(const qc_model *model, const double *levels,
@@ -306,7 +308,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                             double *value_out, size_t *evals)
 {
     qc_gsl_init();
-    search s = {.f = mi_of, .ctx = w, .nt = nt, .best = -INFINITY, .best_t = t_out,
+    search s = {.f = qc_cell_mi_objective, .ctx = w, .nt = nt, .best = -INFINITY, .best_t = t_out,
                 .st = QC_OK};
     s.t = qc_malloc_array(nt, sizeof *s.t);
     s.seen_t = qc_malloc_array(nt * SEEN_SLOTS, sizeof *s.seen_t);
@@ -335,13 +337,7 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
             st = brent_line(&l, xs, vs, ib, lo, hi);
         } else {
             /* a maximum: Newton steps on the threshold from it */
-            double a = xs[ib], b = xs[ib], v;
-            const double scale = qc_noise_scale(model, levels, w->input, nlevels);
-            st = qc_uniform_newton(w, scale, &a, &b, &v, &s.evals, &converged);
-            if (st == QC_OK && v > s.best) {
-                s.best = v;
-                s.best_t[0] = 0.5 * (a + b);
-            }
+            st = newton_from(&s, w, model, levels, nlevels, xs[ib], xs[ib], &converged);
             if (st == QC_OK && !converged)
                 st = brent_line(&l, xs, vs, ib, lo, hi);
         }
@@ -386,13 +382,8 @@ qc_status qc_uniform_search(const qc_model *model, const double *levels,
                 st = brent_line(&l, xs, vs, best_ib, 0.0, hmax);
         } else {
             /* a maximum in h: Newton on both ends from it */
-            double a = c - xs[ib], b = c + xs[ib], v;
-            const double scale = qc_noise_scale(model, levels, w->input, nlevels);
-            st = qc_uniform_newton(w, scale, &a, &b, &v, &s.evals, &converged);
-            if (st == QC_OK && v > s.best) {
-                s.best = v;
-                range_thresholds_ends(a, b, nt, s.best_t);
-            }
+            st = newton_from(&s, w, model, levels, nlevels, c - xs[ib], c + xs[ib],
+                             &converged);
         }
         /* at an end of the scan, on a plateau, for a density with kinks,
          * or where Newton could not settle (no finite curvature): the

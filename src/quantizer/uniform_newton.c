@@ -21,15 +21,20 @@
 #include <math.h>
 #include <stdlib.h>
 
+void qc_uniform_thresholds(double a, double b, size_t nt, double *t)
+{
+    const double K = (double)(nt + 1);
+    for (size_t j = 0; j < nt; j++)
+        t[j] = a + (b - a) * (double)(j + 1) / K;
+}
+
 /* Thresholds of the range [a, b] into t; 0 if they are not increasing. */
 static int range_to_thresholds(double a, double b, size_t nt, double *t)
 {
-    const double K = (double)(nt + 1);
-    for (size_t j = 0; j < nt; j++) {
-        t[j] = a + (b - a) * (double)(j + 1) / K;
+    qc_uniform_thresholds(a, b, nt, t);
+    for (size_t j = 0; j < nt; j++)
         if (!isfinite(t[j]) || (j > 0 && !(t[j] > t[j - 1])))
             return 0;
-    }
     return nt > 0;
 }
 

@@ -66,12 +66,6 @@ typedef struct {
     int tidy; /* also centre the range, as the uniform strategy does */
 } uniform_run;
 
-static qc_status rate_of(void *ctx, const double *t, size_t nt, double *value)
-{
-    (void)nt;
-    return qc_cell_mi_eval(ctx, t, value, NULL);
-}
-
 static int run_uniform(void *p)
 {
     uniform_run *u = p;
@@ -80,7 +74,7 @@ static int run_uniform(void *p)
         QC_OK)
         return 1;
     /* the strategy's tolerance: 1e-13 bit */
-    return u->tidy && qc_uniform_tidy(u->m, u->levels, u->nlevels, u->nt, rate_of, u->w,
+    return u->tidy && qc_uniform_tidy(u->m, u->levels, u->nlevels, u->nt, qc_cell_mi_objective, u->w,
                                       1e-13 / QC_LOG2E, u->t) != QC_OK;
 }
 

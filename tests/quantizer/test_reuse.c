@@ -202,12 +202,6 @@ static qc_status full_tidy(const qc_model *model, const double *levels, size_t n
     return st;
 }
 
-static qc_status rate_of(void *ctx, const double *t, size_t nt, double *value)
-{
-    (void)nt;
-    return qc_cell_mi_eval(ctx, t, value, NULL);
-}
-
 /* Random level sets (some asymmetric), noise and resolutions: the centred
  * uniform quantizer is the one of full bisections, bit for bit. */
 static void test_tidy_same_as_full_bisection(void **state)
@@ -230,8 +224,8 @@ static void test_tidy_same_as_full_bisection(void **state)
         double *t = malloc(nt * sizeof *t), *ref = malloc(nt * sizeof *ref);
         assert_int_equal(qc_uniform_search(m, levels, n, nt, w, t, NULL, NULL), QC_OK);
         memcpy(ref, t, nt * sizeof *t);
-        assert_int_equal(qc_uniform_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, t), QC_OK);
-        assert_int_equal(full_tidy(m, levels, n, nt, rate_of, w, EPS_NATS, ref), QC_OK);
+        assert_int_equal(qc_uniform_tidy(m, levels, n, nt, qc_cell_mi_objective, w, EPS_NATS, t), QC_OK);
+        assert_int_equal(full_tidy(m, levels, n, nt, qc_cell_mi_objective, w, EPS_NATS, ref), QC_OK);
         for (size_t j = 0; j < nt; j++)
             if (!same_bits(t[j], ref[j]))
                 fail_msg("case %zu (%zu levels, %zu thresholds): threshold %zu is %.17g, full "
