@@ -7,7 +7,10 @@
 
 #include "core/internal.h"
 #include "quantcap/design.h"
+#include "quantcap/iq.h"
 #include "quantcap/quantizer.h"
+
+#include <gsl/gsl_cdf.h>
 
 /* Tolerance of the certified rates when the request gives none (bits). */
 #define QC_DESIGN_DEFAULT_TOL_BITS 1e-9
@@ -109,6 +112,28 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
  * the per-slot thresholds, the certified soft rate per symbol, the hard
  * receiver at its best threshold and the unquantized reference. */
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
+
+/* Φ(b) − Φ(a) for a ≤ b (standard normal), each difference taken in the
+ * tail where it does not cancel (the cells of the I/Q pair, the rings of
+ * the polar cells). */
+static inline double qc_phi_diff(double a, double b)
+{
+    if (a > 0.0)
+        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
+    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
+}
+
+/* iq_polar.c: the probabilities of polar cells by a Fourier series in the
+ * angle. A workspace holds the phase error's characteristic function and
+ * the FFT plans for one noise and one set of cells (one thread). */
+typedef struct qc_polar_series qc_polar_series;
+qc_status qc_polar_series_alloc(const qc_iq_noise *noise, qc_polar_series **out);
+void qc_polar_series_free(qc_polar_series *w);
+/* Row of point (x, y): P(ring a, sector p) at row[a·P + p], not yet
+ * normalized; *err raised to the last change of the series' refinement.
+ * QC_ENOCONV if 2^22 angles do not settle it; QC_ENOMEM. */
+qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                       double sigma, double *row, double *err);
 
 /* iq_entry.c: a request with channel.iq (a 2-D constellation through the
  * I/Q pair or the polar quantizer). */

@@ -5,19 +5,15 @@
  * Communication, 1966).
  * I/Q pair: the noise is independent across the quadratures, so each
  * rectangular cell's probability is the product of two differences of
- * the Gaussian CDF. Polar cells: along a ray at angle θ the density of
- * x + n is Gaussian in the radius, so its radial integral over a ring is
- * closed form (the Rice density of the amplitude, Rice, Bell Syst. Tech.
- * J. 1944, integrated over a phase sector); the angular integral is by
+ * the Gaussian CDF. Phase noise: y = x·e^{jφ} + n has the law of
+ * (x + n)·e^{jφ} (n is circular), so an I/Q cell's probability
+ * integrates the rotated point's product probability against p(φ), by
  * composite Gauss–Legendre quadrature (GSL glfixed) refined by panel
- * doubling. Phase noise: y = x·e^{jφ} + n has the law of (x + n)·e^{jφ}
- * (n is circular), so a polar cell's probability integrates the sector
- * probability of φ against the angular density, and an I/Q cell's
- * integrates the rotated point's product probability against p(φ). */
+ * doubling. Polar cells, with or without phase noise: a Fourier series in
+ * the angle (iq_polar.c). */
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 
-#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_integration.h>
 #include <gsl/gsl_sf_bessel.h>
 #include <gsl/gsl_math.h>
@@ -30,9 +26,6 @@
 #define MAX_LEVEL 16        /* last refinement: 2^16 panels                  */
 #define PN_WINDOW_SD 12.0   /* phase-noise integrals over ±12 s (tail e^-72) */
 #define PEAK_PANELS 2.0     /* panels per characteristic width at the start  */
-#define CDF_STEPS_PER_SD 400.0 /* Tikhonov CDF table: steps per standard deviation */
-#define CDF_MIN_STEPS 4096     /* ... and at least this many over the circle        */
-#define CDF_MAX_STEPS 8000000  /* beyond: the Bessel series instead                */
 
 const char *qc_iq_kind_name(qc_iq_kind k)
 {
@@ -119,21 +112,13 @@ static qc_status check_cells(const qc_iq_cells *q)
     return QC_OK;
 }
 
-/* Φ(b) − Φ(a) for a ≤ b, without cancellation in either tail. */
-static double phi_diff(double a, double b)
-{
-    if (a > 0.0)
-        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
-    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
-}
-
 /* Per-axis cell probabilities of coordinate v: out[k] = P(t_{k−1} ≤ v + n < t_k). */
 static void axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
 {
     double lo = -INFINITY;
     for (size_t k = 0; k <= nt; k++) {
         double hi = k < nt ? t[k] : INFINITY;
-        out[k] = phi_diff((lo - v) / sigma, (hi - v) / sigma);
+        out[k] = qc_phi_diff((lo - v) / sigma, (hi - v) / sigma);
         lo = hi;
     }
 }
@@ -208,21 +193,21 @@ static qc_status vquad_run(vquad *v, vfun f, void *ctx, double lo, double hi, do
 typedef struct {
     const qc_iq_noise *noise;
     double kappa, vm_norm; /* Tikhonov: κ and 1/(2π I0(κ) e^{−κ})           */
-    double *cdf;           /* Tikhonov CDF at −π + k·cdf_h, k = 0..cdf_n     */
-    size_t cdf_n;
-    double cdf_h;
     double window;         /* integrate φ over [−window, window]            */
 } phase_noise;
 
 static double pn_density(const phase_noise *pn, double phi)
 {
     double s = pn->noise->phase_sd;
-    if (pn->noise->phase_law == QC_PHASE_TIKHONOV)
-        return pn->vm_norm * exp(pn->kappa * (cos(phi) - 1.0));
+    if (pn->noise->phase_law == QC_PHASE_TIKHONOV) {
+        /* cos φ − 1 = −2 sin²(φ/2), without cancellation at large κ */
+        double h = sin(0.5 * phi);
+        return pn->vm_norm * exp(-2.0 * pn->kappa * h * h);
+    }
     return exp(-0.5 * (phi / s) * (phi / s)) / (s * sqrt(2.0 * M_PI));
 }
 
-static qc_status pn_init(phase_noise *pn, const qc_iq_noise *noise)
+static void pn_init(phase_noise *pn, const qc_iq_noise *noise)
 {
     memset(pn, 0, sizeof *pn);
     pn->noise = noise;
@@ -231,199 +216,9 @@ static qc_status pn_init(phase_noise *pn, const qc_iq_noise *noise)
     if (noise->phase_law == QC_PHASE_GAUSS && s * PN_WINDOW_SD > M_PI)
         pn->window = PN_WINDOW_SD * s; /* unwrapped Gaussian on the real line */
     if (noise->phase_law != QC_PHASE_TIKHONOV)
-        return QC_OK;
+        return;
     pn->kappa = 1.0 / (s * s);
     pn->vm_norm = 1.0 / (2.0 * M_PI * gsl_sf_bessel_I0_scaled(pn->kappa));
-    /* The CDF on a grid of step s/CDF_STEPS_PER_SD (at least CDF_MIN_STEPS
-     * over the circle), each step integrated by Gauss–Legendre; between
-     * grid points a cubic Hermite interpolant with the exact density as
-     * slope, whose error is at most h^4/384 max|p^(3)| (about
-     * 1.4e-3 (h/s)^4 = 4e-14 here). */
-    size_t steps = (size_t)ceil(2.0 * M_PI / s * CDF_STEPS_PER_SD);
-    if (steps < CDF_MIN_STEPS)
-        steps = CDF_MIN_STEPS;
-    if (steps > CDF_MAX_STEPS)
-        return qc_fail(QC_EINVAL, "phase-noise-deg: the Tikhonov law is tabulated down to "
-                       "%.3g degrees rms (got %g); below that use --phase-noise-law gauss",
-                       2.0 * M_PI * CDF_STEPS_PER_SD / CDF_MAX_STEPS * 180.0 / M_PI,
-                       s * 180.0 / M_PI);
-    pn->cdf = qc_malloc_array(steps + 1, sizeof *pn->cdf);
-    gsl_integration_glfixed_table *gl = gsl_integration_glfixed_table_alloc(GL_NODES);
-    if (!pn->cdf || !gl) {
-        if (gl)
-            gsl_integration_glfixed_table_free(gl);
-        return qc_fail(QC_ENOMEM, "out of memory");
-    }
-    pn->cdf_n = steps;
-    pn->cdf_h = 2.0 * M_PI / (double)steps;
-    pn->cdf[0] = 0.0;
-    for (size_t k = 1; k <= steps; k++) {
-        double a = -M_PI + pn->cdf_h * (double)(k - 1), b = a + pn->cdf_h, acc = 0.0;
-        for (size_t j = 0; j < GL_NODES; j++) {
-            double xj, wj;
-            gsl_integration_glfixed_point(a, b, j, &xj, &wj, gl);
-            acc += wj * pn_density(pn, xj);
-        }
-        pn->cdf[k] = pn->cdf[k - 1] + acc;
-    }
-    gsl_integration_glfixed_table_free(gl);
-    for (size_t k = 1; k <= steps; k++)
-        pn->cdf[k] /= pn->cdf[steps];
-    return QC_OK;
-}
-
-/* The tabulated Tikhonov CDF at φ in [−π, π]. */
-static double vm_cdf(const phase_noise *pn, double phi)
-{
-    double u = (phi + M_PI) / pn->cdf_h;
-    if (u <= 0.0)
-        return 0.0;
-    if (u >= (double)pn->cdf_n)
-        return 1.0;
-    size_t k = (size_t)u;
-    if (k >= pn->cdf_n)
-        k = pn->cdf_n - 1;
-    double t = u - (double)k, h = pn->cdf_h;
-    double x0 = -M_PI + h * (double)k;
-    double f0 = pn->cdf[k], f1 = pn->cdf[k + 1];
-    double d0 = pn_density(pn, x0) * h, d1 = pn_density(pn, x0 + h) * h;
-    double t2 = t * t, t3 = t2 * t;
-    return (2 * t3 - 3 * t2 + 1) * f0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * f1 +
-           (t3 - t2) * d1;
-}
-
-/* P(φ mod 2π ∈ [a, b]) for b − a ≤ 2π. */
-static double pn_arc(const phase_noise *pn, double a, double b)
-{
-    double s = pn->noise->phase_sd;
-    if (pn->noise->phase_law == QC_PHASE_GAUSS) {
-        /* the unwrapped Gaussian: sum over the turns it can reach */
-        double p = 0.0;
-        int turns = (int)ceil(PN_WINDOW_SD * s / (2.0 * M_PI)) + 1;
-        for (int k = -turns; k <= turns; k++)
-            p += phi_diff((a + 2.0 * M_PI * k) / s, (b + 2.0 * M_PI * k) / s);
-        return p;
-    }
-    /* Tikhonov: the tabulated CDF, the arc moved into [−π, π) first */
-    double a0 = a - 2.0 * M_PI * floor((a + M_PI) / (2.0 * M_PI));
-    double b0 = a0 + (b - a);
-    if (b0 <= M_PI)
-        return fmax(vm_cdf(pn, b0) - vm_cdf(pn, a0), 0.0);
-    return fmax(1.0 - vm_cdf(pn, a0) + vm_cdf(pn, b0 - 2.0 * M_PI), 0.0);
-}
-
-/* ---- polar cells ----------------------------------------------------- */
-
-/* ∫_{r0}^{r1} of the density of x + n along the ray at angle θ, with
- * |x| = s at angle θx (the Gaussian along the ray, in closed form). */
-static double ray_integral(double s, double c, double sigma, double r0, double r1)
-{
-    double s2 = 2.0 * sigma * sigma;
-    double e0 = exp(-(r0 * r0 - 2.0 * r0 * s * c + s * s) / s2);
-    double e1 = isfinite(r1) ? exp(-(r1 * r1 - 2.0 * r1 * s * c + s * s) / s2) : 0.0;
-    double sn2 = s * s * (1.0 - c * c);
-    double g = (e0 - e1) / (2.0 * M_PI);
-    if (s * c != 0.0)
-        g += s * c / (sigma * sqrt(2.0 * M_PI)) * exp(-sn2 / s2) *
-             phi_diff((r0 - s * c) / sigma, (r1 - s * c) / sigma);
-    return g;
-}
-
-typedef struct {
-    const qc_iq_cells *q;
-    double s, theta, sigma;
-    const phase_noise *pn; /* NULL: no phase noise */
-    size_t rings, sectors;
-} polar_ctx;
-
-/* Angular density at θ for every ring (no phase noise). */
-static void polar_rings(double t, void *vctx, double *out)
-{
-    const polar_ctx *c = vctx;
-    double cs = cos(t - c->theta);
-    for (size_t a = 0; a < c->rings; a++) {
-        double r0 = a == 0 ? 0.0 : c->q->radii[a - 1];
-        double r1 = a < c->q->nradii ? c->q->radii[a] : INFINITY;
-        out[a] = ray_integral(c->s, cs, c->sigma, r0, r1);
-    }
-}
-
-/* With phase noise: the angular density of x + n at θ (relative to the
- * point's angle) times each sector's probability of the phase error. */
-static void polar_cells_pn(double t, void *vctx, double *out)
-{
-    const polar_ctx *c = vctx;
-    double g[QC_IQ_MAX_CELLS];
-    double cs = cos(t);
-    for (size_t a = 0; a < c->rings; a++) {
-        double r0 = a == 0 ? 0.0 : c->q->radii[a - 1];
-        double r1 = a < c->q->nradii ? c->q->radii[a] : INFINITY;
-        g[a] = ray_integral(c->s, cs, c->sigma, r0, r1);
-    }
-    double ang = c->theta + t;
-    for (size_t p = 0; p < c->sectors; p++) {
-        double lo = c->sectors == 1 ? -M_PI : c->q->phases[p];
-        double hi = c->sectors == 1 ? M_PI
-                    : p + 1 < c->sectors ? c->q->phases[p + 1]
-                                         : c->q->phases[0] + 2.0 * M_PI;
-        double w = c->sectors == 1 ? 1.0 : pn_arc(c->pn, lo - ang, hi - ang);
-        for (size_t a = 0; a < c->rings; a++)
-            out[a * c->sectors + p] = g[a] * w;
-    }
-}
-
-/* Reduce θ into [lo, lo + 2π). */
-static double wrap_from(double t, double lo)
-{
-    double k = floor((t - lo) / (2.0 * M_PI));
-    return t - 2.0 * M_PI * k;
-}
-
-static qc_status polar_row(vquad *v, const qc_iq_cells *q, double x, double y, double sigma,
-                           const phase_noise *pn, double *row, double *tmp, double *err)
-{
-    polar_ctx c = {q, hypot(x, y), atan2(y, x), sigma, pn, q->nradii + 1, q->nphases};
-    double width = c.s > 0.0 ? fmin(1.0, sigma / c.s) : 1.0;
-    qc_status st;
-    if (pn) {
-        width = fmin(width, fmax(pn->noise->phase_sd, 1e-6));
-        v->nvec = c.rings * c.sectors;
-        if (c.sectors == 1) {
-            /* sectors do not matter: the phase error changes nothing */
-            v->nvec = c.rings;
-            if ((st = vquad_run(v, polar_rings, &c, c.theta - M_PI, c.theta, width, row,
-                                err)) != QC_OK)
-                return st;
-            return vquad_run(v, polar_rings, &c, c.theta, c.theta + M_PI, width, row, err);
-        }
-        if ((st = vquad_run(v, polar_cells_pn, &c, -M_PI, 0.0, width, row, err)) != QC_OK)
-            return st;
-        return vquad_run(v, polar_cells_pn, &c, 0.0, M_PI, width, row, err);
-    }
-    v->nvec = c.rings;
-    for (size_t p = 0; p < c.sectors; p++) {
-        double lo, hi;
-        if (c.sectors == 1) {
-            lo = c.theta - M_PI;
-            hi = c.theta + M_PI;
-        } else {
-            lo = q->phases[p];
-            hi = p + 1 < c.sectors ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI;
-        }
-        memset(tmp, 0, c.rings * sizeof *tmp);
-        /* split at the point's angle, where the density peaks */
-        double peak = wrap_from(c.theta, lo);
-        if (peak > lo && peak < hi) {
-            if ((st = vquad_run(v, polar_rings, &c, lo, peak, width, tmp, err)) != QC_OK ||
-                (st = vquad_run(v, polar_rings, &c, peak, hi, width, tmp, err)) != QC_OK)
-                return st;
-        } else if ((st = vquad_run(v, polar_rings, &c, lo, hi, width, tmp, err)) != QC_OK) {
-            return st;
-        }
-        for (size_t a = 0; a < c.rings; a++)
-            row[a * c.sectors + p] += tmp[a];
-    }
-    return QC_OK;
 }
 
 /* ---- I/Q cells with phase noise -------------------------------------- */
@@ -468,17 +263,19 @@ qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq
         return st;
     phase_noise pn;
     int with_pn = noise->phase_sd > 0.0;
-    if (with_pn && (st = pn_init(&pn, noise)) != QC_OK) {
+    if (with_pn)
+        pn_init(&pn, noise);
+    qc_polar_series *ps = NULL;
+    if (q->kind == QC_IQ_POLAR && (st = qc_polar_series_alloc(noise, &ps)) != QC_OK) {
         qc_dmc_free(d);
         return st;
     }
     size_t nmax = q->nti + q->ntq + 2 + q->nradii + 1;
     double *pi = qc_malloc_array(nmax, sizeof *pi), *pq = pi ? pi + q->nti + 1 : NULL;
-    double *tmp = qc_malloc_array(k, sizeof *tmp);
     vquad v = {gsl_integration_glfixed_table_alloc(GL_NODES), qc_malloc_array(k, sizeof(double)),
                qc_malloc_array(k, sizeof(double)), qc_malloc_array(k, sizeof(double)), k};
     double err = 0.0;
-    if (!pi || !tmp || !v.gl || !v.acc || !v.prev || !v.val)
+    if (!pi || !v.gl || !v.acc || !v.prev || !v.val)
         st = qc_fail(QC_ENOMEM, "out of memory");
     for (size_t i = 0; st == QC_OK && i < c->size; i++) {
         double *row = d->p + i * k;
@@ -494,8 +291,7 @@ qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq
                 st = vquad_run(&v, product_pn, &pc, 0.0, pn.window, fmax(width, 1e-6), row,
                                &err);
         } else {
-            st = polar_row(&v, q, c->x[i], c->y[i], noise->sigma, with_pn ? &pn : NULL, row,
-                           tmp, &err);
+            st = qc_polar_row(ps, q, c->x[i], c->y[i], noise->sigma, row, &err);
         }
         if (st == QC_OK) {
             /* rounding can leave a sum 1 ± 1e-15 and tiny negatives */
@@ -512,13 +308,10 @@ qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq
         }
     }
     free(pi);
-    free(tmp);
     free(v.acc), free(v.prev), free(v.val);
     if (v.gl)
         gsl_integration_glfixed_table_free(v.gl);
-    if (with_pn) {
-        free(pn.cdf);
-    }
+    qc_polar_series_free(ps);
     if (st != QC_OK) {
         qc_dmc_free(d);
         return st;

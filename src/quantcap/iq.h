@@ -72,15 +72,17 @@ typedef struct {
 QC_API size_t qc_iq_cell_count(const qc_iq_cells *q);
 
 /* The transition matrix P(cell | point). Product without phase noise:
- * products of differences of the Gaussian CDF (exact to rounding).
- * Polar: the radial integral of the Gaussian along each ray in closed
- * form, the angular one by composite Gauss–Legendre quadrature refined
- * until it changes by less than QC_IQ_QUAD_TOL; phase noise: one more
- * quadrature over φ (product) or the wrapped-Gaussian / von Mises sector
- * probability inside the angular integral (polar). *quad_err (may be
- * NULL) receives the largest change at the last refinement. QC_EINVAL
- * naming the field at fault; QC_ENOCONV when the quadrature cannot meet
- * its tolerance; QC_ENOMEM. On failure *out is NULL. */
+ * products of differences of the Gaussian CDF (exact to rounding); with
+ * phase noise a composite Gauss–Legendre quadrature over φ, refined until
+ * it changes by less than QC_IQ_QUAD_TOL. Polar, with or without phase
+ * noise: the radial integral of the Gaussian along each ray in closed
+ * form, and over the angle a Fourier series (trapezoid-rule coefficients,
+ * the phase error's characteristic function, the sectors in closed form)
+ * whose number of angles doubles until no cell changes by more than
+ * QC_IQ_QUAD_TOL. *quad_err (may be NULL) receives the largest change at
+ * the last refinement. QC_EINVAL naming the field at fault; QC_ENOCONV
+ * when a refinement cannot meet its tolerance; QC_ENOMEM. On failure
+ * *out is NULL. */
 QC_API qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise,
                                const qc_iq_cells *q, qc_dmc **out, double *quad_err);
 

@@ -18,7 +18,7 @@ import tempfile
 
 import numpy as np
 from scipy import integrate
-from scipy.stats import norm, rice
+from scipy.stats import norm, rice, vonmises
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
 from checklib import Tally  # noqa: E402
@@ -214,6 +214,7 @@ for k in (0, 3):
     mc_check(f"polar cells of 8-PSK point {k + 1}", M[k], np.bincount(idx, minlength=K), MC_SAMPLES)
 
 # ---- 4. phase noise: Monte-Carlo for both laws and both receivers -------
+Mp_law = {}
 for law in ("gauss", "tikhonov"):
     sd = 12.0
     r = iq("--alphabet", "psk:8", "--sigma", "0.2", "--iq-quantizer", "polar",
@@ -225,6 +226,7 @@ for law in ("gauss", "tikhonov"):
                    cells=lambda z: polar_index(z, redges, ph))
     mc_check(f"polar cells, {law} phase error {sd} deg", Mp[1], np.bincount(idx, minlength=K),
              MC_SAMPLES)
+    Mp_law[law] = Mp
     r = iq("--alphabet", "qam:16", "--sigma", "0.4", "--thresholds", "-2,0,2",
            "--phase-noise-deg", str(sd), "--phase-noise-law", law, "--matrix")
     Mq = np.array(r["receivers"][0]["channel"])
@@ -236,6 +238,51 @@ for law in ("gauss", "tikhonov"):
                    cells=lambda z: np.searchsorted(t, z.real) * 4 + np.searchsorted(t, z.imag))
     mc_check(f"I/Q cells, {law} phase error {sd} deg", Mq[14], np.bincount(idx, minlength=16),
              MC_SAMPLES)
+
+
+def arc_probability(lo, hi, sd, law):
+    """P(phi mod 2pi in [lo, hi)), hi - lo <= 2pi: the Gaussian summed over
+    the turns it reaches (norm.cdf), or scipy.stats.vonmises' CDF on
+    [-pi, pi] (kappa = 1/sd^2, Mardia and Jupp 2000, 3.5)."""
+    if law == "gauss":
+        turns = int(math.ceil(12 * sd / (2 * math.pi))) + 1
+        return sum(norm.cdf((hi + 2 * math.pi * k) / sd) - norm.cdf((lo + 2 * math.pi * k) / sd)
+                   for k in range(-turns, turns + 1))
+    F = lambda v: vonmises.cdf(v, 1.0 / sd ** 2)
+    lo0 = lo - 2 * math.pi * math.floor((lo + math.pi) / (2 * math.pi))
+    hi0 = lo0 + (hi - lo)
+    if hi0 <= math.pi:
+        return F(hi0) - F(lo0)
+    return F(math.pi) - F(lo0) + F(hi0 - 2 * math.pi) - F(-math.pi)
+
+
+# Reference for polar cells with a phase error: a cell's probability is
+# the integral over the angle t of x + n (relative to the point's angle
+# th) of the ring's radial integral (scipy quad of r times the 2-D Gaussian
+# density) times the probability that the phase error turns th + t into
+# the sector (arc_probability); nested scipy quad, not the Fourier series.
+sd = math.radians(12.0)
+x, y = pts[1]
+th, s0 = math.atan2(y, x), math.hypot(x, y)
+for law in ("gauss", "tikhonov"):
+    worst = 0.0
+    for a in range(3):
+        r0, r1 = redges[a], min(redges[a + 1], s0 + 12 * 0.2)
+
+        def ring(t):
+            return integrate.quad(
+                lambda rr: rr * math.exp(-((rr * math.cos(th + t) - x) ** 2 +
+                                           (rr * math.sin(th + t) - y) ** 2) / (2 * 0.04))
+                / (2 * math.pi * 0.04), r0, r1, epsabs=1e-14, epsrel=1e-12)[0]
+        for p, (t0, t1) in enumerate(sectors):
+            v, _ = integrate.quad(lambda t: ring(t) * arc_probability(t0 - th - t, t1 - th - t,
+                                                                      sd, law),
+                                  -math.pi, math.pi, points=[0.0], epsabs=1e-13, epsrel=1e-11,
+                                  limit=400)
+            worst = max(worst, abs(v - Mp_law[law][1][a * len(sectors) + p]))
+    check(worst <= 1e-12, f"polar cells, {law} phase error 12 deg, against nested scipy quad: "
+          f"largest |diff| {worst:.2e}")
+
 # Reference: scipy.integrate.quad over the Gaussian phase error of the
 # rotated point's product-cell probability (norm.cdf differences).
 sd = math.radians(12.0)
@@ -253,6 +300,20 @@ for c in range(16):
     v, _ = integrate.quad(cell, -12 * sd, 12 * sd, epsabs=1e-13, epsrel=1e-11, limit=200)
     worst = max(worst, abs(v - Mq_gauss[14][c]))
 check(worst <= 1e-10, f"I/Q cells with phase error against scipy quad: largest |diff| {worst:.2e}")
+
+# A phase error of 0.01 deg: the Tikhonov law (kappa = 3.3e7) is then the
+# Gaussian one (von Mises tends to the normal law as kappa grows, Mardia and
+# Jupp 2000, 3.5), and both barely move the rate of no phase error.
+for rx_args in (("--cells", "4"), ("--iq-quantizer", "polar", "--amplitude-cells", "3",
+                                   "--phase-cells", "12")):
+    mi = {}
+    for law in ("gauss", "tikhonov", None):
+        pn_args = ("--phase-noise-deg", "0.01", "--phase-noise-law", law) if law else ()
+        r = iq("--alphabet", "qam:16", "--snr-db", "20", *rx_args, *pn_args, "--uniform")
+        mi[law] = r["receivers"][0]["mi_bits"] if r else float("nan")
+    check(abs(mi["tikhonov"] - mi["gauss"]) <= 1e-9 and abs(mi["gauss"] - mi[None]) <= 1e-6,
+          f"{rx_args[-1]} cells, 0.01 deg phase error: Tikhonov {mi['tikhonov']:.12f}, "
+          f"Gaussian {mi['gauss']:.12f}, none {mi[None]:.12f} bit")
 
 # ---- 5. which receiver keeps more rate -----------------------------------
 # Strong phase noise on 8-PSK: the polar quantizer (phase sectors) wins
