@@ -18,7 +18,9 @@ extern "C" {
 /* ---- hard decisions ------------------------------------------------- */
 
 /* MAP decision of each output cell on the input law: decision[y] =
- * argmax_x r(x)·P(y|x) (ties and empty cells: the lowest x). */
+ * argmax_x r(x)·P(y|x). Joint probabilities within 1e-14 of the largest,
+ * relatively, are ties (symmetric receivers make exact ones, which
+ * rounding would break either way); ties and empty cells: the lowest x. */
 QC_API qc_status qc_map_decisions(const qc_dmc *dmc, const double *input,
                                   size_t *decision);
 
@@ -32,7 +34,9 @@ typedef struct {
 } qc_hard_figures;
 
 /* Hard-decision figures of the channel `dmc` with law `input` under MAP
- * decisions. labels[x] < 2^nbits are the bits of input x (NULL: no BER).
+ * decisions, ties (as in qc_map_decisions) split evenly: each tied input
+ * is decided with equal probability. labels[x] < 2^nbits are the bits of
+ * input x (NULL: no BER).
  * dimensions 2: the channel is one quadrature of a square QAM whose two
  * quadratures are independent and alike (Gray labels per quadrature), so
  * the BER per bit is the quadrature's and the symbol error rate is

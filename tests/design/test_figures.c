@@ -128,6 +128,41 @@ static void test_map_uses_the_law(void **state)
     qc_dmc_free(c);
 }
 
+/* A cell midway between two inputs ties them. Three equally likely
+ * inputs with 2-bit labels 00, 01, 10 and cells {0}, {1}, middle, {2};
+ * the middle cell has joint mass 0.1 from inputs 0 and 2 and 0.02 from
+ * input 1. Deciding 0 there costs 0.1 + 0.02 in symbol errors and
+ * 0.1·1 + 0.02·1 bits, deciding 2 the same symbol errors and 0.1·1 +
+ * 0.02·2 bits: BER 0.06 or 0.07. Split evenly: P_s = 0.12, BER = 0.065
+ * (by hand), whichever of the two is larger by 1e-15 (rounding); a clear
+ * difference (0.0999 against 0.1) decides for the larger: P_s = 0.1199,
+ * BER = 0.1199/2. */
+static void test_map_ties_split_evenly(void **state)
+{
+    (void)state;
+    const size_t labels[3] = {0, 1, 2};
+    const double law[3] = {1.0 / 3.0, 1.0 / 3.0, 1.0 / 3.0};
+    const double nudge[4] = {0.0, 1e-15, -1e-15, -0.001};
+    for (int k = 0; k < 4; k++) {
+        qc_dmc *c;
+        assert_int_equal(qc_dmc_alloc(3, 4, &c), QC_OK);
+        const double m0 = 0.3, m1 = 0.06, m2 = 0.3 * (1.0 + nudge[k]); /* P(middle | x) */
+        const double p[12] = {1.0 - m0, 0.0, m0, 0.0, /* cells: {0}, {1}, middle, {2} */
+                              0.0, 1.0 - m1, m1, 0.0,
+                              0.0, 0.0, m2, 1.0 - m2};
+        memcpy(c->p, p, sizeof p);
+        size_t dec[4];
+        assert_int_equal(qc_map_decisions(c, law, dec), QC_OK);
+        assert_int_equal(dec[2], 0); /* the lowest tied input, or the larger */
+        qc_hard_figures h;
+        assert_int_equal(qc_hard_decision(c, law, labels, 2, 1, &h), QC_OK);
+        double ser = k < 3 ? 0.12 : 0.02 + 0.0999, ber = k < 3 ? 0.065 : ser / 2.0;
+        assert_near(h.symbol_error_rate, ser, 1e-15);
+        assert_near(h.pre_fec_ber, ber, 1e-15);
+        qc_dmc_free(c);
+    }
+}
+
 /* Q = √2·erfc⁻¹(2·BER) = Q⁻¹(BER), quoted as 20·log10 Q (common
  * practice); Q⁻¹(1e-3) = 3.0902 (from memory; standard normal tables). */
 #define QINV_TABLE_TOL 5e-5
@@ -262,6 +297,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_bpsk_hard_decision), cmocka_unit_test(test_gray_pam_qam),
         cmocka_unit_test(test_map_uses_the_law),   cmocka_unit_test(test_q_factor),
+        cmocka_unit_test(test_map_ties_split_evenly),
         cmocka_unit_test(test_ngmi),               cmocka_unit_test(test_rates_and_fec),
         cmocka_unit_test(test_fec_parsing),        cmocka_unit_test(test_photons),
     };
