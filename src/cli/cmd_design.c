@@ -461,7 +461,8 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
     fprintf(f, "\n");
 }
 
-/* Lloyd-Max: whether its conditions hold, after how many rounds; a
+/* Lloyd-Max: whether its conditions hold, after how many rounds (2-D
+ * cells: whether their simplex settled before its evaluation cap); a
  * design stopped by its round cap says so in capitals. */
 static void print_convergence(FILE *f, const qc_design_result *r, const char *ou,
                               const char *lead)
@@ -469,6 +470,13 @@ static void print_convergence(FILE *f, const qc_design_result *r, const char *ou
     if (r->design_convergence == QC_CONVERGENCE_NONE)
         return;
     const int ok = r->design_convergence == QC_CONVERGED;
+    if (r->iq) { /* the 2-D cells' simplex */
+        fprintf(f, "%s%s after %zu evaluations%s\n", lead, ok ? "converged" : "NOT CONVERGED",
+                r->design_iterations,
+                ok ? ": the Nelder-Mead simplex settled"
+                   : ": the Nelder-Mead simplex stopped at its evaluation cap");
+        return;
+    }
     fprintf(f, "%s%s after %zu %s: thresholds within %.3g %s of the midpoints of "
                "their reconstruction points\n",
             lead, ok ? "converged" : "NOT CONVERGED", r->design_iterations,

@@ -222,10 +222,12 @@ static void print_receiver(FILE *f, const receiver *r, int capacity)
     else if (r->des.evaluations <= 1)
         fprintf(f, ", uniform (not designed)\n");
     else
-        fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations; uniform start "
+        fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations%s; uniform start "
                    "%.6f %s)\n",
-                qc_objective_name(r->req.objective), r->des.evaluations, r->des.start_bits,
-                unit);
+                qc_objective_name(r->req.objective), r->des.evaluations,
+                r->des.converged ? ""
+                                 : ", STOPPED at the evaluation cap before the simplex settled",
+                r->des.start_bits, unit);
     if (r->kind == QC_IQ_PRODUCT) {
         print_list(f, "in-phase thresholds", q->ti, q->nti, 1.0);
         print_list(f, "quadrature thresholds", q->tq, q->ntq, 1.0);
@@ -272,6 +274,7 @@ static json_t *receiver_json(const receiver *r, int capacity)
     if (!r->given) {
         json_object_set_new(o, "objective", json_string(qc_objective_name(r->req.objective)));
         json_object_set_new(o, "evaluations", json_integer((json_int_t)r->des.evaluations));
+        json_object_set_new(o, "converged", json_boolean(r->des.converged));
         json_object_set_new(o, "start_bits", cli_json_real(r->des.start_bits));
     }
     if (r->kind == QC_IQ_PRODUCT) {

@@ -48,8 +48,11 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
     else if (r->quantizer == QC_QUANTIZER_UNIFORM)
         fprintf(f, ", uniform (not designed)\n");
     else
-        fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations; uniform start %.6f %s)\n",
+        fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations%s; uniform start %.6f %s)\n",
                 r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi", r->iq_evaluations,
+                r->design_convergence == QC_NOT_CONVERGED
+                    ? ", STOPPED at the evaluation cap before the simplex settled"
+                    : "",
                 r->iq_start_bits, unit);
     if (r->iq_kind == 0) {
         print_list(f, "in-phase thresholds", r->thresholds, r->cells_i - 1, 1.0);

@@ -244,6 +244,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     }
     res->start_bits = res->objective_bits = f0;
     res->evaluations = 1;
+    res->converged = 1;
     if (!search || d.nz == 0)
         return QC_OK;
     d.best = f0;
@@ -268,13 +269,14 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     }
     gsl_multimin_function fn = {nm_f, d.nz, &d};
     gsl_multimin_fminimizer_set(m, &fn, x, step);
-    while (d.evals < max_evals) {
+    int settled = 0;
+    while (d.evals < max_evals && !settled) {
         if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
-            break;
-        if (gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), SIMPLEX_TOL) ==
-            GSL_SUCCESS)
-            break;
+            break; /* no further progress is possible: settled where it stands */
+        settled = gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), SIMPLEX_TOL) ==
+                  GSL_SUCCESS;
     }
+    res->converged = settled || d.evals < max_evals;
     gsl_multimin_fminimizer_free(m);
     gsl_vector_free(x);
     gsl_vector_free(step);

@@ -223,6 +223,11 @@ qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *r
     res->iq_start_bits = req->quantizer.kind == QC_QUANTIZER_FIXED ? NAN : des.start_bits;
     res->iq_evaluations = req->quantizer.kind == QC_QUANTIZER_FIXED ? 1 : des.evaluations;
     res->design_iterations = res->iq_evaluations;
+    res->design_convergence = req->quantizer.kind == QC_QUANTIZER_FIXED ||
+                                      req->quantizer.kind == QC_QUANTIZER_UNIFORM
+                                  ? QC_CONVERGENCE_NONE
+                              : des.converged ? QC_CONVERGED
+                                              : QC_NOT_CONVERGED;
     /* the unquantized reference: the MI of the law without phase noise */
     res->unquantized_bits = res->unquantized_err_bits = res->loss_bits = NAN;
     if (req->input.objective == QC_OBJECTIVE_MI && iq->phase_sd == 0.0 &&

@@ -316,7 +316,10 @@ typedef struct {
                                     conditions hold to tolerance (in every
                                     design of a capacity alternation),
                                     QC_NOT_CONVERGED when the round cap
-                                    stopped one; QC_CONVERGENCE_NONE else  */
+                                    stopped one; designed 2-D cells:
+                                    whether the simplex settled before its
+                                    evaluation cap; QC_CONVERGENCE_NONE
+                                    else                                   */
     double design_residual;      /* Lloyd–Max: largest distance of a
                                     threshold from the midpoint of its two
                                     reconstruction points (output units;

@@ -138,6 +138,8 @@ typedef struct {
     double start_bits;          /* objective of the uniform design          */
     double objective_bits;      /* objective of the final design            */
     size_t evaluations;
+    int converged;              /* 1: the simplex settled (or no search);
+                                   0: max_evaluations stopped it first      */
 } qc_iq_design_result;
 
 /* QC_EINVAL naming the field at fault, QC_ENOMEM, or the channel's

@@ -345,6 +345,16 @@ r = iq("--alphabet", "psk:8", "--snr-db", "10", "--iq-quantizer", "polar",
 rx = r["receivers"][0]
 check(rx["gmi_bits"] >= rx["start_bits"] - 1e-12, "designed polar cells keep at least the "
       "uniform start's GMI")
+check(rx.get("converged") is True and rx["evaluations"] < 4000,
+      f"that design settles before its cap ({rx['evaluations']} evaluations)")
+# the same design stopped by a cap of 20 evaluations says so
+r = iq("--alphabet", "psk:8", "--snr-db", "10", "--iq-quantizer", "polar",
+       "--amplitude-cells", "2", "--phase-cells", "8", "--objective", "gmi",
+       "--max-evaluations", "20")
+rx = r["receivers"][0]
+check(rx.get("converged") is False and rx["evaluations"] == 21,
+      f"a design stopped by --max-evaluations 20 reports converged false ({rx.get('converged')}, "
+      f"{rx['evaluations']} evaluations)")
 g = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform")
 s = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform", "--search-labels")
 # Binary switching from the Gray labels (Schreckenbach et al. 2003) never
