@@ -73,8 +73,10 @@ QC_API size_t qc_iq_cell_count(const qc_iq_cells *q);
 
 /* The transition matrix P(cell | point). Product without phase noise:
  * products of differences of the Gaussian CDF (exact to rounding); with
- * phase noise a composite Gauss–Legendre quadrature over φ, refined until
- * it changes by less than QC_IQ_QUAD_TOL. Polar, with or without phase
+ * phase noise an integral over φ (Gauss–Hermite rules for a Gaussian
+ * error of at most 6 angular widths σ/|x| of the noise, else composite
+ * Gauss–Legendre panels), refined until it changes by less than
+ * QC_IQ_QUAD_TOL. Polar, with or without phase
  * noise: the radial integral of the Gaussian along each ray in closed
  * form, and over the angle a Fourier series (trapezoid-rule coefficients,
  * the phase error's characteristic function, the sectors in closed form)

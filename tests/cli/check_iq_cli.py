@@ -284,22 +284,32 @@ for law in ("gauss", "tikhonov"):
           f"largest |diff| {worst:.2e}")
 
 # Reference: scipy.integrate.quad over the Gaussian phase error of the
-# rotated point's product-cell probability (norm.cdf differences).
-sd = math.radians(12.0)
-worst = 0.0
-for c in range(16):
-    a, b = divmod(c, 4)
-    e = [-np.inf, -2.0, 0.0, 2.0, np.inf]
+# rotated point's product-cell probability (norm.cdf differences), at 12 deg
+# (quantcap: Gauss-Hermite rules, the error's spread 1.7 angular widths of
+# the noise) and at 60 deg (8.3 widths: composite Gauss-Legendre panels).
+for sd_deg in (12.0, 60.0):
+    sd = math.radians(sd_deg)
+    if sd_deg == 12.0:
+        Mq_ref = Mq_gauss
+    else:
+        r = iq("--alphabet", "qam:16", "--sigma", "0.4", "--thresholds", "-2,0,2",
+               "--phase-noise-deg", str(sd_deg), "--matrix")
+        Mq_ref = np.array(r["receivers"][0]["channel"])
+    worst = 0.0
+    for c in range(16):
+        a, b = divmod(c, 4)
+        e = [-np.inf, -2.0, 0.0, 2.0, np.inf]
 
-    def cell(phi):
-        u = x0 * math.cos(phi) - y0 * math.sin(phi)
-        v = x0 * math.sin(phi) + y0 * math.cos(phi)
-        return ((norm.cdf((e[a + 1] - u) / 0.4) - norm.cdf((e[a] - u) / 0.4)) *
-                (norm.cdf((e[b + 1] - v) / 0.4) - norm.cdf((e[b] - v) / 0.4)) *
-                norm.pdf(phi / sd) / sd)
-    v, _ = integrate.quad(cell, -12 * sd, 12 * sd, epsabs=1e-13, epsrel=1e-11, limit=200)
-    worst = max(worst, abs(v - Mq_gauss[14][c]))
-check(worst <= 1e-10, f"I/Q cells with phase error against scipy quad: largest |diff| {worst:.2e}")
+        def cell(phi):
+            u = x0 * math.cos(phi) - y0 * math.sin(phi)
+            v = x0 * math.sin(phi) + y0 * math.cos(phi)
+            return ((norm.cdf((e[a + 1] - u) / 0.4) - norm.cdf((e[a] - u) / 0.4)) *
+                    (norm.cdf((e[b + 1] - v) / 0.4) - norm.cdf((e[b] - v) / 0.4)) *
+                    norm.pdf(phi / sd) / sd)
+        v, _ = integrate.quad(cell, -12 * sd, 12 * sd, epsabs=1e-13, epsrel=1e-11, limit=1000)
+        worst = max(worst, abs(v - Mq_ref[14][c]))
+    check(worst <= 1e-10, f"I/Q cells with a {sd_deg:g} deg phase error against scipy quad: "
+          f"largest |diff| {worst:.2e}")
 
 # A phase error of 0.01 deg: the Tikhonov law (kappa = 3.3e7) is then the
 # Gaussian one (von Mises tends to the normal law as kappa grows, Mardia and
