@@ -130,7 +130,8 @@ typedef struct qc_polar_series qc_polar_series;
 qc_status qc_polar_series_alloc(const qc_iq_noise *noise, qc_polar_series **out);
 void qc_polar_series_free(qc_polar_series *w);
 /* Row of point (x, y): P(ring a, sector p) at row[a·P + p], not yet
- * normalized; *err raised to the last change of the series' refinement.
+ * normalized; *err raised to the bound on how much the last doubling of
+ * the series moved any cell.
  * QC_ENOCONV if 2^22 angles do not settle it; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err);

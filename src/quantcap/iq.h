@@ -82,7 +82,8 @@ QC_API size_t qc_iq_cell_count(const qc_iq_cells *q);
  * the phase error's characteristic function, the sectors in closed form)
  * whose number of angles doubles until no cell changes by more than
  * QC_IQ_QUAD_TOL. *quad_err (may be NULL) receives the largest change at
- * the last refinement. QC_EINVAL naming the field at fault; QC_ENOCONV
+ * the last refinement (polar: a bound on it, from the change of the
+ * series' coefficients). QC_EINVAL naming the field at fault; QC_ENOCONV
  * when a refinement cannot meet its tolerance; QC_ENOMEM. On failure
  * *out is NULL. */
 QC_API qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise,
