@@ -152,6 +152,22 @@ typedef struct {
     size_t nvec;
 } vquad;
 
+/* Whether the last refinement (acc against prev) moved no component by
+ * more than QC_IQ_QUAD_TOL; then acc is added to out and *err raised to
+ * that change. */
+static int settled(const vquad *v, double *out, double *err)
+{
+    double d = 0.0;
+    for (size_t c = 0; c < v->nvec; c++)
+        d = fmax(d, fabs(v->acc[c] - v->prev[c]));
+    if (!(d <= QC_IQ_QUAD_TOL))
+        return 0;
+    for (size_t c = 0; c < v->nvec; c++)
+        out[c] += v->acc[c];
+    *err = fmax(*err, d);
+    return 1;
+}
+
 /* ∫_lo^hi f over nvec components into out (added). Starts at
  * max(2^MIN_LEVEL, (hi − lo)/width·PEAK_PANELS) panels. */
 static qc_status vquad_run(vquad *v, vfun f, void *ctx, double lo, double hi, double width,
@@ -177,17 +193,8 @@ static qc_status vquad_run(vquad *v, vfun f, void *ctx, double lo, double hi, do
                     v->acc[c] += wk * v->val[c];
             }
         }
-        if (have_prev) {
-            double d = 0.0;
-            for (size_t c = 0; c < v->nvec; c++)
-                d = fmax(d, fabs(v->acc[c] - v->prev[c]));
-            if (d <= QC_IQ_QUAD_TOL) {
-                for (size_t c = 0; c < v->nvec; c++)
-                    out[c] += v->acc[c];
-                *err = fmax(*err, d);
-                return QC_OK;
-            }
-        }
+        if (have_prev && settled(v, out, err))
+            return QC_OK;
         memcpy(v->prev, v->acc, v->nvec * sizeof *v->acc);
         have_prev = 1;
     }
@@ -215,21 +222,13 @@ static int gh_run(gsl_integration_fixed_workspace **rules, vquad *v, vfun f, voi
         const double *w = gsl_integration_fixed_weights(rules[l]);
         memset(v->acc, 0, v->nvec * sizeof *v->acc);
         for (size_t i = 0; i < n; i++) { /* φ = √2·sd·t, weight w/√π */
+            const double wi = w[i] / M_SQRTPI;
             f(M_SQRT2 * sd * t[i], ctx, v->val);
             for (size_t c = 0; c < v->nvec; c++)
-                v->acc[c] += w[i] / M_SQRTPI * v->val[c];
+                v->acc[c] += wi * v->val[c];
         }
-        if (l > 0) {
-            double d = 0.0;
-            for (size_t c = 0; c < v->nvec; c++)
-                d = fmax(d, fabs(v->acc[c] - v->prev[c]));
-            if (d <= QC_IQ_QUAD_TOL) {
-                for (size_t c = 0; c < v->nvec; c++)
-                    out[c] += v->acc[c];
-                *err = fmax(*err, d);
-                return 1;
-            }
-        }
+        if (l > 0 && settled(v, out, err))
+            return 1;
         memcpy(v->prev, v->acc, v->nvec * sizeof *v->acc);
     }
     return 0;
