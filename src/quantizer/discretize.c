@@ -44,34 +44,60 @@ void qc_tails_at(const qc_model *model, double x, double y, double *lo, double *
     }
 }
 
+size_t qc_count_below(const double *t, size_t n, double y, int strict)
+{
+    size_t lo = 0, hi = n;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (strict ? t[mid] < y : t[mid] <= y)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
 /* One row: cell probabilities of level x. `lo`, `hi` are scratch of
  * length n (P(Y < t_j), P(Y ≥ t_j)). clip: thresholds outside the
  * level's support (the model's interval holding all but ~1e-15 of the
- * mass) get the tails 0 and 1 without a model call. */
+ * mass) get the tails 0 and 1 without a model call; the thresholds must
+ * then be increasing, and only the band of cells the support reaches is
+ * visited (the others are exactly 0: between two tails of 0 and 1, or of
+ * 1 and 0). */
 static qc_status discretize_row(const qc_model *m, double x, const double *t,
                                 size_t n, int clip, double *lo, double *hi, double *row)
 {
     const qc_model_type *type = qc_model_get_type(m);
-    double s0 = -INFINITY, s1 = INFINITY;
-    if (clip)
+    /* thresholds j0 .. j1 − 1 lie inside the support; cells j0 .. j1 */
+    size_t j0 = 0, j1 = n;
+    if (clip && n > 0) {
+        double s0, s1;
         type->support(m, x, &s0, &s1);
-    for (size_t j = 0; j < n; j++) {
-        if (t[j] <= s0) {
-            lo[j] = 0.0;
-            hi[j] = 1.0;
-        } else if (t[j] >= s1) {
-            lo[j] = 1.0;
-            hi[j] = 0.0;
-        } else {
-            qc_tails_at(m, x, t[j], &lo[j], &hi[j]);
+        j0 = qc_count_below(t, n, s0, 0);
+        j1 = j0 + qc_count_below(t + j0, n - j0, s1, 1);
+        if (j0 > 0) {
+            lo[j0 - 1] = 0.0;
+            hi[j0 - 1] = 1.0;
         }
+        if (j1 < n) {
+            lo[j1] = 1.0;
+            hi[j1] = 0.0;
+        }
+    }
+    for (size_t j = j0; j < j1; j++) {
+        qc_tails_at(m, x, t[j], &lo[j], &hi[j]);
         if (!isfinite(lo[j]) || !isfinite(hi[j]) || lo[j] < 0.0 || hi[j] < 0.0)
             return qc_fail(QC_ENUMERIC,
                            "model '%s' returned an invalid tail probability at "
                            "level %g, threshold %g",
                            qc_model_get_type(m)->name, x, t[j]);
     }
-    for (size_t c = 0; c <= n; c++) {
+    for (size_t c = 0; c < j0; c++)
+        row[c] = 0.0;
+    for (size_t c = j1 + 1; c <= n; c++)
+        row[c] = 0.0;
+    double s = 0.0;
+    for (size_t c = j0; c <= j1; c++) {
         double p;
         if (n == 0)
             p = 1.0;
@@ -90,15 +116,13 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
             p = 0.0;
         }
         row[c] = p;
+        s += p;
     }
-    double s = 0.0;
-    for (size_t c = 0; c <= n; c++)
-        s += row[c];
     if (!(fabs(s - 1.0) <= QC_DMC_ROW_TOL))
         return qc_fail(QC_ENUMERIC,
                        "model '%s': cell probabilities of level %g sum to %.17g",
                        qc_model_get_type(m)->name, x, s);
-    for (size_t c = 0; c <= n; c++)
+    for (size_t c = j0; c <= j1; c++)
         row[c] /= s;
     return QC_OK;
 }

@@ -21,6 +21,14 @@ typedef struct {
     double *q;           /* output law, K */
     double *log_q;       /* log q(c), K */
     double *lr;          /* log(P(c|x)/q(c)), nlevels × K */
+    double *sup_lo, *sup_hi; /* each level's support (the model's interval
+                                holding all but ~1e-15 of its mass)     */
+    size_t *band;        /* clip: row x's cells band[2x] .. band[2x + 1]
+                            are those its support reaches (others 0)    */
+    int clip;            /* 1: outside its support a level's tails are 0
+                            and 1 and its density 0 (qc_discretize_clipped),
+                            which moves the rate by < 1e-13 bit; set by
+                            searches whose result is rated again exactly */
 } qc_cell_mi;
 
 /* Workspace for K − 1 = nt thresholds. */
@@ -28,6 +36,13 @@ qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
                            const double *input, size_t nlevels, size_t nt,
                            qc_cell_mi **out);
 void qc_cell_mi_free(qc_cell_mi *w);
+
+/* Whether level x's tails and density at y are computed (always, unless
+ * the workspace clips and y lies outside the level's support). */
+static inline int qc_cell_mi_inside(const qc_cell_mi *w, size_t x, double y)
+{
+    return !w->clip || (y > w->sup_lo[x] && y < w->sup_hi[x]);
+}
 
 /* I(X;Y_q) in nats for sorted thresholds t (length w->nt); if grad is
  * not NULL, also ∂I/∂t_j = Σ_x r(x) f(t_j|x) [log(P(j|x)/q(j)) −
@@ -144,6 +159,9 @@ qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
  * (the model's joint tails where it has them, as the discretizer takes
  * them). */
 void qc_tails_at(const qc_model *model, double x, double y, double *lo, double *hi);
+
+/* How many of the increasing t[0..n) lie at or below y (strict: below y). */
+size_t qc_count_below(const double *t, size_t n, double y, int strict);
 
 /* P(a ≤ Y < b) from the tails at a and at b, taken from the side on which
  * both are small, as the discretizer does (a = −∞: tails 0 and 1; b = +∞:

@@ -48,7 +48,7 @@ static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t
     for (size_t x = 0; x < nx; x++) {
         double *fx = f + j * nx + x;
         *fx = 0.0;
-        if (!(r[x] > 0.0))
+        if (!(r[x] > 0.0) || !qc_cell_mi_inside(w, x, t[j]))
             continue;
         double d = ty->density(w->model, w->levels[x], t[j]);
         if (!(d > 0.0) || !isfinite(d))

@@ -108,8 +108,14 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
             QC_OK)
         return st;
     p->rate->input = input; /* the law may change between designs */
+    /* the search rates continuous outputs with the tails clipped at the
+     * supports (rated again exactly after it); counts are not clipped, since
+     * the best integer step of a saturated rate is told by its far tails,
+     * and neither is the choice among equally good ranges */
+    p->rate->clip = qc_model_get_type(p->model)->output != QC_OUTPUT_COUNTS;
     st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, p->rate, t, NULL,
                            &stats->iterations);
+    p->rate->clip = 0;
     if (st == QC_OK && p->tidy_nats > 0.0)
         st = qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt, qc_cell_mi_objective, p->rate,
                              p->tidy_nats, t);

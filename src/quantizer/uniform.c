@@ -22,7 +22,11 @@
  * where Newton cannot settle).
  * Count outputs: integer thresholds t_1 + (j − 1)·Δ, searched over the
  * integers t_1 ≥ 1 and Δ ≥ 1 (exhaustively when small, else on a lattice
- * refined around its best point). */
+ * refined around its best point).
+ * qc_uniform_tidy then chooses among equally good ranges: the half-width
+ * and then the centre, each only where a step of 1/100 of a cell keeps
+ * the rate within ε, moves to the rounded middle of its flat interval
+ * (docs/methods.md §4, "Equally good thresholds"). */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
@@ -42,6 +46,7 @@
 #define COUNT_BUDGET 20000 /* exhaustive integer search up to this many */
 #define SEEN_SLOTS 8        /* rated thresholds remembered by a search */
 #define BISECT_STEPS 200   /* halvings of an end of the flat interval (tidy) */
+#define FLAT_PROBE 1e-2    /* flatness probe of the tidy: this share of a cell */
 #define ROUND_SHARE 1e-4   /* its middle is rounded within this share of its
                               width (qc_simplest_within) */
 
@@ -535,6 +540,27 @@ static qc_status center_coordinate(qc_threshold_objective f, void *ctx, size_t n
     return st;
 }
 
+/* Whether coordinate *p (the centre or the half-width) is flat: a step of
+ * `step` to either side keeps the rate ≥ floor_v (as for the thresholds
+ * of the other strategies, tidy.c). *p is left as it was. */
+static qc_status coordinate_flat(qc_threshold_objective f, void *ctx, size_t nt, double *c,
+                                 double *h, int which, double step, double floor_v,
+                                 double *t, int *flat)
+{
+    double *p = which ? h : c;
+    const double p0 = *p;
+    qc_status st = QC_OK;
+    *flat = 1;
+    for (int side = 0; side < 2 && *flat && st == QC_OK; side++) {
+        double v;
+        *p = side ? p0 + step : p0 - step;
+        st = range_rate(f, ctx, nt, *c, *h, t, &v);
+        *flat = v >= floor_v;
+    }
+    *p = p0;
+    return st;
+}
+
 qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nlevels,
                           size_t nt, qc_threshold_objective f, void *ctx, double eps,
                           double *t)
@@ -551,12 +577,25 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
     double lo, hi;
     qc_levels_support(model, levels, nlevels, &lo, &hi);
     const double hmax = fmax(fmax(hi - c, c - lo), h);
-    if (st == QC_OK)
+    /* a coordinate the rate pins down (a step of 1/100 of a cell costs more
+     * than eps) stays where the search put it */
+    int flat = 0, moved = 0;
+    if (st == QC_OK &&
+        (st = coordinate_flat(f, ctx, nt, &c, &h, 1, FLAT_PROBE * w, v0 - eps, u, &flat)) ==
+            QC_OK &&
+        flat) {
         st = center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u);
-    if (st == QC_OK)
+        moved = 1;
+    }
+    if (st == QC_OK &&
+        (st = coordinate_flat(f, ctx, nt, &c, &h, 0, FLAT_PROBE * w, v0 - eps, u, &flat)) ==
+            QC_OK &&
+        flat) {
         st = center_coordinate(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c), v0 - eps,
                                u);
-    if (st == QC_OK) {
+        moved = 1;
+    }
+    if (st == QC_OK && moved) {
         double v;
         range_thresholds(c, h, nt, u);
         int ordered = 1;
