@@ -109,10 +109,13 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
         return st;
     p->rate->input = input; /* the law may change between designs */
     /* the search rates continuous outputs with the tails clipped at the
-     * supports (rated again exactly after it); counts are not clipped, since
-     * the best integer step of a saturated rate is told by its far tails,
-     * and neither is the choice among equally good ranges */
-    p->rate->clip = qc_model_get_type(p->model)->output != QC_OUTPUT_COUNTS;
+     * supports (within 1e-13 bit: the budget of the choice among equally
+     * good ranges that follows, on the exact rate; the design is rated
+     * again exactly). Not clipped: one threshold, which no such choice
+     * follows, and counts, whose best integer step of a saturated rate is
+     * told by the far tails alone. */
+    p->rate->clip =
+        qc_model_get_type(p->model)->output != QC_OUTPUT_COUNTS && p->nt >= 2;
     st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, p->rate, t, NULL,
                            &stats->iterations);
     p->rate->clip = 0;

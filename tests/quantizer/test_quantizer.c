@@ -687,7 +687,8 @@ static void test_uniform_newton_stationary(void **state)
  * exact one, its gradient within 1e-12 nat, the cells a level's support
  * does not reach are exactly 0, and thresholds that do not increase are
  * refused. The uniform design (clipped search, exact rate reported) and
- * an unclipped search give the same rate to 1e-12 bit. */
+ * an unclipped search give the same rate to 1e-12 bit; one threshold is
+ * not clipped. */
 static void test_uniform_clipped_search(void **state)
 {
     (void)state;
@@ -743,6 +744,22 @@ static void test_uniform_clipped_search(void **state)
         qc_cell_mi_free(clipped);
         qc_model_free(m);
     }
+    /* one threshold is searched on the exact rate: BPSK at 40 dB, where
+     * the rate is 1 bit to the last digit over most positions and only the
+     * far tails tell them apart, gets the unclipped search's threshold */
+    const double bpsk[2] = {-1.0, 1.0}, half[2] = {0.5, 0.5}, s40 = 0.01;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &s40, &m), QC_OK);
+    qc_cell_mi *w;
+    assert_int_equal(qc_cell_mi_alloc(m, bpsk, half, 2, 1, &w), QC_OK);
+    double t1, v1;
+    assert_int_equal(qc_uniform_search(m, bpsk, 2, 1, w, &t1, &v1, NULL), QC_OK);
+    qc_design_result res;
+    assert_int_equal(design_one(m, bpsk, 2, 2, QC_QUANTIZER_UNIFORM, &res), QC_OK);
+    assert_true(res.thresholds[0] == t1 && res.rate_bits == 1.0);
+    qc_design_result_clear(&res);
+    qc_cell_mi_free(w);
+    qc_model_free(m);
 }
 
 /* A measured table (piecewise-linear densities, whose rate in the range
