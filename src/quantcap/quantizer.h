@@ -193,8 +193,9 @@ QC_API qc_status qc_strategy_plan_alloc(const qc_model *model, const double *lev
 /* Release a plan (not what it borrows); NULL does nothing. */
 QC_API void qc_strategy_plan_free(qc_strategy_plan *plan);
 /* Let the uniform strategy centre its full-scale range among ranges whose
- * rate is within eps_nats of the best (qc_uniform_tidy; 0: off, the
- * default; a negative or NaN eps_nats is 0). NULL does nothing. */
+ * rate is within eps_nats of the best (qc_uniform_tidy; one threshold:
+ * qc_tidy_thresholds; 0: off, the default; a negative or NaN eps_nats is
+ * 0). NULL does nothing. */
 QC_API void qc_strategy_plan_tidy(qc_strategy_plan *plan, double eps_nats);
 /* Fine-grid cells the optimal strategy used (0 before its first design or
  * for the other strategies, or for a NULL plan). Never fails. */

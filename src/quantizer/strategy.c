@@ -111,17 +111,22 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
     /* the search rates continuous outputs with the tails clipped at the
      * supports (within 1e-13 bit: the budget of the choice among equally
      * good ranges that follows, on the exact rate; the design is rated
-     * again exactly). Not clipped: one threshold, which no such choice
-     * follows, and counts, whose best integer step of a saturated rate is
-     * told by the far tails alone. */
+     * again exactly). Not clipped: one threshold, cheap to rate, which
+     * a plan without that choice would otherwise leave where only the
+     * clipping makes the rate flat, and counts, whose best integer step
+     * of a saturated rate is told by the far tails alone. */
     p->rate->clip =
         qc_model_get_type(p->model)->output != QC_OUTPUT_COUNTS && p->nt >= 2;
     st = qc_uniform_search(p->model, p->levels, p->nlevels, p->nt, p->rate, t, NULL,
                            &stats->iterations);
     p->rate->clip = 0;
+    /* the choice among equally good ranges; one threshold is placed as
+     * the other strategies place a threshold */
     if (st == QC_OK && p->tidy_nats > 0.0)
-        st = qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt, qc_cell_mi_objective, p->rate,
-                             p->tidy_nats, t);
+        st = p->nt == 1 ? qc_tidy_thresholds(p->model, p->levels, input, p->nlevels, 1,
+                                             p->tidy_nats, t)
+                        : qc_uniform_tidy(p->model, p->levels, p->nlevels, p->nt,
+                                          qc_cell_mi_objective, p->rate, p->tidy_nats, t);
     return st;
 }
 

@@ -383,7 +383,7 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t nt,
                              double eps_nats, double *t)
 {
-    if (nt < 2 || nt > TIDY_MAX_THRESHOLDS || !(eps_nats > 0.0))
+    if (nt < 1 || nt > TIDY_MAX_THRESHOLDS || !(eps_nats > 0.0))
         return QC_OK;
     const int counts = qc_model_get_type(model)->output == QC_OUTPUT_COUNTS;
     qc_cell_mi *w = NULL, *we = NULL;

@@ -746,18 +746,21 @@ static void test_uniform_clipped_search(void **state)
     }
     /* one threshold is searched on the exact rate: BPSK at 40 dB, where
      * the rate is 1 bit to the last digit over most positions and only the
-     * far tails tell them apart, gets the unclipped search's threshold */
+     * far tails tell them apart; the strategy without the choice among
+     * equally good thresholds gets the unclipped search's threshold */
     const double bpsk[2] = {-1.0, 1.0}, half[2] = {0.5, 0.5}, s40 = 0.01;
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_gauss, &s40, &m), QC_OK);
     qc_cell_mi *w;
     assert_int_equal(qc_cell_mi_alloc(m, bpsk, half, 2, 1, &w), QC_OK);
-    double t1, v1;
+    double t1, v1, t2;
     assert_int_equal(qc_uniform_search(m, bpsk, 2, 1, w, &t1, &v1, NULL), QC_OK);
-    qc_design_result res;
-    assert_int_equal(design_one(m, bpsk, 2, 2, QC_QUANTIZER_UNIFORM, &res), QC_OK);
-    assert_true(res.thresholds[0] == t1 && res.rate_bits == 1.0);
-    qc_design_result_clear(&res);
+    qc_strategy_plan *plan;
+    qc_strategy_stats stats = {0};
+    assert_int_equal(qc_strategy_plan_alloc(m, bpsk, 2, 1, NULL, 0, NULL, &plan), QC_OK);
+    assert_int_equal(qc_strategy_design(&qc_strategy_uniform, plan, half, 0, &t2, &stats), QC_OK);
+    assert_true(t2 == t1);
+    qc_strategy_plan_free(plan);
     qc_cell_mi_free(w);
     qc_model_free(m);
 }

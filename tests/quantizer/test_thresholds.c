@@ -94,6 +94,30 @@ static void test_saturated_binary_reproducible(void **state)
     qc_model_free(m);
 }
 
+/* Binary ±1 at 30 and 40 dB with one threshold (1 bit): the rate is 1
+ * bit for any threshold between about ±0.7, and the one threshold sits in
+ * the middle of that interval, at 0 exactly, however the grid and Newton
+ * left it (before, −0.58 and −0.87: a symbol error rate of 6·10⁻⁴¹
+ * where 0 gives 9·10⁻²²⁰), from any grid. */
+static void test_saturated_binary_one_threshold(void **state)
+{
+    (void)state;
+    const double levels[] = {-1.0, 1.0};
+    for (int k = 0; k < 2; k++) {
+        const double sigma = k ? 0.01 : 1.0 / sqrt(1000.0);
+        qc_model *m = gauss(sigma);
+        qc_design_result a, b;
+        design(m, levels, 2, 2, QC_QUANTIZER_OPTIMAL, 0, &a);
+        design(m, levels, 2, 2, QC_QUANTIZER_OPTIMAL, 4096, &b);
+        assert_int_equal(a.nthresholds, 1);
+        assert_true(a.thresholds[0] == 0.0 && b.thresholds[0] == 0.0);
+        assert_true(a.rate_bits == 1.0);
+        qc_design_result_clear(&a);
+        qc_design_result_clear(&b);
+        qc_model_free(m);
+    }
+}
+
 /* PAM-4 at 40 dB, 8 cells: the three essential thresholds sit in the
  * middle of their flat intervals (the midpoints −2, 0, 2) and the four
  * spare ones on the levels' medians. */
@@ -260,6 +284,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_saturated_binary_reproducible),
+        cmocka_unit_test(test_saturated_binary_one_threshold),
         cmocka_unit_test(test_saturated_pam4_canonical),
         cmocka_unit_test(test_tidy_keeps_rate),
         cmocka_unit_test(test_tidy_leaves_sharp_design),
