@@ -579,21 +579,16 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
     const double hmax = fmax(fmax(hi - c, c - lo), h);
     /* a coordinate the rate pins down (a step of 1/100 of a cell costs more
      * than eps) stays where the search put it */
-    int flat = 0, moved = 0;
-    if (st == QC_OK &&
-        (st = coordinate_flat(f, ctx, nt, &c, &h, 1, FLAT_PROBE * w, v0 - eps, u, &flat)) ==
-            QC_OK &&
-        flat) {
-        st = center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u);
-        moved = 1;
-    }
-    if (st == QC_OK &&
-        (st = coordinate_flat(f, ctx, nt, &c, &h, 0, FLAT_PROBE * w, v0 - eps, u, &flat)) ==
-            QC_OK &&
-        flat) {
-        st = center_coordinate(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c), v0 - eps,
-                               u);
-        moved = 1;
+    int moved = 0;
+    for (int which = 1; which >= 0 && st == QC_OK; which--) { /* h, then c */
+        int flat = 0;
+        st = coordinate_flat(f, ctx, nt, &c, &h, which, FLAT_PROBE * w, v0 - eps, u, &flat);
+        if (st == QC_OK && flat) {
+            st = which ? center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u)
+                       : center_coordinate(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c),
+                                           v0 - eps, u);
+            moved = 1;
+        }
     }
     if (st == QC_OK && moved) {
         double v;
