@@ -10,8 +10,6 @@
 #include "quantcap/iq.h"
 #include "quantcap/quantizer.h"
 
-#include <gsl/gsl_cdf.h>
-
 /* Tolerance of the certified rates when the request gives none (bits). */
 #define QC_DESIGN_DEFAULT_TOL_BITS 1e-9
 
@@ -112,16 +110,6 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
  * the per-slot thresholds, the certified soft rate per symbol, the hard
  * receiver at its best threshold and the unquantized reference. */
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
-
-/* Φ(b) − Φ(a) for a ≤ b (standard normal), each difference taken in the
- * tail where it does not cancel (the cells of the I/Q pair, the rings of
- * the polar cells). */
-static inline double qc_phi_diff(double a, double b)
-{
-    if (a > 0.0)
-        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
-    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
-}
 
 /* iq_polar.c: the probabilities of polar cells by a Fourier series in the
  * angle. A workspace holds the phase error's characteristic function and

@@ -16,6 +16,7 @@
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 
+#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_integration.h>
 #include <gsl/gsl_sf_bessel.h>
 #include <gsl/gsl_math.h>
@@ -119,13 +120,22 @@ static qc_status check_cells(const qc_iq_cells *q)
     return QC_OK;
 }
 
+/* Φ(b) − Φ(a) for a ≤ b, each difference taken in the tail where it does
+ * not cancel. */
+static double phi_diff(double a, double b)
+{
+    if (a > 0.0)
+        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
+    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
+}
+
 /* Per-axis cell probabilities of coordinate v: out[k] = P(t_{k−1} ≤ v + n < t_k). */
 static void axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
 {
     double lo = -INFINITY;
     for (size_t k = 0; k <= nt; k++) {
         double hi = k < nt ? t[k] : INFINITY;
-        out[k] = qc_phi_diff((lo - v) / sigma, (hi - v) / sigma);
+        out[k] = phi_diff((lo - v) / sigma, (hi - v) / sigma);
         lo = hi;
     }
 }
@@ -276,26 +286,29 @@ typedef struct {
     double *pi, *pq;
 } product_ctx;
 
-static void product_pn(double phi, void *vctx, double *out)
+/* The point rotated by φ: its product-cell probabilities times `weight`
+ * into out. */
+static void rotated_row(const product_ctx *c, double phi, double weight, double *out)
 {
-    const product_ctx *c = vctx;
     size_t k = qc_iq_cell_count(c->q);
     memset(out, 0, k * sizeof *out);
     double cs = cos(phi), sn = sin(phi);
-    product_row(c->x * cs - c->y * sn, c->x * sn + c->y * cs, c->sigma, c->q,
-                pn_density(c->pn, phi), c->pi, c->pq, out);
+    product_row(c->x * cs - c->y * sn, c->x * sn + c->y * cs, c->sigma, c->q, weight, c->pi,
+                c->pq, out);
+}
+
+/* The integrand over φ: the rotated point's probabilities times p(φ). */
+static void product_pn(double phi, void *vctx, double *out)
+{
+    const product_ctx *c = vctx;
+    rotated_row(c, phi, pn_density(c->pn, phi), out);
 }
 
 /* The rotated point's product-cell probabilities alone (the phase
  * error's Gaussian weight is the Gauss–Hermite rule's). */
 static void product_rotated(double phi, void *vctx, double *out)
 {
-    const product_ctx *c = vctx;
-    size_t k = qc_iq_cell_count(c->q);
-    memset(out, 0, k * sizeof *out);
-    double cs = cos(phi), sn = sin(phi);
-    product_row(c->x * cs - c->y * sn, c->x * sn + c->y * cs, c->sigma, c->q, 1.0, c->pi,
-                c->pq, out);
+    rotated_row(vctx, phi, 1.0, out);
 }
 
 /* ---- the matrix ------------------------------------------------------ */
