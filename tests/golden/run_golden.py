@@ -6,14 +6,22 @@ stdout, as text and with --json where the command has it) and the three demo
 studies (scenarios/*.ini swept with --jobs 2 --no-plots; their results.csv and
 results.json). See tests/golden/README.md.
 
-Usage: run_golden.py QUANTCAP [--record] [--expected DIR]
+Usage: run_golden.py QUANTCAP [--record | --record-variant TAG] [--expected DIR]
 
   check (default)  run everything and compare with DIR (default
-                   tests/golden/expected); on a difference print a unified
-                   diff of the first differing file, name the others, exit 1.
-                   Exit 77 (skipped) when DIR does not exist.
+                   tests/golden/expected); a file passes when it equals the
+                   recorded one or a variant of it (below). On a difference
+                   print a unified diff of the first differing file, name
+                   the others, exit 1. Exit 77 (skipped) when DIR does not
+                   exist.
   --record         run everything and write the outputs into DIR (replacing
-                   what is there).
+                   what is there); variants of files whose recorded bytes
+                   change are removed, as they were recorded against the
+                   former output.
+  --record-variant TAG
+                   run everything and keep, in DIR/../variants/TAG, the
+                   files that differ from DIR: the same outputs as rounded
+                   on another kind of machine (replacing that variant).
 
 Commands run from the source tree (relative paths in the outputs stay the same
 wherever the tree is), with LC_ALL=C, stdout captured (not a terminal). Every
@@ -21,6 +29,7 @@ command must exit 0. Their stderr is not compared (it holds timings)."""
 import argparse
 import difflib
 import os
+import re
 import shutil
 import subprocess
 import sys
@@ -29,6 +38,7 @@ import tempfile
 HERE = os.path.dirname(os.path.abspath(__file__))
 SOURCE = os.path.dirname(os.path.dirname(HERE))
 EXPECTED = os.path.join(HERE, "expected")
+VARIANTS = "variants"   # beside the expected folder: VARIANTS/TAG/<file>
 SKIP = 77               # meson's "skipped" exit status
 TIMEOUT_S = 900         # per command; the slowest (a study) takes seconds
 DIFF_LINES = 60         # lines of the unified diff printed
@@ -150,15 +160,68 @@ def produce(quantcap, scratch):
     return out
 
 
-def record(outputs, expected):
-    if os.path.isdir(expected):
-        shutil.rmtree(expected)
+def read(path):
+    """The bytes of path, or None when there is no such file."""
+    if not os.path.isfile(path):
+        return None
+    with open(path, "rb") as f:
+        return f.read()
+
+
+def variants_dir(expected):
+    return os.path.join(os.path.dirname(expected), VARIANTS)
+
+
+def variants_of(expected, rel):
+    """{tag: bytes} of the recorded variants of file rel."""
+    root = variants_dir(expected)
+    found = {}
+    if os.path.isdir(root):
+        for tag in sorted(os.listdir(root)):
+            data = read(os.path.join(root, tag, rel))
+            if data is not None:
+                found[tag] = data
+    return found
+
+
+def write_files(folder, outputs):
     for rel, data in outputs.items():
-        path = os.path.join(expected, rel)
+        path = os.path.join(folder, rel)
         os.makedirs(os.path.dirname(path), exist_ok=True)
         with open(path, "wb") as f:
             f.write(data)
+
+
+def record(outputs, expected):
+    stale = [rel for rel, data in outputs.items()
+             if read(os.path.join(expected, rel)) not in (None, data)]
+    if os.path.isdir(expected):
+        shutil.rmtree(expected)
+    write_files(expected, outputs)
     print(f"golden: recorded {len(outputs)} files in {expected}")
+    root = variants_dir(expected)
+    for rel in stale:
+        for tag in variants_of(expected, rel):
+            os.remove(os.path.join(root, tag, rel))
+            print(f"golden: removed the variant {tag}/{rel}, recorded against the former output")
+    return 0
+
+
+def record_variant(outputs, expected, tag):
+    if not os.path.isdir(expected):
+        print(f"golden: no recorded outputs in {expected} to record a variant of")
+        return 1
+    folder = os.path.join(variants_dir(expected), tag)
+    if os.path.isdir(folder):
+        shutil.rmtree(folder)
+    differing = {rel: data for rel, data in outputs.items()
+                 if read(os.path.join(expected, rel)) != data}
+    if "commands.txt" in differing:
+        print("golden: the list of commands changed; record the outputs first")
+        return 1
+    write_files(folder, differing)
+    print(f"golden: recorded {len(differing)} files that differ from {expected} "
+          f"in {folder}")
     return 0
 
 
@@ -176,18 +239,23 @@ def show_diff(rel, want, got):
 
 
 def check(outputs, expected):
-    differing = []
+    differing, as_variant = [], []
     for rel, got in outputs.items():
-        path = os.path.join(expected, rel)
-        if not os.path.exists(path):
+        want = read(os.path.join(expected, rel))
+        if want is None:
             differing.append((rel, None, got))
-            continue
-        with open(path, "rb") as f:
-            want = f.read()
-        if want != got:
-            differing.append((rel, want, got))
+        elif want != got:
+            tags = [tag for tag, data in variants_of(expected, rel).items() if data == got]
+            if tags:
+                as_variant.append(f"{rel} ({tags[0]})")
+            else:
+                differing.append((rel, want, got))
+    if as_variant:
+        print("golden: identical to a variant recorded on another kind of machine: " +
+              ", ".join(as_variant))
     if not differing:
-        print(f"golden: {len(outputs)} files identical to {expected}")
+        print(f"golden: {len(outputs)} files identical to {expected}"
+              f"{' or a variant' if as_variant else ''}")
         return 0
     rel, want, got = differing[0]
     if want is None:
@@ -206,11 +274,18 @@ def check(outputs, expected):
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("quantcap", help="the quantcap program to run")
-    ap.add_argument("--record", action="store_true", help="write the expected outputs")
+    mode = ap.add_mutually_exclusive_group()
+    mode.add_argument("--record", action="store_true", help="write the expected outputs")
+    mode.add_argument("--record-variant", metavar="TAG",
+                      help="keep the outputs that differ from the expected ones as variant TAG")
     ap.add_argument("--expected", default=EXPECTED, help="folder of the expected outputs")
     a = ap.parse_args()
     quantcap = os.path.abspath(a.quantcap)
     expected = os.path.abspath(a.expected)
+    if a.record_variant is not None and not re.fullmatch(r"[A-Za-z0-9._-]+", a.record_variant):
+        print(f"golden: variant tag '{a.record_variant}': expected letters, digits, '.', '_' "
+              "or '-'")
+        return 2
     if not a.record and not os.path.isdir(expected):
         print(f"golden: skipped: no recorded outputs in {expected} "
               "(record them with --record: tests/golden/README.md)")
@@ -221,7 +296,11 @@ def main():
         except RuntimeError as e:
             print(f"golden: {e}")
             return 1
-    return record(outputs, expected) if a.record else check(outputs, expected)
+    if a.record:
+        return record(outputs, expected)
+    if a.record_variant is not None:
+        return record_variant(outputs, expected, a.record_variant)
+    return check(outputs, expected)
 
 
 if __name__ == "__main__":
