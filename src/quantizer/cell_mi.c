@@ -119,8 +119,8 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     const size_t nx = w->nlevels, k = w->nt + 1;
     qc_status st = row_bands(w, t);
     if (st == QC_OK)
-        st = (w->clip ? qc_discretize_clipped : qc_discretize_into)(
-            w->model, w->levels, nx, t, w->nt, w->lo, w->hi, w->channel);
+        st = qc_discretize_sent(w->model, w->levels, w->input, nx, t, w->nt, w->clip, w->lo,
+                                w->hi, w->channel);
     if (st != QC_OK)
         return st;
     qc_output_law(w->channel, w->input, w->q);
@@ -133,16 +133,17 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
          * their sum in this thread, in the serial loop's order */
 #pragma omp parallel for schedule(static)
         for (size_t x = 0; x < nx; x++)
-            row_log_ratios(w, x, log_zero);
+            if (w->input[x] > 0.0)
+                row_log_ratios(w, x, log_zero);
         for (size_t x = 0; x < nx; x++)
             if (w->input[x] > 0.0)
                 add_row_share(w, x, &mi);
     } else {
-        for (size_t x = 0; x < nx; x++) {
-            row_log_ratios(w, x, log_zero);
-            if (w->input[x] > 0.0)
+        for (size_t x = 0; x < nx; x++)
+            if (w->input[x] > 0.0) {
+                row_log_ratios(w, x, log_zero);
                 add_row_share(w, x, &mi);
-        }
+            }
     }
     if (!isfinite(mi))
         return qc_fail(QC_ENUMERIC, "mutual information of the quantizer is not finite");

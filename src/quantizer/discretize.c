@@ -127,9 +127,24 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
     return QC_OK;
 }
 
+/* Row x of d: the level's cell probabilities, or zeros when `sent` is
+ * given and sends it with no probability. */
+static qc_status row_at(const qc_model *m, const double *levels, const double *sent,
+                        size_t x, const double *t, size_t n, int clip, double *lo,
+                        double *hi, qc_dmc *d)
+{
+    double *row = d->p + x * d->ny;
+    if (sent && !(sent[x] > 0.0)) {
+        for (size_t c = 0; c <= n; c++)
+            row[c] = 0.0;
+        return QC_OK;
+    }
+    return discretize_row(m, levels[x], t, n, clip, lo, hi, row);
+}
+
 typedef struct {
     const qc_model *model;
-    const double *levels, *t;
+    const double *levels, *sent, *t;
     size_t n;
     int clip;
     qc_dmc *d;
@@ -139,8 +154,8 @@ typedef struct {
 static int row_of(size_t x, double *scratch, void *p)
 {
     const rows_ctx *c = p;
-    return discretize_row(c->model, c->levels[x], c->t, c->n, c->clip, scratch,
-                          scratch + c->n, c->d->p + x * c->d->ny) != QC_OK;
+    return row_at(c->model, c->levels, c->sent, x, c->t, c->n, c->clip, scratch,
+                  scratch + c->n, c->d) != QC_OK;
 }
 
 /* Rows of a large channel are shared among OpenMP threads (for a model
@@ -149,24 +164,23 @@ static int row_of(size_t x, double *scratch, void *p)
  * first failing row is run again in the calling thread, so that its
  * message is this thread's and the same as a serial run's. */
 static qc_status discretize_rows(const qc_model *model, const double *levels,
-                                 size_t nlevels, const double *t, size_t n, int clip,
-                                 double *lo, double *hi, qc_dmc *d)
+                                 size_t nlevels, const double *sent, const double *t,
+                                 size_t n, int clip, double *lo, double *hi, qc_dmc *d)
 {
     if (nlevels > 1 && qc_parallel_worth(nlevels * (n + 1)) &&
         qc_model_thread_safe(model)) {
-        rows_ctx c = {model, levels, t, n, clip, d};
+        rows_ctx c = {model, levels, sent, t, n, clip, d};
         size_t failed;
         if (qc_parallel_rows(nlevels, 2 * n, row_of, &c, &failed) != QC_OK)
             return qc_fail(QC_ENOMEM, "out of memory for the rows of a %zu x %zu channel",
                            nlevels, n + 1);
         if (failed < nlevels)
-            return discretize_row(model, levels[failed], t, n, clip, lo, hi,
-                                  d->p + failed * d->ny);
+            return row_at(model, levels, sent, failed, t, n, clip, lo, hi, d);
         return QC_OK;
     }
     qc_status st = QC_OK;
     for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = discretize_row(model, levels[x], t, n, clip, lo, hi, d->p + x * d->ny);
+        st = row_at(model, levels, sent, x, t, n, clip, lo, hi, d);
     return st;
 }
 
@@ -174,14 +188,21 @@ qc_status qc_discretize_into(const qc_model *model, const double *levels,
                              size_t nlevels, const double *t, size_t n,
                              double *lo, double *hi, qc_dmc *d)
 {
-    return discretize_rows(model, levels, nlevels, t, n, 0, lo, hi, d);
+    return discretize_rows(model, levels, nlevels, NULL, t, n, 0, lo, hi, d);
 }
 
 qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d)
 {
-    return discretize_rows(model, levels, nlevels, t, n, 1, lo, hi, d);
+    return discretize_rows(model, levels, nlevels, NULL, t, n, 1, lo, hi, d);
+}
+
+qc_status qc_discretize_sent(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, const double *t,
+                             size_t n, int clip, double *lo, double *hi, qc_dmc *d)
+{
+    return discretize_rows(model, levels, nlevels, input, t, n, clip, lo, hi, d);
 }
 
 qc_status qc_discretize(const qc_model *model, const double *levels,

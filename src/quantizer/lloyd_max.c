@@ -41,7 +41,7 @@ typedef struct {
     double anchor;
     int power;
     qc_dmc *cells;            /* cell masses per level */
-    double *lo_s, *hi_s;      /* scratch for qc_discretize_into */
+    double *lo_s, *hi_s;      /* scratch for qc_discretize_sent */
     gsl_integration_workspace *w;
     double lo, hi;            /* support union */
     int gaussian;             /* closed-form moments (QC_MODEL_GAUSSIAN_LAW) */
@@ -157,8 +157,8 @@ static qc_status centroids(lloyd *L, const double *t, size_t nt, double *recon,
 {
     const size_t K = nt + 1;
     const qc_model_type *ty = qc_model_get_type(L->m);
-    qc_status st = qc_discretize_into(L->m, L->levels, L->nlevels, t, nt, L->lo_s,
-                                      L->hi_s, L->cells);
+    qc_status st = qc_discretize_sent(L->m, L->levels, L->input, L->nlevels, t, nt, 0,
+                                      L->lo_s, L->hi_s, L->cells);
     if (st != QC_OK)
         return st;
     if (L->gaussian) {

@@ -16,11 +16,12 @@ typedef struct {
     const double *input; /* the law; may be changed between evaluations */
     size_t nlevels;
     size_t nt;           /* thresholds: K − 1 */
-    qc_dmc *channel;     /* nlevels × K, the last evaluated channel */
+    qc_dmc *channel;     /* nlevels × K, the last evaluated channel (the
+                            rows of levels the law does not send are 0) */
     double *lo, *hi;     /* scratch, nt each */
     double *q;           /* output law, K */
     double *log_q;       /* log q(c), K */
-    double *lr;          /* log(P(c|x)/q(c)), nlevels × K */
+    double *lr;          /* log(P(c|x)/q(c)), nlevels × K (rows sent) */
     double *sup_lo, *sup_hi; /* each level's support (the model's interval
                                 holding all but ~1e-15 of its mass)     */
     size_t *band;        /* clip: row x's cells band[2x] .. band[2x + 1]
@@ -154,6 +155,15 @@ double qc_noise_scale(const qc_model *model, const double *levels, const double 
 qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d);
+
+/* The rows of the levels `input` sends (probability > 0) as
+ * qc_discretize_into (clip 0) or qc_discretize_clipped (clip 1) computes
+ * them; the rows of the others are set to 0 without a model call, so
+ * that a law on few of many levels pays only for those it sends. For the
+ * rates of that law, which never read those rows. */
+qc_status qc_discretize_sent(const qc_model *model, const double *levels,
+                             const double *input, size_t nlevels, const double *t,
+                             size_t n, int clip, double *lo, double *hi, qc_dmc *d);
 
 /* The two tails of Y given level x at y: *lo = P(Y < y), *hi = P(Y ≥ y)
  * (the model's joint tails where it has them, as the discretizer takes

@@ -115,10 +115,11 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         for (size_t e = 0; e <= K; e++) {
             double y = e == 0 ? fmin(lo, t[0] - scale) : e == K ? fmax(hi, t[nt - 1] + scale)
                                                                : t[e - 1];
-            for (size_t x = 0; x < nx; x++) {
-                ca[(2 * e) * nx + x] = ty->below(w->model, w->levels[x], y);
-                ca[(2 * e + 1) * nx + x] = ty->above(w->model, w->levels[x], y);
-            }
+            for (size_t x = 0; x < nx; x++)
+                if (r[x] > 0.0) { /* the cell terms pass over the others */
+                    ca[(2 * e) * nx + x] = ty->below(w->model, w->levels[x], y);
+                    ca[(2 * e + 1) * nx + x] = ty->above(w->model, w->levels[x], y);
+                }
         }
         for (size_t c = 0; c < K; c++) {
             double a = c == 0 ? fmin(lo, t[0] - scale) : t[c - 1];
@@ -135,6 +136,8 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 if (!(y > a && y < b))
                     continue;
                 for (size_t x = 0; x < nx; x++) {
+                    if (!(r[x] > 0.0))
+                        continue;
                     double ylo = ty->below(w->model, w->levels[x], y);
                     double yhi = ty->above(w->model, w->levels[x], y);
                     /* same tail choice as discretize.c; outer cells

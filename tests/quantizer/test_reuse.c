@@ -1,9 +1,12 @@
 /* test_reuse.c — work a design shares or skips gives the same numbers, to
  * the last bit, as the work done again: the Gaussian models' two tails
  * from one call (gauss.c, gauss_sd.c), the store of unquantized rates
- * (unquantized_memo.c), and the uniform quantizer's centring, whose
+ * (unquantized_memo.c), the uniform quantizer's centring, whose
  * bisections stop once the rounded middle is known (uniform.c), against
- * full bisections written out here as the reference. */
+ * full bisections written out here as the reference, and the levels a law
+ * does not send, skipped by the rates and searches of its thresholds
+ * (discretize.c, cell_mi.c, relocate.c, lloyd_max.c), against the same
+ * problem on the sent levels alone. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -263,12 +266,98 @@ static void test_tidy_same_as_full_bisection(void **state)
     assert_true(centred_coordinates > 0 && centred_coordinates < 2 * TIDY_CASES);
 }
 
+/* A law that sends few of many levels: the rates of the quantizer, its
+ * gradient and curvature, the threshold moves and Lloyd–Max skip the
+ * levels it does not send (their rows of the channel are left 0, no model
+ * call) and give, to the last bit, what the same work on the sent levels
+ * alone gives. 64 levels in Gaussian noise, every fifth sent (the first
+ * and the last among them, so that both problems have the same output
+ * range), 15 thresholds. */
+static void test_unsent_levels_skipped(void **state)
+{
+    (void)state;
+    enum { N = 64, NT = 15, STRIDE = 5 };
+    qc_model *m = gauss(2.5);
+    double levels[N], law[N], sent_levels[N], sent_law[N];
+    size_t ns = 0;
+    double total = 0.0;
+    for (size_t i = 0; i < N; i++) {
+        levels[i] = 2.0 * (double)i - (double)(N - 1);
+        law[i] = i % STRIDE == 0 || i == N - 1 ? 1.0 + (double)(i % 7) : 0.0;
+        total += law[i];
+    }
+    for (size_t i = 0; i < N; i++) {
+        law[i] /= total;
+        if (law[i] > 0.0) {
+            sent_levels[ns] = levels[i];
+            sent_law[ns++] = law[i];
+        }
+    }
+    qc_cell_mi *all, *sent;
+    assert_int_equal(qc_cell_mi_alloc(m, levels, law, N, NT, &all), QC_OK);
+    assert_int_equal(qc_cell_mi_alloc(m, sent_levels, sent_law, ns, NT, &sent), QC_OK);
+    double t[NT], ga[NT], gs[NT], ia, is;
+    for (size_t j = 0; j < NT; j++)
+        t[j] = -60.0 + 8.0 * (double)j + 0.3 * sin((double)j);
+    assert_int_equal(qc_cell_mi_eval(all, t, &ia, ga), QC_OK);
+    assert_int_equal(qc_cell_mi_eval(sent, t, &is, gs), QC_OK);
+    assert_true(same_bits(ia, is));
+    for (size_t j = 0; j < NT; j++)
+        assert_true(same_bits(ga[j], gs[j]));
+    for (size_t i = 0; i < N; i++) /* unsent rows: not computed */
+        for (size_t c = 0; i % STRIDE != 0 && i != N - 1 && c <= NT; c++)
+            assert_true(all->channel->p[i * (NT + 1) + c] == 0.0);
+
+    /* the exact gradient and tridiagonal curvature of the Newton steps */
+    double ha[NT], hs[NT], oa[NT], os[NT], Fa[NT], Fs[NT];
+    double *fa = malloc(NT * N * sizeof *fa), *fs = malloc(NT * N * sizeof *fs);
+    assert_non_null(fa);
+    assert_non_null(fs);
+    assert_true(qc_cell_mi_derivatives(all, t, 1e-5, ga, ha, oa, fa, Fa));
+    assert_true(qc_cell_mi_derivatives(sent, t, 1e-5, gs, hs, os, fs, Fs));
+    for (size_t j = 0; j < NT; j++) {
+        assert_true(same_bits(ga[j], gs[j]));
+        assert_true(same_bits(ha[j], hs[j]));
+        assert_true(same_bits(Fa[j], Fs[j]));
+        if (j + 1 < NT)
+            assert_true(same_bits(oa[j], os[j]));
+    }
+
+    /* Newton refinement and threshold moves, from the same start */
+    double ta[NT], ts[NT];
+    memcpy(ta, t, sizeof t);
+    memcpy(ts, t, sizeof t);
+    assert_int_equal(qc_refine_continuous(all, 2.5, ta, &ia, NULL), QC_OK);
+    assert_int_equal(qc_refine_continuous(sent, 2.5, ts, &is, NULL), QC_OK);
+    assert_int_equal(qc_relocate_thresholds(all, 2.5, ta, &ia, NULL), QC_OK);
+    assert_int_equal(qc_relocate_thresholds(sent, 2.5, ts, &is, NULL), QC_OK);
+    assert_true(same_bits(ia, is));
+    for (size_t j = 0; j < NT; j++)
+        assert_true(same_bits(ta[j], ts[j]));
+
+    /* Lloyd–Max from its own start */
+    double ra[NT + 1], rs[NT + 1];
+    assert_int_equal(qc_lloyd_max(m, levels, law, N, NT, 0, 0, ta, ra, NULL), QC_OK);
+    assert_int_equal(qc_lloyd_max(m, sent_levels, sent_law, ns, NT, 0, 0, ts, rs, NULL),
+                     QC_OK);
+    for (size_t j = 0; j < NT; j++)
+        assert_true(same_bits(ta[j], ts[j]));
+    for (size_t c = 0; c <= NT; c++)
+        assert_true(same_bits(ra[c], rs[c]));
+    free(fa);
+    free(fs);
+    qc_cell_mi_free(all);
+    qc_cell_mi_free(sent);
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_gauss_tails),
         cmocka_unit_test(test_memo),
         cmocka_unit_test(test_tidy_same_as_full_bisection),
+        cmocka_unit_test(test_unsent_levels_skipped),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
