@@ -99,6 +99,8 @@ typedef struct {
     gsl_matrix *kkt;
     gsl_vector *rhs, *sol;
     gsl_permutation *perm;
+    double *cols;    /* scratch of ba_curvature_matrix, and its     */
+    size_t cols_len; /* allocated length                           */
 } active_set;
 
 /* The cost of input x (0 without a cost). */
@@ -118,28 +120,6 @@ static void drop_input(active_set *as, size_t i)
     as->set[i] = as->set[--as->k];
 }
 
-/* Σ_y P(y|x)·P(y|z)/q(y) over the renormalized rows; 0 when an output
- * both reach has q = 0 cannot be formed (then *bad is set). */
-static double curvature(const qc_ba_workspace *ws, size_t x, size_t z, int *bad)
-{
-    const size_t ny = ws->ny;
-    size_t lo = ws->lo[x] > ws->lo[z] ? ws->lo[x] : ws->lo[z];
-    size_t hi = ws->hi[x] < ws->hi[z] ? ws->hi[x] : ws->hi[z];
-    const double *px = ws->p + x * ny, *pz = ws->p + z * ny;
-    double sum = 0.0;
-    for (size_t y = lo; y < hi; y++) {
-        double v = px[y] * pz[y];
-        if (v == 0.0)
-            continue;
-        if (!(ws->q[y] > 0.0)) {
-            *bad = 1;
-            return 0.0;
-        }
-        sum += v / ws->q[y];
-    }
-    return sum * ws->inv_sum[x] * ws->inv_sum[z];
-}
-
 /* The Newton step on S at the law whose scores ws->d holds: solves
  *   M Δ + ν1·1 + ν2·c = d_S,  Σ Δ = 1 − Σ r,  Σ c Δ = β − Σ r c
  * (the last row only with the cost). 0 when it cannot be formed. */
@@ -153,12 +133,10 @@ static int newton_step(active_set *as, double *nu1, double *nu2)
     gsl_permutation perm = {m, as->perm->data};
     int bad = 0;
     double diag = 0.0, mass = 0.0, cost = 0.0;
+    ba_curvature_matrix(ws, as->set, k, &as->cols, &as->cols_len, &a.matrix, &bad);
     for (size_t i = 0; i < k; i++) {
-        for (size_t j = 0; j <= i; j++) {
-            double v = curvature(ws, as->set[i], as->set[j], &bad);
-            gsl_matrix_set(&a.matrix, i, j, v);
-            gsl_matrix_set(&a.matrix, j, i, v);
-        }
+        for (size_t j = 0; j < i; j++)
+            gsl_matrix_set(&a.matrix, j, i, gsl_matrix_get(&a.matrix, i, j));
         diag = fmax(diag, gsl_matrix_get(&a.matrix, i, i));
     }
     if (bad || !(diag > 0.0) || !isfinite(diag))
@@ -355,6 +333,7 @@ static void release(active_set *as)
     free(as->in_set);
     free(as->delta);
     free(as->r_save);
+    free(as->cols);
     gsl_matrix_free(as->kkt);
     gsl_vector_free(as->rhs);
     gsl_vector_free(as->sol);

@@ -7,6 +7,8 @@
 #include "core/internal.h"
 #include "quantcap/capacity.h"
 
+#include <gsl/gsl_matrix.h>
+
 struct qc_ba_workspace {
     size_t nx_max, ny_max;
     /* per-channel preparation (ba_prepare) */
@@ -147,6 +149,18 @@ int ba_cost_newton(qc_ba_workspace *ws, const double *c, double beta, size_t che
  * scratch). */
 int ba_newton_free(qc_ba_workspace *ws, double tol_nats, size_t max_steps,
                    ba_newton_result *out);
+
+/* Σ_y P(y|x)·P(y|z)/q(y) over the renormalized rows x and z at the law
+ * whose output law ws->q holds (curvature.c); 0 with *bad set when an
+ * output both reach has q = 0. */
+double ba_curvature(const qc_ba_workspace *ws, size_t x, size_t z, int *bad);
+
+/* The lower triangle (j ≤ i) of a (at least k × k) with
+ * ba_curvature(ws, set[i], set[j]), to the same bits, four entries at a
+ * time; *cols (*cols_len doubles, grown as needed, the caller frees it)
+ * is scratch. *bad as for ba_curvature. */
+void ba_curvature_matrix(const qc_ba_workspace *ws, const size_t *set, size_t k,
+                         double **cols, size_t *cols_len, gsl_matrix *a, int *bad);
 
 /* Capacity–cost search (cost.c): the caller has validated the options,
  * prepared the workspace and put the starting law in ws->r. Fills res

@@ -7,7 +7,9 @@
  * points for K output cells (a basic feasible point of the optimal
  * laws' polytope: J. Nocedal and S. J. Wright, Numerical Optimization,
  * Springer 2006, ch. 13; J. Singh, O. Dabeer and U. Madhow, IEEE Trans.
- * Commun. 57(12), 2009), and it gets there in a few hundred steps. */
+ * Commun. 57(12), 2009), and it gets there in a few hundred steps; and
+ * the curvature matrix of its Newton steps, formed four entries at a time
+ * (src/capacity/curvature.c), has the bits of the pair-by-pair sums. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -19,6 +21,7 @@
 #include <string.h>
 
 #include "quantcap.h"
+#include "capacity/engine.h"
 
 #include "test_helpers.h"
 
@@ -146,6 +149,79 @@ static void test_inactive(void **state)
     check(200, 0.5, T4, 3, 0.99, NULL);
 }
 
+/* The curvature matrix of the Newton steps, four entries at a time
+ * (curvature.c), has the bits of the pair-by-pair sums on a set of 37
+ * rows taken out of order (the last block of four has one entry), at a
+ * law on part of the inputs; and on a banded channel where an output
+ * inside the set's span has no mass, it falls back to the pair-by-pair
+ * sums and says when a pair meets that output. */
+static void curvature_bits(const qc_dmc *d, const double *law, const size_t *set, size_t k,
+                           int want_bad)
+{
+    qc_ba_workspace *ws = NULL;
+    assert_int_equal(qc_ba_workspace_alloc(d->nx, d->ny, &ws), QC_OK);
+    ba_prepare(ws, d);
+    memcpy(ws->r, law, d->nx * sizeof *law);
+    ba_tilt none = {NULL, 0.0, 0.0};
+    ba_outcome o = {.upper = INFINITY};
+    ba_evaluate(ws, &none, &o);
+    gsl_matrix *a = gsl_matrix_alloc(k, k);
+    assert_non_null(a);
+    double *cols = NULL;
+    size_t cols_len = 0;
+    int bad = 0, bad_pairs = 0;
+    ba_curvature_matrix(ws, set, k, &cols, &cols_len, a, &bad);
+    for (size_t i = 0; i < k; i++)
+        for (size_t j = 0; j <= i; j++) {
+            int b = 0;
+            double v = ba_curvature(ws, set[i], set[j], &b), got = gsl_matrix_get(a, i, j);
+            bad_pairs |= b;
+            if (memcmp(&v, &got, sizeof v) != 0)
+                fail_msg("entry (%zu, %zu): %.17g, one pair at a time %.17g", i, j, got, v);
+        }
+    assert_int_equal(bad, want_bad);
+    assert_int_equal(bad_pairs, want_bad);
+    free(cols);
+    gsl_matrix_free(a);
+    qc_ba_workspace_free(ws);
+}
+
+static void test_curvature_four_at_a_time(void **state)
+{
+    (void)state;
+    enum { N = 300, K = 37 };
+    double *levels = malloc(N * sizeof *levels), *law = malloc(N * sizeof *law);
+    assert_non_null(levels);
+    assert_non_null(law);
+    qc_dmc *d = level_grid_channel(N, 0.15, T8, 7, levels);
+    size_t set[K];
+    double total = 0.0;
+    for (size_t x = 0; x < N; x++)
+        total += law[x] = x % 3 == 0 ? 1.0 + (double)(x % 11) : 0.0;
+    for (size_t x = 0; x < N; x++)
+        law[x] /= total;
+    for (size_t i = 0; i < K; i++)
+        set[i] = (7 * i * i + 3 * i) % N; /* out of order, some without mass */
+    curvature_bits(d, law, set, K, 0);
+    qc_dmc_free(d);
+
+    /* banded: input x reaches outputs x .. x + 2 of 12; only inputs 0
+     * and 9 are sent, so outputs 3 .. 8 have no mass */
+    qc_dmc *b = NULL;
+    assert_int_equal(qc_dmc_alloc(10, 12, &b), QC_OK);
+    for (size_t x = 0; x < 10; x++)
+        for (size_t y = x; y < x + 3; y++)
+            b->p[x * 12 + y] = (double)(1 + y - x) / 6.0;
+    double blaw[10] = {0.5, 0, 0, 0, 0, 0, 0, 0, 0, 0.5};
+    size_t apart[2] = {9, 0};    /* their pairs meet only outputs with mass */
+    size_t meets[3] = {0, 9, 4}; /* input 4 reaches outputs without mass */
+    curvature_bits(b, blaw, apart, 2, 0);
+    curvature_bits(b, blaw, meets, 3, 1);
+    qc_dmc_free(b);
+    free(levels);
+    free(law);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -153,6 +229,7 @@ int main(void)
         cmocka_unit_test(test_three_bits),
         cmocka_unit_test(test_misleading_start),
         cmocka_unit_test(test_inactive),
+        cmocka_unit_test(test_curvature_four_at_a_time),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
