@@ -28,6 +28,12 @@
 
 #define COMPANDING_BELOW 2 /* grid cells per quantizer cell below which the
                               companding rule is tried as a start */
+/* Levels from which stages 2 and 3 rate the clipped tails: a wide
+ * alphabet costs levels × cells a rate, of which a level's support
+ * reaches a few hundred cells; a small one is cheap to rate exactly, and
+ * reaches saturation at the SNRs it is used at, where the far tails
+ * alone tell apart thresholds of equal rate. */
+#define CLIP_MIN_LEVELS 64
 
 /* Levels sent with positive probability. */
 static size_t levels_sent(const double *input, size_t nlevels)
@@ -86,9 +92,16 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
             memcpy(t_out, comp, nt * sizeof *t_out);
     }
     if (real) {
+        /* a wide alphabet: its Newton steps and moves rate the tails
+         * clipped at the supports (cell_mi.c), then the result exactly */
+        w->clip = nlevels >= CLIP_MIN_LEVELS;
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
         if (st == QC_OK && K > levels_sent(input, nlevels))
             st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);
+        if (st == QC_OK && w->clip) {
+            w->clip = 0;
+            st = qc_cell_mi_eval(w, t_out, &mi, NULL);
+        }
     }
     else if (!g->exact)
         st = qc_refine_counts(w, t_out, &mi, iterations);

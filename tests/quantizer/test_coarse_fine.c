@@ -343,6 +343,60 @@ static void test_dense_alphabet(void **state)
     qc_model_free(m);
 }
 
+/* A wide alphabet (64 levels and more: 256 levels 2 apart under σ = 20)
+ * takes its Newton steps and moves on the rate with the tails clipped at
+ * the supports (optimal.c), then reports the exact rate of its
+ * thresholds: the reported rate is that rate to the last bit, exact
+ * Newton steps from there gain less than 1e-13 of it, and it is not
+ * below the exact rate of the DP's own cuts, less 2e-13 bit (the
+ * guarantee, docs/methods.md section 4). */
+static void test_wide_alphabet_clipped_stages(void **state)
+{
+    (void)state;
+    enum { L = 256 };
+    double levels[L], law[L], sigma = 20.0;
+    for (size_t i = 0; i < L; i++) {
+        levels[i] = -255.0 + 2.0 * (double)i;
+        law[i] = 1.0 / L;
+    }
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    const size_t Ks[] = {16, 64};
+    for (size_t k = 0; k < sizeof Ks / sizeof *Ks; k++) {
+        const size_t K = Ks[k], nt = K - 1;
+        qc_fine_grid g;
+        assert_int_equal(qc_coarse_grid_build(m, levels, law, L, K, &g), QC_OK);
+        double *t = malloc(nt * sizeof *t), *td = malloc(nt * sizeof *td), mi, exact;
+        size_t *cuts = malloc((K + 1) * sizeof *cuts);
+        assert_non_null(t);
+        assert_non_null(td);
+        assert_non_null(cuts);
+        assert_int_equal(qc_optimal_thresholds(m, levels, law, L, nt, &g, t, &mi, NULL), QC_OK);
+        qc_cell_mi *w;
+        assert_int_equal(qc_cell_mi_alloc(m, levels, law, L, nt, &w), QC_OK);
+        assert_int_equal(qc_cell_mi_eval(w, t, &exact, NULL), QC_OK);
+        assert_true(exact == mi);
+        double polished;
+        assert_int_equal(qc_refine_continuous(w, sigma, t, &polished, NULL), QC_OK);
+        if (!(polished - mi <= 1e-13 * mi))
+            fail_msg("K %zu: exact Newton steps raise %.17g to %.17g nats", K, mi, polished);
+        assert_int_equal(qc_dp_quantize(g.p, law, K, QC_DP_FAST, cuts, NULL), QC_OK);
+        for (size_t j = 1; j < K; j++)
+            td[j - 1] = g.bounds[cuts[j] - 1];
+        double dp;
+        assert_int_equal(qc_cell_mi_eval(w, td, &dp, NULL), QC_OK);
+        if (!(mi * QC_LOG2E >= dp * QC_LOG2E - 2e-13))
+            fail_msg("K %zu: design %.17g bit below the grid DP's %.17g", K, mi * QC_LOG2E,
+                     dp * QC_LOG2E);
+        qc_cell_mi_free(w);
+        qc_fine_grid_clear(&g);
+        free(t);
+        free(td);
+        free(cuts);
+    }
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -351,6 +405,7 @@ int main(void)
         cmocka_unit_test(test_newton_reaches_stationary_point),
         cmocka_unit_test(test_grid_sizes),
         cmocka_unit_test(test_dense_alphabet),
+        cmocka_unit_test(test_wide_alphabet_clipped_stages),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
