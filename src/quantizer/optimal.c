@@ -14,6 +14,9 @@
  *     rate. With at most one cell per level the local maxima differ in
  *     which gaps between levels hold a threshold, by far more than the
  *     grid's resolution loses, and the DP tells them apart.
+ * A wide alphabet takes steps 2 and 3 on the rate with each level's
+ * tails clipped at its support (cell_mi.c), and its result is rated
+ * exactly.
  * When the grid leaves the DP little choice (fewer than 2K cells, only
  * with a caller-chosen size) the high-resolution companding rule
  * (fine_grid.c) is a second start, taken only if its rate is higher.

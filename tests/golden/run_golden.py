@@ -282,11 +282,12 @@ def main():
     a = ap.parse_args()
     quantcap = os.path.abspath(a.quantcap)
     expected = os.path.abspath(a.expected)
-    if a.record_variant is not None and not re.fullmatch(r"[A-Za-z0-9._-]+", a.record_variant):
-        print(f"golden: variant tag '{a.record_variant}': expected letters, digits, '.', '_' "
-              "or '-'")
+    if a.record_variant is not None and not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9._-]*",
+                                                         a.record_variant):
+        print(f"golden: variant tag '{a.record_variant}': expected a letter or digit, then "
+              "letters, digits, '.', '_' or '-'")
         return 2
-    if not a.record and not os.path.isdir(expected):
+    if not a.record and a.record_variant is None and not os.path.isdir(expected):
         print(f"golden: skipped: no recorded outputs in {expected} "
               "(record them with --record: tests/golden/README.md)")
         return SKIP
