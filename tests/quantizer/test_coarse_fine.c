@@ -288,6 +288,22 @@ static void test_grid_sizes(void **state)
     qc_model_free(m);
 }
 
+/* The dense alphabet of the two tests below: DENSE_LEVELS equally likely
+ * levels 2 apart under Gaussian noise of σ = DENSE_SIGMA. */
+#define DENSE_LEVELS 256
+#define DENSE_SIGMA 20.0
+static qc_model *dense_alphabet(double *levels, double *law)
+{
+    for (size_t i = 0; i < DENSE_LEVELS; i++) {
+        levels[i] = -255.0 + 2.0 * (double)i;
+        law[i] = 1.0 / DENSE_LEVELS;
+    }
+    double sigma = DENSE_SIGMA;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    return m;
+}
+
 /* A dense alphabet: 256 levels 2 apart under σ = 20, so that a point of
  * the output range sees about a hundred levels. The DP, which visits only
  * the levels that reach a cell, must give the rate of its own cuts
@@ -297,14 +313,9 @@ static void test_grid_sizes(void **state)
 static void test_dense_alphabet(void **state)
 {
     (void)state;
-    enum { L = 256 };
-    double levels[L], law[L], sigma = 20.0;
-    for (size_t i = 0; i < L; i++) {
-        levels[i] = -255.0 + 2.0 * (double)i;
-        law[i] = 1.0 / L;
-    }
-    qc_model *m;
-    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    enum { L = DENSE_LEVELS };
+    double levels[L], law[L];
+    qc_model *m = dense_alphabet(levels, law);
     const size_t K = 16;
     qc_fine_grid g;
     assert_int_equal(qc_coarse_grid_build(m, levels, law, L, K, &g), QC_OK);
@@ -353,14 +364,9 @@ static void test_dense_alphabet(void **state)
 static void test_wide_alphabet_clipped_stages(void **state)
 {
     (void)state;
-    enum { L = 256 };
-    double levels[L], law[L], sigma = 20.0;
-    for (size_t i = 0; i < L; i++) {
-        levels[i] = -255.0 + 2.0 * (double)i;
-        law[i] = 1.0 / L;
-    }
-    qc_model *m;
-    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    enum { L = DENSE_LEVELS };
+    double levels[L], law[L];
+    qc_model *m = dense_alphabet(levels, law);
     const size_t Ks[] = {16, 64};
     for (size_t k = 0; k < sizeof Ks / sizeof *Ks; k++) {
         const size_t K = Ks[k], nt = K - 1;
@@ -377,7 +383,7 @@ static void test_wide_alphabet_clipped_stages(void **state)
         assert_int_equal(qc_cell_mi_eval(w, t, &exact, NULL), QC_OK);
         assert_true(exact == mi);
         double polished;
-        assert_int_equal(qc_refine_continuous(w, sigma, t, &polished, NULL), QC_OK);
+        assert_int_equal(qc_refine_continuous(w, DENSE_SIGMA, t, &polished, NULL), QC_OK);
         if (!(polished - mi <= 1e-13 * mi))
             fail_msg("K %zu: exact Newton steps raise %.17g to %.17g nats", K, mi, polished);
         assert_int_equal(qc_dp_quantize(g.p, law, K, QC_DP_FAST, cuts, NULL), QC_OK);
