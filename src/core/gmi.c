@@ -81,27 +81,38 @@ double qc_bit_term(double p0, double p1)
     return h;
 }
 
+#define GMI_BLOCK 64 /* outputs whose bit masses are gathered in one pass */
+
 qc_status qc_gmi(const qc_dmc *dmc, const double *input, const size_t *labels,
                  unsigned nbits, double *gmi_nats)
 {
     qc_status st = qc_check_labels(input, dmc->nx, labels, nbits);
     if (st != QC_OK)
         return st;
-    double *joint = qc_malloc_array(2 * (size_t)nbits, sizeof *joint);
+    const size_t per_y = 2 * (size_t)nbits; /* joint masses of one output */
+    double *joint = qc_malloc_array(GMI_BLOCK * per_y, sizeof *joint);
     if (!joint)
         return qc_fail(QC_ENOMEM, "out of memory");
     double hx = qc_entropy(input, dmc->nx), hb = 0.0;
-    for (size_t y = 0; y < dmc->ny; y++) {
-        memset(joint, 0, 2 * (size_t)nbits * sizeof *joint);
+    /* the outputs in blocks, each block's rows read in the order they are
+     * stored; every output's masses add the inputs in order, and its
+     * terms join hb in the order of the outputs */
+    for (size_t y0 = 0; y0 < dmc->ny; y0 += GMI_BLOCK) {
+        const size_t ny = dmc->ny - y0 < GMI_BLOCK ? dmc->ny - y0 : GMI_BLOCK;
+        memset(joint, 0, ny * per_y * sizeof *joint);
         for (size_t x = 0; x < dmc->nx; x++) {
-            double p = input[x] * dmc->p[x * dmc->ny + y];
-            if (!(p > 0.0))
-                continue;
-            for (unsigned b = 0; b < nbits; b++)
-                joint[2 * b + ((labels[x] >> b) & 1)] += p;
+            const double *row = dmc->p + x * dmc->ny + y0;
+            for (size_t y = 0; y < ny; y++) {
+                double p = input[x] * row[y];
+                if (!(p > 0.0))
+                    continue;
+                for (unsigned b = 0; b < nbits; b++)
+                    joint[y * per_y + 2 * b + ((labels[x] >> b) & 1)] += p;
+            }
         }
-        for (unsigned b = 0; b < nbits; b++)
-            hb += qc_bit_term(joint[2 * b], joint[2 * b + 1]);
+        for (size_t y = 0; y < ny; y++)
+            for (unsigned b = 0; b < nbits; b++)
+                hb += qc_bit_term(joint[y * per_y + 2 * b], joint[y * per_y + 2 * b + 1]);
     }
     free(joint);
     double g = hx - hb;

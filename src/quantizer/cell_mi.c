@@ -7,8 +7,9 @@
  * uniform search, the continuous refinement and Lloyd–Max reporting.
  * A clipping workspace (w->clip) takes each level's tails as 0 and 1
  * beyond its support and visits only the band of cells the support
- * reaches, so that a wide alphabet costs its levels' reach, not
- * levels × cells. */
+ * reaches (in the rows, the output law and the sums), and at a threshold
+ * only the levels whose support reaches it (qc_cell_mi_reach), so that a
+ * wide alphabet costs its levels' reach, not levels × cells. */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
@@ -41,13 +42,18 @@ qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
     w->sup_lo = qc_malloc_array(nlevels, sizeof *w->sup_lo);
     w->sup_hi = qc_malloc_array(nlevels, sizeof *w->sup_hi);
     w->band = qc_malloc_array(2 * nlevels, sizeof *w->band);
+    w->written = qc_calloc(2 * nlevels, sizeof *w->written); /* the channel is all 0 */
     if (!w->lo || !w->hi || !w->q || !w->log_q || !w->lr || !w->sup_lo || !w->sup_hi ||
-        !w->band) {
+        !w->band || !w->written) {
         qc_cell_mi_free(w);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    for (size_t x = 0; x < nlevels; x++)
+    w->supports_ordered = 1;
+    for (size_t x = 0; x < nlevels; x++) {
         qc_model_get_type(model)->support(model, levels[x], &w->sup_lo[x], &w->sup_hi[x]);
+        if (x > 0 && !(w->sup_lo[x] >= w->sup_lo[x - 1] && w->sup_hi[x] >= w->sup_hi[x - 1]))
+            w->supports_ordered = 0;
+    }
     *out = w;
     return QC_OK;
 }
@@ -65,7 +71,37 @@ void qc_cell_mi_free(qc_cell_mi *w)
     free(w->sup_lo);
     free(w->sup_hi);
     free(w->band);
+    free(w->written);
     free(w);
+}
+
+void qc_cell_mi_reach(const qc_cell_mi *w, double y, size_t *x0, size_t *x1)
+{
+    size_t a = 0, b = w->nlevels;
+    if (w->clip && w->supports_ordered) {
+        /* the first level whose support ends above y, and the first
+         * whose support starts at or above it */
+        size_t lo = 0, hi = w->nlevels;
+        while (lo < hi) {
+            size_t mid = lo + (hi - lo) / 2;
+            if (w->sup_hi[mid] > y)
+                hi = mid;
+            else
+                lo = mid + 1;
+        }
+        a = lo;
+        hi = w->nlevels;
+        while (lo < hi) {
+            size_t mid = lo + (hi - lo) / 2;
+            if (w->sup_lo[mid] < y)
+                lo = mid + 1;
+            else
+                hi = mid;
+        }
+        b = lo;
+    }
+    *x0 = a;
+    *x1 = b;
 }
 
 /* log with the zero cell mapped to the smallest normal number, so that a
@@ -83,14 +119,57 @@ static void row_log_ratios(qc_cell_mi *w, size_t x, double log_zero)
 }
 
 /* Adds row x's terms r P log(P/q) over its band (the cells beyond are 0)
- * to *mi, one at a time in the order of the cells. */
+ * to *mi, one at a time in the order of the cells (in a local sum, which
+ * the compiler need not store after each term). */
 static void add_row_share(const qc_cell_mi *w, size_t x, double *mi)
 {
     const size_t k = w->nt + 1;
     const double *row = w->channel->p + x * k, *lr = w->lr + x * k;
+    const double r = w->input[x];
+    double sum = *mi;
     for (size_t c = w->band[2 * x]; c <= w->band[2 * x + 1]; c++)
         if (row[c] > 0.0)
-            *mi += w->input[x] * row[c] * lr[c];
+            sum += r * row[c] * lr[c];
+    *mi = sum;
+}
+
+/* q(c) = Σ_x r(x) P(c|x) for the cells c0 .. c1 − 1, each row's terms
+ * over its band only: beyond it P is 0, and adding r·0 would leave q as
+ * it is, so q is that of qc_output_law to the bit. */
+static void output_law_columns(qc_cell_mi *w, size_t c0, size_t c1)
+{
+    const size_t k = w->nt + 1;
+    for (size_t c = c0; c < c1; c++)
+        w->q[c] = 0.0;
+    for (size_t x = 0; x < w->nlevels; x++) {
+        if (w->input[x] <= 0.0)
+            continue;
+        const double *row = w->channel->p + x * k;
+        size_t b0 = w->band[2 * x] > c0 ? w->band[2 * x] : c0;
+        size_t b1 = w->band[2 * x + 1] + 1 < c1 ? w->band[2 * x + 1] + 1 : c1;
+        for (size_t c = b0; c < b1; c++)
+            w->q[c] += w->input[x] * row[c];
+    }
+}
+
+#define OUTPUT_LAW_BLOCK 256 /* cells of the output law per thread's task */
+
+/* The output law of the last evaluated channel into w->q; a large channel
+ * in blocks of cells shared among OpenMP threads, each cell's sum in the
+ * order of the levels. */
+static void output_law(qc_cell_mi *w)
+{
+    const size_t k = w->nt + 1;
+    if (qc_parallel_worth(w->nlevels * k)) {
+        const size_t blocks = (k + OUTPUT_LAW_BLOCK - 1) / OUTPUT_LAW_BLOCK;
+#pragma omp parallel for schedule(static)
+        for (size_t b = 0; b < blocks; b++) {
+            size_t c1 = (b + 1) * OUTPUT_LAW_BLOCK;
+            output_law_columns(w, b * OUTPUT_LAW_BLOCK, c1 < k ? c1 : k);
+        }
+    } else {
+        output_law_columns(w, 0, k);
+    }
 }
 
 /* The band of cells each row's support reaches (all cells unclipped);
@@ -120,10 +199,10 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
     qc_status st = row_bands(w, t);
     if (st == QC_OK)
         st = qc_discretize_sent(w->model, w->levels, w->input, nx, t, w->nt, w->clip, w->lo,
-                                w->hi, w->channel);
+                                w->hi, w->written, w->channel);
     if (st != QC_OK)
         return st;
-    qc_output_law(w->channel, w->input, w->q);
+    output_law(w);
     for (size_t c = 0; c < k; c++) /* log q(c), once per cell */
         w->log_q[c] = safe_log(w->q[c]);
     const double log_zero = safe_log(0.0); /* the zero cell's log, once */
@@ -152,7 +231,9 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
         return QC_OK;
     for (size_t j = 0; j < w->nt; j++) {
         double g = 0.0;
-        for (size_t x = 0; x < nx; x++) {
+        size_t x0, x1; /* the others are not inside at t_j */
+        qc_cell_mi_reach(w, t[j], &x0, &x1);
+        for (size_t x = x0; x < x1; x++) {
             if (!(w->input[x] > 0.0) || !qc_cell_mi_inside(w, x, t[j]))
                 continue;
             double f = qc_model_get_type(w->model)->density(w->model, w->levels[x], t[j]);

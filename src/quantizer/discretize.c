@@ -57,15 +57,32 @@ size_t qc_count_below(const double *t, size_t n, double y, int strict)
     return lo;
 }
 
+/* Sets row[c] = 0 for the cells c of [w[0], w[1]) outside [keep0, keep1)
+ * and then w = [keep0, keep1): `w` holds the cells of a row that may be
+ * nonzero, so that a row whose band moves clears only what it leaves. */
+static void clear_outside(double *row, size_t *w, size_t keep0, size_t keep1)
+{
+    for (size_t c = w[0]; c < w[1] && c < keep0; c++)
+        row[c] = 0.0;
+    for (size_t c = w[0] > keep1 ? w[0] : keep1; c < w[1]; c++)
+        row[c] = 0.0;
+    w[0] = keep0;
+    w[1] = keep1;
+}
+
 /* One row: cell probabilities of level x. `lo`, `hi` are scratch of
  * length n (P(Y < t_j), P(Y ≥ t_j)). clip: thresholds outside the
  * level's support (the model's interval holding all but ~1e-15 of the
  * mass) get the tails 0 and 1 without a model call; the thresholds must
  * then be increasing, and only the band of cells the support reaches is
  * visited (the others are exactly 0: between two tails of 0 and 1, or of
- * 1 and 0). */
+ * 1 and 0). written: NULL (every cell outside the band is set to 0), or
+ * the row's cells [written[0], written[1]) that may be nonzero, all
+ * others being 0 already: only those outside the band are cleared, and
+ * written becomes the band. */
 static qc_status discretize_row(const qc_model *m, double x, const double *t,
-                                size_t n, int clip, double *lo, double *hi, double *row)
+                                size_t n, int clip, double *lo, double *hi, double *row,
+                                size_t *written)
 {
     const qc_model_type *type = qc_model_get_type(m);
     /* thresholds j0 .. j1 − 1 lie inside the support; cells j0 .. j1 */
@@ -92,10 +109,14 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
                            "level %g, threshold %g",
                            qc_model_get_type(m)->name, x, t[j]);
     }
-    for (size_t c = 0; c < j0; c++)
-        row[c] = 0.0;
-    for (size_t c = j1 + 1; c <= n; c++)
-        row[c] = 0.0;
+    if (written) {
+        clear_outside(row, written, j0, j1 + 1);
+    } else {
+        for (size_t c = 0; c < j0; c++)
+            row[c] = 0.0;
+        for (size_t c = j1 + 1; c <= n; c++)
+            row[c] = 0.0;
+    }
     double s = 0.0;
     for (size_t c = j0; c <= j1; c++) {
         double p;
@@ -128,18 +149,24 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
 }
 
 /* Row x of d: the level's cell probabilities, or zeros when `sent` is
- * given and sends it with no probability. */
+ * given and sends it with no probability (written: as discretize_row,
+ * two entries per row). */
 static qc_status row_at(const qc_model *m, const double *levels, const double *sent,
                         size_t x, const double *t, size_t n, int clip, double *lo,
-                        double *hi, qc_dmc *d)
+                        double *hi, size_t *written, qc_dmc *d)
 {
     double *row = d->p + x * d->ny;
+    size_t *w = written ? written + 2 * x : NULL;
     if (sent && !(sent[x] > 0.0)) {
-        for (size_t c = 0; c <= n; c++)
-            row[c] = 0.0;
+        if (w) {
+            clear_outside(row, w, 0, 0);
+        } else {
+            for (size_t c = 0; c <= n; c++)
+                row[c] = 0.0;
+        }
         return QC_OK;
     }
-    return discretize_row(m, levels[x], t, n, clip, lo, hi, row);
+    return discretize_row(m, levels[x], t, n, clip, lo, hi, row, w);
 }
 
 typedef struct {
@@ -147,6 +174,7 @@ typedef struct {
     const double *levels, *sent, *t;
     size_t n;
     int clip;
+    size_t *written;
     qc_dmc *d;
 } rows_ctx;
 
@@ -155,7 +183,7 @@ static int row_of(size_t x, double *scratch, void *p)
 {
     const rows_ctx *c = p;
     return row_at(c->model, c->levels, c->sent, x, c->t, c->n, c->clip, scratch,
-                  scratch + c->n, c->d) != QC_OK;
+                  scratch + c->n, c->written, c->d) != QC_OK;
 }
 
 /* Rows of a large channel are shared among OpenMP threads (for a model
@@ -165,22 +193,23 @@ static int row_of(size_t x, double *scratch, void *p)
  * message is this thread's and the same as a serial run's. */
 static qc_status discretize_rows(const qc_model *model, const double *levels,
                                  size_t nlevels, const double *sent, const double *t,
-                                 size_t n, int clip, double *lo, double *hi, qc_dmc *d)
+                                 size_t n, int clip, double *lo, double *hi,
+                                 size_t *written, qc_dmc *d)
 {
     if (nlevels > 1 && qc_parallel_worth(nlevels * (n + 1)) &&
         qc_model_thread_safe(model)) {
-        rows_ctx c = {model, levels, sent, t, n, clip, d};
+        rows_ctx c = {model, levels, sent, t, n, clip, written, d};
         size_t failed;
         if (qc_parallel_rows(nlevels, 2 * n, row_of, &c, &failed) != QC_OK)
             return qc_fail(QC_ENOMEM, "out of memory for the rows of a %zu x %zu channel",
                            nlevels, n + 1);
         if (failed < nlevels)
-            return row_at(model, levels, sent, failed, t, n, clip, lo, hi, d);
+            return row_at(model, levels, sent, failed, t, n, clip, lo, hi, written, d);
         return QC_OK;
     }
     qc_status st = QC_OK;
     for (size_t x = 0; x < nlevels && st == QC_OK; x++)
-        st = row_at(model, levels, sent, x, t, n, clip, lo, hi, d);
+        st = row_at(model, levels, sent, x, t, n, clip, lo, hi, written, d);
     return st;
 }
 
@@ -188,21 +217,22 @@ qc_status qc_discretize_into(const qc_model *model, const double *levels,
                              size_t nlevels, const double *t, size_t n,
                              double *lo, double *hi, qc_dmc *d)
 {
-    return discretize_rows(model, levels, nlevels, NULL, t, n, 0, lo, hi, d);
+    return discretize_rows(model, levels, nlevels, NULL, t, n, 0, lo, hi, NULL, d);
 }
 
 qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
                                 size_t nlevels, const double *t, size_t n,
                                 double *lo, double *hi, qc_dmc *d)
 {
-    return discretize_rows(model, levels, nlevels, NULL, t, n, 1, lo, hi, d);
+    return discretize_rows(model, levels, nlevels, NULL, t, n, 1, lo, hi, NULL, d);
 }
 
 qc_status qc_discretize_sent(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, const double *t,
-                             size_t n, int clip, double *lo, double *hi, qc_dmc *d)
+                             size_t n, int clip, double *lo, double *hi, size_t *written,
+                             qc_dmc *d)
 {
-    return discretize_rows(model, levels, nlevels, input, t, n, clip, lo, hi, d);
+    return discretize_rows(model, levels, nlevels, input, t, n, clip, lo, hi, written, d);
 }
 
 qc_status qc_discretize(const qc_model *model, const double *levels,

@@ -158,7 +158,7 @@ static qc_status centroids(lloyd *L, const double *t, size_t nt, double *recon,
     const size_t K = nt + 1;
     const qc_model_type *ty = qc_model_get_type(L->m);
     qc_status st = qc_discretize_sent(L->m, L->levels, L->input, L->nlevels, t, nt, 0,
-                                      L->lo_s, L->hi_s, L->cells);
+                                      L->lo_s, L->hi_s, NULL, L->cells);
     if (st != QC_OK)
         return st;
     if (L->gaussian) {

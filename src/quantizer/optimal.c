@@ -31,13 +31,6 @@
 
 #define COMPANDING_BELOW 2 /* grid cells per quantizer cell below which the
                               companding rule is tried as a start */
-/* Levels from which stages 2 and 3 rate the clipped tails: a wide
- * alphabet costs levels × cells a rate, of which a level's support
- * reaches a few hundred cells; a small one is cheap to rate exactly, and
- * reaches saturation at the SNRs it is used at, where the far tails
- * alone tell apart thresholds of equal rate. */
-#define CLIP_MIN_LEVELS 64
-
 /* Levels sent with positive probability. */
 static size_t levels_sent(const double *input, size_t nlevels)
 {
@@ -97,7 +90,7 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     if (real) {
         /* a wide alphabet: its Newton steps and moves rate the tails
          * clipped at the supports (cell_mi.c), then the result exactly */
-        w->clip = nlevels >= CLIP_MIN_LEVELS;
+        w->clip = nlevels >= QC_CLIP_MIN_LEVELS;
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
         if (st == QC_OK && K > levels_sent(input, nlevels))
             st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);

@@ -10,6 +10,18 @@
 
 /* ---- cell_mi.c: I(X;Y_q) as a function of the thresholds ------------- */
 
+/* How far the rate with each level's tails clipped at its support (0 and
+ * 1 beyond it, qc_discretize_clipped) may lie from the exact rate, in
+ * bits: the support holds all but ~1e-15 of a level's mass. */
+#define QC_CLIP_RATE_BITS 1e-13
+
+/* Levels from which searches rate the clipped tails where the exact rate
+ * would decide the same: a wide alphabet costs levels × cells a rate, of
+ * which a level's support reaches a few hundred cells; a small one is
+ * cheap to rate exactly, and reaches saturation at the SNRs it is used
+ * at, where the far tails alone tell apart thresholds of equal rate. */
+#define QC_CLIP_MIN_LEVELS 64
+
 typedef struct {
     const qc_model *model;
     const double *levels;
@@ -26,10 +38,15 @@ typedef struct {
                                 holding all but ~1e-15 of its mass)     */
     size_t *band;        /* clip: row x's cells band[2x] .. band[2x + 1]
                             are those its support reaches (others 0)    */
+    size_t *written;     /* row x's cells [written[2x], written[2x + 1])
+                            may be nonzero (qc_discretize_sent)         */
     int clip;            /* 1: outside its support a level's tails are 0
                             and 1 and its density 0 (qc_discretize_clipped),
-                            which moves the rate by < 1e-13 bit; set by
-                            searches whose result is rated again exactly */
+                            which moves the rate by < QC_CLIP_RATE_BITS;
+                            set by searches whose result is rated again
+                            exactly */
+    int supports_ordered; /* both ends of the supports never fall from one
+                             level to the next (qc_cell_mi_reach)       */
 } qc_cell_mi;
 
 /* Workspace for K − 1 = nt thresholds. */
@@ -44,6 +61,12 @@ static inline int qc_cell_mi_inside(const qc_cell_mi *w, size_t x, double y)
 {
     return !w->clip || (y > w->sup_lo[x] && y < w->sup_hi[x]);
 }
+
+/* The levels *x0 .. *x1 − 1 outside which none is inside at y
+ * (qc_cell_mi_inside): when the workspace clips and its supports are
+ * ordered, the run of levels whose support holds y, found by bisection;
+ * otherwise all levels. */
+void qc_cell_mi_reach(const qc_cell_mi *w, double y, size_t *x0, size_t *x1);
 
 /* I(X;Y_q) in nats for sorted thresholds t (length w->nt); if grad is
  * not NULL, also ∂I/∂t_j = Σ_x r(x) f(t_j|x) [log(P(j|x)/q(j)) −
@@ -96,13 +119,24 @@ qc_status qc_uniform_newton(qc_cell_mi *w, double scale, double *lo_end, double 
  * quantizer on [a, b] into t. */
 void qc_uniform_thresholds(double a, double b, size_t nt, double *t);
 
+/* A cheaper rate within err nats of another (the clipped rate of the
+ * exact one): a step it puts more than eps + 2·err below the start costs
+ * the other rate more than eps too, and need not be rated by it. */
+typedef struct {
+    qc_threshold_objective f;
+    void *ctx;
+    double err;
+} qc_rate_screen;
+
 /* Where the rate is flat in the range (saturation), a reproducible range
  * among the equally good ones: the half-width h, then the centre c, each
  * moved to the middle of the interval over which `f` stays within eps of
- * its value at t (continuous outputs, nt ≥ 2; counts: t is unchanged). */
+ * its value at t (continuous outputs, nt ≥ 2; counts: t is unchanged).
+ * screen (may be NULL) tells steps that cost more than eps without
+ * rating them by f; the result is the one f alone gives. */
 qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nlevels,
-                          size_t nt, qc_threshold_objective f, void *ctx, double eps,
-                          double *t);
+                          size_t nt, qc_threshold_objective f, void *ctx,
+                          const qc_rate_screen *screen, double eps, double *t);
 
 /* ---- lloyd_max.c ------------------------------------------------------ */
 
@@ -160,10 +194,16 @@ qc_status qc_discretize_clipped(const qc_model *model, const double *levels,
  * qc_discretize_into (clip 0) or qc_discretize_clipped (clip 1) computes
  * them; the rows of the others are set to 0 without a model call, so
  * that a law on few of many levels pays only for those it sends. For the
- * rates of that law, which never read those rows. */
+ * rates of that law, which never read those rows. written: NULL, or two
+ * entries per row, the cells [written[2x], written[2x + 1]) of row x that
+ * may be nonzero (all others 0; both 0 for a row of zeros): only what
+ * lies there outside the new band is cleared, and each becomes its row's
+ * new band, so that a clipped channel of many levels, rated again and
+ * again, does not clear whole rows. */
 qc_status qc_discretize_sent(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, const double *t,
-                             size_t n, int clip, double *lo, double *hi, qc_dmc *d);
+                             size_t n, int clip, double *lo, double *hi, size_t *written,
+                             qc_dmc *d);
 
 /* The two tails of Y given level x at y: *lo = P(Y < y), *hi = P(Y ≥ y)
  * (the model's joint tails where it has them, as the discretizer takes
@@ -285,7 +325,9 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
  * I(X;Y_q) at the thresholds t whose channel, output law and log ratios
  * the workspace holds (qc_cell_mi_eval was just called at t), by the exact
  * formulas of refine.c; h is the difference step of the density's slope.
- * f: nt × nlevels scratch (left holding the densities at t), F: nt.
+ * f: nt × nlevels scratch (f[j·nlevels + x] left holding the density at
+ * t_j of each level x that reaches t_j, qc_cell_mi_reach; the other
+ * entries are not set), F: nt.
  * Returns 0 when they are not finite (densities beyond the range of
  * doubles, as in the noiseless limit). For a large channel, and a model
  * several threads may evaluate at once, the thresholds are shared among

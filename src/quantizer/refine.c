@@ -36,8 +36,9 @@
 #define TRIAL_HOME 0.05        /* × spacing: a trial this near the incumbent ends */
 
 /* Threshold j's share of qc_cell_mi_derivatives: the density f(t_j|x) of
- * every level into f[j·nx + x] (0 where it vanishes), g[j], hd[j] and
- * F[j] = Σ_x r f; 0 when g[j] or hd[j] is not finite. */
+ * the levels that reach t_j (qc_cell_mi_reach; the others add nothing)
+ * into f[j·nx + x] (0 where it vanishes), g[j], hd[j] and F[j] = Σ_x r f;
+ * 0 when g[j] or hd[j] is not finite. */
 static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t j,
                           double *g, double *hd, double *f, double *F)
 {
@@ -45,7 +46,9 @@ static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t
     const qc_model_type *ty = qc_model_get_type(w->model);
     const double *P = w->channel->p, *q = w->q, *lr = w->lr, *r = w->input;
     double gj = 0.0, hj = 0.0, Fj = 0.0;
-    for (size_t x = 0; x < nx; x++) {
+    size_t x0, x1;
+    qc_cell_mi_reach(w, t[j], &x0, &x1);
+    for (size_t x = x0; x < x1; x++) {
         double *fx = f + j * nx + x;
         *fx = 0.0;
         if (!(r[x] > 0.0) || !qc_cell_mi_inside(w, x, t[j]))
@@ -75,14 +78,18 @@ static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t
     return isfinite(gj) && isfinite(hj);
 }
 
-/* ho[j − 1]: the coupling of thresholds j − 1 and j through cell j. */
-static void coupling(const qc_cell_mi *w, size_t j, const double *f, const double *F,
-                     double *ho)
+/* ho[j − 1]: the coupling of thresholds j − 1 and j through cell j; only
+ * the levels that reach both add to it (f of the others is 0 or unset). */
+static void coupling(const qc_cell_mi *w, const double *t, size_t j, const double *f,
+                     const double *F, double *ho)
 {
     const size_t nx = w->nlevels, k = w->nt + 1;
     const double *P = w->channel->p, *q = w->q, *r = w->input;
+    size_t a0, a1, b0, b1;
+    qc_cell_mi_reach(w, t[j - 1], &a0, &a1);
+    qc_cell_mi_reach(w, t[j], &b0, &b1);
     double off = 0.0;
-    for (size_t x = 0; x < nx; x++) {
+    for (size_t x = a0 > b0 ? a0 : b0; x < a1 && x < b1; x++) {
         double d = f[j * nx + x];
         if (d > 0.0 && P[x * k + j] > 0.0)
             off += r[x] * f[(j - 1) * nx + x] * d / P[x * k + j];
@@ -103,14 +110,14 @@ int qc_cell_mi_derivatives(const qc_cell_mi *w, const double *t, double h, doubl
             return 0; /* densities beyond the range of doubles */
 #pragma omp parallel for schedule(static)
         for (size_t j = 1; j < nt; j++)
-            coupling(w, j, f, F, ho);
+            coupling(w, t, j, f, F, ho);
         return 1;
     }
     for (size_t j = 0; j < nt; j++) {
         if (!threshold_sums(w, t, h, j, g, hd, f, F))
             return 0;
         if (j > 0)
-            coupling(w, j, f, F, ho);
+            coupling(w, t, j, f, F, ho);
     }
     return 1;
 }

@@ -540,12 +540,35 @@ static qc_status center_coordinate(qc_threshold_objective f, void *ctx, size_t n
     return st;
 }
 
+/* The rates of the tidy: f, its value v0 at the search's thresholds t0
+ * (rated when first needed), and the screen with its value s0 there. */
+typedef struct {
+    qc_threshold_objective f;
+    void *ctx;
+    const qc_rate_screen *screen; /* NULL: every step rated by f */
+    const double *t0;
+    size_t nt;
+    double eps, v0, s0;
+    int have_v0;
+} tidy_rates;
+
+/* r->v0, once. */
+static qc_status start_rate(tidy_rates *r)
+{
+    if (r->have_v0)
+        return QC_OK;
+    qc_status st = r->f(r->ctx, r->t0, r->nt, &r->v0);
+    r->have_v0 = st == QC_OK;
+    return st;
+}
+
 /* Whether coordinate *p (the centre or the half-width) is flat: a step of
- * `step` to either side keeps the rate ≥ floor_v (as for the thresholds
- * of the other strategies, tidy.c). *p is left as it was. */
-static qc_status coordinate_flat(qc_threshold_objective f, void *ctx, size_t nt, double *c,
-                                 double *h, int which, double step, double floor_v,
-                                 double *t, int *flat)
+ * `step` to either side keeps the rate ≥ v0 − eps (as for the thresholds
+ * of the other strategies, tidy.c). A step the screen puts more than
+ * eps + 2·err below its own start is not flat without rating it by f.
+ * *p is left as it was. */
+static qc_status coordinate_flat(tidy_rates *r, double *c, double *h, int which,
+                                 double step, double *t, int *flat)
 {
     double *p = which ? h : c;
     const double p0 = *p;
@@ -554,24 +577,37 @@ static qc_status coordinate_flat(qc_threshold_objective f, void *ctx, size_t nt,
     for (int side = 0; side < 2 && *flat && st == QC_OK; side++) {
         double v;
         *p = side ? p0 + step : p0 - step;
-        st = range_rate(f, ctx, nt, *c, *h, t, &v);
-        *flat = v >= floor_v;
+        if (r->screen) {
+            if ((st = range_rate(r->screen->f, r->screen->ctx, r->nt, *c, *h, t, &v)) !=
+                QC_OK)
+                break;
+            if (v < r->s0 - r->eps - 2.0 * r->screen->err) {
+                *flat = 0;
+                break;
+            }
+        }
+        if ((st = start_rate(r)) != QC_OK)
+            break;
+        st = range_rate(r->f, r->ctx, r->nt, *c, *h, t, &v);
+        *flat = v >= r->v0 - r->eps;
     }
     *p = p0;
     return st;
 }
 
 qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nlevels,
-                          size_t nt, qc_threshold_objective f, void *ctx, double eps,
-                          double *t)
+                          size_t nt, qc_threshold_objective f, void *ctx,
+                          const qc_rate_screen *screen, double eps, double *t)
 {
     if (qc_model_get_type(model)->output == QC_OUTPUT_COUNTS || nt < 2 || !(eps > 0.0))
         return QC_OK;
     double *u = qc_malloc_array(nt, sizeof *u);
     if (!u)
         return qc_fail(QC_ENOMEM, "out of memory");
-    double v0;
-    qc_status st = f(ctx, t, nt, &v0);
+    tidy_rates r = {f, ctx, screen, t, nt, eps, NAN, NAN, 0};
+    qc_status st = screen ? screen->f(screen->ctx, t, nt, &r.s0) : start_rate(&r);
+    if (st == QC_OK && screen && !isfinite(r.s0))
+        r.screen = NULL; /* nothing to screen against */
     const double w = t[1] - t[0], K = (double)(nt + 1);
     double h = 0.5 * K * w, c = t[0] - w + h;
     double lo, hi;
@@ -582,11 +618,12 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
     int moved = 0;
     for (int which = 1; which >= 0 && st == QC_OK; which--) { /* h, then c */
         int flat = 0;
-        st = coordinate_flat(f, ctx, nt, &c, &h, which, FLAT_PROBE * w, v0 - eps, u, &flat);
-        if (st == QC_OK && flat) {
-            st = which ? center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, v0 - eps, u)
+        st = coordinate_flat(&r, &c, &h, which, FLAT_PROBE * w, u, &flat);
+        if (st == QC_OK && flat) { /* flat: f has rated v0 */
+            const double floor_v = r.v0 - eps;
+            st = which ? center_coordinate(f, ctx, nt, &c, &h, 1, 0.0, hmax, floor_v, u)
                        : center_coordinate(f, ctx, nt, &c, &h, 0, fmin(lo, c), fmax(hi, c),
-                                           v0 - eps, u);
+                                           floor_v, u);
             moved = 1;
         }
     }
@@ -596,7 +633,7 @@ qc_status qc_uniform_tidy(const qc_model *model, const double *levels, size_t nl
         int ordered = 1;
         for (size_t j = 1; j < nt; j++)
             ordered = ordered && u[j] > u[j - 1];
-        if (ordered && (st = f(ctx, u, nt, &v)) == QC_OK && v >= v0 - eps)
+        if (ordered && (st = f(ctx, u, nt, &v)) == QC_OK && v >= r.v0 - eps)
             for (size_t j = 0; j < nt; j++)
                 t[j] = u[j];
     }

@@ -75,7 +75,7 @@ static int run_uniform(void *p)
         return 1;
     /* the strategy's tolerance: 1e-13 bit */
     return u->tidy && qc_uniform_tidy(u->m, u->levels, u->nlevels, u->nt, qc_cell_mi_objective, u->w,
-                                      1e-13 / QC_LOG2E, u->t) != QC_OK;
+                                      NULL, 1e-13 / QC_LOG2E, u->t) != QC_OK;
 }
 
 static int run_eval(void *p)

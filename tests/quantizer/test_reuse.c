@@ -6,7 +6,12 @@
  * full bisections written out here as the reference, and the levels a law
  * does not send, skipped by the rates and searches of its thresholds
  * (discretize.c, cell_mi.c, relocate.c, lloyd_max.c), against the same
- * problem on the sent levels alone. */
+ * problem on the sent levels alone, and the cells and levels a clipped
+ * rate passes over (cells beyond a level's support, cleared only where a
+ * row's band has moved; levels whose support does not reach a threshold),
+ * against a channel computed afresh and sums over every level, and the
+ * uniform range's choice among equally good ranges with the clipped rate
+ * as its screen, against that choice on the exact rate alone. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -251,7 +256,8 @@ static void test_tidy_same_as_full_bisection(void **state)
         double *t = malloc(nt * sizeof *t), *ref = malloc(nt * sizeof *ref);
         assert_int_equal(qc_uniform_search(m, levels, n, nt, w, t, NULL, NULL), QC_OK);
         memcpy(ref, t, nt * sizeof *t);
-        assert_int_equal(qc_uniform_tidy(m, levels, n, nt, qc_cell_mi_objective, w, EPS_NATS, t), QC_OK);
+        assert_int_equal(
+            qc_uniform_tidy(m, levels, n, nt, qc_cell_mi_objective, w, NULL, EPS_NATS, t), QC_OK);
         assert_int_equal(full_tidy(m, levels, n, nt, qc_cell_mi_objective, w, EPS_NATS, ref), QC_OK);
         for (size_t j = 0; j < nt; j++)
             if (!same_bits(t[j], ref[j]))
@@ -351,6 +357,195 @@ static void test_unsent_levels_skipped(void **state)
     qc_model_free(m);
 }
 
+/* A clipped workspace rated at thresholds whose bands move (a wide range,
+ * a narrow one, the law then changed to leave levels unsent) holds, to the
+ * last bit, the channel and output law computed afresh at the last
+ * thresholds: what a row's old band left behind is cleared. 256 levels
+ * and 512 cells, so that rows and the output law are shared among threads
+ * where there are several. */
+static void test_clipped_bands_moved(void **state)
+{
+    (void)state;
+    enum { N = 256, NT = 511 };
+    qc_model *m = gauss(3.0);
+    double *levels = malloc(N * sizeof *levels), *law = malloc(N * sizeof *law);
+    double *ta = malloc(NT * sizeof *ta), *tb = malloc(NT * sizeof *tb);
+    double *q = malloc((NT + 1) * sizeof *q);
+    assert_true(levels && law && ta && tb && q);
+    for (size_t i = 0; i < N; i++) {
+        levels[i] = 2.0 * (double)i - (double)(N - 1);
+        law[i] = 1.0 / N;
+    }
+    range_thresholds(0.0, 420.0, NT, ta);
+    range_thresholds(-30.0, 200.0, NT, tb);
+    qc_cell_mi *w;
+    assert_int_equal(qc_cell_mi_alloc(m, levels, law, N, NT, &w), QC_OK);
+    w->clip = 1;
+    double mi;
+    for (int pass = 0; pass < 2; pass++) {
+        if (pass == 1) { /* every third level unsent */
+            double total = 0.0;
+            for (size_t i = 0; i < N; i++)
+                total += law[i] = i % 3 == 1 ? 0.0 : 1.0 + (double)(i % 5);
+            for (size_t i = 0; i < N; i++)
+                law[i] /= total;
+        }
+        assert_int_equal(qc_cell_mi_eval(w, ta, &mi, NULL), QC_OK);
+        assert_int_equal(qc_cell_mi_eval(w, tb, &mi, NULL), QC_OK);
+        qc_dmc *d;
+        assert_int_equal(qc_dmc_alloc(N, NT + 1, &d), QC_OK);
+        double *lo = malloc((NT + 1) * sizeof *lo), *hi = malloc((NT + 1) * sizeof *hi);
+        assert_true(lo && hi);
+        assert_int_equal(qc_discretize_clipped(m, levels, N, tb, NT, lo, hi, d), QC_OK);
+        size_t moved = 0; /* cells a band at ta held that tb's band does not */
+        for (size_t i = 0; i < N; i++)
+            for (size_t c = 0; c <= NT; c++) {
+                double want = law[i] > 0.0 ? d->p[i * (NT + 1) + c] : 0.0;
+                assert_true(same_bits(w->channel->p[i * (NT + 1) + c], want));
+                moved += want == 0.0 && c >= qc_count_below(ta, NT, w->sup_lo[i], 0) &&
+                         c <= qc_count_below(ta, NT, w->sup_hi[i], 1);
+            }
+        assert_true(moved > N); /* the case does move the bands */
+        qc_output_law(d, law, q);
+        for (size_t c = 0; c <= NT; c++)
+            assert_true(same_bits(w->q[c], q[c]));
+        qc_cell_mi *fresh; /* the rate, from a workspace rated once */
+        double mi_fresh;
+        assert_int_equal(qc_cell_mi_alloc(m, levels, law, N, NT, &fresh), QC_OK);
+        fresh->clip = 1;
+        assert_int_equal(qc_cell_mi_eval(fresh, tb, &mi_fresh, NULL), QC_OK);
+        assert_true(same_bits(mi, mi_fresh));
+        qc_cell_mi_free(fresh);
+        qc_dmc_free(d);
+        free(lo);
+        free(hi);
+    }
+    qc_cell_mi_free(w);
+    free(levels);
+    free(law);
+    free(ta);
+    free(tb);
+    free(q);
+    qc_model_free(m);
+}
+
+/* The levels a clipped workspace takes as reaching y (qc_cell_mi_reach)
+ * are exactly those inside at y, and the gradient and curvature summed
+ * over them alone are, to the last bit, those summed over every level.
+ * 200 levels of unequal spacing, 300 thresholds. */
+static void test_clipped_reach(void **state)
+{
+    (void)state;
+    enum { N = 200, NT = 299 };
+    qc_model *m = gauss(1.5);
+    double levels[N], law[N];
+    for (size_t i = 0; i < N; i++) {
+        levels[i] = 1.5 * (double)i + 0.4 * sin(0.7 * (double)i) - 150.0;
+        law[i] = (1.0 + (double)(i % 4)) / (2.5 * N);
+    }
+    qc_cell_mi *w;
+    assert_int_equal(qc_cell_mi_alloc(m, levels, law, N, NT, &w), QC_OK);
+    w->clip = 1;
+    assert_true(w->supports_ordered);
+    for (double y = -175.0; y <= 175.0; y += 0.37) {
+        size_t x0, x1;
+        qc_cell_mi_reach(w, y, &x0, &x1);
+        for (size_t x = 0; x < N; x++)
+            assert_int_equal(x >= x0 && x < x1, qc_cell_mi_inside(w, x, y));
+    }
+    double t[NT];
+    range_thresholds(0.0, 160.0, NT, t);
+    double mi, g[2][NT], hd[2][NT], ho[2][NT], F[2][NT];
+    double *f = malloc((size_t)NT * N * sizeof *f);
+    assert_non_null(f);
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    for (int all = 0; all < 2; all++) {
+        w->supports_ordered = !all; /* all: every level's terms are summed */
+        assert_true(qc_cell_mi_derivatives(w, t, 1e-5, g[all], hd[all], ho[all], f, F[all]));
+    }
+    for (size_t j = 0; j < NT; j++) {
+        assert_true(same_bits(g[0][j], g[1][j]));
+        assert_true(same_bits(hd[0][j], hd[1][j]));
+        assert_true(same_bits(F[0][j], F[1][j]));
+        if (j + 1 < NT)
+            assert_true(same_bits(ho[0][j], ho[1][j]));
+    }
+    free(f);
+    qc_cell_mi_free(w);
+    qc_model_free(m);
+}
+
+static size_t exact_calls; /* rates of exact_rate since the last reset */
+
+static qc_status exact_rate(void *ctx, const double *t, size_t nt, double *v)
+{
+    exact_calls++;
+    return qc_cell_mi_objective(ctx, t, nt, v);
+}
+
+static qc_status clipped_rate(void *ctx, const double *t, size_t nt, double *v)
+{
+    qc_cell_mi *w = ctx;
+    w->clip = 1;
+    qc_status st = qc_cell_mi_objective(w, t, nt, v);
+    w->clip = 0;
+    return st;
+}
+
+/* The choice among equally good uniform ranges with the clipped rate as a
+ * screen gives, to the last bit, the thresholds it gives on the exact rate
+ * alone: PAM-64 at 20 dB with 128 cells, whose range the rate pins down
+ * (the screen spares every exact rate but none is needed), and at 60 dB,
+ * saturated, where both coordinates are flat and move (the exact rate
+ * decides). */
+static void test_tidy_screen(void **state)
+{
+    (void)state;
+    enum { N = 64, NT = 127 };
+    const double snr_db[2] = {20.0, 60.0};
+    double levels[N], law[N], power = 0.0;
+    for (size_t i = 0; i < N; i++) {
+        levels[i] = 2.0 * (double)i - (double)(N - 1);
+        law[i] = 1.0 / N;
+        power += law[i] * levels[i] * levels[i];
+    }
+    for (int k = 0; k < 2; k++) {
+        qc_model *m = gauss(sqrt(power / pow(10.0, snr_db[k] / 10.0)));
+        qc_cell_mi *w;
+        assert_int_equal(qc_cell_mi_alloc(m, levels, law, N, NT, &w), QC_OK);
+        double t[NT], plain[NT], screened[NT];
+        w->clip = 1;
+        assert_int_equal(qc_uniform_search(m, levels, N, NT, w, t, NULL, NULL), QC_OK);
+        w->clip = 0;
+        memcpy(plain, t, sizeof t);
+        memcpy(screened, t, sizeof t);
+        const qc_rate_screen screen = {clipped_rate, w, QC_CLIP_RATE_BITS / QC_LOG2E};
+        exact_calls = 0;
+        assert_int_equal(
+            qc_uniform_tidy(m, levels, N, NT, exact_rate, w, NULL, EPS_NATS, plain), QC_OK);
+        const size_t plain_calls = exact_calls;
+        exact_calls = 0;
+        assert_int_equal(
+            qc_uniform_tidy(m, levels, N, NT, exact_rate, w, &screen, EPS_NATS, screened),
+            QC_OK);
+        size_t moved = 0;
+        for (size_t j = 0; j < NT; j++) {
+            assert_true(same_bits(plain[j], screened[j]));
+            moved += plain[j] != t[j];
+        }
+        if (k == 0) { /* pinned: nothing moves, no exact rate needed */
+            assert_int_equal(moved, 0);
+            assert_true(plain_calls >= 3);
+            assert_int_equal(exact_calls, 0);
+        } else { /* flat: the range moves, as the exact rate decides */
+            assert_true(moved > 0);
+            assert_true(exact_calls > 0);
+        }
+        qc_cell_mi_free(w);
+        qc_model_free(m);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -358,6 +553,9 @@ int main(void)
         cmocka_unit_test(test_memo),
         cmocka_unit_test(test_tidy_same_as_full_bisection),
         cmocka_unit_test(test_unsent_levels_skipped),
+        cmocka_unit_test(test_clipped_bands_moved),
+        cmocka_unit_test(test_clipped_reach),
+        cmocka_unit_test(test_tidy_screen),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
