@@ -14,6 +14,24 @@
 
 #define LAW_TOL 1e-9
 
+/* Row x's share of pass 0 (Σ_y P i, i the information density) or pass 1
+ * (Σ_y P (i − mean)²), its terms added in the order of the outputs. */
+static double row_share(const qc_dmc *dmc, const double *logq, size_t x, int pass,
+                        double mean)
+{
+    const double *row = dmc->p + x * dmc->ny;
+    double acc = 0.0;
+    for (size_t y = 0; y < dmc->ny; y++) {
+        /* 0·log 0 = 0; q(y) ≥ r(x)P(y|x), which underflows to 0 only when
+         * the term r(x)·P(y|x)·i is below every double */
+        if (!(row[y] > 0.0) || !(logq[y] > -INFINITY))
+            continue;
+        double i = log(row[y]) - logq[y];
+        acc += pass == 0 ? row[y] * i : row[y] * (i - mean) * (i - mean);
+    }
+    return acc;
+}
+
 qc_status qc_dispersion(const qc_dmc *dmc, const double *input, double *mi_nats,
                         double *v_nats2)
 {
@@ -29,33 +47,40 @@ qc_status qc_dispersion(const qc_dmc *dmc, const double *input, double *mi_nats,
     if (fabs(s - 1.0) > LAW_TOL)
         return qc_fail(QC_EINVAL, "input probabilities sum to %.17g, expected 1", s);
     double *logq = qc_malloc_array(dmc->ny, sizeof *logq);
-    if (!logq)
+    double *share = qc_malloc_array(dmc->nx, sizeof *share);
+    if (!logq || !share) {
+        free(logq);
+        free(share);
         return qc_fail(QC_ENOMEM, "out of memory");
+    }
     qc_output_law(dmc, input, logq);
     for (size_t y = 0; y < dmc->ny; y++)
         logq[y] = logq[y] > 0.0 ? log(logq[y]) : -INFINITY;
-    /* two passes: the mean I, then the variance about it */
+    /* two passes: the mean I, then the variance about it; the rows' shares
+     * (in OpenMP threads for a large channel), then their sum in the order
+     * of the inputs, in this thread */
+    const int threads = qc_parallel_worth(dmc->nx * dmc->ny);
     double mean = 0.0, var = 0.0;
-    for (int pass = 0; pass < 2; pass++)
+    for (int pass = 0; pass < 2; pass++) {
+        if (threads) {
+#pragma omp parallel for schedule(dynamic, 16)
+            for (size_t x = 0; x < dmc->nx; x++)
+                share[x] = input[x] > 0.0 ? row_share(dmc, logq, x, pass, mean) : 0.0;
+        } else {
+            for (size_t x = 0; x < dmc->nx; x++)
+                share[x] = input[x] > 0.0 ? row_share(dmc, logq, x, pass, mean) : 0.0;
+        }
         for (size_t x = 0; x < dmc->nx; x++) {
             if (!(input[x] > 0.0))
                 continue;
-            const double *row = dmc->p + x * dmc->ny;
-            double acc = 0.0;
-            for (size_t y = 0; y < dmc->ny; y++) {
-                /* 0·log 0 = 0; q(y) ≥ r(x)P(y|x), which underflows to 0
-                 * only when the term r(x)·P(y|x)·i is below every double */
-                if (!(row[y] > 0.0) || !(logq[y] > -INFINITY))
-                    continue;
-                double i = log(row[y]) - logq[y];
-                acc += pass == 0 ? row[y] * i : row[y] * (i - mean) * (i - mean);
-            }
             if (pass == 0)
-                mean += input[x] * acc;
+                mean += input[x] * share[x];
             else
-                var += input[x] * acc;
+                var += input[x] * share[x];
         }
+    }
     free(logq);
+    free(share);
     if (!isfinite(mean) || !isfinite(var))
         return qc_fail(QC_ENUMERIC, "dispersion: information density is not finite");
     if (mi_nats)

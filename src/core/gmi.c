@@ -83,37 +83,72 @@ double qc_bit_term(double p0, double p1)
 
 #define GMI_BLOCK 64 /* outputs whose bit masses are gathered in one pass */
 
+/* The terms H(B_b|Y = y) of the outputs y0 .. y0 + ny − 1 into
+ * terms[(y − y0)·nbits + b]; joint: scratch of ny × 2·nbits. The rows are
+ * read in the order they are stored, and every output's masses add the
+ * inputs in order. */
+static void bit_terms(const qc_dmc *dmc, const double *input, const size_t *labels,
+                      unsigned nbits, size_t y0, size_t ny, double *joint, double *terms)
+{
+    const size_t per_y = 2 * (size_t)nbits; /* joint masses of one output */
+    memset(joint, 0, ny * per_y * sizeof *joint);
+    for (size_t x = 0; x < dmc->nx; x++) {
+        const double *row = dmc->p + x * dmc->ny + y0;
+        for (size_t y = 0; y < ny; y++) {
+            double p = input[x] * row[y];
+            if (!(p > 0.0))
+                continue;
+            for (unsigned b = 0; b < nbits; b++)
+                joint[y * per_y + 2 * b + ((labels[x] >> b) & 1)] += p;
+        }
+    }
+    for (size_t y = 0; y < ny; y++)
+        for (unsigned b = 0; b < nbits; b++)
+            terms[y * nbits + b] =
+                qc_bit_term(joint[y * per_y + 2 * b], joint[y * per_y + 2 * b + 1]);
+}
+
+/* Outputs in the block that starts at y0. */
+static size_t block_outputs(const qc_dmc *dmc, size_t y0)
+{
+    return dmc->ny - y0 < GMI_BLOCK ? dmc->ny - y0 : GMI_BLOCK;
+}
+
 qc_status qc_gmi(const qc_dmc *dmc, const double *input, const size_t *labels,
                  unsigned nbits, double *gmi_nats)
 {
     qc_status st = qc_check_labels(input, dmc->nx, labels, nbits);
     if (st != QC_OK)
         return st;
-    const size_t per_y = 2 * (size_t)nbits; /* joint masses of one output */
-    double *joint = qc_malloc_array(GMI_BLOCK * per_y, sizeof *joint);
-    if (!joint)
+    const size_t blocks = (dmc->ny + GMI_BLOCK - 1) / GMI_BLOCK;
+    const int threads = qc_parallel_worth(dmc->nx * dmc->ny);
+    /* the terms of every output (blocks of outputs shared among OpenMP
+     * threads for a large channel, each with its own masses), then their
+     * sum in the order of the outputs and bits, in this thread */
+    double *terms = qc_malloc_array(dmc->ny * (size_t)nbits, sizeof *terms);
+    const size_t block_joint = GMI_BLOCK * 2 * (size_t)nbits; /* one block's masses */
+    double *joint = qc_malloc_array((threads ? blocks : 1) * block_joint, sizeof *joint);
+    if (!terms || !joint) {
+        free(terms);
+        free(joint);
         return qc_fail(QC_ENOMEM, "out of memory");
-    double hx = qc_entropy(input, dmc->nx), hb = 0.0;
-    /* the outputs in blocks, each block's rows read in the order they are
-     * stored; every output's masses add the inputs in order, and its
-     * terms join hb in the order of the outputs */
-    for (size_t y0 = 0; y0 < dmc->ny; y0 += GMI_BLOCK) {
-        const size_t ny = dmc->ny - y0 < GMI_BLOCK ? dmc->ny - y0 : GMI_BLOCK;
-        memset(joint, 0, ny * per_y * sizeof *joint);
-        for (size_t x = 0; x < dmc->nx; x++) {
-            const double *row = dmc->p + x * dmc->ny + y0;
-            for (size_t y = 0; y < ny; y++) {
-                double p = input[x] * row[y];
-                if (!(p > 0.0))
-                    continue;
-                for (unsigned b = 0; b < nbits; b++)
-                    joint[y * per_y + 2 * b + ((labels[x] >> b) & 1)] += p;
-            }
-        }
-        for (size_t y = 0; y < ny; y++)
-            for (unsigned b = 0; b < nbits; b++)
-                hb += qc_bit_term(joint[y * per_y + 2 * b], joint[y * per_y + 2 * b + 1]);
     }
+    if (threads) {
+#pragma omp parallel for schedule(dynamic)
+        for (size_t k = 0; k < blocks; k++) {
+            const size_t y0 = k * GMI_BLOCK;
+            bit_terms(dmc, input, labels, nbits, y0, block_outputs(dmc, y0),
+                      joint + k * block_joint, terms + y0 * nbits);
+        }
+    } else {
+        for (size_t y0 = 0; y0 < dmc->ny; y0 += GMI_BLOCK)
+            bit_terms(dmc, input, labels, nbits, y0, block_outputs(dmc, y0), joint,
+                      terms + y0 * nbits);
+    }
+    double hx = qc_entropy(input, dmc->nx), hb = 0.0;
+    for (size_t i = 0; i < dmc->ny * (size_t)nbits; i++)
+        hb += terms[i];
+    free(terms);
     free(joint);
     double g = hx - hb;
     *gmi_nats = g > 0.0 ? g : 0.0;

@@ -48,12 +48,9 @@ qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
         qc_cell_mi_free(w);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    w->supports_ordered = 1;
-    for (size_t x = 0; x < nlevels; x++) {
+    for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &w->sup_lo[x], &w->sup_hi[x]);
-        if (x > 0 && !(w->sup_lo[x] >= w->sup_lo[x - 1] && w->sup_hi[x] >= w->sup_hi[x - 1]))
-            w->supports_ordered = 0;
-    }
+    w->supports_ordered = qc_supports_ordered(w->sup_lo, w->sup_hi, nlevels);
     *out = w;
     return QC_OK;
 }
@@ -77,31 +74,12 @@ void qc_cell_mi_free(qc_cell_mi *w)
 
 void qc_cell_mi_reach(const qc_cell_mi *w, double y, size_t *x0, size_t *x1)
 {
-    size_t a = 0, b = w->nlevels;
     if (w->clip && w->supports_ordered) {
-        /* the first level whose support ends above y, and the first
-         * whose support starts at or above it */
-        size_t lo = 0, hi = w->nlevels;
-        while (lo < hi) {
-            size_t mid = lo + (hi - lo) / 2;
-            if (w->sup_hi[mid] > y)
-                hi = mid;
-            else
-                lo = mid + 1;
-        }
-        a = lo;
-        hi = w->nlevels;
-        while (lo < hi) {
-            size_t mid = lo + (hi - lo) / 2;
-            if (w->sup_lo[mid] < y)
-                lo = mid + 1;
-            else
-                hi = mid;
-        }
-        b = lo;
+        qc_supports_holding(w->sup_lo, w->sup_hi, w->nlevels, y, 0, x0, x1);
+    } else {
+        *x0 = 0;
+        *x1 = w->nlevels;
     }
-    *x0 = a;
-    *x1 = b;
 }
 
 /* log with the zero cell mapped to the smallest normal number, so that a

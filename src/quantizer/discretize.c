@@ -57,6 +57,39 @@ size_t qc_count_below(const double *t, size_t n, double y, int strict)
     return lo;
 }
 
+int qc_supports_ordered(const double *lo, const double *hi, size_t n)
+{
+    for (size_t x = 1; x < n; x++)
+        if (!(lo[x] >= lo[x - 1] && hi[x] >= hi[x - 1]))
+            return 0;
+    return 1;
+}
+
+void qc_supports_holding(const double *lo, const double *hi, size_t n, double y, int closed,
+                         size_t *a, size_t *b)
+{
+    /* the first level whose support ends above y (at or above: closed) */
+    size_t l = 0, h = n;
+    while (l < h) {
+        size_t mid = l + (h - l) / 2;
+        if (closed ? hi[mid] >= y : hi[mid] > y)
+            h = mid;
+        else
+            l = mid + 1;
+    }
+    *a = l;
+    /* then the first whose support starts above y (at or above: open) */
+    h = n;
+    while (l < h) {
+        size_t mid = l + (h - l) / 2;
+        if (closed ? lo[mid] <= y : lo[mid] < y)
+            l = mid + 1;
+        else
+            h = mid;
+    }
+    *b = l;
+}
+
 /* Sets row[c] = 0 for the cells c of [w[0], w[1]) outside [keep0, keep1)
  * and then w = [keep0, keep1): `w` holds the cells of a row that may be
  * nonzero, so that a row whose band moves clears only what it leaves. */

@@ -102,6 +102,33 @@ static void reach_init(cell_fn *f, const qc_dmc *d, const double *r)
             f->upto[k] = f->upto[k - 1];
 }
 
+/* Input j's sums from its nearer tail (cell_fn's cum) into col[0 .. n],
+ * its median boundary and total into f; row: its n fine outputs. */
+static void tail_sums(cell_fn *f, size_t j, const double *row, double *col)
+{
+    const size_t n = f->n;
+    long double s = 0.0L;
+    size_t k = 0;
+    for (; k <= n; k++) { /* from below up to the median */
+        if (s >= 0.5L)
+            break;
+        col[k] = (double)s;
+        if (k < n)
+            s += row[k];
+    }
+    f->med[j] = (uint32_t)k;
+    long double below = k > 0 ? s : 0.0L;
+    s = 0.0L;
+    for (size_t i = n + 1; i-- > k;) { /* from above down to it */
+        if (i < n)
+            s += row[i];
+        col[i] = (double)s;
+    }
+    f->tot[j] = (double)(below + s);
+}
+
+#define CUM_BLOCK 8 /* inputs whose sums are written to cum together */
+
 static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
 {
     const size_t n = d->ny;
@@ -116,34 +143,29 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
     f->from = qc_malloc_array(2 * (n + 1), sizeof *f->from);
     f->upto = f->from ? f->from + n + 1 : NULL;
-    if (!f->r || !f->tot || !f->med || !f->cum || !f->from)
+    double *cols = qc_malloc_array(CUM_BLOCK * (n + 1), sizeof *cols);
+    if (!f->r || !f->tot || !f->med || !f->cum || !f->from || !cols) {
+        free(cols);
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
                        d->nx, n);
-    for (size_t x = 0, j = 0; x < d->nx; x++) {
-        if (!(r[x] > 0.0))
-            continue;
-        f->r[j] = r[x];
-        const double *row = d->p + x * n;
-        long double s = 0.0L;
-        size_t k = 0;
-        for (; k <= n; k++) { /* from below up to the median */
-            if (s >= 0.5L)
-                break;
-            f->cum[nx * k + j] = (double)s;
-            if (k < n)
-                s += row[k];
-        }
-        f->med[j] = (uint32_t)k;
-        long double below = k > 0 ? s : 0.0L;
-        s = 0.0L;
-        for (size_t i = n + 1; i-- > k;) { /* from above down to it */
-            if (i < n)
-                s += row[i];
-            f->cum[nx * i + j] = (double)s;
-        }
-        f->tot[j] = (double)(below + s);
-        j++;
     }
+    /* the sums of CUM_BLOCK inputs at a time, each input's in its own
+     * column, then written boundary by boundary into the boundary-major
+     * cum: whole cache lines instead of one double per line */
+    size_t j = 0;
+    for (size_t x = 0; x < d->nx;) {
+        const size_t j0 = j;
+        for (; x < d->nx && j - j0 < CUM_BLOCK; x++)
+            if (r[x] > 0.0) {
+                f->r[j] = r[x];
+                tail_sums(f, j, d->p + x * n, cols + (j - j0) * (n + 1));
+                j++;
+            }
+        for (size_t k = 0; k <= n; k++)
+            for (size_t b = 0; b < j - j0; b++)
+                f->cum[nx * k + j0 + b] = cols[b * (n + 1) + k];
+    }
+    free(cols);
     reach_init(f, d, r);
     return QC_OK;
 }

@@ -303,14 +303,19 @@ static double score(const qc_model *m, double x, double y, double d)
 /* The companding density's value λ(y) = (f(y)·J(y))^(1/3) at one point:
  * f the mixture density, J the variance of the score over the posterior
  * P(x|y). A level adds only within its support (s0, s1) (beyond it, less
- * than ~1e-15 of its mass: the discretizer's convention). dens: scratch
- * of nlevels; d: the score's difference step. */
+ * than ~1e-15 of its mass: the discretizer's convention); ordered
+ * supports: only the run of levels whose support holds y is visited.
+ * dens: scratch of nlevels; d: the score's difference step. */
 static double mixture_point(const qc_model *model, const double *levels,
                             const double *input, size_t nlevels, const double *s0,
-                            const double *s1, double y, double d, double *dens)
+                            const double *s1, int ordered, double y, double d,
+                            double *dens)
 {
     double f = 0.0, sbar = 0.0, j2 = 0.0;
-    for (size_t x = 0; x < nlevels; x++) {
+    size_t x0 = 0, x1 = nlevels;
+    if (ordered)
+        qc_supports_holding(s0, s1, nlevels, y, 1, &x0, &x1);
+    for (size_t x = x0; x < x1; x++) {
         dens[x] = 0.0;
         if (input[x] > 0.0 && y >= s0[x] && y <= s1[x]) {
             dens[x] = qc_model_get_type(model)->density(model, levels[x], y);
@@ -319,7 +324,7 @@ static double mixture_point(const qc_model *model, const double *levels,
     }
     if (f > 0.0 && isfinite(f)) {
         double s1sum = 0.0, s2 = 0.0, wsum = 0.0;
-        for (size_t x = 0; x < nlevels; x++) {
+        for (size_t x = x0; x < x1; x++) {
             if (!(dens[x] > 0.0))
                 continue;
             double p = input[x] * dens[x] / f;
@@ -343,6 +348,7 @@ typedef struct {
     const double *levels, *input;
     size_t nlevels;
     const double *s0, *s1;
+    int ordered;
     double lo, step, d;
     double *lam;
 } mixture_ctx;
@@ -352,7 +358,7 @@ static int mixture_row(size_t i, double *dens, void *p)
 {
     const mixture_ctx *c = p;
     c->lam[i] = mixture_point(c->model, c->levels, c->input, c->nlevels, c->s0, c->s1,
-                              c->lo + c->step * (double)i, c->d, dens);
+                              c->ordered, c->lo + c->step * (double)i, c->d, dens);
     return 0;
 }
 
@@ -381,7 +387,8 @@ qc_status qc_companding_thresholds(const qc_model *model, const double *levels,
     double *s1 = s0 + nlevels;
     for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &s0[x], &s1[x]);
-    mixture_ctx mc = {model, levels, input, nlevels, s0, s1, lo, step, d, lam};
+    const int ordered = qc_supports_ordered(s0, s1, nlevels);
+    mixture_ctx mc = {model, levels, input, nlevels, s0, s1, ordered, lo, step, d, lam};
     qc_status st = QC_OK;
     if (qc_parallel_worth(m * nlevels) && qc_model_thread_safe(model)) {
         /* the points of a large mixture in OpenMP threads, each with its

@@ -14,12 +14,12 @@
  *     rate. With at most one cell per level the local maxima differ in
  *     which gaps between levels hold a threshold, by far more than the
  *     grid's resolution loses, and the DP tells them apart.
- * A wide alphabet takes steps 2 and 3 on the rate with each level's
- * tails clipped at its support (cell_mi.c), and its result is rated
- * exactly.
- * When the grid leaves the DP little choice (fewer than 2K cells, only
- * with a caller-chosen size) the high-resolution companding rule
- * (fine_grid.c) is a second start, taken only if its rate is higher.
+ * When the grid leaves the DP little choice (fewer than 2K cells) the
+ * high-resolution companding rule (fine_grid.c) is a second start, taken
+ * only if its rate is higher.
+ * A wide alphabet compares the two starts and takes steps 2 and 3 on the
+ * rate with each level's tails clipped at its support (cell_mi.c), and
+ * its result is rated exactly.
  * Count outputs whose whole support fits the grid are exact after step 1
  * (every integer threshold is a candidate); wider ones are refined by an
  * integer search. */
@@ -70,6 +70,11 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
     double mi, scale = 1.0;
     if (real)
         scale = qc_noise_scale(model, levels, input, nlevels);
+    /* a wide alphabet: the starts are compared, and its Newton steps and
+     * moves rate, with the tails clipped at the supports (cell_mi.c); the
+     * result is then rated exactly */
+    if (real)
+        w->clip = nlevels >= QC_CLIP_MIN_LEVELS;
     if (real && g->n < COMPANDING_BELOW * K) {
         /* Second start: the high-resolution rule, which matters when the
          * grid is too coarse for the DP to choose much (N close to K). A
@@ -88,9 +93,6 @@ qc_status qc_optimal_thresholds(const qc_model *model, const double *levels,
             memcpy(t_out, comp, nt * sizeof *t_out);
     }
     if (real) {
-        /* a wide alphabet: its Newton steps and moves rate the tails
-         * clipped at the supports (cell_mi.c), then the result exactly */
-        w->clip = nlevels >= QC_CLIP_MIN_LEVELS;
         st = qc_refine_continuous(w, scale, t_out, &mi, iterations);
         if (st == QC_OK && K > levels_sent(input, nlevels))
             st = qc_relocate_thresholds(w, scale, t_out, &mi, iterations);

@@ -213,6 +213,16 @@ void qc_tails_at(const qc_model *model, double x, double y, double *lo, double *
 /* How many of the increasing t[0..n) lie at or below y (strict: below y). */
 size_t qc_count_below(const double *t, size_t n, double y, int strict);
 
+/* Whether neither end of the supports [lo[x], hi[x]] falls from one level
+ * to the next (levels in increasing order, noise that does not shrink
+ * faster than they rise), so that those holding a point form a run. */
+int qc_supports_ordered(const double *lo, const double *hi, size_t n);
+
+/* For ordered supports: the run of levels *a .. *b − 1 whose supports
+ * hold y, lo[x] < y < hi[x] (closed: lo[x] ≤ y ≤ hi[x]), by bisection. */
+void qc_supports_holding(const double *lo, const double *hi, size_t n, double y, int closed,
+                         size_t *a, size_t *b);
+
 /* P(a ≤ Y < b) from the tails at a and at b, taken from the side on which
  * both are small, as the discretizer does (a = −∞: tails 0 and 1; b = +∞:
  * tails 1 and 0). May be slightly negative from rounding. */

@@ -312,15 +312,16 @@ static double gmi_output_by_output(const qc_dmc *d, const double *r, const size_
 }
 
 /* qc_gmi of channels wider than one block of outputs (a partial last
- * block, a third of the entries 0, a law with zeros) is, to the last bit,
- * the sum taken output by output. Each input's outputs crowd near its
+ * block, a third of the entries 0, a law with zeros; the widest shared
+ * among threads where there are several) is, to the last bit, the sum
+ * taken output by output. Each input's outputs crowd near its
  * own place, so that the rate is above 0 and H(X) and the bits' share
  * are close enough for their order of addition to show in its last bits. */
 static void test_gmi_blocks(void **state)
 {
     (void)state;
-    const size_t widths[3] = {63, 64, 301};
-    for (int k = 0; k < 3; k++) {
+    const size_t widths[4] = {63, 64, 301, 2100};
+    for (int k = 0; k < 4; k++) {
         const unsigned nbits = 5;
         const size_t nx = 32, ny = widths[k];
         qc_dmc *d = random_dmc(nx, ny, 0.3);
@@ -344,6 +345,46 @@ static void test_gmi_blocks(void **state)
         assert_memory_equal(&g, &want, sizeof g);
         qc_dmc_free(d);
     }
+}
+
+/* The dispersion of a channel large enough to share its rows among
+ * threads (where there are several) is, to the last bit, the two passes
+ * taken row by row in one thread: 40 inputs (some unsent) × 2000
+ * outputs, a third of the entries 0. */
+static void test_dispersion_rows(void **state)
+{
+    (void)state;
+    enum { NX = 40, NY = 2000 };
+    qc_dmc *d = random_dmc(NX, NY, 0.3);
+    double r[NX], q[NY];
+    random_law(r, NX, 0.2);
+    qc_output_law(d, r, q);
+    for (size_t y = 0; y < NY; y++)
+        q[y] = q[y] > 0.0 ? log(q[y]) : -INFINITY;
+    double mean = 0.0, var = 0.0;
+    for (int pass = 0; pass < 2; pass++)
+        for (size_t x = 0; x < NX; x++) {
+            if (!(r[x] > 0.0))
+                continue;
+            double acc = 0.0;
+            for (size_t y = 0; y < NY; y++) {
+                const double p = d->p[x * NY + y];
+                if (!(p > 0.0) || !(q[y] > -INFINITY))
+                    continue;
+                double i = log(p) - q[y];
+                acc += pass == 0 ? p * i : p * (i - mean) * (i - mean);
+            }
+            if (pass == 0)
+                mean += r[x] * acc;
+            else
+                var += r[x] * acc;
+        }
+    double mi, v;
+    assert_int_equal(qc_dispersion(d, r, &mi, &v), QC_OK);
+    assert_true(mean > 0.0 && var > 0.0);
+    assert_memory_equal(&mi, &mean, sizeof mi);
+    assert_memory_equal(&v, &var, sizeof v);
+    qc_dmc_free(d);
 }
 
 static void test_gmi_properties(void **state)
@@ -913,6 +954,7 @@ int main(void)
         cmocka_unit_test(test_gray_labels),
         cmocka_unit_test(test_gmi_properties),
         cmocka_unit_test(test_gmi_blocks),
+        cmocka_unit_test(test_dispersion_rows),
         cmocka_unit_test(test_unquantized_gmi),
         cmocka_unit_test(test_dispersion_closed_forms),
         cmocka_unit_test(test_normal_approximation),

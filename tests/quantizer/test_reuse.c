@@ -6,10 +6,12 @@
  * full bisections written out here as the reference, and the levels a law
  * does not send, skipped by the rates and searches of its thresholds
  * (discretize.c, cell_mi.c, relocate.c, lloyd_max.c), against the same
- * problem on the sent levels alone, and the cells and levels a clipped
+ * problem on the sent levels alone (and by the grid DP), and the cells
+ * and levels a clipped
  * rate passes over (cells beyond a level's support, cleared only where a
  * row's band has moved; levels whose support does not reach a threshold),
- * against a channel computed afresh and sums over every level, and the
+ * against a channel computed afresh and sums over every level (and the
+ * run of levels whose supports hold a point, against every level), and the
  * uniform range's choice among equally good ranges with the clipped rate
  * as its screen, against that choice on the exact rate alone. */
 #include <setjmp.h>
@@ -475,6 +477,74 @@ static void test_clipped_reach(void **state)
     qc_model_free(m);
 }
 
+/* The grid DP over a channel whose law leaves some levels unsent (their
+ * tail sums skipped, the others gathered eight at a time) gives, to the
+ * last bit, the cuts and rate of the DP over the sent rows alone: 27
+ * levels, 11 of them sent, 400 fine cells into 9. */
+static void test_dp_unsent_rows(void **state)
+{
+    (void)state;
+    enum { N = 27, FINE = 400, K = 9 };
+    qc_dmc *all = random_dmc(N, FINE, 0.4), *sent;
+    double law[N], sent_law[N], total = 0.0;
+    size_t ns = 0;
+    for (size_t i = 0; i < N; i++)
+        total += law[i] = i % 5 == 1 || i % 7 == 3 || i == 25 ? 1.0 + (double)(i % 4) : 0.0;
+    assert_int_equal(qc_dmc_alloc(11, FINE, &sent), QC_OK);
+    for (size_t i = 0; i < N; i++) {
+        law[i] /= total;
+        if (law[i] > 0.0) {
+            memcpy(sent->p + ns * FINE, all->p + i * FINE, FINE * sizeof *all->p);
+            sent_law[ns++] = law[i];
+        }
+    }
+    assert_int_equal(ns, 11);
+    for (int method = 0; method < 2; method++) {
+        const qc_dp_method m = method ? QC_DP_FAST : QC_DP_PLAIN;
+        size_t ca[K + 1], cs[K + 1];
+        double ma, ms;
+        assert_int_equal(qc_dp_quantize(all, law, K, m, ca, &ma), QC_OK);
+        assert_int_equal(qc_dp_quantize(sent, sent_law, K, m, cs, &ms), QC_OK);
+        assert_true(same_bits(ma, ms));
+        assert_memory_equal(ca, cs, sizeof ca);
+    }
+    qc_dmc_free(all);
+    qc_dmc_free(sent);
+}
+
+/* The run of levels whose supports hold a point (qc_supports_holding,
+ * which the companding start's mixture and the clipped gradient visit
+ * instead of every level) is exactly the set of those that hold it, open
+ * or closed, at points inside, between and on the ends of the supports;
+ * supports whose ends fall are not taken as ordered. */
+static void test_supports_holding(void **state)
+{
+    (void)state;
+    enum { N = 300 };
+    double lo[N], hi[N];
+    for (size_t i = 0; i < N; i++) { /* widening, unevenly spaced */
+        double c = 1.3 * (double)i + 0.5 * sin((double)i), w = 2.0 + 0.01 * (double)i;
+        lo[i] = c - w;
+        hi[i] = c + w;
+    }
+    assert_true(qc_supports_ordered(lo, hi, N));
+    for (int closed = 0; closed < 2; closed++)
+        for (size_t k = 0; k < 3 * N + 40; k++) {
+            /* every end, and points spread over and beyond the span */
+            double y = k < N ? lo[k] : k < 2 * N ? hi[k - N]
+                                                 : -10.0 + 0.47 * (double)(k - 2 * N);
+            size_t a, b;
+            qc_supports_holding(lo, hi, N, y, closed, &a, &b);
+            assert_true(a <= b && b <= N);
+            for (size_t x = 0; x < N; x++) {
+                int holds = closed ? lo[x] <= y && y <= hi[x] : lo[x] < y && y < hi[x];
+                assert_int_equal(x >= a && x < b, holds);
+            }
+        }
+    hi[N / 2] = hi[N / 2 - 1] - 1.0; /* an end that falls */
+    assert_false(qc_supports_ordered(lo, hi, N));
+}
+
 static size_t exact_calls; /* rates of exact_rate since the last reset */
 
 static qc_status exact_rate(void *ctx, const double *t, size_t nt, double *v)
@@ -555,6 +625,8 @@ int main(void)
         cmocka_unit_test(test_unsent_levels_skipped),
         cmocka_unit_test(test_clipped_bands_moved),
         cmocka_unit_test(test_clipped_reach),
+        cmocka_unit_test(test_supports_holding),
+        cmocka_unit_test(test_dp_unsent_rows),
         cmocka_unit_test(test_tidy_screen),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
