@@ -119,6 +119,16 @@ qc_status qc_uniform_newton(qc_cell_mi *w, double scale, double *lo_end, double 
  * quantizer on [a, b] into t. */
 void qc_uniform_thresholds(double a, double b, size_t nt, double *t);
 
+/* qc_tidy_thresholds; screen: where the rule can only remove redundant
+ * thresholds (more than are centred, continuous outputs), first rate the
+ * merges on the clipped channel and leave t without an exact rate when
+ * each costs more than the budget plus twice the clipping's error (the
+ * result is the one the exact rate alone gives). qc_tidy_thresholds
+ * screens wide alphabets (QC_CLIP_MIN_LEVELS). */
+qc_status qc_tidy_thresholds_screened(const qc_model *model, const double *levels,
+                                      const double *input, size_t nlevels, size_t nt,
+                                      double eps_nats, int screen, double *t);
+
 /* A cheaper rate within err nats of another (the clipped rate of the
  * exact one): a step it puts more than eps + 2·err below the start costs
  * the other rate more than eps too, and need not be rated by it. */

@@ -383,6 +383,23 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
                              const double *input, size_t nlevels, size_t nt,
                              double eps_nats, double *t)
 {
+    return qc_tidy_thresholds_screened(model, levels, input, nlevels, nt, eps_nats,
+                                       nlevels >= QC_CLIP_MIN_LEVELS, t);
+}
+
+/* Whether t[0..nt) increases strictly. */
+static int increasing(const double *t, size_t nt)
+{
+    for (size_t j = 1; j < nt; j++)
+        if (!(t[j] > t[j - 1]))
+            return 0;
+    return 1;
+}
+
+qc_status qc_tidy_thresholds_screened(const qc_model *model, const double *levels,
+                                      const double *input, size_t nlevels, size_t nt,
+                                      double eps_nats, int screen, double *t)
+{
     if (nt < 1 || nt > TIDY_MAX_THRESHOLDS || !(eps_nats > 0.0))
         return QC_OK;
     const int counts = qc_model_get_type(model)->output == QC_OUTPUT_COUNTS;
@@ -397,15 +414,29 @@ qc_status qc_tidy_thresholds(const qc_model *model, const double *levels,
         goto done;
     }
     double i0;
-    if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w)) != QC_OK ||
-        (st = qc_cell_mi_eval(w, t, &i0, NULL)) != QC_OK)
+    if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w)) != QC_OK)
         goto done;
-    const double floor_nats = i0 - eps_nats;
+    /* step 1. With more thresholds than are centred, the rule only removes
+     * and re-inserts redundant ones, and none is redundant when removing
+     * any costs the clipped rate more than the budget plus twice the
+     * clipping's error (the exact rate then loses more than the budget):
+     * the screen's pass (0) leaves t without an exact rate. */
+    const int screened = screen && !counts && nt > TIDY_MAX_CENTERED && increasing(t, nt);
     size_t m = nt;
-    if ((st = find_redundant(w->channel, input, nt, 0.5 * eps_nats, keep, &m)) != QC_OK)
-        goto done;
-    if (m == nt && nt > TIDY_MAX_CENTERED)
-        goto done;
+    for (int pass = screened ? 0 : 1; pass < 2; pass++) {
+        w->clip = pass == 0;
+        st = qc_cell_mi_eval(w, t, &i0, NULL);
+        w->clip = 0;
+        const double clip_err = pass == 0 ? QC_CLIP_RATE_BITS / QC_LOG2E : 0.0;
+        m = nt;
+        if (st != QC_OK || (st = find_redundant(w->channel, input, nt,
+                                                0.5 * eps_nats + 2.0 * clip_err, keep, &m)) !=
+                               QC_OK)
+            goto done;
+        if (m == nt && nt > TIDY_MAX_CENTERED)
+            goto done;
+    }
+    const double floor_nats = i0 - eps_nats;
     size_t k = 0;
     for (size_t j = 0; j < nt; j++)
         if (keep[j])

@@ -12,8 +12,9 @@
  * row's band has moved; levels whose support does not reach a threshold),
  * against a channel computed afresh and sums over every level (and the
  * run of levels whose supports hold a point, against every level), and the
- * uniform range's choice among equally good ranges with the clipped rate
- * as its screen, against that choice on the exact rate alone. */
+ * uniform range's and the thresholds' choice among equally good ones with
+ * the clipped rate as a screen, against that choice on the exact rate
+ * alone. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -616,6 +617,46 @@ static void test_tidy_screen(void **state)
     }
 }
 
+/* The choice among equally good thresholds of 511 thresholds over PAM-64
+ * (more than it centres: it only removes and re-inserts redundant ones)
+ * gives the same thresholds with the clipped screen as without: at 20 dB,
+ * uniform thresholds over the levels, where every one matters and none
+ * moves; at 60 dB, saturated, where most lie between separate levels and
+ * are placed again (the screen cannot decide, the exact rate does). */
+static void test_tidy_redundant_screen(void **state)
+{
+    (void)state;
+    enum { N = 64, NT = 511 };
+    const double snr_db[2] = {20.0, 60.0};
+    double levels[N], law[N], power = 0.0;
+    for (size_t i = 0; i < N; i++) {
+        levels[i] = 2.0 * (double)i - (double)(N - 1);
+        law[i] = 1.0 / N;
+        power += law[i] * levels[i] * levels[i];
+    }
+    for (int k = 0; k < 2; k++) {
+        qc_model *m = gauss(sqrt(power / pow(10.0, snr_db[k] / 10.0)));
+        double t[NT], plain[NT], screened[NT];
+        range_thresholds(0.0, (double)N, NT, t);
+        memcpy(plain, t, sizeof t);
+        memcpy(screened, t, sizeof t);
+        assert_int_equal(qc_tidy_thresholds_screened(m, levels, law, N, NT, EPS_NATS, 0, plain),
+                         QC_OK);
+        assert_int_equal(
+            qc_tidy_thresholds_screened(m, levels, law, N, NT, EPS_NATS, 1, screened), QC_OK);
+        size_t moved = 0;
+        for (size_t j = 0; j < NT; j++) {
+            assert_true(same_bits(plain[j], screened[j]));
+            moved += plain[j] != t[j];
+        }
+        if (k == 0)
+            assert_int_equal(moved, 0);
+        else
+            assert_true(moved > 0);
+        qc_model_free(m);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -628,6 +669,7 @@ int main(void)
         cmocka_unit_test(test_supports_holding),
         cmocka_unit_test(test_dp_unsent_rows),
         cmocka_unit_test(test_tidy_screen),
+        cmocka_unit_test(test_tidy_redundant_screen),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
