@@ -416,11 +416,11 @@ qc_status qc_tidy_thresholds_screened(const qc_model *model, const double *level
     double i0;
     if ((st = qc_cell_mi_alloc(model, levels, input, nlevels, nt, &w)) != QC_OK)
         goto done;
-    /* step 1. With more thresholds than are centred, the rule only removes
-     * and re-inserts redundant ones, and none is redundant when removing
-     * any costs the clipped rate more than the budget plus twice the
-     * clipping's error (the exact rate then loses more than the budget):
-     * the screen's pass (0) leaves t without an exact rate. */
+    /* step 1. More thresholds than are centred, none of them redundant,
+     * are left as they are; none is redundant when removing any costs the
+     * clipped rate more than the budget plus twice the clipping's error
+     * (the exact rate then loses more than the budget), so the screen's
+     * pass (0) can end the rule without an exact rate. */
     const int screened = screen && !counts && nt > TIDY_MAX_CENTERED && increasing(t, nt);
     size_t m = nt;
     for (int pass = screened ? 0 : 1; pass < 2; pass++) {
