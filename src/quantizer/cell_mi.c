@@ -233,3 +233,13 @@ qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *va
     (void)nt;
     return qc_cell_mi_eval(ctx, t, value, NULL);
 }
+
+qc_status qc_cell_mi_clipped_objective(void *ctx, const double *t, size_t nt, double *value)
+{
+    qc_cell_mi *w = ctx;
+    const int clip = w->clip;
+    w->clip = 1;
+    qc_status st = qc_cell_mi_objective(w, t, nt, value);
+    w->clip = clip;
+    return st;
+}

@@ -142,14 +142,8 @@ static qc_status discretize_row(const qc_model *m, double x, const double *t,
                            "level %g, threshold %g",
                            qc_model_get_type(m)->name, x, t[j]);
     }
-    if (written) {
-        clear_outside(row, written, j0, j1 + 1);
-    } else {
-        for (size_t c = 0; c < j0; c++)
-            row[c] = 0.0;
-        for (size_t c = j1 + 1; c <= n; c++)
-            row[c] = 0.0;
-    }
+    size_t whole[2] = {0, n + 1}; /* no extent known: the whole row */
+    clear_outside(row, written ? written : whole, j0, j1 + 1);
     double s = 0.0;
     for (size_t c = j0; c <= j1; c++) {
         double p;
@@ -191,12 +185,8 @@ static qc_status row_at(const qc_model *m, const double *levels, const double *s
     double *row = d->p + x * d->ny;
     size_t *w = written ? written + 2 * x : NULL;
     if (sent && !(sent[x] > 0.0)) {
-        if (w) {
-            clear_outside(row, w, 0, 0);
-        } else {
-            for (size_t c = 0; c <= n; c++)
-                row[c] = 0.0;
-        }
+        size_t whole[2] = {0, n + 1}; /* no extent known: the whole row */
+        clear_outside(row, w ? w : whole, 0, 0);
         return QC_OK;
     }
     return discretize_row(m, levels[x], t, n, clip, lo, hi, row, w);

@@ -14,6 +14,7 @@
  * 1 beyond it, qc_discretize_clipped) may lie from the exact rate, in
  * bits: the support holds all but ~1e-15 of a level's mass. */
 #define QC_CLIP_RATE_BITS 1e-13
+#define QC_CLIP_RATE_NATS (QC_CLIP_RATE_BITS / QC_LOG2E)
 
 /* Levels from which searches rate the clipped tails where the exact rate
  * would decide the same: a wide alphabet costs levels × cells a rate, of
@@ -83,6 +84,9 @@ typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
 
 /* The objective I(X;Y_q) of the workspace ctx (a qc_cell_mi), nats. */
 qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *value);
+/* The same with the workspace's tails clipped for this rate only (the
+ * screen of the exact rate, qc_rate_screen). */
+qc_status qc_cell_mi_clipped_objective(void *ctx, const double *t, size_t nt, double *value);
 
 /* ---- uniform.c -------------------------------------------------------- */
 

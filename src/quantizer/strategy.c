@@ -14,8 +14,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_math.h> /* M_LN2 */
-
 struct qc_strategy_plan {
     const qc_model *model;
     const double *levels;
@@ -100,17 +98,6 @@ static qc_status fixed_design(qc_strategy_plan *p, const double *input, int warm
 
 /* ---- uniform ---------------------------------------------------------- */
 
-/* qc_threshold_objective: the rate of a workspace with the tails clipped
- * (the screen of the exact rate in the choice among equally good ranges). */
-static qc_status clipped_rate(void *ctx, const double *t, size_t nt, double *value)
-{
-    qc_cell_mi *w = ctx;
-    w->clip = 1;
-    qc_status st = qc_cell_mi_objective(w, t, nt, value);
-    w->clip = 0;
-    return st;
-}
-
 static qc_status uniform_design(qc_strategy_plan *p, const double *input, int warm, double *t,
                                 qc_strategy_stats *stats)
 {
@@ -136,7 +123,7 @@ static qc_status uniform_design(qc_strategy_plan *p, const double *input, int wa
     /* the choice among equally good ranges, on the exact rate; a wide
      * alphabet's clipped rate tells the steps that cost too much without
      * it. One threshold is placed as the other strategies place one. */
-    const qc_rate_screen screen = {clipped_rate, p->rate, QC_CLIP_RATE_BITS * M_LN2};
+    const qc_rate_screen screen = {qc_cell_mi_clipped_objective, p->rate, QC_CLIP_RATE_NATS};
     if (st == QC_OK && p->tidy_nats > 0.0)
         st = p->nt == 1 ? qc_tidy_thresholds(p->model, p->levels, input, p->nlevels, 1,
                                              p->tidy_nats, t)

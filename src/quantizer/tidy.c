@@ -427,7 +427,7 @@ qc_status qc_tidy_thresholds_screened(const qc_model *model, const double *level
         w->clip = pass == 0;
         st = qc_cell_mi_eval(w, t, &i0, NULL);
         w->clip = 0;
-        const double clip_err = pass == 0 ? QC_CLIP_RATE_BITS / QC_LOG2E : 0.0;
+        const double clip_err = pass == 0 ? QC_CLIP_RATE_NATS : 0.0;
         m = nt;
         if (st != QC_OK || (st = find_redundant(w->channel, input, nt,
                                                 0.5 * eps_nats + 2.0 * clip_err, keep, &m)) !=

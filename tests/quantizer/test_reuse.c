@@ -546,21 +546,25 @@ static void test_supports_holding(void **state)
     assert_false(qc_supports_ordered(lo, hi, N));
 }
 
+/* PAM-n with levels −(n − 1) … n − 1 under the uniform law; returns its
+ * power E[x²]. */
+static double uniform_pam(double *levels, double *law, size_t n)
+{
+    double power = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        levels[i] = 2.0 * (double)i - (double)(n - 1);
+        law[i] = 1.0 / (double)n;
+        power += law[i] * levels[i] * levels[i];
+    }
+    return power;
+}
+
 static size_t exact_calls; /* rates of exact_rate since the last reset */
 
 static qc_status exact_rate(void *ctx, const double *t, size_t nt, double *v)
 {
     exact_calls++;
     return qc_cell_mi_objective(ctx, t, nt, v);
-}
-
-static qc_status clipped_rate(void *ctx, const double *t, size_t nt, double *v)
-{
-    qc_cell_mi *w = ctx;
-    w->clip = 1;
-    qc_status st = qc_cell_mi_objective(w, t, nt, v);
-    w->clip = 0;
-    return st;
 }
 
 /* The choice among equally good uniform ranges with the clipped rate as a
@@ -574,12 +578,8 @@ static void test_tidy_screen(void **state)
     (void)state;
     enum { N = 64, NT = 127 };
     const double snr_db[2] = {20.0, 60.0};
-    double levels[N], law[N], power = 0.0;
-    for (size_t i = 0; i < N; i++) {
-        levels[i] = 2.0 * (double)i - (double)(N - 1);
-        law[i] = 1.0 / N;
-        power += law[i] * levels[i] * levels[i];
-    }
+    double levels[N], law[N];
+    const double power = uniform_pam(levels, law, N);
     for (int k = 0; k < 2; k++) {
         qc_model *m = gauss(sqrt(power / pow(10.0, snr_db[k] / 10.0)));
         qc_cell_mi *w;
@@ -590,7 +590,7 @@ static void test_tidy_screen(void **state)
         w->clip = 0;
         memcpy(plain, t, sizeof t);
         memcpy(screened, t, sizeof t);
-        const qc_rate_screen screen = {clipped_rate, w, QC_CLIP_RATE_BITS / QC_LOG2E};
+        const qc_rate_screen screen = {qc_cell_mi_clipped_objective, w, QC_CLIP_RATE_NATS};
         exact_calls = 0;
         assert_int_equal(
             qc_uniform_tidy(m, levels, N, NT, exact_rate, w, NULL, EPS_NATS, plain), QC_OK);
@@ -628,12 +628,8 @@ static void test_tidy_redundant_screen(void **state)
     (void)state;
     enum { N = 64, NT = 511 };
     const double snr_db[2] = {20.0, 60.0};
-    double levels[N], law[N], power = 0.0;
-    for (size_t i = 0; i < N; i++) {
-        levels[i] = 2.0 * (double)i - (double)(N - 1);
-        law[i] = 1.0 / N;
-        power += law[i] * levels[i] * levels[i];
-    }
+    double levels[N], law[N];
+    const double power = uniform_pam(levels, law, N);
     for (int k = 0; k < 2; k++) {
         qc_model *m = gauss(sqrt(power / pow(10.0, snr_db[k] / 10.0)));
         double t[NT], plain[NT], screened[NT];
