@@ -273,8 +273,10 @@ QC_API void qc_snap_thresholds(const qc_model *model, const double *levels, size
 /* ---- decisions.c: the unquantized MAP decision boundaries ------------- */
 
 /* Where the MAP decision argmax_x law(x) f(y|x) changes, increasing
- * (*out owned by the caller; *nout may be 0). Continuous outputs: a scan
- * of the support refined by Brent's method; counts: the whole counts at
+ * (*out owned by the caller; *nout may be 0). Continuous outputs: where
+ * the output is Gaussian given each level (up to 64 levels sent), the
+ * crossings of the levels' quadratic scores, else a scan of the support,
+ * each change refined by Brent's method; counts: the whole counts at
  * which the decision changes (a threshold there splits y < c from
  * y >= c). */
 QC_API qc_status qc_map_boundaries(const qc_model *model, const double *levels, const double *law,

@@ -6,7 +6,16 @@
  * a fine grid and refining each change by Brent's method on
  * log p(a)f(y|a) − log p(b)f(y|b) (R. P. Brent, Algorithms for
  * Minimization without Derivatives, 1973, ch. 4); for count outputs they
- * are the counts at which the decision changes, exactly. A quantizer
+ * are the counts at which the decision changes, exactly. When the output
+ * given each level is Gaussian, each score is a quadratic in y, so the
+ * decision can change only where two scores cross: the crossings of
+ * every pair of levels (closed form) cut the support into intervals of
+ * one decision each, and each change between neighbouring intervals is
+ * refined by the same Brent search on the model's own densities, which
+ * finds every region the scan would and costs a few hundred densities
+ * instead of the scan's one per grid point and level (the upper envelope
+ * of the scores; the scan remains for other models and for more than
+ * ENVELOPE_MAX_LEVELS levels). A quantizer
  * whose thresholds include every boundary loses nothing in hard
  * decisions (the MAP decision per cell then equals the unquantized one),
  * so moving the thresholds nearest to the boundaries onto them turns a
@@ -28,6 +37,11 @@
 #define SCAN_POINTS 16384 /* grid of the scan over the support             */
 #define ROOT_MAX_ITER 200
 #define COUNT_SPAN_MAX 1e7 /* counts scanned one by one up to this range  */
+#define ENVELOPE_MAX_LEVELS 64 /* pairs of levels crossed: at most 2016     */
+/* decision intervals narrower than this share of the support are taken
+ * as rounding between near-equal scores, not as a region of their own
+ * (the scan's points are 6·10⁻⁵ of it apart) */
+#define ENVELOPE_MIN_WIDTH 1e-9
 
 typedef struct {
     const qc_model *m;
@@ -73,18 +87,25 @@ static double score_gap(double y, void *p)
     return a - b;
 }
 
-/* The boundary between decisions a (left of lo) and b (right of hi). */
+/* The boundary between decisions a (left of lo) and b (right of hi).
+ * *clean (if given) says whether the scores changed sign cleanly between
+ * lo and hi; where they do not, the middle of [lo, hi] is returned. */
 static double refine(const qc_model *m, const double *levels, const double *logp, size_t a,
-                     size_t b, double lo, double hi)
+                     size_t b, double lo, double hi, int *clean)
 {
     pair c = {m, logp[a], logp[b], levels[a], levels[b]};
     gsl_function fn = {score_gap, &c};
     double flo = score_gap(lo, &c), fhi = score_gap(hi, &c);
+    if (clean)
+        *clean = flo > 0.0 && fhi < 0.0;
     if (!(flo > 0.0 && fhi < 0.0))
         return 0.5 * (lo + hi); /* not a clean sign change: the grid's middle */
     gsl_root_fsolver *sv = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
-    if (!sv)
+    if (!sv) {
+        if (clean)
+            *clean = 0;
         return 0.5 * (lo + hi);
+    }
     double root = 0.5 * (lo + hi);
     gsl_error_handler_t *old = gsl_set_error_handler_off();
     if (gsl_root_fsolver_set(sv, &fn, lo, hi) == GSL_SUCCESS) {
@@ -102,8 +123,163 @@ static double refine(const qc_model *m, const double *levels, const double *logp
     return root;
 }
 
-qc_status qc_map_boundaries(const qc_model *model, const double *levels, const double *law,
-                            size_t n, double **out, size_t *nout)
+/* ---- Gaussian-law models: the upper envelope of quadratic scores ---- */
+
+/* One level's score where the output given it is Gaussian:
+ * log p − ½·log v − (y − μ)²/(2v) (the common −½·log 2π left out). */
+typedef struct {
+    size_t index; /* in the caller's levels */
+    double logp, mean, var, half_log_var;
+} gauss_score;
+
+static double gauss_score_at(const gauss_score *g, double y)
+{
+    const double z = y - g->mean;
+    return g->logp - g->half_log_var - 0.5 * z * z / g->var;
+}
+
+/* Where the scores of a and b cross inside (lo, hi), into y[] (0 to 2 of
+ * them): the roots of A·z² + B·z + C, z = y − μ_a, in the form that
+ * avoids cancellation (W. H. Press et al., Numerical Recipes, 3rd ed.,
+ * 2007, §5.6, section from memory). A double root is a touch, not a
+ * change, and is left out. */
+static size_t crossings(const gauss_score *a, const gauss_score *b, double lo, double hi,
+                        double y[2])
+{
+    const double d = b->mean - a->mean;
+    const double A = 0.5 * (1.0 / b->var - 1.0 / a->var);
+    const double B = -d / b->var;
+    const double C = 0.5 * d * d / b->var + (a->logp - a->half_log_var) -
+                     (b->logp - b->half_log_var);
+    double z[2];
+    size_t nz = 0, ny = 0;
+    if (A == 0.0) { /* equal variances: one crossing, or none */
+        if (B != 0.0)
+            z[nz++] = -C / B;
+    } else {
+        const double disc = B * B - 4.0 * A * C;
+        if (disc > 0.0) {
+            const double q = -0.5 * (B + copysign(sqrt(disc), B));
+            z[nz++] = q / A;
+            z[nz++] = C / q;
+        }
+    }
+    for (size_t i = 0; i < nz; i++) {
+        const double at = a->mean + z[i];
+        if (isfinite(at) && at > lo && at < hi)
+            y[ny++] = at;
+    }
+    return ny;
+}
+
+static int compare_doubles(const void *pa, const void *pb)
+{
+    const double a = *(const double *)pa, b = *(const double *)pb;
+    return (a > b) - (a < b);
+}
+
+/* The boundaries of a Gaussian-law model over [lo, hi] (the header's
+ * second method) into *out, *nout, with *done = 1; *done = 0 where the
+ * method does not apply — another model, more than ENVELOPE_MAX_LEVELS
+ * levels sent, a level without finite moments, or a change the model's
+ * densities do not confirm with a clean sign change — and the caller
+ * scans instead. */
+static qc_status envelope_boundaries(const qc_model *model, const double *levels,
+                                     const double *logp, size_t n, double lo, double hi,
+                                     double **out, size_t *nout, int *done)
+{
+    *done = 0;
+    if (!(qc_model_get_type(model)->properties & QC_MODEL_GAUSSIAN_LAW))
+        return QC_OK;
+    size_t ng = 0;
+    for (size_t i = 0; i < n; i++)
+        ng += logp[i] > -INFINITY;
+    if (ng == 0 || ng > ENVELOPE_MAX_LEVELS)
+        return QC_OK;
+    const size_t npts_max = 2 + ng * (ng - 1);
+    gauss_score *g = qc_malloc_array(ng, sizeof *g);
+    double *pts = qc_malloc_array(npts_max, sizeof *pts);
+    /* per interval of one decision: the decision, the middles of its
+     * first and last piece (Brent's brackets), and the boundaries */
+    size_t *win = qc_malloc_array(npts_max, sizeof *win);
+    double *first = qc_malloc_array(npts_max, sizeof *first);
+    double *last = qc_malloc_array(npts_max, sizeof *last);
+    double *b = qc_malloc_array(npts_max, sizeof *b);
+    qc_status st = QC_OK;
+    if (!g || !pts || !win || !first || !last || !b) {
+        st = qc_fail(QC_ENOMEM, "out of memory for the decision boundaries of %zu levels", n);
+        goto done;
+    }
+    for (size_t i = 0, j = 0; i < n; i++) {
+        if (!(logp[i] > -INFINITY))
+            continue;
+        double mean, var;
+        if (qc_model_moments(model, levels[i], &mean, &var) != QC_OK || !isfinite(mean) ||
+            !(var > 0.0) || !isfinite(var))
+            goto done; /* not done: the scan decides */
+        g[j++] = (gauss_score){i, logp[i], mean, var, 0.5 * log(var)};
+    }
+    size_t np = 0;
+    pts[np++] = lo;
+    pts[np++] = hi;
+    for (size_t i = 0; i < ng; i++)
+        for (size_t j = i + 1; j < ng; j++)
+            np += crossings(&g[i], &g[j], lo, hi, pts + np);
+    qsort(pts, np, sizeof *pts, compare_doubles);
+    /* one decision between neighbouring crossings: the best score at the
+     * middle (ties to the lower level, as the scan decides) */
+    const double min_width = ENVELOPE_MIN_WIDTH * (hi - lo);
+    size_t nint = 0;
+    for (size_t k = 0; k + 1 < np; k++) {
+        const double w = pts[k + 1] - pts[k];
+        if (!(w > min_width))
+            continue;
+        const double y = pts[k] + 0.5 * w;
+        size_t best = 0;
+        double bs = gauss_score_at(&g[0], y);
+        for (size_t i = 1; i < ng; i++) {
+            const double sc = gauss_score_at(&g[i], y);
+            if (sc > bs) {
+                bs = sc;
+                best = i;
+            }
+        }
+        if (nint > 0 && win[nint - 1] == best) {
+            last[nint - 1] = y;
+            continue;
+        }
+        win[nint] = best;
+        first[nint] = last[nint] = y;
+        nint++;
+    }
+    size_t nb = 0;
+    for (size_t i = 1; i < nint; i++) {
+        int clean;
+        const double at = refine(model, levels, logp, g[win[i - 1]].index, g[win[i]].index,
+                                 last[i - 1], first[i], &clean);
+        if (!clean)
+            goto done; /* not done: the scan decides */
+        if (nb == 0 || at > b[nb - 1])
+            b[nb++] = at;
+    }
+    *out = b;
+    *nout = nb;
+    b = NULL;
+    *done = 1;
+done:
+    free(g);
+    free(pts);
+    free(win);
+    free(first);
+    free(last);
+    free(b);
+    return st;
+}
+
+/* ---- the scan, and the boundaries of any model --------------------- */
+
+static qc_status map_boundaries(const qc_model *model, const double *levels, const double *law,
+                                size_t n, int envelope, double **out, size_t *nout)
 {
     *out = NULL;
     *nout = 0;
@@ -127,6 +303,13 @@ qc_status qc_map_boundaries(const qc_model *model, const double *levels, const d
             return qc_fail(QC_ENUMERIC,
                            "decision boundaries: count range %g..%g too wide to scan", lo, hi);
         }
+    } else if (envelope && lo < hi) {
+        int done;
+        qc_status st = envelope_boundaries(model, levels, logp, n, lo, hi, out, nout, &done);
+        if (st != QC_OK || done) {
+            free(logp);
+            return st;
+        }
     }
     size_t cap = 16, nb = 0;
     double *b = qc_malloc_array(cap, sizeof *b);
@@ -144,7 +327,7 @@ qc_status qc_map_boundaries(const qc_model *model, const double *levels, const d
         if (d == SIZE_MAX)
             continue;
         if (prev != SIZE_MAX && d != prev) {
-            double at = counts ? y : refine(model, levels, logp, prev, d, prev_y, y);
+            double at = counts ? y : refine(model, levels, logp, prev, d, prev_y, y, NULL);
             if (counts && at < 1.0)
                 at = 1.0;
             if (nb == cap) {
@@ -170,6 +353,18 @@ qc_status qc_map_boundaries(const qc_model *model, const double *levels, const d
     *out = b;
     *nout = nb;
     return QC_OK;
+}
+
+qc_status qc_map_boundaries(const qc_model *model, const double *levels, const double *law,
+                            size_t n, double **out, size_t *nout)
+{
+    return map_boundaries(model, levels, law, n, 1, out, nout);
+}
+
+qc_status qc_map_boundaries_scanned(const qc_model *model, const double *levels,
+                                    const double *law, size_t n, double **out, size_t *nout)
+{
+    return map_boundaries(model, levels, law, n, 0, out, nout);
 }
 
 size_t qc_keep_boundaries(const qc_model *model, const double *b, size_t nb, double *t,

@@ -410,6 +410,14 @@ qc_status qc_integrate_union(const double *lo, const double *hi, const size_t *o
                              size_t nov, double (*integrand)(double, void *), void *ctx,
                              const char *what, double *val, double *err);
 
+/* ---- decisions.c ------------------------------------------------------ */
+
+/* qc_map_boundaries by the scan of the support on every model (Gaussian-
+ * law models otherwise take the crossings of their scores): what the
+ * crossings are checked against. */
+qc_status qc_map_boundaries_scanned(const qc_model *model, const double *levels,
+                                    const double *law, size_t n, double **out, size_t *nout);
+
 /* ---- unquantized_memo.c ---------------------------------------------- */
 
 /* Lookups answered from the store and lookups that computed (for tests

@@ -4,7 +4,8 @@
  * a ratio to one design at the same resolution (CPU time of this
  * single-threaded process, measured in one run). A root costs the
  * monotonicity samples plus the Brent iterations (designs) and the
- * unquantized reference (no design: a fine-grid hard decision).
+ * unquantized reference (no design: the MAP decision boundaries and the
+ * hard decision of a quantizer on them).
  *
  * Target (checked, exit status 1 if missed): every root within 40 designs
  * of its resolution. 1 bit cannot reach the target (two cells for four

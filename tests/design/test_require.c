@@ -16,6 +16,7 @@
 #include <gsl/gsl_cdf.h>
 
 #include "quantcap.h"
+#include "quantizer/quantizer.h" /* the scan the crossings are checked against */
 #include "test_helpers.h"
 
 #define ROOT_TOL_DB 1e-4     /* the solver stops at 1e-6 dB; designs add noise */
@@ -235,6 +236,98 @@ static void test_map_boundaries_gauss(void **state)
     qc_model_free(m);
 }
 
+/* Boundaries of a Gaussian-law model from the crossings of the scores
+ * against the scan of the support (the same Brent search refines both):
+ * equal counts, positions within ENVELOPE_TOL of the noise scale. */
+#define ENVELOPE_TOL 1e-12
+static void check_envelope(const qc_model *m, const double *levels, const double *law, size_t n,
+                           double scale, size_t want)
+{
+    double *b = NULL, *s = NULL;
+    size_t nb = 0, ns = 0;
+    assert_int_equal(qc_map_boundaries(m, levels, law, n, &b, &nb), QC_OK);
+    assert_int_equal(qc_map_boundaries_scanned(m, levels, law, n, &s, &ns), QC_OK);
+    assert_int_equal(nb, want);
+    assert_int_equal(ns, want);
+    for (size_t i = 0; i < nb; i++)
+        assert_near(b[i], s[i], ENVELOPE_TOL * scale);
+    free(b);
+    free(s);
+}
+
+static qc_model *model_named(const qc_model_type *type, const char *const *names,
+                             const double *values, size_t count)
+{
+    double p[QC_MODEL_MAX_PARAMS];
+    for (size_t i = 0; i < QC_MODEL_MAX_PARAMS; i++)
+        p[i] = NAN;
+    for (size_t i = 0; i < count; i++) {
+        int k = qc_model_param_index(type, names[i]);
+        assert_true(k >= 0);
+        p[k] = values[i];
+    }
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(type, p, &m), QC_OK);
+    return m;
+}
+
+/* Unequal variances cross twice: signal-dependent noise (unipolar PAM-8,
+ * σ from 0.2 to 0.62), where the widest level wins again beyond the
+ * others' tails, and the APD's Gaussian approximation; and a middle level
+ * whose small law leaves it a region narrower than the noise scale. */
+static void test_map_boundaries_envelope(void **state)
+{
+    (void)state;
+    const double u8[8] = {0.0, 1.0 / 7, 2.0 / 7, 3.0 / 7, 4.0 / 7, 5.0 / 7, 6.0 / 7, 1.0};
+    const double uniform8[8] = {0.125, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125};
+    const double skew8[8] = {0.3, 0.05, 0.05, 0.1, 0.1, 0.1, 0.1, 0.2};
+    qc_model *m = model_named(&qc_model_gauss_sd, (const char *const[]){"sigma0", "a"},
+                              (const double[]){0.02, 0.0024}, 2);
+    check_envelope(m, u8, uniform8, 8, 0.02, 7);
+    qc_model_free(m);
+    /* low SNR and an uneven law: the loud level's wide density wins
+     * below the quiet ones' tails too (σ 0.05 against 0.5) */
+    m = model_named(&qc_model_gauss_sd, (const char *const[]){"sigma0", "a"},
+                    (const double[]){0.05, 0.25}, 2);
+    const double two[2] = {0.0, 1.0}, law2[2] = {0.9, 0.1};
+    double *b = NULL;
+    size_t nb = 0;
+    assert_int_equal(qc_map_boundaries(m, two, law2, 2, &b, &nb), QC_OK);
+    free(b);
+    check_envelope(m, two, law2, 2, 0.05, nb);
+    assert_int_equal(nb, 2);
+    check_envelope(m, u8, skew8, 8, 0.05, 6);
+    qc_model_free(m);
+    m = model_named(&qc_model_apd_gauss,
+                    (const char *const[]){"signal", "apd-gain", "apd-k", "sigma-th"},
+                    (const double[]){200.0, 10.0, 0.2, 300.0}, 4);
+    check_envelope(m, u8, uniform8, 8, 300.0, 7);
+    qc_model_free(m);
+    /* PAM-3, σ = 1, outer laws equal: the middle level wins on
+     * |y| < ½ − ln(p₀/p₁) (s₁ − s₀ = ln(p₁/p₀) + y + ½ there, from the
+     * scores above): 0.1 σ wide at ln(p₀/p₁) = 0.45, none at 0.6 (one
+     * boundary, at 0), and 4·10⁻⁴ σ at 0.4998, below the scan's spacing
+     * of 1.1·10⁻³ σ over the 18 σ of the supports, where the crossings
+     * still find it at its exact ends */
+    const double pam3[3] = {-1.0, 0.0, 1.0};
+    m = model_named(&qc_model_gauss, (const char *const[]){"sigma"}, (const double[]){1.0}, 1);
+    const double ratio[3] = {0.45, 0.6, 0.4998};
+    for (int k = 0; k < 3; k++) {
+        const double p0 = 1.0 / (2.0 + exp(-ratio[k])), p1 = p0 * exp(-ratio[k]);
+        const double law3[3] = {p0, p1, p0}, half = 0.5 - ratio[k];
+        if (k < 2) {
+            check_envelope(m, pam3, law3, 3, 1.0, k == 0 ? 2 : 1);
+            continue;
+        }
+        assert_int_equal(qc_map_boundaries(m, pam3, law3, 3, &b, &nb), QC_OK);
+        assert_int_equal(nb, 2);
+        assert_near(b[0], -half, ENVELOPE_TOL);
+        assert_near(b[1], half, ENVELOPE_TOL);
+        free(b);
+    }
+    qc_model_free(m);
+}
+
 /* Photon counts, Poisson without background (n = 0 for level 0, n = 2
  * for level 1, equiprobable): the MAP decision is level 0 at count 0
  * only (e^{−2}·2^k/k! > 0 = P(k|0) for k ≥ 1), so the one boundary is
@@ -313,6 +406,7 @@ int main(void)
         cmocka_unit_test(test_not_monotone),  cmocka_unit_test(test_target_parse),
         cmocka_unit_test(test_settings_require), cmocka_unit_test(test_ber_penalty_in_bits),
         cmocka_unit_test(test_map_boundaries_gauss), cmocka_unit_test(test_map_boundaries_counts),
+        cmocka_unit_test(test_map_boundaries_envelope),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
