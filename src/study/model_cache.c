@@ -29,6 +29,7 @@
 
 #include <math.h>
 #include <pthread.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -41,6 +42,7 @@ typedef struct entry {
     qc_model *model;                    /* NULL while being built        */
     int lent;                           /* on loan to a design           */
     unsigned long returned;             /* LRU stamp among idle entries  */
+    size_t setting;                     /* number of the setting         */
     struct entry *next;
 } entry;
 
@@ -50,6 +52,7 @@ struct qc_model_cache {
     entry *head;
     size_t nidle;
     unsigned long clock;
+    size_t settings; /* setting numbers handed out */
 };
 
 qc_status qc_model_cache_alloc(qc_model_cache **out)
@@ -147,6 +150,11 @@ qc_status qc_model_cache_get(qc_model_cache *c, const qc_model_type *type,
     }
     e->type = type;
     memcpy(e->params, key, sizeof key);
+    /* another instance of a setting the cache holds keeps its number */
+    entry *same = c->head;
+    while (same && !same_setting(same, type, key, table))
+        same = same->next;
+    e->setting = same ? same->setting : c->settings++;
     e->lent = 1;
     e->next = c->head;
     c->head = e;
@@ -168,6 +176,21 @@ qc_status qc_model_cache_get(qc_model_cache *c, const qc_model_type *type,
 }
 
 qc_unquantized_memo *qc_model_cache_memo(qc_model_cache *c) { return c ? c->memo : NULL; }
+
+size_t qc_model_cache_setting(qc_model_cache *c, const qc_model *model)
+{
+    size_t setting = SIZE_MAX;
+    if (!c || !model)
+        return setting;
+    pthread_mutex_lock(&c->lock);
+    for (entry *e = c->head; e; e = e->next)
+        if (e->model == model) {
+            setting = e->setting;
+            break;
+        }
+    pthread_mutex_unlock(&c->lock);
+    return setting;
+}
 
 void qc_model_cache_release(qc_model_cache *c, const qc_model *model)
 {

@@ -38,7 +38,9 @@ void sc_compiled_clear(qc_scenario *sc);
 void sc_describe_point(const qc_scenario *sc, size_t index, char *buf, size_t cap);
 
 /* qc_scenario_check with the models taken from `cache` (the sweep checks
- * its points with the cache its designs then use). */
-qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache);
+ * its points with the cache its designs then use); `setting` (NULL, or
+ * one per point) receives the number of each point's model setting
+ * (qc_model_cache_setting; SIZE_MAX for a point without a model). */
+qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache, size_t *setting);
 
 #endif

@@ -8,6 +8,7 @@
 
 #include "core/internal.h"
 #include "core/parse.h"
+#include "study/settings_internal.h"
 
 #include <math.h>
 #include <stdint.h>
@@ -621,12 +622,12 @@ qc_status qc_scenario_check(const qc_scenario *sc)
     qc_model_cache *cache = NULL;
     qc_status st = qc_model_cache_alloc(&cache);
     if (st == QC_OK)
-        st = sc_check_points(sc, cache);
+        st = sc_check_points(sc, cache, NULL);
     qc_model_cache_free(cache);
     return st;
 }
 
-qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
+qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache, size_t *setting)
 {
     for (size_t i = 0; i < sc->npoints; i++) {
         qc_settings *s = NULL;
@@ -637,6 +638,8 @@ qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache)
             st = qc_settings_build_cached(s, cache, &m, &req);
         if (st == QC_OK && !req.channel.iq) /* a 2-D constellation has points */
             st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
+        if (setting)
+            setting[i] = qc_model_cache_setting(cache, m);
         qc_model_cache_release(cache, m);
         qc_settings_free(s);
         /* a point asking what cannot be had (an ENOB above the bits) is

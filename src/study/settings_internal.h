@@ -89,4 +89,10 @@ int qc_setting_is_design_key(const char *key);
  * (NULL for a NULL cache). */
 qc_unquantized_memo *qc_model_cache_memo(qc_model_cache *cache);
 
+/* model_cache.c: the number of the setting an instance on loan from the
+ * cache was built for: instances of one setting share it while the cache
+ * holds one of them (a setting whose every instance was dropped gets a
+ * new number when it comes back); SIZE_MAX for an instance not from it. */
+size_t qc_model_cache_setting(qc_model_cache *cache, const qc_model *model);
+
 #endif

@@ -1,9 +1,11 @@
 /* sweep.c — run a scenario's grid of designs in parallel (OpenMP across
  * grid points). Each point is exactly what `quantcap design` does with the
  * point's settings: qc_settings_build, qc_design, and the same JSON report.
- * The points share their models: one instance per distinct model setting
- * (model_cache.c), built once and read by every thread, so that an APD
- * model's lattices or a table file are not made again at every point.
+ * The points share their models (model_cache.c): an instance per model
+ * setting and thread at most, lent to one design at a time, so that an
+ * APD model's lattices or a table file are not made again at every point;
+ * each thread keeps to the points of one setting while it can
+ * (sweep_schedule.c), so that two threads seldom build the same model.
  * Finished points are appended to a checkpoint as they complete, so that a
  * killed sweep resumes where it stopped; the tables and plots are written
  * at the end from the records, in grid order, so that the number of
@@ -21,9 +23,11 @@
 #include "study/file_list.h"
 #include "study/manifest.h"
 #include "study/plot_sweep.h"
+#include "study/sweep_schedule.h"
 
 #include <errno.h>
 #include <pthread.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -204,25 +208,38 @@ static qc_status deliver(void *ctx, size_t index, const char *text)
     return st;
 }
 
-/* The points to do, computed in this process with `threads` threads. */
-static void run_here(sweep_state *s, const size_t *todo, size_t ntodo, qc_model_cache *cache,
-                     unsigned threads)
+/* The points to do, computed in this process with `threads` threads,
+ * each taking the points of one model setting while it can
+ * (sweep_schedule.c); setting[p]: point p's setting. */
+static void run_here(sweep_state *s, const size_t *todo, size_t ntodo, const size_t *setting,
+                     qc_model_cache *cache, unsigned threads)
 {
-    (void)threads;
-    OMP(omp parallel for schedule(dynamic, 1) num_threads(threads))
-    for (size_t t = 0; t < ntodo; t++) {
-        int stop;
-        OMP(omp atomic read)
-        stop = s->failed;
-        if (stop != QC_OK)
-            continue;
-        size_t i = todo[t];
-        qc_status pst;
-        json_t *rec = qc_sweep_point_record(s->sc, cache, i, &pst);
-        pthread_mutex_lock(&s->lock);
-        accept_point(s, i, rec);
-        pthread_mutex_unlock(&s->lock);
+    qc_sweep_schedule *plan;
+    if (qc_sweep_schedule_alloc(todo, ntodo, setting, threads, &plan) != QC_OK) {
+        set_failure(s, s->n, QC_ENOMEM);
+        return;
     }
+    OMP(omp parallel num_threads(threads))
+    {
+#ifdef _OPENMP
+        const unsigned worker = (unsigned)omp_get_thread_num();
+#else
+        const unsigned worker = 0;
+#endif
+        for (size_t i; (i = qc_sweep_schedule_next(plan, worker)) != SIZE_MAX;) {
+            int stop;
+            OMP(omp atomic read)
+            stop = s->failed;
+            if (stop != QC_OK)
+                break;
+            qc_status pst;
+            json_t *rec = qc_sweep_point_record(s->sc, cache, i, &pst);
+            pthread_mutex_lock(&s->lock);
+            accept_point(s, i, rec);
+            pthread_mutex_unlock(&s->lock);
+        }
+    }
+    qc_sweep_schedule_free(plan);
 }
 
 qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
@@ -231,14 +248,17 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     memset(sum, 0, sizeof *sum);
     qc_gsl_init();
     qc_model_cache *cache = NULL; /* the points' models, shared by the threads */
-    qc_status st = qc_model_cache_alloc(&cache);
+    const size_t n = sc->npoints;
+    size_t *setting = qc_malloc_array(n ? n : 1, sizeof *setting); /* each point's model */
+    qc_status st = setting ? qc_model_cache_alloc(&cache)
+                           : qc_fail(QC_ENOMEM, "out of memory for %zu points", n);
     if (st == QC_OK)
-        st = sc_check_points(sc, cache);
+        st = sc_check_points(sc, cache, setting);
     if (st != QC_OK) {
         qc_model_cache_free(cache);
+        free(setting);
         return st;
     }
-    const size_t n = sc->npoints;
     sum->points = n;
     const char *dir = opt->out_dir ? opt->out_dir : ".";
     struct stat dir_sb;
@@ -248,6 +268,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     if ((st = make_dir(dir)) != QC_OK ||
         (st = join_path(dir, QC_CHECKPOINT_NAME, cp_path, sizeof cp_path)) != QC_OK) {
         qc_model_cache_free(cache);
+        free(setting);
         return st;
     }
 
@@ -292,7 +313,7 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
                                                          "by the processes computing the sweep",
                                                   todo[t] + 1));
     } else {
-        run_here(&ss, todo, ntodo, cache, thread_count(opt->jobs));
+        run_here(&ss, todo, ntodo, setting, cache, thread_count(opt->jobs));
     }
     pthread_mutex_destroy(&ss.lock);
     if (ss.failed != QC_OK) {
@@ -362,6 +383,7 @@ done:
             json_decref(records[i]);
     free(records);
     free(todo);
+    free(setting);
     qc_model_cache_free(cache);
     return st;
 }
