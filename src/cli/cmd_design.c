@@ -17,6 +17,9 @@ static const cli_opt output_options[] = {
 
 #define THRESHOLD_RESOLUTION 1e-4 /* of the noise standard deviation, in text */
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
+/* more thresholds than this are listed by their first and last few */
+#define MAX_THRESHOLDS_LISTED 32
+#define THRESHOLDS_AT_EACH_END 8
 #define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
 
 
@@ -312,8 +315,9 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 }
 
 /* The threshold listing: counts as integers, continuous outputs resolved
- * to 1e-4 of the noise standard deviation (full precision in JSON), and
- * a note when a count quantizer has fewer cells than asked for. */
+ * to 1e-4 of the noise standard deviation (full precision in JSON), the
+ * first and last THRESHOLDS_AT_EACH_END of more than MAX_THRESHOLDS_LISTED,
+ * and a note when a count quantizer has fewer cells than asked for. */
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
 {
@@ -323,7 +327,12 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
         fprintf(f, "\ntransitions (full scale) ");
     else
         fprintf(f, "\nthresholds (%s) ", unit);
+    const int cut = r->nthresholds > MAX_THRESHOLDS_LISTED;
     for (size_t j = 0; j < r->nthresholds; j++) {
+        if (cut && j == THRESHOLDS_AT_EACH_END) {
+            fprintf(f, ", ...");
+            j = r->nthresholds - THRESHOLDS_AT_EACH_END;
+        }
         double t = r->thresholds[j];
         int d = counts || r->converter ? 0 : threshold_digits(m, r, t);
         if (counts || t == 0.0 || d < 0)
@@ -333,6 +342,10 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
         else
             fprintf(f, "%s%.6g", j ? ", " : " ", t);
     }
+    if (cut)
+        fprintf(f, "\n             (%zu thresholds; the first and last %d shown, --json "
+                   "lists every one)",
+                r->nthresholds, THRESHOLDS_AT_EACH_END);
     if (r->nthresholds + 1 < r->cells)
         fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
                    "that carries probability has its own cell",
@@ -504,6 +517,11 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, " asked, %zu used", r->cells_used);
     if (r->fine_cells)
         fprintf(f, ", DP grid %zu cells", r->fine_cells);
+    if (r->quantizer == QC_QUANTIZER_UNIFORM && r->nthresholds >= 2 && !r->converter)
+        fprintf(f, ", step %.6g %s",
+                (r->thresholds[r->nthresholds - 1] - r->thresholds[0]) /
+                    (double)(r->nthresholds - 1),
+                ou);
     if (r->decisions_kept)
         fprintf(f, ", keeps the %zu MAP decision boundar%s", r->decisions_kept,
                 r->decisions_kept == 1 ? "y" : "ies");

@@ -185,6 +185,29 @@ check(rc == 0 and len(tl) == 1 and tl[0].split()[3:] == ["-1.031041,", "-1,", "-
                                                          "0.968959,", "1,", "1.031041"],
       f"threshold listing at the noise resolution ({tl})")
 
+# long listings: the first and last 8 of 255 uniform thresholds, how many there are, and
+# the uniform step on the quantizer line (the JSON's spacing)
+args = ["design", "--model", "gauss", "--snr-db", "30", "--alphabet", "pam:64", "--bits", "8",
+        "--quantizer", "uniform"]
+rc, out, err = run(*args)
+rcj, outj, _ = run(*args, "--json")
+j = parse(outj, "json uniform 8 bits")
+lines = out.splitlines()
+tl = [k for k, line in enumerate(lines) if line.startswith("thresholds")]
+ql = [line for line in lines if line.startswith("quantizer")]
+if rc == 0 and rcj == 0 and tl and ql:
+    listed = lines[tl[0]].split("  ", 1)[1].split(", ")
+    t = j["thresholds"]
+    check(len(t) == 255 and len(listed) == 17 and listed[8] == "..."
+          and abs(float(listed[0]) - t[0]) < 1e-3 and abs(float(listed[-1]) - t[-1]) < 1e-3,
+          f"255 thresholds listed by their first and last 8 ({listed[:3]} ... {listed[-3:]})")
+    check("255 thresholds" in lines[tl[0] + 1] and "--json" in lines[tl[0] + 1],
+          f"the cut listing says how many and where all are ({lines[tl[0] + 1]})")
+    step = float(ql[0].split("step ")[1].split()[0])
+    check(abs(step - (t[-1] - t[0]) / 254) < 1e-5 * step, f"uniform step on the quantizer line ({ql[0]})")
+else:
+    check(False, f"uniform 8-bit design ran ({err})")
+
 # photon counting with more cells than counts that carry probability: capped, and said so
 # (P(Y >= 19 | lambda = 1) = 3.2e-18, scipy.stats.poisson.sf(18, 1))
 rc, out, err = run("design", "--model", "poisson", "--signal", "1", "--alphabet", "upam:2", "--bits", "16",
