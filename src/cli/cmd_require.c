@@ -164,9 +164,10 @@ static int range_of(const cli_args *a, const qc_settings *set, const char *key, 
     return CLI_OK;
 }
 
-/* The design at the required value, as `design --json` reports it. */
+/* The design at the required value, as `design --json` reports it, made
+ * as the search made its designs (a BER target keeps the MAP boundaries). */
 static json_t *design_at(const qc_settings *set, const char *key, double value,
-                         const qc_fec *fec)
+                         const qc_target *target, const qc_fec *fec)
 {
     qc_settings *s = NULL;
     qc_model *m = NULL;
@@ -178,6 +179,8 @@ static json_t *design_at(const qc_settings *set, const char *key, double value,
     if (qc_settings_with(set, key, value, &s) == QC_OK && qc_settings_build(s, &m, &req) == QC_OK) {
         if (fec)
             req.input.fec = fec;
+        if (target->kind == QC_TARGET_BER)
+            req.quantizer.keep_decisions = 1;
         if (qc_design(&req, &res) == QC_OK && qc_design_report_json(&req, &res, &text) == QC_OK)
             o = json_loads(text, 0, NULL);
     }
@@ -288,7 +291,7 @@ int cmd_require(int argc, char **argv)
     }
     double margin = qc_require_margin_db(&res, linear, operating);
     const qc_fec *fec = target.from_fec ? &target.fec : NULL;
-    design = design_at(set, key, res.required, fec);
+    design = design_at(set, key, res.required, &target, fec);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
         goto done;
     /* a penalty within the root tolerance is 0, and so is the difference */

@@ -89,6 +89,19 @@ if "required" in r:
     tally.near("margin = operating - required", r["margin_db"], 12 - r["required"], 1e-12)
     check(r["penalty_db"] >= -ROOT_TOL_DB, "penalty is not negative")
 
+# the same where the MI-optimal thresholds miss the MAP boundaries (intensity
+# levels in signal-dependent noise): the design reported at the required value
+# keeps them, as the search's designs did, so it too meets the target
+ri = as_json("require", "--model", "apd-gauss", "--signal", "300", "--apd-gain", "10",
+             "--apd-k", "0.2", "--sigma-th", "300", "--alphabet", "upam:4", "--bits", "3",
+             "--target", "ber=1e-3", "--solve-for", "signal", "--range", "10,10000")
+if "design" in ri:
+    check(ri["design"].get("decisions_kept", 0) == 3 and
+          abs(ri["design"]["pre_fec_ber"] - 1e-3) < 1e-6,
+          f"apd-gauss upam:4: the design at the required signal keeps the 3 MAP boundaries and "
+          f"has the target BER ({ri['design'].get('decisions_kept')}, "
+          f"{ri['design']['pre_fec_ber']})")
+
 # require on a linear key (a reach): besides the penalty as 10 log10 of the
 # ratio, the difference in the key's own unit, here km of reach lost
 REACH = ["--model", "gauss", "--alphabet", "qam:16", "--bits", "3", "--symbol-rate", "32e9",
