@@ -8,7 +8,12 @@
  * up a fixed block of others: every compute thread of every rank asks
  * rank 0 for a point, computes it (qc_sweep_worker_run) and sends back its
  * record with the next request; rank 0 checkpoints each record as it
- * arrives. A rank that dies loses only the points it was computing.
+ * arrives. A rank that dies loses only the points it was computing. Which
+ * point a thread gets is the library's schedule (qc_sweep_schedule,
+ * untimed: a thread asks ahead): each thread keeps to the points of one
+ * model setting while they last, so that a rank builds a model and its
+ * unquantized reference once for several points instead of every rank
+ * building each.
  *
  * Messages (tags below): a request is an 8-byte point index, -1 when the
  * thread has nothing to give back, and the 8-byte tag to answer on (0:
@@ -285,29 +290,30 @@ int cli_mpi_work(cli_mpi *m, const qc_scenario *sc)
 /* What rank 0's threads share while the executor runs. */
 typedef struct {
     cli_mpi *m;
-    const size_t *todo;
-    size_t ntodo, next; /* todo[next] is the next point to hand out       */
-    int stop;           /* the sweep stopped: hand out no more            */
+    qc_sweep_schedule *plan; /* who gets which point                       */
+    size_t *first_worker;    /* per rank: the number of its thread 0        */
+    int stop;                /* the sweep stopped: hand out no more         */
     qc_sweep_deliver_fn deliver;
     void *ctx;
 } dispatch;
 
-/* The next point to compute, or -1: none left, or the sweep stopped. */
-static int64_t claim(dispatch *d)
+/* The next point for worker `worker` (the threads of every rank numbered
+ * in rank order), or -1: none left, or the sweep stopped. */
+static int64_t claim(dispatch *d, unsigned worker)
 {
-    int64_t i = -1;
-    OMP(omp critical(cli_mpi_claim))
-    {
-        if (!d->stop && d->next < d->ntodo)
-            i = (int64_t)d->todo[d->next++];
-    }
-    return i;
+    int stop;
+    OMP(omp atomic read)
+    stop = d->stop;
+    if (stop || !d->plan)
+        return -1;
+    size_t i = qc_sweep_schedule_next(d->plan, worker);
+    return i == SIZE_MAX ? -1 : (int64_t)i;
 }
 
 static void give_back(dispatch *d, size_t index, const char *text)
 {
     if (d->deliver(d->ctx, index, text) != QC_OK) {
-        OMP(omp critical(cli_mpi_claim))
+        OMP(omp atomic write)
         d->stop = 1;
     }
 }
@@ -338,8 +344,10 @@ static void serve(dispatch *d)
                      MPI_STATUS_IGNORE);
             memcpy(head, msg, sizeof head);
         }
+        const int source = status.MPI_SOURCE;
         if (!msg || (size_t)count < sizeof head ||
-            (head[1] != 0 && (head[1] < TAG_REPLY || head[1] >= TAG_REPLY + 65536))) {
+            (head[1] != 0 && (head[1] < TAG_REPLY || source <= 0 || source >= m->size ||
+                              head[1] - TAG_REPLY >= m->remote_threads[source]))) {
             fprintf(stderr, "quantcap: error: %s from rank %d\n",
                     msg ? "a malformed request" : "out of memory for a record", status.MPI_SOURCE);
             MPI_Abort(MPI_COMM_WORLD, CLI_NUMERIC);
@@ -348,7 +356,10 @@ static void serve(dispatch *d)
         /* the asking thread gets its next point before its record is
          * checkpointed, so that it never waits for the disk */
         if (head[1] != 0) {
-            int64_t next = d->deliver ? claim(d) : -1;
+            int64_t next =
+                d->deliver ? claim(d, (unsigned)(d->first_worker[source] +
+                                                 (size_t)(head[1] - TAG_REPLY)))
+                           : -1;
             MPI_Send(&next, (int)sizeof next, MPI_BYTE, status.MPI_SOURCE, (int)head[1],
                      MPI_COMM_WORLD);
             if (next < 0)
@@ -367,14 +378,27 @@ static void serve(dispatch *d)
 }
 
 qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
-                          qc_sweep_deliver_fn deliver, void *ctx, char *msg, size_t cap)
+                          const size_t *setting, qc_sweep_deliver_fn deliver, void *ctx,
+                          char *msg, size_t cap)
 {
     cli_mpi *m = user;
-    dispatch d = {.m = m, .todo = todo, .ntodo = ntodo, .deliver = deliver, .ctx = ctx};
-    if (!m->worker && qc_sweep_worker_alloc(m->sc, &m->worker) != QC_OK) {
-        snprintf(msg, cap, "%s", qc_last_error());
+    dispatch d = {.m = m, .deliver = deliver, .ctx = ctx};
+    /* rank 0's compute threads are workers 0 .. jobs − 1, then each
+     * rank's threads in rank order */
+    d.first_worker = malloc((size_t)m->size * sizeof *d.first_worker);
+    size_t workers = 0;
+    for (int r = 0; d.first_worker && r < m->size; r++) {
+        d.first_worker[r] = workers;
+        workers += r == 0 ? m->jobs : (size_t)m->remote_threads[r];
+    }
+    if (!d.first_worker ||
+        qc_sweep_schedule_alloc(todo, ntodo, setting, (unsigned)workers, 0, &d.plan) != QC_OK ||
+        (!m->worker && qc_sweep_worker_alloc(m->sc, &m->worker) != QC_OK)) {
+        snprintf(msg, cap, "%s", d.first_worker ? qc_last_error() : "out of memory");
         dispatch none = {.m = m};
         serve(&none); /* the other ranks wait for an answer */
+        qc_sweep_schedule_free(d.plan);
+        free(d.first_worker);
         return QC_ENOMEM;
     }
     qc_status failed = QC_OK;
@@ -390,7 +414,7 @@ qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
         if (id == 0) {
             serve(&d);
         } else {
-            for (int64_t i; (i = claim(&d)) >= 0;) {
+            for (int64_t i; (i = claim(&d, (unsigned)(id - 1))) >= 0;) {
                 char *text = NULL;
                 qc_status st = qc_sweep_worker_run(m->worker, (size_t)i, &text);
                 if (st != QC_OK) {
@@ -400,6 +424,7 @@ qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
                             failed = st;
                             snprintf(msg, cap, "%s", qc_last_error());
                         }
+                        OMP(omp atomic write)
                         d.stop = 1;
                     }
                 } else {
@@ -409,6 +434,8 @@ qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
             }
         }
     }
+    qc_sweep_schedule_free(d.plan);
+    free(d.first_worker);
     return failed;
 }
 

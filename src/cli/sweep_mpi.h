@@ -42,7 +42,8 @@ int cli_mpi_work(cli_mpi *m, const qc_scenario *sc);
 
 /* Rank 0: the executor for qc_sweep_options (user = the cli_mpi). */
 qc_status cli_mpi_execute(void *user, const size_t *todo, size_t ntodo,
-                          qc_sweep_deliver_fn deliver, void *ctx, char *msg, size_t cap);
+                          const size_t *setting, qc_sweep_deliver_fn deliver, void *ctx,
+                          char *msg, size_t cap);
 
 /* Rank 0 after the sweep: tell the ranks that still wait that there is no
  * more work (the sweep may have stopped before handing any out). Then

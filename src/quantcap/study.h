@@ -283,12 +283,37 @@ typedef qc_status (*qc_sweep_deliver_fn)(void *ctx, size_t index, const char *re
 
 /* Compute the points todo[0..ntodo) (grid order) and give each back with
  * deliver(ctx, ...), in any order and from any threads, then return.
- * QC_OK when every point was given back or deliver asked to stop; any
- * other status is the executor's own failure, described in msg (cap
- * bytes), and stops the sweep. */
+ * setting[p] numbers grid point p's model setting (points with equal
+ * numbers share a model: a qc_sweep_schedule hands them to one worker
+ * while it can). QC_OK when every point was given back or deliver asked
+ * to stop; any other status is the executor's own failure, described in
+ * msg (cap bytes), and stops the sweep. */
 typedef qc_status (*qc_sweep_executor_fn)(void *user, const size_t *todo, size_t ntodo,
-                                          qc_sweep_deliver_fn deliver, void *ctx, char *msg,
-                                          size_t cap);
+                                          const size_t *setting, qc_sweep_deliver_fn deliver,
+                                          void *ctx, char *msg, size_t cap);
+
+/* The order in which workers (threads, or the threads of other processes)
+ * take a sweep's points: grouped by model setting, each worker keeping to
+ * one setting while its points last, a worker without one taking a
+ * setting no other worker is on, and, when every setting left has a
+ * worker, joining the one with the most points left — with `timed`, only
+ * when those points outweigh building another instance of its model, as
+ * timed on the points handed out so far (each worker must then ask for
+ * its next point when it has finished the last one). Thread-safe. */
+typedef struct qc_sweep_schedule qc_sweep_schedule;
+
+/* A schedule of the points todo[0 .. ntodo) for `workers` workers;
+ * setting[p] as the executor's. QC_ENOMEM; on failure *out is NULL. */
+QC_API qc_status qc_sweep_schedule_alloc(const size_t *todo, size_t ntodo,
+                                         const size_t *setting, unsigned workers, int timed,
+                                         qc_sweep_schedule **out);
+
+/* The next point for worker `worker` (0 .. workers − 1), or SIZE_MAX when
+ * every point has been handed out (or none is worth joining). */
+QC_API size_t qc_sweep_schedule_next(qc_sweep_schedule *s, unsigned worker);
+
+/* Release a schedule; NULL does nothing. */
+QC_API void qc_sweep_schedule_free(qc_sweep_schedule *s);
 
 /* Computes single grid points exactly as qc_sweep_run does, for an
  * executor: the models are shared by every point it runs (one instance

@@ -23,7 +23,6 @@
 #include "study/file_list.h"
 #include "study/manifest.h"
 #include "study/plot_sweep.h"
-#include "study/sweep_schedule.h"
 
 #include <errno.h>
 #include <pthread.h>
@@ -215,7 +214,7 @@ static void run_here(sweep_state *s, const size_t *todo, size_t ntodo, const siz
                      qc_model_cache *cache, unsigned threads)
 {
     qc_sweep_schedule *plan;
-    if (qc_sweep_schedule_alloc(todo, ntodo, setting, threads, &plan) != QC_OK) {
+    if (qc_sweep_schedule_alloc(todo, ntodo, setting, threads, 1, &plan) != QC_OK) {
         set_failure(s, s->n, QC_ENOMEM);
         return;
     }
@@ -303,8 +302,8 @@ qc_status qc_sweep_run(const qc_scenario *sc, const qc_sweep_options *opt,
     }
     if (opt->execute) {
         char msg[1024] = "";
-        qc_status est = opt->execute(opt->execute_user, todo, ntodo, deliver, &ss, msg,
-                                     sizeof msg);
+        qc_status est = opt->execute(opt->execute_user, todo, ntodo, setting, deliver, &ss,
+                                     msg, sizeof msg);
         if (est != QC_OK && ss.failed == QC_OK)
             set_failure(&ss, n, qc_fail(est, "%s", msg[0] ? msg : qc_strerror(est)));
         for (size_t t = 0; t < ntodo && ss.failed == QC_OK; t++)

@@ -19,7 +19,10 @@
  *     first spends B seconds on a build ends the group sooner only when
  *     L·t > n·B. B and t are estimated from the points done so far (a
  *     thread's first point of a group, which built its instance, against
- *     its later ones); until both are known a thread joins. An APD
+ *     its later ones); until both are known a thread joins. The rule
+ *     needs each thread to ask when it has finished its last point, so
+ *     that the time between two requests is a point's; an untimed
+ *     schedule (other processes' threads, which ask ahead) always joins. An APD
  *     model's lattices take most of a sweep of a few resolutions, and a
  *     second build of them at its end would take as long as the points it
  *     shares.
@@ -27,7 +30,8 @@
  * One thread takes the groups one after the other. Which thread computes
  * a point never changes its result: the sweep writes its tables from the
  * records in grid order. */
-#include "study/sweep_schedule.h"
+#include "core/internal.h"
+#include "quantcap/study.h"
 
 #include <pthread.h>
 #include <stdint.h>
@@ -56,6 +60,7 @@ struct qc_sweep_schedule {
     size_t first_open; /* groups before it are all handed out */
     worker_state *current;
     unsigned workers;
+    int timed; /* the join rule on; off: a worker always joins */
     /* seconds of the points that built an instance, and of the others */
     double build_s, point_s;
     size_t build_n, point_n;
@@ -117,7 +122,7 @@ static size_t number_groups(const size_t *todo, size_t ntodo, const size_t *sett
 }
 
 qc_status qc_sweep_schedule_alloc(const size_t *todo, size_t ntodo, const size_t *setting,
-                                  unsigned workers, qc_sweep_schedule **out)
+                                  unsigned workers, int timed, qc_sweep_schedule **out)
 {
     *out = NULL;
     qc_sweep_schedule *s = calloc(1, sizeof *s);
@@ -125,6 +130,7 @@ qc_status qc_sweep_schedule_alloc(const size_t *todo, size_t ntodo, const size_t
     if (!s || !gid)
         goto nomem;
     s->workers = workers ? workers : 1;
+    s->timed = timed;
     s->order = qc_malloc_array(ntodo ? ntodo : 1, sizeof *s->order);
     s->current = qc_malloc_array(s->workers, sizeof *s->current);
     if (!s->order || !s->current)
@@ -170,7 +176,7 @@ nomem:
 static int worth_joining(const qc_sweep_schedule *s, size_t g, double now)
 {
     const group *gr = &s->groups[g];
-    if (gr->threads < gr->ever) /* an instance is idle: no build */
+    if (!s->timed || gr->threads < gr->ever) /* untimed, or an instance is idle */
         return 1;
     if (s->build_n == 0 || s->point_n == 0)
         return 1;

@@ -14,7 +14,7 @@
 #include <string.h>
 #include <time.h>
 
-#include "study/sweep_schedule.h"
+#include "quantcap.h"
 
 static void pause_ms(long ms)
 {
@@ -32,14 +32,14 @@ static void test_one_thread_order(void **state)
     const size_t todo[9] = {0, 1, 2, 3, 5, 6, 7, 8, 9}; /* point 4 was resumed */
     const size_t want[9] = {0, 2, 1, 3, 5, 8, 6, 9, 7};
     qc_sweep_schedule *s;
-    assert_int_equal(qc_sweep_schedule_alloc(todo, 9, setting, 1, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_alloc(todo, 9, setting, 1, 1, &s), QC_OK);
     for (size_t k = 0; k < 9; k++)
         assert_int_equal(qc_sweep_schedule_next(s, 0), want[k]);
     assert_int_equal(qc_sweep_schedule_next(s, 0), SIZE_MAX);
     assert_int_equal(qc_sweep_schedule_next(s, 0), SIZE_MAX);
     qc_sweep_schedule_free(s);
     /* nothing to do */
-    assert_int_equal(qc_sweep_schedule_alloc(todo, 0, setting, 2, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_alloc(todo, 0, setting, 2, 1, &s), QC_OK);
     assert_int_equal(qc_sweep_schedule_next(s, 1), SIZE_MAX);
     qc_sweep_schedule_free(s);
 }
@@ -56,7 +56,7 @@ static void test_every_point_once(void **state)
         todo[i] = i;
     }
     qc_sweep_schedule *s;
-    assert_int_equal(qc_sweep_schedule_alloc(todo, N, setting, W, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_alloc(todo, N, setting, W, 1, &s), QC_OK);
     size_t got = 0;
     unsigned running = W;
     int done[W] = {0};
@@ -89,21 +89,21 @@ static void test_every_point_once(void **state)
  * follow, and points take about 1 ms: a second build would cost more than
  * sharing them saves (thread 1's own build took only 1 ms: the build
  * still running counts), so thread 1 stops and thread 0 takes them
- * all. */
+ * all. Without the timing rule it joins. */
 static void test_join_rule(void **state)
 {
     (void)state;
     const size_t setting[10] = {0, 0, 0, 0, 0, 0, 0, 0, 1, 1};
     const size_t todo[10] = {0, 1, 2, 3, 4, 5, 6, 7, 8, 9};
     qc_sweep_schedule *s;
-    assert_int_equal(qc_sweep_schedule_alloc(todo, 9, setting, 2, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_alloc(todo, 9, setting, 2, 1, &s), QC_OK);
     assert_int_equal(qc_sweep_schedule_next(s, 0), 0); /* builds setting 0 */
     assert_int_equal(qc_sweep_schedule_next(s, 1), 8); /* builds setting 1 */
     pause_ms(20);
     assert_int_equal(qc_sweep_schedule_next(s, 1), 1); /* joins */
     qc_sweep_schedule_free(s);
 
-    assert_int_equal(qc_sweep_schedule_alloc(todo, 10, setting, 2, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_alloc(todo, 10, setting, 2, 1, &s), QC_OK);
     assert_int_equal(qc_sweep_schedule_next(s, 0), 0); /* builds setting 0 */
     pause_ms(280);
     assert_int_equal(qc_sweep_schedule_next(s, 1), 8); /* builds setting 1 */
@@ -115,6 +115,17 @@ static void test_join_rule(void **state)
     for (size_t p = 1; p < 8; p++)
         assert_int_equal(qc_sweep_schedule_next(s, 0), p);
     assert_int_equal(qc_sweep_schedule_next(s, 0), SIZE_MAX);
+    qc_sweep_schedule_free(s);
+
+    /* untimed (workers that ask ahead, as other processes do): it joins */
+    assert_int_equal(qc_sweep_schedule_alloc(todo, 10, setting, 2, 0, &s), QC_OK);
+    assert_int_equal(qc_sweep_schedule_next(s, 0), 0);
+    pause_ms(280);
+    assert_int_equal(qc_sweep_schedule_next(s, 1), 8);
+    pause_ms(1);
+    assert_int_equal(qc_sweep_schedule_next(s, 1), 9);
+    pause_ms(1);
+    assert_int_equal(qc_sweep_schedule_next(s, 1), 1);
     qc_sweep_schedule_free(s);
 }
 

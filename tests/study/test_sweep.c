@@ -319,10 +319,12 @@ typedef struct {
 } fake_executor;
 
 static qc_status fake_execute(void *user, const size_t *todo, size_t ntodo,
-                              qc_sweep_deliver_fn deliver, void *ctx, char *msg, size_t cap)
+                              const size_t *setting, qc_sweep_deliver_fn deliver, void *ctx,
+                              char *msg, size_t cap)
 {
     fake_executor *fx = user;
     fx->calls++;
+    assert_non_null(setting); /* every point's model setting */
     if (fx->mode == OWN_FAILURE) {
         snprintf(msg, cap, "the link to the other processes broke");
         return QC_EIO;
