@@ -17,15 +17,15 @@
  *     instance of that group's model and the build costs more than it
  *     saves: with n threads on L points of t seconds each, a thread that
  *     first spends B seconds on a build ends the group sooner only when
- *     L·t > n·B. B and t are estimated from the points done so far (a
- *     thread's first point of a group, which built its instance, against
- *     its later ones); until both are known a thread joins. The rule
- *     needs each thread to ask when it has finished its last point, so
- *     that the time between two requests is a point's; an untimed
- *     schedule (other processes' threads, which ask ahead) always joins. An APD
- *     model's lattices take most of a sweep of a few resolutions, and a
- *     second build of them at its end would take as long as the points it
- *     shares.
+ *     L·t > n·B (an APD model's lattices take most of a sweep of a few
+ *     resolutions, and a second build of them near its end takes as long
+ *     as the points it would share). B and t are estimated from the
+ *     points done so far (a thread's first point of a group, which built
+ *     its instance, against its later ones); until both are known a
+ *     thread joins. The rule needs each thread to ask when it has
+ *     finished its last point, so that the time between two requests is
+ *     a point's; an untimed schedule (the threads of other processes,
+ *     which ask ahead) always joins.
  *
  * One thread takes the groups one after the other. Which thread computes
  * a point never changes its result: the sweep writes its tables from the
@@ -36,7 +36,6 @@
 #include <pthread.h>
 #include <stdint.h>
 #include <stdlib.h>
-#include <string.h>
 #include <time.h>
 
 typedef struct {
@@ -47,9 +46,9 @@ typedef struct {
 } group;
 
 typedef struct {
-    size_t group;  /* its group, SIZE_MAX for none          */
-    double started; /* monotonic seconds its point started, or < 0 */
-    int built;     /* that point builds a model instance     */
+    size_t group;   /* its group, SIZE_MAX for none                  */
+    double started; /* monotonic seconds its point started, or < 0   */
+    int built;      /* that point builds a model instance            */
 } worker_state;
 
 struct qc_sweep_schedule {
