@@ -17,7 +17,8 @@ static const cli_opt output_options[] = {
 
 #define THRESHOLD_RESOLUTION 1e-4 /* of the noise standard deviation, in text */
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
-/* more thresholds than this are listed by their first and last few */
+/* more thresholds (or listed levels) than this are listed by their first
+ * and last few */
 #define MAX_THRESHOLDS_LISTED 32
 #define THRESHOLDS_AT_EACH_END 8
 #define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
@@ -544,14 +545,29 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
         fprintf(f, "mean-square  %.6g (%s)^2 (Lloyd-Max)\n", r->mse, ou);
     print_convergence(f, r, ou, "convergence  ");
     print_thresholds(f, m, r, ou);
-    /* long level grids: only the mass points */
+    /* long level grids: only the mass points; more of them than
+     * MAX_LEVELS_LISTED: the first and last THRESHOLDS_AT_EACH_END */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
+    size_t shown = 0;
+    for (size_t x = 0; x < r->nlevels; x++)
+        shown += !mass_only || r->input[x] > 1e-6;
+    const int cut = shown > MAX_LEVELS_LISTED;
     fprintf(f, "\n\n       level   probability%s   (levels in %s%s)\n",
             mass_only ? "   (mass points: probability > 1e-6)" : "", lu,
             r->ppm_slots ? "; per slot: empty, pulsed" : "");
-    for (size_t x = 0; x < r->nlevels; x++)
-        if (!mass_only || r->input[x] > 1e-6)
+    for (size_t x = 0, k = 0; x < r->nlevels; x++) {
+        if (mass_only && !(r->input[x] > 1e-6))
+            continue;
+        if (!cut || k < THRESHOLDS_AT_EACH_END || k + THRESHOLDS_AT_EACH_END >= shown)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
+        else if (k == THRESHOLDS_AT_EACH_END)
+            fprintf(f, "         ...\n");
+        k++;
+    }
+    if (cut)
+        fprintf(f, "             (%zu %s; the first and last %d shown, --json lists every "
+                   "one)\n",
+                shown, mass_only ? "mass points" : "levels", THRESHOLDS_AT_EACH_END);
     if (r->states > 0)
         print_memory(f, r, ou, p);
 }

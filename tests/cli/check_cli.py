@@ -205,6 +205,12 @@ if rc == 0 and rcj == 0 and tl and ql:
           f"the cut listing says how many and where all are ({lines[tl[0] + 1]})")
     step = float(ql[0].split("step ")[1].split()[0])
     check(abs(step - (t[-1] - t[0]) / 254) < 1e-5 * step, f"uniform step on the quantizer line ({ql[0]})")
+    # the 64 levels, each a mass point: the first and last 8, then how many
+    head = [k for k, line in enumerate(lines) if line.strip().startswith("level ")]
+    rows = lines[head[0] + 1:] if head else []
+    check(len(rows) == 18 and rows[8].strip() == "..." and rows[0].split()[0] == "-63"
+          and rows[16].split()[0] == "63" and "64 mass points" in rows[17],
+          f"64 levels listed by their first and last 8 ({rows[:2]} ... {rows[-2:]})")
 else:
     check(False, f"uniform 8-bit design ran ({err})")
 
