@@ -17,10 +17,10 @@ static const cli_opt output_options[] = {
 
 #define THRESHOLD_RESOLUTION 1e-4 /* of the noise standard deviation, in text */
 #define MAX_LEVELS_LISTED 32 /* longer alphabets list their mass points only */
-/* more thresholds (or listed levels) than this are listed by their first
- * and last few */
+/* more thresholds than this (or levels than MAX_LEVELS_LISTED) are listed
+ * by their first and last LISTED_AT_EACH_END */
 #define MAX_THRESHOLDS_LISTED 32
-#define THRESHOLDS_AT_EACH_END 8
+#define LISTED_AT_EACH_END 8
 #define PROGRESS_DELAY_S 0.5 /* a design that ends sooner shows no progress bar */
 
 
@@ -317,7 +317,7 @@ static int threshold_digits(const qc_model *m, const qc_design_result *r, double
 
 /* The threshold listing: counts as integers, continuous outputs resolved
  * to 1e-4 of the noise standard deviation (full precision in JSON), the
- * first and last THRESHOLDS_AT_EACH_END of more than MAX_THRESHOLDS_LISTED,
+ * first and last LISTED_AT_EACH_END of more than MAX_THRESHOLDS_LISTED,
  * and a note when a count quantizer has fewer cells than asked for. */
 static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result *r,
                              const char *unit)
@@ -330,9 +330,9 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
         fprintf(f, "\nthresholds (%s) ", unit);
     const int cut = r->nthresholds > MAX_THRESHOLDS_LISTED;
     for (size_t j = 0; j < r->nthresholds; j++) {
-        if (cut && j == THRESHOLDS_AT_EACH_END) {
+        if (cut && j == LISTED_AT_EACH_END) {
             fprintf(f, ", ...");
-            j = r->nthresholds - THRESHOLDS_AT_EACH_END;
+            j = r->nthresholds - LISTED_AT_EACH_END;
         }
         double t = r->thresholds[j];
         int d = counts || r->converter ? 0 : threshold_digits(m, r, t);
@@ -346,7 +346,7 @@ static void print_thresholds(FILE *f, const qc_model *m, const qc_design_result 
     if (cut)
         fprintf(f, "\n             (%zu thresholds; the first and last %d shown, --json "
                    "lists every one)",
-                r->nthresholds, THRESHOLDS_AT_EACH_END);
+                r->nthresholds, LISTED_AT_EACH_END);
     if (r->nthresholds + 1 < r->cells)
         fprintf(f, "\n             capped at %zu of the %zu cells asked for: every count "
                    "that carries probability has its own cell",
@@ -546,7 +546,7 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     print_convergence(f, r, ou, "convergence  ");
     print_thresholds(f, m, r, ou);
     /* long level grids: only the mass points; more of them than
-     * MAX_LEVELS_LISTED: the first and last THRESHOLDS_AT_EACH_END */
+     * MAX_LEVELS_LISTED: the first and last LISTED_AT_EACH_END */
     int mass_only = r->nlevels > MAX_LEVELS_LISTED;
     size_t shown = 0;
     for (size_t x = 0; x < r->nlevels; x++)
@@ -558,16 +558,16 @@ static void design_table(FILE *f, const qc_model *m, const qc_design_request *re
     for (size_t x = 0, k = 0; x < r->nlevels; x++) {
         if (mass_only && !(r->input[x] > 1e-6))
             continue;
-        if (!cut || k < THRESHOLDS_AT_EACH_END || k + THRESHOLDS_AT_EACH_END >= shown)
+        if (!cut || k < LISTED_AT_EACH_END || k + LISTED_AT_EACH_END >= shown)
             fprintf(f, "  %10.6g   %.9f\n", r->levels[x], r->input[x]);
-        else if (k == THRESHOLDS_AT_EACH_END)
+        else if (k == LISTED_AT_EACH_END)
             fprintf(f, "         ...\n");
         k++;
     }
     if (cut)
         fprintf(f, "             (%zu %s; the first and last %d shown, --json lists every "
                    "one)\n",
-                shown, mass_only ? "mass points" : "levels", THRESHOLDS_AT_EACH_END);
+                shown, mass_only ? "mass points" : "levels", LISTED_AT_EACH_END);
     if (r->states > 0)
         print_memory(f, r, ou, p);
 }
