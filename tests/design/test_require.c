@@ -272,9 +272,10 @@ static qc_model *model_named(const qc_model_type *type, const char *const *names
 }
 
 /* Unequal variances cross twice: signal-dependent noise (unipolar PAM-8,
- * σ from 0.2 to 0.62), where the widest level wins again beyond the
- * others' tails, and the APD's Gaussian approximation; and a middle level
- * whose small law leaves it a region narrower than the noise scale. */
+ * σ from 0.02 to 0.053; and at σ 0.05 to 0.5 with an uneven law, where
+ * the loudest level wins again below the quiet ones' tails) and the
+ * APD's Gaussian approximation; and a middle level whose small law
+ * leaves it a region narrower than the noise scale. */
 static void test_map_boundaries_envelope(void **state)
 {
     (void)state;
