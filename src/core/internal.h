@@ -60,6 +60,10 @@ qc_status qc_read_file(const char *path, size_t max_bytes, const char *max_text,
  * results do not depend on the thread count (src/core/parallel.c). */
 int qc_parallel_worth(size_t entries);
 
+/* Whether a parallel region opened here would fork: outside any parallel
+ * construct, with more than one thread allowed. */
+int qc_parallel_free(void);
+
 /* One row of a parallel loop: row i with `scratch` of the length asked
  * for; 0 on success. */
 typedef int (*qc_row_fn)(size_t i, double *scratch, void *ctx);

@@ -1,7 +1,7 @@
-/* parallel.c — when a single computation spreads its rows over OpenMP
- * threads (the rows of a large transition matrix, the densities of a
- * large Newton step), and the loop that gives each thread its own
- * scratch. Callers branch on qc_parallel_worth before entering a parallel
+/* parallel.c — whether a parallel region opened here would fork at all,
+ * when a single computation spreads its rows over OpenMP threads (the
+ * rows of a large transition matrix, the densities of a large Newton
+ * step), and the loop that gives each thread its own scratch. Callers branch on qc_parallel_worth before entering a parallel
  * region: even a region that does not fork costs about a microsecond,
  * as much as a whole rate evaluation of a small channel. */
 #include "core/internal.h"
@@ -16,15 +16,18 @@
  * cost more than it saves: PAM-8 at 8 bits has 2056. */
 #define PARALLEL_MIN_ENTRIES 65536
 
-int qc_parallel_worth(size_t entries)
+int qc_parallel_free(void)
 {
 #ifdef _OPENMP
-    return entries >= PARALLEL_MIN_ENTRIES && omp_get_level() == 0 &&
-           omp_get_max_threads() > 1;
+    return omp_get_level() == 0 && omp_get_max_threads() > 1;
 #else
-    (void)entries;
     return 0;
 #endif
+}
+
+int qc_parallel_worth(size_t entries)
+{
+    return entries >= PARALLEL_MIN_ENTRIES && qc_parallel_free();
 }
 
 qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,

@@ -1,8 +1,8 @@
 /* test_threads.c — a large channel's rows, Newton derivatives, companding
- * density and merge losses are computed in OpenMP threads; the results
- * must be those of one thread to the last bit, whatever the number of
- * threads, and a failing row must give the serial run's message (the
- * first failing row's). A model instance with a state (caches filled as
+ * density and merge losses, and the starts of a capacity design, are
+ * computed in OpenMP threads; the results must be those of one thread to
+ * the last bit, whatever the number of threads, and a failing row must
+ * give the serial run's message (the first failing row's). A model instance with a state (caches filled as
  * it is used) is never evaluated by two threads at once. Skipped when the
  * library is built without OpenMP. */
 #include <setjmp.h>
@@ -134,6 +134,80 @@ static void test_design_any_threads(void **state)
     qc_model_free(m);
 }
 
+/* Progress reports of a design: they must never go back, and come from
+ * the thread that asked for the design. */
+typedef struct {
+    size_t last, total, reports, backwards, foreign;
+} progress_log;
+
+static void log_progress(void *user, size_t done, size_t total)
+{
+    progress_log *p = user;
+#pragma omp critical(test_threads_progress)
+    {
+#ifdef _OPENMP
+        p->foreign += omp_get_thread_num() != 0;
+#endif
+        p->backwards += done < p->last;
+        p->last = done;
+        p->total = total;
+        p->reports++;
+    }
+}
+
+/* The capacity design of the optimal strategy alternates from three
+ * starts, in threads when it can: the same thresholds, law, bounds and
+ * counts whatever the number of threads, and progress reported from the
+ * calling thread only, never going back and ending at its total. */
+static void test_capacity_design_any_threads(void **state)
+{
+    (void)state;
+    need_threads((size_t)1 << 30);
+    enum { M = 16 };
+    double levels[M];
+    for (size_t i = 0; i < M; i++)
+        levels[i] = -(double)(M - 1) + 2.0 * (double)i;
+    const double sigma = 1.0;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    qc_design_result ref = {0};
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        qc_design_request req;
+        qc_design_request_default(&req);
+        req.channel.model = m;
+        req.channel.levels = levels;
+        req.channel.nlevels = M;
+        req.quantizer.cells = 32;
+        req.input.objective = QC_OBJECTIVE_CAPACITY;
+        progress_log log = {0};
+        req.numerics.progress = log_progress;
+        req.numerics.progress_user = &log;
+        qc_design_result res;
+        assert_int_equal(qc_design(&req, &res), QC_OK);
+        assert_int_equal(log.backwards, 0);
+        assert_int_equal(log.foreign, 0);
+        assert_true(log.reports > 1);
+        assert_int_equal(log.last, log.total);
+        if (k == 0) {
+            ref = res;
+            continue;
+        }
+        assert_int_equal(res.nthresholds, ref.nthresholds);
+        assert_memory_equal(res.thresholds, ref.thresholds,
+                            sizeof *res.thresholds * res.nthresholds);
+        assert_memory_equal(res.input, ref.input, sizeof *res.input * M);
+        assert_memory_equal(&res.rate_bits, &ref.rate_bits, sizeof res.rate_bits);
+        assert_memory_equal(&res.upper_bound_bits, &ref.upper_bound_bits,
+                            sizeof res.upper_bound_bits);
+        assert_int_equal(res.iterations, ref.iterations);
+        assert_int_equal(res.design_iterations, ref.design_iterations);
+        qc_design_result_clear(&res);
+    }
+    qc_design_result_clear(&ref);
+    qc_model_free(m);
+}
+
 /* A model whose tails are not numbers from level FIRST_BAD on. */
 static qc_model_type broken;
 
@@ -200,6 +274,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_rows_any_threads),
         cmocka_unit_test(test_design_any_threads),
+        cmocka_unit_test(test_capacity_design_any_threads),
         cmocka_unit_test(test_failing_row_message),
         cmocka_unit_test(test_stateful_models_serial),
     };
