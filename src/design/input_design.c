@@ -279,6 +279,14 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         if ((st = qc_level_set_init(&set, req->input.constraints, designs_law ? NULL : law, x, n,
                                     dims)) != QC_OK)
             goto done;
+        if (!set.bounded && designs_law) {
+            /* the budgets constrain the designed law, which can send a
+             * far level with little mass: only the peak bounds a level */
+            st = qc_fail(QC_EINVAL, "optimize-levels with the capacity objective needs the "
+                                    "levels bounded by 'peak-limit' (the power and mean "
+                                    "limits constrain the designed law, not the levels)");
+            goto done;
+        }
         if (!set.bounded) {
             st = qc_fail(QC_EINVAL, "optimize-levels needs the levels bounded: give 'peak-limit' "
                                     "or 'power-limit' (or 'mean-limit' for intensity levels)");
