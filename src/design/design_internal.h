@@ -148,13 +148,15 @@ qc_status qc_design_figures(const qc_design_request *req, qc_design_result *r);
 typedef qc_status (*qc_level_design)(void *ctx, const double *x, qc_design_result *res);
 
 /* Nelder–Mead (GSL nmsimplex2) over the level vector projected into `set`,
- * from `starts` starting points: the given levels, equally spaced levels
- * filling the set, and perturbations of the best found (fixed seed).
- * best_out receives the best levels (sorted), *rate_bits their objective,
- * *evaluations the designs run. */
+ * from `starts` (≥ 1) starting points: the given levels, equally spaced
+ * levels filling the set, and perturbations of the best found (fixed
+ * seed). threads_ok: `design` may run in two threads at once (the first
+ * two starts then do, outside any parallel construct). best_out receives
+ * the best levels (sorted), *rate_bits their objective, *evaluations the
+ * designs run. */
 qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
-                          qc_level_design design, void *ctx, double *best_out,
-                          double *rate_bits, size_t *evaluations);
+                          int threads_ok, qc_level_design design, void *ctx,
+                          double *best_out, double *rate_bits, size_t *evaluations);
 /* Most designs one start of that search runs for n levels. */
 size_t qc_level_search_budget(size_t n);
 

@@ -13,6 +13,10 @@
 #include <stdlib.h>
 #include <string.h>
 
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
 #define DEFAULT_LEVEL_STARTS 3
 #define MAX_LEVEL_STARTS 64
 
@@ -22,7 +26,7 @@ typedef struct {
     const double *law;   /* the law tied to the (sorted) levels; NULL: uniform */
     int searching;       /* inside the level search: skip reporting work */
     size_t evals, evals_total; /* level search progress: designs run, budget */
-    double *power_cost, *mean_cost; /* nlevels each */
+    int level;           /* OpenMP nesting level of the caller            */
 } design_ctx;
 
 /* The request with the alphabet fields cleared, for the threshold design. */
@@ -139,8 +143,19 @@ static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
         sub.numerics.skip_snr_penalty = 1;
         /* the search reports its designs, not the stages inside each */
         sub.numerics.progress = NULL;
+        /* the search may run two designs at once (its first two starts
+         * in a team of threads): count both, report from the caller */
         design_ctx *mc = ctx;
-        qc_design_progress(req, ++mc->evals, c->evals_total + 1);
+        size_t done;
+#pragma omp atomic capture
+        done = ++mc->evals;
+#ifdef _OPENMP
+        int caller = omp_get_level() == c->level || omp_get_thread_num() == 0;
+#else
+        int caller = 1;
+#endif
+        if (caller)
+            qc_design_progress(req, done, c->evals_total + 1);
     } else if (c->evals_total) {
         sub.numerics.progress = NULL; /* the final design after a search: one unit */
     }
@@ -149,13 +164,18 @@ static qc_status design_at(void *ctx, const double *x, qc_design_result *res)
     if (req->input.objective == QC_OBJECTIVE_CAPACITY) {
         /* average constraints become costs of the law in the one
          * alternation of thresholds and law; a peak only trims levels */
+        const size_t n = req->channel.nlevels;
+        double *per_level = qc_malloc_array(2 * n, sizeof *per_level); /* this design's own */
+        if (!per_level)
+            return qc_fail(QC_ENOMEM, "out of memory");
         qc_cost costs[2];
-        size_t k = qc_constraint_costs(req->input.constraints, x, req->channel.nlevels, c->dims,
-                                       c->power_cost, c->mean_cost, costs);
-        if (k > 0 && (st = qc_constraints_check(req->input.constraints, x, req->channel.nlevels,
-                                                c->dims)) != QC_OK)
-            return st;
-        return qc_design_thresholds(&sub, costs, k, res);
+        size_t k = qc_constraint_costs(req->input.constraints, x, n, c->dims, per_level,
+                                       per_level + n, costs);
+        st = k > 0 ? qc_constraints_check(req->input.constraints, x, n, c->dims) : QC_OK;
+        if (st == QC_OK)
+            st = qc_design_thresholds(&sub, costs, k, res);
+        free(per_level);
+        return st;
     }
     if ((st = qc_constraints_check_law(req->input.constraints, x, c->law, req->channel.nlevels,
                                        c->dims)) != QC_OK)
@@ -248,9 +268,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
     double *x = qc_malloc_array(n, sizeof *x), *law = NULL;
     level_law *pairs = NULL;
     qc_level_set set = {0};
-    c.power_cost = qc_malloc_array(n, sizeof *c.power_cost);
-    c.mean_cost = qc_malloc_array(n, sizeof *c.mean_cost);
-    if (!x || !c.power_cost || !c.mean_cost) {
+    if (!x) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
@@ -298,7 +316,11 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
         c.evals_total = starts * qc_level_search_budget(n);
         double best;
         c.searching = 1;
-        st = qc_level_search(&set, x, starts, design_at, &c, x, &best, &evaluations);
+#ifdef _OPENMP
+        c.level = omp_get_level();
+#endif
+        st = qc_level_search(&set, x, starts, qc_model_thread_safe(req->channel.model),
+                             design_at, &c, x, &best, &evaluations);
         c.searching = 0;
         if (st != QC_OK)
             goto done;
@@ -321,7 +343,5 @@ done:
     free(x);
     free(law);
     free(pairs);
-    free(c.power_cost);
-    free(c.mean_cost);
     return st;
 }

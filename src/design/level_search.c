@@ -6,7 +6,11 @@
  * with a small quadratic penalty on the distance pulled so the simplex
  * stays near the set. Several starts: the given levels, equally spaced
  * levels filling the set, and random perturbations of the best so far
- * (GSL's MT19937 with a fixed seed, so runs repeat exactly). */
+ * (GSL's MT19937 with a fixed seed, so runs repeat exactly). The first
+ * two starts depend on nothing found, so each has its own search state
+ * and, when the caller allows, they run in two OpenMP threads; their
+ * bests are taken in the order of the starts, which gives the bits of a
+ * run of one after the other. */
 #include "design/design_internal.h"
 
 #include <math.h>
@@ -131,19 +135,75 @@ done:
 
 size_t qc_level_search_budget(size_t n) { return EVALS_BASE + EVALS_PER_LEVEL * n; }
 
+/* A search state for the starts (x: 2n of scratch, best_x: n). */
+static qc_status search_alloc(search *s, const search *like)
+{
+    const size_t n = like->set->n;
+    *s = *like;
+    s->x = qc_malloc_array(2 * n, sizeof *s->x);
+    s->best_x = qc_malloc_array(n, sizeof *s->best_x);
+    return s->x && s->best_x ? QC_OK : qc_fail(QC_ENOMEM, "out of memory");
+}
+
+static void search_free(search *s)
+{
+    free(s->x);
+    free(s->best_x);
+}
+
+/* Start b's outcome into a, which holds the starts before it: the first
+ * best in their order and the first failure, as one run after another. */
+static void merge_search(search *a, const search *b)
+{
+    const size_t n = a->set->n;
+    if (b->best > a->best) {
+        a->best = b->best;
+        memcpy(a->best_x, b->best_x, n * sizeof *a->best_x);
+    }
+    a->evals += b->evals;
+    if (a->failure == QC_OK && b->failure != QC_OK) {
+        a->failure = b->failure;
+        memcpy(a->message, b->message, sizeof a->message);
+    }
+}
+
+/* The start the first two runs begin from: k = 0 the given levels, 1
+ * equally spaced levels filling the set (far outside where it is open),
+ * pulled into the set. */
+static void first_start(const search *s, const double *start, size_t k, double *z)
+{
+    const qc_level_set *set = s->set;
+    const size_t n = set->n;
+    if (k == 0) {
+        memcpy(z, start, n * sizeof *z);
+    } else {
+        double lo = isfinite(set->lo) ? set->lo : -FILL_FACTOR * s->width;
+        double hi = isfinite(set->hi) ? set->hi : FILL_FACTOR * s->width;
+        if (!isfinite(set->lo) && isfinite(set->hi))
+            lo = set->hi - 2.0 * FILL_FACTOR * s->width;
+        if (isfinite(set->lo) && !isfinite(set->hi))
+            hi = set->lo + 2.0 * FILL_FACTOR * s->width;
+        for (size_t i = 0; i < n; i++)
+            z[i] = lo + (hi - lo) * (double)i / (double)(n - 1);
+    }
+    qc_level_set_project(set, z);
+}
+
 qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
-                          qc_level_design design, void *ctx, double *best_out,
-                          double *rate_bits, size_t *evaluations)
+                          int threads_ok, qc_level_design design, void *ctx,
+                          double *best_out, double *rate_bits, size_t *evaluations)
 {
     qc_gsl_init();
+    if (starts == 0)
+        return qc_fail(QC_EINVAL, "level search: no starts");
     const size_t n = set->n;
-    search s = {.set = set, .design = design, .ctx = ctx, .best = -INFINITY};
-    s.x = qc_malloc_array(2 * n, sizeof *s.x);
-    s.best_x = qc_malloc_array(n, sizeof *s.best_x);
-    double *z = qc_malloc_array(n, sizeof *z);
+    search like = {.set = set, .design = design, .ctx = ctx, .best = -INFINITY};
+    search run[2];
+    size_t ready = 0; /* search states to free */
+    double *z = qc_malloc_array(2 * n, sizeof *z);
     gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
     qc_status st = QC_OK;
-    if (!s.x || !s.best_x || !z || !rng) {
+    if (!z || !rng) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
@@ -152,50 +212,60 @@ qc_status qc_level_search(const qc_level_set *set, const double *start, size_t s
     memcpy(z, start, n * sizeof *z);
     qc_level_set_project(set, z);
     if (isfinite(set->lo) && isfinite(set->hi))
-        s.width = set->hi - set->lo;
+        like.width = set->hi - set->lo;
     else if (!isnan(set->power))
-        s.width = 2.0 * sqrt(set->power);
+        like.width = 2.0 * sqrt(set->power);
     else
-        s.width = z[n - 1] - z[0];
-    if (!(s.width > 0.0) || !isfinite(s.width))
-        s.width = 1.0;
-    for (size_t k = 0; k < starts && st == QC_OK; k++) {
-        if (k == 0) {
-            memcpy(z, start, n * sizeof *z);
-            qc_level_set_project(set, z);
-        } else if (k == 1) {
-            /* equally spaced, far outside, pulled onto the boundary */
-            double lo = isfinite(set->lo) ? set->lo : -FILL_FACTOR * s.width;
-            double hi = isfinite(set->hi) ? set->hi : FILL_FACTOR * s.width;
-            if (!isfinite(set->lo) && isfinite(set->hi))
-                lo = set->hi - 2.0 * FILL_FACTOR * s.width;
-            if (isfinite(set->lo) && !isfinite(set->hi))
-                hi = set->lo + 2.0 * FILL_FACTOR * s.width;
-            for (size_t i = 0; i < n; i++)
-                z[i] = lo + (hi - lo) * (double)i / (double)(n - 1);
-            qc_level_set_project(set, z);
-        } else {
-            if (!isfinite(s.best)) /* nothing evaluable yet: perturb the start */
-                memcpy(s.best_x, start, n * sizeof *z);
-            for (size_t i = 0; i < n; i++)
-                z[i] = s.best_x[i] + gsl_ran_gaussian(rng, PERTURB_FRACTION * s.width);
-            qc_level_set_project(set, z);
-        }
-        st = run_from(&s, z);
+        like.width = z[n - 1] - z[0];
+    if (!(like.width > 0.0) || !isfinite(like.width))
+        like.width = 1.0;
+    const size_t first = starts < 2 ? starts : 2;
+    for (size_t k = 0; k < first && st == QC_OK; k++) {
+        st = search_alloc(&run[k], &like);
+        ready = k + 1;
     }
-    if (st == QC_OK && s.failure != QC_OK)
-        st = qc_fail(s.failure, "level search: %s", s.message);
-    if (st == QC_OK && !isfinite(s.best))
+    if (st != QC_OK)
+        goto done;
+    qc_status run_st[2] = {QC_OK, QC_OK};
+    char run_msg[2][512];
+    /* the first two starts, each with its own state */
+#pragma omp parallel for schedule(static, 1) if (first > 1 && threads_ok && qc_parallel_free())
+    for (size_t k = 0; k < first; k++) {
+        double *zk = z + k * n;
+        first_start(&run[k], start, k, zk);
+        run_st[k] = run_from(&run[k], zk);
+        if (run_st[k] != QC_OK)
+            snprintf(run_msg[k], sizeof run_msg[k], "%s", qc_last_error());
+    }
+    search *s = &run[0];
+    for (size_t k = 0; k < first && st == QC_OK; k++) {
+        if (run_st[k] != QC_OK)
+            st = qc_fail(run_st[k], "%s", run_msg[k]);
+        else if (k > 0)
+            merge_search(s, &run[k]);
+    }
+    /* then perturbations of the best so far, one after another */
+    for (size_t k = first; k < starts && st == QC_OK; k++) {
+        if (!isfinite(s->best)) /* nothing evaluable yet: perturb the start */
+            memcpy(s->best_x, start, n * sizeof *z);
+        for (size_t i = 0; i < n; i++)
+            z[i] = s->best_x[i] + gsl_ran_gaussian(rng, PERTURB_FRACTION * s->width);
+        qc_level_set_project(set, z);
+        st = run_from(s, z);
+    }
+    if (st == QC_OK && s->failure != QC_OK)
+        st = qc_fail(s->failure, "level search: %s", s->message);
+    if (st == QC_OK && !isfinite(s->best))
         st = qc_fail(QC_EINFEASIBLE, "level search: no level placement tried could be "
                                      "designed under the constraints");
     if (st == QC_OK) {
-        memcpy(best_out, s.best_x, n * sizeof *best_out);
-        *rate_bits = s.best;
+        memcpy(best_out, s->best_x, n * sizeof *best_out);
+        *rate_bits = s->best;
     }
-    *evaluations = s.evals;
+    *evaluations = s->evals;
 done:
-    free(s.x);
-    free(s.best_x);
+    for (size_t k = 0; k < ready; k++)
+        search_free(&run[k]);
     free(z);
     gsl_rng_free(rng);
     return st;

@@ -1,6 +1,6 @@
 /* test_threads.c — a large channel's rows, Newton derivatives, companding
- * density and merge losses, and the starts of a capacity design, are
- * computed in OpenMP threads; the results must be those of one thread to
+ * density and merge losses, the starts of a capacity design and of a
+ * level search, are computed in OpenMP threads; the results must be those of one thread to
  * the last bit, whatever the number of threads, and a failing row must
  * give the serial run's message (the first failing row's). A model instance with a state (caches filled as
  * it is used) is never evaluated by two threads at once. Skipped when the
@@ -208,6 +208,62 @@ static void test_capacity_design_any_threads(void **state)
     qc_model_free(m);
 }
 
+/* Level optimization runs its first two starts in threads when it can:
+ * the same levels, law, rate and count of designs whatever the number of
+ * threads, for the MI objective and for the capacity objective (whose
+ * designs each form their own per-level costs), and progress reported
+ * from the calling thread only. */
+static void test_level_search_any_threads(void **state)
+{
+    (void)state;
+    need_threads((size_t)1 << 30);
+    const double sigma = 0.4;
+    qc_model *m;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
+    qc_constraints box;
+    qc_constraints_none(&box);
+    box.peak = 2.0;
+    box.power = 1.5;
+    for (int capacity = 0; capacity <= 1; capacity++) {
+        qc_design_result ref = {0};
+        for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+            set_threads(thread_counts[k]);
+            const double levels[4] = {-1.2, -0.4, 0.4, 1.2};
+            qc_design_request req;
+            qc_design_request_default(&req);
+            req.channel.model = m;
+            req.channel.levels = levels;
+            req.channel.nlevels = 4;
+            req.quantizer.cells = capacity ? 4 : 8;
+            req.input.constraints = &box;
+            req.input.optimize_levels = 1;
+            req.input.level_starts = 2;
+            req.input.objective = capacity ? QC_OBJECTIVE_CAPACITY : QC_OBJECTIVE_MI;
+            progress_log log = {0};
+            req.numerics.progress = log_progress;
+            req.numerics.progress_user = &log;
+            qc_design_result res;
+            assert_int_equal(qc_design(&req, &res), QC_OK);
+            assert_int_equal(log.backwards, 0);
+            assert_int_equal(log.foreign, 0);
+            assert_true(res.level_evaluations > 2);
+            if (k == 0) {
+                ref = res;
+                continue;
+            }
+            assert_int_equal(res.level_evaluations, ref.level_evaluations);
+            assert_memory_equal(res.levels, ref.levels, sizeof *res.levels * 4);
+            assert_memory_equal(res.input, ref.input, sizeof *res.input * 4);
+            assert_memory_equal(res.thresholds, ref.thresholds,
+                                sizeof *res.thresholds * res.nthresholds);
+            assert_memory_equal(&res.rate_bits, &ref.rate_bits, sizeof res.rate_bits);
+            qc_design_result_clear(&res);
+        }
+        qc_design_result_clear(&ref);
+    }
+    qc_model_free(m);
+}
+
 /* A model whose tails are not numbers from level FIRST_BAD on. */
 static qc_model_type broken;
 
@@ -275,6 +331,7 @@ int main(void)
         cmocka_unit_test(test_rows_any_threads),
         cmocka_unit_test(test_design_any_threads),
         cmocka_unit_test(test_capacity_design_any_threads),
+        cmocka_unit_test(test_level_search_any_threads),
         cmocka_unit_test(test_failing_row_message),
         cmocka_unit_test(test_stateful_models_serial),
     };
