@@ -281,6 +281,8 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
 #pragma omp parallel for schedule(dynamic, 1) if (prog.threads)
     for (size_t s = 0; s < nstarts; s++)
         run_start(&run[s], starts[s], start);
+    /* every start done (the calling thread may have run none of them) */
+    qc_design_progress(req, nstarts * MAX_ALTERNATIONS, prog.work);
     /* the first failure in the order of the starts, as one run after
      * another would meet it */
     for (size_t s = 0; s < nstarts && st == QC_OK; s++)
