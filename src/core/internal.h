@@ -62,7 +62,7 @@ int qc_parallel_worth(size_t entries);
 
 /* Whether a parallel region opened here would fork: outside any parallel
  * construct, with more than one thread allowed. */
-int qc_parallel_free(void);
+int qc_parallel_can_fork(void);
 
 /* One row of a parallel loop: row i with `scratch` of the length asked
  * for; 0 on success. */

@@ -1,9 +1,10 @@
 /* parallel.c — whether a parallel region opened here would fork at all,
  * when a single computation spreads its rows over OpenMP threads (the
  * rows of a large transition matrix, the densities of a large Newton
- * step), and the loop that gives each thread its own scratch. Callers branch on qc_parallel_worth before entering a parallel
- * region: even a region that does not fork costs about a microsecond,
- * as much as a whole rate evaluation of a small channel. */
+ * step), and the loop that gives each thread its own scratch. Callers
+ * branch on qc_parallel_worth before entering a parallel region: even a
+ * region that does not fork costs about a microsecond, as much as a
+ * whole rate evaluation of a small channel. */
 #include "core/internal.h"
 
 #include <stdlib.h>
@@ -16,7 +17,7 @@
  * cost more than it saves: PAM-8 at 8 bits has 2056. */
 #define PARALLEL_MIN_ENTRIES 65536
 
-int qc_parallel_free(void)
+int qc_parallel_can_fork(void)
 {
 #ifdef _OPENMP
     return omp_get_level() == 0 && omp_get_max_threads() > 1;
@@ -27,7 +28,7 @@ int qc_parallel_free(void)
 
 int qc_parallel_worth(size_t entries)
 {
-    return entries >= PARALLEL_MIN_ENTRIES && qc_parallel_free();
+    return entries >= PARALLEL_MIN_ENTRIES && qc_parallel_can_fork();
 }
 
 qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,

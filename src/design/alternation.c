@@ -277,7 +277,7 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
         goto done;
     prog.work = nstarts * MAX_ALTERNATIONS + 1;
 
-    prog.threads = nstarts > 1 && qc_parallel_free() && qc_model_thread_safe(a->model);
+    prog.threads = nstarts > 1 && qc_parallel_can_fork() && qc_model_thread_safe(a->model);
 #pragma omp parallel for schedule(dynamic, 1) if (prog.threads)
     for (size_t s = 0; s < nstarts; s++)
         run_start(&run[s], starts[s], start);

@@ -229,7 +229,7 @@ qc_status qc_level_search(const qc_level_set *set, const double *start, size_t s
     qc_status run_st[2] = {QC_OK, QC_OK};
     char run_msg[2][512];
     /* the first two starts, each with its own state */
-#pragma omp parallel for schedule(static, 1) if (first > 1 && threads_ok && qc_parallel_free())
+#pragma omp parallel for schedule(static, 1) if (first > 1 && threads_ok && qc_parallel_can_fork())
     for (size_t k = 0; k < first; k++) {
         double *zk = z + k * n;
         first_start(&run[k], start, k, zk);

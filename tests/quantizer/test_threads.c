@@ -1,10 +1,11 @@
 /* test_threads.c — a large channel's rows, Newton derivatives, companding
- * density and merge losses, the starts of a capacity design and of a
- * level search, are computed in OpenMP threads; the results must be those of one thread to
- * the last bit, whatever the number of threads, and a failing row must
- * give the serial run's message (the first failing row's). A model instance with a state (caches filled as
- * it is used) is never evaluated by two threads at once. Skipped when the
- * library is built without OpenMP. */
+ * density and merge losses, and the starts of a capacity design and of a
+ * level search, are computed in OpenMP threads; the results must be those
+ * of one thread to the last bit, whatever the number of threads, and a
+ * failing row must give the serial run's message (the first failing
+ * row's). A model instance with a state (caches filled as it is used) is
+ * never evaluated by two threads at once. Skipped when the library is
+ * built without OpenMP. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
