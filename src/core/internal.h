@@ -76,4 +76,15 @@ typedef int (*qc_row_fn)(size_t i, double *scratch, void *ctx);
 qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,
                            size_t *first_failed);
 
+/* Independent start i of a search (each with its own state in ctx). */
+typedef qc_status (*qc_start_fn)(size_t i, void *ctx);
+
+/* Runs start(i, ctx) for every i in [0, n), n ≤ QC_PARALLEL_STARTS_MAX:
+ * in OpenMP threads when `threads` is set and a region here would fork,
+ * else one after another. The status is the first failing start's in
+ * index order, with its message (raised again in the calling thread), as
+ * one start after another would meet it; QC_OK when none failed. */
+#define QC_PARALLEL_STARTS_MAX 8
+qc_status qc_parallel_starts(size_t n, int threads, qc_start_fn start, void *ctx);
+
 #endif

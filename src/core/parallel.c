@@ -1,12 +1,14 @@
 /* parallel.c — whether a parallel region opened here would fork at all,
  * when a single computation spreads its rows over OpenMP threads (the
  * rows of a large transition matrix, the densities of a large Newton
- * step), and the loop that gives each thread its own scratch. Callers
+ * step), the loop that gives each thread its own scratch, and the loop
+ * that runs the independent starts of a search. Callers
  * branch on qc_parallel_worth before entering a parallel region: even a
  * region that does not fork costs about a microsecond, as much as a
  * whole rate evaluation of a small channel. */
 #include "core/internal.h"
 
+#include <stdio.h>
 #include <stdlib.h>
 
 #ifdef _OPENMP
@@ -56,4 +58,23 @@ qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ct
         *first_failed = failed;
     return no_memory ? qc_fail(QC_ENOMEM, "out of memory for the scratch of %zu rows", n)
                      : QC_OK;
+}
+
+qc_status qc_parallel_starts(size_t n, int threads, qc_start_fn start, void *ctx)
+{
+    if (n > QC_PARALLEL_STARTS_MAX)
+        return qc_fail(QC_EINVAL, "at most %d independent starts (got %zu)",
+                       QC_PARALLEL_STARTS_MAX, n);
+    qc_status status[QC_PARALLEL_STARTS_MAX];
+    char message[QC_PARALLEL_STARTS_MAX][1024]; /* the detail message is per thread */
+#pragma omp parallel for schedule(dynamic, 1) if (n > 1 && threads && qc_parallel_can_fork())
+    for (size_t i = 0; i < n; i++) {
+        status[i] = start(i, ctx);
+        if (status[i] != QC_OK)
+            snprintf(message[i], sizeof message[i], "%s", qc_last_error());
+    }
+    for (size_t i = 0; i < n; i++)
+        if (status[i] != QC_OK)
+            return qc_fail(status[i], "%s", message[i]);
+    return QC_OK;
 }

@@ -27,7 +27,6 @@
 #include "design/design_internal.h"
 
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -67,8 +66,6 @@ typedef struct {
     qc_convergence convergence; /* Lloyd–Max: worst over its designs        */
     double residual;            /* Lloyd–Max: largest residual seen         */
     double *t, *cand;           /* the thresholds, a candidate              */
-    qc_status status;           /* of the whole start                       */
-    char error[1024];           /* its message (qc_last_error is per thread) */
 } alternation;
 
 /* Start a's alternation has done `units` rounds. The sum over the starts
@@ -198,18 +195,25 @@ static void start_free(alternation *a)
     free(a->cand);
 }
 
-/* One start: the strategy `first` designs for the law `start`, then the
- * alternation from there; the status and its message stay in a. */
-static void run_start(alternation *a, const qc_threshold_strategy *first, const double *start)
+/* The starts: each one's state, first strategy and the starting law. */
+typedef struct {
+    alternation *run;
+    const qc_threshold_strategy *const *first;
+    const double *law;
+} starts_ctx;
+
+/* Start s: its first strategy designs for the starting law, then the
+ * alternation from there. */
+static qc_status run_start(size_t s, void *ctx)
 {
-    memcpy(a->law, start, a->n * sizeof *a->law);
-    qc_status st = strategy_step(a, first, start, 0, a->t);
+    const starts_ctx *c = ctx;
+    alternation *a = &c->run[s];
+    memcpy(a->law, c->law, a->n * sizeof *a->law);
+    qc_status st = strategy_step(a, c->first[s], c->law, 0, a->t);
     if (st == QC_OK)
         st = alternate(a, a->t, a->cand);
-    a->status = st;
-    if (st != QC_OK)
-        snprintf(a->error, sizeof a->error, "%s", qc_last_error());
     report(a, MAX_ALTERNATIONS);
+    return st;
 }
 
 /* Start b's outcome into a, which holds the starts before it: the first
@@ -278,16 +282,10 @@ qc_status qc_design_alternation(const qc_design_request *req, const qc_cost *cos
     prog.work = nstarts * MAX_ALTERNATIONS + 1;
 
     prog.threads = nstarts > 1 && qc_parallel_can_fork() && qc_model_thread_safe(a->model);
-#pragma omp parallel for schedule(dynamic, 1) if (prog.threads)
-    for (size_t s = 0; s < nstarts; s++)
-        run_start(&run[s], starts[s], start);
+    starts_ctx sc = {.run = run, .first = starts, .law = start};
+    st = qc_parallel_starts(nstarts, prog.threads, run_start, &sc);
     /* every start done (the calling thread may have run none of them) */
     qc_design_progress(req, nstarts * MAX_ALTERNATIONS, prog.work);
-    /* the first failure in the order of the starts, as one run after
-     * another would meet it */
-    for (size_t s = 0; s < nstarts && st == QC_OK; s++)
-        if (run[s].status != QC_OK)
-            st = qc_fail(run[s].status, "%s", run[s].error);
     if (st != QC_OK)
         goto done;
     for (size_t s = 1; s < nstarts; s++)

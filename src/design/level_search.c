@@ -167,6 +167,13 @@ static void merge_search(search *a, const search *b)
     }
 }
 
+/* The first two runs, each with its own state, and where they begin. */
+typedef struct {
+    search *run;
+    const double *start; /* the given levels                  */
+    double *z;           /* scratch: n per run                 */
+} first_ctx;
+
 /* The start the first two runs begin from: k = 0 the given levels, 1
  * equally spaced levels filling the set (far outside where it is open),
  * pulled into the set. */
@@ -187,6 +194,16 @@ static void first_start(const search *s, const double *start, size_t k, double *
             z[i] = lo + (hi - lo) * (double)i / (double)(n - 1);
     }
     qc_level_set_project(set, z);
+}
+
+/* First run k from its own start. */
+static qc_status run_first(size_t k, void *ctx)
+{
+    const first_ctx *c = ctx;
+    search *s = &c->run[k];
+    double *z = c->z + k * s->set->n;
+    first_start(s, c->start, k, z);
+    return run_from(s, z);
 }
 
 qc_status qc_level_search(const qc_level_set *set, const double *start, size_t starts,
@@ -226,24 +243,12 @@ qc_status qc_level_search(const qc_level_set *set, const double *start, size_t s
     }
     if (st != QC_OK)
         goto done;
-    qc_status run_st[2] = {QC_OK, QC_OK};
-    char run_msg[2][512];
     /* the first two starts, each with its own state */
-#pragma omp parallel for schedule(static, 1) if (first > 1 && threads_ok && qc_parallel_can_fork())
-    for (size_t k = 0; k < first; k++) {
-        double *zk = z + k * n;
-        first_start(&run[k], start, k, zk);
-        run_st[k] = run_from(&run[k], zk);
-        if (run_st[k] != QC_OK)
-            snprintf(run_msg[k], sizeof run_msg[k], "%s", qc_last_error());
-    }
+    first_ctx fc = {.run = run, .start = start, .z = z};
+    st = qc_parallel_starts(first, threads_ok, run_first, &fc);
     search *s = &run[0];
-    for (size_t k = 0; k < first && st == QC_OK; k++) {
-        if (run_st[k] != QC_OK)
-            st = qc_fail(run_st[k], "%s", run_msg[k]);
-        else if (k > 0)
-            merge_search(s, &run[k]);
-    }
+    for (size_t k = 1; k < first && st == QC_OK; k++)
+        merge_search(s, &run[k]);
     /* then perturbations of the best so far, one after another */
     for (size_t k = first; k < starts && st == QC_OK; k++) {
         if (!isfinite(s->best)) /* nothing evaluable yet: perturb the start */
