@@ -95,6 +95,24 @@ static void test_rows_any_threads(void **state)
     qc_model_free(m);
 }
 
+/* Levels −(m − 1), …, −1, 1, …, m − 1 of m-PAM. */
+static void pam_levels(double *levels, size_t m)
+{
+    for (size_t i = 0; i < m; i++)
+        levels[i] = -(double)(m - 1) + 2.0 * (double)i;
+}
+
+/* The default request for n levels of model m into `cells` cells. */
+static void design_request(qc_design_request *req, const qc_model *m, const double *levels,
+                           size_t n, size_t cells)
+{
+    qc_design_request_default(req);
+    req->channel.model = m;
+    req->channel.levels = levels;
+    req->channel.nlevels = n;
+    req->quantizer.cells = cells;
+}
+
 /* The whole optimal design of 256-PAM at 8 bits: grid, DP, companding
  * start, Newton steps, threshold moves, tidying and figures. */
 static void test_design_any_threads(void **state)
@@ -103,8 +121,7 @@ static void test_design_any_threads(void **state)
     need_threads(256 * 256);
     enum { M = 256 };
     double levels[M];
-    for (size_t i = 0; i < M; i++)
-        levels[i] = -(double)(M - 1) + 2.0 * (double)i;
+    pam_levels(levels, M);
     const double sigma = 4.0;
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
@@ -112,11 +129,7 @@ static void test_design_any_threads(void **state)
     for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
         set_threads(thread_counts[k]);
         qc_design_request req;
-        qc_design_request_default(&req);
-        req.channel.model = m;
-        req.channel.levels = levels;
-        req.channel.nlevels = M;
-        req.quantizer.cells = 256;
+        design_request(&req, m, levels, M, 256);
         qc_design_result res;
         assert_int_equal(qc_design(&req, &res), QC_OK);
         if (k == 0) {
@@ -166,8 +179,7 @@ static void test_capacity_design_any_threads(void **state)
     need_threads((size_t)1 << 30);
     enum { M = 16 };
     double levels[M];
-    for (size_t i = 0; i < M; i++)
-        levels[i] = -(double)(M - 1) + 2.0 * (double)i;
+    pam_levels(levels, M);
     const double sigma = 1.0;
     qc_model *m;
     assert_int_equal(qc_model_alloc(&qc_model_gauss, &sigma, &m), QC_OK);
@@ -175,11 +187,7 @@ static void test_capacity_design_any_threads(void **state)
     for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
         set_threads(thread_counts[k]);
         qc_design_request req;
-        qc_design_request_default(&req);
-        req.channel.model = m;
-        req.channel.levels = levels;
-        req.channel.nlevels = M;
-        req.quantizer.cells = 32;
+        design_request(&req, m, levels, M, 32);
         req.input.objective = QC_OBJECTIVE_CAPACITY;
         progress_log log = {0};
         req.numerics.progress = log_progress;
@@ -231,11 +239,7 @@ static void test_level_search_any_threads(void **state)
             set_threads(thread_counts[k]);
             const double levels[4] = {-1.2, -0.4, 0.4, 1.2};
             qc_design_request req;
-            qc_design_request_default(&req);
-            req.channel.model = m;
-            req.channel.levels = levels;
-            req.channel.nlevels = 4;
-            req.quantizer.cells = capacity ? 4 : 8;
+            design_request(&req, m, levels, 4, capacity ? 4 : 8);
             req.input.constraints = &box;
             req.input.optimize_levels = 1;
             req.input.level_starts = 2;
@@ -263,6 +267,37 @@ static void test_level_search_any_threads(void **state)
         qc_design_result_clear(&ref);
     }
     qc_model_free(m);
+}
+
+/* Starts 1 and 2 of four fail, each with its own message. */
+static qc_status failing_start(size_t i, void *ctx)
+{
+    int *ran = ctx;
+#pragma omp atomic
+    ran[i]++;
+    if (i == 1)
+        return qc_fail(QC_ENUMERIC, "start one broke");
+    if (i == 2)
+        return qc_fail(QC_EINVAL, "start two broke");
+    return QC_OK;
+}
+
+/* Independent starts run in threads report the first failing start in
+ * their order, with its message, as one after another would; every start
+ * runs once. */
+static void test_starts_first_failure(void **state)
+{
+    (void)state;
+    need_threads((size_t)1 << 30);
+    for (size_t k = 0; k < sizeof thread_counts / sizeof *thread_counts; k++) {
+        set_threads(thread_counts[k]);
+        int ran[4] = {0};
+        qc_clear_error();
+        assert_int_equal(qc_parallel_starts(4, 1, failing_start, ran), QC_ENUMERIC);
+        assert_string_equal(qc_last_error(), "start one broke");
+        for (size_t i = 0; i < 4; i++)
+            assert_int_equal(ran[i], 1);
+    }
 }
 
 /* A model whose tails are not numbers from level FIRST_BAD on. */
@@ -333,6 +368,7 @@ int main(void)
         cmocka_unit_test(test_design_any_threads),
         cmocka_unit_test(test_capacity_design_any_threads),
         cmocka_unit_test(test_level_search_any_threads),
+        cmocka_unit_test(test_starts_first_failure),
         cmocka_unit_test(test_failing_row_message),
         cmocka_unit_test(test_stateful_models_serial),
     };
