@@ -478,7 +478,11 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
             break;
         rc = GSL_SUCCESS;
     }
-    *root = gsl_root_fsolver_root(sv);
+    /* The end of the last bracket on the side that meets the target, not
+     * Brent's best estimate, which may lie a hair on the other side: a
+     * required value must meet the target (a FEC must close there), and
+     * it is within the root tolerance of the crossing either way. */
+    *root = *increasing ? gsl_root_fsolver_x_upper(sv) : gsl_root_fsolver_x_lower(sv);
     gsl_root_fsolver_free(sv);
     if (s->st != QC_OK)
         return s->st;

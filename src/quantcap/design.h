@@ -613,7 +613,10 @@ typedef struct {
 
 typedef struct {
     double required;             /* value meeting the target with the
-                                    request's quantizer                    */
+                                    request's quantizer: the end of the
+                                    root's final bracket on the side that
+                                    meets it (within the root tolerance,
+                                    10⁻⁶ dB, of the crossing)              */
     double unquantized_required; /* the same without the quantizer; NaN when
                                     the unquantized receiver meets the
                                     target over the whole range            */

@@ -89,6 +89,17 @@ if "required" in r:
     tally.near("margin = operating - required", r["margin_db"], 12 - r["required"], 1e-12)
     check(r["penalty_db"] >= -ROOT_TOL_DB, "penalty is not negative")
 
+# a FEC target: at the required OSNR the code closes, with its net rate (the
+# search's best estimate could miss the threshold by a rounding and report 0)
+rf = as_json("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "5",
+             "--symbol-rate", "64e9", "--target", "fec=ofec", "--solve-for", "osnr-db")
+if "design" in rf:
+    check(rf["design"].get("fec_closes") is True and rf["design"]["pre_fec_ber"] <= 0.02 and
+          rf["design"].get("net_rate_gbps", 0) > 400,
+          f"qam:16 ofec: the FEC closes at the required OSNR, with a net rate "
+          f"({rf['design'].get('fec_closes')}, {rf['design']['pre_fec_ber']!r}, "
+          f"{rf['design'].get('net_rate_gbps')} Gb/s)")
+
 # the same where the MI-optimal thresholds miss the MAP boundaries (intensity
 # levels in signal-dependent noise): the design reported at the required value
 # keeps them, as the search's designs did, so it too meets the target

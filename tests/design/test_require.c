@@ -73,6 +73,23 @@ static qc_status require_snr(snr_builder *b, const char *target, double lo, doub
     return st;
 }
 
+/* The figure of the design at the required SNR, as the search rates it
+ * (the MAP decision boundaries kept for a BER target). */
+static double figure_at(snr_builder *b, double snr_db, qc_target_kind kind)
+{
+    qc_design_request req;
+    const qc_model *m;
+    assert_int_equal(build(b, snr_db, &m, &req), QC_OK);
+    req.quantizer.keep_decisions = kind == QC_TARGET_BER;
+    qc_design_result r;
+    assert_int_equal(qc_design(&req, &r), QC_OK);
+    double f = qc_design_figure(&r, kind);
+    qc_design_result_clear(&r);
+    qc_model_free(b->model);
+    b->model = NULL;
+    return f;
+}
+
 /* BPSK with the sign quantizer at BER 1e-3: Q(√snr) = 1e-3, so snr =
  * Q⁻¹(1e-3)² with Q⁻¹(1e-3) = 3.0902 (from memory; standard normal
  * tables), 9.80 dB (any digital-communications textbook, e.g. Proakis).
@@ -123,6 +140,8 @@ static void test_penalty_in_bits(void **state)
         snr_builder b = {levels, 4, (size_t)1 << bits, QC_QUANTIZER_OPTIMAL, NULL, NULL};
         qc_require_result r;
         assert_int_equal(require_snr(&b, "rate=1.5", -10.0, 30.0, &r), QC_OK);
+        /* the required value meets the target, not merely comes near */
+        assert_true(figure_at(&b, r.required, QC_TARGET_RATE) >= 1.5);
         if (bits == 2)
             unq = r.unquantized_required;
         assert_near(r.unquantized_required, unq, ROOT_TOL_DB); /* one reference */
@@ -182,6 +201,8 @@ static void test_ber_penalty_in_bits(void **state)
         snr_builder b = {levels, 4, (size_t)1 << bits, QC_QUANTIZER_OPTIMAL, NULL, NULL};
         qc_require_result r;
         assert_int_equal(require_snr(&b, "fec=kp4", 0.0, 30.0, &r), QC_OK);
+        /* the code closes at the required value: BER at most its threshold */
+        assert_true(figure_at(&b, r.required, QC_TARGET_BER) <= 2.4e-4);
         assert_near(r.unquantized_required, approx, 0.01);
         assert_near(r.penalty_db, 0.0, ROOT_TOL_DB);
         assert_true(r.penalty_db <= last + ROOT_TOL_DB);
