@@ -227,6 +227,8 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
                 r->fec.threshold, r->fec_closes ? "closes" : "does not close", r->fec_margin,
                 hard ? "dB (Q-factor)" : "(NGMI)");
         fprintf(f, "; net %.6f %s", r->net_bits, cli_rate_unit(r->dimensions));
+        if (r->polarizations > 1) /* net_bits counts every polarization */
+            fprintf(f, " over %u polarizations", r->polarizations);
         if (r->shaping_given && r->fec_closes)
             fprintf(f, " (PAS: H(X) - (1 - Rc) m)");
         if (isfinite(r->net_rate_gbps))

@@ -164,6 +164,22 @@ static int range_of(const cli_args *a, const qc_settings *set, const char *key, 
     return CLI_OK;
 }
 
+/* A required value as printed (6 significant digits), rounded toward the
+ * side that meets the target: up when the figure improves with the value,
+ * down when it is a most. The nearest 6 digits can fall short: 14.24843
+ * dB printed as 14.2484 would miss the target by a hair there. */
+static double safe_side(double v, int up)
+{
+    char text[40];
+    snprintf(text, sizeof text, "%.6g", v);
+    double r = strtod(text, NULL);
+    if (!isfinite(v) || r == v || (up ? r > v : r < v) || r == 0.0)
+        return r;
+    double step = pow(10.0, floor(log10(fabs(r))) - 5.0); /* one in the 6th digit */
+    snprintf(text, sizeof text, "%.6g", up ? r + step : r - step);
+    return strtod(text, NULL);
+}
+
 /* The design at the required value, as `design --json` reports it, made
  * as the search made its designs (a BER target keeps the MAP boundaries). */
 static json_t *design_at(const qc_settings *set, const char *key, double value,
@@ -290,6 +306,12 @@ int cmd_require(int argc, char **argv)
         goto done;
     }
     double margin = qc_require_margin_db(&res, linear, operating);
+    char margin_note[256] = "";
+    if (isfinite(operating) && !isfinite(margin))
+        snprintf(margin_note, sizeof margin_note,
+                 "the operating point %s = %.6g%s lies outside the range searched, where "
+                 "the figure was not checked to be monotone; run 'quantcap design' there",
+                 key, operating, spaced_unit);
     const qc_fec *fec = target.from_fec ? &target.fec : NULL;
     design = design_at(set, key, res.required, &target, fec);
     if ((rc = cli_sink_open(&sink, cli_get(&a, "output"))))
@@ -316,6 +338,8 @@ int cmd_require(int argc, char **argv)
                                                        : json_null());
         json_object_set_new(o, "operating", cli_json_real(operating));
         json_object_set_new(o, "margin_db", cli_json_real(margin));
+        json_object_set_new(o, "margin_note",
+                            margin_note[0] ? json_string(margin_note) : json_null());
         json_object_set_new(o, "increasing", json_boolean(res.increasing));
         json_object_set_new(o, "designs", json_integer((json_int_t)res.designs));
         json_object_set_new(o, "design", design ? design : json_null());
@@ -332,14 +356,15 @@ int cmd_require(int argc, char **argv)
         const char *bound = res.increasing ? "" : "at most ";
         const char *rx = design ? json_string_value(json_object_get(design, "iq_quantizer"))
                                 : NULL;
-        fprintf(f, "required     %s%.6g %s with the %s %s\n", bound, res.required, unit,
+        fprintf(f, "required     %s%.6g %s with the %s %s\n", bound,
+                safe_side(res.required, res.increasing), unit,
                 design ? json_string_value(json_object_get(design, "quantizer")) : "chosen",
                 !rx                          ? "quantizer"
                 : strcmp(rx, "polar") == 0 ? "polar quantizer"
                                            : "I/Q pair");
         if (isfinite(res.unquantized_required)) {
             fprintf(f, "unquantized  %s%.6g %s (same levels and law, no quantizer)\n", bound,
-                    res.unquantized_required, unit);
+                    safe_side(res.unquantized_required, res.increasing), unit);
             /* a penalty within the root tolerance prints as 0, not -0.0000 */
             fprintf(f, "penalty      %.4f dB at the target%s\n",
                     fabs(res.penalty_db) < 5e-5 ? 0.0 : res.penalty_db,
@@ -354,8 +379,11 @@ int cmd_require(int argc, char **argv)
                        "its value and the penalty\n");
         }
         if (isfinite(margin))
-            fprintf(f, "margin       %.4f dB at the operating point %s = %.6g %s (%s)\n", margin,
-                    key, operating, unit, margin >= 0.0 ? "met" : "short");
+            fprintf(f, "margin       %.4f dB at the operating point %s = %.6g %s (%s)%s\n",
+                    margin, key, operating, unit, margin >= 0.0 ? "met" : "short",
+                    linear ? ", 10 log10 of the ratio" : "");
+        else if (isfinite(operating))
+            fprintf(f, "margin       none: %s\n", margin_note);
         if (design) {
             double ber = json_real_value(json_object_get(design, "pre_fec_ber"));
             double ngmi = json_real_value(json_object_get(design, "ngmi"));

@@ -526,6 +526,8 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
     memset(out, 0, sizeof *out);
     out->required = out->unquantized_required = out->penalty_db = NAN;
     out->best_value = out->best_figure = NAN;
+    out->range_lo = rq ? rq->lo : NAN;
+    out->range_hi = rq ? rq->hi : NAN;
     if (!rq || !rq->build)
         return qc_fail(QC_EINVAL, "require: no design builder given");
     qc_require_request named = *rq;
@@ -597,6 +599,8 @@ double qc_require_margin_db(const qc_require_result *res, int linear, double ope
 {
     if (!res || !isfinite(res->required) || !isfinite(operating))
         return NAN;
+    if (!(operating >= res->range_lo && operating <= res->range_hi))
+        return NAN; /* not checked monotone out there */
     if (linear && !(operating > 0.0 && res->required > 0.0))
         return NAN;
     double diff = linear ? 10.0 * log10(operating / res->required) : operating - res->required;

@@ -631,6 +631,8 @@ typedef struct {
     const char *unquantized_note; /* why unquantized_required is NaN when it
                                     has no unquantized reference at all (a
                                     static phrase); NULL otherwise          */
+    double range_lo, range_hi;   /* the range searched, where the figure
+                                    was checked to cross the target once  */
 } qc_require_result;
 
 /* Solve for the value at which the design built by rq->build meets the
@@ -645,7 +647,10 @@ QC_API qc_status qc_require(const qc_require_request *rq, qc_require_result *out
 
 /* The margin in dB of an operating value over the required one, positive
  * when the operating point does better than needed (dB values: the
- * difference; linear ones: 10·log10 of the ratio). */
+ * difference; linear ones: 10·log10 of the ratio). NaN when the operating
+ * value lies outside the range searched: beyond it the figure was not
+ * checked to be monotone (a launch power past its optimum loses SNR), so
+ * the distance to the root says nothing about the target there. */
 QC_API double qc_require_margin_db(const qc_require_result *res, int linear,
                                    double operating);
 

@@ -100,6 +100,33 @@ if "design" in rf:
           f"({rf['design'].get('fec_closes')}, {rf['design']['pre_fec_ber']!r}, "
           f"{rf['design'].get('net_rate_gbps')} Gb/s)")
 
+# an operating launch power past the optimum lies outside the range searched
+# (up to the optimum), where more power loses SNR: no margin, and the report
+# says why, where the distance to the root would claim 15 dB to spare
+LAUNCH = ["--model", "gauss", "--alphabet", "qam:16", "--bits", "4", "--symbol-rate", "32e9",
+          "--span-km", "80", "--nf-db", "5", "--spans", "20", "--launch-dbm", "8",
+          "--target", "ber=2e-2", "--solve-for", "launch-dbm"]
+rl = as_json("require", *LAUNCH)
+if "required" in rl:
+    check(rl["margin_db"] is None and "outside the range searched" in (rl["margin_note"] or ""),
+          f"launch past the optimum: no margin, with a note ({rl['margin_db']}, "
+          f"{rl.get('margin_note')})")
+    rc, out, err = run("require", *LAUNCH)
+    check(rc == 0 and "margin       none: the operating point launch-dbm = 8 dBm" in out,
+          "require text: no margin outside the range, and why")
+
+# the printed required value is rounded toward the side that meets the target
+# (14.24843 dB prints as 14.2485, not 14.2484, which would miss NGMI 0.8)
+NG = ["--model", "gauss", "--alphabet", "qam:16", "--bits", "6", "--symbol-rate", "32e9",
+      "--target", "ngmi=0.8", "--solve-for", "osnr-db"]
+rn = as_json("require", *NG)
+rc, out, err = run("require", *NG)
+printed = [ln.split()[1] for ln in out.splitlines() if ln.startswith("required ")]
+if "required" in rn and printed:
+    check(float(printed[0]) >= rn["required"] and
+          float(printed[0]) - rn["required"] < 1e-4,
+          f"printed required {printed[0]} is at or above {rn['required']!r}, within one digit")
+
 # the same where the MI-optimal thresholds miss the MAP boundaries (intensity
 # levels in signal-dependent noise): the design reported at the required value
 # keeps them, as the search's designs did, so it too meets the target
@@ -128,6 +155,13 @@ if "required" in rk:
     rc, out, err = run("require", *REACH)
     check(rc == 0 and "difference   %.6g km" % rk["difference"] in out,
           "require text prints the reach difference in km")
+# a reach is a most: printed rounded down
+rs = as_json("require", *REACH)
+rc, out, err = run("require", *REACH)
+printed = [ln.split()[3] for ln in out.splitlines() if ln.startswith("required ")]
+if "required" in rs and printed:
+    check(float(printed[0]) <= rs["required"],
+          f"printed reach 'at most {printed[0]}' km is at or below {rs['required']!r}")
 rz = as_json("require", "--model", "gauss", "--snr-db", "12", "--alphabet", "pam:4", "--bits",
              "4", "--target", "ber=1e-3", "--solve-for", "snr-db")
 if rz.get("penalty_db") == 0.0:

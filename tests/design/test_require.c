@@ -110,6 +110,11 @@ static void test_bpsk_ber(void **state)
     /* margin of an operating point 2 dB above: +2 dB; 1 dB below: −1 dB */
     assert_near(qc_require_margin_db(&r, 0, r.required + 2.0), 2.0, EXACT_MARGIN);
     assert_near(qc_require_margin_db(&r, 0, r.required - 1.0), -1.0, EXACT_MARGIN);
+    /* beyond the range searched (-10 to 30 dB) the figure was not checked
+     * to be monotone: no margin, at either side; its ends are inside */
+    assert_true(isnan(qc_require_margin_db(&r, 0, 30.5)));
+    assert_true(isnan(qc_require_margin_db(&r, 0, -10.5)));
+    assert_near(qc_require_margin_db(&r, 0, 30.0), 30.0 - r.required, EXACT_MARGIN);
 }
 
 /* The unquantized binary-input AWGN channel carries 0.5 bit at Eb/N0 =
