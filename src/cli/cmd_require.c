@@ -14,7 +14,7 @@ static const cli_opt require_options[] = {
     {"target", "KIND=VALUE",
      "what to meet: ber=X, ngmi=X, gmi=X (bit/symbol), rate=X (bit/symbol), rate-per-slot=X "
      "(bit/slot, ppm:M), bits-per-photon=X (photon counting) or fec=NAME"},
-    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, power-dbm, a link's "
+    {"solve-for", "KEY", "the quantity to solve for: snr-db, osnr-db, received-dbm, a link's "
                          "length-km, spans, launch-dbm or range-km, or any numeric model or "
                          "front-end key"},
     {"range", "LO,HI", "search range of that quantity (default: around the operating value)"},
@@ -64,7 +64,9 @@ static void help(const cli_args *a)
            "reached; a figure that crosses the target more than once is not monotone there\n"
            "and is an error too (narrow --range).\n"
            "Default range: the operating value +-30 dB (dB keys) or a factor 1000 either\n"
-           "way; snr-db -20..40 dB, osnr-db 0..50 dB, power-dbm -60..20 dBm without one.\n"
+           "way; snr-db -20..40 dB, osnr-db 0..50 dB, received-dbm and peak-dbm -60..20 dBm\n"
+           "without one. Solving for snr-db, osnr-db or sigma drops the other two, and for\n"
+           "spans or length-km the other: they give the same quantity another way.\n"
            "Links: an amplified fibre link searches spans 1..1000 (length-km the same in\n"
            "km) and launch-dbm up to its optimum launch power; an unamplified link\n"
            "length-km from 10 m to a 100 dB loss; a free-space link range-km a factor 30\n"
@@ -254,7 +256,7 @@ int cmd_require(int argc, char **argv)
     const char *key = cli_get(&a, "solve-for");
     if (!key)
         return cli_usage_error("require: --solve-for KEY is required (snr-db, osnr-db, "
-                               "power-dbm, or a numeric model or front-end key)");
+                               "received-dbm, or a numeric model or front-end key)");
     if (qc_setting_check_solvable(key) != QC_OK)
         return cli_usage_error("--solve-for: %s", qc_last_error());
     qc_status st = qc_settings_alloc(&set);
@@ -270,6 +272,7 @@ int cmd_require(int argc, char **argv)
             goto done;
         }
     }
+    qc_settings_drop_alternatives(set, key); /* osnr-db given, snr-db solved for */
     const int linear = !qc_setting_in_db(key);
     double operating = NAN, lo = NAN, hi = NAN;
     const char *op_text = qc_settings_get(set, key);

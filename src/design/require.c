@@ -364,6 +364,14 @@ static double evaluate(search *s, double u)
     qc_design_request req;
     qc_design_request_default(&req);
     qc_status st = rq->build(rq->ctx, value_of(rq, u), &m, &req);
+    if (st == QC_EINVAL) { /* a value of the range the key does not take */
+        char why[512];
+        snprintf(why, sizeof why, "%s", qc_last_error());
+        st = qc_fail(st, "at %s = %.6g%s, in the range searched (%.6g%s to %.6g%s): %s; give "
+                         "a range inside the values it takes",
+                     rq->name, value_of(rq, u), rq->unit, rq->lo, rq->unit, rq->hi, rq->unit,
+                     why);
+    }
     double f = NAN;
     if (st == QC_OK && s->unquantized) {
         st = unquantized_figure(m, &req, rq->target.kind, &s->designs, &f);

@@ -97,13 +97,18 @@ QC_API const char *qc_setting_db_unit(const char *key);
  * numeric key: not bits, cells, levels, ...); the message names it. */
 QC_API qc_status qc_setting_check_solvable(const char *key);
 
+/* Remove the keys that give the quantity of `key` another way, so that a
+ * value of `key` replaces them: snr-db, osnr-db and sigma (the noise
+ * level), spans and length-km (an amplified link's length). */
+QC_API void qc_settings_drop_alternatives(qc_settings *s, const char *key);
+
 /* A copy of the settings with `key` set to `value` (%.17g). */
 QC_API qc_status qc_settings_with(const qc_settings *s, const char *key, double value,
                                   qc_settings **out);
 
 /* The default search range of `key`: its value in the settings ±30 dB
  * (keys in dB) or a factor 1000 either way; without one snr-db −20…40 dB,
- * osnr-db 0…50 dB, power-dbm and peak-dbm −60…20 dBm; otherwise QC_EINVAL
+ * osnr-db 0…50 dB, received-dbm and peak-dbm −60…20 dBm; otherwise QC_EINVAL
  * asking for a range. An amplified fibre link (span-km given) searches
  * spans from 1 to 1000, length-km from one to 1000 spans, and launch-dbm
  * from 30 dB below its optimum launch power up to it (whatever the

@@ -193,7 +193,7 @@ const char *plot_output_unit(const qc_model_type *type, const qc_settings *s)
         return "ASE energy per mode";
     if (strcmp(type->name, "table") == 0)
         return "units of the table";
-    if (qc_settings_get(s, "power-dbm") || qc_settings_get(s, "peak-dbm"))
+    if (qc_settings_get(s, "received-dbm") || qc_settings_get(s, "peak-dbm"))
         return "A";
     return "normalized units";
 }

@@ -1,6 +1,6 @@
 /* require.c (study) — the inverse question on a set of design settings:
  * the quantity solved for is one settings key (snr-db, osnr-db,
- * power-dbm, a model parameter, a front-end key), and each value tried
+ * received-dbm, a model parameter, a front-end key), and each value tried
  * is the settings with that key replaced, built exactly as `quantcap
  * design` builds them; the search itself is qc_require
  * (src/design/require.c: samples, then Brent's method). */
@@ -42,7 +42,7 @@ qc_status qc_setting_check_solvable(const char *key)
     for (size_t i = 0; not_solvable[i]; i++)
         if (strcmp(not_solvable[i], key) == 0)
             return qc_fail(QC_EINVAL, "'%s' is not a continuous quantity to solve for (use "
-                                      "snr-db, osnr-db, power-dbm or a numeric model or "
+                                      "snr-db, osnr-db, received-dbm or a numeric model or "
                                       "front-end key)",
                            key);
     return QC_OK;
@@ -243,7 +243,7 @@ qc_status qc_settings_require_range(const qc_settings *s, const char *key, doubl
     } else if (strcmp(key, "osnr-db") == 0) {
         *lo = 0.0;
         *hi = 50.0;
-    } else if (strcmp(key, "power-dbm") == 0 || strcmp(key, "peak-dbm") == 0) {
+    } else if (strcmp(key, "received-dbm") == 0 || strcmp(key, "peak-dbm") == 0) {
         *lo = -60.0;
         *hi = 20.0;
     } else if (strcmp(key, "phase-noise-deg") == 0) {
@@ -293,12 +293,17 @@ qc_status qc_settings_require(const qc_settings *s, const char *key, const qc_ta
     qc_status st = qc_setting_check_solvable(key);
     if (st != QC_OK)
         return st;
-    builder b = {.base = s, .key = key};
+    qc_settings *base = NULL; /* without the key's alternatives (osnr-db for snr-db) */
+    if ((st = qc_settings_copy(s, &base)) != QC_OK)
+        return st;
+    qc_settings_drop_alternatives(base, key);
+    builder b = {.base = base, .key = key};
     qc_require_request rq = {.target = *target, .build = build_at, .ctx = &b, .lo = lo,
                              .hi = hi, .linear = !qc_setting_in_db(key), .name = key,
                              .unit = unit};
     st = qc_require(&rq, res);
     builder_clear(&b);
+    qc_settings_free(base);
     return st;
 }
 

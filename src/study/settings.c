@@ -318,6 +318,34 @@ void qc_settings_free(qc_settings *s)
     free(s);
 }
 
+void qc_settings_drop_alternatives(qc_settings *s, const char *key)
+{
+    static const char *const groups[][3] = {{"snr-db", "osnr-db", "sigma"},
+                                            {"spans", "length-km", NULL}};
+    if (!s || !key)
+        return;
+    for (size_t g = 0; g < sizeof groups / sizeof groups[0]; g++) {
+        int member = 0;
+        for (size_t j = 0; j < 3 && groups[g][j]; j++)
+            member |= strcmp(groups[g][j], key) == 0;
+        for (size_t j = 0; member && j < 3 && groups[g][j]; j++) {
+            if (strcmp(groups[g][j], key) == 0)
+                continue;
+            for (size_t i = 0; i < s->n; i++)
+                if (strcmp(s->key[i], groups[g][j]) == 0) {
+                    free(s->key[i]);
+                    free(s->value[i]);
+                    for (size_t k = i + 1; k < s->n; k++) { /* keep the order */
+                        s->key[k - 1] = s->key[k];
+                        s->value[k - 1] = s->value[k];
+                    }
+                    s->n--;
+                    break;
+                }
+        }
+    }
+}
+
 qc_status qc_settings_copy(const qc_settings *s, qc_settings **out)
 {
     qc_status st = qc_settings_alloc(out);

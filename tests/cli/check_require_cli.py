@@ -100,6 +100,31 @@ if "design" in rf:
           f"({rf['design'].get('fec_closes')}, {rf['design']['pre_fec_ber']!r}, "
           f"{rf['design'].get('net_rate_gbps')} Gb/s)")
 
+# the key solved for replaces the keys that give its quantity another way:
+# osnr-db given, snr-db solved for (and the reverse); spans given, length-km
+for extra, key in [(["--osnr-db", "20", "--symbol-rate", "32e9"], "snr-db"),
+                   (["--snr-db", "12", "--symbol-rate", "32e9"], "osnr-db"),
+                   (["--sigma", "0.5"], "snr-db")]:
+    rc, out, err = run("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "4",
+                       *extra, "--target", "ngmi=0.8", "--solve-for", key)
+    check(rc == 0 and "required" in out, f"{extra[0]} given, solving for {key}: {err.strip()}")
+rc, out, err = run("require", "--model", "gauss", "--alphabet", "qam:16", "--bits", "3",
+                   "--symbol-rate", "32e9", "--span-km", "80", "--nf-db", "5", "--spans", "20",
+                   "--target", "ngmi=0.8", "--solve-for", "length-km")
+check(rc == 0 and "at most" in out, f"spans given, solving for length-km: {err.strip()}")
+# received-dbm without an operating value: the documented -60..20 dBm
+rr = as_json("require", "--model", "gauss", "--responsivity", "0.9", "--bandwidth", "10e9",
+             "--thermal-density", "10", "--alphabet", "upam:4", "--bits", "3",
+             "--target", "ber=1e-3", "--solve-for", "received-dbm")
+check(rr.get("range") == [-60.0, 20.0], f"received-dbm default range ({rr.get('range')})")
+# a default range reaching values the key does not take names the key, the
+# value and the range
+rc, out, err = run("require", "--model", "apd-gauss", "--signal", "300", "--apd-gain", "10",
+                   "--apd-k", "0.2", "--sigma-th", "300", "--alphabet", "upam:4", "--bits", "3",
+                   "--target", "ber=1e-3", "--solve-for", "apd-gain")
+check(rc == 2 and "at apd-gain = 0.01, in the range searched (0.01 to 10000)" in err,
+      f"out-of-bounds range: the message names key, value and range ({err.strip()})")
+
 # an operating launch power past the optimum lies outside the range searched
 # (up to the optimum), where more power loses SNR: no margin, and the report
 # says why, where the distance to the root would claim 15 dB to spare
