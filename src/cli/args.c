@@ -8,6 +8,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 int cli_usage_error(const char *fmt, ...)
 {
@@ -86,6 +87,41 @@ static int unknown_option(const cli_args *a, const char *name)
                            a->command, name, a->command);
 }
 
+/* An --output that names a file read as input (a FILE option such as
+ * --table, or a positional file) would replace that file with the report:
+ * refused before anything is read or written. */
+static int output_not_input(const cli_args *a)
+{
+    int ko = find_opt(a, "output", 6);
+    struct stat so, si;
+    if (ko < 0 || !a->values[ko] || stat(a->values[ko], &so) != 0)
+        return CLI_OK; /* no output, or a new file */
+    for (size_t k = 0; k < a->nopts + a->npositional; k++) {
+        const char *in = k < a->nopts ? a->values[k] : a->positional[k - a->nopts];
+        if (!in || (int)k == ko ||
+            (k < a->nopts && (!a->opts[k]->metavar || strcmp(a->opts[k]->metavar, "FILE") != 0)))
+            continue;
+        if (stat(in, &si) == 0 && si.st_dev == so.st_dev && si.st_ino == so.st_ino)
+            return cli_usage_error("%s: --output %s is the file read as %s%s: choose another "
+                                   "name (it would be overwritten)",
+                                   a->command, a->values[ko], k < a->nopts ? "--" : "input",
+                                   k < a->nopts ? a->opts[k]->name : "");
+    }
+    return CLI_OK;
+}
+
+/* Whether `arg` is one of the command's options (--name or --name=v):
+ * then it cannot be the value of the option before it, which was left
+ * without one. A value of the form --x that is no option stays a value. */
+static int is_option(const cli_args *a, const char *arg)
+{
+    if (strncmp(arg, "--", 2) != 0 || arg[2] == '\0')
+        return 0;
+    const char *eq = strchr(arg + 2, '=');
+    return find_opt(a, arg + 2, eq ? (size_t)(eq - arg - 2) : strlen(arg + 2)) >= 0 ||
+           strcmp(arg, "--help") == 0;
+}
+
 int cli_parse(cli_args *a, int argc, char **argv, size_t max_positional)
 {
     for (int i = 0; i < argc; i++) {
@@ -113,6 +149,10 @@ int cli_parse(cli_args *a, int argc, char **argv, size_t max_positional)
         if (a->opts[k]->metavar) {
             if (eq)
                 a->values[k] = eq + 1;
+            else if (i + 1 < argc && is_option(a, argv[i + 1]))
+                return cli_usage_error("%s: option '--%s' needs a value (%s) before %s",
+                                       a->command, a->opts[k]->name, a->opts[k]->metavar,
+                                       argv[i + 1]);
             else if (i + 1 < argc)
                 a->values[k] = argv[++i];
             else
@@ -125,7 +165,7 @@ int cli_parse(cli_args *a, int argc, char **argv, size_t max_positional)
             a->values[k] = "";
         }
     }
-    return CLI_OK;
+    return output_not_input(a);
 }
 
 const char *cli_get(const cli_args *a, const char *name)

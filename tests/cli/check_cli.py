@@ -54,6 +54,15 @@ write = file_writer(tmp)
 
 # --- capacity ------------------------------------------------------------
 bsc = write("bsc.txt", "# BSC\n0.89 0.11\n0.11, 0.89\n")
+# --output naming the file read as input is refused and the input kept
+with open(bsc) as f:
+    before = f.read()
+expect_error(["capacity", bsc, "--output", bsc], 2, "is the file read as input",
+             "capacity --output onto its own input")
+expect_error(["design", "--model", "table", "--table", bsc, "--bits", "2", "--output", bsc], 2,
+             "is the file read as --table", "design --output onto its --table")
+with open(bsc) as f:
+    check(f.read() == before, "the input file is unchanged after --output named it")
 rc, out, err = run("capacity", bsc, "--json")
 check(rc == 0, f"capacity BSC exit {rc}: {err}")
 j = parse(out, "json 2")
