@@ -152,11 +152,13 @@ static void print_practical_rates(FILE *f, const qc_design_result *r)
                 r->mi_bits, unit);
     fprintf(f, "dispersion   %.6g bit^2", r->dispersion_bits2);
     if (r->blocklength)
-        fprintf(f, "   rate at n = %zu %s, block error probability %.3g: %.9f %s (normal "
+        fprintf(f, "   rate at n = %zu %s, block error probability %.6g: %.9f %s (normal "
                    "approximation)",
                 r->blocklength, cli_plural(r->blocklength, "symbol", "symbols"), r->error_rate,
                 r->rate_at_blocklength_bits, unit);
     fputc('\n', f);
+    if (r->blocklength && r->rate_at_blocklength_note)
+        fprintf(f, "             %s\n", r->rate_at_blocklength_note);
     if (isfinite(r->shaping_gap_db))
         fprintf(f, "shaping gap  %.4f dB from 1/2 log2(1 + snr) at the same rate per "
                    "dimension\n",

@@ -233,6 +233,32 @@ static qc_status finish(const design_ctx *c, qc_design_result *r)
         (st = qc_normal_approximation(r->rate_bits, r->dispersion_bits2, req->numerics.blocklength,
                                       req->numerics.error_rate, &r->rate_at_blocklength_bits)) != QC_OK)
         return st;
+    r->rate_at_blocklength_note = NULL;
+    if (req->numerics.blocklength) {
+        /* No code of N messages over M input symbols decodes with error
+         * probability ε unless N(1 − ε) ≤ M^n, so R ≤ log2 M + log2(1/(1 − ε))/n
+         * (M the symbols sent with positive probability, per dimension); and
+         * no rate is below 0. The approximation's log2(n)/(2n) term holds
+         * for channels of positive dispersion and large n (Polyanskiy, Poor
+         * and Verdú 2010, §IV); outside these bounds it does not hold. */
+        size_t sent = 0;
+        for (size_t i = 0; i < r->nlevels; i++)
+            sent += r->input[i] > 0.0;
+        const double nd = (double)req->numerics.blocklength;
+        const double most = d * log2((double)(sent > 0 ? sent : 1)) -
+                            log2(1.0 - req->numerics.error_rate) / nd;
+        if (r->rate_at_blocklength_bits > most) {
+            r->rate_at_blocklength_bits = most;
+            r->rate_at_blocklength_note =
+                "the normal approximation exceeds log2 M + log2(1/(1 - e))/n, which no code "
+                "beats: it does not hold at this blocklength; that bound is given";
+        } else if (r->rate_at_blocklength_bits < 0.0) {
+            r->rate_at_blocklength_bits = 0.0;
+            r->rate_at_blocklength_note =
+                "the normal approximation is below 0: it does not hold at this blocklength "
+                "and error probability; 0 is given";
+        }
+    }
     const unsigned props = qc_model_get_type(req->channel.model)->properties;
     /* the gap to the Shannon curve means nothing at the noiseless limit */
     r->shaping_gap_db = (props & QC_MODEL_ADDITIVE_GAUSSIAN) && !r->noiseless_limit

@@ -346,7 +346,11 @@ typedef struct {
     size_t blocklength;          /* echo; 0: no normal approximation         */
     double error_rate;
     double rate_at_blocklength_bits; /* rate − √(V/n)Q⁻¹(ε) + log2(n)/(2n);
-                                    NaN without blocklength                 */
+                                    NaN without blocklength; held within
+                                    [0, log2 M + log2(1/(1 − ε))/n], the
+                                    note saying so when it was not        */
+    const char *rate_at_blocklength_note; /* why the bound was given
+                                    instead (a static phrase); NULL: none */
     double shaping_gap_db;       /* SNR distance from ½·log2(1 + snr) at
                                     the same rate per dimension (model
                                     gauss); NaN otherwise                   */

@@ -89,6 +89,11 @@ static void report_alphabet(json_t *o, const qc_design_request *req,
                                                                          : NAN));
     json_object_set_new(o, "rate_at_blocklength_bits",
                         qc_report_real(res->rate_at_blocklength_bits));
+    if (res->blocklength)
+        json_object_set_new(o, "rate_at_blocklength_note",
+                            res->rate_at_blocklength_note
+                                ? json_string(res->rate_at_blocklength_note)
+                                : json_null());
     json_object_set_new(o, "shaping_gap_db", qc_report_real(res->shaping_gap_db));
     json_object_set_new(o, "average_power", qc_report_real(res->average_power));
     json_object_set_new(o, "average_level", qc_report_real(res->average_level));

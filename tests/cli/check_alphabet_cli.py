@@ -60,6 +60,24 @@ check(j["gmi_bits"] <= j["mi_bits"] + 1e-12, "GMI <= MI")
 n, eps = 1000, 1e-3
 na = j["rate_bits"] - math.sqrt(j["dispersion"] / n) * norm.isf(eps) + math.log2(n) / (2 * n)
 check(abs(j["rate_at_blocklength_bits"] - na) < 1e-12, "rate at blocklength = normal approximation")
+check(j.get("rate_at_blocklength_note", "missing") is None, "within its bounds: no note")
+# Beyond its bounds it does not hold: no code of N messages over M symbols
+# has error probability e unless N(1 - e) <= M^n, so the rate is at most
+# log2 M + log2(1/(1 - e))/n (a counting bound), and no rate is below 0.
+for args, n, eps, most in [(["--snr-db", "20", "--alphabet", "pam:4"], 100, 0.01, 2.0),
+                           (["--snr-db", "18", "--alphabet", "qam:16"], 64, 1e-3, 4.0),
+                           (["--snr-db", "10", "--alphabet", "pam:4"], 1, 1e-6, None)]:
+    jb = design_json("--model", "gauss", *args, "--bits", "4", "--blocklength", str(n),
+                     "--error-rate", str(eps))
+    if most is None:
+        check(jb["rate_at_blocklength_bits"] == 0.0 and jb["rate_at_blocklength_note"],
+              f"n = {n}: below 0, 0 with a note ({jb['rate_at_blocklength_bits']})")
+    else:
+        bound = most - math.log2(1 - eps) / n
+        check(abs(jb["rate_at_blocklength_bits"] - bound) < 1e-12 and
+              jb["rate_at_blocklength_note"],
+              f"{args[-1]}, n = {n}: the counting bound {bound} with a note "
+              f"({jb['rate_at_blocklength_bits']})")
 check(len(j["mass_points"]) == 4 and abs(j["mass_points"][0]["probability"] - 0.25) < 1e-15,
       "uniform law: four mass points of 1/4")
 check(j["average_power"] == 5.0, "E[x^2] of uniform 4-PAM is 5")
