@@ -44,6 +44,9 @@ qc_status qc_design_converter(const qc_design_request *req, const qc_cost *costs
 /* Check a request; *cells receives K. `fixed` says whether thresholds
  * must be given and checked. The message names the field. */
 qc_status qc_design_check_request(const qc_design_request *req, int fixed, size_t *cells);
+/* The alphabet fields of a request (dimensions, constraints, Gray labels
+ * for gmi, blocklength); *dims receives 1 or 2. */
+qc_status qc_design_check_alphabet(const qc_design_request *req, unsigned *dims);
 
 /* ---- alternation.c ---------------------------------------------------- */
 

@@ -43,3 +43,20 @@ qc_status qc_design(const qc_design_request *req, qc_design_result *res)
     return st;
 }
 
+qc_status qc_design_precheck(const qc_design_request *req)
+{
+    if (!req)
+        return qc_fail(QC_EINVAL, "no design request given");
+    /* the pulse-position, 2-D and shaped designs check their own requests
+     * when they run; here the common one-dimensional design's */
+    if (req->channel.iq || req->channel.ppm_slots || req->input.shaping)
+        return QC_OK;
+    qc_status st = req->memory.ntaps > 0 ? qc_memory_check(req) : QC_OK;
+    unsigned dims;
+    size_t cells;
+    if (st == QC_OK)
+        st = qc_design_check_alphabet(req, &dims);
+    if (st == QC_OK)
+        st = qc_design_check_request(req, req->quantizer.kind == QC_QUANTIZER_FIXED, &cells);
+    return st;
+}

@@ -45,7 +45,7 @@ static qc_design_request plain_request(const qc_design_request *req)
 }
 
 /* Check the alphabet fields of a request; the message names the field. */
-static qc_status check_alphabet_request(const qc_design_request *req, unsigned *dims)
+qc_status qc_design_check_alphabet(const qc_design_request *req, unsigned *dims)
 {
     if (req->channel.dimensions > 2)
         return qc_fail(QC_EINVAL, "dimensions must be 1 (real) or 2 (QAM), got %u",
@@ -286,7 +286,7 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res)
     if (!req->channel.levels || req->channel.nlevels == 0)
         return qc_fail(QC_EINVAL, "design: no input levels given");
     unsigned dims = 1;
-    qc_status st = check_alphabet_request(req, &dims);
+    qc_status st = qc_design_check_alphabet(req, &dims);
     if (st != QC_OK)
         return st;
     const size_t n = req->channel.nlevels;

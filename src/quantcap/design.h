@@ -529,6 +529,13 @@ typedef struct {
  * nothing to free). */
 QC_API qc_status qc_design(const qc_design_request *req, qc_design_result *res);
 
+/* The checks qc_design makes of a request before any work (levels, law,
+ * cells, thresholds, objective against the alphabet), without designing:
+ * a study checks every point with it before running any. QC_OK when they
+ * pass (the design may still fail later, e.g. to converge); the message
+ * names the field otherwise. */
+QC_API qc_status qc_design_precheck(const qc_design_request *req);
+
 /* Release what a result owns and zero it; safe on a zeroed result. NULL
  * does nothing. */
 QC_API void qc_design_result_clear(qc_design_result *res);

@@ -461,6 +461,24 @@ static qc_status override_design_key(qc_scenario *sc, const char *key, const cha
     sc_section *sweep = find_section(sc, "sweep", NULL);
     if (sweep && find_entry(sweep, key))
         return put_entry(sweep, key, value, 0);
+    /* a key two alphabet sections set is what tells them apart: one value
+     * for all would leave their names (and the plots' titles) on curves
+     * that are the same */
+    const char *first = NULL, *second = NULL;
+    for (size_t i = 0; i < sc->nsections && !second; i++)
+        if (strcmp(sc->sections[i].type, "alphabet") == 0 &&
+            find_entry(&sc->sections[i], key)) {
+            if (first)
+                second = sc->sections[i].name;
+            else
+                first = sc->sections[i].name;
+        }
+    if (second)
+        return qc_fail(QC_EINVAL,
+                       "--set %s=%s: [alphabet %s] and [alphabet %s] each set '%s', which tells "
+                       "them apart; one value for all would keep their names on the same "
+                       "curves: set one with --set alphabet.NAME.%s=VALUE",
+                       key, value, first, second, key, key);
     for (size_t i = 0; i < sc->nsections; i++)
         if (strcmp(sc->sections[i].type, "alphabet") == 0 ||
             strcmp(sc->sections[i].type, "design") == 0)

@@ -638,6 +638,8 @@ qc_status sc_check_points(const qc_scenario *sc, qc_model_cache *cache, size_t *
             st = qc_settings_build_cached(s, cache, &m, &req);
         if (st == QC_OK && !req.channel.iq) /* a 2-D constellation has points */
             st = qc_model_check_levels(m, req.channel.levels, req.channel.nlevels);
+        if (st == QC_OK) /* what the design would refuse at once (gmi on 3 levels) */
+            st = qc_design_precheck(&req);
         if (setting)
             setting[i] = qc_model_cache_setting(cache, m);
         qc_model_cache_release(cache, m);

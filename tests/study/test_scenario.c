@@ -412,11 +412,18 @@ static void test_overrides(void **state)
     /* an axis narrowed to one value keeps the density point valid */
     assert_int_equal(qc_scenario_override(sc, "snr-db=3"), QC_OK);
     assert_int_equal(qc_scenario_axis_size(sc, 0), 1);
-    /* a base key wins over the alphabets */
-    assert_int_equal(qc_scenario_override(sc, "levels=0,1"), QC_OK);
+    /* a key the alphabet sections set is what tells them apart: one value
+     * for all is refused, the scenario left as it was */
+    assert_int_equal(qc_scenario_override(sc, "levels=0,1"), QC_EINVAL);
+    assert_message("--set levels=0,1: [alphabet pam2] and [alphabet pam4] each set 'levels'");
     qc_settings *s;
     assert_int_equal(qc_scenario_point_settings(sc, 9, &s), QC_OK);
-    assert_string_equal(qc_settings_get(s, "levels"), "0,1");
+    assert_string_equal(qc_settings_get(s, "levels"), "-3,-1, 1,3"); /* as the file has it */
+    qc_settings_free(s);
+    /* a base key the sections leave alone holds for every point */
+    assert_int_equal(qc_scenario_override(sc, "tol=1e-10"), QC_OK);
+    assert_int_equal(qc_scenario_point_settings(sc, 9, &s), QC_OK);
+    assert_string_equal(qc_settings_get(s, "tol"), "1e-10");
     qc_settings_free(s);
     /* one section's key */
     assert_int_equal(qc_scenario_override(sc, "alphabet.pam4.levels=-2,2"), QC_OK);

@@ -446,7 +446,9 @@ static void test_rejected_request_stops(void **state)
                         "[sweep]\nsnr-db = 0, 3\n";
     qc_scenario *sc;
     assert_int_equal(qc_scenario_parse(good, sizeof good - 1, "p.ini", &sc), QC_OK);
-    assert_int_equal(qc_scenario_check(sc), QC_OK);
+    /* the check before any work already refuses it, as the run does */
+    assert_int_equal(qc_scenario_check(sc), QC_EINVAL);
+    assert_message("p.ini: point 1 (snr-db = 0): ");
     char dir[128], path[160];
     snprintf(dir, sizeof dir, "%s/rejected", tmpdir);
     qc_sweep_options opt;
