@@ -8,6 +8,7 @@
 #include <fcntl.h>
 
 #include <math.h>
+#include <signal.h>
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
@@ -57,6 +58,36 @@ static void default_out(const char *scenario, char *out, size_t cap)
     if (dot && dot != base)
         n = (size_t)(dot - base);
     snprintf(out, cap, "out/%.*s", (int)n, base);
+}
+
+/* What an interrupted sweep leaves and how to go on, said on Ctrl-C or a
+ * termination signal before the default action ends the process with its
+ * usual status. The text is made beforehand: the handler only writes it
+ * (write(2) is async-signal-safe). */
+static char interrupt_text[4096 + 200];
+static size_t interrupt_len;
+
+static void on_interrupt(int sig)
+{
+    ssize_t ignored = write(STDERR_FILENO, interrupt_text, interrupt_len);
+    (void)ignored;
+    signal(sig, SIG_DFL);
+    raise(sig);
+}
+
+/* Install the handler for a sweep writing to `dir`; NULL restores the
+ * default action. */
+static void say_on_interrupt(const char *dir)
+{
+    if (dir)
+        snprintf(interrupt_text, sizeof interrupt_text,
+                 "\nquantcap: sweep interrupted: the points finished are kept in "
+                 "%s/checkpoint.jsonl; the same command with --resume continues from "
+                 "them\n",
+                 dir);
+    interrupt_len = strlen(interrupt_text);
+    signal(SIGINT, dir ? on_interrupt : SIG_DFL);
+    signal(SIGTERM, dir ? on_interrupt : SIG_DFL);
 }
 
 /* Under an MPI launcher, the ranks after the first keep quiet while the
@@ -227,7 +258,9 @@ static int sweep_main(int argc, char **argv, size_t launched, int first, int *mu
 #endif
     struct timespec t0, t1;
     clock_gettime(CLOCK_MONOTONIC, &t0);
+    say_on_interrupt(out);
     st = qc_sweep_run(sc, &opt, &sum);
+    say_on_interrupt(NULL);
     clock_gettime(CLOCK_MONOTONIC, &t1);
     cli_progress_end(&ps);
     if (st != QC_OK) {
