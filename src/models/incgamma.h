@@ -1,6 +1,6 @@
 /* incgamma.h — regularized incomplete gamma functions and the Poisson
- * term with relative accuracy for large parameters (used by `preamp`).
- * Internal. */
+ * term with relative accuracy for large parameters (used by `preamp` and
+ * `poisson`). Internal. */
 #ifndef QC_INCGAMMA_H
 #define QC_INCGAMMA_H
 
@@ -17,5 +17,14 @@ double qc_log_poisson_term(double a, double t);
  * with relative accuracy in its own tail; NaN when the series or
  * continued fraction does not converge (not seen for a ≤ 1e8). */
 double qc_gamma_inc(double a, double t, int upper);
+
+/* Smallest a for qc_gamma_inc_uniform. */
+#define QC_GAMMA_UNIFORM_MIN_A 1000.0
+
+/* P(a, t) (upper = 0) or Q(a, t) (upper = 1) for a ≥ QC_GAMMA_UNIFORM_MIN_A,
+ * t ≥ 0, by Temme's uniform asymptotic expansion: relative error about
+ * 1e-15·(1 + d) in each tail, d = t − a − a·ln(t/a), at a fixed cost for
+ * any a; NaN for a below the range. */
+double qc_gamma_inc_uniform(double a, double t, int upper);
 
 #endif

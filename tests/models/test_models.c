@@ -359,6 +359,90 @@ static void test_poisson(void **state)
     qc_model_free(m);
 }
 
+/* Large means (thresholds from 1000 counts on: Temme's uniform expansion).
+ * Reference values: scipy.stats.poisson.cdf(t - 1, lam) and
+ * scipy.stats.poisson.sf(t - 1, lam), scipy 1.10.1 (Debian 12), all within
+ * 4.5 standard deviations of the mean, where scipy's incomplete gamma uses
+ * its own uniform asymptotic series (they agree with the pmf summed in
+ * 50-digit decimal arithmetic to 3e-15). GSL's gsl_sf_gamma_inc_Q/P gave
+ * 0.83474 for 0.83076 at λ = 666667, t = 667449, and fail from 1e6 on. */
+static void test_poisson_large_mean(void **state)
+{
+    (void)state;
+    static const struct {
+        double lam, t, below, above; /* P(Y < t), P(Y ≥ t) */
+    } ref[] = {
+        {1e5, 100000, 0.4995794778896348, 0.50042052211036514},
+        {1e5, 100300, 0.82822055003918948, 0.17177944996081052},
+        {1e5, 99100, 0.002176405799625017, 0.99782359420037503},
+        {666667, 667449, 0.83075550004530485, 0.16924449995469504},
+        {666667, 666000, 0.20683585044415978, 0.79316414955584014},
+        {1e6, 1000000, 0.49986701923912741, 0.50013298076087254},
+        {1e6, 1002000, 0.97719586809630421, 0.022804131903695762},
+        {1e6, 996000, 3.1271488429742431e-05, 0.99996872851157026},
+        {1e7, 10000000, 0.49995794779127628, 0.50004205220872366},
+        {1e7, 10006000, 0.9710907505411791, 0.028909249458820854},
+        {1e7, 9991000, 0.0022095644651667283, 0.99779043553483326},
+        {1e8, 100000000, 0.49998670192398587, 0.50001329807601413},
+        {1e8, 100030000, 0.99864928934095387, 0.0013507106590461657},
+        {1e8, 99960000, 3.1631110160801477e-05, 0.9999683688898392},
+    };
+    for (size_t i = 0; i < sizeof ref / sizeof ref[0]; i++) {
+        double p[QC_MODEL_MAX_PARAMS] = {ref[i].lam, 0.0};
+        qc_model *m = make("poisson", p);
+        const qc_model_type *ty = qc_model_get_type(m);
+        double lo = ty->below(m, 1.0, ref[i].t), hi = ty->above(m, 1.0, ref[i].t);
+        if (!(fabs(lo - ref[i].below) <= 1e-13 * ref[i].below) ||
+            !(fabs(hi - ref[i].above) <= 1e-13 * ref[i].above))
+            fail_msg("lambda %g, t %g: P(Y < t) = %.17g (scipy %.17g), P(Y >= t) = %.17g "
+                     "(scipy %.17g)", ref[i].lam, ref[i].t, lo, ref[i].below, hi,
+                     ref[i].above);
+        /* the pmf fills the gap between neighbouring thresholds */
+        double next = ty->below(m, 1.0, ref[i].t + 1.0);
+        assert_true(next > lo);
+        assert_near(next - lo, ty->density(m, 1.0, ref[i].t), 1e-13);
+        qc_model_free(m);
+    }
+}
+
+/* 4-level intensity (0, 1/3, 2/3, 1) at 1e6 … 1e8 signal photons, an
+ * optimal 8-cell count quantizer: the design succeeds with nonnegative
+ * cells, rows summing to 1 and increasing thresholds, and resolves the
+ * four levels (2 bits). */
+static void test_poisson_large_design(void **state)
+{
+    (void)state;
+    const double signals[] = {1e6, 3e6, 1e7, 3e7, 1e8};
+    const double levels[] = {0.0, 1.0 / 3.0, 2.0 / 3.0, 1.0};
+    for (size_t i = 0; i < sizeof signals / sizeof signals[0]; i++) {
+        double p[QC_MODEL_MAX_PARAMS] = {signals[i], 0.0};
+        qc_model *m = make("poisson", p);
+        qc_design_request r;
+        qc_design_request_default(&r);
+        r.channel.model = m;
+        r.channel.levels = levels;
+        r.channel.nlevels = 4;
+        r.quantizer.cells = 8;
+        qc_design_result res;
+        if (qc_design(&r, &res) != QC_OK)
+            fail_msg("signal %g: %s", signals[i], qc_last_error());
+        const qc_dmc *d = res.channel;
+        for (size_t x = 0; x < d->nx; x++) {
+            double sum = 0.0;
+            for (size_t y = 0; y < d->ny; y++) {
+                assert_true(d->p[x * d->ny + y] >= 0.0);
+                sum += d->p[x * d->ny + y];
+            }
+            assert_near(sum, 1.0, TOL_ROW);
+        }
+        for (size_t k = 1; k < res.nthresholds; k++)
+            assert_true(res.thresholds[k] > res.thresholds[k - 1]);
+        assert_near(res.rate_bits, 2.0, 1e-9);
+        qc_design_result_clear(&res);
+        qc_model_free(m);
+    }
+}
+
 /* OOK with ideal counting, no background, threshold 1: a Z channel with
  * crossover p = e^{−n_s}, the Poisson probability of no count for a mean
  * of n_s ('off' never counts). */
@@ -429,6 +513,8 @@ int main(void)
         cmocka_unit_test(test_apd_gauss),
         cmocka_unit_test(test_poisson),
         cmocka_unit_test(test_poisson_z_channel),
+        cmocka_unit_test(test_poisson_large_mean),
+        cmocka_unit_test(test_poisson_large_design),
         cmocka_unit_test(test_far_tail_matrices),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
