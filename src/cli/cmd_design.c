@@ -454,7 +454,13 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
                 r->bcjr_ngmi, r->bcjr_ngmi_ci, r->bcjr_gmi_bits, r->bcjr_gmi_ci_bits,
                 r->unquantized_bcjr_pre_fec_ber, r->unquantized_bcjr_ngmi);
     }
-    if (r->fec_given) {
+    if (r->fec_given && r->fec_note) {
+        fprintf(f, "FEC          %s (%s threshold %.4g): undefined: %s\n", r->fec.name,
+                r->fec.kind == QC_FEC_HARD ? "pre-FEC BER" : "NGMI", r->fec.threshold,
+                r->fec_note);
+        if (p->given)
+            print_fec_penalty(f, r, p);
+    } else if (r->fec_given) {
         const int hard = r->fec.kind == QC_FEC_HARD;
         fprintf(f, "FEC          %s (%s threshold %.4g) with the BCJR detector: %s, margin "
                    "%.4f %s; net %.6f bit/symbol",

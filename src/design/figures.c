@@ -18,6 +18,7 @@ qc_status qc_design_figures(const qc_design_request *req, qc_design_result *r)
     r->bits_per_photon = r->photons_per_bit = NAN;
     r->fec_margin = r->net_bits = r->net_rate_gbps = NAN;
     r->fec_given = r->fec_closes = 0;
+    r->fec_note = NULL;
     if (req->channel.polarizations > 2)
         return qc_fail(QC_EINVAL, "polarizations must be 1 or 2 (got %u)", req->channel.polarizations);
     if (req->channel.symbol_rate != 0.0 && !(req->channel.symbol_rate > 0.0 && isfinite(req->channel.symbol_rate)))

@@ -6,7 +6,8 @@
  * quantized information rate, and the trade's figures of the symbol-by-
  * symbol receiver (exact) and of the symbol-wise MAP detector (BCJR:
  * Bahl, Cocke, Jelinek, Raviv, IEEE Trans. IT 20(2), 1974; simulated on
- * the same sequence) are filled in, with the FEC outcome of the latter.
+ * the same sequence) are filled in, with the FEC outcome of the latter
+ * (undefined where its figures are not simulated, on a coherent link).
  *
  * What is searched, starting from the memoryless-optimal settings:
  *   - uniform: the full scale, as a factor α on the spread of the
@@ -291,6 +292,45 @@ static qc_status converter_settings(search *s, const qc_converter *c, double *al
     return QC_OK;
 }
 
+/* The verdict of the request's code on the channel with memory: judged
+ * by the BCJR detector's figure the code reads (the BER for a hard-
+ * decision code, the NGMI for a soft one). Without that figure the
+ * verdict is undefined, never that of the link without interference the
+ * memoryless figures describe. */
+static qc_status memory_fec(const qc_design_request *req, double m, qc_design_result *res)
+{
+    const qc_fec *fec = req->input.fec;
+    const double fig = fec->kind == QC_FEC_HARD ? res->bcjr_pre_fec_ber : res->bcjr_ngmi;
+    res->fec_closes = 0;
+    res->fec_margin = res->net_bits = res->net_rate_gbps = NAN;
+    res->fec_note = NULL;
+    if (isnan(fig)) {
+        res->fec_note =
+            req->memory.coherent
+                ? "a coherent channel with memory has no simulated pre-FEC BER or NGMI (the "
+                  "BCJR detector's figures are simulated on real channels only), so the code "
+                  "cannot be judged; rate the link by its information rate (rate=X targets)"
+                : fec->kind == QC_FEC_HARD
+                ? "the BCJR detector's pre-FEC BER is undefined here (Gray labels need a "
+                  "power of 2 levels), so the code cannot be judged"
+                : "the BCJR detector's NGMI is undefined here (Gray labels need a power of 2 "
+                  "levels), so the code cannot be judged";
+        return QC_OK;
+    }
+    qc_fec_outcome o;
+    qc_status st = qc_fec_evaluate(fec, res->bcjr_pre_fec_ber, res->bcjr_ngmi,
+                                   res->entropy_bits, m, &o);
+    if (st != QC_OK)
+        return st;
+    res->fec_closes = o.closes;
+    res->fec_margin = o.margin;
+    res->net_bits = o.net_bits * (double)res->polarizations;
+    res->net_rate_gbps = req->channel.symbol_rate > 0.0
+                             ? res->net_bits * req->channel.symbol_rate * 1e-9
+                             : NAN;
+    return QC_OK;
+}
+
 /* The trade's figures on the channel with memory, from the final rates. */
 static qc_status memory_figures(const qc_design_request *req, const qc_isi_result *r,
                                 unsigned nbits, qc_design_result *res)
@@ -300,36 +340,23 @@ static qc_status memory_figures(const qc_design_request *req, const qc_isi_resul
     res->bcjr_gmi_bits = res->bcjr_gmi_ci_bits = res->bcjr_ngmi = res->bcjr_ngmi_ci = NAN;
     res->unquantized_bcjr_pre_fec_ber = res->unquantized_bcjr_pre_fec_ber_ci = NAN;
     res->unquantized_bcjr_ngmi = res->unquantized_bcjr_ngmi_ci = NAN;
-    if (nbits == 0)
-        return QC_OK;
     const double h = res->entropy_bits, m = (double)nbits;
-    res->symbolwise_pre_fec_ber = r->symbolwise_ber;
-    res->symbolwise_ngmi = qc_ngmi(r->symbolwise_gmi_bits, h, m);
-    res->bcjr_pre_fec_ber = r->bcjr_ber;
-    res->bcjr_pre_fec_ber_ci = r->bcjr_ber_ci;
-    res->bcjr_gmi_bits = r->bcjr_gmi_bits;
-    res->bcjr_gmi_ci_bits = r->bcjr_gmi_ci_bits;
-    /* NGMI is affine in the GMI: its interval is the GMI's over m */
-    res->bcjr_ngmi = qc_ngmi(r->bcjr_gmi_bits, h, m);
-    res->bcjr_ngmi_ci = r->bcjr_gmi_ci_bits / m;
-    res->unquantized_bcjr_pre_fec_ber = r->unquantized_bcjr_ber;
-    res->unquantized_bcjr_pre_fec_ber_ci = r->unquantized_bcjr_ber_ci;
-    res->unquantized_bcjr_ngmi = qc_ngmi(r->unquantized_bcjr_gmi_bits, h, m);
-    res->unquantized_bcjr_ngmi_ci = r->unquantized_bcjr_gmi_ci_bits / m;
-    if (req->input.fec) {
-        qc_fec_outcome o;
-        qc_status st = qc_fec_evaluate(req->input.fec, res->bcjr_pre_fec_ber, res->bcjr_ngmi,
-                                       h, m, &o);
-        if (st != QC_OK)
-            return st;
-        res->fec_closes = o.closes;
-        res->fec_margin = o.margin;
-        res->net_bits = o.net_bits * (double)res->polarizations;
-        res->net_rate_gbps = req->channel.symbol_rate > 0.0
-                                 ? res->net_bits * req->channel.symbol_rate * 1e-9
-                                 : NAN;
+    if (nbits > 0) {
+        res->symbolwise_pre_fec_ber = r->symbolwise_ber;
+        res->symbolwise_ngmi = qc_ngmi(r->symbolwise_gmi_bits, h, m);
+        res->bcjr_pre_fec_ber = r->bcjr_ber;
+        res->bcjr_pre_fec_ber_ci = r->bcjr_ber_ci;
+        res->bcjr_gmi_bits = r->bcjr_gmi_bits;
+        res->bcjr_gmi_ci_bits = r->bcjr_gmi_ci_bits;
+        /* NGMI is affine in the GMI: its interval is the GMI's over m */
+        res->bcjr_ngmi = qc_ngmi(r->bcjr_gmi_bits, h, m);
+        res->bcjr_ngmi_ci = r->bcjr_gmi_ci_bits / m;
+        res->unquantized_bcjr_pre_fec_ber = r->unquantized_bcjr_ber;
+        res->unquantized_bcjr_pre_fec_ber_ci = r->unquantized_bcjr_ber_ci;
+        res->unquantized_bcjr_ngmi = qc_ngmi(r->unquantized_bcjr_gmi_bits, h, m);
+        res->unquantized_bcjr_ngmi_ci = r->unquantized_bcjr_gmi_ci_bits / m;
     }
-    return QC_OK;
+    return req->input.fec ? memory_fec(req, m, res) : QC_OK;
 }
 
 /* Simulate the final rates again on more symbols until the quantized

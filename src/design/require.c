@@ -386,7 +386,13 @@ static double evaluate(search *s, double u)
             s->designs++;
             f = qc_design_figure(&r, rq->target.kind);
             qc_design_result_clear(&r);
-            if (isnan(f))
+            if (isnan(f) && rq->target.from_fec)
+                st = qc_fail(QC_EINVAL, "target fec=%s (its %s) is undefined for this design, "
+                                        "so the code cannot be judged (%s)",
+                             rq->target.fec.name,
+                             rq->target.kind == QC_TARGET_BER ? "pre-FEC BER" : "NGMI",
+                             undefined_why(&req, rq->target.kind));
+            else if (isnan(f))
                 st = qc_fail(QC_EINVAL, "target %s is undefined for this design (%s)",
                              qc_target_name(rq->target.kind), undefined_why(&req, rq->target.kind));
         }

@@ -382,6 +382,11 @@ typedef struct {
                                     polarizations (0: does not close)       */
     double net_rate_gbps;        /* net_bits × symbol rate (0: does not
                                     close; NaN without a symbol rate)       */
+    const char *fec_note;        /* NULL, or why the code cannot be judged
+                                    (a static phrase): fec_closes is then 0
+                                    and the three above NaN (a channel with
+                                    memory whose detector figure is
+                                    undefined, e.g. a coherent one)        */
     /* Pulse-position modulation (request's ppm_slots ≥ 2; else 0 / NaN).
      * rate_bits, upper_bound_bits and unquantized_bits are then per PPM
      * symbol with the soft receiver (every slot's cell), levels, input,
@@ -459,7 +464,11 @@ typedef struct {
      * BER of its decisions, the GMI and NGMI from its bit-wise
      * a-posteriori LLRs; and the same without the ADC. With a FEC code,
      * fec_closes, fec_margin, net_bits and net_rate_gbps above are those
-     * of this detector on the channel with memory. */
+     * of this detector on the channel with memory (its BER for a hard-
+     * decision code, its NGMI for a soft one), never those of the link
+     * without interference: where that figure is undefined (a coherent
+     * channel, on which it is not simulated) the verdict is undefined
+     * and fec_note says why. */
     double bcjr_pre_fec_ber, bcjr_pre_fec_ber_ci;
     double bcjr_gmi_bits, bcjr_gmi_ci_bits;
     double bcjr_ngmi, bcjr_ngmi_ci;

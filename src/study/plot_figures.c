@@ -99,11 +99,14 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                             if (ca)
                                 vi[p->curve_axis] = c;
                             json_t *rec = ctx->records[plot_point_index(sc, a, vi)];
-                            /* a channel with memory: its BCJR detector's BER */
-                            double b = plot_record_number(rec, "bcjr_pre_fec_ber");
-                            memory |= !isnan(b);
+                            /* a channel with memory: its BCJR detector's BER,
+                             * none on a coherent one (never the BER of the
+                             * link without interference) */
+                            const int mem = !isnan(plot_record_number(rec, "states"));
+                            memory |= mem;
                             ber[((pi * ns + s) * ncurves + c) * nx + j] =
-                                isnan(b) ? plot_record_number(rec, "pre_fec_ber") : b;
+                                plot_record_number(rec, mem ? "bcjr_pre_fec_ber"
+                                                            : "pre_fec_ber");
                             if (!isfinite(thr[pi * ns + s]))
                                 thr[pi * ns + s] = fec_threshold(rec, &fec_name);
                         }

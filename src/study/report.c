@@ -147,11 +147,18 @@ static void report_figures(json_t *o, const qc_design_result *res)
         json_object_set_new(fec, "threshold", qc_report_real(res->fec.threshold));
     }
     json_object_set_new(o, "fec", fec);
-    json_object_set_new(o, "fec_closes",
-                        res->fec_given ? json_boolean(res->fec_closes) : json_null());
+    /* null where no code was given or the verdict is undefined */
+    json_object_set_new(o, "fec_closes", res->fec_given && !res->fec_note
+                                             ? json_boolean(res->fec_closes)
+                                             : json_null());
     json_object_set_new(o, "fec_margin", qc_report_real(res->fec_margin));
     json_object_set_new(o, "net_bits", qc_report_real(res->net_bits));
     json_object_set_new(o, "net_rate_gbps", qc_report_real(res->net_rate_gbps));
+    /* a channel with memory with a code: why its verdict is undefined
+     * (null where it is defined); memoryless reports keep their keys */
+    if (res->fec_given && res->states > 0)
+        json_object_set_new(o, "fec_note",
+                            res->fec_note ? json_string(res->fec_note) : json_null());
 }
 
 /* ---- pulse-position modulation (src/design/ppm_design.c) ---------- */

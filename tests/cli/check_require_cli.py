@@ -397,4 +397,69 @@ check(rc == 0 and "BCJR pre-FEC BER" in out and "NGMI" in out and
       "95 % intervals of the simulation" in out,
       f"memory require text states the detector's BER with its interval ({err.strip()})")
 
+# memory: the code's verdict is the BCJR detector's (its BER for a hard-
+# decision code), margin Q(BER) - Q(threshold) in dB, never the Q-factor
+# of the link without interference
+if d and isinstance(d.get("bcjr_pre_fec_ber"), float):
+    tally.near("memory: fec_margin is the BCJR detector's Q-factor over kp4's",
+               d["fec_margin"], 20 * math.log10(norm.isf(d["bcjr_pre_fec_ber"]) /
+                                               norm.isf(2.4e-4)), 1e-9)
+    check(d.get("fec_note", "absent") is None, "memory: a judged code has fec_note null")
+dn = as_json("design", *MEM, "--snr-db", "20", "--fec", "overhead=20,ngmi=0.9")
+if dn and isinstance(dn.get("bcjr_ngmi"), float):
+    tally.near("memory: a soft code's margin is the BCJR NGMI over its threshold",
+               dn["fec_margin"], dn["bcjr_ngmi"] - 0.9, 1e-12)
+    check(dn["fec_closes"] == (dn["bcjr_ngmi"] >= 0.9), "memory: soft code judged on BCJR NGMI")
+
+# a coherent channel with memory has no simulated BER or NGMI: the verdict
+# of a code is undefined (null, and the text says why), not the one of the
+# link without interference
+COH = ["--model", "gauss", "--snr-db", "12", "--alphabet", "qam:4", "--bits", "3",
+       "--quantizer", "uniform", "--response", "dispersion:100", "--symbol-rate", "64e9",
+       "--symbols", "4000", "--seed", "5"]
+for code in ["ofec", "sd-25-ideal"]:
+    c = as_json("design", *COH, "--fec", code)
+    if not c:
+        continue
+    check(c.get("bcjr_pre_fec_ber", 0) is None and c.get("bcjr_ngmi", 0) is None,
+          f"coherent memory ({code}): no BCJR figures")
+    for k in ["fec_closes", "fec_margin", "net_bits", "net_rate_gbps"]:
+        check(k in c and c[k] is None,
+              f"coherent memory ({code}): {k} is null, not the interference-free verdict "
+              f"({c.get(k)})")
+    note = c.get("fec_note")
+    check(isinstance(note, str) and "coherent" in note and "cannot be judged" in note,
+          f"coherent memory ({code}): fec_note says why ({note})")
+    rc, out, err = run("design", *COH, "--fec", code)
+    line = next((ln for ln in out.splitlines() if ln.startswith("FEC ")), "")
+    check(rc == 0 and "undefined" in line and "cannot be judged" in line and
+          "closes" not in line and "Gb/s" not in line,
+          f"coherent memory ({code}): the text verdict is undefined ({line})")
+rc, out, err = run("require", *COH, "--target", "fec=ofec", "--solve-for", "snr-db",
+                   "--range", "5,15")
+check(rc == 2 and "fec=ofec" in err and "cannot be judged" in err and "coherent" in err,
+      f"require fec=ofec on a coherent memory channel: a clear error ({err.strip()})")
+with tempfile.TemporaryDirectory() as tmp:
+    ini = os.path.join(tmp, "coh.ini")
+    with open(ini, "w") as f:
+        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = qam:4\n"
+                "bits = 3\nquantizer = uniform\nresponse = dispersion:100\n"
+                "symbol-rate = 64e9\nsymbols = 4000\nseed = 5\nfec = ofec\n"
+                "[sweep]\nsnr-db = 10, 12\n[plots]\nrate-vs-x = false\nber-vs-x = true\n")
+    out = os.path.join(tmp, "out")
+    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    check(rc == 0, f"coherent memory sweep with a code: exit {rc} ({se.strip()})")
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = list(csv.DictReader(f))
+        for r in rows:
+            check(all(r.get(k) == "" for k in ["fec_closes", "fec_margin", "net_bits",
+                                               "net_rate_gbps"]),
+                  f"coherent memory sweep: no verdict in results.csv ({r.get('fec_closes')}, "
+                  f"{r.get('fec_margin')})")
+            check("cannot be judged" in r.get("fec_note", ""),
+                  "coherent memory sweep: results.csv says why")
+        check(not os.path.exists(os.path.join(out, "ber-vs-snr-db_default.svg")),
+              "coherent memory sweep: no BER figure from the interference-free BER")
+
 sys.exit(1 if tally.failures else 0)
