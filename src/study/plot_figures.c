@@ -64,8 +64,12 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
     /* ber[((p * ns + s) * ncurves + c) * nx + j]; thr[p * ns + s] */
     double *x = plot_alloc(ctx, nx * sizeof *x), *ber = plot_alloc(ctx, ncell * sizeof *ber),
            *thr = plot_alloc(ctx, np * ns * sizeof *thr);
+    /* a simulated BER's 95 % interval, drawn as error bars: half-width,
+     * then log10 of its ends */
+    double *ci = plot_alloc(ctx, ncell * sizeof *ci), *lo = plot_alloc(ctx, ncell * sizeof *lo),
+           *hi = plot_alloc(ctx, ncell * sizeof *hi);
     unsigned char *below = plot_alloc(ctx, ncell);
-    if (!x || !ber || !thr || !below)
+    if (!x || !ber || !thr || !ci || !lo || !hi || !below)
         return QC_ENOMEM; /* the blocks are the context's */
     char xlabel[160];
     plot_key_label(sc, xa->key, xlabel, sizeof xlabel);
@@ -107,6 +111,8 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                             ber[((pi * ns + s) * ncurves + c) * nx + j] =
                                 plot_record_number(rec, mem ? "bcjr_pre_fec_ber"
                                                             : "pre_fec_ber");
+                            ci[((pi * ns + s) * ncurves + c) * nx + j] =
+                                mem ? plot_record_number(rec, "bcjr_pre_fec_ber_ci") : NAN;
                             if (!isfinite(thr[pi * ns + s]))
                                 thr[pi * ns + s] = fec_threshold(rec, &fec_name);
                         }
@@ -141,6 +147,10 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
             for (size_t i = 0; i < ncell; i++) {
                 below[i] = isfinite(ber[i]) && ber[i] < pow(10.0, y0);
                 any_below |= below[i];
+                /* the interval's ends, its lower end held at the frame */
+                int bar = isfinite(ber[i]) && !below[i] && isfinite(ci[i]) && ci[i] > 0.0;
+                lo[i] = bar ? log10(fmax(ber[i] - ci[i], pow(10.0, y0))) : NAN;
+                hi[i] = bar ? fmin(log10(ber[i] + ci[i]), y1) : NAN;
                 ber[i] = isfinite(ber[i]) && !below[i] ? log10(ber[i]) : NAN;
             }
             double x0, x1;
@@ -168,7 +178,7 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                 plot_append(subject, sizeof subject, ": ", sc->alphabets[g].label);
             plot_append(subject, sizeof subject, ": ", what);
             plot_figure_title(sc, subject, ttext, w, h);
-            const char *ylabel = memory ? "pre-FEC BER (symbol-wise MAP, BCJR)"
+            const char *ylabel = memory ? "pre-FEC BER (BCJR; bars: 95 % interval)"
                                         : "pre-FEC BER (MAP hard decisions)";
             int every = nx > 10 ? (int)(nx / 8) : 1;
             for (size_t pi = 0; pi < np; pi++) {
@@ -196,6 +206,10 @@ qc_status plot_ber_vs_x(plot_ctx *ctx)
                         for (size_t j = 0; j < nx; j++)
                             if (below[cell + j])
                                 plot_draw_marker(x[j], y0 + 0.04 * (y1 - y0), MARK_BELOW, 1);
+                        plwidth(1.0);
+                        for (size_t j = 0; j < nx; j++)
+                            if (isfinite(lo[cell + j]))
+                                plerry(1, &x[j], &lo[cell + j], &hi[cell + j]);
                     }
                     double t = thr[pi * ns + s];
                     if (isfinite(t) && t > 0) { /* the FEC threshold: black dashed */

@@ -329,7 +329,12 @@ static qc_status compile_alphabets(qc_scenario *sc, const qc_settings *base)
     if (n == 0) {
         sc->nalphabets = 1;
         sc->alphabets[0] = (sc_alphabet){"default", "default", 0, NULL};
-        return qc_settings_copy(base, &sc->alphabets[0].settings);
+        st = qc_settings_copy(base, &sc->alphabets[0].settings);
+        /* legends and titles name the alphabet, not the internal name */
+        const char *spec = st == QC_OK ? qc_settings_get(sc->alphabets[0].settings, "alphabet")
+                                       : NULL;
+        sc->alphabets[0].label = spec ? spec : "given levels";
+        return st;
     }
     for (size_t i = 0; i < sc->nsections; i++) {
         sc_section *s = &sc->sections[i];

@@ -35,7 +35,8 @@ typedef struct {
 /* One alphabet: the base settings plus its own keys. */
 typedef struct {
     const char *name;  /* section name, or "default" without sections */
-    const char *label; /* for legends: `label`, else the name           */
+    const char *label; /* for legends: `label`, else the name (without
+                          sections: the alphabet key's value)           */
     int line;          /* line of its header (0: none)                   */
     qc_settings *settings;
 } sc_alphabet;

@@ -348,5 +348,36 @@ rc, out, err = run("sweep", write("iq_pn0.ini", IQ_PN.replace("phase-noise-deg =
 names = [n for n in figures(ldir + "0") if n.startswith("rate-vs-phase-noise-deg")]
 check(rc == 0 and names, f"2-D sweep from 0 degrees ({rc}: {err})")
 
+# A channel with memory and no alphabet sections: the BER figure gives the
+# simulated BCJR BER with its 95 % intervals as bars, and names the alphabet
+# by its key, not the internal name of the one implicit alphabet
+MEM = """[receiver]
+model = gauss
+snr-db = 22
+[design]
+alphabet = upam:4
+quantizer = uniform
+symbols = 4000
+seed = 3
+fec = kp4
+taps = 1, 0.3
+[sweep]
+bits = 3, 4
+[plots]
+format = svg
+x = bits
+ber-vs-x = true
+"""
+mdir2 = os.path.join(tmp, "memory")
+rc, out, err = run("sweep", write("mem.ini", MEM), "--output-dir", mdir2)
+check(rc == 0, f"memory sweep ({rc}: {err})")
+bers = [n for n in figures(mdir2) if n.startswith("ber-vs-bits")] if rc == 0 else []
+check(len(bers) == 1, f"memory sweep: one BER figure ({bers})")
+for name in bers:
+    t = svg_text(os.path.join(mdir2, name))
+    check(any("bars: 95 % interval" in s for s in t), f"{name}: the y label names the bars")
+    check(any(s.startswith("upam:4: ") for s in t) and not any("default" in s for s in t),
+          f"{name}: the alphabet is named upam:4, never 'default' ({t[:4]})")
+
 print(f"{tally.count - len(tally.failures)} passed, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
