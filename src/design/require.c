@@ -455,8 +455,8 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
         }
         return qc_fail(QC_EINVAL,
                        "%s: the %s is not monotone in %s: it crosses the target %zu times in "
-                       "the range (%s); no unique root: narrow --range to one side "
-                       "of the turn or solve for another quantity",
+                       "the range (%s); no unique root: narrow the search range (require "
+                       "--range) to one side of the turn or solve for another quantity",
                        who, name, rq->name, ncross, where);
     }
     if (ncross == 0) {
@@ -584,7 +584,7 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
         return qc_fail(QC_EINFEASIBLE,
                        "target %s = %g is met over the whole range of %s, %g%s to %g%s "
                        "(the worst is %s = %.6g%s at %.6g%s): the required value lies "
-                       "outside it; widen --range",
+                       "outside it; widen the search range (require --range)",
                        qc_target_name(kind), rq->target.value, rq->name, rq->lo, rq->unit,
                        rq->hi, rq->unit, qc_target_name(kind), out->best_figure,
                        figure_unit(kind), out->best_value, rq->unit);
