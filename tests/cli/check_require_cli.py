@@ -352,7 +352,7 @@ with tempfile.TemporaryDirectory() as tmp:
             # penalty at the operating rate) when a target is set
             check_figure(out, "required-vs-bits.svg",
                          ["required SNR (dB)", "penalty at the target (dB)",
-                          "quantizer resolution (bits)", "unquantized", "default"])
+                          "quantizer resolution (bits)", "unquantized", "pam:4"])
             check(any("kp4" in t for t in svg_text(os.path.join(out, "required-vs-bits.svg")))
                   if os.path.exists(os.path.join(out, "required-vs-bits.svg")) else False,
                   "required-vs-bits names the target's FEC in its title")
