@@ -108,7 +108,9 @@ qc_status qc_alphabet_parse(const char *spec, qc_alphabet **out)
     else if (kind_len == 3 && strncmp(spec, "ppm", 3) == 0)
         return ppm_parse(spec, colon + 1, out);
     else
-        return qc_fail(QC_EINVAL, "alphabet: unknown kind '%.*s' (known: pam, upam, qam, ppm)",
+        return qc_fail(QC_EINVAL,
+                       "alphabet: unknown kind '%.*s' (known: pam, upam, qam, ppm; in the "
+                       "plane psk, apsk, hex)",
                        (int)(kind_len < 32 ? kind_len : 32), spec);
     size_t m;
     size_t most = kind == QC_ALPHABET_QAM ? QC_ALPHABET_MAX * QC_ALPHABET_MAX
