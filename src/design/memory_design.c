@@ -59,6 +59,9 @@ qc_status qc_memory_check(const qc_design_request *req)
                                              m->ntaps);
     if (st != QC_OK)
         return st;
+    if (m->symbols > QC_DESIGN_MEMORY_MAX_SYMBOLS) /* as many as a rate-ci search may use */
+        return qc_fail(QC_EINVAL, "symbols: at most %zu (got %zu)",
+                       (size_t)QC_DESIGN_MEMORY_MAX_SYMBOLS, m->symbols);
     if (req->channel.model && (st = qc_isi_model_check(req->channel.model)) != QC_OK)
         return st;
     if (!m->coherent) {
