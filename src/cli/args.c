@@ -80,7 +80,8 @@ static int unknown_option(const cli_args *a, const char *name)
             bi = i;
         }
     }
-    if (best <= 3)
+    /* a suggestion must share most of the name ('--bits' is not '--b') */
+    if (best <= 3 && 3 * best <= strlen(name) + 2)
         return cli_usage_error("%s: unknown option '--%s' (did you mean '--%s'?)",
                                a->command, name, a->opts[bi]->name);
     return cli_usage_error("%s: unknown option '--%s' (see 'quantcap %s --help')",
