@@ -224,10 +224,13 @@ static void print_figures(FILE *f, const qc_design_result *r, const fec_penalty 
                 r->photons_per_symbol, r->bits_per_photon, r->photons_per_bit);
     if (r->fec_given && r->states == 0) { /* memory: in print_memory */
         int hard = r->fec.kind == QC_FEC_HARD;
-        fprintf(f, "FEC          %s (%.4g %% overhead, %s threshold %.4g): %s, margin %.4f %s",
-                r->fec.name, 100.0 * r->fec.overhead, hard ? "pre-FEC BER" : "NGMI",
-                r->fec.threshold, r->fec_closes ? "closes" : "does not close", r->fec_margin,
-                hard ? "dB (Q-factor)" : "(NGMI)");
+        fprintf(f, "FEC          %s (%.4g %% overhead, %s threshold %.4g): %s, ", r->fec.name,
+                100.0 * r->fec.overhead, hard ? "pre-FEC BER" : "NGMI", r->fec.threshold,
+                r->fec_closes ? "closes" : "does not close");
+        if (isfinite(r->fec_margin))
+            fprintf(f, "margin %.4f %s", r->fec_margin, hard ? "dB (Q-factor)" : "(NGMI)");
+        else /* a BER below every double has no Q-factor */
+            fprintf(f, "margin unbounded (pre-FEC BER 0 in double precision)");
         fprintf(f, "; net %.6f %s", r->net_bits, cli_rate_unit(r->dimensions));
         if (r->polarizations > 1) /* net_bits counts every polarization */
             fprintf(f, " over %u polarizations", r->polarizations);

@@ -17,6 +17,7 @@ import csv
 import json
 import math
 import os
+import re
 import sys
 import tempfile
 
@@ -77,6 +78,12 @@ rc, out, err = run("design", "--model", "gauss", "--snr-db", "16", "--alphabet",
                    "--bits", "4", "--symbol-rate", "64e9", "--fec", "ofec")
 for word in ["Q-factor", "dB", "bit/s/Hz", "Gb/s", "Gbaud", "closes", "margin"]:
     check(word in out, f"design text mentions '{word}'")
+# a BER that underflows to 0 has no Q-factor: the margin says so, never 'inf'
+rc, out, err = run("design", "--model", "gauss", "--snr-db", "60", "--alphabet", "qam:16",
+                   "--bits", "4", "--fec", "ofec")
+fec_line = [ln for ln in out.splitlines() if ln.startswith("FEC")]
+check(rc == 0 and "margin unbounded" in out and not re.search(r"\binf\b", out),
+      f"60 dB: the FEC margin is unbounded, not inf ({fec_line})")
 
 # require: snr-db; the design at the required value meets the target
 r = as_json("require", "--model", "gauss", "--snr-db", "12", "--alphabet", "pam:4",
