@@ -170,6 +170,10 @@ int plot_any_finite(const double *v, size_t n);
 double plot_record_number(json_t *rec, const char *key);
 /* 1 when the point's result is of a two-dimensional alphabet (QAM). */
 int plot_record_qam(json_t *rec);
+/* What the rate of the sweep's points is, for titles and axes: "GMI" when
+ * every point's objective is gmi (the rate is then the BICM GMI), else
+ * "information rate". */
+const char *plot_rate_name(const plot_ctx *ctx);
 /* The status name of a point's record (NULL when it has none). */
 const char *plot_record_status(json_t *rec);
 /* The numbers of an array of a point's result, owned by the figure. */

@@ -124,7 +124,7 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
             char what[300];
             snprintf(what, sizeof what, "%s against %s",
                      memory ? "information rate with memory (sequence detector)"
-                            : "information rate",
+                            : plot_rate_name(ctx),
                      xlabel);
             if (!alpha_panels) {
                 plot_append(subject, sizeof subject, ": ", what);
@@ -135,7 +135,8 @@ qc_status plot_rate_vs_x(plot_ctx *ctx)
             const char *unit = alpha_panels ? plot_rate_unit(sc, 0, sc->nalphabets)
                                             : plot_rate_unit(sc, g, g + 1);
             char ylabel[160];
-            snprintf(ylabel, sizeof ylabel, "information rate (%s)", unit);
+            snprintf(ylabel, sizeof ylabel, "%s (%s)", memory ? "information rate"
+                                                               : plot_rate_name(ctx), unit);
             int every = nx > 10 ? (int)(nx / 8) : 1;
             int unq_drawn = 0; /* the legend names the unquantized curve if drawn */
             for (size_t pi = 0; pi < np; pi++) {
@@ -393,7 +394,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             plschr(0.0, 0.95 * ctx->font_scale);
             char subject[1400];
             snprintf(subject, sizeof subject, "%s against %s",
-                     memory ? "information rate with memory (i.i.d. law)" : "information rate",
+                     memory ? "information rate with memory (i.i.d. law)" : plot_rate_name(ctx),
                      blabel);
             plot_figure_title(sc, subject, ttext, w, h);
             char ylabel[160];

@@ -23,6 +23,18 @@ double plot_record_number(json_t *rec, const char *key)
     return json_is_number(v) ? json_number_value(v) : NAN;
 }
 
+const char *plot_rate_name(const plot_ctx *ctx)
+{
+    size_t n = qc_scenario_npoints(ctx->sc), gmi = 0;
+    for (size_t i = 0; i < n; i++) {
+        const char *o =
+            json_string_value(json_object_get(json_object_get(ctx->records[i], "result"),
+                                              "objective"));
+        gmi += o && strcmp(o, "gmi") == 0;
+    }
+    return n > 0 && gmi == n ? "GMI" : "information rate";
+}
+
 int plot_record_qam(json_t *rec)
 {
     json_t *d = json_object_get(json_object_get(rec, "result"), QC_REPORT_DIMENSIONS);
