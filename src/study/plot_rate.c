@@ -363,10 +363,12 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
                 /* at most LOSS_DECADES decades; smaller losses (and 0) are
                  * marked on the floor as below the axis range */
                 floor_v = fmax(floor_v, pow(10.0, -LOSS_DECADES) * top);
-                l0 = floor(log10(floor_v));
-                l1 = ceil(log10(top) + 0.05);
-                if (l1 <= l0)
-                    l1 = l0 + 1;
+                /* the top just above the largest loss, not a whole decade
+                 * above it (a loss of 0.95 bit drew the axis up to 10) */
+                l1 = log10(top) + 0.05;
+                l0 = fmax(floor(log10(floor_v)), floor(l1 - LOSS_DECADES));
+                if (l1 <= l0 + 1.0)
+                    l1 = l0 + 1.0;
                 for (size_t i = 0; i < ncell; i++) {
                     if (isfinite(low[i]) && low[i] < pow(10.0, l0)) {
                         below[i] = 1;

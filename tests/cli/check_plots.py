@@ -139,11 +139,12 @@ check(has("planner", "rate-vs-bits.svg", " or 0"),
 # off their reference point): the circle glyph appears in the legend only
 check(sum(1 for s in texts.get(("designer", "rate-vs-snr-db.svg"), []) if s == "\u25cb") == 1,
       "designer: the circle marker is a glyph only in the legend")
-# the log loss axis over eight decades is numbered every second decade
+# the log loss axis spans six decades below the largest loss (0.95 bit), not
+# a decade above it, and is numbered every second decade
 decades = [s for s in texts.get(("researcher", "rate-vs-bits_quantizer-optimal.svg"), [])
            if re.fullmatch(r"10[-\u2212]?\d+", s)]
-check(decades == ["10-7", "10-5", "10-3", "10-1", "101"] * 3,
-      f"researcher: log loss axis numbered every second decade ({decades})")
+check(decades == ["10-6", "10-4", "10-2", "100"] * 3,
+      f"researcher: log loss axis of six decades, numbered every second one ({decades})")
 
 # --- QAM: rates per complex symbol, the density shows one quadrature ------
 QAM = """# invented test scenario
