@@ -403,7 +403,7 @@ qc_status plot_rate_vs_bits(plot_ctx *ctx)
             snprintf(ylabel, sizeof ylabel, "rate (%s)", plot_rate_unit(sc, 0, na));
             char lylabel[160];
             if (memory)
-                snprintf(lylabel, sizeof lylabel, "ADC cost, sequence detector (%s)",
+                snprintf(lylabel, sizeof lylabel, "ADC cost (%s)",
                          plot_rate_unit(sc, 0, na));
             else if (at_target)
                 snprintf(lylabel, sizeof lylabel, "penalty at the target (dB)");
