@@ -115,15 +115,19 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
 
 /* iq_polar.c: the probabilities of polar cells by a Fourier series in the
- * angle. A workspace holds the phase error's characteristic function and
- * the FFT plans for one noise and one set of cells (one thread). */
+ * angle (without a phase error, where 2^16 angles do not settle it, by
+ * direct adaptive quadrature over each cell's angles). A workspace holds
+ * the phase error's characteristic function, the FFT plans and the
+ * quadrature's workspace for one noise and one set of cells (one
+ * thread). */
 typedef struct qc_polar_series qc_polar_series;
 qc_status qc_polar_series_alloc(const qc_iq_noise *noise, qc_polar_series **out);
 void qc_polar_series_free(qc_polar_series *w);
 /* Row of point (x, y): P(ring a, sector p) at row[a·P + p], not yet
  * normalized; *err raised to the bound on how much the last doubling of
- * the series moved any cell.
- * QC_ENOCONV if 2^22 angles do not settle it; QC_ENOMEM. */
+ * the series moved any cell (direct quadrature: its error estimate).
+ * QC_ENOCONV if 2^22 angles do not settle it (with a phase error) or the
+ * quadrature does not reach its tolerance; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err);
 

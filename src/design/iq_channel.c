@@ -12,7 +12,8 @@
  * at most GH_MAX_SPREAD angular widths of the noise, else by composite
  * Gauss–Legendre quadrature (GSL glfixed) refined by panel doubling.
  * Polar cells, with or without phase noise: a Fourier series in the
- * angle (iq_polar.c). */
+ * angle; without phase noise, far from the origin against σ, the angular
+ * integral of the ring's radial law by adaptive quadrature (iq_polar.c). */
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 

@@ -23,7 +23,31 @@
  * power of two above 5π·s/σ (2.5 angles per width σ/s of G, at least 32)
  * and doubles, the samples of N kept, until a bound on how much any cell
  * moved (from the change of the coefficients) is at most QC_IQ_QUAD_TOL;
- * that bound is reported. */
+ * that bound is reported.
+ *
+ * The series fails where the point is far from the origin against σ
+ * (s/σ of a few hundred: Es/N0 from about 40 dB for 16-QAM): the samples
+ * of G are exact only to about ε·(s/σ)² relative (the exponent −(s² −
+ * m²)/2σ² is a difference of two numbers near s²/2σ²), which leaves a
+ * noise on the coefficients that no number of angles removes, and the
+ * angles needed grow as s/σ anyway. Without a phase error the series is
+ * therefore given at most 2^DIRECT_LOG2 angles; a point it does not
+ * settle by then (or whose first N is already beyond) gets its cells
+ * directly,
+ *   P(a, [α, β)) = ∫_{α−θx}^{β−θx} G_a(t) dt,
+ * G_a in the same closed form written without the cancellation
+ * (−[h² + (r − m)²]/2σ², h = s·sin t, the Gaussian tails taken on the
+ * side where they do not cancel), by adaptive Gauss–Kronrod quadrature
+ * (GSL qagp, QUADPACK: Piessens et al., 1983) with break points at the
+ * peak t = 0 (mod 2π) and at ±PEAK_WIDTHS·σ/s around it, each cell to
+ * an absolute error of DIRECT_TOL. This is the angular integral of the
+ * bivariate normal density over a sector of an annulus (Rice's
+ * offset-Gaussian law of the amplitude and angle; a ring alone is a
+ * difference of Marcum Q functions, Marcum, IRE Trans. IT-6, 1960; the
+ * sector form as in Simon & Alouini, Digital Communication over Fading
+ * Channels, 2nd ed. 2005, §4.2), and its cost does not grow with s/σ.
+ * With a phase error the series is kept (its terms end where the
+ * phase error's c_k does, about 12/sd). */
 #include "design/design_internal.h"
 #include "models/convolve.h"
 #include "quantcap/iq.h"
@@ -31,6 +55,7 @@
 #include <complex.h>
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
+#include <gsl/gsl_integration.h>
 #include <gsl/gsl_math.h>
 #include <gsl/gsl_sf_bessel.h>
 #include <math.h>
@@ -45,6 +70,11 @@
 #define VM_CUT_ADD 30.0      /* I_k/I_0 < e^{−50} (the rest taken as 0)       */
 #define CK_NEGLIGIBLE 1e-30  /* c_k below: the series stops (γ_k ≤ 1/2π)      */
 #define RESEED_STEPS 64      /* sin(k·a) recomputed directly every 64 steps   */
+#define DIRECT_LOG2 16       /* no phase error: series up to 2^16 angles,
+                                then the cells by direct quadrature          */
+#define DIRECT_TOL 1e-15     /* direct quadrature: absolute error per cell    */
+#define DIRECT_LIMIT 200     /* its subintervals (GSL workspace size)         */
+#define PEAK_WIDTHS 8.0      /* break points at ±8 σ/s around the peak        */
 
 struct qc_polar_series {
     const qc_iq_noise *noise;
@@ -61,6 +91,7 @@ struct qc_polar_series {
     double *edge;                /* per radius: E, Φ and 1 − Φ (3 (A + 1))    */
     size_t cap;                  /* N the buffers hold                        */
     size_t sectors;              /* sectors the buffers hold                  */
+    gsl_integration_workspace *quad; /* direct quadrature (made when needed)  */
 };
 
 void qc_polar_series_free(qc_polar_series *w)
@@ -77,6 +108,8 @@ void qc_polar_series_free(qc_polar_series *w)
     free(w->gprev);
     free(w->e);
     free(w->edge);
+    if (w->quad)
+        gsl_integration_workspace_free(w->quad);
     free(w);
 }
 
@@ -305,6 +338,86 @@ static void series_cells(qc_polar_series *w, const qc_iq_cells *q, double theta,
     }
 }
 
+/* ---- direct quadrature (no phase error, the point far from the origin) */
+
+typedef struct {
+    double s, sigma, r0, r1; /* the point's amplitude, the noise, the ring */
+} ring_ctx;
+
+/* G_a(t): the ring's radial integral along the ray at angle θx + t,
+ *   e^{−h²/2σ²}·{[e^{−u0²/2} − e^{−u1²/2}]/2π + m/(σ√(2π))·[Φ(u1) − Φ(u0)]},
+ * m = s·cos t, h = s·sin t, u = (r − m)/σ (u1 = ∞ for the outer ring). */
+static double ring_density(double t, void *vctx)
+{
+    const ring_ctx *c = vctx;
+    const double m = c->s * cos(t), h = c->s * sin(t) / c->sigma;
+    const double u0 = (c->r0 - m) / c->sigma, u1 = (c->r1 - m) / c->sigma;
+    const double e1 = isinf(u1) ? 0.0 : exp(-0.5 * u1 * u1);
+    double d; /* Φ(u1) − Φ(u0), from the tails where it does not cancel */
+    if (u0 > 0.0)
+        d = gsl_cdf_ugaussian_Q(u0) - gsl_cdf_ugaussian_Q(u1);
+    else if (u1 < 0.0)
+        d = gsl_cdf_ugaussian_P(u1) - gsl_cdf_ugaussian_P(u0);
+    else
+        d = 1.0 - gsl_cdf_ugaussian_P(u0) - gsl_cdf_ugaussian_Q(u1);
+    return exp(-0.5 * h * h) *
+           ((exp(-0.5 * u0 * u0) - e1) / (2.0 * M_PI) + m / (c->sigma * sqrt(2.0 * M_PI)) * d);
+}
+
+/* ∫ G_a over [lo, hi) (hi − lo ≤ 2π), break points at the peaks t = 0 and
+ * 2π and at ±PEAK_WIDTHS·σ/s around them, where inside. */
+static qc_status direct_cell(qc_polar_series *w, ring_ctx *c, double lo, double hi,
+                             double *p, double *err)
+{
+    double pts[8];
+    size_t n = 0;
+    const double wd = PEAK_WIDTHS * c->sigma / c->s;
+    pts[n++] = lo;
+    for (int turn = 0; turn <= 1; turn++) {
+        const double peak = 2.0 * M_PI * turn;
+        const double cand[3] = {peak - wd, peak, peak + wd};
+        for (int j = 0; j < 3; j++)
+            if (cand[j] > pts[n - 1] && cand[j] < hi)
+                pts[n++] = cand[j];
+    }
+    pts[n++] = hi;
+    gsl_function f = {ring_density, c};
+    double abserr = 0.0;
+    int gs = gsl_integration_qagp(&f, pts, n, DIRECT_TOL, 0.0, DIRECT_LIMIT, w->quad, p,
+                                  &abserr);
+    if (gs != GSL_SUCCESS && !(gs == GSL_EROUND && abserr <= QC_IQ_QUAD_TOL))
+        return qc_fail(QC_ENOCONV, "iq channel: the polar cell of radii %g to %g, angles %g "
+                       "to %g rad from the point did not settle within %g (%s, error %g)",
+                       c->r0, c->r1, lo, hi, DIRECT_TOL, gsl_strerror(gs), abserr);
+    *err = fmax(*err, abserr);
+    return QC_OK;
+}
+
+/* Row of the point at amplitude s > 0, angle theta, by direct quadrature. */
+static qc_status direct_row(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,
+                            double sigma, double *row, double *err)
+{
+    if (!w->quad && !(w->quad = gsl_integration_workspace_alloc(DIRECT_LIMIT)))
+        return qc_fail(QC_ENOMEM, "out of memory");
+    const size_t rings = q->nradii + 1, sectors = q->nphases;
+    for (size_t a = 0; a < rings; a++) {
+        ring_ctx c = {s, sigma, a == 0 ? 0.0 : q->radii[a - 1],
+                      a + 1 < rings ? q->radii[a] : INFINITY};
+        for (size_t p = 0; p < sectors; p++) {
+            /* the sector relative to the point, its start in [−π, π) */
+            double lo = q->phases[p] - theta;
+            double width = sectors == 1 ? 2.0 * M_PI
+                           : (p + 1 < sectors ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI) -
+                                 q->phases[p];
+            lo -= 2.0 * M_PI * floor((lo + M_PI) / (2.0 * M_PI));
+            qc_status st = direct_cell(w, &c, lo, lo + width, &row[a * sectors + p], err);
+            if (st != QC_OK)
+                return st;
+        }
+    }
+    return QC_OK;
+}
+
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err)
 {
@@ -314,6 +427,11 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
     double want = ANGLES_PER_WIDTH * 2.0 * M_PI * s / sigma;
     while (l < MAX_LOG2 - 1 && (double)((size_t)1 << l) < want)
         l++;
+    /* without a phase error: the series up to 2^DIRECT_LOG2 angles */
+    const int direct = w->noise->phase_sd == 0.0 && s > 0.0;
+    const int last = direct ? DIRECT_LOG2 : MAX_LOG2;
+    if (direct && l >= last)
+        return direct_row(w, q, s, theta, sigma, row, err);
     size_t N = (size_t)1 << l;
     qc_status st = reserve(w, N, rings, q->nphases);
     if (st != QC_OK)
@@ -321,7 +439,7 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
     sample_rings(w, q, s, sigma, N, 0, 1);
     if ((st = coefficients(w, rings, N, l)) != QC_OK)
         return st;
-    for (; l < MAX_LOG2; l++) {
+    for (; l < last; l++) {
         /* 2N angles: the N samples kept at the even places (moved from the
          * top down, so that none is overwritten before it is read) */
         size_t N2 = 2 * N, half = N / 2 + 1, half2 = N + 1;
@@ -342,6 +460,8 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
             return QC_OK;
         }
     }
+    if (direct)
+        return direct_row(w, q, s, theta, sigma, row, err);
     return qc_fail(QC_ENOCONV, "iq channel: the polar cells' Fourier series did not settle "
                    "within %g with %d angles", QC_IQ_QUAD_TOL, 1 << MAX_LOG2);
 }
