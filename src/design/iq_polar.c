@@ -45,7 +45,8 @@
  * offset-Gaussian law of the amplitude and angle; a ring alone is a
  * difference of Marcum Q functions, Marcum, IRE Trans. IT-6, 1960; the
  * sector form as in Simon & Alouini, Digital Communication over Fading
- * Channels, 2nd ed. 2005, §4.2), and its cost does not grow with s/σ.
+ * Channels, 2nd ed. 2005, §4.2 (section from memory)), and its cost does
+ * not grow with s/σ.
  * With a phase error the series is kept (its terms end where the
  * phase error's c_k does, about 12/sd). */
 #include "design/design_internal.h"
