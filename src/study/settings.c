@@ -396,6 +396,10 @@ static qc_status check_value(const char *key, const char *value)
             return st;
         if (strcmp(key, "tol") == 0 && !(d > 0.0))
             return qc_fail(QC_EINVAL, "tolerance must be > 0 (got %g)", d);
+        /* a certificate looser than 0.01 bit says nothing a design can use:
+         * the rate's own differences between bits are of that order */
+        if (strcmp(key, "tol") == 0 && d > 0.01)
+            return qc_fail(QC_EINVAL, "tolerance must be at most 0.01 bit (got %g)", d);
         if (strcmp(key, "error-rate") == 0 && !(d > 0.0 && d < 1.0))
             return qc_fail(QC_EINVAL, "must lie strictly between 0 and 1 (got %g)", d);
         if (k->dmin == 0.0 && k->dmax == 0.0)
