@@ -400,6 +400,13 @@ static qc_status check_value(const char *key, const char *value)
          * the rate's own differences between bits are of that order */
         if (strcmp(key, "tol") == 0 && d > 0.01)
             return qc_fail(QC_EINVAL, "tolerance must be at most 0.01 bit (got %g)", d);
+        /* RIN is a power ratio per hertz far below 1: a value above
+         * -60 dB/Hz (the noisiest lasers are near -110, common practice)
+         * is a slip such as a missing minus sign, not a laser */
+        if (strcmp(key, "rin-db-hz") == 0 && !(d <= -60.0))
+            return qc_fail(QC_EINVAL, "relative intensity noise must be at most -60 dB/Hz "
+                                      "(lasers: about -110 to -160; got %g: a missing minus?)",
+                           d);
         if (strcmp(key, "error-rate") == 0 && !(d > 0.0 && d < 1.0))
             return qc_fail(QC_EINVAL, "must lie strictly between 0 and 1 (got %g)", d);
         if (k->dmin == 0.0 && k->dmax == 0.0)
