@@ -100,9 +100,17 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
     if (isfinite(r->rate_gbps))
         fprintf(f, "; %.6g Gb/s at %.6g Gbaud", r->rate_gbps, r->symbol_rate * 1e-9);
     fputc('\n', f);
-    if (r->fec_given)
-        fprintf(f, "FEC          %s: %s, margin %.4g%s; net %.6f bit/symbol over all "
-                   "polarizations\n",
-                r->fec.name, r->fec_closes ? "closes" : "does not close", r->fec_margin,
-                r->fec.kind == QC_FEC_HARD ? " dB of Q" : " in NGMI", r->net_bits);
+    if (r->fec_given) {
+        fprintf(f, "FEC          %s: %s, ", r->fec.name,
+                r->fec_closes ? "closes" : "does not close");
+        if (isfinite(r->fec_margin))
+            fprintf(f, "margin %.4g%s", r->fec_margin,
+                    r->fec.kind == QC_FEC_HARD ? " dB of Q" : " in NGMI");
+        else /* a BER below every double has no Q-factor */
+            fprintf(f, "margin unbounded (pre-FEC BER 0 in double precision)");
+        fprintf(f, "; net %.6f bit/symbol over all polarizations", r->net_bits);
+        if (isfinite(r->net_rate_gbps))
+            fprintf(f, ", %.6g Gb/s", r->net_rate_gbps);
+        fputc('\n', f);
+    }
 }
