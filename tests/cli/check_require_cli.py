@@ -81,6 +81,14 @@ for word in ["Q-factor", "dB", "bit/s/Hz", "Gb/s", "Gbaud", "closes", "margin"]:
 # a BER that underflows to 0 has no Q-factor: the margin says so, never 'inf'
 rc, out, err = run("design", "--model", "gauss", "--snr-db", "60", "--alphabet", "qam:16",
                    "--bits", "4", "--fec", "ofec")
+# a 2-D receiver's FEC line gives the net rate in Gb/s, as its JSON does
+rc2, out2, err2 = run("design", "--model", "gauss", "--snr-db", "16", "--alphabet", "hex:16",
+                      "--iq-quantizer", "polar", "--amplitude-cells", "3", "--phase-cells", "12",
+                      "--objective", "gmi", "--quantizer", "uniform", "--symbol-rate", "32e9",
+                      "--fec", "sd-25-ideal")
+check(rc2 == 0 and any(ln.startswith("FEC") and ln.endswith("204.8 Gb/s")
+                       for ln in out2.splitlines()),
+      f"2-D FEC line ends with the net Gb/s ({err2.strip()})")
 fec_line = [ln for ln in out.splitlines() if ln.startswith("FEC")]
 check(rc == 0 and "margin unbounded" in out and not re.search(r"\binf\b", out),
       f"60 dB: the FEC margin is unbounded, not inf ({fec_line})")
