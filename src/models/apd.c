@@ -32,6 +32,17 @@
  * cumulants (a gain law split between grid points would add λh²E[f(1−f)]
  * to the variance, f the fractional part of G/h). From 1e4 primaries on,
  * the bins that matter take φ_G − 1 from direct sums (refine_bins).
+ * Mean M·λ and variance M²Fλ + σ_th², F = kM + (1 − k)(2 − 1/M) the
+ * excess noise factor (McIntyre, IEEE Trans. Electron Devices 13(1),
+ * 164–168, 1966; Personick, Bell Syst. Tech. J. 50(1), 167–189, 1971, for
+ * this receiver model). The grid is sized by the law's own spread (the
+ * Chernoff bounds, from a table of E e^{±θG} made once per instance), so
+ * a level without primaries keeps a grid as narrow as the thermal noise.
+ * Limits, refused up front with QC_EINVAL: a gain law longer than
+ * MAX_GAIN_LEN points (apd-gain above about 1.6e5 at k = 0; the parameter
+ * is capped at APD_EXACT_MAX_GAIN), and a level whose span needs a grid
+ * step above 1 and 2σ_th (apd_check_level), where the lattice ripple is no
+ * longer negligible; memory and time are thus bounded whatever the gain.
  * Accuracy (docs/models.md, against an Edgeworth series): absolute 3e-13
  * at 1e5 primaries, 3e-12 at 1e7, 3.5e-11 at 6e9 with σ_th ≥ h; in the
  * lattice regime with σ_th < h a ripple of relative size
@@ -54,6 +65,8 @@
 #include <gsl/gsl_cdf.h>
 
 #define MAX_GRID ((size_t)1 << 21) /* longest transform                  */
+#define MAX_GAIN_LEN ((size_t)1 << 23) /* longest gain law (64 MiB)       */
+#define MAX_STEP_RATIO 2.0         /* grid step h ≤ 2σ_th (lattice ripple) */
 #define MIN_GRID ((size_t)64)
 #define SMOOTH_RATIO 8.0           /* σ_th ≥ 8h: interpolate grid values  */
 #define KERNEL_SD 9.5              /* kernel half-width in σ_th           */
@@ -61,6 +74,7 @@
 #define POLYPHASE_MAX 16.0         /* grid steps up to this: polyphase FFTs */
 #define NGRIDS 6
 #define NSLOTS 32
+#define NTHETA 60                  /* θ values of the Chernoff bounds      */
 #define CACHE_BYTES ((size_t)512 << 20)
 
 typedef struct {
@@ -100,6 +114,7 @@ typedef struct {
     level slots[NSLOTS];
     unsigned long clock;
     size_t bytes;
+    double mgf_up[NTHETA], mgf_dn[NTHETA]; /* E e^{±θ_k G} */
     qc_apd_stats stats;
 } apd_state;
 
@@ -150,6 +165,8 @@ static void apd_destroy(void *state)
     free(s);
 }
 
+static void mgf_table(apd_state *s);
+
 static qc_status apd_init(const double *params, void **state)
 {
     apd_state *s = calloc(1, sizeof *s);
@@ -158,12 +175,21 @@ static qc_status apd_init(const double *params, void **state)
     memcpy(s->params, params, sizeof s->params);
     for (int i = 0; i < NSLOTS; i++)
         s->slots[i].x = NAN;
-    qc_status st = qc_apd_gain_pmf(params[APD_GAIN], params[APD_K], MAX_GRID * 64,
+    qc_status st = qc_apd_gain_pmf(params[APD_GAIN], params[APD_K], MAX_GAIN_LEN,
                                    &s->gain, &s->gain_len);
+    if (st == QC_ENOMEM && s->gain == NULL && params[APD_GAIN] > 1.0) {
+        apd_destroy(s);
+        return qc_fail(QC_EINVAL,
+                       "apd-gain %g with apd-k %g: the McIntyre gain law needs more than "
+                       "%zu points, the limit of the exact 'apd' model (apd-gain up to "
+                       "%g at apd-k 0, less for k > 0); use 'apd-gauss'",
+                       params[APD_GAIN], params[APD_K], MAX_GAIN_LEN, APD_EXACT_MAX_GAIN);
+    }
     if (st != QC_OK) {
         apd_destroy(s);
         return st;
     }
+    mgf_table(s);
     *state = s;
     return QC_OK;
 }
@@ -380,19 +406,63 @@ static void compound(const apd_state *s, grid *g, double lambda)
     qc_conv_inverse(g->conv, g->work, g->real);
 }
 
-/* A count z with P(Z ≥ z) ≤ ZTAIL by the Chernoff bound (Chernoff, Ann.
- * Math. Stat. 23(4), 1952) for the compound Poisson Z:
- *   ln P(Z ≥ z) ≤ −θz + λ(E e^{θG} − 1),  θ > 0,
- * minimized over a geometric grid of θ. */
+/* Chernoff bounds (Chernoff, Ann. Math. Stat. 23(4), 1952) for the
+ * compound Poisson Z, over a geometric grid of θ > 0:
+ *   ln P(Z ≥ z) ≤ −θz + λ(E e^{θG} − 1),  ln P(Z ≤ z) ≤ θz + λ(E e^{−θG} − 1).
+ * The moment generating function of G at the NTHETA values ±θ_k depends
+ * on the gain law alone: it is summed once per instance (mgf_table), in
+ * one pass over the law with e^{±θ_k n} advanced by multiplication and
+ * taken afresh from exp() every MGF_ANCHOR terms, so that a level's bounds
+ * cost O(NTHETA) whatever the gain (summing the law for every θ of every
+ * level took 80% of a design at gain 1e5, and ran past a minute at 1e6). */
 #define ZTAIL 1e-18
+#define MGF_ANCHOR 1024
+
+static double theta_k(const apd_state *s, int k)
+{
+    return 700.0 / (double)s->gain_len * pow(0.7, (double)k);
+}
+
+static void mgf_table(apd_state *s)
+{
+    double up[NTHETA], dn[NTHETA], wu[NTHETA], wd[NTHETA];
+    double su[NTHETA] = {0}, sd[NTHETA] = {0};
+    for (int k = 0; k < NTHETA; k++) {
+        wu[k] = exp(theta_k(s, k));
+        wd[k] = exp(-theta_k(s, k));
+    }
+    for (size_t n0 = 1; n0 < s->gain_len; n0 += MGF_ANCHOR) {
+        size_t n1 = n0 + MGF_ANCHOR < s->gain_len ? n0 + MGF_ANCHOR : s->gain_len;
+        for (int k = 0; k < NTHETA; k++) {
+            up[k] = exp(theta_k(s, k) * (double)n0);
+            dn[k] = exp(-theta_k(s, k) * (double)n0);
+        }
+        for (size_t n = n0; n < n1; n++) {
+            double gn = s->gain[n];
+            for (int k = 0; k < NTHETA; k++) {
+                su[k] += gn * up[k];
+                sd[k] += gn * dn[k];
+                up[k] *= wu[k];
+                dn[k] *= wd[k];
+            }
+        }
+    }
+    for (int k = 0; k < NTHETA; k++) {
+        s->mgf_up[k] = su[k];
+        s->mgf_dn[k] = sd[k];
+    }
+}
+
+/* A count z with P(Z ≥ z) ≤ ZTAIL; 0 when P(Z > 0) = 1 − e^{−λ} is
+ * already below ZTAIL (no primary: Z = 0, and the grid stays as narrow as
+ * the thermal noise instead of spanning a multiple of the gain). */
 static double count_bound(const apd_state *s, double lambda)
 {
-    double best = INFINITY, theta = 700.0 / (double)s->gain_len;
-    for (int k = 0; k < 60; k++, theta *= 0.7) {
-        double mgf = 0.0;
-        for (size_t n = 1; n < s->gain_len; n++)
-            mgf += s->gain[n] * exp(theta * (double)n);
-        double z = (lambda * (mgf - 1.0) - log(ZTAIL)) / theta;
+    if (-expm1(-lambda) <= ZTAIL)
+        return 0.0;
+    double best = INFINITY;
+    for (int k = 0; k < NTHETA; k++) {
+        double z = (lambda * (s->mgf_up[k] - 1.0) - log(ZTAIL)) / theta_k(s, k);
         if (z < best)
             best = z;
     }
@@ -400,22 +470,65 @@ static double count_bound(const apd_state *s, double lambda)
 }
 
 /* A count z with P(Z ≤ z) ≤ ZTAIL (0 if none is found), by the same
- * bound on the other side: ln P(Z ≤ z) ≤ θz + λ(E e^{−θG} − 1). Grid
- * values below it carry only FFT rounding noise, whose positive part
- * would otherwise add up over the long empty stretch left of the law
- * (about 1e-11 at 6e4 primaries); they are set to zero. */
+ * bound on the other side. Grid values below it carry only FFT rounding
+ * noise, whose positive part would otherwise add up over the long empty
+ * stretch left of the law (about 1e-11 at 6e4 primaries); they are set to
+ * zero. */
 static double count_bound_low(const apd_state *s, double lambda)
 {
-    double best = 0.0, theta = 700.0 / (double)s->gain_len;
-    for (int k = 0; k < 60; k++, theta *= 0.7) {
-        double mgf = 0.0;
-        for (size_t n = 1; n < s->gain_len; n++)
-            mgf += s->gain[n] * exp(-theta * (double)n);
-        double z = (log(ZTAIL) - lambda * (mgf - 1.0)) / theta;
+    double best = 0.0;
+    for (int k = 0; k < NTHETA; k++) {
+        double z = (log(ZTAIL) - lambda * (s->mgf_dn[k] - 1.0)) / theta_k(s, k);
         if (z > best)
             best = z;
     }
     return best;
+}
+
+/* The grid z = (b0 + j)h, j < nz, over [zlo, zhi]: step h = 1 electron,
+ * doubled until the law and the kernel margins fit MAX_GRID points. */
+static double grid_step(double sigma, double zlo, double zhi, long *nz, long *w,
+                        long *b0, int *smooth)
+{
+    double h = 1.0;
+    for (;;) {
+        *smooth = sigma >= SMOOTH_RATIO * h;
+        *w = *smooth ? kernel_halfwidth(sigma, h) : 0;
+        *b0 = (long)floor(zlo / h);
+        *nz = (long)ceil(zhi / h) + 1 - *b0;
+        if ((size_t)*nz + 2 * (size_t)*w <= MAX_GRID)
+            return h;
+        h *= 2.0;
+    }
+}
+
+/* A level is refused up front when its law spans so many electrons that
+ * the grid step h > 1 exceeds 2σ_th: the thermal noise no longer smooths
+ * the lattice (a density ripple of relative size exp(−2π²σ_th²/h²): 7e-3
+ * at h = 2σ_th, CDF error 8.8e-9; 15% at h = 3.2σ_th), and the density the
+ * unquantized rate integrates would be wrong. On step 1 the grid is the
+ * electron lattice itself: exact for any σ_th. */
+static qc_status apd_check_level(const qc_model *m, double x)
+{
+    qc_status st = qc_apd_check_level(m, x);
+    if (st != QC_OK)
+        return st;
+    const apd_state *s = m->state;
+    double sigma = m->params[APD_SIGMA_TH], lambda = qc_apd_rate(m->params, x);
+    double zhi = count_bound(s, lambda), zlo = count_bound_low(s, lambda);
+    long nz, w, b0;
+    int smooth;
+    double h = grid_step(sigma, zlo, zhi, &nz, &w, &b0, &smooth);
+    if (h > 1.0 && h > MAX_STEP_RATIO * sigma)
+        return qc_fail(QC_EINVAL,
+                       "apd-gain %g: level %g (%g primaries) spans %.3g electrons, which "
+                       "an FFT grid of %zu points resolves only in steps of %g electrons, "
+                       "coarser than 2 x sigma-th %g; the exact 'apd' model needs a "
+                       "level's spread (apd-gain x primaries x a few) below about %.3g x "
+                       "sigma-th electrons: lower apd-gain or use 'apd-gauss'",
+                       m->params[APD_GAIN], x, lambda, zhi - zlo, MAX_GRID, h, sigma,
+                       2.0 * (double)MAX_GRID);
+    return QC_OK;
 }
 
 static qc_status fill_level(apd_state *s, double x, level *lv)
@@ -425,18 +538,9 @@ static qc_status fill_level(apd_state *s, double x, level *lv)
     double lambda = qc_apd_rate(p, x);
     double zhi = count_bound(s, lambda), zlo = count_bound_low(s, lambda);
     grid *g = NULL;
-    double h = 1.0;
     long nz = 0, w = 0, b0 = 0;
     int smooth = 0;
-    for (;;) { /* grid z = (b0 + j)h, j < nz, over [zlo, zhi] */
-        smooth = sigma >= SMOOTH_RATIO * h;
-        w = smooth ? kernel_halfwidth(sigma, h) : 0;
-        b0 = (long)floor(zlo / h);
-        nz = (long)ceil(zhi / h) + 1 - b0;
-        if ((size_t)nz + 2 * (size_t)w <= MAX_GRID)
-            break;
-        h *= 2.0;
-    }
+    double h = grid_step(sigma, zlo, zhi, &nz, &w, &b0, &smooth);
     qc_status st = get_grid(s, h, next_pow2((size_t)(nz + 2 * w)), smooth, &g);
     if (st != QC_OK)
         return st;
@@ -806,7 +910,7 @@ const qc_model_type qc_model_apd = {
     .above = apd_above,
     .density = apd_density,
     .support = apd_support,
-    .check_level = qc_apd_check_level,
+    .check_level = apd_check_level,
     .moments = apd_moments,
     .keys = qc_apd_keys,
     .frontend = QC_FRONTEND_APD,

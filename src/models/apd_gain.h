@@ -8,6 +8,10 @@
 
 enum { APD_SIGNAL, APD_BACKGROUND, APD_GAIN, APD_K, APD_SIGMA_TH, APD_NPARAMS };
 
+/* Largest mean gain of the exact `apd` model at k = 0: its gain law is
+ * cut after at most 2^23 points (about 51·M at M = 1e5). */
+#define APD_EXACT_MAX_GAIN 1e5
+
 /* Parameter specs of `apd` and `apd-gauss` (same names and units). */
 extern const qc_param_spec qc_apd_params[APD_NPARAMS];
 /* Settings keys of the APD front end (both APD model types). */

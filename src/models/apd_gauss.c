@@ -31,7 +31,7 @@ const qc_param_spec qc_apd_exact_params[APD_NPARAMS] = {
      0.0, INFINITY, 1, 0},
     {"background", "electrons", "mean primary background/dark electrons per slot",
      0.0, 0.0, INFINITY, 0, 0},
-    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, 1e6, 0, 0},
+    {"apd-gain", "", "mean avalanche gain M", NAN, 1.0, APD_EXACT_MAX_GAIN, 0, 0},
     {"apd-k", "", "ionization coefficient ratio k (hole/electron) (k = 1: use apd-gauss)", 0.0,
      0.0, 1.0, 0, 1},
     {"sigma-th", "electrons", "thermal noise standard deviation per slot", NAN, 0.0,

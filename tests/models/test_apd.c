@@ -342,6 +342,102 @@ static void test_high_counts(void **state)
     }
 }
 
+/* ---- high gains: the grid follows the output's spread ---------------- */
+
+/* McIntyre's moments, computed here independently of the library:
+ * mean M·λ, variance M²F·λ + σ_th², F = kM + (1 − k)(2 − 1/M). */
+static void mcintyre_moments(const double *p, double x, double *mean, double *var)
+{
+    double lam = p[0] * x + p[1], M = p[2], k = p[3];
+    double F = k * M + (1.0 - k) * (2.0 - 1.0 / M);
+    *mean = M * lam;
+    *var = M * M * F * lam + p[4] * p[4];
+}
+
+#define TOL_MOM_HIGH 1e-4 /* relative: moments from CDF differences on 2000
+                           * cells of the support; the "no primary" atom
+                           * (e^{−5} of the mass, σ_th wide) is placed to a
+                           * cell's width, 3e-6 of the mean */
+
+/* Two levels, 5 primaries at level 1, σ_th = 10 electrons, gains 1e4 to
+ * 1e5: the law is computed on a grid spread over M·λ plus the McIntyre
+ * tail, and the level of no signal (λ = 0) stays as narrow as the thermal
+ * noise (a support of ~0.06 of the gain law's length made the quadrature
+ * of the unquantized rate step over it: 0.497 bit for 0.971). Every
+ * quantizer loses information (data processing inequality). */
+static void test_high_gain(void **state)
+{
+    (void)state;
+    const double gains[] = {1e4, 5e4, 1e5};
+    for (size_t i = 0; i < sizeof gains / sizeof gains[0]; i++) {
+        double p[QC_MODEL_MAX_PARAMS] = {5.0, 0.0, gains[i], 0.0, 10.0};
+        qc_model *m = make(&qc_model_apd, p);
+        double levels[] = {0.0, 1.0}, input[] = {0.5, 0.5}, mi, err;
+        assert_int_equal(qc_unquantized_mi(m, levels, input, 2, &mi, &err), QC_OK);
+        double t[] = {-20.0, 30.0, 5.0 * gains[i]}, mq;
+        qc_dmc *d;
+        assert_int_equal(qc_discretize(m, levels, 2, t, 3, &d), QC_OK);
+        assert_int_equal(qc_mutual_information(d, input, &mq), QC_OK);
+        qc_dmc_free(d);
+        assert_true(mq <= mi + err);
+        /* no primary (e^{−5}) is the only confusion: I ≈ 1 − e^{−5}/2 bit
+         * to within a few 1e-3 bit */
+        assert_true(mi / log(2.0) > 0.96 && mi / log(2.0) < 0.975);
+        double mean, var, cmean, cvar, mass;
+        mcintyre_moments(p, 1.0, &cmean, &cvar);
+        law_moments(m, 1.0, sqrt(cvar) / 200.0, &mass, &mean, &var);
+        assert_near(mass, 1.0, 1e-9);
+        assert_near(mean / cmean, 1.0, TOL_MOM_HIGH);
+        assert_near(var / cvar, 1.0, TOL_MOM_HIGH);
+        mcintyre_moments(p, 0.0, &cmean, &cvar);
+        law_moments(m, 0.0, 0.05, &mass, &mean, &var);
+        assert_near(mean, 0.0, 1e-6);
+        assert_near(var / cvar, 1.0, 1e-6);
+        qc_model_free(m);
+    }
+}
+
+/* Many primaries and a thermal noise of 1e4 electrons at gain 1e5: the
+ * skewness of the law, 2/√(2λ) ≈ 0.045 at λ = 1000 (k = 0), is small,
+ * and the Gaussian approximation's unquantized rate is within 0.01 bit of
+ * the exact one (measured 0.578240 and 0.578181 bit). */
+#define TOL_GAUSS_MI 0.01
+static void test_high_gain_gauss(void **state)
+{
+    (void)state;
+    double p[QC_MODEL_MAX_PARAMS] = {1000.0, 0.0, 1e5, 0.0, 1e4};
+    qc_model *e = make(&qc_model_apd, p), *g = make(&qc_model_apd_gauss, p);
+    double levels[] = {0.9, 1.0}, input[] = {0.5, 0.5}, me, mg, err;
+    assert_int_equal(qc_unquantized_mi(e, levels, input, 2, &me, &err), QC_OK);
+    assert_int_equal(qc_unquantized_mi(g, levels, input, 2, &mg, &err), QC_OK);
+    print_message("exact %.6f, Gaussian %.6f bit\n", me / log(2.0), mg / log(2.0));
+    assert_true(me > 0.05 && me < log(2.0));
+    assert_near(me / log(2.0), mg / log(2.0), TOL_GAUSS_MI);
+    qc_model_free(e);
+    qc_model_free(g);
+}
+
+/* Gains past the exact model's limit are refused when the model is made
+ * (no run past the memory of the gain law), and a level whose spread the
+ * grid cannot resolve within σ_th when it is checked, naming apd-gain. */
+static void test_high_gain_refused(void **state)
+{
+    (void)state;
+    double p[QC_MODEL_MAX_PARAMS] = {5.0, 0.0, 1e6, 0.0, 10.0};
+    qc_model *m = NULL;
+    assert_int_equal(qc_model_alloc(&qc_model_apd, p, &m), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "apd-gain"));
+    double q[QC_MODEL_MAX_PARAMS] = {5.0, 0.0, 1e5, 0.02, 10.0};
+    assert_int_equal(qc_model_alloc(&qc_model_apd, q, &m), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "apd-gain"));
+    double r[QC_MODEL_MAX_PARAMS] = {50.0, 0.0, 1e5, 0.0, 5.0}; /* step 16 */
+    m = make(&qc_model_apd, r);
+    double x = 1.0;
+    assert_int_equal(qc_model_check_levels(m, &x, 1), QC_EINVAL);
+    assert_non_null(strstr(qc_last_error(), "apd-gain"));
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -353,6 +449,9 @@ int main(void)
         cmocka_unit_test(test_history_free),
         cmocka_unit_test(test_unquantized),
         cmocka_unit_test(test_high_counts),
+        cmocka_unit_test(test_high_gain),
+        cmocka_unit_test(test_high_gain_gauss),
+        cmocka_unit_test(test_high_gain_refused),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
