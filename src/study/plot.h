@@ -172,7 +172,7 @@ double plot_record_number(json_t *rec, const char *key);
 int plot_record_qam(json_t *rec);
 /* What the rate of the sweep's points is, for titles and axes: "GMI" when
  * every point's objective is gmi (the rate is then the BICM GMI), else
- * "information rate". */
+ * "information rate" (points that failed do not count). */
 const char *plot_rate_name(const plot_ctx *ctx);
 /* The status name of a point's record (NULL when it has none). */
 const char *plot_record_status(json_t *rec);

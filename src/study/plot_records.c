@@ -25,14 +25,15 @@ double plot_record_number(json_t *rec, const char *key)
 
 const char *plot_rate_name(const plot_ctx *ctx)
 {
-    size_t n = qc_scenario_npoints(ctx->sc), gmi = 0;
-    for (size_t i = 0; i < n; i++) {
+    size_t n = qc_scenario_npoints(ctx->sc), rated = 0, gmi = 0;
+    for (size_t i = 0; i < n; i++) { /* failed points have no objective */
         const char *o =
             json_string_value(json_object_get(json_object_get(ctx->records[i], "result"),
                                               "objective"));
+        rated += o != NULL;
         gmi += o && strcmp(o, "gmi") == 0;
     }
-    return n > 0 && gmi == n ? "GMI" : "information rate";
+    return rated > 0 && gmi == rated ? "GMI" : "information rate";
 }
 
 int plot_record_qam(json_t *rec)
