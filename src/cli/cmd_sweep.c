@@ -30,7 +30,7 @@ static const cli_opt sweep_options[] = {
 static void help(const cli_args *a)
 {
     printf("usage: quantcap sweep SCENARIO [--output-dir DIR] [--jobs N] [--resume]\n"
-           "                      [--set KEY=VALUE ...] [--no-plots]\n\n"
+           "                      [--set KEY=VALUE ...] [--no-plots] [--quiet]\n\n"
            "Runs every point of the scenario's grid (alphabets x sweep axes), each exactly\n"
            "as 'quantcap design' would with the point's settings, in parallel. Finished\n"
            "points go to DIR/checkpoint.jsonl as they complete: a sweep that was stopped\n"

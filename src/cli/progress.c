@@ -37,10 +37,15 @@ void cli_progress_report(void *user, size_t done, size_t total)
     p->shown = 1;
     double rate = elapsed > 0 && done > p->first_done
                       ? (double)(done - p->first_done) / elapsed : 0.0;
-    char left[32] = "--:--";
+    char left[48] = "time left not yet known";
     if (rate > 0) {
         long s = lround((double)(total - done) / rate);
-        snprintf(left, sizeof left, "%ld:%02ld", s / 60, s % 60);
+        if (s < 60)
+            snprintf(left, sizeof left, "%ld s left", s);
+        else if (s < 3600)
+            snprintf(left, sizeof left, "%ld min %02ld s left", s / 60, s % 60);
+        else
+            snprintf(left, sizeof left, "%ld h %02ld min left", s / 3600, s / 60 % 60);
     }
     const int width = 30;
     int filled = total ? (int)((double)width * (double)done / (double)total) : width;
@@ -48,7 +53,7 @@ void cli_progress_report(void *user, size_t done, size_t total)
     for (int i = 0; i < width; i++)
         bar[i] = i < filled ? '#' : '.';
     bar[width] = '\0';
-    fprintf(stderr, "\r[%s] %zu/%zu %s  %.1f %s/s  %s min:s left ", bar, done, total,
+    fprintf(stderr, "\r[%s] %zu/%zu %s  %.1f %s/s  %s   ", bar, done, total,
             p->unit, rate, p->unit, left);
     if (done >= total)
         fputc('\n', stderr);
