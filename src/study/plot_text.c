@@ -126,7 +126,11 @@ void plot_axis_value_words(const qc_scenario *sc, size_t k, size_t v, char *out,
         return;
     }
     key_words(a->key, scenario_model(sc), words, sizeof words, &unit);
-    snprintf(out, cap, "%s %s%s%s", words, val, unit[0] ? " " : "", unit);
+    /* one photon, one electron: a plural unit word loses its s after 1 */
+    size_t ul = strlen(unit);
+    int singular = strcmp(val, "1") == 0 && ul > 2 && unit[ul - 1] == 's' && !strchr(unit, ' ');
+    snprintf(out, cap, "%s %s%s%.*s", words, val, unit[0] ? " " : "",
+             (int)(singular ? ul - 1 : ul), unit);
 }
 
 /* Axis label of a design key: "received power (dBm)". The bits and cells

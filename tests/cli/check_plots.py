@@ -127,6 +127,8 @@ check(has("researcher", "rate-vs-bits_quantizer-optimal.svg", "count quantizer (
       "researcher: the bits axis names the count quantizer")
 check(has("researcher", "density_pam4_quantizer-optimal_background-0.1_signal-20_bits-2.svg",
           "photon count y (photons per slot)"), "researcher density: counts in photons")
+check(has("researcher", "rate-vs-bits_quantizer-optimal.svg", "signal 1 photon"),
+      "researcher: one photon, not '1 photons'")
 check(has("researcher", "rate-vs-signal_ook.svg", "background 0.1 photons"),
       "researcher: a panel per background, in words")
 check(has("researcher", "rate-vs-signal_ook.svg", "optimal quantizer"),
