@@ -13,6 +13,10 @@
 qc_status qc_fail(qc_status status, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
 
+/* The message set last, prefixed with "what: " (the field it is about);
+ * returns status. */
+qc_status qc_fail_prefixed(qc_status status, const char *what);
+
 /* Clear the detail message of the calling thread. */
 void qc_clear_error(void);
 

@@ -60,6 +60,13 @@ qc_status qc_fail(qc_status status, const char *fmt, ...)
     return status;
 }
 
+qc_status qc_fail_prefixed(qc_status status, const char *what)
+{
+    char text[sizeof detail];
+    snprintf(text, sizeof text, "%s", detail);
+    return qc_fail(status, "%s: %s", what, text);
+}
+
 static once_flag gsl_once = ONCE_FLAG_INIT;
 static void gsl_handler_off(void) { gsl_set_error_handler_off(); }
 void qc_gsl_init(void) { call_once(&gsl_once, gsl_handler_off); }

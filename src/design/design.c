@@ -43,9 +43,10 @@ qc_status qc_design_check_request(const qc_design_request *req, int fixed,
     if (!req->channel.levels || req->channel.nlevels == 0)
         return qc_fail(QC_EINVAL, "design: no input levels given");
     const qc_design_channel *ch = &req->channel;
+    /* the messages name the request's field (a flag or key of that name) */
     qc_status st = qc_model_check_levels(ch->model, ch->levels, ch->nlevels);
     if (st != QC_OK)
-        return st;
+        return qc_fail_prefixed(st, "levels");
     if ((unsigned)req->input.objective >= QC_OBJECTIVE_COUNT)
         return qc_fail(QC_EINVAL, "design: unknown objective %d", (int)req->input.objective);
     if ((unsigned)req->quantizer.kind >= QC_QUANTIZER_COUNT)
@@ -60,7 +61,7 @@ qc_status qc_design_check_request(const qc_design_request *req, int fixed,
     if (req->input.probabilities) {
         st = check_law(req->input.probabilities, req->channel.nlevels);
         if (st != QC_OK)
-            return st;
+            return qc_fail_prefixed(st, "probabilities");
     }
     if (!(req->numerics.tol_bits >= 0.0) || !isfinite(req->numerics.tol_bits))
         return qc_fail(QC_EINVAL, "tolerance must be >= 0 bits (got %g)", req->numerics.tol_bits);
@@ -93,7 +94,7 @@ qc_status qc_design_check_request(const qc_design_request *req, int fixed,
         st = qc_thresholds_check(req->channel.model, req->quantizer.thresholds,
                                  req->quantizer.nthresholds);
         if (st != QC_OK)
-            return st;
+            return qc_fail_prefixed(st, "thresholds");
     }
     *cells = K;
     return QC_OK;
