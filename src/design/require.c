@@ -526,6 +526,28 @@ static const char *no_unquantized(const qc_require_request *rq)
     return NULL;
 }
 
+/* The most a rate or GMI target can ask of the request's alphabet: the
+ * entropy ceiling log2 of the symbols sent, per dimension; INFINITY where
+ * it is not that simple (pulse position, a 2-D constellation) or the
+ * request does not build. A target at the ceiling is approached only as
+ * the noise vanishes, where the rate flickers by an ulp about it. */
+static double rate_ceiling(const qc_require_request *rq)
+{
+    const qc_model *m = NULL;
+    qc_design_request req;
+    qc_design_request_default(&req);
+    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK || req.channel.iq ||
+        req.channel.ppm_slots) {
+        qc_clear_error();
+        return INFINITY;
+    }
+    size_t sent = 0;
+    for (size_t i = 0; i < req.channel.nlevels; i++)
+        sent += !req.input.probabilities || req.input.probabilities[i] > 0.0;
+    const double d = req.channel.dimensions == 2 ? 2.0 : 1.0;
+    return sent > 0 ? d * log2((double)sent) : INFINITY;
+}
+
 static const char *figure_unit(qc_target_kind kind)
 {
     return kind == QC_TARGET_GMI || kind == QC_TARGET_RATE ? " bit/symbol"
@@ -563,6 +585,15 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
         return qc_fail(QC_EINVAL, "require: samples must be from 3 to %d (got %zu)",
                        MAX_SAMPLES, rq->samples);
     const qc_target_kind kind = rq->target.kind;
+    if (kind == QC_TARGET_RATE || kind == QC_TARGET_GMI) {
+        const double most = rate_ceiling(rq);
+        if (rq->target.value >= most * (1.0 - 1e-12))
+            return qc_fail(QC_EINVAL,
+                           "target %s = %g is the most the alphabet carries (%g bit per "
+                           "symbol, log2 of the symbols it sends), approached only as the "
+                           "noise vanishes and never met: give a lower target",
+                           qc_target_name(kind), rq->target.value, most);
+    }
     search s = {.rq = rq};
     double root, bu, bg, uroot = NAN;
     int inc, reached;
