@@ -585,6 +585,10 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
         return qc_fail(QC_EINVAL, "require: samples must be from 3 to %d (got %zu)",
                        MAX_SAMPLES, rq->samples);
     const qc_target_kind kind = rq->target.kind;
+    if (kind == QC_TARGET_NGMI && rq->target.value >= 1.0 - 1e-12)
+        return qc_fail(QC_EINVAL, "target ngmi = %g: the NGMI reaches 1 only as the noise "
+                                  "vanishes, never met: give a lower target",
+                       rq->target.value);
     if (kind == QC_TARGET_RATE || kind == QC_TARGET_GMI) {
         const double most = rate_ceiling(rq);
         if (rq->target.value >= most * (1.0 - 1e-12))
