@@ -10,6 +10,7 @@ the small helpers that run the program and read what it wrote.
     sys.exit(1 if tally.failures else 0)
 """
 
+import csv
 import html
 import json
 import os
@@ -75,6 +76,22 @@ def file_writer(folder):
             f.write(text)
         return path
     return write
+
+
+def sweep_rows(run, folder, name, text, *args):
+    """Write scenario `text` to folder/name.ini and sweep it into folder/out
+    (one job): (exit code, stdout, stderr, out folder, rows of results.csv,
+    [] when it failed)."""
+    ini = os.path.join(folder, name + ".ini")
+    with open(ini, "w") as f:
+        f.write(text)
+    out = os.path.join(folder, "out")
+    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1", *args)
+    rows = []
+    if rc == 0:
+        with open(os.path.join(out, "results.csv")) as f:
+            rows = list(csv.DictReader(f))
+    return rc, so, se, out, rows
 
 
 def read_bytes(path):

@@ -505,47 +505,43 @@ static qc_status solve(search *s, const char *who, double *root, int *increasing
     return QC_OK;
 }
 
-/* Why the designs of the request have no unquantized figure to solve
- * for (a static phrase), or NULL when they have one. A two-dimensional
- * receiver has an unquantized reference for the MI alone, without phase
- * noise (quantcap/iq.h). */
-static const char *no_unquantized(const qc_require_request *rq)
+/* What the request at the range's low end says of every value, from one
+ * build:
+ *  - *no_unq: why its designs have no unquantized figure to solve for (a
+ *    static phrase), or NULL when they have one. A two-dimensional receiver
+ *    has an unquantized reference for the MI alone, without phase noise
+ *    (quantcap/iq.h);
+ *  - *ceiling: the most a rate or GMI target can ask of its alphabet, the
+ *    entropy ceiling log2 of the symbols sent, per dimension; INFINITY where
+ *    it is not that simple (pulse position, a 2-D constellation) or the
+ *    request does not build. A target at the ceiling is approached only as
+ *    the noise vanishes, where the rate flickers by an ulp about it. */
+static void probe(const qc_require_request *rq, const char **no_unq, double *ceiling)
 {
     const qc_model *m = NULL;
     qc_design_request req;
     qc_design_request_default(&req);
-    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK || !req.channel.iq) {
+    *no_unq = NULL;
+    *ceiling = INFINITY;
+    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK) {
         qc_clear_error();
-        return NULL;
+        return;
     }
-    if (rq->target.kind != QC_TARGET_RATE || req.input.objective != QC_OBJECTIVE_MI)
-        return "a two-dimensional receiver has an unquantized reference for the MI only "
-               "(target rate with objective mi)";
-    if (req.channel.iq->phase_sd > 0.0)
-        return "no unquantized reference with phase noise";
-    return NULL;
-}
-
-/* The most a rate or GMI target can ask of the request's alphabet: the
- * entropy ceiling log2 of the symbols sent, per dimension; INFINITY where
- * it is not that simple (pulse position, a 2-D constellation) or the
- * request does not build. A target at the ceiling is approached only as
- * the noise vanishes, where the rate flickers by an ulp about it. */
-static double rate_ceiling(const qc_require_request *rq)
-{
-    const qc_model *m = NULL;
-    qc_design_request req;
-    qc_design_request_default(&req);
-    if (rq->build(rq->ctx, rq->lo, &m, &req) != QC_OK || req.channel.iq ||
-        req.channel.ppm_slots) {
-        qc_clear_error();
-        return INFINITY;
+    if (req.channel.iq) {
+        if (rq->target.kind != QC_TARGET_RATE || req.input.objective != QC_OBJECTIVE_MI)
+            *no_unq = "a two-dimensional receiver has an unquantized reference for the MI "
+                      "only (target rate with objective mi)";
+        else if (req.channel.iq->phase_sd > 0.0)
+            *no_unq = "no unquantized reference with phase noise";
+        return;
     }
+    if (req.channel.ppm_slots)
+        return;
     size_t sent = 0;
     for (size_t i = 0; i < req.channel.nlevels; i++)
         sent += !req.input.probabilities || req.input.probabilities[i] > 0.0;
-    const double d = req.channel.dimensions == 2 ? 2.0 : 1.0;
-    return sent > 0 ? d * log2((double)sent) : INFINITY;
+    if (sent > 0)
+        *ceiling = (req.channel.dimensions == 2 ? 2.0 : 1.0) * log2((double)sent);
 }
 
 static const char *figure_unit(qc_target_kind kind)
@@ -589,15 +585,16 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
         return qc_fail(QC_EINVAL, "target ngmi = %g: the NGMI reaches 1 only as the noise "
                                   "vanishes, never met: give a lower target",
                        rq->target.value);
-    if (kind == QC_TARGET_RATE || kind == QC_TARGET_GMI) {
-        const double most = rate_ceiling(rq);
-        if (rq->target.value >= most * (1.0 - 1e-12))
-            return qc_fail(QC_EINVAL,
-                           "target %s = %g is the most the alphabet carries (%g bit per "
-                           "symbol, log2 of the symbols it sends), approached only as the "
-                           "noise vanishes and never met: give a lower target",
-                           qc_target_name(kind), rq->target.value, most);
-    }
+    const char *no_unq;
+    double most;
+    probe(rq, &no_unq, &most);
+    if ((kind == QC_TARGET_RATE || kind == QC_TARGET_GMI) &&
+        rq->target.value >= most * (1.0 - 1e-12))
+        return qc_fail(QC_EINVAL,
+                       "target %s = %g is the most the alphabet carries (%g bit per symbol, "
+                       "log2 of the symbols it sends), approached only as the noise vanishes "
+                       "and never met: give a lower target",
+                       qc_target_name(kind), rq->target.value, most);
     search s = {.rq = rq};
     double root, bu, bg, uroot = NAN;
     int inc, reached;
@@ -625,7 +622,7 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
                        figure_unit(kind), out->best_value, rq->unit);
     }
     out->required = value_of(rq, root);
-    if ((out->unquantized_note = no_unquantized(rq)) != NULL)
+    if ((out->unquantized_note = no_unq) != NULL)
         return QC_OK;
     search su = {.rq = rq, .unquantized = 1};
     int uinc;

@@ -13,7 +13,6 @@ relation SNR = OSNR * 2 B_ref / (p R_s) of Essiambre et al., J. Lightw.
 Technol. 28(4), 2010; Poisson on-off keying with a threshold of one count
 (an error only when the "on" slot gives no count, or the "off" slot a
 background count) for the photon target."""
-import csv
 import json
 import math
 import os
@@ -24,7 +23,7 @@ import tempfile
 from scipy.stats import norm
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
-from checklib import Tally, qc_runner, svg_text  # noqa: E402
+from checklib import Tally, qc_runner, svg_text, sweep_rows  # noqa: E402
 
 QC = sys.argv[1]
 tally = Tally()
@@ -306,17 +305,12 @@ check("penalty_db" not in d0 and "penalty_note" not in d0, "without --fec: no pe
 
 # sweep: the figures are columns of results.csv
 with tempfile.TemporaryDirectory() as tmp:
-    ini = os.path.join(tmp, "figs.ini")
-    with open(ini, "w") as f:
-        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
-                "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n"
-                "[plots]\nrate-vs-x = false\nber-vs-x = true\n")
-    out = os.path.join(tmp, "out")
-    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    rc, so, se, out, rows = sweep_rows(
+        run, tmp, "figs", "# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+        "symbol-rate = 32e9\nfec = kp4\n[sweep]\nsnr-db = 14, 18\nbits = 2, 3\n"
+        "[plots]\nrate-vs-x = false\nber-vs-x = true\n")
     check(rc == 0, f"sweep with figures: exit {rc} ({se.strip()})")
     if rc == 0:
-        with open(os.path.join(out, "results.csv")) as f:
-            rows = list(csv.DictReader(f))
         for k in FIGURE_KEYS + ["fec_closes", "fec.name", "penalty_db", "penalty_solve_for"]:
             check(k in rows[0], f"results.csv has the column '{k}'")
         # a code without [require]: the penalty at its threshold per point,
@@ -338,17 +332,13 @@ with tempfile.TemporaryDirectory() as tmp:
 
 # sweep with [require]: the required SNR per point, as `require` finds it
 with tempfile.TemporaryDirectory() as tmp:
-    ini = os.path.join(tmp, "req.ini")
-    with open(ini, "w") as f:
-        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
-                "snr-db = 16\n[sweep]\nbits = 1, 2, 3\n[require]\ntarget = fec=kp4\n"
-                "solve-for = snr-db\n[plots]\nrate-vs-bits = true\nrequired-vs-bits = true\n")
-    out = os.path.join(tmp, "out")
-    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    rc, so, se, out, rows = sweep_rows(
+        run, tmp, "req", "# invented example\n[receiver]\nmodel = gauss\nalphabet = pam:4\n"
+        "snr-db = 16\n[sweep]\nbits = 1, 2, 3\n[require]\ntarget = fec=kp4\n"
+        "solve-for = snr-db\n[plots]\nrate-vs-bits = true\nrequired-vs-bits = true\n")
     check(rc == 0, f"sweep with [require]: exit {rc} ({se.strip()})")
     if rc == 0:
-        with open(os.path.join(out, "results.csv")) as f:
-            rows = {r["bits"]: r for r in csv.DictReader(f)}
+        rows = {r["bits"]: r for r in rows}
         for k in REQUIRE_KEYS:
             check(any(k == c or c.startswith(k + ".") for c in rows["2"]),
                   f"results.csv has the column '{k}'")
@@ -455,18 +445,13 @@ rc, out, err = run("require", *COH, "--target", "fec=ofec", "--solve-for", "snr-
 check(rc == 2 and "fec=ofec" in err and "cannot be judged" in err and "coherent" in err,
       f"require fec=ofec on a coherent memory channel: a clear error ({err.strip()})")
 with tempfile.TemporaryDirectory() as tmp:
-    ini = os.path.join(tmp, "coh.ini")
-    with open(ini, "w") as f:
-        f.write("# invented example\n[receiver]\nmodel = gauss\nalphabet = qam:4\n"
-                "bits = 3\nquantizer = uniform\nresponse = dispersion:100\n"
-                "symbol-rate = 64e9\nsymbols = 4000\nseed = 5\nfec = ofec\n"
-                "[sweep]\nsnr-db = 10, 12\n[plots]\nrate-vs-x = false\nber-vs-x = true\n")
-    out = os.path.join(tmp, "out")
-    rc, so, se = run("sweep", ini, "--output-dir", out, "--jobs", "1")
+    rc, so, se, out, rows = sweep_rows(
+        run, tmp, "coh", "# invented example\n[receiver]\nmodel = gauss\nalphabet = qam:4\n"
+        "bits = 3\nquantizer = uniform\nresponse = dispersion:100\n"
+        "symbol-rate = 64e9\nsymbols = 4000\nseed = 5\nfec = ofec\n"
+        "[sweep]\nsnr-db = 10, 12\n[plots]\nrate-vs-x = false\nber-vs-x = true\n")
     check(rc == 0, f"coherent memory sweep with a code: exit {rc} ({se.strip()})")
     if rc == 0:
-        with open(os.path.join(out, "results.csv")) as f:
-            rows = list(csv.DictReader(f))
         for r in rows:
             check(all(r.get(k) == "" for k in ["fec_closes", "fec_margin", "net_bits",
                                                "net_rate_gbps"]),
