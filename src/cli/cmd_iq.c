@@ -481,7 +481,7 @@ int cmd_iq(int argc, char **argv)
             if (isfinite(unq))
                 fprintf(f, "loss         %.6f bit/complex symbol of MI against the "
                            "unquantized receiver\n",
-                        unq - rx[i].rates.mi_bits);
+                        fmax(unq - rx[i].rates.mi_bits, 0.0)); /* as in `design` */
         }
         if (compare)
             fprintf(f, "\nkeeps more   %s, by %.6f bit/complex symbol of MI\n",

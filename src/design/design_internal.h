@@ -115,8 +115,9 @@ qc_status qc_input_design(const qc_design_request *req, qc_design_result *res);
 qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
 
 /* iq_polar.c: the probabilities of polar cells by a Fourier series in the
- * angle (without a phase error, where 2^16 angles do not settle it, by
- * direct adaptive quadrature over each cell's angles). A workspace holds
+ * angle (without a phase error, for a point more than about 33 σ from
+ * the origin or one 2^12 angles do not settle, by direct adaptive
+ * quadrature over each cell's angles). A workspace holds
  * the phase error's characteristic function, the FFT plans and the
  * quadrature's workspace for one noise and one set of cells (one
  * thread). */

@@ -81,9 +81,10 @@ QC_API size_t qc_iq_cell_count(const qc_iq_cells *q);
  * form, and over the angle a Fourier series (trapezoid-rule coefficients,
  * the phase error's characteristic function, the sectors in closed form)
  * whose number of angles doubles until no cell changes by more than
- * QC_IQ_QUAD_TOL; without phase noise, a point the series does not
- * settle within 2^16 angles (far from the origin against sigma) has each
- * cell's angular integral by adaptive quadrature instead, to 1e-15.
+ * QC_IQ_QUAD_TOL; without phase noise, a point more than about 33 sigma
+ * from the origin (or one the series does not settle within 2^12 angles)
+ * has each cell's angular integral by adaptive quadrature instead, to
+ * 1e-15.
  * *quad_err (may be NULL) receives the largest change at the last
  * refinement (polar: a bound on it, from the change of the series'
  * coefficients, or the quadrature's error estimate). QC_EINVAL naming

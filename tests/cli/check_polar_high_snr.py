@@ -1,6 +1,7 @@
 #!/usr/bin/python3
 """Polar cells (amplitude rings x phase sectors) at high SNR, where each
-point's law is narrow against the cells (s/sigma of several hundred).
+point's law is narrow against the cells (s/sigma of tens to several
+hundred).
 
 Usage: check_polar_high_snr.py PATH/TO/quantcap
 References: scipy.integrate.dblquad (Debian python3-scipy) of the 2-D
@@ -93,10 +94,12 @@ def reference(x, y, sigma, redges, sectors):
     return out
 
 
-# ---- 1. cells of qam:16 and hex:16 at 40, 50, 60 dB against dblquad ------
+# ---- 1. cells of qam:16 and hex:16 at 30 to 60 dB against dblquad --------
+# (30 and 35 dB: points from 20 to 107 sigma out, on both sides of s/sigma
+# = 32.6, where the cells' computation turns from the series to quadrature)
 for name, pts in (("qam:16", qam16()), ("hex:16", hex16())):
     power = float(np.mean(np.sum(pts ** 2, axis=1)))
-    for snr in (40, 50, 60):
+    for snr in (30, 35, 40, 50, 60):
         sigma = math.sqrt(power / (2 * 10 ** (snr / 10)))
         radii, ph = cells_near(pts, sigma)
         r = run("iq", "--alphabet", name, "--snr-db", str(snr), "--iq-quantizer", "polar",
@@ -133,6 +136,16 @@ if r is not None:
     check(abs(rx["mi_bits"] - 4.0) <= 1e-9 and rx["quadrature_error"] <= 1e-13,
           f"qam:16 at 45 dB, 3 x 16 uniform polar cells: MI 4 bit ({rx['mi_bits']}), "
           f"quadrature error {rx['quadrature_error']:.2e} <= 1e-13")
+
+# hex:16 at 38 dB through 8 x 32 uniform cells: some far cells hold
+# subnormal probabilities whose every share of the output law underflows
+# to 0; the MI is still that of a nearly noiseless channel, 4 bit.
+r = run("iq", "--alphabet", "hex:16", "--snr-db", "38", "--iq-quantizer", "polar",
+        "--amplitude-cells", "8", "--phase-cells", "32", "--uniform")
+if r is not None:
+    mi = r["receivers"][0]["mi_bits"]
+    check(isinstance(mi, float) and abs(mi - 4.0) <= 1e-9,
+          f"hex:16 at 38 dB, 8 x 32 uniform polar cells: MI 4 bit ({mi})")
 
 # ---- 3. require over the default range (up to 44 dB) ---------------------
 # Reference: the design at the required SNR meets the target NGMI.

@@ -152,6 +152,28 @@ static void test_mi_identities(void **state)
     }
 }
 
+/* A cell far out in a tail can hold a subnormal probability whose every
+ * weighted share of the output law underflows to 0: two equiprobable
+ * inputs, each on its own cell, the first also with 4.9e-324 (the least
+ * subnormal; 0.5 times it rounds to 0) on a third cell. The MI is that of
+ * the noiseless channel, log 2, not an infinite divergence. */
+static void test_mi_underflowed_output(void **state)
+{
+    (void)state;
+    qc_dmc *d;
+    assert_int_equal(qc_dmc_alloc(2, 3, &d), QC_OK);
+    const double tiny = nextafter(0.0, 1.0);
+    const double rows[6] = {1.0, 0.0, tiny, 0.0, 1.0, 0.0};
+    memcpy(d->p, rows, sizeof rows);
+    const double uni[2] = {0.5, 0.5};
+    double q[3], mi;
+    qc_output_law(d, uni, q);
+    assert_true(q[2] == 0.0); /* the case itself: the output law underflowed */
+    assert_int_equal(qc_mutual_information(d, uni, &mi), QC_OK);
+    assert_close(mi, log(2.0), TOL_TIGHT, "I with an underflowed output cell");
+    qc_dmc_free(d);
+}
+
 static void test_mi_errors(void **state)
 {
     (void)state;
@@ -177,6 +199,7 @@ int main(void)
         cmocka_unit_test(test_divergence),
         cmocka_unit_test(test_output_law_and_mi),
         cmocka_unit_test(test_mi_identities),
+        cmocka_unit_test(test_mi_underflowed_output),
         cmocka_unit_test(test_mi_errors),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
