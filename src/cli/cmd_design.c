@@ -498,10 +498,15 @@ static void print_convergence(FILE *f, const qc_design_result *r, const char *ou
         return;
     const int ok = r->design_convergence == QC_CONVERGED;
     if (r->iq) { /* the 2-D cells' simplex */
-        fprintf(f, "%s%s after %zu evaluations%s\n", lead, ok ? "converged" : "NOT CONVERGED",
-                r->design_iterations,
-                ok ? ": the Nelder-Mead simplex settled"
-                   : ": the Nelder-Mead simplex stopped at its evaluation cap");
+        fprintf(f, "%s%s after %zu evaluations: ", lead, ok ? "converged" : "NOT CONVERGED",
+                r->design_iterations);
+        if (!ok)
+            fprintf(f, "the Nelder-Mead simplex stopped at its evaluation cap\n");
+        else if (r->iq_at_ceiling)
+            fprintf(f, "within %.0e bit of H(X), which no cells can pass\n",
+                    QC_IQ_CEILING_GAP_BITS);
+        else
+            fprintf(f, "the Nelder-Mead simplex settled\n");
         return;
     }
     fprintf(f, "%s%s after %zu %s: thresholds within %.3g %s of the midpoints of "

@@ -17,6 +17,24 @@ static void print_list(FILE *f, const char *name, const double *v, size_t n, dou
     fprintf(f, "%s\n", n ? "" : "(none)");
 }
 
+void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int converged,
+                         int at_ceiling, double start_bits, const char *unit)
+{
+    if (at_ceiling && evaluations <= 1) {
+        fprintf(f, ", designed for %s: the uniform cells are within %.0e bit of H(X), which "
+                   "no cells can pass (no search)\n",
+                objective, QC_IQ_CEILING_GAP_BITS);
+        return;
+    }
+    fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations", objective, evaluations);
+    if (at_ceiling)
+        fprintf(f, ", stopped within %.0e bit of H(X), which no cells can pass",
+                QC_IQ_CEILING_GAP_BITS);
+    else if (!converged)
+        fprintf(f, ", STOPPED at the evaluation cap before the simplex settled");
+    fprintf(f, "; uniform start %.6f %s)\n", start_bits, unit);
+}
+
 void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_result *r,
                          const char *alphabet)
 {
@@ -48,12 +66,9 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
     else if (r->quantizer == QC_QUANTIZER_UNIFORM)
         fprintf(f, ", uniform (not designed)\n");
     else
-        fprintf(f, ", designed for %s (Nelder-Mead, %zu evaluations%s; uniform start %.6f %s)\n",
-                r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi", r->iq_evaluations,
-                r->design_convergence == QC_NOT_CONVERGED
-                    ? ", STOPPED at the evaluation cap before the simplex settled"
-                    : "",
-                r->iq_start_bits, unit);
+        cli_print_iq_search(f, r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi",
+                            r->iq_evaluations, r->design_convergence != QC_NOT_CONVERGED,
+                            r->iq_at_ceiling, r->iq_start_bits, unit);
     if (r->iq_kind == 0) {
         print_list(f, "in-phase thresholds", r->thresholds, r->cells_i - 1, 1.0);
         print_list(f, "quadrature thresholds", r->thresholds_q, r->cells_q - 1, 1.0);

@@ -4,8 +4,14 @@
  * the MI or the BICM GMI of the exact transition matrix by the
  * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2).
  * The boundaries are written as a first value and positive gaps
- * (exponentials), so that every step of the search is a valid quantizer. */
+ * (exponentials), so that every step of the search is a valid quantizer.
+ * Both objectives are at most H(X) (the MI of a noiseless channel; the
+ * GMI is H(X) less the bits' conditional entropies), so the search ends
+ * once it comes within QC_IQ_CEILING_GAP_BITS of it: at high SNR the
+ * uniform cells are often there already, and the simplex would only
+ * wander on the plateau up to its evaluation cap. */
 #include "design/design_internal.h"
+#include "quantcap/info.h"
 #include "quantcap/iq.h"
 
 #include <gsl/gsl_multimin.h>
@@ -242,10 +248,14 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
         qc_iq_design_result_free(res);
         return st;
     }
+    const double ceiling = qc_entropy(c->prob, c->size) / M_LN2;
     res->start_bits = res->objective_bits = f0;
     res->evaluations = 1;
     res->converged = 1;
     if (!search || d.nz == 0)
+        return QC_OK;
+    res->at_ceiling = f0 >= ceiling - QC_IQ_CEILING_GAP_BITS;
+    if (res->at_ceiling)
         return QC_OK;
     d.best = f0;
     memcpy(best_z, z, d.nz * sizeof *z);
@@ -270,13 +280,14 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     gsl_multimin_function fn = {nm_f, d.nz, &d};
     gsl_multimin_fminimizer_set(m, &fn, x, step);
     int settled = 0;
-    while (d.evals < max_evals && !settled) {
+    while (d.evals < max_evals && !settled && d.best < ceiling - QC_IQ_CEILING_GAP_BITS) {
         if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
             break; /* no further progress is possible: settled where it stands */
         settled = gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), SIMPLEX_TOL) ==
                   GSL_SUCCESS;
     }
-    res->converged = settled || d.evals < max_evals;
+    res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;
+    res->converged = settled || res->at_ceiling || d.evals < max_evals;
     gsl_multimin_fminimizer_free(m);
     gsl_vector_free(x);
     gsl_vector_free(step);

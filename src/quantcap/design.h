@@ -522,6 +522,9 @@ typedef struct {
                                     QC_IQ_QUAD_TOL)                        */
     double iq_start_bits;        /* objective of the uniform cells          */
     size_t iq_evaluations;       /* objective evaluations of the cell design */
+    int iq_at_ceiling;           /* 1: the cell design stopped within
+                                    QC_IQ_CEILING_GAP_BITS of H(X), which no
+                                    cells can pass                          */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

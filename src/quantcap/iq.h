@@ -32,6 +32,9 @@ typedef enum {
 #define QC_IQ_MAX_CELLS 4096      /* most output cells of one receiver   */
 #define QC_IQ_QUAD_TOL 1e-13      /* target absolute error of a cell's
                                      probability by quadrature           */
+#define QC_IQ_CEILING_GAP_BITS 1e-10 /* a cell design stops once its MI or
+                                     GMI is this close to H(X), which no
+                                     cells can pass                      */
 
 /* "product" / "polar", "gauss" / "tikhonov"; NULL out of range. */
 QC_API const char *qc_iq_kind_name(qc_iq_kind k);
@@ -126,7 +129,10 @@ QC_API qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t no
  * over the thresholds of the I/Q pair (one set for both axes when shared,
  * else one per axis) or over the radii and sector boundaries of the polar
  * quantizer, by Nelder–Mead (GSL nmsimplex2) on an unconstrained
- * parametrization that keeps them ordered, from the uniform design. */
+ * parametrization that keeps them ordered, from the uniform design. The
+ * search stops where the objective comes within QC_IQ_CEILING_GAP_BITS
+ * of H(X), its ceiling (the MI and the GMI never pass it), or not at all
+ * when the uniform design is already there. */
 typedef struct {
     qc_iq_kind kind;
     size_t cells_i, cells_q;    /* product: cells per axis (≥ 2)           */
@@ -145,8 +151,13 @@ typedef struct {
     double start_bits;          /* objective of the uniform design          */
     double objective_bits;      /* objective of the final design            */
     size_t evaluations;
-    int converged;              /* 1: the simplex settled (or no search);
+    int converged;              /* 1: the simplex settled (or no search),
+                                   or the objective reached its ceiling;
                                    0: max_evaluations stopped it first      */
+    int at_ceiling;             /* 1: the search ended (or did not start)
+                                   with the objective within
+                                   QC_IQ_CEILING_GAP_BITS of H(X); 0 without
+                                   a search (uniform cells)                 */
 } qc_iq_design_result;
 
 /* QC_EINVAL naming the field at fault, QC_ENOMEM, or the channel's

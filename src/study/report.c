@@ -365,6 +365,7 @@ static void report_iq(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "cell_probability_error", qc_report_real(res->cell_error));
     json_object_set_new(o, "iq_start_bits", qc_report_real(res->iq_start_bits));
     json_object_set_new(o, "iq_evaluations", json_integer((json_int_t)res->iq_evaluations));
+    json_object_set_new(o, "iq_at_ceiling", json_boolean(res->iq_at_ceiling));
 }
 
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)

@@ -365,6 +365,44 @@ rx = r["receivers"][0]
 check(rx.get("converged") is False and rx["evaluations"] == 21,
       f"a design stopped by --max-evaluations 20 reports converged false ({rx.get('converged')}, "
       f"{rx['evaluations']} evaluations)")
+# Both objectives are at most H(X) (the GMI is H(X) less the bits'
+# conditional entropies), so a search that comes within 1e-10 bit of it
+# stops there: at 35 dB 16-QAM's uniform polar cells already are (no
+# search), at 28 dB the search gets there in about 100 matrices; at 15 dB
+# it does not.
+for snr, objective, searched in ((35, "mi", False), (28, "mi", True), (28, "gmi", True),
+                                 (15, "mi", None)):
+    r = iq("--alphabet", "qam:16", "--snr-db", str(snr), "--iq-quantizer", "polar",
+           "--amplitude-cells", "4", "--phase-cells", "16", "--objective", objective,
+           "--max-evaluations", "300")
+    rx = r["receivers"][0]
+    value = rx.get(f"{objective}_bits", -1.0)
+    what = f"qam:16 at {snr} dB, 4 x 16 polar cells for {objective}"
+    if searched is None:
+        check(rx.get("at_ceiling") is False and value < 4.0 - 1e-10,
+              f"{what}: below the ceiling ({value}), at_ceiling false ({rx.get('at_ceiling')})")
+        continue
+    check(rx.get("at_ceiling") is True and rx.get("converged") is True
+          and rx.get("design") == "designed" and 4.0 - 1e-10 <= value <= 4.0 + 1e-12,
+          f"{what}: within 1e-10 bit of H(X) = 4 ({value}), at_ceiling and converged true, "
+          f"design 'designed' ({rx.get('at_ceiling')}, {rx.get('converged')}, "
+          f"{rx.get('design')})")
+    check((rx.get("evaluations") == 1) == (not searched) and rx.get("evaluations", 301) < 300,
+          f"{what}: {'a search' if searched else 'no search'}, stopped well before its cap "
+          f"({rx.get('evaluations')} evaluations)")
+p = subprocess.run([QC, "iq", "--alphabet", "qam:16", "--snr-db", "35", "--iq-quantizer",
+                    "polar", "--amplitude-cells", "4", "--phase-cells", "16"],
+                   capture_output=True, text=True)
+check("uniform cells are within 1e-10 bit of H(X), which no cells can pass (no search)"
+      in p.stdout, f"the text says why the saturated design did not search ({p.stdout[:300]})")
+# --uniform asks for no design: at 35 dB its cells are as near H(X), but
+# the receiver is reported as uniform, not as a design that stopped there.
+r = iq("--alphabet", "qam:16", "--snr-db", "35", "--iq-quantizer", "polar",
+       "--amplitude-cells", "4", "--phase-cells", "16", "--uniform")
+rx = r["receivers"][0]
+check(rx.get("design") == "uniform" and rx.get("at_ceiling") is False,
+      f"--uniform at 35 dB: design 'uniform', at_ceiling false ({rx.get('design')}, "
+      f"{rx.get('at_ceiling')})")
 g = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform")
 s = iq("--alphabet", "qam:16", "--snr-db", "8", "--cells", "4", "--uniform", "--search-labels")
 # Binary switching from the Gray labels (Schreckenbach et al. 2003) never
