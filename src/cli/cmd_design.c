@@ -501,12 +501,13 @@ static void print_convergence(FILE *f, const qc_design_result *r, const char *ou
         fprintf(f, "%s%s after %zu evaluations: ", lead, ok ? "converged" : "NOT CONVERGED",
                 r->design_iterations);
         if (!ok)
-            fprintf(f, "the Nelder-Mead simplex stopped at its evaluation cap\n");
+            fprintf(f, "the %s stopped at its evaluation cap\n",
+                    r->iq_gradient ? "BFGS search" : "Nelder-Mead simplex");
         else if (r->iq_at_ceiling)
             fprintf(f, "within %.0e bit of H(X), which no cells can pass\n",
                     QC_IQ_CEILING_GAP_BITS);
         else
-            fprintf(f, "the Nelder-Mead simplex settled\n");
+            fprintf(f, "the %s settled\n", r->iq_gradient ? "BFGS search" : "Nelder-Mead simplex");
         return;
     }
     fprintf(f, "%s%s after %zu %s: thresholds within %.3g %s of the midpoints of "

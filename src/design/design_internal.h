@@ -131,6 +131,18 @@ void qc_polar_series_free(qc_polar_series *w);
  * quadrature does not reach its tolerance; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err);
+/* ∫_{r0}^{r1} f(r, θx + t) r dr: the density of a point at amplitude s
+ * (angle θx) in circular Gaussian noise σ, integrated along the ray at
+ * angle t from the point's across the ring [r0, r1) (r1 may be ∞). */
+double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t);
+
+/* iq_polar_grad.c: the gradient of the MI (gmi = 0) or the BICM GMI
+ * (gmi = 1, in bits) of the polar cells q without a phase error, given
+ * their matrix ch (qc_iq_channel), with respect to the radii (g_radii,
+ * q->nradii values) and the sector starts (g_phases, q->nphases values,
+ * per radian). QC_EINVAL if ch does not match; QC_ENOCONV; QC_ENOMEM. */
+qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
+                            const qc_dmc *ch, int gmi, double *g_radii, double *g_phases);
 
 /* iq_entry.c: a request with channel.iq (a 2-D constellation through the
  * I/Q pair or the polar quantizer). */

@@ -2,9 +2,16 @@
  * thresholds of the I/Q pair (one set for both axes or one per axis) and
  * the amplitude and phase boundaries of the polar quantizer, maximizing
  * the MI or the BICM GMI of the exact transition matrix by the
- * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2).
- * The boundaries are written as a first value and positive gaps
- * (exponentials), so that every step of the search is a valid quantizer.
+ * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2),
+ * or, for polar cells without a phase error, whose gradient is exact
+ * (iq_polar_grad.c), by BFGS (GSL vector_bfgs2; Fletcher, Practical
+ * Methods of Optimization, 1987) on log(H(X) − objective), which keeps
+ * the search well scaled where the gap to H(X) is a tail mass spanning
+ * decades; its parameters are the radii and sector starts themselves
+ * (disordered ones refused), and it restarts from its best cells turned
+ * and moved, since from symmetric cells it keeps their symmetry. For the
+ * simplex the boundaries are written as a first value and positive gaps
+ * (exponentials), so that every step of it is a valid quantizer.
  * Both objectives are at most H(X) (the MI of a noiseless channel; the
  * GMI is H(X) less the bits' conditional entropies), so the search ends
  * once it comes within QC_IQ_CEILING_GAP_BITS of it: at high SNR the
@@ -24,6 +31,14 @@
 #define SIMPLEX_STEP 0.3 /* first simplex size in the log-gap parametrization */
 #define SIMPLEX_TOL 1e-3 /* stop when the simplex is this small */
 #define BAD_POINT 1e6    /* the objective where a channel cannot be built */
+#define BFGS_STEP 0.01   /* first trial step of the gradient search       */
+#define BFGS_LINE_TOL 0.1 /* its line searches' accuracy (GSL's advice)   */
+#define GRAD_TOL 1e-9    /* settled: gradient norm of log(H(X) − rate)    */
+#define KICKS 2           /* gradient search: restarts from moved cells   */
+#define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
+#define GAP_FLOOR_BITS 1e-16 /* H(X) − objective taken as at least this  */
+#define STALL_ITERATIONS 20 /* … or these iterations together gained less */
+#define STALL_GAIN_BITS 1e-10 /* … than this                             */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
 {
@@ -43,6 +58,8 @@ typedef struct {
     double best;
     double *best_z;
     size_t nz;
+    double ceiling; /* H(X) in bits, which the objective cannot pass */
+    size_t max_evals; /* gradient search: evaluations allowed */
 } design_ctx;
 
 static double objective_of(const design_ctx *d, const qc_iq_cells *cells, qc_status *st)
@@ -109,6 +126,200 @@ static double nm_f(const gsl_vector *v, void *vctx)
         memcpy(d->best_z, z, d->nz * sizeof *z);
     }
     return -f;
+}
+
+/* The gradient search's own parameters: the radii over the scale, then
+ * the sector starts in radians (only the offset with equal sectors).
+ * Any ordered set is a valid quantizer; the others are refused (the line
+ * search steps back from them). */
+static size_t direct_count(const qc_iq_design_request *q)
+{
+    return q->amplitude_cells - 1 + (q->fixed_phases ? 1 : q->phase_cells);
+}
+
+static int direct_unpack(const design_ctx *d, const double *v)
+{
+    const qc_iq_design_request *q = d->req;
+    qc_iq_design_result *r = d->res;
+    const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
+    for (size_t j = 0; j < na; j++) {
+        r->radii[j] = d->scale * v[j];
+        if (!(r->radii[j] > (j ? r->radii[j - 1] : 0.0)) || !isfinite(r->radii[j]))
+            return 0;
+    }
+    for (size_t p = 0; p < np; p++) {
+        r->phases[p] = q->fixed_phases ? v[na] + 2.0 * M_PI * (double)p / (double)np
+                                       : v[na + p];
+        if (!isfinite(r->phases[p]) || (p && !(r->phases[p] > r->phases[p - 1])))
+            return 0;
+    }
+    return np < 2 || r->phases[np - 1] < r->phases[0] + 2.0 * M_PI;
+}
+
+/* The parameters of the cells in the result into v. */
+static void direct_pack(const design_ctx *d, double *v)
+{
+    const qc_iq_design_request *q = d->req;
+    const size_t na = q->amplitude_cells - 1;
+    for (size_t j = 0; j < na; j++)
+        v[j] = d->res->radii[j] / d->scale;
+    for (size_t p = 0; p < (q->fixed_phases ? 1 : q->phase_cells); p++)
+        v[na + p] = d->res->phases[p];
+}
+
+/* The objective and its exact gradient in those parameters (polar cells
+ * without a phase error; iq_polar_grad.c). */
+static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
+{
+    const qc_iq_design_request *q = d->req;
+    const size_t nv = direct_count(q), na = q->amplitude_cells - 1, np = q->phase_cells;
+    double z[2 * QC_IQ_MAX_CELLS];
+    if (g)
+        gsl_vector_set_zero(g);
+    if (d->evals >= d->max_evals) /* the cap, even inside a line search */
+        return BAD_POINT;
+    for (size_t i = 0; i < nv; i++)
+        z[i] = gsl_vector_get(v, i);
+    if (!direct_unpack(d, z))
+        return BAD_POINT;
+    d->evals++;
+    qc_dmc *ch = NULL;
+    qc_iq_rates r;
+    double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
+    const int gmi = q->objective == QC_OBJECTIVE_GMI;
+    if (qc_iq_channel(d->c, d->noise, &d->res->cells, &ch, NULL) != QC_OK ||
+        qc_iq_rates_compute(d->c, ch, 0, 0.0, &r) != QC_OK ||
+        (g && qc_polar_gradient(d->c, d->noise->sigma, &d->res->cells, ch, gmi, g_r, g_p) !=
+                  QC_OK)) {
+        qc_dmc_free(ch);
+        return BAD_POINT;
+    }
+    qc_dmc_free(ch);
+    const double f = gmi ? r.gmi_bits : r.mi_bits;
+    if (!isfinite(f))
+        return BAD_POINT;
+    if (f > d->best) {
+        d->best = f;
+        memcpy(d->best_z, z, nv * sizeof *z);
+    }
+    /* the search minimizes log(H(X) − f): near the ceiling the gap is a
+     * tail mass spanning decades, which the logarithm keeps well scaled */
+    const double gap = fmax(d->ceiling - f, GAP_FLOOR_BITS);
+    const double value = log(gap);
+    if (!g)
+        return value;
+    for (size_t j = 0; j < na; j++)
+        gsl_vector_set(g, j, -d->scale * g_r[j] / gap);
+    if (q->fixed_phases) {
+        double sum = 0.0;
+        for (size_t p = 0; p < np; p++)
+            sum += g_p[p];
+        gsl_vector_set(g, na, -sum / gap);
+    } else {
+        for (size_t p = 0; p < np; p++)
+            gsl_vector_set(g, na + p, -g_p[p] / gap);
+    }
+    return value;
+}
+
+static double bfgs_f(const gsl_vector *v, void *vctx) { return grad_eval(vctx, v, NULL); }
+
+static void bfgs_df(const gsl_vector *v, void *vctx, gsl_vector *g) { grad_eval(vctx, v, g); }
+
+static void bfgs_fdf(const gsl_vector *v, void *vctx, double *f, gsl_vector *g)
+{
+    *f = grad_eval(vctx, v, g);
+}
+
+/* BFGS (GSL vector_bfgs2: Fletcher, Practical Methods of Optimization,
+ * 2nd ed. 1987, the line search of §2.6) from z on the exact gradient;
+ * *settled when the gradient vanishes or no step can improve. */
+static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling,
+                                 int *settled)
+{
+    const qc_iq_design_request *q = d->req;
+    const size_t nv = direct_count(q);
+    gsl_multimin_fdfminimizer *m =
+        gsl_multimin_fdfminimizer_alloc(gsl_multimin_fdfminimizer_vector_bfgs2, nv);
+    gsl_vector *x = gsl_vector_alloc(nv);
+    if (!m || !x) {
+        if (m)
+            gsl_multimin_fdfminimizer_free(m);
+        if (x)
+            gsl_vector_free(x);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    /* from the cells in the result */
+    double v[2 * QC_IQ_MAX_CELLS];
+    direct_pack(d, v);
+    for (size_t i = 0; i < nv; i++)
+        gsl_vector_set(x, i, v[i]);
+    gsl_multimin_function_fdf fn = {bfgs_f, bfgs_df, bfgs_fdf, nv, d};
+    gsl_multimin_fdfminimizer_set(m, &fn, x, BFGS_STEP, BFGS_LINE_TOL);
+    *settled = 0;
+    int restarted = 0;
+    double history[STALL_ITERATIONS]; /* best objective at recent iterations */
+    size_t iter = 0;
+    while (d->evals < max_evals && !*settled && d->best < ceiling - QC_IQ_CEILING_GAP_BITS) {
+        const int gs = gsl_multimin_fdfminimizer_iterate(m);
+        if (d->evals >= max_evals)
+            break; /* the cap cut this iteration short: what it saw is not a verdict */
+        const size_t slot = iter++ % STALL_ITERATIONS;
+        if (iter > STALL_ITERATIONS && d->best - history[slot] < STALL_GAIN_BITS) {
+            *settled = 1;
+            break;
+        }
+        history[slot] = d->best;
+        if (gsl_multimin_test_gradient(gsl_multimin_fdfminimizer_gradient(m), GRAD_TOL) ==
+            GSL_SUCCESS) {
+            *settled = 1;
+        } else if (gs != GSL_SUCCESS) {
+            /* no step along the quasi-Newton direction improves: once
+             * along the gradient itself, then settled where it stands */
+            if (restarted)
+                *settled = 1;
+            else
+                gsl_multimin_fdfminimizer_restart(m), restarted = 1;
+        } else {
+            restarted = 0;
+        }
+    }
+    gsl_multimin_fdfminimizer_free(m);
+    gsl_vector_free(x);
+    return QC_OK;
+}
+
+/* Restarts of the gradient search from the best cells so far, moved.
+ * BFGS keeps any symmetry of its start (the gradient does), so from the
+ * uniform cells of a symmetric constellation it can only reach the best
+ * cells of that symmetry. Kick 1 turns every sector by half the mean
+ * sector (boundaries where centres were, a symmetry the start lacks);
+ * kick 2 moves each radius by up to KICK_SIZE of its gap below and each
+ * sector start by up to KICK_SIZE of a mean sector, in a fixed irregular
+ * pattern (the fractional parts of k times the golden ratio), so the
+ * result does not depend on chance. 0 if there is nothing to move or the
+ * moved cells are invalid. */
+static int kick_cells(design_ctx *d, int kick)
+{
+    const qc_iq_design_request *q = d->req;
+    const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
+    const size_t nv = direct_count(q);
+    const double sector = 2.0 * M_PI / (double)np;
+    double v[2 * QC_IQ_MAX_CELLS];
+    memcpy(v, d->best_z, nv * sizeof *v);
+    if (kick == 1) {
+        if (np < 2)
+            return 0;
+        for (size_t i = na; i < nv; i++)
+            v[i] += 0.5 * sector;
+        return direct_unpack(d, v);
+    }
+    for (size_t i = 0; i < nv; i++) {
+        const double u = fmod((double)(i + 1) * 0.6180339887498949, 1.0);
+        const double width = i < na ? v[i] - (i ? v[i - 1] : 0.0) : sector;
+        v[i] += KICK_SIZE * (2.0 * u - 1.0) * width;
+    }
+    return direct_unpack(d, v);
 }
 
 static qc_status check_request(const qc_iq_design_request *q)
@@ -240,7 +451,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if ((st = alloc_result(q, res)) != QC_OK)
         return st;
     double z[2 * QC_IQ_MAX_CELLS], best_z[2 * QC_IQ_MAX_CELLS];
-    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0};
+    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
     double f0 = objective_of(&d, &res->cells, &st);
@@ -249,6 +460,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
         return st;
     }
     const double ceiling = qc_entropy(c->prob, c->size) / M_LN2;
+    d.ceiling = ceiling;
     res->start_bits = res->objective_bits = f0;
     res->evaluations = 1;
     res->converged = 1;
@@ -260,6 +472,28 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     d.best = f0;
     memcpy(best_z, z, d.nz * sizeof *z);
     size_t max_evals = q->max_evaluations ? q->max_evaluations : DEFAULT_EVALS;
+    if (q->kind == QC_IQ_POLAR && noise->phase_sd == 0.0) {
+        int settled = 0;
+        d.max_evals = max_evals;
+        direct_pack(&d, best_z);
+        for (int kick = 0; kick <= KICKS; kick++) {
+            if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)))
+                continue;
+            if ((st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
+                qc_iq_design_result_free(res);
+                return st;
+            }
+            if (!settled)
+                break; /* the cap */
+        }
+        res->gradient = 1;
+        res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;
+        res->converged = settled || res->at_ceiling || d.evals < max_evals;
+        (void)direct_unpack(&d, best_z); /* evaluated, so valid */
+        res->objective_bits = d.best;
+        res->evaluations = d.evals + 1;
+        return QC_OK;
+    }
     gsl_multimin_fminimizer *m =
         gsl_multimin_fminimizer_alloc(gsl_multimin_fminimizer_nmsimplex2, d.nz);
     gsl_vector *x = gsl_vector_alloc(d.nz), *step = gsl_vector_alloc(d.nz);

@@ -422,6 +422,12 @@ static double cell_mass_bound(const ring_ctx *c, double lo, double hi)
     return exp(-0.5 * d * d);
 }
 
+double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t)
+{
+    ring_ctx c = {s, sigma, r0, r1};
+    return ring_density(t, &c);
+}
+
 /* Row of the point at amplitude s > 0, angle theta, by direct quadrature;
  * cells the point's noise cannot reach above DIRECT_NEGLIGIBLE are 0. */
 static qc_status direct_row(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,

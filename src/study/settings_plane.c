@@ -298,7 +298,7 @@ qc_status qc_settings_plane_build(qc_settings *s, const qc_model_type *type, con
     if (req->quantizer.kind != QC_QUANTIZER_OPTIMAL &&
         req->quantizer.kind != QC_QUANTIZER_UNIFORM && req->quantizer.kind != QC_QUANTIZER_FIXED)
         return qc_fail(QC_EINVAL, "quantizer %s: a two-dimensional receiver takes optimal "
-                                  "(cells designed by Nelder-Mead), uniform (the uniform "
+                                  "(cells designed for the objective), uniform (the uniform "
                                   "cells) or fixed (thresholds of the I/Q pair)",
                        qc_quantizer_name(req->quantizer.kind));
     double tol = NAN, rs = NAN, pol = NAN;

@@ -1,0 +1,121 @@
+/* test_polar_gradient.c — the exact gradient of the MI and the GMI of
+ * polar cells with respect to their radii and sector starts
+ * (src/design/iq_polar_grad.c) against central finite differences of the
+ * rates of the exact matrix (src/design/iq_channel.c), from low SNR,
+ * where the arc integrals come from the Bessel series, to high SNR,
+ * where they come from quadrature, with a point at the origin (8+8 APSK
+ * has none; qam:16 off centre has none; a file-style constellation with
+ * the origin does). */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "design/design_internal.h"
+#include "quantcap.h"
+
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
+#define FD_STEP 1e-4 /* central differences, in widths of the noise (σ across a
+                        radius, σ/|x| across a sector start): truncation
+                        ~1e-8 relative, rounding ~1e-13/step */
+#define FD_TOL 2e-7  /* agreement, absolute (bits per unit) plus relative */
+
+static double rate(const qc_plane *c, const qc_iq_noise *n, const qc_iq_cells *q, int gmi)
+{
+    qc_dmc *ch = NULL;
+    assert_int_equal(qc_iq_channel(c, n, q, &ch, NULL), QC_OK);
+    qc_iq_rates r;
+    assert_int_equal(qc_iq_rates_compute(c, ch, 0, 0.0, &r), QC_OK);
+    qc_dmc_free(ch);
+    return gmi ? r.gmi_bits : r.mi_bits;
+}
+
+static void check_case(const char *spec, double snr_db, size_t nr, const double *radii,
+                       size_t np, const double *phases_deg)
+{
+    qc_plane *c;
+    assert_int_equal(qc_plane_parse(spec, &c), QC_OK);
+    const double sigma = sqrt(qc_plane_energy(c) / (2.0 * pow(10.0, snr_db / 10.0)));
+    qc_iq_noise noise = {sigma, 0.0, QC_PHASE_GAUSS};
+    double rad[16], ph[64], g_r[16], g_p[64], rmax = 0.0;
+    for (size_t i = 0; i < c->size; i++)
+        rmax = fmax(rmax, hypot(c->x[i], c->y[i]));
+    memcpy(rad, radii, nr * sizeof *rad);
+    for (size_t p = 0; p < np; p++)
+        ph[p] = phases_deg[p] * M_PI / 180.0;
+    qc_iq_cells q = {.kind = QC_IQ_POLAR, .radii = rad, .nradii = nr, .phases = ph,
+                     .nphases = np};
+    for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) { /* GMI where labels came */
+        qc_dmc *ch = NULL;
+        assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
+        assert_int_equal(qc_polar_gradient(c, sigma, &q, ch, gmi, g_r, g_p), QC_OK);
+        qc_dmc_free(ch);
+        for (size_t k = 0; k < nr + np; k++) {
+            double *v = k < nr ? &rad[k] : &ph[k - nr];
+            const double keep = *v, h = FD_STEP * sigma / (k < nr ? 1.0 : rmax);
+            *v = keep + h;
+            const double up = rate(c, &noise, &q, gmi);
+            *v = keep - h;
+            const double down = rate(c, &noise, &q, gmi);
+            *v = keep;
+            const double fd = (up - down) / (2.0 * h), an = k < nr ? g_r[k] : g_p[k - nr];
+            if (!(fabs(fd - an) <= FD_TOL * (1.0 + fabs(fd))))
+                fail_msg("%s at %g dB, %s, %s %zu: exact %.12g, finite difference %.12g",
+                         spec, snr_db, gmi ? "GMI" : "MI", k < nr ? "radius" : "sector start",
+                         k < nr ? k : k - nr, an, fd);
+        }
+    }
+    qc_plane_free(c);
+}
+
+static void test_qam16(void **state)
+{
+    (void)state;
+    const double radii[3] = {1.9, 3.1, 3.9};
+    const double ph[8] = {-170.0, -120.0, -80.0, -20.0, 30.0, 50.0, 100.0, 150.0};
+    check_case("qam:16", 8.0, 3, radii, 8, ph);   /* wide noise: short series */
+    check_case("qam:16", 18.0, 3, radii, 8, ph);
+    const double near[3] = {1.5, 3.2, 4.3};
+    const double ph2[4] = {-135.0, -40.0, 44.0, 130.0};
+    check_case("qam:16", 32.0, 3, near, 4, ph2); /* kappa 5800: a long series */
+    const double close[3] = {1.5, 3.2, 4.3};
+    const double ph3[4] = {-135.0, -40.0, 44.2, 130.0};
+    check_case("qam:16", 42.0, 3, close, 4, ph3); /* kappa 57000: quadrature */
+}
+
+static void test_apsk_and_one_sector(void **state)
+{
+    (void)state;
+    const double radii[2] = {0.8, 1.6};
+    const double ph[6] = {-150.0, -95.0, -30.0, 10.0, 70.0, 120.0};
+    check_case("apsk:4/4,12/12", 12.0, 2, radii, 6, ph);
+    const double one[1] = {0.0};
+    check_case("apsk:4/4,12/12", 12.0, 2, radii, 1, one); /* rings only */
+}
+
+static void test_origin_point(void **state)
+{
+    (void)state;
+    /* psk:8 holds no origin point; hex:7 does (its centre) */
+    const double radii[1] = {0.5};
+    const double ph[6] = {-150.0, -90.0, -30.0, 30.0, 90.0, 150.0};
+    check_case("hex:7", 10.0, 1, radii, 6, ph);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_qam16),
+        cmocka_unit_test(test_apsk_and_one_sector),
+        cmocka_unit_test(test_origin_point),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
