@@ -69,10 +69,10 @@ static void help(const cli_args *a)
            "by binary switching), the certified capacity of the quantized channel with\n"
            "--capacity, and without phase noise the unquantized MI. Unless given, the\n"
            "cells are designed for the objective from the uniform cells (BFGS on the\n"
-           "exact gradient for polar cells without phase error, else Nelder-Mead),\n"
-           "stopping within 1e-10 bit of H(X), which no cells can pass. --compare rates\n"
-           "both receivers and names the one that keeps more rate. Details:\n"
-           "docs/alphabets.md, docs/methods.md.\n\noptions:\n");
+           "exact gradient without phase error, Nelder-Mead with it), stopping within\n"
+           "1e-10 bit of H(X), which no cells can pass. --compare rates both receivers\n"
+           "and names the one that keeps more rate. Details: docs/alphabets.md,\n"
+           "docs/methods.md.\n\noptions:\n");
     cli_print_options(a, stdout);
 }
 

@@ -136,13 +136,21 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
  * angle t from the point's across the ring [r0, r1) (r1 may be ∞). */
 double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t);
 
-/* iq_polar_grad.c: the gradient of the MI (gmi = 0) or the BICM GMI
+/* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
+ * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */
+void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out);
+
+/* iq_gradient.c: the gradient of the MI (gmi = 0) or the BICM GMI
  * (gmi = 1, in bits) of the polar cells q without a phase error, given
  * their matrix ch (qc_iq_channel), with respect to the radii (g_radii,
  * q->nradii values) and the sector starts (g_phases, q->nphases values,
  * per radian). QC_EINVAL if ch does not match; QC_ENOCONV; QC_ENOMEM. */
 qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
                             const qc_dmc *ch, int gmi, double *g_radii, double *g_phases);
+/* The same for the I/Q pair's cells q: in the in-phase thresholds (g_i,
+ * q->nti values) and the quadrature thresholds (g_q, q->ntq values). */
+qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
+                              const qc_dmc *ch, int gmi, double *g_i, double *g_q);
 
 /* iq_entry.c: a request with channel.iq (a 2-D constellation through the
  * I/Q pair or the polar quantizer). */

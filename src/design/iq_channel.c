@@ -130,8 +130,8 @@ static double phi_diff(double a, double b)
     return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
 }
 
-/* Per-axis cell probabilities of coordinate v: out[k] = P(t_{k−1} ≤ v + n < t_k). */
-static void axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
+/* Per-axis cell probabilities of coordinate v (design_internal.h). */
+void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
 {
     double lo = -INFINITY;
     for (size_t k = 0; k <= nt; k++) {
@@ -145,8 +145,8 @@ static void axis_probs(double v, double sigma, const double *t, size_t nt, doubl
 static void product_row(double x, double y, double sigma, const qc_iq_cells *q, double w,
                         double *pi, double *pq, double *row)
 {
-    axis_probs(x, sigma, q->ti, q->nti, pi);
-    axis_probs(y, sigma, q->tq, q->ntq, pq);
+    qc_iq_axis_probs(x, sigma, q->ti, q->nti, pi);
+    qc_iq_axis_probs(y, sigma, q->tq, q->ntq, pq);
     size_t kq = q->ntq + 1;
     for (size_t i = 0; i <= q->nti; i++)
         for (size_t k = 0; k < kq; k++)

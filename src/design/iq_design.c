@@ -2,14 +2,15 @@
  * thresholds of the I/Q pair (one set for both axes or one per axis) and
  * the amplitude and phase boundaries of the polar quantizer, maximizing
  * the MI or the BICM GMI of the exact transition matrix by the
- * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2),
- * or, for polar cells without a phase error, whose gradient is exact
- * (iq_polar_grad.c), by BFGS (GSL vector_bfgs2; Fletcher, Practical
+ * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2)
+ * under a phase error, or, without one, where the gradient is exact
+ * (iq_gradient.c), by BFGS (GSL vector_bfgs2; Fletcher, Practical
  * Methods of Optimization, 1987) on log(H(X) − objective), which keeps
  * the search well scaled where the gap to H(X) is a tail mass spanning
- * decades; its parameters are the radii and sector starts themselves
- * (disordered ones refused), and it restarts from its best cells turned
- * and moved, since from symmetric cells it keeps their symmetry. For the
+ * decades; its parameters are the thresholds, radii and sector starts
+ * themselves (disordered ones refused), and it restarts from its best
+ * cells turned and moved, since from symmetric cells it keeps their
+ * symmetry. For the
  * simplex the boundaries are written as a first value and positive gaps
  * (exponentials), so that every step of it is a valid quantizer.
  * Both objectives are at most H(X) (the MI of a noiseless channel; the
@@ -128,19 +129,44 @@ static double nm_f(const gsl_vector *v, void *vctx)
     return -f;
 }
 
-/* The gradient search's own parameters: the radii over the scale, then
- * the sector starts in radians (only the offset with equal sectors).
- * Any ordered set is a valid quantizer; the others are refused (the line
- * search steps back from them). */
+/* The gradient search's own parameters: for the I/Q pair its in-phase
+ * thresholds over the scale (and then the quadrature ones, when apart);
+ * for polar cells the radii over the scale, then the sector starts in
+ * radians (only the offset with equal sectors). Any ordered set is a
+ * valid quantizer; the others are refused (the line search steps back
+ * from them). */
 static size_t direct_count(const qc_iq_design_request *q)
 {
+    if (q->kind == QC_IQ_PRODUCT)
+        return q->cells_i - 1 + (q->separate ? q->cells_q - 1 : 0);
     return q->amplitude_cells - 1 + (q->fixed_phases ? 1 : q->phase_cells);
+}
+
+/* Thresholds t[0 .. n − 1] = scale·v, 0 unless strictly increasing. */
+static int thresholds_from(double scale, const double *v, size_t n, double *t)
+{
+    for (size_t j = 0; j < n; j++) {
+        t[j] = scale * v[j];
+        if (!isfinite(t[j]) || (j && !(t[j] > t[j - 1])))
+            return 0;
+    }
+    return 1;
 }
 
 static int direct_unpack(const design_ctx *d, const double *v)
 {
     const qc_iq_design_request *q = d->req;
     qc_iq_design_result *r = d->res;
+    if (q->kind == QC_IQ_PRODUCT) {
+        const size_t ni = q->cells_i - 1, nq = q->cells_q - 1;
+        if (!thresholds_from(d->scale, v, ni, r->ti))
+            return 0;
+        if (!q->separate) {
+            memcpy(r->tq, r->ti, nq * sizeof *r->tq);
+            return 1;
+        }
+        return thresholds_from(d->scale, v + ni, nq, r->tq);
+    }
     const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
     for (size_t j = 0; j < na; j++) {
         r->radii[j] = d->scale * v[j];
@@ -160,6 +186,14 @@ static int direct_unpack(const design_ctx *d, const double *v)
 static void direct_pack(const design_ctx *d, double *v)
 {
     const qc_iq_design_request *q = d->req;
+    if (q->kind == QC_IQ_PRODUCT) {
+        const size_t ni = q->cells_i - 1;
+        for (size_t j = 0; j < ni; j++)
+            v[j] = d->res->ti[j] / d->scale;
+        for (size_t j = 0; q->separate && j + 1 < q->cells_q; j++)
+            v[ni + j] = d->res->tq[j] / d->scale;
+        return;
+    }
     const size_t na = q->amplitude_cells - 1;
     for (size_t j = 0; j < na; j++)
         v[j] = d->res->radii[j] / d->scale;
@@ -167,12 +201,12 @@ static void direct_pack(const design_ctx *d, double *v)
         v[na + p] = d->res->phases[p];
 }
 
-/* The objective and its exact gradient in those parameters (polar cells
- * without a phase error; iq_polar_grad.c). */
+/* The objective and its exact gradient in those parameters (without a
+ * phase error; iq_gradient.c). */
 static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
 {
     const qc_iq_design_request *q = d->req;
-    const size_t nv = direct_count(q), na = q->amplitude_cells - 1, np = q->phase_cells;
+    const size_t nv = direct_count(q);
     double z[2 * QC_IQ_MAX_CELLS];
     if (g)
         gsl_vector_set_zero(g);
@@ -187,10 +221,13 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     qc_iq_rates r;
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
-    if (qc_iq_channel(d->c, d->noise, &d->res->cells, &ch, NULL) != QC_OK ||
+    const qc_iq_cells *cells = &d->res->cells;
+    const double sigma = d->noise->sigma;
+    if (qc_iq_channel(d->c, d->noise, cells, &ch, NULL) != QC_OK ||
         qc_iq_rates_compute(d->c, ch, 0, 0.0, &r) != QC_OK ||
-        (g && qc_polar_gradient(d->c, d->noise->sigma, &d->res->cells, ch, gmi, g_r, g_p) !=
-                  QC_OK)) {
+        (g && (q->kind == QC_IQ_PRODUCT
+                   ? qc_product_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)
+                   : qc_polar_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)) != QC_OK)) {
         qc_dmc_free(ch);
         return BAD_POINT;
     }
@@ -208,6 +245,15 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     const double value = log(gap);
     if (!g)
         return value;
+    if (q->kind == QC_IQ_PRODUCT) { /* g_r: in-phase, g_p: quadrature */
+        const size_t ni = q->cells_i - 1, nq = q->cells_q - 1;
+        for (size_t j = 0; j < ni; j++)
+            gsl_vector_set(g, j, -d->scale * (g_r[j] + (q->separate ? 0.0 : g_p[j])) / gap);
+        for (size_t j = 0; q->separate && j < nq; j++)
+            gsl_vector_set(g, ni + j, -d->scale * g_p[j] / gap);
+        return value;
+    }
+    const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
     for (size_t j = 0; j < na; j++)
         gsl_vector_set(g, j, -d->scale * g_r[j] / gap);
     if (q->fixed_phases) {
@@ -302,11 +348,21 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
 static int kick_cells(design_ctx *d, int kick)
 {
     const qc_iq_design_request *q = d->req;
-    const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
     const size_t nv = direct_count(q);
-    const double sector = 2.0 * M_PI / (double)np;
     double v[2 * QC_IQ_MAX_CELLS];
     memcpy(v, d->best_z, nv * sizeof *v);
+    if (q->kind == QC_IQ_PRODUCT) { /* two irregular patterns */
+        const size_t ni = q->cells_i - 1;
+        for (size_t i = 0; i < nv; i++) {
+            const size_t first = i < ni ? 0 : ni, n = i < ni ? ni : nv - ni;
+            const double step = n > 1 ? (v[first + n - 1] - v[first]) / (double)(n - 1) : 0.5;
+            const double u = fmod((double)(i + 1 + 7 * (size_t)kick) * 0.6180339887498949, 1.0);
+            v[i] += KICK_SIZE * (2.0 * u - 1.0) * step;
+        }
+        return direct_unpack(d, v);
+    }
+    const size_t na = q->amplitude_cells - 1, np = q->phase_cells;
+    const double sector = 2.0 * M_PI / (double)np;
     if (kick == 1) {
         if (np < 2)
             return 0;
@@ -472,7 +528,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     d.best = f0;
     memcpy(best_z, z, d.nz * sizeof *z);
     size_t max_evals = q->max_evaluations ? q->max_evaluations : DEFAULT_EVALS;
-    if (q->kind == QC_IQ_POLAR && noise->phase_sd == 0.0) {
+    if (noise->phase_sd == 0.0) {
         int settled = 0;
         d.max_evals = max_evals;
         direct_pack(&d, best_z);

@@ -369,6 +369,15 @@ check(rx.get("search") == "bfgs" and rx.get("converged") is True
       f"qam:64, 4 x 32 polar cells at 12 dB: BFGS settles ({rx.get('search')}, "
       f"{rx.get('converged')}, {rx['evaluations']} evaluations) above the simplex's 3.580133 "
       f"bit ({rx['mi_bits']})")
+# So is the I/Q pair: 64-QAM through 16 x 16 cells, thresholds apart, at
+# 18 dB, where the simplex stopped at its cap at 5.3410209 bit.
+r = iq("--alphabet", "qam:64", "--snr-db", "18", "--bits", "4", "--separate-thresholds")
+rx = r["receivers"][0]
+check(rx.get("search") == "bfgs" and rx.get("converged") is True
+      and rx["evaluations"] < 2000 and rx["mi_bits"] > 5.3410209,
+      f"qam:64, 16 x 16 I/Q pair apart at 18 dB: BFGS settles ({rx.get('search')}, "
+      f"{rx.get('converged')}, {rx['evaluations']} evaluations) above the simplex's "
+      f"5.3410209 bit ({rx['mi_bits']})")
 r = iq("--alphabet", "psk:8", "--snr-db", "10", "--iq-quantizer", "polar",
        "--amplitude-cells", "2", "--phase-cells", "8", "--phase-noise-deg", "5",
        "--max-evaluations", "50")

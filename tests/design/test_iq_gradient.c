@@ -1,11 +1,10 @@
-/* test_polar_gradient.c — the exact gradient of the MI and the GMI of
- * polar cells with respect to their radii and sector starts
- * (src/design/iq_polar_grad.c) against central finite differences of the
- * rates of the exact matrix (src/design/iq_channel.c), from low SNR,
- * where the arc integrals come from the Bessel series, to high SNR,
- * where they come from quadrature, with a point at the origin (8+8 APSK
- * has none; qam:16 off centre has none; a file-style constellation with
- * the origin does). */
+/* test_iq_gradient.c — the exact gradient of the MI and the GMI of
+ * two-dimensional cells with respect to their boundaries
+ * (src/design/iq_gradient.c) against central finite differences of the
+ * rates of the exact matrix (src/design/iq_channel.c): polar cells from
+ * low SNR, where the arc integrals come from the Bessel series, to high
+ * SNR, where they come from quadrature, and with a point at the origin
+ * (hex:7's centre); the I/Q pair's thresholds on both axes. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -76,6 +75,51 @@ static void check_case(const char *spec, double snr_db, size_t nr, const double 
     qc_plane_free(c);
 }
 
+/* The I/Q pair: in-phase thresholds ti, quadrature thresholds tq. */
+static void check_product(const char *spec, double snr_db, size_t ni, const double *ti,
+                          size_t nq, const double *tq)
+{
+    qc_plane *c;
+    assert_int_equal(qc_plane_parse(spec, &c), QC_OK);
+    const double sigma = sqrt(qc_plane_energy(c) / (2.0 * pow(10.0, snr_db / 10.0)));
+    qc_iq_noise noise = {sigma, 0.0, QC_PHASE_GAUSS};
+    double a[16], b[16], g_i[16], g_q[16];
+    memcpy(a, ti, ni * sizeof *a);
+    memcpy(b, tq, nq * sizeof *b);
+    qc_iq_cells q = {.kind = QC_IQ_PRODUCT, .ti = a, .nti = ni, .tq = b, .ntq = nq};
+    for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) {
+        qc_dmc *ch = NULL;
+        assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
+        assert_int_equal(qc_product_gradient(c, sigma, &q, ch, gmi, g_i, g_q), QC_OK);
+        qc_dmc_free(ch);
+        for (size_t k = 0; k < ni + nq; k++) {
+            double *v = k < ni ? &a[k] : &b[k - ni];
+            const double keep = *v, h = FD_STEP * sigma;
+            *v = keep + h;
+            const double up = rate(c, &noise, &q, gmi);
+            *v = keep - h;
+            const double down = rate(c, &noise, &q, gmi);
+            *v = keep;
+            const double fd = (up - down) / (2.0 * h), an = k < ni ? g_i[k] : g_q[k - ni];
+            if (!(fabs(fd - an) <= FD_TOL * (1.0 + fabs(fd))))
+                fail_msg("%s at %g dB, %s, %s threshold %zu: exact %.12g, finite difference "
+                         "%.12g", spec, snr_db, gmi ? "GMI" : "MI",
+                         k < ni ? "in-phase" : "quadrature", k < ni ? k : k - ni, an, fd);
+        }
+    }
+    qc_plane_free(c);
+}
+
+static void test_product(void **state)
+{
+    (void)state;
+    const double ti[5] = {-2.5, -1.2, 0.1, 1.7, 2.9}, tq[3] = {-1.8, 0.3, 2.2};
+    check_product("qam:16", 6.0, 5, ti, 3, tq);
+    check_product("qam:16", 16.0, 5, ti, 3, tq);
+    const double t8[7] = {-9.0, -6.0, -3.0, 0.5, 3.0, 6.5, 9.0}; /* rings of 4 and 12 */
+    check_product("apsk:4/4,12/12", 14.0, 7, t8, 7, t8);
+}
+
 static void test_qam16(void **state)
 {
     (void)state;
@@ -116,6 +160,7 @@ int main(void)
         cmocka_unit_test(test_qam16),
         cmocka_unit_test(test_apsk_and_one_sector),
         cmocka_unit_test(test_origin_point),
+        cmocka_unit_test(test_product),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -1,7 +1,14 @@
-/* iq_polar_grad.c — the exact gradient of the MI and of the BICM GMI of a
- * polar quantizer (A amplitude rings × P phase sectors) with respect to
- * its ring radii and sector boundaries, in circular Gaussian noise
- * without a phase error.
+/* iq_gradient.c — the exact gradient of the MI and of the BICM GMI of a
+ * two-dimensional quantizer with respect to its boundaries, in circular
+ * Gaussian noise without a phase error: the I/Q pair's thresholds, and a
+ * polar quantizer's (A amplitude rings × P phase sectors) ring radii and
+ * sector starts.
+ *
+ * For the I/Q pair, P(i, k | x) = A_i(x)·B_k(y), the two axes' Gaussian
+ * CDF differences, so a threshold t between columns i and i + 1 moves
+ * probability at the rate φ((t − x)/σ)/σ·B_k(y) from column i + 1 into
+ * column i of each row k (and likewise for the quadrature thresholds).
+ * For the polar quantizer:
  *
  * Moving a boundary moves probability between the two cells beside it at
  * the rate of the point's density integrated along the boundary (Leibniz's
@@ -214,4 +221,55 @@ done:
     if (ws)
         gsl_integration_workspace_free(ws);
     return st;
+}
+
+qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
+                              const qc_dmc *ch, int gmi, double *g_i, double *g_q)
+{
+    const size_t nx = c->size, ki = q->nti + 1, kq = q->ntq + 1, ny = ki * kq;
+    if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
+        return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
+    const size_t nb = gmi ? c->nbits : 0;
+    double *sc = qc_malloc_array(nx * ny, sizeof *sc);
+    double *qy = qc_malloc_array(ny, sizeof *qy);
+    double *qb = qc_malloc_array(ny * 2 * (nb ? nb : 1), sizeof *qb);
+    double *pa = qc_malloc_array(ki + kq, sizeof *pa);
+    if (!sc || !qy || !qb || !pa) {
+        free(sc), free(qy), free(qb), free(pa);
+        return qc_fail(QC_ENOMEM, "out of memory");
+    }
+    double *pb = pa + ki;
+    scores(c, ch, gmi, qy, qb, sc);
+    for (size_t m = 0; m < q->nti; m++)
+        g_i[m] = 0.0;
+    for (size_t m = 0; m < q->ntq; m++)
+        g_q[m] = 0.0;
+    const double norm = 1.0 / (sigma * sqrt(2.0 * M_PI));
+    for (size_t x = 0; x < nx; x++) {
+        if (!(c->prob[x] > 0.0))
+            continue;
+        const double *sx = sc + x * ny;
+        qc_iq_axis_probs(c->x[x], sigma, q->ti, q->nti, pa);
+        qc_iq_axis_probs(c->y[x], sigma, q->tq, q->ntq, pb);
+        for (size_t m = 0; m < q->nti; m++) { /* in-phase threshold m */
+            const double u = (q->ti[m] - c->x[x]) / sigma, dens = norm * exp(-0.5 * u * u);
+            if (dens == 0.0)
+                continue;
+            double acc = 0.0;
+            for (size_t k = 0; k < kq; k++)
+                acc += pb[k] * (sx[m * kq + k] - sx[(m + 1) * kq + k]);
+            g_i[m] += dens * acc;
+        }
+        for (size_t m = 0; m < q->ntq; m++) { /* quadrature threshold m */
+            const double u = (q->tq[m] - c->y[x]) / sigma, dens = norm * exp(-0.5 * u * u);
+            if (dens == 0.0)
+                continue;
+            double acc = 0.0;
+            for (size_t i = 0; i < ki; i++)
+                acc += pa[i] * (sx[i * kq + m] - sx[i * kq + m + 1]);
+            g_q[m] += dens * acc;
+        }
+    }
+    free(sc), free(qy), free(qb), free(pa);
+    return QC_OK;
 }
