@@ -131,6 +131,13 @@ void qc_polar_series_free(qc_polar_series *w);
  * quadrature does not reach its tolerance; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err);
+/* Sector p of the cells q seen from a point at angle theta: its start
+ * relative to the point, in [−π, π), and its width (2π for one sector). */
+void qc_polar_sector(const qc_iq_cells *q, size_t p, double theta, double *lo, double *width);
+/* Break points for adaptive quadrature over [lo, hi) (hi − lo ≤ 2π) of a
+ * kernel peaked at angle 0 (mod 2π): lo, the peaks at 0 and 2π and
+ * ±width around them where inside, hi; into pts (8 places); their count. */
+size_t qc_polar_peak_breaks(double lo, double hi, double width, double *pts);
 /* ∫_{r0}^{r1} f(r, θx + t) r dr: the density of a point at amplitude s
  * (angle θx) in circular Gaussian noise σ, integrated along the ray at
  * angle t from the point's across the ring [r0, r1) (r1 may be ∞). */

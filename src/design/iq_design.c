@@ -10,9 +10,9 @@
  * decades; its parameters are the thresholds, radii and sector starts
  * themselves (disordered ones refused), and it restarts from its best
  * cells turned and moved, since from symmetric cells it keeps their
- * symmetry. For the
- * simplex the boundaries are written as a first value and positive gaps
- * (exponentials), so that every step of it is a valid quantizer.
+ * symmetry. For the simplex the boundaries are written as a first value
+ * and positive gaps (exponentials), so that every step of it is a valid
+ * quantizer.
  * Both objectives are at most H(X) (the MI of a noiseless channel; the
  * GMI is H(X) less the bits' conditional entropies), so the search ends
  * once it comes within QC_IQ_CEILING_GAP_BITS of it: at high SNR the
@@ -34,12 +34,12 @@
 #define BAD_POINT 1e6    /* the objective where a channel cannot be built */
 #define BFGS_STEP 0.01   /* first trial step of the gradient search       */
 #define BFGS_LINE_TOL 0.1 /* its line searches' accuracy (GSL's advice)   */
-#define GRAD_TOL 1e-9    /* settled: gradient norm of log(H(X) − rate)    */
-#define KICKS 2           /* gradient search: restarts from moved cells   */
-#define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
 #define GAP_FLOOR_BITS 1e-16 /* H(X) − objective taken as at least this  */
+#define GRAD_TOL 1e-9    /* settled: gradient norm of log(H(X) − rate)    */
 #define STALL_ITERATIONS 20 /* … or these iterations together gained less */
 #define STALL_GAIN_BITS 1e-10 /* … than this                             */
+#define KICKS 2           /* gradient search: restarts from moved cells   */
+#define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
 {
@@ -63,7 +63,10 @@ typedef struct {
     size_t max_evals; /* gradient search: evaluations allowed */
 } design_ctx;
 
-static double objective_of(const design_ctx *d, const qc_iq_cells *cells, qc_status *st)
+/* The objective of the cells; their matrix into *keep when keep is not
+ * NULL (the caller frees it), else freed. NaN on failure (*st says). */
+static double rate_of(const design_ctx *d, const qc_iq_cells *cells, qc_dmc **keep,
+                      qc_status *st)
 {
     qc_dmc *ch = NULL;
     *st = qc_iq_channel(d->c, d->noise, cells, &ch, NULL);
@@ -71,11 +74,15 @@ static double objective_of(const design_ctx *d, const qc_iq_cells *cells, qc_sta
         return NAN;
     qc_iq_rates r;
     *st = qc_iq_rates_compute(d->c, ch, 0, 0.0, &r);
-    qc_dmc_free(ch);
+    if (*st != QC_OK || !keep)
+        qc_dmc_free(ch);
+    else
+        *keep = ch;
     if (*st != QC_OK)
         return NAN;
     return d->req->objective == QC_OBJECTIVE_GMI ? r.gmi_bits : r.mi_bits;
 }
+
 
 /* Boundaries from the parameters z (into the result's arrays). */
 static void unpack(const design_ctx *d, const double *z)
@@ -118,7 +125,7 @@ static double nm_f(const gsl_vector *v, void *vctx)
         z[i] = gsl_vector_get(v, i);
     unpack(d, z);
     qc_status st;
-    double f = objective_of(d, &d->res->cells, &st);
+    double f = rate_of(d, &d->res->cells, NULL, &st);
     d->evals++;
     if (st != QC_OK || !isfinite(f))
         return BAD_POINT;
@@ -218,22 +225,18 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
         return BAD_POINT;
     d->evals++;
     qc_dmc *ch = NULL;
-    qc_iq_rates r;
+    qc_status st;
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
     const qc_iq_cells *cells = &d->res->cells;
     const double sigma = d->noise->sigma;
-    if (qc_iq_channel(d->c, d->noise, cells, &ch, NULL) != QC_OK ||
-        qc_iq_rates_compute(d->c, ch, 0, 0.0, &r) != QC_OK ||
-        (g && (q->kind == QC_IQ_PRODUCT
-                   ? qc_product_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)
-                   : qc_polar_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)) != QC_OK)) {
-        qc_dmc_free(ch);
-        return BAD_POINT;
-    }
+    const double f = rate_of(d, cells, g ? &ch : NULL, &st);
+    if (st == QC_OK && g)
+        st = q->kind == QC_IQ_PRODUCT
+                 ? qc_product_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)
+                 : qc_polar_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p);
     qc_dmc_free(ch);
-    const double f = gmi ? r.gmi_bits : r.mi_bits;
-    if (!isfinite(f))
+    if (st != QC_OK || !isfinite(f))
         return BAD_POINT;
     if (f > d->best) {
         d->best = f;
@@ -510,7 +513,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
-    double f0 = objective_of(&d, &res->cells, &st);
+    double f0 = rate_of(&d, &res->cells, NULL, &st);
     if (st != QC_OK) {
         qc_iq_design_result_free(res);
         return st;

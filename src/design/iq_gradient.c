@@ -103,21 +103,9 @@ static qc_status arc_row(double s, double sigma, double r, const double *rel,
     /* a narrow kernel: adaptive quadrature with break points at its peaks */
     double k = kappa;
     gsl_function f = {vm_kernel, &k};
-    const double w = 8.0 / sqrt(kappa);
     for (size_t p = 0; p < np; p++) {
-        const double lo = rel[p], hi = rel[p] + wid[p];
-        double pts[8];
-        size_t m = 0;
-        pts[m++] = lo;
-        for (int turn = 0; turn <= 1; turn++) {
-            const double c[3] = {2.0 * M_PI * turn - w, 2.0 * M_PI * turn,
-                                 2.0 * M_PI * turn + w};
-            for (int j = 0; j < 3; j++)
-                if (c[j] > pts[m - 1] && c[j] < hi)
-                    pts[m++] = c[j];
-        }
-        pts[m++] = hi;
-        double v, err;
+        double pts[8], v, err;
+        const size_t m = qc_polar_peak_breaks(rel[p], rel[p] + wid[p], 8.0 / sqrt(kappa), pts);
         int gs = gsl_integration_qagp(&f, pts, m, 0.0, ARC_TOL, ARC_LIMIT, ws, &v, &err);
         if (gs != GSL_SUCCESS && gs != GSL_EROUND)
             return qc_fail(QC_ENOCONV, "iq design: the arc integral at kappa %g (%s)", kappa,
@@ -127,12 +115,19 @@ static qc_status arc_row(double s, double sigma, double r, const double *rel,
     return QC_OK;
 }
 
-/* Each cell's score per point: r_x log(P_c|x/Q_c) (MI) or
- * r_x Σ_b log(Q_c,b,b(x)/Q_c) (GMI); 0 where a mass underflowed. */
-static void scores(const qc_plane *c, const qc_dmc *ch, int gmi, double *q, double *qb,
-                   double *sc)
+/* Each cell's score per point, sc[x·ny + c], in bits: r_x log(P_c|x/Q_c)
+ * (MI) or r_x Σ_b log(Q_c,b,b(x)/Q_c) (GMI); 0 where a mass underflowed.
+ * NULL when out of memory (the caller fails). */
+static double *scores(const qc_plane *c, const qc_dmc *ch, int gmi)
 {
     const size_t nx = ch->nx, ny = ch->ny, nb = gmi ? c->nbits : 0;
+    double *sc = qc_malloc_array(nx * ny, sizeof *sc);
+    double *q = qc_malloc_array(ny, sizeof *q);
+    double *qb = qc_malloc_array(ny * 2 * (nb ? nb : 1), sizeof *qb);
+    if (!sc || !q || !qb) {
+        free(sc), free(q), free(qb);
+        return NULL;
+    }
     qc_output_law(ch, c->prob, q);
     if (gmi) {
         memset(qb, 0, ny * 2 * nb * sizeof *qb);
@@ -157,6 +152,8 @@ static void scores(const qc_plane *c, const qc_dmc *ch, int gmi, double *q, doub
             }
             sc[x * ny + y] = c->prob[x] * v / M_LN2;
         }
+    free(q), free(qb);
+    return sc;
 }
 
 qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
@@ -166,19 +163,15 @@ qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
         return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
     const size_t ik_cap = SERIES_MAX + 1;
-    const size_t nb = gmi ? c->nbits : 0;
-    double *sc = qc_malloc_array(nx * ny, sizeof *sc);
-    double *qy = qc_malloc_array(ny, sizeof *qy);
-    double *qb = qc_malloc_array(ny * 2 * (nb ? nb : 1), sizeof *qb);
+    double *sc = scores(c, ch, gmi);
     double *ik = qc_malloc_array(ik_cap, sizeof *ik);
     double *buf = qc_malloc_array(3 * np, sizeof *buf);
     gsl_integration_workspace *ws = gsl_integration_workspace_alloc(ARC_LIMIT);
     qc_status st = QC_OK;
-    if (!sc || !qy || !qb || !ik || !buf || !ws) {
+    if (!sc || !ik || !buf || !ws) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    scores(c, ch, gmi, qy, qb, sc);
     double *rel = buf, *wid = buf + np, *arc = buf + 2 * np;
     for (size_t j = 0; j < q->nradii; j++)
         g_radii[j] = 0.0;
@@ -189,13 +182,8 @@ qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *
             continue;
         const double s = hypot(c->x[x], c->y[x]), theta = atan2(c->y[x], c->x[x]);
         const double *sx = sc + x * ny;
-        for (size_t p = 0; p < np; p++) {
-            rel[p] = q->phases[p] - theta;
-            rel[p] -= 2.0 * M_PI * floor((rel[p] + M_PI) / (2.0 * M_PI));
-            wid[p] = np == 1 ? 2.0 * M_PI
-                             : (p + 1 < np ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI) -
-                                   q->phases[p];
-        }
+        for (size_t p = 0; p < np; p++)
+            qc_polar_sector(q, p, theta, &rel[p], &wid[p]);
         /* radius j: mass from ring j + 1 into ring j as it grows */
         for (size_t j = 0; j < q->nradii; j++) {
             if ((st = arc_row(s, sigma, q->radii[j], rel, wid, np, ik, ik_cap, ws, arc)) !=
@@ -217,7 +205,7 @@ qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *
             }
     }
 done:
-    free(sc), free(qy), free(qb), free(ik), free(buf);
+    free(sc), free(ik), free(buf);
     if (ws)
         gsl_integration_workspace_free(ws);
     return st;
@@ -229,17 +217,13 @@ qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells
     const size_t nx = c->size, ki = q->nti + 1, kq = q->ntq + 1, ny = ki * kq;
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
         return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
-    const size_t nb = gmi ? c->nbits : 0;
-    double *sc = qc_malloc_array(nx * ny, sizeof *sc);
-    double *qy = qc_malloc_array(ny, sizeof *qy);
-    double *qb = qc_malloc_array(ny * 2 * (nb ? nb : 1), sizeof *qb);
+    double *sc = scores(c, ch, gmi);
     double *pa = qc_malloc_array(ki + kq, sizeof *pa);
-    if (!sc || !qy || !qb || !pa) {
-        free(sc), free(qy), free(qb), free(pa);
+    if (!sc || !pa) {
+        free(sc), free(pa);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
     double *pb = pa + ki;
-    scores(c, ch, gmi, qy, qb, sc);
     for (size_t m = 0; m < q->nti; m++)
         g_i[m] = 0.0;
     for (size_t m = 0; m < q->ntq; m++)
@@ -270,6 +254,6 @@ qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells
             g_q[m] += dens * acc;
         }
     }
-    free(sc), free(qy), free(qb), free(pa);
+    free(sc), free(pa);
     return QC_OK;
 }

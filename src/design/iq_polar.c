@@ -375,21 +375,35 @@ static double ring_density(double t, void *vctx)
 
 /* ∫ G_a over [lo, hi) (hi − lo ≤ 2π), break points at the peaks t = 0 and
  * 2π and at ±PEAK_WIDTHS·σ/s around them, where inside. */
-static qc_status direct_cell(qc_polar_series *w, ring_ctx *c, double lo, double hi,
-                             double *p, double *err)
+size_t qc_polar_peak_breaks(double lo, double hi, double width, double *pts)
 {
-    double pts[8];
     size_t n = 0;
-    const double wd = PEAK_WIDTHS * c->sigma / c->s;
     pts[n++] = lo;
     for (int turn = 0; turn <= 1; turn++) {
         const double peak = 2.0 * M_PI * turn;
-        const double cand[3] = {peak - wd, peak, peak + wd};
+        const double cand[3] = {peak - width, peak, peak + width};
         for (int j = 0; j < 3; j++)
             if (cand[j] > pts[n - 1] && cand[j] < hi)
                 pts[n++] = cand[j];
     }
     pts[n++] = hi;
+    return n;
+}
+
+void qc_polar_sector(const qc_iq_cells *q, size_t p, double theta, double *lo, double *width)
+{
+    const size_t sectors = q->nphases;
+    *lo = q->phases[p] - theta;
+    *lo -= 2.0 * M_PI * floor((*lo + M_PI) / (2.0 * M_PI));
+    *width = sectors == 1 ? 2.0 * M_PI
+             : (p + 1 < sectors ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI) - q->phases[p];
+}
+
+static qc_status direct_cell(qc_polar_series *w, ring_ctx *c, double lo, double hi,
+                             double *p, double *err)
+{
+    double pts[8];
+    const size_t n = qc_polar_peak_breaks(lo, hi, PEAK_WIDTHS * c->sigma / c->s, pts);
     gsl_function f = {ring_density, c};
     double abserr = 0.0;
     int gs = gsl_integration_qagp(&f, pts, n, DIRECT_TOL, 0.0, DIRECT_LIMIT, w->quad, p,
@@ -440,12 +454,8 @@ static qc_status direct_row(qc_polar_series *w, const qc_iq_cells *q, double s, 
         ring_ctx c = {s, sigma, a == 0 ? 0.0 : q->radii[a - 1],
                       a + 1 < rings ? q->radii[a] : INFINITY};
         for (size_t p = 0; p < sectors; p++) {
-            /* the sector relative to the point, its start in [−π, π) */
-            double lo = q->phases[p] - theta;
-            double width = sectors == 1 ? 2.0 * M_PI
-                           : (p + 1 < sectors ? q->phases[p + 1] : q->phases[0] + 2.0 * M_PI) -
-                                 q->phases[p];
-            lo -= 2.0 * M_PI * floor((lo + M_PI) / (2.0 * M_PI));
+            double lo, width;
+            qc_polar_sector(q, p, theta, &lo, &width);
             const double bound = cell_mass_bound(&c, lo, lo + width);
             if (bound <= DIRECT_NEGLIGIBLE) {
                 row[a * sectors + p] = 0.0;

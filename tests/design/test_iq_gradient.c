@@ -12,6 +12,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -37,6 +38,24 @@ static double rate(const qc_plane *c, const qc_iq_noise *n, const qc_iq_cells *q
     return gmi ? r.gmi_bits : r.mi_bits;
 }
 
+/* The central difference of the rate in *v (step h) against exact; what
+ * names the case and the kind of parameter, k its index. */
+static void expect_derivative(const qc_plane *c, const qc_iq_noise *n, const qc_iq_cells *q,
+                              int gmi, double *v, double h, double exact, const char *what,
+                              size_t k)
+{
+    const double keep = *v;
+    *v = keep + h;
+    const double up = rate(c, n, q, gmi);
+    *v = keep - h;
+    const double down = rate(c, n, q, gmi);
+    *v = keep;
+    const double fd = (up - down) / (2.0 * h);
+    if (!(fabs(fd - exact) <= FD_TOL * (1.0 + fabs(fd))))
+        fail_msg("%s %zu, %s: exact %.12g, finite difference %.12g", what, k,
+                 gmi ? "GMI" : "MI", exact, fd);
+}
+
 static void check_case(const char *spec, double snr_db, size_t nr, const double *radii,
                        size_t np, const double *phases_deg)
 {
@@ -57,20 +76,14 @@ static void check_case(const char *spec, double snr_db, size_t nr, const double 
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
         assert_int_equal(qc_polar_gradient(c, sigma, &q, ch, gmi, g_r, g_p), QC_OK);
         qc_dmc_free(ch);
-        for (size_t k = 0; k < nr + np; k++) {
-            double *v = k < nr ? &rad[k] : &ph[k - nr];
-            const double keep = *v, h = FD_STEP * sigma / (k < nr ? 1.0 : rmax);
-            *v = keep + h;
-            const double up = rate(c, &noise, &q, gmi);
-            *v = keep - h;
-            const double down = rate(c, &noise, &q, gmi);
-            *v = keep;
-            const double fd = (up - down) / (2.0 * h), an = k < nr ? g_r[k] : g_p[k - nr];
-            if (!(fabs(fd - an) <= FD_TOL * (1.0 + fabs(fd))))
-                fail_msg("%s at %g dB, %s, %s %zu: exact %.12g, finite difference %.12g",
-                         spec, snr_db, gmi ? "GMI" : "MI", k < nr ? "radius" : "sector start",
-                         k < nr ? k : k - nr, an, fd);
-        }
+        char what[96];
+        snprintf(what, sizeof what, "%s at %g dB, radius", spec, snr_db);
+        for (size_t k = 0; k < nr; k++)
+            expect_derivative(c, &noise, &q, gmi, &rad[k], FD_STEP * sigma, g_r[k], what, k);
+        snprintf(what, sizeof what, "%s at %g dB, sector start", spec, snr_db);
+        for (size_t k = 0; k < np; k++)
+            expect_derivative(c, &noise, &q, gmi, &ph[k], FD_STEP * sigma / rmax, g_p[k], what,
+                              k);
     }
     qc_plane_free(c);
 }
@@ -92,20 +105,13 @@ static void check_product(const char *spec, double snr_db, size_t ni, const doub
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
         assert_int_equal(qc_product_gradient(c, sigma, &q, ch, gmi, g_i, g_q), QC_OK);
         qc_dmc_free(ch);
-        for (size_t k = 0; k < ni + nq; k++) {
-            double *v = k < ni ? &a[k] : &b[k - ni];
-            const double keep = *v, h = FD_STEP * sigma;
-            *v = keep + h;
-            const double up = rate(c, &noise, &q, gmi);
-            *v = keep - h;
-            const double down = rate(c, &noise, &q, gmi);
-            *v = keep;
-            const double fd = (up - down) / (2.0 * h), an = k < ni ? g_i[k] : g_q[k - ni];
-            if (!(fabs(fd - an) <= FD_TOL * (1.0 + fabs(fd))))
-                fail_msg("%s at %g dB, %s, %s threshold %zu: exact %.12g, finite difference "
-                         "%.12g", spec, snr_db, gmi ? "GMI" : "MI",
-                         k < ni ? "in-phase" : "quadrature", k < ni ? k : k - ni, an, fd);
-        }
+        char what[96];
+        snprintf(what, sizeof what, "%s at %g dB, in-phase threshold", spec, snr_db);
+        for (size_t k = 0; k < ni; k++)
+            expect_derivative(c, &noise, &q, gmi, &a[k], FD_STEP * sigma, g_i[k], what, k);
+        snprintf(what, sizeof what, "%s at %g dB, quadrature threshold", spec, snr_db);
+        for (size_t k = 0; k < nq; k++)
+            expect_derivative(c, &noise, &q, gmi, &b[k], FD_STEP * sigma, g_q[k], what, k);
     }
     qc_plane_free(c);
 }
