@@ -129,8 +129,8 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
 /* How the cells of a 2-D receiver were searched, after "receiver ...":
  * evaluations, whether the search settled or reached the ceiling H(X),
  * and the uniform start (text_iq.c; `design` and `iq` alike). */
-void cli_print_iq_search(FILE *f, const char *objective, int gradient, size_t evaluations,
-                         int converged, int at_ceiling, double start_bits, const char *unit);
+void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int converged,
+                         int at_ceiling, double start_bits, const char *unit);
 /* " UNIT" with a leading space, or "" for a dimensionless quantity. */
 const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
 /* Unit of model parameter i printed in a report whose levels are in

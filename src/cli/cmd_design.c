@@ -489,7 +489,7 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
 }
 
 /* Lloyd-Max: whether its conditions hold, after how many rounds (2-D
- * cells: whether their simplex settled before its evaluation cap); a
+ * cells: whether their search settled before its evaluation cap); a
  * design stopped by its round cap says so in capitals. */
 static void print_convergence(FILE *f, const qc_design_result *r, const char *ou,
                               const char *lead)
@@ -497,17 +497,16 @@ static void print_convergence(FILE *f, const qc_design_result *r, const char *ou
     if (r->design_convergence == QC_CONVERGENCE_NONE)
         return;
     const int ok = r->design_convergence == QC_CONVERGED;
-    if (r->iq) { /* the 2-D cells' simplex */
+    if (r->iq) { /* the 2-D cells' search */
         fprintf(f, "%s%s after %zu evaluations: ", lead, ok ? "converged" : "NOT CONVERGED",
                 r->design_iterations);
         if (!ok)
-            fprintf(f, "the %s stopped at its evaluation cap\n",
-                    r->iq_gradient ? "BFGS search" : "Nelder-Mead simplex");
+            fprintf(f, "the BFGS search stopped at its evaluation cap\n");
         else if (r->iq_at_ceiling)
             fprintf(f, "within %.0e bit of H(X), which no cells can pass\n",
                     QC_IQ_CEILING_GAP_BITS);
         else
-            fprintf(f, "the %s settled\n", r->iq_gradient ? "BFGS search" : "Nelder-Mead simplex");
+            fprintf(f, "the BFGS search settled\n");
         return;
     }
     fprintf(f, "%s%s after %zu %s: thresholds within %.3g %s of the midpoints of "

@@ -17,8 +17,8 @@ static void print_list(FILE *f, const char *name, const double *v, size_t n, dou
     fprintf(f, "%s\n", n ? "" : "(none)");
 }
 
-void cli_print_iq_search(FILE *f, const char *objective, int gradient, size_t evaluations,
-                         int converged, int at_ceiling, double start_bits, const char *unit)
+void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int converged,
+                         int at_ceiling, double start_bits, const char *unit)
 {
     if (at_ceiling && evaluations <= 1) {
         fprintf(f, ", designed for %s: the uniform cells are within %.0e bit of H(X), which "
@@ -26,8 +26,8 @@ void cli_print_iq_search(FILE *f, const char *objective, int gradient, size_t ev
                 objective, QC_IQ_CEILING_GAP_BITS);
         return;
     }
-    fprintf(f, ", designed for %s (%s, %zu evaluations", objective,
-            gradient ? "BFGS on the exact gradient" : "Nelder-Mead", evaluations);
+    fprintf(f, ", designed for %s (BFGS on the exact gradient, %zu evaluations", objective,
+            evaluations);
     if (at_ceiling)
         fprintf(f, ", stopped within %.0e bit of H(X), which no cells can pass",
                 QC_IQ_CEILING_GAP_BITS);
@@ -68,7 +68,7 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
         fprintf(f, ", uniform (not designed)\n");
     else
         cli_print_iq_search(f, r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi",
-                            r->iq_gradient, r->iq_evaluations, r->design_convergence != QC_NOT_CONVERGED,
+                            r->iq_evaluations, r->design_convergence != QC_NOT_CONVERGED,
                             r->iq_at_ceiling, r->iq_start_bits, unit);
     if (r->iq_kind == 0) {
         print_list(f, "in-phase thresholds", r->thresholds, r->cells_i - 1, 1.0);

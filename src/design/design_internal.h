@@ -131,6 +131,17 @@ void qc_polar_series_free(qc_polar_series *w);
  * quadrature does not reach its tolerance; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
                        double sigma, double *row, double *err);
+/* The density of point (x, y) integrated along each sector start across
+ * each ring, rays[a·P + p] = ∫ f(r, α_p) r dr over ring a, with the phase
+ * error (a Fourier series convolved with its law; without a phase error,
+ * far from the origin, the ring's closed form). The rate at which P(a,
+ * sector p − 1) grows and P(a, sector p) shrinks as α_p grows. */
+qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                        double sigma, double *rays);
+/* The phase error's characteristic function c_k = E[e^{jkφ}] for k < n
+ * (*ck, owned by w, valid until its next use) and *kcut ≤ n, the first k
+ * from which c_k is negligible (below 1e-30). */
+qc_status qc_polar_phase_law(qc_polar_series *w, size_t n, const double **ck, size_t *kcut);
 /* Sector p of the cells q seen from a point at angle theta: its start
  * relative to the point, in [−π, π), and its width (2π for one sector). */
 void qc_polar_sector(const qc_iq_cells *q, size_t p, double theta, double *lo, double *width);
@@ -143,21 +154,38 @@ size_t qc_polar_peak_breaks(double lo, double hi, double width, double *pts);
  * angle t from the point's across the ring [r0, r1) (r1 may be ∞). */
 double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t);
 
+/* iq_phase.c: averages over the residual phase error of noise
+ * (phase_sd > 0) of nvec values f(φ) for a point at amplitude s in noise
+ * σ per quadrature, each refined until no value changes by more than
+ * QC_IQ_QUAD_TOL. f writes weight × its values at rotation φ into out (the
+ * weight is p(φ) or, for a Gauss–Hermite rule, 1). A workspace holds the
+ * rules and room for at most the nvec given to alloc (one thread). */
+typedef void (*qc_phase_fn)(double phi, double weight, void *ctx, double *out);
+typedef struct qc_phase_average qc_phase_average;
+qc_status qc_phase_average_alloc(const qc_iq_noise *noise, size_t nvec, qc_phase_average **out);
+void qc_phase_average_free(qc_phase_average *a);
+/* ∫ f(φ) p(φ) dφ added into out[0 .. nvec − 1]; *err raised to the last
+ * refinement's change. QC_ENOCONV if 2^16 panels do not settle it. */
+qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size_t nvec,
+                               qc_phase_fn f, void *ctx, double *out, double *err);
+
 /* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
  * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */
 void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out);
 
 /* iq_gradient.c: the gradient of the MI (gmi = 0) or the BICM GMI
- * (gmi = 1, in bits) of the polar cells q without a phase error, given
- * their matrix ch (qc_iq_channel), with respect to the radii (g_radii,
- * q->nradii values) and the sector starts (g_phases, q->nphases values,
- * per radian). QC_EINVAL if ch does not match; QC_ENOCONV; QC_ENOMEM. */
-qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
+ * (gmi = 1, in bits) of the polar cells q in the noise (with or without a
+ * phase error), given their matrix ch (qc_iq_channel), with respect to
+ * the radii (g_radii, q->nradii values) and the sector starts (g_phases,
+ * q->nphases values, per radian). QC_EINVAL if ch does not match;
+ * QC_ENOCONV; QC_ENOMEM. */
+qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
                             const qc_dmc *ch, int gmi, double *g_radii, double *g_phases);
 /* The same for the I/Q pair's cells q: in the in-phase thresholds (g_i,
  * q->nti values) and the quadrature thresholds (g_q, q->ntq values). */
-qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
-                              const qc_dmc *ch, int gmi, double *g_i, double *g_q);
+qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,
+                              const qc_iq_cells *q, const qc_dmc *ch, int gmi, double *g_i,
+                              double *g_q);
 
 /* iq_entry.c: a request with channel.iq (a 2-D constellation through the
  * I/Q pair or the polar quantizer). */

@@ -1,23 +1,18 @@
 /* iq_design.c — design of the cells of a two-dimensional receiver: the
  * thresholds of the I/Q pair (one set for both axes or one per axis) and
  * the amplitude and phase boundaries of the polar quantizer, maximizing
- * the MI or the BICM GMI of the exact transition matrix by the
- * Nelder–Mead simplex (Nelder & Mead, Computer J. 1965; GSL nmsimplex2)
- * under a phase error, or, without one, where the gradient is exact
- * (iq_gradient.c), by BFGS (GSL vector_bfgs2; Fletcher, Practical
- * Methods of Optimization, 1987) on log(H(X) − objective), which keeps
- * the search well scaled where the gap to H(X) is a tail mass spanning
- * decades; its parameters are the thresholds, radii and sector starts
- * themselves (disordered ones refused), and it restarts from its best
- * cells turned and moved, since from symmetric cells it keeps their
- * symmetry. For the simplex the boundaries are written as a first value
- * and positive gaps (exponentials), so that every step of it is a valid
- * quantizer.
+ * the MI or the BICM GMI of the exact transition matrix by BFGS (GSL
+ * vector_bfgs2; Fletcher, Practical Methods of Optimization, 1987) on the
+ * exact gradient (iq_gradient.c, with or without a phase error) of
+ * log(H(X) − objective), which keeps the search well scaled where the gap
+ * to H(X) is a tail mass spanning decades. Its parameters are the
+ * thresholds, radii and sector starts themselves (disordered ones
+ * refused), and it restarts from its best cells turned and moved, since
+ * from symmetric cells it keeps their symmetry.
  * Both objectives are at most H(X) (the MI of a noiseless channel; the
  * GMI is H(X) less the bits' conditional entropies), so the search ends
  * once it comes within QC_IQ_CEILING_GAP_BITS of it: at high SNR the
- * uniform cells are often there already, and the simplex would only
- * wander on the plateau up to its evaluation cap. */
+ * uniform cells are often there already. */
 #include "design/design_internal.h"
 #include "quantcap/info.h"
 #include "quantcap/iq.h"
@@ -29,8 +24,6 @@
 #include <string.h>
 
 #define DEFAULT_EVALS 4000
-#define SIMPLEX_STEP 0.3 /* first simplex size in the log-gap parametrization */
-#define SIMPLEX_TOL 1e-3 /* stop when the simplex is this small */
 #define BAD_POINT 1e6    /* the objective where a channel cannot be built */
 #define BFGS_STEP 0.01   /* first trial step of the gradient search       */
 #define BFGS_LINE_TOL 0.1 /* its line searches' accuracy (GSL's advice)   */
@@ -38,7 +31,7 @@
 #define GRAD_TOL 1e-9    /* settled: gradient norm of log(H(X) − rate)    */
 #define STALL_ITERATIONS 20 /* … or these iterations together gained less */
 #define STALL_GAIN_BITS 1e-10 /* … than this                             */
-#define KICKS 2           /* gradient search: restarts from moved cells   */
+#define KICKS 4           /* gradient search: restarts from moved cells   */
 #define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
@@ -83,8 +76,8 @@ static double rate_of(const design_ctx *d, const qc_iq_cells *cells, qc_dmc **ke
     return d->req->objective == QC_OBJECTIVE_GMI ? r.gmi_bits : r.mi_bits;
 }
 
-
-/* Boundaries from the parameters z (into the result's arrays). */
+/* The uniform start's boundaries from its parameters z (uniform_start: a
+ * first value and the gaps' logarithms) into the result's arrays. */
 static void unpack(const design_ctx *d, const double *z)
 {
     const qc_iq_design_request *q = d->req;
@@ -115,25 +108,6 @@ static void unpack(const design_ctx *d, const double *z)
         r->phases[p] = acc;
         acc += 2.0 * M_PI * w[p] / sum;
     }
-}
-
-static double nm_f(const gsl_vector *v, void *vctx)
-{
-    design_ctx *d = vctx;
-    double z[2 * QC_IQ_MAX_CELLS];
-    for (size_t i = 0; i < d->nz; i++)
-        z[i] = gsl_vector_get(v, i);
-    unpack(d, z);
-    qc_status st;
-    double f = rate_of(d, &d->res->cells, NULL, &st);
-    d->evals++;
-    if (st != QC_OK || !isfinite(f))
-        return BAD_POINT;
-    if (f > d->best) {
-        d->best = f;
-        memcpy(d->best_z, z, d->nz * sizeof *z);
-    }
-    return -f;
 }
 
 /* The gradient search's own parameters: for the I/Q pair its in-phase
@@ -229,12 +203,11 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
     const qc_iq_cells *cells = &d->res->cells;
-    const double sigma = d->noise->sigma;
     const double f = rate_of(d, cells, g ? &ch : NULL, &st);
     if (st == QC_OK && g)
         st = q->kind == QC_IQ_PRODUCT
-                 ? qc_product_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p)
-                 : qc_polar_gradient(d->c, sigma, cells, ch, gmi, g_r, g_p);
+                 ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
+                 : qc_polar_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p);
     qc_dmc_free(ch);
     if (st != QC_OK || !isfinite(f))
         return BAD_POINT;
@@ -338,6 +311,79 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
     return QC_OK;
 }
 
+/* The objective of the cells with parameters v, evaluated and counted
+ * (the best kept); −∞ when they are invalid or the cap is reached. */
+static double trial_rate(design_ctx *d, const double *v)
+{
+    if (d->evals >= d->max_evals || !direct_unpack(d, v))
+        return -INFINITY;
+    d->evals++;
+    qc_status st;
+    const double f = rate_of(d, &d->res->cells, NULL, &st);
+    if (st != QC_OK || !isfinite(f))
+        return -INFINITY;
+    if (f > d->best) {
+        d->best = f;
+        memcpy(d->best_z, v, direct_count(d->req) * sizeof *v);
+    }
+    return f;
+}
+
+/* Relocation of one boundary among v[first .. first + n − 1] (increasing;
+ * radii above 0 when `radial`), as in the enhanced LBG algorithm (Patanè
+ * and Russo, Neural Networks 14(9), 2001): the boundary closest to
+ * both its neighbours (the smallest span between them; an outer one
+ * counts its one gap twice, the innermost radius its gap to 0) is the
+ * least useful; it is taken out and put back at the middle of each other
+ * gap of the others and beyond either end (one mean gap out; below the
+ * innermost radius, halfway to 0). The best of these n − 1 trials
+ * becomes the start (in the result's cells). 0 when n < 2 or no trial is
+ * valid. */
+static int relocate(design_ctx *d, const double *v, size_t first, size_t n, int radial)
+{
+    const size_t nv = direct_count(d->req);
+    if (n < 2)
+        return 0;
+    const double *t = v + first;
+    const double mean_gap = (t[n - 1] - t[0]) / (double)(n - 1);
+    size_t out = 0;
+    double least = INFINITY;
+    for (size_t j = 0; j < n; j++) {
+        const double below = j ? t[j] - t[j - 1] : radial ? t[0] : INFINITY;
+        const double above = j + 1 < n ? t[j + 1] - t[j] : INFINITY;
+        const double span = isinf(below) ? 2.0 * above : isinf(above) ? 2.0 * below
+                                                                        : below + above;
+        if (span < least)
+            least = span, out = j;
+    }
+    double w[2 * QC_IQ_MAX_CELLS], trial[2 * QC_IQ_MAX_CELLS];
+    size_t m = 0;
+    for (size_t j = 0; j < n; j++)
+        if (j != out)
+            w[m++] = t[j];
+    double best = -INFINITY, best_at = 0.0;
+    size_t best_g = 0;
+    for (size_t g = 0; g <= m; g++) { /* the new boundary below w[g] (above all when m) */
+        if (g == out)
+            continue; /* the gap it came from */
+        const double at = g == 0   ? (radial ? 0.5 * w[0] : w[0] - mean_gap)
+                          : g == m ? w[m - 1] + mean_gap
+                                   : 0.5 * (w[g - 1] + w[g]);
+        memcpy(trial, v, nv * sizeof *trial);
+        for (size_t i = 0, k = 0; i < n; i++)
+            trial[first + i] = i == g ? at : w[k++];
+        const double f = trial_rate(d, trial);
+        if (f > best)
+            best = f, best_g = g, best_at = at;
+    }
+    if (!isfinite(best))
+        return 0;
+    memcpy(trial, v, nv * sizeof *trial);
+    for (size_t i = 0, k = 0; i < n; i++)
+        trial[first + i] = i == best_g ? best_at : w[k++];
+    return direct_unpack(d, trial);
+}
+
 /* Restarts of the gradient search from the best cells so far, moved.
  * BFGS keeps any symmetry of its start (the gradient does), so from the
  * uniform cells of a symmetric constellation it can only reach the best
@@ -346,14 +392,30 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
  * kick 2 moves each radius by up to KICK_SIZE of its gap below and each
  * sector start by up to KICK_SIZE of a mean sector, in a fixed irregular
  * pattern (the fractional parts of k times the golden ratio), so the
- * result does not depend on chance. 0 if there is nothing to move or the
- * moved cells are invalid. */
+ * result does not depend on chance (for the I/Q pair, kicks 1 and 2 are
+ * two such patterns). Kicks 3 and 4 relocate one boundary (relocate):
+ * a radius (polar cells, kick 3), a shared threshold (I/Q pair), or an
+ * in-phase and then a quadrature one (I/Q pair apart). Local maxima
+ * differ in which gaps hold a boundary, which no small move changes:
+ * 16-QAM through an 8 × 8 I/Q pair at 15 dB under a 5° phase error has
+ * maxima with 2, 3 and 2 thresholds around the three gaps of each axis
+ * and with 3, 2 and 2, 1.7·10⁻⁴ bit of GMI apart, and through 4 × 16
+ * polar cells at 18 dB under a 4° Tikhonov error the relocated radius
+ * gains 5.6·10⁻³ bit of MI. 0 if there is nothing to move or the moved
+ * cells are invalid. */
 static int kick_cells(design_ctx *d, int kick)
 {
     const qc_iq_design_request *q = d->req;
     const size_t nv = direct_count(q);
     double v[2 * QC_IQ_MAX_CELLS];
     memcpy(v, d->best_z, nv * sizeof *v);
+    if (kick >= 3) {
+        if (q->kind == QC_IQ_PRODUCT)
+            return kick == 3 ? relocate(d, v, 0, q->cells_i - 1, 0)
+                   : q->separate ? relocate(d, v, q->cells_i - 1, q->cells_q - 1, 0)
+                                 : 0;
+        return kick == 3 ? relocate(d, v, 0, q->amplitude_cells - 1, 1) : 0;
+    }
     if (q->kind == QC_IQ_PRODUCT) { /* two irregular patterns */
         const size_t ni = q->cells_i - 1;
         for (size_t i = 0; i < nv; i++) {
@@ -529,62 +591,23 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if (res->at_ceiling)
         return QC_OK;
     d.best = f0;
-    memcpy(best_z, z, d.nz * sizeof *z);
     size_t max_evals = q->max_evaluations ? q->max_evaluations : DEFAULT_EVALS;
-    if (noise->phase_sd == 0.0) {
-        int settled = 0;
-        d.max_evals = max_evals;
-        direct_pack(&d, best_z);
-        for (int kick = 0; kick <= KICKS; kick++) {
-            if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)))
-                continue;
-            if ((st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
-                qc_iq_design_result_free(res);
-                return st;
-            }
-            if (!settled)
-                break; /* the cap */
-        }
-        res->gradient = 1;
-        res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;
-        res->converged = settled || res->at_ceiling || d.evals < max_evals;
-        (void)direct_unpack(&d, best_z); /* evaluated, so valid */
-        res->objective_bits = d.best;
-        res->evaluations = d.evals + 1;
-        return QC_OK;
-    }
-    gsl_multimin_fminimizer *m =
-        gsl_multimin_fminimizer_alloc(gsl_multimin_fminimizer_nmsimplex2, d.nz);
-    gsl_vector *x = gsl_vector_alloc(d.nz), *step = gsl_vector_alloc(d.nz);
-    if (!m || !x || !step) {
-        if (m)
-            gsl_multimin_fminimizer_free(m);
-        if (x)
-            gsl_vector_free(x);
-        if (step)
-            gsl_vector_free(step);
-        qc_iq_design_result_free(res);
-        return qc_fail(QC_ENOMEM, "out of memory");
-    }
-    for (size_t i = 0; i < d.nz; i++) {
-        gsl_vector_set(x, i, z[i]);
-        gsl_vector_set(step, i, SIMPLEX_STEP);
-    }
-    gsl_multimin_function fn = {nm_f, d.nz, &d};
-    gsl_multimin_fminimizer_set(m, &fn, x, step);
     int settled = 0;
-    while (d.evals < max_evals && !settled && d.best < ceiling - QC_IQ_CEILING_GAP_BITS) {
-        if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
-            break; /* no further progress is possible: settled where it stands */
-        settled = gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), SIMPLEX_TOL) ==
-                  GSL_SUCCESS;
+    d.max_evals = max_evals;
+    direct_pack(&d, best_z);
+    for (int kick = 0; kick <= KICKS; kick++) {
+        if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)))
+            continue;
+        if ((st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
+            qc_iq_design_result_free(res);
+            return st;
+        }
+        if (!settled)
+            break; /* the cap */
     }
     res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;
     res->converged = settled || res->at_ceiling || d.evals < max_evals;
-    gsl_multimin_fminimizer_free(m);
-    gsl_vector_free(x);
-    gsl_vector_free(step);
-    unpack(&d, best_z);
+    (void)direct_unpack(&d, best_z); /* evaluated, so valid */
     res->objective_bits = d.best;
     res->evaluations = d.evals + 1;
     return QC_OK;

@@ -223,7 +223,6 @@ qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *r
     res->iq_start_bits = req->quantizer.kind == QC_QUANTIZER_FIXED ? NAN : des.start_bits;
     res->iq_evaluations = req->quantizer.kind == QC_QUANTIZER_FIXED ? 1 : des.evaluations;
     res->design_iterations = res->iq_evaluations;
-    res->iq_gradient = des.gradient;
     res->iq_at_ceiling = req->quantizer.kind != QC_QUANTIZER_FIXED &&
                          req->quantizer.kind != QC_QUANTIZER_UNIFORM && des.at_ceiling;
     res->design_convergence = req->quantizer.kind == QC_QUANTIZER_FIXED ||

@@ -1,8 +1,8 @@
 /* iq_gradient.c — the exact gradient of the MI and of the BICM GMI of a
  * two-dimensional quantizer with respect to its boundaries, in circular
- * Gaussian noise without a phase error: the I/Q pair's thresholds, and a
- * polar quantizer's (A amplitude rings × P phase sectors) ring radii and
- * sector starts.
+ * Gaussian noise with or without a residual phase error: the I/Q pair's
+ * thresholds, and a polar quantizer's (A amplitude rings × P phase
+ * sectors) ring radii and sector starts.
  *
  * For the I/Q pair, P(i, k | x) = A_i(x)·B_k(y), the two axes' Gaussian
  * CDF differences, so a threshold t between columns i and i + 1 moves
@@ -20,8 +20,14 @@
  * GSL's scaled Bessel functions; Abramowitz & Stegun 9.6.34), or by
  * adaptive quadrature where that series grows long; and across the ray at
  * angle φ within ring [r0, r1), R = ∫ f(r, φ) r dr, the ring's closed form
- * of iq_polar.c. Then for either rate, with P_c|x the matrix and Q_c the
- * output law,
+ * of iq_polar.c. A phase error convolves the density in the angle with
+ * its law, which multiplies the k-th Fourier coefficient by the law's
+ * c_k (Mardia & Jupp, Directional Statistics, 2000, §3.5): the arc
+ * series then takes Ĩ_k·c_k (ending where c_k does, so no quadrature),
+ * and the ray's density is the series of the ring's angular law with
+ * the same c_k (qc_polar_rays). For the I/Q pair the rotated point's
+ * derivatives are averaged over the error like its cells (iq_phase.c).
+ * Then for either rate, with P_c|x the matrix and Q_c the output law,
  *   dI/dθ   = Σ_x r_x Σ_c (dP_c|x/dθ) log(P_c|x / Q_c),
  *   dGMI/dθ = Σ_x r_x Σ_c (dP_c|x/dθ) Σ_b log(Q_c,b,b(x) / Q_c),
  * Q_c,b,v the mass of cell c with bit b of the label equal to v (the
@@ -68,12 +74,19 @@ static double sine_sum(const double *ik, size_t n, double t)
     return acc;
 }
 
+/* The phase error's characteristic function c_k, k < kcut (beyond it
+ * negligible); NULL without a phase error. */
+typedef struct {
+    const double *ck;
+    size_t kcut;
+} phase_law;
+
 /* The arc integrals of one point across one circle: out[p] for sector p,
  * the sectors' starts relative to the point's angle in rel[0 .. np − 1]
  * and widths in wid[]. */
 static qc_status arc_row(double s, double sigma, double r, const double *rel,
-                         const double *wid, size_t np, double *ik, size_t ik_cap,
-                         gsl_integration_workspace *ws, double *out)
+                         const double *wid, size_t np, const phase_law *law, double *ik,
+                         size_t ik_cap, gsl_integration_workspace *ws, double *out)
 {
     const double z = (r - s) / sigma;
     const double lead = r / (2.0 * M_PI * sigma * sigma) * exp(-0.5 * z * z);
@@ -84,11 +97,15 @@ static qc_status arc_row(double s, double sigma, double r, const double *rel,
         return QC_OK;
     }
     size_t n = (size_t)ceil(SERIES_WIDTHS * sqrt(kappa)) + SERIES_EXTRA;
-    if (n <= SERIES_MAX && n <= ik_cap) {
+    if (law && law->kcut < n)
+        n = law->kcut > 1 ? law->kcut : 1;
+    if ((law || n <= SERIES_MAX) && n <= ik_cap) {
         int gs = gsl_sf_bessel_In_scaled_array(0, (int)n - 1, kappa, ik);
         if (gs != GSL_SUCCESS && gs != GSL_EUNDRFLW)
             return qc_fail(QC_ENOCONV, "iq design: Bessel functions at %g (%s)", kappa,
                            gsl_strerror(gs));
+        for (size_t k = 1; law && k < n; k++) /* the phase error's convolution */
+            ik[k] *= law->ck[k];
         /* the sectors tile the circle: each one's end is the next one's
          * start (2π on, for the last), so one sum per boundary */
         const double first = sine_sum(ik, n, rel[0]);
@@ -156,23 +173,51 @@ static double *scores(const qc_plane *c, const qc_dmc *ch, int gmi)
     return sc;
 }
 
-qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
+/* The series length the arcs of these cells and points can need: that
+ * of the largest κ = r·s/σ² (without a phase error, the quadrature takes
+ * over beyond SERIES_MAX). */
+static size_t longest_series(const qc_plane *c, double sigma, const qc_iq_cells *q)
+{
+    double smax = 0.0;
+    for (size_t x = 0; x < c->size; x++)
+        smax = fmax(smax, hypot(c->x[x], c->y[x]));
+    const double rmax = q->nradii ? q->radii[q->nradii - 1] : 0.0;
+    return (size_t)ceil(SERIES_WIDTHS * sqrt(rmax * smax / (sigma * sigma))) + SERIES_EXTRA;
+}
+
+qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
                             const qc_dmc *ch, int gmi, double *g_radii, double *g_phases)
 {
     const size_t nx = c->size, rings = q->nradii + 1, np = q->nphases, ny = rings * np;
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
         return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
-    const size_t ik_cap = SERIES_MAX + 1;
+    const double sigma = noise->sigma;
+    const int with_pn = noise->phase_sd > 0.0;
+    const size_t longest = longest_series(c, sigma, q);
+    const size_t ik_cap = (with_pn && longest > SERIES_MAX ? longest : SERIES_MAX) + 1;
+    qc_polar_series *series = NULL;
+    phase_law law = {NULL, 0};
+    const double *ck = NULL;
+    qc_status st = with_pn ? qc_polar_series_alloc(noise, &series) : QC_OK;
+    if (st == QC_OK && with_pn)
+        st = qc_polar_phase_law(series, longest, &ck, &law.kcut);
+    if (st != QC_OK) {
+        qc_polar_series_free(series);
+        return st;
+    }
     double *sc = scores(c, ch, gmi);
     double *ik = qc_malloc_array(ik_cap, sizeof *ik);
-    double *buf = qc_malloc_array(3 * np, sizeof *buf);
+    double *buf = qc_malloc_array(3 * np + ny + (with_pn ? law.kcut : 0), sizeof *buf);
     gsl_integration_workspace *ws = gsl_integration_workspace_alloc(ARC_LIMIT);
-    qc_status st = QC_OK;
     if (!sc || !ik || !buf || !ws) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    double *rel = buf, *wid = buf + np, *arc = buf + 2 * np;
+    if (with_pn) { /* a copy: the series' own c_k move as it grows */
+        memcpy(buf + 3 * np + ny, ck, law.kcut * sizeof *ck);
+        law.ck = buf + 3 * np + ny;
+    }
+    double *rel = buf, *wid = buf + np, *arc = buf + 2 * np, *rays = buf + 3 * np;
     for (size_t j = 0; j < q->nradii; j++)
         g_radii[j] = 0.0;
     for (size_t p = 0; p < np; p++)
@@ -186,74 +231,122 @@ qc_status qc_polar_gradient(const qc_plane *c, double sigma, const qc_iq_cells *
             qc_polar_sector(q, p, theta, &rel[p], &wid[p]);
         /* radius j: mass from ring j + 1 into ring j as it grows */
         for (size_t j = 0; j < q->nradii; j++) {
-            if ((st = arc_row(s, sigma, q->radii[j], rel, wid, np, ik, ik_cap, ws, arc)) !=
-                QC_OK)
+            if ((st = arc_row(s, sigma, q->radii[j], rel, wid, np, with_pn ? &law : NULL, ik,
+                              ik_cap, ws, arc)) != QC_OK)
                 goto done;
             for (size_t p = 0; p < np; p++)
                 g_radii[j] += arc[p] * (sx[j * np + p] - sx[(j + 1) * np + p]);
         }
+        if (np < 2)
+            continue;
         /* sector start p: mass from sector p into sector p − 1 as it grows */
-        if (np > 1)
-            for (size_t a = 0; a < rings; a++) {
-                const double r0 = a == 0 ? 0.0 : q->radii[a - 1];
-                const double r1 = a + 1 < rings ? q->radii[a] : INFINITY;
-                for (size_t p = 0; p < np; p++) {
-                    const double ray = qc_polar_ray_mass(s, sigma, r0, r1, rel[p]);
-                    const size_t prev = p == 0 ? np - 1 : p - 1;
-                    g_phases[p] += ray * (sx[a * np + prev] - sx[a * np + p]);
-                }
+        if (with_pn && (st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays)) != QC_OK)
+            goto done;
+        for (size_t a = 0; a < rings; a++) {
+            const double r0 = a == 0 ? 0.0 : q->radii[a - 1];
+            const double r1 = a + 1 < rings ? q->radii[a] : INFINITY;
+            for (size_t p = 0; p < np; p++) {
+                const double ray =
+                    with_pn ? rays[a * np + p] : qc_polar_ray_mass(s, sigma, r0, r1, rel[p]);
+                const size_t prev = p == 0 ? np - 1 : p - 1;
+                g_phases[p] += ray * (sx[a * np + prev] - sx[a * np + p]);
             }
+        }
     }
 done:
     free(sc), free(ik), free(buf);
     if (ws)
         gsl_integration_workspace_free(ws);
+    qc_polar_series_free(series);
     return st;
 }
 
-qc_status qc_product_gradient(const qc_plane *c, double sigma, const qc_iq_cells *q,
-                              const qc_dmc *ch, int gmi, double *g_i, double *g_q)
+/* The derivatives of one point's product cells, weighted: out[m] for the
+ * in-phase threshold m and out[nti + m] for the quadrature threshold m,
+ * each weight × the Gaussian density at the threshold × the score
+ * differences across it, summed over the other axis' cells. */
+typedef struct {
+    const qc_iq_cells *q;
+    double x, y, sigma;
+    const double *sx; /* the point's scores */
+    double *pa, *pb;  /* room for the two axes' cell probabilities */
+} product_point;
+
+static void product_point_gradient(const product_point *pt, double x, double y, double weight,
+                                   double *out)
+{
+    const qc_iq_cells *q = pt->q;
+    const size_t ki = q->nti + 1, kq = q->ntq + 1;
+    const double sigma = pt->sigma, norm = 1.0 / (sigma * sqrt(2.0 * M_PI));
+    const double *sx = pt->sx;
+    qc_iq_axis_probs(x, sigma, q->ti, q->nti, pt->pa);
+    qc_iq_axis_probs(y, sigma, q->tq, q->ntq, pt->pb);
+    for (size_t m = 0; m < q->nti; m++) { /* in-phase threshold m */
+        const double u = (q->ti[m] - x) / sigma, dens = weight * norm * exp(-0.5 * u * u);
+        double acc = 0.0;
+        for (size_t k = 0; dens != 0.0 && k < kq; k++)
+            acc += pt->pb[k] * (sx[m * kq + k] - sx[(m + 1) * kq + k]);
+        out[m] = dens * acc;
+    }
+    for (size_t m = 0; m < q->ntq; m++) { /* quadrature threshold m */
+        const double u = (q->tq[m] - y) / sigma, dens = weight * norm * exp(-0.5 * u * u);
+        double acc = 0.0;
+        for (size_t i = 0; dens != 0.0 && i < ki; i++)
+            acc += pt->pa[i] * (sx[i * kq + m] - sx[i * kq + m + 1]);
+        out[q->nti + m] = dens * acc;
+    }
+}
+
+/* The integrand over the phase error: the point rotated by φ. */
+static void rotated_gradient(double phi, double weight, void *vctx, double *out)
+{
+    const product_point *pt = vctx;
+    const double cs = cos(phi), sn = sin(phi);
+    product_point_gradient(pt, pt->x * cs - pt->y * sn, pt->x * sn + pt->y * cs, weight, out);
+}
+
+qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,
+                              const qc_iq_cells *q, const qc_dmc *ch, int gmi, double *g_i,
+                              double *g_q)
 {
     const size_t nx = c->size, ki = q->nti + 1, kq = q->ntq + 1, ny = ki * kq;
+    const size_t nt = q->nti + q->ntq;
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
         return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
+    qc_phase_average *avg = NULL;
+    qc_status st = noise->phase_sd > 0.0 ? qc_phase_average_alloc(noise, nt, &avg) : QC_OK;
+    if (st != QC_OK)
+        return st;
     double *sc = scores(c, ch, gmi);
-    double *pa = qc_malloc_array(ki + kq, sizeof *pa);
+    double *pa = qc_malloc_array(ki + kq + nt, sizeof *pa);
     if (!sc || !pa) {
         free(sc), free(pa);
+        qc_phase_average_free(avg);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    double *pb = pa + ki;
+    double *pb = pa + ki, *sum = pb + kq;
     for (size_t m = 0; m < q->nti; m++)
         g_i[m] = 0.0;
     for (size_t m = 0; m < q->ntq; m++)
         g_q[m] = 0.0;
-    const double norm = 1.0 / (sigma * sqrt(2.0 * M_PI));
-    for (size_t x = 0; x < nx; x++) {
+    double err = 0.0;
+    for (size_t x = 0; x < nx && st == QC_OK; x++) {
         if (!(c->prob[x] > 0.0))
             continue;
-        const double *sx = sc + x * ny;
-        qc_iq_axis_probs(c->x[x], sigma, q->ti, q->nti, pa);
-        qc_iq_axis_probs(c->y[x], sigma, q->tq, q->ntq, pb);
-        for (size_t m = 0; m < q->nti; m++) { /* in-phase threshold m */
-            const double u = (q->ti[m] - c->x[x]) / sigma, dens = norm * exp(-0.5 * u * u);
-            if (dens == 0.0)
-                continue;
-            double acc = 0.0;
-            for (size_t k = 0; k < kq; k++)
-                acc += pb[k] * (sx[m * kq + k] - sx[(m + 1) * kq + k]);
-            g_i[m] += dens * acc;
+        product_point pt = {q, c->x[x], c->y[x], noise->sigma, sc + x * ny, pa, pb};
+        if (avg) {
+            memset(sum, 0, nt * sizeof *sum);
+            st = qc_phase_average_run(avg, hypot(c->x[x], c->y[x]), noise->sigma, nt,
+                                      rotated_gradient, &pt, sum, &err);
+        } else {
+            product_point_gradient(&pt, pt.x, pt.y, 1.0, sum);
         }
-        for (size_t m = 0; m < q->ntq; m++) { /* quadrature threshold m */
-            const double u = (q->tq[m] - c->y[x]) / sigma, dens = norm * exp(-0.5 * u * u);
-            if (dens == 0.0)
-                continue;
-            double acc = 0.0;
-            for (size_t i = 0; i < ki; i++)
-                acc += pa[i] * (sx[i * kq + m] - sx[i * kq + m + 1]);
-            g_q[m] += dens * acc;
-        }
+        for (size_t m = 0; st == QC_OK && m < q->nti; m++)
+            g_i[m] += sum[m];
+        for (size_t m = 0; st == QC_OK && m < q->ntq; m++)
+            g_q[m] += sum[q->nti + m];
     }
     free(sc), free(pa);
-    return QC_OK;
+    qc_phase_average_free(avg);
+    return st;
 }

@@ -51,7 +51,12 @@
  * not grow with s/σ. A cell whose mass is bounded below DIRECT_NEGLIGIBLE
  * by its distance d from the point (P(|n| ≥ d) = e^{−d²/2σ²}) is 0.
  * With a phase error the series is kept (its terms end where the
- * phase error's c_k does, about 12/sd). */
+ * phase error's c_k does, about 12/sd).
+ * The same coefficients give the density along a sector start α across
+ * ring a, G_a convolved with the phase error at α − θx:
+ *   γ_0 + 2 Σ_k γ_k c_k cos(k(α − θx)),
+ * the rate at which the sectors beside it trade mass (qc_polar_rays, for
+ * the gradient of iq_gradient.c). */
 #include "design/design_internal.h"
 #include "models/convolve.h"
 #include "quantcap/iq.h"
@@ -296,10 +301,30 @@ static double change_bound(const qc_polar_series *w, size_t rings, size_t sector
     return worst;
 }
 
+/* e[k] = c_k sin(k·a0)/k (cosine = 0: a sector boundary's share of the
+ * cells) or c_k cos(k·a0) (cosine = 1: the density along it), k = 1 ..
+ * top − 1; sin and cos of k·a0 by turning e^{jka0} one step of a0 at a
+ * time, started afresh every RESEED_STEPS steps (rounding grows by about
+ * an ulp per step). */
+static void boundary_terms(const qc_polar_series *w, double a0, size_t top, int cosine,
+                           double *e)
+{
+    double ca = cos(a0), sa = sin(a0), cs = 1.0, sn = 0.0;
+    for (size_t k = 1; k < top; k++) {
+        if (k % RESEED_STEPS == 0) {
+            cs = cos((double)k * a0);
+            sn = sin((double)k * a0);
+        } else {
+            double c1 = cs * ca - sn * sa;
+            sn = sn * ca + cs * sa;
+            cs = c1;
+        }
+        e[k] = cosine ? w->ck[k] * cs : w->ck[k] * sn / (double)k;
+    }
+}
+
 /* Cell probabilities of the series at N angles into row (index a·P + p),
- * from w->gamma. e_p(k) = c_k sin(k(α_p − θx))/k once per boundary,
- * sin(k·a) by turning e^{jka} one step of a at a time, started afresh
- * every RESEED_STEPS steps (rounding grows by about an ulp per step). */
+ * from w->gamma, with e_p(k) = c_k sin(k(α_p − θx))/k once per boundary. */
 static void series_cells(qc_polar_series *w, const qc_iq_cells *q, double theta, size_t N,
                          double *row)
 {
@@ -310,21 +335,8 @@ static void series_cells(qc_polar_series *w, const qc_iq_cells *q, double theta,
         return;
     }
     const size_t top = terms(w, N);
-    for (size_t p = 0; p < sectors; p++) {
-        double a0 = q->phases[p] - theta, ca = cos(a0), sa = sin(a0), cs = 1.0, sn = 0.0;
-        double *e = w->e + p * half;
-        for (size_t k = 1; k < top; k++) {
-            if (k % RESEED_STEPS == 0) {
-                cs = cos((double)k * a0);
-                sn = sin((double)k * a0);
-            } else {
-                double c1 = cs * ca - sn * sa;
-                sn = sn * ca + cs * sa;
-                cs = c1;
-            }
-            e[k] = w->ck[k] * sn / (double)k;
-        }
-    }
+    for (size_t p = 0; p < sectors; p++)
+        boundary_terms(w, q->phases[p] - theta, top, 0, w->e + p * half);
     for (size_t a = 0; a < rings; a++) {
         const double *gm = w->gamma + a * half;
         double sum_lo = 0.0; /* Σ γ_k e_0(k), the first sector's start */
@@ -470,21 +482,25 @@ static qc_status direct_row(qc_polar_series *w, const qc_iq_cells *q, double s, 
     return QC_OK;
 }
 
-qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
-                       double sigma, double *row, double *err)
+/* The series of the point at amplitude s settled: its coefficients at *N
+ * angles in w->gamma and *err raised to the last doubling's change; or,
+ * without a phase error, *direct set where direct quadrature is the
+ * cheaper or the series does not settle within 2^DIRECT_LOG2 angles. */
+static qc_status settle(qc_polar_series *w, const qc_iq_cells *q, double s, double sigma,
+                        size_t *Nout, int *direct, double *err)
 {
     const size_t rings = q->nradii + 1;
-    const double s = hypot(x, y), theta = atan2(y, x);
     int l = MIN_LOG2;
     double want = ANGLES_PER_WIDTH * 2.0 * M_PI * s / sigma;
     while (l < MAX_LOG2 - 1 && (double)((size_t)1 << l) < want)
         l++;
     /* without a phase error: direct quadrature where it is the cheaper,
      * else the series up to 2^DIRECT_LOG2 angles */
-    const int direct = w->noise->phase_sd == 0.0 && s > 0.0;
-    const int last = direct ? DIRECT_LOG2 : MAX_LOG2;
-    if (direct && l >= DIRECT_FROM_LOG2)
-        return direct_row(w, q, s, theta, sigma, row, err);
+    const int may_direct = w->noise->phase_sd == 0.0 && s > 0.0;
+    const int last = may_direct ? DIRECT_LOG2 : MAX_LOG2;
+    *direct = may_direct && l >= DIRECT_FROM_LOG2;
+    if (*direct)
+        return QC_OK;
     size_t N = (size_t)1 << l;
     qc_status st = reserve(w, N, rings, q->nphases);
     if (st != QC_OK)
@@ -508,13 +524,86 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
             return st;
         double d = change_bound(w, rings, q->nphases, N);
         if (d <= QC_IQ_QUAD_TOL) {
-            series_cells(w, q, theta, N, row);
+            *Nout = N;
             *err = fmax(*err, d);
             return QC_OK;
         }
     }
-    if (direct)
-        return direct_row(w, q, s, theta, sigma, row, err);
+    *direct = may_direct;
+    if (may_direct)
+        return QC_OK;
     return qc_fail(QC_ENOCONV, "iq channel: the polar cells' Fourier series did not settle "
                    "within %g with %d angles", QC_IQ_QUAD_TOL, 1 << MAX_LOG2);
+}
+
+qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                       double sigma, double *row, double *err)
+{
+    const double s = hypot(x, y), theta = atan2(y, x);
+    size_t N = 0;
+    int direct = 0;
+    qc_status st = settle(w, q, s, sigma, &N, &direct, err);
+    if (st != QC_OK)
+        return st;
+    if (direct)
+        return direct_row(w, q, s, theta, sigma, row, err);
+    series_cells(w, q, theta, N, row);
+    return QC_OK;
+}
+
+/* The densities along the sector starts from the series at N angles (in
+ * w->gamma): G_a convolved with the phase error at α_p − θx,
+ * γ_0 + 2 Σ_k γ_k c_k cos(k(α_p − θx)). */
+static void series_rays(qc_polar_series *w, const qc_iq_cells *q, double theta, size_t N,
+                        double *rays)
+{
+    const size_t rings = q->nradii + 1, sectors = q->nphases, half = N / 2 + 1;
+    const size_t top = terms(w, N);
+    double *e = w->e; /* c_k cos(k(α_p − θx)) for one sector at a time */
+    for (size_t p = 0; p < sectors; p++) {
+        boundary_terms(w, q->phases[p] - theta, top, 1, e);
+        for (size_t a = 0; a < rings; a++) {
+            const double *gm = w->gamma + a * half;
+            double sum = 0.0;
+            for (size_t k = 1; k < top; k++)
+                sum += gm[k] * e[k];
+            rays[a * sectors + p] = gm[0] + 2.0 * sum;
+        }
+    }
+}
+
+qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                        double sigma, double *rays)
+{
+    const double s = hypot(x, y), theta = atan2(y, x);
+    const size_t rings = q->nradii + 1, sectors = q->nphases;
+    size_t N = 0;
+    int direct = 0;
+    double err = 0.0;
+    qc_status st = settle(w, q, s, sigma, &N, &direct, &err);
+    if (st != QC_OK)
+        return st;
+    if (!direct) {
+        series_rays(w, q, theta, N, rays);
+        return QC_OK;
+    }
+    for (size_t a = 0; a < rings; a++)
+        for (size_t p = 0; p < sectors; p++) {
+            double lo, width;
+            qc_polar_sector(q, p, theta, &lo, &width);
+            rays[a * sectors + p] =
+                qc_polar_ray_mass(s, sigma, a == 0 ? 0.0 : q->radii[a - 1],
+                                  a + 1 < rings ? q->radii[a] : INFINITY, lo);
+        }
+    return QC_OK;
+}
+
+qc_status qc_polar_phase_law(qc_polar_series *w, size_t n, const double **ck, size_t *kcut)
+{
+    qc_status st = phase_coefficients(w, n);
+    if (st != QC_OK)
+        return st;
+    *ck = w->ck;
+    *kcut = w->kcut < n ? w->kcut : n;
+    return QC_OK;
 }

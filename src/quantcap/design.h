@@ -522,9 +522,6 @@ typedef struct {
                                     QC_IQ_QUAD_TOL)                        */
     double iq_start_bits;        /* objective of the uniform cells          */
     size_t iq_evaluations;       /* objective evaluations of the cell design */
-    int iq_gradient;             /* 1: the cells were searched by BFGS on
-                                    the exact gradient (no phase error);
-                                    0: Nelder-Mead                         */
     int iq_at_ceiling;           /* 1: the cell design stopped within
                                     QC_IQ_CEILING_GAP_BITS of H(X), which no
                                     cells can pass                          */

@@ -128,10 +128,9 @@ QC_API qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t no
 /* Design of the boundaries: maximize the MI (or, with labels, the GMI)
  * over the thresholds of the I/Q pair (one set for both axes when shared,
  * else one per axis) or over the radii and sector boundaries of the polar
- * quantizer, on an unconstrained parametrization that keeps them ordered,
- * from the uniform design: without a phase error by BFGS (GSL
- * vector_bfgs2) on the exact gradient of log(H(X) − objective), with a
- * phase error by Nelder–Mead (GSL nmsimplex2). The
+ * quantizer, from the uniform design, by BFGS (GSL vector_bfgs2) on the
+ * exact gradient of log(H(X) − objective), with or without a phase error
+ * (ordered boundaries only; disordered steps are refused). The
  * search stops where the objective comes within QC_IQ_CEILING_GAP_BITS
  * of H(X), its ceiling (the MI and the GMI never pass it), or not at all
  * when the uniform design is already there. */
@@ -153,11 +152,9 @@ typedef struct {
     double start_bits;          /* objective of the uniform design          */
     double objective_bits;      /* objective of the final design            */
     size_t evaluations;
-    int converged;              /* 1: the simplex settled (or no search),
+    int converged;              /* 1: the search settled (or no search),
                                    or the objective reached its ceiling;
                                    0: max_evaluations stopped it first      */
-    int gradient;               /* 1: BFGS on the exact gradient (without
-                                   a phase error); 0: Nelder-Mead           */
     int at_ceiling;             /* 1: the search ended (or did not start)
                                    with the objective within
                                    QC_IQ_CEILING_GAP_BITS of H(X); 0 without

@@ -4,7 +4,9 @@
  * rates of the exact matrix (src/design/iq_channel.c): polar cells from
  * low SNR, where the arc integrals come from the Bessel series, to high
  * SNR, where they come from quadrature, and with a point at the origin
- * (hex:7's centre); the I/Q pair's thresholds on both axes. */
+ * (hex:7's centre); the I/Q pair's thresholds on both axes; and both
+ * receivers under a residual phase error (Gaussian and Tikhonov laws;
+ * the I/Q pair by Gauss–Hermite rules and by panels). */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -56,13 +58,15 @@ static void expect_derivative(const qc_plane *c, const qc_iq_noise *n, const qc_
                  gmi ? "GMI" : "MI", exact, fd);
 }
 
-static void check_case(const char *spec, double snr_db, size_t nr, const double *radii,
-                       size_t np, const double *phases_deg)
+/* Polar cells of spec at snr_db under a phase error of pn_deg rms. */
+static void check_phase_case(const char *spec, double snr_db, double pn_deg, qc_phase_law law,
+                             size_t nr, const double *radii, size_t np,
+                             const double *phases_deg)
 {
     qc_plane *c;
     assert_int_equal(qc_plane_parse(spec, &c), QC_OK);
     const double sigma = sqrt(qc_plane_energy(c) / (2.0 * pow(10.0, snr_db / 10.0)));
-    qc_iq_noise noise = {sigma, 0.0, QC_PHASE_GAUSS};
+    qc_iq_noise noise = {sigma, pn_deg * M_PI / 180.0, law};
     double rad[16], ph[64], g_r[16], g_p[64], rmax = 0.0;
     for (size_t i = 0; i < c->size; i++)
         rmax = fmax(rmax, hypot(c->x[i], c->y[i]));
@@ -74,13 +78,14 @@ static void check_case(const char *spec, double snr_db, size_t nr, const double 
     for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) { /* GMI where labels came */
         qc_dmc *ch = NULL;
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
-        assert_int_equal(qc_polar_gradient(c, sigma, &q, ch, gmi, g_r, g_p), QC_OK);
+        assert_int_equal(qc_polar_gradient(c, &noise, &q, ch, gmi, g_r, g_p), QC_OK);
         qc_dmc_free(ch);
         char what[96];
-        snprintf(what, sizeof what, "%s at %g dB, radius", spec, snr_db);
+        snprintf(what, sizeof what, "%s at %g dB, %g deg, radius", spec, snr_db, pn_deg);
         for (size_t k = 0; k < nr; k++)
             expect_derivative(c, &noise, &q, gmi, &rad[k], FD_STEP * sigma, g_r[k], what, k);
-        snprintf(what, sizeof what, "%s at %g dB, sector start", spec, snr_db);
+        snprintf(what, sizeof what, "%s at %g dB, %g deg, sector start", spec, snr_db,
+                 pn_deg);
         for (size_t k = 0; k < np; k++)
             expect_derivative(c, &noise, &q, gmi, &ph[k], FD_STEP * sigma / rmax, g_p[k], what,
                               k);
@@ -88,14 +93,21 @@ static void check_case(const char *spec, double snr_db, size_t nr, const double 
     qc_plane_free(c);
 }
 
-/* The I/Q pair: in-phase thresholds ti, quadrature thresholds tq. */
-static void check_product(const char *spec, double snr_db, size_t ni, const double *ti,
-                          size_t nq, const double *tq)
+static void check_case(const char *spec, double snr_db, size_t nr, const double *radii,
+                       size_t np, const double *phases_deg)
+{
+    check_phase_case(spec, snr_db, 0.0, QC_PHASE_GAUSS, nr, radii, np, phases_deg);
+}
+
+/* The I/Q pair: in-phase thresholds ti, quadrature thresholds tq, under a
+ * phase error of pn_deg rms. */
+static void check_product_pn(const char *spec, double snr_db, double pn_deg, qc_phase_law law,
+                             size_t ni, const double *ti, size_t nq, const double *tq)
 {
     qc_plane *c;
     assert_int_equal(qc_plane_parse(spec, &c), QC_OK);
     const double sigma = sqrt(qc_plane_energy(c) / (2.0 * pow(10.0, snr_db / 10.0)));
-    qc_iq_noise noise = {sigma, 0.0, QC_PHASE_GAUSS};
+    qc_iq_noise noise = {sigma, pn_deg * M_PI / 180.0, law};
     double a[16], b[16], g_i[16], g_q[16];
     memcpy(a, ti, ni * sizeof *a);
     memcpy(b, tq, nq * sizeof *b);
@@ -103,17 +115,25 @@ static void check_product(const char *spec, double snr_db, size_t ni, const doub
     for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) {
         qc_dmc *ch = NULL;
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
-        assert_int_equal(qc_product_gradient(c, sigma, &q, ch, gmi, g_i, g_q), QC_OK);
+        assert_int_equal(qc_product_gradient(c, &noise, &q, ch, gmi, g_i, g_q), QC_OK);
         qc_dmc_free(ch);
         char what[96];
-        snprintf(what, sizeof what, "%s at %g dB, in-phase threshold", spec, snr_db);
+        snprintf(what, sizeof what, "%s at %g dB, %g deg, in-phase threshold", spec, snr_db,
+                 pn_deg);
         for (size_t k = 0; k < ni; k++)
             expect_derivative(c, &noise, &q, gmi, &a[k], FD_STEP * sigma, g_i[k], what, k);
-        snprintf(what, sizeof what, "%s at %g dB, quadrature threshold", spec, snr_db);
+        snprintf(what, sizeof what, "%s at %g dB, %g deg, quadrature threshold", spec, snr_db,
+                 pn_deg);
         for (size_t k = 0; k < nq; k++)
             expect_derivative(c, &noise, &q, gmi, &b[k], FD_STEP * sigma, g_q[k], what, k);
     }
     qc_plane_free(c);
+}
+
+static void check_product(const char *spec, double snr_db, size_t ni, const double *ti,
+                          size_t nq, const double *tq)
+{
+    check_product_pn(spec, snr_db, 0.0, QC_PHASE_GAUSS, ni, ti, nq, tq);
 }
 
 static void test_product(void **state)
@@ -160,6 +180,28 @@ static void test_origin_point(void **state)
     check_case("hex:7", 10.0, 1, radii, 6, ph);
 }
 
+static void test_phase_error(void **state)
+{
+    (void)state;
+    const double radii[3] = {1.9, 3.1, 3.9};
+    const double ph[8] = {-170.0, -120.0, -80.0, -20.0, 30.0, 50.0, 100.0, 150.0};
+    check_phase_case("qam:16", 18.0, 3.0, QC_PHASE_GAUSS, 3, radii, 8, ph);
+    check_phase_case("qam:16", 12.0, 6.0, QC_PHASE_TIKHONOV, 3, radii, 8, ph);
+    /* kappa 5800 (a series of ~780 terms alone) cut by the error's c_k */
+    const double near[3] = {1.5, 3.2, 4.3};
+    const double ph2[4] = {-135.0, -40.0, 44.0, 130.0};
+    check_phase_case("qam:16", 32.0, 1.0, QC_PHASE_GAUSS, 3, near, 4, ph2);
+    const double r7[1] = {0.5};
+    const double ph7[6] = {-150.0, -90.0, -30.0, 30.0, 90.0, 150.0};
+    check_phase_case("hex:7", 10.0, 4.0, QC_PHASE_TIKHONOV, 1, r7, 6, ph7);
+    /* the I/Q pair: Gauss–Hermite rules (3 deg), panels (Tikhonov, and a
+     * Gaussian error wider than 6 angular widths of the noise) */
+    const double ti[5] = {-2.5, -1.2, 0.1, 1.7, 2.9}, tq[3] = {-1.8, 0.3, 2.2};
+    check_product_pn("qam:16", 16.0, 3.0, QC_PHASE_GAUSS, 5, ti, 3, tq);
+    check_product_pn("qam:16", 16.0, 5.0, QC_PHASE_TIKHONOV, 5, ti, 3, tq);
+    check_product_pn("qam:16", 24.0, 12.0, QC_PHASE_GAUSS, 5, ti, 3, tq);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -167,6 +209,7 @@ int main(void)
         cmocka_unit_test(test_apsk_and_one_sector),
         cmocka_unit_test(test_origin_point),
         cmocka_unit_test(test_product),
+        cmocka_unit_test(test_phase_error),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
