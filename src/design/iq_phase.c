@@ -3,10 +3,19 @@
  * Principles of Coherent Communication, 1966) of a vector-valued function
  * of the rotation, ∫ f(φ) p(φ) dφ: the I/Q pair's cell probabilities of a
  * rotated point (iq_channel.c) and their derivatives in the thresholds
- * (iq_gradient.c). A Gaussian error that spans at most GH_MAX_SPREAD
- * angular widths σ/|x| of the noise is integrated by Gauss–Hermite rules
- * of doubling size (GSL gsl_integration_fixed; Golub & Welsch, Math.
- * Comp. 23, 1969); otherwise, or when 1024 nodes do not settle it, by
+ * (iq_gradient.c). An error that spans at most GH_MAX_SPREAD angular
+ * widths σ/|x| of the noise is integrated by Gauss–Hermite rules of
+ * doubling size (GSL gsl_integration_fixed; Golub & Welsch, Math. Comp.
+ * 23, 1969): a Gaussian error directly, a Tikhonov error with κ = 1/sd²
+ * of at least TK_MIN_KAPPA through the Gaussian of the same sd, its
+ * density ratio
+ *   p(φ)/N(φ; 0, sd²) = C·e^{κ(φ²/2 − 2 sin²(φ/2))},
+ *   C = sd·√(2π)/(2π·I_0(κ)e^{−κ}) (→ 1 as κ grows),
+ * a smooth weight about 1 near 0 (the exponent is κφ⁴/24 to leading
+ * order), taken as 0 beyond ±π, where the law holds below e^{−2κ} of its
+ * peak (importance weighting; Davis & Rabinowitz, Methods of Numerical
+ * Integration, 2nd ed. 1984, §2.9 (section from memory)). Otherwise, or
+ * when 1024 nodes do not settle it, by
  * composite Gauss–Legendre quadrature (GSL glfixed) refined by panel
  * doubling over ±PN_WINDOW_SD standard deviations (at most ±π for the
  * Tikhonov law). Either refinement stops when no component changes by
@@ -31,10 +40,13 @@
 #define GH_MAX_SPREAD 6.0   /* Gauss–Hermite tried while sd·|x|/σ ≤ 6 (the
                                error's spread in the noise's angular widths;
                                1024 nodes settle it up to about 6)          */
+#define TK_MIN_KAPPA 20.0   /* Tikhonov by Gauss–Hermite from κ = 20 (sd ≤
+                               12.8°; e^{−2κ} = 4e-18 at ±π)                */
 
 struct qc_phase_average {
     const qc_iq_noise *noise;
     double kappa, vm_norm; /* Tikhonov: κ and 1/(2π I0(κ) e^{−κ})           */
+    double log_ratio;      /* Tikhonov: log C of the density ratio          */
     double window;         /* integrate φ over [−window, window]            */
     gsl_integration_glfixed_table *gl;
     gsl_integration_fixed_workspace *rules[GH_LEVELS]; /* 16·2^l nodes     */
@@ -78,6 +90,7 @@ qc_status qc_phase_average_alloc(const qc_iq_noise *noise, size_t nvec, qc_phase
     if (noise->phase_law == QC_PHASE_TIKHONOV && s > 0.0) {
         a->kappa = 1.0 / (s * s);
         a->vm_norm = 1.0 / (2.0 * M_PI * gsl_sf_bessel_I0_scaled(a->kappa));
+        a->log_ratio = log(a->vm_norm * s * sqrt(2.0 * M_PI));
     }
     *out = a;
     return QC_OK;
@@ -145,11 +158,24 @@ static qc_status panels_run(qc_phase_average *a, qc_phase_fn f, void *ctx, doubl
                    "%d panels", QC_IQ_QUAD_TOL, 1 << MAX_LEVEL);
 }
 
-/* ∫ f(φ) N(φ; 0, sd²) dφ into out (added), by Gauss–Hermite rules of 16,
- * 32, … nodes until settled; 0 (out untouched) when 1024 nodes do not
- * settle it (a phase error wide against the noise's angular width σ/|x|:
- * then panels_run, which is also used beyond GH_MAX_SPREAD such widths).
- * The nodes needed grow about as 32·(sd·|x|/σ)². */
+/* The weight of the Gauss–Hermite node φ: 1 for a Gaussian error, the
+ * Tikhonov law's density ratio to the Gaussian of the same sd else. */
+static double hermite_weight(const qc_phase_average *a, double phi)
+{
+    if (a->noise->phase_law != QC_PHASE_TIKHONOV)
+        return 1.0;
+    if (!(fabs(phi) <= M_PI))
+        return 0.0;
+    const double h = sin(0.5 * phi);
+    return exp(a->log_ratio + a->kappa * (0.5 * phi * phi - 2.0 * h * h));
+}
+
+/* ∫ f(φ) p(φ) dφ into out (added), by Gauss–Hermite rules of 16, 32, …
+ * nodes for N(φ; 0, sd²) (p/N the nodes' weight) until settled; 0 (out
+ * untouched) when 1024 nodes do not settle it (a phase error wide against
+ * the noise's angular width σ/|x|: then panels_run, which is also used
+ * beyond GH_MAX_SPREAD such widths). The nodes needed grow about as
+ * 32·(sd·|x|/σ)². */
 static int hermite_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double *out,
                        double *err)
 {
@@ -163,8 +189,8 @@ static int hermite_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double *ou
         const double *w = gsl_integration_fixed_weights(a->rules[l]);
         memset(a->acc, 0, a->nvec * sizeof *a->acc);
         for (size_t i = 0; i < n; i++) { /* φ = √2·sd·t, weight w/√π */
-            const double wi = w[i] / M_SQRTPI;
-            f(M_SQRT2 * sd * t[i], 1.0, ctx, a->val);
+            const double wi = w[i] / M_SQRTPI, phi = M_SQRT2 * sd * t[i];
+            f(phi, hermite_weight(a, phi), ctx, a->val);
             for (size_t c = 0; c < a->nvec; c++)
                 a->acc[c] += wi * a->val[c];
         }
@@ -184,7 +210,9 @@ qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size
     a->nvec = nvec;
     const qc_iq_noise *noise = a->noise;
     const double width = fmin(noise->phase_sd, s > 0.0 ? sigma / s : 1.0);
-    if (noise->phase_law == QC_PHASE_GAUSS && noise->phase_sd * s <= GH_MAX_SPREAD * sigma &&
+    const int hermite = noise->phase_law == QC_PHASE_GAUSS ||
+                        (noise->phase_law == QC_PHASE_TIKHONOV && a->kappa >= TK_MIN_KAPPA);
+    if (hermite && noise->phase_sd * s <= GH_MAX_SPREAD * sigma &&
         hermite_run(a, f, ctx, out, err))
         return QC_OK;
     qc_status st = panels_run(a, f, ctx, -a->window, 0.0, fmax(width, 1e-6), out, err);

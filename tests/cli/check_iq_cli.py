@@ -283,18 +283,27 @@ for law in ("gauss", "tikhonov"):
     check(worst <= 1e-12, f"polar cells, {law} phase error 12 deg, against nested scipy quad: "
           f"largest |diff| {worst:.2e}")
 
-# Reference: scipy.integrate.quad over the Gaussian phase error of the
-# rotated point's product-cell probability (norm.cdf differences), at 12 deg
-# (quantcap: Gauss-Hermite rules, the error's spread 1.7 angular widths of
-# the noise) and at 60 deg (8.3 widths: composite Gauss-Legendre panels).
-for sd_deg in (12.0, 60.0):
+# Reference: scipy.integrate.quad over the phase error of the rotated
+# point's product-cell probability (norm.cdf differences): the Gaussian
+# error at 12 deg (quantcap: Gauss-Hermite rules, the error's spread 1.7
+# angular widths of the noise) and at 60 deg (8.3 widths: composite
+# Gauss-Legendre panels); the Tikhonov error (scipy.stats.vonmises.pdf,
+# kappa = 1/sd^2, over [-pi, pi]) at 12 deg (kappa 22.8: Gauss-Hermite
+# rules reweighted by its density ratio to the Gaussian) and at 20 deg
+# (kappa 8.2: panels).
+for law, sd_deg in (("gauss", 12.0), ("gauss", 60.0), ("tikhonov", 12.0),
+                    ("tikhonov", 20.0)):
     sd = math.radians(sd_deg)
-    if sd_deg == 12.0:
+    if (law, sd_deg) == ("gauss", 12.0):
         Mq_ref = Mq_gauss
     else:
         r = iq("--alphabet", "qam:16", "--sigma", "0.4", "--thresholds", "-2,0,2",
-               "--phase-noise-deg", str(sd_deg), "--matrix")
+               "--phase-noise-deg", str(sd_deg), "--phase-noise-law", law, "--matrix")
         Mq_ref = np.array(r["receivers"][0]["channel"])
+    if law == "gauss":
+        density, lo, hi = (lambda phi: norm.pdf(phi / sd) / sd), -12 * sd, 12 * sd
+    else:
+        density, lo, hi = (lambda phi: vonmises.pdf(phi, 1.0 / sd ** 2)), -math.pi, math.pi
     worst = 0.0
     for c in range(16):
         a, b = divmod(c, 4)
@@ -305,11 +314,11 @@ for sd_deg in (12.0, 60.0):
             v = x0 * math.sin(phi) + y0 * math.cos(phi)
             return ((norm.cdf((e[a + 1] - u) / 0.4) - norm.cdf((e[a] - u) / 0.4)) *
                     (norm.cdf((e[b + 1] - v) / 0.4) - norm.cdf((e[b] - v) / 0.4)) *
-                    norm.pdf(phi / sd) / sd)
-        v, _ = integrate.quad(cell, -12 * sd, 12 * sd, epsabs=1e-13, epsrel=1e-11, limit=1000)
+                    density(phi))
+        v, _ = integrate.quad(cell, lo, hi, epsabs=1e-13, epsrel=1e-11, limit=1000)
         worst = max(worst, abs(v - Mq_ref[14][c]))
-    check(worst <= 1e-10, f"I/Q cells with a {sd_deg:g} deg phase error against scipy quad: "
-          f"largest |diff| {worst:.2e}")
+    check(worst <= 1e-10, f"I/Q cells with a {sd_deg:g} deg {law} phase error against scipy "
+          f"quad: largest |diff| {worst:.2e}")
 
 # A phase error of 0.01 deg: the Tikhonov law (kappa = 3.3e7) is then the
 # Gaussian one (von Mises tends to the normal law as kappa grows, Mardia and
