@@ -595,6 +595,10 @@ qc_status qc_require(const qc_require_request *rq, qc_require_result *out)
                        "log2 of the symbols it sends), approached only as the noise vanishes "
                        "and never met: give a lower target",
                        qc_target_name(kind), rq->target.value, most);
+    if (rq->penalty_only && no_unq) { /* no penalty to find: nothing to search */
+        out->unquantized_note = no_unq;
+        return QC_OK;
+    }
     search s = {.rq = rq};
     double root, bu, bg, uroot = NAN;
     int inc, reached;

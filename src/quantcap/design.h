@@ -632,6 +632,10 @@ typedef struct {
                           before the root search (≥ 3; 0: 9)               */
     const char *name;  /* the quantity, for messages ("snr-db"); NULL ok  */
     const char *unit;  /* appended to its values (" dB"); NULL: none       */
+    int penalty_only;  /* 1: only the penalty is wanted, so where the
+                          receiver has no unquantized reference nothing is
+                          searched (required NaN, unquantized_note says
+                          why)                                             */
 } qc_require_request;
 
 typedef struct {

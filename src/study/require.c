@@ -284,8 +284,11 @@ static qc_status build_at(void *ctx, double value, const qc_model **model,
     return st;
 }
 
-qc_status qc_settings_require(const qc_settings *s, const char *key, const qc_target *target,
-                              double lo, double hi, const char *unit, qc_require_result *res)
+/* qc_settings_require, or with penalty_only set (qc_require_request) for
+ * the penalty at a FEC target alone. */
+static qc_status settings_require(const qc_settings *s, const char *key,
+                                  const qc_target *target, double lo, double hi,
+                                  const char *unit, int penalty_only, qc_require_result *res)
 {
     memset(res, 0, sizeof *res);
     res->required = res->unquantized_required = res->penalty_db = NAN;
@@ -300,11 +303,17 @@ qc_status qc_settings_require(const qc_settings *s, const char *key, const qc_ta
     builder b = {.base = base, .key = key};
     qc_require_request rq = {.target = *target, .build = build_at, .ctx = &b, .lo = lo,
                              .hi = hi, .linear = !qc_setting_in_db(key), .name = key,
-                             .unit = unit};
+                             .unit = unit, .penalty_only = penalty_only};
     st = qc_require(&rq, res);
     builder_clear(&b);
     qc_settings_free(base);
     return st;
+}
+
+qc_status qc_settings_require(const qc_settings *s, const char *key, const qc_target *target,
+                              double lo, double hi, const char *unit, qc_require_result *res)
+{
+    return settings_require(s, key, target, lo, hi, unit, 0, res);
 }
 
 qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fec_penalty *out)
@@ -328,7 +337,7 @@ qc_status qc_settings_fec_penalty(const qc_settings *s, const qc_fec *fec, qc_fe
     qc_require_result r;
     qc_status st = qc_settings_require_range(s, out->key, &lo, &hi);
     if (st == QC_OK)
-        st = qc_settings_require(s, out->key, &t, lo, hi, unit, &r);
+        st = settings_require(s, out->key, &t, lo, hi, unit, 1, &r);
     if (st == QC_ENOMEM)
         return st;
     if (st != QC_OK)

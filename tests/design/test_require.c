@@ -34,6 +34,21 @@ typedef struct {
     qc_model *model;
 } snr_builder;
 
+/* *model (freed first) made model gauss of noise sigma, and req the
+ * default request on it. */
+static qc_status gauss_request(double sigma, qc_model **model, qc_design_request *req)
+{
+    double p[QC_MODEL_MAX_PARAMS] = {sigma};
+    qc_model_free(*model);
+    *model = NULL;
+    qc_status st = qc_model_alloc(&qc_model_gauss, p, model);
+    if (st != QC_OK)
+        return st;
+    qc_design_request_default(req);
+    req->channel.model = *model;
+    return QC_OK;
+}
+
 static qc_status build(void *ctx, double snr_db, const qc_model **model,
                        qc_design_request *req)
 {
@@ -41,14 +56,9 @@ static qc_status build(void *ctx, double snr_db, const qc_model **model,
     double e2 = 0.0;
     for (size_t i = 0; i < b->n; i++)
         e2 += b->levels[i] * b->levels[i] / (double)b->n;
-    double p[QC_MODEL_MAX_PARAMS] = {sqrt(e2 / pow(10.0, snr_db / 10.0))};
-    qc_model_free(b->model);
-    b->model = NULL;
-    qc_status st = qc_model_alloc(&qc_model_gauss, p, &b->model);
+    qc_status st = gauss_request(sqrt(e2 / pow(10.0, snr_db / 10.0)), &b->model, req);
     if (st != QC_OK)
         return st;
-    qc_design_request_default(req);
-    req->channel.model = b->model;
     req->channel.levels = b->levels;
     req->channel.nlevels = b->n;
     req->quantizer.cells = b->cells;
@@ -425,6 +435,60 @@ static void test_settings_require(void **state)
     qc_settings_free(s);
 }
 
+/* A 16-QAM I/Q pair of 4 x 4 uniform cells at an Es/N0 in dB; counts its
+ * builds. */
+typedef struct {
+    qc_plane *plane;
+    qc_design_iq iq;
+    qc_model *model;
+    size_t builds;
+} plane_builder;
+
+static qc_status build_plane(void *ctx, double snr_db, const qc_model **model,
+                             qc_design_request *req)
+{
+    plane_builder *b = ctx;
+    b->builds++;
+    const double e2 = qc_plane_energy(b->plane);
+    qc_status st = gauss_request(sqrt(e2 / (2.0 * pow(10.0, snr_db / 10.0))), &b->model, req);
+    if (st != QC_OK)
+        return st;
+    req->channel.iq = &b->iq;
+    req->quantizer.cells = 4;
+    req->quantizer.kind = QC_QUANTIZER_UNIFORM;
+    *model = b->model;
+    return QC_OK;
+}
+
+/* A 2-D receiver has an unquantized reference for the MI alone, so a
+ * penalty at a BER target is undefined: asked for the penalty only, the
+ * search does not run at all (one build to learn that), while the full
+ * question still finds the required SNR. */
+static void test_penalty_only_without_reference(void **state)
+{
+    (void)state;
+    plane_builder b = {0};
+    assert_int_equal(qc_plane_parse("qam:16", &b.plane), QC_OK);
+    b.iq = (qc_design_iq){.plane = b.plane, .kind = QC_IQ_PRODUCT};
+    qc_require_request rq = {.build = build_plane, .ctx = &b, .lo = 5.0, .hi = 25.0,
+                             .name = "snr-db", .unit = " dB", .penalty_only = 1};
+    assert_int_equal(qc_target_parse("ber=1e-3", &rq.target), QC_OK);
+    qc_require_result r;
+    assert_int_equal(qc_require(&rq, &r), QC_OK);
+    assert_non_null(r.unquantized_note);
+    assert_true(isnan(r.required) && isnan(r.penalty_db));
+    assert_int_equal(r.designs, 0);
+    assert_int_equal(b.builds, 1);
+    rq.penalty_only = 0;
+    b.builds = 0;
+    assert_int_equal(qc_require(&rq, &r), QC_OK);
+    assert_non_null(r.unquantized_note);
+    assert_true(r.required > 5.0 && r.required < 25.0 && isnan(r.penalty_db));
+    assert_true(r.designs > 3 && b.builds > 3);
+    qc_model_free(b.model);
+    qc_plane_free(b.plane);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -434,6 +498,7 @@ int main(void)
         cmocka_unit_test(test_settings_require), cmocka_unit_test(test_ber_penalty_in_bits),
         cmocka_unit_test(test_map_boundaries_gauss), cmocka_unit_test(test_map_boundaries_counts),
         cmocka_unit_test(test_map_boundaries_envelope),
+        cmocka_unit_test(test_penalty_only_without_reference),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
