@@ -158,7 +158,9 @@ double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t)
  * (phase_sd > 0) of nvec values f(φ) for a point at amplitude s in noise
  * σ per quadrature, each refined until no value changes by more than
  * QC_IQ_QUAD_TOL. f writes weight × its values at rotation φ into out (the
- * weight is p(φ) or, for a Gauss–Hermite rule, 1). A workspace holds the
+ * weight is p(φ) on panels; with Gauss–Hermite rules 1 for a Gaussian
+ * error, the rule's weight times p(φ)/N(φ; 0, sd²) for a Tikhonov one).
+ * A workspace holds the
  * rules and room for at most the nvec given to alloc (one thread). */
 typedef void (*qc_phase_fn)(double phi, double weight, void *ctx, double *out);
 typedef struct qc_phase_average qc_phase_average;

@@ -54,6 +54,8 @@ typedef struct {
     size_t nz;
     double ceiling; /* H(X) in bits, which the objective cannot pass */
     size_t max_evals; /* gradient search: evaluations allowed */
+    qc_status fatal;  /* the first failure no other cells can avoid (out of
+                         memory); others only make a point unusable      */
 } design_ctx;
 
 /* The objective of the cells; their matrix into *keep when keep is not
@@ -182,8 +184,8 @@ static void direct_pack(const design_ctx *d, double *v)
         v[na + p] = d->res->phases[p];
 }
 
-/* The objective and its exact gradient in those parameters (without a
- * phase error; iq_gradient.c). */
+/* The objective and its exact gradient in those parameters (iq_gradient.c,
+ * with or without a phase error). */
 static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
 {
     const qc_iq_design_request *q = d->req;
@@ -209,6 +211,8 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
                  ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
                  : qc_polar_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p);
     qc_dmc_free(ch);
+    if (st == QC_ENOMEM && d->fatal == QC_OK)
+        d->fatal = st;
     if (st != QC_OK || !isfinite(f))
         return BAD_POINT;
     if (f > d->best) {
@@ -254,8 +258,10 @@ static void bfgs_fdf(const gsl_vector *v, void *vctx, double *f, gsl_vector *g)
 }
 
 /* BFGS (GSL vector_bfgs2: Fletcher, Practical Methods of Optimization,
- * 2nd ed. 1987, the line search of §2.6) from z on the exact gradient;
- * *settled when the gradient vanishes or no step can improve. */
+ * 2nd ed. 1987, the line search of §2.6) from the result's cells on the
+ * exact gradient; *settled when the gradient vanishes, no step can
+ * improve, or STALL_ITERATIONS iterations together raise the best of all
+ * runs by less than STALL_GAIN_BITS. */
 static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling,
                                  int *settled)
 {
@@ -280,10 +286,17 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
     gsl_multimin_fdfminimizer_set(m, &fn, x, BFGS_STEP, BFGS_LINE_TOL);
     *settled = 0;
     int restarted = 0;
-    double history[STALL_ITERATIONS]; /* best objective at recent iterations */
+    /* the best objective of all runs at recent iterations: a restart that
+     * has not passed the best before it within STALL_ITERATIONS is given
+     * up (letting restarts run on their own progress instead cost 5 to
+     * 30 % more matrices on the designs of docs/methods.md §4d and found
+     * no better cells) */
+    double history[STALL_ITERATIONS];
     size_t iter = 0;
     while (d->evals < max_evals && !*settled && d->best < ceiling - QC_IQ_CEILING_GAP_BITS) {
         const int gs = gsl_multimin_fdfminimizer_iterate(m);
+        if (d->fatal != QC_OK)
+            break;
         if (d->evals >= max_evals)
             break; /* the cap cut this iteration short: what it saw is not a verdict */
         const size_t slot = iter++ % STALL_ITERATIONS;
@@ -308,7 +321,7 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
     }
     gsl_multimin_fdfminimizer_free(m);
     gsl_vector_free(x);
-    return QC_OK;
+    return d->fatal;
 }
 
 /* The objective of the cells with parameters v, evaluated and counted
@@ -320,6 +333,8 @@ static double trial_rate(design_ctx *d, const double *v)
     d->evals++;
     qc_status st;
     const double f = rate_of(d, &d->res->cells, NULL, &st);
+    if (st == QC_ENOMEM && d->fatal == QC_OK)
+        d->fatal = st;
     if (st != QC_OK || !isfinite(f))
         return -INFINITY;
     if (f > d->best) {
@@ -572,7 +587,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if ((st = alloc_result(q, res)) != QC_OK)
         return st;
     double z[2 * QC_IQ_MAX_CELLS], best_z[2 * QC_IQ_MAX_CELLS];
-    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0};
+    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0, QC_OK};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
     double f0 = rate_of(&d, &res->cells, NULL, &st);
@@ -596,9 +611,11 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     d.max_evals = max_evals;
     direct_pack(&d, best_z);
     for (int kick = 0; kick <= KICKS; kick++) {
-        if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)))
+        if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)) &&
+            d.fatal == QC_OK)
             continue;
-        if ((st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
+        if ((st = d.fatal) != QC_OK ||
+            (st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
             qc_iq_design_result_free(res);
             return st;
         }

@@ -113,8 +113,12 @@ static double density(const qc_phase_average *a, double phi)
 static int settled(const qc_phase_average *a, double *out, double *err)
 {
     double d = 0.0;
-    for (size_t c = 0; c < a->nvec; c++)
-        d = fmax(d, fabs(a->acc[c] - a->prev[c]));
+    for (size_t c = 0; c < a->nvec; c++) {
+        const double change = fabs(a->acc[c] - a->prev[c]);
+        if (isnan(change))
+            return 0; /* never settled: the caller refines or gives up */
+        d = fmax(d, change);
+    }
     if (!(d <= QC_IQ_QUAD_TOL))
         return 0;
     for (size_t c = 0; c < a->nvec; c++)
@@ -158,16 +162,14 @@ static qc_status panels_run(qc_phase_average *a, qc_phase_fn f, void *ctx, doubl
                    "%d panels", QC_IQ_QUAD_TOL, 1 << MAX_LEVEL);
 }
 
-/* The weight of the Gauss–Hermite node φ: 1 for a Gaussian error, the
- * Tikhonov law's density ratio to the Gaussian of the same sd else. */
-static double hermite_weight(const qc_phase_average *a, double phi)
+/* The Tikhonov law's weight at the Gauss–Hermite node φ of (scaled) rule
+ * weight w > 0, |φ| ≤ π: w times the density ratio, formed in logarithms,
+ * since at the outer nodes of large rules w underflows while the ratio
+ * alone would overflow (their product is about p(φ)·dφ). */
+static double tikhonov_node_weight(const qc_phase_average *a, double phi, double w)
 {
-    if (a->noise->phase_law != QC_PHASE_TIKHONOV)
-        return 1.0;
-    if (!(fabs(phi) <= M_PI))
-        return 0.0;
     const double h = sin(0.5 * phi);
-    return exp(a->log_ratio + a->kappa * (0.5 * phi * phi - 2.0 * h * h));
+    return exp(log(w) + a->log_ratio + a->kappa * (0.5 * phi * phi - 2.0 * h * h));
 }
 
 /* ∫ f(φ) p(φ) dφ into out (added), by Gauss–Hermite rules of 16, 32, …
@@ -180,6 +182,7 @@ static int hermite_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double *ou
                        double *err)
 {
     const double sd = a->noise->phase_sd;
+    const int tikhonov = a->noise->phase_law == QC_PHASE_TIKHONOV;
     for (int l = 0; l < GH_LEVELS; l++) {
         size_t n = (size_t)GH_FIRST << l;
         if (!a->rules[l] && !(a->rules[l] = gsl_integration_fixed_alloc(
@@ -190,9 +193,15 @@ static int hermite_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double *ou
         memset(a->acc, 0, a->nvec * sizeof *a->acc);
         for (size_t i = 0; i < n; i++) { /* φ = √2·sd·t, weight w/√π */
             const double wi = w[i] / M_SQRTPI, phi = M_SQRT2 * sd * t[i];
-            f(phi, hermite_weight(a, phi), ctx, a->val);
-            for (size_t c = 0; c < a->nvec; c++)
-                a->acc[c] += wi * a->val[c];
+            if (!tikhonov) {
+                f(phi, 1.0, ctx, a->val);
+                for (size_t c = 0; c < a->nvec; c++)
+                    a->acc[c] += wi * a->val[c];
+            } else if (wi > 0.0 && fabs(phi) <= M_PI) { /* else it adds 0 */
+                f(phi, tikhonov_node_weight(a, phi, wi), ctx, a->val);
+                for (size_t c = 0; c < a->nvec; c++)
+                    a->acc[c] += a->val[c];
+            }
         }
         if (l > 0 && settled(a, out, err))
             return 1;

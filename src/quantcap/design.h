@@ -317,7 +317,7 @@ typedef struct {
                                     design of a capacity alternation),
                                     QC_NOT_CONVERGED when the round cap
                                     stopped one; designed 2-D cells:
-                                    whether the simplex settled before its
+                                    whether the search settled before its
                                     evaluation cap; QC_CONVERGENCE_NONE
                                     else                                   */
     double design_residual;      /* Lloyd–Max: largest distance of a

@@ -9,9 +9,9 @@
  * differences, exact: the cheapest matrix of the same size), and the
  * I/Q pair with a 6° error (Gauss–Hermite rules over the error, the
  * Tikhonov law's through its density ratio to the Gaussian) and a 15°
- * Tikhonov error (composite Gauss–Legendre panels) for comparison. Also the whole design of the 64 polar cells (BFGS on the
- * exact gradient of the GMI, at most 4000 matrices) with the 6° Gaussian
- * error.
+ * Tikhonov error (composite Gauss–Legendre panels) for comparison. Also
+ * the whole design of the 64 polar cells (BFGS on the exact gradient of
+ * the GMI, at most 4000 matrices) with the 6° Gaussian error.
  * Then, for information, 16-QAM from 10 to 45 dB without phase error,
  * where points lie up to 337 σ from the origin: the polar matrix against
  * the I/Q pair's, and the design of 8 × 32 polar cells for the MI (BFGS

@@ -289,15 +289,17 @@ for law in ("gauss", "tikhonov"):
 # angular widths of the noise) and at 60 deg (8.3 widths: composite
 # Gauss-Legendre panels); the Tikhonov error (scipy.stats.vonmises.pdf,
 # kappa = 1/sd^2, over [-pi, pi]) at 12 deg (kappa 22.8: Gauss-Hermite
-# rules reweighted by its density ratio to the Gaussian) and at 20 deg
-# (kappa 8.2: panels).
-for law, sd_deg in (("gauss", 12.0), ("gauss", 60.0), ("tikhonov", 12.0),
-                    ("tikhonov", 20.0)):
+# rules reweighted by its density ratio to the Gaussian), at 20 deg
+# (kappa 8.2: panels), and at 3 deg with sigma 0.0354 (36 dB: a rule of
+# 1024 nodes, whose outer weights underflow where the ratio overflows).
+for law, sd_deg, sig_q in (("gauss", 12.0, 0.4), ("gauss", 60.0, 0.4),
+                           ("tikhonov", 12.0, 0.4), ("tikhonov", 20.0, 0.4),
+                           ("tikhonov", 3.0, 0.0354)):
     sd = math.radians(sd_deg)
     if (law, sd_deg) == ("gauss", 12.0):
         Mq_ref = Mq_gauss
     else:
-        r = iq("--alphabet", "qam:16", "--sigma", "0.4", "--thresholds", "-2,0,2",
+        r = iq("--alphabet", "qam:16", "--sigma", str(sig_q), "--thresholds", "-2,0,2",
                "--phase-noise-deg", str(sd_deg), "--phase-noise-law", law, "--matrix")
         Mq_ref = np.array(r["receivers"][0]["channel"])
     if law == "gauss":
@@ -312,13 +314,14 @@ for law, sd_deg in (("gauss", 12.0), ("gauss", 60.0), ("tikhonov", 12.0),
         def cell(phi):
             u = x0 * math.cos(phi) - y0 * math.sin(phi)
             v = x0 * math.sin(phi) + y0 * math.cos(phi)
-            return ((norm.cdf((e[a + 1] - u) / 0.4) - norm.cdf((e[a] - u) / 0.4)) *
-                    (norm.cdf((e[b + 1] - v) / 0.4) - norm.cdf((e[b] - v) / 0.4)) *
+            return ((norm.cdf((e[a + 1] - u) / sig_q) - norm.cdf((e[a] - u) / sig_q)) *
+                    (norm.cdf((e[b + 1] - v) / sig_q) - norm.cdf((e[b] - v) / sig_q)) *
                     density(phi))
-        v, _ = integrate.quad(cell, lo, hi, epsabs=1e-13, epsrel=1e-11, limit=1000)
+        v, _ = integrate.quad(cell, lo, hi, epsabs=1e-13, epsrel=1e-11, limit=1000,
+                              points=[0.0] if law == "tikhonov" else None)
         worst = max(worst, abs(v - Mq_ref[14][c]))
-    check(worst <= 1e-10, f"I/Q cells with a {sd_deg:g} deg {law} phase error against scipy "
-          f"quad: largest |diff| {worst:.2e}")
+    check(worst <= 1e-10, f"I/Q cells with a {sd_deg:g} deg {law} phase error (sigma {sig_q}) "
+          f"against scipy quad: largest |diff| {worst:.2e}")
 
 # A phase error of 0.01 deg: the Tikhonov law (kappa = 3.3e7) is then the
 # Gaussian one (von Mises tends to the normal law as kappa grows, Mardia and
