@@ -184,6 +184,38 @@ static void direct_pack(const design_ctx *d, double *v)
         v[na + p] = d->res->phases[p];
 }
 
+/* The objective of the cells with parameters v, evaluated and counted
+ * (the best kept; their matrix into *keep when keep is not NULL, for the
+ * caller to free); −∞ when they are invalid, cannot be rated, or the cap
+ * is reached (the cap holds even inside a line search). */
+static double evaluate(design_ctx *d, const double *v, qc_dmc **keep)
+{
+    if (d->evals >= d->max_evals || !direct_unpack(d, v))
+        return -INFINITY;
+    d->evals++;
+    qc_status st;
+    const double f = rate_of(d, &d->res->cells, keep, &st);
+    if (st == QC_ENOMEM && d->fatal == QC_OK)
+        d->fatal = st;
+    if (st != QC_OK || !isfinite(f))
+        return -INFINITY;
+    if (f > d->best) {
+        d->best = f;
+        memcpy(d->best_z, v, direct_count(d->req) * sizeof *v);
+    }
+    return f;
+}
+
+/* v with the boundaries v[first .. first + n − 1] replaced by the n − 1
+ * in w and one more at `at` in place g, into trial. */
+static void with_boundary(const design_ctx *d, const double *v, size_t first, size_t n,
+                          const double *w, size_t g, double at, double *trial)
+{
+    memcpy(trial, v, direct_count(d->req) * sizeof *trial);
+    for (size_t i = 0, k = 0; i < n; i++)
+        trial[first + i] = i == g ? at : w[k++];
+}
+
 /* The objective and its exact gradient in those parameters (iq_gradient.c,
  * with or without a phase error). */
 static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
@@ -193,32 +225,25 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     double z[2 * QC_IQ_MAX_CELLS];
     if (g)
         gsl_vector_set_zero(g);
-    if (d->evals >= d->max_evals) /* the cap, even inside a line search */
-        return BAD_POINT;
     for (size_t i = 0; i < nv; i++)
         z[i] = gsl_vector_get(v, i);
-    if (!direct_unpack(d, z))
-        return BAD_POINT;
-    d->evals++;
     qc_dmc *ch = NULL;
-    qc_status st;
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
     const qc_iq_cells *cells = &d->res->cells;
-    const double f = rate_of(d, cells, g ? &ch : NULL, &st);
-    if (st == QC_OK && g)
+    const double f = evaluate(d, z, g ? &ch : NULL);
+    if (!isfinite(f))
+        return BAD_POINT;
+    qc_status st = QC_OK;
+    if (g)
         st = q->kind == QC_IQ_PRODUCT
                  ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
                  : qc_polar_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p);
     qc_dmc_free(ch);
     if (st == QC_ENOMEM && d->fatal == QC_OK)
         d->fatal = st;
-    if (st != QC_OK || !isfinite(f))
+    if (st != QC_OK)
         return BAD_POINT;
-    if (f > d->best) {
-        d->best = f;
-        memcpy(d->best_z, z, nv * sizeof *z);
-    }
     /* the search minimizes log(H(X) − f): near the ceiling the gap is a
      * tail mass spanning decades, which the logarithm keeps well scaled */
     const double gap = fmax(d->ceiling - f, GAP_FLOOR_BITS);
@@ -324,26 +349,6 @@ static qc_status gradient_search(design_ctx *d, size_t max_evals, double ceiling
     return d->fatal;
 }
 
-/* The objective of the cells with parameters v, evaluated and counted
- * (the best kept); −∞ when they are invalid or the cap is reached. */
-static double trial_rate(design_ctx *d, const double *v)
-{
-    if (d->evals >= d->max_evals || !direct_unpack(d, v))
-        return -INFINITY;
-    d->evals++;
-    qc_status st;
-    const double f = rate_of(d, &d->res->cells, NULL, &st);
-    if (st == QC_ENOMEM && d->fatal == QC_OK)
-        d->fatal = st;
-    if (st != QC_OK || !isfinite(f))
-        return -INFINITY;
-    if (f > d->best) {
-        d->best = f;
-        memcpy(d->best_z, v, direct_count(d->req) * sizeof *v);
-    }
-    return f;
-}
-
 /* Relocation of one boundary among v[first .. first + n − 1] (increasing;
  * radii above 0 when `radial`), as in the enhanced LBG algorithm (Patanè
  * and Russo, Neural Networks 14(9), 2001): the boundary closest to
@@ -356,7 +361,6 @@ static double trial_rate(design_ctx *d, const double *v)
  * valid. */
 static int relocate(design_ctx *d, const double *v, size_t first, size_t n, int radial)
 {
-    const size_t nv = direct_count(d->req);
     if (n < 2)
         return 0;
     const double *t = v + first;
@@ -384,18 +388,14 @@ static int relocate(design_ctx *d, const double *v, size_t first, size_t n, int 
         const double at = g == 0   ? (radial ? 0.5 * w[0] : w[0] - mean_gap)
                           : g == m ? w[m - 1] + mean_gap
                                    : 0.5 * (w[g - 1] + w[g]);
-        memcpy(trial, v, nv * sizeof *trial);
-        for (size_t i = 0, k = 0; i < n; i++)
-            trial[first + i] = i == g ? at : w[k++];
-        const double f = trial_rate(d, trial);
+        with_boundary(d, v, first, n, w, g, at, trial);
+        const double f = evaluate(d, trial, NULL);
         if (f > best)
             best = f, best_g = g, best_at = at;
     }
     if (!isfinite(best))
         return 0;
-    memcpy(trial, v, nv * sizeof *trial);
-    for (size_t i = 0, k = 0; i < n; i++)
-        trial[first + i] = i == best_g ? best_at : w[k++];
+    with_boundary(d, v, first, n, w, best_g, best_at, trial);
     return direct_unpack(d, trial);
 }
 
