@@ -61,7 +61,54 @@ static void weights(const qc_isi_channel *ch, const double *lik, const qc_isi_tr
         emax = e > emax ? e : emax;
     }
     for (size_t j = 0; j < T; j++)
-        w[j] = exp(w[j] - emax);
+        w[j] -= emax;
+    qc_exp_array(w, w, T);
+}
+
+/* The windows' posteriors up to a factor, gam[t] = α(t / M)·w(t)·β(t mod S)
+ * for t < T = M·S; returns their sum, added in the order of t. With S a
+ * multiple of M (two taps or more), t = hi·S + u·M + x has t / M =
+ * hi·S/M + u and t mod S = u·M + x, so no index is divided. */
+static double window_posterior(const double *al, const double *w, const double *beta,
+                               size_t S, size_t M, double *gam)
+{
+    double z = 0.0;
+    if (S % M != 0) {
+        for (size_t t = 0; t < M * S; t++) {
+            gam[t] = al[t / M] * w[t] * beta[t % S];
+            z += gam[t];
+        }
+        return z;
+    }
+    for (size_t hi = 0, t = 0; hi < M; hi++) {
+        const double *ah = al + hi * (S / M);
+        for (size_t u = 0; u < S / M; u++)
+            for (size_t x = 0; x < M; x++, t++) {
+                gam[t] = ah[u] * w[t] * beta[u * M + x];
+                z += gam[t];
+            }
+    }
+    return z;
+}
+
+/* β_k(s) ∝ Σ_{t: t / M = s} w_k(t)·β_{k+1}(t mod S), unnormalized, the
+ * terms of each s added in the order of t (indices as above). */
+static void backward_step(const double *w, const double *beta, size_t S, size_t M,
+                          double *next)
+{
+    for (size_t s = 0; s < S; s++)
+        next[s] = 0.0;
+    if (S % M != 0) {
+        for (size_t t = 0; t < M * S; t++)
+            next[t / M] += w[t] * beta[t % S];
+        return;
+    }
+    for (size_t hi = 0, t = 0; hi < M; hi++) {
+        double *nh = next + hi * (S / M);
+        for (size_t u = 0; u < S / M; u++)
+            for (size_t x = 0; x < M; x++, t++)
+                nh[u] += w[t] * beta[u * M + x];
+    }
 }
 
 int qc_isi_bcjr(const qc_isi_channel *ch, const double *lik, const qc_isi_trace *tr,
@@ -119,19 +166,15 @@ int qc_isi_bcjr(const qc_isi_channel *ch, const double *lik, const qc_isi_trace 
             const double *al = aseg + (k - k0) * S, *w = wseg + (k - k0) * T;
             if (k >= tr->first && k < tr->first + tr->count) {
                 /* posterior of the window, then of the symbol x_k */
-                double z = 0.0;
-                for (size_t t = 0; t < T; t++) {
-                    gam[t] = al[t / M] * w[t] * beta[t % S];
-                    z += gam[t];
-                }
+                const double z = window_posterior(al, w, beta, S, M, gam);
                 if (!(z > 0.0) || !isfinite(z)) {
                     rc = 1;
                     goto done;
                 }
                 for (size_t x = 0; x < M; x++)
                     px[x] = 0.0;
-                for (size_t t = 0; t < T; t++)
-                    px[t % M] += gam[t] / z;
+                for (size_t t = 0, x = 0; t < T; t++, x = x + 1 == M ? 0 : x + 1)
+                    px[x] += gam[t] / z; /* x = t mod M */
                 size_t xhat = 0;
                 for (size_t x = 1; x < M; x++)
                     if (px[x] > px[xhat])
@@ -158,10 +201,7 @@ int qc_isi_bcjr(const qc_isi_channel *ch, const double *lik, const qc_isi_trace 
                 }
             }
             /* β_k(s) ∝ Σ_{t: t / M = s} w_k(t)·β_{k+1}(t mod S) */
-            for (size_t s = 0; s < S; s++)
-                next[s] = 0.0;
-            for (size_t t = 0; t < T; t++)
-                next[t / M] += w[t] * beta[t % S];
+            backward_step(w, beta, S, M, next);
             double sum = 0.0;
             for (size_t s = 0; s < S; s++)
                 sum += next[s];

@@ -108,7 +108,8 @@ static int unquantized_step(const qc_isi_channel *ch, batch_ws *b, double emax, 
                             size_t x, int counted, double *sum_u)
 {
     for (size_t j = 0; j < ch->T; j++)
-        b->wu[j] = exp(b->eu[j] - emax);
+        b->wu[j] = b->eu[j] - emax;
+    qc_exp_array(b->wu, b->wu, ch->T);
     const double lam_u = advance(ch, &b->au, &b->nu, b->wu);
     if (!(lam_u > 0.0))
         return 0;
@@ -291,8 +292,8 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
                        req->symbols, B * QC_ISI_MIN_BATCH, B, QC_ISI_MIN_BATCH);
     if ((st = qc_isi_channel_build(req, &ch)) != QC_OK)
         return st;
-    if (req->labels && !ch->coherent && (st = qc_check_labels(ch->law, ch->M, req->labels, req->label_bits)) !=
-                           QC_OK) {
+    if (req->labels && !ch->coherent &&
+        (st = qc_check_labels(ch->law, ch->M, req->labels, req->label_bits)) != QC_OK) {
         qc_isi_channel_free(ch);
         return st;
     }

@@ -45,8 +45,13 @@ double qc_log1p_ratio(double a, double b);
 
 /* out[i] = log in[i] where in[i] > 0, `floor` where in[i] = 0 (in ≥ 0,
  * finite): glibc's vector logarithm (libmvec, below 4 ulp) on normal
- * numbers where the build has it, log(3) on the rest (vlog.c). */
+ * numbers where the build has it, log(3) on the rest (vmath.c). */
 void qc_log_floored(const double *in, double *out, size_t n, double floor);
+
+/* out[i] = exp in[i] (out may be in): glibc's vector exponential
+ * (libmvec, below 4 ulp) where the result is a normal number or rounds
+ * to 0 and the build has it, exp(3) on the rest (vmath.c). */
+void qc_exp_array(const double *in, double *out, size_t n);
 
 /* The whole file at `path` into *buf (owned by the caller; *len bytes,
  * not terminated). Files beyond max_bytes are QC_EFORMAT, "file larger
