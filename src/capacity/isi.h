@@ -50,6 +50,12 @@ qc_status qc_isi_symbolwise_dmc(const qc_isi_channel *ch, qc_dmc **out);
 double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
                            double *next);
 
+/* The same step with branch weights w[t]·w2[t] (the product formed
+ * first): a coherent link's I and Q cell probabilities; w2 = NULL is
+ * qc_isi_forward_step. */
+double qc_isi_forward_step_pair(const qc_isi_channel *ch, const double *a, const double *w,
+                                const double *w2, double *next);
+
 /* One simulated batch, as the detector needs it: for symbol k the
  * continuous output y[k], its cell among the thresholds and the true
  * window; the figures count symbols first .. first + count − 1 (the

@@ -510,14 +510,22 @@ qc_status qc_isi_symbolwise_rate(const qc_isi_request *req, double *bits)
 
 /* next[s] = a[s / M]·w[s] (first) or next[s] += a[s / M]·w[s], for
  * s < S with S a multiple of M: each a[u] weighs the M branches
- * u·M .. u·M + M − 1 in a row. Called with a constant M, the inner loop
- * is unrolled and vectorized. */
+ * u·M .. u·M + M − 1 in a row. With w2, the branch weight is the product
+ * w[s]·w2[s] (formed first, then times a). Called with a constant M, the
+ * inner loops are unrolled and vectorized. */
 static inline void branch_block(const double *restrict a, const double *restrict w,
-                                double *restrict next, size_t S, size_t M, int first)
+                                const double *restrict w2, double *restrict next, size_t S,
+                                size_t M, int first)
 {
     for (size_t u = 0, s = 0; s < S; u++, s += M) {
         const double au = a[u];
-        if (first)
+        if (w2 && first)
+            for (size_t x = 0; x < M; x++)
+                next[s + x] = au * (w[s + x] * w2[s + x]);
+        else if (w2)
+            for (size_t x = 0; x < M; x++)
+                next[s + x] += au * (w[s + x] * w2[s + x]);
+        else if (first)
             for (size_t x = 0; x < M; x++)
                 next[s + x] = au * w[s + x];
         else
@@ -526,25 +534,31 @@ static inline void branch_block(const double *restrict a, const double *restrict
     }
 }
 
-static void branch_block_any(const double *a, const double *w, double *next, size_t S,
-                             size_t M, int first)
+static void branch_block_any(const double *a, const double *w, const double *w2,
+                             double *next, size_t S, size_t M, int first)
 {
     switch (M) {
     case 2:
-        branch_block(a, w, next, S, 2, first);
+        branch_block(a, w, w2, next, S, 2, first);
         break;
     case 4:
-        branch_block(a, w, next, S, 4, first);
+        branch_block(a, w, w2, next, S, 4, first);
         break;
     case 8:
-        branch_block(a, w, next, S, 8, first);
+        branch_block(a, w, w2, next, S, 8, first);
         break;
     case 16:
-        branch_block(a, w, next, S, 16, first);
+        branch_block(a, w, w2, next, S, 16, first);
         break;
     default:
-        branch_block(a, w, next, S, M, first);
+        branch_block(a, w, w2, next, S, M, first);
     }
+}
+
+/* The weight of branch t: w[t], or w[t]·w2[t]. */
+static inline double branch_weight(const double *w, const double *w2, size_t t)
+{
+    return w2 ? w[t] * w2[t] : w[t];
 }
 
 /* One step of the forward recursion (declared in capacity/isi.h). The
@@ -552,24 +566,21 @@ static void branch_block_any(const double *a, const double *w, double *next, siz
  * multiple of M (two taps or more) that is hi·S/M + s/M, so the states
  * are read in order, each for M windows in a row, rather than gathered.
  * The sums are formed in the same order either way. */
-double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
-                           double *next)
+static double forward_step(const qc_isi_channel *ch, const double *a, const double *w,
+                           const double *w2, double *next)
 {
     const size_t S = ch->S, M = ch->M;
     if (S % M == 0) {
         for (size_t hi = 0; hi < M; hi++)
-            branch_block_any(a + hi * (S / M), w + hi * S, next, S, M, hi == 0);
+            branch_block_any(a + hi * (S / M), w + hi * S, w2 ? w2 + hi * S : NULL, next, S,
+                             M, hi == 0);
     } else {
         const uint32_t *src = ch->src;
         for (size_t s = 0; s < S; s++)
-            next[s] = a[src[s]] * w[s];
-        for (size_t hi = 1; hi < M; hi++) {
-            const size_t base = hi * S;
-            const uint32_t *sb = src + base;
-            const double *wb = w + base;
-            for (size_t s = 0; s < S; s++)
-                next[s] += a[sb[s]] * wb[s];
-        }
+            next[s] = a[src[s]] * branch_weight(w, w2, s);
+        for (size_t hi = 1; hi < M; hi++)
+            for (size_t s = 0, t = hi * S; s < S; s++, t++)
+                next[s] += a[src[t]] * branch_weight(w, w2, t);
     }
     /* the sum in four fixed lanes (states s ≡ 0, 1, 2, 3 mod 4), which
      * keep four additions in flight */
@@ -587,4 +598,16 @@ double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const doub
             next[s] *= inv;
     }
     return lambda;
+}
+
+double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const double *w,
+                           double *next)
+{
+    return forward_step(ch, a, w, NULL, next);
+}
+
+double qc_isi_forward_step_pair(const qc_isi_channel *ch, const double *a, const double *w,
+                                const double *w2, double *next)
+{
+    return forward_step(ch, a, w, w2, next);
 }

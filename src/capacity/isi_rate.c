@@ -63,7 +63,6 @@ typedef struct {
                                   aq/nq and au/nu swap at every step      */
     double *aq, *nq, *au, *nu; /* forward messages (S each)               */
     double *wu, *eu;           /* unquantized weights and exponents (T)   */
-    double *wq;                /* coherent quantized weights (T)          */
     gsl_rng *rng;
     double est_q, est_u;       /* the batch's estimates, nats             */
     int failed;                /* a step's likelihood vanished (1), out of
@@ -88,11 +87,13 @@ static size_t cell_of(const double *thr, size_t n, double y)
     return lo;
 }
 
-/* One step of the forward recursion from the weights w: the messages
- * advance (*a and *next swap); returns the step's normaliser λ. */
-static double advance(const qc_isi_channel *ch, double **a, double **next, const double *w)
+/* One step of the forward recursion from the weights w (times w2 unless
+ * NULL): the messages advance (*a and *next swap); returns the step's
+ * normaliser λ. */
+static double advance(const qc_isi_channel *ch, double **a, double **next, const double *w,
+                      const double *w2)
 {
-    const double lambda = qc_isi_forward_step(ch, *a, w, *next);
+    const double lambda = qc_isi_forward_step_pair(ch, *a, w, w2, *next);
     double *tmp = *a;
     *a = *next;
     *next = tmp;
@@ -110,7 +111,7 @@ static int unquantized_step(const qc_isi_channel *ch, batch_ws *b, double emax, 
     for (size_t j = 0; j < ch->T; j++)
         b->wu[j] = b->eu[j] - emax;
     qc_exp_array(b->wu, b->wu, ch->T);
-    const double lam_u = advance(ch, &b->au, &b->nu, b->wu);
+    const double lam_u = advance(ch, &b->au, &b->nu, b->wu, NULL);
     if (!(lam_u > 0.0))
         return 0;
     if (counted)
@@ -165,7 +166,7 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
             b->twin[k] = (uint32_t)t;
         }
         /* quantized */
-        const double lam_q = advance(ch, &b->aq, &b->nq, lik + c * T);
+        const double lam_q = advance(ch, &b->aq, &b->nq, lik + c * T, NULL);
         const double ptrue = pq[t * K + c];
         if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
             b->failed = 1;
@@ -229,11 +230,8 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
         const double yq = ch->mean_q[t] + ch->sd_q[t] * zq;
         const size_t ci = cell_of(ch->thresholds, K - 1, yi);
         const size_t cq = cell_of(ch->thresholds, K - 1, yq);
-        /* quantized: the joint cell's weights */
-        const double *li = lik + ci * T, *lq = pq_t + cq * T;
-        for (size_t j = 0; j < T; j++)
-            b->wq[j] = li[j] * lq[j];
-        const double lam_q = advance(ch, &b->aq, &b->nq, b->wq);
+        /* quantized: the joint cell's weights, li·lq */
+        const double lam_q = advance(ch, &b->aq, &b->nq, lik + ci * T, pq_t + cq * T);
         const double ptrue = pi[t * K + ci] * pq[t * K + cq];
         if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
             b->failed = 1;
@@ -345,7 +343,7 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
                 lik_q[y * T + t] = ch->window_dmc_q->p[t * K + y];
     }
     for (size_t b = 0; b < B; b++) {
-        ws[b].aq = ws[b].buf = qc_malloc_array(4 * S + 3 * T, sizeof(double));
+        ws[b].aq = ws[b].buf = qc_malloc_array(4 * S + 2 * T, sizeof(double));
         ws[b].rng = gsl_rng_alloc(gsl_rng_mt19937);
         if (!ws[b].aq || !ws[b].rng) {
             st = qc_fail(QC_ENOMEM, "out of memory");
@@ -356,7 +354,6 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         ws[b].nu = ws[b].aq + 3 * S;
         ws[b].wu = ws[b].aq + 4 * S;
         ws[b].eu = ws[b].aq + 4 * S + T;
-        ws[b].wq = ws[b].aq + 4 * S + 2 * T;
         gsl_rng_set(ws[b].rng, (unsigned long)splitmix64(req->seed ^ splitmix64(b + 1)));
         if (detect) {
             const size_t n = 2 * warmup + count;

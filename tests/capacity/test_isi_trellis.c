@@ -1,5 +1,6 @@
 /* test_isi_trellis.c — the index arithmetic of the trellis of a channel
- * with memory: the forward step (isi_channel.c) and the detector's window
+ * with memory: the forward step (isi_channel.c; one weight per branch or
+ * the product of two, as a coherent link has) and the detector's window
  * posteriors and backward step (isi_bcjr.c) read states in runs instead
  * of dividing indices, and must give the same bits as the sums written
  * with t / M and t mod S, for alphabets of 2 to 5 symbols (3 and 5 are
@@ -84,6 +85,21 @@ static void test_runs_match_indexed_sums(void **state)
             for (size_t s = 0; s < S; s++)
                 want[s] *= 1.0 / lambda;
             expect_same_bits(got, want, S, "forward step", M, ntaps);
+
+            /* the same with branch weights w·w2 (a coherent link's I and Q) */
+            double *w2 = malloc(T * sizeof *w2);
+            assert_non_null(w2);
+            fill(w2, T);
+            const double lambda2 = qc_isi_forward_step_pair(ch, a, w, w2, got);
+            for (size_t s = 0; s < S; s++) {
+                want[s] = a[s / M] * (w[s] * w2[s]);
+                for (size_t hi = 1; hi < M; hi++)
+                    want[s] += a[(s + hi * S) / M] * (w[s + hi * S] * w2[s + hi * S]);
+            }
+            for (size_t s = 0; s < S; s++)
+                want[s] *= 1.0 / lambda2;
+            expect_same_bits(got, want, S, "forward step with two weights", M, ntaps);
+            free(w2);
 
             /* the windows' posteriors and their sum, in the order of t */
             const double z = window_posterior(a, w, beta, S, M, got);
