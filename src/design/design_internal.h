@@ -127,10 +127,11 @@ void qc_polar_series_free(qc_polar_series *w);
 /* Row of point (x, y): P(ring a, sector p) at row[a·P + p], not yet
  * normalized; *err raised to the bound on how much the last doubling of
  * the series moved any cell (direct quadrature: its error estimate).
+ * With rays not NULL, also what qc_polar_rays gives, from the same series.
  * QC_ENOCONV if 2^22 angles do not settle it (with a phase error) or the
  * quadrature does not reach its tolerance; QC_ENOMEM. */
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
-                       double sigma, double *row, double *err);
+                       double sigma, double *row, double *err, double *rays);
 /* The density of point (x, y) integrated along each sector start across
  * each ring, rays[a·P + p] = ∫ f(r, α_p) r dr over ring a, with the phase
  * error (a Fourier series convolved with its law; without a phase error,
@@ -174,15 +175,24 @@ qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size
 /* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
  * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */
 void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out);
+/* iq_channel.c: qc_iq_channel, and for polar cells each point's
+ * sector-start densities (qc_polar_rays) from the same series into
+ * rays[x·ny + a·P + p] (ny cells per point; rays may be NULL). */
+qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
+                             const qc_iq_cells *q, qc_dmc **out, double *quad_err,
+                             double *rays);
 
 /* iq_gradient.c: the gradient of the MI (gmi = 0) or the BICM GMI
  * (gmi = 1, in bits) of the polar cells q in the noise (with or without a
  * phase error), given their matrix ch (qc_iq_channel), with respect to
  * the radii (g_radii, q->nradii values) and the sector starts (g_phases,
- * q->nphases values, per radian). QC_EINVAL if ch does not match;
- * QC_ENOCONV; QC_ENOMEM. */
+ * q->nphases values, per radian). Under a phase error, rays (not NULL)
+ * holds every point's sector-start densities as qc_iq_channel_rays left
+ * them; NULL: computed here. QC_EINVAL if ch does not match; QC_ENOCONV;
+ * QC_ENOMEM. */
 qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
-                            const qc_dmc *ch, int gmi, double *g_radii, double *g_phases);
+                            const qc_dmc *ch, const double *rays, int gmi, double *g_radii,
+                            double *g_phases);
 /* The same for the I/Q pair's cells q: in the in-phase thresholds (g_i,
  * q->nti values) and the quadrature thresholds (g_q, q->ntq values). */
 qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,

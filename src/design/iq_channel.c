@@ -163,6 +163,13 @@ static void rotated_row(double phi, double weight, void *vctx, double *out)
 qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
                         qc_dmc **out, double *quad_err)
 {
+    return qc_iq_channel_rays(c, noise, q, out, quad_err, NULL);
+}
+
+qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
+                             const qc_iq_cells *q, qc_dmc **out, double *quad_err,
+                             double *rays)
+{
     *out = NULL;
     qc_gsl_init(); /* GSL reports errors by status, never aborts */
     if (!c || !noise || !q)
@@ -206,7 +213,8 @@ qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq
             st = qc_phase_average_run(pa, hypot(c->x[i], c->y[i]), noise->sigma, k,
                                       rotated_row, &pc, row, &err);
         } else {
-            st = qc_polar_row(ps, q, c->x[i], c->y[i], noise->sigma, row, &err);
+            st = qc_polar_row(ps, q, c->x[i], c->y[i], noise->sigma, row, &err,
+                              rays ? rays + i * k : NULL);
         }
         if (st == QC_OK) {
             /* rounding can leave a sum 1 ± 1e-15 and tiny negatives */

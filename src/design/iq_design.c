@@ -56,6 +56,9 @@ typedef struct {
     size_t max_evals; /* gradient search: evaluations allowed */
     qc_status fatal;  /* the first failure no other cells can avoid (out of
                          memory); others only make a point unusable      */
+    double *rays;     /* polar cells under a phase error: the sector-start
+                         densities of the last matrix kept for a gradient
+                         (from its series); NULL otherwise               */
 } design_ctx;
 
 /* The objective of the cells; their matrix into *keep when keep is not
@@ -64,7 +67,7 @@ static double rate_of(const design_ctx *d, const qc_iq_cells *cells, qc_dmc **ke
                       qc_status *st)
 {
     qc_dmc *ch = NULL;
-    *st = qc_iq_channel(d->c, d->noise, cells, &ch, NULL);
+    *st = qc_iq_channel_rays(d->c, d->noise, cells, &ch, NULL, keep ? d->rays : NULL);
     if (*st != QC_OK)
         return NAN;
     qc_iq_rates r;
@@ -238,7 +241,7 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     if (g)
         st = q->kind == QC_IQ_PRODUCT
                  ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
-                 : qc_polar_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p);
+                 : qc_polar_gradient(d->c, d->noise, cells, ch, d->rays, gmi, g_r, g_p);
     qc_dmc_free(ch);
     if (st == QC_ENOMEM && d->fatal == QC_OK)
         d->fatal = st;
@@ -587,7 +590,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if ((st = alloc_result(q, res)) != QC_OK)
         return st;
     double z[2 * QC_IQ_MAX_CELLS], best_z[2 * QC_IQ_MAX_CELLS];
-    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0, QC_OK};
+    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0, QC_OK, NULL};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
     double f0 = rate_of(&d, &res->cells, NULL, &st);
@@ -610,18 +613,27 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     int settled = 0;
     d.max_evals = max_evals;
     direct_pack(&d, best_z);
+    if (q->kind == QC_IQ_POLAR && noise->phase_sd > 0.0) {
+        d.rays = qc_malloc_array(c->size * qc_iq_cell_count(&res->cells), sizeof *d.rays);
+        if (!d.rays) {
+            qc_iq_design_result_free(res);
+            return qc_fail(QC_ENOMEM, "out of memory");
+        }
+    }
     for (int kick = 0; kick <= KICKS; kick++) {
         if (kick > 0 && (d.best >= ceiling - QC_IQ_CEILING_GAP_BITS || !kick_cells(&d, kick)) &&
             d.fatal == QC_OK)
             continue;
         if ((st = d.fatal) != QC_OK ||
             (st = gradient_search(&d, max_evals, ceiling, &settled)) != QC_OK) {
+            free(d.rays);
             qc_iq_design_result_free(res);
             return st;
         }
         if (!settled)
             break; /* the cap */
     }
+    free(d.rays);
     res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;
     res->converged = settled || res->at_ceiling || d.evals < max_evals;
     (void)direct_unpack(&d, best_z); /* evaluated, so valid */

@@ -186,7 +186,8 @@ static size_t longest_series(const qc_plane *c, double sigma, const qc_iq_cells 
 }
 
 qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
-                            const qc_dmc *ch, int gmi, double *g_radii, double *g_phases)
+                            const qc_dmc *ch, const double *rays_all, int gmi, double *g_radii,
+                            double *g_phases)
 {
     const size_t nx = c->size, rings = q->nradii + 1, np = q->nphases, ny = rings * np;
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
@@ -239,15 +240,19 @@ qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const q
         }
         if (np < 2)
             continue;
-        /* sector start p: mass from sector p into sector p − 1 as it grows */
-        if (with_pn && (st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays)) != QC_OK)
+        /* sector start p: mass from sector p into sector p − 1 as it grows
+         * (under a phase error the densities from the matrix's series,
+         * else computed again) */
+        const double *rx = rays_all ? rays_all + x * ny : rays;
+        if (with_pn && !rays_all &&
+            (st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays)) != QC_OK)
             goto done;
         for (size_t a = 0; a < rings; a++) {
             const double r0 = a == 0 ? 0.0 : q->radii[a - 1];
             const double r1 = a + 1 < rings ? q->radii[a] : INFINITY;
             for (size_t p = 0; p < np; p++) {
                 const double ray =
-                    with_pn ? rays[a * np + p] : qc_polar_ray_mass(s, sigma, r0, r1, rel[p]);
+                    with_pn ? rx[a * np + p] : qc_polar_ray_mass(s, sigma, r0, r1, rel[p]);
                 const size_t prev = p == 0 ? np - 1 : p - 1;
                 g_phases[p] += ray * (sx[a * np + prev] - sx[a * np + p]);
             }

@@ -536,8 +536,13 @@ static qc_status settle(qc_polar_series *w, const qc_iq_cells *q, double s, doub
                    "within %g with %d angles", QC_IQ_QUAD_TOL, 1 << MAX_LOG2);
 }
 
+/* The densities along the sector starts once settle has run: from the
+ * series, or (direct) each ring's closed form. */
+static void rays_settled(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,
+                         double sigma, size_t N, int direct, double *rays);
+
 qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
-                       double sigma, double *row, double *err)
+                       double sigma, double *row, double *err, double *rays)
 {
     const double s = hypot(x, y), theta = atan2(y, x);
     size_t N = 0;
@@ -546,9 +551,12 @@ qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, doubl
     if (st != QC_OK)
         return st;
     if (direct)
-        return direct_row(w, q, s, theta, sigma, row, err);
-    series_cells(w, q, theta, N, row);
-    return QC_OK;
+        st = direct_row(w, q, s, theta, sigma, row, err);
+    else
+        series_cells(w, q, theta, N, row);
+    if (st == QC_OK && rays)
+        rays_settled(w, q, s, theta, sigma, N, direct, rays);
+    return st;
 }
 
 /* The densities along the sector starts from the series at N angles (in
@@ -572,20 +580,13 @@ static void series_rays(qc_polar_series *w, const qc_iq_cells *q, double theta, 
     }
 }
 
-qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
-                        double sigma, double *rays)
+static void rays_settled(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,
+                         double sigma, size_t N, int direct, double *rays)
 {
-    const double s = hypot(x, y), theta = atan2(y, x);
     const size_t rings = q->nradii + 1, sectors = q->nphases;
-    size_t N = 0;
-    int direct = 0;
-    double err = 0.0;
-    qc_status st = settle(w, q, s, sigma, &N, &direct, &err);
-    if (st != QC_OK)
-        return st;
     if (!direct) {
         series_rays(w, q, theta, N, rays);
-        return QC_OK;
+        return;
     }
     for (size_t a = 0; a < rings; a++)
         for (size_t p = 0; p < sectors; p++) {
@@ -595,7 +596,19 @@ qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, doub
                 qc_polar_ray_mass(s, sigma, a == 0 ? 0.0 : q->radii[a - 1],
                                   a + 1 < rings ? q->radii[a] : INFINITY, lo);
         }
-    return QC_OK;
+}
+
+qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                        double sigma, double *rays)
+{
+    const double s = hypot(x, y), theta = atan2(y, x);
+    size_t N = 0;
+    int direct = 0;
+    double err = 0.0;
+    qc_status st = settle(w, q, s, sigma, &N, &direct, &err);
+    if (st == QC_OK)
+        rays_settled(w, q, s, theta, sigma, N, direct, rays);
+    return st;
 }
 
 qc_status qc_polar_phase_law(qc_polar_series *w, size_t n, const double **ck, size_t *kcut)

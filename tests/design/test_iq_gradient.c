@@ -77,9 +77,22 @@ static void check_phase_case(const char *spec, double snr_db, double pn_deg, qc_
     qc_iq_cells q = {.kind = QC_IQ_POLAR, .radii = rad, .nradii = nr, .phases = ph,
                      .nphases = np};
     for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) { /* GMI where labels came */
-        qc_dmc *ch = NULL;
+        qc_dmc *ch = NULL, *ch_rays = NULL;
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
-        assert_int_equal(qc_polar_gradient(c, &noise, &q, ch, gmi, g_r, g_p), QC_OK);
+        assert_int_equal(qc_polar_gradient(c, &noise, &q, ch, NULL, gmi, g_r, g_p), QC_OK);
+        /* the same matrix and gradient with the sector-start densities
+         * taken from the matrix's own series */
+        const size_t ny = qc_iq_cell_count(&q);
+        double *rays = malloc(c->size * ny * sizeof *rays), g_r2[16], g_p2[64];
+        assert_non_null(rays);
+        assert_int_equal(qc_iq_channel_rays(c, &noise, &q, &ch_rays, NULL, rays), QC_OK);
+        assert_memory_equal(ch_rays->p, ch->p, c->size * ny * sizeof *ch->p);
+        assert_int_equal(qc_polar_gradient(c, &noise, &q, ch_rays, rays, gmi, g_r2, g_p2),
+                         QC_OK);
+        assert_memory_equal(g_r2, g_r, nr * sizeof *g_r);
+        assert_memory_equal(g_p2, g_p, np * sizeof *g_p);
+        free(rays);
+        qc_dmc_free(ch_rays);
         qc_dmc_free(ch);
         char what[96];
         snprintf(what, sizeof what, "%s at %g dB, %g deg, radius", spec, snr_db, pn_deg);
