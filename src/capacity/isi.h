@@ -31,7 +31,6 @@ typedef struct {
     double *mean, *sd;      /* the Gaussian output law of each window (T)    */
     double *inv_sd;         /* 1 / sd (T)                                    */
     double *log_weight;     /* log p(x_k) − log sd of each window (T)        */
-    uint32_t *src;          /* t / M (T)                                     */
     qc_dmc *window_dmc;     /* T × K cell probabilities (NULL: no thresholds)*/
 } qc_isi_channel;
 

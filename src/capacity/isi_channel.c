@@ -193,7 +193,6 @@ void qc_isi_channel_free(qc_isi_channel *ch)
     free(ch->sd);
     free(ch->inv_sd);
     free(ch->log_weight);
-    free(ch->src);
     free(ch->sym_re);
     free(ch->sym_im);
     free(ch->tap_re);
@@ -300,12 +299,11 @@ qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out)
     ch->noiseless = qc_malloc_array(T, sizeof *ch->noiseless);
     ch->mean = qc_malloc_array(T, sizeof *ch->mean);
     ch->sd = qc_malloc_array(T, sizeof *ch->sd);
-    ch->src = qc_malloc_array(T, sizeof *ch->src);
     ch->inv_sd = qc_malloc_array(T, sizeof *ch->inv_sd);
     ch->log_weight = qc_malloc_array(T, sizeof *ch->log_weight);
     double *noiseless_q = NULL;
     if (!ch->inv_sd || !ch->log_weight || !ch->law || !ch->logp || !ch->state_prior ||
-        !ch->noiseless || !ch->mean || !ch->sd || !ch->src) {
+        !ch->noiseless || !ch->mean || !ch->sd) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto fail;
     }
@@ -376,7 +374,6 @@ qc_status qc_isi_channel_build(const qc_isi_request *req, qc_isi_channel **out)
             }
         }
         ch->noiseless[t] = u;
-        ch->src[t] = (uint32_t)(t / M);
         double var = NAN, var_q = 1.0;
         int bad = qc_model_check_levels(req->model, &u, 1) != QC_OK ||
                   qc_model_moments(req->model, u, &ch->mean[t], &var) != QC_OK ||
@@ -564,8 +561,9 @@ static inline double branch_weight(const double *w, const double *w2, size_t t)
 /* One step of the forward recursion (declared in capacity/isi.h). The
  * window t = s + hi·S (hi < M) comes from the state t / M; with S a
  * multiple of M (two taps or more) that is hi·S/M + s/M, so the states
- * are read in order, each for M windows in a row, rather than gathered.
- * The sums are formed in the same order either way. */
+ * are read in order, each for M windows in a row, with no index divided.
+ * The products and the order of their sums are the same either way; λ is
+ * summed in four fixed lanes. */
 static double forward_step(const qc_isi_channel *ch, const double *a, const double *w,
                            const double *w2, double *next)
 {
@@ -574,13 +572,12 @@ static double forward_step(const qc_isi_channel *ch, const double *a, const doub
         for (size_t hi = 0; hi < M; hi++)
             branch_block_any(a + hi * (S / M), w + hi * S, w2 ? w2 + hi * S : NULL, next, S,
                              M, hi == 0);
-    } else {
-        const uint32_t *src = ch->src;
+    } else { /* one tap: S = 1 */
         for (size_t s = 0; s < S; s++)
-            next[s] = a[src[s]] * branch_weight(w, w2, s);
+            next[s] = a[s / M] * branch_weight(w, w2, s);
         for (size_t hi = 1; hi < M; hi++)
             for (size_t s = 0, t = hi * S; s < S; s++, t++)
-                next[s] += a[src[t]] * branch_weight(w, w2, t);
+                next[s] += a[t / M] * branch_weight(w, w2, t);
     }
     /* the sum in four fixed lanes (states s ≡ 0, 1, 2, 3 mod 4), which
      * keep four additions in flight */

@@ -14,8 +14,8 @@
  * generic vector types; the order of every addition is fixed by the
  * code, not by the instruction set, so the results are the same on
  * every x86-64 processor. The kernels (kernels_lanes.h) are compiled
- * twice: with two lanes per register for any x86-64 processor and with
- * four for processors with AVX2, chosen when a sweep starts. */
+ * with two lanes per register for any processor and, by GCC on x86-64,
+ * again with four for processors with AVX2, chosen when a sweep starts. */
 #include "capacity/engine.h"
 
 #include <string.h>

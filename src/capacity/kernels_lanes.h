@@ -10,6 +10,8 @@
 /* LANE_VEC registers per group of four columns */
 #define LANE_N (4 / (sizeof(LANE_VEC) / sizeof(double)))
 #define LANE_W (sizeof(LANE_VEC) / sizeof(double))
+_Static_assert(4 % (sizeof(LANE_VEC) / sizeof(double)) == 0,
+               "a vector holds 1, 2 or 4 of the four lanes");
 /* lane i (0..3) of an accumulator a[LANE_N], and the four added in order */
 #define LANE(a, i) ((a)[(i) / LANE_W][(i) % LANE_W])
 #define LANE_SUM(a) ((LANE(a, 0) + LANE(a, 1)) + (LANE(a, 2) + LANE(a, 3)))

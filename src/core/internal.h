@@ -49,8 +49,9 @@ double qc_log1p_ratio(double a, double b);
 void qc_log_floored(const double *in, double *out, size_t n, double floor);
 
 /* out[i] = exp in[i] (out may be in): glibc's vector exponential
- * (libmvec, below 4 ulp) where the result is a normal number or rounds
- * to 0 and the build has it, exp(3) on the rest (vmath.c). */
+ * (libmvec, below 4 ulp) on groups of lanes whose results are normal
+ * numbers or round to 0, where the build has it; exp(3) on other groups
+ * (vmath.c). */
 void qc_exp_array(const double *in, double *out, size_t n);
 
 /* The whole file at `path` into *buf (owned by the caller; *len bytes,

@@ -1,8 +1,11 @@
 /* vmath.c — logarithms and exponentials of an array, four (AVX2) or two
  * (SSE2) at a time through glibc's vector math library (libmvec, the
  * x86-64 vector function ABI of glibc 2.22 and later) where the build
- * found it, else one at a time with log(3) and exp(3). Lanes whose
- * results would leave the normal range take the scalar function. Used by
+ * found it, else one at a time with log(3) and exp(3). A group of lanes
+ * with one whose result would leave the normal range takes the scalar
+ * function (exponentials that round to 0 are set to 0 instead), so an
+ * element's last bit can depend on its neighbours in the array, the same
+ * way on every run. Used by
  * the inner loops of the capacity engine and of the rates of channels
  * with memory. libmvec's error is below 4 ulp, as glibc documents. */
 #include "core/internal.h"
@@ -103,10 +106,11 @@ void qc_log_floored(const double *in, double *out, size_t n, double floor)
         out[i] = in[i] > 0.0 ? log(in[i]) : floor;
 }
 
-/* out[i] = exp in[i] (in and out may be the same array). Lanes whose
- * results are normal numbers or round to 0 go four (AVX2) or two at a
- * time; a group with a lane in between (a subnormal result) or above
- * (overflow), or a NaN, takes exp(3). */
+/* out[i] = exp in[i] (in and out may be the same array). Groups of four
+ * (AVX2) or two lanes whose results are normal numbers or round to 0 go
+ * through the vector exponential (those rounding to 0 set to 0); a group
+ * with a lane in between (a subnormal result) or above (overflow), or a
+ * NaN, takes exp(3) on all its lanes. */
 void qc_exp_array(const double *in, double *out, size_t n)
 {
     size_t i = 0;
