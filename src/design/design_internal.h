@@ -159,8 +159,9 @@ double qc_polar_ray_mass(double s, double sigma, double r0, double r1, double t)
  * (phase_sd > 0) of nvec values f(φ) for a point at amplitude s in noise
  * σ per quadrature, each refined until no value changes by more than
  * QC_IQ_QUAD_TOL. f writes weight × its values at rotation φ into out (the
- * weight is p(φ) on panels; with Gauss–Hermite rules 1 for a Gaussian
- * error, the rule's weight times p(φ)/N(φ; 0, sd²) for a Tikhonov one).
+ * weight is the wrapped law p(φ) on the circle's trapezoidal rule; with
+ * Gauss–Hermite rules 1 for a Gaussian error, the rule's weight times
+ * p(φ)/N(φ; 0, sd²) for a Tikhonov one).
  * A workspace holds the
  * rules and room for at most the nvec given to alloc (one thread). */
 typedef void (*qc_phase_fn)(double phi, double weight, void *ctx, double *out);
@@ -168,7 +169,8 @@ typedef struct qc_phase_average qc_phase_average;
 qc_status qc_phase_average_alloc(const qc_iq_noise *noise, size_t nvec, qc_phase_average **out);
 void qc_phase_average_free(qc_phase_average *a);
 /* ∫ f(φ) p(φ) dφ added into out[0 .. nvec − 1]; *err raised to the last
- * refinement's change. QC_ENOCONV if 2^16 panels do not settle it. */
+ * refinement's change. QC_ENOCONV if 2^21 nodes on the circle do not
+ * settle it. */
 qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size_t nvec,
                                qc_phase_fn f, void *ctx, double *out, double *err);
 

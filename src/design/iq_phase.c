@@ -15,11 +15,17 @@
  * order), taken as 0 beyond ±π, where the law holds below e^{−2κ} of its
  * peak (importance weighting; Davis & Rabinowitz, Methods of Numerical
  * Integration, 2nd ed. 1984, §2.9 (section from memory)). Otherwise, or
- * when 1024 nodes do not settle it, by
- * composite Gauss–Legendre quadrature (GSL glfixed) refined by panel
- * doubling over ±PN_WINDOW_SD standard deviations (at most ±π for the
- * Tikhonov law). Either refinement stops when no component changes by
- * more than QC_IQ_QUAD_TOL. */
+ * when 1024 nodes do not settle it, by the trapezoidal rule on the circle
+ * φ ∈ [−π, π): f is 2π-periodic in the rotation, so ∫ f p over the line
+ * is ∫ f p_w over the circle with p_w the error's law wrapped onto it
+ * (the Tikhonov law is already; the Gaussian one is Σ_k N(φ + 2πk)), and
+ * for a smooth periodic integrand the rule's error falls geometrically
+ * with the nodes (Trefethen & Weideman, "The exponentially convergent
+ * trapezoidal rule", SIAM Review 56(3), 2014). Doubling the nodes reuses
+ * every node before; nodes where p_w is below e^{−72} of its peak (the
+ * Gaussian's mass beyond 12 standard deviations) add nothing and are not
+ * evaluated. Either refinement stops when no component changes by more
+ * than QC_IQ_QUAD_TOL. */
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 
@@ -30,13 +36,13 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define GL_NODES 20         /* Gauss–Legendre points per panel               */
-#define MIN_LEVEL 2         /* first refinement: 2^2 panels                  */
-#define MAX_LEVEL 16        /* last refinement: 2^16 panels                  */
-#define PN_WINDOW_SD 12.0   /* phase-noise integrals over ±12 s (tail e^-72) */
-#define PEAK_PANELS 2.0     /* panels per characteristic width at the start  */
+#define CIRCLE_MIN_LOG2 5   /* trapezoidal rule: at least 2^5 nodes          */
+#define CIRCLE_MAX_LOG2 21  /* at most 2^21 nodes on the circle              */
+#define NODES_PER_WIDTH 4.0 /* nodes per characteristic width at the start   */
+#define PN_WINDOW_SD 12.0   /* nodes below e^{−72} of the peak density skipped
+                               (a Gaussian 12 standard deviations out)       */
 #define GH_FIRST 16         /* Gaussian phase error: first Gauss–Hermite rule */
-#define GH_LEVELS 7         /* rules of 16, 32, …, 1024 nodes, then panels   */
+#define GH_LEVELS 7         /* rules of 16, 32, …, 1024 nodes, then the circle */
 #define GH_MAX_SPREAD 6.0   /* Gauss–Hermite tried while sd·|x|/σ ≤ 6 (the
                                error's spread in the noise's angular widths;
                                1024 nodes settle it up to about 6)          */
@@ -47,10 +53,9 @@ struct qc_phase_average {
     const qc_iq_noise *noise;
     double kappa, vm_norm; /* Tikhonov: κ and 1/(2π I0(κ) e^{−κ})           */
     double log_ratio;      /* Tikhonov: log C of the density ratio          */
-    double window;         /* integrate φ over [−window, window]            */
-    gsl_integration_glfixed_table *gl;
+    int wraps;             /* Gaussian: copies 2πk on either side that count */
     gsl_integration_fixed_workspace *rules[GH_LEVELS]; /* 16·2^l nodes     */
-    double *acc, *prev, *val;
+    double *acc, *prev, *val, *sum;
     size_t nvec, cap;
 };
 
@@ -58,12 +63,10 @@ void qc_phase_average_free(qc_phase_average *a)
 {
     if (!a)
         return;
-    if (a->gl)
-        gsl_integration_glfixed_table_free(a->gl);
     for (int l = 0; l < GH_LEVELS; l++)
         if (a->rules[l])
             gsl_integration_fixed_free(a->rules[l]);
-    free(a->acc), free(a->prev), free(a->val);
+    free(a->acc), free(a->prev), free(a->val), free(a->sum);
     free(a);
 }
 
@@ -75,18 +78,16 @@ qc_status qc_phase_average_alloc(const qc_iq_noise *noise, size_t nvec, qc_phase
         return qc_fail(QC_ENOMEM, "out of memory");
     a->noise = noise;
     a->cap = nvec;
-    a->gl = gsl_integration_glfixed_table_alloc(GL_NODES);
     a->acc = qc_malloc_array(nvec, sizeof *a->acc);
     a->prev = qc_malloc_array(nvec, sizeof *a->prev);
     a->val = qc_malloc_array(nvec, sizeof *a->val);
-    if (!a->gl || !a->acc || !a->prev || !a->val) {
+    a->sum = qc_malloc_array(nvec, sizeof *a->sum);
+    if (!a->acc || !a->prev || !a->val || !a->sum) {
         qc_phase_average_free(a);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
     const double s = noise->phase_sd;
-    a->window = fmin(M_PI, PN_WINDOW_SD * s);
-    if (noise->phase_law == QC_PHASE_GAUSS && s * PN_WINDOW_SD > M_PI)
-        a->window = PN_WINDOW_SD * s; /* unwrapped Gaussian on the real line */
+    a->wraps = (int)ceil(PN_WINDOW_SD * s / (2.0 * M_PI));
     if (noise->phase_law == QC_PHASE_TIKHONOV && s > 0.0) {
         a->kappa = 1.0 / (s * s);
         a->vm_norm = 1.0 / (2.0 * M_PI * gsl_sf_bessel_I0_scaled(a->kappa));
@@ -96,6 +97,7 @@ qc_status qc_phase_average_alloc(const qc_iq_noise *noise, size_t nvec, qc_phase
     return QC_OK;
 }
 
+/* The error's law wrapped onto the circle at φ ∈ [−π, π]. */
 static double density(const qc_phase_average *a, double phi)
 {
     const double s = a->noise->phase_sd;
@@ -104,7 +106,13 @@ static double density(const qc_phase_average *a, double phi)
         const double h = sin(0.5 * phi);
         return a->vm_norm * exp(-2.0 * a->kappa * h * h);
     }
-    return exp(-0.5 * (phi / s) * (phi / s)) / (s * sqrt(2.0 * M_PI));
+    double p = 0.0; /* the copies within 12 s count, from the farthest */
+    for (int k = a->wraps; k >= 1; k--) {
+        const double u = (phi + 2.0 * M_PI * k) / s, v = (phi - 2.0 * M_PI * k) / s;
+        p += exp(-0.5 * u * u) + exp(-0.5 * v * v);
+    }
+    p += exp(-0.5 * (phi / s) * (phi / s));
+    return p / (s * sqrt(2.0 * M_PI));
 }
 
 /* Whether the last refinement (acc against prev) moved no component by
@@ -127,39 +135,42 @@ static int settled(const qc_phase_average *a, double *out, double *err)
     return 1;
 }
 
-/* ∫_lo^hi f·p over the components into out (added), by composite
- * Gauss–Legendre panels, doubled until settled. Starts at
- * max(2^MIN_LEVEL, (hi − lo)/width·PEAK_PANELS) panels. */
-static qc_status panels_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double lo,
-                            double hi, double width, double *out, double *err)
+/* ∫ f·p over the circle into out (added), by the trapezoidal rule on
+ * 2^l nodes φ_j = −π + 2πj/2^l, l doubled until settled, each doubling
+ * adding the new midpoints to the sum of the nodes before. Starts with
+ * about NODES_PER_WIDTH nodes per `width` (the integrand's narrowest
+ * feature). */
+static qc_status circle_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double width,
+                            double *out, double *err)
 {
-    if (!(hi > lo))
-        return QC_OK;
-    size_t panels = (size_t)1 << MIN_LEVEL;
-    double want = (hi - lo) / width * PEAK_PANELS;
-    while ((double)panels < want && panels < ((size_t)1 << (MAX_LEVEL - 2)))
-        panels *= 2;
-    int have_prev = 0;
-    for (; panels <= ((size_t)1 << MAX_LEVEL); panels *= 2) {
-        memset(a->acc, 0, a->nvec * sizeof *a->acc);
-        double h = (hi - lo) / (double)panels;
-        for (size_t p = 0; p < panels; p++) {
-            double pa = lo + h * (double)p, pb = pa + h;
-            for (size_t k = 0; k < GL_NODES; k++) {
-                double xk, wk;
-                gsl_integration_glfixed_point(pa, pb, k, &xk, &wk, a->gl);
-                f(xk, density(a, xk), ctx, a->val);
-                for (size_t c = 0; c < a->nvec; c++)
-                    a->acc[c] += wk * a->val[c];
-            }
+    int l = CIRCLE_MIN_LOG2;
+    while (l < CIRCLE_MAX_LOG2 - 1 &&
+           (double)((size_t)1 << l) < NODES_PER_WIDTH * 2.0 * M_PI / width)
+        l++;
+    const double floor = density(a, 0.0) * exp(-0.5 * PN_WINDOW_SD * PN_WINDOW_SD);
+    memset(a->sum, 0, a->nvec * sizeof *a->sum);
+    size_t n = 0; /* nodes summed so far (0: no estimate yet in prev) */
+    for (; l <= CIRCLE_MAX_LOG2; l++) {
+        const size_t N = (size_t)1 << l;
+        /* the nodes not yet summed: every node first, then the odd ones */
+        for (size_t j = n ? 1 : 0; j < N; j += n ? 2 : 1) {
+            const double phi = -M_PI + 2.0 * M_PI * (double)j / (double)N;
+            const double p = density(a, phi);
+            if (!(p >= floor))
+                continue;
+            f(phi, p, ctx, a->val);
+            for (size_t c = 0; c < a->nvec; c++)
+                a->sum[c] += a->val[c];
         }
-        if (have_prev && settled(a, out, err))
+        for (size_t c = 0; c < a->nvec; c++)
+            a->acc[c] = a->sum[c] * (2.0 * M_PI / (double)N);
+        if (n && settled(a, out, err))
             return QC_OK;
+        n = N;
         memcpy(a->prev, a->acc, a->nvec * sizeof *a->acc);
-        have_prev = 1;
     }
-    return qc_fail(QC_ENOCONV, "iq channel: the quadrature did not settle within %g with "
-                   "%d panels", QC_IQ_QUAD_TOL, 1 << MAX_LEVEL);
+    return qc_fail(QC_ENOCONV, "iq channel: the phase-error average did not settle within %g "
+                   "with %d nodes", QC_IQ_QUAD_TOL, 1 << CIRCLE_MAX_LOG2);
 }
 
 /* The Tikhonov law's weight at the Gauss–Hermite node φ of (scaled) rule
@@ -175,7 +186,7 @@ static double tikhonov_node_weight(const qc_phase_average *a, double phi, double
 /* ∫ f(φ) p(φ) dφ into out (added), by Gauss–Hermite rules of 16, 32, …
  * nodes for N(φ; 0, sd²) (p/N the nodes' weight) until settled; 0 (out
  * untouched) when 1024 nodes do not settle it (a phase error wide against
- * the noise's angular width σ/|x|: then panels_run, which is also used
+ * the noise's angular width σ/|x|: then circle_run, which is also used
  * beyond GH_MAX_SPREAD such widths). The nodes needed grow about as
  * 32·(sd·|x|/σ)². */
 static int hermite_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double *out,
@@ -224,8 +235,5 @@ qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size
     if (hermite && noise->phase_sd * s <= GH_MAX_SPREAD * sigma &&
         hermite_run(a, f, ctx, out, err))
         return QC_OK;
-    qc_status st = panels_run(a, f, ctx, -a->window, 0.0, fmax(width, 1e-6), out, err);
-    if (st == QC_OK)
-        st = panels_run(a, f, ctx, 0.0, a->window, fmax(width, 1e-6), out, err);
-    return st;
+    return circle_run(a, f, ctx, fmax(width, 1e-6), out, err);
 }

@@ -9,7 +9,7 @@
  * differences, exact: the cheapest matrix of the same size), and the
  * I/Q pair with a 6° error (Gauss–Hermite rules over the error, the
  * Tikhonov law's through its density ratio to the Gaussian) and a 15°
- * Tikhonov error (composite Gauss–Legendre panels) for comparison. Also
+ * Tikhonov error (the trapezoidal rule on the circle) for comparison. Also
  * the whole design of the 64 polar cells (BFGS on the exact gradient of
  * the GMI, at most 4000 matrices) with the 6° Gaussian error.
  * Then, for information, 16-QAM from 10 to 45 dB without phase error,
@@ -174,7 +174,7 @@ int main(void)
         {"polar 4 x 16, Tikhonov 6 deg", 6.0, QC_PHASE_TIKHONOV, &polar},
         {"I/Q pair 8 x 8, Gaussian 6 deg (Gauss-Hermite)", 6.0, QC_PHASE_GAUSS, &pair},
         {"I/Q pair 8 x 8, Tikhonov 6 deg (Gauss-Hermite)", 6.0, QC_PHASE_TIKHONOV, &pair},
-        {"I/Q pair 8 x 8, Tikhonov 15 deg (panels)", 15.0, QC_PHASE_TIKHONOV, &pair},
+        {"I/Q pair 8 x 8, Tikhonov 15 deg (trapezoid)", 15.0, QC_PHASE_TIKHONOV, &pair},
     };
     int status = 0;
     for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {

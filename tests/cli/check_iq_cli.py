@@ -286,11 +286,11 @@ for law in ("gauss", "tikhonov"):
 # Reference: scipy.integrate.quad over the phase error of the rotated
 # point's product-cell probability (norm.cdf differences): the Gaussian
 # error at 12 deg (quantcap: Gauss-Hermite rules, the error's spread 1.7
-# angular widths of the noise) and at 60 deg (8.3 widths: composite
-# Gauss-Legendre panels); the Tikhonov error (scipy.stats.vonmises.pdf,
+# angular widths of the noise) and at 60 deg (8.3 widths: the trapezoidal
+# rule on the circle); the Tikhonov error (scipy.stats.vonmises.pdf,
 # kappa = 1/sd^2, over [-pi, pi]) at 12 deg (kappa 22.8: Gauss-Hermite
 # rules reweighted by its density ratio to the Gaussian), at 20 deg
-# (kappa 8.2: panels), and at 3 deg with sigma 0.0354 (36 dB: a rule of
+# (kappa 8.2: the trapezoidal rule), and at 3 deg with sigma 0.0354 (36 dB: a rule of
 # 1024 nodes, whose outer weights underflow where the ratio overflows).
 for law, sd_deg, sig_q in (("gauss", 12.0, 0.4), ("gauss", 60.0, 0.4),
                            ("tikhonov", 12.0, 0.4), ("tikhonov", 20.0, 0.4),

@@ -7,7 +7,7 @@
  * (hex:7's centre); the I/Q pair's thresholds on both axes; and both
  * receivers under a residual phase error (Gaussian and Tikhonov laws;
  * the I/Q pair by Gauss–Hermite rules, directly and reweighted, and by
- * panels). */
+ * the trapezoidal rule on the circle). */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -209,8 +209,9 @@ static void test_phase_error(void **state)
     const double ph7[6] = {-150.0, -90.0, -30.0, 30.0, 90.0, 150.0};
     check_phase_case("hex:7", 10.0, 4.0, QC_PHASE_TIKHONOV, 1, r7, 6, ph7);
     /* the I/Q pair: Gauss–Hermite rules (3 deg Gaussian; 5 deg Tikhonov,
-     * reweighted), panels (15 deg Tikhonov, kappa 14.6; a Gaussian error
-     * wider than 6 angular widths of the noise) */
+     * reweighted), the trapezoidal rule on the circle (15 deg Tikhonov,
+     * kappa 14.6; a Gaussian error wider than 6 angular widths of the
+     * noise) */
     const double ti[5] = {-2.5, -1.2, 0.1, 1.7, 2.9}, tq[3] = {-1.8, 0.3, 2.2};
     check_product_pn("qam:16", 16.0, 3.0, QC_PHASE_GAUSS, 5, ti, 3, tq);
     check_product_pn("qam:16", 16.0, 5.0, QC_PHASE_TIKHONOV, 5, ti, 3, tq);
