@@ -136,8 +136,8 @@ static int settled(const qc_phase_average *a, double *out, double *err)
 }
 
 /* ∫ f·p over the circle into out (added), by the trapezoidal rule on
- * 2^l nodes φ_j = −π + 2πj/2^l, l doubled until settled, each doubling
- * adding the new midpoints to the sum of the nodes before. Starts with
+ * 2^l nodes φ_j = −π + 2πj/2^l, the nodes doubled until settled, each
+ * doubling adding the new midpoints to the sum of the nodes before. Starts with
  * about NODES_PER_WIDTH nodes per `width` (the integrand's narrowest
  * feature). */
 static qc_status circle_run(qc_phase_average *a, qc_phase_fn f, void *ctx, double width,
