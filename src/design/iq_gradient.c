@@ -241,8 +241,8 @@ qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const q
         if (np < 2)
             continue;
         /* sector start p: mass from sector p into sector p − 1 as it grows
-         * (under a phase error the densities from the matrix's series,
-         * else computed again) */
+         * (under a phase error the densities the matrix's series left in
+         * rays_all, or without them computed here) */
         const double *rx = rays_all ? rays_all + x * ny : rays;
         if (with_pn && !rays_all &&
             (st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays)) != QC_OK)
