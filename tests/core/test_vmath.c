@@ -1,7 +1,8 @@
 /* test_vmath.c — logarithms and exponentials of arrays (src/core/vmath.c)
  * against log(3) and exp(3) element by element: within 4 ulp (the bound
- * glibc documents for libmvec), exact where the result is 0, infinite or
- * NaN, across the edges where lanes leave the vector path (a subnormal
+ * glibc states for libmvec, from memory), equal where the result is
+ * subnormal, 0, infinite or NaN, across the edges where lanes leave the
+ * vector path (a subnormal
  * result, underflow to 0, overflow), at every offset of an array whose
  * length is not a multiple of the vector width. */
 #include <setjmp.h>
@@ -20,7 +21,7 @@
 #define TEST_RNG_SEED 0x3e8b0c4f5a17ULL /* random arguments below */
 #include "test_helpers.h"
 
-#define MAX_ULP 4.0 /* libmvec's documented bound */
+#define MAX_ULP 4.0 /* the bound glibc states for libmvec (from memory) */
 
 /* |got − want| in units in the last place of want; 0 when both are the
  * same value (zeros, infinities) or both NaN. */
