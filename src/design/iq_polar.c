@@ -536,29 +536,6 @@ static qc_status settle(qc_polar_series *w, const qc_iq_cells *q, double s, doub
                    "within %g with %d angles", QC_IQ_QUAD_TOL, 1 << MAX_LOG2);
 }
 
-/* The densities along the sector starts once settle has run: from the
- * series, or (direct) each ring's closed form. */
-static void rays_settled(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,
-                         double sigma, size_t N, int direct, double *rays);
-
-qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
-                       double sigma, double *row, double *err, double *rays)
-{
-    const double s = hypot(x, y), theta = atan2(y, x);
-    size_t N = 0;
-    int direct = 0;
-    qc_status st = settle(w, q, s, sigma, &N, &direct, err);
-    if (st != QC_OK)
-        return st;
-    if (direct)
-        st = direct_row(w, q, s, theta, sigma, row, err);
-    else
-        series_cells(w, q, theta, N, row);
-    if (st == QC_OK && rays)
-        rays_settled(w, q, s, theta, sigma, N, direct, rays);
-    return st;
-}
-
 /* The densities along the sector starts from the series at N angles (in
  * w->gamma): G_a convolved with the phase error at α_p − θx,
  * γ_0 + 2 Σ_k γ_k c_k cos(k(α_p − θx)). */
@@ -580,6 +557,8 @@ static void series_rays(qc_polar_series *w, const qc_iq_cells *q, double theta, 
     }
 }
 
+/* The densities along the sector starts once settle has run: from the
+ * series, or (direct) each ring's closed form. */
 static void rays_settled(qc_polar_series *w, const qc_iq_cells *q, double s, double theta,
                          double sigma, size_t N, int direct, double *rays)
 {
@@ -596,6 +575,24 @@ static void rays_settled(qc_polar_series *w, const qc_iq_cells *q, double s, dou
                 qc_polar_ray_mass(s, sigma, a == 0 ? 0.0 : q->radii[a - 1],
                                   a + 1 < rings ? q->radii[a] : INFINITY, lo);
         }
+}
+
+qc_status qc_polar_row(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
+                       double sigma, double *row, double *err, double *rays)
+{
+    const double s = hypot(x, y), theta = atan2(y, x);
+    size_t N = 0;
+    int direct = 0;
+    qc_status st = settle(w, q, s, sigma, &N, &direct, err);
+    if (st != QC_OK)
+        return st;
+    if (direct)
+        st = direct_row(w, q, s, theta, sigma, row, err);
+    else
+        series_cells(w, q, theta, N, row);
+    if (st == QC_OK && rays)
+        rays_settled(w, q, s, theta, sigma, N, direct, rays);
+    return st;
 }
 
 qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, double y,
