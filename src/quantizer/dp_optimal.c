@@ -20,12 +20,25 @@
  * last positive output is at or after its start and whose first is
  * before its end; the others add exact zeros), which matters for large
  * alphabets, where a cell sees a few hundred of thousands of levels.
- * Layer k: D_k[n] = max_m D_{k−1}[m] + g(m, n) over the first n outputs. */
+ * Layer k: D_k[n] = max_m D_{k−1}[m] + g(m, n) over the first n outputs.
+ * g(m, n) does not depend on the layer, and the layers' SMAWK searches
+ * ask for the same cells again and again (PAM-8 on 512 outputs into 256
+ * cells: 275909 requests, 13368 distinct cells), so values are kept in a
+ * direct-mapped table (memoization: Michie, "'Memo' functions and
+ * machine learning", Nature 218, 1968); a value read back is the value
+ * computed, so the result is the same to the bit. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
+
+/* A memo slot: g over the cell whose key a·(n + 1) + b is `key` (0:
+ * empty; a key is at least 1, as b > a). */
+typedef struct {
+    uint64_t key;
+    double value;
+} memo_slot;
 
 typedef struct {
     size_t nx, n; /* inputs with r(x) > 0 only, fine outputs */
@@ -40,6 +53,8 @@ typedef struct {
      * hold every input with mass at or after k (from) and every input
      * with mass before k (upto); a cell [a, b) needs x ∈ [from[a], upto[b]) */
     uint32_t *from, *upto;
+    memo_slot *memo;    /* the memo of cell values */
+    unsigned memo_bits; /* log2 of its slots */
 } cell_fn;
 
 /* g over outputs [a, b), a < b. */
@@ -65,6 +80,25 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
     if (q > 0.0)
         s -= q * log(q);
     return s;
+}
+
+#define MEMO_SLOTS_PER_OUTPUT 64 /* slots per fine output, rounded up to 2^k */
+#define MEMO_MIN_BITS 10
+#define MEMO_MAX_BITS 15 /* 512 KB of table at most: it stays in cache */
+
+/* g over outputs [a, b) through the memo: a stored value, or one computed
+ * and stored over whatever the slot held (Fibonacci hashing of the key:
+ * Knuth, TAOCP vol. 3, §6.4). */
+static double cell_cached(cell_fn *f, size_t a, size_t b)
+{
+    const uint64_t key = (uint64_t)a * (uint64_t)(f->n + 1) + (uint64_t)b;
+    const size_t slot = (size_t)((key * UINT64_C(0x9E3779B97F4A7C15)) >> (64 - f->memo_bits));
+    memo_slot *m = f->memo + slot;
+    if (m->key != key) {
+        m->key = key;
+        m->value = cell_value(f, a, b);
+    }
+    return m->value;
 }
 
 /* from[] and upto[] of cell_fn from the first and last positive output of
@@ -143,8 +177,13 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
     f->from = qc_malloc_array(2 * (n + 1), sizeof *f->from);
     f->upto = f->from ? f->from + n + 1 : NULL;
+    f->memo_bits = MEMO_MIN_BITS;
+    while (f->memo_bits < MEMO_MAX_BITS &&
+           ((size_t)1 << f->memo_bits) < MEMO_SLOTS_PER_OUTPUT * (n + 1))
+        f->memo_bits++;
+    f->memo = qc_calloc((size_t)1 << f->memo_bits, sizeof *f->memo);
     double *cols = qc_malloc_array(CUM_BLOCK * (n + 1), sizeof *cols);
-    if (!f->r || !f->tot || !f->med || !f->cum || !f->from || !cols) {
+    if (!f->r || !f->tot || !f->med || !f->cum || !f->from || !f->memo || !cols) {
         free(cols);
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
                        d->nx, n);
@@ -177,12 +216,13 @@ static void cell_fn_free(cell_fn *f)
     free(f->med);
     free(f->cum);
     free(f->from);
+    free(f->memo);
 }
 
 /* ---- SMAWK row maxima of one layer ---------------------------------- */
 
 typedef struct {
-    const cell_fn *f;
+    cell_fn *f;
     const double *prev; /* D_{k−1}[m] */
     double *val;        /* D_k[n] */
     uint32_t *arg;      /* leftmost argmax m of row n */
@@ -194,7 +234,7 @@ typedef struct {
 static double entry(const layer *L, uint32_t n, uint32_t m)
 {
     if (m < n)
-        return L->prev[m] + cell_value(L->f, m, n);
+        return L->prev[m] + cell_cached(L->f, m, n);
     return -1e100 * (double)(1 + m - n);
 }
 
@@ -329,7 +369,7 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
     }
     /* Layer 1: one cell over outputs [0, m). */
     for (size_t m = 1; m <= width; m++)
-        prev[m] = cell_value(&f, 0, m);
+        prev[m] = cell_cached(&f, 0, m);
     for (size_t k = 2; k <= K; k++) {
         /* rows n ∈ [k, k + width − 1] (the last layer needs only n = N),
          * columns m ∈ [k − 1, k + width − 2]. */
@@ -347,7 +387,7 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
                 double bv = -INFINITY;
                 size_t best = k - 1;
                 for (size_t m = k - 1; m < r; m++) {
-                    double v = prev[m] + cell_value(&f, m, r);
+                    double v = prev[m] + cell_cached(&f, m, r);
                     if (v > bv) {
                         bv = v;
                         best = m;
