@@ -1,6 +1,8 @@
 /* test_isi.c — channels with memory: the taps of the named responses
  * against their closed forms, the trellis size limit, the same result for
- * any thread count, reproducibility by seed, and the error paths. The
+ * any thread count, reproducibility by seed, a rate inside a one-thread
+ * parallel region (a sweep's point) that starts no threads, and the error
+ * paths. The
  * rates themselves are checked against numpy/scipy in check_isi.py. */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -9,8 +11,10 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 #ifdef _OPENMP
 #include <omp.h>
 #endif
@@ -167,6 +171,73 @@ static void test_taps_and_states(void **state)
     assert_int_equal(qc_isi_rate(&req, &r), QC_EINVAL);
     assert_message("noiseless output -1");
     qc_model_free(p);
+}
+
+/* Threads of this process (the "Threads:" line of /proc/self/status,
+ * Linux); 0 when it cannot be read. */
+static int threads_now(void)
+{
+    FILE *f = fopen("/proc/self/status", "r");
+    char line[256];
+    int n = 0;
+    while (f && fgets(line, sizeof line, f))
+        if (sscanf(line, "Threads: %d", &n) == 1)
+            break;
+    if (f)
+        fclose(f);
+    return n;
+}
+
+static double cpu_seconds(clockid_t clock)
+{
+    struct timespec t;
+    clock_gettime(clock, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+/* A sweep runs each point in a thread of its own parallel region, one
+ * thread with --jobs 1. That region is inactive, so an unguarded parallel
+ * loop inside the point would start a nested team (whose threads end with
+ * it) and use the cores that --jobs 1 leaves alone. The rate computed
+ * there runs in its thread alone: the process spends no CPU time beyond
+ * that thread's (a nested team would take about half of the batches);
+ * outside any region its batches may run in threads, with the same bits.
+ * Runs first, while the process has a single thread and no idle team
+ * that could spin. */
+static void test_rate_in_a_sweep_point_keeps_its_thread(void **state)
+{
+    (void)state;
+#ifndef _OPENMP
+    skip();
+#else
+    if (threads_now() != 1) {
+        print_message("the process already runs %d threads: skipped\n", threads_now());
+        skip();
+    }
+    omp_set_num_threads(2);
+    qc_model *m = gauss(0.6);
+    const double lev[4] = {-3, -1, 1, 3}, taps[2] = {0.8, 0.3}, thr[3] = {-2, 0, 2};
+    qc_isi_request req = {.model = m, .levels = lev, .nlevels = 4, .taps = taps, .ntaps = 2,
+                          .thresholds = thr, .nthresholds = 3, .symbols = 40000, .seed = 7,
+                          .unquantized = 1};
+    qc_isi_result in_point, alone;
+    qc_status st = QC_EINVAL;
+    double own = 0.0, all = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID);
+#pragma omp parallel num_threads(1)
+    {
+        double t0 = cpu_seconds(CLOCK_THREAD_CPUTIME_ID);
+        st = qc_isi_rate(&req, &in_point);
+        own = cpu_seconds(CLOCK_THREAD_CPUTIME_ID) - t0;
+    }
+    all = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID) - all;
+    assert_int_equal(st, QC_OK);
+    assert_true(own > 0.0);
+    if (all - own > 0.1 * own)
+        fail_msg("a rate inside a one-thread region took %g s of CPU, its thread %g s", all, own);
+    assert_int_equal(qc_isi_rate(&req, &alone), QC_OK);
+    assert_memory_equal(&in_point, &alone, sizeof alone);
+    qc_model_free(m);
+#endif
 }
 
 /* The same seed gives the same bits for 1 and 2 threads (independent
@@ -451,6 +522,7 @@ static void test_rate_ci_target(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_rate_in_a_sweep_point_keeps_its_thread),
         cmocka_unit_test(test_gauss_response),
         cmocka_unit_test(test_first_order_responses),
         cmocka_unit_test(test_response_shapes),
