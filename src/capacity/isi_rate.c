@@ -372,10 +372,10 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
          * region already (a sweep's point, even with one thread: a point's
          * work stays in its thread); each batch has its own generator and
          * sums, so the result is the same on any number of threads */
-        const int fork = qc_parallel_can_fork();
-        (void)fork; /* unused without OpenMP */
+        const int in_threads = qc_parallel_can_fork();
+        (void)in_threads; /* unused without OpenMP */
 #ifdef _OPENMP
-#pragma omp parallel for schedule(dynamic, 1) if (fork)
+#pragma omp parallel for schedule(dynamic, 1) if (in_threads)
 #endif
         for (size_t b = 0; b < B; b++) {
             if (ch->coherent)

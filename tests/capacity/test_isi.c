@@ -222,17 +222,18 @@ static void test_rate_in_a_sweep_point_keeps_its_thread(void **state)
                           .unquantized = 1};
     qc_isi_result in_point, alone;
     qc_status st = QC_EINVAL;
-    double own = 0.0, all = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID);
+    double own = 0.0, all = 0.0;
 #pragma omp parallel num_threads(1)
-    {
+    { /* both clocks read at the same two points, inside the region */
+        double p0 = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID);
         double t0 = cpu_seconds(CLOCK_THREAD_CPUTIME_ID);
         st = qc_isi_rate(&req, &in_point);
         own = cpu_seconds(CLOCK_THREAD_CPUTIME_ID) - t0;
+        all = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID) - p0;
     }
-    all = cpu_seconds(CLOCK_PROCESS_CPUTIME_ID) - all;
     assert_int_equal(st, QC_OK);
     assert_true(own > 0.0);
-    if (all - own > 0.1 * own)
+    if (all - own > 0.25 * own)
         fail_msg("a rate inside a one-thread region took %g s of CPU, its thread %g s", all, own);
     assert_int_equal(qc_isi_rate(&req, &alone), QC_OK);
     assert_memory_equal(&in_point, &alone, sizeof alone);
