@@ -53,7 +53,7 @@ typedef struct {
      * hold every input with mass at or after k (from) and every input
      * with mass before k (upto); a cell [a, b) needs x ∈ [from[a], upto[b]) */
     uint32_t *from, *upto;
-    memo_slot *memo;    /* the memo of cell values */
+    memo_slot *memo;    /* the memo of cell values, or NULL (memo_init) */
     unsigned memo_bits; /* log2 of its slots */
 } cell_fn;
 
@@ -82,15 +82,20 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
     return s;
 }
 
-#define MEMO_SLOTS_PER_OUTPUT 64 /* slots per fine output, rounded up to 2^k */
+#define MEMO_SLOTS_PER_OUTPUT 32 /* slots per fine output, rounded up to 2^k */
 #define MEMO_MIN_BITS 10
-#define MEMO_MAX_BITS 15 /* 512 KB of table at most: it stays in cache */
+#define MEMO_CACHED_BITS 15 /* 512 KB of table: it stays in cache */
+#define MEMO_MAX_BITS 18    /* 4 MB of table at most */
+#define MEMO_DEAR_LEVELS 16 /* levels per one-output cell, on average, from
+                               which a cell costs more than a table miss */
 
-/* g over outputs [a, b) through the memo: a stored value, or one computed
- * and stored over whatever the slot held (Fibonacci hashing of the key:
- * Knuth, TAOCP vol. 3, §6.4). */
+/* g over outputs [a, b), through the memo when there is one: a stored
+ * value, or one computed and stored over whatever the slot held
+ * (Fibonacci hashing of the key: Knuth, TAOCP vol. 3, §6.4). */
 static double cell_cached(cell_fn *f, size_t a, size_t b)
 {
+    if (!f->memo)
+        return cell_value(f, a, b);
     const uint64_t key = (uint64_t)a * (uint64_t)(f->n + 1) + (uint64_t)b;
     const size_t slot = (size_t)((key * UINT64_C(0x9E3779B97F4A7C15)) >> (64 - f->memo_bits));
     memo_slot *m = f->memo + slot;
@@ -161,6 +166,34 @@ static void tail_sums(cell_fn *f, size_t j, const double *row, double *col)
     f->tot[j] = (double)(below + s);
 }
 
+/* The memo, sized by the grid: MEMO_SLOTS_PER_OUTPUT slots per output, up
+ * to a table that stays in cache; beyond that only where cells are dear
+ * (a cell sums over the levels that reach it, MEMO_DEAR_LEVELS or more on
+ * average), up to MEMO_MAX_BITS. A large grid of cheap cells has none: it
+ * would miss the cache for most requests and save less than it costs
+ * (PAM-4 on 16384 outputs into 256 cells: a fifth of the requests hit a
+ * table of 2^15 slots, which saved nothing, and a table of 2^20 took twice
+ * the time of none). */
+static qc_status memo_init(cell_fn *f)
+{
+    const size_t want = MEMO_SLOTS_PER_OUTPUT * (f->n + 1);
+    double reach = 0.0; /* levels summed over per one-output cell */
+    for (size_t k = 0; k < f->n; k++)
+        reach += f->upto[k + 1] > f->from[k] ? (double)(f->upto[k + 1] - f->from[k]) : 0.0;
+    const unsigned cap = reach >= MEMO_DEAR_LEVELS * (double)f->n ? MEMO_MAX_BITS
+                                                                  : MEMO_CACHED_BITS;
+    if (want > ((size_t)1 << cap) && cap == MEMO_CACHED_BITS)
+        return QC_OK; /* cheap cells on a large grid: no memo */
+    f->memo_bits = MEMO_MIN_BITS;
+    while (f->memo_bits < cap && ((size_t)1 << f->memo_bits) < want)
+        f->memo_bits++;
+    f->memo = qc_calloc((size_t)1 << f->memo_bits, sizeof *f->memo);
+    if (!f->memo)
+        return qc_fail(QC_ENOMEM, "out of memory for the DP's table of %zu cells",
+                       (size_t)1 << f->memo_bits);
+    return QC_OK;
+}
+
 #define CUM_BLOCK 8 /* inputs whose sums are written to cum together */
 
 static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
@@ -177,13 +210,8 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     f->cum = qc_malloc_array((n + 1) * nx, sizeof *f->cum);
     f->from = qc_malloc_array(2 * (n + 1), sizeof *f->from);
     f->upto = f->from ? f->from + n + 1 : NULL;
-    f->memo_bits = MEMO_MIN_BITS;
-    while (f->memo_bits < MEMO_MAX_BITS &&
-           ((size_t)1 << f->memo_bits) < MEMO_SLOTS_PER_OUTPUT * (n + 1))
-        f->memo_bits++;
-    f->memo = qc_calloc((size_t)1 << f->memo_bits, sizeof *f->memo);
     double *cols = qc_malloc_array(CUM_BLOCK * (n + 1), sizeof *cols);
-    if (!f->r || !f->tot || !f->med || !f->cum || !f->from || !f->memo || !cols) {
+    if (!f->r || !f->tot || !f->med || !f->cum || !f->from || !cols) {
         free(cols);
         return qc_fail(QC_ENOMEM, "out of memory for a %zu x %zu fine channel",
                        d->nx, n);
@@ -206,7 +234,7 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     }
     free(cols);
     reach_init(f, d, r);
-    return QC_OK;
+    return memo_init(f);
 }
 
 static void cell_fn_free(cell_fn *f)

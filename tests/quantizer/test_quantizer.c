@@ -239,6 +239,30 @@ static void test_dp_fast_equals_plain(void **state)
     }
 }
 
+/* Channels whose cells sum over many levels (every row has mass on every
+ * output): the DP keeps its cell values in a table that may outgrow the
+ * cache (dp_optimal.c), here with more outputs than it has slots for
+ * distinct cells, so that slots are overwritten; the fast DP still equals
+ * the plain one and its cuts give the value it reports. */
+static void test_dp_wide_alphabet(void **state)
+{
+    (void)state;
+    const size_t sizes[2][2] = {{200, 7}, {1100, 3}}; /* outputs, cells */
+    for (size_t c = 0; c < 2; c++) {
+        const size_t nx = 20, ny = sizes[c][0], k = sizes[c][1];
+        qc_dmc *d = random_mlr_channel(nx, ny);
+        double *r = random_law_new(nx);
+        size_t c1[8], c2[8];
+        double m1, m2;
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_FAST, c1, &m1), QC_OK);
+        assert_int_equal(qc_dp_quantize(d, r, k, QC_DP_PLAIN, c2, &m2), QC_OK);
+        assert_true(fabs(m1 - m2) <= TOL_TIGHT);
+        assert_true(fabs(merged_mi(d, r, c1, k) - m1) <= TOL_TIGHT);
+        qc_dmc_free(d);
+        free(r);
+    }
+}
+
 static void test_dp_bad_input(void **state)
 {
     (void)state;
@@ -813,6 +837,7 @@ int main(void)
         cmocka_unit_test(test_dp_equals_exhaustive_contiguous),
         cmocka_unit_test(test_dp_binary_input_globally_optimal),
         cmocka_unit_test(test_dp_fast_equals_plain),
+        cmocka_unit_test(test_dp_wide_alphabet),
         cmocka_unit_test(test_dp_bad_input),
         cmocka_unit_test(test_discretize_tail_80db),
         cmocka_unit_test(test_unquantized_noiseless_limit),
