@@ -82,10 +82,11 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
     return s;
 }
 
-#define MEMO_SLOTS_PER_OUTPUT 32 /* slots per fine output, rounded up to 2^k */
+#define MEMO_SLOTS_PER_OUTPUT 64 /* slots per fine output, rounded up to 2^k */
 #define MEMO_MIN_BITS 10
 #define MEMO_CACHED_BITS 15 /* 512 KB of table: it stays in cache */
 #define MEMO_MAX_BITS 18    /* 4 MB of table at most */
+#define MEMO_CHEAP_OUTPUTS 1024 /* cheap cells: a memo up to this many outputs */
 #define MEMO_DEAR_LEVELS 16 /* levels per one-output cell, on average, from
                                which a cell costs more than a table miss */
 
@@ -166,26 +167,33 @@ static void tail_sums(cell_fn *f, size_t j, const double *row, double *col)
     f->tot[j] = (double)(below + s);
 }
 
-/* The memo, sized by the grid: MEMO_SLOTS_PER_OUTPUT slots per output, up
- * to a table that stays in cache; beyond that only where cells are dear
- * (a cell sums over the levels that reach it, MEMO_DEAR_LEVELS or more on
- * average), up to MEMO_MAX_BITS. A large grid of cheap cells has none: it
- * would miss the cache for most requests and save less than it costs
- * (PAM-4 on 16384 outputs into 256 cells: a fifth of the requests hit a
- * table of 2^15 slots, which saved nothing, and a table of 2^20 took twice
- * the time of none). */
-static qc_status memo_init(cell_fn *f)
+/* The memo of a DP into `cells` cells (none for fewer than 3: their one
+ * layer of splits asks for each cell once), sized by the grid:
+ * MEMO_SLOTS_PER_OUTPUT slots per output, 8 per cell below 8 cells (a
+ * direct-mapped table thrashes when nearly full: PAM-8 at 6 bits on 128
+ * outputs, 1640 distinct cells, took half as long again with 32), up to a
+ * table that stays in cache, or, where cells are dear (a cell sums over
+ * the levels that reach it, MEMO_DEAR_LEVELS or more on average), up to
+ * MEMO_MAX_BITS. A grid of cheap cells beyond MEMO_CHEAP_OUTPUTS has none:
+ * the cached table would miss for most requests and save less than it
+ * costs (PAM-4 on 16384 outputs into 256 cells: a fifth of the requests
+ * hit a table of 2^15 slots, which saved nothing, and a table of 2^20
+ * took twice the time of none). */
+static qc_status memo_init(cell_fn *f, size_t cells)
 {
-    const size_t want = MEMO_SLOTS_PER_OUTPUT * (f->n + 1);
+    if (cells < 3)
+        return QC_OK; /* one layer of splits asks for each cell once */
+    const size_t per_output = cells < MEMO_SLOTS_PER_OUTPUT / 8 ? 8 * cells
+                                                                : MEMO_SLOTS_PER_OUTPUT;
     double reach = 0.0; /* levels summed over per one-output cell */
     for (size_t k = 0; k < f->n; k++)
         reach += f->upto[k + 1] > f->from[k] ? (double)(f->upto[k + 1] - f->from[k]) : 0.0;
-    const unsigned cap = reach >= MEMO_DEAR_LEVELS * (double)f->n ? MEMO_MAX_BITS
-                                                                  : MEMO_CACHED_BITS;
-    if (want > ((size_t)1 << cap) && cap == MEMO_CACHED_BITS)
-        return QC_OK; /* cheap cells on a large grid: no memo */
+    const int dear = reach >= MEMO_DEAR_LEVELS * (double)f->n;
+    if (!dear && f->n + 1 > MEMO_CHEAP_OUTPUTS)
+        return QC_OK;
+    const unsigned cap = dear ? MEMO_MAX_BITS : MEMO_CACHED_BITS;
     f->memo_bits = MEMO_MIN_BITS;
-    while (f->memo_bits < cap && ((size_t)1 << f->memo_bits) < want)
+    while (f->memo_bits < cap && ((size_t)1 << f->memo_bits) < per_output * (f->n + 1))
         f->memo_bits++;
     f->memo = qc_calloc((size_t)1 << f->memo_bits, sizeof *f->memo);
     if (!f->memo)
@@ -196,7 +204,7 @@ static qc_status memo_init(cell_fn *f)
 
 #define CUM_BLOCK 8 /* inputs whose sums are written to cum together */
 
-static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
+static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r, size_t cells)
 {
     const size_t n = d->ny;
     size_t nx = 0;
@@ -234,7 +242,7 @@ static qc_status cell_fn_init(cell_fn *f, const qc_dmc *d, const double *r)
     }
     free(cols);
     reach_init(f, d, r);
-    return memo_init(f);
+    return memo_init(f, cells);
 }
 
 static void cell_fn_free(cell_fn *f)
@@ -378,7 +386,7 @@ qc_status qc_dp_quantize(const qc_dmc *fine, const double *input, size_t cells,
     uint32_t *arg = NULL, *rows = NULL, *cols = NULL, *pool = NULL;
     double *vpool = NULL;
     uint32_t *split = NULL; /* (K − 1) × width: argmax of layers 2..K */
-    st = cell_fn_init(&f, fine, input);
+    st = cell_fn_init(&f, fine, input, K);
     if (st != QC_OK)
         goto done;
     prev = qc_malloc_array(n + 1, sizeof *prev);

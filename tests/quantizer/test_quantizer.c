@@ -241,8 +241,8 @@ static void test_dp_fast_equals_plain(void **state)
 
 /* Channels whose cells sum over many levels (every row has mass on every
  * output): the DP keeps its cell values in a table that may outgrow the
- * cache (dp_optimal.c), here with more outputs than it has slots for
- * distinct cells, so that slots are overwritten; the fast DP still equals
+ * cache (dp_optimal.c), here tables of 2^14 and 2^15 slots that many distinct
+ * cells share, so that slots are overwritten; the fast DP still equals
  * the plain one and its cuts give the value it reports. */
 static void test_dp_wide_alphabet(void **state)
 {
