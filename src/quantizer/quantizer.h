@@ -345,6 +345,13 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
  * where it would end. */
 qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
                           double *t, double *mi_nats, size_t *iterations);
+/* The same as qc_refine_continuous with the first threshold (hold_first)
+ * and the last (hold_last) held where they are, towards the local maximum
+ * of the cells between the held ends, in at most `steps` Newton
+ * iterations (0: until converged); relocate.c rates one slot's thresholds
+ * this way. */
+qc_status qc_refine_held(qc_cell_mi *w, double scale, int hold_first, int hold_last,
+                         size_t steps, double *t, double *mi_nats, size_t *iterations);
 /* Gradient g, Hessian diagonal hd and off-diagonal ho (nt − 1) of
  * I(X;Y_q) at the thresholds t whose channel, output law and log ratios
  * the workspace holds (qc_cell_mi_eval was just called at t), by the exact
@@ -367,10 +374,12 @@ qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
 
 /* ---- relocate.c ------------------------------------------------------ */
 
-/* From refined thresholds t (rate *mi_nats, continuous outputs): move the
- * threshold whose removal costs least to the cell that gains most from a
- * split, refine (qc_refine_continuous), and keep the move only if the
- * rate rises; repeated while it does (a few rounds). t and *mi_nats are
+/* From refined thresholds t (rate *mi_nats, continuous outputs): move a
+ * threshold from one slot between neighbouring levels to another, the
+ * moves rated first slot by slot (each slot's rate change with one
+ * threshold fewer and one more, refined with its neighbours held), the
+ * best then refined whole (qc_refine_trial); a move is kept only if the
+ * rate rises, and rounds repeat while one does (a few). t and *mi_nats are
  * updated; *iterations (may be NULL) adds the Newton iterations. */
 qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                  size_t *iterations);

@@ -18,8 +18,10 @@
  * one rate evaluation and two densities per threshold and level; it stops
  * when a step falls below 10⁻¹¹ of the spacing, or after an undamped
  * Newton step (exact curvature of the right sign) below 10⁻⁶ of it, whose
- * successor would be below 10⁻¹¹. Count outputs: integer coordinate
- * search (pattern search, doubling steps). */
+ * successor would be below 10⁻¹¹. qc_refine_held takes the same steps
+ * with the first and the last threshold held (their gradient and
+ * coupling set to 0), which relocate.c uses to rate one slot. Count
+ * outputs: integer coordinate search (pattern search, doubling steps). */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
@@ -145,14 +147,28 @@ static int damped_step(size_t nt, const double *hd, const double *ho, const doub
            GSL_SUCCESS;
 }
 
-qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
-                               size_t *iterations)
+/* A held threshold: no gradient, no coupling, a curvature of the
+ * largest size (so that the system stays regular and its step is 0). */
+static void hold_ends(size_t nt, const int held[2], double hmax, double *g, double *hd,
+                      double *ho)
 {
-    return qc_refine_trial(w, scale, -INFINITY, NULL, t, mi_nats, iterations);
+    for (int end = 0; end < 2; end++) {
+        if (!held[end])
+            continue;
+        size_t j = end ? nt - 1 : 0;
+        g[j] = 0.0;
+        hd[j] = -(hmax > 0.0 ? hmax : 1.0);
+        if (nt > 1)
+            ho[end ? nt - 2 : 0] = 0.0;
+    }
 }
 
-qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
-                          double *t, double *mi_nats, size_t *iterations)
+/* The Newton iterations of qc_refine_trial; held[0] and held[1] keep the
+ * first and the last threshold where they are; at most `steps` of them
+ * (0: as many as convergence takes). */
+static qc_status refine(qc_cell_mi *w, double scale, double target, const double *home,
+                        const int held[2], size_t steps, double *t, double *mi_nats,
+                        size_t *iterations)
 {
     qc_gsl_init();
     const size_t nt = w->nt, nx = w->nlevels;
@@ -171,6 +187,8 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
     int at_t = 1; /* the workspace holds the channel of t */
     size_t maxit = NEWTON_WORK / (nt * nx);
     maxit = maxit < 8 ? 8 : maxit > QC_NEWTON_MAX_ITER ? QC_NEWTON_MAX_ITER : maxit;
+    if (steps > 0 && steps < maxit)
+        maxit = steps;
     for (size_t it = 0; st == QC_OK && it < maxit; it++) {
         if (!at_t && (st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
@@ -178,8 +196,10 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
         if (!qc_cell_mi_derivatives(w, t, h, g, hd, ho, f, F))
             break;
         double hmax = 0.0;
-        for (size_t j = 0; j < nt; j++) {
+        for (size_t j = 0; j < nt; j++)
             hmax = fmax(hmax, fabs(hd[j]));
+        hold_ends(nt, held, hmax, g, hd, ho);
+        for (size_t j = 0; j < nt; j++) {
             double s = INFINITY;
             if (j > 0)
                 s = fmin(s, t[j] - t[j - 1]);
@@ -254,6 +274,33 @@ qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const doub
         *mi_nats = mi;
     free(work);
     return st;
+}
+
+qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *mi_nats,
+                               size_t *iterations)
+{
+    static const int free_ends[2] = {0, 0};
+    return refine(w, scale, -INFINITY, NULL, free_ends, 0, t, mi_nats, iterations);
+}
+
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
+                          double *t, double *mi_nats, size_t *iterations)
+{
+    static const int free_ends[2] = {0, 0};
+    return refine(w, scale, target, home, free_ends, 0, t, mi_nats, iterations);
+}
+
+qc_status qc_refine_held(qc_cell_mi *w, double scale, int hold_first, int hold_last,
+                         size_t steps, double *t, double *mi_nats, size_t *iterations)
+{
+    const int held[2] = {hold_first, hold_last};
+    if (w->nt == (size_t)(hold_first != 0) + (size_t)(hold_last != 0) ||
+        (w->nt == 1 && (hold_first || hold_last))) { /* nothing to move */
+        if (iterations)
+            *iterations = 0;
+        return qc_cell_mi_eval(w, t, mi_nats, NULL);
+    }
+    return refine(w, scale, -INFINITY, NULL, held, steps, t, mi_nats, iterations);
 }
 
 #define COUNT_SWEEPS 200

@@ -1,38 +1,41 @@
-/* relocate.c — moving one threshold to another cell, to leave a local
+/* relocate.c — moving one threshold to another slot, to leave a local
  * maximum of I(X;Y_q) for a better one. With more cells than levels the
- * rate has several local maxima that differ in how many thresholds sit
- * between each pair of levels, often by 1e-6 bit or less — below what a
- * coarse grid resolves. As in the enhanced LBG algorithm (Patanè &
- * Russo, "The enhanced LBG algorithm", Neural Networks 14(9), 2001), the
- * threshold whose removal costs least is taken out and a new one splits
- * the cell that gains most from a split:
- *  - removal cost of t_j: g(c_j) + g(c_{j+1}) − g(c_j ∪ c_{j+1}), exact,
- *    with g the cell term Σ_x r(x) P log P − q log q of I(X;Y_q);
- *  - split gain of cell [a, b): max over RELOCATE_SPLITS evenly spaced
- *    points y of g([a, y)) + g([y, b)) − g([a, b)) (outer cells end at
- *    the support);
- *  - moves of the RELOCATE_PICK cheapest removals to the cells within
- *    RELOCATE_REACH places of them, largest gain − cost first (at most
- *    RELOCATE_TRIALS of them), are each refined by
- *    Newton steps (refine.c) and the first that raises the rate by more
- *    than rounding (RELOCATE_MIN_GAIN) is kept; then the search starts
- *    again, at most RELOCATE_ROUNDS times. A trial ends early once its
- *    Newton model cannot reach the incumbent's rate, or once it has slid
- *    back beside the incumbent (qc_refine_trial).
- * Only a move that raises the refined rate is kept, so the rate never
- * drops. */
+ * rate has several local maxima that differ in how many thresholds sit in
+ * each slot (between the outputs of two neighbouring levels sent, or
+ * beyond the outermost; a level's output is placed at its mean), often
+ * by 1e-6 bit or less — below what a grid resolves. As in the enhanced
+ * LBG algorithm (Patanè & Russo, "The enhanced LBG algorithm", Neural
+ * Networks 14(9), 2001), a threshold leaves the slot where it is worth
+ * least for one where one more is worth more.
+ * A slot's worth is rated locally: I(X;Y_q) is a sum of cell terms
+ * g(c) = Σ_x r(x) P_c(x) log P_c(x) − q_c log q_c, each fixed by its
+ * cell's two ends, so with a slot's neighbours held a change of its
+ * thresholds changes the rate exactly by the change of the cells between
+ * them, which costs a few thresholds' worth of work. Each round rates,
+ * slot by slot, one threshold fewer (the one whose merge costs least
+ * taken out) and one more (started in the middle of the slot's widest
+ * gap), each after SLOT_STEPS Newton steps with the neighbours held
+ * (qc_refine_held). For slots that are not neighbours, drop + add is the
+ * exact rate change of the composed thresholds; held neighbours make it
+ * low, by about as much for every move, so it ranks the moves and the
+ * RELOCATE_TRIALS best are refined whole (qc_refine_trial, from the
+ * composed thresholds). The first that raises the rate by more than
+ * rounding (RELOCATE_MIN_GAIN) is kept; rounds repeat while one is, at
+ * most RELOCATE_ROUNDS. Only a move that raises the refined rate is
+ * kept, so the rate never drops. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#define RELOCATE_SPLITS 3 /* trial split points per cell */
-#define RELOCATE_PICK 3   /* cheapest removals tried */
-#define RELOCATE_REACH 64 /* cells on either side of a removal tried */
-#define RELOCATE_TRIALS 16 /* moves refined per round */
+#define RELOCATE_TRIALS 12      /* moves refined whole per round */
 #define RELOCATE_MIN_GAIN 1e-13 /* × the rate: a smaller gain is rounding */
-#define RELOCATE_ROUNDS 4
+#define RELOCATE_ROUNDS 8
+#define SLOT_STEPS 2 /* Newton iterations that rate a slot's change: enough
+                         to rank the moves, which are then refined whole */
+#define OUTER_START 2.0 /* × the noise scale: a new outermost threshold's start
+                           beyond its neighbour */
 
 /* Cell term of the probabilities p[x] (nx of them) under the law r. */
 static double cell_term(const double *r, const double *p, size_t nx)
@@ -46,145 +49,247 @@ static double cell_term(const double *r, const double *p, size_t nx)
     return q > 0.0 ? s - q * log(q) : s;
 }
 
+/* The thresholds between two neighbouring levels sent (or beyond the
+ * outermost), and the rate changes of one fewer and one more there. */
 typedef struct {
-    size_t j, c;  /* remove threshold j, split cell c */
-    double score; /* estimated rate change */
-} move;
+    double lo, hi;          /* the levels around the slot (±∞ outside) */
+    size_t first, n;        /* its thresholds t[first .. first + n) */
+    double drop, add;       /* rate change, nats (−∞: not possible) */
+    double *t_drop, *t_add; /* their thresholds: n − 1 and n + 1 */
+} slot;
 
-static int by_score(const void *a, const void *b)
+static int by_value(const void *a, const void *b)
 {
-    double x = ((const move *)a)->score, y = ((const move *)b)->score;
-    return (x < y) - (x > y);
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
 }
 
-/* Indices of the (at most) k smallest (sign +1) or largest (−1) finite
- * entries of v[0..n), best first. */
-static size_t pick(const double *v, size_t n, double sign, size_t k, size_t *out)
+/* Where the output of each level sent lies (its mean; the middle of its
+ * support when the model gives no moments), sorted, into lv; their
+ * number. Levels and outputs may have different units (intensity and
+ * electrons), so the slots are bounded by these. */
+static size_t sent_levels(const qc_cell_mi *w, double *lv)
 {
-    size_t m = 0;
-    for (; m < k; m++) {
-        size_t best = n;
-        for (size_t i = 0; i < n; i++) {
-            int taken = 0;
-            for (size_t p = 0; p < m; p++)
-                taken |= out[p] == i;
-            if (!taken && isfinite(v[i]) && (best == n || sign * v[i] < sign * v[best]))
-                best = i;
-        }
-        if (best == n)
-            break;
-        out[m] = best;
+    const qc_model_type *ty = qc_model_get_type(w->model);
+    size_t n = 0;
+    for (size_t x = 0; x < w->nlevels; x++) {
+        if (!(w->input[x] > 0.0))
+            continue;
+        double mean, var;
+        if (!ty->moments || ty->moments(w->model, w->levels[x], &mean, &var) != QC_OK ||
+            !isfinite(mean))
+            mean = 0.5 * (w->sup_lo[x] + w->sup_hi[x]);
+        if (isfinite(mean))
+            lv[n++] = mean;
     }
-    return m;
+    qsort(lv, n, sizeof *lv, by_value);
+    return n;
+}
+
+/* The rate of the cells between slot s's neighbours (t[first − 1] and
+ * t[first + n], held) with `inner` (m thresholds) between them; refine:
+ * Newton steps on inner first (qc_refine_held), which it then holds. */
+static qc_status slot_rate(const qc_cell_mi *w, double scale, const double *t, const slot *s,
+                           double *inner, size_t m, int refine, double *rate,
+                           size_t *iterations)
+{
+    const int left = s->first > 0, right = s->first + s->n < w->nt;
+    const size_t nu = m + (size_t)left + (size_t)right;
+    qc_cell_mi *sub = NULL;
+    double *u = qc_malloc_array(nu, sizeof *u);
+    if (!u)
+        return qc_fail(QC_ENOMEM, "out of memory for a slot of %zu thresholds", m);
+    qc_status st = qc_cell_mi_alloc(w->model, w->levels, w->input, w->nlevels, nu, &sub);
+    if (st == QC_OK) {
+        sub->clip = w->clip;
+        if (left)
+            u[0] = t[s->first - 1];
+        memcpy(u + left, inner, m * sizeof *u);
+        if (right)
+            u[nu - 1] = t[s->first + s->n];
+        size_t it = 0;
+        st = refine ? qc_refine_held(sub, scale, left, right, SLOT_STEPS, u, rate, &it)
+                    : qc_cell_mi_eval(sub, u, rate, NULL);
+        if (refine)
+            memcpy(inner, u + left, m * sizeof *u);
+        if (iterations)
+            *iterations += it;
+    }
+    qc_cell_mi_free(sub);
+    free(u);
+    return st;
+}
+
+/* Slot s with one threshold fewer: the one whose merge costs least
+ * (exactly, from the channel w holds at t) taken out, the rest refined. */
+static qc_status slot_drop(const qc_cell_mi *w, double scale, const double *t, slot *s,
+                           double base, size_t *iterations)
+{
+    const size_t nx = w->nlevels, K = w->nt + 1;
+    const double *P = w->channel->p, *r = w->input;
+    s->drop = -INFINITY;
+    if (s->n == 0)
+        return QC_OK;
+    double *pa = qc_malloc_array(3 * nx, sizeof *pa);
+    if (!pa)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double *pb = pa + nx, *pm = pb + nx;
+    size_t cheapest = s->first;
+    double least = INFINITY;
+    for (size_t j = s->first; j < s->first + s->n; j++) {
+        for (size_t x = 0; x < nx; x++) {
+            pa[x] = P[x * K + j];
+            pb[x] = P[x * K + j + 1];
+            pm[x] = pa[x] + pb[x];
+        }
+        double cost = cell_term(r, pa, nx) + cell_term(r, pb, nx) - cell_term(r, pm, nx);
+        if (cost < least) {
+            least = cost;
+            cheapest = j;
+        }
+    }
+    free(pa);
+    size_t m = 0;
+    for (size_t j = s->first; j < s->first + s->n; j++)
+        if (j != cheapest)
+            s->t_drop[m++] = t[j];
+    double rate;
+    qc_status st = slot_rate(w, scale, t, s, s->t_drop, m, 1, &rate, iterations);
+    if (st == QC_OK && isfinite(rate))
+        s->drop = rate - base;
+    return st;
+}
+
+/* Slot s with one threshold more, started in the middle of its widest
+ * gap (the levels around it bound the slot), refined. */
+static qc_status slot_add(const qc_cell_mi *w, double scale, const double *t, slot *s,
+                          double base, size_t *iterations)
+{
+    const double *own = t + s->first;
+    double a = s->lo, b = s->hi;
+    if (!isfinite(a))
+        a = (s->n ? own[0] : b) - OUTER_START * scale;
+    if (!isfinite(b))
+        b = (s->n ? own[s->n - 1] : a) + OUTER_START * scale;
+    s->add = -INFINITY;
+    /* the widest of the gaps a | own[0] | … | own[n − 1] | b */
+    size_t at = 0;
+    double widest = -INFINITY;
+    for (size_t k = 0; k <= s->n; k++) {
+        double from = k ? own[k - 1] : a, to = k < s->n ? own[k] : b;
+        if (to - from > widest) {
+            widest = to - from;
+            at = k;
+        }
+    }
+    if (!(widest > 0.0))
+        return QC_OK;
+    memcpy(s->t_add, own, at * sizeof *own);
+    s->t_add[at] = 0.5 * ((at ? own[at - 1] : a) + (at < s->n ? own[at] : b));
+    memcpy(s->t_add + at + 1, own + at, (s->n - at) * sizeof *own);
+    double rate;
+    qc_status st = slot_rate(w, scale, t, s, s->t_add, s->n + 1, 1, &rate, iterations);
+    if (st == QC_OK && isfinite(rate))
+        s->add = rate - base;
+    return st;
+}
+
+/* Thresholds t among the slots: their ends and the start of each. */
+static void fill_slots(const double *lv, size_t nlv, const double *t, size_t nt,
+                       slot *sl, double *store)
+{
+    size_t j = 0;
+    for (size_t g = 0; g <= nlv; g++) {
+        slot *s = sl + g;
+        s->lo = g ? lv[g - 1] : -INFINITY;
+        s->hi = g < nlv ? lv[g] : INFINITY;
+        s->first = j;
+        while (j < nt && (g == nlv || t[j] <= s->hi))
+            j++;
+        s->n = j - s->first;
+        /* drop: n − 1 thresholds, add: n + 1, side by side */
+        s->t_drop = store + 2 * s->first + g;
+        s->t_add = s->t_drop + (s->n ? s->n - 1 : 0);
+    }
+}
+
+/* The thresholds of t with slot A's replaced by its drop and slot B's by
+ * its add, in order, into tt; 0 if two of them coincide. */
+static int compose(const slot *sl, size_t nslots, const double *t, size_t A, size_t B,
+                   double *tt, size_t nt)
+{
+    size_t n = 0;
+    for (size_t g = 0; g < nslots; g++) {
+        const slot *s = sl + g;
+        const double *from = g == A ? s->t_drop : g == B ? s->t_add : t + s->first;
+        size_t m = g == A ? s->n - 1 : g == B ? s->n + 1 : s->n;
+        memcpy(tt + n, from, m * sizeof *tt);
+        n += m;
+    }
+    qsort(tt, nt, sizeof *tt, by_value); /* neighbouring slots may overlap */
+    for (size_t j = 0; j < nt; j++)
+        if (!isfinite(tt[j]) || (j > 0 && !(tt[j] > tt[j - 1])))
+            return 0;
+    return 1;
+}
+
+typedef struct {
+    size_t from, to; /* a threshold leaves slot `from` for slot `to` */
+    double change;   /* drop[from] + add[to], nats */
+} move;
+
+static int by_change(const void *a, const void *b)
+{
+    double x = ((const move *)a)->change, y = ((const move *)b)->change;
+    return (x < y) - (x > y);
 }
 
 qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                  size_t *iterations)
 {
-    const size_t nt = w->nt, K = nt + 1, nx = w->nlevels;
-    if (nt < 2)
+    const size_t nt = w->nt, nx = w->nlevels;
+    if (nt < 2 || !(nx > 0))
         return QC_OK;
-    const qc_model_type *ty = qc_model_get_type(w->model);
-    const double *r = w->input;
-    double lo, hi;
-    qc_levels_support(w->model, w->levels, nx, &lo, &hi);
-    /* one block: cost[nt], gain[K], split[K], tt[nt], pa[3·nx] and the
-     * CDFs at the cell ends ca[2·(nt + 2)·nx] */
-    double *cost = qc_malloc_array(2 * nt + 2 * K + 3 * nx + 2 * (nt + 2) * nx, sizeof *cost);
-    if (!cost)
+    /* one block: lv[nx], tt[nt], the slots' thresholds store[2·nt + nx + 1] */
+    double *lv = qc_malloc_array(nx + nt + 2 * nt + nx + 1, sizeof *lv);
+    const size_t nlv = lv ? sent_levels(w, lv) : 0, nslots = nlv + 1;
+    slot *sl = qc_malloc_array(nslots, sizeof *sl);
+    move *mv = qc_malloc_array(nslots * nslots, sizeof *mv);
+    if (!lv || !sl || !mv) {
+        free(lv);
+        free(sl);
+        free(mv);
         return qc_fail(QC_ENOMEM, "out of memory for moving %zu thresholds", nt);
-    double *gain = cost + nt, *split = gain + K, *tt = split + K, *pa = tt + nt;
-    double *ca = pa + 3 * nx;
-    double *pb = pa + nx, *pm = pa + 2 * nx;
+    }
+    double *tt = lv + nx, *store = tt + nt;
     qc_status st = QC_OK;
     double mi = *mi_nats;
     for (int round = 0; round < RELOCATE_ROUNDS && st == QC_OK; round++) {
         if ((st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
-        const double *P = w->channel->p;
-        for (size_t j = 0; j < nt; j++) {
-            for (size_t x = 0; x < nx; x++) {
-                pa[x] = P[x * K + j];
-                pb[x] = P[x * K + j + 1];
-                pm[x] = pa[x] + pb[x];
-            }
-            cost[j] = cell_term(r, pa, nx) + cell_term(r, pb, nx) - cell_term(r, pm, nx);
+        fill_slots(lv, nlv, t, nt, sl, store);
+        /* each slot's rate changes, exact for the cells between its
+         * held neighbours */
+        for (size_t g = 0; g < nslots && st == QC_OK; g++) {
+            double base;
+            st = slot_rate(w, scale, t, sl + g, t + sl[g].first, sl[g].n, 0, &base, NULL);
+            if (st == QC_OK)
+                st = slot_drop(w, scale, t, sl + g, base, iterations);
+            if (st == QC_OK)
+                st = slot_add(w, scale, t, sl + g, base, iterations);
         }
-        /* CDFs below and above every cell end e_0 = lo, e_{j+1} = t_j,
-         * e_K = hi */
-        for (size_t e = 0; e <= K; e++) {
-            double y = e == 0 ? fmin(lo, t[0] - scale) : e == K ? fmax(hi, t[nt - 1] + scale)
-                                                               : t[e - 1];
-            for (size_t x = 0; x < nx; x++)
-                if (r[x] > 0.0) { /* the cell terms pass over the others */
-                    ca[(2 * e) * nx + x] = ty->below(w->model, w->levels[x], y);
-                    ca[(2 * e + 1) * nx + x] = ty->above(w->model, w->levels[x], y);
-                }
-        }
-        for (size_t c = 0; c < K; c++) {
-            double a = c == 0 ? fmin(lo, t[0] - scale) : t[c - 1];
-            double b = c == nt ? fmax(hi, t[nt - 1] + scale) : t[c];
-            for (size_t x = 0; x < nx; x++)
-                pm[x] = P[x * K + c];
-            double whole = cell_term(r, pm, nx);
-            gain[c] = -INFINITY;
-            split[c] = NAN;
-            const double *alo = ca + 2 * c * nx, *ahi = alo + nx;
-            const double *blo = ca + 2 * (c + 1) * nx, *bhi = blo + nx;
-            for (size_t u = 1; u <= RELOCATE_SPLITS; u++) {
-                double y = a + (b - a) * (double)u / (double)(RELOCATE_SPLITS + 1);
-                if (!(y > a && y < b))
-                    continue;
-                for (size_t x = 0; x < nx; x++) {
-                    if (!(r[x] > 0.0))
-                        continue;
-                    double ylo = ty->below(w->model, w->levels[x], y);
-                    double yhi = ty->above(w->model, w->levels[x], y);
-                    /* same tail choice as discretize.c; outer cells
-                     * reach to ±∞ */
-                    pa[x] = c == 0 ? ylo : ahi[x] < ylo ? ahi[x] - yhi : ylo - alo[x];
-                    pb[x] = c == nt ? yhi : yhi < blo[x] ? yhi - bhi[x] : blo[x] - ylo;
-                    pa[x] = fmax(pa[x], 0.0);
-                    pb[x] = fmax(pb[x], 0.0);
-                }
-                double v = cell_term(r, pa, nx) + cell_term(r, pb, nx) - whole;
-                if (isfinite(v) && v > gain[c]) {
-                    gain[c] = v;
-                    split[c] = y;
-                }
-            }
-        }
-        size_t cj[RELOCATE_PICK];
-        size_t nj = pick(cost, nt, 1.0, RELOCATE_PICK, cj);
-        move mv[RELOCATE_PICK * 2 * RELOCATE_REACH];
+        if (st != QC_OK)
+            break;
         size_t nm = 0;
-        for (size_t a = 0; a < nj; a++)
-            for (size_t c = cj[a] > RELOCATE_REACH ? cj[a] - RELOCATE_REACH : 0;
-                 c <= cj[a] + RELOCATE_REACH + 1 && c < K; c++)
-                if (c != cj[a] && c != cj[a] + 1 && isfinite(gain[c]))
-                    mv[nm++] = (move){cj[a], c, gain[c] - cost[cj[a]]};
-        qsort(mv, nm, sizeof *mv, by_score);
+        for (size_t a = 0; a < nslots; a++)
+            for (size_t b = 0; b < nslots; b++)
+                if (a != b && isfinite(sl[a].drop) && isfinite(sl[b].add))
+                    mv[nm++] = (move){a, b, sl[a].drop + sl[b].add};
+        qsort(mv, nm, sizeof *mv, by_change);
         int moved = 0;
         for (size_t i = 0; i < nm && i < RELOCATE_TRIALS && !moved && st == QC_OK; i++) {
-            /* t without t_j, with split[c] in its place in the order */
-            size_t n = 0;
-            for (size_t k = 0; k < nt; k++) {
-                if (k == mv[i].j)
-                    continue;
-                if (n < nt && k == mv[i].c)
-                    tt[n++] = split[mv[i].c];
-                tt[n++] = t[k];
-            }
-            if (mv[i].c == nt)
-                tt[n++] = split[mv[i].c];
-            /* a split of the cell just above a removed threshold lands
-             * one place later; sort the one misplaced entry */
-            for (size_t k = 1; k < nt; k++)
-                for (size_t m = k; m > 0 && tt[m] < tt[m - 1]; m--) {
-                    double s = tt[m];
-                    tt[m] = tt[m - 1];
-                    tt[m - 1] = s;
-                }
+            if (!compose(sl, nslots, t, mv[i].from, mv[i].to, tt, nt))
+                continue;
             double v;
             size_t more = 0;
             st = qc_refine_trial(w, scale, mi, t, tt, &v, &more);
@@ -203,6 +308,8 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         st = qc_cell_mi_eval(w, t, &mi, NULL);
     if (st == QC_OK)
         *mi_nats = mi;
-    free(cost);
+    free(lv);
+    free(sl);
+    free(mv);
     return st;
 }

@@ -204,6 +204,51 @@ static void test_newton_reaches_stationary_point(void **state)
     }
 }
 
+/* Newton steps with both ends held (how the threshold moves rate one
+ * slot): the held thresholds stay bit for bit, the inner ones reach a
+ * stationary point, and the rate of the short quantizer changes by
+ * exactly what the whole one does with the same inner thresholds, since
+ * I(X;Y_q) is a sum of cell terms fixed by each cell's two ends. */
+static void test_refine_held_is_local_and_exact(void **state)
+{
+    (void)state;
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        const case_t *c = &cases[k];
+        qc_model *m = model_of(c);
+        enum { NT = 9, FROM = 2, NU = 5 }; /* u = t[FROM .. FROM + NU) */
+        double t[NT], u[NU], g[NU], lo, hi;
+        qc_levels_support(m, c->levels, c->nlevels, &lo, &hi);
+        for (size_t j = 0; j < NT; j++) /* uneven over the middle half */
+            t[j] = lo + (hi - lo) * (0.25 + 0.5 * pow((double)(j + 1) / (NT + 1), 1.3));
+        double scale = qc_noise_scale(m, c->levels, c->law, c->nlevels);
+        qc_cell_mi *whole, *part;
+        assert_int_equal(qc_cell_mi_alloc(m, c->levels, c->law, c->nlevels, NT, &whole), QC_OK);
+        assert_int_equal(qc_cell_mi_alloc(m, c->levels, c->law, c->nlevels, NU, &part), QC_OK);
+        memcpy(u, t + FROM, sizeof u);
+        double before, after, whole_before, whole_after, check;
+        assert_int_equal(qc_cell_mi_eval(part, u, &before, NULL), QC_OK);
+        size_t it = 0;
+        assert_int_equal(qc_refine_held(part, scale, 1, 1, 0, u, &after, &it), QC_OK);
+        assert_true(it >= 1 && after >= before);
+        assert_true(u[0] == t[FROM] && u[NU - 1] == t[FROM + NU - 1]);
+        assert_int_equal(qc_cell_mi_eval(part, u, &check, g), QC_OK);
+        for (size_t j = 1; j + 1 < NU; j++) {
+            assert_true(u[j] > u[j - 1] && u[j + 1] > u[j]);
+            if (fabs(g[j]) * scale > TOL_GRAD)
+                fail_msg("%s: gradient %g at inner threshold %zu", c->name, g[j], j);
+        }
+        assert_int_equal(qc_cell_mi_eval(whole, t, &whole_before, NULL), QC_OK);
+        memcpy(t + FROM, u, sizeof u);
+        assert_int_equal(qc_cell_mi_eval(whole, t, &whole_after, NULL), QC_OK);
+        double change = after - before, whole_change = whole_after - whole_before;
+        if (!(change > 0.0) || fabs(whole_change - change) > 1e-13 * fmax(1.0, whole_after))
+            fail_msg("%s: held-ends change %.17g, whole %.17g", c->name, change, whole_change);
+        qc_cell_mi_free(whole);
+        qc_cell_mi_free(part);
+        qc_model_free(m);
+    }
+}
+
 /* Width of [lo, hi] in u = ∫ dy/s(y), written out from the rule of
  * scale_grid.c: s linear between the sorted means mu[0..n) (σ sd[i]),
  * flat for 2σ beyond the outer means and then s = d/2. */
@@ -409,6 +454,7 @@ int main(void)
         cmocka_unit_test(test_not_below_exhaustive_dp),
         cmocka_unit_test(test_not_below_own_grid_dp),
         cmocka_unit_test(test_newton_reaches_stationary_point),
+        cmocka_unit_test(test_refine_held_is_local_and_exact),
         cmocka_unit_test(test_grid_sizes),
         cmocka_unit_test(test_dense_alphabet),
         cmocka_unit_test(test_wide_alphabet_clipped_stages),
