@@ -84,7 +84,10 @@ static double cell_value(const cell_fn *f, size_t a, size_t b)
 
 #define MEMO_SLOTS_PER_OUTPUT 64 /* slots per fine output, rounded up to 2^k */
 #define MEMO_MIN_BITS 10
+#define MEMO_SMALL_BITS 12  /* 64 KB of table: on the heap, in cache */
 #define MEMO_CACHED_BITS 15 /* 512 KB of table: it stays in cache */
+#define MEMO_MANY_CELLS 16  /* cells from which a DP asks for a cell often
+                               enough to pay for a table beyond 64 KB */
 #define MEMO_MAX_BITS 18    /* 4 MB of table at most */
 #define MEMO_CHEAP_OUTPUTS 1024 /* cheap cells: a memo up to this many outputs */
 #define MEMO_DEAR_LEVELS 16 /* levels per one-output cell, on average, from
@@ -172,13 +175,21 @@ static void tail_sums(cell_fn *f, size_t j, const double *row, double *col)
  * MEMO_SLOTS_PER_OUTPUT slots per output, 8 per cell below 8 cells (a
  * direct-mapped table thrashes when nearly full: PAM-8 at 6 bits on 128
  * outputs, 1640 distinct cells, took half as long again with 32), up to a
- * table that stays in cache, or, where cells are dear (a cell sums over
+ * table that stays in cache: MEMO_SMALL_BITS below MEMO_MANY_CELLS cells,
+ * MEMO_CACHED_BITS from there, or, where cells are dear (a cell sums over
  * the levels that reach it, MEMO_DEAR_LEVELS or more on average), up to
  * MEMO_MAX_BITS. A grid of cheap cells beyond MEMO_CHEAP_OUTPUTS has none:
  * the cached table would miss for most requests and save less than it
  * costs (PAM-4 on 16384 outputs into 256 cells: a fifth of the requests
  * hit a table of 2^15 slots, which saved nothing, and a table of 2^20
- * took twice the time of none). */
+ * took twice the time of none). A table beyond 64 KB is mapped afresh by
+ * malloc and pays a page fault for each page it touches, which only a
+ * DP of many layers earns back: into 4 cells on 557 outputs (PAM-4 at
+ * 40 dB, 2 bits) a DP asks for 7255 cells, 6890 of them distinct, and a
+ * 2-bit PAM-4 root search over 0 to 40 dB took 2.4 times as long with
+ * 2^15 slots as with 2^12; into 256 cells on 512 outputs (PAM-8 at
+ * 16 dB, 8 bits) it asks 275909 times for 13368 cells, and 2^12 slots
+ * miss 25300 times. */
 static qc_status memo_init(cell_fn *f, size_t cells)
 {
     if (cells < 3)
@@ -191,7 +202,9 @@ static qc_status memo_init(cell_fn *f, size_t cells)
     const int dear = reach >= MEMO_DEAR_LEVELS * (double)f->n;
     if (!dear && f->n + 1 > MEMO_CHEAP_OUTPUTS)
         return QC_OK;
-    const unsigned cap = dear ? MEMO_MAX_BITS : MEMO_CACHED_BITS;
+    const unsigned cap = dear                      ? MEMO_MAX_BITS
+                         : cells >= MEMO_MANY_CELLS ? MEMO_CACHED_BITS
+                                                    : MEMO_SMALL_BITS;
     f->memo_bits = MEMO_MIN_BITS;
     while (f->memo_bits < cap && ((size_t)1 << f->memo_bits) < per_output * (f->n + 1))
         f->memo_bits++;

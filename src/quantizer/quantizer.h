@@ -375,12 +375,13 @@ qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
 /* ---- relocate.c ------------------------------------------------------ */
 
 /* From refined thresholds t (rate *mi_nats, continuous outputs): move a
- * threshold from one slot between neighbouring levels to another, the
- * moves rated first slot by slot (each slot's rate change with one
- * threshold fewer and one more, refined with its neighbours held), the
- * best then refined whole (qc_refine_trial); a move is kept only if the
- * rate rises, and rounds repeat while one does (a few). t and *mi_nats are
- * updated; *iterations (may be NULL) adds the Newton iterations. */
+ * threshold from one slot (between the outputs of neighbouring levels) to
+ * another, the moves rated first slot by slot (each slot's rate change
+ * with one threshold fewer and one more, refined with its neighbours
+ * held), the best then refined whole (qc_refine_trial); a move is kept
+ * only if the rate rises, and rounds repeat while one does (a few). t and
+ * *mi_nats are updated; *iterations (may be NULL) adds the Newton
+ * iterations. */
 qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                  size_t *iterations);
 

@@ -49,10 +49,11 @@ static double cell_term(const double *r, const double *p, size_t nx)
     return q > 0.0 ? s - q * log(q) : s;
 }
 
-/* The thresholds between two neighbouring levels sent (or beyond the
- * outermost), and the rate changes of one fewer and one more there. */
+/* The thresholds between the outputs of two neighbouring levels sent (or
+ * beyond the outermost), and the rate changes of one fewer and one more
+ * there. */
 typedef struct {
-    double lo, hi;          /* the levels around the slot (±∞ outside) */
+    double lo, hi;          /* the outputs of the levels around it (±∞ outside) */
     size_t first, n;        /* its thresholds t[first .. first + n) */
     double drop, add;       /* rate change, nats (−∞: not possible) */
     double *t_drop, *t_add; /* their thresholds: n − 1 and n + 1 */
