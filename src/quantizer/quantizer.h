@@ -381,7 +381,7 @@ qc_status qc_refine_counts(qc_cell_mi *w, double *t, double *mi_nats,
  * held), the best then refined whole (qc_refine_trial); a move is kept
  * only if the rate rises, and rounds repeat while one does (a few). t and
  * *mi_nats are updated; *iterations (may be NULL) adds the Newton
- * iterations. */
+ * iterations on the whole quantizer (not the slots' few steps each). */
 qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
                                  size_t *iterations);
 

@@ -91,8 +91,7 @@ static size_t sent_levels(const qc_cell_mi *w, double *lv)
  * t[first + n], held) with `inner` (m thresholds) between them; refine:
  * Newton steps on inner first (qc_refine_held), which it then holds. */
 static qc_status slot_rate(const qc_cell_mi *w, double scale, const double *t, const slot *s,
-                           double *inner, size_t m, int refine, double *rate,
-                           size_t *iterations)
+                           double *inner, size_t m, int refine, double *rate)
 {
     const int left = s->first > 0, right = s->first + s->n < w->nt;
     const size_t nu = m + (size_t)left + (size_t)right;
@@ -108,13 +107,10 @@ static qc_status slot_rate(const qc_cell_mi *w, double scale, const double *t, c
         memcpy(u + left, inner, m * sizeof *u);
         if (right)
             u[nu - 1] = t[s->first + s->n];
-        size_t it = 0;
-        st = refine ? qc_refine_held(sub, scale, left, right, SLOT_STEPS, u, rate, &it)
+        st = refine ? qc_refine_held(sub, scale, left, right, SLOT_STEPS, u, rate, NULL)
                     : qc_cell_mi_eval(sub, u, rate, NULL);
         if (refine)
             memcpy(inner, u + left, m * sizeof *u);
-        if (iterations)
-            *iterations += it;
     }
     qc_cell_mi_free(sub);
     free(u);
@@ -124,7 +120,7 @@ static qc_status slot_rate(const qc_cell_mi *w, double scale, const double *t, c
 /* Slot s with one threshold fewer: the one whose merge costs least
  * (exactly, from the channel w holds at t) taken out, the rest refined. */
 static qc_status slot_drop(const qc_cell_mi *w, double scale, const double *t, slot *s,
-                           double base, size_t *iterations)
+                           double base)
 {
     const size_t nx = w->nlevels, K = w->nt + 1;
     const double *P = w->channel->p, *r = w->input;
@@ -155,7 +151,7 @@ static qc_status slot_drop(const qc_cell_mi *w, double scale, const double *t, s
         if (j != cheapest)
             s->t_drop[m++] = t[j];
     double rate;
-    qc_status st = slot_rate(w, scale, t, s, s->t_drop, m, 1, &rate, iterations);
+    qc_status st = slot_rate(w, scale, t, s, s->t_drop, m, 1, &rate);
     if (st == QC_OK && isfinite(rate))
         s->drop = rate - base;
     return st;
@@ -164,7 +160,7 @@ static qc_status slot_drop(const qc_cell_mi *w, double scale, const double *t, s
 /* Slot s with one threshold more, started in the middle of its widest
  * gap (the levels around it bound the slot), refined. */
 static qc_status slot_add(const qc_cell_mi *w, double scale, const double *t, slot *s,
-                          double base, size_t *iterations)
+                          double base)
 {
     const double *own = t + s->first;
     double a = s->lo, b = s->hi;
@@ -189,7 +185,7 @@ static qc_status slot_add(const qc_cell_mi *w, double scale, const double *t, sl
     s->t_add[at] = 0.5 * ((at ? own[at - 1] : a) + (at < s->n ? own[at] : b));
     memcpy(s->t_add + at + 1, own + at, (s->n - at) * sizeof *own);
     double rate;
-    qc_status st = slot_rate(w, scale, t, s, s->t_add, s->n + 1, 1, &rate, iterations);
+    qc_status st = slot_rate(w, scale, t, s, s->t_add, s->n + 1, 1, &rate);
     if (st == QC_OK && isfinite(rate))
         s->add = rate - base;
     return st;
@@ -273,11 +269,11 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
          * held neighbours */
         for (size_t g = 0; g < nslots && st == QC_OK; g++) {
             double base;
-            st = slot_rate(w, scale, t, sl + g, t + sl[g].first, sl[g].n, 0, &base, NULL);
+            st = slot_rate(w, scale, t, sl + g, t + sl[g].first, sl[g].n, 0, &base);
             if (st == QC_OK)
-                st = slot_drop(w, scale, t, sl + g, base, iterations);
+                st = slot_drop(w, scale, t, sl + g, base);
             if (st == QC_OK)
-                st = slot_add(w, scale, t, sl + g, base, iterations);
+                st = slot_add(w, scale, t, sl + g, base);
         }
         if (st != QC_OK)
             break;
