@@ -235,10 +235,39 @@ typedef struct {
     double change;   /* drop[from] + add[to], nats */
 } move;
 
+/* Largest change first; ties in the order of the slots. */
 static int by_change(const void *a, const void *b)
 {
-    double x = ((const move *)a)->change, y = ((const move *)b)->change;
-    return (x < y) - (x > y);
+    const move *p = a, *q = b;
+    if (p->change != q->change)
+        return (p->change < q->change) - (p->change > q->change);
+    if (p->from != q->from)
+        return (p->from > q->from) - (p->from < q->from);
+    return (p->to > q->to) - (p->to < q->to);
+}
+
+/* The (at most) k slots of largest finite drop (adds 0) or add (adds 1),
+ * ties to the lower slot, into out; their number. The best k − 1 moves
+ * by drop + add all leave one of the k best drops for one of the k best
+ * adds: a move outside them has k − 1 moves at least as good ahead of
+ * it. */
+static size_t best_slots(const slot *sl, size_t nslots, int adds, size_t k, size_t *out)
+{
+    size_t m = 0;
+    for (size_t g = 0; g < nslots; g++) {
+        double v = adds ? sl[g].add : sl[g].drop;
+        if (!isfinite(v))
+            continue;
+        size_t at = m < k ? m++ : k; /* insert below the better ones */
+        while (at > 0 && v > (adds ? sl[out[at - 1]].add : sl[out[at - 1]].drop)) {
+            if (at < k)
+                out[at] = out[at - 1];
+            at--;
+        }
+        if (at < k)
+            out[at] = g;
+    }
+    return m;
 }
 
 qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double *mi_nats,
@@ -251,13 +280,13 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
     double *lv = qc_malloc_array(nx + nt + 2 * nt + nx + 1, sizeof *lv);
     const size_t nlv = lv ? sent_levels(w, lv) : 0, nslots = nlv + 1;
     slot *sl = qc_malloc_array(nslots, sizeof *sl);
-    move *mv = qc_malloc_array(nslots * nslots, sizeof *mv);
-    if (!lv || !sl || !mv) {
+    if (!lv || !sl) {
         free(lv);
         free(sl);
-        free(mv);
         return qc_fail(QC_ENOMEM, "out of memory for moving %zu thresholds", nt);
     }
+    size_t give[RELOCATE_TRIALS + 1], take[RELOCATE_TRIALS + 1];
+    move mv[(RELOCATE_TRIALS + 1) * (RELOCATE_TRIALS + 1)];
     double *tt = lv + nx, *store = tt + nt;
     qc_status st = QC_OK;
     double mi = *mi_nats;
@@ -277,11 +306,13 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         }
         if (st != QC_OK)
             break;
-        size_t nm = 0;
-        for (size_t a = 0; a < nslots; a++)
-            for (size_t b = 0; b < nslots; b++)
-                if (a != b && isfinite(sl[a].drop) && isfinite(sl[b].add))
-                    mv[nm++] = (move){a, b, sl[a].drop + sl[b].add};
+        /* the best moves, from the best drops to the best adds */
+        size_t ng = best_slots(sl, nslots, 0, RELOCATE_TRIALS + 1, give);
+        size_t nk = best_slots(sl, nslots, 1, RELOCATE_TRIALS + 1, take), nm = 0;
+        for (size_t a = 0; a < ng; a++)
+            for (size_t b = 0; b < nk; b++)
+                if (give[a] != take[b])
+                    mv[nm++] = (move){give[a], take[b], sl[give[a]].drop + sl[take[b]].add};
         qsort(mv, nm, sizeof *mv, by_change);
         int moved = 0;
         for (size_t i = 0; i < nm && i < RELOCATE_TRIALS && !moved && st == QC_OK; i++) {
@@ -307,6 +338,5 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         *mi_nats = mi;
     free(lv);
     free(sl);
-    free(mv);
     return st;
 }
