@@ -170,26 +170,21 @@ static void tail_sums(cell_fn *f, size_t j, const double *row, double *col)
     f->tot[j] = (double)(below + s);
 }
 
-/* The memo of a DP into `cells` cells (none for fewer than 3: their one
- * layer of splits asks for each cell once), sized by the grid:
- * MEMO_SLOTS_PER_OUTPUT slots per output, 8 per cell below 8 cells (a
- * direct-mapped table thrashes when nearly full: PAM-8 at 6 bits on 128
- * outputs, 1640 distinct cells, took half as long again with 32), up to a
- * table that stays in cache: MEMO_SMALL_BITS below MEMO_MANY_CELLS cells,
- * MEMO_CACHED_BITS from there, or, where cells are dear (a cell sums over
- * the levels that reach it, MEMO_DEAR_LEVELS or more on average), up to
- * MEMO_MAX_BITS. A grid of cheap cells beyond MEMO_CHEAP_OUTPUTS has none:
- * the cached table would miss for most requests and save less than it
- * costs (PAM-4 on 16384 outputs into 256 cells: a fifth of the requests
- * hit a table of 2^15 slots, which saved nothing, and a table of 2^20
- * took twice the time of none). A table beyond 64 KB is mapped afresh by
- * malloc and pays a page fault for each page it touches, which only a
- * DP of many layers earns back: into 4 cells on 557 outputs (PAM-4 at
- * 40 dB, 2 bits) a DP asks for 7255 cells, 6890 of them distinct, and a
- * 2-bit PAM-4 root search over 0 to 40 dB took 2.4 times as long with
- * 2^15 slots as with 2^12; into 256 cells on 512 outputs (PAM-8 at
- * 16 dB, 8 bits) it asks 275909 times for 13368 cells, and 2^12 slots
- * miss 25300 times. */
+/* The memo of a DP into `cells` cells, sized by the grid (the figures
+ * behind each rule are in docs/methods.md §4):
+ *  - none below 3 cells: their one layer of splits asks for each cell
+ *    once;
+ *  - MEMO_SLOTS_PER_OUTPUT slots per output, 8 per cell below 8 cells: a
+ *    direct-mapped table thrashes when nearly full;
+ *  - at most MEMO_SMALL_BITS below MEMO_MANY_CELLS cells and
+ *    MEMO_CACHED_BITS from there: a table beyond 64 KB is mapped afresh by
+ *    malloc and pays a page fault for each page it touches, which only a
+ *    DP of many layers, asking for each cell many times, earns back;
+ *  - up to MEMO_MAX_BITS where cells are dear (a cell sums over the levels
+ *    that reach it, MEMO_DEAR_LEVELS or more on average);
+ *  - none for a grid of cheap cells beyond MEMO_CHEAP_OUTPUTS outputs,
+ *    where a table in cache would miss for most requests and save less
+ *    than it costs. */
 static qc_status memo_init(cell_fn *f, size_t cells)
 {
     if (cells < 3)

@@ -294,8 +294,7 @@ qc_status qc_refine_held(qc_cell_mi *w, double scale, int hold_first, int hold_l
                          size_t steps, double *t, double *mi_nats, size_t *iterations)
 {
     const int held[2] = {hold_first, hold_last};
-    if (w->nt == (size_t)(hold_first != 0) + (size_t)(hold_last != 0) ||
-        (w->nt == 1 && (hold_first || hold_last))) { /* nothing to move */
+    if (w->nt <= (size_t)(hold_first != 0) + (size_t)(hold_last != 0)) { /* nothing to move */
         if (iterations)
             *iterations = 0;
         return qc_cell_mi_eval(w, t, mi_nats, NULL);
