@@ -9,12 +9,42 @@
  * beyond its support and visits only the band of cells the support
  * reaches (in the rows, the output law and the sums), and at a threshold
  * only the levels whose support reaches it (qc_cell_mi_reach), so that a
- * wide alphabet costs its levels' reach, not levels × cells. */
+ * wide alphabet costs its levels' reach, not levels × cells. The
+ * workspace also keeps each level's mean and variance when the law given
+ * it is Gaussian (for the density's exact slope, refine.c), and tells
+ * whether the channel at given thresholds is its own mirror image (for
+ * the threshold moves, relocate.c). */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
 #include <math.h>
 #include <stdlib.h>
+
+/* Each level's mean and 1/variance when the law given it is Gaussian
+ * with the model's moments; left NULL for other models, or when a
+ * level's variance is not positive and finite. */
+static qc_status gaussian_moments(qc_cell_mi *w)
+{
+    const qc_model_type *ty = qc_model_get_type(w->model);
+    if (!(ty->properties & QC_MODEL_GAUSSIAN_LAW) || !ty->moments)
+        return QC_OK;
+    double *mean = qc_malloc_array(2 * w->nlevels, sizeof *mean);
+    if (!mean)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double *inv_var = mean + w->nlevels;
+    for (size_t x = 0; x < w->nlevels; x++) {
+        double var;
+        if (ty->moments(w->model, w->levels[x], &mean[x], &var) != QC_OK ||
+            !isfinite(mean[x]) || !(var > 0.0) || !isfinite(1.0 / var)) {
+            free(mean);
+            return QC_OK;
+        }
+        inv_var[x] = 1.0 / var;
+    }
+    w->mean = mean;
+    w->inv_var = inv_var;
+    return QC_OK;
+}
 
 qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
                            const double *input, size_t nlevels, size_t nt,
@@ -51,6 +81,10 @@ qc_status qc_cell_mi_alloc(const qc_model *model, const double *levels,
     for (size_t x = 0; x < nlevels; x++)
         qc_model_get_type(model)->support(model, levels[x], &w->sup_lo[x], &w->sup_hi[x]);
     w->supports_ordered = qc_supports_ordered(w->sup_lo, w->sup_hi, nlevels);
+    if ((st = gaussian_moments(w)) != QC_OK) {
+        qc_cell_mi_free(w);
+        return st;
+    }
     *out = w;
     return QC_OK;
 }
@@ -67,6 +101,7 @@ void qc_cell_mi_free(qc_cell_mi *w)
     free(w->lr);
     free(w->sup_lo);
     free(w->sup_hi);
+    free(w->mean); /* one block with inv_var */
     free(w->band);
     free(w->written);
     free(w);
@@ -242,4 +277,31 @@ qc_status qc_cell_mi_clipped_objective(void *ctx, const double *t, size_t nt, do
     qc_status st = qc_cell_mi_objective(w, t, nt, value);
     w->clip = clip;
     return st;
+}
+
+#define MIRROR_AT 1e-6     /* × the spacing: thresholds this near their mirror image */
+#define MIRROR_P 1e-5      /* relative: probabilities this near their mirror image */
+#define MIRROR_FLOOR 1e-15 /* absolute, for probabilities of the far tails */
+
+int qc_cell_mi_mirrored(const qc_cell_mi *w, const double *t)
+{
+    const size_t nx = w->nlevels, nt = w->nt, K = nt + 1;
+    const double *P = w->channel->p, *r = w->input;
+    const double mid2 = nt ? t[0] + t[nt - 1] : 0.0;
+    for (size_t j = 0; j < nt; j++) {
+        double gap = fmin(j > 0 ? t[j] - t[j - 1] : INFINITY,
+                          j + 1 < nt ? t[j + 1] - t[j] : INFINITY);
+        if (!(fabs(t[j] + t[nt - 1 - j] - mid2) <= MIRROR_AT * gap))
+            return 0;
+    }
+    for (size_t x = 0; x < nx; x++) {
+        if (!(fabs(r[x] - r[nx - 1 - x]) <= MIRROR_P * (r[x] + r[nx - 1 - x])))
+            return 0;
+        for (size_t k = 0; k < K; k++) {
+            double a = P[x * K + k], b = P[(nx - 1 - x) * K + K - 1 - k];
+            if (!(fabs(a - b) <= MIRROR_P * (a + b) + MIRROR_FLOOR))
+                return 0;
+        }
+    }
+    return 1;
 }

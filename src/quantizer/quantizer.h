@@ -48,6 +48,10 @@ typedef struct {
                             exactly */
     int supports_ordered; /* both ends of the supports never fall from one
                              level to the next (qc_cell_mi_reach)       */
+    double *mean, *inv_var; /* a Gaussian law given each level
+                               (QC_MODEL_GAUSSIAN_LAW): its mean and
+                               1/variance, whose density has the slope
+                               −(y − mean)·f/variance; NULL otherwise   */
 } qc_cell_mi;
 
 /* Workspace for K − 1 = nt thresholds. */
@@ -81,6 +85,14 @@ qc_status qc_cell_mi_eval(qc_cell_mi *w, const double *t, double *mi_nats,
 /* Objective to maximize: *value (nats) for sorted thresholds t[0..nt). */
 typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
                                             size_t nt, double *value);
+
+/* Whether the channel at thresholds t (w->nt of them), last evaluated by
+ * qc_cell_mi_eval, is its own mirror image: the law and the thresholds
+ * symmetric and P(k|x) = P(K − 1 − k | n − 1 − x), to the accuracy of
+ * the Newton steps that place thresholds (their last step leaves ~10⁻⁷ of
+ * the spacing where the rate is flat). A model whose channel is
+ * symmetric at every threshold is taken to be symmetric everywhere. */
+int qc_cell_mi_mirrored(const qc_cell_mi *w, const double *t);
 
 /* The objective I(X;Y_q) of the workspace ctx (a qc_cell_mi), nats. */
 qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *value);

@@ -11,11 +11,14 @@
  *   ∂²I/∂t_j² = Σ_x r f'_j (L_j − L_{j+1}) + Σ_x r f_j² (1/P_j + 1/P_{j+1})
  *               − F_j² (1/q_j + 1/q_{j+1}),
  *   ∂²I/∂t_j∂t_{j+1} = −Σ_x r f_j f_{j+1} / P_{j+1} + F_j F_{j+1} / q_{j+1},
- * with f'_j = ∂f(y|x)/∂y at t_j by a forward difference of the density
- * (step 10⁻⁵ of the noise scale; it only scales the step, the fixed point
- * is that of the exact gradient, and its relative error of about 10⁻⁵
- * still contracts the error by that factor per step). One iteration costs
- * one rate evaluation and two densities per threshold and level; it stops
+ * with f'_j = ∂f(y|x)/∂y at t_j: −(t_j − μ_x)·f_j(x)/σ_x² when the law
+ * given x is Gaussian (QC_MODEL_GAUSSIAN_LAW; the workspace keeps μ_x and
+ * 1/σ_x²), else a forward difference of the density (step 10⁻⁵ of the
+ * noise scale; it only scales the step, the fixed point is that of the
+ * exact gradient, and its relative error of about 10⁻⁵ still contracts
+ * the error by that factor per step). One iteration costs one rate
+ * evaluation and one density per threshold and level (two with the
+ * forward difference); it stops
  * when a step falls below 10⁻¹¹ of the spacing, or after an undamped
  * Newton step (exact curvature of the right sign) below 10⁻⁶ of it, whose
  * successor would be below 10⁻¹¹. qc_refine_held takes the same steps
@@ -58,7 +61,8 @@ static int threshold_sums(const qc_cell_mi *w, const double *t, double h, size_t
         double d = ty->density(w->model, w->levels[x], t[j]);
         if (!(d > 0.0) || !isfinite(d))
             continue;
-        double dp = (ty->density(w->model, w->levels[x], t[j] + h) - d) / h;
+        double dp = w->mean ? -(t[j] - w->mean[x]) * w->inv_var[x] * d
+                            : (ty->density(w->model, w->levels[x], t[j] + h) - d) / h;
         *fx = d;
         double dl = lr[x * k + j] - lr[x * k + j + 1];
         gj += r[x] * d * dl;

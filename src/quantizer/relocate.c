@@ -22,7 +22,11 @@
  * composed thresholds). The first that raises the rate by more than
  * rounding (RELOCATE_MIN_GAIN) is kept; rounds repeat while one is, at
  * most RELOCATE_ROUNDS. Only a move that raises the refined rate is
- * kept, so the rate never drops. */
+ * kept, so the rate never drops. When the channel at the current
+ * thresholds is its own mirror image (PAM in Gaussian noise, say), the
+ * mirror of a move that did not gain would end in the mirror of its
+ * result, at the same rate: it is passed over (and still counted among
+ * the RELOCATE_TRIALS, so that the moves refined are the same). */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -246,6 +250,16 @@ static int by_change(const void *a, const void *b)
     return (p->to > q->to) - (p->to < q->to);
 }
 
+/* Whether the mirror image of move i is among the moves before it. */
+static int mirror_tried(const move *mv, size_t i, size_t nslots)
+{
+    const size_t from = nslots - 1 - mv[i].from, to = nslots - 1 - mv[i].to;
+    for (size_t k = 0; k < i; k++)
+        if (mv[k].from == from && mv[k].to == to)
+            return 1;
+    return 0;
+}
+
 /* The (at most) k slots of largest finite drop (adds 0) or add (adds 1),
  * ties to the lower slot, into out; their number. The best k − 1 moves
  * by drop + add all leave one of the k best drops for one of the k best
@@ -314,8 +328,11 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 if (give[a] != take[b])
                     mv[nm++] = (move){give[a], take[b], sl[give[a]].drop + sl[take[b]].add};
         qsort(mv, nm, sizeof *mv, by_change);
+        const int mirrored = qc_cell_mi_mirrored(w, t);
         int moved = 0;
         for (size_t i = 0; i < nm && i < RELOCATE_TRIALS && !moved && st == QC_OK; i++) {
+            if (mirrored && mirror_tried(mv, i, nslots))
+                continue;
             if (!compose(sl, nslots, t, mv[i].from, mv[i].to, tt, nt))
                 continue;
             double v;

@@ -4,7 +4,9 @@
  * exhaustive dynamic programme on a 4096-cell fine grid, on several models
  * and resolutions; the automatic grid has the size and spacing of its rule
  * (scale_grid.c); the Newton refinement (refine.c) never lowers the rate
- * and ends where the exact gradient vanishes; more cells never lower the
+ * and ends where the exact gradient vanishes, and its curvature is the
+ * exact Hessian for Gaussian laws; the mirror test of the threshold moves
+ * tells symmetric channels apart; more cells never lower the
  * rate; on a dense alphabet the DP's rate is that of its cuts and its
  * grid keeps within the DP's work limit. */
 #include <setjmp.h>
@@ -249,6 +251,111 @@ static void test_refine_held_is_local_and_exact(void **state)
     }
 }
 
+/* The curvature the Newton steps use is the exact Hessian: for a
+ * Gaussian law given each level the density's slope is −(y − μ)·f/σ²
+ * (the workspace keeps μ and 1/σ²), so the diagonal and the coupling
+ * agree with central differences of the exact gradient (qc_cell_mi_eval)
+ * to 1e-8 of the largest curvature; a forward difference of the density
+ * (step 10⁻⁵ of the noise scale), which other models keep, is off by
+ * ~10⁻⁶ of it. */
+static void test_curvature_is_exact(void **state)
+{
+    (void)state;
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        const case_t *c = &cases[k];
+        qc_model *m = model_of(c);
+        enum { NT = 9 };
+        double t[NT], g[NT], hd[NT], ho[NT], F[NT], f[NT * 8], up[NT], down[NT], lo, hi, mi;
+        qc_levels_support(m, c->levels, c->nlevels, &lo, &hi);
+        for (size_t j = 0; j < NT; j++) /* uneven over the middle half */
+            t[j] = lo + (hi - lo) * (0.25 + 0.5 * pow((double)(j + 1) / (NT + 1), 1.3));
+        const double scale = qc_noise_scale(m, c->levels, c->law, c->nlevels);
+        const double delta = 3e-5 * scale;
+        qc_cell_mi *w;
+        assert_int_equal(qc_cell_mi_alloc(m, c->levels, c->law, c->nlevels, NT, &w), QC_OK);
+        assert_non_null(w->mean);
+        assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+        assert_true(qc_cell_mi_derivatives(w, t, QC_NEWTON_SLOPE_STEP * scale, g, hd, ho, f, F));
+        double hmax = 0.0;
+        for (size_t j = 0; j < NT; j++)
+            hmax = fmax(hmax, fabs(hd[j]));
+        for (size_t j = 0; j < NT; j++) {
+            double tj = t[j];
+            t[j] = tj + delta;
+            assert_int_equal(qc_cell_mi_eval(w, t, &mi, up), QC_OK);
+            t[j] = tj - delta;
+            assert_int_equal(qc_cell_mi_eval(w, t, &mi, down), QC_OK);
+            t[j] = tj;
+            double diag = (up[j] - down[j]) / (2.0 * delta);
+            if (fabs(diag - hd[j]) > 1e-8 * hmax)
+                fail_msg("%s: curvature %.12g at threshold %zu, central difference %.12g",
+                         c->name, hd[j], j, diag);
+            if (j + 1 < NT) {
+                double off = (up[j + 1] - down[j + 1]) / (2.0 * delta);
+                if (fabs(off - ho[j]) > 1e-8 * hmax)
+                    fail_msg("%s: coupling %.12g of thresholds %zu and %zu, central "
+                             "difference %.12g", c->name, ho[j], j, j + 1, off);
+            }
+        }
+        qc_cell_mi_free(w);
+        qc_model_free(m);
+    }
+    /* a law that is not Gaussian keeps the forward difference */
+    qc_model *p;
+    const double poisson_params[2] = {20.0, 0.5};
+    assert_int_equal(qc_model_alloc(&qc_model_poisson, poisson_params, &p), QC_OK);
+    const double levels[2] = {0.0, 1.0}, law[2] = {0.5, 0.5};
+    qc_cell_mi *w;
+    assert_int_equal(qc_cell_mi_alloc(p, levels, law, 2, 3, &w), QC_OK);
+    assert_null(w->mean);
+    qc_cell_mi_free(w);
+    qc_model_free(p);
+}
+
+/* The mirror test of the threshold moves: PAM-8 in Gaussian noise at
+ * symmetric thresholds is its own mirror image, also with thresholds
+ * 1e-7 of their spacing off (what Newton's last step leaves); thresholds
+ * 1e-3 of the spacing off, an uneven law, or signal-dependent noise
+ * (whose channel is not symmetric at any thresholds) are not. */
+static void test_mirror_image(void **state)
+{
+    (void)state;
+    enum { NT = 11 };
+    double t[NT], mi;
+    const case_t *pam = &cases[0], *sd = &cases[3];
+    qc_model *m = model_of(pam);
+    qc_cell_mi *w;
+    assert_int_equal(qc_cell_mi_alloc(m, pam->levels, pam->law, 8, NT, &w), QC_OK);
+    for (size_t j = 0; j < NT; j++) /* symmetric about 0, uneven */
+        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
+    const double spacing = t[NT - 1] - t[NT - 2];
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_true(qc_cell_mi_mirrored(w, t));
+    t[2] += 1e-7 * spacing;
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_true(qc_cell_mi_mirrored(w, t));
+    t[2] += 1e-3 * spacing;
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_false(qc_cell_mi_mirrored(w, t));
+    qc_cell_mi_free(w);
+    t[2] -= (1e-3 + 1e-7) * spacing;
+    const double uneven[8] = {0.1, 0.15, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125};
+    assert_int_equal(qc_cell_mi_alloc(m, pam->levels, uneven, 8, NT, &w), QC_OK);
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_false(qc_cell_mi_mirrored(w, t));
+    qc_cell_mi_free(w);
+    qc_model_free(m);
+    /* signal-dependent noise, thresholds symmetric about the middle level */
+    m = model_of(sd);
+    for (size_t j = 0; j < NT; j++)
+        t[j] += 3.5;
+    assert_int_equal(qc_cell_mi_alloc(m, sd->levels, sd->law, 8, NT, &w), QC_OK);
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_false(qc_cell_mi_mirrored(w, t));
+    qc_cell_mi_free(w);
+    qc_model_free(m);
+}
+
 /* Width of [lo, hi] in u = ∫ dy/s(y), written out from the rule of
  * scale_grid.c: s linear between the sorted means mu[0..n) (σ sd[i]),
  * flat for 2σ beyond the outer means and then s = d/2. */
@@ -455,6 +562,8 @@ int main(void)
         cmocka_unit_test(test_not_below_own_grid_dp),
         cmocka_unit_test(test_newton_reaches_stationary_point),
         cmocka_unit_test(test_refine_held_is_local_and_exact),
+        cmocka_unit_test(test_curvature_is_exact),
+        cmocka_unit_test(test_mirror_image),
         cmocka_unit_test(test_grid_sizes),
         cmocka_unit_test(test_dense_alphabet),
         cmocka_unit_test(test_wide_alphabet_clipped_stages),
