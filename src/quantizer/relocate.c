@@ -24,9 +24,11 @@
  * most RELOCATE_ROUNDS. Only a move that raises the refined rate is
  * kept, so the rate never drops. When the channel at the current
  * thresholds is its own mirror image (PAM in Gaussian noise, say), the
- * mirror of a move that did not gain would end in the mirror of its
- * result, at the same rate: it is passed over (and still counted among
- * the RELOCATE_TRIALS, so that the moves refined are the same). */
+ * slots of the right half take the mirrored ratings and thresholds of
+ * those of the left, and the mirror of a move that did not gain, which
+ * would end in the mirror of its result at the same rate, is passed over
+ * (and still counted among the RELOCATE_TRIALS, so that the moves refined
+ * are the same). */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -250,6 +252,30 @@ static int by_change(const void *a, const void *b)
     return (p->to > q->to) - (p->to < q->to);
 }
 
+/* Whether each slot holds as many thresholds as its mirror image. */
+static int slots_mirrored(const slot *sl, size_t nslots)
+{
+    for (size_t g = 0; g < nslots; g++)
+        if (sl[g].n != sl[nslots - 1 - g].n)
+            return 0;
+    return 1;
+}
+
+/* Slot s's rate changes and thresholds as the mirror image (about mid2/2)
+ * of slot from's. */
+static void mirror_slot(const slot *from, slot *s, double mid2)
+{
+    s->drop = from->drop;
+    s->add = from->add;
+    const size_t nd = s->n ? s->n - 1 : 0;
+    if (isfinite(s->drop))
+        for (size_t k = 0; k < nd; k++)
+            s->t_drop[k] = mid2 - from->t_drop[nd - 1 - k];
+    if (isfinite(s->add))
+        for (size_t k = 0; k <= s->n; k++)
+            s->t_add[k] = mid2 - from->t_add[s->n - k];
+}
+
 /* Whether the mirror image of move i is among the moves before it. */
 static int mirror_tried(const move *mv, size_t i, size_t nslots)
 {
@@ -308,9 +334,15 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         if ((st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
         fill_slots(lv, nlv, t, nt, sl, store);
+        const int mirrored = qc_cell_mi_mirrored(w, t) && slots_mirrored(sl, nslots);
         /* each slot's rate changes, exact for the cells between its
-         * held neighbours */
+         * held neighbours (for a mirror image, those of the slots of its
+         * left half mirrored) */
         for (size_t g = 0; g < nslots && st == QC_OK; g++) {
+            if (mirrored && nslots - 1 - g < g) {
+                mirror_slot(sl + nslots - 1 - g, sl + g, t[0] + t[nt - 1]);
+                continue;
+            }
             double base;
             st = slot_rate(w, scale, t, sl + g, t + sl[g].first, sl[g].n, 0, &base);
             if (st == QC_OK)
@@ -328,7 +360,6 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 if (give[a] != take[b])
                     mv[nm++] = (move){give[a], take[b], sl[give[a]].drop + sl[take[b]].add};
         qsort(mv, nm, sizeof *mv, by_change);
-        const int mirrored = qc_cell_mi_mirrored(w, t);
         int moved = 0;
         for (size_t i = 0; i < nm && i < RELOCATE_TRIALS && !moved && st == QC_OK; i++) {
             if (mirrored && mirror_tried(mv, i, nslots))
