@@ -19,6 +19,7 @@
 #include <float.h>
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 /* Each level's mean and 1/variance when the law given it is Gaussian
  * with the model's moments; left NULL for other models, or when a
@@ -283,10 +284,22 @@ qc_status qc_cell_mi_clipped_objective(void *ctx, const double *t, size_t nt, do
 #define MIRROR_P 1e-5      /* relative: probabilities this near their mirror image */
 #define MIRROR_FLOOR 1e-15 /* absolute, for probabilities of the far tails */
 
+/* Whether a and b are each other's mirror image: the same to MIRROR_P,
+ * with the levels (n of them) and the cells (K) in reverse order. */
+static int near_mirror(const double *a, const double *b, size_t n, size_t K)
+{
+    for (size_t x = 0; x < n; x++)
+        for (size_t k = 0; k < K; k++) {
+            double u = a[x * K + k], v = b[(n - 1 - x) * K + K - 1 - k];
+            if (!(fabs(u - v) <= MIRROR_P * (u + v) + MIRROR_FLOOR))
+                return 0;
+        }
+    return 1;
+}
+
 int qc_cell_mi_mirrored(const qc_cell_mi *w, const double *t)
 {
-    const size_t nx = w->nlevels, nt = w->nt, K = nt + 1;
-    const double *P = w->channel->p, *r = w->input;
+    const size_t nt = w->nt;
     const double mid2 = nt ? t[0] + t[nt - 1] : 0.0;
     for (size_t j = 0; j < nt; j++) {
         double gap = fmin(j > 0 ? t[j] - t[j - 1] : INFINITY,
@@ -294,14 +307,32 @@ int qc_cell_mi_mirrored(const qc_cell_mi *w, const double *t)
         if (!(fabs(t[j] + t[nt - 1 - j] - mid2) <= MIRROR_AT * gap))
             return 0;
     }
-    for (size_t x = 0; x < nx; x++) {
-        if (!(fabs(r[x] - r[nx - 1 - x]) <= MIRROR_P * (r[x] + r[nx - 1 - x])))
-            return 0;
-        for (size_t k = 0; k < K; k++) {
-            double a = P[x * K + k], b = P[(nx - 1 - x) * K + K - 1 - k];
-            if (!(fabs(a - b) <= MIRROR_P * (a + b) + MIRROR_FLOOR))
-                return 0;
-        }
+    return near_mirror(w->input, w->input, 1, w->nlevels) &&
+           near_mirror(w->channel->p, w->channel->p, w->nlevels, nt + 1);
+}
+
+qc_status qc_cell_mi_model_mirrored(qc_cell_mi *w, const double *t, double mid2, int *mirrored)
+{
+    const size_t nx = w->nlevels, nt = w->nt, K = nt + 1;
+    *mirrored = 0;
+    if (!near_mirror(w->input, w->input, 1, nx) ||
+        (w->inv_var && !near_mirror(w->inv_var, w->inv_var, 1, nx)))
+        return QC_OK;
+    double *held = qc_malloc_array(nx * K + nt, sizeof *held);
+    if (!held)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    double *tm = held + nx * K, mi;
+    memcpy(held, w->channel->p, nx * K * sizeof *held);
+    for (size_t j = 0; j < nt; j++)
+        tm[j] = mid2 - t[nt - 1 - j];
+    int ordered = 1;
+    for (size_t j = 1; j < nt; j++)
+        ordered &= tm[j] > tm[j - 1];
+    qc_status st = QC_OK;
+    if (ordered && (st = qc_cell_mi_eval(w, tm, &mi, NULL)) == QC_OK) {
+        *mirrored = near_mirror(held, w->channel->p, nx, K);
+        st = qc_cell_mi_eval(w, t, &mi, NULL);
     }
-    return 1;
+    free(held);
+    return st;
 }

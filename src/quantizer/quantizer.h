@@ -94,6 +94,15 @@ typedef qc_status (*qc_threshold_objective)(void *ctx, const double *t,
  * symmetric at every threshold is taken to be symmetric everywhere. */
 int qc_cell_mi_mirrored(const qc_cell_mi *w, const double *t);
 
+/* Whether the channel is its own mirror image about y = mid2/2 at any
+ * thresholds, as far as the thresholds t (w->nt of them, whose channel w
+ * holds) and their mirror image tell: the law symmetric, and the channel
+ * at the mirror image of t (evaluated into w, which is left at t again)
+ * the mirror image of the channel at t, to the tolerance of
+ * qc_cell_mi_mirrored. A law given each level that is Gaussian with
+ * variances that are not symmetric answers 0 without an evaluation. */
+qc_status qc_cell_mi_model_mirrored(qc_cell_mi *w, const double *t, double mid2, int *mirrored);
+
 /* The objective I(X;Y_q) of the workspace ctx (a qc_cell_mi), nats. */
 qc_status qc_cell_mi_objective(void *ctx, const double *t, size_t nt, double *value);
 /* The same with the workspace's tails clipped for this rate only (the
@@ -353,10 +362,11 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
  * `target` (nats): after one iteration it stops once the rate plus four
  * times the gain the Newton model still predicts stays below target (or
  * the model predicts nothing finite), and once every threshold is within
- * 5 % of its spacing of `home` (the incumbent thresholds, may be NULL),
- * where it would end. */
-qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
-                          double *t, double *mi_nats, size_t *iterations);
+ * 5 % of its spacing of one of `nhomes` local maxima already known
+ * (`homes`, w->nt thresholds each, one after the other: the incumbent,
+ * former ones, their mirror images), where it would end. */
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *homes,
+                          size_t nhomes, double *t, double *mi_nats, size_t *iterations);
 /* The same as qc_refine_continuous with the first threshold (hold_first)
  * and the last (hold_last) held where they are, towards the local maximum
  * of the cells between the held ends, in at most `steps` Newton

@@ -38,7 +38,7 @@
 #define NEWTON_WORK (1u << 22) /* iteration cap × thresholds × levels */
 #define TRIAL_GRACE 1          /* iterations before a trial may be given up */
 #define TRIAL_ROOM 4.0         /* × the predicted gain a trial must be within */
-#define TRIAL_HOME 0.05        /* × spacing: a trial this near the incumbent ends */
+#define TRIAL_HOME 0.05        /* × spacing: a trial this near a known maximum ends */
 
 /* Threshold j's share of qc_cell_mi_derivatives: the density f(t_j|x) of
  * the levels that reach t_j (qc_cell_mi_reach; the others add nothing)
@@ -170,9 +170,9 @@ static void hold_ends(size_t nt, const int held[2], double hmax, double *g, doub
 /* The Newton iterations of qc_refine_trial; held[0] and held[1] keep the
  * first and the last threshold where they are; at most `steps` of them
  * (0: as many as convergence takes). */
-static qc_status refine(qc_cell_mi *w, double scale, double target, const double *home,
-                        const int held[2], size_t steps, double *t, double *mi_nats,
-                        size_t *iterations)
+static qc_status refine(qc_cell_mi *w, double scale, double target, const double *homes,
+                        size_t nhomes, const int held[2], size_t steps, double *t,
+                        double *mi_nats, size_t *iterations)
 {
     qc_gsl_init();
     const size_t nt = w->nt, nx = w->nlevels;
@@ -264,13 +264,16 @@ static qc_status refine(qc_cell_mi *w, double scale, double target, const double
             (*iterations)++;
         if (!accepted || rel < QC_NEWTON_TOL || quadratic)
             break;
-        if (home) { /* back beside the incumbent: the trial would end there */
-            int near = 1;
+        /* beside a local maximum already known: the trial would end there */
+        int near = 0;
+        for (size_t k = 0; k < nhomes && !near; k++) {
+            const double *home = homes + k * nt;
+            near = 1;
             for (size_t j = 0; j < nt && near; j++)
                 near = fabs(t[j] - home[j]) <= TRIAL_HOME * sp[j];
-            if (near)
-                break;
         }
+        if (near)
+            break;
     }
     if (st == QC_OK && !at_t) /* leave the workspace's channel at the result */
         st = qc_cell_mi_eval(w, t, &mi, NULL);
@@ -284,14 +287,14 @@ qc_status qc_refine_continuous(qc_cell_mi *w, double scale, double *t, double *m
                                size_t *iterations)
 {
     static const int free_ends[2] = {0, 0};
-    return refine(w, scale, -INFINITY, NULL, free_ends, 0, t, mi_nats, iterations);
+    return refine(w, scale, -INFINITY, NULL, 0, free_ends, 0, t, mi_nats, iterations);
 }
 
-qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *home,
-                          double *t, double *mi_nats, size_t *iterations)
+qc_status qc_refine_trial(qc_cell_mi *w, double scale, double target, const double *homes,
+                          size_t nhomes, double *t, double *mi_nats, size_t *iterations)
 {
     static const int free_ends[2] = {0, 0};
-    return refine(w, scale, target, home, free_ends, 0, t, mi_nats, iterations);
+    return refine(w, scale, target, homes, nhomes, free_ends, 0, t, mi_nats, iterations);
 }
 
 qc_status qc_refine_held(qc_cell_mi *w, double scale, int hold_first, int hold_last,
@@ -303,7 +306,7 @@ qc_status qc_refine_held(qc_cell_mi *w, double scale, int hold_first, int hold_l
             *iterations = 0;
         return qc_cell_mi_eval(w, t, mi_nats, NULL);
     }
-    return refine(w, scale, -INFINITY, NULL, held, steps, t, mi_nats, iterations);
+    return refine(w, scale, -INFINITY, NULL, 0, held, steps, t, mi_nats, iterations);
 }
 
 #define COUNT_SWEEPS 200

@@ -28,7 +28,9 @@
  * those of the left, and the mirror of a move that did not gain, which
  * would end in the mirror of its result at the same rate, is passed over
  * (and still counted among the RELOCATE_TRIALS, so that the moves refined
- * are the same). */
+ * are the same). A trial ends once it comes near a local maximum already
+ * known (the incumbents of every round and, on a channel that is its own
+ * mirror image, their mirror images): it would end there. */
 #include "quantizer/quantizer.h"
 
 #include <math.h>
@@ -316,8 +318,11 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
     const size_t nt = w->nt, nx = w->nlevels;
     if (nt < 2 || !(nx > 0))
         return QC_OK;
-    /* one block: lv[nx], tt[nt], the slots' thresholds store[2·nt + nx + 1] */
-    double *lv = qc_malloc_array(nx + nt + 2 * nt + nx + 1, sizeof *lv);
+    /* one block: lv[nx], tt[nt], the slots' thresholds store[2·nt + nx + 1],
+     * the local maxima known: each round's incumbent and, on a channel that
+     * is its own mirror image, its mirror image, seen[2·RELOCATE_ROUNDS·nt] */
+    double *lv = qc_malloc_array(nx + nt + 2 * nt + nx + 1 + 2 * RELOCATE_ROUNDS * nt,
+                                 sizeof *lv);
     const size_t nlv = lv ? sent_levels(w, lv) : 0, nslots = nlv + 1;
     slot *sl = qc_malloc_array(nslots, sizeof *sl);
     if (!lv || !sl) {
@@ -327,14 +332,27 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
     }
     size_t give[RELOCATE_TRIALS + 1], take[RELOCATE_TRIALS + 1];
     move mv[(RELOCATE_TRIALS + 1) * (RELOCATE_TRIALS + 1)];
-    double *tt = lv + nx, *store = tt + nt;
+    double *tt = lv + nx, *store = tt + nt, *seen = store + 2 * nt + nx + 1;
+    size_t nseen = 0;
     qc_status st = QC_OK;
     double mi = *mi_nats;
+    int model_mirrored = 0; /* the channel is its own mirror image about mid2/2 */
+    const double mid2 = nlv ? lv[0] + lv[nlv - 1] : 0.0;
     for (int round = 0; round < RELOCATE_ROUNDS && st == QC_OK; round++) {
         if ((st = qc_cell_mi_eval(w, t, &mi, NULL)) != QC_OK)
             break;
         fill_slots(lv, nlv, t, nt, sl, store);
-        const int mirrored = qc_cell_mi_mirrored(w, t) && slots_mirrored(sl, nslots);
+        const int symmetric = qc_cell_mi_mirrored(w, t);
+        if (round == 0 && !symmetric && nlv > 0)
+            st = qc_cell_mi_model_mirrored(w, t, mid2, &model_mirrored);
+        model_mirrored |= symmetric;
+        memcpy(seen + nseen++ * nt, t, nt * sizeof *t);
+        if (model_mirrored && !symmetric) {
+            for (size_t j = 0; j < nt; j++)
+                seen[nseen * nt + j] = mid2 - t[nt - 1 - j];
+            nseen++;
+        }
+        const int mirrored = symmetric && slots_mirrored(sl, nslots);
         /* each slot's rate changes, exact for the cells between its
          * held neighbours (for a mirror image, those of the slots of its
          * left half mirrored) */
@@ -368,7 +386,7 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
                 continue;
             double v;
             size_t more = 0;
-            st = qc_refine_trial(w, scale, mi, t, tt, &v, &more);
+            st = qc_refine_trial(w, scale, mi, seen, nseen, tt, &v, &more);
             if (iterations)
                 *iterations += more;
             if (st == QC_OK && v > mi + RELOCATE_MIN_GAIN * mi) {

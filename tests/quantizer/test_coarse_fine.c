@@ -313,11 +313,13 @@ static void test_curvature_is_exact(void **state)
     qc_model_free(p);
 }
 
-/* The mirror test of the threshold moves: PAM-8 in Gaussian noise at
+/* The mirror tests of the threshold moves: PAM-8 in Gaussian noise at
  * symmetric thresholds is its own mirror image, also with thresholds
  * 1e-7 of their spacing off (what Newton's last step leaves); thresholds
  * 1e-3 of the spacing off, an uneven law, or signal-dependent noise
- * (whose channel is not symmetric at any thresholds) are not. */
+ * (whose channel is not symmetric at any thresholds) are not. At
+ * thresholds that are not symmetric the model is still found to be (about
+ * y = 0, not about another point), unless the law or the noise is not. */
 static void test_mirror_image(void **state)
 {
     (void)state;
@@ -338,14 +340,32 @@ static void test_mirror_image(void **state)
     t[2] += 1e-3 * spacing;
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_false(qc_cell_mi_mirrored(w, t));
+    /* thresholds that are not symmetric: the model still is, and the
+     * workspace holds the channel of t again, bit for bit */
+    for (size_t j = 0; j < NT; j++)
+        t[j] += 0.3 * sin((double)j);
+    int model = 0;
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    double *before = malloc(8 * (NT + 1) * sizeof *before);
+    assert_non_null(before);
+    memcpy(before, w->channel->p, 8 * (NT + 1) * sizeof *before);
+    assert_int_equal(qc_cell_mi_model_mirrored(w, t, 0.0, &model), QC_OK);
+    assert_true(model);
+    assert_memory_equal(before, w->channel->p, 8 * (NT + 1) * sizeof *before);
+    assert_int_equal(qc_cell_mi_model_mirrored(w, t, 0.5, &model), QC_OK);
+    assert_false(model); /* not about y = 0.25 */
+    free(before);
     qc_cell_mi_free(w);
-    t[2] -= (1e-3 + 1e-7) * spacing;
     const double uneven[8] = {0.1, 0.15, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125};
     assert_int_equal(qc_cell_mi_alloc(m, pam->levels, uneven, 8, NT, &w), QC_OK);
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_false(qc_cell_mi_mirrored(w, t));
+    assert_int_equal(qc_cell_mi_model_mirrored(w, t, 0.0, &model), QC_OK);
+    assert_false(model);
     qc_cell_mi_free(w);
     qc_model_free(m);
+    for (size_t j = 0; j < NT; j++) /* symmetric again */
+        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
     /* signal-dependent noise, thresholds symmetric about the middle level */
     m = model_of(sd);
     for (size_t j = 0; j < NT; j++)
@@ -353,6 +373,8 @@ static void test_mirror_image(void **state)
     assert_int_equal(qc_cell_mi_alloc(m, sd->levels, sd->law, 8, NT, &w), QC_OK);
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_false(qc_cell_mi_mirrored(w, t));
+    assert_int_equal(qc_cell_mi_model_mirrored(w, t, 7.0, &model), QC_OK);
+    assert_false(model);
     qc_cell_mi_free(w);
     qc_model_free(m);
 }
