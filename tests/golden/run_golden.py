@@ -12,13 +12,15 @@ Usage: run_golden.py QUANTCAP [--record | --record-variant TAG] [--expected DIR]
                    tests/golden/expected); a file passes when it equals the
                    recorded one or a variant of it (below), or, for a
                    file known to round differently on another kind of
-                   machine (BY_VALUE), equals it number by number within
+                   machine (BY_VALUE) run on a kind other than the one
+                   that recorded DIR, equals it number by number within
                    that rounding. On a difference
                    print a unified diff of the first differing file, name
                    the others, exit 1. Exit 77 (skipped) when DIR does not
                    exist.
   --record         run everything and write the outputs into DIR (replacing
-                   what is there); variants of files whose recorded bytes
+                   what is there) with the kind of machine that ran them
+                   (RECORDED_ON); variants of files whose recorded bytes
                    change are removed, as they were recorded against the
                    former output.
   --record-variant TAG
@@ -33,6 +35,7 @@ import argparse
 import difflib
 import json
 import os
+import platform
 import re
 import shutil
 import subprocess
@@ -49,15 +52,17 @@ DIFF_LINES = 60         # lines of the unified diff printed
 JOBS = "2"
 
 # Files seen to round differently on another kind of machine, which the
-# check also accepts when every number is within the rounding of such a
-# machine of the recorded one (and all else the same), in case no variant
-# was recorded there for the current outputs. The capacity design: its
+# check, run on a machine of a kind other than the one that recorded the
+# outputs (RECORDED_ON), also accepts when every number is within the
+# rounding of such a machine of the recorded one (and all else the same),
+# in case no variant was recorded there for the current outputs. The capacity design: its
 # Blahut–Arimoto run on 21 candidates stops a few iterations earlier or
 # later with the last digits of its thresholds and law (an Intel Xeon with
 # AVX-512 took 19 more iterations; tiny masses of ~6e-12 moved by 2e-16).
 BY_VALUE = {"design-capacity.json"}
 BY_VALUE_REL = 1e-9         # × max(1, |recorded|): numbers
 BY_VALUE_ITERATIONS = 0.05  # × recorded: iteration counts
+RECORDED_ON = "recorded-on.txt"  # in the expected folder: machine_kind() there
 
 # The README's `capacity M.txt --costs 0,1,4 --budget 1` needs a 3-input
 # matrix; this one is invented (a noisy ternary channel), written as M.txt
@@ -208,12 +213,29 @@ def write_files(folder, outputs):
             f.write(data)
 
 
+def machine_kind():
+    """The processor's model name and the C library's version: what decides
+    how the outputs round."""
+    model = platform.processor() or platform.machine()
+    try:
+        with open("/proc/cpuinfo") as f:
+            for line in f:
+                if line.startswith("model name"):
+                    model = line.split(":", 1)[1].strip()
+                    break
+    except OSError:
+        pass
+    libc, version = platform.libc_ver()
+    return f"{model}; {libc or 'libc'} {version or '?'}"
+
+
 def record(outputs, expected):
     stale = [rel for rel, data in outputs.items()
              if read(os.path.join(expected, rel)) not in (None, data)]
     if os.path.isdir(expected):
         shutil.rmtree(expected)
     write_files(expected, outputs)
+    write_files(expected, {RECORDED_ON: (machine_kind() + "\n").encode()})
     print(f"golden: recorded {len(outputs)} files in {expected}")
     root = variants_dir(expected)
     for rel in stale:
@@ -284,6 +306,8 @@ def near_recorded(rel, want, got):
 
 def check(outputs, expected):
     differing, as_variant, by_value = [], [], []
+    recorded_on = (read(os.path.join(expected, RECORDED_ON)) or b"").decode().strip()
+    elsewhere = recorded_on != machine_kind()
     for rel, got in outputs.items():
         want = read(os.path.join(expected, rel))
         if want is None:
@@ -292,7 +316,7 @@ def check(outputs, expected):
             tags = [tag for tag, data in variants_of(expected, rel).items() if data == got]
             if tags:
                 as_variant.append(f"{rel} ({tags[0]})")
-            elif near_recorded(rel, want, got):
+            elif elsewhere and near_recorded(rel, want, got):
                 by_value.append(rel)
             else:
                 differing.append((rel, want, got))
@@ -300,9 +324,10 @@ def check(outputs, expected):
         print("golden: identical to a variant recorded on another kind of machine: " +
               ", ".join(as_variant))
     if by_value:
-        print("golden: not the recorded bytes, but every number within the rounding of "
-              "another kind of machine (record a variant here to check them byte for "
-              "byte): " + ", ".join(by_value))
+        print(f"golden: recorded on '{recorded_on or 'an unnamed machine'}', run on "
+              f"'{machine_kind()}': not the recorded bytes, but every number within the "
+              "rounding of another kind of machine (record a variant here to check them "
+              "byte for byte): " + ", ".join(by_value))
     if not differing:
         print(f"golden: {len(outputs)} files identical to {expected}"
               f"{' or a variant' if as_variant else ''}"
