@@ -356,16 +356,18 @@ static void test_mirror_image(void **state)
     assert_false(model); /* not about y = 0.25 */
     free(before);
     qc_cell_mi_free(w);
+    /* an uneven law, at asymmetric and at symmetric thresholds */
     const double uneven[8] = {0.1, 0.15, 0.125, 0.125, 0.125, 0.125, 0.125, 0.125};
     assert_int_equal(qc_cell_mi_alloc(m, pam->levels, uneven, 8, NT, &w), QC_OK);
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
-    assert_false(qc_cell_mi_mirrored(w, t));
     assert_int_equal(qc_cell_mi_model_mirrored(w, t, 0.0, &model), QC_OK);
     assert_false(model);
+    for (size_t j = 0; j < NT; j++)
+        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
+    assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
+    assert_false(qc_cell_mi_mirrored(w, t));
     qc_cell_mi_free(w);
     qc_model_free(m);
-    for (size_t j = 0; j < NT; j++) /* symmetric again */
-        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
     /* signal-dependent noise, thresholds symmetric about the middle level */
     m = model_of(sd);
     for (size_t j = 0; j < NT; j++)
