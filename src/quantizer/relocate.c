@@ -278,6 +278,20 @@ static void mirror_slot(const slot *from, slot *s, double mid2)
             s->t_add[k] = mid2 - from->t_add[s->n - k];
 }
 
+/* Thresholds t (nt of them), a local maximum, and with `mirror` also
+ * their mirror image about mid2/2, appended to those known,
+ * seen[0 .. *nseen·nt). */
+static void remember(const double *t, size_t nt, int mirror, double mid2, double *seen,
+                     size_t *nseen)
+{
+    memcpy(seen + (*nseen)++ * nt, t, nt * sizeof *t);
+    if (mirror) {
+        for (size_t j = 0; j < nt; j++)
+            seen[*nseen * nt + j] = mid2 - t[nt - 1 - j];
+        (*nseen)++;
+    }
+}
+
 /* Whether the mirror image of move i is among the moves before it. */
 static int mirror_tried(const move *mv, size_t i, size_t nslots)
 {
@@ -346,12 +360,7 @@ qc_status qc_relocate_thresholds(qc_cell_mi *w, double scale, double *t, double 
         if (round == 0 && !symmetric && nlv > 0)
             st = qc_cell_mi_model_mirrored(w, t, mid2, &model_mirrored);
         model_mirrored |= symmetric;
-        memcpy(seen + nseen++ * nt, t, nt * sizeof *t);
-        if (model_mirrored && !symmetric) {
-            for (size_t j = 0; j < nt; j++)
-                seen[nseen * nt + j] = mid2 - t[nt - 1 - j];
-            nseen++;
-        }
+        remember(t, nt, model_mirrored && !symmetric, mid2, seen, &nseen);
         const int mirrored = symmetric && slots_mirrored(sl, nslots);
         /* each slot's rate changes, exact for the cells between its
          * held neighbours (for a mirror image, those of the slots of its
