@@ -313,6 +313,15 @@ static void test_curvature_is_exact(void **state)
     qc_model_free(p);
 }
 
+/* n thresholds symmetric about 0 (n odd, the middle one at 0), unevenly
+ * spaced over [−7, 7]. */
+static void symmetric_thresholds(double *t, size_t n)
+{
+    const double half = (double)(n / 2);
+    for (size_t j = 0; j < n; j++)
+        t[j] = 7.0 * pow(fabs((double)j - half) / half, 1.3) * ((double)j < half ? -1.0 : 1.0);
+}
+
 /* The mirror tests of the threshold moves: PAM-8 in Gaussian noise at
  * symmetric thresholds is its own mirror image, also with thresholds
  * 1e-7 of their spacing off (what Newton's last step leaves); thresholds
@@ -329,8 +338,7 @@ static void test_mirror_image(void **state)
     qc_model *m = model_of(pam);
     qc_cell_mi *w;
     assert_int_equal(qc_cell_mi_alloc(m, pam->levels, pam->law, 8, NT, &w), QC_OK);
-    for (size_t j = 0; j < NT; j++) /* symmetric about 0, uneven */
-        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
+    symmetric_thresholds(t, NT);
     const double spacing = t[NT - 1] - t[NT - 2];
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_true(qc_cell_mi_mirrored(w, t));
@@ -362,8 +370,7 @@ static void test_mirror_image(void **state)
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_int_equal(qc_cell_mi_model_mirrored(w, t, 0.0, &model), QC_OK);
     assert_false(model);
-    for (size_t j = 0; j < NT; j++)
-        t[j] = 7.0 * pow(fabs((double)j - 5.0) / 5.0, 1.3) * (j < 5 ? -1.0 : 1.0);
+    symmetric_thresholds(t, NT);
     assert_int_equal(qc_cell_mi_eval(w, t, &mi, NULL), QC_OK);
     assert_false(qc_cell_mi_mirrored(w, t));
     qc_cell_mi_free(w);
