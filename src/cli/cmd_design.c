@@ -486,6 +486,9 @@ static void print_memory(FILE *f, const qc_design_result *r, const char *ou,
     for (size_t j = 0; j < r->nthresholds; j++)
         fprintf(f, "%s%.6g", j ? ", " : " ", r->memory_thresholds[j]);
     fprintf(f, "\n");
+    if (r->full_scale_at_bound)
+        fprintf(f, "note         the search of the settings above stopped at the widest it "
+                   "tries with the rate still rising: settings beyond it may do better\n");
 }
 
 /* Lloyd-Max: whether its conditions hold, after how many rounds (2-D

@@ -9,19 +9,28 @@
  * the same sequence) are filled in, with the FEC outcome of the latter
  * (undefined where its figures are not simulated, on a coherent link).
  *
- * What is searched, starting from the memoryless-optimal settings:
+ * What is searched, starting from the memoryless-optimal settings carried
+ * over to the span of the outputs with memory: the noiseless outputs
+ * Σ h_i·x_{k−i} reach from u_lo to u_hi where the levels reach from x_lo
+ * to x_hi, so the memoryless settings are mapped by the affine map that
+ * takes the model's mean output at x_lo and x_hi to that at u_lo and
+ * u_hi (scale α0, its ratio of spans; on a coherent link α0 = 1 and no
+ * shift):
  *   - uniform: the full scale, as a factor α on the spread of the
- *     thresholds about their centre (α = 1 is the start);
+ *     thresholds about their centre, which the map moves;
  *   - converter (quantcap/quantizer.h) with the best gain: the gain, as a
  *     factor 1/α on the memoryless-optimal one (α > 1: a wider full scale
- *     on the receiver output), then the offset when it is chosen too; its
- *     own noise (ENOB, jitter) is added to the channel's at every gain
- *     (qc_model_add_noise: σ_conv/gain at the receiver output). An AGC
- *     gain follows its rule on the output of the channel with memory;
- *     a given gain and offset are kept.
- * Each one-dimensional search is a grid, then golden-section refinement
- * around its best point (J. Kiefer, "Sequential minimax search for a
- * maximum", Proc. AMS 4, 1953), keeping the start unless it finds better.
+ *     on the receiver output), then the offset when it is chosen too,
+ *     from the one the map gives; its own noise (ENOB, jitter) is added
+ *     to the channel's at every gain (qc_model_add_noise: σ_conv/gain at
+ *     the receiver output). An AGC gain follows its rule on the output of
+ *     the channel with memory; a given gain and offset are kept.
+ * Each one-dimensional search is a grid (α on [α0/2, 2·α0]), widened past
+ * an end where the rate still rises (ALPHA_WIDEN steps at most; a search
+ * that ends there is reported, never clamped silently), then golden-
+ * section refinement around its best point (J. Kiefer, "Sequential
+ * minimax search for a maximum", Proc. AMS 4, 1953); the memoryless
+ * settings themselves are kept unless the search finds better.
  * Every evaluation simulates the same seeded sequence, so the rates of two
  * settings are compared with common random numbers: the search sees the
  * rate's change with the thresholds, not the noise of two simulations.
@@ -37,9 +46,11 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define ALPHA_LO 0.5
-#define ALPHA_HI 2.0
-#define ALPHA_GRID 11     /* grid points on [ALPHA_LO, ALPHA_HI]         */
+#define ALPHA_LO 0.5      /* the scale's grid: [ALPHA_LO, ALPHA_HI] × the */
+#define ALPHA_HI 2.0      /* ratio of the output spans with and without   */
+#define ALPHA_GRID 11     /* memory, ALPHA_GRID points                    */
+#define ALPHA_WIDEN 16    /* grid steps added past an end the rate still
+                             rises at (a factor of 4^(16/10) ≈ 9)         */
 #define OFFSET_REACH 0.125 /* offset searched ± this share of the full scale */
 #define OFFSET_GRID 9
 #define GOLDEN_STEPS 10   /* refinement: bracket shrinks by 0.618^10     */
@@ -120,7 +131,8 @@ typedef struct {
     size_t nt;
     /* uniform: thresholds base_t scaled about centre */
     const double *base_t;
-    double centre;
+    double centre;         /* the middle of base_t                       */
+    double pivot;          /* where centre goes (centre: unchanged)      */
     /* converter: transition levels T (full-scale units), own noise */
     int converter;
     const double *T;
@@ -130,6 +142,7 @@ typedef struct {
     qc_model *noisy;       /* the receiver's model plus the converter's noise */
     double *t;             /* the thresholds in use                      */
     size_t evaluations;
+    int at_bound;          /* the scale search ended where the rate still rose */
 } search;
 
 /* Set the thresholds (and the converter's noise) for factor alpha and the
@@ -139,7 +152,7 @@ static qc_status set_to(search *s, double alpha)
     qc_status st = QC_OK;
     if (!s->converter) {
         for (size_t j = 0; j < s->nt; j++)
-            s->t[j] = s->centre + alpha * (s->base_t[j] - s->centre);
+            s->t[j] = s->pivot + alpha * (s->base_t[j] - s->centre);
         s->isi.model = s->base;
     } else {
         const double g = s->gain0 / alpha;
@@ -174,10 +187,13 @@ static qc_status rate_at(search *s, param p, double v, double alpha, double *bit
 }
 
 /* Maximize the simulated rate over one parameter (common random numbers:
- * one seed for all): a grid on [lo, hi] (geometric for the scale), then
- * golden-section refinement; the start `v0` is kept unless beaten. */
+ * one seed for all): a grid on [lo, hi] (geometric for the scale), widened
+ * step by step past an end where the rate still rises (at most
+ * ALPHA_WIDEN steps; s->at_bound is set if it still rose at the last),
+ * then golden-section refinement around the best point; that point into
+ * *v_out (and s->offset for the offset) and its rate into *f_out. */
 static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid,
-                          double v0, double alpha, double *v_out)
+                          double alpha, double *v_out, double *f_out)
 {
     qc_status st;
     double a[ALPHA_GRID > OFFSET_GRID ? ALPHA_GRID : OFFSET_GRID];
@@ -193,6 +209,32 @@ static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid
     }
     double l = a[best > 0 ? best - 1 : 0], h = a[best + 1 < ngrid ? best + 1 : best];
     double xb = a[best], fb = f[best];
+    if (best == 0 || best + 1 == ngrid) { /* widen past the end */
+        const int up = best > 0;
+        const double ratio = pow(hi / lo, 1.0 / (double)(ngrid - 1));
+        const double step = (hi - lo) / (double)(ngrid - 1);
+        double inner = up ? l : h, outer = xb;
+        int rose = 1;
+        for (int k = 0; k < ALPHA_WIDEN && rose; k++) {
+            const double x = p == PARAM_SCALE ? (up ? xb * ratio : xb / ratio)
+                                              : (up ? xb + step : xb - step);
+            double fx;
+            if ((st = rate_at(s, p, x, alpha, &fx)) != QC_OK)
+                return st;
+            if (fx > fb) {
+                inner = xb;
+                xb = x;
+                fb = fx;
+                outer = x;
+            } else {
+                outer = x;
+                rose = 0;
+            }
+        }
+        s->at_bound |= rose;
+        l = fmin(inner, outer);
+        h = fmax(inner, outer);
+    }
     const double g = 0.5 * (sqrt(5.0) - 1.0);
     double x1 = h - g * (h - l), x2 = l + g * (h - l), f1, f2;
     if ((st = rate_at(s, p, x1, alpha, &f1)) != QC_OK ||
@@ -223,14 +265,48 @@ static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid
         xb = x1, fb = f1;
     if (f2 > fb)
         xb = x2, fb = f2;
-    /* keep the start unless the search found better */
-    double f0;
-    if ((st = rate_at(s, p, v0, alpha, &f0)) != QC_OK)
-        return st;
-    *v_out = fb > f0 ? xb : v0;
+    *v_out = xb;
+    *f_out = fb;
     if (p == PARAM_OFFSET)
-        s->offset = *v_out;
+        s->offset = xb;
     return QC_OK;
+}
+
+/* The affine map of the header that carries the memoryless settings over
+ * to the outputs with memory, y -> *from_out + *alpha0 · (y − *from):
+ * *from is the model's mean output at the lowest level sent and *from_out
+ * that at the lowest noiseless output with memory. The identity (α0 = 1)
+ * on a coherent link, or where the means are not finite and increasing. */
+static void span_map(const search *s, double *alpha0, double *from, double *from_out)
+{
+    *alpha0 = 1.0;
+    *from = *from_out = 0.0;
+    if (s->isi.mode != QC_ISI_REAL)
+        return;
+    double x_lo = INFINITY, x_hi = -INFINITY;
+    for (size_t x = 0; x < s->isi.nlevels; x++)
+        if (!s->isi.input || s->isi.input[x] > 0.0) {
+            x_lo = fmin(x_lo, s->isi.levels[x]);
+            x_hi = fmax(x_hi, s->isi.levels[x]);
+        }
+    double u_lo = 0.0, u_hi = 0.0;
+    for (size_t i = 0; i < s->isi.ntaps; i++) {
+        const double a = s->isi.taps[i] * x_lo, b = s->isi.taps[i] * x_hi;
+        u_lo += fmin(a, b);
+        u_hi += fmax(a, b);
+    }
+    double m[4], var;
+    const double at[4] = {x_lo, x_hi, u_lo, u_hi};
+    for (int k = 0; k < 4; k++)
+        if (!isfinite(at[k]) || qc_model_moments(s->base, at[k], m + k, &var) != QC_OK ||
+            !isfinite(m[k]))
+            return;
+    const double r = (m[3] - m[2]) / (m[1] - m[0]);
+    if (!(m[1] > m[0]) || !(r > 0.0) || !isfinite(r))
+        return;
+    *alpha0 = r;
+    *from = m[0];
+    *from_out = m[2];
 }
 
 /* Mean and rms about it of the output of the channel with memory (the
@@ -265,11 +341,15 @@ static qc_status isi_output_moments(const search *s, double *mu, double *sd)
 }
 
 /* The converter's gain and offset on the channel with memory; *alpha is
- * gain0 over the chosen gain. */
+ * gain0 over the chosen gain. A searched gain starts from the map of the
+ * header (and a searched offset from where the map puts it); the
+ * memoryless settings are kept unless the searches find better. */
 static qc_status converter_settings(search *s, const qc_converter *c, double *alpha)
 {
     qc_status st;
     *alpha = 1.0;
+    const double o0 = s->offset;
+    double f = -INFINITY;
     if (c->gain_mode == QC_GAIN_AGC) {
         double mu, sd;
         if ((st = isi_output_moments(s, &mu, &sd)) != QC_OK)
@@ -281,16 +361,31 @@ static qc_status converter_settings(search *s, const qc_converter *c, double *al
         if (!c->offset_best)
             s->offset = isnan(c->offset) ? mid - g * mu : c->offset;
     } else if (c->gain_mode == QC_GAIN_BEST) {
-        if ((st = maximize(s, PARAM_SCALE, ALPHA_LO, ALPHA_HI, ALPHA_GRID, 1.0, 1.0, alpha)) !=
-            QC_OK)
+        double a0, from, from_out;
+        span_map(s, &a0, &from, &from_out);
+        if (c->offset_best) /* g0·y + o0 = (g0/α0)·map(y) + offset */
+            s->offset = o0 + s->gain0 * from - s->gain0 / a0 * from_out;
+        if ((st = maximize(s, PARAM_SCALE, ALPHA_LO * a0, ALPHA_HI * a0, ALPHA_GRID, 1.0,
+                           alpha, &f)) != QC_OK)
             return st;
     }
     if (c->offset_best) {
-        const double w = c->full_scale_hi - c->full_scale_lo, o0 = s->offset;
+        const double w = c->full_scale_hi - c->full_scale_lo, oc = s->offset;
         double o;
-        if ((st = maximize(s, PARAM_OFFSET, o0 - OFFSET_REACH * w, o0 + OFFSET_REACH * w,
-                           OFFSET_GRID, o0, *alpha, &o)) != QC_OK)
+        if ((st = maximize(s, PARAM_OFFSET, oc - OFFSET_REACH * w, oc + OFFSET_REACH * w,
+                           OFFSET_GRID, *alpha, &o, &f)) != QC_OK)
             return st;
+    }
+    if (c->gain_mode == QC_GAIN_BEST) { /* the memoryless settings, unless beaten */
+        const double a = *alpha, o = s->offset;
+        double f0;
+        s->offset = o0;
+        if ((st = rate_at(s, PARAM_SCALE, 1.0, 1.0, &f0)) != QC_OK)
+            return st;
+        if (f > f0)
+            *alpha = a, s->offset = o;
+        else
+            *alpha = 1.0, s->at_bound = 0;
     }
     return QC_OK;
 }
@@ -431,10 +526,21 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
         if ((st = converter_settings(&s, req->quantizer.converter, &alpha)) != QC_OK)
             goto done;
     } else if (req->quantizer.kind == QC_QUANTIZER_UNIFORM && nt >= 2) {
+        double a0, from, from_out, f, f0;
         s.centre = 0.5 * (res->thresholds[0] + res->thresholds[nt - 1]);
-        if ((st = maximize(&s, PARAM_SCALE, ALPHA_LO, ALPHA_HI, ALPHA_GRID, 1.0, 1.0,
-                           &alpha)) != QC_OK)
+        span_map(&s, &a0, &from, &from_out);
+        const double pivot = from_out + a0 * (s.centre - from);
+        s.pivot = pivot;
+        if ((st = maximize(&s, PARAM_SCALE, ALPHA_LO * a0, ALPHA_HI * a0, ALPHA_GRID, 1.0,
+                           &alpha, &f)) != QC_OK)
             goto done;
+        s.pivot = s.centre; /* the memoryless thresholds, unless beaten */
+        if ((st = rate_at(&s, PARAM_SCALE, 1.0, 1.0, &f0)) != QC_OK)
+            goto done;
+        if (f > f0)
+            s.pivot = pivot;
+        else
+            alpha = 1.0, s.at_bound = 0;
     }
     if ((st = set_to(&s, alpha)) != QC_OK)
         goto done;
@@ -442,13 +548,14 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     for (size_t j = 0; j < nt; j++)
         span = fmax(span, fabs(s.t[j]));
     for (size_t j = 0; j < nt; j++) {
-        const int kept = !conv && alpha == 1.0;
+        const int kept = !conv && alpha == 1.0 && s.pivot == s.centre;
         double t = kept ? res->thresholds[j] : s.t[j];
         /* a threshold at the centre of a symmetric set stays at 0 when
          * the range is scaled; kept thresholds are kept bit for bit */
         res->memory_thresholds[j] = !kept && fabs(t) < 1e-9 * span ? 0.0 : t;
     }
     res->full_scale_factor = alpha;
+    res->full_scale_at_bound = s.at_bound;
     res->memory_gain = conv ? s.gain0 / alpha : NAN;
     res->memory_offset = conv ? s.offset : NAN;
     res->memory_evaluations = s.evaluations;

@@ -260,6 +260,7 @@ static void report_memory(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "memory_thresholds",
                         qc_report_array(res->memory_thresholds, res->nthresholds));
     json_object_set_new(o, "full_scale_factor", qc_report_real(res->full_scale_factor));
+    json_object_set_new(o, "full_scale_at_bound", json_boolean(res->full_scale_at_bound));
     json_object_set_new(o, "memory_evaluations",
                         json_integer((json_int_t)res->memory_evaluations));
     if (res->converter) {
