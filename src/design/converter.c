@@ -48,6 +48,7 @@ typedef struct {
  * receiver output, as the fixed strategy; out owns them). */
 static qc_status rate_at(conv_ctx *x, double g, double o, qc_design_result *out)
 {
+    memset(out, 0, sizeof *out); /* clearable whatever happens below */
     const qc_model *base = x->req->channel.model;
     for (size_t k = 0; k < x->nt; k++)
         x->t[k] = (x->T[k] - o) / g;
@@ -232,8 +233,8 @@ static qc_status choose_gain(conv_ctx *x, double *g, double *o)
     const qc_converter *c = x->c;
     switch (c->gain_mode) {
     case QC_GAIN_FIXED:
+        *g = c->gain;
         if (!c->offset_best) {
-            *g = c->gain;
             *o = c->offset;
             return QC_OK;
         }

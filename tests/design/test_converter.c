@@ -279,6 +279,24 @@ static void test_best_gain_never_worse(void **state)
         c.gain = gains[i];
         assert_true(rate_of(&r) <= best0 + TOL_ORDER);
     }
+    /* a given gain with the best offset: that gain, and an offset no worse
+     * than the given ones at it (a gain left unset here once crashed) */
+    for (size_t i = 0; i < 6; i++) {
+        c.gain = gains[i];
+        c.offset_best = 0;
+        c.offset = 0.0;
+        const double at0 = rate_of(&r);
+        c.offset = 0.1;
+        const double at1 = rate_of(&r);
+        c.offset_best = 1;
+        c.offset = NAN;
+        qc_design_result res;
+        assert_int_equal(qc_design(&r, &res), QC_OK);
+        assert_true(res.gain == gains[i] && isfinite(res.offset));
+        assert_true(res.rate_bits >= fmax(at0, at1) - TOL_ORDER);
+        assert_true(res.rate_bits <= best + TOL_ORDER);
+        qc_design_result_clear(&res);
+    }
     qc_model_free(m);
 }
 
