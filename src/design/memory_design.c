@@ -14,8 +14,8 @@
  * Σ h_i·x_{k−i} reach from u_lo to u_hi where the levels reach from x_lo
  * to x_hi, so the memoryless settings are mapped by the affine map that
  * takes the model's mean output at x_lo and x_hi to that at u_lo and
- * u_hi (scale α0, its ratio of spans; on a coherent link α0 = 1 and no
- * shift):
+ * u_hi (scale α0, its ratio of spans; on a coherent link the outputs of
+ * either quadrature):
  *   - uniform: the full scale, as a factor α on the spread of the
  *     thresholds about their centre, which the map moves;
  *   - converter (quantcap/quantizer.h) with the best gain: the gain, as a
@@ -142,7 +142,8 @@ typedef struct {
     qc_model *noisy;       /* the receiver's model plus the converter's noise */
     double *t;             /* the thresholds in use                      */
     size_t evaluations;
-    int at_bound;          /* the scale search ended where the rate still rose */
+    int at_bound;          /* a search ended at its farthest point, the rate
+                              still rising there                         */
 } search;
 
 /* Set the thresholds (and the converter's noise) for factor alpha and the
@@ -272,29 +273,46 @@ static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid
     return QC_OK;
 }
 
+/* Adds the range of p·v over v in [lo, hi] to [*rlo, *rhi]. */
+static void add_range(double p, double lo, double hi, double *rlo, double *rhi)
+{
+    *rlo += fmin(p * lo, p * hi);
+    *rhi += fmax(p * lo, p * hi);
+}
+
 /* The affine map of the header that carries the memoryless settings over
  * to the outputs with memory, y -> *from_out + *alpha0 · (y − *from):
  * *from is the model's mean output at the lowest level sent and *from_out
- * that at the lowest noiseless output with memory. The identity (α0 = 1)
- * on a coherent link, or where the means are not finite and increasing. */
+ * that at the lowest noiseless output with memory. On a coherent link the
+ * outputs are those of either quadrature (the product quantizer has the
+ * same thresholds on both): I = Σ Re h_i·a_{k−i} − Im h_i·b_{k−i} and
+ * Q = Σ Im h_i·a_{k−i} + Re h_i·b_{k−i}, with a and b the symbols' in-
+ * phase and quadrature levels (b = 0 for PAM), and the memoryless ones
+ * span the levels. The identity (α0 = 1) where the means are not finite
+ * and increasing. */
 static void span_map(const search *s, double *alpha0, double *from, double *from_out)
 {
     *alpha0 = 1.0;
     *from = *from_out = 0.0;
-    if (s->isi.mode != QC_ISI_REAL)
-        return;
     double x_lo = INFINITY, x_hi = -INFINITY;
     for (size_t x = 0; x < s->isi.nlevels; x++)
         if (!s->isi.input || s->isi.input[x] > 0.0) {
             x_lo = fmin(x_lo, s->isi.levels[x]);
             x_hi = fmax(x_hi, s->isi.levels[x]);
         }
-    double u_lo = 0.0, u_hi = 0.0;
+    const int qam = s->isi.mode == QC_ISI_COHERENT_QAM;
+    const double b_lo = qam ? x_lo : 0.0, b_hi = qam ? x_hi : 0.0;
+    double i_lo = 0.0, i_hi = 0.0, q_lo = 0.0, q_hi = 0.0;
     for (size_t i = 0; i < s->isi.ntaps; i++) {
-        const double a = s->isi.taps[i] * x_lo, b = s->isi.taps[i] * x_hi;
-        u_lo += fmin(a, b);
-        u_hi += fmax(a, b);
+        const double re = s->isi.taps[i];
+        const double im = s->isi.taps_imag ? s->isi.taps_imag[i] : 0.0;
+        add_range(re, x_lo, x_hi, &i_lo, &i_hi);
+        add_range(-im, b_lo, b_hi, &i_lo, &i_hi);
+        add_range(im, x_lo, x_hi, &q_lo, &q_hi);
+        add_range(re, b_lo, b_hi, &q_lo, &q_hi);
     }
+    const int real = s->isi.mode == QC_ISI_REAL;
+    const double u_lo = real ? i_lo : fmin(i_lo, q_lo), u_hi = real ? i_hi : fmax(i_hi, q_hi);
     double m[4], var;
     const double at[4] = {x_lo, x_hi, u_lo, u_hi};
     for (int k = 0; k < 4; k++)

@@ -443,9 +443,12 @@ typedef struct {
                                     thresholds (1: unchanged); uniform and
                                     converter settings are searched for
                                     the information rate               */
-    int full_scale_at_bound;     /* 1: that search ended at the widest
-                                    factor it tries, the rate still rising
-                                    there (a wider one may do better)     */
+    int full_scale_at_bound;     /* 1: a search of those settings (the
+                                    full scale, a converter's gain or
+                                    offset) ended at the farthest point it
+                                    tries, at either end, the rate still
+                                    rising there: settings beyond it may
+                                    do better                             */
     size_t memory_evaluations;   /* simulated rates of the full-scale search */
     int coherent;                /* echo of request.memory.coherent          */
     double *taps_imag;           /* owned (ntaps) when coherent, else NULL   */
