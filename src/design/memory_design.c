@@ -222,13 +222,12 @@ static qc_status maximize(search *s, param p, double lo, double hi, size_t ngrid
             double fx;
             if ((st = rate_at(s, p, x, alpha, &fx)) != QC_OK)
                 return st;
+            outer = x;
             if (fx > fb) {
                 inner = xb;
                 xb = x;
                 fb = fx;
-                outer = x;
             } else {
-                outer = x;
                 rose = 0;
             }
         }

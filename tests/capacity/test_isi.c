@@ -39,6 +39,28 @@ static qc_model *gauss(double sigma)
     return m;
 }
 
+/* A design request on the channel with memory: levels lev[nlev] in m's
+ * noise through taps[ntaps], `cells` cells of strategy `kind`, `symbols`
+ * simulated from `seed`. */
+static qc_design_request memory_request(qc_model *m, const double *lev, size_t nlev,
+                                        qc_quantizer_kind kind, size_t cells,
+                                        const double *taps, size_t ntaps, size_t symbols,
+                                        uint64_t seed)
+{
+    qc_design_request req;
+    qc_design_request_default(&req);
+    req.channel.model = m;
+    req.channel.levels = lev;
+    req.channel.nlevels = nlev;
+    req.quantizer.kind = kind;
+    req.quantizer.cells = cells;
+    req.memory.taps = taps;
+    req.memory.ntaps = ntaps;
+    req.memory.symbols = symbols;
+    req.memory.seed = seed;
+    return req;
+}
+
 /* Gaussian low-pass: the filtered rectangle is Φ(t/σ) − Φ((t − 1)/σ) with
  * σ = √(ln 2)/(2π·B) symbols (|H(B)|² = ½), sampled at its peak t = ½ + k
  * (closed form; the taps are these samples over their sum). */
@@ -285,16 +307,8 @@ static void test_design_with_memory(void **state)
     (void)state;
     qc_model *m = gauss(0.5);
     const double lev[4] = {-3, -1, 1, 3}, one[1] = {1.0}, two[2] = {1.0, 0.45};
-    qc_design_request req;
-    qc_design_request_default(&req);
-    req.channel.model = m;
-    req.channel.levels = lev;
-    req.channel.nlevels = 4;
-    req.quantizer.cells = 8;
-    req.memory.taps = one;
-    req.memory.ntaps = 1;
-    req.memory.symbols = 100000;
-    req.memory.seed = 3;
+    qc_design_request req =
+        memory_request(m, lev, 4, QC_QUANTIZER_OPTIMAL, 8, one, 1, 100000, 3);
     qc_design_result r;
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_int_equal(r.states, 1);
@@ -338,17 +352,8 @@ static void test_design_memory_figures(void **state)
     const double lev[4] = {-3, -1, 1, 3}, lev3[3] = {-2, 0, 2}, two[2] = {1.0, 0.45};
     qc_fec kp4;
     assert_int_equal(qc_fec_parse("kp4", &kp4), QC_OK);
-    qc_design_request req;
-    qc_design_request_default(&req);
-    req.channel.model = m;
-    req.channel.levels = lev;
-    req.channel.nlevels = 4;
-    req.quantizer.cells = 8;
-    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
-    req.memory.taps = two;
-    req.memory.ntaps = 2;
-    req.memory.symbols = 20000;
-    req.memory.seed = 5;
+    qc_design_request req =
+        memory_request(m, lev, 4, QC_QUANTIZER_UNIFORM, 8, two, 2, 20000, 5);
     req.input.fec = &kp4;
     qc_design_result r;
     assert_int_equal(qc_design(&req, &r), QC_OK);
@@ -405,18 +410,9 @@ static void test_converter_on_memory(void **state)
     c.enob = 2.5;
     c.gain = 0.9;
     c.offset = 0.1;
-    qc_design_request req;
-    qc_design_request_default(&req);
-    req.channel.model = m;
-    req.channel.levels = lev;
-    req.channel.nlevels = 4;
-    req.quantizer.cells = 8;
-    req.quantizer.kind = QC_QUANTIZER_CONVERTER;
+    qc_design_request req =
+        memory_request(m, lev, 4, QC_QUANTIZER_CONVERTER, 8, one, 1, 20000, 9);
     req.quantizer.converter = &c;
-    req.memory.taps = one;
-    req.memory.ntaps = 1;
-    req.memory.symbols = 20000;
-    req.memory.seed = 9;
     qc_design_result r;
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_near(r.symbolwise_rate_bits, r.rate_bits, TOL_SYMBOLWISE);
@@ -485,17 +481,8 @@ static void test_full_scale_follows_the_span(void **state)
     (void)state;
     qc_model *m = gauss(0.005);
     const double lev[4] = {0.0, 1.0 / 3.0, 2.0 / 3.0, 1.0}, taps[3] = {0.75, 0.5, 0.25};
-    qc_design_request req;
-    qc_design_request_default(&req);
-    req.channel.model = m;
-    req.channel.levels = lev;
-    req.channel.nlevels = 4;
-    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
-    req.quantizer.cells = 64;
-    req.memory.taps = taps;
-    req.memory.ntaps = 3;
-    req.memory.symbols = 20000;
-    req.memory.seed = 5;
+    qc_design_request req =
+        memory_request(m, lev, 4, QC_QUANTIZER_UNIFORM, 64, taps, 3, 20000, 5);
     qc_design_result r;
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_true(r.unquantized_bcjr_pre_fec_ber < 1e-12);
@@ -507,10 +494,7 @@ static void test_full_scale_follows_the_span(void **state)
 
     m = gauss(0.27);
     const double pam[4] = {-3, -1, 1, 3}, wide[3] = {1.0, 0.8, 0.6};
-    req.channel.model = m;
-    req.channel.levels = pam;
-    req.quantizer.cells = 32;
-    req.memory.taps = wide;
+    req = memory_request(m, pam, 4, QC_QUANTIZER_UNIFORM, 32, wide, 3, 20000, 5);
     req.memory.coherent = 1;
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_true(r.full_scale_factor > 2.0);
@@ -520,12 +504,8 @@ static void test_full_scale_follows_the_span(void **state)
 
     m = gauss(0.0316);
     const double two_levels[2] = {-1, 1}, strong[4] = {1, 5, 5, 5};
-    req.channel.model = m;
-    req.channel.levels = two_levels;
-    req.channel.nlevels = 2;
-    req.quantizer.cells = 4;
-    req.memory.taps = strong;
-    req.memory.ntaps = 4;
+    req = memory_request(m, two_levels, 2, QC_QUANTIZER_UNIFORM, 4, strong, 4, 20000, 5);
+    req.memory.coherent = 1;
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_true(r.information_rate_bits > 1.0 - 1e-3);
     assert_false(r.full_scale_at_bound);
@@ -534,10 +514,7 @@ static void test_full_scale_follows_the_span(void **state)
 
     m = gauss(0.1);
     const double six[6] = {1, 1, 1, 1, 1, 1};
-    req.channel.model = m;
-    req.memory.taps = six;
-    req.memory.ntaps = 6;
-    req.memory.coherent = 0;
+    req = memory_request(m, two_levels, 2, QC_QUANTIZER_UNIFORM, 4, six, 6, 20000, 5);
     assert_int_equal(qc_design(&req, &r), QC_OK);
     assert_true(r.full_scale_factor < 3.0);
     assert_true(r.memory_evaluations > 24); /* 11 + 12 + 1, and the widening */
@@ -573,17 +550,8 @@ static void test_rate_ci_target(void **state)
     (void)state;
     qc_model *m = gauss(0.5);
     const double lev[4] = {-3, -1, 1, 3}, two[2] = {1.0, 0.45};
-    qc_design_request req;
-    qc_design_request_default(&req);
-    req.channel.model = m;
-    req.channel.levels = lev;
-    req.channel.nlevels = 4;
-    req.quantizer.cells = 8;
-    req.quantizer.kind = QC_QUANTIZER_UNIFORM;
-    req.memory.taps = two;
-    req.memory.ntaps = 2;
-    req.memory.symbols = 20000;
-    req.memory.seed = 3;
+    qc_design_request req =
+        memory_request(m, lev, 4, QC_QUANTIZER_UNIFORM, 8, two, 2, 20000, 3);
     qc_design_result a, b;
     assert_int_equal(qc_design(&req, &a), QC_OK);
     assert_int_equal(a.memory_symbols, 20000);
