@@ -34,7 +34,9 @@
  * a tail of as many symbols as its warm-up after the counted ones (so the
  * rates above are unchanged) and runs the symbol-wise MAP detector over it
  * (isi_bcjr.c); its BER and GMI get batch-means intervals as the rates
- * do. A coherent channel gets the symbol-by-symbol figures only. */
+ * do. A coherent channel gets the symbol-by-symbol figures only. The
+ * request's mask runs some of the four simulated figures alone; the
+ * draws do not depend on it, so those run are the same to the bit. */
 #include "quantcap/figures.h"
 #include "capacity/isi.h"
 #include "core/internal.h"
@@ -100,6 +102,20 @@ static double advance(const qc_isi_channel *ch, double **a, double **next, const
     return lambda;
 }
 
+/* The quantized step: a forward step on the cell's weights w (times w2
+ * unless NULL) and, for a counted symbol, log P(cell | true window) −
+ * log λ (ptrue the former) into *sum_q. 0 when either vanished. */
+static int quantized_step(const qc_isi_channel *ch, batch_ws *b, const double *w,
+                          const double *w2, double ptrue, int counted, double *sum_q)
+{
+    const double lam_q = advance(ch, &b->aq, &b->nq, w, w2);
+    if (!(lam_q > 0.0) || !(ptrue > 0.0))
+        return 0;
+    if (counted)
+        *sum_q += log(ptrue) - log(lam_q);
+    return 1;
+}
+
 /* The continuous-output step once b->eu holds the log-weights (largest
  * emax) of every window: weights exp(e − emax), a forward step, and, for
  * a counted symbol, log p(y | t) − log Σ = (e_t − logp) − (log λ + emax)
@@ -147,9 +163,11 @@ static size_t next_window(const qc_isi_channel *ch, const gsl_ran_discrete_t *dr
 /* One batch: warm-up, then `count` counted symbols. lik[y·T + t] =
  * p(x_t)·P(y | t) are the quantized step weights. */
 static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
-                      const double *lik, size_t warmup, size_t count, int unquantized,
+                      const double *lik, size_t warmup, size_t count, unsigned fig,
                       const qc_isi_request *req, batch_ws *b)
 {
+    const int rate_q = (fig & QC_ISI_FIG_RATE) != 0;
+    const int rate_u = (fig & QC_ISI_FIG_UNQUANTIZED_RATE) != 0;
     const size_t T = ch->T, K = ch->K;
     const double *pq = ch->window_dmc->p;
     size_t s = batch_start(ch, draw, b);
@@ -165,16 +183,12 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
             b->tcell[k] = (uint32_t)c;
             b->twin[k] = (uint32_t)t;
         }
-        /* quantized */
-        const double lam_q = advance(ch, &b->aq, &b->nq, lik + c * T, NULL);
-        const double ptrue = pq[t * K + c];
-        if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
+        if (rate_q &&
+            !quantized_step(ch, b, lik + c * T, NULL, pq[t * K + c], k >= warmup, &sum_q)) {
             b->failed = 1;
             return;
         }
-        if (k >= warmup)
-            sum_q += log(ptrue) - log(lam_q);
-        if (unquantized) {
+        if (rate_u) {
             /* log of p(x)·φ(y; mean, sd), relative to the largest */
             double emax = -INFINITY;
             for (size_t j = 0; j < T; j++) {
@@ -189,8 +203,8 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
             }
         }
     }
-    b->est_q = sum_q / (double)count;
-    b->est_u = unquantized ? sum_u / (double)count : NAN;
+    b->est_q = rate_q ? sum_q / (double)count : NAN;
+    b->est_u = rate_u ? sum_u / (double)count : NAN;
     if (!b->ty)
         return;
     /* the detector: a tail after the counted symbols, then BCJR */
@@ -205,8 +219,10 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     }
     qc_isi_trace tr = {.y = b->ty, .cell = b->tcell, .window = b->twin, .n = n,
                        .first = warmup, .count = count};
-    int rc = qc_isi_bcjr(ch, lik, &tr, req->labels, req->label_bits, 0, &b->det_q);
-    if (rc == 0 && unquantized)
+    int rc = 0;
+    if (fig & QC_ISI_FIG_DETECTOR)
+        rc = qc_isi_bcjr(ch, lik, &tr, req->labels, req->label_bits, 0, &b->det_q);
+    if (rc == 0 && (fig & QC_ISI_FIG_UNQUANTIZED_DETECTOR))
         rc = qc_isi_bcjr(ch, lik, &tr, req->labels, req->label_bits, 1, &b->det_u);
     b->failed = rc;
 }
@@ -215,8 +231,10 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
  * lik[a·T + t] = p(x_t)·P_I(a | t), pq[b·T + t] = P_Q(b | t). */
 static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
                                const double *lik, const double *pq_t, size_t warmup,
-                               size_t count, int unquantized, batch_ws *b)
+                               size_t count, unsigned fig, batch_ws *b)
 {
+    const int rate_q = (fig & QC_ISI_FIG_RATE) != 0;
+    const int rate_u = (fig & QC_ISI_FIG_UNQUANTIZED_RATE) != 0;
     const size_t T = ch->T, K = ch->K;
     const double *pi = ch->window_dmc->p, *pq = ch->window_dmc_q->p;
     size_t s = batch_start(ch, draw, b);
@@ -231,15 +249,12 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
         const size_t ci = cell_of(ch->thresholds, K - 1, yi);
         const size_t cq = cell_of(ch->thresholds, K - 1, yq);
         /* quantized: the joint cell's weights, li·lq */
-        const double lam_q = advance(ch, &b->aq, &b->nq, lik + ci * T, pq_t + cq * T);
-        const double ptrue = pi[t * K + ci] * pq[t * K + cq];
-        if (!(lam_q > 0.0) || !(ptrue > 0.0)) {
+        if (rate_q && !quantized_step(ch, b, lik + ci * T, pq_t + cq * T,
+                                      pi[t * K + ci] * pq[t * K + cq], k >= warmup, &sum_q)) {
             b->failed = 1;
             return;
         }
-        if (k >= warmup)
-            sum_q += log(ptrue) - log(lam_q);
-        if (unquantized) {
+        if (rate_u) {
             double emax = -INFINITY;
             for (size_t j = 0; j < T; j++) {
                 const double di = (yi - ch->mean[j]) * ch->inv_sd[j];
@@ -254,8 +269,8 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
             }
         }
     }
-    b->est_q = sum_q / (double)count;
-    b->est_u = unquantized ? sum_u / (double)count : NAN;
+    b->est_q = rate_q ? sum_q / (double)count : NAN;
+    b->est_u = rate_u ? sum_u / (double)count : NAN;
 }
 
 static void mean_ci(const double *v, size_t n, double *mean, double *half)
@@ -317,8 +332,16 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
             goto done;
         symbolwise = mi / QC_ISI_LN2;
     }
-    /* the BCJR detector's figures: real channels with labels */
-    const int detect = req->labels && !ch->coherent;
+    /* the figures run: those the mask keeps of what the request allows
+     * (the BCJR detector's on real channels with labels) */
+    unsigned fig = QC_ISI_FIG_RATE;
+    if (req->unquantized)
+        fig |= QC_ISI_FIG_UNQUANTIZED_RATE;
+    if (req->labels && !ch->coherent)
+        fig |= QC_ISI_FIG_DETECTOR | (req->unquantized ? QC_ISI_FIG_UNQUANTIZED_DETECTOR : 0u);
+    if (req->figures)
+        fig &= req->figures;
+    const int detect = (fig & (QC_ISI_FIG_DETECTOR | QC_ISI_FIG_UNQUANTIZED_DETECTOR)) != 0;
     const size_t count = req->symbols / B;
     const size_t warmup = WARMUP_PER_TAP * (ch->ntaps - 1);
 
@@ -367,7 +390,6 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         }
     }
     {
-        const int unq = req->unquantized != 0;
         /* the batches in OpenMP threads, unless this runs inside a parallel
          * region already (a sweep's point, even with one thread: a point's
          * work stays in its thread); each batch has its own generator and
@@ -379,9 +401,9 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
 #endif
         for (size_t b = 0; b < B; b++) {
             if (ch->coherent)
-                run_batch_coherent(ch, draw, lik, lik_q, warmup, count, unq, &ws[b]);
+                run_batch_coherent(ch, draw, lik, lik_q, warmup, count, fig, &ws[b]);
             else
-                run_batch(ch, draw, lik, warmup, count, unq, req, &ws[b]);
+                run_batch(ch, draw, lik, warmup, count, fig, req, &ws[b]);
         }
     }
     for (size_t b = 0; b < B; b++) {
@@ -411,11 +433,12 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
         est[6 * B + b] = hx - ws[b].det_u.bit_entropy_bits;
     }
     memset(out, 0, sizeof *out);
-    mean_ci(est, B, &out->rate_bits, &out->rate_ci_bits);
-    if (req->unquantized)
+    out->rate_bits = out->rate_ci_bits = NAN;
+    out->unquantized_bits = out->unquantized_ci_bits = NAN;
+    if (fig & QC_ISI_FIG_RATE)
+        mean_ci(est, B, &out->rate_bits, &out->rate_ci_bits);
+    if (fig & QC_ISI_FIG_UNQUANTIZED_RATE)
         mean_ci(est + B, B, &out->unquantized_bits, &out->unquantized_ci_bits);
-    else
-        out->unquantized_bits = out->unquantized_ci_bits = NAN;
     out->symbolwise_bits = symbolwise;
     out->symbolwise_ber = symbolwise_ber;
     out->symbolwise_gmi_bits = symbolwise_gmi;
@@ -423,15 +446,15 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
     out->bcjr_gmi_bits = out->bcjr_gmi_ci_bits = NAN;
     out->unquantized_bcjr_ber = out->unquantized_bcjr_ber_ci = NAN;
     out->unquantized_bcjr_gmi_bits = out->unquantized_bcjr_gmi_ci_bits = NAN;
-    if (detect) {
+    if (fig & QC_ISI_FIG_DETECTOR) {
         mean_ci(est + 2 * B, B, &out->bcjr_ber, &out->bcjr_ber_ci);
         mean_ci(est + 3 * B, B, &out->bcjr_ber_counted, &out->bcjr_ber_counted_ci);
         mean_ci(est + 4 * B, B, &out->bcjr_gmi_bits, &out->bcjr_gmi_ci_bits);
-        if (req->unquantized) {
-            mean_ci(est + 5 * B, B, &out->unquantized_bcjr_ber, &out->unquantized_bcjr_ber_ci);
-            mean_ci(est + 6 * B, B, &out->unquantized_bcjr_gmi_bits,
-                    &out->unquantized_bcjr_gmi_ci_bits);
-        }
+    }
+    if (fig & QC_ISI_FIG_UNQUANTIZED_DETECTOR) {
+        mean_ci(est + 5 * B, B, &out->unquantized_bcjr_ber, &out->unquantized_bcjr_ber_ci);
+        mean_ci(est + 6 * B, B, &out->unquantized_bcjr_gmi_bits,
+                &out->unquantized_bcjr_gmi_ci_bits);
     }
     out->states = S;
     out->batches = B;

@@ -590,14 +590,20 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     /* the converter's unquantized reference is the receiver's own, without
      * the converter's noise: a second run on the same sequence */
     s.isi.unquantized = !s.noisy;
+    /* the figures asked for, and the quantized rate an interval target
+     * reads */
+    const unsigned unq = QC_ISI_FIG_UNQUANTIZED_RATE | QC_ISI_FIG_UNQUANTIZED_DETECTOR;
+    s.isi.figures = m->figures ? m->figures | (m->rate_ci_bits > 0.0 ? QC_ISI_FIG_RATE : 0u)
+                               : 0u;
     qc_isi_result r, ru;
     if ((st = qc_isi_rate(&s.isi, &r)) != QC_OK ||
         (st = meet_ci_target(&s.isi, m->rate_ci_bits, &r)) != QC_OK)
         goto done;
-    if (s.noisy) {
+    if (s.noisy && (!m->figures || (m->figures & unq))) {
         qc_isi_request u = s.isi;
         u.model = s.base;
         u.unquantized = 1;
+        u.figures = m->figures ? m->figures & unq : unq; /* its quantized ones are unused */
         if ((st = qc_isi_rate(&u, &ru)) != QC_OK)
             goto done;
         r.unquantized_bits = ru.unquantized_bits;

@@ -178,7 +178,10 @@ static qc_status unquantized_memory_figure(const qc_model *m, const qc_design_re
                           .mode = !req->memory.coherent           ? QC_ISI_REAL
                                   : req->channel.dimensions == 2 ? QC_ISI_COHERENT_QAM
                                                                  : QC_ISI_COHERENT_PAM,
-                          .labels = labels, .label_bits = nbits};
+                          .labels = labels, .label_bits = nbits,
+                          .figures = kind == QC_TARGET_RATE
+                                         ? QC_ISI_FIG_UNQUANTIZED_RATE
+                                         : QC_ISI_FIG_UNQUANTIZED_DETECTOR};
     qc_isi_result ir;
     if ((st = qc_isi_rate(&isi, &ir)) != QC_OK)
         goto done;
@@ -354,6 +357,19 @@ static const char *undefined_why(const qc_design_request *req, qc_target_kind ki
     return "Gray labels need a power of 2 levels";
 }
 
+/* The simulated figure of a design on a channel with memory that target
+ * `kind` reads (qc_design_figure): the search runs that one alone. */
+static unsigned memory_figure_of(qc_target_kind kind)
+{
+    switch (kind) {
+    case QC_TARGET_BER:
+    case QC_TARGET_NGMI:
+    case QC_TARGET_GMI: return QC_ISI_FIG_DETECTOR;
+    case QC_TARGET_RATE: return QC_ISI_FIG_RATE;
+    default: return 0u; /* not a figure of the trellis: every one */
+    }
+}
+
 /* Goodness of the figure at u (log10 of the value for linear quantities). */
 static double evaluate(search *s, double u)
 {
@@ -381,6 +397,7 @@ static double evaluate(search *s, double u)
             req.quantizer.keep_decisions = 1;
         req.numerics.skip_snr_penalty = 1;
         req.input.fec = NULL;
+        req.memory.figures = memory_figure_of(rq->target.kind);
         st = qc_design(&req, &r);
         if (st == QC_OK) {
             s->designs++;

@@ -245,6 +245,12 @@ typedef struct {
     const double *taps_imag;     /* imaginary parts (NULL: real; coherent only) */
     double truncated_energy;     /* a coherent response's energy outside the
                                     taps, echoed in the result (NaN: none)  */
+    /* The figures the final simulation runs (QC_ISI_FIG_* bits of
+     * quantcap/memory.h; 0: all of them): a search that reads one figure
+     * of each design (the detector's BER, say) asks for that alone, and
+     * the result's other simulated figures are NaN. What is run is bit
+     * for bit what a run of them all gives (one sequence is drawn). */
+    unsigned figures;
 } qc_design_memory;
 
 #define QC_DESIGN_MEMORY_SYMBOLS ((size_t)200000)

@@ -143,7 +143,18 @@ typedef struct {
                                 the detectors' BER and GMI below. NULL:
                                 rates only                                 */
     unsigned label_bits;
+    unsigned figures;        /* which simulated figures to run: QC_ISI_FIG_*
+                                bits; 0: every one the fields above allow.
+                                One the request allows but the mask leaves
+                                out is NaN; the others are bit for bit those
+                                of a run of them all (one sequence drawn)   */
 } qc_isi_request;
+
+/* The simulated figures of a qc_isi_request, for its mask `figures`. */
+#define QC_ISI_FIG_RATE 1u                 /* quantized information rate    */
+#define QC_ISI_FIG_UNQUANTIZED_RATE 2u     /* continuous-output rate        */
+#define QC_ISI_FIG_DETECTOR 4u             /* BCJR BER and GMI, quantized    */
+#define QC_ISI_FIG_UNQUANTIZED_DETECTOR 8u /* the same on continuous outputs */
 
 typedef struct {
     double rate_bits;        /* information rate, quantized output           */

@@ -574,6 +574,110 @@ static void test_rate_ci_target(void **state)
     qc_model_free(m);
 }
 
+/* The figures a run leaves out of its mask are NaN, and those it keeps are
+ * bit for bit those of a run of them all: one sequence is drawn whatever
+ * is computed on it. On the simulator (real, with labels and the
+ * continuous-output references; coherent), and through qc_design, where
+ * a search asks for the detector's figures alone, also with a converter's
+ * noise (whose continuous-output reference is a second run) and with an
+ * interval target (which reads the quantized rate, so keeps it). */
+static void test_figures_run_alone(void **state)
+{
+    (void)state;
+    qc_model *m = gauss(0.6);
+    const double lev[4] = {-3, -1, 1, 3}, taps[3] = {0.7, 0.4, -0.1}, thr[3] = {-2, 0, 2};
+    const double im[3] = {0.0, 0.3, 0.1};
+    const size_t gray[4] = {0, 1, 3, 2};
+    qc_isi_request req = {.model = m, .levels = lev, .nlevels = 4, .taps = taps, .ntaps = 3,
+                          .thresholds = thr, .nthresholds = 3, .symbols = 20000, .seed = 7,
+                          .unquantized = 1, .labels = gray, .label_bits = 2};
+    qc_isi_result all, one;
+    assert_int_equal(qc_isi_rate(&req, &all), QC_OK);
+    assert_true(all.rate_bits > 0.0 && all.unquantized_bits > 0.0);
+    assert_true(all.bcjr_ber > 0.0 && all.unquantized_bcjr_ber > 0.0);
+    req.figures = QC_ISI_FIG_RATE;
+    assert_int_equal(qc_isi_rate(&req, &one), QC_OK);
+    assert_true(one.rate_bits == all.rate_bits && one.rate_ci_bits == all.rate_ci_bits);
+    assert_true(isnan(one.unquantized_bits) && isnan(one.bcjr_ber) &&
+                isnan(one.unquantized_bcjr_ber));
+    assert_true(one.symbolwise_ber == all.symbolwise_ber); /* exact, always */
+    req.figures = QC_ISI_FIG_UNQUANTIZED_RATE;
+    assert_int_equal(qc_isi_rate(&req, &one), QC_OK);
+    assert_true(one.unquantized_bits == all.unquantized_bits && isnan(one.rate_bits));
+    assert_true(isnan(one.bcjr_gmi_bits) && isnan(one.unquantized_bcjr_gmi_bits));
+    req.figures = QC_ISI_FIG_DETECTOR;
+    assert_int_equal(qc_isi_rate(&req, &one), QC_OK);
+    assert_true(one.bcjr_ber == all.bcjr_ber && one.bcjr_ber_ci == all.bcjr_ber_ci);
+    assert_true(one.bcjr_gmi_bits == all.bcjr_gmi_bits &&
+                one.bcjr_ber_counted == all.bcjr_ber_counted);
+    assert_true(isnan(one.rate_bits) && isnan(one.unquantized_bcjr_ber));
+    req.figures = QC_ISI_FIG_UNQUANTIZED_DETECTOR;
+    assert_int_equal(qc_isi_rate(&req, &one), QC_OK);
+    assert_true(one.unquantized_bcjr_ber == all.unquantized_bcjr_ber &&
+                one.unquantized_bcjr_gmi_bits == all.unquantized_bcjr_gmi_bits);
+    assert_true(isnan(one.bcjr_ber) && isnan(one.unquantized_bits));
+    /* a figure the request does not allow stays out whatever the mask */
+    req.unquantized = 0;
+    req.figures = QC_ISI_FIG_UNQUANTIZED_RATE | QC_ISI_FIG_DETECTOR;
+    assert_int_equal(qc_isi_rate(&req, &one), QC_OK);
+    assert_true(isnan(one.unquantized_bits) && one.bcjr_ber == all.bcjr_ber);
+
+    /* coherent: I and Q drawn alike whatever is computed */
+    qc_isi_request co = {.model = m, .levels = lev, .nlevels = 4, .taps = taps, .ntaps = 3,
+                         .thresholds = thr, .nthresholds = 3, .symbols = 20000, .seed = 7,
+                         .unquantized = 1, .taps_imag = im, .mode = QC_ISI_COHERENT_PAM};
+    assert_int_equal(qc_isi_rate(&co, &all), QC_OK);
+    co.figures = QC_ISI_FIG_UNQUANTIZED_RATE;
+    assert_int_equal(qc_isi_rate(&co, &one), QC_OK);
+    assert_true(one.unquantized_bits == all.unquantized_bits && isnan(one.rate_bits));
+    co.figures = QC_ISI_FIG_RATE;
+    assert_int_equal(qc_isi_rate(&co, &one), QC_OK);
+    assert_true(one.rate_bits == all.rate_bits && isnan(one.unquantized_bits));
+
+    /* a design that asks for the detector alone */
+    const double two[2] = {1.0, 0.45};
+    qc_design_request dr = memory_request(m, lev, 4, QC_QUANTIZER_UNIFORM, 8, two, 2, 20000, 5);
+    qc_design_result a, b;
+    assert_int_equal(qc_design(&dr, &a), QC_OK);
+    dr.memory.figures = QC_ISI_FIG_DETECTOR;
+    assert_int_equal(qc_design(&dr, &b), QC_OK);
+    assert_true(b.bcjr_pre_fec_ber == a.bcjr_pre_fec_ber && b.bcjr_ngmi == a.bcjr_ngmi);
+    assert_true(b.full_scale_factor == a.full_scale_factor);
+    assert_true(isnan(b.information_rate_bits) && isnan(b.unquantized_bcjr_pre_fec_ber));
+    assert_true(isnan(qc_design_figure(&b, QC_TARGET_RATE)));
+    qc_design_result_clear(&b);
+    /* an interval target reads the quantized rate: it is kept */
+    dr.memory.rate_ci_bits = 2.0 * a.information_rate_ci_bits;
+    assert_int_equal(qc_design(&dr, &b), QC_OK);
+    assert_true(b.information_rate_bits == a.information_rate_bits);
+    assert_true(b.bcjr_pre_fec_ber == a.bcjr_pre_fec_ber);
+    qc_design_result_clear(&a);
+    qc_design_result_clear(&b);
+
+    /* a converter's noise: its continuous-output reference, a second run */
+    qc_converter c;
+    qc_converter_default(&c, -4.0, 4.0);
+    c.enob = 2.5; /* below the 3 bits: noise of its own */
+    c.gain = 0.9;
+    c.offset = 0.0;
+    dr = memory_request(m, lev, 4, QC_QUANTIZER_CONVERTER, 8, two, 2, 20000, 5);
+    dr.quantizer.converter = &c;
+    assert_int_equal(qc_design(&dr, &a), QC_OK);
+    assert_true(a.converter_noise_rms > 0.0 && a.unquantized_bcjr_pre_fec_ber > 0.0);
+    dr.memory.figures = QC_ISI_FIG_UNQUANTIZED_DETECTOR;
+    assert_int_equal(qc_design(&dr, &b), QC_OK);
+    assert_true(b.unquantized_bcjr_pre_fec_ber == a.unquantized_bcjr_pre_fec_ber);
+    assert_true(isnan(b.unquantized_information_rate_bits) && isnan(b.bcjr_pre_fec_ber));
+    qc_design_result_clear(&b);
+    dr.memory.figures = QC_ISI_FIG_DETECTOR;
+    assert_int_equal(qc_design(&dr, &b), QC_OK);
+    assert_true(b.bcjr_pre_fec_ber == a.bcjr_pre_fec_ber);
+    assert_true(isnan(b.unquantized_bcjr_pre_fec_ber));
+    qc_design_result_clear(&a);
+    qc_design_result_clear(&b);
+    qc_model_free(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -590,6 +694,7 @@ int main(void)
         cmocka_unit_test(test_converter_on_memory),
         cmocka_unit_test(test_odd_step_count),
         cmocka_unit_test(test_rate_ci_target),
+        cmocka_unit_test(test_figures_run_alone),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
