@@ -128,6 +128,19 @@ static double from_goodness(qc_target_kind kind, double g)
 
 /* ---- the unquantized figures ---------------------------------------- */
 
+/* The simulated figure of a design on a channel with memory that target
+ * `kind` reads (qc_design_figure): the search runs that one alone. */
+static unsigned memory_figure_of(qc_target_kind kind)
+{
+    switch (kind) {
+    case QC_TARGET_BER:
+    case QC_TARGET_NGMI:
+    case QC_TARGET_GMI: return QC_ISI_FIG_DETECTOR;
+    case QC_TARGET_RATE: return QC_ISI_FIG_RATE;
+    default: return 0u; /* not a figure of the trellis: every one */
+    }
+}
+
 /* A channel with memory: the simulated figure without the ADC (the same
  * seed and symbols as the design's; quantcap/memory.h), for the design's
  * levels and law: the information rate, or the BCJR detector's BER, GMI
@@ -179,9 +192,9 @@ static qc_status unquantized_memory_figure(const qc_model *m, const qc_design_re
                                   : req->channel.dimensions == 2 ? QC_ISI_COHERENT_QAM
                                                                  : QC_ISI_COHERENT_PAM,
                           .labels = labels, .label_bits = nbits,
-                          .figures = kind == QC_TARGET_RATE
-                                         ? QC_ISI_FIG_UNQUANTIZED_RATE
-                                         : QC_ISI_FIG_UNQUANTIZED_DETECTOR};
+                          .figures = memory_figure_of(kind) == QC_ISI_FIG_DETECTOR
+                                         ? QC_ISI_FIG_UNQUANTIZED_DETECTOR
+                                         : QC_ISI_FIG_UNQUANTIZED_RATE};
     qc_isi_result ir;
     if ((st = qc_isi_rate(&isi, &ir)) != QC_OK)
         goto done;
@@ -355,19 +368,6 @@ static const char *undefined_why(const qc_design_request *req, qc_target_kind ki
         return "the detector's BER and GMI are simulated on real channels with memory; a "
                "coherent one is rated by its rate: give rate=X";
     return "Gray labels need a power of 2 levels";
-}
-
-/* The simulated figure of a design on a channel with memory that target
- * `kind` reads (qc_design_figure): the search runs that one alone. */
-static unsigned memory_figure_of(qc_target_kind kind)
-{
-    switch (kind) {
-    case QC_TARGET_BER:
-    case QC_TARGET_NGMI:
-    case QC_TARGET_GMI: return QC_ISI_FIG_DETECTOR;
-    case QC_TARGET_RATE: return QC_ISI_FIG_RATE;
-    default: return 0u; /* not a figure of the trellis: every one */
-    }
 }
 
 /* Goodness of the figure at u (log10 of the value for linear quantities). */
