@@ -55,6 +55,32 @@ double qc_isi_forward_step(const qc_isi_channel *ch, const double *a, const doub
 double qc_isi_forward_step_pair(const qc_isi_channel *ch, const double *a, const double *w,
                                 const double *w2, double *next);
 
+/* A kept sequence (isi_draws.c): how a run's batches get their draws. */
+enum { QC_ISI_DRAW, QC_ISI_RECORD, QC_ISI_REPLAY };
+
+/* One batch's view of a kept sequence: in QC_ISI_RECORD mode the draws
+ * are written to x (symbols), z (normal draws, 2 per symbol when
+ * coherent) and *s0 (the first state); in QC_ISI_REPLAY mode read from
+ * them; in QC_ISI_DRAW mode (all NULL) drawn only. */
+typedef struct {
+    int mode;
+    uint32_t *x;
+    double *z;
+    size_t *s0;
+} qc_isi_stream;
+
+/* How a run with these settings gets its draws from d (NULL: drawn):
+ * QC_ISI_REPLAY when d holds them (per_batch symbols a batch, the tail
+ * included), else QC_ISI_RECORD when d can hold them (then recorded by
+ * the run), else QC_ISI_DRAW. */
+int qc_isi_draws_begin(qc_isi_draws *d, uint64_t seed, const double *law, size_t M,
+                       size_t ntaps, size_t warmup, size_t count, size_t per_batch,
+                       int coherent);
+/* Batch b's view for that mode. */
+void qc_isi_draws_stream(qc_isi_draws *d, int mode, size_t b, qc_isi_stream *s);
+/* After the run: a record is kept only when every batch drew it whole. */
+void qc_isi_draws_end(qc_isi_draws *d, int mode, int complete);
+
 /* One simulated batch, as the detector needs it: for symbol k the
  * continuous output y[k], its cell among the thresholds and the true
  * window; the figures count symbols first .. first + count − 1 (the

@@ -36,7 +36,9 @@
  * (isi_bcjr.c); its BER and GMI get batch-means intervals as the rates
  * do. A coherent channel gets the symbol-by-symbol figures only. The
  * request's mask runs some of the four simulated figures alone; the
- * draws do not depend on it, so those run are the same to the bit. */
+ * draws do not depend on it, so those run are the same to the bit. With
+ * a kept sequence (isi_draws.c) the draws are recorded once and replayed
+ * by the runs after, again to the bit. */
 #include "quantcap/figures.h"
 #include "capacity/isi.h"
 #include "core/internal.h"
@@ -72,6 +74,7 @@ typedef struct {
     double *ty;                /* with labels: the batch's outputs,      */
     uint32_t *tcell, *twin;    /* their cells and true windows            */
     qc_isi_detection det_q, det_u; /* the detector's figures              */
+    qc_isi_stream seq;         /* the draws recorded or replayed, if kept */
 } batch_ws;
 
 /* The cell of a continuous output among n sorted thresholds. */
@@ -141,23 +144,46 @@ static size_t batch_start(const qc_isi_channel *ch, const gsl_ran_discrete_t *dr
                           batch_ws *b)
 {
     size_t s = 0;
-    for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= ch->M)
-        s += mul * gsl_ran_discrete(b->rng, draw);
+    if (b->seq.mode == QC_ISI_REPLAY) {
+        s = *b->seq.s0;
+    } else {
+        for (size_t i = 0, mul = 1; i + 1 < ch->ntaps; i++, mul *= ch->M)
+            s += mul * gsl_ran_discrete(b->rng, draw);
+        if (b->seq.mode == QC_ISI_RECORD)
+            *b->seq.s0 = s;
+    }
     memcpy(b->aq, ch->state_prior, ch->S * sizeof *b->aq);
     memcpy(b->au, ch->state_prior, ch->S * sizeof *b->au);
     b->failed = 0;
     return s;
 }
 
-/* The next symbol x (drawn from the law) and its window t = x + M·s;
- * the state s moves on to t mod S. */
+/* Symbol k of the batch, x (drawn from the law, or replayed), and its
+ * window t = x + M·s; the state s moves on to t mod S. */
 static size_t next_window(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
-                          batch_ws *b, size_t *s, size_t *x)
+                          batch_ws *b, size_t k, size_t *s, size_t *x)
 {
-    *x = gsl_ran_discrete(b->rng, draw);
+    if (b->seq.mode == QC_ISI_REPLAY) {
+        *x = b->seq.x[k];
+    } else {
+        *x = gsl_ran_discrete(b->rng, draw);
+        if (b->seq.mode == QC_ISI_RECORD)
+            b->seq.x[k] = (uint32_t)*x;
+    }
     const size_t t = *x + ch->M * *s;
     *s = t % ch->S;
     return t;
+}
+
+/* Standard normal draw i of the batch (drawn, or replayed). */
+static double normal_draw(batch_ws *b, size_t i)
+{
+    if (b->seq.mode == QC_ISI_REPLAY)
+        return b->seq.z[i];
+    const double z = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+    if (b->seq.mode == QC_ISI_RECORD)
+        b->seq.z[i] = z;
+    return z;
 }
 
 /* One batch: warm-up, then `count` counted symbols. lik[y·T + t] =
@@ -174,9 +200,8 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     double sum_q = 0.0, sum_u = 0.0;
     for (size_t k = 0; k < warmup + count; k++) {
         size_t x;
-        const size_t t = next_window(ch, draw, b, &s, &x);
-        const double z = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
-        const double y = ch->mean[t] + ch->sd[t] * z;
+        const size_t t = next_window(ch, draw, b, k, &s, &x);
+        const double y = ch->mean[t] + ch->sd[t] * normal_draw(b, k);
         const size_t c = cell_of(ch->thresholds, K - 1, y);
         if (b->ty) {
             b->ty[k] = y;
@@ -211,8 +236,8 @@ static void run_batch(const qc_isi_channel *ch, const gsl_ran_discrete_t *draw,
     const size_t n = 2 * warmup + count;
     for (size_t k = warmup + count; k < n; k++) {
         size_t x;
-        const size_t t = next_window(ch, draw, b, &s, &x);
-        const double y = ch->mean[t] + ch->sd[t] * gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        const size_t t = next_window(ch, draw, b, k, &s, &x);
+        const double y = ch->mean[t] + ch->sd[t] * normal_draw(b, k);
         b->ty[k] = y;
         b->tcell[k] = (uint32_t)cell_of(ch->thresholds, K - 1, y);
         b->twin[k] = (uint32_t)t;
@@ -241,9 +266,9 @@ static void run_batch_coherent(const qc_isi_channel *ch, const gsl_ran_discrete_
     double sum_q = 0.0, sum_u = 0.0;
     for (size_t k = 0; k < warmup + count; k++) {
         size_t x;
-        const size_t t = next_window(ch, draw, b, &s, &x);
-        const double zi = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
-        const double zq = gsl_ran_gaussian_ziggurat(b->rng, 1.0);
+        const size_t t = next_window(ch, draw, b, k, &s, &x);
+        const double zi = normal_draw(b, 2 * k);
+        const double zq = normal_draw(b, 2 * k + 1);
         const double yi = ch->mean[t] + ch->sd[t] * zi;
         const double yq = ch->mean_q[t] + ch->sd_q[t] * zq;
         const size_t ci = cell_of(ch->thresholds, K - 1, yi);
@@ -389,6 +414,13 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
             }
         }
     }
+    /* the draws: from a kept sequence when the request has one that holds
+     * them (isi_draws.c), else drawn (and recorded when it can hold them) */
+    const size_t per_batch = warmup + count + (detect ? warmup : 0);
+    const int mode = qc_isi_draws_begin(req->draws, req->seed, ch->law, ch->M, ch->ntaps,
+                                        warmup, count, per_batch, ch->coherent);
+    for (size_t b = 0; b < B; b++)
+        qc_isi_draws_stream(req->draws, mode, b, &ws[b].seq);
     {
         /* the batches in OpenMP threads, unless this runs inside a parallel
          * region already (a sweep's point, even with one thread: a point's
@@ -405,6 +437,12 @@ qc_status qc_isi_rate(const qc_isi_request *req, qc_isi_result *out)
             else
                 run_batch(ch, draw, lik, warmup, count, fig, req, &ws[b]);
         }
+    }
+    {
+        int complete = 1;
+        for (size_t b = 0; b < B; b++)
+            complete &= ws[b].failed == 0;
+        qc_isi_draws_end(req->draws, mode, complete);
     }
     for (size_t b = 0; b < B; b++) {
         if (ws[b].failed < 0) {

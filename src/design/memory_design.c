@@ -34,6 +34,8 @@
  * Every evaluation simulates the same seeded sequence, so the rates of two
  * settings are compared with common random numbers: the search sees the
  * rate's change with the thresholds, not the noise of two simulations.
+ * That sequence is drawn once and kept (qc_isi_draws): the evaluations
+ * after the first replay it.
  * A coherent link (complex taps, QAM or PAM on the in-phase quadrature)
  * scales the product quantizer's thresholds, the same on I and Q, by the
  * same α (a converter's gain and offset act on both alike); the
@@ -519,12 +521,15 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
                 .gain0 = conv ? res->gain : 1.0, .offset = conv ? res->offset : 0.0};
     size_t *labels = NULL;
     unsigned nbits = 0;
+    /* every rate of the search draws the same sequence: kept once */
+    if ((st = qc_isi_draws_alloc(&s.isi.draws)) != QC_OK)
+        return st;
     res->taps = qc_malloc_array(m->ntaps, sizeof *res->taps);
     res->memory_thresholds = qc_malloc_array(nt, sizeof *res->memory_thresholds);
     s.t = qc_malloc_array(nt, sizeof *s.t);
     if (!res->taps || !res->memory_thresholds || !s.t) {
-        free(s.t);
-        return qc_fail(QC_ENOMEM, "out of memory");
+        st = qc_fail(QC_ENOMEM, "out of memory");
+        goto done;
     }
     memcpy(res->taps, m->taps, m->ntaps * sizeof *res->taps);
     res->ntaps = m->ntaps;
@@ -532,8 +537,8 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     res->truncated_energy = m->coherent ? m->truncated_energy : NAN;
     if (m->coherent) {
         if (!(res->taps_imag = qc_malloc_array(m->ntaps, sizeof *res->taps_imag))) {
-            free(s.t);
-            return qc_fail(QC_ENOMEM, "out of memory");
+            st = qc_fail(QC_ENOMEM, "out of memory");
+            goto done;
         }
         for (size_t i = 0; i < m->ntaps; i++)
             res->taps_imag[i] = m->taps_imag ? m->taps_imag[i] : 0.0;
@@ -623,6 +628,7 @@ qc_status qc_memory_design(const qc_design_request *req, qc_design_result *res)
     res->symbolwise_rate_bits = r.symbolwise_bits;
     st = memory_figures(req, &r, nbits, res);
 done:
+    qc_isi_draws_free(s.isi.draws);
     qc_model_free(s.noisy);
     free(labels);
     free(s.t);

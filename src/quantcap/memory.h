@@ -120,6 +120,16 @@ typedef enum {
  * that overflows. */
 QC_API size_t qc_isi_alphabet_size(qc_isi_mode mode, size_t nlevels);
 
+/* A simulated sequence kept for reuse by requests that differ only in
+ * the thresholds, the model or the figures asked for (a search on common
+ * random numbers): the first run with it records the draws, the others
+ * replay them and give the same bits without the generator's cost. A
+ * request with another seed, law, tap count, symbol count or kind of
+ * output records anew. Not for two runs at once. */
+typedef struct qc_isi_draws qc_isi_draws;
+QC_API qc_status qc_isi_draws_alloc(qc_isi_draws **out);
+QC_API void qc_isi_draws_free(qc_isi_draws *draws);
+
 typedef struct {
     const qc_model *model;   /* law of the output given the noiseless output
                                 (coherent: of each quadrature, a model
@@ -143,6 +153,7 @@ typedef struct {
                                 the detectors' BER and GMI below. NULL:
                                 rates only                                 */
     unsigned label_bits;
+    qc_isi_draws *draws;     /* NULL, or a sequence kept for reuse (above) */
     unsigned figures;        /* which simulated figures to run: QC_ISI_FIG_*
                                 bits; 0: every one the fields above allow.
                                 One the request allows but the mask leaves

@@ -5,7 +5,8 @@
  * second, and the time of one step as a multiple of one streaming pass
  * over the same arrays (read the branch weights and the messages, write
  * the messages). Then a whole quantized rate, per million symbols, on one
- * thread, and what a search saves by asking for one simulated figure.
+ * thread, and what a search saves by asking for one simulated figure and
+ * by replaying a kept sequence.
  * Report the ratios: the machines are shared. */
 #include <math.h>
 #include <stdio.h>
@@ -64,6 +65,18 @@ static void figures_alone(const qc_model *m)
     printf("figures      16 states, 64 cells, one thread: all four %.3g s; the quantized "
            "detector alone %.2f of it, the continuous-output detector alone %.2f\n",
            all, det / all, unq / all);
+    /* a search's rates: the quantized rate alone, drawn or replayed */
+    req.figures = QC_ISI_FIG_RATE;
+    const double drawn = rate_time(&req);
+    qc_isi_draws *kept = NULL;
+    if (qc_isi_draws_alloc(&kept) != QC_OK)
+        return;
+    req.draws = kept;
+    const double replayed = rate_time(&req); /* the first run records */
+    qc_isi_draws_free(kept);
+    printf("kept draws   the quantized rate alone %.3g s drawn; replayed from a kept sequence "
+           "%.2f of it\n",
+           drawn, replayed / drawn);
 }
 
 int main(void)
