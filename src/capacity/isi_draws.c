@@ -21,7 +21,8 @@
 struct qc_isi_draws {
     int ready;                    /* a whole record is held                 */
     uint64_t seed;
-    size_t M, ntaps, warmup, count, coherent;
+    size_t M, ntaps, warmup, count;
+    int coherent;                 /* two normal draws a symbol              */
     size_t per_batch;             /* symbols recorded per batch (tail too)  */
     double *law;                  /* the M probabilities drawn from         */
     size_t s0[QC_ISI_BATCHES];    /* each batch's first state               */
@@ -51,7 +52,7 @@ static int covers(const qc_isi_draws *d, uint64_t seed, const double *law, size_
                   size_t ntaps, size_t warmup, size_t count, size_t per_batch, int coherent)
 {
     return d->ready && d->seed == seed && d->M == M && d->ntaps == ntaps &&
-           d->warmup == warmup && d->count == count && d->coherent == (size_t)coherent &&
+           d->warmup == warmup && d->count == count && d->coherent == coherent &&
            d->per_batch >= per_batch && memcmp(d->law, law, M * sizeof *law) == 0;
 }
 
@@ -84,7 +85,7 @@ int qc_isi_draws_begin(qc_isi_draws *d, uint64_t seed, const double *law, size_t
     d->ntaps = ntaps;
     d->warmup = warmup;
     d->count = count;
-    d->coherent = (size_t)coherent;
+    d->coherent = coherent;
     d->per_batch = per_batch;
     return QC_ISI_RECORD;
 }
