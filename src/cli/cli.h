@@ -127,10 +127,11 @@ void cli_print_ppm_rates(FILE *f, const qc_design_request *req, const qc_design_
 void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_result *r,
                          const char *alphabet);
 /* How the cells of a 2-D receiver were searched, after "receiver ...":
- * evaluations, whether the search settled or reached the ceiling H(X),
- * and the uniform start (text_iq.c; `design` and `iq` alike). */
-void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int converged,
-                         int at_ceiling, double start_bits, const char *unit);
+ * axis by axis, or the evaluations and whether the search settled or
+ * reached the ceiling H(X); and the uniform start (text_iq.c; `design`
+ * and `iq` alike). */
+void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int per_axis,
+                         int converged, int at_ceiling, double start_bits, const char *unit);
 /* " UNIT" with a leading space, or "" for a dimensionless quantity. */
 const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
 /* Unit of model parameter i printed in a report whose levels are in

@@ -508,6 +508,8 @@ static void print_convergence(FILE *f, const qc_design_result *r, const char *ou
         else if (r->iq_at_ceiling)
             fprintf(f, "within %.0e bit of H(X), which no cells can pass\n",
                     QC_IQ_CEILING_GAP_BITS);
+        else if (r->iq_per_axis)
+            fprintf(f, "each axis's one-dimensional MI-optimal design\n");
         else
             fprintf(f, "the BFGS search settled\n");
         return;

@@ -17,9 +17,16 @@ static void print_list(FILE *f, const char *name, const double *v, size_t n, dou
     fprintf(f, "%s\n", n ? "" : "(none)");
 }
 
-void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int converged,
-                         int at_ceiling, double start_bits, const char *unit)
+void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int per_axis,
+                         int converged, int at_ceiling, double start_bits, const char *unit)
 {
+    if (per_axis) {
+        fprintf(f, ", designed for %s axis by axis (points, law and noise factor over the "
+                   "axes: each axis's one-dimensional MI-optimal design: grid DP, Newton steps, "
+                   "threshold moves; uniform start %.6f %s)\n",
+                objective, start_bits, unit);
+        return;
+    }
     if (at_ceiling && evaluations <= 1) {
         fprintf(f, ", designed for %s: the uniform cells are within %.0e bit of H(X), which "
                    "no cells can pass (no search)\n",
@@ -68,7 +75,8 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
         fprintf(f, ", uniform (not designed)\n");
     else
         cli_print_iq_search(f, r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi",
-                            r->iq_evaluations, r->design_convergence != QC_NOT_CONVERGED,
+                            r->iq_evaluations, r->iq_per_axis,
+                            r->design_convergence != QC_NOT_CONVERGED,
                             r->iq_at_ceiling, r->iq_start_bits, unit);
     if (r->iq_kind == 0) {
         print_list(f, "in-phase thresholds", r->thresholds, r->cells_i - 1, 1.0);

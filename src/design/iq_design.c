@@ -12,7 +12,13 @@
  * Both objectives are at most H(X) (the MI of a noiseless channel; the
  * GMI is H(X) less the bits' conditional entropies), so the search ends
  * once it comes within QC_IQ_CEILING_GAP_BITS of it: at high SNR the
- * uniform cells are often there already. */
+ * uniform cells are often there already.
+ * The I/Q pair of a constellation whose points and law factor over the
+ * axes (square QAM), without a phase error and for the MI, is designed
+ * axis by axis instead: its MI is the sum of the two axes' (independent
+ * inputs through independent noise), each the MI of a one-dimensional
+ * alphabet in Gaussian noise, whose MI-optimal thresholds the quantizer
+ * layer finds with the guarantee of its grid DP (optimal.c). */
 #include "design/design_internal.h"
 #include "quantcap/info.h"
 #include "quantcap/iq.h"
@@ -33,6 +39,11 @@
 #define STALL_GAIN_BITS 1e-10 /* … than this                             */
 #define KICKS 4           /* gradient search: restarts from moved cells   */
 #define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
+#define PER_AXIS_SLACK_BITS 1e-12 /* per axis: kept unless below the uniform
+                                     cells by more than the rounding of the
+                                     2-D sums                             */
+#define PRODUCT_LAW_TOL 1e-12 /* per axis: |p(x, y) − p(x)·p(y)| within this
+                                 share of p(x, y) + p(x)·p(y)             */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
 {
@@ -461,6 +472,150 @@ static int kick_cells(design_ctx *d, int kick)
     return direct_unpack(d, v);
 }
 
+/* ---- the I/Q pair axis by axis ----------------------------------------- */
+
+static int by_value(const void *a, const void *b)
+{
+    const double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* The distinct values of v[0 .. n − 1], sorted, into out; their count. */
+static size_t distinct(const double *v, size_t n, double *out)
+{
+    memcpy(out, v, n * sizeof *out);
+    qsort(out, n, sizeof *out, by_value);
+    size_t m = 0;
+    for (size_t i = 0; i < n; i++)
+        if (m == 0 || out[i] > out[m - 1])
+            out[m++] = out[i];
+    return m;
+}
+
+static size_t index_of(const double *sorted, size_t n, double v)
+{
+    const double *at = bsearch(&v, sorted, n, sizeof *sorted, by_value);
+    return at ? (size_t)(at - sorted) : n;
+}
+
+/* A constellation's two axes: sorted distinct values and marginal laws. */
+typedef struct {
+    double *x, *px, *y, *py; /* one allocation of 4·size values */
+    size_t nx, ny;
+} plane_axes;
+
+/* 1 when the points are every pair of an in-phase value and a quadrature
+ * value, once each, and their law is the product of its marginals: the
+ * sorted values into ax->x (nx) and ax->y (ny), the marginal laws into
+ * ax->px and ax->py (the caller frees ax->x). 0 when it is not such a
+ * product (or has fewer than two values on an axis); −1 out of memory. */
+static int product_axes(const qc_plane *c, plane_axes *ax)
+{
+    const size_t n = c->size;
+    memset(ax, 0, sizeof *ax);
+    ax->x = qc_malloc_array(4 * n, sizeof *ax->x);
+    unsigned char *seen = ax->x ? calloc(n, 1) : NULL;
+    if (!seen) {
+        free(ax->x);
+        ax->x = NULL;
+        return -1;
+    }
+    ax->px = ax->x + n, ax->y = ax->x + 2 * n, ax->py = ax->x + 3 * n;
+    ax->nx = distinct(c->x, n, ax->x);
+    ax->ny = distinct(c->y, n, ax->y);
+    int product = ax->nx >= 2 && ax->ny >= 2 && ax->nx * ax->ny == n;
+    memset(ax->px, 0, n * sizeof *ax->px);
+    memset(ax->py, 0, n * sizeof *ax->py);
+    for (size_t i = 0; product && i < n; i++) {
+        const size_t a = index_of(ax->x, ax->nx, c->x[i]), b = index_of(ax->y, ax->ny, c->y[i]);
+        product = a < ax->nx && b < ax->ny && !seen[a * ax->ny + b];
+        if (product) {
+            seen[a * ax->ny + b] = 1;
+            ax->px[a] += c->prob[i];
+            ax->py[b] += c->prob[i];
+        }
+    }
+    for (size_t i = 0; product && i < n; i++) {
+        const double p = c->prob[i];
+        const double pq = ax->px[index_of(ax->x, ax->nx, c->x[i])] *
+                          ax->py[index_of(ax->y, ax->ny, c->y[i])];
+        product = fabs(p - pq) <= PRODUCT_LAW_TOL * (p + pq);
+    }
+    free(seen);
+    return product;
+}
+
+/* The same values and law on both axes (shared thresholds). */
+static int same_axes(const plane_axes *ax)
+{
+    if (ax->nx != ax->ny)
+        return 0;
+    for (size_t i = 0; i < ax->nx; i++)
+        if (ax->x[i] != ax->y[i] ||
+            fabs(ax->px[i] - ax->py[i]) > PRODUCT_LAW_TOL * (ax->px[i] + ax->py[i]))
+            return 0;
+    return 1;
+}
+
+/* The MI-optimal thresholds (nt) of one axis: its values and law in
+ * Gaussian noise of the given sigma, as the optimal strategy of a
+ * one-dimensional design places them (grid DP, Newton steps, threshold
+ * moves; then the placement among equally good thresholds, tidy.c). */
+static qc_status axis_thresholds(double sigma, const double *values, const double *law,
+                                 size_t n, size_t nt, double *t)
+{
+    qc_model *m = NULL;
+    qc_strategy_plan *plan = NULL;
+    const double eps = QC_TIDY_NATS(QC_DESIGN_DEFAULT_TOL_BITS);
+    qc_status st = qc_model_alloc(&qc_model_gauss, &sigma, &m);
+    if (st == QC_OK)
+        st = qc_strategy_plan_alloc(m, values, n, nt, NULL, 0, NULL, &plan);
+    if (st == QC_OK) {
+        qc_strategy_plan_tidy(plan, eps);
+        st = qc_strategy_design(&qc_strategy_optimal, plan, law, 0, t, NULL);
+    }
+    if (st == QC_OK)
+        st = qc_tidy_thresholds(m, values, law, n, nt, eps, t);
+    if (st == QC_OK)
+        qc_snap_thresholds(m, values, n, nt, t);
+    qc_strategy_plan_free(plan);
+    qc_model_free(m);
+    return st;
+}
+
+/* The I/Q pair designed axis by axis when the request and the
+ * constellation allow it (see the file's header): *done 1 with the
+ * cells in the result and their MI in *mi_bits; *done 0 otherwise (the
+ * result's cells then undefined). Only running out of memory is an
+ * error; a design that fails otherwise leaves it to the gradient search. */
+static qc_status per_axis(design_ctx *d, int *done, double *mi_bits)
+{
+    const qc_iq_design_request *q = d->req;
+    *done = 0;
+    if (q->gradient_only || q->kind != QC_IQ_PRODUCT || q->objective != QC_OBJECTIVE_MI ||
+        d->noise->phase_sd != 0.0 || !(d->noise->sigma > 0.0))
+        return QC_OK;
+    plane_axes ax;
+    const int product = product_axes(d->c, &ax);
+    if (product < 0)
+        return qc_fail(QC_ENOMEM, "out of memory");
+    qc_status st = QC_OK;
+    if (product && (q->separate || same_axes(&ax))) {
+        qc_iq_design_result *r = d->res;
+        st = axis_thresholds(d->noise->sigma, ax.x, ax.px, ax.nx, q->cells_i - 1, r->ti);
+        if (st == QC_OK && q->separate)
+            st = axis_thresholds(d->noise->sigma, ax.y, ax.py, ax.ny, q->cells_q - 1, r->tq);
+        else if (st == QC_OK)
+            memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
+        if (st == QC_OK) {
+            *mi_bits = rate_of(d, &r->cells, NULL, &st);
+            *done = st == QC_OK && isfinite(*mi_bits);
+        }
+    }
+    free(ax.x);
+    return st == QC_ENOMEM ? st : QC_OK;
+}
+
 static qc_status check_request(const qc_iq_design_request *q)
 {
     if (q->objective != QC_OBJECTIVE_MI && q->objective != QC_OBJECTIVE_GMI)
@@ -609,6 +764,20 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if (res->at_ceiling)
         return QC_OK;
     d.best = f0;
+    int done;
+    double f1;
+    if ((st = per_axis(&d, &done, &f1)) != QC_OK) {
+        qc_iq_design_result_free(res);
+        return st;
+    }
+    if (done && f1 >= f0 - PER_AXIS_SLACK_BITS) {
+        res->objective_bits = f1;
+        res->evaluations = 2;
+        res->per_axis = 1;
+        res->at_ceiling = f1 >= ceiling - QC_IQ_CEILING_GAP_BITS;
+        return QC_OK;
+    }
+    unpack(&d, z); /* back to the uniform cells */
     size_t max_evals = q->max_evaluations ? q->max_evaluations : DEFAULT_EVALS;
     int settled = 0;
     d.max_evals = max_evals;

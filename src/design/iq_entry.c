@@ -225,6 +225,7 @@ qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *r
     res->design_iterations = res->iq_evaluations;
     res->iq_at_ceiling = req->quantizer.kind != QC_QUANTIZER_FIXED &&
                          req->quantizer.kind != QC_QUANTIZER_UNIFORM && des.at_ceiling;
+    res->iq_per_axis = req->quantizer.kind == QC_QUANTIZER_OPTIMAL && des.per_axis;
     res->design_convergence = req->quantizer.kind == QC_QUANTIZER_FIXED ||
                                       req->quantizer.kind == QC_QUANTIZER_UNIFORM
                                   ? QC_CONVERGENCE_NONE

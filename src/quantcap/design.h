@@ -537,6 +537,8 @@ typedef struct {
     int iq_at_ceiling;           /* 1: the cell design stopped within
                                     QC_IQ_CEILING_GAP_BITS of H(X), which no
                                     cells can pass                          */
+    int iq_per_axis;             /* 1: the I/Q pair designed axis by axis
+                                    (qc_iq_design_result.per_axis)          */
 } qc_design_result;
 
 /* Design (or evaluate, for QC_QUANTIZER_FIXED) a quantizer. Bad requests

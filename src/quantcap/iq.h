@@ -130,7 +130,15 @@ QC_API qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t no
  * else one per axis) or over the radii and sector boundaries of the polar
  * quantizer, from the uniform design, by BFGS (GSL vector_bfgs2) on the
  * exact gradient of log(H(X) − objective), with or without a phase error
- * (ordered boundaries only; disordered steps are refused). The
+ * (ordered boundaries only; disordered steps are refused). For the MI
+ * of an I/Q pair without a phase error, when the points are every pair
+ * of an in-phase and a quadrature value and their law is the product of
+ * its marginals (square QAM with a uniform law), the matrix is the product
+ * of two one-dimensional channels and the MI the sum of theirs, so each
+ * axis is designed by the one-dimensional MI-optimal design instead (its
+ * grid DP, Newton steps and threshold moves; with shared thresholds the
+ * two axes must have the same values and law), kept when it is no worse
+ * than the uniform cells (to 1e-12 bit, the rounding of the sums). The
  * search stops where the objective comes within QC_IQ_CEILING_GAP_BITS
  * of H(X), its ceiling (the MI and the GMI never pass it), or not at all
  * when the uniform design is already there. */
@@ -144,6 +152,9 @@ typedef struct {
                                    boundaries not designed)               */
     qc_objective objective;     /* QC_OBJECTIVE_MI or QC_OBJECTIVE_GMI    */
     size_t max_evaluations;     /* 0: 4000                                */
+    int gradient_only;          /* 1: the gradient search even where the
+                                   I/Q pair could be designed axis by axis
+                                   (to compare the two)                   */
 } qc_iq_design_request;
 
 typedef struct {
@@ -159,6 +170,10 @@ typedef struct {
                                    with the objective within
                                    QC_IQ_CEILING_GAP_BITS of H(X); 0 without
                                    a search (uniform cells)                 */
+    int per_axis;               /* 1: the I/Q pair was designed axis by
+                                   axis by the one-dimensional MI-optimal
+                                   design (the points, their law and the
+                                   noise factor over the axes), not by BFGS */
 } qc_iq_design_result;
 
 /* QC_EINVAL naming the field at fault, QC_ENOMEM, or the channel's

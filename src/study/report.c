@@ -367,7 +367,9 @@ static void report_iq(json_t *o, const qc_design_result *res)
     json_object_set_new(o, "iq_start_bits", qc_report_real(res->iq_start_bits));
     json_object_set_new(o, "iq_evaluations", json_integer((json_int_t)res->iq_evaluations));
     json_object_set_new(o, "iq_search",
-                        res->iq_evaluations <= 1 ? json_null() : json_string("bfgs"));
+                        res->iq_per_axis            ? json_string("per-axis")
+                        : res->iq_evaluations <= 1 ? json_null()
+                                                   : json_string("bfgs"));
     json_object_set_new(o, "iq_at_ceiling", json_boolean(res->iq_at_ceiling));
 }
 
