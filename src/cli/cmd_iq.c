@@ -448,7 +448,12 @@ int cmd_iq(int argc, char **argv)
                                          : json_null());
         json_object_set_new(o, "unquantized_mi_bits", cli_json_real(unq));
         json_object_set_new(o, "unquantized_err_bits", cli_json_real(unq_err));
-        json_object_set_new(o, "unquantized_nodes", json_integer((json_int_t)gh_nodes));
+        json_object_set_new(o, "unquantized_nodes",
+                            gh_nodes ? json_integer((json_int_t)gh_nodes) : json_null());
+        json_object_set_new(o, "unquantized_method",
+                            !isfinite(unq) ? json_null()
+                            : gh_nodes     ? json_string("gauss-hermite")
+                                           : json_string("per-axis"));
         json_t *arr = json_array();
         for (size_t i = 0; i < nrx; i++)
             json_array_append_new(arr, receiver_json(&rx[i], capacity));
@@ -476,7 +481,11 @@ int cmd_iq(int argc, char **argv)
             fprintf(f, ", phase error %s %.4g deg rms", qc_phase_law_name(noise.phase_law),
                     pn_deg);
         fprintf(f, "\n");
-        if (isfinite(unq))
+        if (isfinite(unq) && gh_nodes == 0)
+            fprintf(f, "unquantized  MI %.9f bit/complex symbol (per axis, as the points and "
+                       "law factor: adaptive quadrature, error estimate %.1e)\n",
+                    unq, unq_err);
+        else if (isfinite(unq))
             fprintf(f, "unquantized  MI %.9f bit/complex symbol (Gauss-Hermite %zu x %zu nodes; "
                        "change from %zu x %zu: %.1e)\n",
                     unq, gh_nodes, gh_nodes, gh_nodes / 2, gh_nodes / 2, unq_err);

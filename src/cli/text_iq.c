@@ -104,7 +104,11 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
     if (isfinite(r->gmi_bits))
         fprintf(f, "GMI          %.10f %s (BICM, exact finite sum)%s, NGMI %.6f\n", r->gmi_bits,
                 unit, r->objective == QC_OBJECTIVE_GMI ? ": the rate" : "", r->ngmi);
-    if (isfinite(r->unquantized_bits))
+    if (isfinite(r->unquantized_bits) && r->iq_unquantized_per_axis)
+        fprintf(f, "unquantized  MI %.9f %s (per axis: adaptive quadrature, error estimate "
+                   "%.1e); loss %.6f %s\n",
+                r->unquantized_bits, unit, r->unquantized_err_bits, r->loss_bits, unit);
+    else if (isfinite(r->unquantized_bits))
         fprintf(f, "unquantized  MI %.9f %s (Gauss-Hermite, last change %.1e); loss %.6f %s\n",
                 r->unquantized_bits, unit, r->unquantized_err_bits, r->loss_bits, unit);
     else

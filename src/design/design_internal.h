@@ -174,6 +174,22 @@ void qc_phase_average_free(qc_phase_average *a);
 qc_status qc_phase_average_run(qc_phase_average *a, double s, double sigma, size_t nvec,
                                qc_phase_fn f, void *ctx, double *out, double *err);
 
+/* iq_axes.c: a constellation's two axes, when its points are every pair
+ * of an in-phase and a quadrature value, once each, and its law is the
+ * product of its marginals. */
+typedef struct {
+    double *x, *px, *y, *py; /* sorted distinct values and marginal laws (one
+                                allocation, owned by x)                      */
+    size_t nx, ny;
+} qc_iq_axes;
+/* 1 when c factors so (each axis with at least two values; to 1e-12 of
+ * each probability), the axes into *ax; 0 when it does not; −1 out of
+ * memory. Free ax with qc_iq_axes_free whatever the answer. */
+int qc_iq_plane_axes(const qc_plane *c, qc_iq_axes *ax);
+/* 1 when both axes have the same values and law. */
+int qc_iq_same_axes(const qc_iq_axes *ax);
+void qc_iq_axes_free(qc_iq_axes *ax);
+
 /* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
  * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */
 void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out);

@@ -42,8 +42,6 @@
 #define PER_AXIS_SLACK_BITS 1e-12 /* per axis: kept unless below the uniform
                                      cells by more than the rounding of the
                                      2-D sums                             */
-#define PRODUCT_LAW_TOL 1e-12 /* per axis: |p(x, y) − p(x)·p(y)| within this
-                                 share of p(x, y) + p(x)·p(y)             */
 
 void qc_iq_design_result_free(qc_iq_design_result *res)
 {
@@ -474,89 +472,6 @@ static int kick_cells(design_ctx *d, int kick)
 
 /* ---- the I/Q pair axis by axis ----------------------------------------- */
 
-static int by_value(const void *a, const void *b)
-{
-    const double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
-/* The distinct values of v[0 .. n − 1], sorted, into out; their count. */
-static size_t distinct(const double *v, size_t n, double *out)
-{
-    memcpy(out, v, n * sizeof *out);
-    qsort(out, n, sizeof *out, by_value);
-    size_t m = 0;
-    for (size_t i = 0; i < n; i++)
-        if (m == 0 || out[i] > out[m - 1])
-            out[m++] = out[i];
-    return m;
-}
-
-static size_t index_of(const double *sorted, size_t n, double v)
-{
-    const double *at = bsearch(&v, sorted, n, sizeof *sorted, by_value);
-    return at ? (size_t)(at - sorted) : n;
-}
-
-/* A constellation's two axes: sorted distinct values and marginal laws. */
-typedef struct {
-    double *x, *px, *y, *py; /* one allocation of 4·size values */
-    size_t nx, ny;
-} plane_axes;
-
-/* 1 when the points are every pair of an in-phase value and a quadrature
- * value, once each, and their law is the product of its marginals: the
- * sorted values into ax->x (nx) and ax->y (ny), the marginal laws into
- * ax->px and ax->py (the caller frees ax->x). 0 when it is not such a
- * product (or has fewer than two values on an axis); −1 out of memory. */
-static int product_axes(const qc_plane *c, plane_axes *ax)
-{
-    const size_t n = c->size;
-    memset(ax, 0, sizeof *ax);
-    ax->x = qc_malloc_array(4 * n, sizeof *ax->x);
-    unsigned char *seen = ax->x ? calloc(n, 1) : NULL;
-    if (!seen) {
-        free(ax->x);
-        ax->x = NULL;
-        return -1;
-    }
-    ax->px = ax->x + n, ax->y = ax->x + 2 * n, ax->py = ax->x + 3 * n;
-    ax->nx = distinct(c->x, n, ax->x);
-    ax->ny = distinct(c->y, n, ax->y);
-    int product = ax->nx >= 2 && ax->ny >= 2 && ax->nx * ax->ny == n;
-    memset(ax->px, 0, n * sizeof *ax->px);
-    memset(ax->py, 0, n * sizeof *ax->py);
-    for (size_t i = 0; product && i < n; i++) {
-        const size_t a = index_of(ax->x, ax->nx, c->x[i]), b = index_of(ax->y, ax->ny, c->y[i]);
-        product = a < ax->nx && b < ax->ny && !seen[a * ax->ny + b];
-        if (product) {
-            seen[a * ax->ny + b] = 1;
-            ax->px[a] += c->prob[i];
-            ax->py[b] += c->prob[i];
-        }
-    }
-    for (size_t i = 0; product && i < n; i++) {
-        const double p = c->prob[i];
-        const double pq = ax->px[index_of(ax->x, ax->nx, c->x[i])] *
-                          ax->py[index_of(ax->y, ax->ny, c->y[i])];
-        product = fabs(p - pq) <= PRODUCT_LAW_TOL * (p + pq);
-    }
-    free(seen);
-    return product;
-}
-
-/* The same values and law on both axes (shared thresholds). */
-static int same_axes(const plane_axes *ax)
-{
-    if (ax->nx != ax->ny)
-        return 0;
-    for (size_t i = 0; i < ax->nx; i++)
-        if (ax->x[i] != ax->y[i] ||
-            fabs(ax->px[i] - ax->py[i]) > PRODUCT_LAW_TOL * (ax->px[i] + ax->py[i]))
-            return 0;
-    return 1;
-}
-
 /* The MI-optimal thresholds (nt) of one axis: its values and law in
  * Gaussian noise of the given sigma, as the optimal strategy of a
  * one-dimensional design places them (grid DP, Newton steps, threshold
@@ -595,12 +510,14 @@ static qc_status per_axis(design_ctx *d, int *done, double *mi_bits)
     if (q->gradient_only || q->kind != QC_IQ_PRODUCT || q->objective != QC_OBJECTIVE_MI ||
         d->noise->phase_sd != 0.0 || !(d->noise->sigma > 0.0))
         return QC_OK;
-    plane_axes ax;
-    const int product = product_axes(d->c, &ax);
-    if (product < 0)
+    qc_iq_axes ax;
+    const int product = qc_iq_plane_axes(d->c, &ax);
+    if (product < 0) {
+        qc_iq_axes_free(&ax);
         return qc_fail(QC_ENOMEM, "out of memory");
+    }
     qc_status st = QC_OK;
-    if (product && (q->separate || same_axes(&ax))) {
+    if (product && (q->separate || qc_iq_same_axes(&ax))) {
         qc_iq_design_result *r = d->res;
         st = axis_thresholds(d->noise->sigma, ax.x, ax.px, ax.nx, q->cells_i - 1, r->ti);
         if (st == QC_OK && q->separate)
@@ -612,7 +529,7 @@ static qc_status per_axis(design_ctx *d, int *done, double *mi_bits)
             *done = st == QC_OK && isfinite(*mi_bits);
         }
     }
-    free(ax.x);
+    qc_iq_axes_free(&ax);
     return st == QC_ENOMEM ? st : QC_OK;
 }
 

@@ -236,8 +236,10 @@ qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *r
     if (req->input.objective == QC_OBJECTIVE_MI && iq->phase_sd == 0.0 &&
         c->size <= MAX_UNQUANTIZED_POINTS) {
         double u, e = NAN;
-        if ((st = qc_iq_unquantized_mi(c, sigma, 0, &u, &e, NULL)) != QC_OK)
+        size_t nodes = 0;
+        if ((st = qc_iq_unquantized_mi(c, sigma, 0, &u, &e, &nodes)) != QC_OK)
             goto fail;
+        res->iq_unquantized_per_axis = nodes == 0;
         res->unquantized_bits = u;
         res->unquantized_err_bits = e;
         res->loss_bits = fmax(u - res->rate_bits, 0.0);

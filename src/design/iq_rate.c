@@ -4,7 +4,9 @@
  * GMI of the labels (Caire, Taricco, Biglieri, IEEE Trans. IT 1998), and
  * the unquantized MI of the constellation in circular Gaussian noise by a
  * product Gauss–Hermite rule (Abramowitz & Stegun 25.4.46; GSL
- * gsl_integration_fixed). */
+ * gsl_integration_fixed), or, for a constellation that factors over its
+ * axes (iq_axes.c), as the sum of the two axes' one-dimensional MIs by
+ * adaptive quadrature (qc_unquantized_mi). */
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 #include "quantcap/info.h"
@@ -95,6 +97,27 @@ static qc_status gh_mi(const qc_plane *c, double sigma, size_t n, double *mi)
     return QC_OK;
 }
 
+/* The unquantized MI of a constellation that factors over its axes: the
+ * sum of the axes' MIs in Gaussian noise of the given sigma, in bits, and
+ * the sum of their error estimates. */
+static qc_status axes_mi(const qc_iq_axes *ax, double sigma, double *mi_bits, double *err_bits)
+{
+    qc_model *m = NULL;
+    double ix = NAN, iy = NAN, ex = NAN, ey = NAN;
+    qc_status st = qc_model_alloc(&qc_model_gauss, &sigma, &m);
+    if (st == QC_OK)
+        st = qc_unquantized_mi(m, ax->x, ax->px, ax->nx, &ix, &ex);
+    if (st == QC_OK)
+        st = qc_unquantized_mi(m, ax->y, ax->py, ax->ny, &iy, &ey);
+    qc_model_free(m);
+    if (st == QC_OK) {
+        *mi_bits = (ix + iy) / M_LN2;
+        if (err_bits)
+            *err_bits = (ex + ey) / M_LN2;
+    }
+    return st;
+}
+
 qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t nodes, double *mi_bits,
                                double *err_bits, size_t *nodes_used)
 {
@@ -103,6 +126,19 @@ qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t nodes, do
                        sigma);
     if (nodes != 0 && (nodes < 4 || nodes > 400))
         return qc_fail(QC_EINVAL, "unquantized MI: %zu nodes (expected 4 to 400)", nodes);
+    if (nodes == 0) { /* axis by axis where the constellation factors */
+        qc_iq_axes ax;
+        const int product = qc_iq_plane_axes(c, &ax);
+        qc_status st = product < 0 ? qc_fail(QC_ENOMEM, "out of memory")
+                       : product   ? axes_mi(&ax, sigma, mi_bits, err_bits)
+                                   : QC_OK;
+        qc_iq_axes_free(&ax);
+        if (product != 0) {
+            if (st == QC_OK && nodes_used)
+                *nodes_used = 0;
+            return st;
+        }
+    }
     double m2 = (double)c->size * (double)c->size, prev = NAN, cur = NAN;
     size_t n = nodes ? nodes / 2 : GH_FIRST;
     qc_status st = gh_mi(c, sigma, n, &prev);

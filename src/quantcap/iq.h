@@ -121,7 +121,12 @@ QC_API qc_status qc_iq_rates_compute(const qc_plane *c, const qc_dmc *ch, int wa
  * would take more than 4e8 kernel evaluations (M² n²); otherwise the
  * rule of `nodes` points is compared with that of nodes/2. *err_bits
  * (may be NULL) receives the last change, *nodes_used (may be NULL) the
- * points per axis of the final rule. QC_EINVAL, QC_ENOMEM. */
+ * points per axis of the final rule. With nodes = 0 a constellation whose
+ * points are every pair of an in-phase and a quadrature value and whose
+ * law is the product of its marginals (square QAM) is two independent
+ * one-dimensional channels: its MI is the sum of theirs, each by
+ * qc_unquantized_mi (adaptive quadrature), *err_bits the sum of their
+ * error estimates and *nodes_used 0. QC_EINVAL, QC_ENOMEM, QC_ENUMERIC. */
 QC_API qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t nodes,
                                       double *mi_bits, double *err_bits, size_t *nodes_used);
 

@@ -371,6 +371,10 @@ static void report_iq(json_t *o, const qc_design_result *res)
                         : res->iq_evaluations <= 1 ? json_null()
                                                    : json_string("bfgs"));
     json_object_set_new(o, "iq_at_ceiling", json_boolean(res->iq_at_ceiling));
+    json_object_set_new(o, "iq_unquantized_method",
+                        !isfinite(res->unquantized_bits) ? json_null()
+                        : res->iq_unquantized_per_axis   ? json_string("per-axis")
+                                                         : json_string("gauss-hermite"));
 }
 
 json_t *qc_report_design(const qc_design_request *req, const qc_design_result *res)
