@@ -228,7 +228,8 @@ static void print_receiver(FILE *f, const receiver *r, int capacity)
         fprintf(f, ", uniform (not designed)\n");
     else
         cli_print_iq_search(f, qc_objective_name(r->req.objective), r->des.evaluations,
-                            r->des.per_axis, r->des.converged, r->des.at_ceiling, r->des.start_bits, unit);
+                            r->des.per_axis, r->des.converged, r->des.at_ceiling,
+                            r->des.start_bits, unit);
     if (r->kind == QC_IQ_PRODUCT) {
         print_list(f, "in-phase thresholds", q->ti, q->nti, 1.0);
         print_list(f, "quadrature thresholds", q->tq, q->ntq, 1.0);
