@@ -189,6 +189,28 @@ int qc_iq_plane_axes(const qc_plane *c, qc_iq_axes *ax);
 /* 1 when both axes have the same values and law. */
 int qc_iq_same_axes(const qc_iq_axes *ax);
 void qc_iq_axes_free(qc_iq_axes *ax);
+/* iq_axes.c: the two axes of such a constellation as one-dimensional
+ * planes (each axis's values on the in-phase axis, its marginal law, and
+ * with labels the bits that are functions of that axis), on which the
+ * I/Q pair's MI or GMI and their gradient add without a phase error. */
+typedef struct {
+    qc_plane plane[2]; /* in-phase, quadrature; arrays in store, labels */
+    double *store;
+    size_t *labels;
+} qc_iq_axis_planes;
+/* *ok 1 with the planes when c factors over its axes and (with_labels,
+ * when c has labels) every label bit is a function of one axis; *ok 0
+ * otherwise (nothing to free). QC_ENOMEM. */
+qc_status qc_iq_axis_planes_build(const qc_plane *c, int with_labels, qc_iq_axis_planes *out,
+                                  int *ok);
+void qc_iq_axis_planes_free(qc_iq_axis_planes *a);
+/* The MI (gmi 0) or GMI (gmi 1) in bits of the I/Q pair's cells q, as the
+ * sum over the axes; NaN on failure (*st says). */
+double qc_iq_axes_objective(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
+                            const qc_iq_cells *q, int gmi, qc_status *st);
+/* Its gradient in the in-phase (g_i) and quadrature (g_q) thresholds. */
+qc_status qc_iq_axes_gradient(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
+                              const qc_iq_cells *q, int gmi, double *g_i, double *g_q);
 
 /* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
  * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */

@@ -18,7 +18,10 @@
  * axis by axis instead: its MI is the sum of the two axes' (independent
  * inputs through independent noise), each the MI of a one-dimensional
  * alphabet in Gaussian noise, whose MI-optimal thresholds the quantizer
- * layer finds with the guarantee of its grid DP (optimal.c). */
+ * layer finds with the guarantee of its grid DP (optimal.c); so is its
+ * GMI with two values and one label bit per axis (QPSK), which is then
+ * the MI. Other searches on such a pair rate it axis by axis
+ * (iq_axes.c). */
 #include "design/design_internal.h"
 #include "quantcap/info.h"
 #include "quantcap/iq.h"
@@ -68,6 +71,8 @@ typedef struct {
     double *rays;     /* polar cells under a phase error: the sector-start
                          densities of the last matrix kept for a gradient
                          (from its series); NULL otherwise               */
+    const qc_iq_axis_planes *axes; /* the I/Q pair rated axis by axis
+                                      (iq_axes.c), or NULL: the 2-D matrix */
 } design_ctx;
 
 /* The objective of the cells; their matrix into *keep when keep is not
@@ -75,6 +80,10 @@ typedef struct {
 static double rate_of(const design_ctx *d, const qc_iq_cells *cells, qc_dmc **keep,
                       qc_status *st)
 {
+    if (d->axes) /* the sum over the axes; no matrix kept (the gradient
+                    rebuilds the axes' own) */
+        return qc_iq_axes_objective(d->axes, d->noise, cells,
+                                    d->req->objective == QC_OBJECTIVE_GMI, st);
     qc_dmc *ch = NULL;
     *st = qc_iq_channel_rays(d->c, d->noise, cells, &ch, NULL, keep ? d->rays : NULL);
     if (*st != QC_OK)
@@ -243,11 +252,13 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
     const qc_iq_cells *cells = &d->res->cells;
-    const double f = evaluate(d, z, g ? &ch : NULL);
+    const double f = evaluate(d, z, g && !d->axes ? &ch : NULL);
     if (!isfinite(f))
         return BAD_POINT;
     qc_status st = QC_OK;
-    if (g)
+    if (g && d->axes)
+        st = qc_iq_axes_gradient(d->axes, d->noise, cells, gmi, g_r, g_p);
+    else if (g)
         st = q->kind == QC_IQ_PRODUCT
                  ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
                  : qc_polar_gradient(d->c, d->noise, cells, ch, d->rays, gmi, g_r, g_p);
@@ -498,17 +509,28 @@ static qc_status axis_thresholds(double sigma, const double *values, const doubl
     return st;
 }
 
+/* The GMI of an I/Q pair rated axis by axis with two values and one
+ * label bit per axis (QPSK): the bit is the value, so each axis's GMI is
+ * its MI, and the MI design is the GMI design. */
+static int gmi_is_mi(const design_ctx *d)
+{
+    const qc_iq_axis_planes *a = d->axes;
+    return a && d->req->objective == QC_OBJECTIVE_GMI && a->plane[0].size == 2 &&
+           a->plane[1].size == 2 && a->plane[0].nbits == 1 && a->plane[1].nbits == 1;
+}
+
 /* The I/Q pair designed axis by axis when the request and the
  * constellation allow it (see the file's header): *done 1 with the
- * cells in the result and their MI in *mi_bits; *done 0 otherwise (the
- * result's cells then undefined). Only running out of memory is an
+ * cells in the result and their objective in *bits; *done 0 otherwise
+ * (the result's cells then undefined). Only running out of memory is an
  * error; a design that fails otherwise leaves it to the gradient search. */
-static qc_status per_axis(design_ctx *d, int *done, double *mi_bits)
+static qc_status per_axis(design_ctx *d, int *done, double *bits)
 {
     const qc_iq_design_request *q = d->req;
     *done = 0;
-    if (q->gradient_only || q->kind != QC_IQ_PRODUCT || q->objective != QC_OBJECTIVE_MI ||
-        d->noise->phase_sd != 0.0 || !(d->noise->sigma > 0.0))
+    if (q->gradient_only || q->kind != QC_IQ_PRODUCT ||
+        (q->objective != QC_OBJECTIVE_MI && !gmi_is_mi(d)) || d->noise->phase_sd != 0.0 ||
+        !(d->noise->sigma > 0.0))
         return QC_OK;
     qc_iq_axes ax;
     const int product = qc_iq_plane_axes(d->c, &ax);
@@ -525,8 +547,8 @@ static qc_status per_axis(design_ctx *d, int *done, double *mi_bits)
         else if (st == QC_OK)
             memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
         if (st == QC_OK) {
-            *mi_bits = rate_of(d, &r->cells, NULL, &st);
-            *done = st == QC_OK && isfinite(*mi_bits);
+            *bits = rate_of(d, &r->cells, NULL, &st);
+            *done = st == QC_OK && isfinite(*bits);
         }
     }
     qc_iq_axes_free(&ax);
@@ -652,7 +674,8 @@ oom:
 }
 
 static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
-                     const qc_iq_design_request *q, qc_iq_design_result *res, int search)
+                     const qc_iq_design_request *q, qc_iq_design_result *res, int search,
+                     const qc_iq_axis_planes *axes)
 {
     qc_status st = check_request(q);
     if (st != QC_OK)
@@ -662,7 +685,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     if ((st = alloc_result(q, res)) != QC_OK)
         return st;
     double z[2 * QC_IQ_MAX_CELLS], best_z[2 * QC_IQ_MAX_CELLS];
-    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0, QC_OK, NULL};
+    design_ctx d = {c, noise, q, res, 1.0, 0, -INFINITY, best_z, 0, 0.0, 0, QC_OK, NULL, axes};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
     double f0 = rate_of(&d, &res->cells, NULL, &st);
@@ -728,14 +751,34 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     return QC_OK;
 }
 
+/* run, with the I/Q pair rated axis by axis where that is exact: no
+ * phase error, points and law that factor over the axes and, for the
+ * GMI, labels whose every bit is a function of one axis (iq_axes.c). */
+static qc_status run_on_axes(const qc_plane *c, const qc_iq_noise *noise,
+                             const qc_iq_design_request *q, qc_iq_design_result *res,
+                             int search)
+{
+    qc_iq_axis_planes axes;
+    int ok = 0;
+    if (!q->gradient_only && q->kind == QC_IQ_PRODUCT && noise && noise->phase_sd == 0.0) {
+        qc_status st = qc_iq_axis_planes_build(c, q->objective == QC_OBJECTIVE_GMI, &axes, &ok);
+        if (st != QC_OK)
+            return st;
+    }
+    qc_status st = run(c, noise, q, res, search, ok ? &axes : NULL);
+    if (ok)
+        qc_iq_axis_planes_free(&axes);
+    return st;
+}
+
 qc_status qc_iq_design(const qc_plane *c, const qc_iq_noise *noise,
                        const qc_iq_design_request *req, qc_iq_design_result *res)
 {
-    return run(c, noise, req, res, 1);
+    return run_on_axes(c, noise, req, res, 1);
 }
 
 qc_status qc_iq_uniform(const qc_plane *c, const qc_iq_noise *noise,
                         const qc_iq_design_request *req, qc_iq_design_result *res)
 {
-    return run(c, noise, req, res, 0);
+    return run_on_axes(c, noise, req, res, 0);
 }

@@ -143,7 +143,12 @@ QC_API qc_status qc_iq_unquantized_mi(const qc_plane *c, double sigma, size_t no
  * axis is designed by the one-dimensional MI-optimal design instead (its
  * grid DP, Newton steps and threshold moves; with shared thresholds the
  * two axes must have the same values and law), kept when it is no worse
- * than the uniform cells (to 1e-12 bit, the rounding of the sums). The
+ * than the uniform cells (to 1e-12 bit, the rounding of the sums). Where
+ * the gradient search runs on such an I/Q pair without a phase error (the
+ * GMI, when every label bit is a function of one axis, as Gray labels of
+ * square QAM are; or an MI design that fell back), it rates the cells and
+ * their gradient axis by axis: the same values to rounding, on √M points
+ * and √K cells per axis instead of M points and K cells. The
  * search stops where the objective comes within QC_IQ_CEILING_GAP_BITS
  * of H(X), its ceiling (the MI and the GMI never pass it), or not at all
  * when the uniform design is already there. */
@@ -157,9 +162,10 @@ typedef struct {
                                    boundaries not designed)               */
     qc_objective objective;     /* QC_OBJECTIVE_MI or QC_OBJECTIVE_GMI    */
     size_t max_evaluations;     /* 0: 4000                                */
-    int gradient_only;          /* 1: the gradient search even where the
-                                   I/Q pair could be designed axis by axis
-                                   (to compare the two)                   */
+    int gradient_only;          /* 1: the gradient search on the 2-D matrix
+                                   even where the I/Q pair could be
+                                   designed, or rated, axis by axis (to
+                                   compare)                               */
 } qc_iq_design_request;
 
 typedef struct {

@@ -551,6 +551,27 @@ for what, extra in (("the GMI objective", ("--objective", "gmi")),
                     ("a 2 deg phase error", ("--phase-noise-deg", "2"))):
     rx = iq("--alphabet", "qam:16", "--snr-db", "12", "--bits", "3", *extra)["receivers"][0]
     check(rx.get("search") == "bfgs", f"qam:16 with {what}: bfgs ({rx.get('search')})")
+# For the GMI, BFGS rates square QAM's I/Q pair axis by axis (Gray labels
+# are a product of two Gray codes); the search is the former one, so it
+# ends where the search on the 2-D matrix ended (measured with that
+# search: 5.341602603531 bit for 64-QAM at 18 dB, 16 x 16 cells). QPSK has
+# one bit per axis, whose GMI is the axis's MI: designed axis by axis, at
+# a GMI equal to its MI and never below the former search (1.999997632098
+# bit at 14 dB, 32 x 32 cells).
+rx = iq("--alphabet", "qam:64", "--snr-db", "18", "--bits", "4", "--objective", "gmi")
+rx = rx["receivers"][0]
+check(rx.get("search") == "bfgs" and rx.get("converged") is True,
+      f"64-QAM for the GMI: BFGS settles ({rx.get('search')}, {rx.get('converged')})")
+tally.near("64-QAM at 18 dB, 16 x 16 cells for the GMI: against the search on the 2-D matrix",
+           rx.get("gmi_bits", 0.0), 5.341602603531, 1e-9)
+rx = iq("--alphabet", "qam:4", "--snr-db", "14", "--bits", "5", "--objective", "gmi")
+rx = rx["receivers"][0]
+check(rx.get("search") == "per-axis" and rx.get("gmi_bits", 0.0) > 1.999997632098,
+      f"QPSK for the GMI: axis by axis, above the former search's 1.999997632098 bit "
+      f"({rx.get('search')}, {rx.get('gmi_bits')})")
+tally.near("QPSK at 14 dB for the GMI: GMI equals MI", rx.get("gmi_bits", 0.0),
+           rx.get("mi_bits", 1.0), TOL_EXACT)
+
 # Axis by axis is never below BFGS (measured with the former search on
 # 101 square-QAM designs, 4- to 256-QAM, 1 to 5 bits: equal to 1e-13 bit
 # or above, up to 3.3e-5 bit at 64-QAM, 18 dB, 5 bits): here BFGS from the

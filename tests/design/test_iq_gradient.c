@@ -7,7 +7,9 @@
  * (hex:7's centre); the I/Q pair's thresholds on both axes; and both
  * receivers under a residual phase error (Gaussian and Tikhonov laws;
  * the I/Q pair by Gauss–Hermite rules, directly and reweighted, and by
- * the trapezoidal rule on the circle). */
+ * the trapezoidal rule on the circle). Also the I/Q pair rated axis by
+ * axis (src/design/iq_axes.c): its MI, GMI and gradient against those of
+ * the 2-D matrix, and which constellations and labels allow it. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -219,6 +221,103 @@ static void test_phase_error(void **state)
     check_product_pn("qam:16", 24.0, 12.0, QC_PHASE_GAUSS, 5, ti, 3, tq);
 }
 
+/* ---- the I/Q pair axis by axis ------------------------------------------ */
+
+#define AXES_TOL 1e-12 /* the same sums in another order (bits, bits per unit) */
+
+/* A plane of n points from arrays (not owned: a view for the axis code). */
+static qc_plane view(size_t n, double *x, double *y, double *p, size_t *labels, unsigned nbits)
+{
+    qc_plane c = {.size = n, .x = x, .y = y, .prob = p, .prob_given = 1, .labels = labels,
+                  .nbits = nbits, .labelling = labels ? "given" : NULL};
+    return c;
+}
+
+/* The axes' objective and gradient against the 2-D matrix's, MI and (with
+ * labels) GMI, for thresholds ti (ni) and tq (nq). */
+static void expect_axes_match(const qc_plane *c, double sigma, size_t ni, const double *ti,
+                              size_t nq, const double *tq)
+{
+    qc_iq_noise noise = {sigma, 0.0, QC_PHASE_GAUSS};
+    qc_iq_cells q = {.kind = QC_IQ_PRODUCT, .ti = ti, .nti = ni, .tq = tq, .ntq = nq};
+    qc_iq_axis_planes a;
+    int ok = 0;
+    assert_int_equal(qc_iq_axis_planes_build(c, 1, &a, &ok), QC_OK);
+    assert_true(ok);
+    for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) {
+        qc_status st;
+        const double whole = rate(c, &noise, &q, gmi);
+        const double sum = qc_iq_axes_objective(&a, &noise, &q, gmi, &st);
+        assert_int_equal(st, QC_OK);
+        if (!(fabs(sum - whole) <= AXES_TOL))
+            fail_msg("%s: axes %.15g, matrix %.15g", gmi ? "GMI" : "MI", sum, whole);
+        double gi[16], gq[16], hi[16], hq[16];
+        qc_dmc *ch = NULL;
+        assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
+        assert_int_equal(qc_product_gradient(c, &noise, &q, ch, gmi, gi, gq), QC_OK);
+        qc_dmc_free(ch);
+        assert_int_equal(qc_iq_axes_gradient(&a, &noise, &q, gmi, hi, hq), QC_OK);
+        for (size_t k = 0; k < ni; k++)
+            if (!(fabs(hi[k] - gi[k]) <= AXES_TOL * (1.0 + fabs(gi[k]))))
+                fail_msg("%s in-phase %zu: axes %.15g, matrix %.15g", gmi ? "GMI" : "MI", k,
+                         hi[k], gi[k]);
+        for (size_t k = 0; k < nq; k++)
+            if (!(fabs(hq[k] - gq[k]) <= AXES_TOL * (1.0 + fabs(gq[k]))))
+                fail_msg("%s quadrature %zu: axes %.15g, matrix %.15g", gmi ? "GMI" : "MI",
+                         k, hq[k], gq[k]);
+    }
+    qc_iq_axis_planes_free(&a);
+}
+
+static void test_axes(void **state)
+{
+    (void)state;
+    /* 16-QAM with its Gray labels (a product of two Gray codes) */
+    qc_plane *c;
+    assert_int_equal(qc_plane_parse("qam:16", &c), QC_OK);
+    const double ti[5] = {-2.5, -1.2, 0.1, 1.7, 2.9}, tq[3] = {-1.8, 0.3, 2.2};
+    expect_axes_match(c, 0.5, 5, ti, 3, tq);
+    expect_axes_match(c, 1.1, 3, tq, 5, ti);
+    qc_plane_free(c);
+    /* 4 x 2 points, a shaped law on the in-phase axis, labels whose bits
+     * are interleaved: bit 1 is the quadrature's, bits 0 and 2 the
+     * in-phase Gray code's */
+    const double lv[4] = {-3.0, -1.0, 1.0, 3.0}, px[4] = {0.1, 0.4, 0.3, 0.2};
+    const size_t gray[4] = {0, 1, 3, 2};
+    double x[8], y[8], p[8];
+    size_t lab[8];
+    for (size_t i = 0, k = 0; i < 4; i++)
+        for (size_t j = 0; j < 2; j++, k++) {
+            x[k] = lv[i], y[k] = j ? 1.0 : -1.0, p[k] = px[i] * 0.5;
+            lab[k] = (gray[i] & 1) | (j << 1) | ((gray[i] >> 1) << 2);
+        }
+    qc_plane r = view(8, x, y, p, lab, 3);
+    const double t4[3] = {-2.2, 0.2, 1.9}, t1[1] = {0.1};
+    expect_axes_match(&r, 0.7, 3, t4, 1, t1);
+    /* labels whose bit mixes the axes: no split for the GMI (still for the
+     * MI, which needs no labels) */
+    size_t mixed[8];
+    memcpy(mixed, lab, sizeof mixed);
+    mixed[0] ^= 1; /* bit 0 now differs between the two points at x = -3 */
+    mixed[7] ^= 1;
+    qc_plane m = view(8, x, y, p, mixed, 3);
+    qc_iq_axis_planes a;
+    int ok = 1;
+    assert_int_equal(qc_iq_axis_planes_build(&m, 1, &a, &ok), QC_OK);
+    assert_false(ok);
+    assert_int_equal(qc_iq_axis_planes_build(&m, 0, &a, &ok), QC_OK);
+    assert_true(ok);
+    qc_iq_axis_planes_free(&a);
+    /* a law that is not a product, and a missing corner: no axes */
+    p[0] *= 1.5, p[1] *= 0.5;
+    assert_int_equal(qc_iq_axis_planes_build(&r, 0, &a, &ok), QC_OK);
+    assert_false(ok);
+    p[0] /= 1.5, p[1] /= 0.5;
+    qc_plane seven = view(7, x + 1, y + 1, p + 1, NULL, 0);
+    assert_int_equal(qc_iq_axis_planes_build(&seven, 0, &a, &ok), QC_OK);
+    assert_false(ok);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -227,6 +326,7 @@ int main(void)
         cmocka_unit_test(test_origin_point),
         cmocka_unit_test(test_product),
         cmocka_unit_test(test_phase_error),
+        cmocka_unit_test(test_axes),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
