@@ -150,6 +150,8 @@ static int labels_split(const qc_plane *c, const qc_iq_axes *ax, const size_t *i
     *bx = *by = 0;
     for (unsigned bit = 0; bit < c->nbits; bit++)
         *bx += (unsigned)((xmask >> bit) & 1), *by += (unsigned)((ymask >> bit) & 1);
+    if (*bx == 0 || *by == 0) /* labels that do not tell an axis's values apart */
+        return 0;
     for (size_t a = 0; a < ax->nx; a++) { /* pack each axis's own bits */
         size_t v = 0;
         for (unsigned bit = 0, k = 0; bit < c->nbits; bit++)
