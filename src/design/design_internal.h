@@ -189,7 +189,10 @@ int qc_iq_plane_axes(const qc_plane *c, qc_iq_axes *ax);
 /* 1 when both axes have the same values and law. */
 int qc_iq_same_axes(const qc_iq_axes *ax);
 void qc_iq_axes_free(qc_iq_axes *ax);
-/* iq_axes.c: the two axes of such a constellation as one-dimensional
+/* For every point of c, its index on the in-phase axis (ia) and on the
+ * quadrature axis (ib) of ax. */
+void qc_iq_point_axes(const qc_plane *c, const qc_iq_axes *ax, size_t *ia, size_t *ib);
+/* iq_axis_planes.c: the two axes of such a constellation as one-dimensional
  * planes (each axis's values on the in-phase axis, its marginal law, and
  * with labels the bits that are functions of that axis), on which the
  * I/Q pair's MI or GMI and their gradient add without a phase error. */

@@ -21,7 +21,7 @@
  * layer finds with the guarantee of its grid DP (optimal.c); so is its
  * GMI with two values and one label bit per axis (QPSK), which is then
  * the MI. Other searches on such a pair rate it axis by axis
- * (iq_axes.c). */
+ * (iq_axis_planes.c). */
 #include "design/design_internal.h"
 #include "quantcap/info.h"
 #include "quantcap/iq.h"
@@ -72,7 +72,7 @@ typedef struct {
                          densities of the last matrix kept for a gradient
                          (from its series); NULL otherwise               */
     const qc_iq_axis_planes *axes; /* the I/Q pair rated axis by axis
-                                      (iq_axes.c), or NULL: the 2-D matrix */
+                                      (iq_axis_planes.c), or NULL: the 2-D matrix */
 } design_ctx;
 
 /* The objective of the cells; their matrix into *keep when keep is not
@@ -753,7 +753,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
 
 /* run, with the I/Q pair rated axis by axis where that is exact: no
  * phase error, points and law that factor over the axes and, for the
- * GMI, labels whose every bit is a function of one axis (iq_axes.c). */
+ * GMI, labels whose every bit is a function of one axis (iq_axis_planes.c). */
 static qc_status run_on_axes(const qc_plane *c, const qc_iq_noise *noise,
                              const qc_iq_design_request *q, qc_iq_design_result *res,
                              int search)

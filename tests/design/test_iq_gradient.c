@@ -8,7 +8,7 @@
  * receivers under a residual phase error (Gaussian and Tikhonov laws;
  * the I/Q pair by Gauss–Hermite rules, directly and reweighted, and by
  * the trapezoidal rule on the circle). Also the I/Q pair rated axis by
- * axis (src/design/iq_axes.c): its MI, GMI and gradient against those of
+ * axis (src/design/iq_axis_planes.c): its MI, GMI and gradient against those of
  * the 2-D matrix, and which constellations and labels allow it. */
 #include <setjmp.h>
 #include <stdarg.h>
