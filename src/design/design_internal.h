@@ -182,12 +182,13 @@ typedef struct {
                                 allocation, owned by x)                      */
     size_t nx, ny;
 } qc_iq_axes;
-/* 1 when c factors so (each axis with at least two values; to 1e-12 of
- * each probability), the axes into *ax; 0 when it does not; −1 out of
- * memory. Free ax with qc_iq_axes_free whatever the answer. */
+/* A law factors when |p(x, y) − p(x)·p(y)| is within this share of
+ * p(x, y) + p(x)·p(y) for every point. */
+#define QC_IQ_PRODUCT_LAW_TOL 1e-12
+/* 1 when c factors so (each axis with at least two values), the axes
+ * into *ax; 0 when it does not; −1 out of memory. Free ax with
+ * qc_iq_axes_free whatever the answer. */
 int qc_iq_plane_axes(const qc_plane *c, qc_iq_axes *ax);
-/* 1 when both axes have the same values and law. */
-int qc_iq_same_axes(const qc_iq_axes *ax);
 void qc_iq_axes_free(qc_iq_axes *ax);
 /* For every point of c, its index on the in-phase axis (ia) and on the
  * quadrature axis (ib) of ax. */
@@ -207,13 +208,19 @@ typedef struct {
 qc_status qc_iq_axis_planes_build(const qc_plane *c, int with_labels, qc_iq_axis_planes *out,
                                   int *ok);
 void qc_iq_axis_planes_free(qc_iq_axis_planes *a);
+/* 1 when both axes have the same values and law (shared thresholds). */
+int qc_iq_axis_planes_same(const qc_iq_axis_planes *a);
 /* The MI (gmi 0) or GMI (gmi 1) in bits of the I/Q pair's cells q, as the
- * sum over the axes; NaN on failure (*st says). */
+ * sum over the axes; NaN on failure (*st says). keep (may be NULL):
+ * receives the two axes' matrices (the caller frees them; on failure
+ * those not built stay as they were). */
 double qc_iq_axes_objective(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
-                            const qc_iq_cells *q, int gmi, qc_status *st);
-/* Its gradient in the in-phase (g_i) and quadrature (g_q) thresholds. */
+                            const qc_iq_cells *q, int gmi, qc_dmc **keep, qc_status *st);
+/* Its gradient in the in-phase (g_i) and quadrature (g_q) thresholds,
+ * given the two axes' matrices ch (as qc_iq_axes_objective keeps them). */
 qc_status qc_iq_axes_gradient(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
-                              const qc_iq_cells *q, int gmi, double *g_i, double *g_q);
+                              const qc_iq_cells *q, qc_dmc *const *ch, int gmi, double *g_i,
+                              double *g_q);
 
 /* iq_channel.c: one axis of the I/Q pair, out[k] = P(t_{k−1} ≤ v + n <
  * t_k) for k = 0 .. nt (t_{−1} = −∞, t_nt = ∞), n ~ N(0, σ²). */

@@ -14,9 +14,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define PRODUCT_LAW_TOL 1e-12 /* |p(x, y) − p(x)·p(y)| within this share of
-                                 p(x, y) + p(x)·p(y)                       */
-
 static int by_value(const void *a, const void *b)
 {
     const double x = *(const double *)a, y = *(const double *)b;
@@ -71,21 +68,10 @@ int qc_iq_plane_axes(const qc_plane *c, qc_iq_axes *ax)
         const double p = c->prob[i];
         const double pq = ax->px[index_of(ax->x, ax->nx, c->x[i])] *
                           ax->py[index_of(ax->y, ax->ny, c->y[i])];
-        product = fabs(p - pq) <= PRODUCT_LAW_TOL * (p + pq);
+        product = fabs(p - pq) <= QC_IQ_PRODUCT_LAW_TOL * (p + pq);
     }
     free(seen);
     return product;
-}
-
-int qc_iq_same_axes(const qc_iq_axes *ax)
-{
-    if (ax->nx != ax->ny)
-        return 0;
-    for (size_t i = 0; i < ax->nx; i++)
-        if (ax->x[i] != ax->y[i] ||
-            fabs(ax->px[i] - ax->py[i]) > PRODUCT_LAW_TOL * (ax->px[i] + ax->py[i]))
-            return 0;
-    return 1;
 }
 
 void qc_iq_axes_free(qc_iq_axes *ax)

@@ -128,6 +128,18 @@ void qc_iq_axis_planes_free(qc_iq_axis_planes *a)
     }
 }
 
+int qc_iq_axis_planes_same(const qc_iq_axis_planes *a)
+{
+    const qc_plane *x = &a->plane[0], *y = &a->plane[1];
+    if (x->size != y->size)
+        return 0;
+    for (size_t i = 0; i < x->size; i++)
+        if (x->x[i] != y->x[i] ||
+            fabs(x->prob[i] - y->prob[i]) > QC_IQ_PRODUCT_LAW_TOL * (x->prob[i] + y->prob[i]))
+            return 0;
+    return 1;
+}
+
 /* The one-axis cells of axis k (0 in-phase, 1 quadrature) of an I/Q pair. */
 static qc_iq_cells axis_cells(const qc_iq_cells *q, int k)
 {
@@ -136,7 +148,7 @@ static qc_iq_cells axis_cells(const qc_iq_cells *q, int k)
 }
 
 double qc_iq_axes_objective(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
-                            const qc_iq_cells *q, int gmi, qc_status *st)
+                            const qc_iq_cells *q, int gmi, qc_dmc **keep, qc_status *st)
 {
     double total = 0.0;
     *st = QC_OK;
@@ -147,22 +159,23 @@ double qc_iq_axes_objective(const qc_iq_axis_planes *a, const qc_iq_noise *noise
         if ((*st = qc_iq_channel_rays(&a->plane[k], noise, &one, &ch, NULL, NULL)) == QC_OK &&
             (*st = qc_iq_rates_compute(&a->plane[k], ch, 0, 0.0, &r)) == QC_OK)
             total += gmi ? r.gmi_bits : r.mi_bits;
-        qc_dmc_free(ch);
+        if (keep && *st == QC_OK)
+            keep[k] = ch;
+        else
+            qc_dmc_free(ch);
     }
     return *st == QC_OK ? total : NAN;
 }
 
 qc_status qc_iq_axes_gradient(const qc_iq_axis_planes *a, const qc_iq_noise *noise,
-                              const qc_iq_cells *q, int gmi, double *g_i, double *g_q)
+                              const qc_iq_cells *q, qc_dmc *const *ch, int gmi, double *g_i,
+                              double *g_q)
 {
     qc_status st = QC_OK;
     double none[1];
     for (int k = 0; k < 2 && st == QC_OK; k++) {
         const qc_iq_cells one = axis_cells(q, k);
-        qc_dmc *ch = NULL;
-        if ((st = qc_iq_channel_rays(&a->plane[k], noise, &one, &ch, NULL, NULL)) == QC_OK)
-            st = qc_product_gradient(&a->plane[k], noise, &one, ch, gmi, k ? g_q : g_i, none);
-        qc_dmc_free(ch);
+        st = qc_product_gradient(&a->plane[k], noise, &one, ch[k], gmi, k ? g_q : g_i, none);
     }
     return st;
 }

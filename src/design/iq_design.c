@@ -75,15 +75,16 @@ typedef struct {
                                       (iq_axis_planes.c), or NULL: the 2-D matrix */
 } design_ctx;
 
-/* The objective of the cells; their matrix into *keep when keep is not
- * NULL (the caller frees it), else freed. NaN on failure (*st says). */
+/* The objective of the cells; when keep is not NULL (room for two) their
+ * matrix into keep[0], or rated axis by axis the two axes' into keep[0]
+ * and keep[1] (the caller frees them), else freed. NaN on failure (*st
+ * says). */
 static double rate_of(const design_ctx *d, const qc_iq_cells *cells, qc_dmc **keep,
                       qc_status *st)
 {
-    if (d->axes) /* the sum over the axes; no matrix kept (the gradient
-                    rebuilds the axes' own) */
+    if (d->axes)
         return qc_iq_axes_objective(d->axes, d->noise, cells,
-                                    d->req->objective == QC_OBJECTIVE_GMI, st);
+                                    d->req->objective == QC_OBJECTIVE_GMI, keep, st);
     qc_dmc *ch = NULL;
     *st = qc_iq_channel_rays(d->c, d->noise, cells, &ch, NULL, keep ? d->rays : NULL);
     if (*st != QC_OK)
@@ -206,8 +207,8 @@ static void direct_pack(const design_ctx *d, double *v)
 }
 
 /* The objective of the cells with parameters v, evaluated and counted
- * (the best kept; their matrix into *keep when keep is not NULL, for the
- * caller to free); −∞ when they are invalid, cannot be rated, or the cap
+ * (the best kept; their matrices into keep when keep is not NULL, as
+ * rate_of, for the caller to free); −∞ when they are invalid, cannot be rated, or the cap
  * is reached (the cap holds even inside a line search). */
 static double evaluate(design_ctx *d, const double *v, qc_dmc **keep)
 {
@@ -248,21 +249,22 @@ static double grad_eval(design_ctx *d, const gsl_vector *v, gsl_vector *g)
         gsl_vector_set_zero(g);
     for (size_t i = 0; i < nv; i++)
         z[i] = gsl_vector_get(v, i);
-    qc_dmc *ch = NULL;
+    qc_dmc *ch[2] = {NULL, NULL};
     double g_r[QC_IQ_MAX_CELLS], g_p[QC_IQ_MAX_CELLS];
     const int gmi = q->objective == QC_OBJECTIVE_GMI;
     const qc_iq_cells *cells = &d->res->cells;
-    const double f = evaluate(d, z, g && !d->axes ? &ch : NULL);
+    const double f = evaluate(d, z, g ? ch : NULL);
     if (!isfinite(f))
         return BAD_POINT;
     qc_status st = QC_OK;
     if (g && d->axes)
-        st = qc_iq_axes_gradient(d->axes, d->noise, cells, gmi, g_r, g_p);
+        st = qc_iq_axes_gradient(d->axes, d->noise, cells, ch, gmi, g_r, g_p);
     else if (g)
         st = q->kind == QC_IQ_PRODUCT
-                 ? qc_product_gradient(d->c, d->noise, cells, ch, gmi, g_r, g_p)
-                 : qc_polar_gradient(d->c, d->noise, cells, ch, d->rays, gmi, g_r, g_p);
-    qc_dmc_free(ch);
+                 ? qc_product_gradient(d->c, d->noise, cells, ch[0], gmi, g_r, g_p)
+                 : qc_polar_gradient(d->c, d->noise, cells, ch[0], d->rays, gmi, g_r, g_p);
+    qc_dmc_free(ch[0]);
+    qc_dmc_free(ch[1]);
     if (st == QC_ENOMEM && d->fatal == QC_OK)
         d->fatal = st;
     if (st != QC_OK)
@@ -527,31 +529,23 @@ static int gmi_is_mi(const design_ctx *d)
 static qc_status per_axis(design_ctx *d, int *done, double *bits)
 {
     const qc_iq_design_request *q = d->req;
+    const qc_iq_axis_planes *a = d->axes; /* set only where the pair factors */
     *done = 0;
-    if (q->gradient_only || q->kind != QC_IQ_PRODUCT ||
-        (q->objective != QC_OBJECTIVE_MI && !gmi_is_mi(d)) || d->noise->phase_sd != 0.0 ||
-        !(d->noise->sigma > 0.0))
+    if (!a || (q->objective != QC_OBJECTIVE_MI && !gmi_is_mi(d)) ||
+        !(d->noise->sigma > 0.0) || !(q->separate || qc_iq_axis_planes_same(a)))
         return QC_OK;
-    qc_iq_axes ax;
-    const int product = qc_iq_plane_axes(d->c, &ax);
-    if (product < 0) {
-        qc_iq_axes_free(&ax);
-        return qc_fail(QC_ENOMEM, "out of memory");
+    qc_iq_design_result *r = d->res;
+    const qc_plane *ax = &a->plane[0], *ay = &a->plane[1];
+    qc_status st = axis_thresholds(d->noise->sigma, ax->x, ax->prob, ax->size, q->cells_i - 1,
+                                   r->ti);
+    if (st == QC_OK && q->separate)
+        st = axis_thresholds(d->noise->sigma, ay->x, ay->prob, ay->size, q->cells_q - 1, r->tq);
+    else if (st == QC_OK)
+        memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
+    if (st == QC_OK) {
+        *bits = rate_of(d, &r->cells, NULL, &st);
+        *done = st == QC_OK && isfinite(*bits);
     }
-    qc_status st = QC_OK;
-    if (product && (q->separate || qc_iq_same_axes(&ax))) {
-        qc_iq_design_result *r = d->res;
-        st = axis_thresholds(d->noise->sigma, ax.x, ax.px, ax.nx, q->cells_i - 1, r->ti);
-        if (st == QC_OK && q->separate)
-            st = axis_thresholds(d->noise->sigma, ax.y, ax.py, ax.ny, q->cells_q - 1, r->tq);
-        else if (st == QC_OK)
-            memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
-        if (st == QC_OK) {
-            *bits = rate_of(d, &r->cells, NULL, &st);
-            *done = st == QC_OK && isfinite(*bits);
-        }
-    }
-    qc_iq_axes_free(&ax);
     return st == QC_ENOMEM ? st : QC_OK;
 }
 

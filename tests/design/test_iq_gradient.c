@@ -247,7 +247,8 @@ static void expect_axes_match(const qc_plane *c, double sigma, size_t ni, const 
     for (int gmi = 0; gmi <= (c->labels != NULL); gmi++) {
         qc_status st;
         const double whole = rate(c, &noise, &q, gmi);
-        const double sum = qc_iq_axes_objective(&a, &noise, &q, gmi, &st);
+        qc_dmc *axis_ch[2] = {NULL, NULL};
+        const double sum = qc_iq_axes_objective(&a, &noise, &q, gmi, axis_ch, &st);
         assert_int_equal(st, QC_OK);
         if (!(fabs(sum - whole) <= AXES_TOL))
             fail_msg("%s: axes %.15g, matrix %.15g", gmi ? "GMI" : "MI", sum, whole);
@@ -256,7 +257,9 @@ static void expect_axes_match(const qc_plane *c, double sigma, size_t ni, const 
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
         assert_int_equal(qc_product_gradient(c, &noise, &q, ch, gmi, gi, gq), QC_OK);
         qc_dmc_free(ch);
-        assert_int_equal(qc_iq_axes_gradient(&a, &noise, &q, gmi, hi, hq), QC_OK);
+        assert_int_equal(qc_iq_axes_gradient(&a, &noise, &q, axis_ch, gmi, hi, hq), QC_OK);
+        qc_dmc_free(axis_ch[0]);
+        qc_dmc_free(axis_ch[1]);
         for (size_t k = 0; k < ni; k++)
             if (!(fabs(hi[k] - gi[k]) <= AXES_TOL * (1.0 + fabs(gi[k]))))
                 fail_msg("%s in-phase %zu: axes %.15g, matrix %.15g", gmi ? "GMI" : "MI", k,
