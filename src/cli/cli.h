@@ -126,12 +126,18 @@ void cli_print_ppm_rates(FILE *f, const qc_design_request *req, const qc_design_
  * names the constellation (NULL: from a file). */
 void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_result *r,
                          const char *alphabet);
-/* How the cells of a 2-D receiver were searched, after "receiver ...":
- * axis by axis, or the evaluations and whether the search settled or
- * reached the ceiling H(X); and the uniform start (text_iq.c; `design`
- * and `iq` alike). */
-void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int per_axis,
-                         int converged, int at_ceiling, double start_bits, const char *unit);
+/* How the cells of a 2-D receiver were searched (qc_iq_design_result's
+ * fields, from `iq` or `design` alike). */
+typedef struct {
+    const char *objective; /* "mi" or "gmi"                              */
+    size_t evaluations;
+    int per_axis, converged, at_ceiling, axis_start;
+    double start_bits, axis_start_bits;
+} cli_iq_search;
+/* That search, after "receiver ...": axis by axis, or the evaluations and
+ * whether the search settled or reached the ceiling H(X); the uniform
+ * start, and the axis-by-axis start where there was one (text_iq.c). */
+void cli_print_iq_search(FILE *f, const cli_iq_search *s, const char *unit);
 /* " UNIT" with a leading space, or "" for a dimensionless quantity. */
 const char *cli_unit_suffix(const char *unit, char *buf, size_t cap);
 /* Unit of model parameter i printed in a report whose levels are in

@@ -72,9 +72,10 @@ static void help(const cli_args *a)
            "exact gradient, with or without phase error), stopping within 1e-10 bit\n"
            "of H(X), which no cells can pass; for the MI of an I/Q pair without phase\n"
            "error on points and a law that factor over the axes (square QAM), each\n"
-           "axis by the 1-D MI-optimal design instead. --compare rates both receivers\n"
-           "and names the one that keeps more rate. Details: docs/alphabets.md,\n"
-           "docs/methods.md.\n\noptions:\n");
+           "axis by the 1-D MI-optimal design instead; where such a pair is searched\n"
+           "by BFGS (the GMI, a phase error), once more from that design, kept if\n"
+           "higher. --compare rates both receivers and names the one that keeps more\n"
+           "rate. Details: docs/alphabets.md, docs/methods.md.\n\noptions:\n");
     cli_print_options(a, stdout);
 }
 
@@ -227,9 +228,13 @@ static void print_receiver(FILE *f, const receiver *r, int capacity)
     else if (r->des.evaluations <= 1 && !r->des.at_ceiling)
         fprintf(f, ", uniform (not designed)\n");
     else
-        cli_print_iq_search(f, qc_objective_name(r->req.objective), r->des.evaluations,
-                            r->des.per_axis, r->des.converged, r->des.at_ceiling,
-                            r->des.start_bits, unit);
+        cli_print_iq_search(f,
+                            &(cli_iq_search){qc_objective_name(r->req.objective),
+                                             r->des.evaluations, r->des.per_axis,
+                                             r->des.converged, r->des.at_ceiling,
+                                             r->des.axis_start, r->des.start_bits,
+                                             r->des.axis_start_bits},
+                            unit);
     if (r->kind == QC_IQ_PRODUCT) {
         print_list(f, "in-phase thresholds", q->ti, q->nti, 1.0);
         print_list(f, "quadrature thresholds", q->tq, q->ntq, 1.0);
@@ -284,6 +289,13 @@ static json_t *receiver_json(const receiver *r, int capacity)
                                                      : json_null());
         json_object_set_new(o, "at_ceiling", json_boolean(r->des.at_ceiling));
         json_object_set_new(o, "start_bits", cli_json_real(r->des.start_bits));
+        json_object_set_new(o, "axis_start",
+                            r->des.axis_start == 2   ? json_string("kept")
+                            : r->des.axis_start == 1 ? json_string("not higher")
+                                                     : json_null());
+        json_object_set_new(o, "axis_start_bits",
+                            r->des.axis_start ? cli_json_real(r->des.axis_start_bits)
+                                              : json_null());
     }
     if (r->kind == QC_IQ_PRODUCT) {
         json_object_set_new(o, "thresholds", cli_json_array(q->ti, q->nti));

@@ -17,17 +17,19 @@ static void print_list(FILE *f, const char *name, const double *v, size_t n, dou
     fprintf(f, "%s\n", n ? "" : "(none)");
 }
 
-void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int per_axis,
-                         int converged, int at_ceiling, double start_bits, const char *unit)
+void cli_print_iq_search(FILE *f, const cli_iq_search *s, const char *unit)
 {
-    if (per_axis) {
+    const char *objective = s->objective;
+    const size_t evaluations = s->evaluations;
+    const double start_bits = s->start_bits;
+    if (s->per_axis) {
         fprintf(f, ", designed for %s axis by axis (points, law and noise factor over the "
                    "axes: each axis's one-dimensional MI-optimal design: grid DP, Newton steps, "
                    "threshold moves; uniform start %.6f %s)\n",
                 objective, start_bits, unit);
         return;
     }
-    if (at_ceiling && evaluations <= 1) {
+    if (s->at_ceiling && evaluations <= 1) {
         fprintf(f, ", designed for %s: the uniform cells are within %.0e bit of H(X), which "
                    "no cells can pass (no search)\n",
                 objective, QC_IQ_CEILING_GAP_BITS);
@@ -35,12 +37,16 @@ void cli_print_iq_search(FILE *f, const char *objective, size_t evaluations, int
     }
     fprintf(f, ", designed for %s (BFGS on the exact gradient, %zu evaluations", objective,
             evaluations);
-    if (at_ceiling)
+    if (s->at_ceiling)
         fprintf(f, ", stopped within %.0e bit of H(X), which no cells can pass",
                 QC_IQ_CEILING_GAP_BITS);
-    else if (!converged)
+    else if (!s->converged)
         fprintf(f, ", STOPPED at the evaluation cap before the search settled");
-    fprintf(f, "; uniform start %.6f %s)\n", start_bits, unit);
+    fprintf(f, "; uniform start %.6f %s", start_bits, unit);
+    if (s->axis_start)
+        fprintf(f, "; also from the axis-by-axis design, %.6f %s: %s", s->axis_start_bits,
+                unit, s->axis_start == 2 ? "ended higher, kept" : "not higher");
+    fprintf(f, ")\n");
 }
 
 void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_result *r,
@@ -74,10 +80,13 @@ void cli_print_iq_design(FILE *f, const qc_design_request *req, const qc_design_
     else if (r->quantizer == QC_QUANTIZER_UNIFORM)
         fprintf(f, ", uniform (not designed)\n");
     else
-        cli_print_iq_search(f, r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi",
-                            r->iq_evaluations, r->iq_per_axis,
-                            r->design_convergence != QC_NOT_CONVERGED,
-                            r->iq_at_ceiling, r->iq_start_bits, unit);
+        cli_print_iq_search(f,
+                            &(cli_iq_search){r->objective == QC_OBJECTIVE_GMI ? "gmi" : "mi",
+                                             r->iq_evaluations, r->iq_per_axis,
+                                             r->design_convergence != QC_NOT_CONVERGED,
+                                             r->iq_at_ceiling, r->iq_axis_start,
+                                             r->iq_start_bits, r->iq_axis_start_bits},
+                            unit);
     if (r->iq_kind == 0) {
         print_list(f, "in-phase thresholds", r->thresholds, r->cells_i - 1, 1.0);
         print_list(f, "quadrature thresholds", r->thresholds_q, r->cells_q - 1, 1.0);

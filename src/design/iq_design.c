@@ -21,7 +21,8 @@
  * layer finds with the guarantee of its grid DP (optimal.c); so is its
  * GMI with two values and one label bit per axis (QPSK), which is then
  * the MI. Other searches on such a pair rate it axis by axis
- * (iq_axis_planes.c). */
+ * (iq_axis_planes.c), and where such points and law are searched by BFGS
+ * (a phase error, the GMI) the axis-by-axis design is a second start. */
 #include "design/design_internal.h"
 #include "quantcap/info.h"
 #include "quantcap/iq.h"
@@ -549,6 +550,64 @@ static qc_status per_axis(design_ctx *d, int *done, double *bits)
     return st == QC_ENOMEM ? st : QC_OK;
 }
 
+/* One more gradient search, after those from the uniform cells and their
+ * restarts, from the axis-by-axis MI-optimal design where the points and
+ * law factor over the axes but the pair is searched by BFGS: under a
+ * phase error, or for the GMI (beyond QPSK). From the uniform cells BFGS
+ * keeps their symmetry; the one-dimensional design may place its cells
+ * otherwise, and under a small phase error or for the GMI it is often
+ * near a better optimum. The cells it ends in are kept only where they
+ * are higher (res->axis_start 2; 1 where they are not). */
+static qc_status axis_search(design_ctx *d, double ceiling, int *settled)
+{
+    const qc_iq_design_request *q = d->req;
+    const int phase = d->noise->phase_sd > 0.0;
+    if (q->kind != QC_IQ_PRODUCT || q->gradient_only || !(d->noise->sigma > 0.0) ||
+        (!phase && (q->objective != QC_OBJECTIVE_GMI || gmi_is_mi(d))) ||
+        d->best >= ceiling - QC_IQ_CEILING_GAP_BITS)
+        return QC_OK;
+    qc_iq_axis_planes own;
+    int ok = 1;
+    const qc_iq_axis_planes *a = d->axes; /* without a phase error, for the GMI */
+    if (!a) {
+        qc_status st = qc_iq_axis_planes_build(d->c, 0, &own, &ok);
+        if (st != QC_OK || !ok)
+            return st;
+        a = &own;
+    }
+    qc_iq_design_result *r = d->res;
+    qc_status st = QC_OK;
+    int started = 0;
+    if (q->separate || qc_iq_axis_planes_same(a)) {
+        const qc_plane *ax = &a->plane[0], *ay = &a->plane[1];
+        st = axis_thresholds(d->noise->sigma, ax->x, ax->prob, ax->size, q->cells_i - 1, r->ti);
+        if (st == QC_OK && q->separate)
+            st = axis_thresholds(d->noise->sigma, ay->x, ay->prob, ay->size, q->cells_q - 1,
+                                 r->tq);
+        else if (st == QC_OK)
+            memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
+        started = st == QC_OK;
+    }
+    if (a == &own)
+        qc_iq_axis_planes_free(&own);
+    if (!started) /* only running out of memory is an error here */
+        return st == QC_ENOMEM ? st : QC_OK;
+    const double before = d->best;
+    double v[2 * QC_IQ_MAX_CELLS];
+    direct_pack(d, v);
+    r->axis_start_bits = evaluate(d, v, NULL);
+    if (d->fatal != QC_OK)
+        return d->fatal;
+    if (!isfinite(r->axis_start_bits)) {
+        r->axis_start_bits = NAN;
+        return QC_OK;
+    }
+    if ((st = gradient_search(d, d->max_evals, ceiling, settled)) != QC_OK)
+        return st;
+    r->axis_start = d->best > before ? 2 : 1;
+    return QC_OK;
+}
+
 static qc_status check_request(const qc_iq_design_request *q)
 {
     if (q->objective != QC_OBJECTIVE_MI && q->objective != QC_OBJECTIVE_GMI)
@@ -690,6 +749,7 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
     const double ceiling = qc_entropy(c->prob, c->size) / M_LN2;
     d.ceiling = ceiling;
     res->start_bits = res->objective_bits = f0;
+    res->axis_start_bits = NAN;
     res->evaluations = 1;
     res->converged = 1;
     if (!search || d.nz == 0)
@@ -735,6 +795,11 @@ static qc_status run(const qc_plane *c, const qc_iq_noise *noise,
         }
         if (!settled)
             break; /* the cap */
+    }
+    if (settled && (st = axis_search(&d, ceiling, &settled)) != QC_OK) {
+        free(d.rays);
+        qc_iq_design_result_free(res);
+        return st;
     }
     free(d.rays);
     res->at_ceiling = d.best >= ceiling - QC_IQ_CEILING_GAP_BITS;

@@ -226,6 +226,8 @@ qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *r
     res->iq_at_ceiling = req->quantizer.kind != QC_QUANTIZER_FIXED &&
                          req->quantizer.kind != QC_QUANTIZER_UNIFORM && des.at_ceiling;
     res->iq_per_axis = req->quantizer.kind == QC_QUANTIZER_OPTIMAL && des.per_axis;
+    res->iq_axis_start = req->quantizer.kind == QC_QUANTIZER_OPTIMAL ? des.axis_start : 0;
+    res->iq_axis_start_bits = res->iq_axis_start ? des.axis_start_bits : NAN;
     res->design_convergence = req->quantizer.kind == QC_QUANTIZER_FIXED ||
                                       req->quantizer.kind == QC_QUANTIZER_UNIFORM
                                   ? QC_CONVERGENCE_NONE

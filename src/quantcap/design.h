@@ -539,6 +539,8 @@ typedef struct {
                                     cells can pass                          */
     int iq_per_axis;             /* 1: the I/Q pair designed axis by axis
                                     (qc_iq_design_result.per_axis)          */
+    int iq_axis_start;           /* qc_iq_design_result.axis_start          */
+    double iq_axis_start_bits;   /* qc_iq_design_result.axis_start_bits     */
     int iq_unquantized_per_axis; /* 1: unquantized_bits is the sum of the
                                     two axes' MIs (the constellation
                                     factors; qc_iq_unquantized_mi), 0: a

@@ -185,6 +185,15 @@ typedef struct {
                                    axis by the one-dimensional MI-optimal
                                    design (the points, their law and the
                                    noise factor over the axes), not by BFGS */
+    int axis_start;             /* BFGS on an I/Q pair whose points and law
+                                   factor but whose objective or noise does
+                                   not (the GMI, a phase error): 0 when it
+                                   ran from the uniform cells only; 1 when
+                                   it also ran from the axis-by-axis design
+                                   and its cells were not higher; 2 when
+                                   they were, and are the result's         */
+    double axis_start_bits;     /* objective of the axis-by-axis design
+                                   (NaN when axis_start is 0)              */
 } qc_iq_design_result;
 
 /* QC_EINVAL naming the field at fault, QC_ENOMEM, or the channel's

@@ -371,6 +371,13 @@ static void report_iq(json_t *o, const qc_design_result *res)
                         : res->iq_evaluations <= 1 ? json_null()
                                                    : json_string("bfgs"));
     json_object_set_new(o, "iq_at_ceiling", json_boolean(res->iq_at_ceiling));
+    json_object_set_new(o, "iq_axis_start",
+                        res->iq_axis_start == 2   ? json_string("kept")
+                        : res->iq_axis_start == 1 ? json_string("not higher")
+                                                  : json_null());
+    json_object_set_new(o, "iq_axis_start_bits",
+                        res->iq_axis_start ? qc_report_real(res->iq_axis_start_bits)
+                                           : json_null());
     json_object_set_new(o, "iq_unquantized_method",
                         !isfinite(res->unquantized_bits) ? json_null()
                         : res->iq_unquantized_per_axis   ? json_string("per-axis")
