@@ -266,7 +266,10 @@ QC_API double qc_simplest_within(double x, double tol);
 
 /* Thresholds within 64 ulps of the output's scale from 0 or from a
  * level's mean are set to it exactly (continuous outputs; the order is
- * kept). Never fails; count outputs are left as they are. */
+ * kept); where the levels are their own mirror image (output means and
+ * variances) and the thresholds are too, up to 1e-9 of their gaps, they
+ * are made exactly symmetric. Never fails; count outputs are left as
+ * they are. */
 QC_API void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
                         size_t nt, double *t);
 

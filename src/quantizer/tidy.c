@@ -34,7 +34,12 @@
  *
  * Separately, qc_snap_thresholds puts a threshold that lies within a few
  * ulps (of the output's scale) of zero or of a level's mean exactly on
- * it, so that rounding noise of the design does not print as 1e-15. */
+ * it, and, where the levels are their own mirror image (output means
+ * symmetric about a centre, variances equal) and the thresholds are too
+ * up to 1e-9 of their gaps, makes them exactly symmetric (the middle one
+ * at the centre), so that rounding noise of the design does not print as
+ * 1e-14 or as thresholds that differ from their mirror images in the
+ * last digits. */
 #include "quantizer/quantizer.h"
 
 #include <float.h>
@@ -49,6 +54,10 @@
                                     flat interval (qc_simplest_within) */
 #define BISECT_STEPS 200         /* interval halvings (stops at ulp level) */
 #define SNAP_ULPS 64.0           /* snapping distance, in ulps of the scale */
+#define MIRROR_REL 1e-9          /* mirror-image thresholds: up to this share
+                                    of their smallest gap                   */
+#define MIRROR_VAR_REL 1e-12     /* mirror-image levels: equal variances to
+                                    this share                              */
 
 /* Σ_x r(x) p_x log(p_x / q) for one cell (column). */
 static double cell_term(const double *col, const double *r, size_t nx, double q)
@@ -514,6 +523,77 @@ done:
     return st;
 }
 
+/* A level's output mean and variance, for sorting by mean. */
+typedef struct {
+    double mean, var;
+} level_moments;
+
+static int by_mean(const void *a, const void *b)
+{
+    const double x = ((const level_moments *)a)->mean, y = ((const level_moments *)b)->mean;
+    return (x > y) - (x < y);
+}
+
+/* *centre: the centre of the levels' output means when the level set is
+ * its own mirror image about it (the k-th lowest mean and the k-th highest
+ * at equal distances, to d, with equal variances, to MIRROR_VAR_REL); 0
+ * when it is not, or a level has no moments, or memory runs out (the
+ * thresholds are then only not made symmetric). */
+static int mirror_centre(const qc_model *model, const double *levels, size_t nlevels, double d,
+                         double *centre)
+{
+    level_moments *lm = qc_malloc_array(nlevels, sizeof *lm);
+    if (!lm || nlevels == 0) {
+        free(lm);
+        return 0;
+    }
+    int ok = 1;
+    for (size_t i = 0; i < nlevels && ok; i++)
+        ok = qc_model_moments(model, levels[i], &lm[i].mean, &lm[i].var) == QC_OK &&
+             isfinite(lm[i].mean) && isfinite(lm[i].var);
+    if (ok) {
+        qsort(lm, nlevels, sizeof *lm, by_mean);
+        *centre = 0.5 * (lm[0].mean + lm[nlevels - 1].mean);
+        for (size_t i = 0, k = nlevels - 1; i < k && ok; i++, k--)
+            ok = fabs(lm[i].mean + lm[k].mean - 2.0 * *centre) <= d &&
+                 fabs(lm[i].var - lm[k].var) <= MIRROR_VAR_REL * fmax(lm[i].var, lm[k].var);
+    }
+    free(lm);
+    return ok;
+}
+
+/* Thresholds that are the mirror image of each other about the centre of
+ * a level set that is its own mirror image, up to MIRROR_REL of their
+ * smallest gap (rounding of the design's sums and steps), are made so
+ * exactly; all of them or none. */
+static void mirror_thresholds(const qc_model *model, const double *levels, size_t nlevels,
+                              size_t nt, double d, double *t)
+{
+    double c;
+    if (nt == 0 || !mirror_centre(model, levels, nlevels, d, &c))
+        return;
+    for (size_t j = 0, k = nt - 1; j <= k; j++, k--) {
+        double gap = INFINITY;
+        if (j > 0)
+            gap = fmin(gap, t[j] - t[j - 1]);
+        if (j + 1 < nt)
+            gap = fmin(gap, t[j + 1] - t[j]);
+        if (!isfinite(gap))
+            gap = fabs(t[j] - c);
+        if (!(fabs(t[j] + t[k] - 2.0 * c) <= fmax(MIRROR_REL * gap, d)))
+            return;
+        if (k == 0)
+            break;
+    }
+    for (size_t j = 0, k = nt - 1; j <= k; j++, k--) {
+        const double half = 0.5 * (t[k] - t[j]);
+        t[j] = j == k ? c : c - half;
+        t[k] = j == k ? c : c + half;
+        if (k == 0)
+            break;
+    }
+}
+
 void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlevels,
                         size_t nt, double *t)
 {
@@ -547,6 +627,7 @@ void qc_snap_thresholds(const qc_model *model, const double *levels, size_t nlev
         if ((j == 0 || target > t[j - 1]) && (j + 1 == nt || target < t[j + 1]))
             t[j] = target;
     }
+    mirror_thresholds(model, levels, nlevels, nt, d, t);
 }
 
 size_t qc_cells_usable(const qc_model *model, const double *levels, size_t nlevels,

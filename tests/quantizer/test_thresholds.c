@@ -221,6 +221,49 @@ static void test_exact_zero(void **state)
     qc_model_free(m);
 }
 
+/* Mirror-image thresholds of a mirror-image level set, equal up to the
+ * design's rounding, are made exactly so (PAM-4 at 12 dB through 8 cells
+ * printed its middle threshold as 4.8e-14 and ±0.439438604007620 /
+ * ±0.439438604007725); all of them or none, and only where the levels'
+ * output means mirror each other with equal variances. */
+static void test_mirror_thresholds(void **state)
+{
+    (void)state;
+    const double pam4[] = {-3.0, -1.0, 1.0, 3.0}, upam4[] = {0.0, 1.0, 2.0, 3.0};
+    qc_model *m = gauss(0.5);
+    double t[] = {-2.0 - 1e-12, 3e-13, 2.0 + 5e-13};
+    qc_snap_thresholds(m, pam4, 4, 3, t);
+    assert_true(t[1] == 0.0 && t[0] == -t[2]);
+    assert_true(fabs(t[2] - (2.0 + 7.5e-13)) < 1e-15);
+    double far[] = {-2.0, 0.1, 2.0 + 1e-12}; /* the middle is not a mirror image */
+    qc_snap_thresholds(m, pam4, 4, 3, far);
+    assert_true(far[1] == 0.1 && far[2] == 2.0 + 1e-12);
+    double even[] = {-1.0 - 2e-12, 1.0 + 1e-12};
+    qc_snap_thresholds(m, pam4, 4, 2, even);
+    assert_true(even[0] == -even[1] && fabs(even[1] - (1.0 + 1.5e-12)) < 1e-15);
+    double u[] = {0.5 + 1e-13, 1.5 - 2e-13, 2.5}; /* centre 1.5 */
+    qc_snap_thresholds(m, upam4, 4, 3, u);
+    assert_true(u[1] == 1.5 && u[0] + u[2] == 3.0);
+    /* signal-dependent noise: the variances differ, nothing is mirrored */
+    const double sd[3] = {0.2, 0.05, 0.0};
+    qc_model *msd;
+    assert_int_equal(qc_model_alloc(&qc_model_gauss_sd, sd, &msd), QC_OK);
+    double v[] = {0.5 + 1e-13, 1.5 - 2e-13, 2.5};
+    qc_snap_thresholds(msd, upam4, 4, 3, v);
+    assert_true(v[0] == 0.5 + 1e-13 && v[1] == 1.5 - 2e-13);
+    qc_model_free(msd);
+    /* the design itself */
+    qc_model *m12 = gauss(sqrt(5.0 / pow(10.0, 1.2)));
+    qc_design_result r;
+    design(m12, pam4, 4, 8, QC_QUANTIZER_OPTIMAL, 0, &r);
+    assert_true(r.thresholds[3] == 0.0);
+    for (size_t j = 0; j < 3; j++)
+        assert_true(r.thresholds[j] == -r.thresholds[6 - j]);
+    qc_design_result_clear(&r);
+    qc_model_free(m12);
+    qc_model_free(m);
+}
+
 /* The uniform quantizer at a saturated rate: the full-scale range is the
  * middle of the interval of equally good ranges, the same from 30 and
  * 60 dB within the budget's width, not the narrowest or widest one the
@@ -289,6 +332,7 @@ int main(void)
         cmocka_unit_test(test_tidy_keeps_rate),
         cmocka_unit_test(test_tidy_leaves_sharp_design),
         cmocka_unit_test(test_exact_zero),
+        cmocka_unit_test(test_mirror_thresholds),
         cmocka_unit_test(test_uniform_saturated_range),
         cmocka_unit_test(test_poisson_cap),
     };
