@@ -35,6 +35,10 @@ qc_status qc_sort_order(const double *values, size_t n, size_t *order);
  * the law sums to 1 (src/core/gmi.c). */
 qc_status qc_check_labels(const double *input, size_t nx, const size_t *labels,
                           unsigned nbits);
+/* P(Z < u) and P(Z ≥ u) of the standard normal law, bit for bit GSL's
+ * gsl_cdf_ugaussian_P and _Q, with one call beyond one standard
+ * deviation (src/core/normal_tails.c). */
+void qc_normal_tails(double u, double *below, double *above);
 /* Σ_v p_v log(1 + p_v̄/p_v) for the joint masses of the two bit values at
  * one output: its share of H(B|Y), accurate when one value dominates. */
 double qc_bit_term(double p0, double p1);

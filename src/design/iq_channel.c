@@ -106,23 +106,24 @@ static qc_status check_cells(const qc_iq_cells *q)
     return QC_OK;
 }
 
-/* Φ(b) − Φ(a) for a ≤ b, each difference taken in the tail where it does
- * not cancel. */
-static double phi_diff(double a, double b)
-{
-    if (a > 0.0)
-        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
-    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
-}
-
-/* Per-axis cell probabilities of coordinate v (design_internal.h). */
+/* Per-axis cell probabilities of coordinate v (design_internal.h): the
+ * cell [a, b) in noise units has Φ(b) − Φ(a), the difference taken in the
+ * tail where it does not cancel (Q(a) − Q(b) when a > 0); both tails of
+ * each threshold come from one call where that is exact
+ * (qc_normal_tails), and serve the cells on either side of it. */
 void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out)
 {
-    double lo = -INFINITY;
+    double a = -INFINITY, below_a = 0.0, above_a = 1.0;
     for (size_t k = 0; k <= nt; k++) {
-        double hi = k < nt ? t[k] : INFINITY;
-        out[k] = phi_diff((lo - v) / sigma, (hi - v) / sigma);
-        lo = hi;
+        double b = INFINITY, below_b = 1.0, above_b = 0.0;
+        if (k < nt) {
+            b = (t[k] - v) / sigma;
+            qc_normal_tails(b, &below_b, &above_b);
+        }
+        out[k] = a > 0.0 ? above_a - above_b : below_b - below_a;
+        a = b;
+        below_a = below_b;
+        above_a = above_b;
     }
 }
 

@@ -28,33 +28,13 @@ static double gauss_above(const qc_model *m, double x, double t)
     return gsl_cdf_gaussian_Q(t - x, m->params[P_SIGMA]);
 }
 
-/* Both tails from one evaluation of GSL's normal law where GSL itself
- * takes the larger tail as 1 − the smaller (|u| ≥ 0.66291 in GSL's
- * gsl_cdf_ugaussian_P and _Q; beyond one standard deviation here, with a
- * margin): the smaller tail is computed and the larger is 1.0 minus it,
- * the same operation, so the values are those of gauss_below and
- * gauss_above bit for bit (tests/quantizer/test_reuse.c checks it).
- * Nearer the mean both are computed. */
-#define GAUSS_TAILS_ONE_CALL 1.0 /* |t − x|/σ from which one call is enough */
-
-void qc_gauss_tails_u(double u, double *below, double *above)
-{
-    if (u >= GAUSS_TAILS_ONE_CALL) {
-        *above = gsl_cdf_ugaussian_Q(u);
-        *below = 1.0 - *above;
-    } else if (u <= -GAUSS_TAILS_ONE_CALL) {
-        *below = gsl_cdf_ugaussian_P(u);
-        *above = 1.0 - *below;
-    } else {
-        *below = gsl_cdf_ugaussian_P(u);
-        *above = gsl_cdf_ugaussian_Q(u);
-    }
-}
-
+/* Both tails from one evaluation of GSL's normal law beyond one standard
+ * deviation, bit for bit those of gauss_below and gauss_above
+ * (qc_normal_tails). */
 static void gauss_tails(const qc_model *m, double x, double t, double *below, double *above)
 {
     /* u as gsl_cdf_gaussian_P/Q form it */
-    qc_gauss_tails_u((t - x) / m->params[P_SIGMA], below, above);
+    qc_normal_tails((t - x) / m->params[P_SIGMA], below, above);
 }
 
 static double gauss_density(const qc_model *m, double x, double y)

@@ -53,7 +53,7 @@ static double gauss_sd_above(const qc_model *m, double x, double t)
 static void gauss_sd_tails(const qc_model *m, double x, double t, double *below,
                            double *above)
 {
-    qc_gauss_tails_u((t - x) / sd_at(m, x), below, above);
+    qc_normal_tails((t - x) / sd_at(m, x), below, above);
 }
 
 static double gauss_sd_density(const qc_model *m, double x, double y)

@@ -18,9 +18,4 @@ struct qc_model {
     void *state;
 };
 
-/* P(Z < u) and P(Z ≥ u) of the standard normal law, bit for bit GSL's
- * gsl_cdf_ugaussian_P and _Q, with one call beyond one standard
- * deviation (gauss.c); the Gaussian models' tails at u = (t − x)/σ. */
-void qc_gauss_tails_u(double u, double *below, double *above);
-
 #endif /* QC_MODELS_MODEL_INTERNAL_H */

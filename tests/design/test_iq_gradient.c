@@ -16,6 +16,7 @@
 #include <stdint.h>
 #include <cmocka.h>
 
+#include <gsl/gsl_cdf.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -272,6 +273,57 @@ static void expect_axes_match(const qc_plane *c, double sigma, size_t ni, const 
     qc_iq_axis_planes_free(&a);
 }
 
+/* The per-axis cell probabilities take each threshold's two tails from
+ * one call beyond one noise scale and share them between its two cells:
+ * bit for bit the former Φ(b) − Φ(a) with both ends computed apart (in
+ * the upper tail Q(a) − Q(b) when a > 0), over random points, noise and
+ * thresholds at GSL's switch of formulas (0.66291) and ours (1), far out
+ * (to 40 noise scales) and at random within three noise scales. */
+static double axis_cell_apart(double a, double b)
+{
+    if (a > 0.0)
+        return gsl_cdf_ugaussian_Q(a) - gsl_cdf_ugaussian_Q(b);
+    return gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a);
+}
+
+static void test_axis_probs_bits(void **state)
+{
+    (void)state;
+    unsigned long seed = 12345;
+    double t[9], out[10];
+    for (int i = 0; i < 20000; i++) {
+        seed = seed * 6364136223846793005ul + 1442695040888963407ul;
+        const double r = (double)(seed >> 11) / 9007199254740992.0;
+        const double sigma = pow(10.0, -2.0 + 3.0 * r), v = 4.0 * r - 2.0;
+        const size_t nt = 1 + (size_t)(i % 9);
+        for (size_t k = 0; k < nt; k++) {
+            const double ks = (double)k - 0.5 * (double)(nt - 1);
+            seed = seed * 6364136223846793005ul + 1442695040888963407ul;
+            const double w = (double)(seed >> 11) / 9007199254740992.0;
+            const double u = i % 4 == 0   ? ks * 0.66291
+                             : i % 4 == 1 ? ks * (1.0 + 1e-12 * r)
+                             : i % 4 == 2 ? ks * 40.0 * r / (double)nt
+                                          : 6.0 * w - 3.0;
+            t[k] = v + u * sigma;
+        }
+        if (i % 4 == 3) /* random thresholds within three noise scales, sorted */
+            for (size_t k = 1; k < nt; k++)
+                for (size_t j = k; j > 0 && t[j] < t[j - 1]; j--) {
+                    const double tmp = t[j];
+                    t[j] = t[j - 1];
+                    t[j - 1] = tmp;
+                }
+        qc_iq_axis_probs(v, sigma, t, nt, out);
+        double lo = -INFINITY;
+        for (size_t k = 0; k <= nt; k++) {
+            const double hi = k < nt ? t[k] : INFINITY;
+            const double ref = axis_cell_apart((lo - v) / sigma, (hi - v) / sigma);
+            assert_memory_equal(&out[k], &ref, sizeof ref);
+            lo = hi;
+        }
+    }
+}
+
 static void test_axes(void **state)
 {
     (void)state;
@@ -330,6 +382,7 @@ int main(void)
         cmocka_unit_test(test_product),
         cmocka_unit_test(test_phase_error),
         cmocka_unit_test(test_axes),
+        cmocka_unit_test(test_axis_probs_bits),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
