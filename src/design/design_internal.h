@@ -227,10 +227,12 @@ qc_status qc_iq_axes_gradient(const qc_iq_axis_planes *a, const qc_iq_noise *noi
 void qc_iq_axis_probs(double v, double sigma, const double *t, size_t nt, double *out);
 /* iq_channel.c: qc_iq_channel, and for polar cells each point's
  * sector-start densities (qc_polar_rays) from the same series into
- * rays[x·ny + a·P + p] (ny cells per point; rays may be NULL). */
+ * rays[x·ny + a·P + p] (ny cells per point; rays may be NULL); series:
+ * the polar cells' workspace, for this noise, kept from one matrix to the
+ * next by a search (NULL: one for this matrix). */
 qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
                              const qc_iq_cells *q, qc_dmc **out, double *quad_err,
-                             double *rays);
+                             double *rays, qc_polar_series *series);
 
 /* iq_gradient.c: the gradient of the MI (gmi = 0) or the BICM GMI
  * (gmi = 1, in bits) of the polar cells q in the noise (with or without a

@@ -156,7 +156,7 @@ double qc_iq_axes_objective(const qc_iq_axis_planes *a, const qc_iq_noise *noise
         const qc_iq_cells one = axis_cells(q, k);
         qc_dmc *ch = NULL;
         qc_iq_rates r;
-        if ((*st = qc_iq_channel_rays(&a->plane[k], noise, &one, &ch, NULL, NULL)) == QC_OK &&
+        if ((*st = qc_iq_channel_rays(&a->plane[k], noise, &one, &ch, NULL, NULL, NULL)) == QC_OK &&
             (*st = qc_iq_rates_compute(&a->plane[k], ch, 0, 0.0, &r)) == QC_OK)
             total += gmi ? r.gmi_bits : r.mi_bits;
         if (keep && *st == QC_OK)

@@ -164,12 +164,12 @@ static void rotated_row(double phi, double weight, void *vctx, double *out)
 qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
                         qc_dmc **out, double *quad_err)
 {
-    return qc_iq_channel_rays(c, noise, q, out, quad_err, NULL);
+    return qc_iq_channel_rays(c, noise, q, out, quad_err, NULL, NULL);
 }
 
 qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
                              const qc_iq_cells *q, qc_dmc **out, double *quad_err,
-                             double *rays)
+                             double *rays, qc_polar_series *series)
 {
     *out = NULL;
     qc_gsl_init(); /* GSL reports errors by status, never aborts */
@@ -194,10 +194,13 @@ qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
         qc_dmc_free(d);
         return st;
     }
-    qc_polar_series *ps = NULL;
-    if (q->kind == QC_IQ_POLAR && (st = qc_polar_series_alloc(noise, &ps)) != QC_OK) {
-        qc_dmc_free(d);
-        return st;
+    qc_polar_series *ps = series, *own = NULL; /* the caller's, or one for this matrix */
+    if (q->kind == QC_IQ_POLAR && !ps) {
+        if ((st = qc_polar_series_alloc(noise, &own)) != QC_OK) {
+            qc_dmc_free(d);
+            return st;
+        }
+        ps = own;
     }
     size_t nmax = q->nti + q->ntq + 2 + q->nradii + 1;
     double *pi = qc_malloc_array(nmax, sizeof *pi), *pq = pi ? pi + q->nti + 1 : NULL;
@@ -233,7 +236,7 @@ qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
     }
     free(pi);
     qc_phase_average_free(pa);
-    qc_polar_series_free(ps);
+    qc_polar_series_free(own);
     if (st != QC_OK) {
         qc_dmc_free(d);
         return st;

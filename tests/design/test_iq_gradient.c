@@ -84,11 +84,23 @@ static void check_phase_case(const char *spec, double snr_db, double pn_deg, qc_
         assert_int_equal(qc_iq_channel(c, &noise, &q, &ch, NULL), QC_OK);
         assert_int_equal(qc_polar_gradient(c, &noise, &q, ch, NULL, gmi, g_r, g_p), QC_OK);
         /* the same matrix and gradient with the sector-start densities
-         * taken from the matrix's own series */
+         * taken from the matrix's own series, in a workspace kept from a
+         * matrix of other cells (as a search keeps it) */
         const size_t ny = qc_iq_cell_count(&q);
         double *rays = malloc(c->size * ny * sizeof *rays), g_r2[16], g_p2[64];
         assert_non_null(rays);
-        assert_int_equal(qc_iq_channel_rays(c, &noise, &q, &ch_rays, NULL, rays), QC_OK);
+        qc_polar_series *ws = NULL;
+        qc_dmc *other = NULL;
+        assert_int_equal(qc_polar_series_alloc(&noise, &ws), QC_OK);
+        double wide[16];
+        for (size_t k = 0; k < nr; k++)
+            wide[k] = 1.5 * rad[k];
+        qc_iq_cells q_wide = q;
+        q_wide.radii = wide;
+        assert_int_equal(qc_iq_channel_rays(c, &noise, &q_wide, &other, NULL, NULL, ws), QC_OK);
+        qc_dmc_free(other);
+        assert_int_equal(qc_iq_channel_rays(c, &noise, &q, &ch_rays, NULL, rays, ws), QC_OK);
+        qc_polar_series_free(ws);
         assert_memory_equal(ch_rays->p, ch->p, c->size * ny * sizeof *ch->p);
         assert_int_equal(qc_polar_gradient(c, &noise, &q, ch_rays, rays, gmi, g_r2, g_p2),
                          QC_OK);
