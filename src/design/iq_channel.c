@@ -15,7 +15,6 @@
 #include "design/design_internal.h"
 #include "quantcap/iq.h"
 
-#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_math.h>
 #include <math.h>
 #include <stdlib.h>
