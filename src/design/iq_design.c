@@ -518,6 +518,29 @@ static qc_status axis_thresholds(double sigma, const double *values, const doubl
     return st;
 }
 
+/* The result's cells set to the axis-by-axis MI-optimal design of the
+ * axes a (each axis alone with thresholds apart; shared thresholds need
+ * both axes to have the same values and law): *placed 1 when they were,
+ * 0 when shared thresholds meet different axes or a design fails (only
+ * running out of memory is an error). */
+static qc_status axis_cells(const design_ctx *d, const qc_iq_axis_planes *a, int *placed)
+{
+    const qc_iq_design_request *q = d->req;
+    qc_iq_design_result *r = d->res;
+    *placed = 0;
+    if (!q->separate && !qc_iq_axis_planes_same(a))
+        return QC_OK;
+    const qc_plane *ax = &a->plane[0], *ay = &a->plane[1];
+    qc_status st = axis_thresholds(d->noise->sigma, ax->x, ax->prob, ax->size, q->cells_i - 1,
+                                   r->ti);
+    if (st == QC_OK && q->separate)
+        st = axis_thresholds(d->noise->sigma, ay->x, ay->prob, ay->size, q->cells_q - 1, r->tq);
+    else if (st == QC_OK)
+        memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
+    *placed = st == QC_OK;
+    return st == QC_ENOMEM ? st : QC_OK;
+}
+
 /* The GMI of an I/Q pair rated axis by axis with two values and one
  * label bit per axis (QPSK): the bit is the value, so each axis's GMI is
  * its MI, and the MI design is the GMI design. */
@@ -538,21 +561,14 @@ static qc_status per_axis(design_ctx *d, int *done, double *bits)
     const qc_iq_design_request *q = d->req;
     const qc_iq_axis_planes *a = d->axes; /* set only where the pair factors */
     *done = 0;
-    if (!a || (q->objective != QC_OBJECTIVE_MI && !gmi_is_mi(d)) ||
-        !(d->noise->sigma > 0.0) || !(q->separate || qc_iq_axis_planes_same(a)))
+    if (!a || (q->objective != QC_OBJECTIVE_MI && !gmi_is_mi(d)) || !(d->noise->sigma > 0.0))
         return QC_OK;
-    qc_iq_design_result *r = d->res;
-    const qc_plane *ax = &a->plane[0], *ay = &a->plane[1];
-    qc_status st = axis_thresholds(d->noise->sigma, ax->x, ax->prob, ax->size, q->cells_i - 1,
-                                   r->ti);
-    if (st == QC_OK && q->separate)
-        st = axis_thresholds(d->noise->sigma, ay->x, ay->prob, ay->size, q->cells_q - 1, r->tq);
-    else if (st == QC_OK)
-        memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
-    if (st == QC_OK) {
-        *bits = rate_of(d, &r->cells, NULL, &st);
-        *done = st == QC_OK && isfinite(*bits);
-    }
+    int placed;
+    qc_status st = axis_cells(d, a, &placed);
+    if (st != QC_OK || !placed)
+        return st;
+    *bits = rate_of(d, &d->res->cells, NULL, &st);
+    *done = st == QC_OK && isfinite(*bits);
     return st == QC_ENOMEM ? st : QC_OK;
 }
 
@@ -582,22 +598,12 @@ static qc_status axis_search(design_ctx *d, double ceiling, int *settled)
         a = &own;
     }
     qc_iq_design_result *r = d->res;
-    qc_status st = QC_OK;
-    int started = 0;
-    if (q->separate || qc_iq_axis_planes_same(a)) {
-        const qc_plane *ax = &a->plane[0], *ay = &a->plane[1];
-        st = axis_thresholds(d->noise->sigma, ax->x, ax->prob, ax->size, q->cells_i - 1, r->ti);
-        if (st == QC_OK && q->separate)
-            st = axis_thresholds(d->noise->sigma, ay->x, ay->prob, ay->size, q->cells_q - 1,
-                                 r->tq);
-        else if (st == QC_OK)
-            memcpy(r->tq, r->ti, (q->cells_q - 1) * sizeof *r->tq);
-        started = st == QC_OK;
-    }
+    int started;
+    qc_status st = axis_cells(d, a, &started);
     if (a == &own)
         qc_iq_axis_planes_free(&own);
-    if (!started) /* only running out of memory is an error here */
-        return st == QC_ENOMEM ? st : QC_OK;
+    if (st != QC_OK || !started)
+        return st;
     const double before = d->best;
     double v[2 * QC_IQ_MAX_CELLS];
     direct_pack(d, v);
@@ -744,8 +750,16 @@ static qc_status run_with(const qc_plane *c, const qc_iq_noise *noise,
     if ((st = alloc_result(q, res)) != QC_OK)
         return st;
     double z[2 * QC_IQ_MAX_CELLS], best_z[2 * QC_IQ_MAX_CELLS];
-    design_ctx d = {c,   noise, q,   res,    1.0,  0,    -INFINITY, best_z,
-                    0,   0.0,   0,   QC_OK,  NULL, axes, series};
+    design_ctx d = {.c = c,
+                    .noise = noise,
+                    .req = q,
+                    .res = res,
+                    .scale = 1.0,
+                    .best = -INFINITY,
+                    .best_z = best_z,
+                    .fatal = QC_OK,
+                    .axes = axes,
+                    .series = series};
     uniform_start(c, q, &d.scale, z, &d.nz);
     unpack(&d, z);
     double f0 = rate_of(&d, &res->cells, NULL, &st);

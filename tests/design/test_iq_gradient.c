@@ -287,8 +287,9 @@ static void expect_axes_match(const qc_plane *c, double sigma, size_t ni, const 
 
 /* The per-axis cell probabilities take each threshold's two tails from
  * one call beyond one noise scale and share them between its two cells:
- * bit for bit the former Φ(b) − Φ(a) with both ends computed apart (in
- * the upper tail Q(a) − Q(b) when a > 0), over random points, noise and
+ * bit for bit the former Φ(b) − Φ(a) with both ends computed apart by
+ * GSL's gsl_cdf_ugaussian_P and _Q, the reference (in the upper tail
+ * Q(a) − Q(b) when a > 0), over random points, noise and
  * thresholds at GSL's switch of formulas (0.66291) and ours (1), far out
  * (to 40 noise scales) and at random within three noise scales. */
 static double axis_cell_apart(double a, double b)
