@@ -78,6 +78,16 @@ int qc_parallel_worth(size_t entries);
  * construct, with more than one thread allowed. */
 int qc_parallel_can_fork(void);
 
+/* The threads a region over per-row work on `entries` entries should
+ * have: as many as allowed when qc_parallel_worth, else 1 (a region of
+ * one does not fork). For work whose threads each need a workspace made
+ * beforehand, one per thread number. */
+size_t qc_parallel_team(size_t entries);
+
+/* This thread's number in its team: 0 to the team's size − 1 (0 outside
+ * any parallel region, or without OpenMP). */
+size_t qc_parallel_thread(void);
+
 /* One row of a parallel loop: row i with `scratch` of the length asked
  * for; 0 on success. */
 typedef int (*qc_row_fn)(size_t i, double *scratch, void *ctx);

@@ -33,6 +33,25 @@ int qc_parallel_worth(size_t entries)
     return entries >= PARALLEL_MIN_ENTRIES && qc_parallel_can_fork();
 }
 
+size_t qc_parallel_team(size_t entries)
+{
+#ifdef _OPENMP
+    return qc_parallel_worth(entries) ? (size_t)omp_get_max_threads() : 1;
+#else
+    (void)entries;
+    return 1;
+#endif
+}
+
+size_t qc_parallel_thread(void)
+{
+#ifdef _OPENMP
+    return (size_t)omp_get_thread_num();
+#else
+    return 0;
+#endif
+}
+
 qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,
                            size_t *first_failed)
 {

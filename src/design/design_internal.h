@@ -123,7 +123,14 @@ qc_status qc_ppm_design(const qc_design_request *req, qc_design_result *res);
  * thread). */
 typedef struct qc_polar_series qc_polar_series;
 qc_status qc_polar_series_alloc(const qc_iq_noise *noise, qc_polar_series **out);
+/* Frees w and the workspaces of its other lanes. */
 void qc_polar_series_free(qc_polar_series *w);
+/* Lanes for n threads: w is lane 0, and workspaces for the same noise are
+ * chained to it up to lane n − 1 (kept, and freed with w). A row computed
+ * in any lane has the same bits. QC_ENOMEM (the lanes made so far stay). */
+qc_status qc_polar_series_lanes(qc_polar_series *w, size_t n);
+/* Lane i of w (i below the n of a successful qc_polar_series_lanes). */
+qc_polar_series *qc_polar_series_lane(qc_polar_series *w, size_t i);
 /* Row of point (x, y): P(ring a, sector p) at row[a·P + p], not yet
  * normalized; *err raised to the bound on how much the last doubling of
  * the series moved any cell (direct quadrature: its error estimate).

@@ -17,6 +17,7 @@
 
 #include <gsl/gsl_math.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -158,6 +159,158 @@ static void rotated_row(double phi, double weight, void *vctx, double *out)
                 c->pq, out);
 }
 
+/* A computed row: rounding's tiny negatives cleared and the row scaled
+ * to sum 1; refused if the sum is off by more than the quadrature allows
+ * (row i of the matrix, for the message). */
+static qc_status finish_row(double *row, size_t k, size_t i)
+{
+    /* rounding can leave a sum 1 ± 1e-15 and tiny negatives */
+    double sum = 0.0;
+    for (size_t y = 0; y < k; y++) {
+        row[y] = fmax(row[y], 0.0);
+        sum += row[y];
+    }
+    if (fabs(sum - 1.0) > 1e3 * QC_IQ_QUAD_TOL * (double)k)
+        return qc_fail(QC_ENUMERIC, "iq channel: the cells of point %zu sum to %.15g", i + 1,
+                       sum);
+    for (size_t y = 0; y < k; y++)
+        row[y] /= sum;
+    return QC_OK;
+}
+
+/* Every row of the matrix d — the I/Q pair's (each row averaged over a
+ * phase error if there is one, iq_phase.c), or polar cells' (a series per
+ * row, iq_polar.c; rays as qc_iq_channel_rays says) — with *err raised to
+ * the largest error bound of a row. The rows are spread over OpenMP
+ * threads when the matrix is worth it (its entries, 48 times over where a
+ * row takes at least 48 rotations or 32 angles), each thread with its own
+ * workspace: scratch and a phase average made here, or lane t of the
+ * polar series ps (kept by the caller). A row depends on nothing but its
+ * point, so the matrix is the same to the bit on any number of threads. A
+ * failure is that of the first failing row, as one thread would report
+ * it. */
+/* What one thread needs to compute rows: the receiver, its scratch, and a
+ * phase average or a lane of the polar series. */
+typedef struct {
+    const qc_plane *c;
+    const qc_iq_noise *noise;
+    const qc_iq_cells *q;
+    double *rays;
+    int polar, phased;
+    qc_polar_series *lane;
+    qc_phase_average *pa;
+    double *pi;
+    double err; /* the largest error bound of its rows */
+} row_ws;
+
+static qc_status row_ws_init(row_ws *w, qc_polar_series *ps, size_t thread)
+{
+    const qc_iq_cells *q = w->q;
+    w->lane = w->polar ? qc_polar_series_lane(ps, thread) : NULL;
+    w->pa = NULL;
+    w->pi = NULL;
+    w->err = 0.0;
+    qc_status st = w->phased ? qc_phase_average_alloc(w->noise, qc_iq_cell_count(q), &w->pa)
+                             : QC_OK;
+    if (st == QC_OK && !w->polar && !(w->pi = qc_malloc_array(q->nti + q->ntq + 2, sizeof *w->pi)))
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    return st;
+}
+
+static void row_ws_free(row_ws *w)
+{
+    free(w->pi);
+    qc_phase_average_free(w->pa);
+}
+
+/* Row i into d, normalized. */
+static qc_status one_row(row_ws *w, size_t i, qc_dmc *d)
+{
+    const qc_plane *c = w->c;
+    const qc_iq_cells *q = w->q;
+    const size_t k = d->ny;
+    const double sigma = w->noise->sigma;
+    double *row = d->p + i * k;
+    qc_status st = QC_OK;
+    memset(row, 0, k * sizeof *row);
+    if (w->polar) {
+        st = qc_polar_row(w->lane, q, c->x[i], c->y[i], sigma, row, &w->err,
+                          w->rays ? w->rays + i * k : NULL);
+    } else if (!w->phased) {
+        product_row(c->x[i], c->y[i], sigma, q, 1.0, w->pi, w->pi + q->nti + 1, row);
+    } else {
+        product_ctx pc = {q, c->x[i], c->y[i], sigma, w->pi, w->pi + q->nti + 1};
+        st = qc_phase_average_run(w->pa, hypot(c->x[i], c->y[i]), sigma, k, rotated_row, &pc,
+                                  row, &w->err);
+    }
+    return st == QC_OK ? finish_row(row, k, i) : st;
+}
+
+/* Every row of the matrix d — the I/Q pair's (each row averaged over a
+ * phase error if there is one, iq_phase.c), or polar cells' (a series per
+ * row, iq_polar.c; rays as qc_iq_channel_rays says) — with *err raised to
+ * the largest error bound of a row. The rows are spread over OpenMP
+ * threads when the matrix is worth it (its entries, 48 times over where a
+ * row takes at least 48 rotations or 32 angles), each thread with its own
+ * workspace: scratch and a phase average made here, or lane t of the
+ * polar series ps (kept by the caller). A row depends on nothing but its
+ * point, so the matrix is the same to the bit on any number of threads. A
+ * failure is that of the first failing row, as one thread would report
+ * it. */
+static qc_status all_rows(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
+                          qc_polar_series *ps, double *rays, qc_dmc *d, double *err)
+{
+    const size_t n = c->size;
+    const int polar = q->kind == QC_IQ_POLAR, phased = !polar && noise->phase_sd > 0.0;
+    const size_t team = qc_parallel_team((polar || phased ? 48 : 1) * n * d->ny);
+    const row_ws proto = {.c = c, .noise = noise, .q = q, .rays = rays, .polar = polar,
+                          .phased = phased};
+    if (team <= 1) { /* in this thread, without a parallel region's cost */
+        row_ws w = proto;
+        qc_status st = row_ws_init(&w, ps, 0);
+        for (size_t i = 0; st == QC_OK && i < n; i++)
+            st = one_row(&w, i, d);
+        row_ws_free(&w);
+        *err = fmax(*err, w.err);
+        return st;
+    }
+    if (polar && qc_polar_series_lanes(ps, team) != QC_OK)
+        return QC_ENOMEM;
+    size_t failed = n;
+    qc_status failed_status = QC_OK;
+    char message[1024] = "";
+    double worst = 0.0;
+#ifdef _OPENMP
+#pragma omp parallel num_threads(team) reduction(max : worst)
+#endif
+    {
+        row_ws w = proto;
+        const qc_status ready = row_ws_init(&w, ps, qc_parallel_thread());
+#ifdef _OPENMP
+#pragma omp for schedule(dynamic)
+#endif
+        for (size_t i = 0; i < n; i++) {
+            const qc_status r = ready == QC_OK ? one_row(&w, i, d) : ready;
+            if (r != QC_OK) {
+#ifdef _OPENMP
+#pragma omp critical(qc_iq_rows_failed)
+#endif
+                if (i < failed) {
+                    failed = i;
+                    failed_status = r;
+                    snprintf(message, sizeof message, "%s", qc_last_error());
+                }
+            }
+        }
+        worst = fmax(worst, w.err);
+        row_ws_free(&w);
+    }
+    if (failed < n)
+        return qc_fail(failed_status, "%s", message);
+    *err = fmax(*err, worst);
+    return QC_OK;
+}
+
 /* ---- the matrix ------------------------------------------------------ */
 
 qc_status qc_iq_channel(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
@@ -187,12 +340,6 @@ qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
     qc_dmc *d = NULL;
     if ((st = qc_dmc_alloc(c->size, k, &d)) != QC_OK)
         return st;
-    qc_phase_average *pa = NULL;
-    if (noise->phase_sd > 0.0 && q->kind == QC_IQ_PRODUCT &&
-        (st = qc_phase_average_alloc(noise, k, &pa)) != QC_OK) {
-        qc_dmc_free(d);
-        return st;
-    }
     qc_polar_series *ps = series, *own = NULL; /* the caller's, or one for this matrix */
     if (q->kind == QC_IQ_POLAR && !ps) {
         if ((st = qc_polar_series_alloc(noise, &own)) != QC_OK) {
@@ -201,40 +348,8 @@ qc_status qc_iq_channel_rays(const qc_plane *c, const qc_iq_noise *noise,
         }
         ps = own;
     }
-    size_t nmax = q->nti + q->ntq + 2 + q->nradii + 1;
-    double *pi = qc_malloc_array(nmax, sizeof *pi), *pq = pi ? pi + q->nti + 1 : NULL;
     double err = 0.0;
-    if (!pi)
-        st = qc_fail(QC_ENOMEM, "out of memory");
-    for (size_t i = 0; st == QC_OK && i < c->size; i++) {
-        double *row = d->p + i * k;
-        if (q->kind == QC_IQ_PRODUCT && !pa) {
-            product_row(c->x[i], c->y[i], noise->sigma, q, 1.0, pi, pq, row);
-        } else if (q->kind == QC_IQ_PRODUCT) {
-            product_ctx pc = {q, c->x[i], c->y[i], noise->sigma, pi, pq};
-            memset(row, 0, k * sizeof *row);
-            st = qc_phase_average_run(pa, hypot(c->x[i], c->y[i]), noise->sigma, k,
-                                      rotated_row, &pc, row, &err);
-        } else {
-            st = qc_polar_row(ps, q, c->x[i], c->y[i], noise->sigma, row, &err,
-                              rays ? rays + i * k : NULL);
-        }
-        if (st == QC_OK) {
-            /* rounding can leave a sum 1 ± 1e-15 and tiny negatives */
-            double sum = 0.0;
-            for (size_t y = 0; y < k; y++) {
-                row[y] = fmax(row[y], 0.0);
-                sum += row[y];
-            }
-            if (fabs(sum - 1.0) > 1e3 * QC_IQ_QUAD_TOL * (double)k)
-                st = qc_fail(QC_ENUMERIC, "iq channel: the cells of point %zu sum to %.15g",
-                             i + 1, sum);
-            for (size_t y = 0; st == QC_OK && y < k; y++)
-                row[y] /= sum;
-        }
-    }
-    free(pi);
-    qc_phase_average_free(pa);
+    st = all_rows(c, noise, q, ps, rays, d, &err);
     qc_polar_series_free(own);
     if (st != QC_OK) {
         qc_dmc_free(d);

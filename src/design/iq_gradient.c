@@ -43,6 +43,7 @@
 #include <gsl/gsl_math.h>
 #include <gsl/gsl_sf_bessel.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -185,6 +186,114 @@ static size_t longest_series(const qc_plane *c, double sigma, const qc_iq_cells 
     return (size_t)ceil(SERIES_WIDTHS * sqrt(rmax * smax / (sigma * sigma))) + SERIES_EXTRA;
 }
 
+/* What the two parts of the polar gradient share: the points, cells and
+ * noise, the scores, the phase error's law, the sector-start densities
+ * under it, and the first failure. */
+typedef struct {
+    const qc_plane *c;
+    const qc_iq_cells *q;
+    double sigma;
+    const double *sc;        /* scores, sc[x·ny + cell]                      */
+    const phase_law *law;    /* NULL without a phase error                   */
+    const double *rays;      /* under a phase error: every point's densities  */
+    const double *rel, *wid; /* every point's sectors: start relative to its
+                                angle and width, [x·P + p]                   */
+    size_t longest;          /* the series the arcs may need                  */
+    size_t failed;           /* the first failing (point, radius), as x·R + j */
+    qc_status failed_status;
+    char message[1024];
+} polar_parts;
+
+/* d/d radius j for every j: Σ_x Σ_p arc_x,j[p]·(score of ring j − of ring
+ * j + 1) — mass from ring j + 1 into ring j as it grows — one radius per
+ * task, its sum over the points and sectors in the order one thread
+ * takes them. */
+static void radius_terms(polar_parts *pp, size_t team, double *g_radii)
+{
+    const qc_plane *c = pp->c;
+    const qc_iq_cells *q = pp->q;
+    const size_t nx = c->size, np = q->nphases, ny = (q->nradii + 1) * np;
+    const size_t ik_cap = (pp->law && pp->longest > SERIES_MAX ? pp->longest : SERIES_MAX) + 1;
+    (void)team; /* unused without OpenMP */
+#ifdef _OPENMP
+#pragma omp parallel num_threads(team) if (team > 1)
+#endif
+    {
+        double *ik = qc_malloc_array(ik_cap, sizeof *ik);
+        double *arc = qc_malloc_array(np, sizeof *arc);
+        gsl_integration_workspace *ws = gsl_integration_workspace_alloc(ARC_LIMIT);
+        const int ready = ik && arc && ws;
+#ifdef _OPENMP
+#pragma omp for schedule(dynamic)
+#endif
+        for (size_t j = 0; j < q->nradii; j++) {
+            double g = 0.0;
+            for (size_t x = 0; x < nx; x++) {
+                if (!(c->prob[x] > 0.0))
+                    continue;
+                const double *sx = pp->sc + x * ny;
+                qc_status st = ready ? QC_OK : qc_fail(QC_ENOMEM, "out of memory");
+                if (st == QC_OK)
+                    st = arc_row(hypot(c->x[x], c->y[x]), pp->sigma, q->radii[j],
+                                 pp->rel + x * np, pp->wid + x * np, np, pp->law, ik, ik_cap,
+                                 ws, arc);
+                if (st != QC_OK) {
+                    const size_t key = x * q->nradii + j;
+#ifdef _OPENMP
+#pragma omp critical(qc_polar_gradient_failed)
+#endif
+                    if (key < pp->failed) {
+                        pp->failed = key;
+                        pp->failed_status = st;
+                        snprintf(pp->message, sizeof pp->message, "%s", qc_last_error());
+                    }
+                    break;
+                }
+                for (size_t p = 0; p < np; p++)
+                    g += arc[p] * (sx[j * np + p] - sx[(j + 1) * np + p]);
+            }
+            g_radii[j] = g;
+        }
+        free(ik), free(arc);
+        if (ws)
+            gsl_integration_workspace_free(ws);
+    }
+}
+
+/* d/d sector start p for every p: Σ_x Σ_a ray_x,a(α_p)·(score of sector
+ * p − 1 − of sector p) — mass from sector p into sector p − 1 as it grows
+ * (under a phase error the densities in pp->rays, else each ring's closed
+ * form) — one sector start per task, its sum over the points and rings
+ * in the order one thread takes them. */
+static void sector_terms(const polar_parts *pp, size_t team, double *g_phases)
+{
+    const qc_plane *c = pp->c;
+    const qc_iq_cells *q = pp->q;
+    const size_t nx = c->size, rings = q->nradii + 1, np = q->nphases, ny = rings * np;
+    (void)team; /* unused without OpenMP */
+#ifdef _OPENMP
+#pragma omp parallel for num_threads(team) if (team > 1) schedule(dynamic)
+#endif
+    for (size_t p = 0; p < np; p++) {
+        const size_t prev = p == 0 ? np - 1 : p - 1;
+        double g = 0.0;
+        for (size_t x = 0; x < nx; x++) {
+            if (!(c->prob[x] > 0.0))
+                continue;
+            const double s = hypot(c->x[x], c->y[x]), rel = pp->rel[x * np + p];
+            const double *sx = pp->sc + x * ny;
+            for (size_t a = 0; a < rings; a++) {
+                const double r0 = a == 0 ? 0.0 : q->radii[a - 1];
+                const double r1 = a + 1 < rings ? q->radii[a] : INFINITY;
+                const double ray = pp->law ? pp->rays[x * ny + a * np + p]
+                                           : qc_polar_ray_mass(s, pp->sigma, r0, r1, rel);
+                g += ray * (sx[a * np + prev] - sx[a * np + p]);
+            }
+        }
+        g_phases[p] = g;
+    }
+}
+
 qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
                             const qc_dmc *ch, const double *rays_all, int gmi, double *g_radii,
                             double *g_phases)
@@ -195,7 +304,6 @@ qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const q
     const double sigma = noise->sigma;
     const int with_pn = noise->phase_sd > 0.0;
     const size_t longest = longest_series(c, sigma, q);
-    const size_t ik_cap = (with_pn && longest > SERIES_MAX ? longest : SERIES_MAX) + 1;
     qc_polar_series *series = NULL;
     phase_law law = {NULL, 0};
     const double *ck = NULL;
@@ -207,61 +315,50 @@ qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const q
         return st;
     }
     double *sc = scores(c, ch, gmi);
-    double *ik = qc_malloc_array(ik_cap, sizeof *ik);
-    double *buf = qc_malloc_array(3 * np + ny + (with_pn ? law.kcut : 0), sizeof *buf);
-    gsl_integration_workspace *ws = gsl_integration_workspace_alloc(ARC_LIMIT);
-    if (!sc || !ik || !buf || !ws) {
+    /* under a phase error: a copy of c_k (the series' own move as it
+     * grows) and, unless the caller kept them, every point's densities */
+    const size_t own_rays = with_pn && !rays_all && np > 1 ? nx * ny : 0;
+    const size_t nck = with_pn ? law.kcut : 0;
+    double *buf = qc_malloc_array(nck + own_rays + 2 * nx * np, sizeof *buf);
+    if (!sc || !buf) {
         st = qc_fail(QC_ENOMEM, "out of memory");
         goto done;
     }
-    if (with_pn) { /* a copy: the series' own c_k move as it grows */
-        memcpy(buf + 3 * np + ny, ck, law.kcut * sizeof *ck);
-        law.ck = buf + 3 * np + ny;
+    if (with_pn) {
+        memcpy(buf, ck, law.kcut * sizeof *ck);
+        law.ck = buf;
     }
-    double *rel = buf, *wid = buf + np, *arc = buf + 2 * np, *rays = buf + 3 * np;
-    for (size_t j = 0; j < q->nradii; j++)
-        g_radii[j] = 0.0;
-    for (size_t p = 0; p < np; p++)
-        g_phases[p] = 0.0;
+    double *rays = own_rays ? buf + nck : NULL;
+    double *rel = buf + nck + own_rays, *wid = rel + nx * np;
     for (size_t x = 0; x < nx; x++) {
-        if (!(c->prob[x] > 0.0))
-            continue;
-        const double s = hypot(c->x[x], c->y[x]), theta = atan2(c->y[x], c->x[x]);
-        const double *sx = sc + x * ny;
+        const double theta = atan2(c->y[x], c->x[x]);
         for (size_t p = 0; p < np; p++)
-            qc_polar_sector(q, p, theta, &rel[p], &wid[p]);
-        /* radius j: mass from ring j + 1 into ring j as it grows */
-        for (size_t j = 0; j < q->nradii; j++) {
-            if ((st = arc_row(s, sigma, q->radii[j], rel, wid, np, with_pn ? &law : NULL, ik,
-                              ik_cap, ws, arc)) != QC_OK)
-                goto done;
-            for (size_t p = 0; p < np; p++)
-                g_radii[j] += arc[p] * (sx[j * np + p] - sx[(j + 1) * np + p]);
-        }
-        if (np < 2)
-            continue;
-        /* sector start p: mass from sector p into sector p − 1 as it grows
-         * (under a phase error the densities the matrix's series left in
-         * rays_all, or without them computed here) */
-        const double *rx = rays_all ? rays_all + x * ny : rays;
-        if (with_pn && !rays_all &&
-            (st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays)) != QC_OK)
-            goto done;
-        for (size_t a = 0; a < rings; a++) {
-            const double r0 = a == 0 ? 0.0 : q->radii[a - 1];
-            const double r1 = a + 1 < rings ? q->radii[a] : INFINITY;
-            for (size_t p = 0; p < np; p++) {
-                const double ray =
-                    with_pn ? rx[a * np + p] : qc_polar_ray_mass(s, sigma, r0, r1, rel[p]);
-                const size_t prev = p == 0 ? np - 1 : p - 1;
-                g_phases[p] += ray * (sx[a * np + prev] - sx[a * np + p]);
-            }
-        }
+            qc_polar_sector(q, p, theta, &rel[x * np + p], &wid[x * np + p]);
     }
+    for (size_t x = 0; rays && x < nx && st == QC_OK; x++)
+        if (c->prob[x] > 0.0)
+            st = qc_polar_rays(series, q, c->x[x], c->y[x], sigma, rays + x * ny);
+    if (st != QC_OK)
+        goto done;
+    /* the radii's and the sector starts' sums in OpenMP threads when the
+     * work is worth it, each sum whole in one thread: the same bits on any
+     * number of threads */
+    const size_t team = qc_parallel_team(48 * nx * ny);
+    polar_parts pp = {.c = c, .q = q, .sigma = sigma, .sc = sc, .law = with_pn ? &law : NULL,
+                      .rays = rays_all ? rays_all : rays, .rel = rel, .wid = wid,
+                      .longest = longest,
+                      .failed = nx * q->nradii};
+    radius_terms(&pp, team, g_radii);
+    if (pp.failed < nx * q->nradii) {
+        st = qc_fail(pp.failed_status, "%s", pp.message);
+        goto done;
+    }
+    if (np < 2)
+        g_phases[0] = 0.0;
+    else
+        sector_terms(&pp, team, g_phases);
 done:
-    free(sc), free(ik), free(buf);
-    if (ws)
-        gsl_integration_workspace_free(ws);
+    free(sc), free(buf);
     qc_polar_series_free(series);
     return st;
 }
@@ -310,6 +407,95 @@ static void rotated_gradient(double phi, double weight, void *vctx, double *out)
     product_point_gradient(pt, pt->x * cs - pt->y * sn, pt->x * sn + pt->y * cs, weight, out);
 }
 
+/* Point x's weighted threshold derivatives into sum (nt values): averaged
+ * over the phase error with avg, or (avg NULL) at the point itself; pa
+ * room for both axes' cell probabilities. */
+static qc_status point_sums(const qc_plane *c, const qc_iq_noise *noise, const qc_iq_cells *q,
+                            const double *sc, qc_phase_average *avg, double *pa, size_t x,
+                            double *sum, double *err)
+{
+    const size_t ki = q->nti + 1, ny = ki * (q->ntq + 1), nt = q->nti + q->ntq;
+    memset(sum, 0, nt * sizeof *sum);
+    if (!(c->prob[x] > 0.0))
+        return QC_OK;
+    product_point pt = {q, c->x[x], c->y[x], noise->sigma, sc + x * ny, pa, pa + ki};
+    if (!avg) {
+        product_point_gradient(&pt, pt.x, pt.y, 1.0, sum);
+        return QC_OK;
+    }
+    return qc_phase_average_run(avg, hypot(c->x[x], c->y[x]), noise->sigma, nt,
+                                rotated_gradient, &pt, sum, err);
+}
+
+/* One thread's workspace for point_sums: a phase average for nt values
+ * under a phase error (else *avg NULL) and room for na probabilities. */
+static qc_status sums_ws(const qc_iq_noise *noise, size_t nt, size_t na, qc_phase_average **avg,
+                         double **pa)
+{
+    qc_status st = noise->phase_sd > 0.0 ? qc_phase_average_alloc(noise, nt, avg) : QC_OK;
+    if (st == QC_OK && !(*pa = qc_malloc_array(na, sizeof **pa)))
+        st = qc_fail(QC_ENOMEM, "out of memory");
+    return st;
+}
+
+/* Every point's weighted threshold derivatives into sums[x·nt ...] (zeros
+ * for a point never sent), each averaged over the phase error if there is
+ * one. The points are spread over OpenMP threads when the work is worth
+ * it (the matrix's entries, 48 times over under a phase error: at least
+ * 48 rotations a point), each thread with its own workspace; a point's
+ * sums depend on nothing but the point, and the caller adds them in point
+ * order, so the gradient is the same to the bit on any number of threads.
+ * A failure is that of the first failing point. */
+static qc_status all_point_sums(const qc_plane *c, const qc_iq_noise *noise,
+                                const qc_iq_cells *q, const double *sc, double *sums)
+{
+    const size_t nx = c->size, ki = q->nti + 1, kq = q->ntq + 1;
+    const size_t nt = q->nti + q->ntq;
+    const int phased = noise->phase_sd > 0.0;
+    const size_t team = qc_parallel_team((phased ? 48 : 1) * nx * ki * kq);
+    if (team <= 1) { /* in this thread, without a parallel region's cost */
+        qc_phase_average *avg = NULL;
+        double *pa = NULL, err = 0.0;
+        qc_status st = sums_ws(noise, nt, ki + kq, &avg, &pa);
+        for (size_t x = 0; st == QC_OK && x < nx; x++)
+            st = point_sums(c, noise, q, sc, avg, pa, x, sums + x * nt, &err);
+        free(pa);
+        qc_phase_average_free(avg);
+        return st;
+    }
+    size_t failed = nx;
+    qc_status failed_status = QC_OK;
+    char message[1024] = "";
+#ifdef _OPENMP
+#pragma omp parallel num_threads(team)
+#endif
+    {
+        qc_phase_average *avg = NULL;
+        double *pa = NULL, err = 0.0;
+        const qc_status st = sums_ws(noise, nt, ki + kq, &avg, &pa);
+#ifdef _OPENMP
+#pragma omp for schedule(dynamic)
+#endif
+        for (size_t x = 0; x < nx; x++) {
+            const qc_status r =
+                st == QC_OK ? point_sums(c, noise, q, sc, avg, pa, x, sums + x * nt, &err) : st;
+            if (r != QC_OK) {
+#ifdef _OPENMP
+#pragma omp critical(qc_iq_point_sums_failed)
+#endif
+                if (x < failed) {
+                    failed = x;
+                    failed_status = r;
+                    snprintf(message, sizeof message, "%s", qc_last_error());
+                }
+            }
+        }
+        free(pa);
+        qc_phase_average_free(avg);
+    }
+    return failed < nx ? qc_fail(failed_status, "%s", message) : QC_OK;
+}
+
 qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,
                               const qc_iq_cells *q, const qc_dmc *ch, int gmi, double *g_i,
                               double *g_q)
@@ -318,40 +504,26 @@ qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,
     const size_t nt = q->nti + q->ntq;
     if (ch->nx != nx || ch->ny != ny || (gmi && !c->labels))
         return qc_fail(QC_EINVAL, "iq design: the gradient's matrix does not match");
-    qc_phase_average *avg = NULL;
-    qc_status st = noise->phase_sd > 0.0 ? qc_phase_average_alloc(noise, nt, &avg) : QC_OK;
-    if (st != QC_OK)
-        return st;
     double *sc = scores(c, ch, gmi);
-    double *pa = qc_malloc_array(ki + kq + nt, sizeof *pa);
-    if (!sc || !pa) {
-        free(sc), free(pa);
-        qc_phase_average_free(avg);
+    double *sums = qc_malloc_array(nx * nt, sizeof *sums);
+    if (!sc || !sums) {
+        free(sc), free(sums);
         return qc_fail(QC_ENOMEM, "out of memory");
     }
-    double *pb = pa + ki, *sum = pb + kq;
     for (size_t m = 0; m < q->nti; m++)
         g_i[m] = 0.0;
     for (size_t m = 0; m < q->ntq; m++)
         g_q[m] = 0.0;
-    double err = 0.0;
+    qc_status st = all_point_sums(c, noise, q, sc, sums);
     for (size_t x = 0; x < nx && st == QC_OK; x++) {
         if (!(c->prob[x] > 0.0))
             continue;
-        product_point pt = {q, c->x[x], c->y[x], noise->sigma, sc + x * ny, pa, pb};
-        if (avg) {
-            memset(sum, 0, nt * sizeof *sum);
-            st = qc_phase_average_run(avg, hypot(c->x[x], c->y[x]), noise->sigma, nt,
-                                      rotated_gradient, &pt, sum, &err);
-        } else {
-            product_point_gradient(&pt, pt.x, pt.y, 1.0, sum);
-        }
-        for (size_t m = 0; st == QC_OK && m < q->nti; m++)
+        const double *sum = sums + x * nt;
+        for (size_t m = 0; m < q->nti; m++)
             g_i[m] += sum[m];
-        for (size_t m = 0; st == QC_OK && m < q->ntq; m++)
+        for (size_t m = 0; m < q->ntq; m++)
             g_q[m] += sum[q->nti + m];
     }
-    free(sc), free(pa);
-    qc_phase_average_free(avg);
+    free(sc), free(sums);
     return st;
 }

@@ -77,6 +77,7 @@
 #define ANGLES_PER_WIDTH 2.5 /* first N: angles per width σ/s of G           */
 #define VM_CUT_SQRT 10.0     /* Tikhonov: c_k kept for k < 10√κ + 30, where   */
 #define VM_CUT_ADD 30.0      /* I_k/I_0 < e^{−50} (the rest taken as 0)       */
+#define CK_MAX (((size_t)1 << (MAX_LOG2 - 1)) + 1) /* the most c_k a series uses */
 #define CK_NEGLIGIBLE 1e-30  /* c_k below: the series stops (γ_k ≤ 1/2π)      */
 #define RESEED_STEPS 64      /* sin(k·a) recomputed directly every 64 steps   */
 #define DIRECT_FROM_LOG2 10  /* no phase error: a point whose series would
@@ -106,12 +107,14 @@ struct qc_polar_series {
     size_t cap;                  /* N the buffers hold                        */
     size_t sectors;              /* sectors the buffers hold                  */
     gsl_integration_workspace *quad; /* direct quadrature (made when needed)  */
+    qc_polar_series *next;       /* the next thread's workspace, if any        */
 };
 
 void qc_polar_series_free(qc_polar_series *w)
 {
     if (!w)
         return;
+    qc_polar_series_free(w->next);
     for (size_t l = 0; l <= MAX_LOG2; l++)
         qc_conv_free(w->fft[l]);
     free(w->ck);
@@ -138,22 +141,47 @@ qc_status qc_polar_series_alloc(const qc_iq_noise *noise, qc_polar_series **out)
     return QC_OK;
 }
 
-/* c_k for k < n (the phase error's characteristic function), and kcut. */
-static qc_status phase_coefficients(qc_polar_series *w, size_t n)
+qc_status qc_polar_series_lanes(qc_polar_series *w, size_t n)
+{
+    for (size_t i = 1; i < n; i++, w = w->next)
+        if (!w->next && qc_polar_series_alloc(w->noise, &w->next) != QC_OK)
+            return QC_ENOMEM;
+    return QC_OK;
+}
+
+qc_polar_series *qc_polar_series_lane(qc_polar_series *w, size_t i)
+{
+    for (; i > 0; i--)
+        w = w->next;
+    return w;
+}
+
+/* c_k for k < n (the phase error's characteristic function), and kcut.
+ * The Tikhonov law's come from a downward recurrence (GSL) started at the
+ * cut, or with `whole` 0 at n if that is below it. A series for rows
+ * takes them whole, once for all k below the cut, so that a row does not
+ * depend on how far its workspace had grown on the rows before (nor on
+ * which thread's workspace it is); the gradient's law (qc_polar_phase_law,
+ * one call in one thread) need not pay for that where the cut is far
+ * beyond the n it uses (a small error: κ = 1/sd²). */
+static qc_status phase_coefficients(qc_polar_series *w, size_t n, int whole)
 {
     if (n <= w->nck)
         return QC_OK;
+    const double s = w->noise->phase_sd;
+    const int tikhonov = s > 0.0 && w->noise->phase_law == QC_PHASE_TIKHONOV;
+    const double kappa = tikhonov ? 1.0 / (s * s) : 0.0;
+    const double cut = ceil(VM_CUT_SQRT * sqrt(kappa) + VM_CUT_ADD);
+    const size_t m = !whole && cut > (double)n ? n : cut < (double)CK_MAX ? (size_t)cut : CK_MAX;
+    if (tikhonov && n < m)
+        n = m;
     double *ck = realloc(w->ck, n * sizeof *ck);
     if (!ck)
         return qc_fail(QC_ENOMEM, "out of memory");
     w->ck = ck;
-    const double s = w->noise->phase_sd;
     for (size_t k = 0; k < n; k++)
         ck[k] = s > 0.0 ? 0.0 : 1.0;
-    if (s > 0.0 && w->noise->phase_law == QC_PHASE_TIKHONOV) {
-        const double kappa = 1.0 / (s * s);
-        double cut = ceil(VM_CUT_SQRT * sqrt(kappa) + VM_CUT_ADD);
-        size_t m = cut < (double)n ? (size_t)cut : n;
+    if (tikhonov) {
         double *in = qc_malloc_array(m, sizeof *in);
         if (!in)
             return qc_fail(QC_ENOMEM, "out of memory");
@@ -262,7 +290,7 @@ static qc_status coefficients(qc_polar_series *w, size_t rings, size_t N, int lo
     qc_status st;
     if (!w->fft[log2n] && (st = qc_conv_alloc(N, &w->fft[log2n])) != QC_OK)
         return st;
-    if ((st = phase_coefficients(w, half)) != QC_OK)
+    if ((st = phase_coefficients(w, half, 1)) != QC_OK)
         return st;
     for (size_t a = 0; a < rings; a++) {
         const double *g = w->g + a * half;
@@ -610,7 +638,7 @@ qc_status qc_polar_rays(qc_polar_series *w, const qc_iq_cells *q, double x, doub
 
 qc_status qc_polar_phase_law(qc_polar_series *w, size_t n, const double **ck, size_t *kcut)
 {
-    qc_status st = phase_coefficients(w, n);
+    qc_status st = phase_coefficients(w, n, 0);
     if (st != QC_OK)
         return st;
     *ck = w->ck;
