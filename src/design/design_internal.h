@@ -258,6 +258,16 @@ qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,
                               const qc_iq_cells *q, const qc_dmc *ch, int gmi, double *g_i,
                               double *g_q);
 
+/* iq_mirror.c: the I/Q pair's thresholds ti (nti) and tq (ntq) set exactly
+ * symmetric about the centre of each axis across which the constellation
+ * c is its own mirror image (points and law; for the GMI, gmi 1, labels
+ * up to one fixed bit flip), where they mirror one another to within
+ * 1e-9 of their smallest gap; shared thresholds (tq a copy of ti) only
+ * where both axes mirror about the same centre. Returns how many axes
+ * moved (0 to 2). */
+int qc_iq_snap_mirror(const qc_plane *c, int gmi, int shared, double *ti, size_t nti,
+                      double *tq, size_t ntq);
+
 /* iq_entry.c: a request with channel.iq (a 2-D constellation through the
  * I/Q pair or the polar quantizer). */
 qc_status qc_iq_request_design(const qc_design_request *req, qc_design_result *res);

@@ -43,6 +43,7 @@
 #define STALL_GAIN_BITS 1e-10 /* … than this                             */
 #define KICKS 4           /* gradient search: restarts from moved cells   */
 #define KICK_SIZE 0.2     /* … moved by up to this share of their widths  */
+#define MIRROR_SLACK_BITS 1e-12 /* symmetric thresholds: kept unless this lower */
 #define PER_AXIS_SLACK_BITS 1e-12 /* per axis: kept unless below the uniform
                                      cells by more than the rounding of the
                                      2-D sums                             */
@@ -738,6 +739,37 @@ oom:
     return qc_fail(QC_ENOMEM, "out of memory");
 }
 
+/* The searched I/Q pair's thresholds made exactly symmetric where the
+ * constellation mirrors across an axis and they mirror to the search's
+ * rounding (iq_mirror.c), and rated again: the objective reported is that
+ * of the thresholds reported. Kept unless the rate falls by more than
+ * rounding (it moves by the square of a shift of 1e-9 of a gap at most);
+ * then the search's own thresholds stay. */
+static qc_status mirror_snap(design_ctx *d)
+{
+    const qc_iq_design_request *q = d->req;
+    qc_iq_design_result *res = d->res;
+    const size_t ni = q->cells_i - 1, nq = q->cells_q - 1;
+    double keep[2 * QC_IQ_MAX_CELLS];
+    memcpy(keep, res->ti, ni * sizeof *keep);
+    memcpy(keep + ni, res->tq, nq * sizeof *keep);
+    if (qc_iq_snap_mirror(d->c, q->objective == QC_OBJECTIVE_GMI, !q->separate, res->ti, ni,
+                          res->tq, nq) == 0)
+        return QC_OK;
+    qc_status st;
+    const double f = rate_of(d, &res->cells, NULL, &st);
+    if (st != QC_OK)
+        return st;
+    res->evaluations++;
+    if (f >= res->objective_bits - MIRROR_SLACK_BITS) {
+        res->objective_bits = f;
+        return QC_OK;
+    }
+    memcpy(res->ti, keep, ni * sizeof *keep);
+    memcpy(res->tq, keep + ni, nq * sizeof *keep);
+    return QC_OK;
+}
+
 static qc_status run_with(const qc_plane *c, const qc_iq_noise *noise,
                           const qc_iq_design_request *q, qc_iq_design_result *res, int search,
                           const qc_iq_axis_planes *axes, qc_polar_series *series)
@@ -828,7 +860,7 @@ static qc_status run_with(const qc_plane *c, const qc_iq_noise *noise,
     (void)direct_unpack(&d, best_z); /* evaluated, so valid */
     res->objective_bits = d.best;
     res->evaluations = d.evals + 1;
-    return QC_OK;
+    return q->kind == QC_IQ_PRODUCT ? mirror_snap(&d) : QC_OK;
 }
 
 /* run_with, with one workspace for the polar cells' series over the whole

@@ -659,5 +659,24 @@ check(p.returncode == 0 and "also from the axis-by-axis design, 5.42549" in p.st
       f"design's text names the second start ({p.returncode}: "
       f"{[ln for ln in p.stdout.splitlines() if ln.startswith('receiver')]})")
 
+# A searched pair on a constellation that mirrors across both axes ends
+# with thresholds that mirror to the search's rounding; they are reported
+# exactly symmetric, the middle one 0 (it was 7.9e-13), at the same rate to
+# rounding (the former 5.4254915687564065 bit). An asymmetric local optimum
+# (16-QAM for the GMI with 3 degrees, 8 x 8 cells) keeps its thresholds.
+rx = iq("--alphabet", "qam:64", "--snr-db", "18", "--bits", "5", "--objective", "gmi")
+rx = rx["receivers"][0]
+for axis in ("thresholds", "thresholds_q"):
+    t = rx.get(axis, [])
+    check(len(t) == 31 and t[15] == 0.0 and all(t[k] == -t[30 - k] for k in range(31)),
+          f"64-QAM GMI design: {axis} exactly symmetric (middle {t[15] if t else None})")
+check(abs(rx.get("gmi_bits", 0.0) - 5.4254915687564065) < 1e-14,
+      f"64-QAM GMI design: the rate of the symmetric thresholds ({rx.get('gmi_bits')})")
+rx = iq("--alphabet", "qam:16", "--snr-db", "16", "--bits", "3", "--phase-noise-deg", "3",
+        "--objective", "gmi")["receivers"][0]
+t = rx.get("thresholds", [])
+check(len(t) == 7 and abs(t[0] - -2.14974) < 1e-5 and abs(t[3] - 0.153446) < 1e-5,
+      f"16-QAM GMI design with 3 deg: its asymmetric thresholds kept ({t})")
+
 print(f"iq-cli: {tally.count} checks, {len(tally.failures)} failed")
 sys.exit(1 if tally.failures else 0)
