@@ -345,6 +345,7 @@ int cmd_require(int argc, char **argv)
                             margin_note[0] ? json_string(margin_note) : json_null());
         json_object_set_new(o, "increasing", json_boolean(res.increasing));
         json_object_set_new(o, "designs", json_integer((json_int_t)res.designs));
+        json_object_set_new(o, "root_tolerance_db", cli_json_real(res.root_tolerance_db));
         json_object_set_new(o, "design", design ? design : json_null());
         design = NULL;
         rc = cli_json_print(&sink, o);
@@ -439,8 +440,10 @@ int cmd_require(int argc, char **argv)
                 fputc('\n', f);
             }
         }
-        fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations)\n",
-                res.designs);
+        fprintf(f, "designs      %zu evaluated (monotonicity samples and Brent iterations; "
+                   "roots to %.0e dB%s)\n",
+                res.designs, res.root_tolerance_db,
+                res.root_tolerance_db > 1e-6 ? ", as the figures are simulated" : "");
     }
 done:
     json_decref(design);

@@ -662,8 +662,8 @@ typedef struct {
     double required;             /* value meeting the target with the
                                     request's quantizer: the end of the
                                     root's final bracket on the side that
-                                    meets it (within the root tolerance,
-                                    10⁻⁶ dB, of the crossing)              */
+                                    meets it (within root_tolerance_db of
+                                    the crossing)                          */
     double unquantized_required; /* the same without the quantizer; NaN when
                                     the unquantized receiver meets the
                                     target over the whole range            */
@@ -675,6 +675,10 @@ typedef struct {
                                     figure is best in the range, and that   */
     double best_figure;          /* figure (NaN otherwise)                  */
     size_t designs;              /* designs run                             */
+    double root_tolerance_db;    /* the roots' final bracket width: 10⁻⁶ dB,
+                                    10⁻⁴ dB where the figure is simulated
+                                    (a channel with memory), in dB (10·log10
+                                    of the ratio for a linear quantity)    */
     const char *unquantized_note; /* why unquantized_required is NaN when it
                                     has no unquantized reference at all (a
                                     static phrase); NULL otherwise          */

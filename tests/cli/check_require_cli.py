@@ -396,6 +396,13 @@ for target, key, value in [("fec=kp4", "bcjr_pre_fec_ber", 2.4e-4),
     check(r["unquantized_required"] < r["required"] and r["penalty_db"] > 0,
           f"memory {target}: the ADC costs SNR ({r['penalty_db']} dB)")
     check(ci > 0, f"memory {target}: the figure has its interval")
+    # simulated figures: the roots to 1e-4 dB, far inside their intervals
+    check(r.get("root_tolerance_db") == 1e-4,
+          f"memory {target}: roots to 1e-4 dB ({r.get('root_tolerance_db')})")
+r = as_json("require", "--model", "gauss", "--alphabet", "pam:4", "--bits", "4",
+            "--target", "fec=kp4", "--solve-for", "snr-db", "--range", "10,30")
+check(r.get("root_tolerance_db") == 1e-6,
+      f"memoryless require: roots to 1e-6 dB ({r.get('root_tolerance_db')})")
 rc, out, err = run("require", *MEM, "--target", "ngmi=0.95", "--solve-for", "snr-db",
                    "--range", "10,20")
 check(rc == 0 and "BCJR pre-FEC BER" in out and "NGMI" in out and
