@@ -178,17 +178,6 @@ static qc_status finish_row(double *row, size_t k, size_t i)
     return QC_OK;
 }
 
-/* Every row of the matrix d — the I/Q pair's (each row averaged over a
- * phase error if there is one, iq_phase.c), or polar cells' (a series per
- * row, iq_polar.c; rays as qc_iq_channel_rays says) — with *err raised to
- * the largest error bound of a row. The rows are spread over OpenMP
- * threads when the matrix is worth it (its entries, 48 times over where a
- * row takes at least 48 rotations or 32 angles), each thread with its own
- * workspace: scratch and a phase average made here, or lane t of the
- * polar series ps (kept by the caller). A row depends on nothing but its
- * point, so the matrix is the same to the bit on any number of threads. A
- * failure is that of the first failing row, as one thread would report
- * it. */
 /* What one thread needs to compute rows: the receiver, its scratch, and a
  * phase average or a lane of the polar series. */
 typedef struct {

@@ -860,7 +860,11 @@ static qc_status run_with(const qc_plane *c, const qc_iq_noise *noise,
     (void)direct_unpack(&d, best_z); /* evaluated, so valid */
     res->objective_bits = d.best;
     res->evaluations = d.evals + 1;
-    return q->kind == QC_IQ_PRODUCT ? mirror_snap(&d) : QC_OK;
+    if (q->kind == QC_IQ_PRODUCT && (st = mirror_snap(&d)) != QC_OK) {
+        qc_iq_design_result_free(res);
+        return st;
+    }
+    return QC_OK;
 }
 
 /* run_with, with one workspace for the polar cells' series over the whole

@@ -57,8 +57,9 @@ qc_status qc_iq_rates_compute(const qc_plane *c, const qc_dmc *ch, int want_capa
     return QC_OK;
 }
 
-/* −Σ_y p(y|x_i) log2 p(y) for point i, integrated by the product
- * Gauss–Hermite rule of n × n nodes u, weights wt, in units of π. */
+/* Point i's share of −I times π: E[log2 Σ_j p_j f(y|x_j)/f(y|x_i)] over
+ * y given x_i, by the product Gauss–Hermite rule of n × n nodes u and
+ * weights wt (whose product sums to π). */
 static double gh_point(const qc_plane *c, double sigma, size_t n, const double *u,
                        const double *wt, size_t i)
 {
