@@ -18,6 +18,8 @@
 #include <math.h>
 #include <stdlib.h>
 
+#define EXP_ZERO (-746.0) /* exp(x) is exactly 0 in double below about −745.13 */
+
 #define GH_FIRST 24       /* nodes per axis of the first rule                 */
 #define GH_MAX 384        /* most nodes per axis                              */
 #define GH_SETTLED 1e-9   /* stop doubling when the MI changes less (bits)    */
@@ -73,7 +75,9 @@ static double gh_point(const qc_plane *c, double sigma, size_t n, const double *
             double w = wt[a] * wt[b];
             if (w == 0.0)
                 continue;
-            /* log Σ_j p_j exp(e_j), shifted by the largest e_j */
+            /* log Σ_j p_j exp(e_j), shifted by the largest e_j; a term
+             * whose exponent is below EXP_ZERO adds exactly 0 (exp
+             * underflows), so it is not computed */
             double top = 0.0, sum = 0.0;
             for (size_t j = 0; j < c->size; j++) {
                 double dx = yx - c->x[j], dy = yy - c->y[j];
@@ -82,7 +86,9 @@ static double gh_point(const qc_plane *c, double sigma, size_t n, const double *
             }
             for (size_t j = 0; j < c->size; j++) {
                 double dx = yx - c->x[j], dy = yy - c->y[j];
-                sum += c->prob[j] * exp(-(dx * dx + dy * dy - di) / s2 - top);
+                const double e = -(dx * dx + dy * dy - di) / s2 - top;
+                if (e >= EXP_ZERO)
+                    sum += c->prob[j] * exp(e);
             }
             acc += w * (log2(sum) + top / M_LN2);
         }
