@@ -88,6 +88,23 @@ size_t qc_parallel_team(size_t entries);
  * any parallel region, or without OpenMP). */
 size_t qc_parallel_thread(void);
 
+/* The first failure of a parallel loop, by index: what one thread running
+ * the loop in order would have reported. The detail message is per
+ * thread, so it is kept here when noted. */
+typedef struct {
+    size_t index;      /* the failing index; `none` (as given) while none */
+    size_t none;
+    qc_status status;
+    char message[1024];
+} qc_parallel_failure;
+void qc_parallel_failure_init(qc_parallel_failure *f, size_t none);
+/* Notes that index failed with st (and this thread's detail message) if
+ * it comes before any failure noted so far; callable from any thread. */
+void qc_parallel_failure_note(qc_parallel_failure *f, size_t index, qc_status st);
+/* QC_OK when nothing failed, else the first failure, its message set in
+ * the calling thread. */
+qc_status qc_parallel_failure_status(const qc_parallel_failure *f);
+
 /* One row of a parallel loop: row i with `scratch` of the length asked
  * for; 0 on success. */
 typedef int (*qc_row_fn)(size_t i, double *scratch, void *ctx);

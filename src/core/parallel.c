@@ -52,6 +52,28 @@ size_t qc_parallel_thread(void)
 #endif
 }
 
+void qc_parallel_failure_init(qc_parallel_failure *f, size_t none)
+{
+    f->index = f->none = none;
+    f->status = QC_OK;
+    f->message[0] = '\0';
+}
+
+void qc_parallel_failure_note(qc_parallel_failure *f, size_t index, qc_status st)
+{
+#pragma omp critical(qc_parallel_failure_note)
+    if (index < f->index) {
+        f->index = index;
+        f->status = st;
+        snprintf(f->message, sizeof f->message, "%s", qc_last_error());
+    }
+}
+
+qc_status qc_parallel_failure_status(const qc_parallel_failure *f)
+{
+    return f->index < f->none ? qc_fail(f->status, "%s", f->message) : QC_OK;
+}
+
 qc_status qc_parallel_rows(size_t n, size_t scratch_len, qc_row_fn row, void *ctx,
                            size_t *first_failed)
 {

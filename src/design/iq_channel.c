@@ -17,7 +17,6 @@
 
 #include <gsl/gsl_math.h>
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -265,9 +264,8 @@ static qc_status all_rows(const qc_plane *c, const qc_iq_noise *noise, const qc_
     }
     if (polar && qc_polar_series_lanes(ps, team) != QC_OK)
         return QC_ENOMEM;
-    size_t failed = n;
-    qc_status failed_status = QC_OK;
-    char message[1024] = "";
+    qc_parallel_failure failed;
+    qc_parallel_failure_init(&failed, n);
     double worst = 0.0;
 #ifdef _OPENMP
 #pragma omp parallel num_threads(team) reduction(max : worst)
@@ -280,24 +278,16 @@ static qc_status all_rows(const qc_plane *c, const qc_iq_noise *noise, const qc_
 #endif
         for (size_t i = 0; i < n; i++) {
             const qc_status r = ready == QC_OK ? one_row(&w, i, d) : ready;
-            if (r != QC_OK) {
-#ifdef _OPENMP
-#pragma omp critical(qc_iq_rows_failed)
-#endif
-                if (i < failed) {
-                    failed = i;
-                    failed_status = r;
-                    snprintf(message, sizeof message, "%s", qc_last_error());
-                }
-            }
+            if (r != QC_OK)
+                qc_parallel_failure_note(&failed, i, r);
         }
         worst = fmax(worst, w.err);
         row_ws_free(&w);
     }
-    if (failed < n)
-        return qc_fail(failed_status, "%s", message);
-    *err = fmax(*err, worst);
-    return QC_OK;
+    const qc_status st = qc_parallel_failure_status(&failed);
+    if (st == QC_OK)
+        *err = fmax(*err, worst);
+    return st;
 }
 
 /* ---- the matrix ------------------------------------------------------ */

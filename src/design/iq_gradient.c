@@ -43,7 +43,6 @@
 #include <gsl/gsl_math.h>
 #include <gsl/gsl_sf_bessel.h>
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -199,9 +198,7 @@ typedef struct {
     const double *rel, *wid; /* every point's sectors: start relative to its
                                 angle and width, [x·P + p]                   */
     size_t longest;          /* the series the arcs may need                  */
-    size_t failed;           /* the first failing (point, radius), as x·R + j */
-    qc_status failed_status;
-    char message[1024];
+    qc_parallel_failure failed; /* the first failing (point, radius), x·R + j */
 } polar_parts;
 
 /* d/d radius j for every j: Σ_x Σ_p arc_x,j[p]·(score of ring j − of ring
@@ -238,15 +235,7 @@ static void radius_terms(polar_parts *pp, size_t team, double *g_radii)
                                  pp->rel + x * np, pp->wid + x * np, np, pp->law, ik, ik_cap,
                                  ws, arc);
                 if (st != QC_OK) {
-                    const size_t key = x * q->nradii + j;
-#ifdef _OPENMP
-#pragma omp critical(qc_polar_gradient_failed)
-#endif
-                    if (key < pp->failed) {
-                        pp->failed = key;
-                        pp->failed_status = st;
-                        snprintf(pp->message, sizeof pp->message, "%s", qc_last_error());
-                    }
+                    qc_parallel_failure_note(&pp->failed, x * q->nradii + j, st);
                     break;
                 }
                 for (size_t p = 0; p < np; p++)
@@ -346,13 +335,11 @@ qc_status qc_polar_gradient(const qc_plane *c, const qc_iq_noise *noise, const q
     const size_t team = qc_parallel_team(48 * nx * ny);
     polar_parts pp = {.c = c, .q = q, .sigma = sigma, .sc = sc, .law = with_pn ? &law : NULL,
                       .rays = rays_all ? rays_all : rays, .rel = rel, .wid = wid,
-                      .longest = longest,
-                      .failed = nx * q->nradii};
+                      .longest = longest};
+    qc_parallel_failure_init(&pp.failed, nx * q->nradii);
     radius_terms(&pp, team, g_radii);
-    if (pp.failed < nx * q->nradii) {
-        st = qc_fail(pp.failed_status, "%s", pp.message);
+    if ((st = qc_parallel_failure_status(&pp.failed)) != QC_OK)
         goto done;
-    }
     if (np < 2)
         g_phases[0] = 0.0;
     else
@@ -463,9 +450,8 @@ static qc_status all_point_sums(const qc_plane *c, const qc_iq_noise *noise,
         qc_phase_average_free(avg);
         return st;
     }
-    size_t failed = nx;
-    qc_status failed_status = QC_OK;
-    char message[1024] = "";
+    qc_parallel_failure failed;
+    qc_parallel_failure_init(&failed, nx);
 #ifdef _OPENMP
 #pragma omp parallel num_threads(team)
 #endif
@@ -479,21 +465,13 @@ static qc_status all_point_sums(const qc_plane *c, const qc_iq_noise *noise,
         for (size_t x = 0; x < nx; x++) {
             const qc_status r =
                 st == QC_OK ? point_sums(c, noise, q, sc, avg, pa, x, sums + x * nt, &err) : st;
-            if (r != QC_OK) {
-#ifdef _OPENMP
-#pragma omp critical(qc_iq_point_sums_failed)
-#endif
-                if (x < failed) {
-                    failed = x;
-                    failed_status = r;
-                    snprintf(message, sizeof message, "%s", qc_last_error());
-                }
-            }
+            if (r != QC_OK)
+                qc_parallel_failure_note(&failed, x, r);
         }
         free(pa);
         qc_phase_average_free(avg);
     }
-    return failed < nx ? qc_fail(failed_status, "%s", message) : QC_OK;
+    return qc_parallel_failure_status(&failed);
 }
 
 qc_status qc_product_gradient(const qc_plane *c, const qc_iq_noise *noise,

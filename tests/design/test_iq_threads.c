@@ -24,12 +24,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#ifdef _OPENMP
-#include <omp.h>
-#endif
-
 #include "design/design_internal.h"
 #include "quantcap.h"
+#include "thread_helpers.h"
 
 #ifndef M_PI
 #define M_PI 3.14159265358979323846
@@ -37,17 +34,6 @@
 
 #define MAX_THRESHOLDS 31 /* per axis: up to 32 × 32 cells */
 
-static const int thread_counts[] = {1, 2, 3};
-
-static void set_threads(int n)
-{
-#ifdef _OPENMP
-    omp_set_num_threads(n);
-    assert_int_equal(qc_parallel_worth((size_t)1 << 30), n > 1);
-#else
-    (void)n;
-#endif
-}
 
 /* The matrix and both gradients (MI, GMI) of spec through the I/Q pair at
  * snr_db under a phase error of pn_deg rms, on 1, 2 and 3 threads: the
@@ -70,10 +56,7 @@ static void check_threads(const char *spec, double snr_db, double pn_deg, qc_pha
     }
     qc_iq_cells q = {.kind = QC_IQ_PRODUCT, .ti = ti, .nti = nt, .tq = tq, .ntq = nt};
     const size_t ny = qc_iq_cell_count(&q);
-#ifdef _OPENMP
-    omp_set_num_threads(2); /* the threaded path is taken */
-    assert_true(qc_parallel_worth((pn_deg > 0.0 ? 48 : 1) * c->size * ny));
-#endif
+    need_threads((pn_deg > 0.0 ? 48 : 1) * c->size * ny);
     double *first = NULL, g_first[2][2 * MAX_THRESHOLDS];
     for (size_t r = 0; r < sizeof thread_counts / sizeof *thread_counts; r++) {
         set_threads(thread_counts[r]);
@@ -175,10 +158,7 @@ static void check_polar_threads(const char *spec, double snr_db, double pn_deg,
     qc_iq_cells q = {.kind = QC_IQ_POLAR, .radii = radii, .nradii = rings - 1,
                      .phases = phases, .nphases = sectors};
     const size_t ny = qc_iq_cell_count(&q), n = c->size * ny;
-#ifdef _OPENMP
-    omp_set_num_threads(2);
-    assert_true(qc_parallel_worth(48 * n)); /* the threaded path is taken */
-#endif
+    need_threads(48 * n);
     qc_polar_series *series = NULL;
     assert_int_equal(qc_polar_series_alloc(&noise, &series), QC_OK);
     double *first = malloc(2 * n * sizeof *first), *rays = malloc(n * sizeof *rays);

@@ -16,39 +16,14 @@
 #include <stdlib.h>
 #include <string.h>
 
-#ifdef _OPENMP
-#include <omp.h>
-#endif
-
 #include "quantcap.h"
 #include "quantizer/quantizer.h"
 #include "test_helpers.h"
+#include "thread_helpers.h"
 
 #define NLEVELS 300 /* 300 × 300 entries: above the size for threads */
 #define FIRST_BAD 150 /* levels from this index on have broken tails */
 
-static const int thread_counts[] = {1, 2, 3};
-
-static void need_threads(size_t entries)
-{
-#ifdef _OPENMP
-    omp_set_num_threads(2);
-    assert_true(qc_parallel_worth(entries)); /* the threaded path is taken */
-#else
-    (void)entries;
-    skip();
-#endif
-}
-
-static void set_threads(int n)
-{
-#ifdef _OPENMP
-    omp_set_num_threads(n);
-    assert_int_equal(qc_parallel_worth((size_t)1 << 30), n > 1);
-#else
-    (void)n;
-#endif
-}
 
 /* unipolar levels 0, 1, …, NLEVELS − 1 and thresholds between them */
 static void levels_and_thresholds(double *levels, double *law, double *t)
